@@ -1,0 +1,120 @@
+# psiflight - plain Makefile.  pkg-config supplies the flags; the module names
+# are variables so a packager can point them elsewhere.
+#
+#   make          build the runner (build/psiflight) and the Lua module (build/psiflight.so)
+#   make demo     install missing Debian packages, build, run the flagship example
+#   make test     install missing Debian packages, build, run every test
+#   make bench    speed report (ratios against raw FFTW, timed in the same run)
+#   make asan     run the test suite under AddressSanitizer and UBSan
+
+LUA_PC    ?= lua5.4
+FFTW_PC   ?= fftw3
+CMOCKA_PC ?= cmocka
+FFTW_OMP_LIBS ?= -lfftw3_omp
+
+CC      ?= cc
+BUILD   ?= build
+OPT     ?= -O2 -g
+WARN    := -Wall -Wextra -Wshadow -Wstrict-prototypes -Wmissing-prototypes -Wpointer-arith \
+           -Wcast-align -Wwrite-strings -Wundef -Wno-unused-parameter
+# -fcx-limited-range: plain complex multiplication without the C99 NaN/Inf
+# recovery calls, which would otherwise dominate the phase-multiply loops.
+CFLAGS_BASE := -std=c11 -D_POSIX_C_SOURCE=200809L -fPIC -fopenmp -fcx-limited-range $(WARN)
+CFLAGS  ?= $(OPT)
+SAN     ?=
+
+FFTW_CFLAGS := $(shell pkg-config --cflags $(FFTW_PC) 2>/dev/null)
+FFTW_LIBS   := $(FFTW_OMP_LIBS) $(shell pkg-config --libs $(FFTW_PC) 2>/dev/null)
+LUA_CFLAGS  := $(shell pkg-config --cflags $(LUA_PC) 2>/dev/null)
+LUA_LIBS    := $(shell pkg-config --libs $(LUA_PC) 2>/dev/null)
+CMOCKA_CFLAGS := $(shell pkg-config --cflags $(CMOCKA_PC) 2>/dev/null)
+CMOCKA_LIBS   := $(shell pkg-config --libs $(CMOCKA_PC) 2>/dev/null)
+# Reference libraries the tests compare the engine against (never the engine).
+TEST_PC     ?= gsl libcerf
+TEST_CFLAGS := $(shell pkg-config --cflags $(TEST_PC) 2>/dev/null)
+TEST_LIBS   := $(shell pkg-config --libs $(TEST_PC) 2>/dev/null)
+
+ALL_CFLAGS = $(CFLAGS_BASE) $(CFLAGS) $(SAN)
+CORE_LIBS  = $(FFTW_LIBS) -lm -fopenmp $(SAN)
+
+CORE_SRC   := $(sort $(wildcard engine/core/*.c))
+LUA_SRC    := $(sort $(wildcard engine/lua/*.c))
+RUNNER_SRC := $(sort $(wildcard engine/runner/*.c))
+UNIT_SRC   := $(sort $(wildcard tests/unit/test_*.c))
+UNIT_HELP  := $(filter-out $(UNIT_SRC),$(sort $(wildcard tests/unit/*.c)))
+
+CORE_OBJ   := $(CORE_SRC:%.c=$(BUILD)/%.o)
+LUA_OBJ    := $(LUA_SRC:%.c=$(BUILD)/%.o)
+RUNNER_OBJ := $(RUNNER_SRC:%.c=$(BUILD)/%.o)
+UNIT_BIN   := $(UNIT_SRC:tests/unit/%.c=$(BUILD)/tests/%)
+UNIT_HELP_OBJ := $(UNIT_HELP:%.c=$(BUILD)/%.o)
+
+RUNNER := $(BUILD)/psiflight
+MODULE := $(BUILD)/psiflight.so
+CORE_LIB := $(BUILD)/libpsiflight-core.a
+
+.PHONY: all deps build test demo bench asan clean unit-tests lua-tests ref-tests
+.DEFAULT_GOAL := all
+
+all: $(RUNNER) $(MODULE)
+build: all
+
+deps:
+	@bash scripts/install-deps.sh
+
+$(BUILD)/engine/core/%.o: engine/core/%.c $(wildcard engine/core/*.h)
+	@mkdir -p $(dir $@)
+	$(CC) $(ALL_CFLAGS) $(FFTW_CFLAGS) -c $< -o $@
+
+# The core must not see Lua: it is compiled without the Lua include path.
+$(BUILD)/engine/lua/%.o: engine/lua/%.c $(wildcard engine/lua/*.h engine/core/*.h)
+	@mkdir -p $(dir $@)
+	$(CC) $(ALL_CFLAGS) $(LUA_CFLAGS) $(FFTW_CFLAGS) -c $< -o $@
+
+$(BUILD)/engine/runner/%.o: engine/runner/%.c $(wildcard engine/runner/*.h engine/lua/*.h engine/core/*.h)
+	@mkdir -p $(dir $@)
+	$(CC) $(ALL_CFLAGS) $(LUA_CFLAGS) -c $< -o $@
+
+$(CORE_LIB): $(CORE_OBJ)
+	@mkdir -p $(dir $@)
+	rm -f $@
+	ar rcs $@ $^
+
+$(RUNNER): $(RUNNER_OBJ) $(LUA_OBJ) $(CORE_LIB)
+	$(CC) -o $@ $(RUNNER_OBJ) $(LUA_OBJ) $(CORE_LIB) $(LUA_LIBS) $(CORE_LIBS) -Wl,-E
+
+# The Lua C module takes Lua's symbols from the interpreter that loads it.
+$(MODULE): $(LUA_OBJ) $(CORE_LIB)
+	$(CC) -shared -o $@ $(LUA_OBJ) $(CORE_LIB) $(CORE_LIBS)
+
+$(BUILD)/tests/unit/%.o: tests/unit/%.c $(wildcard tests/unit/*.h engine/core/*.h)
+	@mkdir -p $(dir $@)
+	$(CC) $(ALL_CFLAGS) $(FFTW_CFLAGS) $(CMOCKA_CFLAGS) $(TEST_CFLAGS) -Iengine/core -c $< -o $@
+
+$(BUILD)/tests/%: $(BUILD)/tests/unit/%.o $(UNIT_HELP_OBJ) $(CORE_LIB)
+	$(CC) -o $@ $< $(UNIT_HELP_OBJ) $(CORE_LIB) $(CMOCKA_LIBS) $(TEST_LIBS) $(CORE_LIBS)
+
+unit-tests: $(UNIT_BIN)
+
+test: deps
+	@$(MAKE) --no-print-directory all unit-tests
+	@bash tests/run-all.sh $(BUILD)
+
+demo: deps
+	@$(MAKE) --no-print-directory all
+	@$(RUNNER) run examples/release_tof.lua
+
+bench: deps
+	@$(MAKE) --no-print-directory all $(BUILD)/bench-flight
+	@bash tests/bench/run-bench.sh $(BUILD)
+
+$(BUILD)/bench-flight: tests/bench/bench_flight.c $(CORE_LIB)
+	$(CC) $(ALL_CFLAGS) -O3 $(FFTW_CFLAGS) -Iengine/core -o $@ $< $(CORE_LIB) $(CORE_LIBS)
+
+asan: deps
+	@$(MAKE) --no-print-directory BUILD=build-asan OPT="-O1 -g -fno-omit-frame-pointer" \
+	  SAN="-fsanitize=address,undefined -fno-sanitize-recover=undefined" all unit-tests
+	@ASAN_OPTIONS=detect_leaks=1 UBSAN_OPTIONS=print_stacktrace=1 bash tests/run-all.sh build-asan
+
+clean:
+	rm -rf build build-asan

@@ -1,0 +1,238 @@
+/* pf_context.c - engine settings, error text, warnings, accounted allocation
+ * and the FFTW planner state (threads, wisdom). */
+#include <errno.h>
+#include <stdarg.h>
+#include <stdint.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/stat.h>
+#include <unistd.h>
+#include "pf_internal.h"
+
+/* FFTW's planner and its thread layer are process-global.  We initialise the
+ * thread layer once, count live contexts, and run FFTW's cleanup only when the
+ * last context (hence every grid and plan) is gone, as FFTW requires. */
+static int fftw_threads_ready;
+static int live_contexts;
+
+static void fftw_threads_once(void)
+{
+    if (!fftw_threads_ready) {
+        fftw_init_threads();
+        fftw_threads_ready = 1;
+    }
+}
+
+pf_context *pf_context_new(void)
+{
+    pf_context *ctx = calloc(1, sizeof *ctx);
+    if (!ctx) return NULL;
+    ctx->refs = 1;
+    ctx->threads = 1;
+    ctx->planning = PF_PLAN_MEASURE;
+    ctx->memory_cap = (size_t)16 << 30;
+    fftw_threads_once();
+    live_contexts++;
+    return ctx;
+}
+
+void pf_context_retain(pf_context *ctx)
+{
+    if (ctx) ctx->refs++;
+}
+
+void pf_context_release(pf_context *ctx)
+{
+    if (!ctx || --ctx->refs > 0) return;
+    free(ctx->wisdom_path);
+    free(ctx);
+    if (--live_contexts == 0 && fftw_threads_ready) {
+        fftw_cleanup_threads();
+        fftw_threads_ready = 0;
+    }
+}
+
+pf_status pf_context_set_threads(pf_context *ctx, int threads)
+{
+    if (threads < 1 || threads > 1024)
+        return pf_fail(ctx, PF_EINVAL, "thread count must be 1..1024, got %d", threads);
+    ctx->threads = threads;
+    return PF_OK;
+}
+
+int pf_context_threads(const pf_context *ctx) { return ctx->threads; }
+
+pf_status pf_context_set_planning(pf_context *ctx, pf_planning mode)
+{
+    if (mode != PF_PLAN_MEASURE && mode != PF_PLAN_ESTIMATE)
+        return pf_fail(ctx, PF_EINVAL, "unknown planning mode %d", (int)mode);
+    ctx->planning = mode;
+    return PF_OK;
+}
+
+pf_planning pf_context_planning(const pf_context *ctx) { return ctx->planning; }
+
+const char *pf_context_planning_name(const pf_context *ctx)
+{
+    return ctx->planning == PF_PLAN_ESTIMATE ? "estimate" : "measure";
+}
+
+pf_status pf_context_set_wisdom_path(pf_context *ctx, const char *path)
+{
+    char *copy = NULL;
+    if (path && *path) {
+        copy = strdup(path);
+        if (!copy) return pf_fail(ctx, PF_ENOMEM, "out of memory copying the wisdom path");
+    }
+    free(ctx->wisdom_path);
+    ctx->wisdom_path = copy;
+    ctx->wisdom_loaded = 0;
+    return PF_OK;
+}
+
+const char *pf_context_wisdom_path(const pf_context *ctx) { return ctx->wisdom_path; }
+
+void pf_context_wisdom_digest(const pf_context *ctx, char out[17])
+{
+    (void)ctx;
+    uint64_t h = 1469598103934665603ull; /* FNV-1a 64 offset basis */
+    char *text = fftw_export_wisdom_to_string();
+    if (text) {
+        for (const unsigned char *p = (const unsigned char *)text; *p; p++) {
+            h ^= *p;
+            h *= 1099511628211ull; /* FNV-1a 64 prime */
+        }
+        free(text);
+    }
+    snprintf(out, 17, "%016llx", (unsigned long long)h);
+}
+
+pf_status pf_context_set_memory_cap(pf_context *ctx, size_t bytes)
+{
+    if (bytes == 0) return pf_fail(ctx, PF_EINVAL, "memory cap must be positive");
+    ctx->memory_cap = bytes;
+    return PF_OK;
+}
+
+size_t pf_context_memory_cap(const pf_context *ctx) { return ctx->memory_cap; }
+size_t pf_context_memory_used(const pf_context *ctx) { return ctx->memory_used; }
+
+void pf_context_set_warn_handler(pf_context *ctx, pf_warn_fn fn, void *user)
+{
+    ctx->warn = fn;
+    ctx->warn_user = user;
+}
+
+void pf_context_warn(pf_context *ctx, const char *fmt, ...)
+{
+    char text[1024];
+    va_list ap;
+    va_start(ap, fmt);
+    vsnprintf(text, sizeof text, fmt, ap);
+    va_end(ap);
+    if (ctx && ctx->warn)
+        ctx->warn(ctx->warn_user, text);
+    else
+        fprintf(stderr, "psiflight: warning: %s\n", text);
+}
+
+pf_status pf_fail(pf_context *ctx, pf_status s, const char *fmt, ...)
+{
+    if (ctx) {
+        va_list ap;
+        va_start(ap, fmt);
+        vsnprintf(ctx->message, sizeof ctx->message, fmt, ap);
+        va_end(ap);
+    }
+    return s;
+}
+
+const char *pf_context_message(const pf_context *ctx)
+{
+    return ctx->message[0] ? ctx->message : "no error recorded";
+}
+
+size_t pf_bytes(size_t count, size_t size)
+{
+    if (size && count > SIZE_MAX / size) return 0;
+    return count * size;
+}
+
+void *pf_alloc(pf_context *ctx, size_t bytes)
+{
+    if (bytes == 0) {
+        pf_fail(ctx, PF_ELIMIT, "allocation size overflows");
+        return NULL;
+    }
+    if (bytes > ctx->memory_cap || ctx->memory_used > ctx->memory_cap - bytes) {
+        pf_fail(ctx, PF_ELIMIT,
+                "allocating %.1f MiB would exceed the memory cap of %.1f MiB (%.1f MiB in use); "
+                "use fewer grid points or raise the cap",
+                bytes / 1048576.0, ctx->memory_cap / 1048576.0, ctx->memory_used / 1048576.0);
+        return NULL;
+    }
+    void *p = fftw_malloc(bytes);
+    if (!p) {
+        pf_fail(ctx, PF_ENOMEM, "out of memory allocating %.1f MiB", bytes / 1048576.0);
+        return NULL;
+    }
+    ctx->memory_used += bytes;
+    return p;
+}
+
+void pf_free(pf_context *ctx, void *p, size_t bytes)
+{
+    if (!p) return;
+    fftw_free(p);
+    ctx->memory_used -= bytes;
+}
+
+void pf_context_prepare_planner(pf_context *ctx)
+{
+    fftw_threads_once();
+    fftw_plan_with_nthreads(ctx->threads);
+    /* Estimate mode ignores wisdom on purpose: measured wisdom would make the
+     * plan, and so the last bits of results, depend on this machine. */
+    if (ctx->planning == PF_PLAN_MEASURE && ctx->wisdom_path && !ctx->wisdom_loaded) {
+        ctx->wisdom_loaded = 1;
+        if (access(ctx->wisdom_path, R_OK) == 0 && !fftw_import_wisdom_from_filename(ctx->wisdom_path))
+            pf_context_warn(ctx, "FFTW wisdom file %s could not be read; planning afresh",
+                            ctx->wisdom_path);
+    }
+}
+
+/* Creates the parent folders of path (like mkdir -p on its dirname). */
+static void make_parent_dirs(const char *path)
+{
+    char buf[4096];
+    size_t len = strlen(path);
+    if (len >= sizeof buf) return;
+    memcpy(buf, path, len + 1);
+    for (char *p = buf + 1; *p; p++) {
+        if (*p != '/') continue;
+        *p = '\0';
+        if (mkdir(buf, 0777) != 0 && errno != EEXIST) return;
+        *p = '/';
+    }
+}
+
+void pf_context_store_wisdom(pf_context *ctx)
+{
+    if (ctx->planning != PF_PLAN_MEASURE || !ctx->wisdom_path) return;
+    char tmp[4200];
+    if (snprintf(tmp, sizeof tmp, "%s.tmp.%ld", ctx->wisdom_path, (long)getpid()) >= (int)sizeof tmp)
+        return;
+    make_parent_dirs(ctx->wisdom_path);
+    /* Write to a temporary name and rename, so a concurrent run never reads a
+     * half-written wisdom file. */
+    if (!fftw_export_wisdom_to_filename(tmp)) {
+        unlink(tmp);
+        pf_context_warn(ctx, "could not save FFTW wisdom to %s", ctx->wisdom_path);
+        return;
+    }
+    if (rename(tmp, ctx->wisdom_path) != 0) {
+        unlink(tmp);
+        pf_context_warn(ctx, "could not save FFTW wisdom to %s", ctx->wisdom_path);
+    }
+}

@@ -1,0 +1,57 @@
+/* pf_grid.h - uniform periodic grids in 1, 2 or 3 dimensions.
+ *
+ * Axis a has n[a] points at x = origin[a] + (j - floor(n[a]/2)) * dx[a],
+ * j = 0..n[a]-1, and period span[a] = n[a] * dx[a].  Momentum (wave-number)
+ * axes are k = 2 pi m / span with m in FFT order: 0, 1, .., then the negative
+ * values; for even n the Nyquist value -n/2 is stored as negative, as numpy's
+ * fftfreq does.  Data are row-major: the last axis varies fastest.
+ * A grid owns the FFTW plans for its shape; every wave function on the grid
+ * shares them (new-array execute). */
+#ifndef PF_GRID_H
+#define PF_GRID_H
+
+#include <stddef.h>
+#include "pf_context.h"
+
+#define PF_MAX_DIM 3
+
+typedef struct pf_grid pf_grid;
+
+/* Creates a grid.  dim is 1..3; points[a] >= 2; span[a] finite and > 0;
+ * origin may be NULL (all zero) or finite values.  The estimated storage of
+ * one wave function plus planning scratch is checked against the context's
+ * memory cap first.  On success *out holds a grid with one reference. */
+pf_status pf_grid_new(pf_context *ctx, int dim, const size_t *points,
+                      const double *span, const double *origin, pf_grid **out);
+void pf_grid_retain(pf_grid *g);
+void pf_grid_release(pf_grid *g);
+
+pf_context *pf_grid_context(const pf_grid *g);
+int pf_grid_dim(const pf_grid *g);
+size_t pf_grid_points(const pf_grid *g, int axis);
+size_t pf_grid_total(const pf_grid *g);
+double pf_grid_span(const pf_grid *g, int axis);
+double pf_grid_spacing(const pf_grid *g, int axis);
+double pf_grid_origin(const pf_grid *g, int axis);
+/* Momentum spacing 2 pi / span and the largest |k| on the axis (pi / dx). */
+double pf_grid_kspacing(const pf_grid *g, int axis);
+double pf_grid_knyquist(const pf_grid *g, int axis);
+/* Volume element dx*dy*dz of the position grid. */
+double pf_grid_cell_volume(const pf_grid *g);
+
+/* Coordinate of point j on an axis (position, natural order). */
+double pf_grid_x(const pf_grid *g, int axis, size_t j);
+/* Wave number of storage index j (FFT order). */
+double pf_grid_k(const pf_grid *g, int axis, size_t j);
+/* Converts between ascending-k order (i = 0 is the most negative k) and FFT
+ * storage order on one axis. */
+size_t pf_grid_fft_index(const pf_grid *g, int axis, size_t ascending);
+size_t pf_grid_ascending_index(const pf_grid *g, int axis, size_t fft_index);
+/* Pointers to the per-axis coordinate tables (valid while the grid lives). */
+const double *pf_grid_x_table(const pf_grid *g, int axis);
+const double *pf_grid_k_table(const pf_grid *g, int axis);
+
+/* True when both grids have the same dimension, points, spans and origins. */
+int pf_grid_same(const pf_grid *a, const pf_grid *b);
+
+#endif

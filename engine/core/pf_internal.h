@@ -1,0 +1,98 @@
+/* pf_internal.h - structure layouts and helpers shared by the core's own files.
+ *
+ * Nothing outside engine/core includes this header: the binding and the runner
+ * see opaque handles only.  <complex.h> comes before <fftw3.h> so that
+ * fftw_complex is the native double complex type. */
+#ifndef PF_INTERNAL_H
+#define PF_INTERNAL_H
+
+#include <complex.h>
+#include <fftw3.h>
+#include <stddef.h>
+#include "pf_context.h"
+#include "pf_grid.h"
+#include "pf_steplog.h"
+#include "pf_wave.h"
+
+struct pf_context {
+    int refs;
+    int threads;
+    pf_planning planning;
+    char *wisdom_path;
+    int wisdom_loaded;
+    size_t memory_cap, memory_used;
+    pf_warn_fn warn;
+    void *warn_user;
+    char message[1024];
+};
+
+/* Per-axis flight phase tables for one value of tau = hbar t / m. */
+typedef struct pf_flight_tables {
+    double tau;
+    int valid;
+    double complex *phase[PF_MAX_DIM];
+} pf_flight_tables;
+
+struct pf_grid {
+    int refs;
+    pf_context *ctx;
+    int dim;
+    size_t n[PF_MAX_DIM];
+    double span[PF_MAX_DIM], dx[PF_MAX_DIM], origin[PF_MAX_DIM];
+    size_t total;
+    double *x[PF_MAX_DIM];            /* coordinates, natural order */
+    double *k[PF_MAX_DIM];            /* wave numbers, FFT order */
+    double complex *kfactor[PF_MAX_DIM]; /* phi/S factor per axis, see pf_wave.h */
+    fftw_plan forward, backward;
+    int plan_threads;                 /* thread count the plans were made with, 0 = none */
+    pf_flight_tables flight;
+};
+
+struct pf_wave {
+    pf_grid *grid;
+    double mass;
+    pf_rep rep;
+    double clock;
+    double complex *data;
+    pf_steplog log;
+};
+
+/* Engine allocation accounted against the context's memory cap, aligned for
+ * FFTW (fftw_malloc).  Returns NULL and records the reason on failure. */
+void *pf_alloc(pf_context *ctx, size_t bytes);
+void pf_free(pf_context *ctx, void *p, size_t bytes);
+/* bytes = count * size with an overflow check; 0 on overflow. */
+size_t pf_bytes(size_t count, size_t size);
+
+/* Makes (or remakes at a new thread count) the grid's forward and backward
+ * plans.  Planning uses a scratch array, never wave data. */
+pf_status pf_grid_plan(pf_grid *g);
+/* Executes the in-place forward or backward plan on data (new-array execute). */
+pf_status pf_grid_fft(pf_grid *g, double complex *data, int sign);
+
+/* Applies the configured thread count to the FFTW planner (called before
+ * every plan creation) and loads wisdom lazily. */
+void pf_context_prepare_planner(pf_context *ctx);
+/* Saves wisdom after new plans were made (atomic rename). */
+void pf_context_store_wisdom(pf_context *ctx);
+
+/* Appends a step to the wave's log with the current clock.  norm < 0 means
+ * "measure it now"; unitary steps pass the carried norm instead, so the log
+ * costs no extra pass over memory on the flight path.  Best effort: a log that
+ * cannot grow drops the entry rather than failing the step. */
+void pf_wave_log_step(pf_wave *w, const char *kind, const char *method,
+                      double duration, double removed, double norm);
+/* Norm recorded by the last log entry, or measured when the log is empty. */
+double pf_wave_last_logged_norm(pf_wave *w);
+
+/* Deterministic reductions (pf_reduce.c).  The data are split into blocks of a
+ * fixed size that does not depend on the thread count; each block's partial
+ * sums are computed in parallel and the partials are added in block order.
+ * weights[a] (per-axis tables, may be NULL for weight 1) multiply |z|^2:
+ * sums[0] = sum |z|^2, sums[1+a] = sum w_a |z|^2, sums[1+d+a] = sum w_a^2 |z|^2. */
+pf_status pf_reduce_axis_moments(pf_grid *g, const double complex *z,
+                                 const double *const *weights, double *sums);
+
+#define PF_OMP_THREADS(ctx) ((ctx)->threads)
+
+#endif

@@ -1,0 +1,56 @@
+/* pf_reduce.c - weighted sums of |z|^2 that give the same bits for any thread
+ * count.
+ *
+ * Floating-point addition is not associative, so a parallel sum whose split
+ * depends on the number of threads changes the last bits of every observable.
+ * Here the split is fixed: blocks of PF_REDUCE_BLOCK elements, each summed
+ * serially, then the block partials added in block order. */
+#include <stdlib.h>
+#include <string.h>
+#include "pf_internal.h"
+
+#define PF_REDUCE_BLOCK ((size_t)16384)
+
+pf_status pf_reduce_axis_moments(pf_grid *g, const double complex *z, const double *const *weights,
+                                 double *sums)
+{
+    const int d = g->dim;
+    const int width = 1 + 2 * d;
+    const size_t nblocks = (g->total + PF_REDUCE_BLOCK - 1) / PF_REDUCE_BLOCK;
+    double *part = calloc(nblocks * (size_t)width, sizeof(double));
+    if (!part) return pf_fail(g->ctx, PF_ENOMEM, "out of memory for a reduction");
+    const size_t *n = g->n;
+    ptrdiff_t nb = (ptrdiff_t)nblocks;
+#pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
+    for (ptrdiff_t b = 0; b < nb; b++) {
+        size_t begin = (size_t)b * PF_REDUCE_BLOCK;
+        size_t end = begin + PF_REDUCE_BLOCK < g->total ? begin + PF_REDUCE_BLOCK : g->total;
+        size_t idx[PF_MAX_DIM] = {0, 0, 0};
+        size_t rest = begin;
+        for (int a = d - 1; a >= 0; a--) {
+            idx[a] = rest % n[a];
+            rest /= n[a];
+        }
+        double acc[1 + 2 * PF_MAX_DIM] = {0};
+        for (size_t off = begin; off < end; off++) {
+            double rho = creal(z[off]) * creal(z[off]) + cimag(z[off]) * cimag(z[off]);
+            acc[0] += rho;
+            for (int a = 0; a < d; a++) {
+                double wa = weights && weights[a] ? weights[a][idx[a]] : 1.0;
+                acc[1 + a] += wa * rho;
+                acc[1 + d + a] += wa * wa * rho;
+            }
+            /* Advance the multi-index with carry (last axis fastest). */
+            for (int a = d - 1; a >= 0; a--) {
+                if (++idx[a] < n[a]) break;
+                idx[a] = 0;
+            }
+        }
+        memcpy(part + (size_t)b * (size_t)width, acc, (size_t)width * sizeof(double));
+    }
+    for (int c = 0; c < width; c++) sums[c] = 0;
+    for (size_t b = 0; b < nblocks; b++)
+        for (int c = 0; c < width; c++) sums[c] += part[b * (size_t)width + (size_t)c];
+    free(part);
+    return PF_OK;
+}

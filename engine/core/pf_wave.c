@@ -1,0 +1,239 @@
+/* pf_wave.c - wave-function storage, representation changes, filling and
+ * element access in physical units. */
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+#include "pf_constants.h"
+#include "pf_internal.h"
+#include "pf_observe.h"
+
+static size_t data_bytes(const pf_grid *g) { return pf_bytes(g->total, sizeof(double complex)); }
+
+pf_status pf_wave_new(pf_grid *g, double mass, pf_wave **out)
+{
+    pf_context *ctx = g->ctx;
+    *out = NULL;
+    if (!isfinite(mass) || mass <= 0)
+        return pf_fail(ctx, PF_EINVAL, "mass must be finite and positive (kg), got %g", mass);
+    pf_wave *w = calloc(1, sizeof *w);
+    if (!w) return pf_fail(ctx, PF_ENOMEM, "out of memory for a wave function");
+    w->data = pf_alloc(ctx, data_bytes(g));
+    if (!w->data) {
+        free(w);
+        return ctx->message[0] && strstr(ctx->message, "cap") ? PF_ELIMIT : PF_ENOMEM;
+    }
+    memset(w->data, 0, data_bytes(g));
+    w->grid = g;
+    pf_grid_retain(g);
+    w->mass = mass;
+    w->rep = PF_POSITION;
+    pf_steplog_init(&w->log);
+    *out = w;
+    return PF_OK;
+}
+
+pf_status pf_wave_copy(const pf_wave *src, pf_wave **out)
+{
+    pf_status s = pf_wave_new(src->grid, src->mass, out);
+    if (s) return s;
+    pf_wave *w = *out;
+    memcpy(w->data, src->data, data_bytes(src->grid));
+    w->rep = src->rep;
+    w->clock = src->clock;
+    if (pf_steplog_copy(&w->log, &src->log) != PF_OK) {
+        pf_wave_free(w);
+        *out = NULL;
+        return pf_fail(src->grid->ctx, PF_ENOMEM, "out of memory copying a step log");
+    }
+    return PF_OK;
+}
+
+void pf_wave_free(pf_wave *w)
+{
+    if (!w) return;
+    pf_free(w->grid->ctx, w->data, data_bytes(w->grid));
+    pf_steplog_clear(&w->log);
+    pf_grid_release(w->grid);
+    free(w);
+}
+
+pf_grid *pf_wave_grid(const pf_wave *w) { return w->grid; }
+double pf_wave_mass(const pf_wave *w) { return w->mass; }
+pf_rep pf_wave_rep(const pf_wave *w) { return w->rep; }
+double pf_wave_clock(const pf_wave *w) { return w->clock; }
+void pf_wave_set_clock(pf_wave *w, double t) { w->clock = t; }
+double complex *pf_wave_data(pf_wave *w) { return w->data; }
+const double complex *pf_wave_data_const(const pf_wave *w) { return w->data; }
+
+double complex pf_wave_momentum_factor(const pf_wave *w, const size_t *index)
+{
+    const pf_grid *g = w->grid;
+    double complex f = 1.0;
+    for (int a = 0; a < g->dim; a++) f *= g->kfactor[a][index[a]];
+    return f;
+}
+
+pf_status pf_wave_to(pf_wave *w, pf_rep rep)
+{
+    if (w->rep == rep) return PF_OK;
+    pf_grid *g = w->grid;
+    if (rep == PF_MOMENTUM) {
+        pf_status s = pf_grid_fft(g, w->data, -1);
+        if (s) return s;
+        /* S = DFT(psi) / N: the backward transform then needs no scaling. */
+        double inv = 1.0 / (double)g->total;
+        double complex *d = w->data;
+        ptrdiff_t n = (ptrdiff_t)g->total;
+#pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
+        for (ptrdiff_t i = 0; i < n; i++) d[i] *= inv;
+    } else {
+        pf_status s = pf_grid_fft(g, w->data, +1);
+        if (s) return s;
+    }
+    w->rep = rep;
+    return PF_OK;
+}
+
+/* Linear storage offset of a multi-index (row-major). */
+static size_t offset_of(const pf_grid *g, const size_t *index)
+{
+    size_t off = 0;
+    for (int a = 0; a < g->dim; a++) off = off * g->n[a] + index[a];
+    return off;
+}
+
+static pf_status check_index(const pf_grid *g, const size_t *index)
+{
+    for (int a = 0; a < g->dim; a++)
+        if (index[a] >= g->n[a])
+            return pf_fail(g->ctx, PF_EINVAL, "index %zu on axis %d is outside 0..%zu", index[a], a + 1,
+                           g->n[a] - 1);
+    return PF_OK;
+}
+
+pf_status pf_wave_fill(pf_wave *w, pf_rep rep, pf_sample_fn fn, void *user)
+{
+    pf_grid *g = w->grid;
+    size_t idx[PF_MAX_DIM] = {0, 0, 0};
+    double coord[PF_MAX_DIM] = {0, 0, 0};
+    for (size_t off = 0; off < g->total; off++) {
+        /* Unravel off into a row-major multi-index. */
+        size_t rest = off;
+        for (int a = g->dim - 1; a >= 0; a--) {
+            idx[a] = rest % g->n[a];
+            rest /= g->n[a];
+            coord[a] = rep == PF_POSITION ? g->x[a][idx[a]] : g->k[a][idx[a]];
+        }
+        double complex v = 0;
+        if (fn(user, coord, &v) != 0) {
+            w->rep = rep;
+            return PF_ECALLBACK;
+        }
+        if (rep == PF_MOMENTUM) v /= pf_wave_momentum_factor(w, idx);
+        w->data[off] = v;
+    }
+    w->rep = rep;
+    return PF_OK;
+}
+
+pf_status pf_wave_value(pf_wave *w, pf_rep rep, const size_t *index, double complex *out)
+{
+    pf_status s = check_index(w->grid, index);
+    if (s) return s;
+    s = pf_wave_to(w, rep);
+    if (s) return s;
+    double complex v = w->data[offset_of(w->grid, index)];
+    if (rep == PF_MOMENTUM) v *= pf_wave_momentum_factor(w, index);
+    *out = v;
+    return PF_OK;
+}
+
+pf_status pf_wave_set_value(pf_wave *w, pf_rep rep, const size_t *index, double complex v)
+{
+    pf_status s = check_index(w->grid, index);
+    if (s) return s;
+    if (!isfinite(creal(v)) || !isfinite(cimag(v)))
+        return pf_fail(w->grid->ctx, PF_EINVAL, "value must be finite, got %g%+gi", creal(v), cimag(v));
+    s = pf_wave_to(w, rep);
+    if (s) return s;
+    if (rep == PF_MOMENTUM) v /= pf_wave_momentum_factor(w, index);
+    w->data[offset_of(w->grid, index)] = v;
+    return PF_OK;
+}
+
+pf_status pf_wave_density(pf_wave *w, pf_rep rep, double *out)
+{
+    pf_grid *g = w->grid;
+    pf_status s = pf_wave_to(w, rep);
+    if (s) return s;
+    if (rep == PF_POSITION) {
+        for (size_t i = 0; i < g->total; i++) {
+            double complex z = w->data[i];
+            out[i] = creal(z) * creal(z) + cimag(z) * cimag(z);
+        }
+        return PF_OK;
+    }
+    double scale = 1.0; /* |phi|^2 / |S|^2 = prod span^2 / 2 pi */
+    for (int a = 0; a < g->dim; a++) scale *= g->span[a] * g->span[a] / PF_TWO_PI;
+    size_t n0 = g->n[0], n1 = g->n[1], n2 = g->n[2];
+    for (size_t i = 0; i < n0; i++) {
+        size_t ai = pf_grid_ascending_index(g, 0, i);
+        for (size_t j = 0; j < n1; j++) {
+            size_t aj = g->dim > 1 ? pf_grid_ascending_index(g, 1, j) : 0;
+            for (size_t k = 0; k < n2; k++) {
+                size_t ak = g->dim > 2 ? pf_grid_ascending_index(g, 2, k) : 0;
+                double complex z = w->data[(i * n1 + j) * n2 + k];
+                out[(ai * n1 + aj) * n2 + ak] = scale * (creal(z) * creal(z) + cimag(z) * cimag(z));
+            }
+        }
+    }
+    return PF_OK;
+}
+
+pf_status pf_wave_scale(pf_wave *w, double complex a)
+{
+    if (!isfinite(creal(a)) || !isfinite(cimag(a)))
+        return pf_fail(w->grid->ctx, PF_EINVAL, "scale factor must be finite, got %g%+gi", creal(a), cimag(a));
+    double complex *d = w->data;
+    ptrdiff_t n = (ptrdiff_t)w->grid->total;
+#pragma omp parallel for num_threads(w->grid->ctx->threads) schedule(static)
+    for (ptrdiff_t i = 0; i < n; i++) d[i] *= a;
+    return PF_OK;
+}
+
+pf_status pf_wave_normalize(pf_wave *w)
+{
+    double norm = pf_wave_norm(w);
+    if (!(norm > 0) || !isfinite(norm))
+        return pf_fail(w->grid->ctx, PF_EINVAL, "cannot normalise a state whose norm is %g", norm);
+    return pf_wave_scale(w, 1.0 / sqrt(norm));
+}
+
+void pf_wave_record(pf_wave *w, const char *kind, const char *method, double duration, double removed)
+{
+    pf_wave_log_step(w, kind, method, duration, removed, -1.0);
+}
+
+const pf_steplog *pf_wave_steplog(const pf_wave *w) { return &w->log; }
+
+double pf_wave_last_logged_norm(pf_wave *w)
+{
+    if (w->log.count) return w->log.steps[w->log.count - 1].norm;
+    return pf_wave_norm(w);
+}
+
+void pf_wave_log_step(pf_wave *w, const char *kind, const char *method, double duration, double removed,
+                      double norm)
+{
+    pf_step st;
+    memset(&st, 0, sizeof st);
+    strncpy(st.kind, kind, sizeof st.kind - 1);
+    if (method) strncpy(st.method, method, sizeof st.method - 1);
+    st.duration = duration;
+    st.clock = w->clock;
+    st.norm = norm >= 0 ? norm : pf_wave_norm(w);
+    st.removed = removed;
+    st.edge_x = -1;
+    st.edge_k = -1;
+    (void)pf_steplog_append(&w->log, &st);
+}

@@ -1,0 +1,101 @@
+/* pfl.h - shared declarations of the Lua binding layer.
+ *
+ * The binding turns core objects into Lua userdata and core status codes into
+ * Lua errors.  It is the only part of the engine that includes Lua headers.
+ * Each pfl_*.c file registers one group of functions or methods; the list of
+ * openers is in pfl_module.c. */
+#ifndef PFL_H
+#define PFL_H
+
+#include <complex.h>
+#include <lauxlib.h>
+#include <lua.h>
+#include "../core/pf_context.h"
+#include "../core/pf_grid.h"
+#include "../core/pf_wave.h"
+
+#define PFL_GRID_TYPE "psiflight.grid"
+#define PFL_WAVE_TYPE "psiflight.wave"
+#define PFL_COMPLEX_TYPE "psiflight.complex"
+
+/* What kind of failure the last raised error was; the runner maps these onto
+ * exit codes (docs/runner.md). */
+typedef enum pfl_error_kind {
+    PFL_ERROR_SCRIPT = 0, /* ordinary script or argument error */
+    PFL_ERROR_GUARD,      /* a numerical guard tripped in strict mode */
+    PFL_ERROR_LIMIT,      /* a resource cap (memory, time) was reached */
+    PFL_ERROR_SANDBOX     /* the sandbox refused an operation */
+} pfl_error_kind;
+
+/* Opens the module and leaves its table on the stack (Lua C module entry). */
+int luaopen_psiflight(lua_State *L);
+
+/* ---- context (pfl_context.c) ---- */
+/* The engine context belonging to this Lua state (created on first use). */
+pf_context *pfl_ctx(lua_State *L);
+/* Raises a Lua error for a failed core call: "name: message".  Returns only
+ * when s is PF_OK and no strict-mode warning is pending. */
+void pfl_check(lua_State *L, pf_status s, const char *name);
+/* Raises a Lua error of the given kind with a formatted message, prefixed by
+ * the calling script position like luaL_error. */
+int pfl_error(lua_State *L, pfl_error_kind kind, const char *fmt, ...);
+/* Kind of the error value at idx: the kind it was raised with when it is the
+ * last error raised through pfl_check/pfl_error, else PFL_ERROR_SCRIPT. */
+pfl_error_kind pfl_error_kind_of(lua_State *L, int idx);
+/* Strict mode turns warnings into errors of kind PFL_ERROR_GUARD. */
+void pfl_set_strict(lua_State *L, int strict);
+int pfl_strict(lua_State *L);
+
+/* ---- argument helpers (pfl_args.c) ---- */
+/* A finite number at arg, else an argument error naming what it is. */
+double pfl_check_finite(lua_State *L, int arg, const char *what);
+/* A finite number > 0 at arg. */
+double pfl_check_positive(lua_State *L, int arg, const char *what);
+/* Field of the table at t: a finite number, or def when absent (nil).  The
+ * error names the field: "field 'mass' must be a finite number, got 'abc'". */
+double pfl_field_number(lua_State *L, int t, const char *field, double def, int required);
+/* Field holding one number per axis, or a single number used for all axes. */
+int pfl_field_vector(lua_State *L, int t, const char *field, int dim, double *out, int required);
+/* Optional boolean field. */
+int pfl_field_boolean(lua_State *L, int t, const char *field, int def);
+/* Formats the Lua value at idx for an error message (numbers, short strings,
+ * type names), into buf. */
+const char *pfl_describe(lua_State *L, int idx, char *buf, size_t size);
+
+/* ---- complex numbers (pfl_complex.c) ---- */
+void pfl_push_complex(lua_State *L, double complex z);
+/* A number or complex userdata at idx; returns 0 when it is neither. */
+int pfl_to_complex(lua_State *L, int idx, double complex *z);
+double complex pfl_check_complex(lua_State *L, int arg);
+/* Reads what a user callback returned: nret values starting at idx
+ * (a number, two numbers re, im, or a complex). Returns 0 when malformed. */
+int pfl_result_complex(lua_State *L, int idx, int nret, double complex *z);
+
+/* ---- grids (pfl_grid.c) ---- */
+pf_grid *pfl_check_grid(lua_State *L, int arg);
+/* Pushes a new userdata that takes over one reference to g. */
+void pfl_push_grid(lua_State *L, pf_grid *g);
+/* Reads 1-based indices at arg.. (one per axis) into 0-based idx. */
+void pfl_check_indices(lua_State *L, int arg, const pf_grid *g, size_t *idx, int ascending_k);
+
+/* ---- wave functions (pfl_wave.c) ---- */
+pf_wave *pfl_check_wave(lua_State *L, int arg);
+/* Pushes a new userdata that owns w. */
+void pfl_push_wave(lua_State *L, pf_wave *w);
+/* Adds methods to the wave-function metatable (used by the method groups). */
+void pfl_add_wave_methods(lua_State *L, const luaL_Reg *methods);
+/* Adds functions to the module table, which is at stack index mod. */
+void pfl_add_functions(lua_State *L, int mod, const luaL_Reg *funcs);
+/* Fills w from the Lua function at arg over the given representation
+ * (pcall per point; a failing callback re-raises its error). */
+void pfl_fill_from_function(lua_State *L, pf_wave *w, pf_rep rep, int arg, const char *name);
+
+/* ---- openers: each registers its group into the module table at mod ---- */
+void pfl_open_context(lua_State *L, int mod);
+void pfl_open_complex(lua_State *L, int mod);
+void pfl_open_grid(lua_State *L, int mod);
+void pfl_open_wave(lua_State *L, int mod);
+void pfl_open_flight(lua_State *L, int mod);
+void pfl_open_observe(lua_State *L, int mod);
+
+#endif

@@ -1,0 +1,123 @@
+/* pfl_args.c - argument checking shared by the binding's functions.
+ *
+ * Every message names the argument or table field and shows the bad value, so
+ * a user can find it in the script line the error points to. */
+#include <math.h>
+#include <stdio.h>
+#include <string.h>
+#include "pfl.h"
+
+const char *pfl_describe(lua_State *L, int idx, char *buf, size_t size)
+{
+    switch (lua_type(L, idx)) {
+    case LUA_TNUMBER:
+        if (lua_isinteger(L, idx))
+            snprintf(buf, size, "%lld", (long long)lua_tointeger(L, idx));
+        else
+            snprintf(buf, size, "%.17g", lua_tonumber(L, idx));
+        break;
+    case LUA_TSTRING: {
+        const char *s = lua_tostring(L, idx);
+        snprintf(buf, size, "'%.40s%s'", s, strlen(s) > 40 ? "..." : "");
+        break;
+    }
+    default:
+        snprintf(buf, size, "a %s", luaL_typename(L, idx));
+    }
+    return buf;
+}
+
+double pfl_check_finite(lua_State *L, int arg, const char *what)
+{
+    char buf[80], msg[200];
+    if (lua_type(L, arg) == LUA_TNUMBER) {
+        double v = lua_tonumber(L, arg);
+        if (isfinite(v)) return v;
+    }
+    snprintf(msg, sizeof msg, "%s must be a finite number, got %s", what, pfl_describe(L, arg, buf, sizeof buf));
+    luaL_argerror(L, arg, msg);
+    return 0;
+}
+
+double pfl_check_positive(lua_State *L, int arg, const char *what)
+{
+    char buf[80], msg[200];
+    double v = pfl_check_finite(L, arg, what);
+    if (v > 0) return v;
+    snprintf(msg, sizeof msg, "%s must be positive, got %s", what, pfl_describe(L, arg, buf, sizeof buf));
+    luaL_argerror(L, arg, msg);
+    return 0;
+}
+
+double pfl_field_number(lua_State *L, int t, const char *field, double def, int required)
+{
+    char buf[80];
+    int type = lua_getfield(L, t, field);
+    if (type == LUA_TNIL) {
+        lua_pop(L, 1);
+        if (required) luaL_error(L, "missing field '%s'", field);
+        return def;
+    }
+    double v = lua_tonumber(L, -1);
+    if (type != LUA_TNUMBER || !isfinite(v))
+        luaL_error(L, "field '%s' must be a finite number, got %s", field, pfl_describe(L, -1, buf, sizeof buf));
+    lua_pop(L, 1);
+    return v;
+}
+
+int pfl_field_vector(lua_State *L, int t, const char *field, int dim, double *out, int required)
+{
+    char buf[80];
+    int type = lua_getfield(L, t, field);
+    if (type == LUA_TNIL) {
+        lua_pop(L, 1);
+        if (required) luaL_error(L, "missing field '%s'", field);
+        return 0;
+    }
+    if (type == LUA_TNUMBER) {
+        double v = lua_tonumber(L, -1);
+        if (!isfinite(v))
+            luaL_error(L, "field '%s' must be finite, got %s", field, pfl_describe(L, -1, buf, sizeof buf));
+        for (int a = 0; a < dim; a++) out[a] = v;
+        lua_pop(L, 1);
+        return 1;
+    }
+    if (type != LUA_TTABLE)
+        luaL_error(L, "field '%s' must be a number or a table of %d numbers, got %s", field, dim,
+                   pfl_describe(L, -1, buf, sizeof buf));
+    lua_Integer len = luaL_len(L, -1);
+    if (len != dim)
+        luaL_error(L, "field '%s' must have %d entries (one per axis), got %d", field, dim, (int)len);
+    for (int a = 0; a < dim; a++) {
+        int et = lua_geti(L, -1, a + 1);
+        double v = lua_tonumber(L, -1);
+        if (et != LUA_TNUMBER || !isfinite(v))
+            luaL_error(L, "field '%s' entry %d must be a finite number, got %s", field, a + 1,
+                       pfl_describe(L, -1, buf, sizeof buf));
+        out[a] = v;
+        lua_pop(L, 1);
+    }
+    lua_pop(L, 1);
+    return 1;
+}
+
+int pfl_field_boolean(lua_State *L, int t, const char *field, int def)
+{
+    int type = lua_getfield(L, t, field);
+    int v = type == LUA_TNIL ? def : lua_toboolean(L, -1);
+    if (type != LUA_TNIL && type != LUA_TBOOLEAN) {
+        char buf[80];
+        luaL_error(L, "field '%s' must be true or false, got %s", field, pfl_describe(L, -1, buf, sizeof buf));
+    }
+    lua_pop(L, 1);
+    return v;
+}
+
+void pfl_add_functions(lua_State *L, int mod, const luaL_Reg *funcs)
+{
+    mod = lua_absindex(L, mod);
+    for (; funcs->name; funcs++) {
+        lua_pushcfunction(L, funcs->func);
+        lua_setfield(L, mod, funcs->name);
+    }
+}

@@ -1,0 +1,26 @@
+/* pfl_module.c - the psiflight Lua module: creates the module table and runs
+ * every group's opener in order.  To add a group, write pfl_open_NAME in its
+ * own file, declare it in pfl.h and add one line to the table below. */
+#include "pfl.h"
+
+typedef void (*pfl_opener)(lua_State *L, int mod);
+
+/* Order matters only in that pfl_open_wave creates the wave metatable that
+ * later groups add methods to. */
+static const pfl_opener openers[] = {
+    pfl_open_context,
+    pfl_open_complex,
+    pfl_open_grid,
+    pfl_open_wave,
+    pfl_open_flight,
+    pfl_open_observe,
+};
+
+int luaopen_psiflight(lua_State *L)
+{
+    lua_newtable(L);
+    int mod = lua_gettop(L);
+    for (size_t i = 0; i < sizeof openers / sizeof openers[0]; i++) openers[i](L, mod);
+    lua_settop(L, mod);
+    return 1;
+}
