@@ -104,12 +104,18 @@ demo: deps
 	@$(MAKE) --no-print-directory all
 	@$(RUNNER) run examples/release_tof.lua
 
+# Each tests/bench/bench_NAME.c is one benchmark program; run-bench.sh runs
+# them all and prints their ratios against raw FFTW.
+BENCH_SRC := $(sort $(wildcard tests/bench/bench_*.c))
+BENCH_BIN := $(BENCH_SRC:tests/bench/bench_%.c=$(BUILD)/bench/bench_%)
+
 bench: deps
-	@$(MAKE) --no-print-directory all $(BUILD)/bench-flight
+	@$(MAKE) --no-print-directory all $(BENCH_BIN)
 	@bash tests/bench/run-bench.sh $(BUILD)
 
-$(BUILD)/bench-flight: tests/bench/bench_flight.c $(CORE_LIB)
-	$(CC) $(ALL_CFLAGS) -O3 $(FFTW_CFLAGS) -Iengine/core -o $@ $< $(CORE_LIB) $(CORE_LIBS)
+$(BUILD)/bench/bench_%: tests/bench/bench_%.c tests/bench/bench_util.h $(CORE_LIB)
+	@mkdir -p $(dir $@)
+	$(CC) $(ALL_CFLAGS) $(FFTW_CFLAGS) -Iengine/core -Itests/bench -o $@ $< $(CORE_LIB) $(CORE_LIBS)
 
 asan: deps
 	@$(MAKE) --no-print-directory BUILD=build-asan OPT="-O1 -g -fno-omit-frame-pointer" \

@@ -45,6 +45,11 @@ pfl_error_kind pfl_error_kind_of(lua_State *L, int idx);
 /* Strict mode turns warnings into errors of kind PFL_ERROR_GUARD. */
 void pfl_set_strict(lua_State *L, int strict);
 int pfl_strict(lua_State *L);
+/* Base seed of the run (pf.setup{seed=}, runner --seed; default 1).  Random
+ * generators derive their streams from it. */
+unsigned long long pfl_seed(lua_State *L);
+/* Output folder of the run (pf.setup{output_dir=}, runner --out), or NULL. */
+const char *pfl_output_dir(lua_State *L);
 
 /* ---- argument helpers (pfl_args.c) ---- */
 /* A finite number at arg, else an argument error naming what it is. */

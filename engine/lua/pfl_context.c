@@ -17,6 +17,8 @@ typedef struct pfl_state {
     int pending;          /* a strict-mode warning waits to be raised */
     char pending_text[1024];
     pfl_error_kind last_kind;
+    unsigned long long seed; /* base seed of the run's random generators */
+    char *output_dir;        /* folder the run writes into, NULL: none chosen */
     char last_text[1600];  /* message of the last error raised with a kind */
 } pfl_state;
 
@@ -29,6 +31,8 @@ static int state_gc(lua_State *L)
         pf_context_release(st->ctx);
         st->ctx = NULL;
     }
+    free(st->output_dir);
+    st->output_dir = NULL;
     return 0;
 }
 
@@ -68,6 +72,7 @@ static pfl_state *get_state(lua_State *L)
     lua_pushcfunction(L, state_gc);
     lua_setfield(L, -2, "__gc");
     lua_setmetatable(L, -2);
+    st->seed = 1;
     st->ctx = pf_context_new();
     if (!st->ctx) luaL_error(L, "psiflight: out of memory creating the engine context");
     st->L = L;
@@ -126,10 +131,12 @@ pfl_error_kind pfl_error_kind_of(lua_State *L, int idx)
     return PFL_ERROR_SCRIPT;
 }
 void pfl_set_strict(lua_State *L, int strict) { get_state(L)->strict = strict; }
+unsigned long long pfl_seed(lua_State *L) { return get_state(L)->seed; }
+const char *pfl_output_dir(lua_State *L) { return get_state(L)->output_dir; }
 int pfl_strict(lua_State *L) { return get_state(L)->strict; }
 
 /* pf.setup{threads=, planning="measure"|"estimate", wisdom=path|false,
- *          memory_cap=bytes, strict=bool} */
+ *          memory_cap=bytes, strict=bool, seed=integer, output_dir=path} */
 static int l_setup(lua_State *L)
 {
     luaL_checktype(L, 1, LUA_TTABLE);
@@ -180,6 +187,27 @@ static int l_setup(lua_State *L)
     lua_pop(L, 1);
     if (lua_getfield(L, 1, "strict") != LUA_TNIL) st->strict = lua_toboolean(L, -1);
     lua_pop(L, 1);
+    if (lua_getfield(L, 1, "seed") != LUA_TNIL) {
+        int ok;
+        lua_Integer seed = lua_tointegerx(L, -1, &ok);
+        if (!ok || seed < 0) {
+            char buf[64];
+            return luaL_error(L, "setup: field 'seed' must be a non-negative integer, got %s",
+                              pfl_describe(L, -1, buf, sizeof buf));
+        }
+        st->seed = (unsigned long long)seed;
+    }
+    lua_pop(L, 1);
+    if (lua_getfield(L, 1, "output_dir") != LUA_TNIL) {
+        const char *dir = lua_tostring(L, -1);
+        if (lua_type(L, -1) != LUA_TSTRING || !*dir)
+            return luaL_error(L, "setup: field 'output_dir' must be a non-empty path");
+        char *copy = strdup(dir);
+        if (!copy) return luaL_error(L, "setup: out of memory");
+        free(st->output_dir);
+        st->output_dir = copy;
+    }
+    lua_pop(L, 1);
     return 0;
 }
 
@@ -212,6 +240,10 @@ static int l_run_info(lua_State *L)
     lua_setfield(L, -2, "memory_used");
     lua_pushboolean(L, st->strict);
     lua_setfield(L, -2, "strict");
+    lua_pushinteger(L, (lua_Integer)st->seed);
+    lua_setfield(L, -2, "seed");
+    if (st->output_dir) lua_pushstring(L, st->output_dir); else lua_pushboolean(L, 0);
+    lua_setfield(L, -2, "output_dir");
     return 1;
 }
 

@@ -21,12 +21,15 @@ typedef struct pfr_options {
     int strict;
     const char *planning; /* NULL: default */
     const char *wisdom;   /* NULL: default, "off" disables */
+    const char *out;      /* output folder, NULL: none */
+    long long seed;       /* -1: default */
 } pfr_options;
 
 static void usage(FILE *f)
 {
     fputs("usage: psiflight run SCRIPT.lua [--set NAME=VALUE]... [--threads N] [--strict]\n"
           "                     [--planning measure|estimate] [--wisdom PATH|off]\n"
+          "                     [--seed N] [--out DIR]\n"
           "       psiflight --version\n"
           "Runs a psiflight Lua script headlessly; see docs/runner.md.\n",
           f);
@@ -44,6 +47,7 @@ static int usage_error(const char *fmt, const char *arg)
 static int parse_options(int argc, char **argv, pfr_options *o)
 {
     memset(o, 0, sizeof *o);
+    o->seed = -1;
     o->sets = calloc((size_t)argc, sizeof *o->sets);
     if (!o->sets) return usage_error("%s", "out of memory");
     for (int i = 2; i < argc; i++) {
@@ -69,6 +73,15 @@ static int parse_options(int argc, char **argv, pfr_options *o)
         } else if (strcmp(a, "--wisdom") == 0) {
             if (++i >= argc) return usage_error("%s needs a path or off", a);
             o->wisdom = argv[i];
+        } else if (strcmp(a, "--seed") == 0) {
+            if (++i >= argc) return usage_error("%s needs a non-negative integer", a);
+            char *end;
+            long long n = strtoll(argv[i], &end, 10);
+            if (*end || end == argv[i] || n < 0) return usage_error("--seed needs a non-negative integer, got '%s'", argv[i]);
+            o->seed = n;
+        } else if (strcmp(a, "--out") == 0) {
+            if (++i >= argc || !argv[i][0]) return usage_error("%s needs a folder", a);
+            o->out = argv[i];
         } else if (a[0] == '-' && a[1] == '-') {
             return usage_error("unknown option '%s'", a);
         } else if (!o->script) {
@@ -130,6 +143,14 @@ static int prepare(lua_State *L)
     }
     lua_pushboolean(L, o->strict);
     lua_setfield(L, -2, "strict");
+    if (o->seed >= 0) {
+        lua_pushinteger(L, (lua_Integer)o->seed);
+        lua_setfield(L, -2, "seed");
+    }
+    if (o->out) {
+        lua_pushstring(L, o->out);
+        lua_setfield(L, -2, "output_dir");
+    }
     lua_call(L, 1, 0);
     /* Modules beside the script come first on the search path. */
     lua_getglobal(L, "package");
