@@ -1,0 +1,159 @@
+/* pf_kernels.c - the multiply kernels behind pulses, masks, forces and
+ * split-step evolution (see pf_kernels.h). */
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+#include "pf_constants.h"
+#include "pf_kernels.h"
+
+/* Same block size as pf_reduce.c: the split of every sum is fixed. */
+#define PF_KERNEL_BLOCK ((size_t)16384)
+
+void pf_kernel_axis_multiply(pf_grid *g, double complex *data, const double complex *const *tables,
+                             double complex scale)
+{
+    const size_t n0 = g->n[0], n1 = g->n[1], n2 = g->n[2];
+    const double complex *t0 = tables[0], *t1 = g->dim > 1 ? tables[1] : NULL,
+                         *t2 = g->dim > 2 ? tables[2] : NULL;
+    const int threads = g->ctx->threads;
+    if (g->dim == 1) {
+        ptrdiff_t n = (ptrdiff_t)n0;
+        if (t0) {
+#pragma omp parallel for num_threads(threads) schedule(static)
+            for (ptrdiff_t i = 0; i < n; i++) data[i] *= scale * t0[i];
+        } else {
+#pragma omp parallel for num_threads(threads) schedule(static)
+            for (ptrdiff_t i = 0; i < n; i++) data[i] *= scale;
+        }
+        return;
+    }
+    if (g->dim == 2) {
+#pragma omp parallel for num_threads(threads) schedule(static)
+        for (ptrdiff_t i = 0; i < (ptrdiff_t)n0; i++) {
+            double complex r = t0 ? scale * t0[i] : scale;
+            double complex *row = data + (size_t)i * n1;
+            if (t1)
+                for (size_t j = 0; j < n1; j++) row[j] *= r * t1[j];
+            else
+                for (size_t j = 0; j < n1; j++) row[j] *= r;
+        }
+        return;
+    }
+#pragma omp parallel for collapse(2) num_threads(threads) schedule(static)
+    for (ptrdiff_t i = 0; i < (ptrdiff_t)n0; i++) {
+        for (ptrdiff_t j = 0; j < (ptrdiff_t)n1; j++) {
+            double complex r = scale;
+            if (t0) r *= t0[i];
+            if (t1) r *= t1[j];
+            double complex *row = data + ((size_t)i * n1 + (size_t)j) * n2;
+            if (t2)
+                for (size_t k = 0; k < n2; k++) row[k] *= r * t2[k];
+            else
+                for (size_t k = 0; k < n2; k++) row[k] *= r;
+        }
+    }
+}
+
+static double abs2(double complex z) { return creal(z) * creal(z) + cimag(z) * cimag(z); }
+
+/* Runs body over fixed blocks and sums the per-block partials in order. */
+double pf_kernel_axis_mask(pf_grid *g, double complex *data, const double complex *const *tables)
+{
+    const int d = g->dim;
+    const size_t *n = g->n;
+    const size_t nblocks = (g->total + PF_KERNEL_BLOCK - 1) / PF_KERNEL_BLOCK;
+    double *part = calloc(nblocks, sizeof(double));
+    const int have_parts = part != NULL;
+    ptrdiff_t nb = (ptrdiff_t)nblocks;
+#pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
+    for (ptrdiff_t b = 0; b < nb; b++) {
+        size_t begin = (size_t)b * PF_KERNEL_BLOCK;
+        size_t end = begin + PF_KERNEL_BLOCK < g->total ? begin + PF_KERNEL_BLOCK : g->total;
+        size_t idx[PF_MAX_DIM] = {0, 0, 0};
+        size_t rest = begin;
+        for (int a = d - 1; a >= 0; a--) {
+            idx[a] = rest % n[a];
+            rest /= n[a];
+        }
+        double acc = 0;
+        for (size_t off = begin; off < end; off++) {
+            double complex f = 1.0;
+            for (int a = 0; a < d; a++)
+                if (tables[a]) f *= tables[a][idx[a]];
+            double rho = abs2(data[off]);
+            acc += rho * (1.0 - abs2(f));
+            data[off] *= f;
+            for (int a = d - 1; a >= 0; a--) {
+                if (++idx[a] < n[a]) break;
+                idx[a] = 0;
+            }
+        }
+        if (have_parts) part[b] = acc;
+    }
+    double sum = 0;
+    if (!have_parts) return NAN; /* the multiply is done; only the figure is lost */
+    for (size_t b = 0; b < nblocks; b++) sum += part[b];
+    free(part);
+    return sum;
+}
+
+double pf_kernel_field_mask(pf_grid *g, double complex *data, const double complex *field, int want_removed)
+{
+    const ptrdiff_t total = (ptrdiff_t)g->total;
+    if (!want_removed) {
+#pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
+        for (ptrdiff_t i = 0; i < total; i++) data[i] *= field[i];
+        return 0;
+    }
+    const size_t nblocks = (g->total + PF_KERNEL_BLOCK - 1) / PF_KERNEL_BLOCK;
+    double *part = calloc(nblocks, sizeof(double));
+    const int have_parts = part != NULL;
+    ptrdiff_t nb = (ptrdiff_t)nblocks;
+#pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
+    for (ptrdiff_t b = 0; b < nb; b++) {
+        size_t begin = (size_t)b * PF_KERNEL_BLOCK;
+        size_t end = begin + PF_KERNEL_BLOCK < g->total ? begin + PF_KERNEL_BLOCK : g->total;
+        double acc = 0;
+        for (size_t i = begin; i < end; i++) {
+            acc += abs2(data[i]) * (1.0 - abs2(field[i]));
+            data[i] *= field[i];
+        }
+        if (have_parts) part[b] = acc;
+    }
+    if (!have_parts) return NAN;
+    double sum = 0;
+    for (size_t b = 0; b < nblocks; b++) sum += part[b];
+    free(part);
+    return sum;
+}
+
+void pf_kernel_kinetic_tables(const pf_grid *g, double tau, const double *shift, double complex **tables)
+{
+    for (int a = 0; a < g->dim; a++) {
+        double dk = PF_TWO_PI / g->span[a];
+        double c = 0.5 * tau * dk * dk; /* kinetic phase = c m^2 for the integer index m */
+        /* Translation phase k b = 2 pi m (b / span): reduced to turns exactly
+         * on the integer lattice, so large shifts keep full precision. */
+        double frac = shift ? shift[a] / g->span[a] : 0.0;
+        for (size_t j = 0; j < g->n[a]; j++) {
+            double m = nearbyint(g->k[a][j] / dk);
+            double turns = shift ? fmod(m * frac, 1.0) : 0.0;
+            tables[a][j] = cexp(-I * (c * m * m + PF_TWO_PI * turns));
+        }
+    }
+}
+
+double pf_kernel_sum_abs2(pf_grid *g, const double complex *data)
+{
+    double sums[1 + 2 * PF_MAX_DIM];
+    if (pf_reduce_axis_moments(g, data, NULL, sums) != PF_OK) return NAN;
+    return sums[0];
+}
+
+double pf_kernel_probability(const pf_wave *w, double s)
+{
+    const pf_grid *g = w->grid;
+    double v = pf_grid_cell_volume(g);
+    if (w->rep == PF_MOMENTUM) v *= (double)g->total;
+    return s * v;
+}

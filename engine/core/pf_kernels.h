@@ -1,0 +1,43 @@
+/* pf_kernels.h - multiply kernels shared by the protocol steps (pulses, masks,
+ * uniform-force flight, split-step evolution).
+ *
+ * Core-internal, like pf_internal.h.  Two shapes of factor cover every step:
+ * a product of per-axis tables (separable pulses and masks, kinetic phases)
+ * and a full-grid array (non-separable masks, potentials).  The kernels that
+ * also measure the removed probability use the same fixed block split as
+ * pf_reduce.c, so the figure does not depend on the thread count. */
+#ifndef PF_KERNELS_H
+#define PF_KERNELS_H
+
+#include "pf_internal.h"
+
+/* data[i,j,k] *= scale * T0[i] * T1[j] * T2[k]; a NULL table stands for 1.
+ * Used on hot paths: the outer products are formed per row, so the inner
+ * loop costs one complex multiply per point. */
+void pf_kernel_axis_multiply(pf_grid *g, double complex *data, const double complex *const *tables,
+                             double complex scale);
+
+/* Same product, and returns sum over points of |z|^2 (1 - |f|^2) taken with the
+ * factor f before the multiply: the storage-unit probability a mask removes
+ * (callers multiply by the cell volume, and by N in momentum storage). */
+double pf_kernel_axis_mask(pf_grid *g, double complex *data, const double complex *const *tables);
+
+/* data[i] *= field[i] for every point; returns sum |z|^2 (1 - |f|^2) like
+ * pf_kernel_axis_mask when want_removed, else 0 (no reduction pass). */
+double pf_kernel_field_mask(pf_grid *g, double complex *data, const double complex *field, int want_removed);
+
+/* exp(-i c m^2) per axis storage index, m the integer wave-number index, so
+ * tables[a][j] = exp(-i tau k_a^2 / 2) with tau = hbar t / m exactly reduced
+ * on the integer lattice (as the free flight does).  Extra translation by b[a]
+ * metres (exp(-i k b)) when shift is not NULL.  tables[a] hold g->n[a]
+ * entries each. */
+void pf_kernel_kinetic_tables(const pf_grid *g, double tau, const double *shift, double complex **tables);
+
+/* Sum of |z|^2 over the grid in storage units, deterministic (pf_reduce). */
+double pf_kernel_sum_abs2(pf_grid *g, const double complex *data);
+
+/* Probability (in physical units) of storage-unit sum s for the wave's
+ * current representation. */
+double pf_kernel_probability(const pf_wave *w, double s);
+
+#endif

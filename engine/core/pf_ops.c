@@ -1,0 +1,421 @@
+/* pf_ops.c - instantaneous pulses, masks, displacement and velocity selection
+ * (contracts in pf_ops.h).  Separable operations build per-axis tables and use
+ * the axis kernels; only the circular aperture and user functions need a
+ * full-grid array. */
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+#include "pf_constants.h"
+#include "pf_kernels.h"
+#include "pf_ops.h"
+
+/* Per-axis scratch tables, allocated together and freed together. */
+typedef struct axis_tables {
+    double complex *t[PF_MAX_DIM];
+} axis_tables;
+
+static pf_status tables_alloc(pf_grid *g, axis_tables *at, unsigned axes_mask)
+{
+    memset(at, 0, sizeof *at);
+    for (int a = 0; a < g->dim; a++) {
+        if (!(axes_mask & (1u << a))) continue;
+        at->t[a] = malloc(g->n[a] * sizeof(double complex));
+        if (!at->t[a]) {
+            for (int b = 0; b < a; b++) free(at->t[b]);
+            return pf_fail(g->ctx, PF_ENOMEM, "out of memory for per-axis tables");
+        }
+    }
+    return PF_OK;
+}
+
+static void tables_free(axis_tables *at)
+{
+    for (int a = 0; a < PF_MAX_DIM; a++) free(at->t[a]);
+}
+
+static pf_status check_axis(pf_grid *g, int axis, const char *what)
+{
+    if (axis < 0 || axis >= g->dim)
+        return pf_fail(g->ctx, PF_EINVAL, "axis must be 1..%d, got %d", g->dim, axis + 1);
+    return PF_OK;
+}
+
+/* Applies unitary per-axis phase tables in position space and logs the step. */
+static pf_status apply_position_phase(pf_wave *w, axis_tables *at, const char *kind, const char *method)
+{
+    double norm = pf_wave_last_logged_norm(w);
+    pf_status s = pf_wave_to(w, PF_POSITION);
+    if (s) return s;
+    pf_kernel_axis_multiply(w->grid, w->data, (const double complex *const *)at->t, 1.0);
+    pf_wave_log_step(w, kind, method, 0.0, 0.0, norm);
+    return PF_OK;
+}
+
+/* Applies per-axis transmission tables (position space), logs, reports removed. */
+static pf_status apply_position_mask(pf_wave *w, axis_tables *at, const char *method, double *removed)
+{
+    pf_status s = pf_wave_to(w, PF_POSITION);
+    if (s) return s;
+    double r = pf_kernel_probability(w, pf_kernel_axis_mask(w->grid, w->data, (const double complex *const *)at->t));
+    if (r < 0) r = 0; /* |t| <= 1 on every built-in mask; only rounding can go below */
+    pf_wave_log_step(w, "mask", method, 0.0, r, -1.0);
+    if (removed) *removed = r;
+    return PF_OK;
+}
+
+/* ---- phase pulses ---- */
+
+pf_status pf_wave_grating(pf_wave *w, int axis, double depth, double period, double phase)
+{
+    pf_grid *g = w->grid;
+    pf_status s = check_axis(g, axis, "grating");
+    if (s) return s;
+    if (!isfinite(period) || period <= 0)
+        return pf_fail(g->ctx, PF_EINVAL, "period must be finite and positive (m), got %g", period);
+    if (!isfinite(depth)) return pf_fail(g->ctx, PF_EINVAL, "depth must be finite (rad), got %g", depth);
+    if (!isfinite(phase)) return pf_fail(g->ctx, PF_EINVAL, "phase must be finite (rad), got %g", phase);
+    axis_tables at;
+    if ((s = tables_alloc(g, &at, 1u << axis))) return s;
+    for (size_t j = 0; j < g->n[axis]; j++) {
+        /* Reduce x/period to a fraction first, so the argument of cos stays
+         * small however far the grid sits from the origin. */
+        double u = g->x[axis][j] / period;
+        u -= floor(u);
+        at.t[axis][j] = cexp(I * depth * cos(PF_TWO_PI * u + phase));
+    }
+    s = apply_position_phase(w, &at, "grating", "raman-nath");
+    tables_free(&at);
+    return s;
+}
+
+pf_status pf_wave_lens(pf_wave *w, int axis, double focal_time, const double *center)
+{
+    pf_grid *g = w->grid;
+    pf_status s;
+    if (axis >= 0 && (s = check_axis(g, axis, "lens"))) return s;
+    if (!isfinite(focal_time) || focal_time == 0)
+        return pf_fail(g->ctx, PF_EINVAL,
+                       "focal time must be finite and non-zero (s; negative defocuses), got %g", focal_time);
+    unsigned mask = axis < 0 ? (1u << g->dim) - 1 : 1u << axis;
+    axis_tables at;
+    if ((s = tables_alloc(g, &at, mask))) return s;
+    double c = w->mass / (2.0 * PF_HBAR * focal_time);
+    for (int a = 0; a < g->dim; a++) {
+        if (!at.t[a]) continue;
+        double x0 = center ? center[a] : 0.0;
+        for (size_t j = 0; j < g->n[a]; j++) {
+            double x = g->x[a][j] - x0;
+            at.t[a][j] = cexp(-I * c * x * x);
+        }
+    }
+    s = apply_position_phase(w, &at, "lens", "quadratic-phase");
+    tables_free(&at);
+    return s;
+}
+
+pf_status pf_wave_kick(pf_wave *w, const double *k)
+{
+    pf_grid *g = w->grid;
+    unsigned mask = 0;
+    for (int a = 0; a < g->dim; a++) {
+        if (!isfinite(k[a]))
+            return pf_fail(g->ctx, PF_EINVAL, "wave number on axis %d must be finite (rad/m), got %g", a + 1, k[a]);
+        if (k[a] != 0) mask |= 1u << a;
+    }
+    axis_tables at;
+    pf_status s = tables_alloc(g, &at, mask);
+    if (s) return s;
+    for (int a = 0; a < g->dim; a++) {
+        if (!at.t[a]) continue;
+        if (fabs(k[a]) >= pf_grid_knyquist(g, a))
+            pf_context_warn(g->ctx, "kick: wave number %g rad/m on axis %d reaches the grid's Nyquist limit %g rad/m; "
+                            "the momentum wraps around (use a finer grid)", k[a], a + 1, pf_grid_knyquist(g, a));
+        for (size_t j = 0; j < g->n[a]; j++) at.t[a][j] = cexp(I * k[a] * g->x[a][j]);
+    }
+    s = apply_position_phase(w, &at, "kick", "position-phase");
+    tables_free(&at);
+    return s;
+}
+
+/* Shared by imprint and user masks: samples fn over the representation's
+ * coordinates into a full-grid array (natural order for position, storage
+ * order for momentum). */
+static pf_status sample_field(pf_wave *w, pf_rep rep, pf_sample_fn fn, void *user, double complex **out)
+{
+    pf_grid *g = w->grid;
+    size_t bytes = pf_bytes(g->total, sizeof(double complex));
+    double complex *f = pf_alloc(g->ctx, bytes);
+    if (!f) return g->ctx->message[0] ? PF_ELIMIT : PF_ENOMEM;
+    size_t idx[PF_MAX_DIM] = {0, 0, 0};
+    double coord[PF_MAX_DIM] = {0, 0, 0};
+    for (size_t off = 0; off < g->total; off++) {
+        size_t rest = off;
+        for (int a = g->dim - 1; a >= 0; a--) {
+            idx[a] = rest % g->n[a];
+            rest /= g->n[a];
+            coord[a] = rep == PF_POSITION ? g->x[a][idx[a]] : g->k[a][idx[a]];
+        }
+        double complex v = 0;
+        if (fn(user, coord, &v) != 0) {
+            pf_free(g->ctx, f, bytes);
+            return PF_ECALLBACK;
+        }
+        f[off] = v;
+    }
+    *out = f;
+    return PF_OK;
+}
+
+pf_status pf_wave_imprint(pf_wave *w, pf_sample_fn fn, void *user)
+{
+    pf_grid *g = w->grid;
+    double complex *f;
+    pf_status s = sample_field(w, PF_POSITION, fn, user, &f);
+    if (s) return s;
+    size_t bytes = pf_bytes(g->total, sizeof(double complex));
+    for (size_t i = 0; i < g->total; i++) {
+        double ph = creal(f[i]);
+        if (!isfinite(ph) || cimag(f[i]) != 0) {
+            pf_free(g->ctx, f, bytes);
+            return pf_fail(g->ctx, PF_EINVAL, "phase at point %zu is %g%+gi; it must be a finite real number (rad)", i + 1, ph, cimag(f[i]));
+        }
+        f[i] = cexp(I * ph);
+    }
+    double norm = pf_wave_last_logged_norm(w);
+    s = pf_wave_to(w, PF_POSITION);
+    if (!s) {
+        pf_kernel_field_mask(g, w->data, f, 0);
+        pf_wave_log_step(w, "imprint", "function", 0.0, 0.0, norm);
+    }
+    pf_free(g->ctx, f, bytes);
+    return s;
+}
+
+/* ---- amplitude masks ---- */
+
+/* Relative tolerance for points that sit exactly on an edge: grids and
+ * masks specified in round numbers put points on edges, and rounding must not
+ * open one period of a grating and close the next. */
+#define EDGE_EPS 1e-9
+
+pf_status pf_wave_slits(pf_wave *w, int axis, int count, double width, double pitch, double center,
+                        double *removed)
+{
+    pf_grid *g = w->grid;
+    pf_status s = check_axis(g, axis, "slits");
+    if (s) return s;
+    if (count < 1) return pf_fail(g->ctx, PF_EINVAL, "count must be at least 1, got %d", count);
+    if (!isfinite(width) || width <= 0)
+        return pf_fail(g->ctx, PF_EINVAL, "width must be finite and positive (m), got %g", width);
+    if (!isfinite(center)) return pf_fail(g->ctx, PF_EINVAL, "center must be finite (m), got %g", center);
+    if (count > 1 && (!isfinite(pitch) || pitch <= width))
+        return pf_fail(g->ctx, PF_EINVAL, "pitch must be finite and larger than the width %g m, got %g",
+                       width, pitch);
+    axis_tables at;
+    if ((s = tables_alloc(g, &at, 1u << axis))) return s;
+    double half = 0.5 * width * (1.0 + EDGE_EPS);
+    for (size_t j = 0; j < g->n[axis]; j++) {
+        double x = g->x[axis][j] - center;
+        int open = 0;
+        if (count == 1) {
+            open = fabs(x) <= half;
+        } else {
+            /* Nearest slit index, clamped to the slit range. */
+            double i = nearbyint(x / pitch + 0.5 * (count - 1));
+            if (i < 0) i = 0;
+            if (i > count - 1) i = count - 1;
+            open = fabs(x - (i - 0.5 * (count - 1)) * pitch) <= half;
+        }
+        at.t[axis][j] = open ? 1.0 : 0.0;
+    }
+    s = apply_position_mask(w, &at, count == 1 ? "slit" : "slits", removed);
+    tables_free(&at);
+    return s;
+}
+
+pf_status pf_wave_mask_grating(pf_wave *w, int axis, double period, double open_fraction, double offset,
+                               double *removed)
+{
+    pf_grid *g = w->grid;
+    pf_status s = check_axis(g, axis, "mask_grating");
+    if (s) return s;
+    if (!isfinite(period) || period <= 0)
+        return pf_fail(g->ctx, PF_EINVAL, "period must be finite and positive (m), got %g", period);
+    if (!(open_fraction > 0 && open_fraction <= 1))
+        return pf_fail(g->ctx, PF_EINVAL, "open_fraction must be in (0, 1], got %g", open_fraction);
+    if (!isfinite(offset)) return pf_fail(g->ctx, PF_EINVAL, "offset must be finite (m), got %g", offset);
+    axis_tables at;
+    if ((s = tables_alloc(g, &at, 1u << axis))) return s;
+    for (size_t j = 0; j < g->n[axis]; j++) {
+        double u = (g->x[axis][j] - offset) / period;
+        double r = u - floor(u);
+        if (r > 1.0 - EDGE_EPS) r = 0.0; /* on an opening edge */
+        at.t[axis][j] = r < open_fraction - EDGE_EPS || open_fraction == 1 ? 1.0 : 0.0;
+    }
+    s = apply_position_mask(w, &at, "grating", removed);
+    tables_free(&at);
+    return s;
+}
+
+pf_status pf_wave_aperture_rect(pf_wave *w, const double *center, const double *size, double *removed)
+{
+    pf_grid *g = w->grid;
+    unsigned mask = 0;
+    for (int a = 0; a < g->dim; a++) {
+        if (isnan(size[a]) || size[a] <= 0)
+            return pf_fail(g->ctx, PF_EINVAL, "size on axis %d must be positive (m), got %g", a + 1, size[a]);
+        if (center && !isfinite(center[a]))
+            return pf_fail(g->ctx, PF_EINVAL, "center on axis %d must be finite (m), got %g", a + 1, center[a]);
+        if (isfinite(size[a])) mask |= 1u << a;
+    }
+    axis_tables at;
+    pf_status s = tables_alloc(g, &at, mask);
+    if (s) return s;
+    for (int a = 0; a < g->dim; a++) {
+        if (!at.t[a]) continue;
+        double c = center ? center[a] : 0.0, half = 0.5 * size[a] * (1.0 + EDGE_EPS);
+        for (size_t j = 0; j < g->n[a]; j++) at.t[a][j] = fabs(g->x[a][j] - c) <= half ? 1.0 : 0.0;
+    }
+    s = apply_position_mask(w, &at, "rectangle", removed);
+    tables_free(&at);
+    return s;
+}
+
+pf_status pf_wave_aperture_circle(pf_wave *w, int axis_a, int axis_b, const double *center, double radius,
+                                  double *removed)
+{
+    pf_grid *g = w->grid;
+    if (g->dim < 2)
+        return pf_fail(g->ctx, PF_EINVAL, "a circular aperture needs a 2D or 3D grid, this one is 1D");
+    pf_status s;
+    if ((s = check_axis(g, axis_a, "aperture")) || (s = check_axis(g, axis_b, "aperture"))) return s;
+    if (axis_a == axis_b)
+        return pf_fail(g->ctx, PF_EINVAL, "the two axes of a circular aperture must differ, got %d twice",
+                       axis_a + 1);
+    if (!isfinite(radius) || radius <= 0)
+        return pf_fail(g->ctx, PF_EINVAL, "radius must be finite and positive (m), got %g", radius);
+    double c0 = center ? center[0] : 0.0, c1 = center ? center[1] : 0.0;
+    if (!isfinite(c0) || !isfinite(c1))
+        return pf_fail(g->ctx, PF_EINVAL, "center must be finite (m), got (%g, %g)", c0, c1);
+    size_t bytes = pf_bytes(g->total, sizeof(double complex));
+    double complex *f = pf_alloc(g->ctx, bytes);
+    if (!f) return g->ctx->message[0] ? PF_ELIMIT : PF_ENOMEM;
+    double r2 = radius * radius * (1.0 + 2 * EDGE_EPS);
+    size_t idx[PF_MAX_DIM];
+    for (size_t off = 0; off < g->total; off++) {
+        size_t rest = off;
+        for (int a = g->dim - 1; a >= 0; a--) {
+            idx[a] = rest % g->n[a];
+            rest /= g->n[a];
+        }
+        double u = g->x[axis_a][idx[axis_a]] - c0, v = g->x[axis_b][idx[axis_b]] - c1;
+        f[off] = u * u + v * v <= r2 ? 1.0 : 0.0;
+    }
+    s = pf_wave_to(w, PF_POSITION);
+    if (!s) {
+        double r = pf_kernel_probability(w, pf_kernel_field_mask(g, w->data, f, 1));
+        if (r < 0) r = 0;
+        pf_wave_log_step(w, "mask", "circle", 0.0, r, -1.0);
+        if (removed) *removed = r;
+    }
+    pf_free(g->ctx, f, bytes);
+    return s;
+}
+
+pf_status pf_wave_mask(pf_wave *w, pf_rep rep, pf_sample_fn fn, void *user, double *removed)
+{
+    pf_grid *g = w->grid;
+    double complex *f;
+    pf_status s = sample_field(w, rep, fn, user, &f);
+    if (s) return s;
+    size_t bytes = pf_bytes(g->total, sizeof(double complex));
+    for (size_t i = 0; i < g->total; i++) {
+        double complex t = f[i];
+        if (!isfinite(creal(t)) || !isfinite(cimag(t)) || cabs(t) > 1.0 + 1e-12) {
+            pf_free(g->ctx, f, bytes);
+            return pf_fail(g->ctx, PF_EINVAL,
+                           "transmission at point %zu is %g%+gi; it must be finite with modulus at most 1",
+                           i + 1, creal(t), cimag(t));
+        }
+    }
+    s = pf_wave_to(w, rep);
+    if (!s) {
+        double r = pf_kernel_probability(w, pf_kernel_field_mask(g, w->data, f, 1));
+        if (r < 0) r = 0;
+        pf_wave_log_step(w, rep == PF_POSITION ? "mask" : "momentum-mask", "function", 0.0, r, -1.0);
+        if (removed) *removed = r;
+    }
+    pf_free(g->ctx, f, bytes);
+    return s;
+}
+
+/* ---- momentum-space operations ---- */
+
+/* Brings the wave to momentum storage and returns the scale still owed to it
+ * (1/N when the raw forward transform was just taken), so the caller can fuse
+ * the scaling into its own pass. */
+static pf_status to_momentum_unscaled(pf_wave *w, double *scale)
+{
+    *scale = 1.0;
+    if (w->rep == PF_MOMENTUM) return PF_OK;
+    pf_status s = pf_grid_fft(w->grid, w->data, -1);
+    if (s) return s;
+    *scale = 1.0 / (double)w->grid->total;
+    w->rep = PF_MOMENTUM;
+    return PF_OK;
+}
+
+pf_status pf_wave_shift(pf_wave *w, const double *d)
+{
+    pf_grid *g = w->grid;
+    for (int a = 0; a < g->dim; a++) {
+        if (!isfinite(d[a]))
+            return pf_fail(g->ctx, PF_EINVAL, "distance on axis %d must be finite (m), got %g", a + 1, d[a]);
+        if (fabs(d[a]) > 0.5 * g->span[a])
+            pf_context_warn(g->ctx, "shift: distance %g m on axis %d exceeds half the grid span %g m; "
+                            "the periodic grid wraps the state around", d[a], a + 1, g->span[a]);
+    }
+    axis_tables at;
+    pf_status s = tables_alloc(g, &at, (1u << g->dim) - 1);
+    if (s) return s;
+    pf_kernel_kinetic_tables(g, 0.0, d, at.t);
+    double norm = pf_wave_last_logged_norm(w), scale;
+    s = to_momentum_unscaled(w, &scale);
+    if (!s) {
+        pf_kernel_axis_multiply(g, w->data, (const double complex *const *)at.t, scale);
+        pf_wave_log_step(w, "shift", "momentum-exact", 0.0, 0.0, norm);
+    }
+    tables_free(&at);
+    return s;
+}
+
+pf_status pf_wave_select_velocity(pf_wave *w, int axis, double center, double width, int gaussian,
+                                  double *removed)
+{
+    pf_grid *g = w->grid;
+    pf_status s = check_axis(g, axis, "select_velocity");
+    if (s) return s;
+    if (!isfinite(center))
+        return pf_fail(g->ctx, PF_EINVAL, "center must be finite (m/s), got %g", center);
+    if (!isfinite(width) || width <= 0)
+        return pf_fail(g->ctx, PF_EINVAL, "width must be finite and positive (m/s), got %g", width);
+    axis_tables at;
+    if ((s = tables_alloc(g, &at, 1u << axis))) return s;
+    double vk = PF_HBAR / w->mass; /* velocity per unit wave number */
+    for (size_t j = 0; j < g->n[axis]; j++) {
+        double dv = g->k[axis][j] * vk - center;
+        if (gaussian)
+            at.t[axis][j] = exp(-dv * dv / (4.0 * width * width));
+        else
+            at.t[axis][j] = fabs(dv) <= 0.5 * width * (1.0 + EDGE_EPS) ? 1.0 : 0.0;
+    }
+    s = pf_wave_to(w, PF_MOMENTUM);
+    if (!s) {
+        double r = pf_kernel_probability(w, pf_kernel_axis_mask(g, w->data, (const double complex *const *)at.t));
+        if (r < 0) r = 0;
+        pf_wave_log_step(w, "momentum-mask", gaussian ? "velocity-gauss" : "velocity-box", 0.0, r, -1.0);
+        if (removed) *removed = r;
+    }
+    tables_free(&at);
+    return s;
+}

@@ -1,0 +1,200 @@
+/* pf_relax.c - imaginary-time relaxation and the Gross-Pitaevskii energy
+ * functional (see pf_relax.h). */
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+#include "pf_constants.h"
+#include "pf_kernels.h"
+#include "pf_observe.h"
+#include "pf_relax.h"
+
+#define BLOCK ((size_t)16384)
+
+/* Deterministic sums over position data: s[0] = sum rho, s[1] = sum V rho,
+ * s[2] = sum rho^2 (fixed blocks, partials added in order). */
+static pf_status position_sums(pf_grid *g, const double complex *z, const double *V, double *s)
+{
+    size_t nblocks = (g->total + BLOCK - 1) / BLOCK;
+    double *part = calloc(3 * nblocks, sizeof(double));
+    if (!part) return pf_fail(g->ctx, PF_ENOMEM, "out of memory for an energy sum");
+    ptrdiff_t nb = (ptrdiff_t)nblocks;
+#pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
+    for (ptrdiff_t b = 0; b < nb; b++) {
+        size_t begin = (size_t)b * BLOCK, end = begin + BLOCK < g->total ? begin + BLOCK : g->total;
+        double a0 = 0, a1 = 0, a2 = 0;
+        for (size_t i = begin; i < end; i++) {
+            double rho = creal(z[i]) * creal(z[i]) + cimag(z[i]) * cimag(z[i]);
+            a0 += rho;
+            if (V) a1 += V[i] * rho;
+            a2 += rho * rho;
+        }
+        part[3 * b] = a0;
+        part[3 * b + 1] = a1;
+        part[3 * b + 2] = a2;
+    }
+    s[0] = s[1] = s[2] = 0;
+    for (size_t b = 0; b < nblocks; b++)
+        for (int c = 0; c < 3; c++) s[c] += part[3 * b + (size_t)c];
+    free(part);
+    return PF_OK;
+}
+
+/* E and mu of position data z; scratch holds a full complex array. */
+static pf_status energy_of(pf_wave *w, const double complex *z, const double *V, double g, double complex *scratch,
+                           double *energy, double *mu)
+{
+    pf_grid *gr = w->grid;
+    double s[3] = {0, 0, 0};
+    pf_status st = position_sums(gr, z, V, s);
+    if (st) return st;
+    if (!(s[0] > 0)) return pf_fail(gr->ctx, PF_EINVAL, "energy of a zero state is undefined");
+    double dv = pf_grid_cell_volume(gr);
+    double pot = s[1] / s[0];
+    /* integral |psi|^4 for psi normalised to 1: sum rho^2 dv / (sum rho dv)^2 */
+    double quartic = s[2] / (s[0] * s[0] * dv);
+    memcpy(scratch, z, pf_bytes(gr->total, sizeof(double complex)));
+    if ((st = pf_grid_fft(gr, scratch, -1))) return st;
+    double sums[1 + 2 * PF_MAX_DIM];
+    const double *k[PF_MAX_DIM];
+    for (int a = 0; a < gr->dim; a++) k[a] = gr->k[a];
+    if ((st = pf_reduce_axis_moments(gr, scratch, k, sums))) return st;
+    double k2 = 0;
+    for (int a = 0; a < gr->dim; a++) k2 += sums[1 + gr->dim + a] / sums[0];
+    double kin = PF_HBAR * PF_HBAR * k2 / (2.0 * w->mass);
+    *energy = kin + pot + 0.5 * g * quartic;
+    *mu = kin + pot + g * quartic;
+    return PF_OK;
+}
+
+pf_status pf_wave_energy(pf_wave *w, const double *potential, double g, double *energy, double *mu)
+{
+    pf_grid *gr = w->grid;
+    if (!isfinite(g)) return pf_fail(gr->ctx, PF_EINVAL, "g must be finite, got %g", g);
+    size_t bytes = pf_bytes(gr->total, sizeof(double complex));
+    double complex *pos = pf_alloc(gr->ctx, 2 * bytes);
+    if (!pos) return gr->ctx->message[0] ? PF_ELIMIT : PF_ENOMEM;
+    double complex *scratch = pos + gr->total;
+    memcpy(pos, w->data, bytes);
+    pf_status s = PF_OK;
+    if (w->rep == PF_MOMENTUM) s = pf_grid_fft(gr, pos, +1); /* S = DFT/N: backward gives psi */
+    double e = 0, m = 0;
+    if (!s) s = energy_of(w, pos, potential, g, scratch, &e, &m);
+    pf_free(gr->ctx, pos, 2 * bytes);
+    if (s) return s;
+    if (energy) *energy = e;
+    if (mu) *mu = m;
+    return PF_OK;
+}
+
+/* data *= exp(-(V - vmin + g|psi|^2) f) per point (f = dtau / 2 hbar); with
+ * g = 0 the precomputed factor array is used instead. */
+static void damp_potential(pf_grid *g, double complex *d, const double *V, double vmin, double gc, double f,
+                           const double *factor)
+{
+    ptrdiff_t n = (ptrdiff_t)g->total;
+    if (factor) {
+#pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
+        for (ptrdiff_t i = 0; i < n; i++) d[i] *= factor[i];
+        return;
+    }
+#pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
+    for (ptrdiff_t i = 0; i < n; i++) {
+        double rho = creal(d[i]) * creal(d[i]) + cimag(d[i]) * cimag(d[i]);
+        d[i] *= exp(-(V[i] - vmin + gc * rho) * f);
+    }
+}
+
+pf_status pf_wave_relax(pf_wave *w, const pf_relax_spec *spec, pf_relax_info *info)
+{
+    pf_grid *g = w->grid;
+    pf_context *ctx = g->ctx;
+    const double *V = spec->potential;
+    if (!V) return pf_fail(ctx, PF_EINVAL, "a potential is required");
+    if (!isfinite(spec->g)) return pf_fail(ctx, PF_EINVAL, "g must be finite, got %g", spec->g);
+    if (!isfinite(spec->dt)) return pf_fail(ctx, PF_EINVAL, "dt must be finite (s), got %g", spec->dt);
+    if (!(spec->tolerance > 0) || !isfinite(spec->tolerance))
+        return pf_fail(ctx, PF_EINVAL, "tolerance must be finite and positive, got %g", spec->tolerance);
+    if (spec->max_steps < 1) return pf_fail(ctx, PF_EINVAL, "max_steps must be at least 1");
+    if (spec->check_every < 1) return pf_fail(ctx, PF_EINVAL, "check_every must be at least 1");
+    double vmin = INFINITY, vmax = -INFINITY;
+    for (size_t i = 0; i < g->total; i++) {
+        if (!isfinite(V[i]))
+            return pf_fail(ctx, PF_EINVAL, "the potential at point %zu is %g, not finite", i + 1, V[i]);
+        if (V[i] < vmin) vmin = V[i];
+        if (V[i] > vmax) vmax = V[i];
+    }
+    double dt = spec->dt;
+    if (dt <= 0) {
+        if (!(vmax > vmin))
+            return pf_fail(ctx, PF_EINVAL, "the potential is flat, so give dt (imaginary-time step, s)");
+        dt = PF_HBAR * 0.5 / (vmax - vmin);
+    }
+    pf_status s = pf_wave_to(w, PF_POSITION);
+    if (s) return s;
+    if (!(pf_wave_norm(w) > 0)) return pf_fail(ctx, PF_EINVAL, "the starting state is zero");
+
+    size_t bytes_c = pf_bytes(g->total, sizeof(double complex)), bytes_r = pf_bytes(g->total, sizeof(double));
+    double complex *scratch = pf_alloc(ctx, bytes_c);
+    double *factor = NULL;
+    double complex *kin[PF_MAX_DIM] = {NULL, NULL, NULL};
+    if (!scratch) return ctx->message[0] ? PF_ELIMIT : PF_ENOMEM;
+    const double f = dt / (2.0 * PF_HBAR);
+    if (spec->g == 0) {
+        factor = pf_alloc(ctx, bytes_r);
+        if (!factor) {
+            s = ctx->message[0] ? PF_ELIMIT : PF_ENOMEM;
+            goto done;
+        }
+        for (size_t i = 0; i < g->total; i++) factor[i] = exp(-(V[i] - vmin) * f);
+    }
+    for (int a = 0; a < g->dim; a++) {
+        kin[a] = malloc(g->n[a] * sizeof(double complex));
+        if (!kin[a]) {
+            s = pf_fail(ctx, PF_ENOMEM, "out of memory for kinetic tables");
+            goto done;
+        }
+        double c = PF_HBAR * dt / (2.0 * w->mass);
+        for (size_t j = 0; j < g->n[a]; j++) kin[a][j] = exp(-c * g->k[a][j] * g->k[a][j]);
+    }
+    double e_prev = NAN, e = NAN, mu = NAN, change = INFINITY;
+    int converged = 0;
+    size_t step = 0;
+    double inv_n = 1.0 / (double)g->total;
+    while (step < spec->max_steps) {
+        damp_potential(g, w->data, V, vmin, spec->g, f, factor);
+        if ((s = pf_grid_fft(g, w->data, -1))) goto done;
+        pf_kernel_axis_multiply(g, w->data, (const double complex *const *)kin, inv_n);
+        if ((s = pf_grid_fft(g, w->data, +1))) goto done;
+        damp_potential(g, w->data, V, vmin, spec->g, f, factor);
+        if ((s = pf_wave_normalize(w))) goto done;
+        step++;
+        if (step % spec->check_every == 0 || step == spec->max_steps) {
+            if ((s = energy_of(w, w->data, V, spec->g, scratch, &e, &mu))) goto done;
+            if (isfinite(e_prev)) {
+                change = fabs(e - e_prev) / fmax(fabs(e), 1e-300);
+                if (change <= spec->tolerance) {
+                    converged = 1;
+                    break;
+                }
+            }
+            e_prev = e;
+        }
+    }
+    if (!converged)
+        pf_context_warn(ctx, "relax: not converged after %zu steps (relative energy change %.3g between checks, "
+                        "tolerance %.3g); raise max_steps or dt", step, change, spec->tolerance);
+    if (info) {
+        info->steps = step;
+        info->converged = converged;
+        info->energy = e;
+        info->chemical_potential = mu;
+        info->change = change;
+        info->dt = dt;
+    }
+    pf_wave_log_step(w, "relax", "imaginary-time", 0.0, 0.0, -1.0);
+done:
+    pf_free(ctx, scratch, bytes_c);
+    if (factor) pf_free(ctx, factor, bytes_r);
+    for (int a = 0; a < g->dim; a++) free(kin[a]);
+    return s;
+}

@@ -1,0 +1,284 @@
+/* pf_splitstep.c - split-step Fourier evolution in a potential, Strang and
+ * fourth-order Yoshida composition, optional mean field (see pf_splitstep.h). */
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+#include "pf_constants.h"
+#include "pf_kernels.h"
+#include "pf_splitstep.h"
+
+#define MAX_STAGES 3
+#define MAX_STEPS 1000000000.0
+
+/* A scheme: kinetic fractions c[0..s-1] of the step; potential fractions at
+ * the stage boundaries follow as (c[j-1] + c[j]) / 2. */
+typedef struct scheme {
+    int stages;
+    double c[MAX_STAGES];
+} scheme;
+
+static scheme make_scheme(int order)
+{
+    scheme s;
+    memset(&s, 0, sizeof s);
+    if (order == 2) {
+        s.stages = 1;
+        s.c[0] = 1.0;
+    } else {
+        double cbrt2 = cbrt(2.0);
+        double w1 = 1.0 / (2.0 - cbrt2), w0 = -cbrt2 / (2.0 - cbrt2);
+        s.stages = 3;
+        s.c[0] = w1;
+        s.c[1] = w0;
+        s.c[2] = w1;
+    }
+    return s;
+}
+
+/* Workspace of one evolve call. */
+typedef struct evolve_ws {
+    pf_grid *g;
+    pf_wave *w;
+    const pf_evolve_spec *spec;
+    scheme sc;
+    double h;                       /* step (s) */
+    double complex *kin[2][PF_MAX_DIM]; /* kinetic tables for c = w1 (or 1) and w0 */
+    double complex *e1, *e2;        /* static exponentials exp(-i V h c1/2 / hbar), exp(-i V h c0/2 / hbar) */
+    double *vbuf;                   /* V(x, t) samples */
+    size_t bytes_c, bytes_r;
+} evolve_ws;
+
+static void ws_free(evolve_ws *ws)
+{
+    pf_context *ctx = ws->g->ctx;
+    for (int i = 0; i < 2; i++)
+        for (int a = 0; a < PF_MAX_DIM; a++) free(ws->kin[i][a]);
+    if (ws->e1) pf_free(ctx, ws->e1, ws->bytes_c);
+    if (ws->e2) pf_free(ctx, ws->e2, ws->bytes_c);
+    if (ws->vbuf) pf_free(ctx, ws->vbuf, ws->bytes_r);
+}
+
+/* min and max of V; PF_EINVAL naming the point when a value is not finite. */
+static pf_status potential_range(pf_grid *g, const double *V, double *lo, double *hi)
+{
+    double a = INFINITY, b = -INFINITY;
+    for (size_t i = 0; i < g->total; i++) {
+        double v = V[i];
+        if (!isfinite(v))
+            return pf_fail(g->ctx, PF_EINVAL, "the potential at point %zu is %g, not finite", i + 1, v);
+        if (v < a) a = v;
+        if (v > b) b = v;
+    }
+    *lo = a;
+    *hi = b;
+    return PF_OK;
+}
+
+static double max_density(pf_wave *w)
+{
+    double m = 0;
+    for (size_t i = 0; i < w->grid->total; i++) {
+        double complex z = w->data[i];
+        double r = creal(z) * creal(z) + cimag(z) * cimag(z);
+        if (r > m) m = r;
+    }
+    return m;
+}
+
+/* data *= exp(-i (V + g |psi|^2) f), f = coef h / hbar, for V given per point. */
+static void potential_pass_direct(evolve_ws *ws, const double *V, double coef)
+{
+    const double f = coef * ws->h / PF_HBAR, gc = ws->spec->g;
+    double complex *d = ws->w->data;
+    ptrdiff_t n = (ptrdiff_t)ws->g->total;
+#pragma omp parallel for num_threads(ws->g->ctx->threads) schedule(static)
+    for (ptrdiff_t i = 0; i < n; i++) {
+        double complex z = d[i];
+        double u = V ? V[i] : 0.0;
+        if (gc != 0) u += gc * (creal(z) * creal(z) + cimag(z) * cimag(z));
+        d[i] = z * cexp(-I * (u * f));
+    }
+}
+
+/* Static linear potential: which product of the stored exponentials is the
+ * factor for a boundary (0: e1, 1: e1^2, 2: e1 e2). */
+static void potential_pass_static(evolve_ws *ws, int which)
+{
+    double complex *d = ws->w->data;
+    const double complex *e1 = ws->e1, *e2 = ws->e2;
+    ptrdiff_t n = (ptrdiff_t)ws->g->total;
+    const int threads = ws->g->ctx->threads;
+    if (which == 0) {
+#pragma omp parallel for num_threads(threads) schedule(static)
+        for (ptrdiff_t i = 0; i < n; i++) d[i] *= e1[i];
+    } else if (which == 1) {
+#pragma omp parallel for num_threads(threads) schedule(static)
+        for (ptrdiff_t i = 0; i < n; i++) d[i] *= e1[i] * e1[i];
+    } else {
+#pragma omp parallel for num_threads(threads) schedule(static)
+        for (ptrdiff_t i = 0; i < n; i++) d[i] *= e1[i] * e2[i];
+    }
+}
+
+/* Applies the potential for fraction coef of the step at clock time t.
+ * kind: 0 an end half (c1/2), 1 a merged boundary (c1), 2 an inner boundary
+ * ((c1 + c0)/2) - the static arrays are indexed by it. */
+static pf_status potential_step(evolve_ws *ws, double coef, int kind, double t)
+{
+    const pf_evolve_spec *sp = ws->spec;
+    if (sp->varying) {
+        if (sp->varying(sp->user, t, ws->vbuf) != 0) return PF_ECALLBACK;
+        double lo, hi;
+        pf_status s = potential_range(ws->g, ws->vbuf, &lo, &hi);
+        if (s) return s;
+        potential_pass_direct(ws, ws->vbuf, coef);
+    } else if (sp->g != 0 || !sp->potential) {
+        if (!sp->potential && sp->g == 0) return PF_OK;
+        potential_pass_direct(ws, sp->potential, coef);
+    } else {
+        potential_pass_static(ws, kind);
+    }
+    return PF_OK;
+}
+
+static pf_status kinetic_step(evolve_ws *ws, int table)
+{
+    pf_status s = pf_grid_fft(ws->g, ws->w->data, -1);
+    if (s) return s;
+    pf_kernel_axis_multiply(ws->g, ws->w->data, (const double complex *const *)ws->kin[table],
+                            1.0 / (double)ws->g->total);
+    return pf_grid_fft(ws->g, ws->w->data, +1);
+}
+
+static pf_status prepare(evolve_ws *ws)
+{
+    pf_grid *g = ws->g;
+    const pf_evolve_spec *sp = ws->spec;
+    int ntab = ws->sc.stages == 1 ? 1 : 2;
+    for (int i = 0; i < ntab; i++) {
+        for (int a = 0; a < g->dim; a++) {
+            ws->kin[i][a] = malloc(g->n[a] * sizeof(double complex));
+            if (!ws->kin[i][a]) return pf_fail(g->ctx, PF_ENOMEM, "out of memory for kinetic tables");
+        }
+        double c = i == 0 ? ws->sc.c[0] : ws->sc.c[1];
+        pf_kernel_kinetic_tables(g, PF_HBAR * c * ws->h / ws->w->mass, NULL, ws->kin[i]);
+    }
+    if (sp->varying) {
+        ws->vbuf = pf_alloc(g->ctx, ws->bytes_r);
+        if (!ws->vbuf) return g->ctx->message[0] ? PF_ELIMIT : PF_ENOMEM;
+    } else if (sp->potential && sp->g == 0) {
+        ws->e1 = pf_alloc(g->ctx, ws->bytes_c);
+        if (!ws->e1) return g->ctx->message[0] ? PF_ELIMIT : PF_ENOMEM;
+        double f1 = 0.5 * ws->sc.c[0] * ws->h / PF_HBAR;
+        if (ws->sc.stages > 1) {
+            ws->e2 = pf_alloc(g->ctx, ws->bytes_c);
+            if (!ws->e2) return g->ctx->message[0] ? PF_ELIMIT : PF_ENOMEM;
+        }
+        double f2 = 0.5 * ws->sc.c[1] * ws->h / PF_HBAR;
+        const double *V = sp->potential;
+        double complex *e1 = ws->e1, *e2 = ws->e2;
+        ptrdiff_t n = (ptrdiff_t)g->total;
+        /* The one place a static potential costs trigonometry per point. */
+#pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
+        for (ptrdiff_t i = 0; i < n; i++) {
+            e1[i] = cexp(-I * (V[i] * f1));
+            if (e2) e2[i] = cexp(-I * (V[i] * f2));
+        }
+    }
+    return PF_OK;
+}
+
+pf_status pf_wave_evolve(pf_wave *w, double t, const pf_evolve_spec *spec, pf_evolve_info *info)
+{
+    pf_grid *g = w->grid;
+    pf_context *ctx = g->ctx;
+    if (!isfinite(t)) return pf_fail(ctx, PF_EINVAL, "time must be finite (s), got %g", t);
+    if (spec->order != 2 && spec->order != 4)
+        return pf_fail(ctx, PF_EINVAL, "order must be 2 (Strang) or 4 (Yoshida), got %d", spec->order);
+    if (!isfinite(spec->g)) return pf_fail(ctx, PF_EINVAL, "g must be finite (J m^%d), got %g", g->dim, spec->g);
+    if (isnan(spec->dt) || isinf(spec->dt))
+        return pf_fail(ctx, PF_EINVAL, "dt must be finite (s), got %g", spec->dt);
+    double norm = pf_wave_last_logged_norm(w);
+    pf_status s = pf_wave_to(w, PF_POSITION);
+    if (s) return s;
+
+    /* Potential range at the start, for the default step and the warning. */
+    evolve_ws ws;
+    memset(&ws, 0, sizeof ws);
+    ws.g = g;
+    ws.w = w;
+    ws.spec = spec;
+    ws.sc = make_scheme(spec->order);
+    ws.bytes_c = pf_bytes(g->total, sizeof(double complex));
+    ws.bytes_r = pf_bytes(g->total, sizeof(double));
+    double lo = 0, hi = 0;
+    double *probe = NULL;
+    if (spec->varying) {
+        probe = pf_alloc(ctx, ws.bytes_r);
+        if (!probe) return ctx->message[0] ? PF_ELIMIT : PF_ENOMEM;
+        if (spec->varying(spec->user, w->clock, probe) != 0) {
+            pf_free(ctx, probe, ws.bytes_r);
+            return PF_ECALLBACK;
+        }
+        s = potential_range(g, probe, &lo, &hi);
+        pf_free(ctx, probe, ws.bytes_r);
+        if (s) return s;
+    } else if (spec->potential) {
+        if ((s = potential_range(g, spec->potential, &lo, &hi))) return s;
+    }
+    double spread = (hi - lo) + fabs(spec->g) * max_density(w);
+    double dt = spec->dt > 0 ? spec->dt : (spread > 0 ? PF_EVOLVE_PHASE_DEFAULT * PF_HBAR / spread : fabs(t));
+    if (spec->dt < 0) return pf_fail(ctx, PF_EINVAL, "dt must be positive (s), got %g", spec->dt);
+    double nsteps = t == 0 ? 0 : ceil(fabs(t) / dt * (1.0 - 1e-12));
+    if (t != 0 && nsteps < 1) nsteps = 1;
+    if (!(nsteps <= MAX_STEPS))
+        return pf_fail(ctx, PF_EINVAL, "%g s in steps of %g s needs %.3g steps, more than %.0f; "
+                       "give a larger dt", t, dt, nsteps, MAX_STEPS);
+    size_t n = (size_t)nsteps;
+    ws.h = n ? t / (double)n : 0.0;
+    double phase = spread * fabs(ws.h) / PF_HBAR;
+    if (phase > PF_EVOLVE_PHASE_WARN)
+        pf_context_warn(ctx, "evolve: the potential phase per step is %.3g rad (range %.3g J x dt %.3g s / hbar), "
+                        "above %.3g rad; the splitting error may be large - use a smaller dt",
+                        phase, spread, fabs(ws.h), PF_EVOLVE_PHASE_WARN);
+    if (info) {
+        info->steps = n;
+        info->dt = ws.h;
+        info->phase_per_step = phase;
+    }
+    if (n == 0) {
+        pf_wave_log_step(w, "evolve", spec->order == 2 ? "strang" : "yoshida-4", 0.0, 0.0, norm);
+        return PF_OK;
+    }
+    if ((s = prepare(&ws))) {
+        ws_free(&ws);
+        return s;
+    }
+
+    /* P(c0/2) K(c0) P((c0+c1)/2) K(c1) ... K(c_last) P(merged or c_last/2). */
+    const scheme *sc = &ws.sc;
+    const double t0 = w->clock;
+    s = potential_step(&ws, 0.5 * sc->c[0], 0, t0);
+    for (size_t step = 0; step < n && !s; step++) {
+        double tau = 0;
+        for (int j = 0; j < sc->stages && !s; j++) {
+            s = kinetic_step(&ws, sc->stages == 1 || j != 1 ? 0 : 1);
+            if (s) break;
+            tau += sc->c[j];
+            double when = t0 + ws.h * ((double)step + tau);
+            if (j + 1 < sc->stages)
+                s = potential_step(&ws, 0.5 * (sc->c[j] + sc->c[j + 1]), 2, when);
+            else if (step + 1 < n)
+                s = potential_step(&ws, 0.5 * (sc->c[j] + sc->c[0]), 1, t0 + ws.h * (double)(step + 1));
+            else
+                s = potential_step(&ws, 0.5 * sc->c[j], 0, t0 + t);
+        }
+    }
+    ws_free(&ws);
+    if (s) return s;
+    w->clock = t0 + t;
+    const char *method = spec->order == 2 ? (spec->g != 0 ? "strang-gp" : "strang")
+                                          : (spec->g != 0 ? "yoshida-4-gp" : "yoshida-4");
+    pf_wave_log_step(w, "evolve", method, t, 0.0, norm);
+    return PF_OK;
+}

@@ -1,0 +1,275 @@
+/* pfl_ops.c - Lua methods for instantaneous operations on a wave function:
+ * phase pulses (kick, imprint, grating, lens), amplitude masks (slit, slits,
+ * mask_grating, aperture, mask), displacement (shift) and momentum masks
+ * (select_velocity, momentum_mask).  Masks return the wave and the
+ * probability they removed.  Units are SI throughout (m, s, rad, rad/m). */
+#include <math.h>
+#include <string.h>
+#include "../core/pf_ops.h"
+#include "pfl_protocol.h"
+
+static int dim_of(pf_wave *w) { return pf_grid_dim(pf_wave_grid(w)); }
+
+static int push_masked(lua_State *L, double removed)
+{
+    lua_settop(L, 1);
+    lua_pushnumber(L, removed);
+    return 2;
+}
+
+/* Optional table argument at arg: an empty table stands in when absent. */
+static void opt_table(lua_State *L, int arg)
+{
+    if (lua_isnoneornil(L, arg)) {
+        lua_settop(L, arg - 1);
+        lua_newtable(L);
+    }
+    luaL_checktype(L, arg, LUA_TTABLE);
+}
+
+/* w:kick(kx [, ky, kz]) - momentum kick hbar k (k in rad/m, per axis). */
+static int l_kick(lua_State *L)
+{
+    pf_wave *w = pfl_check_wave(L, 1);
+    double k[PF_MAX_DIM];
+    pfl_check_axis_values(L, 2, dim_of(w), k, "kick wave number (rad/m)");
+    pfl_check(L, pf_wave_kick(w, k), "kick");
+    lua_settop(L, 1);
+    return 1;
+}
+
+/* w:imprint(f) - psi *= exp(i f(x[, y, z])), f in rad. */
+static int l_imprint(lua_State *L)
+{
+    pf_wave *w = pfl_check_wave(L, 1);
+    luaL_checktype(L, 2, LUA_TFUNCTION);
+    pfl_sampler s = {L, 2, dim_of(w), PF_POSITION, "imprint", "phase", 0, 0, pf_wave_grid(w)};
+    pf_status st = pf_wave_imprint(w, pfl_sample_cb, &s);
+    if (st == PF_ECALLBACK) return pfl_raise_callback(L, "imprint");
+    pfl_check(L, st, "imprint");
+    lua_settop(L, 1);
+    return 1;
+}
+
+/* w:grating{depth = rad, period = m, axis = 1, phase = 0} - thin standing-wave
+ * phase grating exp(i depth cos(2 pi x / period + phase)). */
+static int l_grating(lua_State *L)
+{
+    static const char *const known[] = {"depth", "period", "axis", "phase", NULL};
+    pf_wave *w = pfl_check_wave(L, 1);
+    luaL_checktype(L, 2, LUA_TTABLE);
+    pfl_check_options(L, 2, "grating", known);
+    int axis = pfl_field_axis(L, 2, "axis", pf_wave_grid(w), 1, "grating");
+    double depth = pfl_field_number(L, 2, "depth", 0, 1);
+    double period = pfl_field_number(L, 2, "period", 0, 1);
+    double phase = pfl_field_number(L, 2, "phase", 0, 0);
+    pfl_check(L, pf_wave_grating(w, axis, depth, period, phase), "grating");
+    lua_settop(L, 1);
+    return 1;
+}
+
+/* w:lens(f [, {axis = a, center = c}]) - thin quadratic-phase lens of focal
+ * time f seconds (negative: diverging) on every axis or on one. */
+static int l_lens(lua_State *L)
+{
+    static const char *const known[] = {"axis", "center", NULL};
+    pf_wave *w = pfl_check_wave(L, 1);
+    double f = pfl_check_finite(L, 2, "focal time (s)");
+    if (f == 0) return luaL_argerror(L, 2, "focal time (s) must be non-zero (negative for a diverging lens), got 0");
+    opt_table(L, 3);
+    pfl_check_options(L, 3, "lens", known);
+    int d = dim_of(w);
+    int axis = lua_getfield(L, 3, "axis") == LUA_TNIL ? -1 : 0;
+    lua_pop(L, 1);
+    if (axis == 0) axis = pfl_field_axis(L, 3, "axis", pf_wave_grid(w), 1, "lens");
+    double center[PF_MAX_DIM] = {0, 0, 0};
+    pfl_field_vector(L, 3, "center", d, center, 0);
+    pfl_check(L, pf_wave_lens(w, axis, f, center), "lens");
+    lua_settop(L, 1);
+    return 1;
+}
+
+/* w:slits{count = 1, width = m, pitch = m, center = 0, axis = 1} -> w, removed */
+static int slits(lua_State *L, const char *name, int single)
+{
+    static const char *const known_many[] = {"count", "width", "pitch", "center", "axis", NULL};
+    static const char *const known_one[] = {"width", "center", "axis", NULL};
+    pf_wave *w = pfl_check_wave(L, 1);
+    luaL_checktype(L, 2, LUA_TTABLE);
+    pfl_check_options(L, 2, name, single ? known_one : known_many);
+    int axis = pfl_field_axis(L, 2, "axis", pf_wave_grid(w), 1, name);
+    lua_Integer count = single ? 1 : pfl_field_integer(L, 2, "count", 1, 1, name);
+    if (count > 1000000) return luaL_error(L, "%s: field 'count' must be at most 1000000, got %d", name, (int)count);
+    double width = pfl_field_number(L, 2, "width", 0, 1);
+    double pitch = pfl_field_number(L, 2, "pitch", 0, count > 1);
+    double center = pfl_field_number(L, 2, "center", 0, 0);
+    double removed = 0;
+    pfl_check(L, pf_wave_slits(w, axis, (int)count, width, pitch, center, &removed), name);
+    return push_masked(L, removed);
+}
+
+static int l_slit(lua_State *L) { return slits(L, "slit", 1); }
+static int l_slits(lua_State *L) { return slits(L, "slits", 0); }
+
+/* w:mask_grating{period = m, open_fraction = 0.5, offset = 0, axis = 1} -> w, removed */
+static int l_mask_grating(lua_State *L)
+{
+    static const char *const known[] = {"period", "open_fraction", "offset", "axis", NULL};
+    pf_wave *w = pfl_check_wave(L, 1);
+    luaL_checktype(L, 2, LUA_TTABLE);
+    pfl_check_options(L, 2, "mask_grating", known);
+    int axis = pfl_field_axis(L, 2, "axis", pf_wave_grid(w), 1, "mask_grating");
+    double period = pfl_field_number(L, 2, "period", 0, 1);
+    double open = pfl_field_number(L, 2, "open_fraction", 0.5, 0);
+    double offset = pfl_field_number(L, 2, "offset", 0, 0);
+    double removed = 0;
+    pfl_check(L, pf_wave_mask_grating(w, axis, period, open, offset, &removed), "mask_grating");
+    return push_masked(L, removed);
+}
+
+/* Rectangle sizes: a number for every axis, or a table whose entries are
+ * numbers or false (false or math.huge: unbounded along that axis). */
+static void read_sizes(lua_State *L, int t, int d, double *size)
+{
+    char buf[80];
+    int type = lua_getfield(L, t, "size");
+    if (type == LUA_TNUMBER) {
+        for (int a = 0; a < d; a++) size[a] = lua_tonumber(L, -1);
+    } else if (type == LUA_TTABLE) {
+        if (luaL_len(L, -1) != d)
+            luaL_error(L, "aperture: field 'size' must have %d entries (one per axis), got %d", d, (int)luaL_len(L, -1));
+        for (int a = 0; a < d; a++) {
+            int et = lua_geti(L, -1, a + 1);
+            if (et == LUA_TBOOLEAN && !lua_toboolean(L, -1)) size[a] = INFINITY;
+            else if (et == LUA_TNUMBER) size[a] = lua_tonumber(L, -1);
+            else
+                luaL_error(L, "aperture: field 'size' entry %d must be a number (m) or false, got %s", a + 1,
+                           pfl_describe(L, -1, buf, sizeof buf));
+            lua_pop(L, 1);
+        }
+    } else {
+        luaL_error(L, "aperture: a rectangle needs field 'size' (full widths, m; a number or one per axis), got %s",
+                   pfl_describe(L, -1, buf, sizeof buf));
+    }
+    lua_pop(L, 1);
+}
+
+/* w:aperture{shape = "circle", radius = m, center = {c1, c2}, axes = {1, 2}}
+ * w:aperture{shape = "rectangle", size = {..}, center = {..}} -> w, removed */
+static int l_aperture(lua_State *L)
+{
+    static const char *const known[] = {"shape", "radius", "size", "center", "axes", NULL};
+    pf_wave *w = pfl_check_wave(L, 1);
+    luaL_checktype(L, 2, LUA_TTABLE);
+    pfl_check_options(L, 2, "aperture", known);
+    int d = dim_of(w);
+    lua_getfield(L, 2, "shape");
+    const char *shape = lua_tostring(L, -1);
+    double removed = 0;
+    if (lua_type(L, -1) == LUA_TSTRING && strcmp(shape, "circle") == 0) {
+        int axes[2] = {0, 1};
+        if (lua_getfield(L, 2, "axes") != LUA_TNIL) {
+            if (lua_type(L, -1) != LUA_TTABLE || luaL_len(L, -1) != 2)
+                return luaL_error(L, "aperture: field 'axes' must be a table of two axis numbers");
+            for (int i = 0; i < 2; i++) {
+                lua_geti(L, -1, i + 1);
+                int ok;
+                lua_Integer a = lua_tointegerx(L, -1, &ok);
+                if (!ok || a < 1 || a > d)
+                    return luaL_error(L, "aperture: field 'axes' entry %d must be an axis 1..%d", i + 1, d);
+                axes[i] = (int)a - 1;
+                lua_pop(L, 1);
+            }
+        }
+        lua_pop(L, 1);
+        double radius = pfl_field_number(L, 2, "radius", 0, 1);
+        double center[2] = {0, 0};
+        pfl_field_vector(L, 2, "center", 2, center, 0);
+        pfl_check(L, pf_wave_aperture_circle(w, axes[0], axes[1], center, radius, &removed), "aperture");
+    } else if (lua_type(L, -1) == LUA_TSTRING && strcmp(shape, "rectangle") == 0) {
+        double size[PF_MAX_DIM], center[PF_MAX_DIM] = {0, 0, 0};
+        read_sizes(L, 2, d, size);
+        pfl_field_vector(L, 2, "center", d, center, 0);
+        pfl_check(L, pf_wave_aperture_rect(w, center, size, &removed), "aperture");
+    } else {
+        char buf[80];
+        return luaL_error(L, "aperture: field 'shape' must be \"circle\" or \"rectangle\", got %s",
+                          pfl_describe(L, -1, buf, sizeof buf));
+    }
+    return push_masked(L, removed);
+}
+
+static int user_mask(lua_State *L, pf_rep rep, const char *name)
+{
+    pf_wave *w = pfl_check_wave(L, 1);
+    luaL_checktype(L, 2, LUA_TFUNCTION);
+    pfl_sampler s = {L, 2, dim_of(w), rep, name, "transmission", 0, 0, pf_wave_grid(w)};
+    double removed = 0;
+    pf_status st = pf_wave_mask(w, rep, pfl_sample_cb, &s, &removed);
+    if (st == PF_ECALLBACK) return pfl_raise_callback(L, name);
+    pfl_check(L, st, name);
+    return push_masked(L, removed);
+}
+
+/* w:mask(t) - transmission amplitude t(x[, y, z]) (|t| <= 1) -> w, removed */
+static int l_mask(lua_State *L) { return user_mask(L, PF_POSITION, "mask"); }
+/* w:momentum_mask(t) - transmission t(kx[, ky, kz]), k in rad/m -> w, removed */
+static int l_momentum_mask(lua_State *L) { return user_mask(L, PF_MOMENTUM, "momentum_mask"); }
+
+/* w:shift(dx [, dy, dz]) - exact displacement (m). */
+static int l_shift(lua_State *L)
+{
+    pf_wave *w = pfl_check_wave(L, 1);
+    double d[PF_MAX_DIM];
+    pfl_check_axis_values(L, 2, dim_of(w), d, "shift distance (m)");
+    pfl_check(L, pf_wave_shift(w, d), "shift");
+    lua_settop(L, 1);
+    return 1;
+}
+
+/* w:select_velocity{width = m/s, center = 0, axis = 1, shape = "box"|"gaussian"} -> w, removed */
+static int l_select_velocity(lua_State *L)
+{
+    static const char *const known[] = {"width", "center", "axis", "shape", NULL};
+    pf_wave *w = pfl_check_wave(L, 1);
+    luaL_checktype(L, 2, LUA_TTABLE);
+    pfl_check_options(L, 2, "select_velocity", known);
+    int axis = pfl_field_axis(L, 2, "axis", pf_wave_grid(w), 1, "select_velocity");
+    double width = pfl_field_number(L, 2, "width", 0, 1);
+    double center = pfl_field_number(L, 2, "center", 0, 0);
+    int gaussian = 0;
+    if (lua_getfield(L, 2, "shape") != LUA_TNIL) {
+        const char *sh = lua_tostring(L, -1);
+        if (lua_type(L, -1) == LUA_TSTRING && strcmp(sh, "gaussian") == 0) gaussian = 1;
+        else if (!(lua_type(L, -1) == LUA_TSTRING && strcmp(sh, "box") == 0)) {
+            char buf[80];
+            return luaL_error(L, "select_velocity: field 'shape' must be \"box\" or \"gaussian\", got %s",
+                              pfl_describe(L, -1, buf, sizeof buf));
+        }
+    }
+    lua_pop(L, 1);
+    double removed = 0;
+    pfl_check(L, pf_wave_select_velocity(w, axis, center, width, gaussian, &removed), "select_velocity");
+    return push_masked(L, removed);
+}
+
+void pfl_open_ops(lua_State *L, int mod)
+{
+    (void)mod;
+    static const luaL_Reg methods[] = {
+        {"kick", l_kick},
+        {"imprint", l_imprint},
+        {"grating", l_grating},
+        {"lens", l_lens},
+        {"slit", l_slit},
+        {"slits", l_slits},
+        {"mask_grating", l_mask_grating},
+        {"aperture", l_aperture},
+        {"mask", l_mask},
+        {"momentum_mask", l_momentum_mask},
+        {"shift", l_shift},
+        {"select_velocity", l_select_velocity},
+        {NULL, NULL},
+    };
+    pfl_add_wave_methods(L, methods);
+}

@@ -1,0 +1,58 @@
+/* pfl_protocol.h - helpers shared by the protocol-step bindings (pfl_ops.c,
+ * pfl_evolve.c, pfl_sample.c): sampling Lua functions over a grid, reading
+ * potentials, and checking option tables. */
+#ifndef PFL_PROTOCOL_H
+#define PFL_PROTOCOL_H
+
+#include "pfl.h"
+
+/* State of one Lua function sampled over a grid.  After a core call returns
+ * PF_ECALLBACK, the error message is on top of the Lua stack; pass it to
+ * pfl_raise_callback.  with_time appends the time t as the last argument. */
+typedef struct pfl_sampler {
+    lua_State *L;
+    int fn;              /* absolute stack index of the function */
+    int dim;
+    pf_rep rep;          /* coordinates are x (position) or k (momentum) */
+    const char *name;    /* method name for messages */
+    const char *what;    /* what the function gives: "phase", "transmission", "potential" */
+    int with_time;
+    double t;
+    pf_grid *grid;       /* grid of the potential samples (pfl_potential_cb) */
+} pfl_sampler;
+
+/* pf_sample_fn over a pfl_sampler: calls fn(coord..., [t]) under pcall and
+ * reads a number, (re, im) or a complex; a non-finite result is an error that
+ * names the method, the argument and the coordinate. */
+int pfl_sample_cb(void *user, const double *coord, double complex *value);
+
+/* Raises the callback error on top of the stack, prefixed by the script
+ * position when it is one of ours (the user's own errors carry theirs). */
+int pfl_raise_callback(lua_State *L, const char *name);
+
+/* Reads the potential given at stack index idx - a function of the
+ * coordinates (and of t, last, when with_time) or a flat table of
+ * pf_grid_total numbers in row-major order - into a new full-grid array
+ * owned by a userdata pushed on the stack (so errors never leak it).
+ * Functions are sampled at time t.  Returns the array. */
+double *pfl_read_potential(lua_State *L, int idx, pf_grid *g, const char *name, int with_time, double t);
+
+/* Fills V from the sampler at time t (core pf_potential_fn). */
+int pfl_potential_cb(void *user, double t, double *V);
+
+/* Raises an error when the table at idx has a key not in the NULL-ended
+ * list (catches misspelt options). */
+void pfl_check_options(lua_State *L, int idx, const char *name, const char *const *allowed);
+
+/* Optional 1-based axis field (default def, 1-based) -> 0-based axis. */
+int pfl_field_axis(lua_State *L, int t, const char *field, const pf_grid *g, int def, const char *name);
+
+/* Optional integer field >= min. */
+lua_Integer pfl_field_integer(lua_State *L, int t, const char *field, lua_Integer def, lua_Integer min,
+                              const char *name);
+
+/* Per-axis values from the arguments arg.. (one number per axis, or one table
+ * of them at arg); what names them in errors. */
+void pfl_check_axis_values(lua_State *L, int arg, int dim, double *out, const char *what);
+
+#endif

@@ -1,0 +1,206 @@
+/* pfl_sample.c - sampling user Lua functions over a grid for the protocol
+ * steps (phases, transmissions, potentials) and checking option tables.
+ *
+ * Functions are called once per grid point under lua_pcall, so an error in a
+ * user function unwinds no C frame that holds engine memory; the core call
+ * returns PF_ECALLBACK and the binding re-raises the message afterwards. */
+#include <math.h>
+#include <stdio.h>
+#include <string.h>
+#include "pfl_protocol.h"
+
+static void where_text(const pfl_sampler *s, const double *coord, char *buf, size_t size)
+{
+    const char *v = s->rep == PF_POSITION ? "x" : "k";
+    int n = 0;
+    if (s->dim == 1) n = snprintf(buf, size, "%s = %g", v, coord[0]);
+    else if (s->dim == 2) n = snprintf(buf, size, "%s = (%g, %g)", v, coord[0], coord[1]);
+    else n = snprintf(buf, size, "%s = (%g, %g, %g)", v, coord[0], coord[1], coord[2]);
+    if (s->with_time && n > 0 && (size_t)n < size) snprintf(buf + n, size - (size_t)n, ", t = %g", s->t);
+}
+
+int pfl_sample_cb(void *user, const double *coord, double complex *value)
+{
+    pfl_sampler *s = user;
+    lua_State *L = s->L;
+    int base = lua_gettop(L);
+    lua_pushvalue(L, s->fn);
+    for (int a = 0; a < s->dim; a++) lua_pushnumber(L, coord[a]);
+    if (s->with_time) lua_pushnumber(L, s->t);
+    if (lua_pcall(L, s->dim + (s->with_time ? 1 : 0), LUA_MULTRET, 0) != LUA_OK) return 1;
+    int nret = lua_gettop(L) - base;
+    double complex z;
+    char where[160];
+    if (!pfl_result_complex(L, base + 1, nret, &z)) {
+        char buf[80];
+        where_text(s, coord, where, sizeof where);
+        const char *got = nret ? pfl_describe(L, base + 1, buf, sizeof buf) : "nothing";
+        lua_settop(L, base);
+        lua_pushfstring(L, "%s: the %s function must return a number, two numbers (re, im) or a complex; at %s it returned %s",
+                        s->name, s->what, where, got);
+        return 1;
+    }
+    lua_settop(L, base);
+    if (!isfinite(creal(z)) || !isfinite(cimag(z))) {
+        where_text(s, coord, where, sizeof where);
+        lua_pushfstring(L, "%s: the %s function returned a non-finite value (%s) at %s", s->name, s->what,
+                        isnan(creal(z)) || isnan(cimag(z)) ? "NaN" : "inf", where);
+        return 1;
+    }
+    *value = z;
+    return 0;
+}
+
+int pfl_raise_callback(lua_State *L, const char *name)
+{
+    if (lua_type(L, -1) == LUA_TSTRING && strncmp(lua_tostring(L, -1), name, strlen(name)) == 0) {
+        luaL_where(L, 1);
+        lua_insert(L, -2);
+        lua_concat(L, 2);
+    }
+    return lua_error(L);
+}
+
+/* Samples a real function over the position grid into V. */
+static int sample_real(pfl_sampler *s, pf_grid *g, double *V)
+{
+    size_t n = pf_grid_total(g), idx[PF_MAX_DIM] = {0, 0, 0};
+    int d = pf_grid_dim(g);
+    double coord[PF_MAX_DIM] = {0, 0, 0};
+    for (size_t off = 0; off < n; off++) {
+        size_t rest = off;
+        for (int a = d - 1; a >= 0; a--) {
+            idx[a] = rest % pf_grid_points(g, a);
+            rest /= pf_grid_points(g, a);
+            coord[a] = pf_grid_x(g, a, idx[a]);
+        }
+        double complex z;
+        if (pfl_sample_cb(s, coord, &z)) return 1;
+        if (cimag(z) != 0) {
+            char where[160];
+            where_text(s, coord, where, sizeof where);
+            lua_pushfstring(s->L, "%s: the %s function must return a real number; at %s it returned an imaginary part %f",
+                            s->name, s->what, where, cimag(z));
+            return 1;
+        }
+        V[off] = creal(z);
+    }
+    return 0;
+}
+
+int pfl_potential_cb(void *user, double t, double *V)
+{
+    pfl_sampler *s = user;
+    s->t = t;
+    return sample_real(s, s->grid, V);
+}
+
+double *pfl_read_potential(lua_State *L, int idx, pf_grid *g, const char *name, int with_time, double t)
+{
+    idx = lua_absindex(L, idx);
+    size_t n = pf_grid_total(g);
+    double *V = lua_newuserdatauv(L, n * sizeof(double), 0);
+    if (lua_type(L, idx) == LUA_TFUNCTION) {
+        pfl_sampler s = {L, idx, pf_grid_dim(g), PF_POSITION, name, "potential", with_time, t, g};
+        if (sample_real(&s, g, V)) pfl_raise_callback(L, name);
+        return V;
+    }
+    if (lua_type(L, idx) != LUA_TTABLE) {
+        char buf[80];
+        luaL_error(L, "%s: field 'potential' must be a function of the coordinates or a table of %d numbers (J), got %s",
+                   name, (int)n, pfl_describe(L, idx, buf, sizeof buf));
+    }
+    if (with_time) luaL_error(L, "%s: a time-dependent potential must be a function of the coordinates and t", name);
+    lua_Integer len = luaL_len(L, idx);
+    if ((size_t)len != n)
+        luaL_error(L, "%s: the potential table must hold one value per grid point (%d), got %d", name, (int)n, (int)len);
+    for (size_t i = 0; i < n; i++) {
+        int type = lua_geti(L, idx, (lua_Integer)i + 1);
+        double v = lua_tonumber(L, -1);
+        if (type != LUA_TNUMBER || !isfinite(v)) {
+            char buf[80];
+            luaL_error(L, "%s: potential entry %d must be a finite number (J), got %s", name, (int)i + 1,
+                       pfl_describe(L, -1, buf, sizeof buf));
+        }
+        V[i] = v;
+        lua_pop(L, 1);
+    }
+    return V;
+}
+
+void pfl_check_options(lua_State *L, int idx, const char *name, const char *const *allowed)
+{
+    idx = lua_absindex(L, idx);
+    lua_pushnil(L);
+    while (lua_next(L, idx)) {
+        lua_pop(L, 1);
+        int ok = 0;
+        if (lua_type(L, -1) == LUA_TSTRING) {
+            const char *k = lua_tostring(L, -1);
+            for (const char *const *a = allowed; *a; a++)
+                if (strcmp(k, *a) == 0) ok = 1;
+        }
+        if (!ok) {
+            char buf[80], list[400] = "";
+            for (const char *const *a = allowed; *a; a++) {
+                strncat(list, a == allowed ? "" : ", ", sizeof list - strlen(list) - 1);
+                strncat(list, *a, sizeof list - strlen(list) - 1);
+            }
+            luaL_error(L, "%s: unknown option %s (known: %s)", name, pfl_describe(L, -1, buf, sizeof buf), list);
+        }
+    }
+}
+
+int pfl_field_axis(lua_State *L, int t, const char *field, const pf_grid *g, int def, const char *name)
+{
+    lua_Integer a = pfl_field_integer(L, t, field, def, 1, name);
+    if (a > pf_grid_dim(g))
+        luaL_error(L, "%s: field '%s' must be an axis 1..%d, got %d", name, field, pf_grid_dim(g), (int)a);
+    return (int)a - 1;
+}
+
+lua_Integer pfl_field_integer(lua_State *L, int t, const char *field, lua_Integer def, lua_Integer min,
+                              const char *name)
+{
+    int type = lua_getfield(L, t, field);
+    if (type == LUA_TNIL) {
+        lua_pop(L, 1);
+        return def;
+    }
+    int ok;
+    lua_Integer v = lua_tointegerx(L, -1, &ok);
+    if (!ok || v < min) {
+        char buf[80];
+        luaL_error(L, "%s: field '%s' must be an integer of at least %d, got %s", name, field, (int)min,
+                   pfl_describe(L, -1, buf, sizeof buf));
+    }
+    lua_pop(L, 1);
+    return v;
+}
+
+void pfl_check_axis_values(lua_State *L, int arg, int dim, double *out, const char *what)
+{
+    if (lua_type(L, arg) == LUA_TTABLE) {
+        lua_Integer len = luaL_len(L, arg);
+        if (len != dim)
+            luaL_argerror(L, arg, lua_pushfstring(L, "%s: need %d values (one per axis), got %d", what, dim, (int)len));
+        for (int a = 0; a < dim; a++) {
+            lua_geti(L, arg, a + 1);
+            double v = lua_tonumber(L, -1);
+            if (lua_type(L, -1) != LUA_TNUMBER || !isfinite(v)) {
+                char buf[80];
+                luaL_argerror(L, arg, lua_pushfstring(L, "%s: entry %d must be a finite number, got %s", what, a + 1,
+                                                      pfl_describe(L, -1, buf, sizeof buf)));
+            }
+            out[a] = v;
+            lua_pop(L, 1);
+        }
+        return;
+    }
+    for (int a = 0; a < dim; a++) {
+        if (a > 0 && lua_isnoneornil(L, arg + a)) {
+            luaL_argerror(L, arg + a, lua_pushfstring(L, "%s: need %d values (one per axis)", what, dim));
+        }
+        out[a] = pfl_check_finite(L, arg + a, what);
+    }
+}
