@@ -102,5 +102,7 @@ void pfl_open_grid(lua_State *L, int mod);
 void pfl_open_wave(lua_State *L, int mod);
 void pfl_open_flight(lua_State *L, int mod);
 void pfl_open_observe(lua_State *L, int mod);
+void pfl_open_ops(lua_State *L, int mod);     /* issue 4: pulses, masks, shifts */
+void pfl_open_evolve(lua_State *L, int mod);  /* issue 4: fall, evolve, relax */
 
 #endif
