@@ -1,0 +1,155 @@
+/* test_protocol_relax.c - imaginary-time ground states against the harmonic
+ * oscillator and the 1D Thomas-Fermi chemical potential. */
+#include "protocol_util.h"
+#include "pf_relax.h"
+
+#define OMEGA (2 * PF_PI * 80.0) /* invented test trap: 80 Hz */
+
+static double *harmonic(pf_grid *g, const double *omega)
+{
+    size_t n = pf_grid_total(g);
+    int d = pf_grid_dim(g);
+    double *V = malloc(n * sizeof *V);
+    for (size_t off = 0; off < n; off++) {
+        size_t rest = off;
+        double v = 0;
+        for (int a = d - 1; a >= 0; a--) {
+            size_t j = rest % pf_grid_points(g, a);
+            rest /= pf_grid_points(g, a);
+            double x = pf_grid_x(g, a, j);
+            v += 0.5 * RB87_MASS * omega[a] * omega[a] * x * x;
+        }
+        V[off] = v;
+    }
+    return V;
+}
+
+/* Ground-state energy of the harmonic oscillator: hbar omega / 2 per axis
+ * (textbook).  1D and anisotropic 2D; the start is a displaced, too-wide
+ * Gaussian so the flow has work to do. */
+static void test_harmonic_ground_energy(void **state)
+{
+    (void)state;
+    pf_context *ctx = tu_context();
+    double aho = sqrt(PF_HBAR / (RB87_MASS * OMEGA));
+    size_t n = 256;
+    double span = 24 * aho, omega1[1] = {OMEGA};
+    pf_grid *g = tu_grid(ctx, 1, &n, &span, NULL);
+    double *V = harmonic(g, omega1);
+    tu_gauss p = {.x0 = {0.7 * aho}, .sigma = {1.5 * aho}};
+    pf_wave *w = tu_gauss_wave(g, RB87_MASS, &p);
+    pf_relax_spec spec = {.potential = V, .dt = 0.002 / OMEGA, .tolerance = 1e-13, .max_steps = 200000,
+                          .check_every = 20};
+    pf_relax_info info;
+    assert_int_equal(pf_wave_relax(w, &spec, &info), PF_OK);
+    assert_true(info.converged);
+    printf("note 1D relax: %zu steps\n", info.steps);
+    /* Strang's fixed point is off by O(dtau^2): (0.002)^2 ~ 4e-6 relative at most. */
+    TU_NEAR(info.energy / (PF_HBAR * OMEGA), 0.5, 1e-6, "1D ground energy = hbar omega / 2");
+    TU_NEAR(info.chemical_potential, info.energy, 1e-30, "mu = E without mean field");
+    double var;
+    assert_int_equal(pf_wave_position_moments(w, NULL, &var), PF_OK);
+    TU_NEAR(sqrt(var) / aho, sqrt(0.5), 1e-6, "1D ground width = sqrt(hbar / 2 m omega)");
+    pf_wave_free(w);
+    free(V);
+    pf_grid_release(g);
+
+    size_t n2[2] = {64, 96};
+    double omega2[2] = {OMEGA, 2.5 * OMEGA};
+    double span2[2] = {16 * aho, 12 * aho};
+    g = tu_grid(ctx, 2, n2, span2, NULL);
+    V = harmonic(g, omega2);
+    tu_gauss p2 = {.x0 = {0.3 * aho, -0.2 * aho}, .sigma = {1.2 * aho, 0.9 * aho}};
+    w = tu_gauss_wave(g, RB87_MASS, &p2);
+    spec.potential = V;
+    spec.dt = 0.004 / OMEGA;
+    spec.tolerance = 1e-12;
+    assert_int_equal(pf_wave_relax(w, &spec, &info), PF_OK);
+    assert_true(info.converged);
+    TU_NEAR(info.energy / (PF_HBAR * OMEGA), 0.5 * (1 + 2.5), 1e-5, "2D ground energy = hbar (wx + wy) / 2");
+    pf_wave_free(w);
+    free(V);
+    pf_grid_release(g);
+    pf_context_release(ctx);
+}
+
+/* Thomas-Fermi limit in 1D: for large g N the chemical potential approaches
+ * mu_TF = (3 g N m^(1/2) omega / (4 sqrt 2))^(2/3) (standard result of
+ * neglecting the kinetic energy in the GP equation).  The kinetic energy
+ * raises mu slightly above mu_TF; the relative gap must shrink with g N and
+ * be below 0.3% at mu_TF = 40 hbar omega. */
+static void test_thomas_fermi(void **state)
+{
+    (void)state;
+    pf_context *ctx = tu_context();
+    double aho = sqrt(PF_HBAR / (RB87_MASS * OMEGA));
+    size_t n = 1024;
+    double span = 28 * aho, omega1[1] = {OMEGA};
+    pf_grid *g = tu_grid(ctx, 1, &n, &span, NULL);
+    double *V = harmonic(g, omega1);
+    double gap[2];
+    const double targets[2] = {10.0, 40.0};
+    for (int i = 0; i < 2; i++) {
+        double mu_tf = targets[i] * PF_HBAR * OMEGA;
+        /* invert mu_TF for g N */
+        double gN = pow(mu_tf, 1.5) * 4.0 * sqrt(2.0) / (3.0 * sqrt(RB87_MASS) * OMEGA);
+        double check = pow(3.0 * gN * sqrt(RB87_MASS) * OMEGA / (4.0 * sqrt(2.0)), 2.0 / 3.0);
+        TU_NEAR(check / mu_tf, 1.0, 1e-12, "mu_TF formula inverted consistently");
+        tu_gauss p = {.sigma = {3 * aho}};
+        pf_wave *w = tu_gauss_wave(g, RB87_MASS, &p);
+        /* Strang's fixed point is off by O((mu dtau / hbar)^2): keep mu dtau / hbar = 0.01. */
+        pf_relax_spec spec = {.potential = V, .dt = 0.01 / (targets[i] * OMEGA), .g = gN, .tolerance = 1e-11,
+                              .max_steps = 200000, .check_every = 20};
+        pf_relax_info info;
+        assert_int_equal(pf_wave_relax(w, &spec, &info), PF_OK);
+        assert_true(info.converged);
+        gap[i] = info.chemical_potential / mu_tf - 1.0;
+        printf("note TF: mu_TF = %.0f hbar omega, GP mu / mu_TF - 1 = %.3e (%zu steps)\n", targets[i], gap[i],
+               info.steps);
+        pf_wave_free(w);
+    }
+    assert_true(gap[0] > 0 && gap[1] > 0);
+    assert_true(gap[1] < gap[0]);
+    TU_NEAR(gap[1], 0.0, 3e-3, "GP mu -> Thomas-Fermi mu at 40 hbar omega (0.3%)");
+    free(V);
+    pf_grid_release(g);
+    pf_context_release(ctx);
+}
+
+static void test_relax_limits(void **state)
+{
+    (void)state;
+    pf_context *ctx = tu_context();
+    int warnings = 0;
+    pf_context_set_warn_handler(ctx, tu_quiet, &warnings);
+    double aho = sqrt(PF_HBAR / (RB87_MASS * OMEGA));
+    size_t n = 64;
+    double span = 16 * aho, omega1[1] = {OMEGA};
+    pf_grid *g = tu_grid(ctx, 1, &n, &span, NULL);
+    double *V = harmonic(g, omega1);
+    tu_gauss p = {.sigma = {2 * aho}};
+    pf_wave *w = tu_gauss_wave(g, RB87_MASS, &p);
+    pf_relax_spec spec = {.potential = V, .dt = 0.01 / OMEGA, .tolerance = 1e-14, .max_steps = 5, .check_every = 2};
+    pf_relax_info info;
+    assert_int_equal(pf_wave_relax(w, &spec, &info), PF_OK);
+    assert_false(info.converged);
+    assert_int_equal((int)info.steps, 5);
+    assert_int_equal(warnings, 1); /* "not converged" */
+    spec.tolerance = 0;
+    assert_int_equal(pf_wave_relax(w, &spec, &info), PF_EINVAL);
+    assert_non_null(strstr(pf_context_message(ctx), "tolerance"));
+    pf_wave_free(w);
+    free(V);
+    pf_grid_release(g);
+    pf_context_release(ctx);
+}
+
+int main(void)
+{
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test(test_harmonic_ground_energy),
+        cmocka_unit_test(test_thomas_fermi),
+        cmocka_unit_test(test_relax_limits),
+    };
+    return cmocka_run_group_tests(tests, NULL, NULL);
+}
