@@ -56,7 +56,12 @@ grep -q 'largest relative deviation' "$tmp/demo1.txt" && ok "demo prints its com
 
 # The same engine as a Lua C module in a plain interpreter.
 if command -v lua5.4 >/dev/null; then
-  out=$(cd "$tmp" && LUA_CPATH="$build/?.so" lua5.4 -e '
+  # A sanitizer build of the module needs the sanitizer runtime loaded first.
+  preload=""
+  if ldd "$build/psiflight.so" 2>/dev/null | grep -q libasan; then
+    preload=$(${CC:-cc} -print-file-name=libasan.so)
+  fi
+  out=$(cd "$tmp" && LD_PRELOAD="$preload" ASAN_OPTIONS=detect_leaks=0 LUA_CPATH="$build/?.so" lua5.4 -e '
     local pf = require "psiflight"
     local g = pf.grid{points = 128, span = 1e-4}
     local w = pf.wave(g, {mass = 1e-25, position = function(x) return math.exp(-(x / 5e-6) ^ 2) end})

@@ -142,6 +142,7 @@ static void copies_are_independent(void **state)
     pft_ok(pf_wave_scale(c, 2.0));
     pft_near(pf_wave_norm(w), 1.0, 1e-12, 0);
     pft_near(pf_wave_norm(c), 4.0, 1e-12, 0);
+    pf_wave_free(c);
     assert_int_equal(pf_wave_new(g, -1.0, &c), PF_EINVAL);
     assert_int_equal(pf_wave_new(g, NAN, &c), PF_EINVAL);
     pf_wave_free(w);
