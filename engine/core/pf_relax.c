@@ -116,18 +116,11 @@ pf_status pf_wave_relax(pf_wave *w, const pf_relax_spec *spec, pf_relax_info *in
         return pf_fail(ctx, PF_EINVAL, "tolerance must be finite and positive, got %g", spec->tolerance);
     if (spec->max_steps < 1) return pf_fail(ctx, PF_EINVAL, "max_steps must be at least 1");
     if (spec->check_every < 1) return pf_fail(ctx, PF_EINVAL, "check_every must be at least 1");
-    double vmin = INFINITY, vmax = -INFINITY;
+    double vmin = INFINITY;
     for (size_t i = 0; i < g->total; i++) {
         if (!isfinite(V[i]))
             return pf_fail(ctx, PF_EINVAL, "the potential at point %zu is %g, not finite", i + 1, V[i]);
         if (V[i] < vmin) vmin = V[i];
-        if (V[i] > vmax) vmax = V[i];
-    }
-    double dt = spec->dt;
-    if (dt <= 0) {
-        if (!(vmax > vmin))
-            return pf_fail(ctx, PF_EINVAL, "the potential is flat, so give dt (imaginary-time step, s)");
-        dt = PF_HBAR * 0.5 / (vmax - vmin);
     }
     pf_status s = pf_wave_to(w, PF_POSITION);
     if (s) return s;
@@ -138,6 +131,22 @@ pf_status pf_wave_relax(pf_wave *w, const pf_relax_spec *spec, pf_relax_info *in
     double *factor = NULL;
     double complex *kin[PF_MAX_DIM] = {NULL, NULL, NULL};
     if (!scratch) return ctx->message[0] ? PF_ELIMIT : PF_ENOMEM;
+    double dt = spec->dt;
+    if (dt <= 0) {
+        /* Default: a twentieth of the time hbar / E of the starting state
+         * (energy above the potential's minimum).  The flow is stable for
+         * any dtau; the scale set by the state, not by the potential's values
+         * at the grid edges where the state is negligible, fixes both the
+         * convergence speed and the O(dtau^2) offset of the fixed point. */
+        double e0 = 0, mu0 = 0;
+        if ((s = energy_of(w, w->data, V, spec->g, scratch, &e0, &mu0))) goto done;
+        if (!(e0 - vmin > 0)) {
+            s = pf_fail(ctx, PF_EINVAL, "cannot choose a default dt: the starting energy %g J is not above the "
+                        "potential minimum %g J; give dt (imaginary-time step, s)", e0, vmin);
+            goto done;
+        }
+        dt = PF_RELAX_DEFAULT_FRACTION * PF_HBAR / (e0 - vmin);
+    }
     const double f = dt / (2.0 * PF_HBAR);
     if (spec->g == 0) {
         factor = pf_alloc(ctx, bytes_r);

@@ -18,12 +18,15 @@
 
 typedef struct pf_relax_spec {
     const double *potential;   /* V(x) in J, natural order (required) */
-    double dt;                 /* imaginary-time step (s); <= 0: default 0.5 hbar / range(V) */
+    double dt;                 /* imaginary-time step (s); <= 0: PF_RELAX_DEFAULT_FRACTION hbar / (E_start - min V) */
     double g;                  /* mean-field coefficient (J m^d) for psi normalised to 1 */
     double tolerance;          /* converged when |E_now - E_prev| <= tolerance |E_now| */
     size_t max_steps;          /* step limit (>= 1) */
     size_t check_every;        /* steps between energy evaluations (>= 1) */
 } pf_relax_spec;
+
+/* Default step as a fraction of hbar / (E - min V) of the starting state. */
+#define PF_RELAX_DEFAULT_FRACTION 0.05
 
 typedef struct pf_relax_info {
     size_t steps;              /* steps taken */

@@ -74,6 +74,27 @@ static pf_status potential_range(pf_grid *g, const double *V, double *lo, double
     return PF_OK;
 }
 
+/* Density below this fraction of the peak does not count as "occupied" when
+ * judging the potential phase per step. */
+#define OCCUPIED_FRACTION 1e-12
+
+/* Range of V over the points the state occupies (density >= OCCUPIED_FRACTION
+ * of its peak).  A trap's values at the grid edges, where the state is
+ * absent, do not limit the step. */
+static void occupied_range(const pf_wave *w, const double *V, double peak, double *lo, double *hi)
+{
+    double a = INFINITY, b = -INFINITY, cut = OCCUPIED_FRACTION * peak;
+    for (size_t i = 0; i < w->grid->total; i++) {
+        double complex z = w->data[i];
+        if (creal(z) * creal(z) + cimag(z) * cimag(z) < cut) continue;
+        if (V[i] < a) a = V[i];
+        if (V[i] > b) b = V[i];
+    }
+    if (a > b) a = b = 0;
+    *lo = a;
+    *hi = b;
+}
+
 static double max_density(pf_wave *w)
 {
     double m = 0;
@@ -211,7 +232,7 @@ pf_status pf_wave_evolve(pf_wave *w, double t, const pf_evolve_spec *spec, pf_ev
     ws.sc = make_scheme(spec->order);
     ws.bytes_c = pf_bytes(g->total, sizeof(double complex));
     ws.bytes_r = pf_bytes(g->total, sizeof(double));
-    double lo = 0, hi = 0;
+    double lo = 0, hi = 0, peak = max_density(w);
     double *probe = NULL;
     if (spec->varying) {
         probe = pf_alloc(ctx, ws.bytes_r);
@@ -221,12 +242,14 @@ pf_status pf_wave_evolve(pf_wave *w, double t, const pf_evolve_spec *spec, pf_ev
             return PF_ECALLBACK;
         }
         s = potential_range(g, probe, &lo, &hi);
+        if (!s) occupied_range(w, probe, peak, &lo, &hi);
         pf_free(ctx, probe, ws.bytes_r);
         if (s) return s;
     } else if (spec->potential) {
         if ((s = potential_range(g, spec->potential, &lo, &hi))) return s;
+        occupied_range(w, spec->potential, peak, &lo, &hi);
     }
-    double spread = (hi - lo) + fabs(spec->g) * max_density(w);
+    double spread = (hi - lo) + fabs(spec->g) * peak;
     double dt = spec->dt > 0 ? spec->dt : (spread > 0 ? PF_EVOLVE_PHASE_DEFAULT * PF_HBAR / spread : fabs(t));
     if (spec->dt < 0) return pf_fail(ctx, PF_EINVAL, "dt must be positive (s), got %g", spec->dt);
     double nsteps = t == 0 ? 0 : ceil(fabs(t) / dt * (1.0 - 1e-12));

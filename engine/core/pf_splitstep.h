@@ -45,7 +45,8 @@ typedef struct pf_evolve_spec {
 typedef struct pf_evolve_info {
     size_t steps;              /* number of steps taken */
     double dt;                 /* step actually used (t / steps) */
-    double phase_per_step;     /* (max V_eff - min V_eff) |dt| / hbar at the start (rad) */
+    double phase_per_step;     /* (max V_eff - min V_eff) |dt| / hbar at the start, over
+                                  the occupied region (rad) */
 } pf_evolve_info;
 
 /* Largest potential phase per step (rad) before a warning is emitted, and the
@@ -56,7 +57,9 @@ typedef struct pf_evolve_info {
 /* Evolves for t seconds (finite).  Steps: n = ceil(|t| / dt), h = t / n.  The
  * default dt makes the potential phase per step (max V_eff - min V_eff) h /
  * hbar equal to PF_EVOLVE_PHASE_DEFAULT, with V_eff = V + g max|psi|^2 at the
- * start (one step for a flat potential).  Warns when that phase exceeds
+ * start and the range taken over the points the state occupies (density at
+ * least 1e-12 of its peak), so a trap's values at empty grid edges do not
+ * shrink the step (one step for a potential flat there).  Warns when that phase exceeds
  * PF_EVOLVE_PHASE_WARN.  Leaves the wave in position representation, advances
  * the clock and records one "evolve" step.  Fails (state unchanged) on a bad
  * order, a non-finite or oversized step count or a non-finite static
