@@ -45,6 +45,8 @@ typedef struct evolve_ws {
     double complex *kin[2][PF_MAX_DIM]; /* kinetic tables for c = w1 (or 1) and w0 */
     double complex *e1, *e2;        /* static exponentials exp(-i V h c1/2 / hbar), exp(-i V h c0/2 / hbar) */
     double *vbuf;                   /* V(x, t) samples */
+    double vbuf_time;               /* time of the samples in vbuf */
+    int vbuf_valid;                 /* vbuf holds V at vbuf_time (the start probe) */
     size_t bytes_c, bytes_r;
 } evolve_ws;
 
@@ -148,10 +150,13 @@ static pf_status potential_step(evolve_ws *ws, double coef, int kind, double t)
 {
     const pf_evolve_spec *sp = ws->spec;
     if (sp->varying) {
-        if (sp->varying(sp->user, t, ws->vbuf) != 0) return PF_ECALLBACK;
-        double lo, hi;
-        pf_status s = potential_range(ws->g, ws->vbuf, &lo, &hi);
-        if (s) return s;
+        if (!(ws->vbuf_valid && ws->vbuf_time == t)) {
+            if (sp->varying(sp->user, t, ws->vbuf) != 0) return PF_ECALLBACK;
+            double lo, hi;
+            pf_status s = potential_range(ws->g, ws->vbuf, &lo, &hi);
+            if (s) return s;
+        }
+        ws->vbuf_valid = 0;
         potential_pass_direct(ws, ws->vbuf, coef);
     } else if (sp->g != 0 || !sp->potential) {
         if (!sp->potential && sp->g == 0) return PF_OK;
@@ -185,8 +190,7 @@ static pf_status prepare(evolve_ws *ws)
         pf_kernel_kinetic_tables(g, PF_HBAR * c * ws->h / ws->w->mass, NULL, ws->kin[i]);
     }
     if (sp->varying) {
-        ws->vbuf = pf_alloc(g->ctx, ws->bytes_r);
-        if (!ws->vbuf) return g->ctx->message[0] ? PF_ELIMIT : PF_ENOMEM;
+        /* vbuf is the start probe, allocated by pf_wave_evolve. */
     } else if (sp->potential && sp->g == 0) {
         ws->e1 = pf_alloc(g->ctx, ws->bytes_c);
         if (!ws->e1) return g->ctx->message[0] ? PF_ELIMIT : PF_ENOMEM;
@@ -217,8 +221,8 @@ pf_status pf_wave_evolve(pf_wave *w, double t, const pf_evolve_spec *spec, pf_ev
     if (spec->order != 2 && spec->order != 4)
         return pf_fail(ctx, PF_EINVAL, "order must be 2 (Strang) or 4 (Yoshida), got %d", spec->order);
     if (!isfinite(spec->g)) return pf_fail(ctx, PF_EINVAL, "g must be finite (J m^%d), got %g", g->dim, spec->g);
-    if (isnan(spec->dt) || isinf(spec->dt))
-        return pf_fail(ctx, PF_EINVAL, "dt must be finite (s), got %g", spec->dt);
+    if (isnan(spec->dt) || isinf(spec->dt) || spec->dt < 0)
+        return pf_fail(ctx, PF_EINVAL, "dt must be finite and positive (s; 0 picks the default), got %g", spec->dt);
     double norm = pf_wave_last_logged_norm(w);
     pf_status s = pf_wave_to(w, PF_POSITION);
     if (s) return s;
@@ -233,30 +237,35 @@ pf_status pf_wave_evolve(pf_wave *w, double t, const pf_evolve_spec *spec, pf_ev
     ws.bytes_c = pf_bytes(g->total, sizeof(double complex));
     ws.bytes_r = pf_bytes(g->total, sizeof(double));
     double lo = 0, hi = 0, peak = max_density(w);
-    double *probe = NULL;
     if (spec->varying) {
-        probe = pf_alloc(ctx, ws.bytes_r);
-        if (!probe) return ctx->message[0] ? PF_ELIMIT : PF_ENOMEM;
-        if (spec->varying(spec->user, w->clock, probe) != 0) {
-            pf_free(ctx, probe, ws.bytes_r);
+        /* Probe V at the start for the range; the first sub-step reuses it. */
+        ws.vbuf = pf_alloc(ctx, ws.bytes_r);
+        if (!ws.vbuf) return ctx->message[0] ? PF_ELIMIT : PF_ENOMEM;
+        if (spec->varying(spec->user, w->clock, ws.vbuf) != 0) {
+            ws_free(&ws);
             return PF_ECALLBACK;
         }
-        s = potential_range(g, probe, &lo, &hi);
-        if (!s) occupied_range(w, probe, peak, &lo, &hi);
-        pf_free(ctx, probe, ws.bytes_r);
-        if (s) return s;
+        s = potential_range(g, ws.vbuf, &lo, &hi);
+        if (s) {
+            ws_free(&ws);
+            return s;
+        }
+        occupied_range(w, ws.vbuf, peak, &lo, &hi);
+        ws.vbuf_time = w->clock;
+        ws.vbuf_valid = 1;
     } else if (spec->potential) {
         if ((s = potential_range(g, spec->potential, &lo, &hi))) return s;
         occupied_range(w, spec->potential, peak, &lo, &hi);
     }
     double spread = (hi - lo) + fabs(spec->g) * peak;
     double dt = spec->dt > 0 ? spec->dt : (spread > 0 ? PF_EVOLVE_PHASE_DEFAULT * PF_HBAR / spread : fabs(t));
-    if (spec->dt < 0) return pf_fail(ctx, PF_EINVAL, "dt must be positive (s), got %g", spec->dt);
     double nsteps = t == 0 ? 0 : ceil(fabs(t) / dt * (1.0 - 1e-12));
     if (t != 0 && nsteps < 1) nsteps = 1;
-    if (!(nsteps <= MAX_STEPS))
+    if (!(nsteps <= MAX_STEPS)) {
+        ws_free(&ws);
         return pf_fail(ctx, PF_EINVAL, "%g s in steps of %g s needs %.3g steps, more than %.0f; "
                        "give a larger dt", t, dt, nsteps, MAX_STEPS);
+    }
     size_t n = (size_t)nsteps;
     ws.h = n ? t / (double)n : 0.0;
     double phase = spread * fabs(ws.h) / PF_HBAR;
@@ -270,6 +279,7 @@ pf_status pf_wave_evolve(pf_wave *w, double t, const pf_evolve_spec *spec, pf_ev
         info->phase_per_step = phase;
     }
     if (n == 0) {
+        ws_free(&ws);
         pf_wave_log_step(w, "evolve", spec->order == 2 ? "strang" : "yoshida-4", 0.0, 0.0, norm);
         return PF_OK;
     }
