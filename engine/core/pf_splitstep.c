@@ -44,6 +44,7 @@ typedef struct evolve_ws {
     double h;                       /* step (s) */
     double complex *kin[2][PF_MAX_DIM]; /* kinetic tables for c = w1 (or 1) and w0 */
     double complex *e1, *e2;        /* static exponentials exp(-i V h c1/2 / hbar), exp(-i V h c0/2 / hbar) */
+    int borrowed;                   /* e1, e2 belong to spec->cache */
     double *vbuf;                   /* V(x, t) samples */
     double vbuf_time;               /* time of the samples in vbuf */
     int vbuf_valid;                 /* vbuf holds V at vbuf_time (the start probe) */
@@ -55,8 +56,8 @@ static void ws_free(evolve_ws *ws)
     pf_context *ctx = ws->g->ctx;
     for (int i = 0; i < 2; i++)
         for (int a = 0; a < PF_MAX_DIM; a++) free(ws->kin[i][a]);
-    if (ws->e1) pf_free(ctx, ws->e1, ws->bytes_c);
-    if (ws->e2) pf_free(ctx, ws->e2, ws->bytes_c);
+    if (ws->e1 && !ws->borrowed) pf_free(ctx, ws->e1, ws->bytes_c);
+    if (ws->e2 && !ws->borrowed) pf_free(ctx, ws->e2, ws->bytes_c);
     if (ws->vbuf) pf_free(ctx, ws->vbuf, ws->bytes_r);
 }
 
@@ -176,6 +177,15 @@ static pf_status kinetic_step(evolve_ws *ws, int table)
     return pf_grid_fft(ws->g, ws->w->data, +1);
 }
 
+void pf_evolve_cache_init(pf_evolve_cache *c) { memset(c, 0, sizeof *c); }
+
+void pf_evolve_cache_clear(pf_evolve_cache *c)
+{
+    if (c->e1) pf_free(c->ctx, c->e1, c->bytes);
+    if (c->e2) pf_free(c->ctx, c->e2, c->bytes);
+    pf_evolve_cache_init(c);
+}
+
 static pf_status prepare(evolve_ws *ws)
 {
     pf_grid *g = ws->g;
@@ -192,6 +202,15 @@ static pf_status prepare(evolve_ws *ws)
     if (sp->varying) {
         /* vbuf is the start probe, allocated by pf_wave_evolve. */
     } else if (sp->potential && sp->g == 0) {
+        pf_evolve_cache *c = sp->cache;
+        if (c && c->e1 && c->potential == sp->potential && c->h == ws->h && c->order == sp->order &&
+            c->bytes == ws->bytes_c && c->ctx == g->ctx) {
+            ws->e1 = c->e1;
+            ws->e2 = c->e2;
+            ws->borrowed = 1;
+            return PF_OK;
+        }
+        if (c) pf_evolve_cache_clear(c); /* free the old arrays before making new ones */
         ws->e1 = pf_alloc(g->ctx, ws->bytes_c);
         if (!ws->e1) return g->ctx->message[0] ? PF_ELIMIT : PF_ENOMEM;
         double f1 = 0.5 * ws->sc.c[0] * ws->h / PF_HBAR;
@@ -208,6 +227,16 @@ static pf_status prepare(evolve_ws *ws)
         for (ptrdiff_t i = 0; i < n; i++) {
             e1[i] = cexp(-I * (V[i] * f1));
             if (e2) e2[i] = cexp(-I * (V[i] * f2));
+        }
+        if (c) {
+            c->ctx = g->ctx;
+            c->potential = sp->potential;
+            c->h = ws->h;
+            c->order = sp->order;
+            c->e1 = ws->e1;
+            c->e2 = ws->e2;
+            c->bytes = ws->bytes_c;
+            ws->borrowed = 1;
         }
     }
     return PF_OK;

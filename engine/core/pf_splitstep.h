@@ -33,6 +33,24 @@
  * abort the evolution with PF_ECALLBACK. */
 typedef int (*pf_potential_fn)(void *user, double t, double *V);
 
+/* Exponentials of a static potential kept between evolve calls, so a
+ * protocol that evolves in many short calls (to sample observables on the
+ * way) pays the per-point exponential once.  Valid for the same potential
+ * array (pointer), step and order; the owner must clear it if it changes the
+ * array's values, and must keep the context alive while it holds arrays. */
+typedef struct pf_evolve_cache {
+    pf_context *ctx;           /* context the arrays are accounted to */
+    const double *potential;   /* the V they were made from */
+    double h;                  /* step they were made for */
+    int order;
+    double complex *e1, *e2;
+    size_t bytes;
+} pf_evolve_cache;
+
+void pf_evolve_cache_init(pf_evolve_cache *c);
+/* Frees the arrays (harmless when empty or cleared twice). */
+void pf_evolve_cache_clear(pf_evolve_cache *c);
+
 typedef struct pf_evolve_spec {
     const double *potential;   /* static V(x) in J, natural order; NULL: none */
     pf_potential_fn varying;   /* V(x, t), used instead of potential when set */
@@ -40,6 +58,7 @@ typedef struct pf_evolve_spec {
     double dt;                 /* step (s); <= 0 picks the default (below) */
     int order;                 /* 2 (Strang) or 4 (Yoshida composition) */
     double g;                  /* mean-field coefficient (J m^d); 0: linear */
+    pf_evolve_cache *cache;    /* optional, for a static potential without g */
 } pf_evolve_spec;
 
 typedef struct pf_evolve_info {

@@ -25,11 +25,15 @@ static int l_fall(lua_State *L)
     return 1;
 }
 
-/* Reads the optional 'potential' field of the options table at t: pushes
- * the array userdata (static) or leaves the function for a sampler. */
-static int potential_field(lua_State *L, int t, pf_grid *g, const char *name, int time_dependent, double **V)
+/* Reads the optional 'potential' field of the options table at t: a
+ * pf.potential object (its values and cache), a function or a table
+ * (sampled now into a userdata left on the stack), or, when time_dependent,
+ * a function left on the stack for a sampler (its index is returned). */
+static int potential_field(lua_State *L, int t, pf_grid *g, const char *name, int time_dependent, const double **V,
+                           pf_evolve_cache **cache)
 {
     *V = NULL;
+    if (cache) *cache = NULL;
     int type = lua_getfield(L, t, "potential");
     if (type == LUA_TNIL) {
         lua_pop(L, 1);
@@ -37,6 +41,14 @@ static int potential_field(lua_State *L, int t, pf_grid *g, const char *name, in
         return 0;
     }
     int fn = lua_gettop(L);
+    pfl_potential_box *pb = type == LUA_TUSERDATA ? pfl_test_potential(L, fn) : NULL;
+    if (pb) {
+        if (time_dependent) luaL_error(L, "%s: a pf.potential object is static; give a function of the coordinates and t", name);
+        if (!pf_grid_same(pb->grid, g)) luaL_error(L, "%s: the potential was sampled on a different grid", name);
+        *V = pb->values;
+        if (cache) *cache = &pb->cache;
+        return fn;
+    }
     if (time_dependent) {
         if (type != LUA_TFUNCTION)
             luaL_error(L, "%s: a time-dependent potential must be a function of the coordinates and t", name);
@@ -79,14 +91,16 @@ static int l_evolve(lua_State *L)
         return luaL_error(L, "evolve: field 'order' must be 2 (Strang) or 4 (Yoshida), got %d", spec.order);
     spec.g = pfl_field_number(L, 3, "g", 0, 0);
     int varying = pfl_field_boolean(L, 3, "time_dependent", 0);
-    double *V;
-    int fn = potential_field(L, 3, g, "evolve", varying, &V);
+    const double *V;
+    pf_evolve_cache *cache;
+    int fn = potential_field(L, 3, g, "evolve", varying, &V, &cache);
     pfl_sampler s = {L, fn, dim_of(w), PF_POSITION, "evolve", "potential", 1, 0, g};
     if (varying) {
         spec.varying = pfl_potential_cb;
         spec.user = &s;
     } else {
         spec.potential = V;
+        spec.cache = cache;
     }
     pf_evolve_info info;
     pf_status st = pf_wave_evolve(w, t, &spec, &info);
@@ -123,8 +137,8 @@ static int l_relax(lua_State *L)
     if (!(spec.tolerance > 0)) return luaL_error(L, "relax: field 'tolerance' must be positive, got %g", spec.tolerance);
     spec.max_steps = (size_t)pfl_field_integer(L, 2, "max_steps", 100000, 1, "relax");
     spec.check_every = (size_t)pfl_field_integer(L, 2, "check_every", 10, 1, "relax");
-    double *V;
-    potential_field(L, 2, g, "relax", 0, &V);
+    const double *V;
+    potential_field(L, 2, g, "relax", 0, &V, NULL);
     if (!V) return luaL_error(L, "relax: field 'potential' is required (function of the coordinates or table, J)");
     spec.potential = V;
     pf_relax_info info;
@@ -153,8 +167,8 @@ static int l_energy(lua_State *L)
     luaL_checktype(L, 2, LUA_TTABLE);
     pfl_check_options(L, 2, "energy", known);
     double g = pfl_field_number(L, 2, "g", 0, 0);
-    double *V;
-    potential_field(L, 2, pf_wave_grid(w), "energy", 0, &V);
+    const double *V;
+    potential_field(L, 2, pf_wave_grid(w), "energy", 0, &V, NULL);
     double e = 0, mu = 0;
     pfl_check(L, pf_wave_energy(w, V, g, &e, &mu), "energy");
     lua_pushnumber(L, e);
@@ -164,7 +178,7 @@ static int l_energy(lua_State *L)
 
 void pfl_open_evolve(lua_State *L, int mod)
 {
-    (void)mod;
+    pfl_register_potential(L, mod);
     static const luaL_Reg methods[] = {
         {"fall", l_fall},
         {"evolve", l_evolve},

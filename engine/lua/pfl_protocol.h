@@ -55,4 +55,21 @@ lua_Integer pfl_field_integer(lua_State *L, int t, const char *field, lua_Intege
  * of them at arg); what names them in errors. */
 void pfl_check_axis_values(lua_State *L, int arg, int dim, double *out, const char *what);
 
+/* ---- sampled potentials (pfl_potential.c) ---- */
+#include "../core/pf_splitstep.h"
+#define PFL_POTENTIAL_TYPE "psiflight.potential"
+
+/* pf.potential(grid, f | table): V sampled once on a grid, reusable by
+ * evolve/relax/energy, with the split-step exponentials cached inside. */
+typedef struct pfl_potential_box {
+    pf_grid *grid;          /* retained; NULL once closed */
+    const double *values;   /* pf_grid_total values (J), owned by the user value */
+    pf_evolve_cache cache;
+} pfl_potential_box;
+
+/* The open potential object at idx, or NULL when idx holds something else. */
+pfl_potential_box *pfl_test_potential(lua_State *L, int idx);
+/* Registers pf.potential and the potential metatable (called by pfl_open_evolve). */
+void pfl_register_potential(lua_State *L, int mod);
+
 #endif

@@ -1,0 +1,87 @@
+/* pfl_potential.c - potentials sampled once on a grid (pf.potential), so a
+ * protocol that calls w:evolve many times pays neither the Lua call per grid
+ * point nor the per-point exponential again.
+ *
+ * The samples live in a plain userdata kept as the object's user value (so
+ * the collector frees them, also after an error while sampling); the split-
+ * step exponentials for the last (step, order) are cached in the core's
+ * pf_evolve_cache and freed by close() or the collector. */
+#include <stdio.h>
+#include "pfl_protocol.h"
+
+pfl_potential_box *pfl_test_potential(lua_State *L, int idx)
+{
+    pfl_potential_box *b = luaL_testudata(L, idx, PFL_POTENTIAL_TYPE);
+    if (b && !b->grid) luaL_error(L, "potential is closed");
+    return b;
+}
+
+/* pf.potential(grid, f | table) -> potential object */
+static int l_potential(lua_State *L)
+{
+    pf_grid *g = pfl_check_grid(L, 1);
+    if (lua_type(L, 2) != LUA_TFUNCTION && lua_type(L, 2) != LUA_TTABLE)
+        return luaL_argerror(L, 2, "potential: a function of the coordinates or a table of values (J) expected");
+    pfl_potential_box *b = lua_newuserdatauv(L, sizeof *b, 1);
+    b->grid = NULL;
+    b->values = NULL;
+    pf_evolve_cache_init(&b->cache);
+    luaL_setmetatable(L, PFL_POTENTIAL_TYPE);
+    const double *V = pfl_read_potential(L, 2, g, "potential", 0, 0);
+    lua_setiuservalue(L, -2, 1);
+    b->values = V;
+    b->grid = g;
+    pf_grid_retain(g);
+    return 1;
+}
+
+static int l_close(lua_State *L)
+{
+    pfl_potential_box *b = luaL_checkudata(L, 1, PFL_POTENTIAL_TYPE);
+    if (b->grid) {
+        pf_evolve_cache_clear(&b->cache);
+        pf_grid_release(b->grid);
+        b->grid = NULL;
+        b->values = NULL;
+        lua_pushnil(L);
+        lua_setiuservalue(L, 1, 1);
+    }
+    return 0;
+}
+
+/* p:range() -> min, max of V (J) */
+static int l_range(lua_State *L)
+{
+    pfl_potential_box *b = luaL_checkudata(L, 1, PFL_POTENTIAL_TYPE);
+    if (!b->grid) return luaL_error(L, "potential is closed");
+    size_t n = pf_grid_total(b->grid);
+    double lo = b->values[0], hi = b->values[0];
+    for (size_t i = 1; i < n; i++) {
+        if (b->values[i] < lo) lo = b->values[i];
+        if (b->values[i] > hi) hi = b->values[i];
+    }
+    lua_pushnumber(L, lo);
+    lua_pushnumber(L, hi);
+    return 2;
+}
+
+static int l_tostring(lua_State *L)
+{
+    pfl_potential_box *b = luaL_checkudata(L, 1, PFL_POTENTIAL_TYPE);
+    if (!b->grid) lua_pushliteral(L, "potential (closed)");
+    else lua_pushfstring(L, "potential on a %dD grid of %d points", pf_grid_dim(b->grid), (int)pf_grid_total(b->grid));
+    return 1;
+}
+
+void pfl_register_potential(lua_State *L, int mod)
+{
+    static const luaL_Reg methods[] = {{"close", l_close}, {"range", l_range}, {NULL, NULL}};
+    static const luaL_Reg meta[] = {{"__gc", l_close}, {"__close", l_close}, {"__tostring", l_tostring}, {NULL, NULL}};
+    static const luaL_Reg funcs[] = {{"potential", l_potential}, {NULL, NULL}};
+    luaL_newmetatable(L, PFL_POTENTIAL_TYPE);
+    luaL_setfuncs(L, meta, 0);
+    luaL_newlib(L, methods);
+    lua_setfield(L, -2, "__index");
+    lua_pop(L, 1);
+    pfl_add_functions(L, mod, funcs);
+}
