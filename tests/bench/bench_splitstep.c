@@ -8,7 +8,7 @@
  * the difference (best of interleaved repeats).  Also reported: the fourth-order step (three Strang
  * sub-steps, about 3 pairs) and the mean-field step (exponential per point).
  * Prints: name size threads ms_per_step ratio_to_fft_pair.
- * Usage: bench_splitstep [quick]. */
+ * Usage: bench_splitstep [quick | big]  (quick: 128^3 only; big: 256^3 only). */
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -107,7 +107,8 @@ static void bench_size(pf_context *ctx, int dim, const int *n, int threads)
      * each is kept, so a burst of load on a shared machine spoils one sample
      * rather than the ratio.  (1 + LONG) steps minus 1 step removes the
      * per-call set-up from the per-step figure. */
-    enum { REPS = 3, LONG = 4 };
+    enum { LONG = 4 };
+    const int REPS = total > ((size_t)1 << 22) ? 3 : 7; /* fewer repeats where one step takes long */
     raw_pair_once_ms(&raw); /* warm-up */
     for (size_t k = 0; k < sizeof kinds / sizeof kinds[0]; k++) {
         pf_evolve_spec spec = {.potential = V, .dt = 1e-6, .order = kinds[k].order, .g = kinds[k].g};
@@ -135,7 +136,7 @@ static void bench_size(pf_context *ctx, int dim, const int *n, int threads)
 
 int main(int argc, char **argv)
 {
-    int quick = argc > 1 && strcmp(argv[1], "quick") == 0;
+    int quick = argc > 1 && strcmp(argv[1], "quick") == 0, big = argc > 1 && strcmp(argv[1], "big") == 0;
     const char *wisdom = getenv("PSIFLIGHT_WISDOM");
     const char *planning = getenv("PSIFLIGHT_BENCH_PLANNING");
     pf_context *ctx = pf_context_new();
@@ -143,7 +144,7 @@ int main(int argc, char **argv)
     if (planning && strcmp(planning, "estimate") == 0) pf_context_set_planning(ctx, PF_PLAN_ESTIMATE);
     else if (wisdom && *wisdom) pf_context_set_wisdom_path(ctx, wisdom);
     static const int sizes[][4] = {{1, 1 << 20}, {2, 1024, 1024}, {3, 128, 128, 128}, {3, 256, 256, 256}};
-    int first = quick ? 2 : 0, last = quick ? 2 : 3;
+    int first = quick ? 2 : big ? 3 : 0, last = quick ? 2 : 3;
     for (int s = first; s <= last; s++)
         for (int threads = 1; threads <= 2; threads++) bench_size(ctx, sizes[s][0], sizes[s] + 1, threads);
     pf_context_release(ctx);
