@@ -174,6 +174,11 @@ pf_status pf_wave_relax(pf_wave *w, const pf_relax_spec *spec, pf_relax_info *in
         if ((s = pf_grid_fft(g, w->data, -1))) goto done;
         pf_kernel_axis_multiply(g, w->data, (const double complex *const *)kin, inv_n);
         if ((s = pf_grid_fft(g, w->data, +1))) goto done;
+        /* With a mean field, renormalise before the second half-step too:
+         * both halves then see the density of a normalised state, which keeps
+         * the step symmetric and the fixed point's offset O(dtau^2) (with the
+         * decayed norm in the second half it would be O(dtau)). */
+        if (spec->g != 0 && (s = pf_wave_normalize(w))) goto done;
         damp_potential(g, w->data, V, vmin, spec->g, f, factor);
         if ((s = pf_wave_normalize(w))) goto done;
         step++;
