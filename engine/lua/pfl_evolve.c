@@ -58,17 +58,48 @@ static int potential_field(lua_State *L, int t, pf_grid *g, const char *name, in
     return fn;
 }
 
+/* V(x, t) = envelope(t) V(x): one Lua call per sample time, then one pass. */
+typedef struct envelope_call {
+    lua_State *L;
+    int fn;            /* the envelope function */
+    const double *V;   /* the static shape */
+    size_t n;
+} envelope_call;
+
+static int envelope_cb(void *user, double t, double *out)
+{
+    envelope_call *e = user;
+    lua_State *L = e->L;
+    int base = lua_gettop(L);
+    lua_pushvalue(L, e->fn);
+    lua_pushnumber(L, t);
+    if (lua_pcall(L, 1, 1, 0) != LUA_OK) return 1;
+    int isnum;
+    double s = lua_tonumberx(L, -1, &isnum);
+    if (!isnum || !isfinite(s)) {
+        char buf[80];
+        const char *got = pfl_describe(L, -1, buf, sizeof buf);
+        lua_settop(L, base);
+        lua_pushfstring(L, "evolve: the envelope function must return a finite number; at t = %f it returned %s", t, got);
+        return 1;
+    }
+    lua_settop(L, base);
+    for (size_t i = 0; i < e->n; i++) out[i] = s * e->V[i];
+    return 0;
+}
+
 static void push_info_number(lua_State *L, const char *k, double v)
 {
     lua_pushnumber(L, v);
     lua_setfield(L, -2, k);
 }
 
-/* w:evolve(t, {potential = f | table, time_dependent = false, dt = s,
- *              order = 2 | 4, g = J m^d}) -> w, {steps, dt, phase_per_step} */
+/* w:evolve(t, {potential = P | f | table, time_dependent = false,
+ *              envelope = function(t), dt = s, order = 2 | 4, g = J m^d})
+ *   -> w, {steps, dt, phase_per_step} */
 static int l_evolve(lua_State *L)
 {
-    static const char *const known[] = {"potential", "time_dependent", "dt", "order", "g", NULL};
+    static const char *const known[] = {"potential", "time_dependent", "envelope", "dt", "order", "g", NULL};
     pf_wave *w = pfl_check_wave(L, 1);
     double t = pfl_check_finite(L, 2, "evolve time (s)");
     if (lua_isnoneornil(L, 3)) {
@@ -95,7 +126,18 @@ static int l_evolve(lua_State *L)
     pf_evolve_cache *cache;
     int fn = potential_field(L, 3, g, "evolve", varying, &V, &cache);
     pfl_sampler s = {L, fn, dim_of(w), PF_POSITION, "evolve", "potential", 1, 0, g};
-    if (varying) {
+    envelope_call env = {L, 0, V, pf_grid_total(g)};
+    int te = lua_getfield(L, 3, "envelope");
+    if (te != LUA_TNIL) {
+        if (te != LUA_TFUNCTION) return luaL_error(L, "evolve: field 'envelope' must be a function of t");
+        if (varying || !V)
+            return luaL_error(L, "evolve: 'envelope' scales a static 'potential' (object, function of the coordinates or table)");
+        env.fn = lua_gettop(L);
+    }
+    if (env.fn) {
+        spec.varying = envelope_cb;
+        spec.user = &env;
+    } else if (varying) {
         spec.varying = pfl_potential_cb;
         spec.user = &s;
     } else {

@@ -66,6 +66,36 @@ do
   check.fails(function() c:evolve(1e-4, {potential = P}) end, "closed potential", "closed")
 end
 
+-- envelope = function(t): V(x, t) = envelope(t) V(x) costs one Lua call per
+-- sample time.  A force growing linearly in time, V = -m alpha t x, moves
+-- <x> by alpha t^3 / 6 (Ehrenfest theorem, exact for a linear potential);
+-- a constant envelope of 1 reproduces the static evolution.
+do
+  -- 7Li spreads fast: a wide packet on a wide grid keeps it off the cell
+  -- boundary, where the periodic copy of the ramp jumps.
+  local g = pf.grid{points = 2048, span = 240e-6}
+  local alpha, T = 100.0, 10e-3
+  local ramp = pf.potential(g, function(x) return -m * alpha * x end)
+  local w = pf.wave(g, {mass = m, position = function(x) return math.exp(-(x + 8e-6) ^ 2 / (4 * 6e-6 ^ 2)) end})
+  local x0 = w:position_mean()
+  w:evolve(T, {potential = ramp, envelope = function(t) return t end, dt = T / 50, order = 4})
+  check.near(w:position_mean() - x0, alpha * T ^ 3 / 6, 1e-7, "envelope t: <x> moves by alpha t^3/6",
+    "Ehrenfest theorem, linear potential")
+  local g1 = pf.grid{points = 128, span = 20 * aho}
+  local start = function(x) return math.exp(-(x - 2 * aho) ^ 2 / (2 * aho * aho)) end
+  local a = pf.wave(g1, {mass = m, position = start})
+  local b = pf.wave(g1, {mass = m, position = start})
+  a:evolve(1e-3, {potential = trap1, dt = 1e-5})
+  b:evolve(1e-3, {potential = trap1, envelope = function(t) return 1 end, dt = 1e-5})
+  local worst = 0
+  for i = 1, g1:points() do worst = math.max(worst, (a:psi(i) - b:psi(i)):abs()) end
+  check.close(worst * math.sqrt(aho), 0, 1e-12, "envelope 1 = static potential", "definition")
+  check.fails(function() b:evolve(1e-4, {potential = trap1, envelope = function(t) return 0 / 0 end}) end,
+    "envelope returning NaN", "test_protocol_evolve.lua:", "envelope", "t = ")
+  check.fails(function() b:evolve(1e-4, {envelope = function(t) return 1 end}) end, "envelope without a potential",
+    "test_protocol_evolve.lua:", "static 'potential'")
+end
+
 -- Relaxation with the default step reaches hbar omega / 2 (textbook harmonic
 -- oscillator) and w:energy agrees with the value relax reports.
 do
