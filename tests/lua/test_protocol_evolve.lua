@@ -127,6 +127,18 @@ do
   check.close(removed, 0, 1e-15, "3D circular aperture wider than the grid removes nothing", "geometry")
 end
 
+-- 3D ground state of an anisotropic trap: E = hbar (wx + wy + wz) / 2
+-- (textbook harmonic oscillator), default imaginary-time step.
+do
+  local g = pf.grid{points = {24, 24, 32}, span = {12 * aho, 12 * aho, 10 * aho}}
+  local w = pf.wave(g, {mass = m, position = function(x, y, z)
+    return math.exp(-(x * x + y * y + z * z) / (3 * aho * aho)) end})
+  local V = function(x, y, z) return 0.5 * m * omega * omega * (x * x + y * y + 2.25 * z * z) end
+  local _, info = w:relax{potential = V, tolerance = 1e-11}
+  check.truthy(info.converged, "3D relax converged")
+  check.near(info.energy, 0.5 * hbar * omega * (1 + 1 + 1.5), 1e-6, "3D ground energy = hbar (wx+wy+wz)/2", "textbook")
+end
+
 -- Circular aperture in 3D (axes 1 and 3): the Rayleigh tail exp(-R^2/2s^2)
 -- of an isotropic Gaussian (std. dev. s per axis), staircase edge: 2%.
 do
