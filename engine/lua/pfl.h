@@ -102,5 +102,7 @@ void pfl_open_grid(lua_State *L, int mod);
 void pfl_open_wave(lua_State *L, int mod);
 void pfl_open_flight(lua_State *L, int mod);
 void pfl_open_observe(lua_State *L, int mod);
+void pfl_open_guard(lua_State *L, int mod);      /* after pfl_open_context: wraps pf.setup */
+void pfl_open_longflight(lua_State *L, int mod);
 
 #endif

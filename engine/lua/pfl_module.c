@@ -14,6 +14,8 @@ static const pfl_opener openers[] = {
     pfl_open_wave,
     pfl_open_flight,
     pfl_open_observe,
+    pfl_open_guard,
+    pfl_open_longflight,
 };
 
 int luaopen_psiflight(lua_State *L)
