@@ -287,6 +287,7 @@ void pf_guard_forget(pf_wave *w)
 {
     w->guard.known = 0;
     w->guard.pending = 0;
+    w->scaled_from.log_count = 0; /* no longer the state a scaled flight produced */
 }
 
 void pf_guard_rebind(pf_wave *w)

@@ -67,6 +67,15 @@ struct pf_wave {
     double complex *data;
     pf_steplog log;
     pf_guard_state guard;
+    /* Where the last scaled flight started (pf_scaled.c), so that a further
+     * long flight can return there exactly instead of flying a chirp the new
+     * grid undersamples.  Valid while log.count == scaled_from.log_count. */
+    struct {
+        size_t log_count;
+        double duration;
+        size_t n[PF_MAX_DIM];
+        double span[PF_MAX_DIM], origin[PF_MAX_DIM];
+    } scaled_from;
 };
 
 /* Engine allocation accounted against the context's memory cap, aligned for

@@ -265,6 +265,14 @@ pf_status pf_wave_fly_onto(pf_wave *w, double t, pf_grid *target)
     double t1[PF_MAX_DIM], t2[PF_MAX_DIM];
     int two = stage_times(w, t, target->n, target->dx, t1, t2);
     double norm = pf_wave_last_logged_norm(w);
+    const pf_grid *src = w->grid;
+    size_t src_n[PF_MAX_DIM];
+    double src_span[PF_MAX_DIM], src_origin[PF_MAX_DIM];
+    for (int a = 0; a < PF_MAX_DIM; a++) {
+        src_n[a] = src->n[a];
+        src_span[a] = src->span[a];
+        src_origin[a] = src->origin[a];
+    }
     s = pf_wave_to(w, PF_POSITION);
     if (s) return s;
     pf_grid_retain(target); /* the target may be the wave's own grid */
@@ -282,6 +290,13 @@ pf_status pf_wave_fly_onto(pf_wave *w, double t, pf_grid *target)
     if (s) return s;
     w->clock += t;
     pf_wave_log_step(w, "flight", two ? "scaled-2stage" : "scaled-fresnel", t, removed, norm * (1 - removed));
+    if (removed == 0) {
+        w->scaled_from.log_count = w->log.count;
+        w->scaled_from.duration = t;
+        memcpy(w->scaled_from.n, src_n, sizeof src_n);
+        memcpy(w->scaled_from.span, src_span, sizeof src_span);
+        memcpy(w->scaled_from.origin, src_origin, sizeof src_origin);
+    }
     return PF_OK;
 }
 
@@ -357,6 +372,35 @@ pf_status pf_wave_fly_long(pf_wave *w, double t, const pf_long_flight_opts *o, p
         snprintf(r->reason, sizeof r->reason, "a flight of zero duration changes nothing");
         return pf_wave_fly(w, 0.0);
     }
+    if (o->method == PF_FLIGHT_SAME_GRID && has_target) {
+        int own = !o->grid || pf_grid_same(o->grid, g);
+        for (int a = 0; a < d && !o->grid; a++)
+            if ((o->points[a] && o->points[a] != g->n[a]) || (o->spacing[a] && o->spacing[a] != g->dx[a]) ||
+                (o->has_centre && o->centre[a] != g->origin[a]))
+                own = 0;
+        if (!own)
+            return pf_fail(ctx, PF_EINVAL,
+                           "method \"same-grid\" keeps the wave's grid; a target grid, points, spacing or centre "
+                           "needs method \"scaled\" or \"auto\"");
+    }
+    /* The state came out of a scaled flight and nothing happened since: its
+     * chirp is undersampled on the coarse grid, so fly back to where that
+     * flight started (exact: the chirps cancel) and fly the whole time from
+     * there.  The log shows both steps. */
+    int returned = 0;
+    if (o->method != PF_FLIGHT_SAME_GRID && w->scaled_from.log_count && w->scaled_from.log_count == w->log.count) {
+        double back = w->scaled_from.duration;
+        pf_grid *gsrc;
+        pf_status s0 = pf_grid_new(ctx, d, w->scaled_from.n, w->scaled_from.span, w->scaled_from.origin, &gsrc);
+        if (s0) return s0;
+        s0 = pf_wave_fly_onto(w, -back, gsrc);
+        pf_grid_release(gsrc);
+        if (s0) return s0;
+        w->scaled_from.log_count = 0;
+        t += back;
+        g = w->grid;
+        returned = 1;
+    }
     /* The state's extents, measured in the representation it is in first. */
     double thr = pf_context_guard_threshold(ctx);
     double eps = fmin(thr, 1e-2);
@@ -425,10 +469,6 @@ pf_status pf_wave_fly_long(pf_wave *w, double t, const pf_long_flight_opts *o, p
             if (n_out[a] != g->n[a] || D[a] != g->dx[a] || c[a] != g->origin[a]) target_is_own = 0;
     }
     pf_flight_method m = o->method;
-    if (m == PF_FLIGHT_SAME_GRID && has_target && !target_is_own)
-        return pf_fail(ctx, PF_EINVAL,
-                       "method \"same-grid\" keeps the wave's grid; a target grid, points, spacing or centre needs "
-                       "method \"scaled\" or \"auto\"");
     if (m == PF_FLIGHT_AUTO) {
         if (has_target && !target_is_own) {
             m = PF_FLIGHT_SCALED;
@@ -468,6 +508,11 @@ pf_status pf_wave_fly_long(pf_wave *w, double t, const pf_long_flight_opts *o, p
                             "the result aliases. Remedy: reduce the input spacing or add points (x%.2f), choose a "
                             "coarser output spacing, or fly longer before imaging; see w:grid_advice",
                             t, over, over * 1.1);
+    }
+    if (returned) {
+        size_t len = strlen(r->reason);
+        snprintf(r->reason + len, sizeof r->reason - len,
+                 " (the state first flew back to where its last scaled flight started, then %g s in one go)", t);
     }
     r->method = m;
     if (m == PF_FLIGHT_SAME_GRID) {

@@ -42,6 +42,7 @@ pf_status pf_wave_copy(const pf_wave *src, pf_wave **out)
     w->rep = src->rep;
     w->clock = src->clock;
     w->guard = src->guard; /* a copy has been warned about already */
+    w->scaled_from = src->scaled_from;
     if (pf_steplog_copy(&w->log, &src->log) != PF_OK) {
         pf_wave_free(w);
         *out = NULL;
