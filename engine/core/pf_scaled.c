@@ -69,6 +69,23 @@ static void chirp_tables(double mass, double ta, size_t n, double dx, double D, 
     }
 }
 
+/* data *= T0[i0] T1[i1] T2[i2] in place.  The row factor is formed once per
+ * row, so the inner loop is one complex multiply by a table entry and one
+ * by a constant.  The pass is bound by memory bandwidth on large grids. */
+static void chirp_pass(double complex *data, const shape3 *s, const double complex *const *T, int threads)
+{
+    const size_t n1 = s->n[1], n2 = s->n[2];
+    const double complex *restrict t2 = T[2];
+#pragma omp parallel for collapse(2) num_threads(threads) schedule(static)
+    for (ptrdiff_t i0 = 0; i0 < (ptrdiff_t)s->n[0]; i0++) {
+        for (ptrdiff_t i1 = 0; i1 < (ptrdiff_t)n1; i1++) {
+            const double complex r = T[0][i0] * T[1][i1];
+            double complex *restrict row = data + ((size_t)i0 * n1 + (size_t)i1) * n2;
+            for (size_t i2 = 0; i2 < n2; i2++) row[i2] = row[i2] * t2[i2] * r;
+        }
+    }
+}
+
 /* Probability (relative to norm) of the input points that fall outside the
  * output index box when the input is cropped; one serial pass, only run when
  * some axis shrinks. */
@@ -159,16 +176,21 @@ static pf_status scaled_stage(pf_wave *w, const double *ta, pf_grid *gout, doubl
     if (padded) memset(out, 0, bytes);
     const double complex *in = w->data;
     const int threads = ctx->threads;
-    /* Pass 1: zero-padded (or cropped) copy times the input chirp. */
+    /* Pass 1: the input chirp; a zero-padded (or cropped) copy when the point
+     * count changes. */
+    if (in_place) {
+        chirp_pass(out, &so, P, threads);
+    } else {
 #pragma omp parallel for collapse(2) num_threads(threads) schedule(static)
-    for (ptrdiff_t i0 = (ptrdiff_t)lo[0]; i0 < (ptrdiff_t)hi[0]; i0++) {
-        for (ptrdiff_t i1 = (ptrdiff_t)lo[1]; i1 < (ptrdiff_t)hi[1]; i1++) {
-            size_t o0 = (size_t)(i0 + sh[0]), o1 = (size_t)(i1 + sh[1]);
-            double complex r = P[0][o0] * P[1][o1];
-            const double complex *src = in + ((size_t)i0 * si.n[1] + (size_t)i1) * si.n[2];
-            double complex *dst = out + (o0 * so.n[1] + o1) * so.n[2] + sh[2];
-            const double complex *p2 = P[2] + sh[2];
-            for (size_t i2 = lo[2]; i2 < hi[2]; i2++) dst[i2] = src[i2] * (r * p2[i2]);
+        for (ptrdiff_t i0 = (ptrdiff_t)lo[0]; i0 < (ptrdiff_t)hi[0]; i0++) {
+            for (ptrdiff_t i1 = (ptrdiff_t)lo[1]; i1 < (ptrdiff_t)hi[1]; i1++) {
+                size_t o0 = (size_t)(i0 + sh[0]), o1 = (size_t)(i1 + sh[1]);
+                double complex r = P[0][o0] * P[1][o1];
+                const double complex *src = in + ((size_t)i0 * si.n[1] + (size_t)i1) * si.n[2];
+                double complex *dst = out + (o0 * so.n[1] + o1) * so.n[2] + sh[2];
+                const double complex *p2 = P[2] + sh[2];
+                for (size_t i2 = lo[2]; i2 < hi[2]; i2++) dst[i2] = src[i2] * (r * p2[i2]);
+            }
         }
     }
     int forward = ta[0] > 0; /* all stage durations share the flight's sign */
@@ -179,15 +201,7 @@ static pf_status scaled_stage(pf_wave *w, const double *ta, pf_grid *gout, doubl
         return s;
     }
     /* Pass 2: output chirp and amplitude. */
-#pragma omp parallel for collapse(2) num_threads(threads) schedule(static)
-    for (ptrdiff_t o0 = 0; o0 < (ptrdiff_t)so.n[0]; o0++) {
-        for (ptrdiff_t o1 = 0; o1 < (ptrdiff_t)so.n[1]; o1++) {
-            double complex r = Q[0][o0] * Q[1][o1];
-            double complex *row = out + ((size_t)o0 * so.n[1] + (size_t)o1) * so.n[2];
-            const double complex *q2 = Q[2];
-            for (size_t o2 = 0; o2 < so.n[2]; o2++) row[o2] *= r * q2[o2];
-        }
-    }
+    chirp_pass(out, &so, Q, threads);
     free(tables);
     /* Move the wave to its new grid. */
     if (!in_place) pf_free(ctx, w->data, pf_bytes(gin->total, sizeof(double complex)));
