@@ -350,6 +350,63 @@ static void far_field_converges_at_the_fraunhofer_rate(void **state)
     pft_near(err[0] / err[1], 4.0, 0.02, 0);
 }
 
+/* More output points pad the input with zeros (finer output spacing); fewer
+ * crop it (the dropped probability is logged as removed). */
+static void padding_and_cropping_keep_the_textbook_packet(void **state)
+{
+    const double s = 1e-6;
+    gauss p = {1, {s}, {1e-6}, {1.0 / s}};
+    size_t n[1] = {128};
+    double span[1] = {32 * s};
+    double t = time_for_growth(s, 200);
+    double c[1] = {p.x0[0] + PF_HBAR * p.k0[0] * t / MASS};
+    for (int i = 0; i < 2; i++) {
+        pf_wave *w = make_gauss(state, &p, n, span);
+        size_t pts[1] = {i ? 96 : 512};
+        pft_ok(pf_wave_fly_scaled(w, t, pts, c));
+        pf_grid *g = pf_wave_grid(w);
+        assert_int_equal(pf_grid_points(g, 0), pts[0]);
+        pft_near(pf_grid_spacing(g, 0), PF_TWO_PI * PF_HBAR * t / (MASS * (double)pts[0] * span[0] / 128), 1e-13, 0);
+        double er, ep;
+        assert_true(compare_gauss(w, &p, t, 4.0, &er, &ep) >= (i ? 10u : 40u));
+        pft_near(er, 0, 0, 1e-9);
+        pft_near(ep, 0, 0, 1e-9);
+        const pf_steplog *log = pf_wave_steplog(w);
+        double removed = log->steps[log->count - 1].removed;
+        assert_true(removed >= 0 && removed < 1e-12);
+        pf_wave_free(w);
+    }
+}
+
+/* Two stages with a different spacing on each axis (the propagator
+ * factorises over axes, so each axis has its own stage durations). */
+static void two_stage_per_axis_spacing_in_2d(void **state)
+{
+    const double s = 1e-6;
+    gauss p = {2, {s, 1.2 * s}, {0, 1e-6}, {0.5 / s, 0}};
+    size_t n[2] = {128, 128};
+    double span[2] = {40 * s, 48 * s};
+    pf_wave *w = make_gauss(state, &p, n, span);
+    double t = time_for_growth(s, 150);
+    pf_long_flight_opts o;
+    memset(&o, 0, sizeof o);
+    o.method = PF_FLIGHT_SCALED;
+    double nat0 = PF_TWO_PI * PF_HBAR * t / (MASS * span[0]), nat1 = PF_TWO_PI * PF_HBAR * t / (MASS * span[1]);
+    o.spacing[0] = 0.7 * nat0;
+    o.spacing[1] = 1.3 * nat1;
+    pf_long_flight_report r;
+    pft_ok(pf_wave_fly_long(w, t, &o, &r));
+    assert_int_equal(r.stages, 2);
+    assert_true(r.scaled_ok);
+    pft_near(pf_grid_spacing(pf_wave_grid(w), 0), o.spacing[0], 1e-14, 0);
+    pft_near(pf_grid_spacing(pf_wave_grid(w), 1), o.spacing[1], 1e-14, 0);
+    double er, ep;
+    assert_true(compare_gauss(w, &p, t, 3.5, &er, &ep) >= 100);
+    pft_near(er, 0, 0, 1e-9);
+    pft_near(ep, 0, 0, 1e-9);
+    pf_wave_free(w);
+}
+
 static void bad_scaled_requests_are_refused(void **state)
 {
     gauss p = {1, {1e-6}, {0}, {0}};
@@ -378,6 +435,8 @@ int main(void)
         cmocka_unit_test_setup_teardown(scaled_output_can_be_kicked_and_flown_again, setup, teardown),
         cmocka_unit_test_setup_teardown(automatic_choice_follows_the_criteria, setup, teardown),
         cmocka_unit_test_setup_teardown(far_field_converges_at_the_fraunhofer_rate, setup, teardown),
+        cmocka_unit_test_setup_teardown(padding_and_cropping_keep_the_textbook_packet, setup, teardown),
+        cmocka_unit_test_setup_teardown(two_stage_per_axis_spacing_in_2d, setup, teardown),
         cmocka_unit_test_setup_teardown(bad_scaled_requests_are_refused, setup, teardown),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
