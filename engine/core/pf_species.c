@@ -123,11 +123,24 @@ size_t pf_species_suggest(const char *label, const pf_species **out, size_t max)
             if (d < dist[i]) dist[i] = d;
         }
     }
+    /* Isotopes of the element the label names ("K-42" -> 39K, 40K, 41K)
+     * come first, whatever their edit distance. */
+    char letters[48];
+    size_t nl = 0;
+    for (const char *p = want; *p && nl + 1 < sizeof letters; p++)
+        if (!isdigit((unsigned char)*p)) letters[nl++] = *p;
+    letters[nl] = '\0';
+    for (size_t i = 0; i < TABLE_SIZE && nl; i++) {
+        char sym[48], name[48];
+        normalise(table[i].symbol, sym, sizeof sym);
+        normalise(table[i].name, name, sizeof name);
+        if (table[i].mass_number > 0 && (strcmp(letters, sym) == 0 || strcmp(letters, name) == 0)) dist[i] = -1;
+    }
     /* Close means at most 2 edits, or a third of the label for long names. */
     int limit = (int)strlen(want) / 3;
     if (limit < 2) limit = 2;
     size_t found = 0;
-    for (int d = 0; d <= limit && found < max; d++)
+    for (int d = -1; d <= limit && found < max; d++)
         for (size_t i = 0; i < TABLE_SIZE && found < max; i++)
             if (dist[i] == d) out[found++] = &table[i];
     return found;

@@ -45,6 +45,18 @@ static int l_mul_op(lua_State *L)
     return 1;
 }
 
+/* The complex type's own __mul runs first in `z * wave`; this wrapper (set
+ * on the complex metatable) hands such products to l_mul_op and everything
+ * else to the original metamethod (upvalue 1). */
+static int l_complex_mul(lua_State *L)
+{
+    if (luaL_testudata(L, 1, PFL_WAVE_TYPE) || luaL_testudata(L, 2, PFL_WAVE_TYPE)) return l_mul_op(L);
+    lua_pushvalue(L, lua_upvalueindex(1));
+    lua_insert(L, 1);
+    lua_call(L, lua_gettop(L) - 1, 1);
+    return 1;
+}
+
 static int l_div_op(lua_State *L)
 {
     pf_wave *w = pfl_check_wave(L, 1);
@@ -91,5 +103,11 @@ void pfl_open_algebra(lua_State *L, int mod)
     pfl_add_wave_methods(L, methods);
     luaL_getmetatable(L, PFL_WAVE_TYPE);
     luaL_setfuncs(L, meta, 0);
+    lua_pop(L, 1);
+    if (luaL_getmetatable(L, PFL_COMPLEX_TYPE) == LUA_TTABLE) {
+        lua_getfield(L, -1, "__mul");
+        lua_pushcclosure(L, l_complex_mul, 1);
+        lua_setfield(L, -2, "__mul");
+    }
     lua_pop(L, 1);
 }

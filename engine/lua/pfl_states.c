@@ -190,7 +190,7 @@ static void read_envelope(lua_State *L, int t, const char *fname, int d, double 
         read_matrix(L, t, fname, "covariance", d, spec->covariance);
         for (int a = 0; a < d; a++)
             if (!(spec->covariance[a][a] > 0))
-                luaL_error(L, "%s: field 'covariance' diagonal entry %d must be positive (m^2), got %g", fname, a + 1,
+                luaL_error(L, "%s: field 'covariance' diagonal entry %d must be positive (m^2), got %f", fname, a + 1,
                            spec->covariance[a][a]);
     } else {
         double v[PF_MAX_DIM];
@@ -344,7 +344,7 @@ static int l_oscillator(lua_State *L)
     int n[PF_MAX_DIM];
     for (int a = 0; a < d; a++) {
         if (nv[a] != floor(nv[a]) || nv[a] < 0 || nv[a] > 5000)
-            return luaL_error(L, "%s: field 'n' entry %d must be an integer 0..5000, got %g", fname, a + 1, nv[a]);
+            return luaL_error(L, "%s: field 'n' entry %d must be an integer 0..5000, got %f", fname, a + 1, nv[a]);
         n[a] = (int)nv[a];
     }
     read_vector(L, 2, fname, "center", d, center, 0);
