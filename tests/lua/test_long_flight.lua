@@ -84,6 +84,15 @@ for i = 1, gimg:points() do
 end
 check.close(worst, 0, 1e-6, "far-field image = sinc^2 envelope x cos^2 fringes", "Fraunhofer double slit, tanh-edged slit transform")
 
+-- Flying onto a given grid object: the far-field image's own grid.
+local dcopy = ds:copy()
+local _, rg = dcopy:fly_long(t_ff, {grid = gimg})
+check.truthy(rg.method == "scaled" and dcopy:grid():spacing() == gimg:spacing(), "fly_long onto a given grid")
+local dd = dcopy:density()
+check.near(dd[centre], ff[centre], 2 * info.fraunhofer[1] ^ 2 + 1e-9, "exact and far-field peak density agree to O(N_F^2)",
+  "Fraunhofer limit")
+dcopy:close()
+
 -- The flight itself (scaled), then the fringe period from the density.
 local _, rs = ds:fly_long(t_ff)
 check.equal(rs.method, "scaled", "double slit far field: scaled flight")
