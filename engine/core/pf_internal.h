@@ -73,8 +73,7 @@ struct pf_wave {
     struct {
         size_t log_count;
         double duration;
-        size_t n[PF_MAX_DIM];
-        double span[PF_MAX_DIM], origin[PF_MAX_DIM];
+        double origin[PF_MAX_DIM];
     } scaled_from;
 };
 

@@ -282,14 +282,8 @@ pf_status pf_wave_fly_onto(pf_wave *w, double t, pf_grid *target)
     double t1[PF_MAX_DIM], t2[PF_MAX_DIM];
     int two = stage_times(w, t, target->n, target->dx, t1, t2);
     double norm = pf_wave_last_logged_norm(w);
-    const pf_grid *src = w->grid;
-    size_t src_n[PF_MAX_DIM];
-    double src_span[PF_MAX_DIM], src_origin[PF_MAX_DIM];
-    for (int a = 0; a < PF_MAX_DIM; a++) {
-        src_n[a] = src->n[a];
-        src_span[a] = src->span[a];
-        src_origin[a] = src->origin[a];
-    }
+    double src_origin[PF_MAX_DIM];
+    memcpy(src_origin, w->grid->origin, sizeof src_origin);
     s = pf_wave_to(w, PF_POSITION);
     if (s) return s;
     pf_grid_retain(target); /* the target may be the wave's own grid */
@@ -310,8 +304,6 @@ pf_status pf_wave_fly_onto(pf_wave *w, double t, pf_grid *target)
     if (removed == 0) {
         w->scaled_from.log_count = w->log.count;
         w->scaled_from.duration = t;
-        memcpy(w->scaled_from.n, src_n, sizeof src_n);
-        memcpy(w->scaled_from.span, src_span, sizeof src_span);
         memcpy(w->scaled_from.origin, src_origin, sizeof src_origin);
     }
     return PF_OK;
@@ -402,16 +394,14 @@ pf_status pf_wave_fly_long(pf_wave *w, double t, const pf_long_flight_opts *o, p
     }
     /* The state came out of a scaled flight and nothing happened since: its
      * chirp is undersampled on the coarse grid, so fly back to where that
-     * flight started (exact: the chirps cancel) and fly the whole time from
-     * there.  The log shows both steps. */
+     * flight started (the single-FFT form of -t: the chirps cancel, and with
+     * an unchanged point count it lands on the starting grid itself) and fly
+     * the whole time from there.  The log shows both steps. */
     int returned = 0;
     if (o->method != PF_FLIGHT_SAME_GRID && w->scaled_from.log_count && w->scaled_from.log_count == w->log.count) {
-        double back = w->scaled_from.duration;
-        pf_grid *gsrc;
-        pf_status s0 = pf_grid_new(ctx, d, w->scaled_from.n, w->scaled_from.span, w->scaled_from.origin, &gsrc);
-        if (s0) return s0;
-        s0 = pf_wave_fly_onto(w, -back, gsrc);
-        pf_grid_release(gsrc);
+        double back = w->scaled_from.duration, origin[PF_MAX_DIM];
+        memcpy(origin, w->scaled_from.origin, sizeof origin);
+        pf_status s0 = pf_wave_fly_scaled(w, -back, NULL, origin);
         if (s0) return s0;
         w->scaled_from.log_count = 0;
         t += back;
@@ -520,10 +510,10 @@ pf_status pf_wave_fly_long(pf_wave *w, double t, const pf_long_flight_opts *o, p
                             t, over, over * 1.1);
         else
             pf_context_warn(ctx,
-                            "flight guard: the scaled flight of %g s needs %.2f times the output window (or the "
-                            "output grid's momentum band): the chirp exp(i m x^2 / 2 hbar t) is undersampled and "
-                            "the result aliases. Remedy: reduce the input spacing or add points (x%.2f), choose a "
-                            "coarser output spacing, or fly longer before imaging; see w:grid_advice",
+                            "flight guard: the scaled flight of %g s needs %.2f times the usable output window: "
+                            "the chirp exp(i m x^2 / 2 hbar t) is undersampled and the result aliases. Remedy: "
+                            "reduce the input spacing by x%.2f (more points over the same span); for a short "
+                            "flight use method=\"same-grid\" on a larger grid; see w:grid_advice",
                             t, over, over * 1.1);
     }
     if (returned) {

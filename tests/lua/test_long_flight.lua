@@ -161,5 +161,12 @@ local _, again = wa:fly_long(0.01)
 check.truthy(again.method == "scaled" and again.reason:find("flew back", 1, true) ~= nil, "second long flight returns to the source")
 check.near(wa:position_width(), 2e-6 * math.sqrt(1 + (hbar * 0.03 / (2 * m_he * 4e-12)) ^ 2), 5e-9,
   "width after 20 + 10 ms in two long flights", "textbook width law")
+local wp = pf.wave(gi, {mass = m_he, position = function(x) return math.exp(-x * x / (4 * 4e-12)) end})
+wp:fly_scaled(0.01, {points = 2 * gi:points()})
+local _, rp = wp:fly_long(0.01)
+check.truthy(rp.reason:find("flew back", 1, true) ~= nil and wp:grid():points() == 2 * gi:points(),
+  "a padded scaled flight is continued from its padded source")
+check.near(wp:position_width(), 2e-6 * math.sqrt(1 + (hbar * 0.02 / (2 * m_he * 4e-12)) ^ 2), 5e-9,
+  "width after a padded 10 ms flight continued by 10 ms", "textbook width law")
 pf.setup{strict = false}
 check.done()
