@@ -14,6 +14,7 @@ static const pfl_opener openers[] = {
     pfl_open_wave,
     pfl_open_flight,
     pfl_open_observe,
+    pfl_open_params,
 };
 
 int luaopen_psiflight(lua_State *L)

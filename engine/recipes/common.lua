@@ -1,0 +1,37 @@
+-- common.lua - helpers shared by the bundled recipes: physical constants,
+-- parameter-table merging, result printing and reporting.
+local pf = require "psiflight"
+local common = {}
+
+-- CODATA 2018 (h and e exact since the 2019 SI), atomic mass constant u.
+common.h = 6.62607015e-34
+common.hbar = common.h / (2 * math.pi)
+common.u = 1.66053906660e-27
+common.g = 9.80665 -- standard acceleration of gravity (CGPM 1901, exact)
+
+-- Merges parameter declaration tables (later ones win), so a script can
+-- declare a recipe's parameters together with its own in one pf.parameters.
+function common.merge(...)
+  local out = {}
+  for _, t in ipairs{...} do
+    for k, v in pairs(t) do out[k] = v end
+  end
+  return out
+end
+
+-- Reports a scalar result: pf.report when the engine has it (the run
+-- manifest then carries it), and always one stable "result" line on stdout.
+function common.report(name, value, unit)
+  if pf.report then pf.report(name, value, unit) end
+  print(string.format("result %-28s %.12g %s", name, value, unit or ""))
+end
+
+-- Sorted keys of a table, for deterministic output.
+function common.sorted_keys(t)
+  local keys = {}
+  for k in pairs(t) do keys[#keys + 1] = k end
+  table.sort(keys)
+  return keys
+end
+
+return common
