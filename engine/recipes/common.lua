@@ -26,6 +26,27 @@ function common.report(name, value, unit)
   print(string.format("result %-28s %.12g %s", name, value, unit or ""))
 end
 
+-- Smallest power of two >= n and >= least (default 16: FFT sizes).
+function common.pow2(n, least)
+  local p = least or 16
+  while p < n do p = p * 2 end
+  return p
+end
+
+-- Probability in [a, b) of a 1D wave: sum of density times spacing over the
+-- grid points inside (the grid's own quadrature, exact for the discrete state).
+function common.probability_between(w, a, b)
+  local g = w:grid()
+  local xs = g:x_axis(1)
+  local rho = w:density()
+  local dx = g:spacing(1)
+  local sum = 0
+  for i = 1, #xs do
+    if xs[i] >= a and xs[i] < b then sum = sum + rho[i] end
+  end
+  return sum * dx
+end
+
 -- Sorted keys of a table, for deterministic output.
 function common.sorted_keys(t)
   local keys = {}

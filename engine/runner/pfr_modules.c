@@ -9,6 +9,7 @@
 #include <unistd.h>
 #include <lauxlib.h>
 #include "pfr_modules.h"
+#include "pfr_sandbox.h"
 
 const pfr_bundled_recipe *pfr_recipe_find(const char *name)
 {
@@ -142,7 +143,10 @@ void pfr_modules_install(lua_State *L, const char *script_dir, int sandboxed)
     lua_rawseti(L, searchers, 2);
     lua_pushcfunction(L, search_bundled);
     lua_rawseti(L, searchers, 3);
-    if (!sandboxed) {
+    if (sandboxed) {
+        lua_pushcfunction(L, pfr_sandbox_native_searcher);
+        lua_rawseti(L, searchers, 4);
+    } else {
         for (lua_Integer i = 2; i <= (lua_Integer)lua_rawlen(L, old); i++) {
             lua_rawgeti(L, old, i);
             lua_rawseti(L, searchers, i + 2);

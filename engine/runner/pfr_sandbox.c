@@ -6,7 +6,9 @@
  * the file policy allows, or switch off the time limit (debug.sethook).  Each
  * such function stays in place as a refusal, so the error names the operation
  * and the script line instead of "attempt to call a nil value". */
+#include <stdio.h>
 #include <string.h>
+#include <unistd.h>
 #include <lauxlib.h>
 #include <lualib.h>
 #include "../lua/pfl.h"
@@ -85,6 +87,8 @@ static int os_rename_checked(lua_State *L)
 static int load_text_only(lua_State *L)
 {
     lua_settop(L, 4);
+    if (lua_type(L, 1) == LUA_TSTRING && strncmp(lua_tostring(L, 1), LUA_SIGNATURE, strlen(LUA_SIGNATURE)) == 0)
+        return pfl_error(L, PFL_ERROR_SANDBOX, "load of a binary (precompiled) chunk is not allowed in the sandbox");
     if (!lua_isnil(L, 3) && strcmp(luaL_checkstring(L, 3), "t") != 0 && !strchr(lua_tostring(L, 3), 't'))
         return pfl_error(L, PFL_ERROR_SANDBOX, "load of binary chunks is not allowed in the sandbox (mode '%s')",
                          lua_tostring(L, 3));
@@ -153,6 +157,10 @@ void pfr_sandbox_open_libs(lua_State *L, int sandboxed)
     int pkg = lua_gettop(L);
     set_refusal(L, pkg, "package", "loadlib", "it loads native code");
     set_refusal(L, pkg, "package", "searchpath", "it probes files outside the allowed folders");
+    /* The C module path is kept aside: require names a native module that
+     * exists there with a sandbox refusal instead of "not found". */
+    lua_getfield(L, pkg, "cpath");
+    lua_setfield(L, LUA_REGISTRYINDEX, PFR_SANDBOX_CPATH_KEY);
     lua_pushliteral(L, "");
     lua_setfield(L, pkg, "cpath");
 
@@ -166,6 +174,37 @@ void pfr_sandbox_open_libs(lua_State *L, int sandboxed)
                                                 "upvaluejoin", "setcstacklimit", NULL};
     for (int i = 0; debug_refused[i]; i++) set_refusal(L, dbg, "debug", debug_refused[i], "it can undo the sandbox");
     lua_settop(L, g - 1);
+}
+
+int pfr_sandbox_native_searcher(lua_State *L)
+{
+    const char *name = luaL_checkstring(L, 1);
+    lua_getfield(L, LUA_REGISTRYINDEX, PFR_SANDBOX_CPATH_KEY);
+    const char *cpath = lua_tostring(L, -1);
+    char rel[512];
+    snprintf(rel, sizeof rel, "%s", name);
+    for (char *p = rel; *p; p++)
+        if (*p == '.') *p = '/';
+    while (cpath && *cpath) {
+        const char *semi = strchr(cpath, ';');
+        size_t len = semi ? (size_t)(semi - cpath) : strlen(cpath);
+        char tmpl[1024], path[2048];
+        if (len < sizeof tmpl) {
+            memcpy(tmpl, cpath, len);
+            tmpl[len] = 0;
+            char *q = strchr(tmpl, '?');
+            if (q) {
+                *q = 0;
+                snprintf(path, sizeof path, "%s%s%s", tmpl, rel, q + 1);
+                if (access(path, F_OK) == 0)
+                    return pfl_error(L, PFL_ERROR_SANDBOX, "require '%s' would load native code (%s), which is not "
+                                     "allowed in the sandbox; a script you trust can be run with --trusted", name, path);
+            }
+        }
+        cpath = semi ? semi + 1 : NULL;
+    }
+    lua_pushfstring(L, "\n\tno Lua module '%s' (native modules are not loaded in the sandbox)", name);
+    return 1;
 }
 
 /* Upvalue 1: original setup; upvalue 2: engine cap (number). */

@@ -18,4 +18,10 @@ void pfr_sandbox_open_libs(lua_State *L, int sandboxed);
  * function of the module table at mod. */
 void pfr_sandbox_guard_setup(lua_State *L, int mod, size_t engine_cap);
 
+/* Registry field holding package.cpath as it was before the sandbox. */
+#define PFR_SANDBOX_CPATH_KEY "psiflight.sandbox.cpath"
+/* Last searcher of a sandboxed run: a module that exists only as native code
+ * on the original package.cpath raises a sandbox error naming the file. */
+int pfr_sandbox_native_searcher(lua_State *L);
+
 #endif
