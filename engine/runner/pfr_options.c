@@ -18,7 +18,8 @@ void pfr_usage(FILE *f)
           "run options: --set NAME=VALUE  --seed N  --out DIR  --data PATH  --threads N  --strict\n"
           "             --planning measure|estimate  --wisdom PATH|off  --trusted\n"
           "             --time-limit SECONDS  --memory-cap BYTES (e.g. 512MiB)\n"
-          "Exit status: 0 ok, 1 script error, 2 usage, 3 guard (strict), 4 sandbox, 5 resource limit.\n"
+          "Exit status: 0 ok, 1 script error, 2 usage, 3 guard (strict), 4 sandbox, 5 resource limit,\n"
+          "             6 some sweep points failed.\n"
           "See docs/runner.md.\n",
           f);
 }

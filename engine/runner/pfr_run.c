@@ -48,8 +48,7 @@ int pfr_script_digest(const char *script, char hex[65])
     return 0;
 }
 
-/* mkdir -p; returns 0 or -1 with errno set. */
-static int make_folders(const char *path)
+int pfr_make_folders(const char *path)
 {
     char buf[PATH_MAX];
     if (snprintf(buf, sizeof buf, "%s", path) >= (int)sizeof buf) return errno = ENAMETOOLONG, -1;
@@ -228,7 +227,7 @@ int pfr_run_script(const pfr_options *o)
         snprintf(label, sizeof label, "%s", o->script);
     }
     if (recipe) pfr_script_digest(o->script, digest);
-    if (o->out && make_folders(o->out) != 0)
+    if (o->out && pfr_make_folders(o->out) != 0)
         return pfr_usage_error("cannot create the output folder %s: %s", o->out, strerror(errno));
     pfr_limits lim;
     memset(&lim, 0, sizeof lim);

@@ -16,4 +16,7 @@ int pfr_run_script(const pfr_options *o);
  * Returns 0, or -1 when it cannot be read. */
 int pfr_script_digest(const char *script, char hex[65]);
 
+/* mkdir -p path.  Returns 0, or -1 with errno set. */
+int pfr_make_folders(const char *path);
+
 #endif

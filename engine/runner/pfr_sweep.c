@@ -226,9 +226,10 @@ static void run_points(sweep *s, const pfr_mpi *mpi)
             describe_point(s, i, desc, sizeof desc);
             point_folder(s, i, folder, sizeof folder);
             if (s->status[i]) first_error_line(folder, why, sizeof why);
-            fprintf(stderr, "psiflight sweep:%s point %zu (%zu/%zu) %s%s%s (exit %d) %s\n", mpi->size > 1 ? " rank" : "",
-                    i, done, mine, desc, desc[0] ? ": " : "", s->status[i] ? "failed" : "ok", s->status[i],
-                    why);
+            char rank[32] = "";
+            if (mpi->size > 1) snprintf(rank, sizeof rank, " rank %d:", mpi->rank);
+            fprintf(stderr, "psiflight sweep:%s point %zu (%zu/%zu) %s%s%s (exit %d)%s%s\n", rank, i, done, mine, desc,
+                    desc[0] ? ": " : "", s->status[i] ? "failed" : "ok", s->status[i], why[0] ? " " : "", why);
         }
     }
     free(pids);
@@ -381,7 +382,7 @@ int pfr_sweep_main(const pfr_options *o, const char *argv0)
     ssize_t len = readlink("/proc/self/exe", s.self, sizeof s.self - 1);
     if (len > 0) s.self[len] = 0;
     else snprintf(s.self, sizeof s.self, "%s", argv0);
-    if (st == PFR_EXIT_OK && make_folder(o->out) != 0)
+    if (st == PFR_EXIT_OK && pfr_make_folders(o->out) != 0)
         st = pfr_usage_error("cannot create the sweep folder %s: %s", o->out, strerror(errno));
     if (st != PFR_EXIT_OK) {
         pfr_plan_free(&s.plan);
@@ -407,17 +408,14 @@ int pfr_sweep_main(const pfr_options *o, const char *argv0)
         }
     }
     run_points(&s, &mpi);
-    int counts[1] = {(int)resumed};
-    pfr_mpi_max(&mpi, s.status, (int)n);
-    /* The number resumed is summed by reducing per-rank maxima would lose it;
-     * it only feeds the summary line, so rank 0 reports its own. */
-    (void)counts;
+    pfr_mpi_max(&mpi, s.status, (int)n); /* every rank now knows every status */
     size_t failed = 0;
     for (size_t i = 0; i < n; i++) failed += s.status[i] != 0;
     if (mpi.rank == 0) {
         if (write_table(&s) != 0) st = PFR_EXIT_POINTS;
         printf("sweep: %zu points, %zu failed; table %s/%s\n", n, failed, o->out, PFR_SWEEP_TABLE);
-        if (resumed) fprintf(stderr, "psiflight sweep: %zu points resumed from matching manifests\n", resumed);
+        if (resumed) fprintf(stderr, "psiflight sweep: %zu points resumed from matching manifests%s\n", resumed,
+                             mpi.size > 1 ? " (rank 0's share)" : "");
         for (size_t i = 0; i < n; i++) {
             if (!s.status[i]) continue;
             char folder[PATH_MAX], why[1024];
