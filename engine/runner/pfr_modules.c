@@ -8,6 +8,7 @@
 #include <string.h>
 #include <unistd.h>
 #include <lauxlib.h>
+#include "../lua/pfl.h"
 #include "pfr_modules.h"
 #include "pfr_sandbox.h"
 
@@ -67,11 +68,9 @@ static int search_folders(lua_State *L)
             }
             int ok = inside(real, dir);
             free(real);
-            if (!ok) {
-                lua_pushfstring(L, "\n\tskipped '%s': it is a link that leaves %s", path, dir);
-                luaL_addvalue(&tried);
-                continue;
-            }
+            if (!ok && mode) /* sandboxed */
+                return pfl_error(L, PFL_ERROR_SANDBOX, "require '%s': sandbox refused to load %s: it is a symbolic "
+                                 "link that leaves the module folder %s", name, path, dir);
             if (luaL_loadfilex(L, path, mode) != LUA_OK)
                 return luaL_error(L, "error loading module '%s' from file '%s':\n\t%s", name, path, lua_tostring(L, -1));
             lua_pushstring(L, path);

@@ -13,8 +13,8 @@
 /* Installs the module searchers: preloaded modules, then NAME.lua or
  * NAME/init.lua (dots become folders) in script_dir (NULL: none) and in each
  * folder of $PSIFLIGHT_RECIPE_PATH, then the bundled recipe library.  Only
- * Lua source text is loaded, and a file whose resolved path leaves its
- * folder (a symbolic link out) is skipped.  Sandboxed runs get no other
+ * Lua source text is loaded in the sandbox, and a file whose resolved path
+ * leaves its folder (a symbolic link out) is refused there.  Sandboxed runs get no other
  * searcher; trusted runs keep Lua's package.path/cpath searchers after ours. */
 void pfr_modules_install(lua_State *L, const char *script_dir, int sandboxed);
 /* The bundled recipe of that name (without prefix), or NULL. */
