@@ -30,12 +30,13 @@ int pfr_traceback(lua_State *L)
         }
         if (shown == 0) luaL_addstring(&b, PFR_TRACEBACK_MARK);
         char line[400];
-        const char *where;
-        if (strcmp(ar.what, "main") == 0) where = "main chunk";
-        else if (ar.name) where = ar.name;
-        else where = "function";
-        snprintf(line, sizeof line, "\n    %s:%d: in %s%s%s", ar.short_src, ar.currentline,
-                 ar.name ? "'" : "", where, ar.name ? "'" : "");
+        if (strcmp(ar.what, "main") == 0)
+            snprintf(line, sizeof line, "\n    %s:%d: in main chunk", ar.short_src, ar.currentline);
+        else if (ar.name)
+            snprintf(line, sizeof line, "\n    %s:%d: in function '%s'", ar.short_src, ar.currentline, ar.name);
+        else
+            snprintf(line, sizeof line, "\n    %s:%d: in a function defined at line %d", ar.short_src, ar.currentline,
+                     ar.linedefined);
         luaL_addstring(&b, line);
         if (ar.istailcall) luaL_addstring(&b, "\n    (...tail calls...)");
         shown++;
