@@ -5,7 +5,7 @@
 -- freely for the time of flight and is imaged along the third axis: the 2D
 -- density is binned into square camera pixels and scaled to an atom number.
 -- Results: the cloud widths seen on the camera (second moments of the pixel
--- counts with Sheppard's correction for binning, pixel^2 / 12), the textbook
+-- counts with Sheppard's correction for binning), the textbook
 -- widths sigma(t) = sigma0 sqrt(1 + (hbar t / 2 m sigma0^2)^2), the aspect
 -- ratio and the brightest pixel.
 --
@@ -50,19 +50,18 @@ local function axis_grid(mass, s0, t, pixel, max_points)
     error(string.format("tof_image: needs %d grid points per axis (span %.3g m, spacing <= %.3g m); "
       .. "raise max_points or shorten tof", n, span, dx_max), 0)
   end
-  return n, span
+  return n, span, per_pixel
 end
 
--- Bins a 2D density into pixels; returns the image (rows of atom counts),
--- its size and the pixel centres.
-local function camera_image(w, pixel, atoms)
+-- Bins a 2D density into pixels of qx x qy grid cells (by index, so no
+-- rounding can move a cell into the neighbouring pixel); returns the image
+-- (rows of atom counts) and its size.
+local function camera_image(w, qx, qy, atoms)
   local g = w:grid()
   local nx, ny = g:points(1), g:points(2)
-  local xs, ys = g:x_axis(1), g:x_axis(2)
   local dA = g:spacing(1) * g:spacing(2)
   local rho = w:density() -- row-major, the last axis fastest: (i - 1) * ny + j
-  local px = math.floor(g:span(1) / pixel + 0.5)
-  local py = math.floor(g:span(2) / pixel + 0.5)
+  local px, py = nx // qx, ny // qy
   local image = {}
   for r = 1, py do
     local row = {}
@@ -70,9 +69,9 @@ local function camera_image(w, pixel, atoms)
     image[r] = row
   end
   for i = 1, nx do
-    local c = math.floor((xs[i] - xs[1]) / pixel) + 1
+    local c = (i - 1) // qx + 1
     for j = 1, ny do
-      local r = math.floor((ys[j] - ys[1]) / pixel) + 1
+      local r = (j - 1) // qy + 1
       local row = image[r]
       row[c] = row[c] + rho[(i - 1) * ny + j] * dA * atoms
     end
@@ -80,8 +79,12 @@ local function camera_image(w, pixel, atoms)
   return image, px, py
 end
 
--- Second moments of the image about its centroid, Sheppard-corrected.
-local function image_widths(image, pixel)
+-- Second moments of the image about its centroid, Sheppard-corrected.  The
+-- grid already holds the density on cells of width dx = pixel / q, and
+-- binning q cells adds (q^2 - 1) / 12 cell widths squared of variance, which
+-- is (pixel^2 - dx^2) / 12: Sheppard's pixel^2 / 12 for the pixel less the
+-- dx^2 / 12 the cells never had.
+local function image_widths(image, pixel, qx, qy)
   local n, sx, sy = 0, 0, 0
   for r, row in ipairs(image) do
     for c, v in ipairs(row) do
@@ -96,16 +99,15 @@ local function image_widths(image, pixel)
       if v > peak then peak = v end
     end
   end
-  -- Sheppard's correction for grouping into bins of width 1 pixel.
-  local wx = math.sqrt(vx / n - 1 / 12) * pixel
-  local wy = math.sqrt(vy / n - 1 / 12) * pixel
+  local wx = math.sqrt(vx / n - (1 - 1 / (qx * qx)) / 12) * pixel
+  local wy = math.sqrt(vy / n - (1 - 1 / (qy * qy)) / 12) * pixel
   return wx, wy, n, peak
 end
 
 function recipe.run(p)
   local s0x, s0y = ground_width(p.mass, p.trap_x), ground_width(p.mass, p.trap_y)
-  local nx, spanx = axis_grid(p.mass, s0x, p.tof, p.pixel, p.max_points)
-  local ny, spany = axis_grid(p.mass, s0y, p.tof, p.pixel, p.max_points)
+  local nx, spanx, qx = axis_grid(p.mass, s0x, p.tof, p.pixel, p.max_points)
+  local ny, spany, qy = axis_grid(p.mass, s0y, p.tof, p.pixel, p.max_points)
   local grid = pf.grid{points = {nx, ny}, span = {spanx, spany}}
   local cloud = pf.wave(grid, {
     mass = p.mass,
@@ -114,8 +116,8 @@ function recipe.run(p)
     end,
   })
   cloud:fly(p.tof)
-  local image, px, py = camera_image(cloud, p.pixel, p.atoms)
-  local wx, wy, total, peak = image_widths(image, p.pixel)
+  local image, px, py = camera_image(cloud, qx, qy, p.atoms)
+  local wx, wy, total, peak = image_widths(image, p.pixel, qx, qy)
   return {
     image = image, pixels = {px, py}, grid = {nx, ny},
     results = {
