@@ -19,6 +19,23 @@ function common.merge(...)
   return out
 end
 
+-- A copy of a parameter declaration with some defaults replaced (values in
+-- each parameter's declared unit, as a person types them), for scripts that
+-- run a recipe in their own scenario.
+function common.with_defaults(decl, defaults)
+  local out = {}
+  for name, spec in pairs(decl) do
+    local copy = {}
+    for k, v in pairs(spec) do copy[k] = v end
+    out[name] = copy
+  end
+  for name, value in pairs(defaults) do
+    if not out[name] then error("with_defaults: no parameter '" .. name .. "' to set a default for", 2) end
+    out[name].default = value
+  end
+  return out
+end
+
 -- Reports a scalar result: pf.report when the engine has it (the run
 -- manifest then carries it), and always one stable "result" line on stdout.
 function common.report(name, value, unit)
