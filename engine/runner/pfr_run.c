@@ -134,8 +134,9 @@ static int prepare(lua_State *L)
                 return luaL_error(L, "--data %s: %s", o->data[i], strerror(errno));
         if (o->out && pfl_files_allow(L, o->out, PFL_ACCESS_WRITE) != 0)
             return luaL_error(L, "--out %s: %s", o->out, strerror(errno));
-        /* A run with neither a script folder nor outputs must still be
-         * confined: allow an empty policy nothing by naming /dev/null. */
+        /* A bundled recipe run without --out or --data has no folder at
+         * all; an empty policy would allow everything, so it gets one
+         * harmless read-only root instead. */
         if (!rs->script_dir && !o->ndata && !o->out) pfl_files_allow(L, "/dev/null", PFL_ACCESS_READ);
     }
     pfr_modules_install(L, rs->script_dir, sandboxed);
