@@ -16,20 +16,27 @@ int pfr_mpi_available(void)
 #endif
 }
 
-void pfr_mpi_start(pfr_mpi *m)
+int pfr_mpi_start(pfr_mpi *m)
 {
     m->rank = 0;
     m->size = 1;
     m->active = 0;
-#ifdef PFR_HAVE_MPI
+#ifndef PFR_HAVE_MPI
+    /* Several copies of a runner without MPI would each run every point
+     * into the same folders. */
+    const char *n = getenv("OMPI_COMM_WORLD_SIZE");
+    if (!n) n = getenv("PMI_SIZE");
+    if (n && atoi(n) > 1) return -1;
+#else
     /* Launched by mpirun?  Calling MPI_Init in a plain shell would start a
      * singleton MPI job: slow, and it fails where no launcher is installed. */
-    if (!getenv("OMPI_COMM_WORLD_SIZE") && !getenv("PMI_SIZE") && !getenv("PMIX_RANK")) return;
-    if (MPI_Init(NULL, NULL) != MPI_SUCCESS) return;
+    if (!getenv("OMPI_COMM_WORLD_SIZE") && !getenv("PMI_SIZE") && !getenv("PMIX_RANK")) return 0;
+    if (MPI_Init(NULL, NULL) != MPI_SUCCESS) return -1;
     m->active = 1;
     MPI_Comm_rank(MPI_COMM_WORLD, &m->rank);
     MPI_Comm_size(MPI_COMM_WORLD, &m->size);
 #endif
+    return 0;
 }
 
 void pfr_mpi_max(pfr_mpi *m, int *values, int n)

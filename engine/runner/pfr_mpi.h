@@ -10,8 +10,10 @@ typedef struct pfr_mpi {
 } pfr_mpi;
 
 /* Starts MPI when the runner was built with it and launched by mpirun (an
- * Open MPI or PMI rank variable is set); otherwise a single rank. */
-void pfr_mpi_start(pfr_mpi *m);
+ * Open MPI or PMI rank variable is set); otherwise a single rank.  Returns
+ * -1 when MPI cannot start, or when a runner built without MPI was launched
+ * as one of several ranks. */
+int pfr_mpi_start(pfr_mpi *m);
 /* Element-wise maximum of values[0..n) over all ranks, in place. */
 void pfr_mpi_max(pfr_mpi *m, int *values, int n);
 void pfr_mpi_finish(pfr_mpi *m);

@@ -165,7 +165,9 @@ static int panic(lua_State *L)
 static int load_script(lua_State *L, const pfr_options *o, const char *recipe)
 {
     if (recipe) {
-        if (luaL_loadbufferx(L, RECIPE_DRIVER, sizeof RECIPE_DRIVER - 1, "=recipe driver", "t") != LUA_OK) return -1;
+        char chunk[256];
+        snprintf(chunk, sizeof chunk, "=%s", o->script); /* shown as recipe:NAME:LINE */
+        if (luaL_loadbufferx(L, RECIPE_DRIVER, sizeof RECIPE_DRIVER - 1, chunk, "t") != LUA_OK) return -1;
         lua_pushstring(L, recipe);
         return 1;
     }

@@ -394,7 +394,13 @@ int pfr_sweep_main(const pfr_options *o, const char *argv0)
     s.status = malloc(n * sizeof *s.status);
     s.resumed = calloc(n, 1);
     pfr_mpi mpi;
-    pfr_mpi_start(&mpi);
+    if (pfr_mpi_start(&mpi) != 0) {
+        free(s.status);
+        free(s.resumed);
+        pfr_plan_free(&s.plan);
+        return pfr_usage_error("launched as one of several MPI ranks, but this runner %s",
+                               pfr_mpi_available() ? "could not start MPI" : "was built without MPI (see docs/runner.md)");
+    }
     size_t resumed = 0;
     for (size_t i = 0; i < n; i++) {
         s.status[i] = -1;
