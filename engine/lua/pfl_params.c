@@ -91,29 +91,53 @@ typedef struct pspec {
     int spec;             /* stack index of the spec table */
 } pspec;
 
-/* Comma-separated sorted names of the declaration at decl, pushed as a string. */
-static const char *push_names(lua_State *L, int decl)
+static int compare_cstrings(const void *a, const void *b)
 {
-    int names = lua_gettop(L) + 1;
-    lua_newtable(L);
+    return strcmp(*(const char *const *)a, *(const char *const *)b);
+}
+
+/* Comma-separated sorted string keys of the table at t, pushed as a string.
+ * Done in C: the script may have replaced the global `table`. */
+static const char *push_names(lua_State *L, int t)
+{
+    t = lua_absindex(L, t);
+    size_t n = 0;
     lua_pushnil(L);
-    while (lua_next(L, decl)) {
+    while (lua_next(L, t)) {
         lua_pop(L, 1);
-        if (lua_type(L, -1) == LUA_TSTRING) {
-            lua_pushvalue(L, -1);
-            lua_rawseti(L, names, (lua_Integer)lua_rawlen(L, names) + 1);
-        }
+        n += lua_type(L, -1) == LUA_TSTRING;
     }
-    lua_getglobal(L, "table");
-    lua_getfield(L, -1, "sort");
-    lua_pushvalue(L, names);
-    lua_call(L, 1, 0);
-    lua_getfield(L, -1, "concat");
-    lua_pushvalue(L, names);
-    lua_pushliteral(L, ", ");
-    lua_call(L, 2, 1);
+    const char **names = lua_newuserdatauv(L, (n ? n : 1) * sizeof *names, 0); /* the keys stay alive in t */
+    size_t k = 0;
+    lua_pushnil(L);
+    while (lua_next(L, t)) {
+        lua_pop(L, 1);
+        if (lua_type(L, -1) == LUA_TSTRING) names[k++] = lua_tostring(L, -1);
+    }
+    qsort(names, n, sizeof *names, compare_cstrings);
+    luaL_Buffer b;
+    luaL_buffinit(L, &b);
+    for (k = 0; k < n; k++) {
+        if (k) luaL_addstring(&b, ", ");
+        luaL_addstring(&b, names[k]);
+    }
+    luaL_pushresult(&b);
     lua_remove(L, -2);
-    lua_remove(L, names);
+    return lua_tostring(L, -1);
+}
+
+/* The strings of the list at t joined by ", ", pushed. */
+static const char *push_joined(lua_State *L, int t)
+{
+    t = lua_absindex(L, t);
+    luaL_Buffer b;
+    luaL_buffinit(L, &b);
+    for (lua_Integer i = 1; i <= (lua_Integer)lua_rawlen(L, t); i++) {
+        if (i > 1) luaL_addstring(&b, ", ");
+        lua_rawgeti(L, t, i);
+        luaL_addvalue(&b);
+    }
+    luaL_pushresult(&b);
     return lua_tostring(L, -1);
 }
 
@@ -251,13 +275,8 @@ static int push_from_text(lua_State *L, const pspec *p, const char *text, char *
                 lua_pop(L, 1);
             }
             if (!found) {
-                lua_getglobal(L, "table");
-                lua_getfield(L, -1, "concat");
-                lua_pushvalue(L, -3);
-                lua_pushliteral(L, ", ");
-                lua_call(L, 2, 1);
-                snprintf(err, errsize, "'%s' must be one of %s, got '%s'", p->name, lua_tostring(L, -1), text);
-                lua_pop(L, 3);
+                snprintf(err, errsize, "'%s' must be one of %s, got '%s'", p->name, push_joined(L, -1), text);
+                lua_pop(L, 2);
                 return -1;
             }
         }

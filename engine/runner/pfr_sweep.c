@@ -42,8 +42,12 @@ static void point_folder(const sweep *s, size_t i, char *buf, size_t size)
     snprintf(buf, size, "%s/point-%0*zu", s->o->out, s->width, i);
 }
 
-/* Two parameter texts mean the same value: equal as typed, or both numbers
- * whose SI values agree (units of the same quantity, or both bare). */
+static int close_enough(double a, double b) { return fabs(a - b) <= 1e-12 * fabs(a); }
+
+/* Two parameter texts mean the same value: equal as typed; or numbers with
+ * units of the same quantity and equal SI values; or, when only one has a
+ * unit, the bare number equals either its number as typed (a bare number is
+ * read in the declared unit) or its SI value (as a manifest may record it). */
 static int same_value(const char *a, const char *b)
 {
     if (strcmp(a, b) == 0) return 1;
@@ -51,10 +55,10 @@ static int same_value(const char *a, const char *b)
     const pfl_unit *ua, *ub;
     char err[200];
     if (pfl_value_parse(a, &va, &ua, err, sizeof err) || pfl_value_parse(b, &vb, &ub, err, sizeof err)) return 0;
-    if ((ua == NULL) != (ub == NULL) || (ua && strcmp(ua->quantity, ub->quantity) != 0)) return 0;
-    va *= ua ? ua->si : 1.0;
-    vb *= ub ? ub->si : 1.0;
-    return fabs(va - vb) <= 1e-12 * fabs(va);
+    if (ua && ub) return strcmp(ua->quantity, ub->quantity) == 0 && close_enough(va * ua->si, vb * ub->si);
+    if (!ua && !ub) return close_enough(va, vb);
+    if (ua) return close_enough(vb, va) || close_enough(vb, va * ua->si);
+    return close_enough(va, vb) || close_enough(va, vb * ub->si);
 }
 
 /* A point is done when its manifest says ok for the same script, seed and

@@ -66,4 +66,17 @@ pf.parameters{ x = {default = 1} }
 LUA
 expect 1 "every parameter needs help text" -- "$runner" run "$work/nohelp.lua"
 has "needs a one-line help" "says what is missing"
+cat >"$work/twice.lua" <<'LUA'
+local pf = require "psiflight"
+pf.parameters{ a = {default = 1, help = "first"} }
+pf.parameters{ b = {default = 2, help = "second"} }
+LUA
+expect 1 "parameters are declared once" -- "$runner" run "$work/twice.lua"
+has "already declared at" "says where they were declared"
+cat >"$work/legacy.lua" <<'LUA'
+local pf = require "psiflight"
+print("legacy tof_ms=" .. tostring(pf.params.tof_ms) .. " " .. math.type(pf.params.tof_ms))
+LUA
+expect 0 "scripts without a declaration still see --set in pf.params" -- "$runner" run "$work/legacy.lua" --set tof_ms=5
+has "legacy tof_ms=5 integer" "raw --set value converted to a number"
 done_checks
