@@ -43,6 +43,10 @@ static double now(void)
     return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
 }
 
+/* Set once the hook has raised the time-limit error, for the alarm handler's
+ * message (a signal handler can only read such a flag). */
+static volatile sig_atomic_t limit_raised;
+
 static void time_hook(lua_State *L, lua_Debug *ar)
 {
     void *ud;
@@ -50,6 +54,7 @@ static void time_hook(lua_State *L, lua_Debug *ar)
     pfr_limits *lim = ud;
     if (!lim->deadline || now() < lim->deadline) return;
     lim->time_hit = 1;
+    limit_raised = 1;
     lua_getinfo(L, "Sl", ar);
     pfl_error(L, PFL_ERROR_LIMIT, "time limit of %g s reached while running %s:%d (--time-limit)", lim->seconds,
               ar->short_src, ar->currentline);
@@ -57,9 +62,11 @@ static void time_hook(lua_State *L, lua_Debug *ar)
 
 static void on_alarm(int sig)
 {
-    static const char msg[] = "psiflight: time limit reached inside an engine call; run stopped (--time-limit)\n";
+    static const char in_engine[] = "psiflight: time limit reached inside an engine call; run stopped (--time-limit)\n";
+    static const char caught[] = "psiflight: time limit reached and the script kept running (it catches the "
+                                 "error with pcall); run stopped (--time-limit)\n";
     (void)sig;
-    ssize_t r = write(2, msg, sizeof msg - 1);
+    ssize_t r = limit_raised ? write(2, caught, sizeof caught - 1) : write(2, in_engine, sizeof in_engine - 1);
     (void)r;
     _exit(PFR_EXIT_LIMIT);
 }

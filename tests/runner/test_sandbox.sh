@@ -33,6 +33,9 @@ has "memory limit" "says it is the memory limit"
 expect 5 "engine allocation beyond the engine cap" -- run --set escape=engine_allocate --memory-cap 64MiB
 expect 5 "endless loop stopped by the time limit" -- run --set escape=loop --time-limit 1s
 has "time limit of 1 s reached while running $rec/hostile.lua:$(line_of loop)" "names the time limit and the line"
+expect 5 "a loop inside a coroutine is stopped too" -- run --set escape=loop_in_coroutine --time-limit 0.3s
+expect 5 "a loop that catches the time-limit error is stopped by the alarm" -- run --set escape=loop_catching --time-limit 0.3s
+has "kept running" "says the script caught the error"
 expect 0 "writing into the output folder is allowed" -- run --set escape=write_output
 [ "$(cat "$work/out/result.txt")" = "fine" ] && ok "the output file was written"
 expect 0 "reading the script's own folder is allowed" -- run --set escape=read_own_folder

@@ -33,6 +33,8 @@ local tries = {
     pf.wave(g, {mass = 1e-26, position = function() return 1 end})
   end,
   loop = function() local n = 0 while true do n = n + 1 end end,
+  loop_in_coroutine = function() coroutine.wrap(function() while true do end end)() end,
+  loop_catching = function() while true do pcall(function() while true do end end) end end,
   -- allowed operations, for contrast
   write_output = function()
     local f = assert(io.open(p.out .. "/result.txt", "w")); f:write("fine\n"); f:close(); print("wrote output")
