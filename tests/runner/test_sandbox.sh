@@ -31,8 +31,8 @@ has "resolves to $work/secret.txt" "says where the link leads"
 expect 5 "unbounded Lua allocation hits the heap cap" -- run --set escape=allocate --memory-cap 64MiB
 has "memory limit" "says it is the memory limit"
 expect 5 "engine allocation beyond the engine cap" -- run --set escape=engine_allocate --memory-cap 64MiB
-expect 5 "endless loop stopped by the time limit" -- run --set escape=loop --time-limit 1s
-has "time limit of 1 s reached while running $rec/hostile.lua:$(line_of loop)" "names the time limit and the line"
+expect 5 "endless loop stopped by the time limit" -- run --set escape=loop --time-limit 0.5s
+has "time limit of 0.5 s reached while running $rec/hostile.lua:$(line_of loop)" "names the time limit and the line"
 expect 5 "a loop inside a coroutine is stopped too" -- run --set escape=loop_in_coroutine --time-limit 0.3s
 expect 5 "a loop that catches the time-limit error is stopped by the alarm" -- run --set escape=loop_catching --time-limit 0.3s
 has "kept running" "says the script caught the error"
