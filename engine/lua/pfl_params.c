@@ -240,19 +240,17 @@ static int push_from_text(lua_State *L, const pspec *p, const char *text, char *
         lua_pushnumber(L, num);
         return 0;
     case P_INTEGER: {
-        size_t got = lua_stringtonumber(L, text);
-        if (got == 0 || !lua_isinteger(L, -1)) {
-            if (got) lua_pop(L, 1);
+        /* The same decimal rule as numbers (no hex), and a whole value. */
+        if (pfl_value_parse(text, &num, &u, err, errsize) != 0 || u || num != floor(num) || fabs(num) > 9007199254740992.0) {
             snprintf(err, errsize, "'%s' takes an integer, got '%s'", p->name, text);
             return -1;
         }
-        lua_Integer n = lua_tointeger(L, -1);
-        if ((p->has_min && (double)n < p->min) || (p->has_max && (double)n > p->max)) {
-            lua_pop(L, 1);
+        if ((p->has_min && num < p->min) || (p->has_max && num > p->max)) {
             snprintf(err, errsize, "'%s' is outside the allowed range %.10g..%.10g", text,
                      p->has_min ? p->min : -HUGE_VAL, p->has_max ? p->max : HUGE_VAL);
             return -1;
         }
+        lua_pushinteger(L, (lua_Integer)num);
         return 0;
     }
     case P_BOOLEAN: {
@@ -376,6 +374,8 @@ static int l_parameters(lua_State *L)
         n++;
     }
     if (n > 1000) return luaL_error(L, "parameters: %d parameters is too many", n);
+    /* Each parameter keeps its name and spec on the stack while we work. */
+    luaL_checkstack(L, 2 * n + 32, "parameters: too many parameters");
     pspec *ps = lua_newuserdatauv(L, sizeof *ps * (size_t)(n ? n : 1), 0); /* freed by Lua */
     int specs = lua_gettop(L) + 1;
     lua_createtable(L, n, 0); /* keeps spec tables and names alive at fixed indices */
