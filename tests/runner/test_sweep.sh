@@ -31,6 +31,16 @@ print((require "psiflight").script.sha256)
 LUA
 expect 0 "script digest" -- "$runner" run "$work/digest.lua"
 [ "$out" = "$(sha256sum "$work/digest.lua" | cut -d' ' -f1)" ] && ok "pf.script.sha256 equals sha256sum"
+# Lengths around the 64-byte block and the 56-byte padding boundary, and a
+# multi-block file (FIPS 180-4 padding cases).
+base=$(wc -c <"$work/digest.lua")
+for len in 55 56 63 64 65 119 120 1000 5000; do
+  f="$work/digest_$len.lua"
+  { cat "$work/digest.lua"; printf -- '--'; head -c $((len - base - 3)) /dev/zero | tr '\0' 'x'; printf '\n'; } >"$f"
+  [ "$(wc -c <"$f")" -eq "$len" ] || fail "test file of $len bytes"
+  [ "$("$runner" run "$f")" = "$(sha256sum "$f" | cut -d' ' -f1)" ] || fail "sha256 of a $len-byte script"
+done
+ok "pf.script.sha256 equals sha256sum for 55..5000-byte scripts"
 
 expect 0 "2D sweep of 12 points with -j 2" -- "$runner" sweep "$point" "${vary[@]}" --seed 7 -j 2 --out "$work/A"
 tableA="$work/A/sweep.csv"
