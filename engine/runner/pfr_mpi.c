@@ -55,3 +55,13 @@ void pfr_mpi_finish(pfr_mpi *m)
 #endif
     m->active = 0;
 }
+
+void pfr_mpi_abort(pfr_mpi *m, int status)
+{
+#ifdef PFR_HAVE_MPI
+    if (m->active) MPI_Abort(MPI_COMM_WORLD, status);
+#else
+    (void)status;
+#endif
+    m->active = 0;
+}

@@ -17,6 +17,8 @@ int pfr_mpi_start(pfr_mpi *m);
 /* Element-wise maximum of values[0..n) over all ranks, in place. */
 void pfr_mpi_max(pfr_mpi *m, int *values, int n);
 void pfr_mpi_finish(pfr_mpi *m);
+/* Ends every rank with this status (a stopped sweep); returns without MPI. */
+void pfr_mpi_abort(pfr_mpi *m, int status);
 /* 1 when this runner was built with MPI. */
 int pfr_mpi_available(void);
 

@@ -15,6 +15,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <signal.h>
 #include <sys/stat.h>
 #include <sys/wait.h>
 #include <unistd.h>
@@ -183,8 +184,27 @@ static void first_error_line(const char *folder, char *buf, size_t size)
     fclose(f);
 }
 
-/* Runs this rank's pending points, at most o->jobs at a time. */
-static void run_points(sweep *s, const pfr_mpi *mpi)
+/* The signal that asked the sweep to stop (SIGINT, SIGTERM, SIGHUP), or 0.
+ * A handler can only set such a flag; the loop below acts on it. */
+static volatile sig_atomic_t stop_signal;
+
+static void on_stop(int sig) { stop_signal = sig; }
+
+static void catch_stop_signals(void)
+{
+    struct sigaction sa;
+    memset(&sa, 0, sizeof sa);
+    sa.sa_handler = on_stop; /* no SA_RESTART: wait() returns with EINTR */
+    sigaction(SIGINT, &sa, NULL);
+    sigaction(SIGTERM, &sa, NULL);
+    sigaction(SIGHUP, &sa, NULL);
+}
+
+/* Runs this rank's pending points, at most o->jobs at a time.  Returns 0, or
+ * the signal number when the sweep was asked to stop: then every running
+ * point has been stopped with that signal and waited for, so no point keeps
+ * writing after the sweep has gone. */
+static int run_points(sweep *s, const pfr_mpi *mpi)
 {
     size_t n = s->plan.npoints;
     pid_t *pids = calloc((size_t)s->o->jobs, sizeof *pids);
@@ -193,7 +213,13 @@ static void run_points(sweep *s, const pfr_mpi *mpi)
     size_t next = 0, done = 0, mine = 0;
     for (size_t i = 0; i < n; i++) mine += (int)(i % (size_t)mpi->size) == mpi->rank && !s->resumed[i];
     for (;;) {
-        while (running < s->o->jobs) {
+        if (stop_signal) {
+            for (int k = 0; k < s->o->jobs; k++)
+                if (pids[k]) kill(pids[k], (int)stop_signal);
+            while (running > 0 && wait(NULL) > 0) running--;
+            break;
+        }
+        while (running < s->o->jobs && !stop_signal) {
             while (next < n && ((int)(next % (size_t)mpi->size) != mpi->rank || s->resumed[next])) next++;
             if (next == n) break;
             pid_t pid = start_point(s, next);
@@ -238,6 +264,7 @@ static void run_points(sweep *s, const pfr_mpi *mpi)
     }
     free(pids);
     free(which);
+    return (int)stop_signal;
 }
 
 /* A CSV cell: quoted when it holds a comma, quote or newline. */
@@ -417,7 +444,17 @@ int pfr_sweep_main(const pfr_options *o, const char *argv0)
             resumed++;
         }
     }
-    run_points(&s, &mpi);
+    catch_stop_signals();
+    int sig = run_points(&s, &mpi);
+    if (sig) {
+        fprintf(stderr, "psiflight sweep: stopped by signal %d; the finished points are kept - run the same command "
+                        "again to resume\n", sig);
+        pfr_mpi_abort(&mpi, 128 + sig);
+        free(s.status);
+        free(s.resumed);
+        pfr_plan_free(&s.plan);
+        return 128 + sig;
+    }
     pfr_mpi_max(&mpi, s.status, (int)n); /* every rank now knows every status */
     size_t failed = 0;
     for (size_t i = 0; i < n; i++) failed += s.status[i] != 0;

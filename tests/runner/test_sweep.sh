@@ -107,6 +107,22 @@ done_before=$(ls "$work"/D/point-*/manifest.json 2>/dev/null | wc -l)
 expect 0 "resumed sweep" -- "$runner" sweep "$point" "${vary[@]}" --seed 7 -j 2 --set dwell=0.1 --out "$work/D"
 has "$done_before points resumed" "the finished points were skipped"
 cmp -s "$tableA" "$work/D/sweep.csv" && ok "resumed sweep gives the same table"
+# SIGTERM to the sweep alone (as a batch system sends it): the running points
+# are stopped too, and the sweep says how to resume.
+"$runner" sweep "$point" "${vary[@]}" --seed 7 -j 2 --set dwell=0.3 --out "$work/H" >"$work/H.log" 2>&1 &
+pid=$!
+for _ in $(seq 1 300); do
+  [ "$(ls "$work"/H/point-*/manifest.json 2>/dev/null | wc -l)" -ge 2 ] && break
+  sleep 0.05
+done
+kill -TERM "$pid"
+set +e; wait "$pid"; rc=$?; set -e
+[ "$rc" -eq 143 ] && ok "a terminated sweep exits 128 + SIGTERM" || fail "terminated sweep exit $rc: $(cat "$work/H.log")"
+grep -q "run the same command again to resume" "$work/H.log" && ok "it says how to resume"
+n1=$(ls "$work"/H/point-*/manifest.json | wc -l); sleep 1; n2=$(ls "$work"/H/point-*/manifest.json | wc -l)
+[ "$n1" -eq "$n2" ] && [ "$n1" -lt 12 ] && ok "no point kept running after the sweep stopped ($n1 done)"
+expect 0 "resumed after SIGTERM" -- "$runner" sweep "$point" "${vary[@]}" --seed 7 -j 2 --set dwell=0.3 --out "$work/H"
+cmp -s "$tableA" "$work/H/sweep.csv" && ok "same table after SIGTERM and resume"
 expect 0 "a changed seed reruns every point" -- "$runner" sweep "$point" "${vary[@]}" --seed 8 -j 2 --out "$work/A"
 case "$err" in *resumed*) fail "points resumed despite a new seed";; *) ok "no point resumed";; esac
 
