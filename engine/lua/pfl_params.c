@@ -305,7 +305,8 @@ static const char *push_default_text(lua_State *L, const pspec *p)
     return lua_tostring(L, -1);
 }
 
-/* A short form of a default for the help listing: "18 ms", "256". */
+/* Prints the --help listing: one line per parameter, sorted by name, with its
+ * default as typed, help text, quantity and unit (or type), range, choices. */
 static void print_listing(lua_State *L, const char *label, pspec *ps, int n)
 {
     size_t wname = 4, wdef = 7;
