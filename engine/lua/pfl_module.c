@@ -19,6 +19,7 @@ static const pfl_opener openers[] = {
     pfl_open_algebra,
     pfl_open_guard,
     pfl_open_longflight,
+    pfl_open_params,
 };
 
 int luaopen_psiflight(lua_State *L)
