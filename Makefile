@@ -34,16 +34,24 @@ TEST_PC     ?= gsl libcerf
 TEST_CFLAGS := $(shell pkg-config --cflags $(TEST_PC) 2>/dev/null)
 TEST_LIBS   := $(shell pkg-config --libs $(TEST_PC) 2>/dev/null)
 
+# Output layer (engine/io): HDF5 serial, PLplot, cJSON.  Only engine/io sees
+# their headers; the core library stays free of them.
+IO_PC     ?= hdf5-serial plplot libcjson
+IO_CFLAGS := $(shell pkg-config --cflags $(IO_PC) 2>/dev/null)
+IO_LIBS   := $(shell pkg-config --libs $(IO_PC) 2>/dev/null)
+
 ALL_CFLAGS = $(CFLAGS_BASE) $(CFLAGS) $(SAN)
 CORE_LIBS  = $(FFTW_LIBS) -lm -fopenmp $(SAN)
 
 CORE_SRC   := $(sort $(wildcard engine/core/*.c))
+IO_SRC     := $(sort $(wildcard engine/io/*.c))
 LUA_SRC    := $(sort $(wildcard engine/lua/*.c))
 RUNNER_SRC := $(sort $(wildcard engine/runner/*.c))
 UNIT_SRC   := $(sort $(wildcard tests/unit/test_*.c))
 UNIT_HELP  := $(filter-out $(UNIT_SRC),$(sort $(wildcard tests/unit/*.c)))
 
 CORE_OBJ   := $(CORE_SRC:%.c=$(BUILD)/%.o)
+IO_OBJ     := $(IO_SRC:%.c=$(BUILD)/%.o)
 LUA_OBJ    := $(LUA_SRC:%.c=$(BUILD)/%.o)
 RUNNER_OBJ := $(RUNNER_SRC:%.c=$(BUILD)/%.o)
 UNIT_BIN   := $(UNIT_SRC:tests/unit/%.c=$(BUILD)/tests/%)
@@ -52,6 +60,7 @@ UNIT_HELP_OBJ := $(UNIT_HELP:%.c=$(BUILD)/%.o)
 RUNNER := $(BUILD)/psiflight
 MODULE := $(BUILD)/psiflight.so
 CORE_LIB := $(BUILD)/libpsiflight-core.a
+IO_LIB   := $(BUILD)/libpsiflight-io.a
 
 .PHONY: all deps build test demo bench asan clean unit-tests lua-tests ref-tests
 .DEFAULT_GOAL := all
@@ -66,12 +75,16 @@ $(BUILD)/engine/core/%.o: engine/core/%.c $(wildcard engine/core/*.h)
 	@mkdir -p $(dir $@)
 	$(CC) $(ALL_CFLAGS) $(FFTW_CFLAGS) -c $< -o $@
 
+$(BUILD)/engine/io/%.o: engine/io/%.c $(wildcard engine/io/*.h engine/core/*.h)
+	@mkdir -p $(dir $@)
+	$(CC) $(ALL_CFLAGS) $(IO_CFLAGS) $(FFTW_CFLAGS) -c $< -o $@
+
 # The core must not see Lua: it is compiled without the Lua include path.
-$(BUILD)/engine/lua/%.o: engine/lua/%.c $(wildcard engine/lua/*.h engine/core/*.h)
+$(BUILD)/engine/lua/%.o: engine/lua/%.c $(wildcard engine/lua/*.h engine/core/*.h engine/io/*.h)
 	@mkdir -p $(dir $@)
 	$(CC) $(ALL_CFLAGS) $(LUA_CFLAGS) $(FFTW_CFLAGS) -c $< -o $@
 
-$(BUILD)/engine/runner/%.o: engine/runner/%.c $(wildcard engine/runner/*.h engine/lua/*.h engine/core/*.h)
+$(BUILD)/engine/runner/%.o: engine/runner/%.c $(wildcard engine/runner/*.h engine/lua/*.h engine/core/*.h engine/io/*.h)
 	@mkdir -p $(dir $@)
 	$(CC) $(ALL_CFLAGS) $(LUA_CFLAGS) -c $< -o $@
 
@@ -80,12 +93,17 @@ $(CORE_LIB): $(CORE_OBJ)
 	rm -f $@
 	ar rcs $@ $^
 
-$(RUNNER): $(RUNNER_OBJ) $(LUA_OBJ) $(CORE_LIB)
-	$(CC) -o $@ $(RUNNER_OBJ) $(LUA_OBJ) $(CORE_LIB) $(LUA_LIBS) $(CORE_LIBS) -Wl,-E
+$(IO_LIB): $(IO_OBJ)
+	@mkdir -p $(dir $@)
+	rm -f $@
+	ar rcs $@ $^
+
+$(RUNNER): $(RUNNER_OBJ) $(LUA_OBJ) $(IO_LIB) $(CORE_LIB)
+	$(CC) -o $@ $(RUNNER_OBJ) $(LUA_OBJ) $(IO_LIB) $(CORE_LIB) $(LUA_LIBS) $(IO_LIBS) $(CORE_LIBS) -Wl,-E
 
 # The Lua C module takes Lua's symbols from the interpreter that loads it.
-$(MODULE): $(LUA_OBJ) $(CORE_LIB)
-	$(CC) -shared -o $@ $(LUA_OBJ) $(CORE_LIB) $(CORE_LIBS)
+$(MODULE): $(LUA_OBJ) $(IO_LIB) $(CORE_LIB)
+	$(CC) -shared -o $@ $(LUA_OBJ) $(IO_LIB) $(CORE_LIB) $(IO_LIBS) $(CORE_LIBS)
 
 $(BUILD)/tests/unit/%.o: tests/unit/%.c $(wildcard tests/unit/*.h engine/core/*.h)
 	@mkdir -p $(dir $@)
