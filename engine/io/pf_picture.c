@@ -185,6 +185,18 @@ pf_status pf_picture_map(pf_context *ctx, const char *path, int overwrite, const
     } else {
         snprintf(vunit, sizeof vunit, "%s", m->value_unit ? m->value_unit : "");
     }
+    /* Fold a power of ten into the label rather than let PLplot print a
+     * detached "(x10^n)" beside the colour bar. */
+    int e10 = vmax > 0 ? (int)floor(log10(vmax)) : 0;
+    if (e10 < -2 || e10 > 3) {
+        double f = pow(10.0, -e10);
+        for (size_t i = 0; i < n; i++) vals[i] *= f;
+        vmin *= f;
+        vmax *= f;
+        char plain[64];
+        snprintf(plain, sizeof plain, "%s", vunit);
+        snprintf(vunit, sizeof vunit, "10#u%d#d %.40s", e10, plain);
+    }
     axis_label(vlabel, sizeof vlabel, m->value_name ? m->value_name : "value", vunit);
     pf_safefile sf;
     pf_status s = pf_safe_begin(ctx, path, overwrite, &sf);
@@ -204,7 +216,8 @@ pf_status pf_picture_map(pf_context *ctx, const char *path, int overwrite, const
     plwind(x0, x1, y0, y1);
     plimagefr((PLFLT_MATRIX)rows, (PLINT)m->nx, (PLINT)m->ny, x0, x1, y0, y1, vmin, vmax, vmin, vmax, NULL, NULL);
     plcol0(1);
-    plbox("bcnst", 0, 0, "bcnstv", 0, 0);
+    /* Ticks point outwards: inside they vanish against dark parts of the map. */
+    plbox("bcnsti", 0, 0, "bcnstiv", 0, 0);
     pllab(lx, ly, "");
     plmtex("t", 1.6, 0.0, 0.0, m->title ? m->title : "");
     /* Colour bar: a vertical strip of the same map with its own axis. */
@@ -215,7 +228,8 @@ pf_status pf_picture_map(pf_context *ctx, const char *path, int overwrite, const
     plwind(0, 1, vmin, vmax);
     plimagefr((PLFLT_MATRIX)ramp, 2, 64, 0, 1, vmin, vmax, vmin, vmax, vmin, vmax, NULL, NULL);
     plcol0(1);
-    plbox("bc", 0, 0, "bcmstv", 0, 0);
+    plsyax(6, 0);
+    plbox("bc", 0, 0, "bcmstiv", 0, 0);
     plmtex("r", 5.2, 0.5, 0.5, vlabel);
     s = finish(ctx, &sf);
     free(vals);

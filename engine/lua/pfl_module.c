@@ -14,6 +14,10 @@ static const pfl_opener openers[] = {
     pfl_open_wave,
     pfl_open_flight,
     pfl_open_observe,
+    pfl_open_record,
+    pfl_open_files,
+    pfl_open_pictures,
+    pfl_open_progress,
 };
 
 int luaopen_psiflight(lua_State *L)

@@ -12,6 +12,7 @@
 #include "../lua/pfl.h"
 #include "pfr_run.h"
 #include "pfr_exit.h"
+#include "pfr_record.h"
 
 typedef struct pfr_options {
     const char *script;
@@ -23,13 +24,15 @@ typedef struct pfr_options {
     const char *wisdom;   /* NULL: default, "off" disables */
     const char *out;      /* output folder, NULL: none */
     long long seed;       /* -1: default */
+    int quiet;            /* --quiet: no progress bars */
+    int overwrite;        /* --overwrite: writers may replace existing files */
 } pfr_options;
 
 static void usage(FILE *f)
 {
     fputs("usage: psiflight run SCRIPT.lua [--set NAME=VALUE]... [--threads N] [--strict]\n"
           "                     [--planning measure|estimate] [--wisdom PATH|off]\n"
-          "                     [--seed N] [--out DIR]\n"
+          "                     [--seed N] [--out DIR] [--quiet] [--overwrite]\n"
           "       psiflight --version\n"
           "Runs a psiflight Lua script headlessly; see docs/runner.md.\n",
           f);
@@ -82,6 +85,10 @@ static int parse_options(int argc, char **argv, pfr_options *o)
         } else if (strcmp(a, "--out") == 0) {
             if (++i >= argc || !argv[i][0]) return usage_error("%s needs a folder", a);
             o->out = argv[i];
+        } else if (strcmp(a, "--quiet") == 0) {
+            o->quiet = 1;
+        } else if (strcmp(a, "--overwrite") == 0) {
+            o->overwrite = 1;
         } else if (a[0] == '-' && a[1] == '-') {
             return usage_error("unknown option '%s'", a);
         } else if (!o->script) {
@@ -196,6 +203,7 @@ static int run_script(const pfr_options *o)
         lua_close(L);
         return PFR_EXIT_USAGE;
     }
+    pfr_record_begin(L, o->script, o->quiet, o->overwrite);
     if (luaL_loadfile(L, o->script) != LUA_OK) {
         /* Syntax errors already carry file:line; a missing file is a usage error. */
         const char *msg = lua_tostring(L, -1);
@@ -213,6 +221,7 @@ static int run_script(const pfr_options *o)
         lua_pop(L, 1);
         fprintf(stderr, "psiflight: %s\n", full ? full : "error");
     }
+    status = pfr_record_end(L, status, status == PFR_EXIT_OK ? NULL : lua_tostring(L, -1), o->nsets, o->sets);
     fflush(stdout);
     lua_close(L);
     return status;
@@ -235,6 +244,7 @@ int pfr_main(int argc, char **argv)
         usage(stderr);
         return PFR_EXIT_USAGE;
     }
+    pfr_install_interrupt_cleanup();
     pfr_options o;
     int st = parse_options(argc, argv, &o);
     if (st == PFR_EXIT_OK) st = run_script(&o);
