@@ -120,7 +120,7 @@ test: deps
 
 demo: deps
 	@$(MAKE) --no-print-directory all
-	@$(RUNNER) run examples/release_tof.lua
+	@$(RUNNER) run examples/release_tof.lua --overwrite
 
 # Each tests/bench/bench_NAME.c is one benchmark program; run-bench.sh runs
 # them all and prints their ratios against raw FFTW.

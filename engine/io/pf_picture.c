@@ -212,7 +212,7 @@ pf_status pf_picture_map(pf_context *ctx, const char *path, int overwrite, const
     axis_label(lx, sizeof lx, m->xa.name, ux);
     axis_label(ly, sizeof ly, m->ya.name, uy);
     /* Main panel. */
-    plvpor(0.11, 0.80, 0.12, 0.90);
+    plvpor(0.10, 0.76, 0.12, 0.90);
     plwind(x0, x1, y0, y1);
     plimagefr((PLFLT_MATRIX)rows, (PLINT)m->nx, (PLINT)m->ny, x0, x1, y0, y1, vmin, vmax, vmin, vmax, NULL, NULL);
     plcol0(1);
@@ -224,17 +224,57 @@ pf_status pf_picture_map(pf_context *ctx, const char *path, int overwrite, const
     double ramp_v[2][64];
     PLFLT *ramp[2] = {ramp_v[0], ramp_v[1]};
     for (int i = 0; i < 64; i++) ramp_v[0][i] = ramp_v[1][i] = vmin + (vmax - vmin) * i / 63.0;
-    plvpor(0.84, 0.87, 0.12, 0.90);
+    plvpor(0.79, 0.82, 0.12, 0.90);
     plwind(0, 1, vmin, vmax);
     plimagefr((PLFLT_MATRIX)ramp, 2, 64, 0, 1, vmin, vmax, vmin, vmax, vmin, vmax, NULL, NULL);
     plcol0(1);
     plsyax(6, 0);
     plbox("bc", 0, 0, "bcmstiv", 0, 0);
-    plmtex("r", 5.2, 0.5, 0.5, vlabel);
+    plmtex("r", 6.2, 0.5, 0.5, vlabel);
     s = finish(ctx, &sf);
     free(vals);
     free(rows);
     return s;
+}
+
+/* Legend on a white box with a frame, in the corner the caller chose, one
+ * row per labelled series. */
+static void draw_legend(const pf_lines *p, double xmin, double xmax, double ymin, double ymax)
+{
+    size_t rows = 0;
+    for (size_t k = 0; k < p->nseries; k++) rows += p->series[k].label != NULL;
+    if (!rows) return;
+    double W = xmax - xmin, H = ymax - ymin;
+    double bw = 0.30 * W, rh = 0.065 * H, bh = rh * (double)rows + 0.03 * H;
+    double left = (p->legend & 1) ? xmax - 0.02 * W - bw : xmin + 0.02 * W;
+    double top = (p->legend & 2) ? ymin + 0.03 * H + bh : ymax - 0.03 * H;
+    PLFLT fx[4] = {left, left + bw, left + bw, left}, fy[4] = {top, top, top - bh, top - bh};
+    plcol0(0);
+    plfill(4, fx, fy);
+    plcol0(6);
+    PLFLT ex[5] = {left, left + bw, left + bw, left, left}, ey[5] = {top, top, top - bh, top - bh, top};
+    plline(5, ex, ey);
+    size_t row = 0;
+    for (size_t k = 0; k < p->nseries; k++) {
+        const pf_series *s = &p->series[k];
+        if (!s->label) continue;
+        double y = top - 0.015 * H - rh * ((double)row + 0.5);
+        PLFLT lx[2] = {left + 0.03 * bw, left + 0.22 * bw}, ly[2] = {y, y};
+        plcol0(2 + (PLINT)(k % 6));
+        plwidth(s->dashed ? 1.6 : 2.0);
+        pllsty(s->dashed ? 2 : 1);
+        if (s->points) {
+            PLFLT mx = (lx[0] + lx[1]) / 2;
+            plpoin(1, &mx, &ly[0], 17);
+        } else {
+            plline(2, lx, ly);
+        }
+        pllsty(1);
+        plwidth(1.0);
+        plcol0(1);
+        plptex(left + 0.27 * bw, y, 1, 0, 0, s->label);
+        row++;
+    }
 }
 
 pf_status pf_picture_lines(pf_context *ctx, const char *path, int overwrite, const pf_lines *p)
@@ -315,20 +355,9 @@ pf_status pf_picture_lines(pf_context *ctx, const char *path, int overwrite, con
         if (s->points) plpoin((PLINT)m, bx, by, 17);
         else plline((PLINT)m, bx, by);
         pllsty(1);
-        /* Legend entry in the top right corner, one line per series. */
-        if (s->label) {
-            double yl0 = 0.93 - 0.06 * (double)k;
-            PLFLT lx[2] = {xmin + 0.70 * (xmax - xmin), xmin + 0.76 * (xmax - xmin)};
-            PLFLT ly[2] = {ymin + yl0 * (ymax - ymin), ymin + yl0 * (ymax - ymin)};
-            pllsty(s->dashed ? 2 : 1);
-            if (s->points) plpoin(1, &lx[1], &ly[1], 17);
-            else plline(2, lx, ly);
-            pllsty(1);
-            plcol0(1);
-            plptex(xmin + 0.78 * (xmax - xmin), ly[0], 1, 0, 0, s->label);
-        }
         plwidth(1.0);
     }
+    draw_legend(p, xmin, xmax, ymin, ymax);
     st = finish(ctx, &sf);
     free(bx);
     free(by);

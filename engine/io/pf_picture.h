@@ -53,6 +53,7 @@ typedef struct pf_lines {
     const char *y_unit;       /* used when y_per_x is 0 */
     int y_per_x;              /* y is a density per unit of x */
     int log_y;
+    int legend;               /* corner: 0 upper left, 1 upper right, 2 lower left, 3 lower right */
     size_t nseries;
     const pf_series *series;
     int width, height;        /* 0: 860 x 560 */

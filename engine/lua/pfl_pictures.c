@@ -110,6 +110,15 @@ static pf_quantity quantity_of(lua_State *L, const char *name)
     return PF_Q_PLAIN;
 }
 
+static int legend_corner(lua_State *L, const char *c)
+{
+    static const char *const names[] = {"upper left", "upper right", "lower left", "lower right"};
+    for (int i = 0; i < 4; i++)
+        if (!strcmp(c, names[i])) return i;
+    luaL_error(L, "picture_lines: field 'legend' must be \"upper left\", \"upper right\", \"lower left\" or \"lower right\", got '%s'", c);
+    return 1;
+}
+
 static double *number_array(lua_State *L, int t, const char *field, size_t k, size_t *n)
 {
     if (lua_getfield(L, t, field) != LUA_TTABLE)
@@ -128,7 +137,7 @@ static double *number_array(lua_State *L, int t, const char *field, size_t k, si
 }
 
 /* pf.picture_lines(path, {title=, x_name=, x_quantity=, y_name=, y_unit=,
- *   y_per_x=, log_y=, width=, height=, series = {{x=, y=, label=, dashed=,
+ *   y_per_x=, log_y=, legend="upper right", width=, height=, series = {{x=, y=, label=, dashed=,
  *   points=}, ...}}) -> final path */
 static int l_picture_lines(lua_State *L)
 {
@@ -162,6 +171,7 @@ static int l_picture_lines(lua_State *L)
         .y_unit = opt_str(L, 2, "y_unit", ""),
         .y_per_x = pfl_field_boolean(L, 2, "y_per_x", 0),
         .log_y = pfl_field_boolean(L, 2, "log_y", 0),
+        .legend = legend_corner(L, opt_str(L, 2, "legend", "upper right")),
         .nseries = ns,
         .series = series,
         .width = opt_int(L, 2, "width", 0), .height = opt_int(L, 2, "height", 0),
@@ -171,10 +181,12 @@ static int l_picture_lines(lua_State *L)
     return 1;
 }
 
-/* pf.picture_carpet(path, w, {duration=, frames=, title=, width=, height=})
- * -> final path.  Flies a copy of the 1D state through `frames` equally
- * spaced times from now to now + duration and maps its density over x and
- * t (the state itself is left as it was). */
+/* pf.picture_carpet(path, w, {duration=, frames=, title=, x_range={lo, hi},
+ *   per_frame=false, width=, height=}) -> final path.  Flies a copy of the
+ * 1D state through `frames` equally spaced times from now to now + duration
+ * and maps its density over x and t (the state itself is left as it was).
+ * per_frame divides each time's profile by its own maximum, so a spreading
+ * cloud stays visible; x_range crops the picture to lo..hi (m). */
 static int l_picture_carpet(lua_State *L)
 {
     const char *path = pfl_output_resolve(L, luaL_checkstring(L, 1), "picture_carpet");
@@ -187,8 +199,19 @@ static int l_picture_carpet(lua_State *L)
     if (!(duration > 0)) return luaL_error(L, "picture_carpet: field 'duration' must be positive (s), got %g", duration);
     int frames = opt_int(L, 3, "frames", 200);
     if (frames < 2 || frames > 20000) return luaL_error(L, "picture_carpet: field 'frames' must be 2..20000, got %d", frames);
+    int per_frame = pfl_field_boolean(L, 3, "per_frame", 0);
     size_t nx = pf_grid_points(g, 0);
-    double *rho = pfl_scratch_doubles(L, nx * (size_t)frames);
+    const double *xs = axis_table(L, g, 0, PF_POSITION);
+    size_t i0 = 0, i1 = nx; /* columns shown: i0 .. i1-1 */
+    double range[2];
+    if (pfl_field_vector(L, 3, "x_range", 2, range, 0)) {
+        if (!(range[1] > range[0])) return luaL_error(L, "picture_carpet: x_range must be {lo, hi} with lo < hi");
+        while (i0 < nx && xs[i0] < range[0]) i0++;
+        while (i1 > i0 && xs[i1 - 1] > range[1]) i1--;
+        if (i1 - i0 < 2) return luaL_error(L, "picture_carpet: x_range holds fewer than 2 grid points");
+    }
+    size_t nshow = i1 - i0;
+    double *rho = pfl_scratch_doubles(L, nshow * (size_t)frames);
     double *t = pfl_scratch_doubles(L, (size_t)frames);
     double *col = pfl_scratch_doubles(L, nx);
     pf_wave *c;
@@ -199,9 +222,14 @@ static int l_picture_carpet(lua_State *L)
     double dt = duration / (frames - 1);
     for (int j = 0; j < frames; j++) {
         t[j] = dt * j;
-        if (j) pfl_check(L, pf_wave_fly(c, dt), "picture_carpet");
-        pfl_check(L, pf_wave_density(c, PF_POSITION, col), "picture_carpet");
-        for (size_t i = 0; i < nx; i++) rho[i * (size_t)frames + (size_t)j] = col[i];
+        pf_status st = j ? pf_wave_fly(c, dt) : PF_OK;
+        if (!st) st = pf_wave_density(c, PF_POSITION, col);
+        if (st) pf_progress_end(&bar);
+        pfl_check(L, st, "picture_carpet");
+        double peak = 0;
+        for (size_t i = i0; i < i1; i++) peak = col[i] > peak ? col[i] : peak;
+        double f = per_frame && peak > 0 ? 1 / peak : 1;
+        for (size_t i = i0; i < i1; i++) rho[(i - i0) * (size_t)frames + (size_t)j] = col[i] * f;
         pf_progress_advance(&bar, 1);
     }
     pf_progress_end(&bar);
@@ -210,11 +238,11 @@ static int l_picture_carpet(lua_State *L)
         .title = opt_str(L, 3, "title", "density during flight"),
         .xa = {"x", PF_Q_LENGTH},
         .ya = {"t", PF_Q_TIME},
-        .nx = nx, .ny = (size_t)frames,
-        .x = axis_table(L, g, 0, PF_POSITION), .y = t,
+        .nx = nshow, .ny = (size_t)frames,
+        .x = xs + i0, .y = t,
         .values = rho,
-        .value_name = "|#gq|#u2#d",
-        .per_x = 1,
+        .value_name = per_frame ? "|#gq|#u2#d / peak at t" : "|#gq|#u2#d",
+        .per_x = !per_frame,
         .width = opt_int(L, 3, "width", 0), .height = opt_int(L, 3, "height", 0),
     };
     commit_picture(L, pf_picture_map(pfl_ctx(L), path, pfl_overwrite_option(L, 3), &m), path, "picture_carpet");
