@@ -105,12 +105,13 @@ $(RUNNER): $(RUNNER_OBJ) $(LUA_OBJ) $(IO_LIB) $(CORE_LIB)
 $(MODULE): $(LUA_OBJ) $(IO_LIB) $(CORE_LIB)
 	$(CC) -shared -o $@ $(LUA_OBJ) $(IO_LIB) $(CORE_LIB) $(IO_LIBS) $(CORE_LIBS)
 
-$(BUILD)/tests/unit/%.o: tests/unit/%.c $(wildcard tests/unit/*.h engine/core/*.h)
+$(BUILD)/tests/unit/%.o: tests/unit/%.c $(wildcard tests/unit/*.h engine/core/*.h engine/io/*.h)
 	@mkdir -p $(dir $@)
 	$(CC) $(ALL_CFLAGS) $(FFTW_CFLAGS) $(CMOCKA_CFLAGS) $(TEST_CFLAGS) -Iengine/core -c $< -o $@
 
-$(BUILD)/tests/%: $(BUILD)/tests/unit/%.o $(UNIT_HELP_OBJ) $(CORE_LIB)
-	$(CC) -o $@ $< $(UNIT_HELP_OBJ) $(CORE_LIB) $(CMOCKA_LIBS) $(TEST_LIBS) $(CORE_LIBS)
+# Unit tests may also exercise the output layer (engine/io).
+$(BUILD)/tests/%: $(BUILD)/tests/unit/%.o $(UNIT_HELP_OBJ) $(IO_LIB) $(CORE_LIB)
+	$(CC) -o $@ $< $(UNIT_HELP_OBJ) $(IO_LIB) $(CORE_LIB) $(CMOCKA_LIBS) $(TEST_LIBS) $(IO_LIBS) $(CORE_LIBS)
 
 unit-tests: $(UNIT_BIN)
 

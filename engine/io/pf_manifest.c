@@ -80,13 +80,16 @@ pf_status pf_manifest_write(pf_context *ctx, const char *folder, const pf_manife
     }
     cJSON *jo = cJSON_AddArrayToObject(root, "outputs");
     for (size_t i = 0; i < m->noutputs; i++) {
-        if (pf_sha256_file(outputs[i].file, hex) != 0) {
-            s = pf_fail(ctx, PF_EIO, "manifest: cannot read output '%s': %s", outputs[i].file, strerror(errno));
-            goto done;
-        }
         cJSON *o = cJSON_CreateObject();
         cJSON_AddStringToObject(o, "path", outputs[i].path);
-        cJSON_AddStringToObject(o, "sha256", hex);
+        /* A script may delete a file it wrote: the manifest says so rather
+         * than failing the run. */
+        if (pf_sha256_file(outputs[i].file, hex) != 0) {
+            cJSON_AddNullToObject(o, "sha256");
+            cJSON_AddStringToObject(o, "missing", strerror(errno));
+        } else {
+            cJSON_AddStringToObject(o, "sha256", hex);
+        }
         cJSON_AddItemToArray(jo, o);
     }
     char h5v[32], plv[80];

@@ -41,7 +41,8 @@ typedef struct pf_manifest {
     const pf_manifest_output *outputs;
 } pf_manifest;
 
-/* Hashes the script and every output, then writes folder/manifest.json
+/* Hashes the script and every output (an output that no longer exists is
+ * listed with sha256 null and "missing": reason), then writes folder/manifest.json
  * atomically (replacing an older manifest: it always describes the latest
  * run in that folder).  Fails with PF_EIO naming a file that cannot be read. */
 pf_status pf_manifest_write(pf_context *ctx, const char *folder, const pf_manifest *m);
