@@ -37,7 +37,7 @@ static int l_finish(lua_State *L)
 
 static int l_shown(lua_State *L)
 {
-    lua_pushboolean(L, check_bar(L)->enabled);
+    lua_pushboolean(L, check_bar(L)->drawn);
     return 1;
 }
 
