@@ -139,7 +139,7 @@ $(BUILD)/bench/bench_%: tests/bench/bench_%.c tests/bench/bench_util.h $(CORE_LI
 asan: deps
 	@$(MAKE) --no-print-directory BUILD=build-asan OPT="-O1 -g -fno-omit-frame-pointer" \
 	  SAN="-fsanitize=address,undefined -fno-sanitize-recover=undefined" all unit-tests
-	@ASAN_OPTIONS=detect_leaks=1 UBSAN_OPTIONS=print_stacktrace=1 bash tests/run-all.sh build-asan
+	@ASAN_OPTIONS=detect_leaks=1 LSAN_OPTIONS=suppressions=$(CURDIR)/tests/lsan-suppressions.txt:print_suppressions=0 UBSAN_OPTIONS=print_stacktrace=1 bash tests/run-all.sh build-asan
 
 clean:
 	rm -rf build build-asan
