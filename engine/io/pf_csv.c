@@ -54,10 +54,15 @@ void pf_table_free(pf_table *t)
         if (t->names) free(t->names[c]);
         if (t->units) free(t->units[c]);
         if (t->values) free(t->values[c]);
+        if (t->text && t->text[c]) {
+            for (size_t r = 0; r < t->nrows; r++) free(t->text[c][r]);
+            free(t->text[c]);
+        }
     }
     free(t->names);
     free(t->units);
     free(t->values);
+    free(t->text);
     memset(t, 0, sizeof *t);
 }
 
@@ -82,6 +87,10 @@ pf_status pf_csv_write(pf_context *ctx, const char *path, int overwrite, size_t 
         if (cols[c].unit && strpbrk(cols[c].unit, ",;\"\n\r\t[]"))
             return pf_fail(ctx, PF_EINVAL, "column '%s': unit '%s' must not contain , ; \" [ ] tabs or line breaks",
                            cols[c].name, cols[c].unit);
+        for (size_t r = 0; cols[c].text && r < cols[c].count; r++)
+            if (!cols[c].text[r] || strpbrk(cols[c].text[r], ",\"\n\r"))
+                return pf_fail(ctx, PF_EINVAL, "column '%s' entry %zu must be text without commas, quotes or line breaks",
+                               cols[c].name, r + 1);
         if (cols[c].count != rows)
             return pf_fail(ctx, PF_EINVAL, "column '%s' has %zu entries but column '%s' has %zu", cols[c].name,
                            cols[c].count, cols[0].name, rows);
@@ -106,6 +115,10 @@ pf_status pf_csv_write(pf_context *ctx, const char *path, int overwrite, size_t 
     for (size_t r = 0; r < rows; r++) {
         for (size_t c = 0; c < ncols; c++) {
             if (c) fputc(',', f);
+            if (cols[c].text) {
+                fputs(cols[c].text[r], f);
+                continue;
+            }
             pf_format_double(cols[c].values[r], buf);
             fputs(buf, f);
         }
@@ -228,6 +241,13 @@ pf_status pf_csv_read(pf_context *ctx, const char *path, pf_table *out)
             goto done;
         }
     }
+    /* Cells are kept as text first; each column then becomes numeric when
+     * every entry parses as a number. */
+    out->text = calloc(ncols, sizeof *out->text);
+    if (!out->text) {
+        s = pf_fail(ctx, PF_ENOMEM, "out of memory reading '%s'", path);
+        goto done;
+    }
     while (read_line(f, &line, &cap)) {
         lineno++;
         char *t = trim(line);
@@ -240,27 +260,43 @@ pf_status pf_csv_read(pf_context *ctx, const char *path, pf_table *out)
         if (out->nrows == rowcap) {
             rowcap = rowcap ? 2 * rowcap : 256;
             for (size_t c = 0; c < ncols; c++) {
-                double *p = realloc(out->values[c], rowcap * sizeof *p);
+                char **p = realloc(out->text[c], rowcap * sizeof *p);
                 if (!p) {
                     s = pf_fail(ctx, PF_ENOMEM, "out of memory reading '%s'", path);
                     goto done;
                 }
-                out->values[c] = p;
+                out->text[c] = p;
             }
         }
         for (size_t c = 0; c < ncols; c++) {
-            double v;
-            if (!pf_parse_double(trim(fields[c]), &v)) {
-                s = pf_fail(ctx, PF_EINVAL, "%s:%zu: column '%s' holds '%s', not a number", path, lineno,
-                            out->names[c], trim(fields[c]));
+            out->text[c][out->nrows] = strdup(trim(fields[c]));
+            if (!out->text[c][out->nrows]) {
+                for (size_t k = 0; k < c; k++) free(out->text[k][out->nrows]);
+                s = pf_fail(ctx, PF_ENOMEM, "out of memory reading '%s'", path);
                 goto done;
             }
-            out->values[c][out->nrows] = v;
         }
         out->nrows++;
     }
     if (ferror(f)) s = pf_fail(ctx, PF_EIO, "error reading '%s'", path);
     else if (!out->nrows) s = pf_fail(ctx, PF_EINVAL, "%s: no data rows after the header", path);
+    for (size_t c = 0; !s && c < ncols; c++) {
+        double *v = malloc(out->nrows * sizeof *v);
+        if (!v) {
+            s = pf_fail(ctx, PF_ENOMEM, "out of memory reading '%s'", path);
+            break;
+        }
+        size_t r = 0;
+        while (r < out->nrows && pf_parse_double(out->text[c][r], &v[r])) r++;
+        if (r < out->nrows) {
+            free(v); /* a text column */
+            continue;
+        }
+        for (r = 0; r < out->nrows; r++) free(out->text[c][r]);
+        free(out->text[c]);
+        out->text[c] = NULL;
+        out->values[c] = v;
+    }
 done:
     free(fields);
     free(line);

@@ -366,8 +366,17 @@ pf_status pf_h5_put_table(pf_h5 *f, const char *name, size_t ncols, const pf_col
     int bad = g < 0 || attr_string(g, "content", "table");
     for (size_t c = 0; c < ncols && !bad; c++) {
         hsize_t dims[1] = {cols[c].count};
-        bad = write_dataset(f, g, cols[c].name, H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, 1, dims, cols[c].values,
-                            cols[c].unit ? cols[c].unit : "");
+        if (cols[c].text) {
+            /* Text columns (step kinds, labels) as variable-length UTF-8. */
+            hid_t st = H5Tcopy(H5T_C_S1);
+            H5Tset_size(st, H5T_VARIABLE);
+            H5Tset_cset(st, H5T_CSET_UTF8);
+            bad = write_dataset(f, g, cols[c].name, st, st, 1, dims, cols[c].text, cols[c].unit ? cols[c].unit : "");
+            H5Tclose(st);
+        } else {
+            bad = write_dataset(f, g, cols[c].name, H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, 1, dims, cols[c].values,
+                                cols[c].unit ? cols[c].unit : "");
+        }
     }
     if (g >= 0) H5Gclose(g);
     return bad ? pf_fail(f->ctx, PF_EIO, "cannot write table '%s' to '%s'", name, f->sf.final_path) : PF_OK;
@@ -504,6 +513,18 @@ static double read_attr_double(hid_t obj, const char *name, double def)
     return v;
 }
 
+/* Reads a float64 attribute array of exactly n entries; 0 on success. */
+static int read_attr_array(hid_t obj, const char *name, double *v, size_t n)
+{
+    if (H5Aexists(obj, name) <= 0) return -1;
+    hid_t a = H5Aopen(obj, name, H5P_DEFAULT);
+    hid_t sp = H5Aget_space(a);
+    int bad = H5Sget_simple_extent_npoints(sp) != (hssize_t)n || H5Aread(a, H5T_NATIVE_DOUBLE, v) < 0;
+    H5Sclose(sp);
+    H5Aclose(a);
+    return bad ? -1 : 0;
+}
+
 static pf_status read_item(reader *r, const pf_h5_source *src, pf_samples *out)
 {
     if (H5Lexists(r->file, src->item, H5P_DEFAULT) <= 0)
@@ -525,6 +546,8 @@ static pf_status read_item(reader *r, const pf_h5_source *src, pf_samples *out)
         if (H5Lexists(g, ax, H5P_DEFAULT) > 0) s = read_real(r, g, ax, 1, &out->n[a], &out->axis[a]);
     }
     out->rep = rep;
+    if (!s) out->has_grid = read_attr_array(g, "grid_span_m", out->span, (size_t)out->dim) == 0 &&
+                            read_attr_array(g, "grid_origin_m", out->grid_origin, (size_t)out->dim) == 0;
     out->mass = read_attr_double(g, "mass_kg", 0);
     out->clock = read_attr_double(g, "clock_s", 0);
     H5Gclose(g);

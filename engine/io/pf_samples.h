@@ -16,6 +16,8 @@ typedef struct pf_samples {
     double mass;                  /* kg, 0 when the file does not say */
     double clock;                 /* s, 0 when the file does not say */
     char origin[24];              /* "hdf5" or "csv", for the step log */
+    int has_grid;                 /* the file also gives the grid it was made on: */
+    double span[PF_MAX_DIM], grid_origin[PF_MAX_DIM]; /* spans and origins (m) */
 } pf_samples;
 
 void pf_samples_free(pf_samples *s);

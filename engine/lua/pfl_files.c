@@ -21,8 +21,9 @@ typedef struct { pf_h5 *f; } pfl_h5_box;
 /* ---- columns ---- */
 
 /* Reads the column list at arg: an array of {name=, unit=, values=} or
- * {name, unit, values} tables.  Strings and value arrays are anchored on
- * the stack (the caller keeps them until it is done). */
+ * {name, unit, values} tables; values are numbers, or strings for a text
+ * column.  Everything the returned columns point to stays anchored on the
+ * stack (five slots per column) until the caller returns. */
 static pf_column *check_columns(lua_State *L, int arg, const char *fname, size_t *ncols)
 {
     luaL_checktype(L, arg, LUA_TTABLE);
@@ -30,48 +31,44 @@ static pf_column *check_columns(lua_State *L, int arg, const char *fname, size_t
     lua_Integer n = luaL_len(L, arg);
     if (n < 1) luaL_error(L, "%s: the column list is empty", fname);
     pf_column *cols = lua_newuserdatauv(L, (size_t)n * sizeof *cols, 0);
+    memset(cols, 0, (size_t)n * sizeof *cols);
+    char buf[80];
     for (lua_Integer c = 1; c <= n; c++) {
         luaL_checkstack(L, 8, "too many columns");
         if (lua_geti(L, arg, c) != LUA_TTABLE) luaL_error(L, "%s: column %d must be a table {name, unit, values}", fname, (int)c);
         int t = lua_gettop(L);
-        if (lua_getfield(L, t, "name") == LUA_TNIL) {
-            lua_pop(L, 1);
-            lua_geti(L, t, 1);
-        }
-        if (lua_getfield(L, t, "unit") == LUA_TNIL) {
-            lua_pop(L, 1);
-            lua_geti(L, t, 2);
-        }
-        if (lua_getfield(L, t, "values") == LUA_TNIL) {
-            lua_pop(L, 1);
-            lua_geti(L, t, 3);
+        static const char *const fields[] = {"name", "unit", "values"};
+        for (int k = 0; k < 3; k++) {
+            if (lua_getfield(L, t, fields[k]) == LUA_TNIL) {
+                lua_pop(L, 1);
+                lua_geti(L, t, k + 1);
+            }
         }
         if (lua_type(L, t + 1) != LUA_TSTRING) luaL_error(L, "%s: column %d needs a name (string)", fname, (int)c);
-        if (!lua_isnoneornil(L, t + 2) && lua_type(L, t + 2) != LUA_TSTRING)
-            luaL_error(L, "%s: column '%s' unit must be a string", fname, lua_tostring(L, t + 1));
+        const char *name = lua_tostring(L, t + 1);
+        if (!lua_isnil(L, t + 2) && lua_type(L, t + 2) != LUA_TSTRING)
+            luaL_error(L, "%s: column '%s' unit must be a string", fname, name);
         if (lua_type(L, t + 3) != LUA_TTABLE)
-            luaL_error(L, "%s: column '%s' needs values (an array of numbers)", fname, lua_tostring(L, t + 1));
+            luaL_error(L, "%s: column '%s' needs values (an array of numbers or strings)", fname, name);
         size_t len = (size_t)luaL_len(L, t + 3);
-        double *v = pfl_scratch_doubles(L, len);
+        lua_rawgeti(L, t + 3, 1);
+        int text = lua_type(L, -1) == LUA_TSTRING;
+        lua_pop(L, 1);
+        void *store = lua_newuserdatauv(L, (len ? len : 1) * (text ? sizeof(char *) : sizeof(double)), 0);
         for (size_t i = 0; i < len; i++) {
-            int ty = lua_geti(L, t + 3, (lua_Integer)i + 1);
-            if (ty != LUA_TNUMBER) {
-                char buf[80];
-                luaL_error(L, "%s: column '%s' entry %d must be a number, got %s", fname, lua_tostring(L, t + 1),
-                           (int)i + 1, pfl_describe(L, -1, buf, sizeof buf));
-            }
-            v[i] = lua_tonumber(L, -1);
+            int ty = lua_rawgeti(L, t + 3, (lua_Integer)i + 1);
+            if (text ? ty != LUA_TSTRING : ty != LUA_TNUMBER)
+                luaL_error(L, "%s: column '%s' entry %d must be a %s like the first, got %s", fname, name, (int)i + 1,
+                           text ? "string" : "number", pfl_describe(L, -1, buf, sizeof buf));
+            if (text) ((const char **)store)[i] = lua_tostring(L, -1); /* anchored by the values table */
+            else ((double *)store)[i] = lua_tonumber(L, -1);
             lua_pop(L, 1);
         }
-        cols[c - 1].name = lua_tostring(L, t + 1);
-        cols[c - 1].unit = lua_isnoneornil(L, t + 2) ? "" : lua_tostring(L, t + 2);
-        cols[c - 1].values = v;
+        cols[c - 1].name = name;
+        cols[c - 1].unit = lua_isnil(L, t + 2) ? "" : lua_tostring(L, t + 2);
+        cols[c - 1].values = text ? NULL : store;
+        cols[c - 1].text = text ? store : NULL;
         cols[c - 1].count = len;
-        /* Keep the column table's strings and the scratch array reachable
-         * for the caller: move them below by leaving them on the stack. */
-        lua_remove(L, t + 3);
-        lua_remove(L, t);
-        /* Stack now: ..., name, unit, scratch */
     }
     *ncols = (size_t)n;
     return cols;
@@ -275,7 +272,8 @@ static void push_table(lua_State *L, const pf_table *t)
         lua_setfield(L, -2, "unit");
         lua_createtable(L, (int)t->nrows, 0);
         for (size_t r = 0; r < t->nrows; r++) {
-            lua_pushnumber(L, t->values[c][r]);
+            if (t->values[c]) lua_pushnumber(L, t->values[c][r]);
+            else lua_pushstring(L, t->text[c][r]);
             lua_rawseti(L, -2, (lua_Integer)r + 1);
         }
         lua_setfield(L, -2, "values");
@@ -370,6 +368,10 @@ static void read_csv_samples(lua_State *L, const char *path, pf_samples *s)
         luaL_error(L, "load_wave: '%s' needs columns x (or k), re and im; found %d columns", path, (int)t->ncols);
     pf_rep rep = cx >= 0 ? PF_POSITION : PF_MOMENTUM;
     int cc = cx >= 0 ? cx : ck;
+    int used[3] = {cc, cr, ci};
+    for (int k = 0; k < 3; k++)
+        if (!t->values[used[k]])
+            luaL_error(L, "load_wave: '%s' column '%s' holds text, not numbers", path, t->names[used[k]]);
     double f = unit_factor(t->units[cc], rep);
     if (f == 0)
         luaL_error(L, "load_wave: '%s' column %s has unit '%s'; use %s", path, t->names[cc], t->units[cc],
@@ -401,6 +403,13 @@ static pf_grid *grid_from_samples(lua_State *L, const pf_samples *s, const char 
 {
     size_t pts[PF_MAX_DIM];
     double span[PF_MAX_DIM], origin[PF_MAX_DIM];
+    pf_grid *g;
+    if (s->has_grid) {
+        /* A psiflight item names the grid it was made on: use it as is. */
+        for (int a = 0; a < s->dim; a++) pts[a] = s->n[a];
+        pfl_check(L, pf_grid_new(pfl_ctx(L), s->dim, pts, s->span, s->grid_origin, &g), "load_wave");
+        return g;
+    }
     for (int a = 0; a < s->dim; a++) {
         const double *ax = s->axis[a];
         size_t n = s->n[a];
@@ -420,7 +429,6 @@ static pf_grid *grid_from_samples(lua_State *L, const pf_samples *s, const char 
             origin[a] = 0; /* phi(k) alone does not say where the cloud sits */
         }
     }
-    pf_grid *g;
     pfl_check(L, pf_grid_new(pfl_ctx(L), s->dim, pts, span, origin, &g), "load_wave");
     return g;
 }
@@ -430,7 +438,11 @@ static pf_grid *grid_from_samples(lua_State *L, const pf_samples *s, const char 
 static int l_load_wave(lua_State *L)
 {
     const char *path = luaL_checkstring(L, 1);
-    if (lua_isnoneornil(L, 2)) lua_newtable(L), lua_replace(L, 2);
+    lua_settop(L, 2);
+    if (lua_isnil(L, 2)) {
+        lua_newtable(L);
+        lua_replace(L, 2);
+    }
     luaL_checktype(L, 2, LUA_TTABLE);
     samples_box *sb = lua_newuserdatauv(L, sizeof *sb, 0);
     memset(sb, 0, sizeof *sb);
@@ -496,8 +508,50 @@ static int l_load_wave(lua_State *L)
     return 1;
 }
 
+/* w:log_columns() -> the step log as a column list for pf.write_csv or
+ * f:put_table: step, kind, method, duration [s], clock [s], norm, removed,
+ * edge_x, edge_k (NaN where a guard figure was not measured). */
+static int l_log_columns(lua_State *L)
+{
+    const pf_steplog *log = pf_wave_steplog(pfl_check_wave(L, 1));
+    static const struct { const char *name, *unit; } cols[] = {
+        {"step", ""}, {"kind", ""}, {"method", ""}, {"duration", "s"}, {"clock", "s"},
+        {"norm", ""}, {"removed", ""}, {"edge_x", ""}, {"edge_k", ""},
+    };
+    int ncols = (int)(sizeof cols / sizeof cols[0]);
+    lua_createtable(L, ncols, 0);
+    for (int c = 0; c < ncols; c++) {
+        lua_createtable(L, 3, 0);
+        lua_pushstring(L, cols[c].name);
+        lua_rawseti(L, -2, 1);
+        lua_pushstring(L, cols[c].unit);
+        lua_rawseti(L, -2, 2);
+        lua_createtable(L, (int)log->count, 0);
+        for (size_t i = 0; i < log->count; i++) {
+            const pf_step *st = &log->steps[i];
+            switch (c) {
+            case 0: lua_pushinteger(L, (lua_Integer)i + 1); break;
+            case 1: lua_pushstring(L, st->kind); break;
+            case 2: lua_pushstring(L, st->method[0] ? st->method : "-"); break;
+            case 3: lua_pushnumber(L, st->duration); break;
+            case 4: lua_pushnumber(L, st->clock); break;
+            case 5: lua_pushnumber(L, st->norm); break;
+            case 6: lua_pushnumber(L, st->removed); break;
+            case 7: lua_pushnumber(L, st->edge_x >= 0 ? st->edge_x : NAN); break;
+            default: lua_pushnumber(L, st->edge_k >= 0 ? st->edge_k : NAN); break;
+            }
+            lua_rawseti(L, -2, (lua_Integer)i + 1);
+        }
+        lua_rawseti(L, -2, 3);
+        lua_rawseti(L, -2, c + 1);
+    }
+    return 1;
+}
+
 void pfl_open_files(lua_State *L, int mod)
 {
+    static const luaL_Reg wave_methods[] = {{"log_columns", l_log_columns}, {NULL, NULL}};
+    pfl_add_wave_methods(L, wave_methods);
     static const luaL_Reg methods[] = {
         {"put_wave", l_put_wave}, {"put_density", l_put_density}, {"put_table", l_put_table},
         {"put_value", l_put_value}, {"close", l_h5_close}, {"discard", l_h5_discard}, {"path", l_h5_path},

@@ -196,7 +196,7 @@ static int l_picture_carpet(lua_State *L)
     pf_grid *g = pf_wave_grid(w);
     if (pf_grid_dim(g) != 1) return luaL_error(L, "picture_carpet: needs a 1D wave function, got %dD", pf_grid_dim(g));
     double duration = pfl_field_number(L, 3, "duration", 0, 1);
-    if (!(duration > 0)) return luaL_error(L, "picture_carpet: field 'duration' must be positive (s), got %g", duration);
+    if (!(duration > 0)) return luaL_error(L, "picture_carpet: field 'duration' must be positive (s), got %f", duration);
     int frames = opt_int(L, 3, "frames", 200);
     if (frames < 2 || frames > 20000) return luaL_error(L, "picture_carpet: field 'frames' must be 2..20000, got %d", frames);
     int per_frame = pfl_field_boolean(L, 3, "per_frame", 0);

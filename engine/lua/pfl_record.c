@@ -186,7 +186,7 @@ void pfl_output_register(lua_State *L, const char *final_path)
 double *pfl_scratch_doubles(lua_State *L, size_t n)
 {
     if (n > ((size_t)1 << 40) / sizeof(double)) {
-        luaL_error(L, "array of %zu numbers is too large", n);
+        luaL_error(L, "array of %I numbers is too large", (lua_Integer)n);
         return NULL;
     }
     return lua_newuserdatauv(L, (n ? n : 1) * sizeof(double), 0);

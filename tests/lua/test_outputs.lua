@@ -147,11 +147,42 @@ end)
 check.equal(ok, false, "error leaves the block")
 check.equal(io.open(tmp .. "/failed.h5"), nil, "a block left by an error leaves no file")
 
+-- ---- step logs as tables ----
+local logcsv = pf.write_csv("log.csv", w:log_columns())
+local lt = pf.read_csv(logcsv)
+check.equal(lt.kind.values[1], "build", "log CSV: text column of step kinds")
+check.equal(lt.kind.values[2], "flight", "log CSV: second step is the flight")
+check.equal(lt.duration.values[2], 0.4e-3, "log CSV: flight duration round-trips")
+check.equal(lt.duration.unit, "s", "log CSV: duration unit")
+check.truthy(lt.edge_x.values[1] ~= lt.edge_x.values[1], "log CSV: unmeasured guard figure reads back as NaN")
+check.fails(function() pf.load_wave(logcsv, {mass = mass, grid = g}) end, "a log is not a state", "needs columns x")
+
+-- phi-only item without grid=: the grid (origin included) comes from the
+-- item's attributes, so the state is the same one.
+local g3 = pf.grid{points = 64, span = 30e-6, origin = 5e-6}
+local off = pf.wave(g3, {mass = mass, position = function(x) return gauss(x - 5e-6) end})
+local h3 = pf.h5file("phi_only.h5")
+h3:put_wave("wave", off, {parts = "phi"})
+h3:put_table("log", off:log_columns())
+h3:close()
+local again3 = pf.load_wave(tmp .. "/phi_only.h5")
+check.equal(again3:grid():origin(1), 5e-6, "grid origin restored from grid_origin_m")
+check.close(again3:position_mean(), 5e-6, 1e-15, "phi-only state keeps its centre", "Gaussian centred at 5 um (construction)")
+
+-- ---- pictures: dimension checks ----
+check.fails(function() pf.picture_map("m1.png", w) end, "maps need 2D or 3D", "picture_carpet")
+check.fails(function() pf.picture_lines("l.png", {series = {{x = {1, 2}, y = {1}}}}) end, "series lengths must match", "2 x and 1 y")
+check.fails(function() pf.picture_carpet("c.png", w, {duration = -1}) end, "carpet duration checked", "positive")
+local g2d = pf.grid{points = {16, 16, 8}, span = {20e-6, 20e-6, 10e-6}}
+local w3 = pf.wave(g2d, {mass = mass, position = function(x, y, z) return math.exp(-(x * x + y * y + z * z) / 2e-11) end})
+check.truthy(pf.picture_map("col.png", w3, {representation = "momentum", width = 400, height = 300}),
+  "3D state: column-density map in momentum space")
+
 -- ---- results ----
 pf.report("sigma", sigma, "m")
 pf.report("sigma", sigma, "m") -- reporting again keeps the latest value
 check.fails(function() pf.report("x", 0 / 0) end, "reported values must be finite", "finite")
-check.equal(#pf.outputs(), 4, "outputs recorded once each (samples, special, coarse, state.h5)")
+check.equal(#pf.outputs(), 7, "outputs recorded once each (samples, special, coarse, state.h5, log.csv, phi_only.h5, col.png)")
 
 -- Clean up our data files; the manifest written at the end of the run then
 -- lists them as missing (sha256 null) - also a path worth exercising.
