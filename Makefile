@@ -38,7 +38,9 @@ TEST_LIBS   := $(shell pkg-config --libs $(TEST_PC) 2>/dev/null)
 # their headers; the core library stays free of them.
 IO_PC     ?= hdf5-serial plplot libcjson
 IO_CFLAGS := $(shell pkg-config --cflags $(IO_PC) 2>/dev/null)
-IO_LIBS   := $(shell pkg-config --libs $(IO_PC) 2>/dev/null)
+# The HDF5 high-level library (dimension scales) has no pkg-config module of
+# its own in Debian; it sits beside libhdf5.
+IO_LIBS   := $(patsubst -lhdf5,-lhdf5_hl -lhdf5,$(shell pkg-config --libs $(IO_PC) 2>/dev/null))
 
 ALL_CFLAGS = $(CFLAGS_BASE) $(CFLAGS) $(SAN)
 CORE_LIBS  = $(FFTW_LIBS) -lm -fopenmp $(SAN)

@@ -5,6 +5,7 @@
 #include <stdlib.h>
 #include <string.h>
 #include <hdf5.h>
+#include <hdf5_hl.h>
 #include "../core/pf_version.h"
 #include "pf_h5.h"
 #include "pf_safefile.h"
@@ -222,6 +223,24 @@ static int write_axes(pf_h5 *f, hid_t g, const pf_grid *grid, pf_rep rep)
     return 0;
 }
 
+/* Marks the axis datasets of rep as HDF5 dimension scales of `data` (the
+ * open standard that tells generic readers - HDFView, netCDF-4 and xarray
+ * front ends - which coordinate belongs to which dimension). */
+static int attach_axes(hid_t g, const char *data, int d, pf_rep rep)
+{
+    hid_t ds = H5Dopen2(g, data, H5P_DEFAULT);
+    if (ds < 0) return -1;
+    int bad = 0;
+    for (int a = 0; a < d && !bad; a++) {
+        const char *name = rep == PF_POSITION ? POS_AXES[a] : MOM_AXES[a];
+        hid_t ax = H5Dopen2(g, name, H5P_DEFAULT);
+        bad = ax < 0 || H5DSset_scale(ax, name) < 0 || H5DSattach_scale(ds, ax, (unsigned)a) < 0;
+        if (ax >= 0) H5Dclose(ax);
+    }
+    H5Dclose(ds);
+    return bad ? -1 : 0;
+}
+
 /* Grid, mass, clock and step log as attributes of an item group. */
 static int write_wave_attrs(hid_t g, const pf_wave *w, const char *content)
 {
@@ -306,12 +325,12 @@ pf_status pf_h5_put_wave(pf_h5 *f, const char *name, pf_wave *w, int parts)
     if (!bad && (parts & PF_H5_PSI)) {
         bad = pf_wave_to(w, PF_POSITION) != PF_OK ||
               write_dataset(f, g, "psi", ct, ct, d, dims, pf_wave_data_const(w), amp_unit(d, PF_POSITION)) ||
-              write_axes(f, g, grid, PF_POSITION);
+              write_axes(f, g, grid, PF_POSITION) || attach_axes(g, "psi", d, PF_POSITION);
     }
     if (!bad && (parts & PF_H5_PHI)) {
         double complex *phi = phi_ascending(w);
         bad = !phi || write_dataset(f, g, "phi", ct, ct, d, dims, phi, amp_unit(d, PF_MOMENTUM)) ||
-              write_axes(f, g, grid, PF_MOMENTUM);
+              write_axes(f, g, grid, PF_MOMENTUM) || attach_axes(g, "phi", d, PF_MOMENTUM);
         free(phi);
     }
     H5Tclose(ct);
@@ -341,7 +360,7 @@ pf_status pf_h5_put_density(pf_h5 *f, const char *name, pf_wave *w, pf_rep rep)
               attr_string(g, "representation", rep == PF_POSITION ? "position" : "momentum") ||
               write_dataset(f, g, "density", H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, d, dims, rho,
                             rep == PF_POSITION ? pos[d - 1] : mom[d - 1]) ||
-              write_axes(f, g, grid, rep);
+              write_axes(f, g, grid, rep) || attach_axes(g, "density", d, rep);
     free(rho);
     if (g >= 0) H5Gclose(g);
     return bad ? pf_fail(f->ctx, PF_EIO, "cannot write density '%s' to '%s'", name, f->sf.final_path) : PF_OK;

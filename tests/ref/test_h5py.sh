@@ -30,6 +30,9 @@ dx, dy = 60e-6 / 48, 50e-6 / 32
 ok(np.allclose(x, 2e-6 + (np.arange(48) - 24) * dx, rtol=0, atol=1e-18), "x axis = origin + (j - n/2) dx [pf_grid.h formula, numpy]")
 ok(np.allclose(y, -1e-6 + (np.arange(32) - 16) * dy, rtol=0, atol=1e-18), "y axis = origin + (j - n/2) dy [numpy]")
 ok(np.allclose(kx, 2 * np.pi / 60e-6 * np.arange(-24, 24), rtol=1e-14), "kx ascending = 2 pi m / span [numpy fftfreq convention]")
+ok([[s.name for s in dim.values()] for dim in c["psi"].dims] == [["/cloud/x"], ["/cloud/y"]] and
+   [[s.name for s in dim.values()] for dim in c["phi"].dims] == [["/cloud/kx"], ["/cloud/ky"]],
+   "axes attached to psi and phi as dimension scales [h5py dims API]")
 ok(c["x"].attrs["units"] == "m" and c["kx"].attrs["units"] == "1/m" and c["psi"].attrs["units"] == "m^-1", "units attributes [h5py]")
 u = 1.66053906660e-27
 mass = 22.9897692820 * u
