@@ -211,6 +211,9 @@ pf_status pf_csv_read(pf_context *ctx, const char *path, pf_table *out)
         }
         lineno++;
         char *t = trim(line);
+        /* Spreadsheets often start UTF-8 files with a byte-order mark. */
+        if (lineno == 1 && (unsigned char)t[0] == 0xEF && (unsigned char)t[1] == 0xBB && (unsigned char)t[2] == 0xBF)
+            t = trim(t + 3);
         if (*t && *t != '#') {
             hdr = t;
             break;

@@ -209,6 +209,7 @@ static int run_script(const pfr_options *o)
         const char *msg = lua_tostring(L, -1);
         int missing = msg && strstr(msg, "cannot open") != NULL;
         fprintf(stderr, "psiflight: %s\n", msg);
+        if (!missing) pfr_record_end(L, PFR_EXIT_SCRIPT, msg, o->nsets, o->sets);
         lua_close(L);
         return missing ? PFR_EXIT_USAGE : PFR_EXIT_SCRIPT;
     }
