@@ -1,13 +1,23 @@
 -- test_outputs.lua - the output API: CSV and HDF5 round trips, loading a
 -- wave back (exact on the same grid, a clear error on another, linear
 -- interpolation on request), overwrite protection, bad names and paths.
--- Files go to a private temporary folder.
+-- Files go to a private folder (build/test-out/outputs under the suite).
 local pf = require "psiflight"
 local check = require "check"
 pf.setup{planning = "estimate"}
 
-local tmp = os.tmpname()
-os.remove(tmp)
+-- The suite runner exports PSIFLIGHT_BUILD; a folder there is removed by
+-- `make clean`.  Leftovers of an interrupted earlier run are removed first.
+local tmp
+if os.getenv("PSIFLIGHT_BUILD") then
+  tmp = os.getenv("PSIFLIGHT_BUILD") .. "/test-out/outputs"
+  for _, n in ipairs{"samples.csv", "special.csv", "coarse.csv", "state.h5", "log.csv", "phi_only.h5", "col.png"} do
+    os.remove(tmp .. "/" .. n)
+  end
+else
+  tmp = os.tmpname()
+  os.remove(tmp)
+end
 pf.setup{output_dir = tmp}
 
 -- 40Ca+ style mass for the invented "Harrow Point" ion-free test cloud;
