@@ -23,8 +23,20 @@ struct pf_h5 {
 static const char *const POS_AXES[PF_MAX_DIM] = {"x", "y", "z"};
 static const char *const MOM_AXES[PF_MAX_DIM] = {"kx", "ky", "kz"};
 
-/* HDF5 prints its own error stack by default; psiflight words its errors. */
-static void quiet_hdf5(void) { H5Eset_auto2(H5E_DEFAULT, NULL, NULL); }
+/* HDF5 prints its own error stack by default; psiflight words its errors.
+ * HDF5 1.10 also closes files left open from an exit handler, and crashes
+ * there on a file whose close already failed (a full disk); files are
+ * always closed (or given up) explicitly here, so that handler is turned
+ * off.  H5dont_atexit only works before the library starts, hence first. */
+static void quiet_hdf5(void)
+{
+    static int done;
+    if (!done) {
+        H5dont_atexit();
+        done = 1;
+    }
+    H5Eset_auto2(H5E_DEFAULT, NULL, NULL);
+}
 
 void pf_h5_version(char *buf, size_t size)
 {

@@ -95,12 +95,31 @@ static void begin_stream(const char *file, int w, int h)
     plschr(0, 0.95);
 }
 
+/* cairo reports no write errors through PLplot, so a full disk would go
+ * unnoticed: a complete PNG ends with the IEND chunk and its fixed CRC. */
+static int png_complete(const char *path)
+{
+    static const unsigned char iend[12] = {0, 0, 0, 0, 'I', 'E', 'N', 'D', 0xAE, 0x42, 0x60, 0x82};
+    FILE *f = fopen(path, "rb");
+    if (!f) return 0;
+    unsigned char tail[12];
+    int ok = fseek(f, -12, SEEK_END) == 0 && fread(tail, 1, 12, f) == 12 && memcmp(tail, iend, 12) == 0;
+    fclose(f);
+    return ok;
+}
+
 static pf_status finish(pf_context *ctx, pf_safefile *sf)
 {
     plend1();
     if (plplot_abort_seen) {
         pf_safe_abandon(sf);
         return pf_fail(ctx, PF_EIO, "PLplot failed: %s", plplot_abort_text);
+    }
+    if (!png_complete(sf->temp_path)) {
+        char final[512];
+        snprintf(final, sizeof final, "%s", sf->final_path);
+        pf_safe_abandon(sf);
+        return pf_fail(ctx, PF_EIO, "the picture '%s' could not be written completely (disk full?)", final);
     }
     return pf_safe_commit(ctx, sf);
 }
