@@ -92,7 +92,9 @@ static void begin_stream(const char *file, int w, int h)
     set_palette();
     plinit();
     pladv(0);
-    plschr(0, 0.95);
+    /* PLplot scales text with the page height; low pictures get part of
+     * that back so their labels stay legible without crowding the panel. */
+    plschr(0, 0.95 * (h < 640 ? sqrt(640.0 / h) : 1.0));
 }
 
 /* cairo reports no write errors through PLplot, so a full disk would go
@@ -172,6 +174,19 @@ pf_status pf_picture_map(pf_context *ctx, const char *path, int overwrite, const
     char ux[32], uy[32];
     double fx = pf_display_unit(m->xa.q, max_abs2(m->x[0] - hx, m->x[m->nx - 1] + hx), ux, sizeof ux);
     double fy = pf_display_unit(m->ya.q, max_abs2(m->y[0] - hy, m->y[m->ny - 1] + hy), uy, sizeof uy);
+    int equal = m->equal_aspect && m->xa.q == m->ya.q;
+    if (equal && m->xa.q != PF_Q_PLAIN) {
+        /* One unit for both axes, or equal lengths would not look equal. */
+        double both = fmax(max_abs2(m->x[0] - hx, m->x[m->nx - 1] + hx), max_abs2(m->y[0] - hy, m->y[m->ny - 1] + hy));
+        fx = fy = pf_display_unit(m->xa.q, both, ux, sizeof ux);
+        snprintf(uy, sizeof uy, "%s", ux);
+    }
+    if (equal && !m->height) {
+        /* Fit the picture to the map: a wide cloud gets a low picture. */
+        double ratio = (m->y[m->ny - 1] - m->y[0] + 2 * hy) / (m->x[m->nx - 1] - m->x[0] + 2 * hx);
+        double want = 0.66 * w * ratio / 0.78 + 0.5;
+        h = want < 420 ? 420 : (want > 640 ? 640 : (int)want);
+    }
     double vscale = 1;
     if (m->per_x) vscale /= fx;
     if (m->per_y) vscale /= fy;
@@ -231,7 +246,19 @@ pf_status pf_picture_map(pf_context *ctx, const char *path, int overwrite, const
     axis_label(lx, sizeof lx, m->xa.name, ux);
     axis_label(ly, sizeof ly, m->ya.name, uy);
     /* Main panel. */
-    plvpor(0.10, 0.76, 0.12, 0.90);
+    /* Equal aspect keeps a cloud's true shape (its aspect ratio is often
+     * the point of the picture); the panel then shrinks along one side. */
+    if (equal) {
+        double aspect = (y1 - y0) / (x1 - x0) * (double)w / (double)h;
+        double vx = 0.66, vy = 0.78; /* largest panel in normalised units */
+        if (aspect * vx > vy) vx = vy / aspect; else vy = aspect * vx;
+        double cx = 0.10 + 0.66 / 2, cy = 0.12 + 0.78 / 2;
+        plvpor(cx - vx / 2, cx + vx / 2, cy - vy / 2, cy + vy / 2);
+    } else {
+        plvpor(0.10, 0.76, 0.12, 0.90);
+    }
+    PLFLT px0, px1, py0, py1;
+    plgvpd(&px0, &px1, &py0, &py1);
     plwind(x0, x1, y0, y1);
     plimagefr((PLFLT_MATRIX)rows, (PLINT)m->nx, (PLINT)m->ny, x0, x1, y0, y1, vmin, vmax, vmin, vmax, NULL, NULL);
     plcol0(1);
@@ -243,7 +270,7 @@ pf_status pf_picture_map(pf_context *ctx, const char *path, int overwrite, const
     double ramp_v[2][64];
     PLFLT *ramp[2] = {ramp_v[0], ramp_v[1]};
     for (int i = 0; i < 64; i++) ramp_v[0][i] = ramp_v[1][i] = vmin + (vmax - vmin) * i / 63.0;
-    plvpor(0.79, 0.82, 0.12, 0.90);
+    plvpor(px1 + 0.03, px1 + 0.06, py0, py1);
     plwind(0, 1, vmin, vmax);
     plimagefr((PLFLT_MATRIX)ramp, 2, 64, 0, 1, vmin, vmax, vmin, vmax, vmin, vmax, NULL, NULL);
     plcol0(1);

@@ -35,6 +35,7 @@ typedef struct pf_map {
     const char *value_name;   /* e.g. "density" */
     const char *value_unit;   /* SI unit text of values when per_x/per_y are 0 */
     int per_x, per_y;         /* values are densities per unit of x / of y */
+    int equal_aspect;         /* one unit on x as long as one on y (same quantity only) */
     int width, height;        /* pixels, 0: 860 x 640 */
 } pf_map;
 

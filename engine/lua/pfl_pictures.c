@@ -59,7 +59,16 @@ static void commit_picture(lua_State *L, pf_status s, const char *path, const ch
     pfl_output_register(L, path);
 }
 
-/* pf.picture_map(path, w [, {title=, representation=, width=, height=}])
+static int aspect_option(lua_State *L, int opts)
+{
+    const char *a = opt_str(L, opts, "aspect", "equal");
+    if (!strcmp(a, "equal")) return 1;
+    if (!strcmp(a, "fill")) return 0;
+    return luaL_error(L, "picture_map: field 'aspect' must be \"equal\" or \"fill\", got '%s'", a);
+}
+
+/* pf.picture_map(path, w [, {title=, representation=, aspect="equal"|"fill",
+ *   width=, height=}])
  * -> final path.  2D: |psi|^2 over x, y; 3D: the column density along the
  * third axis (what an absorption image along z records). */
 static int l_picture_map(lua_State *L)
@@ -92,6 +101,7 @@ static int l_picture_map(lua_State *L)
         .values = rho,
         .value_name = d == 3 ? "column density" : (rep == PF_POSITION ? "|#gq|#u2#d" : "|#gf|#u2#d"),
         .per_x = 1, .per_y = 1,
+        .equal_aspect = aspect_option(L, 3),
         .width = opt_int(L, 3, "width", 0), .height = opt_int(L, 3, "height", 0),
     };
     commit_picture(L, pf_picture_map(pfl_ctx(L), path, pfl_overwrite_option(L, 3), &m), path, "picture_map");
