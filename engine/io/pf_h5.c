@@ -185,6 +185,13 @@ static pf_status check_name(pf_h5 *f, const char *name)
         ok = (c >= 'a' && c <= 'z') || (c >= 'A' && c <= 'Z') || (c >= '0' && c <= '9') || c == '_' || c == '-' ||
              c == '.' || c == '/';
     }
+    /* "." and ".." are HDF5 path words, not names. */
+    for (const char *p = name; ok && p && *p;) {
+        size_t len = strcspn(p, "/");
+        ok = !(len == 1 && p[0] == '.') && !(len == 2 && p[0] == '.' && p[1] == '.');
+        p += len;
+        if (*p == '/') p++;
+    }
     if (!ok)
         return pf_fail(f->ctx, PF_EINVAL,
                        "item name '%s' must be 1..200 letters, digits, '_', '-', '.' with '/' between parts",

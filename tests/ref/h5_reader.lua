@@ -45,6 +45,20 @@ end
 local w = pf.load_wave(file, {dataset = "phi", axes = {"k"}, representation = "momentum", grid = g, mass = mass})
 local worst = worst_against_formula(w)
 check.truthy(worst <= 1e-9 * peak, string.format("h5py phi(k) loads and gives the packet psi(x) (max diff %.1e)", worst))
+-- 2D: psi(x) times (2 pi sy^2)^(-1/4) exp(-y^2 / 4 sy^2), sy = 1.5 um.
+local g2 = pf.grid{points = {64, 32}, span = {64e-6, 16e-6}}
+local w2 = pf.load_wave(file, {dataset = "amp2", axes = {"xpos", "ypos"}, grid = g2, mass = mass})
+local sy, worst2 = 1.5e-6, 0
+for i = 1, 64 do
+  for j = 1, 32 do
+    local re, im = psi(g2:x(1, i))
+    local fy = (2 * math.pi * sy ^ 2) ^ -0.25 * math.exp(-g2:x(2, j) ^ 2 / (4 * sy ^ 2))
+    local z = w2:psi(i, j)
+    worst2 = math.max(worst2, math.abs(z.re - re * fy), math.abs(z.im - im * fy))
+  end
+end
+local peak2 = peak * (2 * math.pi * sy ^ 2) ^ -0.25
+check.truthy(worst2 <= 1e-12 * peak2, string.format("h5py 2D dataset with two axes matches the formula (max diff %.1e)", worst2))
 check.fails(function() pf.load_wave(file, {dataset = "amp", axes = {"xpos"}, grid = pf.grid{points = 64, span = 70e-6}, mass = mass}) end,
   "h5py data on another grid: clear error", "grid mismatch")
 check.fails(function() pf.load_wave(file, {dataset = "xpos", grid = g, mass = mass}) end,

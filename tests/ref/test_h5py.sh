@@ -83,6 +83,13 @@ with h5py.File(sys.argv[1], "w") as f:
     f["named"] = named
     f["phi"] = phi
     f["k"] = k
+    # 2D: the same packet along x times a narrower one along y (row-major,
+    # last axis fastest, as numpy stores it).
+    ny, Ly = 32, 16e-6
+    yy = (np.arange(ny) - ny // 2) * (Ly / ny)
+    gy = (2 * np.pi * 1.5e-6 ** 2) ** -0.25 * np.exp(-yy ** 2 / (4 * 1.5e-6 ** 2))
+    f["amp2"] = psi[:, None] * gy[None, :]
+    f["ypos"] = yy
 print("ok h5py wrote a reference file")
 PY
 
