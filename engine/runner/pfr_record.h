@@ -9,10 +9,13 @@
 /* Tells the engine the script path and the --quiet / --overwrite flags. */
 void pfr_record_begin(lua_State *L, const char *script, int quiet, int overwrite);
 /* Finishes open outputs and writes the manifest; returns the exit status to
- * use (status, or PFR_EXIT_SCRIPT when an ok run could not write it). */
+ * use: status, PFR_EXIT_SCRIPT when an ok run could not write the manifest,
+ * or 128 + signal number when a signal interrupted the run. */
 int pfr_record_end(lua_State *L, int status, const char *error, int nsets, char **sets);
-/* SIGINT, SIGTERM and SIGHUP remove files still being written, then end the
- * process as the signal would have. */
+/* SIGINT, SIGTERM and SIGHUP: the first stops the script with an error (its
+ * outputs are discarded, the manifest says "failed"); a second, or one
+ * outside a script, removes files still being written and ends the process
+ * as the signal would have. */
 void pfr_install_interrupt_cleanup(void);
 
 #endif
