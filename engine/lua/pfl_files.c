@@ -487,6 +487,10 @@ static int l_load_wave(lua_State *L)
     int normalize = pfl_field_boolean(L, 2, "normalize", csv);
     pf_grid *g;
     if (lua_getfield(L, 2, "grid") != LUA_TNIL) {
+        if (!luaL_testudata(L, -1, PFL_GRID_TYPE)) {
+            char buf[80];
+            return luaL_error(L, "load_wave: field 'grid' must be a grid (pf.grid), got %s", pfl_describe(L, -1, buf, sizeof buf));
+        }
         g = pfl_check_grid(L, -1);
         pf_grid_retain(g);
     } else {

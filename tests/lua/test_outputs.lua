@@ -135,6 +135,7 @@ local m2 = moved:position_mean()
 check.close(m2, m1, 1e-9, "interpolated state keeps its centre", "same state on two grids (definition)")
 
 check.fails(function() pf.load_wave(path, {item = "nothing", grid = g}) end, "missing item named", "no item 'nothing'")
+check.fails(function() pf.load_wave(path, {item = "cloud", grid = 5}) end, "grid= must be a grid", "field 'grid' must be a grid", "got 5")
 check.fails(function() pf.load_wave(tmp .. "/special.csv", {mass = mass, grid = g}) end, "CSV without x, re, im", "needs columns x")
 
 -- ---- overwrite protection and paths ----
