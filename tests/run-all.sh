@@ -36,7 +36,9 @@ for t in "$root/$build"/tests/test_*; do
 done
 for t in "$root"/tests/lua/test_*.lua; do
   [ -e "$t" ] || continue
-  run_suite "lua/$(basename "$t")" "$runner" run "$t"
+  # Each Lua test gets its own output folder (its manifest lands there too).
+  out="$root/$build/test-out/$(basename "$t" .lua)"
+  run_suite "lua/$(basename "$t")" "$runner" run "$t" --out "$out"
 done
 for t in "$root"/tests/runner/test_*.sh; do
   [ -e "$t" ] || continue

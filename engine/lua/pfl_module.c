@@ -20,6 +20,10 @@ static const pfl_opener openers[] = {
     pfl_open_guard,
     pfl_open_longflight,
     pfl_open_params,
+    pfl_open_record,
+    pfl_open_files,
+    pfl_open_pictures,
+    pfl_open_progress,
 };
 
 int luaopen_psiflight(lua_State *L)

@@ -17,7 +17,7 @@ void pfr_usage(FILE *f)
           "       psiflight --version\n"
           "run options: --set NAME=VALUE  --seed N  --out DIR  --data PATH  --threads N  --strict\n"
           "             --planning measure|estimate  --wisdom PATH|off  --trusted\n"
-          "             --time-limit SECONDS  --memory-cap BYTES (e.g. 512MiB)\n"
+          "             --time-limit SECONDS  --memory-cap BYTES (e.g. 512MiB)  --quiet  --overwrite\n"
           "Exit status: 0 ok, 1 script error, 2 usage, 3 guard (strict), 4 sandbox, 5 resource limit,\n"
           "             6 some sweep points failed.\n"
           "See docs/runner.md.\n",
@@ -125,6 +125,10 @@ int pfr_options_parse(int argc, char **argv, int first, const char *command, pfr
             o->help = 1;
         } else if (strcmp(a, "--trusted") == 0) {
             o->trusted = 1;
+        } else if (strcmp(a, "--quiet") == 0) {
+            o->quiet = 1;
+        } else if (strcmp(a, "--overwrite") == 0) {
+            o->overwrite = 1;
         } else if (strcmp(a, "--time-limit") == 0) {
             NEED("a duration");
             if (parse_seconds(val, &o->time_limit) != 0)

@@ -27,6 +27,8 @@ typedef struct pfr_options {
     long long seed;       /* -1: default */
     int help;             /* --help after the script: list its parameters */
     int trusted;          /* --trusted: no sandbox */
+    int quiet;            /* --quiet: no progress bars */
+    int overwrite;        /* --overwrite: writers may replace existing files */
     double time_limit;    /* wall-clock seconds, 0: none */
     size_t memory_cap;    /* bytes, 0: defaults (Lua heap 4 GiB, engine 16 GiB) */
     /* sweep only */

@@ -16,13 +16,14 @@
 #include <lualib.h>
 #include "../core/pf_version.h"
 #include "../lua/pfl.h"
+#include "../io/pf_sha256.h"
 #include "../lua/pfl_params.h"
 #include "pfr_exit.h"
 #include "pfr_limits.h"
 #include "pfr_modules.h"
 #include "pfr_run.h"
 #include "pfr_sandbox.h"
-#include "pfr_sha256.h"
+#include "pfr_record.h"
 #include "pfr_sweep.h"
 #include "pfr_traceback.h"
 
@@ -41,10 +42,10 @@ static const char *recipe_name(const char *script)
 int pfr_script_digest(const char *script, char hex[65])
 {
     const char *name = recipe_name(script);
-    if (!name) return pfr_sha256_file(script, hex);
+    if (!name) return pf_sha256_file(script, hex);
     const pfr_bundled_recipe *r = pfr_recipe_find(name);
     if (!r) return -1;
-    pfr_sha256_buffer(r->source, r->length, hex);
+    pf_sha256_buffer(r->source, r->length, hex);
     return 0;
 }
 
@@ -215,7 +216,7 @@ int pfr_run_script(const pfr_options *o)
             return pfr_usage_error("no bundled recipe '%s' (psiflight recipe lists them)", recipe);
         snprintf(label, sizeof label, "recipe %s", recipe);
     } else {
-        if (pfr_sha256_file(o->script, digest) != 0)
+        if (pf_sha256_file(o->script, digest) != 0)
             return pfr_usage_error("cannot read the script %s: %s", o->script, strerror(errno));
         snprintf(dir, sizeof dir, "%s", o->script);
         char *slash = strrchr(dir, '/');
@@ -251,6 +252,9 @@ int pfr_run_script(const pfr_options *o)
         lua_close(L);
         return PFR_EXIT_USAGE;
     }
+    /* The run's record: outputs, --quiet/--overwrite, and the manifest
+     * written at the end (also for a failed run). */
+    pfr_record_begin(L, recipe ? label : o->script, digest, o->quiet, o->overwrite);
     int nargs = load_script(L, o, recipe);
     int status;
     if (nargs < 0) {
@@ -258,8 +262,12 @@ int pfr_run_script(const pfr_options *o)
         const char *msg = lua_tostring(L, -1);
         fprintf(stderr, "psiflight: %s\n", msg ? msg : "cannot load the script");
         status = msg && strstr(msg, "attempt to load a binary chunk") ? PFR_EXIT_SANDBOX : PFR_EXIT_SCRIPT;
+        status = pfr_record_end(L, status, msg, o->nsets, o->sets);
     } else {
         status = execute(L, o, &lim, handler, nargs);
+        /* A --help listing is not a run: it leaves no manifest. */
+        if (!o->help)
+            status = pfr_record_end(L, status, status == PFR_EXIT_OK ? NULL : lua_tostring(L, -1), o->nsets, o->sets);
     }
     fflush(stdout);
     lua_close(L);
@@ -313,7 +321,14 @@ int pfr_main(int argc, char **argv)
         snprintf(script, sizeof script, "%s%s", PFR_RECIPE_SCHEME, o.script);
         o.script = script;
     }
-    if (st == PFR_EXIT_OK) st = strcmp(cmd, "sweep") == 0 ? pfr_sweep_main(&o, argv[0]) : pfr_run_script(&o);
+    if (st == PFR_EXIT_OK && strcmp(cmd, "sweep") == 0) {
+        st = pfr_sweep_main(&o, argv[0]);
+    } else if (st == PFR_EXIT_OK) {
+        /* A run stops cleanly on Ctrl-C/SIGTERM and never leaves a
+         * half-written file (pfr_record.c); sweeps handle signals themselves. */
+        pfr_install_interrupt_cleanup();
+        st = pfr_run_script(&o);
+    }
     pfr_options_free(&o);
     return st;
 }
