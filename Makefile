@@ -34,24 +34,44 @@ TEST_PC     ?= gsl libcerf
 TEST_CFLAGS := $(shell pkg-config --cflags $(TEST_PC) 2>/dev/null)
 TEST_LIBS   := $(shell pkg-config --libs $(TEST_PC) 2>/dev/null)
 
+# Runner: cJSON reads run manifests (sweeps); MPI is optional - without
+# pkg-config's ompi-c (or with MPI_PC=none) sweeps run on one machine only.
+CJSON_PC  ?= libcjson
+CJSON_CFLAGS := $(shell pkg-config --cflags $(CJSON_PC) 2>/dev/null)
+CJSON_LIBS   := $(shell pkg-config --libs $(CJSON_PC) 2>/dev/null || echo -lcjson)
+MPI_PC    ?= ompi-c
+MPI_LIBS  := $(shell pkg-config --libs $(MPI_PC) 2>/dev/null)
+MPI_CFLAGS := $(if $(MPI_LIBS),-DPFR_HAVE_MPI $(shell pkg-config --cflags $(MPI_PC) 2>/dev/null))
+# Output layer (engine/io): HDF5 serial, PLplot, cJSON.  Only engine/io sees
+# their headers; the core library stays free of them.
+IO_PC     ?= hdf5-serial plplot libcjson
+IO_CFLAGS := $(shell pkg-config --cflags $(IO_PC) 2>/dev/null)
+# The HDF5 high-level library (dimension scales) has no pkg-config module of
+# its own in Debian; it sits beside libhdf5.
+IO_LIBS   := $(patsubst -lhdf5,-lhdf5_hl -lhdf5,$(shell pkg-config --libs $(IO_PC) 2>/dev/null))
+
 ALL_CFLAGS = $(CFLAGS_BASE) $(CFLAGS) $(SAN)
 CORE_LIBS  = $(FFTW_LIBS) -lm -fopenmp $(SAN)
 
 CORE_SRC   := $(sort $(wildcard engine/core/*.c))
+IO_SRC     := $(sort $(wildcard engine/io/*.c))
 LUA_SRC    := $(sort $(wildcard engine/lua/*.c))
 RUNNER_SRC := $(sort $(wildcard engine/runner/*.c))
 UNIT_SRC   := $(sort $(wildcard tests/unit/test_*.c))
 UNIT_HELP  := $(filter-out $(UNIT_SRC),$(sort $(wildcard tests/unit/*.c)))
 
 CORE_OBJ   := $(CORE_SRC:%.c=$(BUILD)/%.o)
+IO_OBJ     := $(IO_SRC:%.c=$(BUILD)/%.o)
 LUA_OBJ    := $(LUA_SRC:%.c=$(BUILD)/%.o)
-RUNNER_OBJ := $(RUNNER_SRC:%.c=$(BUILD)/%.o)
+RUNNER_OBJ := $(RUNNER_SRC:%.c=$(BUILD)/%.o) $(BUILD)/gen/pfr_recipe_data.o
+RECIPE_SRC := $(sort $(wildcard engine/recipes/*.lua))
 UNIT_BIN   := $(UNIT_SRC:tests/unit/%.c=$(BUILD)/tests/%)
 UNIT_HELP_OBJ := $(UNIT_HELP:%.c=$(BUILD)/%.o)
 
 RUNNER := $(BUILD)/psiflight
 MODULE := $(BUILD)/psiflight.so
 CORE_LIB := $(BUILD)/libpsiflight-core.a
+IO_LIB   := $(BUILD)/libpsiflight-io.a
 
 .PHONY: all deps build test demo bench asan clean unit-tests lua-tests ref-tests
 .DEFAULT_GOAL := all
@@ -66,33 +86,51 @@ $(BUILD)/engine/core/%.o: engine/core/%.c $(wildcard engine/core/*.h)
 	@mkdir -p $(dir $@)
 	$(CC) $(ALL_CFLAGS) $(FFTW_CFLAGS) -c $< -o $@
 
+$(BUILD)/engine/io/%.o: engine/io/%.c $(wildcard engine/io/*.h engine/core/*.h)
+	@mkdir -p $(dir $@)
+	$(CC) $(ALL_CFLAGS) $(IO_CFLAGS) $(FFTW_CFLAGS) -c $< -o $@
+
 # The core must not see Lua: it is compiled without the Lua include path.
-$(BUILD)/engine/lua/%.o: engine/lua/%.c $(wildcard engine/lua/*.h engine/core/*.h)
+$(BUILD)/engine/lua/%.o: engine/lua/%.c $(wildcard engine/lua/*.h engine/core/*.h engine/io/*.h)
 	@mkdir -p $(dir $@)
 	$(CC) $(ALL_CFLAGS) $(LUA_CFLAGS) $(FFTW_CFLAGS) -c $< -o $@
 
-$(BUILD)/engine/runner/%.o: engine/runner/%.c $(wildcard engine/runner/*.h engine/lua/*.h engine/core/*.h)
+$(BUILD)/engine/runner/%.o: engine/runner/%.c $(wildcard engine/runner/*.h engine/lua/*.h engine/core/*.h engine/io/*.h)
 	@mkdir -p $(dir $@)
-	$(CC) $(ALL_CFLAGS) $(LUA_CFLAGS) -c $< -o $@
+	$(CC) $(ALL_CFLAGS) $(LUA_CFLAGS) $(CJSON_CFLAGS) $(MPI_CFLAGS) -c $< -o $@
+
+# The bundled recipe library: engine/recipes/*.lua compiled into the runner.
+$(BUILD)/gen/pfr_recipe_data.c: $(RECIPE_SRC) scripts/embed-recipes.sh
+	@mkdir -p $(dir $@)
+	bash scripts/embed-recipes.sh $@ $(RECIPE_SRC)
+
+$(BUILD)/gen/pfr_recipe_data.o: $(BUILD)/gen/pfr_recipe_data.c engine/runner/pfr_recipes.h
+	$(CC) $(ALL_CFLAGS) -Iengine/runner -c $< -o $@
 
 $(CORE_LIB): $(CORE_OBJ)
 	@mkdir -p $(dir $@)
 	rm -f $@
 	ar rcs $@ $^
 
-$(RUNNER): $(RUNNER_OBJ) $(LUA_OBJ) $(CORE_LIB)
-	$(CC) -o $@ $(RUNNER_OBJ) $(LUA_OBJ) $(CORE_LIB) $(LUA_LIBS) $(CORE_LIBS) -Wl,-E
+$(IO_LIB): $(IO_OBJ)
+	@mkdir -p $(dir $@)
+	rm -f $@
+	ar rcs $@ $^
+
+$(RUNNER): $(RUNNER_OBJ) $(LUA_OBJ) $(IO_LIB) $(CORE_LIB)
+	$(CC) -o $@ $(RUNNER_OBJ) $(LUA_OBJ) $(IO_LIB) $(CORE_LIB) $(LUA_LIBS) $(IO_LIBS) $(CJSON_LIBS) $(MPI_LIBS) $(CORE_LIBS) -Wl,-E
 
 # The Lua C module takes Lua's symbols from the interpreter that loads it.
-$(MODULE): $(LUA_OBJ) $(CORE_LIB)
-	$(CC) -shared -o $@ $(LUA_OBJ) $(CORE_LIB) $(CORE_LIBS)
+$(MODULE): $(LUA_OBJ) $(IO_LIB) $(CORE_LIB)
+	$(CC) -shared -o $@ $(LUA_OBJ) $(IO_LIB) $(CORE_LIB) $(IO_LIBS) $(CORE_LIBS)
 
-$(BUILD)/tests/unit/%.o: tests/unit/%.c $(wildcard tests/unit/*.h engine/core/*.h)
+$(BUILD)/tests/unit/%.o: tests/unit/%.c $(wildcard tests/unit/*.h engine/core/*.h engine/io/*.h)
 	@mkdir -p $(dir $@)
 	$(CC) $(ALL_CFLAGS) $(FFTW_CFLAGS) $(CMOCKA_CFLAGS) $(TEST_CFLAGS) -Iengine/core -c $< -o $@
 
-$(BUILD)/tests/%: $(BUILD)/tests/unit/%.o $(UNIT_HELP_OBJ) $(CORE_LIB)
-	$(CC) -o $@ $< $(UNIT_HELP_OBJ) $(CORE_LIB) $(CMOCKA_LIBS) $(TEST_LIBS) $(CORE_LIBS)
+# Unit tests may also exercise the output layer (engine/io).
+$(BUILD)/tests/%: $(BUILD)/tests/unit/%.o $(UNIT_HELP_OBJ) $(IO_LIB) $(CORE_LIB)
+	$(CC) -o $@ $< $(UNIT_HELP_OBJ) $(IO_LIB) $(CORE_LIB) $(CMOCKA_LIBS) $(TEST_LIBS) $(IO_LIBS) $(CORE_LIBS)
 
 unit-tests: $(UNIT_BIN)
 
@@ -102,7 +140,7 @@ test: deps
 
 demo: deps
 	@$(MAKE) --no-print-directory all
-	@$(RUNNER) run examples/release_tof.lua
+	@$(RUNNER) run examples/release_tof.lua --overwrite
 
 # Each tests/bench/bench_NAME.c is one benchmark program; run-bench.sh runs
 # them all and prints their ratios against raw FFTW.
@@ -120,7 +158,7 @@ $(BUILD)/bench/bench_%: tests/bench/bench_%.c tests/bench/bench_util.h $(CORE_LI
 asan: deps
 	@$(MAKE) --no-print-directory BUILD=build-asan OPT="-O1 -g -fno-omit-frame-pointer" \
 	  SAN="-fsanitize=address,undefined -fno-sanitize-recover=undefined" all unit-tests
-	@ASAN_OPTIONS=detect_leaks=1 UBSAN_OPTIONS=print_stacktrace=1 bash tests/run-all.sh build-asan
+	@ASAN_OPTIONS=detect_leaks=1 LSAN_OPTIONS=suppressions=$(CURDIR)/tests/lsan-suppressions.txt:print_suppressions=0 UBSAN_OPTIONS=print_stacktrace=1 bash tests/run-all.sh build-asan
 
 clean:
 	rm -rf build build-asan

@@ -9,14 +9,20 @@
 -- width law sigma(t) = sigma0 sqrt(1 + (hbar t / 2 m sigma0^2)^2) and with
 -- the free drift <x>(t) = x0 + v t.
 --
--- Run: build/psiflight run examples/release_tof.lua [--set tof_ms=5]
+-- Outputs (docs/outputs.md) go into the run's output folder (--out DIR,
+-- default out/release_tof): an HDF5 file with the trapped and the released
+-- cloud, a CSV table of the widths, three PNG pictures (the cloud after the
+-- flight, computed widths against the textbook law, and the space-time
+-- carpet of the cloud's tight-axis profile) and the run manifest.
+--
+-- Run: build/psiflight run examples/release_tof.lua [--set tof_ms=5] [--overwrite]
 local pf = require "psiflight"
 
 -- CODATA 2018: h exact (2019 SI), atomic mass constant u.
 local h = 6.62607015e-34
 local hbar = h / (2 * math.pi)
 local u = 1.66053906660e-27
-local mass = 38.9637064864 * u          -- 39K atomic mass, AME2020
+local mass = pf.mass("39K")              -- 39K atomic mass, AME2020 (species table)
 local omega_x = 2 * math.pi * 1200.0    -- trap frequencies (rad/s)
 local omega_y = 2 * math.pi * 150.0
 local drift = 1.5e-3                    -- residual drift along x (m/s)
@@ -36,6 +42,8 @@ local cloud = pf.wave(grid, {
   end,
 })
 
+local trapped = cloud:copy()  -- kept for the output file
+
 local function width_law(s0, t)
   return s0 * math.sqrt(1 + (hbar * t / (2 * mass * s0 * s0)) ^ 2)
 end
@@ -46,6 +54,7 @@ print(string.format("grid %d x %d points, span %.0f x %.0f um; sigma0 = %.4f x %
 print(" t (ms)   sigma_x (um)  textbook      sigma_y (um)  textbook      <x> (um)   drift     aspect y/x")
 local worst = 0
 local times = {0, 0.5, 1, 2, 3.5, tof_ms}
+local rows = {t = {}, sx = {}, sx_law = {}, sy = {}, sy_law = {}, mx = {}}
 local flown = 0
 for _, tms in ipairs(times) do
   local t = tms * 1e-3
@@ -56,8 +65,79 @@ for _, tms in ipairs(times) do
   local ex, ey = width_law(sx, t), width_law(sy, t)
   local ev = drift * t
   worst = math.max(worst, math.abs(wx / ex - 1), math.abs(wy / ey - 1))
+  for name, v in pairs{t = t, sx = wx, sx_law = ex, sy = wy, sy_law = ey, mx = mx} do
+    table.insert(rows[name], v)
+  end
   print(string.format("%7.2f   %11.5f  %11.5f   %11.5f  %11.5f   %9.4f  %9.4f   %8.4f",
     tms, wx * 1e6, ex * 1e6, wy * 1e6, ey * 1e6, mx * 1e6, ev * 1e6, wy / wx))
 end
 print(string.format("largest relative deviation from the textbook width law: %.1e", worst))
 print(string.format("norm after %.2f ms of flight: %.15f", flown * 1e3, cloud:norm()))
+
+-- ---- outputs ------------------------------------------------------------
+local final_wx, final_wy = cloud:position_width()
+pf.report("sigma_x_final", final_wx, "m")
+pf.report("sigma_y_final", final_wy, "m")
+pf.report("aspect_y_over_x_final", final_wy / final_wx, "")
+pf.report("width_law_max_rel_deviation", worst, "")
+pf.report("tof", flown, "s")
+
+local h5 <close> = pf.h5file("release_tof.h5")
+h5:put_wave("trapped", trapped)
+h5:put_wave("released", cloud, {parts = "both"})
+h5:put_density("released_density", cloud)
+h5:put_table("widths", {
+  {"t", "s", rows.t}, {"sigma_x", "m", rows.sx}, {"sigma_x_law", "m", rows.sx_law},
+  {"sigma_y", "m", rows.sy}, {"sigma_y_law", "m", rows.sy_law}, {"mean_x", "m", rows.mx},
+})
+h5:put_value("tof", flown, "s")
+local h5_path = h5:close()
+
+local csv_path = pf.write_csv("widths.csv", {
+  {"t", "s", rows.t}, {"sigma_x", "m", rows.sx}, {"sigma_x_law", "m", rows.sx_law},
+  {"sigma_y", "m", rows.sy}, {"sigma_y_law", "m", rows.sy_law}, {"mean_x", "m", rows.mx},
+})
+
+local map_path = pf.picture_map("cloud_after_tof.png", cloud,
+  {title = string.format("39K cloud after %.1f ms of flight (Kestrel Row)", flown * 1e3)})
+
+-- Widths on a finer time grid for the picture: computed (solid) against the
+-- textbook law (dashed).
+local tt, cx, lx, cy, ly = {}, {}, {}, {}, {}
+local probe = trapped:copy()
+local steps = 20
+for j = 0, steps do
+  local t = flown * j / steps
+  if j > 0 then probe:fly(flown / steps) end
+  local wx, wy = probe:position_width()
+  tt[#tt + 1], cx[#cx + 1], cy[#cy + 1] = t, wx, wy
+  lx[#lx + 1], ly[#ly + 1] = width_law(sx, t), width_law(sy, t)
+end
+probe:close()
+local um = function(v) local o = {} for i, x in ipairs(v) do o[i] = x * 1e6 end return o end
+local widths_path = pf.picture_lines("widths.png", {
+  title = "rms widths during the flight: engine against the textbook law",
+  x_name = "t", x_quantity = "time", y_name = "rms width", y_unit = "#gmm", legend = "upper left",
+  series = {
+    {x = tt, y = um(cx), label = "x, engine"}, {x = tt, y = um(lx), label = "x, textbook", points = true},
+    {x = tt, y = um(cy), label = "y, engine"}, {x = tt, y = um(ly), label = "y, textbook", points = true},
+  },
+})
+
+-- The tight axis alone, as a 1D state: its density over x and t.
+local line = pf.grid{points = grid:points(1), span = grid:span(1)}
+local cut = pf.wave(line, {
+  mass = mass,
+  position = function(x)
+    local amp = math.exp(-x * x / (4 * sx * sx))
+    return amp * math.cos(k0 * x), amp * math.sin(k0 * x)
+  end,
+})
+local carpet_path = pf.picture_carpet("carpet_x.png", cut, {
+  duration = flown, frames = 120, title = "tight-axis profile during the flight (each time scaled to its peak)",
+  per_frame = true, x_range = {-30e-6, 45e-6},
+})
+
+print("outputs:")
+for _, p in ipairs{h5_path, csv_path, map_path, widths_path, carpet_path} do print("  " .. p) end
+print("  " .. pf.output_path("manifest.json") .. " (written when the run ends)")

@@ -4,6 +4,7 @@
 #include <stdlib.h>
 #include <string.h>
 #include "pf_constants.h"
+#include "pf_guard.h"
 #include "pf_kernels.h"
 #include "pf_observe.h"
 #include "pf_relax.h"
@@ -207,6 +208,7 @@ pf_status pf_wave_relax(pf_wave *w, const pf_relax_spec *spec, pf_relax_info *in
     }
     pf_wave_log_step(w, "relax", "imaginary-time", 0.0, 0.0, -1.0);
 done:
+    if (s) pf_guard_forget(w); /* a failure part-way leaves changed data unlogged */
     pf_free(ctx, scratch, bytes_c);
     if (factor) pf_free(ctx, factor, bytes_r);
     for (int a = 0; a < g->dim; a++) free(kin[a]);

@@ -4,6 +4,7 @@
 #include <stdlib.h>
 #include <string.h>
 #include "pf_constants.h"
+#include "pf_guard.h"
 #include "pf_kernels.h"
 #include "pf_splitstep.h"
 
@@ -337,7 +338,10 @@ pf_status pf_wave_evolve(pf_wave *w, double t, const pf_evolve_spec *spec, pf_ev
         }
     }
     ws_free(&ws);
-    if (s) return s;
+    if (s) {
+        pf_guard_forget(w); /* the data changed part-way without a logged step */
+        return s;
+    }
     w->clock = t0 + t;
     const char *method = spec->order == 2 ? (spec->g != 0 ? "strang-gp" : "strang")
                                           : (spec->g != 0 ? "yoshida-4-gp" : "yoshida-4");

@@ -24,7 +24,8 @@ typedef enum pfl_error_kind {
     PFL_ERROR_SCRIPT = 0, /* ordinary script or argument error */
     PFL_ERROR_GUARD,      /* a numerical guard tripped in strict mode */
     PFL_ERROR_LIMIT,      /* a resource cap (memory, time) was reached */
-    PFL_ERROR_SANDBOX     /* the sandbox refused an operation */
+    PFL_ERROR_SANDBOX,    /* the sandbox refused an operation */
+    PFL_ERROR_USAGE       /* a bad command-line value (--set NAME=VALUE) */
 } pfl_error_kind;
 
 /* Opens the module and leaves its table on the stack (Lua C module entry). */
@@ -51,6 +52,45 @@ unsigned long long pfl_seed(lua_State *L);
 /* Output folder of the run (pf.setup{output_dir=}, runner --out), or NULL. */
 const char *pfl_output_dir(lua_State *L);
 
+/* Number of warnings the engine emitted in this state so far (for the
+ * run manifest's guard figures). */
+unsigned long pfl_warning_count(lua_State *L);
+
+/* ---- run record: output folder, outputs, results, manifest (pfl_record.c) ---- */
+/* Resolves the path an output writer was given and pushes it: absolute
+ * paths stay as they are; relative ones (no ".." parts) go into the run's
+ * output folder (runner --out, pf.setup{output_dir=}, else out/<script
+ * stem>), which is fixed at the first write.  Raises on a bad path. */
+const char *pfl_output_resolve(lua_State *L, const char *path, const char *fname);
+/* Records a committed output file (its final path) for the manifest. */
+void pfl_output_register(lua_State *L, const char *final_path);
+/* Whether writers may replace existing files by default (runner --overwrite). */
+int pfl_overwrite_default(lua_State *L);
+/* The overwrite choice for a writer: field 'overwrite' of the options table
+ * at opts (0 or none: the run's default). */
+int pfl_overwrite_option(lua_State *L, int opts);
+/* Quiet mode (runner --quiet): no progress bars. */
+int pfl_quiet(lua_State *L);
+/* True when a progress bar should be drawn: not quiet and stderr a terminal. */
+int pfl_progress_wanted(lua_State *L);
+/* Remembers the largest guard figures in w's step log for the manifest. */
+void pfl_note_guards(lua_State *L, const pf_wave *w);
+/* Keeps the userdata at idx as an open output whose metatable has a
+ * __finish(self, ok) method; the end of the run calls it for every output
+ * still open.  pfl_untrack_output forgets it (after close). */
+void pfl_track_output(lua_State *L, int idx);
+void pfl_untrack_output(lua_State *L, int idx);
+/* Runner hooks: the script path and flags before the run, and at its end
+ * finishing open outputs and writing the manifest (when the run has an
+ * output folder).  Parameters are "NAME=VALUE" strings; the last value of a
+ * name wins.  pfl_record_finish returns 0, or -1 after printing why the
+ * manifest could not be written. */
+void pfl_record_configure(lua_State *L, const char *script, const char *sha256, int quiet, int overwrite);
+int pfl_record_finish(lua_State *L, int ok, const char *error, int nsets, char *const *sets);
+/* A scratch array of n doubles owned by a userdata pushed on the stack (so
+ * an error raised later frees it). */
+double *pfl_scratch_doubles(lua_State *L, size_t n);
+
 /* ---- argument helpers (pfl_args.c) ---- */
 /* A finite number at arg, else an argument error naming what it is. */
 double pfl_check_finite(lua_State *L, int arg, const char *what);
@@ -66,6 +106,11 @@ int pfl_field_boolean(lua_State *L, int t, const char *field, int def);
 /* Formats the Lua value at idx for an error message (numbers, short strings,
  * type names), into buf. */
 const char *pfl_describe(lua_State *L, int idx, char *buf, size_t size);
+
+/* Field 'mass' of the table at t: a positive mass in kg or a species label
+ * such as "87Rb" (pfl_units.c).  Raises an error naming fname otherwise,
+ * listing close species labels for an unknown one. */
+double pfl_field_mass(lua_State *L, int t, const char *fname);
 
 /* ---- complex numbers (pfl_complex.c) ---- */
 void pfl_push_complex(lua_State *L, double complex z);
@@ -95,6 +140,20 @@ void pfl_add_functions(lua_State *L, int mod, const luaL_Reg *funcs);
  * (pcall per point; a failing callback re-raises its error). */
 void pfl_fill_from_function(lua_State *L, pf_wave *w, pf_rep rep, int arg, const char *name);
 
+/* ---- file access policy (pfl_file_policy.c) ----
+ * Every binding function that opens a file for a script checks the path here
+ * first, so the sandbox covers engine outputs as well as io.open. */
+typedef enum pfl_access { PFL_ACCESS_READ = 0, PFL_ACCESS_WRITE = 1 } pfl_access;
+/* Lets scripts of this state read (or read and write) below path, a folder
+ * or a single file.  Once one root is added the policy is enforced; with none
+ * every path is allowed (the module loaded outside the runner, --trusted).
+ * Returns 0, or -1 when path cannot be resolved (errno set). */
+int pfl_files_allow(lua_State *L, const char *path, pfl_access access);
+/* Raises a sandbox error naming op and path unless the policy allows the
+ * access: no ".." component, and the resolved path (symbolic links followed)
+ * inside an allowed root. */
+void pfl_files_check(lua_State *L, const char *path, pfl_access access, const char *op);
+
 /* ---- openers: each registers its group into the module table at mod ---- */
 void pfl_open_context(lua_State *L, int mod);
 void pfl_open_complex(lua_State *L, int mod);
@@ -102,6 +161,16 @@ void pfl_open_grid(lua_State *L, int mod);
 void pfl_open_wave(lua_State *L, int mod);
 void pfl_open_flight(lua_State *L, int mod);
 void pfl_open_observe(lua_State *L, int mod);
+void pfl_open_units(lua_State *L, int mod);
+void pfl_open_states(lua_State *L, int mod);
+void pfl_open_algebra(lua_State *L, int mod);
+void pfl_open_guard(lua_State *L, int mod);      /* after pfl_open_context: wraps pf.setup */
+void pfl_open_longflight(lua_State *L, int mod);
+void pfl_open_params(lua_State *L, int mod);
+void pfl_open_record(lua_State *L, int mod);
+void pfl_open_files(lua_State *L, int mod);
+void pfl_open_pictures(lua_State *L, int mod);
+void pfl_open_progress(lua_State *L, int mod);
 void pfl_open_ops(lua_State *L, int mod);     /* issue 4: pulses, masks, shifts */
 void pfl_open_evolve(lua_State *L, int mod);  /* issue 4: fall, evolve, relax */
 

@@ -20,6 +20,7 @@ typedef struct pfl_state {
     unsigned long long seed; /* base seed of the run's random generators */
     char *output_dir;        /* folder the run writes into, NULL: none chosen */
     char last_text[1600];  /* message of the last error raised with a kind */
+    unsigned long warnings;  /* warnings emitted so far (run manifest) */
 } pfl_state;
 
 static const char STATE_KEY = 'S';
@@ -39,6 +40,7 @@ static int state_gc(lua_State *L)
 static void warn_handler(void *user, const char *text)
 {
     pfl_state *st = user;
+    st->warnings++;
     if (st->strict) {
         /* The core cannot raise; remember the text and raise after the call. */
         if (!st->pending) {
@@ -134,6 +136,7 @@ void pfl_set_strict(lua_State *L, int strict) { get_state(L)->strict = strict; }
 unsigned long long pfl_seed(lua_State *L) { return get_state(L)->seed; }
 const char *pfl_output_dir(lua_State *L) { return get_state(L)->output_dir; }
 int pfl_strict(lua_State *L) { return get_state(L)->strict; }
+unsigned long pfl_warning_count(lua_State *L) { return get_state(L)->warnings; }
 
 /* pf.setup{threads=, planning="measure"|"estimate", wisdom=path|false,
  *          memory_cap=bytes, strict=bool, seed=integer, output_dir=path} */

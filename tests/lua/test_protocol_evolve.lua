@@ -3,7 +3,7 @@
 -- warnings in strict mode, failure part-way, repeatability.
 local pf = require "psiflight"
 local check = require "check"
-pf.setup{planning = "estimate", wisdom = false}
+pf.setup{planning = "estimate"}
 
 -- CODATA 2018 (h exact in the 2019 SI), u; 7Li mass 7.0160034366 u (AME2020,
 -- quoted from memory) for this file's invented lithium scenario.
@@ -143,7 +143,7 @@ end
 -- of an isotropic Gaussian (std. dev. s per axis), staircase edge: 2%.
 do
   local s, R = 2e-6, 2.5e-6
-  local g = pf.grid{points = {96, 8, 96}, span = {24e-6, 8e-6, 24e-6}}
+  local g = pf.grid{points = {96, 24, 96}, span = {24e-6, 24e-6, 24e-6}}
   local w = pf.wave(g, {mass = m, position = function(x, y, z)
     return math.exp(-(x * x + y * y + z * z) / (4 * s * s)) end})
   local _, removed = w:aperture{shape = "circle", radius = R, axes = {1, 3}}
@@ -177,10 +177,13 @@ do
   check.equal(w:clock(), c0, "clock unchanged after the failed evolve")
 end
 
--- Repeatability: the same steps give bit-identical results (same thread count).
+-- Repeatability: the same steps give bit-identical results (same thread
+-- count).  The hard aperture sends content to the grid edges; that is not
+-- the subject here, so the guards are off.
 do
+  pf.setup{guard_threshold = math.huge}
   local function once()
-    local g = pf.grid{points = {64, 64}, span = {30e-6, 30e-6}}
+    local g = pf.grid{points = {64, 64}, span = {40e-6, 40e-6}}
     local w = pf.wave(g, {mass = m, position = function(x, y) return math.exp(-(x * x + y * y) / (4 * 3e-6 ^ 2)) end})
     local _, r1 = w:aperture{shape = "circle", radius = 4e-6}
     w:grating{depth = 0.8, period = 3e-6}:fall(1e-4, {0, -9.80665})
@@ -188,6 +191,7 @@ do
     return string.format("%.17g %.17g %.17g", r1, w:norm(), (w:position_mean()))
   end
   check.equal(once(), once(), "identical runs give bit-identical removed, norm and <x>")
+  pf.setup{guard_threshold = 1e-6}
 end
 
 check.done()

@@ -3,7 +3,7 @@
 -- time-dependent potential, the step log, and argument errors.
 local pf = require "psiflight"
 local check = require "check"
-pf.setup{planning = "estimate", wisdom = false}
+pf.setup{planning = "estimate"}
 
 -- CODATA 2018 (h exact in the 2019 SI), u; 87Rb mass from AME2020.
 local hbar = 6.62607015e-34 / (2 * math.pi)
@@ -24,6 +24,10 @@ end
 -- grid whose span is a multiple of d every diffraction order sits on the
 -- momentum grid, so the revival is exact up to rounding.
 do
+  -- A plane wave fills the periodic cell by design here, and the hard
+  -- grating edges reach the Nyquist limit: the grid guards would rightly
+  -- warn about both, so they are switched off for this block.
+  pf.setup{guard_threshold = math.huge}
   local d = 8e-6
   local g = pf.grid{points = 1024, span = 16 * d}  -- 64 points per period
   local TT = m * d * d / (math.pi * hbar)
@@ -62,6 +66,7 @@ do
     worst = math.max(worst, math.abs(z.re - re0[i]), math.abs(z.im - im0[i]))
   end
   check.close(worst * math.sqrt(g:span()), 0, 1e-10, "Talbot: phase grating psi revives at T_T", "Talbot/Rayleigh")
+  pf.setup{guard_threshold = 1e-6}
 end
 
 -- Thin lens of focal time f on a Gaussian of width s0 (no chirp): the width
@@ -154,8 +159,10 @@ do
 end
 
 -- The step log: one entry per step, masks record the removed probability,
--- stable text columns.
+-- stable text columns.  (Hard slits on a small grid reach the Nyquist band:
+-- guards off, the subject here is the log.)
 do
+  pf.setup{guard_threshold = math.huge}
   local g = pf.grid{points = 256, span = 50e-6}
   local w = pf.wave(g, {mass = m, position = function(x) return math.exp(-x * x / (4 * 3e-6 ^ 2)) end})
   local _, removed = w:slits{count = 3, width = 2e-6, pitch = 6e-6}
@@ -169,8 +176,9 @@ do
   check.equal(log[4].kind, "fall", "fall step kind")
   local text = w:log_text()
   check.truthy(text:find("^step kind method duration_s clock_s norm removed edge_x edge_k\n"), "log header")
-  check.truthy(text:find("\n2 mask slits 0%.000000000e%+00 0%.000000000e%+00 0%.%d+ %d%.%d+e%-%d+ %- %-\n"),
+  check.truthy(text:find("\n2 mask slits 0%.000000000e%+00 0%.000000000e%+00 0%.%d+ %d%.%d+e%-%d+ [%-%d][^ ]* [%-%d][^ ]*\n"),
     "mask line in the stable text form")
+  pf.setup{guard_threshold = 1e-6}
 end
 
 -- Invalid arguments: clear errors naming the argument and the script line.

@@ -21,7 +21,7 @@ fi
 tmp=$(mktemp -d); trap 'rm -rf "$tmp"' EXIT
 cat > "$tmp/shutter.lua" <<'LUA'
 local pf = require "psiflight"
-pf.setup{planning = "estimate", wisdom = false}
+pf.setup{planning = "estimate"}
 -- CODATA 2018 (h exact in the 2019 SI), u; 87Rb mass from AME2020.
 local hbar = 6.62607015e-34 / (2 * math.pi)
 local m = 86.909180531 * 1.66053906660e-27

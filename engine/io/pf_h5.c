@@ -1,0 +1,653 @@
+/* pf_h5.c - writing and reading psiflight's HDF5 layout (docs/file-layout.md)
+ * with the HDF5 C library, deterministically. */
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <hdf5.h>
+#include <hdf5_hl.h>
+#include "../core/pf_version.h"
+#include "pf_h5.h"
+#include "pf_safefile.h"
+
+#define LAYOUT_NAME "psiflight-h5"
+#define LAYOUT_VERSION 1
+
+struct pf_h5 {
+    pf_context *ctx;
+    hid_t file;
+    hid_t ocpl_group, ocpl_data, lcpl;
+    pf_safefile sf;
+};
+
+static const char *const POS_AXES[PF_MAX_DIM] = {"x", "y", "z"};
+static const char *const MOM_AXES[PF_MAX_DIM] = {"kx", "ky", "kz"};
+
+/* HDF5 prints its own error stack by default; psiflight words its errors.
+ * HDF5 1.10 also closes files left open from an exit handler, and crashes
+ * there on a file whose close already failed (a full disk); files are
+ * always closed (or given up) explicitly here, so that handler is turned
+ * off.  H5dont_atexit only works before the library starts, hence first. */
+static void quiet_hdf5(void)
+{
+    static int done;
+    if (!done) {
+        H5dont_atexit();
+        done = 1;
+    }
+    H5Eset_auto2(H5E_DEFAULT, NULL, NULL);
+}
+
+void pf_h5_version(char *buf, size_t size)
+{
+    unsigned maj, min, rel;
+    H5get_libversion(&maj, &min, &rel);
+    snprintf(buf, size, "%u.%u.%u", maj, min, rel);
+}
+
+/* Complex numbers as the compound {r, i} of two doubles, the names h5py and
+ * other readers map to complex. */
+static hid_t complex_type(void)
+{
+    hid_t t = H5Tcreate(H5T_COMPOUND, 2 * sizeof(double));
+    H5Tinsert(t, "r", 0, H5T_NATIVE_DOUBLE);
+    H5Tinsert(t, "i", sizeof(double), H5T_NATIVE_DOUBLE);
+    return t;
+}
+
+/* ---- attributes ---- */
+
+static int attr_string(hid_t obj, const char *name, const char *value)
+{
+    hid_t t = H5Tcopy(H5T_C_S1);
+    H5Tset_size(t, H5T_VARIABLE);
+    H5Tset_cset(t, H5T_CSET_UTF8);
+    hid_t sp = H5Screate(H5S_SCALAR);
+    hid_t a = H5Acreate2(obj, name, t, sp, H5P_DEFAULT, H5P_DEFAULT);
+    int bad = a < 0 || H5Awrite(a, t, &value) < 0;
+    if (a >= 0) H5Aclose(a);
+    H5Sclose(sp);
+    H5Tclose(t);
+    return bad ? -1 : 0;
+}
+
+static int attr_doubles(hid_t obj, const char *name, const double *v, size_t n, int scalar)
+{
+    hsize_t dims[1] = {n};
+    hid_t sp = scalar ? H5Screate(H5S_SCALAR) : H5Screate_simple(1, dims, NULL);
+    hid_t a = H5Acreate2(obj, name, H5T_IEEE_F64LE, sp, H5P_DEFAULT, H5P_DEFAULT);
+    int bad = a < 0 || H5Awrite(a, H5T_NATIVE_DOUBLE, v) < 0;
+    if (a >= 0) H5Aclose(a);
+    H5Sclose(sp);
+    return bad ? -1 : 0;
+}
+
+static int attr_double(hid_t obj, const char *name, double v) { return attr_doubles(obj, name, &v, 1, 1); }
+
+static int attr_longs(hid_t obj, const char *name, const long long *v, size_t n, int scalar)
+{
+    hsize_t dims[1] = {n};
+    hid_t sp = scalar ? H5Screate(H5S_SCALAR) : H5Screate_simple(1, dims, NULL);
+    hid_t a = H5Acreate2(obj, name, H5T_STD_I64LE, sp, H5P_DEFAULT, H5P_DEFAULT);
+    int bad = a < 0 || H5Awrite(a, H5T_NATIVE_LLONG, v) < 0;
+    if (a >= 0) H5Aclose(a);
+    H5Sclose(sp);
+    return bad ? -1 : 0;
+}
+
+/* ---- file ---- */
+
+/* Object creation lists with timestamps off and creation order tracked, the
+ * two things that would otherwise differ between identical runs or make
+ * readers list items alphabetically. */
+static hid_t ocpl(hid_t cls, int group)
+{
+    hid_t p = H5Pcreate(cls);
+    H5Pset_obj_track_times(p, 0);
+    H5Pset_attr_creation_order(p, H5P_CRT_ORDER_TRACKED | H5P_CRT_ORDER_INDEXED);
+    if (group) H5Pset_link_creation_order(p, H5P_CRT_ORDER_TRACKED | H5P_CRT_ORDER_INDEXED);
+    return p;
+}
+
+pf_status pf_h5_create(pf_context *ctx, const char *path, int overwrite, pf_h5 **out)
+{
+    quiet_hdf5();
+    *out = NULL;
+    pf_h5 *f = calloc(1, sizeof *f);
+    if (!f) return pf_fail(ctx, PF_ENOMEM, "out of memory");
+    f->ctx = ctx;
+    pf_status s = pf_safe_begin(ctx, path, overwrite, &f->sf);
+    if (s) {
+        free(f);
+        return s;
+    }
+    hid_t fcpl = ocpl(H5P_FILE_CREATE, 1);
+    f->file = H5Fcreate(f->sf.temp_path, H5F_ACC_TRUNC, fcpl, H5P_DEFAULT);
+    H5Pclose(fcpl);
+    f->ocpl_group = ocpl(H5P_GROUP_CREATE, 1);
+    f->ocpl_data = ocpl(H5P_DATASET_CREATE, 0);
+    f->lcpl = H5Pcreate(H5P_LINK_CREATE);
+    H5Pset_create_intermediate_group(f->lcpl, 1);
+    H5Pset_char_encoding(f->lcpl, H5T_CSET_UTF8);
+    if (f->file < 0 || attr_string(f->file, "layout", LAYOUT_NAME) ||
+        attr_longs(f->file, "layout_version", (long long[]){LAYOUT_VERSION}, 1, 1) ||
+        attr_string(f->file, "engine", "psiflight " PF_VERSION)) {
+        s = pf_fail(ctx, PF_EIO, "cannot create HDF5 file '%s'", path);
+        pf_h5_abandon(f);
+        return s;
+    }
+    *out = f;
+    return PF_OK;
+}
+
+const char *pf_h5_path(const pf_h5 *f) { return f->sf.final_path; }
+
+static void close_handles(pf_h5 *f)
+{
+    if (f->file > 0) H5Fclose(f->file);
+    if (f->ocpl_group > 0) H5Pclose(f->ocpl_group);
+    if (f->ocpl_data > 0) H5Pclose(f->ocpl_data);
+    if (f->lcpl > 0) H5Pclose(f->lcpl);
+    f->file = f->ocpl_group = f->ocpl_data = f->lcpl = 0;
+}
+
+pf_status pf_h5_commit(pf_h5 *f)
+{
+    pf_context *ctx = f->ctx;
+    pf_status s = PF_OK;
+    if (H5Fflush(f->file, H5F_SCOPE_GLOBAL) < 0) s = pf_fail(ctx, PF_EIO, "cannot flush '%s' (disk full?)", f->sf.final_path);
+    hid_t file = f->file;
+    f->file = 0;
+    if (H5Fclose(file) < 0 && !s) s = pf_fail(ctx, PF_EIO, "cannot close '%s' (disk full?)", f->sf.final_path);
+    close_handles(f);
+    if (s) pf_safe_abandon(&f->sf);
+    else s = pf_safe_commit(ctx, &f->sf);
+    free(f);
+    return s;
+}
+
+void pf_h5_abandon(pf_h5 *f)
+{
+    if (!f) return;
+    close_handles(f);
+    pf_safe_abandon(&f->sf);
+    free(f);
+}
+
+/* ---- items ---- */
+
+static pf_status check_name(pf_h5 *f, const char *name)
+{
+    size_t n = name ? strlen(name) : 0;
+    int ok = n >= 1 && n <= 200 && name[0] != '/' && name[n - 1] != '/' && !strstr(name, "//");
+    for (size_t i = 0; ok && i < n; i++) {
+        char c = name[i];
+        ok = (c >= 'a' && c <= 'z') || (c >= 'A' && c <= 'Z') || (c >= '0' && c <= '9') || c == '_' || c == '-' ||
+             c == '.' || c == '/';
+    }
+    /* "." and ".." are HDF5 path words, not names. */
+    for (const char *p = name; ok && p && *p;) {
+        size_t len = strcspn(p, "/");
+        ok = !(len == 1 && p[0] == '.') && !(len == 2 && p[0] == '.' && p[1] == '.');
+        p += len;
+        if (*p == '/') p++;
+    }
+    if (!ok)
+        return pf_fail(f->ctx, PF_EINVAL,
+                       "item name '%s' must be 1..200 letters, digits, '_', '-', '.' with '/' between parts",
+                       name ? name : "");
+    if (H5Lexists(f->file, name, H5P_DEFAULT) > 0)
+        return pf_fail(f->ctx, PF_EINVAL, "item '%s' is already in '%s'", name, f->sf.final_path);
+    /* H5Lexists fails (negative) when a parent is missing: that is fine. */
+    return PF_OK;
+}
+
+static hid_t new_group(pf_h5 *f, const char *name)
+{
+    return H5Gcreate2(f->file, name, f->lcpl, f->ocpl_group, H5P_DEFAULT);
+}
+
+static int write_dataset(pf_h5 *f, hid_t loc, const char *name, hid_t ftype, hid_t mtype, int rank,
+                         const hsize_t *dims, const void *data, const char *unit)
+{
+    hid_t sp = rank ? H5Screate_simple(rank, dims, NULL) : H5Screate(H5S_SCALAR);
+    hid_t d = H5Dcreate2(loc, name, ftype, sp, f->lcpl, f->ocpl_data, H5P_DEFAULT);
+    int bad = d < 0 || H5Dwrite(d, mtype, H5S_ALL, H5S_ALL, H5P_DEFAULT, data) < 0;
+    if (!bad && unit) bad = attr_string(d, "units", unit);
+    if (d >= 0) H5Dclose(d);
+    H5Sclose(sp);
+    return bad ? -1 : 0;
+}
+
+static int write_axis(pf_h5 *f, hid_t g, const char *name, const double *v, size_t n, const char *unit)
+{
+    hsize_t dims[1] = {n};
+    return write_dataset(f, g, name, H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, 1, dims, v, unit);
+}
+
+/* Axis tables of the grid: positions as stored, wave numbers ascending. */
+static int write_axes(pf_h5 *f, hid_t g, const pf_grid *grid, pf_rep rep)
+{
+    int d = pf_grid_dim(grid);
+    for (int a = 0; a < d; a++) {
+        size_t n = pf_grid_points(grid, a);
+        double *v = malloc(n * sizeof *v);
+        if (!v) return -1;
+        for (size_t j = 0; j < n; j++)
+            v[j] = rep == PF_POSITION ? pf_grid_x(grid, a, j) : pf_grid_k(grid, a, pf_grid_fft_index(grid, a, j));
+        int bad = write_axis(f, g, rep == PF_POSITION ? POS_AXES[a] : MOM_AXES[a], v, n, rep == PF_POSITION ? "m" : "1/m");
+        free(v);
+        if (bad) return -1;
+    }
+    return 0;
+}
+
+/* Marks the axis datasets of rep as HDF5 dimension scales of `data` (the
+ * open standard that tells generic readers - HDFView, netCDF-4 and xarray
+ * front ends - which coordinate belongs to which dimension). */
+static int attach_axes(hid_t g, const char *data, int d, pf_rep rep)
+{
+    hid_t ds = H5Dopen2(g, data, H5P_DEFAULT);
+    if (ds < 0) return -1;
+    int bad = 0;
+    for (int a = 0; a < d && !bad; a++) {
+        const char *name = rep == PF_POSITION ? POS_AXES[a] : MOM_AXES[a];
+        hid_t ax = H5Dopen2(g, name, H5P_DEFAULT);
+        bad = ax < 0 || H5DSset_scale(ax, name) < 0 || H5DSattach_scale(ds, ax, (unsigned)a) < 0;
+        if (ax >= 0) H5Dclose(ax);
+    }
+    H5Dclose(ds);
+    return bad ? -1 : 0;
+}
+
+/* Grid, mass, clock and step log as attributes of an item group. */
+static int write_wave_attrs(hid_t g, const pf_wave *w, const char *content)
+{
+    const pf_grid *grid = pf_wave_grid(w);
+    int d = pf_grid_dim(grid);
+    long long pts[PF_MAX_DIM];
+    double span[PF_MAX_DIM], origin[PF_MAX_DIM], dx[PF_MAX_DIM];
+    for (int a = 0; a < d; a++) {
+        pts[a] = (long long)pf_grid_points(grid, a);
+        span[a] = pf_grid_span(grid, a);
+        origin[a] = pf_grid_origin(grid, a);
+        dx[a] = pf_grid_spacing(grid, a);
+    }
+    const pf_steplog *log = pf_wave_steplog(w);
+    size_t cap = 128 + 256 * (log->count + 1);
+    char *text = malloc(cap);
+    if (!text) return -1;
+    size_t len = (size_t)snprintf(text, cap, "%s\n", pf_steplog_header());
+    for (size_t i = 0; i < log->count && len < cap; i++) {
+        len += (size_t)pf_steplog_format_entry(&log->steps[i], i, text + len, cap - len);
+        if (len + 1 < cap) text[len++] = '\n', text[len] = '\0';
+    }
+    int bad = attr_string(g, "content", content) || attr_longs(g, "dimensions", (long long[]){d}, 1, 1) ||
+              attr_longs(g, "grid_points", pts, (size_t)d, 0) || attr_doubles(g, "grid_span_m", span, (size_t)d, 0) ||
+              attr_doubles(g, "grid_origin_m", origin, (size_t)d, 0) ||
+              attr_doubles(g, "grid_spacing_m", dx, (size_t)d, 0) || attr_double(g, "mass_kg", pf_wave_mass(w)) ||
+              attr_double(g, "clock_s", pf_wave_clock(w)) || attr_string(g, "step_log", text);
+    free(text);
+    return bad ? -1 : 0;
+}
+
+static void shape_of(const pf_grid *grid, hsize_t *dims)
+{
+    for (int a = 0; a < pf_grid_dim(grid); a++) dims[a] = pf_grid_points(grid, a);
+}
+
+/* Units of psi (m^-d/2) and phi (m^d/2). */
+static const char *amp_unit(int d, pf_rep rep)
+{
+    static const char *const pos[] = {"m^-1/2", "m^-1", "m^-3/2"};
+    static const char *const mom[] = {"m^1/2", "m", "m^3/2"};
+    return rep == PF_POSITION ? pos[d - 1] : mom[d - 1];
+}
+
+/* phi(k) in physical units, ascending k on every axis. */
+static double complex *phi_ascending(pf_wave *w)
+{
+    pf_grid *g = pf_wave_grid(w);
+    if (pf_wave_to(w, PF_MOMENTUM)) return NULL;
+    size_t total = pf_grid_total(g);
+    double complex *out = malloc(total * sizeof *out);
+    if (!out) return NULL;
+    const double complex *S = pf_wave_data_const(w);
+    int d = pf_grid_dim(g);
+    size_t n[3] = {1, 1, 1};
+    for (int a = 0; a < d; a++) n[a] = pf_grid_points(g, a);
+    size_t idx[3];
+    for (idx[0] = 0; idx[0] < n[0]; idx[0]++)
+        for (idx[1] = 0; idx[1] < n[1]; idx[1]++)
+            for (idx[2] = 0; idx[2] < n[2]; idx[2]++) {
+                size_t src = (idx[0] * n[1] + idx[1]) * n[2] + idx[2];
+                size_t asc[3] = {0, 0, 0};
+                for (int a = 0; a < d; a++) asc[a] = pf_grid_ascending_index(g, a, idx[a]);
+                out[(asc[0] * n[1] + asc[1]) * n[2] + asc[2]] = S[src] * pf_wave_momentum_factor(w, idx);
+            }
+    return out;
+}
+
+pf_status pf_h5_put_wave(pf_h5 *f, const char *name, pf_wave *w, int parts)
+{
+    pf_status s = check_name(f, name);
+    if (s) return s;
+    if (!(parts & (PF_H5_PSI | PF_H5_PHI))) return pf_fail(f->ctx, PF_EINVAL, "nothing to store: choose psi and/or phi");
+    pf_grid *grid = pf_wave_grid(w);
+    int d = pf_grid_dim(grid);
+    hsize_t dims[PF_MAX_DIM];
+    shape_of(grid, dims);
+    hid_t g = new_group(f, name);
+    hid_t ct = complex_type();
+    int bad = g < 0 || write_wave_attrs(g, w, "wave function");
+    if (!bad) bad = attr_string(g, "representation", pf_wave_rep(w) == PF_POSITION ? "position" : "momentum");
+    if (!bad && (parts & PF_H5_PSI)) {
+        bad = pf_wave_to(w, PF_POSITION) != PF_OK ||
+              write_dataset(f, g, "psi", ct, ct, d, dims, pf_wave_data_const(w), amp_unit(d, PF_POSITION)) ||
+              write_axes(f, g, grid, PF_POSITION) || attach_axes(g, "psi", d, PF_POSITION);
+    }
+    if (!bad && (parts & PF_H5_PHI)) {
+        double complex *phi = phi_ascending(w);
+        bad = !phi || write_dataset(f, g, "phi", ct, ct, d, dims, phi, amp_unit(d, PF_MOMENTUM)) ||
+              write_axes(f, g, grid, PF_MOMENTUM) || attach_axes(g, "phi", d, PF_MOMENTUM);
+        free(phi);
+    }
+    H5Tclose(ct);
+    if (g >= 0) H5Gclose(g);
+    return bad ? pf_fail(f->ctx, PF_EIO, "cannot write wave function '%s' to '%s'", name, f->sf.final_path) : PF_OK;
+}
+
+pf_status pf_h5_put_density(pf_h5 *f, const char *name, pf_wave *w, pf_rep rep)
+{
+    pf_status s = check_name(f, name);
+    if (s) return s;
+    pf_grid *grid = pf_wave_grid(w);
+    int d = pf_grid_dim(grid);
+    hsize_t dims[PF_MAX_DIM];
+    shape_of(grid, dims);
+    double *rho = malloc(pf_grid_total(grid) * sizeof *rho);
+    if (!rho) return pf_fail(f->ctx, PF_ENOMEM, "out of memory");
+    s = pf_wave_density(w, rep, rho);
+    if (s) {
+        free(rho);
+        return s;
+    }
+    static const char *const pos[] = {"1/m", "1/m^2", "1/m^3"};
+    static const char *const mom[] = {"m", "m^2", "m^3"};
+    hid_t g = new_group(f, name);
+    int bad = g < 0 || write_wave_attrs(g, w, "density") ||
+              attr_string(g, "representation", rep == PF_POSITION ? "position" : "momentum") ||
+              write_dataset(f, g, "density", H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, d, dims, rho,
+                            rep == PF_POSITION ? pos[d - 1] : mom[d - 1]) ||
+              write_axes(f, g, grid, rep) || attach_axes(g, "density", d, rep);
+    free(rho);
+    if (g >= 0) H5Gclose(g);
+    return bad ? pf_fail(f->ctx, PF_EIO, "cannot write density '%s' to '%s'", name, f->sf.final_path) : PF_OK;
+}
+
+pf_status pf_h5_put_table(pf_h5 *f, const char *name, size_t ncols, const pf_column *cols)
+{
+    pf_status s = check_name(f, name);
+    if (s) return s;
+    if (ncols < 1) return pf_fail(f->ctx, PF_EINVAL, "table '%s' needs at least one column", name);
+    for (size_t c = 0; c < ncols; c++) {
+        if (!cols[c].name || !*cols[c].name || strchr(cols[c].name, '/') || strcmp(cols[c].name, ".") == 0)
+            return pf_fail(f->ctx, PF_EINVAL, "table '%s': column %zu needs a name without '/'", name, c + 1);
+        if (cols[c].count != cols[0].count)
+            return pf_fail(f->ctx, PF_EINVAL, "table '%s': column '%s' has %zu entries but '%s' has %zu", name,
+                           cols[c].name, cols[c].count, cols[0].name, cols[0].count);
+        for (size_t k = 0; k < c; k++)
+            if (strcmp(cols[k].name, cols[c].name) == 0)
+                return pf_fail(f->ctx, PF_EINVAL, "table '%s': column name '%s' appears twice", name, cols[c].name);
+    }
+    hid_t g = new_group(f, name);
+    int bad = g < 0 || attr_string(g, "content", "table");
+    for (size_t c = 0; c < ncols && !bad; c++) {
+        hsize_t dims[1] = {cols[c].count};
+        if (cols[c].text) {
+            /* Text columns (step kinds, labels) as variable-length UTF-8. */
+            hid_t st = H5Tcopy(H5T_C_S1);
+            H5Tset_size(st, H5T_VARIABLE);
+            H5Tset_cset(st, H5T_CSET_UTF8);
+            bad = write_dataset(f, g, cols[c].name, st, st, 1, dims, cols[c].text, cols[c].unit ? cols[c].unit : "");
+            H5Tclose(st);
+        } else {
+            bad = write_dataset(f, g, cols[c].name, H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, 1, dims, cols[c].values,
+                                cols[c].unit ? cols[c].unit : "");
+        }
+    }
+    if (g >= 0) H5Gclose(g);
+    return bad ? pf_fail(f->ctx, PF_EIO, "cannot write table '%s' to '%s'", name, f->sf.final_path) : PF_OK;
+}
+
+pf_status pf_h5_put_scalar(pf_h5 *f, const char *name, double value, const char *unit)
+{
+    pf_status s = check_name(f, name);
+    if (s) return s;
+    int bad = write_dataset(f, f->file, name, H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, 0, NULL, &value, unit ? unit : "");
+    return bad ? pf_fail(f->ctx, PF_EIO, "cannot write value '%s' to '%s'", name, f->sf.final_path) : PF_OK;
+}
+
+/* ---- reading ---- */
+
+typedef struct reader {
+    pf_context *ctx;
+    const char *path;
+    hid_t file;
+} reader;
+
+/* Opens a dataset and reports its rank and shape. */
+static pf_status open_dataset(reader *r, hid_t loc, const char *name, hid_t *d, int *rank, hsize_t *dims)
+{
+    if (H5Lexists(loc, name, H5P_DEFAULT) <= 0)
+        return pf_fail(r->ctx, PF_EINVAL, "'%s' has no dataset '%s'", r->path, name);
+    *d = H5Dopen2(loc, name, H5P_DEFAULT);
+    if (*d < 0) return pf_fail(r->ctx, PF_EINVAL, "'%s': '%s' is not a dataset", r->path, name);
+    hid_t sp = H5Dget_space(*d);
+    *rank = H5Sget_simple_extent_ndims(sp);
+    if (*rank > PF_MAX_DIM + 1 || *rank < 0) {
+        H5Sclose(sp);
+        H5Dclose(*d);
+        return pf_fail(r->ctx, PF_EINVAL, "'%s': dataset '%s' has %d dimensions (at most %d allowed)", r->path, name,
+                       *rank, PF_MAX_DIM);
+    }
+    H5Sget_simple_extent_dims(sp, dims, NULL);
+    H5Sclose(sp);
+    return PF_OK;
+}
+
+static int is_float(hid_t t) { return H5Tget_class(t) == H5T_FLOAT || H5Tget_class(t) == H5T_INTEGER; }
+
+/* Reads a complex dataset: compound of two numbers (any member names, e.g.
+ * {r, i} or {real, imag}) or real numbers with a last dimension of 2. */
+static pf_status read_complex(reader *r, hid_t loc, const char *name, pf_samples *out)
+{
+    hid_t d;
+    int rank;
+    hsize_t dims[PF_MAX_DIM + 1];
+    pf_status s = open_dataset(r, loc, name, &d, &rank, dims);
+    if (s) return s;
+    hid_t ft = H5Dget_type(d);
+    hid_t mt = -1;
+    if (H5Tget_class(ft) == H5T_COMPOUND && H5Tget_nmembers(ft) == 2) {
+        hid_t m0 = H5Tget_member_type(ft, 0), m1 = H5Tget_member_type(ft, 1);
+        if (is_float(m0) && is_float(m1)) {
+            char *n0 = H5Tget_member_name(ft, 0), *n1 = H5Tget_member_name(ft, 1);
+            mt = H5Tcreate(H5T_COMPOUND, 2 * sizeof(double));
+            H5Tinsert(mt, n0, 0, H5T_NATIVE_DOUBLE);
+            H5Tinsert(mt, n1, sizeof(double), H5T_NATIVE_DOUBLE);
+            H5free_memory(n0);
+            H5free_memory(n1);
+        }
+        H5Tclose(m0);
+        H5Tclose(m1);
+    } else if (is_float(ft) && rank >= 2 && dims[rank - 1] == 2) {
+        mt = H5Tcopy(H5T_NATIVE_DOUBLE);
+        rank--;
+    }
+    H5Tclose(ft);
+    if (mt < 0) {
+        H5Dclose(d);
+        return pf_fail(r->ctx, PF_EINVAL,
+                       "'%s': dataset '%s' does not hold complex numbers (expected a compound of two numbers, "
+                       "or real numbers with a last dimension of 2)",
+                       r->path, name);
+    }
+    if (rank < 1 || rank > PF_MAX_DIM) {
+        H5Tclose(mt);
+        H5Dclose(d);
+        return pf_fail(r->ctx, PF_EINVAL, "'%s': dataset '%s' must have 1 to 3 axes, has %d", r->path, name, rank);
+    }
+    size_t total = 1;
+    out->dim = rank;
+    for (int a = 0; a < rank; a++) {
+        out->n[a] = (size_t)dims[a];
+        total *= out->n[a];
+    }
+    out->values = malloc(total * sizeof *out->values);
+    int bad = !out->values || H5Dread(d, mt, H5S_ALL, H5S_ALL, H5P_DEFAULT, out->values) < 0;
+    H5Tclose(mt);
+    H5Dclose(d);
+    return bad ? pf_fail(r->ctx, PF_EIO, "'%s': cannot read dataset '%s'", r->path, name) : PF_OK;
+}
+
+/* Reads a real dataset of exactly `total` numbers into v (allocated). */
+static pf_status read_real(reader *r, hid_t loc, const char *name, int want_rank, const size_t *want, double **v)
+{
+    hid_t d;
+    int rank;
+    hsize_t dims[PF_MAX_DIM + 1];
+    pf_status s = open_dataset(r, loc, name, &d, &rank, dims);
+    if (s) return s;
+    hid_t ft = H5Dget_type(d);
+    int numeric = is_float(ft);
+    H5Tclose(ft);
+    int same = rank == want_rank;
+    size_t total = 1;
+    for (int a = 0; same && a < rank; a++) {
+        same = dims[a] == want[a];
+        total *= want[a];
+    }
+    if (!numeric || !same) {
+        H5Dclose(d);
+        return pf_fail(r->ctx, PF_EINVAL, "'%s': dataset '%s' must hold real numbers of shape %zu%s%s", r->path, name,
+                       want[0], want_rank > 1 ? " x ..." : "", numeric ? " (the shape differs)" : "");
+    }
+    *v = malloc(total * sizeof **v);
+    int bad = !*v || H5Dread(d, H5T_NATIVE_DOUBLE, H5S_ALL, H5S_ALL, H5P_DEFAULT, *v) < 0;
+    H5Dclose(d);
+    return bad ? pf_fail(r->ctx, PF_EIO, "'%s': cannot read dataset '%s'", r->path, name) : PF_OK;
+}
+
+static double read_attr_double(hid_t obj, const char *name, double def)
+{
+    if (H5Aexists(obj, name) <= 0) return def;
+    hid_t a = H5Aopen(obj, name, H5P_DEFAULT);
+    double v = def;
+    hid_t sp = H5Aget_space(a);
+    if (H5Sget_simple_extent_npoints(sp) == 1 && H5Aread(a, H5T_NATIVE_DOUBLE, &v) < 0) v = def;
+    H5Sclose(sp);
+    H5Aclose(a);
+    return v;
+}
+
+/* Reads a float64 attribute array of exactly n entries; 0 on success. */
+static int read_attr_array(hid_t obj, const char *name, double *v, size_t n)
+{
+    if (H5Aexists(obj, name) <= 0) return -1;
+    hid_t a = H5Aopen(obj, name, H5P_DEFAULT);
+    hid_t sp = H5Aget_space(a);
+    int bad = H5Sget_simple_extent_npoints(sp) != (hssize_t)n || H5Aread(a, H5T_NATIVE_DOUBLE, v) < 0;
+    H5Sclose(sp);
+    H5Aclose(a);
+    return bad ? -1 : 0;
+}
+
+static pf_status read_item(reader *r, const pf_h5_source *src, pf_samples *out)
+{
+    if (H5Lexists(r->file, src->item, H5P_DEFAULT) <= 0)
+        return pf_fail(r->ctx, PF_EINVAL, "'%s' has no item '%s'", r->path, src->item);
+    hid_t g = H5Gopen2(r->file, src->item, H5P_DEFAULT);
+    if (g < 0) return pf_fail(r->ctx, PF_EINVAL, "'%s': item '%s' is not a group", r->path, src->item);
+    int has_psi = H5Lexists(g, "psi", H5P_DEFAULT) > 0, has_phi = H5Lexists(g, "phi", H5P_DEFAULT) > 0;
+    pf_rep rep;
+    if (src->rep == PF_POSITION || (src->rep < 0 && has_psi)) rep = PF_POSITION;
+    else rep = PF_MOMENTUM;
+    if ((rep == PF_POSITION && !has_psi) || (rep == PF_MOMENTUM && !has_phi)) {
+        H5Gclose(g);
+        return pf_fail(r->ctx, PF_EINVAL, "'%s': item '%s' holds no %s amplitude ('%s')", r->path, src->item,
+                       rep == PF_POSITION ? "position" : "momentum", rep == PF_POSITION ? "psi" : "phi");
+    }
+    pf_status s = read_complex(r, g, rep == PF_POSITION ? "psi" : "phi", out);
+    for (int a = 0; !s && a < out->dim; a++) {
+        const char *ax = rep == PF_POSITION ? POS_AXES[a] : MOM_AXES[a];
+        if (H5Lexists(g, ax, H5P_DEFAULT) > 0) s = read_real(r, g, ax, 1, &out->n[a], &out->axis[a]);
+    }
+    out->rep = rep;
+    if (!s) out->has_grid = read_attr_array(g, "grid_span_m", out->span, (size_t)out->dim) == 0 &&
+                            read_attr_array(g, "grid_origin_m", out->grid_origin, (size_t)out->dim) == 0;
+    out->mass = read_attr_double(g, "mass_kg", 0);
+    out->clock = read_attr_double(g, "clock_s", 0);
+    H5Gclose(g);
+    return s;
+}
+
+static pf_status read_plain(reader *r, const pf_h5_source *src, pf_samples *out)
+{
+    pf_status s;
+    if (src->dataset) {
+        s = read_complex(r, r->file, src->dataset, out);
+    } else {
+        hid_t d;
+        int rank;
+        hsize_t dims[PF_MAX_DIM + 1];
+        s = open_dataset(r, r->file, src->real, &d, &rank, dims);
+        if (s) return s;
+        H5Dclose(d);
+        if (rank < 1 || rank > PF_MAX_DIM)
+            return pf_fail(r->ctx, PF_EINVAL, "'%s': dataset '%s' must have 1 to 3 axes, has %d", r->path, src->real, rank);
+        out->dim = rank;
+        size_t total = 1;
+        for (int a = 0; a < rank; a++) total *= (out->n[a] = (size_t)dims[a]);
+        double *re = NULL, *im = NULL;
+        s = read_real(r, r->file, src->real, rank, out->n, &re);
+        if (!s) s = read_real(r, r->file, src->imag, rank, out->n, &im);
+        if (!s) {
+            out->values = malloc(total * sizeof *out->values);
+            if (!out->values) s = pf_fail(r->ctx, PF_ENOMEM, "out of memory");
+            for (size_t i = 0; !s && i < total; i++) out->values[i] = re[i] + I * im[i];
+        }
+        free(re);
+        free(im);
+    }
+    for (int a = 0; !s && a < out->dim; a++)
+        if (src->axes[a]) s = read_real(r, r->file, src->axes[a], 1, &out->n[a], &out->axis[a]);
+    out->rep = src->rep == PF_MOMENTUM ? PF_MOMENTUM : PF_POSITION;
+    return s;
+}
+
+pf_status pf_h5_read(pf_context *ctx, const char *path, const pf_h5_source *src, pf_samples *out)
+{
+    quiet_hdf5();
+    memset(out, 0, sizeof *out);
+    snprintf(out->origin, sizeof out->origin, "hdf5");
+    int given = (src->item != NULL) + (src->dataset != NULL) + (src->real != NULL || src->imag != NULL);
+    if (given != 1 || (src->real != NULL) != (src->imag != NULL))
+        return pf_fail(ctx, PF_EINVAL, "name exactly one source: an item, a complex dataset, or a real and an imag dataset");
+    if (H5Fis_hdf5(path) <= 0)
+        return pf_fail(ctx, PF_EIO, "'%s' does not exist or is not an HDF5 file", path);
+    reader r = {ctx, path, H5Fopen(path, H5F_ACC_RDONLY, H5P_DEFAULT)};
+    if (r.file < 0) return pf_fail(ctx, PF_EIO, "cannot open HDF5 file '%s'", path);
+    pf_status s = src->item ? read_item(&r, src, out) : read_plain(&r, src, out);
+    H5Fclose(r.file);
+    for (int a = 0; !s && a < out->dim; a++)
+        for (size_t j = 0; out->axis[a] && j < out->n[a]; j++)
+            if (!isfinite(out->axis[a][j])) s = pf_fail(ctx, PF_EINVAL, "'%s': axis %d has a non-finite coordinate", path, a + 1);
+    size_t total = 1;
+    for (int a = 0; !s && a < out->dim; a++) total *= out->n[a];
+    for (size_t i = 0; !s && i < total; i++)
+        if (!isfinite(creal(out->values[i])) || !isfinite(cimag(out->values[i])))
+            s = pf_fail(ctx, PF_EINVAL, "'%s': sample %zu is not finite", path, i + 1);
+    if (s) pf_samples_free(out);
+    return s;
+}

@@ -1,0 +1,58 @@
+/* pf_h5.h - psiflight's HDF5 container: writing wave functions, densities,
+ * tables and scalars as named items, and reading complex amplitudes back
+ * (from psiflight files or from plain datasets made by other programs).
+ *
+ * The layout is documented in docs/file-layout.md.  Files are deterministic:
+ * no object timestamps, attributes and links in creation order, so the same
+ * run writes byte-identical files. */
+#ifndef PF_H5_H
+#define PF_H5_H
+
+#include "../core/pf_wave.h"
+#include "pf_samples.h"
+#include "pf_table.h"
+
+typedef struct pf_h5 pf_h5;
+
+/* Which amplitudes pf_h5_put_wave stores. */
+enum { PF_H5_PSI = 1, PF_H5_PHI = 2 };
+
+/* Starts a new file at path through the safe writer (an existing file is
+ * kept unless overwrite; nothing appears under path before pf_h5_commit). */
+pf_status pf_h5_create(pf_context *ctx, const char *path, int overwrite, pf_h5 **out);
+/* Final path of the file being written. */
+const char *pf_h5_path(const pf_h5 *f);
+/* Stores w as group `name` with its amplitudes (parts: PF_H5_PSI and/or
+ * PF_H5_PHI), axes and attributes.  May change w's representation (a
+ * transform), never its state.  Names are 1..200 characters of letters,
+ * digits, '_', '-', '.', with '/' between non-empty parts; an item name may
+ * be used once per file. */
+pf_status pf_h5_put_wave(pf_h5 *f, const char *name, pf_wave *w, int parts);
+/* Stores the density |psi|^2 (or |phi|^2, ascending k) as group `name`. */
+pf_status pf_h5_put_density(pf_h5 *f, const char *name, pf_wave *w, pf_rep rep);
+/* Stores columns as group `name`, one dataset per column with its unit. */
+pf_status pf_h5_put_table(pf_h5 *f, const char *name, size_t ncols, const pf_column *cols);
+/* Stores one number as scalar dataset `name` with a unit attribute. */
+pf_status pf_h5_put_scalar(pf_h5 *f, const char *name, double value, const char *unit);
+/* Closes the file and moves it to its final name; frees f in every case. */
+pf_status pf_h5_commit(pf_h5 *f);
+/* Closes and deletes the unfinished file; frees f (NULL is harmless). */
+void pf_h5_abandon(pf_h5 *f);
+
+/* Where to find an amplitude in a file. */
+typedef struct pf_h5_source {
+    const char *item;              /* psiflight item group (reads psi or phi and axes), or NULL */
+    const char *dataset;           /* a complex compound dataset, or real with last dimension 2 */
+    const char *real, *imag;       /* or two real datasets of the same shape */
+    const char *axes[PF_MAX_DIM];  /* coordinate datasets for plain data (may be NULL) */
+    int rep;                       /* PF_POSITION / PF_MOMENTUM, or -1: psi if present, else phi */
+} pf_h5_source;
+
+/* Reads the amplitude described by src from the HDF5 file at path into out
+ * (caller frees with pf_samples_free).  Errors name the file and dataset. */
+pf_status pf_h5_read(pf_context *ctx, const char *path, const pf_h5_source *src, pf_samples *out);
+
+/* "major.minor.release" of the HDF5 library in use, into buf. */
+void pf_h5_version(char *buf, size_t size);
+
+#endif

@@ -1,0 +1,74 @@
+/* pf_picture.h - PNG pictures through PLplot's cairo PNG driver: colour
+ * maps (densities, space-time carpets) and line plots (profiles, computed
+ * against reference curves).
+ *
+ * Axes are labelled in lab units: coordinates in SI are shown with the SI
+ * prefix that gives readable numbers (um, mm, 1/um, ms, ...), and densities
+ * per unit of a scaled axis are rescaled to match.  The colour map is
+ * cubehelix (pf_cubehelix.h).  Files go through the safe writer. */
+#ifndef PF_PICTURE_H
+#define PF_PICTURE_H
+
+#include <stddef.h>
+#include "../core/pf_context.h"
+
+typedef enum pf_quantity {
+    PF_Q_PLAIN = 0,    /* shown as given, label verbatim */
+    PF_Q_LENGTH,       /* m */
+    PF_Q_WAVENUMBER,   /* 1/m */
+    PF_Q_TIME          /* s */
+} pf_quantity;
+
+typedef struct pf_plot_axis {
+    const char *name;    /* "x", "k_y", "t" ... (PLplot text escapes allowed) */
+    pf_quantity q;
+} pf_plot_axis;
+
+/* A colour map of values[ix * ny + iy] at sample centres x[ix], y[iy]
+ * (both ascending, uniformly spaced). */
+typedef struct pf_map {
+    const char *title;
+    pf_plot_axis xa, ya;
+    size_t nx, ny;
+    const double *x, *y;
+    const double *values;
+    const char *value_name;   /* e.g. "density" */
+    const char *value_unit;   /* SI unit text of values when per_x/per_y are 0 */
+    int per_x, per_y;         /* values are densities per unit of x / of y */
+    int equal_aspect;         /* one unit on x as long as one on y (same quantity only) */
+    int width, height;        /* pixels, 0: 860 x 640 */
+} pf_map;
+
+typedef struct pf_series {
+    const double *x, *y;
+    size_t n;
+    const char *label;        /* legend text, NULL: none */
+    int dashed;               /* reference curves are drawn dashed */
+    int points;               /* draw markers instead of a line */
+} pf_series;
+
+typedef struct pf_lines {
+    const char *title;
+    pf_plot_axis xa;
+    const char *y_name;
+    const char *y_unit;       /* used when y_per_x is 0 */
+    int y_per_x;              /* y is a density per unit of x */
+    int log_y;
+    int legend;               /* corner: 0 upper left, 1 upper right, 2 lower left, 3 lower right */
+    size_t nseries;
+    const pf_series *series;
+    int width, height;        /* 0: 860 x 560 */
+} pf_lines;
+
+pf_status pf_picture_map(pf_context *ctx, const char *path, int overwrite, const pf_map *m);
+pf_status pf_picture_lines(pf_context *ctx, const char *path, int overwrite, const pf_lines *p);
+
+/* The SI prefix psiflight shows a quantity with, given the largest |value|:
+ * writes the unit text (PLplot escapes, e.g. "#gmm") and returns the factor
+ * that converts SI values into it. */
+double pf_display_unit(pf_quantity q, double max_abs, char *unit, size_t size);
+
+/* PLplot's version string. */
+void pf_plplot_version(char *buf, size_t size);
+
+#endif

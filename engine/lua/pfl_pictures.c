@@ -1,0 +1,270 @@
+/* pfl_pictures.c - PNG pictures from scripts: density maps of a wave
+ * (pf.picture_map), line plots (pf.picture_lines) and the space-time carpet
+ * of a 1D state's density during a flight (pf.picture_carpet). */
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+#include "../core/pf_flight.h"
+#include "../io/pf_picture.h"
+#include "../io/pf_progress.h"
+#include "pfl.h"
+
+static int opt_int(lua_State *L, int opts, const char *field, int def)
+{
+    if (lua_type(L, opts) != LUA_TTABLE) return def;
+    int t = lua_getfield(L, opts, field);
+    lua_pop(L, 1);
+    if (t == LUA_TNIL) return def;
+    double v = pfl_field_number(L, opts, field, def, 0);
+    if (v != floor(v) || v < 1 || v > 100000) luaL_error(L, "field '%s' must be a positive integer, got %f", field, v);
+    return (int)v;
+}
+
+static const char *opt_str(lua_State *L, int opts, const char *field, const char *def)
+{
+    if (lua_type(L, opts) != LUA_TTABLE) return def;
+    int t = lua_getfield(L, opts, field);
+    const char *s = def;
+    if (t == LUA_TSTRING) s = lua_tostring(L, -1);
+    else if (t != LUA_TNIL) {
+        char buf[80];
+        luaL_error(L, "field '%s' must be a string, got %s", field, pfl_describe(L, -1, buf, sizeof buf));
+    }
+    lua_pop(L, 1); /* the string stays anchored by the options table */
+    return s;
+}
+
+static pf_rep opt_rep(lua_State *L, int opts, const char *fname)
+{
+    const char *r = opt_str(L, opts, "representation", "position");
+    if (!strcmp(r, "position")) return PF_POSITION;
+    if (!strcmp(r, "momentum")) return PF_MOMENTUM;
+    luaL_error(L, "%s: field 'representation' must be \"position\" or \"momentum\", got '%s'", fname, r);
+    return PF_POSITION;
+}
+
+/* Axis coordinates in reading order (momentum: ascending k). */
+static double *axis_table(lua_State *L, const pf_grid *g, int a, pf_rep rep)
+{
+    size_t n = pf_grid_points(g, a);
+    double *v = pfl_scratch_doubles(L, n);
+    for (size_t j = 0; j < n; j++)
+        v[j] = rep == PF_POSITION ? pf_grid_x(g, a, j) : pf_grid_k(g, a, pf_grid_fft_index(g, a, j));
+    return v;
+}
+
+static void commit_picture(lua_State *L, pf_status s, const char *path, const char *fname)
+{
+    pfl_check(L, s, fname);
+    pfl_output_register(L, path);
+}
+
+static int aspect_option(lua_State *L, int opts)
+{
+    const char *a = opt_str(L, opts, "aspect", "equal");
+    if (!strcmp(a, "equal")) return 1;
+    if (!strcmp(a, "fill")) return 0;
+    return luaL_error(L, "picture_map: field 'aspect' must be \"equal\" or \"fill\", got '%s'", a);
+}
+
+/* pf.picture_map(path, w [, {title=, representation=, aspect="equal"|"fill",
+ *   width=, height=}])
+ * -> final path.  2D: |psi|^2 over x, y; 3D: the column density along the
+ * third axis (what an absorption image along z records). */
+static int l_picture_map(lua_State *L)
+{
+    const char *path = pfl_output_resolve(L, luaL_checkstring(L, 1), "picture_map");
+    int pathidx = lua_gettop(L);
+    pf_wave *w = pfl_check_wave(L, 2);
+    pf_grid *g = pf_wave_grid(w);
+    int d = pf_grid_dim(g);
+    if (d < 2) return luaL_error(L, "picture_map: needs a 2D or 3D wave function; for 1D use picture_lines or picture_carpet");
+    pf_rep rep = opt_rep(L, 3, "picture_map");
+    size_t nx = pf_grid_points(g, 0), ny = pf_grid_points(g, 1), nz = d > 2 ? pf_grid_points(g, 2) : 1;
+    double *rho = pfl_scratch_doubles(L, pf_grid_total(g));
+    pfl_check(L, pf_wave_density(w, rep, rho), "picture_map");
+    if (d == 3) {
+        double dz = rep == PF_POSITION ? pf_grid_spacing(g, 2) : pf_grid_kspacing(g, 2);
+        for (size_t i = 0; i < nx * ny; i++) {
+            double sum = 0;
+            for (size_t k = 0; k < nz; k++) sum += rho[i * nz + k];
+            rho[i] = sum * dz;
+        }
+    }
+    pf_quantity q = rep == PF_POSITION ? PF_Q_LENGTH : PF_Q_WAVENUMBER;
+    pf_map m = {
+        .title = opt_str(L, 3, "title", rep == PF_POSITION ? "density" : "momentum density"),
+        .xa = {rep == PF_POSITION ? "x" : "k#dx#u", q},
+        .ya = {rep == PF_POSITION ? "y" : "k#dy#u", q},
+        .nx = nx, .ny = ny,
+        .x = axis_table(L, g, 0, rep), .y = axis_table(L, g, 1, rep),
+        .values = rho,
+        .value_name = d == 3 ? "column density" : (rep == PF_POSITION ? "|#gq|#u2#d" : "|#gf|#u2#d"),
+        .per_x = 1, .per_y = 1,
+        .equal_aspect = aspect_option(L, 3),
+        .width = opt_int(L, 3, "width", 0), .height = opt_int(L, 3, "height", 0),
+    };
+    commit_picture(L, pf_picture_map(pfl_ctx(L), path, pfl_overwrite_option(L, 3), &m), path, "picture_map");
+    pfl_note_guards(L, w);
+    lua_pushvalue(L, pathidx);
+    return 1;
+}
+
+static pf_quantity quantity_of(lua_State *L, const char *name)
+{
+    if (!strcmp(name, "length")) return PF_Q_LENGTH;
+    if (!strcmp(name, "wavenumber")) return PF_Q_WAVENUMBER;
+    if (!strcmp(name, "time")) return PF_Q_TIME;
+    if (!strcmp(name, "plain")) return PF_Q_PLAIN;
+    luaL_error(L, "picture_lines: field 'x_quantity' must be \"length\", \"wavenumber\", \"time\" or \"plain\", got '%s'", name);
+    return PF_Q_PLAIN;
+}
+
+static int legend_corner(lua_State *L, const char *c)
+{
+    static const char *const names[] = {"upper left", "upper right", "lower left", "lower right"};
+    for (int i = 0; i < 4; i++)
+        if (!strcmp(c, names[i])) return i;
+    luaL_error(L, "picture_lines: field 'legend' must be \"upper left\", \"upper right\", \"lower left\" or \"lower right\", got '%s'", c);
+    return 1;
+}
+
+static double *number_array(lua_State *L, int t, const char *field, size_t k, size_t *n)
+{
+    if (lua_getfield(L, t, field) != LUA_TTABLE)
+        luaL_error(L, "picture_lines: series %d needs '%s' (an array of numbers)", (int)k, field);
+    size_t len = (size_t)luaL_len(L, -1);
+    double *v = pfl_scratch_doubles(L, len);
+    for (size_t i = 0; i < len; i++) {
+        if (lua_geti(L, -2, (lua_Integer)i + 1) != LUA_TNUMBER)
+            luaL_error(L, "picture_lines: series %d '%s' entry %d is not a number", (int)k, field, (int)i + 1);
+        v[i] = lua_tonumber(L, -1);
+        lua_pop(L, 1);
+    }
+    lua_remove(L, -2); /* keep the scratch array, drop the Lua table */
+    *n = len;
+    return v;
+}
+
+/* pf.picture_lines(path, {title=, x_name=, x_quantity=, y_name=, y_unit=,
+ *   y_per_x=, log_y=, legend="upper right", width=, height=, series = {{x=, y=, label=, dashed=,
+ *   points=}, ...}}) -> final path */
+static int l_picture_lines(lua_State *L)
+{
+    const char *path = pfl_output_resolve(L, luaL_checkstring(L, 1), "picture_lines");
+    int pathidx = lua_gettop(L);
+    luaL_checktype(L, 2, LUA_TTABLE);
+    if (lua_getfield(L, 2, "series") != LUA_TTABLE) return luaL_error(L, "picture_lines: field 'series' must be an array of series");
+    int st = lua_gettop(L);
+    size_t ns = (size_t)luaL_len(L, st);
+    if (ns < 1 || ns > 64) return luaL_error(L, "picture_lines: give 1 to 64 series, got %d", (int)ns);
+    pf_series *series = lua_newuserdatauv(L, ns * sizeof *series, 0);
+    for (size_t k = 0; k < ns; k++) {
+        luaL_checkstack(L, 6, "too many series");
+        if (lua_geti(L, st, (lua_Integer)k + 1) != LUA_TTABLE)
+            return luaL_error(L, "picture_lines: series %d must be a table {x=, y=}", (int)k + 1);
+        int t = lua_gettop(L);
+        size_t nx, ny;
+        series[k].x = number_array(L, t, "x", k + 1, &nx);
+        series[k].y = number_array(L, t, "y", k + 1, &ny);
+        if (nx != ny) return luaL_error(L, "picture_lines: series %d has %d x and %d y values", (int)k + 1, (int)nx, (int)ny);
+        series[k].n = nx;
+        series[k].label = opt_str(L, t, "label", NULL);
+        series[k].dashed = pfl_field_boolean(L, t, "dashed", 0);
+        series[k].points = pfl_field_boolean(L, t, "points", 0);
+        /* The series table anchors its label; keep it on the stack. */
+    }
+    pf_lines p = {
+        .title = opt_str(L, 2, "title", ""),
+        .xa = {opt_str(L, 2, "x_name", "x"), quantity_of(L, opt_str(L, 2, "x_quantity", "plain"))},
+        .y_name = opt_str(L, 2, "y_name", "y"),
+        .y_unit = opt_str(L, 2, "y_unit", ""),
+        .y_per_x = pfl_field_boolean(L, 2, "y_per_x", 0),
+        .log_y = pfl_field_boolean(L, 2, "log_y", 0),
+        .legend = legend_corner(L, opt_str(L, 2, "legend", "upper right")),
+        .nseries = ns,
+        .series = series,
+        .width = opt_int(L, 2, "width", 0), .height = opt_int(L, 2, "height", 0),
+    };
+    commit_picture(L, pf_picture_lines(pfl_ctx(L), path, pfl_overwrite_option(L, 2), &p), path, "picture_lines");
+    lua_pushvalue(L, pathidx);
+    return 1;
+}
+
+/* pf.picture_carpet(path, w, {duration=, frames=, title=, x_range={lo, hi},
+ *   per_frame=false, width=, height=}) -> final path.  Flies a copy of the
+ * 1D state through `frames` equally spaced times from now to now + duration
+ * and maps its density over x and t (the state itself is left as it was).
+ * per_frame divides each time's profile by its own maximum, so a spreading
+ * cloud stays visible; x_range crops the picture to lo..hi (m). */
+static int l_picture_carpet(lua_State *L)
+{
+    const char *path = pfl_output_resolve(L, luaL_checkstring(L, 1), "picture_carpet");
+    int pathidx = lua_gettop(L);
+    pf_wave *w = pfl_check_wave(L, 2);
+    luaL_checktype(L, 3, LUA_TTABLE);
+    pf_grid *g = pf_wave_grid(w);
+    if (pf_grid_dim(g) != 1) return luaL_error(L, "picture_carpet: needs a 1D wave function, got %dD", pf_grid_dim(g));
+    double duration = pfl_field_number(L, 3, "duration", 0, 1);
+    if (!(duration > 0)) return luaL_error(L, "picture_carpet: field 'duration' must be positive (s), got %f", duration);
+    int frames = opt_int(L, 3, "frames", 200);
+    if (frames < 2 || frames > 20000) return luaL_error(L, "picture_carpet: field 'frames' must be 2..20000, got %d", frames);
+    int per_frame = pfl_field_boolean(L, 3, "per_frame", 0);
+    size_t nx = pf_grid_points(g, 0);
+    const double *xs = axis_table(L, g, 0, PF_POSITION);
+    size_t i0 = 0, i1 = nx; /* columns shown: i0 .. i1-1 */
+    double range[2];
+    if (pfl_field_vector(L, 3, "x_range", 2, range, 0)) {
+        if (!(range[1] > range[0])) return luaL_error(L, "picture_carpet: x_range must be {lo, hi} with lo < hi");
+        while (i0 < nx && xs[i0] < range[0]) i0++;
+        while (i1 > i0 && xs[i1 - 1] > range[1]) i1--;
+        if (i1 - i0 < 2) return luaL_error(L, "picture_carpet: x_range holds fewer than 2 grid points");
+    }
+    size_t nshow = i1 - i0;
+    double *rho = pfl_scratch_doubles(L, nshow * (size_t)frames);
+    double *t = pfl_scratch_doubles(L, (size_t)frames);
+    double *col = pfl_scratch_doubles(L, nx);
+    pf_wave *c;
+    pfl_check(L, pf_wave_copy(w, &c), "picture_carpet");
+    pfl_push_wave(L, c); /* owned by Lua: freed even if a step below raises */
+    pf_progress bar;
+    pf_progress_begin(&bar, stderr, pfl_progress_wanted(L), frames, "carpet");
+    double dt = duration / (frames - 1);
+    for (int j = 0; j < frames; j++) {
+        t[j] = dt * j;
+        pf_status st = j ? pf_wave_fly(c, dt) : PF_OK;
+        if (!st) st = pf_wave_density(c, PF_POSITION, col);
+        if (st) pf_progress_end(&bar);
+        pfl_check(L, st, "picture_carpet");
+        double peak = 0;
+        for (size_t i = i0; i < i1; i++) peak = col[i] > peak ? col[i] : peak;
+        double f = per_frame && peak > 0 ? 1 / peak : 1;
+        for (size_t i = i0; i < i1; i++) rho[(i - i0) * (size_t)frames + (size_t)j] = col[i] * f;
+        pf_progress_advance(&bar, 1);
+    }
+    pf_progress_end(&bar);
+    pfl_note_guards(L, c);
+    pf_map m = {
+        .title = opt_str(L, 3, "title", "density during flight"),
+        .xa = {"x", PF_Q_LENGTH},
+        .ya = {"t", PF_Q_TIME},
+        .nx = nshow, .ny = (size_t)frames,
+        .x = xs + i0, .y = t,
+        .values = rho,
+        .value_name = per_frame ? "|#gq|#u2#d / peak at t" : "|#gq|#u2#d",
+        .per_x = !per_frame,
+        .width = opt_int(L, 3, "width", 0), .height = opt_int(L, 3, "height", 0),
+    };
+    commit_picture(L, pf_picture_map(pfl_ctx(L), path, pfl_overwrite_option(L, 3), &m), path, "picture_carpet");
+    lua_pushvalue(L, pathidx);
+    return 1;
+}
+
+void pfl_open_pictures(lua_State *L, int mod)
+{
+    static const luaL_Reg funcs[] = {
+        {"picture_map", l_picture_map}, {"picture_lines", l_picture_lines}, {"picture_carpet", l_picture_carpet},
+        {NULL, NULL},
+    };
+    pfl_add_functions(L, mod, funcs);
+}

@@ -1,0 +1,31 @@
+#!/usr/bin/env bash
+# test_progress.sh - the progress bar appears on stderr only when stderr is
+# a terminal (a pseudo-terminal from util-linux `script`), never on stdout,
+# and not at all with --quiet or when stderr is a file.
+set -euo pipefail
+here=$(cd "$(dirname "$0")" && pwd)
+runner=${PSIFLIGHT_RUNNER:-$here/../../build/psiflight}
+tmp=$(mktemp -d)
+trap 'rm -rf "$tmp"' EXIT
+cmd="'$runner' run '$here/progress_loop.lua' --out '$tmp/o1'"
+
+# stderr on a terminal, stdout to a file.
+script -qec "$cmd >'$tmp/out1'" /dev/null >"$tmp/term1" </dev/null
+grep -q 'scan \[' "$tmp/term1" && grep -q 'elapsed' "$tmp/term1" && grep -q 'left' "$tmp/term1" &&
+  grep -q 'carpet \[' "$tmp/term1" || { echo "FAIL no bar on the terminal"; cat -v "$tmp/term1"; exit 1; }
+echo "ok bar with elapsed and estimated time on a terminal's stderr (scan and carpet)"
+grep -q 'elapsed' "$tmp/out1" && { echo "FAIL bar on stdout"; exit 1; }
+grep -qx 'result line	true' "$tmp/out1" || { echo "FAIL stdout content"; cat "$tmp/out1"; exit 1; }
+echo "ok stdout holds only the script's lines"
+
+# --quiet on a terminal: no bar.
+script -qec "$cmd --overwrite --quiet >'$tmp/out2'" /dev/null >"$tmp/term2" </dev/null
+grep -q 'elapsed' "$tmp/term2" && { echo "FAIL bar in quiet mode"; exit 1; }
+grep -qx 'result line	false' "$tmp/out2" || { echo "FAIL quiet stdout"; exit 1; }
+echo "ok --quiet: no bar"
+
+# stderr not a terminal: no bar, and stdout identical to the terminal run's.
+"$runner" run "$here/progress_loop.lua" --out "$tmp/o3" >"$tmp/out3" 2>"$tmp/err3"
+if grep -q 'elapsed\|carpet \[\|scan \[' "$tmp/err3"; then echo "FAIL bar drawn off a terminal"; cat "$tmp/err3"; exit 1; fi
+grep -qx 'result line	false' "$tmp/out3" || { echo "FAIL stdout off a terminal"; exit 1; }
+echo "ok stderr to a file: no bar"
