@@ -16,11 +16,11 @@
 -- Run: build/psiflight run examples/grating_gravity_aperture.lua [--set depth=1.4] [--set slit_um=7]
 local pf = require "psiflight"
 
--- CODATA 2018 (h exact in the 2019 SI), u; 23Na mass 22.9897692820 u
--- (AME2020, value quoted from memory).
+-- CODATA 2018 (h exact in the 2019 SI); the 23Na mass from the engine's
+-- species table (AME2020).
 local h = 6.62607015e-34
 local hbar = h / (2 * math.pi)
-local mass = 22.9897692820 * 1.66053906660e-27
+local mass = pf.mass("23Na")
 local gravity = {0, -9.80665}                  -- standard gravity along -y (m/s^2)
 
 local params = {

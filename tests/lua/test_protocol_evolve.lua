@@ -5,10 +5,10 @@ local pf = require "psiflight"
 local check = require "check"
 pf.setup{planning = "estimate"}
 
--- CODATA 2018 (h exact in the 2019 SI), u; 7Li mass 7.0160034366 u (AME2020,
--- quoted from memory) for this file's invented lithium scenario.
+-- CODATA 2018 (h exact in the 2019 SI); the 7Li mass from the engine's
+-- species table (AME2020) for this file's invented lithium scenario.
 local hbar = 6.62607015e-34 / (2 * math.pi)
-local m = 7.0160034366 * 1.66053906660e-27
+local m = pf.mass("7Li")
 local omega = 2 * math.pi * 400.0
 local aho = math.sqrt(hbar / (m * omega))
 

@@ -5,9 +5,10 @@ local pf = require "psiflight"
 local check = require "check"
 pf.setup{planning = "estimate"}
 
--- CODATA 2018 (h exact in the 2019 SI), u; 87Rb mass from AME2020.
+-- CODATA 2018 (h exact in the 2019 SI); 87Rb mass from the engine's species
+-- table (AME2020).
 local hbar = 6.62607015e-34 / (2 * math.pi)
-local m = 86.909180531 * 1.66053906660e-27
+local m = pf.mass("87Rb")
 
 local function max_abs_diff(a, b, shift)
   local n, worst = #a, 0
@@ -18,7 +19,7 @@ local function max_abs_diff(a, b, shift)
   return worst
 end
 
--- Talbot effect (Talbot 1836; Rayleigh 1881): a grating of period d revives
+-- Talbot effect (Talbot 1836; Rayleigh 1881; years from memory): a grating of period d revives
 -- after T_T = m d^2 / (pi hbar) (z_T = 2 d^2 / lambda mapped to time with
 -- z = v t, lambda = h / m v) and appears shifted by d/2 at T_T / 2.  On a
 -- grid whose span is a multiple of d every diffraction order sits on the

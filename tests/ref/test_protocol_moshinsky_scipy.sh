@@ -22,9 +22,10 @@ tmp=$(mktemp -d); trap 'rm -rf "$tmp"' EXIT
 cat > "$tmp/shutter.lua" <<'LUA'
 local pf = require "psiflight"
 pf.setup{planning = "estimate"}
--- CODATA 2018 (h exact in the 2019 SI), u; 87Rb mass from AME2020.
+-- CODATA 2018 (h exact in the 2019 SI); 87Rb mass from the engine's species
+-- table (AME2020).
 local hbar = 6.62607015e-34 / (2 * math.pi)
-local m = 86.909180531 * 1.66053906660e-27
+local m = pf.mass("87Rb")
 local v, t = 1.0e-2, 2.0e-3
 local n, span = 65536, 1.2e-3
 local dx = span / n

@@ -20,7 +20,8 @@
 #include "pf_observe.h"
 #include "pf_wave.h"
 
-/* 87Rb atomic mass 86.909180531 u (AME2020) with u from CODATA 2018. */
+/* 87Rb atomic mass 86.909180531 u (AME2020, the value in the engine's species
+ * table) with u from CODATA 2018. */
 #define RB87_MASS (86.909180531 * 1.66053906660e-27)
 
 static inline pf_context *tu_context(void)
