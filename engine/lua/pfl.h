@@ -149,6 +149,8 @@ typedef enum pfl_access { PFL_ACCESS_READ = 0, PFL_ACCESS_WRITE = 1 } pfl_access
  * every path is allowed (the module loaded outside the runner, --trusted).
  * Returns 0, or -1 when path cannot be resolved (errno set). */
 int pfl_files_allow(lua_State *L, const char *path, pfl_access access);
+/* True when a policy is in force (the runner's sandbox), false otherwise. */
+int pfl_files_enforced(lua_State *L);
 /* Raises a sandbox error naming op and path unless the policy allows the
  * access: no ".." component, and the resolved path (symbolic links followed)
  * inside an allowed root. */
