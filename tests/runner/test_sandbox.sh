@@ -17,8 +17,8 @@ run() { "$runner" run "$rec/hostile.lua" --out "$work/out" --set out="$work/out"
 
 line_of() { grep -n "^  $1 = " "$rec/hostile.lua" | cut -d: -f1; }
 for e in exec popen read_outside write_dotdot read_symlink write_symlink_dir loadlib c_module symlinked_module \
-         binary_chunk dofile_outside loadfile_outside remove_outside getenv sethook wisdom move_output \
-         engine_write_outside engine_read_outside engine_h5_outside; do
+         binary_chunk dofile_outside loadfile_outside remove_outside getenv sethook wisdom \
+         engine_write_outside engine_read_outside engine_h5_outside move_output; do
   expect 4 "sandbox refuses $e" -- run --set escape="$e"
   has "hostile.lua:$(line_of "$e"):" "$e: the error names the script line"
 done
