@@ -72,15 +72,14 @@ static pf_status line_wigner(wig_work *k, double dx, double weight, double *out)
     const size_t n2 = 2 * n;
     const double h = 0.5 * dx;
     for (size_t j = 0; j < n; j++) {
-        /* g[r] = f(r) + f(r - n), f(s) = conj(u[2j + s]) u[2j - s]; the
-         * unpaired s = -n term is left out (|y| < span / 2). */
+        /* g[r] = f(r) + f(r - n), f(s) = conj(u[2j + s]) u[2j - s], with the
+         * state taken as zero outside the box (no periodic wrap): a wrapped
+         * correlation would put a ghost copy of the state half a period away. */
         for (size_t r = 0; r < n; r++) {
-            size_t p = (2 * j + r) % n2, q = (2 * j + n2 - r) % n2;
-            double complex v = conj(k->u[p]) * k->u[q];
-            if (r > 0) {
-                size_t p2 = (2 * j + n2 + r - n) % n2, q2 = (2 * j + n2 + n - r) % n2;
-                v += conj(k->u[p2]) * k->u[q2];
-            }
+            double complex v = 0;
+            ptrdiff_t c = (ptrdiff_t)(2 * j), sp = (ptrdiff_t)r, sm = (ptrdiff_t)r - (ptrdiff_t)n;
+            if (c + sp < (ptrdiff_t)n2 && c - sp >= 0) v += conj(k->u[c + sp]) * k->u[c - sp];
+            if (r > 0 && c + sm >= 0 && c - sm < (ptrdiff_t)n2) v += conj(k->u[c + sm]) * k->u[c - sm];
             k->gbuf[r] = v;
         }
         s = pf_grid_fft(g1, k->gbuf, +1);
