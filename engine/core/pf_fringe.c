@@ -11,7 +11,9 @@ typedef struct win {
     size_t n;
 } win;
 
-/* Least-squares fit of y = c0 + c1 cos qx + c2 sin qx; returns the amplitude. */
+/* Least-squares fit of y = c0 + c1 cos qx + c2 sin qx; returns the residual
+ * sum of squares (the refinement minimises it: it is zero at the true q of
+ * a pure cosine, while the fitted amplitude need not peak there). */
 static double lsq(const win *w, double q, double c[3])
 {
     double M[3][4] = {{0}};
@@ -35,7 +37,7 @@ static double lsq(const win *w, double q, double c[3])
         }
         if (M[col][col] == 0) {
             c[0] = c[1] = c[2] = 0;
-            return 0;
+            return INFINITY;
         }
         for (int r = 0; r < 3; r++) {
             if (r == col) continue;
@@ -44,7 +46,13 @@ static double lsq(const win *w, double q, double c[3])
         }
     }
     for (int r = 0; r < 3; r++) c[r] = M[r][3] / M[r][r];
-    return hypot(c[1], c[2]);
+    double res = 0;
+    for (size_t i = 0; i < w->n; i++) {
+        if (!w->in[i]) continue;
+        double e = w->y[i] - c[0] - c[1] * cos(q * w->x[i]) - c[2] * sin(q * w->x[i]);
+        res += e * e;
+    }
+    return res;
 }
 
 static double fourier_power(const win *w, double q, double mean)
@@ -110,15 +118,15 @@ pf_status pf_fringe_analyse(pf_context *ctx, const double *x, const double *y, s
             qbest = q;
         }
     }
-    /* Golden-section refinement of the least-squares amplitude in the
-     * bracket around the scan's best point. */
+    /* Golden-section refinement (minimum of the least-squares residual) in
+     * the bracket around the scan's best point. */
     double a = fmax(qmin, qbest - dq), b = fmin(qmax, qbest + dq);
     const double gr = 0.6180339887498949;
     double c[3];
     double x1 = b - gr * (b - a), x2 = a + gr * (b - a);
     double f1 = lsq(&w, x1, c), f2 = lsq(&w, x2, c);
     for (int it = 0; it < 100 && b - a > 1e-14 * fabs(b); it++) {
-        if (f1 > f2) {
+        if (f1 < f2) {
             b = x2;
             x2 = x1;
             f2 = f1;
@@ -133,7 +141,8 @@ pf_status pf_fringe_analyse(pf_context *ctx, const double *x, const double *y, s
         }
     }
     double q = 0.5 * (a + b);
-    double amp = lsq(&w, q, c);
+    lsq(&w, q, c);
+    double amp = hypot(c[1], c[2]);
     free(in);
     if (!(c[0] != 0)) return pf_fail(ctx, PF_EINVAL, "fringe offset is zero; visibility undefined");
     out->wavenumber = q;

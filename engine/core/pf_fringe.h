@@ -5,7 +5,8 @@
  * absolute coordinate (so the phase refers to x = 0).  The wave number q is
  * found as the peak of the profile's Fourier component |sum (y - mean)
  * exp(-i q x)| (scanned at 4x the window's natural resolution, then refined
- * by golden-section search on the least-squares amplitude); A, V and phase
+ * by golden-section search for the least-squares residual's minimum); A, V
+ * and phase
  * come from the linear least-squares fit of 1, cos qx, sin qx at that q.
  * V = (max - min) / (max + min) for a pure cosine. */
 #ifndef PF_FRINGE_H
