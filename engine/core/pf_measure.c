@@ -12,7 +12,7 @@ pf_status pf_region_check(const pf_grid *g, const pf_region *r)
     switch (r->kind) {
     case PF_REGION_BOX:
         for (int a = 0; a < d; a++)
-            if (!isfinite(r->lo[a]) || !isfinite(r->hi[a]) || r->lo[a] > r->hi[a])
+            if (isnan(r->lo[a]) || isnan(r->hi[a]) || r->lo[a] > r->hi[a])
                 return pf_fail(g->ctx, PF_EINVAL, "box corner on axis %d must satisfy min <= max, got %g and %g",
                                a + 1, r->lo[a], r->hi[a]);
         return PF_OK;

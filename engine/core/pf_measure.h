@@ -22,7 +22,7 @@ typedef enum pf_region_kind {
 
 typedef struct pf_region {
     pf_region_kind kind;
-    double lo[PF_MAX_DIM], hi[PF_MAX_DIM]; /* box corners (m) */
+    double lo[PF_MAX_DIM], hi[PF_MAX_DIM]; /* box corners (m); +-INFINITY leaves an axis open */
     double point[PF_MAX_DIM];              /* half-space: a point on the plane; ball: centre */
     double normal[PF_MAX_DIM];             /* half-space: normal pointing into the region */
     double radius;                         /* ball radius (m) */

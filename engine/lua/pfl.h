@@ -102,5 +102,12 @@ void pfl_open_grid(lua_State *L, int mod);
 void pfl_open_wave(lua_State *L, int mod);
 void pfl_open_flight(lua_State *L, int mod);
 void pfl_open_observe(lua_State *L, int mod);
+/* Measurements, detectors, ensembles (issue 6): declared in pfl_measure.h. */
+void pfl_open_random(lua_State *L, int mod);
+void pfl_open_ensemble(lua_State *L, int mod);
+void pfl_open_measure(lua_State *L, int mod);
+void pfl_open_distrib(lua_State *L, int mod);
+void pfl_open_flux(lua_State *L, int mod);
+void pfl_open_detector(lua_State *L, int mod);
 
 #endif

@@ -14,6 +14,12 @@ static const pfl_opener openers[] = {
     pfl_open_wave,
     pfl_open_flight,
     pfl_open_observe,
+    pfl_open_random,
+    pfl_open_ensemble, /* before the measurement groups, which add to it */
+    pfl_open_measure,
+    pfl_open_distrib,
+    pfl_open_flux,
+    pfl_open_detector,
 };
 
 int luaopen_psiflight(lua_State *L)
