@@ -67,6 +67,11 @@ int pfl_field_boolean(lua_State *L, int t, const char *field, int def);
  * type names), into buf. */
 const char *pfl_describe(lua_State *L, int idx, char *buf, size_t size);
 
+/* Field 'mass' of the table at t: a positive mass in kg or a species label
+ * such as "87Rb" (pfl_units.c).  Raises an error naming fname otherwise,
+ * listing close species labels for an unknown one. */
+double pfl_field_mass(lua_State *L, int t, const char *fname);
+
 /* ---- complex numbers (pfl_complex.c) ---- */
 void pfl_push_complex(lua_State *L, double complex z);
 /* A number or complex userdata at idx; returns 0 when it is neither. */
@@ -102,7 +107,10 @@ void pfl_open_grid(lua_State *L, int mod);
 void pfl_open_wave(lua_State *L, int mod);
 void pfl_open_flight(lua_State *L, int mod);
 void pfl_open_observe(lua_State *L, int mod);
-/* Measurements, detectors, ensembles (issue 6): declared in pfl_measure.h. */
+void pfl_open_units(lua_State *L, int mod);
+void pfl_open_states(lua_State *L, int mod);
+void pfl_open_algebra(lua_State *L, int mod);
+/* Measurements, detectors, ensembles (issue 6; helpers in pfl_measure.h). */
 void pfl_open_random(lua_State *L, int mod);
 void pfl_open_ensemble(lua_State *L, int mod);
 void pfl_open_measure(lua_State *L, int mod);

@@ -11,7 +11,9 @@ const char *pfl_describe(lua_State *L, int idx, char *buf, size_t size)
 {
     switch (lua_type(L, idx)) {
     case LUA_TNUMBER:
-        if (lua_isinteger(L, idx))
+        if (isnan(lua_tonumber(L, idx)))
+            snprintf(buf, size, "nan"); /* printf may say -nan; the sign of a NaN means nothing */
+        else if (lua_isinteger(L, idx))
             snprintf(buf, size, "%lld", (long long)lua_tointeger(L, idx));
         else
             snprintf(buf, size, "%.17g", lua_tonumber(L, idx));
@@ -25,6 +27,23 @@ const char *pfl_describe(lua_State *L, int idx, char *buf, size_t size)
         snprintf(buf, size, "a %s", luaL_typename(L, idx));
     }
     return buf;
+}
+
+/* Name under which the running C function was called ("grid" for
+ * pf.grid{...}), as luaL_argerror finds it; "?" when unknown. */
+static const char *caller_name(lua_State *L)
+{
+    lua_Debug ar;
+    if (lua_getstack(L, 0, &ar) && lua_getinfo(L, "n", &ar) && ar.name) return ar.name;
+    return "?";
+}
+
+/* Raises "NAME: field ..." so table-field errors name the function too. */
+static int field_error(lua_State *L, const char *fmt, const char *field, const char *extra)
+{
+    char msg[300];
+    snprintf(msg, sizeof msg, fmt, field, extra);
+    return luaL_error(L, "%s: %s", caller_name(L), msg);
 }
 
 double pfl_check_finite(lua_State *L, int arg, const char *what)
@@ -55,12 +74,12 @@ double pfl_field_number(lua_State *L, int t, const char *field, double def, int 
     int type = lua_getfield(L, t, field);
     if (type == LUA_TNIL) {
         lua_pop(L, 1);
-        if (required) luaL_error(L, "missing field '%s'", field);
+        if (required) field_error(L, "missing field '%s'%s", field, "");
         return def;
     }
     double v = lua_tonumber(L, -1);
     if (type != LUA_TNUMBER || !isfinite(v))
-        luaL_error(L, "field '%s' must be a finite number, got %s", field, pfl_describe(L, -1, buf, sizeof buf));
+        field_error(L, "field '%s' must be a finite number, got %s", field, pfl_describe(L, -1, buf, sizeof buf));
     lua_pop(L, 1);
     return v;
 }
@@ -71,29 +90,36 @@ int pfl_field_vector(lua_State *L, int t, const char *field, int dim, double *ou
     int type = lua_getfield(L, t, field);
     if (type == LUA_TNIL) {
         lua_pop(L, 1);
-        if (required) luaL_error(L, "missing field '%s'", field);
+        if (required) field_error(L, "missing field '%s'%s", field, "");
         return 0;
     }
     if (type == LUA_TNUMBER) {
         double v = lua_tonumber(L, -1);
         if (!isfinite(v))
-            luaL_error(L, "field '%s' must be finite, got %s", field, pfl_describe(L, -1, buf, sizeof buf));
+            field_error(L, "field '%s' must be finite, got %s", field, pfl_describe(L, -1, buf, sizeof buf));
         for (int a = 0; a < dim; a++) out[a] = v;
         lua_pop(L, 1);
         return 1;
     }
-    if (type != LUA_TTABLE)
-        luaL_error(L, "field '%s' must be a number or a table of %d numbers, got %s", field, dim,
-                   pfl_describe(L, -1, buf, sizeof buf));
+    if (type != LUA_TTABLE) {
+        char what[120];
+        snprintf(what, sizeof what, "%d numbers, got %s", dim, pfl_describe(L, -1, buf, sizeof buf));
+        field_error(L, "field '%s' must be a number or a table of %s", field, what);
+    }
     lua_Integer len = luaL_len(L, -1);
-    if (len != dim)
-        luaL_error(L, "field '%s' must have %d entries (one per axis), got %d", field, dim, (int)len);
+    if (len != dim) {
+        char what[80];
+        snprintf(what, sizeof what, "%d entries (one per axis), got %d", dim, (int)len);
+        field_error(L, "field '%s' must have %s", field, what);
+    }
     for (int a = 0; a < dim; a++) {
         int et = lua_geti(L, -1, a + 1);
         double v = lua_tonumber(L, -1);
-        if (et != LUA_TNUMBER || !isfinite(v))
-            luaL_error(L, "field '%s' entry %d must be a finite number, got %s", field, a + 1,
-                       pfl_describe(L, -1, buf, sizeof buf));
+        if (et != LUA_TNUMBER || !isfinite(v)) {
+            char what[120];
+            snprintf(what, sizeof what, "%d must be a finite number, got %s", a + 1, pfl_describe(L, -1, buf, sizeof buf));
+            field_error(L, "field '%s' entry %s", field, what);
+        }
         out[a] = v;
         lua_pop(L, 1);
     }
@@ -107,7 +133,7 @@ int pfl_field_boolean(lua_State *L, int t, const char *field, int def)
     int v = type == LUA_TNIL ? def : lua_toboolean(L, -1);
     if (type != LUA_TNIL && type != LUA_TBOOLEAN) {
         char buf[80];
-        luaL_error(L, "field '%s' must be true or false, got %s", field, pfl_describe(L, -1, buf, sizeof buf));
+        field_error(L, "field '%s' must be true or false, got %s", field, pfl_describe(L, -1, buf, sizeof buf));
     }
     lua_pop(L, 1);
     return v;

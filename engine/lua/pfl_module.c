@@ -14,6 +14,9 @@ static const pfl_opener openers[] = {
     pfl_open_wave,
     pfl_open_flight,
     pfl_open_observe,
+    pfl_open_units,
+    pfl_open_states,
+    pfl_open_algebra,
     pfl_open_random,
     pfl_open_ensemble, /* before the measurement groups, which add to it */
     pfl_open_measure,

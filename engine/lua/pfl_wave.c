@@ -99,18 +99,13 @@ void pfl_fill_from_function(lua_State *L, pf_wave *w, pf_rep rep, int arg, const
     pfl_check(L, s, name);
 }
 
-/* pf.wave(grid, {mass = kg, position = f(x[,y,z]) | momentum = f(kx[,ky,kz]),
+/* pf.wave(grid, {mass = kg or species label, position = f(x[,y,z]) | momentum = f(kx[,ky,kz]),
  *                normalize = true}) */
 static int l_wave(lua_State *L)
 {
     pf_grid *g = pfl_check_grid(L, 1);
     luaL_checktype(L, 2, LUA_TTABLE);
-    double mass = pfl_field_number(L, 2, "mass", 0, 0);
-    if (!(mass > 0)) {
-        char buf[80];
-        lua_getfield(L, 2, "mass");
-        return luaL_error(L, "wave: field 'mass' must be a positive number (kg), got %s", pfl_describe(L, -1, buf, sizeof buf));
-    }
+    double mass = pfl_field_mass(L, 2, "wave");
     int tp = lua_getfield(L, 2, "position");
     int tm = lua_getfield(L, 2, "momentum");
     if ((tp == LUA_TNIL) == (tm == LUA_TNIL))

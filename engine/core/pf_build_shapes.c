@@ -1,0 +1,172 @@
+/* pf_build_shapes.c - flat-top (super-Gaussian) momentum distributions and
+ * Thomas-Fermi profiles. */
+#include <math.h>
+#include <stdlib.h>
+#include "pf_build.h"
+#include "pf_constants.h"
+#include "pf_internal.h"
+#include "pf_resolution.h"
+
+/* |phi|^2 = exp(-u^2p) falls below 1e-9 of its peak beyond u^2p = 20.7. */
+#define FLAT_DENSITY_FLOOR 20.7233
+#define FLAT_MAX_ORDER 50.0
+/* Momentum reach of a Thomas-Fermi state for the Nyquist check, in units of
+ * 1/R.  The sharp edge of the profile makes the tail decay only as a power
+ * (|phi|^2 ~ k^-(d+2)), so some probability always sits beyond any limit;
+ * this checks the bulk of the distribution. */
+#define TF_K_REACH 8.0
+
+static pf_status check_axes(pf_context *ctx, int d, const char *what, const double *v, int positive)
+{
+    for (int a = 0; a < d; a++) {
+        if (!isfinite(v[a]))
+            return pf_fail(ctx, PF_EINVAL, "%s on axis %d must be finite, got %g", what, a + 1, v[a]);
+        if (positive && !(v[a] > 0))
+            return pf_fail(ctx, PF_EINVAL, "%s on axis %d must be positive, got %g", what, a + 1, v[a]);
+    }
+    return PF_OK;
+}
+
+/* Volume of the d-dimensional unit ball: 2, pi, 4 pi / 3. */
+static double unit_ball(int d) { return d == 1 ? 2.0 : d == 2 ? PF_PI : 4.0 * PF_PI / 3.0; }
+
+pf_status pf_build_flat_top(pf_wave *w, const double *center, const double *wavenumber, const double *half_width,
+                            double order, pf_flat_shape shape, int normalize)
+{
+    pf_grid *g = w->grid;
+    const int d = g->dim;
+    pf_status s = check_axes(g->ctx, d, "center", center, 0);
+    if (!s) s = check_axes(g->ctx, d, "wave number", wavenumber, 0);
+    if (!s) s = check_axes(g->ctx, d, "half width", half_width, 1);
+    if (s) return s;
+    if (!isfinite(order) || order < 1.0 || order > FLAT_MAX_ORDER)
+        return pf_fail(g->ctx, PF_EINVAL, "flat-top order must be between 1 and %g, got %g", FLAT_MAX_ORDER, order);
+    if (shape != PF_FLAT_BOX && shape != PF_FLAT_ROUND)
+        return pf_fail(g->ctx, PF_EINVAL, "unknown flat-top shape %d", (int)shape);
+    size_t nn[PF_MAX_DIM], offs[PF_MAX_DIM + 1];
+    offs[0] = 0;
+    for (int a = 0; a < PF_MAX_DIM; a++) {
+        nn[a] = a < d ? g->n[a] : 1;
+        offs[a + 1] = offs[a] + nn[a];
+    }
+    /* Per axis: u_a^2 (round) or the axis profile (box), and the phase
+     * exp(-i k x0) divided by the storage factor phi/S. */
+    double *u2 = malloc(offs[PF_MAX_DIM] * sizeof *u2);
+    double complex *ph = malloc(offs[PF_MAX_DIM] * sizeof *ph);
+    if (!u2 || !ph) {
+        free(u2);
+        free(ph);
+        return pf_fail(g->ctx, PF_ENOMEM, "out of memory for builder tables");
+    }
+    for (int a = 0; a < PF_MAX_DIM; a++)
+        for (size_t j = 0; j < nn[a]; j++) {
+            size_t t = offs[a] + j;
+            if (a >= d) {
+                u2[t] = shape == PF_FLAT_BOX ? 1.0 : 0.0;
+                ph[t] = 1.0;
+                continue;
+            }
+            double u = (g->k[a][j] - wavenumber[a]) / half_width[a];
+            u2[t] = shape == PF_FLAT_BOX ? exp(-0.5 * pow(fabs(u), 2.0 * order)) : u * u;
+            ph[t] = cexp(-I * g->k[a][j] * center[a]) / g->kfactor[a][j];
+        }
+    /* Normalisation in infinite k space: integral exp(-u^2p) = 2 Gamma(1 +
+     * 1/2p) per axis (box); S_(d-1) Gamma(d/2p) / 2p for the round shape. */
+    double integral = 1.0;
+    for (int a = 0; a < d; a++) integral *= half_width[a];
+    if (shape == PF_FLAT_BOX)
+        integral *= pow(2.0 * tgamma(1.0 + 0.5 / order), d);
+    else
+        integral *= unit_ball(d) * d * tgamma(0.5 * d / order) / (2.0 * order);
+    double norm = 1.0 / sqrt(integral);
+    double complex *data = w->data;
+    ptrdiff_t n0 = (ptrdiff_t)nn[0];
+#pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
+    for (ptrdiff_t i = 0; i < n0; i++)
+        for (size_t j = 0; j < nn[1]; j++)
+            for (size_t k = 0; k < nn[2]; k++) {
+                size_t t0 = offs[0] + (size_t)i, t1 = offs[1] + j, t2 = offs[2] + k;
+                double f = shape == PF_FLAT_BOX ? u2[t0] * u2[t1] * u2[t2]
+                                                : exp(-0.5 * pow(u2[t0] + u2[t1] + u2[t2], order));
+                data[((size_t)i * nn[1] + j) * nn[2] + k] = norm * f * ph[t0] * ph[t1] * ph[t2];
+            }
+    free(u2);
+    free(ph);
+    w->rep = PF_MOMENTUM;
+    if (normalize && (s = pf_wave_normalize(w))) return s;
+    pf_wave_log_step(w, "build", "flat_top", 0.0, 0.0, -1.0);
+    pf_extent e;
+    pf_extent_clear(&e);
+    double reach = pow(FLAT_DENSITY_FLOOR, 0.5 / order);
+    for (int a = 0; a < d; a++) {
+        e.k_lo[a] = wavenumber[a] - reach * half_width[a];
+        e.k_hi[a] = wavenumber[a] + reach * half_width[a];
+    }
+    pf_resolution_check(g, "flat_top", &e);
+    /* The position extent has no closed form (ringing of the steep edges):
+     * measure it. */
+    return pf_resolution_check_edges(w, PF_POSITION, "flat_top", NULL);
+}
+
+pf_status pf_build_thomas_fermi(pf_wave *w, const double *center, const double *radius, const double *wavenumber,
+                                int normalize)
+{
+    pf_grid *g = w->grid;
+    const int d = g->dim;
+    pf_status s = check_axes(g->ctx, d, "center", center, 0);
+    if (!s) s = check_axes(g->ctx, d, "Thomas-Fermi radius", radius, 1);
+    if (!s) s = check_axes(g->ctx, d, "wave number", wavenumber, 0);
+    if (s) return s;
+    size_t nn[PF_MAX_DIM], offs[PF_MAX_DIM + 1];
+    offs[0] = 0;
+    for (int a = 0; a < PF_MAX_DIM; a++) {
+        nn[a] = a < d ? g->n[a] : 1;
+        offs[a + 1] = offs[a] + nn[a];
+    }
+    double *u2 = malloc(offs[PF_MAX_DIM] * sizeof *u2);
+    double complex *ph = malloc(offs[PF_MAX_DIM] * sizeof *ph);
+    if (!u2 || !ph) {
+        free(u2);
+        free(ph);
+        return pf_fail(g->ctx, PF_ENOMEM, "out of memory for builder tables");
+    }
+    for (int a = 0; a < PF_MAX_DIM; a++)
+        for (size_t j = 0; j < nn[a]; j++) {
+            size_t t = offs[a] + j;
+            double dx = a < d ? g->x[a][j] - center[a] : 0.0;
+            double u = a < d ? dx / radius[a] : 0.0;
+            u2[t] = u * u;
+            ph[t] = a < d ? cexp(I * wavenumber[a] * dx) : 1.0;
+        }
+    /* integral of (1 - r^2)_+ over the ellipsoid: prod R * V_d * 2 / (d+2). */
+    double integral = unit_ball(d) * 2.0 / (d + 2.0);
+    for (int a = 0; a < d; a++) integral *= radius[a];
+    double norm = 1.0 / sqrt(integral);
+    double complex *data = w->data;
+    ptrdiff_t n0 = (ptrdiff_t)nn[0];
+#pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
+    for (ptrdiff_t i = 0; i < n0; i++)
+        for (size_t j = 0; j < nn[1]; j++)
+            for (size_t k = 0; k < nn[2]; k++) {
+                size_t t0 = offs[0] + (size_t)i, t1 = offs[1] + j, t2 = offs[2] + k;
+                double rest = 1.0 - u2[t0] - u2[t1] - u2[t2];
+                data[((size_t)i * nn[1] + j) * nn[2] + k] =
+                    rest > 0 ? norm * sqrt(rest) * ph[t0] * ph[t1] * ph[t2] : 0.0;
+            }
+    free(u2);
+    free(ph);
+    w->rep = PF_POSITION;
+    if (normalize && (s = pf_wave_normalize(w))) return s;
+    pf_wave_log_step(w, "build", "thomas_fermi", 0.0, 0.0, -1.0);
+    pf_extent e;
+    pf_extent_clear(&e);
+    for (int a = 0; a < d; a++) {
+        e.x_lo[a] = center[a] - radius[a];
+        e.x_hi[a] = center[a] + radius[a];
+        e.feature[a] = radius[a];
+        e.k_lo[a] = wavenumber[a] - TF_K_REACH / radius[a];
+        e.k_hi[a] = wavenumber[a] + TF_K_REACH / radius[a];
+    }
+    pf_resolution_check(g, "thomas_fermi", &e);
+    return PF_OK;
+}

@@ -1,0 +1,143 @@
+/* test_grid.c - grid validation, coordinates, index orders and plan sharing. */
+#include "pft.h"
+#include <string.h>
+#include "pf_constants.h"
+#include "pf_grid.h"
+#include "pf_internal.h"
+#include "pf_wave.h"
+
+static int setup(void **state)
+{
+    *state = pf_context_new();
+    pf_context_set_planning(*state, PF_PLAN_ESTIMATE);
+    return *state ? 0 : -1;
+}
+
+static int teardown(void **state)
+{
+    pf_context_release(*state);
+    return 0;
+}
+
+static void rejects_bad_shapes(void **state)
+{
+    pf_context *ctx = *state;
+    pf_grid *g;
+    size_t n1[1] = {1}, n2[2] = {64, 64};
+    double s1[1] = {1.0}, s2[2] = {1.0, NAN}, neg[1] = {-1.0};
+    assert_int_equal(pf_grid_new(ctx, 0, n2, s1, NULL, &g), PF_EINVAL);
+    assert_int_equal(pf_grid_new(ctx, 4, n2, s1, NULL, &g), PF_EINVAL);
+    assert_int_equal(pf_grid_new(ctx, 1, n1, s1, NULL, &g), PF_EINVAL);
+    assert_non_null(strstr(pf_context_message(ctx), "at least 2"));
+    assert_int_equal(pf_grid_new(ctx, 2, n2, s2, NULL, &g), PF_EINVAL);
+    assert_non_null(strstr(pf_context_message(ctx), "axis 2"));
+    size_t n64[1] = {64};
+    assert_int_equal(pf_grid_new(ctx, 1, n64, neg, NULL, &g), PF_EINVAL);
+    double origin[1] = {INFINITY};
+    assert_int_equal(pf_grid_new(ctx, 1, n64, s1, origin, &g), PF_EINVAL);
+    assert_null(g);
+}
+
+static void memory_cap_is_checked_before_allocating(void **state)
+{
+    pf_context *ctx = *state;
+    pf_context_set_memory_cap(ctx, 1 << 20); /* 1 MiB */
+    size_t n[2] = {1024, 1024};               /* 16 MiB per wave function */
+    double s[2] = {1, 1};
+    pf_grid *g;
+    assert_int_equal(pf_grid_new(ctx, 2, n, s, NULL, &g), PF_ELIMIT);
+    assert_non_null(strstr(pf_context_message(ctx), "memory cap"));
+    /* A product that overflows size_t is refused, not wrapped. */
+    size_t huge[3] = {(size_t)1 << 30, (size_t)1 << 30, (size_t)1 << 30};
+    double s3[3] = {1, 1, 1};
+    pf_context_set_memory_cap(ctx, (size_t)1 << 40);
+    assert_int_not_equal(pf_grid_new(ctx, 3, huge, s3, NULL, &g), PF_OK);
+}
+
+static void coordinates_are_centred_on_the_origin(void **state)
+{
+    pf_grid *g;
+    size_t n[2] = {8, 7};
+    double span[2] = {4.0, 7.0}, origin[2] = {1.5, -2.0};
+    pft_ok(pf_grid_new(*state, 2, n, span, origin, &g));
+    /* Even n: x_j = origin + (j - n/2) dx, the origin is point n/2. */
+    pft_near(pf_grid_spacing(g, 0), 0.5, 0, 0);
+    pft_near(pf_grid_x(g, 0, 4), 1.5, 0, 0);
+    pft_near(pf_grid_x(g, 0, 0), 1.5 - 2.0, 1e-15, 0);
+    /* Odd n: symmetric about the origin. */
+    pft_near(pf_grid_x(g, 1, 3), -2.0, 0, 0);
+    pft_near(pf_grid_x(g, 1, 0) + pf_grid_x(g, 1, 6), -4.0, 1e-15, 0);
+    pft_near(pf_grid_cell_volume(g), 0.5, 1e-15, 0);
+    pf_grid_release(g);
+}
+
+/* FFT order as numpy.fft.fftfreq defines it (common practice): for n = 8,
+ * m = 0 1 2 3 -4 -3 -2 -1; for n = 7, m = 0 1 2 3 -3 -2 -1. */
+static void wave_numbers_follow_fft_order(void **state)
+{
+    pf_grid *g;
+    size_t n[2] = {8, 7};
+    double span[2] = {2.0, 3.0};
+    pft_ok(pf_grid_new(*state, 2, n, span, NULL, &g));
+    const int m8[8] = {0, 1, 2, 3, -4, -3, -2, -1}, m7[7] = {0, 1, 2, 3, -3, -2, -1};
+    for (size_t j = 0; j < 8; j++) pft_near(pf_grid_k(g, 0, j), m8[j] * PF_TWO_PI / 2.0, 1e-15, 0);
+    for (size_t j = 0; j < 7; j++) pft_near(pf_grid_k(g, 1, j), m7[j] * PF_TWO_PI / 3.0, 1e-15, 0);
+    pft_near(pf_grid_knyquist(g, 0), PF_PI / 0.25, 1e-15, 0);
+    /* Ascending order visits k from the most negative up, and maps back. */
+    for (int a = 0; a < 2; a++) {
+        double prev = -INFINITY;
+        for (size_t i = 0; i < n[a]; i++) {
+            size_t j = pf_grid_fft_index(g, a, i);
+            assert_true(pf_grid_k(g, a, j) > prev);
+            prev = pf_grid_k(g, a, j);
+            assert_int_equal(pf_grid_ascending_index(g, a, j), i);
+        }
+    }
+    pf_grid_release(g);
+}
+
+static void plans_are_made_once_and_shared(void **state)
+{
+    pf_grid *g;
+    size_t n[1] = {256};
+    double span[1] = {1.0};
+    pft_ok(pf_grid_new(*state, 1, n, span, NULL, &g));
+    pf_wave *a, *b;
+    pft_ok(pf_wave_new(g, 1.0, &a));
+    pft_ok(pf_wave_new(g, 1.0, &b));
+    pft_ok(pf_wave_to(a, PF_MOMENTUM));
+    fftw_plan fwd = g->forward;
+    assert_non_null(fwd);
+    pft_ok(pf_wave_to(b, PF_MOMENTUM));
+    pft_ok(pf_wave_to(a, PF_POSITION));
+    assert_ptr_equal(g->forward, fwd); /* the second wave reused the plan */
+    pf_wave_free(a);
+    pf_wave_free(b);
+    pf_grid_release(g);
+}
+
+static void grid_outlives_its_handle_while_waves_hold_it(void **state)
+{
+    pf_grid *g;
+    size_t n[1] = {32};
+    double span[1] = {1.0};
+    pft_ok(pf_grid_new(*state, 1, n, span, NULL, &g));
+    pf_wave *w;
+    pft_ok(pf_wave_new(g, 1.0, &w));
+    pf_grid_release(g); /* the wave keeps its own reference */
+    assert_int_equal(pf_grid_points(pf_wave_grid(w), 0), 32);
+    pf_wave_free(w);
+}
+
+int main(void)
+{
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test_setup_teardown(rejects_bad_shapes, setup, teardown),
+        cmocka_unit_test_setup_teardown(memory_cap_is_checked_before_allocating, setup, teardown),
+        cmocka_unit_test_setup_teardown(coordinates_are_centred_on_the_origin, setup, teardown),
+        cmocka_unit_test_setup_teardown(wave_numbers_follow_fft_order, setup, teardown),
+        cmocka_unit_test_setup_teardown(plans_are_made_once_and_shared, setup, teardown),
+        cmocka_unit_test_setup_teardown(grid_outlives_its_handle_while_waves_hold_it, setup, teardown),
+    };
+    return cmocka_run_group_tests_name("grid", tests, NULL, NULL);
+}
