@@ -26,9 +26,8 @@
 #include "pf_collapse.h"
 #include "pf_distrib.h"
 #include "pf_random.h"
+#include "pf_units.h" /* PF_BOLTZMANN */
 
-/* Boltzmann constant, exact in the 2019 SI (CODATA 2018). */
-#define PF_BOLTZMANN 1.380649e-23
 
 typedef struct pf_mixture {
     size_t count;

@@ -45,7 +45,7 @@ static int l_camera(lua_State *L)
             return luaL_error(L, "camera: pixel count on axis %d must be 1..65536", a + 1);
     pfl_field_vector(L, 1, "pitch", b->cam.dim, b->cam.pitch, 1);
     for (int a = 0; a < b->cam.dim; a++)
-        if (!(b->cam.pitch[a] > 0)) return luaL_error(L, "camera: field 'pitch' must be positive (m), got %g", b->cam.pitch[a]);
+        if (!(b->cam.pitch[a] > 0)) return luaL_error(L, "camera: field 'pitch' must be positive (m), got %f", b->cam.pitch[a]);
     double corner[2];
     if (pfl_field_vector(L, 1, "corner", b->cam.dim, corner, 0)) {
         for (int a = 0; a < b->cam.dim; a++) b->cam.corner[a] = corner[a];
@@ -55,10 +55,10 @@ static int l_camera(lua_State *L)
     }
     pfl_field_vector(L, 1, "psf", b->cam.dim, b->psf, 0);
     for (int a = 0; a < b->cam.dim; a++)
-        if (!(b->psf[a] >= 0)) return luaL_error(L, "camera: field 'psf' must be >= 0 (m), got %g", b->psf[a]);
+        if (!(b->psf[a] >= 0)) return luaL_error(L, "camera: field 'psf' must be >= 0 (m), got %f", b->psf[a]);
     b->efficiency = pfl_field_number(L, 1, "efficiency", 1.0, 0);
     if (!(b->efficiency > 0 && b->efficiency <= 1))
-        return luaL_error(L, "camera: field 'efficiency' must be in (0, 1], got %g", b->efficiency);
+        return luaL_error(L, "camera: field 'efficiency' must be in (0, 1], got %f", b->efficiency);
     lua_Integer ia = 0;
     if (lua_getfield(L, 1, "imaging_axis") != LUA_TNIL) {
         ia = lua_tointeger(L, -1);
@@ -142,7 +142,7 @@ static int l_expose(lua_State *L)
     int opts = lua_isnoneornil(L, 3) ? 0 : 3;
     if (opts) luaL_checktype(L, 3, LUA_TTABLE);
     double atoms = opts ? pfl_field_number(L, opts, "atoms", 1.0, 0) : 1.0;
-    if (!(atoms > 0)) return luaL_error(L, "expose: field 'atoms' must be positive, got %g", atoms);
+    if (!(atoms > 0)) return luaL_error(L, "expose: field 'atoms' must be positive, got %f", atoms);
     int noise = opts ? pfl_field_boolean(L, opts, "noise", 1) : 1;
     pf_rng local;
     pf_rng *rng = pfl_opt_rng(L, opts, &local);
@@ -177,8 +177,8 @@ static int l_absorb(lua_State *L)
     if (b->cam.dim != 2) return luaL_error(L, "absorb: absorption imaging needs a 2D camera");
     double atoms = pfl_field_number(L, 3, "atoms", 0, 1);
     double sigma = pfl_field_number(L, 3, "cross_section", 0, 1);
-    if (!(atoms > 0)) return luaL_error(L, "absorb: field 'atoms' must be positive, got %g", atoms);
-    if (!(sigma > 0)) return luaL_error(L, "absorb: field 'cross_section' must be positive (m^2), got %g", sigma);
+    if (!(atoms > 0)) return luaL_error(L, "absorb: field 'atoms' must be positive, got %f", atoms);
+    if (!(sigma > 0)) return luaL_error(L, "absorb: field 'cross_section' must be positive (m^2), got %f", sigma);
     int noise = pfl_field_boolean(L, 3, "noise", 0);
     pf_rng local;
     pf_rng *rng = pfl_opt_rng(L, 3, &local);

@@ -166,7 +166,7 @@ static int l_radial_profile(lua_State *L)
     pfl_field_vector(L, 2, "center", d, center, 0);
     double bin = pfl_field_number(L, 2, "bin", 0, 1);
     double bins = pfl_field_number(L, 2, "bins", 0, 1);
-    if (!(bin > 0)) return luaL_error(L, "radial_profile: field 'bin' must be positive, got %g", bin);
+    if (!(bin > 0)) return luaL_error(L, "radial_profile: field 'bin' must be positive, got %f", bin);
     if (bins < 1 || bins > 1e7 || bins != floor(bins)) return luaL_error(L, "radial_profile: field 'bins' must be a count");
     size_t nb = (size_t)bins;
     double *prof = lua_newuserdatauv(L, 2 * nb * sizeof(double), 0), *cnt = prof + nb;
@@ -248,7 +248,7 @@ static int l_histogram(lua_State *L)
     luaL_checktype(L, 2, LUA_TTABLE);
     double lo = pfl_field_number(L, 2, "from", 0, 1), hi = pfl_field_number(L, 2, "to", 0, 1);
     double bins = pfl_field_number(L, 2, "bins", 0, 1);
-    if (!(hi > lo)) return luaL_error(L, "histogram: needs from < to, got %g and %g", lo, hi);
+    if (!(hi > lo)) return luaL_error(L, "histogram: needs from < to, got %f and %f", lo, hi);
     if (bins < 1 || bins > 1e7 || bins != floor(bins)) return luaL_error(L, "histogram: field 'bins' must be a count");
     size_t nb = (size_t)bins;
     double *c = lua_newuserdatauv(L, (2 * nb + 1) * sizeof(double), 0);

@@ -197,7 +197,7 @@ static int l_thermal(lua_State *L)
     pf_thermal_spec sp;
     memset(&sp, 0, sizeof sp);
     sp.dim = d;
-    sp.mass = pfl_field_number(L, 1, "mass", 0, 1);
+    sp.mass = pfl_field_mass(L, 1, "thermal");
     pfl_field_vector(L, 1, "trap", d, sp.omega, 1);
     sp.temperature = pfl_field_number(L, 1, "temperature", 0, 1);
     double center[PF_MAX_DIM] = {0, 0, 0};

@@ -183,7 +183,7 @@ static int l_box(lua_State *L)
     int n1 = region_vector(L, 1, "min", b->r.lo, "box"), n2 = region_vector(L, 1, "max", b->r.hi, "box");
     if (n1 != n2) return luaL_error(L, "box: 'min' and 'max' must have the same number of entries");
     for (int a = 0; a < n1; a++)
-        if (b->r.lo[a] > b->r.hi[a]) return luaL_error(L, "box: min > max on axis %d (%g > %g)", a + 1, b->r.lo[a], b->r.hi[a]);
+        if (b->r.lo[a] > b->r.hi[a]) return luaL_error(L, "box: min > max on axis %d (%f > %f)", a + 1, b->r.lo[a], b->r.hi[a]);
     /* Axes not given are unbounded. */
     for (int a = n1; a < PF_MAX_DIM; a++) {
         b->r.lo[a] = -INFINITY;
@@ -217,7 +217,7 @@ static int l_ball(lua_State *L)
     pfl_region_box *b = new_region(L, PF_REGION_BALL);
     int n = region_vector(L, 1, "center", b->r.point, "ball");
     b->r.radius = pfl_field_number(L, 1, "radius", 0, 1);
-    if (!(b->r.radius > 0)) return luaL_error(L, "ball: field 'radius' must be positive (m), got %g", b->r.radius);
+    if (!(b->r.radius > 0)) return luaL_error(L, "ball: field 'radius' must be positive (m), got %f", b->r.radius);
     lua_pushinteger(L, n);
     lua_setiuservalue(L, -2, 1);
     return 1;
@@ -239,7 +239,7 @@ static int l_mask(lua_State *L)
         size_t n;
         double *v = pfl_check_doubles(L, 1, &n, "mask");
         for (size_t i = 0; i < n; i++)
-            if (!(v[i] >= 0 && v[i] <= 1)) return luaL_error(L, "mask: weight %d must lie in [0, 1], got %g", (int)i + 1, v[i]);
+            if (!(v[i] >= 0 && v[i] <= 1)) return luaL_error(L, "mask: weight %d must lie in [0, 1], got %f", (int)i + 1, v[i]);
         b->mask_n = n;
         b->r.mask = v;
         lua_setiuservalue(L, -2, 2);
