@@ -186,7 +186,8 @@ static void thermal_guard(pf_grid *g, const pf_thermal_member *list, size_t coun
 }
 
 /* pf.thermal{grid=, mass=, trap = omega | {wx, wy, wz} (rad/s), temperature = K,
- *            center = {..}, nodes = M (default 3) | samples = K, seed=, generator=} */
+ *            center = {..} (m), drift = {..} (m/s), nodes = M (default 3) |
+ *            samples = K, seed=, generator=} */
 static int l_thermal(lua_State *L)
 {
     luaL_checktype(L, 1, LUA_TTABLE);
@@ -200,8 +201,9 @@ static int l_thermal(lua_State *L)
     sp.mass = pfl_field_mass(L, 1, "thermal");
     pfl_field_vector(L, 1, "trap", d, sp.omega, 1);
     sp.temperature = pfl_field_number(L, 1, "temperature", 0, 1);
-    double center[PF_MAX_DIM] = {0, 0, 0};
+    double center[PF_MAX_DIM] = {0, 0, 0}, drift[PF_MAX_DIM] = {0, 0, 0};
     pfl_field_vector(L, 1, "center", d, center, 0);
+    pfl_field_vector(L, 1, "drift", d, drift, 0);
     double samples = pfl_field_number(L, 1, "samples", 0, 0);
     double nodes = pfl_field_number(L, 1, "nodes", samples > 0 ? 0 : 3, 0);
     if (samples > 0 && nodes > 0) return luaL_error(L, "thermal: give either 'nodes' or 'samples', not both");
@@ -219,6 +221,10 @@ static int l_thermal(lua_State *L)
     pf_thermal_member *held = lua_newuserdatauv(L, count * sizeof *held, 0);
     memcpy(held, list, count * sizeof *held);
     free(list);
+    /* A common drift (a launched or moving cloud) shifts every member's
+     * mean wave number by m v / hbar. */
+    for (size_t i = 0; i < count; i++)
+        for (int a = 0; a < d; a++) held[i].kmean[a] += sp.mass * drift[a] / PF_HBAR;
     double s0[PF_MAX_DIM];
     for (int a = 0; a < d; a++) s0[a] = pf_thermal_sigma0(sp.mass, sp.omega[a]);
     thermal_guard(g, held, count, s0, center);

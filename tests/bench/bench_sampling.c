@@ -88,7 +88,7 @@ int main(int argc, char **argv)
     char shape[64];
     bench_shape(2, n, shape, sizeof shape);
     printf("sample  %-16s threads 1   events %zu   density %7.2f ms   tables %7.2f ms   draw %7.2f ms   "
-           "total %7.2f ms   fft pair %7.2f ms\n",
+           "total %7.2f ms   fft pair (estimate plan) %7.2f ms\n",
            shape, count, t_density, t_tables, t_draw, t_density + t_tables + t_draw, pair);
     free(events);
     pf_sampler_free(&s);
