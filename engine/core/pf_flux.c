@@ -35,7 +35,13 @@ pf_status pf_wave_current(pf_wave *w, int axis, double *out)
     size_t inner = 1;
     for (int a = axis + 1; a < g->dim; a++) inner *= g->n[a];
     size_t na = g->n[axis];
-    for (size_t off = 0; off < g->total; off++) d[off] = I * g->k[axis][(off / inner) % na] * w->data[off];
+    /* The Nyquist mode of an even axis is split evenly between +k and -k
+     * (see pf_flux.h), so its first derivative vanishes on the grid. */
+    size_t nyq = na % 2 == 0 ? na / 2 : (size_t)-1;
+    for (size_t off = 0; off < g->total; off++) {
+        size_t m = (off / inner) % na;
+        d[off] = m == nyq ? 0 : I * g->k[axis][m] * w->data[off];
+    }
     s = pf_grid_fft(g, d, +1);
     if (s == PF_OK) s = pf_wave_to(w, PF_POSITION);
     if (s == PF_OK) {
@@ -52,8 +58,30 @@ typedef struct plane_eval {
     int axis;
     size_t na, inner, outer;    /* data index = (o * na + m) * inner + i */
     double complex *e, *ike;    /* e_m and i k_m e_m */
+    double *line_weight;        /* Parseval weight of each transverse mode */
     double factor;              /* (hbar / m) * transverse spans */
 } plane_eval;
+
+/* Weight of a transverse mode in the transverse Parseval sum: 1, or 1/2
+ * for each even transverse axis on which it is the (split) Nyquist mode. */
+static double *transverse_weights(const pf_grid *g, int axis)
+{
+    size_t lines = g->total / g->n[axis];
+    double *w = malloc(lines * sizeof *w);
+    if (!w) return NULL;
+    for (size_t l = 0; l < lines; l++) {
+        size_t rest = l;
+        double f = 1;
+        for (int a = g->dim - 1; a >= 0; a--) {
+            if (a == axis) continue;
+            size_t j = rest % g->n[a];
+            rest /= g->n[a];
+            if (g->n[a] % 2 == 0 && j == g->n[a] / 2) f *= 0.5;
+        }
+        w[l] = f;
+    }
+    return w;
+}
 
 static pf_status plane_init(pf_wave *w, int axis, double at, plane_eval *p)
 {
@@ -65,13 +93,28 @@ static pf_status plane_init(pf_wave *w, int axis, double at, plane_eval *p)
     for (int a = 0; a < axis; a++) p->outer *= g->n[a];
     for (int a = axis + 1; a < g->dim; a++) p->inner *= g->n[a];
     p->e = malloc(2 * p->na * sizeof(double complex));
-    if (!p->e) return pf_fail(g->ctx, PF_ENOMEM, "out of memory for the detector plane");
+    p->line_weight = transverse_weights(g, axis);
+    if (!p->e || !p->line_weight) {
+        free(p->e);
+        free(p->line_weight);
+        p->e = NULL;
+        p->line_weight = NULL;
+        return pf_fail(g->ctx, PF_ENOMEM, "out of memory for the detector plane");
+    }
     p->ike = p->e + p->na;
     double u = (at - g->x[axis][0]) / g->span[axis]; /* plane position in periods */
     for (size_t m = 0; m < p->na; m++) {
         double mode = nearbyint(g->k[axis][m] / pf_grid_kspacing(g, axis));
         /* Reduce the phase exactly on the integer lattice before cexp. */
         double turns = fmod(mode * u, 1.0);
+        if (p->na % 2 == 0 && m == p->na / 2) {
+            /* Nyquist, split between +-k_N: S cos(theta), derivative -k_N S sin(theta). */
+            double kn = fabs(g->k[axis][m]);
+            double th = PF_TWO_PI * fmod(fabs(mode) * u, 1.0);
+            p->e[m] = cos(th);
+            p->ike[m] = -kn * sin(th);
+            continue;
+        }
         p->e[m] = cexp(I * PF_TWO_PI * turns);
         p->ike[m] = I * g->k[axis][m] * p->e[m];
     }
@@ -100,7 +143,7 @@ static double plane_flux(const pf_wave *w, const plane_eval *p, double *line_sum
             f += z * p->e[m];
             gsum += z * p->ike[m];
         }
-        line_sum[l] = cimag(conj(f) * gsum);
+        line_sum[l] = p->line_weight[l] * cimag(conj(f) * gsum);
     }
     double total = 0;
     for (size_t l = 0; l < lines; l++) total += line_sum[l];
@@ -120,11 +163,13 @@ pf_status pf_wave_flux(pf_wave *w, int axis, double at, double *flux)
     double *lines = malloc(p.outer * p.inner * sizeof(double));
     if (!lines) {
         free(p.e);
+        free(p.line_weight);
         return pf_fail(g->ctx, PF_ENOMEM, "out of memory for the detector plane");
     }
     *flux = plane_flux(w, &p, lines);
     free(lines);
     free(p.e);
+    free(p.line_weight);
     return PF_OK;
 }
 
@@ -143,19 +188,33 @@ pf_status pf_wave_beyond(pf_wave *w, int axis, double at, double *probability)
     size_t inner = 1, outer = 1;
     for (int a = 0; a < axis; a++) outer *= g->n[a];
     for (int a = axis + 1; a < g->dim; a++) inner *= g->n[a];
-    /* C[D] = sum over transverse modes and m of conj(S_m) S_{m+D}, with modes
-     * in ascending (integer) order; D = -(na-1)..(na-1) stored at D + na - 1. */
-    size_t nc = 2 * na - 1;
-    double complex *C = calloc(nc + na, sizeof(double complex));
+    /* C[D] = sum over transverse modes and m of conj(a_m) a_{m+D}, with the
+     * modes in ascending (integer) order; an even axis has L = na + 1 modes,
+     * the Nyquist amplitude halved at -na/2 and +na/2.  D = -(L-1)..(L-1)
+     * is stored at D + L - 1. */
+    int even = na % 2 == 0;
+    size_t L = na + (even ? 1 : 0);
+    size_t nc = 2 * L - 1;
+    double complex *C = calloc(nc + L, sizeof(double complex));
     if (!C) return pf_fail(g->ctx, PF_ENOMEM, "out of memory for the probability beyond a plane");
     double complex *a = C + nc;
+    double *tw = transverse_weights(g, axis);
+    if (!tw) {
+        free(C);
+        return pf_fail(g->ctx, PF_ENOMEM, "out of memory for the probability beyond a plane");
+    }
     for (size_t o = 0; o < outer; o++) {
         for (size_t i = 0; i < inner; i++) {
+            double lw = tw[o * inner + i];
             for (size_t m = 0; m < na; m++) a[pf_grid_ascending_index(g, axis, m)] = w->data[(o * na + m) * inner + i];
-            for (size_t m = 0; m < na; m++) {
+            if (even) {
+                a[0] *= 0.5;
+                a[na] = a[0];
+            }
+            for (size_t m = 0; m < L; m++) {
                 double complex cm = conj(a[m]);
                 if (cm == 0) continue;
-                for (size_t m2 = 0; m2 < na; m2++) C[m2 + na - 1 - m] += cm * a[m2];
+                for (size_t m2 = 0; m2 < L; m2++) C[m2 + L - 1 - m] += lw * cm * a[m2];
             }
         }
     }
@@ -163,9 +222,9 @@ pf_status pf_wave_beyond(pf_wave *w, int axis, double at, double *probability)
      * b = x0 + span - dx/2, so exp(i q_D (b - x0)) = exp(-i q_D dx / 2). */
     double x0 = g->x[axis][0], dx = g->dx[axis], span = g->span[axis];
     double b = x0 + span - 0.5 * dx, u = (at - x0) / span;
-    double complex sum = C[na - 1] * (b - at);
+    double complex sum = C[L - 1] * (b - at);
     for (size_t j = 0; j < nc; j++) {
-        double D = (double)j - (double)(na - 1);
+        double D = (double)j - (double)(L - 1);
         if (D == 0) continue;
         double q = PF_TWO_PI * D / span;
         double complex eb = cexp(-I * PF_PI * D / (double)na);
@@ -173,6 +232,7 @@ pf_status pf_wave_beyond(pf_wave *w, int axis, double at, double *probability)
         sum += C[j] * (eb - ea) / (I * q);
     }
     free(C);
+    free(tw);
     /* |psi|^2 transverse integral: prod spans; storage S needs no other factor. */
     double area = 1;
     for (int ax = 0; ax < g->dim; ax++)
@@ -205,6 +265,7 @@ pf_status pf_wave_arrival(pf_wave *w, int axis, double at, double start, double 
     }
     free(lines);
     free(p.e);
+    free(p.line_weight);
     pf_wave_free(c);
     return s;
 }

@@ -6,7 +6,10 @@
  * interpolant of the grid state, psi(x) = sum_m S_m exp(i k_m (x - x0)),
  * which is the function the exact momentum-space flight evolves; for it the
  * continuity equation d/dt P_beyond = J holds exactly, so flux and
- * probability agree to rounding.  The far side of "beyond" is the periodic
+ * probability agree to rounding.  On an axis with an even point count the
+ * Nyquist amplitude is split evenly between +k_N and -k_N (both get the same
+ * flight phase), so a real state has a real interpolant and zero current, as
+ * is usual for spectral derivatives.  The far side of "beyond" is the periodic
  * cell edge x0 + span - dx/2 (the state must be negligible there). */
 #ifndef PF_FLUX_H
 #define PF_FLUX_H

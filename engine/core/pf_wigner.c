@@ -61,7 +61,10 @@ static pf_status line_wigner(wig_work *k, double dx, double weight, double *out)
     if (s) return s;
     for (size_t m = 0; m < n; m++) {
         double mode = nearbyint(g1->k[0][m] / pf_grid_kspacing(g1, 0));
-        k->half[m] *= cexp(I * PF_PI * mode / (double)n) / (double)n;
+        /* An even axis's Nyquist mode is split between +-k_N (as for the
+         * current, pf_flux.h): cos(pi/2) = 0 at the half-cell points. */
+        if (n % 2 == 0 && m == n / 2) k->half[m] = 0;
+        else k->half[m] *= cexp(I * PF_PI * mode / (double)n) / (double)n;
     }
     s = pf_grid_fft(g1, k->half, +1);
     if (s) return s;
