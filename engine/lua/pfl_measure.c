@@ -423,21 +423,57 @@ static int l_measure_region(lua_State *L)
     return 2;
 }
 
-/* w:measure_position{resolution = s | {..} (m, 0 = axis not measured),
+/* s:measure_position{resolution = s | {..} (m, 0 = axis not measured),
  *                    outcome = {..} (forced), seed=, generator=}
- * -> outcome table (m, nil entries... NaN for unmeasured axes), density */
+ * -> outcome table (m; NaN for unmeasured axes), outcome density.
+ * On an ensemble: p(y) = sum w_i p_i(y); a drawn outcome picks a member by
+ * weight and measures it; every member is then updated with that outcome
+ * and the weights by Bayes' rule, w_i p_i(y) / p(y). */
 static int l_measure_position(lua_State *L)
 {
-    pf_wave *w = pfl_check_wave(L, 1);
     luaL_checktype(L, 2, LUA_TTABLE);
-    int d = pf_grid_dim(pf_wave_grid(w));
+    pfl_source src;
+    pfl_check_source(L, 1, &src);
+    int d = pf_grid_dim(pfl_source_grid(&src));
     double sigma[PF_MAX_DIM] = {0, 0, 0}, forced[PF_MAX_DIM] = {0, 0, 0}, out[PF_MAX_DIM];
     pfl_field_vector(L, 2, "resolution", d, sigma, 1);
     int has_forced = pfl_field_vector(L, 2, "outcome", d, forced, 0);
     pf_rng local;
     pf_rng *rng = pfl_opt_rng(L, 2, &local);
     double density;
-    pfl_check(L, pf_wave_measure_position(w, sigma, rng, has_forced ? forced : NULL, out, &density), "measure_position");
+    if (!src.is_ensemble) {
+        pfl_check(L, pf_wave_measure_position(src.single, sigma, rng, has_forced ? forced : NULL, out, &density),
+                  "measure_position");
+    } else {
+        size_t n = src.mix.count, pick = 0;
+        double *dens = lua_newuserdatauv(L, n * sizeof(double), 0);
+        if (!has_forced) {
+            double wsum = 0, u;
+            for (size_t i = 0; i < n; i++) wsum += src.mix.weights[i];
+            u = pf_rng_uniform(rng) * wsum;
+            for (pick = 0; pick + 1 < n && u >= src.mix.weights[pick]; pick++) u -= src.mix.weights[pick];
+            pfl_check(L, pf_wave_measure_position(src.mix.members[pick], sigma, rng, NULL, out, &dens[pick]),
+                      "measure_position");
+            for (int a = 0; a < d; a++) forced[a] = sigma[a] > 0 ? out[a] : 0;
+        }
+        density = 0;
+        for (size_t i = 0; i < n; i++) {
+            if (!has_forced && i == pick) {
+                density += src.mix.weights[i] * dens[i];
+                continue;
+            }
+            pf_status s = pf_wave_measure_position(src.mix.members[i], sigma, NULL, forced, out, &dens[i]);
+            if (s != PF_OK) dens[i] = 0; /* this member cannot give the outcome: weight 0 below */
+            density += src.mix.weights[i] * dens[i];
+        }
+        if (!(density > 0)) return luaL_error(L, "measure_position: the outcome has zero probability density");
+        lua_getiuservalue(L, 1, 2);
+        for (size_t i = 0; i < n; i++) {
+            lua_pushnumber(L, src.mix.weights[i] * dens[i] / density);
+            lua_rawseti(L, -2, (lua_Integer)i + 1);
+        }
+        for (int a = 0; a < d; a++) out[a] = sigma[a] > 0 ? forced[a] : NAN;
+    }
     pfl_push_doubles(L, out, (size_t)d);
     lua_pushnumber(L, density);
     return 2;
@@ -447,10 +483,11 @@ void pfl_open_measure(lua_State *L, int mod)
 {
     static const luaL_Reg state_methods[] = {
         {"probability_in", l_probability_in}, {"position_covariance", l_position_covariance},
-        {"momentum_covariance", l_momentum_covariance}, {"measure_region", l_measure_region}, {NULL, NULL},
+        {"momentum_covariance", l_momentum_covariance}, {"measure_region", l_measure_region},
+        {"measure_position", l_measure_position}, {NULL, NULL},
     };
     static const luaL_Reg wave_methods[] = {
-        {"overlap", l_overlap}, {"fidelity", l_fidelity}, {"measure_position", l_measure_position}, {NULL, NULL},
+        {"overlap", l_overlap}, {"fidelity", l_fidelity}, {NULL, NULL},
     };
     static const luaL_Reg funcs[] = {
         {"box", l_box}, {"half_space", l_half_space}, {"ball", l_ball}, {"mask", l_mask}, {NULL, NULL},

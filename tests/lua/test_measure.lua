@@ -137,6 +137,14 @@ local yes2, p2 = th:measure_region(pf.half_space{point = {0}, normal = {1}}, {ou
 local wsum = 0
 for i = 1, th:count() do wsum = wsum + th:weight(i) end
 check.close(wsum, 1, 1e-14, "posterior weights sum to 1", "Bayes' rule")
+-- Gaussian measurement on a mixture: the outcome density is the weighted sum
+-- of the members' Gaussian convolutions, weights by Bayes' rule.
+local pm = pf.mixture({wa, wb}, {1, 3})
+local _, pdens = pm:measure_position{resolution = 2e-6, outcome = {0}}
+local function nd(y, c, v) return math.exp(-(y - c) ^ 2 / (2 * v)) / math.sqrt(2 * math.pi * v) end
+local da, db = nd(0, -10e-6, 9e-12 + 4e-12), nd(0, 15e-6, 16e-12 + 4e-12)
+check.near(pdens, 0.25 * da + 0.75 * db, 1e-8, "mixture outcome density", "sum of Gaussian convolutions")
+check.near(pm:weight(1), 0.25 * da / (0.25 * da + 0.75 * db), 1e-8, "posterior weight", "Bayes' rule")
 check.fails(function() pf.thermal{grid = gt, mass = "87Rb", trap = omega, temperature = -1} end,
   "negative temperature refused", "temperature")
 
