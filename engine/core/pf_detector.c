@@ -67,8 +67,8 @@ pf_status pf_field_blur(pf_field *f, const double *sigma)
     return PF_OK;
 }
 
-/* Overlap of cell j (centre c, width h) with each pixel on one axis; calls
- * back per non-empty overlap.  Lengths are in metres. */
+/* Per grid cell on one axis, the pixels it overlaps (a run starting at
+ * start[j], count[j] long) and the overlap lengths (m). */
 typedef struct overlap_list {
     size_t *start, *count; /* per cell: first pixel and number of pixels */
     double *len;           /* per cell: up to maxper lengths */

@@ -4,9 +4,9 @@
 #include "pf_constants.h"
 #include "pf_fringe.h"
 
+/* The samples and which of them lie in the window (x need not be sorted). */
 typedef struct win {
     const double *x, *y;
-    size_t lo, hi; /* samples lo..hi-1 are in the window (x sorted ascending not required) */
     const unsigned char *in;
     size_t n;
 } win;
@@ -94,7 +94,7 @@ pf_status pf_fringe_analyse(pf_context *ctx, const double *x, const double *y, s
         return pf_fail(ctx, PF_EINVAL, "fringe window [%g, %g] holds %zu samples, need at least 8", from, to, count);
     }
     mean /= (double)count;
-    win w = {x, y, 0, 0, in, n};
+    win w = {x, y, in, n};
     double L = xmax - xmin;
     double qmin, qmax;
     if (period_guess > 0) {

@@ -59,8 +59,6 @@ static void push_ensemble(lua_State *L, int mt, int wt)
     lua_setiuservalue(L, -2, 2);
 }
 
-typedef struct source_buf { size_t n; } source_buf;
-
 void pfl_check_source(lua_State *L, int arg, pfl_source *src)
 {
     arg = lua_absindex(L, arg);

@@ -45,9 +45,10 @@ void pfl_check_region(lua_State *L, int arg, pf_grid *g, pf_region *out);
 /* Reads the 'space' option ("position" default, or "momentum"). */
 pf_rep pfl_opt_space(lua_State *L, int opts);
 /* Pushes a distribution table for field f (see docs/measurements.md):
- * values, shape, axes, axis_unit, unit, space, and a 'lab' sub-table.
- * axis_map[b] is the grid axis of field axis b; mass converts wave numbers
- * to velocities for the lab units; unit names the value unit. */
+ * values, shape, axes, axis_unit, unit, space, momentum_axes (momentum
+ * only) and a 'lab' sub-table.  mass converts wave numbers to velocities for
+ * the lab axes; unit names the value unit, lab_scale and lab_unit the factor
+ * to and the name of the lab unit. */
 void pfl_push_field(lua_State *L, const pf_field *f, pf_rep rep, double mass, const char *unit, double lab_scale,
                     const char *lab_unit);
 /* Pushes an array of n doubles as a Lua sequence. */
@@ -61,13 +62,8 @@ int pfl_opt_axis(lua_State *L, int opts, const char *field, int dim, int def);
  * released with pf_field_free; on error nothing is leaked). */
 void pfl_source_field(lua_State *L, const pfl_source *src, pf_rep rep, pf_field *f, const char *name);
 
-void pfl_open_random(lua_State *L, int mod);
-void pfl_open_measure(lua_State *L, int mod);
-void pfl_open_distrib(lua_State *L, int mod);
-void pfl_open_flux(lua_State *L, int mod);
-void pfl_open_detector(lua_State *L, int mod);
-void pfl_open_ensemble(lua_State *L, int mod);
-/* Adds methods to both the wave and the ensemble metatables (measurement
+/* The openers (pfl_open_random .. pfl_open_detector) are declared in pfl.h.
+ * Adds methods to both the wave and the ensemble metatables (measurement
  * methods work on either).  The ensemble opener must run first. */
 void pfl_add_state_methods(lua_State *L, const luaL_Reg *methods);
 
