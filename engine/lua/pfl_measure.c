@@ -12,6 +12,13 @@
 
 /* ---- shared helpers ---- */
 
+const char *pfl_caller_name(lua_State *L)
+{
+    lua_Debug ar;
+    if (lua_getstack(L, 0, &ar) && lua_getinfo(L, "n", &ar) && ar.name) return ar.name;
+    return "psiflight";
+}
+
 void pfl_push_doubles(lua_State *L, const double *v, size_t n)
 {
     lua_createtable(L, (int)n, 0);
@@ -24,7 +31,7 @@ void pfl_push_doubles(lua_State *L, const double *v, size_t n)
 double *pfl_check_doubles(lua_State *L, int idx, size_t *n, const char *what)
 {
     idx = lua_absindex(L, idx);
-    if (lua_type(L, idx) != LUA_TTABLE) luaL_error(L, "%s must be a table of numbers", what);
+    if (lua_type(L, idx) != LUA_TTABLE) luaL_error(L, "%s: %s must be a table of numbers", pfl_caller_name(L), what);
     lua_Integer len = luaL_len(L, idx);
     double *v = lua_newuserdatauv(L, (size_t)(len > 0 ? len : 1) * sizeof(double), 0);
     for (lua_Integer i = 1; i <= len; i++) {
@@ -32,7 +39,8 @@ double *pfl_check_doubles(lua_State *L, int idx, size_t *n, const char *what)
         v[i - 1] = lua_tonumber(L, -1);
         if (t != LUA_TNUMBER || !isfinite(v[i - 1])) {
             char buf[64];
-            luaL_error(L, "%s: entry %d must be a finite number, got %s", what, (int)i, pfl_describe(L, -1, buf, sizeof buf));
+            luaL_error(L, "%s: %s entry %d must be a finite number, got %s", pfl_caller_name(L), what, (int)i,
+                       pfl_describe(L, -1, buf, sizeof buf));
         }
         lua_pop(L, 1);
     }
@@ -49,7 +57,8 @@ pf_rep pfl_opt_space(lua_State *L, int opts)
         if (s && strcmp(s, "momentum") == 0) rep = PF_MOMENTUM;
         else if (!s || strcmp(s, "position") != 0) {
             char buf[64];
-            luaL_error(L, "field 'space' must be \"position\" or \"momentum\", got %s", pfl_describe(L, -1, buf, sizeof buf));
+            luaL_error(L, "%s: field 'space' must be \"position\" or \"momentum\", got %s", pfl_caller_name(L),
+                       pfl_describe(L, -1, buf, sizeof buf));
         }
     }
     lua_pop(L, 1);
@@ -65,7 +74,8 @@ int pfl_opt_axis(lua_State *L, int opts, const char *field, int dim, int def)
         lua_Integer v = lua_tointegerx(L, -1, &ok);
         if (!ok || v < 1 || v > dim) {
             char buf[64];
-            luaL_error(L, "field '%s' must be an axis 1..%d, got %s", field, dim, pfl_describe(L, -1, buf, sizeof buf));
+            luaL_error(L, "%s: field '%s' must be an axis 1..%d, got %s", pfl_caller_name(L), field, dim,
+                       pfl_describe(L, -1, buf, sizeof buf));
         }
         a = (int)v;
     }

@@ -39,7 +39,7 @@ pf_rng *pfl_opt_rng(lua_State *L, int opts, pf_rng *local)
     if (!opts) return pfl_rng(L);
     if (lua_getfield(L, opts, "generator") != LUA_TNIL) {
         pfl_random_box *b = luaL_testudata(L, -1, PFL_RANDOM_TYPE);
-        if (!b) luaL_error(L, "field 'generator' must be a pf.random object");
+        if (!b) luaL_error(L, "%s: field 'generator' must be a pf.random object", pfl_caller_name(L));
         lua_pop(L, 1);
         return &b->rng;
     }
@@ -49,7 +49,8 @@ pf_rng *pfl_opt_rng(lua_State *L, int opts, pf_rng *local)
         lua_Integer s = lua_tointegerx(L, -1, &ok);
         if (!ok || s < 0) {
             char buf[64];
-            luaL_error(L, "field 'seed' must be a non-negative integer, got %s", pfl_describe(L, -1, buf, sizeof buf));
+            luaL_error(L, "%s: field 'seed' must be a non-negative integer, got %s", pfl_caller_name(L),
+                       pfl_describe(L, -1, buf, sizeof buf));
         }
         lua_pop(L, 1);
         pf_rng_seed(local, (uint64_t)s, 0);
