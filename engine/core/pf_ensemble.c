@@ -206,6 +206,70 @@ pf_status pf_thermal_members(pf_context *ctx, const pf_thermal_spec *sp, pf_rng 
     return PF_OK;
 }
 
+pf_status pf_thermal_levels(pf_context *ctx, const pf_thermal_spec *sp, double tol, size_t max_count,
+                            pf_thermal_level **out, size_t *count, double *kept)
+{
+    *out = NULL;
+    *count = 0;
+    const int d = sp->dim;
+    if (d < 1 || d > PF_MAX_DIM) return pf_fail(ctx, PF_EINVAL, "thermal ensemble dimension must be 1..3");
+    if (!(tol > 0 && tol < 1)) return pf_fail(ctx, PF_EINVAL, "eigenstate tolerance must be in (0, 1), got %g", tol);
+    if (!(sp->temperature > 0) || !isfinite(sp->temperature))
+        return pf_fail(ctx, PF_EINVAL, "temperature must be positive (K), got %g", sp->temperature);
+    double beta[PF_MAX_DIM];
+    int nmax[PF_MAX_DIM] = {0, 0, 0};
+    double budget = log(1.0 / tol);
+    for (int a = 0; a < d; a++) {
+        if (!(sp->omega[a] > 0) || !isfinite(sp->omega[a]))
+            return pf_fail(ctx, PF_EINVAL, "trap frequency on axis %d must be positive (rad/s), got %g", a + 1, sp->omega[a]);
+        beta[a] = PF_HBAR * sp->omega[a] / (PF_BOLTZMANN * sp->temperature);
+        double nm = floor(budget / beta[a]);
+        if (nm > 5000) return pf_fail(ctx, PF_ELIMIT, "axis %d needs levels up to %.0f (kB T >> hbar omega); use the "
+                                      "coherent-state scheme", a + 1, nm);
+        nmax[a] = (int)nm;
+    }
+    /* Count first, so the limit is checked before allocating. */
+    size_t n = 0;
+    int lv[PF_MAX_DIM] = {0, 0, 0};
+    for (;;) {
+        double e = 0;
+        for (int a = 0; a < d; a++) e += lv[a] * beta[a];
+        if (e <= budget) n++;
+        int a = d - 1;
+        while (a >= 0 && ++lv[a] > nmax[a]) lv[a--] = 0;
+        if (a < 0) break;
+    }
+    if (n > max_count)
+        return pf_fail(ctx, PF_ELIMIT, "the eigenstate expansion needs %zu levels (limit %zu); raise the tolerance or use "
+                       "the coherent-state scheme", n, max_count);
+    pf_thermal_level *list = calloc(n, sizeof *list);
+    if (!list) return pf_fail(ctx, PF_ENOMEM, "out of memory for %zu levels", n);
+    size_t i = 0;
+    double sum = 0;
+    memset(lv, 0, sizeof lv);
+    for (;;) {
+        double e = 0, w = 1;
+        for (int a = 0; a < d; a++) {
+            e += lv[a] * beta[a];
+            w *= -expm1(-beta[a]) * exp(-lv[a] * beta[a]);
+        }
+        if (e <= budget) {
+            for (int a = 0; a < d; a++) list[i].n[a] = lv[a];
+            list[i].weight = w;
+            sum += w;
+            i++;
+        }
+        int a = d - 1;
+        while (a >= 0 && ++lv[a] > nmax[a]) lv[a--] = 0;
+        if (a < 0) break;
+    }
+    for (i = 0; i < n; i++) list[i].weight /= sum;
+    *out = list;
+    *count = n;
+    *kept = sum;
+    return PF_OK;
+}
+
 pf_status pf_wave_fill_coherent(pf_wave *w, const double *center, const double *sigma0, const double *shift,
                                 const double *kmean)
 {

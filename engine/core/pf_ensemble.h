@@ -16,7 +16,9 @@
  * Im alpha / sigma0.  The mixture is integrated either with a deterministic
  * Gauss-Hermite product rule of M nodes per quadrature (M^(2d) members; exact
  * for all moments up to order 2M - 1 of the displacement, so exact in the
- * second moments for any M >= 2) or sampled with K members from a generator.
+ * second moments for any M >= 2) or sampled with K members from a generator,
+ * or, as a third scheme, expanded in Boltzmann-weighted trap eigenstates
+ * (pf_thermal_levels; exact up to the truncation of the Boltzmann tail).
  * Either way sigma_x^2 = sigma0^2 coth(hbar omega / 2 kB T) and
  * sigma_p^2 = (hbar / 2 sigma0)^2 coth(...) exactly (quadrature) or in
  * expectation (sampling). */
@@ -78,6 +80,18 @@ double pf_thermal_nbar(double omega, double temperature);
  * Sampling draws from r; the quadrature rule ignores it.  At most 1e6 members. */
 pf_status pf_thermal_members(pf_context *ctx, const pf_thermal_spec *spec, pf_rng *r, pf_thermal_member **out,
                              size_t *count);
+/* Alternative scheme: Boltzmann-weighted trap eigenstates.  Levels
+ * n = (n_1..n_d) with prod q_a^n_a >= tol, q_a = exp(-hbar omega_a / kB T),
+ * weights prod (1 - q_a) q_a^n_a renormalised over the kept levels;
+ * *kept receives the weight before renormalising (1 - truncation).  At most
+ * max_count levels (else PF_ELIMIT naming the count).  The list is malloc'd. */
+typedef struct pf_thermal_level {
+    int n[PF_MAX_DIM];
+    double weight;
+} pf_thermal_level;
+pf_status pf_thermal_levels(pf_context *ctx, const pf_thermal_spec *spec, double tol, size_t max_count,
+                            pf_thermal_level **out, size_t *count, double *kept);
+
 /* Fills w with the coherent state of the trap centred at center + shift with
  * mean wave number kmean (sigma0 per axis from the trap), normalised, in
  * position representation, and records a "build" step. */

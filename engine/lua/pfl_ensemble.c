@@ -8,6 +8,7 @@
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
+#include "../core/pf_build.h"
 #include "../core/pf_constants.h"
 #include "../core/pf_observe.h"
 #include "pfl_measure.h"
@@ -183,9 +184,51 @@ static void thermal_guard(pf_grid *g, const pf_thermal_member *list, size_t coun
     }
 }
 
+/* The eigenstate scheme of pf.thermal: Boltzmann-weighted trap eigenstates
+ * (field 'tolerance', default 1e-6: levels with relative weight below it are
+ * dropped and the rest renormalised). */
+static int thermal_eigenstates(lua_State *L, pf_grid *g, const pf_thermal_spec *sp, const double *center,
+                               const double *drift)
+{
+    lua_getfield(L, 1, "nodes");
+    lua_getfield(L, 1, "samples");
+    if (!lua_isnil(L, -1) || !lua_isnil(L, -2))
+        return luaL_error(L, "thermal: 'nodes' and 'samples' belong to the coherent-state method");
+    lua_pop(L, 2);
+    double tol = pfl_field_number(L, 1, "tolerance", 1e-6, 0);
+    if (!(tol > 0 && tol < 1)) return luaL_error(L, "thermal: field 'tolerance' must be in (0, 1), got %f", tol);
+    pf_thermal_level *list;
+    size_t count;
+    double kept;
+    pfl_check(L, pf_thermal_levels(pfl_ctx(L), sp, tol, 20000, &list, &count, &kept), "thermal");
+    pf_thermal_level *held = lua_newuserdatauv(L, count * sizeof *held, 0);
+    memcpy(held, list, count * sizeof *held);
+    free(list);
+    int d = sp->dim;
+    double k0[PF_MAX_DIM] = {0, 0, 0};
+    for (int a = 0; a < d; a++) k0[a] = sp->mass * drift[a] / PF_HBAR;
+    lua_createtable(L, (int)count, 0);
+    int mt = lua_gettop(L);
+    lua_createtable(L, (int)count, 0);
+    int wt = lua_gettop(L);
+    for (size_t i = 0; i < count; i++) {
+        pf_wave *w;
+        pfl_check(L, pf_wave_new(g, sp->mass, &w), "thermal");
+        pfl_push_wave(L, w);
+        pfl_check(L, pf_build_oscillator(w, sp->omega, held[i].n, center, k0, 1), "thermal");
+        lua_seti(L, mt, (lua_Integer)i + 1);
+        lua_pushnumber(L, held[i].weight);
+        lua_seti(L, wt, (lua_Integer)i + 1);
+    }
+    push_ensemble(L, mt, wt);
+    pfl_check(L, PF_OK, "thermal");
+    return 1;
+}
+
 /* pf.thermal{grid=, mass=, trap = omega | {wx, wy, wz} (rad/s), temperature = K,
  *            center = {..} (m), drift = {..} (m/s), nodes = M (default 3) |
- *            samples = K, seed=, generator=} */
+ *            samples = K, seed=, generator=  |  method = "eigenstates",
+ *            tolerance = 1e-6} */
 static int l_thermal(lua_State *L)
 {
     luaL_checktype(L, 1, LUA_TTABLE);
@@ -202,6 +245,12 @@ static int l_thermal(lua_State *L)
     double center[PF_MAX_DIM] = {0, 0, 0}, drift[PF_MAX_DIM] = {0, 0, 0};
     pfl_field_vector(L, 1, "center", d, center, 0);
     pfl_field_vector(L, 1, "drift", d, drift, 0);
+    const char *method = "coherent";
+    if (lua_getfield(L, 1, "method") != LUA_TNIL) method = lua_tostring(L, -1);
+    lua_pop(L, 1);
+    if (!method || (strcmp(method, "coherent") && strcmp(method, "eigenstates")))
+        return luaL_error(L, "thermal: field 'method' must be \"coherent\" or \"eigenstates\"");
+    if (strcmp(method, "eigenstates") == 0) return thermal_eigenstates(L, g, &sp, center, drift);
     double samples = pfl_field_number(L, 1, "samples", 0, 0);
     double nodes = pfl_field_number(L, 1, "nodes", samples > 0 ? 0 : 3, 0);
     if (samples > 0 && nodes > 0) return luaL_error(L, "thermal: give either 'nodes' or 'samples', not both");

@@ -137,6 +137,28 @@ local yes2, p2 = th:measure_region(pf.half_space{point = {0}, normal = {1}}, {ou
 local wsum = 0
 for i = 1, th:count() do wsum = wsum + th:weight(i) end
 check.close(wsum, 1, 1e-14, "posterior weights sum to 1", "Bayes' rule")
+-- Boltzmann-weighted eigenstates: the thermal state of a harmonic
+-- oscillator has a Gaussian position density of variance
+-- (hbar / 2 m w) coth(hbar w / 2 kB T) (standard result, Mehler's formula),
+-- pointwise, and expands as sigma^2 (1 + (w t)^2).
+local om2, T2 = 2 * math.pi * 150, 20e-9
+local ge = pf.grid{points = 2048, span = 160e-6}
+local eig = pf.thermal{grid = ge, mass = "41K", trap = om2, temperature = T2, method = "eigenstates", tolerance = 1e-9}
+local mk = pf.mass("41K")
+local ve = hbar / (2 * mk * om2) / math.tanh(hbar * om2 / (2 * kB * T2))
+local de, worst = eig:distribution(), 0
+for i, x in ipairs(de.axes[1]) do
+  worst = math.max(worst, math.abs(de.values[i] - math.exp(-x * x / (2 * ve)) / math.sqrt(2 * math.pi * ve)))
+end
+check.close(worst * math.sqrt(2 * math.pi * ve), 0, 1e-8, "eigenstate mixture density is the thermal Gaussian",
+  "Mehler's formula: Gaussian with (hbar/2mw) coth(hbar w/2kBT)")
+eig:fly(5e-3)
+-- 1e-7: the dropped Boltzmann tail (weights < 1e-9, levels up to n ~ 57,
+-- each with variance ~ 2n + 1) shifts the variance by ~ 2e-8.
+check.near(eig:position_variance(), ve * (1 + (om2 * 5e-3) ^ 2), 1e-7, "eigenstate mixture expansion",
+  "sigma^2 (1 + (w t)^2), free expansion of a trap state")
+eig:close()
+
 -- Gaussian measurement on a mixture: the outcome density is the weighted sum
 -- of the members' Gaussian convolutions, weights by Bayes' rule.
 local pm = pf.mixture({wa, wb}, {1, 3})
