@@ -8,9 +8,9 @@
 --     resonant cross-section of the 766.70 nm D2 line, atom shot noise);
 --   * a thin light sheet 60 um downstream counts atoms as they cross it
 --     (40 % efficiency): an arrival-time histogram of detected atoms.
--- Then the same launch for a thermal cloud at 20 nK (a Gauss-Hermite mixture
--- of coherent states, 1D along the launch axis) shows how temperature
--- spreads the arrival times.
+-- Then the same launch for a thermal cloud at 20 nK (Boltzmann-weighted trap
+-- eigenstates, 1D along the launch axis) shows how temperature spreads the
+-- arrival times.
 --
 -- The numbers are model predictions: ideal free flight (no gravity, no
 -- interactions, no residual fields), absorption by Beer-Lambert with probe
@@ -105,16 +105,17 @@ print(string.format("arrival time %.3f +- %.3f ms (L / v = %.3f ms); histogram, 
 show(pf.histogram(times, {from = 0, to = 30e-3, bins = 20}))
 cloud:close()
 
--- The same launch for a thermal cloud at 20 nK along x (6 Gauss-Hermite
--- nodes per quadrature: 36 coherent states; at hbar w / kB T = 0.36 the
--- members overlap enough for a smooth distribution).
+-- The same launch for a thermal cloud at 20 nK along x: the thermal state as
+-- Boltzmann-weighted trap eigenstates (levels down to weight 1e-6), exact in
+-- its density; the grid resolves the highest level kept.
 local T = 20e-9
-local g1 = pf.grid{points = 2048, span = 400e-6, origin = {140e-6}}
-local hot = pf.thermal{grid = g1, mass = k41.mass, trap = omega[1], temperature = T, drift = launch, nodes = 6}
+local g1 = pf.grid{points = 4096, span = 400e-6, origin = {140e-6}}
+local hot = pf.thermal{grid = g1, mass = k41.mass, trap = omega[1], temperature = T, drift = launch,
+                       method = "eigenstates"}
 local harr = hot:arrival_times{axis = 1, at = sheet, from = 0, to = 40e-3, steps = 401}
 local htimes = detect(harr, atoms * efficiency * harr.arrived, pf.random{stream = 7})
 local hm, hs = spread(htimes)
-print(string.format("\nthermal cloud at %.0f nK (%d members, width %.3f um in the trap): %.4f crosses in 40 ms",
+print(string.format("\nthermal cloud at %.0f nK (%d eigenstates, width %.3f um in the trap): %.4f crosses in 40 ms",
   T * 1e9, hot:count(), hot:position_width() * 1e6, harr.arrived))
 print(string.format("arrival time %.3f +- %.3f ms, %d atoms detected; histogram, 2 ms bins:", hm * 1e3, hs * 1e3, #htimes))
 show(pf.histogram(htimes, {from = 0, to = 40e-3, bins = 20}))
