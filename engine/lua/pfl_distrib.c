@@ -237,6 +237,13 @@ static int l_sample(lua_State *L)
     lua_setfield(L, -2, "space");
     lua_pushstring(L, rep == PF_POSITION ? "m" : "1/m");
     lua_setfield(L, -2, "unit");
+    if (rep == PF_MOMENTUM) {
+        /* Wave numbers times these give momenta (kg m/s) and velocities (m/s). */
+        lua_pushnumber(L, PF_HBAR);
+        lua_setfield(L, -2, "to_momentum");
+        lua_pushnumber(L, PF_HBAR / pfl_source_mass(&src));
+        lua_setfield(L, -2, "to_velocity");
+    }
     return 1;
 }
 
