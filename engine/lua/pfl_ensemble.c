@@ -518,7 +518,8 @@ static int forward_call(lua_State *L)
             for (int r = 0; r < nres; r++) {
                 if (lua_type(L, base + 1 + r) != LUA_TNUMBER)
                     return luaL_error(L, "ensemble: method '%s' returns a %s, which cannot be averaged over members; "
-                                      "use e:each(function(w) ... end)", name, luaL_typename(L, base + 1 + r));
+                                      "use e:distribution() for densities, or e:each(function(w, weight) ... end)",
+                                      name, luaL_typename(L, base + 1 + r));
                 acc[r] += w * lua_tonumber(L, base + 1 + r);
             }
         }

@@ -119,6 +119,7 @@ check.near(mix:position_variance(), 0.25 * (va + ma * ma) + 0.75 * (vb + mb * mb
 check.equal(mix:fly(1e-3), mix, "forwarded fly returns the ensemble")
 check.near(mix:member(1):clock(), 1e-3, 1e-15, "forwarded step reached the members", "API contract")
 check.close(wa:clock(), 0, 0, "mixture members are copies", "API contract")
+check.fails(function() mix:density() end, "table results are not averaged", "cannot be averaged", "distribution")
 
 -- Thermal cloud released from a trap: Maxwell-Boltzmann expansion
 -- sigma^2(t) = sigma^2(0) + kB T t^2 / m (standard result), valid to 1e-3
