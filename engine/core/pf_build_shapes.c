@@ -94,7 +94,6 @@ pf_status pf_build_flat_top(pf_wave *w, const double *center, const double *wave
     free(ph);
     w->rep = PF_MOMENTUM;
     if (normalize && (s = pf_wave_normalize(w))) return s;
-    pf_wave_log_step(w, "build", "flat_top", 0.0, 0.0, -1.0);
     pf_extent e;
     pf_extent_clear(&e);
     double reach = pow(FLAT_DENSITY_FLOOR, 0.5 / order);
@@ -103,6 +102,7 @@ pf_status pf_build_flat_top(pf_wave *w, const double *center, const double *wave
         e.k_hi[a] = wavenumber[a] + reach * half_width[a];
     }
     pf_resolution_check(g, "flat_top", &e);
+    pf_wave_log_step(w, "build", "flat_top", 0.0, 0.0, -1.0);
     /* The position extent has no closed form (ringing of the steep edges):
      * measure it. */
     return pf_resolution_check_edges(w, PF_POSITION, "flat_top", NULL);
@@ -157,7 +157,6 @@ pf_status pf_build_thomas_fermi(pf_wave *w, const double *center, const double *
     free(ph);
     w->rep = PF_POSITION;
     if (normalize && (s = pf_wave_normalize(w))) return s;
-    pf_wave_log_step(w, "build", "thomas_fermi", 0.0, 0.0, -1.0);
     pf_extent e;
     pf_extent_clear(&e);
     for (int a = 0; a < d; a++) {
@@ -168,5 +167,6 @@ pf_status pf_build_thomas_fermi(pf_wave *w, const double *center, const double *
         e.k_hi[a] = wavenumber[a] + TF_K_REACH / radius[a];
     }
     pf_resolution_check(g, "thomas_fermi", &e);
+    pf_wave_log_step(w, "build", "thomas_fermi", 0.0, 0.0, -1.0);
     return PF_OK;
 }

@@ -24,6 +24,7 @@ struct pf_context {
     pf_warn_fn warn;
     void *warn_user;
     char message[1024];
+    double guard_threshold;   /* grid guards (pf_guard.c); <= 0 means the default */
 };
 
 /* Per-axis flight phase tables for one value of tau = hbar t / m. */
@@ -48,6 +49,16 @@ struct pf_grid {
     pf_flight_tables flight;
 };
 
+/* Grid-guard bookkeeping of one wave function (pf_guard.c).  Index r is the
+ * representation (PF_POSITION, PF_MOMENTUM); all-zero is the valid initial
+ * state ("nothing measured, nothing warned"). */
+typedef struct pf_guard_state {
+    double band[2][PF_MAX_DIM]; /* outer-band probability per axis, valid where known */
+    unsigned known;             /* bit r: band[r] describes the current state */
+    unsigned pending;           /* bit r: measure band[r] at the next change to r */
+    unsigned warned;            /* bit r * PF_MAX_DIM + axis: warning already given */
+} pf_guard_state;
+
 struct pf_wave {
     pf_grid *grid;
     double mass;
@@ -55,6 +66,15 @@ struct pf_wave {
     double clock;
     double complex *data;
     pf_steplog log;
+    pf_guard_state guard;
+    /* Where the last scaled flight started (pf_scaled.c), so that a further
+     * long flight can return there exactly instead of flying a chirp the new
+     * grid undersamples.  Valid while log.count == scaled_from.log_count. */
+    struct {
+        size_t log_count;
+        double duration;
+        double origin[PF_MAX_DIM];
+    } scaled_from;
 };
 
 /* Engine allocation accounted against the context's memory cap, aligned for

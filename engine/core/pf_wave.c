@@ -4,6 +4,7 @@
 #include <stdlib.h>
 #include <string.h>
 #include "pf_constants.h"
+#include "pf_guard.h"
 #include "pf_internal.h"
 #include "pf_observe.h"
 
@@ -40,6 +41,8 @@ pf_status pf_wave_copy(const pf_wave *src, pf_wave **out)
     memcpy(w->data, src->data, data_bytes(src->grid));
     w->rep = src->rep;
     w->clock = src->clock;
+    w->guard = src->guard; /* a copy has been warned about already */
+    w->scaled_from = src->scaled_from;
     if (pf_steplog_copy(&w->log, &src->log) != PF_OK) {
         pf_wave_free(w);
         *out = NULL;
@@ -91,6 +94,7 @@ pf_status pf_wave_to(pf_wave *w, pf_rep rep)
         if (s) return s;
     }
     w->rep = rep;
+    pf_guard_after_transform(w); /* lazy band measurement (pf_guard.c) */
     return PF_OK;
 }
 
@@ -158,6 +162,7 @@ pf_status pf_wave_set_value(pf_wave *w, pf_rep rep, const size_t *index, double 
     if (s) return s;
     if (rep == PF_MOMENTUM) v /= pf_wave_momentum_factor(w, index);
     w->data[offset_of(w->grid, index)] = v;
+    pf_guard_forget(w); /* the data changed without a logged step */
     return PF_OK;
 }
 
@@ -235,5 +240,6 @@ void pf_wave_log_step(pf_wave *w, const char *kind, const char *method, double d
     st.removed = removed;
     st.edge_x = -1;
     st.edge_k = -1;
+    pf_guard_step(w, &st); /* grid guards: fills edge_x / edge_k, may warn */
     (void)pf_steplog_append(&w->log, &st);
 }

@@ -110,6 +110,8 @@ void pfl_open_observe(lua_State *L, int mod);
 void pfl_open_units(lua_State *L, int mod);
 void pfl_open_states(lua_State *L, int mod);
 void pfl_open_algebra(lua_State *L, int mod);
+void pfl_open_guard(lua_State *L, int mod);      /* after pfl_open_context: wraps pf.setup */
+void pfl_open_longflight(lua_State *L, int mod);
 /* Measurements, detectors, ensembles (issue 6; helpers in pfl_measure.h). */
 void pfl_open_random(lua_State *L, int mod);
 void pfl_open_ensemble(lua_State *L, int mod);

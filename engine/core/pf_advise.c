@@ -1,0 +1,173 @@
+/* pf_advise.c - grid proposals for planned flights (see pf_advise.h). */
+#include <math.h>
+#include <string.h>
+#include "pf_advise.h"
+#include "pf_constants.h"
+#include "pf_guard.h"
+
+size_t pf_fft_good_size(size_t n)
+{
+    if (n < 2) return 2;
+    for (size_t m = n + (n & 1);; m += 2) {
+        size_t r = m;
+        static const size_t primes[] = {2, 3, 5, 7};
+        for (int i = 0; i < 4; i++)
+            while (r % primes[i] == 0) r /= primes[i];
+        if (r == 1) return m;
+    }
+}
+
+/* Fraction of an axis inside the guard bands, for a count near n (the band
+ * is 1/32 of the points, so this is 15/16 except on tiny grids). */
+static double usable(size_t n) { return 1.0 - 2.0 * (double)pf_guard_band_points(n) / (double)n; }
+
+/* Bounds of the classical image on axis a at time t: the slowest and the
+ * fastest parts of the state, with every kick before t applied in the
+ * direction that widens the range (a kick may split the state). */
+static void image(const pf_advice_request *q, int a, double t, double *lo, double *hi)
+{
+    double vlo = q->k_lo[a] * t, vhi = q->k_hi[a] * t;
+    for (size_t i = 0; i < q->nkicks; i++) {
+        double dt = t - q->kick_time[i];
+        if (dt <= 0) continue;
+        double dk = q->kick_k[i * (size_t)q->dim + (size_t)a];
+        vlo += fmin(0, dk) * dt;
+        vhi += fmax(0, dk) * dt;
+    }
+    *lo = q->x_lo[a] + PF_HBAR * vlo / q->mass;
+    *hi = q->x_hi[a] + PF_HBAR * vhi / q->mass;
+}
+
+/* Position range over [0, t]: the bounds move piecewise linearly, with
+ * corners at the kicks, so the extremes are at 0, the kicks or t. */
+static void range_until(const pf_advice_request *q, int a, double t, double *lo, double *hi)
+{
+    image(q, a, 0, lo, hi);
+    double l, h;
+    image(q, a, t, &l, &h);
+    *lo = fmin(*lo, l);
+    *hi = fmax(*hi, h);
+    for (size_t i = 0; i < q->nkicks; i++) {
+        if (q->kick_time[i] > t) continue;
+        image(q, a, q->kick_time[i], &l, &h);
+        *lo = fmin(*lo, l);
+        *hi = fmax(*hi, h);
+    }
+}
+
+/* Wave-number range once every kick before t has acted. */
+static void krange(const pf_advice_request *q, int a, double t, double *lo, double *hi)
+{
+    *lo = q->k_lo[a];
+    *hi = q->k_hi[a];
+    for (size_t i = 0; i < q->nkicks; i++) {
+        if (q->kick_time[i] > t) continue;
+        double dk = q->kick_k[i * (size_t)q->dim + (size_t)a];
+        *lo += fmin(0, dk);
+        *hi += fmax(0, dk);
+    }
+}
+
+static double proposal_points(const pf_grid_proposal *p, int dim)
+{
+    double n = 1;
+    for (int a = 0; a < dim; a++) n *= (double)p->points[a];
+    return n;
+}
+
+/* A grid of at least `span` with spacing at most `dx`, centred at c. */
+static void propose(pf_grid_proposal *p, int a, double span, double dx, double c)
+{
+    size_t n = pf_fft_good_size((size_t)ceil(span / dx));
+    p->points[a] = n;
+    p->span[a] = span;
+    p->spacing[a] = span / (double)n;
+    p->origin[a] = c;
+}
+
+pf_status pf_grid_advise(pf_context *ctx, const pf_advice_request *q, pf_advice *out)
+{
+    memset(out, 0, sizeof *out);
+    if (q->dim < 1 || q->dim > PF_MAX_DIM) return pf_fail(ctx, PF_EINVAL, "advisor: dimension must be 1..3, got %d", q->dim);
+    if (!(q->mass > 0) || !isfinite(q->mass)) return pf_fail(ctx, PF_EINVAL, "advisor: mass must be positive (kg), got %g", q->mass);
+    if (!(q->time > 0) || !isfinite(q->time)) return pf_fail(ctx, PF_EINVAL, "advisor: time must be positive (s), got %g", q->time);
+    double margin = q->margin > 0 ? q->margin : 1.2;
+    if (margin < 1 || !isfinite(margin)) return pf_fail(ctx, PF_EINVAL, "advisor: margin must be at least 1, got %g", margin);
+    size_t image_points = q->image_points ? q->image_points : 64;
+    for (int a = 0; a < q->dim; a++) {
+        if (!(q->x_hi[a] > q->x_lo[a]) || !(q->k_hi[a] > q->k_lo[a]) || !isfinite(q->x_lo[a] + q->x_hi[a] + q->k_lo[a] + q->k_hi[a]))
+            return pf_fail(ctx, PF_EINVAL, "advisor: extents on axis %d must be finite intervals of positive width", a + 1);
+    }
+    double t_last = 0;
+    for (size_t i = 0; i < q->nkicks; i++) {
+        if (!(q->kick_time[i] >= 0 && q->kick_time[i] <= q->time))
+            return pf_fail(ctx, PF_EINVAL, "advisor: kick %zu time must be within 0..%g s, got %g", i + 1, q->time, q->kick_time[i]);
+        for (int a = 0; a < q->dim; a++)
+            if (!isfinite(q->kick_k[i * (size_t)q->dim + (size_t)a]))
+                return pf_fail(ctx, PF_EINVAL, "advisor: kick %zu wave number must be finite", i + 1);
+        t_last = fmax(t_last, q->kick_time[i]);
+    }
+    /* The guard bands are 1/32 of the points at each end: plan with the
+     * usable fraction of a large grid and check the result below. */
+    const double fin = usable(1024);
+    double chirp_time = 0;
+    for (int a = 0; a < q->dim; a++) {
+        double klo, khi, xlo, xhi;
+        /* Same grid: everything, all the time, on one grid. */
+        krange(q, a, q->time, &klo, &khi);
+        double kmax = fmax(fabs(klo), fabs(khi));
+        double dx = fin * PF_PI / (margin * kmax);
+        range_until(q, a, q->time, &xlo, &xhi);
+        propose(&out->same, a, margin * (xhi - xlo) / fin, dx, 0.5 * (xlo + xhi));
+        /* Scaled: the input grid carries the state until the last kick; then
+         * one scaled flight of the remaining time. */
+        double ts = q->time - t_last;
+        krange(q, a, t_last, &klo, &khi);
+        kmax = fmax(fabs(klo), fabs(khi));
+        range_until(q, a, t_last, &xlo, &xhi);
+        double in_span = margin * (xhi - xlo) / fin;
+        double dx_in = fin * PF_PI / (margin * kmax);
+        double ilo, ihi;
+        image(q, a, q->time, &ilo, &ihi);
+        if (ts > 0) {
+            /* Chirp criterion: state extent at the start of the scaled flight
+             * plus its spread must fit the window 2 pi hbar ts / (m dx). */
+            double ex, dummy;
+            image(q, a, t_last, &ex, &dummy);
+            double e_start = dummy - ex;
+            double spread = PF_HBAR * ts * (khi - klo) / q->mass;
+            dx_in = fmin(dx_in, fin * PF_TWO_PI * PF_HBAR * ts / (q->mass * margin * (e_start + spread)));
+        }
+        propose(&out->scaled_in, a, in_span, dx_in, 0.5 * (xlo + xhi));
+        if (ts > 0) {
+            /* Enough points that the final image spans image_points output
+             * points: D = 2 pi hbar ts / (m N dx) <= (ihi - ilo) / image_points. */
+            double dxi = out->scaled_in.spacing[a];
+            double need = PF_TWO_PI * PF_HBAR * ts * (double)image_points / (q->mass * dxi * (ihi - ilo));
+            if ((double)out->scaled_in.points[a] < need) {
+                size_t n = pf_fft_good_size((size_t)ceil(need));
+                out->scaled_in.points[a] = n;
+                out->scaled_in.span[a] = (double)n * dxi;
+            }
+            size_t n = out->scaled_in.points[a];
+            double D = PF_TWO_PI * PF_HBAR * ts / (q->mass * (double)n * dxi);
+            out->scaled_out.points[a] = n;
+            out->scaled_out.spacing[a] = D;
+            out->scaled_out.span[a] = D * (double)n;
+            out->scaled_out.origin[a] = 0.5 * (ilo + ihi);
+            chirp_time = fmax(chirp_time, q->mass * (double)n * dxi * dxi / (PF_TWO_PI * PF_HBAR));
+        } else {
+            out->scaled_out = out->scaled_in;
+        }
+    }
+    out->scaled_start = t_last;
+    out->scaled_time = q->time - t_last;
+    out->chirp_time = chirp_time;
+    /* Peak storage: one wave plus FFTW planning scratch of the same size for
+     * the same grid; input plus output for the scaled flight (the output grid
+     * is planned before its storage is allocated). */
+    out->same_bytes = 2.0 * 16.0 * proposal_points(&out->same, q->dim);
+    double nin = proposal_points(&out->scaled_in, q->dim), nout = proposal_points(&out->scaled_out, q->dim);
+    out->scaled_bytes = 16.0 * fmax(2 * nin, nin + nout);
+    return PF_OK;
+}

@@ -1,0 +1,539 @@
+/* pf_scaled.c - scaled-grid free flight (single-FFT Fresnel form and its
+ * two-stage variant) and the flight that chooses between it and the exact
+ * same-grid flight from the sampling criteria (see pf_scaled.h). */
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+#include "pf_constants.h"
+#include "pf_flight.h"
+#include "pf_guard.h"
+#include "pf_internal.h"
+#include "pf_scaled.h"
+
+const char *pf_flight_method_name(pf_flight_method m)
+{
+    switch (m) {
+    case PF_FLIGHT_SAME_GRID: return "same-grid";
+    case PF_FLIGHT_SCALED: return "scaled";
+    default: return "auto";
+    }
+}
+
+/* The kernels see every grid as n[0] x n[1] x n[2] with the real axes last
+ * (a 1D grid is 1 x 1 x N), so the innermost loop is always the longest
+ * contiguous run.  lead = 3 - dim is the offset from grid axis to slot. */
+typedef struct shape3 {
+    size_t n[3];
+    int lead;
+} shape3;
+
+static shape3 shape_of(const pf_grid *g)
+{
+    shape3 s = {{1, 1, 1}, 3 - g->dim};
+    for (int a = 0; a < g->dim; a++) s.n[s.lead + a] = g->n[a];
+    return s;
+}
+
+static const double complex ONE = 1.0;
+
+/* Per-axis table pointers in slot order (absent axes get the table {1}). */
+static void slot_tables(const shape3 *s, double complex *const *axis_tab, const double complex **slot)
+{
+    for (int i = 0; i < 3; i++) slot[i] = i < s->lead ? &ONE : axis_tab[i - s->lead];
+}
+
+/* Phase 2 pi q / n of an integer multiple q, reduced exactly first. */
+static double turn_phase(size_t q, size_t n) { return PF_TWO_PI * (double)(q % n) / (double)n; }
+
+/* Builds the input and output chirp tables of one axis for a stage of
+ * duration ta (see the derivation in docs/long-flights.md):
+ *   psi(xi_l) = A sum_j pre_j psi_j exp(-+2 pi i j l / N) post_l,
+ * with eta = (j - h) dx, xi = (l - h) D, h = floor(N/2), delta the shift of
+ * the output origin from the input origin, beta = m / hbar ta, s = sign ta:
+ *   pre_j  = exp(i beta (eta^2 / 2 - delta eta) + i s 2 pi h j / N),
+ *   post_l = A exp(i beta (delta + xi)^2 / 2 + i s 2 pi h l / N - i s 2 pi h^2 / N),
+ *   A = sqrt(m / 2 pi hbar |ta|) dx exp(-i s pi / 4). */
+static void chirp_tables(double mass, double ta, size_t n, double dx, double D, double delta, double complex *pre,
+                         double complex *post)
+{
+    const double beta = mass / (PF_HBAR * ta);
+    const double s = ta > 0 ? 1.0 : -1.0;
+    const size_t h = n / 2;
+    const double complex amp =
+        sqrt(mass / (PF_TWO_PI * PF_HBAR * fabs(ta))) * dx * cexp(-I * (s * PF_PI / 4 + s * turn_phase(h * h, n)));
+    for (size_t j = 0; j < n; j++) {
+        double eta = ((double)j - (double)h) * dx;
+        pre[j] = cexp(I * (beta * (0.5 * eta * eta - delta * eta) + s * turn_phase(h * j, n)));
+        double X = delta + ((double)j - (double)h) * D;
+        post[j] = amp * cexp(I * (0.5 * beta * X * X + s * turn_phase(h * j, n)));
+    }
+}
+
+/* data *= T0[i0] T1[i1] T2[i2] in place.  The row factor is formed once per
+ * row, so the inner loop is one complex multiply by a table entry and one
+ * by a constant.  The pass is bound by memory bandwidth on large grids. */
+static void chirp_pass(double complex *data, const shape3 *s, const double complex *const *T, int threads)
+{
+    const size_t n1 = s->n[1], n2 = s->n[2];
+    const double complex *restrict t2 = T[2];
+#pragma omp parallel for collapse(2) num_threads(threads) schedule(static)
+    for (ptrdiff_t i0 = 0; i0 < (ptrdiff_t)s->n[0]; i0++) {
+        for (ptrdiff_t i1 = 0; i1 < (ptrdiff_t)n1; i1++) {
+            const double complex r = T[0][i0] * T[1][i1];
+            double complex *restrict row = data + ((size_t)i0 * n1 + (size_t)i1) * n2;
+            for (size_t i2 = 0; i2 < n2; i2++) row[i2] = row[i2] * t2[i2] * r;
+        }
+    }
+}
+
+/* Probability (relative to norm) of the input points that fall outside the
+ * output index box when the input is cropped; one serial pass, only run when
+ * some axis shrinks. */
+static double cropped_probability(const pf_wave *w, const long *shift, const size_t *nout, double norm)
+{
+    const pf_grid *g = w->grid;
+    size_t idx[PF_MAX_DIM] = {0, 0, 0};
+    double lost = 0;
+    for (size_t off = 0; off < g->total; off++) {
+        int outside = 0;
+        for (int a = 0; a < g->dim; a++) {
+            long o = (long)idx[a] + shift[a];
+            if (o < 0 || o >= (long)nout[a]) outside = 1;
+        }
+        if (outside) lost += creal(w->data[off]) * creal(w->data[off]) + cimag(w->data[off]) * cimag(w->data[off]);
+        for (int a = g->dim - 1; a >= 0; a--) {
+            if (++idx[a] < g->n[a]) break;
+            idx[a] = 0;
+        }
+    }
+    return norm > 0 ? lost * pf_grid_cell_volume(g) / norm : 0;
+}
+
+/* The scaled stage: w (position representation) goes to gout with per-axis
+ * durations ta; *removed receives the probability cropped away. */
+static pf_status scaled_stage(pf_wave *w, const double *ta, pf_grid *gout, double norm, double *removed)
+{
+    pf_grid *gin = w->grid;
+    pf_context *ctx = gin->ctx;
+    const int d = gin->dim;
+    *removed = 0;
+    long shift[PF_MAX_DIM] = {0, 0, 0};
+    int padded = 0, cropped = 0;
+    for (int a = 0; a < d; a++) {
+        shift[a] = (long)(gout->n[a] / 2) - (long)(gin->n[a] / 2);
+        if (gout->n[a] > gin->n[a]) padded = 1;
+        if (gout->n[a] < gin->n[a]) cropped = 1;
+    }
+    if (cropped) {
+        *removed = cropped_probability(w, shift, gout->n, norm);
+        double thr = pf_context_guard_threshold(ctx);
+        if (*removed > thr)
+            pf_context_warn(ctx,
+                            "scaled flight: cropping the input to the output point count removed %.3g of the "
+                            "probability (threshold %.3g); give at least as many output points as the wave's grid has",
+                            *removed, thr);
+    }
+    /* Plan before allocating the output, so planning scratch and output
+     * storage are never held at the same time. */
+    pf_status s = pf_grid_plan(gout);
+    if (s) return s;
+    size_t bytes = pf_bytes(gout->total, sizeof(double complex));
+    /* Same point count: the stage runs in place, with no new storage (the
+     * usual case, and the one the benchmark measures). */
+    const int in_place = !padded && !cropped;
+    double complex *out = in_place ? w->data : pf_alloc(ctx, bytes);
+    if (!out) return ctx->message[0] && strstr(ctx->message, "cap") ? PF_ELIMIT : PF_ENOMEM;
+    size_t table_len = 0;
+    for (int a = 0; a < d; a++) table_len += 2 * gout->n[a];
+    double complex *tables = malloc(table_len * sizeof(double complex));
+    if (!tables) {
+        if (!in_place) pf_free(ctx, out, bytes);
+        return pf_fail(ctx, PF_ENOMEM, "out of memory for chirp tables");
+    }
+    double complex *pre[PF_MAX_DIM], *post[PF_MAX_DIM];
+    double complex *p = tables;
+    for (int a = 0; a < d; a++) {
+        pre[a] = p;
+        post[a] = p + gout->n[a];
+        p += 2 * gout->n[a];
+        chirp_tables(w->mass, ta[a], gout->n[a], gin->dx[a], gout->dx[a], gout->origin[a] - gin->origin[a], pre[a],
+                     post[a]);
+    }
+    const shape3 si = shape_of(gin), so = shape_of(gout);
+    const double complex *P[3], *Q[3];
+    slot_tables(&so, pre, P);
+    slot_tables(&so, post, Q);
+    long sh[3] = {0, 0, 0};
+    for (int a = 0; a < d; a++) sh[so.lead + a] = shift[a];
+    /* Input index range that lands inside the output box, per slot. */
+    size_t lo[3], hi[3];
+    for (int i = 0; i < 3; i++) {
+        long l = sh[i] < 0 ? -sh[i] : 0;
+        long h = (long)si.n[i] < (long)so.n[i] - sh[i] ? (long)si.n[i] : (long)so.n[i] - sh[i];
+        lo[i] = (size_t)l;
+        hi[i] = (size_t)h;
+    }
+    if (padded) memset(out, 0, bytes);
+    const double complex *in = w->data;
+    const int threads = ctx->threads;
+    /* Pass 1: the input chirp; a zero-padded (or cropped) copy when the point
+     * count changes. */
+    if (in_place) {
+        chirp_pass(out, &so, P, threads);
+    } else {
+#pragma omp parallel for collapse(2) num_threads(threads) schedule(static)
+        for (ptrdiff_t i0 = (ptrdiff_t)lo[0]; i0 < (ptrdiff_t)hi[0]; i0++) {
+            for (ptrdiff_t i1 = (ptrdiff_t)lo[1]; i1 < (ptrdiff_t)hi[1]; i1++) {
+                size_t o0 = (size_t)(i0 + sh[0]), o1 = (size_t)(i1 + sh[1]);
+                double complex r = P[0][o0] * P[1][o1];
+                const double complex *src = in + ((size_t)i0 * si.n[1] + (size_t)i1) * si.n[2];
+                double complex *dst = out + (o0 * so.n[1] + o1) * so.n[2] + sh[2];
+                const double complex *p2 = P[2] + sh[2];
+                for (size_t i2 = lo[2]; i2 < hi[2]; i2++) dst[i2] = src[i2] * (r * p2[i2]);
+            }
+        }
+    }
+    int forward = ta[0] > 0; /* all stage durations share the flight's sign */
+    s = pf_grid_fft(gout, out, forward ? -1 : +1);
+    if (s) {
+        free(tables);
+        if (!in_place) pf_free(ctx, out, bytes);
+        return s;
+    }
+    /* Pass 2: output chirp and amplitude. */
+    chirp_pass(out, &so, Q, threads);
+    free(tables);
+    /* Move the wave to its new grid. */
+    if (!in_place) pf_free(ctx, w->data, pf_bytes(gin->total, sizeof(double complex)));
+    w->data = out;
+    pf_grid_retain(gout);
+    w->grid = gout;
+    pf_grid_release(gin);
+    w->rep = PF_POSITION;
+    pf_guard_rebind(w);
+    return PF_OK;
+}
+
+/* Stage durations that land on the target's spacing D with N points.
+ * Single FFT when D is the natural spacing 2 pi hbar |t| / (m N dx) on every
+ * axis (within 1e-12; then t1 = t exactly).  Otherwise two Fresnel stages
+ * t1 + t2 = t through an intermediate grid: D = |t2 / t1| dx for r = D / dx.
+ * Opposite signs (t1 = t / (1 - r), t2 = -r t1) make |t1| largest, which
+ * eases the first stage's chirp criterion; they need r on the same side of 1
+ * on every axis (one FFT direction per stage) and away from 1.  Otherwise
+ * the same-sign split t1 = t / (1 + r), t2 = r t1 is used. */
+static int stage_times(const pf_wave *w, double t, const size_t *n, const double *D, double *t1, double *t2)
+{
+    const int d = w->grid->dim;
+    int single = 1, below = 0, above = 0, near_one = 0;
+    double r[PF_MAX_DIM];
+    for (int a = 0; a < d; a++) {
+        double natural = PF_TWO_PI * PF_HBAR * fabs(t) / (w->mass * (double)n[a] * w->grid->dx[a]);
+        if (fabs(D[a] - natural) > 1e-12 * natural) single = 0;
+        r[a] = D[a] / w->grid->dx[a];
+        if (r[a] < 1) below = 1; else above = 1;
+        if (fabs(1 - r[a]) < 0.1) near_one = 1;
+    }
+    int opposite = !(below && above) && !near_one;
+    for (int a = 0; a < d; a++) {
+        if (single) {
+            t1[a] = t;
+            t2[a] = 0;
+        } else if (opposite) {
+            t1[a] = t / (1 - r[a]);
+            t2[a] = -r[a] * t1[a];
+        } else {
+            t1[a] = t / (1 + r[a]);
+            t2[a] = r[a] * t1[a];
+        }
+    }
+    return !single;
+}
+
+/* Intermediate grid of the two-stage form: N points per axis at the spacing
+ * the first stage produces, centred where the packet's centre is at t1 when
+ * it moves linearly from the input origin to the output origin. */
+static pf_status intermediate_grid(const pf_wave *w, double t, const double *t1, const pf_grid *gout, pf_grid **out)
+{
+    const pf_grid *g = w->grid;
+    double span[PF_MAX_DIM], origin[PF_MAX_DIM];
+    for (int a = 0; a < g->dim; a++) {
+        span[a] = PF_TWO_PI * PF_HBAR * fabs(t1[a]) / (w->mass * g->dx[a]);
+        origin[a] = g->origin[a] + (gout->origin[a] - g->origin[a]) * t1[a] / t;
+    }
+    return pf_grid_new(g->ctx, g->dim, gout->n, span, origin, out);
+}
+
+static pf_status check_time(pf_context *ctx, double t)
+{
+    if (!isfinite(t) || t == 0)
+        return pf_fail(ctx, PF_EINVAL, "scaled flight time must be finite and non-zero, got %g", t);
+    return PF_OK;
+}
+
+pf_status pf_wave_fly_onto(pf_wave *w, double t, pf_grid *target)
+{
+    pf_context *ctx = w->grid->ctx;
+    pf_status s = check_time(ctx, t);
+    if (s) return s;
+    if (!target || target->dim != w->grid->dim)
+        return pf_fail(ctx, PF_EINVAL, "scaled flight: the target grid must have the wave's dimension (%d)", w->grid->dim);
+    if (target->ctx != ctx) return pf_fail(ctx, PF_EINVAL, "scaled flight: the target grid belongs to another context");
+    double t1[PF_MAX_DIM], t2[PF_MAX_DIM];
+    int two = stage_times(w, t, target->n, target->dx, t1, t2);
+    double norm = pf_wave_last_logged_norm(w);
+    double src_origin[PF_MAX_DIM];
+    memcpy(src_origin, w->grid->origin, sizeof src_origin);
+    s = pf_wave_to(w, PF_POSITION);
+    if (s) return s;
+    pf_grid_retain(target); /* the target may be the wave's own grid */
+    double removed = 0, none = 0;
+    if (two) {
+        pf_grid *mid;
+        s = intermediate_grid(w, t, t1, target, &mid);
+        if (!s) s = scaled_stage(w, t1, mid, norm, &removed);
+        pf_grid_release(mid); /* the wave holds it until the second stage */
+        if (!s) s = scaled_stage(w, t2, target, norm, &none);
+    } else {
+        s = scaled_stage(w, t1, target, norm, &removed);
+    }
+    pf_grid_release(target);
+    if (s) return s;
+    w->clock += t;
+    pf_wave_log_step(w, "flight", two ? "scaled-2stage" : "scaled-fresnel", t, removed, norm * (1 - removed));
+    if (removed == 0) {
+        w->scaled_from.log_count = w->log.count;
+        w->scaled_from.duration = t;
+        memcpy(w->scaled_from.origin, src_origin, sizeof src_origin);
+    }
+    return PF_OK;
+}
+
+pf_status pf_wave_fly_scaled(pf_wave *w, double t, const size_t *points, const double *centre)
+{
+    pf_grid *gin = w->grid;
+    pf_status s = check_time(gin->ctx, t);
+    if (s) return s;
+    size_t n[PF_MAX_DIM];
+    double span[PF_MAX_DIM], origin[PF_MAX_DIM];
+    for (int a = 0; a < gin->dim; a++) {
+        n[a] = points && points[a] ? points[a] : gin->n[a];
+        if (n[a] < 2) return pf_fail(gin->ctx, PF_EINVAL, "scaled flight: points on axis %d must be at least 2", a + 1);
+        double D = PF_TWO_PI * PF_HBAR * fabs(t) / (w->mass * (double)n[a] * gin->dx[a]);
+        span[a] = D * (double)n[a];
+        origin[a] = centre ? centre[a] : gin->origin[a];
+        if (!isfinite(origin[a]))
+            return pf_fail(gin->ctx, PF_EINVAL, "scaled flight: centre on axis %d must be finite", a + 1);
+    }
+    pf_grid *gout;
+    s = pf_grid_new(gin->ctx, gin->dim, n, span, origin, &gout);
+    if (s) return s;
+    s = pf_wave_fly_onto(w, t, gout);
+    pf_grid_release(gout);
+    return s;
+}
+
+/* ---- the choosing flight ---- */
+
+static double inner_fraction(size_t n) { return 1.0 - 2.0 * (double)pf_guard_band_points(n) / (double)n; }
+
+static void image_at(const pf_long_flight_report *r, double mass, double t, int a, double *lo, double *hi)
+{
+    double v1 = PF_HBAR * t * r->k_lo[a] / mass, v2 = PF_HBAR * t * r->k_hi[a] / mass;
+    *lo = r->x_lo[a] + fmin(v1, v2);
+    *hi = r->x_hi[a] + fmax(v1, v2);
+}
+
+/* How far [lo, hi] overflows the window centred at c of width wd: <= 1 fits. */
+static double overflow(double lo, double hi, double c, double wd)
+{
+    return 2.0 * fmax(c - lo, hi - c) / wd;
+}
+
+pf_status pf_wave_fly_long(pf_wave *w, double t, const pf_long_flight_opts *o, pf_long_flight_report *report)
+{
+    pf_grid *g = w->grid;
+    pf_context *ctx = g->ctx;
+    const int d = g->dim;
+    pf_long_flight_opts none;
+    if (!o) {
+        memset(&none, 0, sizeof none);
+        o = &none;
+    }
+    pf_long_flight_report local;
+    pf_long_flight_report *r = report ? report : &local;
+    memset(r, 0, sizeof *r);
+    if (!isfinite(t)) return pf_fail(ctx, PF_EINVAL, "flight time must be finite, got %g", t);
+    if (o->method != PF_FLIGHT_AUTO && o->method != PF_FLIGHT_SAME_GRID && o->method != PF_FLIGHT_SCALED)
+        return pf_fail(ctx, PF_EINVAL, "unknown flight method %d", (int)o->method);
+    if (o->grid && o->grid->dim != d)
+        return pf_fail(ctx, PF_EINVAL, "target grid has %d axes, the wave has %d", o->grid->dim, d);
+    int has_target = o->grid != NULL || o->has_centre;
+    for (int a = 0; a < d; a++) {
+        if (o->points[a] == 1) return pf_fail(ctx, PF_EINVAL, "points on axis %d must be at least 2", a + 1);
+        if (o->spacing[a] < 0 || !isfinite(o->spacing[a]))
+            return pf_fail(ctx, PF_EINVAL, "spacing on axis %d must be positive, got %g", a + 1, o->spacing[a]);
+        if (o->points[a] || o->spacing[a]) has_target = 1;
+    }
+    if (t == 0) {
+        r->method = PF_FLIGHT_SAME_GRID;
+        r->stages = 1;
+        snprintf(r->reason, sizeof r->reason, "a flight of zero duration changes nothing");
+        return pf_wave_fly(w, 0.0);
+    }
+    if (o->method == PF_FLIGHT_SAME_GRID && has_target) {
+        int own = !o->grid || pf_grid_same(o->grid, g);
+        for (int a = 0; a < d && !o->grid; a++)
+            if ((o->points[a] && o->points[a] != g->n[a]) || (o->spacing[a] && o->spacing[a] != g->dx[a]) ||
+                (o->has_centre && o->centre[a] != g->origin[a]))
+                own = 0;
+        if (!own)
+            return pf_fail(ctx, PF_EINVAL,
+                           "method \"same-grid\" keeps the wave's grid; a target grid, points, spacing or centre "
+                           "needs method \"scaled\" or \"auto\"");
+    }
+    /* The state came out of a scaled flight and nothing happened since: its
+     * chirp is undersampled on the coarse grid, so fly back to where that
+     * flight started (the single-FFT form of -t: the chirps cancel, and with
+     * an unchanged point count it lands on the starting grid itself) and fly
+     * the whole time from there.  The log shows both steps. */
+    int returned = 0;
+    if (o->method != PF_FLIGHT_SAME_GRID && w->scaled_from.log_count && w->scaled_from.log_count == w->log.count) {
+        double back = w->scaled_from.duration, origin[PF_MAX_DIM];
+        memcpy(origin, w->scaled_from.origin, sizeof origin);
+        pf_status s0 = pf_wave_fly_scaled(w, -back, NULL, origin);
+        if (s0) return s0;
+        w->scaled_from.log_count = 0;
+        t += back;
+        g = w->grid;
+        returned = 1;
+    }
+    /* The state's extents, measured in the representation it is in first. */
+    double thr = pf_context_guard_threshold(ctx);
+    double eps = fmin(thr, 1e-2);
+    pf_rep first = w->rep, second = first == PF_POSITION ? PF_MOMENTUM : PF_POSITION;
+    pf_status s = pf_wave_extent(w, first, eps, first == PF_POSITION ? r->x_lo : r->k_lo,
+                                 first == PF_POSITION ? r->x_hi : r->k_hi);
+    if (!s) s = pf_wave_extent(w, second, eps, second == PF_POSITION ? r->x_lo : r->k_lo,
+                               second == PF_POSITION ? r->x_hi : r->k_hi);
+    if (s) return s;
+    /* The scaled form's output grid and stage durations. */
+    size_t n_out[PF_MAX_DIM] = {1, 1, 1};
+    double D[PF_MAX_DIM] = {0, 0, 0}, c[PF_MAX_DIM] = {0, 0, 0}, t1[PF_MAX_DIM] = {0, 0, 0}, t2[PF_MAX_DIM] = {0, 0, 0};
+    for (int a = 0; a < d; a++) {
+        n_out[a] = o->grid ? o->grid->n[a] : o->points[a] ? o->points[a] : g->n[a];
+        double natural = PF_TWO_PI * PF_HBAR * fabs(t) / (w->mass * (double)n_out[a] * g->dx[a]);
+        D[a] = o->grid ? o->grid->dx[a] : o->spacing[a] ? o->spacing[a] : natural;
+        r->chirp_time[a] = w->mass * (double)g->n[a] * g->dx[a] * g->dx[a] / (PF_TWO_PI * PF_HBAR);
+    }
+    int two = stage_times(w, t, n_out, D, t1, t2);
+    int same_ok = 1, scaled_ok = 1;
+    double same_over = 0, scaled_over = 0;
+    for (int a = 0; a < d; a++) {
+        double lo1, hi1, lo_s, hi_s;
+        image_at(r, w->mass, t, a, &lo1, &hi1);
+        r->image_lo[a] = lo1;
+        r->image_hi[a] = hi1;
+        /* Same grid: the image must stay in the box from 0 to t (it moves
+         * linearly, so the two ends suffice). */
+        r->box[a] = inner_fraction(g->n[a]) * g->span[a];
+        double ov = fmax(overflow(r->x_lo[a], r->x_hi[a], g->origin[a], r->box[a]),
+                         overflow(lo1, hi1, g->origin[a], r->box[a]));
+        same_over = fmax(same_over, ov);
+        if (ov > 1) same_ok = 0;
+        /* Scaled: the output window must hold the image at t ... */
+        if (o->grid) c[a] = o->grid->origin[a];
+        else if (o->has_centre) c[a] = o->centre[a];
+        else c[a] = 0.5 * (lo1 + hi1);
+        r->window[a] = inner_fraction(n_out[a]) * (double)n_out[a] * D[a];
+        double sv = overflow(lo1, hi1, c[a], r->window[a]);
+        if (two) {
+            /* ... the first stage's window the image at t1 (chirp criterion
+             * of stage one) ... */
+            double D1 = PF_TWO_PI * PF_HBAR * fabs(t1[a]) / (w->mass * (double)n_out[a] * g->dx[a]);
+            double c1 = g->origin[a] + (c[a] - g->origin[a]) * t1[a] / t;
+            image_at(r, w->mass, t1[a], a, &lo_s, &hi_s);
+            sv = fmax(sv, overflow(lo_s, hi_s, c1, inner_fraction(n_out[a]) * (double)n_out[a] * D1));
+            /* ... and the second stage's integrand, whose chirps nearly
+             * cancel, spans r (x extent) + hbar |t| (k extent) / m. */
+            double rr = D[a] / g->dx[a];
+            double need = rr * (r->x_hi[a] - r->x_lo[a]) + PF_HBAR * fabs(t) * (r->k_hi[a] - r->k_lo[a]) / w->mass;
+            sv = fmax(sv, need / r->window[a]);
+        }
+        scaled_over = fmax(scaled_over, sv);
+        if (sv > 1) scaled_ok = 0;
+        r->out_spacing[a] = D[a];
+        r->out_centre[a] = c[a];
+        r->out_points[a] = n_out[a];
+        r->scaled_time[a] = t1[a];
+    }
+    r->same_grid_ok = same_ok;
+    r->scaled_ok = scaled_ok;
+    int target_is_own = o->grid && pf_grid_same(o->grid, g);
+    if (!o->grid && has_target) {
+        target_is_own = 1;
+        for (int a = 0; a < d; a++)
+            if (n_out[a] != g->n[a] || D[a] != g->dx[a] || c[a] != g->origin[a]) target_is_own = 0;
+    }
+    pf_flight_method m = o->method;
+    if (m == PF_FLIGHT_AUTO) {
+        if (has_target && !target_is_own) {
+            m = PF_FLIGHT_SCALED;
+            snprintf(r->reason, sizeof r->reason, "a target grid was requested, which only the scaled method reaches");
+        } else if (same_ok) {
+            m = PF_FLIGHT_SAME_GRID;
+            snprintf(r->reason, sizeof r->reason,
+                     "the state stays inside its grid for the whole flight (largest use %.2f of the box), so the exact "
+                     "same-grid flight applies", same_over);
+        } else if (scaled_ok) {
+            m = PF_FLIGHT_SCALED;
+            snprintf(r->reason, sizeof r->reason,
+                     "the state would leave its grid (needs %.2f times the box) but the chirp is sampled without "
+                     "aliasing on the scaled grid (uses %.2f of its window)", same_over, scaled_over);
+        } else {
+            m = scaled_over < same_over ? PF_FLIGHT_SCALED : PF_FLIGHT_SAME_GRID;
+            snprintf(r->reason, sizeof r->reason,
+                     "neither method is valid (same-grid needs %.2f times the box, scaled %.2f times its window); "
+                     "used the closer one", same_over, scaled_over);
+        }
+    } else {
+        snprintf(r->reason, sizeof r->reason, "method \"%s\" was requested", pf_flight_method_name(m));
+    }
+    int ok = m == PF_FLIGHT_SAME_GRID ? same_ok : scaled_ok;
+    if (!ok) {
+        double over = m == PF_FLIGHT_SAME_GRID ? same_over : scaled_over;
+        if (m == PF_FLIGHT_SAME_GRID)
+            pf_context_warn(ctx,
+                            "flight guard: a same-grid flight of %g s needs %.2f times the grid's usable box: the "
+                            "state reaches the edge and wraps around. Remedy: enlarge the span by x%.2f or use the "
+                            "scaled method (method=\"scaled\"); the grid advisor (w:grid_advice) proposes both",
+                            t, over, over * 1.1);
+        else
+            pf_context_warn(ctx,
+                            "flight guard: the scaled flight of %g s needs %.2f times the usable output window: "
+                            "the chirp exp(i m x^2 / 2 hbar t) is undersampled and the result aliases. Remedy: "
+                            "reduce the input spacing by x%.2f (more points over the same span); for a short "
+                            "flight use method=\"same-grid\" on a larger grid; see w:grid_advice",
+                            t, over, over * 1.1);
+    }
+    if (returned) {
+        size_t len = strlen(r->reason);
+        snprintf(r->reason + len, sizeof r->reason - len,
+                 " (the state first flew back to where its last scaled flight started, then %g s in one go)", t);
+    }
+    r->method = m;
+    if (m == PF_FLIGHT_SAME_GRID) {
+        r->stages = 1;
+        return pf_wave_fly(w, t);
+    }
+    r->stages = two ? 2 : 1;
+    if (o->grid) return pf_wave_fly_onto(w, t, o->grid);
+    double span[PF_MAX_DIM];
+    for (int a = 0; a < d; a++) span[a] = D[a] * (double)n_out[a];
+    pf_grid *gout;
+    s = pf_grid_new(ctx, d, n_out, span, c, &gout);
+    if (s) return s;
+    s = pf_wave_fly_onto(w, t, gout);
+    pf_grid_release(gout);
+    return s;
+}
