@@ -109,24 +109,55 @@ static void thermal_expansion_1d(void **state)
     pf_context_release(ctx);
 }
 
-/* 2D, sampled members: the mixture width follows the same law in
- * expectation; with 400 members the sampling error of a variance is about
- * sqrt(2/400) = 7%, so this checks the scheme, not the last digits. */
-static void thermal_sampled_2d(void **state)
+/* Sampled members (1D, 2000 of them): the width follows the Bose-Einstein
+ * result in expectation; the sampling error of the displacement variance is
+ * sqrt(2/K) = 3%, so 4 standard errors bound the check. */
+static void thermal_sampled(void **state)
+{
+    (void)state;
+    pf_context *ctx = mu_context();
+    double om = PF_TWO_PI * 200.0, T = 50e-9;
+    pf_thermal_spec sp = {1, MU_MASS, {om}, T, 0, 2000};
+    pf_grid *g = mu_grid1(ctx, 256, 60e-6, 0);
+    pf_wave **m;
+    double *w;
+    size_t count;
+    build(ctx, g, &sp, &m, &w, &count);
+    pf_mixture mix = {count, m, w};
+    pf_field f;
+    double mean, var;
+    MU_OK(pf_mixture_field(&mix, PF_POSITION, &f));
+    MU_OK(pf_field_moments(&f, &mean, &var));
+    pf_field_free(&f);
+    double s0 = pf_thermal_sigma0(MU_MASS, om), nb = pf_thermal_nbar(om, T);
+    double want = s0 * s0 * (2 * nb + 1);
+    MU_NEAR(var / want, 1, 4 * sqrt(2.0 / count), "sampled thermal width (Bose-Einstein, 4 sampling errors)");
+    for (size_t i = 0; i < count; i++) pf_wave_free(m[i]);
+    free(m);
+    free(w);
+    pf_grid_release(g);
+    pf_context_release(ctx);
+}
+
+/* 2D Gauss-Hermite mixture (2 nodes per quadrature, 16 members): the
+ * covariance is exactly diag(sigma0_a^2 coth(hbar w_a / 2 kB T)) (Bose-
+ * Einstein, separable trap; the rule is exact for second moments). */
+static void thermal_quadrature_2d(void **state)
 {
     (void)state;
     pf_context *ctx = mu_context();
     double om[2] = {PF_TWO_PI * 200.0, PF_TWO_PI * 120.0};
-    double T = 200e-9;
-    pf_thermal_spec sp = {2, MU_MASS, {om[0], om[1]}, T, 0, 400};
-    size_t n[2] = {64, 64};
-    double span[2] = {40e-6, 50e-6}, origin[2] = {0, 0};
+    double T = 30e-9;
+    pf_thermal_spec sp = {2, MU_MASS, {om[0], om[1]}, T, 2, 0};
+    size_t n[2] = {128, 128};
+    double span[2] = {40e-6, 48e-6}, origin[2] = {0, 0};
     pf_grid *g;
     MU_OK(pf_grid_new(ctx, 2, n, span, origin, &g));
     pf_wave **m;
     double *w;
     size_t count;
     build(ctx, g, &sp, &m, &w, &count);
+    assert_int_equal(count, 16);
     pf_mixture mix = {count, m, w};
     pf_field f;
     double mean[2], cov[4];
@@ -136,8 +167,9 @@ static void thermal_sampled_2d(void **state)
     for (int a = 0; a < 2; a++) {
         double s0 = pf_thermal_sigma0(MU_MASS, om[a]);
         double want = s0 * s0 / tanh(PF_HBAR * om[a] / (2 * PF_BOLTZMANN * T));
-        MU_NEAR(cov[a * 3] / want, 1, 0.25, "sampled thermal width (Bose-Einstein, sampling error)");
+        MU_NEAR(cov[a * 3] / want, 1, 1e-9, "2D quadrature thermal variance (Bose-Einstein)");
     }
+    MU_NEAR(cov[1], 0, 1e-25, "no x-y correlation in a separable trap");
     for (size_t i = 0; i < count; i++) pf_wave_free(m[i]);
     free(m);
     free(w);
@@ -178,7 +210,8 @@ int main(void)
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(hermite_matches_gsl),
         cmocka_unit_test(thermal_expansion_1d),
-        cmocka_unit_test(thermal_sampled_2d),
+        cmocka_unit_test(thermal_sampled),
+        cmocka_unit_test(thermal_quadrature_2d),
         cmocka_unit_test(mixture_region_bayes),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);

@@ -6,6 +6,7 @@
 #include "measure_util.h"
 #include "pf_flight.h"
 #include "pf_flux.h"
+#include "pf_guard.h"
 #include "pf_observe.h"
 
 /* Free Gaussian packet (textbook form, e.g. any quantum-mechanics text's
@@ -82,8 +83,8 @@ static void continuity_2d(void **state)
 {
     (void)state;
     pf_context *ctx = mu_context();
-    size_t n[2] = {256, 64};
-    double span[2] = {200e-6, 60e-6}, origin[2] = {0, 0};
+    size_t n[2] = {384, 128};
+    double span[2] = {200e-6, 120e-6}, origin[2] = {0, 0};
     pf_grid *g;
     MU_OK(pf_grid_new(ctx, 2, n, span, origin, &g));
     double k0 = MU_MASS * 2e-3 / PF_HBAR;
@@ -104,7 +105,7 @@ static void continuity_2d(void **state)
      * at a grid plane, the sum of j over the transverse points times dy. */
     double *j = malloc(pf_grid_total(g) * sizeof *j);
     MU_OK(pf_wave_current(w, 0, j));
-    size_t i0 = 128; /* x = 0, a grid plane */
+    size_t i0 = n[0] / 2; /* x = 0, a grid plane */
     double Jg = 0;
     for (size_t k = 0; k < n[1]; k++) Jg += j[i0 * n[1] + k] * pf_grid_spacing(g, 1);
     double Jp;
@@ -170,6 +171,7 @@ static void nyquist_content(void **state)
 {
     (void)state;
     pf_context *ctx = mu_context();
+    MU_OK(pf_context_set_guard_threshold(ctx, INFINITY)); /* Nyquist content on purpose */
     pf_grid *g = mu_grid1(ctx, 512, 200e-6, 0.0);
     pf_wave *w;
     nyq real = {3e-6, 0, 0.2};
