@@ -34,6 +34,15 @@ TEST_PC     ?= gsl libcerf
 TEST_CFLAGS := $(shell pkg-config --cflags $(TEST_PC) 2>/dev/null)
 TEST_LIBS   := $(shell pkg-config --libs $(TEST_PC) 2>/dev/null)
 
+# Runner: cJSON reads run manifests (sweeps); MPI is optional - without
+# pkg-config's ompi-c (or with MPI_PC=none) sweeps run on one machine only.
+CJSON_PC  ?= libcjson
+CJSON_CFLAGS := $(shell pkg-config --cflags $(CJSON_PC) 2>/dev/null)
+CJSON_LIBS   := $(shell pkg-config --libs $(CJSON_PC) 2>/dev/null || echo -lcjson)
+MPI_PC    ?= ompi-c
+MPI_LIBS  := $(shell pkg-config --libs $(MPI_PC) 2>/dev/null)
+MPI_CFLAGS := $(if $(MPI_LIBS),-DPFR_HAVE_MPI $(shell pkg-config --cflags $(MPI_PC) 2>/dev/null))
+
 ALL_CFLAGS = $(CFLAGS_BASE) $(CFLAGS) $(SAN)
 CORE_LIBS  = $(FFTW_LIBS) -lm -fopenmp $(SAN)
 
@@ -45,7 +54,8 @@ UNIT_HELP  := $(filter-out $(UNIT_SRC),$(sort $(wildcard tests/unit/*.c)))
 
 CORE_OBJ   := $(CORE_SRC:%.c=$(BUILD)/%.o)
 LUA_OBJ    := $(LUA_SRC:%.c=$(BUILD)/%.o)
-RUNNER_OBJ := $(RUNNER_SRC:%.c=$(BUILD)/%.o)
+RUNNER_OBJ := $(RUNNER_SRC:%.c=$(BUILD)/%.o) $(BUILD)/gen/pfr_recipe_data.o
+RECIPE_SRC := $(sort $(wildcard engine/recipes/*.lua))
 UNIT_BIN   := $(UNIT_SRC:tests/unit/%.c=$(BUILD)/tests/%)
 UNIT_HELP_OBJ := $(UNIT_HELP:%.c=$(BUILD)/%.o)
 
@@ -73,7 +83,15 @@ $(BUILD)/engine/lua/%.o: engine/lua/%.c $(wildcard engine/lua/*.h engine/core/*.
 
 $(BUILD)/engine/runner/%.o: engine/runner/%.c $(wildcard engine/runner/*.h engine/lua/*.h engine/core/*.h)
 	@mkdir -p $(dir $@)
-	$(CC) $(ALL_CFLAGS) $(LUA_CFLAGS) -c $< -o $@
+	$(CC) $(ALL_CFLAGS) $(LUA_CFLAGS) $(CJSON_CFLAGS) $(MPI_CFLAGS) -c $< -o $@
+
+# The bundled recipe library: engine/recipes/*.lua compiled into the runner.
+$(BUILD)/gen/pfr_recipe_data.c: $(RECIPE_SRC) scripts/embed-recipes.sh
+	@mkdir -p $(dir $@)
+	bash scripts/embed-recipes.sh $@ $(RECIPE_SRC)
+
+$(BUILD)/gen/pfr_recipe_data.o: $(BUILD)/gen/pfr_recipe_data.c engine/runner/pfr_recipes.h
+	$(CC) $(ALL_CFLAGS) -Iengine/runner -c $< -o $@
 
 $(CORE_LIB): $(CORE_OBJ)
 	@mkdir -p $(dir $@)
@@ -81,7 +99,7 @@ $(CORE_LIB): $(CORE_OBJ)
 	ar rcs $@ $^
 
 $(RUNNER): $(RUNNER_OBJ) $(LUA_OBJ) $(CORE_LIB)
-	$(CC) -o $@ $(RUNNER_OBJ) $(LUA_OBJ) $(CORE_LIB) $(LUA_LIBS) $(CORE_LIBS) -Wl,-E
+	$(CC) -o $@ $(RUNNER_OBJ) $(LUA_OBJ) $(CORE_LIB) $(LUA_LIBS) $(CJSON_LIBS) $(MPI_LIBS) $(CORE_LIBS) -Wl,-E
 
 # The Lua C module takes Lua's symbols from the interpreter that loads it.
 $(MODULE): $(LUA_OBJ) $(CORE_LIB)

@@ -18,16 +18,23 @@
 -- They are not settings for lasers or detectors: local laser-safety rules
 -- and the lab's qualified staff come first.
 --
--- Run: build/psiflight run examples/launch_and_detect.lua [--set image_ms=8]
+-- Run: build/psiflight run examples/launch_and_detect.lua [--set image=8ms] [--set temperature=30nK]
 local pf = require "psiflight"
-local C = pf.constants
+local p = pf.parameters{
+  image       = {default = 10, unit = "ms", help = "flight time before the absorption image"},
+  launch      = {default = 4, unit = "mm/s", help = "launch velocity along x"},
+  sheet       = {default = 60, unit = "um", help = "light-sheet position downstream of the trap"},
+  atoms       = {default = 5000, type = "number", help = "atoms in the cloud", min = 1},
+  efficiency  = {default = 0.4, help = "light-sheet detection efficiency", min = 0, max = 1},
+  temperature = {default = 20, unit = "nK", help = "temperature of the thermal cloud"},
+}
 
 local k41 = pf.species("41K")
 local omega = {2 * math.pi * 150, 2 * math.pi * 110}
-local launch = 4e-3                              -- m/s along x
-local sheet = 60e-6                              -- light-sheet position (m)
-local image_ms = tonumber(pf.params.image_ms) or 10
-local atoms, efficiency = 5.0e3, 0.4
+local launch = p.launch                          -- m/s along x
+local sheet = p.sheet                            -- light-sheet position (m)
+local image_ms = p.image * 1e3
+local atoms, efficiency = p.atoms, p.efficiency
 
 -- Arrival events: Poisson count, times drawn from the (non-negative) flux by
 -- inverting its cumulative integral.
@@ -108,7 +115,7 @@ cloud:close()
 -- The same launch for a thermal cloud at 20 nK along x: the thermal state as
 -- Boltzmann-weighted trap eigenstates (levels down to weight 1e-6), exact in
 -- its density; the grid resolves the highest level kept.
-local T = 20e-9
+local T = p.temperature
 local g1 = pf.grid{points = 4096, span = 400e-6, origin = {140e-6}}
 local hot = pf.thermal{grid = g1, mass = k41.mass, trap = omega[1], temperature = T, drift = launch,
                        method = "eigenstates"}

@@ -6,6 +6,8 @@
 #   tests/lua/test_*.lua      Lua API tests, run through the runner
 #   tests/ref/test_*.sh       checks against outside references that need
 #                             other tools (numpy/scipy, h5py, h5dump, ...)
+#   tests/runner/test_*.sh    command-line behaviour of the runner (parameters,
+#                             sandbox, modules, sweeps, MPI)
 set -u
 build=${1:-build}
 root=$(cd "$(dirname "$0")/.." && pwd)
@@ -35,6 +37,10 @@ done
 for t in "$root"/tests/lua/test_*.lua; do
   [ -e "$t" ] || continue
   run_suite "lua/$(basename "$t")" "$runner" run "$t"
+done
+for t in "$root"/tests/runner/test_*.sh; do
+  [ -e "$t" ] || continue
+  run_suite "runner/$(basename "$t")" bash "$t"
 done
 for t in "$root"/tests/ref/test_*.sh; do
   [ -e "$t" ] || continue

@@ -24,7 +24,8 @@ typedef enum pfl_error_kind {
     PFL_ERROR_SCRIPT = 0, /* ordinary script or argument error */
     PFL_ERROR_GUARD,      /* a numerical guard tripped in strict mode */
     PFL_ERROR_LIMIT,      /* a resource cap (memory, time) was reached */
-    PFL_ERROR_SANDBOX     /* the sandbox refused an operation */
+    PFL_ERROR_SANDBOX,    /* the sandbox refused an operation */
+    PFL_ERROR_USAGE       /* a bad command-line value (--set NAME=VALUE) */
 } pfl_error_kind;
 
 /* Opens the module and leaves its table on the stack (Lua C module entry). */
@@ -100,6 +101,20 @@ void pfl_add_functions(lua_State *L, int mod, const luaL_Reg *funcs);
  * (pcall per point; a failing callback re-raises its error). */
 void pfl_fill_from_function(lua_State *L, pf_wave *w, pf_rep rep, int arg, const char *name);
 
+/* ---- file access policy (pfl_files.c) ----
+ * Every binding function that opens a file for a script checks the path here
+ * first, so the sandbox covers engine outputs as well as io.open. */
+typedef enum pfl_access { PFL_ACCESS_READ = 0, PFL_ACCESS_WRITE = 1 } pfl_access;
+/* Lets scripts of this state read (or read and write) below path, a folder
+ * or a single file.  Once one root is added the policy is enforced; with none
+ * every path is allowed (the module loaded outside the runner, --trusted).
+ * Returns 0, or -1 when path cannot be resolved (errno set). */
+int pfl_files_allow(lua_State *L, const char *path, pfl_access access);
+/* Raises a sandbox error naming op and path unless the policy allows the
+ * access: no ".." component, and the resolved path (symbolic links followed)
+ * inside an allowed root. */
+void pfl_files_check(lua_State *L, const char *path, pfl_access access, const char *op);
+
 /* ---- openers: each registers its group into the module table at mod ---- */
 void pfl_open_context(lua_State *L, int mod);
 void pfl_open_complex(lua_State *L, int mod);
@@ -112,6 +127,7 @@ void pfl_open_states(lua_State *L, int mod);
 void pfl_open_algebra(lua_State *L, int mod);
 void pfl_open_guard(lua_State *L, int mod);      /* after pfl_open_context: wraps pf.setup */
 void pfl_open_longflight(lua_State *L, int mod);
+void pfl_open_params(lua_State *L, int mod);
 /* Measurements, detectors, ensembles (issue 6; helpers in pfl_measure.h). */
 void pfl_open_random(lua_State *L, int mod);
 void pfl_open_ensemble(lua_State *L, int mod);

@@ -19,6 +19,7 @@ static const pfl_opener openers[] = {
     pfl_open_algebra,
     pfl_open_guard,
     pfl_open_longflight,
+    pfl_open_params,
     pfl_open_random,
     pfl_open_ensemble, /* before the measurement groups, which add to it */
     pfl_open_measure,

@@ -8,7 +8,8 @@ enum pfr_exit {
     PFR_EXIT_USAGE = 2,    /* bad command line */
     PFR_EXIT_GUARD = 3,    /* a numerical guard tripped in strict mode */
     PFR_EXIT_SANDBOX = 4,  /* the sandbox refused an operation */
-    PFR_EXIT_LIMIT = 5     /* a resource limit (memory, wall time) was reached */
+    PFR_EXIT_LIMIT = 5,    /* a resource limit (memory, wall time) was reached */
+    PFR_EXIT_POINTS = 6    /* a sweep finished, but at least one point failed */
 };
 
 #endif

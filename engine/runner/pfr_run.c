@@ -1,142 +1,106 @@
-/* pfr_run.c - `psiflight run SCRIPT.lua [options]`: builds a Lua state with the
- * engine preloaded, passes --set parameters, runs the script under protection
- * and turns failures into a message on stderr and a documented exit status. */
+/* pfr_run.c - `psiflight run` and `psiflight recipe`: builds a Lua state with
+ * the engine preloaded, the sandbox, the module search and the resource
+ * limits, declares the command-line parameters, runs the script under
+ * protection and turns failures into a message on stderr and a documented
+ * exit status.  pfr_main dispatches the commands. */
+#define _DEFAULT_SOURCE /* realpath */
+#include <errno.h>
+#include <limits.h>
 #include <locale.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/stat.h>
 #include <lauxlib.h>
 #include <lua.h>
 #include <lualib.h>
 #include "../core/pf_version.h"
 #include "../lua/pfl.h"
-#include "pfr_run.h"
+#include "../lua/pfl_params.h"
 #include "pfr_exit.h"
+#include "pfr_limits.h"
+#include "pfr_modules.h"
+#include "pfr_run.h"
+#include "pfr_sandbox.h"
+#include "pfr_sha256.h"
+#include "pfr_sweep.h"
+#include "pfr_traceback.h"
 
-typedef struct pfr_options {
-    const char *script;
-    int nsets;
-    char **sets;          /* "NAME=VALUE" strings, in command-line order */
-    int threads;          /* 0: leave the engine default (1) */
-    int strict;
-    const char *planning; /* NULL: default */
-    const char *wisdom;   /* NULL: default, "off" disables */
-    const char *out;      /* output folder, NULL: none */
-    long long seed;       /* -1: default */
-} pfr_options;
+/* The chunk that runs a bundled recipe as a script. */
+static const char RECIPE_DRIVER[] =
+    "local pf = require 'psiflight'\n"
+    "local recipe = require(" "'" PFR_RECIPE_PREFIX "' .. ...)\n"
+    "return recipe.main(pf.parameters(recipe.parameters))\n";
 
-static void usage(FILE *f)
+static const char *recipe_name(const char *script)
 {
-    fputs("usage: psiflight run SCRIPT.lua [--set NAME=VALUE]... [--threads N] [--strict]\n"
-          "                     [--planning measure|estimate] [--wisdom PATH|off]\n"
-          "                     [--seed N] [--out DIR]\n"
-          "       psiflight --version\n"
-          "Runs a psiflight Lua script headlessly; see docs/runner.md.\n",
-          f);
+    size_t n = strlen(PFR_RECIPE_SCHEME);
+    return strncmp(script, PFR_RECIPE_SCHEME, n) == 0 ? script + n : NULL;
 }
 
-static int usage_error(const char *fmt, const char *arg)
+int pfr_script_digest(const char *script, char hex[65])
 {
-    fprintf(stderr, "psiflight: ");
-    fprintf(stderr, fmt, arg);
-    fputc('\n', stderr);
-    usage(stderr);
-    return PFR_EXIT_USAGE;
+    const char *name = recipe_name(script);
+    if (!name) return pfr_sha256_file(script, hex);
+    const pfr_bundled_recipe *r = pfr_recipe_find(name);
+    if (!r) return -1;
+    pfr_sha256_buffer(r->source, r->length, hex);
+    return 0;
 }
 
-static int parse_options(int argc, char **argv, pfr_options *o)
+int pfr_make_folders(const char *path)
 {
-    memset(o, 0, sizeof *o);
-    o->seed = -1;
-    o->sets = calloc((size_t)argc, sizeof *o->sets);
-    if (!o->sets) return usage_error("%s", "out of memory");
-    for (int i = 2; i < argc; i++) {
-        const char *a = argv[i];
-        if (strcmp(a, "--set") == 0) {
-            if (++i >= argc) return usage_error("%s needs NAME=VALUE", a);
-            if (!strchr(argv[i], '=') || argv[i][0] == '=')
-                return usage_error("--set needs NAME=VALUE, got '%s'", argv[i]);
-            o->sets[o->nsets++] = argv[i];
-        } else if (strcmp(a, "--threads") == 0) {
-            if (++i >= argc) return usage_error("%s needs a count", a);
-            char *end;
-            long n = strtol(argv[i], &end, 10);
-            if (*end || n < 1 || n > 1024) return usage_error("--threads needs a count of 1..1024, got '%s'", argv[i]);
-            o->threads = (int)n;
-        } else if (strcmp(a, "--strict") == 0) {
-            o->strict = 1;
-        } else if (strcmp(a, "--planning") == 0) {
-            if (++i >= argc) return usage_error("%s needs measure or estimate", a);
-            if (strcmp(argv[i], "measure") && strcmp(argv[i], "estimate"))
-                return usage_error("--planning must be measure or estimate, got '%s'", argv[i]);
-            o->planning = argv[i];
-        } else if (strcmp(a, "--wisdom") == 0) {
-            if (++i >= argc) return usage_error("%s needs a path or off", a);
-            o->wisdom = argv[i];
-        } else if (strcmp(a, "--seed") == 0) {
-            if (++i >= argc) return usage_error("%s needs a non-negative integer", a);
-            char *end;
-            long long n = strtoll(argv[i], &end, 10);
-            if (*end || end == argv[i] || n < 0) return usage_error("--seed needs a non-negative integer, got '%s'", argv[i]);
-            o->seed = n;
-        } else if (strcmp(a, "--out") == 0) {
-            if (++i >= argc || !argv[i][0]) return usage_error("%s needs a folder", a);
-            o->out = argv[i];
-        } else if (a[0] == '-' && a[1] == '-') {
-            return usage_error("unknown option '%s'", a);
-        } else if (!o->script) {
-            o->script = a;
-        } else {
-            return usage_error("unexpected argument '%s' (one script per run)", a);
-        }
+    char buf[PATH_MAX];
+    if (snprintf(buf, sizeof buf, "%s", path) >= (int)sizeof buf) return errno = ENAMETOOLONG, -1;
+    for (char *p = buf + 1; *p; p++) {
+        if (*p != '/') continue;
+        *p = 0;
+        if (mkdir(buf, 0777) != 0 && errno != EEXIST) return -1;
+        *p = '/';
     }
-    if (!o->script) return usage_error("%s", "run needs a script file");
-    return PFR_EXIT_OK;
+    if (mkdir(buf, 0777) != 0 && errno != EEXIST) return -1;
+    return 0;
 }
 
-/* Message handler: keeps the error text and appends a traceback. */
-static int message_handler(lua_State *L)
+typedef struct run_setup {
+    const pfr_options *o;
+    const char *script_dir; /* resolved folder of the script, NULL for a recipe */
+    const char *label;
+    const char *digest;
+} run_setup;
+
+static void set_string(lua_State *L, int t, const char *key, const char *value)
 {
-    const char *msg = lua_tostring(L, 1);
-    if (!msg) {
-        if (luaL_callmeta(L, 1, "__tostring") && lua_type(L, -1) == LUA_TSTRING) msg = lua_tostring(L, -1);
-        else msg = lua_pushfstring(L, "(error object is a %s value)", luaL_typename(L, 1));
-    }
-    luaL_traceback(L, L, msg, 1);
-    return 1;
+    lua_pushstring(L, value);
+    lua_setfield(L, t, key);
 }
 
-/* Converts "1e-6" to a number and leaves anything else a string. */
-static void push_param_value(lua_State *L, const char *text)
-{
-    if (lua_stringtonumber(L, text) == 0) lua_pushstring(L, text);
-}
-
-/* Applies the engine options and publishes the parameters as psiflight.params. */
+/* Opens the libraries and the engine, applies the options, publishes
+ * psiflight.params and psiflight.script, fixes the file policy and the module
+ * search.  Runs under lua_pcall: a failure here is a usage error. */
 static int prepare(lua_State *L)
 {
-    const pfr_options *o = lua_touserdata(L, 1);
-    luaL_openlibs(L);
+    const run_setup *rs = lua_touserdata(L, 1);
+    const pfr_options *o = rs->o;
+    int sandboxed = !o->trusted;
+    pfr_sandbox_open_libs(L, sandboxed);
     luaL_requiref(L, "psiflight", luaopen_psiflight, 0);
     int mod = lua_gettop(L);
     lua_newtable(L);
     for (int i = 0; i < o->nsets; i++) {
         const char *eq = strchr(o->sets[i], '=');
         lua_pushlstring(L, o->sets[i], (size_t)(eq - o->sets[i]));
-        push_param_value(L, eq + 1);
+        if (lua_stringtonumber(L, eq + 1) == 0) lua_pushstring(L, eq + 1);
         lua_settable(L, -3);
     }
     lua_setfield(L, mod, "params");
     lua_getfield(L, mod, "setup");
-    lua_createtable(L, 0, 4);
+    lua_createtable(L, 0, 8);
     if (o->threads) {
         lua_pushinteger(L, o->threads);
         lua_setfield(L, -2, "threads");
     }
-    if (o->planning) {
-        lua_pushstring(L, o->planning);
-        lua_setfield(L, -2, "planning");
-    }
+    if (o->planning) set_string(L, lua_gettop(L), "planning", o->planning);
     if (o->wisdom) {
         if (strcmp(o->wisdom, "off") == 0) lua_pushboolean(L, 0); else lua_pushstring(L, o->wisdom);
         lua_setfield(L, -2, "wisdom");
@@ -147,25 +111,35 @@ static int prepare(lua_State *L)
         lua_pushinteger(L, (lua_Integer)o->seed);
         lua_setfield(L, -2, "seed");
     }
-    if (o->out) {
-        lua_pushstring(L, o->out);
-        lua_setfield(L, -2, "output_dir");
+    if (o->out) set_string(L, lua_gettop(L), "output_dir", o->out);
+    if (o->memory_cap) {
+        lua_pushnumber(L, (lua_Number)o->memory_cap);
+        lua_setfield(L, -2, "memory_cap");
     }
     lua_call(L, 1, 0);
-    /* Modules beside the script come first on the search path. */
-    lua_getglobal(L, "package");
-    const char *slash = strrchr(o->script, '/');
-    if (slash) {
-        lua_pushlstring(L, o->script, (size_t)(slash - o->script));
-        lua_pushliteral(L, "/?.lua;");
-        lua_concat(L, 2);
-    } else {
-        lua_pushliteral(L, "./?.lua;");
+    if (sandboxed) pfr_sandbox_guard_setup(L, mod, pf_context_memory_cap(pfl_ctx(L)));
+    /* psiflight.script: what is running, for reports and file names. */
+    lua_createtable(L, 0, 4);
+    set_string(L, lua_gettop(L), "path", o->script);
+    set_string(L, lua_gettop(L), "label", rs->label);
+    set_string(L, lua_gettop(L), "sha256", rs->digest);
+    if (rs->script_dir) set_string(L, lua_gettop(L), "folder", rs->script_dir);
+    lua_setfield(L, mod, "script");
+    pfl_params_configure(L, o->nsets, o->sets, o->help, rs->label);
+    if (sandboxed) {
+        if (rs->script_dir && pfl_files_allow(L, rs->script_dir, PFL_ACCESS_WRITE) != 0)
+            return luaL_error(L, "cannot resolve the script folder %s: %s", rs->script_dir, strerror(errno));
+        for (int i = 0; i < o->ndata; i++)
+            if (pfl_files_allow(L, o->data[i], PFL_ACCESS_READ) != 0)
+                return luaL_error(L, "--data %s: %s", o->data[i], strerror(errno));
+        if (o->out && pfl_files_allow(L, o->out, PFL_ACCESS_WRITE) != 0)
+            return luaL_error(L, "--out %s: %s", o->out, strerror(errno));
+        /* A bundled recipe run without --out or --data has no folder at
+         * all; an empty policy would allow everything, so it gets one
+         * harmless read-only root instead. */
+        if (!rs->script_dir && !o->ndata && !o->out) pfl_files_allow(L, "/dev/null", PFL_ACCESS_READ);
     }
-    lua_getfield(L, -2, "path");
-    lua_concat(L, 2);
-    lua_setfield(L, -2, "path");
-    lua_pop(L, 1);
+    pfr_modules_install(L, rs->script_dir, sandboxed);
     return 0;
 }
 
@@ -175,47 +149,139 @@ static int exit_for_kind(pfl_error_kind k)
     case PFL_ERROR_GUARD: return PFR_EXIT_GUARD;
     case PFL_ERROR_LIMIT: return PFR_EXIT_LIMIT;
     case PFL_ERROR_SANDBOX: return PFR_EXIT_SANDBOX;
+    case PFL_ERROR_USAGE: return PFR_EXIT_USAGE;
     default: return PFR_EXIT_SCRIPT;
     }
 }
 
-static int run_script(const pfr_options *o)
+static int panic(lua_State *L)
 {
-    lua_State *L = luaL_newstate();
+    const char *msg = lua_tostring(L, -1);
+    fprintf(stderr, "psiflight: unprotected Lua error: %s\n", msg ? msg : "(not a string)");
+    return 0;
+}
+
+/* Loads the script (text only in the sandbox) or the recipe driver. */
+static int load_script(lua_State *L, const pfr_options *o, const char *recipe)
+{
+    if (recipe) {
+        char chunk[256];
+        snprintf(chunk, sizeof chunk, "=%s", o->script); /* shown as recipe:NAME:LINE */
+        if (luaL_loadbufferx(L, RECIPE_DRIVER, sizeof RECIPE_DRIVER - 1, chunk, "t") != LUA_OK) return -1;
+        lua_pushstring(L, recipe);
+        return 1;
+    }
+    return luaL_loadfilex(L, o->script, o->trusted ? NULL : "t") == LUA_OK ? 0 : -1;
+}
+
+/* Runs the loaded chunk and maps the outcome onto an exit status. */
+static int execute(lua_State *L, const pfr_options *o, pfr_limits *lim, int handler, int nargs)
+{
+    if (o->time_limit > 0) pfr_limits_arm_time(L, o->time_limit);
+    int rc = lua_pcall(L, nargs, 0, handler);
+    pfr_limits_disarm();
+    if (rc == LUA_OK) {
+        if (o->help && !pfl_params_declared(L))
+            printf("%s declares no parameters (it does not call pf.parameters)\n", o->script);
+        return PFR_EXIT_OK;
+    }
+    if (pfl_params_is_help_stop(L, -1)) return PFR_EXIT_OK;
+    if (rc == LUA_ERRMEM || lim->cap_hit) {
+        fprintf(stderr, "psiflight: %s: memory limit: the script's Lua heap reached its cap of %zu bytes "
+                        "(raise it with --memory-cap, or keep large data in engine objects)\n",
+                o->script, lim->cap);
+        return PFR_EXIT_LIMIT;
+    }
+    const char *full = lua_tostring(L, -1);
+    if (!full) full = "error";
+    const char *tb = strstr(full, PFR_TRACEBACK_MARK);
+    lua_pushlstring(L, full, tb ? (size_t)(tb - full) : strlen(full));
+    int status = exit_for_kind(pfl_error_kind_of(L, -1));
+    lua_pop(L, 1);
+    if (lim->time_hit) status = PFR_EXIT_LIMIT;
+    fprintf(stderr, "psiflight: %s\n", full);
+    return status;
+}
+
+int pfr_run_script(const pfr_options *o)
+{
+    const char *recipe = recipe_name(o->script);
+    char digest[65] = "";
+    char dir[PATH_MAX];
+    char label[PATH_MAX + 16];
+    const char *script_dir = NULL;
+    if (recipe) {
+        if (!pfr_recipe_find(recipe))
+            return pfr_usage_error("no bundled recipe '%s' (psiflight recipe lists them)", recipe);
+        snprintf(label, sizeof label, "recipe %s", recipe);
+    } else {
+        if (pfr_sha256_file(o->script, digest) != 0)
+            return pfr_usage_error("cannot read the script %s: %s", o->script, strerror(errno));
+        snprintf(dir, sizeof dir, "%s", o->script);
+        char *slash = strrchr(dir, '/');
+        if (slash == dir) slash[1] = 0;
+        else if (slash) *slash = 0;
+        else strcpy(dir, ".");
+        char *real = realpath(dir, NULL);
+        if (!real) return pfr_usage_error("cannot resolve the folder of %s: %s", o->script, strerror(errno));
+        snprintf(dir, sizeof dir, "%s", real);
+        free(real);
+        script_dir = dir;
+        snprintf(label, sizeof label, "%s", o->script);
+    }
+    if (recipe) pfr_script_digest(o->script, digest);
+    if (o->out && pfr_make_folders(o->out) != 0)
+        return pfr_usage_error("cannot create the output folder %s: %s", o->out, strerror(errno));
+    pfr_limits lim;
+    memset(&lim, 0, sizeof lim);
+    lim.cap = o->memory_cap ? o->memory_cap : PFR_DEFAULT_LUA_HEAP;
+    lua_State *L = lua_newstate(pfr_limits_alloc, &lim);
     if (!L) {
         fprintf(stderr, "psiflight: cannot create a Lua state (out of memory)\n");
         return PFR_EXIT_LIMIT;
     }
-    int status = PFR_EXIT_OK;
-    lua_pushcfunction(L, message_handler);
+    lua_atpanic(L, panic);
+    lua_pushcfunction(L, pfr_traceback);
     int handler = lua_gettop(L);
+    run_setup rs = {o, script_dir, label, digest};
     lua_pushcfunction(L, prepare);
-    lua_pushlightuserdata(L, (void *)o);
+    lua_pushlightuserdata(L, &rs);
     if (lua_pcall(L, 1, 0, handler) != LUA_OK) {
         fprintf(stderr, "psiflight: %s\n", lua_tostring(L, -1));
         lua_close(L);
         return PFR_EXIT_USAGE;
     }
-    if (luaL_loadfile(L, o->script) != LUA_OK) {
-        /* Syntax errors already carry file:line; a missing file is a usage error. */
+    int nargs = load_script(L, o, recipe);
+    int status;
+    if (nargs < 0) {
+        /* Syntax errors already carry file:line. */
         const char *msg = lua_tostring(L, -1);
-        int missing = msg && strstr(msg, "cannot open") != NULL;
-        fprintf(stderr, "psiflight: %s\n", msg);
-        lua_close(L);
-        return missing ? PFR_EXIT_USAGE : PFR_EXIT_SCRIPT;
-    }
-    if (lua_pcall(L, 0, 0, handler) != LUA_OK) {
-        const char *full = lua_tostring(L, -1);
-        /* Our kind is recorded against the bare message, before the traceback. */
-        const char *tb = full ? strstr(full, "\nstack traceback:") : NULL;
-        lua_pushlstring(L, full ? full : "", tb ? (size_t)(tb - full) : (full ? strlen(full) : 0));
-        status = exit_for_kind(pfl_error_kind_of(L, -1));
-        lua_pop(L, 1);
-        fprintf(stderr, "psiflight: %s\n", full ? full : "error");
+        fprintf(stderr, "psiflight: %s\n", msg ? msg : "cannot load the script");
+        status = msg && strstr(msg, "attempt to load a binary chunk") ? PFR_EXIT_SANDBOX : PFR_EXIT_SCRIPT;
+    } else {
+        status = execute(L, o, &lim, handler, nargs);
     }
     fflush(stdout);
     lua_close(L);
     return status;
+}
+
+/* `psiflight recipe`: lists the bundled recipes with their one-line summary
+ * (the first comment line of each file, after the " - "). */
+static int list_recipes(void)
+{
+    printf("Bundled recipes (run: psiflight run recipe:NAME [--help] [--set NAME=VALUE]...;\n"
+           "use from a script: require \"" PFR_RECIPE_PREFIX "NAME\"):\n");
+    for (const pfr_bundled_recipe *r = pfr_bundled_recipes; r->name; r++) {
+        if (strcmp(r->name, "common") == 0) continue; /* helpers, not a recipe */
+        const char *s = (const char *)r->source;
+        const char *dash = strstr(s, " - ");
+        const char *eol = strchr(s, '\n');
+        if (!dash || (eol && dash > eol)) dash = NULL;
+        int len = dash ? (int)((eol ? eol : dash + strlen(dash)) - (dash + 3)) : 0;
+        printf("  %-18s %.*s\n", r->name, len, dash ? dash + 3 : "");
+    }
+    return PFR_EXIT_OK;
 }
 
 int pfr_main(int argc, char **argv)
@@ -223,21 +289,31 @@ int pfr_main(int argc, char **argv)
     /* Numbers are printed and parsed in the C locale whatever the user's
      * environment says, so output is identical everywhere. */
     setlocale(LC_ALL, "C");
-    if (argc >= 2 && (strcmp(argv[1], "--version") == 0)) {
+    if (argc >= 2 && strcmp(argv[1], "--version") == 0) {
         printf("psiflight %s\n", PF_VERSION);
         return PFR_EXIT_OK;
     }
     if (argc >= 2 && (strcmp(argv[1], "--help") == 0 || strcmp(argv[1], "-h") == 0)) {
-        usage(stdout);
+        pfr_usage(stdout);
         return PFR_EXIT_OK;
     }
-    if (argc < 2 || strcmp(argv[1], "run") != 0) {
-        usage(stderr);
+    if (argc < 2) {
+        pfr_usage(stderr);
         return PFR_EXIT_USAGE;
     }
+    const char *cmd = argv[1];
+    if (strcmp(cmd, "recipe") == 0 && argc == 2) return list_recipes();
+    if (strcmp(cmd, "run") != 0 && strcmp(cmd, "sweep") != 0 && strcmp(cmd, "recipe") != 0)
+        return pfr_usage_error("unknown command '%s'", cmd);
     pfr_options o;
-    int st = parse_options(argc, argv, &o);
-    if (st == PFR_EXIT_OK) st = run_script(&o);
-    free(o.sets);
+    int st = pfr_options_parse(argc, argv, 2, cmd, &o);
+    char script[PATH_MAX + 16];
+    if (st == PFR_EXIT_OK && strcmp(cmd, "recipe") == 0) {
+        /* psiflight recipe NAME ... is psiflight run recipe:NAME ... */
+        snprintf(script, sizeof script, "%s%s", PFR_RECIPE_SCHEME, o.script);
+        o.script = script;
+    }
+    if (st == PFR_EXIT_OK) st = strcmp(cmd, "sweep") == 0 ? pfr_sweep_main(&o, argv[0]) : pfr_run_script(&o);
+    pfr_options_free(&o);
     return st;
 }

@@ -21,7 +21,7 @@ printf 'local pf = require "psiflight"\nlocal g = pf.grid{points = 64, span = 1e
 expect_status 1 "script error exits 1" "$runner" run "$tmp/line3.lua"
 grep -q 'line3.lua:3:' "$tmp/err" && ok "error names the script line :3:" || bad "no :3: in: $(cat "$tmp/err")"
 grep -q "mass" "$tmp/err" && grep -q -- "-2" "$tmp/err" && ok "error names the field and the bad value" || bad "message lacks field/value"
-grep -q 'stack traceback' "$tmp/err" && ok "traceback on stderr" || bad "no traceback"
+grep -q 'script traceback:' "$tmp/err" && grep -q 'line3.lua:3: in main chunk' "$tmp/err" && ok "script traceback on stderr" || bad "no traceback"
 [ ! -s "$tmp/out" ] && ok "nothing on stdout for a failed script" || bad "stdout not empty"
 
 printf 'print(1)\nlocal x = = 2\n' > "$tmp/syntax.lua"

@@ -1,0 +1,133 @@
+-- mach_zehnder.lua - three-pulse light-pulse interferometer (pi/2 - pi - pi/2) with momentum kicks and free flights
+--
+-- A cloud is split, reflected and recombined by three light pulses separated
+-- by free flights of duration T; each pulse couples the momentum classes p
+-- and p + hbar k_eff (two-photon transitions, k_eff = 2 x 2 pi / lambda for
+-- counter-propagating beams).  The last pulse's laser phase is scanned; the
+-- fraction in the upper output port follows P = (1 - cos phi) / 2 with
+-- phi = phi1 - 2 phi2 + phi3 + k_eff a T^2 (M. Kasevich and S. Chu, Phys.
+-- Rev. Lett. 67, 181 (1991)).
+--
+-- Scalar approximation (documented in docs/recipes/mach_zehnder.md): the
+-- internal state is not tracked - it is tagged by the momentum class, as for
+-- Bragg pulses; each pulse is instantaneous and ideal (area pi/2 or pi times
+-- `area_scale`, no velocity selectivity, no light shift, no spontaneous
+-- emission) and acts on the pairs (k, k + k_eff) with k in
+-- [k_eff / 2 - k_eff, k_eff / 2); the acceleration a enters through the laser
+-- phase seen in the freely falling frame, phi_i + k_eff a t_i^2 / 2.  Outputs
+-- are model predictions; a real sensor needs the full model and calibration.
+local pf = require "psiflight"
+local common = require "psiflight.recipes.common"
+
+local recipe = {name = "mach_zehnder"}
+
+recipe.parameters = {
+  mass = {default = 132.905451961, unit = "u", help = "particle mass"},
+  wavelength = {default = 852.3, unit = "nm", help = "laser wavelength (k_eff = 4 pi / wavelength)"},
+  T = {default = 0.5, unit = "ms", help = "free flight between pulses"},
+  accel = {default = 9.80665, unit = "m/s2", help = "acceleration along the beams"},
+  sigma = {default = 3, unit = "um", help = "rms width of the initial cloud"},
+  area_scale = {default = 1.0, help = "pulse areas relative to pi/2 and pi (1: ideal)", min = 0},
+  phase_steps = {default = 12, help = "laser phases of the last pulse scanned over 2 pi", min = 1, max = 10000},
+  max_points = {default = 8192, help = "largest grid size", min = 64, max = 1048576},
+}
+
+-- Applies one pulse of area theta and laser phase phi in momentum space:
+-- lower' = cos(theta/2) lower + i sin(theta/2) e^{-i phi} upper(k + k_eff)
+-- upper' = cos(theta/2) upper + i sin(theta/2) e^{+i phi} lower(k - k_eff)
+local function pulse(w, shift, kc, theta, phi)
+  local g = w:grid()
+  local n = g:points(1)
+  local c, s = math.cos(theta / 2), math.sin(theta / 2)
+  local up = pf.polar(s, phi + math.pi / 2)    -- i s e^{i phi}
+  local down = pf.polar(s, -phi + math.pi / 2) -- i s e^{-i phi}
+  for j = 1, n - shift do
+    local kj, km = g:k(1, j), g:k(1, j + shift)
+    if kj < kc and km >= kc then
+      local lo, hi = w:phi(j), w:phi(j + shift)
+      w:set_phi(j, lo * c + hi * down)
+      w:set_phi(j + shift, hi * c + lo * up)
+    end
+  end
+  return w
+end
+
+local function upper_fraction(w, kc)
+  local g = w:grid()
+  local rho = w:momentum_density()
+  local dk = g:kspacing(1)
+  local up, total = 0, 0
+  for j = 1, g:points(1) do
+    local v = rho[j] * dk
+    total = total + v
+    if g:k(1, j) >= kc then up = up + v end
+  end
+  return up / total
+end
+
+function recipe.run(p)
+  local keff = 4 * math.pi / p.wavelength
+  -- Span: the arms separate by hbar k_eff T / m; hold that plus 12 sigma.
+  -- The span is a whole number of lattice periods (2 pi / k_eff), so k_eff is
+  -- an exact multiple of the grid's k spacing and a kick is an index shift.
+  local vrec = common.hbar * keff / p.mass
+  local span = vrec * p.T + 12 * p.sigma + 2 * common.hbar * 2 * p.T / (2 * p.mass * p.sigma)
+  local cells = math.ceil(span * keff / (2 * math.pi))
+  span = cells * 2 * math.pi / keff
+  -- Resolve k up to k_eff plus 10 momentum widths (1 / 2 sigma).
+  local kneed = keff + 10 / (2 * p.sigma)
+  local n = common.pow2(2 * kneed * span / (2 * math.pi))
+  if n > p.max_points then
+    error(string.format("mach_zehnder: needs %d grid points; raise max_points or shorten T", n), 0)
+  end
+  local grid = pf.grid{points = n, span = span}
+  local shift = math.floor(keff / grid:kspacing(1) + 0.5)
+  local kc = keff / 2
+  local s2 = p.sigma * p.sigma
+  local start = pf.wave(grid, {mass = p.mass, position = function(x) return math.exp(-x * x / (4 * s2)) end})
+  local half, full = p.area_scale * math.pi / 2, p.area_scale * math.pi
+  local gphase = function(t) return keff * p.accel * t * t / 2 end
+  local scan = {}
+  for j = 0, p.phase_steps - 1 do
+    local phi3 = 2 * math.pi * j / p.phase_steps
+    local w = start:copy()
+    pulse(w, shift, kc, half, gphase(0))
+    w:fly(p.T)
+    pulse(w, shift, kc, full, gphase(p.T))
+    w:fly(p.T)
+    pulse(w, shift, kc, half, phi3 + gphase(2 * p.T))
+    scan[#scan + 1] = {phase = phi3, upper = upper_fraction(w, kc)}
+    w:close()
+  end
+  local lo, hi = math.huge, -math.huge
+  for _, s in ipairs(scan) do lo = math.min(lo, s.upper); hi = math.max(hi, s.upper) end
+  local gravity_phase = keff * p.accel * p.T * p.T
+  return {
+    scan = scan, points = n, span = span, shift = shift, keff = keff,
+    results = {
+      k_eff = {keff, "1/m"},
+      gravity_phase = {gravity_phase, "rad"},
+      gravity_phase_mod_2pi = {gravity_phase % (2 * math.pi), "rad"},
+      arm_separation = {vrec * p.T, "m"},
+      fringe_contrast = {(hi - lo) / (hi + lo), ""},
+      upper_fraction_phase0 = {scan[1].upper, ""},
+    },
+  }
+end
+
+function recipe.main(p)
+  local out = recipe.run(p)
+  print(string.format("mach_zehnder: %d points over %.4g um (kick = %d k steps), T = %.4g ms",
+    out.points, out.span * 1e6, out.shift, p.T * 1e3))
+  print("  phase3 (rad)   upper fraction   (1 - cos(phase3 + k_eff a T^2)) / 2")
+  local gp = out.results.gravity_phase[1]
+  for _, s in ipairs(out.scan) do
+    print(string.format("  %11.6f   %14.10f   %14.10f", s.phase, s.upper, (1 - math.cos(s.phase + gp)) / 2))
+  end
+  for _, name in ipairs(common.sorted_keys(out.results)) do
+    common.report(name, out.results[name][1], out.results[name][2])
+  end
+  return out
+end
+
+return recipe
