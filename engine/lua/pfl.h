@@ -173,5 +173,12 @@ void pfl_open_record(lua_State *L, int mod);
 void pfl_open_files(lua_State *L, int mod);
 void pfl_open_pictures(lua_State *L, int mod);
 void pfl_open_progress(lua_State *L, int mod);
+/* Measurements, detectors, ensembles (issue 6; helpers in pfl_measure.h). */
+void pfl_open_random(lua_State *L, int mod);
+void pfl_open_ensemble(lua_State *L, int mod);
+void pfl_open_measure(lua_State *L, int mod);
+void pfl_open_distrib(lua_State *L, int mod);
+void pfl_open_flux(lua_State *L, int mod);
+void pfl_open_detector(lua_State *L, int mod);
 
 #endif
