@@ -149,6 +149,8 @@ typedef enum pfl_access { PFL_ACCESS_READ = 0, PFL_ACCESS_WRITE = 1 } pfl_access
  * every path is allowed (the module loaded outside the runner, --trusted).
  * Returns 0, or -1 when path cannot be resolved (errno set). */
 int pfl_files_allow(lua_State *L, const char *path, pfl_access access);
+/* True when a policy is in force (the runner's sandbox), false otherwise. */
+int pfl_files_enforced(lua_State *L);
 /* Raises a sandbox error naming op and path unless the policy allows the
  * access: no ".." component, and the resolved path (symbolic links followed)
  * inside an allowed root. */
@@ -171,6 +173,13 @@ void pfl_open_record(lua_State *L, int mod);
 void pfl_open_files(lua_State *L, int mod);
 void pfl_open_pictures(lua_State *L, int mod);
 void pfl_open_progress(lua_State *L, int mod);
+/* Measurements, detectors, ensembles (issue 6; helpers in pfl_measure.h). */
+void pfl_open_random(lua_State *L, int mod);
+void pfl_open_ensemble(lua_State *L, int mod);
+void pfl_open_measure(lua_State *L, int mod);
+void pfl_open_distrib(lua_State *L, int mod);
+void pfl_open_flux(lua_State *L, int mod);
+void pfl_open_detector(lua_State *L, int mod);
 void pfl_open_ops(lua_State *L, int mod);     /* issue 4: pulses, masks, shifts */
 void pfl_open_evolve(lua_State *L, int mod);  /* issue 4: fall, evolve, relax */
 

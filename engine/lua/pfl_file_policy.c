@@ -66,6 +66,12 @@ int pfl_files_allow(lua_State *L, const char *path, pfl_access access)
     return 0;
 }
 
+int pfl_files_enforced(lua_State *L)
+{
+    file_policy *p = get_policy(L, 0);
+    return p && p->count > 0;
+}
+
 static int has_dotdot(const char *path)
 {
     for (const char *s = path; (s = strstr(s, "..")) != NULL; s += 2) {

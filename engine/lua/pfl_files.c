@@ -307,6 +307,7 @@ static pf_table *new_table_box(lua_State *L)
 static int l_read_csv(lua_State *L)
 {
     const char *path = luaL_checkstring(L, 1);
+    pfl_files_check(L, path, PFL_ACCESS_READ, "read_csv");
     pf_table *t = new_table_box(L);
     pfl_check(L, pf_csv_read(pfl_ctx(L), path, t), "read_csv");
     push_table(L, t);
@@ -438,6 +439,7 @@ static pf_grid *grid_from_samples(lua_State *L, const pf_samples *s, const char 
 static int l_load_wave(lua_State *L)
 {
     const char *path = luaL_checkstring(L, 1);
+    pfl_files_check(L, path, PFL_ACCESS_READ, "load_wave");
     lua_settop(L, 2);
     if (lua_isnil(L, 2)) {
         lua_newtable(L);

@@ -24,6 +24,12 @@ static const pfl_opener openers[] = {
     pfl_open_files,
     pfl_open_pictures,
     pfl_open_progress,
+    pfl_open_random,
+    pfl_open_ensemble, /* before the measurement groups, which add to it */
+    pfl_open_measure,
+    pfl_open_distrib,
+    pfl_open_flux,
+    pfl_open_detector,
     pfl_open_ops,
     pfl_open_evolve,
 };

@@ -12,6 +12,7 @@
 #include "../core/pf_version.h"
 #include "../io/pf_manifest.h"
 #include "../io/pf_sha256.h"
+#include "../io/pf_safefile.h"
 #include "pfl.h"
 
 typedef struct pfl_result {
@@ -22,6 +23,7 @@ typedef struct pfl_result {
 typedef struct pfl_record {
     char *script;        /* script path from the runner, NULL: unknown */
     char script_sha256[65]; /* its digest when the runner knows it, "" otherwise */
+    int default_allowed;    /* the default output folder joined the sandbox's roots */
     int quiet, overwrite;
     char *folder;        /* output folder, fixed at the first write */
     char **outputs;      /* final paths of committed files, in order */
@@ -142,6 +144,8 @@ const char *pfl_output_resolve(lua_State *L, const char *path, const char *fname
         return NULL;
     }
     if (path[0] == '/') {
+        /* Outside the output folder: only where the sandbox allows. */
+        pfl_files_check(L, path, PFL_ACCESS_WRITE, fname);
         lua_pushstring(L, path);
         return lua_tostring(L, -1);
     }
@@ -158,8 +162,21 @@ const char *pfl_output_resolve(lua_State *L, const char *path, const char *fname
         if (*p == '/') p++;
     }
     while (path[0] == '.' && path[1] == '/') path += 2;
-    lua_pushfstring(L, "%s/%s", run_folder(L, r), path);
-    return lua_tostring(L, -1);
+    const char *folder = run_folder(L, r);
+    lua_pushfstring(L, "%s/%s", folder, path);
+    const char *full = lua_tostring(L, -1);
+    if (pfl_files_enforced(L)) {
+        /* The sandbox resolves the file's folder, so it must exist first.
+         * The default folder (no --out) is the engine's choice, not the
+         * script's, so it joins the allowed roots once created. */
+        pfl_check(L, pf_make_folders(pfl_ctx(L), full), fname);
+        if (!pfl_output_dir(L) && !r->default_allowed) {
+            pfl_files_allow(L, folder, PFL_ACCESS_WRITE);
+            r->default_allowed = 1;
+        }
+        pfl_files_check(L, full, PFL_ACCESS_WRITE, fname);
+    }
+    return full;
 }
 
 void pfl_output_register(lua_State *L, const char *final_path)

@@ -17,7 +17,8 @@ run() { "$runner" run "$rec/hostile.lua" --out "$work/out" --set out="$work/out"
 
 line_of() { grep -n "^  $1 = " "$rec/hostile.lua" | cut -d: -f1; }
 for e in exec popen read_outside write_dotdot read_symlink write_symlink_dir loadlib c_module symlinked_module \
-         binary_chunk dofile_outside loadfile_outside remove_outside getenv sethook wisdom move_output; do
+         binary_chunk dofile_outside loadfile_outside remove_outside getenv sethook wisdom \
+         engine_write_outside engine_read_outside engine_h5_outside move_output; do
   expect 4 "sandbox refuses $e" -- run --set escape="$e"
   has "hostile.lua:$(line_of "$e"):" "$e: the error names the script line"
 done
@@ -26,7 +27,8 @@ expect 4 "os.execute refusal" -- run --set escape=exec
 has "os.execute is not allowed in the sandbox" "names os.execute"
 expect 4 "reading a symlink out" -- run --set escape=read_symlink
 has "resolves to $work/secret.txt" "says where the link leads"
-[ ! -e "$work/escaped.txt" ] && [ ! -e "$work/outside_dir/planted.txt" ] && ok "nothing was written outside"
+[ ! -e "$work/escaped.txt" ] && [ ! -e "$work/outside_dir/planted.txt" ] && [ ! -e "$work/secret.txt.csv" ] \
+  && [ ! -e "$work/secret.txt.h5" ] && ok "nothing was written outside"
 [ -e "$work/secret.txt" ] && ok "the outside file was not removed"
 expect 5 "unbounded Lua allocation hits the heap cap" -- run --set escape=allocate --memory-cap 64MiB
 has "memory limit" "says it is the memory limit"

@@ -27,6 +27,9 @@ local tries = {
   sethook = function() debug.sethook() end,
   wisdom = function() pf.setup{wisdom = p.target} end,
   move_output = function() pf.setup{output_dir = p.target} end,
+  engine_write_outside = function() pf.write_csv(p.target .. ".csv", {{name = "x", unit = "m", values = {1}}}) end,
+  engine_read_outside = function() pf.read_csv(p.target) end,
+  engine_h5_outside = function() pf.h5file(p.target .. ".h5") end,
   allocate = function() local t = {} while true do t[#t + 1] = string.rep("x", 1 << 20) .. #t end end,
   engine_allocate = function()
     local g = pf.grid{points = {256, 256, 256}, span = 1e-4}

@@ -1,0 +1,36 @@
+/* pf_flux.h - probability current, flux through a detector plane, the
+ * probability beyond a plane, and arrival-time distributions.
+ *
+ * The plane is x_axis = at, perpendicular to one grid axis, at any position
+ * (not only grid points).  All three use the band-limited (trigonometric)
+ * interpolant of the grid state, psi(x) = sum_m S_m exp(i k_m (x - x0)),
+ * which is the function the exact momentum-space flight evolves; for it the
+ * continuity equation d/dt P_beyond = J holds exactly, so flux and
+ * probability agree to rounding.  On an axis with an even point count the
+ * Nyquist amplitude is split evenly between +k_N and -k_N (both get the same
+ * flight phase), so a real state has a real interpolant and zero current, as
+ * is usual for spectral derivatives.  The far side of "beyond" is the periodic
+ * cell edge x0 + span - dx/2 (the state must be negligible there). */
+#ifndef PF_FLUX_H
+#define PF_FLUX_H
+
+#include "pf_wave.h"
+
+/* Probability current j_axis = (hbar/m) Im(conj(psi) d psi/dx_axis) at every
+ * position grid point (1/(s m^(d-1))), into out (pf_grid_total doubles,
+ * natural order).  The derivative is spectral (i k in momentum space). */
+pf_status pf_wave_current(pf_wave *w, int axis, double *out);
+/* Flux through the plane (1/s): the current integrated over the plane,
+ * J = (hbar/m) integral Im(conj(psi) d psi/dx_axis) dA.  Positive along +axis.
+ * Leaves the wave in momentum representation. */
+pf_status pf_wave_flux(pf_wave *w, int axis, double at, double *flux);
+/* Probability in at <= x_axis < far cell edge (band-limited integral; cost
+ * grows as n_axis^2 times the transverse point count). */
+pf_status pf_wave_beyond(pf_wave *w, int axis, double at, double *probability);
+/* Flux through the plane at the times t_k = clock + start + k dt,
+ * k = 0..count-1, into flux[k].  The wave itself is not changed: a copy is
+ * flown in steps of dt (the flight phase table is made once and reused), and
+ * only the plane is evaluated at each step. */
+pf_status pf_wave_arrival(pf_wave *w, int axis, double at, double start, double dt, size_t count, double *flux);
+
+#endif

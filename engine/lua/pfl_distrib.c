@@ -1,0 +1,380 @@
+/* pfl_distrib.c - distributions with axes (full densities, marginals,
+ * column densities, slices, radial profiles), Born-rule sampling of events,
+ * histograms and fringe analysis, for wave functions and ensembles. */
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+#include "../core/pf_constants.h"
+#include "../core/pf_fringe.h"
+#include "../core/pf_sample.h"
+#include "pfl_measure.h"
+
+/* Unit strings and lab scale of a density field of dim axes. */
+static void density_units(pf_rep rep, int dim, double mass, char *unit, char *lab_unit, double *scale)
+{
+    if (rep == PF_POSITION) {
+        snprintf(unit, 32, dim == 1 ? "1/m" : "1/m^%d", dim);
+        snprintf(lab_unit, 32, dim == 1 ? "1/um" : "1/um^%d", dim);
+        *scale = pow(1e-6, dim);
+    } else {
+        snprintf(unit, 32, dim == 1 ? "m" : "m^%d", dim);
+        snprintf(lab_unit, 32, dim == 1 ? "1/(mm/s)" : "1/(mm/s)^%d", dim);
+        *scale = pow(mass / PF_HBAR * 1e-3, dim);
+    }
+}
+
+static void push_density_field(lua_State *L, const pf_field *f, pf_rep rep, double mass)
+{
+    char unit[32], lab[32];
+    double scale;
+    density_units(rep, f->dim, mass, unit, lab, &scale);
+    pfl_push_field(L, f, rep, mass, unit, scale, lab);
+}
+
+static int opts_at(lua_State *L, int idx)
+{
+    if (lua_isnoneornil(L, idx)) return 0;
+    luaL_checktype(L, idx, LUA_TTABLE);
+    return idx;
+}
+
+/* s:distribution([{space=}]) -> the full density with axes. */
+static int l_distribution(lua_State *L)
+{
+    int opts = opts_at(L, 2);
+    pfl_source src;
+    pfl_check_source(L, 1, &src);
+    pf_rep rep = pfl_opt_space(L, opts);
+    pf_field f;
+    pfl_source_field(L, &src, rep, &f, "distribution");
+    push_density_field(L, &f, rep, pfl_source_mass(&src));
+    pf_field_free(&f);
+    return 1;
+}
+
+/* Marginal keeping the axes flagged in keep; pushes the table. */
+static int push_marginal(lua_State *L, const pfl_source *src, pf_rep rep, const int *keep, const char *name)
+{
+    pf_field f, m;
+    pfl_source_field(L, src, rep, &f, name);
+    pf_status s = pf_field_marginal(&f, keep, &m);
+    pf_field_free(&f);
+    pfl_check(L, s, name);
+    push_density_field(L, &m, rep, pfl_source_mass(src));
+    pf_field_free(&m);
+    return 1;
+}
+
+/* s:profile(axis [, {space=}]) -> 1D marginal along one axis. */
+static int l_profile(lua_State *L)
+{
+    int opts = opts_at(L, 3);
+    pfl_source src;
+    pfl_check_source(L, 1, &src);
+    int d = pf_grid_dim(pfl_source_grid(&src));
+    lua_Integer a = luaL_checkinteger(L, 2);
+    if (a < 1 || a > d) return luaL_argerror(L, 2, lua_pushfstring(L, "axis must be 1..%d", d));
+    int keep[PF_MAX_DIM] = {0, 0, 0};
+    keep[a - 1] = 1;
+    return push_marginal(L, &src, pfl_opt_space(L, opts), keep, "profile");
+}
+
+/* s:marginal{axes = {..}, space=} -> density integrated over the other axes. */
+static int l_marginal(lua_State *L)
+{
+    luaL_checktype(L, 2, LUA_TTABLE);
+    pfl_source src;
+    pfl_check_source(L, 1, &src);
+    int d = pf_grid_dim(pfl_source_grid(&src));
+    int keep[PF_MAX_DIM] = {0, 0, 0};
+    if (lua_getfield(L, 2, "axes") != LUA_TTABLE) return luaL_error(L, "marginal: field 'axes' must list the axes to keep");
+    lua_Integer n = luaL_len(L, -1);
+    for (lua_Integer i = 1; i <= n; i++) {
+        lua_geti(L, -1, i);
+        lua_Integer a = lua_tointeger(L, -1);
+        if (a < 1 || a > d) return luaL_error(L, "marginal: axis %d is not 1..%d", (int)a, d);
+        keep[a - 1] = 1;
+        lua_pop(L, 1);
+    }
+    lua_pop(L, 1);
+    return push_marginal(L, &src, pfl_opt_space(L, 2), keep, "marginal");
+}
+
+/* s:column_density([axis]) -> density integrated along the imaging axis
+ * (default: the last axis), per m^(d-1), as absorption imaging sees it. */
+static int l_column_density(lua_State *L)
+{
+    pfl_source src;
+    pfl_check_source(L, 1, &src);
+    int d = pf_grid_dim(pfl_source_grid(&src));
+    if (d < 2) return luaL_error(L, "column_density: needs a 2D or 3D state");
+    lua_Integer a = luaL_optinteger(L, 2, d);
+    if (a < 1 || a > d) return luaL_argerror(L, 2, lua_pushfstring(L, "imaging axis must be 1..%d", d));
+    int keep[PF_MAX_DIM] = {1, 1, 1};
+    keep[a - 1] = 0;
+    return push_marginal(L, &src, PF_POSITION, keep, "column_density");
+}
+
+/* s:slice{axes = {free axes}, through = {point}, space=} -> density along the
+ * free axes, the others held at the grid points nearest to 'through'. */
+static int l_slice(lua_State *L)
+{
+    luaL_checktype(L, 2, LUA_TTABLE);
+    pfl_source src;
+    pfl_check_source(L, 1, &src);
+    int d = pf_grid_dim(pfl_source_grid(&src));
+    pf_rep rep = pfl_opt_space(L, 2);
+    int freeax[PF_MAX_DIM] = {0, 0, 0};
+    if (lua_getfield(L, 2, "axes") != LUA_TTABLE) return luaL_error(L, "slice: field 'axes' must list the free axes");
+    lua_Integer n = luaL_len(L, -1);
+    for (lua_Integer i = 1; i <= n; i++) {
+        lua_geti(L, -1, i);
+        lua_Integer a = lua_tointeger(L, -1);
+        if (a < 1 || a > d) return luaL_error(L, "slice: axis %d is not 1..%d", (int)a, d);
+        freeax[a - 1] = 1;
+        lua_pop(L, 1);
+    }
+    lua_pop(L, 1);
+    double through[PF_MAX_DIM] = {0, 0, 0};
+    pfl_field_vector(L, 2, "through", d, through, 0);
+    pf_field f, sl;
+    pfl_source_field(L, &src, rep, &f, "slice");
+    size_t fixed[PF_MAX_DIM];
+    for (int a = 0; a < d; a++) fixed[a] = freeax[a] ? PF_FREE_AXIS : pf_field_nearest(&f, a, through[a]);
+    pf_status s = pf_field_slice(&f, fixed, &sl);
+    pf_field_free(&f);
+    pfl_check(L, s, "slice");
+    /* A slice keeps the full density's unit (per m^d of the whole grid). */
+    char unit[32], lab[32];
+    double scale;
+    density_units(rep, d, pfl_source_mass(&src), unit, lab, &scale);
+    pfl_push_field(L, &sl, rep, pfl_source_mass(&src), unit, scale, lab);
+    pf_field_free(&sl);
+    return 1;
+}
+
+/* s:radial_profile{center = {..}, bin = dr, bins = n, space=}
+ * -> {radius = {..}, values = {..}, count = {..}, unit, axis_unit} */
+static int l_radial_profile(lua_State *L)
+{
+    luaL_checktype(L, 2, LUA_TTABLE);
+    pfl_source src;
+    pfl_check_source(L, 1, &src);
+    int d = pf_grid_dim(pfl_source_grid(&src));
+    pf_rep rep = pfl_opt_space(L, 2);
+    double center[PF_MAX_DIM] = {0, 0, 0};
+    pfl_field_vector(L, 2, "center", d, center, 0);
+    double bin = pfl_field_number(L, 2, "bin", 0, 1);
+    double bins = pfl_field_number(L, 2, "bins", 0, 1);
+    if (!(bin > 0)) return luaL_error(L, "radial_profile: field 'bin' must be positive, got %f", bin);
+    if (bins < 1 || bins > 1e7 || bins != floor(bins)) return luaL_error(L, "radial_profile: field 'bins' must be a count");
+    size_t nb = (size_t)bins;
+    double *prof = lua_newuserdatauv(L, 2 * nb * sizeof(double), 0), *cnt = prof + nb;
+    pf_field f;
+    pfl_source_field(L, &src, rep, &f, "radial_profile");
+    pf_status s = pf_field_radial(&f, center, bin, nb, prof, cnt);
+    pf_field_free(&f);
+    pfl_check(L, s, "radial_profile");
+    lua_createtable(L, 0, 5);
+    double *r = lua_newuserdatauv(L, nb * sizeof(double), 0);
+    for (size_t b = 0; b < nb; b++) r[b] = (b + 0.5) * bin;
+    pfl_push_doubles(L, r, nb);
+    lua_setfield(L, -3, "radius");
+    lua_pop(L, 1);
+    pfl_push_doubles(L, prof, nb);
+    lua_setfield(L, -2, "values");
+    pfl_push_doubles(L, cnt, nb);
+    lua_setfield(L, -2, "count");
+    char unit[32], lab[32];
+    double scale;
+    density_units(rep, d, pfl_source_mass(&src), unit, lab, &scale);
+    lua_pushstring(L, unit);
+    lua_setfield(L, -2, "unit");
+    lua_pushstring(L, rep == PF_POSITION ? "m" : "1/m");
+    lua_setfield(L, -2, "axis_unit");
+    return 1;
+}
+
+/* s:sample(n [, {space=, jitter=true, seed=, generator=}])
+ * -> {count = n, space, unit, [1] = coordinates on axis 1, [2] = ...} */
+static int l_sample(lua_State *L)
+{
+    int opts = opts_at(L, 3);
+    pfl_source src;
+    pfl_check_source(L, 1, &src);
+    lua_Integer n = luaL_checkinteger(L, 2);
+    if (n < 0 || n > 100000000) return luaL_argerror(L, 2, "event count must be 0..1e8");
+    pf_rep rep = pfl_opt_space(L, opts);
+    int jitter = opts ? pfl_field_boolean(L, opts, "jitter", 1) : 1;
+    pf_rng local;
+    pf_rng *rng = pfl_opt_rng(L, opts, &local);
+    pf_field f;
+    pfl_source_field(L, &src, rep, &f, "sample");
+    int d = f.dim;
+    /* Events go into a Lua-owned buffer, so nothing leaks if a table
+     * allocation below raises. */
+    double *ev = lua_newuserdatauv(L, (size_t)(n ? n : 1) * (size_t)d * sizeof(double), 0);
+    pf_sampler sm;
+    pf_status s = pf_sampler_init(&sm, &f);
+    if (s == PF_OK) {
+        pf_sampler_draw(&sm, rng, (size_t)n, jitter, ev);
+        pf_sampler_free(&sm);
+    }
+    pf_field_free(&f);
+    pfl_check(L, s, "sample");
+    lua_createtable(L, d, 4);
+    for (int a = 0; a < d; a++) {
+        lua_createtable(L, (int)n, 0);
+        for (lua_Integer e = 0; e < n; e++) {
+            lua_pushnumber(L, ev[(size_t)e * (size_t)d + (size_t)a]);
+            lua_rawseti(L, -2, e + 1);
+        }
+        lua_rawseti(L, -2, a + 1);
+    }
+    lua_pushinteger(L, n);
+    lua_setfield(L, -2, "count");
+    lua_pushstring(L, rep == PF_POSITION ? "position" : "momentum");
+    lua_setfield(L, -2, "space");
+    lua_pushstring(L, rep == PF_POSITION ? "m" : "1/m");
+    lua_setfield(L, -2, "unit");
+    if (rep == PF_MOMENTUM) {
+        /* Wave numbers times these give momenta (kg m/s) and velocities (m/s). */
+        lua_pushnumber(L, PF_HBAR);
+        lua_setfield(L, -2, "to_momentum");
+        lua_pushnumber(L, PF_HBAR / pfl_source_mass(&src));
+        lua_setfield(L, -2, "to_velocity");
+    }
+    return 1;
+}
+
+/* pf.histogram(values, {from=, to=, bins=}) -> {counts, edges, centers, outside} */
+static int l_histogram(lua_State *L)
+{
+    size_t n;
+    double *v = pfl_check_doubles(L, 1, &n, "histogram values");
+    luaL_checktype(L, 2, LUA_TTABLE);
+    double lo = pfl_field_number(L, 2, "from", 0, 1), hi = pfl_field_number(L, 2, "to", 0, 1);
+    double bins = pfl_field_number(L, 2, "bins", 0, 1);
+    if (!(hi > lo)) return luaL_error(L, "histogram: needs from < to, got %f and %f", lo, hi);
+    if (bins < 1 || bins > 1e7 || bins != floor(bins)) return luaL_error(L, "histogram: field 'bins' must be a count");
+    size_t nb = (size_t)bins;
+    double *c = lua_newuserdatauv(L, (2 * nb + 1) * sizeof(double), 0);
+    memset(c, 0, (2 * nb + 1) * sizeof(double));
+    double outside = 0, w = (hi - lo) / (double)nb;
+    for (size_t i = 0; i < n; i++) {
+        double b = floor((v[i] - lo) / w);
+        if (b < 0 || b >= (double)nb) outside++;
+        else c[(size_t)b]++;
+    }
+    lua_createtable(L, 0, 4);
+    pfl_push_doubles(L, c, nb);
+    lua_setfield(L, -2, "counts");
+    double *e = c + nb;
+    for (size_t b = 0; b <= nb; b++) e[b] = lo + (double)b * w;
+    pfl_push_doubles(L, e, nb + 1);
+    lua_setfield(L, -2, "edges");
+    for (size_t b = 0; b < nb; b++) e[b] = lo + ((double)b + 0.5) * w;
+    pfl_push_doubles(L, e, nb);
+    lua_setfield(L, -2, "centers");
+    lua_pushnumber(L, outside);
+    lua_setfield(L, -2, "outside");
+    return 1;
+}
+
+static void push_fit(lua_State *L, const pf_fringe_fit *fit)
+{
+    lua_createtable(L, 0, 7);
+    lua_pushnumber(L, fit->period);
+    lua_setfield(L, -2, "period");
+    lua_pushnumber(L, fit->wavenumber);
+    lua_setfield(L, -2, "wavenumber");
+    lua_pushnumber(L, fit->visibility);
+    lua_setfield(L, -2, "visibility");
+    lua_pushnumber(L, fit->phase);
+    lua_setfield(L, -2, "phase");
+    lua_pushnumber(L, fit->offset);
+    lua_setfield(L, -2, "offset");
+    lua_pushnumber(L, fit->amplitude);
+    lua_setfield(L, -2, "amplitude");
+    lua_pushinteger(L, (lua_Integer)fit->points);
+    lua_setfield(L, -2, "points");
+}
+
+/* pf.fringes(coords, values [, {from=, to=, period=}]) -> fit table */
+static int l_fringes_fn(lua_State *L)
+{
+    size_t nx, ny;
+    double *x = pfl_check_doubles(L, 1, &nx, "fringes coordinates");
+    double *y = pfl_check_doubles(L, 2, &ny, "fringes values");
+    if (nx != ny) return luaL_error(L, "fringes: %d coordinates but %d values", (int)nx, (int)ny);
+    int opts = opts_at(L, 3);
+    double lo = -INFINITY, hi = INFINITY, guess = 0;
+    if (opts) {
+        lo = pfl_field_number(L, opts, "from", -INFINITY, 0);
+        hi = pfl_field_number(L, opts, "to", INFINITY, 0);
+        guess = pfl_field_number(L, opts, "period", 0, 0);
+    }
+    if (!isfinite(lo) || !isfinite(hi)) {
+        double mn = INFINITY, mx = -INFINITY;
+        for (size_t i = 0; i < nx; i++) {
+            mn = fmin(mn, x[i]);
+            mx = fmax(mx, x[i]);
+        }
+        if (!isfinite(lo)) lo = mn;
+        if (!isfinite(hi)) hi = mx;
+    }
+    pf_fringe_fit fit;
+    pfl_check(L, pf_fringe_analyse(pfl_ctx(L), x, y, nx, lo, hi, guess, &fit), "fringes");
+    push_fit(L, &fit);
+    return 1;
+}
+
+/* s:fringes{axis=, from=, to=, period=} -> fit of the profile along axis. */
+static int l_fringes(lua_State *L)
+{
+    int opts = opts_at(L, 2);
+    pfl_source src;
+    pfl_check_source(L, 1, &src);
+    pf_grid *g = pfl_source_grid(&src);
+    int d = pf_grid_dim(g);
+    int axis = pfl_opt_axis(L, opts, "axis", d, 1) - 1;
+    double lo = pf_grid_x(g, axis, 0), hi = pf_grid_x(g, axis, pf_grid_points(g, axis) - 1), guess = 0;
+    if (opts) {
+        lo = pfl_field_number(L, opts, "from", lo, 0);
+        hi = pfl_field_number(L, opts, "to", hi, 0);
+        guess = pfl_field_number(L, opts, "period", 0, 0);
+    }
+    int keep[PF_MAX_DIM] = {0, 0, 0};
+    keep[axis] = 1;
+    pf_field f, m;
+    pfl_source_field(L, &src, PF_POSITION, &f, "fringes");
+    pf_status s = pf_field_marginal(&f, keep, &m);
+    pf_field_free(&f);
+    pfl_check(L, s, "fringes");
+    size_t n = m.n[0];
+    double *x = malloc(n * sizeof *x);
+    if (!x) {
+        pf_field_free(&m);
+        return luaL_error(L, "fringes: out of memory");
+    }
+    for (size_t j = 0; j < n; j++) x[j] = pf_field_coord(&m, 0, j);
+    pf_fringe_fit fit;
+    s = pf_fringe_analyse(pfl_ctx(L), x, m.values, n, lo, hi, guess, &fit);
+    free(x);
+    pf_field_free(&m);
+    pfl_check(L, s, "fringes");
+    push_fit(L, &fit);
+    return 1;
+}
+
+void pfl_open_distrib(lua_State *L, int mod)
+{
+    static const luaL_Reg methods[] = {
+        {"distribution", l_distribution}, {"profile", l_profile}, {"marginal", l_marginal},
+        {"column_density", l_column_density}, {"slice", l_slice}, {"radial_profile", l_radial_profile},
+        {"sample", l_sample}, {"fringes", l_fringes}, {NULL, NULL},
+    };
+    static const luaL_Reg funcs[] = {{"histogram", l_histogram}, {"fringes", l_fringes_fn}, {NULL, NULL}};
+    pfl_add_state_methods(L, methods);
+    pfl_add_functions(L, mod, funcs);
+}

@@ -1,0 +1,193 @@
+/* pfl_flux.c - probability current, plane flux, arrival-time distributions
+ * and Wigner functions, for wave functions and ensembles (weighted sums). */
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+#include "../core/pf_constants.h"
+#include "../core/pf_flux.h"
+#include "../core/pf_wigner.h"
+#include "pfl_measure.h"
+
+/* Reads {axis = a, at = x} into a 0-based axis and a plane position. */
+static void plane_opts(lua_State *L, int opts, int dim, int *axis, double *at)
+{
+    luaL_checktype(L, opts, LUA_TTABLE);
+    *axis = pfl_opt_axis(L, opts, "axis", dim, 1) - 1;
+    *at = pfl_field_number(L, opts, "at", 0, 1);
+}
+
+/* s:current(axis) -> distribution table of j_axis (1/(s m^(d-1))). */
+static int l_current(lua_State *L)
+{
+    pfl_source src;
+    pfl_check_source(L, 1, &src);
+    pf_grid *g = pfl_source_grid(&src);
+    int d = pf_grid_dim(g);
+    lua_Integer a = luaL_optinteger(L, 2, 1);
+    if (a < 1 || a > d) return luaL_argerror(L, 2, lua_pushfstring(L, "axis must be 1..%d", d));
+    pf_field f;
+    pfl_check(L, pf_field_for_grid(g, PF_POSITION, &f), "current");
+    double *j = malloc(f.total * sizeof *j);
+    pf_status s = j ? PF_OK : pf_fail(pfl_ctx(L), PF_ENOMEM, "out of memory for the current");
+    for (size_t i = 0; i < src.mix.count && !s; i++) {
+        s = pf_wave_current(src.mix.members[i], (int)a - 1, j);
+        for (size_t k = 0; !s && k < f.total; k++) f.values[k] += src.mix.weights[i] * j[k];
+    }
+    free(j);
+    if (s) {
+        pf_field_free(&f);
+        pfl_check(L, s, "current");
+    }
+    char unit[32], lab[32];
+    snprintf(unit, sizeof unit, d == 1 ? "1/s" : "1/(s m^%d)", d - 1);
+    snprintf(lab, sizeof lab, d == 1 ? "1/ms" : "1/(ms um^%d)", d - 1);
+    pfl_push_field(L, &f, PF_POSITION, pfl_source_mass(&src), unit, 1e-3 * pow(1e-6, d - 1), lab);
+    pf_field_free(&f);
+    return 1;
+}
+
+/* s:flux{axis=, at=} -> probability per second crossing the plane (+axis). */
+static int l_flux(lua_State *L)
+{
+    pfl_source src;
+    pfl_check_source(L, 1, &src);
+    int axis;
+    double at, total = 0;
+    plane_opts(L, 2, pf_grid_dim(pfl_source_grid(&src)), &axis, &at);
+    for (size_t i = 0; i < src.mix.count; i++) {
+        double J;
+        pfl_check(L, pf_wave_flux(src.mix.members[i], axis, at, &J), "flux");
+        total += src.mix.weights[i] * J;
+    }
+    lua_pushnumber(L, total);
+    return 1;
+}
+
+/* s:beyond{axis=, at=} -> probability between the plane and the far edge. */
+static int l_beyond(lua_State *L)
+{
+    pfl_source src;
+    pfl_check_source(L, 1, &src);
+    int axis;
+    double at, total = 0;
+    plane_opts(L, 2, pf_grid_dim(pfl_source_grid(&src)), &axis, &at);
+    for (size_t i = 0; i < src.mix.count; i++) {
+        double P;
+        pfl_check(L, pf_wave_beyond(src.mix.members[i], axis, at, &P), "beyond");
+        total += src.mix.weights[i] * P;
+    }
+    lua_pushnumber(L, total);
+    return 1;
+}
+
+/* s:arrival_times{axis=, at=, from = t0, to = t1, steps = n}
+ * -> {time = {..} (s, after the state's clock), time_ms, flux = {..} (1/s),
+ *     arrived = integral of the flux over the window (Simpson for an odd
+ *     number of times, else trapezoid), unit} */
+static int l_arrival_times(lua_State *L)
+{
+    pfl_source src;
+    pfl_check_source(L, 1, &src);
+    int axis;
+    double at;
+    plane_opts(L, 2, pf_grid_dim(pfl_source_grid(&src)), &axis, &at);
+    double t0 = pfl_field_number(L, 2, "from", 0, 0), t1 = pfl_field_number(L, 2, "to", 0, 1);
+    double steps = pfl_field_number(L, 2, "steps", 201, 0);
+    if (!(t1 > t0)) return luaL_error(L, "arrival_times: needs from < to, got %f and %f s", t0, t1);
+    if (steps < 2 || steps > 1e7 || steps != floor(steps)) return luaL_error(L, "arrival_times: 'steps' must be a count >= 2");
+    size_t n = (size_t)steps;
+    double dt = (t1 - t0) / (double)(n - 1);
+    double *acc = lua_newuserdatauv(L, 2 * n * sizeof(double), 0), *one = acc + n;
+    memset(acc, 0, n * sizeof(double));
+    for (size_t i = 0; i < src.mix.count; i++) {
+        pfl_check(L, pf_wave_arrival(src.mix.members[i], axis, at, t0, dt, n, one), "arrival_times");
+        for (size_t k = 0; k < n; k++) acc[k] += src.mix.weights[i] * one[k];
+    }
+    lua_createtable(L, 0, 6);
+    for (size_t k = 0; k < n; k++) one[k] = t0 + (double)k * dt;
+    pfl_push_doubles(L, one, n);
+    lua_setfield(L, -2, "time");
+    for (size_t k = 0; k < n; k++) one[k] *= 1e3;
+    pfl_push_doubles(L, one, n);
+    lua_setfield(L, -2, "time_ms");
+    pfl_push_doubles(L, acc, n);
+    lua_setfield(L, -2, "flux");
+    /* Simpson's rule for an even number of intervals (error ~ dt^4), else
+     * the trapezoid rule (error ~ dt^2). */
+    double arrived = 0;
+    if ((n - 1) % 2 == 0) {
+        arrived = acc[0] + acc[n - 1];
+        for (size_t k = 1; k + 1 < n; k++) arrived += (k % 2 ? 4.0 : 2.0) * acc[k];
+        arrived *= dt / 3.0;
+    } else {
+        for (size_t k = 0; k + 1 < n; k++) arrived += 0.5 * (acc[k] + acc[k + 1]) * dt;
+    }
+    lua_pushnumber(L, arrived);
+    lua_setfield(L, -2, "arrived");
+    lua_pushliteral(L, "1/s");
+    lua_setfield(L, -2, "unit");
+    return 1;
+}
+
+/* s:wigner{axis=, through = {point (m)}, reduced = false}
+ * -> {values (W(x, p), row-major x then p), shape, x, p, k, unit} */
+static int l_wigner(lua_State *L)
+{
+    int opts = lua_isnoneornil(L, 2) ? 0 : 2;
+    if (opts) luaL_checktype(L, 2, LUA_TTABLE);
+    pfl_source src;
+    pfl_check_source(L, 1, &src);
+    pf_grid *g = pfl_source_grid(&src);
+    int d = pf_grid_dim(g);
+    int axis = pfl_opt_axis(L, opts, "axis", d, 1) - 1;
+    int reduced = opts ? pfl_field_boolean(L, opts, "reduced", 0) : 0;
+    double through[PF_MAX_DIM] = {0, 0, 0};
+    if (opts) pfl_field_vector(L, opts, "through", d, through, 0);
+    size_t idx[PF_MAX_DIM] = {0, 0, 0};
+    for (int a = 0; a < d; a++) {
+        double j = nearbyint((through[a] - pf_grid_x(g, a, 0)) / pf_grid_spacing(g, a));
+        if (j < 0) j = 0;
+        if (j > (double)pf_grid_points(g, a) - 1) j = (double)pf_grid_points(g, a) - 1;
+        idx[a] = (size_t)j;
+    }
+    size_t n = pf_grid_points(g, axis);
+    if (n > 8192) return luaL_error(L, "wigner: %d points on the axis make a table too large", (int)n);
+    double *W = lua_newuserdatauv(L, n * n * sizeof(double), 0);
+    for (size_t i = 0; i < src.mix.count; i++)
+        pfl_check(L, pf_wave_wigner(src.mix.members[i], axis, reduced ? PF_WIGNER_REDUCED : PF_WIGNER_CUT, idx,
+                                    src.mix.weights[i], i > 0, W),
+                  "wigner");
+    for (size_t i = 0; i < n * n; i++) W[i] /= PF_HBAR; /* W(x, p) = W(x, k) / hbar */
+    lua_createtable(L, 0, 7);
+    pfl_push_doubles(L, W, n * n);
+    lua_setfield(L, -2, "values");
+    lua_createtable(L, 2, 0);
+    lua_pushinteger(L, (lua_Integer)n);
+    lua_rawseti(L, -2, 1);
+    lua_pushinteger(L, (lua_Integer)n);
+    lua_rawseti(L, -2, 2);
+    lua_setfield(L, -2, "shape");
+    double *ax = W; /* reuse the buffer for the axes */
+    for (size_t j = 0; j < n; j++) ax[j] = pf_grid_x(g, axis, j);
+    pfl_push_doubles(L, ax, n);
+    lua_setfield(L, -2, "x");
+    for (size_t j = 0; j < n; j++) ax[j] = pf_grid_k(g, axis, pf_grid_fft_index(g, axis, j));
+    pfl_push_doubles(L, ax, n);
+    lua_setfield(L, -2, "k");
+    for (size_t j = 0; j < n; j++) ax[j] *= PF_HBAR;
+    pfl_push_doubles(L, ax, n);
+    lua_setfield(L, -2, "p");
+    lua_pushliteral(L, "1/(J s)");
+    lua_setfield(L, -2, "unit");
+    return 1;
+}
+
+void pfl_open_flux(lua_State *L, int mod)
+{
+    (void)mod;
+    static const luaL_Reg methods[] = {
+        {"current", l_current}, {"flux", l_flux}, {"beyond", l_beyond},
+        {"arrival_times", l_arrival_times}, {"wigner", l_wigner}, {NULL, NULL},
+    };
+    pfl_add_state_methods(L, methods);
+}
