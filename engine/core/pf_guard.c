@@ -35,19 +35,18 @@ size_t pf_guard_band_points(size_t n)
     return b ? b : 1;
 }
 
-/* Index on axis a of band point q (0 <= q < 2b).  Position: the first b and
- * the last b points.  Momentum (FFT storage order): ascending k starts at
- * storage index ceil(n/2), so the b most negative and b most positive k form
- * the contiguous storage range [ceil(n/2) - b, ceil(n/2) + b). */
-static size_t band_index(pf_rep rep, size_t n, size_t b, size_t q)
-{
-    if (rep == PF_MOMENTUM) return (n + 1) / 2 - b + q;
-    return q < b ? q : n - 2 * b + q;
-}
+/* Band layout.  Position: the first b and the last b points of the axis.
+ * Momentum (FFT storage order): ascending k starts at storage index
+ * ceil(n/2), so the b most negative and b most positive k form the
+ * contiguous storage range [ceil(n/2) - b, ceil(n/2) + b). */
 
-/* Sum of |z|^2 over the band of axis a, reading band points only: the data
- * are seen as outer x n_a x inner, and the band is 2b slabs of `inner`
- * contiguous values for each outer index. */
+/* Sum of |z|^2 over the band of axis a, reading band points only.  Seen as
+ * outer x n_a x inner, the band is, for each outer index, one contiguous run
+ * (momentum: the ascending-order ends meet in the middle of FFT storage) or
+ * two (position: both ends) of b * inner values.  The concatenated runs are
+ * cut into GUARD_CHUNKS fixed pieces, summed in parallel and added in piece
+ * order, so the figure does not depend on the thread count; inside a piece
+ * the loop is over contiguous memory, with one division per run. */
 static double band_sum(const pf_wave *w, int a)
 {
     const pf_grid *g = w->grid;
@@ -55,18 +54,24 @@ static double band_sum(const pf_wave *w, int a)
     for (int i = 0; i < a; i++) outer *= g->n[i];
     for (int i = a + 1; i < g->dim; i++) inner *= g->n[i];
     const size_t n = g->n[a], b = pf_guard_band_points(n);
-    const size_t segments = outer * 2 * b;
     const pf_rep rep = w->rep;
+    const size_t per_outer = rep == PF_MOMENTUM ? 1 : 2;
+    const size_t run = (rep == PF_MOMENTUM ? 2 * b : b) * inner;
+    const size_t total = outer * per_outer * run;
     const double complex *z = w->data;
     double part[GUARD_CHUNKS];
 #pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
     for (int c = 0; c < GUARD_CHUNKS; c++) {
-        size_t s0 = segments * (size_t)c / GUARD_CHUNKS, s1 = segments * (size_t)(c + 1) / GUARD_CHUNKS;
+        size_t e = total * (size_t)c / GUARD_CHUNKS, e1 = total * (size_t)(c + 1) / GUARD_CHUNKS;
         double acc = 0;
-        for (size_t s = s0; s < s1; s++) {
-            size_t o = s / (2 * b), q = s % (2 * b);
-            const double complex *seg = z + (o * n + band_index(rep, n, b, q)) * inner;
-            for (size_t i = 0; i < inner; i++) acc += creal(seg[i]) * creal(seg[i]) + cimag(seg[i]) * cimag(seg[i]);
+        while (e < e1) {
+            size_t r = e / run, off = e % run;
+            size_t o = r / per_outer, which = r % per_outer;
+            size_t first = rep == PF_MOMENTUM ? (n + 1) / 2 - b : (which ? n - b : 0);
+            const double complex *seg = z + (o * n + first) * inner + off;
+            size_t len = run - off < e1 - e ? run - off : e1 - e;
+            for (size_t i = 0; i < len; i++) acc += creal(seg[i]) * creal(seg[i]) + cimag(seg[i]) * cimag(seg[i]);
+            e += len;
         }
         part[c] = acc;
     }
