@@ -106,7 +106,11 @@ void pfl_check(lua_State *L, pf_status s, const char *name)
     }
     if (st->pending) {
         char text[1400];
-        snprintf(text, sizeof text, "%s: strict mode: %s", name, st->pending_text);
+        /* Warnings often name their function already; say it once. */
+        size_t len = strlen(name);
+        const char *rest = st->pending_text;
+        if (strncmp(rest, name, len) == 0 && rest[len] == ':' && rest[len + 1] == ' ') rest += len + 2;
+        snprintf(text, sizeof text, "%s: strict mode: %s", name, rest);
         st->pending = 0;
         raise_kind(L, st, PFL_ERROR_GUARD, text);
     }

@@ -484,9 +484,11 @@ static int l_kinetic_energy(lua_State *L)
 
 /* Upvalue 1: method name.  Calls the wave method on every member with the
  * same arguments.  A method that returns the member itself (an in-place
- * step) makes the call return the ensemble; numbers are averaged with the
- * weights (right for quantities linear in the state's density matrix, such
- * as probabilities removed by a mask). */
+ * step) makes the call return the ensemble, followed by the weighted means
+ * of any further numeric results (a mask's `w, removed` gives `e, removed`);
+ * other methods return the weighted means of their numeric results.  Means
+ * are right for quantities linear in the density matrix, such as the
+ * probability a mask removes. */
 static int forward_call(lua_State *L)
 {
     const char *name = lua_tostring(L, lua_upvalueindex(1));
@@ -497,7 +499,7 @@ static int forward_call(lua_State *L)
     int mt = lua_gettop(L);
     lua_getiuservalue(L, 1, 2);
     int wt = lua_gettop(L);
-    int inplace = 1, nres = -1;
+    int inplace = -1, nres = -1;
     double acc[8] = {0};
     for (lua_Integer i = 1; i <= n; i++) {
         lua_geti(L, mt, i);
@@ -509,28 +511,27 @@ static int forward_call(lua_State *L)
         lua_call(L, nargs + 1, LUA_MULTRET);
         int got = lua_gettop(L) - base;
         int self = got >= 1 && lua_rawequal(L, base + 1, member);
-        if (!self) inplace = 0;
-        if (!self) {
-            if (nres < 0) nres = got > 8 ? 8 : got;
-            lua_geti(L, wt, i);
-            double w = lua_tonumber(L, -1);
-            lua_pop(L, 1);
-            for (int r = 0; r < nres; r++) {
-                if (lua_type(L, base + 1 + r) != LUA_TNUMBER)
-                    return luaL_error(L, "ensemble: method '%s' returns a %s, which cannot be averaged over members; "
-                                      "use e:distribution() for densities, or e:each(function(w, weight) ... end)",
-                                      name, luaL_typename(L, base + 1 + r));
-                acc[r] += w * lua_tonumber(L, base + 1 + r);
-            }
+        if (inplace < 0) inplace = self;
+        if (self != inplace)
+            return luaL_error(L, "ensemble: method '%s' returned the member for some members and not others", name);
+        int first = base + 1 + self, count = got - self;
+        if (nres < 0) nres = count > 8 ? 8 : count;
+        lua_geti(L, wt, i);
+        double w = lua_tonumber(L, -1);
+        lua_pop(L, 1);
+        for (int r = 0; r < nres; r++) {
+            if (lua_type(L, first + r) != LUA_TNUMBER)
+                return luaL_error(L, "ensemble: method '%s' returns a %s, which cannot be averaged over members; "
+                                  "use e:distribution() for densities, or e:each(function(w, weight) ... end)",
+                                  name, luaL_typename(L, first + r));
+            acc[r] += w * lua_tonumber(L, first + r);
         }
         lua_settop(L, wt);
     }
-    if (inplace) {
-        lua_settop(L, 1);
-        return 1;
-    }
+    if (nres < 0) nres = 0;
+    if (inplace == 1) lua_pushvalue(L, 1);
     for (int r = 0; r < nres; r++) lua_pushnumber(L, acc[r]);
-    return nres;
+    return (inplace == 1) + nres;
 }
 
 /* __index: own methods first, else a forwarder for a wave method. */

@@ -122,6 +122,15 @@ check.equal(mix:fly(1e-3), mix, "forwarded fly returns the ensemble")
 check.near(mix:member(1):clock(), 1e-3, 1e-15, "forwarded step reached the members", "API contract")
 check.close(wa:clock(), 0, 0, "mixture members are copies", "API contract")
 check.fails(function() mix:density() end, "table results are not averaged", "cannot be averaged", "distribution")
+-- A mask on a mixture removes the weighted mean of what it removes from each
+-- member (probability is linear in the density matrix; common practice).
+local sa, sb = wa:copy(), wb:copy()
+local _, ra = sa:slit{width = 20e-6}
+local _, rb = sb:slit{width = 20e-6}
+local smix = pf.mixture({wa, wb}, {1, 3})
+local back, removed = smix:slit{width = 20e-6}
+check.equal(back, smix, "a forwarded mask returns the ensemble first")
+check.near(removed, 0.25 * ra + 0.75 * rb, 1e-12, "mixture removes the weighted mean", "linearity of the trace")
 
 -- Thermal cloud released from a trap: Maxwell-Boltzmann expansion
 -- sigma^2(t) = sigma^2(0) + kB T t^2 / m (standard result), valid to 1e-3
