@@ -87,6 +87,12 @@ size_t pf_bytes(size_t count, size_t size);
 /* Makes (or remakes at a new thread count) the grid's forward and backward
  * plans.  Planning uses a scratch array, never wave data. */
 pf_status pf_grid_plan(pf_grid *g);
+/* Evaluates fn at every point of the grid's position (natural order) or
+ * momentum (FFT storage order) coordinates into out (pf_grid_total values),
+ * dividing each value by prod_a divide[a][index_a] when divide is not NULL.
+ * Returns PF_ECALLBACK as soon as fn reports failure. */
+pf_status pf_grid_sample(const pf_grid *g, pf_rep rep, pf_sample_fn fn, void *user, const double complex *const *divide,
+                         double complex *out);
 /* Executes the in-place forward or backward plan on data (new-array execute). */
 pf_status pf_grid_fft(pf_grid *g, double complex *data, int sign);
 

@@ -146,21 +146,10 @@ static pf_status sample_field(pf_wave *w, pf_rep rep, pf_sample_fn fn, void *use
     size_t bytes = pf_bytes(g->total, sizeof(double complex));
     double complex *f = pf_alloc(g->ctx, bytes);
     if (!f) return g->ctx->message[0] ? PF_ELIMIT : PF_ENOMEM;
-    size_t idx[PF_MAX_DIM] = {0, 0, 0};
-    double coord[PF_MAX_DIM] = {0, 0, 0};
-    for (size_t off = 0; off < g->total; off++) {
-        size_t rest = off;
-        for (int a = g->dim - 1; a >= 0; a--) {
-            idx[a] = rest % g->n[a];
-            rest /= g->n[a];
-            coord[a] = rep == PF_POSITION ? g->x[a][idx[a]] : g->k[a][idx[a]];
-        }
-        double complex v = 0;
-        if (fn(user, coord, &v) != 0) {
-            pf_free(g->ctx, f, bytes);
-            return PF_ECALLBACK;
-        }
-        f[off] = v;
+    pf_status s = pf_grid_sample(g, rep, fn, user, NULL, f);
+    if (s) {
+        pf_free(g->ctx, f, bytes);
+        return s;
     }
     *out = f;
     return PF_OK;

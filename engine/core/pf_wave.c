@@ -115,9 +115,9 @@ static pf_status check_index(const pf_grid *g, const size_t *index)
     return PF_OK;
 }
 
-pf_status pf_wave_fill(pf_wave *w, pf_rep rep, pf_sample_fn fn, void *user)
+pf_status pf_grid_sample(const pf_grid *g, pf_rep rep, pf_sample_fn fn, void *user, const double complex *const *divide,
+                         double complex *out)
 {
-    pf_grid *g = w->grid;
     size_t idx[PF_MAX_DIM] = {0, 0, 0};
     double coord[PF_MAX_DIM] = {0, 0, 0};
     for (size_t off = 0; off < g->total; off++) {
@@ -129,15 +129,22 @@ pf_status pf_wave_fill(pf_wave *w, pf_rep rep, pf_sample_fn fn, void *user)
             coord[a] = rep == PF_POSITION ? g->x[a][idx[a]] : g->k[a][idx[a]];
         }
         double complex v = 0;
-        if (fn(user, coord, &v) != 0) {
-            w->rep = rep;
-            return PF_ECALLBACK;
-        }
-        if (rep == PF_MOMENTUM) v /= pf_wave_momentum_factor(w, idx);
-        w->data[off] = v;
+        if (fn(user, coord, &v) != 0) return PF_ECALLBACK;
+        if (divide)
+            for (int a = 0; a < g->dim; a++) v /= divide[a][idx[a]];
+        out[off] = v;
     }
-    w->rep = rep;
     return PF_OK;
+}
+
+pf_status pf_wave_fill(pf_wave *w, pf_rep rep, pf_sample_fn fn, void *user)
+{
+    const pf_grid *g = w->grid;
+    /* phi(k) values become storage values S = phi / prod c_a (pf_wave.h). */
+    pf_status s = pf_grid_sample(g, rep, fn, user, rep == PF_MOMENTUM ? (const double complex *const *)g->kfactor : NULL,
+                                 w->data);
+    w->rep = rep;
+    return s;
 }
 
 pf_status pf_wave_value(pf_wave *w, pf_rep rep, const size_t *index, double complex *out)
