@@ -67,16 +67,19 @@ function recipe.run(p)
   local before = beam:probability_in(pf.box{min = {-p.slit / 2}, max = {p.slit / 2}})
   local _, removed = recipe.apply_slit(beam, p.slit)
   local passed = (incident_norm - removed) / incident_norm
-  -- The passing part is renormalised only after the flight: the grid guard
-  -- judges the momentum content at the first transform after the mask
-  -- against the norm the mask step logged, and w:normalize logs no step.
-  local phi_after = beam:momentum_density()
-  beam:fly(t)
+  -- The passing part is renormalised only at the end, its densities scaled
+  -- here instead: the grid guard judges the state at each transform against
+  -- the norm last logged (the mask's, carried by the flight), and
+  -- w:normalize logs no step, so normalising earlier would inflate the
+  -- guard figures by 1 / transmitted.
   local kept = beam:norm()
-  beam:normalize()
+  local phi_after = beam:momentum_density()
   for j = 1, #phi_after do phi_after[j] = phi_after[j] / kept end
-  -- First minimum: the lowest density between 0.5 x1 and 1.5 x1.
+  beam:fly(t)
+  -- First minimum: the lowest density between 0.5 x1 and 1.5 x1 (the
+  -- position is unchanged by the normalisation).
   local xs, rho = grid:x_axis(1), beam:density()
+  beam:normalize()
   local best, xmin = math.huge, nil
   for i = 1, n do
     if xs[i] > 0.5 * x1 and xs[i] < 1.5 * x1 and rho[i] < best then best, xmin = rho[i], xs[i] end
