@@ -103,7 +103,7 @@ function recipe.run(p)
       gravity_phase = {gravity_phase, "rad"},
       gravity_phase_mod_2pi = {gravity_phase % (2 * math.pi), "rad"},
       arm_separation = {vrec * p.T, "m"},
-      fringe_contrast = {(hi - lo) / (hi + lo), ""},
+      fringe_contrast = {hi + lo > 0 and (hi - lo) / (hi + lo) or 0, ""}, -- no pulse area: no fringe
       upper_fraction_phase0 = {scan[1].upper, ""},
     },
   }
