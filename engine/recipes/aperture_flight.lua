@@ -2,8 +2,10 @@
 --
 -- Transverse model of a beam experiment: a wide transverse Gaussian (or a
 -- uniform wave when beam_width is 0) passes a slit of full width `slit`
--- centred on the axis; the part that passes is renormalised (the recipe
--- follows the particles that pass) and flies for t = distance / velocity.
+-- centred on the axis (the engine's hard mask w:slit, which logs the step
+-- and returns the probability it removed); the part that passes is
+-- renormalised (the recipe follows the particles that pass) and flies for
+-- t = distance / velocity.
 -- Results: the transmitted fraction, the Fresnel number
 -- F = (slit / 2)^2 / (lambda_dB distance) with lambda_dB = h / (m v), the
 -- position of the first diffraction minimum found in the flown density and
@@ -21,7 +23,7 @@ local common = require "psiflight.recipes.common"
 local recipe = {name = "aperture_flight"}
 
 recipe.parameters = {
-  mass = {default = 4.00260325413, unit = "u", help = "particle mass"},
+  mass = {default = common.mass_u("4He"), unit = "u", help = "particle mass"},
   velocity = {default = 1000, unit = "m/s", help = "beam velocity (sets the transverse flight time)"},
   distance = {default = 0.5, unit = "m", help = "slit-to-detector distance"},
   slit = {default = 2, unit = "um", help = "full width of the slit"},
@@ -30,14 +32,20 @@ recipe.parameters = {
   lobes = {default = 8, help = "far-field lobes the grid must hold each side", min = 2, max = 1000},
 }
 
--- Applies the slit: psi is kept inside |x| < slit / 2 and set to zero outside.
+-- Applies the slit with the engine's mask step: psi is kept where
+-- |x| <= width / 2 and set to zero elsewhere.  Returns the wave and the
+-- probability removed.
 function recipe.apply_slit(w, width)
-  local g = w:grid()
-  local xs = g:x_axis(1)
-  for i = 1, #xs do
-    if math.abs(xs[i]) >= width / 2 then w:set_psi(i, 0) end
-  end
-  return w
+  return w:slit{width = width}
+end
+
+-- The incident beam: a Gaussian of rms width beam_width (pf.gaussian), or a
+-- uniform wave for beam_width 0 (pf.sampled from two samples of the constant
+-- 1 at the ends of the grid, linearly interpolated: 1 at every point).
+local function incident(grid, mass, beam_width)
+  if beam_width > 0 then return pf.gaussian(grid, {mass = mass, width = beam_width}) end
+  local xs = grid:x_axis(1)
+  return pf.sampled(grid, {mass = mass, x = {xs[1], xs[#xs]}, values = {1, 1}})
 end
 
 function recipe.run(p)
@@ -48,22 +56,30 @@ function recipe.run(p)
   local span = math.max(2 * p.lobes * x1, 8 * p.beam_width)
   local n = common.pow2(span / dx)
   span = n * dx -- keep the spacing so the slit holds whole points
-  -- Grid points at half-integer multiples of dx: exactly points_per_slit of
-  -- them lie inside the slit, so the discrete slit has the full width.
-  local grid = pf.grid{points = n, span = span, origin = dx / 2}
-  local bw2 = p.beam_width * p.beam_width
-  local beam = pf.wave(grid, {
-    mass = p.mass,
-    position = function(x) return bw2 > 0 and math.exp(-x * x / (4 * bw2)) or 1 end,
-  })
-  local before = common.probability_between(beam, -p.slit / 2, p.slit / 2)
-  recipe.apply_slit(beam, p.slit)
-  local passed = beam:norm()
-  beam:normalize()
+  -- The slit edges at +-slit / 2 lie midway between grid points: points at
+  -- half-integer multiples of dx for an even count, integer multiples for an
+  -- odd one, so exactly points_per_slit points are open (the midpoint rule
+  -- for the mask) and the discrete slit has the full width.
+  local origin = p.points_per_slit % 2 == 0 and dx / 2 or 0
+  local grid = pf.grid{points = n, span = span, origin = origin}
+  local beam = incident(grid, p.mass, p.beam_width)
+  local incident_norm = beam:norm()
+  local before = beam:probability_in(pf.box{min = {-p.slit / 2}, max = {p.slit / 2}})
+  local _, removed = recipe.apply_slit(beam, p.slit)
+  local passed = (incident_norm - removed) / incident_norm
+  -- The passing part is renormalised only at the end, its densities scaled
+  -- here instead: the grid guard judges the state at each transform against
+  -- the norm last logged (the mask's, carried by the flight), and
+  -- w:normalize logs no step, so normalising earlier would inflate the
+  -- guard figures by 1 / transmitted.
+  local kept = beam:norm()
   local phi_after = beam:momentum_density()
+  for j = 1, #phi_after do phi_after[j] = phi_after[j] / kept end
   beam:fly(t)
-  -- First minimum: the lowest density between 0.5 x1 and 1.5 x1.
+  -- First minimum: the lowest density between 0.5 x1 and 1.5 x1 (the
+  -- position is unchanged by the normalisation).
   local xs, rho = grid:x_axis(1), beam:density()
+  beam:normalize()
   local best, xmin = math.huge, nil
   for i = 1, n do
     if xs[i] > 0.5 * x1 and xs[i] < 1.5 * x1 and rho[i] < best then best, xmin = rho[i], xs[i] end

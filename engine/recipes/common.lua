@@ -3,11 +3,19 @@
 local pf = require "psiflight"
 local common = {}
 
--- CODATA 2018 (h and e exact since the 2019 SI), atomic mass constant u.
-common.h = 6.62607015e-34
-common.hbar = common.h / (2 * math.pi)
-common.u = 1.66053906660e-27
-common.g = 9.80665 -- standard acceleration of gravity (CGPM 1901, exact)
+-- Constants from the engine's table (CODATA 2018, h exact since the 2019
+-- SI; standard gravity exact by definition, 3rd CGPM 1901), so recipes and
+-- the engine cannot disagree about a digit.
+common.h = pf.constants.h
+common.hbar = pf.constants.hbar
+common.u = pf.constants.u
+common.g = pf.constants.g_n
+
+-- Mass of a species from the engine's table (AME2020 atoms, CODATA 2018
+-- particles) in u, the unit recipe mass parameters are declared in.
+function common.mass_u(label)
+  return pf.species(label).mass_u
+end
 
 -- Merges parameter declaration tables (later ones win), so a script can
 -- declare a recipe's parameters together with its own in one pf.parameters.
@@ -50,21 +58,18 @@ function common.pow2(n, least)
   return p
 end
 
--- Probability in [a, b) of a 1D wave: each grid point stands for a cell of
--- width dx centred on it, counted with the fraction of the cell inside, so a
--- boundary between grid points moves the result smoothly (second-order
--- accurate in dx) instead of in steps of one cell.
+-- Probability in [a, b] of a 1D wave, from the engine's probability beyond
+-- a plane (w:beyond, evaluated on the band-limited interpolant of the grid
+-- state, so a boundary between grid points moves the result smoothly).
+-- Limits outside the box are clamped to its edges.  The engine's cost is
+-- quadratic in the number of points (it refuses above about 1.4e5).
 function common.probability_between(w, a, b)
   local g = w:grid()
-  local xs = g:x_axis(1)
-  local rho = w:density()
-  local dx = g:spacing(1)
-  local sum = 0
-  for i = 1, #xs do
-    local lo, hi = math.max(xs[i] - dx / 2, a), math.min(xs[i] + dx / 2, b)
-    if hi > lo then sum = sum + rho[i] * (hi - lo) end
-  end
-  return sum
+  local lo = g:x_axis(1)[1] - g:spacing(1) / 2
+  local hi = lo + g:span(1)
+  a, b = math.max(a, lo), math.min(b, hi)
+  if not (b > a) then return 0 end
+  return w:beyond{axis = 1, at = a} - w:beyond{axis = 1, at = b}
 end
 
 -- Sorted keys of a table, for deterministic output.

@@ -10,19 +10,24 @@
 --
 -- Scalar approximation (documented in docs/recipes/mach_zehnder.md): the
 -- internal state is not tracked - it is tagged by the momentum class, as for
--- Bragg pulses; each pulse is instantaneous and ideal (area pi/2 or pi times
--- `area_scale`, no velocity selectivity, no light shift, no spontaneous
--- emission) and acts on the pairs (k, k + k_eff) with k in
--- [k_eff / 2 - k_eff, k_eff / 2); the acceleration a enters through the laser
--- phase seen in the freely falling frame, phi_i + k_eff a t_i^2 / 2.  Outputs
--- are model predictions; a real sensor needs the full model and calibration.
+-- Bragg pulses.  The two classes (p and p + hbar k_eff) are held as two wave
+-- functions on one grid, `lower` and `upper`, whose sum is the scalar state;
+-- they never overlap in momentum (the grid keeps them 10 momentum widths
+-- from each other's edges).  Each pulse is instantaneous and ideal (area
+-- pi/2 or pi times `area_scale`, no velocity selectivity, no light shift, no
+-- spontaneous emission) and is made of native engine steps: exact momentum
+-- kicks of +-k_eff (w:kick; k_eff is a multiple of the grid's k spacing)
+-- and the wave arithmetic (w:copy, w:scale, w:add); the flights are w:fly.
+-- The acceleration a enters through the laser phase seen in the freely
+-- falling frame, phi_i + k_eff a t_i^2 / 2.  Outputs are model predictions;
+-- a real sensor needs the full model and calibration.
 local pf = require "psiflight"
 local common = require "psiflight.recipes.common"
 
 local recipe = {name = "mach_zehnder"}
 
 recipe.parameters = {
-  mass = {default = 132.905451961, unit = "u", help = "particle mass"},
+  mass = {default = common.mass_u("133Cs"), unit = "u", help = "particle mass"},
   wavelength = {default = 852.3, unit = "nm", help = "laser wavelength (k_eff = 4 pi / wavelength)"},
   T = {default = 0.5, unit = "ms", help = "free flight between pulses"},
   accel = {default = 9.80665, unit = "m/s2", help = "acceleration along the beams"},
@@ -32,37 +37,26 @@ recipe.parameters = {
   max_points = {default = 8192, help = "largest grid size", min = 64, max = 1048576},
 }
 
--- Applies one pulse of area theta and laser phase phi in momentum space:
+-- Applies one pulse of area theta and laser phase phi to the pair of
+-- classes (lower may stand alone before the first pulse: upper = nil):
 -- lower' = cos(theta/2) lower + i sin(theta/2) e^{-i phi} upper(k + k_eff)
 -- upper' = cos(theta/2) upper + i sin(theta/2) e^{+i phi} lower(k - k_eff)
-local function pulse(w, shift, kc, theta, phi)
-  local g = w:grid()
-  local n = g:points(1)
+-- Returns the new (lower, upper).
+local function pulse(lower, upper, keff, theta, phi)
   local c, s = math.cos(theta / 2), math.sin(theta / 2)
   local up = pf.polar(s, phi + math.pi / 2)    -- i s e^{i phi}
   local down = pf.polar(s, -phi + math.pi / 2) -- i s e^{-i phi}
-  for j = 1, n - shift do
-    local kj, km = g:k(1, j), g:k(1, j + shift)
-    if kj < kc and km >= kc then
-      local lo, hi = w:phi(j), w:phi(j + shift)
-      w:set_phi(j, lo * c + hi * down)
-      w:set_phi(j + shift, hi * c + lo * up)
-    end
+  local raised = lower:copy():kick(keff)       -- lower(k - k_eff): lower moved up by k_eff
+  local lowered = upper and upper:copy():kick(-keff)
+  lower:scale(c)
+  if lowered then lower:add(lowered, down); lowered:close() end
+  if upper then
+    upper:scale(c):add(raised, up)
+    raised:close()
+  else
+    upper = raised:scale(up)
   end
-  return w
-end
-
-local function upper_fraction(w, kc)
-  local g = w:grid()
-  local rho = w:momentum_density()
-  local dk = g:kspacing(1)
-  local up, total = 0, 0
-  for j = 1, g:points(1) do
-    local v = rho[j] * dk
-    total = total + v
-    if g:k(1, j) >= kc then up = up + v end
-  end
-  return up / total
+  return lower, upper
 end
 
 function recipe.run(p)
@@ -82,34 +76,34 @@ function recipe.run(p)
   end
   local grid = pf.grid{points = n, span = span}
   local shift = math.floor(keff / grid:kspacing(1) + 0.5)
-  local kc = keff / 2
-  local s2 = p.sigma * p.sigma
-  local start = pf.wave(grid, {mass = p.mass, position = function(x) return math.exp(-x * x / (4 * s2)) end})
+  local kick = shift * grid:kspacing(1) -- k_eff on the grid's k lattice
+  local start = pf.gaussian(grid, {mass = p.mass, width = p.sigma})
   local half, full = p.area_scale * math.pi / 2, p.area_scale * math.pi
   local gphase = function(t) return keff * p.accel * t * t / 2 end
-  local scan = {}
+  local scan, ports = {}, nil
+  -- The first two pulses and flights do not depend on the scanned phase.
+  local lower, upper = pulse(start, nil, kick, half, gphase(0))
+  lower:fly(p.T); upper:fly(p.T)
+  lower, upper = pulse(lower, upper, kick, full, gphase(p.T))
+  lower:fly(p.T); upper:fly(p.T)
   for j = 0, p.phase_steps - 1 do
     local phi3 = 2 * math.pi * j / p.phase_steps
-    local w = start:copy()
-    pulse(w, shift, kc, half, gphase(0))
-    w:fly(p.T)
-    pulse(w, shift, kc, full, gphase(p.T))
-    w:fly(p.T)
-    pulse(w, shift, kc, half, phi3 + gphase(2 * p.T))
-    scan[#scan + 1] = {phase = phi3, upper = upper_fraction(w, kc)}
-    w:close()
+    local lo, hi = pulse(lower:copy(), upper:copy(), kick, half, phi3 + gphase(2 * p.T))
+    local pu, pl = hi:norm(), lo:norm()
+    scan[#scan + 1] = {phase = phi3, upper = pu / (pu + pl)}
+    if j == 0 then ports = {lower = lo, upper = hi} else lo:close(); hi:close() end
   end
   local lo, hi = math.huge, -math.huge
   for _, s in ipairs(scan) do lo = math.min(lo, s.upper); hi = math.max(hi, s.upper) end
   local gravity_phase = keff * p.accel * p.T * p.T
   return {
-    scan = scan, points = n, span = span, shift = shift, keff = keff,
+    scan = scan, points = n, span = span, shift = shift, keff = keff, ports = ports,
     results = {
       k_eff = {keff, "1/m"},
       gravity_phase = {gravity_phase, "rad"},
       gravity_phase_mod_2pi = {gravity_phase % (2 * math.pi), "rad"},
       arm_separation = {vrec * p.T, "m"},
-      fringe_contrast = {(hi - lo) / (hi + lo), ""},
+      fringe_contrast = {hi + lo > 0 and (hi - lo) / (hi + lo) or 0, ""}, -- no pulse area: no fringe
       upper_fraction_phase0 = {scan[1].upper, ""},
     },
   }

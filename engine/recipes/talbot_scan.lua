@@ -9,6 +9,13 @@
 -- overlap of the density with the initial pattern and with the half-period
 -- shifted pattern (both normalised to 1 for a perfect image).
 --
+-- The grating-shaped wave is built natively in momentum space: the train
+-- sum_m exp(-(x - m d)^2 / (4 s^2)) has the Fourier series (Poisson
+-- summation) proportional to sum_n exp(-s^2 q_n^2) exp(i q_n x), q_n =
+-- 2 pi n / d, so pf.sampled{space = "momentum"} gets the coefficients at the
+-- orders q_n and zeros at their neighbouring grid wave numbers: exactly
+-- d-periodic with every image included, and no Lua call per grid point.
+--
 -- Model: the grid spans a whole number of periods and is periodic, which is
 -- an infinitely wide grating illuminated uniformly (no finite-beam edges,
 -- which in a real beam blur the revivals after a few T_T); free flight only.
@@ -18,7 +25,7 @@ local common = require "psiflight.recipes.common"
 local recipe = {name = "talbot_scan"}
 
 recipe.parameters = {
-  mass = {default = 6.0151228874, unit = "u", help = "particle mass"},
+  mass = {default = common.mass_u("6Li"), unit = "u", help = "particle mass"},
   period = {default = 2, unit = "um", help = "grating period d"},
   slit = {default = 0.15, unit = "um", help = "rms width of each Gaussian transmission window"},
   periods = {default = 8, help = "grating periods spanned by the grid", min = 1, max = 4096},
@@ -38,23 +45,39 @@ local function overlap(a, b, norm)
   return s / norm
 end
 
+-- The periodic train of Gaussian windows (rms width s of |psi|^2, one per
+-- period d) on a grid spanning P periods, from its Fourier coefficients.
+-- The grid's wave numbers are j dk with dk = 2 pi / (P d), so the orders
+-- q_n are the points j = n P; each order is sampled with its neighbours
+-- j +- 1 set to zero (when P > 1), so the linear interpolation of
+-- pf.sampled is zero at every other grid wave number.
+local function comb(grid, mass, d, s, P)
+  local dk = grid:kspacing(1)
+  local n = grid:points(1)
+  local jmin = math.floor(grid:k(1, 1) / dk + 0.5)
+  local jmax = math.floor(grid:k(1, n) / dk + 0.5)
+  local ks, vs, last = {}, {}, -math.huge
+  local function add(j, v)
+    if j > last and j >= jmin and j <= jmax then
+      ks[#ks + 1], vs[#vs + 1], last = j * dk, v, j
+    end
+  end
+  for o = P * math.ceil(jmin / P), jmax, P do
+    local q = o * dk
+    if P > 1 then add(o - 1, 0) end -- with P = 1 every grid wave number is an order
+    add(o, math.exp(-s * s * q * q))
+    if P > 1 then add(o + 1, 0) end
+  end
+  return pf.sampled(grid, {mass = mass, space = "momentum", k = ks, values = vs})
+end
+
 function recipe.run(p)
   local d, n = p.period, p.periods * p.points_per_period
   local grid = pf.grid{points = n, span = p.periods * d}
-  -- Periodic comb: each window summed over its nearest images, so the state
-  -- is exactly d-periodic on the periodic grid.
-  local function comb(x)
-    local u = x - d * math.floor(x / d + 0.5)
-    local a = 0
-    for m = -3, 3 do
-      local y = u - m * d
-      a = a + math.exp(-y * y / (4 * p.slit * p.slit))
-    end
-    return a
-  end
-  local wave = pf.wave(grid, {mass = p.mass, position = comb})
+  local start = comb(grid, p.mass, d, p.slit, p.periods)
+  local wave = start:copy()
   local rho0 = wave:density()
-  local shifted = pf.wave(grid, {mass = p.mass, position = function(x) return comb(x - d / 2) end}):density()
+  local shifted = start:copy():shift(d / 2):density()
   local norm = overlap(rho0, rho0, 1)
   local tt = recipe.talbot_time(p.mass, d)
   local scan = {}
@@ -67,11 +90,10 @@ function recipe.run(p)
     scan[#scan + 1] = {t = t, image = overlap(rho, rho0, norm), shifted = overlap(rho, shifted, norm)}
   end
   -- The revivals themselves, each by one exact flight from the start.
-  local start = pf.wave(grid, {mass = p.mass, position = comb})
   local half = start:copy():fly(tt / 2):density()
   local full = start:fly(tt):density()
   return {
-    scan = scan, talbot_time = tt, points = n,
+    scan = scan, talbot_time = tt, points = n, initial_density = rho0,
     results = {
       talbot_time = {tt, "s"},
       revival_overlap = {overlap(full, rho0, norm), ""},

@@ -1,11 +1,13 @@
 -- tof_image.lua - time-of-flight expansion of a trapped cloud imaged by a camera
 --
 -- A cloud starts in the ground state of an anisotropic harmonic trap (the
--- product of two Gaussians of width sqrt(hbar / 2 m omega)), is released, flies
--- freely for the time of flight and is imaged along the third axis: the 2D
--- density is binned into square camera pixels and scaled to an atom number.
--- Results: the cloud widths seen on the camera (second moments of the pixel
--- counts with Sheppard's correction for binning), the textbook
+-- engine's pf.ground_state: the product of two Gaussians of width
+-- sqrt(hbar / 2 m omega)), is released, flies freely for the time of flight
+-- and is imaged along the third axis by the engine's camera model
+-- (pf.camera, cam:expose without noise): the 2D density is integrated over
+-- square pixels whose edges coincide with grid-cell edges and scaled to an
+-- atom number.  Results: the cloud widths seen on the camera (second moments
+-- of the pixel counts with Sheppard's correction for binning), the textbook
 -- widths sigma(t) = sigma0 sqrt(1 + (hbar t / 2 m sigma0^2)^2), the aspect
 -- ratio and the brightest pixel.
 --
@@ -19,7 +21,7 @@ local common = require "psiflight.recipes.common"
 local recipe = {name = "tof_image"}
 
 recipe.parameters = {
-  mass = {default = 86.909180531, unit = "u", help = "particle mass"},
+  mass = {default = common.mass_u("87Rb"), unit = "u", help = "particle mass"},
   trap_x = {default = 120, unit = "Hz", help = "trap frequency along x (image horizontal)"},
   trap_y = {default = 40, unit = "Hz", help = "trap frequency along y (image vertical)"},
   tof = {default = 15, unit = "ms", help = "time of flight after release"},
@@ -53,28 +55,26 @@ local function axis_grid(mass, s0, t, pixel, max_points)
   return n, span, per_pixel
 end
 
--- Bins a 2D density into pixels of qx x qy grid cells (by index, so no
--- rounding can move a cell into the neighbouring pixel); returns the image
--- (rows of atom counts) and its size.
-local function camera_image(w, qx, qy, atoms)
+-- Images the cloud with the engine's camera: px x py pixels of the given
+-- pitch whose outer corner is the outer corner of grid cell 1, so pixel edges
+-- fall on cell edges and every pixel integrates q x q whole cells.  Returns
+-- the image as rows of atom counts (image[row][col], row = y pixel) and its
+-- size.
+local function camera_image(w, qx, qy, pixel, atoms)
   local g = w:grid()
   local nx, ny = g:points(1), g:points(2)
-  local dA = g:spacing(1) * g:spacing(2)
-  local rho = w:density() -- row-major, the last axis fastest: (i - 1) * ny + j
   local px, py = nx // qx, ny // qy
+  local cam = pf.camera{
+    pixels = {px, py}, pitch = pixel,
+    corner = {g:x_axis(1)[1] - g:spacing(1) / 2, g:x_axis(2)[1] - g:spacing(2) / 2},
+  }
+  local shot = cam:expose(w, {atoms = atoms, noise = false})
+  local v = shot.expected -- row-major over (x pixel, y pixel), y fastest
   local image = {}
   for r = 1, py do
     local row = {}
-    for c = 1, px do row[c] = 0 end
+    for c = 1, px do row[c] = v[(c - 1) * py + r] end
     image[r] = row
-  end
-  for i = 1, nx do
-    local c = (i - 1) // qx + 1
-    for j = 1, ny do
-      local r = (j - 1) // qy + 1
-      local row = image[r]
-      row[c] = row[c] + rho[(i - 1) * ny + j] * dA * atoms
-    end
   end
   return image, px, py
 end
@@ -109,17 +109,12 @@ function recipe.run(p)
   local nx, spanx, qx = axis_grid(p.mass, s0x, p.tof, p.pixel, p.max_points)
   local ny, spany, qy = axis_grid(p.mass, s0y, p.tof, p.pixel, p.max_points)
   local grid = pf.grid{points = {nx, ny}, span = {spanx, spany}}
-  local cloud = pf.wave(grid, {
-    mass = p.mass,
-    position = function(x, y)
-      return math.exp(-x * x / (4 * s0x * s0x) - y * y / (4 * s0y * s0y))
-    end,
-  })
+  local cloud = pf.ground_state(grid, {mass = p.mass, frequency = {p.trap_x, p.trap_y}})
   cloud:fly(p.tof)
-  local image, px, py = camera_image(cloud, qx, qy, p.atoms)
+  local image, px, py = camera_image(cloud, qx, qy, p.pixel, p.atoms)
   local wx, wy, total, peak = image_widths(image, p.pixel, qx, qy)
   return {
-    image = image, pixels = {px, py}, grid = {nx, ny},
+    image = image, pixels = {px, py}, grid = {nx, ny}, wave = cloud,
     results = {
       sigma_x_camera = {wx, "m"}, sigma_y_camera = {wy, "m"},
       sigma_x_textbook = {width_law(p.mass, s0x, p.tof), "m"},

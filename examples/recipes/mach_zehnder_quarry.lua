@@ -8,9 +8,9 @@ local pf = require "psiflight"
 local common = require "psiflight.recipes.common"
 local recipe = require "psiflight.recipes.mach_zehnder"
 
--- 87Rb mass 86.909180531 u (AME2020, quoted from memory).
+-- 87Rb mass from the engine's species table (AME2020), in u.
 local p = pf.parameters(common.with_defaults(recipe.parameters, {
-  mass = 86.909180531, wavelength = 780.24, T = 1, sigma = 4, phase_steps = 16,
+  mass = common.mass_u("87Rb"), wavelength = 780.24, T = 1, sigma = 4, phase_steps = 16,
 }))
 print("Quarry Hill: three-pulse interferometer fringe, 87Rb")
 recipe.main(p)

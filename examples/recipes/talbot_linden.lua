@@ -6,9 +6,9 @@ local pf = require "psiflight"
 local common = require "psiflight.recipes.common"
 local recipe = require "psiflight.recipes.talbot_scan"
 
--- 7Li mass 7.0160034366 u (AME2020, quoted from memory).
+-- 7Li mass from the engine's species table (AME2020), in u.
 local p = pf.parameters(common.with_defaults(recipe.parameters, {
-  mass = 7.0160034366, period = 1.5, slit = 0.12, periods = 6, steps = 24, stop = 2,
+  mass = common.mass_u("7Li"), period = 1.5, slit = 0.12, periods = 6, steps = 24, stop = 2,
 }))
 print("Linden Street: Talbot carpet of 7Li behind a 1.5 um grating")
 recipe.main(p)

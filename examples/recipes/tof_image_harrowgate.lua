@@ -9,9 +9,9 @@ local pf = require "psiflight"
 local common = require "psiflight.recipes.common"
 local recipe = require "psiflight.recipes.tof_image"
 
--- 41K mass 40.9618252579 u (AME2020, quoted from memory).
+-- 41K mass from the engine's species table (AME2020), in u.
 local p = pf.parameters(common.with_defaults(recipe.parameters, {
-  mass = 40.9618252579, trap_x = 95, trap_y = 30, tof = 12, pixel = 3.45, atoms = 4e4,
+  mass = common.mass_u("41K"), trap_x = 95, trap_y = 30, tof = 12, pixel = 3.45, atoms = 4e4,
 }))
 print("Harrowgate lab: 41K release, time-of-flight image")
 recipe.main(p)
