@@ -66,6 +66,10 @@ struct pf_wave {
     double clock;
     double complex *data;
     pf_steplog log;
+    /* Norm of the data as it is now, or < 0 when unknown.  Unitary steps
+     * (flights, phases) carry it instead of summing over the grid again;
+     * every change of the data that is not logged must update or clear it. */
+    double norm_now;
     pf_guard_state guard;
     /* Where the last scaled flight started (pf_scaled.c), so that a further
      * long flight can return there exactly instead of flying a chirp the new
@@ -108,7 +112,8 @@ void pf_context_store_wisdom(pf_context *ctx);
  * cannot grow drops the entry rather than failing the step. */
 void pf_wave_log_step(pf_wave *w, const char *kind, const char *method,
                       double duration, double removed, double norm);
-/* Norm recorded by the last log entry, or measured when the log is empty. */
+/* The current norm: carried from the last logged step or scaling, or
+ * measured when unknown (then remembered). */
 double pf_wave_last_logged_norm(pf_wave *w);
 
 /* Deterministic reductions (pf_reduce.c).  The data are split into blocks of a

@@ -29,6 +29,7 @@ pf_status pf_wave_new(pf_grid *g, double mass, pf_wave **out)
     w->mass = mass;
     w->rep = PF_POSITION;
     pf_steplog_init(&w->log);
+    w->norm_now = 0.0; /* all zero */
     *out = w;
     return PF_OK;
 }
@@ -41,6 +42,7 @@ pf_status pf_wave_copy(const pf_wave *src, pf_wave **out)
     memcpy(w->data, src->data, data_bytes(src->grid));
     w->rep = src->rep;
     w->clock = src->clock;
+    w->norm_now = src->norm_now;
     w->guard = src->guard; /* a copy has been warned about already */
     w->scaled_from = src->scaled_from;
     if (pf_steplog_copy(&w->log, &src->log) != PF_OK) {
@@ -65,7 +67,13 @@ double pf_wave_mass(const pf_wave *w) { return w->mass; }
 pf_rep pf_wave_rep(const pf_wave *w) { return w->rep; }
 double pf_wave_clock(const pf_wave *w) { return w->clock; }
 void pf_wave_set_clock(pf_wave *w, double t) { w->clock = t; }
-double complex *pf_wave_data(pf_wave *w) { return w->data; }
+/* Writable storage: whoever asks may change the data, so the carried norm is
+ * forgotten (it is measured again when next needed). */
+double complex *pf_wave_data(pf_wave *w)
+{
+    w->norm_now = -1.0;
+    return w->data;
+}
 const double complex *pf_wave_data_const(const pf_wave *w) { return w->data; }
 
 double complex pf_wave_momentum_factor(const pf_wave *w, const size_t *index)
@@ -144,6 +152,7 @@ pf_status pf_wave_fill(pf_wave *w, pf_rep rep, pf_sample_fn fn, void *user)
     pf_status s = pf_grid_sample(g, rep, fn, user, rep == PF_MOMENTUM ? (const double complex *const *)g->kfactor : NULL,
                                  w->data);
     w->rep = rep;
+    w->norm_now = -1.0;
     return s;
 }
 
@@ -170,6 +179,7 @@ pf_status pf_wave_set_value(pf_wave *w, pf_rep rep, const size_t *index, double 
     if (rep == PF_MOMENTUM) v /= pf_wave_momentum_factor(w, index);
     w->data[offset_of(w->grid, index)] = v;
     pf_guard_forget(w); /* the data changed without a logged step */
+    w->norm_now = -1.0;
     return PF_OK;
 }
 
@@ -210,6 +220,7 @@ pf_status pf_wave_scale(pf_wave *w, double complex a)
     ptrdiff_t n = (ptrdiff_t)w->grid->total;
 #pragma omp parallel for num_threads(w->grid->ctx->threads) schedule(static)
     for (ptrdiff_t i = 0; i < n; i++) d[i] *= a;
+    if (w->norm_now >= 0) w->norm_now *= creal(a) * creal(a) + cimag(a) * cimag(a);
     return PF_OK;
 }
 
@@ -218,7 +229,9 @@ pf_status pf_wave_normalize(pf_wave *w)
     double norm = pf_wave_norm(w);
     if (!(norm > 0) || !isfinite(norm))
         return pf_fail(w->grid->ctx, PF_EINVAL, "cannot normalise a state whose norm is %g", norm);
-    return pf_wave_scale(w, 1.0 / sqrt(norm));
+    pf_status s = pf_wave_scale(w, 1.0 / sqrt(norm));
+    if (s == PF_OK) w->norm_now = 1.0; /* to rounding; measured norm said so */
+    return s;
 }
 
 void pf_wave_record(pf_wave *w, const char *kind, const char *method, double duration, double removed)
@@ -230,8 +243,8 @@ const pf_steplog *pf_wave_steplog(const pf_wave *w) { return &w->log; }
 
 double pf_wave_last_logged_norm(pf_wave *w)
 {
-    if (w->log.count) return w->log.steps[w->log.count - 1].norm;
-    return pf_wave_norm(w);
+    if (w->norm_now < 0) w->norm_now = pf_wave_norm(w);
+    return w->norm_now;
 }
 
 void pf_wave_log_step(pf_wave *w, const char *kind, const char *method, double duration, double removed,
@@ -244,6 +257,7 @@ void pf_wave_log_step(pf_wave *w, const char *kind, const char *method, double d
     st.duration = duration;
     st.clock = w->clock;
     st.norm = norm >= 0 ? norm : pf_wave_norm(w);
+    w->norm_now = st.norm;
     st.removed = removed;
     st.edge_x = -1;
     st.edge_k = -1;

@@ -61,6 +61,17 @@ check.truthy(w:log_text():find("^step kind method"), "log text starts with its h
 local c = w:copy()
 c:scale(2)
 check.near(w:norm(), 1, 1e-12, "a copy is independent", "definition")
+-- A flight carries the norm into its log entry instead of summing again; a
+-- scaling or normalisation in between must be carried too (unitarity of
+-- free flight: the norm after the flight is the norm before it).
+c:fly(1e-4)
+check.near(c:log()[#c:log()].norm, 4, 1e-12, "flight logs the norm after a scaling", "unitarity of free flight")
+local cut = w:copy()
+cut:slit{width = 2e-6}
+cut:normalize()
+cut:fly(1e-4)
+check.near(cut:log()[#cut:log()].norm, 1, 1e-12, "flight logs the norm after a mask and normalize", "unitarity of free flight")
+check.near(cut:norm(), 1, 1e-12, "and the state's norm agrees", "Parseval")
 
 -- building from momentum: phi(k) of a Gaussian of width s has |phi|^2 of width 1/(2 s)
 local g1 = pf.grid{points = 256, span = 200e-6}
