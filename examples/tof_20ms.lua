@@ -16,12 +16,10 @@
 -- Run: build/psiflight run examples/tof_20ms.lua [--set tof_ms=20] [--strict]
 local pf = require "psiflight"
 
--- CODATA 2018: h exact (2019 SI), atomic mass constant u.  7Li atomic mass
--- 7.0160034366 u (AME2020, value quoted from memory).
-local h = 6.62607015e-34
-local hbar = h / (2 * math.pi)
-local u = 1.66053906660e-27
-local mass = 7.0160034366 * u
+-- CODATA 2018 hbar and the 7Li atomic mass from the engine's species table
+-- (AME2020).
+local hbar = pf.constants.hbar
+local mass = pf.mass("7Li")
 local omega = {2 * math.pi * 5000.0, 2 * math.pi * 1100.0}
 local tof = (tonumber(pf.params.tof_ms) or 20.0) * 1e-3
 

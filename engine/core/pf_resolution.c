@@ -5,6 +5,7 @@
 #include "pf_constants.h"
 #include "pf_internal.h"
 #include "pf_observe.h"
+#include "pf_guard.h"
 #include "pf_resolution.h"
 
 void pf_extent_clear(pf_extent *e)
@@ -103,7 +104,7 @@ pf_status pf_resolution_check_edges(pf_wave *w, pf_rep rep, const char *builder,
     int warned = 0;
     for (int a = 0; a < g->dim && sums[0] > 0; a++) {
         double frac = sums[1 + a] / sums[0];
-        if (!(frac > PF_EDGE_PROBABILITY)) continue;
+        if (!(frac > pf_context_guard_threshold(g->ctx))) continue;
         if (rep == PF_POSITION)
             pf_context_warn(g->ctx,
                             "%s: axis %d: probability %.2e lies in the outer %zu points at either grid edge "

@@ -14,8 +14,6 @@
 
 /* Smallest number of grid spacings a feature may span without a warning. */
 #define PF_MIN_FEATURE_SPACINGS 3.0
-/* Probability allowed in the outer strips of a grid by the measured check. */
-#define PF_EDGE_PROBABILITY 1e-6
 
 /* Analytic extent of a state per axis: it lives in [x_lo, x_hi] (m) and
  * [k_lo, k_hi] (1/m); feature is its smallest length scale (m).  A field set
@@ -35,7 +33,7 @@ void pf_extent_clear(pf_extent *e);
 int pf_resolution_check(pf_grid *g, const char *builder, const pf_extent *e);
 
 /* Measured check for states without an analytic extent: warns when more than
- * PF_EDGE_PROBABILITY of the probability lies in the outer 1/32 of the points
+ * the guard threshold (pf_context_guard_threshold, default 1e-6) of the probability lies in the outer 1/32 of the points
  * on either side of an axis, in position (rep PF_POSITION) or near the
  * Nyquist limit (PF_MOMENTUM).  Transforms the wave as needed. */
 pf_status pf_resolution_check_edges(pf_wave *w, pf_rep rep, const char *builder, int *warnings);

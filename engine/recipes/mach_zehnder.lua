@@ -61,11 +61,14 @@ end
 
 function recipe.run(p)
   local keff = 4 * math.pi / p.wavelength
-  -- Span: the arms separate by hbar k_eff T / m; hold that plus 12 sigma.
+  -- Span: the arms separate by hbar k_eff T / m and stay between 0 and that
+  -- distance; the grid is centred on the middle and holds the separation plus
+  -- 10 sigma and the spreading on each side, plus the grid guards' outer bands
+  -- (1/32 of the span at each end), so no arm reaches them.
   -- The span is a whole number of lattice periods (2 pi / k_eff), so k_eff is
   -- an exact multiple of the grid's k spacing and a kick is an index shift.
   local vrec = common.hbar * keff / p.mass
-  local span = vrec * p.T + 12 * p.sigma + 2 * common.hbar * 2 * p.T / (2 * p.mass * p.sigma)
+  local span = (vrec * p.T + 20 * p.sigma + 2 * common.hbar * 2 * p.T / (2 * p.mass * p.sigma)) * 32 / 30
   local cells = math.ceil(span * keff / (2 * math.pi))
   span = cells * 2 * math.pi / keff
   -- Resolve k up to k_eff plus 10 momentum widths (1 / 2 sigma).
@@ -74,7 +77,7 @@ function recipe.run(p)
   if n > p.max_points then
     error(string.format("mach_zehnder: needs %d grid points; raise max_points or shorten T", n), 0)
   end
-  local grid = pf.grid{points = n, span = span}
+  local grid = pf.grid{points = n, span = span, origin = vrec * p.T / 2}
   local shift = math.floor(keff / grid:kspacing(1) + 0.5)
   local kick = shift * grid:kspacing(1) -- k_eff on the grid's k lattice
   local start = pf.gaussian(grid, {mass = p.mass, width = p.sigma})
