@@ -30,6 +30,30 @@ static pf_status check_axes(pf_context *ctx, int d, const char *what, const doub
 /* Volume of the d-dimensional unit ball: 2, pi, 4 pi / 3. */
 static double unit_ball(int d) { return d == 1 ? 2.0 : d == 2 ? PF_PI : 4.0 * PF_PI / 3.0; }
 
+/* Per-axis table layout shared by the separable builders: axis a has nn[a]
+ * entries (1 beyond the grid's dimension) starting at offs[a]. */
+static void axis_layout(const pf_grid *g, size_t *nn, size_t *offs)
+{
+    offs[0] = 0;
+    for (int a = 0; a < PF_MAX_DIM; a++) {
+        nn[a] = a < g->dim ? g->n[a] : 1;
+        offs[a + 1] = offs[a] + nn[a];
+    }
+}
+
+/* Allocates the real and complex per-axis tables for that layout; on
+ * failure records the error and returns non-zero with nothing allocated. */
+static int axis_tables(const pf_grid *g, const size_t *offs, double **u2, double complex **ph)
+{
+    *u2 = malloc(offs[PF_MAX_DIM] * sizeof **u2);
+    *ph = malloc(offs[PF_MAX_DIM] * sizeof **ph);
+    if (*u2 && *ph) return 0;
+    free(*u2);
+    free(*ph);
+    pf_fail(g->ctx, PF_ENOMEM, "out of memory for builder tables");
+    return 1;
+}
+
 pf_status pf_build_flat_top(pf_wave *w, const double *center, const double *wavenumber, const double *half_width,
                             double order, pf_flat_shape shape, int normalize)
 {
@@ -44,20 +68,12 @@ pf_status pf_build_flat_top(pf_wave *w, const double *center, const double *wave
     if (shape != PF_FLAT_BOX && shape != PF_FLAT_ROUND)
         return pf_fail(g->ctx, PF_EINVAL, "unknown flat-top shape %d", (int)shape);
     size_t nn[PF_MAX_DIM], offs[PF_MAX_DIM + 1];
-    offs[0] = 0;
-    for (int a = 0; a < PF_MAX_DIM; a++) {
-        nn[a] = a < d ? g->n[a] : 1;
-        offs[a + 1] = offs[a] + nn[a];
-    }
+    axis_layout(g, nn, offs);
     /* Per axis: u_a^2 (round) or the axis profile (box), and the phase
      * exp(-i k x0) divided by the storage factor phi/S. */
-    double *u2 = malloc(offs[PF_MAX_DIM] * sizeof *u2);
-    double complex *ph = malloc(offs[PF_MAX_DIM] * sizeof *ph);
-    if (!u2 || !ph) {
-        free(u2);
-        free(ph);
-        return pf_fail(g->ctx, PF_ENOMEM, "out of memory for builder tables");
-    }
+    double *u2;
+    double complex *ph;
+    if (axis_tables(g, offs, &u2, &ph)) return PF_ENOMEM;
     for (int a = 0; a < PF_MAX_DIM; a++)
         for (size_t j = 0; j < nn[a]; j++) {
             size_t t = offs[a] + j;
@@ -118,18 +134,10 @@ pf_status pf_build_thomas_fermi(pf_wave *w, const double *center, const double *
     if (!s) s = check_axes(g->ctx, d, "wave number", wavenumber, 0);
     if (s) return s;
     size_t nn[PF_MAX_DIM], offs[PF_MAX_DIM + 1];
-    offs[0] = 0;
-    for (int a = 0; a < PF_MAX_DIM; a++) {
-        nn[a] = a < d ? g->n[a] : 1;
-        offs[a + 1] = offs[a] + nn[a];
-    }
-    double *u2 = malloc(offs[PF_MAX_DIM] * sizeof *u2);
-    double complex *ph = malloc(offs[PF_MAX_DIM] * sizeof *ph);
-    if (!u2 || !ph) {
-        free(u2);
-        free(ph);
-        return pf_fail(g->ctx, PF_ENOMEM, "out of memory for builder tables");
-    }
+    axis_layout(g, nn, offs);
+    double *u2;
+    double complex *ph;
+    if (axis_tables(g, offs, &u2, &ph)) return PF_ENOMEM;
     for (int a = 0; a < PF_MAX_DIM; a++)
         for (size_t j = 0; j < nn[a]; j++) {
             size_t t = offs[a] + j;

@@ -46,8 +46,11 @@ static int l_current(lua_State *L)
     return 1;
 }
 
-/* s:flux{axis=, at=} -> probability per second crossing the plane (+axis). */
-static int l_flux(lua_State *L)
+typedef pf_status (*plane_fn)(pf_wave *w, int axis, double at, double *out);
+
+/* Weighted sum over the members of a state or mixture of a per-plane figure:
+ * both figures are linear in the density matrix. */
+static int plane_figure(lua_State *L, plane_fn fn, const char *name)
 {
     pfl_source src;
     pfl_check_source(L, 1, &src);
@@ -55,30 +58,19 @@ static int l_flux(lua_State *L)
     double at, total = 0;
     plane_opts(L, 2, pf_grid_dim(pfl_source_grid(&src)), &axis, &at);
     for (size_t i = 0; i < src.mix.count; i++) {
-        double J;
-        pfl_check(L, pf_wave_flux(src.mix.members[i], axis, at, &J), "flux");
-        total += src.mix.weights[i] * J;
+        double v;
+        pfl_check(L, fn(src.mix.members[i], axis, at, &v), name);
+        total += src.mix.weights[i] * v;
     }
     lua_pushnumber(L, total);
     return 1;
 }
 
+/* s:flux{axis=, at=} -> probability per second crossing the plane (+axis). */
+static int l_flux(lua_State *L) { return plane_figure(L, pf_wave_flux, "flux"); }
+
 /* s:beyond{axis=, at=} -> probability between the plane and the far edge. */
-static int l_beyond(lua_State *L)
-{
-    pfl_source src;
-    pfl_check_source(L, 1, &src);
-    int axis;
-    double at, total = 0;
-    plane_opts(L, 2, pf_grid_dim(pfl_source_grid(&src)), &axis, &at);
-    for (size_t i = 0; i < src.mix.count; i++) {
-        double P;
-        pfl_check(L, pf_wave_beyond(src.mix.members[i], axis, at, &P), "beyond");
-        total += src.mix.weights[i] * P;
-    }
-    lua_pushnumber(L, total);
-    return 1;
-}
+static int l_beyond(lua_State *L) { return plane_figure(L, pf_wave_beyond, "beyond"); }
 
 /* s:arrival_times{axis=, at=, from = t0, to = t1, steps = n}
  * -> {time = {..} (s, after the state's clock), time_ms, flux = {..} (1/s),
