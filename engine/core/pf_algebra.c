@@ -15,7 +15,8 @@ static pf_status compatible(pf_wave *a, pf_wave *b, const char *what)
     if (fabs(ma - mb) > 1e-12 * fmax(ma, mb))
         return pf_fail(ctx, PF_ESTATE, "%s needs equal masses, got %.10g kg and %.10g kg", what, ma, mb);
     /* Bring b into a's representation; its physical state is unchanged. */
-    return pf_wave_to(b, a->rep);
+    pf_status s = pf_wave_settle(a);
+    return s ? s : pf_wave_to(b, a->rep);
 }
 
 pf_status pf_wave_axpy(pf_wave *y, double complex a, pf_wave *x)
@@ -30,8 +31,8 @@ pf_status pf_wave_axpy(pf_wave *y, double complex a, pf_wave *x)
                         "adding states at different clocks (%.6g s and %.6g s): the sum mixes two moments of "
                         "the flight; fly one of them first if that is not intended",
                         y->clock, x->clock);
-    double complex *d = y->data;
-    const double complex *e = x->data;
+    double complex *d = y->store;
+    const double complex *e = x->store;
     ptrdiff_t n = (ptrdiff_t)y->grid->total;
 #pragma omp parallel for num_threads(y->grid->ctx->threads) schedule(static)
     for (ptrdiff_t i = 0; i < n; i++) d[i] += a * e[i];
@@ -41,13 +42,13 @@ pf_status pf_wave_axpy(pf_wave *y, double complex a, pf_wave *x)
 
 pf_status pf_wave_inner(pf_wave *a, pf_wave *b, double complex *out)
 {
-    pf_status s = a == b ? PF_OK : compatible(a, b, "the inner product");
+    pf_status s = a == b ? pf_wave_settle(a) : compatible(a, b, "the inner product");
     if (s) return s;
     pf_grid *g = a->grid;
     size_t nblocks = (g->total + BLOCK - 1) / BLOCK;
     double complex *part = calloc(nblocks, sizeof *part);
     if (!part) return pf_fail(g->ctx, PF_ENOMEM, "out of memory for an inner product");
-    const double complex *x = a->data, *y = b->data;
+    const double complex *x = a->store, *y = b->store;
     ptrdiff_t nb = (ptrdiff_t)nblocks;
 #pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
     for (ptrdiff_t k = 0; k < nb; k++) {

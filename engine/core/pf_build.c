@@ -170,7 +170,7 @@ static pf_status gaussian_sum(pf_wave *w, const pf_gaussian_spec *s, const doubl
         }
     /* Normalisation in infinite space: (2 pi)^(-d/4) det(S)^(-1/4). */
     double norm = pow(PF_TWO_PI, -0.25 * d) * pow(det, -0.25);
-    double complex *data = w->data;
+    double complex *data = pf_wave_overwrite(w);
     ptrdiff_t n0 = (ptrdiff_t)n[0];
 #pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
     for (ptrdiff_t i = 0; i < n0; i++) {
@@ -358,7 +358,7 @@ pf_status pf_build_oscillator(pf_wave *w, const double *omega, const int *n, con
         double fwhm0 = FWHM_PER_SIGMA * len / sqrt(2.0);
         e.feature[a] = n[a] > 0 ? fmin(PF_PI * len / turn, fwhm0) : fwhm0;
     }
-    double complex *data = w->data;
+    double complex *data = pf_wave_overwrite(w);
     ptrdiff_t n0 = (ptrdiff_t)nn[0];
 #pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
     for (ptrdiff_t i = 0; i < n0; i++)

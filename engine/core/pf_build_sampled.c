@@ -105,7 +105,7 @@ pf_status pf_build_sampled(pf_wave *w, pf_rep rep, const size_t *counts, const d
         locate(axes[a], counts[a], coord, nn[a], lower + offs[a], frac + offs[a]);
     }
     size_t m1 = d > 1 ? counts[1] : 1, m2 = d > 2 ? counts[2] : 1;
-    double complex *data = w->data;
+    double complex *data = pf_wave_overwrite(w);
     ptrdiff_t n0 = (ptrdiff_t)nn[0];
 #pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
     for (ptrdiff_t i = 0; i < n0; i++)

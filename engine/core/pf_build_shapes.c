@@ -95,7 +95,7 @@ pf_status pf_build_flat_top(pf_wave *w, const double *center, const double *wave
     else
         integral *= unit_ball(d) * d * tgamma(0.5 * d / order) / (2.0 * order);
     double norm = 1.0 / sqrt(integral);
-    double complex *data = w->data;
+    double complex *data = pf_wave_overwrite(w);
     ptrdiff_t n0 = (ptrdiff_t)nn[0];
 #pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
     for (ptrdiff_t i = 0; i < n0; i++)
@@ -150,7 +150,7 @@ pf_status pf_build_thomas_fermi(pf_wave *w, const double *center, const double *
     double integral = unit_ball(d) * 2.0 / (d + 2.0);
     for (int a = 0; a < d; a++) integral *= radius[a];
     double norm = 1.0 / sqrt(integral);
-    double complex *data = w->data;
+    double complex *data = pf_wave_overwrite(w);
     ptrdiff_t n0 = (ptrdiff_t)nn[0];
 #pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
     for (ptrdiff_t i = 0; i < n0; i++)

@@ -25,7 +25,7 @@ pf_status pf_wave_measure_region(pf_wave *w, const pf_region *reg, pf_rng *r, in
     }
     double in = 0, all = 0;
     for (size_t i = 0; i < g->total; i++) {
-        double rho = creal(w->data[i]) * creal(w->data[i]) + cimag(w->data[i]) * cimag(w->data[i]);
+        double rho = creal(w->store[i]) * creal(w->store[i]) + cimag(w->store[i]) * cimag(w->store[i]);
         in += m[i] * rho;
         all += rho;
     }
@@ -42,7 +42,7 @@ pf_status pf_wave_measure_region(pf_wave *w, const pf_region *reg, pf_rng *r, in
     }
     /* sqrt(E) psi, normalised in the same pass: |sqrt(E) psi|^2 sums to p * all. */
     double scale = 1.0 / sqrt(p * all * pf_grid_cell_volume(g));
-    for (size_t i = 0; i < g->total; i++) w->data[i] *= sqrt(yes ? m[i] : 1 - m[i]) * scale;
+    for (size_t i = 0; i < g->total; i++) w->store[i] *= sqrt(yes ? m[i] : 1 - m[i]) * scale;
     pf_free(g->ctx, m, bytes);
     *outcome = yes;
     *probability = p;
@@ -119,9 +119,9 @@ pf_status pf_wave_measure_position(pf_wave *w, const double *sigma, pf_rng *r, c
         for (size_t off = 0; off < g->total; off++) {
             double k = 1;
             for (int a = 0; a < d; a++) k *= K[a][idx[a]];
-            double complex z = w->data[off];
+            double complex z = w->store[off];
             if (pass) {
-                w->data[off] = z * (k * scale);
+                w->store[off] = z * (k * scale);
             } else {
                 double rho = creal(z) * creal(z) + cimag(z) * cimag(z);
                 norm += rho;

@@ -291,10 +291,11 @@ pf_status pf_wave_fill_coherent(pf_wave *w, const double *center, const double *
         }
     }
     size_t idx[PF_MAX_DIM] = {0, 0, 0};
+    double complex *data = pf_wave_overwrite(w);
     for (size_t off = 0; off < g->total; off++) {
         double complex v = 1;
         for (int a = 0; a < d; a++) v *= T[a][idx[a]];
-        w->data[off] = v;
+        data[off] = v;
         for (int a = d - 1; a >= 0; a--) {
             if (++idx[a] < g->n[a]) break;
             idx[a] = 0;

@@ -2,6 +2,7 @@
 #include <math.h>
 #include "pf_constants.h"
 #include "pf_flight.h"
+#include "pf_guard.h"
 #include "pf_internal.h"
 
 /* Fills the per-axis phase tables for tau = hbar t / m, unless they already
@@ -81,15 +82,13 @@ __attribute__((target("avx2,fma"))) static void phase_row_avx2(double *restrict 
 }
 #endif
 
-typedef void (*phase_row_fn)(double *restrict, const double *restrict, double, double, size_t);
-
 /* The kernel for this processor, chosen once (a process-wide fact, like
  * FFTW's own choice of SIMD codelets). */
-static phase_row_fn phase_kernel(void)
+pf_phase_row_fn pf_phase_kernel(void)
 {
-    static phase_row_fn chosen;
+    static pf_phase_row_fn chosen;
     if (chosen) return chosen;
-    phase_row_fn k = phase_row_plain;
+    pf_phase_row_fn k = phase_row_plain;
 #ifdef PF_HAVE_X86_PHASE
     __builtin_cpu_init();
     if (__builtin_cpu_supports("avx512f")) k = phase_row_avx512;
@@ -111,7 +110,7 @@ static void apply_phase(pf_grid *g, double complex *data, double scale)
     const size_t n0 = g->n[0], n1 = g->n[1], n2 = g->n[2];
     double complex *const *P = g->flight.phase;
     const int threads = g->ctx->threads;
-    const phase_row_fn phase_row = phase_kernel();
+    const pf_phase_row_fn phase_row = pf_phase_kernel();
     if (g->dim == 1) {
         const ptrdiff_t chunks = (ptrdiff_t)((n0 + PHASE_CHUNK - 1) / PHASE_CHUNK);
 #pragma omp parallel for num_threads(threads) schedule(static)
@@ -139,22 +138,71 @@ static void apply_phase(pf_grid *g, double complex *data, double scale)
     }
 }
 
+/* Flights from position representation on 2D/3D grids are deferred and
+ * then fused (pf_fused.c).  In 1D there is no fused form: FFTW's 1D
+ * transforms leave no axis to fuse the phase into. */
+static int can_defer(const pf_wave *w)
+{
+    return w->grid->dim >= 2 && w->rep == PF_POSITION;
+}
+
 pf_status pf_wave_fly(pf_wave *w, double t)
 {
     pf_grid *g = w->grid;
     if (!isfinite(t)) return pf_fail(g->ctx, PF_EINVAL, "flight time must be finite, got %g", t);
-    double norm = pf_wave_last_logged_norm(w);
+    double tau = PF_HBAR * t / w->mass;
+    double norm = pf_wave_last_logged_norm(w); /* carried: a flight keeps it */
+    if (w->deferred.active || can_defer(w)) {
+        if (!w->deferred.active) w->deferred.tau = 0.0;
+        w->deferred.active = 1;
+        w->deferred.tau += tau; /* flights compose: the phases add */
+        w->clock += t;
+        pf_wave_log_step(w, "flight", "momentum-exact", t, 0.0, norm);
+        return PF_OK;
+    }
     double scale = 1.0;
     if (w->rep == PF_POSITION) {
         /* Fuse the 1/N of the forward transform into the phase pass. */
-        pf_status s = pf_grid_fft(g, w->data, -1);
+        pf_status s = pf_grid_fft(g, w->store, -1);
         if (s) return s;
         scale = 1.0 / (double)g->total;
         w->rep = PF_MOMENTUM;
     }
-    flight_tables(g, PF_HBAR * t / w->mass);
-    apply_phase(g, w->data, scale);
+    flight_tables(g, tau);
+    apply_phase(g, w->store, scale);
     w->clock += t;
     pf_wave_log_step(w, "flight", "momentum-exact", t, 0.0, norm);
     return PF_OK;
 }
+
+pf_status pf_wave_settle_to(pf_wave *w, pf_rep rep)
+{
+    if (!w->deferred.active) return PF_OK;
+    pf_grid *g = w->grid;
+    flight_tables(g, w->deferred.tau);
+    const double scale = 1.0 / (double)g->total;
+    /* Both paths fail only while planning, before the data are touched; the
+     * flight then stays deferred and the state stays consistent. */
+    if (rep == PF_POSITION && pf_guard_momentum_known(w)) {
+        pf_status s = pf_fused_flight(g, w->store, scale);
+        if (s) return s;
+        w->deferred.active = 0;
+    } else {
+        /* Momentum wanted, or the momentum guard band of this state was
+         * never measured: the separate steps, so that the state passes
+         * through momentum representation where the guard can see it. */
+        pf_status s = pf_grid_fft(g, w->store, -1);
+        if (s) return s;
+        w->deferred.active = 0;
+        apply_phase(g, w->store, scale);
+        w->rep = PF_MOMENTUM;
+        pf_guard_after_transform(w);
+        if (rep == PF_MOMENTUM) return PF_OK;
+        pf_grid_fft(g, w->store, +1); /* planned together with the forward one */
+        w->rep = PF_POSITION;
+    }
+    pf_guard_after_transform(w);
+    return PF_OK;
+}
+
+pf_status pf_wave_settle(pf_wave *w) { return pf_wave_settle_to(w, PF_POSITION); }

@@ -40,13 +40,13 @@ pf_status pf_wave_current(pf_wave *w, int axis, double *out)
     size_t nyq = na % 2 == 0 ? na / 2 : (size_t)-1;
     for (size_t off = 0; off < g->total; off++) {
         size_t m = (off / inner) % na;
-        d[off] = m == nyq ? 0 : I * g->k[axis][m] * w->data[off];
+        d[off] = m == nyq ? 0 : I * g->k[axis][m] * w->store[off];
     }
     s = pf_grid_fft(g, d, +1);
     if (s == PF_OK) s = pf_wave_to(w, PF_POSITION);
     if (s == PF_OK) {
         double c = PF_HBAR / w->mass;
-        for (size_t i = 0; i < g->total; i++) out[i] = c * cimag(conj(w->data[i]) * d[i]);
+        for (size_t i = 0; i < g->total; i++) out[i] = c * cimag(conj(w->store[i]) * d[i]);
     }
     pf_free(g->ctx, d, bytes);
     return s;
@@ -130,7 +130,9 @@ static pf_status plane_init(pf_wave *w, int axis, double at, plane_eval *p)
  * the lines are added in order, so the result does not depend on threads. */
 static double plane_flux(const pf_wave *w, const plane_eval *p, double *line_sum)
 {
-    const double complex *S = w->data;
+    /* w is in momentum representation (callers transform it), so no flight
+     * is deferred (those exist only in position representation). */
+    const double complex *S = w->store;
     const size_t lines = p->outer * p->inner;
     ptrdiff_t nl = (ptrdiff_t)lines;
 #pragma omp parallel for num_threads(w->grid->ctx->threads) schedule(static)
@@ -206,7 +208,7 @@ pf_status pf_wave_beyond(pf_wave *w, int axis, double at, double *probability)
     for (size_t o = 0; o < outer; o++) {
         for (size_t i = 0; i < inner; i++) {
             double lw = tw[o * inner + i];
-            for (size_t m = 0; m < na; m++) a[pf_grid_ascending_index(g, axis, m)] = w->data[(o * na + m) * inner + i];
+            for (size_t m = 0; m < na; m++) a[pf_grid_ascending_index(g, axis, m)] = w->store[(o * na + m) * inner + i];
             if (even) {
                 a[0] *= 0.5;
                 a[na] = a[0];

@@ -31,17 +31,18 @@ pf_status pf_wave_fall(pf_wave *w, double t, const double *accel)
                             a + 1, q, pf_grid_knyquist(g, a));
     }
     double norm = pf_wave_last_logged_norm(w);
-    pf_status s = PF_OK;
+    /* A deferred flight joins the momentum-space part below. */
+    pf_status s = pf_wave_settle_to(w, PF_MOMENTUM);
     double complex scale = 1.0;
-    if (w->rep == PF_POSITION) {
-        s = pf_grid_fft(g, w->data, -1);
+    if (!s && w->rep == PF_POSITION) {
+        s = pf_grid_fft(g, w->store, -1);
         scale = 1.0 / (double)g->total;
     }
     if (!s) {
         /* Momentum space: free flight and translation by a t^2/2 together. */
         pf_kernel_kinetic_tables(g, PF_HBAR * t / w->mass, shift, tab);
-        pf_kernel_axis_multiply(g, w->data, (const double complex *const *)tab, scale);
-        s = pf_grid_fft(g, w->data, +1);
+        pf_kernel_axis_multiply(g, w->store, (const double complex *const *)tab, scale);
+        s = pf_grid_fft(g, w->store, +1);
         w->rep = PF_POSITION;
     }
     if (!s) {
@@ -52,7 +53,7 @@ pf_status pf_wave_fall(pf_wave *w, double t, const double *accel)
             for (size_t j = 0; j < g->n[a]; j++) tab[a][j] = cexp(I * q * g->x[a][j]);
         }
         double complex global = cexp(-I * w->mass * a2 * t * t * t / (6.0 * PF_HBAR));
-        pf_kernel_axis_multiply(g, w->data, (const double complex *const *)tab, global);
+        pf_kernel_axis_multiply(g, w->store, (const double complex *const *)tab, global);
         w->clock += t;
         pf_wave_log_step(w, "fall", "closed-form", t, 0.0, norm);
     }

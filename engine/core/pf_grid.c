@@ -39,6 +39,7 @@ static void grid_destroy(pf_grid *g)
     pf_context *ctx = g->ctx;
     if (g->forward) fftw_destroy_plan(g->forward);
     if (g->backward) fftw_destroy_plan(g->backward);
+    pf_fused_release(g);
     for (int a = 0; a < PF_MAX_DIM; a++) {
         free(g->x[a]);
         free(g->k[a]);

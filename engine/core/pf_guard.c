@@ -58,7 +58,7 @@ static double band_sum(const pf_wave *w, int a)
     const size_t per_outer = rep == PF_MOMENTUM ? 1 : 2;
     const size_t run = (rep == PF_MOMENTUM ? 2 * b : b) * inner;
     const size_t total = outer * per_outer * run;
-    const double complex *z = w->data;
+    const double complex *z = w->store;
     double part[GUARD_CHUNKS];
 #pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
     for (int c = 0; c < GUARD_CHUNKS; c++) {
@@ -104,7 +104,7 @@ static pf_status marginals(const pf_wave *w, double **marg)
     }
     size_t idx[PF_MAX_DIM] = {0, 0, 0};
     for (size_t off = 0; off < g->total; off++) {
-        double complex v = w->data[off];
+        double complex v = w->store[off];
         double rho = creal(v) * creal(v) + cimag(v) * cimag(v);
         for (int a = 0; a < g->dim; a++) marg[a][idx[a]] += rho;
         for (int a = g->dim - 1; a >= 0; a--) {
@@ -263,12 +263,18 @@ void pf_guard_step(pf_wave *w, pf_step *st)
     gs->known &= keeps_momentum ? (1u << PF_MOMENTUM) : 0u;
     gs->pending = 0;
     const int r = w->rep, other = 1 - r;
-    if (!(gs->known & (1u << r))) {
-        measure_bands(w, st->norm, gs->band[r]);
-        gs->known |= 1u << r;
-        check_and_warn(w, w->log.count + 1, st->kind);
+    if (w->deferred.active) {
+        /* A deferred flight (pf_flight.c): no data are current until it is
+         * carried out, when the bands still unknown are measured. */
+        gs->pending = ((1u << PF_POSITION) | (1u << PF_MOMENTUM)) & ~gs->known;
+    } else {
+        if (!(gs->known & (1u << r))) {
+            measure_bands(w, st->norm, gs->band[r]);
+            gs->known |= 1u << r;
+            check_and_warn(w, w->log.count + 1, st->kind);
+        }
+        if (!(gs->known & (1u << other))) gs->pending |= 1u << other;
     }
-    if (!(gs->known & (1u << other))) gs->pending |= 1u << other;
     double *fx = &st->edge_x, *fk = &st->edge_k;
     if (gs->known & (1u << PF_POSITION)) *fx = largest(gs->band[PF_POSITION], d);
     if (gs->known & (1u << PF_MOMENTUM)) *fk = largest(gs->band[PF_MOMENTUM], d);
@@ -288,6 +294,11 @@ void pf_guard_after_transform(pf_wave *w)
     check_and_warn(w, w->log.count, last->kind);
 }
 
+int pf_guard_momentum_known(const pf_wave *w)
+{
+    return (w->guard.known >> PF_MOMENTUM) & 1u;
+}
+
 void pf_guard_forget(pf_wave *w)
 {
     w->guard.known = 0;
@@ -303,6 +314,8 @@ void pf_guard_rebind(pf_wave *w)
 pf_status pf_wave_guard(pf_wave *w, pf_guard_figures *out)
 {
     pf_grid *g = w->grid;
+    pf_status settled = pf_wave_settle(w);
+    if (settled) return settled;
     pf_guard_state *gs = &w->guard;
     const int r = w->rep;
     if (!(gs->known & (1u << r))) {

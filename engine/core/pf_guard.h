@@ -66,6 +66,9 @@ void pf_guard_step(pf_wave *w, pf_step *st);
 void pf_guard_after_transform(pf_wave *w);
 /* The data changed without a logged step: forget the figures. */
 void pf_guard_forget(pf_wave *w);
+/* Whether the momentum band of the current state is known (a flight keeps
+ * it), so a deferred flight may skip momentum representation. */
+int pf_guard_momentum_known(const pf_wave *w);
 /* The wave moved to another grid: forget figures and earlier warnings. */
 void pf_guard_rebind(pf_wave *w);
 

@@ -34,6 +34,21 @@ typedef struct pf_flight_tables {
     double complex *phase[PF_MAX_DIM];
 } pf_flight_tables;
 
+/* Plans and buffers of the fused flight step (pf_fused.c) on a 2D or 3D
+ * grid: transforms over the trailing axes of every slab (threaded), and
+ * axis-0 transforms of a block of columns gathered into a per-thread buffer
+ * (one thread each).  Made at the first fused step. */
+typedef struct pf_fused_plans {
+    int threads;                  /* thread count made with; 0 = not made */
+    size_t block, tail;           /* columns per block; columns in a last, partial block (0: none) */
+    size_t blocks;                /* number of blocks, the partial one included */
+    size_t ld;                    /* buffer stride between gathered columns */
+    fftw_plan slab_fwd, slab_bwd;
+    fftw_plan col_fwd, col_bwd, tail_fwd, tail_bwd;
+    double complex *buf;          /* threads x block x ld values */
+    size_t buf_bytes;
+} pf_fused_plans;
+
 struct pf_grid {
     int refs;
     pf_context *ctx;
@@ -47,6 +62,7 @@ struct pf_grid {
     fftw_plan forward, backward;
     int plan_threads;                 /* thread count the plans were made with, 0 = none */
     pf_flight_tables flight;
+    pf_fused_plans fused;
 };
 
 /* Grid-guard bookkeeping of one wave function (pf_guard.c).  Index r is the
@@ -64,7 +80,18 @@ struct pf_wave {
     double mass;
     pf_rep rep;
     double clock;
-    double complex *data;
+    /* The samples.  Read them through pf_wave_settle (or pf_wave_to), never
+     * directly while a flight is deferred: see `deferred` below. */
+    double complex *store;
+    /* A free flight asked for in position representation on a 2D/3D grid is
+     * deferred: it is logged at once but carried out when a result needs the
+     * data, as one fused sweep (pf_fused.c) if position is wanted, which
+     * costs less than separate transforms and phase pass.  Consecutive
+     * flights add up.  tau = hbar t / m of the whole deferred flight. */
+    struct {
+        int active;
+        double tau;
+    } deferred;
     pf_steplog log;
     /* Norm of the data as it is now, or < 0 when unknown.  Unitary steps
      * (flights, phases) carry it instead of summing over the grid again;
@@ -99,6 +126,33 @@ pf_status pf_grid_sample(const pf_grid *g, pf_rep rep, pf_sample_fn fn, void *us
                          double complex *out);
 /* Executes the in-place forward or backward plan on data (new-array execute). */
 pf_status pf_grid_fft(pf_grid *g, double complex *data, int sign);
+
+/* Carries out a deferred flight (see struct pf_wave), leaving the state in
+ * position representation; does nothing when none is pending.  Every core
+ * function that reads or writes w->store calls this (or pf_wave_to) first. */
+pf_status pf_wave_settle(pf_wave *w);
+/* The same, ending in representation rep (momentum: no fused sweep, just
+ * the forward transform and the phase). */
+pf_status pf_wave_settle_to(pf_wave *w, pf_rep rep);
+/* The wave's samples, after settling any deferred flight (NULL on failure,
+ * with the reason in the context). */
+double complex *pf_wave_settled(pf_wave *w);
+/* The wave's samples for a kernel that replaces all of them (builders): a
+ * deferred flight of the old state is dropped, not carried out. */
+double complex *pf_wave_overwrite(pf_wave *w);
+
+/* Fused flight step on a 2D/3D grid (pf_fused.c): data (position
+ * representation) -> forward transform -> times scale * the flight phase of
+ * g->flight (already filled) -> backward transform, in three sweeps over
+ * memory instead of five.  Result equals the separate steps up to rounding. */
+pf_status pf_fused_flight(pf_grid *g, double complex *data, double scale);
+/* Releases the fused plans and buffers (grid teardown, thread change). */
+void pf_fused_release(pf_grid *g);
+
+/* row[j] *= (qr + i qi) * p[j] for j < n, on interleaved (re, im) doubles:
+ * the flight phase pass, vectorised for this processor (pf_flight.c). */
+typedef void (*pf_phase_row_fn)(double *restrict row, const double *restrict p, double qr, double qi, size_t n);
+pf_phase_row_fn pf_phase_kernel(void);
 
 /* Applies the configured thread count to the FFTW planner (called before
  * every plan creation) and loads wisdom lazily. */

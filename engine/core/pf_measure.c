@@ -117,11 +117,13 @@ pf_status pf_wave_overlap(pf_wave *a, pf_wave *b, double complex *out)
         return pf_fail(g->ctx, PF_ESTATE, "overlap needs two states on grids of the same geometry");
     /* In momentum storage the sum is N times the position sum (Parseval for
      * S = DFT / N), so either common representation gives the integral. */
+    pf_status s = pf_wave_settle(a);
+    if (s) return s;
     pf_rep rep = a->rep;
-    pf_status s = pf_wave_to(b, rep);
+    s = pf_wave_to(b, rep);
     if (s) return s;
     double complex sum = 0;
-    for (size_t i = 0; i < g->total; i++) sum += conj(a->data[i]) * b->data[i];
+    for (size_t i = 0; i < g->total; i++) sum += conj(a->store[i]) * b->store[i];
     double v = pf_grid_cell_volume(g);
     if (rep == PF_MOMENTUM) v *= (double)g->total;
     *out = sum * v;

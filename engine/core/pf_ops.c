@@ -46,7 +46,7 @@ static pf_status apply_position_phase(pf_wave *w, axis_tables *at, const char *k
     double norm = pf_wave_last_logged_norm(w);
     pf_status s = pf_wave_to(w, PF_POSITION);
     if (s) return s;
-    pf_kernel_axis_multiply(w->grid, w->data, (const double complex *const *)at->t, 1.0);
+    pf_kernel_axis_multiply(w->grid, w->store, (const double complex *const *)at->t, 1.0);
     pf_wave_log_step(w, kind, method, 0.0, 0.0, norm);
     return PF_OK;
 }
@@ -56,7 +56,7 @@ static pf_status apply_position_mask(pf_wave *w, axis_tables *at, const char *me
 {
     pf_status s = pf_wave_to(w, PF_POSITION);
     if (s) return s;
-    double r = pf_kernel_probability(w, pf_kernel_axis_mask(w->grid, w->data, (const double complex *const *)at->t));
+    double r = pf_kernel_probability(w, pf_kernel_axis_mask(w->grid, w->store, (const double complex *const *)at->t));
     if (r < 0) r = 0; /* |t| <= 1 on every built-in mask; only rounding can go below */
     pf_wave_log_step(w, "mask", method, 0.0, r, -1.0);
     if (removed) *removed = r;
@@ -173,7 +173,7 @@ pf_status pf_wave_imprint(pf_wave *w, pf_sample_fn fn, void *user)
     double norm = pf_wave_last_logged_norm(w);
     s = pf_wave_to(w, PF_POSITION);
     if (!s) {
-        pf_kernel_field_mask(g, w->data, f, 0);
+        pf_kernel_field_mask(g, w->store, f, 0);
         pf_wave_log_step(w, "imprint", "function", 0.0, 0.0, norm);
     }
     pf_free(g->ctx, f, bytes);
@@ -302,7 +302,7 @@ pf_status pf_wave_aperture_circle(pf_wave *w, int axis_a, int axis_b, const doub
     }
     s = pf_wave_to(w, PF_POSITION);
     if (!s) {
-        double r = pf_kernel_probability(w, pf_kernel_field_mask(g, w->data, f, 1));
+        double r = pf_kernel_probability(w, pf_kernel_field_mask(g, w->store, f, 1));
         if (r < 0) r = 0;
         pf_wave_log_step(w, "mask", "circle", 0.0, r, -1.0);
         if (removed) *removed = r;
@@ -329,7 +329,7 @@ pf_status pf_wave_mask(pf_wave *w, pf_rep rep, pf_sample_fn fn, void *user, doub
     }
     s = pf_wave_to(w, rep);
     if (!s) {
-        double r = pf_kernel_probability(w, pf_kernel_field_mask(g, w->data, f, 1));
+        double r = pf_kernel_probability(w, pf_kernel_field_mask(g, w->store, f, 1));
         if (r < 0) r = 0;
         pf_wave_log_step(w, rep == PF_POSITION ? "mask" : "momentum-mask", "function", 0.0, r, -1.0);
         if (removed) *removed = r;
@@ -346,8 +346,9 @@ pf_status pf_wave_mask(pf_wave *w, pf_rep rep, pf_sample_fn fn, void *user, doub
 static pf_status to_momentum_unscaled(pf_wave *w, double *scale)
 {
     *scale = 1.0;
+    if (w->deferred.active) return pf_wave_settle_to(w, PF_MOMENTUM); /* scaled already */
     if (w->rep == PF_MOMENTUM) return PF_OK;
-    pf_status s = pf_grid_fft(w->grid, w->data, -1);
+    pf_status s = pf_grid_fft(w->grid, w->store, -1);
     if (s) return s;
     *scale = 1.0 / (double)w->grid->total;
     w->rep = PF_MOMENTUM;
@@ -371,7 +372,7 @@ pf_status pf_wave_shift(pf_wave *w, const double *d)
     double norm = pf_wave_last_logged_norm(w), scale;
     s = to_momentum_unscaled(w, &scale);
     if (!s) {
-        pf_kernel_axis_multiply(g, w->data, (const double complex *const *)at.t, scale);
+        pf_kernel_axis_multiply(g, w->store, (const double complex *const *)at.t, scale);
         pf_wave_log_step(w, "shift", "momentum-exact", 0.0, 0.0, norm);
     }
     tables_free(&at);
@@ -400,7 +401,7 @@ pf_status pf_wave_select_velocity(pf_wave *w, int axis, double center, double wi
     }
     s = pf_wave_to(w, PF_MOMENTUM);
     if (!s) {
-        double r = pf_kernel_probability(w, pf_kernel_axis_mask(g, w->data, (const double complex *const *)at.t));
+        double r = pf_kernel_probability(w, pf_kernel_axis_mask(g, w->store, (const double complex *const *)at.t));
         if (r < 0) r = 0;
         pf_wave_log_step(w, "momentum-mask", gaussian ? "velocity-gauss" : "velocity-box", 0.0, r, -1.0);
         if (removed) *removed = r;

@@ -71,11 +71,13 @@ pf_status pf_wave_energy(pf_wave *w, const double *potential, double g, double *
 {
     pf_grid *gr = w->grid;
     if (!isfinite(g)) return pf_fail(gr->ctx, PF_EINVAL, "g must be finite, got %g", g);
+    pf_status settled = pf_wave_settle(w);
+    if (settled) return settled;
     size_t bytes = pf_bytes(gr->total, sizeof(double complex));
     double complex *pos = pf_alloc(gr->ctx, 2 * bytes);
     if (!pos) return gr->ctx->message[0] ? PF_ELIMIT : PF_ENOMEM;
     double complex *scratch = pos + gr->total;
-    memcpy(pos, w->data, bytes);
+    memcpy(pos, w->store, bytes);
     pf_status s = PF_OK;
     if (w->rep == PF_MOMENTUM) s = pf_grid_fft(gr, pos, +1); /* S = DFT/N: backward gives psi */
     double e = 0, m = 0;
@@ -140,7 +142,7 @@ pf_status pf_wave_relax(pf_wave *w, const pf_relax_spec *spec, pf_relax_info *in
          * at the grid edges where the state is negligible, fixes both the
          * convergence speed and the O(dtau^2) offset of the fixed point. */
         double e0 = 0, mu0 = 0;
-        if ((s = energy_of(w, w->data, V, spec->g, scratch, &e0, &mu0))) goto done;
+        if ((s = energy_of(w, w->store, V, spec->g, scratch, &e0, &mu0))) goto done;
         if (!(e0 - vmin > 0)) {
             s = pf_fail(ctx, PF_EINVAL, "cannot choose a default dt: the starting energy %g J is not above the "
                         "potential minimum %g J; give dt (imaginary-time step, s)", e0, vmin);
@@ -171,20 +173,20 @@ pf_status pf_wave_relax(pf_wave *w, const pf_relax_spec *spec, pf_relax_info *in
     size_t step = 0;
     double inv_n = 1.0 / (double)g->total;
     while (step < spec->max_steps) {
-        damp_potential(g, w->data, V, vmin, spec->g, f, factor);
-        if ((s = pf_grid_fft(g, w->data, -1))) goto done;
-        pf_kernel_axis_multiply(g, w->data, (const double complex *const *)kin, inv_n);
-        if ((s = pf_grid_fft(g, w->data, +1))) goto done;
+        damp_potential(g, w->store, V, vmin, spec->g, f, factor);
+        if ((s = pf_grid_fft(g, w->store, -1))) goto done;
+        pf_kernel_axis_multiply(g, w->store, (const double complex *const *)kin, inv_n);
+        if ((s = pf_grid_fft(g, w->store, +1))) goto done;
         /* With a mean field, renormalise before the second half-step too:
          * both halves then see the density of a normalised state, which keeps
          * the step symmetric and the fixed point's offset O(dtau^2) (with the
          * decayed norm in the second half it would be O(dtau)). */
         if (spec->g != 0 && (s = pf_wave_normalize(w))) goto done;
-        damp_potential(g, w->data, V, vmin, spec->g, f, factor);
+        damp_potential(g, w->store, V, vmin, spec->g, f, factor);
         if ((s = pf_wave_normalize(w))) goto done;
         step++;
         if (step % spec->check_every == 0 || step == spec->max_steps) {
-            if ((s = energy_of(w, w->data, V, spec->g, scratch, &e, &mu))) goto done;
+            if ((s = energy_of(w, w->store, V, spec->g, scratch, &e, &mu))) goto done;
             if (isfinite(e_prev)) {
                 change = fabs(e - e_prev) / fmax(fabs(e), 1e-300);
                 if (change <= spec->tolerance) {

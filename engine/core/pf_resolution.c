@@ -98,7 +98,7 @@ pf_status pf_resolution_check_edges(pf_wave *w, pf_rep rep, const char *builder,
         }
     }
     double sums[1 + 2 * PF_MAX_DIM];
-    s = pf_reduce_axis_moments(g, w->data, (const double *const *)mask, sums);
+    s = pf_reduce_axis_moments(g, w->store, (const double *const *)mask, sums);
     for (int a = 0; a < g->dim; a++) free(mask[a]);
     if (s) return s;
     int warned = 0;

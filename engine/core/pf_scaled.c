@@ -100,7 +100,7 @@ static double cropped_probability(const pf_wave *w, const long *shift, const siz
             long o = (long)idx[a] + shift[a];
             if (o < 0 || o >= (long)nout[a]) outside = 1;
         }
-        if (outside) lost += creal(w->data[off]) * creal(w->data[off]) + cimag(w->data[off]) * cimag(w->data[off]);
+        if (outside) lost += creal(w->store[off]) * creal(w->store[off]) + cimag(w->store[off]) * cimag(w->store[off]);
         for (int a = g->dim - 1; a >= 0; a--) {
             if (++idx[a] < g->n[a]) break;
             idx[a] = 0;
@@ -141,7 +141,7 @@ static pf_status scaled_stage(pf_wave *w, const double *ta, pf_grid *gout, doubl
     /* Same point count: the stage runs in place, with no new storage (the
      * usual case, and the one the benchmark measures). */
     const int in_place = !padded && !cropped;
-    double complex *out = in_place ? w->data : pf_alloc(ctx, bytes);
+    double complex *out = in_place ? w->store : pf_alloc(ctx, bytes);
     if (!out) return ctx->message[0] && strstr(ctx->message, "cap") ? PF_ELIMIT : PF_ENOMEM;
     size_t table_len = 0;
     for (int a = 0; a < d; a++) table_len += 2 * gout->n[a];
@@ -174,7 +174,7 @@ static pf_status scaled_stage(pf_wave *w, const double *ta, pf_grid *gout, doubl
         hi[i] = (size_t)h;
     }
     if (padded) memset(out, 0, bytes);
-    const double complex *in = w->data;
+    const double complex *in = w->store;
     const int threads = ctx->threads;
     /* Pass 1: the input chirp; a zero-padded (or cropped) copy when the point
      * count changes. */
@@ -204,8 +204,8 @@ static pf_status scaled_stage(pf_wave *w, const double *ta, pf_grid *gout, doubl
     chirp_pass(out, &so, Q, threads);
     free(tables);
     /* Move the wave to its new grid. */
-    if (!in_place) pf_free(ctx, w->data, pf_bytes(gin->total, sizeof(double complex)));
-    w->data = out;
+    if (!in_place) pf_free(ctx, w->store, pf_bytes(gin->total, sizeof(double complex)));
+    w->store = out;
     pf_grid_retain(gout);
     w->grid = gout;
     pf_grid_release(gin);

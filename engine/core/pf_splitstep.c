@@ -89,7 +89,7 @@ static void occupied_range(const pf_wave *w, const double *V, double peak, doubl
 {
     double a = INFINITY, b = -INFINITY, cut = OCCUPIED_FRACTION * peak;
     for (size_t i = 0; i < w->grid->total; i++) {
-        double complex z = w->data[i];
+        double complex z = w->store[i];
         if (creal(z) * creal(z) + cimag(z) * cimag(z) < cut) continue;
         if (V[i] < a) a = V[i];
         if (V[i] > b) b = V[i];
@@ -103,7 +103,7 @@ static double max_density(pf_wave *w)
 {
     double m = 0;
     for (size_t i = 0; i < w->grid->total; i++) {
-        double complex z = w->data[i];
+        double complex z = w->store[i];
         double r = creal(z) * creal(z) + cimag(z) * cimag(z);
         if (r > m) m = r;
     }
@@ -114,7 +114,7 @@ static double max_density(pf_wave *w)
 static void potential_pass_direct(evolve_ws *ws, const double *V, double coef)
 {
     const double f = coef * ws->h / PF_HBAR, gc = ws->spec->g;
-    double complex *d = ws->w->data;
+    double complex *d = ws->w->store;
     ptrdiff_t n = (ptrdiff_t)ws->g->total;
 #pragma omp parallel for num_threads(ws->g->ctx->threads) schedule(static)
     for (ptrdiff_t i = 0; i < n; i++) {
@@ -129,7 +129,7 @@ static void potential_pass_direct(evolve_ws *ws, const double *V, double coef)
  * factor for a boundary (0: e1, 1: e1^2, 2: e1 e2). */
 static void potential_pass_static(evolve_ws *ws, int which)
 {
-    double complex *d = ws->w->data;
+    double complex *d = ws->w->store;
     const double complex *e1 = ws->e1, *e2 = ws->e2;
     ptrdiff_t n = (ptrdiff_t)ws->g->total;
     const int threads = ws->g->ctx->threads;
@@ -171,11 +171,11 @@ static pf_status potential_step(evolve_ws *ws, double coef, int kind, double t)
 
 static pf_status kinetic_step(evolve_ws *ws, int table)
 {
-    pf_status s = pf_grid_fft(ws->g, ws->w->data, -1);
+    pf_status s = pf_grid_fft(ws->g, ws->w->store, -1);
     if (s) return s;
-    pf_kernel_axis_multiply(ws->g, ws->w->data, (const double complex *const *)ws->kin[table],
+    pf_kernel_axis_multiply(ws->g, ws->w->store, (const double complex *const *)ws->kin[table],
                             1.0 / (double)ws->g->total);
-    return pf_grid_fft(ws->g, ws->w->data, +1);
+    return pf_grid_fft(ws->g, ws->w->store, +1);
 }
 
 void pf_evolve_cache_init(pf_evolve_cache *c) { memset(c, 0, sizeof *c); }

@@ -18,12 +18,12 @@ pf_status pf_wave_new(pf_grid *g, double mass, pf_wave **out)
         return pf_fail(ctx, PF_EINVAL, "mass must be finite and positive (kg), got %g", mass);
     pf_wave *w = calloc(1, sizeof *w);
     if (!w) return pf_fail(ctx, PF_ENOMEM, "out of memory for a wave function");
-    w->data = pf_alloc(ctx, data_bytes(g));
-    if (!w->data) {
+    w->store = pf_alloc(ctx, data_bytes(g));
+    if (!w->store) {
         free(w);
         return ctx->message[0] && strstr(ctx->message, "cap") ? PF_ELIMIT : PF_ENOMEM;
     }
-    memset(w->data, 0, data_bytes(g));
+    memset(w->store, 0, data_bytes(g));
     w->grid = g;
     pf_grid_retain(g);
     w->mass = mass;
@@ -39,8 +39,9 @@ pf_status pf_wave_copy(const pf_wave *src, pf_wave **out)
     pf_status s = pf_wave_new(src->grid, src->mass, out);
     if (s) return s;
     pf_wave *w = *out;
-    memcpy(w->data, src->data, data_bytes(src->grid));
+    memcpy(w->store, src->store, data_bytes(src->grid));
     w->rep = src->rep;
+    w->deferred = src->deferred; /* the copy carries the same deferred flight */
     w->clock = src->clock;
     w->norm_now = src->norm_now;
     w->guard = src->guard; /* a copy has been warned about already */
@@ -56,7 +57,7 @@ pf_status pf_wave_copy(const pf_wave *src, pf_wave **out)
 void pf_wave_free(pf_wave *w)
 {
     if (!w) return;
-    pf_free(w->grid->ctx, w->data, data_bytes(w->grid));
+    pf_free(w->grid->ctx, w->store, data_bytes(w->grid));
     pf_steplog_clear(&w->log);
     pf_grid_release(w->grid);
     free(w);
@@ -71,10 +72,23 @@ void pf_wave_set_clock(pf_wave *w, double t) { w->clock = t; }
  * forgotten (it is measured again when next needed). */
 double complex *pf_wave_data(pf_wave *w)
 {
+    double complex *d = pf_wave_settled(w);
     w->norm_now = -1.0;
-    return w->data;
+    return d;
 }
-const double complex *pf_wave_data_const(const pf_wave *w) { return w->data; }
+
+/* Settling a deferred flight changes how the state is stored, not the state,
+ * so it is allowed on a const wave (every pf_wave is heap-allocated and
+ * writable underneath). */
+const double complex *pf_wave_data_const(const pf_wave *w) { return pf_wave_settled((pf_wave *)w); }
+
+double complex *pf_wave_settled(pf_wave *w) { return pf_wave_settle(w) == PF_OK ? w->store : NULL; }
+
+double complex *pf_wave_overwrite(pf_wave *w)
+{
+    w->deferred.active = 0;
+    return w->store;
+}
 
 double complex pf_wave_momentum_factor(const pf_wave *w, const size_t *index)
 {
@@ -86,19 +100,20 @@ double complex pf_wave_momentum_factor(const pf_wave *w, const size_t *index)
 
 pf_status pf_wave_to(pf_wave *w, pf_rep rep)
 {
+    if (w->deferred.active) return pf_wave_settle_to(w, rep);
     if (w->rep == rep) return PF_OK;
     pf_grid *g = w->grid;
     if (rep == PF_MOMENTUM) {
-        pf_status s = pf_grid_fft(g, w->data, -1);
+        pf_status s = pf_grid_fft(g, w->store, -1);
         if (s) return s;
         /* S = DFT(psi) / N: the backward transform then needs no scaling. */
         double inv = 1.0 / (double)g->total;
-        double complex *d = w->data;
+        double complex *d = w->store;
         ptrdiff_t n = (ptrdiff_t)g->total;
 #pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
         for (ptrdiff_t i = 0; i < n; i++) d[i] *= inv;
     } else {
-        pf_status s = pf_grid_fft(g, w->data, +1);
+        pf_status s = pf_grid_fft(g, w->store, +1);
         if (s) return s;
     }
     w->rep = rep;
@@ -150,7 +165,8 @@ pf_status pf_wave_fill(pf_wave *w, pf_rep rep, pf_sample_fn fn, void *user)
     const pf_grid *g = w->grid;
     /* phi(k) values become storage values S = phi / prod c_a (pf_wave.h). */
     pf_status s = pf_grid_sample(g, rep, fn, user, rep == PF_MOMENTUM ? (const double complex *const *)g->kfactor : NULL,
-                                 w->data);
+                                 w->store);
+    w->deferred.active = 0; /* new data: a deferred flight of the old ones is void */
     w->rep = rep;
     w->norm_now = -1.0;
     return s;
@@ -162,7 +178,7 @@ pf_status pf_wave_value(pf_wave *w, pf_rep rep, const size_t *index, double comp
     if (s) return s;
     s = pf_wave_to(w, rep);
     if (s) return s;
-    double complex v = w->data[offset_of(w->grid, index)];
+    double complex v = w->store[offset_of(w->grid, index)];
     if (rep == PF_MOMENTUM) v *= pf_wave_momentum_factor(w, index);
     *out = v;
     return PF_OK;
@@ -177,7 +193,7 @@ pf_status pf_wave_set_value(pf_wave *w, pf_rep rep, const size_t *index, double 
     s = pf_wave_to(w, rep);
     if (s) return s;
     if (rep == PF_MOMENTUM) v /= pf_wave_momentum_factor(w, index);
-    w->data[offset_of(w->grid, index)] = v;
+    w->store[offset_of(w->grid, index)] = v;
     pf_guard_forget(w); /* the data changed without a logged step */
     w->norm_now = -1.0;
     return PF_OK;
@@ -190,7 +206,7 @@ pf_status pf_wave_density(pf_wave *w, pf_rep rep, double *out)
     if (s) return s;
     if (rep == PF_POSITION) {
         for (size_t i = 0; i < g->total; i++) {
-            double complex z = w->data[i];
+            double complex z = w->store[i];
             out[i] = creal(z) * creal(z) + cimag(z) * cimag(z);
         }
         return PF_OK;
@@ -204,7 +220,7 @@ pf_status pf_wave_density(pf_wave *w, pf_rep rep, double *out)
             size_t aj = g->dim > 1 ? pf_grid_ascending_index(g, 1, j) : 0;
             for (size_t k = 0; k < n2; k++) {
                 size_t ak = g->dim > 2 ? pf_grid_ascending_index(g, 2, k) : 0;
-                double complex z = w->data[(i * n1 + j) * n2 + k];
+                double complex z = w->store[(i * n1 + j) * n2 + k];
                 out[(ai * n1 + aj) * n2 + ak] = scale * (creal(z) * creal(z) + cimag(z) * cimag(z));
             }
         }
@@ -216,7 +232,8 @@ pf_status pf_wave_scale(pf_wave *w, double complex a)
 {
     if (!isfinite(creal(a)) || !isfinite(cimag(a)))
         return pf_fail(w->grid->ctx, PF_EINVAL, "scale factor must be finite, got %g%+gi", creal(a), cimag(a));
-    double complex *d = w->data;
+    /* A constant factor commutes with a deferred flight: no need to settle. */
+    double complex *d = w->store;
     ptrdiff_t n = (ptrdiff_t)w->grid->total;
 #pragma omp parallel for num_threads(w->grid->ctx->threads) schedule(static)
     for (ptrdiff_t i = 0; i < n; i++) d[i] *= a;

@@ -120,7 +120,7 @@ pf_status pf_wave_wigner(pf_wave *w, int axis, pf_wigner_mode mode, const size_t
         for (int a = axis + 1; a < g->dim; a++) i = i * g->n[a] + through[a];
         double norm = 0;
         for (size_t m = 0; m < n; m++) {
-            k.line[m] = w->data[(o * n + m) * inner + i];
+            k.line[m] = w->store[(o * n + m) * inner + i];
             norm += creal(k.line[m] * conj(k.line[m]));
         }
         norm *= dx;
@@ -132,7 +132,7 @@ pf_status pf_wave_wigner(pf_wave *w, int axis, pf_wigner_mode mode, const size_t
             if (a != axis) cell *= g->dx[a];
         for (size_t o = 0; o < outer && !s; o++)
             for (size_t i = 0; i < inner && !s; i++) {
-                for (size_t m = 0; m < n; m++) k.line[m] = w->data[(o * n + m) * inner + i];
+                for (size_t m = 0; m < n; m++) k.line[m] = w->store[(o * n + m) * inner + i];
                 s = line_wigner(&k, dx, weight * cell, out);
             }
     }

@@ -6,7 +6,8 @@
  *   repeat  a further flight with no measurement in between (phase pass
  *           only: the state stays in momentum representation),
  * both in ms and as a ratio to a raw FFTW forward+backward pair of the same
- * size, planning flags and threads.  Targets: step/pair <= 1.10, repeat a
+ * size, planning flags and threads, timed call by call in alternation
+ * (bench_paired in bench_util.h).  Targets: step/pair <= 1.10, repeat a
  * small fraction of a pair.  Usage: bench_flight [quick]. */
 #include <math.h>
 #include <stdio.h>
@@ -62,28 +63,31 @@ static void bench_size(pf_context *ctx, int dim, const int *n, int threads, FILE
         exit(1);
     }
     pf_wave_fill(w, PF_POSITION, fill_gauss, &dim);
-    /* Plan (and store wisdom) before timing the raw pair, so both use the
-     * same wisdom and neither pays for planning inside the timing. */
+    /* Plan (and store wisdom) before the raw pair is planned, so both use
+     * the same wisdom and neither pays for planning inside the timing. */
     pf_wave_to(w, PF_MOMENTUM);
     pf_wave_to(w, PF_POSITION);
-    /* The raw pair and the engine step are timed alternately, three rounds,
-     * best of each: the ratio then does not depend on when the machine
-     * happened to be busy.  dt is arbitrary; the per-axis tables are built
-     * once, as in real use. */
+    bench_fft_pair raw;
+    bench_fft_pair_init(&raw, dim, n, threads, FFTW_MEASURE);
+    /* The raw pair and the engine step alternate call by call and the ratio
+     * is the median of the per-pair ratios (bench_paired): the machine's
+     * drifting speed then cancels.  The raw pair transforms the wave's own
+     * array (fftw_malloc gives both arrays the same alignment), so both start
+     * from the same cache state; an untimed rescale undoes its factor N.
+     * dt is arbitrary; the per-axis tables are built once, as in real use. */
+    raw.run = (fftw_complex *)pf_wave_data(w);
     step_arg arg = {w, 1e-3};
-    double pair = 1e300, step = 1e300;
-    for (int round = 0; round < 3; round++) {
-        double p = bench_raw_fft_ms(dim, n, threads, FFTW_MEASURE, NULL);
-        double s = bench_ms(run_step, &arg, 2, 0.2);
-        if (p < pair) pair = p;
-        if (s < step) step = s;
-    }
+    double pair, step, pair2, repeat, q_step[2], q_repeat[2];
+    double r_step = bench_paired(bench_fft_pair_run, &raw, bench_fft_pair_rescale, run_step, &arg, 1.0, &pair, &step,
+                                 q_step);
     pf_wave_to(w, PF_MOMENTUM);
-    double repeat = bench_ms(run_repeat, &arg, 3, 0.2);
+    double r_repeat = bench_paired(bench_fft_pair_run, &raw, bench_fft_pair_rescale, run_repeat, &arg, 0.5, &pair2,
+                                   &repeat, q_repeat);
+    bench_fft_pair_free(&raw);
     bench_shape(dim, n, shape, sizeof shape);
-    printf("flight  %-16s threads %d   step %9.3f ms   fft pair %9.3f ms   ratio %5.3f   "
+    printf("flight  %-16s threads %d   step %9.3f ms   fft pair %9.3f ms   ratio %5.3f (quartiles %5.3f-%5.3f)   "
            "repeat flight %8.3f ms (%.3f of a pair)\n",
-           shape, threads, step, pair, step / pair, repeat, repeat / pair);
+           shape, threads, step, pair, r_step, q_step[0], q_step[1], repeat, r_repeat);
     fflush(stdout);
     if (csv) fprintf(csv, "%s,%d,%.6f,%.6f,%.6f\n", shape, threads, step, pair, repeat);
     pf_wave_free(w);

@@ -1,0 +1,145 @@
+/* pf_fused.c - the free-flight step (forward transform, phase, backward
+ * transform) on a 2D or 3D grid as one fused sweep.
+ *
+ * Done separately, the step is a forward FFT, a phase pass and a backward
+ * FFT: FFTW's multidimensional transforms each sweep memory about twice (the
+ * trailing axes, then axis 0), and the phase pass is one more sweep, five in
+ * all.  Here the axis-0 transforms of both directions and the phase meet in
+ * the middle: for each block of columns (fixed axis-1/2 indices), the block
+ * is gathered into a small buffer, transformed along axis 0, multiplied by
+ * the phase, transformed back and scattered, all while it sits in cache.
+ * Three sweeps: trailing axes forward, column blocks, trailing axes backward.
+ *
+ * The block layout does not depend on the thread count (blocks are divided
+ * among threads, each with its own buffer), so neither do the results. */
+#include <omp.h>
+#include <string.h>
+#include "pf_internal.h"
+
+/* Columns per block: 16 columns of a few thousand points fill a buffer that
+ * stays in a core's L2 cache. */
+#define FUSED_BLOCK ((size_t)16)
+
+void pf_fused_release(pf_grid *g)
+{
+    pf_fused_plans *fp = &g->fused;
+    fftw_plan *plans[] = {&fp->slab_fwd, &fp->slab_bwd, &fp->col_fwd, &fp->col_bwd, &fp->tail_fwd, &fp->tail_bwd};
+    for (size_t i = 0; i < sizeof plans / sizeof plans[0]; i++) {
+        if (*plans[i]) fftw_destroy_plan(*plans[i]);
+        *plans[i] = NULL;
+    }
+    if (fp->buf) pf_free(g->ctx, fp->buf, fp->buf_bytes);
+    memset(fp, 0, sizeof *fp);
+}
+
+static fftw_plan column_plan(const pf_grid *g, size_t width, double complex *buf, int sign, unsigned flags)
+{
+    int n0 = (int)g->n[0];
+    return fftw_plan_many_dft(1, &n0, (int)width, buf, NULL, 1, (int)g->fused.ld, buf, NULL, 1, (int)g->fused.ld,
+                              sign, flags);
+}
+
+/* Makes the plans and buffers for the context's current thread count. */
+static pf_status fused_plan(pf_grid *g)
+{
+    pf_context *ctx = g->ctx;
+    pf_fused_plans *fp = &g->fused;
+    if (fp->threads == ctx->threads) return PF_OK;
+    pf_fused_release(g);
+    const size_t n0 = g->n[0], plane = g->total / n0;
+    fp->block = plane < FUSED_BLOCK ? plane : FUSED_BLOCK;
+    fp->tail = plane % fp->block;
+    fp->blocks = plane / fp->block + (fp->tail ? 1 : 0);
+    /* Gathered columns are padded apart: at a power-of-two stride they
+     * would all fall into the same cache sets.  Multiples of 4 values keep
+     * every column on a 64-byte boundary. */
+    fp->ld = (n0 + 3) / 4 * 4 + 4;
+    fp->buf_bytes = pf_bytes(pf_bytes((size_t)ctx->threads * fp->block, fp->ld), sizeof(double complex));
+    fp->buf = fp->buf_bytes ? pf_alloc(ctx, fp->buf_bytes) : NULL;
+    if (!fp->buf) {
+        memset(fp, 0, sizeof *fp);
+        return PF_ELIMIT;
+    }
+    size_t bytes = pf_bytes(g->total, sizeof(double complex));
+    /* Planning with FFTW_MEASURE overwrites its arrays, so plan on scratch. */
+    double complex *scratch = pf_alloc(ctx, bytes);
+    if (!scratch) {
+        pf_fused_release(g);
+        return PF_ELIMIT;
+    }
+    unsigned flags = ctx->planning == PF_PLAN_ESTIMATE ? FFTW_ESTIMATE : FFTW_MEASURE;
+    int tn[PF_MAX_DIM - 1];
+    for (int a = 1; a < g->dim; a++) tn[a - 1] = (int)g->n[a];
+    pf_context_prepare_planner(ctx);
+    fp->slab_fwd = fftw_plan_many_dft(g->dim - 1, tn, (int)n0, scratch, NULL, 1, (int)plane, scratch, NULL, 1,
+                                      (int)plane, FFTW_FORWARD, flags);
+    fp->slab_bwd = fftw_plan_many_dft(g->dim - 1, tn, (int)n0, scratch, NULL, 1, (int)plane, scratch, NULL, 1,
+                                      (int)plane, FFTW_BACKWARD, flags);
+    pf_free(ctx, scratch, bytes);
+    /* Each column block runs on one thread; the blocks are shared out. */
+    fftw_plan_with_nthreads(1);
+    fp->col_fwd = column_plan(g, fp->block, fp->buf, FFTW_FORWARD, flags);
+    fp->col_bwd = column_plan(g, fp->block, fp->buf, FFTW_BACKWARD, flags);
+    if (fp->tail) {
+        fp->tail_fwd = column_plan(g, fp->tail, fp->buf, FFTW_FORWARD, flags);
+        fp->tail_bwd = column_plan(g, fp->tail, fp->buf, FFTW_BACKWARD, flags);
+    }
+    fftw_plan_with_nthreads(ctx->threads);
+    if (!fp->slab_fwd || !fp->slab_bwd || !fp->col_fwd || !fp->col_bwd || (fp->tail && (!fp->tail_fwd || !fp->tail_bwd))) {
+        pf_fused_release(g);
+        return pf_fail(ctx, PF_EFFT, "FFTW could not plan the fused flight transforms of %zu points", g->total);
+    }
+    fp->threads = ctx->threads;
+    pf_context_store_wisdom(ctx);
+    return PF_OK;
+}
+
+/* buf[j * ld + i] = data[i * plane + j] for i < n0, j < width, and back. */
+static void gather(const double complex *restrict data, size_t plane, size_t n0, size_t width,
+                   double complex *restrict buf, size_t ld)
+{
+    for (size_t i = 0; i < n0; i++) {
+        const double complex *src = data + i * plane;
+        for (size_t j = 0; j < width; j++) buf[j * ld + i] = src[j];
+    }
+}
+
+static void scatter(const double complex *restrict buf, size_t ld, size_t n0, size_t width,
+                    double complex *restrict data, size_t plane)
+{
+    for (size_t i = 0; i < n0; i++) {
+        double complex *dst = data + i * plane;
+        for (size_t j = 0; j < width; j++) dst[j] = buf[j * ld + i];
+    }
+}
+
+pf_status pf_fused_flight(pf_grid *g, double complex *data, double scale)
+{
+    pf_status s = fused_plan(g);
+    if (s) return s;
+    const pf_fused_plans *fp = &g->fused;
+    const size_t n0 = g->n[0], plane = g->total / n0, n2 = g->dim == 3 ? g->n[2] : 1;
+    double complex *const *P = g->flight.phase;
+    const pf_phase_row_fn phase_row = pf_phase_kernel();
+    fftw_execute_dft(fp->slab_fwd, data, data);
+#pragma omp parallel for num_threads(fp->threads) schedule(static)
+    for (ptrdiff_t b = 0; b < (ptrdiff_t)fp->blocks; b++) {
+        const size_t q0 = (size_t)b * fp->block;
+        const int partial = q0 + fp->block > plane;
+        const size_t width = partial ? fp->tail : fp->block;
+        double complex *buf = fp->buf + (size_t)omp_get_thread_num() * fp->block * fp->ld;
+        gather(data + q0, plane, n0, width, buf, fp->ld);
+        fftw_execute_dft(partial ? fp->tail_fwd : fp->col_fwd, buf, buf);
+        for (size_t j = 0; j < width; j++) {
+            /* Column q has the phase factor of its trailing-axis indices;
+             * the axis-0 table runs along the gathered column. */
+            size_t q = q0 + j;
+            double complex f = g->dim == 3 ? scale * P[1][q / n2] * P[2][q % n2] : scale * P[1][q];
+            phase_row((double *)(buf + j * fp->ld), (const double *)P[0], creal(f), cimag(f), n0);
+        }
+        fftw_execute_dft(partial ? fp->tail_bwd : fp->col_bwd, buf, buf);
+        scatter(buf, fp->ld, n0, width, data + q0, plane);
+    }
+    fftw_execute_dft(fp->slab_bwd, data, data);
+    return PF_OK;
+}
