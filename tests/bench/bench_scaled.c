@@ -110,6 +110,8 @@ static void bench_size(pf_context *ctx, int dim, const int *n, int threads)
     fftw_plan_with_nthreads(threads);
     raw.fwd = fftw_plan_dft(dim, n, raw.data, raw.data, FFTW_FORWARD, FFTW_MEASURE);
     raw.bwd = NULL;
+    raw.run = raw.data;
+    raw.total = total;
     for (size_t i = 0; i < total; i++) raw.data[i] = 1e-3 * (double)(i % 17) + I * 1e-3 * (double)(i % 5);
     double one = 1e300, onto = 1e300, fresh = 1e300;
     for (int round = 0; round < 5; round++) {

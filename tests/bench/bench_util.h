@@ -58,7 +58,7 @@ static inline double bench_ms(bench_fn fn, void *user, int blocks, double min_se
  * takes milliseconds, so one call is far above the clock's resolution. */
 #define BENCH_MAX_PAIRS 4001
 
-static int bench_cmp_double(const void *x, const void *y)
+static inline int bench_cmp_double(const void *x, const void *y)
 {
     double a = *(const double *)x, b = *(const double *)y;
     return (a > b) - (a < b);
@@ -148,7 +148,7 @@ static inline void bench_fft_pair_init(bench_fft_pair *p, int dim, const int *n,
 
 /* An unnormalised pair multiplies the data by N; undone (untimed) so the
  * values never overflow to inf, whose arithmetic would not be a fair test. */
-static void bench_fft_pair_rescale(void *user)
+static inline void bench_fft_pair_rescale(void *user)
 {
     bench_fft_pair *p = user;
     double inv = 1.0 / (double)p->total;
