@@ -1,9 +1,40 @@
 /* pf_flight.c - exact free flight: phi(k) -> phi(k) exp(-i hbar |k|^2 t / 2m). */
 #include <math.h>
+#include <stdlib.h>
 #include "pf_constants.h"
 #include "pf_flight.h"
 #include "pf_guard.h"
 #include "pf_internal.h"
+
+/* The 1D segment tables (see PF_PHASE_SEG): on a large grid, reading the
+ * full-length table in the phase pass would add half again to its memory
+ * traffic; these are 1/16 of it.  Allocated once per grid; without them (small
+ * grids, or no memory) the full table is used. */
+static void segment_tables(pf_grid *g, double tau)
+{
+    pf_flight_tables *ft = &g->flight;
+    const size_t n = g->n[0], segs = (n + PF_PHASE_SEG - 1) / PF_PHASE_SEG;
+    if (n < PF_PHASE_SEG_MIN) return;
+    if (!ft->seg_start) {
+        ft->seg_start = malloc(segs * sizeof(double complex));
+        ft->seg_ratio = malloc(segs * sizeof(double complex));
+        if (!ft->seg_start || !ft->seg_ratio) {
+            free(ft->seg_start);
+            free(ft->seg_ratio);
+            ft->seg_start = ft->seg_ratio = NULL;
+            return;
+        }
+    }
+    double dk = PF_TWO_PI / g->span[0];
+    double c = 0.5 * tau * dk * dk;
+    for (size_t s = 0; s < PF_PHASE_SEG; s++) ft->chirp[s] = cexp(-I * (c * (double)(s * s)));
+    for (size_t q = 0; q < segs; q++) {
+        size_t j0 = q * PF_PHASE_SEG;
+        double m0 = nearbyint(g->k[0][j0] / dk);
+        ft->seg_start[q] = ft->phase[0][j0];
+        ft->seg_ratio[q] = cexp(-I * (2.0 * c * m0));
+    }
+}
 
 /* Fills the per-axis phase tables for tau = hbar t / m, unless they already
  * hold that tau.  exp(-i tau |k|^2 / 2) = prod_a exp(-i tau k_a^2 / 2). */
@@ -19,6 +50,7 @@ static void flight_tables(pf_grid *g, double tau)
             g->flight.phase[a][j] = cexp(-I * (c * m * m));
         }
     }
+    if (g->dim == 1) segment_tables(g, tau);
     g->flight.tau = tau;
     g->flight.valid = 1;
 }
@@ -98,6 +130,78 @@ pf_phase_row_fn pf_phase_kernel(void)
     return k;
 }
 
+/* One 1D segment: d[s] *= a * chirp[s] * b^s for s < PF_PHASE_SEG.  Four
+ * lanes carry a b^v, v = 0..3, each advanced by b^4 per step, so the powers
+ * take at most 8 products (a few ulp) and the lanes are independent. */
+static void phase_segment_plain(double complex *restrict d, const double complex *restrict chirp, double complex a,
+                                double complex b)
+{
+    double complex b2 = b * b, b4 = b2 * b2;
+    double complex cv[4] = {a, a * b, a * b2, a * b2 * b};
+    for (size_t u = 0; u < PF_PHASE_SEG; u += 4)
+        for (int v = 0; v < 4; v++) {
+            d[u + v] *= cv[v] * chirp[u + v];
+            cv[v] *= b4;
+        }
+}
+
+#ifdef PF_HAVE_X86_PHASE
+/* x * y for four complex numbers per register (interleaved re, im). */
+__attribute__((target("avx512f"))) static inline __m512d cmul512(__m512d x, __m512d y)
+{
+    return _mm512_fmaddsub_pd(x, _mm512_movedup_pd(y), _mm512_mul_pd(_mm512_permute_pd(x, 0x55), _mm512_permute_pd(y, 0xFF)));
+}
+
+__attribute__((target("avx512f"))) static void phase_segment_avx512(double complex *restrict d,
+                                                                     const double complex *restrict chirp,
+                                                                     double complex a, double complex b)
+{
+    double complex b2 = b * b, b4 = b2 * b2;
+    double complex init[4] = {a, a * b, a * b2, a * b2 * b};
+    __m512d cv = _mm512_loadu_pd((const double *)init);
+    const __m512d step = _mm512_set_pd(cimag(b4), creal(b4), cimag(b4), creal(b4), cimag(b4), creal(b4), cimag(b4),
+                                       creal(b4));
+    for (size_t u = 0; u < PF_PHASE_SEG; u += 4) {
+        __m512d f = cmul512(cv, _mm512_loadu_pd((const double *)(chirp + u)));
+        _mm512_storeu_pd((double *)(d + u), cmul512(_mm512_loadu_pd((const double *)(d + u)), f));
+        cv = cmul512(cv, step);
+    }
+}
+#endif
+
+typedef void (*phase_segment_fn)(double complex *restrict, const double complex *restrict, double complex,
+                                 double complex);
+
+static phase_segment_fn segment_kernel(void)
+{
+#ifdef PF_HAVE_X86_PHASE
+    if (pf_phase_kernel() == phase_row_avx512) return phase_segment_avx512;
+#endif
+    return phase_segment_plain;
+}
+
+/* 1D: data *= scale * P0 by segments; a segment that holds the jump of the
+ * FFT order from positive to negative wave numbers, or the short last one,
+ * uses the full table. */
+static void apply_phase_1d(pf_grid *g, double complex *data, double scale, size_t j0, size_t len)
+{
+    const pf_flight_tables *ft = &g->flight;
+    const pf_phase_row_fn phase_row = pf_phase_kernel();
+    if (!ft->seg_start) {
+        phase_row((double *)(data + j0), (const double *)(ft->phase[0] + j0), scale, 0.0, len);
+        return;
+    }
+    const phase_segment_fn seg = segment_kernel();
+    const size_t n = g->n[0], jump = (n + 1) / 2;
+    for (size_t j = j0; j < j0 + len; j += PF_PHASE_SEG) {
+        size_t q = j / PF_PHASE_SEG, end = j + PF_PHASE_SEG;
+        if (end > n || (j < jump && jump < end))
+            phase_row((double *)(data + j), (const double *)(ft->phase[0] + j), scale, 0.0, (end > n ? n : end) - j);
+        else
+            seg(data + j, ft->chirp, scale * ft->seg_start[q], ft->seg_ratio[q]);
+    }
+}
+
 /* 1D data are cut into rows of this many points so the pass runs in
  * parallel; the split does not affect the result (each point is independent). */
 #define PHASE_CHUNK ((size_t)8192)
@@ -116,7 +220,7 @@ static void apply_phase(pf_grid *g, double complex *data, double scale)
 #pragma omp parallel for num_threads(threads) schedule(static)
         for (ptrdiff_t c = 0; c < chunks; c++) {
             size_t j0 = (size_t)c * PHASE_CHUNK, len = n0 - j0 < PHASE_CHUNK ? n0 - j0 : PHASE_CHUNK;
-            phase_row((double *)(data + j0), (const double *)(P[0] + j0), scale, 0.0, len);
+            apply_phase_1d(g, data, scale, j0, len);
         }
         return;
     }

@@ -46,6 +46,8 @@ static void grid_destroy(pf_grid *g)
         free(g->kfactor[a]);
         free(g->flight.phase[a]);
     }
+    free(g->flight.seg_start);
+    free(g->flight.seg_ratio);
     free(g);
     pf_context_release(ctx);
 }

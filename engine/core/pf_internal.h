@@ -27,11 +27,23 @@ struct pf_context {
     double guard_threshold;   /* grid guards (pf_guard.c); <= 0 means the default */
 };
 
+/* 1D phase segments (pf_flight.c): the phase of point s of a segment that
+ * starts at integer wave number m0 is start * chirp[s] * ratio^s, with
+ * start = exp(-i c m0^2), ratio = exp(-2 i c m0), chirp[s] = exp(-i c s^2). */
+#define PF_PHASE_SEG 32
+/* Segments are used from this many points on: below it the full table stays
+ * in cache and costs no memory traffic, and its values are exact to 1 ulp
+ * (segments: within about 10 ulp, from the products forming the powers). */
+#define PF_PHASE_SEG_MIN ((size_t)1 << 16)
+
 /* Per-axis flight phase tables for one value of tau = hbar t / m. */
 typedef struct pf_flight_tables {
     double tau;
     int valid;
     double complex *phase[PF_MAX_DIM];
+    /* 1D only: per-segment start values and ratios (NULL: use phase[0]). */
+    double complex *seg_start, *seg_ratio;
+    double complex chirp[PF_PHASE_SEG];
 } pf_flight_tables;
 
 /* Plans and buffers of the fused flight step (pf_fused.c) on a 2D or 3D
