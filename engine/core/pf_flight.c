@@ -1,6 +1,7 @@
 /* pf_flight.c - exact free flight: phi(k) -> phi(k) exp(-i hbar |k|^2 t / 2m). */
 #include <math.h>
 #include <stdlib.h>
+#include <string.h>
 #include "pf_constants.h"
 #include "pf_flight.h"
 #include "pf_guard.h"
@@ -122,9 +123,15 @@ pf_phase_row_fn pf_phase_kernel(void)
     if (chosen) return chosen;
     pf_phase_row_fn k = phase_row_plain;
 #ifdef PF_HAVE_X86_PHASE
+    /* PSIFLIGHT_PHASE_KERNEL=plain|avx2 selects a lesser kernel, so that
+     * every path can be tested on one machine (docs/performance.md). */
+    const char *want = getenv("PSIFLIGHT_PHASE_KERNEL");
     __builtin_cpu_init();
-    if (__builtin_cpu_supports("avx512f")) k = phase_row_avx512;
-    else if (__builtin_cpu_supports("avx2") && __builtin_cpu_supports("fma")) k = phase_row_avx2;
+    int avx2 = __builtin_cpu_supports("avx2") && __builtin_cpu_supports("fma");
+    if (want && strcmp(want, "plain") == 0) k = phase_row_plain;
+    else if (want && strcmp(want, "avx2") == 0) k = avx2 ? phase_row_avx2 : phase_row_plain;
+    else if (__builtin_cpu_supports("avx512f")) k = phase_row_avx512;
+    else if (avx2) k = phase_row_avx2;
 #endif
     chosen = k;
     return k;
@@ -167,6 +174,31 @@ __attribute__((target("avx512f"))) static void phase_segment_avx512(double compl
         cv = cmul512(cv, step);
     }
 }
+
+/* x * y for two complex numbers per register. */
+__attribute__((target("avx2,fma"))) static inline __m256d cmul256(__m256d x, __m256d y)
+{
+    return _mm256_fmaddsub_pd(x, _mm256_movedup_pd(y), _mm256_mul_pd(_mm256_permute_pd(x, 0x5), _mm256_permute_pd(y, 0xF)));
+}
+
+/* The same four lanes as phase_segment_plain, in two registers. */
+__attribute__((target("avx2,fma"))) static void phase_segment_avx2(double complex *restrict d,
+                                                                    const double complex *restrict chirp,
+                                                                    double complex a, double complex b)
+{
+    double complex b2 = b * b, b4 = b2 * b2;
+    double complex init[4] = {a, a * b, a * b2, a * b2 * b};
+    __m256d lo = _mm256_loadu_pd((const double *)init), hi = _mm256_loadu_pd((const double *)(init + 2));
+    const __m256d step = _mm256_set_pd(cimag(b4), creal(b4), cimag(b4), creal(b4));
+    for (size_t u = 0; u < PF_PHASE_SEG; u += 4) {
+        __m256d f0 = cmul256(lo, _mm256_loadu_pd((const double *)(chirp + u)));
+        __m256d f1 = cmul256(hi, _mm256_loadu_pd((const double *)(chirp + u + 2)));
+        _mm256_storeu_pd((double *)(d + u), cmul256(_mm256_loadu_pd((const double *)(d + u)), f0));
+        _mm256_storeu_pd((double *)(d + u + 2), cmul256(_mm256_loadu_pd((const double *)(d + u + 2)), f1));
+        lo = cmul256(lo, step);
+        hi = cmul256(hi, step);
+    }
+}
 #endif
 
 typedef void (*phase_segment_fn)(double complex *restrict, const double complex *restrict, double complex,
@@ -176,6 +208,7 @@ static phase_segment_fn segment_kernel(void)
 {
 #ifdef PF_HAVE_X86_PHASE
     if (pf_phase_kernel() == phase_row_avx512) return phase_segment_avx512;
+    if (pf_phase_kernel() == phase_row_avx2) return phase_segment_avx2;
 #endif
     return phase_segment_plain;
 }
@@ -287,23 +320,28 @@ pf_status pf_wave_settle_to(pf_wave *w, pf_rep rep)
     const double scale = 1.0 / (double)g->total;
     /* Both paths fail only while planning, before the data are touched; the
      * flight then stays deferred and the state stays consistent. */
-    if (rep == PF_POSITION && pf_guard_momentum_known(w)) {
-        pf_status s = pf_fused_flight(g, w->store, scale);
+    if (rep == PF_POSITION) {
+        /* The momentum guard band, if still unknown, is summed inside the
+         * sweep; one over the threshold sends the state through momentum
+         * representation once, where the guard words its warning. */
+        const int measure = !pf_guard_momentum_known(w);
+        double sums[PF_MAX_DIM];
+        pf_status s = pf_fused_flight(g, w->store, scale, measure ? sums : NULL);
         if (s) return s;
         w->deferred.active = 0;
+        if (measure && pf_guard_take_momentum_sums(w, sums)) {
+            s = pf_wave_to(w, PF_MOMENTUM);
+            return s ? s : pf_wave_to(w, PF_POSITION);
+        }
     } else {
-        /* Momentum wanted, or the momentum guard band of this state was
-         * never measured: the separate steps, so that the state passes
-         * through momentum representation where the guard can see it. */
+        /* Momentum wanted: the forward transform and the phase pass. */
         pf_status s = pf_grid_fft(g, w->store, -1);
         if (s) return s;
         w->deferred.active = 0;
         apply_phase(g, w->store, scale);
         w->rep = PF_MOMENTUM;
         pf_guard_after_transform(w);
-        if (rep == PF_MOMENTUM) return PF_OK;
-        pf_grid_fft(g, w->store, +1); /* planned together with the forward one */
-        w->rep = PF_POSITION;
+        return PF_OK;
     }
     pf_guard_after_transform(w);
     return PF_OK;

@@ -11,9 +11,15 @@
  * Three sweeps: trailing axes forward, column blocks, trailing axes backward.
  *
  * The block layout does not depend on the thread count (blocks are divided
- * among threads, each with its own buffer), so neither do the results. */
+ * among threads, each with its own buffer), so neither do the results.
+ *
+ * While a block is in momentum representation the grid guard's momentum
+ * bands can be summed on the way (when the guard does not know them yet):
+ * per-block partial sums, added in block order. */
 #include <omp.h>
+#include <stdlib.h>
 #include <string.h>
+#include "pf_guard.h"
 #include "pf_internal.h"
 
 /* Columns per block: 16 columns of a few thousand points fill a buffer that
@@ -29,6 +35,7 @@ void pf_fused_release(pf_grid *g)
         *plans[i] = NULL;
     }
     if (fp->buf) pf_free(g->ctx, fp->buf, fp->buf_bytes);
+    free(fp->part);
     memset(fp, 0, sizeof *fp);
 }
 
@@ -59,6 +66,11 @@ static pf_status fused_plan(pf_grid *g)
     if (!fp->buf) {
         memset(fp, 0, sizeof *fp);
         return PF_ELIMIT;
+    }
+    fp->part = calloc(fp->blocks * PF_MAX_DIM, sizeof(double));
+    if (!fp->part) {
+        pf_fused_release(g);
+        return pf_fail(ctx, PF_ENOMEM, "out of memory for the fused flight");
     }
     size_t bytes = pf_bytes(g->total, sizeof(double complex));
     /* Planning with FFTW_MEASURE overwrites its arrays, so plan on scratch. */
@@ -113,7 +125,35 @@ static void scatter(const double complex *restrict buf, size_t ld, size_t n0, si
     }
 }
 
-pf_status pf_fused_flight(pf_grid *g, double complex *data, double scale)
+/* Momentum guard bands of one block (raw DFT values): part[0] sums the
+ * axis-0 band of every column, part[a] the whole columns whose axis-a index
+ * lies in that axis's band.  Bands in FFT storage order are the contiguous
+ * range [ceil(n/2) - b, ceil(n/2) + b) (pf_guard.c). */
+static void block_bands(const pf_grid *g, const double complex *buf, size_t ld, size_t q0, size_t width, double *part)
+{
+    const size_t n0 = g->n[0], n2 = g->dim == 3 ? g->n[2] : 1;
+    size_t lo[PF_MAX_DIM], hi[PF_MAX_DIM];
+    for (int a = 0; a < g->dim; a++) {
+        size_t b = pf_guard_band_points(g->n[a]);
+        lo[a] = (g->n[a] + 1) / 2 - b;
+        hi[a] = lo[a] + 2 * b;
+    }
+    for (int a = 0; a < PF_MAX_DIM; a++) part[a] = 0;
+    for (size_t j = 0; j < width; j++) {
+        const double complex *c = buf + j * ld;
+        size_t q = q0 + j, i1 = g->dim == 3 ? q / n2 : q, i2 = q % n2;
+        int in1 = i1 >= lo[1] && i1 < hi[1], in2 = g->dim == 3 && i2 >= lo[2] && i2 < hi[2];
+        double band = 0, all = 0;
+        for (size_t i = lo[0]; i < hi[0]; i++) band += creal(c[i]) * creal(c[i]) + cimag(c[i]) * cimag(c[i]);
+        if (in1 || in2)
+            for (size_t i = 0; i < n0; i++) all += creal(c[i]) * creal(c[i]) + cimag(c[i]) * cimag(c[i]);
+        part[0] += band;
+        if (in1) part[1] += all;
+        if (in2) part[2] += all;
+    }
+}
+
+pf_status pf_fused_flight(pf_grid *g, double complex *data, double scale, double *band_sums)
 {
     pf_status s = fused_plan(g);
     if (s) return s;
@@ -130,6 +170,7 @@ pf_status pf_fused_flight(pf_grid *g, double complex *data, double scale)
         double complex *buf = fp->buf + (size_t)omp_get_thread_num() * fp->block * fp->ld;
         gather(data + q0, plane, n0, width, buf, fp->ld);
         fftw_execute_dft(partial ? fp->tail_fwd : fp->col_fwd, buf, buf);
+        if (band_sums) block_bands(g, buf, fp->ld, q0, width, fp->part + (size_t)b * PF_MAX_DIM);
         for (size_t j = 0; j < width; j++) {
             /* Column q has the phase factor of its trailing-axis indices;
              * the axis-0 table runs along the gathered column. */
@@ -141,5 +182,13 @@ pf_status pf_fused_flight(pf_grid *g, double complex *data, double scale)
         scatter(buf, fp->ld, n0, width, data + q0, plane);
     }
     fftw_execute_dft(fp->slab_bwd, data, data);
+    if (band_sums) {
+        /* S = DFT / N: |S|^2 = scale^2 |DFT|^2. */
+        for (int a = 0; a < g->dim; a++) {
+            double sum = 0;
+            for (size_t b = 0; b < fp->blocks; b++) sum += fp->part[b * PF_MAX_DIM + (size_t)a];
+            band_sums[a] = sum * scale * scale;
+        }
+    }
     return PF_OK;
 }

@@ -294,6 +294,27 @@ void pf_guard_after_transform(pf_wave *w)
     check_and_warn(w, w->log.count, last->kind);
 }
 
+int pf_guard_take_momentum_sums(pf_wave *w, const double *sums)
+{
+    pf_guard_state *gs = &w->guard;
+    const unsigned bit = 1u << PF_MOMENTUM;
+    if (!(gs->pending & bit) || w->log.count == 0) return 0;
+    const pf_grid *g = w->grid;
+    pf_step *last = &w->log.steps[w->log.count - 1];
+    const double unit = pf_grid_cell_volume(g) * (double)g->total; /* Parseval for S = DFT/N */
+    const double thr = pf_context_guard_threshold(g->ctx);
+    double band[PF_MAX_DIM] = {0, 0, 0};
+    for (int a = 0; a < g->dim; a++) {
+        band[a] = last->norm > 0 ? sums[a] * unit / last->norm : 0.0;
+        if (band[a] > thr && !(gs->warned & (1u << (PF_MOMENTUM * PF_MAX_DIM + a)))) return 1;
+    }
+    memcpy(gs->band[PF_MOMENTUM], band, sizeof band);
+    gs->known |= bit;
+    gs->pending &= ~bit;
+    last->edge_k = largest(band, g->dim);
+    return 0;
+}
+
 int pf_guard_momentum_known(const pf_wave *w)
 {
     return (w->guard.known >> PF_MOMENTUM) & 1u;

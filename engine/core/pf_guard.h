@@ -69,6 +69,13 @@ void pf_guard_forget(pf_wave *w);
 /* Whether the momentum band of the current state is known (a flight keeps
  * it), so a deferred flight may skip momentum representation. */
 int pf_guard_momentum_known(const pf_wave *w);
+/* Momentum band figures summed elsewhere while the state passed through
+ * momentum representation (pf_fused.c: per axis, sum of |S|^2 over the
+ * band).  Records them for the last logged step and returns 0; returns 1,
+ * recording nothing, when one calls for a warning not given yet: the caller
+ * then brings the state to momentum representation, where the guard measures
+ * it again and words the warning with its remedy. */
+int pf_guard_take_momentum_sums(pf_wave *w, const double *sums);
 /* The wave moved to another grid: forget figures and earlier warnings. */
 void pf_guard_rebind(pf_wave *w);
 

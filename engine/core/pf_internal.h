@@ -59,6 +59,7 @@ typedef struct pf_fused_plans {
     fftw_plan col_fwd, col_bwd, tail_fwd, tail_bwd;
     double complex *buf;          /* threads x block x ld values */
     size_t buf_bytes;
+    double *part;                 /* blocks x PF_MAX_DIM partial guard-band sums */
 } pf_fused_plans;
 
 struct pf_grid {
@@ -156,8 +157,10 @@ double complex *pf_wave_overwrite(pf_wave *w);
 /* Fused flight step on a 2D/3D grid (pf_fused.c): data (position
  * representation) -> forward transform -> times scale * the flight phase of
  * g->flight (already filled) -> backward transform, in three sweeps over
- * memory instead of five.  Result equals the separate steps up to rounding. */
-pf_status pf_fused_flight(pf_grid *g, double complex *data, double scale);
+ * memory instead of five.  Result equals the separate steps up to rounding.
+ * band_sums (NULL: not wanted) receives, per axis, the sum of |S|^2 over the
+ * momentum guard band of the state before the phase (S = DFT / N). */
+pf_status pf_fused_flight(pf_grid *g, double complex *data, double scale, double *band_sums);
 /* Releases the fused plans and buffers (grid teardown, thread change). */
 void pf_fused_release(pf_grid *g);
 

@@ -285,6 +285,85 @@ static void fused_bits_do_not_depend_on_threads(void **state)
     pft_ok(pf_context_set_threads(*state, 1));
 }
 
+/* The momentum guard band summed inside the fused sweep (for a state whose
+ * band is unknown, as after a kick) equals the band the guard measures in
+ * momentum representation (implementation check: same sum, other order).
+ * The state's band is made well above zero by a kick towards the edge. */
+static void fused_sweep_measures_momentum_band(void **state)
+{
+    pf_grid *g;
+    size_t n[2] = {64, 40};
+    double span[2] = {64e-6, 40e-6};
+    pft_ok(pf_grid_new(*state, 2, n, span, NULL, &g));
+    pft_ok(pf_context_set_guard_threshold(*state, 1.0)); /* record, never warn */
+    pf_wave *a, *b;
+    pft_ok(pf_wave_new(g, MASS, &a));
+    pft_ok(pf_wave_fill(a, PF_POSITION, rough_state, NULL));
+    pft_ok(pf_wave_normalize(a));
+    const double k[2] = {2.7e6, -2.7e6}; /* into the bands: pi/dx = 3.1e6 1/m, bands beyond 2.9e6 */
+    pft_ok(pf_wave_kick(a, k));
+    assert_false(pf_guard_momentum_known(a));
+    pft_ok(pf_wave_copy(a, &b));
+    pft_ok(pf_wave_fly(a, 0.3e-3)); /* deferred; fused with the band sums */
+    pft_ok(pf_wave_to(a, PF_POSITION));
+    assert_true(pf_guard_momentum_known(a));
+    pft_ok(pf_wave_to(b, PF_MOMENTUM));
+    pf_guard_figures fa, fb;
+    pft_ok(pf_wave_guard(b, &fb));
+    pft_ok(pf_wave_to(a, PF_MOMENTUM));
+    pft_ok(pf_wave_guard(a, &fa));
+    for (int ax = 0; ax < 2; ax++) {
+        assert_true(fb.band[PF_MOMENTUM][ax] > 1e-6);
+        pft_near(fa.band[PF_MOMENTUM][ax], fb.band[PF_MOMENTUM][ax], 1e-12, 0);
+    }
+    const pf_steplog *log = pf_wave_steplog(a);
+    pft_near(log->steps[log->count - 1].edge_k, fmax(fb.band[PF_MOMENTUM][0], fb.band[PF_MOMENTUM][1]), 1e-12, 0);
+    pf_wave_free(a);
+    pf_wave_free(b);
+    pf_grid_release(g);
+}
+
+static void count_warning(void *user, const char *text)
+{
+    (void)text;
+    ++*(int *)user;
+}
+
+/* A band over the threshold found inside the sweep still gives the guard's
+ * warning, once per axis, as the separate path would. */
+static void fused_sweep_band_over_threshold_warns(void **state)
+{
+    pf_grid *g;
+    size_t n[2] = {64, 40};
+    double span[2] = {64e-6, 40e-6};
+    pft_ok(pf_grid_new(*state, 2, n, span, NULL, &g));
+    int warnings = 0;
+    pf_context_set_warn_handler(*state, count_warning, &warnings);
+    pf_wave *a, *b;
+    pft_ok(pf_wave_new(g, MASS, &a));
+    pft_ok(pf_wave_fill(a, PF_POSITION, rough_state, NULL));
+    pft_ok(pf_wave_normalize(a));
+    const double k[2] = {2.2e6, 0};
+    pft_ok(pf_wave_kick(a, k));
+    pft_ok(pf_wave_copy(a, &b));
+    int before = warnings;
+    pft_ok(pf_wave_fly(a, 0.3e-3));
+    pft_ok(pf_wave_to(a, PF_POSITION));
+    int fused_warnings = warnings - before;
+    before = warnings;
+    pft_ok(pf_wave_to(b, PF_MOMENTUM)); /* nothing deferred: the separate path */
+    pft_ok(pf_wave_fly(b, 0.3e-3));
+    pft_ok(pf_wave_to(b, PF_POSITION));
+    int separate_warnings = warnings - before;
+    assert_true(fused_warnings >= 1);
+    assert_int_equal(fused_warnings, separate_warnings);
+    assert_true(pf_guard_momentum_known(a));
+    pf_context_set_warn_handler(*state, NULL, NULL);
+    pf_wave_free(a);
+    pf_wave_free(b);
+    pf_grid_release(g);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -294,6 +373,8 @@ int main(void)
         cmocka_unit_test_setup_teardown(deferred_flights_compose, setup, teardown),
         cmocka_unit_test_setup_teardown(operations_see_the_flown_state, setup, teardown),
         cmocka_unit_test_setup_teardown(fused_bits_do_not_depend_on_threads, setup, teardown),
+        cmocka_unit_test_setup_teardown(fused_sweep_measures_momentum_band, setup, teardown),
+        cmocka_unit_test_setup_teardown(fused_sweep_band_over_threshold_warns, setup, teardown),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
