@@ -8,7 +8,8 @@
  * both in ms and as a ratio to a raw FFTW forward+backward pair of the same
  * size, planning flags and threads, timed call by call in alternation
  * (bench_paired in bench_util.h).  Targets: step/pair <= 1.10, repeat a
- * small fraction of a pair.  Usage: bench_flight [quick]. */
+ * small fraction of a pair.  Usage: bench_flight [quick], or
+ * bench_flight step INDEX THREADS (one size's step only, in ms). */
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -94,6 +95,31 @@ static void bench_size(pf_context *ctx, int dim, const int *n, int threads, FILE
     pf_grid_release(g);
 }
 
+/* `bench_flight step INDEX THREADS`: only the engine step of one size, in ms,
+ * timed the way numpy_flight.py times its step (best of three blocks), for
+ * the alternating numpy comparison in run-bench.sh. */
+static void step_only(pf_context *ctx, int dim, const int *n, int threads)
+{
+    size_t points[3];
+    double span[3];
+    for (int a = 0; a < dim; a++) {
+        points[a] = (size_t)n[a];
+        span[a] = 1.0;
+    }
+    pf_context_set_threads(ctx, threads);
+    pf_grid *g;
+    pf_wave *w;
+    if (pf_grid_new(ctx, dim, points, span, NULL, &g) || pf_wave_new(g, 1.0, &w)) {
+        fprintf(stderr, "bench: %s\n", pf_context_message(ctx));
+        exit(1);
+    }
+    pf_wave_fill(w, PF_POSITION, fill_gauss, &dim);
+    step_arg arg = {w, 1e-3};
+    printf("%.6f\n", bench_ms(run_step, &arg, 3, 0.2));
+    pf_wave_free(w);
+    pf_grid_release(g);
+}
+
 int main(int argc, char **argv)
 {
     int quick = argc > 1 && strcmp(argv[1], "quick") == 0;
@@ -105,6 +131,13 @@ int main(int argc, char **argv)
     static const int sizes[][4] = {
         {1, 1 << 20}, {1, 1 << 22}, {2, 1024, 1024}, {2, 2048, 2048}, {3, 128, 128, 128}, {3, 256, 256, 256},
     };
+    if (argc == 4 && strcmp(argv[1], "step") == 0) {
+        int q = atoi(argv[2]), threads = atoi(argv[3]);
+        if (q < 0 || q >= (int)(sizeof sizes / sizeof sizes[0]) || threads < 1) return 2;
+        step_only(ctx, sizes[q][0], sizes[q] + 1, threads);
+        pf_context_release(ctx);
+        return 0;
+    }
     int count = quick ? 3 : (int)(sizeof sizes / sizeof sizes[0]);
     for (int s = 0; s < count; s++) {
         int q = quick ? (int[]){0, 2, 4}[s] : s;

@@ -12,33 +12,40 @@ arg=""; [ "$mode" = quick ] && arg=quick
 echo "psiflight benchmarks ($(nproc) cores; FFTW measured planning, wisdom in $PSIFLIGHT_WISDOM)"
 echo "first run on a machine spends extra time planning; later runs reuse the wisdom"
 echo
-flight_csv=$(mktemp)
 for b in "$root/$build"/bench/bench_*; do
   [ -x "$b" ] || continue
   echo "== $(basename "$b")"
-  if [ "$(basename "$b")" = bench_flight ]; then
-    BENCH_FLIGHT_CSV=$flight_csv "$b" $arg
-  else
-    "$b" $arg
-  fi
+  "$b" $arg
   echo
 done
 py=/usr/bin/python3
-if [ -x "$py" ] && "$py" -c 'import numpy, scipy' 2>/dev/null && [ -s "$flight_csv" ]; then
-  echo "== numpy/scipy comparison (same step: fftn, phase multiply, ifftn)"
-  np_csv=$(mktemp)
-  "$py" "$root/tests/bench/numpy_flight.py" $arg > "$np_csv"
-  "$py" - "$flight_csv" "$np_csv" <<'PY'
-import sys
-ours = {(r[0], r[1]): float(r[2]) for r in (l.strip().split(",") for l in open(sys.argv[1])) if r[0]}
-for line in open(sys.argv[2]):
-    shape, threads, ms = line.strip().split(",")
-    if (shape, threads) in ours:
-        o = ours[(shape, threads)]
-        print(f"numpy   {shape:<16} threads {threads}   numpy step {float(ms):9.3f} ms   psiflight step {o:9.3f} ms   psiflight is {float(ms)/o:5.2f}x faster")
+if [ -x "$py" ] && "$py" -c 'import numpy, scipy' 2>/dev/null; then
+  # Each size and thread count is timed three times, numpy and psiflight in
+  # alternation (each in its own process, best of three blocks), and the
+  # median of the three ratios is printed: timing all of one and then all of
+  # the other would let the machine's drifting speed into the ratio.
+  echo "== numpy/scipy comparison (same step: fftn, phase multiply, ifftn; alternating, median of 3)"
+  shapes=("1D 1048576" "1D 4194304" "2D 1024x1024" "2D 2048x2048" "3D 128x128x128" "3D 256x256x256")
+  indices="0 1 2 3 4 5"; [ "$mode" = quick ] && indices="0 2 4"
+  for i in $indices; do
+    for threads in 1 2; do
+      ratios=() last_np="" last_pf=""
+      for round in 1 2 3; do
+        np_ms=$("$py" "$root/tests/bench/numpy_flight.py" one "$i" "$threads") || break
+        pf_ms=$("$root/$build/bench/bench_flight" step "$i" "$threads") || break
+        ratios+=("$("$py" -c "print($np_ms / $pf_ms)")")
+        last_np=$np_ms last_pf=$pf_ms
+      done
+      [ ${#ratios[@]} -eq 3 ] || { echo "numpy   ${shapes[$i]}: timing failed"; continue; }
+      "$py" - "${shapes[$i]}" "$threads" "$last_np" "$last_pf" "${ratios[@]}" <<'PY'
+import statistics, sys
+shape, threads, np_ms, pf_ms = sys.argv[1], sys.argv[2], float(sys.argv[3]), float(sys.argv[4])
+r = sorted(float(x) for x in sys.argv[5:])
+print(f"numpy   {shape:<16} threads {threads}   numpy step {np_ms:9.3f} ms   psiflight step {pf_ms:9.3f} ms   "
+      f"psiflight is {statistics.median(r):5.2f}x faster (rounds {r[0]:.2f}-{r[-1]:.2f})")
 PY
-  rm -f "$np_csv"
+    done
+  done
 else
   echo "(numpy/scipy from Debian not installed: comparison skipped)"
 fi
-rm -f "$flight_csv"
