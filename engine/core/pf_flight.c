@@ -312,6 +312,20 @@ pf_status pf_wave_fly(pf_wave *w, double t)
     return PF_OK;
 }
 
+/* A deferred flight as separate steps: forward transform, phase pass, and
+ * the backward transform when position is wanted. */
+static pf_status settle_separately(pf_wave *w, pf_rep rep, double scale)
+{
+    pf_grid *g = w->grid;
+    pf_status s = pf_grid_fft(g, w->store, -1);
+    if (s) return s;
+    w->deferred.active = 0;
+    apply_phase(g, w->store, scale);
+    w->rep = PF_MOMENTUM;
+    pf_guard_after_transform(w);
+    return rep == PF_POSITION ? pf_wave_to(w, PF_POSITION) : PF_OK;
+}
+
 pf_status pf_wave_settle_to(pf_wave *w, pf_rep rep)
 {
     if (!w->deferred.active) return PF_OK;
@@ -320,28 +334,21 @@ pf_status pf_wave_settle_to(pf_wave *w, pf_rep rep)
     const double scale = 1.0 / (double)g->total;
     /* Both paths fail only while planning, before the data are touched; the
      * flight then stays deferred and the state stays consistent. */
-    if (rep == PF_POSITION) {
-        /* The momentum guard band, if still unknown, is summed inside the
-         * sweep; one over the threshold sends the state through momentum
-         * representation once, where the guard words its warning. */
-        const int measure = !pf_guard_momentum_known(w);
-        double sums[PF_MAX_DIM];
-        pf_status s = pf_fused_flight(g, w->store, scale, measure ? sums : NULL);
-        if (s) return s;
-        w->deferred.active = 0;
-        if (measure && pf_guard_take_momentum_sums(w, sums)) {
-            s = pf_wave_to(w, PF_MOMENTUM);
-            return s ? s : pf_wave_to(w, PF_POSITION);
-        }
-    } else {
-        /* Momentum wanted: the forward transform and the phase pass. */
-        pf_status s = pf_grid_fft(g, w->store, -1);
-        if (s) return s;
-        w->deferred.active = 0;
-        apply_phase(g, w->store, scale);
-        w->rep = PF_MOMENTUM;
-        pf_guard_after_transform(w);
-        return PF_OK;
+    if (rep == PF_MOMENTUM) return settle_separately(w, rep, scale);
+    /* The momentum guard band, if still unknown, is summed inside the sweep;
+     * one over the threshold sends the state through momentum representation
+     * once, where the guard words its warning. */
+    const int measure = !pf_guard_momentum_known(w);
+    double sums[PF_MAX_DIM];
+    pf_status s = pf_fused_flight(g, w->store, scale, measure ? sums : NULL);
+    /* The sweep's planning needs a scratch array and buffers; under a tight
+     * memory cap the separate steps, which need neither, still work. */
+    if (s == PF_ELIMIT) return settle_separately(w, rep, scale);
+    if (s) return s;
+    w->deferred.active = 0;
+    if (measure && pf_guard_take_momentum_sums(w, sums)) {
+        s = pf_wave_to(w, PF_MOMENTUM);
+        return s ? s : pf_wave_to(w, PF_POSITION);
     }
     pf_guard_after_transform(w);
     return PF_OK;

@@ -364,6 +364,34 @@ static void fused_sweep_band_over_threshold_warns(void **state)
     pf_grid_release(g);
 }
 
+/* Under a memory cap that leaves no room for the sweep's planning scratch,
+ * a deferred flight is still carried out (by the separate steps). */
+static void tight_memory_cap_falls_back(void **state)
+{
+    pf_grid *g;
+    size_t n[2] = {64, 48};
+    double span[2] = {64e-6, 48e-6};
+    pft_ok(pf_grid_new(*state, 2, n, span, NULL, &g));
+    pf_wave *a, *b;
+    pft_ok(pf_wave_new(g, MASS, &a));
+    pft_ok(pf_wave_fill(a, PF_POSITION, rough_state, NULL));
+    know_momentum_band(a); /* makes the grid's plans while there is room */
+    pft_ok(pf_wave_copy(a, &b));
+    size_t bytes = pf_grid_total(g) * sizeof(double complex);
+    pft_ok(pf_context_set_memory_cap(*state, 2 * bytes + bytes / 2));
+    pft_ok(pf_wave_fly(a, 0.5e-3));
+    pft_ok(pf_wave_to(a, PF_POSITION)); /* no room for a third array: separate steps */
+    pft_ok(pf_wave_to(b, PF_MOMENTUM));
+    pft_ok(pf_wave_fly(b, 0.5e-3));
+    pft_ok(pf_wave_to(b, PF_POSITION));
+    double peak, worst = worst_difference(a, b, &peak);
+    pft_near(worst, 0, 0, 1e-13 * peak);
+    pft_ok(pf_context_set_memory_cap(*state, (size_t)16 << 30)); /* the default */
+    pf_wave_free(a);
+    pf_wave_free(b);
+    pf_grid_release(g);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -375,6 +403,7 @@ int main(void)
         cmocka_unit_test_setup_teardown(fused_bits_do_not_depend_on_threads, setup, teardown),
         cmocka_unit_test_setup_teardown(fused_sweep_measures_momentum_band, setup, teardown),
         cmocka_unit_test_setup_teardown(fused_sweep_band_over_threshold_warns, setup, teardown),
+        cmocka_unit_test_setup_teardown(tight_memory_cap_falls_back, setup, teardown),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
