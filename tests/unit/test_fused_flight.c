@@ -116,7 +116,7 @@ static void fused_against_closed_form(void **state, int dim, const size_t *n, co
     pf_grid_release(g);
 }
 
-/* 2D: 48 x 45 leaves 45 = 2 x 16 + 13 columns, a partial block. */
+/* 2D: 48 x 45 leaves 45 = 32 + 13 columns, a partial block. */
 static void fused_2d_partial_block(void **state)
 {
     size_t n[2] = {48, 45};
@@ -124,7 +124,7 @@ static void fused_2d_partial_block(void **state)
     fused_against_closed_form(state, 2, n, span);
 }
 
-/* 3D: 48 x 46 x 47 has 2162 = 135 x 16 + 2 columns, a partial block. */
+/* 3D: 48 x 46 x 47 has 2162 = 67 x 32 + 18 columns, a partial block. */
 static void fused_3d_partial_block(void **state)
 {
     size_t n[3] = {48, 46, 47};
