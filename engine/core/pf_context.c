@@ -188,7 +188,7 @@ void pf_free(pf_context *ctx, void *p, size_t bytes)
     ctx->memory_used -= bytes;
 }
 
-void pf_context_prepare_planner(pf_context *ctx)
+unsigned pf_context_prepare_planner(pf_context *ctx)
 {
     fftw_threads_once();
     fftw_plan_with_nthreads(ctx->threads);
@@ -200,6 +200,7 @@ void pf_context_prepare_planner(pf_context *ctx)
             pf_context_warn(ctx, "FFTW wisdom file %s could not be read; planning afresh",
                             ctx->wisdom_path);
     }
+    return ctx->planning == PF_PLAN_ESTIMATE ? FFTW_ESTIMATE : FFTW_MEASURE;
 }
 
 /* Creates the parent folders of path (like mkdir -p on its dirname). */

@@ -32,7 +32,7 @@ static void segment_tables(pf_grid *g, double tau)
     for (size_t q = 0; q < segs; q++) {
         size_t j0 = q * PF_PHASE_SEG;
         double m0 = nearbyint(g->k[0][j0] / dk);
-        ft->seg_start[q] = ft->phase[0][j0];
+        ft->seg_start[q] = ft->phase[0][j0]; /* a compact copy: read contiguously in the pass */
         ft->seg_ratio[q] = cexp(-I * (2.0 * c * m0));
     }
 }
@@ -79,8 +79,19 @@ static void phase_row_plain(double *restrict row, const double *restrict p, doub
 #include <immintrin.h>
 #define PF_HAVE_X86_PHASE 1
 
-/* Four complex numbers per step: f = q p, then row *= f; fmaddsub forms
- * (re re - im im, im re + re im) in one instruction. */
+/* x * y for four complex numbers per register (interleaved re, im). */
+__attribute__((target("avx512f"))) static inline __m512d cmul512(__m512d x, __m512d y)
+{
+    return _mm512_fmaddsub_pd(x, _mm512_movedup_pd(y), _mm512_mul_pd(_mm512_permute_pd(x, 0x55), _mm512_permute_pd(y, 0xFF)));
+}
+
+/* x * y for two complex numbers per register. */
+__attribute__((target("avx2,fma"))) static inline __m256d cmul256(__m256d x, __m256d y)
+{
+    return _mm256_fmaddsub_pd(x, _mm256_movedup_pd(y), _mm256_mul_pd(_mm256_permute_pd(x, 0x5), _mm256_permute_pd(y, 0xF)));
+}
+
+/* Four complex numbers per step: f = q p, then row *= f. */
 __attribute__((target("avx512f"))) static void phase_row_avx512(double *restrict row, const double *restrict p,
                                                                  double qr, double qi, size_t n)
 {
@@ -90,9 +101,7 @@ __attribute__((target("avx512f"))) static void phase_row_avx512(double *restrict
         __m512d pv = _mm512_loadu_pd(p + 2 * j);
         __m512d f = _mm512_fmaddsub_pd(qre, pv, _mm512_mul_pd(qim, _mm512_permute_pd(pv, 0x55)));
         __m512d a = _mm512_loadu_pd(row + 2 * j);
-        __m512d r = _mm512_fmaddsub_pd(a, _mm512_movedup_pd(f),
-                                       _mm512_mul_pd(_mm512_permute_pd(a, 0x55), _mm512_permute_pd(f, 0xFF)));
-        _mm512_storeu_pd(row + 2 * j, r);
+        _mm512_storeu_pd(row + 2 * j, cmul512(a, f));
     }
     phase_row_plain(row + 2 * j, p + 2 * j, qr, qi, n - j);
 }
@@ -107,9 +116,7 @@ __attribute__((target("avx2,fma"))) static void phase_row_avx2(double *restrict 
         __m256d pv = _mm256_loadu_pd(p + 2 * j);
         __m256d f = _mm256_fmaddsub_pd(qre, pv, _mm256_mul_pd(qim, _mm256_permute_pd(pv, 0x5)));
         __m256d a = _mm256_loadu_pd(row + 2 * j);
-        __m256d r = _mm256_fmaddsub_pd(a, _mm256_movedup_pd(f),
-                                       _mm256_mul_pd(_mm256_permute_pd(a, 0x5), _mm256_permute_pd(f, 0xF)));
-        _mm256_storeu_pd(row + 2 * j, r);
+        _mm256_storeu_pd(row + 2 * j, cmul256(a, f));
     }
     phase_row_plain(row + 2 * j, p + 2 * j, qr, qi, n - j);
 }
@@ -128,10 +135,9 @@ pf_phase_row_fn pf_phase_kernel(void)
     const char *want = getenv("PSIFLIGHT_PHASE_KERNEL");
     __builtin_cpu_init();
     int avx2 = __builtin_cpu_supports("avx2") && __builtin_cpu_supports("fma");
-    if (want && strcmp(want, "plain") == 0) k = phase_row_plain;
-    else if (want && strcmp(want, "avx2") == 0) k = avx2 ? phase_row_avx2 : phase_row_plain;
-    else if (__builtin_cpu_supports("avx512f")) k = phase_row_avx512;
-    else if (avx2) k = phase_row_avx2;
+    int plain = want && strcmp(want, "plain") == 0, want_avx2 = want && strcmp(want, "avx2") == 0;
+    if (!plain && !want_avx2 && __builtin_cpu_supports("avx512f")) k = phase_row_avx512;
+    else if (!plain && avx2) k = phase_row_avx2;
 #endif
     chosen = k;
     return k;
@@ -153,12 +159,6 @@ static void phase_segment_plain(double complex *restrict d, const double complex
 }
 
 #ifdef PF_HAVE_X86_PHASE
-/* x * y for four complex numbers per register (interleaved re, im). */
-__attribute__((target("avx512f"))) static inline __m512d cmul512(__m512d x, __m512d y)
-{
-    return _mm512_fmaddsub_pd(x, _mm512_movedup_pd(y), _mm512_mul_pd(_mm512_permute_pd(x, 0x55), _mm512_permute_pd(y, 0xFF)));
-}
-
 __attribute__((target("avx512f"))) static void phase_segment_avx512(double complex *restrict d,
                                                                      const double complex *restrict chirp,
                                                                      double complex a, double complex b)
@@ -173,12 +173,6 @@ __attribute__((target("avx512f"))) static void phase_segment_avx512(double compl
         _mm512_storeu_pd((double *)(d + u), cmul512(_mm512_loadu_pd((const double *)(d + u)), f));
         cv = cmul512(cv, step);
     }
-}
-
-/* x * y for two complex numbers per register. */
-__attribute__((target("avx2,fma"))) static inline __m256d cmul256(__m256d x, __m256d y)
-{
-    return _mm256_fmaddsub_pd(x, _mm256_movedup_pd(y), _mm256_mul_pd(_mm256_permute_pd(x, 0x5), _mm256_permute_pd(y, 0xF)));
 }
 
 /* The same four lanes as phase_segment_plain, in two registers. */
@@ -293,20 +287,18 @@ pf_status pf_wave_fly(pf_wave *w, double t)
         if (!w->deferred.active) w->deferred.tau = 0.0;
         w->deferred.active = 1;
         w->deferred.tau += tau; /* flights compose: the phases add */
-        w->clock += t;
-        pf_wave_log_step(w, "flight", "momentum-exact", t, 0.0, norm);
-        return PF_OK;
+    } else {
+        double scale = 1.0;
+        if (w->rep == PF_POSITION) {
+            /* Fuse the 1/N of the forward transform into the phase pass. */
+            pf_status s = pf_grid_fft(g, w->store, -1);
+            if (s) return s;
+            scale = 1.0 / (double)g->total;
+            w->rep = PF_MOMENTUM;
+        }
+        flight_tables(g, tau);
+        apply_phase(g, w->store, scale);
     }
-    double scale = 1.0;
-    if (w->rep == PF_POSITION) {
-        /* Fuse the 1/N of the forward transform into the phase pass. */
-        pf_status s = pf_grid_fft(g, w->store, -1);
-        if (s) return s;
-        scale = 1.0 / (double)g->total;
-        w->rep = PF_MOMENTUM;
-    }
-    flight_tables(g, tau);
-    apply_phase(g, w->store, scale);
     w->clock += t;
     pf_wave_log_step(w, "flight", "momentum-exact", t, 0.0, norm);
     return PF_OK;

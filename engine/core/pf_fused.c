@@ -82,10 +82,9 @@ static pf_status fused_plan(pf_grid *g)
         pf_fused_release(g);
         return PF_ELIMIT;
     }
-    unsigned flags = ctx->planning == PF_PLAN_ESTIMATE ? FFTW_ESTIMATE : FFTW_MEASURE;
     int tn[PF_MAX_DIM - 1];
     for (int a = 1; a < g->dim; a++) tn[a - 1] = (int)g->n[a];
-    pf_context_prepare_planner(ctx);
+    unsigned flags = pf_context_prepare_planner(ctx);
     fp->slab_fwd = fftw_plan_many_dft(g->dim - 1, tn, (int)n0, scratch, NULL, 1, (int)plane, scratch, NULL, 1,
                                       (int)plane, FFTW_FORWARD, flags);
     fp->slab_bwd = fftw_plan_many_dft(g->dim - 1, tn, (int)n0, scratch, NULL, 1, (int)plane, scratch, NULL, 1,

@@ -140,8 +140,7 @@ pf_status pf_grid_plan(pf_grid *g)
     if (!scratch) return PF_ELIMIT;
     int n[PF_MAX_DIM];
     for (int a = 0; a < g->dim; a++) n[a] = (int)g->n[a];
-    unsigned flags = ctx->planning == PF_PLAN_ESTIMATE ? FFTW_ESTIMATE : FFTW_MEASURE;
-    pf_context_prepare_planner(ctx);
+    unsigned flags = pf_context_prepare_planner(ctx);
     g->forward = fftw_plan_dft(g->dim, n, scratch, scratch, FFTW_FORWARD, flags);
     g->backward = fftw_plan_dft(g->dim, n, scratch, scratch, FFTW_BACKWARD, flags);
     pf_free(ctx, scratch, bytes);

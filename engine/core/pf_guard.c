@@ -80,12 +80,19 @@ static double band_sum(const pf_wave *w, int a)
     return sum;
 }
 
+/* Probability per unit of sum |stored value|^2 in representation rep. */
+static double band_unit(const pf_grid *g, pf_rep rep)
+{
+    double unit = pf_grid_cell_volume(g);
+    if (rep == PF_MOMENTUM) unit *= (double)g->total; /* Parseval for S = DFT/N */
+    return unit;
+}
+
 /* Band probabilities of the current representation, relative to norm. */
 static void measure_bands(pf_wave *w, double norm, double *out)
 {
     const pf_grid *g = w->grid;
-    double unit = pf_grid_cell_volume(g);
-    if (w->rep == PF_MOMENTUM) unit *= (double)g->total; /* Parseval for S = DFT/N */
+    const double unit = band_unit(g, w->rep);
     for (int a = 0; a < g->dim; a++) out[a] = norm > 0 ? band_sum(w, a) * unit / norm : 0.0;
 }
 
@@ -301,7 +308,7 @@ int pf_guard_take_momentum_sums(pf_wave *w, const double *sums)
     if (!(gs->pending & bit) || w->log.count == 0) return 0;
     const pf_grid *g = w->grid;
     pf_step *last = &w->log.steps[w->log.count - 1];
-    const double unit = pf_grid_cell_volume(g) * (double)g->total; /* Parseval for S = DFT/N */
+    const double unit = band_unit(g, PF_MOMENTUM);
     const double thr = pf_context_guard_threshold(g->ctx);
     double band[PF_MAX_DIM] = {0, 0, 0};
     for (int a = 0; a < g->dim; a++) {

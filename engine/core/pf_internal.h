@@ -170,8 +170,9 @@ typedef void (*pf_phase_row_fn)(double *restrict row, const double *restrict p, 
 pf_phase_row_fn pf_phase_kernel(void);
 
 /* Applies the configured thread count to the FFTW planner (called before
- * every plan creation) and loads wisdom lazily. */
-void pf_context_prepare_planner(pf_context *ctx);
+ * every plan creation), loads wisdom lazily, and returns the planner flags
+ * of the configured planning mode. */
+unsigned pf_context_prepare_planner(pf_context *ctx);
 /* Saves wisdom after new plans were made (atomic rename). */
 void pf_context_store_wisdom(pf_context *ctx);
 

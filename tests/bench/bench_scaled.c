@@ -104,15 +104,8 @@ static void bench_size(pf_context *ctx, int dim, const int *n, int threads)
     onto_arg arg = {w, there, g, t, 0};
     run_onto(&arg); /* plans both grids (wisdom) before the raw FFT is timed */
     run_onto(&arg);
-    size_t total = pf_grid_total(g);
-    bench_fft_pair raw;
-    raw.data = fftw_malloc(total * sizeof(fftw_complex));
-    fftw_plan_with_nthreads(threads);
-    raw.fwd = fftw_plan_dft(dim, n, raw.data, raw.data, FFTW_FORWARD, FFTW_MEASURE);
-    raw.bwd = NULL;
-    raw.run = raw.data;
-    raw.total = total;
-    for (size_t i = 0; i < total; i++) raw.data[i] = 1e-3 * (double)(i % 17) + I * 1e-3 * (double)(i % 5);
+    bench_fft_pair raw; /* only its forward transform is timed */
+    bench_fft_pair_init(&raw, dim, n, threads, FFTW_MEASURE);
     double one = 1e300, onto = 1e300, fresh = 1e300;
     for (int round = 0; round < 5; round++) {
         one = fmin(one, bench_ms(bench_fft_one_run, &raw, 1, 0.1));
@@ -128,8 +121,7 @@ static void bench_size(pf_context *ctx, int dim, const int *n, int threads)
             cpu_onto = fmin(cpu_onto, cpu_ms(run_onto, &arg, 1));
         }
     }
-    fftw_destroy_plan(raw.fwd);
-    fftw_free(raw.data);
+    bench_fft_pair_free(&raw);
     bench_shape(dim, n, shape, sizeof shape);
     printf("scaled  %-16s threads %d   onto %9.3f ms   new grid %9.3f ms   one fft %9.3f ms   "
            "ratio onto/fft %5.3f   new/fft %5.3f\n",
