@@ -129,16 +129,14 @@ static void scatter(const double complex *restrict buf, size_t ld, size_t n0, si
 
 /* Momentum guard bands of one block (raw DFT values): part[0] sums the
  * axis-0 band of every column, part[a] the whole columns whose axis-a index
- * lies in that axis's band.  Bands in FFT storage order are the contiguous
- * range [ceil(n/2) - b, ceil(n/2) + b) (pf_guard.c). */
+ * lies in that axis's band (band layout: pf_guard_momentum_band_start). */
 static void block_bands(const pf_grid *g, const double complex *buf, size_t ld, size_t q0, size_t width, double *part)
 {
     const size_t n0 = g->n[0], n2 = g->dim == 3 ? g->n[2] : 1;
     size_t lo[PF_MAX_DIM], hi[PF_MAX_DIM];
     for (int a = 0; a < g->dim; a++) {
-        size_t b = pf_guard_band_points(g->n[a]);
-        lo[a] = (g->n[a] + 1) / 2 - b;
-        hi[a] = lo[a] + 2 * b;
+        lo[a] = pf_guard_momentum_band_start(g->n[a]);
+        hi[a] = lo[a] + 2 * pf_guard_band_points(g->n[a]);
     }
     for (int a = 0; a < PF_MAX_DIM; a++) part[a] = 0;
     for (size_t j = 0; j < width; j++) {

@@ -35,6 +35,8 @@ size_t pf_guard_band_points(size_t n)
     return b ? b : 1;
 }
 
+size_t pf_guard_momentum_band_start(size_t n) { return (n + 1) / 2 - pf_guard_band_points(n); }
+
 /* Band layout.  Position: the first b and the last b points of the axis.
  * Momentum (FFT storage order): ascending k starts at storage index
  * ceil(n/2), so the b most negative and b most positive k form the
@@ -67,7 +69,7 @@ static double band_sum(const pf_wave *w, int a)
         while (e < e1) {
             size_t r = e / run, off = e % run;
             size_t o = r / per_outer, which = r % per_outer;
-            size_t first = rep == PF_MOMENTUM ? (n + 1) / 2 - b : (which ? n - b : 0);
+            size_t first = rep == PF_MOMENTUM ? pf_guard_momentum_band_start(n) : (which ? n - b : 0);
             const double complex *seg = z + (o * n + first) * inner + off;
             size_t len = run - off < e1 - e ? run - off : e1 - e;
             for (size_t i = 0; i < len; i++) acc += creal(seg[i]) * creal(seg[i]) + cimag(seg[i]) * cimag(seg[i]);

@@ -34,6 +34,10 @@ double pf_context_guard_threshold(const pf_context *ctx);
 
 /* Points in the band at each end of an axis of n points (>= 1, <= n/2). */
 size_t pf_guard_band_points(size_t n);
+/* First FFT-storage index of an axis's momentum band: the band is the
+ * contiguous range of 2 pf_guard_band_points(n) indices from there (the most
+ * positive and most negative wave numbers meet in the middle of storage). */
+size_t pf_guard_momentum_band_start(size_t n);
 
 /* The guard figures of one wave function, for scripts and reports. */
 typedef struct pf_guard_figures {

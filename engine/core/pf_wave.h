@@ -73,7 +73,9 @@ void pf_wave_record(pf_wave *w, const char *kind, const char *method, double dur
 const pf_steplog *pf_wave_steplog(const pf_wave *w);
 
 /* Raw storage in the current representation (see the storage note above).
- * For core kernels; callers outside the core use the accessors. */
+ * For core kernels; callers outside the core use the accessors.  A deferred
+ * 2D/3D flight is carried out first (the wave is then in position
+ * representation); NULL if that fails, with the reason in the context. */
 double complex *pf_wave_data(pf_wave *w);
 const double complex *pf_wave_data_const(const pf_wave *w);
 
