@@ -96,6 +96,8 @@ double *pfl_scratch_doubles(lua_State *L, size_t n);
 double pfl_check_finite(lua_State *L, int arg, const char *what);
 /* A finite number > 0 at arg. */
 double pfl_check_positive(lua_State *L, int arg, const char *what);
+/* The field readers below read an options table raw, after the function
+ * checked it with pfl_options_check (pfl_options.h). */
 /* Field of the table at t: a finite number, or def when absent (nil).  The
  * error names the field: "field 'mass' must be a finite number, got 'abc'". */
 double pfl_field_number(lua_State *L, int t, const char *field, double def, int required);
@@ -103,6 +105,9 @@ double pfl_field_number(lua_State *L, int t, const char *field, double def, int 
 int pfl_field_vector(lua_State *L, int t, const char *field, int dim, double *out, int required);
 /* Optional boolean field. */
 int pfl_field_boolean(lua_State *L, int t, const char *field, int def);
+/* Name of the Lua function being called (for error messages), as
+ * luaL_argerror finds it ("grid" for pf.grid{...}); "psiflight" when unknown. */
+const char *pfl_caller_name(lua_State *L);
 /* Formats the Lua value at idx for an error message (numbers, short strings,
  * type names), into buf. */
 const char *pfl_describe(lua_State *L, int idx, char *buf, size_t size);
@@ -157,6 +162,7 @@ int pfl_files_enforced(lua_State *L);
 void pfl_files_check(lua_State *L, const char *path, pfl_access access, const char *op);
 
 /* ---- openers: each registers its group into the module table at mod ---- */
+void pfl_open_options(lua_State *L, int mod);  /* pf.check_options; first, before any group declares options */
 void pfl_open_context(lua_State *L, int mod);
 void pfl_open_complex(lua_State *L, int mod);
 void pfl_open_grid(lua_State *L, int mod);

@@ -5,7 +5,8 @@
 #include <math.h>
 #include <stdio.h>
 #include <string.h>
-#include "pfl.h"
+#include "pfl_options.h"
+#include "pfl_protocol.h"
 
 const char *pfl_describe(lua_State *L, int idx, char *buf, size_t size)
 {
@@ -29,13 +30,11 @@ const char *pfl_describe(lua_State *L, int idx, char *buf, size_t size)
     return buf;
 }
 
-/* Name under which the running C function was called ("grid" for
- * pf.grid{...}), as luaL_argerror finds it; "?" when unknown. */
-static const char *caller_name(lua_State *L)
+const char *pfl_caller_name(lua_State *L)
 {
     lua_Debug ar;
     if (lua_getstack(L, 0, &ar) && lua_getinfo(L, "n", &ar) && ar.name) return ar.name;
-    return "?";
+    return "psiflight";
 }
 
 /* Raises "NAME: field ..." so table-field errors name the function too. */
@@ -43,7 +42,7 @@ static int field_error(lua_State *L, const char *fmt, const char *field, const c
 {
     char msg[300];
     snprintf(msg, sizeof msg, fmt, field, extra);
-    return luaL_error(L, "%s: %s", caller_name(L), msg);
+    return luaL_error(L, "%s: %s", pfl_caller_name(L), msg);
 }
 
 double pfl_check_finite(lua_State *L, int arg, const char *what)
@@ -71,7 +70,7 @@ double pfl_check_positive(lua_State *L, int arg, const char *what)
 double pfl_field_number(lua_State *L, int t, const char *field, double def, int required)
 {
     char buf[80];
-    int type = lua_getfield(L, t, field);
+    int type = pfl_option_get(L, t, field);
     if (type == LUA_TNIL) {
         lua_pop(L, 1);
         if (required) field_error(L, "missing field '%s'%s", field, "");
@@ -87,7 +86,7 @@ double pfl_field_number(lua_State *L, int t, const char *field, double def, int 
 int pfl_field_vector(lua_State *L, int t, const char *field, int dim, double *out, int required)
 {
     char buf[80];
-    int type = lua_getfield(L, t, field);
+    int type = pfl_option_get(L, t, field);
     if (type == LUA_TNIL) {
         lua_pop(L, 1);
         if (required) field_error(L, "missing field '%s'%s", field, "");
@@ -127,9 +126,36 @@ int pfl_field_vector(lua_State *L, int t, const char *field, int dim, double *ou
     return 1;
 }
 
+int pfl_field_axis(lua_State *L, int t, const char *field, const pf_grid *g, int def, const char *name)
+{
+    lua_Integer a = pfl_field_integer(L, t, field, def, 1, name);
+    if (a > pf_grid_dim(g))
+        luaL_error(L, "%s: field '%s' must be an axis 1..%d, got %d", name, field, pf_grid_dim(g), (int)a);
+    return (int)a - 1;
+}
+
+lua_Integer pfl_field_integer(lua_State *L, int t, const char *field, lua_Integer def, lua_Integer min,
+                              const char *name)
+{
+    int type = pfl_option_get(L, t, field);
+    if (type == LUA_TNIL) {
+        lua_pop(L, 1);
+        return def;
+    }
+    int ok;
+    lua_Integer v = lua_tointegerx(L, -1, &ok);
+    if (!ok || v < min) {
+        char buf[80];
+        luaL_error(L, "%s: field '%s' must be an integer of at least %d, got %s", name, field, (int)min,
+                   pfl_describe(L, -1, buf, sizeof buf));
+    }
+    lua_pop(L, 1);
+    return v;
+}
+
 int pfl_field_boolean(lua_State *L, int t, const char *field, int def)
 {
-    int type = lua_getfield(L, t, field);
+    int type = pfl_option_get(L, t, field);
     int v = type == LUA_TNIL ? def : lua_toboolean(L, -1);
     if (type != LUA_TNIL && type != LUA_TBOOLEAN) {
         char buf[80];

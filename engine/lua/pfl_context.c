@@ -5,8 +5,9 @@
 #include <stdlib.h>
 #include <string.h>
 #include <fftw3.h>
-#include "pfl.h"
+#include "../core/pf_guard.h"
 #include "../core/pf_version.h"
+#include "pfl_options.h"
 
 /* Library state lives in the Lua state (a userdata in the registry), never in
  * C globals, so two states in one process do not share settings. */
@@ -142,79 +143,116 @@ const char *pfl_output_dir(lua_State *L) { return get_state(L)->output_dir; }
 int pfl_strict(lua_State *L) { return get_state(L)->strict; }
 unsigned long pfl_warning_count(lua_State *L) { return get_state(L)->warnings; }
 
+static const pfl_options_decl SETUP_OPTIONS = {
+    "pf.setup", (const char *const[]){"threads", "planning", "wisdom", "memory_cap", "strict", "seed", "output_dir",
+                                      "guard_threshold", NULL}};
+
+/* Every pf.setup field as read once from the table: checked and applied from
+ * these same values, so nothing can answer differently the second time. */
+typedef struct setup_values {
+    int has_threads, has_planning, has_wisdom, has_cap, has_strict, has_seed, has_dir, has_guard;
+    lua_Integer threads, seed;
+    pf_planning planning;
+    const char *wisdom;    /* NULL with has_wisdom: wisdom off */
+    double cap, guard;
+    int strict;
+    const char *dir;
+} setup_values;
+
+static int setup_type_error(lua_State *L, const char *field, const char *want)
+{
+    char buf[64];
+    return luaL_error(L, "setup: field '%s' must be %s, got %s", field, want, pfl_describe(L, -1, buf, sizeof buf));
+}
+
+/* Reads and checks every field (raw reads of a checked plain table); strings
+ * stay alive in the table, which is argument 1 for the whole call. */
+static void read_setup(lua_State *L, setup_values *v)
+{
+    memset(v, 0, sizeof *v);
+    int ok;
+    if ((v->has_threads = pfl_option_get(L, 1, "threads") != LUA_TNIL)) {
+        v->threads = lua_tointegerx(L, -1, &ok);
+        if (lua_type(L, -1) != LUA_TNUMBER || !ok) setup_type_error(L, "threads", "an integer");
+        if (v->threads < 1 || v->threads > 1024) setup_type_error(L, "threads", "1..1024");
+    }
+    lua_pop(L, 1);
+    if ((v->has_planning = pfl_option_get(L, 1, "planning") != LUA_TNIL)) {
+        const char *m = lua_type(L, -1) == LUA_TSTRING ? lua_tostring(L, -1) : "";
+        if (strcmp(m, "measure") == 0) v->planning = PF_PLAN_MEASURE;
+        else if (strcmp(m, "estimate") == 0) v->planning = PF_PLAN_ESTIMATE;
+        else setup_type_error(L, "planning", "\"measure\" or \"estimate\"");
+    }
+    lua_pop(L, 1);
+    int t = pfl_option_get(L, 1, "wisdom");
+    if ((v->has_wisdom = t != LUA_TNIL)) {
+        if (t == LUA_TSTRING && *lua_tostring(L, -1)) v->wisdom = lua_tostring(L, -1);
+        else if (!(t == LUA_TBOOLEAN && !lua_toboolean(L, -1))) setup_type_error(L, "wisdom", "a path or false");
+    }
+    lua_pop(L, 1);
+    if ((v->has_cap = pfl_option_get(L, 1, "memory_cap") != LUA_TNIL)) {
+        /* A number only: a string such as "1e18" would convert, but it is not
+         * what a byte count is, and a guard that checks numbers would miss it. */
+        v->cap = lua_tonumber(L, -1);
+        if (lua_type(L, -1) != LUA_TNUMBER || !(v->cap >= 1) || v->cap > 1e18)
+            setup_type_error(L, "memory_cap", "a positive byte count (a number up to 1e18)");
+    }
+    lua_pop(L, 1);
+    if ((v->has_strict = pfl_option_get(L, 1, "strict") != LUA_TNIL)) {
+        if (lua_type(L, -1) != LUA_TBOOLEAN) setup_type_error(L, "strict", "true or false");
+        v->strict = lua_toboolean(L, -1);
+    }
+    lua_pop(L, 1);
+    if ((v->has_seed = pfl_option_get(L, 1, "seed") != LUA_TNIL)) {
+        v->seed = lua_tointegerx(L, -1, &ok);
+        if (lua_type(L, -1) != LUA_TNUMBER || !ok || v->seed < 0) setup_type_error(L, "seed", "a non-negative integer");
+    }
+    lua_pop(L, 1);
+    if ((v->has_dir = pfl_option_get(L, 1, "output_dir") != LUA_TNIL)) {
+        if (lua_type(L, -1) != LUA_TSTRING || !*lua_tostring(L, -1)) setup_type_error(L, "output_dir", "a non-empty path");
+        v->dir = lua_tostring(L, -1);
+    }
+    lua_pop(L, 1);
+    if ((v->has_guard = pfl_option_get(L, 1, "guard_threshold") != LUA_TNIL)) {
+        v->guard = lua_tonumber(L, -1);
+        if (lua_type(L, -1) != LUA_TNUMBER || !(v->guard > 0))
+            setup_type_error(L, "guard_threshold", "a positive probability (math.huge switches guard warnings off)");
+    }
+    lua_pop(L, 1);
+}
+
 /* pf.setup{threads=, planning="measure"|"estimate", wisdom=path|false,
- *          memory_cap=bytes, strict=bool, seed=integer, output_dir=path} */
+ *          memory_cap=bytes, strict=bool, seed=integer, output_dir=path,
+ *          guard_threshold=p}: every field is read once into C values,
+ * all are checked, then those values are applied. */
 static int l_setup(lua_State *L)
 {
-    luaL_checktype(L, 1, LUA_TTABLE);
+    pfl_options_check(L, 1, &SETUP_OPTIONS);
+    lua_settop(L, 1);
     pfl_state *st = get_state(L);
     pf_context *ctx = st->ctx;
-    if (lua_getfield(L, 1, "threads") != LUA_TNIL) {
-        lua_Integer n;
-        int ok;
-        n = lua_tointegerx(L, -1, &ok);
-        if (!ok) {
-            char buf[64];
-            return luaL_error(L, "setup: field 'threads' must be an integer, got %s", pfl_describe(L, -1, buf, sizeof buf));
-        }
-        if (n < 1 || n > 1024) return luaL_error(L, "setup: field 'threads' must be 1..1024, got %d", (int)n);
-        pfl_check(L, pf_context_set_threads(ctx, (int)n), "setup");
+    setup_values v;
+    read_setup(L, &v);
+    char *dir = NULL;
+    if (v.has_dir && !(dir = strdup(v.dir))) return luaL_error(L, "setup: out of memory");
+    if (v.has_threads) {
+        pf_status s = pf_context_set_threads(ctx, (int)v.threads);
+        if (s) free(dir);
+        pfl_check(L, s, "setup");
     }
-    lua_pop(L, 1);
-    if (lua_getfield(L, 1, "planning") != LUA_TNIL) {
-        const char *m = lua_tostring(L, -1);
-        if (m && strcmp(m, "measure") == 0)
-            pfl_check(L, pf_context_set_planning(ctx, PF_PLAN_MEASURE), "setup");
-        else if (m && strcmp(m, "estimate") == 0)
-            pfl_check(L, pf_context_set_planning(ctx, PF_PLAN_ESTIMATE), "setup");
-        else {
-            char buf[64];
-            return luaL_error(L, "setup: field 'planning' must be \"measure\" or \"estimate\", got %s",
-                              pfl_describe(L, -1, buf, sizeof buf));
-        }
-    }
-    lua_pop(L, 1);
-    int t = lua_getfield(L, 1, "wisdom");
-    if (t == LUA_TBOOLEAN && !lua_toboolean(L, -1))
-        pfl_check(L, pf_context_set_wisdom_path(ctx, NULL), "setup");
-    else if (t == LUA_TSTRING)
-        pfl_check(L, pf_context_set_wisdom_path(ctx, lua_tostring(L, -1)), "setup");
-    else if (t != LUA_TNIL)
-        return luaL_error(L, "setup: field 'wisdom' must be a path or false");
-    lua_pop(L, 1);
-    if (lua_getfield(L, 1, "memory_cap") != LUA_TNIL) {
-        double b = lua_tonumber(L, -1);
-        if (!(b >= 1) || b > 1e18) {
-            char buf[64];
-            return luaL_error(L, "setup: field 'memory_cap' must be a positive byte count, got %s",
-                              pfl_describe(L, -1, buf, sizeof buf));
-        }
-        pfl_check(L, pf_context_set_memory_cap(ctx, (size_t)b), "setup");
-    }
-    lua_pop(L, 1);
-    if (lua_getfield(L, 1, "strict") != LUA_TNIL) st->strict = lua_toboolean(L, -1);
-    lua_pop(L, 1);
-    if (lua_getfield(L, 1, "seed") != LUA_TNIL) {
-        int ok;
-        lua_Integer seed = lua_tointegerx(L, -1, &ok);
-        if (!ok || seed < 0) {
-            char buf[64];
-            return luaL_error(L, "setup: field 'seed' must be a non-negative integer, got %s",
-                              pfl_describe(L, -1, buf, sizeof buf));
-        }
-        st->seed = (unsigned long long)seed;
-    }
-    lua_pop(L, 1);
-    if (lua_getfield(L, 1, "output_dir") != LUA_TNIL) {
-        const char *dir = lua_tostring(L, -1);
-        if (lua_type(L, -1) != LUA_TSTRING || !*dir)
-            return luaL_error(L, "setup: field 'output_dir' must be a non-empty path");
-        char *copy = strdup(dir);
-        if (!copy) return luaL_error(L, "setup: out of memory");
+    pf_status s = PF_OK;
+    if (v.has_planning && !s) s = pf_context_set_planning(ctx, v.planning);
+    if (v.has_wisdom && !s) s = pf_context_set_wisdom_path(ctx, v.wisdom);
+    if (v.has_cap && !s) s = pf_context_set_memory_cap(ctx, (size_t)v.cap);
+    if (v.has_guard && !s) s = pf_context_set_guard_threshold(ctx, v.guard);
+    if (s) free(dir);
+    pfl_check(L, s, "setup");
+    if (v.has_strict) st->strict = v.strict;
+    if (v.has_seed) st->seed = (unsigned long long)v.seed;
+    if (dir) {
         free(st->output_dir);
-        st->output_dir = copy;
+        st->output_dir = dir;
     }
-    lua_pop(L, 1);
     return 0;
 }
 
@@ -285,6 +323,8 @@ void pfl_open_context(lua_State *L, int mod)
         {NULL, NULL},
     };
     pfl_add_functions(L, mod, funcs);
+    static const pfl_options_decl *const options[] = {&SETUP_OPTIONS, NULL};
+    pfl_options_declare(L, options);
     lua_pushstring(L, PF_VERSION);
     lua_setfield(L, mod, "version");
 }

@@ -7,7 +7,14 @@
 #include "../core/pf_force.h"
 #include "../core/pf_relax.h"
 #include "../core/pf_splitstep.h"
+#include "pfl_options.h"
 #include "pfl_protocol.h"
+
+static const pfl_options_decl EVOLVE_OPTIONS = {
+    "wave:evolve", (const char *const[]){"potential", "time_dependent", "envelope", "dt", "order", "g", NULL}};
+static const pfl_options_decl RELAX_OPTIONS = {
+    "wave:relax", (const char *const[]){"potential", "dt", "g", "tolerance", "max_steps", "check_every", NULL}};
+static const pfl_options_decl ENERGY_OPTIONS = {"wave:energy", (const char *const[]){"potential", "g", NULL}};
 
 static int dim_of(pf_wave *w) { return pf_grid_dim(pf_wave_grid(w)); }
 
@@ -34,7 +41,7 @@ static int potential_field(lua_State *L, int t, pf_grid *g, const char *name, in
 {
     *V = NULL;
     if (cache) *cache = NULL;
-    int type = lua_getfield(L, t, "potential");
+    int type = pfl_option_get(L, t, "potential");
     if (type == LUA_TNIL) {
         lua_pop(L, 1);
         if (time_dependent) luaL_error(L, "%s: 'time_dependent' needs a 'potential' function of the coordinates and t", name);
@@ -99,20 +106,18 @@ static void push_info_number(lua_State *L, const char *k, double v)
  *   -> w, {steps, dt, phase_per_step} */
 static int l_evolve(lua_State *L)
 {
-    static const char *const known[] = {"potential", "time_dependent", "envelope", "dt", "order", "g", NULL};
     pf_wave *w = pfl_check_wave(L, 1);
     double t = pfl_check_finite(L, 2, "evolve time (s)");
     if (lua_isnoneornil(L, 3)) {
         lua_settop(L, 2);
         lua_newtable(L);
     }
-    luaL_checktype(L, 3, LUA_TTABLE);
-    pfl_check_options(L, 3, "evolve", known);
+    pfl_options_check(L, 3, &EVOLVE_OPTIONS);
     pf_grid *g = pf_wave_grid(w);
     pf_evolve_spec spec;
     memset(&spec, 0, sizeof spec);
     spec.dt = pfl_field_number(L, 3, "dt", 0, 0);
-    if (lua_getfield(L, 3, "dt") != LUA_TNIL && !(spec.dt > 0)) {
+    if (pfl_option_get(L, 3, "dt") != LUA_TNIL && !(spec.dt > 0)) {
         char buf[80];
         return luaL_error(L, "evolve: field 'dt' must be positive (s), got %s", pfl_describe(L, -1, buf, sizeof buf));
     }
@@ -127,7 +132,7 @@ static int l_evolve(lua_State *L)
     int fn = potential_field(L, 3, g, "evolve", varying, &V, &cache);
     pfl_sampler s = {L, fn, dim_of(w), PF_POSITION, "evolve", "potential", 1, 0, g};
     envelope_call env = {L, 0, V, pf_grid_total(g)};
-    int te = lua_getfield(L, 3, "envelope");
+    int te = pfl_option_get(L, 3, "envelope");
     if (te != LUA_TNIL) {
         if (te != LUA_TFUNCTION) return luaL_error(L, "evolve: field 'envelope' must be a function of t");
         if (varying || !V)
@@ -161,15 +166,13 @@ static int l_evolve(lua_State *L)
  *   -> w, {energy, chemical_potential, steps, converged, change, dt} */
 static int l_relax(lua_State *L)
 {
-    static const char *const known[] = {"potential", "dt", "g", "tolerance", "max_steps", "check_every", NULL};
     pf_wave *w = pfl_check_wave(L, 1);
-    luaL_checktype(L, 2, LUA_TTABLE);
-    pfl_check_options(L, 2, "relax", known);
+    pfl_options_check(L, 2, &RELAX_OPTIONS);
     pf_grid *g = pf_wave_grid(w);
     pf_relax_spec spec;
     memset(&spec, 0, sizeof spec);
     spec.dt = pfl_field_number(L, 2, "dt", 0, 0);
-    if (lua_getfield(L, 2, "dt") != LUA_TNIL && !(spec.dt > 0)) {
+    if (pfl_option_get(L, 2, "dt") != LUA_TNIL && !(spec.dt > 0)) {
         char buf[80];
         return luaL_error(L, "relax: field 'dt' must be positive (s), got %s", pfl_describe(L, -1, buf, sizeof buf));
     }
@@ -200,14 +203,12 @@ static int l_relax(lua_State *L)
 /* w:energy{potential = f | table, g = 0} -> E, mu (J) */
 static int l_energy(lua_State *L)
 {
-    static const char *const known[] = {"potential", "g", NULL};
     pf_wave *w = pfl_check_wave(L, 1);
     if (lua_isnoneornil(L, 2)) {
         lua_settop(L, 1);
         lua_newtable(L);
     }
-    luaL_checktype(L, 2, LUA_TTABLE);
-    pfl_check_options(L, 2, "energy", known);
+    pfl_options_check(L, 2, &ENERGY_OPTIONS);
     double g = pfl_field_number(L, 2, "g", 0, 0);
     const double *V;
     potential_field(L, 2, pf_wave_grid(w), "energy", 0, &V, NULL);
@@ -221,6 +222,8 @@ static int l_energy(lua_State *L)
 void pfl_open_evolve(lua_State *L, int mod)
 {
     pfl_register_potential(L, mod);
+    static const pfl_options_decl *const options[] = {&EVOLVE_OPTIONS, &RELAX_OPTIONS, &ENERGY_OPTIONS, NULL};
+    pfl_options_declare(L, options);
     static const luaL_Reg methods[] = {
         {"fall", l_fall},
         {"evolve", l_evolve},

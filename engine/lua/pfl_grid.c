@@ -5,7 +5,9 @@
 #include <math.h>
 #include <stdio.h>
 #include "../core/pf_constants.h"
-#include "pfl.h"
+#include "pfl_options.h"
+
+static const pfl_options_decl GRID_OPTIONS = {"pf.grid", (const char *const[]){"points", "span", "spacing", "origin", NULL}};
 
 typedef struct { pf_grid *g; } pfl_grid_box;
 
@@ -53,12 +55,12 @@ void pfl_check_indices(lua_State *L, int arg, const pf_grid *g, size_t *idx, int
  *         origin = c | {..}} */
 static int l_grid(lua_State *L)
 {
-    luaL_checktype(L, 1, LUA_TTABLE);
+    pfl_options_check(L, 1, &GRID_OPTIONS);
     size_t points[PF_MAX_DIM];
     double span[PF_MAX_DIM], origin[PF_MAX_DIM] = {0, 0, 0}, spacing[PF_MAX_DIM];
     char buf[80];
     int dim;
-    int t = lua_getfield(L, 1, "points");
+    int t = pfl_option_get(L, 1, "points");
     if (t == LUA_TNUMBER) {
         dim = 1;
         lua_newtable(L);
@@ -214,6 +216,8 @@ void pfl_open_grid(lua_State *L, int mod)
         {"__gc", l_close}, {"__close", l_close}, {"__tostring", l_tostring}, {NULL, NULL},
     };
     static const luaL_Reg funcs[] = {{"grid", l_grid}, {NULL, NULL}};
+    static const pfl_options_decl *const options[] = {&GRID_OPTIONS, NULL};
+    pfl_options_declare(L, options);
     luaL_newmetatable(L, PFL_GRID_TYPE);
     luaL_setfuncs(L, meta, 0);
     luaL_newlib(L, methods);

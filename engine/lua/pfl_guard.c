@@ -1,9 +1,10 @@
-/* pfl_guard.c - grid guards in Lua: w:guard() and the guard_threshold setting
- * of pf.setup / pf.run_info.
+/* pfl_guard.c - grid guards in Lua: w:guard() and the guard_threshold figure
+ * of pf.run_info.
  *
- * pf.setup and pf.run_info are extended by wrapping the functions that
- * pfl_context.c registered (this opener runs after it), so the guard setting
- * lives next to the guard code and the context file stays untouched. */
+ * pf.run_info is extended by wrapping the function pfl_context.c registered
+ * (this opener runs after it).  The guard_threshold setting itself is one of
+ * pf.setup's declared options (pfl_context.c), so the setup table is checked
+ * and read once, in one place. */
 #include <math.h>
 #include <stdio.h>
 #include "../core/pf_guard.h"
@@ -54,27 +55,6 @@ static int l_guard(lua_State *L)
     return 1;
 }
 
-/* pf.setup{guard_threshold = p, ...}: applies the guard setting, then calls
- * the original setup (upvalue 1) with the same table. */
-static int l_setup(lua_State *L)
-{
-    luaL_checktype(L, 1, LUA_TTABLE);
-    if (lua_getfield(L, 1, "guard_threshold") != LUA_TNIL) {
-        double p = lua_tonumber(L, -1);
-        if (lua_type(L, -1) != LUA_TNUMBER || !(p > 0)) {
-            char buf[80];
-            return luaL_error(L, "setup: field 'guard_threshold' must be a positive probability (math.huge "
-                                 "switches guard warnings off), got %s", pfl_describe(L, -1, buf, sizeof buf));
-        }
-        pfl_check(L, pf_context_set_guard_threshold(pfl_ctx(L), p), "setup");
-    }
-    lua_pop(L, 1);
-    lua_pushvalue(L, lua_upvalueindex(1));
-    lua_pushvalue(L, 1);
-    lua_call(L, 1, LUA_MULTRET);
-    return lua_gettop(L) - 1;
-}
-
 /* pf.run_info() with guard_threshold added. */
 static int l_run_info(lua_State *L)
 {
@@ -103,6 +83,5 @@ void pfl_open_guard(lua_State *L, int mod)
     mod = lua_absindex(L, mod);
     static const luaL_Reg methods[] = {{"guard", l_guard}, {NULL, NULL}};
     pfl_add_wave_methods(L, methods);
-    wrap(L, mod, "setup", l_setup);
     wrap(L, mod, "run_info", l_run_info);
 }

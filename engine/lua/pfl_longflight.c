@@ -8,7 +8,17 @@
 #include "../core/pf_farfield.h"
 #include "../core/pf_guard.h"
 #include "../core/pf_scaled.h"
-#include "pfl.h"
+#include "pfl_options.h"
+
+static const pfl_options_decl FLY_LONG_OPTIONS = {
+    "wave:fly_long", (const char *const[]){"method", "grid", "points", "spacing", "origin", NULL}};
+static const pfl_options_decl FLY_SCALED_OPTIONS = {"wave:fly_scaled", (const char *const[]){"points", "origin", NULL}};
+#define ADVICE_COMMON_KEYS "time", "kicks", "margin", "image_points"
+static const pfl_options_decl WAVE_ADVICE_OPTIONS = {"wave:grid_advice", (const char *const[]){ADVICE_COMMON_KEYS, NULL}};
+static const pfl_options_decl ADVICE_OPTIONS = {
+    "pf.grid_advice",
+    (const char *const[]){"mass", "width", "wavenumber_width", "center", "wavenumber", ADVICE_COMMON_KEYS, NULL}};
+static const pfl_options_decl KICK_OPTIONS = {"grid_advice kicks[i]", (const char *const[]){"time", "wavenumber", NULL}};
 
 static void set_vector(lua_State *L, const char *name, const double *v, int d)
 {
@@ -47,7 +57,7 @@ static pf_flight_method check_method(lua_State *L, int t, const char *fname)
 {
     static const char *const names[] = {"auto", "same-grid", "scaled", NULL};
     static const pf_flight_method values[] = {PF_FLIGHT_AUTO, PF_FLIGHT_SAME_GRID, PF_FLIGHT_SCALED};
-    if (lua_getfield(L, t, "method") == LUA_TNIL) {
+    if (pfl_option_get(L, t, "method") == LUA_TNIL) {
         lua_pop(L, 1);
         return PF_FLIGHT_AUTO;
     }
@@ -72,9 +82,9 @@ static int l_fly_long(lua_State *L)
     pf_long_flight_opts o;
     memset(&o, 0, sizeof o);
     if (!lua_isnoneornil(L, 3)) {
-        luaL_checktype(L, 3, LUA_TTABLE);
+        pfl_options_check(L, 3, &FLY_LONG_OPTIONS);
         o.method = check_method(L, 3, "fly_long");
-        if (lua_getfield(L, 3, "grid") != LUA_TNIL) o.grid = pfl_check_grid(L, lua_gettop(L));
+        if (pfl_option_get(L, 3, "grid") != LUA_TNIL) o.grid = pfl_check_grid(L, lua_gettop(L));
         lua_pop(L, 1); /* the table still holds the grid, so it stays alive */
         field_counts(L, 3, "points", d, o.points, "fly_long");
         if (pfl_field_vector(L, 3, "spacing", d, o.spacing, 0))
@@ -125,7 +135,7 @@ static int l_fly_scaled(lua_State *L)
     double origin[PF_MAX_DIM];
     int has_points = 0, has_origin = 0;
     if (!lua_isnoneornil(L, 3)) {
-        luaL_checktype(L, 3, LUA_TTABLE);
+        pfl_options_check(L, 3, &FLY_SCALED_OPTIONS);
         has_points = field_counts(L, 3, "points", d, points, "fly_scaled");
         has_origin = pfl_field_vector(L, 3, "origin", d, origin, 0);
     }
@@ -191,7 +201,7 @@ static int l_far_field(lua_State *L)
 static size_t read_kicks(lua_State *L, int t, int d, double **times, double **ks, const char *fname)
 {
     *times = *ks = NULL;
-    if (lua_getfield(L, t, "kicks") == LUA_TNIL) {
+    if (pfl_option_get(L, t, "kicks") == LUA_TNIL) {
         lua_pop(L, 1);
         return 0;
     }
@@ -205,6 +215,7 @@ static size_t read_kicks(lua_State *L, int t, int d, double **times, double **ks
         if (lua_geti(L, kt, (lua_Integer)i + 1) != LUA_TTABLE)
             luaL_error(L, "%s: kick %d must be a table {time=, wavenumber=}", fname, (int)i + 1);
         int e = lua_gettop(L);
+        pfl_options_check(L, e, &KICK_OPTIONS);
         buf[i] = pfl_field_number(L, e, "time", 0, 1);
         double k[PF_MAX_DIM];
         pfl_field_vector(L, e, "wavenumber", d, k, 1);
@@ -274,7 +285,7 @@ static void read_common(lua_State *L, int t, pf_advice_request *q, const char *f
 static int l_wave_grid_advice(lua_State *L)
 {
     pf_wave *w = pfl_check_wave(L, 1);
-    luaL_checktype(L, 2, LUA_TTABLE);
+    pfl_options_check(L, 2, &WAVE_ADVICE_OPTIONS);
     pf_advice_request q;
     memset(&q, 0, sizeof q);
     q.dim = pf_grid_dim(pf_wave_grid(w));
@@ -304,15 +315,15 @@ static double gauss_tail_z(double eps)
 }
 
 /* pf.grid_advice{mass = kg, time = s, width = sigma_x, wavenumber_width = sigma_k,
- *                centre = x0, wavenumber = k0, kicks=, margin=, image_points=}
+ *                center = x0, wavenumber = k0, kicks=, margin=, image_points=}
  * for a Gaussian-like state described by its rms widths. */
 static int l_grid_advice(lua_State *L)
 {
-    luaL_checktype(L, 1, LUA_TTABLE);
+    pfl_options_check(L, 1, &ADVICE_OPTIONS);
     pf_advice_request q;
     memset(&q, 0, sizeof q);
     double w[PF_MAX_DIM], sk[PF_MAX_DIM], c[PF_MAX_DIM] = {0, 0, 0}, k0[PF_MAX_DIM] = {0, 0, 0};
-    int ty = lua_getfield(L, 1, "width");
+    int ty = pfl_option_get(L, 1, "width");
     if (ty == LUA_TTABLE) q.dim = (int)luaL_len(L, -1);
     else if (ty == LUA_TNUMBER) q.dim = 1;
     else return luaL_error(L, "grid_advice: field 'width' (rms width per axis, m) is required");
@@ -326,7 +337,7 @@ static int l_grid_advice(lua_State *L)
         for (int a = 0; a < q.dim; a++) sk[a] = 1.0 / (2.0 * w[a]); /* minimum-uncertainty state */
     for (int a = 0; a < q.dim; a++)
         if (!(sk[a] > 0)) return luaL_error(L, "grid_advice: field 'wavenumber_width' must be positive, got %f", sk[a]);
-    pfl_field_vector(L, 1, "centre", q.dim, c, 0);
+    pfl_field_vector(L, 1, "center", q.dim, c, 0);
     pfl_field_vector(L, 1, "wavenumber", q.dim, k0, 0);
     read_common(L, 1, &q, "grid_advice");
     double z = gauss_tail_z(fmin(pf_context_guard_threshold(pfl_ctx(L)), 1e-2));
@@ -351,6 +362,9 @@ void pfl_open_longflight(lua_State *L, int mod)
         {NULL, NULL},
     };
     static const luaL_Reg funcs[] = {{"grid_advice", l_grid_advice}, {NULL, NULL}};
+    static const pfl_options_decl *const options[] = {
+        &FLY_LONG_OPTIONS, &FLY_SCALED_OPTIONS, &WAVE_ADVICE_OPTIONS, &ADVICE_OPTIONS, &KICK_OPTIONS, NULL};
+    pfl_options_declare(L, options);
     pfl_add_wave_methods(L, methods);
     pfl_add_functions(L, mod, funcs);
 }

@@ -12,13 +12,6 @@
 
 /* ---- shared helpers ---- */
 
-const char *pfl_caller_name(lua_State *L)
-{
-    lua_Debug ar;
-    if (lua_getstack(L, 0, &ar) && lua_getinfo(L, "n", &ar) && ar.name) return ar.name;
-    return "psiflight";
-}
-
 void pfl_push_doubles(lua_State *L, const double *v, size_t n)
 {
     lua_createtable(L, (int)n, 0);

@@ -8,6 +8,7 @@ typedef void (*pfl_opener)(lua_State *L, int mod);
 /* Order matters only in that pfl_open_wave creates the wave metatable that
  * later groups add methods to. */
 static const pfl_opener openers[] = {
+    pfl_open_options,
     pfl_open_context,
     pfl_open_complex,
     pfl_open_grid,

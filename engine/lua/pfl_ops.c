@@ -6,7 +6,20 @@
 #include <math.h>
 #include <string.h>
 #include "../core/pf_ops.h"
+#include "pfl_options.h"
 #include "pfl_protocol.h"
+
+static const pfl_options_decl GRATING_OPTIONS = {"wave:grating", (const char *const[]){"depth", "period", "axis", "phase", NULL}};
+static const pfl_options_decl LENS_OPTIONS = {"wave:lens", (const char *const[]){"axis", "center", NULL}};
+static const pfl_options_decl SLITS_OPTIONS = {
+    "wave:slits", (const char *const[]){"count", "width", "pitch", "center", "axis", NULL}};
+static const pfl_options_decl SLIT_OPTIONS = {"wave:slit", (const char *const[]){"width", "center", "axis", NULL}};
+static const pfl_options_decl MASK_GRATING_OPTIONS = {
+    "wave:mask_grating", (const char *const[]){"period", "open_fraction", "offset", "axis", NULL}};
+static const pfl_options_decl APERTURE_OPTIONS = {
+    "wave:aperture", (const char *const[]){"shape", "radius", "size", "center", "axes", NULL}};
+static const pfl_options_decl SELECT_VELOCITY_OPTIONS = {
+    "wave:select_velocity", (const char *const[]){"width", "center", "axis", "shape", NULL}};
 
 static int dim_of(pf_wave *w) { return pf_grid_dim(pf_wave_grid(w)); }
 
@@ -55,10 +68,8 @@ static int l_imprint(lua_State *L)
  * phase grating exp(i depth cos(2 pi x / period + phase)). */
 static int l_grating(lua_State *L)
 {
-    static const char *const known[] = {"depth", "period", "axis", "phase", NULL};
     pf_wave *w = pfl_check_wave(L, 1);
-    luaL_checktype(L, 2, LUA_TTABLE);
-    pfl_check_options(L, 2, "grating", known);
+    pfl_options_check(L, 2, &GRATING_OPTIONS);
     int axis = pfl_field_axis(L, 2, "axis", pf_wave_grid(w), 1, "grating");
     double depth = pfl_field_number(L, 2, "depth", 0, 1);
     double period = pfl_field_number(L, 2, "period", 0, 1);
@@ -72,14 +83,13 @@ static int l_grating(lua_State *L)
  * time f seconds (negative: diverging) on every axis or on one. */
 static int l_lens(lua_State *L)
 {
-    static const char *const known[] = {"axis", "center", NULL};
     pf_wave *w = pfl_check_wave(L, 1);
     double f = pfl_check_finite(L, 2, "focal time (s)");
     if (f == 0) return luaL_argerror(L, 2, "focal time (s) must be non-zero (negative for a diverging lens), got 0");
     opt_table(L, 3);
-    pfl_check_options(L, 3, "lens", known);
+    pfl_options_check(L, 3, &LENS_OPTIONS);
     int d = dim_of(w);
-    int axis = lua_getfield(L, 3, "axis") == LUA_TNIL ? -1 : 0;
+    int axis = pfl_option_get(L, 3, "axis") == LUA_TNIL ? -1 : 0;
     lua_pop(L, 1);
     if (axis == 0) axis = pfl_field_axis(L, 3, "axis", pf_wave_grid(w), 1, "lens");
     double center[PF_MAX_DIM] = {0, 0, 0};
@@ -92,11 +102,8 @@ static int l_lens(lua_State *L)
 /* w:slits{count = 1, width = m, pitch = m, center = 0, axis = 1} -> w, removed */
 static int slits(lua_State *L, const char *name, int single)
 {
-    static const char *const known_many[] = {"count", "width", "pitch", "center", "axis", NULL};
-    static const char *const known_one[] = {"width", "center", "axis", NULL};
     pf_wave *w = pfl_check_wave(L, 1);
-    luaL_checktype(L, 2, LUA_TTABLE);
-    pfl_check_options(L, 2, name, single ? known_one : known_many);
+    pfl_options_check(L, 2, single ? &SLIT_OPTIONS : &SLITS_OPTIONS);
     int axis = pfl_field_axis(L, 2, "axis", pf_wave_grid(w), 1, name);
     lua_Integer count = single ? 1 : pfl_field_integer(L, 2, "count", 1, 1, name);
     if (count > 1000000) return luaL_error(L, "%s: field 'count' must be at most 1000000, got %d", name, (int)count);
@@ -114,10 +121,8 @@ static int l_slits(lua_State *L) { return slits(L, "slits", 0); }
 /* w:mask_grating{period = m, open_fraction = 0.5, offset = 0, axis = 1} -> w, removed */
 static int l_mask_grating(lua_State *L)
 {
-    static const char *const known[] = {"period", "open_fraction", "offset", "axis", NULL};
     pf_wave *w = pfl_check_wave(L, 1);
-    luaL_checktype(L, 2, LUA_TTABLE);
-    pfl_check_options(L, 2, "mask_grating", known);
+    pfl_options_check(L, 2, &MASK_GRATING_OPTIONS);
     int axis = pfl_field_axis(L, 2, "axis", pf_wave_grid(w), 1, "mask_grating");
     double period = pfl_field_number(L, 2, "period", 0, 1);
     double open = pfl_field_number(L, 2, "open_fraction", 0.5, 0);
@@ -132,7 +137,7 @@ static int l_mask_grating(lua_State *L)
 static void read_sizes(lua_State *L, int t, int d, double *size)
 {
     char buf[80];
-    int type = lua_getfield(L, t, "size");
+    int type = pfl_option_get(L, t, "size");
     if (type == LUA_TNUMBER) {
         for (int a = 0; a < d; a++) size[a] = lua_tonumber(L, -1);
     } else if (type == LUA_TTABLE) {
@@ -158,17 +163,15 @@ static void read_sizes(lua_State *L, int t, int d, double *size)
  * w:aperture{shape = "rectangle", size = {..}, center = {..}} -> w, removed */
 static int l_aperture(lua_State *L)
 {
-    static const char *const known[] = {"shape", "radius", "size", "center", "axes", NULL};
     pf_wave *w = pfl_check_wave(L, 1);
-    luaL_checktype(L, 2, LUA_TTABLE);
-    pfl_check_options(L, 2, "aperture", known);
+    pfl_options_check(L, 2, &APERTURE_OPTIONS);
     int d = dim_of(w);
-    lua_getfield(L, 2, "shape");
+    pfl_option_get(L, 2, "shape");
     const char *shape = lua_tostring(L, -1);
     double removed = 0;
     if (lua_type(L, -1) == LUA_TSTRING && strcmp(shape, "circle") == 0) {
         int axes[2] = {0, 1};
-        if (lua_getfield(L, 2, "axes") != LUA_TNIL) {
+        if (pfl_option_get(L, 2, "axes") != LUA_TNIL) {
             if (lua_type(L, -1) != LUA_TTABLE || luaL_len(L, -1) != 2)
                 return luaL_error(L, "aperture: field 'axes' must be a table of two axis numbers");
             for (int i = 0; i < 2; i++) {
@@ -230,15 +233,13 @@ static int l_shift(lua_State *L)
 /* w:select_velocity{width = m/s, center = 0, axis = 1, shape = "box"|"gaussian"} -> w, removed */
 static int l_select_velocity(lua_State *L)
 {
-    static const char *const known[] = {"width", "center", "axis", "shape", NULL};
     pf_wave *w = pfl_check_wave(L, 1);
-    luaL_checktype(L, 2, LUA_TTABLE);
-    pfl_check_options(L, 2, "select_velocity", known);
+    pfl_options_check(L, 2, &SELECT_VELOCITY_OPTIONS);
     int axis = pfl_field_axis(L, 2, "axis", pf_wave_grid(w), 1, "select_velocity");
     double width = pfl_field_number(L, 2, "width", 0, 1);
     double center = pfl_field_number(L, 2, "center", 0, 0);
     int gaussian = 0;
-    if (lua_getfield(L, 2, "shape") != LUA_TNIL) {
+    if (pfl_option_get(L, 2, "shape") != LUA_TNIL) {
         const char *sh = lua_tostring(L, -1);
         if (lua_type(L, -1) == LUA_TSTRING && strcmp(sh, "gaussian") == 0) gaussian = 1;
         else if (!(lua_type(L, -1) == LUA_TSTRING && strcmp(sh, "box") == 0)) {
@@ -256,6 +257,10 @@ static int l_select_velocity(lua_State *L)
 void pfl_open_ops(lua_State *L, int mod)
 {
     (void)mod;
+    static const pfl_options_decl *const options[] = {&GRATING_OPTIONS, &LENS_OPTIONS, &SLITS_OPTIONS, &SLIT_OPTIONS,
+                                                      &MASK_GRATING_OPTIONS, &APERTURE_OPTIONS,
+                                                      &SELECT_VELOCITY_OPTIONS, NULL};
+    pfl_options_declare(L, options);
     static const luaL_Reg methods[] = {
         {"kick", l_kick},
         {"imprint", l_imprint},

@@ -1,6 +1,7 @@
 /* pfl_protocol.h - helpers shared by the protocol-step bindings (pfl_ops.c,
  * pfl_evolve.c, pfl_sample.c): sampling Lua functions over a grid, reading
- * potentials, and checking option tables. */
+ * potentials.  (Option tables are checked by pfl_options.h; the axis and
+ * integer field readers below live in pfl_args.c with the other readers.) */
 #ifndef PFL_PROTOCOL_H
 #define PFL_PROTOCOL_H
 
@@ -39,10 +40,6 @@ double *pfl_read_potential(lua_State *L, int idx, pf_grid *g, const char *name, 
 
 /* Fills V from the sampler at time t (core pf_potential_fn). */
 int pfl_potential_cb(void *user, double t, double *V);
-
-/* Raises an error when the table at idx has a key not in the NULL-ended
- * list (catches misspelt options). */
-void pfl_check_options(lua_State *L, int idx, const char *name, const char *const *allowed);
 
 /* Optional 1-based axis field (default def, 1-based) -> 0-based axis. */
 int pfl_field_axis(lua_State *L, int t, const char *field, const pf_grid *g, int def, const char *name);

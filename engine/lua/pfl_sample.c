@@ -1,5 +1,5 @@
 /* pfl_sample.c - sampling user Lua functions over a grid for the protocol
- * steps (phases, transmissions, potentials) and checking option tables.
+ * steps (phases, transmissions, potentials).
  *
  * Functions are called once per grid point under lua_pcall, so an error in a
  * user function unwinds no C frame that holds engine memory; the core call
@@ -126,56 +126,6 @@ double *pfl_read_potential(lua_State *L, int idx, pf_grid *g, const char *name, 
         lua_pop(L, 1);
     }
     return V;
-}
-
-void pfl_check_options(lua_State *L, int idx, const char *name, const char *const *allowed)
-{
-    idx = lua_absindex(L, idx);
-    lua_pushnil(L);
-    while (lua_next(L, idx)) {
-        lua_pop(L, 1);
-        int ok = 0;
-        if (lua_type(L, -1) == LUA_TSTRING) {
-            const char *k = lua_tostring(L, -1);
-            for (const char *const *a = allowed; *a; a++)
-                if (strcmp(k, *a) == 0) ok = 1;
-        }
-        if (!ok) {
-            char buf[80], list[400] = "";
-            for (const char *const *a = allowed; *a; a++) {
-                strncat(list, a == allowed ? "" : ", ", sizeof list - strlen(list) - 1);
-                strncat(list, *a, sizeof list - strlen(list) - 1);
-            }
-            luaL_error(L, "%s: unknown option %s (known: %s)", name, pfl_describe(L, -1, buf, sizeof buf), list);
-        }
-    }
-}
-
-int pfl_field_axis(lua_State *L, int t, const char *field, const pf_grid *g, int def, const char *name)
-{
-    lua_Integer a = pfl_field_integer(L, t, field, def, 1, name);
-    if (a > pf_grid_dim(g))
-        luaL_error(L, "%s: field '%s' must be an axis 1..%d, got %d", name, field, pf_grid_dim(g), (int)a);
-    return (int)a - 1;
-}
-
-lua_Integer pfl_field_integer(lua_State *L, int t, const char *field, lua_Integer def, lua_Integer min,
-                              const char *name)
-{
-    int type = lua_getfield(L, t, field);
-    if (type == LUA_TNIL) {
-        lua_pop(L, 1);
-        return def;
-    }
-    int ok;
-    lua_Integer v = lua_tointegerx(L, -1, &ok);
-    if (!ok || v < min) {
-        char buf[80];
-        luaL_error(L, "%s: field '%s' must be an integer of at least %d, got %s", name, field, (int)min,
-                   pfl_describe(L, -1, buf, sizeof buf));
-    }
-    lua_pop(L, 1);
-    return v;
 }
 
 void pfl_check_axis_values(lua_State *L, int arg, int dim, double *out, const char *what)

@@ -4,8 +4,8 @@
  * units (or a species label for the mass), checks every field, and calls the
  * core builder, which evaluates the state in C.
  *
- * Unknown field names are errors with close matches: a misspelt 'widht'
- * would otherwise silently fall back to a default. */
+ * Unknown field names are errors with close matches (pfl_options.h): a
+ * misspelt 'widht' would otherwise silently fall back to a default. */
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -13,39 +13,16 @@
 #include "../core/pf_build.h"
 #include "../core/pf_constants.h"
 #include "../core/pf_units.h"
-#include "pfl.h"
+#include "pfl_options.h"
 
 #define MAX_FIELDS 24
-
-/* Raises unless every key of the table at t is in allowed (NULL-ended). */
-static void check_fields(lua_State *L, int t, const char *fname, const char *const *allowed)
-{
-    lua_pushnil(L);
-    while (lua_next(L, t)) {
-        lua_pop(L, 1);
-        if (lua_type(L, -1) != LUA_TSTRING)
-            luaL_error(L, "%s: field names must be strings, got a %s key", fname, luaL_typename(L, -1));
-        const char *key = lua_tostring(L, -1);
-        int ok = 0, best = 1000;
-        const char *near = NULL;
-        for (const char *const *a = allowed; *a; a++) {
-            if (strcmp(*a, key) == 0) ok = 1;
-            int dist = pf_edit_distance(key, *a);
-            if (dist < best) best = dist, near = *a;
-        }
-        if (!ok) {
-            if (near && best <= 3) luaL_error(L, "%s: unknown field '%s' (did you mean '%s'?)", fname, key, near);
-            luaL_error(L, "%s: unknown field '%s'; see docs/states.md", fname, key);
-        }
-    }
-}
 
 /* Optional field with one number per axis (or one number for all axes).
  * positive: 1 requires > 0.  Returns 0 when absent. */
 static int read_vector(lua_State *L, int t, const char *fname, const char *field, int d, double *out, int positive)
 {
     char buf[80];
-    int type = lua_getfield(L, t, field);
+    int type = pfl_option_get(L, t, field);
     if (type == LUA_TNIL) {
         lua_pop(L, 1);
         return 0;
@@ -83,7 +60,7 @@ static int read_matrix(lua_State *L, int t, const char *fname, const char *field
                        double m[PF_MAX_DIM][PF_MAX_DIM])
 {
     char buf[80];
-    int type = lua_getfield(L, t, field);
+    int type = pfl_option_get(L, t, field);
     if (type == LUA_TNIL) {
         lua_pop(L, 1);
         return 0;
@@ -123,7 +100,7 @@ static int choose(lua_State *L, int t, const char *fname, const char *const *nam
 {
     int found = -1;
     for (int i = 0; names[i]; i++) {
-        int type = lua_getfield(L, t, names[i]);
+        int type = pfl_option_get(L, t, names[i]);
         lua_pop(L, 1);
         if (type == LUA_TNIL) continue;
         if (found >= 0) luaL_error(L, "%s: give only one of '%s' and '%s'", fname, names[found], names[i]);
@@ -158,7 +135,7 @@ static void read_motion(lua_State *L, int t, const char *fname, int d, double ma
 
 static int read_normalize(lua_State *L, int t, const char *fname)
 {
-    int type = lua_getfield(L, t, "normalize");
+    int type = pfl_option_get(L, t, "normalize");
     int v = type == LUA_TNIL ? 1 : lua_toboolean(L, -1);
     if (type != LUA_TNIL && type != LUA_TBOOLEAN) luaL_error(L, "%s: field 'normalize' must be true or false", fname);
     lua_pop(L, 1);
@@ -177,6 +154,22 @@ static pf_wave *new_wave(lua_State *L, pf_grid *g, double mass, const char *fnam
 #define ENVELOPE_FIELDS                                                                                          \
     "mass", "width", "momentum_width", "velocity_width", "covariance", "center", "velocity", "momentum",         \
         "wavenumber", "chirp", "expansion_rate", "normalize"
+
+static const pfl_options_decl GAUSSIAN_OPTIONS = {"pf.gaussian", (const char *const[]){ENVELOPE_FIELDS, NULL}};
+static const pfl_options_decl ORDERS_OPTIONS = {
+    "pf.momentum_orders",
+    (const char *const[]){ENVELOPE_FIELDS, "step_momentum", "step_wavenumber", "step_velocity", "orders", NULL}};
+static const pfl_options_decl ORDER_OPTIONS = {"pf.momentum_orders orders[i]", (const char *const[]){"n", "amplitude", "phase", NULL}};
+static const pfl_options_decl GROUND_STATE_OPTIONS = {
+    "pf.ground_state", (const char *const[]){"mass", "omega", "frequency", "center", "velocity", "momentum", "wavenumber", "normalize", NULL}};
+static const pfl_options_decl OSCILLATOR_OPTIONS = {
+    "pf.oscillator", (const char *const[]){"mass", "omega", "frequency", "n", "center", "velocity", "momentum", "wavenumber", "normalize", NULL}};
+static const pfl_options_decl FLAT_TOP_OPTIONS = {
+    "pf.flat_top", (const char *const[]){"mass", "half_width", "velocity_half_width", "wavenumber_half_width", "order", "shape", "center", "velocity", "momentum", "wavenumber", "normalize", NULL}};
+static const pfl_options_decl THOMAS_FERMI_OPTIONS = {
+    "pf.thomas_fermi", (const char *const[]){"mass", "radius", "center", "velocity", "momentum", "wavenumber", "normalize", NULL}};
+static const pfl_options_decl SAMPLED_OPTIONS = {
+    "pf.sampled", (const char *const[]){"mass", "space", "x", "k", "axes", "values", "interpolation", "normalize", NULL}};
 
 /* Gaussian envelope: size (one of width, momentum_width, velocity_width,
  * covariance), centre, mean motion and chirp (chirp or expansion_rate). */
@@ -218,10 +211,8 @@ static void read_envelope(lua_State *L, int t, const char *fname, int d, double 
  *                    chirp=|expansion_rate=, normalize=true}) */
 static int l_gaussian(lua_State *L)
 {
-    static const char *const fields[] = {ENVELOPE_FIELDS, NULL};
     pf_grid *g = pfl_check_grid(L, 1);
-    luaL_checktype(L, 2, LUA_TTABLE);
-    check_fields(L, 2, "gaussian", fields);
+    pfl_options_check(L, 2, &GAUSSIAN_OPTIONS);
     int d = pf_grid_dim(g);
     double mass = pfl_field_mass(L, 2, "gaussian");
     pf_gaussian_spec spec;
@@ -237,27 +228,24 @@ static int l_gaussian(lua_State *L)
  *     orders = {{n=, amplitude=1, phase=0}, ...}}) */
 static int l_momentum_orders(lua_State *L)
 {
-    static const char *const fields[] = {ENVELOPE_FIELDS, "step_momentum", "step_wavenumber", "step_velocity",
-                                         "orders", NULL};
     static const char *const steps[] = {"step_momentum", "step_wavenumber", "step_velocity", NULL};
     const char *fname = "momentum_orders";
     pf_grid *g = pfl_check_grid(L, 1);
-    luaL_checktype(L, 2, LUA_TTABLE);
-    check_fields(L, 2, fname, fields);
+    pfl_options_check(L, 2, &GROUND_STATE_OPTIONS);
     int d = pf_grid_dim(g);
     double mass = pfl_field_mass(L, 2, fname);
     pf_gaussian_spec spec;
     read_envelope(L, 2, fname, d, mass, &spec);
     int which = choose(L, 2, fname, steps, 1);
     double step[PF_MAX_DIM];
-    if (d > 1 && lua_getfield(L, 2, steps[which]) == LUA_TNUMBER)
+    if (d > 1 && pfl_option_get(L, 2, steps[which]) == LUA_TNUMBER)
         return luaL_error(L, "%s: on a %dD grid field '%s' must be a vector of %d numbers (the kick direction)",
                           fname, d, steps[which], d);
     if (d > 1) lua_pop(L, 1);
     read_vector(L, 2, fname, steps[which], d, step, 0);
     double f = which == 0 ? 1.0 / PF_HBAR : which == 1 ? 1.0 : mass / PF_HBAR;
     for (int a = 0; a < d; a++) step[a] *= f;
-    if (lua_getfield(L, 2, "orders") != LUA_TTABLE) return luaL_error(L, "%s: field 'orders' must be a table of orders", fname);
+    if (pfl_option_get(L, 2, "orders") != LUA_TTABLE) return luaL_error(L, "%s: field 'orders' must be a table of orders", fname);
     lua_Integer count = luaL_len(L, -1);
     if (count < 1 || count > 100000) return luaL_error(L, "%s: field 'orders' must list 1..100000 orders, got %d", fname, (int)count);
     pf_order *orders = lua_newuserdatauv(L, (size_t)count * sizeof *orders, 0); /* freed by Lua on error */
@@ -267,20 +255,19 @@ static int l_momentum_orders(lua_State *L)
         if (lua_geti(L, list, i) != LUA_TTABLE)
             return luaL_error(L, "%s: orders entry %d must be a table {n=, amplitude=, phase=}", fname, (int)i);
         int e = lua_gettop(L);
-        static const char *const ofields[] = {"n", "amplitude", "phase", NULL};
-        check_fields(L, e, fname, ofields);
+        pfl_options_check(L, e, &ORDER_OPTIONS);
         int ok;
-        lua_getfield(L, e, "n");
+        pfl_option_get(L, e, "n");
         lua_Integer n = lua_tointegerx(L, -1, &ok);
         if (!ok) return luaL_error(L, "%s: orders entry %d needs an integer 'n', got %s", fname, (int)i, pfl_describe(L, -1, buf, sizeof buf));
         lua_pop(L, 1);
         double complex amp = 1.0;
-        if (lua_getfield(L, e, "amplitude") != LUA_TNIL && (!pfl_to_complex(L, -1, &amp) || !isfinite(creal(amp)) || !isfinite(cimag(amp))))
+        if (pfl_option_get(L, e, "amplitude") != LUA_TNIL && (!pfl_to_complex(L, -1, &amp) || !isfinite(creal(amp)) || !isfinite(cimag(amp))))
             return luaL_error(L, "%s: orders entry %d: 'amplitude' must be a finite number or complex, got %s", fname,
                               (int)i, pfl_describe(L, -1, buf, sizeof buf));
         lua_pop(L, 1);
         double phase = 0;
-        if (lua_getfield(L, e, "phase") != LUA_TNIL) {
+        if (pfl_option_get(L, e, "phase") != LUA_TNIL) {
             phase = lua_tonumber(L, -1);
             if (lua_type(L, -1) != LUA_TNUMBER || !isfinite(phase))
                 return luaL_error(L, "%s: orders entry %d: 'phase' must be a finite number (rad), got %s", fname,
@@ -310,12 +297,9 @@ static void read_trap(lua_State *L, int t, const char *fname, int d, double *ome
 /* pf.ground_state(grid, {mass=, omega=|frequency=, center=, velocity=|..., normalize=}) */
 static int l_ground_state(lua_State *L)
 {
-    static const char *const fields[] = {"mass", "omega", "frequency", "center", "velocity", "momentum",
-                                         "wavenumber", "normalize", NULL};
     const char *fname = "ground_state";
     pf_grid *g = pfl_check_grid(L, 1);
-    luaL_checktype(L, 2, LUA_TTABLE);
-    check_fields(L, 2, fname, fields);
+    pfl_options_check(L, 2, &OSCILLATOR_OPTIONS);
     int d = pf_grid_dim(g);
     double mass = pfl_field_mass(L, 2, fname), omega[PF_MAX_DIM], center[PF_MAX_DIM] = {0, 0, 0}, k0[PF_MAX_DIM];
     read_trap(L, 2, fname, d, omega);
@@ -330,12 +314,9 @@ static int l_ground_state(lua_State *L)
 /* pf.oscillator(grid, {mass=, omega=|frequency=, n=, center=, velocity=|..., normalize=}) */
 static int l_oscillator(lua_State *L)
 {
-    static const char *const fields[] = {"mass", "omega", "frequency", "n", "center", "velocity", "momentum",
-                                         "wavenumber", "normalize", NULL};
     const char *fname = "oscillator";
     pf_grid *g = pfl_check_grid(L, 1);
-    luaL_checktype(L, 2, LUA_TTABLE);
-    check_fields(L, 2, fname, fields);
+    pfl_options_check(L, 2, &FLAT_TOP_OPTIONS);
     int d = pf_grid_dim(g);
     double mass = pfl_field_mass(L, 2, fname), omega[PF_MAX_DIM], center[PF_MAX_DIM] = {0, 0, 0}, k0[PF_MAX_DIM];
     read_trap(L, 2, fname, d, omega);
@@ -359,14 +340,10 @@ static int l_oscillator(lua_State *L)
  *                    order=4, shape="box"|"round", center=, velocity=|..., normalize=}) */
 static int l_flat_top(lua_State *L)
 {
-    static const char *const fields[] = {"mass", "half_width", "velocity_half_width", "wavenumber_half_width",
-                                         "order", "shape", "center", "velocity", "momentum", "wavenumber",
-                                         "normalize", NULL};
     static const char *const widths[] = {"half_width", "velocity_half_width", "wavenumber_half_width", NULL};
     const char *fname = "flat_top";
     pf_grid *g = pfl_check_grid(L, 1);
-    luaL_checktype(L, 2, LUA_TTABLE);
-    check_fields(L, 2, fname, fields);
+    pfl_options_check(L, 2, &THOMAS_FERMI_OPTIONS);
     int d = pf_grid_dim(g);
     double mass = pfl_field_mass(L, 2, fname), kappa[PF_MAX_DIM], center[PF_MAX_DIM] = {0, 0, 0}, k0[PF_MAX_DIM];
     int which = choose(L, 2, fname, widths, 1);
@@ -374,7 +351,7 @@ static int l_flat_top(lua_State *L)
     double f = which == 0 ? 1.0 / PF_HBAR : which == 1 ? mass / PF_HBAR : 1.0;
     for (int a = 0; a < d; a++) kappa[a] *= f;
     double order = 4.0;
-    if (lua_getfield(L, 2, "order") != LUA_TNIL) {
+    if (pfl_option_get(L, 2, "order") != LUA_TNIL) {
         order = lua_tonumber(L, -1);
         if (lua_type(L, -1) != LUA_TNUMBER || !(order >= 1 && order <= 50))
             return luaL_error(L, "%s: field 'order' must be a number from 1 (Gaussian) to 50, got %s", fname,
@@ -382,7 +359,7 @@ static int l_flat_top(lua_State *L)
     }
     lua_pop(L, 1);
     pf_flat_shape shape = PF_FLAT_BOX;
-    if (lua_getfield(L, 2, "shape") != LUA_TNIL) {
+    if (pfl_option_get(L, 2, "shape") != LUA_TNIL) {
         const char *s = lua_tostring(L, -1);
         if (lua_type(L, -1) == LUA_TSTRING && strcmp(s, "box") == 0) shape = PF_FLAT_BOX;
         else if (lua_type(L, -1) == LUA_TSTRING && strcmp(s, "round") == 0) shape = PF_FLAT_ROUND;
@@ -400,12 +377,9 @@ static int l_flat_top(lua_State *L)
 /* pf.thomas_fermi(grid, {mass=, radius=, center=, velocity=|..., normalize=}) */
 static int l_thomas_fermi(lua_State *L)
 {
-    static const char *const fields[] = {"mass", "radius", "center", "velocity", "momentum", "wavenumber",
-                                         "normalize", NULL};
     const char *fname = "thomas_fermi";
     pf_grid *g = pfl_check_grid(L, 1);
-    luaL_checktype(L, 2, LUA_TTABLE);
-    check_fields(L, 2, fname, fields);
+    pfl_options_check(L, 2, &SAMPLED_OPTIONS);
     int d = pf_grid_dim(g);
     double mass = pfl_field_mass(L, 2, fname), radius[PF_MAX_DIM], center[PF_MAX_DIM] = {0, 0, 0}, k0[PF_MAX_DIM];
     if (!read_vector(L, 2, fname, "radius", d, radius, 1))
@@ -442,16 +416,14 @@ static double *read_numbers(lua_State *L, int idx, const char *fname, const char
  *                   values={...}, interpolation="linear"|"cubic", normalize=}) */
 static int l_sampled(lua_State *L)
 {
-    static const char *const fields[] = {"mass", "space", "x", "k", "axes", "values", "interpolation", "normalize", NULL};
     const char *fname = "sampled";
     char buf[80];
     pf_grid *g = pfl_check_grid(L, 1);
-    luaL_checktype(L, 2, LUA_TTABLE);
-    check_fields(L, 2, fname, fields);
+    pfl_options_check(L, 2, &ORDERS_OPTIONS);
     int d = pf_grid_dim(g);
     double mass = pfl_field_mass(L, 2, fname);
     pf_rep rep = PF_POSITION;
-    if (lua_getfield(L, 2, "space") != LUA_TNIL) {
+    if (pfl_option_get(L, 2, "space") != LUA_TNIL) {
         const char *s = lua_tostring(L, -1);
         if (lua_type(L, -1) == LUA_TSTRING && strcmp(s, "position") == 0) rep = PF_POSITION;
         else if (lua_type(L, -1) == LUA_TSTRING && strcmp(s, "momentum") == 0) rep = PF_MOMENTUM;
@@ -459,7 +431,7 @@ static int l_sampled(lua_State *L)
     }
     lua_pop(L, 1);
     pf_interp method = PF_INTERP_LINEAR;
-    if (lua_getfield(L, 2, "interpolation") != LUA_TNIL) {
+    if (pfl_option_get(L, 2, "interpolation") != LUA_TNIL) {
         const char *s = lua_tostring(L, -1);
         if (lua_type(L, -1) == LUA_TSTRING && strcmp(s, "linear") == 0) method = PF_INTERP_LINEAR;
         else if (lua_type(L, -1) == LUA_TSTRING && strcmp(s, "cubic") == 0) method = PF_INTERP_CUBIC;
@@ -473,7 +445,7 @@ static int l_sampled(lua_State *L)
     if (which == 1 && rep == PF_POSITION) return luaL_error(L, "%s: 'k' coordinates need space = \"momentum\"", fname);
     size_t counts[PF_MAX_DIM];
     const double *axes[PF_MAX_DIM];
-    lua_getfield(L, 2, coords[which]);
+    pfl_option_get(L, 2, coords[which]);
     if (!lua_istable(L, -1)) return luaL_error(L, "%s: field '%s' must be a table", fname, coords[which]);
     if (which < 2) {
         axes[0] = read_numbers(L, -1, fname, coords[which], &counts[0]);
@@ -490,7 +462,7 @@ static int l_sampled(lua_State *L)
     }
     size_t total = 1;
     for (int a = 0; a < d; a++) total *= counts[a];
-    if (lua_getfield(L, 2, "values") != LUA_TTABLE) return luaL_error(L, "%s: field 'values' must be a table of numbers or complex values", fname);
+    if (pfl_option_get(L, 2, "values") != LUA_TTABLE) return luaL_error(L, "%s: field 'values' must be a table of numbers or complex values", fname);
     if ((size_t)luaL_len(L, -1) != total)
         return luaL_error(L, "%s: field 'values' must hold %d values (row-major, last axis fastest), got %d", fname, (int)total, (int)luaL_len(L, -1));
     int vals = lua_gettop(L);
@@ -515,4 +487,8 @@ void pfl_open_states(lua_State *L, int mod)
         {"sampled", l_sampled}, {NULL, NULL},
     };
     pfl_add_functions(L, mod, funcs);
+    static const pfl_options_decl *const options[] = {&GAUSSIAN_OPTIONS, &ORDERS_OPTIONS, &ORDER_OPTIONS,
+                                                      &GROUND_STATE_OPTIONS, &OSCILLATOR_OPTIONS, &FLAT_TOP_OPTIONS,
+                                                      &THOMAS_FERMI_OPTIONS, &SAMPLED_OPTIONS, NULL};
+    pfl_options_declare(L, options);
 }

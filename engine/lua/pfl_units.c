@@ -10,7 +10,7 @@
 #include <string.h>
 #include "../core/pf_species.h"
 #include "../core/pf_units.h"
-#include "pfl.h"
+#include "pfl_options.h"
 
 /* __index(proxy, key): upvalue 1 holds the values, upvalue 2 the view's
  * name for messages, upvalue 3 the names in documentation order. */
@@ -222,7 +222,7 @@ static int l_photon_wavenumber(lua_State *L)
 double pfl_field_mass(lua_State *L, int t, const char *fname)
 {
     char buf[80];
-    int type = lua_getfield(L, t, "mass");
+    int type = pfl_option_get(L, t, "mass");
     double m = 0;
     if (type == LUA_TSTRING) {
         const char *label = lua_tostring(L, -1);

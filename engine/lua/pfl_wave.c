@@ -9,7 +9,9 @@
 #include <stdlib.h>
 #include <string.h>
 #include "../core/pf_observe.h"
-#include "pfl.h"
+#include "pfl_options.h"
+
+static const pfl_options_decl WAVE_OPTIONS = {"pf.wave", (const char *const[]){"mass", "position", "momentum", "normalize", NULL}};
 
 typedef struct { pf_wave *w; } pfl_wave_box;
 
@@ -104,10 +106,10 @@ void pfl_fill_from_function(lua_State *L, pf_wave *w, pf_rep rep, int arg, const
 static int l_wave(lua_State *L)
 {
     pf_grid *g = pfl_check_grid(L, 1);
-    luaL_checktype(L, 2, LUA_TTABLE);
+    pfl_options_check(L, 2, &WAVE_OPTIONS);
     double mass = pfl_field_mass(L, 2, "wave");
-    int tp = lua_getfield(L, 2, "position");
-    int tm = lua_getfield(L, 2, "momentum");
+    int tp = pfl_option_get(L, 2, "position");
+    int tm = pfl_option_get(L, 2, "momentum");
     if ((tp == LUA_TNIL) == (tm == LUA_TNIL))
         return luaL_error(L, "wave: give exactly one of 'position' (function of x) or 'momentum' (function of k)");
     int normalize = pfl_field_boolean(L, 2, "normalize", 1);
@@ -321,6 +323,8 @@ void pfl_open_wave(lua_State *L, int mod)
         {"__gc", l_close}, {"__close", l_close}, {"__tostring", l_tostring}, {NULL, NULL},
     };
     static const luaL_Reg funcs[] = {{"wave", l_wave}, {NULL, NULL}};
+    static const pfl_options_decl *const options[] = {&WAVE_OPTIONS, NULL};
+    pfl_options_declare(L, options);
     luaL_newmetatable(L, PFL_WAVE_TYPE);
     luaL_setfuncs(L, meta, 0);
     luaL_newlib(L, methods);

@@ -1,0 +1,207 @@
+/* pfl_options.c - the one checker for option tables, the raw field reader
+ * that goes with it, and the registry of declared option sets (see
+ * pfl_options.h for the rules).
+ *
+ * One place decides the wording of every "unknown option" error, so a typo
+ * reads the same whichever function it was passed to, and no function can
+ * fall back to a default because a key was misspelt. */
+#include <stdio.h>
+#include <string.h>
+#include "../core/pf_units.h"
+#include "pfl_options.h"
+
+#define DECLS_KEY "psiflight.options.decls"     /* function name -> light userdata decl */
+#define CHECKED_KEY "psiflight.options.checked" /* weak: checked table -> light userdata decl */
+#define MAX_LUA_KEYS 64                         /* keys a recipe may declare (pf.check_options) */
+
+/* Pushes the registry table stored under name, creating it (weak keys when
+ * weak) on first use. */
+static void push_registry_table(lua_State *L, const char *name, int weak)
+{
+    if (lua_getfield(L, LUA_REGISTRYINDEX, name) == LUA_TTABLE) return;
+    lua_pop(L, 1);
+    lua_newtable(L);
+    if (weak) {
+        lua_createtable(L, 0, 1);
+        lua_pushliteral(L, "k");
+        lua_setfield(L, -2, "__mode");
+        lua_setmetatable(L, -2);
+    }
+    lua_pushvalue(L, -1);
+    lua_setfield(L, LUA_REGISTRYINDEX, name);
+}
+
+/* How far apart a typo may be from a key and still be suggested: one edit
+ * for short keys, two up to six letters, three beyond.  Farther matches are
+ * more often a different word than a typo. */
+static int close_enough(const char *typed, int dist)
+{
+    size_t n = strlen(typed);
+    int limit = n <= 3 ? 1 : n <= 6 ? 2 : 3;
+    return dist <= limit && (size_t)dist < n;
+}
+
+/* Raises the error for an unknown key at the stack top, placed at level. */
+static void unknown_key(lua_State *L, const char *function, const char *const *keys, int level)
+{
+    const char *key = lua_tostring(L, -1);
+    const char *near = NULL;
+    int best = 1 << 20;
+    for (const char *const *k = keys; *k; k++) {
+        int d = pf_edit_distance(key, *k);
+        if (d < best) best = d, near = *k;
+    }
+    char shown[80];
+    snprintf(shown, sizeof shown, "%.60s%s", key, strlen(key) > 60 ? "..." : "");
+    luaL_where(L, level);
+    if (near && close_enough(key, best)) {
+        lua_pushfstring(L, "%s: unknown option '%s' (did you mean '%s'?)", function, shown, near);
+    } else {
+        luaL_Buffer b;
+        luaL_buffinit(L, &b);
+        for (const char *const *k = keys; *k; k++) {
+            if (k != keys) luaL_addstring(&b, ", ");
+            luaL_addstring(&b, *k);
+        }
+        luaL_pushresult(&b);
+        lua_pushfstring(L, "%s: unknown option '%s' (known options: %s)", function, shown, lua_tostring(L, -1));
+        lua_remove(L, -2);
+    }
+    lua_concat(L, 2);
+    lua_error(L);
+}
+
+static void raise_at(lua_State *L, int level, const char *fmt, const char *a, const char *b)
+{
+    luaL_where(L, level);
+    lua_pushfstring(L, fmt, a, b);
+    lua_concat(L, 2);
+    lua_error(L);
+}
+
+/* The check itself, for a C declaration or keys given from Lua. */
+static void check_keys(lua_State *L, int idx, const char *function, const char *const *keys, int level)
+{
+    idx = lua_absindex(L, idx);
+    if (lua_type(L, idx) != LUA_TTABLE) {
+        char buf[80];
+        raise_at(L, level, "%s: options must be a table, got %s", function, pfl_describe(L, idx, buf, sizeof buf));
+    }
+    if (lua_getmetatable(L, idx))
+        raise_at(L, level, "%s: the options table must be a plain table (this one has a metatable)%s", function, "");
+    lua_pushnil(L);
+    while (lua_next(L, idx)) {
+        lua_pop(L, 1);
+        if (lua_type(L, -1) != LUA_TSTRING) {
+            char buf[80];
+            raise_at(L, level, "%s: option names must be strings, got the key %s", function,
+                     pfl_describe(L, -1, buf, sizeof buf));
+        }
+        const char *key = lua_tostring(L, -1);
+        const char *const *k = keys;
+        while (*k && strcmp(*k, key) != 0) k++;
+        if (!*k) unknown_key(L, function, keys, level);
+    }
+}
+
+void pfl_options_check_at(lua_State *L, int idx, const pfl_options_decl *decl, int level)
+{
+    idx = lua_absindex(L, idx);
+    push_registry_table(L, DECLS_KEY, 0);
+    lua_getfield(L, -1, decl->function);
+    if (lua_touserdata(L, -1) != (void *)decl)
+        luaL_error(L, "%s: internal error: option set not declared (pfl_options_declare)", decl->function);
+    lua_pop(L, 2);
+    check_keys(L, idx, decl->function, decl->keys, level);
+    push_registry_table(L, CHECKED_KEY, 1);
+    lua_pushvalue(L, idx);
+    lua_pushlightuserdata(L, (void *)decl);
+    lua_rawset(L, -3);
+    lua_pop(L, 1);
+}
+
+void pfl_options_check(lua_State *L, int idx, const pfl_options_decl *decl)
+{
+    pfl_options_check_at(L, idx, decl, 1);
+}
+
+int pfl_option_get(lua_State *L, int t, const char *key)
+{
+    t = lua_absindex(L, t);
+    push_registry_table(L, CHECKED_KEY, 1);
+    lua_pushvalue(L, t);
+    lua_rawget(L, -2);
+    const pfl_options_decl *decl = lua_touserdata(L, -1);
+    lua_pop(L, 2);
+    /* Both failures are bugs in the binding, not in the script: reading a
+     * table nobody checked, or a key its declaration does not list. */
+    if (!decl) luaL_error(L, "internal error: option '%s' read from a table that was not checked", key);
+    const char *const *k = decl->keys;
+    while (*k && strcmp(*k, key) != 0) k++;
+    if (!*k) luaL_error(L, "%s: internal error: option '%s' is read but not declared", decl->function, key);
+    lua_pushstring(L, key);
+    return lua_rawget(L, t);
+}
+
+void pfl_options_declare(lua_State *L, const pfl_options_decl *const *decls)
+{
+    push_registry_table(L, DECLS_KEY, 0);
+    for (; *decls; decls++) {
+        if (lua_getfield(L, -1, (*decls)->function) != LUA_TNIL)
+            luaL_error(L, "internal error: option set '%s' declared twice", (*decls)->function);
+        lua_pop(L, 1);
+        lua_pushlightuserdata(L, (void *)*decls);
+        lua_setfield(L, -2, (*decls)->function);
+    }
+    lua_pop(L, 1);
+}
+
+/* pf.check_options(tbl, "recipe.name", {"key", ...}) -> tbl: the same check
+ * for options tables taken by Lua code (the bundled recipes).  The error
+ * points at the line that called the recipe (level 2). */
+static int l_check_options(lua_State *L)
+{
+    const char *function = luaL_checkstring(L, 2);
+    luaL_checktype(L, 3, LUA_TTABLE);
+    const char *keys[MAX_LUA_KEYS + 1];
+    lua_Integer n = luaL_len(L, 3);
+    if (n > MAX_LUA_KEYS) return luaL_error(L, "check_options: at most %d keys, got %d", MAX_LUA_KEYS, (int)n);
+    for (lua_Integer i = 1; i <= n; i++) {
+        if (lua_rawgeti(L, 3, i) != LUA_TSTRING) return luaL_error(L, "check_options: key %d must be a string", (int)i);
+        keys[i - 1] = lua_tostring(L, -1); /* stays alive: table 3 holds it */
+        lua_pop(L, 1);
+    }
+    keys[n] = NULL;
+    check_keys(L, 1, function, keys, 2);
+    lua_settop(L, 1);
+    return 1;
+}
+
+/* pf._option_sets() -> {["pf.grid"] = {"points", ...}, ...}: every declared
+ * option set, for the test that passes a bogus key to each. */
+static int l_option_sets(lua_State *L)
+{
+    lua_newtable(L);
+    push_registry_table(L, DECLS_KEY, 0);
+    lua_pushnil(L);
+    while (lua_next(L, -2)) {
+        const pfl_options_decl *decl = lua_touserdata(L, -1);
+        lua_pop(L, 1);
+        lua_newtable(L);
+        for (int i = 0; decl->keys[i]; i++) {
+            lua_pushstring(L, decl->keys[i]);
+            lua_rawseti(L, -2, i + 1);
+        }
+        lua_pushvalue(L, -2);
+        lua_insert(L, -2);
+        lua_rawset(L, -5);
+    }
+    lua_pop(L, 1);
+    return 1;
+}
+
+void pfl_open_options(lua_State *L, int mod)
+{
+    static const luaL_Reg funcs[] = {{"check_options", l_check_options}, {"_option_sets", l_option_sets}, {NULL, NULL}};
+    pfl_add_functions(L, mod, funcs);
+}
