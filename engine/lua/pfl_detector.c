@@ -7,6 +7,13 @@
 #include <string.h>
 #include "../core/pf_detector.h"
 #include "pfl_measure.h"
+#include "pfl_options.h"
+
+static const pfl_options_decl CAMERA_OPTIONS = {
+    "pf.camera", (const char *const[]){"pixels", "pitch", "corner", "psf", "efficiency", "imaging_axis", NULL}};
+static const pfl_options_decl EXPOSE_OPTIONS = {"camera:expose", (const char *const[]){"atoms", "noise", "seed", "generator", NULL}};
+static const pfl_options_decl ABSORB_OPTIONS = {
+    "camera:absorb", (const char *const[]){"atoms", "cross_section", "noise", "seed", "generator", NULL}};
 
 typedef struct pfl_camera_box {
     pf_camera cam;
@@ -19,11 +26,11 @@ typedef struct pfl_camera_box {
  *           psf = sigma | {..} (m), efficiency = 0..1, imaging_axis = a} */
 static int l_camera(lua_State *L)
 {
-    luaL_checktype(L, 1, LUA_TTABLE);
+    pfl_options_check(L, 1, &CAMERA_OPTIONS);
     pfl_camera_box *b = lua_newuserdatauv(L, sizeof *b, 0);
     memset(b, 0, sizeof *b);
     luaL_setmetatable(L, PFL_CAMERA_TYPE);
-    int t = lua_getfield(L, 1, "pixels");
+    int t = pfl_option_get(L, 1, "pixels");
     if (t == LUA_TNUMBER) {
         b->cam.dim = 1;
         b->cam.pixels[0] = (size_t)lua_tointeger(L, -1);
@@ -60,7 +67,7 @@ static int l_camera(lua_State *L)
     if (!(b->efficiency > 0 && b->efficiency <= 1))
         return luaL_error(L, "camera: field 'efficiency' must be in (0, 1], got %f", b->efficiency);
     lua_Integer ia = 0;
-    if (lua_getfield(L, 1, "imaging_axis") != LUA_TNIL) {
+    if (pfl_option_get(L, 1, "imaging_axis") != LUA_TNIL) {
         ia = lua_tointeger(L, -1);
         if (ia < 1 || ia > 3) return luaL_error(L, "camera: field 'imaging_axis' must be 1..3");
     }
@@ -139,8 +146,7 @@ static double sum_of(const pf_field *f)
 static int l_expose(lua_State *L)
 {
     pfl_camera_box *b = luaL_checkudata(L, 1, PFL_CAMERA_TYPE);
-    int opts = lua_isnoneornil(L, 3) ? 0 : 3;
-    if (opts) luaL_checktype(L, 3, LUA_TTABLE);
+    int opts = pfl_options_opt(L, 3, &EXPOSE_OPTIONS);
     double atoms = opts ? pfl_field_number(L, opts, "atoms", 1.0, 0) : 1.0;
     if (!(atoms > 0)) return luaL_error(L, "expose: field 'atoms' must be positive, got %f", atoms);
     int noise = opts ? pfl_field_boolean(L, opts, "noise", 1) : 1;
@@ -173,7 +179,7 @@ static int l_expose(lua_State *L)
 static int l_absorb(lua_State *L)
 {
     pfl_camera_box *b = luaL_checkudata(L, 1, PFL_CAMERA_TYPE);
-    luaL_checktype(L, 3, LUA_TTABLE);
+    pfl_options_check(L, 3, &ABSORB_OPTIONS);
     if (b->cam.dim != 2) return luaL_error(L, "absorb: absorption imaging needs a 2D camera");
     double atoms = pfl_field_number(L, 3, "atoms", 0, 1);
     double sigma = pfl_field_number(L, 3, "cross_section", 0, 1);
@@ -237,4 +243,6 @@ void pfl_open_detector(lua_State *L, int mod)
     lua_setfield(L, -2, "__index");
     lua_pop(L, 1);
     pfl_add_functions(L, mod, funcs);
+    static const pfl_options_decl *const options[] = {&CAMERA_OPTIONS, &EXPOSE_OPTIONS, &ABSORB_OPTIONS, NULL};
+    pfl_options_declare(L, options);
 }

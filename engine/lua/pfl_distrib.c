@@ -8,6 +8,19 @@
 #include "../core/pf_fringe.h"
 #include "../core/pf_sample.h"
 #include "pfl_measure.h"
+#include "pfl_options.h"
+
+#define RNG_KEYS "seed", "generator" /* read by pfl_opt_rng */
+static const pfl_options_decl DISTRIBUTION_OPTIONS = {"state:distribution", (const char *const[]){"space", NULL}};
+static const pfl_options_decl PROFILE_OPTIONS = {"state:profile", (const char *const[]){"space", NULL}};
+static const pfl_options_decl MARGINAL_OPTIONS = {"state:marginal", (const char *const[]){"axes", "space", NULL}};
+static const pfl_options_decl SLICE_OPTIONS = {"state:slice", (const char *const[]){"axes", "through", "space", NULL}};
+static const pfl_options_decl RADIAL_OPTIONS = {
+    "state:radial_profile", (const char *const[]){"center", "bin", "bins", "space", NULL}};
+static const pfl_options_decl SAMPLE_OPTIONS = {"state:sample", (const char *const[]){"space", "jitter", RNG_KEYS, NULL}};
+static const pfl_options_decl HISTOGRAM_OPTIONS = {"pf.histogram", (const char *const[]){"from", "to", "bins", NULL}};
+static const pfl_options_decl FRINGES_FN_OPTIONS = {"pf.fringes", (const char *const[]){"from", "to", "period", NULL}};
+static const pfl_options_decl FRINGES_OPTIONS = {"state:fringes", (const char *const[]){"axis", "from", "to", "period", NULL}};
 
 /* Unit strings and lab scale of a density field of dim axes. */
 static void density_units(pf_rep rep, int dim, double mass, char *unit, char *lab_unit, double *scale)
@@ -31,17 +44,10 @@ static void push_density_field(lua_State *L, const pf_field *f, pf_rep rep, doub
     pfl_push_field(L, f, rep, mass, unit, scale, lab);
 }
 
-static int opts_at(lua_State *L, int idx)
-{
-    if (lua_isnoneornil(L, idx)) return 0;
-    luaL_checktype(L, idx, LUA_TTABLE);
-    return idx;
-}
-
 /* s:distribution([{space=}]) -> the full density with axes. */
 static int l_distribution(lua_State *L)
 {
-    int opts = opts_at(L, 2);
+    int opts = pfl_options_opt(L, 2, &DISTRIBUTION_OPTIONS);
     pfl_source src;
     pfl_check_source(L, 1, &src);
     pf_rep rep = pfl_opt_space(L, opts);
@@ -68,7 +74,7 @@ static int push_marginal(lua_State *L, const pfl_source *src, pf_rep rep, const 
 /* s:profile(axis [, {space=}]) -> 1D marginal along one axis. */
 static int l_profile(lua_State *L)
 {
-    int opts = opts_at(L, 3);
+    int opts = pfl_options_opt(L, 3, &PROFILE_OPTIONS);
     pfl_source src;
     pfl_check_source(L, 1, &src);
     int d = pf_grid_dim(pfl_source_grid(&src));
@@ -82,12 +88,12 @@ static int l_profile(lua_State *L)
 /* s:marginal{axes = {..}, space=} -> density integrated over the other axes. */
 static int l_marginal(lua_State *L)
 {
-    luaL_checktype(L, 2, LUA_TTABLE);
+    pfl_options_check(L, 2, &MARGINAL_OPTIONS);
     pfl_source src;
     pfl_check_source(L, 1, &src);
     int d = pf_grid_dim(pfl_source_grid(&src));
     int keep[PF_MAX_DIM] = {0, 0, 0};
-    if (lua_getfield(L, 2, "axes") != LUA_TTABLE) return luaL_error(L, "marginal: field 'axes' must list the axes to keep");
+    if (pfl_option_get(L, 2, "axes") != LUA_TTABLE) return luaL_error(L, "marginal: field 'axes' must list the axes to keep");
     lua_Integer n = luaL_len(L, -1);
     for (lua_Integer i = 1; i <= n; i++) {
         lua_geti(L, -1, i);
@@ -119,13 +125,13 @@ static int l_column_density(lua_State *L)
  * free axes, the others held at the grid points nearest to 'through'. */
 static int l_slice(lua_State *L)
 {
-    luaL_checktype(L, 2, LUA_TTABLE);
+    pfl_options_check(L, 2, &SLICE_OPTIONS);
     pfl_source src;
     pfl_check_source(L, 1, &src);
     int d = pf_grid_dim(pfl_source_grid(&src));
     pf_rep rep = pfl_opt_space(L, 2);
     int freeax[PF_MAX_DIM] = {0, 0, 0};
-    if (lua_getfield(L, 2, "axes") != LUA_TTABLE) return luaL_error(L, "slice: field 'axes' must list the free axes");
+    if (pfl_option_get(L, 2, "axes") != LUA_TTABLE) return luaL_error(L, "slice: field 'axes' must list the free axes");
     lua_Integer n = luaL_len(L, -1);
     for (lua_Integer i = 1; i <= n; i++) {
         lua_geti(L, -1, i);
@@ -157,7 +163,7 @@ static int l_slice(lua_State *L)
  * -> {radius = {..}, values = {..}, count = {..}, unit, axis_unit} */
 static int l_radial_profile(lua_State *L)
 {
-    luaL_checktype(L, 2, LUA_TTABLE);
+    pfl_options_check(L, 2, &RADIAL_OPTIONS);
     pfl_source src;
     pfl_check_source(L, 1, &src);
     int d = pf_grid_dim(pfl_source_grid(&src));
@@ -199,7 +205,7 @@ static int l_radial_profile(lua_State *L)
  * -> {count = n, space, unit, [1] = coordinates on axis 1, [2] = ...} */
 static int l_sample(lua_State *L)
 {
-    int opts = opts_at(L, 3);
+    int opts = pfl_options_opt(L, 3, &SAMPLE_OPTIONS);
     pfl_source src;
     pfl_check_source(L, 1, &src);
     lua_Integer n = luaL_checkinteger(L, 2);
@@ -252,7 +258,7 @@ static int l_histogram(lua_State *L)
 {
     size_t n;
     double *v = pfl_check_doubles(L, 1, &n, "histogram values");
-    luaL_checktype(L, 2, LUA_TTABLE);
+    pfl_options_check(L, 2, &HISTOGRAM_OPTIONS);
     double lo = pfl_field_number(L, 2, "from", 0, 1), hi = pfl_field_number(L, 2, "to", 0, 1);
     double bins = pfl_field_number(L, 2, "bins", 0, 1);
     if (!(hi > lo)) return luaL_error(L, "histogram: needs from < to, got %f and %f", lo, hi);
@@ -307,7 +313,7 @@ static int l_fringes_fn(lua_State *L)
     double *x = pfl_check_doubles(L, 1, &nx, "fringes coordinates");
     double *y = pfl_check_doubles(L, 2, &ny, "fringes values");
     if (nx != ny) return luaL_error(L, "fringes: %d coordinates but %d values", (int)nx, (int)ny);
-    int opts = opts_at(L, 3);
+    int opts = pfl_options_opt(L, 3, &FRINGES_FN_OPTIONS);
     double lo = -INFINITY, hi = INFINITY, guess = 0;
     if (opts) {
         lo = pfl_field_number(L, opts, "from", -INFINITY, 0);
@@ -332,7 +338,7 @@ static int l_fringes_fn(lua_State *L)
 /* s:fringes{axis=, from=, to=, period=} -> fit of the profile along axis. */
 static int l_fringes(lua_State *L)
 {
-    int opts = opts_at(L, 2);
+    int opts = pfl_options_opt(L, 2, &FRINGES_OPTIONS);
     pfl_source src;
     pfl_check_source(L, 1, &src);
     pf_grid *g = pfl_source_grid(&src);
@@ -377,4 +383,8 @@ void pfl_open_distrib(lua_State *L, int mod)
     static const luaL_Reg funcs[] = {{"histogram", l_histogram}, {"fringes", l_fringes_fn}, {NULL, NULL}};
     pfl_add_state_methods(L, methods);
     pfl_add_functions(L, mod, funcs);
+    static const pfl_options_decl *const options[] = {&DISTRIBUTION_OPTIONS, &PROFILE_OPTIONS, &MARGINAL_OPTIONS,
+                                                      &SLICE_OPTIONS, &RADIAL_OPTIONS, &SAMPLE_OPTIONS,
+                                                      &HISTOGRAM_OPTIONS, &FRINGES_FN_OPTIONS, &FRINGES_OPTIONS, NULL};
+    pfl_options_declare(L, options);
 }

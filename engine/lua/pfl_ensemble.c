@@ -12,6 +12,11 @@
 #include "../core/pf_constants.h"
 #include "../core/pf_observe.h"
 #include "pfl_measure.h"
+#include "pfl_options.h"
+
+static const pfl_options_decl THERMAL_OPTIONS = {
+    "pf.thermal", (const char *const[]){"grid", "mass", "trap", "temperature", "center", "drift", "method", "nodes",
+                                        "samples", "seed", "generator", "tolerance", NULL}};
 
 typedef struct { int open; } pfl_ensemble_box;
 
@@ -190,8 +195,8 @@ static void thermal_guard(pf_grid *g, const pf_thermal_member *list, size_t coun
 static int thermal_eigenstates(lua_State *L, pf_grid *g, const pf_thermal_spec *sp, const double *center,
                                const double *drift)
 {
-    lua_getfield(L, 1, "nodes");
-    lua_getfield(L, 1, "samples");
+    pfl_option_get(L, 1, "nodes");
+    pfl_option_get(L, 1, "samples");
     if (!lua_isnil(L, -1) || !lua_isnil(L, -2))
         return luaL_error(L, "thermal: 'nodes' and 'samples' belong to the coherent-state method");
     lua_pop(L, 2);
@@ -231,8 +236,8 @@ static int thermal_eigenstates(lua_State *L, pf_grid *g, const pf_thermal_spec *
  *            tolerance = 1e-6} */
 static int l_thermal(lua_State *L)
 {
-    luaL_checktype(L, 1, LUA_TTABLE);
-    lua_getfield(L, 1, "grid");
+    pfl_options_check(L, 1, &THERMAL_OPTIONS);
+    pfl_option_get(L, 1, "grid");
     pf_grid *g = pfl_check_grid(L, -1);
     lua_pop(L, 1);
     int d = pf_grid_dim(g);
@@ -246,7 +251,7 @@ static int l_thermal(lua_State *L)
     pfl_field_vector(L, 1, "center", d, center, 0);
     pfl_field_vector(L, 1, "drift", d, drift, 0);
     const char *method = "coherent";
-    if (lua_getfield(L, 1, "method") != LUA_TNIL) method = lua_tostring(L, -1);
+    if (pfl_option_get(L, 1, "method") != LUA_TNIL) method = lua_tostring(L, -1);
     lua_pop(L, 1);
     if (!method || (strcmp(method, "coherent") && strcmp(method, "eigenstates")))
         return luaL_error(L, "thermal: field 'method' must be \"coherent\" or \"eigenstates\"");
@@ -572,4 +577,6 @@ void pfl_open_ensemble(lua_State *L, int mod)
     lua_setfield(L, -2, "methods");
     lua_pop(L, 1);
     pfl_add_functions(L, mod, funcs);
+    static const pfl_options_decl *const options[] = {&THERMAL_OPTIONS, NULL};
+    pfl_options_declare(L, options);
 }

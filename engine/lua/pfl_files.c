@@ -13,6 +13,14 @@
 #include "../io/pf_samples.h"
 #include "../io/pf_table.h"
 #include "pfl.h"
+#include "pfl_options.h"
+
+static const pfl_options_decl H5FILE_OPTIONS = {"pf.h5file", (const char *const[]){"overwrite", NULL}};
+static const pfl_options_decl PUT_WAVE_OPTIONS = {"h5file:put_wave", (const char *const[]){"parts", NULL}};
+static const pfl_options_decl WRITE_CSV_OPTIONS = {"pf.write_csv", (const char *const[]){"overwrite", NULL}};
+static const pfl_options_decl LOAD_WAVE_OPTIONS = {
+    "pf.load_wave", (const char *const[]){"item", "dataset", "real", "imag", "axes", "representation", "grid", "mass",
+                                          "interpolate", "normalize", NULL}};
 
 #define PFL_H5_TYPE "psiflight.h5file"
 
@@ -88,7 +96,9 @@ static pf_h5 *check_open(lua_State *L, int arg)
 /* pf.h5file(path [, {overwrite=}]) -> a new HDF5 file being written. */
 static int l_h5file(lua_State *L)
 {
+    lua_settop(L, 2); /* the options stay at 2 when the resolved path is pushed */
     const char *path = pfl_output_resolve(L, luaL_checkstring(L, 1), "h5file");
+    pfl_options_opt(L, 2, &H5FILE_OPTIONS);
     int overwrite = pfl_overwrite_option(L, 2);
     pfl_h5_box *b = lua_newuserdatauv(L, sizeof *b, 0);
     b->f = NULL;
@@ -100,8 +110,8 @@ static int l_h5file(lua_State *L)
 
 static int parts_option(lua_State *L, int opts)
 {
-    if (lua_type(L, opts) != LUA_TTABLE) return PF_H5_PSI;
-    int t = lua_getfield(L, opts, "parts");
+    if (!pfl_options_opt(L, opts, &PUT_WAVE_OPTIONS)) return PF_H5_PSI;
+    int t = pfl_option_get(L, opts, "parts");
     const char *p = t == LUA_TSTRING ? lua_tostring(L, -1) : NULL;
     int parts = t == LUA_TNIL ? PF_H5_PSI : p && !strcmp(p, "psi") ? PF_H5_PSI : p && !strcmp(p, "phi") ? PF_H5_PHI
               : p && !strcmp(p, "both") ? PF_H5_PSI | PF_H5_PHI : 0;
@@ -251,10 +261,12 @@ static int l_h5_tostring(lua_State *L)
 /* pf.write_csv(path, columns [, {overwrite=}]) -> final path */
 static int l_write_csv(lua_State *L)
 {
+    lua_settop(L, 3); /* the options stay at 3 when the resolved path is pushed */
     const char *path = pfl_output_resolve(L, luaL_checkstring(L, 1), "write_csv");
     int pathidx = lua_gettop(L);
     size_t n;
     pf_column *cols = check_columns(L, 2, "write_csv", &n);
+    pfl_options_opt(L, 3, &WRITE_CSV_OPTIONS);
     pfl_check(L, pf_csv_write(pfl_ctx(L), path, pfl_overwrite_option(L, 3), n, cols), "write_csv");
     pfl_output_register(L, path);
     lua_pushvalue(L, pathidx);
@@ -318,7 +330,7 @@ static int l_read_csv(lua_State *L)
 
 static const char *opt_string(lua_State *L, int opts, const char *field)
 {
-    int t = lua_getfield(L, opts, field);
+    int t = pfl_option_get(L, opts, field);
     if (t == LUA_TNIL) {
         lua_pop(L, 1);
         return NULL;
@@ -445,7 +457,7 @@ static int l_load_wave(lua_State *L)
         lua_newtable(L);
         lua_replace(L, 2);
     }
-    luaL_checktype(L, 2, LUA_TTABLE);
+    pfl_options_check(L, 2, &LOAD_WAVE_OPTIONS);
     samples_box *sb = lua_newuserdatauv(L, sizeof *sb, 0);
     memset(sb, 0, sizeof *sb);
     lua_createtable(L, 0, 1);
@@ -463,7 +475,7 @@ static int l_load_wave(lua_State *L)
     } else {
         pf_h5_source src = {opt_string(L, 2, "item"), opt_string(L, 2, "dataset"), opt_string(L, 2, "real"),
                             opt_string(L, 2, "imag"), {NULL, NULL, NULL}, rep};
-        if (lua_getfield(L, 2, "axes") == LUA_TTABLE) {
+        if (pfl_option_get(L, 2, "axes") == LUA_TTABLE) {
             int n = (int)luaL_len(L, -1);
             if (n > PF_MAX_DIM) return luaL_error(L, "load_wave: field 'axes' names at most %d datasets", PF_MAX_DIM);
             for (int a = 0; a < n; a++) {
@@ -488,7 +500,7 @@ static int l_load_wave(lua_State *L)
     int interpolate = pfl_field_boolean(L, 2, "interpolate", 0);
     int normalize = pfl_field_boolean(L, 2, "normalize", csv);
     pf_grid *g;
-    if (lua_getfield(L, 2, "grid") != LUA_TNIL) {
+    if (pfl_option_get(L, 2, "grid") != LUA_TNIL) {
         if (!luaL_testudata(L, -1, PFL_GRID_TYPE)) {
             char buf[80];
             return luaL_error(L, "load_wave: field 'grid' must be a grid (pf.grid), got %s", pfl_describe(L, -1, buf, sizeof buf));
@@ -577,4 +589,6 @@ void pfl_open_files(lua_State *L, int mod)
     lua_setfield(L, -2, "__index");
     lua_pop(L, 1);
     pfl_add_functions(L, mod, funcs);
+    static const pfl_options_decl *const options[] = {&H5FILE_OPTIONS, &PUT_WAVE_OPTIONS, &WRITE_CSV_OPTIONS, &LOAD_WAVE_OPTIONS, NULL};
+    pfl_options_declare(L, options);
 }

@@ -7,11 +7,18 @@
 #include "../core/pf_flux.h"
 #include "../core/pf_wigner.h"
 #include "pfl_measure.h"
+#include "pfl_options.h"
+
+static const pfl_options_decl FLUX_OPTIONS = {"state:flux", (const char *const[]){"axis", "at", NULL}};
+static const pfl_options_decl BEYOND_OPTIONS = {"state:beyond", (const char *const[]){"axis", "at", NULL}};
+static const pfl_options_decl ARRIVAL_OPTIONS = {
+    "state:arrival_times", (const char *const[]){"axis", "at", "from", "to", "steps", NULL}};
+static const pfl_options_decl WIGNER_OPTIONS = {"state:wigner", (const char *const[]){"axis", "through", "reduced", NULL}};
 
 /* Reads {axis = a, at = x} into a 0-based axis and a plane position. */
-static void plane_opts(lua_State *L, int opts, int dim, int *axis, double *at)
+static void plane_opts(lua_State *L, int opts, int dim, int *axis, double *at, const pfl_options_decl *decl)
 {
-    luaL_checktype(L, opts, LUA_TTABLE);
+    pfl_options_check(L, opts, decl);
     *axis = pfl_opt_axis(L, opts, "axis", dim, 1) - 1;
     *at = pfl_field_number(L, opts, "at", 0, 1);
 }
@@ -50,13 +57,13 @@ typedef pf_status (*plane_fn)(pf_wave *w, int axis, double at, double *out);
 
 /* Weighted sum over the members of a state or mixture of a per-plane figure:
  * both figures are linear in the density matrix. */
-static int plane_figure(lua_State *L, plane_fn fn, const char *name)
+static int plane_figure(lua_State *L, plane_fn fn, const char *name, const pfl_options_decl *decl)
 {
     pfl_source src;
     pfl_check_source(L, 1, &src);
     int axis;
     double at, total = 0;
-    plane_opts(L, 2, pf_grid_dim(pfl_source_grid(&src)), &axis, &at);
+    plane_opts(L, 2, pf_grid_dim(pfl_source_grid(&src)), &axis, &at, decl);
     for (size_t i = 0; i < src.mix.count; i++) {
         double v;
         pfl_check(L, fn(src.mix.members[i], axis, at, &v), name);
@@ -67,10 +74,10 @@ static int plane_figure(lua_State *L, plane_fn fn, const char *name)
 }
 
 /* s:flux{axis=, at=} -> probability per second crossing the plane (+axis). */
-static int l_flux(lua_State *L) { return plane_figure(L, pf_wave_flux, "flux"); }
+static int l_flux(lua_State *L) { return plane_figure(L, pf_wave_flux, "flux", &FLUX_OPTIONS); }
 
 /* s:beyond{axis=, at=} -> probability between the plane and the far edge. */
-static int l_beyond(lua_State *L) { return plane_figure(L, pf_wave_beyond, "beyond"); }
+static int l_beyond(lua_State *L) { return plane_figure(L, pf_wave_beyond, "beyond", &BEYOND_OPTIONS); }
 
 /* s:arrival_times{axis=, at=, from = t0, to = t1, steps = n}
  * -> {time = {..} (s, after the state's clock), time_ms, flux = {..} (1/s),
@@ -82,7 +89,7 @@ static int l_arrival_times(lua_State *L)
     pfl_check_source(L, 1, &src);
     int axis;
     double at;
-    plane_opts(L, 2, pf_grid_dim(pfl_source_grid(&src)), &axis, &at);
+    plane_opts(L, 2, pf_grid_dim(pfl_source_grid(&src)), &axis, &at, &ARRIVAL_OPTIONS);
     double t0 = pfl_field_number(L, 2, "from", 0, 0), t1 = pfl_field_number(L, 2, "to", 0, 1);
     double steps = pfl_field_number(L, 2, "steps", 201, 0);
     if (!(t1 > t0)) return luaL_error(L, "arrival_times: needs from < to, got %f and %f s", t0, t1);
@@ -125,8 +132,7 @@ static int l_arrival_times(lua_State *L)
  * -> {values (W(x, p), row-major x then p), shape, x, p, k, unit} */
 static int l_wigner(lua_State *L)
 {
-    int opts = lua_isnoneornil(L, 2) ? 0 : 2;
-    if (opts) luaL_checktype(L, 2, LUA_TTABLE);
+    int opts = pfl_options_opt(L, 2, &WIGNER_OPTIONS);
     pfl_source src;
     pfl_check_source(L, 1, &src);
     pf_grid *g = pfl_source_grid(&src);
@@ -182,4 +188,6 @@ void pfl_open_flux(lua_State *L, int mod)
         {"arrival_times", l_arrival_times}, {"wigner", l_wigner}, {NULL, NULL},
     };
     pfl_add_state_methods(L, methods);
+    static const pfl_options_decl *const options[] = {&FLUX_OPTIONS, &BEYOND_OPTIONS, &ARRIVAL_OPTIONS, &WIGNER_OPTIONS, NULL};
+    pfl_options_declare(L, options);
 }

@@ -9,6 +9,15 @@
 #include "../core/pf_constants.h"
 #include "../core/pf_observe.h"
 #include "pfl_measure.h"
+#include "pfl_options.h"
+
+static const pfl_options_decl BOX_OPTIONS = {"pf.box", (const char *const[]){"min", "max", NULL}};
+static const pfl_options_decl HALF_SPACE_OPTIONS = {"pf.half_space", (const char *const[]){"point", "normal", NULL}};
+static const pfl_options_decl BALL_OPTIONS = {"pf.ball", (const char *const[]){"center", "radius", NULL}};
+static const pfl_options_decl MEASURE_REGION_OPTIONS = {
+    "state:measure_region", (const char *const[]){"outcome", "seed", "generator", NULL}};
+static const pfl_options_decl MEASURE_POSITION_OPTIONS = {
+    "state:measure_position", (const char *const[]){"resolution", "outcome", "seed", "generator", NULL}};
 
 /* ---- shared helpers ---- */
 
@@ -45,7 +54,7 @@ pf_rep pfl_opt_space(lua_State *L, int opts)
 {
     if (!opts) return PF_POSITION;
     pf_rep rep = PF_POSITION;
-    if (lua_getfield(L, opts, "space") != LUA_TNIL) {
+    if (pfl_option_get(L, opts, "space") != LUA_TNIL) {
         const char *s = lua_tostring(L, -1);
         if (s && strcmp(s, "momentum") == 0) rep = PF_MOMENTUM;
         else if (!s || strcmp(s, "position") != 0) {
@@ -62,7 +71,7 @@ int pfl_opt_axis(lua_State *L, int opts, const char *field, int dim, int def)
 {
     if (!opts) return def;
     int a = def;
-    if (lua_getfield(L, opts, field) != LUA_TNIL) {
+    if (pfl_option_get(L, opts, field) != LUA_TNIL) {
         int ok;
         lua_Integer v = lua_tointegerx(L, -1, &ok);
         if (!ok || v < 1 || v > dim) {
@@ -156,7 +165,7 @@ static pfl_region_box *new_region(lua_State *L, pf_region_kind kind)
 /* Reads a vector field of up to 3 numbers; returns its length. */
 static int region_vector(lua_State *L, int t, const char *field, double *out, const char *fname)
 {
-    int type = lua_getfield(L, t, field);
+    int type = pfl_option_get(L, t, field);
     int n = 0;
     if (type == LUA_TNUMBER) {
         out[0] = lua_tonumber(L, -1);
@@ -181,7 +190,7 @@ static int region_vector(lua_State *L, int t, const char *field, double *out, co
 /* pf.box{min = {..}, max = {..}} (m) */
 static int l_box(lua_State *L)
 {
-    luaL_checktype(L, 1, LUA_TTABLE);
+    pfl_options_check(L, 1, &BOX_OPTIONS);
     pfl_region_box *b = new_region(L, PF_REGION_BOX);
     int n1 = region_vector(L, 1, "min", b->r.lo, "box"), n2 = region_vector(L, 1, "max", b->r.hi, "box");
     if (n1 != n2) return luaL_error(L, "box: 'min' and 'max' must have the same number of entries");
@@ -200,7 +209,7 @@ static int l_box(lua_State *L)
 /* pf.half_space{point = {..}, normal = {..}} - the side the normal points to. */
 static int l_half_space(lua_State *L)
 {
-    luaL_checktype(L, 1, LUA_TTABLE);
+    pfl_options_check(L, 1, &HALF_SPACE_OPTIONS);
     pfl_region_box *b = new_region(L, PF_REGION_HALF_SPACE);
     int n1 = region_vector(L, 1, "point", b->r.point, "half_space");
     int n2 = region_vector(L, 1, "normal", b->r.normal, "half_space");
@@ -216,7 +225,7 @@ static int l_half_space(lua_State *L)
 /* pf.ball{center = {..}, radius = r} (m) */
 static int l_ball(lua_State *L)
 {
-    luaL_checktype(L, 1, LUA_TTABLE);
+    pfl_options_check(L, 1, &BALL_OPTIONS);
     pfl_region_box *b = new_region(L, PF_REGION_BALL);
     int n = region_vector(L, 1, "center", b->r.point, "ball");
     b->r.radius = pfl_field_number(L, 1, "radius", 0, 1);
@@ -397,11 +406,10 @@ static int l_measure_region(lua_State *L)
     pfl_check_source(L, 1, &src);
     pf_region r;
     pfl_check_region(L, 2, pfl_source_grid(&src), &r);
-    int opts = lua_istable(L, 3) ? 3 : 0;
-    if (!opts && !lua_isnoneornil(L, 3)) return luaL_argerror(L, 3, "options must be a table");
+    int opts = pfl_options_opt(L, 3, &MEASURE_REGION_OPTIONS);
     int forced = -1;
     if (opts) {
-        int t = lua_getfield(L, opts, "outcome");
+        int t = pfl_option_get(L, opts, "outcome");
         if (t == LUA_TBOOLEAN) forced = lua_toboolean(L, -1);
         else if (t != LUA_TNIL) return luaL_error(L, "measure_region: field 'outcome' must be true or false");
         lua_pop(L, 1);
@@ -434,7 +442,7 @@ static int l_measure_region(lua_State *L)
  * and the weights by Bayes' rule, w_i p_i(y) / p(y). */
 static int l_measure_position(lua_State *L)
 {
-    luaL_checktype(L, 2, LUA_TTABLE);
+    pfl_options_check(L, 2, &MEASURE_POSITION_OPTIONS);
     pfl_source src;
     pfl_check_source(L, 1, &src);
     int d = pf_grid_dim(pfl_source_grid(&src));
@@ -504,4 +512,7 @@ void pfl_open_measure(lua_State *L, int mod)
     pfl_add_state_methods(L, state_methods);
     pfl_add_wave_methods(L, wave_methods);
     pfl_add_functions(L, mod, funcs);
+    static const pfl_options_decl *const options[] = {&BOX_OPTIONS, &HALF_SPACE_OPTIONS, &BALL_OPTIONS,
+                                                      &MEASURE_REGION_OPTIONS, &MEASURE_POSITION_OPTIONS, NULL};
+    pfl_options_declare(L, options);
 }

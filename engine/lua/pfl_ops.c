@@ -108,7 +108,7 @@ static int slits(lua_State *L, const char *name, int single)
     lua_Integer count = single ? 1 : pfl_field_integer(L, 2, "count", 1, 1, name);
     if (count > 1000000) return luaL_error(L, "%s: field 'count' must be at most 1000000, got %d", name, (int)count);
     double width = pfl_field_number(L, 2, "width", 0, 1);
-    double pitch = pfl_field_number(L, 2, "pitch", 0, count > 1);
+    double pitch = single ? 0 : pfl_field_number(L, 2, "pitch", 0, count > 1);
     double center = pfl_field_number(L, 2, "center", 0, 0);
     double removed = 0;
     pfl_check(L, pf_wave_slits(w, axis, (int)count, width, pitch, center, &removed), name);

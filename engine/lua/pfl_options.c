@@ -125,6 +125,14 @@ void pfl_options_check(lua_State *L, int idx, const pfl_options_decl *decl)
     pfl_options_check_at(L, idx, decl, 1);
 }
 
+int pfl_options_opt(lua_State *L, int idx, const pfl_options_decl *decl)
+{
+    if (lua_isnoneornil(L, idx)) return 0;
+    idx = lua_absindex(L, idx);
+    pfl_options_check_at(L, idx, decl, 1);
+    return idx;
+}
+
 int pfl_option_get(lua_State *L, int t, const char *key)
 {
     t = lua_absindex(L, t);

@@ -32,6 +32,10 @@ typedef struct pfl_options_decl {
  * registered with pfl_options_declare (an internal error otherwise). */
 void pfl_options_check(lua_State *L, int idx, const pfl_options_decl *decl);
 
+/* For an optional options table: 0 when idx holds none or nil, else checks
+ * it as pfl_options_check does and returns idx (absolute). */
+int pfl_options_opt(lua_State *L, int idx, const pfl_options_decl *decl);
+
 /* Like pfl_options_check, with the error placed at the given stack level
  * (pf.check_options uses 2: the line that called a recipe). */
 void pfl_options_check_at(lua_State *L, int idx, const pfl_options_decl *decl, int level);

@@ -11,6 +11,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include "pfl_options.h"
 #include "pfl.h"
 #include "pfl_params.h"
 #include "pfl_suffix.h"
@@ -149,6 +150,9 @@ static int is_identifier(const char *s)
     return 1;
 }
 
+static const pfl_options_decl PARAMETER_SPEC_OPTIONS = {
+    "pf.parameters spec", (const char *const[]){"default", "unit", "help", "type", "min", "max", "choices", NULL}};
+
 /* Reads and checks the spec of one parameter (table at spec).  Declaration
  * mistakes are script errors. */
 static void read_spec(lua_State *L, const char *name, int spec, pspec *p)
@@ -159,6 +163,7 @@ static void read_spec(lua_State *L, const char *name, int spec, pspec *p)
     p->spec = spec;
     if (!is_identifier(name))
         luaL_error(L, "parameters: name '%s' must be a Lua identifier (letters, digits, _)", name);
+    pfl_options_check(L, spec, &PARAMETER_SPEC_OPTIONS);
     if (lua_getfield(L, spec, "help") != LUA_TSTRING || !*lua_tostring(L, -1))
         luaL_error(L, "parameters: '%s' needs a one-line help = \"...\" (shared recipes explain every parameter)", name);
     lua_pop(L, 1);
@@ -472,4 +477,6 @@ void pfl_open_params(lua_State *L, int mod)
 {
     static const luaL_Reg funcs[] = {{"parameters", l_parameters}, {NULL, NULL}};
     pfl_add_functions(L, mod, funcs);
+    static const pfl_options_decl *const options[] = {&PARAMETER_SPEC_OPTIONS, NULL};
+    pfl_options_declare(L, options);
 }

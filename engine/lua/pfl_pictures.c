@@ -8,11 +8,23 @@
 #include "../io/pf_picture.h"
 #include "../io/pf_progress.h"
 #include "pfl.h"
+#include "pfl_options.h"
+
+static const pfl_options_decl MAP_OPTIONS = {
+    "pf.picture_map", (const char *const[]){"title", "representation", "aspect", "width", "height", "overwrite", NULL}};
+static const pfl_options_decl LINES_OPTIONS = {
+    "pf.picture_lines", (const char *const[]){"title", "x_name", "x_quantity", "y_name", "y_unit", "y_per_x", "log_y",
+                                              "legend", "width", "height", "series", "overwrite", NULL}};
+static const pfl_options_decl SERIES_OPTIONS = {
+    "pf.picture_lines series[i]", (const char *const[]){"x", "y", "label", "dashed", "points", NULL}};
+static const pfl_options_decl CARPET_OPTIONS = {
+    "pf.picture_carpet", (const char *const[]){"duration", "frames", "title", "x_range", "per_frame", "width", "height",
+                                               "overwrite", NULL}};
 
 static int opt_int(lua_State *L, int opts, const char *field, int def)
 {
     if (lua_type(L, opts) != LUA_TTABLE) return def;
-    int t = lua_getfield(L, opts, field);
+    int t = pfl_option_get(L, opts, field);
     lua_pop(L, 1);
     if (t == LUA_TNIL) return def;
     double v = pfl_field_number(L, opts, field, def, 0);
@@ -23,7 +35,7 @@ static int opt_int(lua_State *L, int opts, const char *field, int def)
 static const char *opt_str(lua_State *L, int opts, const char *field, const char *def)
 {
     if (lua_type(L, opts) != LUA_TTABLE) return def;
-    int t = lua_getfield(L, opts, field);
+    int t = pfl_option_get(L, opts, field);
     const char *s = def;
     if (t == LUA_TSTRING) s = lua_tostring(L, -1);
     else if (t != LUA_TNIL) {
@@ -73,12 +85,14 @@ static int aspect_option(lua_State *L, int opts)
  * third axis (what an absorption image along z records). */
 static int l_picture_map(lua_State *L)
 {
+    lua_settop(L, 3); /* the options stay at 3 when the resolved path is pushed */
     const char *path = pfl_output_resolve(L, luaL_checkstring(L, 1), "picture_map");
     int pathidx = lua_gettop(L);
     pf_wave *w = pfl_check_wave(L, 2);
     pf_grid *g = pf_wave_grid(w);
     int d = pf_grid_dim(g);
     if (d < 2) return luaL_error(L, "picture_map: needs a 2D or 3D wave function; for 1D use picture_lines or picture_carpet");
+    pfl_options_opt(L, 3, &MAP_OPTIONS);
     pf_rep rep = opt_rep(L, 3, "picture_map");
     size_t nx = pf_grid_points(g, 0), ny = pf_grid_points(g, 1), nz = d > 2 ? pf_grid_points(g, 2) : 1;
     double *rho = pfl_scratch_doubles(L, pf_grid_total(g));
@@ -131,7 +145,7 @@ static int legend_corner(lua_State *L, const char *c)
 
 static double *number_array(lua_State *L, int t, const char *field, size_t k, size_t *n)
 {
-    if (lua_getfield(L, t, field) != LUA_TTABLE)
+    if (pfl_option_get(L, t, field) != LUA_TTABLE)
         luaL_error(L, "picture_lines: series %d needs '%s' (an array of numbers)", (int)k, field);
     size_t len = (size_t)luaL_len(L, -1);
     double *v = pfl_scratch_doubles(L, len);
@@ -153,8 +167,8 @@ static int l_picture_lines(lua_State *L)
 {
     const char *path = pfl_output_resolve(L, luaL_checkstring(L, 1), "picture_lines");
     int pathidx = lua_gettop(L);
-    luaL_checktype(L, 2, LUA_TTABLE);
-    if (lua_getfield(L, 2, "series") != LUA_TTABLE) return luaL_error(L, "picture_lines: field 'series' must be an array of series");
+    pfl_options_check(L, 2, &LINES_OPTIONS);
+    if (pfl_option_get(L, 2, "series") != LUA_TTABLE) return luaL_error(L, "picture_lines: field 'series' must be an array of series");
     int st = lua_gettop(L);
     size_t ns = (size_t)luaL_len(L, st);
     if (ns < 1 || ns > 64) return luaL_error(L, "picture_lines: give 1 to 64 series, got %d", (int)ns);
@@ -164,6 +178,7 @@ static int l_picture_lines(lua_State *L)
         if (lua_geti(L, st, (lua_Integer)k + 1) != LUA_TTABLE)
             return luaL_error(L, "picture_lines: series %d must be a table {x=, y=}", (int)k + 1);
         int t = lua_gettop(L);
+        pfl_options_check(L, t, &SERIES_OPTIONS);
         size_t nx, ny;
         series[k].x = number_array(L, t, "x", k + 1, &nx);
         series[k].y = number_array(L, t, "y", k + 1, &ny);
@@ -202,7 +217,7 @@ static int l_picture_carpet(lua_State *L)
     const char *path = pfl_output_resolve(L, luaL_checkstring(L, 1), "picture_carpet");
     int pathidx = lua_gettop(L);
     pf_wave *w = pfl_check_wave(L, 2);
-    luaL_checktype(L, 3, LUA_TTABLE);
+    pfl_options_check(L, 3, &CARPET_OPTIONS);
     pf_grid *g = pf_wave_grid(w);
     if (pf_grid_dim(g) != 1) return luaL_error(L, "picture_carpet: needs a 1D wave function, got %dD", pf_grid_dim(g));
     double duration = pfl_field_number(L, 3, "duration", 0, 1);
@@ -267,4 +282,6 @@ void pfl_open_pictures(lua_State *L, int mod)
         {NULL, NULL},
     };
     pfl_add_functions(L, mod, funcs);
+    static const pfl_options_decl *const options[] = {&MAP_OPTIONS, &LINES_OPTIONS, &SERIES_OPTIONS, &CARPET_OPTIONS, NULL};
+    pfl_options_declare(L, options);
 }

@@ -3,6 +3,9 @@
 #include <math.h>
 #include <string.h>
 #include "pfl_measure.h"
+#include "pfl_options.h"
+
+static const pfl_options_decl RANDOM_OPTIONS = {"pf.random", (const char *const[]){"seed", "stream", NULL}};
 
 typedef struct pfl_random_box {
     pf_rng rng;
@@ -37,14 +40,14 @@ pf_rng *pfl_rng(lua_State *L)
 pf_rng *pfl_opt_rng(lua_State *L, int opts, pf_rng *local)
 {
     if (!opts) return pfl_rng(L);
-    if (lua_getfield(L, opts, "generator") != LUA_TNIL) {
+    if (pfl_option_get(L, opts, "generator") != LUA_TNIL) {
         pfl_random_box *b = luaL_testudata(L, -1, PFL_RANDOM_TYPE);
         if (!b) luaL_error(L, "%s: field 'generator' must be a pf.random object", pfl_caller_name(L));
         lua_pop(L, 1);
         return &b->rng;
     }
     lua_pop(L, 1);
-    if (lua_getfield(L, opts, "seed") != LUA_TNIL) {
+    if (pfl_option_get(L, opts, "seed") != LUA_TNIL) {
         int ok;
         lua_Integer s = lua_tointegerx(L, -1, &ok);
         if (!ok || s < 0) {
@@ -65,12 +68,12 @@ static int l_random(lua_State *L)
 {
     lua_Integer seed = (lua_Integer)pfl_seed(L), stream = 0;
     if (!lua_isnoneornil(L, 1)) {
-        luaL_checktype(L, 1, LUA_TTABLE);
+        pfl_options_check(L, 1, &RANDOM_OPTIONS);
         int ok = 1;
-        if (lua_getfield(L, 1, "seed") != LUA_TNIL) seed = lua_tointegerx(L, -1, &ok);
+        if (pfl_option_get(L, 1, "seed") != LUA_TNIL) seed = lua_tointegerx(L, -1, &ok);
         if (!ok || seed < 0) return luaL_error(L, "random: field 'seed' must be a non-negative integer");
         lua_pop(L, 1);
-        if (lua_getfield(L, 1, "stream") != LUA_TNIL) stream = lua_tointegerx(L, -1, &ok);
+        if (pfl_option_get(L, 1, "stream") != LUA_TNIL) stream = lua_tointegerx(L, -1, &ok);
         if (!ok || stream < 0) return luaL_error(L, "random: field 'stream' must be a non-negative integer");
         lua_pop(L, 1);
     }
@@ -118,4 +121,6 @@ void pfl_open_random(lua_State *L, int mod)
     lua_setfield(L, -2, "__index");
     lua_pop(L, 1);
     pfl_add_functions(L, mod, funcs);
+    static const pfl_options_decl *const options[] = {&RANDOM_OPTIONS, NULL};
+    pfl_options_declare(L, options);
 }

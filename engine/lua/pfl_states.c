@@ -231,7 +231,7 @@ static int l_momentum_orders(lua_State *L)
     static const char *const steps[] = {"step_momentum", "step_wavenumber", "step_velocity", NULL};
     const char *fname = "momentum_orders";
     pf_grid *g = pfl_check_grid(L, 1);
-    pfl_options_check(L, 2, &GROUND_STATE_OPTIONS);
+    pfl_options_check(L, 2, &ORDERS_OPTIONS);
     int d = pf_grid_dim(g);
     double mass = pfl_field_mass(L, 2, fname);
     pf_gaussian_spec spec;
@@ -299,7 +299,7 @@ static int l_ground_state(lua_State *L)
 {
     const char *fname = "ground_state";
     pf_grid *g = pfl_check_grid(L, 1);
-    pfl_options_check(L, 2, &OSCILLATOR_OPTIONS);
+    pfl_options_check(L, 2, &GROUND_STATE_OPTIONS);
     int d = pf_grid_dim(g);
     double mass = pfl_field_mass(L, 2, fname), omega[PF_MAX_DIM], center[PF_MAX_DIM] = {0, 0, 0}, k0[PF_MAX_DIM];
     read_trap(L, 2, fname, d, omega);
@@ -316,7 +316,7 @@ static int l_oscillator(lua_State *L)
 {
     const char *fname = "oscillator";
     pf_grid *g = pfl_check_grid(L, 1);
-    pfl_options_check(L, 2, &FLAT_TOP_OPTIONS);
+    pfl_options_check(L, 2, &OSCILLATOR_OPTIONS);
     int d = pf_grid_dim(g);
     double mass = pfl_field_mass(L, 2, fname), omega[PF_MAX_DIM], center[PF_MAX_DIM] = {0, 0, 0}, k0[PF_MAX_DIM];
     read_trap(L, 2, fname, d, omega);
@@ -343,7 +343,7 @@ static int l_flat_top(lua_State *L)
     static const char *const widths[] = {"half_width", "velocity_half_width", "wavenumber_half_width", NULL};
     const char *fname = "flat_top";
     pf_grid *g = pfl_check_grid(L, 1);
-    pfl_options_check(L, 2, &THOMAS_FERMI_OPTIONS);
+    pfl_options_check(L, 2, &FLAT_TOP_OPTIONS);
     int d = pf_grid_dim(g);
     double mass = pfl_field_mass(L, 2, fname), kappa[PF_MAX_DIM], center[PF_MAX_DIM] = {0, 0, 0}, k0[PF_MAX_DIM];
     int which = choose(L, 2, fname, widths, 1);
@@ -379,7 +379,7 @@ static int l_thomas_fermi(lua_State *L)
 {
     const char *fname = "thomas_fermi";
     pf_grid *g = pfl_check_grid(L, 1);
-    pfl_options_check(L, 2, &SAMPLED_OPTIONS);
+    pfl_options_check(L, 2, &THOMAS_FERMI_OPTIONS);
     int d = pf_grid_dim(g);
     double mass = pfl_field_mass(L, 2, fname), radius[PF_MAX_DIM], center[PF_MAX_DIM] = {0, 0, 0}, k0[PF_MAX_DIM];
     if (!read_vector(L, 2, fname, "radius", d, radius, 1))
@@ -419,7 +419,7 @@ static int l_sampled(lua_State *L)
     const char *fname = "sampled";
     char buf[80];
     pf_grid *g = pfl_check_grid(L, 1);
-    pfl_options_check(L, 2, &ORDERS_OPTIONS);
+    pfl_options_check(L, 2, &SAMPLED_OPTIONS);
     int d = pf_grid_dim(g);
     double mass = pfl_field_mass(L, 2, fname);
     pf_rep rep = PF_POSITION;

@@ -112,7 +112,7 @@ check.fails(function() return pf.gaussian(g1, {mass = "87Rb", width = -1e-6}) en
 check.fails(function() return pf.gaussian(g1, {mass = "87Rb", width = 0 / 0}) end, "NaN width", "field 'width' must be a positive number")
 check.fails(function() return pf.gaussian(g1, {mass = "87Rb"}) end, "missing width", "give one of 'width', 'momentum_width', 'velocity_width' or 'covariance'")
 check.fails(function() return pf.gaussian(g1, {mass = "87Rb", width = 1e-6, momentum_width = 1e-28}) end, "two widths", "give only one of 'width' and 'momentum_width'")
-check.fails(function() return pf.gaussian(g1, {mass = "87Rb", widht = 1e-6}) end, "misspelt field", "unknown field 'widht' (did you mean 'width'?)")
+check.fails(function() return pf.gaussian(g1, {mass = "87Rb", widht = 1e-6}) end, "misspelt field", "unknown option 'widht' (did you mean 'width'?)")
 check.fails(function() return pf.gaussian(g1, {mass = "Rb-88", width = 1e-6}) end, "unknown species", "unknown species 'Rb-88'", "87Rb")
 check.fails(function() return pf.oscillator(g1, {mass = "87Rb", omega = 100, n = 5001}) end, "n above range", "field 'n' entry 1 must be an integer 0..5000, got 5001")
 check.fails(function() return pf.oscillator(g1, {mass = "87Rb", omega = 100, n = 2.5}) end, "n not integer", "field 'n' entry 1 must be an integer")
