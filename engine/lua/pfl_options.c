@@ -164,9 +164,10 @@ void pfl_options_declare(lua_State *L, const pfl_options_decl *const *decls)
     lua_pop(L, 1);
 }
 
-/* pf.check_options(tbl, "recipe.name", {"key", ...}) -> tbl: the same check
- * for options tables taken by Lua code (the bundled recipes).  The error
- * points at the line that called the recipe (level 2). */
+/* pf.check_options(tbl, "recipe.name", {"key", ...} [, level]) -> tbl: the
+ * same check for options tables taken by Lua code (the bundled recipes).
+ * The error is placed like error(msg, level): by default (2) at the line
+ * that called the function which called pf.check_options. */
 static int l_check_options(lua_State *L)
 {
     const char *function = luaL_checkstring(L, 2);
@@ -180,7 +181,9 @@ static int l_check_options(lua_State *L)
         lua_pop(L, 1);
     }
     keys[n] = NULL;
-    check_keys(L, 1, function, keys, 2);
+    lua_Integer level = luaL_optinteger(L, 4, 2);
+    if (level < 1 || level > 100) return luaL_error(L, "check_options: level must be 1..100, got %d", (int)level);
+    check_keys(L, 1, function, keys, (int)level);
     lua_settop(L, 1);
     return 1;
 }

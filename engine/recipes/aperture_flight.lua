@@ -49,6 +49,7 @@ local function incident(grid, mass, beam_width)
 end
 
 function recipe.run(p)
+  common.check_params(recipe, p)
   local t = p.distance / p.velocity
   local lambda = common.h / (p.mass * p.velocity)
   local x1 = lambda * p.distance / p.slit

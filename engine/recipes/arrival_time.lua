@@ -37,6 +37,7 @@ recipe.parameters = {
 recipe.FINE_CELLS = 0.5
 
 function recipe.run(p)
+  common.check_params(recipe, p)
   local m, v, s0 = p.mass, p.velocity, p.sigma
   local k0 = m * v / common.hbar
   local sk = 1 / (2 * s0)

@@ -44,6 +44,15 @@ function common.with_defaults(decl, defaults)
   return out
 end
 
+-- Checks the parameter table a recipe's run was given against the recipe's
+-- declared parameters with the engine's one options checker: a misspelt
+-- name is an error with a suggestion, never a silently missing value.  The
+-- error names the line that called recipe.run (level 3: past this helper
+-- and run itself).
+function common.check_params(recipe, p)
+  return pf.check_options(p, recipe.name .. ".run", common.sorted_keys(recipe.parameters), 3)
+end
+
 -- Reports a scalar result: pf.report when the engine has it (the run
 -- manifest then carries it), and always one stable "result" line on stdout.
 function common.report(name, value, unit)

@@ -60,6 +60,7 @@ local function pulse(lower, upper, keff, theta, phi)
 end
 
 function recipe.run(p)
+  common.check_params(recipe, p)
   local keff = 4 * math.pi / p.wavelength
   -- Span: the arms separate by hbar k_eff T / m and stay between 0 and that
   -- distance; the grid is centred on the middle and holds the separation plus

@@ -117,6 +117,7 @@ local function run_scan(p)
 end
 
 function recipe.run(p)
+  common.check_params(recipe, p)
   return with_periodic_cell(run_scan, p)
 end
 

@@ -105,6 +105,7 @@ local function image_widths(image, pixel, qx, qy)
 end
 
 function recipe.run(p)
+  common.check_params(recipe, p)
   local s0x, s0y = ground_width(p.mass, p.trap_x), ground_width(p.mass, p.trap_y)
   local nx, spanx, qx = axis_grid(p.mass, s0x, p.tof, p.pixel, p.max_points)
   local ny, spany, qy = axis_grid(p.mass, s0y, p.tof, p.pixel, p.max_points)
