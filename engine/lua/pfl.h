@@ -49,6 +49,11 @@ int pfl_strict(lua_State *L);
 /* Base seed of the run (pf.setup{seed=}, runner --seed; default 1).  Random
  * generators derive their streams from it. */
 unsigned long long pfl_seed(lua_State *L);
+/* Checks a pf.setup table at idx with the one options checker (declared
+ * keys, a plain table), so a wrapper of pf.setup (the runner's sandbox
+ * guard) may then read its fields raw with pfl_option_get: no metamethod can
+ * answer the wrapper and pf.setup differently. */
+void pfl_setup_check(lua_State *L, int idx);
 /* Output folder of the run (pf.setup{output_dir=}, runner --out), or NULL. */
 const char *pfl_output_dir(lua_State *L);
 

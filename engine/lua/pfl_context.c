@@ -221,6 +221,8 @@ static void read_setup(lua_State *L, setup_values *v)
     lua_pop(L, 1);
 }
 
+void pfl_setup_check(lua_State *L, int idx) { pfl_options_check(L, idx, &SETUP_OPTIONS); }
+
 /* pf.setup{threads=, planning="measure"|"estimate", wisdom=path|false,
  *          memory_cap=bytes, strict=bool, seed=integer, output_dir=path,
  *          guard_threshold=p}: every field is read once into C values,

@@ -12,6 +12,7 @@
 #include <lauxlib.h>
 #include <lualib.h>
 #include "../lua/pfl.h"
+#include "../lua/pfl_options.h"
 #include "pfr_sandbox.h"
 
 /* Upvalue 1: the operation's name; upvalue 2: why it is refused. */
@@ -210,13 +211,13 @@ int pfr_sandbox_native_searcher(lua_State *L)
 /* Upvalue 1: original setup; upvalue 2: engine cap (number). */
 static int setup_guarded(lua_State *L)
 {
-    luaL_checktype(L, 1, LUA_TTABLE);
-    if (lua_getfield(L, 1, "wisdom") != LUA_TNIL)
+    pfl_setup_check(L, 1); /* a plain table with declared keys, read raw below and by pf.setup */
+    if (pfl_option_get(L, 1, "wisdom") != LUA_TNIL)
         return pfl_error(L, PFL_ERROR_SANDBOX, "pf.setup{wisdom = ...} is not allowed in the sandbox (it writes a file "
                                                "outside the allowed folders); use the runner's --wisdom");
-    if (lua_getfield(L, 1, "output_dir") != LUA_TNIL)
+    if (pfl_option_get(L, 1, "output_dir") != LUA_TNIL)
         return pfl_error(L, PFL_ERROR_SANDBOX, "pf.setup{output_dir = ...} is not allowed in the sandbox; use the runner's --out");
-    if (lua_getfield(L, 1, "memory_cap") == LUA_TNUMBER && lua_tonumber(L, -1) > lua_tonumber(L, lua_upvalueindex(2)))
+    if (pfl_option_get(L, 1, "memory_cap") == LUA_TNUMBER && lua_tonumber(L, -1) > lua_tonumber(L, lua_upvalueindex(2)))
         return pfl_error(L, PFL_ERROR_SANDBOX, "pf.setup{memory_cap = %.0f} exceeds the run's engine cap of %.0f bytes "
                                                "(runner --memory-cap)", lua_tonumber(L, -1), lua_tonumber(L, lua_upvalueindex(2)));
     lua_settop(L, 1);

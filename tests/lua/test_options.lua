@@ -1,0 +1,283 @@
+-- test_options.lua - the one options checker, walked over every Lua function
+-- that takes an options table.
+--
+-- The list of such functions is not typed here: it comes from the engine's
+-- own registration (pf._option_sets(), filled by each binding file's
+-- declarations).  This file only says how to call each one.  Three ways a
+-- function could slip through are closed:
+--   * a declared set with no caller below fails ("no caller for ...");
+--   * a Lua-visible function (module, wave, ensemble, camera, grid, file,
+--     generator, potential, progress, region) that is neither declared nor
+--     listed in TAKES_NO_OPTIONS fails, so a new function must be classified;
+--   * the binding's field readers refuse to read a table that was not checked
+--     (an internal error any test calling the function would hit).
+-- The wording checked here is the project's own rule (docs/lua-api.md,
+-- "Options tables"); there is no outside reference for an error message.
+local pf = require "psiflight"
+local check = require "check"
+pf.setup{planning = "estimate", guard_threshold = math.huge}
+
+-- Objects the callers need, on small grids.
+local g1 = pf.grid{points = 64, span = 64e-6}
+local g2 = pf.grid{points = {16, 16}, span = {32e-6, 32e-6}}
+local w1 = pf.gaussian(g1, {mass = "87Rb", width = 4e-6})
+local w2 = pf.gaussian(g2, {mass = "87Rb", width = 4e-6})
+local ens = pf.mixture({w1:copy(), w1:copy()}, {0.5, 0.5})
+local cam = pf.camera{pixels = {4, 4}, pitch = 4e-6}
+local h5 = pf.h5file("options-walk.h5", {overwrite = true})
+local gen = pf.random{seed = 3}
+local pot = pf.potential(g1, function(x) return 0 end)
+local region = pf.box{min = {-1e-6}, max = {1e-6}}
+local bar = pf.progress(10, "walk")
+local csv = pf.write_csv("options-walk.csv", {{name = "x", unit = "m", values = {0, 1}}}, {overwrite = true})
+
+-- How to call each declared function with an options table o (the other
+-- arguments valid, so the options check is what decides).
+local callers = {
+  ["pf.setup"] = function(o) pf.setup(o) end,
+  ["pf.grid"] = function(o) pf.grid(o) end,
+  ["pf.wave"] = function(o) pf.wave(g1, o) end,
+  ["pf.gaussian"] = function(o) pf.gaussian(g1, o) end,
+  ["pf.momentum_orders"] = function(o) pf.momentum_orders(g1, o) end,
+  ["pf.momentum_orders orders[i]"] = function(o)
+    pf.momentum_orders(g1, {mass = "87Rb", width = 4e-6, step_wavenumber = 1e6, orders = {o}})
+  end,
+  ["pf.ground_state"] = function(o) pf.ground_state(g1, o) end,
+  ["pf.oscillator"] = function(o) pf.oscillator(g1, o) end,
+  ["pf.flat_top"] = function(o) pf.flat_top(g1, o) end,
+  ["pf.thomas_fermi"] = function(o) pf.thomas_fermi(g1, o) end,
+  ["pf.sampled"] = function(o) pf.sampled(g1, o) end,
+  ["pf.thermal"] = function(o) pf.thermal(o) end,
+  ["pf.random"] = function(o) pf.random(o) end,
+  ["pf.camera"] = function(o) pf.camera(o) end,
+  ["camera:expose"] = function(o) cam:expose(w2, o) end,
+  ["camera:absorb"] = function(o) cam:absorb(w2, o) end,
+  ["pf.box"] = function(o) pf.box(o) end,
+  ["pf.half_space"] = function(o) pf.half_space(o) end,
+  ["pf.ball"] = function(o) pf.ball(o) end,
+  ["pf.histogram"] = function(o) pf.histogram({1, 2, 3}, o) end,
+  ["pf.fringes"] = function(o) pf.fringes({1, 2, 3, 4}, {1, 0, 1, 0}, o) end,
+  ["pf.grid_advice"] = function(o) pf.grid_advice(o) end,
+  ["grid_advice kicks[i]"] = function(o) w1:grid_advice{time = 1e-3, kicks = {o}} end,
+  ["pf.h5file"] = function(o) pf.h5file("options-walk-2.h5", o) end,
+  ["h5file:put_wave"] = function(o) h5:put_wave("cloud", w1, o) end,
+  ["pf.write_csv"] = function(o) pf.write_csv("options-walk-3.csv", {{name = "x", values = {1}}}, o) end,
+  ["pf.load_wave"] = function(o) pf.load_wave(csv, o) end,
+  ["pf.picture_map"] = function(o) pf.picture_map("options-walk.png", w2, o) end,
+  ["pf.picture_lines"] = function(o) pf.picture_lines("options-walk.png", o) end,
+  ["pf.picture_lines series[i]"] = function(o) pf.picture_lines("options-walk.png", {series = {o}}) end,
+  ["pf.picture_carpet"] = function(o) pf.picture_carpet("options-walk.png", w1, o) end,
+  ["pf.parameters spec"] = function(o) pf.parameters{walk_value = o} end,
+  ["wave:fly_long"] = function(o) w1:copy():fly_long(1e-3, o) end,
+  ["wave:fly_scaled"] = function(o) w1:copy():fly_scaled(1e-3, o) end,
+  ["wave:grid_advice"] = function(o) w1:grid_advice(o) end,
+  ["wave:grating"] = function(o) w1:copy():grating(o) end,
+  ["wave:lens"] = function(o) w1:copy():lens(1e-3, o) end,
+  ["wave:slit"] = function(o) w1:copy():slit(o) end,
+  ["wave:slits"] = function(o) w1:copy():slits(o) end,
+  ["wave:mask_grating"] = function(o) w1:copy():mask_grating(o) end,
+  ["wave:aperture"] = function(o) w2:copy():aperture(o) end,
+  ["wave:select_velocity"] = function(o) w1:copy():select_velocity(o) end,
+  ["wave:evolve"] = function(o) w1:copy():evolve(1e-6, o) end,
+  ["wave:relax"] = function(o) w1:copy():relax(o) end,
+  ["wave:energy"] = function(o) w1:energy(o) end,
+  ["state:distribution"] = function(o) w1:distribution(o) end,
+  ["state:profile"] = function(o) w2:profile(1, o) end,
+  ["state:marginal"] = function(o) w2:marginal(o) end,
+  ["state:slice"] = function(o) w2:slice(o) end,
+  ["state:radial_profile"] = function(o) w2:radial_profile(o) end,
+  ["state:sample"] = function(o) w1:sample(4, o) end,
+  ["state:fringes"] = function(o) w1:fringes(o) end,
+  ["state:flux"] = function(o) w1:flux(o) end,
+  ["state:beyond"] = function(o) w1:beyond(o) end,
+  ["state:arrival_times"] = function(o) w1:arrival_times(o) end,
+  ["state:wigner"] = function(o) w1:wigner(o) end,
+  ["state:measure_region"] = function(o) w1:copy():measure_region(region, o) end,
+  ["state:measure_position"] = function(o) w1:copy():measure_position(o) end,
+}
+
+-- Lua-visible functions that take no options table (positional numbers,
+-- strings, objects, or data tables: lists of values, columns, members).
+local TAKES_NO_OPTIONS = {
+  -- module
+  "pf.complex", "pf.polar", "pf.cexp", "pf.run_info", "pf.species", "pf.mass", "pf.species_list",
+  "pf.photon_momentum", "pf.photon_wavenumber", "pf.mixture", "pf.mask", "pf.potential", "pf.progress",
+  "pf.read_csv", "pf.report", "pf.output_path", "pf.outputs", "pf.sha256", "pf.resonant_cross_section",
+  "pf.parameters", "pf.check_options", "pf._option_sets",
+  -- wave functions
+  "wave:psi", "wave:phi", "wave:set_psi", "wave:set_phi", "wave:density", "wave:momentum_density", "wave:copy",
+  "wave:normalize", "wave:scale", "wave:mass", "wave:clock", "wave:representation", "wave:grid", "wave:log",
+  "wave:log_text", "wave:close", "wave:fly", "wave:norm", "wave:position_mean", "wave:position_variance",
+  "wave:position_width", "wave:momentum_mean", "wave:momentum_variance", "wave:momentum_width",
+  "wave:wavenumber_mean", "wave:wavenumber_width", "wave:velocity_mean", "wave:kinetic_energy", "wave:add",
+  "wave:inner", "wave:guard", "wave:far_field", "wave:kick", "wave:imprint", "wave:mask", "wave:momentum_mask",
+  "wave:shift", "wave:fall", "wave:log_columns", "wave:overlap", "wave:fidelity", "wave:current",
+  "wave:column_density", "wave:probability_in", "wave:position_covariance", "wave:momentum_covariance",
+  -- ensembles
+  "ensemble:count", "ensemble:member", "ensemble:weight", "ensemble:weights", "ensemble:each", "ensemble:copy",
+  "ensemble:close", "ensemble:norm", "ensemble:position_mean", "ensemble:position_variance",
+  "ensemble:position_width", "ensemble:momentum_mean", "ensemble:momentum_variance", "ensemble:momentum_width",
+  "ensemble:wavenumber_mean", "ensemble:wavenumber_width", "ensemble:velocity_mean", "ensemble:kinetic_energy",
+  "ensemble:current", "ensemble:column_density", "ensemble:probability_in", "ensemble:position_covariance",
+  "ensemble:momentum_covariance",
+  -- other objects
+  "grid:dim", "grid:points", "grid:total", "grid:span", "grid:spacing", "grid:origin", "grid:kspacing",
+  "grid:knyquist", "grid:x", "grid:k", "grid:x_axis", "grid:k_axis", "grid:close",
+  "h5file:put_density", "h5file:put_table", "h5file:put_value", "h5file:close", "h5file:discard", "h5file:path",
+  "random:uniform", "random:normal", "random:poisson", "random:raw",
+  "potential:close", "potential:range", "progress:advance", "progress:finish", "progress:shown",
+}
+
+local sets = pf._option_sets()
+local declared_names = {}
+for name in pairs(sets) do declared_names[#declared_names + 1] = name end
+table.sort(declared_names)
+check.truthy(#declared_names >= 50, "the engine declares its option sets (" .. #declared_names .. ")")
+
+-- Every declared set has a caller, and every caller a declared set.
+for _, name in ipairs(declared_names) do
+  check.truthy(callers[name] ~= nil, "caller for declared option set " .. name)
+end
+for name in pairs(callers) do
+  if not sets[name] then error("caller for '" .. name .. "', which the engine does not declare", 0) end
+end
+
+-- Methods of an object's metatable (a table __index, or the ensemble's
+-- 'methods' table behind its __index function).
+local function methods_of(obj)
+  local mt = getmetatable(obj)
+  return type(mt.__index) == "table" and mt.__index or mt.methods
+end
+
+-- Every Lua-visible function is classified: declared, or in TAKES_NO_OPTIONS.
+local no_options = {}
+for _, n in ipairs(TAKES_NO_OPTIONS) do no_options[n] = true end
+local seen = {}
+local function classify(prefix, tbl, also)
+  for key, value in pairs(tbl) do
+    if type(value) == "function" then
+      local name = prefix .. key
+      seen[name] = true
+      local ok = sets[name] or no_options[name] or (also and sets[also .. key])
+      if not ok then
+        error("'" .. name .. "' is neither a declared option set nor listed in TAKES_NO_OPTIONS: "
+          .. "declare its keys (pfl_options.h) or list it here", 0)
+      end
+    end
+  end
+end
+classify("pf.", pf)
+classify("wave:", methods_of(w1), "state:")
+classify("ensemble:", methods_of(ens), "state:")
+classify("camera:", methods_of(cam))
+classify("grid:", methods_of(g1))
+classify("h5file:", methods_of(h5))
+classify("random:", methods_of(gen))
+classify("potential:", methods_of(pot))
+classify("progress:", methods_of(bar))
+check.truthy(next(seen) ~= nil, "every Lua-visible function is classified (declared or taking no options)")
+-- The list of exceptions must not go stale either.
+for name in pairs(no_options) do
+  if not seen[name] then error("TAKES_NO_OPTIONS lists '" .. name .. "', which no object has", 0) end
+end
+-- A declared set names a function that exists (sub-tables: their parent).
+for _, name in ipairs(declared_names) do
+  local base = name:match("^(%S+)")
+  if base == "grid_advice" then base = "pf.grid_advice" end
+  local kind, fn = base:match("^(%a+)[.:]([%w_]+)$")
+  local exists = seen[base] or (kind == "state" and seen["wave:" .. fn] and seen["ensemble:" .. fn])
+  check.truthy(exists, "declared set " .. name .. " names an existing function")
+end
+
+-- The walk: a near miss of a real key, and a key like none of them.
+local here = "test_options.lua:"
+for _, name in ipairs(declared_names) do
+  local keys = sets[name]
+  local longest = keys[1]
+  for _, k in ipairs(keys) do if #k > #longest then longest = k end end
+  local typo = longest:sub(1, -2) -- one letter short: distance 1
+  check.fails(function() callers[name]({[typo] = 1}) end, name .. ": near miss '" .. typo .. "'",
+    here, name .. ": unknown option '" .. typo .. "' (did you mean '" .. longest .. "'?)")
+  local parts = {here, name .. ": unknown option 'zzqq_frobnitz' (known options: "}
+  for _, k in ipairs(keys) do parts[#parts + 1] = k end
+  check.fails(function() callers[name]({zzqq_frobnitz = 1}) end, name .. ": unrelated key lists the known ones",
+    table.unpack(parts))
+end
+
+-- The examples the issue named, each now an error with the intended key.
+check.fails(function() w1:copy():fly_long(10e-3, {acceleration = {0, -9.8}}) end, "fly_long acceleration",
+  "wave:fly_long: unknown option 'acceleration'")
+check.fails(function() pf.camera{pixels = 4, pitch = 1e-6, psff = 3e-6} end, "camera psff", "did you mean 'psf'?")
+check.fails(function() w1:copy():fly_scaled(1e-3, {pionts = 64}) end, "fly_scaled pionts", "did you mean 'points'?")
+check.fails(function() pf.setup{planing = "estimate"} end, "setup planing", "did you mean 'planning'?")
+check.fails(function() pf.grid{points = 8, spn = 1} end, "grid spn", "unknown option 'spn' (did you mean 'span'?)")
+check.fails(function() pf.grid{points = 8, span = 1, orgin = 0} end, "grid orgin", "did you mean 'origin'?")
+check.fails(function() pf.wave(g1, {mass = 1e-25, postion = function() return 1 end}) end, "wave postion",
+  "did you mean 'position'?")
+check.fails(function() pf.thermal{grid = g1, mass = "87Rb", trap = 600, temprature = 1e-7} end, "thermal temprature",
+  "did you mean 'temperature'?")
+check.fails(function() w1:arrival_times{at = 0, to = 1e-3, bogus = 1} end, "arrival_times bogus", "unknown option 'bogus'")
+check.fails(function() w1:fringes{perod = 1e-6} end, "fringes perod", "did you mean 'period'?")
+check.fails(function() pf.picture_map("x.png", w2, {x_range = {0, 1}}) end, "picture_map x_range",
+  "pf.picture_map: unknown option 'x_range'")
+check.fails(function() pf.picture_lines("x.png", {xlabel = "x", series = {{x = {0, 1}, y = {0, 1}}}}) end,
+  "picture_lines xlabel", "unknown option 'xlabel'")
+
+-- One spelling per concept: 'center' everywhere; 'centre' is refused with
+-- the suggestion.
+check.fails(function() pf.grid_advice{mass = 1e-25, time = 1e-3, width = 1e-6, centre = 0} end,
+  "grid_advice centre refused", "pf.grid_advice: unknown option 'centre' (did you mean 'center'?)")
+check.fails(function() pf.gaussian(g1, {mass = "87Rb", width = 4e-6, centre = 0}) end, "gaussian centre refused",
+  "did you mean 'center'?")
+for name, keys in pairs(sets) do
+  for _, k in ipairs(keys) do
+    if k:find("centre", 1, true) then error(name .. " declares the spelling '" .. k .. "'; the API spells 'center'", 0) end
+  end
+end
+check.truthy(true, "no option set spells 'centre'")
+
+-- Keys are strings; option tables are plain tables.
+check.fails(function() pf.grid{8, span = 1} end, "positional entry in an options table", here,
+  "pf.grid: option names must be strings, got the key 1")
+check.fails(function() pf.grid(setmetatable({points = 8, span = 1}, {})) end, "options table with a metatable",
+  here, "pf.grid: the options table must be a plain table")
+
+-- pf.setup reads each field once, raw: a table whose __index answers
+-- differently on each read is refused before anything is read.
+do
+  local reads = 0
+  local sneaky = setmetatable({}, {__index = function(_, k)
+    reads = reads + 1
+    if k == "output_dir" and reads > 1 then return "/tmp/elsewhere" end
+  end})
+  check.fails(function() pf.setup(sneaky) end, "setup refuses a table with __index", "pf.setup", "plain table")
+  check.equal(reads, 0, "setup ran no __index while refusing")
+  check.truthy(not pf.run_info().output_dir or pf.run_info().output_dir ~= "/tmp/elsewhere",
+    "the output folder did not move")
+end
+-- Wrong types are errors, not conversions or silent skips.
+local cap = pf.run_info().memory_cap
+check.fails(function() pf.setup{memory_cap = "1e18"} end, "memory_cap as a string refused", "memory_cap", "'1e18'")
+check.equal(pf.run_info().memory_cap, cap, "memory cap unchanged after the refusal")
+check.fails(function() pf.setup{strict = "yes"} end, "strict must be a boolean", "strict", "true or false")
+check.fails(function() pf.setup{seed = "7"} end, "seed as a string refused", "seed", "'7'")
+check.fails(function() pf.setup{wisdom = 0} end, "wisdom must be a path or false", "wisdom")
+-- Nothing is applied when one field is bad.
+local seed = pf.run_info().seed
+check.fails(function() pf.setup{seed = seed + 5, threads = 0} end, "bad threads refuses the whole call", "threads")
+check.equal(pf.run_info().seed, seed, "seed not applied when another field was bad")
+
+-- The same checker for Lua code (the bundled recipes).
+check.fails(function() pf.check_options({tof = 1, pixle = 2}, "demo.run", {"tof", "pixel"}, 1) end,
+  "pf.check_options from Lua", here, "demo.run: unknown option 'pixle' (did you mean 'pixel'?)")
+do
+  local tof = require "psiflight.recipes.tof_image"
+  local p = {}
+  for k, spec in pairs(tof.parameters) do p[k] = spec.default end
+  p.pixle = p.pixel
+  check.fails(function() tof.run(p) end, "recipe run refuses a misspelt parameter", here,
+    "tof_image.run: unknown option 'pixle' (did you mean 'pixel'?)")
+end
+
+h5:discard()
+check.done()
