@@ -159,10 +159,15 @@ typedef struct setup_values {
     const char *dir;
 } setup_values;
 
+/* Raises at the script line (past a C wrapper such as the sandbox guard). */
 static int setup_type_error(lua_State *L, const char *field, const char *want)
 {
     char buf[64];
-    return luaL_error(L, "setup: field '%s' must be %s, got %s", field, want, pfl_describe(L, -1, buf, sizeof buf));
+    pfl_describe(L, -1, buf, sizeof buf);
+    pfl_options_where(L, 1);
+    lua_pushfstring(L, "pf.setup: field '%s' must be %s, got %s", field, want, buf);
+    lua_concat(L, 2);
+    return lua_error(L);
 }
 
 /* Reads and checks every field (raw reads of a checked plain table); strings

@@ -45,7 +45,7 @@ static int close_enough(const char *typed, int dist)
  * luaL_where, but skipping C frames: pf.setup may be reached through a C
  * wrapper such as the runner's sandbox guard, and the message should still
  * name the script line). */
-static void where(lua_State *L, int level)
+void pfl_options_where(lua_State *L, int level)
 {
     lua_Debug ar;
     for (; lua_getstack(L, level, &ar); level++) {
@@ -70,7 +70,7 @@ static void unknown_key(lua_State *L, const char *function, const char *const *k
     }
     char shown[80];
     snprintf(shown, sizeof shown, "%.60s%s", key, strlen(key) > 60 ? "..." : "");
-    where(L, level);
+    pfl_options_where(L, level);
     if (near && close_enough(key, best)) {
         lua_pushfstring(L, "%s: unknown option '%s' (did you mean '%s'?)", function, shown, near);
     } else {
@@ -90,7 +90,7 @@ static void unknown_key(lua_State *L, const char *function, const char *const *k
 
 static void raise_at(lua_State *L, int level, const char *fmt, const char *a, const char *b)
 {
-    where(L, level);
+    pfl_options_where(L, level);
     lua_pushfstring(L, fmt, a, b);
     lua_concat(L, 2);
     lua_error(L);

@@ -44,6 +44,10 @@ void pfl_options_check_at(lua_State *L, int idx, const pfl_options_decl *decl, i
  * names, for pfl_options_check and for the enumeration pf._option_sets. */
 void pfl_options_declare(lua_State *L, const pfl_options_decl *const *decls);
 
+/* Pushes "chunk:line: " of the first Lua function at or above the stack
+ * level (C frames such as a wrapper of the function are skipped), or "". */
+void pfl_options_where(lua_State *L, int level);
+
 /* Pushes the raw value of key in the checked options table at t and returns
  * its type, like lua_getfield without metamethods. */
 int pfl_option_get(lua_State *L, int t, const char *key);

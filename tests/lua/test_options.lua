@@ -257,11 +257,12 @@ do
 end
 -- Wrong types are errors, not conversions or silent skips.
 local cap = pf.run_info().memory_cap
-check.fails(function() pf.setup{memory_cap = "1e18"} end, "memory_cap as a string refused", "memory_cap", "'1e18'")
+check.fails(function() pf.setup{memory_cap = "1e18"} end, "memory_cap as a string refused", here,
+  "pf.setup: field 'memory_cap'", "'1e18'")
 check.equal(pf.run_info().memory_cap, cap, "memory cap unchanged after the refusal")
-check.fails(function() pf.setup{strict = "yes"} end, "strict must be a boolean", "strict", "true or false")
-check.fails(function() pf.setup{seed = "7"} end, "seed as a string refused", "seed", "'7'")
-check.fails(function() pf.setup{wisdom = 0} end, "wisdom must be a path or false", "wisdom")
+check.fails(function() pf.setup{strict = "yes"} end, "strict must be a boolean", here, "strict", "true or false")
+check.fails(function() pf.setup{seed = "7"} end, "seed as a string refused", here, "seed", "'7'")
+check.fails(function() pf.setup{planning = 1} end, "planning must be a string", here, "planning", "got 1")
 -- Nothing is applied when one field is bad.
 local seed = pf.run_info().seed
 check.fails(function() pf.setup{seed = seed + 5, threads = 0} end, "bad threads refuses the whole call", "threads")
