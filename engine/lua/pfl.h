@@ -108,6 +108,8 @@ double pfl_check_positive(lua_State *L, int arg, const char *what);
 double pfl_field_number(lua_State *L, int t, const char *field, double def, int required);
 /* Field holding one number per axis, or a single number used for all axes. */
 int pfl_field_vector(lua_State *L, int t, const char *field, int dim, double *out, int required);
+/* The same with positive = 1 requiring every value > 0 (widths, radii). */
+int pfl_field_vector_of(lua_State *L, int t, const char *field, int dim, double *out, int required, int positive);
 /* Optional boolean field. */
 int pfl_field_boolean(lua_State *L, int t, const char *field, int def);
 /* Name of the Lua function being called (for error messages), as

@@ -83,9 +83,10 @@ double pfl_field_number(lua_State *L, int t, const char *field, double def, int 
     return v;
 }
 
-int pfl_field_vector(lua_State *L, int t, const char *field, int dim, double *out, int required)
+int pfl_field_vector_of(lua_State *L, int t, const char *field, int dim, double *out, int required, int positive)
 {
     char buf[80];
+    const char *kind = positive ? "a positive" : "a finite";
     int type = pfl_option_get(L, t, field);
     if (type == LUA_TNIL) {
         lua_pop(L, 1);
@@ -94,8 +95,11 @@ int pfl_field_vector(lua_State *L, int t, const char *field, int dim, double *ou
     }
     if (type == LUA_TNUMBER) {
         double v = lua_tonumber(L, -1);
-        if (!isfinite(v))
-            field_error(L, "field '%s' must be finite, got %s", field, pfl_describe(L, -1, buf, sizeof buf));
+        if (!isfinite(v) || (positive && !(v > 0))) {
+            char what[120];
+            snprintf(what, sizeof what, "%s number, got %s", kind, pfl_describe(L, -1, buf, sizeof buf));
+            field_error(L, "field '%s' must be %s", field, what);
+        }
         for (int a = 0; a < dim; a++) out[a] = v;
         lua_pop(L, 1);
         return 1;
@@ -114,9 +118,9 @@ int pfl_field_vector(lua_State *L, int t, const char *field, int dim, double *ou
     for (int a = 0; a < dim; a++) {
         int et = lua_geti(L, -1, a + 1);
         double v = lua_tonumber(L, -1);
-        if (et != LUA_TNUMBER || !isfinite(v)) {
+        if (et != LUA_TNUMBER || !isfinite(v) || (positive && !(v > 0))) {
             char what[120];
-            snprintf(what, sizeof what, "%d must be a finite number, got %s", a + 1, pfl_describe(L, -1, buf, sizeof buf));
+            snprintf(what, sizeof what, "%d must be %s number, got %s", a + 1, kind, pfl_describe(L, -1, buf, sizeof buf));
             field_error(L, "field '%s' entry %s", field, what);
         }
         out[a] = v;
@@ -124,6 +128,11 @@ int pfl_field_vector(lua_State *L, int t, const char *field, int dim, double *ou
     }
     lua_pop(L, 1);
     return 1;
+}
+
+int pfl_field_vector(lua_State *L, int t, const char *field, int dim, double *out, int required)
+{
+    return pfl_field_vector_of(L, t, field, dim, out, required, 0);
 }
 
 int pfl_field_axis(lua_State *L, int t, const char *field, const pf_grid *g, int def, const char *name)

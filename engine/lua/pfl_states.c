@@ -17,41 +17,13 @@
 
 #define MAX_FIELDS 24
 
-/* Optional field with one number per axis (or one number for all axes).
- * positive: 1 requires > 0.  Returns 0 when absent. */
+/* Optional field with one number per axis (or one number for all axes);
+ * positive: 1 requires > 0.  Returns 0 when absent.  (The shared reader in
+ * pfl_args.c; fname is kept for the callers' symmetry with read_matrix.) */
 static int read_vector(lua_State *L, int t, const char *fname, const char *field, int d, double *out, int positive)
 {
-    char buf[80];
-    int type = pfl_option_get(L, t, field);
-    if (type == LUA_TNIL) {
-        lua_pop(L, 1);
-        return 0;
-    }
-    if (type == LUA_TNUMBER) {
-        double v = lua_tonumber(L, -1);
-        if (!isfinite(v) || (positive && !(v > 0)))
-            luaL_error(L, "%s: field '%s' must be a %s number, got %s", fname, field, positive ? "positive" : "finite",
-                       pfl_describe(L, -1, buf, sizeof buf));
-        for (int a = 0; a < d; a++) out[a] = v;
-    } else if (type == LUA_TTABLE) {
-        if (luaL_len(L, -1) != d)
-            luaL_error(L, "%s: field '%s' must have %d entries (one per axis), got %d", fname, field, d,
-                       (int)luaL_len(L, -1));
-        for (int a = 0; a < d; a++) {
-            int et = lua_geti(L, -1, a + 1);
-            double v = lua_tonumber(L, -1);
-            if (et != LUA_TNUMBER || !isfinite(v) || (positive && !(v > 0)))
-                luaL_error(L, "%s: field '%s' entry %d must be a %s number, got %s", fname, field, a + 1,
-                           positive ? "positive" : "finite", pfl_describe(L, -1, buf, sizeof buf));
-            out[a] = v;
-            lua_pop(L, 1);
-        }
-    } else {
-        luaL_error(L, "%s: field '%s' must be a number or a table of %d numbers, got %s", fname, field, d,
-                   pfl_describe(L, -1, buf, sizeof buf));
-    }
-    lua_pop(L, 1);
-    return 1;
+    (void)fname;
+    return pfl_field_vector_of(L, t, field, d, out, 0, positive);
 }
 
 /* Optional d x d matrix field: a number (times the identity), a vector (the
