@@ -18,6 +18,8 @@
 static const pfl_options_decl H5FILE_OPTIONS = {"pf.h5file", (const char *const[]){"overwrite", NULL}};
 static const pfl_options_decl PUT_WAVE_OPTIONS = {"h5file:put_wave", (const char *const[]){"parts", NULL}};
 static const pfl_options_decl WRITE_CSV_OPTIONS = {"pf.write_csv", (const char *const[]){"overwrite", NULL}};
+static const pfl_options_decl WRITE_CSV_COLUMN = {"pf.write_csv columns[i]", (const char *const[]){"name", "unit", "values", NULL}};
+static const pfl_options_decl PUT_TABLE_COLUMN = {"h5file:put_table columns[i]", (const char *const[]){"name", "unit", "values", NULL}};
 static const pfl_options_decl LOAD_WAVE_OPTIONS = {
     "pf.load_wave", (const char *const[]){"item", "dataset", "real", "imag", "axes", "representation", "grid", "mass",
                                           "interpolate", "normalize", NULL}};
@@ -32,7 +34,16 @@ typedef struct { pf_h5 *f; } pfl_h5_box;
  * {name, unit, values} tables; values are numbers, or strings for a text
  * column.  Everything the returned columns point to stays anchored on the
  * stack (five slots per column) until the caller returns. */
-static pf_column *check_columns(lua_State *L, int arg, const char *fname, size_t *ncols)
+/* Raw read of a field of a positional column table (which may mix in
+ * names; only the named form is checked as options). */
+static int raw_field(lua_State *L, int t, const char *field)
+{
+    lua_pushstring(L, field);
+    return lua_rawget(L, t);
+}
+
+static pf_column *check_columns(lua_State *L, int arg, const char *fname, const pfl_options_decl *column_decl,
+                                size_t *ncols)
 {
     luaL_checktype(L, arg, LUA_TTABLE);
     arg = lua_absindex(L, arg);
@@ -46,8 +57,12 @@ static pf_column *check_columns(lua_State *L, int arg, const char *fname, size_t
         if (lua_geti(L, arg, c) != LUA_TTABLE) luaL_error(L, "%s: column %d must be a table {name, unit, values}", fname, (int)c);
         int t = lua_gettop(L);
         static const char *const fields[] = {"name", "unit", "values"};
+        /* The named form {name=, unit=, values=} is an options table: a
+         * misspelt 'unti' must not silently drop the unit. */
+        int named = lua_rawlen(L, t) == 0;
+        if (named) pfl_options_check(L, t, column_decl);
         for (int k = 0; k < 3; k++) {
-            if (lua_getfield(L, t, fields[k]) == LUA_TNIL) {
+            if ((named ? pfl_option_get(L, t, fields[k]) : raw_field(L, t, fields[k])) == LUA_TNIL) {
                 lua_pop(L, 1);
                 lua_geti(L, t, k + 1);
             }
@@ -164,7 +179,7 @@ static int l_put_table(lua_State *L)
     pf_h5 *f = check_open(L, 1);
     const char *name = luaL_checkstring(L, 2);
     size_t n;
-    pf_column *cols = check_columns(L, 3, "put_table", &n);
+    pf_column *cols = check_columns(L, 3, "put_table", &PUT_TABLE_COLUMN, &n);
     pfl_check(L, pf_h5_put_table(f, name, n, cols), "put_table");
     lua_settop(L, 1);
     return 1;
@@ -265,7 +280,7 @@ static int l_write_csv(lua_State *L)
     const char *path = pfl_output_resolve(L, luaL_checkstring(L, 1), "write_csv");
     int pathidx = lua_gettop(L);
     size_t n;
-    pf_column *cols = check_columns(L, 2, "write_csv", &n);
+    pf_column *cols = check_columns(L, 2, "write_csv", &WRITE_CSV_COLUMN, &n);
     pfl_options_opt(L, 3, &WRITE_CSV_OPTIONS);
     pfl_check(L, pf_csv_write(pfl_ctx(L), path, pfl_overwrite_option(L, 3), n, cols), "write_csv");
     pfl_output_register(L, path);
@@ -589,6 +604,7 @@ void pfl_open_files(lua_State *L, int mod)
     lua_setfield(L, -2, "__index");
     lua_pop(L, 1);
     pfl_add_functions(L, mod, funcs);
-    static const pfl_options_decl *const options[] = {&H5FILE_OPTIONS, &PUT_WAVE_OPTIONS, &WRITE_CSV_OPTIONS, &LOAD_WAVE_OPTIONS, NULL};
+    static const pfl_options_decl *const options[] = {&H5FILE_OPTIONS, &PUT_WAVE_OPTIONS, &WRITE_CSV_OPTIONS, &WRITE_CSV_COLUMN, &PUT_TABLE_COLUMN,
+                                                      &LOAD_WAVE_OPTIONS, NULL};
     pfl_options_declare(L, options);
 }

@@ -62,6 +62,8 @@ local callers = {
   ["pf.h5file"] = function(o) pf.h5file("options-walk-2.h5", o) end,
   ["h5file:put_wave"] = function(o) h5:put_wave("cloud", w1, o) end,
   ["pf.write_csv"] = function(o) pf.write_csv("options-walk-3.csv", {{name = "x", values = {1}}}, o) end,
+  ["pf.write_csv columns[i]"] = function(o) pf.write_csv("options-walk-4.csv", {o}) end,
+  ["h5file:put_table columns[i]"] = function(o) h5:put_table("walk", {o}) end,
   ["pf.load_wave"] = function(o) pf.load_wave(csv, o) end,
   ["pf.picture_map"] = function(o) pf.picture_map("options-walk.png", w2, o) end,
   ["pf.picture_lines"] = function(o) pf.picture_lines("options-walk.png", o) end,
