@@ -275,8 +275,12 @@ check.fails(function() pf.check_options({tof = 1, pixle = 2}, "demo.run", {"tof"
   "pf.check_options from Lua", here, "demo.run: unknown option 'pixle' (did you mean 'pixel'?)")
 do
   local tof = require "psiflight.recipes.tof_image"
+  -- Declared defaults in SI (the units tof_image declares), a small grid cap
+  -- so that an unchecked run would stop quickly on its own error.
+  local si = {u = pf.constants.u, Hz = 1, ms = 1e-3, um = 1e-6}
   local p = {}
-  for k, spec in pairs(tof.parameters) do p[k] = spec.default end
+  for k, spec in pairs(tof.parameters) do p[k] = spec.default * (si[spec.unit] or 1) end
+  p.max_points = 32
   p.pixle = p.pixel
   check.fails(function() tof.run(p) end, "recipe run refuses a misspelt parameter", here,
     "tof_image.run: unknown option 'pixle' (did you mean 'pixel'?)")
