@@ -6,6 +6,7 @@
 #include <stdio.h>
 #include <string.h>
 #include "pfl_options.h"
+#include "pfl_measure.h"
 #include "pfl_protocol.h"
 
 const char *pfl_describe(lua_State *L, int idx, char *buf, size_t size)
@@ -135,12 +136,28 @@ int pfl_field_vector(lua_State *L, int t, const char *field, int dim, double *ou
     return pfl_field_vector_of(L, t, field, dim, out, required, 0);
 }
 
+int pfl_opt_axis(lua_State *L, int opts, const char *field, int dim, int def)
+{
+    if (!opts) return def;
+    int a = def;
+    if (pfl_option_get(L, opts, field) != LUA_TNIL) {
+        int ok;
+        lua_Integer v = lua_tointegerx(L, -1, &ok);
+        if (!ok || v < 1 || v > dim) {
+            char buf[64];
+            luaL_error(L, "%s: field '%s' must be an axis 1..%d, got %s", pfl_caller_name(L), field, dim,
+                       pfl_describe(L, -1, buf, sizeof buf));
+        }
+        a = (int)v;
+    }
+    lua_pop(L, 1);
+    return a;
+}
+
 int pfl_field_axis(lua_State *L, int t, const char *field, const pf_grid *g, int def, const char *name)
 {
-    lua_Integer a = pfl_field_integer(L, t, field, def, 1, name);
-    if (a > pf_grid_dim(g))
-        luaL_error(L, "%s: field '%s' must be an axis 1..%d, got %d", name, field, pf_grid_dim(g), (int)a);
-    return (int)a - 1;
+    (void)name; /* the message names the calling function (pfl_caller_name) */
+    return pfl_opt_axis(L, t, field, pf_grid_dim(g), def) - 1;
 }
 
 lua_Integer pfl_field_integer(lua_State *L, int t, const char *field, lua_Integer def, lua_Integer min,

@@ -67,23 +67,6 @@ pf_rep pfl_opt_space(lua_State *L, int opts)
     return rep;
 }
 
-int pfl_opt_axis(lua_State *L, int opts, const char *field, int dim, int def)
-{
-    if (!opts) return def;
-    int a = def;
-    if (pfl_option_get(L, opts, field) != LUA_TNIL) {
-        int ok;
-        lua_Integer v = lua_tointegerx(L, -1, &ok);
-        if (!ok || v < 1 || v > dim) {
-            char buf[64];
-            luaL_error(L, "%s: field '%s' must be an axis 1..%d, got %s", pfl_caller_name(L), field, dim,
-                       pfl_describe(L, -1, buf, sizeof buf));
-        }
-        a = (int)v;
-    }
-    lua_pop(L, 1);
-    return a;
-}
 
 void pfl_push_field(lua_State *L, const pf_field *f, pf_rep rep, double mass, const char *unit, double lab_scale,
                     const char *lab_unit)

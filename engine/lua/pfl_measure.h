@@ -56,7 +56,8 @@ void pfl_push_doubles(lua_State *L, const double *v, size_t n);
 /* Reads a sequence of numbers at idx into a new userdata buffer (pushed);
  * returns the pointer and the count. */
 double *pfl_check_doubles(lua_State *L, int idx, size_t *n, const char *what);
-/* 1-based axis field of an options table, default def (1-based). */
+/* 1-based axis field of an options table, default def (1-based); one
+ * implementation with pfl_field_axis, in pfl_args.c. */
 int pfl_opt_axis(lua_State *L, int opts, const char *field, int dim, int def);
 /* Mixture field of a source, with a Lua error on failure (pf_field must be
  * released with pf_field_free; on error nothing is leaked). */
