@@ -128,6 +128,8 @@ local TAKES_NO_OPTIONS = {
   "h5file:put_density", "h5file:put_table", "h5file:put_value", "h5file:close", "h5file:discard", "h5file:path",
   "random:uniform", "random:normal", "random:poisson", "random:raw",
   "potential:close", "potential:range", "progress:advance", "progress:finish", "progress:shown",
+  "complex:abs", "complex:arg", "complex:conj", "complex:abs2",
+  "pf.units.angular", "pf.units.as_frequency", "pf.units.as_temperature",
 }
 
 local sets = pf._option_sets()
@@ -177,6 +179,17 @@ classify("h5file:", methods_of(h5))
 classify("random:", methods_of(gen))
 classify("potential:", methods_of(pot))
 classify("progress:", methods_of(bar))
+classify("complex:", methods_of(pf.complex(1, 2)))
+classify("pf.units.", pf.units)
+-- Tables of functions inside the module are scanned too; a new one must be
+-- added to the scan.
+for key, value in pairs(pf) do
+  if type(value) == "table" then
+    for _, v in pairs(value) do
+      if type(v) == "function" and key ~= "units" then error("pf." .. key .. " holds functions the walk does not scan", 0) end
+    end
+  end
+end
 check.truthy(next(seen) ~= nil, "every Lua-visible function is classified (declared or taking no options)")
 -- The list of exceptions must not go stale either.
 for name in pairs(no_options) do
