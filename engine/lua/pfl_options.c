@@ -10,15 +10,19 @@
 #include "../core/pf_units.h"
 #include "pfl_options.h"
 
-#define DECLS_KEY "psiflight.options.decls"     /* function name -> light userdata decl */
-#define CHECKED_KEY "psiflight.options.checked" /* weak: checked table -> light userdata decl */
+/* Registry slots, keyed by the addresses of these statics (lua_rawgetp: no
+ * string hashing on every option read). */
+static const char DECLS_SLOT = 'D';   /* function name -> light userdata decl */
+static const char CHECKED_SLOT = 'C'; /* weak keys: checked table -> light userdata decl */
+#define DECLS_KEY (&DECLS_SLOT)
+#define CHECKED_KEY (&CHECKED_SLOT)
 #define MAX_LUA_KEYS 64                         /* keys a recipe may declare (pf.check_options) */
 
-/* Pushes the registry table stored under name, creating it (weak keys when
+/* Pushes the registry table stored under slot, creating it (weak keys when
  * weak) on first use. */
-static void push_registry_table(lua_State *L, const char *name, int weak)
+static void push_registry_table(lua_State *L, const char *slot, int weak)
 {
-    if (lua_getfield(L, LUA_REGISTRYINDEX, name) == LUA_TTABLE) return;
+    if (lua_rawgetp(L, LUA_REGISTRYINDEX, slot) == LUA_TTABLE) return;
     lua_pop(L, 1);
     lua_newtable(L);
     if (weak) {
@@ -28,7 +32,7 @@ static void push_registry_table(lua_State *L, const char *name, int weak)
         lua_setmetatable(L, -2);
     }
     lua_pushvalue(L, -1);
-    lua_setfield(L, LUA_REGISTRYINDEX, name);
+    lua_rawsetp(L, LUA_REGISTRYINDEX, slot);
 }
 
 /* How far apart a typo may be from a key and still be suggested: one edit
