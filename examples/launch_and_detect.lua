@@ -117,7 +117,7 @@ cloud:close()
 -- its density; the grid resolves the highest level kept.
 local T = p.temperature
 local g1 = pf.grid{points = 4096, span = 400e-6, origin = {140e-6}}
-local hot = pf.thermal{grid = g1, mass = k41.mass, trap = omega[1], temperature = T, drift = launch,
+local hot = pf.thermal{grid = g1, mass = k41.mass, omega = omega[1], temperature = T, drift = launch,
                        method = "eigenstates"}
 local harr = hot:arrival_times{axis = 1, at = sheet, from = 0, to = 40e-3, steps = 401}
 local htimes = detect(harr, atoms * efficiency * harr.arrived, pf.random{stream = 7})

@@ -15,7 +15,7 @@
 #include "pfl_options.h"
 
 static const pfl_options_decl THERMAL_OPTIONS = {
-    "pf.thermal", (const char *const[]){"grid", "mass", "trap", "temperature", "center", "drift", "method", "nodes",
+    "pf.thermal", (const char *const[]){"grid", "mass", "omega", "frequency", "temperature", "center", "drift", "method", "nodes",
                                         "samples", "seed", "generator", "tolerance", NULL}};
 
 typedef struct { int open; } pfl_ensemble_box;
@@ -230,7 +230,7 @@ static int thermal_eigenstates(lua_State *L, pf_grid *g, const pf_thermal_spec *
     return 1;
 }
 
-/* pf.thermal{grid=, mass=, trap = omega | {wx, wy, wz} (rad/s), temperature = K,
+/* pf.thermal{grid=, mass=, omega = w | {wx, wy, wz} (rad/s) | frequency = Hz, temperature = K,
  *            center = {..} (m), drift = {..} (m/s), nodes = M (default 3) |
  *            samples = K, seed=, generator=  |  method = "eigenstates",
  *            tolerance = 1e-6} */
@@ -245,7 +245,15 @@ static int l_thermal(lua_State *L)
     memset(&sp, 0, sizeof sp);
     sp.dim = d;
     sp.mass = pfl_field_mass(L, 1, "thermal");
-    pfl_field_vector(L, 1, "trap", d, sp.omega, 1);
+    /* Trap angular frequencies as the state builders spell them: omega
+     * (rad/s) or frequency (Hz). */
+    int has_omega = pfl_field_vector_of(L, 1, "omega", d, sp.omega, 0, 1);
+    double f[PF_MAX_DIM];
+    int has_frequency = pfl_field_vector_of(L, 1, "frequency", d, f, 0, 1);
+    if (has_omega == has_frequency)
+        return luaL_error(L, "thermal: give exactly one of 'omega' (rad/s) or 'frequency' (Hz), per axis");
+    if (has_frequency)
+        for (int a = 0; a < d; a++) sp.omega[a] = 2 * PF_PI * f[a];
     sp.temperature = pfl_field_number(L, 1, "temperature", 0, 1);
     double center[PF_MAX_DIM] = {0, 0, 0}, drift[PF_MAX_DIM] = {0, 0, 0};
     pfl_field_vector(L, 1, "center", d, center, 0);

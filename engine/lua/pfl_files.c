@@ -21,7 +21,7 @@ static const pfl_options_decl WRITE_CSV_OPTIONS = {"pf.write_csv", (const char *
 static const pfl_options_decl WRITE_CSV_COLUMN = {"pf.write_csv columns[i]", (const char *const[]){"name", "unit", "values", NULL}};
 static const pfl_options_decl PUT_TABLE_COLUMN = {"h5file:put_table columns[i]", (const char *const[]){"name", "unit", "values", NULL}};
 static const pfl_options_decl LOAD_WAVE_OPTIONS = {
-    "pf.load_wave", (const char *const[]){"item", "dataset", "real", "imag", "axes", "representation", "grid", "mass",
+    "pf.load_wave", (const char *const[]){"item", "dataset", "real", "imag", "axes", "space", "grid", "mass",
                                           "interpolate", "normalize", NULL}};
 
 #define PFL_H5_TYPE "psiflight.h5file"
@@ -462,7 +462,7 @@ static pf_grid *grid_from_samples(lua_State *L, const pf_samples *s, const char 
 }
 
 /* pf.load_wave(path, {item= | dataset= | real=, imag=, axes={...},
- *   representation=, grid=, mass=, interpolate=false, normalize=}) -> wave */
+ *   space=, grid=, mass=, interpolate=false, normalize=}) -> wave */
 static int l_load_wave(lua_State *L)
 {
     const char *path = luaL_checkstring(L, 1);
@@ -482,9 +482,9 @@ static int l_load_wave(lua_State *L)
     pf_samples *s = &sb->s;
     int csv = ends_with(path, ".csv") || ends_with(path, ".CSV") || ends_with(path, ".txt");
     int rep = -1;
-    const char *rs = opt_string(L, 2, "representation");
+    const char *rs = opt_string(L, 2, "space");
     if (rs) rep = !strcmp(rs, "momentum") ? PF_MOMENTUM : !strcmp(rs, "position") ? PF_POSITION : -2;
-    if (rep == -2) return luaL_error(L, "load_wave: field 'representation' must be \"position\" or \"momentum\", got '%s'", rs);
+    if (rep == -2) return luaL_error(L, "load_wave: field 'space' must be \"position\" or \"momentum\", got '%s'", rs);
     if (csv) {
         read_csv_samples(L, path, s);
     } else {

@@ -62,6 +62,24 @@ void pfl_options_where(lua_State *L, int level)
     lua_pushliteral(L, "");
 }
 
+/* Spellings the API once used or that a user may reach for, each refused
+ * in favour of the one spelling of its concept.  Listed because the edit
+ * distance alone would not suggest the preferred word. */
+static const struct {
+    const char *refused, *preferred;
+} ONE_SPELLING[] = {
+    {"centre", "center"},       /* British spelling; the API spells center */
+    {"representation", "space"}, /* position or momentum: 'space' everywhere */
+    {"trap", "omega"},           /* trap angular frequency, as the state builders spell it */
+};
+
+static int declared(const char *const *keys, const char *key)
+{
+    for (const char *const *k = keys; *k; k++)
+        if (strcmp(*k, key) == 0) return 1;
+    return 0;
+}
+
 /* Raises the error for an unknown key at the stack top, placed at level. */
 static void unknown_key(lua_State *L, const char *function, const char *const *keys, int level)
 {
@@ -72,10 +90,13 @@ static void unknown_key(lua_State *L, const char *function, const char *const *k
         int d = pf_edit_distance(key, *k);
         if (d < best) best = d, near = *k;
     }
+    for (size_t i = 0; i < sizeof ONE_SPELLING / sizeof ONE_SPELLING[0]; i++)
+        if (strcmp(key, ONE_SPELLING[i].refused) == 0 && declared(keys, ONE_SPELLING[i].preferred))
+            near = ONE_SPELLING[i].preferred, best = 0;
     char shown[80];
     snprintf(shown, sizeof shown, "%.60s%s", key, strlen(key) > 60 ? "..." : "");
     pfl_options_where(L, level);
-    if (near && close_enough(key, best)) {
+    if (near && (best == 0 || close_enough(key, best))) {
         lua_pushfstring(L, "%s: unknown option '%s' (did you mean '%s'?)", function, shown, near);
     } else {
         luaL_Buffer b;
@@ -118,10 +139,7 @@ static void check_keys(lua_State *L, int idx, const char *function, const char *
             raise_at(L, level, "%s: option names must be strings, got the key %s", function,
                      pfl_describe(L, -1, buf, sizeof buf));
         }
-        const char *key = lua_tostring(L, -1);
-        const char *const *k = keys;
-        while (*k && strcmp(*k, key) != 0) k++;
-        if (!*k) unknown_key(L, function, keys, level);
+        if (!declared(keys, lua_tostring(L, -1))) unknown_key(L, function, keys, level);
     }
 }
 

@@ -11,7 +11,7 @@
 #include "pfl_options.h"
 
 static const pfl_options_decl MAP_OPTIONS = {
-    "pf.picture_map", (const char *const[]){"title", "representation", "aspect", "width", "height", "overwrite", NULL}};
+    "pf.picture_map", (const char *const[]){"title", "space", "aspect", "width", "height", "overwrite", NULL}};
 static const pfl_options_decl LINES_OPTIONS = {
     "pf.picture_lines", (const char *const[]){"title", "x_name", "x_quantity", "y_name", "y_unit", "y_per_x", "log_y",
                                               "legend", "width", "height", "series", "overwrite", NULL}};
@@ -48,10 +48,10 @@ static const char *opt_str(lua_State *L, int opts, const char *field, const char
 
 static pf_rep opt_rep(lua_State *L, int opts, const char *fname)
 {
-    const char *r = opt_str(L, opts, "representation", "position");
+    const char *r = opt_str(L, opts, "space", "position");
     if (!strcmp(r, "position")) return PF_POSITION;
     if (!strcmp(r, "momentum")) return PF_MOMENTUM;
-    luaL_error(L, "%s: field 'representation' must be \"position\" or \"momentum\", got '%s'", fname, r);
+    luaL_error(L, "%s: field 'space' must be \"position\" or \"momentum\", got '%s'", fname, r);
     return PF_POSITION;
 }
 
@@ -79,7 +79,7 @@ static int aspect_option(lua_State *L, int opts)
     return luaL_error(L, "picture_map: field 'aspect' must be \"equal\" or \"fill\", got '%s'", a);
 }
 
-/* pf.picture_map(path, w [, {title=, representation=, aspect="equal"|"fill",
+/* pf.picture_map(path, w [, {title=, space=, aspect="equal"|"fill",
  *   width=, height=}])
  * -> final path.  2D: |psi|^2 over x, y; 3D: the column density along the
  * third axis (what an absorption image along z records). */

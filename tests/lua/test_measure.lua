@@ -138,7 +138,7 @@ check.near(removed, 0.25 * ra + 0.75 * rb, 1e-12, "mixture removes the weighted 
 local omega = 2 * math.pi * 100
 local T = hbar * omega / (0.05 * kB)
 local gt = pf.grid{points = 1024, span = 200e-6}
-local th = pf.thermal{grid = gt, mass = "87Rb", trap = omega, temperature = T, nodes = 2}
+local th = pf.thermal{grid = gt, mass = "87Rb", omega = omega, temperature = T, nodes = 2}
 check.equal(th:count(), 4, "2 Gauss-Hermite nodes per quadrature in 1D")
 local v0 = th:position_variance()
 local coth = 1 / math.tanh(hbar * omega / (2 * kB * T))
@@ -155,7 +155,7 @@ check.close(wsum, 1, 1e-14, "posterior weights sum to 1", "Bayes' rule")
 -- pointwise, and expands as sigma^2 (1 + (w t)^2).
 local om2, T2 = 2 * math.pi * 150, 20e-9
 local ge = pf.grid{points = 2048, span = 160e-6}
-local eig = pf.thermal{grid = ge, mass = "41K", trap = om2, temperature = T2, method = "eigenstates", tolerance = 1e-9}
+local eig = pf.thermal{grid = ge, mass = "41K", omega = om2, temperature = T2, method = "eigenstates", tolerance = 1e-9}
 local mk = pf.mass("41K")
 local ve = hbar / (2 * mk * om2) / math.tanh(hbar * om2 / (2 * kB * T2))
 local de, worst = eig:distribution(), 0
@@ -179,7 +179,7 @@ local function nd(y, c, v) return math.exp(-(y - c) ^ 2 / (2 * v)) / math.sqrt(2
 local da, db = nd(0, -10e-6, 9e-12 + 4e-12), nd(0, 15e-6, 16e-12 + 4e-12)
 check.near(pdens, 0.25 * da + 0.75 * db, 1e-8, "mixture outcome density", "sum of Gaussian convolutions")
 check.near(pm:weight(1), 0.25 * da / (0.25 * da + 0.75 * db), 1e-8, "posterior weight", "Bayes' rule")
-check.fails(function() pf.thermal{grid = gt, mass = "87Rb", trap = omega, temperature = -1} end,
+check.fails(function() pf.thermal{grid = gt, mass = "87Rb", omega = omega, temperature = -1} end,
   "negative temperature refused", "temperature")
 
 -- Bad input names the argument and the value.

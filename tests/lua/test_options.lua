@@ -229,7 +229,7 @@ check.fails(function() pf.grid{points = 8, spn = 1} end, "grid spn", "unknown op
 check.fails(function() pf.grid{points = 8, span = 1, orgin = 0} end, "grid orgin", "did you mean 'origin'?")
 check.fails(function() pf.wave(g1, {mass = 1e-25, postion = function() return 1 end}) end, "wave postion",
   "did you mean 'position'?")
-check.fails(function() pf.thermal{grid = g1, mass = "87Rb", trap = 600, temprature = 1e-7} end, "thermal temprature",
+check.fails(function() pf.thermal{grid = g1, mass = "87Rb", omega = 600, temprature = 1e-7} end, "thermal temprature",
   "did you mean 'temperature'?")
 check.fails(function() w1:arrival_times{at = 0, to = 1e-3, bogus = 1} end, "arrival_times bogus", "unknown option 'bogus'")
 check.fails(function() w1:fringes{perod = 1e-6} end, "fringes perod", "did you mean 'period'?")
@@ -244,12 +244,20 @@ check.fails(function() pf.grid_advice{mass = 1e-25, time = 1e-3, width = 1e-6, c
   "grid_advice centre refused", "pf.grid_advice: unknown option 'centre' (did you mean 'center'?)")
 check.fails(function() pf.gaussian(g1, {mass = "87Rb", width = 4e-6, centre = 0}) end, "gaussian centre refused",
   "did you mean 'center'?")
+check.fails(function() pf.load_wave(csv, {representation = "position"}) end, "load_wave representation refused",
+  "pf.load_wave: unknown option 'representation' (did you mean 'space'?)")
+check.fails(function() pf.picture_map("x.png", w2, {representation = "momentum"}) end,
+  "picture_map representation refused", "did you mean 'space'?")
+check.fails(function() pf.thermal{grid = g1, mass = "87Rb", trap = 600, temperature = 1e-7} end,
+  "thermal trap refused", "pf.thermal: unknown option 'trap' (did you mean 'omega'?)")
+-- No declared set uses a refused spelling, anywhere in the API.
+local refused = {centre = "center", representation = "space", trap = "omega"}
 for name, keys in pairs(sets) do
   for _, k in ipairs(keys) do
-    if k:find("centre", 1, true) then error(name .. " declares the spelling '" .. k .. "'; the API spells 'center'", 0) end
+    if refused[k] then error(name .. " declares '" .. k .. "'; the API spells '" .. refused[k] .. "'", 0) end
   end
 end
-check.truthy(true, "no option set spells 'centre'")
+check.truthy(true, "no option set uses a refused spelling (centre, representation, trap)")
 
 -- Keys are strings; option tables are plain tables.
 check.fails(function() pf.grid{8, span = 1} end, "positional entry in an options table", here,

@@ -106,7 +106,7 @@ check.equal(log[#log].kind, "load", "loading is recorded in the step log")
 
 -- phi(k) on its own: the free-flight phase is exact, so phi loaded from the
 -- file must reproduce the state at every k.
-local from_phi = pf.load_wave(path, {item = "cloud", representation = "momentum", grid = g})
+local from_phi = pf.load_wave(path, {item = "cloud", space = "momentum", grid = g})
 worst = 0
 for i = 1, g:points(1) do worst = math.max(worst, (from_phi:phi(i) - w:phi(i)):abs()) end
 local scale = w:phi(g:points(1) // 2 + 1):abs()
@@ -190,7 +190,7 @@ check.fails(function() pf.picture_lines("l.png", {series = {{x = {1, 2}, y = {1}
 check.fails(function() pf.picture_carpet("c.png", w, {duration = -1}) end, "carpet duration checked", "positive")
 local g2d = pf.grid{points = {16, 16, 8}, span = {20e-6, 20e-6, 10e-6}}
 local w3 = pf.wave(g2d, {mass = mass, position = function(x, y, z) return math.exp(-(x * x + y * y + z * z) / 2e-11) end})
-check.truthy(pf.picture_map("col.png", w3, {representation = "momentum", width = 400, height = 300}),
+check.truthy(pf.picture_map("col.png", w3, {space = "momentum", width = 400, height = 300}),
   "3D state: column-density map in momentum space")
 
 -- ---- results ----

@@ -42,7 +42,7 @@ end
 -- (textbook Gaussian transform with the convention of docs/conventions.md).
 -- The tolerance allows for the periodic images of the packet in the 64 um
 -- box: exp(-(31 um - x0)^2 / 4 sigma^2) ~ 1e-11 of the peak.
-local w = pf.load_wave(file, {dataset = "phi", axes = {"k"}, representation = "momentum", grid = g, mass = mass})
+local w = pf.load_wave(file, {dataset = "phi", axes = {"k"}, space = "momentum", grid = g, mass = mass})
 local worst = worst_against_formula(w)
 check.truthy(worst <= 1e-9 * peak, string.format("h5py phi(k) loads and gives the packet psi(x) (max diff %.1e)", worst))
 -- 2D: psi(x) times (2 pi sy^2)^(-1/4) exp(-y^2 / 4 sy^2), sy = 1.5 um.
