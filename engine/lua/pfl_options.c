@@ -16,7 +16,7 @@ static const char DECLS_SLOT = 'D';   /* function name -> light userdata decl */
 static const char CHECKED_SLOT = 'C'; /* weak keys: checked table -> light userdata decl */
 #define DECLS_KEY (&DECLS_SLOT)
 #define CHECKED_KEY (&CHECKED_SLOT)
-#define MAX_LUA_KEYS 64                         /* keys a recipe may declare (pf.check_options) */
+#define MAX_LUA_KEYS 64 /* keys a recipe may declare (pf.check_options) */
 
 /* Pushes the registry table stored under slot, creating it (weak keys when
  * weak) on first use. */
@@ -113,6 +113,7 @@ static void unknown_key(lua_State *L, const char *function, const char *const *k
     lua_error(L);
 }
 
+/* Raises fmt (one or two %s: a, then b) at the script line of level. */
 static void raise_at(lua_State *L, int level, const char *fmt, const char *a, const char *b)
 {
     pfl_options_where(L, level);
@@ -130,7 +131,7 @@ static void check_keys(lua_State *L, int idx, const char *function, const char *
         raise_at(L, level, "%s: options must be a table, got %s", function, pfl_describe(L, idx, buf, sizeof buf));
     }
     if (lua_getmetatable(L, idx))
-        raise_at(L, level, "%s: the options table must be a plain table (this one has a metatable)%s", function, "");
+        raise_at(L, level, "%s: the options table must be a plain table (this one has a metatable)", function, NULL);
     lua_pushnil(L);
     while (lua_next(L, idx)) {
         lua_pop(L, 1);
@@ -183,9 +184,8 @@ int pfl_option_get(lua_State *L, int t, const char *key)
     /* Both failures are bugs in the binding, not in the script: reading a
      * table nobody checked, or a key its declaration does not list. */
     if (!decl) luaL_error(L, "internal error: option '%s' read from a table that was not checked", key);
-    const char *const *k = decl->keys;
-    while (*k && strcmp(*k, key) != 0) k++;
-    if (!*k) luaL_error(L, "%s: internal error: option '%s' is read but not declared", decl->function, key);
+    if (!declared(decl->keys, key))
+        luaL_error(L, "%s: internal error: option '%s' is read but not declared", decl->function, key);
     lua_pushstring(L, key);
     return lua_rawget(L, t);
 }
@@ -212,7 +212,7 @@ static int l_check_options(lua_State *L)
     const char *function = luaL_checkstring(L, 2);
     luaL_checktype(L, 3, LUA_TTABLE);
     const char *keys[MAX_LUA_KEYS + 1];
-    lua_Integer n = luaL_len(L, 3);
+    lua_Integer n = (lua_Integer)lua_rawlen(L, 3);
     if (n > MAX_LUA_KEYS) return luaL_error(L, "check_options: at most %d keys, got %d", MAX_LUA_KEYS, (int)n);
     for (lua_Integer i = 1; i <= n; i++) {
         if (lua_rawgeti(L, 3, i) != LUA_TSTRING) return luaL_error(L, "check_options: key %d must be a string", (int)i);
