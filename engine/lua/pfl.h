@@ -97,6 +97,10 @@ int pfl_record_finish(lua_State *L, int ok, const char *error, int nsets, char *
 double *pfl_scratch_doubles(lua_State *L, size_t n);
 
 /* ---- argument helpers (pfl_args.c) ---- */
+/* Like lua_tointegerx, but only for a number value (a numeric string such
+ * as "3" is not an integer option): *ok (may be NULL) says whether the value
+ * is an integer; returns 0 when it is not. */
+lua_Integer pfl_tointegerx(lua_State *L, int idx, int *ok);
 /* A finite number at arg, else an argument error naming what it is. */
 double pfl_check_finite(lua_State *L, int arg, const char *what);
 /* A finite number > 0 at arg. */

@@ -46,6 +46,14 @@ static int field_error(lua_State *L, const char *fmt, const char *field, const c
     return luaL_error(L, "%s: %s", pfl_caller_name(L), msg);
 }
 
+lua_Integer pfl_tointegerx(lua_State *L, int idx, int *ok)
+{
+    int isint = 0;
+    lua_Integer v = lua_type(L, idx) == LUA_TNUMBER ? lua_tointegerx(L, idx, &isint) : 0;
+    if (ok) *ok = isint;
+    return isint ? v : 0;
+}
+
 double pfl_check_finite(lua_State *L, int arg, const char *what)
 {
     char buf[80], msg[200];
@@ -142,7 +150,7 @@ int pfl_opt_axis(lua_State *L, int opts, const char *field, int dim, int def)
     int a = def;
     if (pfl_option_get(L, opts, field) != LUA_TNIL) {
         int ok;
-        lua_Integer v = lua_tointegerx(L, -1, &ok);
+        lua_Integer v = pfl_tointegerx(L, -1, &ok);
         if (!ok || v < 1 || v > dim) {
             char buf[64];
             luaL_error(L, "%s: field '%s' must be an axis 1..%d, got %s", pfl_caller_name(L), field, dim,
@@ -169,7 +177,7 @@ lua_Integer pfl_field_integer(lua_State *L, int t, const char *field, lua_Intege
         return def;
     }
     int ok;
-    lua_Integer v = lua_tointegerx(L, -1, &ok);
+    lua_Integer v = pfl_tointegerx(L, -1, &ok);
     if (!ok || v < min) {
         char buf[80];
         luaL_error(L, "%s: field '%s' must be an integer of at least %d, got %s", name, field, (int)min,

@@ -33,14 +33,14 @@ static int l_camera(lua_State *L)
     int t = pfl_option_get(L, 1, "pixels");
     if (t == LUA_TNUMBER) {
         b->cam.dim = 1;
-        b->cam.pixels[0] = (size_t)lua_tointeger(L, -1);
+        b->cam.pixels[0] = (size_t)pfl_tointegerx(L, -1, NULL);
     } else if (t == LUA_TTABLE) {
         int n = (int)luaL_len(L, -1);
         if (n < 1 || n > 2) return luaL_error(L, "camera: field 'pixels' must list 1 or 2 counts");
         b->cam.dim = n;
         for (int a = 0; a < n; a++) {
             lua_geti(L, -1, a + 1);
-            b->cam.pixels[a] = (size_t)lua_tointeger(L, -1);
+            b->cam.pixels[a] = (size_t)pfl_tointegerx(L, -1, NULL);
             lua_pop(L, 1);
         }
     } else {
@@ -68,7 +68,7 @@ static int l_camera(lua_State *L)
         return luaL_error(L, "camera: field 'efficiency' must be in (0, 1], got %f", b->efficiency);
     lua_Integer ia = 0;
     if (pfl_option_get(L, 1, "imaging_axis") != LUA_TNIL) {
-        ia = lua_tointeger(L, -1);
+        ia = pfl_tointegerx(L, -1, NULL);
         if (ia < 1 || ia > 3) return luaL_error(L, "camera: field 'imaging_axis' must be 1..3");
     }
     lua_pop(L, 1);

@@ -97,8 +97,12 @@ static int l_marginal(lua_State *L)
     lua_Integer n = luaL_len(L, -1);
     for (lua_Integer i = 1; i <= n; i++) {
         lua_geti(L, -1, i);
-        lua_Integer a = lua_tointeger(L, -1);
-        if (a < 1 || a > d) return luaL_error(L, "marginal: axis %d is not 1..%d", (int)a, d);
+        lua_Integer a = pfl_tointegerx(L, -1, NULL);
+        if (a < 1 || a > d) {
+            char buf[64];
+            return luaL_error(L, "marginal: entry %d of 'axes' must be an axis 1..%d, got %s", (int)i, d,
+                              pfl_describe(L, -1, buf, sizeof buf));
+        }
         keep[a - 1] = 1;
         lua_pop(L, 1);
     }
@@ -135,8 +139,12 @@ static int l_slice(lua_State *L)
     lua_Integer n = luaL_len(L, -1);
     for (lua_Integer i = 1; i <= n; i++) {
         lua_geti(L, -1, i);
-        lua_Integer a = lua_tointeger(L, -1);
-        if (a < 1 || a > d) return luaL_error(L, "slice: axis %d is not 1..%d", (int)a, d);
+        lua_Integer a = pfl_tointegerx(L, -1, NULL);
+        if (a < 1 || a > d) {
+            char buf[64];
+            return luaL_error(L, "slice: entry %d of 'axes' must be an axis 1..%d, got %s", (int)i, d,
+                              pfl_describe(L, -1, buf, sizeof buf));
+        }
         freeax[a - 1] = 1;
         lua_pop(L, 1);
     }

@@ -78,7 +78,7 @@ static int l_grid(lua_State *L)
     for (int a = 0; a < dim; a++) {
         lua_geti(L, -1, a + 1);
         int ok;
-        lua_Integer n = lua_tointegerx(L, -1, &ok);
+        lua_Integer n = pfl_tointegerx(L, -1, &ok);
         if (!ok || n < 2)
             return luaL_error(L, "grid: points on axis %d must be an integer of at least 2, got %s", a + 1,
                               pfl_describe(L, -1, buf, sizeof buf));

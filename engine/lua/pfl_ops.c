@@ -177,7 +177,7 @@ static int l_aperture(lua_State *L)
             for (int i = 0; i < 2; i++) {
                 lua_geti(L, -1, i + 1);
                 int ok;
-                lua_Integer a = lua_tointegerx(L, -1, &ok);
+                lua_Integer a = pfl_tointegerx(L, -1, &ok);
                 if (!ok || a < 1 || a > d)
                     return luaL_error(L, "aperture: field 'axes' entry %d must be an axis 1..%d", i + 1, d);
                 axes[i] = (int)a - 1;

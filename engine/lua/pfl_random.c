@@ -49,7 +49,7 @@ pf_rng *pfl_opt_rng(lua_State *L, int opts, pf_rng *local)
     lua_pop(L, 1);
     if (pfl_option_get(L, opts, "seed") != LUA_TNIL) {
         int ok;
-        lua_Integer s = lua_tointegerx(L, -1, &ok);
+        lua_Integer s = pfl_tointegerx(L, -1, &ok);
         if (!ok || s < 0) {
             char buf[64];
             luaL_error(L, "%s: field 'seed' must be a non-negative integer, got %s", pfl_caller_name(L),
@@ -70,10 +70,10 @@ static int l_random(lua_State *L)
     if (!lua_isnoneornil(L, 1)) {
         pfl_options_check(L, 1, &RANDOM_OPTIONS);
         int ok = 1;
-        if (pfl_option_get(L, 1, "seed") != LUA_TNIL) seed = lua_tointegerx(L, -1, &ok);
+        if (pfl_option_get(L, 1, "seed") != LUA_TNIL) seed = pfl_tointegerx(L, -1, &ok);
         if (!ok || seed < 0) return luaL_error(L, "random: field 'seed' must be a non-negative integer");
         lua_pop(L, 1);
-        if (pfl_option_get(L, 1, "stream") != LUA_TNIL) stream = lua_tointegerx(L, -1, &ok);
+        if (pfl_option_get(L, 1, "stream") != LUA_TNIL) stream = pfl_tointegerx(L, -1, &ok);
         if (!ok || stream < 0) return luaL_error(L, "random: field 'stream' must be a non-negative integer");
         lua_pop(L, 1);
     }

@@ -230,7 +230,7 @@ static int l_momentum_orders(lua_State *L)
         pfl_options_check(L, e, &ORDER_OPTIONS);
         int ok;
         pfl_option_get(L, e, "n");
-        lua_Integer n = lua_tointegerx(L, -1, &ok);
+        lua_Integer n = pfl_tointegerx(L, -1, &ok);
         if (!ok) return luaL_error(L, "%s: orders entry %d needs an integer 'n', got %s", fname, (int)i, pfl_describe(L, -1, buf, sizeof buf));
         lua_pop(L, 1);
         double complex amp = 1.0;

@@ -286,6 +286,13 @@ check.equal(pf.run_info().memory_cap, cap, "memory cap unchanged after the refus
 check.fails(function() pf.setup{strict = "yes"} end, "strict must be a boolean", here, "strict", "true or false")
 check.fails(function() pf.setup{seed = "7"} end, "seed as a string refused", here, "seed", "'7'")
 check.fails(function() pf.setup{planning = 1} end, "planning must be a string", here, "planning", "got 1")
+-- Numeric strings are not numbers in any options table.
+check.fails(function() pf.grid{points = "64", span = 1e-4} end, "grid points as a string refused", here, "points", "'64'")
+check.fails(function() pf.random{seed = "3"} end, "random seed as a string refused", "seed")
+check.fails(function() w1:copy():slits{count = "2", width = 1e-6, pitch = 4e-6} end, "slits count as a string refused",
+  "count", "'2'")
+check.fails(function() w1:copy():grating{depth = 1, period = 1e-6, axis = "1"} end, "axis as a string refused", "axis")
+check.fails(function() w2:marginal{axes = {"1"}} end, "marginal axes as strings refused", "axis")
 -- Nothing is applied when one field is bad.
 local seed = pf.run_info().seed
 check.fails(function() pf.setup{seed = seed + 5, threads = 0} end, "bad threads refuses the whole call", "threads")
