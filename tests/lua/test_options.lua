@@ -297,6 +297,9 @@ check.fails(function() w2:marginal{axes = {"1"}} end, "marginal axes as strings 
 local seed = pf.run_info().seed
 check.fails(function() pf.setup{seed = seed + 5, threads = 0} end, "bad threads refuses the whole call", "threads")
 check.equal(pf.run_info().seed, seed, "seed not applied when another field was bad")
+check.fails(function() pf.setup{seed = seed + 5, guard_threshold = -1} end, "bad guard threshold refuses the whole call",
+  "guard_threshold")
+check.equal(pf.run_info().seed, seed, "seed not applied when a field checked after it was bad")
 
 -- The same checker for Lua code (the bundled recipes).
 check.fails(function() pf.check_options({tof = 1, pixle = 2}, "demo.run", {"tof", "pixel"}, 1) end,
