@@ -114,6 +114,12 @@ double pfl_field_number(lua_State *L, int t, const char *field, double def, int 
 int pfl_field_vector(lua_State *L, int t, const char *field, int dim, double *out, int required);
 /* The same with positive = 1 requiring every value > 0 (widths, radii). */
 int pfl_field_vector_of(lua_State *L, int t, const char *field, int dim, double *out, int required, int positive);
+/* Field 'space' ("position" or "momentum"): sets *rep and returns 1 when
+ * given, returns 0 when absent; any other value is an error. */
+int pfl_field_space(lua_State *L, int t, pf_rep *rep);
+/* The 'space' option of an optional options table (0: none): position by
+ * default. */
+pf_rep pfl_opt_space(lua_State *L, int opts);
 /* Optional boolean field. */
 int pfl_field_boolean(lua_State *L, int t, const char *field, int def);
 /* Name of the Lua function being called (for error messages), as

@@ -187,6 +187,30 @@ lua_Integer pfl_field_integer(lua_State *L, int t, const char *field, lua_Intege
     return v;
 }
 
+int pfl_field_space(lua_State *L, int t, pf_rep *rep)
+{
+    int type = pfl_option_get(L, t, "space");
+    const char *s = type == LUA_TSTRING ? lua_tostring(L, -1) : "";
+    if (type != LUA_TNIL) {
+        if (strcmp(s, "position") == 0) *rep = PF_POSITION;
+        else if (strcmp(s, "momentum") == 0) *rep = PF_MOMENTUM;
+        else {
+            char buf[80];
+            field_error(L, "field '%s' must be \"position\" or \"momentum\", got %s", "space",
+                        pfl_describe(L, -1, buf, sizeof buf));
+        }
+    }
+    lua_pop(L, 1);
+    return type != LUA_TNIL;
+}
+
+pf_rep pfl_opt_space(lua_State *L, int opts)
+{
+    pf_rep rep = PF_POSITION;
+    if (opts) pfl_field_space(L, opts, &rep);
+    return rep;
+}
+
 int pfl_field_boolean(lua_State *L, int t, const char *field, int def)
 {
     int type = pfl_option_get(L, t, field);

@@ -481,10 +481,8 @@ static int l_load_wave(lua_State *L)
     lua_setmetatable(L, -2);
     pf_samples *s = &sb->s;
     int csv = ends_with(path, ".csv") || ends_with(path, ".CSV") || ends_with(path, ".txt");
-    int rep = -1;
-    const char *rs = opt_string(L, 2, "space");
-    if (rs) rep = !strcmp(rs, "momentum") ? PF_MOMENTUM : !strcmp(rs, "position") ? PF_POSITION : -2;
-    if (rep == -2) return luaL_error(L, "load_wave: field 'space' must be \"position\" or \"momentum\", got '%s'", rs);
+    pf_rep given = PF_POSITION;
+    int rep = pfl_field_space(L, 2, &given) ? (int)given : -1; /* -1: as the file says */
     if (csv) {
         read_csv_samples(L, path, s);
     } else {

@@ -50,22 +50,6 @@ double *pfl_check_doubles(lua_State *L, int idx, size_t *n, const char *what)
     return v;
 }
 
-pf_rep pfl_opt_space(lua_State *L, int opts)
-{
-    if (!opts) return PF_POSITION;
-    pf_rep rep = PF_POSITION;
-    if (pfl_option_get(L, opts, "space") != LUA_TNIL) {
-        const char *s = lua_tostring(L, -1);
-        if (s && strcmp(s, "momentum") == 0) rep = PF_MOMENTUM;
-        else if (!s || strcmp(s, "position") != 0) {
-            char buf[64];
-            luaL_error(L, "%s: field 'space' must be \"position\" or \"momentum\", got %s", pfl_caller_name(L),
-                       pfl_describe(L, -1, buf, sizeof buf));
-        }
-    }
-    lua_pop(L, 1);
-    return rep;
-}
 
 
 void pfl_push_field(lua_State *L, const pf_field *f, pf_rep rep, double mass, const char *unit, double lab_scale,

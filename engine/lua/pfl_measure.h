@@ -42,8 +42,6 @@ pf_rng *pfl_opt_rng(lua_State *L, int opts, pf_rng *local);
  * evaluated once per grid and cached). */
 void pfl_check_region(lua_State *L, int arg, pf_grid *g, pf_region *out);
 
-/* Reads the 'space' option ("position" default, or "momentum"). */
-pf_rep pfl_opt_space(lua_State *L, int opts);
 /* Pushes a distribution table for field f (see docs/measurements.md):
  * values, shape, axes, axis_unit, unit, space, momentum_axes (momentum
  * only) and a 'lab' sub-table.  mass converts wave numbers to velocities for

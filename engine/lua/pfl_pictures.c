@@ -46,13 +46,9 @@ static const char *opt_str(lua_State *L, int opts, const char *field, const char
     return s;
 }
 
-static pf_rep opt_rep(lua_State *L, int opts, const char *fname)
+static pf_rep opt_rep(lua_State *L, int opts)
 {
-    const char *r = opt_str(L, opts, "space", "position");
-    if (!strcmp(r, "position")) return PF_POSITION;
-    if (!strcmp(r, "momentum")) return PF_MOMENTUM;
-    luaL_error(L, "%s: field 'space' must be \"position\" or \"momentum\", got '%s'", fname, r);
-    return PF_POSITION;
+    return pfl_opt_space(L, lua_type(L, opts) == LUA_TTABLE ? opts : 0);
 }
 
 /* Axis coordinates in reading order (momentum: ascending k). */
@@ -93,7 +89,7 @@ static int l_picture_map(lua_State *L)
     int d = pf_grid_dim(g);
     if (d < 2) return luaL_error(L, "picture_map: needs a 2D or 3D wave function; for 1D use picture_lines or picture_carpet");
     pfl_options_opt(L, 3, &MAP_OPTIONS);
-    pf_rep rep = opt_rep(L, 3, "picture_map");
+    pf_rep rep = opt_rep(L, 3);
     size_t nx = pf_grid_points(g, 0), ny = pf_grid_points(g, 1), nz = d > 2 ? pf_grid_points(g, 2) : 1;
     double *rho = pfl_scratch_doubles(L, pf_grid_total(g));
     pfl_check(L, pf_wave_density(w, rep, rho), "picture_map");

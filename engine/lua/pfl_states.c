@@ -395,13 +395,7 @@ static int l_sampled(lua_State *L)
     int d = pf_grid_dim(g);
     double mass = pfl_field_mass(L, 2, fname);
     pf_rep rep = PF_POSITION;
-    if (pfl_option_get(L, 2, "space") != LUA_TNIL) {
-        const char *s = lua_tostring(L, -1);
-        if (lua_type(L, -1) == LUA_TSTRING && strcmp(s, "position") == 0) rep = PF_POSITION;
-        else if (lua_type(L, -1) == LUA_TSTRING && strcmp(s, "momentum") == 0) rep = PF_MOMENTUM;
-        else return luaL_error(L, "%s: field 'space' must be \"position\" or \"momentum\", got %s", fname, pfl_describe(L, -1, buf, sizeof buf));
-    }
-    lua_pop(L, 1);
+    pfl_field_space(L, 2, &rep);
     pf_interp method = PF_INTERP_LINEAR;
     if (pfl_option_get(L, 2, "interpolation") != LUA_TNIL) {
         const char *s = lua_tostring(L, -1);

@@ -293,6 +293,10 @@ check.fails(function() w1:copy():slits{count = "2", width = 1e-6, pitch = 4e-6} 
   "count", "'2'")
 check.fails(function() w1:copy():grating{depth = 1, period = 1e-6, axis = "1"} end, "axis as a string refused", "axis")
 check.fails(function() w2:marginal{axes = {"1"}} end, "marginal axes as strings refused", "axis")
+-- One reader for 'space' everywhere: the same refusal of a bad value.
+check.fails(function() w1:distribution{space = "momentun"} end, "distribution space value", "field 'space'", "'momentun'")
+check.fails(function() pf.picture_map("x.png", w2, {space = "k"}) end, "picture_map space value", "field 'space'", "'k'")
+check.fails(function() pf.load_wave(csv, {space = 2}) end, "load_wave space value", "field 'space'", "got 2")
 -- Nothing is applied when one field is bad.
 local seed = pf.run_info().seed
 check.fails(function() pf.setup{seed = seed + 5, threads = 0} end, "bad threads refuses the whole call", "threads")
