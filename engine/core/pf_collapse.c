@@ -16,7 +16,7 @@ pf_status pf_wave_measure_region(pf_wave *w, const pf_region *reg, pf_rng *r, in
     if (forced < 0 && !r) return pf_fail(g->ctx, PF_EINVAL, "a drawn outcome needs a random generator");
     size_t bytes = g->total * sizeof(double);
     double *m = pf_alloc(g->ctx, bytes);
-    if (!m) return PF_ELIMIT;
+    if (!m) return pf_context_status(g->ctx);
     pf_status s = pf_region_weights(g, reg, m);
     if (s == PF_OK) s = pf_wave_to(w, PF_POSITION);
     if (s) {

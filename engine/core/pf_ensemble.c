@@ -35,7 +35,7 @@ pf_status pf_mixture_field(const pf_mixture *m, pf_rep rep, pf_field *out)
     double *scratch = pf_alloc(g->ctx, bytes);
     if (!scratch) {
         pf_field_free(out);
-        return PF_ELIMIT;
+        return pf_context_status(g->ctx);
     }
     for (size_t i = 0; i < m->count && !s; i++)
         if (m->weights[i] > 0) s = pf_field_add_density(out, m->members[i], rep, m->weights[i], scratch);

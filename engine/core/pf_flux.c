@@ -25,7 +25,7 @@ pf_status pf_wave_current(pf_wave *w, int axis, double *out)
     if (axis < 0 || axis >= g->dim) return pf_fail(g->ctx, PF_EINVAL, "current axis must be 1..%d", g->dim);
     size_t bytes = g->total * sizeof(double complex);
     double complex *d = pf_alloc(g->ctx, bytes);
-    if (!d) return PF_ELIMIT;
+    if (!d) return pf_context_status(g->ctx);
     pf_status s = pf_wave_to(w, PF_MOMENTUM);
     if (s) {
         pf_free(g->ctx, d, bytes);

@@ -137,7 +137,7 @@ pf_status pf_grid_plan(pf_grid *g)
     size_t bytes = pf_bytes(g->total, sizeof(double complex));
     /* Planning with FFTW_MEASURE overwrites its arrays, so plan on scratch. */
     double complex *scratch = pf_alloc(ctx, bytes);
-    if (!scratch) return PF_ELIMIT;
+    if (!scratch) return pf_context_status(ctx);
     int n[PF_MAX_DIM];
     for (int a = 0; a < g->dim; a++) n[a] = (int)g->n[a];
     unsigned flags = pf_context_prepare_planner(ctx);

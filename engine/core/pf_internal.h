@@ -21,9 +21,12 @@ struct pf_context {
     char *wisdom_path;
     int wisdom_loaded;
     size_t memory_cap, memory_used;
+    unsigned long allocations;  /* pf_context_alloc calls so far */
+    unsigned long fail_at;      /* fault injection: fail allocation number fail_at (0: off) */
     pf_warn_fn warn;
     void *warn_user;
     char message[1024];
+    pf_status status;           /* status of the last pf_fail, beside message */
     double guard_threshold;   /* grid guards (pf_guard.c); <= 0 means the default */
 };
 
@@ -122,9 +125,15 @@ struct pf_wave {
 };
 
 /* Engine allocation accounted against the context's memory cap, aligned for
- * FFTW (fftw_malloc).  Returns NULL and records the reason on failure. */
+ * FFTW (see pf_context_alloc).  Returns NULL on failure, with the reason in
+ * pf_context_status (PF_ELIMIT or PF_ENOMEM) and the message; callers return
+ * that status, never guess it from the text. */
 void *pf_alloc(pf_context *ctx, size_t bytes);
+/* bytes is what was asked for; the block's own header is what is discharged. */
 void pf_free(pf_context *ctx, void *p, size_t bytes);
+/* n elements of size each (overflow-checked: a product that overflows asks
+ * for 0 bytes, which fails as PF_ELIMIT). */
+#define PF_ALLOC_N(ctx, n, size) pf_alloc((ctx), pf_bytes((n), (size)))
 /* bytes = count * size with an overflow check; 0 on overflow. */
 size_t pf_bytes(size_t count, size_t size);
 

@@ -145,7 +145,7 @@ static pf_status sample_field(pf_wave *w, pf_rep rep, pf_sample_fn fn, void *use
     pf_grid *g = w->grid;
     size_t bytes = pf_bytes(g->total, sizeof(double complex));
     double complex *f = pf_alloc(g->ctx, bytes);
-    if (!f) return g->ctx->message[0] ? PF_ELIMIT : PF_ENOMEM;
+    if (!f) return pf_context_status(g->ctx);
     pf_status s = pf_grid_sample(g, rep, fn, user, NULL, f);
     if (s) {
         pf_free(g->ctx, f, bytes);
@@ -288,7 +288,7 @@ pf_status pf_wave_aperture_circle(pf_wave *w, int axis_a, int axis_b, const doub
         return pf_fail(g->ctx, PF_EINVAL, "center must be finite (m), got (%g, %g)", c0, c1);
     size_t bytes = pf_bytes(g->total, sizeof(double complex));
     double complex *f = pf_alloc(g->ctx, bytes);
-    if (!f) return g->ctx->message[0] ? PF_ELIMIT : PF_ENOMEM;
+    if (!f) return pf_context_status(g->ctx);
     double r2 = radius * radius * (1.0 + 2 * EDGE_EPS);
     size_t idx[PF_MAX_DIM];
     for (size_t off = 0; off < g->total; off++) {

@@ -75,7 +75,7 @@ pf_status pf_wave_energy(pf_wave *w, const double *potential, double g, double *
     if (settled) return settled;
     size_t bytes = pf_bytes(gr->total, sizeof(double complex));
     double complex *pos = pf_alloc(gr->ctx, 2 * bytes);
-    if (!pos) return gr->ctx->message[0] ? PF_ELIMIT : PF_ENOMEM;
+    if (!pos) return pf_context_status(gr->ctx);
     double complex *scratch = pos + gr->total;
     memcpy(pos, w->store, bytes);
     pf_status s = PF_OK;
@@ -133,7 +133,7 @@ pf_status pf_wave_relax(pf_wave *w, const pf_relax_spec *spec, pf_relax_info *in
     double complex *scratch = pf_alloc(ctx, bytes_c);
     double *factor = NULL;
     double complex *kin[PF_MAX_DIM] = {NULL, NULL, NULL};
-    if (!scratch) return ctx->message[0] ? PF_ELIMIT : PF_ENOMEM;
+    if (!scratch) return pf_context_status(ctx);
     double dt = spec->dt;
     if (dt <= 0) {
         /* Default: a twentieth of the time hbar / E of the starting state
@@ -154,7 +154,7 @@ pf_status pf_wave_relax(pf_wave *w, const pf_relax_spec *spec, pf_relax_info *in
     if (spec->g == 0) {
         factor = pf_alloc(ctx, bytes_r);
         if (!factor) {
-            s = ctx->message[0] ? PF_ELIMIT : PF_ENOMEM;
+            s = pf_context_status(ctx);
             goto done;
         }
         for (size_t i = 0; i < g->total; i++) factor[i] = exp(-(V[i] - vmin) * f);

@@ -142,7 +142,7 @@ static pf_status scaled_stage(pf_wave *w, const double *ta, pf_grid *gout, doubl
      * usual case, and the one the benchmark measures). */
     const int in_place = !padded && !cropped;
     double complex *out = in_place ? w->store : pf_alloc(ctx, bytes);
-    if (!out) return ctx->message[0] && strstr(ctx->message, "cap") ? PF_ELIMIT : PF_ENOMEM;
+    if (!out) return pf_context_status(ctx);
     size_t table_len = 0;
     for (int a = 0; a < d; a++) table_len += 2 * gout->n[a];
     double complex *tables = malloc(table_len * sizeof(double complex));

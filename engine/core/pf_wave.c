@@ -21,7 +21,7 @@ pf_status pf_wave_new(pf_grid *g, double mass, pf_wave **out)
     w->store = pf_alloc(ctx, data_bytes(g));
     if (!w->store) {
         free(w);
-        return ctx->message[0] && strstr(ctx->message, "cap") ? PF_ELIMIT : PF_ENOMEM;
+        return pf_context_status(ctx);
     }
     memset(w->store, 0, data_bytes(g));
     w->grid = g;
