@@ -86,14 +86,19 @@ pf_status pf_build_sampled(pf_wave *w, pf_rep rep, const size_t *counts, const d
         nn[a] = a < d ? g->n[a] : 1;
         offs[a + 1] = offs[a] + nn[a];
     }
-    long *lower = malloc(offs[PF_MAX_DIM] * sizeof *lower);
-    double *frac = malloc(offs[PF_MAX_DIM] * sizeof *frac);
-    double complex *y2 = method == PF_INTERP_CUBIC ? malloc(counts[0] * sizeof *y2) : NULL;
-    if (!lower || !frac || (method == PF_INTERP_CUBIC && (!y2 || !spline_second(axes[0], values, counts[0], y2)))) {
-        free(lower);
-        free(frac);
-        free(y2);
-        return pf_fail(g->ctx, PF_ENOMEM, "out of memory for interpolation tables");
+    long *lower = pf_alloc(g->ctx, offs[PF_MAX_DIM] * sizeof *lower);
+    double *frac = pf_alloc(g->ctx, offs[PF_MAX_DIM] * sizeof *frac);
+    double complex *y2 = method == PF_INTERP_CUBIC ? pf_alloc(g->ctx, counts[0] * sizeof *y2) : NULL;
+    pf_status failed = PF_OK;
+    if (!lower || !frac || (method == PF_INTERP_CUBIC && !y2))
+        failed = pf_context_status(g->ctx);
+    else if (method == PF_INTERP_CUBIC && !spline_second(axes[0], values, counts[0], y2))
+        failed = pf_fail(g->ctx, PF_ENOMEM, "out of memory for spline coefficients");
+    if (failed) {
+        pf_context_free(g->ctx, lower);
+        pf_context_free(g->ctx, frac);
+        pf_context_free(g->ctx, y2);
+        return failed;
     }
     for (int a = 0; a < PF_MAX_DIM; a++) {
         if (a >= d) {
@@ -146,9 +151,9 @@ pf_status pf_build_sampled(pf_wave *w, pf_rep rep, const size_t *counts, const d
                 }
                 data[off] = v;
             }
-    free(lower);
-    free(frac);
-    free(y2);
+    pf_context_free(g->ctx, lower);
+    pf_context_free(g->ctx, frac);
+    pf_context_free(g->ctx, y2);
     w->rep = rep;
     pf_status s;
     if (normalize && (s = pf_wave_normalize(w))) return s;

@@ -173,6 +173,16 @@ size_t pf_bytes(size_t count, size_t size)
  * after the first large free), so a script that builds and closes waves in a
  * loop would otherwise grow its resident memory without bound, unseen by the
  * cap.  Small blocks stay on the heap, where reuse is cheap. */
+/* "12.0 MiB" or "512 bytes": small blocks would all print as 0.0 MiB. */
+static const char *size_text(size_t bytes, char buf[32])
+{
+    if (bytes < ((size_t)1 << 20))
+        snprintf(buf, 32, "%zu bytes", bytes);
+    else
+        snprintf(buf, 32, "%.1f MiB", bytes / 1048576.0);
+    return buf;
+}
+
 #define BLOCK_ALIGN 64
 #define BLOCK_MAGIC 0x70736966u /* "psif": catches a free of a foreign pointer */
 
@@ -195,11 +205,12 @@ static size_t page_size(void)
 
 pf_status pf_context_charge(pf_context *ctx, size_t bytes)
 {
+    char b[32];
     if (bytes > ctx->memory_cap || ctx->memory_used > ctx->memory_cap - bytes)
         return pf_fail(ctx, PF_ELIMIT,
-                       "allocating %.1f MiB would exceed the memory cap of %.1f MiB (%.1f MiB in use); "
+                       "allocating %s would exceed the memory cap of %.1f MiB (%.1f MiB in use); "
                        "use fewer grid points or raise the cap",
-                       bytes / 1048576.0, ctx->memory_cap / 1048576.0, ctx->memory_used / 1048576.0);
+                       size_text(bytes, b), ctx->memory_cap / 1048576.0, ctx->memory_used / 1048576.0);
     ctx->memory_used += bytes;
     return PF_OK;
 }
@@ -231,8 +242,9 @@ void *pf_context_alloc(pf_context *ctx, size_t bytes)
     }
     ctx->allocations++;
     if (ctx->fail_at && ctx->allocations == ctx->fail_at) {
-        pf_fail(ctx, PF_ENOMEM, "out of memory allocating %.1f MiB (injected failure of engine allocation %lu)",
-                bytes / 1048576.0, ctx->allocations);
+        char b[32];
+        pf_fail(ctx, PF_ENOMEM, "out of memory allocating %s (injected failure of engine allocation %lu)",
+                size_text(bytes, b), ctx->allocations);
         return NULL;
     }
     if (bytes > SIZE_MAX - 2 * page_size() || pf_context_charge(ctx, bytes) != PF_OK) {
@@ -252,8 +264,9 @@ void *pf_context_alloc(pf_context *ctx, size_t bytes)
     }
     if (!base) {
         pf_context_discharge(ctx, bytes);
-        pf_fail(ctx, PF_ENOMEM, "out of memory allocating %.1f MiB (the system refused; the cap was not reached)",
-                bytes / 1048576.0);
+        char b[32];
+        pf_fail(ctx, PF_ENOMEM, "out of memory allocating %s (the system refused; the cap was not reached)",
+                size_text(bytes, b));
         return NULL;
     }
     block_header *h = (block_header *)base;
@@ -278,6 +291,14 @@ void pf_context_free(pf_context *ctx, void *p)
 }
 
 void *pf_alloc(pf_context *ctx, size_t bytes) { return pf_context_alloc(ctx, bytes); }
+
+void *pf_calloc(pf_context *ctx, size_t n, size_t size)
+{
+    size_t bytes = pf_bytes(n, size);
+    void *p = pf_context_alloc(ctx, bytes);
+    if (p) memset(p, 0, bytes);
+    return p;
+}
 
 void pf_free(pf_context *ctx, void *p, size_t bytes)
 {

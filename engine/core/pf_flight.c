@@ -17,11 +17,11 @@ static void segment_tables(pf_grid *g, double tau)
     const size_t n = g->n[0], segs = (n + PF_PHASE_SEG - 1) / PF_PHASE_SEG;
     if (n < PF_PHASE_SEG_MIN) return;
     if (!ft->seg_start) {
-        ft->seg_start = malloc(segs * sizeof(double complex));
-        ft->seg_ratio = malloc(segs * sizeof(double complex));
+        ft->seg_start = pf_alloc(g->ctx, segs * sizeof(double complex));
+        ft->seg_ratio = pf_alloc(g->ctx, segs * sizeof(double complex));
         if (!ft->seg_start || !ft->seg_ratio) {
-            free(ft->seg_start);
-            free(ft->seg_ratio);
+            pf_context_free(g->ctx, ft->seg_start);
+            pf_context_free(g->ctx, ft->seg_ratio);
             ft->seg_start = ft->seg_ratio = NULL;
             return;
         }

@@ -38,7 +38,7 @@ void pf_fused_release(pf_grid *g)
         *plans[i] = NULL;
     }
     if (fp->buf) pf_free(g->ctx, fp->buf, fp->buf_bytes);
-    free(fp->part);
+    pf_context_free(g->ctx, fp->part);
     memset(fp, 0, sizeof *fp);
 }
 
@@ -70,10 +70,10 @@ static pf_status fused_plan(pf_grid *g)
         memset(fp, 0, sizeof *fp);
         return pf_context_status(ctx);
     }
-    fp->part = calloc(fp->blocks * PF_MAX_DIM, sizeof(double));
+    fp->part = pf_calloc(g->ctx, fp->blocks * PF_MAX_DIM, sizeof(double));
     if (!fp->part) {
         pf_fused_release(g);
-        return pf_fail(ctx, PF_ENOMEM, "out of memory for the fused flight");
+        return pf_context_status(ctx);
     }
     size_t bytes = pf_bytes(g->total, sizeof(double complex));
     /* Planning with FFTW_MEASURE overwrites its arrays, so plan on scratch. */

@@ -41,13 +41,14 @@ static void grid_destroy(pf_grid *g)
     if (g->backward) fftw_destroy_plan(g->backward);
     pf_fused_release(g);
     for (int a = 0; a < PF_MAX_DIM; a++) {
-        free(g->x[a]);
-        free(g->k[a]);
-        free(g->kfactor[a]);
-        free(g->flight.phase[a]);
+        pf_context_free(ctx, g->x[a]);
+        pf_context_free(ctx, g->k[a]);
+        pf_context_free(ctx, g->kfactor[a]);
+        pf_context_free(ctx, g->flight.phase[a]);
     }
-    free(g->flight.seg_start);
-    free(g->flight.seg_ratio);
+    pf_context_free(ctx, g->flight.seg_start);
+    pf_context_free(ctx, g->flight.seg_ratio);
+    pf_context_free(ctx, g->reduce_part);
     free(g);
     pf_context_release(ctx);
 }
@@ -56,12 +57,11 @@ static pf_status fill_tables(pf_grid *g)
 {
     for (int a = 0; a < g->dim; a++) {
         size_t n = g->n[a];
-        g->x[a] = malloc(n * sizeof(double));
-        g->k[a] = malloc(n * sizeof(double));
-        g->kfactor[a] = malloc(n * sizeof(double complex));
-        g->flight.phase[a] = malloc(n * sizeof(double complex));
-        if (!g->x[a] || !g->k[a] || !g->kfactor[a] || !g->flight.phase[a])
-            return pf_fail(g->ctx, PF_ENOMEM, "out of memory for grid tables");
+        g->x[a] = pf_alloc(g->ctx, n * sizeof(double));
+        g->k[a] = g->x[a] ? pf_alloc(g->ctx, n * sizeof(double)) : NULL;
+        g->kfactor[a] = g->k[a] ? pf_alloc(g->ctx, n * sizeof(double complex)) : NULL;
+        g->flight.phase[a] = g->kfactor[a] ? pf_alloc(g->ctx, n * sizeof(double complex)) : NULL;
+        if (!g->flight.phase[a]) return pf_context_status(g->ctx);
         double dk = PF_TWO_PI / g->span[a];
         size_t half = n / 2;
         double x0 = g->origin[a] - (double)half * g->dx[a];
@@ -108,6 +108,7 @@ pf_status pf_grid_new(pf_context *ctx, int dim, const size_t *points, const doub
         g->dx[a] = g->span[a] / (double)g->n[a];
     }
     s = fill_tables(g);
+    if (!s) s = pf_reduce_reserve(g);
     if (s) {
         grid_destroy(g);
         return s;

@@ -105,10 +105,10 @@ static pf_status marginals(const pf_wave *w, double **marg)
 {
     const pf_grid *g = w->grid;
     for (int a = 0; a < g->dim; a++) {
-        marg[a] = calloc(g->n[a], sizeof(double));
+        marg[a] = pf_calloc(g->ctx, g->n[a], sizeof(double));
         if (!marg[a]) {
-            for (int b = 0; b < a; b++) free(marg[b]);
-            return pf_fail(g->ctx, PF_ENOMEM, "out of memory for marginal distributions");
+            for (int b = 0; b < a; b++) pf_context_free(g->ctx, marg[b]);
+            return pf_context_status(g->ctx);
         }
     }
     size_t idx[PF_MAX_DIM] = {0, 0, 0};
@@ -125,13 +125,13 @@ static pf_status marginals(const pf_wave *w, double **marg)
         /* Reorder FFT storage order into ascending k. */
         for (int a = 0; a < g->dim; a++) {
             size_t n = g->n[a];
-            double *asc = malloc(n * sizeof(double));
+            double *asc = pf_alloc(g->ctx, n * sizeof(double));
             if (!asc) {
-                for (int b = 0; b < g->dim; b++) free(marg[b]);
-                return pf_fail(g->ctx, PF_ENOMEM, "out of memory for marginal distributions");
+                for (int b = 0; b < g->dim; b++) pf_context_free(g->ctx, marg[b]);
+                return pf_context_status(g->ctx);
             }
             for (size_t j = 0; j < n; j++) asc[pf_grid_ascending_index(g, a, j)] = marg[a][j];
-            free(marg[a]);
+            pf_context_free(g->ctx, marg[a]);
             marg[a] = asc;
         }
     }
@@ -179,7 +179,7 @@ pf_status pf_wave_extent(pf_wave *w, pf_rep rep, double eps, double *lo, double 
     s = marginals(w, marg);
     if (s) return s;
     extent_from_marginals(g, rep, marg, eps, lo, hi);
-    for (int a = 0; a < g->dim; a++) free(marg[a]);
+    for (int a = 0; a < g->dim; a++) pf_context_free(g->ctx, marg[a]);
     return PF_OK;
 }
 
@@ -196,7 +196,7 @@ static void warn_axis(pf_wave *w, int a, double p, size_t step, const char *kind
     int have_extent = marginals(w, marg) == PF_OK;
     if (have_extent) {
         extent_from_marginals(g, w->rep, marg, thr, lo, hi);
-        for (int i = 0; i < g->dim; i++) free(marg[i]);
+        for (int i = 0; i < g->dim; i++) pf_context_free(g->ctx, marg[i]);
     }
     char remedy[600];
     if (w->rep == PF_POSITION) {

@@ -79,6 +79,7 @@ struct pf_grid {
     int plan_threads;                 /* thread count the plans were made with, 0 = none */
     pf_flight_tables flight;
     pf_fused_plans fused;
+    double *reduce_part;              /* partial sums of pf_reduce_axis_moments, reserved with the grid */
 };
 
 /* Grid-guard bookkeeping of one wave function (pf_guard.c).  Index r is the
@@ -134,6 +135,8 @@ void pf_free(pf_context *ctx, void *p, size_t bytes);
 /* n elements of size each (overflow-checked: a product that overflows asks
  * for 0 bytes, which fails as PF_ELIMIT). */
 #define PF_ALLOC_N(ctx, n, size) pf_alloc((ctx), pf_bytes((n), (size)))
+/* pf_alloc of n zeroed elements (for what calloc did before accounting). */
+void *pf_calloc(pf_context *ctx, size_t n, size_t size);
 /* bytes = count * size with an overflow check; 0 on overflow. */
 size_t pf_bytes(size_t count, size_t size);
 
@@ -200,6 +203,9 @@ double pf_wave_last_logged_norm(pf_wave *w);
  * sums are computed in parallel and the partials are added in block order.
  * weights[a] (per-axis tables, may be NULL for weight 1) multiply |z|^2:
  * sums[0] = sum |z|^2, sums[1+a] = sum w_a |z|^2, sums[1+d+a] = sum w_a^2 |z|^2. */
+/* Reserves g->reduce_part at grid creation, so reductions (norms, moments)
+ * allocate nothing and cannot fail for memory later. */
+pf_status pf_reduce_reserve(pf_grid *g);
 pf_status pf_reduce_axis_moments(pf_grid *g, const double complex *z,
                                  const double *const *weights, double *sums);
 

@@ -11,18 +11,20 @@
 
 /* Per-axis scratch tables, allocated together and freed together. */
 typedef struct axis_tables {
+    pf_context *ctx; /* the tables are charged to it */
     double complex *t[PF_MAX_DIM];
 } axis_tables;
 
 static pf_status tables_alloc(pf_grid *g, axis_tables *at, unsigned axes_mask)
 {
     memset(at, 0, sizeof *at);
+    at->ctx = g->ctx;
     for (int a = 0; a < g->dim; a++) {
         if (!(axes_mask & (1u << a))) continue;
-        at->t[a] = malloc(g->n[a] * sizeof(double complex));
+        at->t[a] = pf_alloc(g->ctx, g->n[a] * sizeof(double complex));
         if (!at->t[a]) {
-            for (int b = 0; b < a; b++) free(at->t[b]);
-            return pf_fail(g->ctx, PF_ENOMEM, "out of memory for per-axis tables");
+            for (int b = 0; b < a; b++) pf_context_free(g->ctx, at->t[b]);
+            return pf_context_status(g->ctx);
         }
     }
     return PF_OK;
@@ -30,7 +32,7 @@ static pf_status tables_alloc(pf_grid *g, axis_tables *at, unsigned axes_mask)
 
 static void tables_free(axis_tables *at)
 {
-    for (int a = 0; a < PF_MAX_DIM; a++) free(at->t[a]);
+    for (int a = 0; a < PF_MAX_DIM; a++) pf_context_free(at->ctx, at->t[a]);
 }
 
 static pf_status check_axis(pf_grid *g, int axis, const char *what)

@@ -145,10 +145,10 @@ static pf_status scaled_stage(pf_wave *w, const double *ta, pf_grid *gout, doubl
     if (!out) return pf_context_status(ctx);
     size_t table_len = 0;
     for (int a = 0; a < d; a++) table_len += 2 * gout->n[a];
-    double complex *tables = malloc(table_len * sizeof(double complex));
+    double complex *tables = pf_alloc(ctx, table_len * sizeof(double complex));
     if (!tables) {
         if (!in_place) pf_free(ctx, out, bytes);
-        return pf_fail(ctx, PF_ENOMEM, "out of memory for chirp tables");
+        return pf_context_status(ctx);
     }
     double complex *pre[PF_MAX_DIM], *post[PF_MAX_DIM];
     double complex *p = tables;
@@ -196,13 +196,13 @@ static pf_status scaled_stage(pf_wave *w, const double *ta, pf_grid *gout, doubl
     int forward = ta[0] > 0; /* all stage durations share the flight's sign */
     s = pf_grid_fft(gout, out, forward ? -1 : +1);
     if (s) {
-        free(tables);
+        pf_context_free(ctx, tables);
         if (!in_place) pf_free(ctx, out, bytes);
         return s;
     }
     /* Pass 2: output chirp and amplitude. */
     chirp_pass(out, &so, Q, threads);
-    free(tables);
+    pf_context_free(ctx, tables);
     /* Move the wave to its new grid. */
     if (!in_place) pf_free(ctx, w->store, pf_bytes(gin->total, sizeof(double complex)));
     w->store = out;

@@ -56,7 +56,7 @@ static void ws_free(evolve_ws *ws)
 {
     pf_context *ctx = ws->g->ctx;
     for (int i = 0; i < 2; i++)
-        for (int a = 0; a < PF_MAX_DIM; a++) free(ws->kin[i][a]);
+        for (int a = 0; a < PF_MAX_DIM; a++) pf_context_free(ctx, ws->kin[i][a]);
     if (ws->e1 && !ws->borrowed) pf_free(ctx, ws->e1, ws->bytes_c);
     if (ws->e2 && !ws->borrowed) pf_free(ctx, ws->e2, ws->bytes_c);
     if (ws->vbuf) pf_free(ctx, ws->vbuf, ws->bytes_r);
@@ -194,8 +194,8 @@ static pf_status prepare(evolve_ws *ws)
     int ntab = ws->sc.stages == 1 ? 1 : 2;
     for (int i = 0; i < ntab; i++) {
         for (int a = 0; a < g->dim; a++) {
-            ws->kin[i][a] = malloc(g->n[a] * sizeof(double complex));
-            if (!ws->kin[i][a]) return pf_fail(g->ctx, PF_ENOMEM, "out of memory for kinetic tables");
+            ws->kin[i][a] = pf_alloc(g->ctx, g->n[a] * sizeof(double complex));
+            if (!ws->kin[i][a]) return pf_context_status(g->ctx);
         }
         double c = i == 0 ? ws->sc.c[0] : ws->sc.c[1];
         pf_kernel_kinetic_tables(g, PF_HBAR * c * ws->h / ws->w->mass, NULL, ws->kin[i]);
