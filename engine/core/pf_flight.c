@@ -277,11 +277,34 @@ static int can_defer(const pf_wave *w)
     return w->grid->dim >= 2 && w->rep == PF_POSITION;
 }
 
+/* The flight phase c m^2 is computed in doubles; beyond 2^52 rad their
+ * spacing exceeds a radian and the phases, hence the result, are noise.
+ * Physical flights on a grid that holds the state stay near n rad at the
+ * Nyquist limit, so only absurd times reach this. */
+#define FLIGHT_PHASE_MAX 4503599627370496.0 /* 2^52 */
+
+static pf_status check_phase_range(pf_grid *g, double t, double tau)
+{
+    for (int a = 0; a < g->dim; a++) {
+        double dk = PF_TWO_PI / g->span[a], m = (double)(g->n[a] / 2);
+        double top = fabs(0.5 * tau * dk * dk) * m * m;
+        if (!(top <= FLIGHT_PHASE_MAX))
+            return pf_fail(g->ctx, PF_EINVAL,
+                           "a flight of %g s turns the phase at the Nyquist limit of axis %d by %g rad, beyond %g rad "
+                           "where doubles cannot hold a phase to a radian (the result would be noise); fly a shorter "
+                           "time, or use w:fly_long(t) for a long flight",
+                           t, a + 1, top, FLIGHT_PHASE_MAX);
+    }
+    return PF_OK;
+}
+
 pf_status pf_wave_fly(pf_wave *w, double t)
 {
     pf_grid *g = w->grid;
     if (!isfinite(t)) return pf_fail(g->ctx, PF_EINVAL, "flight time must be finite, got %g", t);
     double tau = PF_HBAR * t / w->mass;
+    pf_status range = check_phase_range(g, t, w->deferred.active ? w->deferred.tau + tau : tau);
+    if (range) return range;
     double norm = pf_wave_last_logged_norm(w); /* carried: a flight keeps it */
     if (w->deferred.active || can_defer(w)) {
         if (!w->deferred.active) w->deferred.tau = 0.0;

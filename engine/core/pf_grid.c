@@ -16,15 +16,26 @@ static pf_status validate(pf_context *ctx, int dim, const size_t *points, const 
         return pf_fail(ctx, PF_EINVAL, "grid dimension must be 1, 2 or 3, got %d", dim);
     size_t t = 1;
     for (int a = 0; a < dim; a++) {
-        if (points[a] < 2)
-            return pf_fail(ctx, PF_EINVAL, "points on axis %d must be at least 2, got %zu", a + 1, points[a]);
+        if (points[a] < PF_GRID_MIN_POINTS)
+            return pf_fail(ctx, PF_EINVAL, "points on axis %d must be at least %d, got %zu", a + 1,
+                           PF_GRID_MIN_POINTS, points[a]);
         if (points[a] > PF_MAX_AXIS_POINTS)
             return pf_fail(ctx, PF_EINVAL, "points on axis %d must be at most %zu, got %zu", a + 1,
                            PF_MAX_AXIS_POINTS, points[a]);
         if (!isfinite(span[a]) || span[a] <= 0)
             return pf_fail(ctx, PF_EINVAL, "span on axis %d must be finite and positive, got %g", a + 1, span[a]);
-        if (origin && !isfinite(origin[a]))
-            return pf_fail(ctx, PF_EINVAL, "origin on axis %d must be finite, got %g", a + 1, origin[a]);
+        if (span[a] > PF_GRID_MAX_EXTENT)
+            return pf_fail(ctx, PF_EINVAL,
+                           "span on axis %d must be at most %g m (beyond it moments and volumes overflow), got %g m",
+                           a + 1, PF_GRID_MAX_EXTENT, span[a]);
+        if (!(span[a] / (double)points[a] >= PF_GRID_MIN_SPACING))
+            return pf_fail(ctx, PF_EINVAL,
+                           "spacing on axis %d (span / points) must be at least %g m (below it norms and wave "
+                           "numbers overflow), got %g m (span %g m over %zu points)",
+                           a + 1, PF_GRID_MIN_SPACING, span[a] / (double)points[a], span[a], points[a]);
+        if (origin && !(fabs(origin[a]) <= PF_GRID_MAX_EXTENT))
+            return pf_fail(ctx, PF_EINVAL, "origin on axis %d must be finite and at most %g m in size, got %g", a + 1,
+                           PF_GRID_MAX_EXTENT, origin[a]);
         size_t next = pf_bytes(t, points[a]);
         if (next == 0)
             return pf_fail(ctx, PF_ELIMIT, "grid point count overflows");

@@ -183,6 +183,18 @@ pf_status pf_wave_extent(pf_wave *w, pf_rep rep, double eps, double *lo, double 
     return PF_OK;
 }
 
+/* Point count of a remedy that scales the axis by f: a finite count within
+ * what a grid may have, so a degenerate extent can never turn into an
+ * out-of-range (undefined) conversion to size_t. */
+static size_t remedy_points(double f, size_t n)
+{
+    const double cap = (double)((size_t)1 << 30); /* pf_grid.c's largest axis */
+    double want = ceil(f * (double)n);
+    if (!(want >= (double)n)) want = (double)n;
+    if (want > cap) want = cap;
+    return pf_fft_good_size((size_t)want);
+}
+
 /* Warns about axis a of the current representation with figures and a
  * remedy computed from the state's extent on that axis. */
 static void warn_axis(pf_wave *w, int a, double p, size_t step, const char *kind)
@@ -205,7 +217,7 @@ static void warn_axis(pf_wave *w, int a, double p, size_t step, const char *kind
         double f = fmax(need / span, 1.25);
         int filled = !have_extent || hi[a] - lo[a] >= 0.98 * span;
         int shift_enough = have_extent && (hi[a] - lo[a]) * GUARD_REMEDY_MARGIN / inner <= span;
-        size_t n_new = pf_fft_good_size((size_t)ceil(f * (double)n));
+        size_t n_new = remedy_points(f, n);
         int len = snprintf(remedy, sizeof remedy,
                            "enlarge the span on axis %d by x%.2f%s (%.4g m -> %.4g m, about %zu points at the same spacing)",
                            a + 1, (double)n_new / (double)n,
@@ -228,7 +240,7 @@ static void warn_axis(pf_wave *w, int a, double p, size_t step, const char *kind
         double knyq = PF_PI / g->dx[a];
         double kmax = have_extent ? fmax(fabs(lo[a]), fabs(hi[a])) : knyq;
         double f = fmax(kmax * GUARD_REMEDY_MARGIN / (inner * knyq), 1.25);
-        size_t n_new = pf_fft_good_size((size_t)ceil(f * (double)n));
+        size_t n_new = remedy_points(f, n);
         pf_context_warn(g->ctx,
                         "grid guard: %.3g of the probability is in the outer band of momentum axis %d "
                         "(outermost %zu of %zu wave numbers at each end, |k| > %.4g 1/m; Nyquist limit pi/dx = %.4g 1/m) "

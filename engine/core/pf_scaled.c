@@ -264,6 +264,20 @@ static pf_status intermediate_grid(const pf_wave *w, double t, const double *t1,
     return pf_grid_new(g->ctx, g->dim, gout->n, span, origin, out);
 }
 
+/* A flight so long that the image would not fit the engine's range of grids
+ * (pf_grid.h) is refused with the flight time in the message, before the
+ * output grid's own check would report only a span the script never gave. */
+static pf_status check_image_span(pf_context *ctx, double t, const double *span, int d)
+{
+    for (int a = 0; a < d; a++)
+        if (!(span[a] <= PF_GRID_MAX_EXTENT))
+            return pf_fail(ctx, PF_EINVAL,
+                           "a flight of %g s spreads the state over %g m on axis %d, beyond the largest grid span "
+                           "of %g m (the widths and densities would overflow); fly a shorter time",
+                           t, span[a], a + 1, PF_GRID_MAX_EXTENT);
+    return PF_OK;
+}
+
 static pf_status check_time(pf_context *ctx, double t)
 {
     if (!isfinite(t) || t == 0)
@@ -325,6 +339,8 @@ pf_status pf_wave_fly_scaled(pf_wave *w, double t, const size_t *points, const d
         if (!isfinite(origin[a]))
             return pf_fail(gin->ctx, PF_EINVAL, "scaled flight: centre on axis %d must be finite", a + 1);
     }
+    s = check_image_span(gin->ctx, t, span, gin->dim);
+    if (s) return s;
     pf_grid *gout;
     s = pf_grid_new(gin->ctx, gin->dim, n, span, origin, &gout);
     if (s) return s;
@@ -530,6 +546,8 @@ pf_status pf_wave_fly_long(pf_wave *w, double t, const pf_long_flight_opts *o, p
     if (o->grid) return pf_wave_fly_onto(w, t, o->grid);
     double span[PF_MAX_DIM];
     for (int a = 0; a < d; a++) span[a] = D[a] * (double)n_out[a];
+    s = check_image_span(ctx, t, span, d);
+    if (s) return s;
     pf_grid *gout;
     s = pf_grid_new(ctx, d, n_out, span, c, &gout);
     if (s) return s;
