@@ -183,6 +183,18 @@ static const char *size_text(size_t bytes, char buf[32])
     return buf;
 }
 
+/* Under AddressSanitizer every block stays with its allocator, which
+ * checks overruns (it cannot see into our mappings) and returns large freed
+ * blocks to the system itself after its quarantine. */
+#if defined(__SANITIZE_ADDRESS__)
+#define MAP_LARGE_BLOCKS 0
+#else
+#define MAP_LARGE_BLOCKS 1
+#endif
+
+/* User address space of x86-64 and AArch64 with 4-level page tables. */
+#define ADDRESS_SPACE_MAX ((size_t)1 << 47)
+
 #define BLOCK_ALIGN 64
 #define BLOCK_MAGIC 0x70736966u /* "psif": catches a free of a foreign pointer */
 
@@ -254,7 +266,10 @@ void *pf_context_alloc(pf_context *ctx, size_t bytes)
     size_t whole = bytes + BLOCK_ALIGN;
     unsigned char *base = NULL;
     size_t mapped = 0;
-    if (bytes >= PF_CONTEXT_MAP_MIN) {
+    if (bytes > ADDRESS_SPACE_MAX) {
+        /* No system gives this much; asking could only fail (or, under a
+         * sanitizer, abort the process). */
+    } else if (MAP_LARGE_BLOCKS && bytes >= PF_CONTEXT_MAP_MIN) {
         mapped = (whole + page_size() - 1) / page_size() * page_size();
         void *m = mmap(NULL, mapped, PROT_READ | PROT_WRITE, MAP_PRIVATE | MAP_ANONYMOUS, -1, 0);
         base = m == MAP_FAILED ? NULL : m;

@@ -49,8 +49,14 @@ print(string.format("after_used=%d base_used=%d", pf.run_info().memory_used, bas
 LUA
 expect 0 "build/copy/close loop runs" -- "$runner" run "$work/loop.lua" --trusted
 growth=$(printf '%s\n' "$out" | sed -n 's/^rss_growth_mib=//p')
-awk -v g="$growth" 'BEGIN { exit !(g < 16) }' || fail "resident memory grew by $growth MiB over 45 passes (bound 16)"
-ok "resident memory flat over 45 passes of a 256x256 build/copy/close loop (grew $growth MiB, bound 16)"
+if ldd "$runner" 2>/dev/null | grep -q libasan; then
+  # AddressSanitizer keeps freed blocks in a quarantine of up to 256 MB by
+  # design, and the engine leaves large blocks to it there (pf_context.c).
+  echo "note: resident-memory bound not checked under AddressSanitizer (grew $growth MiB)"
+else
+  awk -v g="$growth" 'BEGIN { exit !(g < 16) }' || fail "resident memory grew by $growth MiB over 45 passes (bound 16)"
+  ok "resident memory flat over 45 passes of a 256x256 build/copy/close loop (grew $growth MiB, bound 16)"
+fi
 two=$(printf '%s\n' "$out" | sed -n 's/^two_waves_bytes=//p')
 used=$(printf '%s\n' "$out" | sed -n 's/^in_loop_used=//p')
 [ "$used" -ge "$two" ] || fail "memory_used $used while two waves ($two bytes) were alive"
