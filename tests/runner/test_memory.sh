@@ -3,7 +3,8 @@
 # "Memory"): resident memory stays flat in a loop that builds, copies and
 # closes waves; pf.run_info().memory_used counts what the engine holds; the
 # cap counts the binding's buffers of grid size; and with PSIFLIGHT_FAIL_ALLOC
-# (DEVELOPERS.md) every engine allocation of a typical script can fail, each
+# (DEVELOPERS.md) every engine allocation of a typical script and of the
+# state-gallery example can fail, each
 # time with a clean error naming the script line, never a crash (under
 # `make asan` also never a leak: LeakSanitizer's exit status is not 0 or 5).
 # No physics is checked here, so no outside reference is involved.
@@ -97,32 +98,47 @@ local xs, ps = g1:x_axis(1), v:density()
 pf.write_csv("profile.csv", {{"x", "m", xs}, {"density", "1/m", ps}})
 print(string.format("allocations=%d", pf.run_info().engine_allocations))
 LUA
+# walk SCRIPT COUNT NAME: fails engine allocation 1..COUNT of SCRIPT in turn.
+walk() {
+  local script=$1 count=$2 name=$3 n rc failed_runs=0
+  for n in $(seq 1 "$count"); do
+    set +e
+    PSIFLIGHT_FAIL_ALLOC=$n "$runner" run "$script" --planning estimate --out "$work/$name$n" --quiet \
+      >"$work/.stdout" 2>"$work/.stderr"
+    rc=$?
+    set -e
+    err=$(cat "$work/.stderr")
+    case $rc in
+      0) ;; # a fallback absorbed the failure (e.g. a flight done without the fused sweep)
+      5)
+        failed_runs=$((failed_runs + 1))
+        case $err in
+          *"$name.lua:"*"out of memory"*"(injected failure of engine allocation $n)"*) ;;
+          *) fail "$name, allocation $n: exit 5 without a worded out-of-memory error at a script line: $(head -c 400 "$work/.stderr")" ;;
+        esac
+        # Outputs are atomic: a failed run leaves no data file under its name.
+        if find "$work/$name$n" -type f ! -name manifest.json 2>/dev/null | grep -q .; then
+          fail "$name, allocation $n: failed run left $(find "$work/$name$n" -type f ! -name manifest.json | head -1)"
+        fi
+        ;;
+      *) fail "$name, allocation $n: exit $rc (want 0 or 5): $(head -c 600 "$work/.stderr")" ;;
+    esac
+  done
+  [ "$failed_runs" -ge $((count / 2)) ] || fail "$name: only $failed_runs of $count injected failures were reported"
+  ok "$name: each of $count injected allocation failures gave exit 0 or a clean exit 5 at a script line ($failed_runs errors)"
+}
 expect 0 "walk script runs without injection" -- "$runner" run "$work/walk.lua" --out "$work/walk0"
 count=$(printf '%s\n' "$out" | sed -n 's/^allocations=//p')
 [ "$count" -ge 10 ] || fail "the walk script made only '$count' engine allocations"
 ok "walk script makes $count engine allocations"
-failed_runs=0
-for n in $(seq 1 "$count"); do
-  set +e
-  PSIFLIGHT_FAIL_ALLOC=$n "$runner" run "$work/walk.lua" --out "$work/walk$n" >"$work/.stdout" 2>"$work/.stderr"
-  rc=$?
-  set -e
-  err=$(cat "$work/.stderr")
-  case $rc in
-    0) ;; # a fallback absorbed the failure (e.g. a flight done without the fused sweep)
-    5)
-      failed_runs=$((failed_runs + 1))
-      case $err in
-        *"walk.lua:"*"out of memory"*"(injected failure of engine allocation $n)"*) ;;
-        *) fail "allocation $n: exit 5 without a worded out-of-memory error at a script line: $(head -c 400 "$work/.stderr")" ;;
-      esac
-      [ ! -e "$work/walk$n/profile.csv" ] || fail "allocation $n: failed run left profile.csv"
-      ;;
-    *) fail "allocation $n: exit $rc (want 0 or 5): $(head -c 600 "$work/.stderr")" ;;
-  esac
-done
-[ "$failed_runs" -ge $((count / 2)) ] || fail "only $failed_runs of $count injected failures were reported"
-ok "each of $count injected allocation failures gave exit 0 or a clean exit 5 at a script line ($failed_runs errors)"
+walk "$work/walk.lua" "$count" walk
+# The state gallery example: every builder of docs/states.md in one script.
+cp "$root/examples/state_gallery.lua" "$work/state_gallery.lua"
+printf '\nprint(string.format("allocations=%%d", require("psiflight").run_info().engine_allocations))\n' >>"$work/state_gallery.lua"
+expect 0 "state gallery runs without injection" -- "$runner" run "$work/state_gallery.lua" --planning estimate --out "$work/sg0"
+count=$(printf '%s\n' "$out" | sed -n 's/^allocations=//p')
+[ "$count" -ge 20 ] || fail "the state gallery made only '$count' engine allocations"
+walk "$work/state_gallery.lua" "$count" state_gallery
 expect 2 "a malformed PSIFLIGHT_FAIL_ALLOC is refused" -- env PSIFLIGHT_FAIL_ALLOC=3x "$runner" run "$work/walk.lua"
 has "PSIFLIGHT_FAIL_ALLOC must be a positive integer" "the message names the variable"
 done_checks
