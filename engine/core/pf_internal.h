@@ -203,8 +203,11 @@ double pf_wave_last_logged_norm(pf_wave *w);
  * sums are computed in parallel and the partials are added in block order.
  * weights[a] (per-axis tables, may be NULL for weight 1) multiply |z|^2:
  * sums[0] = sum |z|^2, sums[1+a] = sum w_a |z|^2, sums[1+d+a] = sum w_a^2 |z|^2. */
-/* Reserves g->reduce_part at grid creation, so reductions (norms, moments)
- * allocate nothing and cannot fail for memory later. */
+/* Reserves g->reduce_part at grid creation: 1 + 2 dim doubles per block of
+ * PF_REDUCE_BLOCK points, so reductions (norms, moments) and the mask
+ * kernels' removed-probability sums allocate nothing and cannot fail for
+ * memory later.  One user at a time: no caller holds it across calls. */
+#define PF_REDUCE_BLOCK ((size_t)16384)
 pf_status pf_reduce_reserve(pf_grid *g);
 pf_status pf_reduce_axis_moments(pf_grid *g, const double complex *z,
                                  const double *const *weights, double *sums);

@@ -9,7 +9,6 @@
 #include <string.h>
 #include "pf_internal.h"
 
-#define PF_REDUCE_BLOCK ((size_t)16384)
 
 pf_status pf_reduce_reserve(pf_grid *g)
 {
