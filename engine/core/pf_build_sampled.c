@@ -31,9 +31,9 @@ static void locate(const double *mesh, size_t m, const double *coord, size_t n, 
 
 /* Natural cubic spline second derivatives of complex data (tridiagonal
  * solve, Thomas algorithm); m >= 2. */
-static int spline_second(const double *x, const double complex *y, size_t m, double complex *y2)
+static int spline_second(pf_context *ctx, const double *x, const double complex *y, size_t m, double complex *y2)
 {
-    double *c = malloc(m * sizeof *c);
+    double *c = pf_alloc(ctx, m * sizeof *c);
     if (!c) return 0;
     y2[0] = 0;
     c[0] = 0;
@@ -46,7 +46,7 @@ static int spline_second(const double *x, const double complex *y, size_t m, dou
     }
     y2[m - 1] = 0;
     for (size_t i = m - 1; i-- > 1;) y2[i] -= c[i] * y2[i + 1];
-    free(c);
+    pf_context_free(ctx, c);
     return 1;
 }
 
@@ -92,8 +92,8 @@ pf_status pf_build_sampled(pf_wave *w, pf_rep rep, const size_t *counts, const d
     pf_status failed = PF_OK;
     if (!lower || !frac || (method == PF_INTERP_CUBIC && !y2))
         failed = pf_context_status(g->ctx);
-    else if (method == PF_INTERP_CUBIC && !spline_second(axes[0], values, counts[0], y2))
-        failed = pf_fail(g->ctx, PF_ENOMEM, "out of memory for spline coefficients");
+    else if (method == PF_INTERP_CUBIC && !spline_second(g->ctx, axes[0], values, counts[0], y2))
+        failed = pf_context_status(g->ctx);
     if (failed) {
         pf_context_free(g->ctx, lower);
         pf_context_free(g->ctx, frac);

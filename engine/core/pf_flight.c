@@ -357,8 +357,9 @@ pf_status pf_wave_settle_to(pf_wave *w, pf_rep rep)
     double sums[PF_MAX_DIM];
     pf_status s = pf_fused_flight(g, w->store, scale, measure ? sums : NULL);
     /* The sweep's planning needs a scratch array and buffers; under a tight
-     * memory cap the separate steps, which need neither, still work. */
-    if (s == PF_ELIMIT) return settle_separately(w, rep, scale);
+     * memory cap, or when the system is short of memory, the separate steps,
+     * which need neither, still work. */
+    if (s == PF_ELIMIT || s == PF_ENOMEM) return settle_separately(w, rep, scale);
     if (s) return s;
     w->deferred.active = 0;
     if (measure && pf_guard_take_momentum_sums(w, sums)) {

@@ -60,7 +60,7 @@ static void grid_destroy(pf_grid *g)
     pf_context_free(ctx, g->flight.seg_start);
     pf_context_free(ctx, g->flight.seg_ratio);
     pf_context_free(ctx, g->reduce_part);
-    free(g);
+    pf_context_free(ctx, g);
     pf_context_release(ctx);
 }
 
@@ -105,8 +105,8 @@ pf_status pf_grid_new(pf_context *ctx, int dim, const size_t *points, const doub
                        "a grid of %zu points needs about %.1f MiB for one wave function and planning, "
                        "over the memory cap of %.1f MiB (%.1f MiB in use); use fewer points or raise the cap",
                        total, need / 1048576.0, ctx->memory_cap / 1048576.0, ctx->memory_used / 1048576.0);
-    pf_grid *g = calloc(1, sizeof *g);
-    if (!g) return pf_fail(ctx, PF_ENOMEM, "out of memory for a grid");
+    pf_grid *g = pf_calloc(ctx, 1, sizeof *g);
+    if (!g) return pf_context_status(ctx);
     g->refs = 1;
     g->ctx = ctx;
     pf_context_retain(ctx);

@@ -7,6 +7,7 @@
 #include <string.h>
 #include "pf_context.h"
 #include "pf_grid.h"
+#include "pf_internal.h"
 #include "pf_wave.h"
 
 static int setup(void **state)
@@ -108,11 +109,16 @@ static void core_calls_return_the_allocators_code(void **state)
     assert_int_equal(pf_wave_new(g, 1e-25, &w), PF_ELIMIT);
     assert_null(w);
     assert_int_equal(pf_context_set_memory_cap(ctx, (size_t)1 << 30), PF_OK);
+    /* Both of pf_wave_new's allocations (record, storage) fail cleanly. */
     pf_context_fail_allocation(ctx, 1);
     assert_int_equal(pf_wave_new(g, 1e-25, &w), PF_ENOMEM);
     assert_int_equal(pf_context_memory_used(ctx), base);
+    pf_context_fail_allocation(ctx, 2);
+    assert_int_equal(pf_wave_new(g, 1e-25, &w), PF_ENOMEM);
+    assert_int_equal(pf_context_memory_used(ctx), base);
     assert_int_equal(pf_wave_new(g, 1e-25, &w), PF_OK);
-    assert_int_equal(pf_context_memory_used(ctx), base + 4096 * 16);
+    /* The storage and the wave's own record are both charged. */
+    assert_int_equal(pf_context_memory_used(ctx), base + 4096 * 16 + sizeof(struct pf_wave));
     pf_wave_free(w);
     pf_grid_release(g);
     assert_int_equal(pf_context_memory_used(ctx), 0);
