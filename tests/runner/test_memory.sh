@@ -79,6 +79,23 @@ LUA
 expect 5 "a density buffer over the cap is a limit error" -- "$runner" run "$work/cap.lua"
 has "cap.lua:7: density: allocating 32768 bytes would exceed the memory cap" "message names the line, the call and the size"
 
+# The runner's --memory-cap sets the same engine cap: keeping 1 MiB waves
+# alive trips it at the line that asks for one too many.
+cat >"$work/keep.lua" <<'LUA'
+local pf = require "psiflight"
+pf.setup{planning = "estimate"}
+local g = pf.grid{points = {256, 256}, span = {1e-4, 1e-4}}
+local kept = {}
+for i = 1, 16 do
+  kept[i] = pf.wave(g, {mass = 1.4e-25, position = function(x, y) return math.exp(-(x / 1e-5) ^ 2 - (y / 1e-5) ^ 2) end})
+end
+print("all 16 waves fitted")
+LUA
+expect 5 "--memory-cap 8MiB stops the waves once 8 MiB are held" -- "$runner" run "$work/keep.lua" --memory-cap 8MiB
+has "keep.lua:6: wave: allocating 1.0 MiB would exceed the memory cap of 8.0 MiB" "the message names the line, the size and the cap"
+expect 0 "the same script fits under 32MiB" -- "$runner" run "$work/keep.lua" --memory-cap 32MiB
+has "all 16 waves fitted" "all waves fitted"
+
 # 3. Fault injection walk.  First count the script's engine allocations, then
 # fail each one in turn.
 cat >"$work/walk.lua" <<'LUA'
