@@ -65,7 +65,8 @@ size_t pf_context_memory_room(const pf_context *ctx);
  * overflowed) or PF_ENOMEM (the system refused, or an injected failure).
  * Blocks of PF_CONTEXT_MAP_MIN bytes or more are mapped from the system and
  * returned to it by pf_context_free, so closing large objects lowers the
- * process's resident memory instead of leaving it with the C allocator. */
+ * process's resident memory instead of leaving it with the C allocator
+ * (under AddressSanitizer they stay with its allocator, which checks them). */
 void *pf_context_alloc(pf_context *ctx, size_t bytes);
 /* Releases a pf_context_alloc block (NULL is harmless) and discharges it. */
 void pf_context_free(pf_context *ctx, void *p);
