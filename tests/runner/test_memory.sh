@@ -96,7 +96,9 @@ has "keep.lua:6: wave: allocating 1.0 MiB would exceed the memory cap of 8.0 MiB
 expect 0 "the same script fits under 32MiB" -- "$runner" run "$work/keep.lua" --memory-cap 32MiB
 has "all 16 waves fitted" "all waves fitted"
 
-# 3. Fault injection walk.  First count the script's engine allocations, then
+# 3. Fault injection walk (build, copy, fused and 1D flights, observables,
+# far field, scaled and long flights, a CSV file).  First count the script's
+# engine allocations, then
 # fail each one in turn.
 cat >"$work/walk.lua" <<'LUA'
 local pf = require "psiflight"
@@ -112,6 +114,10 @@ local g1 = pf.grid{points = 64, span = 40e-6}
 local v = pf.wave(g1, {mass = 1.4e-25, position = function(x) return math.exp(-(x / 4e-6) ^ 2) end})
 v:fly(1e-4)
 local xs, ps = g1:x_axis(1), v:density()
+local far = v:far_field(0.05)
+v:fly_scaled(0.02)
+v:fly_long(0.05, {method = "scaled", points = 128})
+local spread = v:position_width()
 pf.write_csv("profile.csv", {{"x", "m", xs}, {"density", "1/m", ps}})
 print(string.format("allocations=%d", pf.run_info().engine_allocations))
 LUA
