@@ -98,8 +98,7 @@ has "all 16 waves fitted" "all waves fitted"
 
 # 3. Fault injection walk (build, copy, fused and 1D flights, observables,
 # far field, scaled and long flights, a CSV file).  First count the script's
-# engine allocations, then
-# fail each one in turn.
+# engine allocations, then fail each one in turn.
 cat >"$work/walk.lua" <<'LUA'
 local pf = require "psiflight"
 pf.setup{planning = "estimate"}
