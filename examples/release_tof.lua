@@ -138,6 +138,10 @@ local carpet_path = pf.picture_carpet("carpet_x.png", cut, {
   per_frame = true, x_range = {-30e-6, 45e-6},
 })
 
+-- What the engine holds now against its cap (--memory-cap): a check that a
+-- larger grid of the same shape would fit before trying it.
+local info = pf.run_info()
+print(string.format("engine memory in use: %.2f MiB of a %.0f MiB cap", info.memory_used / 2 ^ 20, info.memory_cap / 2 ^ 20))
 print("outputs:")
 for _, p in ipairs{h5_path, csv_path, map_path, widths_path, carpet_path} do print("  " .. p) end
 print("  " .. pf.output_path("manifest.json") .. " (written when the run ends)")

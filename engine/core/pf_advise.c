@@ -75,14 +75,36 @@ static double proposal_points(const pf_grid_proposal *p, int dim)
     return n;
 }
 
-/* A grid of at least `span` with spacing at most `dx`, centred at c. */
-static void propose(pf_grid_proposal *p, int a, double span, double dx, double c)
+/* Largest point count the advisor proposes per axis (pf_grid.c's limit). */
+#define ADVISE_MAX_POINTS ((double)((size_t)1 << 30))
+
+/* Point count for `need` points, or 0 when need is not finite or beyond
+ * ADVISE_MAX_POINTS (a conversion to size_t would then be undefined). */
+static size_t good_count(double need)
 {
-    size_t n = pf_fft_good_size((size_t)ceil(span / dx));
+    if (!(need <= ADVISE_MAX_POINTS)) return 0;
+    return pf_fft_good_size(need > 2 ? (size_t)ceil(need) : 2);
+}
+
+static pf_status too_many(pf_context *ctx, int a, double need)
+{
+    return pf_fail(ctx, PF_EINVAL,
+                   "advisor: the grid for this flight needs %g points on axis %d, beyond the largest axis of %.0f "
+                   "points; shorten the flight or narrow the extents",
+                   need, a + 1, ADVISE_MAX_POINTS);
+}
+
+/* A grid of at least `span` with spacing at most `dx`, centred at c; 0 when
+ * that needs more points than any grid may have. */
+static int propose(pf_grid_proposal *p, int a, double span, double dx, double c)
+{
+    size_t n = good_count(span / dx);
+    if (!n) return 0;
     p->points[a] = n;
     p->span[a] = span;
     p->spacing[a] = span / (double)n;
     p->origin[a] = c;
+    return 1;
 }
 
 pf_status pf_grid_advise(pf_context *ctx, const pf_advice_request *q, pf_advice *out)
@@ -118,7 +140,8 @@ pf_status pf_grid_advise(pf_context *ctx, const pf_advice_request *q, pf_advice 
         double kmax = fmax(fabs(klo), fabs(khi));
         double dx = fin * PF_PI / (margin * kmax);
         range_until(q, a, q->time, &xlo, &xhi);
-        propose(&out->same, a, margin * (xhi - xlo) / fin, dx, 0.5 * (xlo + xhi));
+        if (!propose(&out->same, a, margin * (xhi - xlo) / fin, dx, 0.5 * (xlo + xhi)))
+            return too_many(ctx, a, margin * (xhi - xlo) / fin / dx);
         /* Scaled: the input grid carries the state until the last kick; then
          * one scaled flight of the remaining time. */
         double ts = q->time - t_last;
@@ -138,14 +161,15 @@ pf_status pf_grid_advise(pf_context *ctx, const pf_advice_request *q, pf_advice 
             double spread = PF_HBAR * ts * (khi - klo) / q->mass;
             dx_in = fmin(dx_in, fin * PF_TWO_PI * PF_HBAR * ts / (q->mass * margin * (e_start + spread)));
         }
-        propose(&out->scaled_in, a, in_span, dx_in, 0.5 * (xlo + xhi));
+        if (!propose(&out->scaled_in, a, in_span, dx_in, 0.5 * (xlo + xhi))) return too_many(ctx, a, in_span / dx_in);
         if (ts > 0) {
             /* Enough points that the final image spans image_points output
              * points: D = 2 pi hbar ts / (m N dx) <= (ihi - ilo) / image_points. */
             double dxi = out->scaled_in.spacing[a];
             double need = PF_TWO_PI * PF_HBAR * ts * (double)image_points / (q->mass * dxi * (ihi - ilo));
             if ((double)out->scaled_in.points[a] < need) {
-                size_t n = pf_fft_good_size((size_t)ceil(need));
+                size_t n = good_count(need);
+                if (!n) return too_many(ctx, a, need);
                 out->scaled_in.points[a] = n;
                 out->scaled_in.span[a] = (double)n * dxi;
             }

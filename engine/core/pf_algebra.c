@@ -46,8 +46,8 @@ pf_status pf_wave_inner(pf_wave *a, pf_wave *b, double complex *out)
     if (s) return s;
     pf_grid *g = a->grid;
     size_t nblocks = (g->total + BLOCK - 1) / BLOCK;
-    double complex *part = calloc(nblocks, sizeof *part);
-    if (!part) return pf_fail(g->ctx, PF_ENOMEM, "out of memory for an inner product");
+    double complex *part = pf_calloc(g->ctx, nblocks, sizeof *part);
+    if (!part) return pf_context_status(g->ctx);
     const double complex *x = a->store, *y = b->store;
     ptrdiff_t nb = (ptrdiff_t)nblocks;
 #pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
@@ -59,7 +59,7 @@ pf_status pf_wave_inner(pf_wave *a, pf_wave *b, double complex *out)
     }
     double complex sum = 0;
     for (size_t k = 0; k < nblocks; k++) sum += part[k];
-    free(part);
+    pf_context_free(g->ctx, part);
     /* Position: dV per point.  Momentum storage S = DFT/N: Parseval gives
      * sum conj(psi_a) psi_b = N sum conj(S_a) S_b. */
     double v = pf_grid_cell_volume(g);

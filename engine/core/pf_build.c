@@ -146,12 +146,12 @@ static pf_status gaussian_sum(pf_wave *w, const pf_gaussian_spec *s, const doubl
         offs[a + 1] = offs[a] + n[a];
     }
     const size_t stride = offs[PF_MAX_DIM];
-    double complex *tab = malloc(count * stride * sizeof *tab);
-    double *delta = malloc(stride * sizeof *delta);
+    double complex *tab = pf_alloc(g->ctx, count * stride * sizeof *tab);
+    double *delta = pf_alloc(g->ctx, stride * sizeof *delta);
     if (!tab || !delta) {
-        free(tab);
-        free(delta);
-        return pf_fail(g->ctx, PF_ENOMEM, "out of memory for builder tables");
+        pf_context_free(g->ctx, tab);
+        pf_context_free(g->ctx, delta);
+        return pf_context_status(g->ctx);
     }
     double complex m[PF_MAX_DIM][PF_MAX_DIM];
     int cross = 0;
@@ -193,8 +193,8 @@ static pf_status gaussian_sum(pf_wave *w, const pf_gaussian_spec *s, const doubl
             }
         }
     }
-    free(tab);
-    free(delta);
+    pf_context_free(g->ctx, tab);
+    pf_context_free(g->ctx, delta);
     w->rep = PF_POSITION;
     return PF_OK;
 }
@@ -255,12 +255,12 @@ pf_status pf_build_orders(pf_wave *w, const pf_gaussian_spec *envelope, const do
         total += creal(a) * creal(a) + cimag(a) * cimag(a);
     }
     if (!(total > 0)) return pf_fail(g->ctx, PF_EINVAL, "orders: all amplitudes are zero");
-    double (*k0)[PF_MAX_DIM] = calloc(count, sizeof *k0);
-    double complex *amp = malloc(count * sizeof *amp);
+    double (*k0)[PF_MAX_DIM] = pf_calloc(g->ctx, count, sizeof *k0);
+    double complex *amp = pf_alloc(g->ctx, count * sizeof *amp);
     if (!k0 || !amp) {
-        free(k0);
-        free(amp);
-        return pf_fail(g->ctx, PF_ENOMEM, "out of memory for orders");
+        pf_context_free(g->ctx, k0);
+        pf_context_free(g->ctx, amp);
+        return pf_context_status(g->ctx);
     }
     for (size_t o = 0; o < count; o++) {
         for (int a = 0; a < d; a++) k0[o][a] = envelope->wavenumber[a] + orders[o].n * step[a];
@@ -273,8 +273,8 @@ pf_status pf_build_orders(pf_wave *w, const pf_gaussian_spec *envelope, const do
         pf_resolution_check(g, "orders", &e);
         s = finish(w, "orders", normalize);
     }
-    free(k0);
-    free(amp);
+    pf_context_free(g->ctx, k0);
+    pf_context_free(g->ctx, amp);
     return s;
 }
 
@@ -328,8 +328,8 @@ pf_status pf_build_oscillator(pf_wave *w, const double *omega, const int *n, con
         nn[a] = a < d ? g->n[a] : 1;
         offs[a + 1] = offs[a] + nn[a];
     }
-    double complex *tab = malloc(offs[PF_MAX_DIM] * sizeof *tab);
-    if (!tab) return pf_fail(g->ctx, PF_ENOMEM, "out of memory for builder tables");
+    double complex *tab = pf_alloc(g->ctx, offs[PF_MAX_DIM] * sizeof *tab);
+    if (!tab) return pf_context_status(g->ctx);
     pf_extent e;
     pf_extent_clear(&e);
     for (int a = 0; a < PF_MAX_DIM; a++) {
@@ -366,7 +366,7 @@ pf_status pf_build_oscillator(pf_wave *w, const double *omega, const int *n, con
             for (size_t k = 0; k < nn[2]; k++)
                 data[((size_t)i * nn[1] + j) * nn[2] + k] =
                     tab[offs[0] + (size_t)i] * tab[offs[1] + j] * tab[offs[2] + k];
-    free(tab);
+    pf_context_free(g->ctx, tab);
     w->rep = PF_POSITION;
     pf_resolution_check(g, "oscillator", &e);
     return finish(w, "oscillator", normalize);

@@ -31,9 +31,9 @@ static void locate(const double *mesh, size_t m, const double *coord, size_t n, 
 
 /* Natural cubic spline second derivatives of complex data (tridiagonal
  * solve, Thomas algorithm); m >= 2. */
-static int spline_second(const double *x, const double complex *y, size_t m, double complex *y2)
+static int spline_second(pf_context *ctx, const double *x, const double complex *y, size_t m, double complex *y2)
 {
-    double *c = malloc(m * sizeof *c);
+    double *c = pf_alloc(ctx, m * sizeof *c);
     if (!c) return 0;
     y2[0] = 0;
     c[0] = 0;
@@ -46,7 +46,7 @@ static int spline_second(const double *x, const double complex *y, size_t m, dou
     }
     y2[m - 1] = 0;
     for (size_t i = m - 1; i-- > 1;) y2[i] -= c[i] * y2[i + 1];
-    free(c);
+    pf_context_free(ctx, c);
     return 1;
 }
 
@@ -86,14 +86,19 @@ pf_status pf_build_sampled(pf_wave *w, pf_rep rep, const size_t *counts, const d
         nn[a] = a < d ? g->n[a] : 1;
         offs[a + 1] = offs[a] + nn[a];
     }
-    long *lower = malloc(offs[PF_MAX_DIM] * sizeof *lower);
-    double *frac = malloc(offs[PF_MAX_DIM] * sizeof *frac);
-    double complex *y2 = method == PF_INTERP_CUBIC ? malloc(counts[0] * sizeof *y2) : NULL;
-    if (!lower || !frac || (method == PF_INTERP_CUBIC && (!y2 || !spline_second(axes[0], values, counts[0], y2)))) {
-        free(lower);
-        free(frac);
-        free(y2);
-        return pf_fail(g->ctx, PF_ENOMEM, "out of memory for interpolation tables");
+    long *lower = pf_alloc(g->ctx, offs[PF_MAX_DIM] * sizeof *lower);
+    double *frac = pf_alloc(g->ctx, offs[PF_MAX_DIM] * sizeof *frac);
+    double complex *y2 = method == PF_INTERP_CUBIC ? pf_alloc(g->ctx, counts[0] * sizeof *y2) : NULL;
+    pf_status failed = PF_OK;
+    if (!lower || !frac || (method == PF_INTERP_CUBIC && !y2))
+        failed = pf_context_status(g->ctx);
+    else if (method == PF_INTERP_CUBIC && !spline_second(g->ctx, axes[0], values, counts[0], y2))
+        failed = pf_context_status(g->ctx);
+    if (failed) {
+        pf_context_free(g->ctx, lower);
+        pf_context_free(g->ctx, frac);
+        pf_context_free(g->ctx, y2);
+        return failed;
     }
     for (int a = 0; a < PF_MAX_DIM; a++) {
         if (a >= d) {
@@ -146,9 +151,9 @@ pf_status pf_build_sampled(pf_wave *w, pf_rep rep, const size_t *counts, const d
                 }
                 data[off] = v;
             }
-    free(lower);
-    free(frac);
-    free(y2);
+    pf_context_free(g->ctx, lower);
+    pf_context_free(g->ctx, frac);
+    pf_context_free(g->ctx, y2);
     w->rep = rep;
     pf_status s;
     if (normalize && (s = pf_wave_normalize(w))) return s;

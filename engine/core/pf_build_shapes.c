@@ -45,12 +45,11 @@ static void axis_layout(const pf_grid *g, size_t *nn, size_t *offs)
  * failure records the error and returns non-zero with nothing allocated. */
 static int axis_tables(const pf_grid *g, const size_t *offs, double **u2, double complex **ph)
 {
-    *u2 = malloc(offs[PF_MAX_DIM] * sizeof **u2);
-    *ph = malloc(offs[PF_MAX_DIM] * sizeof **ph);
+    *u2 = pf_alloc(g->ctx, offs[PF_MAX_DIM] * sizeof **u2);
+    *ph = pf_alloc(g->ctx, offs[PF_MAX_DIM] * sizeof **ph);
     if (*u2 && *ph) return 0;
-    free(*u2);
-    free(*ph);
-    pf_fail(g->ctx, PF_ENOMEM, "out of memory for builder tables");
+    pf_context_free(g->ctx, *u2);
+    pf_context_free(g->ctx, *ph);
     return 1;
 }
 
@@ -73,7 +72,7 @@ pf_status pf_build_flat_top(pf_wave *w, const double *center, const double *wave
      * exp(-i k x0) divided by the storage factor phi/S. */
     double *u2;
     double complex *ph;
-    if (axis_tables(g, offs, &u2, &ph)) return PF_ENOMEM;
+    if (axis_tables(g, offs, &u2, &ph)) return pf_context_status(g->ctx);
     for (int a = 0; a < PF_MAX_DIM; a++)
         for (size_t j = 0; j < nn[a]; j++) {
             size_t t = offs[a] + j;
@@ -106,8 +105,8 @@ pf_status pf_build_flat_top(pf_wave *w, const double *center, const double *wave
                                                 : exp(-0.5 * pow(u2[t0] + u2[t1] + u2[t2], order));
                 data[((size_t)i * nn[1] + j) * nn[2] + k] = norm * f * ph[t0] * ph[t1] * ph[t2];
             }
-    free(u2);
-    free(ph);
+    pf_context_free(g->ctx, u2);
+    pf_context_free(g->ctx, ph);
     w->rep = PF_MOMENTUM;
     if (normalize && (s = pf_wave_normalize(w))) return s;
     pf_extent e;
@@ -137,7 +136,7 @@ pf_status pf_build_thomas_fermi(pf_wave *w, const double *center, const double *
     axis_layout(g, nn, offs);
     double *u2;
     double complex *ph;
-    if (axis_tables(g, offs, &u2, &ph)) return PF_ENOMEM;
+    if (axis_tables(g, offs, &u2, &ph)) return pf_context_status(g->ctx);
     for (int a = 0; a < PF_MAX_DIM; a++)
         for (size_t j = 0; j < nn[a]; j++) {
             size_t t = offs[a] + j;
@@ -161,8 +160,8 @@ pf_status pf_build_thomas_fermi(pf_wave *w, const double *center, const double *
                 data[((size_t)i * nn[1] + j) * nn[2] + k] =
                     rest > 0 ? norm * sqrt(rest) * ph[t0] * ph[t1] * ph[t2] : 0.0;
             }
-    free(u2);
-    free(ph);
+    pf_context_free(g->ctx, u2);
+    pf_context_free(g->ctx, ph);
     w->rep = PF_POSITION;
     if (normalize && (s = pf_wave_normalize(w))) return s;
     pf_extent e;

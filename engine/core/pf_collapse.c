@@ -16,7 +16,7 @@ pf_status pf_wave_measure_region(pf_wave *w, const pf_region *reg, pf_rng *r, in
     if (forced < 0 && !r) return pf_fail(g->ctx, PF_EINVAL, "a drawn outcome needs a random generator");
     size_t bytes = g->total * sizeof(double);
     double *m = pf_alloc(g->ctx, bytes);
-    if (!m) return PF_ELIMIT;
+    if (!m) return pf_context_status(g->ctx);
     pf_status s = pf_region_weights(g, reg, m);
     if (s == PF_OK) s = pf_wave_to(w, PF_POSITION);
     if (s) {
@@ -96,10 +96,10 @@ pf_status pf_wave_measure_position(pf_wave *w, const double *sigma, pf_rng *r, c
     /* Separable Kraus amplitude: one table per axis, no exp per grid point. */
     double *K[PF_MAX_DIM] = {NULL, NULL, NULL};
     for (int a = 0; a < d; a++) {
-        K[a] = malloc(g->n[a] * sizeof(double));
+        K[a] = pf_alloc(g->ctx, g->n[a] * sizeof(double));
         if (!K[a]) {
-            for (int b = 0; b < a; b++) free(K[b]);
-            return pf_fail(g->ctx, PF_ENOMEM, "out of memory for the measurement operator");
+            for (int b = 0; b < a; b++) pf_context_free(g->ctx, K[b]);
+            return pf_context_status(g->ctx);
         }
         for (size_t j = 0; j < g->n[a]; j++) {
             if (sigma[a] > 0) {
@@ -133,11 +133,11 @@ pf_status pf_wave_measure_position(pf_wave *w, const double *sigma, pf_rng *r, c
             }
         }
         if (!pass && (!(p > 0) || !(norm > 0))) {
-            for (int a = 0; a < d; a++) free(K[a]);
+            for (int a = 0; a < d; a++) pf_context_free(g->ctx, K[a]);
             return pf_fail(g->ctx, PF_EINVAL, "the outcome has zero probability density (state left unchanged)");
         }
     }
-    for (int a = 0; a < d; a++) free(K[a]);
+    for (int a = 0; a < d; a++) pf_context_free(g->ctx, K[a]);
     for (int a = 0; a < d; a++) outcome[a] = sigma[a] > 0 ? y[a] : NAN;
     *density = p / norm;
     pf_wave_log_step(w, "measure", "position-gauss", 0.0, 0.0, -1.0);

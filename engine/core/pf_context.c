@@ -1,11 +1,14 @@
-/* pf_context.c - engine settings, error text, warnings, accounted allocation
- * and the FFTW planner state (threads, wisdom). */
+/* pf_context.c - engine settings, error text and status, warnings, accounted
+ * allocation (cap, release to the system, fault injection) and the FFTW
+ * planner state (threads, wisdom). */
+#define _DEFAULT_SOURCE /* MAP_ANONYMOUS */
 #include <errno.h>
 #include <stdarg.h>
 #include <stdint.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/mman.h>
 #include <sys/stat.h>
 #include <unistd.h>
 #include "pf_internal.h"
@@ -144,6 +147,7 @@ pf_status pf_fail(pf_context *ctx, pf_status s, const char *fmt, ...)
         va_start(ap, fmt);
         vsnprintf(ctx->message, sizeof ctx->message, fmt, ap);
         va_end(ap);
+        ctx->status = s;
     }
     return s;
 }
@@ -153,39 +157,171 @@ const char *pf_context_message(const pf_context *ctx)
     return ctx->message[0] ? ctx->message : "no error recorded";
 }
 
+pf_status pf_context_status(const pf_context *ctx) { return ctx->status; }
+
 size_t pf_bytes(size_t count, size_t size)
 {
     if (size && count > SIZE_MAX / size) return 0;
     return count * size;
 }
 
-void *pf_alloc(pf_context *ctx, size_t bytes)
+/* --- Accounted allocation ------------------------------------------------
+ * Every block starts with a header one alignment unit long that records its
+ * size and how it was obtained, so pf_context_free discharges exactly what
+ * was charged.  Large blocks are mapped with mmap and unmapped on free: glibc
+ * keeps freed heap blocks of a few MiB for reuse (its mmap threshold rises
+ * after the first large free), so a script that builds and closes waves in a
+ * loop would otherwise grow its resident memory without bound, unseen by the
+ * cap.  Small blocks stay on the heap, where reuse is cheap. */
+/* "12.0 MiB" or "512 bytes": small blocks would all print as 0.0 MiB. */
+static const char *size_text(size_t bytes, char buf[32])
+{
+    if (bytes < ((size_t)1 << 20))
+        snprintf(buf, 32, "%zu bytes", bytes);
+    else
+        snprintf(buf, 32, "%.1f MiB", bytes / 1048576.0);
+    return buf;
+}
+
+/* Under AddressSanitizer every block stays with its allocator, which
+ * checks overruns (it cannot see into our mappings) and returns large freed
+ * blocks to the system itself after its quarantine. */
+#if defined(__SANITIZE_ADDRESS__)
+#define MAP_LARGE_BLOCKS 0
+#else
+#define MAP_LARGE_BLOCKS 1
+#endif
+
+/* User address space of x86-64 and AArch64 with 4-level page tables. */
+#define ADDRESS_SPACE_MAX ((size_t)1 << 47)
+
+#define BLOCK_ALIGN 64
+#define BLOCK_MAGIC 0x70736966u /* "psif": catches a free of a foreign pointer */
+
+typedef struct block_header {
+    size_t bytes;      /* bytes asked for (charged to the cap) */
+    size_t mapped;     /* length of the mapping, 0 for a heap block */
+    unsigned magic;
+} block_header;
+_Static_assert(sizeof(block_header) <= BLOCK_ALIGN, "header fits its alignment unit");
+
+static size_t page_size(void)
+{
+    static size_t page;
+    if (!page) {
+        long p = sysconf(_SC_PAGESIZE);
+        page = p > 0 ? (size_t)p : 4096;
+    }
+    return page;
+}
+
+pf_status pf_context_charge(pf_context *ctx, size_t bytes)
+{
+    char b[32];
+    if (bytes > ctx->memory_cap || ctx->memory_used > ctx->memory_cap - bytes)
+        return pf_fail(ctx, PF_ELIMIT,
+                       "allocating %s would exceed the memory cap of %.1f MiB (%.1f MiB in use); "
+                       "use fewer grid points or raise the cap",
+                       size_text(bytes, b), ctx->memory_cap / 1048576.0, ctx->memory_used / 1048576.0);
+    ctx->memory_used += bytes;
+    return PF_OK;
+}
+
+void pf_context_discharge(pf_context *ctx, size_t bytes)
+{
+    /* Never wraps: a discharge larger than the charge is a caller bug, and a
+     * huge memory_used would then refuse every later allocation. */
+    ctx->memory_used = bytes <= ctx->memory_used ? ctx->memory_used - bytes : 0;
+}
+
+size_t pf_context_memory_room(const pf_context *ctx)
+{
+    return ctx->memory_used < ctx->memory_cap ? ctx->memory_cap - ctx->memory_used : 0;
+}
+
+void pf_context_fail_allocation(pf_context *ctx, unsigned long count)
+{
+    ctx->fail_at = count ? ctx->allocations + count : 0;
+}
+
+unsigned long pf_context_allocations(const pf_context *ctx) { return ctx->allocations; }
+
+void *pf_context_alloc(pf_context *ctx, size_t bytes)
 {
     if (bytes == 0) {
         pf_fail(ctx, PF_ELIMIT, "allocation size overflows");
         return NULL;
     }
-    if (bytes > ctx->memory_cap || ctx->memory_used > ctx->memory_cap - bytes) {
-        pf_fail(ctx, PF_ELIMIT,
-                "allocating %.1f MiB would exceed the memory cap of %.1f MiB (%.1f MiB in use); "
-                "use fewer grid points or raise the cap",
-                bytes / 1048576.0, ctx->memory_cap / 1048576.0, ctx->memory_used / 1048576.0);
+    ctx->allocations++;
+    if (ctx->fail_at && ctx->allocations == ctx->fail_at) {
+        char b[32];
+        pf_fail(ctx, PF_ENOMEM, "out of memory allocating %s (injected failure of engine allocation %lu)",
+                size_text(bytes, b), ctx->allocations);
         return NULL;
     }
-    void *p = fftw_malloc(bytes);
-    if (!p) {
-        pf_fail(ctx, PF_ENOMEM, "out of memory allocating %.1f MiB", bytes / 1048576.0);
+    if (bytes > SIZE_MAX - 2 * page_size() || pf_context_charge(ctx, bytes) != PF_OK) {
+        if (bytes > SIZE_MAX - 2 * page_size()) pf_fail(ctx, PF_ELIMIT, "allocation size overflows");
         return NULL;
     }
-    ctx->memory_used += bytes;
+    size_t whole = bytes + BLOCK_ALIGN;
+    unsigned char *base = NULL;
+    size_t mapped = 0;
+    if (bytes > ADDRESS_SPACE_MAX) {
+        /* No system gives this much; asking could only fail (or, under a
+         * sanitizer, abort the process). */
+    } else if (MAP_LARGE_BLOCKS && bytes >= PF_CONTEXT_MAP_MIN) {
+        mapped = (whole + page_size() - 1) / page_size() * page_size();
+        void *m = mmap(NULL, mapped, PROT_READ | PROT_WRITE, MAP_PRIVATE | MAP_ANONYMOUS, -1, 0);
+        base = m == MAP_FAILED ? NULL : m;
+    } else {
+        void *m = NULL;
+        base = posix_memalign(&m, BLOCK_ALIGN, whole) == 0 ? m : NULL;
+    }
+    if (!base) {
+        pf_context_discharge(ctx, bytes);
+        char b[32];
+        pf_fail(ctx, PF_ENOMEM, "out of memory allocating %s (the system refused; the cap was not reached)",
+                size_text(bytes, b));
+        return NULL;
+    }
+    block_header *h = (block_header *)base;
+    h->bytes = bytes;
+    h->mapped = mapped;
+    h->magic = BLOCK_MAGIC;
+    return base + BLOCK_ALIGN;
+}
+
+void pf_context_free(pf_context *ctx, void *p)
+{
+    if (!p) return;
+    unsigned char *base = (unsigned char *)p - BLOCK_ALIGN;
+    block_header *h = (block_header *)base;
+    /* Not ours, or freed twice: a bug, but the core never exits, so leave the
+     * block alone rather than corrupt the heap (AddressSanitizer reports
+     * the read of a freed header in the sanitizer build). */
+    if (h->magic != BLOCK_MAGIC) return;
+    h->magic = 0;
+    pf_context_discharge(ctx, h->bytes);
+    if (h->mapped)
+        munmap(base, h->mapped);
+    else
+        free(base);
+}
+
+void *pf_alloc(pf_context *ctx, size_t bytes) { return pf_context_alloc(ctx, bytes); }
+
+void *pf_calloc(pf_context *ctx, size_t n, size_t size)
+{
+    size_t bytes = pf_bytes(n, size);
+    void *p = pf_context_alloc(ctx, bytes);
+    if (p) memset(p, 0, bytes);
     return p;
 }
 
 void pf_free(pf_context *ctx, void *p, size_t bytes)
 {
-    if (!p) return;
-    fftw_free(p);
-    ctx->memory_used -= bytes;
+    (void)bytes;
+    pf_context_free(ctx, p);
 }
 
 unsigned pf_context_prepare_planner(pf_context *ctx)

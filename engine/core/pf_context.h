@@ -47,10 +47,43 @@ const char *pf_context_wisdom_path(const pf_context *ctx);
  * reports.  out must hold 17 bytes. */
 void pf_context_wisdom_digest(const pf_context *ctx, char out[17]);
 
-/* Cap on the bytes of wave-function storage the engine may hold at once. */
+/* Cap on the bytes the engine may hold at once: wave-function storage,
+ * scratch and work arrays, per-axis tables, ensemble buffers, and whatever
+ * a layer outside the core charges through the calls below. */
 pf_status pf_context_set_memory_cap(pf_context *ctx, size_t bytes);
 size_t pf_context_memory_cap(const pf_context *ctx);
+/* Bytes charged now: every live pf_context_alloc block plus every
+ * pf_context_charge not yet discharged. */
 size_t pf_context_memory_used(const pf_context *ctx);
+/* Bytes that may still be charged before the cap is reached. */
+size_t pf_context_memory_room(const pf_context *ctx);
+
+/* Accounted allocation, public so that layers outside the core (file readers,
+ * the binding) count against the same cap.  Returns memory aligned to 64
+ * bytes (SIMD, FFTW), or NULL with the reason recorded: pf_context_status is
+ * then PF_ELIMIT (the cap would be exceeded, or bytes is 0: a size computation
+ * overflowed) or PF_ENOMEM (the system refused, or an injected failure).
+ * Blocks of PF_CONTEXT_MAP_MIN bytes or more are mapped from the system and
+ * returned to it by pf_context_free, so closing large objects lowers the
+ * process's resident memory instead of leaving it with the C allocator
+ * (under AddressSanitizer they stay with its allocator, which checks them). */
+void *pf_context_alloc(pf_context *ctx, size_t bytes);
+/* Releases a pf_context_alloc block (NULL is harmless) and discharges it. */
+void pf_context_free(pf_context *ctx, void *p);
+#define PF_CONTEXT_MAP_MIN ((size_t)256 << 10)
+
+/* Charges bytes held elsewhere (e.g. a reader's own buffers) to the cap:
+ * PF_OK, or PF_ELIMIT with a message when they do not fit (nothing charged).
+ * Every successful charge is discharged with the same count when released. */
+pf_status pf_context_charge(pf_context *ctx, size_t bytes);
+void pf_context_discharge(pf_context *ctx, size_t bytes);
+
+/* Fault injection for tests: the count-th engine allocation from now
+ * (pf_context_alloc, 1-based) fails as if the system were out of memory;
+ * 0 turns it off.  The runner sets it from PSIFLIGHT_FAIL_ALLOC. */
+void pf_context_fail_allocation(pf_context *ctx, unsigned long count);
+/* Engine allocations made so far (to size a fault-injection walk). */
+unsigned long pf_context_allocations(const pf_context *ctx);
 
 void pf_context_set_warn_handler(pf_context *ctx, pf_warn_fn fn, void *user);
 /* Sends a formatted warning to the handler (or stderr when none is set). */
@@ -63,5 +96,9 @@ pf_status pf_fail(pf_context *ctx, pf_status s, const char *fmt, ...)
     __attribute__((format(printf, 3, 4)));
 /* Text of the last failure recorded in this context. */
 const char *pf_context_message(const pf_context *ctx);
+/* Status of the last failure recorded in this context (PF_OK when none), so
+ * that a caller learns why an allocation failed from a code, never from the
+ * message text. */
+pf_status pf_context_status(const pf_context *ctx);
 
 #endif

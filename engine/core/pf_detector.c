@@ -9,19 +9,24 @@
 
 double pf_resonant_cross_section(double wavelength) { return 3.0 * wavelength * wavelength / PF_TWO_PI; }
 
-/* Cell-integrated Gaussian weights for offsets -half..half cells. */
-static double *blur_kernel(double sigma, double h, size_t *half_out)
+/* Cell-integrated Gaussian weights for offsets -half..half cells, over at
+ * most `reach` cells each way (no sample moves further along a line).  The
+ * weights are normalised by the closed form of their untruncated sum,
+ * erf((want + 1/2) h / (sqrt 2 sigma)) with want = ceil(6 sigma / h), so a
+ * kernel cut at the line length still sends the right share off the sensor,
+ * and a huge sigma / h can never become an out-of-range size_t. */
+static double *blur_kernel(pf_context *ctx, double sigma, double h, size_t reach, size_t *half_out)
 {
-    size_t half = (size_t)ceil(6.0 * sigma / h);
-    double *k = malloc((2 * half + 1) * sizeof *k);
+    double want = ceil(6.0 * sigma / h);
+    size_t half = want < (double)reach ? (size_t)want : reach;
+    double *k = pf_alloc(ctx, (2 * half + 1) * sizeof *k);
     if (!k) return NULL;
-    double s = 0, c = 1.0 / (sqrt(2.0) * sigma);
+    double c = 1.0 / (sqrt(2.0) * sigma);
+    double s = erf((want + 0.5) * h * c);
     for (size_t i = 0; i <= 2 * half; i++) {
         double o = (double)i - (double)half;
-        k[i] = 0.5 * (erf((o + 0.5) * h * c) - erf((o - 0.5) * h * c));
-        s += k[i];
+        k[i] = 0.5 * (erf((o + 0.5) * h * c) - erf((o - 0.5) * h * c)) / s;
     }
-    for (size_t i = 0; i <= 2 * half; i++) k[i] /= s;
     *half_out = half;
     return k;
 }
@@ -33,15 +38,15 @@ pf_status pf_field_blur(pf_field *f, const double *sigma)
         if (!(sigma[a] >= 0) || !isfinite(sigma[a]))
             return pf_fail(f->ctx, PF_EINVAL, "point-spread width on axis %d must be >= 0, got %g", a + 1, sigma[a]);
     size_t len = f->n[0] > f->n[1] ? f->n[0] : f->n[1];
-    double *line = malloc(2 * len * sizeof *line);
-    if (!line) return pf_fail(f->ctx, PF_ENOMEM, "out of memory for the point-spread blur");
+    double *line = pf_alloc(f->ctx, 2 * len * sizeof *line);
+    if (!line) return pf_context_status(f->ctx);
     for (int a = 0; a < f->dim; a++) {
         if (sigma[a] == 0) continue;
         size_t half;
-        double *k = blur_kernel(sigma[a], f->step[a], &half);
+        double *k = blur_kernel(f->ctx, sigma[a], f->step[a], f->n[a], &half);
         if (!k) {
-            free(line);
-            return pf_fail(f->ctx, PF_ENOMEM, "out of memory for the point-spread kernel");
+            pf_context_free(f->ctx, line);
+            return pf_context_status(f->ctx);
         }
         size_t n = f->n[a];
         size_t lines = f->total / n, stride = (f->dim == 2 && a == 0) ? f->n[1] : 1;
@@ -61,9 +66,9 @@ pf_status pf_field_blur(pf_field *f, const double *sigma)
             }
             for (size_t j = 0; j < n; j++) base[j * stride] = out[j];
         }
-        free(k);
+        pf_context_free(f->ctx, k);
     }
-    free(line);
+    pf_context_free(f->ctx, line);
     return PF_OK;
 }
 
@@ -73,16 +78,21 @@ typedef struct overlap_list {
     size_t *start, *count; /* per cell: first pixel and number of pixels */
     double *len;           /* per cell: up to maxper lengths */
     size_t maxper;
+    pf_context *ctx;       /* the lists are charged to it */
 } overlap_list;
 
 static int overlaps(const pf_field *f, int a, const pf_camera *cam, overlap_list *o)
 {
     size_t n = f->n[a];
     double h = f->step[a], P = cam->pitch[a], c0 = cam->corner[a];
-    o->maxper = (size_t)ceil(h / P) + 2;
-    o->start = calloc(n, sizeof *o->start);
-    o->count = calloc(n, sizeof *o->count);
-    o->len = calloc(n * o->maxper, sizeof *o->len);
+    /* A cell overlaps at most every pixel of the row (and a tiny pitch must
+     * not make ceil(h / P) an out-of-range size_t). */
+    double per = ceil(h / P) + 2;
+    o->maxper = per < (double)cam->pixels[a] + 2 ? (size_t)per : cam->pixels[a] + 2;
+    o->ctx = f->ctx;
+    o->start = pf_calloc(f->ctx, n, sizeof *o->start);
+    o->count = pf_calloc(f->ctx, n, sizeof *o->count);
+    o->len = pf_calloc(f->ctx, pf_bytes(n, o->maxper), sizeof *o->len);
     if (!o->start || !o->count || !o->len) return 0;
     for (size_t j = 0; j < n; j++) {
         double xc = pf_field_coord(f, a, j), xl = xc - 0.5 * h, xr = xc + 0.5 * h;
@@ -105,9 +115,10 @@ static int overlaps(const pf_field *f, int a, const pf_camera *cam, overlap_list
 
 static void overlaps_free(overlap_list *o)
 {
-    free(o->start);
-    free(o->count);
-    free(o->len);
+    if (!o->ctx) return; /* never filled */
+    pf_context_free(o->ctx, o->start);
+    pf_context_free(o->ctx, o->count);
+    pf_context_free(o->ctx, o->len);
 }
 
 pf_status pf_field_bin(const pf_field *f, const pf_camera *cam, pf_field *out)
@@ -127,12 +138,12 @@ pf_status pf_field_bin(const pf_field *f, const pf_camera *cam, pf_field *out)
     overlap_list ox = {0}, oy = {0};
     int ok = overlaps(f, 0, cam, &ox) && (cam->dim == 1 || overlaps(f, 1, cam, &oy));
     double *rowbuf = NULL;
-    if (ok && cam->dim == 2) ok = (rowbuf = calloc(cam->pixels[1], sizeof *rowbuf)) != NULL;
+    if (ok && cam->dim == 2) ok = (rowbuf = pf_calloc(f->ctx, cam->pixels[1], sizeof *rowbuf)) != NULL;
     if (!ok) {
         overlaps_free(&ox);
         overlaps_free(&oy);
         pf_field_free(out);
-        return pf_fail(f->ctx, PF_ENOMEM, "out of memory binning into pixels");
+        return pf_context_status(f->ctx);
     }
     /* A value is a density; the integral over the overlap of a cell with a
      * pixel is density times the overlap lengths. */
@@ -156,7 +167,7 @@ pf_status pf_field_bin(const pf_field *f, const pf_camera *cam, pf_field *out)
             }
         }
     }
-    free(rowbuf);
+    pf_context_free(f->ctx, rowbuf);
     overlaps_free(&ox);
     overlaps_free(&oy);
     return PF_OK;

@@ -31,7 +31,7 @@ pf_status pf_field_new(pf_context *ctx, int dim, const size_t *n, const double *
     }
     size_t bytes = pf_bytes(total, sizeof(double));
     double *v = pf_alloc(ctx, bytes);
-    if (!v) return strstr(pf_context_message(ctx), "cap") ? PF_ELIMIT : PF_ENOMEM;
+    if (!v) return pf_context_status(ctx);
     memset(v, 0, bytes);
     out->dim = dim;
     out->total = total;
@@ -71,7 +71,7 @@ pf_status pf_field_add_density(pf_field *f, pf_wave *w, pf_rep rep, double weigh
     size_t bytes = g->total * sizeof(double);
     if (!buf) {
         buf = pf_alloc(g->ctx, bytes);
-        if (!buf) return PF_ELIMIT;
+        if (!buf) return pf_context_status(g->ctx);
     }
     pf_status s = pf_wave_density(w, rep, buf);
     if (s == PF_OK)

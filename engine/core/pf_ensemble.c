@@ -35,7 +35,7 @@ pf_status pf_mixture_field(const pf_mixture *m, pf_rep rep, pf_field *out)
     double *scratch = pf_alloc(g->ctx, bytes);
     if (!scratch) {
         pf_field_free(out);
-        return PF_ELIMIT;
+        return pf_context_status(g->ctx);
     }
     for (size_t i = 0; i < m->count && !s; i++)
         if (m->weights[i] > 0) s = pf_field_add_density(out, m->members[i], rep, m->weights[i], scratch);
@@ -51,8 +51,8 @@ pf_status pf_mixture_measure_region(const pf_mixture *m, const pf_region *reg, p
     if (s) return s;
     pf_context *ctx = m->members[0]->grid->ctx;
     if (forced < 0 && !r) return pf_fail(ctx, PF_EINVAL, "a drawn outcome needs a random generator");
-    double *p = malloc(m->count * sizeof *p);
-    if (!p) return pf_fail(ctx, PF_ENOMEM, "out of memory for a mixture measurement");
+    double *p = pf_alloc(ctx, m->count * sizeof *p);
+    if (!p) return pf_context_status(ctx);
     double wsum = 0, pyes = 0;
     for (size_t i = 0; i < m->count && !s; i++) {
         s = pf_wave_region_probability(m->members[i], reg, &p[i]);
@@ -60,14 +60,14 @@ pf_status pf_mixture_measure_region(const pf_mixture *m, const pf_region *reg, p
         pyes += m->weights[i] * p[i];
     }
     if (s) {
-        free(p);
+        pf_context_free(ctx, p);
         return s;
     }
     pyes /= wsum;
     int yes = forced >= 0 ? forced : pf_rng_uniform(r) < pyes;
     double P = yes ? pyes : 1 - pyes;
     if (!(P > 0)) {
-        free(p);
+        pf_context_free(ctx, p);
         return pf_fail(ctx, PF_EINVAL, "forced outcome '%s' has probability 0", yes ? "yes" : "no");
     }
     for (size_t i = 0; i < m->count && !s; i++) {
@@ -79,7 +79,7 @@ pf_status pf_mixture_measure_region(const pf_mixture *m, const pf_region *reg, p
             s = pf_wave_measure_region(m->members[i], reg, NULL, yes, &o, &q);
         }
     }
-    free(p);
+    pf_context_free(ctx, p);
     if (s) return s;
     *outcome = yes;
     *probability = P;
@@ -278,10 +278,10 @@ pf_status pf_wave_fill_coherent(pf_wave *w, const double *center, const double *
     double complex *T[PF_MAX_DIM] = {NULL, NULL, NULL};
     for (int a = 0; a < d; a++) {
         if (!(sigma0[a] > 0)) return pf_fail(g->ctx, PF_EINVAL, "coherent-state width must be positive");
-        T[a] = malloc(g->n[a] * sizeof(double complex));
+        T[a] = pf_alloc(g->ctx, g->n[a] * sizeof(double complex));
         if (!T[a]) {
-            for (int b = 0; b < a; b++) free(T[b]);
-            return pf_fail(g->ctx, PF_ENOMEM, "out of memory building a coherent state");
+            for (int b = 0; b < a; b++) pf_context_free(g->ctx, T[b]);
+            return pf_context_status(g->ctx);
         }
         double c = center[a] + shift[a], s2 = sigma0[a] * sigma0[a];
         double amp = pow(PF_TWO_PI * s2, -0.25);
@@ -301,7 +301,7 @@ pf_status pf_wave_fill_coherent(pf_wave *w, const double *center, const double *
             idx[a] = 0;
         }
     }
-    for (int a = 0; a < d; a++) free(T[a]);
+    for (int a = 0; a < d; a++) pf_context_free(g->ctx, T[a]);
     w->rep = PF_POSITION;
     pf_status s = pf_wave_normalize(w);
     if (s) return s;

@@ -17,11 +17,11 @@ static void segment_tables(pf_grid *g, double tau)
     const size_t n = g->n[0], segs = (n + PF_PHASE_SEG - 1) / PF_PHASE_SEG;
     if (n < PF_PHASE_SEG_MIN) return;
     if (!ft->seg_start) {
-        ft->seg_start = malloc(segs * sizeof(double complex));
-        ft->seg_ratio = malloc(segs * sizeof(double complex));
+        ft->seg_start = pf_alloc(g->ctx, segs * sizeof(double complex));
+        ft->seg_ratio = pf_alloc(g->ctx, segs * sizeof(double complex));
         if (!ft->seg_start || !ft->seg_ratio) {
-            free(ft->seg_start);
-            free(ft->seg_ratio);
+            pf_context_free(g->ctx, ft->seg_start);
+            pf_context_free(g->ctx, ft->seg_ratio);
             ft->seg_start = ft->seg_ratio = NULL;
             return;
         }
@@ -277,11 +277,34 @@ static int can_defer(const pf_wave *w)
     return w->grid->dim >= 2 && w->rep == PF_POSITION;
 }
 
+/* The flight phase c m^2 is computed in doubles; beyond 2^52 rad their
+ * spacing exceeds a radian and the phases, hence the result, are noise.
+ * Physical flights on a grid that holds the state stay near n rad at the
+ * Nyquist limit, so only absurd times reach this. */
+#define FLIGHT_PHASE_MAX 4503599627370496.0 /* 2^52 */
+
+static pf_status check_phase_range(pf_grid *g, double t, double tau)
+{
+    for (int a = 0; a < g->dim; a++) {
+        double dk = PF_TWO_PI / g->span[a], m = (double)(g->n[a] / 2);
+        double top = fabs(0.5 * tau * dk * dk) * m * m;
+        if (!(top <= FLIGHT_PHASE_MAX))
+            return pf_fail(g->ctx, PF_EINVAL,
+                           "a flight of %g s turns the phase at the Nyquist limit of axis %d by %g rad, beyond %g rad "
+                           "where doubles cannot hold a phase to a radian (the result would be noise); fly a shorter "
+                           "time, or use w:fly_long(t) for a long flight",
+                           t, a + 1, top, FLIGHT_PHASE_MAX);
+    }
+    return PF_OK;
+}
+
 pf_status pf_wave_fly(pf_wave *w, double t)
 {
     pf_grid *g = w->grid;
     if (!isfinite(t)) return pf_fail(g->ctx, PF_EINVAL, "flight time must be finite, got %g", t);
     double tau = PF_HBAR * t / w->mass;
+    pf_status range = check_phase_range(g, t, w->deferred.active ? w->deferred.tau + tau : tau);
+    if (range) return range;
     double norm = pf_wave_last_logged_norm(w); /* carried: a flight keeps it */
     if (w->deferred.active || can_defer(w)) {
         if (!w->deferred.active) w->deferred.tau = 0.0;
@@ -334,8 +357,9 @@ pf_status pf_wave_settle_to(pf_wave *w, pf_rep rep)
     double sums[PF_MAX_DIM];
     pf_status s = pf_fused_flight(g, w->store, scale, measure ? sums : NULL);
     /* The sweep's planning needs a scratch array and buffers; under a tight
-     * memory cap the separate steps, which need neither, still work. */
-    if (s == PF_ELIMIT) return settle_separately(w, rep, scale);
+     * memory cap, or when the system is short of memory, the separate steps,
+     * which need neither, still work. */
+    if (s == PF_ELIMIT || s == PF_ENOMEM) return settle_separately(w, rep, scale);
     if (s) return s;
     w->deferred.active = 0;
     if (measure && pf_guard_take_momentum_sums(w, sums)) {

@@ -25,7 +25,7 @@ pf_status pf_wave_current(pf_wave *w, int axis, double *out)
     if (axis < 0 || axis >= g->dim) return pf_fail(g->ctx, PF_EINVAL, "current axis must be 1..%d", g->dim);
     size_t bytes = g->total * sizeof(double complex);
     double complex *d = pf_alloc(g->ctx, bytes);
-    if (!d) return PF_ELIMIT;
+    if (!d) return pf_context_status(g->ctx);
     pf_status s = pf_wave_to(w, PF_MOMENTUM);
     if (s) {
         pf_free(g->ctx, d, bytes);
@@ -67,7 +67,7 @@ typedef struct plane_eval {
 static double *transverse_weights(const pf_grid *g, int axis)
 {
     size_t lines = g->total / g->n[axis];
-    double *w = malloc(lines * sizeof *w);
+    double *w = pf_alloc(g->ctx, lines * sizeof *w);
     if (!w) return NULL;
     for (size_t l = 0; l < lines; l++) {
         size_t rest = l;
@@ -92,14 +92,14 @@ static pf_status plane_init(pf_wave *w, int axis, double at, plane_eval *p)
     p->outer = 1;
     for (int a = 0; a < axis; a++) p->outer *= g->n[a];
     for (int a = axis + 1; a < g->dim; a++) p->inner *= g->n[a];
-    p->e = malloc(2 * p->na * sizeof(double complex));
+    p->e = pf_alloc(g->ctx, 2 * p->na * sizeof(double complex));
     p->line_weight = transverse_weights(g, axis);
     if (!p->e || !p->line_weight) {
-        free(p->e);
-        free(p->line_weight);
+        pf_context_free(g->ctx, p->e);
+        pf_context_free(g->ctx, p->line_weight);
         p->e = NULL;
         p->line_weight = NULL;
-        return pf_fail(g->ctx, PF_ENOMEM, "out of memory for the detector plane");
+        return pf_context_status(g->ctx);
     }
     p->ike = p->e + p->na;
     double u = (at - g->x[axis][0]) / g->span[axis]; /* plane position in periods */
@@ -162,16 +162,16 @@ pf_status pf_wave_flux(pf_wave *w, int axis, double at, double *flux)
     plane_eval p;
     s = plane_init(w, axis, at, &p);
     if (s) return s;
-    double *lines = malloc(p.outer * p.inner * sizeof(double));
+    double *lines = pf_alloc(g->ctx, p.outer * p.inner * sizeof(double));
     if (!lines) {
-        free(p.e);
-        free(p.line_weight);
-        return pf_fail(g->ctx, PF_ENOMEM, "out of memory for the detector plane");
+        pf_context_free(g->ctx, p.e);
+        pf_context_free(g->ctx, p.line_weight);
+        return pf_context_status(g->ctx);
     }
     *flux = plane_flux(w, &p, lines);
-    free(lines);
-    free(p.e);
-    free(p.line_weight);
+    pf_context_free(g->ctx, lines);
+    pf_context_free(g->ctx, p.e);
+    pf_context_free(g->ctx, p.line_weight);
     return PF_OK;
 }
 
@@ -197,13 +197,13 @@ pf_status pf_wave_beyond(pf_wave *w, int axis, double at, double *probability)
     int even = na % 2 == 0;
     size_t L = na + (even ? 1 : 0);
     size_t nc = 2 * L - 1;
-    double complex *C = calloc(nc + L, sizeof(double complex));
-    if (!C) return pf_fail(g->ctx, PF_ENOMEM, "out of memory for the probability beyond a plane");
+    double complex *C = pf_calloc(g->ctx, nc + L, sizeof(double complex));
+    if (!C) return pf_context_status(g->ctx);
     double complex *a = C + nc;
     double *tw = transverse_weights(g, axis);
     if (!tw) {
-        free(C);
-        return pf_fail(g->ctx, PF_ENOMEM, "out of memory for the probability beyond a plane");
+        pf_context_free(g->ctx, C);
+        return pf_context_status(g->ctx);
     }
     for (size_t o = 0; o < outer; o++) {
         for (size_t i = 0; i < inner; i++) {
@@ -233,8 +233,8 @@ pf_status pf_wave_beyond(pf_wave *w, int axis, double at, double *probability)
         double complex ea = cexp(I * PF_TWO_PI * fmod(D * u, 1.0));
         sum += C[j] * (eb - ea) / (I * q);
     }
-    free(C);
-    free(tw);
+    pf_context_free(g->ctx, C);
+    pf_context_free(g->ctx, tw);
     /* |psi|^2 transverse integral: prod spans; storage S needs no other factor. */
     double area = 1;
     for (int ax = 0; ax < g->dim; ax++)
@@ -257,17 +257,17 @@ pf_status pf_wave_arrival(pf_wave *w, int axis, double at, double start, double 
     if (s) return s;
     plane_eval p = {0};
     s = plane_init(c, axis, at, &p);
-    double *lines = s ? NULL : malloc(p.outer * p.inner * sizeof(double));
-    if (!s && !lines) s = pf_fail(g->ctx, PF_ENOMEM, "out of memory for the detector plane");
+    double *lines = s ? NULL : pf_alloc(g->ctx, p.outer * p.inner * sizeof(double));
+    if (!s && !lines) s = pf_context_status(g->ctx);
     if (!s && start != 0) s = pf_wave_fly(c, start);
     if (!s) s = pf_wave_to(c, PF_MOMENTUM);
     for (size_t k = 0; !s && k < count; k++) {
         if (k) s = pf_wave_fly(c, dt);
         if (!s) flux[k] = plane_flux(c, &p, lines);
     }
-    free(lines);
-    free(p.e);
-    free(p.line_weight);
+    pf_context_free(g->ctx, lines);
+    pf_context_free(g->ctx, p.e);
+    pf_context_free(g->ctx, p.line_weight);
     pf_wave_free(c);
     return s;
 }

@@ -19,10 +19,10 @@ pf_status pf_wave_fall(pf_wave *w, double t, const double *accel)
     }
     double complex *tab[PF_MAX_DIM] = {NULL, NULL, NULL};
     for (int a = 0; a < g->dim; a++) {
-        tab[a] = malloc(g->n[a] * sizeof(double complex));
+        tab[a] = pf_alloc(g->ctx, g->n[a] * sizeof(double complex));
         if (!tab[a]) {
-            for (int b = 0; b < a; b++) free(tab[b]);
-            return pf_fail(g->ctx, PF_ENOMEM, "out of memory for phase tables");
+            for (int b = 0; b < a; b++) pf_context_free(g->ctx, tab[b]);
+            return pf_context_status(g->ctx);
         }
         double q = w->mass * accel[a] * t / PF_HBAR;
         if (fabs(q) >= pf_grid_knyquist(g, a))
@@ -57,6 +57,6 @@ pf_status pf_wave_fall(pf_wave *w, double t, const double *accel)
         w->clock += t;
         pf_wave_log_step(w, "fall", "closed-form", t, 0.0, norm);
     }
-    for (int a = 0; a < g->dim; a++) free(tab[a]);
+    for (int a = 0; a < g->dim; a++) pf_context_free(g->ctx, tab[a]);
     return s;
 }

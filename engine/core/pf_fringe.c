@@ -3,6 +3,7 @@
 #include <stdlib.h>
 #include "pf_constants.h"
 #include "pf_fringe.h"
+#include "pf_internal.h"
 
 /* The samples and which of them lie in the window (x need not be sorted). */
 typedef struct win {
@@ -71,13 +72,13 @@ pf_status pf_fringe_analyse(pf_context *ctx, const double *x, const double *y, s
                             double period_guess, pf_fringe_fit *out)
 {
     if (!(from < to)) return pf_fail(ctx, PF_EINVAL, "fringe window needs from < to, got %g and %g", from, to);
-    unsigned char *in = calloc(n ? n : 1, 1);
-    if (!in) return pf_fail(ctx, PF_ENOMEM, "out of memory for the fringe fit");
+    unsigned char *in = pf_calloc(ctx, n ? n : 1, 1);
+    if (!in) return pf_context_status(ctx);
     size_t count = 0;
     double mean = 0, xmin = INFINITY, xmax = -INFINITY, minstep = INFINITY, prev = NAN;
     for (size_t i = 0; i < n; i++) {
         if (!isfinite(x[i]) || !isfinite(y[i])) {
-            free(in);
+            pf_context_free(ctx, in);
             return pf_fail(ctx, PF_EINVAL, "fringe sample %zu is not finite", i + 1);
         }
         if (x[i] < from || x[i] > to) continue;
@@ -90,7 +91,7 @@ pf_status pf_fringe_analyse(pf_context *ctx, const double *x, const double *y, s
         prev = x[i];
     }
     if (count < 8) {
-        free(in);
+        pf_context_free(ctx, in);
         return pf_fail(ctx, PF_EINVAL, "fringe window [%g, %g] holds %zu samples, need at least 8", from, to, count);
     }
     mean /= (double)count;
@@ -143,7 +144,7 @@ pf_status pf_fringe_analyse(pf_context *ctx, const double *x, const double *y, s
     double q = 0.5 * (a + b);
     lsq(&w, q, c);
     double amp = hypot(c[1], c[2]);
-    free(in);
+    pf_context_free(ctx, in);
     if (!(c[0] != 0)) return pf_fail(ctx, PF_EINVAL, "fringe offset is zero; visibility undefined");
     out->wavenumber = q;
     out->period = PF_TWO_PI / q;

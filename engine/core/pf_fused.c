@@ -38,7 +38,7 @@ void pf_fused_release(pf_grid *g)
         *plans[i] = NULL;
     }
     if (fp->buf) pf_free(g->ctx, fp->buf, fp->buf_bytes);
-    free(fp->part);
+    pf_context_free(g->ctx, fp->part);
     memset(fp, 0, sizeof *fp);
 }
 
@@ -65,22 +65,22 @@ static pf_status fused_plan(pf_grid *g)
      * every column on a 64-byte boundary. */
     fp->ld = (n0 + 3) / 4 * 4 + 4;
     fp->buf_bytes = pf_bytes(pf_bytes((size_t)ctx->threads * fp->block, fp->ld), sizeof(double complex));
-    fp->buf = fp->buf_bytes ? pf_alloc(ctx, fp->buf_bytes) : NULL;
+    fp->buf = pf_alloc(ctx, fp->buf_bytes);
     if (!fp->buf) {
         memset(fp, 0, sizeof *fp);
-        return PF_ELIMIT;
+        return pf_context_status(ctx);
     }
-    fp->part = calloc(fp->blocks * PF_MAX_DIM, sizeof(double));
+    fp->part = pf_calloc(g->ctx, fp->blocks * PF_MAX_DIM, sizeof(double));
     if (!fp->part) {
         pf_fused_release(g);
-        return pf_fail(ctx, PF_ENOMEM, "out of memory for the fused flight");
+        return pf_context_status(ctx);
     }
     size_t bytes = pf_bytes(g->total, sizeof(double complex));
     /* Planning with FFTW_MEASURE overwrites its arrays, so plan on scratch. */
     double complex *scratch = pf_alloc(ctx, bytes);
     if (!scratch) {
         pf_fused_release(g);
-        return PF_ELIMIT;
+        return pf_context_status(ctx);
     }
     int tn[PF_MAX_DIM - 1];
     for (int a = 1; a < g->dim; a++) tn[a - 1] = (int)g->n[a];

@@ -16,15 +16,26 @@ static pf_status validate(pf_context *ctx, int dim, const size_t *points, const 
         return pf_fail(ctx, PF_EINVAL, "grid dimension must be 1, 2 or 3, got %d", dim);
     size_t t = 1;
     for (int a = 0; a < dim; a++) {
-        if (points[a] < 2)
-            return pf_fail(ctx, PF_EINVAL, "points on axis %d must be at least 2, got %zu", a + 1, points[a]);
+        if (points[a] < PF_GRID_MIN_POINTS)
+            return pf_fail(ctx, PF_EINVAL, "points on axis %d must be at least %d, got %zu", a + 1,
+                           PF_GRID_MIN_POINTS, points[a]);
         if (points[a] > PF_MAX_AXIS_POINTS)
             return pf_fail(ctx, PF_EINVAL, "points on axis %d must be at most %zu, got %zu", a + 1,
                            PF_MAX_AXIS_POINTS, points[a]);
         if (!isfinite(span[a]) || span[a] <= 0)
             return pf_fail(ctx, PF_EINVAL, "span on axis %d must be finite and positive, got %g", a + 1, span[a]);
-        if (origin && !isfinite(origin[a]))
-            return pf_fail(ctx, PF_EINVAL, "origin on axis %d must be finite, got %g", a + 1, origin[a]);
+        if (span[a] > PF_GRID_MAX_EXTENT)
+            return pf_fail(ctx, PF_EINVAL,
+                           "span on axis %d must be at most %g m (beyond it moments and volumes overflow), got %g m",
+                           a + 1, PF_GRID_MAX_EXTENT, span[a]);
+        if (!(span[a] / (double)points[a] >= PF_GRID_MIN_SPACING))
+            return pf_fail(ctx, PF_EINVAL,
+                           "spacing on axis %d (span / points) must be at least %g m (below it norms and wave "
+                           "numbers overflow), got %g m (span %g m over %zu points)",
+                           a + 1, PF_GRID_MIN_SPACING, span[a] / (double)points[a], span[a], points[a]);
+        if (origin && !(fabs(origin[a]) <= PF_GRID_MAX_EXTENT))
+            return pf_fail(ctx, PF_EINVAL, "origin on axis %d must be finite and at most %g m in size, got %g", a + 1,
+                           PF_GRID_MAX_EXTENT, origin[a]);
         size_t next = pf_bytes(t, points[a]);
         if (next == 0)
             return pf_fail(ctx, PF_ELIMIT, "grid point count overflows");
@@ -41,14 +52,15 @@ static void grid_destroy(pf_grid *g)
     if (g->backward) fftw_destroy_plan(g->backward);
     pf_fused_release(g);
     for (int a = 0; a < PF_MAX_DIM; a++) {
-        free(g->x[a]);
-        free(g->k[a]);
-        free(g->kfactor[a]);
-        free(g->flight.phase[a]);
+        pf_context_free(ctx, g->x[a]);
+        pf_context_free(ctx, g->k[a]);
+        pf_context_free(ctx, g->kfactor[a]);
+        pf_context_free(ctx, g->flight.phase[a]);
     }
-    free(g->flight.seg_start);
-    free(g->flight.seg_ratio);
-    free(g);
+    pf_context_free(ctx, g->flight.seg_start);
+    pf_context_free(ctx, g->flight.seg_ratio);
+    pf_context_free(ctx, g->reduce_part);
+    pf_context_free(ctx, g);
     pf_context_release(ctx);
 }
 
@@ -56,12 +68,11 @@ static pf_status fill_tables(pf_grid *g)
 {
     for (int a = 0; a < g->dim; a++) {
         size_t n = g->n[a];
-        g->x[a] = malloc(n * sizeof(double));
-        g->k[a] = malloc(n * sizeof(double));
-        g->kfactor[a] = malloc(n * sizeof(double complex));
-        g->flight.phase[a] = malloc(n * sizeof(double complex));
-        if (!g->x[a] || !g->k[a] || !g->kfactor[a] || !g->flight.phase[a])
-            return pf_fail(g->ctx, PF_ENOMEM, "out of memory for grid tables");
+        g->x[a] = pf_alloc(g->ctx, n * sizeof(double));
+        g->k[a] = g->x[a] ? pf_alloc(g->ctx, n * sizeof(double)) : NULL;
+        g->kfactor[a] = g->k[a] ? pf_alloc(g->ctx, n * sizeof(double complex)) : NULL;
+        g->flight.phase[a] = g->kfactor[a] ? pf_alloc(g->ctx, n * sizeof(double complex)) : NULL;
+        if (!g->flight.phase[a]) return pf_context_status(g->ctx);
         double dk = PF_TWO_PI / g->span[a];
         size_t half = n / 2;
         double x0 = g->origin[a] - (double)half * g->dx[a];
@@ -94,8 +105,8 @@ pf_status pf_grid_new(pf_context *ctx, int dim, const size_t *points, const doub
                        "a grid of %zu points needs about %.1f MiB for one wave function and planning, "
                        "over the memory cap of %.1f MiB (%.1f MiB in use); use fewer points or raise the cap",
                        total, need / 1048576.0, ctx->memory_cap / 1048576.0, ctx->memory_used / 1048576.0);
-    pf_grid *g = calloc(1, sizeof *g);
-    if (!g) return pf_fail(ctx, PF_ENOMEM, "out of memory for a grid");
+    pf_grid *g = pf_calloc(ctx, 1, sizeof *g);
+    if (!g) return pf_context_status(ctx);
     g->refs = 1;
     g->ctx = ctx;
     pf_context_retain(ctx);
@@ -108,6 +119,7 @@ pf_status pf_grid_new(pf_context *ctx, int dim, const size_t *points, const doub
         g->dx[a] = g->span[a] / (double)g->n[a];
     }
     s = fill_tables(g);
+    if (!s) s = pf_reduce_reserve(g);
     if (s) {
         grid_destroy(g);
         return s;
@@ -137,7 +149,7 @@ pf_status pf_grid_plan(pf_grid *g)
     size_t bytes = pf_bytes(g->total, sizeof(double complex));
     /* Planning with FFTW_MEASURE overwrites its arrays, so plan on scratch. */
     double complex *scratch = pf_alloc(ctx, bytes);
-    if (!scratch) return PF_ELIMIT;
+    if (!scratch) return pf_context_status(ctx);
     int n[PF_MAX_DIM];
     for (int a = 0; a < g->dim; a++) n[a] = (int)g->n[a];
     unsigned flags = pf_context_prepare_planner(ctx);

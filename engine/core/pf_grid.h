@@ -15,10 +15,21 @@
 
 #define PF_MAX_DIM 3
 
+/* Range of grids the engine accepts.  Within it every derived quantity stays
+ * a normal double with wide margin: moments (x^2 <= 1e60), cell volumes and
+ * their inverses in 3D (dx^3 >= 1e-90, span^3 <= 1e90), energies from
+ * k^2 <= (pi / 1e-30 m)^2.  Outside it results would overflow to inf,
+ * underflow to 0 or lose all precision without notice. */
+#define PF_GRID_MIN_POINTS 4         /* per axis: the guards need points inside their edge bands */
+#define PF_GRID_MAX_EXTENT 1e30      /* m: largest span, and largest |origin| */
+#define PF_GRID_MIN_SPACING 1e-30    /* m: smallest span / points */
+
 typedef struct pf_grid pf_grid;
 
-/* Creates a grid.  dim is 1..3; points[a] >= 2; span[a] finite and > 0;
- * origin may be NULL (all zero) or finite values.  The estimated storage of
+/* Creates a grid.  dim is 1..3; points[a] >= PF_GRID_MIN_POINTS; span[a]
+ * at most PF_GRID_MAX_EXTENT with span[a] / points[a] at least
+ * PF_GRID_MIN_SPACING; origin may be NULL (all zero) or values of magnitude
+ * at most PF_GRID_MAX_EXTENT.  The estimated storage of
  * one wave function plus planning scratch is checked against the context's
  * memory cap first.  On success *out holds a grid with one reference. */
 pf_status pf_grid_new(pf_context *ctx, int dim, const size_t *points,

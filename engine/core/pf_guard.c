@@ -105,10 +105,10 @@ static pf_status marginals(const pf_wave *w, double **marg)
 {
     const pf_grid *g = w->grid;
     for (int a = 0; a < g->dim; a++) {
-        marg[a] = calloc(g->n[a], sizeof(double));
+        marg[a] = pf_calloc(g->ctx, g->n[a], sizeof(double));
         if (!marg[a]) {
-            for (int b = 0; b < a; b++) free(marg[b]);
-            return pf_fail(g->ctx, PF_ENOMEM, "out of memory for marginal distributions");
+            for (int b = 0; b < a; b++) pf_context_free(g->ctx, marg[b]);
+            return pf_context_status(g->ctx);
         }
     }
     size_t idx[PF_MAX_DIM] = {0, 0, 0};
@@ -125,13 +125,13 @@ static pf_status marginals(const pf_wave *w, double **marg)
         /* Reorder FFT storage order into ascending k. */
         for (int a = 0; a < g->dim; a++) {
             size_t n = g->n[a];
-            double *asc = malloc(n * sizeof(double));
+            double *asc = pf_alloc(g->ctx, n * sizeof(double));
             if (!asc) {
-                for (int b = 0; b < g->dim; b++) free(marg[b]);
-                return pf_fail(g->ctx, PF_ENOMEM, "out of memory for marginal distributions");
+                for (int b = 0; b < g->dim; b++) pf_context_free(g->ctx, marg[b]);
+                return pf_context_status(g->ctx);
             }
             for (size_t j = 0; j < n; j++) asc[pf_grid_ascending_index(g, a, j)] = marg[a][j];
-            free(marg[a]);
+            pf_context_free(g->ctx, marg[a]);
             marg[a] = asc;
         }
     }
@@ -179,8 +179,20 @@ pf_status pf_wave_extent(pf_wave *w, pf_rep rep, double eps, double *lo, double 
     s = marginals(w, marg);
     if (s) return s;
     extent_from_marginals(g, rep, marg, eps, lo, hi);
-    for (int a = 0; a < g->dim; a++) free(marg[a]);
+    for (int a = 0; a < g->dim; a++) pf_context_free(g->ctx, marg[a]);
     return PF_OK;
+}
+
+/* Point count of a remedy that scales the axis by f: a finite count within
+ * what a grid may have, so a degenerate extent can never turn into an
+ * out-of-range (undefined) conversion to size_t. */
+static size_t remedy_points(double f, size_t n)
+{
+    const double cap = (double)((size_t)1 << 30); /* pf_grid.c's largest axis */
+    double want = ceil(f * (double)n);
+    if (!(want >= (double)n)) want = (double)n;
+    if (want > cap) want = cap;
+    return pf_fft_good_size((size_t)want);
 }
 
 /* Warns about axis a of the current representation with figures and a
@@ -196,7 +208,7 @@ static void warn_axis(pf_wave *w, int a, double p, size_t step, const char *kind
     int have_extent = marginals(w, marg) == PF_OK;
     if (have_extent) {
         extent_from_marginals(g, w->rep, marg, thr, lo, hi);
-        for (int i = 0; i < g->dim; i++) free(marg[i]);
+        for (int i = 0; i < g->dim; i++) pf_context_free(g->ctx, marg[i]);
     }
     char remedy[600];
     if (w->rep == PF_POSITION) {
@@ -205,7 +217,7 @@ static void warn_axis(pf_wave *w, int a, double p, size_t step, const char *kind
         double f = fmax(need / span, 1.25);
         int filled = !have_extent || hi[a] - lo[a] >= 0.98 * span;
         int shift_enough = have_extent && (hi[a] - lo[a]) * GUARD_REMEDY_MARGIN / inner <= span;
-        size_t n_new = pf_fft_good_size((size_t)ceil(f * (double)n));
+        size_t n_new = remedy_points(f, n);
         int len = snprintf(remedy, sizeof remedy,
                            "enlarge the span on axis %d by x%.2f%s (%.4g m -> %.4g m, about %zu points at the same spacing)",
                            a + 1, (double)n_new / (double)n,
@@ -228,7 +240,7 @@ static void warn_axis(pf_wave *w, int a, double p, size_t step, const char *kind
         double knyq = PF_PI / g->dx[a];
         double kmax = have_extent ? fmax(fabs(lo[a]), fabs(hi[a])) : knyq;
         double f = fmax(kmax * GUARD_REMEDY_MARGIN / (inner * knyq), 1.25);
-        size_t n_new = pf_fft_good_size((size_t)ceil(f * (double)n));
+        size_t n_new = remedy_points(f, n);
         pf_context_warn(g->ctx,
                         "grid guard: %.3g of the probability is in the outer band of momentum axis %d "
                         "(outermost %zu of %zu wave numbers at each end, |k| > %.4g 1/m; Nyquist limit pi/dx = %.4g 1/m) "

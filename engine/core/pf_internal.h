@@ -21,9 +21,12 @@ struct pf_context {
     char *wisdom_path;
     int wisdom_loaded;
     size_t memory_cap, memory_used;
+    unsigned long allocations;  /* pf_context_alloc calls so far */
+    unsigned long fail_at;      /* fault injection: fail allocation number fail_at (0: off) */
     pf_warn_fn warn;
     void *warn_user;
     char message[1024];
+    pf_status status;           /* status of the last pf_fail, beside message */
     double guard_threshold;   /* grid guards (pf_guard.c); <= 0 means the default */
 };
 
@@ -76,6 +79,7 @@ struct pf_grid {
     int plan_threads;                 /* thread count the plans were made with, 0 = none */
     pf_flight_tables flight;
     pf_fused_plans fused;
+    double *reduce_part;              /* partial sums of pf_reduce_axis_moments, reserved with the grid */
 };
 
 /* Grid-guard bookkeeping of one wave function (pf_guard.c).  Index r is the
@@ -122,9 +126,17 @@ struct pf_wave {
 };
 
 /* Engine allocation accounted against the context's memory cap, aligned for
- * FFTW (fftw_malloc).  Returns NULL and records the reason on failure. */
+ * FFTW (see pf_context_alloc).  Returns NULL on failure, with the reason in
+ * pf_context_status (PF_ELIMIT or PF_ENOMEM) and the message; callers return
+ * that status, never guess it from the text. */
 void *pf_alloc(pf_context *ctx, size_t bytes);
+/* bytes is what was asked for; the block's own header is what is discharged. */
 void pf_free(pf_context *ctx, void *p, size_t bytes);
+/* n elements of size each (overflow-checked: a product that overflows asks
+ * for 0 bytes, which fails as PF_ELIMIT). */
+#define PF_ALLOC_N(ctx, n, size) pf_alloc((ctx), pf_bytes((n), (size)))
+/* pf_alloc of n zeroed elements (for what calloc did before accounting). */
+void *pf_calloc(pf_context *ctx, size_t n, size_t size);
 /* bytes = count * size with an overflow check; 0 on overflow. */
 size_t pf_bytes(size_t count, size_t size);
 
@@ -191,6 +203,12 @@ double pf_wave_last_logged_norm(pf_wave *w);
  * sums are computed in parallel and the partials are added in block order.
  * weights[a] (per-axis tables, may be NULL for weight 1) multiply |z|^2:
  * sums[0] = sum |z|^2, sums[1+a] = sum w_a |z|^2, sums[1+d+a] = sum w_a^2 |z|^2. */
+/* Reserves g->reduce_part at grid creation: 1 + 2 dim doubles per block of
+ * PF_REDUCE_BLOCK points, so reductions (norms, moments) and the mask
+ * kernels' removed-probability sums allocate nothing and cannot fail for
+ * memory later.  One user at a time: no caller holds it across calls. */
+#define PF_REDUCE_BLOCK ((size_t)16384)
+pf_status pf_reduce_reserve(pf_grid *g);
 pf_status pf_reduce_axis_moments(pf_grid *g, const double complex *z,
                                  const double *const *weights, double *sums);
 

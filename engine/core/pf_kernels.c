@@ -8,6 +8,9 @@
 
 /* Same block size as pf_reduce.c: the split of every sum is fixed. */
 #define PF_KERNEL_BLOCK ((size_t)16384)
+/* The mask kernels keep one partial per block in the grid's reduction
+ * buffer, which holds at least one per PF_REDUCE_BLOCK points. */
+_Static_assert(PF_KERNEL_BLOCK >= PF_REDUCE_BLOCK, "kernel partials fit the grid's reduction buffer");
 
 void pf_kernel_axis_multiply(pf_grid *g, double complex *data, const double complex *const *tables,
                              double complex scale)
@@ -62,8 +65,7 @@ double pf_kernel_axis_mask(pf_grid *g, double complex *data, const double comple
     const int d = g->dim;
     const size_t *n = g->n;
     const size_t nblocks = (g->total + PF_KERNEL_BLOCK - 1) / PF_KERNEL_BLOCK;
-    double *part = calloc(nblocks, sizeof(double));
-    const int have_parts = part != NULL;
+    double *part = g->reduce_part;
     ptrdiff_t nb = (ptrdiff_t)nblocks;
 #pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
     for (ptrdiff_t b = 0; b < nb; b++) {
@@ -88,12 +90,10 @@ double pf_kernel_axis_mask(pf_grid *g, double complex *data, const double comple
                 idx[a] = 0;
             }
         }
-        if (have_parts) part[b] = acc;
+        part[b] = acc;
     }
     double sum = 0;
-    if (!have_parts) return NAN; /* the multiply is done; only the figure is lost */
     for (size_t b = 0; b < nblocks; b++) sum += part[b];
-    free(part);
     return sum;
 }
 
@@ -106,8 +106,7 @@ double pf_kernel_field_mask(pf_grid *g, double complex *data, const double compl
         return 0;
     }
     const size_t nblocks = (g->total + PF_KERNEL_BLOCK - 1) / PF_KERNEL_BLOCK;
-    double *part = calloc(nblocks, sizeof(double));
-    const int have_parts = part != NULL;
+    double *part = g->reduce_part;
     ptrdiff_t nb = (ptrdiff_t)nblocks;
 #pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
     for (ptrdiff_t b = 0; b < nb; b++) {
@@ -118,12 +117,10 @@ double pf_kernel_field_mask(pf_grid *g, double complex *data, const double compl
             acc += abs2(data[i]) * (1.0 - abs2(field[i]));
             data[i] *= field[i];
         }
-        if (have_parts) part[b] = acc;
+        part[b] = acc;
     }
-    if (!have_parts) return NAN;
     double sum = 0;
     for (size_t b = 0; b < nblocks; b++) sum += part[b];
-    free(part);
     return sum;
 }
 

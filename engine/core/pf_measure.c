@@ -83,7 +83,7 @@ pf_status pf_field_region_integral(const pf_field *f, const pf_grid *g, const pf
         return pf_fail(g->ctx, PF_ESTATE, "distribution and region grid differ in shape");
     size_t bytes = g->total * sizeof(double);
     double *wts = pf_alloc(g->ctx, bytes);
-    if (!wts) return PF_ELIMIT;
+    if (!wts) return pf_context_status(g->ctx);
     pf_status s = pf_region_weights(g, r, wts);
     if (s == PF_OK) {
         double sum = 0;

@@ -36,15 +36,15 @@ static pf_status axis_moments(pf_wave *w, const double *const *coords, double *m
     if (!var) return PF_OK;
     double *shifted[PF_MAX_DIM] = {NULL, NULL, NULL};
     for (int a = 0; a < d; a++) {
-        shifted[a] = malloc(g->n[a] * sizeof(double));
+        shifted[a] = pf_alloc(g->ctx, g->n[a] * sizeof(double));
         if (!shifted[a]) {
-            for (int b = 0; b < a; b++) free(shifted[b]);
-            return pf_fail(g->ctx, PF_ENOMEM, "out of memory for moments");
+            for (int b = 0; b < a; b++) pf_context_free(g->ctx, shifted[b]);
+            return pf_context_status(g->ctx);
         }
         for (size_t j = 0; j < g->n[a]; j++) shifted[a][j] = coords[a][j] - m[a];
     }
     s = pf_reduce_axis_moments(g, w->store, (const double *const *)shifted, sums);
-    for (int a = 0; a < d; a++) free(shifted[a]);
+    for (int a = 0; a < d; a++) pf_context_free(g->ctx, shifted[a]);
     if (s) return s;
     for (int a = 0; a < d; a++) var[a] = sums[1 + d + a] / sums[0];
     return PF_OK;

@@ -11,18 +11,20 @@
 
 /* Per-axis scratch tables, allocated together and freed together. */
 typedef struct axis_tables {
+    pf_context *ctx; /* the tables are charged to it */
     double complex *t[PF_MAX_DIM];
 } axis_tables;
 
 static pf_status tables_alloc(pf_grid *g, axis_tables *at, unsigned axes_mask)
 {
     memset(at, 0, sizeof *at);
+    at->ctx = g->ctx;
     for (int a = 0; a < g->dim; a++) {
         if (!(axes_mask & (1u << a))) continue;
-        at->t[a] = malloc(g->n[a] * sizeof(double complex));
+        at->t[a] = pf_alloc(g->ctx, g->n[a] * sizeof(double complex));
         if (!at->t[a]) {
-            for (int b = 0; b < a; b++) free(at->t[b]);
-            return pf_fail(g->ctx, PF_ENOMEM, "out of memory for per-axis tables");
+            for (int b = 0; b < a; b++) pf_context_free(g->ctx, at->t[b]);
+            return pf_context_status(g->ctx);
         }
     }
     return PF_OK;
@@ -30,7 +32,7 @@ static pf_status tables_alloc(pf_grid *g, axis_tables *at, unsigned axes_mask)
 
 static void tables_free(axis_tables *at)
 {
-    for (int a = 0; a < PF_MAX_DIM; a++) free(at->t[a]);
+    for (int a = 0; a < PF_MAX_DIM; a++) pf_context_free(at->ctx, at->t[a]);
 }
 
 static pf_status check_axis(pf_grid *g, int axis, const char *what)
@@ -145,7 +147,7 @@ static pf_status sample_field(pf_wave *w, pf_rep rep, pf_sample_fn fn, void *use
     pf_grid *g = w->grid;
     size_t bytes = pf_bytes(g->total, sizeof(double complex));
     double complex *f = pf_alloc(g->ctx, bytes);
-    if (!f) return g->ctx->message[0] ? PF_ELIMIT : PF_ENOMEM;
+    if (!f) return pf_context_status(g->ctx);
     pf_status s = pf_grid_sample(g, rep, fn, user, NULL, f);
     if (s) {
         pf_free(g->ctx, f, bytes);
@@ -288,7 +290,7 @@ pf_status pf_wave_aperture_circle(pf_wave *w, int axis_a, int axis_b, const doub
         return pf_fail(g->ctx, PF_EINVAL, "center must be finite (m), got (%g, %g)", c0, c1);
     size_t bytes = pf_bytes(g->total, sizeof(double complex));
     double complex *f = pf_alloc(g->ctx, bytes);
-    if (!f) return g->ctx->message[0] ? PF_ELIMIT : PF_ENOMEM;
+    if (!f) return pf_context_status(g->ctx);
     double r2 = radius * radius * (1.0 + 2 * EDGE_EPS);
     size_t idx[PF_MAX_DIM];
     for (size_t off = 0; off < g->total; off++) {

@@ -9,7 +9,13 @@
 #include <string.h>
 #include "pf_internal.h"
 
-#define PF_REDUCE_BLOCK ((size_t)16384)
+
+pf_status pf_reduce_reserve(pf_grid *g)
+{
+    const size_t nblocks = (g->total + PF_REDUCE_BLOCK - 1) / PF_REDUCE_BLOCK;
+    g->reduce_part = PF_ALLOC_N(g->ctx, nblocks * (size_t)(1 + 2 * g->dim), sizeof(double));
+    return g->reduce_part ? PF_OK : pf_context_status(g->ctx);
+}
 
 pf_status pf_reduce_axis_moments(pf_grid *g, const double complex *z, const double *const *weights,
                                  double *sums)
@@ -17,8 +23,9 @@ pf_status pf_reduce_axis_moments(pf_grid *g, const double complex *z, const doub
     const int d = g->dim;
     const int width = 1 + 2 * d;
     const size_t nblocks = (g->total + PF_REDUCE_BLOCK - 1) / PF_REDUCE_BLOCK;
-    double *part = calloc(nblocks * (size_t)width, sizeof(double));
-    if (!part) return pf_fail(g->ctx, PF_ENOMEM, "out of memory for a reduction");
+    /* Every block writes its whole partial below, so the grid's reserved
+     * buffer needs no clearing and a norm never fails for want of memory. */
+    double *part = g->reduce_part;
     const size_t *n = g->n;
     ptrdiff_t nb = (ptrdiff_t)nblocks;
 #pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
@@ -51,6 +58,5 @@ pf_status pf_reduce_axis_moments(pf_grid *g, const double complex *z, const doub
     for (int c = 0; c < width; c++) sums[c] = 0;
     for (size_t b = 0; b < nblocks; b++)
         for (int c = 0; c < width; c++) sums[c] += part[b * (size_t)width + (size_t)c];
-    free(part);
     return PF_OK;
 }

@@ -16,8 +16,8 @@
 static pf_status position_sums(pf_grid *g, const double complex *z, const double *V, double *s)
 {
     size_t nblocks = (g->total + BLOCK - 1) / BLOCK;
-    double *part = calloc(3 * nblocks, sizeof(double));
-    if (!part) return pf_fail(g->ctx, PF_ENOMEM, "out of memory for an energy sum");
+    double *part = pf_calloc(g->ctx, 3 * nblocks, sizeof(double));
+    if (!part) return pf_context_status(g->ctx);
     ptrdiff_t nb = (ptrdiff_t)nblocks;
 #pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
     for (ptrdiff_t b = 0; b < nb; b++) {
@@ -36,7 +36,7 @@ static pf_status position_sums(pf_grid *g, const double complex *z, const double
     s[0] = s[1] = s[2] = 0;
     for (size_t b = 0; b < nblocks; b++)
         for (int c = 0; c < 3; c++) s[c] += part[3 * b + (size_t)c];
-    free(part);
+    pf_context_free(g->ctx, part);
     return PF_OK;
 }
 
@@ -75,7 +75,7 @@ pf_status pf_wave_energy(pf_wave *w, const double *potential, double g, double *
     if (settled) return settled;
     size_t bytes = pf_bytes(gr->total, sizeof(double complex));
     double complex *pos = pf_alloc(gr->ctx, 2 * bytes);
-    if (!pos) return gr->ctx->message[0] ? PF_ELIMIT : PF_ENOMEM;
+    if (!pos) return pf_context_status(gr->ctx);
     double complex *scratch = pos + gr->total;
     memcpy(pos, w->store, bytes);
     pf_status s = PF_OK;
@@ -133,7 +133,7 @@ pf_status pf_wave_relax(pf_wave *w, const pf_relax_spec *spec, pf_relax_info *in
     double complex *scratch = pf_alloc(ctx, bytes_c);
     double *factor = NULL;
     double complex *kin[PF_MAX_DIM] = {NULL, NULL, NULL};
-    if (!scratch) return ctx->message[0] ? PF_ELIMIT : PF_ENOMEM;
+    if (!scratch) return pf_context_status(ctx);
     double dt = spec->dt;
     if (dt <= 0) {
         /* Default: a twentieth of the time hbar / E of the starting state
@@ -154,15 +154,15 @@ pf_status pf_wave_relax(pf_wave *w, const pf_relax_spec *spec, pf_relax_info *in
     if (spec->g == 0) {
         factor = pf_alloc(ctx, bytes_r);
         if (!factor) {
-            s = ctx->message[0] ? PF_ELIMIT : PF_ENOMEM;
+            s = pf_context_status(ctx);
             goto done;
         }
         for (size_t i = 0; i < g->total; i++) factor[i] = exp(-(V[i] - vmin) * f);
     }
     for (int a = 0; a < g->dim; a++) {
-        kin[a] = malloc(g->n[a] * sizeof(double complex));
+        kin[a] = pf_alloc(g->ctx, g->n[a] * sizeof(double complex));
         if (!kin[a]) {
-            s = pf_fail(ctx, PF_ENOMEM, "out of memory for kinetic tables");
+            s = pf_context_status(ctx);
             goto done;
         }
         double c = PF_HBAR * dt / (2.0 * w->mass);
@@ -213,6 +213,6 @@ done:
     if (s) pf_guard_forget(w); /* a failure part-way leaves changed data unlogged */
     pf_free(ctx, scratch, bytes_c);
     if (factor) pf_free(ctx, factor, bytes_r);
-    for (int a = 0; a < g->dim; a++) free(kin[a]);
+    for (int a = 0; a < g->dim; a++) pf_context_free(g->ctx, kin[a]);
     return s;
 }

@@ -80,10 +80,10 @@ pf_status pf_resolution_check_edges(pf_wave *w, pf_rep rep, const char *builder,
     for (int a = 0; a < g->dim; a++) {
         size_t n = g->n[a];
         strip[a] = n / 32 ? n / 32 : 1;
-        mask[a] = calloc(n, sizeof(double));
+        mask[a] = pf_calloc(g->ctx, n, sizeof(double));
         if (!mask[a]) {
-            for (int b = 0; b < a; b++) free(mask[b]);
-            return pf_fail(g->ctx, PF_ENOMEM, "out of memory for an edge check");
+            for (int b = 0; b < a; b++) pf_context_free(g->ctx, mask[b]);
+            return pf_context_status(g->ctx);
         }
         for (size_t j = 0; j < n; j++) {
             int edge;
@@ -99,7 +99,7 @@ pf_status pf_resolution_check_edges(pf_wave *w, pf_rep rep, const char *builder,
     }
     double sums[1 + 2 * PF_MAX_DIM];
     s = pf_reduce_axis_moments(g, w->store, (const double *const *)mask, sums);
-    for (int a = 0; a < g->dim; a++) free(mask[a]);
+    for (int a = 0; a < g->dim; a++) pf_context_free(g->ctx, mask[a]);
     if (s) return s;
     int warned = 0;
     for (int a = 0; a < g->dim && sums[0] > 0; a++) {

@@ -23,7 +23,7 @@ pf_status pf_sampler_init(pf_sampler *s, const pf_field *f)
     s->guide = s->cdf ? pf_alloc(f->ctx, s->nguide * sizeof(size_t)) : NULL;
     if (!s->cdf || !s->guide) {
         pf_sampler_free(s);
-        return PF_ELIMIT;
+        return pf_context_status(f->ctx);
     }
     run = 0;
     for (size_t i = 0; i < f->total; i++) {

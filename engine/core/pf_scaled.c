@@ -142,13 +142,13 @@ static pf_status scaled_stage(pf_wave *w, const double *ta, pf_grid *gout, doubl
      * usual case, and the one the benchmark measures). */
     const int in_place = !padded && !cropped;
     double complex *out = in_place ? w->store : pf_alloc(ctx, bytes);
-    if (!out) return ctx->message[0] && strstr(ctx->message, "cap") ? PF_ELIMIT : PF_ENOMEM;
+    if (!out) return pf_context_status(ctx);
     size_t table_len = 0;
     for (int a = 0; a < d; a++) table_len += 2 * gout->n[a];
-    double complex *tables = malloc(table_len * sizeof(double complex));
+    double complex *tables = pf_alloc(ctx, table_len * sizeof(double complex));
     if (!tables) {
         if (!in_place) pf_free(ctx, out, bytes);
-        return pf_fail(ctx, PF_ENOMEM, "out of memory for chirp tables");
+        return pf_context_status(ctx);
     }
     double complex *pre[PF_MAX_DIM], *post[PF_MAX_DIM];
     double complex *p = tables;
@@ -196,13 +196,13 @@ static pf_status scaled_stage(pf_wave *w, const double *ta, pf_grid *gout, doubl
     int forward = ta[0] > 0; /* all stage durations share the flight's sign */
     s = pf_grid_fft(gout, out, forward ? -1 : +1);
     if (s) {
-        free(tables);
+        pf_context_free(ctx, tables);
         if (!in_place) pf_free(ctx, out, bytes);
         return s;
     }
     /* Pass 2: output chirp and amplitude. */
     chirp_pass(out, &so, Q, threads);
-    free(tables);
+    pf_context_free(ctx, tables);
     /* Move the wave to its new grid. */
     if (!in_place) pf_free(ctx, w->store, pf_bytes(gin->total, sizeof(double complex)));
     w->store = out;
@@ -262,6 +262,20 @@ static pf_status intermediate_grid(const pf_wave *w, double t, const double *t1,
         origin[a] = g->origin[a] + (gout->origin[a] - g->origin[a]) * t1[a] / t;
     }
     return pf_grid_new(g->ctx, g->dim, gout->n, span, origin, out);
+}
+
+/* A flight so long that the image would not fit the engine's range of grids
+ * (pf_grid.h) is refused with the flight time in the message, before the
+ * output grid's own check would report only a span the script never gave. */
+static pf_status check_image_span(pf_context *ctx, double t, const double *span, int d)
+{
+    for (int a = 0; a < d; a++)
+        if (!(span[a] <= PF_GRID_MAX_EXTENT))
+            return pf_fail(ctx, PF_EINVAL,
+                           "a flight of %g s spreads the state over %g m on axis %d, beyond the largest grid span "
+                           "of %g m (the widths and densities would overflow); fly a shorter time",
+                           t, span[a], a + 1, PF_GRID_MAX_EXTENT);
+    return PF_OK;
 }
 
 static pf_status check_time(pf_context *ctx, double t)
@@ -325,6 +339,8 @@ pf_status pf_wave_fly_scaled(pf_wave *w, double t, const size_t *points, const d
         if (!isfinite(origin[a]))
             return pf_fail(gin->ctx, PF_EINVAL, "scaled flight: centre on axis %d must be finite", a + 1);
     }
+    s = check_image_span(gin->ctx, t, span, gin->dim);
+    if (s) return s;
     pf_grid *gout;
     s = pf_grid_new(gin->ctx, gin->dim, n, span, origin, &gout);
     if (s) return s;
@@ -530,6 +546,8 @@ pf_status pf_wave_fly_long(pf_wave *w, double t, const pf_long_flight_opts *o, p
     if (o->grid) return pf_wave_fly_onto(w, t, o->grid);
     double span[PF_MAX_DIM];
     for (int a = 0; a < d; a++) span[a] = D[a] * (double)n_out[a];
+    s = check_image_span(ctx, t, span, d);
+    if (s) return s;
     pf_grid *gout;
     s = pf_grid_new(ctx, d, n_out, span, c, &gout);
     if (s) return s;

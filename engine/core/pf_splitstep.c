@@ -56,7 +56,7 @@ static void ws_free(evolve_ws *ws)
 {
     pf_context *ctx = ws->g->ctx;
     for (int i = 0; i < 2; i++)
-        for (int a = 0; a < PF_MAX_DIM; a++) free(ws->kin[i][a]);
+        for (int a = 0; a < PF_MAX_DIM; a++) pf_context_free(ctx, ws->kin[i][a]);
     if (ws->e1 && !ws->borrowed) pf_free(ctx, ws->e1, ws->bytes_c);
     if (ws->e2 && !ws->borrowed) pf_free(ctx, ws->e2, ws->bytes_c);
     if (ws->vbuf) pf_free(ctx, ws->vbuf, ws->bytes_r);
@@ -194,8 +194,8 @@ static pf_status prepare(evolve_ws *ws)
     int ntab = ws->sc.stages == 1 ? 1 : 2;
     for (int i = 0; i < ntab; i++) {
         for (int a = 0; a < g->dim; a++) {
-            ws->kin[i][a] = malloc(g->n[a] * sizeof(double complex));
-            if (!ws->kin[i][a]) return pf_fail(g->ctx, PF_ENOMEM, "out of memory for kinetic tables");
+            ws->kin[i][a] = pf_alloc(g->ctx, g->n[a] * sizeof(double complex));
+            if (!ws->kin[i][a]) return pf_context_status(g->ctx);
         }
         double c = i == 0 ? ws->sc.c[0] : ws->sc.c[1];
         pf_kernel_kinetic_tables(g, PF_HBAR * c * ws->h / ws->w->mass, NULL, ws->kin[i]);
@@ -213,11 +213,11 @@ static pf_status prepare(evolve_ws *ws)
         }
         if (c) pf_evolve_cache_clear(c); /* free the old arrays before making new ones */
         ws->e1 = pf_alloc(g->ctx, ws->bytes_c);
-        if (!ws->e1) return g->ctx->message[0] ? PF_ELIMIT : PF_ENOMEM;
+        if (!ws->e1) return pf_context_status(g->ctx);
         double f1 = 0.5 * ws->sc.c[0] * ws->h / PF_HBAR;
         if (ws->sc.stages > 1) {
             ws->e2 = pf_alloc(g->ctx, ws->bytes_c);
-            if (!ws->e2) return g->ctx->message[0] ? PF_ELIMIT : PF_ENOMEM;
+            if (!ws->e2) return pf_context_status(g->ctx);
         }
         double f2 = 0.5 * ws->sc.c[1] * ws->h / PF_HBAR;
         const double *V = sp->potential;
@@ -270,7 +270,7 @@ pf_status pf_wave_evolve(pf_wave *w, double t, const pf_evolve_spec *spec, pf_ev
     if (spec->varying) {
         /* Probe V at the start for the range; the first sub-step reuses it. */
         ws.vbuf = pf_alloc(ctx, ws.bytes_r);
-        if (!ws.vbuf) return ctx->message[0] ? PF_ELIMIT : PF_ENOMEM;
+        if (!ws.vbuf) return pf_context_status(ctx);
         if (spec->varying(spec->user, w->clock, ws.vbuf) != 0) {
             ws_free(&ws);
             return PF_ECALLBACK;

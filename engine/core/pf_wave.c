@@ -16,12 +16,12 @@ pf_status pf_wave_new(pf_grid *g, double mass, pf_wave **out)
     *out = NULL;
     if (!isfinite(mass) || mass <= 0)
         return pf_fail(ctx, PF_EINVAL, "mass must be finite and positive (kg), got %g", mass);
-    pf_wave *w = calloc(1, sizeof *w);
-    if (!w) return pf_fail(ctx, PF_ENOMEM, "out of memory for a wave function");
+    pf_wave *w = pf_calloc(ctx, 1, sizeof *w);
+    if (!w) return pf_context_status(ctx);
     w->store = pf_alloc(ctx, data_bytes(g));
     if (!w->store) {
-        free(w);
-        return ctx->message[0] && strstr(ctx->message, "cap") ? PF_ELIMIT : PF_ENOMEM;
+        pf_context_free(ctx, w);
+        return pf_context_status(ctx);
     }
     memset(w->store, 0, data_bytes(g));
     w->grid = g;
@@ -57,10 +57,11 @@ pf_status pf_wave_copy(const pf_wave *src, pf_wave **out)
 void pf_wave_free(pf_wave *w)
 {
     if (!w) return;
-    pf_free(w->grid->ctx, w->store, data_bytes(w->grid));
+    pf_grid *g = w->grid;
+    pf_free(g->ctx, w->store, data_bytes(g));
     pf_steplog_clear(&w->log);
-    pf_grid_release(w->grid);
-    free(w);
+    pf_context_free(g->ctx, w); /* before the grid, which may hold the last reference to the context */
+    pf_grid_release(g);
 }
 
 pf_grid *pf_wave_grid(const pf_wave *w) { return w->grid; }

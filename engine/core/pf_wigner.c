@@ -45,7 +45,7 @@ static pf_status work_init(pf_wave *w, int axis, wig_work *k)
     k->gbuf = pf_alloc(g->ctx, b);
     if (!k->line || !k->half || !k->u || !k->gbuf) {
         work_free(g->ctx, k);
-        return PF_ELIMIT;
+        return pf_context_status(g->ctx);
     }
     return PF_OK;
 }

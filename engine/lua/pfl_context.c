@@ -1,5 +1,7 @@
 /* pfl_context.c - the engine context of a Lua state, error raising, warnings,
  * strict mode, and the pf.setup / pf.run_info functions. */
+#include <errno.h>
+#include <limits.h>
 #include <stdarg.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -60,6 +62,21 @@ static void warn_handler(void *user, const char *text)
     if (L) lua_pop(L, 1);
 }
 
+/* PSIFLIGHT_FAIL_ALLOC=N (developers, DEVELOPERS.md): the N-th engine
+ * allocation of the run fails as if out of memory, so tests can walk every
+ * failure path of a script.  Anything but a positive integer is refused. */
+static void fault_injection(lua_State *L, pf_context *ctx)
+{
+    const char *v = getenv("PSIFLIGHT_FAIL_ALLOC");
+    if (!v || !*v) return;
+    char *end;
+    errno = 0;
+    unsigned long long n = strtoull(v, &end, 10);
+    if (*end || errno || n == 0 || n > ULONG_MAX || v[0] == '-' || v[0] == '+')
+        luaL_error(L, "PSIFLIGHT_FAIL_ALLOC must be a positive integer (allocation number), got '%s'", v);
+    pf_context_fail_allocation(ctx, (unsigned long)n);
+}
+
 static pfl_state *get_state(lua_State *L)
 {
     if (lua_rawgetp(L, LUA_REGISTRYINDEX, &STATE_KEY) == LUA_TUSERDATA) {
@@ -81,6 +98,7 @@ static pfl_state *get_state(lua_State *L)
     st->L = L;
     pf_context_set_warn_handler(st->ctx, warn_handler, st);
     lua_rawsetp(L, LUA_REGISTRYINDEX, &STATE_KEY);
+    fault_injection(L, st->ctx);
     return st;
 }
 
@@ -103,7 +121,9 @@ void pfl_check(lua_State *L, pf_status s, const char *name)
         char text[1400];
         snprintf(text, sizeof text, "%s: %s", name, pf_context_message(st->ctx));
         st->pending = 0;
-        raise_kind(L, st, s == PF_ELIMIT ? PFL_ERROR_LIMIT : PFL_ERROR_SCRIPT, text);
+        /* Out of memory is a resource failure like the cap: same error kind
+         * (exit 5); the message says which of the two it was. */
+        raise_kind(L, st, s == PF_ELIMIT || s == PF_ENOMEM ? PFL_ERROR_LIMIT : PFL_ERROR_SCRIPT, text);
     }
     if (st->pending) {
         char text[1400];
@@ -290,6 +310,9 @@ static int l_run_info(lua_State *L)
     lua_setfield(L, -2, "memory_cap");
     lua_pushnumber(L, (lua_Number)pf_context_memory_used(ctx));
     lua_setfield(L, -2, "memory_used");
+    /* For developers sizing a PSIFLIGHT_FAIL_ALLOC walk. */
+    lua_pushinteger(L, (lua_Integer)pf_context_allocations(ctx));
+    lua_setfield(L, -2, "engine_allocations");
     lua_pushboolean(L, st->strict);
     lua_setfield(L, -2, "strict");
     lua_pushinteger(L, (lua_Integer)st->seed);

@@ -366,15 +366,15 @@ static int l_fringes(lua_State *L)
     pf_field_free(&f);
     pfl_check(L, s, "fringes");
     size_t n = m.n[0];
-    double *x = malloc(n * sizeof *x);
+    double *x = pf_context_alloc(pfl_ctx(L), n * sizeof *x);
     if (!x) {
         pf_field_free(&m);
-        return luaL_error(L, "fringes: out of memory");
+        pfl_check(L, pf_context_status(pfl_ctx(L)), "fringes");
     }
     for (size_t j = 0; j < n; j++) x[j] = pf_field_coord(&m, 0, j);
     pf_fringe_fit fit;
     s = pf_fringe_analyse(pfl_ctx(L), x, m.values, n, lo, hi, guess, &fit);
-    free(x);
+    pf_context_free(pfl_ctx(L), x);
     pf_field_free(&m);
     pfl_check(L, s, "fringes");
     push_fit(L, &fit);

@@ -34,13 +34,13 @@ static int l_current(lua_State *L)
     if (a < 1 || a > d) return luaL_argerror(L, 2, lua_pushfstring(L, "axis must be 1..%d", d));
     pf_field f;
     pfl_check(L, pf_field_for_grid(g, PF_POSITION, &f), "current");
-    double *j = malloc(f.total * sizeof *j);
-    pf_status s = j ? PF_OK : pf_fail(pfl_ctx(L), PF_ENOMEM, "out of memory for the current");
+    double *j = pf_context_alloc(pfl_ctx(L), f.total * sizeof *j);
+    pf_status s = j ? PF_OK : pf_context_status(pfl_ctx(L));
     for (size_t i = 0; i < src.mix.count && !s; i++) {
         s = pf_wave_current(src.mix.members[i], (int)a - 1, j);
         for (size_t k = 0; !s && k < f.total; k++) f.values[k] += src.mix.weights[i] * j[k];
     }
-    free(j);
+    pf_context_free(pfl_ctx(L), j);
     if (s) {
         pf_field_free(&f);
         pfl_check(L, s, "current");

@@ -79,9 +79,9 @@ static int l_grid(lua_State *L)
         lua_geti(L, -1, a + 1);
         int ok;
         lua_Integer n = pfl_tointegerx(L, -1, &ok);
-        if (!ok || n < 2)
-            return luaL_error(L, "grid: points on axis %d must be an integer of at least 2, got %s", a + 1,
-                              pfl_describe(L, -1, buf, sizeof buf));
+        if (!ok || n < PF_GRID_MIN_POINTS)
+            return luaL_error(L, "grid: points on axis %d must be an integer of at least %d, got %s", a + 1,
+                              PF_GRID_MIN_POINTS, pfl_describe(L, -1, buf, sizeof buf));
         points[a] = (size_t)n;
         lua_pop(L, 1);
     }

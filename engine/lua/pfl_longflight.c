@@ -153,12 +153,13 @@ static int l_far_field(lua_State *L)
     int d = pf_grid_dim(g);
     size_t n = pf_grid_total(g);
     if (n > (size_t)1 << 26) return luaL_error(L, "far_field: %zu points is too many for a Lua table", n);
-    double *buf = malloc(n * sizeof *buf);
-    if (!buf) return luaL_error(L, "far_field: out of memory");
+    pf_context *ctx = pfl_ctx(L);
+    double *buf = pf_context_alloc(ctx, n * sizeof *buf);
+    if (!buf) pfl_check(L, pf_context_status(ctx), "far_field");
     pf_far_field_info info;
     pf_status s = pf_wave_far_field(w, t, buf, &info);
     if (s) {
-        free(buf);
+        pf_context_free(ctx, buf);
         pfl_check(L, s, "far_field");
     }
     size_t pts[PF_MAX_DIM];
@@ -168,14 +169,14 @@ static int l_far_field(lua_State *L)
         span[a] = info.spacing[a] * (double)pts[a];
     }
     pf_grid *img;
-    s = pf_grid_new(pfl_ctx(L), d, pts, span, NULL, &img);
+    s = pf_grid_new(ctx, d, pts, span, NULL, &img);
     if (s) {
-        free(buf);
+        pf_context_free(ctx, buf);
         pfl_check(L, s, "far_field");
     }
     pfl_push_grid(L, img); /* owned by Lua from here on */
     if (!lua_checkstack(L, 4)) {
-        free(buf);
+        pf_context_free(ctx, buf);
         return luaL_error(L, "far_field: stack overflow");
     }
     lua_createtable(L, (int)n, 0);
@@ -183,7 +184,7 @@ static int l_far_field(lua_State *L)
         lua_pushnumber(L, buf[i]);
         lua_rawseti(L, -2, (lua_Integer)i + 1);
     }
-    free(buf);
+    pf_context_free(ctx, buf);
     lua_createtable(L, 0, 6);
     lua_pushvalue(L, -3);
     lua_setfield(L, -2, "grid");

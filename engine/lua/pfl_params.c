@@ -230,7 +230,16 @@ static int push_from_text(lua_State *L, const pspec *p, const char *text, char *
                          p->name, p->unit->quantity, p->unit->name);
                 return -1;
             }
+            double typed = num;
             num *= u ? u->si : p->unit->si;
+            /* The number was finite as typed; the unit can still carry it
+             * out of range (1e308 km -> inf, 1e-320 nm -> 0), so check again
+             * in SI. */
+            if (!isfinite(num) || (typed != 0 && !isnormal(num))) {
+                snprintf(err, errsize, "'%s' is %g in SI units (%s), out of the range of a double", text, num,
+                         p->unit->quantity);
+                return -1;
+            }
         } else if (u) {
             snprintf(err, errsize, "'%s' takes a plain number without a unit, got '%s'", p->name, text);
             return -1;

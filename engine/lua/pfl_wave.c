@@ -166,17 +166,19 @@ static int push_density(lua_State *L, pf_rep rep, const char *name)
     pf_wave *w = pfl_check_wave(L, 1);
     size_t n = pf_grid_total(pf_wave_grid(w));
     if (n > (size_t)1 << 26) return luaL_error(L, "%s: %zu points is too many for a Lua table", name, n);
-    double *buf = malloc(n * sizeof *buf);
-    if (!buf) return luaL_error(L, "%s: out of memory", name);
+    /* Charged to the engine's cap like any other array of grid size. */
+    pf_context *ctx = pfl_ctx(L);
+    double *buf = pf_context_alloc(ctx, n * sizeof *buf);
+    if (!buf) pfl_check(L, pf_context_status(ctx), name);
     pf_status s = pf_wave_density(w, rep, buf);
     if (s != PF_OK) {
-        free(buf);
+        pf_context_free(ctx, buf);
         pfl_check(L, s, name);
     }
     /* lua_createtable may raise on memory exhaustion: free first by copying
      * into a table built before any further allocation could fail. */
     if (!lua_checkstack(L, 2)) {
-        free(buf);
+        pf_context_free(ctx, buf);
         return luaL_error(L, "%s: stack overflow", name);
     }
     lua_createtable(L, (int)n, 0);
@@ -184,7 +186,7 @@ static int push_density(lua_State *L, pf_rep rep, const char *name)
         lua_pushnumber(L, buf[i]);
         lua_rawseti(L, -2, (lua_Integer)i + 1);
     }
-    free(buf);
+    pf_context_free(ctx, buf);
     return 1;
 }
 

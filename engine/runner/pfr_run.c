@@ -163,6 +163,24 @@ static int panic(lua_State *L)
 }
 
 /* Loads the script (text only in the sandbox) or the recipe driver. */
+/* Whether the file holds a precompiled chunk (after an optional first '#'
+ * line, as luaL_loadfilex reads it): the sandbox's refusal is then known
+ * from the file itself, not from the wording of Lua's message. */
+static int is_binary_chunk(const char *path)
+{
+    FILE *f = fopen(path, "rb");
+    if (!f) return 0;
+    int c = getc(f);
+    if (c == '#')
+        while (c != EOF && c != '\n') c = getc(f);
+    if (c == '\n') c = getc(f);
+    fclose(f);
+    return c == LUA_SIGNATURE[0];
+}
+
+/* Loads the script: 0 or 1 (arguments pushed) on success; -1 for an error
+ * of the script (message on the stack), -2 when the sandbox refused a
+ * precompiled chunk. */
 static int load_script(lua_State *L, const pfr_options *o, const char *recipe)
 {
     if (recipe) {
@@ -172,7 +190,8 @@ static int load_script(lua_State *L, const pfr_options *o, const char *recipe)
         lua_pushstring(L, recipe);
         return 1;
     }
-    return luaL_loadfilex(L, o->script, o->trusted ? NULL : "t") == LUA_OK ? 0 : -1;
+    if (luaL_loadfilex(L, o->script, o->trusted ? NULL : "t") == LUA_OK) return 0;
+    return !o->trusted && is_binary_chunk(o->script) ? -2 : -1;
 }
 
 /* Runs the loaded chunk and maps the outcome onto an exit status. */
@@ -261,7 +280,7 @@ int pfr_run_script(const pfr_options *o)
         /* Syntax errors already carry file:line. */
         const char *msg = lua_tostring(L, -1);
         fprintf(stderr, "psiflight: %s\n", msg ? msg : "cannot load the script");
-        status = msg && strstr(msg, "attempt to load a binary chunk") ? PFR_EXIT_SANDBOX : PFR_EXIT_SCRIPT;
+        status = nargs == -2 ? PFR_EXIT_SANDBOX : PFR_EXIT_SCRIPT;
         status = pfr_record_end(L, status, msg, o->nsets, o->sets);
     } else {
         status = execute(L, o, &lim, handler, nargs);

@@ -28,7 +28,7 @@ check.truthy(tostring(g):find("grid 2D", 1, true), "grid prints its shape")
 local g2 = pf.grid{points = 16, spacing = 0.5e-6}
 check.near(g2:span(), 8e-6, 1e-15, "span from spacing", "span = points * spacing")
 
-check.fails(function() pf.grid{points = 1, span = 1} end, "one point is refused", "points on axis 1", "at least 2")
+check.fails(function() pf.grid{points = 1, span = 1} end, "one point is refused", "points on axis 1", "at least 4")
 check.fails(function() pf.grid{points = {8, 8}, span = {1, -1}} end, "negative span is refused", "span on axis 2", "-1")
 check.fails(function() pf.grid{points = 8, span = 0 / 0} end, "NaN span is refused", "span", "nan")
 check.fails(function() pf.grid{points = 8} end, "span or spacing required", "span", "spacing")

@@ -175,6 +175,37 @@ static void slice_and_radial(void **state)
     pf_context_release(ctx);
 }
 
+/* A point-spread width far beyond the sensor: once ceil(6 sigma / h) became
+ * an out-of-range size_t (undefined) and a kernel the size of the address
+ * space.  Now the kernel stops at the line length and keeps the untruncated
+ * normalisation, so what lands on the sensor is the Gaussian's share of it:
+ * for one central sample on n cells, erf(n h / (2 sqrt 2 sigma)) at most
+ * (Gaussian probability of an interval, textbook formula), here < 1e-290. */
+static void huge_psf_sends_the_light_off_the_sensor(void **state)
+{
+    (void)state;
+    pf_context *ctx = mu_context();
+    size_t n[1] = {64};
+    double first[1] = {0}, step[1] = {1e-6}, psf[1] = {1e300};
+    pf_field f;
+    MU_OK(pf_field_new(ctx, 1, n, first, step, &f));
+    f.values[32] = 1.0;
+    MU_OK(pf_field_blur(&f, psf));
+    double sum = 0;
+    for (size_t i = 0; i < 64; i++) sum += f.values[i];
+    double bound = erf(64 * 1e-6 / (2 * sqrt(2.0) * 1e300)) * 1.0000001;
+    assert_true(isfinite(sum) && sum >= 0 && sum <= bound);
+    /* A width of a few cells is unchanged in total (kernel inside the line). */
+    for (size_t i = 0; i < 64; i++) f.values[i] = i == 32 ? 1.0 : 0.0;
+    psf[0] = 3e-6;
+    MU_OK(pf_field_blur(&f, psf));
+    sum = 0;
+    for (size_t i = 0; i < 64; i++) sum += f.values[i];
+    MU_NEAR(sum, 1, 1e-12, "a blur inside the line conserves the total (normalised kernel)");
+    pf_field_free(&f);
+    pf_context_release(ctx);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -183,6 +214,7 @@ int main(void)
         cmocka_unit_test(psf_adds_variance),
         cmocka_unit_test(shot_noise_statistics),
         cmocka_unit_test(slice_and_radial),
+        cmocka_unit_test(huge_psf_sends_the_light_off_the_sensor),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

@@ -28,7 +28,27 @@ static void rejects_bad_shapes(void **state)
     assert_int_equal(pf_grid_new(ctx, 0, n2, s1, NULL, &g), PF_EINVAL);
     assert_int_equal(pf_grid_new(ctx, 4, n2, s1, NULL, &g), PF_EINVAL);
     assert_int_equal(pf_grid_new(ctx, 1, n1, s1, NULL, &g), PF_EINVAL);
-    assert_non_null(strstr(pf_context_message(ctx), "at least 2"));
+    assert_non_null(strstr(pf_context_message(ctx), "at least 4"));
+    /* The range of pf_grid.h (PF_GRID_*): inside every derived quantity is a
+     * normal double; outside, results overflowed or underflowed unnoticed
+     * (span 1e300 gave width inf, span 1e-320 gave norm inf). */
+    size_t n3[1] = {3}, n4[1] = {4}, n64a[1] = {64};
+    double huge[1] = {1e300}, tiny[1] = {1e-320}, top[1] = {1e30}, fine[1] = {64e-30}, one[1] = {1.0};
+    double far[1] = {1.1e30};
+    assert_int_equal(pf_grid_new(ctx, 1, n3, s1, NULL, &g), PF_EINVAL);
+    assert_non_null(strstr(pf_context_message(ctx), "got 3"));
+    assert_int_equal(pf_grid_new(ctx, 1, n64a, huge, NULL, &g), PF_EINVAL);
+    assert_non_null(strstr(pf_context_message(ctx), "at most 1e+30 m"));
+    assert_non_null(strstr(pf_context_message(ctx), "got 1e+300 m"));
+    assert_int_equal(pf_grid_new(ctx, 1, n64a, tiny, NULL, &g), PF_EINVAL);
+    assert_non_null(strstr(pf_context_message(ctx), "spacing on axis 1"));
+    assert_int_equal(pf_grid_new(ctx, 1, n64a, one, far, &g), PF_EINVAL);
+    assert_non_null(strstr(pf_context_message(ctx), "origin on axis 1"));
+    /* The limits themselves are accepted. */
+    assert_int_equal(pf_grid_new(ctx, 1, n4, top, NULL, &g), PF_OK);
+    pf_grid_release(g);
+    assert_int_equal(pf_grid_new(ctx, 1, n64a, fine, NULL, &g), PF_OK);
+    pf_grid_release(g);
     assert_int_equal(pf_grid_new(ctx, 2, n2, s2, NULL, &g), PF_EINVAL);
     assert_non_null(strstr(pf_context_message(ctx), "axis 2"));
     size_t n64[1] = {64};
