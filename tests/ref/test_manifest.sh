@@ -22,7 +22,7 @@ def ok(c, label):
 def sha256sum(p):
     return subprocess.run(["sha256sum", p], capture_output=True, text=True, check=True).stdout.split()[0]
 ok(m["format"] == "psiflight-run-manifest" and m["format_version"] == 1, "format and version [BRIEF schema]")
-for key in ["script", "parameters", "seed", "threads", "status", "results", "outputs", "versions", "planning", "wisdom_digest", "guards"]:
+for key in ["script", "parameters", "seed", "threads", "status", "results", "outputs", "modules", "versions", "planning", "plans", "guards"]:
     ok(key in m, "manifest has '%s' [BRIEF schema]" % key)
 ok(m["script"]["sha256"] == sha256sum(script), "script SHA-256 equals sha256sum [coreutils]")
 ok(m["parameters"] == {"alpha": "x", "t": "2e-3", "zeta": "3"} and list(m["parameters"]) == ["alpha", "t", "zeta"],
