@@ -13,6 +13,7 @@
 #include "../io/pf_samples.h"
 #include "../io/pf_table.h"
 #include "pfl.h"
+#include "pfl_params.h"
 
 #define PFL_H5_TYPE "psiflight.h5file"
 
@@ -438,6 +439,7 @@ static pf_grid *grid_from_samples(lua_State *L, const pf_samples *s, const char 
  *   representation=, grid=, mass=, interpolate=false, normalize=}) -> wave */
 static int l_load_wave(lua_State *L)
 {
+    pfl_params_before_work(L); /* --help never computes */
     const char *path = luaL_checkstring(L, 1);
     pfl_files_check(L, path, PFL_ACCESS_READ, "load_wave");
     lua_settop(L, 2);

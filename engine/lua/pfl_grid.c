@@ -6,6 +6,7 @@
 #include <stdio.h>
 #include "../core/pf_constants.h"
 #include "pfl.h"
+#include "pfl_params.h"
 
 typedef struct { pf_grid *g; } pfl_grid_box;
 
@@ -53,6 +54,7 @@ void pfl_check_indices(lua_State *L, int arg, const pf_grid *g, size_t *idx, int
  *         origin = c | {..}} */
 static int l_grid(lua_State *L)
 {
+    pfl_params_before_work(L); /* --help never computes */
     luaL_checktype(L, 1, LUA_TTABLE);
     size_t points[PF_MAX_DIM];
     double span[PF_MAX_DIM], origin[PF_MAX_DIM] = {0, 0, 0}, spacing[PF_MAX_DIM];

@@ -14,6 +14,7 @@
 #include "../io/pf_sha256.h"
 #include "../io/pf_safefile.h"
 #include "pfl.h"
+#include "pfl_params.h"
 
 typedef struct pfl_result {
     char *name, *unit;
@@ -175,6 +176,7 @@ static const char *run_folder(lua_State *L, pfl_record *r)
 
 const char *pfl_output_resolve(lua_State *L, const char *path, const char *fname)
 {
+    pfl_params_before_work(L); /* --help never writes */
     pfl_record *r = get_record(L);
     if (!path || !*path) {
         luaL_error(L, "%s: the file name is empty", fname);
@@ -333,6 +335,15 @@ static const char *relative_to(const char *path, const char *folder)
     return path;
 }
 
+/* 1 when folder holds a manifest (of an earlier run: this run writes its
+ * own only after this check). */
+static int earlier_manifest(const char *folder)
+{
+    char path[4096];
+    if (snprintf(path, sizeof path, "%s/%s", folder, PF_MANIFEST_NAME) >= (int)sizeof path) return 0;
+    return access(path, F_OK) == 0;
+}
+
 int pfl_record_finish(lua_State *L, int ok, const char *error, int nsets, char *const *sets)
 {
     pfl_record *r = get_record(L);
@@ -341,6 +352,12 @@ int pfl_record_finish(lua_State *L, int ok, const char *error, int nsets, char *
      * on the command line, or the default one a writer chose. */
     if (!r->folder && !pfl_output_dir(L)) return 0;
     const char *folder = run_folder(L, r);
+    if (!ok && !r->overwrite && earlier_manifest(folder)) {
+        /* A failed run without --overwrite could not replace any earlier
+         * file, so the earlier run's manifest still describes them: keep it. */
+        fprintf(stderr, "psiflight: this run failed; the earlier run's manifest in %s is kept unchanged\n", folder);
+        return 0;
+    }
     pf_context *ctx = pfl_ctx(L);
     pf_manifest_param *params = calloc((size_t)nsets + 1, sizeof *params);
     pf_manifest_result *results = calloc(r->nresults + 1, sizeof *results);

@@ -24,6 +24,8 @@ typedef struct pfr_manifest {
     char **pnames, **pvalues; /* parameters as text */
     int nresults;
     pfr_result *results;      /* sorted by name */
+    int nmodules;
+    char **msources, **msha256; /* modules: where each was loaded from, its digest */
 } pfr_manifest;
 
 /* Reads folder/manifest.json.  Returns 0; 1 when there is no manifest; -1 when
