@@ -503,6 +503,8 @@ static int l_parameters(lua_State *L)
     int help = lua_toboolean(L, -1);
     lua_pop(L, 1);
     if (help) {
+        luaL_where(L, 1);
+        lua_setfield(L, st, "declared"); /* the runner tells a listing from "declares nothing" */
         print_listing(L, label, ps, n);
         lua_pushlightuserdata(L, (void *)&HELP_STOP);
         return lua_error(L);
