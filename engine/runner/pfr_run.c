@@ -168,12 +168,14 @@ static int prepare(lua_State *L)
         for (int i = 0; i < o->ndata; i++)
             if (pfl_files_allow(L, o->data[i], PFL_ACCESS_READ) != 0)
                 return luaL_error(L, "--data %s: %s", o->data[i], strerror(errno));
-        if (o->out && pfl_files_allow(L, o->out, PFL_ACCESS_WRITE) != 0)
-            return luaL_error(L, "--out %s: %s", o->out, strerror(errno));
+        /* --help writes nothing, so its --out need not exist. */
+        const char *out = o->help ? NULL : o->out;
+        if (out && pfl_files_allow(L, out, PFL_ACCESS_WRITE) != 0)
+            return luaL_error(L, "--out %s: %s", out, strerror(errno));
         /* A bundled recipe run without --out or --data has no folder at
          * all; an empty policy would allow everything, so it gets one
          * harmless read-only root instead. */
-        if (!rs->script_dir && !o->ndata && !o->out) pfl_files_allow(L, "/dev/null", PFL_ACCESS_READ);
+        if (!rs->script_dir && !o->ndata && !out) pfl_files_allow(L, "/dev/null", PFL_ACCESS_READ);
     }
     pfr_modules_install(L, rs->script_dir, sandboxed);
     return 0;
