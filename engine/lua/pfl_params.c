@@ -394,7 +394,15 @@ static const char *push_default_text(lua_State *L, const pspec *p)
     if (lua_type(L, -1) == LUA_TNUMBER) {
         char buf[64];
         if (lua_isinteger(L, -1)) snprintf(buf, sizeof buf, "%lld", (long long)lua_tointeger(L, -1));
-        else snprintf(buf, sizeof buf, "%.17g", lua_tonumber(L, -1));
+        else {
+            /* The shortest text that reads back to the same double, so a
+             * default typed as 1.4 is shown as 1.4, not 1.3999999999999999. */
+            double v = lua_tonumber(L, -1);
+            for (int prec = 15; prec <= 17; prec++) {
+                snprintf(buf, sizeof buf, "%.*g", prec, v);
+                if (strtod(buf, NULL) == v) break;
+            }
+        }
         lua_pop(L, 1);
         lua_pushfstring(L, "%s%s", buf, p->unit ? p->unit->name : "");
     } else if (lua_type(L, -1) == LUA_TBOOLEAN) {
