@@ -71,8 +71,15 @@ int pfr_manifest_read(const char *folder, pfr_manifest *m, char *err, size_t err
         snprintf(err, errsize, "%s: cannot read: %s", path, strerror(errno));
         return -1;
     }
-    cJSON *root = cJSON_Parse(text);
+    int rc = pfr_manifest_parse(text, strlen(text), path, m, err, errsize);
     free(text);
+    return rc;
+}
+
+int pfr_manifest_parse(const char *text, size_t len, const char *path, pfr_manifest *m, char *err, size_t errsize)
+{
+    memset(m, 0, sizeof *m);
+    cJSON *root = cJSON_ParseWithLength(text, len);
     if (!root) return snprintf(err, errsize, "%s: not valid JSON", path), -1;
     int rc = 0;
     const cJSON *fmt = cJSON_GetObjectItemCaseSensitive(root, "format");

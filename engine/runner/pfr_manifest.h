@@ -32,6 +32,9 @@ typedef struct pfr_manifest {
  * it is not a psiflight run manifest of a known format version (err says
  * why). */
 int pfr_manifest_read(const char *folder, pfr_manifest *m, char *err, size_t errsize);
+/* The same from text already in memory (len bytes, need not end in NUL);
+ * path only names the source in err.  The entry point for fuzzing. */
+int pfr_manifest_parse(const char *text, size_t len, const char *path, pfr_manifest *m, char *err, size_t errsize);
 void pfr_manifest_free(pfr_manifest *m);
 /* The parameter's text, or NULL. */
 const char *pfr_manifest_param(const pfr_manifest *m, const char *name);
