@@ -97,7 +97,7 @@ const char *pf_context_wisdom_path(const pf_context *ctx) { return ctx->wisdom_p
 void pf_context_wisdom_digest(const pf_context *ctx, char out[17])
 {
     (void)ctx;
-    uint64_t h = 1469598103934665603ull; /* FNV-1a 64 offset basis */
+    uint64_t h = 14695981039346656037ull; /* FNV-1a 64 offset basis */
     char *text = fftw_export_wisdom_to_string();
     if (text) {
         for (const unsigned char *p = (const unsigned char *)text; *p; p++) {

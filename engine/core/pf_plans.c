@@ -33,7 +33,7 @@ pf_status pf_context_note_plans(pf_context *ctx, const char *kind, const pf_grid
     if (len < (int)sizeof note.label)
         snprintf(note.label + len, sizeof note.label - (size_t)len, ", %d thread%s", ctx->threads,
                  ctx->threads == 1 ? "" : "s");
-    uint64_t h = 1469598103934665603ull; /* FNV-1a 64 offset basis */
+    uint64_t h = 14695981039346656037ull; /* FNV-1a 64 offset basis */
     for (int i = 0; i < nplans; i++) {
         if (!plans[i]) continue;
         /* FFTW's own text of the plan tree: algorithms, radices, loops and
