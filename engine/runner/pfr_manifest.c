@@ -23,7 +23,14 @@ static char *slurp(const char *path, int *missing)
     while (buf && (got = fread(buf + n, 1, cap - n, f)) > 0) {
         n += got;
         if (n == cap) {
-            if (cap >= MANIFEST_MAX_BYTES) break;
+            if (cap >= MANIFEST_MAX_BYTES) {
+                /* Larger than any manifest psiflight writes: refuse it
+                 * rather than parse a truncated text. */
+                free(buf);
+                fclose(f);
+                errno = EFBIG;
+                return NULL;
+            }
             char *nb = realloc(buf, 2 * cap + 1);
             if (!nb) {
                 free(buf);
