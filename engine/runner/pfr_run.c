@@ -64,8 +64,7 @@ int pfr_make_folders(const char *path)
     return 0;
 }
 
-/* 1 when path has a ".." component. */
-static int has_dotdot(const char *path)
+int pfr_path_has_dotdot(const char *path)
 {
     for (const char *p = path; *p;) {
         size_t n = strcspn(p, "/");
@@ -84,7 +83,7 @@ static int has_dotdot(const char *path)
 static int check_out_folder(const pfr_options *o)
 {
     if (!o->out || o->help) return PFR_EXIT_OK;
-    if (!o->trusted && has_dotdot(o->out)) {
+    if (!o->trusted && pfr_path_has_dotdot(o->out)) {
         fprintf(stderr, "psiflight: --out %s: the sandbox refuses output folders with '..'; give a folder below "
                         "the working folder or an absolute path (or run a script you trust with --trusted)\n", o->out);
         return PFR_EXIT_SANDBOX;

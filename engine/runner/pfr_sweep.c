@@ -422,6 +422,12 @@ int pfr_sweep_main(const pfr_options *o, const char *argv0)
     ssize_t len = readlink("/proc/self/exe", s.self, sizeof s.self - 1);
     if (len > 0) s.self[len] = 0;
     else snprintf(s.self, sizeof s.self, "%s", argv0);
+    if (st == PFR_EXIT_OK && !o->trusted && pfr_path_has_dotdot(o->out)) {
+        /* Every point would be refused by the sandbox; say so once, first. */
+        fprintf(stderr, "psiflight: --out %s: the sandbox refuses output folders with '..'; give a folder below "
+                        "the working folder or an absolute path (or run a script you trust with --trusted)\n", o->out);
+        st = PFR_EXIT_SANDBOX;
+    }
     if (st == PFR_EXIT_OK && pfr_make_folders(o->out) != 0)
         st = pfr_usage_error("cannot create the sweep folder %s: %s", o->out, strerror(errno));
     if (st != PFR_EXIT_OK) {

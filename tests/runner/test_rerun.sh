@@ -27,6 +27,11 @@ ok "the script did not start"
 [ ! -e "$work/x" ] || fail "no folder was created"
 ok "no folder was created"
 has "'..'" "the message names the rule"
+cd "$work/sub"
+expect 4 "sweep --out ../y refused before any point" -- "$runner" sweep "$work/s.lua" --vary n=1,2 --out ../y
+cd "$work"
+[ ! -e "$work/y" ] || fail "the sweep created its folder"
+ok "the refused sweep created nothing"
 # An --out that is a file cannot be a folder: usage error before the script.
 : >"$work/plainfile"
 expect 2 "--out naming a file" -- "$runner" run "$work/s.lua" --out "$work/plainfile"
