@@ -87,4 +87,15 @@ PY
 ok "flagship --set tof=3ms flies 3 ms (manifest result tof)"
 expect 2 "flagship refuses a parameter it does not have" -- "$runner" run "$flag" --set tof_ms=3 --planning estimate
 has "unknown parameter 'tof_ms'" "names the unknown parameter"
+# Every example declares its parameters (people copy them): --help lists
+# them and computes nothing.
+n=0
+for ex in "$root"/examples/*.lua "$root"/examples/recipes/*.lua; do
+  expect 0 "$(basename "$ex") --help" -- "$runner" run "$ex" --help
+  has "Parameters of" "$(basename "$ex") declares its parameters"
+  case "$out" in *"declares no parameters"*) fail "$(basename "$ex") declares no parameters";; esac
+  n=$((n + 1))
+done
+[ "$n" -ge 12 ] || fail "only $n examples found"
+ok "all $n examples declare parameters"
 done_checks
