@@ -13,26 +13,25 @@
 -- job, under the lab's laser-safety rules and the supervision of its
 -- qualified staff.
 --
--- Run: build/psiflight run examples/grating_gravity_aperture.lua [--set depth=1.4] [--set slit_um=7]
+-- Run: build/psiflight run examples/grating_gravity_aperture.lua [--set depth=1.4] [--set slit=7um]
 local pf = require "psiflight"
-
--- CODATA 2018 (h exact in the 2019 SI); the 23Na mass from the engine's
--- species table (AME2020).
-local h = 6.62607015e-34
-local hbar = h / (2 * math.pi)
-local mass = pf.mass("23Na")
-local gravity = {0, -9.80665}                  -- standard gravity along -y (m/s^2)
-
-local params = {
-  trap_hz   = tonumber(pf.params.trap_hz) or 150,   -- isotropic trap frequency
-  slosh_um  = tonumber(pf.params.slosh_um) or 2,    -- sudden trap displacement along x
-  depth     = tonumber(pf.params.depth) or 1.4,     -- grating pulse area (rad)
-  period_um = tonumber(pf.params.period_um) or 4.0, -- grating period (shallow-angle standing wave)
-  fall_ms   = tonumber(pf.params.fall_ms) or 2.5,   -- fall between grating and slit
-  slit_um   = tonumber(pf.params.slit_um) or 7,     -- slit width around the +1 order
-  lens_ms   = tonumber(pf.params.lens_ms) or 3.0,   -- focal time of the lens pulse
-  last_ms   = tonumber(pf.params.last_ms) or 1.5,   -- fall from the lens to the detector
+-- Every number a person may change, with its unit; the script receives SI.
+local params = pf.parameters{
+  trap   = {default = 150, unit = "Hz", help = "isotropic trap frequency", min = 20, max = 1000},
+  slosh  = {default = 2, unit = "um", help = "sudden trap displacement along x"},
+  depth  = {default = 1.4, unit = "rad", help = "grating pulse area"},
+  period = {default = 4.0, unit = "um", help = "grating period (shallow-angle standing wave)", min = 2},
+  fall   = {default = 2.5, unit = "ms", help = "fall between grating and slit"},
+  slit   = {default = 7, unit = "um", help = "slit width around the +1 order"},
+  lens   = {default = 3.0, unit = "ms", help = "focal time of the lens pulse"},
+  last   = {default = 1.5, unit = "ms", help = "fall from the lens to the detector"},
 }
+
+-- CODATA 2018 constants and the 23Na mass from the engine's tables
+-- (species table: AME2020).
+local h, hbar = pf.constants.h, pf.constants.hbar
+local mass = pf.mass("23Na")
+local gravity = {0, -pf.constants.g_n}         -- standard gravity along -y (m/s^2)
 
 -- x: spacing 0.31 um resolves the grating's harmonics up to order +-6
 -- (k_n = 2 pi n / period below pi / dx) and holds them after the fall;
@@ -43,7 +42,7 @@ local y_trap = 40e-6                               -- trap centre height above t
 -- The whole protocol as one function of its parameters: rerun it with
 -- other numbers, or call it from a sweep.
 local function run_sequence(p)
-  local omega = 2 * math.pi * p.trap_hz
+  local omega = 2 * math.pi * p.trap
   local k = 0.5 * mass * omega * omega
   local function trap(dx)
     return function(x, y) return k * ((x - dx) ^ 2 + (y - y_trap) ^ 2) end
@@ -57,27 +56,27 @@ local function run_sequence(p)
     gs.energy / (hbar * omega), gs.steps))
 
   -- Sudden trap displacement: 1 ms of sloshing, fourth-order split-step.
-  w:evolve(1e-3, {potential = trap(p.slosh_um * 1e-6), dt = 10e-6, order = 4})
+  w:evolve(1e-3, {potential = trap(p.slosh), dt = 10e-6, order = 4})
   print(string.format("after 1 ms in the displaced trap: <x> = %.3f um, <v_x> = %.3f mm/s (classical %.3f, %.3f)",
     w:position_mean() * 1e6, w:velocity_mean() * 1e3,
-    p.slosh_um * (1 - math.cos(omega * 1e-3)), p.slosh_um * 1e-6 * omega * math.sin(omega * 1e-3) * 1e3))
+    p.slosh * 1e6 * (1 - math.cos(omega * 1e-3)), p.slosh * omega * math.sin(omega * 1e-3) * 1e3))
 
   w:fly(0.3e-3)                                                          -- release
-  w:grating{depth = p.depth, period = p.period_um * 1e-6}               -- thin phase grating along x
-  w:fall(p.fall_ms * 1e-3, gravity)                                     -- orders separate while falling
-  local v_order = h / (mass * p.period_um * 1e-6)
-  local x_plus = w:position_mean() + v_order * p.fall_ms * 1e-3   -- +1 order centre
+  w:grating{depth = p.depth, period = p.period}               -- thin phase grating along x
+  w:fall(p.fall, gravity)                                     -- orders separate while falling
+  local v_order = h / (mass * p.period)
+  local x_plus = w:position_mean() + v_order * p.fall   -- +1 order centre
   -- The slit is the image of a razor-edge mask, so its edges are rounded
   -- over about 0.4 um (a hard-edged w:slit would scatter a little
   -- probability to wave numbers this grid cannot hold).
-  local x1, x2, edge = x_plus - 0.5 * p.slit_um * 1e-6, x_plus + 0.5 * p.slit_um * 1e-6, 0.4e-6
+  local x1, x2, edge = x_plus - 0.5 * p.slit, x_plus + 0.5 * p.slit, 0.4e-6
   local _, lost = w:mask(function(x, y)
     return 0.25 * (1 + math.tanh((x - x1) / edge)) * (1 + math.tanh((x2 - x) / edge))
   end)
   print(string.format("slit of %.1f um at x = %.2f um keeps the +1 order: %.1f%% of the atoms removed",
-    p.slit_um, x_plus * 1e6, 100 * lost))
-  w:lens(p.lens_ms * 1e-3, {axis = 1, center = {x_plus, 0}})           -- refocus along x only
-  w:fall(p.last_ms * 1e-3, gravity)
+    p.slit * 1e6, x_plus * 1e6, 100 * lost))
+  w:lens(p.lens, {axis = 1, center = {x_plus, 0}})           -- refocus along x only
+  w:fall(p.last, gravity)
   return w
 end
 
@@ -87,6 +86,6 @@ local sx, sy = w:position_width()
 print(string.format("detector: <x> = %.2f um, <y> = %.2f um, widths %.3f um (x) x %.3f um (y), surviving fraction %.4f",
   mx * 1e6, my * 1e6, sx * 1e6, sy * 1e6, w:norm()))
 print(string.format("free fall check: y drop over the %.1f ms under gravity = %.2f um (g t^2 / 2 = %.2f um plus drift)",
-  params.fall_ms + params.last_ms, (y_trap - my) * 1e6, 0.5 * 9.80665 * ((params.fall_ms + params.last_ms) * 1e-3) ^ 2 * 1e6))
+  (params.fall + params.last) * 1e3, (y_trap - my) * 1e6, 0.5 * pf.constants.g_n * (params.fall + params.last) ^ 2 * 1e6))
 print()
 print(w:log_text())

@@ -11,16 +11,19 @@
 -- not a prescription for laser powers.  Local laser-safety rules and the
 -- qualified staff of the lab come first.
 --
--- Run: build/psiflight run examples/kicked_split.lua [--set tof_ms=12]
+-- Run: build/psiflight run examples/kicked_split.lua [--set tof=10ms]
 local pf = require "psiflight"
 local U, C = pf.units, pf.constants
+local p = pf.parameters{
+  tof = {default = 12, unit = "ms", help = "free flight after the Bragg split", min = 0, max = 14},
+}
 
 local rb = pf.species("87Rb")
 local omega = 55 * U.twopi_Hz
 local lambda = 780.241 * U.nm
 local hk2 = 2 * pf.photon_momentum(lambda)       -- two-photon recoil 2 hbar k
 local v_rec = hk2 / rb.mass
-local tof = (tonumber(pf.params.tof_ms) or 12) * U.ms
+local tof = p.tof
 
 print(string.format("Marram Hill: %s, m = %.10f u (%s), trap 2 pi x %.0f Hz", rb.label, rb.mass_u, rb.source, omega / (2 * math.pi)))
 print(string.format("two-photon recoil at %.3f nm: 2 hbar k = %.6e kg m/s, velocity %.4f mm/s, energy h x %.3f kHz",

@@ -1,7 +1,7 @@
 -- release_tof.lua - flagship example: time-of-flight of a potassium-39 cloud
 -- released from an elongated optical trap in the (invented) Kestrel Row
 -- quantum-gas lab.  The cloud starts in the trap's ground state: tight along
--- x (2 pi x 1.2 kHz), loose along y (2 pi x 150 Hz), drifting slowly along
+-- x (2 pi x 1.2 kHz by default), loose along y (2 pi x 150 Hz), drifting slowly along
 -- x.  After release the tight axis expands fastest, so the aspect ratio
 -- inverts during the flight - the classic time-of-flight signature.
 --
@@ -15,32 +15,31 @@
 -- flight, computed widths against the textbook law, and the space-time
 -- carpet of the cloud's tight-axis profile) and the run manifest.
 --
--- Run: build/psiflight run examples/release_tof.lua [--set tof_ms=5] [--overwrite]
+-- The outputs are model predictions of ideal free flight (no gravity, no
+-- interactions, no residual fields), not settings for the lab's lasers or
+-- traps: local safety rules and the lab's qualified staff come first.
+--
+-- Run: build/psiflight run examples/release_tof.lua [--set tof=8ms] [--set trap_x=900Hz]
+--      (--help lists the parameters; a bare number is read in the unit shown)
 local pf = require "psiflight"
+local p = pf.parameters{
+  tof    = {default = 5, unit = "ms", help = "time of flight after release", min = 0.5, max = 20},
+  trap_x = {default = 1200, unit = "Hz", help = "trap frequency along x (the tight axis)", min = 100},
+  trap_y = {default = 150, unit = "Hz", help = "trap frequency along y (the loose axis)", min = 50},
+  drift  = {default = 1.5, unit = "mm/s", help = "residual drift of the cloud along x at release"},
+}
 
--- CODATA 2018: h exact (2019 SI), atomic mass constant u.
-local h = 6.62607015e-34
-local hbar = h / (2 * math.pi)
-local u = 1.66053906660e-27
-local mass = pf.mass("39K")              -- 39K atomic mass, AME2020 (species table)
-local omega_x = 2 * math.pi * 1200.0    -- trap frequencies (rad/s)
-local omega_y = 2 * math.pi * 150.0
-local drift = 1.5e-3                    -- residual drift along x (m/s)
-local tof_ms = tonumber(pf.params.tof_ms) or 5.0
+local hbar = pf.constants.hbar          -- CODATA 2018 (engine constants table)
+local mass = pf.mass("39K")             -- 39K atomic mass, AME2020 (species table)
+local drift = p.drift                   -- m/s
+local tof_ms = p.tof * 1e3              -- the table below is printed in ms
 
 -- Ground-state widths sqrt(hbar / 2 m omega) (harmonic oscillator, textbook).
-local sx = math.sqrt(hbar / (2 * mass * omega_x))
-local sy = math.sqrt(hbar / (2 * mass * omega_y))
+local sx = math.sqrt(hbar / (2 * mass * 2 * math.pi * p.trap_x))
+local sy = math.sqrt(hbar / (2 * mass * 2 * math.pi * p.trap_y))
 
 local grid = pf.grid{points = {1024, 256}, span = {210e-6, 80e-6}}
-local k0 = mass * drift / hbar
-local cloud = pf.wave(grid, {
-  mass = mass,
-  position = function(x, y)
-    local amp = math.exp(-x * x / (4 * sx * sx) - y * y / (4 * sy * sy))
-    return amp * math.cos(k0 * x), amp * math.sin(k0 * x)
-  end,
-})
+local cloud = pf.ground_state(grid, {mass = mass, frequency = {p.trap_x, p.trap_y}, velocity = {drift, 0}})
 
 local trapped = cloud:copy()  -- kept for the output file
 
@@ -48,12 +47,16 @@ local function width_law(s0, t)
   return s0 * math.sqrt(1 + (hbar * t / (2 * mass * s0 * s0)) ^ 2)
 end
 
-print("psiflight flagship: 39K release from a 1.2 kHz x 150 Hz trap (Kestrel Row lab)")
+print(string.format("psiflight flagship: 39K release from a %.4g Hz x %.4g Hz trap (Kestrel Row lab)", p.trap_x, p.trap_y))
 print(string.format("grid %d x %d points, span %.0f x %.0f um; sigma0 = %.4f x %.4f um",
   grid:points(1), grid:points(2), grid:span(1) * 1e6, grid:span(2) * 1e6, sx * 1e6, sy * 1e6))
 print(" t (ms)   sigma_x (um)  textbook      sigma_y (um)  textbook      <x> (um)   drift     aspect y/x")
 local worst = 0
-local times = {0, 0.5, 1, 2, 3.5, tof_ms}
+local times = {}
+for _, tms in ipairs{0, 0.5, 1, 2, 3.5} do  -- table rows before the final time
+  if tms < tof_ms then times[#times + 1] = tms end
+end
+times[#times + 1] = tof_ms
 local rows = {t = {}, sx = {}, sx_law = {}, sy = {}, sy_law = {}, mx = {}}
 local flown = 0
 for _, tms in ipairs(times) do
@@ -126,13 +129,7 @@ local widths_path = pf.picture_lines("widths.png", {
 
 -- The tight axis alone, as a 1D state: its density over x and t.
 local line = pf.grid{points = grid:points(1), span = grid:span(1)}
-local cut = pf.wave(line, {
-  mass = mass,
-  position = function(x)
-    local amp = math.exp(-x * x / (4 * sx * sx))
-    return amp * math.cos(k0 * x), amp * math.sin(k0 * x)
-  end,
-})
+local cut = pf.ground_state(line, {mass = mass, frequency = p.trap_x, velocity = drift})
 local carpet_path = pf.picture_carpet("carpet_x.png", cut, {
   duration = flown, frames = 120, title = "tight-axis profile during the flight (each time scaled to its peak)",
   per_frame = true, x_range = {-30e-6, 45e-6},

@@ -13,18 +13,21 @@
 -- preparation); they are no substitute for the lab's own calibration, and
 -- local laser-safety rules and qualified staff take precedence.
 --
--- Run: build/psiflight run examples/state_gallery.lua
+-- Run: build/psiflight run examples/state_gallery.lua [--set li_trap=2kHz]
 local pf = require "psiflight"
 local U, C = pf.units, pf.constants
+local p = pf.parameters{
+  li_trap = {default = 1.5, unit = "kHz", help = "trap frequency of the 6Li oscillator states", min = 0.5, max = 5},
+}
 pf.setup{planning = "estimate"}
 
 print("Ouse Bank state gallery")
 
--- 6Li in a 2 pi x 1.5 kHz trap, n = 0..3.
+-- 6Li in a 2 pi x 1.5 kHz trap (by default), n = 0..3.
 local li = pf.mass("6Li")
-local w_li = 1.5 * U.twopi_kHz
+local w_li = 2 * math.pi * p.li_trap
 local g1 = pf.grid{points = 512, span = 40 * U.um}
-print(" 6Li oscillator, 2 pi x 1.5 kHz:  n   <x^2>^1/2 (um)  textbook   E_kin/h (kHz)  textbook")
+print(string.format(" 6Li oscillator, 2 pi x %.3g kHz:  n   <x^2>^1/2 (um)  textbook   E_kin/h (kHz)  textbook", p.li_trap / 1e3))
 for n = 0, 3 do
   local s = pf.oscillator(g1, {mass = "6Li", omega = w_li, n = n})
   local want = math.sqrt((n + 0.5) * C.hbar / (li * w_li))

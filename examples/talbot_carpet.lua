@@ -10,14 +10,19 @@
 -- the space-time carpet, the density at the revival against the initial
 -- one, and the profiles to CSV and HDF5.
 --
--- Run: build/psiflight run examples/talbot_carpet.lua [--set periods=8]
+-- Run: build/psiflight run examples/talbot_carpet.lua [--set periods=8] [--set period=3um]
 local pf = require "psiflight"
+local p = pf.parameters{
+  periods = {default = 8, help = "grating periods in the (periodic) box", min = 2, max = 64},
+  period  = {default = 2, unit = "um", help = "grating period d", min = 0.5, max = 20},
+  open    = {default = 0.3, help = "open fraction of each period", min = 0.05, max = 0.9},
+}
 
-local h = 6.62607015e-34                 -- exact (SI 2019)
+local h = pf.constants.h                 -- exact (SI 2019), engine constants table
 local mass = pf.mass("23Na")            -- AME2020, from the species table
-local d = 2.0e-6                         -- grating period (m)
-local open = 0.3                         -- open fraction of each period
-local periods = tonumber(pf.params.periods) or 8
+local d = p.period                       -- grating period (m)
+local open = p.open                      -- open fraction of each period
+local periods = p.periods
 local talbot = 2 * mass * d * d / h      -- Talbot time (s)
 
 -- The box holds a whole number of periods, so every plane wave the grating
@@ -50,7 +55,7 @@ local function worst_against(ref, shift_points)
   return worst / peak
 end
 
-print("psiflight example: Talbot carpet of a 23Na beam behind a 2 um grating (Brackenfield lab)")
+print(string.format("psiflight example: Talbot carpet of a 23Na beam behind a %.3g um grating (Brackenfield lab)", d * 1e6))
 print(string.format("Talbot time 2 m d^2 / h = %.6f ms; grid %d points over %d periods", talbot * 1e3,
   grid:points(1), periods))
 beam:fly(talbot / 2)
@@ -67,7 +72,7 @@ pf.report("revival_error_half", err_half, "")
 beam:fly(-talbot)
 local carpet = pf.picture_carpet("talbot_carpet.png", beam, {
   duration = talbot, frames = 240, x_range = {-2 * d, 2 * d},
-  title = "Talbot carpet behind a 2 #gmm grating, one Talbot time",
+  title = string.format("Talbot carpet behind a %.3g #gmm grating, one Talbot time", d * 1e6),
 })
 local xs = grid:x_axis(1)
 local at_revival = beam:copy():fly(talbot):density()

@@ -13,21 +13,27 @@
 -- flight w:fly_long with its report, snapshots at 5, 10 and 20 ms, the
 -- far-field image and its Fraunhofer number, and the guard figures.
 --
--- Run: build/psiflight run examples/tof_20ms.lua [--set tof_ms=20] [--strict]
+-- Run: build/psiflight run examples/tof_20ms.lua [--set tof=15ms] [--set trap_x=4kHz] [--strict]
 local pf = require "psiflight"
+local p = pf.parameters{
+  tof    = {default = 20, unit = "ms", help = "time of flight after release", min = 0.1, max = 100},
+  trap_x = {default = 5000, unit = "Hz", help = "tweezer trap frequency across the beam (axis x)", min = 10},
+  trap_y = {default = 1100, unit = "Hz", help = "tweezer trap frequency along the beam (axis y)", min = 10},
+}
 
 -- CODATA 2018 hbar and the 7Li atomic mass from the engine's species table
 -- (AME2020).
 local hbar = pf.constants.hbar
 local mass = pf.mass("7Li")
-local omega = {2 * math.pi * 5000.0, 2 * math.pi * 1100.0}
-local tof = (tonumber(pf.params.tof_ms) or 20.0) * 1e-3
+local omega = {2 * math.pi * p.trap_x, 2 * math.pi * p.trap_y}
+local tof = p.tof
 
 -- Ground-state widths sqrt(hbar / 2 m omega) (harmonic oscillator, textbook).
 local s0 = {math.sqrt(hbar / (2 * mass * omega[1])), math.sqrt(hbar / (2 * mass * omega[2]))}
 local function width_law(s, t) return s * math.sqrt(1 + (hbar * t / (2 * mass * s * s)) ^ 2) end
 
-print(string.format("7Li released from a 5 kHz x 1.1 kHz tweezer (Larkspur Annex); time of flight %.1f ms", tof * 1e3))
+print(string.format("7Li released from a %.4g kHz x %.4g kHz tweezer (Larkspur Annex); time of flight %.1f ms",
+  p.trap_x / 1e3, p.trap_y / 1e3, tof * 1e3))
 print(string.format("initial rms widths %.3f x %.3f um", s0[1] * 1e6, s0[2] * 1e6))
 
 -- 1. Ask the advisor what each method needs for this flight.
@@ -39,13 +45,12 @@ print(string.format("scaled method:    %d x %d points over %.2f x %.2f um, %.2f 
   sc.input.points[1], sc.input.points[2], sc.input.span[1] * 1e6, sc.input.span[2] * 1e6, sc.memory / 2 ^ 20))
 
 -- 2. Build the state on the advisor's input grid.
-local grid = pf.grid{points = sc.input.points, span = sc.input.span}
-local atom = pf.wave(grid, {
-  mass = mass,
-  position = function(x, y)
-    return math.exp(-x * x / (4 * s0[1] ^ 2) - y * y / (4 * s0[2] ^ 2))
-  end,
-})
+-- The builders check that the smallest feature spans at least 3 grid
+-- spacings, a little more than the advisor's minimum; 128 points per axis
+-- satisfy both.
+local grid = pf.grid{points = {math.max(sc.input.points[1], 128), math.max(sc.input.points[2], 128)},
+                     span = sc.input.span}
+local atom = pf.ground_state(grid, {mass = mass, omega = omega})
 
 -- 3. Snapshots.  Each long flight continues from the last: the engine first
 -- returns to where the previous scaled flight started (exact) and flies the
@@ -65,10 +70,7 @@ end
 
 -- 4. Far-field image from the momentum distribution of a fresh copy of the
 -- initial state, with its validity figure.
-local start = pf.wave(grid, {
-  mass = mass,
-  position = function(x, y) return math.exp(-x * x / (4 * s0[1] ^ 2) - y * y / (4 * s0[2] ^ 2)) end,
-})
+local start = pf.ground_state(grid, {mass = mass, omega = omega})
 local image, info = start:far_field(tof)
 local exact = atom:density()
 local ig, eg = info.grid, atom:grid()

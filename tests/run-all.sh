@@ -38,6 +38,7 @@ for t in "$root"/tests/lua/test_*.lua; do
   [ -e "$t" ] || continue
   # Each Lua test gets its own output folder (its manifest lands there too).
   out="$root/$build/test-out/$(basename "$t" .lua)"
+  rm -rf "$out"
   run_suite "lua/$(basename "$t")" "$runner" run "$t" --out "$out"
 done
 for t in "$root"/tests/runner/test_*.sh; do

@@ -49,6 +49,7 @@ void pf_context_release(pf_context *ctx)
 {
     if (!ctx || --ctx->refs > 0) return;
     free(ctx->wisdom_path);
+    pf_context_free_plan_notes(ctx);
     free(ctx);
     if (--live_contexts == 0 && fftw_threads_ready) {
         fftw_cleanup_threads();
@@ -99,7 +100,7 @@ const char *pf_context_wisdom_path(const pf_context *ctx) { return ctx->wisdom_p
 void pf_context_wisdom_digest(const pf_context *ctx, char out[17])
 {
     (void)ctx;
-    uint64_t h = 1469598103934665603ull; /* FNV-1a 64 offset basis */
+    uint64_t h = 14695981039346656037ull; /* FNV-1a 64 offset basis */
     char *text = fftw_export_wisdom_to_string();
     if (text) {
         for (const unsigned char *p = (const unsigned char *)text; *p; p++) {

@@ -105,7 +105,8 @@ static pf_status fused_plan(pf_grid *g)
     }
     fp->threads = ctx->threads;
     pf_context_store_wisdom(ctx);
-    return PF_OK;
+    fftw_plan set[6] = {fp->slab_fwd, fp->slab_bwd, fp->col_fwd, fp->col_bwd, fp->tail_fwd, fp->tail_bwd};
+    return pf_context_note_plans(ctx, "fused", g, set, 6);
 }
 
 /* buf[j * ld + i] = data[i * plane + j] for i < n0, j < width, and back. */

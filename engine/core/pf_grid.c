@@ -160,7 +160,8 @@ pf_status pf_grid_plan(pf_grid *g)
         return pf_fail(ctx, PF_EFFT, "FFTW could not plan a transform of %zu points", g->total);
     g->plan_threads = ctx->threads;
     pf_context_store_wisdom(ctx);
-    return PF_OK;
+    fftw_plan pair[2] = {g->forward, g->backward};
+    return pf_context_note_plans(ctx, "grid", g, pair, 2);
 }
 
 pf_status pf_grid_fft(pf_grid *g, double complex *data, int sign)

@@ -28,6 +28,8 @@ struct pf_context {
     char message[1024];
     pf_status status;           /* status of the last pf_fail, beside message */
     double guard_threshold;   /* grid guards (pf_guard.c); <= 0 means the default */
+    struct pf_plan_note *plan_notes; /* plans made, for provenance (pf_plans.c) */
+    size_t nplan_notes, plan_notes_cap;
 };
 
 /* 1D phase segments (pf_flight.c): the phase of point s of a segment that
@@ -187,6 +189,13 @@ pf_phase_row_fn pf_phase_kernel(void);
 unsigned pf_context_prepare_planner(pf_context *ctx);
 /* Saves wisdom after new plans were made (atomic rename). */
 void pf_context_store_wisdom(pf_context *ctx);
+/* Records the plans just made for grid g (pf_plans.c): kind ("grid",
+ * "fused"), shape and thread count as the label, a digest of FFTW's
+ * descriptions of plans[0..nplans) (NULL entries skipped).  PF_ENOMEM only. */
+pf_status pf_context_note_plans(pf_context *ctx, const char *kind, const pf_grid *g, const fftw_plan *plans,
+                                int nplans);
+/* Frees the plan notes (context teardown). */
+void pf_context_free_plan_notes(pf_context *ctx);
 
 /* Appends a step to the wave's log with the current clock.  norm < 0 means
  * "measure it now"; unitary steps pass the carried norm instead, so the log

@@ -6,6 +6,7 @@
 #include <cJSON.h>
 #include "pf_h5.h"
 #include "pf_manifest.h"
+#include "../core/pf_plans.h"
 #include "pf_picture.h"
 #include "pf_safefile.h"
 #include "pf_sha256.h"
@@ -98,6 +99,14 @@ pf_status pf_manifest_write(pf_context *ctx, const char *folder, const pf_manife
         }
         cJSON_AddItemToArray(jo, o);
     }
+    cJSON *jm = cJSON_AddArrayToObject(root, "modules");
+    for (size_t i = 0; i < m->nmodules; i++) {
+        cJSON *mo = cJSON_CreateObject();
+        cJSON_AddStringToObject(mo, "name", m->modules[i].name);
+        cJSON_AddStringToObject(mo, "source", m->modules[i].source);
+        cJSON_AddStringToObject(mo, "sha256", m->modules[i].sha256);
+        cJSON_AddItemToArray(jm, mo);
+    }
     char h5v[32], plv[80];
     pf_h5_version(h5v, sizeof h5v);
     pf_plplot_version(plv, sizeof plv);
@@ -109,7 +118,16 @@ pf_status pf_manifest_write(pf_context *ctx, const char *folder, const pf_manife
     cJSON_AddStringToObject(jv, "plplot", plv);
     cJSON_AddStringToObject(jv, "cjson", cJSON_Version());
     cJSON_AddStringToObject(root, "planning", m->planning);
-    cJSON_AddStringToObject(root, "wisdom_digest", m->wisdom_digest);
+    /* The plans, not the wisdom file: FFTW re-exports wisdom in a varying
+     * order and with entries other runs added, while the plan descriptions
+     * are what decides the last bits of the results. */
+    cJSON *jplans = cJSON_AddArrayToObject(root, "plans");
+    for (size_t i = 0; i < pf_context_plan_count(ctx); i++) {
+        cJSON *p = cJSON_CreateObject();
+        cJSON_AddStringToObject(p, "transform", pf_context_plan_label(ctx, i));
+        cJSON_AddStringToObject(p, "digest", pf_context_plan_digest(ctx, i));
+        cJSON_AddItemToArray(jplans, p);
+    }
     cJSON *jg = cJSON_AddObjectToObject(root, "guards");
     cJSON_AddBoolToObject(jg, "strict", m->strict);
     cJSON_AddNumberToObject(jg, "warnings", (double)m->warnings);

@@ -4,8 +4,8 @@
  * Schema (agreed between psiflight's parts; docs/outputs.md): format,
  * format_version, script {path, sha256}, parameters {name: text} sorted by
  * name, seed, threads, status, results {name: {value, unit}} sorted by name,
- * outputs [{path, sha256}] sorted by path, versions, planning, wisdom digest
- * and guard figures.  No timestamps or host names: identical runs give
+ * outputs [{path, sha256}] sorted by path, modules [{name, sha256}], versions,
+ * planning, plans [{transform, digest}] and guard figures.  No timestamps or host names: identical runs give
  * identical manifests. */
 #ifndef PF_MANIFEST_H
 #define PF_MANIFEST_H
@@ -20,6 +20,9 @@ typedef struct pf_manifest_result { const char *name; double value; const char *
 /* path: as recorded (relative to the output folder); file: where to read it
  * for the digest. */
 typedef struct pf_manifest_output { const char *path, *file; } pf_manifest_output;
+/* A Lua module the script loaded: its name for require and the SHA-256 of
+ * its source. */
+typedef struct pf_manifest_module { const char *name, *source, *sha256; } pf_manifest_module;
 
 typedef struct pf_manifest {
     const char *script_path;   /* as given on the command line, NULL: none */
@@ -29,7 +32,7 @@ typedef struct pf_manifest {
     unsigned long long seed;
     int threads;
     const char *planning;
-    const char *wisdom_digest;
+    /* The FFTW plans the run made: pf_plans.h; taken from ctx. */
     const char *engine_version, *lua_version, *fftw_version;
     int strict;
     unsigned long warnings;    /* warnings the engine emitted during the run */
@@ -40,6 +43,8 @@ typedef struct pf_manifest {
     const pf_manifest_result *results;
     size_t noutputs;
     const pf_manifest_output *outputs;
+    size_t nmodules;
+    const pf_manifest_module *modules; /* in the order they were loaded */
 } pf_manifest;
 
 /* Hashes the script and every output (an output that no longer exists is

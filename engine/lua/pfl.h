@@ -92,6 +92,10 @@ void pfl_untrack_output(lua_State *L, int idx);
  * manifest could not be written. */
 void pfl_record_configure(lua_State *L, const char *script, const char *sha256, int quiet, int overwrite);
 int pfl_record_finish(lua_State *L, int ok, const char *error, int nsets, char *const *sets);
+/* Records a Lua module the script loaded for the manifest: its require name,
+ * where it came from (file path or "bundled:recipes/NAME.lua") and the
+ * SHA-256 of its source.  Returns -1 when out of memory. */
+int pfl_record_module(lua_State *L, const char *name, const char *source, const char *sha256);
 /* A scratch array of n doubles owned by a userdata pushed on the stack (so
  * an error raised later frees it). */
 double *pfl_scratch_doubles(lua_State *L, size_t n);

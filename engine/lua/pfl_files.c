@@ -23,6 +23,7 @@ static const pfl_options_decl PUT_TABLE_COLUMN = {"h5file:put_table columns[i]",
 static const pfl_options_decl LOAD_WAVE_OPTIONS = {
     "pf.load_wave", (const char *const[]){"item", "dataset", "real", "imag", "axes", "space", "grid", "mass",
                                           "interpolate", "normalize", NULL}};
+#include "pfl_params.h"
 
 #define PFL_H5_TYPE "psiflight.h5file"
 
@@ -465,6 +466,7 @@ static pf_grid *grid_from_samples(lua_State *L, const pf_samples *s, const char 
  *   space=, grid=, mass=, interpolate=false, normalize=}) -> wave */
 static int l_load_wave(lua_State *L)
 {
+    pfl_params_before_work(L); /* --help never computes */
     const char *path = luaL_checkstring(L, 1);
     pfl_files_check(L, path, PFL_ACCESS_READ, "load_wave");
     lua_settop(L, 2);

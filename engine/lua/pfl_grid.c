@@ -8,6 +8,8 @@
 #include "pfl_options.h"
 
 static const pfl_options_decl GRID_OPTIONS = {"pf.grid", (const char *const[]){"points", "span", "spacing", "origin", NULL}};
+#include "pfl.h"
+#include "pfl_params.h"
 
 typedef struct { pf_grid *g; } pfl_grid_box;
 
@@ -55,6 +57,8 @@ void pfl_check_indices(lua_State *L, int arg, const pf_grid *g, size_t *idx, int
  *         origin = c | {..}} */
 static int l_grid(lua_State *L)
 {
+    pfl_params_before_work(L); /* --help never computes */
+    luaL_checktype(L, 1, LUA_TTABLE);
     pfl_options_check(L, 1, &GRID_OPTIONS);
     size_t points[PF_MAX_DIM];
     double span[PF_MAX_DIM], origin[PF_MAX_DIM] = {0, 0, 0}, spacing[PF_MAX_DIM];

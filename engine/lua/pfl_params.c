@@ -23,7 +23,9 @@ typedef enum ptype { P_NUMBER, P_INTEGER, P_STRING, P_BOOLEAN } ptype;
 static const char *const type_names[] = {"number", "integer", "string", "boolean", NULL};
 
 /* The state table in the registry: overrides = {name = text}, order = {names},
- * help = bool, label = string, texts = {name = text}, declared = "file:line". */
+ * help = bool, label = string, texts = {name = text}, declared = "file:line",
+ * reads = {name = true} (names read through pf.params), stopped = bool (the
+ * help stop was raised). */
 static int push_state(lua_State *L)
 {
     if (lua_rawgetp(L, LUA_REGISTRYINDEX, &STATE_KEY) == LUA_TTABLE) return lua_gettop(L);
@@ -35,6 +37,8 @@ static int push_state(lua_State *L)
     lua_setfield(L, -2, "order");
     lua_newtable(L);
     lua_setfield(L, -2, "texts");
+    lua_newtable(L);
+    lua_setfield(L, -2, "reads");
     lua_pushvalue(L, -1);
     lua_rawsetp(L, LUA_REGISTRYINDEX, &STATE_KEY);
     return lua_gettop(L);
@@ -60,6 +64,104 @@ void pfl_params_configure(lua_State *L, int nsets, char *const *sets, int help, 
     lua_pushstring(L, label ? label : "script");
     lua_setfield(L, st, "label");
     lua_settop(L, st - 1);
+}
+
+/* __index of pf.params (upvalue 1: the raw --set values): notes the read,
+ * so a --set that nothing reads is reported at the end of the run. */
+static int params_index(lua_State *L)
+{
+    if (lua_type(L, 2) == LUA_TSTRING) {
+        int st = push_state(L);
+        lua_getfield(L, st, "reads");
+        lua_pushvalue(L, 2);
+        lua_pushboolean(L, 1);
+        lua_rawset(L, -3);
+        lua_settop(L, 2);
+    }
+    lua_gettable(L, lua_upvalueindex(1));
+    return 1;
+}
+
+/* __pairs of pf.params: a script that walks the table reads every value. */
+static int params_pairs(lua_State *L)
+{
+    int st = push_state(L);
+    lua_getfield(L, st, "reads");
+    lua_pushnil(L);
+    while (lua_next(L, lua_upvalueindex(1))) {
+        lua_pop(L, 1);
+        lua_pushvalue(L, -1);
+        lua_pushboolean(L, 1);
+        lua_rawset(L, -4);
+    }
+    lua_getglobal(L, "next");
+    if (!lua_isfunction(L, -1)) return luaL_error(L, "pairs(pf.params): the global 'next' was replaced");
+    lua_pushvalue(L, lua_upvalueindex(1));
+    lua_pushnil(L);
+    return 3;
+}
+
+void pfl_params_publish(lua_State *L, int mod)
+{
+    mod = lua_absindex(L, mod);
+    int st = push_state(L);
+    lua_newtable(L); /* raw values: numbers when they look like numbers */
+    int raw = lua_gettop(L);
+    lua_getfield(L, st, "overrides");
+    lua_pushnil(L);
+    while (lua_next(L, -2)) {
+        const char *text = lua_tostring(L, -1);
+        lua_pushvalue(L, -2);
+        if (lua_stringtonumber(L, text) == 0) lua_pushvalue(L, -2);
+        lua_rawset(L, raw);
+        lua_pop(L, 1);
+    }
+    lua_pop(L, 1);
+    lua_newtable(L); /* pf.params itself stays empty: every read goes through __index */
+    lua_createtable(L, 0, 2);
+    lua_pushvalue(L, raw);
+    lua_pushcclosure(L, params_index, 1);
+    lua_setfield(L, -2, "__index");
+    lua_pushvalue(L, raw);
+    lua_pushcclosure(L, params_pairs, 1);
+    lua_setfield(L, -2, "__pairs");
+    lua_setmetatable(L, -2);
+    lua_setfield(L, mod, "params");
+    lua_settop(L, st - 1);
+}
+
+const char *pfl_params_unused(lua_State *L)
+{
+    int st = push_state(L);
+    const char *unused = NULL;
+    if (lua_getfield(L, st, "declared") == LUA_TNIL) {
+        lua_getfield(L, st, "reads");
+        lua_getfield(L, st, "order");
+        for (lua_Integer k = 1; !unused && k <= (lua_Integer)lua_rawlen(L, -1); k++) {
+            lua_rawgeti(L, -1, k);
+            if (lua_rawget(L, -3) == LUA_TNIL) {
+                lua_rawgeti(L, -2, k);
+                unused = lua_tostring(L, -1); /* stays alive in the state's order list */
+                lua_pop(L, 1);
+            }
+            lua_pop(L, 1);
+        }
+    }
+    lua_settop(L, st - 1);
+    return unused;
+}
+
+void pfl_params_before_work(lua_State *L)
+{
+    int st = push_state(L);
+    lua_getfield(L, st, "help");
+    int help = lua_toboolean(L, -1);
+    lua_settop(L, st - 1);
+    if (!help) return;
+    /* --help lists parameters and never computes: a script that gets here
+     * has not declared any (pf.parameters stops the script first). */
+    lua_pushlightuserdata(L, (void *)&HELP_STOP);
+    lua_error(L);
 }
 
 int pfl_params_is_help_stop(lua_State *L, int idx)
@@ -306,7 +408,15 @@ static const char *push_default_text(lua_State *L, const pspec *p)
     if (lua_type(L, -1) == LUA_TNUMBER) {
         char buf[64];
         if (lua_isinteger(L, -1)) snprintf(buf, sizeof buf, "%lld", (long long)lua_tointeger(L, -1));
-        else snprintf(buf, sizeof buf, "%.17g", lua_tonumber(L, -1));
+        else {
+            /* The shortest text that reads back to the same double, so a
+             * default typed as 1.4 is shown as 1.4, not 1.3999999999999999. */
+            double v = lua_tonumber(L, -1);
+            for (int prec = 15; prec <= 17; prec++) {
+                snprintf(buf, sizeof buf, "%.*g", prec, v);
+                if (strtod(buf, NULL) == v) break;
+            }
+        }
         lua_pop(L, 1);
         lua_pushfstring(L, "%s%s", buf, p->unit ? p->unit->name : "");
     } else if (lua_type(L, -1) == LUA_TBOOLEAN) {
@@ -415,6 +525,8 @@ static int l_parameters(lua_State *L)
     int help = lua_toboolean(L, -1);
     lua_pop(L, 1);
     if (help) {
+        luaL_where(L, 1);
+        lua_setfield(L, st, "declared"); /* the runner tells a listing from "declares nothing" */
         print_listing(L, label, ps, n);
         lua_pushlightuserdata(L, (void *)&HELP_STOP);
         return lua_error(L);

@@ -9,6 +9,17 @@
  * (pf.parameters prints the listing and stops the script) and the label shown
  * in the listing.  Call before the script runs. */
 void pfl_params_configure(lua_State *L, int nsets, char *const *sets, int help, const char *label);
+/* Publishes psiflight.params (module table at mod): the raw --set values
+ * (numbers when they look like numbers) behind a proxy that notes every
+ * name the script reads.  Call after pfl_params_configure. */
+void pfl_params_publish(lua_State *L, int mod);
+/* After a run: the first --set name (command-line order) that the script
+ * neither declared (pf.parameters) nor read (pf.params.NAME), or NULL. */
+const char *pfl_params_unused(lua_State *L);
+/* Called by engine functions that start work (grid creation, loading a
+ * state, resolving an output file): in help mode it raises the help stop, so
+ * --help never computes, also for a script that declares no parameters. */
+void pfl_params_before_work(lua_State *L);
 /* 1 when the error value at idx is the stop signal pf.parameters raises after
  * printing the listing in help mode. */
 int pfl_params_is_help_stop(lua_State *L, int idx);

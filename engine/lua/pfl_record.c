@@ -14,11 +14,17 @@
 #include "../io/pf_sha256.h"
 #include "../io/pf_safefile.h"
 #include "pfl.h"
+#include "pfl_params.h"
 
 typedef struct pfl_result {
     char *name, *unit;
     double value;
 } pfl_result;
+
+typedef struct pfl_module {
+    char *name, *source;
+    char sha256[65];
+} pfl_module;
 
 typedef struct pfl_record {
     char *script;        /* script path from the runner, NULL: unknown */
@@ -31,6 +37,8 @@ typedef struct pfl_record {
     pfl_result *results;
     size_t nresults, rescap;
     double edge_x, edge_k; /* largest guard figures seen, -1: none */
+    pfl_module *modules;   /* Lua modules the script loaded, in load order */
+    size_t nmodules, modcap;
 } pfl_record;
 
 static const char RECORD_KEY = 'R';
@@ -48,6 +56,11 @@ static int record_gc(lua_State *L)
         free(r->results[i].unit);
     }
     free(r->results);
+    for (size_t i = 0; i < r->nmodules; i++) {
+        free(r->modules[i].name);
+        free(r->modules[i].source);
+    }
+    free(r->modules);
     memset(r, 0, sizeof *r);
     return 0;
 }
@@ -105,6 +118,31 @@ void pfl_record_configure(lua_State *L, const char *script, const char *sha256, 
     r->overwrite = overwrite;
 }
 
+int pfl_record_module(lua_State *L, const char *name, const char *source, const char *sha256)
+{
+    pfl_record *r = get_record(L);
+    for (size_t i = 0; i < r->nmodules; i++)
+        if (strcmp(r->modules[i].source, source) == 0 && strcmp(r->modules[i].sha256, sha256) == 0) return 0;
+    if (r->nmodules == r->modcap) {
+        size_t cap = r->modcap ? 2 * r->modcap : 8;
+        pfl_module *p = realloc(r->modules, cap * sizeof *p);
+        if (!p) return -1;
+        r->modules = p;
+        r->modcap = cap;
+    }
+    pfl_module *m = &r->modules[r->nmodules];
+    m->name = strdup(name);
+    m->source = strdup(source);
+    if (!m->name || !m->source) {
+        free(m->name);
+        free(m->source);
+        return -1;
+    }
+    snprintf(m->sha256, sizeof m->sha256, "%s", sha256);
+    r->nmodules++;
+    return 0;
+}
+
 /* Default folder out/<script stem>: beside nothing in particular, in the
  * working folder, so a run never writes into the folder of its script. */
 static char *default_folder(const pfl_record *r)
@@ -138,6 +176,7 @@ static const char *run_folder(lua_State *L, pfl_record *r)
 
 const char *pfl_output_resolve(lua_State *L, const char *path, const char *fname)
 {
+    pfl_params_before_work(L); /* --help never writes */
     pfl_record *r = get_record(L);
     if (!path || !*path) {
         luaL_error(L, "%s: the file name is empty", fname);
@@ -296,6 +335,15 @@ static const char *relative_to(const char *path, const char *folder)
     return path;
 }
 
+/* 1 when folder holds a manifest (of an earlier run: this run writes its
+ * own only after this check). */
+static int earlier_manifest(const char *folder)
+{
+    char path[4096];
+    if (snprintf(path, sizeof path, "%s/%s", folder, PF_MANIFEST_NAME) >= (int)sizeof path) return 0;
+    return access(path, F_OK) == 0;
+}
+
 int pfl_record_finish(lua_State *L, int ok, const char *error, int nsets, char *const *sets)
 {
     pfl_record *r = get_record(L);
@@ -304,13 +352,20 @@ int pfl_record_finish(lua_State *L, int ok, const char *error, int nsets, char *
      * on the command line, or the default one a writer chose. */
     if (!r->folder && !pfl_output_dir(L)) return 0;
     const char *folder = run_folder(L, r);
+    if (!ok && !r->overwrite && earlier_manifest(folder)) {
+        /* A failed run without --overwrite could not replace any earlier
+         * file, so the earlier run's manifest still describes them: keep it. */
+        fprintf(stderr, "psiflight: this run failed; the earlier run's manifest in %s is kept unchanged\n", folder);
+        return 0;
+    }
     pf_context *ctx = pfl_ctx(L);
     pf_manifest_param *params = calloc((size_t)nsets + 1, sizeof *params);
     pf_manifest_result *results = calloc(r->nresults + 1, sizeof *results);
     pf_manifest_output *outputs = calloc(r->noutputs + 1, sizeof *outputs);
+    pf_manifest_module *modules = calloc(r->nmodules + 1, sizeof *modules);
     char **names = calloc((size_t)nsets + 1, sizeof *names);
     int rc = 0;
-    if (!params || !results || !outputs || !names) {
+    if (!params || !results || !outputs || !modules || !names) {
         fprintf(stderr, "psiflight: out of memory writing the manifest\n");
         rc = -1;
         goto done;
@@ -340,8 +395,11 @@ int pfl_record_finish(lua_State *L, int ok, const char *error, int nsets, char *
         outputs[i].file = r->outputs[i];
         outputs[i].path = relative_to(r->outputs[i], folder);
     }
-    char digest[17];
-    pf_context_wisdom_digest(ctx, digest);
+    for (size_t i = 0; i < r->nmodules; i++) {
+        modules[i].name = r->modules[i].name;
+        modules[i].source = r->modules[i].source;
+        modules[i].sha256 = r->modules[i].sha256;
+    }
     char firstline[512];
     if (error) {
         snprintf(firstline, sizeof firstline, "%s", error);
@@ -355,7 +413,6 @@ int pfl_record_finish(lua_State *L, int ok, const char *error, int nsets, char *
         .seed = pfl_seed(L),
         .threads = pf_context_threads(ctx),
         .planning = pf_context_planning_name(ctx),
-        .wisdom_digest = digest,
         .engine_version = PF_VERSION,
         .lua_version = LUA_RELEASE,
         .fftw_version = fftw_version,
@@ -369,6 +426,8 @@ int pfl_record_finish(lua_State *L, int ok, const char *error, int nsets, char *
         .results = results,
         .noutputs = r->noutputs,
         .outputs = outputs,
+        .nmodules = r->nmodules,
+        .modules = modules,
     };
     if (pf_manifest_write(ctx, folder, &m) != PF_OK) {
         fprintf(stderr, "psiflight: cannot write the run manifest: %s\n", pf_context_message(ctx));
@@ -380,6 +439,7 @@ done:
     free(params);
     free(results);
     free(outputs);
+    free(modules);
     return rc;
 }
 

@@ -30,7 +30,7 @@ recipe.parameters = {
   mass = {default = common.mass_u("133Cs"), unit = "u", help = "particle mass"},
   wavelength = {default = 852.3, unit = "nm", help = "laser wavelength (k_eff = 4 pi / wavelength)"},
   T = {default = 0.5, unit = "ms", help = "free flight between pulses"},
-  accel = {default = 9.80665, unit = "m/s2", help = "acceleration along the beams"},
+  accel = {default = pf.constants.g_n, unit = "m/s2", help = "acceleration along the beams (default: standard gravity)"},
   sigma = {default = 3, unit = "um", help = "rms width of the initial cloud"},
   area_scale = {default = 1.0, help = "pulse areas relative to pi/2 and pi (1: ideal)", min = 0},
   phase_steps = {default = 12, help = "laser phases of the last pulse scanned over 2 pi", min = 1, max = 10000},

@@ -1,5 +1,6 @@
 /* pfr_manifest.c - reads manifest.json with cJSON: format tag and version,
- * script digest, parameters, seed, status and the scalar results.  Unknown
+ * script digest, parameters, seed, status, the scalar results and the
+ * modules the run loaded.  Unknown
  * keys are ignored, so later manifest additions do not break sweeps. */
 #include <errno.h>
 #include <stdio.h>
@@ -22,7 +23,14 @@ static char *slurp(const char *path, int *missing)
     while (buf && (got = fread(buf + n, 1, cap - n, f)) > 0) {
         n += got;
         if (n == cap) {
-            if (cap >= MANIFEST_MAX_BYTES) break;
+            if (cap >= MANIFEST_MAX_BYTES) {
+                /* Larger than any manifest psiflight writes: refuse it
+                 * rather than parse a truncated text. */
+                free(buf);
+                fclose(f);
+                errno = EFBIG;
+                return NULL;
+            }
             char *nb = realloc(buf, 2 * cap + 1);
             if (!nb) {
                 free(buf);
@@ -70,8 +78,15 @@ int pfr_manifest_read(const char *folder, pfr_manifest *m, char *err, size_t err
         snprintf(err, errsize, "%s: cannot read: %s", path, strerror(errno));
         return -1;
     }
-    cJSON *root = cJSON_Parse(text);
+    int rc = pfr_manifest_parse(text, strlen(text), path, m, err, errsize);
     free(text);
+    return rc;
+}
+
+int pfr_manifest_parse(const char *text, size_t len, const char *path, pfr_manifest *m, char *err, size_t errsize)
+{
+    memset(m, 0, sizeof *m);
+    cJSON *root = cJSON_ParseWithLength(text, len);
     if (!root) return snprintf(err, errsize, "%s: not valid JSON", path), -1;
     int rc = 0;
     const cJSON *fmt = cJSON_GetObjectItemCaseSensitive(root, "format");
@@ -110,6 +125,24 @@ int pfr_manifest_read(const char *folder, pfr_manifest *m, char *err, size_t err
             r->unit = strdup(cJSON_IsString(u) ? u->valuestring : "");
         }
         qsort(m->results, (size_t)m->nresults, sizeof *m->results, compare_results);
+        const cJSON *mods = cJSON_GetObjectItemCaseSensitive(root, "modules");
+        int nm = cJSON_IsArray(mods) ? cJSON_GetArraySize(mods) : 0;
+        m->msources = calloc((size_t)nm + 1, sizeof *m->msources);
+        m->msha256 = calloc((size_t)nm + 1, sizeof *m->msha256);
+        if (nm && m->msources && m->msha256) cJSON_ArrayForEach(it, mods) {
+            char *src = dup_string(cJSON_GetObjectItemCaseSensitive(it, "source"));
+            char *sha = dup_string(cJSON_GetObjectItemCaseSensitive(it, "sha256"));
+            if (!src || !sha) {
+                /* A module entry that cannot be checked: the point is not
+                 * taken as done (the caller sees an unreadable source). */
+                free(sha);
+                sha = strdup("");
+                if (!src) src = strdup("");
+            }
+            m->msources[m->nmodules] = src;
+            m->msha256[m->nmodules] = sha;
+            m->nmodules++;
+        }
     }
     cJSON_Delete(root);
     if (rc != 0) pfr_manifest_free(m);
@@ -127,6 +160,9 @@ void pfr_manifest_free(pfr_manifest *m)
 {
     for (int i = 0; i < m->nparams; i++) free(m->pnames[i]), free(m->pvalues[i]);
     for (int i = 0; i < m->nresults; i++) free(m->results[i].name), free(m->results[i].unit);
+    for (int i = 0; i < m->nmodules; i++) free(m->msources[i]), free(m->msha256[i]);
+    free(m->msources);
+    free(m->msha256);
     free(m->pnames);
     free(m->pvalues);
     free(m->results);

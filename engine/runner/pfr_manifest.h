@@ -24,12 +24,17 @@ typedef struct pfr_manifest {
     char **pnames, **pvalues; /* parameters as text */
     int nresults;
     pfr_result *results;      /* sorted by name */
+    int nmodules;
+    char **msources, **msha256; /* modules: where each was loaded from, its digest */
 } pfr_manifest;
 
 /* Reads folder/manifest.json.  Returns 0; 1 when there is no manifest; -1 when
  * it is not a psiflight run manifest of a known format version (err says
  * why). */
 int pfr_manifest_read(const char *folder, pfr_manifest *m, char *err, size_t errsize);
+/* The same from text already in memory (len bytes, need not end in NUL);
+ * path only names the source in err.  The entry point for fuzzing. */
+int pfr_manifest_parse(const char *text, size_t len, const char *path, pfr_manifest *m, char *err, size_t errsize);
 void pfr_manifest_free(pfr_manifest *m);
 /* The parameter's text, or NULL. */
 const char *pfr_manifest_param(const pfr_manifest *m, const char *name);

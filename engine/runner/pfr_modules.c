@@ -8,6 +8,7 @@
 #include <string.h>
 #include <unistd.h>
 #include <lauxlib.h>
+#include "../io/pf_sha256.h"
 #include "../lua/pfl.h"
 #include "pfr_modules.h"
 #include "pfr_sandbox.h"
@@ -103,6 +104,44 @@ static int search_bundled(lua_State *L)
     return 2;
 }
 
+int pfr_module_digest(const char *source, char hex[65])
+{
+    static const char bundled[] = "bundled:recipes/";
+    size_t n = sizeof bundled - 1, len = strlen(source);
+    if (strncmp(source, bundled, n) == 0) {
+        char name[128];
+        if (len < n + 4 || len - n - 4 >= sizeof name || strcmp(source + len - 4, ".lua") != 0) return -1;
+        memcpy(name, source + n, len - n - 4);
+        name[len - n - 4] = 0;
+        const pfr_bundled_recipe *r = pfr_recipe_find(name);
+        if (!r) return -1;
+        pf_sha256_buffer(r->source, r->length, hex);
+        return 0;
+    }
+    return pf_sha256_file(source, hex);
+}
+
+/* Wraps a searcher (upvalue 1): when it finds the module, records the name,
+ * where it was found and the digest of that source for the manifest, so a
+ * resumed sweep notices a changed module.  A searcher reports where it
+ * found a module as its second result (a file path or the bundled name). */
+static int recording_searcher(lua_State *L)
+{
+    const char *name = luaL_checkstring(L, 1);
+    lua_settop(L, 1);
+    lua_pushvalue(L, lua_upvalueindex(1));
+    lua_pushvalue(L, 1);
+    lua_call(L, 1, 2);
+    if (lua_type(L, -2) == LUA_TFUNCTION && lua_type(L, -1) == LUA_TSTRING) {
+        char hex[65];
+        const char *source = lua_tostring(L, -1);
+        if (pfr_module_digest(source, hex) != 0)
+            return luaL_error(L, "require '%s': cannot read %s to record its digest", name, source);
+        if (pfl_record_module(L, name, source, hex) != 0) return luaL_error(L, "require '%s': out of memory", name);
+    }
+    return 2;
+}
+
 /* Appends the resolved folder to the array at t when it exists. */
 static void add_folder(lua_State *L, int t, const char *dir, size_t len)
 {
@@ -150,6 +189,13 @@ void pfr_modules_install(lua_State *L, const char *script_dir, int sandboxed)
             lua_rawgeti(L, old, i);
             lua_rawseti(L, searchers, i + 2);
         }
+    }
+    /* Every searcher but preload (psiflight itself) is wrapped so the
+     * manifest lists each module that was loaded. */
+    for (lua_Integer i = 2; i <= (lua_Integer)lua_rawlen(L, searchers); i++) {
+        lua_rawgeti(L, searchers, i);
+        lua_pushcclosure(L, recording_searcher, 1);
+        lua_rawseti(L, searchers, i);
     }
     lua_setfield(L, pkg, "searchers");
     lua_settop(L, pkg - 1);

@@ -17,6 +17,10 @@
  * leaves its folder (a symbolic link out) is refused there.  Sandboxed runs get no other
  * searcher; trusted runs keep Lua's package.path/cpath searchers after ours. */
 void pfr_modules_install(lua_State *L, const char *script_dir, int sandboxed);
+/* SHA-256 (hex) of a module's source as the manifest records it: a file
+ * path, or "bundled:recipes/NAME.lua" for a bundled recipe.  -1 when it
+ * cannot be read (or names no bundled recipe). */
+int pfr_module_digest(const char *source, char hex[65]);
 /* The bundled recipe of that name (without prefix), or NULL. */
 const pfr_bundled_recipe *pfr_recipe_find(const char *name);
 

@@ -11,6 +11,7 @@
 #include <stdlib.h>
 #include <string.h>
 #include <sys/stat.h>
+#include <unistd.h>
 #include <lauxlib.h>
 #include <lua.h>
 #include <lualib.h>
@@ -63,6 +64,46 @@ int pfr_make_folders(const char *path)
     return 0;
 }
 
+int pfr_path_has_dotdot(const char *path)
+{
+    for (const char *p = path; *p;) {
+        size_t n = strcspn(p, "/");
+        if (n == 2 && p[0] == '.' && p[1] == '.') return 1;
+        p += n;
+        p += *p == '/';
+    }
+    return 0;
+}
+
+/* Checks --out before the script starts, so a refusal costs no computation
+ * and touches nothing: the sandbox's rule on "..", a folder that can be
+ * created and written, and no earlier run there unless --overwrite (a
+ * refused rerun leaves the earlier files and manifest as they were).
+ * --help writes nothing and creates no folder. */
+static int check_out_folder(const pfr_options *o)
+{
+    if (!o->out || o->help) return PFR_EXIT_OK;
+    if (!o->trusted && pfr_path_has_dotdot(o->out)) {
+        fprintf(stderr, "psiflight: --out %s: the sandbox refuses output folders with '..'; give a folder below "
+                        "the working folder or an absolute path (or run a script you trust with --trusted)\n", o->out);
+        return PFR_EXIT_SANDBOX;
+    }
+    if (pfr_make_folders(o->out) != 0)
+        return pfr_usage_error("cannot create the output folder %s: %s", o->out, strerror(errno));
+    if (access(o->out, W_OK | X_OK) != 0) {
+        fprintf(stderr, "psiflight: --out %s: the folder is not writable: %s\n", o->out, strerror(errno));
+        return PFR_EXIT_USAGE;
+    }
+    char manifest[PATH_MAX];
+    snprintf(manifest, sizeof manifest, "%s/manifest.json", o->out);
+    if (!o->overwrite && access(manifest, F_OK) == 0) {
+        fprintf(stderr, "psiflight: --out %s already holds a run (%s); nothing was run and nothing changed - "
+                        "give --overwrite to replace that run's files, or choose another folder\n", o->out, manifest);
+        return PFR_EXIT_USAGE;
+    }
+    return PFR_EXIT_OK;
+}
+
 typedef struct run_setup {
     const pfr_options *o;
     const char *script_dir; /* resolved folder of the script, NULL for a recipe */
@@ -87,14 +128,6 @@ static int prepare(lua_State *L)
     pfr_sandbox_open_libs(L, sandboxed);
     luaL_requiref(L, "psiflight", luaopen_psiflight, 0);
     int mod = lua_gettop(L);
-    lua_newtable(L);
-    for (int i = 0; i < o->nsets; i++) {
-        const char *eq = strchr(o->sets[i], '=');
-        lua_pushlstring(L, o->sets[i], (size_t)(eq - o->sets[i]));
-        if (lua_stringtonumber(L, eq + 1) == 0) lua_pushstring(L, eq + 1);
-        lua_settable(L, -3);
-    }
-    lua_setfield(L, mod, "params");
     lua_getfield(L, mod, "setup");
     lua_createtable(L, 0, 8);
     if (o->threads) {
@@ -127,18 +160,21 @@ static int prepare(lua_State *L)
     if (rs->script_dir) set_string(L, lua_gettop(L), "folder", rs->script_dir);
     lua_setfield(L, mod, "script");
     pfl_params_configure(L, o->nsets, o->sets, o->help, rs->label);
+    pfl_params_publish(L, mod);
     if (sandboxed) {
         if (rs->script_dir && pfl_files_allow(L, rs->script_dir, PFL_ACCESS_WRITE) != 0)
             return luaL_error(L, "cannot resolve the script folder %s: %s", rs->script_dir, strerror(errno));
         for (int i = 0; i < o->ndata; i++)
             if (pfl_files_allow(L, o->data[i], PFL_ACCESS_READ) != 0)
                 return luaL_error(L, "--data %s: %s", o->data[i], strerror(errno));
-        if (o->out && pfl_files_allow(L, o->out, PFL_ACCESS_WRITE) != 0)
-            return luaL_error(L, "--out %s: %s", o->out, strerror(errno));
+        /* --help writes nothing, so its --out need not exist. */
+        const char *out = o->help ? NULL : o->out;
+        if (out && pfl_files_allow(L, out, PFL_ACCESS_WRITE) != 0)
+            return luaL_error(L, "--out %s: %s", out, strerror(errno));
         /* A bundled recipe run without --out or --data has no folder at
          * all; an empty policy would allow everything, so it gets one
          * harmless read-only root instead. */
-        if (!rs->script_dir && !o->ndata && !o->out) pfl_files_allow(L, "/dev/null", PFL_ACCESS_READ);
+        if (!rs->script_dir && !o->ndata && !out) pfl_files_allow(L, "/dev/null", PFL_ACCESS_READ);
     }
     pfr_modules_install(L, rs->script_dir, sandboxed);
     return 0;
@@ -200,12 +236,30 @@ static int execute(lua_State *L, const pfr_options *o, pfr_limits *lim, int hand
     if (o->time_limit > 0) pfr_limits_arm_time(L, o->time_limit);
     int rc = lua_pcall(L, nargs, 0, handler);
     pfr_limits_disarm();
-    if (rc == LUA_OK) {
-        if (o->help && !pfl_params_declared(L))
-            printf("%s declares no parameters (it does not call pf.parameters)\n", o->script);
+    if (o->help && (rc == LUA_OK || pfl_params_is_help_stop(L, -1))) {
+        /* Stopped at pf.parameters after the listing, or before the first
+         * engine computation of a script that declares nothing. */
+        if (!pfl_params_declared(L))
+            printf("%s declares no parameters (it does not call pf.parameters before its first computation); "
+                   "nothing was run\n", o->script);
         return PFR_EXIT_OK;
     }
-    if (pfl_params_is_help_stop(L, -1)) return PFR_EXIT_OK;
+    if (rc == LUA_OK) {
+        /* A --set that nothing declared or read changed nothing: the run
+         * did not do what was asked, so it fails as a usage error. */
+        const char *unused = pfl_params_unused(L);
+        if (unused) {
+            const char *value = "";
+            size_t n = strlen(unused);
+            for (int i = 0; i < o->nsets; i++) /* the last --set of a name wins */
+                if (strncmp(o->sets[i], unused, n) == 0 && o->sets[i][n] == '=') value = o->sets[i] + n + 1;
+            lua_pushfstring(L, "--set %s=%s: the script neither declares '%s' (pf.parameters) nor reads pf.params.%s, "
+                               "so the value had no effect", unused, value, unused, unused);
+            fprintf(stderr, "psiflight: %s\n", lua_tostring(L, -1));
+            return PFR_EXIT_USAGE;
+        }
+        return PFR_EXIT_OK;
+    }
     if (rc == LUA_ERRMEM || lim->cap_hit) {
         fprintf(stderr, "psiflight: %s: memory limit: the script's Lua heap reached its cap of %zu bytes "
                         "(raise it with --memory-cap, or keep large data in engine objects)\n",
@@ -250,8 +304,8 @@ int pfr_run_script(const pfr_options *o)
         snprintf(label, sizeof label, "%s", o->script);
     }
     if (recipe) pfr_script_digest(o->script, digest);
-    if (o->out && pfr_make_folders(o->out) != 0)
-        return pfr_usage_error("cannot create the output folder %s: %s", o->out, strerror(errno));
+    int st = check_out_folder(o);
+    if (st != PFR_EXIT_OK) return st;
     pfr_limits lim;
     memset(&lim, 0, sizeof lim);
     lim.cap = o->memory_cap ? o->memory_cap : PFR_DEFAULT_LUA_HEAP;

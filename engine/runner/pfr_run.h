@@ -18,5 +18,7 @@ int pfr_script_digest(const char *script, char hex[65]);
 
 /* mkdir -p path.  Returns 0, or -1 with errno set. */
 int pfr_make_folders(const char *path);
+/* 1 when path has a ".." component (refused for --out in the sandbox). */
+int pfr_path_has_dotdot(const char *path);
 
 #endif

@@ -22,6 +22,7 @@
 #include "../lua/pfl_suffix.h"
 #include "pfr_exit.h"
 #include "pfr_manifest.h"
+#include "pfr_modules.h"
 #include "pfr_mpi.h"
 #include "pfr_run.h"
 #include "pfr_sweep.h"
@@ -63,7 +64,8 @@ static int same_value(const char *a, const char *b)
 }
 
 /* A point is done when its manifest says ok for the same script, seed and
- * parameter values. */
+ * parameter values, and every module it loaded still has the recorded
+ * digest (a changed helper module makes its results stale). */
 static int point_done(const sweep *s, size_t i, const char *folder)
 {
     pfr_manifest m;
@@ -81,6 +83,11 @@ static int point_done(const sweep *s, size_t i, const char *folder)
         snprintf(name, sizeof name, "%.*s", (int)(eq - s->o->sets[k]), s->o->sets[k]);
         const char *got = pfr_manifest_param(&m, name);
         ok = got && same_value(got, eq + 1);
+    }
+    for (int k = 0; ok && k < m.nmodules; k++) {
+        char hex[65];
+        ok = m.msources[k] && m.msha256[k] && pfr_module_digest(m.msources[k], hex) == 0 &&
+             strcmp(hex, m.msha256[k]) == 0;
     }
     pfr_manifest_free(&m);
     return ok;
@@ -105,7 +112,9 @@ static char **child_argv(const sweep *s, size_t i, const char *folder)
     }
     snprintf(buf, sizeof buf, "%llu", pfr_point_seed(s->base_seed, i));
     ADD("--seed"), ADD(buf);
-    ADD("--out"), ADD(folder);
+    /* The sweep owns its point folders: a point that runs (again) replaces
+     * what an earlier, stale or failed run of it left there. */
+    ADD("--out"), ADD(folder), ADD("--overwrite");
     for (int k = 0; k < o->ndata; k++) ADD("--data"), ADD(o->data[k]);
     if (o->threads) snprintf(buf, sizeof buf, "%d", o->threads), ADD("--threads"), ADD(buf);
     if (o->strict) ADD("--strict");
@@ -413,6 +422,12 @@ int pfr_sweep_main(const pfr_options *o, const char *argv0)
     ssize_t len = readlink("/proc/self/exe", s.self, sizeof s.self - 1);
     if (len > 0) s.self[len] = 0;
     else snprintf(s.self, sizeof s.self, "%s", argv0);
+    if (st == PFR_EXIT_OK && !o->trusted && pfr_path_has_dotdot(o->out)) {
+        /* Every point would be refused by the sandbox; say so once, first. */
+        fprintf(stderr, "psiflight: --out %s: the sandbox refuses output folders with '..'; give a folder below "
+                        "the working folder or an absolute path (or run a script you trust with --trusted)\n", o->out);
+        st = PFR_EXIT_SANDBOX;
+    }
     if (st == PFR_EXIT_OK && pfr_make_folders(o->out) != 0)
         st = pfr_usage_error("cannot create the sweep folder %s: %s", o->out, strerror(errno));
     if (st != PFR_EXIT_OK) {

@@ -9,10 +9,26 @@ root=$(cd "$here/../.." && pwd)
 runner=${PSIFLIGHT_RUNNER:-$root/build/psiflight}
 tmp=$(mktemp -d)
 trap 'rm -rf "$tmp"' EXIT
-"$runner" run "$here/h5_writer.lua" --out "$tmp/ok" --set t=1e-3 --set zeta=3 --set alpha=x --set t=2e-3 \
+# A script that declares three parameters (names chosen to test sorting).
+cat >"$tmp/writer.lua" <<'LUA'
+local pf = require "psiflight"
+local p = pf.parameters{
+  t = {default = 0.2e-3, unit = "s", help = "flight time"},
+  zeta = {default = 1, type = "number", help = "amplitude before normalisation"},
+  alpha = {default = "a", help = "name of the data set", choices = {"a", "x"}},
+}
+local g = pf.grid{points = 32, span = 40e-6}
+local w = pf.gaussian(g, {mass = pf.mass("23Na"), width = 3e-6})
+w:scale(p.zeta)
+w:fly(p.t)
+local f = pf.h5file("state.h5")
+f:put_wave(p.alpha, w)
+f:close()
+LUA
+"$runner" run "$tmp/writer.lua" --out "$tmp/ok" --set t=1e-3 --set zeta=3 --set alpha=x --set t=2e-3 \
   --seed 7 --threads 2 --planning estimate --quiet
 
-/usr/bin/python3 - "$tmp/ok" "$here/h5_writer.lua" <<'PY'
+/usr/bin/python3 - "$tmp/ok" "$tmp/writer.lua" <<'PY'
 import json, subprocess, sys, os
 folder, script = sys.argv[1], sys.argv[2]
 m = json.load(open(os.path.join(folder, "manifest.json")))
@@ -22,7 +38,7 @@ def ok(c, label):
 def sha256sum(p):
     return subprocess.run(["sha256sum", p], capture_output=True, text=True, check=True).stdout.split()[0]
 ok(m["format"] == "psiflight-run-manifest" and m["format_version"] == 1, "format and version [BRIEF schema]")
-for key in ["script", "parameters", "seed", "threads", "status", "results", "outputs", "versions", "planning", "wisdom_digest", "guards"]:
+for key in ["script", "parameters", "seed", "threads", "status", "results", "outputs", "modules", "versions", "planning", "plans", "guards"]:
     ok(key in m, "manifest has '%s' [BRIEF schema]" % key)
 ok(m["script"]["sha256"] == sha256sum(script), "script SHA-256 equals sha256sum [coreutils]")
 ok(m["parameters"] == {"alpha": "x", "t": "2e-3", "zeta": "3"} and list(m["parameters"]) == ["alpha", "t", "zeta"],

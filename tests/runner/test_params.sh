@@ -79,4 +79,54 @@ print("legacy tof_ms=" .. tostring(pf.params.tof_ms) .. " " .. math.type(pf.para
 LUA
 expect 0 "scripts without a declaration still see --set in pf.params" -- "$runner" run "$work/legacy.lua" --set tof_ms=5
 has "legacy tof_ms=5 integer" "raw --set value converted to a number"
+
+# --help never computes: it stops at pf.parameters, and a script that never
+# declares parameters is stopped at its first engine computation.
+cat >"$work/declared_late.lua" <<'LUA'
+local pf = require "psiflight"
+local p = pf.parameters{ tof = {default = 2, unit = "ms", help = "flight time"} }
+print("COMPUTED")
+local g = pf.grid{points = 64, span = 1e-5}
+LUA
+expect 0 "--help on a declaring script" -- "$runner" run "$work/declared_late.lua" --help
+has "flight time" "the listing is printed"
+case "$out" in *COMPUTED*|*"declares no parameters"*) fail "--help went past pf.parameters: $out";; esac
+ok "--help stops at pf.parameters (nothing after it ran, no 'declares no parameters')"
+cat >"$work/undeclared.lua" <<'LUA'
+local pf = require "psiflight"
+local g = pf.grid{points = 64, span = 1e-5}
+print("COMPUTED")
+pf.write_csv("never.csv", {{"x", "m", {1}}})
+LUA
+expect 0 "--help on a script without a declaration" -- "$runner" run "$work/undeclared.lua" --help --out "$work/u"
+has "declares no parameters" "says the script declares no parameters"
+case "$out" in *COMPUTED*) fail "--help ran the script's computation: $out";; esac
+[ ! -e "$work/u/never.csv" ] && [ ! -e "$work/u/manifest.json" ] || fail "--help computed nothing and wrote nothing"
+ok "--help computed nothing and wrote nothing"
+cat >"$work/writes_first.lua" <<'LUA'
+local pf = require "psiflight"
+pf.write_csv("early.csv", {{"x", "m", {1}}})
+LUA
+expect 0 "--help on a script that writes before any grid" -- "$runner" run "$work/writes_first.lua" --help --out "$work/w"
+[ ! -e "$work/w/early.csv" ] || fail "--help stops before the first file write"
+ok "--help stops before the first file write"
+
+# A --set that the script neither declares nor reads is an error, not a
+# silently ignored value.
+cat >"$work/fallback.lua" <<'LUA'
+local pf = require "psiflight"
+print("tof_ms", tonumber(pf.params.tof_ms) or 5)
+LUA
+expect 2 "--set of a name a legacy script never reads" -- "$runner" run "$work/fallback.lua" --set tof=3ms --out "$work/l"
+has "--set tof=3ms: the script neither declares 'tof'" "names the ignored --set and its value"
+grep -q '"status":	"failed"' "$work/l/manifest.json" || fail "the manifest records the run as failed"
+ok "the manifest records the run as failed"
+expect 2 "a read name does not excuse another unread one" -- "$runner" run "$work/fallback.lua" --set tof_ms=5 --set tof=3
+has "--set tof=3:" "names the unread one"
+cat >"$work/walks.lua" <<'LUA'
+local pf = require "psiflight"
+for k, v in pairs(pf.params) do print(k, v) end
+LUA
+expect 0 "pairs(pf.params) reads every value" -- "$runner" run "$work/walks.lua" --set a=1 --set b=x
+has "b	x" "pairs sees the --set values"
 done_checks

@@ -13,7 +13,7 @@ ln -s "$work/outside_dir" "$rec/link_to_outside_dir"
 ln -s "$work/outside_module.lua" "$rec/linked_module.lua"
 : >"$rec/evil.so"   # looks like a native module on package.cpath (./?.so)
 cd "$rec"
-run() { "$runner" run "$rec/hostile.lua" --out "$work/out" --set out="$work/out" --set target="$work/secret.txt" "$@"; }
+run() { "$runner" run "$rec/hostile.lua" --out "$work/out" --overwrite --set out="$work/out" --set target="$work/secret.txt" "$@"; }
 
 line_of() { grep -n "^  $1 = " "$rec/hostile.lua" | cut -d: -f1; }
 for e in exec popen read_outside write_dotdot read_symlink write_symlink_dir loadlib c_module symlinked_module \

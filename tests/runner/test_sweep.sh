@@ -136,6 +136,30 @@ printf 'width,tof\n# a comment\n1um,0.5ms\n1um, 1ms\n1um,2ms\n' >"$work/points.c
 expect 0 "points from a CSV file" -- "$runner" sweep "$point" --points "$work/points.csv" --seed 7 --out "$work/F"
 [ "$(head -4 "$work/F/sweep.csv")" = "$(head -4 "$tableA")" ] && ok "CSV points give the same rows"
 
+# A module the script requires is part of what a point computed: the
+# manifest records its digest (checked against coreutils sha256sum) and a
+# resumed sweep reruns the points after the module changed.
+mkdir -p "$work/M"
+cp "$point" "$root/tests/runner/sweep/manifest_fallback.lua" "$work/M/"
+expect 0 "sweep with a local module" -- "$runner" sweep "$work/M/point.lua" --vary width=1um,2um --seed 7 --out "$work/MS"
+/usr/bin/python3 - "$work/MS/point-0000/manifest.json" "$(sha256sum "$work/M/manifest_fallback.lua" | cut -d' ' -f1)" <<'PY' \
+  || fail "the manifest lists the module with its sha256sum digest"
+import json, sys
+m = json.load(open(sys.argv[1]))
+mods = {x["name"]: x for x in m["modules"]}
+sys.exit(0 if mods["manifest_fallback"]["sha256"] == sys.argv[2] and mods["manifest_fallback"]["source"].endswith("/M/manifest_fallback.lua") else 1)
+PY
+ok "the manifest lists the module with its sha256sum digest"
+expect 0 "resume with the module unchanged" -- "$runner" sweep "$work/M/point.lua" --vary width=1um,2um --seed 7 --out "$work/MS"
+has "2 points resumed" "unchanged module: both points resumed"
+echo "-- a changed helper" >>"$work/M/manifest_fallback.lua"
+expect 0 "resume after the module changed" -- "$runner" sweep "$work/M/point.lua" --vary width=1um,2um --seed 7 --out "$work/MS"
+case "$err" in *resumed*) fail "points resumed although their module changed: $err";; esac
+ok "changed module: no point resumed"
+grep -q "$(sha256sum "$work/M/manifest_fallback.lua" | cut -d' ' -f1)" "$work/MS/point-0001/manifest.json" \
+  || fail "the rerun point records the new module digest"
+ok "the rerun point records the new module digest"
+
 expect 2 "sweep needs --out" -- "$runner" sweep "$point" "${vary[@]}"
 expect 2 "bad range" -- "$runner" sweep "$point" --vary width=1um:3ms:4 --out "$work/G"
 has "same quantity" "the range error says why"
