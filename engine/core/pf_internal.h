@@ -25,6 +25,8 @@ struct pf_context {
     void *warn_user;
     char message[1024];
     double guard_threshold;   /* grid guards (pf_guard.c); <= 0 means the default */
+    pf_stop_fn stop_check;    /* asked by long loops whether to stop (pf_context_poll_stop) */
+    void *stop_user;
 };
 
 /* 1D phase segments (pf_flight.c): the phase of point s of a segment that

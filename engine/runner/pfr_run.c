@@ -23,6 +23,7 @@
 #include "pfr_modules.h"
 #include "pfr_run.h"
 #include "pfr_sandbox.h"
+#include "pfr_stop.h"
 #include "pfr_record.h"
 #include "pfr_sweep.h"
 #include "pfr_traceback.h"
@@ -175,18 +176,36 @@ static int load_script(lua_State *L, const pfr_options *o, const char *recipe)
     return luaL_loadfilex(L, o->script, o->trusted ? NULL : "t") == LUA_OK ? 0 : -1;
 }
 
+/* Ends a run whose script ignores a stop request (called from the stop
+ * hook): writes the manifest, returns the exit status. */
+static int finish_stopped(lua_State *L, void *user)
+{
+    const pfr_options *o = user;
+    return pfr_record_end(L, PFR_EXIT_SCRIPT, NULL, o->nsets, o->sets);
+}
+
 /* Runs the loaded chunk and maps the outcome onto an exit status. */
 static int execute(lua_State *L, const pfr_options *o, pfr_limits *lim, int handler, int nargs)
 {
-    if (o->time_limit > 0) pfr_limits_arm_time(L, o->time_limit);
+    pfr_stop_begin(L, o->time_limit, finish_stopped, (void *)o);
     int rc = lua_pcall(L, nargs, 0, handler);
-    pfr_limits_disarm();
-    if (rc == LUA_OK) {
+    pfr_stop_end(L);
+    if (rc == LUA_OK && !pfr_stop_pending()) {
         if (o->help && !pfl_params_declared(L))
             printf("%s declares no parameters (it does not call pf.parameters)\n", o->script);
         return PFR_EXIT_OK;
     }
-    if (pfl_params_is_help_stop(L, -1)) return PFR_EXIT_OK;
+    if (rc != LUA_OK && pfl_params_is_help_stop(L, -1)) return PFR_EXIT_OK;
+    if (pfr_stop_pending()) {
+        /* However the script ended (the stop error, an engine call's
+         * PF_ESTOP, or a normal return just after the request), it was
+         * stopped: say why, from the stop state, not from the message. */
+        const char *full = rc != LUA_OK ? lua_tostring(L, -1) : NULL;
+        fprintf(stderr, "psiflight: run stopped: %s\n", pfr_stop_reason());
+        if (full) fprintf(stderr, "psiflight: %s\n", full);
+        if (rc == LUA_OK) lua_pushstring(L, pfr_stop_reason()); /* the message pfr_record_end is given */
+        return pfr_stop_exit_status(PFR_EXIT_SCRIPT);
+    }
     if (rc == LUA_ERRMEM || lim->cap_hit) {
         fprintf(stderr, "psiflight: %s: memory limit: the script's Lua heap reached its cap of %zu bytes "
                         "(raise it with --memory-cap, or keep large data in engine objects)\n",
@@ -199,7 +218,6 @@ static int execute(lua_State *L, const pfr_options *o, pfr_limits *lim, int hand
     lua_pushlstring(L, full, tb ? (size_t)(tb - full) : strlen(full));
     int status = exit_for_kind(pfl_error_kind_of(L, -1));
     lua_pop(L, 1);
-    if (lim->time_hit) status = PFR_EXIT_LIMIT;
     fprintf(stderr, "psiflight: %s\n", full);
     return status;
 }
@@ -326,7 +344,7 @@ int pfr_main(int argc, char **argv)
     } else if (st == PFR_EXIT_OK) {
         /* A run stops cleanly on Ctrl-C/SIGTERM and never leaves a
          * half-written file (pfr_record.c); sweeps handle signals themselves. */
-        pfr_install_interrupt_cleanup();
+        pfr_stop_install_signals();
         st = pfr_run_script(&o);
     }
     pfr_options_free(&o);

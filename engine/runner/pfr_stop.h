@@ -1,0 +1,48 @@
+/* pfr_stop.h - how a run stops early: on SIGINT/SIGTERM/SIGHUP and at the
+ * --time-limit, the same way in both cases.
+ *
+ * The first signal (or the deadline) makes a stop pending.  From then on:
+ * a count hook, inherited by every coroutine, raises the stop error in Lua
+ * code; pcall, xpcall, coroutine.resume and coroutine.close pass the stop
+ * error on instead of returning it, so a script cannot swallow it; long
+ * engine loops see it through the context's stop check (PF_ESTOP).  The run
+ * then unwinds normally: open outputs are discarded, the manifest says why,
+ * and the exit status is 128 + signal (interrupt) or 5 (time limit).  If Lua
+ * code still runs half a second after the request, the hook ends the run
+ * itself (manifest written, same exit status).  A second signal ends the
+ * process at once, removing files still being written.
+ *
+ * Signal handlers take no arguments, so the stop state is process-wide; the
+ * runner runs one script per process. */
+#ifndef PFR_STOP_H
+#define PFR_STOP_H
+
+#include <lua.h>
+
+/* Chunk name of the catcher wrappers; tracebacks leave their frames out. */
+#define PFR_STOP_CHUNK "(psiflight stop guard)"
+
+/* Called by the hook when a stop must end the run without unwinding: writes
+ * the manifest and returns the exit status to use. */
+typedef int (*pfr_stop_finisher)(lua_State *L, void *user);
+
+/* Installs the SIGINT, SIGTERM and SIGHUP handlers. */
+void pfr_stop_install_signals(void);
+/* Starts watching L (the main thread, before the script is loaded, so that
+ * every coroutine inherits the hook): the count hook, the engine's stop
+ * check, the wrappers of pcall/xpcall/coroutine.resume/coroutine.close, and
+ * the time limit (seconds > 0; 0: none).  finisher ends the run from the
+ * hook when a stop is ignored for too long. */
+void pfr_stop_begin(lua_State *L, double seconds, pfr_stop_finisher finisher, void *user);
+/* Stops watching (the script has returned); later signals end the process. */
+void pfr_stop_end(lua_State *L);
+/* Nonzero when a stop is pending (a signal arrived or the deadline passed). */
+int pfr_stop_pending(void);
+/* One line saying why the run stopped ("interrupted by signal 15 (SIGTERM)",
+ * "time limit of 2 s reached"); "" when no stop is pending. */
+const char *pfr_stop_reason(void);
+/* The exit status of a stopped run: 128 + signal number, or 5 for the time
+ * limit; status unchanged when no stop is pending. */
+int pfr_stop_exit_status(int status);
+
+#endif
