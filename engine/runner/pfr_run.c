@@ -129,7 +129,10 @@ static int prepare(lua_State *L)
     lua_setfield(L, mod, "script");
     pfl_params_configure(L, o->nsets, o->sets, o->help, rs->label);
     if (sandboxed) {
-        if (rs->script_dir && pfl_files_allow(L, rs->script_dir, PFL_ACCESS_WRITE) != 0)
+        /* The script folder is read-only: a recipe must not rewrite files it
+         * did not create (its own .lua files, its neighbours' data); outputs
+         * go to the output folder. */
+        if (rs->script_dir && pfl_files_allow(L, rs->script_dir, PFL_ACCESS_READ) != 0)
             return luaL_error(L, "cannot resolve the script folder %s: %s", rs->script_dir, strerror(errno));
         for (int i = 0; i < o->ndata; i++)
             if (pfl_files_allow(L, o->data[i], PFL_ACCESS_READ) != 0)
