@@ -54,12 +54,12 @@ expect 4 "a link chain" -- run --set escape=link_chain_write
 has "the symbolic link '$work/out/chain1' leads outside" "names the first link of the chain"
 expect 4 "the script folder is read-only" -- run --set escape=rewrite_own_recipe
 has "into a read-only folder" "says the folder is read-only"
-cmp -s "$rec/hostile.lua" "$work/hostile.orig" && [ -e "$rec/hostile.lua" ] && ok "the recipe file is unchanged"
-[ ! -e "$work/escaped.txt" ] && [ ! -e "$work/outside_dir/planted.txt" ] && [ ! -e "$work/secret.txt.csv" ] \
-  && [ ! -e "$work/secret.txt.h5" ] && ok "nothing was written outside"
-[ ! -e "$work/home/.startup_rc" ] && [ ! -e "$work/home/planted.csv" ] && [ ! -e "$work/home/chain_target" ] \
-  && [ ! -e "$work/outside_dir/sub" ] && ok "no dangling link target and no folder was created outside"
-[ -e "$work/secret.txt" ] && ok "the outside file was not removed"
+if cmp -s "$rec/hostile.lua" "$work/hostile.orig" && [ -e "$rec/hostile.lua" ]; then ok "the recipe file is unchanged"; else fail "the recipe file is unchanged"; fi
+if [ ! -e "$work/escaped.txt" ] && [ ! -e "$work/outside_dir/planted.txt" ] && [ ! -e "$work/secret.txt.csv" ] \
+  && [ ! -e "$work/secret.txt.h5" ]; then ok "nothing was written outside"; else fail "nothing was written outside"; fi
+if [ ! -e "$work/home/.startup_rc" ] && [ ! -e "$work/home/planted.csv" ] && [ ! -e "$work/home/chain_target" ] \
+  && [ ! -e "$work/outside_dir/sub" ]; then ok "no dangling link target and no folder was created outside"; else fail "no dangling link target and no folder was created outside"; fi
+if [ -e "$work/secret.txt" ]; then ok "the outside file was not removed"; else fail "the outside file was not removed"; fi
 expect 0 "a link that stays inside the output folder may be read" -- run --set escape=read_inner_link
 has "inner: inside ok" "read through the inside link"
 # A link swapped by another program while the script writes: each write
@@ -73,7 +73,7 @@ echo "untouched" >"$work/home/swap_target"
 swapper=$!
 set +e; run --set escape=swapped_link >"$work/.stdout" 2>"$work/.stderr"; set -e
 touch "$work/swap.stop"; wait $swapper
-[ "$(cat "$work/home/swap_target")" = "untouched" ] && ok "a swapped link never led a write outside ($(cat "$work/.stdout"))"
+if [ "$(cat "$work/home/swap_target")" = "untouched" ]; then ok "a swapped link never led a write outside ($(cat "$work/.stdout"))"; else fail "a swapped link never led a write outside ($(cat "$work/.stdout"))"; fi
 expect 5 "unbounded Lua allocation hits the heap cap" -- run --set escape=allocate --memory-cap 64MiB
 has "memory limit" "says it is the memory limit"
 expect 5 "engine allocation beyond the engine cap" -- run --set escape=engine_allocate --memory-cap 64MiB
@@ -87,12 +87,12 @@ for e in loop_catching loop_catching_in_coroutine handler_loop partial_then_loop
   expect 5 "time limit stops $e" -- "$runner" run "$rec/hostile.lua" --out "$work/tl" --set escape=$e --time-limit 0.3s
   has "time limit of 0.3 s reached while running $rec/hostile.lua:" "$e: names the limit and the line"
   case "$err" in *"without its manifest"*|*"kept running"*) fail "$e: needed a fallback: $err";; esac
-  grep -q '"error":.*"time limit of 0.3 s reached"' "$work/tl/manifest.json" && ok "$e: the manifest says why"
+  if grep -q '"error":.*"time limit of 0.3 s reached"' "$work/tl/manifest.json"; then ok "$e: the manifest says why"; else fail "$e: the manifest says why"; fi
   if ls -A "$work/tl" | grep -q partial; then fail "$e: a partial file stayed"; fi
   ok "$e: no partial file"
 done
 expect 0 "writing into the output folder is allowed" -- run --set escape=write_output
-[ "$(cat "$work/out/result.txt")" = "fine" ] && ok "the output file was written"
+if [ "$(cat "$work/out/result.txt")" = "fine" ]; then ok "the output file was written"; else fail "the output file was written"; fi
 expect 0 "reading the script's own folder is allowed" -- run --set escape=read_own_folder
 echo "calibration 42" >"$work/data.txt"
 expect 0 "reading a --data file is allowed" -- "$runner" run "$rec/hostile.lua" --data "$work/data.txt" \
@@ -100,7 +100,7 @@ expect 0 "reading a --data file is allowed" -- "$runner" run "$rec/hostile.lua" 
 has "data: calibration 42" "the data file was read"
 expect 4 "--data is read-only" -- "$runner" run "$rec/hostile.lua" --data "$work/data.txt" \
   --set escape=write_target --set target="$work/data.txt"
-[ "$(cat "$work/data.txt")" = "calibration 42" ] && ok "the data file is unchanged"
+if [ "$(cat "$work/data.txt")" = "calibration 42" ]; then ok "the data file is unchanged"; else fail "the data file is unchanged"; fi
 expect 0 "--trusted lifts the sandbox (reading outside)" -- run --trusted --set escape=read_outside
 expect 0 "--trusted lifts the sandbox (running a program)" -- run --trusted --set escape=exec
 done_checks
