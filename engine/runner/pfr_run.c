@@ -337,6 +337,9 @@ int pfr_main(int argc, char **argv)
     pfr_options o;
     int st = pfr_options_parse(argc, argv, 2, cmd, &o);
     char script[PATH_MAX + 16];
+    if (st == PFR_EXIT_OK && strcmp(cmd, "recipe") == 0 && !o.script)
+        st = pfr_usage_error("psiflight recipe needs a recipe NAME before its options "
+                             "(psiflight recipe, alone, lists them)");
     if (st == PFR_EXIT_OK && strcmp(cmd, "recipe") == 0) {
         /* psiflight recipe NAME ... is psiflight run recipe:NAME ... */
         snprintf(script, sizeof script, "%s%s", PFR_RECIPE_SCHEME, o.script);
