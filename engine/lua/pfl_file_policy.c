@@ -152,7 +152,10 @@ static int resolve(const char *path, char *out, size_t *first_link)
         if (missing) continue;
         struct stat st;
         if (lstat(out, &st) != 0) {
-            if (errno != ENOENT) return -1;
+            /* Missing, or below a plain file: nothing further down exists,
+             * so nothing further down is a link; the open itself will fail
+             * if the path is still bad then. */
+            if (errno != ENOENT && errno != ENOTDIR) return -1;
             missing = 1;
             continue;
         }
