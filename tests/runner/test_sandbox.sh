@@ -66,10 +66,18 @@ has "inner: inside ok" "read through the inside link"
 # lands in the output folder or is refused (O_NOFOLLOW on the checked path);
 # the file outside never changes.
 echo "untouched" >"$work/home/swap_target"
-( end=$((SECONDS + 20)); while [ $SECONDS -lt $end ] && [ ! -e "$work/swap.stop" ]; do
-    ln -sfn "$work/home/swap_target" "$work/out/swap.txt.new"; mv -Tf "$work/out/swap.txt.new" "$work/out/swap.txt"
-    : >"$work/out/swap.txt.new"; mv -Tf "$work/out/swap.txt.new" "$work/out/swap.txt"
-  done ) &
+/usr/bin/python3 - "$work/out/swap.txt" "$work/home/swap_target" "$work/swap.stop" <<'PY' &
+import os, sys, time
+name, target, stop = sys.argv[1:4]
+end = time.time() + 30
+while time.time() < end and not os.path.exists(stop):
+    # swap between a link to the outside file and a plain file, as fast as
+    # the system allows, so some opens land between the check and the open
+    try: os.unlink(name + ".l")
+    except FileNotFoundError: pass
+    os.symlink(target, name + ".l"); os.replace(name + ".l", name)
+    open(name + ".f", "w").close(); os.replace(name + ".f", name)
+PY
 swapper=$!
 set +e; run --set escape=swapped_link >"$work/.stdout" 2>"$work/.stderr"; set -e
 touch "$work/swap.stop"; wait $swapper

@@ -44,7 +44,7 @@ local tries = {
   -- output folder or is refused, never outside
   swapped_link = function()
     local wrote, refused = 0, 0
-    for _ = 1, 3000 do
+    for _ = 1, 20000 do
       local ok, f = pcall(io.open, p.out .. "/swap.txt", "a")
       if ok and f then f:write("x") f:close() wrote = wrote + 1 else refused = refused + 1 end
     end
