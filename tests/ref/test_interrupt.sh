@@ -118,6 +118,21 @@ grep -q '"error":.*"time limit of 0.5 s reached"' "$tmp/limit/manifest.json" ||
 if ls -A "$tmp/limit" | grep -q partial; then echo "FAIL --time-limit left a partial file"; exit 1; fi
 echo "ok --time-limit during a long evolve: exit 5, manifest says why, no partial file"
 
+# Building a large thermal ensemble polls between members.  Invented
+# scenario: a 23Na cloud at 1 nK in a 100 Hz trap, 200000 sampled members.
+cat >"$tmp/thermal.lua" <<'LUA'
+local pf = require "psiflight"
+pf.setup{planning = "estimate"}
+local g = pf.grid{points = 64, span = 2e-4}
+pf.thermal{grid = g, mass = pf.mass("23Na"), trap = 2 * math.pi * 100, temperature = 1e-9, samples = 200000, seed = 1}
+LUA
+rc=0
+"$runner" run "$tmp/thermal.lua" --out "$tmp/thermal" --quiet --time-limit 0.2s >/dev/null 2>"$tmp/thermal.err" || rc=$?
+[ "$rc" -eq 5 ] || { echo "FAIL --time-limit during pf.thermal: exit $rc, want 5"; cat "$tmp/thermal.err"; exit 1; }
+grep -q "thermal: stopped on request" "$tmp/thermal.err" ||
+  { echo "FAIL pf.thermal was not the call stopped"; cat "$tmp/thermal.err"; exit 1; }
+echo "ok --time-limit while building a thermal ensemble stops the build itself (exit 5)"
+
 # A second signal ends the run at once, whatever the first one started.
 "$runner" run "$here/slow_writer.lua" --out "$tmp/twice" --quiet >/dev/null 2>&1 &
 pid=$!
