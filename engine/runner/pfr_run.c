@@ -179,18 +179,10 @@ static int load_script(lua_State *L, const pfr_options *o, const char *recipe)
     return luaL_loadfilex(L, o->script, o->trusted ? NULL : "t") == LUA_OK ? 0 : -1;
 }
 
-/* Ends a run whose script ignores a stop request (called from the stop
- * hook): writes the manifest, returns the exit status. */
-static int finish_stopped(lua_State *L, void *user)
-{
-    const pfr_options *o = user;
-    return pfr_record_end(L, PFR_EXIT_SCRIPT, NULL, o->nsets, o->sets);
-}
-
 /* Runs the loaded chunk and maps the outcome onto an exit status. */
 static int execute(lua_State *L, const pfr_options *o, pfr_limits *lim, int handler, int nargs)
 {
-    pfr_stop_begin(L, o->time_limit, finish_stopped, (void *)o);
+    pfr_stop_begin(L, o->time_limit);
     int rc = lua_pcall(L, nargs, 0, handler);
     pfr_stop_end(L);
     if (rc == LUA_OK && !pfr_stop_pending()) {

@@ -2,19 +2,23 @@
  * contract is in pfr_stop.h).
  *
  * Why each piece exists:
- * - a count hook on the main thread, set before the script is loaded: Lua
- *   hooks belong to one thread, and a coroutine copies its creator's hook
- *   when it is created, so only a hook present from the start reaches a loop
- *   inside a coroutine;
- * - the stop error is raised again at every hook tick and re-raised by the
- *   pcall/xpcall/coroutine.resume/coroutine.close wrappers, so catching it
- *   does not keep the script running;
+ * - no hook while the run is undisturbed: any count hook makes Lua trace
+ *   every instruction (a pure Lua loop runs about 3 times slower), so the
+ *   stop hook is set only once a stop is requested, as lua.c does for
+ *   Ctrl-C;
+ * - hooks belong to one Lua thread, so the runner tracks which thread runs
+ *   (coroutine.resume and coroutine.wrap go through enter/leave below): the
+ *   signal handler hooks the running thread, and a thread resumed or
+ *   returned to later gets the hook on its way in or out;
+ * - the time limit is an interval timer whose signal is handled like
+ *   SIGTERM, so it costs nothing until it fires;
+ * - the stop hook fires at every instruction of the hooked thread and
+ *   raises each time, and the pcall/xpcall/coroutine.resume/coroutine.close
+ *   wrappers re-raise the stop, so catching it does not keep the script
+ *   running: the run unwinds, and writes its manifest, within milliseconds
+ *   (batch systems send TERM and KILL a few seconds apart);
  * - the engine's stop check (pf_context_poll_stop), so a long evolve or relax
  *   ends within one step instead of at its end;
- * - a hard end from the hook half a second after the request, for whatever
- *   still swallows the error (an error handler that loops, say): batch
- *   systems send TERM and KILL a few seconds apart, and the manifest must be
- *   written before the KILL;
  * - an alarm after the time limit plus a grace period, or 3 s after a
  *   signal, for code that does not poll (an FFTW plan being measured, a
  *   finaliser, which Lua runs with hooks off): it can only remove the
@@ -24,7 +28,6 @@
 #include <stdio.h>
 #include <string.h>
 #include <sys/time.h>
-#include <time.h>
 #include <unistd.h>
 #include <lauxlib.h>
 #include "../core/pf_context.h"
@@ -33,46 +36,43 @@
 #include "pfr_exit.h"
 #include "pfr_stop.h"
 
-/* Instructions between two looks at the stop state: about 10 microseconds
- * of Lua, so the look (a flag, and a clock read under a time limit) costs
- * well under a percent. */
-#define WATCH_EVERY 1000
-/* A stop still ignored this long after it was first seen ends the run from
- * the hook (well inside the 1 s a batch system's TERM-to-KILL gap allows). */
-#define HARD_END_AFTER 0.5
+/* Seconds after the first signal at which the process ends even if nothing
+ * in Lua or the engine noticed the request. */
+#define SIGNAL_BACKSTOP 3
 
-/* Shared with the signal handler: only sig_atomic_t flags. */
+/* Shared with the signal handlers: sig_atomic_t flags and the thread that
+ * runs Lua code now (lua_sethook may be called from a signal handler; lua.c
+ * relies on it). */
 static volatile sig_atomic_t watching;
 static volatile sig_atomic_t stop_signal;
+static volatile sig_atomic_t time_hit;
+static volatile sig_atomic_t grace_seconds;
+static lua_State *volatile current;
 
 /* Used by the main thread only (hook, engine check, wrappers). */
-static double deadline, limit_seconds, first_seen;
-static int time_hit;
+static double limit_seconds;
 static char stop_text[600];
-static pfr_stop_finisher finisher;
-static void *finisher_user;
-
-static double now(void)
-{
-    struct timespec ts;
-    clock_gettime(CLOCK_MONOTONIC, &ts);
-    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
-}
 
 static const char *signal_name(int sig)
 {
     return sig == SIGINT ? "SIGINT" : sig == SIGTERM ? "SIGTERM" : sig == SIGHUP ? "SIGHUP" : "signal";
 }
 
-/* Looks at the stop state; the first look that finds a stop records when. */
+static void watch_hook(lua_State *L, lua_Debug *ar);
+
+/* Hooks thread L so that its next Lua instruction raises the stop error.
+ * Instruction counts only, no call events: a call hook would also fire on
+ * the run's C message handler and replace the error being reported (an
+ * engine call's "stopped on request" by the stop text). */
+static void hook_thread(lua_State *L)
+{
+    lua_sethook(L, watch_hook, LUA_MASKCOUNT, 1);
+}
+
+/* Looks at the stop state: two flags, cheap enough for every engine step. */
 static int stop_now(void)
 {
-    if (!stop_signal && !time_hit) {
-        if (!(deadline > 0) || now() < deadline) return 0;
-        time_hit = 1;
-    }
-    if (!(first_seen > 0)) first_seen = now();
-    return 1;
+    return stop_signal || time_hit;
 }
 
 int pfr_stop_pending(void)
@@ -99,15 +99,20 @@ int pfr_stop_exit_status(int status)
 
 /* The error the script sees; fixed at the first raise so that every later
  * raise (hook ticks, wrappers) carries the same text and script line. */
-static int raise_stop(lua_State *L, lua_Debug *ar)
+static int raise_stop(lua_State *L)
 {
     if (!stop_text[0]) {
-        lua_Debug here;
-        if (!ar && lua_getstack(L, 1, &here)) ar = &here;
-        if (ar) lua_getinfo(L, "Sl", ar);
-        if (ar && ar->currentline > 0)
-            snprintf(stop_text, sizeof stop_text, "%s while running %s:%d%s", pfr_stop_reason(), ar->short_src,
-                     ar->currentline, time_hit ? " (--time-limit)" : "");
+        /* The innermost frame with a line: the hook may fire on a call to
+         * a C function, which has none. */
+        lua_Debug ar;
+        int line = -1;
+        for (int level = 0; line <= 0 && lua_getstack(L, level, &ar); level++) {
+            lua_getinfo(L, "Sl", &ar);
+            if (strcmp(ar.source, "=" PFR_STOP_CHUNK) != 0) line = ar.currentline;
+        }
+        if (line > 0)
+            snprintf(stop_text, sizeof stop_text, "%s while running %s:%d%s", pfr_stop_reason(), ar.short_src, line,
+                     time_hit ? " (--time-limit)" : "");
         else
             snprintf(stop_text, sizeof stop_text, "%s%s", pfr_stop_reason(), time_hit ? " (--time-limit)" : "");
     }
@@ -115,44 +120,20 @@ static int raise_stop(lua_State *L, lua_Debug *ar)
     return lua_error(L);
 }
 
-static int finish_protected(lua_State *L)
-{
-    lua_pushinteger(L, finisher(L, finisher_user));
-    return 1;
-}
-
-/* Ends the run from inside the hook: the script's stack is not unwound, but
- * the manifest is written and the partial files go. */
-static void hard_end(lua_State *L)
-{
-    lua_sethook(L, NULL, 0, 0);
-    watching = 0; /* a signal from now on ends the process at once */
-    fprintf(stderr, "psiflight: %s; the script kept running after the stop request, run ended\n",
-            stop_text[0] ? stop_text : pfr_stop_reason());
-    int status = pfr_stop_exit_status(PFR_EXIT_SCRIPT);
-    if (finisher) {
-        lua_pushcfunction(L, finish_protected);
-        if (lua_pcall(L, 0, 1, 0) == LUA_OK) status = (int)lua_tointeger(L, -1);
-        lua_pop(L, 1);
-    }
-    pf_safe_remove_all_partial();
-    fflush(stdout);
-    fflush(stderr);
-    _exit(status);
-}
-
 static void watch_hook(lua_State *L, lua_Debug *ar)
 {
+    (void)ar;
     if (!stop_now()) return;
-    if (now() - first_seen > HARD_END_AFTER) hard_end(L);
-    raise_stop(L, ar);
+    raise_stop(L);
 }
 
-/* check(): raises the stop error when a stop is pending (for the wrappers). */
+/* check(): raises the stop error when a stop is pending (for the wrappers),
+ * hooking the calling thread too. */
 static int check_stop(lua_State *L)
 {
-    if (stop_now()) return raise_stop(L, NULL);
-    return 0;
+    if (!stop_now()) return 0;
+    hook_thread(L);
+    return raise_stop(L);
 }
 
 static int engine_stop_check(void *user)
@@ -161,13 +142,49 @@ static int engine_stop_check(void *user)
     return stop_now();
 }
 
-/* The error catchers of the base and coroutine libraries, wrapped so a
- * pending stop is passed on.  Lua functions, so they stay yieldable.  An
- * xpcall message handler is skipped while a stop is pending: Lua runs the
- * handler of an error raised by a hook with hooks switched off, so a handler
- * that loops could not be stopped otherwise. */
+/* enter(co): co is about to run; it is the thread a signal must hook. */
+static int enter_thread(lua_State *L)
+{
+    lua_State *co = lua_tothread(L, 1);
+    if (co) {
+        current = co;
+        if (stop_now()) hook_thread(co);
+    }
+    return 0;
+}
+
+/* leave(...): the calling thread runs again; returns its arguments. */
+static int leave_thread(lua_State *L)
+{
+    current = L;
+    if (stop_now()) hook_thread(L);
+    return lua_gettop(L);
+}
+
+/* stopping(): true when a stop is pending (for the message-handler guard). */
+static int is_stopping(lua_State *L)
+{
+    lua_pushboolean(L, stop_now());
+    return 1;
+}
+
+/* The error catchers and coroutine runners of the base and coroutine
+ * libraries, wrapped.  Lua functions, so they stay yieldable.  resume (and
+ * wrap, rebuilt on it with the stock error behaviour) tell the runner which
+ * thread runs; the catchers pass a pending stop on.  An xpcall message
+ * handler is skipped while a stop is pending: Lua runs the handler of an
+ * error raised by a hook with hooks switched off, so a handler that loops
+ * could not be stopped otherwise. */
 static const char WRAPPERS[] =
-    "local pcall, xpcall, resume, close, check, stopping = ...\n"
+    "local pcall, xpcall, resume, close, create, check, stopping, enter, leave = ...\n"
+    "local type, select, error, format = type, select, error, string.format\n"
+    "local function expect(what, name, ...)\n"
+    "  local v = ...\n"
+    "  if type(v) ~= what then\n"
+    "    error(format(\"bad argument #1 to '%s' (%s expected, got %s)\", name, what,\n"
+    "                 select('#', ...) == 0 and 'no value' or type(v)), 3)\n"
+    "  end\n"
+    "end\n"
     "local function pass(ok, ...)\n"
     "  if not ok then check() end\n"
     "  return ok, ...\n"
@@ -178,15 +195,25 @@ static const char WRAPPERS[] =
     "  local function guarded(e) if stopping() then return e end return handler(e) end\n"
     "  return pass(xpcall(f, guarded, ...))\n"
     "end\n"
-    "coroutine.resume = function(...) return pass(resume(...)) end\n"
-    "coroutine.close = function(...) return pass(close(...)) end\n";
-
-/* stopping(): true when a stop is pending (for the message-handler guard). */
-static int is_stopping(lua_State *L)
-{
-    lua_pushboolean(L, stop_now());
-    return 1;
-}
+    "local function run(...)\n"
+    "  expect('thread', 'resume', ...)\n"
+    "  enter((...))\n"
+    "  return pass(leave(resume(...)))\n"
+    "end\n"
+    "coroutine.resume = run\n"
+    "coroutine.close = function(...) return pass(close(...)) end\n"
+    "local function unwrap(co, ok, ...)\n"
+    "  if ok then return ... end\n"
+    "  local err = ...\n"
+    "  close(co)\n"
+    "  if type(err) == 'string' then error(err, 2) end\n"
+    "  error(err, 0)\n"
+    "end\n"
+    "coroutine.wrap = function(...)\n"
+    "  expect('function', 'wrap', ...)\n"
+    "  local co = create((...))\n"
+    "  return function(...) return unwrap(co, run(co, ...)) end\n"
+    "end\n";
 
 static void wrap_catchers(lua_State *L)
 {
@@ -199,19 +226,19 @@ static void wrap_catchers(lua_State *L)
     lua_getglobal(L, "coroutine");
     lua_getfield(L, -1, "resume");
     lua_getfield(L, -2, "close");
-    lua_remove(L, -3);
+    lua_getfield(L, -3, "create");
+    lua_remove(L, -4);
     lua_pushcfunction(L, check_stop);
     lua_pushcfunction(L, is_stopping);
-    if (lua_pcall(L, 6, 0, 0) != LUA_OK) lua_pop(L, 1);
+    lua_pushcfunction(L, enter_thread);
+    lua_pushcfunction(L, leave_thread);
+    if (lua_pcall(L, 9, 0, 0) != LUA_OK) lua_pop(L, 1);
 }
 
-/* Seconds after the first signal at which the process ends even if nothing
- * in Lua or the engine noticed the request (a finaliser that loops runs with
- * hooks off; an FFTW plan being measured does not poll). */
-#define SIGNAL_BACKSTOP 3
-
-/* The last resort, for code that cannot be interrupted: only async-signal-
- * safe calls, so no manifest; the partial files go. */
+/* SIGALRM: at the deadline, a stop like a signal's; the next one (the
+ * grace period after the deadline, or SIGNAL_BACKSTOP after a signal) is the
+ * last resort for code that cannot be interrupted: only async-signal-safe
+ * calls, so no manifest; the partial files go. */
 static void on_alarm(int sig)
 {
     static const char limit[] = "psiflight: time limit reached inside code that cannot be interrupted; "
@@ -219,39 +246,45 @@ static void on_alarm(int sig)
     static const char interrupted[] = "psiflight: the stop request was not honoured within "
                                       "3 s; run ended without its manifest\n";
     (void)sig;
+    if (watching && !stop_signal && !time_hit) {
+        time_hit = 1;
+        lua_State *L = current;
+        if (L) hook_thread(L);
+        alarm((unsigned)grace_seconds);
+        return;
+    }
     pf_safe_remove_all_partial();
-    int by_signal = stop_signal != 0;
+    int by_signal = stop_signal != 0 && !time_hit;
     ssize_t r = by_signal ? write(2, interrupted, sizeof interrupted - 1) : write(2, limit, sizeof limit - 1);
     (void)r;
     _exit(by_signal ? 128 + stop_signal : PFR_EXIT_LIMIT);
 }
 
-static void arm_alarm(double seconds)
+static void arm_deadline(double seconds)
 {
     double grace = seconds * 0.1 > 2.0 ? seconds * 0.1 : 2.0;
+    grace_seconds = (sig_atomic_t)(grace + 0.999);
     struct itimerval it;
     memset(&it, 0, sizeof it);
-    double hard = seconds + grace;
-    it.it_value.tv_sec = (time_t)hard;
-    it.it_value.tv_usec = (suseconds_t)((hard - (double)(time_t)hard) * 1e6);
+    it.it_value.tv_sec = (time_t)seconds;
+    it.it_value.tv_usec = (suseconds_t)((seconds - (double)(time_t)seconds) * 1e6);
+    if (it.it_value.tv_sec == 0 && it.it_value.tv_usec == 0) it.it_value.tv_usec = 1;
     setitimer(ITIMER_REAL, &it, NULL);
 }
 
-void pfr_stop_begin(lua_State *L, double seconds, pfr_stop_finisher fn, void *user)
+void pfr_stop_begin(lua_State *L, double seconds)
 {
-    finisher = fn;
-    finisher_user = user;
     limit_seconds = seconds;
-    deadline = seconds > 0 ? now() + seconds : 0;
     wrap_catchers(L);
     pf_context_set_stop_check(pfl_ctx(L), engine_stop_check, NULL);
-    lua_sethook(L, watch_hook, LUA_MASKCOUNT, WATCH_EVERY);
     struct sigaction sa;
     memset(&sa, 0, sizeof sa);
     sa.sa_handler = on_alarm;
+    sigemptyset(&sa.sa_mask);
     sigaction(SIGALRM, &sa, NULL);
-    if (seconds > 0) arm_alarm(seconds);
+    current = L;
     watching = 1;
+    if (seconds > 0) arm_deadline(seconds);
 }
 
 void pfr_stop_end(lua_State *L)
@@ -260,6 +293,7 @@ void pfr_stop_end(lua_State *L)
     struct itimerval it;
     memset(&it, 0, sizeof it);
     setitimer(ITIMER_REAL, &it, NULL);
+    current = NULL;
     lua_sethook(L, NULL, 0, 0);
     pf_context_set_stop_check(pfl_ctx(L), NULL, NULL);
 }
@@ -268,7 +302,9 @@ static void on_signal(int sig)
 {
     if (watching && !stop_signal) {
         stop_signal = sig; /* the hook and the engine's check pick it up */
-        alarm(SIGNAL_BACKSTOP); /* async-signal-safe; replaces a time-limit alarm */
+        lua_State *L = current;
+        if (L) hook_thread(L);
+        if (!time_hit) alarm(SIGNAL_BACKSTOP); /* async-signal-safe; replaces the deadline timer */
         return;
     }
     /* A second signal, or one outside the script: files being written are

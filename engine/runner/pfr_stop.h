@@ -2,15 +2,16 @@
  * --time-limit, the same way in both cases.
  *
  * The first signal (or the deadline) makes a stop pending.  From then on:
- * a count hook, inherited by every coroutine, raises the stop error in Lua
- * code; pcall, xpcall, coroutine.resume and coroutine.close pass the stop
- * error on instead of returning it, so a script cannot swallow it; long
+ * a hook on the Lua thread that runs (the main one or a coroutine) raises
+ * the stop error at its next instruction, and on every thread that runs
+ * later; pcall, xpcall, coroutine.resume/wrap and coroutine.close pass the
+ * stop on instead of returning it, so a script cannot swallow it; long
  * engine loops see it through the context's stop check (PF_ESTOP).  The run
  * then unwinds normally: open outputs are discarded, the manifest says why,
- * and the exit status is 128 + signal (interrupt) or 5 (time limit).  If Lua
- * code still runs half a second after the request, the hook ends the run
- * itself (manifest written, same exit status).  A second signal ends the
- * process at once, removing files still being written.
+ * and the exit status is 128 + signal (interrupt) or 5 (time limit).  Code
+ * that cannot be interrupted is ended by an alarm 3 s after a signal (or a
+ * grace period after the time limit), without a manifest.  A second signal
+ * ends the process at once, removing files still being written.
  *
  * Signal handlers take no arguments, so the stop state is process-wide; the
  * runner runs one script per process. */
@@ -22,18 +23,12 @@
 /* Chunk name of the catcher wrappers; tracebacks leave their frames out. */
 #define PFR_STOP_CHUNK "(psiflight stop guard)"
 
-/* Called by the hook when a stop must end the run without unwinding: writes
- * the manifest and returns the exit status to use. */
-typedef int (*pfr_stop_finisher)(lua_State *L, void *user);
-
 /* Installs the SIGINT, SIGTERM and SIGHUP handlers. */
 void pfr_stop_install_signals(void);
-/* Starts watching L (the main thread, before the script is loaded, so that
- * every coroutine inherits the hook): the count hook, the engine's stop
- * check, the wrappers of pcall/xpcall/coroutine.resume/coroutine.close, and
- * the time limit (seconds > 0; 0: none).  finisher ends the run from the
- * hook when a stop is ignored for too long. */
-void pfr_stop_begin(lua_State *L, double seconds, pfr_stop_finisher finisher, void *user);
+/* Starts watching L (the main thread, before the script runs): the engine's
+ * stop check, the wrappers of pcall/xpcall/coroutine.resume/coroutine.wrap/
+ * coroutine.close, and the time limit (seconds > 0; 0: none). */
+void pfr_stop_begin(lua_State *L, double seconds);
 /* Stops watching (the script has returned); later signals end the process. */
 void pfr_stop_end(lua_State *L);
 /* Nonzero when a stop is pending (a signal arrived or the deadline passed). */
