@@ -104,9 +104,16 @@ static int io_lines_checked(lua_State *L)
     return call_original(L);
 }
 
+/* io.input(name) opens name for reading: through open_resolved too. */
 static int io_input_checked(lua_State *L)
 {
-    if (lua_type(L, 1) == LUA_TSTRING) pfl_files_check(L, lua_tostring(L, 1), PFL_ACCESS_READ, "io.input");
+    if (lua_type(L, 1) == LUA_TSTRING) {
+        const char *path = lua_tostring(L, 1);
+        if (open_resolved(L, path, "r", "io.input") != 1 || lua_isnil(L, -1))
+            return luaL_error(L, "%s", lua_tostring(L, -2));
+        lua_replace(L, 1);
+        lua_settop(L, 1);
+    }
     return call_original(L);
 }
 

@@ -32,7 +32,7 @@ for e in exec popen read_outside write_dotdot read_symlink write_symlink_dir loa
          binary_chunk dofile_outside loadfile_outside remove_outside getenv sethook wisdom \
          engine_write_outside engine_read_outside engine_h5_outside move_output \
          dangling_link_write dangling_link_engine link_dir_engine link_chain_write link_as_written \
-         io_output_dangling rewrite_own_recipe remove_own_file; do
+         io_output_dangling io_input_link rewrite_own_recipe remove_own_file; do
   expect 4 "sandbox refuses $e" -- run --set escape="$e"
   has "hostile.lua:$(line_of "$e"):" "$e: the error names the script line"
 done

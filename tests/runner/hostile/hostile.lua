@@ -37,6 +37,7 @@ local tries = {
   link_chain_write = function() io.open(p.out .. "/chain1", "a"):write("x") end,
   link_as_written = function() io.open("link_to_secret"):read("a") end,
   io_output_dangling = function() io.output(p.out .. "/dangling.txt") io.write("x") end,
+  io_input_link = function() io.input(here .. "/link_to_secret") print(io.read("a")) end,
   -- the script's own folder is read-only
   rewrite_own_recipe = function() io.open(here .. "/hostile.lua", "w"):write("-- replaced\n") end,
   remove_own_file = function() os.remove(here .. "/hostile.lua") end,
