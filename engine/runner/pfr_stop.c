@@ -102,8 +102,8 @@ int pfr_stop_exit_status(int status)
 static int raise_stop(lua_State *L)
 {
     if (!stop_text[0]) {
-        /* The innermost frame with a line: the hook may fire on a call to
-         * a C function, which has none. */
+        /* The innermost script frame with a line: check() runs as a C
+         * function, which has none, called from the wrappers' chunk. */
         lua_Debug ar;
         int line = -1;
         for (int level = 0; line <= 0 && lua_getstack(L, level, &ar); level++) {
