@@ -374,3 +374,16 @@ void pf_context_store_wisdom(pf_context *ctx)
         pf_context_warn(ctx, "could not save FFTW wisdom to %s", ctx->wisdom_path);
     }
 }
+
+/* Stop checks: grouped here, apart from the settings and the allocator. */
+void pf_context_set_stop_check(pf_context *ctx, pf_stop_fn fn, void *user)
+{
+    ctx->stop_check = fn;
+    ctx->stop_user = user;
+}
+
+pf_status pf_context_poll_stop(pf_context *ctx)
+{
+    if (!ctx || !ctx->stop_check || !ctx->stop_check(ctx->stop_user)) return PF_OK;
+    return pf_fail(ctx, PF_ESTOP, "stopped on request (interrupt or time limit)");
+}

@@ -101,4 +101,19 @@ const char *pf_context_message(const pf_context *ctx);
  * message text. */
 pf_status pf_context_status(const pf_context *ctx);
 
+/* Stopping long computations.  A caller that must be able to end a run at any
+ * time (the runner, on SIGTERM or at its time limit) installs a stop check;
+ * long loops (evolve, relax, ensemble builds) call pf_context_poll_stop once
+ * per step or per member, which is far more often than every 100 ms.  The
+ * check runs on the calling thread, outside parallel regions, so it may read
+ * whatever the caller likes; it must be cheap (it is called per step).
+ * Returns nonzero when the computation should stop. */
+typedef int (*pf_stop_fn)(void *user);
+/* Installs fn (NULL: never stop). */
+void pf_context_set_stop_check(pf_context *ctx, pf_stop_fn fn, void *user);
+/* PF_OK, or PF_ESTOP with the message "stopped on request" when the stop
+ * check says so.  The loop then releases what it holds and returns the
+ * status; objects are left valid (a wave may hold a part-way state). */
+pf_status pf_context_poll_stop(pf_context *ctx);
+
 #endif

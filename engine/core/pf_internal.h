@@ -30,6 +30,8 @@ struct pf_context {
     double guard_threshold;   /* grid guards (pf_guard.c); <= 0 means the default */
     struct pf_plan_note *plan_notes; /* plans made, for provenance (pf_plans.c) */
     size_t nplan_notes, plan_notes_cap;
+    pf_stop_fn stop_check;    /* asked by long loops whether to stop (pf_context_poll_stop) */
+    void *stop_user;
 };
 
 /* 1D phase segments (pf_flight.c): the phase of point s of a segment that

@@ -173,6 +173,8 @@ pf_status pf_wave_relax(pf_wave *w, const pf_relax_spec *spec, pf_relax_info *in
     size_t step = 0;
     double inv_n = 1.0 / (double)g->total;
     while (step < spec->max_steps) {
+        /* One poll per step: a stop request ends a long relaxation at once. */
+        if ((s = pf_context_poll_stop(ctx))) goto done;
         damp_potential(g, w->store, V, vmin, spec->g, f, factor);
         if ((s = pf_grid_fft(g, w->store, -1))) goto done;
         pf_kernel_axis_multiply(g, w->store, (const double complex *const *)kin, inv_n);

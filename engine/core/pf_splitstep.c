@@ -323,6 +323,9 @@ pf_status pf_wave_evolve(pf_wave *w, double t, const pf_evolve_spec *spec, pf_ev
     const double t0 = w->clock;
     s = potential_step(&ws, 0.5 * sc->c[0], 0, t0);
     for (size_t step = 0; step < n && !s; step++) {
+        /* One poll per step (a few FFTs): a stop request ends a long evolve
+         * within one step instead of at its end. */
+        if ((s = pf_context_poll_stop(ctx))) break;
         double tau = 0;
         for (int j = 0; j < sc->stages && !s; j++) {
             s = kinetic_step(&ws, sc->stages == 1 || j != 1 ? 0 : 1);

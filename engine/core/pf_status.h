@@ -14,7 +14,8 @@ typedef enum pf_status {
     PF_EFFT,     /* FFTW could not create a plan */
     PF_EIO,      /* a file could not be read or written */
     PF_ESTATE,   /* the object is in the wrong state (closed, mismatched grid) */
-    PF_ECALLBACK /* a caller-supplied callback reported failure */
+    PF_ECALLBACK, /* a caller-supplied callback reported failure */
+    PF_ESTOP     /* the caller asked a long computation to stop (pf_context_poll_stop) */
 } pf_status;
 
 /* Short English name of a status code, for messages ("invalid argument"). */

@@ -178,9 +178,13 @@ int pfl_files_allow(lua_State *L, const char *path, pfl_access access);
 /* True when a policy is in force (the runner's sandbox), false otherwise. */
 int pfl_files_enforced(lua_State *L);
 /* Raises a sandbox error naming op and path unless the policy allows the
- * access: no ".." component, and the resolved path (symbolic links followed)
- * inside an allowed root. */
+ * access: no ".." component, and the resolved path (every symbolic link
+ * followed, whether its target exists or not) inside an allowed root. */
 void pfl_files_check(lua_State *L, const char *path, pfl_access access, const char *op);
+/* The same check; also pushes the resolved path (absolute, free of links;
+ * path itself when no policy is in force) and returns it, so a caller can
+ * open exactly what was checked, with O_NOFOLLOW. */
+const char *pfl_files_resolve(lua_State *L, const char *path, pfl_access access, const char *op);
 
 /* ---- openers: each registers its group into the module table at mod ---- */
 void pfl_open_options(lua_State *L, int mod);  /* pf.check_options; first, before any group declares options */

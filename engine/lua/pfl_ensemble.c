@@ -218,6 +218,9 @@ static int thermal_eigenstates(lua_State *L, pf_grid *g, const pf_thermal_spec *
     int wt = lua_gettop(L);
     for (size_t i = 0; i < count; i++) {
         pf_wave *w;
+        /* Members are built one wave at a time: a stop request is honoured
+         * between them (everything built so far is on the Lua stack). */
+        pfl_check(L, pf_context_poll_stop(pfl_ctx(L)), "thermal");
         pfl_check(L, pf_wave_new(g, sp->mass, &w), "thermal");
         pfl_push_wave(L, w);
         pfl_check(L, pf_build_oscillator(w, sp->omega, held[i].n, center, k0, 1), "thermal");
@@ -294,6 +297,9 @@ static int l_thermal(lua_State *L)
     int wt = lua_gettop(L);
     for (size_t i = 0; i < count; i++) {
         pf_wave *w;
+        /* Members are built one wave at a time: a stop request is honoured
+         * between them (everything built so far is on the Lua stack). */
+        pfl_check(L, pf_context_poll_stop(pfl_ctx(L)), "thermal");
         pfl_check(L, pf_wave_new(g, sp.mass, &w), "thermal");
         pfl_push_wave(L, w);
         pfl_check(L, pf_wave_fill_coherent(w, center, s0, held[i].shift, held[i].kmean), "thermal");

@@ -314,6 +314,18 @@ static void read_spec(lua_State *L, const char *name, int spec, pspec *p)
     lua_pop(L, 2);
     if (lua_getfield(L, spec, "choices") != LUA_TNIL && (p->type != P_STRING || lua_type(L, -1) != LUA_TTABLE))
         luaL_error(L, "parameters: '%s': choices must be a list of strings for a string parameter", name);
+    /* Every entry a string, checked here: --help and the "must be one of"
+     * message print them, and a table or boolean would print as "(null)". */
+    if (lua_type(L, -1) == LUA_TTABLE) {
+        lua_Integer n = (lua_Integer)lua_rawlen(L, -1);
+        if (n == 0) luaL_error(L, "parameters: '%s': choices is an empty list", name);
+        for (lua_Integer i = 1; i <= n; i++) {
+            int t = lua_rawgeti(L, -1, i);
+            if (t != LUA_TSTRING)
+                luaL_error(L, "parameters: '%s': choices[%d] must be a string, got %s", name, (int)i, lua_typename(L, t));
+            lua_pop(L, 1);
+        }
+    }
     lua_pop(L, 1);
 }
 

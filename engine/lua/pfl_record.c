@@ -205,15 +205,19 @@ const char *pfl_output_resolve(lua_State *L, const char *path, const char *fname
     lua_pushfstring(L, "%s/%s", folder, path);
     const char *full = lua_tostring(L, -1);
     if (pfl_files_enforced(L)) {
-        /* The sandbox resolves the file's folder, so it must exist first.
-         * The default folder (no --out) is the engine's choice, not the
-         * script's, so it joins the allowed roots once created. */
-        pfl_check(L, pf_make_folders(pfl_ctx(L), full), fname);
+        /* The default folder (no --out) is the engine's choice, not the
+         * script's, so it joins the allowed roots once created.  The path is
+         * checked before any folder below the run folder is made: a link
+         * inside the run folder must not get folders made through it. */
         if (!pfl_output_dir(L) && !r->default_allowed) {
+            lua_pushfstring(L, "%s/", folder);
+            pfl_check(L, pf_make_folders(pfl_ctx(L), lua_tostring(L, -1)), fname);
+            lua_pop(L, 1);
             pfl_files_allow(L, folder, PFL_ACCESS_WRITE);
             r->default_allowed = 1;
         }
         pfl_files_check(L, full, PFL_ACCESS_WRITE, fname);
+        pfl_check(L, pf_make_folders(pfl_ctx(L), full), fname);
     }
     return full;
 }

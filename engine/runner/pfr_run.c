@@ -24,6 +24,7 @@
 #include "pfr_modules.h"
 #include "pfr_run.h"
 #include "pfr_sandbox.h"
+#include "pfr_stop.h"
 #include "pfr_record.h"
 #include "pfr_sweep.h"
 #include "pfr_traceback.h"
@@ -162,7 +163,10 @@ static int prepare(lua_State *L)
     pfl_params_configure(L, o->nsets, o->sets, o->help, rs->label);
     pfl_params_publish(L, mod);
     if (sandboxed) {
-        if (rs->script_dir && pfl_files_allow(L, rs->script_dir, PFL_ACCESS_WRITE) != 0)
+        /* The script folder is read-only: a recipe must not rewrite files it
+         * did not create (its own .lua files, its neighbours' data); outputs
+         * go to the output folder. */
+        if (rs->script_dir && pfl_files_allow(L, rs->script_dir, PFL_ACCESS_READ) != 0)
             return luaL_error(L, "cannot resolve the script folder %s: %s", rs->script_dir, strerror(errno));
         for (int i = 0; i < o->ndata; i++)
             if (pfl_files_allow(L, o->data[i], PFL_ACCESS_READ) != 0)
@@ -233,9 +237,19 @@ static int load_script(lua_State *L, const pfr_options *o, const char *recipe)
 /* Runs the loaded chunk and maps the outcome onto an exit status. */
 static int execute(lua_State *L, const pfr_options *o, pfr_limits *lim, int handler, int nargs)
 {
-    if (o->time_limit > 0) pfr_limits_arm_time(L, o->time_limit);
+    pfr_stop_begin(L, o->time_limit);
     int rc = lua_pcall(L, nargs, 0, handler);
-    pfr_limits_disarm();
+    pfr_stop_end(L);
+    if (pfr_stop_pending()) {
+        /* However the script ended (the stop error, an engine call's
+         * PF_ESTOP, or a normal return just after the request), it was
+         * stopped: say why, from the stop state, not from the message. */
+        const char *full = rc != LUA_OK ? lua_tostring(L, -1) : NULL;
+        fprintf(stderr, "psiflight: run stopped: %s\n", pfr_stop_reason());
+        if (full) fprintf(stderr, "psiflight: %s\n", full);
+        if (rc == LUA_OK) lua_pushstring(L, pfr_stop_reason()); /* the message pfr_record_end is given */
+        return pfr_stop_exit_status(PFR_EXIT_SCRIPT);
+    }
     if (o->help && (rc == LUA_OK || pfl_params_is_help_stop(L, -1))) {
         /* Stopped at pf.parameters after the listing, or before the first
          * engine computation of a script that declares nothing. */
@@ -272,7 +286,6 @@ static int execute(lua_State *L, const pfr_options *o, pfr_limits *lim, int hand
     lua_pushlstring(L, full, tb ? (size_t)(tb - full) : strlen(full));
     int status = exit_for_kind(pfl_error_kind_of(L, -1));
     lua_pop(L, 1);
-    if (lim->time_hit) status = PFR_EXIT_LIMIT;
     fprintf(stderr, "psiflight: %s\n", full);
     return status;
 }
@@ -389,6 +402,9 @@ int pfr_main(int argc, char **argv)
     pfr_options o;
     int st = pfr_options_parse(argc, argv, 2, cmd, &o);
     char script[PATH_MAX + 16];
+    if (st == PFR_EXIT_OK && strcmp(cmd, "recipe") == 0 && !o.script)
+        st = pfr_usage_error("psiflight recipe needs a recipe NAME before its options "
+                             "(psiflight recipe, alone, lists them)");
     if (st == PFR_EXIT_OK && strcmp(cmd, "recipe") == 0) {
         /* psiflight recipe NAME ... is psiflight run recipe:NAME ... */
         snprintf(script, sizeof script, "%s%s", PFR_RECIPE_SCHEME, o.script);
@@ -399,7 +415,7 @@ int pfr_main(int argc, char **argv)
     } else if (st == PFR_EXIT_OK) {
         /* A run stops cleanly on Ctrl-C/SIGTERM and never leaves a
          * half-written file (pfr_record.c); sweeps handle signals themselves. */
-        pfr_install_interrupt_cleanup();
+        pfr_stop_install_signals();
         st = pfr_run_script(&o);
     }
     pfr_options_free(&o);

@@ -6,6 +6,8 @@
  * the file policy allows, or switch off the time limit (debug.sethook).  Each
  * such function stays in place as a refusal, so the error names the operation
  * and the script line instead of "attempt to call a nil value". */
+#include <errno.h>
+#include <fcntl.h>
 #include <stdio.h>
 #include <string.h>
 #include <unistd.h>
@@ -30,11 +32,6 @@ static void set_refusal(lua_State *L, int table, const char *lib, const char *fi
     lua_setfield(L, table, field);
 }
 
-static int is_write_mode(const char *mode)
-{
-    return strchr(mode, 'w') || strchr(mode, 'a') || strchr(mode, '+');
-}
-
 /* Calls the original function (upvalue 1) with the arguments unchanged. */
 static int call_original(lua_State *L)
 {
@@ -45,12 +42,61 @@ static int call_original(lua_State *L)
     return lua_gettop(L);
 }
 
+/* Closes a file opened by open_resolved (as liolib's own close does). */
+static int stream_close(lua_State *L)
+{
+    luaL_Stream *p = luaL_checkudata(L, 1, LUA_FILEHANDLE);
+    errno = 0;
+    return luaL_fileresult(L, fclose(p->f) == 0, NULL);
+}
+
+/* Open flags for a Lua file mode ("r", "w", "a", "r+", "w+", "a+", any "b"). */
+static int open_flags(const char *mode, int *flags)
+{
+    int plus = mode[0] && mode[1] == '+';
+    const char *tail = mode + (mode[0] ? 1 : 0) + plus;
+    if (strspn(tail, "b") != strlen(tail)) return -1;
+    switch (mode[0]) {
+    case 'r': *flags = plus ? O_RDWR : O_RDONLY; return 0;
+    case 'w': *flags = (plus ? O_RDWR : O_WRONLY) | O_CREAT | O_TRUNC; return 0;
+    case 'a': *flags = (plus ? O_RDWR : O_WRONLY) | O_CREAT | O_APPEND; return 0;
+    default: return -1;
+    }
+}
+
+/* io.open in the sandbox: checks the path, then opens the resolved path it
+ * checked (free of links) with O_NOFOLLOW, so a link put in place after the
+ * check is refused instead of followed.  Failures return nil, message, errno
+ * with the path as the script wrote it, like the stock io.open. */
+static int open_resolved(lua_State *L, const char *path, const char *mode, const char *op)
+{
+    int flags;
+    if (open_flags(mode, &flags) != 0) return luaL_argerror(L, 2, "invalid mode");
+    const char *real = pfl_files_resolve(L, path, flags == O_RDONLY ? PFL_ACCESS_READ : PFL_ACCESS_WRITE, op);
+    /* The handle exists before the file is opened, so a memory error
+     * cannot leak the descriptor (liolib does the same). */
+    luaL_Stream *p = lua_newuserdatauv(L, sizeof *p, 0);
+    p->closef = NULL;
+    p->f = NULL;
+    luaL_setmetatable(L, LUA_FILEHANDLE);
+    int fd = open(real, flags | O_NOFOLLOW | O_CLOEXEC, 0666);
+    if (fd < 0) return luaL_fileresult(L, 0, path);
+    p->f = fdopen(fd, mode);
+    if (!p->f) {
+        int e = errno;
+        close(fd);
+        errno = e;
+        return luaL_fileresult(L, 0, path);
+    }
+    p->closef = stream_close;
+    return 1;
+}
+
 static int io_open_checked(lua_State *L)
 {
     const char *path = luaL_checkstring(L, 1);
     const char *mode = luaL_optstring(L, 2, "r");
-    pfl_files_check(L, path, is_write_mode(mode) ? PFL_ACCESS_WRITE : PFL_ACCESS_READ, "io.open");
-    return call_original(L);
+    return open_resolved(L, path, mode, "io.open");
 }
 
 static int io_lines_checked(lua_State *L)
@@ -59,15 +105,30 @@ static int io_lines_checked(lua_State *L)
     return call_original(L);
 }
 
+/* io.input(name) opens name for reading: through open_resolved too. */
 static int io_input_checked(lua_State *L)
 {
-    if (lua_type(L, 1) == LUA_TSTRING) pfl_files_check(L, lua_tostring(L, 1), PFL_ACCESS_READ, "io.input");
+    if (lua_type(L, 1) == LUA_TSTRING) {
+        const char *path = lua_tostring(L, 1);
+        if (open_resolved(L, path, "r", "io.input") != 1 || lua_isnil(L, -1))
+            return luaL_error(L, "%s", lua_tostring(L, -2));
+        lua_replace(L, 1);
+        lua_settop(L, 1);
+    }
     return call_original(L);
 }
 
+/* io.output(name) opens name for writing: through open_resolved, then the
+ * stock io.output is given the handle. */
 static int io_output_checked(lua_State *L)
 {
-    if (lua_type(L, 1) == LUA_TSTRING) pfl_files_check(L, lua_tostring(L, 1), PFL_ACCESS_WRITE, "io.output");
+    if (lua_type(L, 1) == LUA_TSTRING) {
+        const char *path = lua_tostring(L, 1);
+        if (open_resolved(L, path, "w", "io.output") != 1 || lua_isnil(L, -1))
+            return luaL_error(L, "%s", lua_tostring(L, -2));
+        lua_replace(L, 1);
+        lua_settop(L, 1);
+    }
     return call_original(L);
 }
 

@@ -10,8 +10,9 @@
  * native code, environment and locale access are replaced by functions that
  * raise a sandbox error naming the operation; file functions (io.open,
  * io.lines, io.input, io.output, os.remove, os.rename, loadfile, dofile) check
- * their path against the state's file policy (pfl_files_check); load accepts
- * text chunks only; debug keeps only traceback and getinfo. */
+ * their path against the state's file policy (pfl_files_check); io.open,
+ * io.input and io.output then open the resolved, link-free path with O_NOFOLLOW; load
+ * accepts text chunks only; debug keeps only traceback and getinfo. */
 void pfr_sandbox_open_libs(lua_State *L, int sandboxed);
 /* In the sandbox, pf.setup may not move the wisdom file or the output folder
  * and may not raise the engine memory cap above engine_cap.  Wraps the setup

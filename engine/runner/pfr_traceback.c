@@ -4,6 +4,7 @@
 #include <string.h>
 #include <lauxlib.h>
 #include "../lua/pfl_params.h"
+#include "pfr_stop.h"
 #include "pfr_traceback.h"
 
 #define MAX_FRAMES 24
@@ -24,6 +25,7 @@ int pfr_traceback(lua_State *L)
     for (int level = 1; lua_getstack(L, level, &ar); level++) {
         lua_getinfo(L, "Slnt", &ar);
         if (strcmp(ar.what, "C") == 0 || ar.currentline <= 0) continue;
+        if (strcmp(ar.source, "=" PFR_STOP_CHUNK) == 0) continue; /* the runner's pcall wrappers */
         if (shown == MAX_FRAMES) {
             skipped++;
             continue;

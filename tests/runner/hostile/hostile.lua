@@ -30,6 +30,28 @@ local tries = {
   engine_write_outside = function() pf.write_csv(p.target .. ".csv", {{name = "x", unit = "m", values = {1}}}) end,
   engine_read_outside = function() pf.read_csv(p.target) end,
   engine_h5_outside = function() pf.h5file(p.target .. ".h5") end,
+  -- links shipped in the output folder (the folder a script may write)
+  dangling_link_write = function() io.open(p.out .. "/dangling.txt", "w"):write("export EVIL=1\n") end,
+  dangling_link_engine = function() pf.write_csv("dangling.csv", {{name = "x", unit = "m", values = {1}}}) end,
+  link_dir_engine = function() pf.write_csv("linkdir/sub/planted.csv", {{name = "x", unit = "m", values = {1}}}) end,
+  link_chain_write = function() io.open(p.out .. "/chain1", "a"):write("x") end,
+  link_as_written = function() io.open("link_to_secret"):read("a") end,
+  io_output_dangling = function() io.output(p.out .. "/dangling.txt") io.write("x") end,
+  io_input_link = function() io.input(here .. "/link_to_secret") print(io.read("a")) end,
+  -- the script's own folder is read-only
+  rewrite_own_recipe = function() io.open(here .. "/hostile.lua", "w"):write("-- replaced\n") end,
+  remove_own_file = function() os.remove(here .. "/hostile.lua") end,
+  -- a link that another program keeps swapping: a write either lands in the
+  -- output folder or is refused, never outside
+  swapped_link = function()
+    local wrote, refused = 0, 0
+    for _ = 1, 20000 do
+      local ok, f = pcall(io.open, p.out .. "/swap.txt", "a")
+      if ok and f then f:write("x") f:close() wrote = wrote + 1 else refused = refused + 1 end
+    end
+    print(string.format("swap: wrote %d, refused %d", wrote, refused))
+  end,
+  read_inner_link = function() print("inner: " .. io.open(p.out .. "/inner_link"):read("l")) end,
   allocate = function() local t = {} while true do t[#t + 1] = string.rep("x", 1 << 20) .. #t end end,
   engine_allocate = function()
     local g = pf.grid{points = {256, 256, 256}, span = 1e-4}
@@ -38,6 +60,14 @@ local tries = {
   loop = function() local n = 0 while true do n = n + 1 end end,
   loop_in_coroutine = function() coroutine.wrap(function() while true do end end)() end,
   loop_catching = function() while true do pcall(function() while true do end end) end end,
+  loop_catching_in_coroutine = function()
+    local co = coroutine.create(function() while true do pcall(function() while true do end end) end end)
+    while true do coroutine.resume(co) end
+  end,
+  handler_loop = function()
+    while true do xpcall(function() while true do end end, function(e) while true do end end) end
+  end,
+  partial_then_loop = function() local f = pf.h5file("held.h5"); f:put_value("n", 1, ""); while true do end end,
   -- allowed operations, for contrast
   write_output = function()
     local f = assert(io.open(p.out .. "/result.txt", "w")); f:write("fine\n"); f:close(); print("wrote output")
