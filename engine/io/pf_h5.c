@@ -663,9 +663,14 @@ static pf_status read_complex(reader *r, hid_t loc, const char *name, pf_samples
     pf_status s = open_dataset(r, loc, name, &ds);
     if (s) return s;
     int rank = ds.rank;
+    if (ds.elem > MAX_COMPLEX_BYTES) {
+        close_dataset(&ds);
+        return pf_fail(r->ctx, PF_EINVAL, "'%s': dataset '%s' has elements of %zu bytes (complex numbers take at most %d)",
+                       r->path, name, ds.elem, MAX_COMPLEX_BYTES);
+    }
     hid_t ft = H5Dget_type(ds.id);
     hid_t mt = -1;
-    if (H5Tget_class(ft) == H5T_COMPOUND && H5Tget_nmembers(ft) == 2 && ds.elem <= MAX_COMPLEX_BYTES) {
+    if (H5Tget_class(ft) == H5T_COMPOUND && H5Tget_nmembers(ft) == 2) {
         hid_t m0 = H5Tget_member_type(ft, 0), m1 = H5Tget_member_type(ft, 1);
         if (is_float(m0) && is_float(m1)) {
             char *n0 = H5Tget_member_name(ft, 0), *n1 = H5Tget_member_name(ft, 1);

@@ -7,6 +7,7 @@ local p = pf.parameters{
   dataset = {default = "psi", help = "dataset to read from an HDF5 file"},
 }
 local opts = {mass = 1.44e-25, grid = pf.grid{points = {16}, span = 2e-6}}
-if not p.file:match("%.csv$") then opts.dataset = p.dataset end
+-- An empty dataset name reads the psiflight item "wave" instead.
+if not p.file:match("%.csv$") and p.dataset ~= "" then opts.dataset = p.dataset end
 local w = pf.load_wave(p.file, opts)
 print(string.format("loaded %s: norm %.6f", p.file, w:norm()))

@@ -67,3 +67,16 @@ with open(path("truncated.h5"), "wb") as f:
     f.write(whole[: len(whole) // 2])
 with open(path("corrupt.h5"), "wb") as f:
     f.write(whole[:8] + bytes(64) + whole[72:])
+
+# A psiflight-style item whose coordinate dataset is a link to the outside
+# file: the item path must refuse it like a plain dataset.
+with h5py.File(path("item_external_axis.h5"), "w") as f:
+    g = f.create_group("wave")
+    g["psi"] = np.ones(8, dtype=complex)
+    g["x"] = h5py.ExternalLink(secret_h5, "/psi")
+
+# Complex numbers padded to 4 kB per element: HDF5's conversion buffers
+# would grow with the element size.
+padded = np.dtype({"names": ["r", "i"], "formats": ["<f8", "<f8"], "offsets": [0, 8], "itemsize": 4096})
+with h5py.File(path("padded_compound.h5"), "w") as f:
+    f.create_dataset("psi", shape=(16,), dtype=padded)
