@@ -41,7 +41,7 @@ refused 5 big_for_cap.h5 "file 'big_for_cap.h5' needs 67174400 bytes, over the m
 # The same file under the default cap is read (and then fails only because
 # its 2^22 samples do not fit the 16-point grid of the script).
 refused 1 big_for_cap.h5 "axis 1 has 4194304 samples but the grid has 16 points"
-refused 5 huge_chunk.h5 "file 'huge_chunk.h5' needs 2147483904 bytes, over the memory cap" --memory-cap 64MiB
+refused 5 huge_chunk.h5 "file 'huge_chunk.h5' needs 268435712 bytes, over the memory cap" --memory-cap 64MiB
 
 # Values that live in other files: refused in the sandbox and when trusted.
 for mode in "" --trusted; do

@@ -36,10 +36,12 @@ with h5py.File(path("overflow_3d.h5"), "w") as f:
 with h5py.File(path("big_for_cap.h5"), "w") as f:
     f.create_dataset("psi", shape=(2 ** 22,), dtype=complex, chunks=(4096,))
 
-# Small dataset, enormous chunk (allowed for resizable datasets): reading
-# one element makes HDF5 hold a 2 GiB chunk buffer.
+# Small dataset, enormous compressed chunk (allowed for resizable
+# datasets): a 260 kB file whose 16 values make HDF5 inflate a 256 MiB
+# chunk (measured: 280 MB resident before the fix, whatever the cap).
 with h5py.File(path("huge_chunk.h5"), "w") as f:
-    f.create_dataset("psi", shape=(16,), maxshape=(None,), dtype=complex, chunks=(2 ** 27,))
+    d = f.create_dataset("psi", shape=(16,), maxshape=(None,), dtype=complex, chunks=(2 ** 24,), compression="gzip")
+    d[:] = np.ones(16, dtype=complex)
 
 # External raw storage pointing at the secret outside the folders.
 size = os.path.getsize(secret)
