@@ -20,11 +20,13 @@ line=$(grep -n "^local w = pf.load_wave" load_file.lua | cut -d: -f1)
 load() { "$runner" run load_file.lua --out "$outdir" --set file="$1" "${@:2}"; }
 
 # refused CODE FILE TEXT [runner options...]: the load fails with CODE, the
-# message names the file as written and the script line, and no absolute
-# path of this machine appears in it.
+# message names the file as written and the script line, no absolute path
+# of this machine appears in it, and the run still writes its manifest.
 refused() {
   local code=$1 file=$2 text=$3; shift 3
+  rm -f "$outdir/manifest.json"
   expect "$code" "$file $*: refused" -- load "$file" "$@"
+  grep -Eq '"status":[[:space:]]*"failed"' "$outdir/manifest.json" || fail "$file: no manifest recording the failure"
   has "load_file.lua:$line: load_wave: " "$file: the error names the script line"
   has "$text" "$file: says why ($text)"
   case "$err" in *"$work"*) fail "$file: the message shows an absolute path: $err";; esac
