@@ -126,7 +126,7 @@ $(MODULE): $(LUA_OBJ) $(IO_LIB) $(CORE_LIB)
 
 $(BUILD)/tests/unit/%.o: tests/unit/%.c $(wildcard tests/unit/*.h engine/core/*.h engine/io/*.h)
 	@mkdir -p $(dir $@)
-	$(CC) $(ALL_CFLAGS) $(FFTW_CFLAGS) $(CMOCKA_CFLAGS) $(TEST_CFLAGS) -Iengine/core -c $< -o $@
+	$(CC) $(ALL_CFLAGS) $(FFTW_CFLAGS) $(IO_CFLAGS) $(CMOCKA_CFLAGS) $(TEST_CFLAGS) -Iengine/core -c $< -o $@
 
 # Unit tests may also exercise the output layer (engine/io).
 $(BUILD)/tests/%: $(BUILD)/tests/unit/%.o $(UNIT_HELP_OBJ) $(IO_LIB) $(CORE_LIB)

@@ -9,6 +9,7 @@ set -euo pipefail
 # Tests and references: GSL, libcerf, numpy/scipy, h5py and periodictable
 # (isotope masses, for the species-table check) from Debian.
 # Outputs: HDF5, PLplot with its cairo PNG driver, cJSON.  Sweeps: Open MPI.
+# strace: the hostile-file tests check that HDF5 never opens outside files.
 PACKAGES=(
   build-essential pkg-config
   liblua5.4-dev lua5.4
@@ -19,6 +20,7 @@ PACKAGES=(
   libhdf5-dev hdf5-tools
   libplplot-dev plplot-driver-cairo
   libcjson-dev
+  strace
   libopenmpi-dev openmpi-bin
 )
 

@@ -7,6 +7,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include "pf_readcap.h"
 #include "pf_safefile.h"
 #include "pf_table.h"
 
@@ -187,9 +188,52 @@ static int parse_header_field(char *field, char **name, char **unit)
     return *name && *unit;
 }
 
+/* Limits on what a CSV file may claim.  A table of samples has a handful of
+ * columns and lines of a few hundred bytes; these bounds are far above that
+ * and far below what would exhaust memory before the cap is consulted. */
+#define CSV_MAX_LINE ((size_t)1 << 20)
+#define CSV_MAX_COLUMNS 4096
+/* Bytes one cell costs beyond its text: the row pointer, the allocator's
+ * own bookkeeping (glibc: 16) and the double it may become. */
+#define CSV_CELL_OVERHEAD (sizeof(char *) + 16 + sizeof(double))
+
+enum { LINE_OK = 1, LINE_END = 0, LINE_TOO_LONG = -1, LINE_NUL = -2, LINE_NOMEM = -3 };
+
+/* Reads one line into *buf, refusing lines longer than CSV_MAX_LINE and NUL
+ * bytes (a binary file, or /dev/zero) before they can grow the buffer
+ * without bound, which getline would do. */
 static int read_line(FILE *f, char **buf, size_t *cap)
 {
-    return getline(buf, cap, f) >= 0;
+    size_t len = 0;
+    int c, any = 0;
+    while ((c = getc_unlocked(f)) != EOF) {
+        any = 1;
+        if (c == '\0') return LINE_NUL;
+        if (len + 2 > *cap) {
+            if (len >= CSV_MAX_LINE) return LINE_TOO_LONG;
+            size_t grown = *cap ? 2 * *cap : 256;
+            if (grown > CSV_MAX_LINE + 2) grown = CSV_MAX_LINE + 2;
+            char *p = realloc(*buf, grown);
+            if (!p) return LINE_NOMEM;
+            *buf = p;
+            *cap = grown;
+        }
+        (*buf)[len++] = (char)c;
+        if (c == '\n') break;
+    }
+    if (!any) return LINE_END;
+    (*buf)[len] = '\0';
+    return LINE_OK;
+}
+
+/* The message for a read_line result other than LINE_OK / LINE_END. */
+static pf_status line_error(pf_context *ctx, const char *path, size_t lineno, int r)
+{
+    if (r == LINE_TOO_LONG)
+        return pf_fail(ctx, PF_ELIMIT, "%s:%zu: line longer than %zu bytes (not a table of samples?)", path, lineno,
+                       CSV_MAX_LINE);
+    if (r == LINE_NUL) return pf_fail(ctx, PF_EINVAL, "%s:%zu: the line holds a NUL byte (not a text file?)", path, lineno);
+    return pf_fail(ctx, PF_ENOMEM, "out of memory reading '%s'", path);
 }
 
 pf_status pf_csv_read(pf_context *ctx, const char *path, pf_table *out)
@@ -205,11 +249,16 @@ pf_status pf_csv_read(pf_context *ctx, const char *path, pf_table *out)
     char *hdr = NULL;
     /* Header: the first line that is neither blank nor a comment. */
     for (;;) {
-        if (!read_line(f, &line, &cap)) {
+        int got = read_line(f, &line, &cap);
+        lineno++;
+        if (got == LINE_END) {
             s = pf_fail(ctx, PF_EINVAL, "%s: no header line", path);
             goto done;
         }
-        lineno++;
+        if (got != LINE_OK) {
+            s = line_error(ctx, path, lineno, got);
+            goto done;
+        }
         char *t = trim(line);
         /* Spreadsheets often start UTF-8 files with a byte-order mark. */
         if (lineno == 1 && (unsigned char)t[0] == 0xEF && (unsigned char)t[1] == 0xBB && (unsigned char)t[2] == 0xBF)
@@ -222,6 +271,14 @@ pf_status pf_csv_read(pf_context *ctx, const char *path, pf_table *out)
     if (!strchr(hdr, ',')) sep = strchr(hdr, ';') ? ';' : (strchr(hdr, '\t') ? '\t' : ',');
     size_t ncols = 1;
     for (const char *p = hdr; *p; p++) ncols += *p == sep;
+    if (ncols > CSV_MAX_COLUMNS) {
+        s = pf_fail(ctx, PF_ELIMIT, "%s:%zu: the header has %zu columns (at most %d)", path, lineno, ncols, CSV_MAX_COLUMNS);
+        goto done;
+    }
+    /* Everything held is booked against the memory cap as it grows. */
+    size_t held = pf_read_add(cap, 4 * ncols * sizeof(char *));
+    s = pf_read_budget(ctx, path, held);
+    if (s) goto done;
     fields = calloc(ncols, sizeof *fields);
     out->names = calloc(ncols, sizeof *out->names);
     out->units = calloc(ncols, sizeof *out->units);
@@ -251,8 +308,14 @@ pf_status pf_csv_read(pf_context *ctx, const char *path, pf_table *out)
         s = pf_fail(ctx, PF_ENOMEM, "out of memory reading '%s'", path);
         goto done;
     }
-    while (read_line(f, &line, &cap)) {
+    for (;;) {
+        int got = read_line(f, &line, &cap);
         lineno++;
+        if (got == LINE_END) break;
+        if (got != LINE_OK) {
+            s = line_error(ctx, path, lineno, got);
+            goto done;
+        }
         char *t = trim(line);
         if (!*t || *t == '#') continue;
         size_t n = split(t, sep, fields, ncols);
@@ -260,8 +323,20 @@ pf_status pf_csv_read(pf_context *ctx, const char *path, pf_table *out)
             s = pf_fail(ctx, PF_EINVAL, "%s:%zu: %zu fields, the header has %zu", path, lineno, n, ncols);
             goto done;
         }
-        if (out->nrows == rowcap) {
+        size_t row_bytes = 0;
+        for (size_t c = 0; c < ncols; c++) row_bytes = pf_read_add(row_bytes, strlen(fields[c]) + 1 + CSV_CELL_OVERHEAD);
+        held = pf_read_add(held, row_bytes);
+        int grow = out->nrows == rowcap;
+        if (grow) {
+            size_t bytes;
             rowcap = rowcap ? 2 * rowcap : 256;
+            /* The doubled pointer arrays may briefly sit beside the old ones. */
+            if (__builtin_mul_overflow(rowcap, ncols * sizeof(char *), &bytes)) held = SIZE_MAX;
+            else held = pf_read_add(held, bytes);
+        }
+        s = pf_read_budget(ctx, path, held);
+        if (s) goto done;
+        if (grow) {
             for (size_t c = 0; c < ncols; c++) {
                 char **p = realloc(out->text[c], rowcap * sizeof *p);
                 if (!p) {

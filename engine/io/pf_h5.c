@@ -8,6 +8,7 @@
 #include <hdf5_hl.h>
 #include "../core/pf_version.h"
 #include "pf_h5.h"
+#include "pf_readcap.h"
 #include "pf_safefile.h"
 
 #define LAYOUT_NAME "psiflight-h5"
@@ -430,30 +431,226 @@ pf_status pf_h5_put_scalar(pf_h5 *f, const char *name, double value, const char 
 
 /* ---- reading ---- */
 
+/* Reading treats the file as hostile: it comes from someone else's
+ * instrument or script.  Three rules hold whatever the mode (sandboxed or
+ * trusted), because a load that quietly pulls in other files is never what
+ * the caller asked for:
+ *   - links are followed only inside the file (external and user-defined
+ *     links are refused, and the link-access lists given to HDF5 refuse
+ *     external links themselves, so even a soft link leading to one stops);
+ *   - datasets whose values live elsewhere (external raw storage, virtual
+ *     datasets) are refused before a single value is read, and the dataset
+ *     access list points HDF5's own prefixes for them at a folder that does
+ *     not exist;
+ *   - every shape is checked for overflow and against the memory cap
+ *     (pf_readcap.h) before a buffer is allocated. */
+
+/* Where HDF5 would look for external raw files and virtual-dataset sources
+ * of relative names: a folder that cannot exist (a NUL-free name under a
+ * file, never a folder).  Defence in depth only: such datasets are refused
+ * before they are read. */
+#define NOWHERE_PREFIX "/dev/null/psiflight-does-not-follow-files"
+
+/* File element sizes accepted: numbers take at most 16 bytes (long double),
+ * a complex compound at most 64 with padding.  Larger elements would make
+ * HDF5's conversion buffers grow with them. */
+#define MAX_NUMBER_BYTES 16
+#define MAX_COMPLEX_BYTES 64
+
 typedef struct reader {
     pf_context *ctx;
-    const char *path;
+    const char *path;      /* as the script wrote it: every message uses this */
     hid_t file;
+    hid_t lapl, gapl, dapl; /* link, group and dataset access: no external links */
+    int elink_refused;     /* the callback below was asked to follow one */
+    size_t reserved;       /* bytes of buffers this read holds or will hold */
 } reader;
 
-/* Opens a dataset and reports its rank and shape. */
-static pf_status open_dataset(reader *r, hid_t loc, const char *name, hid_t *d, int *rank, hsize_t *dims)
+/* HDF5 asks this before it opens the target file of an external link;
+ * refusing makes the traversal fail. */
+static herr_t refuse_external_link(const char *parent_file, const char *parent_group, const char *child_file,
+                                   const char *child_object, unsigned *acc_flags, hid_t fapl, void *op_data)
 {
-    if (H5Lexists(loc, name, H5P_DEFAULT) <= 0)
-        return pf_fail(r->ctx, PF_EINVAL, "'%s' has no dataset '%s'", r->path, name);
-    *d = H5Dopen2(loc, name, H5P_DEFAULT);
-    if (*d < 0) return pf_fail(r->ctx, PF_EINVAL, "'%s': '%s' is not a dataset", r->path, name);
-    hid_t sp = H5Dget_space(*d);
-    *rank = H5Sget_simple_extent_ndims(sp);
-    if (*rank > PF_MAX_DIM + 1 || *rank < 0) {
-        H5Sclose(sp);
-        H5Dclose(*d);
-        return pf_fail(r->ctx, PF_EINVAL, "'%s': dataset '%s' has %d dimensions (at most %d allowed)", r->path, name,
-                       *rank, PF_MAX_DIM);
+    (void)parent_file, (void)parent_group, (void)child_file, (void)child_object, (void)acc_flags, (void)fapl;
+    ((reader *)op_data)->elink_refused = 1;
+    return -1;
+}
+
+static void close_access_lists(reader *r)
+{
+    if (r->lapl > 0) H5Pclose(r->lapl);
+    if (r->gapl > 0) H5Pclose(r->gapl);
+    if (r->dapl > 0) H5Pclose(r->dapl);
+    r->lapl = r->gapl = r->dapl = 0;
+}
+
+/* Link access lists for every open and existence check of this read. */
+static int make_access_lists(reader *r)
+{
+    r->lapl = H5Pcreate(H5P_LINK_ACCESS);
+    r->gapl = H5Pcreate(H5P_GROUP_ACCESS);
+    r->dapl = H5Pcreate(H5P_DATASET_ACCESS);
+    hid_t all[3] = {r->lapl, r->gapl, r->dapl};
+    for (int i = 0; i < 3; i++) {
+        /* Group and dataset access lists are link access lists as well. */
+        if (all[i] < 0 || H5Pset_elink_cb(all[i], refuse_external_link, r) < 0 ||
+            H5Pset_elink_prefix(all[i], NOWHERE_PREFIX) < 0 || H5Pset_nlinks(all[i], 16) < 0)
+            return -1;
     }
-    H5Sget_simple_extent_dims(sp, dims, NULL);
+    if (H5Pset_efile_prefix(r->dapl, NOWHERE_PREFIX) < 0 || H5Pset_virtual_prefix(r->dapl, NOWHERE_PREFIX) < 0 ||
+        H5Pset_virtual_view(r->dapl, H5D_VDS_FIRST_MISSING) < 0)
+        return -1;
+    return 0;
+}
+
+static pf_status refused_link(reader *r, const char *name)
+{
+    return pf_fail(r->ctx, PF_EIO,
+                   "'%s': '%s' leads through a link to another file; psiflight reads only what is stored in the "
+                   "file it was given",
+                   r->path, name);
+}
+
+/* Walks name one link at a time (HDF5 paths: parts between '/'): each link
+ * must exist and be a hard or soft link.  kind ("dataset", "item") words the
+ * message for a missing name. */
+static pf_status check_links(reader *r, hid_t loc, const char *name, const char *kind)
+{
+    size_t n = strlen(name);
+    if (n < 1 || n > 1024)
+        return pf_fail(r->ctx, PF_EINVAL, "'%s': %s name must be 1..1024 characters, got %zu", r->path, kind, n);
+    char part[1025];
+    for (size_t i = 1; i <= n; i++) {
+        if (i < n && name[i] != '/') continue;
+        if (name[i - 1] == '/') continue; /* leading or doubled '/' */
+        memcpy(part, name, i);
+        part[i] = '\0';
+        htri_t e = H5Lexists(loc, part, r->lapl);
+        if (e <= 0) {
+            if (r->elink_refused) return refused_link(r, name);
+            return pf_fail(r->ctx, PF_EINVAL, "'%s' has no %s '%s'", r->path, kind, name);
+        }
+        H5L_info_t info;
+        if (H5Lget_info(loc, part, &info, r->lapl) < 0)
+            return pf_fail(r->ctx, PF_EIO, "'%s': cannot read the link '%s'", r->path, part);
+        if (info.type == H5L_TYPE_EXTERNAL) return refused_link(r, name);
+        if (info.type != H5L_TYPE_HARD && info.type != H5L_TYPE_SOFT)
+            return pf_fail(r->ctx, PF_EIO, "'%s': '%s' is a user-defined link, which psiflight does not follow",
+                           r->path, part);
+    }
+    return PF_OK;
+}
+
+/* Books bytes for this read against the memory cap, counting what the read
+ * already holds. */
+static pf_status reserve(reader *r, size_t bytes)
+{
+    size_t need = pf_read_add(r->reserved, bytes);
+    pf_status s = pf_read_budget(r->ctx, r->path, need);
+    if (!s) r->reserved = need;
+    return s;
+}
+
+/* An open dataset with its shape, checked to store its values in the file. */
+typedef struct dataset {
+    hid_t id;
+    int rank;
+    hsize_t dims[PF_MAX_DIM + 1];
+    size_t elem;          /* bytes of one element in the file */
+    size_t chunk_bytes;   /* bytes of one chunk (HDF5 holds one to read it), 0 if not chunked */
+} dataset;
+
+/* Refuses a dataset whose values live outside the file, and sizes its chunks. */
+static pf_status check_storage(reader *r, dataset *ds, const char *name)
+{
+    hid_t dcpl = H5Dget_create_plist(ds->id);
+    if (dcpl < 0) return pf_fail(r->ctx, PF_EIO, "'%s': cannot read how dataset '%s' is stored", r->path, name);
+    H5D_layout_t layout = H5Pget_layout(dcpl);
+    int external = H5Pget_external_count(dcpl);
+    hsize_t chunk[H5S_MAX_RANK];
+    int crank = layout == H5D_CHUNKED ? H5Pget_chunk(dcpl, H5S_MAX_RANK, chunk) : 0;
+    H5Pclose(dcpl);
+    if (layout == H5D_VIRTUAL)
+        return pf_fail(r->ctx, PF_EIO,
+                       "'%s': dataset '%s' is a virtual dataset (its values live in other files); psiflight reads "
+                       "only values stored in the file it was given",
+                       r->path, name);
+    if (external != 0)
+        return pf_fail(r->ctx, PF_EIO,
+                       "'%s': dataset '%s' keeps its values in external files; psiflight reads only values stored "
+                       "in the file it was given",
+                       r->path, name);
+    if (layout < 0 || crank < 0 || crank > H5S_MAX_RANK)
+        return pf_fail(r->ctx, PF_EIO, "'%s': cannot read how dataset '%s' is stored", r->path, name);
+    ds->chunk_bytes = 0;
+    if (crank > 0) {
+        uint64_t cd[H5S_MAX_RANK];
+        for (int a = 0; a < crank; a++) cd[a] = chunk[a];
+        pf_status s = pf_read_shape_bytes(r->ctx, r->path, "a chunk of the dataset", crank, cd, ds->elem, &ds->chunk_bytes);
+        if (s) return s;
+    }
+    return PF_OK;
+}
+
+static void close_dataset(dataset *ds)
+{
+    if (ds->id > 0) H5Dclose(ds->id);
+    ds->id = 0;
+}
+
+/* Opens a dataset through checked links and reports its rank, shape,
+ * element size and chunk size. */
+static pf_status open_dataset(reader *r, hid_t loc, const char *name, dataset *ds)
+{
+    memset(ds, 0, sizeof *ds);
+    pf_status s = check_links(r, loc, name, "dataset");
+    if (s) return s;
+    ds->id = H5Dopen2(loc, name, r->dapl);
+    if (ds->id < 0) {
+        ds->id = 0;
+        if (r->elink_refused) return refused_link(r, name);
+        return pf_fail(r->ctx, PF_EINVAL, "'%s': '%s' is not a dataset", r->path, name);
+    }
+    hid_t ft = H5Dget_type(ds->id);
+    ds->elem = ft < 0 ? 0 : H5Tget_size(ft);
+    if (ft >= 0) H5Tclose(ft);
+    s = check_storage(r, ds, name);
+    if (s) {
+        close_dataset(ds);
+        return s;
+    }
+    hid_t sp = H5Dget_space(ds->id);
+    ds->rank = sp < 0 ? -1 : H5Sget_simple_extent_ndims(sp);
+    if (ds->rank > PF_MAX_DIM + 1 || ds->rank < 0) {
+        if (sp >= 0) H5Sclose(sp);
+        close_dataset(ds);
+        return pf_fail(r->ctx, PF_EINVAL, "'%s': dataset '%s' has %d dimensions (at most %d allowed)", r->path, name,
+                       ds->rank, PF_MAX_DIM);
+    }
+    H5Sget_simple_extent_dims(sp, ds->dims, NULL);
     H5Sclose(sp);
     return PF_OK;
+}
+
+/* Checks rank axes of ds (1..3, none empty) and books count elements of
+ * elem bytes in memory plus one chunk; returns the element count. */
+static pf_status book_values(reader *r, const dataset *ds, const char *name, int rank, size_t elem, size_t *count)
+{
+    if (rank < 1 || rank > PF_MAX_DIM)
+        return pf_fail(r->ctx, PF_EINVAL, "'%s': dataset '%s' must have 1 to 3 axes, has %d", r->path, name, rank);
+    uint64_t d[PF_MAX_DIM];
+    for (int a = 0; a < rank; a++) {
+        d[a] = ds->dims[a];
+        if (d[a] == 0) return pf_fail(r->ctx, PF_EINVAL, "'%s': dataset '%s' is empty (axis %d has no entries)", r->path, name, a + 1);
+    }
+    char what[300];
+    snprintf(what, sizeof what, "dataset '%.200s'", name);
+    size_t bytes;
+    pf_status s = pf_read_shape_bytes(r->ctx, r->path, what, rank, d, elem, &bytes);
+    if (!s) s = reserve(r, pf_read_add(bytes, ds->chunk_bytes));
+    if (!s) r->reserved -= ds->chunk_bytes; /* the chunk buffer is HDF5's, gone after the read */
+    if (!s) *count = bytes / elem;
+    return s;
 }
 
 static int is_float(hid_t t) { return H5Tget_class(t) == H5T_FLOAT || H5Tget_class(t) == H5T_INTEGER; }
@@ -462,12 +659,16 @@ static int is_float(hid_t t) { return H5Tget_class(t) == H5T_FLOAT || H5Tget_cla
  * {r, i} or {real, imag}) or real numbers with a last dimension of 2. */
 static pf_status read_complex(reader *r, hid_t loc, const char *name, pf_samples *out)
 {
-    hid_t d;
-    int rank;
-    hsize_t dims[PF_MAX_DIM + 1];
-    pf_status s = open_dataset(r, loc, name, &d, &rank, dims);
+    dataset ds;
+    pf_status s = open_dataset(r, loc, name, &ds);
     if (s) return s;
-    hid_t ft = H5Dget_type(d);
+    int rank = ds.rank;
+    if (ds.elem > MAX_COMPLEX_BYTES) {
+        close_dataset(&ds);
+        return pf_fail(r->ctx, PF_EINVAL, "'%s': dataset '%s' has elements of %zu bytes (complex numbers take at most %d)",
+                       r->path, name, ds.elem, MAX_COMPLEX_BYTES);
+    }
+    hid_t ft = H5Dget_type(ds.id);
     hid_t mt = -1;
     if (H5Tget_class(ft) == H5T_COMPOUND && H5Tget_nmembers(ft) == 2) {
         hid_t m0 = H5Tget_member_type(ft, 0), m1 = H5Tget_member_type(ft, 1);
@@ -481,62 +682,58 @@ static pf_status read_complex(reader *r, hid_t loc, const char *name, pf_samples
         }
         H5Tclose(m0);
         H5Tclose(m1);
-    } else if (is_float(ft) && rank >= 2 && dims[rank - 1] == 2) {
+    } else if (is_float(ft) && ds.elem <= MAX_NUMBER_BYTES && rank >= 2 && ds.dims[rank - 1] == 2) {
         mt = H5Tcopy(H5T_NATIVE_DOUBLE);
         rank--;
     }
     H5Tclose(ft);
     if (mt < 0) {
-        H5Dclose(d);
+        close_dataset(&ds);
         return pf_fail(r->ctx, PF_EINVAL,
                        "'%s': dataset '%s' does not hold complex numbers (expected a compound of two numbers, "
                        "or real numbers with a last dimension of 2)",
                        r->path, name);
     }
-    if (rank < 1 || rank > PF_MAX_DIM) {
-        H5Tclose(mt);
-        H5Dclose(d);
-        return pf_fail(r->ctx, PF_EINVAL, "'%s': dataset '%s' must have 1 to 3 axes, has %d", r->path, name, rank);
+    size_t total = 0;
+    s = book_values(r, &ds, name, rank, sizeof *out->values, &total);
+    if (!s) {
+        out->dim = rank;
+        for (int a = 0; a < rank; a++) out->n[a] = (size_t)ds.dims[a];
+        out->values = malloc(total * sizeof *out->values);
+        if (!out->values || H5Dread(ds.id, mt, H5S_ALL, H5S_ALL, H5P_DEFAULT, out->values) < 0)
+            s = pf_fail(r->ctx, PF_EIO, "'%s': cannot read dataset '%s'", r->path, name);
     }
-    size_t total = 1;
-    out->dim = rank;
-    for (int a = 0; a < rank; a++) {
-        out->n[a] = (size_t)dims[a];
-        total *= out->n[a];
-    }
-    out->values = malloc(total * sizeof *out->values);
-    int bad = !out->values || H5Dread(d, mt, H5S_ALL, H5S_ALL, H5P_DEFAULT, out->values) < 0;
     H5Tclose(mt);
-    H5Dclose(d);
-    return bad ? pf_fail(r->ctx, PF_EIO, "'%s': cannot read dataset '%s'", r->path, name) : PF_OK;
+    close_dataset(&ds);
+    return s;
 }
 
-/* Reads a real dataset of exactly `total` numbers into v (allocated). */
+/* Reads a real dataset of exactly the shape want[0..want_rank) into v
+ * (allocated). */
 static pf_status read_real(reader *r, hid_t loc, const char *name, int want_rank, const size_t *want, double **v)
 {
-    hid_t d;
-    int rank;
-    hsize_t dims[PF_MAX_DIM + 1];
-    pf_status s = open_dataset(r, loc, name, &d, &rank, dims);
+    dataset ds;
+    pf_status s = open_dataset(r, loc, name, &ds);
     if (s) return s;
-    hid_t ft = H5Dget_type(d);
-    int numeric = is_float(ft);
+    hid_t ft = H5Dget_type(ds.id);
+    int numeric = is_float(ft) && ds.elem <= MAX_NUMBER_BYTES;
     H5Tclose(ft);
-    int same = rank == want_rank;
-    size_t total = 1;
-    for (int a = 0; same && a < rank; a++) {
-        same = dims[a] == want[a];
-        total *= want[a];
-    }
+    int same = ds.rank == want_rank;
+    for (int a = 0; same && a < ds.rank; a++) same = ds.dims[a] == want[a];
     if (!numeric || !same) {
-        H5Dclose(d);
+        close_dataset(&ds);
         return pf_fail(r->ctx, PF_EINVAL, "'%s': dataset '%s' must hold real numbers of shape %zu%s%s", r->path, name,
                        want[0], want_rank > 1 ? " x ..." : "", numeric ? " (the shape differs)" : "");
     }
-    *v = malloc(total * sizeof **v);
-    int bad = !*v || H5Dread(d, H5T_NATIVE_DOUBLE, H5S_ALL, H5S_ALL, H5P_DEFAULT, *v) < 0;
-    H5Dclose(d);
-    return bad ? pf_fail(r->ctx, PF_EIO, "'%s': cannot read dataset '%s'", r->path, name) : PF_OK;
+    size_t total = 0;
+    s = book_values(r, &ds, name, ds.rank, sizeof **v, &total);
+    if (!s) {
+        *v = malloc(total * sizeof **v);
+        if (!*v || H5Dread(ds.id, H5T_NATIVE_DOUBLE, H5S_ALL, H5S_ALL, H5P_DEFAULT, *v) < 0)
+            s = pf_fail(r->ctx, PF_EIO, "'%s': cannot read dataset '%s'", r->path, name);
+    }
+    close_dataset(&ds);
+    return s;
 }
 
 static double read_attr_double(hid_t obj, const char *name, double def)
@@ -565,11 +762,14 @@ static int read_attr_array(hid_t obj, const char *name, double *v, size_t n)
 
 static pf_status read_item(reader *r, const pf_h5_source *src, pf_samples *out)
 {
-    if (H5Lexists(r->file, src->item, H5P_DEFAULT) <= 0)
-        return pf_fail(r->ctx, PF_EINVAL, "'%s' has no item '%s'", r->path, src->item);
-    hid_t g = H5Gopen2(r->file, src->item, H5P_DEFAULT);
-    if (g < 0) return pf_fail(r->ctx, PF_EINVAL, "'%s': item '%s' is not a group", r->path, src->item);
-    int has_psi = H5Lexists(g, "psi", H5P_DEFAULT) > 0, has_phi = H5Lexists(g, "phi", H5P_DEFAULT) > 0;
+    pf_status s = check_links(r, r->file, src->item, "item");
+    if (s) return s;
+    hid_t g = H5Gopen2(r->file, src->item, r->gapl);
+    if (g < 0) {
+        if (r->elink_refused) return refused_link(r, src->item);
+        return pf_fail(r->ctx, PF_EINVAL, "'%s': item '%s' is not a group", r->path, src->item);
+    }
+    int has_psi = H5Lexists(g, "psi", r->lapl) > 0, has_phi = H5Lexists(g, "phi", r->lapl) > 0;
     pf_rep rep;
     if (src->rep == PF_POSITION || (src->rep < 0 && has_psi)) rep = PF_POSITION;
     else rep = PF_MOMENTUM;
@@ -578,10 +778,10 @@ static pf_status read_item(reader *r, const pf_h5_source *src, pf_samples *out)
         return pf_fail(r->ctx, PF_EINVAL, "'%s': item '%s' holds no %s amplitude ('%s')", r->path, src->item,
                        rep == PF_POSITION ? "position" : "momentum", rep == PF_POSITION ? "psi" : "phi");
     }
-    pf_status s = read_complex(r, g, rep == PF_POSITION ? "psi" : "phi", out);
+    s = read_complex(r, g, rep == PF_POSITION ? "psi" : "phi", out);
     for (int a = 0; !s && a < out->dim; a++) {
         const char *ax = rep == PF_POSITION ? POS_AXES[a] : MOM_AXES[a];
-        if (H5Lexists(g, ax, H5P_DEFAULT) > 0) s = read_real(r, g, ax, 1, &out->n[a], &out->axis[a]);
+        if (H5Lexists(g, ax, r->lapl) > 0) s = read_real(r, g, ax, 1, &out->n[a], &out->axis[a]);
     }
     out->rep = rep;
     if (!s) out->has_grid = read_attr_array(g, "grid_span_m", out->span, (size_t)out->dim) == 0 &&
@@ -598,20 +798,25 @@ static pf_status read_plain(reader *r, const pf_h5_source *src, pf_samples *out)
     if (src->dataset) {
         s = read_complex(r, r->file, src->dataset, out);
     } else {
-        hid_t d;
-        int rank;
-        hsize_t dims[PF_MAX_DIM + 1];
-        s = open_dataset(r, r->file, src->real, &d, &rank, dims);
+        dataset ds;
+        s = open_dataset(r, r->file, src->real, &ds);
         if (s) return s;
-        H5Dclose(d);
-        if (rank < 1 || rank > PF_MAX_DIM)
-            return pf_fail(r->ctx, PF_EINVAL, "'%s': dataset '%s' must have 1 to 3 axes, has %d", r->path, src->real, rank);
+        size_t total = 0;
+        /* Real and imaginary parts (8 + 8 bytes) are held while the complex
+         * values (16) are made: 32 bytes per sample at the peak. */
+        s = book_values(r, &ds, src->real, ds.rank, 4 * sizeof(double), &total);
+        int rank = ds.rank;
+        for (int a = 0; !s && a < rank; a++) out->n[a] = (size_t)ds.dims[a];
+        close_dataset(&ds);
+        if (s) return s;
+        /* That booking refuses an oversized file before anything is read;
+         * the reads below book the same bytes again piece by piece. */
+        r->reserved -= total * 4 * sizeof(double);
         out->dim = rank;
-        size_t total = 1;
-        for (int a = 0; a < rank; a++) total *= (out->n[a] = (size_t)dims[a]);
         double *re = NULL, *im = NULL;
         s = read_real(r, r->file, src->real, rank, out->n, &re);
         if (!s) s = read_real(r, r->file, src->imag, rank, out->n, &im);
+        if (!s) s = reserve(r, total * sizeof *out->values);
         if (!s) {
             out->values = malloc(total * sizeof *out->values);
             if (!out->values) s = pf_fail(r->ctx, PF_ENOMEM, "out of memory");
@@ -626,6 +831,18 @@ static pf_status read_plain(reader *r, const pf_h5_source *src, pf_samples *out)
     return s;
 }
 
+/* Bytes the samples' buffers hold (values and coordinate axes); the sizes
+ * were booked during the read, so the sums cannot overflow. */
+static size_t samples_bytes(const pf_samples *s)
+{
+    size_t total = 1, bytes = 0;
+    for (int a = 0; a < s->dim; a++) {
+        total *= s->n[a];
+        if (s->axis[a]) bytes += s->n[a] * sizeof(double);
+    }
+    return bytes + total * sizeof(double complex);
+}
+
 pf_status pf_h5_read(pf_context *ctx, const char *path, const pf_h5_source *src, pf_samples *out)
 {
     quiet_hdf5();
@@ -636,18 +853,28 @@ pf_status pf_h5_read(pf_context *ctx, const char *path, const pf_h5_source *src,
         return pf_fail(ctx, PF_EINVAL, "name exactly one source: an item, a complex dataset, or a real and an imag dataset");
     if (H5Fis_hdf5(path) <= 0)
         return pf_fail(ctx, PF_EIO, "'%s' does not exist or is not an HDF5 file", path);
-    reader r = {ctx, path, H5Fopen(path, H5F_ACC_RDONLY, H5P_DEFAULT)};
-    if (r.file < 0) return pf_fail(ctx, PF_EIO, "cannot open HDF5 file '%s'", path);
+    reader r = {ctx, path, 0, 0, 0, 0, 0, 0};
+    if (make_access_lists(&r)) {
+        close_access_lists(&r);
+        return pf_fail(ctx, PF_EIO, "cannot set up HDF5 access lists to read '%s'", path);
+    }
+    r.file = H5Fopen(path, H5F_ACC_RDONLY, H5P_DEFAULT);
+    if (r.file < 0) {
+        close_access_lists(&r);
+        return pf_fail(ctx, PF_EIO, "cannot open HDF5 file '%s'", path);
+    }
     pf_status s = src->item ? read_item(&r, src, out) : read_plain(&r, src, out);
     H5Fclose(r.file);
+    close_access_lists(&r);
     for (int a = 0; !s && a < out->dim; a++)
         for (size_t j = 0; out->axis[a] && j < out->n[a]; j++)
             if (!isfinite(out->axis[a][j])) s = pf_fail(ctx, PF_EINVAL, "'%s': axis %d has a non-finite coordinate", path, a + 1);
     size_t total = 1;
-    for (int a = 0; !s && a < out->dim; a++) total *= out->n[a];
+    for (int a = 0; !s && a < out->dim; a++) total *= out->n[a]; /* booked, so it cannot overflow */
     for (size_t i = 0; !s && i < total; i++)
         if (!isfinite(creal(out->values[i])) || !isfinite(cimag(out->values[i])))
             s = pf_fail(ctx, PF_EINVAL, "'%s': sample %zu is not finite", path, i + 1);
+    if (!s) s = pf_read_hold(ctx, path, samples_bytes(out), &out->charged_ctx, &out->charged);
     if (s) pf_samples_free(out);
     return s;
 }

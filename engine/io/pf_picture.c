@@ -1,8 +1,12 @@
 /* pf_picture.c - PNG colour maps and line plots with PLplot (pngcairo).
  *
  * PLplot ends the process on some errors, so every input is validated here
- * before PLplot sees it.  Each picture uses a fresh PLplot stream, ended
- * before returning, so pictures never share state. */
+ * before PLplot sees it, and the drawing runs under pf_plguard, which turns
+ * a fatal PLplot error into a status.  PLplot never sees a file name: it
+ * draws into an open FILE of the safe writer's temporary file (plsfile), so
+ * PLplot's file-name syntax (family members "%n") cannot apply to names from
+ * scripts.  Each picture uses a fresh PLplot stream, ended before
+ * returning, so pictures never share state. */
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -10,6 +14,7 @@
 #include <plplot.h>
 #include "pf_cubehelix.h"
 #include "pf_picture.h"
+#include "pf_plguard.h"
 #include "pf_safefile.h"
 
 void pf_plplot_version(char *buf, size_t size)
@@ -70,22 +75,14 @@ static void set_palette(void)
     plscmap1(cr, cg, cb, 256);
 }
 
-static int plplot_abort_seen;
-static char plplot_abort_text[256];
-static void on_plplot_abort(PLCHAR_VECTOR msg)
-{
-    plplot_abort_seen = 1;
-    snprintf(plplot_abort_text, sizeof plplot_abort_text, "%s", msg ? msg : "");
-}
-
-static void begin_stream(const char *file, int w, int h)
+/* Starts a stream that draws into out.  PLplot owns out from here on: plend1
+ * closes it (plCloseFile), so the caller never closes it itself. */
+static void begin_stream(FILE *out, int w, int h)
 {
     PLINT strm;
     plmkstrm(&strm);
-    plsabort(on_plplot_abort);
-    plplot_abort_seen = 0;
     plsdev("pngcairo");
-    plsfnam(file);
+    plsfile(out);
     char geo[32];
     snprintf(geo, sizeof geo, "%dx%d", w, h);
     plsetopt("geometry", geo);
@@ -110,12 +107,26 @@ static int png_complete(const char *path)
     return ok;
 }
 
-static pf_status finish(pf_context *ctx, pf_safefile *sf)
+/* Opens the safe writer's temporary file for PLplot; NULL (after abandoning
+ * the file) when it cannot be opened. */
+static FILE *open_for_plplot(pf_context *ctx, pf_safefile *sf, pf_status *s)
 {
-    plend1();
-    if (plplot_abort_seen) {
+    FILE *out = fopen(sf->temp_path, "wb");
+    if (!out) {
+        char final[512];
+        snprintf(final, sizeof final, "%s", sf->final_path);
         pf_safe_abandon(sf);
-        return pf_fail(ctx, PF_EIO, "PLplot failed: %s", plplot_abort_text);
+        *s = pf_fail(ctx, PF_EIO, "cannot write the picture '%s'", final);
+    }
+    return out;
+}
+
+/* Commits the picture drawn with status drawn, or abandons it. */
+static pf_status finish(pf_context *ctx, pf_safefile *sf, pf_status drawn)
+{
+    if (drawn) {
+        pf_safe_abandon(sf);
+        return drawn;
     }
     if (!png_complete(sf->temp_path)) {
         char final[512];
@@ -157,6 +168,61 @@ static void inverse_unit(pf_quantity q, const char *u, int power, char *out, siz
 }
 
 static double max_abs2(double a, double b) { return fmax(fabs(a), fabs(b)); }
+
+/* Everything a map's drawing needs, computed before PLplot starts. */
+typedef struct map_job {
+    const pf_map *m;
+    FILE *out;
+    int w, h, equal;
+    PLFLT **rows;
+    double vmin, vmax;
+    double box[4];             /* x0, x1, y0, y1 in display units */
+    char lx[96], ly[96];
+    const char *vlabel;
+} map_job;
+
+/* Draws a map (runs under pf_plguard). */
+static void draw_map(void *user)
+{
+    const map_job *j = user;
+    const pf_map *m = j->m;
+    double x0 = j->box[0], x1 = j->box[1], y0 = j->box[2], y1 = j->box[3];
+    double vmin = j->vmin, vmax = j->vmax;
+    begin_stream(j->out, j->w, j->h);
+    /* Main panel. */
+    /* Equal aspect keeps a cloud's true shape (its aspect ratio is often
+     * the point of the picture); the panel then shrinks along one side. */
+    if (j->equal) {
+        double aspect = (y1 - y0) / (x1 - x0) * (double)j->w / (double)j->h;
+        double vx = 0.66, vy = 0.78; /* largest panel in normalised units */
+        if (aspect * vx > vy) vx = vy / aspect; else vy = aspect * vx;
+        double cx = 0.10 + 0.66 / 2, cy = 0.12 + 0.78 / 2;
+        plvpor(cx - vx / 2, cx + vx / 2, cy - vy / 2, cy + vy / 2);
+    } else {
+        plvpor(0.10, 0.76, 0.12, 0.90);
+    }
+    PLFLT px0, px1, py0, py1;
+    plgvpd(&px0, &px1, &py0, &py1);
+    plwind(x0, x1, y0, y1);
+    plimagefr((PLFLT_MATRIX)j->rows, (PLINT)m->nx, (PLINT)m->ny, x0, x1, y0, y1, vmin, vmax, vmin, vmax, NULL, NULL);
+    plcol0(1);
+    /* Ticks point outwards: inside they vanish against dark parts of the map. */
+    plbox("bcnsti", 0, 0, "bcnstiv", 0, 0);
+    pllab(j->lx, j->ly, "");
+    plmtex("t", 1.6, 0.0, 0.0, m->title ? m->title : "");
+    /* Colour bar: a vertical strip of the same map with its own axis. */
+    double ramp_v[2][64];
+    PLFLT *ramp[2] = {ramp_v[0], ramp_v[1]};
+    for (int i = 0; i < 64; i++) ramp_v[0][i] = ramp_v[1][i] = vmin + (vmax - vmin) * i / 63.0;
+    plvpor(px1 + 0.03, px1 + 0.06, py0, py1);
+    plwind(0, 1, vmin, vmax);
+    plimagefr((PLFLT_MATRIX)ramp, 2, 64, 0, 1, vmin, vmax, vmin, vmax, vmin, vmax, NULL, NULL);
+    plcol0(1);
+    plsyax(6, 0);
+    plbox("bc", 0, 0, "bcmstiv", 0, 0);
+    plmtex("r", 6.2, 0.5, 0.5, j->vlabel);
+    plend1();
+}
 
 pf_status pf_picture_map(pf_context *ctx, const char *path, int overwrite, const pf_map *m)
 {
@@ -239,45 +305,14 @@ pf_status pf_picture_map(pf_context *ctx, const char *path, int overwrite, const
         free(rows);
         return s;
     }
-    begin_stream(sf.temp_path, w, h);
-    double x0 = (m->x[0] - hx) * fx, x1 = (m->x[m->nx - 1] + hx) * fx;
-    double y0 = (m->y[0] - hy) * fy, y1 = (m->y[m->ny - 1] + hy) * fy;
-    char lx[96], ly[96];
-    axis_label(lx, sizeof lx, m->xa.name, ux);
-    axis_label(ly, sizeof ly, m->ya.name, uy);
-    /* Main panel. */
-    /* Equal aspect keeps a cloud's true shape (its aspect ratio is often
-     * the point of the picture); the panel then shrinks along one side. */
-    if (equal) {
-        double aspect = (y1 - y0) / (x1 - x0) * (double)w / (double)h;
-        double vx = 0.66, vy = 0.78; /* largest panel in normalised units */
-        if (aspect * vx > vy) vx = vy / aspect; else vy = aspect * vx;
-        double cx = 0.10 + 0.66 / 2, cy = 0.12 + 0.78 / 2;
-        plvpor(cx - vx / 2, cx + vx / 2, cy - vy / 2, cy + vy / 2);
-    } else {
-        plvpor(0.10, 0.76, 0.12, 0.90);
+    FILE *out = open_for_plplot(ctx, &sf, &s);
+    if (out) {
+        map_job job = {m, out, w, h, equal, rows, vmin, vmax, {(m->x[0] - hx) * fx, (m->x[m->nx - 1] + hx) * fx,
+                       (m->y[0] - hy) * fy, (m->y[m->ny - 1] + hy) * fy}, "", "", vlabel};
+        axis_label(job.lx, sizeof job.lx, m->xa.name, ux);
+        axis_label(job.ly, sizeof job.ly, m->ya.name, uy);
+        s = finish(ctx, &sf, pf_plguard_run(ctx, draw_map, &job));
     }
-    PLFLT px0, px1, py0, py1;
-    plgvpd(&px0, &px1, &py0, &py1);
-    plwind(x0, x1, y0, y1);
-    plimagefr((PLFLT_MATRIX)rows, (PLINT)m->nx, (PLINT)m->ny, x0, x1, y0, y1, vmin, vmax, vmin, vmax, NULL, NULL);
-    plcol0(1);
-    /* Ticks point outwards: inside they vanish against dark parts of the map. */
-    plbox("bcnsti", 0, 0, "bcnstiv", 0, 0);
-    pllab(lx, ly, "");
-    plmtex("t", 1.6, 0.0, 0.0, m->title ? m->title : "");
-    /* Colour bar: a vertical strip of the same map with its own axis. */
-    double ramp_v[2][64];
-    PLFLT *ramp[2] = {ramp_v[0], ramp_v[1]};
-    for (int i = 0; i < 64; i++) ramp_v[0][i] = ramp_v[1][i] = vmin + (vmax - vmin) * i / 63.0;
-    plvpor(px1 + 0.03, px1 + 0.06, py0, py1);
-    plwind(0, 1, vmin, vmax);
-    plimagefr((PLFLT_MATRIX)ramp, 2, 64, 0, 1, vmin, vmax, vmin, vmax, vmin, vmax, NULL, NULL);
-    plcol0(1);
-    plsyax(6, 0);
-    plbox("bc", 0, 0, "bcmstiv", 0, 0);
-    plmtex("r", 6.2, 0.5, 0.5, vlabel);
-    s = finish(ctx, &sf);
     free(vals);
     free(rows);
     return s;
@@ -323,6 +358,56 @@ static void draw_legend(const pf_lines *p, double xmin, double xmax, double ymin
     }
 }
 
+/* Everything a line plot's drawing needs, computed before PLplot starts. */
+typedef struct lines_job {
+    const pf_lines *p;
+    FILE *out;
+    int w, h;
+    double fx, fy;
+    double box[4];             /* xmin, xmax, ymin, ymax in display units */
+    char xl[96], yl[128];
+    PLFLT *bx, *by;            /* scratch for one series */
+} lines_job;
+
+/* Draws a line plot (runs under pf_plguard). */
+static void draw_lines(void *user)
+{
+    const lines_job *j = user;
+    const pf_lines *p = j->p;
+    double xmin = j->box[0], xmax = j->box[1], ymin = j->box[2], ymax = j->box[3];
+    begin_stream(j->out, j->w, j->h);
+    plvpor(0.11, 0.95, 0.13, 0.89);
+    plwind(xmin, xmax, ymin, ymax);
+    /* Light grid first, frame and labels over it. */
+    plcol0(6);
+    pllsty(3);
+    plbox("g", 0, 0, p->log_y ? "g" : "g", 0, 0);
+    pllsty(1);
+    plcol0(1);
+    plbox("bcnst", 0, 0, p->log_y ? "bcnstvl" : "bcnstv", 0, 0);
+    pllab(j->xl, j->yl, "");
+    plmtex("t", 1.4, 0.0, 0.0, p->title ? p->title : "");
+    for (size_t k = 0; k < p->nseries; k++) {
+        const pf_series *s = &p->series[k];
+        size_t m = 0;
+        for (size_t i = 0; i < s->n; i++) {
+            if (p->log_y && !(s->y[i] > 0)) continue;
+            j->bx[m] = s->x[i] * j->fx;
+            j->by[m] = p->log_y ? log10(s->y[i] * j->fy) : s->y[i] * j->fy;
+            m++;
+        }
+        plcol0(2 + (PLINT)(k % 6));
+        plwidth(s->dashed ? 1.6 : 2.0);
+        pllsty(s->dashed ? 2 : 1);
+        if (s->points) plpoin((PLINT)m, j->bx, j->by, 17);
+        else plline((PLINT)m, j->bx, j->by);
+        pllsty(1);
+        plwidth(1.0);
+    }
+    draw_legend(p, xmin, xmax, ymin, ymax);
+    plend1();
+}
+
 pf_status pf_picture_lines(pf_context *ctx, const char *path, int overwrite, const pf_lines *p)
 {
     if (p->nseries < 1) return pf_fail(ctx, PF_EINVAL, "a line plot needs at least one series");
@@ -362,50 +447,25 @@ pf_status pf_picture_lines(pf_context *ctx, const char *path, int overwrite, con
     double pad = 0.05 * (ymax - ymin);
     if (!p->log_y && ymin >= 0 && ymin - pad < 0) ymin = pad; /* nonnegative data sit on the axis */
     ymin -= pad, ymax += pad;
-    pf_safefile sf;
-    pf_status st = pf_safe_begin(ctx, path, overwrite, &sf);
-    if (st) return st;
     size_t nmax = 0;
     for (size_t k = 0; k < p->nseries; k++) nmax = p->series[k].n > nmax ? p->series[k].n : nmax;
-    PLFLT *bx = malloc(nmax * sizeof *bx), *by = malloc(nmax * sizeof *by);
-    if (!bx || !by) {
-        free(bx);
-        free(by);
-        pf_safe_abandon(&sf);
+    lines_job job = {p, NULL, w, h, fx, fy, {xmin, xmax, ymin, ymax}, "", "", NULL, NULL};
+    snprintf(job.xl, sizeof job.xl, "%s", xl);
+    snprintf(job.yl, sizeof job.yl, "%s", yl);
+    job.bx = malloc(nmax * sizeof *job.bx);
+    job.by = malloc(nmax * sizeof *job.by);
+    if (!job.bx || !job.by) {
+        free(job.bx);
+        free(job.by);
         return pf_fail(ctx, PF_ENOMEM, "out of memory");
     }
-    begin_stream(sf.temp_path, w, h);
-    plvpor(0.11, 0.95, 0.13, 0.89);
-    plwind(xmin, xmax, ymin, ymax);
-    /* Light grid first, frame and labels over it. */
-    plcol0(6);
-    pllsty(3);
-    plbox("g", 0, 0, p->log_y ? "g" : "g", 0, 0);
-    pllsty(1);
-    plcol0(1);
-    plbox("bcnst", 0, 0, p->log_y ? "bcnstvl" : "bcnstv", 0, 0);
-    pllab(xl, yl, "");
-    plmtex("t", 1.4, 0.0, 0.0, p->title ? p->title : "");
-    for (size_t k = 0; k < p->nseries; k++) {
-        const pf_series *s = &p->series[k];
-        size_t m = 0;
-        for (size_t i = 0; i < s->n; i++) {
-            if (p->log_y && !(s->y[i] > 0)) continue;
-            bx[m] = s->x[i] * fx;
-            by[m] = p->log_y ? log10(s->y[i] * fy) : s->y[i] * fy;
-            m++;
-        }
-        plcol0(2 + (PLINT)(k % 6));
-        plwidth(s->dashed ? 1.6 : 2.0);
-        pllsty(s->dashed ? 2 : 1);
-        if (s->points) plpoin((PLINT)m, bx, by, 17);
-        else plline((PLINT)m, bx, by);
-        pllsty(1);
-        plwidth(1.0);
+    pf_safefile sf;
+    pf_status st = pf_safe_begin(ctx, path, overwrite, &sf);
+    if (!st) {
+        job.out = open_for_plplot(ctx, &sf, &st);
+        if (job.out) st = finish(ctx, &sf, pf_plguard_run(ctx, draw_lines, &job));
     }
-    draw_legend(p, xmin, xmax, ymin, ymax);
-    st = finish(ctx, &sf);
-    free(bx);
-    free(by);
+    free(job.bx);
+    free(job.by);
     return st;
 }

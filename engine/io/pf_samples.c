@@ -10,6 +10,10 @@ void pf_samples_free(pf_samples *s)
 {
     for (int a = 0; a < PF_MAX_DIM; a++) free(s->axis[a]);
     free(s->values);
+    if (s->charged_ctx) {
+        pf_context_discharge(s->charged_ctx, s->charged);
+        pf_context_release(s->charged_ctx);
+    }
     memset(s, 0, sizeof *s);
 }
 

@@ -18,8 +18,11 @@ typedef struct pf_samples {
     char origin[24];              /* "hdf5" or "csv", for the step log */
     int has_grid;                 /* the file also gives the grid it was made on: */
     double span[PF_MAX_DIM], grid_origin[PF_MAX_DIM]; /* spans and origins (m) */
+    pf_context *charged_ctx;      /* the context whose memory cap carries these buffers */
+    size_t charged;               /* bytes charged to it, discharged by pf_samples_free */
 } pf_samples;
 
+/* Frees the buffers and gives their bytes back to the memory cap. */
 void pf_samples_free(pf_samples *s);
 
 /* Puts the samples into w (which must be on the grid to fill) in s->rep.
