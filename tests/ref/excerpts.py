@@ -59,14 +59,17 @@ _FORTRAN_ITEM = re.compile(r"^(?:([aiAI])(\d+)|([fF])(\d+)\.(\d+)|(\d+)[xX])$")
 
 
 def fortran_columns(fmt):
-    """[(kind, first, end)] for the non-blank items of a Fortran format such
-    as "a1,i3,1x,f14.6": kind 'a', 'i' or 'f', Python slice [first:end]."""
-    columns, pos = [], 0
+    """([(kind, first, end)], [blank positions]) for a Fortran format such as
+    "a1,i3,1x,f14.6": kind 'a', 'i' or 'f' with its Python slice [first:end]
+    for each value item, and the character positions of the Nx items, which
+    a line must leave blank."""
+    columns, blanks, pos = [], [], 0
     for item in fmt.split(","):
         m = _FORTRAN_ITEM.match(item.strip())
         if not m:
             raise ExcerptError(f"format item {item!r} is not aN, iN, fW.D or Nx")
         if m.group(6):
+            blanks.extend(range(pos, pos + int(m.group(6))))
             pos += int(m.group(6))
             continue
         kind = (m.group(1) or m.group(3)).lower()
@@ -75,13 +78,13 @@ def fortran_columns(fmt):
             raise ExcerptError(f"format item {item!r} has zero width")
         columns.append((kind, pos, pos + width))
         pos += width
-    return columns
+    return columns, blanks
 
 
 # A fixed-point number; AME writes '#' in place of the decimal point for an
 # estimated (non-experimental) value.
 _AME_DECIMAL = re.compile(r"^-?\d+(?:[.#]\d*)?$")
-_AME_FRACTION = re.compile(r"^\d{6}[.#]\d+$")   # micro-u part of the mass: 6 digits, point, decimals
+_AME_FRACTION = re.compile(r"^\d{6}(?:\.\d+|#\d*)$")   # micro-u part of the mass: 6 digits, point, decimals
 _ELEMENT = re.compile(r"^[A-Z][a-z]?$")
 
 
@@ -121,8 +124,8 @@ def read_ame(path):
         raise ExcerptError(f"{path}: no 'format :' line in the header")
     if first_data is None:
         raise ExcerptError(f"{path}: no '1N-Z ...' column heading")
-    columns = fortran_columns(fmt)
-    if [c[0] for c in columns] != list("aiiiiaaffffaffiff") or len(columns) != len(AME_FIELDS):
+    columns, blanks = fortran_columns(fmt)
+    if [c[0] for c in columns] != list("aiiiiaaffffaffiff") or len(columns) != len(AME_FIELDS) or not blanks:
         raise ExcerptError(f"{path}: header format {fmt!r} is not the AME2020 mass_1.mas20 layout")
     width = columns[-1][2]
     if first_data > len(lines) or "micro-u" not in lines[first_data - 1]:
@@ -134,6 +137,10 @@ def read_ame(path):
         if len(line) > width:
             raise ExcerptError(f"{where}: {len(line)} characters, wider than the format's {width}: {line!r}")
         padded = line.ljust(width)
+        for pos in blanks:
+            if padded[pos] != " ":
+                raise ExcerptError(f"{where}: column {pos + 1} must be blank (an 'x' of the format), "
+                                   f"got {padded[pos]!r} in {line!r}")
         row = {"line": number}
         for name, (kind, first, end) in zip(AME_FIELDS, columns):
             row[name] = _ame_field(where, name, padded[first:end], kind)
@@ -156,8 +163,12 @@ def read_ame(path):
         if unc.startswith("-"):
             raise ExcerptError(f"{where}: negative mass uncertainty {unc!r}")
         row["estimated"] = "#" in fraction or "#" in unc
-        row["mass_micro_u"] = str(row["mass_u_integer"]) + fraction.replace("#", ".")
-        row["uncertainty_micro_u"] = unc.replace("#", ".")
+        # '#' stands where the point would be; "030775#" reads as 030775.
+        row["mass_micro_u"] = (str(row["mass_u_integer"]) + fraction.replace("#", ".")).rstrip(".")
+        row["uncertainty_micro_u"] = unc.replace("#", ".").rstrip(".")
+        key = (row["z"], row["a"])
+        if any((r["z"], r["a"]) == key for r in rows):
+            raise ExcerptError(f"{where}: Z={key[0]} A={key[1]} listed twice")
         rows.append(row)
     if not rows:
         raise ExcerptError(f"{path}: no data lines after the heading")
