@@ -17,9 +17,13 @@ runner=${PSIFLIGHT_RUNNER:-build/psiflight}
 here=$(cd "$(dirname "$0")" && pwd)
 data=${PSIFLIGHT_SPECIES_DATA:-$here/../data}
 out=$(mktemp)
-trap 'rm -f "$out"' EXIT
+example=$(mktemp -d)
+trap 'rm -rf "$out" "$example"' EXIT
 "$runner" run "$here/print_species.lua" >"$out"
-/usr/bin/python3 - "$out" "$here" "$data" <<'PY'
+# The example that shows the table's fields (examples/species_recoil.lua),
+# run as users run it; its CSV is checked in section 5 below.
+"$runner" run "$here/../../examples/species_recoil.lua" --out "$example/run" --quiet >/dev/null
+/usr/bin/python3 - "$out" "$here" "$data" "$example/run/recoil.csv" <<'PY'
 import decimal
 import sys
 
@@ -135,6 +139,23 @@ required = ["1H", "2H", "3He", "4He", "6Li", "7Li", "23Na", "39K", "40K", "41K",
 have = {e["label"] for e in engine}
 missing = [r for r in required if r not in have]
 check(not missing, f"all {len(required)} documented species present", f"missing {missing}", "docs/states.md")
+# 5. The example's CSV: recoil velocity h / (m lambda) at its default 1064 nm
+#    (de Broglie relation; h exact, CODATA 2018) with m from the excerpt, and
+#    the mass digits it reports.
+import csv
+with open(sys.argv[4], newline="") as f:
+    table = list(csv.DictReader(f))
+h = D(codata["Planck constant"]["value"])
+lam = D("1064e-9")
+for r in table:
+    row = next(x for x in ame if f"{x['a']}{x['element']}" == r["species"])
+    m = D(row["mass_micro_u"]) / 10**6 * u
+    want = h / (m * lam)
+    got = D(r["recoil_velocity [m/s]"])
+    check(abs(got - want) / want <= D("1e-15"), f"example recoil velocity {r['species']}",
+          f"{got:.6e} m/s", f"h / (m lambda); {AME}; {CODATA}")
+    check(r["mass_micro_u [micro-u]"] == f"{row['mass_micro_u']}({row['uncertainty_micro_u']})",
+          f"example reports {r['species']} mass digits", r["mass_micro_u [micro-u]"], AME)
 print(f"{'ok' if failed == 0 else 'FAILED'} {checks} checks, {failed} failures")
 sys.exit(1 if failed else 0)
 PY
