@@ -56,12 +56,14 @@ static const pf_species table[] = {
     ATOM("163Dy", "Dy", "dysprosium", 66, 163, 162928737.221, 0.744),
     ATOM("164Dy", "Dy", "dysprosium", 66, 164, 163929180.819, 0.746),
     ATOM("166Er", "Er", "erbium", 68, 166, 165930301.067, 0.358),
+    ATOM("167Er", "Er", "erbium", 68, 167, 166932056.192, 0.306),
     ATOM("168Er", "Er", "erbium", 68, 168, 167932378.282, 0.280),
     ATOM("170Yb", "Yb", "ytterbium", 70, 170, 169934767.242, 0.011),
     ATOM("171Yb", "Yb", "ytterbium", 70, 171, 170936331.515, 0.013),
     ATOM("172Yb", "Yb", "ytterbium", 70, 172, 171936386.654, 0.014),
     ATOM("173Yb", "Yb", "ytterbium", 70, 173, 172938216.211, 0.012),
     ATOM("174Yb", "Yb", "ytterbium", 70, 174, 173938867.545, 0.011),
+    ATOM("176Yb", "Yb", "ytterbium", 70, 176, 175942574.706, 0.015),
     /* Particles, rows of tests/data/codata2018_allascii.excerpt: "X mass in
      * u" (here in micro-u) and "X mass" in kg with their uncertainties. */
     PARTICLE("electron", "e", 0, 548.579909065, 0.000000016, PF_ELECTRON_MASS, 0.0000000028e-31),

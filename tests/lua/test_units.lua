@@ -60,8 +60,8 @@ check.equal(pf.mass("electron"), C.m_e, "electron mass from CODATA 2018")
 check.equal(pf.mass("neutron"), C.m_n, "neutron mass from CODATA 2018")
 check.equal(pf.species("Cs-133").mass_number, 133, "Cs-133 mass number")
 local wanted = {"1H", "4He", "6Li", "7Li", "23Na", "39K", "40K", "41K", "40Ca", "52Cr", "53Cr", "85Rb", "87Rb",
-                "84Sr", "86Sr", "87Sr", "88Sr", "133Cs", "161Dy", "162Dy", "163Dy", "164Dy", "166Er", "168Er",
-                "170Yb", "171Yb", "172Yb", "173Yb", "174Yb", "electron", "neutron"}
+                "84Sr", "86Sr", "87Sr", "88Sr", "133Cs", "161Dy", "162Dy", "163Dy", "164Dy", "166Er", "167Er", "168Er",
+                "170Yb", "171Yb", "172Yb", "173Yb", "174Yb", "176Yb", "electron", "neutron"}
 for _, label in ipairs(wanted) do
   local s = pf.species(label)
   check.truthy(s.mass > 0 and s.label == label, "species " .. label .. " present")

@@ -135,7 +135,7 @@ for label in ("electron", "proton", "neutron"):
 # 4. The isotopes the docs promise (docs/states.md).
 required = ["1H", "2H", "3He", "4He", "6Li", "7Li", "23Na", "39K", "40K", "41K", "40Ca", "52Cr", "53Cr",
             "84Sr", "86Sr", "87Sr", "88Sr", "85Rb", "87Rb", "133Cs", "161Dy", "162Dy", "163Dy", "164Dy",
-            "166Er", "168Er", "170Yb", "171Yb", "172Yb", "173Yb", "174Yb", "electron", "proton", "neutron"]
+            "166Er", "167Er", "168Er", "170Yb", "171Yb", "172Yb", "173Yb", "174Yb", "176Yb", "electron", "proton", "neutron"]
 have = {e["label"] for e in engine}
 missing = [r for r in required if r not in have]
 check(not missing, f"all {len(required)} documented species present", f"missing {missing}", "docs/states.md")
