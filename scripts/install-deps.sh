@@ -6,8 +6,8 @@
 set -euo pipefail
 
 # Build: compiler, pkg-config, Lua 5.4, FFTW (with its OpenMP layer), cmocka.
-# Tests and references: GSL, libcerf, numpy/scipy, h5py and periodictable
-# (isotope masses, for the species-table check) from Debian.
+# Tests and references: GSL, libcerf, numpy/scipy and h5py from Debian
+# (published masses and constants are committed excerpts in tests/data).
 # Outputs: HDF5, PLplot with its cairo PNG driver, cJSON.  Sweeps: Open MPI.
 # strace: the hostile-file tests check that HDF5 never opens outside files.
 PACKAGES=(
@@ -16,7 +16,7 @@ PACKAGES=(
   libfftw3-dev
   libcmocka-dev
   libgsl-dev libcerf-dev
-  python3 python3-numpy python3-scipy python3-h5py python3-periodictable
+  python3 python3-numpy python3-scipy python3-h5py
   libhdf5-dev hdf5-tools
   libplplot-dev plplot-driver-cairo
   libcjson-dev

@@ -1,41 +1,74 @@
 /* pf_species.c - the species mass table and the label matching behind
  * pf.species and every builder's mass = "87Rb". */
 #include <ctype.h>
+#include <math.h>
 #include <stdio.h>
 #include <string.h>
 #include "pf_species.h"
 #include "pf_units.h"
 
-#define AME "AME2020"
-#define ATOM(label, sym, name, a, m, unc) {label, sym, name, a, m, unc, (m) * PF_ATOMIC_MASS, AME}
+#define AME2020 "AME2020"
+#define AME2020_REFERENCE                                                                             \
+    "W. J. Huang et al., Chinese Phys. C 45, 030002 (2021); M. Wang et al., Chinese Phys. C 45, " \
+    "030003 (2021); AMDC file mass_1.mas20"
+#define CODATA2018 "CODATA 2018"
+#define CODATA2018_REFERENCE \
+    "E. Tiesinga et al., Rev. Mod. Phys. 93, 025010 (2021); NIST allascii.txt, 2018 CODATA adjustment"
 
-/* Values in u with their standard uncertainties, AME2020 atomic masses. */
+/* One AME2020 line: the ATOMIC MASS column of mass_1.mas20 written as one
+ * micro-u number ("86 909180.529" -> 86909180.529) and its uncertainty.  The
+ * literal is used twice: stringified, so the published digits survive
+ * exactly, and as a number for the doubles. */
+#define ATOM(label, sym, name, z, a, micro_u, unc_micro_u)                                              \
+    {label, sym, name, z, a, #micro_u, #unc_micro_u, (micro_u) / 1e6, (unc_micro_u) / 1e6,              \
+     (micro_u) / 1e6 * PF_ATOMIC_MASS, 0.0, AME2020, AME2020_REFERENCE}
+/* A CODATA 2018 particle: mass in u (written in micro-u) and the published kg
+ * value with its uncertainty, not a conversion through u. */
+#define PARTICLE(label, sym, a, micro_u, unc_micro_u, kg, unc_kg)                                      \
+    {label, sym, label, 0, a, #micro_u, #unc_micro_u, (micro_u) / 1e6, (unc_micro_u) / 1e6, kg, unc_kg, \
+     CODATA2018, CODATA2018_REFERENCE}
+
+/* In mass_1.mas20 file order (by A).  Every row is one data line of
+ * tests/data/ame2020_mass_1.mas20.excerpt; change both or neither. */
 static const pf_species table[] = {
-    ATOM("1H", "H", "hydrogen", 1, 1.007825031898, 1.4e-11),
-    ATOM("2H", "H", "hydrogen", 2, 2.014101777844, 1.5e-11),
-    ATOM("3He", "He", "helium", 3, 3.016029321967, 6.0e-11),
-    ATOM("4He", "He", "helium", 4, 4.002603254130, 1.58e-10),
-    ATOM("6Li", "Li", "lithium", 6, 6.0151228874, 1.5e-9),
-    ATOM("7Li", "Li", "lithium", 7, 7.016003434, 4e-9),
-    ATOM("23Na", "Na", "sodium", 23, 22.9897692820, 1.9e-9),
-    ATOM("39K", "K", "potassium", 39, 38.9637064864, 4.9e-9),
-    ATOM("40K", "K", "potassium", 40, 39.963998166, 6.0e-8),
-    ATOM("41K", "K", "potassium", 41, 40.9618252579, 4.1e-9),
-    ATOM("84Sr", "Sr", "strontium", 84, 83.9134191, 1.3e-6),
-    ATOM("86Sr", "Sr", "strontium", 86, 85.9092606, 1.2e-6),
-    ATOM("87Sr", "Sr", "strontium", 87, 86.9088775, 1.2e-6),
-    ATOM("88Sr", "Sr", "strontium", 88, 87.9056125, 1.2e-6),
-    ATOM("85Rb", "Rb", "rubidium", 85, 84.9117897360, 5.4e-9),
-    ATOM("87Rb", "Rb", "rubidium", 87, 86.9091805310, 6.0e-9),
-    ATOM("133Cs", "Cs", "caesium", 133, 132.9054519610, 8.0e-9),
-    ATOM("164Dy", "Dy", "dysprosium", 164, 163.9291819, 1.3e-6),
-    ATOM("166Er", "Er", "erbium", 166, 165.9302995, 1.3e-6),
-    ATOM("171Yb", "Yb", "ytterbium", 171, 170.9363302, 1.4e-6),
-    ATOM("174Yb", "Yb", "ytterbium", 174, 173.9388664, 1.4e-6),
-    /* Particles: CODATA 2018, mass in kg as published (not via u). */
-    {"electron", "e", "electron", 0, 5.48579909065e-4, 1.6e-14, PF_ELECTRON_MASS, "CODATA 2018"},
-    {"proton", "p", "proton", 1, 1.007276466621, 5.3e-11, PF_PROTON_MASS, "CODATA 2018"},
-    {"neutron", "n", "neutron", 1, 1.00866491595, 4.9e-10, PF_NEUTRON_MASS, "CODATA 2018"},
+    ATOM("1H", "H", "hydrogen", 1, 1, 1007825.031898, 0.000014),
+    ATOM("2H", "H", "hydrogen", 1, 2, 2014101.777844, 0.000015),
+    ATOM("3He", "He", "helium", 2, 3, 3016029.32197, 0.00006),
+    ATOM("4He", "He", "helium", 2, 4, 4002603.25413, 0.00016),
+    ATOM("6Li", "Li", "lithium", 3, 6, 6015122.88742, 0.00155),
+    ATOM("7Li", "Li", "lithium", 3, 7, 7016003.43426, 0.00450),
+    ATOM("23Na", "Na", "sodium", 11, 23, 22989769.28195, 0.00194),
+    ATOM("39K", "K", "potassium", 19, 39, 38963706.48482, 0.00489),
+    ATOM("40K", "K", "potassium", 19, 40, 39963998.165, 0.060),
+    ATOM("40Ca", "Ca", "calcium", 20, 40, 39962590.850, 0.022),
+    ATOM("41K", "K", "potassium", 19, 41, 40961825.25611, 0.00403),
+    ATOM("52Cr", "Cr", "chromium", 24, 52, 51940504.714, 0.120),
+    ATOM("53Cr", "Cr", "chromium", 24, 53, 52940646.304, 0.124),
+    ATOM("84Sr", "Sr", "strontium", 38, 84, 83913419.118, 1.334),
+    ATOM("85Rb", "Rb", "rubidium", 37, 85, 84911789.73604, 0.00537),
+    ATOM("86Sr", "Sr", "strontium", 38, 86, 85909260.72473, 0.00563),
+    ATOM("87Rb", "Rb", "rubidium", 37, 87, 86909180.529, 0.006),
+    ATOM("87Sr", "Sr", "strontium", 38, 87, 86908877.49454, 0.00550),
+    ATOM("88Sr", "Sr", "strontium", 38, 88, 87905612.253, 0.006),
+    ATOM("133Cs", "Cs", "caesium", 55, 133, 132905451.958, 0.008),
+    ATOM("161Dy", "Dy", "dysprosium", 66, 161, 160926939.425, 0.748),
+    ATOM("162Dy", "Dy", "dysprosium", 66, 162, 161926804.507, 0.746),
+    ATOM("163Dy", "Dy", "dysprosium", 66, 163, 162928737.221, 0.744),
+    ATOM("164Dy", "Dy", "dysprosium", 66, 164, 163929180.819, 0.746),
+    ATOM("166Er", "Er", "erbium", 68, 166, 165930301.067, 0.358),
+    ATOM("167Er", "Er", "erbium", 68, 167, 166932056.192, 0.306),
+    ATOM("168Er", "Er", "erbium", 68, 168, 167932378.282, 0.280),
+    ATOM("170Yb", "Yb", "ytterbium", 70, 170, 169934767.242, 0.011),
+    ATOM("171Yb", "Yb", "ytterbium", 70, 171, 170936331.515, 0.013),
+    ATOM("172Yb", "Yb", "ytterbium", 70, 172, 171936386.654, 0.014),
+    ATOM("173Yb", "Yb", "ytterbium", 70, 173, 172938216.211, 0.012),
+    ATOM("174Yb", "Yb", "ytterbium", 70, 174, 173938867.545, 0.011),
+    ATOM("176Yb", "Yb", "ytterbium", 70, 176, 175942574.706, 0.015),
+    /* Particles, rows of tests/data/codata2018_allascii.excerpt: "X mass in
+     * u" (here in micro-u) and "X mass" in kg with their uncertainties. */
+    PARTICLE("electron", "e", 0, 548.579909065, 0.000000016, PF_ELECTRON_MASS, 0.0000000028e-31),
+    PARTICLE("proton", "p", 1, 1007276.466621, 0.000053, PF_PROTON_MASS, 0.00000000051e-27),
+    PARTICLE("neutron", "n", 1, 1008664.91595, 0.00049, PF_NEUTRON_MASS, 0.00000000095e-27),
 };
 #define TABLE_SIZE (sizeof table / sizeof table[0])
 
@@ -144,4 +177,10 @@ size_t pf_species_suggest(const char *label, const pf_species **out, size_t max)
         for (size_t i = 0; i < TABLE_SIZE && found < max; i++)
             if (dist[i] == d) out[found++] = &table[i];
     return found;
+}
+
+double pf_species_uncertainty_kg(const pf_species *s)
+{
+    if (s->published_uncertainty_kg > 0) return s->published_uncertainty_kg;
+    return hypot(s->uncertainty_u * PF_ATOMIC_MASS, s->mass_u * PF_ATOMIC_MASS_UNCERTAINTY);
 }

@@ -17,6 +17,7 @@
 #define PF_BOLTZMANN 1.380649e-23              /* J/K, exact */
 #define PF_AVOGADRO 6.02214076e23              /* 1/mol, exact */
 #define PF_ATOMIC_MASS 1.66053906660e-27       /* kg, u = m(12C)/12, rel. unc. 3.0e-10 */
+#define PF_ATOMIC_MASS_UNCERTAINTY 0.00000000050e-27 /* kg, standard uncertainty of u */
 #define PF_ELECTRON_MASS 9.1093837015e-31      /* kg, rel. unc. 3.0e-10 */
 #define PF_NEUTRON_MASS 1.67492749804e-27      /* kg, rel. unc. 5.7e-10 */
 #define PF_PROTON_MASS 1.67262192369e-27       /* kg, rel. unc. 3.1e-10 */

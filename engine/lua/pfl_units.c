@@ -160,28 +160,44 @@ static const pf_species *check_species(lua_State *L, int arg, const char *fname)
     return s;
 }
 
-/* pf.species(label) -> {label=, symbol=, name=, mass_number=, mass=kg,
- *                       mass_u=, uncertainty_u=, source=} */
+/* pf.species(label) -> {label=, symbol=, name=, atomic_number= (atoms), mass_number=,
+ *                       mass= kg, uncertainty= kg, mass_u=, uncertainty_u=,
+ *                       mass_micro_u= "86909180.529", uncertainty_micro_u= "0.006",
+ *                       source=, reference=}
+ * The micro-u values are strings so that the published digits reach a script
+ * unrounded; the numbers are the doubles nearest to them. */
 static int l_species(lua_State *L)
 {
     const pf_species *s = check_species(L, 1, "species");
-    lua_createtable(L, 0, 8);
+    lua_createtable(L, 0, 13);
     lua_pushstring(L, s->label);
     lua_setfield(L, -2, "label");
     lua_pushstring(L, s->symbol);
     lua_setfield(L, -2, "symbol");
     lua_pushstring(L, s->name);
     lua_setfield(L, -2, "name");
+    if (s->atomic_number > 0) {
+        lua_pushinteger(L, s->atomic_number);
+        lua_setfield(L, -2, "atomic_number");
+    }
     lua_pushinteger(L, s->mass_number);
     lua_setfield(L, -2, "mass_number");
     lua_pushnumber(L, s->mass_kg);
     lua_setfield(L, -2, "mass");
+    lua_pushnumber(L, pf_species_uncertainty_kg(s));
+    lua_setfield(L, -2, "uncertainty");
     lua_pushnumber(L, s->mass_u);
     lua_setfield(L, -2, "mass_u");
     lua_pushnumber(L, s->uncertainty_u);
     lua_setfield(L, -2, "uncertainty_u");
+    lua_pushstring(L, s->mass_micro_u);
+    lua_setfield(L, -2, "mass_micro_u");
+    lua_pushstring(L, s->uncertainty_micro_u);
+    lua_setfield(L, -2, "uncertainty_micro_u");
     lua_pushstring(L, s->source);
     lua_setfield(L, -2, "source");
+    lua_pushstring(L, s->reference);
+    lua_setfield(L, -2, "reference");
     return 1;
 }
 

@@ -1,7 +1,7 @@
 -- test_recipes.lua - the bundled recipes against published formulas.
 -- Masses are the recipes' defaults, taken from the engine's species table
--- (AME2020; the table itself is checked against scipy and periodictable in
--- tests/ref/test_constants_species.sh).  h is exact (2019 SI, CODATA 2018);
+-- (AME2020; the table itself is checked digit by digit against a committed
+-- excerpt of the AME2020 file in tests/ref/test_species_ame2020.sh).  h is exact (2019 SI, CODATA 2018);
 -- u is CODATA 2018, both as quoted in the SI brochure (from memory).
 local pf = require "psiflight"
 local check = require "check"

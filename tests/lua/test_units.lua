@@ -1,7 +1,8 @@
 -- test_units.lua - pf.units, pf.constants and the species table.
 -- Published values are CODATA 2018 (exact ones are the defining constants of
--- the 2019 SI) and AME2020; the independent machine-readable comparison is
--- tests/ref/test_constants_species.sh (scipy.constants, periodictable).
+-- the 2019 SI) and AME2020; the machine-readable comparisons, every entry to
+-- all digits against committed excerpts of the source files, are
+-- tests/ref/test_constants_species.sh and tests/ref/test_species_ame2020.sh.
 local pf = require "psiflight"
 local check = require "check"
 local U, C = pf.units, pf.constants
@@ -34,17 +35,33 @@ check.near(pf.photon_wavenumber(1064e-9), 2 * math.pi / 1064e-9, 1e-15, "photon 
 
 -- Species: AME2020 atomic masses (u); kg = mass_u * u.
 local rb = pf.species("87Rb")
-check.near(rb.mass_u, 86.909180531, 1e-11, "87Rb mass in u", "AME2020 (transcribed, see note in the ref test)")
+local AME_RB = "AME2020 mass_1.mas20, 87Rb line (tests/data/ame2020_mass_1.mas20.excerpt)"
+check.equal(rb.mass_micro_u, "86909180.529", "87Rb mass in micro-u, published digits")
+check.equal(rb.uncertainty_micro_u, "0.006", "87Rb uncertainty in micro-u, published digits")
+check.near(rb.mass_u, 86.909180529, 2e-16, "87Rb mass in u", AME_RB)
+check.near(rb.uncertainty_u, 6e-9, 1e-15, "87Rb uncertainty in u", AME_RB)
 check.near(rb.mass, rb.mass_u * C.u, 1e-15, "87Rb mass in kg = mass_u * u", "definition of u")
+-- u's CODATA 2018 uncertainty 0.00000000050e-27 kg (allascii.txt excerpt)
+-- and the AME one add in quadrature (GUM, JCGM 100:2008, 5.1.2).
+check.near(rb.uncertainty, math.sqrt((6e-9 * C.u)^2 + (rb.mass_u * 0.00000000050e-27)^2), 1e-14,
+           "87Rb uncertainty in kg, AME and u combined", "GUM 5.1.2; CODATA 2018 u uncertainty")
+check.equal(rb.atomic_number, 37, "87Rb atomic number")
 check.equal(rb.source, "AME2020", "87Rb source named")
+check.truthy(rb.reference:find("Chinese Phys. C 45, 030003", 1, true) and rb.reference:find("mass_1.mas20", 1, true),
+             "87Rb reference names the publication and the file")
+local el = pf.species("electron")
+check.equal(el.source, "CODATA 2018", "electron source named")
+check.equal(el.atomic_number, nil, "a particle has no atomic number")
+check.equal(el.uncertainty, 0.0000000028e-31, "electron kg uncertainty as published (CODATA 2018 allascii.txt)")
 for _, label in ipairs{"Rb87", "Rb-87", "rb87", "rubidium-87", "87rb"} do
   check.equal(pf.mass(label), rb.mass, "label '" .. label .. "' names 87Rb")
 end
 check.equal(pf.mass("electron"), C.m_e, "electron mass from CODATA 2018")
 check.equal(pf.mass("neutron"), C.m_n, "neutron mass from CODATA 2018")
 check.equal(pf.species("Cs-133").mass_number, 133, "Cs-133 mass number")
-local wanted = {"1H", "4He", "6Li", "7Li", "23Na", "39K", "40K", "41K", "85Rb", "87Rb", "84Sr", "86Sr",
-                "87Sr", "88Sr", "133Cs", "171Yb", "174Yb", "164Dy", "166Er", "electron", "neutron"}
+local wanted = {"1H", "4He", "6Li", "7Li", "23Na", "39K", "40K", "41K", "40Ca", "52Cr", "53Cr", "85Rb", "87Rb",
+                "84Sr", "86Sr", "87Sr", "88Sr", "133Cs", "161Dy", "162Dy", "163Dy", "164Dy", "166Er", "167Er", "168Er",
+                "170Yb", "171Yb", "172Yb", "173Yb", "174Yb", "176Yb", "electron", "neutron"}
 for _, label in ipairs(wanted) do
   local s = pf.species(label)
   check.truthy(s.mass > 0 and s.label == label, "species " .. label .. " present")

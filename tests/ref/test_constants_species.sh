@@ -1,40 +1,41 @@
 #!/usr/bin/env bash
-# test_constants_species.sh - the engine's constants and species masses
+# test_constants_species.sh - the engine's constants and particle masses
 # against machine-readable outside references:
-#   - scipy.constants from Debian's python3-scipy (1.10 carries CODATA 2018);
-#   - python3-periodictable (Debian), whose isotope masses are the NIST
-#     "Atomic Weights and Isotopic Compositions" compilation of an older
-#     Atomic Mass Evaluation: it agrees with AME2020 to a few parts in 1e8, so
-#     it catches a wrong digit up to the seventh significant one or a swapped
-#     isotope, not the last digits;
+#   - the committed excerpt of NIST's CODATA 2018 listing allascii.txt
+#     (tests/data/codata2018_allascii.excerpt, provenance in
+#     tests/data/README.md): every constant the engine carries, to all
+#     listed digits;
+#   - scipy.constants from Debian's python3-scipy (1.10 carries CODATA 2018),
+#     a second, independent machine-readable copy;
 #   - for 1H, 2H, 3He and 4He: CODATA 2018 nuclear masses plus electrons minus
 #     the electron binding energies (ionisation energies from the NIST Atomic
 #     Spectra Database, values from memory; they enter at 1e-8 u, so even a
-#     1e-3 relative error in them is invisible at the tolerance).
-# Honesty note: the AME2020 values in engine/core/pf_species.c were
-# transcribed from the AME2020 table from memory; these checks confirm them to
-# the stated tolerances only.  For 2H and 3He the CODATA 2018 deuteron and
-# helion masses differ from the newer Penning-trap values used by AME2020 by
-# about 2e-10 u (the revision known as the light-ion mass puzzle), so the
-# tolerance there is 5e-10 u.
+#     1e-3 relative error in them is invisible at the tolerance).  This is a
+#     physics check of the AME2020 values, independent of the AME file.
+# The atomic masses themselves are compared, to all digits, with the committed
+# AME2020 excerpt by tests/ref/test_species_ame2020.sh.  For 2H and 3He the
+# CODATA 2018 deuteron and helion masses differ from the newer Penning-trap
+# values used by AME2020 by about 2e-10 u (the revision known as the light-ion
+# mass puzzle), so the tolerance there is 5e-10 u.
 set -euo pipefail
 runner=${PSIFLIGHT_RUNNER:-build/psiflight}
 here=$(cd "$(dirname "$0")" && pwd)
 out=$(mktemp)
 trap 'rm -f "$out"' EXIT
 "$runner" run "$here/print_constants_species.lua" >"$out"
-/usr/bin/python3 - "$out" <<'PY'
+/usr/bin/python3 - "$out" "$here" <<'PY'
 import sys
 import scipy
 import scipy.constants as sc
-import periodictable
+
+sys.path.insert(0, sys.argv[2])
+import excerpts
 
 pc = sc.physical_constants
 rows = [line.split() for line in open(sys.argv[1])]
 const = {r[1]: float(r[2]) for r in rows if r[0] == "constant"}
 unit = {r[1]: float(r[2]) for r in rows if r[0] == "unit"}
 species = {r[1]: (float(r[2]), r[3], int(r[4]), float(r[5])) for r in rows if r[0] == "species"}
-failed = 0
 
 def check(label, got, want, rel=0.0, absolute=0.0, source=""):
     global failed
@@ -48,6 +49,47 @@ def check(label, got, want, rel=0.0, absolute=0.0, source=""):
 # The reference itself must be the 2018 adjustment.
 assert pc["atomic mass constant"][0] == 1.66053906660e-27, "scipy does not carry CODATA 2018"
 print(f"note scipy {scipy.__version__}: CODATA 2018 tables")
+
+# Every constant against the committed CODATA 2018 excerpt, to all listed
+# digits: the double nearest to the listed decimal.  Exact constants that the
+# listing truncates ("1.054 571 817... e-34") must start with the listed
+# digits: listed <= value < listed + one unit of the last listed digit.
+import decimal
+codata = excerpts.read_codata(sys.argv[2] + "/../data/codata2018_allascii.excerpt")
+EXCERPT = "CODATA 2018 allascii.txt excerpt"
+listed = {
+    "c": "speed of light in vacuum", "h": "Planck constant", "hbar": "reduced Planck constant",
+    "e": "elementary charge", "kB": "Boltzmann constant", "NA": "Avogadro constant",
+    "u": "atomic mass constant", "m_e": "electron mass", "m_n": "neutron mass", "m_p": "proton mass",
+    "mu_B": "Bohr magneton", "a0": "Bohr radius", "alpha": "fine-structure constant",
+    "g_n": "standard acceleration of gravity",
+}
+def check_listed(label, got, row):
+    global failed
+    if row["truncated"]:
+        low = decimal.Decimal(row["value"])
+        mantissa, _, exponent = row["value"].partition("e")
+        decimals = len(mantissa.partition(".")[2])
+        step = decimal.Decimal(1).scaleb(int(exponent or 0) - decimals)   # one unit of the last listed digit
+        ok = low <= decimal.Decimal(got) < low + step
+        print(("ok " if ok else "FAILED ") + f"{label:44s} got {got:.15g} starts with listed {row['value']}... "
+              f"[{EXCERPT} line {row['line']}]")
+    else:
+        ok = got == float(row["value"])
+        print(("ok " if ok else "FAILED ") + f"{label:44s} got {got!r} listed {row['value']} "
+              f"[{EXCERPT} line {row['line']}]")
+    if not ok:
+        failed += 1
+failed = 0
+for name, quantity in listed.items():
+    check_listed(f"constant {name} (excerpt)", const[name], codata[quantity])
+check_listed("unit g_n (excerpt)", unit["g_n"], codata["standard acceleration of gravity"])
+check_listed("unit eV (excerpt)", unit["eV"], codata["elementary charge"])
+check_listed("1 eV as frequency (excerpt)", unit["eV_as_Hz"], codata["electron volt-hertz relationship"])
+check_listed("1 eV as temperature (excerpt)", unit["eV_as_K"], codata["electron volt-kelvin relationship"])
+for name in ("electron", "neutron", "proton"):
+    check_listed(f"{name} mass in u (excerpt)", species[name][0], codata[f"{name} mass in u"])
+    check_listed(f"{name} mass in kg (excerpt)", species[name][3], codata[f"{name} mass"])
 
 codata = {
     "c": "speed of light in vacuum", "h": "Planck constant",
@@ -95,18 +137,15 @@ for label, nucleus, z, binding, tol in light:
     check(f"{label} atomic mass (u)", species[label][0], want, absolute=tol,
           source="CODATA 2018 nuclear mass via scipy + electrons - binding energy")
 
-# Every atomic species against periodictable (older AME compilation).
+# kg = mass_u * u for every atom (the digit-by-digit comparison with AME2020
+# is tests/ref/test_species_ame2020.sh).
 count = 0
 for label, (mass_u, symbol, a, mass_kg) in species.items():
     if label in ("electron", "neutron", "proton"):
         continue
-    ref = getattr(periodictable, symbol)[a].mass
-    check(f"{label} vs periodictable", mass_u, ref, rel=2e-7,
-          source=f"python3-periodictable {periodictable.__version__}, NIST compilation of an older AME")
     check(f"{label} kg = u * mass_u", mass_kg, mass_u * pc["atomic mass constant"][0], rel=1e-15, source="definition of u")
     count += 1
-required = ["1H", "4He", "6Li", "7Li", "23Na", "39K", "40K", "41K", "85Rb", "87Rb", "84Sr", "86Sr", "87Sr", "88Sr",
-            "133Cs", "171Yb", "174Yb", "164Dy", "166Er", "electron", "neutron"]
+required = ["1H", "2H", "3He", "4He", "electron", "neutron", "proton"]
 missing = [r for r in required if r not in species]
 print(("ok " if not missing else "FAILED ") + f"all {len(required)} required species present {missing or ''}")
 failed += bool(missing)
