@@ -124,7 +124,7 @@ cat >"$tmp/thermal.lua" <<'LUA'
 local pf = require "psiflight"
 pf.setup{planning = "estimate"}
 local g = pf.grid{points = 64, span = 2e-4}
-pf.thermal{grid = g, mass = pf.mass("23Na"), trap = 2 * math.pi * 100, temperature = 1e-9, samples = 200000, seed = 1}
+pf.thermal{grid = g, mass = pf.mass("23Na"), omega = 2 * math.pi * 100, temperature = 1e-9, samples = 200000, seed = 1}
 LUA
 rc=0
 "$runner" run "$tmp/thermal.lua" --out "$tmp/thermal" --quiet --time-limit 0.2s >/dev/null 2>"$tmp/thermal.err" || rc=$?

@@ -17,7 +17,7 @@ echo "top secret calibration key 0123456789abcdef" >"$work/secret.txt"
 "$py" "$root/tests/runner/hostile/make_hostile_csv.py" "$rec"
 cd "$rec"
 line=$(grep -n "^local w = pf.load_wave" load_file.lua | cut -d: -f1)
-load() { "$runner" run load_file.lua --out "$outdir" --set file="$1" "${@:2}"; }
+load() { "$runner" run load_file.lua --out "$outdir" --overwrite --set file="$1" "${@:2}"; }
 
 # refused CODE FILE TEXT [runner options...]: the load fails with CODE, the
 # message names the file as written and the script line, no absolute path
@@ -61,7 +61,7 @@ refused 1 padded_compound.h5 "dataset 'psi' has elements of 4096 bytes (complex 
 if strace -f -o /dev/null true 2>/dev/null; then
   for c in external_storage.h5:psi external_link.h5:psi external_link.h5:soft virtual.h5:psi; do
     set +e
-    strace -f -e trace=open,openat -o "$work/trace" "$runner" run load_file.lua --out "$outdir" \
+    strace -f -e trace=open,openat -o "$work/trace" "$runner" run load_file.lua --out "$outdir" --overwrite \
       --set file="${c%%:*}" --set dataset="${c##*:}" >/dev/null 2>&1
     set -e
     grep -q "$work/secret" "$work/trace" && fail "$c: the outside file was opened: $(grep secret "$work/trace")"
@@ -89,7 +89,7 @@ refused 1 wrong_columns.csv "wrong_columns.csv:18: 2 fields, the header has 3"
 : >"$work/.before-pictures"; sleep 0.01
 for name in ".%n./p.png" "a%n%n.png" "%s%d%n%x.png"; do
   rm -rf "$outdir"
-  expect 0 "picture named '$name'" -- "$runner" run picture_names.lua --out "$outdir" --set name="$name"
+  expect 0 "picture named '$name'" -- "$runner" run picture_names.lua --out "$outdir" --overwrite --set name="$name"
   [ -f "$outdir/$name" ] || fail "'$name' was not written under its literal name: $(find "$outdir" | head)"
   head -c 8 "$outdir/$name" | od -An -tx1 | grep -q "89 50 4e 47 0d 0a 1a 0a" || fail "'$name' is not a PNG"
   ok "'$name' is a PNG under its literal name"

@@ -37,7 +37,7 @@ for _ in range(3000):
     depth = rng.randint(1, 4)
     print(out + "/" + "/".join(rng.choice(names) for _ in range(depth)))
 PY
-expect 0 "the probe ran" -- "$runner" run "$root/tests/runner/policy_probe.lua" --out "$od" \
+expect 0 "the probe ran" -- "$runner" run "$root/tests/runner/policy_probe.lua" --out "$od" --overwrite \
   --data "$work/paths.txt" --set list="$work/paths.txt"
 /usr/bin/python3 - "$od" "$work/.stdout" <<'PY' || fail "decisions differ from os.path.realpath (listed above)"
 import os, sys
@@ -63,7 +63,7 @@ if cmp -s "$work/outside.before" "$work/outside.after"; then ok "nothing outside
 
 # A loop of links is refused (os.path.realpath gives up on it silently).
 printf '%s\n' "$od/loop1/x" >"$work/loop.txt"
-expect 0 "the probe ran on a link loop" -- "$runner" run "$root/tests/runner/policy_probe.lua" --out "$od" \
+expect 0 "the probe ran on a link loop" -- "$runner" run "$root/tests/runner/policy_probe.lua" --out "$od" --overwrite \
   --data "$work/loop.txt" --set list="$work/loop.txt"
 has "refused	$od/loop1/x" "a loop of links is refused"
 done_checks
