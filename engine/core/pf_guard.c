@@ -183,6 +183,17 @@ pf_status pf_wave_extent(pf_wave *w, pf_rep rep, double eps, double *lo, double 
     return PF_OK;
 }
 
+/* Point count a remedy suggests for growth factor f on an n-point axis.  On
+ * a 2-point axis the guard bands are the whole axis (inner fraction 0), so f
+ * is infinite; a huge finite f is no better.  Converting either to size_t is
+ * undefined, so the count is capped at 2^40 (already an FFT-friendly size). */
+static size_t remedy_points(double f, size_t n)
+{
+    const double cap = 1099511627776.0; /* 2^40 */
+    double want = ceil(f * (double)n);
+    return pf_fft_good_size(want < cap ? (size_t)want : (size_t)cap);
+}
+
 /* Warns about axis a of the current representation with figures and a
  * remedy computed from the state's extent on that axis. */
 static void warn_axis(pf_wave *w, int a, double p, size_t step, const char *kind)
@@ -205,7 +216,7 @@ static void warn_axis(pf_wave *w, int a, double p, size_t step, const char *kind
         double f = fmax(need / span, 1.25);
         int filled = !have_extent || hi[a] - lo[a] >= 0.98 * span;
         int shift_enough = have_extent && (hi[a] - lo[a]) * GUARD_REMEDY_MARGIN / inner <= span;
-        size_t n_new = pf_fft_good_size((size_t)ceil(f * (double)n));
+        size_t n_new = remedy_points(f, n);
         int len = snprintf(remedy, sizeof remedy,
                            "enlarge the span on axis %d by x%.2f%s (%.4g m -> %.4g m, about %zu points at the same spacing)",
                            a + 1, (double)n_new / (double)n,
@@ -228,7 +239,7 @@ static void warn_axis(pf_wave *w, int a, double p, size_t step, const char *kind
         double knyq = PF_PI / g->dx[a];
         double kmax = have_extent ? fmax(fabs(lo[a]), fabs(hi[a])) : knyq;
         double f = fmax(kmax * GUARD_REMEDY_MARGIN / (inner * knyq), 1.25);
-        size_t n_new = pf_fft_good_size((size_t)ceil(f * (double)n));
+        size_t n_new = remedy_points(f, n);
         pf_context_warn(g->ctx,
                         "grid guard: %.3g of the probability is in the outer band of momentum axis %d "
                         "(outermost %zu of %zu wave numbers at each end, |k| > %.4g 1/m; Nyquist limit pi/dx = %.4g 1/m) "
