@@ -23,7 +23,7 @@ int luaopen_psiflight(lua_State *L);
 /* The input with a terminating NUL (libFuzzer's buffer has none).  Caller
  * frees.  Embedded NULs stay: C parsers then see a shorter string, which is
  * exactly what they would see from a file or argv. */
-static char *fuzz_text(const uint8_t *data, size_t size)
+__attribute__((unused)) static char *fuzz_text(const uint8_t *data, size_t size)
 {
     char *s = malloc(size + 1);
     if (!s) abort();

@@ -13,6 +13,8 @@ seconds=${2:-60}
 shift 2 || shift $#
 root=$(cd "$(dirname "$0")/../.." && pwd)
 cd "$root" || exit 2
+# Absolute from here on: a harness may change its working folder.
+case $build in /*) ;; *) build=$root/$build ;; esac
 names=("$@")
 if [ ${#names[@]} -eq 0 ]; then
   for b in "$build"/fuzz/fuzz_*; do
@@ -31,7 +33,7 @@ export UBSAN_OPTIONS=print_stacktrace=1:halt_on_error=1
 
 run_one() { # name -> writes BUILD/fuzz-logs/NAME.log, returns the fuzzer's status
   local name=$1 bin="$build/fuzz/fuzz_$1"
-  local seeds="tests/fuzz/corpus/$name" found="$build/fuzz-corpus/$name"
+  local seeds="$root/tests/fuzz/corpus/$name" found="$build/fuzz-corpus/$name"
   mkdir -p "$found" "$build/fuzz-artifacts" "$build/fuzz-logs"
   local limit=(-max_total_time="$seconds")
   [ "$seconds" -eq 0 ] && limit=(-runs=0)
