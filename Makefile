@@ -5,7 +5,8 @@
 #   make demo     install missing Debian packages, build, run the flagship example
 #   make test     install missing Debian packages, build, run every test
 #   make bench    speed report (ratios against raw FFTW, timed in the same run)
-#   make asan     run the test suite under AddressSanitizer and UBSan
+#   make asan     run the test suite under AddressSanitizer and UBSan (gcc, then clang)
+#   make fuzz     run each fuzz harness FUZZ_SECONDS (default 60) with clang's libFuzzer
 
 LUA_PC    ?= lua5.4
 FFTW_PC   ?= fftw3
@@ -162,6 +163,11 @@ asan: deps
 	@$(MAKE) --no-print-directory BUILD=build-asan OPT="-O1 -g -fno-omit-frame-pointer" \
 	  SAN="-fsanitize=address,undefined -fno-sanitize-recover=undefined" all unit-tests
 	@ASAN_OPTIONS=detect_leaks=1 LSAN_OPTIONS=suppressions=$(CURDIR)/tests/lsan-suppressions.txt:print_suppressions=0 UBSAN_OPTIONS=print_stacktrace=1 bash tests/run-all.sh build-asan
+	@# clang too: its UBSan has -fsanitize=float-cast-overflow, which gcc's lacks
+	@# (a double out of range converted to an integer type).
+	@$(MAKE) --no-print-directory BUILD=build-asan-clang CC=clang CX_RANGE= OPT="-O1 -g -fno-omit-frame-pointer" \
+	  SAN="-fsanitize=address,undefined,float-cast-overflow -fno-sanitize-recover=all" all unit-tests
+	@ASAN_OPTIONS=detect_leaks=1 LSAN_OPTIONS=suppressions=$(CURDIR)/tests/lsan-suppressions.txt:print_suppressions=0 UBSAN_OPTIONS=print_stacktrace=1 bash tests/run-all.sh build-asan-clang
 
 # Fuzzing (tests/fuzz, DEVELOPERS.md): one libFuzzer harness per parser of
 # outside input, built with clang into build-fuzz/ (the engine's objects too,

@@ -7,6 +7,7 @@
 # executions, and the crash file when there is one; exits 1 if any crashed.
 #   FUZZ_PARALLEL=2   two harnesses at a time (the default is one)
 #   SECONDS=0         only replay the seeds (what the test suite does first)
+#   FUZZ_ASAN_OPTIONS more AddressSanitizer options, appended
 set -u
 build=${1:?usage: run-fuzz.sh BUILD SECONDS [NAME...]}
 seconds=${2:-60}
@@ -27,7 +28,7 @@ fi
 # whole files of several kB.
 max_len() { case $1 in h5) echo 20000 ;; *) echo 4096 ;; esac; }
 
-export ASAN_OPTIONS=${ASAN_OPTIONS:-detect_leaks=1:allocator_may_return_null=1}
+export ASAN_OPTIONS=detect_leaks=1:allocator_may_return_null=1${FUZZ_ASAN_OPTIONS:+:$FUZZ_ASAN_OPTIONS}
 export LSAN_OPTIONS=suppressions=$root/tests/fuzz/lsan-suppressions.txt:print_suppressions=0
 export UBSAN_OPTIONS=print_stacktrace=1:halt_on_error=1
 
