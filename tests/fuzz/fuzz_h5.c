@@ -11,10 +11,10 @@
 #include "fuzz_util.h"
 
 static const char load_calls[] =
-    "local path = ...\n"
     "local m = 1.4e-25\n"
     "local g = pf.grid{points = 8, span = 10e-6}\n"
     "local g2 = pf.grid{points = {4, 4}, span = {10e-6, 10e-6}}\n"
+    "return function(path)\n"
     "for _, o in ipairs{\n"
     "  {}, {item = 'wave', representation = 'momentum'}, {item = 'rho'},\n"
     "  {dataset = 'psi', mass = m}, {dataset = 'psi', axes = {'x'}, mass = m},\n"
@@ -27,18 +27,12 @@ static const char load_calls[] =
     "  pcall(pf.load_wave, path, o)\n"
     "  o.interpolate = true\n"
     "  pcall(pf.load_wave, path, o)\n"
+    "end\n"
     "end\n";
 
 int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
 {
     const char *path = fuzz_write_file("input.h5", data, size);
-    lua_State *L = fuzz_lua();
-    if (luaL_loadstring(L, load_calls) != LUA_OK) abort();
-    lua_pushstring(L, path);
-    if (lua_pcall(L, 1, 0, 0) != LUA_OK) {
-        fprintf(stderr, "fuzz_h5: harness script failed: %s\n", lua_tostring(L, -1));
-        abort();
-    }
-    lua_close(L);
+    fuzz_probe(load_calls, path);
     return 0;
 }

@@ -91,4 +91,30 @@ __attribute__((unused)) static lua_State *fuzz_lua(void)
     return L;
 }
 
+/* A function of one argument (a file path) made by the Lua chunk `chunk`,
+ * which returns it, in one Lua state kept for the whole run: making a state
+ * per input (engine setup, grid plans) would cost more than the parsing.
+ * fuzz_probe calls it and collects garbage, so every wave is freed and
+ * counted off the memory cap before the next input; an error escaping the
+ * function is a harness bug and aborts. */
+__attribute__((unused)) static void fuzz_probe(const char *chunk, const char *path)
+{
+    static lua_State *L;
+    if (!L) {
+        L = fuzz_lua();
+        if (luaL_loadstring(L, chunk) != LUA_OK || lua_pcall(L, 0, 1, 0) != LUA_OK || !lua_isfunction(L, -1)) {
+            fprintf(stderr, "fuzz: harness chunk failed: %s\n", lua_tostring(L, -1));
+            abort();
+        }
+        lua_setglobal(L, "fuzz_probe");
+    }
+    lua_getglobal(L, "fuzz_probe");
+    lua_pushstring(L, path);
+    if (lua_pcall(L, 1, 0, 0) != LUA_OK) {
+        fprintf(stderr, "fuzz: harness function failed: %s\n", lua_tostring(L, -1));
+        abort();
+    }
+    lua_gc(L, LUA_GCCOLLECT, 0);
+}
+
 #endif
