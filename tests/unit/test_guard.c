@@ -159,6 +159,28 @@ static void too_small_grid_warns_of_wrap_around_once(void **state)
     pf_wave_free(w);
 }
 
+/* On a 2-point axis the guard bands are the whole axis, so the remedy's
+ * growth factor is infinite; the suggested count is capped at 2^40 points
+ * (pf_guard.c) instead of converting infinity to size_t, which is undefined
+ * (found by the CSV fuzz harness; clang's -fsanitize=float-cast-overflow
+ * flags the old conversion).  Position first, then momentum. */
+static void two_point_axis_remedy_is_capped(void **state)
+{
+    fixture *f = *state;
+    blob b = {1, 1e-6, {0}, {0}};
+    size_t n[1] = {2};
+    double span[1] = {2e-6};
+    pf_wave *w = make(f, 1, n, span, &b);
+    assert_int_equal(f->seen.count, 1);
+    assert_non_null(strstr(f->seen.last, "position axis 1"));
+    assert_non_null(strstr(f->seen.last, "about 1099511627776 points"));
+    pft_ok(pf_wave_to(w, PF_MOMENTUM));
+    assert_int_equal(f->seen.count, 2);
+    assert_non_null(strstr(f->seen.last, "momentum axis 1"));
+    assert_non_null(strstr(f->seen.last, ": 1099511627776 points over the same span"));
+    pf_wave_free(w);
+}
+
 static void kick_beyond_nyquist_warns_of_aliasing(void **state)
 {
     fixture *f = *state;
@@ -231,6 +253,7 @@ int main(void)
         cmocka_unit_test_setup_teardown(band_figures_match_a_naive_loop, setup, teardown),
         cmocka_unit_test_setup_teardown(too_small_grid_warns_of_wrap_around_once, setup, teardown),
         cmocka_unit_test_setup_teardown(kick_beyond_nyquist_warns_of_aliasing, setup, teardown),
+        cmocka_unit_test_setup_teardown(two_point_axis_remedy_is_capped, setup, teardown),
         cmocka_unit_test_setup_teardown(threshold_is_configurable, setup, teardown),
         cmocka_unit_test_setup_teardown(extent_matches_gaussian_quantiles, setup, teardown),
     };
