@@ -8,6 +8,8 @@
 #   FUZZ_PARALLEL=2   two harnesses at a time (the default is one)
 #   SECONDS=0         only replay the seeds (what the test suite does first)
 #   FUZZ_ASAN_OPTIONS more AddressSanitizer options, appended
+#   FUZZ_FLAGS        more libFuzzer flags, e.g. "-fork=1 -ignore_crashes=1" to
+#                     go on past crashes inside a library (each is still saved)
 set -u
 build=${1:?usage: run-fuzz.sh BUILD SECONDS [NAME...]}
 seconds=${2:-60}
@@ -40,7 +42,8 @@ run_one() { # name -> writes BUILD/fuzz-logs/NAME.log, returns the fuzzer's stat
   [ "$seconds" -eq 0 ] && limit=(-runs=0)
   # -close_fd_mask=3: the parsers' own messages (usage text, help
   # listings) would drown the fuzzer's report.
-  "$bin" "${limit[@]}" -max_len="$(max_len "$name")" -timeout=30 -rss_limit_mb=2048 \
+  # shellcheck disable=SC2086 # FUZZ_FLAGS is a list of flags
+  "$bin" "${limit[@]}" ${FUZZ_FLAGS:-} -max_len="$(max_len "$name")" -timeout=30 -rss_limit_mb=2048 \
     -close_fd_mask=3 -print_final_stats=1 -artifact_prefix="$build/fuzz-artifacts/$name-" \
     "$found" "$seeds" >"$build/fuzz-logs/$name.log" 2>&1
 }
