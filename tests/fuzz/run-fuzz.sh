@@ -8,6 +8,8 @@
 #   FUZZ_PARALLEL=2   two harnesses at a time (the default is one)
 #   SECONDS=0         only replay the seeds (what the test suite does first)
 #   FUZZ_ASAN_OPTIONS more AddressSanitizer options, appended
+#   FUZZ_WORK=DIR     where found inputs, crash files and logs go (default
+#                     BUILD; the suite's smoke pass uses a temporary folder)
 #   FUZZ_FLAGS        more libFuzzer flags, e.g. "-fork=1 -ignore_crashes=1" to
 #                     go on past crashes inside a library (each is still saved)
 set -u
@@ -18,6 +20,7 @@ root=$(cd "$(dirname "$0")/../.." && pwd)
 cd "$root" || exit 2
 # Absolute from here on: a harness may change its working folder.
 case $build in /*) ;; *) build=$root/$build ;; esac
+work=${FUZZ_WORK:-$build}
 names=("$@")
 if [ ${#names[@]} -eq 0 ]; then
   for b in "$build"/fuzz/fuzz_*; do
@@ -34,22 +37,22 @@ export ASAN_OPTIONS=detect_leaks=1:allocator_may_return_null=1${FUZZ_ASAN_OPTION
 export LSAN_OPTIONS=suppressions=$root/tests/fuzz/lsan-suppressions.txt:print_suppressions=0
 export UBSAN_OPTIONS=print_stacktrace=1:halt_on_error=1
 
-run_one() { # name -> writes BUILD/fuzz-logs/NAME.log, returns the fuzzer's status
+run_one() { # name -> writes WORK/fuzz-logs/NAME.log, returns the fuzzer's status
   local name=$1 bin="$build/fuzz/fuzz_$1"
-  local seeds="$root/tests/fuzz/corpus/$name" found="$build/fuzz-corpus/$name"
-  mkdir -p "$found" "$build/fuzz-artifacts" "$build/fuzz-logs"
+  local seeds="$root/tests/fuzz/corpus/$name" found="$work/fuzz-corpus/$name"
+  mkdir -p "$found" "$work/fuzz-artifacts" "$work/fuzz-logs"
   local limit=(-max_total_time="$seconds")
   [ "$seconds" -eq 0 ] && limit=(-runs=0)
   # -close_fd_mask=3: the parsers' own messages (usage text, help
   # listings) would drown the fuzzer's report.
   # shellcheck disable=SC2086 # FUZZ_FLAGS is a list of flags
   "$bin" "${limit[@]}" ${FUZZ_FLAGS:-} -max_len="$(max_len "$name")" -timeout=30 -rss_limit_mb=2048 \
-    -close_fd_mask=3 -print_final_stats=1 -artifact_prefix="$build/fuzz-artifacts/$name-" \
-    "$found" "$seeds" >"$build/fuzz-logs/$name.log" 2>&1
+    -close_fd_mask=3 -print_final_stats=1 -artifact_prefix="$work/fuzz-artifacts/$name-" \
+    "$found" "$seeds" >"$work/fuzz-logs/$name.log" 2>&1
 }
 
 report() { # name status
-  local name=$1 rc=$2 log="$build/fuzz-logs/$1.log"
+  local name=$1 rc=$2 log="$work/fuzz-logs/$1.log"
   local runs; runs=$(sed -n 's/^stat::number_of_executed_units: *//p' "$log" | tail -1)
   local secs; secs=$(sed -n 's/^Done [0-9]* runs in \([0-9]*\) second.*/\1/p' "$log" | tail -1)
   if [ "$rc" -eq 0 ]; then

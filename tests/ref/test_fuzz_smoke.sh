@@ -27,9 +27,9 @@ nh=$(ls build-fuzz/fuzz/fuzz_* | wc -l)
 [ "$nh" -ge 7 ] || { echo "expected 7 harnesses, built $nh"; exit 1; }
 status=0
 # Seeds first: every committed input, including past crashes, must pass.
-bash tests/fuzz/run-fuzz.sh build-fuzz 0 >"$probe/seeds.log" 2>&1 || status=1
+FUZZ_WORK="$probe" bash tests/fuzz/run-fuzz.sh build-fuzz 0 >"$probe/seeds.log" 2>&1 || status=1
 # Passing harnesses become "ok" lines in the suite's summary; others stay as they are.
 sed -E 's/^fuzz( +[a-z0-9_]+ +ok )/ok seeds\1/' "$probe/seeds.log"
-FUZZ_PARALLEL=2 bash tests/fuzz/run-fuzz.sh build-fuzz "$seconds" >"$probe/fuzz.log" 2>&1 || status=1
+FUZZ_WORK="$probe" FUZZ_PARALLEL=2 bash tests/fuzz/run-fuzz.sh build-fuzz "$seconds" >"$probe/fuzz.log" 2>&1 || status=1
 sed -E 's/^fuzz( +[a-z0-9_]+ +ok )/ok fuzz\1/' "$probe/fuzz.log"
 exit $status
