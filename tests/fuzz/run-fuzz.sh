@@ -55,6 +55,9 @@ report() { # name status
   local name=$1 rc=$2 log="$work/fuzz-logs/$1.log"
   local runs; runs=$(sed -n 's/^stat::number_of_executed_units: *//p' "$log" | tail -1)
   local secs; secs=$(sed -n 's/^Done [0-9]* runs in \([0-9]*\) second.*/\1/p' "$log" | tail -1)
+  # -fork mode prints neither line: its last "#N:" status and "fuzzed for".
+  [ -n "$runs" ] || runs=$(sed -n 's/^#\([0-9]*\): cov.*/\1/p' "$log" | tail -1)
+  [ -n "$secs" ] || secs=$(sed -n 's/^INFO: fuzzed for \([0-9]*\) seconds.*/\1/p' "$log" | tail -1)
   if [ "$rc" -eq 0 ]; then
     printf 'fuzz %-12s ok     %10s executions in %s s\n' "$name" "${runs:-?}" "${secs:-?}"
   else
