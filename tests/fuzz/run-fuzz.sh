@@ -58,6 +58,13 @@ report() { # name status
   # -fork mode prints neither line: its last "#N:" status and "fuzzed for".
   [ -n "$runs" ] || runs=$(sed -n 's/^#\([0-9]*\): cov.*/\1/p' "$log" | tail -1)
   [ -n "$secs" ] || secs=$(sed -n 's/^INFO: fuzzed for \([0-9]*\) seconds.*/\1/p' "$log" | tail -1)
+  # -fork mode goes on past crashes and exits 0; it still fails here.
+  local forked; forked=$(sed -n 's|^#[0-9]*: .* oom/timeout/crash: \([0-9]*/[0-9]*/[0-9]*\) .*|\1|p' "$log" | tail -1)
+  if [ -n "$forked" ] && [ "$forked" != 0/0/0 ]; then
+    printf 'fuzz %-12s FAILED: oom/timeout/crash %s in %s executions (%s s); inputs in %s\n' "$name" "$forked" \
+      "${runs:-?}" "${secs:-?}" "$work/fuzz-artifacts"
+    return 1
+  fi
   if [ "$rc" -eq 0 ]; then
     printf 'fuzz %-12s ok     %10s executions in %s s\n' "$name" "${runs:-?}" "${secs:-?}"
   else
@@ -77,7 +84,7 @@ while [ $i -lt ${#names[@]} ]; do
   done
   for k in "${!pids[@]}"; do
     wait "${pids[$k]}"; rc=$?
-    report "${batch[$k]}" $rc
+    report "${batch[$k]}" $rc || rc=1
     [ $rc -eq 0 ] || failed=1
   done
 done
