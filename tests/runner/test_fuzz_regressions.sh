@@ -27,4 +27,14 @@ cp "$corpus/csv/crash-guard-2point" "$work/two.csv"
 sed -i "s|$corpus/csv/crash-guard-2point|$work/two.csv|" "$work/twopoint.lua"
 expect 0 "two-point CSV samples load" -- "$runner" run "$work/twopoint.lua"
 has "1099511627776 points" "the guard's remedy is capped on a 2-point axis"
+# Module search over many folders: the "tried" message outgrew Lua's buffer
+# while a folder name sat on the stack, and the buffer was used after free
+# (the sanitizer builds see it; the default build may only print garbage).
+mkdir -p "$work/mods"
+many=$(for i in $(seq 200); do printf '%s:' "$work/mods"; done)
+printf 'require "not_there"\n' >"$work/many.lua"
+expect 1 "a missing module over 200 folders is a script error" -- env PSIFLIGHT_RECIPE_PATH="$many" "$runner" run "$work/many.lua"
+has "module 'not_there' not found" "the error names the module"
+[ "$(printf '%s' "$err" | grep -c "no file '$work/mods/not_there.lua'")" -eq 200 ] && ok "every folder is listed as tried" ||
+  fail "tried folders: $(printf '%s' "$err" | grep -c "no file '$work/mods/not_there.lua'") of 200"
 echo "ok $checks checks"
