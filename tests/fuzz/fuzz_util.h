@@ -33,7 +33,8 @@ __attribute__((unused)) static char *fuzz_text(const uint8_t *data, size_t size)
 }
 
 /* One scratch folder per process (under $TMPDIR or /tmp), removed at exit.
- * A crash leaves it behind; its name starts with psiflight-fuzz-. */
+ * A crash leaves it behind; run-fuzz.sh points TMPDIR at a folder of its
+ * own and removes that afterwards. */
 static char fuzz_dir_path[256];
 
 static void fuzz_dir_remove(void)

@@ -40,15 +40,21 @@ export UBSAN_OPTIONS=print_stacktrace=1:halt_on_error=1
 run_one() { # name -> writes WORK/fuzz-logs/NAME.log, returns the fuzzer's status
   local name=$1 bin="$build/fuzz/fuzz_$1"
   local seeds="$root/tests/fuzz/corpus/$name" found="$work/fuzz-corpus/$name"
-  mkdir -p "$found" "$work/fuzz-artifacts" "$work/fuzz-logs"
+  # The harnesses' scratch folders (fuzz_util.h) go under WORK, and are
+  # removed afterwards even when a crash or a -fork job left them behind.
+  local scratch="$work/fuzz-tmp/$name"
+  mkdir -p "$found" "$work/fuzz-artifacts" "$work/fuzz-logs" "$scratch"
   local limit=(-max_total_time="$seconds")
   [ "$seconds" -eq 0 ] && limit=(-runs=0)
   # -close_fd_mask=3: the parsers' own messages (usage text, help
   # listings) would drown the fuzzer's report.
   # shellcheck disable=SC2086 # FUZZ_FLAGS is a list of flags
-  "$bin" "${limit[@]}" ${FUZZ_FLAGS:-} -max_len="$(max_len "$name")" -timeout=30 -rss_limit_mb=2048 \
+  TMPDIR=$scratch "$bin" "${limit[@]}" ${FUZZ_FLAGS:-} -max_len="$(max_len "$name")" -timeout=30 -rss_limit_mb=2048 \
     -close_fd_mask=3 -print_final_stats=1 -artifact_prefix="$work/fuzz-artifacts/$name-" \
     "$found" "$seeds" >"$work/fuzz-logs/$name.log" 2>&1
+  local rc=$?
+  rm -rf "$scratch"
+  return $rc
 }
 
 report() { # name status
