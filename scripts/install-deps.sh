@@ -22,6 +22,11 @@ PACKAGES=(
   libcjson-dev
   strace
   libopenmpi-dev openmpi-bin
+  # Test and development only (not needed to build or run psiflight): clang
+  # with libFuzzer and its sanitizer runtimes for `make fuzz`, the fuzz smoke
+  # pass of the test suite and the clang half of `make asan`; libomp for
+  # clang's -fopenmp.
+  clang libclang-rt-14-dev libomp-14-dev
 )
 
 missing=()

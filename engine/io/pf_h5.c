@@ -672,7 +672,14 @@ static pf_status read_complex(reader *r, hid_t loc, const char *name, pf_samples
     hid_t mt = -1;
     if (H5Tget_class(ft) == H5T_COMPOUND && H5Tget_nmembers(ft) == 2) {
         hid_t m0 = H5Tget_member_type(ft, 0), m1 = H5Tget_member_type(ft, 1);
-        if (is_float(m0) && is_float(m1)) {
+        /* A corrupt file can give member offsets beyond the compound's own
+         * size; libhdf5 1.10 does not check them and its conversion then
+         * reads freed memory (found by tests/fuzz/fuzz_h5.c).  Such a type
+         * is refused as not complex. */
+        size_t fsize = H5Tget_size(ft);
+        int inside = H5Tget_member_offset(ft, 0) <= fsize && H5Tget_size(m0) <= fsize - H5Tget_member_offset(ft, 0) &&
+                     H5Tget_member_offset(ft, 1) <= fsize && H5Tget_size(m1) <= fsize - H5Tget_member_offset(ft, 1);
+        if (inside && is_float(m0) && is_float(m1)) {
             char *n0 = H5Tget_member_name(ft, 0), *n1 = H5Tget_member_name(ft, 1);
             mt = H5Tcreate(H5T_COMPOUND, 2 * sizeof(double));
             H5Tinsert(mt, n0, 0, H5T_NATIVE_DOUBLE);

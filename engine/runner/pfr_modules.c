@@ -55,8 +55,14 @@ static int search_folders(lua_State *L)
     luaL_buffinit(L, &tried);
     lua_Integer n = (lua_Integer)lua_rawlen(L, lua_upvalueindex(1));
     for (lua_Integer i = 1; i <= n; i++) {
+        /* The folder is copied off the stack: between luaL_buffinit and
+         * luaL_addvalue nothing else may sit on the stack, or the buffer's
+         * box (made once the message outgrows LUAL_BUFFERSIZE, e.g. with
+         * many folders) lands in the wrong slot and is used after free. */
+        char dir[PATH_MAX];
         lua_rawgeti(L, lua_upvalueindex(1), i);
-        const char *dir = lua_tostring(L, -1);
+        snprintf(dir, sizeof dir, "%s", lua_tostring(L, -1));
+        lua_pop(L, 1);
         static const char *const forms[] = {"%s/%s.lua", "%s/%s/init.lua"};
         for (int f = 0; f < 2; f++) {
             char path[PATH_MAX];
@@ -77,7 +83,6 @@ static int search_folders(lua_State *L)
             lua_pushstring(L, path);
             return 2;
         }
-        lua_pop(L, 1);
     }
     luaL_pushresult(&tried);
     return 1;

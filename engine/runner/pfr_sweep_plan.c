@@ -149,7 +149,12 @@ static int read_csv(const char *path, pfr_plan *plan, char *err, size_t errsize)
         }
         for (int i = 0; i < n; i++) {
             char *v = trimmed(cells[i], strlen(cells[i]));
-            if (!v[0]) return free(v), fclose(f), snprintf(err, errsize, "--points %s:%d: empty cell", path, lineno), -1;
+            if (!v[0]) {
+                /* The row is not counted yet, so pfr_plan_free would miss its
+                 * earlier cells. */
+                for (int k = 0; k < i; k++) free(plan->values[plan->npoints * (size_t)n + (size_t)k]);
+                return free(v), fclose(f), snprintf(err, errsize, "--points %s:%d: empty cell", path, lineno), -1;
+            }
             plan->values[plan->npoints * (size_t)n + (size_t)i] = v;
         }
         plan->npoints++;

@@ -61,6 +61,10 @@ if command -v lua5.4 >/dev/null; then
   preload=""
   if ldd "$build/psiflight.so" 2>/dev/null | grep -q libasan; then
     preload=$(${CC:-cc} -print-file-name=libasan.so)
+  elif nm -D --undefined-only "$build/psiflight.so" 2>/dev/null | grep -q ' __asan_'; then
+    # clang links its ASan runtime into programs only; a module needs the
+    # shared runtime preloaded (make asan's clang build).
+    preload=$(clang -print-file-name=libclang_rt.asan-x86_64.so)
   fi
   out=$(cd "$tmp" && LD_PRELOAD="$preload" ASAN_OPTIONS=detect_leaks=0 LUA_CPATH="$build/?.so" lua5.4 -e '
     local pf = require "psiflight"

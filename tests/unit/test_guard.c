@@ -159,6 +159,38 @@ static void too_small_grid_warns_of_wrap_around_once(void **state)
     pf_wave_free(w);
 }
 
+/* On a 2-point axis the guard bands are the whole axis, so the remedy's
+ * growth factor is infinite; the suggested count is capped at 2^40 points
+ * (pf_guard.c) instead of converting infinity to size_t, which is undefined
+ * (found by the CSV fuzz harness; clang's -fsanitize=float-cast-overflow
+ * flags the old conversion).  Position first, then momentum. */
+/* The smallest axes: a 2-point axis is refused when the grid is made (its
+ * guard bands would be the whole axis), and on the smallest accepted axis a
+ * cloud that fills it gets a finite remedy within the grid's own limit of
+ * 2^30 points per axis, never an out-of-range conversion to size_t (found by
+ * the CSV fuzz harness when 2-point grids were still accepted). */
+static void smallest_axis_remedy_is_capped(void **state)
+{
+    fixture *f = *state;
+    size_t two[1] = {2};
+    double span2[1] = {2e-6};
+    pf_grid *g = NULL;
+    assert_int_equal(pf_grid_new(f->ctx, 1, two, span2, NULL, &g), PF_EINVAL);
+    assert_null(g);
+    blob b = {1, 1e-6, {0}, {0}};
+    size_t n[1] = {PF_GRID_MIN_POINTS};
+    double span[1] = {2e-6};
+    pf_wave *w = make(f, 1, n, span, &b);
+    assert_int_equal(f->seen.count, 1);
+    assert_non_null(strstr(f->seen.last, "position axis 1"));
+    const char *about = strstr(f->seen.last, "about ");
+    assert_non_null(about);
+    unsigned long long suggested = strtoull(about + 6, NULL, 10);
+    assert_true(suggested > PF_GRID_MIN_POINTS);
+    assert_true(suggested <= (1ull << 30));
+    pf_wave_free(w);
+}
+
 static void kick_beyond_nyquist_warns_of_aliasing(void **state)
 {
     fixture *f = *state;
@@ -231,6 +263,7 @@ int main(void)
         cmocka_unit_test_setup_teardown(band_figures_match_a_naive_loop, setup, teardown),
         cmocka_unit_test_setup_teardown(too_small_grid_warns_of_wrap_around_once, setup, teardown),
         cmocka_unit_test_setup_teardown(kick_beyond_nyquist_warns_of_aliasing, setup, teardown),
+        cmocka_unit_test_setup_teardown(smallest_axis_remedy_is_capped, setup, teardown),
         cmocka_unit_test_setup_teardown(threshold_is_configurable, setup, teardown),
         cmocka_unit_test_setup_teardown(extent_matches_gaussian_quantiles, setup, teardown),
     };

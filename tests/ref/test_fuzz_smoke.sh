@@ -1,0 +1,35 @@
+#!/usr/bin/env bash
+# test_fuzz_smoke.sh - the short CI pass of the fuzz harnesses (tests/fuzz):
+# builds them with clang and libFuzzer into build-fuzz/, replays every
+# committed seed (which includes each crash found so far, kept as a
+# regression input), then fuzzes each harness for FUZZ_SMOKE_SECONDS (8 by
+# default).  A crash, leak, sanitizer report or broken harness promise fails
+# the suite.  Without clang or libFuzzer (Debian: clang, libclang-rt-14-dev)
+# it prints a note and passes: the long runs are `make fuzz`.
+set -uo pipefail
+root=${PSIFLIGHT_ROOT:-$(cd "$(dirname "$0")/../.." && pwd)}
+cd "$root" || exit 1
+seconds=${FUZZ_SMOKE_SECONDS:-8}
+cc=${FUZZ_CC:-clang}
+probe=$(mktemp -d)
+trap 'rm -rf "$probe"' EXIT
+printf '#include <stdint.h>\n#include <stddef.h>\nint LLVMFuzzerTestOneInput(const uint8_t *d, size_t n) { (void)d; (void)n; return 0; }\n' >"$probe/p.c"
+if ! command -v "$cc" >/dev/null || ! "$cc" -fsanitize=fuzzer,address "$probe/p.c" -o "$probe/p" 2>/dev/null; then
+  echo "note: fuzz smoke pass skipped: $cc with libFuzzer is not available (install clang libclang-rt-14-dev)"
+  exit 0
+fi
+if ! make --no-print-directory -j2 fuzz-build FUZZ_CC="$cc" >"$probe/build.log" 2>&1; then
+  tail -30 "$probe/build.log"
+  echo "fuzz harness build failed"
+  exit 1
+fi
+nh=$(ls build-fuzz/fuzz/fuzz_* | wc -l)
+[ "$nh" -ge 7 ] || { echo "expected 7 harnesses, built $nh"; exit 1; }
+status=0
+# Seeds first: every committed input, including past crashes, must pass.
+FUZZ_WORK="$probe" bash tests/fuzz/run-fuzz.sh build-fuzz 0 >"$probe/seeds.log" 2>&1 || status=1
+# Passing harnesses become "ok" lines in the suite's summary; others stay as they are.
+sed -E 's/^fuzz( +[a-z0-9_]+ +ok )/ok seeds\1/' "$probe/seeds.log"
+FUZZ_WORK="$probe" FUZZ_PARALLEL=2 bash tests/fuzz/run-fuzz.sh build-fuzz "$seconds" >"$probe/fuzz.log" 2>&1 || status=1
+sed -E 's/^fuzz( +[a-z0-9_]+ +ok )/ok fuzz\1/' "$probe/fuzz.log"
+exit $status
