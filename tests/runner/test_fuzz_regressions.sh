@@ -18,6 +18,8 @@ has "does not hold complex numbers" "the error says the dataset is not complex"
 has "crash-compound-offset" "the error names the file"
 
 # CSV samples on two points: the guard's remedy converted infinity to size_t.
+# Grids now need at least 4 points per axis, so the file is refused with a
+# clear script error before any guard runs.
 cat >"$work/twopoint.lua" <<LUA
 local pf = require "psiflight"
 local w = pf.load_wave("$corpus/csv/crash-guard-2point", {mass = 1.4e-25})
@@ -25,8 +27,8 @@ print(w:grid():points(1))
 LUA
 cp "$corpus/csv/crash-guard-2point" "$work/two.csv"
 sed -i "s|$corpus/csv/crash-guard-2point|$work/two.csv|" "$work/twopoint.lua"
-expect 0 "two-point CSV samples load" -- "$runner" run "$work/twopoint.lua"
-has "1099511627776 points" "the guard's remedy is capped on a 2-point axis"
+expect 1 "two-point CSV samples are a script error" -- "$runner" run "$work/twopoint.lua"
+has "twopoint.lua:2: load_wave: points on axis 1 must be at least 4, got 2" "the error names the line and the point count"
 # Module search over many folders: the "tried" message outgrew Lua's buffer
 # while a folder name sat on the stack, and the buffer was used after free
 # (the sanitizer builds see it; the default build may only print garbage).
