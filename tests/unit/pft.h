@@ -12,6 +12,7 @@
 #include <stddef.h>
 #include <stdio.h>
 #include <cmocka.h>
+#include "pf_context.h"
 
 /* |got - want| <= rel * |want| + abs_tol, else fail with both values. */
 #define pft_near(got, want, rel, abs_tol) pft_near_at((got), (want), (rel), (abs_tol), #got, __FILE__, __LINE__)
@@ -40,5 +41,21 @@ static inline void pft_cnear_at(double complex got, double complex want, double 
 }
 
 #define pft_ok(expr) assert_int_equal((expr), PF_OK)
+
+/* The common fixture: a fresh context with estimated planning (tests never
+ * depend on measured plans), released after the test. */
+static inline int pft_context_setup(void **state)
+{
+    *state = pf_context_new();
+    if (!*state) return -1;
+    pf_context_set_planning(*state, PF_PLAN_ESTIMATE);
+    return 0;
+}
+
+static inline int pft_context_teardown(void **state)
+{
+    pf_context_release(*state);
+    return 0;
+}
 
 #endif

@@ -10,18 +10,6 @@
 #include "pf_internal.h"
 #include "pf_wave.h"
 
-static int setup(void **state)
-{
-    *state = pf_context_new();
-    pf_context_set_planning(*state, PF_PLAN_ESTIMATE);
-    return *state ? 0 : -1;
-}
-
-static int teardown(void **state)
-{
-    pf_context_release(*state);
-    return 0;
-}
 
 static void blocks_are_charged_exactly_and_aligned(void **state)
 {
@@ -127,10 +115,10 @@ static void core_calls_return_the_allocators_code(void **state)
 int main(void)
 {
     const struct CMUnitTest tests[] = {
-        cmocka_unit_test_setup_teardown(blocks_are_charged_exactly_and_aligned, setup, teardown),
-        cmocka_unit_test_setup_teardown(cap_is_a_limit_and_says_so_by_code, setup, teardown),
-        cmocka_unit_test_setup_teardown(injected_failure_is_out_of_memory, setup, teardown),
-        cmocka_unit_test_setup_teardown(core_calls_return_the_allocators_code, setup, teardown),
+        cmocka_unit_test_setup_teardown(blocks_are_charged_exactly_and_aligned, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(cap_is_a_limit_and_says_so_by_code, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(injected_failure_is_out_of_memory, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(core_calls_return_the_allocators_code, pft_context_setup, pft_context_teardown),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

@@ -20,18 +20,6 @@
 /* 87Rb-like mass (kg); the exact value does not matter to these laws. */
 static const double MASS = 1.443160648e-25;
 
-static int setup(void **state)
-{
-    *state = pf_context_new();
-    pf_context_set_planning(*state, PF_PLAN_ESTIMATE);
-    return *state ? 0 : -1;
-}
-
-static int teardown(void **state)
-{
-    pf_context_release(*state);
-    return 0;
-}
 
 typedef struct gauss_nd {
     int dim;
@@ -352,16 +340,16 @@ static void bad_flight_times_are_refused(void **state)
 int main(void)
 {
     const struct CMUnitTest tests[] = {
-        cmocka_unit_test_setup_teardown(width_law_1d, setup, teardown),
-        cmocka_unit_test_setup_teardown(width_law_2d, setup, teardown),
-        cmocka_unit_test_setup_teardown(width_law_3d, setup, teardown),
-        cmocka_unit_test_setup_teardown(moment_laws_hold_for_any_state, setup, teardown),
-        cmocka_unit_test_setup_teardown(commensurate_plane_wave_is_an_eigenstate, setup, teardown),
-        cmocka_unit_test_setup_teardown(norm_is_conserved_over_many_flights, setup, teardown),
-        cmocka_unit_test_setup_teardown(flight_matches_direct_kernel_quadrature, setup, teardown),
-        cmocka_unit_test_setup_teardown(forward_then_backward_restores_the_state, setup, teardown),
-        cmocka_unit_test_setup_teardown(flight_phase_matches_definition_1d, setup, teardown),
-        cmocka_unit_test_setup_teardown(bad_flight_times_are_refused, setup, teardown),
+        cmocka_unit_test_setup_teardown(width_law_1d, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(width_law_2d, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(width_law_3d, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(moment_laws_hold_for_any_state, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(commensurate_plane_wave_is_an_eigenstate, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(norm_is_conserved_over_many_flights, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(flight_matches_direct_kernel_quadrature, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(forward_then_backward_restores_the_state, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(flight_phase_matches_definition_1d, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(bad_flight_times_are_refused, pft_context_setup, pft_context_teardown),
     };
     return cmocka_run_group_tests_name("flight", tests, NULL, NULL);
 }

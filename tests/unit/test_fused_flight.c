@@ -30,18 +30,6 @@
 /* 41K-like mass (kg), value from memory; the laws do not depend on it. */
 static const double MASS = 6.8e-26;
 
-static int setup(void **state)
-{
-    *state = pf_context_new();
-    pf_context_set_planning(*state, PF_PLAN_ESTIMATE);
-    return *state ? 0 : -1;
-}
-
-static int teardown(void **state)
-{
-    pf_context_release(*state);
-    return 0;
-}
 
 typedef struct packet {
     int dim;
@@ -395,15 +383,15 @@ static void tight_memory_cap_falls_back(void **state)
 int main(void)
 {
     const struct CMUnitTest tests[] = {
-        cmocka_unit_test_setup_teardown(fused_2d_partial_block, setup, teardown),
-        cmocka_unit_test_setup_teardown(fused_3d_partial_block, setup, teardown),
-        cmocka_unit_test_setup_teardown(fused_equals_separate_steps, setup, teardown),
-        cmocka_unit_test_setup_teardown(deferred_flights_compose, setup, teardown),
-        cmocka_unit_test_setup_teardown(operations_see_the_flown_state, setup, teardown),
-        cmocka_unit_test_setup_teardown(fused_bits_do_not_depend_on_threads, setup, teardown),
-        cmocka_unit_test_setup_teardown(fused_sweep_measures_momentum_band, setup, teardown),
-        cmocka_unit_test_setup_teardown(fused_sweep_band_over_threshold_warns, setup, teardown),
-        cmocka_unit_test_setup_teardown(tight_memory_cap_falls_back, setup, teardown),
+        cmocka_unit_test_setup_teardown(fused_2d_partial_block, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(fused_3d_partial_block, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(fused_equals_separate_steps, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(deferred_flights_compose, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(operations_see_the_flown_state, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(fused_bits_do_not_depend_on_threads, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(fused_sweep_measures_momentum_band, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(fused_sweep_band_over_threshold_warns, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(tight_memory_cap_falls_back, pft_context_setup, pft_context_teardown),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

@@ -6,18 +6,6 @@
 #include "pf_internal.h"
 #include "pf_wave.h"
 
-static int setup(void **state)
-{
-    *state = pf_context_new();
-    pf_context_set_planning(*state, PF_PLAN_ESTIMATE);
-    return *state ? 0 : -1;
-}
-
-static int teardown(void **state)
-{
-    pf_context_release(*state);
-    return 0;
-}
 
 static void rejects_bad_shapes(void **state)
 {
@@ -152,12 +140,12 @@ static void grid_outlives_its_handle_while_waves_hold_it(void **state)
 int main(void)
 {
     const struct CMUnitTest tests[] = {
-        cmocka_unit_test_setup_teardown(rejects_bad_shapes, setup, teardown),
-        cmocka_unit_test_setup_teardown(memory_cap_is_checked_before_allocating, setup, teardown),
-        cmocka_unit_test_setup_teardown(coordinates_are_centred_on_the_origin, setup, teardown),
-        cmocka_unit_test_setup_teardown(wave_numbers_follow_fft_order, setup, teardown),
-        cmocka_unit_test_setup_teardown(plans_are_made_once_and_shared, setup, teardown),
-        cmocka_unit_test_setup_teardown(grid_outlives_its_handle_while_waves_hold_it, setup, teardown),
+        cmocka_unit_test_setup_teardown(rejects_bad_shapes, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(memory_cap_is_checked_before_allocating, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(coordinates_are_centred_on_the_origin, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(wave_numbers_follow_fft_order, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(plans_are_made_once_and_shared, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(grid_outlives_its_handle_while_waves_hold_it, pft_context_setup, pft_context_teardown),
     };
     return cmocka_run_group_tests_name("grid", tests, NULL, NULL);
 }

@@ -25,18 +25,6 @@ static uint64_t fnv1a_ref(uint64_t h, const char *s)
 
 static const uint64_t FNV_BASIS = UINT64_C(14695981039346656037);
 
-static int setup(void **state)
-{
-    *state = pf_context_new();
-    pf_context_set_planning(*state, PF_PLAN_ESTIMATE);
-    return *state ? 0 : -1;
-}
-
-static int teardown(void **state)
-{
-    pf_context_release(*state);
-    return 0;
-}
 
 static void reference_vectors(void **state)
 {
@@ -102,7 +90,7 @@ int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(reference_vectors),
-        cmocka_unit_test_setup_teardown(one_note_per_distinct_plan, setup, teardown),
+        cmocka_unit_test_setup_teardown(one_note_per_distinct_plan, pft_context_setup, pft_context_teardown),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

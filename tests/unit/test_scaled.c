@@ -24,18 +24,6 @@
 /* 87Rb atomic mass 86.909180531 u (AME2020, from memory) with u from CODATA 2018. */
 static const double MASS = 86.909180531 * 1.66053906660e-27;
 
-static int setup(void **state)
-{
-    *state = pf_context_new();
-    pf_context_set_planning(*state, PF_PLAN_ESTIMATE);
-    return *state ? 0 : -1;
-}
-
-static int teardown(void **state)
-{
-    pf_context_release(*state);
-    return 0;
-}
 
 typedef struct gauss {
     int dim;
@@ -427,17 +415,17 @@ static void bad_scaled_requests_are_refused(void **state)
 int main(void)
 {
     const struct CMUnitTest tests[] = {
-        cmocka_unit_test_setup_teardown(gaussian_grown_100x_matches_textbook, setup, teardown),
-        cmocka_unit_test_setup_teardown(gaussian_grown_1000x_matches_textbook, setup, teardown),
-        cmocka_unit_test_setup_teardown(gaussian_2d_and_3d_match_textbook, setup, teardown),
-        cmocka_unit_test_setup_teardown(scaled_agrees_with_same_grid, setup, teardown),
-        cmocka_unit_test_setup_teardown(flying_back_restores_the_state, setup, teardown),
-        cmocka_unit_test_setup_teardown(scaled_output_can_be_kicked_and_flown_again, setup, teardown),
-        cmocka_unit_test_setup_teardown(automatic_choice_follows_the_criteria, setup, teardown),
-        cmocka_unit_test_setup_teardown(far_field_converges_at_the_fraunhofer_rate, setup, teardown),
-        cmocka_unit_test_setup_teardown(padding_and_cropping_keep_the_textbook_packet, setup, teardown),
-        cmocka_unit_test_setup_teardown(two_stage_per_axis_spacing_in_2d, setup, teardown),
-        cmocka_unit_test_setup_teardown(bad_scaled_requests_are_refused, setup, teardown),
+        cmocka_unit_test_setup_teardown(gaussian_grown_100x_matches_textbook, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(gaussian_grown_1000x_matches_textbook, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(gaussian_2d_and_3d_match_textbook, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(scaled_agrees_with_same_grid, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(flying_back_restores_the_state, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(scaled_output_can_be_kicked_and_flown_again, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(automatic_choice_follows_the_criteria, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(far_field_converges_at_the_fraunhofer_rate, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(padding_and_cropping_keep_the_textbook_packet, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(two_stage_per_axis_spacing_in_2d, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(bad_scaled_requests_are_refused, pft_context_setup, pft_context_teardown),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

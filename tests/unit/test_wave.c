@@ -7,18 +7,6 @@
 #include "pf_observe.h"
 #include "pf_wave.h"
 
-static int setup(void **state)
-{
-    *state = pf_context_new();
-    pf_context_set_planning(*state, PF_PLAN_ESTIMATE);
-    return *state ? 0 : -1;
-}
-
-static int teardown(void **state)
-{
-    pf_context_release(*state);
-    return 0;
-}
 
 typedef struct gauss1 {
     double sigma, centre, k0;
@@ -179,11 +167,11 @@ static void reductions_do_not_depend_on_threads(void **state)
 int main(void)
 {
     const struct CMUnitTest tests[] = {
-        cmocka_unit_test_setup_teardown(momentum_values_follow_the_physical_convention, setup, teardown),
-        cmocka_unit_test_setup_teardown(building_from_momentum_round_trips, setup, teardown),
-        cmocka_unit_test_setup_teardown(density_orders_and_set_value, setup, teardown),
-        cmocka_unit_test_setup_teardown(copies_are_independent, setup, teardown),
-        cmocka_unit_test_setup_teardown(reductions_do_not_depend_on_threads, setup, teardown),
+        cmocka_unit_test_setup_teardown(momentum_values_follow_the_physical_convention, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(building_from_momentum_round_trips, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(density_orders_and_set_value, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(copies_are_independent, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(reductions_do_not_depend_on_threads, pft_context_setup, pft_context_teardown),
     };
     return cmocka_run_group_tests_name("wave", tests, NULL, NULL);
 }
