@@ -187,7 +187,12 @@ static const char *size_text(size_t bytes, char buf[32])
 /* Under AddressSanitizer every block stays with its allocator, which
  * checks overruns (it cannot see into our mappings) and returns large freed
  * blocks to the system itself after its quarantine. */
-#if defined(__SANITIZE_ADDRESS__)
+#if defined(__has_feature)
+#if __has_feature(address_sanitizer) /* clang's spelling of the same test */
+#define PF_UNDER_ASAN 1
+#endif
+#endif
+#if defined(__SANITIZE_ADDRESS__) || defined(PF_UNDER_ASAN)
 #define MAP_LARGE_BLOCKS 0
 #else
 #define MAP_LARGE_BLOCKS 1
