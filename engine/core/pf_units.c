@@ -125,3 +125,10 @@ int pf_edit_distance(const char *a, const char *b)
     }
     return prev[lb];
 }
+
+int pf_edit_suggestible(const char *typed, int dist)
+{
+    size_t n = strlen(typed);
+    int limit = n <= 3 ? 1 : n <= 6 ? 2 : 3;
+    return dist <= limit && (size_t)dist < n;
+}

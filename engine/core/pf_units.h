@@ -46,5 +46,10 @@ double pf_energy_as_frequency(double joules);
 /* Levenshtein distance between two strings, case-insensitive, for "did you
  * mean" suggestions.  Strings longer than 63 characters count as far away. */
 int pf_edit_distance(const char *a, const char *b);
+/* Whether a name typed at distance dist from a known one is close enough to
+ * suggest it: one edit for names of up to three letters, two up to six,
+ * three beyond, and never a whole rewrite.  Farther matches are more often a
+ * different word than a typo.  One rule for every "did you mean". */
+int pf_edit_suggestible(const char *typed, int dist);
 
 #endif

@@ -35,15 +35,6 @@ static void push_registry_table(lua_State *L, const char *slot, int weak)
     lua_rawsetp(L, LUA_REGISTRYINDEX, slot);
 }
 
-/* How far apart a typo may be from a key and still be suggested: one edit
- * for short keys, two up to six letters, three beyond.  Farther matches are
- * more often a different word than a typo. */
-static int close_enough(const char *typed, int dist)
-{
-    size_t n = strlen(typed);
-    int limit = n <= 3 ? 1 : n <= 6 ? 2 : 3;
-    return dist <= limit && (size_t)dist < n;
-}
 
 /* Pushes "chunk:line: " of the first Lua function at or above level (like
  * luaL_where, but skipping C frames: pf.setup may be reached through a C
@@ -96,7 +87,7 @@ static void unknown_key(lua_State *L, const char *function, const char *const *k
     char shown[80];
     snprintf(shown, sizeof shown, "%.60s%s", key, strlen(key) > 60 ? "..." : "");
     pfl_options_where(L, level);
-    if (near && (best == 0 || close_enough(key, best))) {
+    if (near && (best == 0 || pf_edit_suggestible(key, best))) {
         lua_pushfstring(L, "%s: unknown option '%s' (did you mean '%s'?)", function, shown, near);
     } else {
         luaL_Buffer b;

@@ -4,6 +4,7 @@
 #include <stdarg.h>
 #include <stdlib.h>
 #include <string.h>
+#include "../core/pf_units.h"
 #include "../lua/pfl_suffix.h"
 #include "pfr_exit.h"
 #include "pfr_options.h"
@@ -73,6 +74,30 @@ static int parse_seconds(const char *text, double *out)
 }
 
 static int is_sweep(const char *command) { return strcmp(command, "sweep") == 0; }
+
+/* Every option the parser below accepts, for "did you mean" on a typo
+ * (--overwite -> --overwrite); the sweep-only ones are offered for sweep. */
+static const char *const RUN_OPTIONS[] = {"--set", "--seed", "--threads", "--planning", "--wisdom", "--strict",
+                                          "--data", "--out", "--help", "--trusted", "--quiet", "--overwrite",
+                                          "--time-limit", "--memory-cap", NULL};
+static const char *const SWEEP_OPTIONS[] = {"--vary", "--points", "--jobs", "--rerun", NULL};
+
+/* The accepted option closest to a typed one, when close enough to be a
+ * typo (the engine's one rule, pf_edit_suggestible), else NULL. */
+static const char *nearest_option(const char *typed, int sweep)
+{
+    const char *best = NULL;
+    int best_d = 1 << 30;
+    for (int list = 0; list < (sweep ? 2 : 1); list++)
+        for (const char *const *o = list ? SWEEP_OPTIONS : RUN_OPTIONS; *o; o++) {
+            int d = pf_edit_distance(typed, *o);
+            if (d < best_d) { best_d = d; best = *o; }
+        }
+    /* The leading dashes are shared by every option: judge the name. */
+    const char *name = typed;
+    while (*name == '-') name++;
+    return best && *name && pf_edit_suggestible(name, best_d) ? best : NULL;
+}
 
 int pfr_options_parse(int argc, char **argv, int first, const char *command, pfr_options *o)
 {
@@ -161,7 +186,11 @@ int pfr_options_parse(int argc, char **argv, int first, const char *command, pfr
         } else if (is_sweep(command) && strcmp(a, "--rerun") == 0) {
             o->rerun = 1;
         } else if (a[0] == '-' && a[1]) {
-            return pfr_usage_error("unknown option '%s' for %s", a, command);
+            for (const char *const *o = SWEEP_OPTIONS; !is_sweep(command) && *o; o++)
+                if (strcmp(a, *o) == 0) return pfr_usage_error("'%s' is an option of psiflight sweep, not of %s", a, command);
+            const char *near = nearest_option(a, is_sweep(command));
+            if (near) return pfr_usage_error("unknown option '%s' for %s (did you mean '%s'?)", a, command, near);
+            return pfr_usage_error("unknown option '%s' for %s (see psiflight --help)", a, command);
         } else if (!o->script) {
             o->script = a;
         } else {

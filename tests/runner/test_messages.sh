@@ -28,4 +28,15 @@ local p = pf.parameters{ mode = {default = "fast", help = "how to scan", choices
 LUA
 expect 1 "an empty choices list is refused" -- "$runner" run "$work/empty.lua"
 has "choices is an empty list" "says the list is empty"
+
+# A mistyped runner option names the option it resembles; a sweep-only
+# option given to run says where it belongs; a far-off word gets no guess.
+expect 2 "a mistyped runner option is a usage error" -- "$runner" run "$work/empty.lua" --overwite
+has "unknown option '--overwite' for run (did you mean '--overwrite'?)" "suggests --overwrite"
+expect 2 "a mistyped sweep option is a usage error" -- "$runner" sweep "$work/empty.lua" --out "$work/sw" --rerum
+has "(did you mean '--rerun'?)" "suggests --rerun for sweep"
+expect 2 "a sweep option given to run is a usage error" -- "$runner" run "$work/empty.lua" --vary a=1,2
+has "'--vary' is an option of psiflight sweep, not of run" "says --vary belongs to sweep"
+expect 2 "an unrelated option is a usage error" -- "$runner" run "$work/empty.lua" --zzzzzzzz
+has "unknown option '--zzzzzzzz' for run (see psiflight --help)" "no suggestion for an unrelated word"
 done_checks
