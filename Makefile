@@ -86,20 +86,28 @@ build: all
 deps:
 	@bash scripts/install-deps.sh
 
-$(BUILD)/engine/core/%.o: engine/core/%.c $(wildcard engine/core/*.h)
+# Before the first compile: every pkg-config module the build needs, or one
+# message naming the Debian packages and `make deps` (not a missing header).
+BUILD_ENV := $(BUILD)/.build-env-ok
+$(BUILD_ENV): scripts/check-build-env.sh
+	@bash scripts/check-build-env.sh $(LUA_PC)=liblua5.4-dev $(FFTW_PC)=libfftw3-dev hdf5-serial=libhdf5-dev \
+	  plplot=libplplot-dev $(CJSON_PC)=libcjson-dev
+	@mkdir -p $(dir $@) && touch $@
+
+$(BUILD)/engine/core/%.o: engine/core/%.c $(wildcard engine/core/*.h) | $(BUILD_ENV)
 	@mkdir -p $(dir $@)
 	$(CC) $(ALL_CFLAGS) $(FFTW_CFLAGS) -c $< -o $@
 
-$(BUILD)/engine/io/%.o: engine/io/%.c $(wildcard engine/io/*.h engine/core/*.h)
+$(BUILD)/engine/io/%.o: engine/io/%.c $(wildcard engine/io/*.h engine/core/*.h) | $(BUILD_ENV)
 	@mkdir -p $(dir $@)
 	$(CC) $(ALL_CFLAGS) $(IO_CFLAGS) $(FFTW_CFLAGS) -c $< -o $@
 
 # The core must not see Lua: it is compiled without the Lua include path.
-$(BUILD)/engine/lua/%.o: engine/lua/%.c $(wildcard engine/lua/*.h engine/core/*.h engine/io/*.h)
+$(BUILD)/engine/lua/%.o: engine/lua/%.c $(wildcard engine/lua/*.h engine/core/*.h engine/io/*.h) | $(BUILD_ENV)
 	@mkdir -p $(dir $@)
 	$(CC) $(ALL_CFLAGS) $(LUA_CFLAGS) $(FFTW_CFLAGS) -c $< -o $@
 
-$(BUILD)/engine/runner/%.o: engine/runner/%.c $(wildcard engine/runner/*.h engine/lua/*.h engine/core/*.h engine/io/*.h)
+$(BUILD)/engine/runner/%.o: engine/runner/%.c $(wildcard engine/runner/*.h engine/lua/*.h engine/core/*.h engine/io/*.h) | $(BUILD_ENV)
 	@mkdir -p $(dir $@)
 	$(CC) $(ALL_CFLAGS) $(LUA_CFLAGS) $(CJSON_CFLAGS) $(MPI_CFLAGS) -c $< -o $@
 
@@ -128,7 +136,13 @@ $(RUNNER): $(RUNNER_OBJ) $(LUA_OBJ) $(IO_LIB) $(CORE_LIB)
 $(MODULE): $(LUA_OBJ) $(IO_LIB) $(CORE_LIB)
 	$(CC) -shared -o $@ $(LUA_OBJ) $(IO_LIB) $(CORE_LIB) $(IO_LIBS) $(CORE_LIBS)
 
-$(BUILD)/tests/unit/%.o: tests/unit/%.c $(wildcard tests/unit/*.h engine/core/*.h engine/io/*.h)
+# The unit tests also need cmocka and the reference libraries.
+TEST_ENV := $(BUILD)/.test-env-ok
+$(TEST_ENV): scripts/check-build-env.sh | $(BUILD_ENV)
+	@bash scripts/check-build-env.sh $(CMOCKA_PC)=libcmocka-dev gsl=libgsl-dev libcerf=libcerf-dev
+	@mkdir -p $(dir $@) && touch $@
+
+$(BUILD)/tests/unit/%.o: tests/unit/%.c $(wildcard tests/unit/*.h engine/core/*.h engine/io/*.h) | $(TEST_ENV)
 	@mkdir -p $(dir $@)
 	$(CC) $(ALL_CFLAGS) $(FFTW_CFLAGS) $(IO_CFLAGS) $(CMOCKA_CFLAGS) $(TEST_CFLAGS) -Iengine/core -c $< -o $@
 
