@@ -125,3 +125,12 @@ int pfl_value_parse(const char *text, double *number, const pfl_unit **unit, cha
     *unit = u;
     return 0;
 }
+
+const char *pfl_unit_si_name(const char *quantity)
+{
+    for (size_t i = 0; pfl_unit_at(i); i++) {
+        const pfl_unit *u = pfl_unit_at(i);
+        if (strcmp(u->quantity, quantity) == 0 && u->si == 1.0) return u->name;
+    }
+    return NULL;
+}

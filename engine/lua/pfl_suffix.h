@@ -16,6 +16,9 @@ typedef struct pfl_unit {
 
 /* The unit with this exact suffix, or NULL. */
 const pfl_unit *pfl_unit_find(const char *name);
+/* The SI unit's suffix of a quantity (the table's entry worth 1 SI unit:
+ * "s" for time, "m" for length), or NULL for an unknown quantity. */
+const char *pfl_unit_si_name(const char *quantity);
 /* i-th entry of the table (0-based), NULL past the end: for listings. */
 const pfl_unit *pfl_unit_at(size_t i);
 /* Writes the suffixes of one quantity, comma-separated, into buf. */

@@ -186,8 +186,8 @@ int pfr_options_parse(int argc, char **argv, int first, const char *command, pfr
         } else if (is_sweep(command) && strcmp(a, "--rerun") == 0) {
             o->rerun = 1;
         } else if (a[0] == '-' && a[1]) {
-            for (const char *const *o = SWEEP_OPTIONS; !is_sweep(command) && *o; o++)
-                if (strcmp(a, *o) == 0) return pfr_usage_error("'%s' is an option of psiflight sweep, not of %s", a, command);
+            for (const char *const *opt = SWEEP_OPTIONS; !is_sweep(command) && *opt; opt++)
+                if (strcmp(a, *opt) == 0) return pfr_usage_error("'%s' is an option of psiflight sweep, not of %s", a, command);
             const char *near = nearest_option(a, is_sweep(command));
             if (near) return pfr_usage_error("unknown option '%s' for %s (did you mean '%s'?)", a, command, near);
             return pfr_usage_error("unknown option '%s' for %s (see psiflight --help)", a, command);

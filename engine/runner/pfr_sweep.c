@@ -292,6 +292,23 @@ static void put_cell(FILE *f, const char *text, int first)
     fputc('"', f);
 }
 
+/* The quantity every value of varied column k was typed in ("4ms", "6ms":
+ * time), when all of them carry a unit of one quantity; else NULL, and the
+ * column keeps the values as typed (plain numbers, words). */
+static const char *column_quantity(const sweep *s, int k)
+{
+    const char *quantity = NULL;
+    for (size_t i = 0; i < s->plan.npoints; i++) {
+        double v;
+        const pfl_unit *u;
+        char err[160];
+        if (pfl_value_parse(pfr_plan_value(&s->plan, i, k), &v, &u, err, sizeof err) != 0 || !u) return NULL;
+        if (quantity && strcmp(quantity, u->quantity) != 0) return NULL;
+        quantity = u->quantity;
+    }
+    return quantity && pfl_unit_si_name(quantity) ? quantity : NULL;
+}
+
 static int compare_strings(const void *a, const void *b) { return strcmp(*(char *const *)a, *(char *const *)b); }
 
 /* Writes DIR/sweep.csv from the manifests: one row per point in point order;
@@ -344,7 +361,16 @@ static int write_table(const sweep *s)
     int rc = f ? 0 : -1;
     if (f) {
         put_cell(f, "point", 1);
-        for (int k = 0; k < s->plan.nnames; k++) put_cell(f, s->plan.names[k], 0);
+        /* Varied values typed with units are written as numbers in SI, the
+         * unit in the header, like every other number column. */
+        const char **quantity = calloc((size_t)s->plan.nnames + 1, sizeof *quantity);
+        for (int k = 0; k < s->plan.nnames; k++) {
+            quantity[k] = column_quantity(s, k);
+            char head[512];
+            if (quantity && quantity[k]) snprintf(head, sizeof head, "%s [%s]", s->plan.names[k], pfl_unit_si_name(quantity[k]));
+            else snprintf(head, sizeof head, "%s", s->plan.names[k]);
+            put_cell(f, head, 0);
+        }
         put_cell(f, "seed", 0);
         put_cell(f, "status", 0);
         put_cell(f, "exit_code", 0);
@@ -362,7 +388,18 @@ static int write_table(const sweep *s)
             char cell[64];
             snprintf(cell, sizeof cell, "%zu", i);
             put_cell(f, cell, 1);
-            for (int k = 0; k < s->plan.nnames; k++) put_cell(f, pfr_plan_value(&s->plan, i, k), 0);
+            for (int k = 0; k < s->plan.nnames; k++) {
+                const char *typed = pfr_plan_value(&s->plan, i, k);
+                double v;
+                const pfl_unit *u;
+                char err[160];
+                if (quantity && quantity[k] && pfl_value_parse(typed, &v, &u, err, sizeof err) == 0 && u) {
+                    snprintf(cell, sizeof cell, "%.17g", v * u->si);
+                    put_cell(f, cell, 0);
+                } else {
+                    put_cell(f, typed, 0);
+                }
+            }
             snprintf(cell, sizeof cell, "%llu", pfr_point_seed(s->base_seed, i));
             put_cell(f, cell, 0);
             put_cell(f, s->status[i] == 0 ? "ok" : "failed", 0);
@@ -379,6 +416,7 @@ static int write_table(const sweep *s)
             }
             fputc('\n', f);
         }
+        free(quantity);
         if (fflush(f) != 0 || ferror(f) || fsync(fileno(f)) != 0) rc = -1;
         if (fclose(f) != 0) rc = -1;
         if (rc == 0 && rename(tmp, path) != 0) rc = -1;

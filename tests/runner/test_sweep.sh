@@ -24,13 +24,13 @@ PY
 }
 # splitmix64's first output from state 0 is 0xe220a8397b1dcdaf (value from
 # memory of the reference implementation's output); our seed keeps 53 bits.
-[ "$(seed_of 0 0)" = "$((0xe220a8397b1dcdaf >> 11 & (1 << 53) - 1))" ] && ok "Python splitmix64 reproduces the known first output"
+[ "$(seed_of 0 0)" = "$((0xe220a8397b1dcdaf >> 11 & (1 << 53) - 1))" ] && ok "Python splitmix64 reproduces the known first output" || fail "Python splitmix64 reproduces the known first output"
 
 cat >"$work/digest.lua" <<'LUA'
 print((require "psiflight").script.sha256)
 LUA
 expect 0 "script digest" -- "$runner" run "$work/digest.lua"
-[ "$out" = "$(sha256sum "$work/digest.lua" | cut -d' ' -f1)" ] && ok "pf.script.sha256 equals sha256sum"
+[ "$out" = "$(sha256sum "$work/digest.lua" | cut -d' ' -f1)" ] && ok "pf.script.sha256 equals sha256sum" || fail "pf.script.sha256 equals sha256sum"
 # Lengths around the 64-byte block and the 56-byte padding boundary, and a
 # multi-block file (FIPS 180-4 padding cases).
 base=$(wc -c <"$work/digest.lua")
@@ -44,17 +44,18 @@ ok "pf.script.sha256 equals sha256sum for 55..5000-byte scripts"
 
 expect 0 "2D sweep of 12 points with -j 2" -- "$runner" sweep "$point" "${vary[@]}" --seed 7 -j 2 --out "$work/A"
 tableA="$work/A/sweep.csv"
-[ "$(wc -l <"$tableA")" -eq 13 ] && ok "the table has a header and 12 rows"
-head -1 "$tableA" | grep -q '^point,width,tof,seed,status,exit_code,final_width \[m\],seed_low_digits$' && ok "table header"
+cp "$tableA" "$work/table_seed7.csv" # folder A is reused with another seed below
+[ "$(wc -l <"$tableA")" -eq 13 ] && ok "the table has a header and 12 rows" || fail "the table has a header and 12 rows"
+head -1 "$tableA" | grep -q '^point,width \[m\],tof \[s\],seed,status,exit_code,final_width \[m\],seed_low_digits$' && ok "table header: varied values in SI, unit in the header" || fail "table header: $(head -1 "$tableA")"
 for i in 0 5 11; do
   row=$(sed -n "$((i + 2))p" "$tableA")
   [ "$(echo "$row" | cut -d, -f4)" = "$(seed_of 7 $i)" ] || fail "point $i seed: $row"
 done
 ok "point seeds follow splitmix64 of the base seed (points 0, 5, 11)"
-[ "$(sed -n 2p "$tableA" | cut -d, -f2,3)" = "1um,0.5ms" ] && [ "$(sed -n 13p "$tableA" | cut -d, -f2,3)" = "3um,2ms" ] \
-  && ok "first --vary slowest, ranges include both ends"
+[ "$(sed -n 2p "$tableA" | cut -d, -f2,3)" = "9.9999999999999995e-07,0.00050000000000000001" ] && [ "$(sed -n 13p "$tableA" | cut -d, -f2,3)" = "3.0000000000000001e-06,0.002" ] \
+  && ok "first --vary slowest, ranges include both ends" || fail "first --vary slowest, ranges include both ends"
 # Textbook free-Gaussian width sigma(t) = sigma0 sqrt(1 + (hbar t / 2 m sigma0^2)^2) for point 11.
-/usr/bin/python3 - "$(sed -n 13p "$tableA" | cut -d, -f7)" <<'PY' && ok "point 11 width matches the free-Gaussian law to 1e-9"
+/usr/bin/python3 - "$(sed -n 13p "$tableA" | cut -d, -f7)" <<'PY' && ok "point 11 width matches the free-Gaussian law to 1e-9" || fail "point 11 width matches the free-Gaussian law to 1e-9"
 import sys, math
 hbar = 6.62607015e-34 / (2 * math.pi)          # CODATA 2018, exact h
 m = 22.9897692820 * 1.66053906660e-27          # 23Na, AME2020 (from memory); CODATA 2018 u
@@ -76,7 +77,7 @@ for w in 1um 1.66666666666667um 2.33333333333333um 3um; do
 done
 expect 0 "sweep over the one-by-one results" -- "$runner" sweep "$point" "${vary[@]}" --seed 7 -j 2 --out "$work/B"
 has "12 points resumed" "all 12 points were taken from their manifests"
-cmp -s "$tableA" "$work/B/sweep.csv" && ok "table identical to running the points one by one"
+cmp -s "$tableA" "$work/B/sweep.csv" && ok "table identical to running the points one by one" || fail "table identical to running the points one by one"
 
 if command -v mpirun >/dev/null && ldd "$runner" | grep -q libmpi; then
   export OMPI_ALLOW_RUN_AS_ROOT=1 OMPI_ALLOW_RUN_AS_ROOT_CONFIRM=1 OMPI_MCA_mpi_warn_on_fork=0
@@ -84,8 +85,8 @@ if command -v mpirun >/dev/null && ldd "$runner" | grep -q libmpi; then
   # (none of them in psiflight code); leak checking is off for this command.
   expect 0 "mpirun -n 2 sweep" -- env ASAN_OPTIONS="${ASAN_OPTIONS:+$ASAN_OPTIONS:}detect_leaks=0" timeout 120 mpirun -n 2 --oversubscribe "$runner" sweep "$point" "${vary[@]}" \
     --seed 7 --out "$work/C"
-  cmp -s "$tableA" "$work/C/sweep.csv" && ok "table identical under mpirun -n 2"
-  [ "$(ls "$work"/C/point-*/manifest.json | wc -l)" -eq 12 ] && ok "every point ran once under MPI"
+  cmp -s "$tableA" "$work/C/sweep.csv" && ok "table identical under mpirun -n 2" || fail "table identical under mpirun -n 2"
+  [ "$(ls "$work"/C/point-*/manifest.json | wc -l)" -eq 12 ] && ok "every point ran once under MPI" || fail "every point ran once under MPI"
 else
   echo "note: runner built without MPI (or no mpirun): MPI sweep not tested"
 fi
@@ -103,10 +104,10 @@ kill -KILL -- -"$pid" 2>/dev/null || true
 wait "$pid" 2>/dev/null || true
 done_before=$(ls "$work"/D/point-*/manifest.json 2>/dev/null | wc -l)
 [ "$done_before" -ge 4 ] && [ "$done_before" -lt 12 ] && [ ! -e "$work/D/sweep.csv" ] \
-  && ok "killed half way ($done_before of 12 points done, no table)"
+  && ok "killed half way ($done_before of 12 points done, no table)" || fail "killed half way ($done_before of 12 points done, no table)"
 expect 0 "resumed sweep" -- "$runner" sweep "$point" "${vary[@]}" --seed 7 -j 2 --set dwell=0.1 --out "$work/D"
 has "$done_before points resumed" "the finished points were skipped"
-cmp -s "$tableA" "$work/D/sweep.csv" && ok "resumed sweep gives the same table"
+cmp -s "$tableA" "$work/D/sweep.csv" && ok "resumed sweep gives the same table" || fail "resumed sweep gives the same table"
 # SIGTERM to the sweep alone (as a batch system sends it): the running points
 # are stopped too, and the sweep says how to resume.
 "$runner" sweep "$point" "${vary[@]}" --seed 7 -j 2 --set dwell=0.3 --out "$work/H" >"$work/H.log" 2>&1 &
@@ -118,11 +119,11 @@ done
 kill -TERM "$pid"
 set +e; wait "$pid"; rc=$?; set -e
 [ "$rc" -eq 143 ] && ok "a terminated sweep exits 128 + SIGTERM" || fail "terminated sweep exit $rc: $(cat "$work/H.log")"
-grep -q "run the same command again to resume" "$work/H.log" && ok "it says how to resume"
+grep -q "run the same command again to resume" "$work/H.log" && ok "it says how to resume" || fail "it says how to resume"
 n1=$(ls "$work"/H/point-*/manifest.json | wc -l); sleep 1; n2=$(ls "$work"/H/point-*/manifest.json | wc -l)
-[ "$n1" -eq "$n2" ] && [ "$n1" -lt 12 ] && ok "no point kept running after the sweep stopped ($n1 done)"
+[ "$n1" -eq "$n2" ] && [ "$n1" -lt 12 ] && ok "no point kept running after the sweep stopped ($n1 done)" || fail "no point kept running after the sweep stopped ($n1 done)"
 expect 0 "resumed after SIGTERM" -- "$runner" sweep "$point" "${vary[@]}" --seed 7 -j 2 --set dwell=0.3 --out "$work/H"
-cmp -s "$tableA" "$work/H/sweep.csv" && ok "same table after SIGTERM and resume"
+cmp -s "$tableA" "$work/H/sweep.csv" && ok "same table after SIGTERM and resume" || fail "same table after SIGTERM and resume"
 expect 0 "a changed seed reruns every point" -- "$runner" sweep "$point" "${vary[@]}" --seed 8 -j 2 --out "$work/A"
 case "$err" in *resumed*) fail "points resumed despite a new seed";; *) ok "no point resumed";; esac
 
@@ -130,11 +131,12 @@ expect 6 "a failing point gives exit 6" -- "$runner" sweep "$point" --vary width
   -j 2 --out "$work/E"
 has "point 1 failed with exit 1" "the failing point is reported"
 has "point asked to fail" "with its error"
-[ "$(cut -d, -f4 "$work/E/sweep.csv" | tr '\n' ' ')" = "status ok failed ok " ] && ok "the other points ran"
+[ "$(cut -d, -f4 "$work/E/sweep.csv" | tr '\n' ' ')" = "status ok failed ok " ] && ok "the other points ran" || fail "the other points ran"
 
 printf 'width,tof\n# a comment\n1um,0.5ms\n1um, 1ms\n1um,2ms\n' >"$work/points.csv"
 expect 0 "points from a CSV file" -- "$runner" sweep "$point" --points "$work/points.csv" --seed 7 --out "$work/F"
-[ "$(head -4 "$work/F/sweep.csv")" = "$(head -4 "$tableA")" ] && ok "CSV points give the same rows"
+[ "$(head -4 "$work/F/sweep.csv")" = "$(head -4 "$work/table_seed7.csv")" ] && ok "CSV points give the same rows" ||
+  fail "CSV points give the same rows: $(head -4 "$work/F/sweep.csv") against $(head -4 "$work/table_seed7.csv")"
 
 # A module the script requires is part of what a point computed: the
 # manifest records its digest (checked against coreutils sha256sum) and a
