@@ -76,6 +76,17 @@ for _, tms in ipairs(times) do
 end
 print(string.format("largest relative deviation from the textbook width law: %.1e", worst))
 print(string.format("norm after %.2f ms of flight: %.15f", flown * 1e3, cloud:norm()))
+-- Position-momentum covariance: zero in the trap, then <dp^2> t / m in free
+-- flight (free-particle moment equations).  On a copy, so the cloud's own
+-- data (and every output below) stay as they were.
+do
+  local probe = cloud:copy()
+  local cxx = probe:position_momentum_covariance()[1][1]
+  local vpx = probe:momentum_variance()
+  print(string.format("covariance C_xx after %.2f ms: %.6e kg m^2/s (free flight from rest: %.6e)",
+    flown * 1e3, cxx, vpx * flown / pf.mass("39K")))
+  probe:close()
+end
 
 -- ---- outputs ------------------------------------------------------------
 local final_wx, final_wy = cloud:position_width()

@@ -175,65 +175,136 @@ pf_status pf_wave_flux(pf_wave *w, int axis, double at, double *flux)
     return PF_OK;
 }
 
+/* Lines of one block of pf_wave_beyond share one partial sum; the block
+ * size is fixed, so the order of additions (and the rounding) does not
+ * depend on the thread count. */
+#define BEYOND_BLOCK_LINES ((size_t)64)
+
+/* The padded plans of one axis: single-threaded (each block of lines runs
+ * on one thread) and FFTW_ESTIMATE whatever the planning mode, so the same
+ * grid gives the same bits in every run; they are small 1D transforms. */
+static pf_status beyond_plans(pf_grid *g, int axis, size_t len)
+{
+    pf_context *ctx = g->ctx;
+    if (g->beyond[axis].bwd && g->beyond[axis].len == len) return PF_OK;
+    size_t bytes = pf_bytes(len, sizeof(double complex));
+    double complex *scratch = pf_alloc(ctx, bytes);
+    if (!scratch) return pf_context_status(ctx);
+    pf_context_prepare_planner(ctx);
+    fftw_plan_with_nthreads(1);
+    fftw_plan bwd = fftw_plan_dft_1d((int)len, scratch, scratch, FFTW_BACKWARD, FFTW_ESTIMATE);
+    fftw_plan fwd = fftw_plan_dft_1d((int)len, scratch, scratch, FFTW_FORWARD, FFTW_ESTIMATE);
+    fftw_plan_with_nthreads(ctx->threads);
+    pf_free(ctx, scratch, bytes);
+    if (!bwd || !fwd) {
+        if (bwd) fftw_destroy_plan(bwd);
+        if (fwd) fftw_destroy_plan(fwd);
+        return pf_fail(ctx, PF_EFFT, "FFTW could not plan the %zu-point transform of a plane probability", len);
+    }
+    g->beyond[axis].bwd = bwd;
+    g->beyond[axis].fwd = fwd;
+    g->beyond[axis].len = len;
+    fftw_plan pair[2] = {bwd, fwd};
+    return pf_context_note_plans(ctx, "beyond", g, pair, 2);
+}
+
 pf_status pf_wave_beyond(pf_wave *w, int axis, double at, double *probability)
 {
     pf_grid *g = w->grid;
     pf_status s = check_plane(g, axis, at);
     if (s) return s;
     size_t na = g->n[axis];
-    double cost = (double)na * (double)na * (double)(g->total / na);
-    if (cost > 2e10)
-        return pf_fail(g->ctx, PF_ELIMIT, "probability beyond a plane on this grid needs %.3g operations; use a region "
-                       "probability (half-space) instead", cost);
+    /* |psi|^2 of the interpolant along the axis is a trigonometric
+     * polynomial with integer modes D = -(L-1)..(L-1), L = na (+1 on an even
+     * axis, whose Nyquist amplitude is split between -na/2 and +na/2).  Its
+     * coefficients C[D] = sum conj(a_m) a_{m+D} are the autocorrelation of
+     * the amplitudes: sampled on M >= 2L - 1 points the interpolant (a
+     * zero-padded inverse FFT) squared and transformed forward gives M C[D]
+     * without aliasing.  The transverse integral is a weighted sum over
+     * transverse modes (Parseval), and summing the squared samples over the
+     * lines first leaves one forward transform: cost O(N log N) in all. */
+    int even = na % 2 == 0;
+    size_t L = na + (even ? 1 : 0);
+    size_t M = 2 * L;
+    s = beyond_plans(g, axis, M);
+    if (s) return s;
     s = pf_wave_to(w, PF_MOMENTUM);
     if (s) return s;
     size_t inner = 1, outer = 1;
     for (int a = 0; a < axis; a++) outer *= g->n[a];
     for (int a = axis + 1; a < g->dim; a++) inner *= g->n[a];
-    /* C[D] = sum over transverse modes and m of conj(a_m) a_{m+D}, with the
-     * modes in ascending (integer) order; an even axis has L = na + 1 modes,
-     * the Nyquist amplitude halved at -na/2 and +na/2.  D = -(L-1)..(L-1)
-     * is stored at D + L - 1. */
-    int even = na % 2 == 0;
-    size_t L = na + (even ? 1 : 0);
-    size_t nc = 2 * L - 1;
-    double complex *C = pf_calloc(g->ctx, nc + L, sizeof(double complex));
-    if (!C) return pf_context_status(g->ctx);
-    double complex *a = C + nc;
+    size_t lines = outer * inner;
+    size_t blocks = (lines + BEYOND_BLOCK_LINES - 1) / BEYOND_BLOCK_LINES;
+    /* Per block: a padded line buffer (M complex) and a partial sum of the
+     * squared samples (M doubles); plus the padded position of each mode. */
+    size_t per = M * (sizeof(double complex) + sizeof(double));
+    size_t bytes = pf_bytes(blocks, per);
+    /* An overflowing size is 0, which pf_alloc refuses as PF_ELIMIT. */
+    if (bytes) bytes = bytes + na * sizeof(size_t) > bytes ? bytes + na * sizeof(size_t) : 0;
+    unsigned char *mem = pf_alloc(g->ctx, bytes);
+    if (!mem) return pf_context_status(g->ctx);
     double *tw = transverse_weights(g, axis);
     if (!tw) {
-        pf_context_free(g->ctx, C);
+        pf_context_free(g->ctx, mem);
         return pf_context_status(g->ctx);
     }
-    for (size_t o = 0; o < outer; o++) {
-        for (size_t i = 0; i < inner; i++) {
-            double lw = tw[o * inner + i];
-            for (size_t m = 0; m < na; m++) a[pf_grid_ascending_index(g, axis, m)] = w->store[(o * na + m) * inner + i];
+    double complex *bufs = (double complex *)mem;            /* blocks x M, FFTW-aligned */
+    double *part = (double *)(mem + blocks * M * sizeof(double complex));
+    size_t *slot = (size_t *)(mem + blocks * per);
+    size_t nyq = even ? na / 2 : (size_t)-1;
+    double kstep = pf_grid_kspacing(g, axis);
+    for (size_t m = 0; m < na; m++) {
+        long mode = lround(g->k[axis][m] / kstep);
+        slot[m] = (size_t)((mode % (long)M + (long)M) % (long)M);
+    }
+    const double complex *S = w->store;
+    fftw_plan bwd = g->beyond[axis].bwd, fwd = g->beyond[axis].fwd;
+    ptrdiff_t nb = (ptrdiff_t)blocks;
+#pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
+    for (ptrdiff_t blk = 0; blk < nb; blk++) {
+        double complex *buf = bufs + (size_t)blk * M;
+        double *acc = part + (size_t)blk * M;
+        for (size_t j = 0; j < M; j++) acc[j] = 0;
+        size_t l0 = (size_t)blk * BEYOND_BLOCK_LINES, l1 = l0 + BEYOND_BLOCK_LINES;
+        if (l1 > lines) l1 = lines;
+        for (size_t l = l0; l < l1; l++) {
+            size_t o = l / inner, i = l % inner;
+            const double complex *base = S + o * na * inner + i;
+            for (size_t j = 0; j < M; j++) buf[j] = 0;
+            for (size_t m = 0; m < na; m++) buf[slot[m]] = base[m * inner];
             if (even) {
-                a[0] *= 0.5;
-                a[na] = a[0];
+                /* The split partner of mode +-na/2 sits at the opposite slot. */
+                double complex half = 0.5 * base[nyq * inner];
+                buf[slot[nyq]] = half;
+                buf[M - slot[nyq]] = half;
             }
-            for (size_t m = 0; m < L; m++) {
-                double complex cm = conj(a[m]);
-                if (cm == 0) continue;
-                for (size_t m2 = 0; m2 < L; m2++) C[m2 + L - 1 - m] += lw * cm * a[m2];
-            }
+            fftw_execute_dft(bwd, buf, buf);
+            double lw = tw[l];
+            for (size_t j = 0; j < M; j++) acc[j] += lw * (creal(buf[j]) * creal(buf[j]) + cimag(buf[j]) * cimag(buf[j]));
         }
     }
+    /* Partials in block order, then one forward transform: buf = M C[D]. */
+    double complex *C = bufs;
+    for (size_t j = 0; j < M; j++) {
+        double t = 0;
+        for (size_t b = 0; b < blocks; b++) t += part[b * M + j];
+        C[j] = t;
+    }
+    fftw_execute_dft(fwd, C, C);
     /* P = A_perp sum_D C[D] integral_at^b exp(i q_D (x - x0)) dx,
      * b = x0 + span - dx/2, so exp(i q_D (b - x0)) = exp(-i q_D dx / 2). */
     double x0 = g->x[axis][0], dx = g->dx[axis], span = g->span[axis];
     double b = x0 + span - 0.5 * dx, u = (at - x0) / span;
-    double complex sum = C[L - 1] * (b - at);
-    for (size_t j = 0; j < nc; j++) {
-        double D = (double)j - (double)(L - 1);
+    double complex sum = C[0] / (double)M * (b - at);
+    for (long D = -(long)(L - 1); D <= (long)(L - 1); D++) {
         if (D == 0) continue;
-        double q = PF_TWO_PI * D / span;
-        double complex eb = cexp(-I * PF_PI * D / (double)na);
-        double complex ea = cexp(I * PF_TWO_PI * fmod(D * u, 1.0));
-        sum += C[j] * (eb - ea) / (I * q);
+        double complex c = C[(size_t)((D + (long)M) % (long)M)] / (double)M;
+        double q = PF_TWO_PI * (double)D / span;
+        double complex eb = cexp(-I * PF_PI * (double)D / (double)na);
+        double complex ea = cexp(I * PF_TWO_PI * fmod((double)D * u, 1.0));
+        sum += c * (eb - ea) / (I * q);
     }
-    pf_context_free(g->ctx, C);
+    pf_context_free(g->ctx, mem);
     pf_context_free(g->ctx, tw);
     /* |psi|^2 transverse integral: prod spans; storage S needs no other factor. */
     double area = 1;

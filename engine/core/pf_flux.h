@@ -24,8 +24,11 @@ pf_status pf_wave_current(pf_wave *w, int axis, double *out);
  * J = (hbar/m) integral Im(conj(psi) d psi/dx_axis) dA.  Positive along +axis.
  * Leaves the wave in momentum representation. */
 pf_status pf_wave_flux(pf_wave *w, int axis, double at, double *flux);
-/* Probability in at <= x_axis < far cell edge (band-limited integral; cost
- * grows as n_axis^2 times the transverse point count). */
+/* Probability in at <= x_axis < far cell edge (band-limited integral, exact
+ * through the autocorrelation of the amplitudes along the axis, made with
+ * zero-padded FFTs: cost O(N log N), whatever representation the wave is in;
+ * leaves the wave in momentum representation; the same bits on any thread
+ * count). */
 pf_status pf_wave_beyond(pf_wave *w, int axis, double at, double *probability);
 /* Flux through the plane at the times t_k = clock + start + k dt,
  * k = 0..count-1, into flux[k].  The wave itself is not changed: a copy is

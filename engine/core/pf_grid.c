@@ -52,6 +52,8 @@ static void grid_destroy(pf_grid *g)
     if (g->backward) fftw_destroy_plan(g->backward);
     pf_fused_release(g);
     for (int a = 0; a < PF_MAX_DIM; a++) {
+        if (g->beyond[a].bwd) fftw_destroy_plan(g->beyond[a].bwd);
+        if (g->beyond[a].fwd) fftw_destroy_plan(g->beyond[a].fwd);
         pf_context_free(ctx, g->x[a]);
         pf_context_free(ctx, g->k[a]);
         pf_context_free(ctx, g->kfactor[a]);

@@ -84,6 +84,12 @@ struct pf_grid {
     pf_flight_tables flight;
     pf_fused_plans fused;
     double *reduce_part;              /* partial sums of pf_reduce_axis_moments, reserved with the grid */
+    /* Zero-padded 1D plans of pf_wave_beyond per axis (len = 2 (n + 1) or
+     * 2 n points), made at its first use on that axis (pf_flux.c). */
+    struct {
+        size_t len;
+        fftw_plan bwd, fwd;
+    } beyond[PF_MAX_DIM];
 };
 
 /* Grid-guard bookkeeping of one wave function (pf_guard.c).  Index r is the

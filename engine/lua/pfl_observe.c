@@ -2,6 +2,7 @@
  * returned as multiple values (x, y, z), in SI units. */
 #include <math.h>
 #include "../core/pf_constants.h"
+#include "../core/pf_covariance.h"
 #include "../core/pf_observe.h"
 #include "pfl.h"
 
@@ -54,6 +55,26 @@ static int l_kinetic_energy(lua_State *L)
     return 1;
 }
 
+/* w:position_momentum_covariance() -> {{C11, C12, ..}, {C21, ..}, ..}:
+ * row a = position axis, column b = momentum axis, m kg m/s. */
+static int l_position_momentum_covariance(lua_State *L)
+{
+    pf_wave *w = pfl_check_wave(L, 1);
+    int d = pf_grid_dim(pf_wave_grid(w));
+    double cov[PF_MAX_DIM * PF_MAX_DIM];
+    pfl_check(L, pf_wave_position_momentum_covariance(w, cov), "position_momentum_covariance");
+    lua_createtable(L, d, 0);
+    for (int a = 0; a < d; a++) {
+        lua_createtable(L, d, 0);
+        for (int b = 0; b < d; b++) {
+            lua_pushnumber(L, cov[a * d + b]);
+            lua_rawseti(L, -2, b + 1);
+        }
+        lua_rawseti(L, -2, a + 1);
+    }
+    return 1;
+}
+
 void pfl_open_observe(lua_State *L, int mod)
 {
     (void)mod;
@@ -69,6 +90,7 @@ void pfl_open_observe(lua_State *L, int mod)
         {"wavenumber_width", l_wavenumber_width},
         {"velocity_mean", l_velocity_mean},
         {"kinetic_energy", l_kinetic_energy},
+        {"position_momentum_covariance", l_position_momentum_covariance},
         {NULL, NULL},
     };
     pfl_add_wave_methods(L, methods);
