@@ -19,7 +19,7 @@
 
 #include "pf_context.h"
 
-/* Olshanii's constant C = -zeta(1/2) = 1.4603.../sqrt(2) = 1.0326 (PRL 81, 938). */
+/* Olshanii's constant C = -zeta(1/2) / sqrt(2) = 1.4603 / sqrt(2) = 1.0326 (PRL 81, 938). */
 #define PF_OLSHANII_C 1.0326
 
 typedef struct pf_coupling_spec {
