@@ -33,6 +33,7 @@ static const pfl_opener openers[] = {
     pfl_open_detector,
     pfl_open_ops,
     pfl_open_evolve,
+    pfl_open_lab,
 };
 
 int luaopen_psiflight(lua_State *L)
