@@ -97,4 +97,26 @@ expect 5 "big.h5 over a 2 MiB cap is a limit" -- load big.h5 --memory-cap 2MiB
 has "load_file.lua:$line: load_wave: file 'big.h5' needs" "the child's cap message reaches the script error"
 grep -Eq '"status":[[:space:]]*"failed"' "$outdir/manifest.json" || fail "big.h5: no manifest recording the failure"
 ok "big.h5: manifest with status failed"
+# A stop request while the parent waits for the child: SIGTERM during a
+# loop of loads ends the run promptly with its manifest (the parent kills
+# the child, or the stop lands between loads), and no reader is left behind.
+cat >loop.lua <<'LUA'
+local pf = require "psiflight"
+for i = 1, 100000 do local w = pf.load_wave("big.h5", {mass = 1.4e-25}); w = nil; collectgarbage() end
+LUA
+rm -rf "$outdir"
+set +e
+"$runner" run loop.lua --out "$outdir" --overwrite >"$work/.stdout" 2>"$work/.stderr" &
+pid=$!
+sleep 1.5
+kill -TERM "$pid"
+wait "$pid"; rc=$?
+set -e
+[ "$rc" -eq 143 ] || fail "SIGTERM during loads: exit $rc, want 143; stderr: $(head -c 600 "$work/.stderr")"
+grep -q "without its manifest" "$work/.stderr" && fail "the stop was not honoured: $(cat "$work/.stderr")"
+grep -Eq '"status":[[:space:]]*"failed"' "$outdir/manifest.json" || fail "SIGTERM during loads: no manifest"
+sleep 0.2
+left=$(pgrep -P 1 -f "loop.lua --out $outdir" || true)
+[ -z "$left" ] || fail "a reading process outlived the run: $left"
+ok "SIGTERM during loads: exit 143, manifest written, no reader left ($(grep -c . "$work/.stderr") stderr lines)"
 done_checks
