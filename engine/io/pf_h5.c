@@ -850,7 +850,7 @@ static size_t samples_bytes(const pf_samples *s)
     return bytes + total * sizeof(double complex);
 }
 
-pf_status pf_h5_read(pf_context *ctx, const char *path, const pf_h5_source *src, pf_samples *out)
+pf_status pf_h5_read_inprocess(pf_context *ctx, const char *path, const pf_h5_source *src, pf_samples *out)
 {
     quiet_hdf5();
     memset(out, 0, sizeof *out);

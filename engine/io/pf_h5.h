@@ -49,8 +49,14 @@ typedef struct pf_h5_source {
 } pf_h5_source;
 
 /* Reads the amplitude described by src from the HDF5 file at path into out
- * (caller frees with pf_samples_free).  Errors name the file and dataset. */
+ * (caller frees with pf_samples_free).  Errors name the file and dataset.
+ * libhdf5 runs in a forked child process (pf_h5_isolate.c), so a file that
+ * crashes the library fails this call with PF_EIO instead of ending the
+ * process; PSIFLIGHT_H5_INPROCESS=1 in the environment reads in-process. */
 pf_status pf_h5_read(pf_context *ctx, const char *path, const pf_h5_source *src, pf_samples *out);
+/* The same read in this process (what the child runs; the fuzz harness's
+ * path): a file that crashes libhdf5 crashes the caller. */
+pf_status pf_h5_read_inprocess(pf_context *ctx, const char *path, const pf_h5_source *src, pf_samples *out);
 
 /* "major.minor.release" of the HDF5 library in use, into buf. */
 void pf_h5_version(char *buf, size_t size);

@@ -7,8 +7,27 @@
  * The input is the file's content.  Seeds (corpus/h5) hold psiflight items
  * written by the engine and plain datasets written by h5py, with the names
  * used below.  A crash inside libhdf5 itself is reported as such: the stack
- * then has no psiflight frame above the HDF5 ones. */
+ * then has no psiflight frame above the HDF5 ones.
+ *
+ * pf_h5_read normally runs libhdf5 in a child process (pf_h5_isolate.c);
+ * libFuzzer's coverage and sanitizers only see this process, so the harness
+ * sets PSIFLIGHT_H5_INPROCESS=1 and fuzzes the parsing in-process.  With
+ * FUZZ_H5_ISOLATED=1 it leaves the variable alone and every load goes
+ * through the child: tests/ref/test_fuzz_smoke.sh replays
+ * tests/fuzz/known-crashes that way, where each must end in a load_wave
+ * error instead of a crash of the harness. */
 #include "fuzz_util.h"
+
+int LLVMFuzzerInitialize(int *argc, char ***argv);
+
+int LLVMFuzzerInitialize(int *argc, char ***argv)
+{
+    (void)argc;
+    (void)argv;
+    const char *isolated = getenv("FUZZ_H5_ISOLATED");
+    if (!isolated || strcmp(isolated, "1") != 0) setenv("PSIFLIGHT_H5_INPROCESS", "1", 1);
+    return 0;
+}
 
 static const char load_calls[] =
     "local m = 1.4e-25\n"

@@ -30,6 +30,20 @@ status=0
 FUZZ_WORK="$probe" bash tests/fuzz/run-fuzz.sh build-fuzz 0 >"$probe/seeds.log" 2>&1 || status=1
 # Passing harnesses become "ok" lines in the suite's summary; others stay as they are.
 sed -E 's/^fuzz( +[a-z0-9_]+ +ok )/ok seeds\1/' "$probe/seeds.log"
+# Files that crash libhdf5 itself crash the harness's in-process reader
+# (tests/fuzz/known-crashes/README.md); through the child process that
+# pf_h5_read uses (FUZZ_H5_ISOLATED=1) each must be an ordinary load error.
+for f in tests/fuzz/known-crashes/h5-*; do
+  mkdir -p "$probe/isolated"
+  if FUZZ_H5_ISOLATED=1 TMPDIR="$probe/isolated" ASAN_OPTIONS=detect_leaks=1 \
+     LSAN_OPTIONS=suppressions=$root/tests/fuzz/lsan-suppressions.txt:print_suppressions=0 \
+     build-fuzz/fuzz/fuzz_h5 -runs=1 -artifact_prefix="$probe/isolated/" "$f" >"$probe/isolated.log" 2>&1; then
+    echo "ok isolated fuzz_h5 $(basename "$f"): no crash through the child process"
+  else
+    echo "FAILED: isolated fuzz_h5 $(basename "$f") crashed:"; grep -E 'ERROR|SUMMARY' "$probe/isolated.log" | head -5
+    status=1
+  fi
+done
 FUZZ_WORK="$probe" FUZZ_PARALLEL=2 bash tests/fuzz/run-fuzz.sh build-fuzz "$seconds" >"$probe/fuzz.log" 2>&1 || status=1
 sed -E 's/^fuzz( +[a-z0-9_]+ +ok )/ok fuzz\1/' "$probe/fuzz.log"
 exit $status
