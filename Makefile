@@ -181,7 +181,11 @@ asan: deps
 	@# (a double out of range converted to an integer type).
 	@$(MAKE) --no-print-directory BUILD=build-asan-clang CC=clang CX_RANGE= OPT="-O1 -g -fno-omit-frame-pointer" \
 	  SAN="-fsanitize=address,undefined,float-cast-overflow -fno-sanitize-recover=all" all unit-tests
-	@ASAN_OPTIONS=detect_leaks=1 LSAN_OPTIONS=suppressions=$(CURDIR)/tests/lsan-suppressions.txt:print_suppressions=0 UBSAN_OPTIONS=print_stacktrace=1 bash tests/run-all.sh build-asan-clang
+	@# Leaks are checked by the gcc half above: clang 14's LeakSanitizer crashes
+	@# in its own tracer on Debian 12 ("Tracer caught signal 11", reading a
+	@# dynamic-TLS entry glibc 2.36 marks as unallocated), which is a tool
+	@# failure, not a finding.
+	@ASAN_OPTIONS=detect_leaks=0 UBSAN_OPTIONS=print_stacktrace=1 bash tests/run-all.sh build-asan-clang
 
 # Fuzzing (tests/fuzz, DEVELOPERS.md): one libFuzzer harness per parser of
 # outside input, built with clang into build-fuzz/ (the engine's objects too,
