@@ -6,7 +6,7 @@ local check = require "check"
 pf.setup{planning = "estimate", guard_threshold = math.huge}
 local C = pf.constants
 local hbar, pi = C.hbar, math.pi
-local a0 = 5.29177210903e-11 -- Bohr radius (m), CODATA 2018, typed from memory
+local a0 = 5.29177210903e-11 -- Bohr radius (m), CODATA 2018 (tests/data/codata2018_allascii.excerpt, line "Bohr radius")
 local m = pf.mass("87Rb")
 local a = 100 * a0
 

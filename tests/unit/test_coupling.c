@@ -12,8 +12,9 @@
 
 #define HB GSL_CONST_MKSA_PLANCKS_CONSTANT_HBAR
 #define A0 GSL_CONST_MKSA_BOHR_RADIUS
-/* 87Rb mass from GSL's u times 86.909 (AME; rounded, from memory): the
- * reference need not match the engine's mass, the same m goes to both. */
+/* 87Rb mass: the AME2020 value in u (tests/data/ame2020_mass_1.mas20.excerpt)
+ * times GSL's u.  It is only an input: the same m goes to the engine and to
+ * the reference formula, so its last digits do not enter the comparison. */
 #define M_RB87 (86.909180529 * GSL_CONST_MKSA_UNIFIED_ATOMIC_MASS)
 
 static pf_coupling_spec spec(int dim, double a, double n, double w, int olsh)
