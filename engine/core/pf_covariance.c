@@ -13,37 +13,29 @@
  * <x_a><p_b> exactly (the Re <p_b> term times zero) without cancellation.
  * Block partials of PF_REDUCE_BLOCK points in block order, in the grid's
  * reserved reduction buffer (d <= 1 + 2d values per block). */
+typedef struct centred_job {
+    const pf_grid *g;
+    const double complex *psi, *dpsi;
+    const double *const *xc;
+} centred_job;
+
+static void centred_block(void *user, size_t begin, size_t end, const size_t *start, double *acc)
+{
+    const centred_job *job = user;
+    const int d = job->g->dim;
+    size_t idx[PF_MAX_DIM] = {start[0], start[1], start[2]};
+    for (size_t off = begin; off < end; off++) {
+        double j = creal(job->psi[off]) * cimag(job->dpsi[off]) - cimag(job->psi[off]) * creal(job->dpsi[off]);
+        for (int a = 0; a < d; a++) acc[a] += job->xc[a][idx[a]] * j;
+        pf_index_next(job->g, idx);
+    }
+}
+
 static void centred_sums(pf_grid *g, const double complex *psi, const double complex *dpsi, const double *const *xc,
                          double *sums)
 {
-    const int d = g->dim;
-    const size_t nblocks = (g->total + PF_REDUCE_BLOCK - 1) / PF_REDUCE_BLOCK;
-    double *part = g->reduce_part;
-    const size_t *n = g->n;
-    ptrdiff_t nb = (ptrdiff_t)nblocks;
-#pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
-    for (ptrdiff_t b = 0; b < nb; b++) {
-        size_t begin = (size_t)b * PF_REDUCE_BLOCK;
-        size_t end = begin + PF_REDUCE_BLOCK < g->total ? begin + PF_REDUCE_BLOCK : g->total;
-        size_t idx[PF_MAX_DIM] = {0, 0, 0}, rest = begin;
-        for (int a = d - 1; a >= 0; a--) {
-            idx[a] = rest % n[a];
-            rest /= n[a];
-        }
-        double acc[PF_MAX_DIM] = {0, 0, 0};
-        for (size_t off = begin; off < end; off++) {
-            double j = creal(psi[off]) * cimag(dpsi[off]) - cimag(psi[off]) * creal(dpsi[off]);
-            for (int a = 0; a < d; a++) acc[a] += xc[a][idx[a]] * j;
-            for (int a = d - 1; a >= 0; a--) {
-                if (++idx[a] < n[a]) break;
-                idx[a] = 0;
-            }
-        }
-        memcpy(part + (size_t)b * (size_t)d, acc, (size_t)d * sizeof(double));
-    }
-    for (int a = 0; a < d; a++) sums[a] = 0;
-    for (size_t b = 0; b < nblocks; b++)
-        for (int a = 0; a < d; a++) sums[a] += part[b * (size_t)d + (size_t)a];
+    centred_job job = {g, psi, dpsi, xc};
+    pf_reduce_blocks(g, g->dim, centred_block, &job, sums);
 }
 
 pf_status pf_wave_position_momentum_covariance(pf_wave *w, double *cov)

@@ -228,6 +228,21 @@ double pf_wave_last_logged_norm(pf_wave *w);
 pf_status pf_reduce_reserve(pf_grid *g);
 pf_status pf_reduce_axis_moments(pf_grid *g, const double complex *z,
                                  const double *const *weights, double *sums);
+/* The fixed-block split itself, for reductions of other integrands: calls
+ * block(user, begin, end, idx, acc) once per block of PF_REDUCE_BLOCK storage
+ * offsets [begin, end), idx the multi-index of begin, to fill acc[0..width-1]
+ * (width <= 1 + 2 dim, the reserved buffer's stride); then adds the block
+ * partials in block order into sums[0..width-1]. */
+typedef void (*pf_reduce_block_fn)(void *user, size_t begin, size_t end, const size_t *idx, double *acc);
+void pf_reduce_blocks(pf_grid *g, int width, pf_reduce_block_fn block, void *user, double *sums);
+/* Advances a row-major multi-index by one (last axis fastest), with carry. */
+static inline void pf_index_next(const pf_grid *g, size_t *idx)
+{
+    for (int a = g->dim - 1; a >= 0; a--) {
+        if (++idx[a] < g->n[a]) return;
+        idx[a] = 0;
+    }
+}
 
 #define PF_OMP_THREADS(ctx) ((ctx)->threads)
 

@@ -17,16 +17,13 @@ pf_status pf_reduce_reserve(pf_grid *g)
     return g->reduce_part ? PF_OK : pf_context_status(g->ctx);
 }
 
-pf_status pf_reduce_axis_moments(pf_grid *g, const double complex *z, const double *const *weights,
-                                 double *sums)
+void pf_reduce_blocks(pf_grid *g, int width, pf_reduce_block_fn block, void *user, double *sums)
 {
     const int d = g->dim;
-    const int width = 1 + 2 * d;
     const size_t nblocks = (g->total + PF_REDUCE_BLOCK - 1) / PF_REDUCE_BLOCK;
     /* Every block writes its whole partial below, so the grid's reserved
      * buffer needs no clearing and a norm never fails for want of memory. */
     double *part = g->reduce_part;
-    const size_t *n = g->n;
     ptrdiff_t nb = (ptrdiff_t)nblocks;
 #pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
     for (ptrdiff_t b = 0; b < nb; b++) {
@@ -35,28 +32,47 @@ pf_status pf_reduce_axis_moments(pf_grid *g, const double complex *z, const doub
         size_t idx[PF_MAX_DIM] = {0, 0, 0};
         size_t rest = begin;
         for (int a = d - 1; a >= 0; a--) {
-            idx[a] = rest % n[a];
-            rest /= n[a];
+            idx[a] = rest % g->n[a];
+            rest /= g->n[a];
         }
         double acc[1 + 2 * PF_MAX_DIM] = {0};
-        for (size_t off = begin; off < end; off++) {
-            double rho = creal(z[off]) * creal(z[off]) + cimag(z[off]) * cimag(z[off]);
-            acc[0] += rho;
-            for (int a = 0; a < d; a++) {
-                double wa = weights && weights[a] ? weights[a][idx[a]] : 1.0;
-                acc[1 + a] += wa * rho;
-                acc[1 + d + a] += wa * wa * rho;
-            }
-            /* Advance the multi-index with carry (last axis fastest). */
-            for (int a = d - 1; a >= 0; a--) {
-                if (++idx[a] < n[a]) break;
-                idx[a] = 0;
-            }
-        }
+        block(user, begin, end, idx, acc);
         memcpy(part + (size_t)b * (size_t)width, acc, (size_t)width * sizeof(double));
     }
     for (int c = 0; c < width; c++) sums[c] = 0;
     for (size_t b = 0; b < nblocks; b++)
         for (int c = 0; c < width; c++) sums[c] += part[b * (size_t)width + (size_t)c];
+}
+
+typedef struct moments_job {
+    const pf_grid *g;
+    const double complex *z;
+    const double *const *weights;
+} moments_job;
+
+/* One block of pf_reduce_axis_moments: |z|^2 and its weighted moments. */
+static void moments_block(void *user, size_t begin, size_t end, const size_t *start, double *acc)
+{
+    const moments_job *job = user;
+    const int d = job->g->dim;
+    const double complex *z = job->z;
+    size_t idx[PF_MAX_DIM] = {start[0], start[1], start[2]};
+    for (size_t off = begin; off < end; off++) {
+        double rho = creal(z[off]) * creal(z[off]) + cimag(z[off]) * cimag(z[off]);
+        acc[0] += rho;
+        for (int a = 0; a < d; a++) {
+            double wa = job->weights && job->weights[a] ? job->weights[a][idx[a]] : 1.0;
+            acc[1 + a] += wa * rho;
+            acc[1 + d + a] += wa * wa * rho;
+        }
+        pf_index_next(job->g, idx);
+    }
+}
+
+pf_status pf_reduce_axis_moments(pf_grid *g, const double complex *z, const double *const *weights,
+                                 double *sums)
+{
+    moments_job job = {g, z, weights};
+    pf_reduce_blocks(g, 1 + 2 * g->dim, moments_block, &job, sums);
     return PF_OK;
 }
