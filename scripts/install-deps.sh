@@ -21,6 +21,7 @@ PACKAGES=(
   libplplot-dev plplot-driver-cairo
   libcjson-dev
   strace
+  netcdf-bin udunits-bin  # tests only: ncdump and udunits2 read the HDF5 files (tests/ref/test_h5_netcdf.sh)
   libopenmpi-dev openmpi-bin
   # Test and development only (not needed to build or run psiflight): clang
   # with libFuzzer and its sanitizer runtimes for `make fuzz`, the fuzz smoke
