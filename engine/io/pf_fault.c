@@ -34,7 +34,7 @@
 #define MAX_FRAMES 128
 #define ALT_STACK_BYTES (256 * 1024)
 /* Seconds the handler may take before SIGALRM ends the process. */
-#define HANDLER_SECONDS 5
+#define HANDLER_SECONDS 20
 
 typedef struct code_range {
     uintptr_t lo, hi;
