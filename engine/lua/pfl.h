@@ -92,6 +92,9 @@ void pfl_untrack_output(lua_State *L, int idx);
  * manifest could not be written. */
 void pfl_record_configure(lua_State *L, const char *script, const char *sha256, int quiet, int overwrite);
 int pfl_record_finish(lua_State *L, int ok, const char *error, int nsets, char *const *sets);
+/* The script path and its SHA-256 as the runner gave them ("" when unknown,
+ * e.g. under plain lua5.4); valid until the next pfl_record_configure. */
+void pfl_record_script(lua_State *L, const char **path, const char **sha256);
 /* Records a Lua module the script loaded for the manifest: its require name,
  * where it came from (file path or "bundled:recipes/NAME.lua") and the
  * SHA-256 of its source.  Returns -1 when out of memory. */

@@ -4,6 +4,7 @@
  * (select_velocity, momentum_mask).  Masks return the wave and the
  * probability they removed.  Units are SI throughout (m, s, rad, rad/m). */
 #include <math.h>
+#include <stdio.h>
 #include <string.h>
 #include "../core/pf_frame.h"
 #include "../core/pf_ops.h"
@@ -14,12 +15,15 @@ static const pfl_options_decl KICK_OPTIONS = {"wave:kick", (const char *const[])
 static const pfl_options_decl GRATING_OPTIONS = {"wave:grating", (const char *const[]){"depth", "period", "axis", "phase", NULL}};
 static const pfl_options_decl LENS_OPTIONS = {"wave:lens", (const char *const[]){"axis", "center", NULL}};
 static const pfl_options_decl SLITS_OPTIONS = {
-    "wave:slits", (const char *const[]){"count", "width", "pitch", "center", "axis", NULL}};
-static const pfl_options_decl SLIT_OPTIONS = {"wave:slit", (const char *const[]){"width", "center", "axis", NULL}};
+    "wave:slits", (const char *const[]){"count", "width", "pitch", "center", "axis", "edges", "edge_width", NULL}};
+static const pfl_options_decl SLIT_OPTIONS = {
+    "wave:slit", (const char *const[]){"width", "center", "axis", "edges", "edge_width", NULL}};
 static const pfl_options_decl MASK_GRATING_OPTIONS = {
-    "wave:mask_grating", (const char *const[]){"period", "open_fraction", "offset", "axis", NULL}};
+    "wave:mask_grating",
+    (const char *const[]){"period", "open_fraction", "offset", "axis", "edges", "edge_width", NULL}};
 static const pfl_options_decl APERTURE_OPTIONS = {
-    "wave:aperture", (const char *const[]){"shape", "radius", "size", "center", "axes", NULL}};
+    "wave:aperture",
+    (const char *const[]){"shape", "radius", "size", "center", "axes", "edges", "edge_width", NULL}};
 static const pfl_options_decl SELECT_VELOCITY_OPTIONS = {
     "wave:select_velocity", (const char *const[]){"width", "center", "axis", "shape", NULL}};
 
@@ -107,7 +111,34 @@ static int l_lens(lua_State *L)
     return 1;
 }
 
-/* w:slits{count = 1, width = m, pitch = m, center = 0, axis = 1} -> w, removed */
+/* Fields edges = "exact" (default: edges where they are, band-limited) or
+ * "cells" (each grid point open or shut), and edge_width = m (Gaussian rms
+ * of a soft edge, exact edges only) of every amplitude mask. */
+static pf_edges field_edges(lua_State *L, int t, const char *name)
+{
+    pf_edges e = {PF_EDGES_EXACT, 0.0};
+    int type = pfl_option_get(L, t, "edges");
+    if (type != LUA_TNIL) {
+        const char *v = lua_tostring(L, -1);
+        if (type == LUA_TSTRING && strcmp(v, "cells") == 0) e.mode = PF_EDGES_CELLS;
+        else if (!(type == LUA_TSTRING && strcmp(v, "exact") == 0)) {
+            char buf[80];
+            luaL_error(L, "%s: field 'edges' must be \"exact\" or \"cells\", got %s", name,
+                       pfl_describe(L, -1, buf, sizeof buf));
+        }
+    }
+    lua_pop(L, 1);
+    e.width = pfl_field_number(L, t, "edge_width", 0, 0);
+    if (e.width != 0 && e.mode == PF_EDGES_CELLS) {
+        char v[32];
+        snprintf(v, sizeof v, "%g", e.width);
+        luaL_error(L, "%s: field 'edge_width' (%s m) needs edges = \"exact\"; cell-switched edges are always hard",
+                   name, v);
+    }
+    return e;
+}
+
+/* w:slits{count = 1, width = m, pitch = m, center = 0, axis = 1, edges, edge_width} -> w, removed */
 static int slits(lua_State *L, const char *name, int single)
 {
     pf_wave *w = pfl_check_wave(L, 1);
@@ -118,8 +149,9 @@ static int slits(lua_State *L, const char *name, int single)
     double width = pfl_field_number(L, 2, "width", 0, 1);
     double pitch = single ? 0 : pfl_field_number(L, 2, "pitch", 0, count > 1);
     double center = pfl_field_number(L, 2, "center", 0, 0);
+    pf_edges e = field_edges(L, 2, name);
     double removed = 0;
-    pfl_check(L, pf_wave_slits(w, axis, (int)count, width, pitch, center, &removed), name);
+    pfl_check(L, pf_wave_slits(w, axis, (int)count, width, pitch, center, &e, &removed), name);
     return push_masked(L, removed);
 }
 
@@ -135,8 +167,9 @@ static int l_mask_grating(lua_State *L)
     double period = pfl_field_number(L, 2, "period", 0, 1);
     double open = pfl_field_number(L, 2, "open_fraction", 0.5, 0);
     double offset = pfl_field_number(L, 2, "offset", 0, 0);
+    pf_edges e = field_edges(L, 2, "mask_grating");
     double removed = 0;
-    pfl_check(L, pf_wave_mask_grating(w, axis, period, open, offset, &removed), "mask_grating");
+    pfl_check(L, pf_wave_mask_grating(w, axis, period, open, offset, &e, &removed), "mask_grating");
     return push_masked(L, removed);
 }
 
@@ -174,6 +207,7 @@ static int l_aperture(lua_State *L)
     pf_wave *w = pfl_check_wave(L, 1);
     pfl_options_check(L, 2, &APERTURE_OPTIONS);
     int d = dim_of(w);
+    pf_edges e = field_edges(L, 2, "aperture");
     pfl_option_get(L, 2, "shape");
     const char *shape = lua_tostring(L, -1);
     double removed = 0;
@@ -196,12 +230,12 @@ static int l_aperture(lua_State *L)
         double radius = pfl_field_number(L, 2, "radius", 0, 1);
         double center[2] = {0, 0};
         pfl_field_vector(L, 2, "center", 2, center, 0);
-        pfl_check(L, pf_wave_aperture_circle(w, axes[0], axes[1], center, radius, &removed), "aperture");
+        pfl_check(L, pf_wave_aperture_circle(w, axes[0], axes[1], center, radius, &e, &removed), "aperture");
     } else if (lua_type(L, -1) == LUA_TSTRING && strcmp(shape, "rectangle") == 0) {
         double size[PF_MAX_DIM], center[PF_MAX_DIM] = {0, 0, 0};
         read_sizes(L, 2, d, size);
         pfl_field_vector(L, 2, "center", d, center, 0);
-        pfl_check(L, pf_wave_aperture_rect(w, center, size, &removed), "aperture");
+        pfl_check(L, pf_wave_aperture_rect(w, center, size, &e, &removed), "aperture");
     } else {
         char buf[80];
         return luaL_error(L, "aperture: field 'shape' must be \"circle\" or \"rectangle\", got %s",
