@@ -158,6 +158,10 @@ static void write_provenance(lua_State *L, pfl_h5_box *b)
     qsort(ps, i, sizeof *ps, compare_parameters);
     const char *script, *sha;
     pfl_record_script(L, &script, &sha);
+    /* The file name only: the same script run from another folder (or an
+     * installed copy) writes the same bytes; the manifest has the path. */
+    const char *slash = strrchr(script, '/');
+    if (slash) script = slash + 1;
     pf_h5_provenance prov = {.script = script, .script_sha256 = sha, .seed = pfl_seed(L), .nparams = i, .params = ps};
     pf_status s = pf_h5_set_provenance(b->f, &prov);
     lua_settop(L, texts - 1);
