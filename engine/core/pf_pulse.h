@@ -82,4 +82,10 @@ pf_status pf_pulse_bragg(pf_wave *w, const pf_pulse_shape *shape, const pf_pulse
  * recoil frequency hbar K^2 / 2m of the kick, rad/s). */
 int pf_pulse_auto_substeps(const pf_pulse_shape *shape, int bragg, double recoil);
 
+/* Probability in the momentum orders n = -nmax .. nmax of the kick K:
+ * order n holds the points whose k.K/|K| - center lies in
+ * [(n - 1/2)|K|, (n + 1/2)|K|) (center in rad/m along K).  out receives
+ * 2 nmax + 1 values, order -nmax first.  Leaves w in momentum representation. */
+pf_status pf_wave_order_populations(pf_wave *w, const double *kick, double center, int nmax, double *out);
+
 #endif
