@@ -4,6 +4,7 @@
 #define _XOPEN_SOURCE 700
 #include "pf_pulse.h"
 #include <math.h>
+#include <stdlib.h>
 #include <string.h>
 #include "pf_constants.h"
 #include "pf_guard.h"
@@ -264,6 +265,12 @@ static void kinetic_fill(const pf_grid *g, double hm, double len, kinetic_tables
 static void kinetic_apply(const pf_grid *g, const kinetic_tables *kt, double complex *z)
 {
     const size_t total = g->total;
+    if (g->dim == 1) {
+        const double complex *t = kt->t[0];
+#pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
+        for (size_t p = 0; p < total; p++) z[p] *= t[p];
+        return;
+    }
 #pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
     for (size_t p = 0; p < total; p++) {
         size_t idx[PF_MAX_DIM] = {0};
@@ -293,6 +300,21 @@ static void coupling_apply(const pf_grid *g, const long *shift, double complex r
         coef[n + nmax] = mi * jn(n, x) * cexp(I * n * chi) * cpow(r, n);
     }
     const size_t total = g->total;
+    if (g->dim == 1 && (long)nmax * labs(shift[0]) < (long)total) {
+        /* 1D: the source of term n is p - n M, wrapped once at most. */
+        const long N = (long)total, M = shift[0];
+#pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
+        for (long p = 0; p < N; p++) {
+            double complex acc = 0;
+            for (int n = -nmax; n <= nmax; n++) {
+                long j = p - n * M;
+                j += (j < 0) ? N : (j >= N) ? -N : 0;
+                acc += coef[n + nmax] * src[j];
+            }
+            dst[p] = acc;
+        }
+        return;
+    }
 #pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
     for (size_t p = 0; p < total; p++) {
         size_t idx[PF_MAX_DIM] = {0};
