@@ -9,6 +9,7 @@
 #include "pf_constants.h"
 #include "pf_guard.h"
 #include "pf_internal.h"
+#include "pf_ops.h"
 
 /* Yoshida's triple jump: a symmetric second-order step of length h, applied
  * with lengths c1 h, c0 h, c1 h, is of fourth order (H. Yoshida, Phys. Lett.
@@ -432,6 +433,59 @@ pf_status pf_wave_order_populations(pf_wave *w, const double *kick, double cente
         double n = floor(u + 0.5);
         if (fabs(n) > nmax) continue;
         out[(int)n + nmax] += cell * (creal(z[p]) * creal(z[p]) + cimag(z[p]) * cimag(z[p]));
+    }
+    return PF_OK;
+}
+
+/* A pulse sliced in time so that a uniform force and a chirped detuning act
+ * during it (see pf_pulse.h).  Strang splitting: half a force kick, then per
+ * slice the pulse (which carries the kinetic energy) followed by a whole
+ * kick, the last one a half. */
+pf_status pf_pulse_two_level_moving(pf_wave *a, pf_wave *b, const pf_pulse_shape *shape, const pf_pulse_light *light,
+                                    double chirp, const double *accel_a, const double *accel_b, int slices)
+{
+    pf_grid *g = a->grid;
+    pf_context *ctx = g->ctx;
+    if (slices < 1 || slices > 1000000)
+        return pf_fail(ctx, PF_EINVAL, "pulse slices must be 1 .. 1000000, got %d", slices);
+    if (!isfinite(chirp)) return pf_fail(ctx, PF_EINVAL, "pulse chirp must be finite (rad/s^2), got %g", chirp);
+    if (slices > 1 && shape->envelope != PF_ENVELOPE_SQUARE)
+        return pf_fail(ctx, PF_EINVAL, "a force or a chirp during a pulse needs a square envelope");
+    pf_status s = check_shape(ctx, shape);
+    if (s) return s;
+    pf_wave *w2[2] = {a, b};
+    const double *acc[2] = {accel_a, accel_b};
+    for (int i = 0; i < 2; i++)
+        if (acc[i])
+            for (int d = 0; d < g->dim; d++)
+                if (!isfinite(acc[i][d]))
+                    return pf_fail(ctx, PF_EINVAL, "acceleration during a pulse must be finite, got %g", acc[i][d]);
+    const double h = shape->duration / slices;
+    pf_pulse_shape piece = *shape;
+    piece.duration = h;
+    /* Kick of a force over time t: k = m a t / hbar per axis. */
+    double kick[2][PF_MAX_DIM] = {{0}};
+    for (int i = 0; i < 2; i++)
+        if (acc[i])
+            for (int d = 0; d < g->dim; d++) kick[i][d] = w2[i]->mass * acc[i][d] * h / PF_HBAR;
+    for (int k = 0; k <= slices; k++) {
+        for (int i = 0; i < 2; i++) {
+            if (!acc[i]) continue;
+            double kk[PF_MAX_DIM];
+            double part = (k == 0 || k == slices) ? 0.5 : 1.0;
+            for (int d = 0; d < g->dim; d++) kk[d] = part * kick[i][d];
+            s = pf_wave_kick(w2[i], kk);
+            if (s) return s;
+        }
+        if (k == slices) break;
+        /* The detuning delta + chirp t, taken at the slice midpoint, with the
+         * phase matched there: phase - delta t - chirp t^2 / 2 to second order. */
+        double tm = a->clock + 0.5 * h;
+        pf_pulse_light li = *light;
+        li.detuning = light->detuning + chirp * tm;
+        li.phase = light->phase + 0.5 * chirp * tm * tm;
+        s = pf_pulse_two_level(a, b, &piece, &li);
+        if (s) return s;
     }
     return PF_OK;
 }

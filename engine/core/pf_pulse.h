@@ -72,6 +72,16 @@ double pf_pulse_rabi_at(const pf_pulse_shape *shape, double s);
  * not a whole number of momentum spacings, or mismatched waves. */
 pf_status pf_pulse_two_level(pf_wave *a, pf_wave *b, const pf_pulse_shape *shape, const pf_pulse_light *light);
 
+/* The two-level pulse with a uniform force on each level (accel_a, accel_b:
+ * m/s^2 per axis, NULL for none) and a linearly chirped detuning
+ * delta(t) = light->detuning + chirp t (t the wave's clock; the laser phase
+ * is then phase - detuning t - chirp t^2 / 2) acting during it: Strang
+ * splitting into `slices` square pulses between force kicks (error of order
+ * (duration / slices)^2; slices = 1 with no force and no chirp is the plain
+ * pulse).  Square envelopes only when slices > 1. */
+pf_status pf_pulse_two_level_moving(pf_wave *a, pf_wave *b, const pf_pulse_shape *shape, const pf_pulse_light *light,
+                                    double chirp, const double *accel_a, const double *accel_b, int slices);
+
 /* Applies a Bragg pulse to w (kick must be non-zero; shift_a/shift_b are
  * ignored).  Leaves w in momentum representation, clock advanced by the
  * duration, and logs a "bragg" step. */

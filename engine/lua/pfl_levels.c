@@ -25,7 +25,8 @@ static const pfl_options_decl LEVELS_OPTIONS = {
 static const pfl_options_decl PULSE_OPTIONS = {
     "levels:pulse",
     (const char *const[]){"from", "to", "rabi", "area", "duration", "envelope", "width", "detuning", "omega", "phase",
-                          "wavenumber", "light_shift", "one_photon_detuning", "beam_rabi", "substeps", NULL}};
+                          "wavenumber", "light_shift", "one_photon_detuning", "beam_rabi", "substeps",
+                          "acceleration", "chirp", "slices", NULL}};
 static const pfl_options_decl BRAGG_OPTIONS = {
     "levels:bragg", (const char *const[]){"level", "rabi", "area", "duration", "envelope", "width", "detuning", "phase",
                                           "wavenumber", "substeps", NULL}};
@@ -273,6 +274,77 @@ static void read_wavenumber(lua_State *L, int t, int dim, double *k, const char 
     lua_pop(L, 1);
 }
 
+/* Field 'acceleration' of the checked options table at opts (0: none):
+ * a number / per-axis table for every level, or {label = a, ...} per level.
+ * Fills acc[i] and has[i] (levels not named: has 0). */
+static void read_accelerations(lua_State *L, pfl_levels_box *b, int opts, int dim, double acc[][PF_MAX_DIM], int *has,
+                               const char *fname)
+{
+    for (int i = 0; i < b->count; i++) {
+        has[i] = 0;
+        for (int d = 0; d < PF_MAX_DIM; d++) acc[i][d] = 0;
+    }
+    if (!opts || pfl_option_get(L, opts, "acceleration") == LUA_TNIL) {
+        if (opts) lua_pop(L, 1);
+        return;
+    }
+    int at = lua_gettop(L);
+    int per_level = 0;
+    if (lua_istable(L, at)) {
+        lua_pushnil(L);
+        if (lua_next(L, at)) {
+            per_level = lua_type(L, -2) == LUA_TSTRING;
+            lua_pop(L, 2);
+        }
+    }
+    if (per_level) {
+        lua_pushnil(L);
+        while (lua_next(L, at)) {
+            int i = check_label_at(L, b, -2, fname, "acceleration");
+            vector_at(L, -1, dim, acc[i], fname, "acceleration (m/s^2)");
+            has[i] = 1;
+            lua_pop(L, 1);
+        }
+    } else {
+        vector_at(L, at, dim, acc[0], fname, "acceleration (m/s^2)");
+        for (int i = 0; i < b->count; i++) {
+            memcpy(acc[i], acc[0], sizeof acc[0]);
+            has[i] = 1;
+        }
+    }
+    lua_pop(L, 1);
+}
+
+/* Flies the levels other than skip1, skip2 for t seconds (their
+ * accelerations where given), so every clock stays together. */
+static void fly_others(lua_State *L, pfl_levels_box *b, int skip1, int skip2, double t, double acc[][PF_MAX_DIM],
+                       const int *has, const char *fname)
+{
+    for (int i = 0; i < b->count; i++) {
+        if (i == skip1 || i == skip2) continue;
+        pf_wave *w = level_wave(L, 1, i);
+        pfl_check(L, has[i] ? pf_wave_fall(w, t, acc[i]) : pf_wave_fly(w, t), fname);
+        pfl_note_guards(L, w);
+    }
+}
+
+/* lv:fly(t [, {acceleration = a | {label = a, ...}}]) -> lv
+ * a: m/s^2, a number (1D) or one value per axis; per level, levels not
+ * named fly freely.  Exact (free flight, or the uniform-force propagator). */
+static int l_fly(lua_State *L)
+{
+    pfl_levels_box *b = check_levels(L, 1);
+    double t = pfl_check_finite(L, 2, "flight time (s)");
+    int opts = pfl_options_opt(L, 3, &FLY_OPTIONS);
+    int dim = pf_grid_dim(pf_wave_grid(level_wave(L, 1, 0)));
+    double acc[LEVELS_MAX][PF_MAX_DIM];
+    int has[LEVELS_MAX];
+    read_accelerations(L, b, opts, dim, acc, has, "fly");
+    fly_others(L, b, -1, -1, t, acc, has, "fly");
+    lua_settop(L, 1);
+    return 1;
+}
+
 /* lv:pulse{from =, to =, rabi | area, duration, envelope, width, detuning | omega,
  *          phase, wavenumber, light_shift = {label = rad/s}, one_photon_detuning,
  *          beam_rabi = {O1, O2}, substeps} -> lv */
@@ -370,9 +442,25 @@ static int l_pulse(lua_State *L)
         li.detuning = pfl_field_number(L, 2, "detuning", 0, 0);
     li.phase = pfl_field_number(L, 2, "phase", 0, 0) + beam_sign;
     read_wavenumber(L, 2, dim, li.kick, fname);
-    pfl_check(L, pf_pulse_two_level(wa, wb, &sh, &li), fname);
+    double acc[LEVELS_MAX][PF_MAX_DIM];
+    int has[LEVELS_MAX];
+    read_accelerations(L, b, 2, dim, acc, has, fname);
+    double chirp = pfl_field_number(L, 2, "chirp", 0, 0);
+    int slices = 1;
+    if (pfl_option_get(L, 2, "slices") != LUA_TNIL) {
+        int ok = 0;
+        lua_Integer v = pfl_tointegerx(L, -1, &ok);
+        if (!ok || v < 1 || v > 1000000) return luaL_error(L, "pulse: field 'slices' must be an integer 1 .. 1000000");
+        slices = (int)v;
+    } else if (has[ia] || has[ib] || chirp != 0) {
+        slices = 16; /* default for a force or a chirp during the pulse (docs/internal-states.md) */
+    }
+    lua_pop(L, 1);
+    pfl_check(L, pf_pulse_two_level_moving(wa, wb, &sh, &li, chirp, has[ia] ? acc[ia] : NULL, has[ib] ? acc[ib] : NULL,
+                                           slices), fname);
     pfl_note_guards(L, wa);
     pfl_note_guards(L, wb);
+    fly_others(L, b, ia, ib, sh.duration, acc, has, fname);
     lua_settop(L, 1);
     return 1;
 }
@@ -405,54 +493,6 @@ static int l_bragg(lua_State *L)
     if (only >= 0)
         for (int i = 0; i < b->count; i++)
             if (i != only) pfl_check(L, pf_wave_fly(level_wave(L, 1, i), sh.duration), fname);
-    lua_settop(L, 1);
-    return 1;
-}
-
-/* lv:fly(t [, {acceleration = a | {label = a, ...}}]) -> lv
- * a: m/s^2, a number (1D) or one value per axis; per level, levels not
- * named fly freely.  Exact (free flight, or the uniform-force propagator). */
-static int l_fly(lua_State *L)
-{
-    pfl_levels_box *b = check_levels(L, 1);
-    double t = pfl_check_finite(L, 2, "flight time (s)");
-    int opts = pfl_options_opt(L, 3, &FLY_OPTIONS);
-    int dim = pf_grid_dim(pf_wave_grid(level_wave(L, 1, 0)));
-    double acc[LEVELS_MAX][PF_MAX_DIM];
-    int has[LEVELS_MAX] = {0};
-    memset(acc, 0, sizeof acc);
-    if (opts && pfl_option_get(L, opts, "acceleration") != LUA_TNIL) {
-        int at = lua_gettop(L);
-        int per_level = 0;
-        if (lua_istable(L, at)) {
-            lua_pushnil(L);
-            if (lua_next(L, at)) {
-                per_level = lua_type(L, -2) == LUA_TSTRING;
-                lua_pop(L, 2);
-            }
-        }
-        if (per_level) {
-            lua_pushnil(L);
-            while (lua_next(L, at)) {
-                int i = check_label_at(L, b, -2, "fly", "acceleration");
-                vector_at(L, -1, dim, acc[i], "fly", "acceleration (m/s^2)");
-                has[i] = 1;
-                lua_pop(L, 1);
-            }
-        } else {
-            vector_at(L, at, dim, acc[0], "fly", "acceleration (m/s^2)");
-            for (int i = 0; i < b->count; i++) {
-                memcpy(acc[i], acc[0], sizeof acc[0]);
-                has[i] = 1;
-            }
-        }
-        lua_pop(L, 1);
-    }
-    for (int i = 0; i < b->count; i++) {
-        pf_wave *w = level_wave(L, 1, i);
-        pfl_check(L, has[i] ? pf_wave_fall(w, t, acc[i]) : pf_wave_fly(w, t), "fly");
-        pfl_note_guards(L, w);
-    }
     lua_settop(L, 1);
     return 1;
 }
