@@ -2,11 +2,19 @@
 # are variables so a packager can point them elsewhere.
 #
 #   make          build the runner (build/psiflight) and the Lua module (build/psiflight.so)
-#   make demo     install missing Debian packages, build, run the flagship example
-#   make test     install missing Debian packages, build, run every test
+#   make deps     install the missing Debian packages of the runtime set (as root)
+#   make demo     the runtime set, build, run the flagship example
+#   make test     the runtime, test and MPI sets, build, run every test
 #   make bench    speed report (ratios against raw FFTW, timed in the same run)
 #   make asan     run the test suite under AddressSanitizer and UBSan (gcc, then clang)
 #   make fuzz     run each fuzz harness FUZZ_SECONDS (default 60) with clang's libFuzzer
+
+# PLplot's headers may come from .deps/ (scripts/fetch-plplot-headers.sh) rather
+# than from libplplot-dev: pkg-config looks there first, in $(shell) calls and
+# recipes alike (make 4.3 does not pass exported variables to $(shell)).
+DEPS_PC   := $(CURDIR)/.deps/pkgconfig
+export PKG_CONFIG_PATH := $(DEPS_PC)$(if $(PKG_CONFIG_PATH),:$(PKG_CONFIG_PATH))
+PKG_CONFIG := PKG_CONFIG_PATH='$(PKG_CONFIG_PATH)' pkg-config
 
 LUA_PC    ?= lua5.4
 FFTW_PC   ?= fftw3
@@ -27,32 +35,32 @@ CFLAGS_BASE := -std=c11 -D_POSIX_C_SOURCE=200809L -fPIC -fopenmp $(CX_RANGE) $(W
 CFLAGS  ?= $(OPT)
 SAN     ?=
 
-FFTW_CFLAGS := $(shell pkg-config --cflags $(FFTW_PC) 2>/dev/null)
-FFTW_LIBS   := $(FFTW_OMP_LIBS) $(shell pkg-config --libs $(FFTW_PC) 2>/dev/null)
-LUA_CFLAGS  := $(shell pkg-config --cflags $(LUA_PC) 2>/dev/null)
-LUA_LIBS    := $(shell pkg-config --libs $(LUA_PC) 2>/dev/null)
-CMOCKA_CFLAGS := $(shell pkg-config --cflags $(CMOCKA_PC) 2>/dev/null)
-CMOCKA_LIBS   := $(shell pkg-config --libs $(CMOCKA_PC) 2>/dev/null)
+FFTW_CFLAGS := $(shell $(PKG_CONFIG) --cflags $(FFTW_PC) 2>/dev/null)
+FFTW_LIBS   := $(FFTW_OMP_LIBS) $(shell $(PKG_CONFIG) --libs $(FFTW_PC) 2>/dev/null)
+LUA_CFLAGS  := $(shell $(PKG_CONFIG) --cflags $(LUA_PC) 2>/dev/null)
+LUA_LIBS    := $(shell $(PKG_CONFIG) --libs $(LUA_PC) 2>/dev/null)
+CMOCKA_CFLAGS := $(shell $(PKG_CONFIG) --cflags $(CMOCKA_PC) 2>/dev/null)
+CMOCKA_LIBS   := $(shell $(PKG_CONFIG) --libs $(CMOCKA_PC) 2>/dev/null)
 # Reference libraries the tests compare the engine against (never the engine).
 TEST_PC     ?= gsl libcerf
-TEST_CFLAGS := $(shell pkg-config --cflags $(TEST_PC) 2>/dev/null)
-TEST_LIBS   := $(shell pkg-config --libs $(TEST_PC) 2>/dev/null)
+TEST_CFLAGS := $(shell $(PKG_CONFIG) --cflags $(TEST_PC) 2>/dev/null)
+TEST_LIBS   := $(shell $(PKG_CONFIG) --libs $(TEST_PC) 2>/dev/null)
 
 # Runner: cJSON reads run manifests (sweeps); MPI is optional - without
 # pkg-config's ompi-c (or with MPI_PC=none) sweeps run on one machine only.
 CJSON_PC  ?= libcjson
-CJSON_CFLAGS := $(shell pkg-config --cflags $(CJSON_PC) 2>/dev/null)
-CJSON_LIBS   := $(shell pkg-config --libs $(CJSON_PC) 2>/dev/null || echo -lcjson)
+CJSON_CFLAGS := $(shell $(PKG_CONFIG) --cflags $(CJSON_PC) 2>/dev/null)
+CJSON_LIBS   := $(shell $(PKG_CONFIG) --libs $(CJSON_PC) 2>/dev/null || echo -lcjson)
 MPI_PC    ?= ompi-c
-MPI_LIBS  := $(shell pkg-config --libs $(MPI_PC) 2>/dev/null)
-MPI_CFLAGS := $(if $(MPI_LIBS),-DPFR_HAVE_MPI $(shell pkg-config --cflags $(MPI_PC) 2>/dev/null))
+MPI_LIBS  := $(shell $(PKG_CONFIG) --libs $(MPI_PC) 2>/dev/null)
+MPI_CFLAGS := $(if $(MPI_LIBS),-DPFR_HAVE_MPI $(shell $(PKG_CONFIG) --cflags $(MPI_PC) 2>/dev/null))
 # Output layer (engine/io): HDF5 serial, PLplot, cJSON.  Only engine/io sees
 # their headers; the core library stays free of them.
 IO_PC     ?= hdf5-serial plplot libcjson
-IO_CFLAGS := $(shell pkg-config --cflags $(IO_PC) 2>/dev/null)
+IO_CFLAGS := $(shell $(PKG_CONFIG) --cflags $(IO_PC) 2>/dev/null)
 # The HDF5 high-level library (dimension scales) has no pkg-config module of
 # its own in Debian; it sits beside libhdf5.
-IO_LIBS   := $(patsubst -lhdf5,-lhdf5_hl -lhdf5,$(shell pkg-config --libs $(IO_PC) 2>/dev/null))
+IO_LIBS   := $(patsubst -lhdf5,-lhdf5_hl -lhdf5,$(shell $(PKG_CONFIG) --libs $(IO_PC) 2>/dev/null))
 
 ALL_CFLAGS = $(CFLAGS_BASE) $(CFLAGS) $(SAN)
 CORE_LIBS  = $(FFTW_LIBS) -lm -fopenmp $(SAN)
@@ -77,21 +85,30 @@ MODULE := $(BUILD)/psiflight.so
 CORE_LIB := $(BUILD)/libpsiflight-core.a
 IO_LIB   := $(BUILD)/libpsiflight-io.a
 
-.PHONY: all deps build test demo bench asan clean unit-tests lua-tests ref-tests fuzz fuzz-build fuzz-harnesses
+.PHONY: all deps deps-test deps-mpi build test demo bench asan clean unit-tests lua-tests ref-tests fuzz fuzz-build fuzz-harnesses
 .DEFAULT_GOAL := all
 
 all: $(RUNNER) $(MODULE)
 build: all
 
+# Dependency sets (scripts/install-deps.sh, sizes in README.md): `make deps`
+# installs what building and running need; the test set adds the reference
+# libraries and tools, and Open MPI so that the suite covers MPI sweeps.
 deps:
-	@bash scripts/install-deps.sh
+	@bash scripts/install-deps.sh runtime
+
+deps-test:
+	@bash scripts/install-deps.sh runtime test mpi
+
+deps-mpi:
+	@bash scripts/install-deps.sh runtime mpi
 
 # Before the first compile: every pkg-config module the build needs, or one
 # message naming the Debian packages and `make deps` (not a missing header).
 BUILD_ENV := $(BUILD)/.build-env-ok
 $(BUILD_ENV): scripts/check-build-env.sh
 	@bash scripts/check-build-env.sh $(LUA_PC)=liblua5.4-dev $(FFTW_PC)=libfftw3-dev hdf5-serial=libhdf5-dev \
-	  plplot=libplplot-dev $(CJSON_PC)=libcjson-dev
+	  plplot=libplplot17 $(CJSON_PC)=libcjson-dev
 	@mkdir -p $(dir $@) && touch $@
 
 $(BUILD)/engine/core/%.o: engine/core/%.c $(wildcard engine/core/*.h) | $(BUILD_ENV)
@@ -152,7 +169,7 @@ $(BUILD)/tests/%: $(BUILD)/tests/unit/%.o $(UNIT_HELP_OBJ) $(IO_LIB) $(CORE_LIB)
 
 unit-tests: $(UNIT_BIN)
 
-test: deps
+test: deps-test
 	@$(MAKE) --no-print-directory all unit-tests
 	@bash tests/run-all.sh $(BUILD)
 
@@ -173,7 +190,7 @@ $(BUILD)/bench/bench_%: tests/bench/bench_%.c tests/bench/bench_util.h $(CORE_LI
 	@mkdir -p $(dir $@)
 	$(CC) $(ALL_CFLAGS) $(FFTW_CFLAGS) -Iengine/core -Itests/bench -o $@ $< $(CORE_LIB) $(CORE_LIBS)
 
-asan: deps
+asan: deps-test
 	@$(MAKE) --no-print-directory BUILD=build-asan OPT="-O1 -g -fno-omit-frame-pointer" \
 	  SAN="-fsanitize=address,undefined -fno-sanitize-recover=undefined" all unit-tests
 	@ASAN_OPTIONS=detect_leaks=1 LSAN_OPTIONS=suppressions=$(CURDIR)/tests/lsan-suppressions.txt:print_suppressions=0 UBSAN_OPTIONS=print_stacktrace=1 bash tests/run-all.sh build-asan
@@ -209,7 +226,7 @@ fuzz-build:
 	@$(MAKE) --no-print-directory BUILD=build-fuzz CC=$(FUZZ_CC) CX_RANGE= OPT="-O1 -g -fno-omit-frame-pointer" \
 	  SAN="-fsanitize=fuzzer-no-link $(FUZZ_SAN)" fuzz-harnesses
 
-fuzz: deps
+fuzz: deps-test
 	@$(MAKE) --no-print-directory fuzz-build
 	@bash tests/fuzz/run-fuzz.sh build-fuzz $(FUZZ_SECONDS)
 

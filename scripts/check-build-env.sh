@@ -20,4 +20,9 @@ echo "psiflight build: pkg-config cannot find: ${missing_mods[*]}" >&2
 echo "  These come from the Debian packages: ${missing_pkgs[*]}" >&2
 echo "  Install everything the build needs with: make deps   (as root)" >&2
 echo "  or by hand: sudo apt-get install ${missing_pkgs[*]}" >&2
+# PLplot's headers are not in the runtime package (libplplot-dev would pull
+# in Qt and wxWidgets): they are unpacked into .deps/ by a script.
+case " ${missing_pkgs[*]} " in
+  *" libplplot17 "*) echo "  then PLplot's C headers: bash scripts/fetch-plplot-headers.sh   (make deps runs it)" >&2 ;;
+esac
 exit 1

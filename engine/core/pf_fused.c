@@ -32,7 +32,8 @@
 void pf_fused_release(pf_grid *g)
 {
     pf_fused_plans *fp = &g->fused;
-    fftw_plan *plans[] = {&fp->slab_fwd, &fp->slab_bwd, &fp->col_fwd, &fp->col_bwd, &fp->tail_fwd, &fp->tail_bwd};
+    fftw_plan *plans[] = {&fp->slab_fwd, &fp->slab_bwd, &fp->col_fwd, &fp->col_bwd, &fp->tail_fwd, &fp->tail_bwd,
+                          &fp->chunk_fwd, &fp->chunk_bwd, &fp->chunk_tail_fwd, &fp->chunk_tail_bwd};
     for (size_t i = 0; i < sizeof plans / sizeof plans[0]; i++) {
         if (*plans[i]) fftw_destroy_plan(*plans[i]);
         *plans[i] = NULL;
@@ -154,15 +155,13 @@ static void block_bands(const pf_grid *g, const double complex *buf, size_t ld, 
     }
 }
 
-pf_status pf_fused_flight(pf_grid *g, double complex *data, double scale, double *band_sums)
+/* The column-block sweep: axis-0 forward transform, scale * P0[i] P1[j]
+ * P2[k], axis-0 backward transform; guard-band partials when band_sums. */
+static void column_sweep(pf_grid *g, double complex *data, double scale, double complex *const *P, int band_sums)
 {
-    pf_status s = fused_plan(g);
-    if (s) return s;
     const pf_fused_plans *fp = &g->fused;
     const size_t n0 = g->n[0], plane = g->total / n0, n2 = g->dim == 3 ? g->n[2] : 1;
-    double complex *const *P = g->flight.phase;
     const pf_phase_row_fn phase_row = pf_phase_kernel();
-    fftw_execute_dft(fp->slab_fwd, data, data);
 #pragma omp parallel for num_threads(fp->threads) schedule(static)
     for (ptrdiff_t b = 0; b < (ptrdiff_t)fp->blocks; b++) {
         const size_t q0 = (size_t)b * fp->block;
@@ -182,6 +181,15 @@ pf_status pf_fused_flight(pf_grid *g, double complex *data, double scale, double
         fftw_execute_dft(partial ? fp->tail_bwd : fp->col_bwd, buf, buf);
         scatter(buf, fp->ld, n0, width, data + q0, plane);
     }
+}
+
+pf_status pf_fused_flight(pf_grid *g, double complex *data, double scale, double *band_sums)
+{
+    pf_status s = fused_plan(g);
+    if (s) return s;
+    const pf_fused_plans *fp = &g->fused;
+    fftw_execute_dft(fp->slab_fwd, data, data);
+    column_sweep(g, data, scale, g->flight.phase, band_sums != NULL);
     fftw_execute_dft(fp->slab_bwd, data, data);
     if (band_sums) {
         /* S = DFT / N: |S|^2 = scale^2 |DFT|^2. */
@@ -192,4 +200,75 @@ pf_status pf_fused_flight(pf_grid *g, double complex *data, double scale, double
         }
     }
     return PF_OK;
+}
+
+/* Bytes a chunk aims at: it and FFTW's twiddles stay in a core's L2 cache
+ * (1 MB on the reference machine) between the backward transform, the
+ * pointwise work and the forward transform. */
+#define CHUNK_BYTES ((size_t)256 * 1024)
+
+static fftw_plan chunk_plan(const pf_grid *g, size_t rows, double complex *scratch, int sign, unsigned flags)
+{
+    int tn[PF_MAX_DIM - 1];
+    for (int a = 1; a < g->dim; a++) tn[a - 1] = (int)g->n[a];
+    int plane = (int)(g->total / g->n[0]);
+    return fftw_plan_many_dft(g->dim - 1, tn, (int)rows, scratch, NULL, 1, plane, scratch, NULL, 1, plane, sign,
+                              flags);
+}
+
+pf_status pf_fused_prepare_chunks(pf_grid *g)
+{
+    pf_status s = fused_plan(g);
+    if (s) return s;
+    pf_fused_plans *fp = &g->fused;
+    if (fp->chunk_fwd) return PF_OK;
+    pf_context *ctx = g->ctx;
+    const size_t n0 = g->n[0], plane = g->total / n0;
+    size_t rows = CHUNK_BYTES / (plane * sizeof(double complex));
+    if (rows < 1) rows = 1;
+    if (rows > n0) rows = n0;
+    fp->rows = rows;
+    fp->rows_tail = n0 % rows;
+    fp->chunks = n0 / rows + (fp->rows_tail ? 1 : 0);
+    size_t bytes = pf_bytes(rows * plane, sizeof(double complex));
+    double complex *scratch = pf_alloc(ctx, bytes);
+    if (!scratch) return pf_context_status(ctx);
+    unsigned flags = pf_context_prepare_planner(ctx);
+    fftw_plan_with_nthreads(1);
+    fp->chunk_fwd = chunk_plan(g, rows, scratch, FFTW_FORWARD, flags);
+    fp->chunk_bwd = chunk_plan(g, rows, scratch, FFTW_BACKWARD, flags);
+    if (fp->rows_tail) {
+        fp->chunk_tail_fwd = chunk_plan(g, fp->rows_tail, scratch, FFTW_FORWARD, flags);
+        fp->chunk_tail_bwd = chunk_plan(g, fp->rows_tail, scratch, FFTW_BACKWARD, flags);
+    }
+    fftw_plan_with_nthreads(ctx->threads);
+    pf_free(ctx, scratch, bytes);
+    if (!fp->chunk_fwd || !fp->chunk_bwd || (fp->rows_tail && (!fp->chunk_tail_fwd || !fp->chunk_tail_bwd))) {
+        pf_fused_release(g);
+        return pf_fail(ctx, PF_EFFT, "FFTW could not plan the split-step transforms of %zu points", g->total);
+    }
+    pf_context_store_wisdom(ctx);
+    fftw_plan set[4] = {fp->chunk_fwd, fp->chunk_bwd, fp->chunk_tail_fwd, fp->chunk_tail_bwd};
+    return pf_context_note_plans(ctx, "chunks", g, set, 4);
+}
+
+void pf_fused_chunks(pf_grid *g, double complex *data, int backward, pf_chunk_fn fn, void *user, int forward)
+{
+    const pf_fused_plans *fp = &g->fused;
+    const size_t plane = g->total / g->n[0];
+#pragma omp parallel for num_threads(fp->threads) schedule(static)
+    for (ptrdiff_t c = 0; c < (ptrdiff_t)fp->chunks; c++) {
+        const size_t begin = (size_t)c * fp->rows * plane;
+        const int short_one = (size_t)(c + 1) * fp->rows > g->n[0];
+        const size_t count = (short_one ? fp->rows_tail : fp->rows) * plane;
+        double complex *chunk = data + begin;
+        if (backward) fftw_execute_dft(short_one ? fp->chunk_tail_bwd : fp->chunk_bwd, chunk, chunk);
+        if (fn) fn(user, chunk, begin, count);
+        if (forward) fftw_execute_dft(short_one ? fp->chunk_tail_fwd : fp->chunk_fwd, chunk, chunk);
+    }
+}
+
+void pf_fused_columns(pf_grid *g, double complex *data, double scale, double complex *const *tables)
+{
+    column_sweep(g, data, scale, tables, 0);
 }

@@ -67,6 +67,13 @@ typedef struct pf_fused_plans {
     double complex *buf;          /* threads x block x ld values */
     size_t buf_bytes;
     double *part;                 /* blocks x PF_MAX_DIM partial guard-band sums */
+    /* Split-step sweeps (pf_fused_chunks): one-thread plans of the trailing
+     * axes for a chunk of `rows` consecutive axis-0 indices (and for the
+     * last, shorter chunk), made at the first split step.  Chunks are shared
+     * out among threads, each running the same plan, so the bits do not
+     * depend on the thread count. */
+    size_t rows, rows_tail, chunks;
+    fftw_plan chunk_fwd, chunk_bwd, chunk_tail_fwd, chunk_tail_bwd;
 } pf_fused_plans;
 
 struct pf_grid {
@@ -194,6 +201,24 @@ double complex *pf_wave_overwrite(pf_wave *w);
 pf_status pf_fused_flight(pf_grid *g, double complex *data, double scale, double *band_sums);
 /* Releases the fused plans and buffers (grid teardown, thread change). */
 void pf_fused_release(pf_grid *g);
+
+/* The split step's sweeps on a 2D/3D grid (pf_fused.c, used by
+ * pf_splitstep.c).  The data are cut into chunks of whole axis-0 slices
+ * (about 256 kB each); a chunk is transformed over its trailing axes while it
+ * sits in cache, so pointwise work placed between the backward and the next
+ * forward transform costs no pass over memory of its own.
+ * pf_fused_prepare_chunks makes the plans (PF_ELIMIT / PF_ENOMEM / PF_EFFT).
+ * pf_fused_chunks: for every chunk, in parallel: backward trailing-axes
+ * transform if `backward`, then fn(user, chunk, begin, count) on its
+ * storage offsets [begin, begin + count) if fn, then forward transform if
+ * `forward`.  fn runs inside the parallel region and must not start its own.
+ * pf_fused_columns: the axis-0 forward transform, the factor
+ * scale * T0[i] T1[j] T2[k] (tables in FFT storage order) and the axis-0
+ * backward transform, block by block (as in pf_fused_flight). */
+typedef void (*pf_chunk_fn)(void *user, double complex *chunk, size_t begin, size_t count);
+pf_status pf_fused_prepare_chunks(pf_grid *g);
+void pf_fused_chunks(pf_grid *g, double complex *data, int backward, pf_chunk_fn fn, void *user, int forward);
+void pf_fused_columns(pf_grid *g, double complex *data, double scale, double complex *const *tables);
 
 /* row[j] *= (qr + i qi) * p[j] for j < n, on interleaved (re, im) doubles:
  * the flight phase pass, vectorised for this processor (pf_flight.c). */

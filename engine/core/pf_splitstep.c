@@ -110,47 +110,71 @@ static double max_density(pf_wave *w)
     return m;
 }
 
-/* data *= exp(-i (V + g |psi|^2) f), f = coef h / hbar, for V given per point. */
-static void potential_pass_direct(evolve_ws *ws, const double *V, double coef)
-{
-    const double f = coef * ws->h / PF_HBAR, gc = ws->spec->g;
-    double complex *d = ws->w->store;
-    ptrdiff_t n = (ptrdiff_t)ws->g->total;
-#pragma omp parallel for num_threads(ws->g->ctx->threads) schedule(static)
-    for (ptrdiff_t i = 0; i < n; i++) {
-        double complex z = d[i];
-        double u = V ? V[i] : 0.0;
-        if (gc != 0) u += gc * (creal(z) * creal(z) + cimag(z) * cimag(z));
-        d[i] = z * cexp(-I * (u * f));
-    }
-}
+/* One potential sub-step as a pointwise factor: either exp(-i (V + g
+ * |psi|^2) f) evaluated per point (mean field, V(x, t), or no stored
+ * exponentials), or a product of the stored static exponentials. */
+typedef struct pot_pass {
+    int active;                     /* 0: the factor is 1, nothing to do */
+    int direct;                     /* evaluate per point (V, f, gc) */
+    const double *V;                /* V per point, NULL: 0 */
+    double f, gc;                   /* f = coef h / hbar; gc = g */
+    const double complex *e1, *e2;  /* static: 0 e1, 1 e1^2, 2 e1 e2 */
+    int which;
+} pot_pass;
 
-/* Static linear potential: which product of the stored exponentials is the
- * factor for a boundary (0: e1, 1: e1^2, 2: e1 e2). */
-static void potential_pass_static(evolve_ws *ws, int which)
+/* Applies the factor to d[0..count), the points [begin, begin + count). */
+static void pot_apply(const pot_pass *p, double complex *restrict d, size_t begin, size_t count)
 {
-    double complex *d = ws->w->store;
-    const double complex *e1 = ws->e1, *e2 = ws->e2;
-    ptrdiff_t n = (ptrdiff_t)ws->g->total;
-    const int threads = ws->g->ctx->threads;
-    if (which == 0) {
-#pragma omp parallel for num_threads(threads) schedule(static)
-        for (ptrdiff_t i = 0; i < n; i++) d[i] *= e1[i];
-    } else if (which == 1) {
-#pragma omp parallel for num_threads(threads) schedule(static)
-        for (ptrdiff_t i = 0; i < n; i++) d[i] *= e1[i] * e1[i];
+    if (p->direct) {
+        const double *V = p->V ? p->V + begin : NULL;
+        const double f = p->f, gc = p->gc;
+        for (size_t i = 0; i < count; i++) {
+            double complex z = d[i];
+            double u = V ? V[i] : 0.0;
+            if (gc != 0) u += gc * (creal(z) * creal(z) + cimag(z) * cimag(z));
+            d[i] = z * cexp(-I * (u * f));
+        }
+        return;
+    }
+    const double complex *restrict e1 = p->e1 + begin, *restrict e2 = p->e2 ? p->e2 + begin : NULL;
+    if (p->which == 0) {
+        for (size_t i = 0; i < count; i++) d[i] *= e1[i];
+    } else if (p->which == 1) {
+        for (size_t i = 0; i < count; i++) d[i] *= e1[i] * e1[i];
     } else {
-#pragma omp parallel for num_threads(threads) schedule(static)
-        for (ptrdiff_t i = 0; i < n; i++) d[i] *= e1[i] * e2[i];
+        for (size_t i = 0; i < count; i++) d[i] *= e1[i] * e2[i];
     }
 }
 
-/* Applies the potential for fraction coef of the step at clock time t.
- * kind: 0 an end half (c1/2), 1 a merged boundary (c1), 2 an inner boundary
- * ((c1 + c0)/2) - the static arrays are indexed by it. */
-static pf_status potential_step(evolve_ws *ws, double coef, int kind, double t)
+static void pot_chunk(void *user, double complex *chunk, size_t begin, size_t count)
+{
+    pot_apply(user, chunk, begin, count);
+}
+
+/* The factor over the whole grid (the separate-steps path): blocks of a
+ * fixed size shared out among threads. */
+#define POT_BLOCK ((size_t)16384)
+static void pot_apply_all(evolve_ws *ws, const pot_pass *p)
+{
+    if (!p->active) return;
+    double complex *d = ws->w->store;
+    const size_t total = ws->g->total;
+    const ptrdiff_t blocks = (ptrdiff_t)((total + POT_BLOCK - 1) / POT_BLOCK);
+#pragma omp parallel for num_threads(ws->g->ctx->threads) schedule(static)
+    for (ptrdiff_t b = 0; b < blocks; b++) {
+        size_t begin = (size_t)b * POT_BLOCK, count = total - begin < POT_BLOCK ? total - begin : POT_BLOCK;
+        pot_apply(p, d + begin, begin, count);
+    }
+}
+
+/* The potential for fraction coef of the step at clock time t, as a pass
+ * (a V(x, t) callback is sampled here).  kind: 0 an end half (c1/2), 1 a
+ * merged boundary (c1), 2 an inner boundary ((c1 + c0)/2) - the static
+ * arrays are indexed by it. */
+static pf_status potential_plan(evolve_ws *ws, double coef, int kind, double t, pot_pass *p)
 {
     const pf_evolve_spec *sp = ws->spec;
+    memset(p, 0, sizeof *p);
     if (sp->varying) {
         if (!(ws->vbuf_valid && ws->vbuf_time == t)) {
             if (sp->varying(sp->user, t, ws->vbuf) != 0) return PF_ECALLBACK;
@@ -159,13 +183,30 @@ static pf_status potential_step(evolve_ws *ws, double coef, int kind, double t)
             if (s) return s;
         }
         ws->vbuf_valid = 0;
-        potential_pass_direct(ws, ws->vbuf, coef);
+        p->V = ws->vbuf;
     } else if (sp->g != 0 || !sp->potential) {
         if (!sp->potential && sp->g == 0) return PF_OK;
-        potential_pass_direct(ws, sp->potential, coef);
+        p->V = sp->potential;
     } else {
-        potential_pass_static(ws, kind);
+        p->active = 1;
+        p->e1 = ws->e1;
+        p->e2 = ws->e2;
+        p->which = kind;
+        return PF_OK;
     }
+    p->active = 1;
+    p->direct = 1;
+    p->f = coef * ws->h / PF_HBAR;
+    p->gc = sp->g;
+    return PF_OK;
+}
+
+static pf_status potential_step(evolve_ws *ws, double coef, int kind, double t)
+{
+    pot_pass p;
+    pf_status s = potential_plan(ws, coef, kind, t, &p);
+    if (s) return s;
+    pot_apply_all(ws, &p);
     return PF_OK;
 }
 
@@ -176,6 +217,90 @@ static pf_status kinetic_step(evolve_ws *ws, int table)
     pf_kernel_axis_multiply(ws->g, ws->w->store, (const double complex *const *)ws->kin[table],
                             1.0 / (double)ws->g->total);
     return pf_grid_fft(ws->g, ws->w->store, +1);
+}
+
+/* Which kinetic table stage j uses, and the potential sub-step that follows
+ * it: fraction, kind (see potential_plan) and clock time. */
+static int stage_table(const scheme *sc, int j) { return sc->stages == 1 || j != 1 ? 0 : 1; }
+
+static void stage_potential(const evolve_ws *ws, size_t step, size_t n, int j, double tau, double t0, double t,
+                            double *coef, int *kind, double *when)
+{
+    const scheme *sc = &ws->sc;
+    if (j + 1 < sc->stages) {
+        *coef = 0.5 * (sc->c[j] + sc->c[j + 1]);
+        *kind = 2;
+        *when = t0 + ws->h * ((double)step + tau);
+    } else if (step + 1 < n) {
+        *coef = 0.5 * (sc->c[j] + sc->c[0]);
+        *kind = 1;
+        *when = t0 + ws->h * (double)(step + 1);
+    } else {
+        *coef = 0.5 * sc->c[j];
+        *kind = 0;
+        *when = t0 + t;
+    }
+}
+
+/* The separate steps: P(c0/2) K(c0) P((c0+c1)/2) K(c1) ... K(c_last)
+ * P(merged or c_last/2), each K a full forward and backward transform. */
+static pf_status run_separate(evolve_ws *ws, size_t n, double t0, double t)
+{
+    const scheme *sc = &ws->sc;
+    pf_status s = potential_step(ws, 0.5 * sc->c[0], 0, t0);
+    for (size_t step = 0; step < n && !s; step++) {
+        /* One poll per step (a few FFTs): a stop request ends a long evolve
+         * within one step instead of at its end. */
+        if ((s = pf_context_poll_stop(ws->g->ctx))) break;
+        double tau = 0;
+        for (int j = 0; j < sc->stages && !s; j++) {
+            s = kinetic_step(ws, stage_table(sc, j));
+            if (s) break;
+            tau += sc->c[j];
+            double coef, when;
+            int kind;
+            stage_potential(ws, step, n, j, tau, t0, t, &coef, &kind, &when);
+            s = potential_step(ws, coef, kind, when);
+        }
+    }
+    return s;
+}
+
+/* The same sequence in two sweeps over memory per kinetic sub-step on a
+ * 2D/3D grid (pf_fused_chunks, pf_fused_columns): between sub-steps the data
+ * stay transformed over the trailing axes, and each chunk goes backward,
+ * takes the potential factor and goes forward again while in cache; the
+ * kinetic factor is applied to column blocks between their axis-0
+ * transforms.  A stop or a failing callback first brings the data back to
+ * position representation. */
+static pf_status run_fused(evolve_ws *ws, size_t n, double t0, double t)
+{
+    pf_grid *g = ws->g;
+    double complex *d = ws->w->store;
+    const scheme *sc = &ws->sc;
+    const double scale = 1.0 / (double)g->total;
+    pot_pass p;
+    pf_status s = potential_plan(ws, 0.5 * sc->c[0], 0, t0, &p);
+    if (s) return s;
+    pf_fused_chunks(g, d, 0, p.active ? pot_chunk : NULL, &p, 1);
+    for (size_t step = 0; step < n; step++) {
+        if ((s = pf_context_poll_stop(g->ctx))) break;
+        double tau = 0;
+        for (int j = 0; j < sc->stages; j++) {
+            pf_fused_columns(g, d, scale, ws->kin[stage_table(sc, j)]);
+            tau += sc->c[j];
+            double coef, when;
+            int kind;
+            stage_potential(ws, step, n, j, tau, t0, t, &coef, &kind, &when);
+            if ((s = potential_plan(ws, coef, kind, when, &p))) break;
+            int last = step + 1 == n && j + 1 == sc->stages;
+            pf_fused_chunks(g, d, 1, p.active ? pot_chunk : NULL, &p, !last);
+            if (last) return PF_OK;
+        }
+        if (s) break;
+    }
+    pf_fused_chunks(g, d, 1, NULL, NULL, 0);
+    return s;
 }
 
 void pf_evolve_cache_init(pf_evolve_cache *c) { memset(c, 0, sizeof *c); }
@@ -243,7 +368,7 @@ static pf_status prepare(evolve_ws *ws)
     return PF_OK;
 }
 
-pf_status pf_wave_evolve(pf_wave *w, double t, const pf_evolve_spec *spec, pf_evolve_info *info)
+static pf_status evolve(pf_wave *w, double t, const pf_evolve_spec *spec, pf_evolve_info *info, int separate)
 {
     pf_grid *g = w->grid;
     pf_context *ctx = g->ctx;
@@ -318,28 +443,19 @@ pf_status pf_wave_evolve(pf_wave *w, double t, const pf_evolve_spec *spec, pf_ev
         return s;
     }
 
-    /* P(c0/2) K(c0) P((c0+c1)/2) K(c1) ... K(c_last) P(merged or c_last/2). */
-    const scheme *sc = &ws.sc;
     const double t0 = w->clock;
-    s = potential_step(&ws, 0.5 * sc->c[0], 0, t0);
-    for (size_t step = 0; step < n && !s; step++) {
-        /* One poll per step (a few FFTs): a stop request ends a long evolve
-         * within one step instead of at its end. */
-        if ((s = pf_context_poll_stop(ctx))) break;
-        double tau = 0;
-        for (int j = 0; j < sc->stages && !s; j++) {
-            s = kinetic_step(&ws, sc->stages == 1 || j != 1 ? 0 : 1);
-            if (s) break;
-            tau += sc->c[j];
-            double when = t0 + ws.h * ((double)step + tau);
-            if (j + 1 < sc->stages)
-                s = potential_step(&ws, 0.5 * (sc->c[j] + sc->c[j + 1]), 2, when);
-            else if (step + 1 < n)
-                s = potential_step(&ws, 0.5 * (sc->c[j] + sc->c[0]), 1, t0 + ws.h * (double)(step + 1));
-            else
-                s = potential_step(&ws, 0.5 * sc->c[j], 0, t0 + t);
+    int fused = g->dim >= 2 && !separate;
+    if (fused) {
+        s = pf_fused_prepare_chunks(g);
+        /* Under a tight memory cap the separate steps, which need no
+         * buffers of their own, still work. */
+        if (s == PF_ELIMIT || s == PF_ENOMEM) fused = 0;
+        else if (s) {
+            ws_free(&ws);
+            return s;
         }
     }
+    s = fused ? run_fused(&ws, n, t0, t) : run_separate(&ws, n, t0, t);
     ws_free(&ws);
     if (s) {
         pf_guard_forget(w); /* the data changed part-way without a logged step */
@@ -350,4 +466,14 @@ pf_status pf_wave_evolve(pf_wave *w, double t, const pf_evolve_spec *spec, pf_ev
                                           : (spec->g != 0 ? "yoshida-4-gp" : "yoshida-4");
     pf_wave_log_step(w, "evolve", method, t, 0.0, norm);
     return PF_OK;
+}
+
+pf_status pf_wave_evolve(pf_wave *w, double t, const pf_evolve_spec *spec, pf_evolve_info *info)
+{
+    return evolve(w, t, spec, info, 0);
+}
+
+pf_status pf_wave_evolve_separate(pf_wave *w, double t, const pf_evolve_spec *spec, pf_evolve_info *info)
+{
+    return evolve(w, t, spec, info, 1);
 }
