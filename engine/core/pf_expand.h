@@ -70,7 +70,7 @@ const char *pf_expand_scaling_name(pf_expand_scaling s);
  * rest of the flight: lambda_j + lambda_j' rest within this fraction of the
  * law's lambda_j at the end (a cloud released at rest must gather speed in
  * its frame first, or the free step would leave it on an unexpanded grid). */
-#define PF_EXPAND_LINEAR_GAP 0.02
+#define PF_EXPAND_LINEAR_GAP 0.005
 
 typedef struct pf_expand_spec {
     double g;                  /* mean-field coefficient (J m^d) for psi normalised to 1, as evolve takes it */

@@ -22,8 +22,8 @@ do
   local _, info = w:expand(t, {omega = omega, scaling = "ballistic", order = 4})
   check.near(w:position_width(), s0 * math.sqrt(1 + (omega * t) ^ 2), 1e-6,
              "ballistic: width = sigma0 sqrt(1 + omega^2 t^2)", "free Gaussian spreading; textbook")
-  -- After the handover the frame grows linearly, within 2 % of the law.
-  check.near(info.lambda[1], math.sqrt(1 + (omega * t) ^ 2), 0.02, "ballistic lambda(t), linear after the handover",
+  -- After the handover the frame grows linearly, within 0.5 % of the law.
+  check.near(info.lambda[1], math.sqrt(1 + (omega * t) ^ 2), 0.005, "ballistic lambda(t), linear after the handover",
              "free Gaussian spreading; textbook")
   check.near(w:grid():spacing(1), g:spacing(1) * info.lambda[1], 1e-12, "the grid spacing grows by lambda",
              "pf_expand.h contract")
