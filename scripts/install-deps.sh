@@ -39,6 +39,7 @@ TEST=(
   python3 python3-numpy python3-scipy python3-h5py
   hdf5-tools
   strace
+  netcdf-bin udunits-bin  # ncdump and udunits2 read the HDF5 files (tests/ref/test_h5_netcdf.sh)
   clang libclang-rt-14-dev libomp-14-dev
 )
 

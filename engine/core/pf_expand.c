@@ -6,6 +6,7 @@
 #include <string.h>
 #include "pf_constants.h"
 #include "pf_expand.h"
+#include "pf_frame.h"
 #include "pf_guard.h"
 #include "pf_internal.h"
 #include "pf_kernels.h"
@@ -312,6 +313,10 @@ static pf_status check_spec(pf_context *ctx, int d, double t, const pf_expand_sp
     if ((double)sp->steps > MAX_STEPS)
         return pf_fail(ctx, PF_EINVAL, "steps must be at most %.0f, got %zu", MAX_STEPS, sp->steps);
     for (int a = 0; a < d; a++)
+        if (!isfinite(sp->acceleration[a]))
+            return pf_fail(ctx, PF_EINVAL, "acceleration on axis %d must be finite (m/s^2), got %g", a + 1,
+                           sp->acceleration[a]);
+    for (int a = 0; a < d; a++)
         if (!isfinite(sp->omega[a]) || sp->omega[a] < 0)
             return pf_fail(ctx, PF_EINVAL, "omega on axis %d must be finite and not negative (rad/s), got %g", a + 1,
                            sp->omega[a]);
@@ -516,6 +521,15 @@ pf_status pf_wave_expand(pf_wave *w, double t, const pf_expand_spec *spec, pf_ex
         info->rate[a] = f.rate[a];
     }
     w->clock = t0 + t;
+    /* The frame carries the acceleration and any drift (Avron-Herbst). */
+    int accelerated = 0;
+    for (int a = 0; a < d; a++) accelerated |= spec->acceleration[a] != 0;
+    if (accelerated || pf_wave_frame_moved(w)) {
+        pf_frame fr;
+        pf_wave_frame(w, &fr);
+        pf_frame_advance(&fr, d, w->mass, t, accelerated ? spec->acceleration : NULL);
+        if ((s = pf_wave_set_frame(w, &fr))) return s;
+    }
     char method[40];
     snprintf(method, sizeof method, "%s%s", pf_expand_scaling_name(spec->scaling), handed ? "+free" : "");
     pf_wave_log_step(w, "expand", method, t, 0.0, norm);

@@ -42,6 +42,13 @@
  * energy still in interaction at that moment bounds what the asymptotic
  * expansion speed misses: a relative error of at most about handover / 2.
  *
+ * Uniform acceleration (gravity) goes into the wave's moving frame
+ * (pf_frame.h): the Avron-Herbst factorisation holds for the
+ * Gross-Pitaevskii equation too, because the mean field depends on |psi|^2
+ * only, so the grid state expands as in free flight and the frame's offsets
+ * and phase advance in closed form (pf_frame_advance).  A frame that already
+ * moves (a launched cloud) keeps moving the same way.
+ *
  * The result is written back on the lab grid: same point counts and origin,
  * spacings lambda_j dxi_j, the chirp and Lambda^(-1/2) applied (per-axis
  * tables).  On that coarse grid the chirp may exceed the Nyquist wave number:
@@ -79,6 +86,7 @@ typedef struct pf_expand_spec {
     size_t steps;              /* equal steps over the interacting part; 0: adaptive */
     int order;                 /* 2 (Strang) or 4 (Yoshida) */
     double handover;           /* interaction-energy fraction for the free handover, in [0, 1); 0: never */
+    double acceleration[PF_MAX_DIM]; /* uniform acceleration (m/s^2) carried by the wave's frame; 0: none */
 } pf_expand_spec;
 
 typedef struct pf_expand_info {

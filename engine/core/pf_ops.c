@@ -6,6 +6,7 @@
 #include <stdlib.h>
 #include <string.h>
 #include "pf_constants.h"
+#include "pf_edges.h"
 #include "pf_kernels.h"
 #include "pf_ops.h"
 
@@ -189,8 +190,10 @@ pf_status pf_wave_imprint(pf_wave *w, pf_sample_fn fn, void *user)
  * open one period of a grating and close the next. */
 #define EDGE_EPS 1e-9
 
+static int exact_edges(const pf_edges *e) { return e && e->mode == PF_EDGES_EXACT; }
+
 pf_status pf_wave_slits(pf_wave *w, int axis, int count, double width, double pitch, double center,
-                        double *removed)
+                        const pf_edges *edges, double *removed)
 {
     pf_grid *g = w->grid;
     pf_status s = check_axis(g, axis, "slits");
@@ -202,8 +205,17 @@ pf_status pf_wave_slits(pf_wave *w, int axis, int count, double width, double pi
     if (count > 1 && (!isfinite(pitch) || pitch <= width))
         return pf_fail(g->ctx, PF_EINVAL, "pitch must be finite and larger than the width %g m, got %g",
                        width, pitch);
+    if (edges && (s = pf_edges_check(g, edges))) return s;
     axis_tables at;
     if ((s = tables_alloc(g, &at, 1u << axis))) return s;
+    if (exact_edges(edges)) {
+        double start = center - 0.5 * (count - 1) * pitch - 0.5 * width;
+        if (!(s = pf_edges_comb_table(g, axis, start, width, count > 1 ? pitch : width, 0, count - 1, edges,
+                                      at.t[axis])))
+            s = apply_position_mask(w, &at, count == 1 ? "slit" : "slits", removed);
+        tables_free(&at);
+        return s;
+    }
     double half = 0.5 * width * (1.0 + EDGE_EPS);
     for (size_t j = 0; j < g->n[axis]; j++) {
         double x = g->x[axis][j] - center;
@@ -225,7 +237,7 @@ pf_status pf_wave_slits(pf_wave *w, int axis, int count, double width, double pi
 }
 
 pf_status pf_wave_mask_grating(pf_wave *w, int axis, double period, double open_fraction, double offset,
-                               double *removed)
+                               const pf_edges *edges, double *removed)
 {
     pf_grid *g = w->grid;
     pf_status s = check_axis(g, axis, "mask_grating");
@@ -235,8 +247,19 @@ pf_status pf_wave_mask_grating(pf_wave *w, int axis, double period, double open_
     if (!(open_fraction > 0 && open_fraction <= 1))
         return pf_fail(g->ctx, PF_EINVAL, "open_fraction must be in (0, 1], got %g", open_fraction);
     if (!isfinite(offset)) return pf_fail(g->ctx, PF_EINVAL, "offset must be finite (m), got %g", offset);
+    if (edges && (s = pf_edges_check(g, edges))) return s;
     axis_tables at;
     if ((s = tables_alloc(g, &at, 1u << axis))) return s;
+    if (exact_edges(edges)) {
+        /* Every period that can meet the window, and one more on each side. */
+        double x0 = g->x[axis][0];
+        double first = floor((x0 - offset) / period) - 1, last = ceil((x0 + g->span[axis] - offset) / period) + 1;
+        if (!(s = pf_edges_comb_table(g, axis, offset, open_fraction * period, period, first, last, edges,
+                                      at.t[axis])))
+            s = apply_position_mask(w, &at, "grating", removed);
+        tables_free(&at);
+        return s;
+    }
     for (size_t j = 0; j < g->n[axis]; j++) {
         double u = (g->x[axis][j] - offset) / period;
         double r = u - floor(u);
@@ -248,7 +271,8 @@ pf_status pf_wave_mask_grating(pf_wave *w, int axis, double period, double open_
     return s;
 }
 
-pf_status pf_wave_aperture_rect(pf_wave *w, const double *center, const double *size, double *removed)
+pf_status pf_wave_aperture_rect(pf_wave *w, const double *center, const double *size, const pf_edges *edges,
+                                double *removed)
 {
     pf_grid *g = w->grid;
     unsigned mask = 0;
@@ -259,12 +283,21 @@ pf_status pf_wave_aperture_rect(pf_wave *w, const double *center, const double *
             return pf_fail(g->ctx, PF_EINVAL, "center on axis %d must be finite (m), got %g", a + 1, center[a]);
         if (isfinite(size[a])) mask |= 1u << a;
     }
+    pf_status s;
+    if (edges && (s = pf_edges_check(g, edges))) return s;
     axis_tables at;
-    pf_status s = tables_alloc(g, &at, mask);
-    if (s) return s;
+    if ((s = tables_alloc(g, &at, mask))) return s;
     for (int a = 0; a < g->dim; a++) {
         if (!at.t[a]) continue;
-        double c = center ? center[a] : 0.0, half = 0.5 * size[a] * (1.0 + EDGE_EPS);
+        double c = center ? center[a] : 0.0;
+        if (exact_edges(edges)) {
+            if ((s = pf_edges_comb_table(g, a, c - 0.5 * size[a], size[a], size[a], 0, 0, edges, at.t[a]))) {
+                tables_free(&at);
+                return s;
+            }
+            continue;
+        }
+        double half = 0.5 * size[a] * (1.0 + EDGE_EPS);
         for (size_t j = 0; j < g->n[a]; j++) at.t[a][j] = fabs(g->x[a][j] - c) <= half ? 1.0 : 0.0;
     }
     s = apply_position_mask(w, &at, "rectangle", removed);
@@ -273,7 +306,7 @@ pf_status pf_wave_aperture_rect(pf_wave *w, const double *center, const double *
 }
 
 pf_status pf_wave_aperture_circle(pf_wave *w, int axis_a, int axis_b, const double *center, double radius,
-                                  double *removed)
+                                  const pf_edges *edges, double *removed)
 {
     pf_grid *g = w->grid;
     if (g->dim < 2)
@@ -288,12 +321,17 @@ pf_status pf_wave_aperture_circle(pf_wave *w, int axis_a, int axis_b, const doub
     double c0 = center ? center[0] : 0.0, c1 = center ? center[1] : 0.0;
     if (!isfinite(c0) || !isfinite(c1))
         return pf_fail(g->ctx, PF_EINVAL, "center must be finite (m), got (%g, %g)", c0, c1);
+    if (edges && (s = pf_edges_check(g, edges))) return s;
     size_t bytes = pf_bytes(g->total, sizeof(double complex));
     double complex *f = pf_alloc(g->ctx, bytes);
     if (!f) return pf_context_status(g->ctx);
     double r2 = radius * radius * (1.0 + 2 * EDGE_EPS);
     size_t idx[PF_MAX_DIM];
-    for (size_t off = 0; off < g->total; off++) {
+    if (exact_edges(edges) && (s = pf_edges_disk_field(g, axis_a, axis_b, c0, c1, radius, edges, f))) {
+        pf_free(g->ctx, f, bytes);
+        return s;
+    }
+    for (size_t off = 0; !exact_edges(edges) && off < g->total; off++) {
         size_t rest = off;
         for (int a = g->dim - 1; a >= 0; a--) {
             idx[a] = rest % g->n[a];

@@ -13,6 +13,7 @@
 #ifndef PF_OPS_H
 #define PF_OPS_H
 
+#include "pf_edges.h"
 #include "pf_wave.h"
 
 /* psi(x) *= exp(i phase(x)); fn writes the phase (rad) into the real part of
@@ -38,26 +39,33 @@ pf_status pf_wave_lens(pf_wave *w, int axis, double focal_time, const double *ce
  * negligible there. */
 pf_status pf_wave_kick(pf_wave *w, const double *k);
 
+/* Edges of the amplitude masks below: `edges` NULL (or mode PF_EDGES_CELLS)
+ * samples the mask at grid points, each point open or shut (a point on an
+ * edge is open); mode PF_EDGES_EXACT puts the edges where they are, between
+ * points, through the mask's band-limited Fourier series, optionally with a
+ * Gaussian soft edge (pf_edges.h). */
+
 /* N equal slits of full width `width` (m), centres center + (i - (N-1)/2)
- * pitch along the axis; points outside every slit are blocked (hard edges,
- * a point on an edge is open).  count >= 1; pitch > width when count > 1. */
+ * pitch along the axis; everything outside the slits is blocked.
+ * count >= 1; pitch > width when count > 1. */
 pf_status pf_wave_slits(pf_wave *w, int axis, int count, double width, double pitch, double center,
-                        double *removed);
+                        const pf_edges *edges, double *removed);
 
 /* Periodic amplitude grating: open where frac((x - offset)/period) < open_fraction.
  * period > 0, 0 < open_fraction <= 1. */
 pf_status pf_wave_mask_grating(pf_wave *w, int axis, double period, double open_fraction, double offset,
-                               double *removed);
+                               const pf_edges *edges, double *removed);
 
 /* Rectangular aperture: open where |x_a - center_a| <= size_a / 2 on every
  * axis; size_a = INFINITY leaves axis a unbounded.  center may be NULL. */
-pf_status pf_wave_aperture_rect(pf_wave *w, const double *center, const double *size, double *removed);
+pf_status pf_wave_aperture_rect(pf_wave *w, const double *center, const double *size, const pf_edges *edges,
+                                double *removed);
 
 /* Circular aperture in the plane of axes (a, b) (a != b, grid dim >= 2):
  * open where (x_a - c0)^2 + (x_b - c1)^2 <= radius^2; in 3D it is a round
  * hole extending along the remaining axis.  center may be NULL. */
 pf_status pf_wave_aperture_circle(pf_wave *w, int axis_a, int axis_b, const double *center, double radius,
-                                  double *removed);
+                                  const pf_edges *edges, double *removed);
 
 /* User transmission amplitude t(x) (rep PF_POSITION) or t(k) (PF_MOMENTUM,
  * coordinates are wave numbers in rad/m): psi *= t.  |t| must not exceed 1

@@ -1,11 +1,13 @@
 /* pf_h5.c - writing and reading psiflight's HDF5 layout (docs/file-layout.md)
  * with the HDF5 C library, deterministically. */
+#include <complex.h>
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 #include <hdf5.h>
 #include <hdf5_hl.h>
+#include "../core/pf_species.h"
 #include "../core/pf_version.h"
 #include "pf_h5.h"
 #include "pf_readcap.h"
@@ -19,7 +21,20 @@ struct pf_h5 {
     hid_t file;
     hid_t ocpl_group, ocpl_data, lcpl;
     pf_safefile sf;
+    /* Provenance gathered while items are written, stored at commit:
+     * each wave item's species line and step log (NULL: none yet). */
+    int provenance;        /* pf_h5_set_provenance made the group */
+    char *species, *steps; /* newline-joined text */
 };
+
+/* Datasets with at least this many elements are stored in chunks with the
+ * shuffle and deflate filters; smaller ones (axes of short grids, table
+ * columns, scalars) stay contiguous, where compression would cost more
+ * header than it saves.  Deflate is a deterministic function of its input,
+ * so reruns still write identical bytes. */
+#define COMPRESS_MIN_ELEMENTS 4096
+#define CHUNK_TARGET_BYTES (1u << 20)
+#define DEFLATE_LEVEL 4
 
 static const char *const POS_AXES[PF_MAX_DIM] = {"x", "y", "z"};
 static const char *const MOM_AXES[PF_MAX_DIM] = {"kx", "ky", "kz"};
@@ -143,6 +158,7 @@ pf_status pf_h5_create(pf_context *ctx, const char *path, int overwrite, pf_h5 *
 
 const char *pf_h5_path(const pf_h5 *f) { return f->sf.final_path; }
 
+
 static void close_handles(pf_h5 *f)
 {
     if (f->file > 0) H5Fclose(f->file);
@@ -152,11 +168,31 @@ static void close_handles(pf_h5 *f)
     f->file = f->ocpl_group = f->ocpl_data = f->lcpl = 0;
 }
 
+/* Completes the provenance group with what the items brought. */
+static int finish_provenance(pf_h5 *f)
+{
+    if (!f->provenance) return 0;
+    hid_t g = H5Gopen2(f->file, "provenance", H5P_DEFAULT);
+    int bad = g < 0 || attr_string(g, "species", f->species ? f->species : "") ||
+              attr_string(g, "step_logs", f->steps ? f->steps : "");
+    if (g >= 0) H5Gclose(g);
+    return bad ? -1 : 0;
+}
+
+static void free_provenance(pf_h5 *f)
+{
+    free(f->species);
+    free(f->steps);
+    f->species = f->steps = NULL;
+}
+
 pf_status pf_h5_commit(pf_h5 *f)
 {
     pf_context *ctx = f->ctx;
     pf_status s = PF_OK;
-    if (H5Fflush(f->file, H5F_SCOPE_GLOBAL) < 0) s = pf_fail(ctx, PF_EIO, "cannot flush '%s' (disk full?)", f->sf.final_path);
+    if (finish_provenance(f)) s = pf_fail(ctx, PF_EIO, "cannot write the provenance of '%s'", f->sf.final_path);
+    free_provenance(f);
+    if (!s && H5Fflush(f->file, H5F_SCOPE_GLOBAL) < 0) s = pf_fail(ctx, PF_EIO, "cannot flush '%s' (disk full?)", f->sf.final_path);
     hid_t file = f->file;
     f->file = 0;
     if (H5Fclose(file) < 0 && !s) s = pf_fail(ctx, PF_EIO, "cannot close '%s' (disk full?)", f->sf.final_path);
@@ -170,6 +206,7 @@ pf_status pf_h5_commit(pf_h5 *f)
 void pf_h5_abandon(pf_h5 *f)
 {
     if (!f) return;
+    free_provenance(f);
     close_handles(f);
     pf_safe_abandon(&f->sf);
     free(f);
@@ -208,15 +245,54 @@ static hid_t new_group(pf_h5 *f, const char *name)
     return H5Gcreate2(f->file, name, f->lcpl, f->ocpl_group, H5P_DEFAULT);
 }
 
+/* Dataset creation list for a dataset of this shape: chunked along the
+ * first axis (whole rows, at most about 1 MiB per chunk, so a reader never
+ * holds much more than one row block) with shuffle + deflate when it is
+ * large, the shared contiguous list otherwise.  Caller closes a list it got
+ * back that is not f->ocpl_data. */
+static hid_t data_create_list(pf_h5 *f, hid_t ftype, int rank, const hsize_t *dims)
+{
+    hsize_t total = 1;
+    for (int a = 0; a < rank; a++) total *= dims[a];
+    if (rank < 1 || total < COMPRESS_MIN_ELEMENTS || H5Tis_variable_str(ftype) > 0) return f->ocpl_data;
+    hid_t p = H5Pcopy(f->ocpl_data);
+    if (p < 0) return -1;
+    hsize_t chunk[PF_MAX_DIM], row = H5Tget_size(ftype);
+    for (int a = 1; a < rank; a++) {
+        chunk[a] = dims[a];
+        row *= dims[a];
+    }
+    hsize_t rows = row ? CHUNK_TARGET_BYTES / row : 1;
+    chunk[0] = rows < 1 ? 1 : rows > dims[0] ? dims[0] : rows;
+    if (H5Pset_chunk(p, rank, chunk) < 0 || H5Pset_shuffle(p) < 0 || H5Pset_deflate(p, DEFLATE_LEVEL) < 0) {
+        H5Pclose(p);
+        return -1;
+    }
+    return p;
+}
+
 static int write_dataset(pf_h5 *f, hid_t loc, const char *name, hid_t ftype, hid_t mtype, int rank,
                          const hsize_t *dims, const void *data, const char *unit)
 {
     hid_t sp = rank ? H5Screate_simple(rank, dims, NULL) : H5Screate(H5S_SCALAR);
-    hid_t d = H5Dcreate2(loc, name, ftype, sp, f->lcpl, f->ocpl_data, H5P_DEFAULT);
+    hid_t dcpl = data_create_list(f, ftype, rank, dims);
+    hid_t d = dcpl < 0 ? -1 : H5Dcreate2(loc, name, ftype, sp, f->lcpl, dcpl, H5P_DEFAULT);
     int bad = d < 0 || H5Dwrite(d, mtype, H5S_ALL, H5S_ALL, H5P_DEFAULT, data) < 0;
     if (!bad && unit) bad = attr_string(d, "units", unit);
     if (d >= 0) H5Dclose(d);
+    if (dcpl >= 0 && dcpl != f->ocpl_data) H5Pclose(dcpl);
     H5Sclose(sp);
+    return bad ? -1 : 0;
+}
+
+/* Adds string attributes (name, value pairs, NULL-terminated) to dataset
+ * `name` of loc: the descriptions generic readers show (long_name). */
+static int describe(hid_t loc, const char *name, const char *const *pairs)
+{
+    hid_t d = H5Dopen2(loc, name, H5P_DEFAULT);
+    int bad = d < 0;
+    for (size_t i = 0; !bad && pairs[i]; i += 2) bad = attr_string(d, pairs[i], pairs[i + 1]);
+    if (d >= 0) H5Dclose(d);
     return bad ? -1 : 0;
 }
 
@@ -236,7 +312,13 @@ static int write_axes(pf_h5 *f, hid_t g, const pf_grid *grid, pf_rep rep)
         if (!v) return -1;
         for (size_t j = 0; j < n; j++)
             v[j] = rep == PF_POSITION ? pf_grid_x(grid, a, j) : pf_grid_k(grid, a, pf_grid_fft_index(grid, a, j));
-        int bad = write_axis(f, g, rep == PF_POSITION ? POS_AXES[a] : MOM_AXES[a], v, n, rep == PF_POSITION ? "m" : "1/m");
+        int bad = write_axis(f, g, rep == PF_POSITION ? POS_AXES[a] : MOM_AXES[a], v, n, rep == PF_POSITION ? "m" : "m^-1");
+        if (!bad) {
+            static const char *const pos_names[] = {"position x", "position y", "position z"};
+            static const char *const mom_names[] = {"wave number k_x", "wave number k_y", "wave number k_z"};
+            const char *pairs[] = {"long_name", rep == PF_POSITION ? pos_names[a] : mom_names[a], NULL};
+            bad = describe(g, rep == PF_POSITION ? POS_AXES[a] : MOM_AXES[a], pairs);
+        }
         free(v);
         if (bad) return -1;
     }
@@ -254,15 +336,42 @@ static int attach_axes(hid_t g, const char *data, int d, pf_rep rep)
     for (int a = 0; a < d && !bad; a++) {
         const char *name = rep == PF_POSITION ? POS_AXES[a] : MOM_AXES[a];
         hid_t ax = H5Dopen2(g, name, H5P_DEFAULT);
-        bad = ax < 0 || H5DSset_scale(ax, name) < 0 || H5DSattach_scale(ds, ax, (unsigned)a) < 0;
+        bad = ax < 0 || (H5DSis_scale(ax) <= 0 && H5DSset_scale(ax, name) < 0) ||
+              H5DSattach_scale(ds, ax, (unsigned)a) < 0;
         if (ax >= 0) H5Dclose(ax);
     }
     H5Dclose(ds);
     return bad ? -1 : 0;
 }
 
-/* Grid, mass, clock and step log as attributes of an item group. */
-static int write_wave_attrs(hid_t g, const pf_wave *w, const char *content)
+/* Appends the concatenation of parts (NULL-terminated) to *acc. */
+static int append_text(char **acc, const char *const *parts)
+{
+    size_t old = *acc ? strlen(*acc) : 0, add = 1;
+    for (size_t i = 0; parts[i]; i++) add += strlen(parts[i]);
+    char *p = realloc(*acc, old + add);
+    if (!p) return -1;
+    p[old] = '\0';
+    for (size_t i = 0; parts[i]; i++) strcat(p + old, parts[i]);
+    *acc = p;
+    return 0;
+}
+
+/* The species whose tabulated mass equals the state's mass exactly (the
+ * value pf.mass returns), or NULL for a mass given as a plain number. */
+static const pf_species *species_of(double mass)
+{
+    size_t n;
+    const pf_species *t = pf_species_table(&n);
+    for (size_t i = 0; i < n; i++)
+        if (t[i].mass_kg == mass) return &t[i];
+    return NULL;
+}
+
+/* Grid, mass (with its species and source when the mass is a tabulated
+ * one), clock and step log as attributes of an item group; the species and
+ * the step log also go to the file's provenance. */
+static int write_wave_attrs(pf_h5 *f, hid_t g, const char *item, const pf_wave *w, const char *content)
 {
     const pf_grid *grid = pf_wave_grid(w);
     int d = pf_grid_dim(grid);
@@ -288,6 +397,17 @@ static int write_wave_attrs(hid_t g, const pf_wave *w, const char *content)
               attr_doubles(g, "grid_origin_m", origin, (size_t)d, 0) ||
               attr_doubles(g, "grid_spacing_m", dx, (size_t)d, 0) || attr_double(g, "mass_kg", pf_wave_mass(w)) ||
               attr_double(g, "clock_s", pf_wave_clock(w)) || attr_string(g, "step_log", text);
+    const pf_species *sp = species_of(pf_wave_mass(w));
+    char line[512];
+    if (sp)
+        snprintf(line, sizeof line, "%s, mass %.17g kg (%s micro-u, %s: %s)", sp->label, sp->mass_kg, sp->mass_micro_u,
+                 sp->source, sp->reference);
+    else
+        snprintf(line, sizeof line, "mass %.17g kg given as a number (not a tabulated species)", pf_wave_mass(w));
+    if (!bad) bad = attr_string(g, "species", sp ? sp->label : "unnamed") || attr_string(g, "mass_source", line);
+    if (!bad && f->provenance)
+        bad = append_text(&f->species, (const char *const[]){item, ": ", line, "\n", NULL}) ||
+              append_text(&f->steps, (const char *const[]){"item ", item, ":\n", text, NULL});
     free(text);
     return bad ? -1 : 0;
 }
@@ -297,12 +417,55 @@ static void shape_of(const pf_grid *grid, hsize_t *dims)
     for (int a = 0; a < pf_grid_dim(grid); a++) dims[a] = pf_grid_points(grid, a);
 }
 
-/* Units of psi (m^-d/2) and phi (m^d/2). */
+/* Units of psi (m^-d/2) and phi (m^d/2).  UDUNITS-2 strings where UDUNITS
+ * can say it (integer powers); half-integer powers are written m^(-1/2),
+ * which UDUNITS-2 refuses rather than misreads ("m^-1/2" would parse as
+ * half of 1/m).  docs/file-layout.md, Units. */
 static const char *amp_unit(int d, pf_rep rep)
 {
-    static const char *const pos[] = {"m^-1/2", "m^-1", "m^-3/2"};
-    static const char *const mom[] = {"m^1/2", "m", "m^3/2"};
+    static const char *const pos[] = {"m^(-1/2)", "m^-1", "m^(-3/2)"};
+    static const char *const mom[] = {"m^(1/2)", "m", "m^(3/2)"};
     return rep == PF_POSITION ? pos[d - 1] : mom[d - 1];
+}
+
+/* Writes amplitude `name` (psi or phi) as the complex compound and, for
+ * netCDF-4 readers, which skip compound types, as the parallel real
+ * datasets name_re and name_im; all three on the axes of rep. */
+static int write_amplitude(pf_h5 *f, hid_t g, const char *name, const double complex *v, int d, const hsize_t *dims,
+                           size_t total, pf_rep rep)
+{
+    hid_t ct = complex_type();
+    const char *unit = amp_unit(d, rep);
+    const char *what = rep == PF_POSITION ? "wave function psi(x), position representation"
+                                          : "momentum amplitude phi(k), momentum representation, ascending k";
+    const char *repname = rep == PF_POSITION ? "position" : "momentum";
+    int bad = write_dataset(f, g, name, ct, ct, d, dims, v, unit);
+    H5Tclose(ct);
+    const char *pairs[] = {"long_name", what, "representation", repname, NULL};
+    if (!bad) bad = describe(g, name, pairs);
+    double *part = bad ? NULL : malloc(total * sizeof *part);
+    if (!bad && !part) bad = 1;
+    for (int k = 0; k < 2 && !bad; k++) {
+        for (size_t j = 0; j < total; j++) part[j] = k ? cimag(v[j]) : creal(v[j]);
+        char pname[16], long_name[160];
+        snprintf(pname, sizeof pname, "%s_%s", name, k ? "im" : "re");
+        snprintf(long_name, sizeof long_name, "%s part of %s (same numbers as the compound dataset '%s')",
+                 k ? "imaginary" : "real", what, name);
+        const char *ppairs[] = {"long_name", long_name, "representation", repname, NULL};
+        bad = write_dataset(f, g, pname, H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, d, dims, part, unit) ||
+              describe(g, pname, ppairs);
+    }
+    free(part);
+    return bad ? -1 : 0;
+}
+
+/* Attaches the axes of rep to name, name_re and name_im. */
+static int attach_amplitude(hid_t g, const char *name, int d, pf_rep rep)
+{
+    char re[16], im[16];
+    snprintf(re, sizeof re, "%s_re", name);
+    snprintf(im, sizeof im, "%s_im", name);
+    return attach_axes(g, name, d, rep) || attach_axes(g, re, d, rep) || attach_axes(g, im, d, rep);
 }
 
 /* phi(k) in physical units, ascending k on every axis. */
@@ -329,6 +492,45 @@ static double complex *phi_ascending(pf_wave *w)
     return out;
 }
 
+pf_status pf_h5_set_provenance(pf_h5 *f, const pf_h5_provenance *p)
+{
+    if (f->provenance) return pf_fail(f->ctx, PF_EINVAL, "'%s' already has its provenance", f->sf.final_path);
+    if (H5Lexists(f->file, "provenance", H5P_DEFAULT) > 0)
+        return pf_fail(f->ctx, PF_EINVAL, "item 'provenance' is already in '%s'", f->sf.final_path);
+    char hdf5[32];
+    pf_h5_version(hdf5, sizeof hdf5);
+    hid_t g = new_group(f, "provenance");
+    int bad = g < 0 || attr_string(g, "content", "provenance") ||
+              attr_string(g, "engine", "psiflight " PF_VERSION) || attr_string(g, "hdf5", hdf5) ||
+              attr_string(g, "script", p->script ? p->script : "") ||
+              attr_string(g, "script_sha256", p->script_sha256 ? p->script_sha256 : "") ||
+              attr_longs(g, "seed", (long long[]){(long long)p->seed}, 1, 1);
+    /* Declared parameters: one scalar dataset each, the value in SI with
+     * its unit, and the text as given (--set or default) beside it. */
+    hid_t pg = bad ? -1 : H5Gcreate2(g, "parameters", f->lcpl, f->ocpl_group, H5P_DEFAULT);
+    bad = bad || pg < 0 || attr_string(pg, "content", "declared parameters, values in SI");
+    for (size_t i = 0; i < p->nparams && !bad; i++) {
+        const pf_h5_parameter *q = &p->params[i];
+        if (q->text_value) {
+            hid_t st = H5Tcopy(H5T_C_S1);
+            H5Tset_size(st, H5T_VARIABLE);
+            H5Tset_cset(st, H5T_CSET_UTF8);
+            bad = write_dataset(f, pg, q->name, st, st, 0, NULL, &q->text_value, NULL);
+            H5Tclose(st);
+        } else {
+            bad = write_dataset(f, pg, q->name, H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, 0, NULL, &q->value,
+                                q->unit ? q->unit : "1");
+        }
+        const char *pairs[] = {"as_given", q->as_given ? q->as_given : "", NULL};
+        if (!bad) bad = describe(pg, q->name, pairs);
+    }
+    if (pg >= 0) H5Gclose(pg);
+    if (g >= 0) H5Gclose(g);
+    if (bad) return pf_fail(f->ctx, PF_EIO, "cannot write the provenance of '%s'", f->sf.final_path);
+    f->provenance = 1;
+    return PF_OK;
+}
+
 pf_status pf_h5_put_wave(pf_h5 *f, const char *name, pf_wave *w, int parts)
 {
     pf_status s = check_name(f, name);
@@ -336,24 +538,27 @@ pf_status pf_h5_put_wave(pf_h5 *f, const char *name, pf_wave *w, int parts)
     if (!(parts & (PF_H5_PSI | PF_H5_PHI))) return pf_fail(f->ctx, PF_EINVAL, "nothing to store: choose psi and/or phi");
     pf_grid *grid = pf_wave_grid(w);
     int d = pf_grid_dim(grid);
+    size_t total = pf_grid_total(grid);
     hsize_t dims[PF_MAX_DIM];
     shape_of(grid, dims);
     hid_t g = new_group(f, name);
-    hid_t ct = complex_type();
-    int bad = g < 0 || write_wave_attrs(g, w, "wave function");
-    if (!bad) bad = attr_string(g, "representation", pf_wave_rep(w) == PF_POSITION ? "position" : "momentum");
+    /* The tag names what the item holds, not where the state happened to be. */
+    const char *held = (parts & PF_H5_PSI) && (parts & PF_H5_PHI) ? "position and momentum"
+                       : (parts & PF_H5_PSI)                       ? "position"
+                                                                   : "momentum";
+    int bad = g < 0 || write_wave_attrs(f, g, name, w, "wave function");
+    if (!bad) bad = attr_string(g, "representation", held);
     if (!bad && (parts & PF_H5_PSI)) {
         bad = pf_wave_to(w, PF_POSITION) != PF_OK ||
-              write_dataset(f, g, "psi", ct, ct, d, dims, pf_wave_data_const(w), amp_unit(d, PF_POSITION)) ||
-              write_axes(f, g, grid, PF_POSITION) || attach_axes(g, "psi", d, PF_POSITION);
+              write_amplitude(f, g, "psi", pf_wave_data_const(w), d, dims, total, PF_POSITION) ||
+              write_axes(f, g, grid, PF_POSITION) || attach_amplitude(g, "psi", d, PF_POSITION);
     }
     if (!bad && (parts & PF_H5_PHI)) {
         double complex *phi = phi_ascending(w);
-        bad = !phi || write_dataset(f, g, "phi", ct, ct, d, dims, phi, amp_unit(d, PF_MOMENTUM)) ||
-              write_axes(f, g, grid, PF_MOMENTUM) || attach_axes(g, "phi", d, PF_MOMENTUM);
+        bad = !phi || write_amplitude(f, g, "phi", phi, d, dims, total, PF_MOMENTUM) ||
+              write_axes(f, g, grid, PF_MOMENTUM) || attach_amplitude(g, "phi", d, PF_MOMENTUM);
         free(phi);
     }
-    H5Tclose(ct);
     if (g >= 0) H5Gclose(g);
     return bad ? pf_fail(f->ctx, PF_EIO, "cannot write wave function '%s' to '%s'", name, f->sf.final_path) : PF_OK;
 }
@@ -373,14 +578,23 @@ pf_status pf_h5_put_density(pf_h5 *f, const char *name, pf_wave *w, pf_rep rep)
         free(rho);
         return s;
     }
-    static const char *const pos[] = {"1/m", "1/m^2", "1/m^3"};
+    static const char *const pos[] = {"m^-1", "m^-2", "m^-3"};
     static const char *const mom[] = {"m", "m^2", "m^3"};
+    const char *pairs[] = {
+        "long_name",
+        rep == PF_POSITION ? "probability density |psi(x)|^2" : "probability density |phi(k)|^2 over wave number",
+        "normalization",
+        rep == PF_POSITION ? "integrates to the state's norm (1 for a normalised state): sum of density times the cell volume "
+                             "(product of grid_spacing_m)"
+                           : "integrates to the state's norm (1 for a normalised state): sum of density times the "
+                             "wave-number cell (product of 2 pi / grid_span_m)",
+        "representation", rep == PF_POSITION ? "position" : "momentum", NULL};
     hid_t g = new_group(f, name);
-    int bad = g < 0 || write_wave_attrs(g, w, "density") ||
+    int bad = g < 0 || write_wave_attrs(f, g, name, w, "density") ||
               attr_string(g, "representation", rep == PF_POSITION ? "position" : "momentum") ||
               write_dataset(f, g, "density", H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, d, dims, rho,
                             rep == PF_POSITION ? pos[d - 1] : mom[d - 1]) ||
-              write_axes(f, g, grid, rep) || attach_axes(g, "density", d, rep);
+              describe(g, "density", pairs) || write_axes(f, g, grid, rep) || attach_axes(g, "density", d, rep);
     free(rho);
     if (g >= 0) H5Gclose(g);
     return bad ? pf_fail(f->ctx, PF_EIO, "cannot write density '%s' to '%s'", name, f->sf.final_path) : PF_OK;
@@ -417,6 +631,31 @@ pf_status pf_h5_put_table(pf_h5 *f, const char *name, size_t ncols, const pf_col
                                 cols[c].unit ? cols[c].unit : "");
         }
     }
+    /* The first column is the table's axis (a time, a step number): a
+     * dimension scale every other column is attached to, so netCDF readers
+     * show one named dimension instead of an anonymous one per column.  A
+     * table that starts with a text column gets a row number as its axis. */
+    const char *axis = cols[0].name;
+    if (!bad && cols[0].text) {
+        axis = "row";
+        for (size_t c = 0; c < ncols; c++)
+            if (strcmp(cols[c].name, "row") == 0) axis = "row_index";
+        hsize_t dims[1] = {cols[0].count};
+        double *rows = malloc((cols[0].count ? cols[0].count : 1) * sizeof *rows);
+        bad = !rows;
+        for (size_t r = 0; !bad && r < cols[0].count; r++) rows[r] = (double)(r + 1);
+        if (!bad) bad = write_dataset(f, g, axis, H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, 1, dims, rows, "1");
+        free(rows);
+    }
+    hid_t ax = bad ? -1 : H5Dopen2(g, axis, H5P_DEFAULT);
+    bad = bad || ax < 0 || H5DSset_scale(ax, axis) < 0;
+    for (size_t c = 0; c < ncols && !bad; c++) {
+        if (strcmp(cols[c].name, axis) == 0) continue;
+        hid_t ds = H5Dopen2(g, cols[c].name, H5P_DEFAULT);
+        bad = ds < 0 || H5DSattach_scale(ds, ax, 0) < 0;
+        if (ds >= 0) H5Dclose(ds);
+    }
+    if (ax >= 0) H5Dclose(ax);
     if (g >= 0) H5Gclose(g);
     return bad ? pf_fail(f->ctx, PF_EIO, "cannot write table '%s' to '%s'", name, f->sf.final_path) : PF_OK;
 }

@@ -20,6 +20,32 @@ enum { PF_H5_PSI = 1, PF_H5_PHI = 2 };
 /* Starts a new file at path through the safe writer (an existing file is
  * kept unless overwrite; nothing appears under path before pf_h5_commit). */
 pf_status pf_h5_create(pf_context *ctx, const char *path, int overwrite, pf_h5 **out);
+/* One declared script parameter for the provenance group: a number in SI
+ * (value with unit, "1" or NULL for plain numbers) or a text value
+ * (text_value non-NULL: strings, booleans), and the text it came from. */
+typedef struct pf_h5_parameter {
+    const char *name;
+    double value;
+    const char *unit;
+    const char *text_value;
+    const char *as_given;
+} pf_h5_parameter;
+
+/* How the file was made: stored as the group "provenance" (docs/file-layout.md). */
+typedef struct pf_h5_provenance {
+    const char *script;        /* path as given to the runner, or "" */
+    const char *script_sha256; /* its digest, or "" when unknown */
+    unsigned long long seed;
+    size_t nparams;
+    const pf_h5_parameter *params;
+} pf_h5_provenance;
+
+/* Writes the group "provenance" (script, digest, seed, engine and
+ * HDF5 versions, declared parameters; not the thread count, so that files
+ * stay byte-identical between thread counts where the numbers are); the species and step logs of the wave
+ * and density items written afterwards are added to it at commit.  Call
+ * right after pf_h5_create, so it is the file's first item. */
+pf_status pf_h5_set_provenance(pf_h5 *f, const pf_h5_provenance *p);
 /* Final path of the file being written. */
 const char *pf_h5_path(const pf_h5 *f);
 /* Stores w as group `name` with its amplitudes (parts: PF_H5_PSI and/or

@@ -92,6 +92,9 @@ void pfl_untrack_output(lua_State *L, int idx);
  * manifest could not be written. */
 void pfl_record_configure(lua_State *L, const char *script, const char *sha256, int quiet, int overwrite);
 int pfl_record_finish(lua_State *L, int ok, const char *error, int nsets, char *const *sets);
+/* The script path and its SHA-256 as the runner gave them ("" when unknown,
+ * e.g. under plain lua5.4); valid until the next pfl_record_configure. */
+void pfl_record_script(lua_State *L, const char **path, const char **sha256);
 /* Records a Lua module the script loaded for the manifest: its require name,
  * where it came from (file path or "bundled:recipes/NAME.lua") and the
  * SHA-256 of its source.  Returns -1 when out of memory. */
@@ -166,6 +169,26 @@ void pfl_add_functions(lua_State *L, int mod, const luaL_Reg *funcs);
  * (pcall per point; a failing callback re-raises its error). */
 void pfl_fill_from_function(lua_State *L, pf_wave *w, pf_rep rep, int arg, const char *name);
 
+/* ---- moving frames (pfl_frame.c) ---- */
+/* Records the script names (prefix + name) of C functions, so the frame
+ * guard can name the running function; pfl_add_wave_methods ("wave:") and
+ * pfl_add_functions ("pf.") call it for every function they register. */
+void pfl_frame_name_functions(lua_State *L, const char *prefix, const luaL_Reg *funcs);
+/* True when the script name is in the FRAME_AWARE list. */
+int pfl_frame_aware_name(const char *name);
+/* Raises an argument error at arg when w's frame is moved and the running
+ * function is not FRAME_AWARE (pfl_check_wave calls it). */
+void pfl_frame_guard(lua_State *L, int arg, const pf_wave *w);
+/* The acceleration of a flight: field 'acceleration' of the checked options
+ * table opts (0: none; false: no acceleration), else the pf.setup default.
+ * Fills out[0..dim) and returns 1 when one applies, else 0 (out all zero). */
+int pfl_frame_acceleration(lua_State *L, int opts, int dim, double *out, const char *fname);
+/* The pf.setup default: reads field 'acceleration' of the checked table t
+ * into values/count (returns 1 when the field is present; count 0 for
+ * false), and stores what was read (after every field was checked). */
+int pfl_frame_setup_read(lua_State *L, int t, double *values, int *count);
+void pfl_frame_setup_apply(lua_State *L, const double *values, int count);
+
 /* ---- file access policy (pfl_file_policy.c) ----
  * Every binding function that opens a file for a script checks the path here
  * first, so the sandbox covers engine outputs as well as io.open. */
@@ -215,5 +238,6 @@ void pfl_open_ops(lua_State *L, int mod);     /* issue 4: pulses, masks, shifts 
 void pfl_open_evolve(lua_State *L, int mod);  /* issue 4: fall, evolve, relax */
 void pfl_open_lab(lua_State *L, int mod);     /* pf.coupling, pf.beam: lab quantities */
 void pfl_open_expand(lua_State *L, int mod);  /* w:expand: mean-field expansion on a growing grid */
+void pfl_open_frame(lua_State *L, int mod);   /* issue 14: moving frames */
 
 #endif

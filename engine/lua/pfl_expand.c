@@ -12,7 +12,7 @@
 
 static const pfl_options_decl EXPAND_OPTIONS = {
     "wave:expand",
-    (const char *const[]){"g", "omega", "frequency", "scaling", "steps", "order", "handover", NULL}};
+    (const char *const[]){"g", "omega", "frequency", "scaling", "steps", "order", "handover", "acceleration", NULL}};
 
 /* The interaction-energy fraction below which the free step takes over by
  * default: the asymptotic expansion speed then misses at most about 0.05 %. */
@@ -57,7 +57,7 @@ static void set_number(lua_State *L, const char *k, double v)
 /* w:expand(t, {g = J m^d, omega = rad/s | frequency = Hz (one per axis or one
  *              for all; absent: from the state), scaling = "castin-dum" |
  *              "ballistic" | "fixed", steps = n, order = 2 | 4,
- *              handover = 1e-3})
+ *              handover = 1e-3, acceleration = {ax, ...} (m/s^2; default: pf.setup's)})
  *   -> w, {steps, handed_over, handover_time, interaction_fraction, energy,
  *          omega, lambda, rate, continued, scaling} */
 static int l_expand(lua_State *L)
@@ -94,6 +94,9 @@ static int l_expand(lua_State *L)
     if (!(sp.handover >= 0 && sp.handover < 1))
         return luaL_error(L, "expand: field 'handover' must be a fraction in [0, 1) of the cloud's energy (0: never), "
                              "got %f", sp.handover);
+    /* Gravity and other uniform forces through the wave's moving frame (the
+     * option, else the pf.setup default). */
+    pfl_frame_acceleration(L, 3, d, sp.acceleration, "wave:expand");
     pf_expand_info info;
     pfl_check(L, pf_wave_expand(w, t, &sp, &info), "expand");
     lua_settop(L, 1);

@@ -14,6 +14,8 @@
 #include "../io/pf_table.h"
 #include "pfl.h"
 #include "pfl_options.h"
+#include "pfl_params.h"
+#include "pfl_suffix.h"
 
 static const pfl_options_decl H5FILE_OPTIONS = {"pf.h5file", (const char *const[]){"overwrite", NULL}};
 static const pfl_options_decl PUT_WAVE_OPTIONS = {"h5file:put_wave", (const char *const[]){"parts", NULL}};
@@ -109,6 +111,60 @@ static pf_h5 *check_open(lua_State *L, int arg)
     return b->f;
 }
 
+static int compare_parameters(const void *a, const void *b)
+{
+    return strcmp(((const pf_h5_parameter *)a)->name, ((const pf_h5_parameter *)b)->name);
+}
+
+/* Gives the new file (userdata at the top) its provenance group: the run's
+ * script, digest, seed and the declared parameters, each in SI
+ * with its unit when its text is a number with a unit, sorted by name so
+ * that reruns write the same bytes.  On failure the file is abandoned. */
+static void write_provenance(lua_State *L, pfl_h5_box *b)
+{
+    pfl_params_push_text(L);
+    int texts = lua_gettop(L);
+    size_t n = 0;
+    lua_pushnil(L);
+    while (lua_next(L, texts)) {
+        lua_pop(L, 1);
+        n++;
+    }
+    pf_h5_parameter *ps = lua_newuserdatauv(L, (n ? n : 1) * sizeof *ps, 0); /* freed by Lua */
+    size_t i = 0;
+    lua_pushnil(L);
+    while (lua_next(L, texts) && i < n) {
+        /* Keys and values stay alive in the texts table. */
+        pf_h5_parameter *q = &ps[i++];
+        memset(q, 0, sizeof *q);
+        q->name = lua_tostring(L, -2);
+        q->as_given = lua_tostring(L, -1);
+        const pfl_unit *u = NULL;
+        char err[160];
+        if (lua_type(L, -1) == LUA_TSTRING && pfl_value_parse(q->as_given, &q->value, &u, err, sizeof err) == 0) {
+            if (u) {
+                q->value *= u->si;
+                q->unit = pfl_unit_si_name(u->quantity);
+            }
+            if (!q->unit) q->unit = "1";
+        } else {
+            q->text_value = q->as_given ? q->as_given : "";
+        }
+        lua_pop(L, 1);
+    }
+    qsort(ps, i, sizeof *ps, compare_parameters);
+    const char *script, *sha;
+    pfl_record_script(L, &script, &sha);
+    pf_h5_provenance prov = {.script = script, .script_sha256 = sha, .seed = pfl_seed(L), .nparams = i, .params = ps};
+    pf_status s = pf_h5_set_provenance(b->f, &prov);
+    lua_settop(L, texts - 1);
+    if (s) {
+        pf_h5_abandon(b->f);
+        b->f = NULL;
+        pfl_check(L, s, "h5file");
+    }
+}
+
 /* pf.h5file(path [, {overwrite=}]) -> a new HDF5 file being written. */
 static int l_h5file(lua_State *L)
 {
@@ -121,6 +177,7 @@ static int l_h5file(lua_State *L)
     luaL_setmetatable(L, PFL_H5_TYPE);
     pfl_check(L, pf_h5_create(pfl_ctx(L), path, overwrite, &b->f), "h5file");
     pfl_track_output(L, -1);
+    write_provenance(L, b);
     return 1;
 }
 

@@ -4,20 +4,26 @@
  * (select_velocity, momentum_mask).  Masks return the wave and the
  * probability they removed.  Units are SI throughout (m, s, rad, rad/m). */
 #include <math.h>
+#include <stdio.h>
 #include <string.h>
+#include "../core/pf_frame.h"
 #include "../core/pf_ops.h"
 #include "pfl_options.h"
 #include "pfl_protocol.h"
 
+static const pfl_options_decl KICK_OPTIONS = {"wave:kick", (const char *const[]){"frame", NULL}};
 static const pfl_options_decl GRATING_OPTIONS = {"wave:grating", (const char *const[]){"depth", "period", "axis", "phase", NULL}};
 static const pfl_options_decl LENS_OPTIONS = {"wave:lens", (const char *const[]){"axis", "center", NULL}};
 static const pfl_options_decl SLITS_OPTIONS = {
-    "wave:slits", (const char *const[]){"count", "width", "pitch", "center", "axis", NULL}};
-static const pfl_options_decl SLIT_OPTIONS = {"wave:slit", (const char *const[]){"width", "center", "axis", NULL}};
+    "wave:slits", (const char *const[]){"count", "width", "pitch", "center", "axis", "edges", "edge_width", NULL}};
+static const pfl_options_decl SLIT_OPTIONS = {
+    "wave:slit", (const char *const[]){"width", "center", "axis", "edges", "edge_width", NULL}};
 static const pfl_options_decl MASK_GRATING_OPTIONS = {
-    "wave:mask_grating", (const char *const[]){"period", "open_fraction", "offset", "axis", NULL}};
+    "wave:mask_grating",
+    (const char *const[]){"period", "open_fraction", "offset", "axis", "edges", "edge_width", NULL}};
 static const pfl_options_decl APERTURE_OPTIONS = {
-    "wave:aperture", (const char *const[]){"shape", "radius", "size", "center", "axes", NULL}};
+    "wave:aperture",
+    (const char *const[]){"shape", "radius", "size", "center", "axes", "edges", "edge_width", NULL}};
 static const pfl_options_decl SELECT_VELOCITY_OPTIONS = {
     "wave:select_velocity", (const char *const[]){"width", "center", "axis", "shape", NULL}};
 
@@ -40,13 +46,19 @@ static void opt_table(lua_State *L, int arg)
     luaL_checktype(L, arg, LUA_TTABLE);
 }
 
-/* w:kick(kx [, ky, kz]) - momentum kick hbar k (k in rad/m, per axis). */
+/* w:kick(kx [, ky, kz] [, {frame = true}]) - momentum kick hbar k (k in
+ * rad/m, per axis) in the lab.  frame = true puts it into the wave's frame
+ * (pf_frame.h) instead of on the grid, so a fast cloud needs no momentum
+ * on the grid; otherwise a moved frame takes the kick's phase q.X. */
 static int l_kick(lua_State *L)
 {
     pf_wave *w = pfl_check_wave(L, 1);
     double k[PF_MAX_DIM];
-    pfl_check_axis_values(L, 2, dim_of(w), k, "kick wave number (rad/m)");
-    pfl_check(L, pf_wave_kick(w, k), "kick");
+    int d = dim_of(w);
+    pfl_check_axis_values(L, 2, d, k, "kick wave number (rad/m)");
+    int opts = pfl_options_opt(L, lua_type(L, 2) == LUA_TTABLE ? 3 : 2 + d, &KICK_OPTIONS);
+    int in_frame = opts ? pfl_field_boolean(L, opts, "frame", 0) : 0;
+    pfl_check(L, in_frame ? pf_wave_frame_kick(w, k) : pf_wave_lab_kick(w, k), "kick");
     lua_settop(L, 1);
     return 1;
 }
@@ -99,7 +111,34 @@ static int l_lens(lua_State *L)
     return 1;
 }
 
-/* w:slits{count = 1, width = m, pitch = m, center = 0, axis = 1} -> w, removed */
+/* Fields edges = "exact" (default: edges where they are, band-limited) or
+ * "cells" (each grid point open or shut), and edge_width = m (Gaussian rms
+ * of a soft edge, exact edges only) of every amplitude mask. */
+static pf_edges field_edges(lua_State *L, int t, const char *name)
+{
+    pf_edges e = {PF_EDGES_EXACT, 0.0};
+    int type = pfl_option_get(L, t, "edges");
+    if (type != LUA_TNIL) {
+        const char *v = lua_tostring(L, -1);
+        if (type == LUA_TSTRING && strcmp(v, "cells") == 0) e.mode = PF_EDGES_CELLS;
+        else if (!(type == LUA_TSTRING && strcmp(v, "exact") == 0)) {
+            char buf[80];
+            luaL_error(L, "%s: field 'edges' must be \"exact\" or \"cells\", got %s", name,
+                       pfl_describe(L, -1, buf, sizeof buf));
+        }
+    }
+    lua_pop(L, 1);
+    e.width = pfl_field_number(L, t, "edge_width", 0, 0);
+    if (e.width != 0 && e.mode == PF_EDGES_CELLS) {
+        char v[32];
+        snprintf(v, sizeof v, "%g", e.width);
+        luaL_error(L, "%s: field 'edge_width' (%s m) needs edges = \"exact\"; cell-switched edges are always hard",
+                   name, v);
+    }
+    return e;
+}
+
+/* w:slits{count = 1, width = m, pitch = m, center = 0, axis = 1, edges, edge_width} -> w, removed */
 static int slits(lua_State *L, const char *name, int single)
 {
     pf_wave *w = pfl_check_wave(L, 1);
@@ -110,8 +149,9 @@ static int slits(lua_State *L, const char *name, int single)
     double width = pfl_field_number(L, 2, "width", 0, 1);
     double pitch = single ? 0 : pfl_field_number(L, 2, "pitch", 0, count > 1);
     double center = pfl_field_number(L, 2, "center", 0, 0);
+    pf_edges e = field_edges(L, 2, name);
     double removed = 0;
-    pfl_check(L, pf_wave_slits(w, axis, (int)count, width, pitch, center, &removed), name);
+    pfl_check(L, pf_wave_slits(w, axis, (int)count, width, pitch, center, &e, &removed), name);
     return push_masked(L, removed);
 }
 
@@ -127,8 +167,9 @@ static int l_mask_grating(lua_State *L)
     double period = pfl_field_number(L, 2, "period", 0, 1);
     double open = pfl_field_number(L, 2, "open_fraction", 0.5, 0);
     double offset = pfl_field_number(L, 2, "offset", 0, 0);
+    pf_edges e = field_edges(L, 2, "mask_grating");
     double removed = 0;
-    pfl_check(L, pf_wave_mask_grating(w, axis, period, open, offset, &removed), "mask_grating");
+    pfl_check(L, pf_wave_mask_grating(w, axis, period, open, offset, &e, &removed), "mask_grating");
     return push_masked(L, removed);
 }
 
@@ -166,6 +207,7 @@ static int l_aperture(lua_State *L)
     pf_wave *w = pfl_check_wave(L, 1);
     pfl_options_check(L, 2, &APERTURE_OPTIONS);
     int d = dim_of(w);
+    pf_edges e = field_edges(L, 2, "aperture");
     pfl_option_get(L, 2, "shape");
     const char *shape = lua_tostring(L, -1);
     double removed = 0;
@@ -188,12 +230,12 @@ static int l_aperture(lua_State *L)
         double radius = pfl_field_number(L, 2, "radius", 0, 1);
         double center[2] = {0, 0};
         pfl_field_vector(L, 2, "center", 2, center, 0);
-        pfl_check(L, pf_wave_aperture_circle(w, axes[0], axes[1], center, radius, &removed), "aperture");
+        pfl_check(L, pf_wave_aperture_circle(w, axes[0], axes[1], center, radius, &e, &removed), "aperture");
     } else if (lua_type(L, -1) == LUA_TSTRING && strcmp(shape, "rectangle") == 0) {
         double size[PF_MAX_DIM], center[PF_MAX_DIM] = {0, 0, 0};
         read_sizes(L, 2, d, size);
         pfl_field_vector(L, 2, "center", d, center, 0);
-        pfl_check(L, pf_wave_aperture_rect(w, center, size, &removed), "aperture");
+        pfl_check(L, pf_wave_aperture_rect(w, center, size, &e, &removed), "aperture");
     } else {
         char buf[80];
         return luaL_error(L, "aperture: field 'shape' must be \"circle\" or \"rectangle\", got %s",
@@ -257,7 +299,7 @@ static int l_select_velocity(lua_State *L)
 void pfl_open_ops(lua_State *L, int mod)
 {
     (void)mod;
-    static const pfl_options_decl *const options[] = {&GRATING_OPTIONS, &LENS_OPTIONS, &SLITS_OPTIONS, &SLIT_OPTIONS,
+    static const pfl_options_decl *const options[] = {&KICK_OPTIONS, &GRATING_OPTIONS, &LENS_OPTIONS, &SLITS_OPTIONS, &SLIT_OPTIONS,
                                                       &MASK_GRATING_OPTIONS, &APERTURE_OPTIONS,
                                                       &SELECT_VELOCITY_OPTIONS, NULL};
     pfl_options_declare(L, options);

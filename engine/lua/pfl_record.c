@@ -118,6 +118,13 @@ void pfl_record_configure(lua_State *L, const char *script, const char *sha256, 
     r->overwrite = overwrite;
 }
 
+void pfl_record_script(lua_State *L, const char **path, const char **sha256)
+{
+    pfl_record *r = get_record(L);
+    *path = r->script ? r->script : "";
+    *sha256 = r->script_sha256;
+}
+
 int pfl_record_module(lua_State *L, const char *name, const char *source, const char *sha256)
 {
     pfl_record *r = get_record(L);

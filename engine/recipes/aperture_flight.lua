@@ -35,8 +35,10 @@ recipe.parameters = {
 -- Applies the slit with the engine's mask step: psi is kept where
 -- |x| <= width / 2 and set to zero elsewhere.  Returns the wave and the
 -- probability removed.
+-- The slit is cell-switched (edges = "cells"): the recipe puts its edges
+-- midway between points, so the open points are exactly the slit.
 function recipe.apply_slit(w, width)
-  return w:slit{width = width}
+  return w:slit{width = width, edges = "cells"}
 end
 
 -- The incident beam: a Gaussian of rms width beam_width (pf.gaussian), or a

@@ -128,6 +128,36 @@ check.truthy(infoh.handed_over and infoh.handover_time < 40e-3, "handover = 0.01
 check.near(wh:position_width(), wl:position_width(), 0.005, "handover changes the width by < handover / 2",
            "energy bound, pf_expand.h")
 
+-- Gravity through the wave's frame: the mean field depends on |psi|^2 only,
+-- so the Avron-Herbst factorisation (J. E. Avron and I. W. Herbst, Commun.
+-- Math. Phys. 52, 239 (1977)) carries over: the cloud falls by g t^2 / 2 and
+-- gains -g t in velocity, and its shape is the free expansion's.
+do
+  local gravity = {0, -9.80665}
+  local wg = cloud:copy()
+  wg:expand(t / 2, {g = gN, omega = omega, handover = 0, steps = 150, acceleration = gravity})
+  wg:expand(t / 2, {g = gN, omega = omega, handover = 0, steps = 150, acceleration = gravity})
+  local _, my = wg:position_mean()
+  check.near(my, -0.5 * 9.80665 * t * t, 1e-9, "falling cloud: centre at -g t^2 / 2", "uniform acceleration; textbook")
+  -- The velocity from the frame: a transform of the expanded lab state would
+  -- alias its chirp (docs/expansion.md), so velocity_mean is not the probe.
+  check.near(wg:frame().velocity[2], -9.80665 * t, 1e-12, "falling cloud: frame velocity -g t",
+             "uniform acceleration; textbook")
+  check.near(wg:position_width(), w3:position_width(), 1e-12, "falling cloud: the same shape as without gravity",
+             "Avron & Herbst, CMP 52, 239 (1977)")
+  -- The per-script default from pf.setup applies unless the call says otherwise.
+  pf.setup{acceleration = gravity}
+  local wd = cloud:copy()
+  wd:expand(t, {g = gN, omega = omega, handover = 0, steps = 300})
+  local _, md = wd:position_mean()
+  check.near(md, -0.5 * 9.80665 * t * t, 1e-9, "pf.setup acceleration default applies to expand", "uniform acceleration; textbook")
+  local wn = cloud:copy()
+  wn:expand(t, {g = gN, omega = omega, handover = 0, steps = 300, acceleration = false})
+  local _, mn = wn:position_mean()
+  check.close(mn, 0, 1e-12, "acceleration = false overrides the default", "pfl_frame contract")
+  pf.setup{acceleration = false}
+end
+
 -- Refused input, with the script line and the bad value.
 check.fails(function() cloud:copy():expand(1e-3, {g = gN, omega = omega, scaling = "linear"}) end,
             "unknown scaling refused", "scaling", "linear")

@@ -33,7 +33,7 @@ ok(np.allclose(kx, 2 * np.pi / 60e-6 * np.arange(-24, 24), rtol=1e-14), "kx asce
 ok([[s.name for s in dim.values()] for dim in c["psi"].dims] == [["/cloud/x"], ["/cloud/y"]] and
    [[s.name for s in dim.values()] for dim in c["phi"].dims] == [["/cloud/kx"], ["/cloud/ky"]],
    "axes attached to psi and phi as dimension scales [h5py dims API]")
-ok(c["x"].attrs["units"] == "m" and c["kx"].attrs["units"] == "1/m" and c["psi"].attrs["units"] == "m^-1", "units attributes [h5py]")
+ok(c["x"].attrs["units"] == "m" and c["kx"].attrs["units"] == "m^-1" and c["psi"].attrs["units"] == "m^-1", "units attributes [h5py]")
 u = 1.66053906660e-27
 mass = 22.9897692820 * u
 ok(c.attrs["mass_kg"] == mass, "mass_kg attribute is the mass given [h5py]")
@@ -58,7 +58,11 @@ law = 3.0e-6 * math.sqrt(1 + (hbar * t / (2 * mass * 3.0e-6 ** 2)) ** 2)
 ok(abs(width / law - 1) < 1e-9, "rms width from the file follows the width law (rel %.1e) [textbook formula]" % abs(width / law - 1))
 ok(list(f["numbers"]["a"][()]) == [1, 2, 3] and f["numbers"]["b"].attrs["units"] == "m", "table columns with units [h5py]")
 ok(f["tof"][()] == c.attrs["clock_s"] and f["tof"].attrs["units"] == "s", "scalar value with unit [h5py]")
-ok(list(f.keys()) == ["cloud", "cloud_density", "numbers", "tof"], "items listed in creation order [h5py]")
+# f["/"], not f: h5py 3.7 with HDF5 1.10 asks the file creation list about
+# link order, which H5Fget_create_plist does not report (h5py's own
+# track_order files list alphabetically on reopen too); the root group's own
+# creation list does (docs/file-layout.md, Names and order).
+ok(list(f["/"].keys()) == ["provenance", "cloud", "cloud_density", "numbers", "tof"], "items listed in creation order [h5py f['/']]")
 PY
 
 /usr/bin/python3 - "$tmp/other.h5" <<'PY'
