@@ -24,7 +24,7 @@ make -C "$root" --no-print-directory BUILD="$build" PREFIX="$prefix" install >"$
 manifest="$prefix/share/psiflight/install-manifest.txt"
 [ -f "$manifest" ] || fail "no install manifest"
 for f in bin/psiflight lib/lua/5.4/psiflight.so lib/libpsiflight-core.a lib/pkgconfig/psiflight.pc \
-         include/psiflight/pf_wave.h share/man/man1/psiflight.1 share/psiflight/recipes/tof_image.lua \
+         include/psiflight/pf_wave.h share/man/man1/psiflight.1 share/psiflight/recipes/tof_image.lua share/psiflight/annotations/psiflight.lua \
          share/doc/psiflight/docs/install.md share/doc/psiflight/examples/release_tof.lua; do
   [ -f "$prefix/$f" ] || fail "not installed: $f"
   grep -qxF "$prefix/$f" "$manifest" || fail "installed but not in the manifest: $f"
