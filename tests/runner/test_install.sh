@@ -39,7 +39,9 @@ echo "ok make install puts runner, Lua module, core library, headers, psiflight.
 mkdir -p "$tmp/a" "$tmp/b"
 (cd "$tmp/a" && "$prefix/bin/psiflight" run "$prefix/share/doc/psiflight/examples/release_tof.lua" --out out --quiet \
    >stdout 2>stderr) || { cat "$tmp/a/stderr"; fail "installed runner on the installed example"; }
-(cd "$tmp/b" && "$build/psiflight" run "$root/examples/release_tof.lua" --out out --quiet >stdout 2>stderr) ||
+# The same script path for both (HDF5 files record the script's path).
+cmp -s "$prefix/share/doc/psiflight/examples/release_tof.lua" "$root/examples/release_tof.lua" || fail "installed example differs"
+(cd "$tmp/b" && "$build/psiflight" run "$prefix/share/doc/psiflight/examples/release_tof.lua" --out out --quiet >stdout 2>stderr) ||
   fail "build runner on the example"
 cmp -s "$tmp/a/stdout" "$tmp/b/stdout" || { diff "$tmp/a/stdout" "$tmp/b/stdout" | head; fail "stdout differs"; }
 for f in release_tof.h5 widths.csv widths.png; do
