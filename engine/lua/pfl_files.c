@@ -254,7 +254,8 @@ static int l_put_image(lua_State *L)
     int plain = m.xa.q == PF_Q_PLAIN;
     const char *vname = m.value_name && strcmp(m.value_name, "value") ? m.value_name : "image";
     pfl_check(L, pf_h5_put_image(f, name, m.nx, m.ny, m.values, m.x, m.y, plain ? "1" : "m", m.value_unit, vname), "put_image");
-    return 0;
+    lua_settop(L, 1);
+    return 1;
 }
 
 static int l_put_table(lua_State *L)
