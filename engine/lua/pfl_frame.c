@@ -31,6 +31,7 @@ static const char *const FRAME_AWARE[] = {
     "wave:close",
     "wave:copy",
     "wave:density",
+    "wave:expand",
     "wave:far_field",
     "wave:fly",
     "wave:fly_long",
