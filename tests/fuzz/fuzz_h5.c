@@ -283,6 +283,9 @@ int LLVMFuzzerInitialize(int *argc, char ***argv)
     (void)argv;
     mode = env_is("FUZZ_H5_ISOLATED") ? MODE_ISOLATED : env_is("FUZZ_H5_INPROCESS_ONLY") ? MODE_INPROCESS_ONLY : MODE_ORACLE;
     if (mode != MODE_ISOLATED) setenv("PSIFLIGHT_H5_INPROCESS", "1", 1);
+    /* An oracle that died between inputs must not take the harness with
+     * it through SIGPIPE: the write fails instead and the verdict follows. */
+    signal(SIGPIPE, SIG_IGN);
     int fd = dup(STDERR_FILENO);
     say = fd >= 0 ? fdopen(fd, "w") : NULL;
     if (!say) say = stderr;
