@@ -37,7 +37,7 @@
  *
  * FUZZ_H5_ORACLE_FAULT=library or =own makes the oracle crash on purpose
  * after each parse (inside libhdf5's type conversion, or by a write through
- * NULL in this file), so tests/ref/test_fuzz_smoke.sh can check that the
+ * address 64 in this file), so tests/ref/test_fuzz_smoke.sh can check that the
  * first is skipped and the second aborts the harness. */
 #include "fuzz_util.h"
 #include <errno.h>
@@ -153,7 +153,9 @@ static void deliberate_fault(void)
         /* 1000 ints converted at address 64, never mapped. */
         H5Tconvert(H5T_NATIVE_INT, H5T_NATIVE_DOUBLE, 1000, (void *)64, NULL, H5P_DEFAULT);
     } else if (strcmp(f, "own") == 0) {
-        volatile int *volatile p = NULL;
+        /* Address 64 is never mapped; not NULL, which UBSan would catch
+         * before the fault. */
+        volatile int *volatile p = (volatile int *)(uintptr_t)64;
         *p = 1;
     }
 }

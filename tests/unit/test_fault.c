@@ -69,14 +69,16 @@ static void fault_in_libhdf5(void)
 
 static void fault_in_own_code(void)
 {
-    volatile int *volatile p = NULL;
+    /* Address 64 is never mapped; not NULL, which UBSan would catch before
+     * the fault in a sanitizer build. */
+    volatile int *volatile p = (volatile int *)(uintptr_t)64;
     *p = 1;
 }
 
 static void fault_in_libc_called_by_own_code(void)
 {
     volatile size_t n = 4096;
-    char buf[16] = {0};
+    static char buf[4096];
     memcpy((void *)(uintptr_t)64, buf, n);
 }
 
