@@ -5,15 +5,18 @@
 #include <stdlib.h>
 #include <string.h>
 #include "../core/pf_advise.h"
+#include "../core/pf_constants.h"
 #include "../core/pf_farfield.h"
+#include "../core/pf_frame.h"
 #include "../core/pf_guard.h"
 #include "../core/pf_scaled.h"
 #include "pfl_options.h"
 
 static const pfl_options_decl FLY_LONG_OPTIONS = {
-    "wave:fly_long", (const char *const[]){"method", "grid", "points", "spacing", "origin", NULL}};
-static const pfl_options_decl FLY_SCALED_OPTIONS = {"wave:fly_scaled", (const char *const[]){"points", "origin", NULL}};
-#define ADVICE_COMMON_KEYS "time", "kicks", "margin", "image_points"
+    "wave:fly_long", (const char *const[]){"method", "grid", "points", "spacing", "origin", "acceleration", NULL}};
+static const pfl_options_decl FLY_SCALED_OPTIONS = {"wave:fly_scaled", (const char *const[]){"points", "origin", "acceleration", NULL}};
+static const pfl_options_decl FAR_FIELD_OPTIONS = {"wave:far_field", (const char *const[]){"acceleration", NULL}};
+#define ADVICE_COMMON_KEYS "time", "kicks", "margin", "image_points", "acceleration"
 static const pfl_options_decl WAVE_ADVICE_OPTIONS = {"wave:grid_advice", (const char *const[]){ADVICE_COMMON_KEYS, NULL}};
 static const pfl_options_decl ADVICE_OPTIONS = {
     "pf.grid_advice",
@@ -94,8 +97,12 @@ static int l_fly_long(lua_State *L)
         if (o.grid && (o.has_centre || o.points[0] || o.spacing[0]))
             return luaL_error(L, "fly_long: give either 'grid' or 'points'/'spacing'/'origin', not both");
     }
+    /* Acceleration (option or pf.setup default): the frame falls, the grid
+     * (possibly a scaled one) holds the cloud (pf_frame.h). */
+    double acc[PF_MAX_DIM];
+    int accelerated = pfl_frame_acceleration(L, lua_isnoneornil(L, 3) ? 0 : 3, d, acc, "wave:fly_long");
     pf_long_flight_report r;
-    pfl_check(L, pf_wave_fly_long(w, t, &o, &r), "fly_long");
+    pfl_check(L, pf_wave_fly_long_in_frame(w, t, &o, &r, accelerated ? acc : NULL), "fly_long");
     lua_settop(L, 1);
     lua_createtable(L, 0, 16);
     lua_pushstring(L, pf_flight_method_name(r.method));
@@ -139,25 +146,33 @@ static int l_fly_scaled(lua_State *L)
         has_points = field_counts(L, 3, "points", d, points, "fly_scaled");
         has_origin = pfl_field_vector(L, 3, "origin", d, origin, 0);
     }
-    pfl_check(L, pf_wave_fly_scaled(w, t, has_points ? points : NULL, has_origin ? origin : NULL), "fly_scaled");
+    double acc[PF_MAX_DIM];
+    int accelerated = pfl_frame_acceleration(L, lua_isnoneornil(L, 3) ? 0 : 3, d, acc, "wave:fly_scaled");
+    pfl_check(L, pf_wave_fly_scaled_in_frame(w, t, has_points ? points : NULL, has_origin ? origin : NULL,
+                                             accelerated ? acc : NULL), "fly_scaled");
     lua_settop(L, 1);
     return 1;
 }
 
-/* w:far_field(t) -> density table (row-major, ascending x), info */
+/* w:far_field(t [, {acceleration =}]) -> density table (row-major,
+ * ascending x), info.  Under an acceleration (or for a wave in a moving
+ * frame) the image grid sits at the lab position of the falling frame. */
 static int l_far_field(lua_State *L)
 {
     pf_wave *w = pfl_check_wave(L, 1);
     double t = pfl_check_positive(L, 2, "flight time (s)");
     pf_grid *g = pf_wave_grid(w);
     int d = pf_grid_dim(g);
+    int opts = pfl_options_opt(L, 3, &FAR_FIELD_OPTIONS);
+    double acc[PF_MAX_DIM], lab_origin[PF_MAX_DIM];
+    int accelerated = pfl_frame_acceleration(L, opts, d, acc, "wave:far_field");
     size_t n = pf_grid_total(g);
     if (n > (size_t)1 << 26) return luaL_error(L, "far_field: %zu points is too many for a Lua table", n);
     pf_context *ctx = pfl_ctx(L);
     double *buf = pf_context_alloc(ctx, n * sizeof *buf);
     if (!buf) pfl_check(L, pf_context_status(ctx), "far_field");
     pf_far_field_info info;
-    pf_status s = pf_wave_far_field(w, t, buf, &info);
+    pf_status s = pf_wave_far_field_in_frame(w, t, accelerated ? acc : NULL, buf, &info, lab_origin);
     if (s) {
         pf_context_free(ctx, buf);
         pfl_check(L, s, "far_field");
@@ -169,7 +184,7 @@ static int l_far_field(lua_State *L)
         span[a] = info.spacing[a] * (double)pts[a];
     }
     pf_grid *img;
-    s = pf_grid_new(ctx, d, pts, span, NULL, &img);
+    s = pf_grid_new(ctx, d, pts, span, lab_origin, &img);
     if (s) {
         pf_context_free(ctx, buf);
         pfl_check(L, s, "far_field");
@@ -238,7 +253,42 @@ static void push_proposal(lua_State *L, const pf_grid_proposal *p, int d)
     set_vector(L, "origin", p->origin, d);
 }
 
-static int push_advice(lua_State *L, const pf_advice_request *q, const pf_advice *adv)
+/* Under an acceleration the proposals are co-moving grids (the frame carries
+ * the drop, docs/frames.md); the 'frame' table says what the frame takes
+ * over: the drop a t^2/2 and velocity a t per axis, and the single fixed lab
+ * grid w:fall would need to hold both the cloud and the drop at the
+ * same-grid proposal's spacing (span + |drop|).  On that grid the gained
+ * wave number m |a| t / hbar wraps around wherever it passes the Nyquist
+ * limit (positions stay exact; the momentum guard fires), which
+ * 'lab_grid_wraps' says per axis. */
+static void push_frame_advice(lua_State *L, const pf_advice_request *q, const pf_advice *adv, const double *acc)
+{
+    int d = q->dim;
+    double drop[PF_MAX_DIM], vel[PF_MAX_DIM], span[PF_MAX_DIM], points[PF_MAX_DIM];
+    double total = 1;
+    lua_createtable(L, 0, 7);
+    lua_createtable(L, d, 0); /* lab_grid_wraps */
+    for (int a = 0; a < d; a++) {
+        drop[a] = 0.5 * acc[a] * q->time * q->time;
+        vel[a] = acc[a] * q->time;
+        double dx = adv->same.spacing[a];
+        span[a] = adv->same.span[a] + fabs(drop[a]);
+        points[a] = ceil(span[a] / dx);
+        total *= points[a];
+        lua_pushboolean(L, q->mass * fabs(vel[a]) / PF_HBAR + fmax(fabs(q->k_lo[a]), fabs(q->k_hi[a])) > PF_PI / dx);
+        lua_rawseti(L, -2, a + 1);
+    }
+    lua_setfield(L, -2, "lab_grid_wraps");
+    set_vector(L, "drop", drop, d);
+    set_vector(L, "velocity", vel, d);
+    set_vector(L, "lab_grid_span", span, d);
+    set_vector(L, "lab_grid_points", points, d);
+    lua_pushnumber(L, total * 16.0); /* one complex double per point */
+    lua_setfield(L, -2, "lab_grid_memory");
+    lua_setfield(L, -2, "frame");
+}
+
+static int push_advice(lua_State *L, const pf_advice_request *q, const pf_advice *adv, const double *acc)
 {
     int d = q->dim;
     lua_createtable(L, 0, 4);
@@ -264,6 +314,7 @@ static int push_advice(lua_State *L, const pf_advice_request *q, const pf_advice
     set_vector(L, "extent_hi", q->x_hi, d);
     set_vector(L, "wavenumber_lo", q->k_lo, d);
     set_vector(L, "wavenumber_hi", q->k_hi, d);
+    if (acc) push_frame_advice(L, q, adv, acc);
     return 1;
 }
 
@@ -298,9 +349,11 @@ static int l_wave_grid_advice(lua_State *L)
     pf_rep other = pf_wave_rep(w) == PF_POSITION ? PF_MOMENTUM : PF_POSITION;
     pfl_check(L, pf_wave_extent(w, other, eps, other == PF_POSITION ? q.x_lo : q.k_lo,
                                 other == PF_POSITION ? q.x_hi : q.k_hi), "grid_advice");
+    double acc[PF_MAX_DIM];
+    int accelerated = pfl_frame_acceleration(L, 2, q.dim, acc, "wave:grid_advice");
     pf_advice adv;
     pfl_check(L, pf_grid_advise(pfl_ctx(L), &q, &adv), "grid_advice");
-    return push_advice(L, &q, &adv);
+    return push_advice(L, &q, &adv, accelerated ? acc : NULL);
 }
 
 /* z with P(|Z| > z) = eps for a standard normal Z: erfc(z / sqrt 2) = eps,
@@ -348,9 +401,11 @@ static int l_grid_advice(lua_State *L)
         q.k_lo[a] = k0[a] - z * sk[a];
         q.k_hi[a] = k0[a] + z * sk[a];
     }
+    double acc[PF_MAX_DIM];
+    int accelerated = pfl_frame_acceleration(L, 1, q.dim, acc, "pf.grid_advice");
     pf_advice adv;
     pfl_check(L, pf_grid_advise(pfl_ctx(L), &q, &adv), "grid_advice");
-    return push_advice(L, &q, &adv);
+    return push_advice(L, &q, &adv, accelerated ? acc : NULL);
 }
 
 void pfl_open_longflight(lua_State *L, int mod)
@@ -364,7 +419,7 @@ void pfl_open_longflight(lua_State *L, int mod)
     };
     static const luaL_Reg funcs[] = {{"grid_advice", l_grid_advice}, {NULL, NULL}};
     static const pfl_options_decl *const options[] = {
-        &FLY_LONG_OPTIONS, &FLY_SCALED_OPTIONS, &WAVE_ADVICE_OPTIONS, &ADVICE_OPTIONS, &KICK_OPTIONS, NULL};
+        &FLY_LONG_OPTIONS, &FLY_SCALED_OPTIONS, &FAR_FIELD_OPTIONS, &WAVE_ADVICE_OPTIONS, &ADVICE_OPTIONS, &KICK_OPTIONS, NULL};
     pfl_options_declare(L, options);
     pfl_add_wave_methods(L, methods);
     pfl_add_functions(L, mod, funcs);
