@@ -4,6 +4,7 @@
 #include <stdlib.h>
 #include <stdio.h>
 #include <string.h>
+#include "pf_cis.h"
 #include "pf_constants.h"
 #include "pf_expand.h"
 #include "pf_frame.h"
@@ -13,6 +14,8 @@
 #include "pf_observe.h"
 
 #define MAX_STEPS 100000000.0
+/* Points per piece of a row in the potential pass (phases kept on the stack). */
+#define PHASE_CHUNK 512
 /* Density below this fraction of the peak does not count as occupied when
  * sizing a step (as in pf_splitstep.c). */
 #define OCCUPIED_FRACTION 1e-12
@@ -172,16 +175,23 @@ static void potential_pass(expand_ws *ws, const frame *f, double coef, pass_stat
         }
         double complex *row = z + (size_t)r * nlast;
         const double *ql = quad[d - 1];
-        for (size_t i = 0; i < nlast; i++) {
-            double complex c = row[i];
-            double rho = creal(c) * creal(c) + cimag(c) * cimag(c);
-            double u = base + q[d - 1] * ql[i] + gl * rho;
-            if (rho > peak) peak = rho;
-            if (rho >= cut) {
-                if (u < lo) lo = u;
-                if (u > hi) hi = u;
+        /* Phases of a piece of the row on the stack, then the vectorised
+         * exp(-i phase) of the split-step machinery (pf_cis.h). */
+        double phase[PHASE_CHUNK];
+        for (size_t i0 = 0; i0 < nlast; i0 += PHASE_CHUNK) {
+            size_t len = nlast - i0 < PHASE_CHUNK ? nlast - i0 : PHASE_CHUNK;
+            for (size_t k = 0; k < len; k++) {
+                double complex c = row[i0 + k];
+                double rho = creal(c) * creal(c) + cimag(c) * cimag(c);
+                double u = base + q[d - 1] * ql[i0 + k] + gl * rho;
+                if (rho > peak) peak = rho;
+                if (rho >= cut) {
+                    if (u < lo) lo = u;
+                    if (u > hi) hi = u;
+                }
+                phase[k] = u * fac;
             }
-            if (fac != 0) row[i] = c * cexp(-I * (u * fac));
+            if (fac != 0) pf_cis_multiply(row + i0, phase, len);
         }
     }
     st->peak = peak;
