@@ -257,6 +257,7 @@ return {
     ["h5file:put_wave"] = {"name: string, w: psiflight.wave, opts?: options", "psiflight.h5file", "stores a wave function (psi or phi) with its grid and step log"},
     ["h5file:put_density"] = {"name: string, state: psiflight.wave|psiflight.ensemble", "psiflight.h5file", "stores a density with its axes"},
     ["h5file:put_table"] = {"name: string, columns: table[]", "psiflight.h5file", "stores a table of named columns with units"},
+    ["h5file:put_image"] = {"name: string, rows: number[][], opts?: options", "psiflight.h5file", "stores a 2D array (camera or optical-depth image) with its axes"},
     ["h5file:put_value"] = {"name: string, value: number|string, unit?: string", "psiflight.h5file", "stores one value with its unit"},
     ["h5file:path"] = {"", "string", "final path of the file"},
     ["h5file:close"] = {"", "", "writes the file under its final name"},
