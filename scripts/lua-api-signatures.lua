@@ -174,6 +174,8 @@ return {
     ["wave:expand"] = {"t: number, opts: options", W .. ", table",
       "mean-field expansion after release from a trap on a grid that grows with the cloud; returns w and a report"},
     ["wave:evolve"] = {"t: number, opts: options", W, "split-step evolution for t seconds in a potential (optionally with a mean field)"},
+    ["wave:expand"] = {"t: number, opts?: options", W .. ", table",
+      "mean-field expansion of a released cloud for t seconds on a grid that grows with it (Castin-Dum frame); returns w and a report"},
     ["wave:relax"] = {"opts: options", W, "imaginary-time relaxation to the ground state of a potential"},
     ["wave:energy"] = {"opts: options", "table", "kinetic, potential and interaction energies (J) in a potential"},
 
