@@ -31,6 +31,7 @@ static const char *const FRAME_AWARE[] = {
     "wave:close",
     "wave:copy",
     "wave:density",
+    "wave:expand",
     "wave:fly",
     "wave:frame",
     "wave:grid",
