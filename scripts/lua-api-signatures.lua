@@ -175,6 +175,8 @@ return {
     ["wave:expand"] = {"t: number, opts: options", W .. ", table",
       "mean-field expansion after release from a trap on a grid that grows with the cloud; returns w and a report"},
     ["wave:evolve"] = {"t: number, opts: options", W, "split-step evolution for t seconds in a potential (optionally with a mean field)"},
+    ["wave:expand"] = {"t: number, opts?: options", W .. ", table",
+      "mean-field expansion of a released cloud for t seconds on a grid that grows with it (Castin-Dum frame); returns w and a report"},
     ["wave:relax"] = {"opts: options", W, "imaginary-time relaxation to the ground state of a potential"},
     ["wave:energy"] = {"opts: options", "table", "kinetic, potential and interaction energies (J) in a potential"},
 
@@ -269,6 +271,7 @@ return {
     ["h5file:put_wave"] = {"name: string, w: psiflight.wave, opts?: options", "psiflight.h5file", "stores a wave function (psi or phi) with its grid and step log"},
     ["h5file:put_density"] = {"name: string, state: psiflight.wave|psiflight.ensemble", "psiflight.h5file", "stores a density with its axes"},
     ["h5file:put_table"] = {"name: string, columns: table[]", "psiflight.h5file", "stores a table of named columns with units"},
+    ["h5file:put_image"] = {"name: string, rows: number[][], opts?: options", "psiflight.h5file", "stores a 2D array (camera or optical-depth image) with its axes"},
     ["h5file:put_value"] = {"name: string, value: number|string, unit?: string", "psiflight.h5file", "stores one value with its unit"},
     ["h5file:path"] = {"", "string", "final path of the file"},
     ["h5file:close"] = {"", "", "writes the file under its final name"},
