@@ -352,17 +352,43 @@ pf_status pf_picture_map(pf_context *ctx, const char *path, int overwrite, const
     return s;
 }
 
-/* Legend on a white box with a frame, in the corner the caller chose, one
- * row per labelled series. */
-static void draw_legend(const pf_lines *p, double xmin, double xmax, double ymin, double ymax)
+/* Samples of all series (display units: x * fx, y * fy or log10) inside
+ * the box [left, left + bw] x [top - bh, top]. */
+static size_t samples_in_box(const pf_lines *p, double fx, double fy, double left, double bw, double top, double bh)
+{
+    size_t n = 0;
+    for (size_t k = 0; k < p->nseries; k++) {
+        const pf_series *s = &p->series[k];
+        for (size_t i = 0; i < s->n; i++) {
+            if (p->log_y && !(s->y[i] > 0)) continue;
+            double x = s->x[i] * fx, y = p->log_y ? log10(s->y[i] * fy) : s->y[i] * fy;
+            n += x >= left && x <= left + bw && y >= top - bh && y <= top;
+        }
+    }
+    return n;
+}
+
+/* Legend on a white box with a frame, one row per labelled series, in the
+ * corner the caller chose unless it would hide samples of the curves: then
+ * in the corner that hides the fewest (the requested one wins ties). */
+static void draw_legend(const pf_lines *p, double sx, double sy, double xmin, double xmax, double ymin, double ymax)
 {
     size_t rows = 0;
     for (size_t k = 0; k < p->nseries; k++) rows += p->series[k].label != NULL;
     if (!rows) return;
     double W = xmax - xmin, H = ymax - ymin;
     double bw = 0.30 * W, rh = 0.065 * H, bh = rh * (double)rows + 0.03 * H;
-    double left = (p->legend & 1) ? xmax - 0.02 * W - bw : xmin + 0.02 * W;
-    double top = (p->legend & 2) ? ymin + 0.03 * H + bh : ymax - 0.03 * H;
+    int corner = p->legend;
+    size_t best = (size_t)-1;
+    for (int t = 0; t < 4 && best; t++) {
+        int c = (p->legend + t) % 4;
+        double l = (c & 1) ? xmax - 0.02 * W - bw : xmin + 0.02 * W;
+        double tp = (c & 2) ? ymin + 0.03 * H + bh : ymax - 0.03 * H;
+        size_t hidden = samples_in_box(p, sx, sy, l, bw, tp, bh);
+        if (hidden < best) best = hidden, corner = c;
+    }
+    double left = (corner & 1) ? xmax - 0.02 * W - bw : xmin + 0.02 * W;
+    double top = (corner & 2) ? ymin + 0.03 * H + bh : ymax - 0.03 * H;
     PLFLT fx[4] = {left, left + bw, left + bw, left}, fy[4] = {top, top, top - bh, top - bh};
     plcol0(0);
     plfill(4, fx, fy);
@@ -439,7 +465,7 @@ static void draw_lines(void *user)
         pllsty(1);
         plwidth(1.0);
     }
-    draw_legend(p, xmin, xmax, ymin, ymax);
+    draw_legend(p, j->fx, j->fy, xmin, xmax, ymin, ymax);
     plend1();
 }
 

@@ -142,7 +142,7 @@ function recipe.main(p)
     tables = {{"fringe", {{"phase3", "rad", phases}, {"upper_fraction", "", upper}, {"formula", "", formula}}}},
     pictures = {{"mach_zehnder.png", {
       title = "upper-port fraction against the last pulse's phase", x_name = "laser phase (rad)",
-      y_name = "upper-port fraction", legend = "upper right",
+      y_name = "upper-port fraction", legend = "lower right",
       series = {{x = phases, y = upper, label = "engine"},
                 {x = phases, y = formula, label = "textbook fringe", points = true}},
     }}},
