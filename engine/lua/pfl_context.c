@@ -28,6 +28,7 @@ typedef struct pfl_state {
     unsigned long warnings;  /* warnings emitted so far (run manifest) */
     /* The engine's progress reports (progress_hook): the task under way,
      * when it started, and its bar once it has run long enough to show. */
+    double progress_delay; /* seconds before a bar shows (PSIFLIGHT_PROGRESS_DELAY) */
     char task[24];
     double task_start;
     int task_active;
@@ -110,7 +111,7 @@ static void progress_hook(void *user, const char *task, double done, double tota
         st->task_active = 1;
     }
     int ending = done < 0 || done >= total;
-    if (!st->bar.enabled && !ending && monotonic_s() - st->task_start >= PROGRESS_DELAY_S && st->L &&
+    if (!st->bar.enabled && !ending && monotonic_s() - st->task_start >= st->progress_delay && st->L &&
         pfl_progress_wanted(st->L)) {
         pf_progress_begin(&st->bar, stderr, 1, total, task);
         st->bar.start = st->task_start; /* elapsed counts from the call's start */
@@ -151,6 +152,12 @@ static pfl_state *get_state(lua_State *L)
     if (!st->ctx) luaL_error(L, "psiflight: out of memory creating the engine context");
     st->L = L;
     pf_context_set_warn_handler(st->ctx, warn_handler, st);
+    /* PSIFLIGHT_PROGRESS_DELAY (seconds) replaces the half second: tests
+     * set 0 so that a bar does not depend on how fast the machine is. */
+    const char *env = getenv("PSIFLIGHT_PROGRESS_DELAY");
+    char *end = NULL;
+    double delay = env ? strtod(env, &end) : PROGRESS_DELAY_S;
+    st->progress_delay = env && end != env && delay >= 0 ? delay : PROGRESS_DELAY_S;
     pf_context_set_progress(st->ctx, progress_hook, st);
     lua_rawsetp(L, LUA_REGISTRYINDEX, &STATE_KEY);
     fault_injection(L, st->ctx);

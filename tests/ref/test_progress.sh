@@ -7,6 +7,9 @@ here=$(cd "$(dirname "$0")" && pwd)
 runner=${PSIFLIGHT_RUNNER:-$here/../../build/psiflight}
 tmp=$(mktemp -d)
 trap 'rm -rf "$tmp"' EXIT
+# The engine-call bar appears after PSIFLIGHT_PROGRESS_DELAY seconds (0 here,
+# so it does not depend on the machine's speed).
+export PSIFLIGHT_PROGRESS_DELAY=0
 cmd="'$runner' run '$here/progress_loop.lua' --out '$tmp/o1'"
 
 # The terminal checks need util-linux `script` and a pseudo-terminal; some
