@@ -261,6 +261,7 @@ static pf_status run_separate(evolve_ws *ws, size_t n, double t0, double t)
         /* One poll per step (a few FFTs): a stop request ends a long evolve
          * within one step instead of at its end. */
         if ((s = pf_context_poll_stop(ws->g->ctx))) break;
+        if (step) pf_context_progress(ws->g->ctx, "evolve", (double)step, (double)n);
         double tau = 0;
         for (int j = 0; j < sc->stages && !s; j++) {
             s = kinetic_step(ws, stage_table(sc, j));
@@ -294,6 +295,7 @@ static pf_status run_fused(evolve_ws *ws, size_t n, double t0, double t)
     pf_fused_chunks(g, d, 0, p.active ? pot_chunk : NULL, &p, 1);
     for (size_t step = 0; step < n; step++) {
         if ((s = pf_context_poll_stop(g->ctx))) break;
+        if (step) pf_context_progress(g->ctx, "evolve", (double)step, (double)n);
         double tau = 0;
         for (int j = 0; j < sc->stages; j++) {
             pf_fused_columns(g, d, scale, ws->kin[stage_table(sc, j)]);
@@ -533,7 +535,9 @@ static pf_status evolve(pf_wave *w, double t, const pf_evolve_spec *spec, pf_evo
             return s;
         }
     }
+    pf_context_progress(w->grid->ctx, "evolve", 0, (double)n);
     s = fused ? run_fused(&ws, n, t0, t) : run_separate(&ws, n, t0, t);
+    pf_context_progress(w->grid->ctx, "evolve", s ? -1.0 : (double)n, (double)n);
     ws_free(&ws);
     if (s) {
         pf_guard_forget(w); /* the data changed part-way without a logged step */
