@@ -385,20 +385,29 @@ static pf_status prepare(evolve_ws *ws)
             return PF_OK;
         }
         if (c) {
-            /* Free the old arrays before making new ones; the potential's
-             * values were still checked. */
+            /* Arrays of the right size are refilled rather than freed and
+             * made again (fresh pages cost a fault each on first touch);
+             * they pass to this call, which owns them until it stores them
+             * back below.  Others are freed before new ones are made.  The
+             * potential's values were still checked. */
             const double *checked = c->checked;
+            if (c->ctx == g->ctx && c->bytes == ws->bytes_c) {
+                ws->e1 = c->e1;
+                ws->e2 = c->e2;
+                c->e1 = c->e2 = NULL;
+            }
             pf_evolve_cache_clear(c);
             c->checked = checked;
             c->ctx = g->ctx;
+            if (ws->e2 && ws->sc.stages == 1) {
+                pf_free(g->ctx, ws->e2, ws->bytes_c);
+                ws->e2 = NULL;
+            }
         }
-        ws->e1 = pf_alloc(g->ctx, ws->bytes_c);
-        if (!ws->e1) return pf_context_status(g->ctx);
+        if (!ws->e1 && !(ws->e1 = pf_alloc(g->ctx, ws->bytes_c))) return pf_context_status(g->ctx);
         double f1 = 0.5 * ws->sc.c[0] * ws->h / PF_HBAR;
-        if (ws->sc.stages > 1) {
-            ws->e2 = pf_alloc(g->ctx, ws->bytes_c);
-            if (!ws->e2) return pf_context_status(g->ctx);
-        }
+        if (ws->sc.stages > 1 && !ws->e2 && !(ws->e2 = pf_alloc(g->ctx, ws->bytes_c)))
+            return pf_context_status(g->ctx);
         double f2 = 0.5 * ws->sc.c[1] * ws->h / PF_HBAR;
         const double *V = sp->potential;
         double complex *e1 = ws->e1, *e2 = ws->e2;
