@@ -1,0 +1,66 @@
+-- test_interp.lua - w:psi_at and w:density_at: the grid's band-limited
+-- interpolant evaluated between grid points, against the closed-form free
+-- Gaussian (textbook: psi(x, t) = (2 pi s^2)^(-1/4) (1 + i tau)^(-1/2)
+-- exp(-(d - v t)^2 / (4 s^2 (1 + i tau)) + i k0 d - i hbar k0^2 t / 2m),
+-- tau = hbar t / (2 m s^2), d = x - x0; e.g. Cohen-Tannoudji, Quantum
+-- Mechanics, complement G_I), which a well-resolved grid represents to
+-- rounding, so its interpolant must too.
+local pf = require "psiflight"
+local check = require "check"
+pf.setup{planning = "estimate"}
+local hbar = pf.constants.hbar
+local m = pf.mass("87Rb")
+
+local function gauss_t(x, x0, s, k0, t)
+  local tau = hbar * t / (2 * m * s * s)
+  local d = x - x0
+  local v = hbar * k0 / m
+  local one_it = pf.complex(1, tau)
+  local e = -(d - v * t) ^ 2 / (4 * s * s) / one_it + pf.complex(0, k0 * d - hbar * k0 * k0 * t / (2 * m))
+  return pf.cexp(e) / (one_it ^ 0.5) * (2 * math.pi * s * s) ^ -0.25
+end
+
+-- 1D: 256 points over 100 um, s = 4 um, moving; points between grid points.
+local s, x0, k0, t = 4e-6, -3.1e-6, 2.5e6, 0.8e-3
+local g = pf.grid{points = 256, span = 100e-6}
+local w = pf.gaussian(g, {mass = m, width = s, center = x0, momentum = hbar * k0})
+w:fly(t)
+local dx = g:spacing(1)
+local xs = {}
+for i = 1, 200 do xs[i] = -30e-6 + (i - 1) * 0.3011 * dx end
+local psi = w:psi_at(xs)
+local peak = (2 * math.pi * s * s) ^ -0.25
+local worst = 0
+for i, x in ipairs(xs) do worst = math.max(worst, (psi[i] - gauss_t(x, x0, s, k0, t)):abs()) end
+check.close(worst / peak, 0, 1e-12, "psi_at between grid points = free Gaussian closed form (1D, 200 points)",
+  "free Gaussian, Cohen-Tannoudji complement G_I")
+local one = w:psi_at(xs[17])
+check.close((one - psi[17]):abs() / peak, 0, 0, "one point = the same point in a table", "definition")
+local rho = w:density_at(xs)
+check.close(math.abs(rho[33] - psi[33]:abs2()) / peak ^ 2, 0, 1e-15, "density_at = |psi_at|^2", "definition")
+-- At a grid point the interpolant is the sample.
+check.close((w:psi_at(g:x(1, 100)) - w:psi(100)):abs() / peak, 0, 1e-13, "psi_at at a grid point = w:psi",
+  "interpolation property of the trigonometric interpolant, common practice")
+
+-- 2D: anisotropic Gaussian, points scattered in the plane.
+local g2 = pf.grid{points = {64, 96}, span = {48e-6, 72e-6}}
+local s2 = {2e-6, 3e-6}
+local w2 = pf.gaussian(g2, {mass = m, width = s2, center = {1e-6, -2e-6}, momentum = {0, hbar * 1e6}})
+w2:fly(0.3e-3)
+local X, Y = {}, {}
+for i = 1, 50 do X[i] = -8e-6 + i * 0.317e-6; Y[i] = -10e-6 + i * 0.431e-6 end
+local v2 = w2:psi_at(X, Y)
+local peak2 = (2 * math.pi * s2[1] ^ 2) ^ -0.25 * (2 * math.pi * s2[2] ^ 2) ^ -0.25
+local worst2 = 0
+for i = 1, 50 do
+  local want = gauss_t(X[i], 1e-6, s2[1], 0, 0.3e-3) * gauss_t(Y[i], -2e-6, s2[2], 1e6, 0.3e-3)
+  worst2 = math.max(worst2, (v2[i] - want):abs())
+end
+check.close(worst2 / peak2, 0, 1e-12, "psi_at in 2D = product of free Gaussians (50 points)",
+  "free Gaussian, Cohen-Tannoudji complement G_I")
+
+-- Refused: a point outside the grid's cell, a wrong count of coordinates.
+check.fails(function() w:psi_at(60e-6) end, "point outside the grid refused", "outside the grid", "6e-05")
+check.fails(function() w2:psi_at(1e-6) end, "2D wave needs two coordinates", "coordinate 2")
+check.fails(function() w2:psi_at({1e-6, 2e-6}, {0}) end, "unequal tables refused", "equal lengths")
+check.done()
