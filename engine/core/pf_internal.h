@@ -10,6 +10,7 @@
 #include <fftw3.h>
 #include <stddef.h>
 #include "pf_context.h"
+#include "pf_frame.h"
 #include "pf_grid.h"
 #include "pf_steplog.h"
 #include "pf_wave.h"
@@ -140,6 +141,9 @@ struct pf_wave {
         double duration;
         double origin[PF_MAX_DIM];
     } scaled_from;
+    /* The co-moving frame relating the stored state to the lab (pf_frame.h);
+     * all zero: the grid state is the lab state. */
+    pf_frame frame;
 };
 
 /* Engine allocation accounted against the context's memory cap, aligned for

@@ -8,6 +8,7 @@
  * last axis innermost, which reads the storage in memory order. */
 #include <math.h>
 #include "pf_constants.h"
+#include "pf_frame.h"
 #include "pf_interp.h"
 #include "pf_internal.h"
 #ifdef _OPENMP
@@ -41,17 +42,21 @@ pf_status pf_wave_values_at(pf_wave *w, size_t count, const double *points, doub
     pf_grid *g = w->grid;
     pf_context *ctx = g->ctx;
     int d = g->dim;
+    /* Lab points: the grid coordinate is xi = x - X (the frame's offset). */
+    pf_frame f;
+    pf_wave_frame(w, &f);
     for (size_t i = 0; i < count; i++) {
         for (int a = 0; a < d; a++) {
             double x = points[i * (size_t)d + a];
-            double lo = g->x[a][0] - 0.5 * g->dx[a], hi = lo + g->span[a];
+            double lo = g->x[a][0] - 0.5 * g->dx[a] + f.position[a], hi = lo + g->span[a];
             if (!isfinite(x) || x < lo || x > hi)
                 return pf_fail(ctx, PF_EINVAL,
-                               "point %zu: coordinate %g m on axis %d lies outside the grid's cell [%g, %g] m; the "
-                               "grid holds psi only there",
+                               "point %zu: coordinate %g m on axis %d lies outside the grid's cell [%g, %g] m (lab); "
+                               "the grid holds psi only there",
                                i + 1, x, a + 1, lo, hi);
         }
     }
+    int moved = pf_wave_frame_moved(w);
     pf_status s = pf_wave_to(w, PF_MOMENTUM);
     if (s) return s;
     size_t per = 0;
@@ -72,7 +77,8 @@ pf_status pf_wave_values_at(pf_wave *w, size_t count, const double *points, doub
         for (int a = 0; a < d; a++) {
             e[a] = base;
             base += g->n[a];
-            phase_table(g->n[a], PF_TWO_PI / g->span[a], points[i * (size_t)d + a] - g->x[a][0], e[a]);
+            phase_table(g->n[a], PF_TWO_PI / g->span[a], points[i * (size_t)d + a] - f.position[a] - g->x[a][0],
+                        e[a]);
         }
         double complex sum0 = 0;
         for (size_t j0 = 0; j0 < n0; j0++) {
@@ -87,6 +93,12 @@ pf_status pf_wave_values_at(pf_wave *w, size_t count, const double *points, doub
                 sum1 += d > 1 ? sum2 * e[1][j1] : sum2;
             }
             sum0 += sum1 * e[0][j0];
+        }
+        if (moved) {
+            /* psi_lab(x) = exp(i (theta + K.xi)) chi(xi) (pf_frame.h). */
+            double ph = f.phase;
+            for (int a = 0; a < d; a++) ph += f.wavenumber[a] * (points[i * (size_t)d + a] - f.position[a]);
+            sum0 *= cexp(I * ph);
         }
         out[i] = sum0;
     }

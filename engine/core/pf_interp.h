@@ -14,9 +14,11 @@
 #include <stddef.h>
 #include "pf_wave.h"
 
-/* psi at `count` points; points[i * dim + a] is coordinate a of point i (m).
+/* psi at `count` points; points[i * dim + a] is lab coordinate a of point i
+ * (m).  A wave with a moved frame (pf_frame.h) is evaluated through it:
+ * grid coordinate xi = x - X, psi_lab = exp(i (theta + K.xi)) chi(xi).
  * Every point must lie in the grid's cell, [x_0 - dx/2, x_0 + span - dx/2]
- * per axis (the periodic grid says nothing about psi elsewhere).  Brings
+ * + X per axis (the periodic grid says nothing about psi elsewhere).  Brings
  * the wave to momentum representation (settling a deferred flight).
  * Results do not depend on the thread count (each point is one sum in a
  * fixed order). */

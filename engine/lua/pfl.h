@@ -169,6 +169,26 @@ void pfl_add_functions(lua_State *L, int mod, const luaL_Reg *funcs);
  * (pcall per point; a failing callback re-raises its error). */
 void pfl_fill_from_function(lua_State *L, pf_wave *w, pf_rep rep, int arg, const char *name);
 
+/* ---- moving frames (pfl_frame.c) ---- */
+/* Records the script names (prefix + name) of C functions, so the frame
+ * guard can name the running function; pfl_add_wave_methods ("wave:") and
+ * pfl_add_functions ("pf.") call it for every function they register. */
+void pfl_frame_name_functions(lua_State *L, const char *prefix, const luaL_Reg *funcs);
+/* True when the script name is in the FRAME_AWARE list. */
+int pfl_frame_aware_name(const char *name);
+/* Raises an argument error at arg when w's frame is moved and the running
+ * function is not FRAME_AWARE (pfl_check_wave calls it). */
+void pfl_frame_guard(lua_State *L, int arg, const pf_wave *w);
+/* The acceleration of a flight: field 'acceleration' of the checked options
+ * table opts (0: none; false: no acceleration), else the pf.setup default.
+ * Fills out[0..dim) and returns 1 when one applies, else 0 (out all zero). */
+int pfl_frame_acceleration(lua_State *L, int opts, int dim, double *out, const char *fname);
+/* The pf.setup default: reads field 'acceleration' of the checked table t
+ * into values/count (returns 1 when the field is present; count 0 for
+ * false), and stores what was read (after every field was checked). */
+int pfl_frame_setup_read(lua_State *L, int t, double *values, int *count);
+void pfl_frame_setup_apply(lua_State *L, const double *values, int count);
+
 /* ---- file access policy (pfl_file_policy.c) ----
  * Every binding function that opens a file for a script checks the path here
  * first, so the sandbox covers engine outputs as well as io.open. */
@@ -217,6 +237,7 @@ void pfl_open_detector(lua_State *L, int mod);
 void pfl_open_ops(lua_State *L, int mod);     /* issue 4: pulses, masks, shifts */
 void pfl_open_evolve(lua_State *L, int mod);  /* issue 4: fall, evolve, relax */
 void pfl_open_lab(lua_State *L, int mod);     /* pf.coupling, pf.beam: lab quantities */
+void pfl_open_frame(lua_State *L, int mod);   /* issue 14: moving frames */
 void pfl_open_interp(lua_State *L, int mod);  /* w:psi_at, w:density_at: values between grid points */
 
 #endif

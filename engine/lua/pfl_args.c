@@ -226,6 +226,7 @@ int pfl_field_boolean(lua_State *L, int t, const char *field, int def)
 void pfl_add_functions(lua_State *L, int mod, const luaL_Reg *funcs)
 {
     mod = lua_absindex(L, mod);
+    pfl_frame_name_functions(L, "pf.", funcs);
     for (; funcs->name; funcs++) {
         lua_pushcfunction(L, funcs->func);
         lua_setfield(L, mod, funcs->name);

@@ -165,7 +165,7 @@ unsigned long pfl_warning_count(lua_State *L) { return get_state(L)->warnings; }
 
 static const pfl_options_decl SETUP_OPTIONS = {
     "pf.setup", (const char *const[]){"threads", "planning", "wisdom", "memory_cap", "strict", "seed", "output_dir",
-                                      "guard_threshold", NULL}};
+                                      "guard_threshold", "acceleration", NULL}};
 
 /* Every pf.setup field as read once from the table: checked and applied from
  * these same values, so nothing can answer differently the second time. */
@@ -177,6 +177,8 @@ typedef struct setup_values {
     double cap, guard;
     int strict;
     const char *dir;
+    int has_accel, naccel; /* default flight acceleration (pfl_frame.c) */
+    double accel[PF_MAX_DIM];
 } setup_values;
 
 /* Raises at the script line (past a C wrapper such as the sandbox guard). */
@@ -244,6 +246,7 @@ static void read_setup(lua_State *L, setup_values *v)
             setup_type_error(L, "guard_threshold", "a positive probability (math.huge switches guard warnings off)");
     }
     lua_pop(L, 1);
+    v->has_accel = pfl_frame_setup_read(L, 1, v->accel, &v->naccel);
 }
 
 void pfl_setup_check(lua_State *L, int idx) { pfl_options_check(L, idx, &SETUP_OPTIONS); }
@@ -276,6 +279,7 @@ static int l_setup(lua_State *L)
     pfl_check(L, s, "setup");
     if (v.has_strict) st->strict = v.strict;
     if (v.has_seed) st->seed = (unsigned long long)v.seed;
+    if (v.has_accel) pfl_frame_setup_apply(L, v.accel, v.naccel);
     if (dir) {
         free(st->output_dir);
         st->output_dir = dir;

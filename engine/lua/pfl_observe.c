@@ -3,6 +3,7 @@
 #include <math.h>
 #include "../core/pf_constants.h"
 #include "../core/pf_covariance.h"
+#include "../core/pf_frame.h"
 #include "../core/pf_observe.h"
 #include "pfl.h"
 
@@ -20,7 +21,8 @@ static int l_norm(lua_State *L)
 
 typedef pf_status (*moments_fn)(pf_wave *, double *, double *);
 
-/* which: 0 mean, 1 variance, 2 width (standard deviation). */
+/* which: 0 mean, 1 variance, 2 width (standard deviation); lab values for a
+ * wave in a moving frame (pf_frame.h). */
 static int moments(lua_State *L, moments_fn fn, int which, double unit, const char *name)
 {
     pf_wave *w = pfl_check_wave(L, 1);
@@ -32,25 +34,25 @@ static int moments(lua_State *L, moments_fn fn, int which, double unit, const ch
     return push_axes(L, var, d, unit, 1);
 }
 
-static int l_position_mean(lua_State *L) { return moments(L, pf_wave_position_moments, 0, 1.0, "position_mean"); }
-static int l_position_variance(lua_State *L) { return moments(L, pf_wave_position_moments, 1, 1.0, "position_variance"); }
-static int l_position_width(lua_State *L) { return moments(L, pf_wave_position_moments, 2, 1.0, "position_width"); }
-static int l_momentum_mean(lua_State *L) { return moments(L, pf_wave_wavenumber_moments, 0, PF_HBAR, "momentum_mean"); }
-static int l_momentum_variance(lua_State *L) { return moments(L, pf_wave_wavenumber_moments, 1, PF_HBAR, "momentum_variance"); }
-static int l_momentum_width(lua_State *L) { return moments(L, pf_wave_wavenumber_moments, 2, PF_HBAR, "momentum_width"); }
-static int l_wavenumber_mean(lua_State *L) { return moments(L, pf_wave_wavenumber_moments, 0, 1.0, "wavenumber_mean"); }
-static int l_wavenumber_width(lua_State *L) { return moments(L, pf_wave_wavenumber_moments, 2, 1.0, "wavenumber_width"); }
+static int l_position_mean(lua_State *L) { return moments(L, pf_wave_lab_position_moments, 0, 1.0, "position_mean"); }
+static int l_position_variance(lua_State *L) { return moments(L, pf_wave_lab_position_moments, 1, 1.0, "position_variance"); }
+static int l_position_width(lua_State *L) { return moments(L, pf_wave_lab_position_moments, 2, 1.0, "position_width"); }
+static int l_momentum_mean(lua_State *L) { return moments(L, pf_wave_lab_wavenumber_moments, 0, PF_HBAR, "momentum_mean"); }
+static int l_momentum_variance(lua_State *L) { return moments(L, pf_wave_lab_wavenumber_moments, 1, PF_HBAR, "momentum_variance"); }
+static int l_momentum_width(lua_State *L) { return moments(L, pf_wave_lab_wavenumber_moments, 2, PF_HBAR, "momentum_width"); }
+static int l_wavenumber_mean(lua_State *L) { return moments(L, pf_wave_lab_wavenumber_moments, 0, 1.0, "wavenumber_mean"); }
+static int l_wavenumber_width(lua_State *L) { return moments(L, pf_wave_lab_wavenumber_moments, 2, 1.0, "wavenumber_width"); }
 
 static int l_velocity_mean(lua_State *L)
 {
     pf_wave *w = pfl_check_wave(L, 1);
-    return moments(L, pf_wave_wavenumber_moments, 0, PF_HBAR / pf_wave_mass(w), "velocity_mean");
+    return moments(L, pf_wave_lab_wavenumber_moments, 0, PF_HBAR / pf_wave_mass(w), "velocity_mean");
 }
 
 static int l_kinetic_energy(lua_State *L)
 {
     double e;
-    pfl_check(L, pf_wave_kinetic_energy(pfl_check_wave(L, 1), &e), "kinetic_energy");
+    pfl_check(L, pf_wave_lab_kinetic_energy(pfl_check_wave(L, 1), &e), "kinetic_energy");
     lua_pushnumber(L, e);
     return 1;
 }

@@ -6,10 +6,12 @@
 #include <math.h>
 #include <stdio.h>
 #include <string.h>
+#include "../core/pf_frame.h"
 #include "../core/pf_ops.h"
 #include "pfl_options.h"
 #include "pfl_protocol.h"
 
+static const pfl_options_decl KICK_OPTIONS = {"wave:kick", (const char *const[]){"frame", NULL}};
 static const pfl_options_decl GRATING_OPTIONS = {"wave:grating", (const char *const[]){"depth", "period", "axis", "phase", NULL}};
 static const pfl_options_decl LENS_OPTIONS = {"wave:lens", (const char *const[]){"axis", "center", NULL}};
 static const pfl_options_decl SLITS_OPTIONS = {
@@ -44,13 +46,19 @@ static void opt_table(lua_State *L, int arg)
     luaL_checktype(L, arg, LUA_TTABLE);
 }
 
-/* w:kick(kx [, ky, kz]) - momentum kick hbar k (k in rad/m, per axis). */
+/* w:kick(kx [, ky, kz] [, {frame = true}]) - momentum kick hbar k (k in
+ * rad/m, per axis) in the lab.  frame = true puts it into the wave's frame
+ * (pf_frame.h) instead of on the grid, so a fast cloud needs no momentum
+ * on the grid; otherwise a moved frame takes the kick's phase q.X. */
 static int l_kick(lua_State *L)
 {
     pf_wave *w = pfl_check_wave(L, 1);
     double k[PF_MAX_DIM];
-    pfl_check_axis_values(L, 2, dim_of(w), k, "kick wave number (rad/m)");
-    pfl_check(L, pf_wave_kick(w, k), "kick");
+    int d = dim_of(w);
+    pfl_check_axis_values(L, 2, d, k, "kick wave number (rad/m)");
+    int opts = pfl_options_opt(L, lua_type(L, 2) == LUA_TTABLE ? 3 : 2 + d, &KICK_OPTIONS);
+    int in_frame = opts ? pfl_field_boolean(L, opts, "frame", 0) : 0;
+    pfl_check(L, in_frame ? pf_wave_frame_kick(w, k) : pf_wave_lab_kick(w, k), "kick");
     lua_settop(L, 1);
     return 1;
 }
@@ -291,7 +299,7 @@ static int l_select_velocity(lua_State *L)
 void pfl_open_ops(lua_State *L, int mod)
 {
     (void)mod;
-    static const pfl_options_decl *const options[] = {&GRATING_OPTIONS, &LENS_OPTIONS, &SLITS_OPTIONS, &SLIT_OPTIONS,
+    static const pfl_options_decl *const options[] = {&KICK_OPTIONS, &GRATING_OPTIONS, &LENS_OPTIONS, &SLITS_OPTIONS, &SLIT_OPTIONS,
                                                       &MASK_GRATING_OPTIONS, &APERTURE_OPTIONS,
                                                       &SELECT_VELOCITY_OPTIONS, NULL};
     pfl_options_declare(L, options);

@@ -8,6 +8,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include "../core/pf_frame.h"
 #include "../core/pf_observe.h"
 #include "pfl_options.h"
 
@@ -25,6 +26,7 @@ pf_wave *pfl_check_wave(lua_State *L, int arg)
     pfl_wave_box *b = check_box(L, arg);
     if (!b->w) luaL_argerror(L, arg, "wave function is closed");
     pfl_ctx(L); /* binds this thread to the context for warnings */
+    pfl_frame_guard(L, arg, b->w); /* a moved frame only for FRAME_AWARE functions */
     return b->w;
 }
 
@@ -41,6 +43,7 @@ void pfl_add_wave_methods(lua_State *L, const luaL_Reg *methods)
     lua_getfield(L, -1, "__index");
     luaL_setfuncs(L, methods, 0);
     lua_pop(L, 2);
+    pfl_frame_name_functions(L, "wave:", methods);
 }
 
 typedef struct fill_call {
@@ -130,7 +133,7 @@ static int l_psi(lua_State *L)
     size_t idx[PF_MAX_DIM];
     pfl_check_indices(L, 2, pf_wave_grid(w), idx, 0);
     double complex z;
-    pfl_check(L, pf_wave_value(w, PF_POSITION, idx, &z), "psi");
+    pfl_check(L, pf_wave_lab_value(w, PF_POSITION, idx, &z), "psi");
     pfl_push_complex(L, z);
     return 1;
 }
@@ -141,7 +144,7 @@ static int l_phi(lua_State *L)
     size_t idx[PF_MAX_DIM];
     pfl_check_indices(L, 2, pf_wave_grid(w), idx, 1);
     double complex z;
-    pfl_check(L, pf_wave_value(w, PF_MOMENTUM, idx, &z), "phi");
+    pfl_check(L, pf_wave_lab_value(w, PF_MOMENTUM, idx, &z), "phi");
     pfl_push_complex(L, z);
     return 1;
 }
@@ -153,7 +156,7 @@ static int set_value(lua_State *L, pf_rep rep, const char *name)
     size_t idx[PF_MAX_DIM];
     pfl_check_indices(L, 2, pf_wave_grid(w), idx, rep == PF_MOMENTUM);
     double complex z = pfl_check_complex(L, 2 + d);
-    pfl_check(L, pf_wave_set_value(w, rep, idx, z), name);
+    pfl_check(L, pf_wave_lab_set_value(w, rep, idx, z), name);
     lua_settop(L, 1);
     return 1;
 }
@@ -332,5 +335,6 @@ void pfl_open_wave(lua_State *L, int mod)
     luaL_newlib(L, methods);
     lua_setfield(L, -2, "__index");
     lua_pop(L, 1);
+    pfl_frame_name_functions(L, "wave:", methods);
     pfl_add_functions(L, mod, funcs);
 }

@@ -1,5 +1,5 @@
 /* pfr_options.c - parses the runner's command line into pfr_options.  The
- * option table of docs/runner.md is the reference; every bad value is a usage
+ * options are those of the runner's one table (pfr_usage.c); every bad value is a usage
  * error (exit 2) that names the option and the value. */
 #include <stdarg.h>
 #include <stdlib.h>
@@ -8,22 +8,7 @@
 #include "../lua/pfl_suffix.h"
 #include "pfr_exit.h"
 #include "pfr_options.h"
-
-void pfr_usage(FILE *f)
-{
-    fputs("usage: psiflight run SCRIPT.lua [--help] [RUN OPTIONS]\n"
-          "       psiflight recipe [NAME [--help] [RUN OPTIONS]]\n"
-          "       psiflight sweep SCRIPT.lua --vary NAME=START:STOP:COUNT | --vary NAME=V1,V2,...\n"
-          "                       | --points FILE.csv  --out DIR [-j N] [--rerun] [RUN OPTIONS]\n"
-          "       psiflight --version\n"
-          "run options: --set NAME=VALUE  --seed N  --out DIR  --data PATH  --threads N  --strict\n"
-          "             --planning measure|estimate  --wisdom PATH|off  --trusted\n"
-          "             --time-limit SECONDS  --memory-cap BYTES (e.g. 512MiB)  --quiet  --overwrite\n"
-          "Exit status: 0 ok, 1 script error, 2 usage, 3 guard (strict), 4 sandbox, 5 resource limit,\n"
-          "             6 some sweep points failed.\n"
-          "See docs/runner.md.\n",
-          f);
-}
+#include "pfr_usage.h"
 
 int pfr_usage_error(const char *fmt, ...)
 {
@@ -75,28 +60,32 @@ static int parse_seconds(const char *text, double *out)
 
 static int is_sweep(const char *command) { return strcmp(command, "sweep") == 0; }
 
-/* Every option the parser below accepts, for "did you mean" on a typo
- * (--overwite -> --overwrite); the sweep-only ones are offered for sweep. */
-static const char *const RUN_OPTIONS[] = {"--set", "--seed", "--threads", "--planning", "--wisdom", "--strict",
-                                          "--data", "--out", "--help", "--trusted", "--quiet", "--overwrite",
-                                          "--time-limit", "--memory-cap", NULL};
-static const char *const SWEEP_OPTIONS[] = {"--vary", "--points", "--jobs", "--rerun", NULL};
-
 /* The accepted option closest to a typed one, when close enough to be a
- * typo (the engine's one rule, pf_edit_suggestible), else NULL. */
+ * typo (the engine's one rule, pf_edit_suggestible), else NULL.  The
+ * candidates are the options of the runner's one table (pfr_usage.c); the
+ * sweep-only ones are offered for sweep. */
 static const char *nearest_option(const char *typed, int sweep)
 {
     const char *best = NULL;
     int best_d = 1 << 30;
-    for (int list = 0; list < (sweep ? 2 : 1); list++)
-        for (const char *const *o = list ? SWEEP_OPTIONS : RUN_OPTIONS; *o; o++) {
-            int d = pf_edit_distance(typed, *o);
-            if (d < best_d) { best_d = d; best = *o; }
-        }
+    for (const pfr_option_doc *o = pfr_option_docs; o->name; o++) {
+        if (o->commands == PFR_FOR_SWEEP && !sweep) continue;
+        int d = pf_edit_distance(typed, o->name);
+        if (d < best_d) { best_d = d; best = o->name; }
+    }
     /* The leading dashes are shared by every option: judge the name. */
     const char *name = typed;
     while (*name == '-') name++;
     return best && *name && pf_edit_suggestible(name, best_d) ? best : NULL;
+}
+
+/* Whether a is an option only sweep accepts (by name or alias). */
+static int sweep_only_option(const char *a)
+{
+    for (const pfr_option_doc *o = pfr_option_docs; o->name; o++)
+        if (o->commands == PFR_FOR_SWEEP && (strcmp(a, o->name) == 0 || (o->alias && strcmp(a, o->alias) == 0)))
+            return 1;
+    return 0;
 }
 
 int pfr_options_parse(int argc, char **argv, int first, const char *command, pfr_options *o)
@@ -186,8 +175,8 @@ int pfr_options_parse(int argc, char **argv, int first, const char *command, pfr
         } else if (is_sweep(command) && strcmp(a, "--rerun") == 0) {
             o->rerun = 1;
         } else if (a[0] == '-' && a[1]) {
-            for (const char *const *opt = SWEEP_OPTIONS; !is_sweep(command) && *opt; opt++)
-                if (strcmp(a, *opt) == 0) return pfr_usage_error("'%s' is an option of psiflight sweep, not of %s", a, command);
+            if (!is_sweep(command) && sweep_only_option(a))
+                return pfr_usage_error("'%s' is an option of psiflight sweep, not of %s", a, command);
             const char *near = nearest_option(a, is_sweep(command));
             if (near) return pfr_usage_error("unknown option '%s' for %s (did you mean '%s'?)", a, command, near);
             return pfr_usage_error("unknown option '%s' for %s (see psiflight --help)", a, command);

@@ -5,6 +5,7 @@
 
 #include <stddef.h>
 #include <stdio.h>
+#include "pfr_usage.h" /* pfr_usage */
 
 /* One --vary NAME=SPEC as typed (the sweep planner expands it). */
 typedef struct pfr_vary {
@@ -43,8 +44,7 @@ typedef struct pfr_options {
  * Returns PFR_EXIT_OK or PFR_EXIT_USAGE after printing the problem. */
 int pfr_options_parse(int argc, char **argv, int first, const char *command, pfr_options *o);
 void pfr_options_free(pfr_options *o);
-void pfr_usage(FILE *f);
-/* Prints "psiflight: MESSAGE" and the usage to stderr; returns PFR_EXIT_USAGE. */
+/* Prints "psiflight: MESSAGE" and the short usage to stderr; returns PFR_EXIT_USAGE. */
 int pfr_usage_error(const char *fmt, ...) __attribute__((format(printf, 1, 2)));
 
 #endif

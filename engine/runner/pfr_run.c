@@ -388,7 +388,11 @@ int pfr_main(int argc, char **argv)
         return PFR_EXIT_OK;
     }
     if (argc >= 2 && (strcmp(argv[1], "--help") == 0 || strcmp(argv[1], "-h") == 0)) {
-        pfr_usage(stdout);
+        pfr_help(stdout);
+        return PFR_EXIT_OK;
+    }
+    if (argc >= 2 && strcmp(argv[1], "--help-man") == 0) {
+        pfr_help_man(stdout); /* psiflight(1), installed by make install */
         return PFR_EXIT_OK;
     }
     if (argc < 2) {

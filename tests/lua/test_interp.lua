@@ -63,4 +63,29 @@ check.close(worst2 / peak2, 0, 1e-12, "psi_at in 2D = product of free Gaussians 
 check.fails(function() w:psi_at(60e-6) end, "point outside the grid refused", "outside the grid", "6e-05")
 check.fails(function() w2:psi_at(1e-6) end, "2D wave needs two coordinates", "coordinate 2")
 check.fails(function() w2:psi_at({1e-6, 2e-6}, {0}) end, "unequal tables refused", "equal lengths")
+
+-- A wave with a moved frame (a flight under acceleration): psi_at takes lab
+-- coordinates.  Uniform-force closed form (written from memory; it follows
+-- from the Avron-Herbst factorisation, docs/frames.md): psi_a(x, t) =
+-- exp(i (m a t x / hbar - m a^2 t^3 / (6 hbar))) psi_free(x - a t^2 / 2, t).
+do
+  local acc, tf = -9.80665, 2e-3
+  local gf = pf.grid{points = 256, span = 100e-6}
+  local wf = pf.gaussian(gf, {mass = m, width = s, center = x0, momentum = hbar * k0})
+  wf:fly(tf, {acceleration = {acc}})
+  local drop = acc * tf * tf / 2
+  local lx, worst_f = {}, 0
+  for i = 1, 100 do lx[i] = drop - 20e-6 + (i - 1) * 0.4123e-6 end
+  local vals = wf:psi_at(lx)
+  for i, x in ipairs(lx) do
+    local ph = m * acc * tf * x / hbar - m * acc * acc * tf ^ 3 / (6 * hbar)
+    local want = pf.cexp(pf.complex(0, ph)) * gauss_t(x - drop, x0, s, k0, tf)
+    worst_f = math.max(worst_f, (vals[i] - want):abs())
+  end
+  check.close(worst_f / peak, 0, 1e-11, "moved frame: psi_at(lab x) = uniform-force closed form (100 points)",
+    "free Gaussian under uniform force, Avron-Herbst form")
+  local xi = wf:x_axis(1)[77]
+  check.close((wf:psi_at(xi) - wf:psi(77)):abs() / peak, 0, 1e-12,
+    "moved frame: psi_at at a grid point's lab position = w:psi", "definition (lab value of the frame)")
+end
 check.done()

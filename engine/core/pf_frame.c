@@ -1,0 +1,196 @@
+/* pf_frame.c - the co-moving frame of a wave function: its closed-form
+ * advance under a uniform acceleration, and the lab values and moments that
+ * follow from it (see pf_frame.h for the relation to the lab). */
+#include <math.h>
+#include <string.h>
+#include "pf_constants.h"
+#include "pf_flight.h"
+#include "pf_frame.h"
+#include "pf_internal.h"
+#include "pf_observe.h"
+#include "pf_ops.h"
+
+void pf_wave_frame(const pf_wave *w, pf_frame *out) { *out = w->frame; }
+
+int pf_wave_frame_moved(const pf_wave *w)
+{
+    const pf_frame *f = &w->frame;
+    if (f->phase != 0.0) return 1;
+    for (int a = 0; a < PF_MAX_DIM; a++)
+        if (f->position[a] != 0.0 || f->wavenumber[a] != 0.0) return 1;
+    return 0;
+}
+
+pf_status pf_wave_set_frame(pf_wave *w, const pf_frame *f)
+{
+    pf_context *ctx = w->grid->ctx;
+    if (!isfinite(f->phase)) return pf_fail(ctx, PF_EINVAL, "frame phase must be finite (rad), got %g", f->phase);
+    pf_frame n = {{0}, {0}, f->phase};
+    for (int a = 0; a < w->grid->dim; a++) {
+        if (!isfinite(f->position[a]))
+            return pf_fail(ctx, PF_EINVAL, "frame position on axis %d must be finite (m), got %g", a + 1,
+                           f->position[a]);
+        if (!isfinite(f->wavenumber[a]))
+            return pf_fail(ctx, PF_EINVAL, "frame wave number on axis %d must be finite (rad/m), got %g", a + 1,
+                           f->wavenumber[a]);
+        n.position[a] = f->position[a];
+        n.wavenumber[a] = f->wavenumber[a];
+    }
+    w->frame = n;
+    return PF_OK;
+}
+
+/* Integrating K' = m a / hbar, X' = hbar K / m, theta' = (m V^2 / 2 + m a.X) / hbar
+ * (V = hbar K / m) over [0, t] with V = V0 + a s and X = X0 + V0 s + a s^2 / 2:
+ *   theta(t) - theta0 = (m / hbar) (V0^2 t / 2 + V0.a t^2 + a.X0 t + |a|^2 t^3 / 3). */
+void pf_frame_advance(pf_frame *f, int dim, double mass, double t, const double *accel)
+{
+    double action = 0.0; /* in units of m / hbar, summed over axes */
+    for (int a = 0; a < dim; a++) {
+        double acc = accel ? accel[a] : 0.0;
+        double v0 = PF_HBAR * f->wavenumber[a] / mass;
+        double x0 = f->position[a];
+        action += 0.5 * v0 * v0 * t + v0 * acc * t * t + acc * x0 * t + acc * acc * t * t * t / 3.0;
+        f->position[a] = x0 + v0 * t + 0.5 * acc * t * t;
+        f->wavenumber[a] += mass * acc * t / PF_HBAR;
+    }
+    f->phase += mass * action / PF_HBAR;
+}
+
+pf_status pf_wave_fly_in_frame(pf_wave *w, double t, const double *accel)
+{
+    pf_grid *g = w->grid;
+    if (!isfinite(t)) return pf_fail(g->ctx, PF_EINVAL, "time must be finite (s), got %g", t);
+    int accelerated = 0;
+    if (accel) {
+        for (int a = 0; a < g->dim; a++) {
+            if (!isfinite(accel[a]))
+                return pf_fail(g->ctx, PF_EINVAL, "acceleration on axis %d must be finite (m/s^2), got %g", a + 1,
+                               accel[a]);
+            if (accel[a] != 0.0) accelerated = 1;
+        }
+    }
+    if (!accelerated && !pf_wave_frame_moved(w)) return pf_wave_fly(w, t);
+    pf_frame next = w->frame;
+    pf_frame_advance(&next, g->dim, w->mass, t, accelerated ? accel : NULL);
+    for (int a = 0; a < g->dim; a++)
+        if (!isfinite(next.position[a]) || !isfinite(next.wavenumber[a]) || !isfinite(next.phase))
+            return pf_fail(g->ctx, PF_EINVAL, "the frame leaves the range of finite numbers after %g s", t);
+    size_t before = w->log.count;
+    pf_status s = pf_wave_fly(w, t);
+    if (s) return s;
+    w->frame = next;
+    /* Name the method in the step pf_wave_fly just logged, so the log says
+     * the flight went in a moving frame. */
+    if (w->log.count > before) {
+        pf_step *st = &w->log.steps[w->log.count - 1];
+        strncpy(st->method, "moving-frame", sizeof st->method - 1);
+        st->method[sizeof st->method - 1] = '\0';
+    }
+    return PF_OK;
+}
+
+pf_status pf_wave_frame_kick(pf_wave *w, const double *dk)
+{
+    pf_grid *g = w->grid;
+    double dot = 0.0;
+    for (int a = 0; a < g->dim; a++) {
+        if (!isfinite(dk[a]))
+            return pf_fail(g->ctx, PF_EINVAL, "kick wave number on axis %d must be finite (rad/m), got %g", a + 1,
+                           dk[a]);
+        dot += dk[a] * w->frame.position[a];
+    }
+    /* exp(i dk.x) psi_lab = exp(i (theta + dk.X + (K + dk).(x - X))) chi(x - X). */
+    for (int a = 0; a < g->dim; a++) w->frame.wavenumber[a] += dk[a];
+    w->frame.phase += dot;
+    return PF_OK;
+}
+
+void pf_wave_lab_position(const pf_wave *w, const size_t *idx, double *x)
+{
+    const pf_grid *g = w->grid;
+    for (int a = 0; a < g->dim; a++) x[a] = g->x[a][idx[a]] + w->frame.position[a];
+}
+
+void pf_wave_lab_wavenumber(const pf_wave *w, const size_t *idx, double *k)
+{
+    const pf_grid *g = w->grid;
+    for (int a = 0; a < g->dim; a++) k[a] = g->k[a][idx[a]] + w->frame.wavenumber[a];
+}
+
+void pf_wave_grid_position(const pf_wave *w, const double *lab_x, double *xi)
+{
+    for (int a = 0; a < w->grid->dim; a++) xi[a] = lab_x[a] - w->frame.position[a];
+}
+
+/* exp(i arg) relating the grid value at idx to the lab one (pf_frame.h). */
+static double frame_angle(const pf_wave *w, pf_rep rep, const size_t *idx)
+{
+    const pf_grid *g = w->grid;
+    const pf_frame *f = &w->frame;
+    double arg = f->phase;
+    if (rep == PF_POSITION) {
+        for (int a = 0; a < g->dim; a++) arg += f->wavenumber[a] * g->x[a][idx[a]];
+    } else {
+        for (int a = 0; a < g->dim; a++) arg -= (g->k[a][idx[a]] + f->wavenumber[a]) * f->position[a];
+    }
+    return arg;
+}
+
+pf_status pf_wave_lab_set_value(pf_wave *w, pf_rep rep, const size_t *idx, double complex v)
+{
+    for (int a = 0; a < w->grid->dim; a++)
+        if (idx[a] >= w->grid->n[a]) return pf_wave_set_value(w, rep, idx, v); /* its own index error */
+    double arg = frame_angle(w, rep, idx);
+    return pf_wave_set_value(w, rep, idx, arg == 0.0 ? v : v * cexp(-I * arg));
+}
+
+pf_status pf_wave_lab_kick(pf_wave *w, const double *q)
+{
+    pf_status s = pf_wave_kick(w, q);
+    if (s) return s;
+    for (int a = 0; a < w->grid->dim; a++) w->frame.phase += q[a] * w->frame.position[a];
+    return PF_OK;
+}
+
+pf_status pf_wave_lab_value(pf_wave *w, pf_rep rep, const size_t *idx, double complex *out)
+{
+    double complex v;
+    pf_status s = pf_wave_value(w, rep, idx, &v);
+    if (s) return s;
+    double arg = frame_angle(w, rep, idx);
+    *out = arg == 0.0 ? v : v * cexp(I * arg);
+    return PF_OK;
+}
+
+pf_status pf_wave_lab_position_moments(pf_wave *w, double *mean, double *variance)
+{
+    pf_status s = pf_wave_position_moments(w, mean, variance);
+    if (s || !mean) return s;
+    for (int a = 0; a < w->grid->dim; a++) mean[a] += w->frame.position[a];
+    return PF_OK;
+}
+
+pf_status pf_wave_lab_wavenumber_moments(pf_wave *w, double *mean, double *variance)
+{
+    pf_status s = pf_wave_wavenumber_moments(w, mean, variance);
+    if (s || !mean) return s;
+    for (int a = 0; a < w->grid->dim; a++) mean[a] += w->frame.wavenumber[a];
+    return PF_OK;
+}
+
+pf_status pf_wave_lab_kinetic_energy(pf_wave *w, double *energy)
+{
+    pf_status s = pf_wave_kinetic_energy(w, energy);
+    if (s || !pf_wave_frame_moved(w)) return s;
+    double mean[PF_MAX_DIM];
+    s = pf_wave_wavenumber_moments(w, mean, NULL);
+    if (s) return s;
+    double cross = 0.0;
+    for (int a = 0; a < w->grid->dim; a++) {
+        double K = w->frame.wavenumber[a];
+        cross += K * mean[a] + 0.5 * K * K;
+    }
+    *energy += PF_HBAR * PF_HBAR * cross / w->mass;
+    return PF_OK;
+}

@@ -1,0 +1,82 @@
+/* pf_frame.h - the moving frame a wave function carries: the grid holds the
+ * cloud in a co-moving frame, and the frame relates it to the lab.
+ *
+ * With X the position offset, K the wave-number offset and theta the phase,
+ * the lab wave function is
+ *     psi_lab(x) = exp(i (theta + K.(x - X))) * chi(x - X),
+ * chi being what the grid stores (grid coordinate xi = x - X).  In momentum
+ * space phi_lab(k) = exp(i theta - i k.X) * chi~(k - K).
+ *
+ * Flight under a uniform acceleration a (H = p^2/2m - m a.x) keeps this form
+ * exactly (the Avron-Herbst factorisation): chi flies freely on the grid and
+ *     K' = m a / hbar,   X' = hbar K / m,   theta' = L / hbar,
+ *     L = m |hbar K/m|^2 / 2 + m a.X        (the classical Lagrangian),
+ * which integrates in closed form over a step of length t (pf_frame_advance).
+ * Substituting the ansatz into the Schroedinger equation gives these three
+ * conditions (derivation in docs/frames.md).  A constant velocity offset is
+ * the case a = 0.  An unmoved frame (all zero) is the plain grid state. */
+#ifndef PF_FRAME_H
+#define PF_FRAME_H
+
+#include <complex.h>
+#include "pf_grid.h"
+#include "pf_wave.h"
+
+typedef struct pf_frame {
+    double position[PF_MAX_DIM];   /* X (m), lab position of the grid's coordinate 0 */
+    double wavenumber[PF_MAX_DIM]; /* K (rad/m), lab wave number of the grid's k = 0 */
+    double phase;                  /* theta (rad), not reduced: reducing modulo a rounded 2 pi
+                                    * would add an error of its own */
+} pf_frame;
+
+/* The wave's frame (all zero for a wave that was never moved). */
+void pf_wave_frame(const pf_wave *w, pf_frame *out);
+/* True when any offset or the phase is non-zero. */
+int pf_wave_frame_moved(const pf_wave *w);
+/* Replaces the frame (every value finite, else PF_EINVAL). */
+pf_status pf_wave_set_frame(pf_wave *w, const pf_frame *f);
+
+/* The frame after t seconds under acceleration accel (m/s^2 per axis, NULL
+ * for none) for mass m, in closed form (no integration error). */
+void pf_frame_advance(pf_frame *f, int dim, double mass, double t, const double *accel);
+
+/* Flies t seconds (finite) under the uniform acceleration accel (NULL or all
+ * zero: none), keeping the cloud on the grid: chi flies freely (pf_wave_fly)
+ * and the frame advances.  The step is logged as a flight with method
+ * "moving-frame" when the frame moves.  Unmoved frame and no acceleration:
+ * exactly pf_wave_fly. */
+pf_status pf_wave_fly_in_frame(pf_wave *w, double t, const double *accel);
+
+/* Puts the lab momentum kick exp(i dk.x) into the frame instead of on the
+ * grid: K += dk, theta += dk.X (dk in rad/m, finite). */
+pf_status pf_wave_frame_kick(pf_wave *w, const double *dk);
+
+/* Lab position of grid point idx (multi-index, natural order) into x. */
+void pf_wave_lab_position(const pf_wave *w, const size_t *idx, double *x);
+/* Lab wave number of momentum storage index idx (FFT order) into k. */
+void pf_wave_lab_wavenumber(const pf_wave *w, const size_t *idx, double *k);
+/* Grid coordinate of a lab position (xi = x - X). */
+void pf_wave_grid_position(const pf_wave *w, const double *lab_x, double *xi);
+
+/* Lab value at a multi-index: psi_lab at the lab position of grid point idx
+ * (position), or phi_lab at the lab wave number of storage index idx
+ * (momentum).  Same conventions as pf_wave_value otherwise. */
+pf_status pf_wave_lab_value(pf_wave *w, pf_rep rep, const size_t *idx, double complex *out);
+
+/* Sets the value so that the lab value at idx becomes v (the inverse of
+ * pf_wave_lab_value; same conventions as pf_wave_set_value). */
+pf_status pf_wave_lab_set_value(pf_wave *w, pf_rep rep, const size_t *idx, double complex v);
+
+/* The lab momentum kick exp(i q.x) on the grid state: chi gets exp(i q.xi)
+ * and theta gains q.X (q in rad/m).  Unmoved frame: exactly pf_wave_kick. */
+pf_status pf_wave_lab_kick(pf_wave *w, const double *q);
+
+/* Lab moments: position mean (+ X), wave-number mean (+ K); variances are
+ * those of the grid state (a shift does not change them).  Either output
+ * may be NULL. */
+pf_status pf_wave_lab_position_moments(pf_wave *w, double *mean, double *variance);
+pf_status pf_wave_lab_wavenumber_moments(pf_wave *w, double *mean, double *variance);
+/* Lab kinetic energy <|p|^2>/2m = E_grid + hbar^2 (K.<k>_grid + |K|^2/2)/m. */
+pf_status pf_wave_lab_kinetic_energy(pf_wave *w, double *energy);
+
+#endif

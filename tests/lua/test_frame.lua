@@ -1,0 +1,211 @@
+-- test_frame.lua - the moving frame a wave carries (issue 14 part 1): flight
+-- under a uniform acceleration with the cloud kept on the grid, lab values and
+-- moments, kicks into the frame, the pf.setup default, and the FRAME_AWARE
+-- refusal of every other method.
+--
+-- References (outside the project):
+--  * uniform-force propagator in the Avron-Herbst form: psi(x, t) =
+--    exp(i m a x t / hbar - i m a^2 t^3 / (6 hbar)) [U_free(t) psi0](x - a t^2/2)
+--    (J. E. Avron and I. W. Herbst, Commun. Math. Phys. 52, 239 (1977); the
+--    same form is the textbook solution for a linear potential; from memory);
+--  * the free Gaussian packet with complex width alpha_t = sigma^2 + i hbar t / 2m
+--    and Galilean boost (C. Cohen-Tannoudji, B. Diu, F. Laloe, Quantum
+--    Mechanics, complement G_I; from memory);
+--  * kinematics x0 + v0 t + a t^2 / 2, p0 + m a t (Newton; common practice)
+--    and the free width law sigma sqrt(1 + (hbar t / 2 m sigma^2)^2) (same
+--    complement).
+-- The internal cross-check against w:fall on one big grid is named as such.
+local pf = require "psiflight"
+local check = require "check"
+pf.setup{planning = "estimate"}
+local C = pf.constants
+local hbar = C.hbar
+local m = pf.mass("87Rb")
+local here = "test_frame.lua:"
+
+-- Closed-form packet: Gaussian of width sigma at x0 with wave number k0
+-- (psi0 = (2 pi sigma^2)^(-1/4) exp(-(x-x0)^2/(4 sigma^2) + i k0 (x - x0))),
+-- flown t under acceleration a, at lab position x.
+local function reference(x, t, x0, k0, sigma, a)
+  local v0 = hbar * k0 / m
+  local xs = x - 0.5 * a * t * t -- Avron-Herbst: free packet at x - a t^2/2
+  local ar, ai = sigma * sigma, hbar * t / (2 * m) -- alpha_t
+  local d = xs - x0 - v0 * t
+  -- -d^2 / (4 alpha) = -d^2 conj(alpha) / (4 |alpha|^2)
+  local den = 4 * (ar * ar + ai * ai)
+  local er, ei = -d * d * ar / den, d * d * ai / den
+  -- (sigma^2 / alpha)^(1/2)
+  local mod = (sigma * sigma / math.sqrt(ar * ar + ai * ai)) ^ 0.5
+  local arg = -0.5 * math.atan(ai, ar)
+  local phase = ei + k0 * (xs - x0) - hbar * k0 * k0 * t / (2 * m)
+    + m * a * x * t / hbar - m * a * a * t ^ 3 / (6 * hbar)
+  local amp = (2 * math.pi * sigma * sigma) ^ -0.25 * mod * math.exp(er)
+  return amp * math.cos(phase + arg), amp * math.sin(phase + arg)
+end
+
+local function packet(g, x0, k0, sigma)
+  return pf.wave(g, {mass = m, normalize = false, position = function(x)
+    local amp = (2 * math.pi * sigma * sigma) ^ -0.25 * math.exp(-(x - x0) ^ 2 / (4 * sigma * sigma))
+    return amp * math.cos(k0 * (x - x0)), amp * math.sin(k0 * (x - x0))
+  end})
+end
+
+local function max_diff(w, fn)
+  local xs = w:x_axis(1)
+  local worst, peak = 0, 0
+  for i, x in ipairs(xs) do
+    local z = w:psi(i)
+    local rr, ri = fn(x)
+    local dr, di = z.re - rr, z.im - ri
+    worst = math.max(worst, math.sqrt(dr * dr + di * di))
+    peak = math.max(peak, math.sqrt(rr * rr + ri * ri))
+  end
+  return worst / peak
+end
+
+-- 1. Flight under gravity in the frame against the closed form, value by value.
+do
+  local g = pf.grid{points = 1024, span = 120e-6}
+  local x0, k0, sigma, a, t = 3e-6, 2e6, 2e-6, -9.80665, 2e-3
+  local w = packet(g, x0, k0, sigma)
+  w:fly(t, {acceleration = a})
+  local f = w:frame()
+  check.truthy(f.moved, "flight with acceleration moves the frame")
+  check.near(f.position[1], 0.5 * a * t * t, 1e-14, "frame offset a t^2/2", "kinematics (common practice)")
+  check.near(f.momentum[1], m * a * t, 1e-14, "frame momentum m a t", "Newton (common practice)")
+  local err = max_diff(w, function(x) return reference(x, t, x0, k0, sigma, a) end)
+  check.close(err, 0, 1e-10, "lab psi vs Avron-Herbst closed form (max |diff| / peak)",
+    "Avron & Herbst 1977 + free Gaussian, Cohen-Tannoudji G_I (from memory)")
+  print(string.format("note closed-form difference %.3e", err))
+  local xm = w:position_mean()
+  check.near(xm, x0 + hbar * k0 / m * t + 0.5 * a * t * t, 1e-10, "<x> = x0 + v0 t + a t^2/2", "kinematics (common practice)")
+  local width = sigma * math.sqrt(1 + (hbar * t / (2 * m * sigma * sigma)) ^ 2)
+  check.near(w:position_width(), width, 1e-10, "width follows the free law", "Cohen-Tannoudji G_I (from memory)")
+  check.near(w:momentum_mean(), hbar * k0 + m * a * t, 1e-10, "<p> = hbar k0 + m a t", "Newton (common practice)")
+  check.near(w:momentum_width(), hbar / (2 * sigma), 1e-10, "momentum width unchanged hbar/(2 sigma)",
+    "minimum-uncertainty Gaussian (common practice)")
+  check.near(w:velocity_mean(), hbar * k0 / m + a * t, 1e-10, "<v> = v0 + a t", "Newton (common practice)")
+  local ke = 0.5 * ((hbar * k0 + m * a * t) ^ 2 + (hbar / (2 * sigma)) ^ 2) / m
+  check.near(w:kinetic_energy(), ke, 1e-10, "kinetic energy <p^2>/2m in the lab", "<p^2> = <p>^2 + var p (common practice)")
+  -- The grid itself holds only the cloud: its own momentum stays near k0.
+  local log = w:log()
+  check.equal(log[#log].method, "moving-frame", "the flight is logged as a moving-frame flight")
+  -- Flying back without acceleration... then with -a for t returns? Reverse time instead:
+  w:fly(-t, {acceleration = a})
+  local back = max_diff(w, function(x)
+    local amp = (2 * math.pi * sigma * sigma) ^ -0.25 * math.exp(-(x - x0) ^ 2 / (4 * sigma * sigma))
+    return amp * math.cos(k0 * (x - x0)), amp * math.sin(k0 * (x - x0))
+  end)
+  check.close(back, 0, 1e-10, "flight of -t under the same acceleration restores the start",
+    "unitarity and time reversal of the propagator (common practice)")
+end
+
+-- 2. The frame on a small grid equals w:fall on a big grid (internal cross-check:
+-- the same Avron-Herbst form applied on the grid), point by point in the lab.
+do
+  local n, span, t = 4096, 400e-6, 1e-3
+  local g = pf.grid{points = n, span = span}
+  local dx = g:spacing(1)
+  local steps = 50
+  local a = -2 * steps * dx / (t * t) -- a t^2/2 = -50 dx: lab points coincide
+  local x0, k0, sigma = 0, 1e6, 3e-6
+  local wf = packet(g, x0, k0, sigma)
+  local wb = packet(g, x0, k0, sigma)
+  wf:fly(t, {acceleration = a})
+  pf.setup{guard_threshold = math.huge}
+  wb:fall(t, a)
+  local worst, peak = 0, 0
+  for i = steps + 1, n do
+    local zf, zb = wf:psi(i), wb:psi(i - steps)
+    local d = zf - zb
+    worst = math.max(worst, d:abs())
+    peak = math.max(peak, zb:abs())
+  end
+  check.close(worst / peak, 0, 1e-12, "frame flight equals fall on the same grid (max |diff| / peak)",
+    "internal: w:fall closed form")
+  print(string.format("note fall vs frame %.3e", worst / peak))
+  pf.setup{guard_threshold = 1e-6}
+end
+
+-- 3. A launched cloud: the kick goes into the frame, the grid keeps k = 0.
+do
+  local g = pf.grid{points = 512, span = 60e-6}
+  local x0, sigma, t, k = -5e-6, 2e-6, 1e-3, 5e8 -- 5e8 rad/m: far beyond this grid's Nyquist limit
+  check.truthy(k > g:knyquist(1), "the launch wave number exceeds the grid's Nyquist limit")
+  local w = packet(g, x0, 0, sigma)
+  w:kick(k, {frame = true})
+  w:fly(t)
+  local v = hbar * k / m
+  check.near(w:position_mean(), x0 + v * t, 1e-10, "launched cloud <x> = x0 + v t", "kinematics (common practice)")
+  -- The kick is exp(i k x) = exp(i k x0) exp(i k (x - x0)): the reference's
+  -- phase convention times the constant exp(i k x0).
+  local c, s = math.cos(k * x0), math.sin(k * x0)
+  local err = max_diff(w, function(x)
+    local rr, ri = reference(x, t, x0, k, sigma, 0)
+    return rr * c - ri * s, rr * s + ri * c
+  end)
+  check.close(err, 0, 1e-10, "launched cloud vs boosted free Gaussian", "Cohen-Tannoudji G_I (from memory)")
+  -- A lab kick on a moved wave: exp(i q x) on the lab state.
+  local q = 3e5
+  local z1 = w:psi(200)
+  local x = w:x_axis(1)[200]
+  w:kick(q)
+  local z2 = w:psi(200)
+  local want = z1 * pf.cexp(pf.complex(0, q * x))
+  check.close((z2 - want):abs() / z1:abs(), 0, 1e-12, "lab kick multiplies the lab psi by exp(i q x)",
+    "definition of a momentum kick (common practice)")
+  check.near(w:wavenumber_mean(), k + q, 1e-10, "lab kick adds q to <k>", "definition of a kick (common practice)")
+end
+
+-- 4. The per-script default, and its dimension check.
+do
+  local g2 = pf.grid{points = {32, 32}, span = {40e-6, 40e-6}}
+  pf.setup{acceleration = {0, -9.80665}}
+  local w = pf.gaussian(g2, {mass = m, width = 3e-6})
+  w:fly(1e-3)
+  local x, y = w:position_mean()
+  -- (the packet on this coarse grid has its own mean of order 1e-15 m)
+  check.near(y, -0.5 * 9.80665 * 1e-6, 0, "pf.setup acceleration applies to fly", "kinematics (common practice)", 1e-14)
+  check.close(x, 0, 1e-14, "no drift across gravity", "kinematics (common practice)")
+  local w1 = pf.gaussian(pf.grid{points = 64, span = 40e-6}, {mass = m, width = 3e-6})
+  check.fails(function() w1:fly(1e-3) end, "default of the wrong dimension", here,
+    "the acceleration set with pf.setup has 2 values but the wave is 1D")
+  w1:fly(1e-3, {acceleration = false})
+  check.equal(w1:frame().moved, false, "acceleration = false flies without the default")
+  pf.setup{acceleration = false}
+  w1:fly(1e-3)
+  check.equal(w1:frame().moved, false, "pf.setup{acceleration = false} clears the default")
+  check.fails(function() pf.setup{acceleration = {0, "down"}} end, "setup acceleration entry checked",
+    "field 'acceleration' entry 2 must be a finite number")
+  check.fails(function() w1:fly(1e-3, {acceleration = {1, 2}}) end, "fly acceleration per axis", "need 1 values")
+end
+
+-- 5. Every other method refuses a moved wave, by name; the list names real methods.
+do
+  local g = pf.grid{points = 256, span = 40e-6}
+  local w = pf.gaussian(g, {mass = m, width = 2e-6})
+  w:fly(1e-4, {acceleration = -9.80665})
+  check.fails(function() w:fall(1e-3, -9.8) end, "fall refuses a moved wave", here,
+    "wave:fall does not support a wave in a moving frame")
+  check.fails(function() w:far_field(1e-3) end, "far_field refuses a moved wave", "wave:far_field does not support")
+  check.fails(function() pf.mixture({w}, {1}) end, "pf.mixture refuses a moved wave", "pf.mixture does not support")
+  check.fails(function() w:slit{width = 1e-6} end, "slit refuses a moved wave", "wave:slit does not support")
+  local meta = getmetatable(w).__index
+  local aware = pf._frame_aware()
+  check.truthy(#aware >= 20, "FRAME_AWARE lists the lab-aware methods (" .. #aware .. ")")
+  for i, name in ipairs(aware) do
+    local kind, fn = name:match("^(%a+)[.:]([%w_]+)$")
+    local exists = (kind == "wave" and meta[fn]) or (kind == "pf" and pf[fn])
+    if not exists then error("FRAME_AWARE names '" .. name .. "', which does not exist", 0) end
+    if i > 1 and aware[i - 1] >= name then error("FRAME_AWARE is not sorted at " .. name, 0) end
+  end
+  check.truthy(true, "every FRAME_AWARE entry names an existing function, sorted")
+  -- An unmoved wave is accepted everywhere, as before.
+  local u = pf.gaussian(g, {mass = m, width = 2e-6})
+  u:fall(1e-4, -9.8)
+  check.equal(u:frame().moved, false, "fall keeps the grid frame")
+  -- A copy carries the frame.
+  check.equal(w:copy():frame().position[1], w:frame().position[1], "copy carries the frame")
+end
+
+check.done()

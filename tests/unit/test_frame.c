@@ -1,0 +1,113 @@
+/* test_frame.c - the moving frame's closed-form advance (pf_frame_advance)
+ * and its bookkeeping (pf_wave_fly_in_frame, kicks into the frame).
+ *
+ * References: the frame's phase obeys theta' = L / hbar with the classical
+ * Lagrangian L = m v^2 / 2 + m a.x of a particle on x(t) = X0 + V0 t + a t^2/2
+ * (Avron-Herbst form; the phase is the classical action, Feynman and Hibbs,
+ * Quantum Mechanics and Path Integrals, ch. 3, from memory).  The action is
+ * integrated here numerically with GSL's adaptive quadrature
+ * (gsl_integration_qag), an outside reference for the closed form. */
+#include <gsl/gsl_integration.h>
+#include "protocol_util.h"
+#include "pf_constants.h"
+#include "pf_flight.h"
+#include "pf_frame.h"
+
+typedef struct path { double x0, v0, a, m; } path;
+
+static double lagrangian(double s, void *user)
+{
+    const path *p = user;
+    double v = p->v0 + p->a * s, x = p->x0 + p->v0 * s + 0.5 * p->a * s * s;
+    return 0.5 * p->m * v * v + p->m * p->a * x;
+}
+
+static void test_advance_matches_action_integral(void **state)
+{
+    (void)state;
+    const double m = RB87_MASS;
+    pf_frame f = {{12e-6, -3e-6, 0.5e-3}, {2e6, -1e7, 3e5}, 0.25};
+    const double acc[3] = {0.3, -9.80665, 1.7};
+    const double t = 4e-3;
+    pf_frame g = f;
+    pf_frame_advance(&g, 3, m, t, acc);
+    gsl_integration_workspace *ws = gsl_integration_workspace_alloc(64);
+    double action = 0.0;
+    for (int a = 0; a < 3; a++) {
+        path p = {f.position[a], PF_HBAR * f.wavenumber[a] / m, acc[a], m};
+        gsl_function fn = {lagrangian, &p};
+        double r, err;
+        gsl_integration_qag(&fn, 0.0, t, 0.0, 1e-13, 64, GSL_INTEG_GAUSS61, ws, &r, &err);
+        action += r;
+        double x = f.position[a] + p.v0 * t + 0.5 * acc[a] * t * t;
+        TU_NEAR(g.position[a], x, 1e-14 * fabs(x), "X(t) = X0 + V0 t + a t^2/2 (Newton)");
+        double k = f.wavenumber[a] + m * acc[a] * t / PF_HBAR;
+        TU_NEAR(g.wavenumber[a], k, 1e-14 * fabs(k), "K(t) = K0 + m a t / hbar (Newton)");
+    }
+    gsl_integration_workspace_free(ws);
+    double want = f.phase + action / PF_HBAR;
+    TU_NEAR(g.phase, want, 1e-12 * fabs(want), "theta(t) - theta0 = action / hbar (GSL quadrature)");
+}
+
+/* Two steps compose to one: the frame advance is the exact flow of a
+ * time-independent problem (group property; common practice). */
+static void test_advance_composes(void **state)
+{
+    (void)state;
+    const double m = RB87_MASS, acc[2] = {-2.0, -9.80665};
+    pf_frame one = {{1e-6, 2e-6}, {3e6, -4e6}, 1.0}, two = one;
+    pf_frame_advance(&one, 2, m, 5e-3, acc);
+    pf_frame_advance(&two, 2, m, 2e-3, acc);
+    pf_frame_advance(&two, 2, m, 3e-3, acc);
+    for (int a = 0; a < 2; a++) {
+        TU_NEAR(two.position[a], one.position[a], 1e-14 * fabs(one.position[a]), "X composes");
+        TU_NEAR(two.wavenumber[a], one.wavenumber[a], 1e-14 * fabs(one.wavenumber[a]), "K composes");
+    }
+    TU_NEAR(two.phase, one.phase, 1e-12 * fabs(one.phase), "theta composes");
+}
+
+static void test_fly_in_frame_bookkeeping(void **state)
+{
+    (void)state;
+    pf_context *ctx = tu_context();
+    size_t n = 256;
+    double span = 40e-6;
+    pf_grid *g = tu_grid(ctx, 1, &n, &span, NULL);
+    tu_gauss p = {.sigma = {2e-6}};
+    pf_wave *w = tu_gauss_wave(g, RB87_MASS, &p);
+    assert_false(pf_wave_frame_moved(w));
+    /* No acceleration, unmoved frame: plain free flight, frame untouched. */
+    assert_int_equal(pf_wave_fly_in_frame(w, 1e-3, NULL), PF_OK);
+    assert_false(pf_wave_frame_moved(w));
+    double a = NAN;
+    assert_int_equal(pf_wave_fly_in_frame(w, 1e-3, &a), PF_EINVAL);
+    assert_non_null(strstr(pf_context_message(ctx), "acceleration on axis 1"));
+    assert_false(pf_wave_frame_moved(w));
+    a = -9.80665;
+    assert_int_equal(pf_wave_fly_in_frame(w, 1e-3, &a), PF_OK);
+    assert_true(pf_wave_frame_moved(w));
+    /* A kick into the frame at X: K += q, theta += q X. */
+    pf_frame before, after;
+    pf_wave_frame(w, &before);
+    double q = 1e6;
+    assert_int_equal(pf_wave_frame_kick(w, &q), PF_OK);
+    pf_wave_frame(w, &after);
+    assert_true(after.wavenumber[0] == before.wavenumber[0] + q);
+    assert_true(after.phase == before.phase + q * before.position[0]);
+    pf_frame bad = after;
+    bad.phase = INFINITY;
+    assert_int_equal(pf_wave_set_frame(w, &bad), PF_EINVAL);
+    pf_wave_free(w);
+    pf_grid_release(g);
+    pf_context_release(ctx);
+}
+
+int main(void)
+{
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test(test_advance_matches_action_integral),
+        cmocka_unit_test(test_advance_composes),
+        cmocka_unit_test(test_fly_in_frame_bookkeeping),
+    };
+    return cmocka_run_group_tests(tests, NULL, NULL);
+}
