@@ -37,6 +37,7 @@ static const char *const FRAME_AWARE[] = {
     "wave:kinetic_energy",
     "wave:log",
     "wave:log_text",
+    "wave:mark_periodic",
     "wave:mass",
     "wave:momentum_density",
     "wave:momentum_mean",
