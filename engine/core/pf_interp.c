@@ -9,6 +9,7 @@
 #include <math.h>
 #include "pf_constants.h"
 #include "pf_frame.h"
+#include "pf_guard.h"
 #include "pf_interp.h"
 #include "pf_internal.h"
 #ifdef _OPENMP
@@ -59,6 +60,18 @@ pf_status pf_wave_values_at(pf_wave *w, size_t count, const double *points, doub
     int moved = pf_wave_frame_moved(w);
     pf_status s = pf_wave_to(w, PF_MOMENTUM);
     if (s) return s;
+    /* The interpolant is the wave function only where the grid resolves the
+     * state: with content at the Nyquist limit (an aliased chirp after a
+     * scaled flight, say) values between points are not psi.  Say so. */
+    pf_guard_figures gf;
+    if ((s = pf_wave_guard(w, &gf))) return s;
+    for (int a = 0; a < d; a++)
+        if (gf.known[PF_MOMENTUM] && gf.band[PF_MOMENTUM][a] > gf.threshold)
+            pf_context_warn(ctx,
+                            "values between grid points: %.3g of the probability lies near the Nyquist limit of "
+                            "axis %d, so the grid does not resolve the state there and the interpolant between "
+                            "points is not the wave function (exact at the grid points only); use a finer grid",
+                            gf.band[PF_MOMENTUM][a], a + 1);
     size_t per = 0;
     for (int a = 0; a < d; a++) per += g->n[a];
     int threads = ctx->threads > 0 ? ctx->threads : 1;

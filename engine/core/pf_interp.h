@@ -21,7 +21,9 @@
  * + X per axis (the periodic grid says nothing about psi elsewhere).  Brings
  * the wave to momentum representation (settling a deferred flight).
  * Results do not depend on the thread count (each point is one sum in a
- * fixed order). */
+ * fixed order).  Warns (an error in strict mode) when the momentum guard
+ * band holds more than the guard threshold: the grid then does not resolve
+ * the state and values between points are not the wave function. */
 pf_status pf_wave_values_at(pf_wave *w, size_t count, const double *points, double complex *out);
 
 #endif

@@ -88,4 +88,16 @@ do
   check.close((wf:psi_at(xi) - wf:psi(77)):abs() / peak, 0, 1e-12,
     "moved frame: psi_at at a grid point's lab position = w:psi", "definition (lab value of the frame)")
 end
+-- A state the grid does not resolve (content at the Nyquist limit): values
+-- between points are not the wave function, which strict mode refuses.
+do
+  local gq = pf.grid{points = 64, span = 64e-6}
+  local wq = pf.gaussian(gq, {mass = m, width = 4e-6})
+  wq:kick(0.9 * gq:knyquist(1))
+  wq:psi_at(0.5e-6) -- the grid guard warns once (not strict)
+  pf.setup{strict = true}
+  check.fails(function() wq:psi_at(0.5e-6) end, "unresolved state: psi_at refused in strict mode, every call",
+    "between grid points", "Nyquist")
+  pf.setup{strict = false}
+end
 check.done()
