@@ -51,6 +51,7 @@ static void grid_destroy(pf_grid *g)
     if (g->forward) fftw_destroy_plan(g->forward);
     if (g->backward) fftw_destroy_plan(g->backward);
     pf_fused_release(g);
+    pf_evolve_tables_release(g);
     for (int a = 0; a < PF_MAX_DIM; a++) {
         if (g->beyond[a].bwd) fftw_destroy_plan(g->beyond[a].bwd);
         if (g->beyond[a].fwd) fftw_destroy_plan(g->beyond[a].fwd);

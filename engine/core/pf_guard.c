@@ -90,12 +90,17 @@ static double band_unit(const pf_grid *g, pf_rep rep)
     return unit;
 }
 
+/* A state holding less probability than this is empty for the guards: an
+ * internal level emptied by a pulse keeps only rounding noise, spread over
+ * the whole grid, whose band fraction would raise a false alarm. */
+#define GUARD_EMPTY_NORM 1e-20
+
 /* Band probabilities of the current representation, relative to norm. */
 static void measure_bands(pf_wave *w, double norm, double *out)
 {
     const pf_grid *g = w->grid;
     const double unit = band_unit(g, w->rep);
-    for (int a = 0; a < g->dim; a++) out[a] = norm > 0 ? band_sum(w, a) * unit / norm : 0.0;
+    for (int a = 0; a < g->dim; a++) out[a] = norm > GUARD_EMPTY_NORM ? band_sum(w, a) * unit / norm : 0.0;
 }
 
 /* Marginal probabilities per axis in natural (position) or ascending-k
@@ -330,7 +335,7 @@ int pf_guard_take_momentum_sums(pf_wave *w, const double *sums)
     const double thr = pf_context_guard_threshold(g->ctx);
     double band[PF_MAX_DIM] = {0, 0, 0};
     for (int a = 0; a < g->dim; a++) {
-        band[a] = last->norm > 0 ? sums[a] * unit / last->norm : 0.0;
+        band[a] = last->norm > GUARD_EMPTY_NORM ? sums[a] * unit / last->norm : 0.0;
         if (band[a] > thr && !(gs->warned & (1u << (PF_MOMENTUM * PF_MAX_DIM + a)))) return 1;
     }
     memcpy(gs->band[PF_MOMENTUM], band, sizeof band);

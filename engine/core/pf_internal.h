@@ -91,6 +91,14 @@ struct pf_grid {
     int plan_threads;                 /* thread count the plans were made with, 0 = none */
     pf_flight_tables flight;
     pf_fused_plans fused;
+    /* Kinetic tables of the split step (pf_splitstep.c) for the last two
+     * values of tau = hbar c h / m, so that evolve calls with the same step
+     * and mass make none; freed with the grid. */
+    struct {
+        int valid;
+        double tau;
+        double complex *table[PF_MAX_DIM];
+    } evolve_kin[2];
     double *reduce_part;              /* partial sums of pf_reduce_axis_moments, reserved with the grid */
     /* Zero-padded 1D plans of pf_wave_beyond per axis (len = 2 (n + 1) or
      * 2 n points), made at its first use on that axis (pf_flux.c). */
@@ -200,6 +208,8 @@ double complex *pf_wave_overwrite(pf_wave *w);
 pf_status pf_fused_flight(pf_grid *g, double complex *data, double scale, double *band_sums);
 /* Releases the fused plans and buffers (grid teardown, thread change). */
 void pf_fused_release(pf_grid *g);
+/* Frees the split step's kinetic tables kept on the grid (grid teardown). */
+void pf_evolve_tables_release(pf_grid *g);
 
 /* The split step's sweeps on a 2D/3D grid (pf_fused.c, used by
  * pf_splitstep.c).  The data are cut into chunks of whole axis-0 slices

@@ -3,6 +3,7 @@
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
+#include "pf_cis.h"
 #include "pf_constants.h"
 #include "pf_guard.h"
 #include "pf_kernels.h"
@@ -43,7 +44,7 @@ typedef struct evolve_ws {
     const pf_evolve_spec *spec;
     scheme sc;
     double h;                       /* step (s) */
-    double complex *kin[2][PF_MAX_DIM]; /* kinetic tables for c = w1 (or 1) and w0 */
+    double complex **kin[2];        /* kinetic tables for c = w1 (or 1) and w0 (g->evolve_kin) */
     double complex *e1, *e2;        /* static exponentials exp(-i V h c1/2 / hbar), exp(-i V h c0/2 / hbar) */
     int borrowed;                   /* e1, e2 belong to spec->cache */
     double *vbuf;                   /* V(x, t) samples */
@@ -55,8 +56,7 @@ typedef struct evolve_ws {
 static void ws_free(evolve_ws *ws)
 {
     pf_context *ctx = ws->g->ctx;
-    for (int i = 0; i < 2; i++)
-        for (int a = 0; a < PF_MAX_DIM; a++) pf_context_free(ctx, ws->kin[i][a]);
+    /* kin[][] belong to the grid (g->evolve_kin). */
     if (ws->e1 && !ws->borrowed) pf_free(ctx, ws->e1, ws->bytes_c);
     if (ws->e2 && !ws->borrowed) pf_free(ctx, ws->e2, ws->bytes_c);
     if (ws->vbuf) pf_free(ctx, ws->vbuf, ws->bytes_r);
@@ -122,17 +122,26 @@ typedef struct pot_pass {
     int which;
 } pot_pass;
 
+/* Points whose phases are formed before one call of pf_cis_multiply. */
+#define PIECE 512
+
 /* Applies the factor to d[0..count), the points [begin, begin + count). */
 static void pot_apply(const pot_pass *p, double complex *restrict d, size_t begin, size_t count)
 {
     if (p->direct) {
+        /* Phases of a piece at a time, then one vectorised exp(-i phase). */
         const double *V = p->V ? p->V + begin : NULL;
         const double f = p->f, gc = p->gc;
-        for (size_t i = 0; i < count; i++) {
-            double complex z = d[i];
-            double u = V ? V[i] : 0.0;
-            if (gc != 0) u += gc * (creal(z) * creal(z) + cimag(z) * cimag(z));
-            d[i] = z * cexp(-I * (u * f));
+        double phase[PIECE];
+        for (size_t b = 0; b < count; b += PIECE) {
+            size_t m = count - b < PIECE ? count - b : PIECE;
+            const double *z = (const double *)(d + b);
+            for (size_t i = 0; i < m; i++) {
+                double u = V ? V[b + i] : 0.0;
+                if (gc != 0) u += gc * (z[2 * i] * z[2 * i] + z[2 * i + 1] * z[2 * i + 1]);
+                phase[i] = u * f;
+            }
+            pf_cis_multiply(d + b, phase, m);
         }
         return;
     }
@@ -312,18 +321,55 @@ void pf_evolve_cache_clear(pf_evolve_cache *c)
     pf_evolve_cache_init(c);
 }
 
+void pf_evolve_tables_release(pf_grid *g)
+{
+    for (int k = 0; k < 2; k++) {
+        for (int a = 0; a < PF_MAX_DIM; a++) pf_context_free(g->ctx, g->evolve_kin[k].table[a]);
+        memset(&g->evolve_kin[k], 0, sizeof g->evolve_kin[k]);
+    }
+}
+
+/* Points ws->kin[i] at the grid's tables for tau, making them in a slot
+ * this call does not use yet (bit k of *claimed) when neither slot has
+ * them. */
+static pf_status kinetic_tables(evolve_ws *ws, int i, double tau, unsigned *claimed)
+{
+    pf_grid *g = ws->g;
+    int k = 0;
+    while (k < 2 && !(g->evolve_kin[k].valid && g->evolve_kin[k].tau == tau)) k++;
+    if (k == 2) {
+        /* An empty slot first, else the first one this call leaves free. */
+        k = -1;
+        for (int j = 0; j < 2 && k < 0; j++)
+            if (!(*claimed & (1u << j)) && !g->evolve_kin[j].valid) k = j;
+        for (int j = 0; j < 2 && k < 0; j++)
+            if (!(*claimed & (1u << j))) k = j;
+        g->evolve_kin[k].valid = 0;
+        for (int a = 0; a < g->dim; a++) {
+            if (!g->evolve_kin[k].table[a]) {
+                g->evolve_kin[k].table[a] = pf_alloc(g->ctx, g->n[a] * sizeof(double complex));
+                if (!g->evolve_kin[k].table[a]) return pf_context_status(g->ctx);
+            }
+        }
+        pf_kernel_kinetic_tables(g, tau, NULL, g->evolve_kin[k].table);
+        g->evolve_kin[k].tau = tau;
+        g->evolve_kin[k].valid = 1;
+    }
+    *claimed |= 1u << k;
+    ws->kin[i] = g->evolve_kin[k].table;
+    return PF_OK;
+}
+
 static pf_status prepare(evolve_ws *ws)
 {
     pf_grid *g = ws->g;
     const pf_evolve_spec *sp = ws->spec;
     int ntab = ws->sc.stages == 1 ? 1 : 2;
+    unsigned claimed = 0;
     for (int i = 0; i < ntab; i++) {
-        for (int a = 0; a < g->dim; a++) {
-            ws->kin[i][a] = pf_alloc(g->ctx, g->n[a] * sizeof(double complex));
-            if (!ws->kin[i][a]) return pf_context_status(g->ctx);
-        }
         double c = i == 0 ? ws->sc.c[0] : ws->sc.c[1];
-        pf_kernel_kinetic_tables(g, PF_HBAR * c * ws->h / ws->w->mass, NULL, ws->kin[i]);
+        pf_status s = kinetic_tables(ws, i, PF_HBAR * c * ws->h / ws->w->mass, &claimed);
+        if (s) return s;
     }
     if (sp->varying) {
         /* vbuf is the start probe, allocated by pf_wave_evolve. */
@@ -336,7 +382,14 @@ static pf_status prepare(evolve_ws *ws)
             ws->borrowed = 1;
             return PF_OK;
         }
-        if (c) pf_evolve_cache_clear(c); /* free the old arrays before making new ones */
+        if (c) {
+            /* Free the old arrays before making new ones; the potential's
+             * values were still checked. */
+            const double *checked = c->checked;
+            pf_evolve_cache_clear(c);
+            c->checked = checked;
+            c->ctx = g->ctx;
+        }
         ws->e1 = pf_alloc(g->ctx, ws->bytes_c);
         if (!ws->e1) return pf_context_status(g->ctx);
         double f1 = 0.5 * ws->sc.c[0] * ws->h / PF_HBAR;
@@ -349,10 +402,16 @@ static pf_status prepare(evolve_ws *ws)
         double complex *e1 = ws->e1, *e2 = ws->e2;
         ptrdiff_t n = (ptrdiff_t)g->total;
         /* The one place a static potential costs trigonometry per point. */
+        const ptrdiff_t pieces = (n + PIECE - 1) / PIECE;
 #pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
-        for (ptrdiff_t i = 0; i < n; i++) {
-            e1[i] = cexp(-I * (V[i] * f1));
-            if (e2) e2[i] = cexp(-I * (V[i] * f2));
+        for (ptrdiff_t b = 0; b < pieces; b++) {
+            double phase[PIECE];
+            size_t begin = (size_t)b * PIECE, m = (size_t)n - begin < PIECE ? (size_t)n - begin : PIECE;
+            for (size_t i = 0; i < m; i++) phase[i] = V[begin + i] * f1;
+            pf_cis_minus(phase, e1 + begin, m);
+            if (!e2) continue;
+            for (size_t i = 0; i < m; i++) phase[i] = V[begin + i] * f2;
+            pf_cis_minus(phase, e2 + begin, m);
         }
         if (c) {
             c->ctx = g->ctx;
@@ -409,7 +468,17 @@ static pf_status evolve(pf_wave *w, double t, const pf_evolve_spec *spec, pf_evo
         ws.vbuf_time = w->clock;
         ws.vbuf_valid = 1;
     } else if (spec->potential) {
-        if ((s = potential_range(g, spec->potential, &lo, &hi))) return s;
+        /* A cache vouches for values checked before (its owner clears it
+         * when they change). */
+        pf_evolve_cache *c = spec->cache;
+        if (!(c && c->checked == spec->potential && c->ctx == ctx)) {
+            if ((s = potential_range(g, spec->potential, &lo, &hi))) return s;
+            if (c) {
+                if (c->ctx != ctx) pf_evolve_cache_clear(c);
+                c->ctx = ctx;
+                c->checked = spec->potential;
+            }
+        }
         occupied_range(w, spec->potential, peak, &lo, &hi);
     }
     double spread = (hi - lo) + fabs(spec->g) * peak;

@@ -18,10 +18,15 @@
  * with the one-atom coupling g1, pass g = N g1).
  *
  * Cost notes: a static potential without mean field is exponentiated once per
- * call (one or two full-grid complex arrays); with g, or with V(x, t), the
- * exponential is evaluated per point at each potential sub-step, and V(x, t)
- * is refilled by its callback once per distinct sample time (one per Strang
- * step, three per fourth-order step). */
+ * call (one or two full-grid complex arrays), or once for many calls with a
+ * pf_evolve_cache; with g, or with V(x, t), the exponential is evaluated per
+ * point at each potential sub-step (vectorised, pf_cis.h), and V(x, t) is
+ * refilled by its callback once per distinct sample time (one per Strang
+ * step, three per fourth-order step).  Kinetic tables are kept on the grid
+ * for the last two step sizes.  On 2D/3D grids a kinetic sub-step and the
+ * potential sub-step after it cost two sweeps over memory (chunks between
+ * trailing-axes transforms, column blocks between axis-0 transforms; see
+ * pf_fused_chunks), less than FFTW's own forward and backward pair. */
 #ifndef PF_SPLITSTEP_H
 #define PF_SPLITSTEP_H
 
@@ -45,6 +50,9 @@ typedef struct pf_evolve_cache {
     int order;
     double complex *e1, *e2;
     size_t bytes;
+    /* The potential whose values were checked finite (also with a mean
+     * field, where e1, e2 are not used): later calls skip the check. */
+    const double *checked;
 } pf_evolve_cache;
 
 void pf_evolve_cache_init(pf_evolve_cache *c);
@@ -58,7 +66,7 @@ typedef struct pf_evolve_spec {
     double dt;                 /* step (s); <= 0 picks the default (below) */
     int order;                 /* 2 (Strang) or 4 (Yoshida composition) */
     double g;                  /* mean-field coefficient (J m^d); 0: linear */
-    pf_evolve_cache *cache;    /* optional, for a static potential without g */
+    pf_evolve_cache *cache;    /* optional, for a static potential (its exponentials without g) */
 } pf_evolve_spec;
 
 typedef struct pf_evolve_info {

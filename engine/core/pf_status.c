@@ -13,6 +13,7 @@ const char *pf_status_name(pf_status s)
         [PF_ESTATE] = "invalid state",
         [PF_ECALLBACK] = "callback failed",
         [PF_ESTOP] = "stopped on request",
+        [PF_EBUG] = "internal error",
     };
     if ((unsigned)s < sizeof names / sizeof names[0] && names[s]) return names[s];
     return "unknown status";

@@ -15,7 +15,8 @@ typedef enum pf_status {
     PF_EIO,      /* a file could not be read or written */
     PF_ESTATE,   /* the object is in the wrong state (closed, mismatched grid) */
     PF_ECALLBACK, /* a caller-supplied callback reported failure */
-    PF_ESTOP     /* the caller asked a long computation to stop (pf_context_poll_stop) */
+    PF_ESTOP,    /* the caller asked a long computation to stop (pf_context_poll_stop) */
+    PF_EBUG      /* psiflight's own code failed (a crash caught in a helper process): a bug to report */
 } pf_status;
 
 /* Short English name of a status code, for messages ("invalid argument"). */

@@ -36,6 +36,7 @@
 #include <sys/time.h>
 #include <sys/wait.h>
 #include <unistd.h>
+#include "pf_fault.h"
 #include "pf_h5.h"
 #include "pf_readcap.h"
 
@@ -98,10 +99,10 @@ static void child_setup(size_t as_limit)
     memset(&sa, 0, sizeof sa);
     sa.sa_handler = SIG_DFL;
     sigemptyset(&sa.sa_mask);
-    /* The runner's stop handlers, and any crash handler the embedding
-     * program installed (a test framework's): a crash of libhdf5 must end
-     * the child with the signal, which is what the parent reports. */
-    const int reset[] = {SIGINT, SIGTERM, SIGHUP, SIGALRM, SIGSEGV, SIGBUS, SIGFPE, SIGILL, SIGABRT};
+    /* The runner's stop handlers go; the crash handlers of the embedding
+     * program (a test framework's, a sanitizer's) give way to the
+     * classifier installed below. */
+    const int reset[] = {SIGINT, SIGTERM, SIGHUP, SIGALRM};
     for (size_t i = 0; i < sizeof reset / sizeof reset[0]; i++) sigaction(reset[i], &sa, NULL);
     sa.sa_handler = SIG_IGN;
     sigaction(SIGPIPE, &sa, NULL);
@@ -122,6 +123,11 @@ static void child_setup(size_t as_limit)
         rl.rlim_cur = as_limit;
         setrlimit(RLIMIT_AS, &rl);
     }
+    /* A fatal signal ends the child with an exit status saying whether it
+     * struck inside libhdf5 (the file is refused) or in psiflight's code (a
+     * bug, reported as one).  Failing to install it leaves the default
+     * action: the parent then reports an unclassified signal. */
+    (void)pf_fault_guard("libhdf5", (const void *)pf_h5_read_inprocess);
 }
 
 static void child_main(pf_context *ctx, const char *path, const pf_h5_source *src, int fd, size_t as_limit)
@@ -215,7 +221,7 @@ static enum recv_result receive(pf_context *ctx, const char *path, int fd, pf_sa
     wire_head h;
     enum recv_result rr = read_all(ctx, fd, &h, sizeof h);
     if (rr != RECV_DONE) return rr;
-    if (h.magic != WIRE_MAGIC || h.status < PF_OK || h.status > PF_ESTOP || h.message_len > MAX_MESSAGE) {
+    if (h.magic != WIRE_MAGIC || h.status < PF_OK || h.status > PF_EBUG || h.message_len > MAX_MESSAGE) {
         pf_fail(ctx, PF_EIO, "'%s': the process reading this file sent a malformed result", path);
         return RECV_BAD;
     }
@@ -302,6 +308,36 @@ static int wait_child(pf_context *ctx, pid_t pid, int *stopped)
     return status;
 }
 
+/* The verdict on a child that ended without a result, from its exit status
+ * (pf_fault.h): a crash inside libhdf5 refuses the file, a crash in
+ * psiflight's code is a bug and says so. */
+static pf_status child_failure(pf_context *ctx, const char *path, int status)
+{
+    int sig = 0;
+    pf_fault_class c = status >= 0 ? pf_fault_from_status(status, &sig) : PF_FAULT_NONE;
+    switch (c) {
+    case PF_FAULT_LIBRARY:
+        return pf_fail(ctx, PF_EIO,
+                       "'%s': file refused: the HDF5 library crashed on it (signal %d inside libhdf5); the file is "
+                       "probably corrupt",
+                       path, sig);
+    case PF_FAULT_OWN:
+        return pf_fail(ctx, PF_EBUG,
+                       "'%s': internal error: psiflight's own code crashed (signal %d) in the process reading this "
+                       "file; this is a bug in psiflight, please report it with the file",
+                       path, sig);
+    case PF_FAULT_KILLED:
+        return pf_fail(ctx, PF_EIO, "'%s': the process reading this file was killed by signal %d; the file is refused",
+                       path, sig);
+    case PF_FAULT_NONE:
+    default:
+        return pf_fail(ctx, PF_EIO,
+                       "'%s': the HDF5 library failed while reading this file (the reading process ended with status "
+                       "%d before sending its result); the file is probably corrupt",
+                       path, status >= 0 && WIFEXITED(status) ? WEXITSTATUS(status) : -1);
+    }
+}
+
 pf_status pf_h5_read(pf_context *ctx, const char *path, const pf_h5_source *src, pf_samples *out)
 {
     if (inprocess_requested()) return pf_h5_read_inprocess(ctx, path, src, out);
@@ -341,15 +377,8 @@ pf_status pf_h5_read(pf_context *ctx, const char *path, const pf_h5_source *src,
         if (s == PF_OK) s = PF_EIO;
     } else if (rr == RECV_DONE && status >= 0 && WIFEXITED(status) && WEXITSTATUS(status) == 0) {
         s = child_status; /* the reader's own verdict, message already in ctx */
-    } else if (status >= 0 && WIFSIGNALED(status)) {
-        s = pf_fail(ctx, PF_EIO,
-                    "'%s': the HDF5 library failed while reading this file (signal %d); the file is probably corrupt",
-                    path, WTERMSIG(status));
     } else {
-        s = pf_fail(ctx, PF_EIO,
-                    "'%s': the HDF5 library failed while reading this file (the reading process ended with status "
-                    "%d before sending its result); the file is probably corrupt",
-                    path, status >= 0 && WIFEXITED(status) ? WEXITSTATUS(status) : -1);
+        s = child_failure(ctx, path, status);
     }
     if (!s) s = pf_read_hold(ctx, path, held, &out->charged_ctx, &out->charged);
     if (s) pf_samples_free(out);

@@ -1,16 +1,13 @@
-/* bench_splitstep.c - speed of one split-step Fourier step in a static
- * potential against a raw FFTW forward+backward pair.
+/* bench_splitstep.c - speed of the split step in a static potential
+ * against a raw FFTW forward+backward pair of the same size, threads and
+ * planning, timed in alternation (bench_paired: median of per-pair ratios).
  *
- * A Strang step is one forward FFT, one kinetic pass, one backward FFT and
- * one potential pass, so its floor is the FFT pair; target step/pair <= 1.5
- * at 256^3.  The per-call set-up (exponentiating the potential, kinetic
- * tables) is separated out by timing evolutions of 1 and 5 steps and taking
- * the difference (best of interleaved repeats).  Also reported: the fourth-order step (three Strang
- * sub-steps, about 3 pairs) and the mean-field step (exponential per point).
- * Prints: name size threads ms_per_step ratio_to_fft_pair (wall clock) and
- * cpu_ratio, the same ratio in process CPU time, which a busy shared machine
- * disturbs far less (exact for one thread; with two, idle spinning of the
- * OpenMP threads counts too).
+ * Rows, with the targets of issue 19: the Strang step (<= 1.15 pairs), the
+ * Strang step with mean field g |psi|^2 (<= 1.25), the fourth-order step
+ * (three Strang sub-steps, <= 3.2), and each call's set-up in steps
+ * (<= 1): a repeat call with the same potential and step (a pf.potential's
+ * cache and the grid's kept tables: nothing to make), and a call with a new
+ * step (exponentials and kinetic tables made afresh).
  * Usage: bench_splitstep [quick | big]  (quick: 128^3 only; big: 256^3 only). */
 #include <math.h>
 #include <stdio.h>
@@ -32,48 +29,36 @@ static int fill_gauss(void *user, const double *x, double complex *v)
 
 static void quiet(void *user, const char *text) { (void)user; (void)text; }
 
-/* Process CPU time (s): with one thread it measures the work done and is
- * barely disturbed by other load on a shared machine, unlike wall time. */
-static double cpu_now(void)
-{
-    struct timespec ts;
-    clock_gettime(CLOCK_PROCESS_CPUTIME_ID, &ts);
-    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
-}
+/* One evolve call of `steps` steps; `dts` > 1 cycles the step through that
+ * many values a part in 1e9 apart, so that no call finds its kinetic
+ * tables or exponentials kept from the call before (the grid keeps two
+ * step sizes): the set-up of a call with a new step. */
+typedef struct evolve_arg {
+    pf_wave *w;
+    pf_evolve_spec spec;
+    int steps, dts, turn;
+} evolve_arg;
 
-typedef struct timing { double wall, cpu; } timing; /* ms */
-
-static void keep_best(timing *best, timing t)
+static void run_evolve(void *user)
 {
-    if (t.wall < best->wall) best->wall = t.wall;
-    if (t.cpu < best->cpu) best->cpu = t.cpu;
-}
-
-/* One evolve call of `steps` steps of the scheme. */
-static timing evolve_once(pf_wave *w, const pf_evolve_spec *spec, int steps)
-{
-    double t0 = bench_now(), c0 = cpu_now();
-    if (pf_wave_evolve(w, spec->dt * steps, spec, NULL) != PF_OK) {
-        fprintf(stderr, "bench: evolve failed: %s\n", pf_context_message(pf_grid_context(pf_wave_grid(w))));
+    evolve_arg *e = user;
+    pf_evolve_spec spec = e->spec;
+    if (e->dts > 1) spec.dt *= 1.0 + 1e-9 * (double)(e->turn++ % e->dts);
+    if (pf_wave_evolve(e->w, spec.dt * e->steps, &spec, NULL) != PF_OK) {
+        fprintf(stderr, "bench: evolve failed: %s\n", pf_context_message(pf_grid_context(pf_wave_grid(e->w))));
         exit(1);
     }
-    return (timing){1e3 * (bench_now() - t0), 1e3 * (cpu_now() - c0)};
 }
 
-typedef struct raw_pair {
-    fftw_plan fwd, bwd;
-    fftw_complex *data;
-} raw_pair;
+/* Targets of issue 19, as ratios to the raw FFTW pair timed alongside. */
+typedef struct kind {
+    const char *name;
+    int order;
+    double g;
+    double target;
+} kind;
 
-static timing raw_pair_once(raw_pair *p)
-{
-    double t0 = bench_now(), c0 = cpu_now();
-    fftw_execute(p->fwd);
-    fftw_execute(p->bwd);
-    return (timing){1e3 * (bench_now() - t0), 1e3 * (cpu_now() - c0)};
-}
-
-static void bench_size(pf_context *ctx, int dim, const int *n, int threads)
+static void bench_size(pf_context *ctx, int dim, const int *n, int threads, int quick)
 {
     char shape[64];
     size_t points[3], total = 1;
@@ -91,8 +76,6 @@ static void bench_size(pf_context *ctx, int dim, const int *n, int threads)
         exit(1);
     }
     pf_wave_fill(w, PF_POSITION, fill_gauss, &dim);
-    pf_wave_to(w, PF_MOMENTUM); /* plan (and store wisdom) outside the timing */
-    pf_wave_to(w, PF_POSITION);
     double *V = malloc(total * sizeof *V);
     if (!V) {
         fprintf(stderr, "bench: out of memory\n");
@@ -109,50 +92,37 @@ static void bench_size(pf_context *ctx, int dim, const int *n, int threads)
         V[off] = 1e-30 * r2; /* a harmonic well; the value only sets phases */
     }
     unsigned flags = pf_context_planning(ctx) == PF_PLAN_ESTIMATE ? FFTW_ESTIMATE : FFTW_MEASURE;
-    raw_pair raw;
-    raw.data = fftw_malloc(total * sizeof(fftw_complex));
-    if (!raw.data) {
-        fprintf(stderr, "bench: out of memory\n");
-        exit(1);
-    }
-    fftw_plan_with_nthreads(threads);
-    raw.fwd = fftw_plan_dft(dim, n, raw.data, raw.data, FFTW_FORWARD, flags);
-    raw.bwd = fftw_plan_dft(dim, n, raw.data, raw.data, FFTW_BACKWARD, flags);
-    for (size_t i = 0; i < total; i++) raw.data[i] = 1e-3 * (double)(i % 17) + I * 1e-3 * (double)(i % 5);
+    bench_fft_pair raw;
+    bench_fft_pair_init(&raw, dim, n, threads, flags);
     bench_shape(dim, n, shape, sizeof shape);
-    static const struct { const char *name; int order; double g; } kinds[] = {
-        {"splitstep-strang", 2, 0.0}, {"splitstep-yoshida4", 4, 0.0}, {"splitstep-strang-gp", 2, 1e-40},
+    static const kind kinds[] = {
+        {"splitstep-strang", 2, 0.0, 1.15}, {"splitstep-strang-gp", 2, 1e-40, 1.25}, {"splitstep-yoshida4", 4, 0.0, 3.2},
     };
-    /* The raw pair and the two evolutions are timed in turn, and the best of
-     * each is kept, so a burst of load on a shared machine spoils one sample
-     * rather than the ratio.  (1 + LONG) steps minus 1 step removes the
-     * per-call set-up from the per-step figure. */
+    /* Each evolve call is timed against a raw pair right beside it
+     * (bench_paired): the step is the difference of the ratios of calls of
+     * 1 + LONG and of 1 step; what is left of the 1-step call is its
+     * set-up.  A pf.potential object keeps its exponentials in a cache, as
+     * here. */
     enum { LONG = 4 };
-    const int REPS = total > ((size_t)1 << 22) ? 3 : 7; /* fewer repeats where one step takes long */
-    raw_pair_once(&raw); /* warm-up */
+    const double secs = quick ? 0.5 : 1.5;
     for (size_t k = 0; k < sizeof kinds / sizeof kinds[0]; k++) {
-        pf_evolve_spec spec = {.potential = V, .dt = 1e-6, .order = kinds[k].order, .g = kinds[k].g};
-        timing pair = {1e300, 1e300}, t1 = pair, tl = pair;
-        evolve_once(w, &spec, 1); /* warm-up: first touch of the workspace */
-        for (int r = 0; r < REPS; r++) {
-            /* The raw array sat idle during the evolutions; the kernel may
-             * have reclaimed or split its pages meanwhile (seen on this kind
-             * of VM), so touch it with one untimed pair first. */
-            raw_pair_once(&raw);
-            keep_best(&pair, raw_pair_once(&raw));
-            keep_best(&t1, evolve_once(w, &spec, 1));
-            keep_best(&tl, evolve_once(w, &spec, 1 + LONG));
-        }
-        double step = (tl.wall - t1.wall) / LONG, setup = t1.wall - step;
-        double step_cpu = (tl.cpu - t1.cpu) / LONG;
-        printf("%-20s %-16s threads %d   %9.3f ms/step   ratio_to_fft_pair %5.3f   cpu_ratio %5.3f   "
-               "(fft pair %8.3f ms; per-call set-up %8.3f ms)\n",
-               kinds[k].name, shape, threads, step, step / pair.wall, step_cpu / pair.cpu, pair.wall, setup);
+        pf_evolve_cache cache;
+        pf_evolve_cache_init(&cache);
+        pf_evolve_spec spec = {.potential = V, .dt = 1e-6, .order = kinds[k].order, .g = kinds[k].g, .cache = &cache};
+        evolve_arg one = {w, spec, 1, 1, 0}, many = {w, spec, 1 + LONG, 1, 0}, fresh = {w, spec, 1, 3, 0};
+        run_evolve(&one); /* plans, tables, first touch */
+        double pair, ms1, msl, msf, q[2];
+        double r1 = bench_paired(bench_fft_pair_run, &raw, bench_fft_pair_rescale, run_evolve, &one, secs, &pair, &ms1, q);
+        double rl = bench_paired(bench_fft_pair_run, &raw, bench_fft_pair_rescale, run_evolve, &many, secs, &pair, &msl, q);
+        double rf = bench_paired(bench_fft_pair_run, &raw, bench_fft_pair_rescale, run_evolve, &fresh, secs, &pair, &msf, q);
+        double step = (rl - r1) / LONG;
+        printf("%-20s %-16s threads %d   step %5.3f fft pairs (target <= %.2f)   set-up: repeat call %5.2f steps, "
+               "new dt %5.2f steps (target <= 1)   [pair %8.3f ms]\n",
+               kinds[k].name, shape, threads, step, kinds[k].target, (r1 - step) / step, (rf - step) / step, pair);
         fflush(stdout);
+        pf_evolve_cache_clear(&cache);
     }
-    fftw_destroy_plan(raw.fwd);
-    fftw_destroy_plan(raw.bwd);
-    fftw_free(raw.data);
+    bench_fft_pair_free(&raw);
     free(V);
     pf_wave_free(w);
     pf_grid_release(g);
@@ -170,7 +140,7 @@ int main(int argc, char **argv)
     static const int sizes[][4] = {{1, 1 << 20}, {2, 1024, 1024}, {3, 128, 128, 128}, {3, 256, 256, 256}};
     int first = quick ? 2 : big ? 3 : 0, last = quick ? 2 : 3;
     for (int s = first; s <= last; s++)
-        for (int threads = 1; threads <= 2; threads++) bench_size(ctx, sizes[s][0], sizes[s] + 1, threads);
+        for (int threads = 1; threads <= 2; threads++) bench_size(ctx, sizes[s][0], sizes[s] + 1, threads, quick);
     pf_context_release(ctx);
     return 0;
 }

@@ -92,23 +92,24 @@ __attribute__((unused)) static lua_State *fuzz_lua(void)
     return L;
 }
 
-/* A function of one argument (a file path) made by the Lua chunk `chunk`,
- * which returns it, in one Lua state kept for the whole run: making a state
- * per input (engine setup, grid plans) would cost more than the parsing.
- * fuzz_probe calls it and collects garbage, so every wave is freed and
- * counted off the memory cap before the next input; an error escaping the
- * function is a harness bug and aborts. */
-__attribute__((unused)) static void fuzz_probe(const char *chunk, const char *path)
+/* A Lua state (fuzz_lua) holding, as the global fuzz_probe, the function
+ * of one argument (a file path) that the Lua chunk `chunk` returns. */
+__attribute__((unused)) static lua_State *fuzz_probe_state(const char *chunk)
 {
-    static lua_State *L;
-    if (!L) {
-        L = fuzz_lua();
-        if (luaL_loadstring(L, chunk) != LUA_OK || lua_pcall(L, 0, 1, 0) != LUA_OK || !lua_isfunction(L, -1)) {
-            fprintf(stderr, "fuzz: harness chunk failed: %s\n", lua_tostring(L, -1));
-            abort();
-        }
-        lua_setglobal(L, "fuzz_probe");
+    lua_State *L = fuzz_lua();
+    if (luaL_loadstring(L, chunk) != LUA_OK || lua_pcall(L, 0, 1, 0) != LUA_OK || !lua_isfunction(L, -1)) {
+        fprintf(stderr, "fuzz: harness chunk failed: %s\n", lua_tostring(L, -1));
+        abort();
     }
+    lua_setglobal(L, "fuzz_probe");
+    return L;
+}
+
+/* Calls that function on path and collects garbage, so every wave is
+ * freed and counted off the memory cap before the next input; an error
+ * escaping the function is a harness bug and aborts. */
+__attribute__((unused)) static void fuzz_probe_in(lua_State *L, const char *path)
+{
     lua_getglobal(L, "fuzz_probe");
     lua_pushstring(L, path);
     if (lua_pcall(L, 1, 0, 0) != LUA_OK) {
@@ -116,6 +117,15 @@ __attribute__((unused)) static void fuzz_probe(const char *chunk, const char *pa
         abort();
     }
     lua_gc(L, LUA_GCCOLLECT, 0);
+}
+
+/* The same, in one Lua state kept for the whole run: making a state per
+ * input (engine setup, grid plans) would cost more than the parsing. */
+__attribute__((unused)) static void fuzz_probe(const char *chunk, const char *path)
+{
+    static lua_State *L;
+    if (!L) L = fuzz_probe_state(chunk);
+    fuzz_probe_in(L, path);
 }
 
 #endif

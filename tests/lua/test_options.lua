@@ -29,6 +29,7 @@ local gen = pf.random{seed = 3}
 local pot = pf.potential(g1, function(x) return 0 end)
 local region = pf.box{min = {-1e-6}, max = {1e-6}}
 local bar = pf.progress(10, "walk")
+local lv = pf.levels{labels = {"F1", "F2"}, waves = {F1 = w1}}
 local csv = pf.write_csv("options-walk.csv", {{name = "x", unit = "m", values = {0, 1}}}, {overwrite = true})
 
 -- How to call each declared function with an options table o (the other
@@ -100,6 +101,11 @@ local callers = {
   ["state:wigner"] = function(o) w1:wigner(o) end,
   ["state:measure_region"] = function(o) w1:copy():measure_region(region, o) end,
   ["state:measure_position"] = function(o) w1:copy():measure_position(o) end,
+  ["pf.levels"] = function(o) pf.levels(o) end,
+  ["levels:pulse"] = function(o) lv:pulse(o) end,
+  ["levels:bragg"] = function(o) lv:bragg(o) end,
+  ["levels:fly"] = function(o) lv:fly(1e-6, o) end,
+  ["levels:order_populations"] = function(o) lv:order_populations(o) end,
 }
 
 -- Lua-visible functions that take no options table (positional numbers,
@@ -134,6 +140,8 @@ local TAKES_NO_OPTIONS = {
   "random:uniform", "random:normal", "random:poisson", "random:raw",
   "potential:close", "potential:range", "progress:advance", "progress:finish", "progress:shown",
   "complex:abs", "complex:arg", "complex:conj", "complex:abs2",
+  "levels:populations", "levels:level", "levels:labels", "levels:energy", "levels:clock", "levels:norm",
+  "levels:close",
   "pf.units.angular", "pf.units.as_frequency", "pf.units.as_temperature",
 }
 
@@ -185,6 +193,7 @@ classify("random:", methods_of(gen))
 classify("potential:", methods_of(pot))
 classify("progress:", methods_of(bar))
 classify("complex:", methods_of(pf.complex(1, 2)))
+classify("levels:", methods_of(lv))
 classify("pf.units.", pf.units)
 -- Tables of functions inside the module are scanned too; a new one must be
 -- added to the scan.

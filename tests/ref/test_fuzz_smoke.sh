@@ -30,9 +30,9 @@ status=0
 FUZZ_WORK="$probe" bash tests/fuzz/run-fuzz.sh build-fuzz 0 >"$probe/seeds.log" 2>&1 || status=1
 # Passing harnesses become "ok" lines in the suite's summary; others stay as they are.
 sed -E 's/^fuzz( +[a-z0-9_]+ +ok )/ok seeds\1/' "$probe/seeds.log"
-# Files that crash libhdf5 itself crash the harness's in-process reader
-# (tests/fuzz/known-crashes/README.md); through the child process that
-# pf_h5_read uses (FUZZ_H5_ISOLATED=1) each must be an ordinary load error.
+# Files that crash libhdf5 itself (tests/fuzz/known-crashes/README.md):
+# through the child process that pf_h5_read uses (FUZZ_H5_ISOLATED=1) each
+# must be an ordinary load error.
 for f in tests/fuzz/known-crashes/h5-*; do
   mkdir -p "$probe/isolated"
   if FUZZ_H5_ISOLATED=1 TMPDIR="$probe/isolated" ASAN_OPTIONS=detect_leaks=1 \
@@ -44,6 +44,40 @@ for f in tests/fuzz/known-crashes/h5-*; do
     status=1
   fi
 done
+# The harness's default mode screens every input in an oracle process
+# (tests/fuzz/fuzz_h5.c): a file that crashes libhdf5 is skipped and
+# counted, never a crash of the harness.
+h5env=(env TMPDIR="$probe/isolated" ASAN_OPTIONS=detect_leaks=1
+       LSAN_OPTIONS=suppressions=$root/tests/fuzz/lsan-suppressions.txt:print_suppressions=0)
+if "${h5env[@]}" build-fuzz/fuzz/fuzz_h5 -runs=1 -artifact_prefix="$probe/isolated/" \
+     tests/fuzz/known-crashes/h5-libhdf5-local-heap >"$probe/oracle.log" 2>&1 &&
+   grep -q "inputs libhdf5 crashed on (skipped): 1," "$probe/oracle.log"; then
+  echo "ok oracle fuzz_h5 h5-libhdf5-local-heap: libhdf5's crash skipped and counted"
+else
+  echo "FAILED: oracle fuzz_h5 on h5-libhdf5-local-heap:"; grep -E 'ERROR|SUMMARY|fuzz_h5:' "$probe/oracle.log" | head -5
+  status=1
+fi
+# A crash provoked in the oracle on purpose (FUZZ_H5_ORACLE_FAULT): inside
+# libhdf5 it is skipped; in psiflight's code it must abort the harness.
+seed=$(ls tests/fuzz/corpus/h5/* | head -1)
+if FUZZ_H5_ORACLE_FAULT=library "${h5env[@]}" build-fuzz/fuzz/fuzz_h5 -runs=1 -artifact_prefix="$probe/isolated/" \
+     "$seed" >"$probe/oracle.log" 2>&1 && grep -q "crashed on (skipped): 1," "$probe/oracle.log"; then
+  echo "ok oracle fuzz_h5: a deliberate fault inside libhdf5 is skipped"
+else
+  echo "FAILED: oracle fuzz_h5, deliberate libhdf5 fault:"; grep -E 'ERROR|SUMMARY|fuzz_h5:' "$probe/oracle.log" | head -5
+  status=1
+fi
+if FUZZ_H5_ORACLE_FAULT=own "${h5env[@]}" build-fuzz/fuzz/fuzz_h5 -runs=1 -artifact_prefix="$probe/isolated/" \
+     "$seed" >"$probe/oracle.log" 2>&1; then
+  echo "FAILED: oracle fuzz_h5: a deliberate fault in psiflight's code passed"
+  status=1
+elif grep -q "crashed in psiflight's own code (wait status 0x6b00" "$probe/oracle.log" &&
+     grep -q "the in-process parse did not crash" "$probe/oracle.log"; then
+  echo "ok oracle fuzz_h5: a deliberate fault in psiflight's code (exit 96 + 11) aborts the harness"
+else
+  echo "FAILED: oracle fuzz_h5, deliberate own fault:"; grep -E 'ERROR|SUMMARY|fuzz_h5:' "$probe/oracle.log" | head -5
+  status=1
+fi
 FUZZ_WORK="$probe" FUZZ_PARALLEL=2 bash tests/fuzz/run-fuzz.sh build-fuzz "$seconds" >"$probe/fuzz.log" 2>&1 || status=1
 sed -E 's/^fuzz( +[a-z0-9_]+ +ok )/ok fuzz\1/' "$probe/fuzz.log"
 exit $status

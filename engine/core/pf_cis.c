@@ -1,0 +1,108 @@
+/* pf_cis.c - vectorised exp(-i phi) for blocks of phases (see pf_cis.h). */
+#include <math.h>
+#include "pf_cis.h"
+
+/* pi/2 in three parts of 33, 33 and 53 bits (digits of pi split exactly):
+ * for |n| < 2^20, n * PIO2_1 and n * PIO2_2 are exact, so the reduced
+ * argument carries no cancellation error beyond the third part's rounding. */
+#define PIO2_1 0x1.921fb54400000p+0
+#define PIO2_2 0x1.0b4611a600000p-34
+#define PIO2_3 0x1.3198a2e037073p-69
+#define TWO_OVER_PI 0x1.45f306dc9c883p-1
+/* Adding and subtracting 1.5 * 2^52 rounds a double below 2^51 in
+ * magnitude to the nearest integer, in plain arithmetic that vectorises. */
+#define ROUNDER 0x1.8p52
+
+/* Taylor coefficients (-1)^k / (2k+1)! and (-1)^k / (2k)!: on |r| <= pi/4
+ * the first omitted terms are below 5e-17 of the result. */
+#define S3 (-1.0 / 6.0)
+#define S5 (1.0 / 120.0)
+#define S7 (-1.0 / 5040.0)
+#define S9 (1.0 / 362880.0)
+#define S11 (-1.0 / 39916800.0)
+#define S13 (1.0 / 6227020800.0)
+#define S15 (-1.0 / 1307674368000.0)
+#define C2 (-0.5)
+#define C4 (1.0 / 24.0)
+#define C6 (-1.0 / 720.0)
+#define C8 (1.0 / 40320.0)
+#define C10 (-1.0 / 3628800.0)
+#define C12 (1.0 / 479001600.0)
+#define C14 (-1.0 / 87178291200.0)
+#define C16 (1.0 / 20922789888000.0)
+
+#define BLOCK 256
+
+/* c[i] = cos phase[i], s[i] = sin phase[i] for i < n <= BLOCK. */
+/* Compiled for three instruction sets, picked at load time; the same
+ * operations in the same order on each (no fused multiply-add: contraction
+ * is off), so every path gives the same bits. */
+#if defined(__clang__)
+#pragma STDC FP_CONTRACT OFF
+#define NO_CONTRACT
+#define SIMD_MAX /* clang builds (sanitizers, fuzzing) take the plain loop */
+#else
+#define NO_CONTRACT __attribute__((optimize("fp-contract=off")))
+#define SIMD_MAX _Pragma("omp simd reduction(max : largest)")
+#endif
+
+__attribute__((target_clones("avx512f", "avx2", "default"))) NO_CONTRACT static void cos_sin(const double *restrict phase, double *restrict c, double *restrict s, size_t n)
+{
+    double largest = 0;
+    SIMD_MAX
+    for (size_t i = 0; i < n; i++) {
+        double x = phase[i];
+        double q = (x * TWO_OVER_PI + ROUNDER) - ROUNDER; /* nearest multiple of pi/2 */
+        double r = ((x - q * PIO2_1) - q * PIO2_2) - q * PIO2_3;
+        double r2 = r * r;
+        double sr = r + r * r2 * (S3 + r2 * (S5 + r2 * (S7 + r2 * (S9 + r2 * (S11 + r2 * (S13 + r2 * S15))))));
+        double cr = 1.0 + r2 * (C2 + r2 * (C4 + r2 * (C6 + r2 * (C8 + r2 * (C10 + r2 * (C12 + r2 * (C14 + r2 * C16)))))));
+        /* Quadrant q mod 4 as m = q - 4 round(q / 4), in {-2, ..., 2}:
+         * quadrants 1 and 3 (m = +-1) swap cos and sin, 1 and 2 negate the
+         * cosine, 2 and 3 the sine. */
+        double m = q - 4.0 * ((q * 0.25 + ROUNDER) - ROUNDER);
+        double am = fabs(m);
+        double a = am == 1.0 ? sr : cr, b = am == 1.0 ? cr : sr;
+        c[i] = (m == 1.0 || am == 2.0) ? -a : a;
+        s[i] = (am == 2.0 || m == -1.0) ? -b : b;
+        double ax = fabs(x);
+        largest = ax > largest ? ax : largest;
+    }
+    int slow = !(largest <= PF_CIS_FAST_LIMIT);
+    if (slow)
+        for (size_t i = 0; i < n; i++)
+            if (!(fabs(phase[i]) <= PF_CIS_FAST_LIMIT)) {
+                c[i] = cos(phase[i]);
+                s[i] = sin(phase[i]);
+            }
+}
+
+void pf_cis_minus(const double *phase, double complex *out, size_t n)
+{
+    double c[BLOCK], s[BLOCK];
+    for (size_t b = 0; b < n; b += BLOCK) {
+        size_t m = n - b < BLOCK ? n - b : BLOCK;
+        cos_sin(phase + b, c, s, m);
+        double *o = (double *)(out + b);
+        for (size_t i = 0; i < m; i++) {
+            o[2 * i] = c[i];
+            o[2 * i + 1] = -s[i];
+        }
+    }
+}
+
+void pf_cis_multiply(double complex *d, const double *phase, size_t n)
+{
+    double c[BLOCK], s[BLOCK];
+    for (size_t b = 0; b < n; b += BLOCK) {
+        size_t m = n - b < BLOCK ? n - b : BLOCK;
+        cos_sin(phase + b, c, s, m);
+        double *z = (double *)(d + b);
+        /* (x + i y)(c - i s) = (x c + y s) + i (y c - x s) */
+        for (size_t i = 0; i < m; i++) {
+            double x = z[2 * i], y = z[2 * i + 1];
+            z[2 * i] = x * c[i] + y * s[i];
+            z[2 * i + 1] = y * c[i] - x * s[i];
+        }
+    }
+}

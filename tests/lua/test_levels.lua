@@ -1,0 +1,213 @@
+-- test_levels.lua - pf.levels through the runner: pulses between levels
+-- against the Rabi formula (with level energies and the laser frequency),
+-- the two-photon light shift, a light-pulse Mach-Zehnder interferometer
+-- against k_eff a T^2, Stern-Gerlach separation against the classical
+-- trajectories, Bragg orders, and the errors on bad input.
+local pf = require "psiflight"
+local check = require "check"
+pf.setup{planning = "estimate", guard_threshold = math.huge}
+local C = pf.constants
+local hbar, pi = C.hbar, math.pi
+
+local g = pf.grid{points = 1024, span = 200e-6}
+local dk = g:kspacing()
+local psi0 = pf.gaussian(g, {mass = "87Rb", width = 5e-6})
+
+-- Rabi formula P = (Omega/W)^2 sin^2(W t/2), W^2 = Omega^2 + delta^2 (I. I. Rabi,
+-- Phys. Rev. 51, 652 (1937)), delta = omega - (E2 - E1)/hbar from the level
+-- energies and the (microwave) frequency.
+local function rabi(omega, delta, t)
+  local W = math.sqrt(omega^2 + delta^2)
+  return (omega / W)^2 * math.sin(W * t / 2)^2
+end
+local w0 = 2 * pi * 6.834682610904e9 -- an invented hyperfine-like splitting (rad/s)
+for _, case in ipairs{{0, 30e-6}, {2 * pi * 7e3, 45e-6}, {-2 * pi * 21e3, 80e-6}} do
+  local lv = pf.levels{labels = {"lower", "upper"}, energies = {0, hbar * w0}, waves = {lower = psi0}}
+  local om = 2 * pi * 10e3
+  lv:pulse{from = "lower", to = "upper", rabi = om, duration = case[2], omega = w0 + case[1]}
+  local pop = lv:populations()
+  -- delta is a difference of two numbers near 4e10 rad/s: rounding leaves it
+  -- uncertain by about 1e-5 rad/s, hence 1e-9 rather than 1e-12 here.
+  check.near(pop.upper, rabi(om, case[1], case[2]), 1e-9, "microwave pulse, delta " .. case[1],
+             "Rabi formula, Phys. Rev. 51, 652 (1937)", 1e-15)
+  check.near(pop.lower + pop.upper, 1, 1e-12, "populations add up to 1", "unitarity (common practice)")
+  check.near(lv:clock(), case[2], 1e-15, "clock advanced by the pulse", "definition")
+end
+
+-- Two-photon Raman from the beams: Omega_eff = O1 O2 / (2 Delta), light
+-- shifts O1^2/(4 Delta) (first level), O2^2/(4 Delta) (second), so the
+-- resonance moves by (O2^2 - O1^2) / (4 Delta) (adiabatic elimination;
+-- K. Moler, D. S. Weiss, M. Kasevich, S. Chu, Phys. Rev. A 45, 342 (1992);
+-- the expressions written from memory).
+do
+  local O1, O2, D = 2 * pi * 40e6, 2 * pi * 25e6, -2 * pi * 1.5e9
+  local eff = O1 * O2 / (2 * math.abs(D))
+  local shift = (O2^2 - O1^2) / (4 * D)
+  local t = 0.6 * pi / eff
+  local lv = pf.levels{labels = {"F1", "F2"}, waves = {F1 = psi0}}
+  lv:pulse{from = "F1", to = "F2", beam_rabi = {O1, O2}, one_photon_detuning = D, duration = t, detuning = 0}
+  check.near(lv:populations().F2, rabi(eff, -shift, t), 1e-12, "Raman pulse with its own light shift",
+             "adiabatic elimination, Moler et al. PRA 45, 342 (1992), from memory")
+end
+
+-- Light-pulse Mach-Zehnder pi/2 - T - pi - T - pi/2 under a uniform
+-- acceleration a, with a scanned last laser phase phi3: the exit port
+-- population is (1 - cos(K a T^2 + phi3)) / 2 (M. Kasevich and S. Chu, Phys.
+-- Rev. Lett. 67, 181 (1991)).  The pulses are short (finite-pulse corrections
+-- of order K a T tau, below the tolerance); the phase comes from the flight.
+do
+  local K = 64 * dk
+  local a, T = 0.1, 5e-3
+  local tau = 50e-9
+  local om = pi / (2 * tau)
+  local wr = hbar * K^2 / (2 * pf.mass("87Rb"))
+  local Phi = K * a * T^2
+  for _, phi3 in ipairs{0, pi / 2, 2.0} do
+    local lv = pf.levels{labels = {"a", "b"}, waves = {a = psi0}}
+    local function pulse(area, phase)
+      lv:pulse{from = "a", to = "b", rabi = om, duration = area / om, wavenumber = K, detuning = wr, phase = phase}
+    end
+    pulse(pi / 2, 0)
+    lv:fly(T, {acceleration = a})
+    pulse(pi, 0)
+    lv:fly(T, {acceleration = a})
+    pulse(pi / 2, phi3)
+    local pb = lv:populations().b
+    check.close(pb, (1 - math.cos(Phi + phi3)) / 2, 2e-3, string.format("Mach-Zehnder exit port, phi3 = %.2f", phi3),
+                "Kasevich & Chu PRL 67, 181 (1991): phase K a T^2")
+  end
+end
+
+-- Finite pulses with gravity acting during them: Rabi pulses of durations
+-- tau, 2 tau, tau separated by free flights T (end of one pulse to the start
+-- of the next), the acceleration a acting throughout, the laser difference
+-- frequency chirped at rate alpha.  The interferometer phase becomes
+-- (K a - alpha)(T + 2 tau)(T + 4 tau / pi) (P. Cheinet et al., IEEE Trans.
+-- Instrum. Meas. 57, 1141 (2008), sensitivity-function result; expression
+-- quoted from memory).  The residual left by the Doppler drift (K a T = 600
+-- rad/s against Omega = 7.9e4 rad/s) is about 1e-4 rad at tau = 20 us; the
+-- correction itself is 0.04 rad, so the check tells the two formulas apart.
+-- The phase is read from four last-pulse phases.
+local function finite_pulse_phase(alpha)
+  local K = 64 * dk
+  local a, T, tau = 0.3, 2e-3, 20e-6
+  local om = pi / (2 * tau)
+  local wr = hbar * K^2 / (2 * pf.mass("87Rb"))
+  local cloud = pf.gaussian(g, {mass = "87Rb", width = 8e-6})
+  local function port(phi3)
+    local lv = pf.levels{labels = {"a", "b"}, waves = {a = cloud}}
+    local function pulse(d, ph)
+      lv:pulse{from = "a", to = "b", rabi = om, duration = d, wavenumber = K, detuning = wr, phase = ph,
+               chirp = alpha * K * a, acceleration = a, slices = 64}
+    end
+    pulse(tau, 0); lv:fly(T, {acceleration = a}); pulse(2 * tau, 0); lv:fly(T, {acceleration = a}); pulse(tau, phi3)
+    return lv:populations().b
+  end
+  local c, s = 0, 0
+  for j = 0, 3 do
+    local ph = j * pi / 2
+    local P = port(ph)
+    c, s = c + (1 - 2 * P) * math.cos(ph), s + (1 - 2 * P) * math.sin(ph)
+  end
+  local function wrap(x) return (x + pi) % (2 * pi) - pi end
+  local phase = math.atan(-s, c)
+  local scale = (1 - alpha) * K * a
+  return wrap(phase - scale * (T + 2 * tau) * (T + 4 * tau / pi)), wrap(phase - scale * T^2)
+end
+for _, alpha in ipairs{0, 0.5} do
+  local finite, short = finite_pulse_phase(alpha)
+  check.close(finite, 0, 3e-4, "finite-pulse phase (K a - alpha)(T + 2 tau)(T + 4 tau/pi), alpha/Ka = " .. alpha,
+              "Cheinet et al., IEEE TIM 57, 1141 (2008), from memory")
+  check.truthy(math.abs(short) > 0.015, "differs from the short-pulse (K a - alpha) T^2")
+end
+
+-- A pulse between two of three levels: the third flies along, so the
+-- clocks stay together.
+do
+  local lv = pf.levels{labels = {"p", "q", "r"}, waves = {p = psi0}}
+  lv:pulse{from = "p", to = "q", area = pi, duration = 10e-6}
+  check.near(lv:level("r"):clock(), 10e-6, 1e-15, "third level flew along with the pulse", "definition")
+  lv:pulse{from = "q", to = "r", area = pi, duration = 10e-6}
+  check.near(lv:populations().r, 1, 1e-12, "two pi pulses carry p to r", "Rabi formula on resonance")
+end
+
+-- A wave in a moving frame (docs/frames.md) is refused clearly.
+do
+  local w = psi0:copy()
+  w:fly(1e-4, {acceleration = -9.8})
+  check.fails(function() pf.levels{labels = {"a", "b"}, waves = {a = w}} end, "moving frame refused",
+              "does not support a wave in a moving frame")
+end
+
+-- Stern-Gerlach: levels with opposite accelerations +-a separate along the
+-- classical trajectories x0 + v0 t +- a t^2 / 2 (Newton; the exact
+-- uniform-force propagator moves the mean so, Ehrenfest), and each keeps the
+-- free-flight width sqrt(s^2 + (hbar t / 2 m s)^2) (Gaussian packet spreading,
+-- any quantum mechanics text).
+do
+  local v0 = 2e-4
+  local start = pf.gaussian(g, {mass = "87Rb", width = 4e-6, center = -10e-6, velocity = v0})
+  local lv = pf.levels{labels = {"up", "down"}, waves = {up = start, down = start}}
+  local a, t = 0.4, 8e-3
+  lv:fly(t, {acceleration = {up = a, down = -a}})
+  local m = pf.mass("87Rb")
+  local s = 4e-6
+  local width = math.sqrt(s^2 + (hbar * t / (2 * m * s))^2)
+  for lab, sign in pairs{up = 1, down = -1} do
+    local w = lv:level(lab)
+    check.near(w:position_mean(), -10e-6 + v0 * t + sign * a * t^2 / 2, 1e-9, "Stern-Gerlach mean, level " .. lab,
+               "classical trajectory (Newton)", 1e-15)
+    check.near(w:position_width(), width, 1e-9, "Stern-Gerlach width, level " .. lab, "Gaussian spreading formula")
+  end
+end
+
+-- Bragg: a short, strong pulse on a plane wave puts J_n(Omega t)^2 in order n
+-- (Raman-Nath regime), read back with order_populations; the Bessel values
+-- are from scipy.special.jv in tests/ref/test_levels_scipy.sh; here the sum
+-- rule sum_n J_n^2 = 1 (Abramowitz & Stegun 9.1.76) and symmetry J_-n^2 = J_n^2.
+do
+  local K = 32 * dk
+  local heavy = pf.wave(g, {mass = 1e-20, position = function(x) return 1 end}) -- a plane wave, k = 0
+  local lv = pf.levels{labels = {"g", "e"}, waves = {g = heavy}}
+  lv:bragg{level = "g", rabi = 1.3e5, duration = 10e-6, wavenumber = K}
+  local orders = lv:order_populations{wavenumber = K, orders = 10}.g
+  local sum = 0
+  for n = -10, 10 do sum = sum + orders[n] end
+  check.near(sum, 1, 1e-12, "Bragg orders hold all the probability", "A&S 9.1.76: sum J_n^2 = 1")
+  check.near(orders[-2], orders[2], 1e-12, "order +-2 symmetric", "J_-n = (-1)^n J_n (A&S 9.1.5)")
+  check.near(lv:clock(), 10e-6, 1e-15, "uncoupled level flew along", "definition")
+end
+
+-- Errors name the bad value.
+local lv = pf.levels{labels = {"F1", "F2"}, grid = g, mass = "87Rb"}
+check.fails(function() lv:pulse{from = "F1", to = "F3", rabi = 1, duration = 1} end, "unknown label",
+            "no level 'F3'", "F1, F2")
+check.fails(function() lv:pulse{from = "F1", to = "F1", rabi = 1, duration = 1} end, "same level", "same level")
+check.fails(function() lv:pulse{from = "F1", to = "F2", rabi = 1} end, "square pulse needs two of",
+            "needs two of")
+check.fails(function() lv:pulse{from = "F1", to = "F2", rabi = 1, duration = 1, wavenumber = 2.5 * dk} end,
+            "kick off the momentum grid", "whole number of momentum spacings")
+check.fails(function() lv:pulse{from = "F1", to = "F2", rabi = 1, duration = 1, detunin = 0} end,
+            "misspelt option", "detunin", "detuning")
+check.fails(function() pf.levels{labels = {"x"}, grid = g, mass = "87Rb"} end, "one level is not enough", "2 to 8")
+check.fails(function() pf.levels{labels = {"x", "x"}, grid = g, mass = "87Rb"} end, "duplicate label", "twice")
+lv:level("F1"):fly(1e-3)
+check.fails(function() lv:pulse{from = "F1", to = "F2", rabi = 1, duration = 1} end, "levels at different times",
+            "one time")
+check.equal(tostring(lv), "levels {F1, F2}", "tostring")
+lv:close()
+check.fails(function() lv:populations() end, "closed object", "closed")
+
+-- A level emptied by two pi/2 pulses around a flight holds only rounding
+-- noise spread over the grid (the two paths cancel); the grid guards treat
+-- it as empty instead of warning (strict mode would turn a warning into an
+-- error).  The project's own rule, no outside source.
+pf.setup{guard_threshold = 1e-6, strict = true}
+local r_lv = pf.levels{labels = {"F1", "F2"}, waves = {F1 = psi0}}
+r_lv:pulse{from = "F1", to = "F2", area = pi / 2, duration = 20e-6}
+r_lv:fly(1e-3)
+r_lv:pulse{from = "F1", to = "F2", area = pi / 2, duration = 20e-6}
+check.truthy(r_lv:populations().F1 < 1e-25, "Ramsey pair at resonance empties F1")
+local ok, err = pcall(function() return r_lv:level("F1"):position_width() end)
+check.truthy(ok, "no guard alarm on an emptied level" .. (ok and "" or (": " .. tostring(err))))
+check.done()

@@ -1,0 +1,272 @@
+/* test_pulse.c - two-level and Bragg pulses (pf_pulse.c) against closed
+ * forms: the Rabi formula with the generalised Rabi frequency, the Rabi
+ * lineshape per velocity class of a Raman pulse, Ramsey fringes, the pulse
+ * area theorem for a Gaussian envelope, and Raman-Nath orders J_n^2 (GSL). */
+#include <gsl/gsl_sf_bessel.h>
+#include "protocol_util.h"
+#include "pf_flight.h"
+#include "pf_constants.h"
+#include "pf_pulse.h"
+
+/* Population in level b of a pulse of duration t from level a:
+ * P = (Omega / W)^2 sin^2(W t / 2), W = sqrt(Omega^2 + delta^2), delta the
+ * detuning from resonance (I. I. Rabi, Phys. Rev. 51, 652 (1937); any
+ * quantum-optics text, e.g. Allen & Eberly, "Optical Resonance and
+ * Two-Level Atoms", ch. 3). */
+static double rabi_formula(double omega, double delta, double t)
+{
+    double W = sqrt(omega * omega + delta * delta);
+    double s = sin(0.5 * W * t);
+    return omega * omega / (W * W) * s * s;
+}
+
+static pf_wave *empty_like(pf_wave *a)
+{
+    pf_wave *b = NULL;
+    assert_int_equal(pf_wave_new(pf_wave_grid(a), pf_wave_mass(a), &b), PF_OK);
+    return b;
+}
+
+/* Microwave pulse (no kick): every momentum class sees the same detuning,
+ * so the transferred population is the Rabi formula exactly, with the
+ * light shifts moving the resonance by s_b - s_a. */
+static void test_rabi_formula(void **state)
+{
+    (void)state;
+    pf_context *ctx = tu_context();
+    size_t n = 128;
+    double span = 40e-6;
+    pf_grid *g = tu_grid(ctx, 1, &n, &span, NULL);
+    tu_gauss gp = {.x0 = {0}, .sigma = {3e-6}, .k0 = {0}};
+    const double omega = 2 * PF_PI * 5e3;
+    const struct {
+        double delta, sa, sb, t;
+    } cases[] = {
+        {0, 0, 0, 37e-6}, {0.7 * omega, 0, 0, 61e-6}, {-2.3 * omega, 0, 0, 250e-6}, {0.4 * omega, 1e4, -3e4, 80e-6},
+    };
+    for (size_t i = 0; i < sizeof cases / sizeof cases[0]; i++) {
+        pf_wave *a = tu_gauss_wave(g, RB87_MASS, &gp), *b = empty_like(a);
+        pf_pulse_shape sh = {.envelope = PF_ENVELOPE_SQUARE, .duration = cases[i].t, .rabi = omega};
+        pf_pulse_light li = {.detuning = cases[i].delta, .phase = 0.3, .shift_a = cases[i].sa, .shift_b = cases[i].sb};
+        assert_int_equal(pf_pulse_two_level(a, b, &sh, &li), PF_OK);
+        double want = rabi_formula(omega, cases[i].delta - (cases[i].sb - cases[i].sa), cases[i].t);
+        char label[96];
+        snprintf(label, sizeof label, "Rabi formula, case %zu: P_b (Rabi 1937)", i);
+        TU_NEAR(pf_wave_norm(b), want, 1e-12, label);
+        snprintf(label, sizeof label, "Rabi formula, case %zu: P_a + P_b = 1", i);
+        TU_NEAR(pf_wave_norm(a) + pf_wave_norm(b), 1.0, 1e-12, label);
+        TU_NEAR(pf_wave_clock(a), cases[i].t, 1e-20, "pulse advances the clock by its duration");
+        pf_wave_free(a);
+        pf_wave_free(b);
+    }
+    pf_grid_release(g);
+    pf_context_release(ctx);
+}
+
+/* Raman pulse with kick K: class k goes to k + K with the Rabi lineshape at
+ * the detuning delta - (w(k + K) - w(k)), w = hbar k^2 / 2m (Doppler shift
+ * K.v plus recoil; Kasevich et al., PRL 66, 2297 (1991) use this velocity
+ * selection).  Checked per momentum point. */
+static void test_raman_velocity_selection(void **state)
+{
+    (void)state;
+    pf_context *ctx = tu_context();
+    size_t n = 512;
+    double span = 400e-6;
+    pf_grid *g = tu_grid(ctx, 1, &n, &span, NULL);
+    const double dk = pf_grid_kspacing(g, 0);
+    const double K = 40 * dk;
+    tu_gauss gp = {.x0 = {0}, .sigma = {2e-6}, .k0 = {0}}; /* broad in momentum: many classes */
+    pf_wave *a = tu_gauss_wave(g, RB87_MASS, &gp), *b = empty_like(a);
+    pf_wave *ref = NULL;
+    assert_int_equal(pf_wave_copy(a, &ref), PF_OK);
+    assert_int_equal(pf_wave_to(ref, PF_MOMENTUM), PF_OK);
+    const double hm = PF_HBAR / (2 * RB87_MASS);
+    const double omega = 2 * PF_PI * 2e3, tpi = PF_PI / omega;
+    const double delta = hm * K * K; /* resonant for the class at rest */
+    pf_pulse_shape sh = {.envelope = PF_ENVELOPE_SQUARE, .duration = tpi, .rabi = omega};
+    pf_pulse_light li = {.kick = {K}, .detuning = delta};
+    assert_int_equal(pf_pulse_two_level(a, b, &sh, &li), PF_OK);
+    const double complex *s0 = pf_wave_data(ref), *sb = pf_wave_data(b);
+    double worst = 0, total = 0;
+    for (size_t j = 0; j < n; j++) {
+        double k = pf_grid_k(g, 0, j);
+        size_t q = (j + 40) % n;
+        if (fabs(k + K) >= pf_grid_knyquist(g, 0)) continue; /* wrapped partners */
+        double p0 = creal(s0[j] * conj(s0[j]));
+        double want = p0 * rabi_formula(omega, delta - hm * ((k + K) * (k + K) - k * k), tpi);
+        double got = creal(sb[q] * conj(sb[q]));
+        worst = fmax(worst, fabs(got - want));
+        total += p0;
+    }
+    TU_NEAR(worst / (total / n), 0.0, 1e-12, "Raman pi pulse: P_b(k) = P_a(k) * Rabi lineshape(k), max rel.");
+    /* The selected class moved by K: its momentum mean is K above level a's. */
+    pf_wave_free(a);
+    pf_wave_free(b);
+    pf_wave_free(ref);
+    pf_grid_release(g);
+    pf_context_release(ctx);
+}
+
+/* Ramsey sequence pi/2 - T - pi/2 (square pulses of length tau, no kick):
+ * P = 4 (Omega/W)^2 sin^2(W tau / 2) [cos(W tau/2) cos(delta T/2)
+ *       - (delta/W) sin(W tau/2) sin(delta T/2)]^2
+ * (N. F. Ramsey, Phys. Rev. 78, 695 (1950); written from memory in this
+ * form, and it reduces to the Rabi formula at T = 0). */
+static void test_ramsey_fringes(void **state)
+{
+    (void)state;
+    pf_context *ctx = tu_context();
+    size_t n = 64;
+    double span = 40e-6;
+    pf_grid *g = tu_grid(ctx, 1, &n, &span, NULL);
+    tu_gauss gp = {.sigma = {3e-6}};
+    const double omega = 2 * PF_PI * 10e3, tau = PF_PI / (2 * omega), T = 2e-3;
+    for (int i = -6; i <= 6; i++) {
+        double delta = i * 2 * PF_PI * 97.0;
+        pf_wave *a = tu_gauss_wave(g, RB87_MASS, &gp), *b = empty_like(a);
+        pf_pulse_shape sh = {.envelope = PF_ENVELOPE_SQUARE, .duration = tau, .rabi = omega};
+        pf_pulse_light li = {.detuning = delta};
+        assert_int_equal(pf_pulse_two_level(a, b, &sh, &li), PF_OK);
+        assert_int_equal(pf_wave_fly(a, T), PF_OK);
+        assert_int_equal(pf_wave_fly(b, T), PF_OK);
+        assert_int_equal(pf_pulse_two_level(a, b, &sh, &li), PF_OK);
+        double W = sqrt(omega * omega + delta * delta);
+        double c = cos(0.5 * W * tau), s = sin(0.5 * W * tau);
+        double br = c * cos(0.5 * delta * T) - delta / W * s * sin(0.5 * delta * T);
+        double want = 4 * omega * omega / (W * W) * s * s * br * br;
+        char label[96];
+        snprintf(label, sizeof label, "Ramsey fringe at delta = %+.0f rad/s (Ramsey 1950)", delta);
+        TU_NEAR(pf_wave_norm(b), want, 1e-12, label);
+        pf_wave_free(a);
+        pf_wave_free(b);
+    }
+    pf_grid_release(g);
+    pf_context_release(ctx);
+}
+
+/* On resonance the transfer of any envelope depends on its area only:
+ * P_b = sin^2(A/2), A = integral Omega dt (pulse area theorem; common
+ * practice).  A Gaussian Omega(t) = Omega0 exp(-(t-t_c)^2/(2 s^2)) over the
+ * window of length L has A = Omega0 s sqrt(2 pi) erf(L / (2 sqrt(2) s)). */
+static void test_gaussian_area(void **state)
+{
+    (void)state;
+    pf_context *ctx = tu_context();
+    size_t n = 64;
+    double span = 40e-6;
+    pf_grid *g = tu_grid(ctx, 1, &n, &span, NULL);
+    tu_gauss gp = {.sigma = {3e-6}};
+    const double s = 10e-6, L = 6 * s;
+    const double areas[] = {0.5 * PF_PI, PF_PI, 2.6};
+    for (size_t i = 0; i < 3; i++) {
+        double frac = sqrt(2 * PF_PI) * s * erf(L / (2 * sqrt(2.0) * s));
+        double omega0 = areas[i] / frac;
+        pf_wave *a = tu_gauss_wave(g, RB87_MASS, &gp), *b = empty_like(a);
+        pf_pulse_shape sh = {.envelope = PF_ENVELOPE_GAUSSIAN, .duration = L, .rabi = omega0, .width = s};
+        pf_pulse_light li = {0};
+        assert_int_equal(pf_pulse_two_level(a, b, &sh, &li), PF_OK);
+        double sn = sin(0.5 * areas[i]);
+        TU_NEAR(pf_wave_norm(b), sn * sn, 1e-9, "Gaussian pulse on resonance: sin^2(area/2) (area theorem)");
+        pf_wave_free(a);
+        pf_wave_free(b);
+    }
+    pf_grid_release(g);
+    pf_context_release(ctx);
+}
+
+/* A Bragg pulse much shorter than the recoil time acts as a thin grating:
+ * order n gets J_n(Omega t)^2 (Raman-Nath; Jacobi-Anger, Bessel functions
+ * from GSL).  A large mass makes the kinetic energy negligible. */
+static void test_bragg_raman_nath(void **state)
+{
+    (void)state;
+    pf_context *ctx = tu_context();
+    size_t n = 512;
+    double span = 400e-6;
+    pf_grid *g = tu_grid(ctx, 1, &n, &span, NULL);
+    const double K = 16 * pf_grid_kspacing(g, 0);
+    tu_gauss flat = {.sigma = {1e9}}; /* a plane wave: only k = 0 */
+    pf_wave *w = tu_gauss_wave(g, 1e-18, &flat);
+    const double t = 20e-6, omega = 2.2 / t;
+    pf_pulse_shape sh = {.envelope = PF_ENVELOPE_SQUARE, .duration = t, .rabi = omega, .substeps = 4};
+    pf_pulse_light li = {.kick = {K}, .phase = 0.4};
+    assert_int_equal(pf_pulse_bragg(w, &sh, &li), PF_OK);
+    const double complex *S = pf_wave_data(w);
+    for (int order = -4; order <= 4; order++) {
+        size_t j = (size_t)((order * 16 + (int)n) % (int)n);
+        double P = span * creal(S[j] * conj(S[j]));
+        double J = gsl_sf_bessel_Jn(order, omega * t);
+        char label[96];
+        snprintf(label, sizeof label, "Raman-Nath order %+d = J_n(Omega t)^2 [GSL]", order);
+        TU_NEAR(P, J * J, 1e-11, label);
+    }
+    TU_NEAR(pf_wave_norm(w), 1.0, 1e-12, "Bragg pulse is unitary");
+    pf_wave_free(w);
+    pf_grid_release(g);
+    pf_context_release(ctx);
+}
+
+/* First-order Bragg on resonance from k = -K/2 to +K/2 with a weak,
+ * long square pulse: an effective two-level Rabi oscillation at Omega
+ * (in the deep Bragg regime Omega << recoil frequency; off-resonant orders
+ * put an error of order (Omega / 8 w_r)^2 on it).  Common practice. */
+static void test_bragg_pi_pulse(void **state)
+{
+    (void)state;
+    pf_context *ctx = tu_context();
+    size_t n = 256;
+    double span = 200e-6;
+    pf_grid *g = tu_grid(ctx, 1, &n, &span, NULL);
+    const double K = 32 * pf_grid_kspacing(g, 0);
+    tu_gauss flat = {.sigma = {1e9}, .k0 = {-K / 2}};
+    pf_wave *w = tu_gauss_wave(g, RB87_MASS, &flat);
+    const double wr = PF_HBAR * K * K / (2 * RB87_MASS);
+    const double omega = wr / 50, t = PF_PI / omega;
+    pf_pulse_shape sh = {.envelope = PF_ENVELOPE_SQUARE, .duration = t, .rabi = omega};
+    pf_pulse_light li = {.kick = {K}, .detuning = 0}; /* -K/2 -> +K/2 is resonant at delta = 0 */
+    assert_int_equal(pf_pulse_bragg(w, &sh, &li), PF_OK);
+    const double complex *S = pf_wave_data(w);
+    double P = span * creal(S[16] * conj(S[16]));
+    TU_NEAR(P, 1.0, 2e-4, "Bragg pi pulse moves -K/2 to +K/2 (deep Bragg regime)");
+    pf_wave_free(w);
+    pf_grid_release(g);
+    pf_context_release(ctx);
+}
+
+static void test_bad_input(void **state)
+{
+    (void)state;
+    pf_context *ctx = tu_context();
+    size_t n = 64;
+    double span = 40e-6;
+    pf_grid *g = tu_grid(ctx, 1, &n, &span, NULL);
+    tu_gauss gp = {.sigma = {3e-6}};
+    pf_wave *a = tu_gauss_wave(g, RB87_MASS, &gp), *b = empty_like(a);
+    pf_pulse_shape sh = {.envelope = PF_ENVELOPE_SQUARE, .duration = 1e-6, .rabi = 1e5};
+    pf_pulse_light li = {.kick = {2.5 * pf_grid_kspacing(g, 0)}};
+    assert_int_equal(pf_pulse_two_level(a, b, &sh, &li), PF_EINVAL); /* not whole spacings */
+    li.kick[0] = 0;
+    assert_int_equal(pf_pulse_bragg(a, &sh, &li), PF_EINVAL); /* Bragg needs a kick */
+    assert_int_equal(pf_pulse_two_level(a, a, &sh, &li), PF_EINVAL);
+    sh.duration = -1;
+    assert_int_equal(pf_pulse_two_level(a, b, &sh, &li), PF_EINVAL);
+    sh.duration = 1e-6;
+    assert_int_equal(pf_wave_fly(b, 1e-3), PF_OK);
+    assert_int_equal(pf_pulse_two_level(a, b, &sh, &li), PF_EINVAL); /* clocks differ */
+    pf_wave_free(a);
+    pf_wave_free(b);
+    pf_grid_release(g);
+    pf_context_release(ctx);
+}
+
+int main(void)
+{
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test(test_rabi_formula),     cmocka_unit_test(test_raman_velocity_selection),
+        cmocka_unit_test(test_ramsey_fringes),   cmocka_unit_test(test_gaussian_area),
+        cmocka_unit_test(test_bragg_raman_nath), cmocka_unit_test(test_bragg_pi_pulse),
+        cmocka_unit_test(test_bad_input),
+    };
+    return cmocka_run_group_tests(tests, NULL, NULL);
+}
