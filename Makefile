@@ -5,6 +5,7 @@
 #   make deps     install the missing Debian packages of the runtime set (as root)
 #   make demo     the runtime set, build, run the flagship example
 #   make test     the runtime, test and MPI sets, build, run every test
+#   make annotations  editor type annotations of the Lua API (build/annotations/psiflight.lua)
 #   make install  install into PREFIX (default /usr/local; DESTDIR for staging); make uninstall
 #   make bench    speed report (ratios against raw FFTW, timed in the same run)
 #   make asan     run the test suite under AddressSanitizer and UBSan (gcc, then clang)
@@ -86,7 +87,7 @@ MODULE := $(BUILD)/psiflight.so
 CORE_LIB := $(BUILD)/libpsiflight-core.a
 IO_LIB   := $(BUILD)/libpsiflight-io.a
 
-.PHONY: all deps deps-test deps-mpi install uninstall build test demo bench asan clean unit-tests lua-tests ref-tests fuzz fuzz-build fuzz-harnesses
+.PHONY: all deps deps-test deps-mpi install uninstall annotations build test demo bench asan clean unit-tests lua-tests ref-tests fuzz fuzz-build fuzz-harnesses
 .DEFAULT_GOAL := all
 
 all: $(RUNNER) $(MODULE)
@@ -175,8 +176,24 @@ LUA_CMOD   ?= $(if $(filter /usr,$(PREFIX)),$(shell $(PKG_CONFIG) --variable=INS
 INSTALL_ENV = PREFIX='$(PREFIX)' DESTDIR='$(DESTDIR)' BINDIR='$(BINDIR)' LIBDIR='$(LIBDIR)' INCLUDEDIR='$(INCLUDEDIR)' \
   PCDIR='$(PCDIR)' DATADIR='$(DATADIR)' MANDIR='$(MANDIR)' DOCDIR='$(DOCDIR)' LUA_CMOD='$(LUA_CMOD)'
 
+# Editor completion (docs/editors.md): LuaLS annotations generated from the
+# built module (what exists, which option keys) and the signatures table
+# (parameter and return types, help).  The runner runs the generator, so no
+# LUA_CPATH is needed and sanitizer builds work too.  Not part of `all`: a
+# function added without a signature fails tests/runner/test_annotations.sh,
+# not the build; make install writes what it can and warns.
+ANNOTATIONS := $(BUILD)/annotations/psiflight.lua
+ANNOTATE = PSIFLIGHT_SIGNATURES=scripts/lua-api-signatures.lua PSIFLIGHT_ANNOTATIONS=$(ANNOTATIONS) \
+  $(RUNNER) run scripts/gen-annotations.lua --trusted --quiet
+
+annotations: $(RUNNER)
+	@mkdir -p $(dir $(ANNOTATIONS))
+	@$(ANNOTATE)
+
 install: all
-	@$(INSTALL_ENV) RUNNER='$(RUNNER)' MODULE='$(MODULE)' CORE_LIB='$(CORE_LIB)' PC_REQUIRES='$(FFTW_PC)' \
+	@mkdir -p $(dir $(ANNOTATIONS))
+	@PSIFLIGHT_LENIENT=1 $(ANNOTATE)
+	@$(INSTALL_ENV) ANNOTATIONS='$(ANNOTATIONS)' RUNNER='$(RUNNER)' MODULE='$(MODULE)' CORE_LIB='$(CORE_LIB)' PC_REQUIRES='$(FFTW_PC)' \
 	  PC_LIBS='$(FFTW_OMP_LIBS) -lm -fopenmp' bash scripts/install-files.sh install
 
 uninstall:

@@ -3,7 +3,8 @@
 #
 # The Makefile passes the built files and the folders in the environment
 # (PREFIX, DESTDIR, BINDIR, LIBDIR, INCLUDEDIR, PCDIR, DATADIR, MANDIR,
-# DOCDIR, LUA_CMOD, RUNNER, MODULE, CORE_LIB, PC_REQUIRES, PC_LIBS).
+# DOCDIR, LUA_CMOD, RUNNER, MODULE, CORE_LIB, PC_REQUIRES, PC_LIBS, and
+# ANNOTATIONS: the generated editor annotations, installed when present).
 # Every installed file is listed, by its path without DESTDIR, in
 # DATADIR/psiflight/install-manifest.txt; uninstall removes exactly the files
 # listed there (and the manifest), then the folders psiflight owns if they
@@ -81,6 +82,11 @@ man=$(mktemp)
 "$RUNNER" --help-man >"$man"
 put 644 "$man" "$MANDIR/man1/psiflight.1"
 rm -f "$man"
+
+# Editor annotations of the Lua API (docs/editors.md), when generated.
+if [ -n "${ANNOTATIONS:-}" ] && [ -f "$ANNOTATIONS" ]; then
+  put 644 "$ANNOTATIONS" "$DATADIR/psiflight/annotations/psiflight.lua"
+fi
 
 for r in "$root"/engine/recipes/*.lua; do
   put 644 "$r" "$DATADIR/psiflight/recipes/$(basename "$r")"

@@ -152,6 +152,50 @@ static double plane_flux(const pf_wave *w, const plane_eval *p, double *line_sum
     return total * p->factor;
 }
 
+/* integral |psi|^2 dA = (transverse spans) * sum over transverse modes of |f|^2
+ * (Parseval across the plane), summed line by line in order like plane_flux. */
+static double plane_density(const pf_wave *w, const plane_eval *p, double *line_sum)
+{
+    const double complex *S = w->store;
+    const size_t lines = p->outer * p->inner;
+    ptrdiff_t nl = (ptrdiff_t)lines;
+#pragma omp parallel for num_threads(w->grid->ctx->threads) schedule(static)
+    for (ptrdiff_t l = 0; l < nl; l++) {
+        size_t o = (size_t)l / p->inner, i = (size_t)l % p->inner;
+        const double complex *base = S + o * p->na * p->inner + i;
+        double complex f = 0;
+        for (size_t m = 0; m < p->na; m++) f += base[m * p->inner] * p->e[m];
+        line_sum[l] = p->line_weight[l] * (creal(f) * creal(f) + cimag(f) * cimag(f));
+    }
+    double total = 0;
+    for (size_t l = 0; l < lines; l++) total += line_sum[l];
+    return total * p->factor * w->mass / PF_HBAR; /* factor holds hbar/m times the spans */
+}
+
+pf_status pf_wave_plane_figures(pf_wave *w, int axis, double at, double *flux, double *density)
+{
+    pf_grid *g = w->grid;
+    pf_status s = check_plane(g, axis, at);
+    if (s) return s;
+    s = pf_wave_to(w, PF_MOMENTUM);
+    if (s) return s;
+    plane_eval p;
+    s = plane_init(w, axis, at, &p);
+    if (s) return s;
+    double *lines = pf_alloc(g->ctx, p.outer * p.inner * sizeof(double));
+    if (!lines) {
+        pf_context_free(g->ctx, p.e);
+        pf_context_free(g->ctx, p.line_weight);
+        return pf_context_status(g->ctx);
+    }
+    *flux = plane_flux(w, &p, lines);
+    *density = plane_density(w, &p, lines);
+    pf_context_free(g->ctx, lines);
+    pf_context_free(g->ctx, p.e);
+    pf_context_free(g->ctx, p.line_weight);
+    return PF_OK;
+}
+
 pf_status pf_wave_flux(pf_wave *w, int axis, double at, double *flux)
 {
     pf_grid *g = w->grid;

@@ -24,6 +24,12 @@ pf_status pf_wave_current(pf_wave *w, int axis, double *out);
  * J = (hbar/m) integral Im(conj(psi) d psi/dx_axis) dA.  Positive along +axis.
  * Leaves the wave in momentum representation. */
 pf_status pf_wave_flux(pf_wave *w, int axis, double at, double *flux);
+/* The flux as pf_wave_flux and, from the same plane evaluation, the
+ * probability per unit length across the plane, integral |psi|^2 dA (1/m;
+ * |psi(at)|^2 in 1D).  A moving frame (pf_frame.c) needs both: its lab flux
+ * is the grid flux plus the frame velocity times this density.  Leaves the
+ * wave in momentum representation. */
+pf_status pf_wave_plane_figures(pf_wave *w, int axis, double at, double *flux, double *density);
 /* Probability in at <= x_axis < far cell edge (band-limited integral, exact
  * through the autocorrelation of the amplitudes along the axis, made with
  * zero-padded FFTs: cost O(N log N), whatever representation the wave is in;

@@ -5,6 +5,7 @@
 #include <string.h>
 #include "pf_constants.h"
 #include "pf_flight.h"
+#include "pf_flux.h"
 #include "pf_frame.h"
 #include "pf_internal.h"
 #include "pf_observe.h"
@@ -193,4 +194,36 @@ pf_status pf_wave_lab_kinetic_energy(pf_wave *w, double *energy)
     }
     *energy += PF_HBAR * PF_HBAR * cross / w->mass;
     return PF_OK;
+}
+
+pf_status pf_wave_lab_arrival(pf_wave *w, const double *accel, int axis, double at, double start, double dt,
+                              size_t count, double *flux)
+{
+    pf_grid *g = w->grid;
+    if (axis < 0 || axis >= g->dim)
+        return pf_fail(g->ctx, PF_EINVAL, "plane axis must be 1..%d, got %d", g->dim, axis + 1);
+    if (!isfinite(at)) return pf_fail(g->ctx, PF_EINVAL, "plane position must be finite (m), got %g", at);
+    if (!isfinite(start) || !isfinite(dt) || !(dt > 0))
+        return pf_fail(g->ctx, PF_EINVAL, "arrival window needs a finite start and a positive step, got %g and %g", start,
+                       dt);
+    if (count < 1) return pf_fail(g->ctx, PF_EINVAL, "arrival window needs at least one time");
+    pf_wave *c;
+    pf_status s = pf_wave_copy(w, &c);
+    if (s) return s;
+    if (start != 0) s = pf_wave_fly_in_frame(c, start, accel);
+    const double lo = g->x[axis][0] - 0.5 * g->dx[axis], hi = lo + g->span[axis];
+    for (size_t k = 0; !s && k < count; k++) {
+        if (k) s = pf_wave_fly_in_frame(c, dt, accel);
+        if (s) break;
+        double xi = at - c->frame.position[axis];
+        if (xi < lo || xi > hi) {
+            flux[k] = 0.0;
+            continue;
+        }
+        double jg, rho;
+        s = pf_wave_plane_figures(c, axis, xi, &jg, &rho);
+        if (!s) flux[k] = jg + PF_HBAR * c->frame.wavenumber[axis] / c->mass * rho;
+    }
+    pf_wave_free(c);
+    return s;
 }

@@ -71,6 +71,16 @@ pf_status pf_wave_lab_set_value(pf_wave *w, pf_rep rep, const size_t *idx, doubl
  * and theta gains q.X (q in rad/m).  Unmoved frame: exactly pf_wave_kick. */
 pf_status pf_wave_lab_kick(pf_wave *w, const double *q);
 
+/* Flux (1/s, positive along +axis) through the lab plane x_axis = at at
+ * the times t_k = clock + start + k dt, k < count, into flux[k], while a copy
+ * of w flies under accel (m/s^2 per axis, NULL: none) in its frame; w is not
+ * changed.  J_lab = J_grid(at - X) + V rho(at - X) (V = hbar K / m, rho the
+ * probability per unit length across the plane, pf_wave_plane_figures).
+ * While the plane lies outside the co-moving grid cell the flux is 0: the
+ * cloud is negligible there (the grid guards watch that). */
+pf_status pf_wave_lab_arrival(pf_wave *w, const double *accel, int axis, double at, double start, double dt,
+                              size_t count, double *flux);
+
 /* Lab moments: position mean (+ X), wave-number mean (+ K); variances are
  * those of the grid state (a shift does not change them).  Either output
  * may be NULL. */

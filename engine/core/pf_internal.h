@@ -153,6 +153,15 @@ struct pf_wave {
         double duration;
         double origin[PF_MAX_DIM];
     } scaled_from;
+    /* The Castin-Dum frame the last expand ended in (pf_expand.c), so a
+     * further expand can map back to the slowly varying chi exactly instead
+     * of transforming a chirp the lab grid undersamples.  Valid while
+     * log.count == expanded.log_count (0: none). */
+    struct {
+        size_t log_count;
+        double lam[PF_MAX_DIM], rate[PF_MAX_DIM], omega2[PF_MAX_DIM];
+        double energy;
+    } expanded;
     /* The co-moving frame relating the stored state to the lab (pf_frame.h);
      * all zero: the grid state is the lab state. */
     pf_frame frame;

@@ -7,6 +7,7 @@
 #include <string.h>
 #include <hdf5.h>
 #include <hdf5_hl.h>
+#include "../core/pf_frame.h"
 #include "../core/pf_species.h"
 #include "../core/pf_version.h"
 #include "pf_h5.h"
@@ -303,15 +304,21 @@ static int write_axis(pf_h5 *f, hid_t g, const char *name, const double *v, size
 }
 
 /* Axis tables of the grid: positions as stored, wave numbers ascending. */
-static int write_axes(pf_h5 *f, hid_t g, const pf_grid *grid, pf_rep rep)
+/* Axes in lab coordinates: the grid's plus the offsets of w's moving frame
+ * (pf_frame.h; zero for a wave that never moved), so a density written from
+ * a co-moving grid lands where it is in the lab. */
+static int write_axes(pf_h5 *f, hid_t g, const pf_grid *grid, pf_rep rep, const pf_wave *w)
 {
     int d = pf_grid_dim(grid);
+    pf_frame fr;
+    pf_wave_frame(w, &fr);
     for (int a = 0; a < d; a++) {
         size_t n = pf_grid_points(grid, a);
         double *v = malloc(n * sizeof *v);
         if (!v) return -1;
         for (size_t j = 0; j < n; j++)
-            v[j] = rep == PF_POSITION ? pf_grid_x(grid, a, j) : pf_grid_k(grid, a, pf_grid_fft_index(grid, a, j));
+            v[j] = rep == PF_POSITION ? pf_grid_x(grid, a, j) + fr.position[a]
+                                      : pf_grid_k(grid, a, pf_grid_fft_index(grid, a, j)) + fr.wavenumber[a];
         int bad = write_axis(f, g, rep == PF_POSITION ? POS_AXES[a] : MOM_AXES[a], v, n, rep == PF_POSITION ? "m" : "m^-1");
         if (!bad) {
             static const char *const pos_names[] = {"position x", "position y", "position z"};
@@ -551,12 +558,12 @@ pf_status pf_h5_put_wave(pf_h5 *f, const char *name, pf_wave *w, int parts)
     if (!bad && (parts & PF_H5_PSI)) {
         bad = pf_wave_to(w, PF_POSITION) != PF_OK ||
               write_amplitude(f, g, "psi", pf_wave_data_const(w), d, dims, total, PF_POSITION) ||
-              write_axes(f, g, grid, PF_POSITION) || attach_amplitude(g, "psi", d, PF_POSITION);
+              write_axes(f, g, grid, PF_POSITION, w) || attach_amplitude(g, "psi", d, PF_POSITION);
     }
     if (!bad && (parts & PF_H5_PHI)) {
         double complex *phi = phi_ascending(w);
         bad = !phi || write_amplitude(f, g, "phi", phi, d, dims, total, PF_MOMENTUM) ||
-              write_axes(f, g, grid, PF_MOMENTUM) || attach_amplitude(g, "phi", d, PF_MOMENTUM);
+              write_axes(f, g, grid, PF_MOMENTUM, w) || attach_amplitude(g, "phi", d, PF_MOMENTUM);
         free(phi);
     }
     if (g >= 0) H5Gclose(g);
@@ -594,7 +601,7 @@ pf_status pf_h5_put_density(pf_h5 *f, const char *name, pf_wave *w, pf_rep rep)
               attr_string(g, "representation", rep == PF_POSITION ? "position" : "momentum") ||
               write_dataset(f, g, "density", H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, d, dims, rho,
                             rep == PF_POSITION ? pos[d - 1] : mom[d - 1]) ||
-              describe(g, "density", pairs) || write_axes(f, g, grid, rep) || attach_axes(g, "density", d, rep);
+              describe(g, "density", pairs) || write_axes(f, g, grid, rep, w) || attach_axes(g, "density", d, rep);
     free(rho);
     if (g >= 0) H5Gclose(g);
     return bad ? pf_fail(f->ctx, PF_EIO, "cannot write density '%s' to '%s'", name, f->sf.final_path) : PF_OK;

@@ -5,6 +5,7 @@
 #include <string.h>
 #include "../core/pf_constants.h"
 #include "../core/pf_flux.h"
+#include "../core/pf_frame.h"
 #include "../core/pf_wigner.h"
 #include "pfl_measure.h"
 #include "pfl_options.h"
@@ -12,7 +13,7 @@
 static const pfl_options_decl FLUX_OPTIONS = {"state:flux", (const char *const[]){"axis", "at", NULL}};
 static const pfl_options_decl BEYOND_OPTIONS = {"state:beyond", (const char *const[]){"axis", "at", NULL}};
 static const pfl_options_decl ARRIVAL_OPTIONS = {
-    "state:arrival_times", (const char *const[]){"axis", "at", "from", "to", "steps", NULL}};
+    "state:arrival_times", (const char *const[]){"axis", "at", "from", "to", "steps", "acceleration", NULL}};
 static const pfl_options_decl WIGNER_OPTIONS = {"state:wigner", (const char *const[]){"axis", "through", "reduced", NULL}};
 
 /* Reads {axis = a, at = x} into a 0-based axis and a plane position. */
@@ -79,10 +80,31 @@ static int l_flux(lua_State *L) { return plane_figure(L, pf_wave_flux, "flux", &
 /* s:beyond{axis=, at=} -> probability between the plane and the far edge. */
 static int l_beyond(lua_State *L) { return plane_figure(L, pf_wave_beyond, "beyond", &BEYOND_OPTIONS); }
 
+/* integral of f(t) t^power over the window t = t0 + k dt: Simpson's rule
+ * for an even number of intervals (error ~ dt^4), else the trapezoid rule
+ * (error ~ dt^2). */
+static double window_integral(const double *f, size_t n, double dt, double t0, int power)
+{
+    double sum = 0;
+#define TERM(k) (f[k] * (power == 0 ? 1.0 : power == 1 ? t0 + (double)(k) * dt : (t0 + (double)(k) * dt) * (t0 + (double)(k) * dt)))
+    if ((n - 1) % 2 == 0) {
+        sum = TERM(0) + TERM(n - 1);
+        for (size_t k = 1; k + 1 < n; k++) sum += (k % 2 ? 4.0 : 2.0) * TERM(k);
+        return sum * dt / 3.0;
+    }
+    for (size_t k = 0; k + 1 < n; k++) sum += 0.5 * (TERM(k) + TERM(k + 1)) * dt;
+#undef TERM
+    return sum;
+}
+
 /* s:arrival_times{axis=, at=, from = t0, to = t1, steps = n}
  * -> {time = {..} (s, after the state's clock), time_ms, flux = {..} (1/s),
  *     arrived = integral of the flux over the window (Simpson for an odd
- *     number of times, else trapezoid), unit} */
+ *     number of times, else trapezoid), mean and spread of the arrival time
+ *     (s, the flux as its density; absent when nothing arrived), unit}.
+ * acceleration = {..} (or the pf.setup default): the plane is a lab plane
+ * and the state falls in its frame meanwhile (pf_frame.h); so also for a
+ * wave already in a moving frame. */
 static int l_arrival_times(lua_State *L)
 {
     pfl_source src;
@@ -96,10 +118,19 @@ static int l_arrival_times(lua_State *L)
     if (steps < 2 || steps > 1e7 || steps != floor(steps)) return luaL_error(L, "arrival_times: 'steps' must be a count >= 2");
     size_t n = (size_t)steps;
     double dt = (t1 - t0) / (double)(n - 1);
+    /* Under an acceleration (the option or the pf.setup default), or for a
+     * wave already in a moving frame, the plane is a lab plane and the
+     * cloud falls in its frame (pf_frame.h). */
+    double accel[PF_MAX_DIM];
+    int accelerated = pfl_frame_acceleration(L, 2, pf_grid_dim(pfl_source_grid(&src)), accel, "arrival_times");
     double *acc = lua_newuserdatauv(L, 2 * n * sizeof(double), 0), *one = acc + n;
     memset(acc, 0, n * sizeof(double));
     for (size_t i = 0; i < src.mix.count; i++) {
-        pfl_check(L, pf_wave_arrival(src.mix.members[i], axis, at, t0, dt, n, one), "arrival_times");
+        pf_wave *m = src.mix.members[i];
+        if (accelerated || pf_wave_frame_moved(m))
+            pfl_check(L, pf_wave_lab_arrival(m, accelerated ? accel : NULL, axis, at, t0, dt, n, one), "arrival_times");
+        else
+            pfl_check(L, pf_wave_arrival(m, axis, at, t0, dt, n, one), "arrival_times");
         for (size_t k = 0; k < n; k++) acc[k] += src.mix.weights[i] * one[k];
     }
     lua_createtable(L, 0, 6);
@@ -113,16 +144,19 @@ static int l_arrival_times(lua_State *L)
     lua_setfield(L, -2, "flux");
     /* Simpson's rule for an even number of intervals (error ~ dt^4), else
      * the trapezoid rule (error ~ dt^2). */
-    double arrived = 0;
-    if ((n - 1) % 2 == 0) {
-        arrived = acc[0] + acc[n - 1];
-        for (size_t k = 1; k + 1 < n; k++) arrived += (k % 2 ? 4.0 : 2.0) * acc[k];
-        arrived *= dt / 3.0;
-    } else {
-        for (size_t k = 0; k + 1 < n; k++) arrived += 0.5 * (acc[k] + acc[k + 1]) * dt;
-    }
+    double arrived = window_integral(acc, n, dt, t0, 0);
     lua_pushnumber(L, arrived);
     lua_setfield(L, -2, "arrived");
+    /* Mean and spread of the arrival time over the window, the flux taken as
+     * the arrival-time density (the same rule as 'arrived'). */
+    if (arrived != 0) {
+        double mean = window_integral(acc, n, dt, t0, 1) / arrived;
+        double second = window_integral(acc, n, dt, t0, 2) / arrived;
+        lua_pushnumber(L, mean);
+        lua_setfield(L, -2, "mean");
+        lua_pushnumber(L, sqrt(fmax(second - mean * mean, 0.0)));
+        lua_setfield(L, -2, "spread");
+    }
     lua_pushliteral(L, "1/s");
     lua_setfield(L, -2, "unit");
     return 1;

@@ -19,16 +19,20 @@
 
 /* Functions that report or act on lab quantities for a wave with a moved
  * frame, by their script names ("wave:NAME" for methods, "pf.NAME" for
- * module functions).  Every function that reads a wave through
+ * module functions, "h5file:NAME" for file methods).  Every function that reads a wave through
  * pfl_check_wave and is not listed here refuses a moved wave.
  * Keep the list sorted; tests/lua/test_frame.lua checks that every entry
  * names an existing function and that an unlisted one refuses. */
 static const char *const FRAME_AWARE[] = {
+    "h5file:put_density",
+    "pf.picture_map",
+    "wave:arrival_times",
     "wave:clock",
     "wave:close",
     "wave:copy",
     "wave:density",
     "wave:density_at",
+    "wave:expand",
     "wave:fly",
     "wave:frame",
     "wave:grid",

@@ -34,6 +34,7 @@ static const pfl_opener openers[] = {
     pfl_open_ops,
     pfl_open_evolve,
     pfl_open_lab,
+    pfl_open_expand,
     pfl_open_levels,
     pfl_open_frame,
     pfl_open_interp,

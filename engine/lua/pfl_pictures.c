@@ -5,6 +5,7 @@
 #include <stdlib.h>
 #include <string.h>
 #include "../core/pf_flight.h"
+#include "../core/pf_frame.h"
 #include "../io/pf_picture.h"
 #include "../io/pf_progress.h"
 #include "pfl.h"
@@ -52,12 +53,17 @@ static pf_rep opt_rep(lua_State *L, int opts)
 }
 
 /* Axis coordinates in reading order (momentum: ascending k). */
-static double *axis_table(lua_State *L, const pf_grid *g, int a, pf_rep rep)
+/* Lab coordinates of axis a: the grid's plus w's frame offsets (pf_frame.h). */
+static double *axis_table(lua_State *L, const pf_wave *w, int a, pf_rep rep)
 {
+    const pf_grid *g = pf_wave_grid(w);
+    pf_frame fr;
+    pf_wave_frame(w, &fr);
     size_t n = pf_grid_points(g, a);
     double *v = pfl_scratch_doubles(L, n);
     for (size_t j = 0; j < n; j++)
-        v[j] = rep == PF_POSITION ? pf_grid_x(g, a, j) : pf_grid_k(g, a, pf_grid_fft_index(g, a, j));
+        v[j] = rep == PF_POSITION ? pf_grid_x(g, a, j) + fr.position[a]
+                                  : pf_grid_k(g, a, pf_grid_fft_index(g, a, j)) + fr.wavenumber[a];
     return v;
 }
 
@@ -107,7 +113,7 @@ static int l_picture_map(lua_State *L)
         .xa = {rep == PF_POSITION ? "x" : "k#dx#u", q},
         .ya = {rep == PF_POSITION ? "y" : "k#dy#u", q},
         .nx = nx, .ny = ny,
-        .x = axis_table(L, g, 0, rep), .y = axis_table(L, g, 1, rep),
+        .x = axis_table(L, w, 0, rep), .y = axis_table(L, w, 1, rep),
         .values = rho,
         .value_name = d == 3 ? "column density" : (rep == PF_POSITION ? "|#gq|#u2#d" : "|#gf|#u2#d"),
         .per_x = 1, .per_y = 1,
@@ -222,7 +228,7 @@ static int l_picture_carpet(lua_State *L)
     if (frames < 2 || frames > 20000) return luaL_error(L, "picture_carpet: field 'frames' must be 2..20000, got %d", frames);
     int per_frame = pfl_field_boolean(L, 3, "per_frame", 0);
     size_t nx = pf_grid_points(g, 0);
-    const double *xs = axis_table(L, g, 0, PF_POSITION);
+    const double *xs = axis_table(L, w, 0, PF_POSITION);
     size_t i0 = 0, i1 = nx; /* columns shown: i0 .. i1-1 */
     double range[2];
     if (pfl_field_vector(L, 3, "x_range", 2, range, 0)) {

@@ -1,26 +1,24 @@
--- mach_zehnder.lua - three-pulse light-pulse interferometer (pi/2 - pi - pi/2) with momentum kicks and free flights
+-- mach_zehnder.lua - three-pulse light-pulse interferometer (pi/2 - pi - pi/2) on two internal levels, lab frame
 --
--- A cloud is split, reflected and recombined by three light pulses separated
--- by free flights of duration T; each pulse couples the momentum classes p
--- and p + hbar k_eff (two-photon transitions, k_eff = 2 x 2 pi / lambda for
+-- A cloud is split, reflected and recombined by three two-photon Raman pulses
+-- (Rabi pulses of durations tau, 2 tau, tau) separated by free flights of
+-- duration T; each pulse moves atoms between the levels `lower` and `upper`
+-- and changes their momentum by hbar k_eff (k_eff = 2 x 2 pi / lambda for
 -- counter-propagating beams).  The last pulse's laser phase is scanned; the
--- fraction in the upper output port follows P = (1 - cos phi) / 2 with
--- phi = phi1 - 2 phi2 + phi3 + k_eff a T^2 (M. Kasevich and S. Chu, Phys.
--- Rev. Lett. 67, 181 (1991)).
+-- fraction in the upper level follows P = (1 - C cos phi) / 2 with
+-- phi = phi1 - 2 phi2 + phi3 + k_eff a T^2 for short pulses (M. Kasevich and
+-- S. Chu, Phys. Rev. Lett. 67, 181 (1991)) and (k_eff a - alpha)(T + 2 tau)
+-- (T + 4 tau / pi) for finite ones with the laser frequency chirped at the
+-- rate alpha (P. Cheinet et al., IEEE Trans. Instrum. Meas. 57, 1141 (2008)).
 --
--- Scalar approximation (documented in docs/recipes/mach_zehnder.md): the
--- internal state is not tracked - it is tagged by the momentum class, as for
--- Bragg pulses.  The two classes (p and p + hbar k_eff) are held as two wave
--- functions on one grid, `lower` and `upper`, whose sum is the scalar state;
--- they never overlap in momentum (the grid keeps them 10 momentum widths
--- from each other's edges).  Each pulse is instantaneous and ideal (area
--- pi/2 or pi times `area_scale`, no velocity selectivity, no light shift, no
--- spontaneous emission) and is made of native engine steps: exact momentum
--- kicks of +-k_eff (w:kick; k_eff is a multiple of the grid's k spacing)
--- and the wave arithmetic (w:copy, w:scale, w:add); the flights are w:fly.
--- The acceleration a enters through the laser phase seen in the freely
--- falling frame, phi_i + k_eff a t_i^2 / 2.  Outputs are model predictions;
--- a real sensor needs the full model and calibration.
+-- Built on pf.levels (docs/internal-states.md): the pulses are the exact
+-- two-level propagators in momentum space (Doppler and recoil detuning,
+-- velocity selectivity), the acceleration acts during the flights (exact
+-- uniform-force propagator) and during the pulses (sliced), so the gravity
+-- phase comes out of the flight itself, in the lab frame.  Model: rotating-
+-- wave approximation, no spontaneous emission, adiabatic elimination of the
+-- excited state, no light shift.  Outputs are model predictions; a real
+-- sensor needs the full model and calibration.
 local pf = require "psiflight"
 local common = require "psiflight.recipes.common"
 
@@ -35,90 +33,100 @@ recipe.parameters = {
   area_scale = {default = 1.0, help = "pulse areas relative to pi/2 and pi (1: ideal)", min = 0},
   phase_steps = {default = 12, help = "laser phases of the last pulse scanned over 2 pi", min = 1, max = 10000},
   max_points = {default = 8192, help = "largest grid size", min = 64, max = 1048576},
+  pulse_time = {default = 1, unit = "us", help = "duration tau of the pi/2 pulses (the pi pulse lasts 2 tau)", min = 1e-6},
+  chirp = {default = 0, help = "chirp rate alpha of the two-photon detuning (rad/s^2)"},
+  slices = {default = 16, help = "time slices per pulse for the acceleration and the chirp", min = 1, max = 10000},
 }
 
--- Applies one pulse of area theta and laser phase phi to the pair of
--- classes (lower may stand alone before the first pulse: upper = nil):
--- lower' = cos(theta/2) lower + i sin(theta/2) e^{-i phi} upper(k + k_eff)
--- upper' = cos(theta/2) upper + i sin(theta/2) e^{+i phi} lower(k - k_eff)
--- Returns the new (lower, upper).
-local function pulse(lower, upper, keff, theta, phi)
-  local c, s = math.cos(theta / 2), math.sin(theta / 2)
-  local up = pf.polar(s, phi + math.pi / 2)    -- i s e^{i phi}
-  local down = pf.polar(s, -phi + math.pi / 2) -- i s e^{-i phi}
-  local raised = lower:copy():kick(keff)       -- lower(k - k_eff): lower moved up by k_eff
-  local lowered = upper and upper:copy():kick(-keff)
-  lower:scale(c)
-  if lowered then lower:add(lowered, down); lowered:close() end
-  if upper then
-    upper:scale(c):add(raised, up)
-    raised:close()
-  else
-    upper = raised:scale(up)
+-- Phase of the fringe P = (1 - C cos(phase + phi)) / 2 from a scan over
+-- equally spaced phases phi_j (least squares of 1, cos, sin; needs 3 or more).
+local function fringe_phase(scan)
+  if #scan < 3 then return nil end
+  local c, s = 0, 0
+  for _, pt in ipairs(scan) do
+    c = c + (1 - 2 * pt.upper) * math.cos(pt.phase)
+    s = s + (1 - 2 * pt.upper) * math.sin(pt.phase)
   end
-  return lower, upper
+  return math.atan(-s, c)
 end
 
 function recipe.run(p)
   common.check_params(recipe, p)
   local keff = 4 * math.pi / p.wavelength
-  -- Span: the arms separate by hbar k_eff T / m and stay between 0 and that
-  -- distance; the grid is centred on the middle and holds the separation plus
-  -- 10 sigma and the spreading on each side, plus the grid guards' outer bands
-  -- (1/32 of the span at each end), so no arm reaches them.
-  -- The span is a whole number of lattice periods (2 pi / k_eff), so k_eff is
-  -- an exact multiple of the grid's k spacing and a kick is an index shift.
+  local tau = p.pulse_time
+  local t_end = 2 * p.T + 4 * tau
+  -- Lab frame: the grid holds the fall a t^2 / 2, the arm separation
+  -- hbar k_eff T / m, 10 sigma and the spreading on each side, plus the grid
+  -- guards' outer bands (1/32 of the span at each end).  The span is a whole
+  -- number of lattice periods (2 pi / k_eff), so k_eff is an exact multiple
+  -- of the grid's k spacing.
   local vrec = common.hbar * keff / p.mass
-  local span = (vrec * p.T + 20 * p.sigma + 2 * common.hbar * 2 * p.T / (2 * p.mass * p.sigma)) * 32 / 30
+  local fall = p.accel * t_end * t_end / 2
+  local lo_x, hi_x = math.min(0, fall), math.max(0, fall) + vrec * (p.T + 2 * tau)
+  local spread = common.hbar * t_end / (2 * p.mass * p.sigma)
+  local span = (hi_x - lo_x + 20 * p.sigma + 2 * spread) * 32 / 30
   local cells = math.ceil(span * keff / (2 * math.pi))
   span = cells * 2 * math.pi / keff
-  -- Resolve k up to k_eff plus 10 momentum widths (1 / 2 sigma).
-  local kneed = keff + 10 / (2 * p.sigma)
-  local n = common.pow2(2 * kneed * span / (2 * math.pi))
+  -- Momenta from the start (0) to the end of the fall, plus k_eff, plus 10
+  -- momentum widths (1 / 2 sigma) on each side.
+  local kfall = p.mass * p.accel * t_end / common.hbar
+  local kneed = math.max(math.abs(math.min(0, kfall)), math.max(0, kfall) + keff) + 10 / (2 * p.sigma)
+  local n = common.pow2(2 * kneed * span / (2 * math.pi) * 32 / 30)
   if n > p.max_points then
     error(string.format("mach_zehnder: needs %d grid points; raise max_points or shorten T", n), 0)
   end
-  local grid = pf.grid{points = n, span = span, origin = vrec * p.T / 2}
+  local grid = pf.grid{points = n, span = span, origin = (lo_x + hi_x) / 2}
   local shift = math.floor(keff / grid:kspacing(1) + 0.5)
   local kick = shift * grid:kspacing(1) -- k_eff on the grid's k lattice
   local start = pf.gaussian(grid, {mass = p.mass, width = p.sigma})
-  local half, full = p.area_scale * math.pi / 2, p.area_scale * math.pi
-  local gphase = function(t) return keff * p.accel * t * t / 2 end
+  local lv = pf.levels{labels = {"lower", "upper"}, waves = {lower = start}}
+  start:close()
+  local rabi = p.area_scale * math.pi / (2 * tau)
+  local recoil = common.hbar * kick * kick / (2 * p.mass) -- resonance of the class at rest
+  local function pulse(levels, duration, phase)
+    levels:pulse{from = "lower", to = "upper", rabi = rabi, duration = duration, wavenumber = kick, detuning = recoil,
+                 chirp = p.chirp, phase = phase, acceleration = p.accel, slices = p.slices}
+  end
   local scan, ports = {}, nil
   -- The first two pulses and flights do not depend on the scanned phase.
-  local lower, upper = pulse(start, nil, kick, half, gphase(0))
-  lower:fly(p.T); upper:fly(p.T)
-  lower, upper = pulse(lower, upper, kick, full, gphase(p.T))
-  lower:fly(p.T); upper:fly(p.T)
+  pulse(lv, tau, 0)
+  lv:fly(p.T, {acceleration = p.accel})
+  pulse(lv, 2 * tau, 0)
+  lv:fly(p.T, {acceleration = p.accel})
   for j = 0, p.phase_steps - 1 do
     local phi3 = 2 * math.pi * j / p.phase_steps
-    local lo, hi = pulse(lower:copy(), upper:copy(), kick, half, phi3 + gphase(2 * p.T))
-    local pu, pl = hi:norm(), lo:norm()
-    scan[#scan + 1] = {phase = phi3, upper = pu / (pu + pl)}
-    if j == 0 then ports = {lower = lo, upper = hi} else lo:close(); hi:close() end
+    local last = pf.levels{labels = {"lower", "upper"},
+                           waves = {lower = lv:level("lower"), upper = lv:level("upper")}}
+    pulse(last, tau, phi3)
+    local pop = last:populations()
+    scan[#scan + 1] = {phase = phi3, upper = pop.upper / (pop.upper + pop.lower)}
+    if j == 0 then ports = {lower = last:level("lower"), upper = last:level("upper"), levels = last}
+    else last:close() end
   end
   local lo, hi = math.huge, -math.huge
   for _, s in ipairs(scan) do lo = math.min(lo, s.upper); hi = math.max(hi, s.upper) end
   local gravity_phase = keff * p.accel * p.T * p.T
-  return {
-    scan = scan, points = n, span = span, shift = shift, keff = keff, ports = ports,
-    results = {
-      k_eff = {keff, "1/m"},
-      gravity_phase = {gravity_phase, "rad"},
-      gravity_phase_mod_2pi = {gravity_phase % (2 * math.pi), "rad"},
-      arm_separation = {vrec * p.T, "m"},
-      fringe_contrast = {hi + lo > 0 and (hi - lo) / (hi + lo) or 0, ""}, -- no pulse area: no fringe
-      upper_fraction_phase0 = {scan[1].upper, ""},
-    },
+  local finite = (keff * p.accel - p.chirp) * (p.T + 2 * tau) * (p.T + 4 * tau / math.pi)
+  local results = {
+    k_eff = {keff, "1/m"},
+    gravity_phase = {gravity_phase, "rad"},
+    gravity_phase_mod_2pi = {gravity_phase % (2 * math.pi), "rad"},
+    finite_pulse_phase = {finite, "rad"},
+    arm_separation = {vrec * p.T, "m"},
+    fringe_contrast = {hi + lo > 0 and (hi - lo) / (hi + lo) or 0, ""}, -- no pulse area: no fringe
+    upper_fraction_phase0 = {scan[1].upper, ""},
   }
+  local measured = fringe_phase(scan)
+  if measured then results.fringe_phase = {measured, "rad"} end
+  return {scan = scan, points = n, span = span, shift = shift, keff = keff, ports = ports, results = results}
 end
 
 function recipe.main(p)
   local out = recipe.run(p)
   print(string.format("mach_zehnder: %d points over %.4g um (kick = %d k steps), T = %.4g ms",
     out.points, out.span * 1e6, out.shift, p.T * 1e3))
-  print("  phase3 (rad)   upper fraction   (1 - cos(phase3 + k_eff a T^2)) / 2")
-  local gp = out.results.gravity_phase[1]
+  print("  phase3 (rad)   upper fraction   (1 - cos(phase3 + phi)) / 2, phi = (k_eff a - alpha)(T + 2 tau)(T + 4 tau/pi)")
+  local gp = out.results.finite_pulse_phase[1]
   for _, s in ipairs(out.scan) do
     print(string.format("  %11.6f   %14.10f   %14.10f", s.phase, s.upper, (1 - math.cos(s.phase + gp)) / 2))
   end

@@ -1,7 +1,7 @@
 -- mach_zehnder_quarry.lua - the (invented) Quarry Hill gravimeter prototype:
 -- rubidium-87, counter-propagating 780.24 nm beams, T = 1 ms between pulses,
 -- laser phase of the last pulse scanned over 2 pi.  Outputs are model
--- predictions in the scalar approximation (docs/recipes/mach_zehnder.md);
+-- predictions of the two-level model (docs/recipes/mach_zehnder.md);
 -- laser settings on the apparatus follow the local laser safety rules.
 --   build/psiflight run examples/recipes/mach_zehnder_quarry.lua --set T=0.8ms
 local pf = require "psiflight"

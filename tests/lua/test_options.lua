@@ -86,6 +86,7 @@ local callers = {
   ["wave:aperture"] = function(o) w2:copy():aperture(o) end,
   ["wave:select_velocity"] = function(o) w1:copy():select_velocity(o) end,
   ["wave:evolve"] = function(o) w1:copy():evolve(1e-6, o) end,
+  ["wave:expand"] = function(o) w1:copy():expand(1e-6, o) end,
   ["wave:relax"] = function(o) w1:copy():relax(o) end,
   ["wave:energy"] = function(o) w1:energy(o) end,
   ["state:distribution"] = function(o) w1:distribution(o) end,

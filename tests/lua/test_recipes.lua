@@ -12,7 +12,7 @@ local u = 1.66053906660e-27
 
 -- Fills a recipe's defaults (in SI) the way pf.parameters would, then
 -- applies overrides (SI).  The unit factors are the SI prefixes.
-local factor = {u = u, Hz = 1, ms = 1e-3, um = 1e-6, nm = 1e-9, ["m/s"] = 1, m = 1, ["mm/s"] = 1e-3,
+local factor = {u = u, Hz = 1, ms = 1e-3, us = 1e-6, um = 1e-6, nm = 1e-9, ["m/s"] = 1, m = 1, ["mm/s"] = 1e-3,
   ["m/s2"] = 1}
 local function params(recipe, over)
   local p = {}
@@ -94,11 +94,18 @@ do
   check.close(worst, 0, 1e-12, "talbot comb vs direct image sum", "Poisson summation of a Gaussian train (textbook)")
 end
 
--- mach_zehnder: upper-port fraction (1 - cos(phi3 + k_eff a T^2)) / 2,
--- Kasevich and Chu, PRL 67, 181 (1991), for ideal pulses.
+-- mach_zehnder (two levels, lab frame, gravity through the flight):
+-- with short pulses the upper-level fraction is (1 - cos(phi3 + k_eff a T^2)) / 2,
+-- Kasevich and Chu, PRL 67, 181 (1991); with finite Rabi pulses tau, 2 tau,
+-- tau the phase is (k_eff a - alpha)(T + 2 tau)(T + 4 tau / pi) (P. Cheinet
+-- et al., IEEE Trans. Instrum. Meas. 57, 1141 (2008), quoted from memory).
 do
   local mz = require "psiflight.recipes.mach_zehnder"
-  local p = params(mz, {T = 0.2e-3, phase_steps = 6})
+  local function wrap(x) return (x + math.pi) % (2 * math.pi) - math.pi end
+  -- Short pulses (0.1 ns: Omega = 1.6e10 rad/s against a Doppler drift k_eff a T
+  -- of 3e4 rad/s; finite-pulse phase about 3.3 k_eff a T tau = 1e-5 rad): the ideal
+  -- fringe, within 1e-5.
+  local p = params(mz, {T = 0.2e-3, phase_steps = 6, pulse_time = 1e-10})
   local out = mz.run(p)
   local keff = 4 * math.pi / p.wavelength
   local gp = keff * p.accel * p.T ^ 2
@@ -107,20 +114,38 @@ do
   for _, s in ipairs(out.scan) do
     worst = math.max(worst, math.abs(s.upper - (1 - math.cos(s.phase + gp)) / 2))
   end
-  check.close(worst, 0, 1e-12, "mach_zehnder fringe vs (1 - cos phi)/2", "Kasevich-Chu 1991 interferometer phase")
+  check.close(worst, 0, 1e-5, "mach_zehnder short-pulse fringe vs (1 - cos phi)/2", "Kasevich-Chu 1991 interferometer phase")
   check.near(out.results.arm_separation[1], hbar * keff / p.mass * p.T, 1e-12, "mach_zehnder arm separation", "recoil velocity hbar k_eff / m (textbook)")
-  -- The upper port moves at the recoil velocity relative to the lower one
-  -- (two-photon recoil hbar k_eff / m, textbook).
+  -- The upper level moves at the two-photon recoil velocity relative to the
+  -- lower one (hbar k_eff / m, textbook); velocity selection reweights the
+  -- classes only slightly with such short pulses.
   local dv = out.ports.upper:velocity_mean() - out.ports.lower:velocity_mean()
-  check.near(dv, hbar * keff / p.mass, 1e-9, "mach_zehnder port velocity difference", "two-photon recoil hbar k_eff / m (textbook)")
-  check.truthy(steps(out.ports.upper):find("kick/position-phase", 1, true) ~= nil, "mach_zehnder pulses log native kicks")
-  -- Imperfect pulses (areas 0.8 x pi/2, pi, pi/2): the upper port from the
-  -- sum over the eight paths of two-level Rabi rotations (stay: cos(theta/2);
-  -- up: i sin(theta/2) e^{i phi}; down: i sin(theta/2) e^{-i phi}) and the
-  -- free-flight phases hbar (k + n k_eff)^2 T / 2m of each path, integrated
-  -- over the initial Gaussian momentum density (width 1 / 2 sigma):
-  -- int |phi0|^2 e^{i a k} dk = exp(-a^2 sigma_k^2 / 2) (textbook).
-  local wp = params(mz, {T = 0.2e-3, phase_steps = 6, area_scale = 0.8})
+  check.near(dv, hbar * keff / p.mass, 1e-6, "mach_zehnder port velocity difference", "two-photon recoil hbar k_eff / m (textbook)")
+  check.truthy(steps(out.ports.upper):find("pulse/rotation-exact", 1, true) ~= nil, "mach_zehnder pulses are level pulses")
+  -- Finite pulses: at the default 1 us the finite-pulse term adds 0.24 rad
+  -- to k_eff a T^2 and the measured phase follows it (residual: the Doppler
+  -- drift k_eff a T = 7e4 rad/s against Omega = 1.6e6 rad/s); at 10 us with
+  -- the laser chirped to follow the fall (alpha = k_eff a, as a gravimeter
+  -- at its null) the phase vanishes.
+  for _, case in ipairs{{1e-6, 0, 2e-3}, {10e-6, 1.0, 5e-4}} do
+    local q = params(mz, {T = 0.5e-3, phase_steps = 8, pulse_time = case[1]})
+    q.chirp = case[2] * keff * q.accel
+    local r = mz.run(q)
+    local want = (keff * q.accel - q.chirp) * (q.T + 2 * case[1]) * (q.T + 4 * case[1] / math.pi)
+    check.close(wrap(r.results.fringe_phase[1] - want), 0, case[3],
+                string.format("mach_zehnder phase, tau %g s, chirp %.1f k_eff a", case[1], case[2]),
+                "Cheinet et al., IEEE TIM 57, 1141 (2008), from memory")
+    check.near(r.results.finite_pulse_phase[1], want, 1e-14, "mach_zehnder reports the finite-pulse phase", "same expression")
+  end
+  -- Imperfect pulses (areas 0.8 x pi/2, pi, pi/2), short: the upper level from
+  -- the sum over the eight paths of two-level Rabi rotations (stay:
+  -- cos(theta/2); up: -i sin(theta/2) e^{i phi}; down: -i sin(theta/2)
+  -- e^{-i phi}) and the free-flight phases hbar (k + n k_eff)^2 T / 2m of each
+  -- path, integrated over the initial Gaussian momentum density (width
+  -- 1 / 2 sigma): int |phi0|^2 e^{i a k} dk = exp(-a^2 sigma_k^2 / 2)
+  -- (textbook); gravity as the laser phase k_eff a t_i^2 / 2 seen in the
+  -- falling frame (the equivalence principle; common practice).
+  local wp = params(mz, {T = 0.2e-3, phase_steps = 6, area_scale = 0.8, pulse_time = 1e-10})
   local weak = mz.run(wp)
   check.truthy(weak.results.fringe_contrast[1] < 0.99, "mach_zehnder imperfect pulses lose contrast")
   local function cmul(x, y) return {x[1] * y[1] - x[2] * y[2], x[1] * y[2] + x[2] * y[1]} end
@@ -128,14 +153,17 @@ do
     local c, s = math.cos(theta / 2), math.sin(theta / 2)
     if from == to then return {c, 0} end
     local ph = to > from and phi or -phi
-    return {-s * math.sin(ph), s * math.cos(ph)} -- i s e^{i ph}
+    return {s * math.sin(ph), -s * math.cos(ph)} -- -i s e^{i ph}
   end
   local sk = 1 / (2 * wp.sigma)
   local grav = function(t) return keff * wp.accel * t * t / 2 end
   local worst_weak = 0
   for _, sc in ipairs(weak.scan) do
     local thetas = {0.8 * math.pi / 2, 0.8 * math.pi, 0.8 * math.pi / 2}
-    local phis = {grav(0), grav(wp.T), sc.phase + grav(2 * wp.T)}
+    -- the pulses are tuned to the recoil w_r = hbar k_eff^2 / 2m: their phase
+    -- at time t carries -w_r t (docs/internal-states.md)
+    local wr = hbar * keff * keff / (2 * wp.mass)
+    local phis = {grav(0), grav(wp.T) - wr * wp.T, sc.phase + grav(2 * wp.T) - wr * 2 * wp.T}
     local paths = {}
     for n1 = 0, 1 do for n2 = 0, 1 do
       local amp = cmul(cmul(step(thetas[1], phis[1], 0, n1), step(thetas[2], phis[2], n1, n2)), step(thetas[3], phis[3], n2, 1))
@@ -151,11 +179,7 @@ do
     end end
     worst_weak = math.max(worst_weak, math.abs(sc.upper - pu))
   end
-  -- Allowance: the box is centred on the arms with 10 sigma and the guard
-  -- bands beyond them on each side, so an arm's periodic image overlaps the
-  -- other arm by ~exp(-(10 sigma)^2 / 2 sigma^2), far below rounding
-  -- (measured 3e-16).
-  check.close(worst_weak, 0, 1e-13, "mach_zehnder area 0.8 fringe vs path sum", "Rabi pulse matrices + free Gaussian flight (textbook)")
+  check.close(worst_weak, 0, 1e-5, "mach_zehnder area 0.8 fringe vs path sum", "Rabi pulse matrices + free Gaussian flight (textbook)")
 end
 
 -- aperture_flight: the momentum density just after a slit of M grid points

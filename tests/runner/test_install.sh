@@ -24,7 +24,7 @@ make -C "$root" --no-print-directory BUILD="$build" PREFIX="$prefix" install >"$
 manifest="$prefix/share/psiflight/install-manifest.txt"
 [ -f "$manifest" ] || fail "no install manifest"
 for f in bin/psiflight lib/lua/5.4/psiflight.so lib/libpsiflight-core.a lib/pkgconfig/psiflight.pc \
-         include/psiflight/pf_wave.h share/man/man1/psiflight.1 share/psiflight/recipes/tof_image.lua \
+         include/psiflight/pf_wave.h share/man/man1/psiflight.1 share/psiflight/recipes/tof_image.lua share/psiflight/annotations/psiflight.lua \
          share/doc/psiflight/docs/install.md share/doc/psiflight/examples/release_tof.lua; do
   [ -f "$prefix/$f" ] || fail "not installed: $f"
   grep -qxF "$prefix/$f" "$manifest" || fail "installed but not in the manifest: $f"
@@ -39,7 +39,9 @@ echo "ok make install puts runner, Lua module, core library, headers, psiflight.
 mkdir -p "$tmp/a" "$tmp/b"
 (cd "$tmp/a" && "$prefix/bin/psiflight" run "$prefix/share/doc/psiflight/examples/release_tof.lua" --out out --quiet \
    >stdout 2>stderr) || { cat "$tmp/a/stderr"; fail "installed runner on the installed example"; }
-(cd "$tmp/b" && "$build/psiflight" run "$root/examples/release_tof.lua" --out out --quiet >stdout 2>stderr) ||
+# The same script path for both (HDF5 files record the script's path).
+cmp -s "$prefix/share/doc/psiflight/examples/release_tof.lua" "$root/examples/release_tof.lua" || fail "installed example differs"
+(cd "$tmp/b" && "$build/psiflight" run "$prefix/share/doc/psiflight/examples/release_tof.lua" --out out --quiet >stdout 2>stderr) ||
   fail "build runner on the example"
 cmp -s "$tmp/a/stdout" "$tmp/b/stdout" || { diff "$tmp/a/stdout" "$tmp/b/stdout" | head; fail "stdout differs"; }
 for f in release_tof.h5 widths.csv widths.png; do

@@ -1,0 +1,542 @@
+/* pf_expand.c - Gross-Pitaevskii expansion in the Castin-Dum scaled frame
+ * with a free handover (see pf_expand.h for the equations). */
+#include <math.h>
+#include <stdlib.h>
+#include <stdio.h>
+#include <string.h>
+#include "pf_constants.h"
+#include "pf_expand.h"
+#include "pf_frame.h"
+#include "pf_guard.h"
+#include "pf_internal.h"
+#include "pf_kernels.h"
+#include "pf_observe.h"
+
+#define MAX_STEPS 100000000.0
+/* Density below this fraction of the peak does not count as occupied when
+ * sizing a step (as in pf_splitstep.c). */
+#define OCCUPIED_FRACTION 1e-12
+
+const char *pf_expand_scaling_name(pf_expand_scaling s)
+{
+    switch (s) {
+    case PF_SCALING_BALLISTIC: return "ballistic";
+    case PF_SCALING_FIXED: return "fixed";
+    default: return "castin-dum";
+    }
+}
+
+/* ---- the scaling factors ---- */
+
+/* lambda_j, lambda_j' and the kinetic integral I_j = int dt / lambda_j^2. */
+typedef struct frame {
+    int dim;
+    pf_expand_scaling law;
+    int free;                  /* after the handover: lambda'' = 0 */
+    double omega2[PF_MAX_DIM];
+    double lam[PF_MAX_DIM], rate[PF_MAX_DIM], kin[PF_MAX_DIM];
+} frame;
+
+static void frame_accel(const frame *f, const double *lam, double *acc)
+{
+    double big = 1;
+    for (int a = 0; a < f->dim; a++) big *= lam[a];
+    for (int a = 0; a < f->dim; a++) {
+        if (f->free || f->law == PF_SCALING_FIXED) acc[a] = 0;
+        else if (f->law == PF_SCALING_BALLISTIC) acc[a] = f->omega2[a] / (lam[a] * lam[a] * lam[a]);
+        else acc[a] = f->omega2[a] / (lam[a] * big);
+    }
+}
+
+/* Classical Runge-Kutta over dt (either sign) in sub-steps short against the
+ * frame's own time scales; the kinetic integral rides along. */
+static void frame_advance_capped(frame *f, double dt, double max_subs);
+
+static void frame_advance(frame *f, double dt) { frame_advance_capped(f, dt, 1e6); }
+
+/* Whether the rest of the flight may use the linear frame of the handover:
+ * the scaling law would end within PF_EXPAND_LINEAR_GAP of lambda + lambda' rest
+ * on every axis, so chi stays on its grid (a g = 0 cloud released at rest
+ * has lambda' = 0 and must first gather speed in its frame). */
+static int frame_nearly_linear(const frame *f, double rest)
+{
+    frame law = *f;
+    law.free = 0;
+    frame_advance_capped(&law, rest, 4000);
+    for (int a = 0; a < f->dim; a++) {
+        double lin = f->lam[a] + f->rate[a] * rest;
+        if (!(fabs(lin / law.lam[a] - 1) <= PF_EXPAND_LINEAR_GAP)) return 0;
+    }
+    return 1;
+}
+
+static void frame_advance_capped(frame *f, double dt, double max_subs)
+{
+    if (dt == 0) return;
+    const int d = f->dim;
+    double acc[PF_MAX_DIM], rate_scale = 0;
+    frame_accel(f, f->lam, acc);
+    for (int a = 0; a < d; a++)
+        rate_scale = fmax(rate_scale, fabs(f->rate[a]) / f->lam[a] + sqrt(fabs(acc[a]) / f->lam[a]) +
+                                          sqrt(f->omega2[a]) / (f->lam[a] * f->lam[a]));
+    double subs = ceil(fabs(dt) * rate_scale / 0.01);
+    if (subs < 4) subs = 4;
+    if (subs > max_subs) subs = max_subs;
+    const double h = dt / subs;
+    for (long s = 0; s < (long)subs; s++) {
+        double l0[PF_MAX_DIM], v0[PF_MAX_DIM], kl[4][PF_MAX_DIM], kv[4][PF_MAX_DIM], ki[4][PF_MAX_DIM];
+        double lt[PF_MAX_DIM], vt[PF_MAX_DIM];
+        memcpy(l0, f->lam, sizeof l0);
+        memcpy(v0, f->rate, sizeof v0);
+        for (int st = 0; st < 4; st++) {
+            double c = st == 0 ? 0 : st == 3 ? 1.0 : 0.5;
+            for (int a = 0; a < d; a++) {
+                lt[a] = st == 0 ? l0[a] : l0[a] + c * h * kl[st - 1][a];
+                vt[a] = st == 0 ? v0[a] : v0[a] + c * h * kv[st - 1][a];
+            }
+            frame_accel(f, lt, acc);
+            for (int a = 0; a < d; a++) {
+                kl[st][a] = vt[a];
+                kv[st][a] = acc[a];
+                ki[st][a] = 1.0 / (lt[a] * lt[a]);
+            }
+        }
+        for (int a = 0; a < d; a++) {
+            f->lam[a] = l0[a] + h / 6 * (kl[0][a] + 2 * kl[1][a] + 2 * kl[2][a] + kl[3][a]);
+            f->rate[a] = v0[a] + h / 6 * (kv[0][a] + 2 * kv[1][a] + 2 * kv[2][a] + kv[3][a]);
+            f->kin[a] += h / 6 * (ki[0][a] + 2 * ki[1][a] + 2 * ki[2][a] + ki[3][a]);
+        }
+    }
+}
+
+/* Inverse time scale on which lambda and lambda'' change (1/s). */
+static double frame_rate(const frame *f)
+{
+    double acc[PF_MAX_DIM], r = 0;
+    frame_accel(f, f->lam, acc);
+    for (int a = 0; a < f->dim; a++)
+        r = fmax(r, fabs(f->rate[a]) / f->lam[a] + sqrt(fabs(acc[a]) / f->lam[a]));
+    return r;
+}
+
+static double frame_volume(const frame *f)
+{
+    double v = 1;
+    for (int a = 0; a < f->dim; a++) v *= f->lam[a];
+    return v;
+}
+
+/* ---- passes over the chi samples ---- */
+
+typedef struct expand_ws {
+    pf_wave *w;
+    pf_grid *g;
+    double g_mf;                     /* mean-field coefficient (J m^d) */
+    double *quad[PF_MAX_DIM];        /* per-axis (xi - o)^2 (m^2) */
+    double complex *tab[PF_MAX_DIM]; /* per-axis kinetic or chirp factors */
+} expand_ws;
+
+/* Per-axis potential tables q_j (xi_j - o_j)^2 with q_j = m lambda_j lambda_j'' / 2
+ * summed per point with (g / Lambda) |chi|^2; the loop walks the grid as rows
+ * of the last axis so the per-point work is one cexp. */
+static void potential_pass(expand_ws *ws, const frame *f, double coef)
+{
+    pf_grid *g = ws->g;
+    const int d = g->dim;
+    double acc[PF_MAX_DIM], q[PF_MAX_DIM] = {0, 0, 0};
+    frame_accel(f, f->lam, acc);
+    for (int a = 0; a < d; a++) q[a] = 0.5 * ws->w->mass * f->lam[a] * acc[a];
+    const double fac = coef / PF_HBAR, gl = ws->g_mf / frame_volume(f);
+    const size_t nlast = g->n[d - 1], rows = g->total / nlast;
+    double complex *z = ws->w->store;
+    double *const *quad = ws->quad;
+#pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
+    for (ptrdiff_t r = 0; r < (ptrdiff_t)rows; r++) {
+        double base = 0;
+        size_t rest = (size_t)r;
+        for (int a = d - 2; a >= 0; a--) {
+            size_t i = rest % g->n[a];
+            rest /= g->n[a];
+            base += q[a] * quad[a][i];
+        }
+        double complex *row = z + (size_t)r * nlast;
+        const double *ql = quad[d - 1];
+        for (size_t i = 0; i < nlast; i++) {
+            double complex c = row[i];
+            double u = base + q[d - 1] * ql[i] + gl * (creal(c) * creal(c) + cimag(c) * cimag(c));
+            row[i] = c * cexp(-I * (u * fac));
+        }
+    }
+}
+
+/* Spread (max - min) of the chi-frame potential over the occupied points. */
+static double potential_spread(expand_ws *ws, const frame *f)
+{
+    pf_grid *g = ws->g;
+    const int d = g->dim;
+    double acc[PF_MAX_DIM], q[PF_MAX_DIM] = {0, 0, 0};
+    frame_accel(f, f->lam, acc);
+    for (int a = 0; a < d; a++) q[a] = 0.5 * ws->w->mass * f->lam[a] * acc[a];
+    const double gl = ws->g_mf / frame_volume(f);
+    const double complex *z = ws->w->store;
+    double peak = 0;
+    for (size_t i = 0; i < g->total; i++) peak = fmax(peak, creal(z[i]) * creal(z[i]) + cimag(z[i]) * cimag(z[i]));
+    const double cut = OCCUPIED_FRACTION * peak;
+    double lo = INFINITY, hi = -INFINITY;
+    size_t idx[PF_MAX_DIM] = {0, 0, 0};
+    for (size_t i = 0; i < g->total; i++, pf_index_next(g, idx)) {
+        double rho = creal(z[i]) * creal(z[i]) + cimag(z[i]) * cimag(z[i]);
+        if (rho < cut) continue;
+        double u = gl * rho;
+        for (int a = 0; a < d; a++) u += q[a] * ws->quad[a][idx[a]];
+        lo = fmin(lo, u);
+        hi = fmax(hi, u);
+    }
+    return hi > lo ? hi - lo : 0;
+}
+
+static void quartic_block(void *user, size_t begin, size_t end, const size_t *idx, double *acc)
+{
+    (void)idx;
+    const double complex *z = user;
+    double s = 0, s2 = 0;
+    for (size_t i = begin; i < end; i++) {
+        double rho = creal(z[i]) * creal(z[i]) + cimag(z[i]) * cimag(z[i]);
+        s += rho;
+        s2 += rho * rho;
+    }
+    acc[0] = s;
+    acc[1] = s2;
+}
+
+/* Interaction energy (g / 2) int |psi|^2 dx of the normalised lab state:
+ * (g / 2 Lambda) sum rho^2 dv / (sum rho dv)^2 in chi samples (deterministic
+ * fixed-block sums). */
+static double interaction_energy(expand_ws *ws, const frame *f)
+{
+    double sums[2];
+    pf_reduce_blocks(ws->g, 2, quartic_block, ws->w->store, sums);
+    double dv = pf_grid_cell_volume(ws->g);
+    if (!(sums[0] > 0)) return 0;
+    return 0.5 * ws->g_mf * sums[1] / (sums[0] * sums[0] * dv) / frame_volume(f);
+}
+
+/* Exact kinetic factor exp(-i hbar k_j^2 dI_j / 2 m) per axis, over one FFT pair. */
+static pf_status kinetic_step(expand_ws *ws, const double *dkin)
+{
+    pf_grid *g = ws->g;
+    for (int a = 0; a < g->dim; a++) {
+        double c = 0.5 * PF_HBAR * dkin[a] / ws->w->mass;
+        for (size_t j = 0; j < g->n[a]; j++) {
+            double k = g->k[a][j];
+            ws->tab[a][j] = cexp(-I * (c * k * k));
+        }
+    }
+    pf_status s = pf_grid_fft(g, ws->w->store, -1);
+    if (s) return s;
+    pf_kernel_axis_multiply(g, ws->w->store, (const double complex *const *)ws->tab, 1.0 / (double)g->total);
+    return pf_grid_fft(g, ws->w->store, +1);
+}
+
+/* psi (lab grid) <-> chi: multiplies by Lambda^(-+1/2) exp(+-i m lambda' lambda (xi - o)^2 / 2 hbar). */
+static void chirp_map(expand_ws *ws, const frame *f, int to_lab)
+{
+    pf_grid *g = ws->g;
+    const double sgn = to_lab ? 1.0 : -1.0;
+    for (int a = 0; a < g->dim; a++) {
+        double c = sgn * ws->w->mass * f->rate[a] * f->lam[a] / (2 * PF_HBAR);
+        for (size_t j = 0; j < g->n[a]; j++) ws->tab[a][j] = cexp(I * (c * ws->quad[a][j]));
+    }
+    double vol = frame_volume(f);
+    double scale = to_lab ? 1.0 / sqrt(vol) : sqrt(vol);
+    pf_kernel_axis_multiply(g, ws->w->store, (const double complex *const *)ws->tab, scale);
+}
+
+/* Puts the wave on a new grid with the same points and origin and the
+ * spacings of g times factor[a]. */
+static pf_status regrid(pf_wave *w, const double *factor)
+{
+    pf_grid *gin = w->grid;
+    double span[PF_MAX_DIM];
+    for (int a = 0; a < gin->dim; a++) {
+        span[a] = gin->span[a] * factor[a];
+        if (!(span[a] <= PF_GRID_MAX_EXTENT))
+            return pf_fail(gin->ctx, PF_EINVAL,
+                           "expand: the cloud's grid would span %g m on axis %d, beyond the largest grid span of %g m; "
+                           "expand for a shorter time", span[a], a + 1, PF_GRID_MAX_EXTENT);
+    }
+    pf_grid *gout;
+    pf_status s = pf_grid_new(gin->ctx, gin->dim, gin->n, span, gin->origin, &gout);
+    if (s) return s;
+    w->grid = gout;
+    pf_grid_release(gin);
+    pf_guard_rebind(w);
+    return PF_OK;
+}
+
+static void ws_free(expand_ws *ws)
+{
+    for (int a = 0; a < PF_MAX_DIM; a++) {
+        pf_context_free(ws->g->ctx, ws->quad[a]);
+        pf_context_free(ws->g->ctx, ws->tab[a]);
+    }
+}
+
+static pf_status ws_make(expand_ws *ws)
+{
+    pf_grid *g = ws->g;
+    for (int a = 0; a < g->dim; a++) {
+        ws->quad[a] = pf_alloc(g->ctx, g->n[a] * sizeof(double));
+        ws->tab[a] = pf_alloc(g->ctx, g->n[a] * sizeof(double complex));
+        if (!ws->quad[a] || !ws->tab[a]) return pf_context_status(g->ctx);
+        for (size_t j = 0; j < g->n[a]; j++) {
+            double u = g->x[a][j] - g->origin[a];
+            ws->quad[a][j] = u * u;
+        }
+    }
+    return PF_OK;
+}
+
+/* ---- set-up ---- */
+
+static pf_status check_spec(pf_context *ctx, int d, double t, const pf_expand_spec *sp)
+{
+    if (!isfinite(t) || t < 0)
+        return pf_fail(ctx, PF_EINVAL, "expand time must be finite and not negative (s), got %g", t);
+    if (sp->order != 2 && sp->order != 4)
+        return pf_fail(ctx, PF_EINVAL, "order must be 2 (Strang) or 4 (Yoshida), got %d", sp->order);
+    if (!isfinite(sp->g)) return pf_fail(ctx, PF_EINVAL, "g must be finite (J m^%d), got %g", d, sp->g);
+    if (sp->scaling != PF_SCALING_CASTIN_DUM && sp->scaling != PF_SCALING_BALLISTIC && sp->scaling != PF_SCALING_FIXED)
+        return pf_fail(ctx, PF_EINVAL, "unknown scaling law %d", (int)sp->scaling);
+    if (!(sp->handover >= 0 && sp->handover < 1))
+        return pf_fail(ctx, PF_EINVAL, "handover must be a fraction in [0, 1) of the cloud's energy, got %g", sp->handover);
+    if ((double)sp->steps > MAX_STEPS)
+        return pf_fail(ctx, PF_EINVAL, "steps must be at most %.0f, got %zu", MAX_STEPS, sp->steps);
+    for (int a = 0; a < d; a++)
+        if (!isfinite(sp->acceleration[a]))
+            return pf_fail(ctx, PF_EINVAL, "acceleration on axis %d must be finite (m/s^2), got %g", a + 1,
+                           sp->acceleration[a]);
+    for (int a = 0; a < d; a++)
+        if (!isfinite(sp->omega[a]) || sp->omega[a] < 0)
+            return pf_fail(ctx, PF_EINVAL, "omega on axis %d must be finite and not negative (rad/s), got %g", a + 1,
+                           sp->omega[a]);
+    return PF_OK;
+}
+
+/* omega_j^2 from the virial relation (pf_expand.h) for a state at rest in
+ * its own frame (chi = psi). */
+static pf_status omega_from_state(pf_wave *w, double e_int, double *omega2)
+{
+    pf_grid *g = w->grid;
+    double varx[PF_MAX_DIM], vark[PF_MAX_DIM];
+    pf_status s = pf_wave_position_moments(w, NULL, varx);
+    if (!s) s = pf_wave_wavenumber_moments(w, NULL, vark);
+    if (!s) s = pf_wave_to(w, PF_POSITION);
+    if (s) return s;
+    for (int a = 0; a < g->dim; a++) {
+        double p2 = PF_HBAR * PF_HBAR * vark[a];
+        omega2[a] = (p2 / w->mass + e_int) / (w->mass * varx[a]);
+        if (!(omega2[a] > 0) || !isfinite(omega2[a]))
+            return pf_fail(g->ctx, PF_EINVAL,
+                           "expand: the state gives no positive release frequency on axis %d (virial estimate %g "
+                           "rad^2/s^2); give 'omega' or 'frequency'", a + 1, omega2[a]);
+    }
+    return PF_OK;
+}
+
+/* ---- the evolution ---- */
+
+/* Applies the pending potential coefficient at the frame's time. */
+static void flush(expand_ws *ws, const frame *f, double *pending)
+{
+    if (*pending != 0) potential_pass(ws, f, *pending);
+    *pending = 0;
+}
+
+/* One symmetric step of size h (Strang, or Yoshida's three), leaving half a
+ * potential step pending to merge with the next step's first half. */
+static pf_status split_step(expand_ws *ws, frame *f, double h, int order, double *pending)
+{
+    double c[3];
+    int stages = 1;
+    c[0] = 1.0;
+    if (order == 4) {
+        double cbrt2 = cbrt(2.0);
+        c[0] = c[2] = 1.0 / (2.0 - cbrt2);
+        c[1] = -cbrt2 / (2.0 - cbrt2);
+        stages = 3;
+    }
+    for (int j = 0; j < stages; j++) {
+        double hj = c[j] * h;
+        *pending += 0.5 * hj;
+        flush(ws, f, pending);
+        double before[PF_MAX_DIM], dkin[PF_MAX_DIM];
+        memcpy(before, f->kin, sizeof before);
+        frame_advance(f, hj);
+        for (int a = 0; a < f->dim; a++) dkin[a] = f->kin[a] - before[a];
+        pf_status s = kinetic_step(ws, dkin);
+        if (s) return s;
+        *pending = 0.5 * hj;
+    }
+    return PF_OK;
+}
+
+pf_status pf_wave_expand(pf_wave *w, double t, const pf_expand_spec *spec, pf_expand_info *info)
+{
+    pf_context *ctx = w->grid->ctx;
+    const int d = w->grid->dim;
+    pf_status s = check_spec(ctx, d, t, spec);
+    if (s) return s;
+    pf_expand_info local;
+    if (!info) info = &local;
+    memset(info, 0, sizeof *info);
+    info->handover_time = NAN;
+    double norm = pf_wave_last_logged_norm(w);
+    if (!(norm > 0)) return pf_fail(ctx, PF_EINVAL, "expand: the state is zero");
+
+    frame f;
+    memset(&f, 0, sizeof f);
+    f.dim = d;
+    f.law = spec->scaling;
+    for (int a = 0; a < d; a++) {
+        f.lam[a] = 1;
+        f.omega2[a] = spec->omega[a] * spec->omega[a];
+    }
+    int given = 0;
+    for (int a = 0; a < d; a++) given |= spec->omega[a] > 0;
+    if (given)
+        for (int a = 0; a < d; a++)
+            if (!(spec->omega[a] > 0))
+                return pf_fail(ctx, PF_EINVAL, "omega on axis %d must be positive (rad/s) when any axis is given, got %g",
+                               a + 1, spec->omega[a]);
+
+    /* Continue the frame of the previous expand when nothing happened since. */
+    int cont = w->expanded.log_count && w->expanded.log_count == w->log.count;
+    double energy = 0;
+    if ((s = pf_wave_to(w, PF_POSITION))) return s;
+    expand_ws ws;
+    memset(&ws, 0, sizeof ws);
+    ws.w = w;
+    ws.g_mf = spec->g;
+    if (cont) {
+        frame prev = f;
+        memcpy(prev.lam, w->expanded.lam, sizeof prev.lam);
+        memcpy(prev.rate, w->expanded.rate, sizeof prev.rate);
+        energy = w->expanded.energy;
+        if (!given) memcpy(f.omega2, w->expanded.omega2, sizeof f.omega2);
+        /* Back to chi: the spacings first (the chirp is written in xi). */
+        double shrink[PF_MAX_DIM];
+        for (int a = 0; a < d; a++) shrink[a] = 1.0 / prev.lam[a];
+        if ((s = regrid(w, shrink))) return s;
+        memcpy(f.lam, prev.lam, sizeof f.lam);
+        memcpy(f.rate, prev.rate, sizeof f.rate);
+        info->continued = 1;
+    }
+    ws.g = w->grid;
+    if ((s = ws_make(&ws))) {
+        ws_free(&ws);
+        return s;
+    }
+    if (cont) chirp_map(&ws, &f, 0);
+    double e_int = interaction_energy(&ws, &f);
+    if (!cont) {
+        double kin;
+        if ((s = pf_wave_kinetic_energy(w, &kin)) || (s = pf_wave_to(w, PF_POSITION))) {
+            ws_free(&ws);
+            return s;
+        }
+        energy = kin + e_int;
+        if (!given && spec->scaling != PF_SCALING_FIXED && (s = omega_from_state(w, e_int, f.omega2))) {
+            ws_free(&ws);
+            return s;
+        }
+    }
+    info->energy = energy;
+    for (int a = 0; a < d; a++) info->omega[a] = sqrt(f.omega2[a]);
+    const double scale_e = fabs(energy) > 0 ? fabs(energy) : 1.0;
+
+    /* Interacting part, then (maybe) the free handover. */
+    const double t0 = w->clock;
+    double done = 0, pending = 0, h_prev = 0;
+    size_t steps = 0;
+    int handed = 0;
+    while (done < t && !s) {
+        if ((s = pf_context_poll_stop(ctx))) break;
+        double frac = fabs(interaction_energy(&ws, &f)) / scale_e;
+        info->interaction_fraction = frac;
+        if (spec->handover > 0 && frac < spec->handover && frame_nearly_linear(&f, t - done)) {
+            handed = 1;
+            break;
+        }
+        double left = t - done, h;
+        if (spec->steps) {
+            h = t / (double)spec->steps;
+            if (h > left || steps + 1 == spec->steps) h = left;
+        } else {
+            double spread = potential_spread(&ws, &f);
+            h = spread > 0 ? PF_EXPAND_PHASE * PF_HBAR / spread : left;
+            /* The frame's coefficients must change little within a step. */
+            double rate = frame_rate(&f);
+            if (rate > 0) h = fmin(h, PF_EXPAND_FRAME_STEP / rate);
+            if (h_prev > 0 && h > 2 * h_prev) h = 2 * h_prev;
+            if (h >= left * 0.8) h = left; /* no sliver of a last step */
+        }
+        if (steps >= (size_t)MAX_STEPS) {
+            s = pf_fail(ctx, PF_EINVAL, "expand: more than %.0f steps; give 'steps' or a shorter time", MAX_STEPS);
+            break;
+        }
+        s = split_step(&ws, &f, h, spec->order, &pending);
+        done += h;
+        h_prev = h;
+        steps++;
+    }
+    if (!s) flush(&ws, &f, &pending);
+    if (!s && handed) {
+        /* Exact free step in the same frame: lambda grows linearly, so
+         * int dt / lambda^2 over s is s / (lambda (lambda + lambda' s)). */
+        double rest = t - done, dkin[PF_MAX_DIM];
+        info->handover_time = t0 + done;
+        for (int a = 0; a < d; a++) {
+            double l1 = f.lam[a] + f.rate[a] * rest;
+            dkin[a] = rest / (f.lam[a] * l1);
+            f.kin[a] += dkin[a];
+            f.lam[a] = l1;
+        }
+        f.free = 1;
+        s = kinetic_step(&ws, dkin);
+    } else if (!s) {
+        info->interaction_fraction = fabs(interaction_energy(&ws, &f)) / scale_e;
+    }
+    if (!s) chirp_map(&ws, &f, 1);
+    ws_free(&ws);
+    if (!s) s = regrid(w, f.lam);
+    if (s) {
+        pf_guard_forget(w);
+        return s;
+    }
+    info->steps = steps;
+    info->handed_over = handed;
+    for (int a = 0; a < d; a++) {
+        info->lambda[a] = f.lam[a];
+        info->rate[a] = f.rate[a];
+    }
+    w->clock = t0 + t;
+    /* The frame carries the acceleration and any drift (Avron-Herbst). */
+    int accelerated = 0;
+    for (int a = 0; a < d; a++) accelerated |= spec->acceleration[a] != 0;
+    if (accelerated || pf_wave_frame_moved(w)) {
+        pf_frame fr;
+        pf_wave_frame(w, &fr);
+        pf_frame_advance(&fr, d, w->mass, t, accelerated ? spec->acceleration : NULL);
+        if ((s = pf_wave_set_frame(w, &fr))) return s;
+    }
+    char method[40];
+    snprintf(method, sizeof method, "%s%s", pf_expand_scaling_name(spec->scaling), handed ? "+free" : "");
+    pf_wave_log_step(w, "expand", method, t, 0.0, norm);
+    w->expanded.log_count = w->log.count;
+    memcpy(w->expanded.lam, f.lam, sizeof f.lam);
+    memcpy(w->expanded.rate, f.rate, sizeof f.rate);
+    memcpy(w->expanded.omega2, f.omega2, sizeof f.omega2);
+    w->expanded.energy = energy;
+    return PF_OK;
+}
