@@ -2,12 +2,13 @@
 #include <math.h>
 #include "pf_cis.h"
 
-/* pi/2 in three parts of 33, 33 and 53 bits (digits of pi split exactly):
- * for |n| < 2^20, n * PIO2_1 and n * PIO2_2 are exact, so the reduced
- * argument carries no cancellation error beyond the third part's rounding. */
-#define PIO2_1 0x1.921fb54400000p+0
-#define PIO2_2 0x1.0b4611a600000p-34
-#define PIO2_3 0x1.3198a2e037073p-69
+/* pi/2 in three parts of at most 26, 26 and 53 bits (digits of pi split
+ * exactly): for |n| < 2^27, n * PIO2_1 and n * PIO2_2 are exact, so the
+ * reduced argument carries no cancellation error beyond the third part's
+ * rounding. */
+#define PIO2_1 0x1.921fb58000000p+0
+#define PIO2_2 (-0x1.dde9740000000p-27)
+#define PIO2_3 0x1.1a62633145c07p-54
 #define TWO_OVER_PI 0x1.45f306dc9c883p-1
 /* Adding and subtracting 1.5 * 2^52 rounds a double below 2^51 in
  * magnitude to the nearest integer, in plain arithmetic that vectorises. */
@@ -38,15 +39,19 @@
  * operations in the same order on each (no fused multiply-add: contraction
  * is off), so every path gives the same bits. */
 #if defined(__clang__)
+/* clang builds (sanitizers, fuzzing) take the baseline path only: clang
+ * 14 leaves exported target_clones functions unresolved at link time. */
 #pragma STDC FP_CONTRACT OFF
 #define NO_CONTRACT
-#define SIMD_MAX /* clang builds (sanitizers, fuzzing) take the plain loop */
+#define CLONES
+#define SIMD_MAX
 #else
 #define NO_CONTRACT __attribute__((optimize("fp-contract=off")))
+#define CLONES __attribute__((target_clones("avx512f", "avx2", "default")))
 #define SIMD_MAX _Pragma("omp simd reduction(max : largest)")
 #endif
 
-__attribute__((target_clones("avx512f", "avx2", "default"))) NO_CONTRACT static void cos_sin(const double *restrict phase, double *restrict c, double *restrict s, size_t n)
+CLONES NO_CONTRACT static void cos_sin(const double *restrict phase, double *restrict c, double *restrict s, size_t n)
 {
     double largest = 0;
     SIMD_MAX
@@ -77,6 +82,7 @@ __attribute__((target_clones("avx512f", "avx2", "default"))) NO_CONTRACT static 
             }
 }
 
+CLONES NO_CONTRACT
 void pf_cis_minus(const double *phase, double complex *out, size_t n)
 {
     double c[BLOCK], s[BLOCK];
@@ -91,6 +97,7 @@ void pf_cis_minus(const double *phase, double complex *out, size_t n)
     }
 }
 
+CLONES NO_CONTRACT
 void pf_cis_multiply(double complex *d, const double *phase, size_t n)
 {
     double c[BLOCK], s[BLOCK];

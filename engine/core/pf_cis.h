@@ -5,7 +5,7 @@
  * libm's cexp costs one call per point and does not vectorise; here the
  * phases are reduced to [-pi/4, pi/4] by the nearest multiple of pi/2 (pi/2
  * split in three parts, so the reduced argument is exact to rounding for
- * |phi| up to PF_CIS_FAST_LIMIT) and sine and cosine come from their Taylor
+ * |phi| up to PF_CIS_FAST_LIMIT, which long-flight chirps reach) and sine and cosine come from their Taylor
  * polynomials, in a loop the compiler vectorises.  One plain C path: the
  * bits do not depend on the processor's vector width.  Larger phases go
  * through libm.  Accuracy: within a few units in the last place of libm. */
@@ -16,7 +16,7 @@
 #include <stddef.h>
 
 /* Phases above this magnitude (rad) are handed to libm. */
-#define PF_CIS_FAST_LIMIT 1.0e6
+#define PF_CIS_FAST_LIMIT 1.0e8
 
 /* out[i] = exp(-i phase[i]) for i < n (phases finite). */
 void pf_cis_minus(const double *phase, double complex *out, size_t n);
