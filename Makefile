@@ -58,7 +58,8 @@ MPI_LIBS  := $(shell $(PKG_CONFIG) --libs $(MPI_PC) 2>/dev/null)
 MPI_CFLAGS := $(if $(MPI_LIBS),-DPFR_HAVE_MPI $(shell $(PKG_CONFIG) --cflags $(MPI_PC) 2>/dev/null))
 # Output layer (engine/io): HDF5 serial, PLplot, cJSON.  Only engine/io sees
 # their headers; the core library stays free of them.
-IO_PC     ?= hdf5-serial plplot libcjson
+PLPLOT_PC ?= plplot
+IO_PC     ?= hdf5-serial $(PLPLOT_PC) libcjson
 IO_CFLAGS := $(shell $(PKG_CONFIG) --cflags $(IO_PC) 2>/dev/null)
 # The HDF5 high-level library (dimension scales) has no pkg-config module of
 # its own in Debian; it sits beside libhdf5.
@@ -110,7 +111,7 @@ deps-mpi:
 BUILD_ENV := $(BUILD)/.build-env-ok
 $(BUILD_ENV): scripts/check-build-env.sh
 	@bash scripts/check-build-env.sh $(LUA_PC)=liblua5.4-dev $(FFTW_PC)=libfftw3-dev hdf5-serial=libhdf5-dev \
-	  plplot=libplplot17 $(CJSON_PC)=libcjson-dev
+	  $(PLPLOT_PC)=libplplot17 $(CJSON_PC)=libcjson-dev
 	@mkdir -p $(dir $@) && touch $@
 
 $(BUILD)/engine/core/%.o: engine/core/%.c $(wildcard engine/core/*.h) | $(BUILD_ENV)

@@ -32,13 +32,15 @@ RUNTIME=(
 # numpy/scipy/h5py from Debian (reference computations and file readers);
 # h5dump; strace (the hostile-file tests check that HDF5 never opens outside
 # files); clang with libFuzzer, its sanitizer runtimes and libomp for the
-# fuzz smoke pass of the suite, `make fuzz` and the clang half of `make asan`.
+# fuzz smoke pass of the suite, `make fuzz` and the clang half of `make asan`;
+# groff renders the man page in tests/runner/test_install.sh.
 TEST=(
   libcmocka-dev
   libgsl-dev libcerf-dev
   python3 python3-numpy python3-scipy python3-h5py
   hdf5-tools
   strace
+  groff-base
   netcdf-bin udunits-bin  # ncdump and udunits2 read the HDF5 files (tests/ref/test_h5_netcdf.sh)
   clang libclang-rt-14-dev libomp-14-dev
 )

@@ -33,6 +33,7 @@ return {
     random = {doc = "A seeded random number generator (pf.random)."},
     potential = {doc = "A potential sampled on a grid, for evolve and relax (pf.potential)."},
     progress = {doc = "A progress bar on stderr, quiet when stderr is not a terminal (pf.progress)."},
+    levels = {doc = "A multi-level state: one wave function per internal level, coupled by light pulses (pf.levels)."},
     region = {doc = "A region of space for probability_in and measure_region (pf.box, pf.ball, pf.half_space, pf.mask)."},
     complex = {
       doc = "A complex number; arithmetic mixes freely with Lua numbers.",
@@ -175,9 +176,25 @@ return {
     ["wave:aperture"] = {"opts: options", W .. ", number", "circular aperture in the plane of two axes; returns w and the removed probability"},
     ["wave:select_velocity"] = {"opts: options", W .. ", number", "velocity filter (box or Gaussian); returns w and the removed probability"},
     ["wave:shift"] = {"d: number|number[]", W, "moves the state by d (m) on the periodic grid"},
+    ["wave:expand"] = {"t: number, opts: options", W .. ", table",
+      "mean-field expansion after release from a trap on a grid that grows with the cloud; returns w and a report"},
     ["wave:evolve"] = {"t: number, opts: options", W, "split-step evolution for t seconds in a potential (optionally with a mean field)"},
     ["wave:relax"] = {"opts: options", W, "imaginary-time relaxation to the ground state of a potential"},
     ["wave:energy"] = {"opts: options", "table", "kinetic, potential and interaction energies (J) in a potential"},
+
+    -- multi-level states
+    ["pf.levels"] = {"opts: options", "psiflight.levels", "internal levels with energies (J), each with its wave function on one grid"},
+    ["levels:pulse"] = {"opts: options", "psiflight.levels", "a light pulse coupling two levels (Rabi frequency or pulse area, duration, envelope, detuning)"},
+    ["levels:bragg"] = {"opts: options", "psiflight.levels", "a Bragg pulse within a level (or every level)"},
+    ["levels:fly"] = {"t: number, opts?: options", "psiflight.levels", "free flight of every level for t seconds"},
+    ["levels:populations"] = {"", "table<string, number>", "probability in each level, by label"},
+    ["levels:order_populations"] = {"opts: options", "table", "probability in each momentum order of each level"},
+    ["levels:level"] = {"label: string", W, "the wave of a level (shared, not a copy)"},
+    ["levels:labels"] = {"", "string[]", "the level labels in order"},
+    ["levels:energy"] = {"label: string", "number", "internal energy of a level (J)"},
+    ["levels:clock"] = {"", "number", "flown time of the levels (s)"},
+    ["levels:norm"] = {"", "number", "total probability over the levels"},
+    ["levels:close"] = {"", "", "releases the levels' memory now"},
 
     -- ensembles
     ["ensemble:count"] = {"", "integer", "number of members"},

@@ -58,7 +58,9 @@ void pf_frame_advance(pf_frame *f, int dim, double mass, double t, const double 
     f->phase += mass * action / PF_HBAR;
 }
 
-pf_status pf_wave_fly_in_frame(pf_wave *w, double t, const double *accel)
+/* Checks t and accel and computes the frame after the step into *next;
+ * *moving says whether the step involves the frame at all. */
+static pf_status frame_step(pf_wave *w, double t, const double *accel, pf_frame *next, int *moving)
 {
     pf_grid *g = w->grid;
     if (!isfinite(t)) return pf_fail(g->ctx, PF_EINVAL, "time must be finite (s), got %g", t);
@@ -71,24 +73,76 @@ pf_status pf_wave_fly_in_frame(pf_wave *w, double t, const double *accel)
             if (accel[a] != 0.0) accelerated = 1;
         }
     }
-    if (!accelerated && !pf_wave_frame_moved(w)) return pf_wave_fly(w, t);
-    pf_frame next = w->frame;
-    pf_frame_advance(&next, g->dim, w->mass, t, accelerated ? accel : NULL);
-    for (int a = 0; a < g->dim; a++)
-        if (!isfinite(next.position[a]) || !isfinite(next.wavenumber[a]) || !isfinite(next.phase))
-            return pf_fail(g->ctx, PF_EINVAL, "the frame leaves the range of finite numbers after %g s", t);
-    size_t before = w->log.count;
-    pf_status s = pf_wave_fly(w, t);
-    if (s) return s;
-    w->frame = next;
-    /* Name the method in the step pf_wave_fly just logged, so the log says
-     * the flight went in a moving frame. */
-    if (w->log.count > before) {
+    *next = w->frame;
+    *moving = accelerated || pf_wave_frame_moved(w);
+    if (!*moving) return PF_OK;
+    pf_frame_advance(next, g->dim, w->mass, t, accelerated ? accel : NULL);
+    int finite = isfinite(next->phase);
+    for (int a = 0; a < g->dim; a++) finite = finite && isfinite(next->position[a]) && isfinite(next->wavenumber[a]);
+    if (!finite) return pf_fail(g->ctx, PF_EINVAL, "the frame leaves the range of finite numbers after %g s", t);
+    return PF_OK;
+}
+
+/* After a successful flight of chi: the new frame, and the method of the
+ * step just logged names the moving frame. */
+static void frame_commit(pf_wave *w, const pf_frame *next, size_t log_before, const char *method)
+{
+    w->frame = *next;
+    if (method && w->log.count > log_before) {
         pf_step *st = &w->log.steps[w->log.count - 1];
-        strncpy(st->method, "moving-frame", sizeof st->method - 1);
+        strncpy(st->method, method, sizeof st->method - 1);
         st->method[sizeof st->method - 1] = '\0';
     }
-    return PF_OK;
+}
+
+pf_status pf_wave_fly_in_frame(pf_wave *w, double t, const double *accel)
+{
+    pf_frame next;
+    int moving;
+    pf_status s = frame_step(w, t, accel, &next, &moving);
+    if (s) return s;
+    if (!moving) return pf_wave_fly(w, t);
+    size_t before = w->log.count;
+    s = pf_wave_fly(w, t);
+    if (!s) frame_commit(w, &next, before, "moving-frame");
+    return s;
+}
+
+pf_status pf_wave_fly_long_in_frame(pf_wave *w, double t, const pf_long_flight_opts *opts,
+                                    pf_long_flight_report *report, const double *accel)
+{
+    pf_frame next;
+    int moving;
+    pf_status s = frame_step(w, t, accel, &next, &moving);
+    if (s) return s;
+    s = pf_wave_fly_long(w, t, opts, report);
+    if (!s && moving) frame_commit(w, &next, 0, NULL); /* the log keeps the method that flew chi */
+    return s;
+}
+
+pf_status pf_wave_fly_scaled_in_frame(pf_wave *w, double t, const size_t *points, const double *centre,
+                                      const double *accel)
+{
+    pf_frame next;
+    int moving;
+    pf_status s = frame_step(w, t, accel, &next, &moving);
+    if (s) return s;
+    s = pf_wave_fly_scaled(w, t, points, centre);
+    if (!s && moving) frame_commit(w, &next, 0, NULL);
+    return s;
+}
+
+pf_status pf_wave_far_field_in_frame(pf_wave *w, double t, const double *accel, double *out,
+                                     pf_far_field_info *info, double *lab_origin)
+{
+    pf_frame next;
+    int moving;
+    pf_status s = frame_step(w, t, accel, &next, &moving);
+    if (s) return s;
+    s = pf_wave_far_field(w, t, out, info);
+    if (!s)
+        for (int a = 0; a < w->grid->dim; a++) lab_origin[a] = moving ? next.position[a] : 0.0;
+    return s;
 }
 
 pf_status pf_wave_frame_kick(pf_wave *w, const double *dk)

@@ -19,7 +19,9 @@
 #define PF_FRAME_H
 
 #include <complex.h>
+#include "pf_farfield.h"
 #include "pf_grid.h"
+#include "pf_scaled.h"
 #include "pf_wave.h"
 
 typedef struct pf_frame {
@@ -46,6 +48,21 @@ void pf_frame_advance(pf_frame *f, int dim, double mass, double t, const double 
  * "moving-frame" when the frame moves.  Unmoved frame and no acceleration:
  * exactly pf_wave_fly. */
 pf_status pf_wave_fly_in_frame(pf_wave *w, double t, const double *accel);
+
+/* The long flights of pf_scaled.h in the frame: chi flies by the chosen
+ * method (same grid, scaled, two-stage; its grid may change) and the frame
+ * advances under accel (NULL: none).  The Avron-Herbst relation holds for
+ * any exact free flight of chi, so the method does not matter to the frame.
+ * Grids, origins and points in the options are co-moving (grid) ones. */
+pf_status pf_wave_fly_long_in_frame(pf_wave *w, double t, const pf_long_flight_opts *opts,
+                                    pf_long_flight_report *report, const double *accel);
+pf_status pf_wave_fly_scaled_in_frame(pf_wave *w, double t, const size_t *points, const double *centre,
+                                      const double *accel);
+/* The far-field image of pf_wave_far_field for a wave in a frame that
+ * flies t under accel: the image of chi, and in lab_origin[a] the lab
+ * position of the image's x = 0 (the frame position after the flight). */
+pf_status pf_wave_far_field_in_frame(pf_wave *w, double t, const double *accel, double *out,
+                                     pf_far_field_info *info, double *lab_origin);
 
 /* Puts the lab momentum kick exp(i dk.x) into the frame instead of on the
  * grid: K += dk, theta += dk.X (dk in rad/m, finite). */

@@ -7,13 +7,15 @@
 #include "../core/pf_advise.h"
 #include "../core/pf_resolution.h"
 #include "../core/pf_farfield.h"
+#include "../core/pf_frame.h"
 #include "../core/pf_guard.h"
 #include "../core/pf_scaled.h"
 #include "pfl_options.h"
 
 static const pfl_options_decl FLY_LONG_OPTIONS = {
-    "wave:fly_long", (const char *const[]){"method", "grid", "points", "spacing", "origin", NULL}};
-static const pfl_options_decl FLY_SCALED_OPTIONS = {"wave:fly_scaled", (const char *const[]){"points", "origin", NULL}};
+    "wave:fly_long", (const char *const[]){"method", "grid", "points", "spacing", "origin", "acceleration", NULL}};
+static const pfl_options_decl FLY_SCALED_OPTIONS = {"wave:fly_scaled", (const char *const[]){"points", "origin", "acceleration", NULL}};
+static const pfl_options_decl FAR_FIELD_OPTIONS = {"wave:far_field", (const char *const[]){"acceleration", NULL}};
 #define ADVICE_COMMON_KEYS "time", "kicks", "margin", "image_points"
 static const pfl_options_decl WAVE_ADVICE_OPTIONS = {"wave:grid_advice", (const char *const[]){ADVICE_COMMON_KEYS, NULL}};
 static const pfl_options_decl ADVICE_OPTIONS = {
@@ -95,8 +97,12 @@ static int l_fly_long(lua_State *L)
         if (o.grid && (o.has_centre || o.points[0] || o.spacing[0]))
             return luaL_error(L, "fly_long: give either 'grid' or 'points'/'spacing'/'origin', not both");
     }
+    /* Acceleration (option or pf.setup default): the frame falls, the grid
+     * (possibly a scaled one) holds the cloud (pf_frame.h). */
+    double acc[PF_MAX_DIM];
+    int accelerated = pfl_frame_acceleration(L, lua_isnoneornil(L, 3) ? 0 : 3, d, acc, "wave:fly_long");
     pf_long_flight_report r;
-    pfl_check(L, pf_wave_fly_long(w, t, &o, &r), "fly_long");
+    pfl_check(L, pf_wave_fly_long_in_frame(w, t, &o, &r, accelerated ? acc : NULL), "fly_long");
     lua_settop(L, 1);
     lua_createtable(L, 0, 16);
     lua_pushstring(L, pf_flight_method_name(r.method));
@@ -140,25 +146,33 @@ static int l_fly_scaled(lua_State *L)
         has_points = field_counts(L, 3, "points", d, points, "fly_scaled");
         has_origin = pfl_field_vector(L, 3, "origin", d, origin, 0);
     }
-    pfl_check(L, pf_wave_fly_scaled(w, t, has_points ? points : NULL, has_origin ? origin : NULL), "fly_scaled");
+    double acc[PF_MAX_DIM];
+    int accelerated = pfl_frame_acceleration(L, lua_isnoneornil(L, 3) ? 0 : 3, d, acc, "wave:fly_scaled");
+    pfl_check(L, pf_wave_fly_scaled_in_frame(w, t, has_points ? points : NULL, has_origin ? origin : NULL,
+                                             accelerated ? acc : NULL), "fly_scaled");
     lua_settop(L, 1);
     return 1;
 }
 
-/* w:far_field(t) -> density table (row-major, ascending x), info */
+/* w:far_field(t [, {acceleration =}]) -> density table (row-major,
+ * ascending x), info.  Under an acceleration (or for a wave in a moving
+ * frame) the image grid sits at the lab position of the falling frame. */
 static int l_far_field(lua_State *L)
 {
     pf_wave *w = pfl_check_wave(L, 1);
     double t = pfl_check_positive(L, 2, "flight time (s)");
     pf_grid *g = pf_wave_grid(w);
     int d = pf_grid_dim(g);
+    int opts = pfl_options_opt(L, 3, &FAR_FIELD_OPTIONS);
+    double acc[PF_MAX_DIM], lab_origin[PF_MAX_DIM];
+    int accelerated = pfl_frame_acceleration(L, opts, d, acc, "wave:far_field");
     size_t n = pf_grid_total(g);
     if (n > (size_t)1 << 26) return luaL_error(L, "far_field: %zu points is too many for a Lua table", n);
     pf_context *ctx = pfl_ctx(L);
     double *buf = pf_context_alloc(ctx, n * sizeof *buf);
     if (!buf) pfl_check(L, pf_context_status(ctx), "far_field");
     pf_far_field_info info;
-    pf_status s = pf_wave_far_field(w, t, buf, &info);
+    pf_status s = pf_wave_far_field_in_frame(w, t, accelerated ? acc : NULL, buf, &info, lab_origin);
     if (s) {
         pf_context_free(ctx, buf);
         pfl_check(L, s, "far_field");
@@ -170,7 +184,7 @@ static int l_far_field(lua_State *L)
         span[a] = info.spacing[a] * (double)pts[a];
     }
     pf_grid *img;
-    s = pf_grid_new(ctx, d, pts, span, NULL, &img);
+    s = pf_grid_new(ctx, d, pts, span, lab_origin, &img);
     if (s) {
         pf_context_free(ctx, buf);
         pfl_check(L, s, "far_field");
@@ -369,7 +383,7 @@ void pfl_open_longflight(lua_State *L, int mod)
     };
     static const luaL_Reg funcs[] = {{"grid_advice", l_grid_advice}, {NULL, NULL}};
     static const pfl_options_decl *const options[] = {
-        &FLY_LONG_OPTIONS, &FLY_SCALED_OPTIONS, &WAVE_ADVICE_OPTIONS, &ADVICE_OPTIONS, &KICK_OPTIONS, NULL};
+        &FLY_LONG_OPTIONS, &FLY_SCALED_OPTIONS, &FAR_FIELD_OPTIONS, &WAVE_ADVICE_OPTIONS, &ADVICE_OPTIONS, &KICK_OPTIONS, NULL};
     pfl_options_declare(L, options);
     pfl_add_wave_methods(L, methods);
     pfl_add_functions(L, mod, funcs);

@@ -187,7 +187,9 @@ do
   w:fly(1e-4, {acceleration = -9.80665})
   check.fails(function() w:fall(1e-3, -9.8) end, "fall refuses a moved wave", here,
     "wave:fall does not support a wave in a moving frame")
-  check.fails(function() w:far_field(1e-3) end, "far_field refuses a moved wave", "wave:far_field does not support")
+  check.fails(function() w:wigner() end, "wigner refuses a moved wave", "wave:wigner does not support")
+  check.fails(function() w:evolve(1e-6, {potential = function() return 0 end}) end, "evolve refuses a moved wave",
+    "wave:evolve does not support")
   check.fails(function() pf.mixture({w}, {1}) end, "pf.mixture refuses a moved wave", "pf.mixture does not support")
   check.fails(function() w:slit{width = 1e-6} end, "slit refuses a moved wave", "wave:slit does not support")
   local meta = getmetatable(w).__index
@@ -265,6 +267,55 @@ do
   wf:fly(t_hit - 200e-6, {acceleration = a})
   local r3 = wf:arrival_times{at = L, from = -50e-6, to = 450e-6, steps = 501, acceleration = a}
   check.near(r3.mean + t_hit - 200e-6, r.mean, 1e-9, "arrival after a flight in the frame agrees", "same physics, two routes")
+end
+
+-- 7. Long flights in the frame: scaled, same-grid and two-stage flights of the
+-- cloud while the frame falls; centre, widths and momentum against the
+-- kinematics and the free width law, and the far-field image placed in the lab.
+do
+  pf.setup{guard_threshold = math.huge} -- scaled grids carry the chirp's momentum near their edge
+  local sigma, t, a = 1.5e-6, 25e-3, -9.80665
+  local width = sigma * math.sqrt(1 + (hbar * t / (2 * m * sigma * sigma)) ^ 2)
+  local function checks(w, label)
+    local x, y = w:position_mean()
+    check.close(x, 0, 1e-12, label .. ": no drift across gravity", "kinematics (common practice)")
+    check.near(y, 0.5 * a * t * t, 1e-9, label .. ": centre falls a t^2/2", "kinematics (common practice)")
+    local wx, wy = w:position_width()
+    check.near(wx, width, 1e-6, label .. ": width x follows the free law", "Cohen-Tannoudji G_I (from memory)")
+    check.near(wy, width, 1e-6, label .. ": width y follows the free law", "Cohen-Tannoudji G_I (from memory)")
+    check.near(w:frame().momentum[2], m * a * t, 1e-12, label .. ": frame momentum m a t", "Newton (common practice)")
+    -- The lab mean adds the grid's own mean, which a scaled grid biases
+    -- slightly (its chirp's momentum reaches the grid's Nyquist limit).
+    local _, py = w:momentum_mean()
+    check.near(py, m * a * t, 1e-4, label .. ": <p_y> = m a t", "Newton (common practice)")
+  end
+  local g = pf.grid{points = {64, 64}, span = {24e-6, 24e-6}}
+  local w = pf.gaussian(g, {mass = m, width = sigma})
+  local _, rep = w:fly_long(t, {acceleration = {0, a}})
+  check.equal(rep.method, "scaled", "a 25 ms drop flies scaled on a small co-moving grid")
+  checks(w, "fly_long scaled")
+  local target = pf.grid{points = {128, 128}, span = {100e-6, 100e-6}}
+  local w2 = pf.gaussian(g, {mass = m, width = sigma})
+  w2:fly_long(t, {grid = target, acceleration = {0, a}})
+  checks(w2, "fly_long two-stage")
+  local w3 = pf.gaussian(g, {mass = m, width = sigma})
+  w3:fly_scaled(t, {acceleration = {0, a}})
+  checks(w3, "fly_scaled")
+  -- same grid: the cloud expands on a grid that holds it, never the drop
+  local big = pf.grid{points = {256, 256}, span = {80e-6, 80e-6}}
+  local w4 = pf.gaussian(big, {mass = m, width = 4e-6})
+  local _, rep4 = w4:fly_long(5e-3, {method = "same-grid", acceleration = {0, a}})
+  check.equal(rep4.method, "same-grid", "same-grid method chosen")
+  local _, y4 = w4:position_mean()
+  check.near(y4, 0.5 * a * 25e-6, 1e-9, "fly_long same-grid: centre falls a t^2/2", "kinematics (common practice)")
+  -- far field: the image sits at the frame's lab position after the drop
+  local w5 = pf.gaussian(g, {mass = m, width = sigma})
+  local image, info = w5:far_field(t, {acceleration = {0, a}})
+  check.near(info.grid:origin(2), 0.5 * a * t * t, 1e-12, "far-field image centred where the frame fell",
+    "kinematics (common practice)")
+  check.equal(info.grid:origin(1), 0, "far-field image not moved across gravity")
+  check.truthy(#image == 64 * 64, "far-field image has the grid's points")
+  pf.setup{guard_threshold = 1e-6}
 end
 
 check.done()

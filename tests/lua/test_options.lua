@@ -73,6 +73,7 @@ local callers = {
   ["pf.picture_lines series[i]"] = function(o) pf.picture_lines("options-walk.png", {series = {o}}) end,
   ["pf.picture_carpet"] = function(o) pf.picture_carpet("options-walk.png", w1, o) end,
   ["pf.parameters spec"] = function(o) pf.parameters{walk_value = o} end,
+  ["wave:far_field"] = function(o) w1:far_field(1e-3, o) end,
   ["wave:fly"] = function(o) w1:copy():fly(1e-6, o) end,
   ["wave:kick"] = function(o) w1:copy():kick(1e5, o) end,
   ["wave:fly_long"] = function(o) w1:copy():fly_long(1e-3, o) end,
@@ -124,7 +125,7 @@ local TAKES_NO_OPTIONS = {
   "wave:position_width", "wave:momentum_mean", "wave:momentum_variance", "wave:momentum_width",
   "wave:wavenumber_mean", "wave:wavenumber_width", "wave:velocity_mean", "wave:kinetic_energy",
   "wave:position_momentum_covariance", "wave:add", "wave:psi_at", "wave:density_at", "wave:mark_periodic",
-  "wave:inner", "wave:guard", "wave:far_field", "wave:imprint", "wave:mask", "wave:momentum_mask",
+  "wave:inner", "wave:guard", "wave:imprint", "wave:mask", "wave:momentum_mask",
   "wave:shift", "wave:fall", "wave:log_columns", "wave:overlap", "wave:fidelity", "wave:current",
   "wave:column_density", "wave:probability_in", "wave:position_covariance", "wave:momentum_covariance",
   -- ensembles
@@ -235,8 +236,8 @@ for _, name in ipairs(declared_names) do
 end
 
 -- The examples the issue named, each now an error with the intended key.
-check.fails(function() w1:copy():fly_long(10e-3, {acceleration = {0, -9.8}}) end, "fly_long acceleration",
-  "wave:fly_long: unknown option 'acceleration'")
+check.fails(function() w1:copy():fly_long(10e-3, {acceleraton = {0, -9.8}}) end, "fly_long acceleraton",
+  "wave:fly_long: unknown option 'acceleraton' (did you mean 'acceleration'?)")
 check.fails(function() pf.camera{pixels = 4, pitch = 1e-6, psff = 3e-6} end, "camera psff", "did you mean 'psf'?")
 check.fails(function() w1:copy():fly_scaled(1e-3, {pionts = 64}) end, "fly_scaled pionts", "did you mean 'points'?")
 check.fails(function() pf.setup{planing = "estimate"} end, "setup planing", "did you mean 'planning'?")

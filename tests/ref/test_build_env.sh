@@ -23,3 +23,13 @@ make -C "$root" --no-print-directory BUILD="$tmp/b" CMOCKA_PC=psiflight-no-such-
 [ $? -ne 0 ] || fail "a unit test compiled without cmocka"
 grep -q "libcmocka-dev" "$tmp/out" || { cat "$tmp/out"; fail "cmocka's package not named"; }
 echo "ok a missing test module names libcmocka-dev"
+
+# PLplot's headers are not in a runtime package (libplplot-dev would pull in
+# Qt and wxWidgets): the message points at the script that unpacks them.
+make -C "$root" --no-print-directory BUILD="$tmp/c" PLPLOT_PC=psiflight-no-such-plplot all >"$tmp/out" 2>&1
+[ $? -ne 0 ] || fail "make succeeded without PLplot"
+grep -q "pkg-config cannot find: psiflight-no-such-plplot" "$tmp/out" || { cat "$tmp/out"; fail "PLplot module not named"; }
+grep -q "libplplot17" "$tmp/out" || fail "PLplot's runtime package not named"
+grep -q "scripts/fetch-plplot-headers.sh" "$tmp/out" || fail "the header script not named"
+grep -q "libplplot-dev" "$tmp/out" && fail "the message suggests libplplot-dev"
+echo "ok a missing PLplot module names libplplot17, make deps and scripts/fetch-plplot-headers.sh, not libplplot-dev"

@@ -86,7 +86,7 @@ f:close()
 for _, y in ipairs(w:x_axis(2)) do print(string.format("%.17g", y)) end
 LUA
 "$runner" run "$work/axes.lua" --out "$work/axes" >"$work/axes.txt"
-h5dump -d /drop/y -y -w 1 -m '%.17g' "$work/axes/drop.h5" | grep -E '^ *-?[0-9.]+e[-+]' | tr -d ' ,' >"$work/axes.h5.txt"
+h5dump -d /drop/y -y -w 1 -m '%.17g' "$work/axes/drop.h5" | grep -E '^ *-?[0-9]+\.[0-9]+(e[-+][0-9]+)?,? *$' | tr -d ' ,' >"$work/axes.h5.txt"
 /usr/bin/python3 - "$work/axes.txt" "$work/axes.h5.txt" <<'PY'
 import sys
 want = [float(x) for x in open(sys.argv[1]).read().split()]
