@@ -57,7 +57,17 @@ for i = 1, #rows.t do
   print(string.format("  %6.3f   %10.5f   %12.5f", rows.t[i] * 1e3, rows.sigma[i] * 1e6, rows.law[i] * 1e6))
 end
 pf.report("sigma_final", rows.sigma[#rows.t], "m")
-pf.write_csv("release_widths.csv", {{"t", "s", rows.t}, {"sigma", "m", rows.sigma}, {"sigma_law", "m", rows.law}})
+local columns = {{"t", "s", rows.t}, {"sigma", "m", rows.sigma}, {"sigma_law", "m", rows.law}}
+pf.write_csv("release_widths.csv", columns)
+local h5 <close> = pf.h5file("release_widths.h5")
+h5:put_table("widths", columns)
+h5:close()
+local um = function(v) local o = {} for i, x in ipairs(v) do o[i] = x * 1e6 end return o end
+pf.picture_lines("release_widths.png", {
+  title = "23Na rms width after release (Wrenfield Yard)", x_name = "t", x_quantity = "time",
+  y_name = "rms width", y_unit = "#gmm", legend = "upper left",
+  series = {{x = rows.t, y = um(rows.sigma), label = "engine"}, {x = rows.t, y = um(rows.law), label = "textbook", points = true}},
+})
 
 -- A typo, as it might appear in a copied script: caught, with a suggestion.
 local ok, msg = pcall(release, {trap = p.trap, tof = p.tof, snapshtos = 12})

@@ -89,3 +89,10 @@ print(string.format("free fall check: y drop over the %.1f ms under gravity = %.
   (params.fall + params.last) * 1e3, (y_trap - my) * 1e6, 0.5 * pf.constants.g_n * (params.fall + params.last) ^ 2 * 1e6))
 print()
 print(w:log_text())
+
+-- Files: the state at the detector (HDF5) and its density map (PNG).
+local h5 <close> = pf.h5file("detector.h5")
+h5:put_wave("detector", w)
+h5:put_table("steps", w:log_columns())
+h5:close()
+pf.picture_map("detector.png", w, {title = "23Na at the detector after grating, slit and lens"})

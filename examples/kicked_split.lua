@@ -72,5 +72,15 @@ for _, o in ipairs(orders) do
   print(string.format("  %+d   %8.4f   %14.3f   %14.3f   %9.6f   %9.6f", o.n, v / U.mm_per_s, xc / U.um, px / p / U.um, p, want))
 end
 print(string.format("largest population deviation: %.1e", worst))
+local h5 <close> = pf.h5file("kicked_split.h5")
+h5:put_wave("split", split, {parts = "both"})
+h5:close()
+local um_x = {}
+for i = 1, #x do um_x[i] = x[i] end
+pf.picture_lines("kicked_split.png", {
+  title = string.format("87Rb momentum orders after %.1f ms of flight", tof / U.ms), x_name = "x", x_quantity = "length",
+  y_name = "|#gq|#u2#d", y_per_x = true, legend = "upper right",
+  series = {{x = um_x, y = rho, label = "engine"}},
+})
 print(string.format("mean velocity %.6f mm/s (expected %.6f mm/s)", split:velocity_mean() / U.mm_per_s,
   v_rec * (1 + (orders[3].amplitude ^ 2 - orders[1].amplitude ^ 2) / total) / U.mm_per_s))

@@ -98,6 +98,18 @@ print("OD along x through the peak (every 2nd pixel):")
 local line = {}
 for i = 1, 32, 2 do line[#line + 1] = string.format("%.2f", img.od[(i - 1) * 32 + py]) end
 print("  " .. table.concat(line, " "))
+-- The absorption image as files: optical depth per pixel (rows along y).
+local od_rows = {}
+for iy = 1, 32 do
+  od_rows[iy] = {}
+  for ix = 1, 32 do od_rows[iy][ix] = img.od[(ix - 1) * 32 + iy] end
+end
+local od_axes = {x = img.axes[1], y = img.axes[2], value_name = "optical depth"}
+local h5 <close> = pf.h5file("launch_and_detect.h5")
+h5:put_wave("cloud_at_image", shot)
+h5:put_image("absorption_od", od_rows, od_axes)
+pf.picture_map("absorption_od.png", od_rows, {title = string.format("41K absorption image at %.1f ms (optical depth)", image_ms),
+  x = img.axes[1], y = img.axes[2], value_name = "optical depth"})
 shot:close()
 
 -- Arrival times at the light sheet: flux through the plane x = sheet.
@@ -109,7 +121,16 @@ print(string.format("\nlight sheet at x = %.0f um: %.4f of the cloud crosses in 
   sheet * 1e6, arr.arrived, #times, n_exp))
 print(string.format("arrival time %.3f +- %.3f ms (L / v = %.3f ms); histogram, 1.5 ms bins:", tm * 1e3, ts * 1e3,
   sheet / launch * 1e3))
-show(pf.histogram(times, {from = 0, to = 30e-3, bins = 20}))
+local hist = pf.histogram(times, {from = 0, to = 30e-3, bins = 20})
+show(hist)
+h5:put_table("arrival_flux", {{"t", "s", arr.time}, {"flux", "1/s", arr.flux}})
+h5:put_table("arrival_histogram", {{"t_center", "s", hist.centers}, {"atoms", "", hist.counts}})
+pf.write_csv("arrival_histogram.csv", {{"t_center", "s", hist.centers}, {"atoms", "", hist.counts}})
+pf.picture_lines("arrival_histogram.png", {
+  title = "detected arrival times at the light sheet (1.5 ms bins)", x_name = "t", x_quantity = "time",
+  y_name = "atoms per bin", legend = "upper right",
+  series = {{x = hist.centers, y = hist.counts, label = "detected atoms", points = true}},
+})
 cloud:close()
 
 -- The same launch for a thermal cloud at 20 nK along x: the thermal state as
@@ -126,4 +147,6 @@ print(string.format("\nthermal cloud at %.0f nK (%d eigenstates, width %.3f um i
   T * 1e9, hot:count(), hot:position_width() * 1e6, harr.arrived))
 print(string.format("arrival time %.3f +- %.3f ms, %d atoms detected; histogram, 2 ms bins:", hm * 1e3, hs * 1e3, #htimes))
 show(pf.histogram(htimes, {from = 0, to = 40e-3, bins = 20}))
+h5:put_table("thermal_arrival_flux", {{"t", "s", harr.time}, {"flux", "1/s", harr.flux}})
+h5:close()
 hot:close()

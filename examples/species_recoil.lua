@@ -35,10 +35,21 @@ for i, label in ipairs(bench) do
                       cols.t_rec[i] * 1e9, cols.f_rec[i] * 1e-3, s.source))
 end
 
-local csv = pf.write_csv("recoil.csv", {
+local columns = {
   {"species", "", cols.label}, {"mass_micro_u", "micro-u", cols.micro_u}, {"mass", "kg", cols.mass},
   {"mass_uncertainty", "kg", cols.mass_unc}, {"recoil_velocity", "m/s", cols.v},
   {"recoil_velocity_uncertainty", "m/s", cols.v_unc}, {"recoil_temperature", "K", cols.t_rec},
   {"recoil_frequency", "Hz", cols.f_rec}, {"mass_source", "", cols.source},
+}
+local csv = pf.write_csv("recoil.csv", columns)
+local h5 <close> = pf.h5file("recoil.h5")
+h5:put_table("recoil", columns)
+h5:close()
+local mass_u, v_mm = {}, {}
+for i = 1, #cols.mass do mass_u[i], v_mm[i] = cols.mass[i] / pf.constants.u, cols.v[i] * 1e3 end
+pf.picture_lines("recoil.png", {
+  title = "single-photon recoil velocity against mass", x_name = "mass (u)", y_name = "recoil velocity",
+  y_unit = "mm/s", log_y = true, legend = "upper right",
+  series = {{x = mass_u, y = v_mm, label = "species table", points = true}},
 })
 print("wrote " .. csv)

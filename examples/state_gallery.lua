@@ -74,3 +74,21 @@ local right = pf.gaussian(g1, {mass = "133Cs", width = 1.2 * U.um, center = 4 * 
 local cat = (left + right * pf.complex(0, 1)):normalize()
 print(string.format(" 133Cs cat: <left|right> = %.3e (textbook exp(-d^2/8 sigma^2) = %.3e), |<left|cat>|^2 = %.4f",
   left:inner(right).re, math.exp(-(8 / 1.2) ^ 2 / 8), left:inner(cat):abs() ^ 2))
+
+-- Files: the 1D states of the gallery (HDF5) and their densities (PNG).
+-- The HDF5 items first and the file closed last: an error on the way (say,
+-- out of memory) discards the open file, and the pictures need no engine
+-- memory, so a failed run leaves no partial set of files.
+local h5 <close> = pf.h5file("state_gallery.h5")
+h5:put_wave("cat_133Cs", cat, {parts = "both"})
+h5:put_wave("sampled_87Rb", measured)
+h5:put_wave("tilted_88Sr", tilt)
+local x1, cat_density, measured_density = g1:x_axis(1), cat:density(), measured:density()
+pf.picture_map("tilted_88Sr.png", tilt, {title = "88Sr tilted Gaussian (correlation 0.5)"})
+pf.picture_lines("state_gallery.png", {
+  title = "1D states of the gallery", x_name = "x", x_quantity = "length", y_name = "|#gq|#u2#d", y_per_x = true,
+  legend = "upper right",
+  series = {{x = x1, y = cat_density, label = "133Cs cat"},
+            {x = x1, y = measured_density, label = "87Rb sampled profile", dashed = true}},
+})
+h5:close()

@@ -81,6 +81,13 @@ print(string.format("far-field image: Fraunhofer numbers %.2e, %.2e; peak densit
 print(string.format("  expected from the width law: sqrt(1 + 4 N_F^2) per axis -> %.8f",
   math.sqrt(1 + 4 * info.fraunhofer[1] ^ 2) * math.sqrt(1 + 4 * info.fraunhofer[2] ^ 2)))
 
+-- Files: the state after the flight and the far-field image (HDF5), its map (PNG).
+local h5 <close> = pf.h5file("tof_20ms.h5")
+h5:put_wave("after_flight", atom)
+h5:put_density("after_flight_density", atom)
+h5:close()
+pf.picture_map("tof_20ms.png", atom, {title = string.format("7Li after %.0f ms of flight", tof * 1e3)})
+
 -- 5. Guard figures and the step log.
 local gd = atom:guard()
 print(string.format("guard: outer-band probability in position %.1e, %.1e (threshold %.0e)",

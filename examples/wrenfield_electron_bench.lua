@@ -52,7 +52,18 @@ for i = 0, 10 do
   print(string.format("%9.2f  %10.4f  %10.4f  %10.4f", L * 1e6, t * 1e15, w * 1e9, law * 1e9))
   probe:close()
 end
-local path = pf.write_csv("drift_widths.csv", {
+local columns = {
   {"distance", "m", rows.L}, {"flight_time", "s", rows.t}, {"waist", "m", rows.w}, {"waist_gaussian_beam_law", "m", rows.law},
+}
+local path = pf.write_csv("drift_widths.csv", columns)
+local h5 <close> = pf.h5file("drift_widths.h5")
+h5:put_table("drift_widths", columns)
+h5:close()
+local um, nm_w, nm_law = {}, {}, {}
+for i = 1, #rows.L do um[i], nm_w[i], nm_law[i] = rows.L[i] * 1e6, rows.w[i] * 1e9, rows.law[i] * 1e9 end
+pf.picture_lines("drift_widths.png", {
+  title = "electron probe waist along the drift (Wrenfield bench)", x_name = "drift distance (#gmm)",
+  y_name = "waist", y_unit = "nm", legend = "upper left",
+  series = {{x = um, y = nm_w, label = "engine"}, {x = um, y = nm_law, label = "Gaussian-beam law", points = true}},
 })
 print("wrote " .. path)

@@ -122,7 +122,18 @@ end
 local function parse_params(key, text)
   local params = {}
   if text == "" then return params end
-  for item in (text .. ","):gmatch("%s*(.-)%s*,") do
+  -- Split at commas outside parentheses and braces (a type may be
+  -- fun(a: T, b: U) or table<K, V>).
+  local items, depth, start = {}, 0, 1
+  for i = 1, #text do
+    local ch = text:sub(i, i)
+    if ch == "(" or ch == "{" or ch == "<" then depth = depth + 1
+    elseif ch == ")" or ch == "}" or ch == ">" then depth = depth - 1
+    elseif ch == "," and depth == 0 then items[#items + 1] = text:sub(start, i - 1); start = i + 1 end
+  end
+  items[#items + 1] = text:sub(start)
+  for _, raw in ipairs(items) do
+    local item = raw:match("^%s*(.-)%s*$")
     local name, opt, ty = item:match("^([%w_%.]+)(%??)%s*:%s*(.+)$")
     if not name then
       problems[#problems + 1] = string.format("%s: cannot read parameter '%s' (write NAME: TYPE or NAME?: TYPE)", key, item)

@@ -4,6 +4,7 @@
 #include <stdlib.h>
 #include <stdio.h>
 #include <string.h>
+#include "pf_cis.h"
 #include "pf_constants.h"
 #include "pf_expand.h"
 #include "pf_frame.h"
@@ -13,6 +14,8 @@
 #include "pf_observe.h"
 
 #define MAX_STEPS 100000000.0
+/* Points per piece of a row in the potential pass (phases kept on the stack). */
+#define PHASE_CHUNK 512
 /* Density below this fraction of the peak does not count as occupied when
  * sizing a step (as in pf_splitstep.c). */
 #define OCCUPIED_FRACTION 1e-12
@@ -136,10 +139,19 @@ typedef struct expand_ws {
     double complex *tab[PF_MAX_DIM]; /* per-axis kinetic or chirp factors */
 } expand_ws;
 
+/* What a potential pass saw: the peak density and, over the points above
+ * OCCUPIED_FRACTION of the previous peak, the range of the chi-frame
+ * potential (J) - the figures the next step is sized with. */
+typedef struct pass_stats {
+    double peak, lo, hi;
+} pass_stats;
+
 /* Per-axis potential tables q_j (xi_j - o_j)^2 with q_j = m lambda_j lambda_j'' / 2
  * summed per point with (g / Lambda) |chi|^2; the loop walks the grid as rows
- * of the last axis so the per-point work is one cexp. */
-static void potential_pass(expand_ws *ws, const frame *f, double coef)
+ * of the last axis so the per-point work is one cexp.  With coef = 0 it only
+ * measures (no phase is applied).  The min/max reductions do not depend on
+ * the thread count. */
+static void potential_pass(expand_ws *ws, const frame *f, double coef, pass_stats *st)
 {
     pf_grid *g = ws->g;
     const int d = g->dim;
@@ -147,10 +159,12 @@ static void potential_pass(expand_ws *ws, const frame *f, double coef)
     frame_accel(f, f->lam, acc);
     for (int a = 0; a < d; a++) q[a] = 0.5 * ws->w->mass * f->lam[a] * acc[a];
     const double fac = coef / PF_HBAR, gl = ws->g_mf / frame_volume(f);
+    const double cut = OCCUPIED_FRACTION * st->peak;
     const size_t nlast = g->n[d - 1], rows = g->total / nlast;
     double complex *z = ws->w->store;
     double *const *quad = ws->quad;
-#pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
+    double peak = 0, lo = INFINITY, hi = -INFINITY;
+#pragma omp parallel for num_threads(g->ctx->threads) schedule(static) reduction(max : peak, hi) reduction(min : lo)
     for (ptrdiff_t r = 0; r < (ptrdiff_t)rows; r++) {
         double base = 0;
         size_t rest = (size_t)r;
@@ -161,38 +175,28 @@ static void potential_pass(expand_ws *ws, const frame *f, double coef)
         }
         double complex *row = z + (size_t)r * nlast;
         const double *ql = quad[d - 1];
-        for (size_t i = 0; i < nlast; i++) {
-            double complex c = row[i];
-            double u = base + q[d - 1] * ql[i] + gl * (creal(c) * creal(c) + cimag(c) * cimag(c));
-            row[i] = c * cexp(-I * (u * fac));
+        /* Phases of a piece of the row on the stack, then the vectorised
+         * exp(-i phase) of the split-step machinery (pf_cis.h). */
+        double phase[PHASE_CHUNK];
+        for (size_t i0 = 0; i0 < nlast; i0 += PHASE_CHUNK) {
+            size_t len = nlast - i0 < PHASE_CHUNK ? nlast - i0 : PHASE_CHUNK;
+            for (size_t k = 0; k < len; k++) {
+                double complex c = row[i0 + k];
+                double rho = creal(c) * creal(c) + cimag(c) * cimag(c);
+                double u = base + q[d - 1] * ql[i0 + k] + gl * rho;
+                if (rho > peak) peak = rho;
+                if (rho >= cut) {
+                    if (u < lo) lo = u;
+                    if (u > hi) hi = u;
+                }
+                phase[k] = u * fac;
+            }
+            if (fac != 0) pf_cis_multiply(row + i0, phase, len);
         }
     }
-}
-
-/* Spread (max - min) of the chi-frame potential over the occupied points. */
-static double potential_spread(expand_ws *ws, const frame *f)
-{
-    pf_grid *g = ws->g;
-    const int d = g->dim;
-    double acc[PF_MAX_DIM], q[PF_MAX_DIM] = {0, 0, 0};
-    frame_accel(f, f->lam, acc);
-    for (int a = 0; a < d; a++) q[a] = 0.5 * ws->w->mass * f->lam[a] * acc[a];
-    const double gl = ws->g_mf / frame_volume(f);
-    const double complex *z = ws->w->store;
-    double peak = 0;
-    for (size_t i = 0; i < g->total; i++) peak = fmax(peak, creal(z[i]) * creal(z[i]) + cimag(z[i]) * cimag(z[i]));
-    const double cut = OCCUPIED_FRACTION * peak;
-    double lo = INFINITY, hi = -INFINITY;
-    size_t idx[PF_MAX_DIM] = {0, 0, 0};
-    for (size_t i = 0; i < g->total; i++, pf_index_next(g, idx)) {
-        double rho = creal(z[i]) * creal(z[i]) + cimag(z[i]) * cimag(z[i]);
-        if (rho < cut) continue;
-        double u = gl * rho;
-        for (int a = 0; a < d; a++) u += q[a] * ws->quad[a][idx[a]];
-        lo = fmin(lo, u);
-        hi = fmax(hi, u);
-    }
-    return hi > lo ? hi - lo : 0;
+    st->peak = peak;
+    st->lo = lo;
+    st->hi = hi;
 }
 
 static void quartic_block(void *user, size_t begin, size_t end, const size_t *idx, double *acc)
@@ -347,15 +351,17 @@ static pf_status omega_from_state(pf_wave *w, double e_int, double *omega2)
 /* ---- the evolution ---- */
 
 /* Applies the pending potential coefficient at the frame's time. */
-static void flush(expand_ws *ws, const frame *f, double *pending)
+static void flush(expand_ws *ws, const frame *f, double *pending, pass_stats *st)
 {
-    if (*pending != 0) potential_pass(ws, f, *pending);
+    if (*pending != 0) potential_pass(ws, f, *pending, st);
     *pending = 0;
 }
 
 /* One symmetric step of size h (Strang, or Yoshida's three), leaving half a
- * potential step pending to merge with the next step's first half. */
-static pf_status split_step(expand_ws *ws, frame *f, double h, int order, double *pending)
+ * potential step pending to merge with the next step's first half.  st
+ * receives what the last potential pass saw (its peak sets the next occupied
+ * cut). */
+static pf_status split_step(expand_ws *ws, frame *f, double h, int order, double *pending, pass_stats *st)
 {
     double c[3];
     int stages = 1;
@@ -369,7 +375,7 @@ static pf_status split_step(expand_ws *ws, frame *f, double h, int order, double
     for (int j = 0; j < stages; j++) {
         double hj = c[j] * h;
         *pending += 0.5 * hj;
-        flush(ws, f, pending);
+        flush(ws, f, pending, st);
         double before[PF_MAX_DIM], dkin[PF_MAX_DIM];
         memcpy(before, f->kin, sizeof before);
         frame_advance(f, hj);
@@ -458,6 +464,9 @@ pf_status pf_wave_expand(pf_wave *w, double t, const pf_expand_spec *spec, pf_ex
     /* Interacting part, then (maybe) the free handover. */
     const double t0 = w->clock;
     double done = 0, pending = 0, h_prev = 0;
+    /* A first measuring pass finds the peak for the occupied cut. */
+    pass_stats stats = {INFINITY, 0, 0};
+    potential_pass(&ws, &f, 0.0, &stats);
     size_t steps = 0;
     int handed = 0;
     while (done < t && !s) {
@@ -473,7 +482,11 @@ pf_status pf_wave_expand(pf_wave *w, double t, const pf_expand_spec *spec, pf_ex
             h = t / (double)spec->steps;
             if (h > left || steps + 1 == spec->steps) h = left;
         } else {
-            double spread = potential_spread(&ws, &f);
+            /* Measure at the current time (a read-only parallel pass): the
+             * figures of the last phase pass are one step old, and sizing
+             * from them was measured to cost accuracy. */
+            potential_pass(&ws, &f, 0.0, &stats);
+            double spread = stats.hi > stats.lo ? stats.hi - stats.lo : 0;
             h = spread > 0 ? PF_EXPAND_PHASE * PF_HBAR / spread : left;
             /* The frame's coefficients must change little within a step. */
             double rate = frame_rate(&f);
@@ -485,12 +498,12 @@ pf_status pf_wave_expand(pf_wave *w, double t, const pf_expand_spec *spec, pf_ex
             s = pf_fail(ctx, PF_EINVAL, "expand: more than %.0f steps; give 'steps' or a shorter time", MAX_STEPS);
             break;
         }
-        s = split_step(&ws, &f, h, spec->order, &pending);
+        s = split_step(&ws, &f, h, spec->order, &pending, &stats);
         done += h;
         h_prev = h;
         steps++;
     }
-    if (!s) flush(&ws, &f, &pending);
+    if (!s) flush(&ws, &f, &pending, &stats);
     if (!s && handed) {
         /* Exact free step in the same frame: lambda grows linearly, so
          * int dt / lambda^2 over s is s / (lambda (lambda + lambda' s)). */

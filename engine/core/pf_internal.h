@@ -54,25 +54,25 @@ typedef struct pf_flight_tables {
     double complex chirp[PF_PHASE_SEG];
 } pf_flight_tables;
 
-/* Plans and buffers of the fused flight step (pf_fused.c) on a 2D or 3D
- * grid: transforms over the trailing axes of every slab (threaded), and
- * axis-0 transforms of a block of columns gathered into a per-thread buffer
- * (one thread each).  Made at the first fused step. */
+/* Plans and buffers of the fused flight and split steps (pf_fused.c) on a
+ * 2D or 3D grid: axis-0 transforms of a block of columns gathered into a
+ * per-thread buffer, and transforms over the trailing axes of a chunk of
+ * axis-0 slices (one thread each; blocks and chunks are shared out among
+ * threads).  Made at the first fused step. */
 typedef struct pf_fused_plans {
     int threads;                  /* thread count made with; 0 = not made */
     size_t block, tail;           /* columns per block; columns in a last, partial block (0: none) */
     size_t blocks;                /* number of blocks, the partial one included */
     size_t ld;                    /* buffer stride between gathered columns */
-    fftw_plan slab_fwd, slab_bwd;
     fftw_plan col_fwd, col_bwd, tail_fwd, tail_bwd;
     double complex *buf;          /* threads x block x ld values */
     size_t buf_bytes;
     double *part;                 /* blocks x PF_MAX_DIM partial guard-band sums */
-    /* Split-step sweeps (pf_fused_chunks): one-thread plans of the trailing
+    /* Chunk sweeps (pf_fused_chunks): one-thread plans of the trailing
      * axes for a chunk of `rows` consecutive axis-0 indices (and for the
-     * last, shorter chunk), made at the first split step.  Chunks are shared
-     * out among threads, each running the same plan, so the bits do not
-     * depend on the thread count. */
+     * last, shorter chunk).  Chunks are shared out among threads, each
+     * running the same plan, so the bits do not depend on the thread
+     * count. */
     size_t rows, rows_tail, chunks;
     fftw_plan chunk_fwd, chunk_bwd, chunk_tail_fwd, chunk_tail_bwd;
 } pf_fused_plans;

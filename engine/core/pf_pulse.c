@@ -243,7 +243,6 @@ pf_status pf_pulse_two_level(pf_wave *a, pf_wave *b, const pf_pulse_shape *shape
         pf_wave_log_step(w2[i], "pulse", shape->envelope == PF_ENVELOPE_SQUARE ? "rotation-exact" : "rotation-4th",
                          tau, 0.0, -1.0);
     }
-    (void)t1;
     return PF_OK;
 }
 

@@ -3,8 +3,9 @@
  *
  * Two pulse models, both in the rotating-wave approximation, without
  * spontaneous emission, with the kinetic energy acting during the pulse
- * (so the wave's clock advances by the pulse duration) and no external
- * force during the pulse:
+ * (so the wave's clock advances by the pulse duration); an external force
+ * and a chirped detuning act during a two-level pulse only through
+ * pf_pulse_two_level_moving:
  *
  *  - two-level pulses (pf_pulse_two_level): levels a and b, one pf_wave
  *    each, coupled by an effective Rabi frequency Omega(t).  A microwave or

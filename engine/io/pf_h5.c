@@ -607,6 +607,23 @@ pf_status pf_h5_put_density(pf_h5 *f, const char *name, pf_wave *w, pf_rep rep)
     return bad ? pf_fail(f->ctx, PF_EIO, "cannot write density '%s' to '%s'", name, f->sf.final_path) : PF_OK;
 }
 
+pf_status pf_h5_put_image(pf_h5 *f, const char *name, size_t nx, size_t ny, const double *values, const double *x,
+                          const double *y, const char *axis_unit, const char *value_unit, const char *long_name)
+{
+    pf_status s = check_name(f, name);
+    if (s) return s;
+    if (nx < 1 || ny < 1) return pf_fail(f->ctx, PF_EINVAL, "image '%s' is empty", name);
+    hsize_t dims[2] = {nx, ny};
+    const char *pairs[] = {"long_name", long_name ? long_name : "image", NULL};
+    hid_t g = new_group(f, name);
+    int bad = g < 0 || attr_string(g, "content", "image") ||
+              write_dataset(f, g, "image", H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, 2, dims, values, value_unit ? value_unit : "") ||
+              describe(g, "image", pairs) || write_axis(f, g, "x", x, nx, axis_unit) ||
+              write_axis(f, g, "y", y, ny, axis_unit) || attach_axes(g, "image", 2, PF_POSITION);
+    if (g >= 0) H5Gclose(g);
+    return bad ? pf_fail(f->ctx, PF_EIO, "cannot write image '%s' to '%s'", name, f->sf.final_path) : PF_OK;
+}
+
 pf_status pf_h5_put_table(pf_h5 *f, const char *name, size_t ncols, const pf_column *cols)
 {
     pf_status s = check_name(f, name);

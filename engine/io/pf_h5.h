@@ -56,6 +56,12 @@ const char *pf_h5_path(const pf_h5 *f);
 pf_status pf_h5_put_wave(pf_h5 *f, const char *name, pf_wave *w, int parts);
 /* Stores the density |psi|^2 (or |phi|^2, ascending k) as group `name`. */
 pf_status pf_h5_put_density(pf_h5 *f, const char *name, pf_wave *w, pf_rep rep);
+/* Stores a 2D array (a camera or optical-depth image, any map of numbers)
+ * as group `name`: dataset `image` of nx x ny values (values[ix * ny + iy])
+ * on the dimension scales `x` and `y` (axis_unit, e.g. "m", or "1" for
+ * pixel numbers), with value_unit and long_name (may be NULL). */
+pf_status pf_h5_put_image(pf_h5 *f, const char *name, size_t nx, size_t ny, const double *values, const double *x,
+                          const double *y, const char *axis_unit, const char *value_unit, const char *long_name);
 /* Stores columns as group `name`, one dataset per column with its unit. */
 pf_status pf_h5_put_table(pf_h5 *f, const char *name, size_t ncols, const pf_column *cols);
 /* Stores one number as scalar dataset `name` with a unit attribute. */

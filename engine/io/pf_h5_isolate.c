@@ -99,10 +99,11 @@ static void child_setup(size_t as_limit)
     memset(&sa, 0, sizeof sa);
     sa.sa_handler = SIG_DFL;
     sigemptyset(&sa.sa_mask);
-    /* The runner's stop handlers go; the crash handlers of the embedding
-     * program (a test framework's, a sanitizer's) give way to the
-     * classifier installed below. */
-    const int reset[] = {SIGINT, SIGTERM, SIGHUP, SIGALRM};
+    /* The runner's stop handlers go, and so do the crash handlers of the
+     * embedding program (a test framework's, a sanitizer's): the
+     * classifier installed below replaces them, and where it cannot, the
+     * default action reports the signal to the parent. */
+    const int reset[] = {SIGINT, SIGTERM, SIGHUP, SIGALRM, SIGSEGV, SIGBUS, SIGFPE, SIGILL, SIGABRT, SIGSYS};
     for (size_t i = 0; i < sizeof reset / sizeof reset[0]; i++) sigaction(reset[i], &sa, NULL);
     sa.sa_handler = SIG_IGN;
     sigaction(SIGPIPE, &sa, NULL);

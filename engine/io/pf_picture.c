@@ -179,6 +179,7 @@ typedef struct map_job {
     double box[4];             /* x0, x1, y0, y1 in display units */
     char lx[96], ly[96];
     const char *vlabel;
+    char title[320];
 } map_job;
 
 /* Draws a map (runs under pf_plguard). */
@@ -209,7 +210,7 @@ static void draw_map(void *user)
     /* Ticks point outwards: inside they vanish against dark parts of the map. */
     plbox("bcnsti", 0, 0, "bcnstiv", 0, 0);
     pllab(j->lx, j->ly, "");
-    plmtex("t", 1.6, 0.0, 0.0, m->title ? m->title : "");
+    plmtex("t", 1.6, 0.0, 0.0, j->title);
     /* Colour bar: a vertical strip of the same map with its own axis. */
     double ramp_v[2][64];
     PLFLT *ramp[2] = {ramp_v[0], ramp_v[1]};
@@ -241,6 +242,12 @@ pf_status pf_picture_map(pf_context *ctx, const char *path, int overwrite, const
     double fx = pf_display_unit(m->xa.q, max_abs2(m->x[0] - hx, m->x[m->nx - 1] + hx), ux, sizeof ux);
     double fy = pf_display_unit(m->ya.q, max_abs2(m->y[0] - hy, m->y[m->ny - 1] + hy), uy, sizeof uy);
     int equal = m->equal_aspect && m->xa.q == m->ya.q;
+    /* Equal aspect of a very elongated region (80 um x 3.4 mm) leaves a
+     * sliver a few pixels wide under crowded tick labels: past 1:6 the map
+     * fills the panel and the title says the axes are not to scale. */
+    double extent_ratio = (m->y[m->ny - 1] - m->y[0] + 2 * hy) / (m->x[m->nx - 1] - m->x[0] + 2 * hx);
+    int not_to_scale = equal && (extent_ratio > 6 || extent_ratio < 1.0 / 6);
+    if (not_to_scale) equal = 0;
     if (equal && m->xa.q != PF_Q_PLAIN) {
         /* One unit for both axes, or equal lengths would not look equal. */
         double both = fmax(max_abs2(m->x[0] - hx, m->x[m->nx - 1] + hx), max_abs2(m->y[0] - hy, m->y[m->ny - 1] + hy));
@@ -308,7 +315,9 @@ pf_status pf_picture_map(pf_context *ctx, const char *path, int overwrite, const
     FILE *out = open_for_plplot(ctx, &sf, &s);
     if (out) {
         map_job job = {m, out, w, h, equal, rows, vmin, vmax, {(m->x[0] - hx) * fx, (m->x[m->nx - 1] + hx) * fx,
-                       (m->y[0] - hy) * fy, (m->y[m->ny - 1] + hy) * fy}, "", "", vlabel};
+                       (m->y[0] - hy) * fy, (m->y[m->ny - 1] + hy) * fy}, "", "", vlabel, ""};
+        snprintf(job.title, sizeof job.title, "%s%s", m->title ? m->title : "",
+                 not_to_scale ? (m->title && *m->title ? " (x and y not to scale)" : "x and y not to scale") : "");
         axis_label(job.lx, sizeof job.lx, m->xa.name, ux);
         axis_label(job.ly, sizeof job.ly, m->ya.name, uy);
         s = finish(ctx, &sf, pf_plguard_run(ctx, draw_map, &job));

@@ -103,6 +103,13 @@ int pfl_record_module(lua_State *L, const char *name, const char *source, const 
  * an error raised later frees it). */
 double *pfl_scratch_doubles(lua_State *L, size_t n);
 
+/* Reads the 2D array rows[r][c] at stack index data (r along y, c along x:
+ * camera and optical-depth images, plain arrays) with the coordinate
+ * options at opts (pixel=, or x= and y=; value_name=, value_unit=) into m:
+ * values, axes and labels, in scratch memory on the stack (pfl_pictures.c). */
+struct pf_map;
+void pfl_array_map(lua_State *L, int data, int opts, struct pf_map *m);
+
 /* ---- argument helpers (pfl_args.c) ---- */
 /* Like lua_tointegerx, but only for a number value (a numeric string such
  * as "3" is not an integer option): *ok (may be NULL) says whether the value

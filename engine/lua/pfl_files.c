@@ -10,6 +10,7 @@
 #include <stdlib.h>
 #include <string.h>
 #include "../io/pf_h5.h"
+#include "../io/pf_picture.h"
 #include "../io/pf_samples.h"
 #include "../io/pf_table.h"
 #include "pfl.h"
@@ -19,6 +20,8 @@
 
 static const pfl_options_decl H5FILE_OPTIONS = {"pf.h5file", (const char *const[]){"overwrite", NULL}};
 static const pfl_options_decl PUT_WAVE_OPTIONS = {"h5file:put_wave", (const char *const[]){"parts", NULL}};
+static const pfl_options_decl PUT_IMAGE_OPTIONS = {
+    "h5file:put_image", (const char *const[]){"pixel", "x", "y", "value_name", "value_unit", NULL}};
 static const pfl_options_decl WRITE_CSV_OPTIONS = {"pf.write_csv", (const char *const[]){"overwrite", NULL}};
 static const pfl_options_decl WRITE_CSV_COLUMN = {"pf.write_csv columns[i]", (const char *const[]){"name", "unit", "values", NULL}};
 static const pfl_options_decl PUT_TABLE_COLUMN = {"h5file:put_table columns[i]", (const char *const[]){"name", "unit", "values", NULL}};
@@ -155,6 +158,10 @@ static void write_provenance(lua_State *L, pfl_h5_box *b)
     qsort(ps, i, sizeof *ps, compare_parameters);
     const char *script, *sha;
     pfl_record_script(L, &script, &sha);
+    /* The file name only: the same script run from another folder (or an
+     * installed copy) writes the same bytes; the manifest has the path. */
+    const char *slash = strrchr(script, '/');
+    if (slash) script = slash + 1;
     pf_h5_provenance prov = {.script = script, .script_sha256 = sha, .seed = pfl_seed(L), .nparams = i, .params = ps};
     pf_status s = pf_h5_set_provenance(b->f, &prov);
     lua_settop(L, texts - 1);
@@ -232,6 +239,25 @@ static int l_put_density(lua_State *L)
 }
 
 /* f:put_table(name, columns) */
+/* f:put_image(name, rows [, {pixel=, x=, y=, value_name=, value_unit=}]):
+ * a 2D array (rows[r][c], r along y) such as a camera or optical-depth
+ * image, with its coordinates (m; pixel numbers when none are given). */
+static int l_put_image(lua_State *L)
+{
+    lua_settop(L, 4);
+    pf_h5 *f = check_open(L, 1);
+    const char *name = luaL_checkstring(L, 2);
+    luaL_checktype(L, 3, LUA_TTABLE);
+    pfl_options_opt(L, 4, &PUT_IMAGE_OPTIONS);
+    pf_map m = {0};
+    pfl_array_map(L, 3, 4, &m);
+    int plain = m.xa.q == PF_Q_PLAIN;
+    const char *vname = m.value_name && strcmp(m.value_name, "value") ? m.value_name : "image";
+    pfl_check(L, pf_h5_put_image(f, name, m.nx, m.ny, m.values, m.x, m.y, plain ? "1" : "m", m.value_unit, vname), "put_image");
+    lua_settop(L, 1);
+    return 1;
+}
+
 static int l_put_table(lua_State *L)
 {
     pf_h5 *f = check_open(L, 1);
@@ -643,7 +669,7 @@ void pfl_open_files(lua_State *L, int mod)
     static const luaL_Reg wave_methods[] = {{"log_columns", l_log_columns}, {NULL, NULL}};
     pfl_add_wave_methods(L, wave_methods);
     static const luaL_Reg methods[] = {
-        {"put_wave", l_put_wave}, {"put_density", l_put_density}, {"put_table", l_put_table},
+        {"put_wave", l_put_wave}, {"put_density", l_put_density}, {"put_table", l_put_table}, {"put_image", l_put_image},
         {"put_value", l_put_value}, {"close", l_h5_close}, {"discard", l_h5_discard}, {"path", l_h5_path},
         {NULL, NULL},
     };
@@ -662,7 +688,7 @@ void pfl_open_files(lua_State *L, int mod)
     lua_pop(L, 1);
     pfl_frame_name_functions(L, "h5file:", methods); /* for the FRAME_AWARE list */
     pfl_add_functions(L, mod, funcs);
-    static const pfl_options_decl *const options[] = {&H5FILE_OPTIONS, &PUT_WAVE_OPTIONS, &WRITE_CSV_OPTIONS, &WRITE_CSV_COLUMN, &PUT_TABLE_COLUMN,
+    static const pfl_options_decl *const options[] = {&H5FILE_OPTIONS, &PUT_WAVE_OPTIONS, &PUT_IMAGE_OPTIONS, &WRITE_CSV_OPTIONS, &WRITE_CSV_COLUMN, &PUT_TABLE_COLUMN,
                                                       &LOAD_WAVE_OPTIONS, NULL};
     pfl_options_declare(L, options);
 }

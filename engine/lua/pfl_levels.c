@@ -14,6 +14,8 @@
 #include "../core/pf_observe.h"
 #include "../core/pf_pulse.h"
 #include "pfl.h"
+#include "../core/pf_sample.h"
+#include "pfl_measure.h"
 #include "pfl_options.h"
 
 #define PFL_LEVELS_TYPE "psiflight.levels"
@@ -31,6 +33,8 @@ static const pfl_options_decl BRAGG_OPTIONS = {
     "levels:bragg", (const char *const[]){"level", "rabi", "area", "duration", "envelope", "width", "detuning", "phase",
                                           "wavenumber", "substeps", NULL}};
 static const pfl_options_decl FLY_OPTIONS = {"levels:fly", (const char *const[]){"acceleration", NULL}};
+static const pfl_options_decl SAMPLE_OPTIONS = {
+    "levels:sample", (const char *const[]){"space", "jitter", "seed", "generator", NULL}};
 static const pfl_options_decl ORDERS_OPTIONS = {
     "levels:order_populations", (const char *const[]){"wavenumber", "orders", "center", NULL}};
 
@@ -543,6 +547,93 @@ static int l_order_populations(lua_State *L)
     return 1;
 }
 
+/* lv:sample(n [, {space =, jitter =, seed =, generator =}]) -> events with
+ * their level: ev[a] coordinates per axis, ev.level labels per event, count,
+ * space, unit.  Born rule over levels and positions (or momenta): each event
+ * picks a level with probability equal to its population (one uniform
+ * draw), then a point from that level's density (pf_sample.h); serial, so a
+ * seed gives the same events for any thread count. */
+static int l_sample(lua_State *L)
+{
+    pfl_levels_box *b = check_levels(L, 1);
+    lua_Integer n = luaL_checkinteger(L, 2);
+    if (n < 0 || n > 100000000) return luaL_argerror(L, 2, "event count must be 0..1e8");
+    int opts = pfl_options_opt(L, 3, &SAMPLE_OPTIONS);
+    pf_rep rep = pfl_opt_space(L, opts);
+    int jitter = opts ? pfl_field_boolean(L, opts, "jitter", 1) : 1;
+    pf_rng local;
+    pf_rng *rng = pfl_opt_rng(L, opts, &local);
+    pf_field f[LEVELS_MAX];
+    pf_sampler sm[LEVELS_MAX];
+    double cum[LEVELS_MAX];
+    int ready = 0;
+    const int d = pf_grid_dim(pf_wave_grid(level_wave(L, 1, 0)));
+    double total = 0;
+    /* The event buffer first: it is the last thing here that can raise
+     * before the fields and samplers are released. */
+    double *ev = lua_newuserdatauv(L, (size_t)(n ? n : 1) * (size_t)(d + 1) * sizeof(double), 0);
+    int evbox = lua_gettop(L);
+    pf_status s = PF_OK;
+    /* Fields are read first (each may raise); the samplers after, so a
+     * failure releases exactly what was made. */
+    for (int i = 0; i < b->count; i++) {
+        lua_getiuservalue(L, 1, 1);
+        lua_rawgeti(L, -1, i + 1);
+        pfl_source src;
+        pfl_check_source(L, lua_gettop(L), &src);
+        pfl_source_field(L, &src, rep, &f[i], "sample");
+        lua_pop(L, 3);
+    }
+    for (int i = 0; i < b->count; i++) {
+        double sum = 0;
+        for (size_t j = 0; j < f[i].total; j++) sum += f[i].values[j];
+        double cell = 1;
+        for (int a = 0; a < f[i].dim; a++) cell *= f[i].step[a];
+        total += sum * cell;
+        cum[i] = total;
+    }
+    if (!(total > 0)) s = PF_EINVAL;
+    for (; s == PF_OK && ready < b->count; ready++)
+        if (cum[ready] > (ready ? cum[ready - 1] : 0)) s = pf_sampler_init(&sm[ready], &f[ready]);
+        else sm[ready].cdf = NULL; /* an empty level is never chosen */
+    if (s == PF_OK)
+        for (lua_Integer e = 0; e < n; e++) {
+            double u = pf_rng_uniform(rng) * total;
+            int lvl = 0;
+            while (lvl < b->count - 1 && (u >= cum[lvl] || !sm[lvl].cdf)) lvl++;
+            pf_sampler_draw(&sm[lvl], rng, 1, jitter, ev + (size_t)e * (size_t)(d + 1));
+            ev[(size_t)e * (size_t)(d + 1) + (size_t)d] = lvl;
+        }
+    for (int i = 0; i < ready; i++)
+        if (sm[i].cdf) pf_sampler_free(&sm[i]);
+    for (int i = 0; i < b->count; i++) pf_field_free(&f[i]);
+    if (s == PF_EINVAL && !(total > 0)) return luaL_error(L, "sample: the levels hold no probability");
+    pfl_check(L, s, "sample");
+    (void)evbox;
+    lua_createtable(L, d, 5);
+    for (int a = 0; a < d; a++) {
+        lua_createtable(L, (int)n, 0);
+        for (lua_Integer e = 0; e < n; e++) {
+            lua_pushnumber(L, ev[(size_t)e * (size_t)(d + 1) + (size_t)a]);
+            lua_rawseti(L, -2, e + 1);
+        }
+        lua_rawseti(L, -2, a + 1);
+    }
+    lua_createtable(L, (int)n, 0);
+    for (lua_Integer e = 0; e < n; e++) {
+        lua_pushstring(L, b->label[(int)ev[(size_t)e * (size_t)(d + 1) + (size_t)d]]);
+        lua_rawseti(L, -2, e + 1);
+    }
+    lua_setfield(L, -2, "level");
+    lua_pushinteger(L, n);
+    lua_setfield(L, -2, "count");
+    lua_pushstring(L, rep == PF_POSITION ? "position" : "momentum");
+    lua_setfield(L, -2, "space");
+    lua_pushstring(L, rep == PF_POSITION ? "m" : "1/m");
+    lua_setfield(L, -2, "unit");
+    return 1;
+}
+
 /* lv:level(label) -> the wave of that level (shared, not a copy) */
 static int l_level(lua_State *L)
 {
@@ -624,6 +715,7 @@ void pfl_open_levels(lua_State *L, int mod)
     static const luaL_Reg methods[] = {
         {"pulse", l_pulse},   {"bragg", l_bragg},   {"fly", l_fly},       {"populations", l_populations},
         {"order_populations", l_order_populations}, {"level", l_level},   {"labels", l_labels},
+        {"sample", l_sample},
         {"energy", l_energy}, {"clock", l_clock},   {"norm", l_norm},     {"close", l_close},
         {NULL, NULL},
     };
@@ -638,6 +730,6 @@ void pfl_open_levels(lua_State *L, int mod)
     lua_pop(L, 1);
     pfl_add_functions(L, mod, funcs);
     static const pfl_options_decl *const options[] = {&LEVELS_OPTIONS, &PULSE_OPTIONS, &BRAGG_OPTIONS, &FLY_OPTIONS,
-                                                      &ORDERS_OPTIONS, NULL};
+                                                      &ORDERS_OPTIONS, &SAMPLE_OPTIONS, NULL};
     pfl_options_declare(L, options);
 }

@@ -5,6 +5,7 @@
 #include <stdlib.h>
 #include <string.h>
 #include "../core/pf_advise.h"
+#include "../core/pf_constants.h"
 #include "../core/pf_resolution.h"
 #include "../core/pf_farfield.h"
 #include "../core/pf_frame.h"
@@ -16,7 +17,7 @@ static const pfl_options_decl FLY_LONG_OPTIONS = {
     "wave:fly_long", (const char *const[]){"method", "grid", "points", "spacing", "origin", "acceleration", NULL}};
 static const pfl_options_decl FLY_SCALED_OPTIONS = {"wave:fly_scaled", (const char *const[]){"points", "origin", "acceleration", NULL}};
 static const pfl_options_decl FAR_FIELD_OPTIONS = {"wave:far_field", (const char *const[]){"acceleration", NULL}};
-#define ADVICE_COMMON_KEYS "time", "kicks", "margin", "image_points"
+#define ADVICE_COMMON_KEYS "time", "kicks", "margin", "image_points", "acceleration"
 static const pfl_options_decl WAVE_ADVICE_OPTIONS = {"wave:grid_advice", (const char *const[]){ADVICE_COMMON_KEYS, NULL}};
 static const pfl_options_decl ADVICE_OPTIONS = {
     "pf.grid_advice",
@@ -253,7 +254,42 @@ static void push_proposal(lua_State *L, const pf_grid_proposal *p, int d)
     set_vector(L, "origin", p->origin, d);
 }
 
-static int push_advice(lua_State *L, const pf_advice_request *q, const pf_advice *adv)
+/* Under an acceleration the proposals are co-moving grids (the frame carries
+ * the drop, docs/frames.md); the 'frame' table says what the frame takes
+ * over: the drop a t^2/2 and velocity a t per axis, and the single fixed lab
+ * grid w:fall would need to hold both the cloud and the drop at the
+ * same-grid proposal's spacing (span + |drop|).  On that grid the gained
+ * wave number m |a| t / hbar wraps around wherever it passes the Nyquist
+ * limit (positions stay exact; the momentum guard fires), which
+ * 'lab_grid_wraps' says per axis. */
+static void push_frame_advice(lua_State *L, const pf_advice_request *q, const pf_advice *adv, const double *acc)
+{
+    int d = q->dim;
+    double drop[PF_MAX_DIM], vel[PF_MAX_DIM], span[PF_MAX_DIM], points[PF_MAX_DIM];
+    double total = 1;
+    lua_createtable(L, 0, 7);
+    lua_createtable(L, d, 0); /* lab_grid_wraps */
+    for (int a = 0; a < d; a++) {
+        drop[a] = 0.5 * acc[a] * q->time * q->time;
+        vel[a] = acc[a] * q->time;
+        double dx = adv->same.spacing[a];
+        span[a] = adv->same.span[a] + fabs(drop[a]);
+        points[a] = ceil(span[a] / dx);
+        total *= points[a];
+        lua_pushboolean(L, q->mass * fabs(vel[a]) / PF_HBAR + fmax(fabs(q->k_lo[a]), fabs(q->k_hi[a])) > PF_PI / dx);
+        lua_rawseti(L, -2, a + 1);
+    }
+    lua_setfield(L, -2, "lab_grid_wraps");
+    set_vector(L, "drop", drop, d);
+    set_vector(L, "velocity", vel, d);
+    set_vector(L, "lab_grid_span", span, d);
+    set_vector(L, "lab_grid_points", points, d);
+    lua_pushnumber(L, total * 16.0); /* one complex double per point */
+    lua_setfield(L, -2, "lab_grid_memory");
+    lua_setfield(L, -2, "frame");
+}
+
+static int push_advice(lua_State *L, const pf_advice_request *q, const pf_advice *adv, const double *acc)
 {
     int d = q->dim;
     lua_createtable(L, 0, 4);
@@ -279,6 +315,7 @@ static int push_advice(lua_State *L, const pf_advice_request *q, const pf_advice
     set_vector(L, "extent_hi", q->x_hi, d);
     set_vector(L, "wavenumber_lo", q->k_lo, d);
     set_vector(L, "wavenumber_hi", q->k_hi, d);
+    if (acc) push_frame_advice(L, q, adv, acc);
     return 1;
 }
 
@@ -313,9 +350,11 @@ static int l_wave_grid_advice(lua_State *L)
     pf_rep other = pf_wave_rep(w) == PF_POSITION ? PF_MOMENTUM : PF_POSITION;
     pfl_check(L, pf_wave_extent(w, other, eps, other == PF_POSITION ? q.x_lo : q.k_lo,
                                 other == PF_POSITION ? q.x_hi : q.k_hi), "grid_advice");
+    double acc[PF_MAX_DIM];
+    int accelerated = pfl_frame_acceleration(L, 2, q.dim, acc, "wave:grid_advice");
     pf_advice adv;
     pfl_check(L, pf_grid_advise(pfl_ctx(L), &q, &adv), "grid_advice");
-    return push_advice(L, &q, &adv);
+    return push_advice(L, &q, &adv, accelerated ? acc : NULL);
 }
 
 /* z with P(|Z| > z) = eps for a standard normal Z: erfc(z / sqrt 2) = eps,
@@ -367,9 +406,11 @@ static int l_grid_advice(lua_State *L)
         q.k_lo[a] = k0[a] - z * sk[a];
         q.k_hi[a] = k0[a] + z * sk[a];
     }
+    double acc[PF_MAX_DIM];
+    int accelerated = pfl_frame_acceleration(L, 1, q.dim, acc, "pf.grid_advice");
     pf_advice adv;
     pfl_check(L, pf_grid_advise(pfl_ctx(L), &q, &adv), "grid_advice");
-    return push_advice(L, &q, &adv);
+    return push_advice(L, &q, &adv, accelerated ? acc : NULL);
 }
 
 void pfl_open_longflight(lua_State *L, int mod)

@@ -6,6 +6,7 @@
 #include <math.h>
 #include <stdio.h>
 #include <string.h>
+#include "../core/pf_constants.h"
 #include "../core/pf_frame.h"
 #include "../core/pf_ops.h"
 #include "pfl_options.h"
@@ -44,6 +45,20 @@ static void opt_table(lua_State *L, int arg)
         lua_newtable(L);
     }
     luaL_checktype(L, arg, LUA_TTABLE);
+}
+
+/* Positions and velocities given to the masks and pulses below are lab
+ * ones; for a wave in a moving frame (pf_frame.h) they are converted to the
+ * co-moving grid here: x_grid = x_lab - X, v_grid = v_lab - hbar K / m.
+ * Both are all zero for a wave that never moved. */
+static void frame_offsets(const pf_wave *w, double *X, double *V)
+{
+    pf_frame f;
+    pf_wave_frame(w, &f);
+    for (int a = 0; a < PF_MAX_DIM; a++) {
+        X[a] = f.position[a];
+        V[a] = PF_HBAR * f.wavenumber[a] / pf_wave_mass(w);
+    }
 }
 
 /* w:kick(kx [, ky, kz] [, {frame = true}]) - momentum kick hbar k (k in
@@ -86,6 +101,11 @@ static int l_grating(lua_State *L)
     double depth = pfl_field_number(L, 2, "depth", 0, 1);
     double period = pfl_field_number(L, 2, "period", 0, 1);
     double phase = pfl_field_number(L, 2, "phase", 0, 0);
+    double X[PF_MAX_DIM], V[PF_MAX_DIM];
+    frame_offsets(w, X, V);
+    /* cos(2 pi (xi + X) / period + phase): the offset's whole periods drop out
+     * exactly before the phase is formed. */
+    if (X[axis] != 0 && isfinite(period) && period > 0) phase += PF_TWO_PI * fmod(X[axis] / period, 1.0);
     pfl_check(L, pf_wave_grating(w, axis, depth, period, phase), "grating");
     lua_settop(L, 1);
     return 1;
@@ -106,7 +126,27 @@ static int l_lens(lua_State *L)
     if (axis == 0) axis = pfl_field_axis(L, 3, "axis", pf_wave_grid(w), 1, "lens");
     double center[PF_MAX_DIM] = {0, 0, 0};
     pfl_field_vector(L, 3, "center", d, center, 0);
-    pfl_check(L, pf_wave_lens(w, axis, f, center), "lens");
+    if (!pf_wave_frame_moved(w)) {
+        pfl_check(L, pf_wave_lens(w, axis, f, center), "lens");
+        lua_settop(L, 1);
+        return 1;
+    }
+    /* Moving frame: -m (xi - c')^2 / 2 hbar f with c' = c - X splits into a
+     * lens about the grid's 0, a kick q = m c' / (hbar f) that goes into the
+     * frame (so a lens far from the cloud needs no momentum on the grid) and
+     * a constant phase -m c'^2 / (2 hbar f). */
+    pf_frame fr;
+    pf_wave_frame(w, &fr);
+    double q[PF_MAX_DIM] = {0, 0, 0};
+    for (int a = 0; a < d; a++) {
+        if (axis >= 0 && a != axis) continue;
+        double c = center[a] - fr.position[a];
+        q[a] = pf_wave_mass(w) * c / (PF_HBAR * f);
+        fr.phase -= pf_wave_mass(w) * c * c / (2 * PF_HBAR * f);
+    }
+    pfl_check(L, pf_wave_lens(w, axis, f, NULL), "lens");
+    for (int a = 0; a < d; a++) fr.wavenumber[a] += q[a]; /* exp(i q xi): K += q, no phase q.X */
+    pfl_check(L, pf_wave_set_frame(w, &fr), "lens");
     lua_settop(L, 1);
     return 1;
 }
@@ -149,6 +189,9 @@ static int slits(lua_State *L, const char *name, int single)
     double width = pfl_field_number(L, 2, "width", 0, 1);
     double pitch = single ? 0 : pfl_field_number(L, 2, "pitch", 0, count > 1);
     double center = pfl_field_number(L, 2, "center", 0, 0);
+    double X[PF_MAX_DIM], V[PF_MAX_DIM];
+    frame_offsets(w, X, V);
+    center -= X[axis];
     pf_edges e = field_edges(L, 2, name);
     double removed = 0;
     pfl_check(L, pf_wave_slits(w, axis, (int)count, width, pitch, center, &e, &removed), name);
@@ -167,6 +210,9 @@ static int l_mask_grating(lua_State *L)
     double period = pfl_field_number(L, 2, "period", 0, 1);
     double open = pfl_field_number(L, 2, "open_fraction", 0.5, 0);
     double offset = pfl_field_number(L, 2, "offset", 0, 0);
+    double X[PF_MAX_DIM], V[PF_MAX_DIM];
+    frame_offsets(w, X, V);
+    if (X[axis] != 0 && isfinite(period) && period > 0) offset -= period * fmod(X[axis] / period, 1.0);
     pf_edges e = field_edges(L, 2, "mask_grating");
     double removed = 0;
     pfl_check(L, pf_wave_mask_grating(w, axis, period, open, offset, &e, &removed), "mask_grating");
@@ -208,6 +254,8 @@ static int l_aperture(lua_State *L)
     pfl_options_check(L, 2, &APERTURE_OPTIONS);
     int d = dim_of(w);
     pf_edges e = field_edges(L, 2, "aperture");
+    double X[PF_MAX_DIM], V[PF_MAX_DIM];
+    frame_offsets(w, X, V);
     pfl_option_get(L, 2, "shape");
     const char *shape = lua_tostring(L, -1);
     double removed = 0;
@@ -230,11 +278,13 @@ static int l_aperture(lua_State *L)
         double radius = pfl_field_number(L, 2, "radius", 0, 1);
         double center[2] = {0, 0};
         pfl_field_vector(L, 2, "center", 2, center, 0);
+        for (int i = 0; i < 2; i++) center[i] -= X[axes[i]];
         pfl_check(L, pf_wave_aperture_circle(w, axes[0], axes[1], center, radius, &e, &removed), "aperture");
     } else if (lua_type(L, -1) == LUA_TSTRING && strcmp(shape, "rectangle") == 0) {
         double size[PF_MAX_DIM], center[PF_MAX_DIM] = {0, 0, 0};
         read_sizes(L, 2, d, size);
         pfl_field_vector(L, 2, "center", d, center, 0);
+        for (int a = 0; a < d; a++) center[a] -= X[a];
         pfl_check(L, pf_wave_aperture_rect(w, center, size, &e, &removed), "aperture");
     } else {
         char buf[80];
@@ -291,8 +341,10 @@ static int l_select_velocity(lua_State *L)
         }
     }
     lua_pop(L, 1);
+    double X[PF_MAX_DIM], V[PF_MAX_DIM];
+    frame_offsets(w, X, V);
     double removed = 0;
-    pfl_check(L, pf_wave_select_velocity(w, axis, center, width, gaussian, &removed), "select_velocity");
+    pfl_check(L, pf_wave_select_velocity(w, axis, center - V[axis], width, gaussian, &removed), "select_velocity");
     return push_masked(L, removed);
 }
 

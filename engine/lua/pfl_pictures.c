@@ -12,7 +12,8 @@
 #include "pfl_options.h"
 
 static const pfl_options_decl MAP_OPTIONS = {
-    "pf.picture_map", (const char *const[]){"title", "space", "aspect", "width", "height", "overwrite", NULL}};
+    "pf.picture_map", (const char *const[]){"title", "space", "aspect", "width", "height", "overwrite", "x_range", "y_range",
+                                            "crop", "pixel", "x", "y", "value_name", "value_unit", NULL}};
 static const pfl_options_decl LINES_OPTIONS = {
     "pf.picture_lines", (const char *const[]){"title", "x_name", "x_quantity", "y_name", "y_unit", "y_per_x", "log_y",
                                               "legend", "width", "height", "series", "overwrite", NULL}};
@@ -81,47 +82,245 @@ static int aspect_option(lua_State *L, int opts)
     return luaL_error(L, "picture_map: field 'aspect' must be \"equal\" or \"fill\", got '%s'", a);
 }
 
-/* pf.picture_map(path, w [, {title=, space=, aspect="equal"|"fill",
+/* Index range [*lo, *hi] of the ascending axis v (n samples) inside [a, b];
+ * an error when fewer than two samples fall inside. */
+static void range_indices(lua_State *L, const double *v, size_t n, const double r[2], const char *field, size_t *lo,
+                          size_t *hi)
+{
+    size_t i0 = 0, i1 = n;
+    while (i0 < n && v[i0] < r[0]) i0++;
+    while (i1 > 0 && v[i1 - 1] > r[1]) i1--;
+    if (i1 < i0 + 2)
+        luaL_error(L, "picture_map: %s {%g, %g} holds fewer than 2 samples of the axis (%g .. %g)", field, r[0], r[1], v[0],
+                   v[n - 1]);
+    *lo = i0;
+    *hi = i1 - 1;
+}
+
+/* Index range holding all but a fraction 2e-4 of sum |values| on each side
+ * along one axis (marginal sums), widened by a quarter of its length and
+ * two samples on each side: where the probability is, with some room. */
+static void where_probability_is(const double *marg, size_t n, size_t *lo, size_t *hi)
+{
+    double total = 0;
+    for (size_t i = 0; i < n; i++) total += marg[i];
+    if (!(total > 0)) {
+        *lo = 0, *hi = n - 1;
+        return;
+    }
+    double acc = 0, cut = 2e-4 * total;
+    size_t i0 = 0, i1 = n - 1;
+    for (size_t i = 0; i < n; i++) {
+        acc += marg[i];
+        if (acc > cut) { i0 = i; break; }
+    }
+    acc = 0;
+    for (size_t i = n; i-- > 0;) {
+        acc += marg[i];
+        if (acc > cut) { i1 = i; break; }
+    }
+    size_t pad = (i1 - i0) / 4 + 2;
+    *lo = i0 > pad ? i0 - pad : 0;
+    *hi = i1 + pad < n ? i1 + pad : n - 1;
+    if (*hi < *lo + 7) { /* keep a few cells around a point-like cloud */
+        *lo = *lo > 4 ? *lo - 4 : 0;
+        *hi = *hi + 4 < n ? *hi + 4 : n - 1;
+    }
+}
+
+/* Crops m in place to x_range / y_range (coordinates in SI) and, where no
+ * range is given and autocrop is set, to where the values are; the cropped
+ * samples are copied to scratch memory. */
+static void crop_map(lua_State *L, int opts, pf_map *m, int autocrop)
+{
+    size_t nx = m->nx, ny = m->ny, x0 = 0, x1 = nx - 1, y0 = 0, y1 = ny - 1;
+    double r[2];
+    int has_x = lua_type(L, opts) == LUA_TTABLE && pfl_field_vector(L, opts, "x_range", 2, r, 0);
+    if (has_x) {
+        if (!(r[1] > r[0])) luaL_error(L, "picture_map: x_range must be {lo, hi} with lo < hi");
+        range_indices(L, m->x, nx, r, "x_range", &x0, &x1);
+    }
+    int has_y = lua_type(L, opts) == LUA_TTABLE && pfl_field_vector(L, opts, "y_range", 2, r, 0);
+    if (has_y) {
+        if (!(r[1] > r[0])) luaL_error(L, "picture_map: y_range must be {lo, hi} with lo < hi");
+        range_indices(L, m->y, ny, r, "y_range", &y0, &y1);
+    }
+    if (autocrop && (!has_x || !has_y)) {
+        double *mx = pfl_scratch_doubles(L, nx), *my = pfl_scratch_doubles(L, ny);
+        for (size_t i = 0; i < nx; i++) mx[i] = 0;
+        for (size_t j = 0; j < ny; j++) my[j] = 0;
+        for (size_t i = 0; i < nx; i++)
+            for (size_t j = 0; j < ny; j++) {
+                double v = fabs(m->values[i * ny + j]);
+                mx[i] += v;
+                my[j] += v;
+            }
+        if (!has_x) where_probability_is(mx, nx, &x0, &x1);
+        if (!has_y) where_probability_is(my, ny, &y0, &y1);
+    }
+    if (x0 == 0 && x1 == nx - 1 && y0 == 0 && y1 == ny - 1) return;
+    size_t cx = x1 - x0 + 1, cy = y1 - y0 + 1;
+    double *v = pfl_scratch_doubles(L, cx * cy);
+    for (size_t i = 0; i < cx; i++)
+        for (size_t j = 0; j < cy; j++) v[i * cy + j] = m->values[(x0 + i) * ny + y0 + j];
+    m->values = v;
+    m->x += x0;
+    m->y += y0;
+    m->nx = cx;
+    m->ny = cy;
+}
+
+/* One coordinate array option (x= or y=) of an array map: n ascending,
+ * uniformly spaced numbers (m). */
+static const double *array_axis(lua_State *L, int opts, const char *field, size_t n)
+{
+    if (pfl_option_get(L, opts, field) != LUA_TTABLE) luaL_error(L, "picture_map: '%s' must be an array of %d coordinates (m)", field, (int)n);
+    if ((size_t)luaL_len(L, -1) != n)
+        luaL_error(L, "picture_map: '%s' has %d coordinates for %d samples", field, (int)luaL_len(L, -1), (int)n);
+    int t = lua_gettop(L);
+    double *v = pfl_scratch_doubles(L, n);
+    for (size_t i = 0; i < n; i++) {
+        lua_geti(L, t, (lua_Integer)i + 1);
+        int ok;
+        v[i] = lua_tonumberx(L, -1, &ok);
+        if (!ok || !isfinite(v[i])) luaL_error(L, "picture_map: '%s' entry %d is not a finite number", field, (int)i + 1);
+        lua_pop(L, 1);
+    }
+    lua_remove(L, t); /* the scratch array stays */
+    return v;
+}
+
+/* A map of a plain 2D array: rows[r][c], row r along y (bottom row first,
+ * as image[row][column] of pf.camera and its optical-depth images), column c
+ * along x.  Coordinates from x= and y= (m), or pixel= (m, number or
+ * {px, py}; centred on the middle of the image), else column and row
+ * numbers. */
+void pfl_array_map(lua_State *L, int data, int opts, pf_map *m)
+{
+    size_t ny = (size_t)luaL_len(L, data), nx = 0;
+    if (ny < 2) luaL_error(L, "picture_map: a 2D array needs at least 2 rows, got %d", (int)ny);
+    for (size_t r = 0; r < ny; r++) {
+        if (lua_geti(L, data, (lua_Integer)r + 1) != LUA_TTABLE) luaL_error(L, "picture_map: row %d is not an array of numbers", (int)r + 1);
+        size_t len = (size_t)luaL_len(L, -1);
+        if (r == 0) nx = len;
+        if (len != nx || nx < 2) luaL_error(L, "picture_map: row %d has %d values, row 1 has %d (at least 2)", (int)r + 1, (int)len, (int)nx);
+        lua_pop(L, 1);
+    }
+    double *v = pfl_scratch_doubles(L, nx * ny);
+    for (size_t r = 0; r < ny; r++) {
+        lua_geti(L, data, (lua_Integer)r + 1);
+        for (size_t c = 0; c < nx; c++) {
+            lua_geti(L, -1, (lua_Integer)c + 1);
+            int ok;
+            double x = lua_tonumberx(L, -1, &ok);
+            if (!ok) luaL_error(L, "picture_map: row %d, column %d is not a number", (int)r + 1, (int)c + 1);
+            v[c * ny + r] = x;
+            lua_pop(L, 1);
+        }
+        lua_pop(L, 1);
+    }
+    int has_opts = lua_type(L, opts) == LUA_TTABLE;
+    double pix[2] = {0, 0};
+    int has_pixel = 0;
+    if (has_opts && pfl_option_get(L, opts, "pixel") != LUA_TNIL) {
+        has_pixel = 1;
+        if (lua_type(L, -1) == LUA_TNUMBER) pix[0] = pix[1] = lua_tonumber(L, -1);
+        else pfl_field_vector(L, opts, "pixel", 2, pix, 1);
+        if (!(pix[0] > 0) || !(pix[1] > 0) || !isfinite(pix[0]) || !isfinite(pix[1]))
+            luaL_error(L, "picture_map: 'pixel' must be a positive size in m (or {px, py})");
+    }
+    if (has_opts) lua_pop(L, 1);
+    int has_x = has_opts && pfl_option_get(L, opts, "x") != LUA_TNIL;
+    if (has_opts) lua_pop(L, 1);
+    int has_y = has_opts && pfl_option_get(L, opts, "y") != LUA_TNIL;
+    if (has_opts) lua_pop(L, 1);
+    if (has_pixel && (has_x || has_y)) luaL_error(L, "picture_map: give 'pixel' or 'x' and 'y', not both");
+    if (has_x != has_y) luaL_error(L, "picture_map: give both 'x' and 'y' coordinate arrays");
+    double *xs = NULL, *ys = NULL;
+    if (has_x) {
+        m->x = array_axis(L, opts, "x", nx);
+        m->y = array_axis(L, opts, "y", ny);
+    } else {
+        xs = pfl_scratch_doubles(L, nx);
+        ys = pfl_scratch_doubles(L, ny);
+        double px = has_pixel ? pix[0] : 1, py = has_pixel ? pix[1] : 1;
+        double cx = has_pixel ? (double)(nx - 1) / 2 : -1, cy = has_pixel ? (double)(ny - 1) / 2 : -1;
+        for (size_t i = 0; i < nx; i++) xs[i] = ((double)i - cx) * px;
+        for (size_t j = 0; j < ny; j++) ys[j] = ((double)j - cy) * py;
+        m->x = xs;
+        m->y = ys;
+    }
+    pf_quantity q = has_x || has_pixel ? PF_Q_LENGTH : PF_Q_PLAIN;
+    m->xa = (pf_plot_axis){q == PF_Q_PLAIN ? "column" : "x", q};
+    m->ya = (pf_plot_axis){q == PF_Q_PLAIN ? "row" : "y", q};
+    m->nx = nx, m->ny = ny;
+    m->values = v;
+    m->value_name = opt_str(L, opts, "value_name", "value");
+    m->value_unit = opt_str(L, opts, "value_unit", "");
+    m->per_x = m->per_y = 0;
+}
+
+/* pf.picture_map(path, w | rows [, {title=, space=, aspect="equal"|"fill",
+ *   x_range=, y_range=, crop=, pixel=, x=, y=, value_name=, value_unit=,
  *   width=, height=}])
  * -> final path.  2D: |psi|^2 over x, y; 3D: the column density along the
- * third axis (what an absorption image along z records). */
+ * third axis (what an absorption image along z records); a 2D array of
+ * numbers (camera counts, optical depth, anything): its values. */
 static int l_picture_map(lua_State *L)
 {
     lua_settop(L, 3); /* the options stay at 3 when the resolved path is pushed */
     const char *path = pfl_output_resolve(L, luaL_checkstring(L, 1), "picture_map");
     int pathidx = lua_gettop(L);
-    pf_wave *w = pfl_check_wave(L, 2);
-    pf_grid *g = pf_wave_grid(w);
-    int d = pf_grid_dim(g);
-    if (d < 2) return luaL_error(L, "picture_map: needs a 2D or 3D wave function; for 1D use picture_lines or picture_carpet");
     pfl_options_opt(L, 3, &MAP_OPTIONS);
-    pf_rep rep = opt_rep(L, 3);
-    size_t nx = pf_grid_points(g, 0), ny = pf_grid_points(g, 1), nz = d > 2 ? pf_grid_points(g, 2) : 1;
-    double *rho = pfl_scratch_doubles(L, pf_grid_total(g));
-    pfl_check(L, pf_wave_density(w, rep, rho), "picture_map");
-    if (d == 3) {
-        double dz = rep == PF_POSITION ? pf_grid_spacing(g, 2) : pf_grid_kspacing(g, 2);
-        for (size_t i = 0; i < nx * ny; i++) {
-            double sum = 0;
-            for (size_t k = 0; k < nz; k++) sum += rho[i * nz + k];
-            rho[i] = sum * dz;
+    pf_map m = {.equal_aspect = aspect_option(L, 3), .width = opt_int(L, 3, "width", 0), .height = opt_int(L, 3, "height", 0)};
+    int crop = lua_type(L, 3) == LUA_TTABLE ? pfl_field_boolean(L, 3, "crop", -1) : -1;
+    pf_wave *w = NULL;
+    if (lua_type(L, 2) == LUA_TTABLE) {
+        pfl_array_map(L, 2, 3, &m);
+        m.title = opt_str(L, 3, "title", "");
+        if (lua_type(L, 3) == LUA_TTABLE) {
+            int t = pfl_option_get(L, 3, "space");
+            lua_pop(L, 1);
+            if (t != LUA_TNIL) return luaL_error(L, "picture_map: 'space' applies to a wave function, not to an array");
         }
+        crop_map(L, 3, &m, crop == 1);
+    } else {
+        w = pfl_check_wave(L, 2);
+        if (lua_type(L, 3) == LUA_TTABLE)
+            for (const char *const *k = (const char *const[]){"pixel", "x", "y", "value_name", "value_unit", NULL}; *k; k++) {
+                int t = pfl_option_get(L, 3, *k);
+                lua_pop(L, 1);
+                if (t != LUA_TNIL) return luaL_error(L, "picture_map: '%s' applies to a 2D array, not to a wave function", *k);
+            }
+        pf_grid *g = pf_wave_grid(w);
+        int d = pf_grid_dim(g);
+        if (d < 2) return luaL_error(L, "picture_map: needs a 2D or 3D wave function; for 1D use picture_lines or picture_carpet");
+        pf_rep rep = opt_rep(L, 3);
+        size_t nx = pf_grid_points(g, 0), ny = pf_grid_points(g, 1), nz = d > 2 ? pf_grid_points(g, 2) : 1;
+        double *rho = pfl_scratch_doubles(L, pf_grid_total(g));
+        pfl_check(L, pf_wave_density(w, rep, rho), "picture_map");
+        if (d == 3) {
+            double dz = rep == PF_POSITION ? pf_grid_spacing(g, 2) : pf_grid_kspacing(g, 2);
+            for (size_t i = 0; i < nx * ny; i++) {
+                double sum = 0;
+                for (size_t k = 0; k < nz; k++) sum += rho[i * nz + k];
+                rho[i] = sum * dz;
+            }
+        }
+        pf_quantity q = rep == PF_POSITION ? PF_Q_LENGTH : PF_Q_WAVENUMBER;
+        m.title = opt_str(L, 3, "title", rep == PF_POSITION ? "density" : "momentum density");
+        m.xa = (pf_plot_axis){rep == PF_POSITION ? "x" : "k#dx#u", q};
+        m.ya = (pf_plot_axis){rep == PF_POSITION ? "y" : "k#dy#u", q};
+        m.nx = nx, m.ny = ny;
+        m.x = axis_table(L, w, 0, rep), m.y = axis_table(L, w, 1, rep);
+        m.values = rho;
+        m.value_name = d == 3 ? "column density" : (rep == PF_POSITION ? "|#gq|#u2#d" : "|#gf|#u2#d");
+        m.per_x = 1, m.per_y = 1;
+        /* A state's map shows where the probability is unless told not to. */
+        crop_map(L, 3, &m, crop != 0);
     }
-    pf_quantity q = rep == PF_POSITION ? PF_Q_LENGTH : PF_Q_WAVENUMBER;
-    pf_map m = {
-        .title = opt_str(L, 3, "title", rep == PF_POSITION ? "density" : "momentum density"),
-        .xa = {rep == PF_POSITION ? "x" : "k#dx#u", q},
-        .ya = {rep == PF_POSITION ? "y" : "k#dy#u", q},
-        .nx = nx, .ny = ny,
-        .x = axis_table(L, w, 0, rep), .y = axis_table(L, w, 1, rep),
-        .values = rho,
-        .value_name = d == 3 ? "column density" : (rep == PF_POSITION ? "|#gq|#u2#d" : "|#gf|#u2#d"),
-        .per_x = 1, .per_y = 1,
-        .equal_aspect = aspect_option(L, 3),
-        .width = opt_int(L, 3, "width", 0), .height = opt_int(L, 3, "height", 0),
-    };
     commit_picture(L, pf_picture_map(pfl_ctx(L), path, pfl_overwrite_option(L, 3), &m), path, "picture_map");
-    pfl_note_guards(L, w);
+    if (w) pfl_note_guards(L, w);
     lua_pushvalue(L, pathidx);
     return 1;
 }

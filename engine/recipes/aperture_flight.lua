@@ -107,6 +107,18 @@ function recipe.main(p)
   for _, name in ipairs(common.sorted_keys(out.results)) do
     common.report(name, out.results[name][1], out.results[name][2])
   end
+  local g = out.wave:grid()
+  local k = g:k_axis(1)
+  local rho = out.wave:density()
+  common.write_results(recipe.name, out, {
+    waves = {{"beam", out.wave, "both"}},
+    tables = {{"momentum_density", {{"k", "1/m", k}, {"density", "m", out.momentum_density}}}},
+    pictures = {{"aperture_flight.png", {
+      title = "beam after the slit and the flight", x_name = "x", x_quantity = "length",
+      y_name = "|#gq|#u2#d", y_per_x = true, legend = "upper right",
+      series = {{x = g:x_axis(1), y = rho, label = "engine"}},
+    }}},
+  })
   return out
 end
 

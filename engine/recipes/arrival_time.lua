@@ -126,6 +126,17 @@ function recipe.main(p)
   for _, name in ipairs(common.sorted_keys(out.results)) do
     common.report(name, out.results[name][1], out.results[name][2])
   end
+  common.write_results(recipe.name, out, {
+    tables = {
+      {"flux", {{"t", "s", out.mids}, {"flux", "1/s", out.flux}}},
+      {"beyond", {{"t", "s", out.times}, {"probability_beyond", "", out.beyond}}},
+    },
+    pictures = {{"arrival_time.png", {
+      title = "probability flux through the detector plane", x_name = "t", x_quantity = "time",
+      y_name = "flux", y_unit = "1/s", legend = "upper right",
+      series = {{x = out.mids, y = out.flux, label = "engine"}},
+    }}},
+  })
   return out
 end
 

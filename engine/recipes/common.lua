@@ -81,6 +81,31 @@ function common.probability_between(w, a, b)
   return w:beyond{axis = 1, at = a} - w:beyond{axis = 1, at = b}
 end
 
+-- Writes a recipe's main result as files a lab opens (docs/outputs.md), in
+-- the run's output folder: NAME.h5 holding files.waves ({item, wave, parts}),
+-- files.tables ({item, columns}) and every finite scalar result as a value
+-- item; NAME.csv with the first table; and each picture of files.pictures
+-- ({file, options} for pf.picture_lines, or {file, wave_or_array, options,
+-- map = true} for pf.picture_map).  Returns the paths written.
+function common.write_results(name, out, files)
+  local paths = {}
+  local h5 = pf.h5file(name .. ".h5")
+  for _, w in ipairs(files.waves or {}) do h5:put_wave(w[1], w[2], {parts = w[3] or "psi"}) end
+  for _, img in ipairs(files.images or {}) do h5:put_image(img[1], img[2], img[3]) end
+  for _, t in ipairs(files.tables or {}) do h5:put_table(t[1], t[2]) end
+  for _, k in ipairs(common.sorted_keys(out.results)) do
+    local v, unit = out.results[k][1], out.results[k][2]
+    if v == v and v ~= math.huge and v ~= -math.huge then h5:put_value(k, v, unit or "") end
+  end
+  paths[#paths + 1] = h5:close()
+  if files.tables and files.tables[1] then paths[#paths + 1] = pf.write_csv(name .. ".csv", files.tables[1][2]) end
+  for _, pic in ipairs(files.pictures or {}) do
+    if pic.map then paths[#paths + 1] = pf.picture_map(pic[1], pic[2], pic[3])
+    else paths[#paths + 1] = pf.picture_lines(pic[1], pic[2]) end
+  end
+  return paths
+end
+
 -- Sorted keys of a table, for deterministic output.
 function common.sorted_keys(t)
   local keys = {}

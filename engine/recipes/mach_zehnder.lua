@@ -133,6 +133,20 @@ function recipe.main(p)
   for _, name in ipairs(common.sorted_keys(out.results)) do
     common.report(name, out.results[name][1], out.results[name][2])
   end
+  local phases, upper, formula = {}, {}, {}
+  for i, s in ipairs(out.scan) do
+    phases[i], upper[i], formula[i] = s.phase, s.upper, (1 - math.cos(s.phase + gp)) / 2
+  end
+  common.write_results(recipe.name, out, {
+    waves = {{"upper_port", out.ports.upper}, {"lower_port", out.ports.lower}},
+    tables = {{"fringe", {{"phase3", "rad", phases}, {"upper_fraction", "", upper}, {"formula", "", formula}}}},
+    pictures = {{"mach_zehnder.png", {
+      title = "upper-port fraction against the last pulse's phase", x_name = "laser phase (rad)",
+      y_name = "upper-port fraction", legend = "upper right",
+      series = {{x = phases, y = upper, label = "engine"},
+                {x = phases, y = formula, label = "textbook fringe", points = true}},
+    }}},
+  })
   return out
 end
 

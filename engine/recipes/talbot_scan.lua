@@ -132,6 +132,17 @@ function recipe.main(p)
   for _, name in ipairs(common.sorted_keys(out.results)) do
     common.report(name, out.results[name][1], out.results[name][2])
   end
+  local ts, image, shifted = {}, {}, {}
+  for i, s in ipairs(out.scan) do ts[i], image[i], shifted[i] = s.t / out.talbot_time, s.image, s.shifted end
+  common.write_results(recipe.name, out, {
+    tables = {{"scan", {{"t_over_talbot", "", ts}, {"overlap", "", image}, {"shifted_overlap", "", shifted}}}},
+    pictures = {{"talbot_scan.png", {
+      title = "overlap with the initial grating image over Talbot times", x_name = "t / T#dT#u",
+      y_name = "overlap", legend = "lower right",
+      series = {{x = ts, y = image, label = "with the initial image"},
+                {x = ts, y = shifted, label = "with the half-period shifted image", dashed = true}},
+    }}},
+  })
   return out
 end
 

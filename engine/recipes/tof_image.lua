@@ -154,6 +154,12 @@ function recipe.main(p)
   for _, name in ipairs(common.sorted_keys(out.results)) do
     common.report(name, out.results[name][1], out.results[name][2])
   end
+  common.write_results(recipe.name, out, {
+    waves = {{"cloud", out.wave}},
+    images = {{"camera", out.image, {pixel = p.pixel, value_name = "atoms per pixel"}}},
+    pictures = {{"tof_image.png", out.image, {title = string.format("camera image after %.3g ms of flight", p.tof * 1e3),
+      pixel = p.pixel, value_name = "atoms per pixel"}, map = true}},
+  })
   return out
 end
 

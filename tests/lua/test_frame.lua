@@ -191,7 +191,8 @@ do
   check.fails(function() w:evolve(1e-6, {potential = function() return 0 end}) end, "evolve refuses a moved wave",
     "wave:evolve does not support")
   check.fails(function() pf.mixture({w}, {1}) end, "pf.mixture refuses a moved wave", "pf.mixture does not support")
-  check.fails(function() w:slit{width = 1e-6} end, "slit refuses a moved wave", "wave:slit does not support")
+  check.fails(function() w:mask(function() return 1 end) end, "a mask function refuses a moved wave",
+    "wave:mask does not support")
   local meta = getmetatable(w).__index
   local h5 = pf.h5file("frame-aware-walk.h5", {overwrite = true})
   local h5meta = getmetatable(h5).__index
@@ -316,6 +317,85 @@ do
   check.equal(info.grid:origin(1), 0, "far-field image not moved across gravity")
   check.truthy(#image == 64 * 64, "far-field image has the grid's points")
   pf.setup{guard_threshold = 1e-6}
+end
+
+-- 8. Masks, apertures and pulses placed at lab coordinates act on the falling
+-- cloud where it is: a moved wave and an unmoved copy of the same cloud
+-- centred at the lab origin lose the same probability (translation
+-- invariance, common practice), and the lens and grating act as their
+-- definitions say at lab positions.
+do
+  local g = pf.grid{points = 512, span = 60e-6}
+  local sigma, t, a = 2e-6, 3e-3, -9.80665
+  local function fallen() local w = packet(g, 0, 0, sigma); w:fly(t, {acceleration = a}); return w end
+  local function still() local w = packet(g, 0, 0, sigma); w:fly(t); return w end
+  local X = fallen():frame().position[1]
+  local V = fallen():frame().velocity[1]
+  local _, r1 = fallen():slit{width = 3e-6, center = X + 1e-6}
+  local _, r0 = still():slit{width = 3e-6, center = 1e-6}
+  check.near(r1, r0, 1e-9, "slit at a lab position on the falling cloud", "translation invariance (common practice)")
+  local _, r2 = fallen():slits{count = 2, width = 1e-6, pitch = 4e-6, center = X}
+  local _, r3 = still():slits{count = 2, width = 1e-6, pitch = 4e-6, center = 0}
+  check.near(r2, r3, 1e-9, "double slit at a lab position", "translation invariance (common practice)")
+  local _, r4 = fallen():select_velocity{width = 1e-3, center = V + 2e-4}
+  local _, r5 = still():select_velocity{width = 1e-3, center = 2e-4}
+  check.near(r4, r5, 1e-9, "velocity selection at a lab velocity", "Galilean invariance (common practice)")
+  local _, r6 = fallen():mask_grating{period = 1.3e-6, open_fraction = 0.4, offset = X + 0.2e-6}
+  local _, r7 = still():mask_grating{period = 1.3e-6, open_fraction = 0.4, offset = 0.2e-6}
+  check.near(r6, r7, 1e-6, "mask grating at a lab offset", "translation invariance (common practice)")
+  -- 2D aperture
+  local g2 = pf.grid{points = {64, 64}, span = {40e-6, 40e-6}}
+  local function fallen2()
+    local w = pf.gaussian(g2, {mass = m, width = 3e-6}); w:fly(t, {acceleration = {0, a}}); return w
+  end
+  local w2 = fallen2()
+  local Y = w2:frame().position[2]
+  local _, r8 = w2:aperture{shape = "circle", radius = 4e-6, center = {1e-6, Y}}
+  local s2 = pf.gaussian(g2, {mass = m, width = 3e-6}); s2:fly(t)
+  local _, r9 = s2:aperture{shape = "circle", radius = 4e-6, center = {1e-6, 0}}
+  check.near(r8, r9, 1e-9, "circular aperture at a lab position", "translation invariance (common practice)")
+  -- lens at lab position c: a classical particle at x leaves with velocity
+  -- -(x - c)/f (thin lens; common practice), so <v> changes by -(<x> - c)/f
+  local wl = fallen()
+  local v0, x0 = wl:velocity_mean(), wl:position_mean()
+  local c, f = X + 5e-6, 2e-3
+  wl:lens(f, {center = c})
+  check.near(wl:velocity_mean() - v0, -(x0 - c) / f, 1e-9, "lens at a lab centre kicks by -(<x> - c)/f",
+    "thin lens (common practice)")
+  check.near(wl:position_mean(), x0, 1e-12, "the lens leaves positions", "thin lens (common practice)")
+  -- grating: psi_lab gains exp(i depth cos(2 pi x / period + phase)) at lab x
+  local wg = fallen()
+  local i = 260
+  local z0, x = wg:psi(i), wg:x_axis(1)[i]
+  local depth, period, ph = 0.7, 1.7e-6, 0.3
+  wg:grating{depth = depth, period = period, phase = ph}
+  local want = z0 * pf.cexp(pf.complex(0, depth * math.cos(2 * math.pi * x / period + ph)))
+  check.close((wg:psi(i) - want):abs() / z0:abs(), 0, 1e-9, "grating phase at the lab position",
+    "definition of a thin phase grating (common practice)")
+end
+
+-- 9. The grid advisor under gravity: the proposals are co-moving grids (the
+-- same as without gravity), and the frame table tells the drop and what one
+-- fixed lab grid would need (the 25 ms, 3D 87Rb drop of issue 14).
+do
+  local sx = 2e-6
+  local req = {mass = m, time = 25e-3, width = {sx, sx, sx}}
+  local plain = pf.grid_advice(req)
+  req.acceleration = {0, 0, -pf.constants.g_n}
+  local adv = pf.grid_advice(req)
+  for a = 1, 3 do
+    check.equal(adv.scaled.input.points[a], plain.scaled.input.points[a], "co-moving proposal unchanged on axis " .. a)
+  end
+  local t = 25e-3
+  check.near(adv.frame.drop[3], -0.5 * pf.constants.g_n * t * t, 1e-14, "advice: drop g t^2/2", "kinematics (common practice)")
+  check.near(adv.frame.velocity[3], -pf.constants.g_n * t, 1e-14, "advice: velocity g t", "kinematics (common practice)")
+  local dx = adv.same_grid.spacing[3]
+  check.equal(adv.frame.lab_grid_points[3], math.ceil((adv.same_grid.span[3] + 0.5 * pf.constants.g_n * t * t) / dx),
+    "advice: lab grid holds cloud and drop at the same spacing")
+  check.equal(adv.frame.lab_grid_wraps[3], true, "advice: m g t / hbar passes that grid's Nyquist limit")
+  check.equal(adv.frame.lab_grid_wraps[1], false, "advice: no wrap across gravity")
+  print(string.format("note a fixed lab grid for this drop: %d x %d x %d points, %.3g GB",
+    adv.frame.lab_grid_points[1], adv.frame.lab_grid_points[2], adv.frame.lab_grid_points[3], adv.frame.lab_grid_memory / 1e9))
 end
 
 check.done()

@@ -178,6 +178,36 @@ do
   check.near(lv:clock(), 10e-6, 1e-15, "uncoupled level flew along", "definition")
 end
 
+-- Born events with their level: after a pulse leaving 1/4 and 3/4 and a
+-- Stern-Gerlach flight that separates the levels, the share of events per
+-- label and their mean positions agree with the populations and the level
+-- means within 5 standard errors (Born rule; binomial and normal standard
+-- errors, common practice); the same seed gives the same events.
+do
+  local lv = pf.levels{labels = {"down", "up"}, waves = {down = psi0}}
+  lv:pulse{from = "down", to = "up", area = 2 * math.pi / 3, duration = 20e-6} -- sin^2(pi/3) = 3/4
+  lv:fly(4e-3, {acceleration = {up = 1.5, down = -1.5}})
+  local n = 20000
+  local ev = lv:sample(n, {seed = 11})
+  local count, sum = {down = 0, up = 0}, {down = 0, up = 0}
+  for e = 1, n do
+    local lab = ev.level[e]
+    count[lab] = count[lab] + 1
+    sum[lab] = sum[lab] + ev[1][e]
+  end
+  local pop = lv:populations()
+  local se = math.sqrt(pop.up * (1 - pop.up) / n)
+  check.close(count.up / n, pop.up, 5 * se, "share of 'up' events = population", "Born rule, binomial error")
+  for _, lab in ipairs{"down", "up"} do
+    local w = lv:level(lab)
+    local sem = w:position_width() / math.sqrt(count[lab])
+    check.close(sum[lab] / count[lab], w:position_mean(), 5 * sem, "mean position of '" .. lab .. "' events",
+                "Born rule, standard error of the mean")
+  end
+  local again = lv:sample(50, {seed = 11})
+  check.truthy(again[1][50] == ev[1][50] and again.level[50] == ev.level[50], "same seed, same events")
+end
+
 -- Errors name the bad value.
 local lv = pf.levels{labels = {"F1", "F2"}, grid = g, mass = "87Rb"}
 check.fails(function() lv:pulse{from = "F1", to = "F3", rabi = 1, duration = 1} end, "unknown label",

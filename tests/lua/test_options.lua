@@ -67,6 +67,7 @@ local callers = {
   ["pf.write_csv"] = function(o) pf.write_csv("options-walk-3.csv", {{name = "x", values = {1}}}, o) end,
   ["pf.write_csv columns[i]"] = function(o) pf.write_csv("options-walk-4.csv", {o}) end,
   ["h5file:put_table columns[i]"] = function(o) h5:put_table("walk", {o}) end,
+  ["h5file:put_image"] = function(o) h5:put_image("walk_image", {{1, 2}, {3, 4}}, o) end,
   ["pf.load_wave"] = function(o) pf.load_wave(csv, o) end,
   ["pf.picture_map"] = function(o) pf.picture_map("options-walk.png", w2, o) end,
   ["pf.picture_lines"] = function(o) pf.picture_lines("options-walk.png", o) end,
@@ -108,6 +109,7 @@ local callers = {
   ["levels:bragg"] = function(o) lv:bragg(o) end,
   ["levels:fly"] = function(o) lv:fly(1e-6, o) end,
   ["levels:order_populations"] = function(o) lv:order_populations(o) end,
+  ["levels:sample"] = function(o) lv:sample(3, o) end,
 }
 
 -- Lua-visible functions that take no options table (positional numbers,
@@ -249,8 +251,8 @@ check.fails(function() pf.thermal{grid = g1, mass = "87Rb", omega = 600, temprat
   "did you mean 'temperature'?")
 check.fails(function() w1:arrival_times{at = 0, to = 1e-3, bogus = 1} end, "arrival_times bogus", "unknown option 'bogus'")
 check.fails(function() w1:fringes{perod = 1e-6} end, "fringes perod", "did you mean 'period'?")
-check.fails(function() pf.picture_map("x.png", w2, {x_range = {0, 1}}) end, "picture_map x_range",
-  "pf.picture_map: unknown option 'x_range'")
+check.fails(function() pf.picture_map("x.png", w2, {xrange = {0, 1}}) end, "picture_map xrange",
+  "pf.picture_map: unknown option 'xrange'", "did you mean 'x_range'?")
 check.fails(function() pf.picture_lines("x.png", {xlabel = "x", series = {{x = {0, 1}, y = {0, 1}}}}) end,
   "picture_lines xlabel", "unknown option 'xlabel'")
 

@@ -33,6 +33,9 @@ defs=$(grep -cE '^function [A-Za-z0-9_.:]+\(' "$tmp/psiflight.lua")
 grep -qx 'function psiflight_wave:fly(t, opts) end' "$tmp/psiflight.lua" || fail "wave:fly not annotated as expected"
 grep -qx 'function pf.grid(opts) end' "$tmp/psiflight.lua" || fail "pf.grid not annotated as expected"
 grep -qx 'return pf' "$tmp/psiflight.lua" || fail "the meta file does not return the module table"
+# A function type with commas inside stays one parameter.
+grep -qx 'function psiflight_ensemble:each(fn) end' "$tmp/psiflight.lua" || fail "ensemble:each's fun(...) parameter was split"
+grep -qx -- '---@param fn fun(w: psiflight.wave, weight: number, i: integer)' "$tmp/psiflight.lua" || fail "ensemble:each's parameter type"
 if command -v lua5.4 >/dev/null; then
   lua5.4 -e "assert(loadfile('$tmp/psiflight.lua'))" 2>"$tmp/lua.err" || { cat "$tmp/lua.err"; fail "the annotations are not valid Lua"; }
 fi

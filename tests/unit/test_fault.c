@@ -7,8 +7,9 @@
  * pf_h5_isolate.c reads it: a segmentation fault inside libhdf5's type
  * conversion, one in this program's code, one in libc's memcpy called from
  * this program, and an abort() from this program.  The walking rule is
- * checked on hand-made stacks, and a file that crashes libhdf5 1.10
- * (tests/fuzz/known-crashes) goes through pf_h5_read end to end.
+ * checked on hand-made stacks; end to end through pf_h5_read, a file that
+ * crashes libhdf5 1.10 (tests/fuzz/known-crashes) is refused and a crash
+ * of the reader's own code is reported as psiflight's bug.
  *
  * Signal numbers and wait-status macros are POSIX (signal.h, sys/wait.h);
  * the rest is the classifier's own contract (pf_fault.h). */
@@ -68,14 +69,16 @@ static void fault_in_libhdf5(void)
 
 static void fault_in_own_code(void)
 {
-    volatile int *volatile p = NULL;
+    /* Address 64 is never mapped; not NULL, which UBSan would catch before
+     * the fault in a sanitizer build. */
+    volatile int *volatile p = (volatile int *)(uintptr_t)64;
     *p = 1;
 }
 
 static void fault_in_libc_called_by_own_code(void)
 {
     volatile size_t n = 4096;
-    char buf[16] = {0};
+    static char buf[4096];
     memcpy((void *)(uintptr_t)64, buf, n);
 }
 
@@ -160,6 +163,25 @@ static void test_known_crash_file_refused(void **state)
     assert_null(s.values);
 }
 
+/* A crash in psiflight's own code in the reading process: a caller's item
+ * name at address 8 makes the reader's strlen (libc, called from pf_h5.c)
+ * fault in the child.  The parent reports psiflight's bug, PF_EBUG, and
+ * never blames the file. */
+static void test_own_crash_in_reader_is_a_bug(void **state)
+{
+    pf_context *ctx = *state;
+    const char *root = getenv("PSIFLIGHT_ROOT");
+    char path[4096];
+    snprintf(path, sizeof path, "%s/tests/fuzz/known-crashes/h5-libhdf5-local-heap", root ? root : ".");
+    pf_h5_source src = {(const char *)8, NULL, NULL, NULL, {NULL, NULL, NULL}, -1};
+    pf_samples s;
+    assert_int_equal(pf_h5_read(ctx, path, &src, &s), PF_EBUG);
+    const char *msg = pf_context_message(ctx);
+    if (!strstr(msg, "internal error: psiflight's own code crashed (signal 11)") || strstr(msg, "file refused"))
+        fail_msg("unexpected message: %s", msg);
+    assert_null(s.values);
+}
+
 int main(void)
 {
     unsetenv("PSIFLIGHT_H5_INPROCESS");
@@ -169,6 +191,7 @@ int main(void)
         cmocka_unit_test(test_other_statuses),
         cmocka_unit_test(test_walk_rule),
         cmocka_unit_test_setup_teardown(test_known_crash_file_refused, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(test_own_crash_in_reader_is_a_bug, pft_context_setup, pft_context_teardown),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

@@ -14,7 +14,8 @@
  * Implementation checks (no physics claim, same arithmetic reordered): the
  * fused sweep agrees with the separate forward transform, phase pass and
  * backward transform; operations after a deferred flight see the flown
- * state; the fused sweep gives the same bits at 1 and 2 threads. */
+ * state; the fused sweep gives the same bits at 1 and 2 threads (estimate
+ * and measured planning). */
 #include "pft.h"
 #include <stdlib.h>
 #include <string.h>
@@ -241,22 +242,26 @@ static void operations_see_the_flown_state(void **state)
     pf_grid_release(g);
 }
 
-/* The column blocks do not depend on the thread count; FFTW's estimate-mode
- * plans for the slabs are the same for 1 and 2 threads at this size, so
- * the bits agree (the same check the reductions have). */
-static void fused_bits_do_not_depend_on_threads(void **state)
+/* Neither the column blocks nor the chunks of slices depend on the thread
+ * count, and both run one-thread plans, so the bits agree (the same check
+ * the reductions have) - in measured planning too, where a threaded FFTW
+ * plan would be measured separately for 2 threads.  Sizes with several
+ * blocks and chunks, so that both threads work in both sweeps. */
+static void bits_do_not_depend_on_threads(void **state, int dim, const size_t *n, const double *span)
 {
-    size_t n[2] = {64, 40};
-    double span[2] = {64e-6, 40e-6};
+    /* The whole-grid transforms that learn the momentum band beforehand use
+     * the grid's threaded plans, which measured planning may make
+     * differently for 2 threads: there the sweep sums the band itself. */
+    const int measured = pf_context_planning(*state) == PF_PLAN_MEASURE;
     double complex *first = NULL;
     for (int threads = 1; threads <= 2; threads++) {
         pft_ok(pf_context_set_threads(*state, threads));
         pf_grid *g;
-        pft_ok(pf_grid_new(*state, 2, n, span, NULL, &g));
+        pft_ok(pf_grid_new(*state, dim, n, span, NULL, &g));
         pf_wave *w;
         pft_ok(pf_wave_new(g, MASS, &w));
         pft_ok(pf_wave_fill(w, PF_POSITION, rough_state, NULL));
-        know_momentum_band(w);
+        if (!measured) know_momentum_band(w);
         pft_ok(pf_wave_fly(w, 0.9e-3));
         const double complex *d = pf_wave_data_const(w);
         size_t bytes = pf_grid_total(g) * sizeof *d;
@@ -271,6 +276,39 @@ static void fused_bits_do_not_depend_on_threads(void **state)
     }
     free(first);
     pft_ok(pf_context_set_threads(*state, 1));
+}
+
+static void fused_bits_do_not_depend_on_threads(void **state)
+{
+    size_t n[2] = {64, 40};
+    double span[2] = {64e-6, 40e-6};
+    bits_do_not_depend_on_threads(state, 2, n, span);
+}
+
+/* 4096-point rows: chunks of 4 rows, 6 chunks. */
+static void fused_bits_do_not_depend_on_threads_measured_2d(void **state)
+{
+    pft_ok(pf_context_set_planning(*state, PF_PLAN_MEASURE));
+    size_t n[2] = {24, 4096};
+    double span[2] = {48e-6, 80e-6};
+    bits_do_not_depend_on_threads(state, 2, n, span);
+}
+
+static void ignore_warning(void *user, const char *text)
+{
+    (void)user;
+    (void)text;
+}
+
+/* 48 x 40 planes: chunks of 8 planes, 3 chunks; 60 column blocks.  (The
+ * state fills axis 2, which the grid guard reports: expected here.) */
+static void fused_bits_do_not_depend_on_threads_measured_3d(void **state)
+{
+    pf_context_set_warn_handler(*state, ignore_warning, NULL);
+    pft_ok(pf_context_set_planning(*state, PF_PLAN_MEASURE));
+    size_t n[3] = {24, 48, 40};
+    double span[3] = {48e-6, 64e-6, 40e-6};
+    bits_do_not_depend_on_threads(state, 3, n, span);
 }
 
 /* The momentum guard band summed inside the fused sweep (for a state whose
@@ -389,6 +427,10 @@ int main(void)
         cmocka_unit_test_setup_teardown(deferred_flights_compose, pft_context_setup, pft_context_teardown),
         cmocka_unit_test_setup_teardown(operations_see_the_flown_state, pft_context_setup, pft_context_teardown),
         cmocka_unit_test_setup_teardown(fused_bits_do_not_depend_on_threads, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(fused_bits_do_not_depend_on_threads_measured_2d, pft_context_setup,
+                                        pft_context_teardown),
+        cmocka_unit_test_setup_teardown(fused_bits_do_not_depend_on_threads_measured_3d, pft_context_setup,
+                                        pft_context_teardown),
         cmocka_unit_test_setup_teardown(fused_sweep_measures_momentum_band, pft_context_setup, pft_context_teardown),
         cmocka_unit_test_setup_teardown(fused_sweep_band_over_threshold_warns, pft_context_setup, pft_context_teardown),
         cmocka_unit_test_setup_teardown(tight_memory_cap_falls_back, pft_context_setup, pft_context_teardown),
