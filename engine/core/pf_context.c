@@ -387,6 +387,17 @@ void pf_context_set_stop_check(pf_context *ctx, pf_stop_fn fn, void *user)
     ctx->stop_user = user;
 }
 
+void pf_context_set_progress(pf_context *ctx, pf_progress_fn fn, void *user)
+{
+    ctx->progress = fn;
+    ctx->progress_user = user;
+}
+
+void pf_context_progress(pf_context *ctx, const char *task, double done, double total)
+{
+    if (ctx && ctx->progress) ctx->progress(ctx->progress_user, task, done, total);
+}
+
 pf_status pf_context_poll_stop(pf_context *ctx)
 {
     if (!ctx || !ctx->stop_check || !ctx->stop_check(ctx->stop_user)) return PF_OK;

@@ -116,4 +116,17 @@ void pf_context_set_stop_check(pf_context *ctx, pf_stop_fn fn, void *user);
  * status; objects are left valid (a wave may hold a part-way state). */
 pf_status pf_context_poll_stop(pf_context *ctx);
 
+/* Progress of long engine calls (evolve, relax, fly_long, thermal ensembles,
+ * sampling).  A caller that shows progress (the Lua binding, on a terminal)
+ * installs a hook; the core reports each task as it goes: done = 0 at the
+ * start, done in (0, total) per step, and done >= total, or done < 0 for an
+ * early end (an error or a stop), exactly once at the end.  The hook runs on
+ * the calling thread outside parallel regions, must be cheap, and must not
+ * touch anything the computation reads: progress never changes a result. */
+typedef void (*pf_progress_fn)(void *user, const char *task, double done, double total);
+/* Installs fn (NULL: no reports). */
+void pf_context_set_progress(pf_context *ctx, pf_progress_fn fn, void *user);
+/* Reports progress of task (a short static name such as "evolve"). */
+void pf_context_progress(pf_context *ctx, const char *task, double done, double total);
+
 #endif

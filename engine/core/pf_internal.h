@@ -33,6 +33,8 @@ struct pf_context {
     size_t nplan_notes, plan_notes_cap;
     pf_stop_fn stop_check;    /* asked by long loops whether to stop (pf_context_poll_stop) */
     void *stop_user;
+    pf_progress_fn progress;  /* told how long loops advance (pf_context_progress) */
+    void *progress_user;
 };
 
 /* 1D phase segments (pf_flight.c): the phase of point s of a segment that

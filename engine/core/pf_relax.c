@@ -173,8 +173,10 @@ pf_status pf_wave_relax(pf_wave *w, const pf_relax_spec *spec, pf_relax_info *in
     size_t step = 0;
     double inv_n = 1.0 / (double)g->total;
     while (step < spec->max_steps) {
-        /* One poll per step: a stop request ends a long relaxation at once. */
+        /* One poll per step: a stop request ends a long relaxation at once.
+         * Progress counts against the step limit; convergence ends it early. */
         if ((s = pf_context_poll_stop(ctx))) goto done;
+        pf_context_progress(ctx, "relax", (double)step, (double)spec->max_steps);
         damp_potential(g, w->store, V, vmin, spec->g, f, factor);
         if ((s = pf_grid_fft(g, w->store, -1))) goto done;
         pf_kernel_axis_multiply(g, w->store, (const double complex *const *)kin, inv_n);
@@ -212,6 +214,7 @@ pf_status pf_wave_relax(pf_wave *w, const pf_relax_spec *spec, pf_relax_info *in
     }
     pf_wave_log_step(w, "relax", "imaginary-time", 0.0, 0.0, -1.0);
 done:
+    pf_context_progress(ctx, "relax", s ? -1.0 : (double)spec->max_steps, (double)spec->max_steps);
     if (s) pf_guard_forget(w); /* a failure part-way leaves changed data unlogged */
     pf_free(ctx, scratch, bytes_c);
     if (factor) pf_free(ctx, factor, bytes_r);

@@ -428,7 +428,7 @@ static double overflow(double lo, double hi, double c, double wd)
     return 2.0 * fmax(c - lo, hi - c) / wd;
 }
 
-pf_status pf_wave_fly_long(pf_wave *w, double t, const pf_long_flight_opts *o, pf_long_flight_report *report)
+static pf_status fly_long(pf_wave *w, double t, const pf_long_flight_opts *o, pf_long_flight_report *report)
 {
     pf_grid *g = w->grid;
     pf_context *ctx = g->ctx;
@@ -615,5 +615,16 @@ pf_status pf_wave_fly_long(pf_wave *w, double t, const pf_long_flight_opts *o, p
     if (s) return s;
     s = pf_wave_fly_onto(w, t, gout);
     pf_grid_release(gout);
+    return s;
+}
+
+/* The long flight as one reported task: a few transforms of possibly very
+ * large grids, so the bar (if any) shows that it runs and how long it took. */
+pf_status pf_wave_fly_long(pf_wave *w, double t, const pf_long_flight_opts *o, pf_long_flight_report *report)
+{
+    pf_context *ctx = w->grid->ctx;
+    pf_context_progress(ctx, "fly_long", 0, 1);
+    pf_status s = fly_long(w, t, o, report);
+    pf_context_progress(ctx, "fly_long", s ? -1.0 : 1.0, 1);
     return s;
 }

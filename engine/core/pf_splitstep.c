@@ -261,6 +261,7 @@ static pf_status run_separate(evolve_ws *ws, size_t n, double t0, double t)
         /* One poll per step (a few FFTs): a stop request ends a long evolve
          * within one step instead of at its end. */
         if ((s = pf_context_poll_stop(ws->g->ctx))) break;
+        if (step) pf_context_progress(ws->g->ctx, "evolve", (double)step, (double)n);
         double tau = 0;
         for (int j = 0; j < sc->stages && !s; j++) {
             s = kinetic_step(ws, stage_table(sc, j));
@@ -294,6 +295,7 @@ static pf_status run_fused(evolve_ws *ws, size_t n, double t0, double t)
     pf_fused_chunks(g, d, 0, p.active ? pot_chunk : NULL, &p, 1);
     for (size_t step = 0; step < n; step++) {
         if ((s = pf_context_poll_stop(g->ctx))) break;
+        if (step) pf_context_progress(g->ctx, "evolve", (double)step, (double)n);
         double tau = 0;
         for (int j = 0; j < sc->stages; j++) {
             pf_fused_columns(g, d, scale, ws->kin[stage_table(sc, j)]);
@@ -383,20 +385,29 @@ static pf_status prepare(evolve_ws *ws)
             return PF_OK;
         }
         if (c) {
-            /* Free the old arrays before making new ones; the potential's
-             * values were still checked. */
+            /* Arrays of the right size are refilled rather than freed and
+             * made again (fresh pages cost a fault each on first touch);
+             * they pass to this call, which owns them until it stores them
+             * back below.  Others are freed before new ones are made.  The
+             * potential's values were still checked. */
             const double *checked = c->checked;
+            if (c->ctx == g->ctx && c->bytes == ws->bytes_c) {
+                ws->e1 = c->e1;
+                ws->e2 = c->e2;
+                c->e1 = c->e2 = NULL;
+            }
             pf_evolve_cache_clear(c);
             c->checked = checked;
             c->ctx = g->ctx;
+            if (ws->e2 && ws->sc.stages == 1) {
+                pf_free(g->ctx, ws->e2, ws->bytes_c);
+                ws->e2 = NULL;
+            }
         }
-        ws->e1 = pf_alloc(g->ctx, ws->bytes_c);
-        if (!ws->e1) return pf_context_status(g->ctx);
+        if (!ws->e1 && !(ws->e1 = pf_alloc(g->ctx, ws->bytes_c))) return pf_context_status(g->ctx);
         double f1 = 0.5 * ws->sc.c[0] * ws->h / PF_HBAR;
-        if (ws->sc.stages > 1) {
-            ws->e2 = pf_alloc(g->ctx, ws->bytes_c);
-            if (!ws->e2) return pf_context_status(g->ctx);
-        }
+        if (ws->sc.stages > 1 && !ws->e2 && !(ws->e2 = pf_alloc(g->ctx, ws->bytes_c)))
+            return pf_context_status(g->ctx);
         double f2 = 0.5 * ws->sc.c[1] * ws->h / PF_HBAR;
         const double *V = sp->potential;
         double complex *e1 = ws->e1, *e2 = ws->e2;
@@ -524,7 +535,9 @@ static pf_status evolve(pf_wave *w, double t, const pf_evolve_spec *spec, pf_evo
             return s;
         }
     }
+    pf_context_progress(w->grid->ctx, "evolve", 0, (double)n);
     s = fused ? run_fused(&ws, n, t0, t) : run_separate(&ws, n, t0, t);
+    pf_context_progress(w->grid->ctx, "evolve", s ? -1.0 : (double)n, (double)n);
     ws_free(&ws);
     if (s) {
         pf_guard_forget(w); /* the data changed part-way without a logged step */

@@ -11,6 +11,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <strings.h>
 #include <plplot.h>
 #include "pf_cubehelix.h"
 #include "pf_picture.h"
@@ -77,11 +78,21 @@ static void set_palette(void)
 
 /* Starts a stream that draws into out.  PLplot owns out from here on: plend1
  * closes it (plCloseFile), so the caller never closes it itself. */
-static void begin_stream(FILE *out, int w, int h)
+static int ends_with_svg(const char *path)
+{
+    size_t n = strlen(path);
+    return n >= 4 && strcasecmp(path + n - 4, ".svg") == 0;
+}
+
+/* PLplot device for a picture file: SVG (vector, for papers) when the name
+ * ends in .svg, PNG otherwise.  Both through cairo, which embeds no time. */
+static const char *device_for(const char *path) { return ends_with_svg(path) ? "svgcairo" : "pngcairo"; }
+
+static void begin_stream(FILE *out, int w, int h, const char *device)
 {
     PLINT strm;
     plmkstrm(&strm);
-    plsdev("pngcairo");
+    plsdev(device);
     plsfile(out);
     char geo[32];
     snprintf(geo, sizeof geo, "%dx%d", w, h);
@@ -107,6 +118,19 @@ static int png_complete(const char *path)
     return ok;
 }
 
+/* The same for SVG: a complete file ends with its closing tag. */
+static int svg_complete(const char *path)
+{
+    FILE *f = fopen(path, "rb");
+    if (!f) return 0;
+    char tail[64] = {0};
+    long size = fseek(f, 0, SEEK_END) == 0 ? ftell(f) : -1;
+    long back = size < 63 ? size : 63;
+    int ok = size > 0 && fseek(f, -back, SEEK_END) == 0 && fread(tail, 1, (size_t)back, f) == (size_t)back;
+    fclose(f);
+    return ok && strstr(tail, "</svg>") != NULL;
+}
+
 /* Opens the safe writer's temporary file for PLplot; NULL (after abandoning
  * the file) when it cannot be opened. */
 static FILE *open_for_plplot(pf_context *ctx, pf_safefile *sf, pf_status *s)
@@ -128,7 +152,7 @@ static pf_status finish(pf_context *ctx, pf_safefile *sf, pf_status drawn)
         pf_safe_abandon(sf);
         return drawn;
     }
-    if (!png_complete(sf->temp_path)) {
+    if (!(ends_with_svg(sf->final_path) ? svg_complete(sf->temp_path) : png_complete(sf->temp_path))) {
         char final[512];
         snprintf(final, sizeof final, "%s", sf->final_path);
         pf_safe_abandon(sf);
@@ -180,6 +204,7 @@ typedef struct map_job {
     char lx[96], ly[96];
     const char *vlabel;
     char title[320];
+    const char *device;
 } map_job;
 
 /* Draws a map (runs under pf_plguard). */
@@ -189,7 +214,7 @@ static void draw_map(void *user)
     const pf_map *m = j->m;
     double x0 = j->box[0], x1 = j->box[1], y0 = j->box[2], y1 = j->box[3];
     double vmin = j->vmin, vmax = j->vmax;
-    begin_stream(j->out, j->w, j->h);
+    begin_stream(j->out, j->w, j->h, j->device);
     /* Main panel. */
     /* Equal aspect keeps a cloud's true shape (its aspect ratio is often
      * the point of the picture); the panel then shrinks along one side. */
@@ -315,7 +340,7 @@ pf_status pf_picture_map(pf_context *ctx, const char *path, int overwrite, const
     FILE *out = open_for_plplot(ctx, &sf, &s);
     if (out) {
         map_job job = {m, out, w, h, equal, rows, vmin, vmax, {(m->x[0] - hx) * fx, (m->x[m->nx - 1] + hx) * fx,
-                       (m->y[0] - hy) * fy, (m->y[m->ny - 1] + hy) * fy}, "", "", vlabel, ""};
+                       (m->y[0] - hy) * fy, (m->y[m->ny - 1] + hy) * fy}, "", "", vlabel, "", device_for(path)};
         snprintf(job.title, sizeof job.title, "%s%s", m->title ? m->title : "",
                  not_to_scale ? (m->title && *m->title ? " (x and y not to scale)" : "x and y not to scale") : "");
         axis_label(job.lx, sizeof job.lx, m->xa.name, ux);
@@ -376,6 +401,7 @@ typedef struct lines_job {
     double box[4];             /* xmin, xmax, ymin, ymax in display units */
     char xl[96], yl[128];
     PLFLT *bx, *by;            /* scratch for one series */
+    const char *device;
 } lines_job;
 
 /* Draws a line plot (runs under pf_plguard). */
@@ -384,7 +410,7 @@ static void draw_lines(void *user)
     const lines_job *j = user;
     const pf_lines *p = j->p;
     double xmin = j->box[0], xmax = j->box[1], ymin = j->box[2], ymax = j->box[3];
-    begin_stream(j->out, j->w, j->h);
+    begin_stream(j->out, j->w, j->h, j->device);
     plvpor(0.11, 0.95, 0.13, 0.89);
     plwind(xmin, xmax, ymin, ymax);
     /* Light grid first, frame and labels over it. */
@@ -458,7 +484,7 @@ pf_status pf_picture_lines(pf_context *ctx, const char *path, int overwrite, con
     ymin -= pad, ymax += pad;
     size_t nmax = 0;
     for (size_t k = 0; k < p->nseries; k++) nmax = p->series[k].n > nmax ? p->series[k].n : nmax;
-    lines_job job = {p, NULL, w, h, fx, fy, {xmin, xmax, ymin, ymax}, "", "", NULL, NULL};
+    lines_job job = {p, NULL, w, h, fx, fy, {xmin, xmax, ymin, ymax}, "", "", NULL, NULL, device_for(path)};
     snprintf(job.xl, sizeof job.xl, "%s", xl);
     snprintf(job.yl, sizeof job.yl, "%s", yl);
     job.bx = malloc(nmax * sizeof *job.bx);

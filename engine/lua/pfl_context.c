@@ -6,9 +6,11 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <time.h>
 #include <fftw3.h>
 #include "../core/pf_guard.h"
 #include "../core/pf_version.h"
+#include "../io/pf_progress.h"
 #include "pfl_options.h"
 
 /* Library state lives in the Lua state (a userdata in the registry), never in
@@ -24,6 +26,12 @@ typedef struct pfl_state {
     char *output_dir;        /* folder the run writes into, NULL: none chosen */
     char last_text[1600];  /* message of the last error raised with a kind */
     unsigned long warnings;  /* warnings emitted so far (run manifest) */
+    /* The engine's progress reports (progress_hook): the task under way,
+     * when it started, and its bar once it has run long enough to show. */
+    char task[24];
+    double task_start;
+    int task_active;
+    pf_progress bar;
 } pfl_state;
 
 static const char STATE_KEY = 'S';
@@ -77,6 +85,52 @@ static void fault_injection(lua_State *L, pf_context *ctx)
     pf_context_fail_allocation(ctx, (unsigned long)n);
 }
 
+static double monotonic_s(void)
+{
+    struct timespec ts;
+    clock_gettime(CLOCK_MONOTONIC, &ts);
+    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
+}
+
+/* A long engine call shows a bar on stderr once it has run for half a
+ * second, when stderr is a terminal and the run is not quiet (the same rule
+ * as pf.progress): short calls stay silent, and nothing goes to stdout or
+ * into a file, so output bytes never depend on it. */
+#define PROGRESS_DELAY_S 0.5
+
+static void progress_hook(void *user, const char *task, double done, double total)
+{
+    pfl_state *st = user;
+    if (done == 0 || !st->task_active || strcmp(task, st->task) != 0) {
+        /* A new task (an earlier one that never reported its end is closed). */
+        pf_progress_end(&st->bar);
+        memset(&st->bar, 0, sizeof st->bar);
+        snprintf(st->task, sizeof st->task, "%s", task);
+        st->task_start = monotonic_s();
+        st->task_active = 1;
+    }
+    int ending = done < 0 || done >= total;
+    if (!st->bar.enabled && !ending && monotonic_s() - st->task_start >= PROGRESS_DELAY_S && st->L &&
+        pfl_progress_wanted(st->L)) {
+        pf_progress_begin(&st->bar, stderr, 1, total, task);
+        st->bar.start = st->task_start; /* elapsed counts from the call's start */
+    }
+    if (st->bar.enabled) {
+        st->bar.done = done < 0 ? st->bar.done : done;
+        pf_progress_advance(&st->bar, 0);
+    }
+    if (ending) {
+        if (done < 0 && st->bar.enabled) {
+            /* An early end (an error, a stop): keep the bar as it stood. */
+            fputc('\n', stderr);
+            st->bar.enabled = 0;
+        }
+        pf_progress_end(&st->bar);
+        memset(&st->bar, 0, sizeof st->bar);
+        st->task_active = 0;
+    }
+}
+
 static pfl_state *get_state(lua_State *L)
 {
     if (lua_rawgetp(L, LUA_REGISTRYINDEX, &STATE_KEY) == LUA_TUSERDATA) {
@@ -97,6 +151,7 @@ static pfl_state *get_state(lua_State *L)
     if (!st->ctx) luaL_error(L, "psiflight: out of memory creating the engine context");
     st->L = L;
     pf_context_set_warn_handler(st->ctx, warn_handler, st);
+    pf_context_set_progress(st->ctx, progress_hook, st);
     lua_rawsetp(L, LUA_REGISTRYINDEX, &STATE_KEY);
     fault_injection(L, st->ctx);
     return st;

@@ -233,7 +233,15 @@ static int l_sample(lua_State *L)
     pf_sampler sm;
     pf_status s = pf_sampler_init(&sm, &f);
     if (s == PF_OK) {
-        pf_sampler_draw(&sm, rng, (size_t)n, jitter, ev);
+        /* In blocks of 2^16 events (drawn in the same order, so the same
+         * events), reporting progress between them. */
+        const size_t block = 65536;
+        pf_context_progress(pfl_ctx(L), "sample", 0, (double)n);
+        for (size_t e = 0; e < (size_t)n; e += block) {
+            size_t m = (size_t)n - e < block ? (size_t)n - e : block;
+            pf_sampler_draw(&sm, rng, m, jitter, ev + e * (size_t)d);
+            pf_context_progress(pfl_ctx(L), "sample", (double)(e + m), (double)n);
+        }
         pf_sampler_free(&sm);
     }
     pf_field_free(&f);

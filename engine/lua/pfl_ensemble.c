@@ -122,6 +122,15 @@ void pfl_add_state_methods(lua_State *L, const luaL_Reg *methods)
 }
 
 /* pf.mixture({w1, w2, ...} [, {p1, p2, ...}]) - members are copied. */
+/* Per member of a thermal build: the stop check, and the progress of the
+ * build (reported ended before a stop raises, so no bar is left open). */
+static void member_progress(lua_State *L, size_t i, size_t count)
+{
+    pf_status s = pf_context_poll_stop(pfl_ctx(L));
+    pf_context_progress(pfl_ctx(L), "thermal", s ? -1.0 : (double)i, (double)count);
+    pfl_check(L, s, "thermal");
+}
+
 static int l_mixture(lua_State *L)
 {
     luaL_checktype(L, 1, LUA_TTABLE);
@@ -220,7 +229,7 @@ static int thermal_eigenstates(lua_State *L, pf_grid *g, const pf_thermal_spec *
         pf_wave *w;
         /* Members are built one wave at a time: a stop request is honoured
          * between them (everything built so far is on the Lua stack). */
-        pfl_check(L, pf_context_poll_stop(pfl_ctx(L)), "thermal");
+        member_progress(L, i, count);
         pfl_check(L, pf_wave_new(g, sp->mass, &w), "thermal");
         pfl_push_wave(L, w);
         pfl_check(L, pf_build_oscillator(w, sp->omega, held[i].n, center, k0, 1), "thermal");
@@ -299,7 +308,7 @@ static int l_thermal(lua_State *L)
         pf_wave *w;
         /* Members are built one wave at a time: a stop request is honoured
          * between them (everything built so far is on the Lua stack). */
-        pfl_check(L, pf_context_poll_stop(pfl_ctx(L)), "thermal");
+        member_progress(L, i, count);
         pfl_check(L, pf_wave_new(g, sp.mass, &w), "thermal");
         pfl_push_wave(L, w);
         pfl_check(L, pf_wave_fill_coherent(w, center, s0, held[i].shift, held[i].kmean), "thermal");

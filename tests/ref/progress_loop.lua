@@ -1,5 +1,6 @@
 -- progress_loop.lua - helper for test_progress.sh: a script loop with a
--- progress bar and a carpet picture (which draws its own bar).
+-- progress bar, a carpet picture (which draws its own bar) and a long
+-- engine call (evolve), which reports to the engine's progress hook.
 local pf = require "psiflight"
 pf.setup{planning = "estimate"}
 local bar = pf.progress(30, "scan")
@@ -12,4 +13,19 @@ bar:finish()
 local g = pf.grid{points = 256, span = 1e-4}
 local w = pf.wave(g, {mass = 1e-26, position = function(x) return math.exp(-x * x / 1e-11) end})
 pf.picture_carpet("c.png", w, {duration = 1e-3, frames = 40})
+-- A long engine call (evolve, about a second on a small machine) shows its
+-- own bar after half a second; its result goes to a file, which must not
+-- depend on whether the bar was drawn.
+local g2 = pf.grid{points = {256, 256}, span = {40e-6, 40e-6}}
+local m = 1.15e-26
+local omega = 2 * math.pi * 300
+local V, xs, ys = {}, g2:x_axis(1), g2:x_axis(2)
+for a = 1, #xs do
+  for b = 1, #ys do V[#V + 1] = 0.5 * m * omega * omega * (xs[a] ^ 2 + ys[b] ^ 2) end
+end
+local w2 = pf.gaussian(g2, {mass = m, width = {2e-6, 2e-6}})
+w2:evolve(600 * 2e-6, {potential = V, dt = 2e-6})
+local f = pf.h5file("evolved.h5")
+f:put_wave("evolved", w2)
+f:close()
 print("result line", bar:shown())

@@ -26,6 +26,9 @@ script -qec "$cmd >'$tmp/out1'" /dev/null >"$tmp/term1" </dev/null
 grep -q 'scan \[' "$tmp/term1" && grep -q 'elapsed' "$tmp/term1" && grep -q 'left' "$tmp/term1" &&
   grep -q 'carpet \[' "$tmp/term1" || { echo "FAIL no bar on the terminal"; cat -v "$tmp/term1"; exit 1; }
 echo "ok bar with elapsed and estimated time on a terminal's stderr (scan and carpet)"
+grep -q 'evolve \[' "$tmp/term1" && grep -q 'evolve \[#*\] 100%' "$tmp/term1" ||
+  { echo "FAIL no bar for the long evolve call"; cat -v "$tmp/term1" | tail -5; exit 1; }
+echo "ok a long engine call (evolve) shows its own bar, ending at 100%"
 grep -q 'elapsed' "$tmp/out1" && { echo "FAIL bar on stdout"; exit 1; }
 grep -qx 'result line	true' "$tmp/out1" || { echo "FAIL stdout content"; cat "$tmp/out1"; exit 1; }
 echo "ok stdout holds only the script's lines"
@@ -45,3 +48,7 @@ fi
 if grep -q 'elapsed\|carpet \[\|scan \[' "$tmp/err3"; then echo "FAIL bar drawn off a terminal"; cat "$tmp/err3"; exit 1; fi
 grep -qx 'result line	false' "$tmp/out3" || { echo "FAIL stdout off a terminal"; exit 1; }
 echo "ok stderr to a file: no bar"
+# The engine call's result does not depend on the bar: the file written
+# after it is byte-identical with and without a terminal.
+cmp "$tmp/o1/evolved.h5" "$tmp/o3/evolved.h5" || { echo "FAIL evolved.h5 differs with the bar drawn"; exit 1; }
+echo "ok the evolved state's file is byte-identical with and without the bar"
