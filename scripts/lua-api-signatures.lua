@@ -128,6 +128,10 @@ return {
     -- wave functions: data and properties
     ["wave:psi"] = {"i: integer, j?: integer, k?: integer", C, "psi at a 1-based position index"},
     ["wave:phi"] = {"i: integer, j?: integer, k?: integer", C, "phi at a 1-based momentum index, ascending k"},
+    ["wave:psi_at"] = {"x: number|number[], y?: number|number[], z?: number|number[]", C .. "|" .. C .. "[]",
+      "psi anywhere in the grid's cell (lab coordinates, m) from the band-limited interpolant; tables for many points"},
+    ["wave:density_at"] = {"x: number|number[], y?: number|number[], z?: number|number[]", "number|number[]",
+      "|psi|^2 anywhere in the grid's cell (m^-d); tables for many points"},
     ["wave:set_psi"] = {"...: integer|number|psiflight.complex", W, "write one position sample: indices, then the value; returns w"},
     ["wave:set_phi"] = {"...: integer|number|psiflight.complex", W, "write one momentum sample: indices, then the value; returns w"},
     ["wave:density"] = {"", "number[]", "|psi|^2 over the grid (row-major, m^-d)"},
@@ -159,6 +163,7 @@ return {
     ["wave:far_field"] = {"t: number", "table", "far-field image after t seconds"},
     ["wave:fall"] = {"t: number, acceleration: number|number[]", W, "exact flight for t seconds under a constant acceleration (m/s^2)"},
     ["wave:guard"] = {"", "table", "grid-guard figures: probability near the edges, momentum near Nyquist"},
+    ["wave:mark_periodic"] = {"on?: boolean", W, "mark the state periodic by design: position-edge guards stay silent; returns w"},
     ["wave:grid_advice"] = {"opts: options", "table", "grid proposals for flying this state"},
     ["wave:kick"] = {"k: number|number[], opts?: options", W, "momentum kick hbar k (k in rad/m, one per axis or a table)"},
     ["wave:imprint"] = {"phase: function", W, "multiplies psi by exp(i phase(x...)), phase in rad"},

@@ -2,6 +2,7 @@
 #include <math.h>
 #include <string.h>
 #include "pf_advise.h"
+#include "pf_resolution.h"
 #include "pf_constants.h"
 #include "pf_guard.h"
 
@@ -139,6 +140,8 @@ pf_status pf_grid_advise(pf_context *ctx, const pf_advice_request *q, pf_advice 
         krange(q, a, q->time, &klo, &khi);
         double kmax = fmax(fabs(klo), fabs(khi));
         double dx = fin * PF_PI / (margin * kmax);
+        /* The builders' definition of resolved (pf_resolution.h) as well. */
+        dx = fmin(dx, pf_resolution_max_spacing(q->feature[a], kmax));
         range_until(q, a, q->time, &xlo, &xhi);
         if (!propose(&out->same, a, margin * (xhi - xlo) / fin, dx, 0.5 * (xlo + xhi)))
             return too_many(ctx, a, margin * (xhi - xlo) / fin / dx);
@@ -149,7 +152,7 @@ pf_status pf_grid_advise(pf_context *ctx, const pf_advice_request *q, pf_advice 
         kmax = fmax(fabs(klo), fabs(khi));
         range_until(q, a, t_last, &xlo, &xhi);
         double in_span = margin * (xhi - xlo) / fin;
-        double dx_in = fin * PF_PI / (margin * kmax);
+        double dx_in = fmin(fin * PF_PI / (margin * kmax), pf_resolution_max_spacing(q->feature[a], kmax));
         double ilo, ihi;
         image(q, a, q->time, &ilo, &ihi);
         if (ts > 0) {

@@ -26,6 +26,8 @@ typedef struct pf_advice_request {
     size_t nkicks;
     const double *kick_time;        /* nkicks times after now (s), in [0, time] */
     const double *kick_k;           /* nkicks x dim wave-number changes (1/m); a kick may split the state */
+    double feature[PF_MAX_DIM];     /* smallest feature per axis (m), 0 = not known; the proposals
+                                     * resolve it as the builders require (pf_resolution_max_spacing) */
     double margin;                  /* >= 1: room beyond the extents (default 1.2 when 0) */
     size_t image_points;            /* points across the final image in the scaled plan (default 64 when 0) */
 } pf_advice_request;

@@ -15,9 +15,9 @@
 
 /* Half-extent of a Gaussian in standard deviations: beyond 6 sigma the
  * density is below 1.6e-8 of its peak and holds 2e-9 of the probability. */
-#define GAUSS_REACH 6.0
+#define GAUSS_REACH PF_GAUSS_REACH /* shared with the advisor (pf_resolution.h) */
 /* FWHM of a Gaussian density in units of its standard deviation. */
-#define FWHM_PER_SIGMA 2.3548200450309493
+#define FWHM_PER_SIGMA PF_GAUSS_FWHM_PER_SIGMA
 /* Largest |n| accepted for a diffraction order. */
 #define MAX_ORDER_INDEX 100000
 

@@ -71,6 +71,12 @@ static double fourier_power(const win *w, double q, double mean)
 pf_status pf_fringe_analyse(pf_context *ctx, const double *x, const double *y, size_t n, double from, double to,
                             double period_guess, pf_fringe_fit *out)
 {
+    return pf_fringe_analyse_above(ctx, x, y, n, from, to, period_guess, 0.0, out);
+}
+
+pf_status pf_fringe_analyse_above(pf_context *ctx, const double *x, const double *y, size_t n, double from,
+                                  double to, double period_guess, double q_floor, pf_fringe_fit *out)
+{
     if (!(from < to)) return pf_fail(ctx, PF_EINVAL, "fringe window needs from < to, got %g and %g", from, to);
     unsigned char *in = pf_calloc(ctx, n ? n : 1, 1);
     if (!in) return pf_context_status(ctx);
@@ -102,8 +108,14 @@ pf_status pf_fringe_analyse(pf_context *ctx, const double *x, const double *y, s
         qmin = PF_TWO_PI / (1.3 * period_guess);
         qmax = PF_TWO_PI / (0.7 * period_guess);
     } else {
-        qmin = PF_TWO_PI / L;
+        qmin = fmax(PF_TWO_PI / L, q_floor);
         qmax = PF_PI / minstep;
+        if (!(qmin < qmax)) {
+            pf_context_free(ctx, in);
+            return pf_fail(ctx, PF_EINVAL,
+                           "fringe window [%g, %g]: no fringe wave number between %g and the sampling limit %g; "
+                           "give a period guess", from, to, qmin, qmax);
+        }
     }
     double dq = PF_TWO_PI / (4 * L);
     size_t steps = (size_t)ceil((qmax - qmin) / dq);
@@ -154,5 +166,7 @@ pf_status pf_fringe_analyse(pf_context *ctx, const double *x, const double *y, s
     /* c1 cos + c2 sin = amp cos(qx + phase): c1 = amp cos phase, c2 = -amp sin phase. */
     out->phase = atan2(-c[2], c[1]);
     out->points = count;
+    out->envelope_center = NAN;
+    out->envelope_width = NAN;
     return PF_OK;
 }

@@ -258,10 +258,14 @@ static void warn_axis(pf_wave *w, int a, double p, size_t step, const char *kind
     }
 }
 
+void pf_wave_set_periodic(pf_wave *w, int on) { w->periodic = on != 0; }
+int pf_wave_is_periodic(const pf_wave *w) { return w->periodic; }
+
 static void check_and_warn(pf_wave *w, size_t step, const char *kind)
 {
     pf_guard_state *gs = &w->guard;
     const int r = w->rep;
+    if (r == PF_POSITION && w->periodic) return; /* the cell edge is no edge for a periodic state */
     const double thr = pf_context_guard_threshold(w->grid->ctx);
     for (int a = 0; a < w->grid->dim; a++) {
         unsigned bit = 1u << (r * PF_MAX_DIM + a);
@@ -377,6 +381,7 @@ pf_status pf_wave_guard(pf_wave *w, pf_guard_figures *out)
     memset(out, 0, sizeof *out);
     out->dim = g->dim;
     out->threshold = pf_context_guard_threshold(g->ctx);
+    out->periodic = w->periodic;
     for (int a = 0; a < g->dim; a++) out->band_points[a] = pf_guard_band_points(g->n[a]);
     for (int rr = 0; rr < 2; rr++) {
         out->known[rr] = (gs->known >> rr) & 1u;

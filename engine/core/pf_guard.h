@@ -47,7 +47,15 @@ typedef struct pf_guard_figures {
     int known[2];                    /* [PF_POSITION], [PF_MOMENTUM]: figures describe the current state */
     double band[2][PF_MAX_DIM];      /* probability in the outer band per axis (valid where known) */
     int warned[2][PF_MAX_DIM];       /* a warning was given for this representation and axis */
+    int periodic;                    /* marked periodic: the position figures are not a failure */
 } pf_guard_figures;
+
+/* Marks w periodic by design (on != 0) or not: the position-edge guards
+ * (warnings, the figures' verdict, the builders' measured edge check) then
+ * leave position alone; the momentum guard still watches Nyquist.  Copies
+ * keep the mark. */
+void pf_wave_set_periodic(pf_wave *w, int on);
+int pf_wave_is_periodic(const pf_wave *w);
 
 /* Measures the band of the representation w is in now (no transform) and
  * fills *out; the other representation's figures are reported when still

@@ -143,6 +143,10 @@ struct pf_wave {
      * every change of the data that is not logged must update or clear it. */
     double norm_now;
     pf_guard_state guard;
+    /* Periodic by design (a grating, a Talbot carpet, a commensurate comb):
+     * the grid's period is the state's, so probability at the cell edge is
+     * no wrap-around and the position guards stay silent (pf_guard.c). */
+    int periodic;
     /* Where the last scaled flight started (pf_scaled.c), so that a further
      * long flight can return there exactly instead of flying a chirp the new
      * grid undersamples.  Valid while log.count == scaled_from.log_count. */

@@ -29,6 +29,14 @@ static size_t smooth_count(double n)
     }
 }
 
+double pf_resolution_max_spacing(double feature, double kmax)
+{
+    double dx = INFINITY;
+    if (feature > 0) dx = fmin(dx, feature / PF_MIN_FEATURE_SPACINGS);
+    if (kmax > 0) dx = fmin(dx, PF_PI / kmax);
+    return dx;
+}
+
 int pf_resolution_check(pf_grid *g, const char *builder, const pf_extent *e)
 {
     int warned = 0;
@@ -46,7 +54,7 @@ int pf_resolution_check(pf_grid *g, const char *builder, const pf_extent *e)
                             0.5 * (e->x_lo[a] + e->x_hi[a]));
             warned++;
         }
-        if (!isnan(e->feature[a]) && e->feature[a] < PF_MIN_FEATURE_SPACINGS * dx) {
+        if (!isnan(e->feature[a]) && dx > pf_resolution_max_spacing(e->feature[a], NAN)) {
             pf_context_warn(g->ctx,
                             "%s: axis %d: the smallest feature (%.3g m) spans only %.2f grid spacings "
                             "(spacing %.3g m, want at least %.0f); use at least %zu points for the span of "
@@ -57,7 +65,7 @@ int pf_resolution_check(pf_grid *g, const char *builder, const pf_extent *e)
         }
         double kmax = fmax(fabs(e->k_lo[a]), fabs(e->k_hi[a]));
         double kn = PF_PI / dx;
-        if (!isnan(kmax) && kmax > kn) {
+        if (!isnan(kmax) && dx > pf_resolution_max_spacing(NAN, kmax)) {
             pf_context_warn(g->ctx,
                             "%s: axis %d: momentum content reaches |k| = %.4g 1/m (hbar k = %.4g kg m/s), "
                             "beyond the grid's Nyquist limit %.4g 1/m; use a spacing of at most %.3g m "
@@ -73,6 +81,7 @@ int pf_resolution_check(pf_grid *g, const char *builder, const pf_extent *e)
 pf_status pf_resolution_check_edges(pf_wave *w, pf_rep rep, const char *builder, int *warnings)
 {
     pf_grid *g = w->grid;
+    if (rep == PF_POSITION && w->periodic) return PF_OK; /* periodic by design: no edge */
     pf_status s = pf_wave_to(w, rep);
     if (s) return s;
     double *mask[PF_MAX_DIM] = {NULL, NULL, NULL};

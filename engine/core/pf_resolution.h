@@ -15,6 +15,21 @@
 /* Smallest number of grid spacings a feature may span without a warning. */
 #define PF_MIN_FEATURE_SPACINGS 3.0
 
+/* The Gaussian family's extent as the builders check it: the state reaches
+ * PF_GAUSS_REACH rms widths in position and in wave number, and its
+ * smallest feature is its full width at half maximum. */
+#define PF_GAUSS_REACH 6.0
+#define PF_GAUSS_FWHM_PER_SIGMA 2.3548200450309493
+
+/* The one definition of "resolved", used by the builders' check below and
+ * by the grid advisor (pf_advise.c), so the advisor never proposes a grid a
+ * builder rejects: an axis of spacing dx resolves a state whose smallest
+ * feature is `feature` (m) and whose wave numbers reach |k| <= kmax (1/m)
+ * when dx <= the value returned, i.e. feature >= PF_MIN_FEATURE_SPACINGS dx
+ * and kmax <= pi / dx.  A NaN or non-positive field is not a constraint;
+ * INFINITY when neither is. */
+double pf_resolution_max_spacing(double feature, double kmax);
+
 /* Analytic extent of a state per axis: it lives in [x_lo, x_hi] (m) and
  * [k_lo, k_hi] (1/m); feature is its smallest length scale (m).  A field set
  * to NaN is not checked. */

@@ -48,6 +48,7 @@ pf_status pf_wave_copy(const pf_wave *src, pf_wave **out)
     w->scaled_from = src->scaled_from;
     w->expanded = src->expanded;
     w->frame = src->frame;
+    w->periodic = src->periodic;
     if (pf_steplog_copy(&w->log, &src->log) != PF_OK) {
         pf_wave_free(w);
         *out = NULL;

@@ -247,5 +247,6 @@ void pfl_open_lab(lua_State *L, int mod);     /* pf.coupling, pf.beam: lab quant
 void pfl_open_expand(lua_State *L, int mod);  /* w:expand: mean-field expansion on a growing grid */
 void pfl_open_levels(lua_State *L, int mod);  /* issue 15: pf.levels, internal states and pulses */
 void pfl_open_frame(lua_State *L, int mod);   /* issue 14: moving frames */
+void pfl_open_interp(lua_State *L, int mod);  /* w:psi_at, w:density_at: values between grid points */
 
 #endif

@@ -19,8 +19,10 @@ static const pfl_options_decl RADIAL_OPTIONS = {
     "state:radial_profile", (const char *const[]){"center", "bin", "bins", "space", NULL}};
 static const pfl_options_decl SAMPLE_OPTIONS = {"state:sample", (const char *const[]){"space", "jitter", RNG_KEYS, NULL}};
 static const pfl_options_decl HISTOGRAM_OPTIONS = {"pf.histogram", (const char *const[]){"from", "to", "bins", NULL}};
-static const pfl_options_decl FRINGES_FN_OPTIONS = {"pf.fringes", (const char *const[]){"from", "to", "period", NULL}};
-static const pfl_options_decl FRINGES_OPTIONS = {"state:fringes", (const char *const[]){"axis", "from", "to", "period", NULL}};
+static const pfl_options_decl FRINGES_FN_OPTIONS = {
+    "pf.fringes", (const char *const[]){"from", "to", "period", "envelope", NULL}};
+static const pfl_options_decl FRINGES_OPTIONS = {
+    "state:fringes", (const char *const[]){"axis", "from", "to", "period", "envelope", NULL}};
 
 /* Unit strings and lab scale of a density field of dim axes. */
 static void density_units(pf_rep rep, int dim, double mass, char *unit, char *lab_unit, double *scale)
@@ -303,9 +305,35 @@ static int l_histogram(lua_State *L)
     return 1;
 }
 
+/* Field envelope = "none" (default) | "sinc2" | "gaussian" of the fringe fits. */
+static pf_fringe_envelope field_envelope(lua_State *L, int opts, const char *name)
+{
+    if (!opts || pfl_option_get(L, opts, "envelope") == LUA_TNIL) {
+        if (opts) lua_pop(L, 1);
+        return PF_ENVELOPE_NONE;
+    }
+    const char *v = lua_type(L, -1) == LUA_TSTRING ? lua_tostring(L, -1) : "";
+    pf_fringe_envelope e = PF_ENVELOPE_NONE;
+    if (strcmp(v, "sinc2") == 0) e = PF_ENVELOPE_SINC2;
+    else if (strcmp(v, "gaussian") == 0) e = PF_ENVELOPE_GAUSSIAN;
+    else if (strcmp(v, "none") != 0) {
+        char buf[80];
+        luaL_error(L, "%s: field 'envelope' must be \"none\", \"sinc2\" or \"gaussian\", got %s", name,
+                   pfl_describe(L, -1, buf, sizeof buf));
+    }
+    lua_pop(L, 1);
+    return e;
+}
+
 static void push_fit(lua_State *L, const pf_fringe_fit *fit)
 {
-    lua_createtable(L, 0, 7);
+    lua_createtable(L, 0, 9);
+    if (!isnan(fit->envelope_width)) {
+        lua_pushnumber(L, fit->envelope_center);
+        lua_setfield(L, -2, "envelope_center");
+        lua_pushnumber(L, fit->envelope_width);
+        lua_setfield(L, -2, "envelope_width");
+    }
     lua_pushnumber(L, fit->period);
     lua_setfield(L, -2, "period");
     lua_pushnumber(L, fit->wavenumber);
@@ -336,6 +364,7 @@ static int l_fringes_fn(lua_State *L)
         hi = pfl_field_number(L, opts, "to", INFINITY, 0);
         guess = pfl_field_number(L, opts, "period", 0, 0);
     }
+    pf_fringe_envelope env = field_envelope(L, opts, "fringes");
     if (!isfinite(lo) || !isfinite(hi)) {
         double mn = INFINITY, mx = -INFINITY;
         for (size_t i = 0; i < nx; i++) {
@@ -346,7 +375,7 @@ static int l_fringes_fn(lua_State *L)
         if (!isfinite(hi)) hi = mx;
     }
     pf_fringe_fit fit;
-    pfl_check(L, pf_fringe_analyse(pfl_ctx(L), x, y, nx, lo, hi, guess, &fit), "fringes");
+    pfl_check(L, pf_fringe_analyse_envelope(pfl_ctx(L), x, y, nx, lo, hi, guess, env, &fit), "fringes");
     push_fit(L, &fit);
     return 1;
 }
@@ -366,6 +395,7 @@ static int l_fringes(lua_State *L)
         hi = pfl_field_number(L, opts, "to", hi, 0);
         guess = pfl_field_number(L, opts, "period", 0, 0);
     }
+    pf_fringe_envelope env = field_envelope(L, opts, "fringes");
     int keep[PF_MAX_DIM] = {0, 0, 0};
     keep[axis] = 1;
     pf_field f, m;
@@ -381,7 +411,7 @@ static int l_fringes(lua_State *L)
     }
     for (size_t j = 0; j < n; j++) x[j] = pf_field_coord(&m, 0, j);
     pf_fringe_fit fit;
-    s = pf_fringe_analyse(pfl_ctx(L), x, m.values, n, lo, hi, guess, &fit);
+    s = pf_fringe_analyse_envelope(pfl_ctx(L), x, m.values, n, lo, hi, guess, env, &fit);
     pf_context_free(pfl_ctx(L), x);
     pf_field_free(&m);
     pfl_check(L, s, "fringes");

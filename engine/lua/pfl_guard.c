@@ -46,12 +46,32 @@ static int l_guard(lua_State *L)
         for (int a = 0; a < f.dim; a++) {
             lua_pushboolean(L, f.warned[r][a]);
             lua_rawseti(L, -2, a + 1);
+            /* A periodic state's cell edge is no edge (w:mark_periodic). */
+            if (r == PF_POSITION && f.periodic) continue;
             if (f.warned[r][a] || (f.known[r] && f.band[r][a] > f.threshold)) ok = 0;
         }
         lua_setfield(L, -2, wname[r]);
     }
     lua_pushboolean(L, ok);
     lua_setfield(L, -2, "ok");
+    lua_pushboolean(L, f.periodic);
+    lua_setfield(L, -2, "periodic");
+    return 1;
+}
+
+/* w:mark_periodic([on = true]) -> w: the state is periodic by design (a
+ * grating, a Talbot carpet, a commensurate comb); the position-edge guards
+ * leave it alone, the momentum guard still watches Nyquist. */
+static int l_mark_periodic(lua_State *L)
+{
+    pf_wave *w = pfl_check_wave(L, 1);
+    int on = 1;
+    if (!lua_isnoneornil(L, 2)) {
+        luaL_checktype(L, 2, LUA_TBOOLEAN);
+        on = lua_toboolean(L, 2);
+    }
+    pf_wave_set_periodic(w, on);
+    lua_settop(L, 1);
     return 1;
 }
 
@@ -81,7 +101,7 @@ static void wrap(lua_State *L, int mod, const char *name, lua_CFunction fn)
 void pfl_open_guard(lua_State *L, int mod)
 {
     mod = lua_absindex(L, mod);
-    static const luaL_Reg methods[] = {{"guard", l_guard}, {NULL, NULL}};
+    static const luaL_Reg methods[] = {{"guard", l_guard}, {"mark_periodic", l_mark_periodic}, {NULL, NULL}};
     pfl_add_wave_methods(L, methods);
     wrap(L, mod, "run_info", l_run_info);
 }

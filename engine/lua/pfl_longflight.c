@@ -6,6 +6,7 @@
 #include <string.h>
 #include "../core/pf_advise.h"
 #include "../core/pf_constants.h"
+#include "../core/pf_resolution.h"
 #include "../core/pf_farfield.h"
 #include "../core/pf_frame.h"
 #include "../core/pf_guard.h"
@@ -394,8 +395,12 @@ static int l_grid_advice(lua_State *L)
     pfl_field_vector(L, 1, "center", q.dim, c, 0);
     pfl_field_vector(L, 1, "wavenumber", q.dim, k0, 0);
     read_common(L, 1, &q, "grid_advice");
-    double z = gauss_tail_z(fmin(pf_context_guard_threshold(pfl_ctx(L)), 1e-2));
+    /* Extents at least as far as the builders check a Gaussian (6 rms
+     * widths), and its smallest feature, the FWHM: the proposals then pass
+     * the builders' resolution check (one definition, pf_resolution.h). */
+    double z = fmax(gauss_tail_z(fmin(pf_context_guard_threshold(pfl_ctx(L)), 1e-2)), PF_GAUSS_REACH);
     for (int a = 0; a < q.dim; a++) {
+        q.feature[a] = PF_GAUSS_FWHM_PER_SIGMA * w[a];
         q.x_lo[a] = c[a] - z * w[a];
         q.x_hi[a] = c[a] + z * w[a];
         q.k_lo[a] = k0[a] - z * sk[a];

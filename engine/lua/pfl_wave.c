@@ -9,10 +9,12 @@
 #include <stdlib.h>
 #include <string.h>
 #include "../core/pf_frame.h"
+#include "../core/pf_guard.h"
 #include "../core/pf_observe.h"
 #include "pfl_options.h"
 
-static const pfl_options_decl WAVE_OPTIONS = {"pf.wave", (const char *const[]){"mass", "position", "momentum", "normalize", NULL}};
+static const pfl_options_decl WAVE_OPTIONS = {
+    "pf.wave", (const char *const[]){"mass", "position", "momentum", "normalize", "periodic", NULL}};
 
 typedef struct { pf_wave *w; } pfl_wave_box;
 
@@ -116,9 +118,11 @@ static int l_wave(lua_State *L)
     if ((tp == LUA_TNIL) == (tm == LUA_TNIL))
         return luaL_error(L, "wave: give exactly one of 'position' (function of x) or 'momentum' (function of k)");
     int normalize = pfl_field_boolean(L, 2, "normalize", 1);
+    int periodic = pfl_field_boolean(L, 2, "periodic", 0);
     pf_wave *w;
     pfl_check(L, pf_wave_new(g, mass, &w), "wave");
     pfl_push_wave(L, w); /* owned by Lua from here on, so errors below do not leak */
+    pf_wave_set_periodic(w, periodic); /* before the build step, whose guard would warn */
     int fn = tp != LUA_TNIL ? -3 : -2;
     pfl_fill_from_function(L, w, tp != LUA_TNIL ? PF_POSITION : PF_MOMENTUM, fn, "wave");
     if (normalize) pfl_check(L, pf_wave_normalize(w), "wave");

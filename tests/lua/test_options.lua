@@ -126,7 +126,7 @@ local TAKES_NO_OPTIONS = {
   "wave:log_text", "wave:close", "wave:norm", "wave:frame", "wave:x_axis", "wave:k_axis", "wave:position_mean", "wave:position_variance",
   "wave:position_width", "wave:momentum_mean", "wave:momentum_variance", "wave:momentum_width",
   "wave:wavenumber_mean", "wave:wavenumber_width", "wave:velocity_mean", "wave:kinetic_energy",
-  "wave:position_momentum_covariance", "wave:add",
+  "wave:position_momentum_covariance", "wave:add", "wave:psi_at", "wave:density_at", "wave:mark_periodic",
   "wave:inner", "wave:guard", "wave:imprint", "wave:mask", "wave:momentum_mask",
   "wave:shift", "wave:fall", "wave:log_columns", "wave:overlap", "wave:fidelity", "wave:current",
   "wave:column_density", "wave:probability_in", "wave:position_covariance", "wave:momentum_covariance",
