@@ -172,6 +172,9 @@ static double plane_density(const pf_wave *w, const plane_eval *p, double *line_
     return total * p->factor * w->mass / PF_HBAR; /* factor holds hbar/m times the spans */
 }
 
+/* The flux through a plane and, when density is not NULL, the density
+ * integrated over it: one set-up (momentum representation, plane tables)
+ * serves both figures. */
 pf_status pf_wave_plane_figures(pf_wave *w, int axis, double at, double *flux, double *density)
 {
     pf_grid *g = w->grid;
@@ -189,7 +192,7 @@ pf_status pf_wave_plane_figures(pf_wave *w, int axis, double at, double *flux, d
         return pf_context_status(g->ctx);
     }
     *flux = plane_flux(w, &p, lines);
-    *density = plane_density(w, &p, lines);
+    if (density) *density = plane_density(w, &p, lines);
     pf_context_free(g->ctx, lines);
     pf_context_free(g->ctx, p.e);
     pf_context_free(g->ctx, p.line_weight);
@@ -198,25 +201,7 @@ pf_status pf_wave_plane_figures(pf_wave *w, int axis, double at, double *flux, d
 
 pf_status pf_wave_flux(pf_wave *w, int axis, double at, double *flux)
 {
-    pf_grid *g = w->grid;
-    pf_status s = check_plane(g, axis, at);
-    if (s) return s;
-    s = pf_wave_to(w, PF_MOMENTUM);
-    if (s) return s;
-    plane_eval p;
-    s = plane_init(w, axis, at, &p);
-    if (s) return s;
-    double *lines = pf_alloc(g->ctx, p.outer * p.inner * sizeof(double));
-    if (!lines) {
-        pf_context_free(g->ctx, p.e);
-        pf_context_free(g->ctx, p.line_weight);
-        return pf_context_status(g->ctx);
-    }
-    *flux = plane_flux(w, &p, lines);
-    pf_context_free(g->ctx, lines);
-    pf_context_free(g->ctx, p.e);
-    pf_context_free(g->ctx, p.line_weight);
-    return PF_OK;
+    return pf_wave_plane_figures(w, axis, at, flux, NULL);
 }
 
 /* Lines of one block of pf_wave_beyond share one partial sum; the block

@@ -28,7 +28,8 @@ pf_status pf_wave_flux(pf_wave *w, int axis, double at, double *flux);
  * probability per unit length across the plane, integral |psi|^2 dA (1/m;
  * |psi(at)|^2 in 1D).  A moving frame (pf_frame.c) needs both: its lab flux
  * is the grid flux plus the frame velocity times this density.  Leaves the
- * wave in momentum representation. */
+ * wave in momentum representation.  density may be NULL (then only the
+ * flux). */
 pf_status pf_wave_plane_figures(pf_wave *w, int axis, double at, double *flux, double *density);
 /* Probability in at <= x_axis < far cell edge (band-limited integral, exact
  * through the autocorrelation of the amplitudes along the axis, made with

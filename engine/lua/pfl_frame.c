@@ -294,8 +294,9 @@ static int axis_arg(lua_State *L, int arg, const pf_grid *g)
 }
 
 /* w:x_axis([axis]) -> lab positions of the grid points along the axis (m);
- * w:k_axis([axis]) -> lab wave numbers in ascending order (rad/m). */
-static int l_x_axis(lua_State *L)
+ * w:k_axis([axis]) -> lab wave numbers in ascending order (rad/m).  Both are
+ * the grid's own axis shifted by the frame's offset on that axis. */
+static int push_lab_axis(lua_State *L, int wavenumbers)
 {
     pf_wave *w = pfl_check_wave(L, 1);
     const pf_grid *g = pf_wave_grid(w);
@@ -305,27 +306,16 @@ static int l_x_axis(lua_State *L)
     size_t n = pf_grid_points(g, a);
     lua_createtable(L, (int)n, 0);
     for (size_t j = 0; j < n; j++) {
-        lua_pushnumber(L, pf_grid_x(g, a, j) + f.position[a]);
+        double v = wavenumbers ? pf_grid_k(g, a, pf_grid_fft_index(g, a, j)) + f.wavenumber[a]
+                               : pf_grid_x(g, a, j) + f.position[a];
+        lua_pushnumber(L, v);
         lua_rawseti(L, -2, (lua_Integer)j + 1);
     }
     return 1;
 }
 
-static int l_k_axis(lua_State *L)
-{
-    pf_wave *w = pfl_check_wave(L, 1);
-    const pf_grid *g = pf_wave_grid(w);
-    int a = axis_arg(L, 2, g);
-    pf_frame f;
-    pf_wave_frame(w, &f);
-    size_t n = pf_grid_points(g, a);
-    lua_createtable(L, (int)n, 0);
-    for (size_t j = 0; j < n; j++) {
-        lua_pushnumber(L, pf_grid_k(g, a, pf_grid_fft_index(g, a, j)) + f.wavenumber[a]);
-        lua_rawseti(L, -2, (lua_Integer)j + 1);
-    }
-    return 1;
-}
+static int l_x_axis(lua_State *L) { return push_lab_axis(L, 0); }
+static int l_k_axis(lua_State *L) { return push_lab_axis(L, 1); }
 
 /* pf._frame_aware() -> the FRAME_AWARE list (for the tests). */
 static int l_frame_aware(lua_State *L)

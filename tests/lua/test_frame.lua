@@ -87,6 +87,12 @@ do
   check.near(w:velocity_mean(), hbar * k0 / m + a * t, 1e-10, "<v> = v0 + a t", "Newton (common practice)")
   local ke = 0.5 * ((hbar * k0 + m * a * t) ^ 2 + (hbar / (2 * sigma)) ^ 2) / m
   check.near(w:kinetic_energy(), ke, 1e-10, "kinetic energy <p^2>/2m in the lab", "<p^2> = <p>^2 + var p (common practice)")
+  -- The lab wave-number axis carries the frame's offset: <k> from it and the
+  -- momentum density is the lab mean (hbar k0 + m a t) / hbar.
+  local ks, rho = w:k_axis(1), w:momentum_density()
+  local kmean, dk = 0, ks[2] - ks[1]
+  for i = 1, #ks do kmean = kmean + ks[i] * rho[i] * dk end
+  check.near(kmean, k0 + m * a * t / hbar, 1e-9, "<k> over w:k_axis = k0 + m a t / hbar", "Newton (common practice)")
   -- The grid itself holds only the cloud: its own momentum stays near k0.
   local log = w:log()
   check.equal(log[#log].method, "moving-frame", "the flight is logged as a moving-frame flight")
