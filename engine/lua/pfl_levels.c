@@ -279,7 +279,8 @@ static void read_wavenumber(lua_State *L, int t, int dim, double *k, const char 
 }
 
 /* Field 'acceleration' of the checked options table at opts (0: none):
- * a number / per-axis table for every level, or {label = a, ...} per level.
+ * a number / per-axis table for every level, or {label = a, ...} per level;
+ * absent: the pf.setup default (if any) for every level; false: none.
  * Fills acc[i] and has[i] (levels not named: has 0). */
 static void read_accelerations(lua_State *L, pfl_levels_box *b, int opts, int dim, double acc[][PF_MAX_DIM], int *has,
                                const char *fname)
@@ -290,9 +291,20 @@ static void read_accelerations(lua_State *L, pfl_levels_box *b, int opts, int di
     }
     if (!opts || pfl_option_get(L, opts, "acceleration") == LUA_TNIL) {
         if (opts) lua_pop(L, 1);
+        /* No acceleration given: the script's default from pf.setup holds
+         * for every level, as it does for w:fly. */
+        if (pfl_frame_acceleration(L, 0, dim, acc[0], fname))
+            for (int i = 0; i < b->count; i++) {
+                memcpy(acc[i], acc[0], sizeof acc[0]);
+                has[i] = 1;
+            }
         return;
     }
     int at = lua_gettop(L);
+    if (lua_type(L, at) == LUA_TBOOLEAN && !lua_toboolean(L, at)) {
+        lua_pop(L, 1); /* acceleration = false: none, whatever the default */
+        return;
+    }
     int per_level = 0;
     if (lua_istable(L, at)) {
         lua_pushnil(L);

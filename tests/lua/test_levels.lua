@@ -161,6 +161,26 @@ do
   end
 end
 
+-- The script's default acceleration (pf.setup) holds for lv:fly as for w:fly,
+-- and acceleration = false flies freely whatever the default: the means follow
+-- x0 + v0 t + a t^2 / 2 and x0 + v0 t (Newton, common practice).
+do
+  local v0, a, t = 2e-4, -0.7, 6e-3
+  local start = pf.gaussian(g, {mass = "87Rb", width = 4e-6, center = -10e-6, velocity = v0})
+  pf.setup{acceleration = a}
+  local lv = pf.levels{labels = {"up", "down"}, waves = {up = start, down = start}}
+  lv:fly(t)
+  local free = pf.levels{labels = {"up", "down"}, waves = {up = start, down = start}}
+  free:fly(t, {acceleration = false})
+  pf.setup{acceleration = false}
+  for _, lab in ipairs{"up", "down"} do
+    check.near(lv:level(lab):position_mean(), -10e-6 + v0 * t + a * t^2 / 2, 1e-9,
+               "pf.setup acceleration reaches lv:fly, level " .. lab, "classical trajectory (Newton)", 1e-15)
+    check.near(free:level(lab):position_mean(), -10e-6 + v0 * t, 1e-9,
+               "acceleration = false overrides the default, level " .. lab, "free flight (Newton)", 1e-15)
+  end
+end
+
 -- Bragg: a short, strong pulse on a plane wave puts J_n(Omega t)^2 in order n
 -- (Raman-Nath regime), read back with order_populations; the Bessel values
 -- are from scipy.special.jv in tests/ref/test_levels_scipy.sh; here the sum
