@@ -10,6 +10,7 @@
 #include <string.h>
 #include "../core/pf_build.h"
 #include "../core/pf_constants.h"
+#include "../core/pf_frame.h"
 #include "../core/pf_observe.h"
 #include "pfl_measure.h"
 #include "pfl_options.h"
@@ -107,9 +108,18 @@ void pfl_check_source(lua_State *L, int arg, pfl_source *src)
 pf_grid *pfl_source_grid(const pfl_source *src) { return pf_wave_grid(src->mix.members[0]); }
 double pfl_source_mass(const pfl_source *src) { return pf_wave_mass(src->mix.members[0]); }
 
+/* The field's axes are lab axes: for a single wave in a moved frame
+ * (pf_frame.h) the grid's positions are shifted by the frame's offset X and
+ * its wave numbers by K, since |psi_lab(x)|^2 = |chi(x - X)|^2 and
+ * |phi_lab(k)|^2 = |chi~(k - K)|^2.  Ensembles reach here only unmoved (the
+ * frame guard refuses moved members). */
 void pfl_source_field(lua_State *L, const pfl_source *src, pf_rep rep, pf_field *f, const char *name)
 {
     pfl_check(L, pf_mixture_field(&src->mix, rep, f), name);
+    if (src->is_ensemble || !pf_wave_frame_moved(src->single)) return;
+    pf_frame fr;
+    pf_wave_frame(src->single, &fr);
+    for (int a = 0; a < f->dim; a++) f->first[a] += rep == PF_POSITION ? fr.position[a] : fr.wavenumber[a];
 }
 
 void pfl_add_state_methods(lua_State *L, const luaL_Reg *methods)

@@ -24,6 +24,8 @@
  * Keep the list sorted; tests/lua/test_frame.lua checks that every entry
  * names an existing function and that an unlisted one refuses. */
 static const char *const FRAME_AWARE[] = {
+    "camera:absorb",
+    "camera:expose",
     "h5file:put_density",
     "pf.picture_map",
     "wave:aperture",

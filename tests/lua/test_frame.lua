@@ -202,11 +202,13 @@ do
   local meta = getmetatable(w).__index
   local h5 = pf.h5file("frame-aware-walk.h5", {overwrite = true})
   local h5meta = getmetatable(h5).__index
+  local cammeta = getmetatable(pf.camera{pixels = 4, pitch = 1e-6}).__index
   local aware = pf._frame_aware()
   check.truthy(#aware >= 20, "FRAME_AWARE lists the lab-aware methods (" .. #aware .. ")")
   for i, name in ipairs(aware) do
     local kind, fn = name:match("^(%w+)[.:]([%w_]+)$")
     local exists = (kind == "wave" and meta[fn]) or (kind == "pf" and pf[fn]) or (kind == "h5file" and h5meta[fn])
+      or (kind == "camera" and cammeta[fn])
     if not exists then error("FRAME_AWARE names '" .. name .. "', which does not exist", 0) end
     if i > 1 and aware[i - 1] >= name then error("FRAME_AWARE is not sorted at " .. name, 0) end
   end
@@ -402,6 +404,39 @@ do
   check.equal(adv.frame.lab_grid_wraps[1], false, "advice: no wrap across gravity")
   print(string.format("note a fixed lab grid for this drop: %d x %d x %d points, %.3g GB",
     adv.frame.lab_grid_points[1], adv.frame.lab_grid_points[2], adv.frame.lab_grid_points[3], adv.frame.lab_grid_memory / 1e9))
+end
+
+-- Cameras image the lab: a uniform force translates the density by a t^2 / 2
+-- and changes nothing else (Newton / Ehrenfest, exact for a uniform force;
+-- common practice), so the falling cloud seen by a camera moved down by
+-- a t^2 / 2 equals the freely flown cloud seen by the camera left in place.
+do
+  local gc = pf.grid{points = {64, 64}, span = {64e-6, 64e-6}}
+  local a, t = -9.80665, 3e-3
+  local drop = 0.5 * a * t * t
+  local falling = pf.gaussian(gc, {mass = m, width = {3e-6, 2e-6}})
+  local free = falling:copy()
+  falling:fly(t, {acceleration = {0, a}})
+  free:fly(t)
+  check.truthy(falling:frame().moved, "the falling cloud's frame moved")
+  local corner = {-30.25e-6, -30.25e-6}
+  local spec = {pixels = {24, 24}, pitch = 2.5e-6, psf = 1e-6}
+  spec.corner = corner
+  local still = pf.camera(spec)
+  spec.corner = {corner[1], corner[2] + drop}
+  local lowered = pf.camera(spec)
+  local seen, want = lowered:expose(falling, {noise = false}), still:expose(free, {noise = false})
+  local worst, peak = 0, 0
+  for i = 1, #want.expected do
+    worst = math.max(worst, math.abs(seen.expected[i] - want.expected[i]))
+    peak = math.max(peak, want.expected[i])
+  end
+  check.close(worst / peak, 0, 1e-10, "camera image of the falling cloud = free image moved by a t^2/2",
+    "uniform force translates the density (Newton; common practice)")
+  check.near(seen.axes[2][1], corner[2] + drop + 1.25e-6, 1e-12, "camera axes are lab positions", "definition")
+  local od = lowered:absorb(falling, {atoms = 1e4, cross_section = 1e-13})
+  check.near(od.atoms_recovered, 1e4, 1e-6, "absorption image of the falling cloud recovers the atoms",
+    "Beer-Lambert sum rule")
 end
 
 check.done()
