@@ -5,6 +5,7 @@
 #include <stdlib.h>
 #include <string.h>
 #include "../core/pf_constants.h"
+#include "../core/pf_frame.h"
 #include "../core/pf_fringe.h"
 #include "../core/pf_sample.h"
 #include "pfl_measure.h"
@@ -390,6 +391,12 @@ static int l_fringes(lua_State *L)
     int d = pf_grid_dim(g);
     int axis = pfl_opt_axis(L, opts, "axis", d, 1) - 1;
     double lo = pf_grid_x(g, axis, 0), hi = pf_grid_x(g, axis, pf_grid_points(g, axis) - 1), guess = 0;
+    if (!src.is_ensemble) { /* the default range is the grid's, in lab positions (pf_frame.h) */
+        pf_frame fr;
+        pf_wave_frame(src.single, &fr);
+        lo += fr.position[axis];
+        hi += fr.position[axis];
+    }
     if (opts) {
         lo = pfl_field_number(L, opts, "from", lo, 0);
         hi = pfl_field_number(L, opts, "to", hi, 0);

@@ -111,10 +111,15 @@ double pfl_source_mass(const pfl_source *src) { return pf_wave_mass(src->mix.mem
 /* The field's axes are lab axes: for a single wave in a moved frame
  * (pf_frame.h) the grid's positions are shifted by the frame's offset X and
  * its wave numbers by K, since |psi_lab(x)|^2 = |chi(x - X)|^2 and
- * |phi_lab(k)|^2 = |chi~(k - K)|^2.  Ensembles reach here only unmoved (the
- * frame guard refuses moved members). */
+ * |phi_lab(k)|^2 = |chi~(k - K)|^2.  Ensembles with a moved member are
+ * refused (their members could each sit in another frame). */
 void pfl_source_field(lua_State *L, const pfl_source *src, pf_rep rep, pf_field *f, const char *name)
 {
+    if (src->is_ensemble)
+        for (size_t i = 0; i < src->mix.count; i++)
+            if (pf_wave_frame_moved(src->mix.members[i]))
+                luaL_error(L, "%s: member %d of the ensemble is in a moving frame; ensembles are supported only "
+                              "in the grid frame (docs/frames.md)", name, (int)i + 1);
     pfl_check(L, pf_mixture_field(&src->mix, rep, f), name);
     if (src->is_ensemble || !pf_wave_frame_moved(src->single)) return;
     pf_frame fr;

@@ -439,4 +439,46 @@ do
     "Beer-Lambert sum rule")
 end
 
+-- Distributions, profiles, slices, radial profiles and Born events of a
+-- falling cloud are those of the free cloud moved by a t^2 / 2 (uniform force
+-- translates the density; Newton, common practice).  The same seed draws the
+-- same events, each moved by the drop.
+do
+  local gd = pf.grid{points = {64, 48}, span = {64e-6, 48e-6}}
+  local a, t = -9.80665, 2e-3
+  local drop = 0.5 * a * t * t
+  local falling = pf.gaussian(gd, {mass = m, width = {3e-6, 2e-6}})
+  local free = falling:copy()
+  falling:fly(t, {acceleration = {0, a}})
+  free:fly(t)
+  local pf_, pr = falling:profile(2), free:profile(2)
+  local worst = 0
+  for i = 1, #pr.values do worst = math.max(worst, math.abs(pf_.values[i] - pr.values[i]) / pr.values[(#pr.values + 1) // 2]) end
+  check.close(worst, 0, 1e-10, "profile of the falling cloud = free profile", "uniform force translates the density (common practice)")
+  check.near(pf_.axes[1][1], pr.axes[1][1] + drop, 1e-12, "profile axis is lab height (free axis + a t^2/2)", "kinematics (common practice)")
+  local d1, d0 = falling:distribution(), free:distribution()
+  check.near(d1.axes[2][1], d0.axes[2][1] + drop, 1e-12, "distribution axes are lab positions", "kinematics (common practice)")
+  local k1, k0 = falling:distribution{space = "momentum"}, free:distribution{space = "momentum"}
+  check.near(k1.axes[2][1], k0.axes[2][1] + m * a * t / hbar, 1e-12, "momentum axes are lab wave numbers (+ m a t / hbar)",
+    "Newton (common practice)")
+  local e1, e0 = falling:sample(500, {seed = 11}), free:sample(500, {seed = 11})
+  local dev = 0
+  for i = 1, 500 do dev = math.max(dev, math.abs(e1[2][i] - e0[2][i] - drop), math.abs(e1[1][i] - e0[1][i])) end
+  check.close(dev, 0, 1e-15, "Born events of the falling cloud = free events moved by the drop (m)", "kinematics (common practice)")
+  local r1 = falling:radial_profile{center = {0, drop}, bin = 2e-6, bins = 8}
+  local r0 = free:radial_profile{center = {0, 0}, bin = 2e-6, bins = 8}
+  check.near(r1.values[2], r0.values[2], 1e-10, "radial profile about the lab centre", "uniform force translates the density (common practice)")
+  local s1 = falling:slice{axes = {1}, through = {0, drop}}
+  local s0 = free:slice{axes = {1}, through = {0, 0}}
+  check.near(s1.values[33], s0.values[33], 1e-10, "slice through the lab centre", "uniform force translates the density (common practice)")
+  local f1, f0 = falling:fringes{axis = 2, period = 5e-6}, free:fringes{axis = 2, period = 5e-6}
+  check.equal(f1.points, f0.points, "fringes fit the whole lab profile by default (points)")
+  check.near(f1.period, f0.period, 1e-9, "fringe fit of the falling cloud = free fit (period)", "uniform force translates the density (common practice)")
+  local ens = pf.mixture({free:copy(), free:copy()}, {0.5, 0.5})
+  check.truthy(ens:profile(2).values[1] ~= nil, "ensembles of grid-frame waves still give profiles")
+  ens:fly(1e-4, {acceleration = {0, a}})
+  check.fails(function() return ens:profile(2) end, "an ensemble with moved members is refused, not shifted",
+    "member 1 of the ensemble is in a moving frame")
+end
+
 check.done()
