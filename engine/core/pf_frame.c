@@ -250,6 +250,41 @@ pf_status pf_wave_lab_kinetic_energy(pf_wave *w, double *energy)
     return PF_OK;
 }
 
+/* The plane x_axis = at (lab) on the co-moving grid: xi = at - X, refused
+ * with lab numbers when it lies outside the grid's cell. */
+static pf_status lab_plane(const pf_wave *w, int axis, double at, double *xi)
+{
+    const pf_grid *g = w->grid;
+    if (axis < 0 || axis >= g->dim)
+        return pf_fail(g->ctx, PF_EINVAL, "plane axis must be 1..%d, got %d", g->dim, axis + 1);
+    const double X = w->frame.position[axis];
+    const double lo = g->x[axis][0] - 0.5 * g->dx[axis] + X, hi = lo + g->span[axis];
+    if (!isfinite(at) || at < lo || at > hi)
+        return pf_fail(g->ctx, PF_EINVAL,
+                       "plane position %g m lies outside the cloud's co-moving grid [%g, %g] m (lab) on axis %d", at, lo,
+                       hi, axis + 1);
+    *xi = at - X;
+    return PF_OK;
+}
+
+pf_status pf_wave_lab_flux(pf_wave *w, int axis, double at, double *flux)
+{
+    if (!pf_wave_frame_moved(w)) return pf_wave_flux(w, axis, at, flux);
+    double xi, jg, rho;
+    pf_status s = lab_plane(w, axis, at, &xi);
+    if (!s) s = pf_wave_plane_figures(w, axis, xi, &jg, &rho);
+    if (!s) *flux = jg + PF_HBAR * w->frame.wavenumber[axis] / w->mass * rho;
+    return s;
+}
+
+pf_status pf_wave_lab_beyond(pf_wave *w, int axis, double at, double *probability)
+{
+    if (!pf_wave_frame_moved(w)) return pf_wave_beyond(w, axis, at, probability);
+    double xi;
+    pf_status s = lab_plane(w, axis, at, &xi);
+    return s ? s : pf_wave_beyond(w, axis, xi, probability);
+}
+
 pf_status pf_wave_lab_arrival(pf_wave *w, const double *accel, int axis, double at, double start, double dt,
                               size_t count, double *flux)
 {
@@ -274,7 +309,7 @@ pf_status pf_wave_lab_arrival(pf_wave *w, const double *accel, int axis, double 
             flux[k] = 0.0;
             continue;
         }
-        double jg, rho;
+        double jg, rho; /* as pf_wave_lab_flux, with the range already settled above */
         s = pf_wave_plane_figures(c, axis, xi, &jg, &rho);
         if (!s) flux[k] = jg + PF_HBAR * c->frame.wavenumber[axis] / c->mass * rho;
     }

@@ -95,6 +95,13 @@ pf_status pf_wave_lab_kick(pf_wave *w, const double *q);
  * probability per unit length across the plane, pf_wave_plane_figures).
  * While the plane lies outside the co-moving grid cell the flux is 0: the
  * cloud is negligible there (the grid guards watch that). */
+/* The flux (1/s) through the lab plane x_axis = at, and the probability
+ * beyond it (between the plane and the far edge of the grid): the grid's
+ * figures at at - X, the flux plus V rho(at - X).  A plane outside the
+ * co-moving grid is refused.  Unmoved frame: pf_wave_flux, pf_wave_beyond. */
+pf_status pf_wave_lab_flux(pf_wave *w, int axis, double at, double *flux);
+pf_status pf_wave_lab_beyond(pf_wave *w, int axis, double at, double *probability);
+
 pf_status pf_wave_lab_arrival(pf_wave *w, const double *accel, int axis, double at, double start, double dt,
                               size_t count, double *flux);
 

@@ -75,10 +75,10 @@ static int plane_figure(lua_State *L, plane_fn fn, const char *name, const pfl_o
 }
 
 /* s:flux{axis=, at=} -> probability per second crossing the plane (+axis). */
-static int l_flux(lua_State *L) { return plane_figure(L, pf_wave_flux, "flux", &FLUX_OPTIONS); }
+static int l_flux(lua_State *L) { return plane_figure(L, pf_wave_lab_flux, "flux", &FLUX_OPTIONS); }
 
 /* s:beyond{axis=, at=} -> probability between the plane and the far edge. */
-static int l_beyond(lua_State *L) { return plane_figure(L, pf_wave_beyond, "beyond", &BEYOND_OPTIONS); }
+static int l_beyond(lua_State *L) { return plane_figure(L, pf_wave_lab_beyond, "beyond", &BEYOND_OPTIONS); }
 
 /* integral of f(t) t^power over the window t = t0 + k dt: Simpson's rule
  * for an even number of intervals (error ~ dt^4), else the trapezoid rule

@@ -481,4 +481,40 @@ do
     "member 1 of the ensemble is in a moving frame")
 end
 
+-- w:flux and w:beyond at lab planes on a falling cloud: the flux against the
+-- exact J(L, t) above (exact_flux), and the probability below a plane against
+-- the Gaussian's normal tail (erfc; Gaussian CDF, common practice).
+do
+  local g = pf.grid{points = 512, span = 60e-6}
+  local sigma, a, t = 1e-6, -9.80665, 8e-3
+  local w = packet(g, 0, 0, sigma)
+  w:fly(t, {acceleration = a})
+  local c = 0.5 * a * t * t
+  local tau = 2 * m * sigma * sigma / hbar
+  local s = sigma * math.sqrt(1 + (t / tau) ^ 2)
+  for _, L in ipairs{c - s, c, c + 0.5 * s} do
+    local want = exact_flux(L, t, 0, 0, sigma, a)
+    check.near(w:flux{at = L}, want, 1e-9, string.format("w:flux at the lab plane c%+.1fs", (L - c) / s),
+      "spreading Gaussian's current (Holland ch. 4, from memory) + uniform force")
+  end
+  local L = c + 0.5 * s
+  -- beyond = probability between the plane and the grid's far (upper) edge
+  -- erfc(x) = 2/sqrt(pi) * integral_x^inf exp(-u^2) du (definition), by the
+  -- trapezoid rule over [x, x + 12] (the rest is below 1e-60).
+  local function erfc(x)
+    local n = 20000
+    local h, sum = 12 / n, 0
+    for i = 0, n do
+      local u = x + i * h
+      local wgt = (i == 0 or i == n) and 0.5 or 1
+      sum = sum + wgt * math.exp(-u * u)
+    end
+    return 2 / math.sqrt(math.pi) * sum * h
+  end
+  check.near(w:beyond{at = L}, 0.5 * erfc(0.5 / math.sqrt(2)), 1e-7, "w:beyond at a lab plane = Gaussian upper tail",
+    "Gaussian CDF via erfc (definition; trapezoid rule)")
+  check.fails(function() return w:flux{at = 0} end, "a lab plane outside the co-moving grid is refused in lab numbers",
+    "outside the cloud's co-moving grid")
+end
+
 check.done()
