@@ -53,7 +53,10 @@ echo "ok the installed runner runs the installed release_tof example: stdout, HD
 # /usr/local) and flies a packet by the textbook law.
 if ! command -v lua5.4 >/dev/null; then
   echo "note: lua5.4 not installed: the plain-interpreter check was skipped"
-elif ldd "$prefix/lib/lua/5.4/psiflight.so" | grep -q libasan; then
+elif ldd "$prefix/lib/lua/5.4/psiflight.so" | grep -q libasan ||
+     nm -D --undefined-only "$prefix/lib/lua/5.4/psiflight.so" 2>/dev/null | grep -q __asan_; then
+  # gcc links the module to libasan; clang leaves the runtime's symbols
+  # undefined for the executable to provide (lua5.4 does not).
   echo "note: sanitizer build: lua5.4 cannot load the module without the runtime preloaded; check skipped"
 else
   cat >"$tmp/spread.lua" <<'EOF'
