@@ -64,6 +64,15 @@ size_t pf_dist_advise_ranks(int dim, const size_t *points, double waves, double 
 
 #ifndef PF_HAVE_DIST
 
+#include <time.h>
+int pf_dist_start(void) { return 0; }
+void pf_dist_stop(void) {}
+double pf_dist_seconds(void)
+{
+    struct timespec ts;
+    clock_gettime(CLOCK_MONOTONIC, &ts);
+    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
+}
 int pf_dist_built(void) { return 0; }
 int pf_dist_running(void) { return 0; }
 int pf_dist_rank(void) { return 0; }
@@ -135,6 +144,20 @@ struct pf_dist_grid {
 };
 
 int pf_dist_built(void) { return 1; }
+
+int pf_dist_start(void)
+{
+    if (pf_dist_running()) return 1;
+    if (!getenv("OMPI_COMM_WORLD_SIZE") && !getenv("PMI_SIZE") && !getenv("PMIX_RANK")) return 0;
+    return MPI_Init(NULL, NULL) == MPI_SUCCESS;
+}
+
+void pf_dist_stop(void)
+{
+    if (pf_dist_running()) MPI_Finalize();
+}
+
+double pf_dist_seconds(void) { return MPI_Wtime(); }
 
 int pf_dist_running(void)
 {

@@ -32,6 +32,15 @@ int pf_dist_running(void);
 int pf_dist_rank(void);
 int pf_dist_ranks(void);
 
+/* For programs other than the runner (benchmarks): starts MPI when the
+ * process was started by mpirun and MPI is not running yet (returns 1 when
+ * MPI runs afterwards), and ends it.  The runner starts MPI itself. */
+int pf_dist_start(void);
+void pf_dist_stop(void);
+/* Wall-clock seconds, the same on every rank to MPI's precision
+ * (MPI_Wtime; a monotonic clock without MPI). */
+double pf_dist_seconds(void);
+
 /* Asks for distributed grids: every 2D/3D grid made afterwards on ctx while
  * MPI runs is split over the ranks.  Without MPI running it is recorded and
  * changes nothing. */
