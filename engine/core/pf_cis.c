@@ -1,6 +1,7 @@
 /* pf_cis.c - vectorised exp(-i phi) for blocks of phases (see pf_cis.h). */
 #include <math.h>
 #include "pf_cis.h"
+#include "pf_vecpath.h"
 
 /* pi/2 in three parts of at most 26, 26 and 53 bits (digits of pi split
  * exactly): for |n| < 2^27, n * PIO2_1 and n * PIO2_2 are exact, so the
@@ -35,23 +36,24 @@
 #define BLOCK 256
 
 /* c[i] = cos phase[i], s[i] = sin phase[i] for i < n <= BLOCK. */
-/* Compiled for three instruction sets, picked at load time; the same
- * operations in the same order on each (no fused multiply-add: contraction
- * is off), so every path gives the same bits. */
+/* Compiled once per vector path (pf_vecpath.h) from the same source: the
+ * same operations in the same order on each (no fused multiply-add:
+ * contraction is off), so every path gives the same bits
+ * (tests/unit/test_vector_paths.c). */
 #if defined(__clang__)
-/* clang builds (sanitizers, fuzzing) take the baseline path only: clang
- * 14 leaves exported target_clones functions unresolved at link time. */
 #pragma STDC FP_CONTRACT OFF
 #define NO_CONTRACT
-#define CLONES
 #define SIMD_MAX
 #else
 #define NO_CONTRACT __attribute__((optimize("fp-contract=off")))
-#define CLONES __attribute__((target_clones("avx512f", "avx2", "default")))
 #define SIMD_MAX _Pragma("omp simd reduction(max : largest)")
 #endif
+#if defined(__x86_64__) && defined(__GNUC__) && !defined(__clang__)
+#define HAVE_X86_PATHS 1
+#endif
 
-CLONES NO_CONTRACT static void cos_sin(const double *restrict phase, double *restrict c, double *restrict s, size_t n)
+static inline __attribute__((always_inline)) void cos_sin(const double *restrict phase, double *restrict c,
+                                                         double *restrict s, size_t n)
 {
     double largest = 0;
     SIMD_MAX
@@ -82,8 +84,7 @@ CLONES NO_CONTRACT static void cos_sin(const double *restrict phase, double *res
             }
 }
 
-CLONES NO_CONTRACT
-void pf_cis_minus(const double *phase, double complex *out, size_t n)
+static inline __attribute__((always_inline)) void cis_minus(const double *phase, double complex *out, size_t n)
 {
     double c[BLOCK], s[BLOCK];
     for (size_t b = 0; b < n; b += BLOCK) {
@@ -97,8 +98,7 @@ void pf_cis_minus(const double *phase, double complex *out, size_t n)
     }
 }
 
-CLONES NO_CONTRACT
-void pf_cis_multiply(double complex *d, const double *phase, size_t n)
+static inline __attribute__((always_inline)) void cis_multiply(double complex *d, const double *phase, size_t n)
 {
     double c[BLOCK], s[BLOCK];
     for (size_t b = 0; b < n; b += BLOCK) {
@@ -112,4 +112,66 @@ void pf_cis_multiply(double complex *d, const double *phase, size_t n)
             z[2 * i + 1] = y * c[i] - x * s[i];
         }
     }
+}
+
+/* One copy of each entry point per path; the inline bodies above are
+ * compiled anew inside each, for its instruction set. */
+#define PATH_COPIES(SUFFIX, TARGET)                                                                               \
+    TARGET NO_CONTRACT static void cis_minus_##SUFFIX(const double *phase, double complex *out, size_t n)          \
+    {                                                                                                             \
+        cis_minus(phase, out, n);                                                                                 \
+    }                                                                                                             \
+    TARGET NO_CONTRACT static void cis_multiply_##SUFFIX(double complex *d, const double *phase, size_t n)        \
+    {                                                                                                             \
+        cis_multiply(d, phase, n);                                                                                \
+    }
+
+PATH_COPIES(plain, )
+#ifdef HAVE_X86_PATHS
+PATH_COPIES(avx2, __attribute__((target("avx2"))))
+PATH_COPIES(avx512, __attribute__((target("avx512f"))))
+#endif
+
+typedef void (*minus_fn)(const double *, double complex *, size_t);
+typedef void (*multiply_fn)(double complex *, const double *, size_t);
+
+static minus_fn minus_on(pf_vector_path p)
+{
+#ifdef HAVE_X86_PATHS
+    if (p == PF_PATH_AVX512) return cis_minus_avx512;
+    if (p == PF_PATH_AVX2) return cis_minus_avx2;
+#endif
+    (void)p;
+    return cis_minus_plain;
+}
+
+static multiply_fn multiply_on(pf_vector_path p)
+{
+#ifdef HAVE_X86_PATHS
+    if (p == PF_PATH_AVX512) return cis_multiply_avx512;
+    if (p == PF_PATH_AVX2) return cis_multiply_avx2;
+#endif
+    (void)p;
+    return cis_multiply_plain;
+}
+
+void pf_cis_minus(const double *phase, double complex *out, size_t n) { minus_on(pf_vector_path_chosen())(phase, out, n); }
+
+void pf_cis_multiply(double complex *d, const double *phase, size_t n)
+{
+    multiply_on(pf_vector_path_chosen())(d, phase, n);
+}
+
+int pf_cis_minus_on(pf_vector_path p, const double *phase, double complex *out, size_t n)
+{
+    if (!pf_vector_path_runs(p)) return 0;
+    minus_on(p)(phase, out, n);
+    return 1;
+}
+
+int pf_cis_multiply_on(pf_vector_path p, double complex *d, const double *phase, size_t n)
+{
+    if (!pf_vector_path_runs(p)) return 0;
+    multiply_on(p)(d, phase, n);
+    return 1;
 }

@@ -60,10 +60,10 @@ static void flight_tables(pf_grid *g, double tau)
  *
  * The phase pass is bound by arithmetic, not memory (two complex products
  * per point against cache-resident tables), so on x86-64 it uses AVX-512 or
- * AVX2 with FMA when the processor has them (checked once, at the first
- * flight), and plain C otherwise.  The vector paths round differently from
- * the plain one (fused multiply-adds), but a given machine always takes the
- * same path, so its results are reproducible. */
+ * AVX2 when the processor has them (pf_vecpath.h), plain C otherwise.  The
+ * vector paths do the plain path's products and sums in the same order and
+ * fuse no multiply with an add, so every path gives the same bits
+ * (tests/unit/test_vector_paths.c). */
 static void phase_row_plain(double *restrict row, const double *restrict p, double qr, double qi, size_t n)
 {
     for (size_t j = 0; j < n; j++) {
@@ -79,16 +79,24 @@ static void phase_row_plain(double *restrict row, const double *restrict p, doub
 #include <immintrin.h>
 #define PF_HAVE_X86_PHASE 1
 
-/* x * y for four complex numbers per register (interleaved re, im). */
+/* (t1 - t2) in the real lanes, (t1 + t2) in the imaginary ones: the
+ * unfused add-subtract (AVX-512 has no instruction for it). */
+__attribute__((target("avx512f"))) static inline __m512d addsub512(__m512d t1, __m512d t2)
+{
+    return _mm512_mask_sub_pd(_mm512_add_pd(t1, t2), 0x55, t1, t2);
+}
+
+/* x * y for four complex numbers per register (interleaved re, im):
+ * (xr yr - xi yi, xi yr + xr yi), the plain products in the plain order. */
 __attribute__((target("avx512f"))) static inline __m512d cmul512(__m512d x, __m512d y)
 {
-    return _mm512_fmaddsub_pd(x, _mm512_movedup_pd(y), _mm512_mul_pd(_mm512_permute_pd(x, 0x55), _mm512_permute_pd(y, 0xFF)));
+    return addsub512(_mm512_mul_pd(x, _mm512_movedup_pd(y)), _mm512_mul_pd(_mm512_permute_pd(x, 0x55), _mm512_permute_pd(y, 0xFF)));
 }
 
 /* x * y for two complex numbers per register. */
-__attribute__((target("avx2,fma"))) static inline __m256d cmul256(__m256d x, __m256d y)
+__attribute__((target("avx2"))) static inline __m256d cmul256(__m256d x, __m256d y)
 {
-    return _mm256_fmaddsub_pd(x, _mm256_movedup_pd(y), _mm256_mul_pd(_mm256_permute_pd(x, 0x5), _mm256_permute_pd(y, 0xF)));
+    return _mm256_addsub_pd(_mm256_mul_pd(x, _mm256_movedup_pd(y)), _mm256_mul_pd(_mm256_permute_pd(x, 0x5), _mm256_permute_pd(y, 0xF)));
 }
 
 /* Four complex numbers per step: f = q p, then row *= f. */
@@ -99,7 +107,7 @@ __attribute__((target("avx512f"))) static void phase_row_avx512(double *restrict
     size_t j = 0;
     for (; j + 4 <= n; j += 4) {
         __m512d pv = _mm512_loadu_pd(p + 2 * j);
-        __m512d f = _mm512_fmaddsub_pd(qre, pv, _mm512_mul_pd(qim, _mm512_permute_pd(pv, 0x55)));
+        __m512d f = addsub512(_mm512_mul_pd(qre, pv), _mm512_mul_pd(qim, _mm512_permute_pd(pv, 0x55)));
         __m512d a = _mm512_loadu_pd(row + 2 * j);
         _mm512_storeu_pd(row + 2 * j, cmul512(a, f));
     }
@@ -107,14 +115,14 @@ __attribute__((target("avx512f"))) static void phase_row_avx512(double *restrict
 }
 
 /* Two complex numbers per step, same scheme. */
-__attribute__((target("avx2,fma"))) static void phase_row_avx2(double *restrict row, const double *restrict p,
-                                                                double qr, double qi, size_t n)
+__attribute__((target("avx2"))) static void phase_row_avx2(double *restrict row, const double *restrict p, double qr,
+                                                            double qi, size_t n)
 {
     const __m256d qre = _mm256_set1_pd(qr), qim = _mm256_set1_pd(qi);
     size_t j = 0;
     for (; j + 2 <= n; j += 2) {
         __m256d pv = _mm256_loadu_pd(p + 2 * j);
-        __m256d f = _mm256_fmaddsub_pd(qre, pv, _mm256_mul_pd(qim, _mm256_permute_pd(pv, 0x5)));
+        __m256d f = _mm256_addsub_pd(_mm256_mul_pd(qre, pv), _mm256_mul_pd(qim, _mm256_permute_pd(pv, 0x5)));
         __m256d a = _mm256_loadu_pd(row + 2 * j);
         _mm256_storeu_pd(row + 2 * j, cmul256(a, f));
     }
@@ -122,26 +130,19 @@ __attribute__((target("avx2,fma"))) static void phase_row_avx2(double *restrict 
 }
 #endif
 
-/* The kernel for this processor, chosen once (a process-wide fact, like
- * FFTW's own choice of SIMD codelets). */
-pf_phase_row_fn pf_phase_kernel(void)
+pf_phase_row_fn pf_phase_kernel_on(pf_vector_path path)
 {
-    static pf_phase_row_fn chosen;
-    if (chosen) return chosen;
-    pf_phase_row_fn k = phase_row_plain;
+    if (!pf_vector_path_runs(path)) return NULL;
 #ifdef PF_HAVE_X86_PHASE
-    /* PSIFLIGHT_PHASE_KERNEL=plain|avx2 selects a lesser kernel, so that
-     * every path can be tested on one machine (docs/performance.md). */
-    const char *want = getenv("PSIFLIGHT_PHASE_KERNEL");
-    __builtin_cpu_init();
-    int avx2 = __builtin_cpu_supports("avx2") && __builtin_cpu_supports("fma");
-    int plain = want && strcmp(want, "plain") == 0, want_avx2 = want && strcmp(want, "avx2") == 0;
-    if (!plain && !want_avx2 && __builtin_cpu_supports("avx512f")) k = phase_row_avx512;
-    else if (!plain && avx2) k = phase_row_avx2;
+    if (path == PF_PATH_AVX512) return phase_row_avx512;
+    if (path == PF_PATH_AVX2) return phase_row_avx2;
 #endif
-    chosen = k;
-    return k;
+    return phase_row_plain;
 }
+
+/* The kernel of this process's vector path (a process-wide fact, like
+ * FFTW's own choice of SIMD codelets). */
+pf_phase_row_fn pf_phase_kernel(void) { return pf_phase_kernel_on(pf_vector_path_chosen()); }
 
 /* One 1D segment: d[s] *= a * chirp[s] * b^s for s < PF_PHASE_SEG.  Four
  * lanes carry a b^v, v = 0..3, each advanced by b^4 per step, so the powers
@@ -176,9 +177,9 @@ __attribute__((target("avx512f"))) static void phase_segment_avx512(double compl
 }
 
 /* The same four lanes as phase_segment_plain, in two registers. */
-__attribute__((target("avx2,fma"))) static void phase_segment_avx2(double complex *restrict d,
-                                                                    const double complex *restrict chirp,
-                                                                    double complex a, double complex b)
+__attribute__((target("avx2"))) static void phase_segment_avx2(double complex *restrict d,
+                                                                const double complex *restrict chirp, double complex a,
+                                                                double complex b)
 {
     double complex b2 = b * b, b4 = b2 * b2;
     double complex init[4] = {a, a * b, a * b2, a * b2 * b};
@@ -195,17 +196,17 @@ __attribute__((target("avx2,fma"))) static void phase_segment_avx2(double comple
 }
 #endif
 
-typedef void (*phase_segment_fn)(double complex *restrict, const double complex *restrict, double complex,
-                                 double complex);
-
-static phase_segment_fn segment_kernel(void)
+pf_phase_segment_fn pf_phase_segment_on(pf_vector_path path)
 {
+    if (!pf_vector_path_runs(path)) return NULL;
 #ifdef PF_HAVE_X86_PHASE
-    if (pf_phase_kernel() == phase_row_avx512) return phase_segment_avx512;
-    if (pf_phase_kernel() == phase_row_avx2) return phase_segment_avx2;
+    if (path == PF_PATH_AVX512) return phase_segment_avx512;
+    if (path == PF_PATH_AVX2) return phase_segment_avx2;
 #endif
     return phase_segment_plain;
 }
+
+static pf_phase_segment_fn segment_kernel(void) { return pf_phase_segment_on(pf_vector_path_chosen()); }
 
 /* 1D: data *= scale * P0 by segments; a segment that holds the jump of the
  * FFT order from positive to negative wave numbers, or the short last one,
@@ -218,7 +219,7 @@ static void apply_phase_1d(pf_grid *g, double complex *data, double scale, size_
         phase_row((double *)(data + j0), (const double *)(ft->phase[0] + j0), scale, 0.0, len);
         return;
     }
-    const phase_segment_fn seg = segment_kernel();
+    const pf_phase_segment_fn seg = segment_kernel();
     const size_t n = g->n[0], jump = (n + 1) / 2;
     for (size_t j = j0; j < j0 + len; j += PF_PHASE_SEG) {
         size_t q = j / PF_PHASE_SEG, end = j + PF_PHASE_SEG;

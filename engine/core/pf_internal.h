@@ -13,6 +13,7 @@
 #include "pf_frame.h"
 #include "pf_grid.h"
 #include "pf_steplog.h"
+#include "pf_vecpath.h"
 #include "pf_wave.h"
 
 struct pf_context {
@@ -244,6 +245,13 @@ void pf_fused_columns(pf_grid *g, double complex *data, double scale, double com
  * the flight phase pass, vectorised for this processor (pf_flight.c). */
 typedef void (*pf_phase_row_fn)(double *restrict row, const double *restrict p, double qr, double qi, size_t n);
 pf_phase_row_fn pf_phase_kernel(void);
+/* The kernels of a named vector path (pf_vecpath.h; for tests), NULL when
+ * this build or processor cannot run it.  A segment kernel multiplies
+ * d[s] by a chirp[s] b^s for s < PF_PHASE_SEG. */
+pf_phase_row_fn pf_phase_kernel_on(pf_vector_path path);
+typedef void (*pf_phase_segment_fn)(double complex *restrict d, const double complex *restrict chirp, double complex a,
+                                    double complex b);
+pf_phase_segment_fn pf_phase_segment_on(pf_vector_path path);
 
 /* Applies the configured thread count to the FFTW planner (called before
  * every plan creation), loads wisdom lazily, and returns the planner flags
