@@ -168,6 +168,14 @@ void pfl_check_indices(lua_State *L, int arg, const pf_grid *g, size_t *idx, int
 pf_wave *pfl_check_wave(lua_State *L, int arg);
 /* Pushes a new userdata that owns w. */
 void pfl_push_wave(lua_State *L, pf_wave *w);
+/* The wave of the wave userdata at arg, or NULL when it is closed, without
+ * the frame guard: for objects that keep waves and check frames themselves
+ * (pfl_levels.c). */
+pf_wave *pfl_wave_peek(lua_State *L, int arg);
+/* Hands w to the closed (empty) wave userdata at arg, which owns it from
+ * then on: push the userdata first (pfl_push_wave(L, NULL)), then make the
+ * core wave, so a raising allocation leaves nothing to leak. */
+void pfl_wave_adopt(lua_State *L, int arg, pf_wave *w);
 /* Adds methods to the wave-function metatable (used by the method groups). */
 void pfl_add_wave_methods(lua_State *L, const luaL_Reg *methods);
 /* Adds functions to the module table, which is at stack index mod. */

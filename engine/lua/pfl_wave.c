@@ -40,6 +40,18 @@ void pfl_push_wave(lua_State *L, pf_wave *w)
     luaL_setmetatable(L, PFL_WAVE_TYPE);
 }
 
+pf_wave *pfl_wave_peek(lua_State *L, int arg)
+{
+    return check_box(L, arg)->w;
+}
+
+void pfl_wave_adopt(lua_State *L, int arg, pf_wave *w)
+{
+    pfl_wave_box *b = check_box(L, arg);
+    if (b->w) luaL_error(L, "internal error: adopting a wave into an open wave userdata");
+    b->w = w;
+}
+
 void pfl_add_wave_methods(lua_State *L, const luaL_Reg *methods)
 {
     luaL_getmetatable(L, PFL_WAVE_TYPE);
