@@ -151,8 +151,9 @@ int pfl_frame_aware_name(const char *name)
     return 0;
 }
 
-/* Pushes the script name of the running C function, or nil when unknown. */
-static void push_running_name(lua_State *L)
+/* Pushes the script name of the running C function, or nil when unknown
+ * (also for the distributed-grid guard, pfl_dist.c). */
+void pfl_push_running_name(lua_State *L)
 {
     lua_Debug ar;
     if (!lua_getstack(L, 0, &ar) || !lua_getinfo(L, "f", &ar)) {
@@ -168,7 +169,7 @@ static void push_running_name(lua_State *L)
 void pfl_frame_guard(lua_State *L, int arg, const pf_wave *w)
 {
     if (!pf_wave_frame_moved(w)) return;
-    push_running_name(L);
+    pfl_push_running_name(L);
     const char *name = lua_tostring(L, -1);
     if (name && pfl_frame_aware_name(name)) {
         lua_pop(L, 1);
