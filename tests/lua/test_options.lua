@@ -73,6 +73,7 @@ local callers = {
   ["pf.picture_lines"] = function(o) pf.picture_lines("options-walk.png", o) end,
   ["pf.picture_lines series[i]"] = function(o) pf.picture_lines("options-walk.png", {series = {o}}) end,
   ["pf.picture_carpet"] = function(o) pf.picture_carpet("options-walk.png", w1, o) end,
+  ["pf.picture_carpet marks[i]"] = function(o) pf.picture_carpet("options-walk.png", w1, {duration = 1e-6, frames = 2, marks = {o}}) end,
   ["pf.parameters spec"] = function(o) pf.parameters{walk_value = o} end,
   ["wave:far_field"] = function(o) w1:far_field(1e-3, o) end,
   ["wave:fly"] = function(o) w1:copy():fly(1e-6, o) end,
