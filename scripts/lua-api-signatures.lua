@@ -122,7 +122,7 @@ return {
     ["pf.load_wave"] = {"path: string, opts?: options", W, "a wave function read from a psiflight HDF5 file, another HDF5 layout or a CSV file"},
     ["pf.mixture"] = {"members: psiflight.wave[], weights?: number[]", E, "an incoherent mixture (members are copied)"},
     ["pf.thermal"] = {"opts: options", E, "a thermal ensemble of trap eigenstates"},
-    ["pf.potential"] = {"grid: psiflight.grid, values: function|number[]", "psiflight.potential",
+    ["pf.potential"] = {"grid: psiflight.grid|psiflight.wave, values: function|number[]", "psiflight.potential",
       "a potential V (J) sampled once on the grid, from a function of the coordinates or a table"},
 
     -- wave functions: data and properties

@@ -208,6 +208,15 @@ pf_status pf_wave_lab_kick(pf_wave *w, const double *q)
     return PF_OK;
 }
 
+pf_status pf_wave_lab_shift(pf_wave *w, const double *d)
+{
+    pf_status s = pf_wave_shift(w, d);
+    if (s) return s;
+    /* psi_lab(x - d) = exp(i (theta - K.d + K.(x - X))) chi(x - d - X). */
+    for (int a = 0; a < w->grid->dim; a++) w->frame.phase -= w->frame.wavenumber[a] * d[a];
+    return PF_OK;
+}
+
 pf_status pf_wave_lab_value(pf_wave *w, pf_rep rep, const size_t *idx, double complex *out)
 {
     double complex v;

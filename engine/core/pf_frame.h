@@ -75,6 +75,11 @@ void pf_wave_lab_wavenumber(const pf_wave *w, const size_t *idx, double *k);
 /* Grid coordinate of a lab position (xi = x - X). */
 void pf_wave_grid_position(const pf_wave *w, const double *lab_x, double *xi);
 
+/* The exact lab displacement psi_lab(x) -> psi_lab(x - d) (d in m): the
+ * cloud moves on the grid (pf_wave_shift) and theta loses K.d.  Unmoved
+ * frame: exactly pf_wave_shift. */
+pf_status pf_wave_lab_shift(pf_wave *w, const double *d);
+
 /* Lab value at a multi-index: psi_lab at the lab position of grid point idx
  * (position), or phi_lab at the lab wave number of storage index idx
  * (momentum).  Same conventions as pf_wave_value otherwise. */
@@ -112,5 +117,41 @@ pf_status pf_wave_lab_position_moments(pf_wave *w, double *mean, double *varianc
 pf_status pf_wave_lab_wavenumber_moments(pf_wave *w, double *mean, double *variance);
 /* Lab kinetic energy <|p|^2>/2m = E_grid + hbar^2 (K.<k>_grid + |K|^2/2)/m. */
 pf_status pf_wave_lab_kinetic_energy(pf_wave *w, double *energy);
+
+/* ---- potentials and forces given in the lab (pf_frame_potential.c) ---- */
+
+/* Moves the frame's wave-number offset onto the grid: chi <- exp(i K.xi) chi,
+ * K <- 0 (the lab state is unchanged; X and theta stay).  Afterwards the
+ * frame no longer moves, so a lab potential is static on the grid.  Refused
+ * (PF_EINVAL, state unchanged) when the folded momentum would pass the
+ * Nyquist limit less the guard band on an axis: the message names the
+ * momentum, the limit, the spacing that would do and the alternatives.
+ * what names the caller in that message.  Logged as a "kick" step with
+ * method "frame-fold" (so the guards look at the result).  No-op when K = 0. */
+pf_status pf_wave_frame_fold(pf_wave *w, const char *what);
+
+/* PF_OK when accel (NULL: none) holds finite values on every axis of g. */
+pf_status pf_frame_check_acceleration(const pf_grid *g, const double *accel);
+/* Adds the grid part -m a.xi of a uniform force's potential to V (J, one
+ * value per grid point, natural order); accel NULL or zero: nothing. */
+void pf_frame_tilt_add(const pf_grid *g, double mass, const double *accel, double *V);
+/* The constant part -m a.X (J) of that potential for w's frame offset. */
+double pf_frame_tilt_constant(const pf_wave *w, const double *accel);
+/* Adds the phase of that constant over t seconds to the frame's theta. */
+void pf_frame_tilt_phase(pf_wave *w, const double *accel, double t);
+
+/* The exact flight of pf_wave_fall (H = p^2/2m - m a.x, x in the lab) for a
+ * wave in any frame: K folded onto the grid (pf_wave_frame_fold), the
+ * closed-form flight on the grid, the constant -m a.X as a phase in theta.
+ * The drop goes onto the grid, as pf_wave_fall promises.  Unmoved frame:
+ * exactly pf_wave_fall. */
+pf_status pf_wave_lab_fall(pf_wave *w, double t, const double *accel);
+
+/* Lab energy functional and chemical potential (J): pf_wave_energy with the
+ * potential given at the grid points' lab positions, plus the lab kinetic
+ * energy's frame terms hbar^2 (K.<k> + |K|^2/2)/m and, when accel is given,
+ * the uniform force's <-m a.x> at lab positions.  The wave is unchanged. */
+pf_status pf_wave_lab_energy(pf_wave *w, const double *potential, double g, const double *accel, double *energy,
+                             double *mu);
 
 #endif

@@ -83,7 +83,8 @@ static int l_imprint(lua_State *L)
 {
     pf_wave *w = pfl_check_wave(L, 1);
     luaL_checktype(L, 2, LUA_TFUNCTION);
-    pfl_sampler s = {L, 2, dim_of(w), PF_POSITION, "imprint", "phase", 0, 0, pf_wave_grid(w)};
+    pfl_sampler s = {L, 2, dim_of(w), PF_POSITION, "imprint", "phase", 0, 0, pf_wave_grid(w), {0, 0, 0}};
+    pfl_sampler_frame_offset(w, PF_POSITION, s.offset); /* f sees lab positions */
     pf_status st = pf_wave_imprint(w, pfl_sample_cb, &s);
     if (st == PF_ECALLBACK) return pfl_raise_callback(L, "imprint");
     pfl_check(L, st, "imprint");
@@ -298,7 +299,8 @@ static int user_mask(lua_State *L, pf_rep rep, const char *name)
 {
     pf_wave *w = pfl_check_wave(L, 1);
     luaL_checktype(L, 2, LUA_TFUNCTION);
-    pfl_sampler s = {L, 2, dim_of(w), rep, name, "transmission", 0, 0, pf_wave_grid(w)};
+    pfl_sampler s = {L, 2, dim_of(w), rep, name, "transmission", 0, 0, pf_wave_grid(w), {0, 0, 0}};
+    pfl_sampler_frame_offset(w, rep, s.offset); /* f sees lab positions or lab wave numbers */
     double removed = 0;
     pf_status st = pf_wave_mask(w, rep, pfl_sample_cb, &s, &removed);
     if (st == PF_ECALLBACK) return pfl_raise_callback(L, name);
@@ -317,7 +319,7 @@ static int l_shift(lua_State *L)
     pf_wave *w = pfl_check_wave(L, 1);
     double d[PF_MAX_DIM];
     pfl_check_axis_values(L, 2, dim_of(w), d, "shift distance (m)");
-    pfl_check(L, pf_wave_shift(w, d), "shift");
+    pfl_check(L, pf_wave_lab_shift(w, d), "shift");
     lua_settop(L, 1);
     return 1;
 }

@@ -16,19 +16,32 @@ pfl_potential_box *pfl_test_potential(lua_State *L, int idx)
     return b;
 }
 
-/* pf.potential(grid, f | table) -> potential object */
+/* pf.potential(grid | wave, f | table) -> potential object.  Given a wave,
+ * the function is sampled at the lab positions of the wave's grid points
+ * (its frame offset added, docs/frames.md), and the object remembers that
+ * offset so evolve and relax can check it still matches. */
 static int l_potential(lua_State *L)
 {
-    pf_grid *g = pfl_check_grid(L, 1);
+    double offset[PF_MAX_DIM] = {0, 0, 0};
+    pf_grid *g;
+    if (luaL_testudata(L, 1, PFL_WAVE_TYPE)) {
+        pf_wave *w = pfl_check_wave(L, 1);
+        g = pf_wave_grid(w);
+        pfl_sampler_frame_offset(w, PF_POSITION, offset);
+    } else {
+        g = pfl_check_grid(L, 1);
+    }
     if (lua_type(L, 2) != LUA_TFUNCTION && lua_type(L, 2) != LUA_TTABLE)
         return luaL_argerror(L, 2, "potential: a function of the coordinates or a table of values (J) expected");
     pfl_potential_box *b = lua_newuserdatauv(L, sizeof *b, 1);
     b->grid = NULL;
     b->values = NULL;
+    for (int a = 0; a < PF_MAX_DIM; a++) b->offset[a] = 0.0;
     pf_evolve_cache_init(&b->cache);
     luaL_setmetatable(L, PFL_POTENTIAL_TYPE);
-    const double *V = pfl_read_potential(L, 2, g, "potential", 0, 0);
+    const double *V = pfl_read_potential(L, 2, g, "potential", 0, 0, offset);
     lua_setiuservalue(L, -2, 1);
+    for (int a = 0; a < PF_MAX_DIM; a++) b->offset[a] = offset[a];
     b->values = V;
     b->grid = g;
     pf_grid_retain(g);

@@ -20,6 +20,10 @@ typedef struct pfl_sampler {
     int with_time;
     double t;
     pf_grid *grid;       /* grid of the potential samples (pfl_potential_cb) */
+    /* Added to every grid coordinate before the call, so the function sees
+     * lab coordinates for a wave in a moved frame (x_lab = xi + X, k_lab =
+     * k_grid + K; docs/frames.md); zero for a plain grid. */
+    double offset[PF_MAX_DIM];
 } pfl_sampler;
 
 /* pf_sample_fn over a pfl_sampler: calls fn(coord..., [t]) under pcall and
@@ -35,8 +39,15 @@ int pfl_raise_callback(lua_State *L, const char *name);
  * coordinates (and of t, last, when with_time) or a flat table of
  * pf_grid_total numbers in row-major order - into a new full-grid array
  * owned by a userdata pushed on the stack (so errors never leak it).
- * Functions are sampled at time t.  Returns the array. */
-double *pfl_read_potential(lua_State *L, int idx, pf_grid *g, const char *name, int with_time, double t);
+ * Functions are sampled at time t, at the grid coordinates plus offset
+ * (NULL: none; a wave's frame position gives lab coordinates).  Returns the
+ * array. */
+double *pfl_read_potential(lua_State *L, int idx, pf_grid *g, const char *name, int with_time, double t,
+                           const double *offset);
+
+/* The lab offset of a wave's grid for a sampler: the frame position (rep
+ * position) or wave number (rep momentum) per axis into out. */
+void pfl_sampler_frame_offset(const pf_wave *w, pf_rep rep, double *out);
 
 /* Fills V from the sampler at time t (core pf_potential_fn). */
 int pfl_potential_cb(void *user, double t, double *V);
@@ -62,6 +73,10 @@ typedef struct pfl_potential_box {
     pf_grid *grid;          /* retained; NULL once closed */
     const double *values;   /* pf_grid_total values (J), owned by the user value */
     pf_evolve_cache cache;
+    /* Lab position of the grid's coordinate 0 the values were sampled for:
+     * zero when made from a grid, the frame position when made from a wave
+     * (pf.potential(w, f)); evolve and relax require it to match the wave's. */
+    double offset[PF_MAX_DIM];
 } pfl_potential_box;
 
 /* The open potential object at idx, or NULL when idx holds something else. */

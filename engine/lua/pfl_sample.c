@@ -7,6 +7,7 @@
 #include <math.h>
 #include <stdio.h>
 #include <string.h>
+#include "../core/pf_frame.h"
 #include "pfl_protocol.h"
 
 static void where_text(const pfl_sampler *s, const double *coord, char *buf, size_t size)
@@ -24,6 +25,9 @@ int pfl_sample_cb(void *user, const double *coord, double complex *value)
     pfl_sampler *s = user;
     lua_State *L = s->L;
     int base = lua_gettop(L);
+    double lab[PF_MAX_DIM];
+    for (int a = 0; a < s->dim; a++) lab[a] = coord[a] + s->offset[a];
+    coord = lab; /* the function and every message see lab coordinates */
     lua_pushvalue(L, s->fn);
     for (int a = 0; a < s->dim; a++) lua_pushnumber(L, coord[a]);
     if (s->with_time) lua_pushnumber(L, s->t);
@@ -95,13 +99,23 @@ int pfl_potential_cb(void *user, double t, double *V)
     return sample_real(s, s->grid, V);
 }
 
-double *pfl_read_potential(lua_State *L, int idx, pf_grid *g, const char *name, int with_time, double t)
+void pfl_sampler_frame_offset(const pf_wave *w, pf_rep rep, double *out)
+{
+    pf_frame f;
+    pf_wave_frame(w, &f);
+    for (int a = 0; a < PF_MAX_DIM; a++) out[a] = rep == PF_POSITION ? f.position[a] : f.wavenumber[a];
+}
+
+double *pfl_read_potential(lua_State *L, int idx, pf_grid *g, const char *name, int with_time, double t,
+                           const double *offset)
 {
     idx = lua_absindex(L, idx);
     size_t n = pf_grid_total(g);
     double *V = lua_newuserdatauv(L, n * sizeof(double), 0);
     if (lua_type(L, idx) == LUA_TFUNCTION) {
-        pfl_sampler s = {L, idx, pf_grid_dim(g), PF_POSITION, name, "potential", with_time, t, g};
+        pfl_sampler s = {L, idx, pf_grid_dim(g), PF_POSITION, name, "potential", with_time, t, g, {0, 0, 0}};
+        if (offset)
+            for (int a = 0; a < pf_grid_dim(g); a++) s.offset[a] = offset[a];
         if (sample_real(&s, g, V)) pfl_raise_callback(L, name);
         return V;
     }
