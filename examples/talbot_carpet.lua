@@ -71,7 +71,8 @@ pf.report("revival_error_half", err_half, "")
 -- Back to the grating plane for the pictures: fly back by T_T.
 beam:fly(-talbot)
 local carpet = pf.picture_carpet("talbot_carpet.png", beam, {
-  duration = talbot, frames = 240, x_range = {-2 * d, 2 * d},
+  duration = talbot, frames = 480, x_range = {-2 * d, 2 * d},
+  marks = {{at = talbot / 2, label = "T#dT#u/2: image shifted by d/2"}, {at = talbot, label = "T#dT#u: revival"}},
   title = string.format("Talbot carpet behind a %.3g #gmm grating, one Talbot time", d * 1e6),
 })
 local xs = grid:x_axis(1)

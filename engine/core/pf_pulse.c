@@ -24,7 +24,7 @@ static const double YOSHIDA_C0 = -YOSHIDA_CBRT2 / (2.0 - YOSHIDA_CBRT2);
 double pf_pulse_rabi_at(const pf_pulse_shape *shape, double s)
 {
     if (shape->envelope == PF_ENVELOPE_SQUARE) return shape->rabi;
-    double u = (s - 0.5 * shape->duration) / shape->width;
+    double u = (s - 0.5 * shape->duration - shape->peak_offset) / shape->width;
     return shape->rabi * exp(-0.5 * u * u);
 }
 
@@ -56,6 +56,8 @@ static pf_status check_shape(pf_context *ctx, const pf_pulse_shape *sh)
         return pf_fail(ctx, PF_EINVAL, "unknown pulse envelope %d", (int)sh->envelope);
     if (sh->envelope == PF_ENVELOPE_GAUSSIAN && !(isfinite(sh->width) && sh->width > 0))
         return pf_fail(ctx, PF_EINVAL, "Gaussian pulse width must be a finite number > 0 (s), got %g", sh->width);
+    if (!isfinite(sh->peak_offset))
+        return pf_fail(ctx, PF_EINVAL, "Gaussian pulse peak offset must be finite (s), got %g", sh->peak_offset);
     if (sh->substeps < 0 || sh->substeps > 10000000)
         return pf_fail(ctx, PF_EINVAL, "pulse substeps must be 0 (automatic) or 1 .. 10000000, got %d", sh->substeps);
     if (sh->rabi * sh->duration > 1e7)
@@ -481,6 +483,7 @@ pf_status pf_pulse_two_level_moving(pf_wave *a, pf_wave *b, const pf_pulse_shape
          * phase matched there: phase - delta t - chirp t^2 / 2 to second order. */
         double tm = a->clock + 0.5 * h;
         pf_pulse_light li = *light;
+        if (shape->envelope == PF_ENVELOPE_GAUSSIAN) piece.peak_offset = shape->peak_offset + 0.5 * shape->duration - (k + 0.5) * h;
         li.detuning = light->detuning + chirp * tm;
         li.phase = light->phase + 0.5 * chirp * tm * tm;
         s = pf_pulse_two_level(a, b, &piece, &li);

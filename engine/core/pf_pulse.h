@@ -53,6 +53,8 @@ typedef struct pf_pulse_shape {
     double width;    /* Gaussian only: rms width sigma (s) of Omega(t) =
                         rabi exp(-(t - centre)^2 / (2 sigma^2)), centred in the window */
     int substeps;    /* integration steps (Gaussian two-level, Bragg); 0: automatic */
+    double peak_offset; /* Gaussian only: the peak lies this long (s) after the window's centre;
+                           0 for a whole pulse, the slice's offset for a slice of a longer one */
 } pf_pulse_shape;
 
 /* What the light (or microwave) does besides its envelope. */
@@ -77,7 +79,7 @@ pf_status pf_pulse_two_level(pf_wave *a, pf_wave *b, const pf_pulse_shape *shape
  * m/s^2 per axis, NULL for none) and a linearly chirped detuning
  * delta(t) = light->detuning + chirp t (t the wave's clock; the laser phase
  * is then phase - detuning t - chirp t^2 / 2) acting during it: Strang
- * splitting into `slices` square pulses between force kicks (error of order
+ * splitting into `slices` pulses between force kicks (error of order
  * (duration / slices)^2; slices = 1 with no force and no chirp is the plain
  * pulse).  Square envelopes only when slices > 1. */
 pf_status pf_pulse_two_level_moving(pf_wave *a, pf_wave *b, const pf_pulse_shape *shape, const pf_pulse_light *light,

@@ -76,19 +76,39 @@ static void set_palette(void)
     plscmap1(cr, cg, cb, 256);
 }
 
-/* Starts a stream that draws into out.  PLplot owns out from here on: plend1
- * closes it (plCloseFile), so the caller never closes it itself. */
-static int ends_with_svg(const char *path)
+/* Picture formats, chosen by the file name's ending: SVG and PDF (vector,
+ * for papers) or PNG; all through cairo, which embeds no time in PNG and
+ * SVG (PDF's creation date is fixed in finish()). */
+typedef enum pic_format { PIC_PNG, PIC_SVG, PIC_PDF } pic_format;
+
+static pic_format format_of(const char *path)
 {
     size_t n = strlen(path);
-    return n >= 4 && strcasecmp(path + n - 4, ".svg") == 0;
+    if (n >= 4 && strcasecmp(path + n - 4, ".svg") == 0) return PIC_SVG;
+    if (n >= 4 && strcasecmp(path + n - 4, ".pdf") == 0) return PIC_PDF;
+    return PIC_PNG;
 }
 
-/* PLplot device for a picture file: SVG (vector, for papers) when the name
- * ends in .svg, PNG otherwise.  Both through cairo, which embeds no time. */
-static const char *device_for(const char *path) { return ends_with_svg(path) ? "svgcairo" : "pngcairo"; }
+static const char *device_for(const char *path)
+{
+    static const char *const dev[] = {"pngcairo", "svgcairo", "pdfcairo"};
+    return dev[format_of(path)];
+}
 
-static void begin_stream(FILE *out, int w, int h, const char *device)
+/* Text height in pixels: 14 px in the default picture sizes, growing with
+ * larger requested pictures (a poster keeps its proportions) and never
+ * below 11 px.  Fixed in pixels rather than PLplot's page-relative default,
+ * so the margins computed before drawing hold whatever the height. */
+#define TEXT_PX 14.25
+static double text_px(int w, int h, int hdef)
+{
+    double s = fmin(w / 860.0, h / (double)hdef);
+    return TEXT_PX * (s < 0.78 ? 0.78 : s);
+}
+
+/* Starts a stream that draws into out.  PLplot owns out from here on: plend1
+ * closes it (plCloseFile), so the caller never closes it itself. */
+static void begin_stream(FILE *out, int w, int h, const char *device, double chpx)
 {
     PLINT strm;
     plmkstrm(&strm);
@@ -100,9 +120,9 @@ static void begin_stream(FILE *out, int w, int h, const char *device)
     set_palette();
     plinit();
     pladv(0);
-    /* PLplot scales text with the page height; low pictures get part of
-     * that back so their labels stay legible without crowding the panel. */
-    plschr(0, 0.95 * (h < 640 ? sqrt(640.0 / h) : 1.0));
+    PLFLT x0, x1, y0, y1;
+    plgspa(&x0, &x1, &y0, &y1);
+    plschr(chpx * (x1 - x0) / w, 1.0); /* millimetres per pixel from the page */
 }
 
 /* cairo reports no write errors through PLplot, so a full disk would go
@@ -118,8 +138,9 @@ static int png_complete(const char *path)
     return ok;
 }
 
-/* The same for SVG: a complete file ends with its closing tag. */
-static int svg_complete(const char *path)
+/* The same for SVG and PDF: a complete file ends with its closing tag
+ * (SVG) or end-of-file marker (PDF); tail must occur in the last 63 bytes. */
+static int ends_with_marker(const char *path, const char *marker)
 {
     FILE *f = fopen(path, "rb");
     if (!f) return 0;
@@ -128,7 +149,41 @@ static int svg_complete(const char *path)
     long back = size < 63 ? size : 63;
     int ok = size > 0 && fseek(f, -back, SEEK_END) == 0 && fread(tail, 1, (size_t)back, f) == (size_t)back;
     fclose(f);
-    return ok && strstr(tail, "</svg>") != NULL;
+    return ok && strstr(tail, marker) != NULL;
+}
+
+/* cairo writes the clock time into a PDF's information dictionary
+ * (/CreationDate (D:...)), so reruns would differ.  The entry is replaced
+ * by blanks of the same length: whitespace is legal between dictionary
+ * entries, and every byte offset in the cross-reference table stays
+ * right.  Returns 0 when the file could not be read or written. */
+static int pdf_drop_date(const char *path)
+{
+    FILE *f = fopen(path, "r+b");
+    if (!f) return 0;
+    char buf[4096];
+    static const char key[] = "/CreationDate (";
+    int ok = 1;
+    long base = 0;
+    for (;;) {
+        if (fseek(f, base, SEEK_SET) != 0) { ok = 0; break; }
+        size_t got = fread(buf, 1, sizeof buf, f);
+        if (got < sizeof key) break;
+        char *hit = NULL;
+        for (size_t i = 0; i + sizeof key - 1 <= got && !hit; i++)
+            if (memcmp(buf + i, key, sizeof key - 1) == 0) hit = buf + i;
+        if (hit) {
+            char *close = memchr(hit, ')', (size_t)(buf + got - hit));
+            if (!close) { ok = 0; break; }
+            size_t len = (size_t)(close - hit) + 1;
+            memset(hit, ' ', len);
+            ok = fseek(f, base + (hit - buf), SEEK_SET) == 0 && fwrite(hit, 1, len, f) == len;
+            break;
+        }
+        if (got < sizeof buf) break;
+        base += (long)(got - sizeof key); /* overlap: a key split between reads */
+    }
+    return fclose(f) == 0 && ok;
 }
 
 /* Opens the safe writer's temporary file for PLplot; NULL (after abandoning
@@ -152,7 +207,11 @@ static pf_status finish(pf_context *ctx, pf_safefile *sf, pf_status drawn)
         pf_safe_abandon(sf);
         return drawn;
     }
-    if (!(ends_with_svg(sf->final_path) ? svg_complete(sf->temp_path) : png_complete(sf->temp_path))) {
+    pic_format fmt = format_of(sf->final_path);
+    int complete = fmt == PIC_SVG ? ends_with_marker(sf->temp_path, "</svg>")
+                 : fmt == PIC_PDF ? ends_with_marker(sf->temp_path, "%%EOF") && pdf_drop_date(sf->temp_path)
+                                  : png_complete(sf->temp_path);
+    if (!complete) {
         char final[512];
         snprintf(final, sizeof final, "%s", sf->final_path);
         pf_safe_abandon(sf);
@@ -193,61 +252,330 @@ static void inverse_unit(pf_quantity q, const char *u, int power, char *out, siz
 
 static double max_abs2(double a, double b) { return fmax(fabs(a), fabs(b)); }
 
+void pf_picture_resample(const double *src, size_t n, ptrdiff_t sstride, double *dst, size_t m, ptrdiff_t dstride,
+                         int at_samples)
+{
+    double ratio = (double)(at_samples ? n - 1 : n) / (double)m; /* samples per pixel */
+    double half = ratio > 1 ? ratio : 1;                          /* tent half-width, in samples */
+    for (size_t j = 0; j < m; j++) {
+        double u = ((double)j + 0.5) * ratio - (at_samples ? 0 : 0.5); /* pixel centre in sample indices */
+        long i0 = (long)ceil(u - half), i1 = (long)floor(u + half);
+        if (i0 < 0) i0 = 0;
+        if (i1 > (long)n - 1) i1 = (long)n - 1;
+        double sum = 0, wsum = 0;
+        for (long i = i0; i <= i1; i++) {
+            double wt = 1 - fabs((double)i - u) / half;
+            if (wt <= 0) continue;
+            sum += wt * src[i * sstride];
+            wsum += wt;
+        }
+        dst[(ptrdiff_t)j * dstride] = wsum > 0 ? sum / wsum : src[(u < 0 ? 0 : (ptrdiff_t)n - 1) * sstride];
+    }
+}
+
+static int decimals_for(double step)
+{
+    int d = (int)-floor(log10(step) + 1e-9);
+    return d < 0 ? 0 : (d > 12 ? 12 : d);
+}
+
+static int label_chars(double v, int decimals)
+{
+    char b[64];
+    return snprintf(b, sizeof b, "%.*f", decimals, v);
+}
+
+/* The end label's decimals: the ticks' own when the end lies within 2 % of
+ * a step from a tick (it then reads as that tick), else one more. */
+static int end_decimals(double v, double step, int d)
+{
+    double q = v / step;
+    return fabs(q - nearbyint(q)) < 0.02 ? d : (d + 1 > 12 ? 12 : d + 1);
+}
+
+int pf_picture_ticks(double lo, double hi, double len_px, double char_px, double gap_px, double *step_out,
+                     pf_tick_label *lab, int max)
+{
+    double span = hi - lo;
+    if (!(span > 0) || !isfinite(span) || !(len_px > 0) || max < 2) return 0;
+    static const double mant[] = {1, 2, 5};
+    int e0 = (int)floor(log10(span / 50));
+    double step = 0;
+    int d = 0;
+    for (int k = 0; k < 30 && !step; k++) {
+        double s = mant[k % 3] * pow(10.0, e0 + k / 3);
+        if (span / s > 50) continue;
+        int dd = decimals_for(s);
+        int wide = label_chars(s * ceil(lo / s), dd);
+        int c = label_chars(s * floor(hi / s), dd);
+        wide = c > wide ? c : wide;
+        if (s / span * len_px >= wide * char_px + gap_px) step = s, d = dd;
+    }
+    if (!step) /* not even one interval fits: the two ends alone */
+        step = span, d = decimals_for(span);
+    *step_out = step;
+    int n = 0;
+    int dlo = end_decimals(lo, step, d), dhi = end_decimals(hi, step, d);
+    double wlo = label_chars(lo, dlo) * char_px, whi = label_chars(hi, dhi) * char_px;
+    lab[n++] = (pf_tick_label){lo, 0, dlo};
+    for (double k = ceil(lo / step - 1e-6); k * step <= hi + 1e-6 * step && n < max - 1; k++) {
+        double v = fabs(k) < 0.5 ? 0 : k * step;
+        double pos = (v - lo) / span, w = label_chars(v, d) * char_px;
+        /* Centres at least half of both labels' widths plus the gap apart. */
+        if (pos * len_px < (wlo + w) / 2 + gap_px || (1 - pos) * len_px < (whi + w) / 2 + gap_px) continue;
+        lab[n++] = (pf_tick_label){v, pos, d};
+    }
+    lab[n++] = (pf_tick_label){hi, 1, dhi};
+    return n;
+}
+
+/* Labels of one axis: a side of the panel ("b" bottom, "l" left, "r" the
+ * colour bar's right), their values and widest label in characters. */
+typedef struct axis_labels {
+    pf_tick_label lab[64];
+    int n;
+    double step;
+    int widest;
+} axis_labels;
+
+/* Width of a digit or sign, in text heights (DejaVu Sans figures, cairo's
+ * default face). */
+#define CHAR_W 0.87
+
+/* Along the axis (x): labels side by side, a character's width each plus
+ * two of gap (along = 1); across (y, colour bar): stacked, `along` text
+ * heights apart (the colour bar's sparser, its labels being read less). */
+static void choose_ticks(axis_labels *a, double lo, double hi, double len_px, double ch, double along)
+{
+    a->n = pf_picture_ticks(lo, hi, len_px, along == 1 ? CHAR_W * ch : 0, along == 1 ? 2.0 * CHAR_W * ch : along * ch,
+                            &a->step, a->lab, 64);
+    a->widest = 0;
+    for (int i = 0; i < a->n; i++) {
+        int c = label_chars(a->lab[i].value, a->lab[i].decimals);
+        a->widest = c > a->widest ? c : a->widest;
+    }
+}
+
+static void draw_tick_labels(const axis_labels *a, const char *side, double disp, double just)
+{
+    for (int i = 0; i < a->n; i++) {
+        char b[64];
+        double v = a->lab[i].value;
+        snprintf(b, sizeof b, "%.*f", a->lab[i].decimals, v);
+        if (strspn(b, "-0.") == strlen(b) && b[0] == '-') memmove(b, b + 1, strlen(b)); /* no "-0.0" */
+        plmtex(side, disp, a->lab[i].pos, just, b);
+    }
+}
+
+/* Pixel layout of a map, decided before PLplot starts (text has a fixed
+ * pixel size, text_px). */
+typedef struct map_layout {
+    int w, h;
+    double ch;                     /* text height, px */
+    double left, right, top, bottom; /* panel edges, px from the left / top */
+    axis_labels xl, yl, vl;        /* tick labels: x, y, colour bar */
+    int not_to_scale;
+} map_layout;
+
+/* Margins around the panel in text heights: the title above; tick labels
+ * and the axis name below; the colour bar (gap, bar, labels, name, clip
+ * note) on the right; tick labels and the axis name on the left. */
+#define MAP_TOP 3.1
+#define MAP_BOTTOM 4.6
+static double map_left(int widest, double ch) { return (1.0 + CHAR_W * widest + 2.2) * ch; }
+static double map_right(int widest, double ch) { return (1.6 + 1.6 + 0.8 + CHAR_W * widest + 4.4) * ch; }
+
+/* Lays the map out: the panel fills the room the picture leaves it, or,
+ * with equal aspect, as much as keeps one unit equally long on both axes,
+ * and a picture whose size was not given shrinks to the panel, so no blank
+ * band is left above the title or beside the panel.  Equal aspect gives way
+ * (not to scale, said in the title) when it would leave a side under 7
+ * text heights: a sliver with crowded labels says less than a stretched map. */
+static void layout_map(map_layout *L, const pf_map *m, int equal, const double box[4], double vmin, double vmax)
+{
+    int wgiven = m->width != 0, hgiven = m->height != 0;
+    L->w = wgiven ? m->width : 860;
+    L->h = hgiven ? m->height : 640;
+    L->ch = text_px(L->w, L->h, 640);
+    double ch = L->ch;
+    double ex = box[1] - box[0], ey = box[3] - box[2];
+    int wy = 4, wv = 4;
+    L->not_to_scale = 0;
+    double pw = 0, ph = 0;
+    for (int pass = 0; pass < 3; pass++) {
+        /* The room: the given size, else the default 860 x 640 at most. */
+        double pwmax = (wgiven ? m->width : 860) - map_left(wy, ch) - map_right(wv, ch);
+        double phmax = (hgiven ? m->height : 640) - (MAP_TOP + MAP_BOTTOM) * ch;
+        pw = pwmax, ph = phmax;
+        if (equal && !L->not_to_scale) {
+            double r = ey / ex;
+            if (pw * r <= ph) ph = pw * r; else pw = ph / r;
+            if (pw < 7 * ch || ph < 7 * ch) {
+                L->not_to_scale = 1;
+                pw = pwmax, ph = phmax;
+            }
+        }
+        choose_ticks(&L->yl, box[2], box[3], ph, ch, 2.2);
+        choose_ticks(&L->vl, vmin, vmax, ph, ch, 3.0);
+        wy = L->yl.widest, wv = L->vl.widest;
+        /* The picture takes the panel's size where it was not given. */
+        if (!wgiven) L->w = (int)lround(map_left(wy, ch) + pw + map_right(wv, ch));
+        if (!hgiven) L->h = (int)lround((MAP_TOP + MAP_BOTTOM) * ch + ph);
+        if (L->w < 480 && !wgiven) L->w = 480; /* room for a title */
+    }
+    L->left = map_left(wy, ch);
+    L->right = L->left + pw;
+    L->top = MAP_TOP * ch;
+    L->bottom = L->top + ph;
+    choose_ticks(&L->xl, box[0], box[1], pw, ch, 1);
+}
+
 /* Everything a map's drawing needs, computed before PLplot starts. */
 typedef struct map_job {
     const pf_map *m;
     FILE *out;
-    int w, h, equal;
-    PLFLT **rows;
+    map_layout lay;
+    PLFLT **rows;              /* the image drawn: inx x iny cells over the box */
+    size_t inx, iny;
     double vmin, vmax;
+    int clipped;
+    char clip_note[96];
     double box[4];             /* x0, x1, y0, y1 in display units */
+    double fy;                 /* SI -> display units on y (marks) */
     char lx[96], ly[96];
     const char *vlabel;
     char title[320];
     const char *device;
 } map_job;
 
+/* Characters a PLplot text shows: escapes (#u, #d, #gX for a Greek
+ * letter, ## for #) count as what they print. */
+static double visible_chars(const char *t)
+{
+    double n = 0;
+    for (const char *c = t; *c; c++) {
+        if (*c == '#' && c[1]) {
+            if (c[1] == 'g' && c[2]) n += 1, c += 2;
+            else if (c[1] == '#') n += 1, c += 1;
+            else c += 1; /* #u, #d, #b...: no glyph */
+        } else if ((*c & 0xC0) != 0x80) {
+            n += 1; /* one per UTF-8 character */
+        }
+    }
+    return n;
+}
+
+/* A mark: a dashed line across the panel, dark under light, so it shows on
+ * both ends of the colour scale, and its label in a dark box at the right. */
+static void draw_mark(const map_job *j, const pf_mark *mk)
+{
+    double y = mk->at * j->fy, x0 = j->box[0], x1 = j->box[1];
+    if (!(y >= j->box[2] && y <= j->box[3])) return;
+    PLFLT lx[2] = {x0, x1}, ly[2] = {y, y};
+    plcol0(1);
+    plwidth(3.0);
+    plline(2, lx, ly);
+    plcol0(0);
+    plwidth(1.2);
+    pllsty(2);
+    plline(2, lx, ly);
+    pllsty(1);
+    plwidth(1.0);
+    if (!mk->label || !*mk->label) return;
+    /* Label box: its width estimated from the visible characters (this
+     * PLplot has no text-measuring call), converted to world units. */
+    double wx = (x1 - x0) * visible_chars(mk->label) * 0.8 * j->lay.ch / (j->lay.right - j->lay.left);
+    double hy = (j->box[3] - j->box[2]) * (1.5 * j->lay.ch) / (j->lay.bottom - j->lay.top);
+    double pad = (x1 - x0) * (0.4 * j->lay.ch) / (j->lay.right - j->lay.left);
+    double right = x1 - pad, left = right - wx - 2 * pad;
+    double yb = y + 0.25 * hy, yt = yb + hy;
+    if (yt > j->box[3]) yb = y - 0.25 * hy - hy, yt = y - 0.25 * hy; /* near the top: below the line */
+    PLFLT fx[4] = {left, right, right, left}, fyv[4] = {yb, yb, yt, yt};
+    plcol0(1);
+    plfill(4, fx, fyv);
+    plcol0(0);
+    plptex(right - pad, yb + 0.27 * hy, 1, 0, 1.0, mk->label);
+}
+
 /* Draws a map (runs under pf_plguard). */
 static void draw_map(void *user)
 {
     const map_job *j = user;
-    const pf_map *m = j->m;
+    const map_layout *L = &j->lay;
     double x0 = j->box[0], x1 = j->box[1], y0 = j->box[2], y1 = j->box[3];
     double vmin = j->vmin, vmax = j->vmax;
-    begin_stream(j->out, j->w, j->h, j->device);
-    /* Main panel. */
-    /* Equal aspect keeps a cloud's true shape (its aspect ratio is often
-     * the point of the picture); the panel then shrinks along one side. */
-    if (j->equal) {
-        double aspect = (y1 - y0) / (x1 - x0) * (double)j->w / (double)j->h;
-        double vx = 0.66, vy = 0.78; /* largest panel in normalised units */
-        if (aspect * vx > vy) vx = vy / aspect; else vy = aspect * vx;
-        double cx = 0.10 + 0.66 / 2, cy = 0.12 + 0.78 / 2;
-        plvpor(cx - vx / 2, cx + vx / 2, cy - vy / 2, cy + vy / 2);
-    } else {
-        plvpor(0.10, 0.76, 0.12, 0.90);
-    }
-    PLFLT px0, px1, py0, py1;
-    plgvpd(&px0, &px1, &py0, &py1);
+    begin_stream(j->out, L->w, L->h, j->device, L->ch);
+    plvpor(L->left / L->w, L->right / L->w, 1 - L->bottom / L->h, 1 - L->top / L->h);
     plwind(x0, x1, y0, y1);
-    plimagefr((PLFLT_MATRIX)j->rows, (PLINT)m->nx, (PLINT)m->ny, x0, x1, y0, y1, vmin, vmax, vmin, vmax, NULL, NULL);
+    plimagefr((PLFLT_MATRIX)j->rows, (PLINT)j->inx, (PLINT)j->iny, x0, x1, y0, y1, vmin, vmax, vmin, vmax, NULL, NULL);
+    for (size_t k = 0; k < j->m->nmarks; k++) draw_mark(j, &j->m->marks[k]);
     plcol0(1);
-    /* Ticks point outwards: inside they vanish against dark parts of the map. */
-    plbox("bcnsti", 0, 0, "bcnstiv", 0, 0);
-    pllab(j->lx, j->ly, "");
-    plmtex("t", 1.6, 0.0, 0.0, j->title);
+    /* Ticks point outwards: inside they vanish against dark parts of the
+     * map.  Numbers come from pf_picture_ticks (both ends labelled). */
+    plbox("bcsti", L->xl.step, 0, "bcsti", L->yl.step, 0);
+    draw_tick_labels(&L->xl, "b", 1.5, 0.5);
+    draw_tick_labels(&L->yl, "lv", 0.7, 1.0);
+    plmtex("b", 3.3, 0.5, 0.5, j->lx);
+    plmtex("l", 0.7 + CHAR_W * L->yl.widest + 1.0, 0.5, 0.5, j->ly);
+    plmtex("t", 1.3, 0.0, 0.0, j->title);
     /* Colour bar: a vertical strip of the same map with its own axis. */
-    double ramp_v[2][64];
+    double ramp_v[2][256];
     PLFLT *ramp[2] = {ramp_v[0], ramp_v[1]};
-    for (int i = 0; i < 64; i++) ramp_v[0][i] = ramp_v[1][i] = vmin + (vmax - vmin) * i / 63.0;
-    plvpor(px1 + 0.03, px1 + 0.06, py0, py1);
+    for (int i = 0; i < 256; i++) ramp_v[0][i] = ramp_v[1][i] = vmin + (vmax - vmin) * i / 255.0;
+    double bl = L->right + 1.6 * L->ch, br = bl + 1.6 * L->ch;
+    plvpor(bl / L->w, br / L->w, 1 - L->bottom / L->h, 1 - L->top / L->h);
     plwind(0, 1, vmin, vmax);
-    plimagefr((PLFLT_MATRIX)ramp, 2, 64, 0, 1, vmin, vmax, vmin, vmax, vmin, vmax, NULL, NULL);
+    plimagefr((PLFLT_MATRIX)ramp, 2, 256, 0, 1, vmin, vmax, vmin, vmax, vmin, vmax, NULL, NULL);
     plcol0(1);
-    plsyax(6, 0);
-    plbox("bc", 0, 0, "bcmstiv", 0, 0);
-    plmtex("r", 6.2, 0.5, 0.5, j->vlabel);
+    plbox("bc", 0, 0, "bcsti", L->vl.step, 0);
+    draw_tick_labels(&L->vl, "rv", 0.8, 0.0);
+    double name_at = 0.8 + CHAR_W * L->vl.widest + 1.4;
+    plmtex("r", name_at, 0.5, 0.5, j->vlabel);
+    if (j->clipped) {
+        /* Values above the scale share its top colour: say so beside the bar,
+         * and cap the bar with an arrow head in that colour. */
+        plmtex("r", name_at + 1.5, 0.5, 0.5, j->clip_note);
+        double tip = 1.3 * L->ch;
+        plvpor(bl / L->w, br / L->w, 1 - (L->top - 0.15 * L->ch) / L->h, 1 - (L->top - tip) / L->h);
+        plwind(0, 1, 0, 1);
+        PLFLT ax[4] = {0, 1, 0.5, 0}, ay[4] = {0, 0, 1, 0};
+        plcol1(1.0);
+        plfill(3, ax, ay);
+        plcol0(1);
+        plline(4, ax, ay);
+    }
     plend1();
+}
+
+/* The image drawn for a map: with smooth set, resampled to the panel's
+ * pixels (pf_picture_resample along y, then x), else the samples as cells;
+ * values clipped to vmax.  NULL on failure to allocate. */
+static double *map_image(const pf_map *m, const double *vals, const map_layout *L, size_t *inx, size_t *iny)
+{
+    size_t nx = m->nx, ny = m->ny;
+    if (m->smooth) {
+        /* The panel's pixels, at most 2048 a side (cairo scales the rest). */
+        double pw = L->right - L->left, ph = L->bottom - L->top;
+        nx = (size_t)fmin(2048, fmax(2, lround(pw)));
+        ny = (size_t)fmin(2048, fmax(2, lround(ph)));
+    }
+    double *img = malloc(nx * ny * sizeof *img);
+    if (!img) return NULL;
+    if (m->smooth) {
+        double *tmp = malloc(m->nx * ny * sizeof *tmp);
+        if (!tmp) {
+            free(img);
+            return NULL;
+        }
+        for (size_t ix = 0; ix < m->nx; ix++) pf_picture_resample(vals + ix * m->ny, m->ny, 1, tmp + ix * ny, ny, 1, m->y_at_samples);
+        for (size_t iy = 0; iy < ny; iy++)
+            pf_picture_resample(tmp + iy, m->nx, (ptrdiff_t)ny, img + iy, nx, (ptrdiff_t)ny, 0);
+        free(tmp);
+    } else {
+        memcpy(img, vals, nx * ny * sizeof *img);
+    }
+    *inx = nx, *iny = ny;
+    return img;
 }
 
 pf_status pf_picture_map(pf_context *ctx, const char *path, int overwrite, const pf_map *m)
@@ -257,54 +585,64 @@ pf_status pf_picture_map(pf_context *ctx, const char *path, int overwrite, const
         return pf_fail(ctx, PF_EINVAL, "map '%s': coordinates and values must be finite", m->title ? m->title : "");
     if (!(m->x[m->nx - 1] > m->x[0]) || !(m->y[m->ny - 1] > m->y[0]))
         return pf_fail(ctx, PF_EINVAL, "map axes must ascend");
-    int w = m->width ? m->width : 860, h = m->height ? m->height : 640;
-    if (w < 200 || h < 150 || w > 8000 || h > 8000)
-        return pf_fail(ctx, PF_EINVAL, "picture size %d x %d is outside 200x150..8000x8000", w, h);
+    if (!isfinite(m->value_max) || m->value_max < 0)
+        return pf_fail(ctx, PF_EINVAL, "map '%s': the colour scale's top must be positive and finite, got %g",
+                       m->title ? m->title : "", m->value_max);
+    for (size_t k = 0; k < m->nmarks; k++)
+        if (!isfinite(m->marks[k].at)) return pf_fail(ctx, PF_EINVAL, "map mark %zu: position must be finite", k + 1);
+    int wq = m->width ? m->width : 860, hq = m->height ? m->height : 640;
+    if (wq < 200 || hq < 150 || wq > 8000 || hq > 8000)
+        return pf_fail(ctx, PF_EINVAL, "picture size %d x %d is outside 200x150..8000x8000", wq, hq);
     /* Cell edges: samples are centres of uniform cells. */
     double hx = (m->x[m->nx - 1] - m->x[0]) / (double)(m->nx - 1) / 2;
-    double hy = (m->y[m->ny - 1] - m->y[0]) / (double)(m->ny - 1) / 2;
+    double hy = m->y_at_samples && m->smooth ? 0 : (m->y[m->ny - 1] - m->y[0]) / (double)(m->ny - 1) / 2;
     char ux[32], uy[32];
     double fx = pf_display_unit(m->xa.q, max_abs2(m->x[0] - hx, m->x[m->nx - 1] + hx), ux, sizeof ux);
     double fy = pf_display_unit(m->ya.q, max_abs2(m->y[0] - hy, m->y[m->ny - 1] + hy), uy, sizeof uy);
     int equal = m->equal_aspect && m->xa.q == m->ya.q;
-    /* Equal aspect of a very elongated region (80 um x 3.4 mm) leaves a
-     * sliver a few pixels wide under crowded tick labels: past 1:6 the map
-     * fills the panel and the title says the axes are not to scale. */
-    double extent_ratio = (m->y[m->ny - 1] - m->y[0] + 2 * hy) / (m->x[m->nx - 1] - m->x[0] + 2 * hx);
-    int not_to_scale = equal && (extent_ratio > 6 || extent_ratio < 1.0 / 6);
-    if (not_to_scale) equal = 0;
+    int not_to_scale = 0;
+    if (equal) {
+        /* Would equal aspect leave a sliver?  Decided on the extents alone
+         * (the colour bar's labels barely move the margins), before the
+         * units, since a map not to scale shows each axis in its own unit. */
+        map_layout pre;
+        double ext[4] = {m->x[0] - hx, m->x[m->nx - 1] + hx, m->y[0] - hy, m->y[m->ny - 1] + hy};
+        layout_map(&pre, m, 1, ext, 0, 1);
+        not_to_scale = pre.not_to_scale;
+        equal = !not_to_scale;
+    }
     if (equal && m->xa.q != PF_Q_PLAIN) {
         /* One unit for both axes, or equal lengths would not look equal. */
         double both = fmax(max_abs2(m->x[0] - hx, m->x[m->nx - 1] + hx), max_abs2(m->y[0] - hy, m->y[m->ny - 1] + hy));
         fx = fy = pf_display_unit(m->xa.q, both, ux, sizeof ux);
         snprintf(uy, sizeof uy, "%s", ux);
     }
-    if (equal && !m->height) {
-        /* Fit the picture to the map: a wide cloud gets a low picture. */
-        double ratio = (m->y[m->ny - 1] - m->y[0] + 2 * hy) / (m->x[m->nx - 1] - m->x[0] + 2 * hx);
-        double want = 0.66 * w * ratio / 0.78 + 0.5;
-        h = want < 420 ? 420 : (want > 640 ? 640 : (int)want);
-    }
     double vscale = 1;
     if (m->per_x) vscale /= fx;
     if (m->per_y) vscale /= fy;
     size_t n = m->nx * m->ny;
     double *vals = malloc(n * sizeof *vals);
-    PLFLT **rows = malloc(m->nx * sizeof *rows);
-    if (!vals || !rows) {
-        free(vals);
-        free(rows);
-        return pf_fail(ctx, PF_ENOMEM, "out of memory");
-    }
+    if (!vals) return pf_fail(ctx, PF_ENOMEM, "out of memory");
     double vmin = INFINITY, vmax = -INFINITY;
     for (size_t i = 0; i < n; i++) {
         vals[i] = m->values[i] * vscale;
         vmin = fmin(vmin, vals[i]);
         vmax = fmax(vmax, vals[i]);
     }
-    for (size_t ix = 0; ix < m->nx; ix++) rows[ix] = vals + ix * m->ny;
     /* Densities start at zero; a flat map still gets a visible range. */
     if (vmin >= 0) vmin = 0;
+    int clipped = 0;
+    if (m->value_max > 0) {
+        double top = m->value_max * vscale;
+        clipped = vmax > top;
+        if (!(top > vmin)) {
+            free(vals);
+            return pf_fail(ctx, PF_EINVAL, "map '%s': the colour scale's top %g is not above its bottom %g",
+                           m->title ? m->title : "", m->value_max, vmin / vscale);
+        }
+        vmax = top;
+        for (size_t i = 0; i < n; i++) vals[i] = fmin(vals[i], top);
+    }
     if (!(vmax > vmin)) vmax = vmin + 1;
     char vunit[64], vlabel[160];
     if (m->per_x && m->per_y && strcmp(ux, uy) == 0 && m->xa.q == m->ya.q) {
@@ -330,24 +668,38 @@ pf_status pf_picture_map(pf_context *ctx, const char *path, int overwrite, const
         snprintf(vunit, sizeof vunit, "10#u%d#d %.40s", e10, plain);
     }
     axis_label(vlabel, sizeof vlabel, m->value_name ? m->value_name : "value", vunit);
+    map_job job = {.m = m, .vmin = vmin, .vmax = vmax, .clipped = clipped, .fy = fy, .vlabel = vlabel,
+                   .device = device_for(path),
+                   .box = {(m->x[0] - hx) * fx, (m->x[m->nx - 1] + hx) * fx, (m->y[0] - hy) * fy, (m->y[m->ny - 1] + hy) * fy}};
+    layout_map(&job.lay, m, equal, job.box, vmin, vmax);
+    job.lay.not_to_scale = not_to_scale;
+    if (clipped) {
+        const pf_tick_label *top = &job.lay.vl.lab[job.lay.vl.n - 1];
+        snprintf(job.clip_note, sizeof job.clip_note, "clipped above %.*f", top->decimals, top->value);
+    }
+    double *img = map_image(m, vals, &job.lay, &job.inx, &job.iny);
+    PLFLT **rows = img ? malloc(job.inx * sizeof *rows) : NULL;
+    free(vals);
+    if (!rows) {
+        free(img);
+        return pf_fail(ctx, PF_ENOMEM, "out of memory");
+    }
+    for (size_t ix = 0; ix < job.inx; ix++) rows[ix] = img + ix * job.iny;
+    job.rows = rows;
     pf_safefile sf;
     pf_status s = pf_safe_begin(ctx, path, overwrite, &sf);
-    if (s) {
-        free(vals);
-        free(rows);
-        return s;
+    if (!s) {
+        job.out = open_for_plplot(ctx, &sf, &s);
+        if (job.out) {
+            int nts = job.lay.not_to_scale;
+            snprintf(job.title, sizeof job.title, "%s%s", m->title ? m->title : "",
+                     nts ? (m->title && *m->title ? " (x and y not to scale)" : "x and y not to scale") : "");
+            axis_label(job.lx, sizeof job.lx, m->xa.name, ux);
+            axis_label(job.ly, sizeof job.ly, m->ya.name, uy);
+            s = finish(ctx, &sf, pf_plguard_run(ctx, draw_map, &job));
+        }
     }
-    FILE *out = open_for_plplot(ctx, &sf, &s);
-    if (out) {
-        map_job job = {m, out, w, h, equal, rows, vmin, vmax, {(m->x[0] - hx) * fx, (m->x[m->nx - 1] + hx) * fx,
-                       (m->y[0] - hy) * fy, (m->y[m->ny - 1] + hy) * fy}, "", "", vlabel, "", device_for(path)};
-        snprintf(job.title, sizeof job.title, "%s%s", m->title ? m->title : "",
-                 not_to_scale ? (m->title && *m->title ? " (x and y not to scale)" : "x and y not to scale") : "");
-        axis_label(job.lx, sizeof job.lx, m->xa.name, ux);
-        axis_label(job.ly, sizeof job.ly, m->ya.name, uy);
-        s = finish(ctx, &sf, pf_plguard_run(ctx, draw_map, &job));
-    }
-    free(vals);
+    free(img);
     free(rows);
     return s;
 }
@@ -436,7 +788,7 @@ static void draw_lines(void *user)
     const lines_job *j = user;
     const pf_lines *p = j->p;
     double xmin = j->box[0], xmax = j->box[1], ymin = j->box[2], ymax = j->box[3];
-    begin_stream(j->out, j->w, j->h, j->device);
+    begin_stream(j->out, j->w, j->h, j->device, text_px(j->w, j->h, 560));
     plvpor(0.11, 0.95, 0.13, 0.89);
     plwind(xmin, xmax, ymin, ymax);
     /* Light grid first, frame and labels over it. */

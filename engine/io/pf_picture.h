@@ -24,6 +24,13 @@ typedef struct pf_plot_axis {
     pf_quantity q;
 } pf_plot_axis;
 
+/* A labelled horizontal line across a map at y = at (SI units of the y
+ * axis): a characteristic time on a carpet (a Talbot time), a plane. */
+typedef struct pf_mark {
+    double at;
+    const char *label;        /* NULL: the line alone */
+} pf_mark;
+
 /* A colour map of values[ix * ny + iy] at sample centres x[ix], y[iy]
  * (both ascending, uniformly spaced). */
 typedef struct pf_map {
@@ -37,6 +44,13 @@ typedef struct pf_map {
     int per_x, per_y;         /* values are densities per unit of x / of y */
     int equal_aspect;         /* one unit on x as long as one on y (same quantity only) */
     int width, height;        /* pixels, 0: 860 x 640 */
+    int smooth;               /* resample to the panel's pixels (fields); 0: one block per sample (camera pixels) */
+    int y_at_samples;         /* y runs from the first to the last sample (a carpet's times, with smooth),
+                               * not half a cell beyond them */
+    double value_max;         /* top of the colour scale in the units of values; 0: the largest value.
+                               * Values above it are clipped, and the colour bar says so. */
+    size_t nmarks;
+    const pf_mark *marks;
 } pf_map;
 
 typedef struct pf_series {
@@ -61,6 +75,31 @@ typedef struct pf_lines {
 } pf_lines;
 
 pf_status pf_picture_map(pf_context *ctx, const char *path, int overwrite, const pf_map *m);
+
+/* Resamples src (n samples) to m pixels with a tent filter as wide as the
+ * larger of a sample and a pixel: linear interpolation when enlarging, an
+ * average over each pixel's footprint when reducing, so neither blocks nor
+ * aliasing show.  The pixels span the samples' cells (n cells, centres at
+ * the samples), or with at_samples the range from the first sample to the
+ * last.  dst[j * dstride] for j < m from src[i * sstride]. */
+void pf_picture_resample(const double *src, size_t n, ptrdiff_t sstride, double *dst, size_t m, ptrdiff_t dstride,
+                         int at_samples);
+
+/* Major ticks of an axis from lo to hi (display units) drawn len_px pixels
+ * long, whose labels need char_px per character plus gap_px (for labels
+ * stacked along a vertical axis: char_px 0, gap_px the line spacing): the
+ * smallest step of 1, 2, 5 x 10^n whose labels do not touch.  Both ends are
+ * labelled, with one more decimal than the ticks unless they fall on one;
+ * an interior tick too close to an end label keeps its tick mark but loses
+ * its label.  Fills at most max labels (value, position 0..1 along the
+ * axis, decimals to print) in ascending order and returns their count; the
+ * step goes to *step. */
+typedef struct pf_tick_label {
+    double value, pos;
+    int decimals;
+} pf_tick_label;
+int pf_picture_ticks(double lo, double hi, double len_px, double char_px, double gap_px, double *step,
+                     pf_tick_label *labels, int max);
 pf_status pf_picture_lines(pf_context *ctx, const char *path, int overwrite, const pf_lines *p);
 
 /* The SI prefix psiflight shows a quantity with, given the largest |value|:

@@ -1,29 +1,30 @@
 /* pfl_levels.c - multi-level wave functions as Lua objects: pf.levels{...}
- * holds one wave function per internal level (labels, energy offsets), and
- * its methods apply pulses between levels (pf_pulse.h), Bragg pulses,
- * flights with per-level accelerations, and report populations.
+ * wraps the core levels view (pf_levels.h) and reads the options of its
+ * methods; the physics (pulses, flights, populations, Born events, the
+ * shared moving frame) is the core's.
  *
  * The level waves are ordinary wave userdata kept in the object's user
- * value, so lv:level(label) hands out the wave itself and every wave method
- * (masks, potentials, evolve, outputs, cameras) works on one level in place. */
+ * value (the core object borrows them), so lv:level(label) hands out the
+ * wave itself and every wave method (masks, potentials, evolve, outputs,
+ * cameras) works on one level in place.  Every method first checks that no
+ * level wave was closed behind the object's back. */
 #include <math.h>
 #include <string.h>
 #include "../core/pf_constants.h"
 #include "../core/pf_flight.h"
-#include "../core/pf_force.h"
-#include "../core/pf_observe.h"
+#include "../core/pf_frame.h"
+#include "../core/pf_levels.h"
 #include "../core/pf_pulse.h"
 #include "pfl.h"
-#include "../core/pf_sample.h"
 #include "pfl_measure.h"
 #include "pfl_options.h"
 
 #define PFL_LEVELS_TYPE "psiflight.levels"
-#define LEVELS_MAX 8
-#define LABEL_MAX 32
+#define LEVELS_MAX PF_LEVELS_MAX
+#define LABEL_MAX PF_LEVELS_LABEL_MAX
 
 static const pfl_options_decl LEVELS_OPTIONS = {
-    "pf.levels", (const char *const[]){"labels", "energies", "waves", "grid", "mass", NULL}};
+    "pf.levels", (const char *const[]){"labels", "energies", "waves", "grid", "mass", "frame", NULL}};
 static const pfl_options_decl PULSE_OPTIONS = {
     "levels:pulse",
     (const char *const[]){"from", "to", "rabi", "area", "duration", "envelope", "width", "detuning", "omega", "phase",
@@ -38,54 +39,49 @@ static const pfl_options_decl SAMPLE_OPTIONS = {
 static const pfl_options_decl ORDERS_OPTIONS = {
     "levels:order_populations", (const char *const[]){"wavenumber", "orders", "center", NULL}};
 
+/* The userdata: the core view, NULL once closed; the level waves are in
+ * user value 1 (a sequence of wave userdata), which keeps them alive. */
 typedef struct pfl_levels_box {
-    int count; /* 0 once closed */
-    char label[LEVELS_MAX][LABEL_MAX];
-    double energy[LEVELS_MAX]; /* J, offsets of the levels */
+    pf_levels *lv;
 } pfl_levels_box;
 
-static pfl_levels_box *check_levels(lua_State *L, int arg)
+/* The core object of the levels at arg; raises when it is closed or when a
+ * level wave was closed on its own. */
+static pf_levels *check_levels(lua_State *L, int arg)
 {
     pfl_levels_box *b = luaL_checkudata(L, arg, PFL_LEVELS_TYPE);
-    if (b->count == 0) luaL_argerror(L, arg, "levels object is closed");
-    return b;
-}
-
-/* The wave of level i (0-based); leaves nothing on the stack. */
-static pf_wave *level_wave(lua_State *L, int arg, int i)
-{
+    if (!b->lv) luaL_argerror(L, arg, "levels object is closed");
     lua_getiuservalue(L, arg, 1);
-    lua_rawgeti(L, -1, i + 1);
-    pf_wave *w = pfl_check_wave(L, -1);
-    lua_pop(L, 2);
-    return w;
+    for (int i = 0; i < pf_levels_count(b->lv); i++) {
+        lua_rawgeti(L, -1, i + 1);
+        if (pfl_wave_peek(L, -1) != pf_levels_wave(b->lv, i))
+            luaL_error(L, "levels: the wave of level '%s' was closed", pf_levels_label(b->lv, i));
+        lua_pop(L, 1);
+    }
+    lua_pop(L, 1);
+    pfl_ctx(L); /* binds this thread to the context for warnings */
+    return b->lv;
 }
 
-static int find_label(const pfl_levels_box *b, const char *s)
+/* Records the grid guards of every level (the run record's edge figures). */
+static void note_levels(lua_State *L, const pf_levels *lv)
 {
-    for (int i = 0; i < b->count; i++)
-        if (strcmp(b->label[i], s) == 0) return i;
-    return -1;
+    for (int i = 0; i < pf_levels_count(lv); i++) pfl_note_guards(L, pf_levels_wave(lv, i));
 }
 
 /* Level index of the label at stack index idx; the error lists the labels. */
-static int check_label_at(lua_State *L, const pfl_levels_box *b, int idx, const char *fname, const char *field)
+static int check_label_at(lua_State *L, const pf_levels *b, int idx, const char *fname, const char *field)
 {
     if (lua_type(L, idx) != LUA_TSTRING) {
         char buf[64];
         return luaL_error(L, "%s: field '%s' must be a level label, got %s", fname, field, pfl_describe(L, idx, buf, sizeof buf));
     }
     const char *s = lua_tostring(L, idx);
-    int i = find_label(b, s);
+    int i = pf_levels_find(b, s);
     if (i < 0) {
-        luaL_Buffer B;
-        luaL_buffinit(L, &B);
-        for (int j = 0; j < b->count; j++) {
-            if (j) luaL_addstring(&B, ", ");
-            luaL_addstring(&B, b->label[j]);
-        }
-        luaL_pushresult(&B);
-        return luaL_error(L, "%s: field '%s': no level '%s' (levels: %s)", fname, field, s, lua_tostring(L, -1));
+        char list[LEVELS_MAX * (LABEL_MAX + 2)];
+        pf_levels_label_list(b, list, sizeof list);
+        return luaL_error(L, "%s: field '%s': no level '%s' (levels: %s)", fname, field, s, list);
     }
     return i;
 }
@@ -114,9 +110,10 @@ static void vector_at(lua_State *L, int idx, int dim, double *out, const char *f
 }
 
 /* pf.levels{labels = {"F1", "F2", ...}, energies = {E1, E2, ...} (J),
- *           waves = {F1 = psi, ...} | grid = g, mass = m}
+ *           waves = {F1 = psi, ...} | grid = g, mass = m, frame = false | true}
  * The given waves are copied into their levels; the other levels start
- * empty on the same grid, mass and clock. */
+ * empty on the same grid, mass, clock (and frame).  frame = true: the
+ * levels share a moving frame that takes their common acceleration. */
 static int l_levels(lua_State *L)
 {
     pfl_options_check(L, 1, &LEVELS_OPTIONS);
@@ -124,6 +121,7 @@ static int l_levels(lua_State *L)
     memset(b, 0, sizeof *b);
     luaL_setmetatable(L, PFL_LEVELS_TYPE);
     int box = lua_gettop(L);
+    const int moving = pfl_field_boolean(L, 1, "frame", 0);
     int n = 0;
     if (pfl_option_get(L, 1, "labels") != LUA_TTABLE) return luaL_error(L, "levels: field 'labels' (a list of 2 to %d names) is required", LEVELS_MAX);
     n = (int)luaL_len(L, -1);
@@ -169,7 +167,8 @@ static int l_levels(lua_State *L)
             for (int j = 0; j < n; j++)
                 if (strcmp(label[j], key) == 0) i = j;
             if (i < 0) return luaL_error(L, "levels: field 'waves' names '%s', which is not among the labels", key);
-            given[i] = pfl_check_wave(L, -1);
+            given[i] = pfl_wave_peek(L, -1);
+            if (!given[i]) return luaL_error(L, "levels: the wave given for '%s' is closed", key);
             lua_pop(L, 1);
         }
     }
@@ -198,21 +197,27 @@ static int l_levels(lua_State *L)
         lua_pop(L, 1);
         mass = pfl_field_mass(L, 1, "levels");
     }
+    /* Each wave goes into a userdata as soon as it exists (an error below
+     * then leaves nothing to leak); the table keeps them with the object. */
     lua_createtable(L, n, 0);
+    pf_wave *waves[LEVELS_MAX];
+    pf_frame frame0;
+    if (first) pf_wave_frame(first, &frame0);
     for (int i = 0; i < n; i++) {
         pf_wave *w = NULL;
+        pfl_push_wave(L, NULL);
         pf_status s = given[i] ? pf_wave_copy(given[i], &w) : pf_wave_new(g, mass, &w);
         pfl_check(L, s, "levels");
+        pfl_wave_adopt(L, -1, w);
         if (!given[i]) pf_wave_set_clock(w, clock);
-        pfl_push_wave(L, w);
+        if (!given[i] && first) pfl_check(L, pf_wave_set_frame(w, &frame0), "levels");
+        waves[i] = w;
         lua_rawseti(L, -2, i + 1);
     }
     lua_setiuservalue(L, box, 1);
-    for (int i = 0; i < n; i++) {
-        memcpy(b->label[i], label[i], LABEL_MAX);
-        b->energy[i] = energy[i];
-    }
-    b->count = n;
+    const char *labels[LEVELS_MAX];
+    for (int i = 0; i < n; i++) labels[i] = label[i];
+    pfl_check(L, pf_levels_new(pfl_ctx(L), n, labels, energy, waves, moving, &b->lv), "levels");
     lua_pushvalue(L, box);
     return 1;
 }
@@ -281,11 +286,15 @@ static void read_wavenumber(lua_State *L, int t, int dim, double *k, const char 
 /* Field 'acceleration' of the checked options table at opts (0: none):
  * a number / per-axis table for every level, or {label = a, ...} per level;
  * absent: the pf.setup default (if any) for every level; false: none.
- * Fills acc[i] and has[i] (levels not named: has 0). */
-static void read_accelerations(lua_State *L, pfl_levels_box *b, int opts, int dim, double acc[][PF_MAX_DIM], int *has,
+ * Fills the forces (levels not named: has 0). */
+static void read_accelerations(lua_State *L, const pf_levels *b, int opts, int dim, pf_levels_forces *forces,
                                const char *fname)
 {
-    for (int i = 0; i < b->count; i++) {
+    memset(forces, 0, sizeof *forces);
+    double (*acc)[PF_MAX_DIM] = forces->accel;
+    int *has = forces->has;
+    const int count = pf_levels_count(b);
+    for (int i = 0; i < count; i++) {
         has[i] = 0;
         for (int d = 0; d < PF_MAX_DIM; d++) acc[i][d] = 0;
     }
@@ -294,7 +303,7 @@ static void read_accelerations(lua_State *L, pfl_levels_box *b, int opts, int di
         /* No acceleration given: the script's default from pf.setup holds
          * for every level, as it does for w:fly. */
         if (pfl_frame_acceleration(L, 0, dim, acc[0], fname))
-            for (int i = 0; i < b->count; i++) {
+            for (int i = 0; i < count; i++) {
                 memcpy(acc[i], acc[0], sizeof acc[0]);
                 has[i] = 1;
             }
@@ -323,7 +332,7 @@ static void read_accelerations(lua_State *L, pfl_levels_box *b, int opts, int di
         }
     } else {
         vector_at(L, at, dim, acc[0], fname, "acceleration (m/s^2)");
-        for (int i = 0; i < b->count; i++) {
+        for (int i = 0; i < count; i++) {
             memcpy(acc[i], acc[0], sizeof acc[0]);
             has[i] = 1;
         }
@@ -331,32 +340,20 @@ static void read_accelerations(lua_State *L, pfl_levels_box *b, int opts, int di
     lua_pop(L, 1);
 }
 
-/* Flies the levels other than skip1, skip2 for t seconds (their
- * accelerations where given), so every clock stays together. */
-static void fly_others(lua_State *L, pfl_levels_box *b, int skip1, int skip2, double t, double acc[][PF_MAX_DIM],
-                       const int *has, const char *fname)
-{
-    for (int i = 0; i < b->count; i++) {
-        if (i == skip1 || i == skip2) continue;
-        pf_wave *w = level_wave(L, 1, i);
-        pfl_check(L, has[i] ? pf_wave_fall(w, t, acc[i]) : pf_wave_fly(w, t), fname);
-        pfl_note_guards(L, w);
-    }
-}
-
 /* lv:fly(t [, {acceleration = a | {label = a, ...}}]) -> lv
  * a: m/s^2, a number (1D) or one value per axis; per level, levels not
- * named fly freely.  Exact (free flight, or the uniform-force propagator). */
+ * named fly freely.  Exact (free flight, or the uniform-force propagator;
+ * in a shared frame the common part moves the frame). */
 static int l_fly(lua_State *L)
 {
-    pfl_levels_box *b = check_levels(L, 1);
+    pf_levels *b = check_levels(L, 1);
     double t = pfl_check_finite(L, 2, "flight time (s)");
     int opts = pfl_options_opt(L, 3, &FLY_OPTIONS);
-    int dim = pf_grid_dim(pf_wave_grid(level_wave(L, 1, 0)));
-    double acc[LEVELS_MAX][PF_MAX_DIM];
-    int has[LEVELS_MAX];
-    read_accelerations(L, b, opts, dim, acc, has, "fly");
-    fly_others(L, b, -1, -1, t, acc, has, "fly");
+    int dim = pf_grid_dim(pf_wave_grid(pf_levels_wave(b, 0)));
+    pf_levels_forces forces;
+    read_accelerations(L, b, opts, dim, &forces, "fly");
+    pfl_check(L, pf_levels_fly(b, t, &forces), "fly");
+    note_levels(L, b);
     lua_settop(L, 1);
     return 1;
 }
@@ -366,7 +363,7 @@ static int l_fly(lua_State *L)
  *          beam_rabi = {O1, O2}, substeps} -> lv */
 static int l_pulse(lua_State *L)
 {
-    pfl_levels_box *b = check_levels(L, 1);
+    pf_levels *b = check_levels(L, 1);
     pfl_options_check(L, 2, &PULSE_OPTIONS);
     const char *fname = "pulse";
     pfl_option_get(L, 2, "from");
@@ -374,9 +371,8 @@ static int l_pulse(lua_State *L)
     pfl_option_get(L, 2, "to");
     int ib = check_label_at(L, b, -1, fname, "to");
     lua_pop(L, 2);
-    if (ia == ib) return luaL_error(L, "pulse: 'from' and 'to' name the same level '%s'", b->label[ia]);
-    pf_wave *wa = level_wave(L, 1, ia), *wb = level_wave(L, 1, ib);
-    int dim = pf_grid_dim(pf_wave_grid(wa));
+    if (ia == ib) return luaL_error(L, "pulse: 'from' and 'to' name the same level '%s'", pf_levels_label(b, ia));
+    int dim = pf_grid_dim(pf_wave_grid(pf_levels_wave(b, ia)));
 
     pf_pulse_light li;
     memset(&li, 0, sizeof li);
@@ -438,10 +434,10 @@ static int l_pulse(lua_State *L)
                 int i = check_label_at(L, b, -2, fname, "light_shift");
                 double v = lua_tonumber(L, -1);
                 if (lua_type(L, -1) != LUA_TNUMBER || !isfinite(v))
-                    return luaL_error(L, "pulse: light shift of '%s' must be a finite number (rad/s)", b->label[i]);
+                    return luaL_error(L, "pulse: light shift of '%s' must be a finite number (rad/s)", pf_levels_label(b, i));
                 if (i == ia) li.shift_a = v;
                 else if (i == ib) li.shift_b = v;
-                else return luaL_error(L, "pulse: field 'light_shift' names '%s', which the pulse does not couple", b->label[i]);
+                else return luaL_error(L, "pulse: field 'light_shift' names '%s', which the pulse does not couple", pf_levels_label(b, i));
                 lua_pop(L, 1);
             }
         }
@@ -453,14 +449,13 @@ static int l_pulse(lua_State *L)
     lua_pop(L, 1);
     if (has_det && has_omega) return luaL_error(L, "pulse: give 'detuning' or 'omega', not both");
     if (has_omega) /* delta = omega_L - (E_b - E_a) / hbar */
-        li.detuning = pfl_field_number(L, 2, "omega", 0, 1) - (b->energy[ib] - b->energy[ia]) / PF_HBAR;
+        li.detuning = pf_levels_detuning(b, ia, ib, pfl_field_number(L, 2, "omega", 0, 1));
     else
         li.detuning = pfl_field_number(L, 2, "detuning", 0, 0);
     li.phase = pfl_field_number(L, 2, "phase", 0, 0) + beam_sign;
     read_wavenumber(L, 2, dim, li.kick, fname);
-    double acc[LEVELS_MAX][PF_MAX_DIM];
-    int has[LEVELS_MAX];
-    read_accelerations(L, b, 2, dim, acc, has, fname);
+    pf_levels_forces forces;
+    read_accelerations(L, b, 2, dim, &forces, fname);
     double chirp = pfl_field_number(L, 2, "chirp", 0, 0);
     int slices = 1;
     if (pfl_option_get(L, 2, "slices") != LUA_TNIL) {
@@ -468,15 +463,12 @@ static int l_pulse(lua_State *L)
         lua_Integer v = pfl_tointegerx(L, -1, &ok);
         if (!ok || v < 1 || v > 1000000) return luaL_error(L, "pulse: field 'slices' must be an integer 1 .. 1000000");
         slices = (int)v;
-    } else if (has[ia] || has[ib] || chirp != 0) {
+    } else if (forces.has[ia] || forces.has[ib] || chirp != 0) {
         slices = 16; /* default for a force or a chirp during the pulse (docs/internal-states.md) */
     }
     lua_pop(L, 1);
-    pfl_check(L, pf_pulse_two_level_moving(wa, wb, &sh, &li, chirp, has[ia] ? acc[ia] : NULL, has[ib] ? acc[ib] : NULL,
-                                           slices), fname);
-    pfl_note_guards(L, wa);
-    pfl_note_guards(L, wb);
-    fly_others(L, b, ia, ib, sh.duration, acc, has, fname);
+    pfl_check(L, pf_levels_pulse(b, ia, ib, &sh, &li, chirp, &forces, slices), fname);
+    note_levels(L, b);
     lua_settop(L, 1);
     return 1;
 }
@@ -485,7 +477,7 @@ static int l_pulse(lua_State *L)
  *          width, detuning, phase, wavenumber, substeps} -> lv */
 static int l_bragg(lua_State *L)
 {
-    pfl_levels_box *b = check_levels(L, 1);
+    pf_levels *b = check_levels(L, 1);
     pfl_options_check(L, 2, &BRAGG_OPTIONS);
     const char *fname = "bragg";
     int only = -1;
@@ -497,18 +489,9 @@ static int l_bragg(lua_State *L)
     memset(&li, 0, sizeof li);
     li.detuning = pfl_field_number(L, 2, "detuning", 0, 0);
     li.phase = pfl_field_number(L, 2, "phase", 0, 0);
-    pf_wave *w0 = level_wave(L, 1, 0);
-    read_wavenumber(L, 2, pf_grid_dim(pf_wave_grid(w0)), li.kick, fname);
-    for (int i = 0; i < b->count; i++) {
-        if (only >= 0 && i != only) continue;
-        pf_wave *w = level_wave(L, 1, i);
-        pfl_check(L, pf_pulse_bragg(w, &sh, &li), fname);
-        pfl_note_guards(L, w);
-    }
-    /* Levels the pulse skipped keep flying, so the clocks stay together. */
-    if (only >= 0)
-        for (int i = 0; i < b->count; i++)
-            if (i != only) pfl_check(L, pf_wave_fly(level_wave(L, 1, i), sh.duration), fname);
+    read_wavenumber(L, 2, pf_grid_dim(pf_wave_grid(pf_levels_wave(b, 0))), li.kick, fname);
+    pfl_check(L, pf_levels_bragg(b, only, &sh, &li), fname);
+    note_levels(L, b);
     lua_settop(L, 1);
     return 1;
 }
@@ -516,11 +499,13 @@ static int l_bragg(lua_State *L)
 /* lv:populations() -> {label = probability, ...} */
 static int l_populations(lua_State *L)
 {
-    pfl_levels_box *b = check_levels(L, 1);
-    lua_createtable(L, 0, b->count);
-    for (int i = 0; i < b->count; i++) {
-        lua_pushnumber(L, pf_wave_norm(level_wave(L, 1, i)));
-        lua_setfield(L, -2, b->label[i]);
+    pf_levels *b = check_levels(L, 1);
+    double pop[LEVELS_MAX];
+    pfl_check(L, pf_levels_populations(b, pop, NULL), "populations");
+    lua_createtable(L, 0, pf_levels_count(b));
+    for (int i = 0; i < pf_levels_count(b); i++) {
+        lua_pushnumber(L, pop[i]);
+        lua_setfield(L, -2, pf_levels_label(b, i));
     }
     return 1;
 }
@@ -529,13 +514,12 @@ static int l_populations(lua_State *L)
  * -> {label = {[-N] = p, ..., [N] = p}, ...} */
 static int l_order_populations(lua_State *L)
 {
-    pfl_levels_box *b = check_levels(L, 1);
+    pf_levels *b = check_levels(L, 1);
     pfl_options_check(L, 2, &ORDERS_OPTIONS);
-    pf_wave *w0 = level_wave(L, 1, 0);
     double k[PF_MAX_DIM];
     if (pfl_option_get(L, 2, "wavenumber") == LUA_TNIL) return luaL_error(L, "order_populations: field 'wavenumber' (rad/m) is required");
     lua_pop(L, 1);
-    read_wavenumber(L, 2, pf_grid_dim(pf_wave_grid(w0)), k, "order_populations");
+    read_wavenumber(L, 2, pf_grid_dim(pf_wave_grid(pf_levels_wave(b, 0))), k, "order_populations");
     int nmax = 2;
     if (pfl_option_get(L, 2, "orders") != LUA_TNIL) {
         int ok = 0;
@@ -545,29 +529,30 @@ static int l_order_populations(lua_State *L)
     }
     lua_pop(L, 1);
     double center = pfl_field_number(L, 2, "center", 0, 0);
-    double *out = pfl_scratch_doubles(L, (size_t)(2 * nmax + 1));
-    lua_createtable(L, 0, b->count);
-    for (int i = 0; i < b->count; i++) {
-        pfl_check(L, pf_wave_order_populations(level_wave(L, 1, i), k, center, nmax, out), "order_populations");
-        lua_createtable(L, 2 * nmax + 1, 0);
+    const int per = 2 * nmax + 1;
+    double *out = pfl_scratch_doubles(L, (size_t)(per * pf_levels_count(b)));
+    pfl_check(L, pf_levels_order_populations(b, k, center, nmax, out), "order_populations");
+    lua_createtable(L, 0, pf_levels_count(b));
+    for (int i = 0; i < pf_levels_count(b); i++) {
+        lua_createtable(L, per, 0);
         for (int n = -nmax; n <= nmax; n++) {
-            lua_pushnumber(L, out[n + nmax]);
+            lua_pushnumber(L, out[i * per + n + nmax]);
             lua_rawseti(L, -2, n);
         }
-        lua_setfield(L, -2, b->label[i]);
+        lua_setfield(L, -2, pf_levels_label(b, i));
     }
     return 1;
 }
 
 /* lv:sample(n [, {space =, jitter =, seed =, generator =}]) -> events with
- * their level: ev[a] coordinates per axis, ev.level labels per event, count,
- * space, unit.  Born rule over levels and positions (or momenta): each event
- * picks a level with probability equal to its population (one uniform
- * draw), then a point from that level's density (pf_sample.h); serial, so a
- * seed gives the same events for any thread count. */
+ * their level: ev[a] coordinates per axis (lab), ev.level labels per event,
+ * count, space, unit.  Born rule over levels and positions (or momenta)
+ * (pf_levels_sample).  The event buffer is a userdata made before the core
+ * call, and the core releases what it allocates itself, so an allocation
+ * failure anywhere leaks nothing. */
 static int l_sample(lua_State *L)
 {
-    pfl_levels_box *b = check_levels(L, 1);
+    pf_levels *b = check_levels(L, 1);
     lua_Integer n = luaL_checkinteger(L, 2);
     if (n < 0 || n > 100000000) return luaL_argerror(L, 2, "event count must be 0..1e8");
     int opts = pfl_options_opt(L, 3, &SAMPLE_OPTIONS);
@@ -575,53 +560,9 @@ static int l_sample(lua_State *L)
     int jitter = opts ? pfl_field_boolean(L, opts, "jitter", 1) : 1;
     pf_rng local;
     pf_rng *rng = pfl_opt_rng(L, opts, &local);
-    pf_field f[LEVELS_MAX];
-    pf_sampler sm[LEVELS_MAX];
-    double cum[LEVELS_MAX];
-    int ready = 0;
-    const int d = pf_grid_dim(pf_wave_grid(level_wave(L, 1, 0)));
-    double total = 0;
-    /* The event buffer first: it is the last thing here that can raise
-     * before the fields and samplers are released. */
+    const int d = pf_grid_dim(pf_wave_grid(pf_levels_wave(b, 0)));
     double *ev = lua_newuserdatauv(L, (size_t)(n ? n : 1) * (size_t)(d + 1) * sizeof(double), 0);
-    int evbox = lua_gettop(L);
-    pf_status s = PF_OK;
-    /* Fields are read first (each may raise); the samplers after, so a
-     * failure releases exactly what was made. */
-    for (int i = 0; i < b->count; i++) {
-        lua_getiuservalue(L, 1, 1);
-        lua_rawgeti(L, -1, i + 1);
-        pfl_source src;
-        pfl_check_source(L, lua_gettop(L), &src);
-        pfl_source_field(L, &src, rep, &f[i], "sample");
-        lua_pop(L, 3);
-    }
-    for (int i = 0; i < b->count; i++) {
-        double sum = 0;
-        for (size_t j = 0; j < f[i].total; j++) sum += f[i].values[j];
-        double cell = 1;
-        for (int a = 0; a < f[i].dim; a++) cell *= f[i].step[a];
-        total += sum * cell;
-        cum[i] = total;
-    }
-    if (!(total > 0)) s = PF_EINVAL;
-    for (; s == PF_OK && ready < b->count; ready++)
-        if (cum[ready] > (ready ? cum[ready - 1] : 0)) s = pf_sampler_init(&sm[ready], &f[ready]);
-        else sm[ready].cdf = NULL; /* an empty level is never chosen */
-    if (s == PF_OK)
-        for (lua_Integer e = 0; e < n; e++) {
-            double u = pf_rng_uniform(rng) * total;
-            int lvl = 0;
-            while (lvl < b->count - 1 && (u >= cum[lvl] || !sm[lvl].cdf)) lvl++;
-            pf_sampler_draw(&sm[lvl], rng, 1, jitter, ev + (size_t)e * (size_t)(d + 1));
-            ev[(size_t)e * (size_t)(d + 1) + (size_t)d] = lvl;
-        }
-    for (int i = 0; i < ready; i++)
-        if (sm[i].cdf) pf_sampler_free(&sm[i]);
-    for (int i = 0; i < b->count; i++) pf_field_free(&f[i]);
-    if (s == PF_EINVAL && !(total > 0)) return luaL_error(L, "sample: the levels hold no probability");
-    pfl_check(L, s, "sample");
-    (void)evbox;
+    pfl_check(L, pf_levels_sample(b, rep, (size_t)n, jitter, rng, ev), "sample");
     lua_createtable(L, d, 5);
     for (int a = 0; a < d; a++) {
         lua_createtable(L, (int)n, 0);
@@ -633,7 +574,7 @@ static int l_sample(lua_State *L)
     }
     lua_createtable(L, (int)n, 0);
     for (lua_Integer e = 0; e < n; e++) {
-        lua_pushstring(L, b->label[(int)ev[(size_t)e * (size_t)(d + 1) + (size_t)d]]);
+        lua_pushstring(L, pf_levels_label(b, (int)ev[(size_t)e * (size_t)(d + 1) + (size_t)d]));
         lua_rawseti(L, -2, e + 1);
     }
     lua_setfield(L, -2, "level");
@@ -649,7 +590,7 @@ static int l_sample(lua_State *L)
 /* lv:level(label) -> the wave of that level (shared, not a copy) */
 static int l_level(lua_State *L)
 {
-    pfl_levels_box *b = check_levels(L, 1);
+    pf_levels *b = check_levels(L, 1);
     int i = check_label_at(L, b, 2, "level", "label");
     lua_getiuservalue(L, 1, 1);
     lua_rawgeti(L, -1, i + 1);
@@ -659,10 +600,10 @@ static int l_level(lua_State *L)
 /* lv:labels() -> {"F1", "F2", ...} */
 static int l_labels(lua_State *L)
 {
-    pfl_levels_box *b = check_levels(L, 1);
-    lua_createtable(L, b->count, 0);
-    for (int i = 0; i < b->count; i++) {
-        lua_pushstring(L, b->label[i]);
+    pf_levels *b = check_levels(L, 1);
+    lua_createtable(L, pf_levels_count(b), 0);
+    for (int i = 0; i < pf_levels_count(b); i++) {
+        lua_pushstring(L, pf_levels_label(b, i));
         lua_rawseti(L, -2, i + 1);
     }
     return 1;
@@ -671,33 +612,36 @@ static int l_labels(lua_State *L)
 /* lv:energy(label) -> J */
 static int l_energy(lua_State *L)
 {
-    pfl_levels_box *b = check_levels(L, 1);
-    lua_pushnumber(L, b->energy[check_label_at(L, b, 2, "energy", "label")]);
+    pf_levels *b = check_levels(L, 1);
+    lua_pushnumber(L, pf_levels_energy(b, check_label_at(L, b, 2, "energy", "label")));
     return 1;
 }
 
 /* lv:clock() -> s (every level's clock; they move together) */
 static int l_clock(lua_State *L)
 {
-    check_levels(L, 1);
-    lua_pushnumber(L, pf_wave_clock(level_wave(L, 1, 0)));
+    pf_levels *b = check_levels(L, 1);
+    lua_pushnumber(L, pf_wave_clock(pf_levels_wave(b, 0)));
     return 1;
 }
 
 /* lv:norm() -> total probability over the levels */
 static int l_norm(lua_State *L)
 {
-    pfl_levels_box *b = check_levels(L, 1);
-    double s = 0;
-    for (int i = 0; i < b->count; i++) s += pf_wave_norm(level_wave(L, 1, i));
-    lua_pushnumber(L, s);
+    pf_levels *b = check_levels(L, 1);
+    double pop[LEVELS_MAX], total = 0;
+    pfl_check(L, pf_levels_populations(b, pop, &total), "norm");
+    lua_pushnumber(L, total);
     return 1;
 }
 
+/* close, __close and __gc: releases the core view and lets go of the waves;
+ * harmless the second time. */
 static int l_close(lua_State *L)
 {
     pfl_levels_box *b = luaL_checkudata(L, 1, PFL_LEVELS_TYPE);
-    b->count = 0;
+    pf_levels_free(b->lv);
+    b->lv = NULL;
     lua_pushnil(L);
     lua_setiuservalue(L, 1, 1);
     return 0;
@@ -706,19 +650,13 @@ static int l_close(lua_State *L)
 static int l_tostring(lua_State *L)
 {
     pfl_levels_box *b = luaL_checkudata(L, 1, PFL_LEVELS_TYPE);
-    if (b->count == 0) {
+    if (!b->lv) {
         lua_pushstring(L, "levels (closed)");
         return 1;
     }
-    luaL_Buffer B;
-    luaL_buffinit(L, &B);
-    luaL_addstring(&B, "levels {");
-    for (int i = 0; i < b->count; i++) {
-        if (i) luaL_addstring(&B, ", ");
-        luaL_addstring(&B, b->label[i]);
-    }
-    luaL_addstring(&B, "}");
-    luaL_pushresult(&B);
+    char list[LEVELS_MAX * (LABEL_MAX + 2)];
+    pf_levels_label_list(b->lv, list, sizeof list);
+    lua_pushfstring(L, "levels {%s}", list);
     return 1;
 }
 
@@ -737,6 +675,8 @@ void pfl_open_levels(lua_State *L, int mod)
     lua_setfield(L, -2, "__tostring");
     lua_pushcfunction(L, l_close);
     lua_setfield(L, -2, "__close");
+    lua_pushcfunction(L, l_close);
+    lua_setfield(L, -2, "__gc");
     luaL_newlib(L, methods);
     lua_setfield(L, -2, "__index");
     lua_pop(L, 1);

@@ -13,7 +13,7 @@
 
 static const pfl_options_decl MAP_OPTIONS = {
     "pf.picture_map", (const char *const[]){"title", "space", "aspect", "width", "height", "overwrite", "x_range", "y_range",
-                                            "crop", "pixel", "x", "y", "value_name", "value_unit", NULL}};
+                                            "crop", "pixel", "x", "y", "value_name", "value_unit", "value_max", NULL}};
 static const pfl_options_decl LINES_OPTIONS = {
     "pf.picture_lines", (const char *const[]){"title", "x_name", "x_quantity", "y_name", "y_unit", "y_per_x", "log_y",
                                               "legend", "width", "height", "series", "overwrite", NULL}};
@@ -21,7 +21,8 @@ static const pfl_options_decl SERIES_OPTIONS = {
     "pf.picture_lines series[i]", (const char *const[]){"x", "y", "label", "dashed", "points", NULL}};
 static const pfl_options_decl CARPET_OPTIONS = {
     "pf.picture_carpet", (const char *const[]){"duration", "frames", "title", "x_range", "per_frame", "width", "height",
-                                               "overwrite", NULL}};
+                                               "overwrite", "marks", "value_max", NULL}};
+static const pfl_options_decl MARK_OPTIONS = {"pf.picture_carpet marks[i]", (const char *const[]){"at", "label", NULL}};
 
 static int opt_int(lua_State *L, int opts, const char *field, int def)
 {
@@ -66,6 +67,49 @@ static double *axis_table(lua_State *L, const pf_wave *w, int a, pf_rep rep)
         v[j] = rep == PF_POSITION ? pf_grid_x(g, a, j) + fr.position[a]
                                   : pf_grid_k(g, a, pf_grid_fft_index(g, a, j)) + fr.wavenumber[a];
     return v;
+}
+
+/* value_max= (top of the colour scale, in the units the colour bar shows
+ * before any power of ten is folded in: SI); 0 when not given. */
+static double value_max_option(lua_State *L, int opts, const char *fname)
+{
+    if (lua_type(L, opts) != LUA_TTABLE) return 0;
+    int t = pfl_option_get(L, opts, "value_max");
+    lua_pop(L, 1);
+    if (t == LUA_TNIL) return 0;
+    double v = pfl_field_number(L, opts, "value_max", 0, 1);
+    if (!(v > 0) || !isfinite(v)) luaL_error(L, "%s: field 'value_max' must be a positive number, got %f", fname, v);
+    return v;
+}
+
+/* marks = {{at = t (s, from the carpet's start), label = "..."}, ...}: the
+ * marks array, a userdata left on the stack (the caller's stack indices are
+ * absolute); labels stay anchored by the options table. */
+static const pf_mark *marks_option(lua_State *L, int opts, size_t *count)
+{
+    *count = 0;
+    if (lua_type(L, opts) != LUA_TTABLE) return NULL;
+    if (pfl_option_get(L, opts, "marks") == LUA_TNIL) {
+        lua_pop(L, 1);
+        return NULL;
+    }
+    int t = lua_gettop(L);
+    if (lua_type(L, t) != LUA_TTABLE) luaL_error(L, "picture_carpet: field 'marks' must be an array of {at =, label =}");
+    size_t n = (size_t)luaL_len(L, t);
+    if (n > 32) luaL_error(L, "picture_carpet: give at most 32 marks, got %d", (int)n);
+    pf_mark *mk = lua_newuserdatauv(L, (n ? n : 1) * sizeof *mk, 0);
+    for (size_t i = 0; i < n; i++) {
+        if (lua_geti(L, t, (lua_Integer)i + 1) != LUA_TTABLE)
+            luaL_error(L, "picture_carpet: mark %d must be a table {at = time, label = text}", (int)i + 1);
+        int e = lua_gettop(L);
+        pfl_options_check(L, e, &MARK_OPTIONS);
+        mk[i].at = pfl_field_number(L, e, "at", 0, 1);
+        if (!isfinite(mk[i].at)) luaL_error(L, "picture_carpet: mark %d: 'at' must be a finite time (s)", (int)i + 1);
+        mk[i].label = opt_str(L, e, "label", NULL);
+        lua_pop(L, 1);
+    }
+    *count = n;
+    return mk;
 }
 
 static void commit_picture(lua_State *L, pf_status s, const char *path, const char *fname)
@@ -272,7 +316,8 @@ static int l_picture_map(lua_State *L)
     const char *path = pfl_output_resolve(L, luaL_checkstring(L, 1), "picture_map");
     int pathidx = lua_gettop(L);
     pfl_options_opt(L, 3, &MAP_OPTIONS);
-    pf_map m = {.equal_aspect = aspect_option(L, 3), .width = opt_int(L, 3, "width", 0), .height = opt_int(L, 3, "height", 0)};
+    pf_map m = {.equal_aspect = aspect_option(L, 3), .width = opt_int(L, 3, "width", 0), .height = opt_int(L, 3, "height", 0),
+                .value_max = value_max_option(L, 3, "picture_map")};
     int crop = lua_type(L, 3) == LUA_TTABLE ? pfl_field_boolean(L, 3, "crop", -1) : -1;
     pf_wave *w = NULL;
     if (lua_type(L, 2) == LUA_TTABLE) {
@@ -316,6 +361,7 @@ static int l_picture_map(lua_State *L)
         m.values = rho;
         m.value_name = d == 3 ? "column density" : (rep == PF_POSITION ? "|#gq|#u2#d" : "|#gf|#u2#d");
         m.per_x = 1, m.per_y = 1;
+        m.smooth = 1; /* a field, not a pixel image: drawn smooth at the panel's resolution */
         /* A state's map shows where the probability is unless told not to. */
         crop_map(L, 3, &m, crop != 0);
     }
@@ -408,11 +454,14 @@ static int l_picture_lines(lua_State *L)
 }
 
 /* pf.picture_carpet(path, w, {duration=, frames=, title=, x_range={lo, hi},
- *   per_frame=false, width=, height=}) -> final path.  Flies a copy of the
+ *   per_frame=false, value_max=, marks={{at=, label=}, ...}, width=,
+ *   height=}) -> final path.  Flies a copy of the
  * 1D state through `frames` equally spaced times from now to now + duration
  * and maps its density over x and t (the state itself is left as it was).
  * per_frame divides each time's profile by its own maximum, so a spreading
- * cloud stays visible; x_range crops the picture to lo..hi (m). */
+ * cloud stays visible; x_range crops the picture to lo..hi (m); value_max
+ * caps the colour scale (what lies above is clipped, and the colour bar
+ * says so); marks draw labelled lines at times after the start (s). */
 static int l_picture_carpet(lua_State *L)
 {
     const char *path = pfl_output_resolve(L, luaL_checkstring(L, 1), "picture_carpet");
@@ -426,6 +475,9 @@ static int l_picture_carpet(lua_State *L)
     int frames = opt_int(L, 3, "frames", 200);
     if (frames < 2 || frames > 20000) return luaL_error(L, "picture_carpet: field 'frames' must be 2..20000, got %d", frames);
     int per_frame = pfl_field_boolean(L, 3, "per_frame", 0);
+    double vmax_opt = value_max_option(L, 3, "picture_carpet");
+    size_t nmarks;
+    const pf_mark *marks = marks_option(L, 3, &nmarks);
     size_t nx = pf_grid_points(g, 0);
     const double *xs = axis_table(L, w, 0, PF_POSITION);
     size_t i0 = 0, i1 = nx; /* columns shown: i0 .. i1-1 */
@@ -470,6 +522,9 @@ static int l_picture_carpet(lua_State *L)
         .value_name = per_frame ? "|#gq|#u2#d / peak at t" : "|#gq|#u2#d",
         .per_x = !per_frame,
         .width = opt_int(L, 3, "width", 0), .height = opt_int(L, 3, "height", 0),
+        .smooth = 1, .y_at_samples = 1, /* the carpet runs from the start to start + duration */
+        .value_max = vmax_opt,
+        .nmarks = nmarks, .marks = marks,
     };
     commit_picture(L, pf_picture_map(pfl_ctx(L), path, pfl_overwrite_option(L, 3), &m), path, "picture_carpet");
     lua_pushvalue(L, pathidx);
@@ -483,6 +538,7 @@ void pfl_open_pictures(lua_State *L, int mod)
         {NULL, NULL},
     };
     pfl_add_functions(L, mod, funcs);
-    static const pfl_options_decl *const options[] = {&MAP_OPTIONS, &LINES_OPTIONS, &SERIES_OPTIONS, &CARPET_OPTIONS, NULL};
+    static const pfl_options_decl *const options[] = {&MAP_OPTIONS,    &LINES_OPTIONS, &SERIES_OPTIONS,
+                                                      &CARPET_OPTIONS, &MARK_OPTIONS,  NULL};
     pfl_options_declare(L, options);
 }

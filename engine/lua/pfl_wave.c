@@ -29,6 +29,7 @@ pf_wave *pfl_check_wave(lua_State *L, int arg)
     if (!b->w) luaL_argerror(L, arg, "wave function is closed");
     pfl_ctx(L); /* binds this thread to the context for warnings */
     pfl_frame_guard(L, arg, b->w); /* a moved frame only for FRAME_AWARE functions */
+    pfl_dist_guard(L, arg, b->w);  /* a distributed grid only for DIST_AWARE functions */
     return b->w;
 }
 
@@ -37,6 +38,18 @@ void pfl_push_wave(lua_State *L, pf_wave *w)
     pfl_wave_box *b = lua_newuserdatauv(L, sizeof *b, 0);
     b->w = w;
     luaL_setmetatable(L, PFL_WAVE_TYPE);
+}
+
+pf_wave *pfl_wave_peek(lua_State *L, int arg)
+{
+    return check_box(L, arg)->w;
+}
+
+void pfl_wave_adopt(lua_State *L, int arg, pf_wave *w)
+{
+    pfl_wave_box *b = check_box(L, arg);
+    if (b->w) luaL_error(L, "internal error: adopting a wave into an open wave userdata");
+    b->w = w;
 }
 
 void pfl_add_wave_methods(lua_State *L, const luaL_Reg *methods)
