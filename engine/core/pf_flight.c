@@ -56,6 +56,8 @@ static void flight_tables(pf_grid *g, double tau)
     g->flight.valid = 1;
 }
 
+void pf_flight_fill_tables(pf_grid *g, double tau) { flight_tables(g, tau); }
+
 /* row[j] *= q * p[j] for j < n, on interleaved (re, im) doubles.
  *
  * The phase pass is bound by arithmetic, not memory (two complex products
@@ -206,7 +208,7 @@ pf_phase_segment_fn pf_phase_segment_on(pf_vector_path path)
     return phase_segment_plain;
 }
 
-static pf_phase_segment_fn segment_kernel(void) { return pf_phase_segment_on(pf_vector_path_chosen()); }
+pf_phase_segment_fn pf_phase_segment_kernel(void) { return pf_phase_segment_on(pf_vector_path_chosen()); }
 
 /* 1D: data *= scale * P0 by segments; a segment that holds the jump of the
  * FFT order from positive to negative wave numbers, or the short last one,
@@ -219,7 +221,7 @@ static void apply_phase_1d(pf_grid *g, double complex *data, double scale, size_
         phase_row((double *)(data + j0), (const double *)(ft->phase[0] + j0), scale, 0.0, len);
         return;
     }
-    const pf_phase_segment_fn seg = segment_kernel();
+    const pf_phase_segment_fn seg = pf_phase_segment_kernel();
     const size_t n = g->n[0], jump = (n + 1) / 2;
     for (size_t j = j0; j < j0 + len; j += PF_PHASE_SEG) {
         size_t q = j / PF_PHASE_SEG, end = j + PF_PHASE_SEG;
@@ -307,7 +309,12 @@ pf_status pf_wave_fly(pf_wave *w, double t)
     pf_status range = check_phase_range(g, t, w->deferred.active ? w->deferred.tau + tau : tau);
     if (range) return range;
     double norm = pf_wave_last_logged_norm(w); /* carried: a flight keeps it */
-    if (w->deferred.active || can_defer(w)) {
+    if (g->dist) {
+        /* Split over MPI ranks: never deferred, the phase pass runs on the
+         * transposed momentum slab (pf_dist.c). */
+        pf_status s = pf_dist_fly(w, t, tau);
+        if (s) return s;
+    } else if (w->deferred.active || can_defer(w)) {
         if (!w->deferred.active) w->deferred.tau = 0.0;
         w->deferred.active = 1;
         w->deferred.tau += tau; /* flights compose: the phases add */
