@@ -56,6 +56,17 @@ CJSON_LIBS   := $(shell $(PKG_CONFIG) --libs $(CJSON_PC) 2>/dev/null || echo -lc
 MPI_PC    ?= ompi-c
 MPI_LIBS  := $(shell $(PKG_CONFIG) --libs $(MPI_PC) 2>/dev/null)
 MPI_CFLAGS := $(if $(MPI_LIBS),-DPFR_HAVE_MPI $(shell $(PKG_CONFIG) --cflags $(MPI_PC) 2>/dev/null))
+# Distributed grids (engine/core/pf_dist.c, docs/distributed.md): FFTW's MPI
+# layer over the same MPI.  Found when MPI is and <fftw3-mpi.h> compiles with
+# it (Debian: libfftw3-mpi-dev, no pkg-config module); DIST=none turns it
+# off.  Without it pf_dist.c compiles to a single-process stand-in.
+DIST      ?= auto
+FFTW_MPI_LIBS ?= -lfftw3_mpi
+DIST_PROBE := $(shell printf '\043include <mpi.h>\n\043include <fftw3-mpi.h>\n' | \
+  $(CC) -E $(shell $(PKG_CONFIG) --cflags $(MPI_PC) 2>/dev/null) - >/dev/null 2>&1 && echo yes)
+DIST_OK   := $(if $(and $(MPI_LIBS),$(filter-out none,$(DIST))),$(DIST_PROBE))
+DIST_CFLAGS := $(if $(DIST_OK),-DPF_HAVE_DIST $(shell $(PKG_CONFIG) --cflags $(MPI_PC) 2>/dev/null))
+DIST_LIBS   := $(if $(DIST_OK),$(FFTW_MPI_LIBS) $(MPI_LIBS))
 # Output layer (engine/io): HDF5 serial, PLplot, cJSON.  Only engine/io sees
 # their headers; the core library stays free of them.
 PLPLOT_PC ?= plplot
@@ -66,7 +77,7 @@ IO_CFLAGS := $(shell $(PKG_CONFIG) --cflags $(IO_PC) 2>/dev/null)
 IO_LIBS   := $(patsubst -lhdf5,-lhdf5_hl -lhdf5,$(shell $(PKG_CONFIG) --libs $(IO_PC) 2>/dev/null))
 
 ALL_CFLAGS = $(CFLAGS_BASE) $(CFLAGS) $(SAN)
-CORE_LIBS  = $(FFTW_LIBS) -lm -fopenmp $(SAN)
+CORE_LIBS  = $(DIST_LIBS) $(FFTW_LIBS) -lm -fopenmp $(SAN)
 
 CORE_SRC   := $(sort $(wildcard engine/core/*.c))
 IO_SRC     := $(sort $(wildcard engine/io/*.c))
@@ -116,7 +127,7 @@ $(BUILD_ENV): scripts/check-build-env.sh
 
 $(BUILD)/engine/core/%.o: engine/core/%.c $(wildcard engine/core/*.h) | $(BUILD_ENV)
 	@mkdir -p $(dir $@)
-	$(CC) $(ALL_CFLAGS) $(FFTW_CFLAGS) -c $< -o $@
+	$(CC) $(ALL_CFLAGS) $(FFTW_CFLAGS) $(if $(filter engine/core/pf_dist.c,$<),$(DIST_CFLAGS)) -c $< -o $@
 
 $(BUILD)/engine/io/%.o: engine/io/%.c $(wildcard engine/io/*.h engine/core/*.h) | $(BUILD_ENV)
 	@mkdir -p $(dir $@)
@@ -195,7 +206,7 @@ install: all
 	@mkdir -p $(dir $(ANNOTATIONS))
 	@PSIFLIGHT_LENIENT=1 $(ANNOTATE)
 	@$(INSTALL_ENV) ANNOTATIONS='$(ANNOTATIONS)' RUNNER='$(RUNNER)' MODULE='$(MODULE)' CORE_LIB='$(CORE_LIB)' PC_REQUIRES='$(FFTW_PC)' \
-	  PC_LIBS='$(FFTW_OMP_LIBS) -lm -fopenmp' bash scripts/install-files.sh install
+	  PC_LIBS='$(DIST_LIBS) $(FFTW_OMP_LIBS) -lm -fopenmp' bash scripts/install-files.sh install
 
 uninstall:
 	@$(INSTALL_ENV) bash scripts/install-files.sh uninstall

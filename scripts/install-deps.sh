@@ -7,7 +7,8 @@
 # Sets (README.md states what each costs; scripts/measure-deps.sh measures it):
 #   runtime  build and run psiflight: `make`, `make demo`, `make install`
 #   test     the references and tools the test suite compares against
-#   mpi      Open MPI, only for sweeps spread over MPI ranks
+#   mpi      Open MPI and FFTW's MPI layer: sweeps spread over MPI ranks, and
+#            one grid distributed over ranks (docs/distributed.md)
 # `--list SET...` prints the packages of the sets, one per line, and exits.
 # With no set named it installs runtime only.
 set -euo pipefail
@@ -45,10 +46,13 @@ TEST=(
   clang libclang-rt-14-dev libomp-14-dev
 )
 
-# MPI sweeps (psiflight sweep under mpirun).  Without it the runner builds
-# without MPI and sweeps run their points as local worker processes.
+# MPI sweeps (psiflight sweep under mpirun) and distributed grids (FFTW's
+# MPI layer, libfftw3-mpi-dev, built against Open MPI in Debian).  Without
+# them the runner builds without MPI, sweeps run their points as local worker
+# processes and pf.setup{distribute = true} keeps every grid whole.
 MPI=(
   libopenmpi-dev openmpi-bin
+  libfftw3-mpi-dev
 )
 
 packages_of() { # set name -> its packages on stdout

@@ -75,6 +75,7 @@ return {
     -- settings, run, units, species
     ["pf.setup"] = {"opts: options", "", "engine settings: threads, FFTW planning, default acceleration, guards"},
     ["pf.run_info"] = {"", "table", "facts about this run: seed, output_dir, engine_allocations, ..."},
+    ["pf.mpi_info"] = {"", "table", "where this copy of the script runs: rank, ranks, built (FFTW-MPI), distribute"},
     ["pf.check_options"] = {"tbl: table, name: string, keys: string[], level?: integer", "",
       "applies the options checker to a table of your own function (unknown keys are errors with a suggestion)"},
     ["pf.parameters"] = {"spec: table", "table",

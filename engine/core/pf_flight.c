@@ -56,6 +56,8 @@ static void flight_tables(pf_grid *g, double tau)
     g->flight.valid = 1;
 }
 
+void pf_flight_fill_tables(pf_grid *g, double tau) { flight_tables(g, tau); }
+
 /* row[j] *= q * p[j] for j < n, on interleaved (re, im) doubles.
  *
  * The phase pass is bound by arithmetic, not memory (two complex products
@@ -307,7 +309,12 @@ pf_status pf_wave_fly(pf_wave *w, double t)
     pf_status range = check_phase_range(g, t, w->deferred.active ? w->deferred.tau + tau : tau);
     if (range) return range;
     double norm = pf_wave_last_logged_norm(w); /* carried: a flight keeps it */
-    if (w->deferred.active || can_defer(w)) {
+    if (g->dist) {
+        /* Split over MPI ranks: never deferred, the phase pass runs on the
+         * transposed momentum slab (pf_dist.c). */
+        pf_status s = pf_dist_fly(w, t, tau);
+        if (s) return s;
+    } else if (w->deferred.active || can_defer(w)) {
         if (!w->deferred.active) w->deferred.tau = 0.0;
         w->deferred.active = 1;
         w->deferred.tau += tau; /* flights compose: the phases add */

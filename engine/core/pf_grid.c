@@ -3,6 +3,7 @@
 #include <stdlib.h>
 #include <string.h>
 #include "pf_constants.h"
+#include "pf_dist.h"
 #include "pf_internal.h"
 
 /* Largest point count per axis; beyond it the coordinate tables alone would be
@@ -48,6 +49,7 @@ static pf_status validate(pf_context *ctx, int dim, const size_t *points, const 
 static void grid_destroy(pf_grid *g)
 {
     pf_context *ctx = g->ctx;
+    pf_dist_grid_release(g);
     if (g->forward) fftw_destroy_plan(g->forward);
     if (g->backward) fftw_destroy_plan(g->backward);
     pf_fused_release(g);
@@ -101,13 +103,16 @@ pf_status pf_grid_new(pf_context *ctx, int dim, const size_t *points, const doub
     *out = NULL;
     pf_status s = validate(ctx, dim, points, span, origin, &total);
     if (s) return s;
-    /* One wave function plus the planning scratch must fit under the cap. */
-    size_t need = pf_bytes(total, 2 * sizeof(double complex));
+    /* One wave function plus the planning scratch must fit under the cap
+     * (on a distributed grid: this rank's share of them). */
+    size_t held = pf_dist_planned_values(ctx, dim, points, total);
+    size_t need = pf_bytes(held, 2 * sizeof(double complex));
     if (need == 0 || need > ctx->memory_cap - ctx->memory_used)
         return pf_fail(ctx, PF_ELIMIT,
-                       "a grid of %zu points needs about %.1f MiB for one wave function and planning, "
+                       "a grid of %zu points needs about %.1f MiB for one wave function and planning%s, "
                        "over the memory cap of %.1f MiB (%.1f MiB in use); use fewer points or raise the cap",
-                       total, need / 1048576.0, ctx->memory_cap / 1048576.0, ctx->memory_used / 1048576.0);
+                       total, need / 1048576.0, held < total ? " on this MPI rank" : "", ctx->memory_cap / 1048576.0,
+                       ctx->memory_used / 1048576.0);
     pf_grid *g = pf_calloc(ctx, 1, sizeof *g);
     if (!g) return pf_context_status(ctx);
     g->refs = 1;
@@ -123,6 +128,7 @@ pf_status pf_grid_new(pf_context *ctx, int dim, const size_t *points, const doub
     }
     s = fill_tables(g);
     if (!s) s = pf_reduce_reserve(g);
+    if (!s) s = pf_dist_grid_attach(g);
     if (s) {
         grid_destroy(g);
         return s;
@@ -144,6 +150,7 @@ void pf_grid_release(pf_grid *g)
 pf_status pf_grid_plan(pf_grid *g)
 {
     pf_context *ctx = g->ctx;
+    if (g->dist) return pf_dist_refuse(ctx, "a transform over the whole grid in one process");
     if (g->forward && g->plan_threads == ctx->threads) return PF_OK;
     if (g->forward) fftw_destroy_plan(g->forward);
     if (g->backward) fftw_destroy_plan(g->backward);

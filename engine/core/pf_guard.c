@@ -52,6 +52,7 @@ size_t pf_guard_momentum_band_start(size_t n) { return (n + 1) / 2 - pf_guard_ba
 static double band_sum(const pf_wave *w, int a)
 {
     const pf_grid *g = w->grid;
+    if (g->dist) return pf_dist_band_sum(w, a); /* over MPI ranks, in a fixed block order */
     size_t outer = 1, inner = 1;
     for (int i = 0; i < a; i++) outer *= g->n[i];
     for (int i = a + 1; i < g->dim; i++) inner *= g->n[i];
@@ -117,7 +118,14 @@ static pf_status marginals(const pf_wave *w, double **marg)
         }
     }
     size_t idx[PF_MAX_DIM] = {0, 0, 0};
-    for (size_t off = 0; off < g->total; off++) {
+    if (g->dist) {
+        pf_status s = pf_dist_marginals(w, marg);
+        if (s) {
+            for (int a = 0; a < g->dim; a++) pf_context_free(g->ctx, marg[a]);
+            return s;
+        }
+    }
+    for (size_t off = 0; !g->dist && off < g->total; off++) {
         double complex v = w->store[off];
         double rho = creal(v) * creal(v) + cimag(v) * cimag(v);
         for (int a = 0; a < g->dim; a++) marg[a][idx[a]] += rho;

@@ -36,6 +36,7 @@ struct pf_context {
     void *stop_user;
     pf_progress_fn progress;  /* told how long loops advance (pf_context_progress) */
     void *progress_user;
+    int distribute;           /* split 2D/3D grids over MPI ranks (pf_dist.h) */
 };
 
 /* 1D phase segments (pf_flight.c): the phase of point s of a segment that
@@ -109,6 +110,9 @@ struct pf_grid {
         size_t len;
         fftw_plan bwd, fwd;
     } beyond[PF_MAX_DIM];
+    /* Slab layout and FFTW-MPI plans when the samples are split over MPI
+     * ranks (pf_dist.c); NULL for a grid held whole. */
+    struct pf_dist_grid *dist;
 };
 
 /* Grid-guard bookkeeping of one wave function (pf_guard.c).  Index r is the
@@ -305,6 +309,34 @@ static inline void pf_index_next(const pf_grid *g, size_t *idx)
         idx[a] = 0;
     }
 }
+
+/* Distributed grids (pf_dist.c, pf_dist.h): the hooks the shared core
+ * functions call when g->dist is set.  attach makes the slab layout and the
+ * FFTW-MPI plans (collective) when the context asks for it and MPI runs;
+ * local_values is the sample count one rank stores; wave_to transforms
+ * between the slab and the transposed slab (S = DFT / N as on one process);
+ * fly is the exact flight with the phase pass on the transposed layout;
+ * fill samples a function at this rank's points; reduce is
+ * pf_reduce_blocks over the global array in global block order (begin/end
+ * are local offsets, idx the global multi-index of begin in the layout of
+ * rep: (i0, i1, i2) in position, (i1, i0, i2) in momentum); axis_moments is
+ * pf_reduce_axis_moments of the wave in its representation; band_sum and
+ * marginals serve the grid guards (pf_guard.c). */
+pf_status pf_dist_grid_attach(pf_grid *g);
+/* Samples one rank will hold of a grid about to be made (total when it
+ * will not be distributed), for the memory cap check before making it. */
+size_t pf_dist_planned_values(const pf_context *ctx, int dim, const size_t *points, size_t total);
+void pf_dist_grid_release(pf_grid *g);
+size_t pf_dist_local_values(const pf_grid *g);
+pf_status pf_dist_wave_to(pf_wave *w, pf_rep rep);
+pf_status pf_dist_fly(pf_wave *w, double t, double tau);
+pf_status pf_dist_fill(pf_wave *w, pf_rep rep, pf_sample_fn fn, void *user);
+void pf_dist_reduce(pf_grid *g, pf_rep layout, int width, pf_reduce_block_fn block, void *user, double *sums);
+pf_status pf_dist_axis_moments(pf_wave *w, const double *const *weights, double *sums);
+double pf_dist_band_sum(const pf_wave *w, int a);
+pf_status pf_dist_marginals(const pf_wave *w, double **marg);
+/* The flight phase tables of g for tau (pf_flight.c). */
+void pf_flight_fill_tables(pf_grid *g, double tau);
 
 #define PF_OMP_THREADS(ctx) ((ctx)->threads)
 

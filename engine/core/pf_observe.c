@@ -11,7 +11,7 @@ double pf_wave_norm(pf_wave *w)
     double sums[1 + 2 * PF_MAX_DIM];
     /* A deferred flight is not carried out for this: free flight keeps the
      * norm, so the stored (pre-flight) data give it. */
-    if (pf_reduce_axis_moments(g, w->store, NULL, sums) != PF_OK) return NAN;
+    if (pf_dist_axis_moments(w, NULL, sums) != PF_OK) return NAN;
     double v = pf_grid_cell_volume(g);
     /* Parseval for S = DFT/N: sum |psi|^2 = N sum |S|^2. */
     if (w->rep == PF_MOMENTUM) v *= (double)g->total;
@@ -26,7 +26,7 @@ static pf_status axis_moments(pf_wave *w, const double *const *coords, double *m
     pf_grid *g = w->grid;
     const int d = g->dim;
     double sums[1 + 2 * PF_MAX_DIM];
-    pf_status s = pf_reduce_axis_moments(g, w->store, coords, sums);
+    pf_status s = pf_dist_axis_moments(w, coords, sums);
     if (s) return s;
     if (!(sums[0] > 0)) return pf_fail(g->ctx, PF_EINVAL, "moments of a zero state are undefined");
     double m[PF_MAX_DIM];
@@ -43,7 +43,7 @@ static pf_status axis_moments(pf_wave *w, const double *const *coords, double *m
         }
         for (size_t j = 0; j < g->n[a]; j++) shifted[a][j] = coords[a][j] - m[a];
     }
-    s = pf_reduce_axis_moments(g, w->store, (const double *const *)shifted, sums);
+    s = pf_dist_axis_moments(w, (const double *const *)shifted, sums);
     for (int a = 0; a < d; a++) pf_context_free(g->ctx, shifted[a]);
     if (s) return s;
     for (int a = 0; a < d; a++) var[a] = sums[1 + d + a] / sums[0];
@@ -78,7 +78,7 @@ pf_status pf_wave_kinetic_energy(pf_wave *w, double *energy)
     const double *coords[PF_MAX_DIM];
     for (int a = 0; a < g->dim; a++) coords[a] = g->k[a];
     double sums[1 + 2 * PF_MAX_DIM];
-    s = pf_reduce_axis_moments(g, w->store, coords, sums);
+    s = pf_dist_axis_moments(w, coords, sums);
     if (s) return s;
     if (!(sums[0] > 0)) return pf_fail(g->ctx, PF_EINVAL, "kinetic energy of a zero state is undefined");
     double k2 = 0;

@@ -19,6 +19,11 @@ pf_status pf_reduce_reserve(pf_grid *g)
 
 void pf_reduce_blocks(pf_grid *g, int width, pf_reduce_block_fn block, void *user, double *sums)
 {
+    /* A distributed grid: the same blocks, over the ranks (position layout). */
+    if (g->dist) {
+        pf_dist_reduce(g, PF_POSITION, width, block, user, sums);
+        return;
+    }
     const int d = g->dim;
     const size_t nblocks = (g->total + PF_REDUCE_BLOCK - 1) / PF_REDUCE_BLOCK;
     /* Every block writes its whole partial below, so the grid's reserved

@@ -4,11 +4,13 @@
 #include <stdlib.h>
 #include <string.h>
 #include "pf_constants.h"
+#include "pf_dist.h"
 #include "pf_guard.h"
 #include "pf_internal.h"
 #include "pf_observe.h"
 
-static size_t data_bytes(const pf_grid *g) { return pf_bytes(g->total, sizeof(double complex)); }
+/* A distributed grid's waves hold this rank's slab only (pf_dist.h). */
+static size_t data_bytes(const pf_grid *g) { return pf_grid_local_bytes(g); }
 
 pf_status pf_wave_new(pf_grid *g, double mass, pf_wave **out)
 {
@@ -86,10 +88,23 @@ double complex *pf_wave_data(pf_wave *w)
  * writable underneath). */
 const double complex *pf_wave_data_const(const pf_wave *w) { return pf_wave_settled((pf_wave *)w); }
 
-double complex *pf_wave_settled(pf_wave *w) { return pf_wave_settle(w) == PF_OK ? w->store : NULL; }
+/* Raw samples for kernels written for a whole grid: a distributed wave's
+ * slab is not that, so such kernels fail cleanly (pf_dist.h). */
+double complex *pf_wave_settled(pf_wave *w)
+{
+    if (w->grid->dist) {
+        pf_dist_refuse(w->grid->ctx, "this operation");
+        return NULL;
+    }
+    return pf_wave_settle(w) == PF_OK ? w->store : NULL;
+}
 
 double complex *pf_wave_overwrite(pf_wave *w)
 {
+    if (w->grid->dist) {
+        pf_dist_refuse(w->grid->ctx, "this builder");
+        return NULL;
+    }
     w->deferred.active = 0;
     return w->store;
 }
@@ -104,6 +119,7 @@ double complex pf_wave_momentum_factor(const pf_wave *w, const size_t *index)
 
 pf_status pf_wave_to(pf_wave *w, pf_rep rep)
 {
+    if (w->grid->dist) return pf_dist_wave_to(w, rep);
     if (w->deferred.active) return pf_wave_settle_to(w, rep);
     if (w->rep == rep) return PF_OK;
     pf_grid *g = w->grid;
@@ -167,6 +183,7 @@ pf_status pf_grid_sample(const pf_grid *g, pf_rep rep, pf_sample_fn fn, void *us
 pf_status pf_wave_fill(pf_wave *w, pf_rep rep, pf_sample_fn fn, void *user)
 {
     const pf_grid *g = w->grid;
+    if (g->dist) return pf_dist_fill(w, rep, fn, user);
     /* phi(k) values become storage values S = phi / prod c_a (pf_wave.h). */
     pf_status s = pf_grid_sample(g, rep, fn, user, rep == PF_MOMENTUM ? (const double complex *const *)g->kfactor : NULL,
                                  w->store);
@@ -178,6 +195,7 @@ pf_status pf_wave_fill(pf_wave *w, pf_rep rep, pf_sample_fn fn, void *user)
 
 pf_status pf_wave_value(pf_wave *w, pf_rep rep, const size_t *index, double complex *out)
 {
+    if (w->grid->dist) return pf_dist_refuse(w->grid->ctx, "reading one sample");
     pf_status s = check_index(w->grid, index);
     if (s) return s;
     s = pf_wave_to(w, rep);
@@ -190,6 +208,7 @@ pf_status pf_wave_value(pf_wave *w, pf_rep rep, const size_t *index, double comp
 
 pf_status pf_wave_set_value(pf_wave *w, pf_rep rep, const size_t *index, double complex v)
 {
+    if (w->grid->dist) return pf_dist_refuse(w->grid->ctx, "setting one sample");
     pf_status s = check_index(w->grid, index);
     if (s) return s;
     if (!isfinite(creal(v)) || !isfinite(cimag(v)))
@@ -206,6 +225,7 @@ pf_status pf_wave_set_value(pf_wave *w, pf_rep rep, const size_t *index, double 
 pf_status pf_wave_density(pf_wave *w, pf_rep rep, double *out)
 {
     pf_grid *g = w->grid;
+    if (g->dist) return pf_dist_refuse(g->ctx, "a density table of the whole grid");
     pf_status s = pf_wave_to(w, rep);
     if (s) return s;
     if (rep == PF_POSITION) {
@@ -238,7 +258,7 @@ pf_status pf_wave_scale(pf_wave *w, double complex a)
         return pf_fail(w->grid->ctx, PF_EINVAL, "scale factor must be finite, got %g%+gi", creal(a), cimag(a));
     /* A constant factor commutes with a deferred flight: no need to settle. */
     double complex *d = w->store;
-    ptrdiff_t n = (ptrdiff_t)w->grid->total;
+    ptrdiff_t n = (ptrdiff_t)pf_dist_local_values(w->grid); /* this rank's slab when distributed */
 #pragma omp parallel for num_threads(w->grid->ctx->threads) schedule(static)
     for (ptrdiff_t i = 0; i < n; i++) d[i] *= a;
     if (w->norm_now >= 0) w->norm_now *= creal(a) * creal(a) + cimag(a) * cimag(a);

@@ -390,6 +390,11 @@ static int write_wave_attrs(pf_h5 *f, hid_t g, const char *item, const pf_wave *
         origin[a] = pf_grid_origin(grid, a);
         dx[a] = pf_grid_spacing(grid, a);
     }
+    /* The axes are lab axes (write_axes), so the grid's origin is given in
+     * the lab too: a reader that rebuilds the grid puts it where the cloud is. */
+    pf_frame fr;
+    pf_wave_frame(w, &fr);
+    for (int a = 0; a < d; a++) origin[a] += fr.position[a];
     const pf_steplog *log = pf_wave_steplog(w);
     size_t cap = 128 + 256 * (log->count + 1);
     char *text = malloc(cap);
@@ -538,11 +543,81 @@ pf_status pf_h5_set_provenance(pf_h5 *f, const pf_h5_provenance *p)
     return PF_OK;
 }
 
+static pf_status put_wave_values(pf_h5 *f, const char *name, pf_wave *w, int parts);
+
+/* A wave in a moved frame is written as the lab wave function: a copy with
+ * the frame's momentum folded onto the grid (refused, with the fold's
+ * message, when it does not fit: the lab values would alias on the grid)
+ * and the phase theta multiplied in, so psi on the lab axes is psi_lab.  Its
+ * spectrum is then phi_lab(k) exp(i k.X) (phi_lab_factors undoes that). */
+static pf_status lab_copy(pf_wave *w, pf_wave **out)
+{
+    pf_frame fr;
+    pf_wave_frame(w, &fr);
+    pf_wave *c;
+    pf_status s = pf_wave_copy(w, &c);
+    if (!s) s = pf_wave_frame_fold(c, "writing the lab wave function");
+    if (!s) s = pf_wave_scale(c, cexp(I * fr.phase));
+    if (s) {
+        pf_wave_free(c);
+        return s;
+    }
+    fr.phase = 0.0;
+    for (int a = 0; a < PF_MAX_DIM; a++) fr.wavenumber[a] = 0.0;
+    pf_wave_set_frame(c, &fr);
+    *out = c;
+    return PF_OK;
+}
+
+/* phi (ascending k) of a lab copy times exp(-i k.X): the lab spectrum. */
+static int phi_lab_factors(const pf_wave *w, double complex *phi)
+{
+    pf_frame fr;
+    pf_wave_frame(w, &fr);
+    const pf_grid *g = pf_wave_grid(w);
+    int d = pf_grid_dim(g);
+    size_t n[3] = {1, 1, 1};
+    double complex *t[3] = {NULL, NULL, NULL};
+    int bad = 0;
+    for (int a = 0; a < d; a++) {
+        n[a] = pf_grid_points(g, a);
+        t[a] = malloc(n[a] * sizeof *t[a]);
+        if (!t[a]) {
+            bad = 1;
+            break;
+        }
+        for (size_t j = 0; j < n[a]; j++)
+            t[a][j] = cexp(-I * pf_grid_k(g, a, pf_grid_fft_index(g, a, j)) * fr.position[a]);
+    }
+    for (size_t i0 = 0; !bad && i0 < n[0]; i0++)
+        for (size_t i1 = 0; i1 < n[1]; i1++)
+            for (size_t i2 = 0; i2 < n[2]; i2++) {
+                double complex z = t[0][i0];
+                if (d > 1) z *= t[1][i1];
+                if (d > 2) z *= t[2][i2];
+                phi[(i0 * n[1] + i1) * n[2] + i2] *= z;
+            }
+    for (int a = 0; a < 3; a++) free(t[a]);
+    return bad ? -1 : 0;
+}
+
 pf_status pf_h5_put_wave(pf_h5 *f, const char *name, pf_wave *w, int parts)
 {
     pf_status s = check_name(f, name);
     if (s) return s;
     if (!(parts & (PF_H5_PSI | PF_H5_PHI))) return pf_fail(f->ctx, PF_EINVAL, "nothing to store: choose psi and/or phi");
+    if (pf_wave_frame_moved(w)) {
+        pf_wave *lab;
+        if ((s = lab_copy(w, &lab))) return s;
+        s = put_wave_values(f, name, lab, parts);
+        pf_wave_free(lab);
+        return s;
+    }
+    return put_wave_values(f, name, w, parts);
+}
+
+static pf_status put_wave_values(pf_h5 *f, const char *name, pf_wave *w, int parts)
+{
     pf_grid *grid = pf_wave_grid(w);
     int d = pf_grid_dim(grid);
     size_t total = pf_grid_total(grid);
@@ -562,6 +637,10 @@ pf_status pf_h5_put_wave(pf_h5 *f, const char *name, pf_wave *w, int parts)
     }
     if (!bad && (parts & PF_H5_PHI)) {
         double complex *phi = phi_ascending(w);
+        if (phi && pf_wave_frame_moved(w) && phi_lab_factors(w, phi)) {
+            free(phi);
+            phi = NULL;
+        }
         bad = !phi || write_amplitude(f, g, "phi", phi, d, dims, total, PF_MOMENTUM) ||
               write_axes(f, g, grid, PF_MOMENTUM, w) || attach_amplitude(g, "phi", d, PF_MOMENTUM);
         free(phi);

@@ -255,6 +255,14 @@ void pfl_open_lab(lua_State *L, int mod);     /* pf.coupling, pf.beam: lab quant
 void pfl_open_expand(lua_State *L, int mod);  /* w:expand: mean-field expansion on a growing grid */
 void pfl_open_levels(lua_State *L, int mod);  /* issue 15: pf.levels, internal states and pulses */
 void pfl_open_frame(lua_State *L, int mod);   /* issue 14: moving frames */
+void pfl_open_dist(lua_State *L, int mod);    /* issue 17: grids over MPI ranks */
+/* Pushes the script name of the running C function ("wave:fly"), or nil. */
+void pfl_push_running_name(lua_State *L);
+/* Raises an argument error at arg when w (or g) is distributed over MPI
+ * ranks and the running function is not DIST_AWARE (pfl_dist.c);
+ * pfl_check_wave and pfl_check_grid call them. */
+void pfl_dist_guard(lua_State *L, int arg, const pf_wave *w);
+void pfl_dist_grid_guard(lua_State *L, int arg, const pf_grid *g);
 void pfl_open_interp(lua_State *L, int mod);  /* w:psi_at, w:density_at: values between grid points */
 
 #endif

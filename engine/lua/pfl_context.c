@@ -8,6 +8,7 @@
 #include <string.h>
 #include <time.h>
 #include <fftw3.h>
+#include "../core/pf_dist.h"
 #include "../core/pf_guard.h"
 #include "../core/pf_version.h"
 #include "../io/pf_progress.h"
@@ -227,7 +228,7 @@ unsigned long pfl_warning_count(lua_State *L) { return get_state(L)->warnings; }
 
 static const pfl_options_decl SETUP_OPTIONS = {
     "pf.setup", (const char *const[]){"threads", "planning", "wisdom", "memory_cap", "strict", "seed", "output_dir",
-                                      "guard_threshold", "acceleration", NULL}};
+                                      "guard_threshold", "acceleration", "distribute", NULL}};
 
 /* Every pf.setup field as read once from the table: checked and applied from
  * these same values, so nothing can answer differently the second time. */
@@ -240,6 +241,7 @@ typedef struct setup_values {
     int strict;
     const char *dir;
     int has_accel, naccel; /* default flight acceleration (pfl_frame.c) */
+    int has_distribute, distribute; /* split 2D/3D grids over MPI ranks (pf_dist.h) */
     double accel[PF_MAX_DIM];
 } setup_values;
 
@@ -308,6 +310,11 @@ static void read_setup(lua_State *L, setup_values *v)
             setup_type_error(L, "guard_threshold", "a positive probability (math.huge switches guard warnings off)");
     }
     lua_pop(L, 1);
+    if ((v->has_distribute = pfl_option_get(L, 1, "distribute") != LUA_TNIL)) {
+        if (lua_type(L, -1) != LUA_TBOOLEAN) setup_type_error(L, "distribute", "true or false");
+        v->distribute = lua_toboolean(L, -1);
+    }
+    lua_pop(L, 1);
     v->has_accel = pfl_frame_setup_read(L, 1, v->accel, &v->naccel);
 }
 
@@ -342,6 +349,7 @@ static int l_setup(lua_State *L)
     if (v.has_strict) st->strict = v.strict;
     if (v.has_seed) st->seed = (unsigned long long)v.seed;
     if (v.has_accel) pfl_frame_setup_apply(L, v.accel, v.naccel);
+    if (v.has_distribute) pf_context_set_distribute(ctx, v.distribute);
     if (dir) {
         free(st->output_dir);
         st->output_dir = dir;

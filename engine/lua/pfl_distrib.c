@@ -391,9 +391,9 @@ static int l_fringes(lua_State *L)
     int d = pf_grid_dim(g);
     int axis = pfl_opt_axis(L, opts, "axis", d, 1) - 1;
     double lo = pf_grid_x(g, axis, 0), hi = pf_grid_x(g, axis, pf_grid_points(g, axis) - 1), guess = 0;
-    if (!src.is_ensemble) { /* the default range is the grid's, in lab positions (pf_frame.h) */
+    { /* the default range is the grid's, in lab positions (the members' shared frame, pf_frame.h) */
         pf_frame fr;
-        pf_wave_frame(src.single, &fr);
+        pfl_source_frame(L, &src, &fr, "fringes");
         lo += fr.position[axis];
         hi += fr.position[axis];
     }

@@ -6,6 +6,7 @@
  * tables held as user values, so Lua's collector owns the members and an
  * error in the middle of a call never leaks them. */
 #include <math.h>
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 #include "../core/pf_build.h"
@@ -108,22 +109,36 @@ void pfl_check_source(lua_State *L, int arg, pfl_source *src)
 pf_grid *pfl_source_grid(const pfl_source *src) { return pf_wave_grid(src->mix.members[0]); }
 double pfl_source_mass(const pfl_source *src) { return pf_wave_mass(src->mix.members[0]); }
 
-/* The field's axes are lab axes: for a single wave in a moved frame
- * (pf_frame.h) the grid's positions are shifted by the frame's offset X and
+void pfl_source_frame(lua_State *L, const pfl_source *src, pf_frame *out, const char *name)
+{
+    pf_wave_frame(src->mix.members[0], out);
+    int d = pf_grid_dim(pfl_source_grid(src));
+    for (size_t i = 1; i < src->mix.count; i++) {
+        pf_frame f;
+        pf_wave_frame(src->mix.members[i], &f);
+        for (int a = 0; a < d; a++) {
+            if (f.position[a] == out->position[a] && f.wavenumber[a] == out->wavenumber[a]) continue;
+            char msg[400];
+            snprintf(msg, sizeof msg,
+                     "%s: member %d of the ensemble sits in another frame than member 1 (axis %d: offset %g m, %g "
+                     "rad/m against %g m, %g rad/m); the members of an ensemble must share one frame (fly them "
+                     "together, docs/frames.md)",
+                     name, (int)i + 1, a + 1, f.position[a], f.wavenumber[a], out->position[a], out->wavenumber[a]);
+            luaL_error(L, "%s", msg);
+        }
+    }
+}
+
+/* The field's axes are lab axes: the members share one frame
+ * (pfl_source_frame; the phases theta may differ, an incoherent sum does not
+ * see them), so the grid's positions are shifted by the frame's offset X and
  * its wave numbers by K, since |psi_lab(x)|^2 = |chi(x - X)|^2 and
- * |phi_lab(k)|^2 = |chi~(k - K)|^2.  Ensembles with a moved member are
- * refused (their members could each sit in another frame). */
+ * |phi_lab(k)|^2 = |chi~(k - K)|^2. */
 void pfl_source_field(lua_State *L, const pfl_source *src, pf_rep rep, pf_field *f, const char *name)
 {
-    if (src->is_ensemble)
-        for (size_t i = 0; i < src->mix.count; i++)
-            if (pf_wave_frame_moved(src->mix.members[i]))
-                luaL_error(L, "%s: member %d of the ensemble is in a moving frame; ensembles are supported only "
-                              "in the grid frame (docs/frames.md)", name, (int)i + 1);
-    pfl_check(L, pf_mixture_field(&src->mix, rep, f), name);
-    if (src->is_ensemble || !pf_wave_frame_moved(src->single)) return;
     pf_frame fr;
-    pf_wave_frame(src->single, &fr);
+    pfl_source_frame(L, src, &fr, name);
+    pfl_check(L, pf_mixture_field(&src->mix, rep, f), name);
     for (int a = 0; a < f->dim; a++) f->first[a] += rep == PF_POSITION ? fr.position[a] : fr.wavenumber[a];
 }
 
@@ -515,7 +530,7 @@ static int l_kinetic_energy(lua_State *L)
     double e = 0, wsum = 0;
     for (size_t i = 0; i < src.mix.count; i++) {
         double ei;
-        pfl_check(L, pf_wave_kinetic_energy(src.mix.members[i], &ei), "kinetic_energy");
+        pfl_check(L, pf_wave_lab_kinetic_energy(src.mix.members[i], &ei), "kinetic_energy");
         e += src.mix.weights[i] * ei;
         wsum += src.mix.weights[i];
     }
@@ -614,6 +629,7 @@ void pfl_open_ensemble(lua_State *L, int mod)
     luaL_newlib(L, methods);
     lua_setfield(L, -2, "methods");
     lua_pop(L, 1);
+    pfl_frame_name_functions(L, "ensemble:", methods); /* for the FRAME_AWARE list */
     pfl_add_functions(L, mod, funcs);
     static const pfl_options_decl *const options[] = {&THERMAL_OPTIONS, NULL};
     pfl_options_declare(L, options);

@@ -173,11 +173,17 @@ static int l_wigner(lua_State *L)
     int d = pf_grid_dim(g);
     int axis = pfl_opt_axis(L, opts, "axis", d, 1) - 1;
     int reduced = opts ? pfl_field_boolean(L, opts, "reduced", 0) : 0;
+    /* A moved frame shifts the Wigner function: W_lab(x, k) = W_chi(x - X,
+     * k - K) (the phase theta drops out of psi psi*), so 'through' is read
+     * in lab positions and the axes are returned in lab values. */
+    pf_frame fr;
+    pfl_source_frame(L, &src, &fr, "wigner");
     double through[PF_MAX_DIM] = {0, 0, 0};
+    for (int a = 0; a < d; a++) through[a] = fr.position[a];
     if (opts) pfl_field_vector(L, opts, "through", d, through, 0);
     size_t idx[PF_MAX_DIM] = {0, 0, 0};
     for (int a = 0; a < d; a++) {
-        double j = nearbyint((through[a] - pf_grid_x(g, a, 0)) / pf_grid_spacing(g, a));
+        double j = nearbyint((through[a] - fr.position[a] - pf_grid_x(g, a, 0)) / pf_grid_spacing(g, a));
         if (j < 0) j = 0;
         if (j > (double)pf_grid_points(g, a) - 1) j = (double)pf_grid_points(g, a) - 1;
         idx[a] = (size_t)j;
@@ -200,10 +206,10 @@ static int l_wigner(lua_State *L)
     lua_rawseti(L, -2, 2);
     lua_setfield(L, -2, "shape");
     double *ax = W; /* reuse the buffer for the axes */
-    for (size_t j = 0; j < n; j++) ax[j] = pf_grid_x(g, axis, j);
+    for (size_t j = 0; j < n; j++) ax[j] = pf_grid_x(g, axis, j) + fr.position[axis];
     pfl_push_doubles(L, ax, n);
     lua_setfield(L, -2, "x");
-    for (size_t j = 0; j < n; j++) ax[j] = pf_grid_k(g, axis, pf_grid_fft_index(g, axis, j));
+    for (size_t j = 0; j < n; j++) ax[j] = pf_grid_k(g, axis, pf_grid_fft_index(g, axis, j)) + fr.wavenumber[axis];
     pfl_push_doubles(L, ax, n);
     lua_setfield(L, -2, "k");
     for (size_t j = 0; j < n; j++) ax[j] *= PF_HBAR;

@@ -19,14 +19,31 @@
 
 /* Functions that report or act on lab quantities for a wave with a moved
  * frame, by their script names ("wave:NAME" for methods, "pf.NAME" for
- * module functions, "h5file:NAME" for file methods).  Every function that reads a wave through
+ * module functions, "h5file:NAME" for file methods, "ensemble:NAME" for an
+ * ensemble's own methods).  Every function that reads a wave through
  * pfl_check_wave and is not listed here refuses a moved wave.
  * Keep the list sorted; tests/lua/test_frame.lua checks that every entry
  * names an existing function and that an unlisted one refuses. */
 static const char *const FRAME_AWARE[] = {
     "camera:absorb",
     "camera:expose",
+    "ensemble:copy",
+    "ensemble:each",
+    "ensemble:kinetic_energy",
+    "ensemble:member",
+    "ensemble:momentum_mean",
+    "ensemble:momentum_variance",
+    "ensemble:momentum_width",
+    "ensemble:norm",
+    "ensemble:position_mean",
+    "ensemble:position_variance",
+    "ensemble:position_width",
+    "ensemble:velocity_mean",
+    "ensemble:wavenumber_mean",
+    "ensemble:wavenumber_width",
     "h5file:put_density",
+    "h5file:put_wave",
+    "pf.mixture",
     "pf.picture_map",
     "pf.potential",
     "wave:aperture",
@@ -52,18 +69,21 @@ static const char *const FRAME_AWARE[] = {
     "wave:fringes",
     "wave:grating",
     "wave:grid",
+    "wave:guard",
     "wave:imprint",
     "wave:k_axis",
     "wave:kick",
     "wave:kinetic_energy",
     "wave:lens",
     "wave:log",
+    "wave:log_columns",
     "wave:log_text",
     "wave:marginal",
     "wave:mark_periodic",
     "wave:mask",
     "wave:mask_grating",
     "wave:mass",
+    "wave:momentum_covariance",
     "wave:momentum_density",
     "wave:momentum_mask",
     "wave:momentum_mean",
@@ -72,6 +92,7 @@ static const char *const FRAME_AWARE[] = {
     "wave:norm",
     "wave:normalize",
     "wave:phi",
+    "wave:position_covariance",
     "wave:position_mean",
     "wave:position_momentum_covariance",
     "wave:position_variance",
@@ -94,6 +115,7 @@ static const char *const FRAME_AWARE[] = {
     "wave:velocity_mean",
     "wave:wavenumber_mean",
     "wave:wavenumber_width",
+    "wave:wigner",
     "wave:x_axis",
     NULL,
 };
@@ -129,8 +151,9 @@ int pfl_frame_aware_name(const char *name)
     return 0;
 }
 
-/* Pushes the script name of the running C function, or nil when unknown. */
-static void push_running_name(lua_State *L)
+/* Pushes the script name of the running C function, or nil when unknown
+ * (also for the distributed-grid guard, pfl_dist.c). */
+void pfl_push_running_name(lua_State *L)
 {
     lua_Debug ar;
     if (!lua_getstack(L, 0, &ar) || !lua_getinfo(L, "f", &ar)) {
@@ -146,7 +169,7 @@ static void push_running_name(lua_State *L)
 void pfl_frame_guard(lua_State *L, int arg, const pf_wave *w)
 {
     if (!pf_wave_frame_moved(w)) return;
-    push_running_name(L);
+    pfl_push_running_name(L);
     const char *name = lua_tostring(L, -1);
     if (name && pfl_frame_aware_name(name)) {
         lua_pop(L, 1);

@@ -8,6 +8,7 @@
 #include "../core/pf_ensemble.h"
 #include "../core/pf_measure.h"
 #include "../core/pf_random.h"
+#include "../core/pf_frame.h"
 #include "pfl.h"
 
 #define PFL_ENSEMBLE_TYPE "psiflight.ensemble"
@@ -57,6 +58,9 @@ double *pfl_check_doubles(lua_State *L, int idx, size_t *n, const char *what);
 /* 1-based axis field of an options table, default def (1-based); one
  * implementation with pfl_field_axis, in pfl_args.c. */
 int pfl_opt_axis(lua_State *L, int opts, const char *field, int dim, int def);
+/* The frame the source's members share (position, wave number; the phase of
+ * member 1), with a Lua error naming the first member in another frame. */
+void pfl_source_frame(lua_State *L, const pfl_source *src, pf_frame *out, const char *name);
 /* Mixture field of a source, with a Lua error on failure (pf_field must be
  * released with pf_field_free; on error nothing is leaked). */
 void pfl_source_field(lua_State *L, const pfl_source *src, pf_rep rep, pf_field *f, const char *name);

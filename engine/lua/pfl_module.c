@@ -37,6 +37,7 @@ static const pfl_opener openers[] = {
     pfl_open_expand,
     pfl_open_levels,
     pfl_open_frame,
+    pfl_open_dist,
     pfl_open_interp,
 };
 

@@ -29,6 +29,7 @@ pf_wave *pfl_check_wave(lua_State *L, int arg)
     if (!b->w) luaL_argerror(L, arg, "wave function is closed");
     pfl_ctx(L); /* binds this thread to the context for warnings */
     pfl_frame_guard(L, arg, b->w); /* a moved frame only for FRAME_AWARE functions */
+    pfl_dist_guard(L, arg, b->w);  /* a distributed grid only for DIST_AWARE functions */
     return b->w;
 }
 

@@ -48,6 +48,13 @@ void pfr_mpi_max(pfr_mpi *m, int *values, int n)
 #endif
 }
 
+void pfr_mpi_forget_launcher(void)
+{
+    unsetenv("OMPI_COMM_WORLD_SIZE");
+    unsetenv("PMI_SIZE");
+    unsetenv("PMIX_RANK");
+}
+
 void pfr_mpi_finish(pfr_mpi *m)
 {
 #ifdef PFR_HAVE_MPI

@@ -19,6 +19,9 @@ void pfr_mpi_max(pfr_mpi *m, int *values, int n);
 void pfr_mpi_finish(pfr_mpi *m);
 /* Ends every rank with this status (a stopped sweep); returns without MPI. */
 void pfr_mpi_abort(pfr_mpi *m, int status);
+/* Forgets that this process was started by mpirun (the launcher's rank
+ * variables), for a child that must run as one plain process. */
+void pfr_mpi_forget_launcher(void);
 /* 1 when this runner was built with MPI. */
 int pfr_mpi_available(void);
 

@@ -22,6 +22,7 @@
 #include "pfr_exit.h"
 #include "pfr_limits.h"
 #include "pfr_modules.h"
+#include "pfr_mpi.h"
 #include "pfr_run.h"
 #include "pfr_sandbox.h"
 #include "pfr_stop.h"
@@ -290,7 +291,57 @@ static int execute(lua_State *L, const pfr_options *o, pfr_limits *lim, int hand
     return status;
 }
 
+static int run_one(const pfr_options *o);
+
+/* Removes a rank's private output folder (a flat folder of files, plus the
+ * manifest's), best effort. */
+static void remove_scratch(const char *dir)
+{
+    char cmd[PATH_MAX + 32];
+    /* Only folders this function's caller made with mkdtemp get here. */
+    if (snprintf(cmd, sizeof cmd, "rm -rf -- '%s'", dir) < (int)sizeof cmd && !strchr(dir, '\''))
+        if (system(cmd) != 0) fprintf(stderr, "psiflight: could not remove %s\n", dir);
+}
+
+/* `psiflight run` under mpirun: every rank runs the whole script (a grid
+ * asked to be distributed is split over them, pf_dist.h); rank 0 prints and
+ * writes, the other ranks' standard output is discarded and their files go
+ * to a private folder removed at the end.  A failed rank ends all of them,
+ * since the others may be waiting for it inside a collective call. */
 int pfr_run_script(const pfr_options *o)
+{
+    if (o->help) return run_one(o);
+    pfr_mpi mpi;
+    if (pfr_mpi_start(&mpi) != 0) {
+        fprintf(stderr, "psiflight: started as one of several MPI ranks, but %s\n",
+                pfr_mpi_available() ? "MPI could not start" : "this runner was built without MPI (docs/distributed.md)");
+        return PFR_EXIT_USAGE;
+    }
+    if (!mpi.active) return run_one(o);
+    pfr_options mine = *o;
+    char scratch[PATH_MAX] = "";
+    if (mpi.rank != 0) {
+        const char *tmp = getenv("TMPDIR");
+        snprintf(scratch, sizeof scratch, "%s/psiflight-rank%d-XXXXXX", tmp && *tmp ? tmp : "/tmp", mpi.rank);
+        if (!mkdtemp(scratch)) {
+            fprintf(stderr, "psiflight: rank %d: cannot make a private output folder: %s\n", mpi.rank, strerror(errno));
+            pfr_mpi_abort(&mpi, PFR_EXIT_USAGE);
+            return PFR_EXIT_USAGE;
+        }
+        mine.out = scratch;
+        mine.overwrite = 1;
+        mine.quiet = 1;
+        fflush(stdout);
+        if (!freopen("/dev/null", "w", stdout)) fprintf(stderr, "psiflight: rank %d: stdout stays open\n", mpi.rank);
+    }
+    int status = run_one(&mine);
+    if (*scratch) remove_scratch(scratch);
+    if (status != PFR_EXIT_OK && mpi.size > 1) pfr_mpi_abort(&mpi, status);
+    pfr_mpi_finish(&mpi);
+    return status;
+}
+
+static int run_one(const pfr_options *o)
 {
     const char *recipe = recipe_name(o->script);
     char digest[65] = "";

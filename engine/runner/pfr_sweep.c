@@ -156,6 +156,7 @@ static pid_t start_point(const sweep *s, size_t i)
         if (fo < 0 || fe < 0 || dup2(fo, 1) < 0 || dup2(fe, 2) < 0) _exit(127);
         close(fo);
         close(fe);
+        pfr_mpi_forget_launcher(); /* a point is one plain run, not an MPI rank (pfr_run_script) */
         execv(s->self, av);
         dprintf(2, "psiflight sweep: cannot start %s: %s\n", s->self, strerror(errno));
         _exit(127);

@@ -14,10 +14,29 @@ echo "first run on a machine spends extra time planning; later runs reuse the wi
 echo
 for b in "$root/$build"/bench/bench_*; do
   [ -x "$b" ] || continue
+  [ "$(basename "$b")" = bench_dist ] && continue # below, under mpirun
   echo "== $(basename "$b")"
   "$b" $arg
   echo
 done
+# Distributed flights (docs/distributed.md): strong scaling (one 3D grid on
+# 1 and 2 ranks) and weak scaling (the grid's first axis grows with the
+# ranks), each beside the single-process flight of the same grid.
+dist="$root/$build/bench/bench_dist"
+if [ -x "$dist" ] && command -v mpirun >/dev/null && ldd "$dist" | grep -q libfftw3_mpi; then
+  export OMPI_ALLOW_RUN_AS_ROOT=1 OMPI_ALLOW_RUN_AS_ROOT_CONFIRM=1
+  n=128; steps=10; [ "$mode" = quick ] && n=64 && steps=5
+  echo "== bench_dist (exact 3D flight, position -> position; time per step)"
+  echo "strong scaling: ${n}^3"
+  "$dist" $n $n $n $steps
+  for r in 1 2; do mpirun -n $r --oversubscribe "$dist" $n $n $n $steps; done
+  echo "weak scaling: $((n / 2)) x ${n} x ${n} points per rank"
+  "$dist" $((n / 2)) $n $n $steps
+  for r in 1 2; do mpirun -n $r --oversubscribe "$dist" $((n / 2 * r)) $n $n $steps; done
+  echo
+else
+  echo "(no FFTW-MPI build or no mpirun: distributed rows skipped)"
+fi
 py=/usr/bin/python3
 if [ -x "$py" ] && "$py" -c 'import numpy, scipy' 2>/dev/null; then
   # Each size and thread count is timed three times, numpy and psiflight in

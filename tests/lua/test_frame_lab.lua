@@ -263,4 +263,89 @@ do
   check.near(w:wavenumber_mean(), k0, 1e-12, "shift keeps the lab wave number", "displacement (common practice)")
 end
 
+-- 7. Wigner function of a falling cloud on lab axes: a pure Gaussian state's
+-- W(x, p) = exp(-z' S^-1 z / 2) / (pi hbar), S its covariance matrix
+-- (Gaussian Wigner function, common practice), with the free-flight moments
+-- and the lab centre -g t^2/2, -m g t (Newton).
+do
+  local g = pf.grid{points = 256, span = 24e-6}
+  local w = cloud(g)
+  w:fly(t1, {acceleration = -gn})
+  local W = w:wigner()
+  local n = #W.x
+  local Vx = sigma0 ^ 2 + (hbar * t1 / (2 * m * sigma0)) ^ 2
+  local Vp = hbar * hbar / (4 * sigma0 * sigma0)
+  local Cxp = Vp * t1 / m
+  local det = Vx * Vp - Cxp * Cxp
+  local xc, pc = -0.5 * gn * t1 * t1, -m * gn * t1
+  local worst, peak, best, bi, bj = 0, 1 / (math.pi * hbar), -1, 0, 0
+  for i = 1, n do
+    for j = 1, n do
+      local v = W.values[(i - 1) * n + j]
+      if v > best then best, bi, bj = v, i, j end
+      local dx, dp = W.x[i] - xc, W.p[j] - pc
+      if math.abs(dx) < 3e-6 and math.abs(dp) < 3 * math.sqrt(Vp) then
+        local q = (Vp * dx * dx - 2 * Cxp * dx * dp + Vx * dp * dp) / det
+        worst = math.max(worst, math.abs(v - math.exp(-0.5 * q) / (math.pi * hbar)))
+      end
+    end
+  end
+  print(string.format("note wigner of the falling cloud vs closed form: %.3e of peak", worst / peak))
+  check.close(worst / peak, 0, 1e-9, "Wigner function on lab axes (max |diff| / peak)", "Gaussian Wigner function (common practice)")
+  check.close(W.x[bi], xc, 2 * g:spacing(1), "Wigner peak at the lab position -g t^2/2", "Newton (common practice)")
+  check.close(W.p[bj], pc, 2 * hbar * 2 * math.pi / 24e-6, "Wigner peak at the lab momentum -m g t", "Newton (common practice)")
+  -- Covariances are central moments: a moving frame leaves them the free packet's.
+  check.near(w:position_covariance()[1][1], Vx, 1e-10, "position covariance of the falling cloud", "free width law (textbook; from memory)")
+  check.near(w:momentum_covariance()[1][1], Vp, 1e-10, "momentum covariance of the falling cloud", "Gaussian momentum spread hbar/2 sigma0 (common practice)")
+  check.equal(w:guard().ok, true, "guard figures of a moved wave: the cloud sits inside its co-moving grid")
+end
+
+-- 8. An ensemble whose members share a frame: lab moments and energy; members
+-- in different frames are refused.
+do
+  local g = pf.grid{points = 512, span = 48e-6}
+  local a, b = cloud(g), cloud(g):shift(3e-6)
+  local e = pf.mixture({a, b}, {0.25, 0.75})
+  e:fly(t1, {acceleration = -gn})
+  local drop = -0.5 * gn * t1 * t1
+  check.close(e:position_mean(), 0.75 * 3e-6 + drop, 1e-13, "ensemble lab centre", "Newton, weighted mean (common practice)")
+  check.near(e:velocity_mean(), -gn * t1, 1e-12, "ensemble lab velocity", "Newton (common practice)")
+  -- <p^2>/2m = hbar^2 / (8 m sigma0^2) + m v^2 / 2 for either member.
+  check.near(e:kinetic_energy(), hbar * hbar / (8 * m * sigma0 ^ 2) + 0.5 * m * (gn * t1) ^ 2, 1e-10,
+    "ensemble lab kinetic energy", "Gaussian moments, Newton (common practice)")
+  local mixed = pf.mixture({cloud(g):fly(t1, {acceleration = -gn}), cloud(g)})
+  check.fails(function() return mixed:position_mean() end, "mixed frames are refused", here, "sits in another frame")
+end
+
+-- 9. h5file:put_wave of a falling cloud writes the lab wave function on lab
+-- axes; read back, psi and phi give the closed-form packet (from memory, as
+-- above) and the lab spectrum's centre -m g t / hbar (Newton).
+do
+  local g = pf.grid{points = 256, span = 24e-6}
+  local w = cloud(g)
+  w:kick(2e6, {frame = true})
+  w:fly(t1, {acceleration = -gn})
+  local f = pf.h5file("frame-lab-wave.h5", {overwrite = true})
+  f:put_wave("falling", w, {parts = "both"})
+  f:close()
+  local path = pf.output_path("frame-lab-wave.h5")
+  local fromx = pf.load_wave(path, {item = "falling", space = "position"})
+  local fromk = pf.load_wave(path, {item = "falling", space = "momentum"})
+  check.equal(fromx:frame().moved, false, "the file holds a lab state (no frame)")
+  local worst, worstk, peak = 0, 0, 0
+  local xs, lx = w:x_axis(1), fromx:x_axis(1)
+  for i = 1, #xs, 5 do
+    local r = reference(xs[i], t1, 2e6, sigma0, -gn)
+    worst = math.max(worst, (fromx:psi(i) - r):abs())
+    worstk = math.max(worstk, (fromk:psi(i) - r):abs())
+    peak = math.max(peak, r:abs())
+  end
+  check.close(lx[1], xs[1], 1e-18, "the file's grid sits at the lab positions (m)", "kinematics (common practice)")
+  print(string.format("note put_wave of a falling cloud vs closed form: psi %.3e, phi %.3e of peak", worst / peak, worstk / peak))
+  check.close(worst / peak, 0, 1e-10, "put_wave psi is the lab wave function", "uniform-force propagator, Avron-Herbst form (from memory)")
+  check.close(worstk / peak, 0, 1e-10, "put_wave phi is the lab spectrum", "uniform-force propagator, Avron-Herbst form (from memory)")
+  check.near(fromk:wavenumber_mean(), 2e6 - m * gn * t1 / hbar, 1e-10, "lab spectrum centred at k0 - m g t / hbar",
+    "Newton (common practice)")
+end
+
 check.done()

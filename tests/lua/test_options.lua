@@ -122,7 +122,7 @@ local TAKES_NO_OPTIONS = {
   "pf.complex", "pf.polar", "pf.cexp", "pf.run_info", "pf.species", "pf.mass", "pf.species_list",
   "pf.photon_momentum", "pf.photon_wavenumber", "pf.mixture", "pf.mask", "pf.potential", "pf.progress",
   "pf.read_csv", "pf.report", "pf.output_path", "pf.outputs", "pf.sha256", "pf.resonant_cross_section",
-  "pf.parameters", "pf.check_options", "pf._option_sets", "pf._frame_aware",
+  "pf.parameters", "pf.check_options", "pf._option_sets", "pf._frame_aware", "pf.mpi_info", "pf._dist_aware",
   -- wave functions
   "wave:psi", "wave:phi", "wave:set_psi", "wave:set_phi", "wave:density", "wave:momentum_density", "wave:copy",
   "wave:normalize", "wave:scale", "wave:mass", "wave:clock", "wave:representation", "wave:grid", "wave:log",
@@ -306,6 +306,7 @@ check.fails(function() pf.setup{memory_cap = "1e18"} end, "memory_cap as a strin
 check.equal(pf.run_info().memory_cap, cap, "memory cap unchanged after the refusal")
 check.fails(function() pf.setup{strict = "yes"} end, "strict must be a boolean", here, "strict", "true or false")
 check.fails(function() pf.setup{seed = "7"} end, "seed as a string refused", here, "seed", "'7'")
+check.fails(function() pf.setup{distribute = 1} end, "distribute must be a boolean", here, "distribute", "true or false")
 check.fails(function() pf.setup{planning = 1} end, "planning must be a string", here, "planning", "got 1")
 -- Numeric strings are not numbers in any options table.
 check.fails(function() pf.grid{points = "64", span = 1e-4} end, "grid points as a string refused", here, "points", "'64'")

@@ -1,0 +1,115 @@
+/* pfl_dist.c - the binding's side of grids split over MPI ranks (pf_dist.h):
+ * which Lua functions handle a distributed wave or grid (DIST_AWARE), the
+ * refusal for every other one, and pf.mpi_info().
+ *
+ * A distributed wave stores only this rank's slab; a function written for
+ * whole grids would read past it or report one rank's share as the whole.
+ * So pfl_check_wave and pfl_check_grid ask the guards below, which refuse a
+ * distributed object unless the running Lua function is listed here.  A
+ * function that handles slabs (through the core's distributed paths, with
+ * a test under mpirun in tests/mpi/) adds its name; nothing else changes. */
+#include <string.h>
+#include "../core/pf_dist.h"
+#include "pfl.h"
+
+/* Script names, sorted.  Grid methods ("grid:...") read the global tables
+ * only and need no entry; module functions that take a grid do. */
+static const char *const DIST_AWARE[] = {
+    "pf.wave",
+    "wave:clock",
+    "wave:close",
+    "wave:copy",
+    "wave:fly",
+    "wave:grid",
+    "wave:kinetic_energy",
+    "wave:log",
+    "wave:log_text",
+    "wave:mass",
+    "wave:momentum_mean",
+    "wave:momentum_variance",
+    "wave:momentum_width",
+    "wave:norm",
+    "wave:normalize",
+    "wave:position_mean",
+    "wave:position_variance",
+    "wave:position_width",
+    "wave:representation",
+    "wave:scale",
+    "wave:velocity_mean",
+    "wave:wavenumber_mean",
+    "wave:wavenumber_width",
+    NULL,
+};
+
+static int dist_aware(const char *name)
+{
+    for (const char *const *p = DIST_AWARE; *p; p++)
+        if (strcmp(*p, name) == 0) return 1;
+    return 0;
+}
+
+static void refuse(lua_State *L, int arg, const char *what)
+{
+    pfl_push_running_name(L);
+    const char *name = lua_tostring(L, -1);
+    if (name && dist_aware(name)) {
+        lua_pop(L, 1);
+        return;
+    }
+    const char *shown = name ? name : "this function";
+    lua_pushfstring(L,
+                    "%s does not handle a %s distributed over %d MPI ranks yet (docs/distributed.md lists what "
+                    "does; or run without pf.setup{distribute = true})",
+                    shown, what, pf_dist_ranks());
+    luaL_argerror(L, arg, lua_tostring(L, -1));
+}
+
+void pfl_dist_guard(lua_State *L, int arg, const pf_wave *w)
+{
+    if (pf_wave_distributed(w)) refuse(L, arg, "wave function");
+}
+
+void pfl_dist_grid_guard(lua_State *L, int arg, const pf_grid *g)
+{
+    if (!pf_grid_distributed(g)) return;
+    /* Grid methods only read the coordinate tables every rank holds whole. */
+    pfl_push_running_name(L);
+    const char *name = lua_tostring(L, -1);
+    int module_function = name && strncmp(name, "pf.", 3) == 0;
+    lua_pop(L, 1);
+    if (module_function) refuse(L, arg, "grid");
+}
+
+/* pf.mpi_info() -> {rank =, ranks =, built =, distribute =}: where this
+ * copy of the script runs.  Every rank runs the whole script; only rank 0
+ * prints and writes files (docs/distributed.md). */
+static int l_mpi_info(lua_State *L)
+{
+    lua_createtable(L, 0, 4);
+    lua_pushinteger(L, pf_dist_rank());
+    lua_setfield(L, -2, "rank");
+    lua_pushinteger(L, pf_dist_ranks());
+    lua_setfield(L, -2, "ranks");
+    lua_pushboolean(L, pf_dist_built());
+    lua_setfield(L, -2, "built");
+    lua_pushboolean(L, pf_context_distribute(pfl_ctx(L)) && pf_dist_running());
+    lua_setfield(L, -2, "distribute");
+    return 1;
+}
+
+/* pf._dist_aware() -> the DIST_AWARE list (for the tests). */
+static int l_dist_aware(lua_State *L)
+{
+    lua_newtable(L);
+    for (int i = 0; DIST_AWARE[i]; i++) {
+        lua_pushstring(L, DIST_AWARE[i]);
+        lua_rawseti(L, -2, i + 1);
+    }
+    return 1;
+}
+
+void pfl_open_dist(lua_State *L, int mod)
+{
+    static const luaL_Reg funcs[] = {{"mpi_info", l_mpi_info}, {"_dist_aware", l_dist_aware}, {NULL, NULL}};
+    pfl_add_functions(L, mod, funcs);
+}

@@ -1,0 +1,78 @@
+#!/usr/bin/env bash
+# test_distributed.sh - one grid split over MPI ranks (pf.setup{distribute =
+# true}, docs/distributed.md): the same script as one process and under
+# mpirun -n 1, 2, 3 and 4 (oversubscribed on this machine; 18 planes do not
+# divide among 4 ranks).  References: the single-process engine (its
+# results were checked against closed forms elsewhere in the suite), and the
+# free Gaussian's centre and width laws (textbook) for the flight itself.
+# Figures of untransformed data must be the same bits everywhere; figures
+# after transforms the same bits at every rank count and within 5e-14 of
+# one process (FFTW's serial and MPI plans round differently; largest
+# difference seen 2.4e-14, on a wave-number mean).  Skipped with a note when
+# the runner has no FFTW-MPI or mpirun is missing.
+source "$(dirname "$0")/lib.sh"
+set -e
+probe="$root/tests/runner/dist/probe_flight.lua"
+built=$(printf 'local pf = require "psiflight"; print(pf.mpi_info().built)\n' >"$work/built.lua"; "$runner" run "$work/built.lua")
+if [ "$built" != "true" ] || ! command -v mpirun >/dev/null; then
+  echo "note: runner built without FFTW-MPI (or no mpirun): distributed grids not tested (make deps-mpi)"
+  done_checks
+  exit 0
+fi
+export OMPI_ALLOW_RUN_AS_ROOT=1 OMPI_ALLOW_RUN_AS_ROOT_CONFIRM=1 OMPI_MCA_mpi_warn_on_fork=0
+# Open MPI's own allocations at exit are not psiflight's leaks.
+export ASAN_OPTIONS="${ASAN_OPTIONS:+$ASAN_OPTIONS:}detect_leaks=0"
+cd "$work"
+
+expect 0 "one process" -- "$runner" run "$probe"
+printf '%s\n' "$out" >"$work/plain.txt"
+has "distribute false" "one process: nothing distributed without mpirun"
+for n in 1 2 3 4; do
+  expect 0 "mpirun -n $n" -- timeout 120 mpirun -n "$n" --oversubscribe "$runner" run "$probe"
+  printf '%s\n' "$out" >"$work/ranks$n.txt"
+  has "ranks $n distribute true" "mpirun -n $n: the grid is distributed over $n ranks"
+  has "refusal named" "mpirun -n $n: a function without a distributed path refuses by name"
+  [ "$(grep -c '^ranks' "$work/ranks$n.txt")" -eq 1 ] && ok "mpirun -n $n: only rank 0 prints" || fail "mpirun -n $n: only rank 0 prints"
+done
+
+# compare.py A B TAGS TOL: lines of A and B starting with a tag in TAGS
+# agree within TOL relative to the line's largest value (0: the same text).
+cat >"$work/compare.py" <<'EOF'
+import sys
+a, b, tags, tol = sys.argv[1], sys.argv[2], sys.argv[3].split(','), float(sys.argv[4])
+def lines(p):
+    return [l.split() for l in open(p) if l.split() and l.split()[0] in tags]
+la, lb = lines(a), lines(b)
+assert len(la) == len(lb) and la, "no lines to compare"
+worst = 0.0
+for x, y in zip(la, lb):
+    assert x[:2] == y[:2], (x, y)
+    u, v = [float(t) for t in x[2:]], [float(t) for t in y[2:]]
+    if tol == 0:
+        assert x == y, ("differ", x, y)
+        continue
+    scale = max(abs(t) for t in u + v)
+    for p, q in zip(u, v):
+        worst = max(worst, abs(p - q) / scale)
+assert worst <= tol, ("worst relative difference", worst, "over", tol)
+print("%.2g" % worst)
+EOF
+for n in 1 2 3 4; do
+  python3 "$work/compare.py" "$work/plain.txt" "$work/ranks$n.txt" exact 0 >/dev/null &&
+    ok "-n $n: norms, means and widths before any transform are bit-identical to one process" ||
+    fail "-n $n: untransformed figures differ from one process"
+  python3 "$work/compare.py" "$work/ranks1.txt" "$work/ranks$n.txt" flown,law 0 >/dev/null &&
+    ok "-n $n: figures after the flight are bit-identical to -n 1" || fail "-n $n: flight figures differ from -n 1"
+  worst=$(python3 "$work/compare.py" "$work/plain.txt" "$work/ranks$n.txt" flown,law 5e-14) &&
+    ok "-n $n: figures after the flight within 5e-14 of one process (worst $worst)" ||
+    fail "-n $n: flight figures differ from one process by more than 5e-14"
+done
+
+# The flight against the textbook laws (the discrete grid samples the
+# Gaussian: agreement to 1e-8 relative is the sampling, not the flight).
+law=$(awk '$1 == "law" { d = ($3 - $4) / $4; if (d < 0) d = -d; if (d > m) m = d } END { printf "%.2g", m }' "$work/ranks4.txt")
+awk -v m="$law" 'BEGIN { exit !(m < 1e-8) }' &&
+  ok "-n 4: centre and widths after 1.5 ms follow the free Gaussian laws (textbook) to $law" ||
+  fail "-n 4: free Gaussian laws missed by $law"
+
+done_checks
