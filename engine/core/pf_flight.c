@@ -208,7 +208,7 @@ pf_phase_segment_fn pf_phase_segment_on(pf_vector_path path)
     return phase_segment_plain;
 }
 
-static pf_phase_segment_fn segment_kernel(void) { return pf_phase_segment_on(pf_vector_path_chosen()); }
+pf_phase_segment_fn pf_phase_segment_kernel(void) { return pf_phase_segment_on(pf_vector_path_chosen()); }
 
 /* 1D: data *= scale * P0 by segments; a segment that holds the jump of the
  * FFT order from positive to negative wave numbers, or the short last one,
@@ -221,7 +221,7 @@ static void apply_phase_1d(pf_grid *g, double complex *data, double scale, size_
         phase_row((double *)(data + j0), (const double *)(ft->phase[0] + j0), scale, 0.0, len);
         return;
     }
-    const pf_phase_segment_fn seg = segment_kernel();
+    const pf_phase_segment_fn seg = pf_phase_segment_kernel();
     const size_t n = g->n[0], jump = (n + 1) / 2;
     for (size_t j = j0; j < j0 + len; j += PF_PHASE_SEG) {
         size_t q = j / PF_PHASE_SEG, end = j + PF_PHASE_SEG;

@@ -256,6 +256,19 @@ pf_phase_row_fn pf_phase_kernel_on(pf_vector_path path);
 typedef void (*pf_phase_segment_fn)(double complex *restrict d, const double complex *restrict chirp, double complex a,
                                     double complex b);
 pf_phase_segment_fn pf_phase_segment_on(pf_vector_path path);
+/* The segment kernel of this process's vector path (pf_flight.c; also the
+ * evaluated chirps of the 1D scaled flight, pf_scaled.c). */
+pf_phase_segment_fn pf_phase_segment_kernel(void);
+
+/* The chirps of one axis of a scaled-flight stage of duration ta
+ * (pf_scaled.c, derivation in docs/long-flights.md): the input chirp pre and
+ * the output chirp with the amplitude post as tables of n points, and the
+ * same factors applied in place to 1D data (post = 0: input, 1: output),
+ * evaluated by segments (n below 2^32).  Exposed for tests. */
+void pf_scaled_chirp_tables(double mass, double ta, size_t n, double dx, double D, double delta, double complex *pre,
+                            double complex *post);
+void pf_scaled_chirp_1d(double complex *data, size_t n, double mass, double ta, double dx, double D, double delta,
+                        int post, int threads);
 
 /* Applies the configured thread count to the FFTW planner (called before
  * every plan creation), loads wisdom lazily, and returns the planner flags

@@ -54,7 +54,7 @@ static double turn_phase(size_t q, size_t n) { return PF_TWO_PI * (double)(q % n
  *   pre_j  = exp(i beta (eta^2 / 2 - delta eta) + i s 2 pi h j / N),
  *   post_l = A exp(i beta (delta + xi)^2 / 2 + i s 2 pi h l / N - i s 2 pi h^2 / N),
  *   A = sqrt(m / 2 pi hbar |ta|) dx exp(-i s pi / 4). */
-static void chirp_tables(double mass, double ta, size_t n, double dx, double D, double delta, double complex *pre,
+void pf_scaled_chirp_tables(double mass, double ta, size_t n, double dx, double D, double delta, double complex *pre,
                          double complex *post)
 {
     const double beta = mass / (PF_HBAR * ta);
@@ -70,51 +70,96 @@ static void chirp_tables(double mass, double ta, size_t n, double dx, double D, 
     }
 }
 
-/* Points per piece of the 1D chirp pass: phases formed, then one
- * vectorised exp(-i phase) (pf_cis.h), while the piece sits in L1. */
+/* Points per piece of the 1D chirp pass (the unit shared out among the
+ * threads): whole segments of PF_PHASE_SEG points. */
 #define CHIRP_PIECE 512
+#define CHIRP_SEGS (CHIRP_PIECE / PF_PHASE_SEG)
 
-/* The 1D stage's chirp applied in place with its phase evaluated point by
- * point (the same formula as chirp_tables; post: the output chirp times the
- * amplitude).  A table of N points made for each call cost more than the
- * FFT at N = 2^22 (eight million complex exponentials and two extra sweeps
- * over memory); here each pass is one sweep.  n must be below 2^32 (the
- * integer turn h j mod n is formed in 64 bits). */
-static void chirp_pass_1d(double complex *data, size_t n, double mass, double ta, double dx, double D, double delta,
-                          int post, int threads)
+/* The 1D stage's chirp applied in place, evaluated point by point (the same
+ * phase as chirp_tables; post: the output chirp times the amplitude).  A
+ * table of N points made for each call cost more than the FFT at N = 2^22;
+ * an exponential per point still cost about as many instructions as the FFT.
+ * The phase is quadratic in the index, so on a segment of PF_PHASE_SEG
+ * points starting at j0
+ *   phi(j0 + t) = phi(j0) + r t + c t^2,
+ * with r = beta X(j0) D (output) or beta dx (eta(j0) - delta) (input), plus
+ * the turn per index, and c = beta D^2 / 2 or beta dx^2 / 2: each point is
+ * a start factor times a ratio to the power t times a 32-entry chirp, the
+ * flight's segment kernel (pf_flight.c), and only two exponentials per
+ * segment are evaluated (pf_cis.h).  The start phase is formed from the
+ * index directly, as for a single point, so no error accumulates along the
+ * grid; along a segment the powers add a few ulp (the ratio's phase is at
+ * most about pi for a sampled chirp).  n must be below 2^32 (the integer
+ * turn h j mod n is formed in 64 bits). */
+void pf_scaled_chirp_1d(double complex *data, size_t n, double mass, double ta, double dx, double D, double delta,
+                        int post, int threads)
 {
     const double beta = mass / (PF_HBAR * ta);
     const double s = ta > 0 ? 1.0 : -1.0;
     const size_t h = n / 2;
     const double complex amp =
-        sqrt(mass / (PF_TWO_PI * PF_HBAR * fabs(ta))) * dx * cexp(-I * (s * PF_PI / 4 + s * turn_phase(h * h, n)));
+        post ? sqrt(mass / (PF_TWO_PI * PF_HBAR * fabs(ta))) * dx * cexp(-I * (s * PF_PI / 4 + s * turn_phase(h * h, n)))
+             : 1.0;
     const double turn = s * PF_TWO_PI / (double)n;
+    const double step = post ? D : dx; /* the spacing the phase is quadratic in */
+    const double curv = 0.5 * beta * step * step;
+    double complex chirp[PF_PHASE_SEG];
+    for (size_t t = 0; t < PF_PHASE_SEG; t++) chirp[t] = cexp(I * (curv * (double)(t * t)));
+    /* The turn h j mod n per index: h (reduced) when n is odd; for even n
+     * it is pi on odd j, so the ratio's turn is exactly s pi and whole
+     * segments start on even j with no turn. */
+    const double turn_step = turn * (double)h;
+    const pf_phase_segment_fn segment = pf_phase_segment_kernel();
+    const size_t whole = n / PF_PHASE_SEG; /* segments; a short tail is done point by point */
     const ptrdiff_t pieces = (ptrdiff_t)((n + CHIRP_PIECE - 1) / CHIRP_PIECE);
 #pragma omp parallel for num_threads(threads) schedule(static)
     for (ptrdiff_t b = 0; b < pieces; b++) {
-        double phase[CHIRP_PIECE];
+        double phase[2 * CHIRP_SEGS > CHIRP_PIECE ? 2 * CHIRP_SEGS : CHIRP_PIECE];
+        double complex factor[2 * CHIRP_SEGS];
         const size_t j0 = (size_t)b * CHIRP_PIECE, m = n - j0 < CHIRP_PIECE ? n - j0 : CHIRP_PIECE;
-        for (size_t i = 0; i < m; i++) {
-            double u = (double)(j0 + i) - (double)h;
-            double X = delta + u * D, eta = u * dx;
-            phase[i] = post ? 0.5 * beta * X * X : beta * (0.5 * eta * eta - delta * eta);
-        }
-        /* The turn h j mod n: for even n (h = n/2) h on odd j, else 0. */
-        if (n % 2 == 0) {
-            const double odd_turn = turn * (double)h;
-            for (size_t i = 0; i < m; i++) phase[i] = -(phase[i] + odd_turn * (double)((j0 + i) & 1));
-        } else {
-            size_t q = (h % n) * (j0 % n) % n; /* carried along the piece */
-            for (size_t i = 0; i < m; i++) {
-                phase[i] = -(phase[i] + turn * (double)q); /* pf_cis_multiply takes exp(-i phase) */
-                q += h;
-                if (q >= n) q -= n;
+        const size_t q0 = j0 / PF_PHASE_SEG, segs = (q0 + CHIRP_SEGS <= whole ? CHIRP_SEGS : whole - q0);
+        /* Start and ratio phases of the piece's whole segments, then their
+         * exponentials at once (pf_cis_minus takes exp(-i phase)). */
+        for (size_t k = 0; k < segs; k++) {
+            size_t j = j0 + k * PF_PHASE_SEG;
+            double u = (double)j - (double)h, start, rate;
+            if (post) {
+                double X = delta + u * D;
+                start = 0.5 * beta * X * X;
+                rate = beta * X * D;
+            } else {
+                double eta = u * dx;
+                start = beta * (0.5 * eta * eta - delta * eta);
+                rate = beta * dx * (eta - delta);
             }
+            if (n % 2 == 0) {
+                rate += s * PF_PI;
+            } else {
+                start += turn * (double)((h % n) * (j % n) % n);
+                rate += turn_step;
+            }
+            phase[2 * k] = -start;
+            phase[2 * k + 1] = -rate;
         }
-        double complex *piece = data + j0;
-        pf_cis_multiply(piece, phase, m);
-        if (post)
-            for (size_t i = 0; i < m; i++) piece[i] *= amp;
+        pf_cis_minus(phase, factor, 2 * segs);
+        for (size_t k = 0; k < segs; k++)
+            segment(data + j0 + k * PF_PHASE_SEG, chirp, amp * factor[2 * k], factor[2 * k + 1]);
+        /* The short tail (n not a multiple of the segment): one exponential
+         * per point. */
+        const size_t done = segs * PF_PHASE_SEG;
+        if (done < m) {
+            for (size_t i = done; i < m; i++) {
+                size_t j = j0 + i;
+                double u = (double)j - (double)h;
+                double X = delta + u * D, eta = u * dx;
+                double ph = post ? 0.5 * beta * X * X : beta * (0.5 * eta * eta - delta * eta);
+                phase[i - done] = -(ph + turn * (double)((h % n) * (j % n) % n));
+            }
+            double complex *tail = data + j0 + done;
+            pf_cis_multiply(tail, phase, m - done);
+            if (post)
+                for (size_t i = 0; i < m - done; i++) tail[i] *= amp;
+        }
     }
 }
 
@@ -192,10 +237,10 @@ static pf_status scaled_stage(pf_wave *w, const double *ta, pf_grid *gout, doubl
     const int in_place = !padded && !cropped;
     if (in_place && d == 1 && gout->n[0] < ((size_t)1 << 32)) {
         const double delta = gout->origin[0] - gin->origin[0];
-        chirp_pass_1d(w->store, gout->n[0], w->mass, ta[0], gin->dx[0], gout->dx[0], delta, 0, ctx->threads);
+        pf_scaled_chirp_1d(w->store, gout->n[0], w->mass, ta[0], gin->dx[0], gout->dx[0], delta, 0, ctx->threads);
         s = pf_grid_fft(gout, w->store, ta[0] > 0 ? -1 : +1);
         if (s) return s;
-        chirp_pass_1d(w->store, gout->n[0], w->mass, ta[0], gin->dx[0], gout->dx[0], delta, 1, ctx->threads);
+        pf_scaled_chirp_1d(w->store, gout->n[0], w->mass, ta[0], gin->dx[0], gout->dx[0], delta, 1, ctx->threads);
         pf_grid_retain(gout);
         w->grid = gout;
         pf_grid_release(gin);
@@ -218,7 +263,7 @@ static pf_status scaled_stage(pf_wave *w, const double *ta, pf_grid *gout, doubl
         pre[a] = p;
         post[a] = p + gout->n[a];
         p += 2 * gout->n[a];
-        chirp_tables(w->mass, ta[a], gout->n[a], gin->dx[a], gout->dx[a], gout->origin[a] - gin->origin[a], pre[a],
+        pf_scaled_chirp_tables(w->mass, ta[a], gout->n[a], gin->dx[a], gout->dx[a], gout->origin[a] - gin->origin[a], pre[a],
                      post[a]);
     }
     const shape3 si = shape_of(gin), so = shape_of(gout);
