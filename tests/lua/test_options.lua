@@ -72,6 +72,8 @@ local callers = {
   ["pf.picture_map"] = function(o) pf.picture_map("options-walk.png", w2, o) end,
   ["pf.picture_lines"] = function(o) pf.picture_lines("options-walk.png", o) end,
   ["pf.picture_lines series[i]"] = function(o) pf.picture_lines("options-walk.png", {series = {o}}) end,
+  ["pf.picture_lines residual"] = function(o) pf.picture_lines("options-walk.png", {residual = o,
+    series = {{x = {0, 1}, y = {0, 1}}, {x = {0, 1}, y = {0, 1.1}}}}) end,
   ["pf.picture_carpet"] = function(o) pf.picture_carpet("options-walk.png", w1, o) end,
   ["pf.picture_carpet marks[i]"] = function(o) pf.picture_carpet("options-walk.png", w1, {duration = 1e-6, frames = 2, marks = {o}}) end,
   ["pf.parameters spec"] = function(o) pf.parameters{walk_value = o} end,
@@ -111,6 +113,7 @@ local callers = {
   ["levels:fly"] = function(o) lv:fly(1e-6, o) end,
   ["levels:order_populations"] = function(o) lv:order_populations(o) end,
   ["levels:sample"] = function(o) lv:sample(3, o) end,
+  ["levels:evolve"] = function(o) lv:evolve(1e-6, o) end,
 }
 
 -- Lua-visible functions that take no options table (positional numbers,
