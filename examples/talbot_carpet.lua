@@ -87,6 +87,7 @@ local lines = pf.picture_lines("revival.png", {
   title = "density at the grating and one Talbot time later", x_name = "x", x_quantity = "length",
   y_name = "|#gq|#u2#d", y_per_x = true, legend = "upper right",
   series = {{x = xs_um, y = a, label = "t = 0"}, {x = xs_um, y = b, label = "t = T#dT#u", dashed = true}},
+  residual = {result = 2, formula = 1}, -- the revival's error, at rounding level
 })
 local csv = pf.write_csv("profiles.csv", {{"x", "m", xs}, {"density_t0", "1/m", start}, {"density_tT", "1/m", at_revival}})
 local f <close> = pf.h5file("talbot.h5")

@@ -303,8 +303,6 @@ pf_status pf_levels_pulse(pf_levels *lv, int from, int to, const pf_pulse_shape 
         if (slices < 1 || slices > 1000000)
             return pf_fail(lv->ctx, PF_EINVAL, "pulse slices must be 1 .. 1000000, got %d", slices);
         if (!isfinite(chirp)) return pf_fail(lv->ctx, PF_EINVAL, "pulse chirp must be finite (rad/s^2), got %g", chirp);
-        if (slices > 1 && shape->envelope != PF_ENVELOPE_SQUARE)
-            return pf_fail(lv->ctx, PF_EINVAL, "a force or a chirp during a pulse needs a square envelope");
         double common[PF_MAX_DIM], diff[PF_LEVELS_MAX][PF_MAX_DIM];
         int any[PF_LEVELS_MAX];
         split_forces(lv, f, common, diff, any);

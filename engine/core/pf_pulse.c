@@ -450,8 +450,6 @@ pf_status pf_pulse_two_level_moving(pf_wave *a, pf_wave *b, const pf_pulse_shape
     if (slices < 1 || slices > 1000000)
         return pf_fail(ctx, PF_EINVAL, "pulse slices must be 1 .. 1000000, got %d", slices);
     if (!isfinite(chirp)) return pf_fail(ctx, PF_EINVAL, "pulse chirp must be finite (rad/s^2), got %g", chirp);
-    if (slices > 1 && shape->envelope != PF_ENVELOPE_SQUARE)
-        return pf_fail(ctx, PF_EINVAL, "a force or a chirp during a pulse needs a square envelope");
     pf_status s = check_shape(ctx, shape);
     if (s) return s;
     pf_wave *w2[2] = {a, b};

@@ -81,7 +81,8 @@ pf_status pf_pulse_two_level(pf_wave *a, pf_wave *b, const pf_pulse_shape *shape
  * is then phase - detuning t - chirp t^2 / 2) acting during it: Strang
  * splitting into `slices` pulses between force kicks (error of order
  * (duration / slices)^2; slices = 1 with no force and no chirp is the plain
- * pulse).  Square envelopes only when slices > 1. */
+ * pulse).  A Gaussian envelope is cut into slices of itself (each slice a
+ * window of the same Gaussian, peak_offset placing its peak). */
 pf_status pf_pulse_two_level_moving(pf_wave *a, pf_wave *b, const pf_pulse_shape *shape, const pf_pulse_light *light,
                                     double chirp, const double *accel_a, const double *accel_b, int slices);
 

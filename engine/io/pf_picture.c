@@ -720,25 +720,90 @@ static size_t samples_in_box(const pf_lines *p, double fx, double fy, double lef
     return n;
 }
 
-/* Legend on a white box with a frame, one row per labelled series, in the
- * corner the caller chose unless it would hide samples of the curves: then
- * in the corner that hides the fewest (the requested one wins ties). */
-static void draw_legend(const pf_lines *p, double sx, double sy, double xmin, double xmax, double ymin, double ymax)
+/* Legend rows and box size as fractions of the panel. */
+static size_t legend_rows(const pf_lines *p)
 {
     size_t rows = 0;
     for (size_t k = 0; k < p->nseries; k++) rows += p->series[k].label != NULL;
-    if (!rows) return;
+    return rows;
+}
+#define LEGEND_W 0.30
+#define LEGEND_ROW 0.065
+static double legend_height(size_t rows) { return LEGEND_ROW * (double)rows + 0.03; }
+
+/* The corner (0..3) whose legend box hides the fewest samples, the
+ * requested one winning ties; *hidden gets that count. */
+static int legend_corner(const pf_lines *p, double sx, double sy, const double box[4], size_t *hidden)
+{
+    double xmin = box[0], xmax = box[1], ymin = box[2], ymax = box[3];
     double W = xmax - xmin, H = ymax - ymin;
-    double bw = 0.30 * W, rh = 0.065 * H, bh = rh * (double)rows + 0.03 * H;
+    double bw = LEGEND_W * W, bh = legend_height(legend_rows(p)) * H;
     int corner = p->legend;
     size_t best = (size_t)-1;
     for (int t = 0; t < 4 && best; t++) {
         int c = (p->legend + t) % 4;
         double l = (c & 1) ? xmax - 0.02 * W - bw : xmin + 0.02 * W;
         double tp = (c & 2) ? ymin + 0.03 * H + bh : ymax - 0.03 * H;
-        size_t hidden = samples_in_box(p, sx, sy, l, bw, tp, bh);
-        if (hidden < best) best = hidden, corner = c;
+        size_t h = samples_in_box(p, sx, sy, l, bw, tp, bh);
+        if (h < best) best = h, corner = c;
     }
+    *hidden = best;
+    return corner;
+}
+
+/* Markers for series that coincide with an earlier one (same x, y within
+ * 1 % of the plot's span, or 2 % on a log scale): a dashed curve on top of
+ * an equal solid one would be invisible.  marked[k] is the marker stride
+ * (0: none); yspan in the series' own units. */
+static void coincident_markers(const pf_lines *p, double yspan, size_t *marked)
+{
+    for (size_t k = 0; k < p->nseries; k++) {
+        marked[k] = 0;
+        const pf_series *s = &p->series[k];
+        if (s->points || s->n < 2) continue;
+        for (size_t j = 0; j < k && !marked[k]; j++) {
+            const pf_series *r = &p->series[j];
+            if (r->n != s->n) continue;
+            int same = 1;
+            for (size_t i = 0; i < s->n && same; i++)
+                same = s->x[i] == r->x[i] && (p->log_y ? fabs(s->y[i] - r->y[i]) <= 0.02 * fabs(r->y[i])
+                                                       : fabs(s->y[i] - r->y[i]) <= 0.01 * yspan);
+            if (same) marked[k] = s->n / 24 > 1 ? s->n / 24 : 1; /* about two dozen markers */
+        }
+    }
+}
+
+static const PLINT MARKER_CODE[6] = {17, 5, 4, 11, 13, 2}; /* filled dot, cross, circle, diamond, triangle, plus */
+
+/* Everything a line plot's drawing needs, computed before PLplot starts. */
+typedef struct lines_job {
+    const pf_lines *p;
+    FILE *out;
+    int w, h;
+    double ch;                 /* text height, px */
+    double fx, fy;
+    double box[4];             /* xmin, xmax, ymin, ymax in display units */
+    char xl[96], yl[128];
+    PLFLT *bx, *by;            /* scratch for one series */
+    size_t *marked;            /* marker stride per series, 0: none */
+    const double *rx, *ry;     /* residual samples (display units), rn of them */
+    size_t rn;
+    double rbox[2];            /* residual panel's y range */
+    char rl[160];              /* its y label */
+    const char *device;
+} lines_job;
+
+/* Legend on a white box with a frame, one row per labelled series, in the
+ * corner legend_corner chose. */
+static void draw_legend(const lines_job *j)
+{
+    const pf_lines *p = j->p;
+    size_t rows = legend_rows(p), hidden;
+    if (!rows) return;
+    double xmin = j->box[0], xmax = j->box[1], ymin = j->box[2], ymax = j->box[3];
+    int corner = legend_corner(p, j->fx, j->fy, j->box, &hidden);
+    double W = xmax - xmin, H = ymax - ymin;
+    double bw = LEGEND_W * W, rh = LEGEND_ROW * H, bh = legend_height(rows) * H;
     double left = (corner & 1) ? xmax - 0.02 * W - bw : xmin + 0.02 * W;
     double top = (corner & 2) ? ymin + 0.03 * H + bh : ymax - 0.03 * H;
     PLFLT fx[4] = {left, left + bw, left + bw, left}, fy[4] = {top, top, top - bh, top - bh};
@@ -756,12 +821,10 @@ static void draw_legend(const pf_lines *p, double sx, double sy, double xmin, do
         plcol0(2 + (PLINT)(k % 6));
         plwidth(s->dashed ? 1.6 : 2.0);
         pllsty(s->dashed ? 2 : 1);
-        if (s->points) {
-            PLFLT mx = (lx[0] + lx[1]) / 2;
-            plpoin(1, &mx, &ly[0], 17);
-        } else {
-            plline(2, lx, ly);
-        }
+        PLFLT mx = (lx[0] + lx[1]) / 2;
+        if (s->points) plpoin(1, &mx, &ly[0], 17);
+        else plline(2, lx, ly);
+        if (j->marked[k]) plpoin(1, &mx, &ly[0], MARKER_CODE[k % 6]);
         pllsty(1);
         plwidth(1.0);
         plcol0(1);
@@ -770,35 +833,26 @@ static void draw_legend(const pf_lines *p, double sx, double sy, double xmin, do
     }
 }
 
-/* Everything a line plot's drawing needs, computed before PLplot starts. */
-typedef struct lines_job {
-    const pf_lines *p;
-    FILE *out;
-    int w, h;
-    double fx, fy;
-    double box[4];             /* xmin, xmax, ymin, ymax in display units */
-    char xl[96], yl[128];
-    PLFLT *bx, *by;            /* scratch for one series */
-    const char *device;
-} lines_job;
-
 /* Draws a line plot (runs under pf_plguard). */
 static void draw_lines(void *user)
 {
     const lines_job *j = user;
     const pf_lines *p = j->p;
     double xmin = j->box[0], xmax = j->box[1], ymin = j->box[2], ymax = j->box[3];
-    begin_stream(j->out, j->w, j->h, j->device, text_px(j->w, j->h, 560));
-    plvpor(0.11, 0.95, 0.13, 0.89);
+    begin_stream(j->out, j->w, j->h, j->device, j->ch);
+    /* With a residual panel the plot takes the upper three quarters and
+     * the x axis is labelled under the residual panel only. */
+    double ylo = j->rn ? 0.36 : 0.13;
+    plvpor(0.11, 0.95, ylo, 0.89);
     plwind(xmin, xmax, ymin, ymax);
     /* Light grid first, frame and labels over it. */
     plcol0(6);
     pllsty(3);
-    plbox("g", 0, 0, p->log_y ? "g" : "g", 0, 0);
+    plbox("g", 0, 0, "g", 0, 0);
     pllsty(1);
     plcol0(1);
-    plbox("bcnst", 0, 0, p->log_y ? "bcnstvl" : "bcnstv", 0, 0);
-    pllab(j->xl, j->yl, "");
+    plbox(j->rn ? "bcst" : "bcnst", 0, 0, p->log_y ? "bcnstvl" : "bcnstv", 0, 0);
+    pllab(j->rn ? "" : j->xl, j->yl, "");
     plmtex("t", 1.4, 0.0, 0.0, p->title ? p->title : "");
     for (size_t k = 0; k < p->nseries; k++) {
         const pf_series *s = &p->series[k];
@@ -816,9 +870,49 @@ static void draw_lines(void *user)
         else plline((PLINT)m, j->bx, j->by);
         pllsty(1);
         plwidth(1.0);
+        if (j->marked[k]) {
+            /* Sparse markers, offset per series so two marked curves interleave. */
+            size_t step = j->marked[k], n = 0;
+            for (size_t i = (k * step) / 3 % step; i < m; i += step) j->bx[n] = j->bx[i], j->by[n] = j->by[i], n++;
+            plpoin((PLINT)n, j->bx, j->by, MARKER_CODE[k % 6]);
+        }
     }
-    draw_legend(p, j->fx, j->fy, xmin, xmax, ymin, ymax);
+    draw_legend(j);
+    if (j->rn) {
+        plvpor(0.11, 0.95, 0.13, 0.31);
+        plwind(xmin, xmax, j->rbox[0], j->rbox[1]);
+        plcol0(6);
+        pllsty(3);
+        plbox("g", 0, 0, "g", 0, 0);
+        pllsty(1);
+        PLFLT zx[2] = {xmin, xmax}, zy[2] = {0, 0};
+        plline(2, zx, zy);
+        plcol0(1);
+        plbox("bcnst", 0, 0, "bcnstv", 0, 0);
+        pllab(j->xl, "", "");
+        plmtex("t", 0.4, 0.0, 0.0, j->rl);
+        plcol0(2 + (PLINT)((p->residual_of - 1) % 6));
+        plwidth(1.6);
+        plline((PLINT)j->rn, (PLFLT *)j->rx, (PLFLT *)j->ry);
+        if (j->rn <= 60) plpoin((PLINT)j->rn, (PLFLT *)j->rx, (PLFLT *)j->ry, 17);
+        plwidth(1.0);
+    }
     plend1();
+}
+
+/* The reference series r at x (linear between its samples, which must
+ * ascend); NAN outside its range. */
+static double interpolate_series(const pf_series *r, double x)
+{
+    if (r->n == 1) return x == r->x[0] ? r->y[0] : NAN;
+    if (x < r->x[0] || x > r->x[r->n - 1]) return NAN;
+    size_t lo = 0, hi = r->n - 1;
+    while (hi - lo > 1) {
+        size_t mid = (lo + hi) / 2;
+        if (r->x[mid] <= x) lo = mid; else hi = mid;
+    }
+    double dx = r->x[hi] - r->x[lo];
+    return dx > 0 ? r->y[lo] + (r->y[hi] - r->y[lo]) * (x - r->x[lo]) / dx : r->y[lo];
 }
 
 pf_status pf_picture_lines(pf_context *ctx, const char *path, int overwrite, const pf_lines *p)
@@ -827,6 +921,11 @@ pf_status pf_picture_lines(pf_context *ctx, const char *path, int overwrite, con
     int w = p->width ? p->width : 860, h = p->height ? p->height : 560;
     if (w < 200 || h < 150 || w > 8000 || h > 8000)
         return pf_fail(ctx, PF_EINVAL, "picture size %d x %d is outside 200x150..8000x8000", w, h);
+    if ((p->residual_of || p->residual_ref) &&
+        (p->residual_of < 1 || p->residual_of > p->nseries || p->residual_ref < 1 || p->residual_ref > p->nseries ||
+         p->residual_of == p->residual_ref))
+        return pf_fail(ctx, PF_EINVAL, "a residual needs two different series among 1..%zu, got %zu and %zu", p->nseries,
+                       p->residual_of, p->residual_ref);
     double xmin = INFINITY, xmax = -INFINITY, ymin = INFINITY, ymax = -INFINITY;
     for (size_t k = 0; k < p->nseries; k++) {
         const pf_series *s = &p->series[k];
@@ -842,6 +941,12 @@ pf_status pf_picture_lines(pf_context *ctx, const char *path, int overwrite, con
         }
     }
     if (p->log_y && !(ymax > 0)) return pf_fail(ctx, PF_EINVAL, "a logarithmic plot needs positive values");
+    if (p->residual_ref) {
+        const pf_series *r = &p->series[p->residual_ref - 1];
+        for (size_t i = 1; i < r->n; i++)
+            if (!(r->x[i] > r->x[i - 1]))
+                return pf_fail(ctx, PF_EINVAL, "the residual's reference (series %zu) needs ascending x", p->residual_ref);
+    }
     char ux[32], yl[128], xl[96], yunit[48];
     double fx = pf_display_unit(p->xa.q, max_abs2(xmin, xmax), ux, sizeof ux);
     double fy = p->y_per_x ? 1 / fx : 1;
@@ -857,20 +962,73 @@ pf_status pf_picture_lines(pf_context *ctx, const char *path, int overwrite, con
         if (ymax - ymin > 12) ymin = ymax - 12; /* twelve decades keep the curve readable */
     }
     if (!(ymax > ymin)) ymin -= 0.5, ymax += 0.5;
-    double pad = 0.05 * (ymax - ymin);
+    double yspan = ymax - ymin;
+    double pad = 0.05 * yspan;
     if (!p->log_y && ymin >= 0 && ymin - pad < 0) ymin = pad; /* nonnegative data sit on the axis */
-    ymin -= pad, ymax += pad;
+    /* Headroom: 8 % above the highest curve. */
+    ymin -= pad, ymax += 0.08 * yspan;
     size_t nmax = 0;
     for (size_t k = 0; k < p->nseries; k++) nmax = p->series[k].n > nmax ? p->series[k].n : nmax;
-    lines_job job = {p, NULL, w, h, fx, fy, {xmin, xmax, ymin, ymax}, "", "", NULL, NULL, device_for(path)};
+    lines_job job = {p, NULL, w, h, text_px(w, h, 560), fx, fy, {xmin, xmax, ymin, ymax}, "", "", NULL, NULL, NULL,
+                     NULL, NULL, 0, {0, 0}, "", device_for(path)};
+    /* A legend that would hide samples in every corner gets room above the
+     * curves instead: the top rises until an upper corner is free. */
+    size_t hidden;
+    if (legend_rows(p)) {
+        legend_corner(p, fx, fy, job.box, &hidden);
+        for (int t = 0; t < 8 && hidden; t++) {
+            double f = legend_height(legend_rows(p)) + 0.06;
+            double top = ymax + (ymax - ymin) * f / (1 - f);
+            job.box[3] = ymax = top;
+            legend_corner(p, fx, fy, job.box, &hidden);
+        }
+    }
     snprintf(job.xl, sizeof job.xl, "%s", xl);
     snprintf(job.yl, sizeof job.yl, "%s", yl);
     job.bx = malloc(nmax * sizeof *job.bx);
     job.by = malloc(nmax * sizeof *job.by);
-    if (!job.bx || !job.by) {
+    job.marked = malloc(p->nseries * sizeof *job.marked);
+    size_t rcap = p->residual_of ? p->series[p->residual_of - 1].n : 0;
+    double *res = rcap ? malloc(2 * rcap * sizeof *res) : NULL;
+    if (!job.bx || !job.by || !job.marked || (rcap && !res)) {
         free(job.bx);
         free(job.by);
+        free(job.marked);
+        free(res);
         return pf_fail(ctx, PF_ENOMEM, "out of memory");
+    }
+    coincident_markers(p, yspan / (p->log_y ? 1 : fy), job.marked);
+    if (rcap) {
+        /* Residual: result minus reference at the result's x (display units). */
+        const pf_series *a = &p->series[p->residual_of - 1], *r = &p->series[p->residual_ref - 1];
+        double lo = INFINITY, hi = -INFINITY;
+        for (size_t i = 0; i < a->n; i++) {
+            double ref = interpolate_series(r, a->x[i]);
+            if (isnan(ref)) continue;
+            res[job.rn] = a->x[i] * fx;
+            res[rcap + job.rn] = (a->y[i] - ref) * fy;
+            lo = fmin(lo, res[rcap + job.rn]);
+            hi = fmax(hi, res[rcap + job.rn]);
+            job.rn++;
+        }
+        if (!job.rn) {
+            free(job.bx), free(job.by), free(job.marked), free(res);
+            return pf_fail(ctx, PF_EINVAL, "series %zu has no x inside the range of its residual's reference (series %zu)",
+                           p->residual_of, p->residual_ref);
+        }
+        /* Symmetric about zero, so the sign of the deviation reads at once. */
+        double amp = fmax(fabs(lo), fabs(hi));
+        if (!(amp > 0)) amp = fmax(1e-300, 1e-12 * (fabs(ymax) + fabs(ymin)));
+        /* A power of ten goes into the unit text above the panel, not into
+         * PLplot's detached "(x10^n)" that would collide with the label. */
+        int e10 = (int)floor(log10(amp));
+        double f = e10 < -2 || e10 > 3 ? pow(10.0, -e10) : 1;
+        for (size_t i = 0; i < job.rn; i++) res[rcap + i] *= f;
+        amp *= f;
+        job.rbox[0] = -1.15 * amp, job.rbox[1] = 1.15 * amp;
+        job.rx = res, job.ry = res + rcap;
+        if (f != 1) snprintf(job.rl, sizeof job.rl, "residual in 10#u%d#d %s", e10, *yunit ? yunit : "");
+        else snprintf(job.rl, sizeof job.rl, "residual%s%s", *yunit ? " in " : "", yunit);
     }
     pf_safefile sf;
     pf_status st = pf_safe_begin(ctx, path, overwrite, &sf);
@@ -880,5 +1038,7 @@ pf_status pf_picture_lines(pf_context *ctx, const char *path, int overwrite, con
     }
     free(job.bx);
     free(job.by);
+    free(job.marked);
+    free(res);
     return st;
 }

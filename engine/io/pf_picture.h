@@ -72,6 +72,10 @@ typedef struct pf_lines {
     size_t nseries;
     const pf_series *series;
     int width, height;        /* 0: 860 x 560 */
+    /* A residual panel under the plot: series residual_of minus series
+     * residual_ref (1-based; the reference interpolated linearly at the
+     * result's x, inside its range), 0: none. */
+    size_t residual_of, residual_ref;
 } pf_lines;
 
 pf_status pf_picture_map(pf_context *ctx, const char *path, int overwrite, const pf_map *m);

@@ -16,7 +16,9 @@ static const pfl_options_decl MAP_OPTIONS = {
                                             "crop", "pixel", "x", "y", "value_name", "value_unit", "value_max", NULL}};
 static const pfl_options_decl LINES_OPTIONS = {
     "pf.picture_lines", (const char *const[]){"title", "x_name", "x_quantity", "y_name", "y_unit", "y_per_x", "log_y",
-                                              "legend", "width", "height", "series", "overwrite", NULL}};
+                                              "legend", "width", "height", "series", "overwrite", "residual", NULL}};
+static const pfl_options_decl RESIDUAL_OPTIONS = {"pf.picture_lines residual",
+                                                  (const char *const[]){"result", "formula", NULL}};
 static const pfl_options_decl SERIES_OPTIONS = {
     "pf.picture_lines series[i]", (const char *const[]){"x", "y", "label", "dashed", "points", NULL}};
 static const pfl_options_decl CARPET_OPTIONS = {
@@ -409,7 +411,7 @@ static double *number_array(lua_State *L, int t, const char *field, size_t k, si
 
 /* pf.picture_lines(path, {title=, x_name=, x_quantity=, y_name=, y_unit=,
  *   y_per_x=, log_y=, legend="upper right", width=, height=, series = {{x=, y=, label=, dashed=,
- *   points=}, ...}}) -> final path */
+ *   points=}, ...}, residual = {result = i, formula = j}}) -> final path */
 static int l_picture_lines(lua_State *L)
 {
     const char *path = pfl_output_resolve(L, luaL_checkstring(L, 1), "picture_lines");
@@ -448,6 +450,19 @@ static int l_picture_lines(lua_State *L)
         .series = series,
         .width = opt_int(L, 2, "width", 0), .height = opt_int(L, 2, "height", 0),
     };
+    if (pfl_option_get(L, 2, "residual") != LUA_TNIL) {
+        /* residual = {result = i, formula = j}: a panel of series i minus series j. */
+        int r = lua_gettop(L);
+        if (lua_type(L, r) != LUA_TTABLE)
+            return luaL_error(L, "picture_lines: field 'residual' must be a table {result = i, formula = j}");
+        pfl_options_check(L, r, &RESIDUAL_OPTIONS);
+        double a = pfl_field_number(L, r, "result", 0, 1), b = pfl_field_number(L, r, "formula", 0, 1);
+        if (a != floor(a) || b != floor(b) || a < 1 || b < 1 || a > (double)ns || b > (double)ns || a == b)
+            return luaL_error(L, "picture_lines: residual needs two different series numbers 1..%d, got %f and %f",
+                              (int)ns, a, b);
+        p.residual_of = (size_t)a, p.residual_ref = (size_t)b;
+    }
+    lua_pop(L, 1);
     commit_picture(L, pf_picture_lines(pfl_ctx(L), path, pfl_overwrite_option(L, 2), &p), path, "picture_lines");
     lua_pushvalue(L, pathidx);
     return 1;
@@ -538,7 +553,7 @@ void pfl_open_pictures(lua_State *L, int mod)
         {NULL, NULL},
     };
     pfl_add_functions(L, mod, funcs);
-    static const pfl_options_decl *const options[] = {&MAP_OPTIONS,    &LINES_OPTIONS, &SERIES_OPTIONS,
+    static const pfl_options_decl *const options[] = {&MAP_OPTIONS,    &LINES_OPTIONS, &SERIES_OPTIONS, &RESIDUAL_OPTIONS,
                                                       &CARPET_OPTIONS, &MARK_OPTIONS,  NULL};
     pfl_options_declare(L, options);
 }

@@ -72,6 +72,8 @@ local callers = {
   ["pf.picture_map"] = function(o) pf.picture_map("options-walk.png", w2, o) end,
   ["pf.picture_lines"] = function(o) pf.picture_lines("options-walk.png", o) end,
   ["pf.picture_lines series[i]"] = function(o) pf.picture_lines("options-walk.png", {series = {o}}) end,
+  ["pf.picture_lines residual"] = function(o) pf.picture_lines("options-walk.png", {residual = o,
+    series = {{x = {0, 1}, y = {0, 1}}, {x = {0, 1}, y = {0, 1.1}}}}) end,
   ["pf.picture_carpet"] = function(o) pf.picture_carpet("options-walk.png", w1, o) end,
   ["pf.picture_carpet marks[i]"] = function(o) pf.picture_carpet("options-walk.png", w1, {duration = 1e-6, frames = 2, marks = {o}}) end,
   ["pf.parameters spec"] = function(o) pf.parameters{walk_value = o} end,

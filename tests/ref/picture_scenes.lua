@@ -30,3 +30,25 @@ pf.picture_carpet("carpet.pdf", w1, {duration = dur, frames = 60, x_range = {-20
 pf.picture_lines("lines.pdf", {title = "PDF lines", x_name = "t", x_quantity = "time",
   series = {{x = {0, 1e-3, 2e-3}, y = {0, 1, 4}, label = "y"}}})
 print(string.format("peak %.6e", peak))
+-- Line plots: coinciding curves, a curve filling the top, a residual panel.
+local xs, a, b, c, flat = {}, {}, {}, {}, {}
+for i = 0, 200 do
+  local x = i * 1e-3 / 200
+  xs[#xs + 1], a[#a + 1] = x, math.exp(-((x - 5e-4) / 2e-4) ^ 2)
+  b[#b + 1], c[#c + 1], flat[#flat + 1] = a[#a], 0.6 * a[#a], 1 - 0.1 * math.sin(6.283 * x / 1e-3) ^ 2
+end
+local function two(second, name)
+  pf.picture_lines(name, {title = "two curves", x_name = "t", x_quantity = "time",
+    series = {{x = xs, y = a, label = "engine"}, {x = xs, y = second, label = "formula", dashed = true}}})
+end
+two(b, "lines_coincide.png")
+two(c, "lines_apart.png")
+pf.picture_lines("lines_flat.png", {title = "a curve across the top", x_name = "t", x_quantity = "time",
+  series = {{x = xs, y = flat, label = "nearly flat"}, {x = xs, y = a, label = "bump"}}})
+local coarse, noisy = {}, {}
+for i = 1, #xs, 10 do coarse[#coarse + 1], noisy[#noisy + 1] = xs[i], a[i] + 0.01 * math.sin(i) end
+pf.picture_lines("lines_residual.png", {title = "result against formula", x_name = "t", x_quantity = "time",
+  series = {{x = coarse, y = noisy, label = "result", points = true}, {x = xs, y = a, label = "formula", dashed = true}},
+  residual = {result = 1, formula = 2}})
+pf.picture_lines("lines_plain.png", {title = "result against formula", x_name = "t", x_quantity = "time",
+  series = {{x = coarse, y = noisy, label = "result", points = true}, {x = xs, y = a, label = "formula", dashed = true}}})

@@ -103,7 +103,28 @@ ok(w < 700 and abs((b - t) / (x1 - x0) - 3) < 0.1, "tall cloud: picture %d wide,
 w, h, rows, (x0, t, x1, b), _ = panel_and_bar("map_sliver.png")
 ok(x1 - x0 >= 400 and b - t >= 300, "80 um x 3.4 mm grid: panel %d x %d pixels, not a sliver" % (x1 - x0, b - t))
 
-# 7. PDF documents.
+# 7. Line plots.
+def near(p, c, t=40): return all(abs(p[i] - c[i]) < t for i in range(3))
+def count_colour(name, c):
+    w, h, rows = decode(d + "/" + name)
+    return sum(near(pixel(rows, x, y), c) for y in range(h) for x in range(w))
+second = (200, 70, 40)  # the second series' colour (pf_picture.c palette)
+nc, na = count_colour("lines_coincide.png", second), count_colour("lines_apart.png", second)
+ok(nc > 1.5 * na, "a dashed curve on an equal solid one gets markers: %d pixels of its colour against %d when apart" % (nc, na))
+def frame_rows(name):
+    """First rows of the horizontal frame lines (80 % of the panel width dark)."""
+    w, h, rows = decode(d + "/" + name)
+    x0, x1 = int(0.11 * w) + 2, int(0.95 * w) - 2
+    dark = [y for y in range(h) if sum(max(pixel(rows, x, y)) < 120 for x in range(x0, x1)) > 0.8 * (x1 - x0)]
+    return [y for i, y in enumerate(dark) if i == 0 or dark[i - 1] != y - 1]
+fr, fp = frame_rows("lines_residual.png"), frame_rows("lines_plain.png")
+ok(len(fr) == 4 and len(fp) == 2, "residual = {result, formula}: a second panel under the plot (frame lines at rows %s; without: %s)" % (fr, fp))
+w, h, rows = decode(d + "/lines_flat.png")
+top, bottom = frame_rows("lines_flat.png")
+blue = next(y for y in range(h) if any(near(pixel(rows, x, y), (30, 80, 170)) for x in range(int(0.12 * w), int(0.6 * w))))
+ok(blue - top >= 0.15 * (bottom - top), "a curve across the whole top leaves room for the legend: highest curve %d px under the frame (panel %d px)" % (blue - top, bottom - top))
+
+# 8. PDF documents.
 for name in ("carpet.pdf", "lines.pdf"):
     data = open(d + "/" + name, "rb").read()
     ok(data.startswith(b"%PDF-") and data.rstrip().endswith(b"%%EOF"), "%s: PDF header and end-of-file marker [ISO 32000-1]" % name)

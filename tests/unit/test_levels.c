@@ -135,7 +135,8 @@ static void test_stern_gerlach_frame(void **state)
  * (1 - cos(K a T^2 + phi3)) / 2 for short pulses (M. Kasevich and S. Chu,
  * Phys. Rev. Lett. 67, 181 (1991)); the frame and the lab grid agree to
  * rounding when gravity acts in the flights. */
-static double mach_zehnder(int moving, double a, double T, double phi3, int force_in_pulses, double *pa_out)
+static double mach_zehnder(int moving, double a, double T, double phi3, int force_in_pulses, double *pa_out,
+                           pf_envelope env)
 {
     set s;
     set_make(&s, 2, 1024, 200e-6, 5e-6, 0, 0, moving);
@@ -145,6 +146,12 @@ static double mach_zehnder(int moving, double a, double T, double phi3, int forc
     double areas[3] = {PF_PI / 2, PF_PI, PF_PI / 2}, phases[3] = {0, 0, phi3};
     for (int p = 0; p < 3; p++) {
         pf_pulse_shape sh = {.envelope = PF_ENVELOPE_SQUARE, .duration = areas[p] / om, .rabi = om};
+        if (env == PF_ENVELOPE_GAUSSIAN) { /* width tau / 2, window 6 widths, peak sqrt(2 pi) (pi/2) / ... */
+            sh.envelope = PF_ENVELOPE_GAUSSIAN;
+            sh.width = 0.5 * sh.duration;
+            sh.duration = 6 * sh.width;
+            sh.rabi = areas[p] / (sh.width * sqrt(2 * PF_PI));
+        }
         pf_pulse_light li = {.kick = {K}, .detuning = wr, .phase = phases[p]};
         assert_int_equal(pf_levels_pulse(s.lv, 0, 1, &sh, &li, 0, force_in_pulses ? &f : NULL, force_in_pulses ? 16 : 1),
                          PF_OK);
@@ -164,14 +171,21 @@ static void test_mach_zehnder_frame(void **state)
     const double K = 64 * 2 * PF_PI / 200e-6;
     for (int j = 0; j < 3; j++) {
         double phi3 = 0.7 * j, pa_lab, pa_fr;
-        double lab = mach_zehnder(0, a, T, phi3, 0, &pa_lab), fr = mach_zehnder(1, a, T, phi3, 0, &pa_fr);
+        double lab = mach_zehnder(0, a, T, phi3, 0, &pa_lab, PF_ENVELOPE_SQUARE);
+        double fr = mach_zehnder(1, a, T, phi3, 0, &pa_fr, PF_ENVELOPE_SQUARE);
         TU_NEAR(fr, lab, 1e-10, "Mach-Zehnder exit port: shared frame = lab grid");
         TU_NEAR(fr, (1 - cos(K * a * T * T + phi3)) / 2, 2e-3, "exit port vs (1 - cos(K a T^2 + phi))/2 (Kasevich & Chu 1991)");
     }
     /* Gravity during the pulses too: both are Strang splittings of the same
      * evolution (16 slices), so they agree to the splitting error. */
-    double lab = mach_zehnder(0, a, T, 0.4, 1, NULL), fr = mach_zehnder(1, a, T, 0.4, 1, NULL);
+    double lab = mach_zehnder(0, a, T, 0.4, 1, NULL, PF_ENVELOPE_SQUARE);
+    double fr = mach_zehnder(1, a, T, 0.4, 1, NULL, PF_ENVELOPE_SQUARE);
     TU_NEAR(fr, lab, 1e-10, "gravity during the pulses: frame vs lab grid");
+    /* Gaussian envelopes cut into slices of themselves, both ways. */
+    lab = mach_zehnder(0, a, T, 0.4, 1, NULL, PF_ENVELOPE_GAUSSIAN);
+    fr = mach_zehnder(1, a, T, 0.4, 1, NULL, PF_ENVELOPE_GAUSSIAN);
+    TU_NEAR(fr, lab, 1e-10, "Gaussian pulses with gravity: frame vs lab grid");
+    TU_NEAR(fr, (1 - cos(K * a * T * T + 0.4)) / 2, 2e-3, "Gaussian pulses: exit port vs K a T^2 (Kasevich & Chu 1991)");
 }
 
 /* A Raman pi pulse on a cloud whose frame moves at V: each class q goes to
