@@ -100,7 +100,25 @@ pf_status pf_dist_axis_moments(pf_wave *w, const double *const *weights, double 
 {
     return pf_reduce_axis_moments(w->grid, w->store, weights, sums);
 }
+pf_status pf_dist_sums(pf_grid *g, const double complex *z, pf_rep rep, const double *const *weights, double *sums)
+{
+    (void)rep;
+    return pf_reduce_axis_moments(g, z, weights, sums);
+}
+void pf_dist_forward(pf_grid *g, double complex *data) { (void)g, (void)data; }
 double pf_dist_band_sum(const pf_wave *w, int a) { (void)w, (void)a; return 0.0; }
+size_t pf_dist_position_values(const pf_grid *g) { return g->total; }
+void pf_dist_minmax(const pf_grid *g, double *lo, double *hi) { (void)g, (void)lo, (void)hi; }
+int pf_dist_any(const pf_grid *g, int flag) { (void)g; return flag; }
+void pf_dist_kinetic(pf_grid *g, double complex *data, double complex *const *tables, double scale)
+{
+    (void)g, (void)data, (void)tables, (void)scale;
+}
+void pf_grid_local_range(const pf_grid *g, size_t *begin, size_t *end)
+{
+    *begin = 0;
+    *end = g->total;
+}
 pf_status pf_dist_marginals(const pf_wave *w, double **marg)
 {
     (void)marg;
@@ -199,6 +217,56 @@ void pf_grid_slab(const pf_grid *g, pf_rep rep, size_t *first, size_t *count)
     }
     *first = (size_t)(rep == PF_MOMENTUM ? g->dist->start1 : g->dist->start0);
     *count = (size_t)(rep == PF_MOMENTUM ? g->dist->n1loc : g->dist->n0loc);
+}
+
+void pf_grid_local_range(const pf_grid *g, size_t *begin, size_t *end)
+{
+    if (!g->dist) {
+        *begin = 0;
+        *end = g->total;
+        return;
+    }
+    *begin = (size_t)g->dist->start0 * g->dist->plane;
+    *end = *begin + (size_t)g->dist->n0loc * g->dist->plane;
+}
+
+size_t pf_dist_position_values(const pf_grid *g)
+{
+    return g->dist ? (size_t)g->dist->n0loc * g->dist->plane : g->total;
+}
+
+void pf_dist_minmax(const pf_grid *g, double *lo, double *hi)
+{
+    if (!g->dist) return;
+    MPI_Allreduce(MPI_IN_PLACE, lo, 1, MPI_DOUBLE, MPI_MIN, MPI_COMM_WORLD);
+    MPI_Allreduce(MPI_IN_PLACE, hi, 1, MPI_DOUBLE, MPI_MAX, MPI_COMM_WORLD);
+}
+
+int pf_dist_any(const pf_grid *g, int flag)
+{
+    if (!g->dist) return flag;
+    MPI_Allreduce(MPI_IN_PLACE, &flag, 1, MPI_INT, MPI_MAX, MPI_COMM_WORLD);
+    return flag;
+}
+
+void pf_dist_kinetic(pf_grid *g, double complex *data, double complex *const *tables, double scale)
+{
+    const struct pf_dist_grid *D = g->dist;
+    fftw_mpi_execute_dft(D->fwd, data, data);
+    /* Transposed layout: axis 1 slowest, then axis 0, then axis 2 (3D). */
+    const size_t n0 = g->n[0], row = g->dim == 3 ? g->n[2] : n0;
+    const size_t rows = (size_t)D->n1loc * D->tplane / row;
+    const double complex *T0 = tables[0], *T1 = tables[1], *Tr = g->dim == 3 ? tables[2] : T0;
+    ptrdiff_t nr = (ptrdiff_t)rows;
+#pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
+    for (ptrdiff_t r = 0; r < nr; r++) {
+        size_t j1 = (size_t)D->start1 + (g->dim == 3 ? (size_t)r / n0 : (size_t)r);
+        double complex q = scale * T1[j1];
+        if (g->dim == 3) q *= T0[(size_t)r % n0];
+        double complex *z = data + (size_t)r * row;
+        for (size_t k = 0; k < row; k++) z[k] *= q * Tr[k];
+    }
+    fftw_mpi_execute_dft(D->bwd, data, data);
 }
 
 /* FFTW-MPI needs fftw_mpi_init once per process, after the threads layer
@@ -448,14 +516,20 @@ static void moments_block(void *user, size_t begin, size_t end, const size_t *st
     }
 }
 
-pf_status pf_dist_axis_moments(pf_wave *w, const double *const *weights, double *sums)
+pf_status pf_dist_sums(pf_grid *g, const double complex *z, pf_rep rep, const double *const *weights, double *sums)
 {
-    pf_grid *g = w->grid;
-    if (!g->dist) return pf_reduce_axis_moments(g, w->store, weights, sums);
-    moments_job job = {g, w->store, weights, w->rep == PF_MOMENTUM};
-    pf_dist_reduce(g, w->rep, 1 + 2 * g->dim, moments_block, &job, sums);
+    if (!g->dist) return pf_reduce_axis_moments(g, z, weights, sums);
+    moments_job job = {g, z, weights, rep == PF_MOMENTUM};
+    pf_dist_reduce(g, rep, 1 + 2 * g->dim, moments_block, &job, sums);
     return PF_OK;
 }
+
+pf_status pf_dist_axis_moments(pf_wave *w, const double *const *weights, double *sums)
+{
+    return pf_dist_sums(w->grid, w->store, w->rep, weights, sums);
+}
+
+void pf_dist_forward(pf_grid *g, double complex *data) { fftw_mpi_execute_dft(g->dist->fwd, data, data); }
 
 typedef struct band_job {
     const pf_grid *g;

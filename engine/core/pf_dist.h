@@ -55,6 +55,10 @@ int pf_wave_distributed(const pf_wave *w);
  * distributed holds all of them.  Bytes of one wave function on this rank. */
 void pf_grid_slab(const pf_grid *g, pf_rep rep, size_t *first, size_t *count);
 size_t pf_grid_local_bytes(const pf_grid *g);
+/* Global row-major offsets [*begin, *end) of the position samples this
+ * rank holds ([0, total) for a grid held whole): a sampler fills them in
+ * order into a local array of end - begin values. */
+void pf_grid_local_range(const pf_grid *g, size_t *begin, size_t *end);
 
 /* Gathers the whole wave in representation rep (position: natural order,
  * psi in the storage convention; momentum: FFT order S as a single process

@@ -348,6 +348,21 @@ void pf_dist_reduce(pf_grid *g, pf_rep layout, int width, pf_reduce_block_fn blo
 pf_status pf_dist_axis_moments(pf_wave *w, const double *const *weights, double *sums);
 double pf_dist_band_sum(const pf_wave *w, int a);
 pf_status pf_dist_marginals(const pf_wave *w, double **marg);
+/* For the split step (pf_splitstep.c): samples this rank holds in position
+ * (g->total when whole); min / max of *lo, *hi and max of flag over all
+ * ranks (no-ops when whole; min and max are exact, so the step chosen
+ * from them is the single process's); the kinetic sub-step on the
+ * transposed slab: forward transform, times scale T0[i] T1[j] T2[k],
+ * backward transform. */
+size_t pf_dist_position_values(const pf_grid *g);
+/* pf_reduce_axis_moments of local data z stored in the layout of rep, and
+ * the unscaled forward transform of local position data (for relax's
+ * energy; the result is in the transposed momentum layout). */
+pf_status pf_dist_sums(pf_grid *g, const double complex *z, pf_rep rep, const double *const *weights, double *sums);
+void pf_dist_forward(pf_grid *g, double complex *data);
+void pf_dist_minmax(const pf_grid *g, double *lo, double *hi);
+int pf_dist_any(const pf_grid *g, int flag);
+void pf_dist_kinetic(pf_grid *g, double complex *data, double complex *const *tables, double scale);
 /* The flight phase tables of g for tau (pf_flight.c). */
 void pf_flight_fill_tables(pf_grid *g, double tau);
 

@@ -4,7 +4,10 @@
 #include <stdlib.h>
 #include <string.h>
 #include "pf_constants.h"
+#include "pf_dist.h"
 #include "pf_kernels.h"
+
+static double abs2(double complex z) { return creal(z) * creal(z) + cimag(z) * cimag(z); }
 
 /* Same block size as pf_reduce.c: the split of every sum is fixed. */
 #define PF_KERNEL_BLOCK ((size_t)16384)
@@ -12,9 +15,46 @@
  * buffer, which holds at least one per PF_REDUCE_BLOCK points. */
 _Static_assert(PF_KERNEL_BLOCK >= PF_REDUCE_BLOCK, "kernel partials fit the grid's reduction buffer");
 
+/* A grid split over MPI ranks (pf_dist.h): the position slab's planes
+ * [first, first + count) of axis 0, data indexed from the slab's start. */
+static void dist_axis_multiply(pf_grid *g, double complex *data, const double complex *const *tables,
+                               double complex scale)
+{
+    size_t first, end;
+    pf_grid_local_range(g, &first, &end);
+    const size_t plane = g->total / g->n[0], inner = g->dim == 3 ? g->n[2] : g->n[1];
+    const size_t rows = (end - first) / inner, per_plane = plane / inner;
+    const double complex *t0 = tables[0], *t1 = tables[1], *t2 = g->dim > 2 ? tables[2] : NULL;
+    ptrdiff_t nr = (ptrdiff_t)rows;
+#pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
+    for (ptrdiff_t r = 0; r < nr; r++) {
+        size_t i = first / plane + (size_t)r / per_plane, j = (size_t)r % per_plane;
+        double complex *row = data + (size_t)r * inner;
+        if (g->dim == 2) {
+            double complex f = t0 ? scale * t0[i] : scale;
+            if (t1)
+                for (size_t k = 0; k < inner; k++) row[k] *= f * t1[k];
+            else
+                for (size_t k = 0; k < inner; k++) row[k] *= f;
+            continue;
+        }
+        double complex f = scale;
+        if (t0) f *= t0[i];
+        if (t1) f *= t1[j];
+        if (t2)
+            for (size_t k = 0; k < inner; k++) row[k] *= f * t2[k];
+        else
+            for (size_t k = 0; k < inner; k++) row[k] *= f;
+    }
+}
+
 void pf_kernel_axis_multiply(pf_grid *g, double complex *data, const double complex *const *tables,
                              double complex scale)
 {
+    if (g->dist) {
+        dist_axis_multiply(g, data, tables, scale);
+        return;
+    }
     const size_t n0 = g->n[0], n1 = g->n[1], n2 = g->n[2];
     const double complex *t0 = tables[0], *t1 = g->dim > 1 ? tables[1] : NULL,
                          *t2 = g->dim > 2 ? tables[2] : NULL;
@@ -57,11 +97,41 @@ void pf_kernel_axis_multiply(pf_grid *g, double complex *data, const double comp
     }
 }
 
-static double abs2(double complex z) { return creal(z) * creal(z) + cimag(z) * cimag(z); }
 
-/* Runs body over fixed blocks and sums the per-block partials in order. */
+typedef struct mask_job {
+    const pf_grid *g;
+    double complex *data;
+    const double complex *const *tables;
+} mask_job;
+
+/* One block of the axis mask over MPI ranks: the loop body below, on local
+ * offsets with the global multi-index. */
+static void mask_block(void *user, size_t begin, size_t end, const size_t *start, double *acc)
+{
+    const mask_job *job = user;
+    const int d = job->g->dim;
+    size_t idx[PF_MAX_DIM] = {start[0], start[1], start[2]};
+    for (size_t off = begin; off < end; off++) {
+        double complex f = 1.0;
+        for (int a = 0; a < d; a++)
+            if (job->tables[a]) f *= job->tables[a][idx[a]];
+        double rho = abs2(job->data[off]);
+        acc[0] += rho * (1.0 - abs2(f));
+        job->data[off] *= f;
+        pf_index_next(job->g, idx);
+    }
+}
+
+/* Runs body over fixed blocks and sums the per-block partials in order
+ * (over MPI ranks: the same blocks, pf_dist_reduce, so the same bits). */
 double pf_kernel_axis_mask(pf_grid *g, double complex *data, const double complex *const *tables)
 {
+    if (g->dist) {
+        mask_job job = {g, data, tables};
+        double sum = 0;
+        pf_dist_reduce(g, PF_POSITION, 1, mask_block, &job, &sum);
+        return sum;
+    }
     const int d = g->dim;
     const size_t *n = g->n;
     const size_t nblocks = (g->total + PF_KERNEL_BLOCK - 1) / PF_KERNEL_BLOCK;

@@ -4,6 +4,7 @@
 #include <stdlib.h>
 #include <string.h>
 #include "pf_constants.h"
+#include "pf_dist.h"
 #include "pf_guard.h"
 #include "pf_kernels.h"
 #include "pf_observe.h"
@@ -11,10 +12,36 @@
 
 #define BLOCK ((size_t)16384)
 
+typedef struct sums_job {
+    const double complex *z;
+    const double *V;
+} sums_job;
+
+/* One block of position_sums on a grid split over MPI ranks (local offsets). */
+static void sums_block(void *user, size_t begin, size_t end, const size_t *idx, double *acc)
+{
+    (void)idx;
+    const sums_job *job = user;
+    const double complex *z = job->z;
+    for (size_t i = begin; i < end; i++) {
+        double rho = creal(z[i]) * creal(z[i]) + cimag(z[i]) * cimag(z[i]);
+        acc[0] += rho;
+        if (job->V) acc[1] += job->V[i] * rho;
+        acc[2] += rho * rho;
+    }
+}
+
 /* Deterministic sums over position data: s[0] = sum rho, s[1] = sum V rho,
- * s[2] = sum rho^2 (fixed blocks, partials added in order). */
+ * s[2] = sum rho^2 (fixed blocks, partials added in order; over MPI ranks
+ * the same blocks in the same order, pf_dist_reduce). */
 static pf_status position_sums(pf_grid *g, const double complex *z, const double *V, double *s)
 {
+    if (g->dist) {
+        sums_job job = {z, V};
+        _Static_assert(BLOCK == PF_REDUCE_BLOCK, "the distributed blocks are the single process's");
+        pf_dist_reduce(g, PF_POSITION, 3, sums_block, &job, s);
+        return PF_OK;
+    }
     size_t nblocks = (g->total + BLOCK - 1) / BLOCK;
     double *part = pf_calloc(g->ctx, 3 * nblocks, sizeof(double));
     if (!part) return pf_context_status(g->ctx);
@@ -53,12 +80,13 @@ static pf_status energy_of(pf_wave *w, const double complex *z, const double *V,
     double pot = s[1] / s[0];
     /* integral |psi|^4 for psi normalised to 1: sum rho^2 dv / (sum rho dv)^2 */
     double quartic = s[2] / (s[0] * s[0] * dv);
-    memcpy(scratch, z, pf_bytes(gr->total, sizeof(double complex)));
-    if ((st = pf_grid_fft(gr, scratch, -1))) return st;
+    memcpy(scratch, z, pf_bytes(pf_dist_position_values(gr), sizeof(double complex)));
+    if (gr->dist) pf_dist_forward(gr, scratch); /* transposed momentum slab */
+    else if ((st = pf_grid_fft(gr, scratch, -1))) return st;
     double sums[1 + 2 * PF_MAX_DIM];
     const double *k[PF_MAX_DIM];
     for (int a = 0; a < gr->dim; a++) k[a] = gr->k[a];
-    if ((st = pf_reduce_axis_moments(gr, scratch, k, sums))) return st;
+    if ((st = pf_dist_sums(gr, scratch, PF_MOMENTUM, k, sums))) return st;
     double k2 = 0;
     for (int a = 0; a < gr->dim; a++) k2 += sums[1 + gr->dim + a] / sums[0];
     double kin = PF_HBAR * PF_HBAR * k2 / (2.0 * w->mass);
@@ -94,7 +122,7 @@ pf_status pf_wave_energy(pf_wave *w, const double *potential, double g, double *
 static void damp_potential(pf_grid *g, double complex *d, const double *V, double vmin, double gc, double f,
                            const double *factor)
 {
-    ptrdiff_t n = (ptrdiff_t)g->total;
+    ptrdiff_t n = (ptrdiff_t)pf_dist_position_values(g); /* this rank's points when split */
     if (factor) {
 #pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
         for (ptrdiff_t i = 0; i < n; i++) d[i] *= factor[i];
@@ -119,17 +147,24 @@ pf_status pf_wave_relax(pf_wave *w, const pf_relax_spec *spec, pf_relax_info *in
         return pf_fail(ctx, PF_EINVAL, "tolerance must be finite and positive, got %g", spec->tolerance);
     if (spec->max_steps < 1) return pf_fail(ctx, PF_EINVAL, "max_steps must be at least 1");
     if (spec->check_every < 1) return pf_fail(ctx, PF_EINVAL, "check_every must be at least 1");
-    double vmin = INFINITY;
-    for (size_t i = 0; i < g->total; i++) {
-        if (!isfinite(V[i]))
-            return pf_fail(ctx, PF_EINVAL, "the potential at point %zu is %g, not finite", i + 1, V[i]);
-        if (V[i] < vmin) vmin = V[i];
+    double vmin = INFINITY, unused = 0;
+    const size_t nloc = pf_dist_position_values(g); /* g->total unless split over MPI ranks */
+    size_t bad = nloc, first, end;
+    for (size_t i = 0; i < nloc && bad == nloc; i++) {
+        if (!isfinite(V[i])) bad = i;
+        else if (V[i] < vmin) vmin = V[i];
     }
+    if (pf_dist_any(g, bad < nloc)) {
+        if (bad == nloc) return pf_fail(ctx, PF_EINVAL, "the potential is not finite at a point another MPI rank holds");
+        pf_grid_local_range(g, &first, &end);
+        return pf_fail(ctx, PF_EINVAL, "the potential at point %zu is %g, not finite", first + bad + 1, V[bad]);
+    }
+    pf_dist_minmax(g, &vmin, &unused);
     pf_status s = pf_wave_to(w, PF_POSITION);
     if (s) return s;
     if (!(pf_wave_norm(w) > 0)) return pf_fail(ctx, PF_EINVAL, "the starting state is zero");
 
-    size_t bytes_c = pf_bytes(g->total, sizeof(double complex)), bytes_r = pf_bytes(g->total, sizeof(double));
+    size_t bytes_c = pf_grid_local_bytes(g), bytes_r = pf_bytes(nloc, sizeof(double));
     double complex *scratch = pf_alloc(ctx, bytes_c);
     double *factor = NULL;
     double complex *kin[PF_MAX_DIM] = {NULL, NULL, NULL};
@@ -157,7 +192,7 @@ pf_status pf_wave_relax(pf_wave *w, const pf_relax_spec *spec, pf_relax_info *in
             s = pf_context_status(ctx);
             goto done;
         }
-        for (size_t i = 0; i < g->total; i++) factor[i] = exp(-(V[i] - vmin) * f);
+        for (size_t i = 0; i < nloc; i++) factor[i] = exp(-(V[i] - vmin) * f);
     }
     for (int a = 0; a < g->dim; a++) {
         kin[a] = pf_alloc(g->ctx, g->n[a] * sizeof(double complex));
@@ -178,9 +213,13 @@ pf_status pf_wave_relax(pf_wave *w, const pf_relax_spec *spec, pf_relax_info *in
         if ((s = pf_context_poll_stop(ctx))) goto done;
         pf_context_progress(ctx, "relax", (double)step, (double)spec->max_steps);
         damp_potential(g, w->store, V, vmin, spec->g, f, factor);
-        if ((s = pf_grid_fft(g, w->store, -1))) goto done;
-        pf_kernel_axis_multiply(g, w->store, (const double complex *const *)kin, inv_n);
-        if ((s = pf_grid_fft(g, w->store, +1))) goto done;
+        if (g->dist) {
+            pf_dist_kinetic(g, w->store, kin, inv_n); /* on the transposed slab */
+        } else {
+            if ((s = pf_grid_fft(g, w->store, -1))) goto done;
+            pf_kernel_axis_multiply(g, w->store, (const double complex *const *)kin, inv_n);
+            if ((s = pf_grid_fft(g, w->store, +1))) goto done;
+        }
         /* With a mean field, renormalise before the second half-step too:
          * both halves then see the density of a normalised state, which keeps
          * the step symmetric and the fixed point's offset O(dtau^2) (with the

@@ -5,6 +5,7 @@
 #include <string.h>
 #include "pf_cis.h"
 #include "pf_constants.h"
+#include "pf_dist.h"
 #include "pf_guard.h"
 #include "pf_kernels.h"
 #include "pf_splitstep.h"
@@ -62,17 +63,27 @@ static void ws_free(evolve_ws *ws)
     if (ws->vbuf) pf_free(ctx, ws->vbuf, ws->bytes_r);
 }
 
-/* min and max of V; PF_EINVAL naming the point when a value is not finite. */
+/* min and max of V; PF_EINVAL naming the point when a value is not finite.
+ * On a grid split over MPI ranks (pf_dist.h) V holds this rank's points,
+ * and every rank learns the extremes and whether any rank failed. */
 static pf_status potential_range(pf_grid *g, const double *V, double *lo, double *hi)
 {
     double a = INFINITY, b = -INFINITY;
-    for (size_t i = 0; i < g->total; i++) {
+    const size_t n = pf_dist_position_values(g);
+    size_t bad = n;
+    for (size_t i = 0; i < n && bad == n; i++) {
         double v = V[i];
-        if (!isfinite(v))
-            return pf_fail(g->ctx, PF_EINVAL, "the potential at point %zu is %g, not finite", i + 1, v);
+        if (!isfinite(v)) bad = i;
         if (v < a) a = v;
         if (v > b) b = v;
     }
+    if (pf_dist_any(g, bad < n)) {
+        if (bad == n) return pf_fail(g->ctx, PF_EINVAL, "the potential is not finite at a point another MPI rank holds");
+        size_t first, end;
+        pf_grid_local_range(g, &first, &end);
+        return pf_fail(g->ctx, PF_EINVAL, "the potential at point %zu is %g, not finite", first + bad + 1, V[bad]);
+    }
+    pf_dist_minmax(g, &a, &b);
     *lo = a;
     *hi = b;
     return PF_OK;
@@ -88,12 +99,14 @@ static pf_status potential_range(pf_grid *g, const double *V, double *lo, double
 static void occupied_range(const pf_wave *w, const double *V, double peak, double *lo, double *hi)
 {
     double a = INFINITY, b = -INFINITY, cut = OCCUPIED_FRACTION * peak;
-    for (size_t i = 0; i < w->grid->total; i++) {
+    const size_t n = pf_dist_position_values(w->grid);
+    for (size_t i = 0; i < n; i++) {
         double complex z = w->store[i];
         if (creal(z) * creal(z) + cimag(z) * cimag(z) < cut) continue;
         if (V[i] < a) a = V[i];
         if (V[i] > b) b = V[i];
     }
+    pf_dist_minmax(w->grid, &a, &b);
     if (a > b) a = b = 0;
     *lo = a;
     *hi = b;
@@ -101,12 +114,14 @@ static void occupied_range(const pf_wave *w, const double *V, double peak, doubl
 
 static double max_density(pf_wave *w)
 {
-    double m = 0;
-    for (size_t i = 0; i < w->grid->total; i++) {
+    double m = 0, unused = 0;
+    const size_t n = pf_dist_position_values(w->grid);
+    for (size_t i = 0; i < n; i++) {
         double complex z = w->store[i];
         double r = creal(z) * creal(z) + cimag(z) * cimag(z);
         if (r > m) m = r;
     }
+    pf_dist_minmax(w->grid, &unused, &m);
     return m;
 }
 
@@ -167,7 +182,7 @@ static void pot_apply_all(evolve_ws *ws, const pot_pass *p)
 {
     if (!p->active) return;
     double complex *d = ws->w->store;
-    const size_t total = ws->g->total;
+    const size_t total = pf_dist_position_values(ws->g); /* this rank's points when split */
     const ptrdiff_t blocks = (ptrdiff_t)((total + POT_BLOCK - 1) / POT_BLOCK);
 #pragma omp parallel for num_threads(ws->g->ctx->threads) schedule(static)
     for (ptrdiff_t b = 0; b < blocks; b++) {
@@ -221,6 +236,10 @@ static pf_status potential_step(evolve_ws *ws, double coef, int kind, double t)
 
 static pf_status kinetic_step(evolve_ws *ws, int table)
 {
+    if (ws->g->dist) {
+        pf_dist_kinetic(ws->g, ws->w->store, ws->kin[table], 1.0 / (double)ws->g->total);
+        return PF_OK;
+    }
     pf_status s = pf_grid_fft(ws->g, ws->w->store, -1);
     if (s) return s;
     pf_kernel_axis_multiply(ws->g, ws->w->store, (const double complex *const *)ws->kin[table],
@@ -411,7 +430,7 @@ static pf_status prepare(evolve_ws *ws)
         double f2 = 0.5 * ws->sc.c[1] * ws->h / PF_HBAR;
         const double *V = sp->potential;
         double complex *e1 = ws->e1, *e2 = ws->e2;
-        ptrdiff_t n = (ptrdiff_t)g->total;
+        ptrdiff_t n = (ptrdiff_t)pf_dist_position_values(g);
         /* The one place a static potential costs trigonometry per point. */
         const ptrdiff_t pieces = (n + PIECE - 1) / PIECE;
 #pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
@@ -459,8 +478,8 @@ static pf_status evolve(pf_wave *w, double t, const pf_evolve_spec *spec, pf_evo
     ws.w = w;
     ws.spec = spec;
     ws.sc = make_scheme(spec->order);
-    ws.bytes_c = pf_bytes(g->total, sizeof(double complex));
-    ws.bytes_r = pf_bytes(g->total, sizeof(double));
+    ws.bytes_c = pf_bytes(pf_dist_position_values(g), sizeof(double complex));
+    ws.bytes_r = pf_bytes(pf_dist_position_values(g), sizeof(double));
     double lo = 0, hi = 0, peak = max_density(w);
     if (spec->varying) {
         /* Probe V at the start for the range; the first sub-step reuses it. */
@@ -524,7 +543,9 @@ static pf_status evolve(pf_wave *w, double t, const pf_evolve_spec *spec, pf_evo
     }
 
     const double t0 = w->clock;
-    int fused = g->dim >= 2 && !separate;
+    /* Split over MPI ranks: separate steps, each kinetic one on the
+     * transposed slab (pf_dist_kinetic). */
+    int fused = g->dim >= 2 && !separate && !g->dist;
     if (fused) {
         s = pf_fused_prepare_chunks(g);
         /* Under a tight memory cap the separate steps, which need no

@@ -11,6 +11,7 @@
 #include <math.h>
 #include <stdio.h>
 #include <string.h>
+#include "../core/pf_dist.h"
 #include "../core/pf_force.h"
 #include "../core/pf_frame.h"
 #include "../core/pf_relax.h"
@@ -139,6 +140,9 @@ static double *tilt_values(lua_State *L, pf_wave *w, const double *acc, int acce
     int any = 0;
     for (int a = 0; accelerated && a < dim_of(w); a++) any = any || acc[a] != 0.0;
     if (!any) return NULL;
+    if (pf_grid_distributed(g))
+        luaL_error(L, "an acceleration (the tilt of a uniform force) is not available for a grid distributed over MPI "
+                      "ranks yet (docs/distributed.md); give acceleration = false");
     size_t n = pf_grid_total(g);
     double *T = lua_newuserdatauv(L, n * sizeof(double), 0);
     memset(T, 0, n * sizeof(double));
@@ -212,6 +216,9 @@ static int l_evolve(lua_State *L)
     int te = pfl_option_get(L, 3, "envelope");
     if (te != LUA_TNIL) {
         if (te != LUA_TFUNCTION) return luaL_error(L, "evolve: field 'envelope' must be a function of t");
+        if (pf_grid_distributed(g))
+            return luaL_error(L, "evolve: 'envelope' is not available for a grid distributed over MPI ranks yet "
+                                 "(docs/distributed.md); use time_dependent = true with a function of x and t");
         if (varying || !V)
             return luaL_error(L, "evolve: 'envelope' scales a static 'potential' (object, function of the coordinates or table)");
         env.fn = lua_gettop(L);

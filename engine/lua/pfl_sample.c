@@ -7,6 +7,7 @@
 #include <math.h>
 #include <stdio.h>
 #include <string.h>
+#include "../core/pf_dist.h"
 #include "../core/pf_frame.h"
 #include "pfl_protocol.h"
 
@@ -65,13 +66,16 @@ int pfl_raise_callback(lua_State *L, const char *name)
     return lua_error(L);
 }
 
-/* Samples a real function over the position grid into V. */
+/* Samples a real function over the position grid into V: over this rank's
+ * points only when the grid is split over MPI ranks (pf_dist.h), so each
+ * rank calls the function for its own points. */
 static int sample_real(pfl_sampler *s, pf_grid *g, double *V)
 {
-    size_t n = pf_grid_total(g), idx[PF_MAX_DIM] = {0, 0, 0};
+    size_t first, n, idx[PF_MAX_DIM] = {0, 0, 0};
+    pf_grid_local_range(g, &first, &n);
     int d = pf_grid_dim(g);
     double coord[PF_MAX_DIM] = {0, 0, 0};
-    for (size_t off = 0; off < n; off++) {
+    for (size_t off = first; off < n; off++) {
         size_t rest = off;
         for (int a = d - 1; a >= 0; a--) {
             idx[a] = rest % pf_grid_points(g, a);
@@ -87,7 +91,7 @@ static int sample_real(pfl_sampler *s, pf_grid *g, double *V)
                             s->name, s->what, where, cimag(z));
             return 1;
         }
-        V[off] = creal(z);
+        V[off - first] = creal(z);
     }
     return 0;
 }
@@ -110,8 +114,9 @@ double *pfl_read_potential(lua_State *L, int idx, pf_grid *g, const char *name, 
                            const double *offset)
 {
     idx = lua_absindex(L, idx);
-    size_t n = pf_grid_total(g);
-    double *V = lua_newuserdatauv(L, n * sizeof(double), 0);
+    size_t n = pf_grid_total(g), first, end;
+    pf_grid_local_range(g, &first, &end); /* this rank's points of a distributed grid */
+    double *V = lua_newuserdatauv(L, (end - first ? end - first : 1) * sizeof(double), 0);
     if (lua_type(L, idx) == LUA_TFUNCTION) {
         pfl_sampler s = {L, idx, pf_grid_dim(g), PF_POSITION, name, "potential", with_time, t, g, {0, 0, 0}};
         if (offset)
@@ -128,7 +133,7 @@ double *pfl_read_potential(lua_State *L, int idx, pf_grid *g, const char *name, 
     lua_Integer len = luaL_len(L, idx);
     if ((size_t)len != n)
         luaL_error(L, "%s: the potential table must hold one value per grid point (%d), got %d", name, (int)n, (int)len);
-    for (size_t i = 0; i < n; i++) {
+    for (size_t i = first; i < end; i++) {
         int type = lua_geti(L, idx, (lua_Integer)i + 1);
         double v = lua_tonumber(L, -1);
         if (type != LUA_TNUMBER || !isfinite(v)) {
@@ -136,7 +141,7 @@ double *pfl_read_potential(lua_State *L, int idx, pf_grid *g, const char *name, 
             luaL_error(L, "%s: potential entry %d must be a finite number (J), got %s", name, (int)i + 1,
                        pfl_describe(L, -1, buf, sizeof buf));
         }
-        V[i] = v;
+        V[i - first] = v;
         lua_pop(L, 1);
     }
     return V;

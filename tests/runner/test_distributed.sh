@@ -51,6 +51,9 @@ for x, y in zip(la, lb):
     if tol == 0:
         assert x == y, ("differ", x, y)
         continue
+    # Relative to the line's largest value: each line holds one quantity
+    # per axis (or quantities of one scale), and a component that is zero
+    # up to rounding is judged on the scale of its line.
     scale = max(abs(t) for t in u + v)
     for p, q in zip(u, v):
         worst = max(worst, abs(p - q) / scale)
@@ -74,5 +77,36 @@ law=$(awk '$1 == "law" { d = ($3 - $4) / $4; if (d < 0) d = -d; if (d > m) m = d
 awk -v m="$law" 'BEGIN { exit !(m < 1e-8) }' &&
   ok "-n 4: centre and widths after 1.5 ms follow the free Gaussian laws (textbook) to $law" ||
   fail "-n 4: free Gaussian laws missed by $law"
+
+# Split-step evolution (probe_evolve.lua): relax without and with a mean
+# field, a kick, evolve with g in the trap, a slit; 18 x 24 points, so 4
+# ranks hold 5, 5, 5, 3 planes.
+evolve="$root/tests/runner/dist/probe_evolve.lua"
+expect 0 "evolve: one process" -- "$runner" run "$evolve"
+printf '%s\n' "$out" >"$work/eplain.txt"
+for n in 1 2 4; do
+  expect 0 "evolve: mpirun -n $n" -- timeout 120 mpirun -n "$n" --oversubscribe "$runner" run "$evolve"
+  printf '%s\n' "$out" >"$work/eranks$n.txt"
+  has "ranks $n distribute true" "evolve: mpirun -n $n distributed"
+  python3 "$work/compare.py" "$work/eplain.txt" "$work/eranks$n.txt" exact 0 >/dev/null &&
+    ok "evolve -n $n: the start is bit-identical to one process" || fail "evolve -n $n: start differs"
+  python3 "$work/compare.py" "$work/eranks1.txt" "$work/eranks$n.txt" flown,law 0 >/dev/null &&
+    ok "evolve -n $n: relax, kick, evolve with g and slit bit-identical to -n 1" ||
+    fail "evolve -n $n: split-step figures differ from -n 1"
+  worst=$(python3 "$work/compare.py" "$work/eplain.txt" "$work/eranks$n.txt" flown,law 1e-14) &&
+    ok "evolve -n $n: relax, kick, evolve with g and slit within 1e-14 of one process (worst $worst)" ||
+    fail "evolve -n $n: split-step figures differ from one process by more than 1e-14"
+done
+# Closed forms: the linear ground-state energy hbar (wx + wy) / 2, and the
+# kicked centre (hbar k / m wx) sin(wx t) in a harmonic trap, interacting or
+# not (Kohn's theorem); both textbook.  Tolerances: the energy to 1e-9
+# (sampling and the O(dtau^2) offset of imaginary time at dtau = 20 us), the
+# centre to 1e-4 (the O(dt^2) splitting error at dt = 20 us).
+e0=$(awk '$1 == "law" && $2 == "energy0" { d = ($3 - $4) / $4; if (d < 0) d = -d; printf "%.2g", d }' "$work/eranks4.txt")
+awk -v m="$e0" 'BEGIN { exit !(m < 1e-9) }' && ok "-n 4: relaxed energy is hbar (wx + wy) / 2 to $e0" ||
+  fail "-n 4: relaxed energy off by $e0"
+kohn=$(awk '$1 == "law" && $2 == "kohn" { d = ($3 - $4) / $4; if (d < 0) d = -d; printf "%.2g", d }' "$work/eranks4.txt")
+awk -v m="$kohn" 'BEGIN { exit !(m < 1e-4) }' && ok "-n 4: the kicked centre follows (hbar k / m w) sin(w t) to $kohn" ||
+  fail "-n 4: kicked centre off by $kohn"
 
 done_checks
