@@ -259,6 +259,8 @@ return {
     ["levels:clock"] = {"", "number", "the common clock of the levels (s)"},
     ["levels:norm"] = {"", "number", "total probability over the levels"},
     ["levels:close"] = {"", "", "releases the levels"},
+    ["levels:evolve"] = {"t: number, opts?: options", "psiflight.levels, table",
+      "split-step evolution of each level in its own potential (others fly exactly); returns lv and the steps per level"},
     ["pf.box"] = {"opts: options", "psiflight.region", "axis-aligned box (axes not listed are open)"},
     ["pf.ball"] = {"opts: options", "psiflight.region", "ball (disc in 2D) of a radius around a center"},
     ["pf.half_space"] = {"opts: options", "psiflight.region", "the side of a plane its normal points to"},

@@ -114,6 +114,7 @@ local callers = {
   ["levels:fly"] = function(o) lv:fly(1e-6, o) end,
   ["levels:order_populations"] = function(o) lv:order_populations(o) end,
   ["levels:sample"] = function(o) lv:sample(3, o) end,
+  ["levels:evolve"] = function(o) lv:evolve(1e-6, o) end,
 }
 
 -- Lua-visible functions that take no options table (positional numbers,
