@@ -97,6 +97,7 @@ return {
     -- grids
     ["pf.grid"] = {"opts: options", G, "a periodic grid: points and span (or spacing) per axis, origin"},
     ["pf.grid_advice"] = {"opts: options", "table", "grid proposals for a planned flight (points, span) before any state exists"},
+    ["pf.rank_advice"] = {"opts: options", "table", "the fewest MPI ranks whose share of a distributed grid fits the memory per rank"},
     ["grid:dim"] = {"", "integer", "number of axes"},
     ["grid:total"] = {"", "integer", "number of points"},
     ["grid:points"] = {"axis?: integer", "integer", "points on an axis"},
@@ -258,6 +259,8 @@ return {
     ["levels:clock"] = {"", "number", "the common clock of the levels (s)"},
     ["levels:norm"] = {"", "number", "total probability over the levels"},
     ["levels:close"] = {"", "", "releases the levels"},
+    ["levels:evolve"] = {"t: number, opts?: options", "psiflight.levels, table",
+      "split-step evolution of each level in its own potential (others fly exactly); returns lv and the steps per level"},
     ["pf.box"] = {"opts: options", "psiflight.region", "axis-aligned box (axes not listed are open)"},
     ["pf.ball"] = {"opts: options", "psiflight.region", "ball (disc in 2D) of a radius around a center"},
     ["pf.half_space"] = {"opts: options", "psiflight.region", "the side of a plane its normal points to"},

@@ -36,6 +36,9 @@ static const pfl_options_decl BRAGG_OPTIONS = {
 static const pfl_options_decl FLY_OPTIONS = {"levels:fly", (const char *const[]){"acceleration", NULL}};
 static const pfl_options_decl SAMPLE_OPTIONS = {
     "levels:sample", (const char *const[]){"space", "jitter", "seed", "generator", NULL}};
+static const pfl_options_decl EVOLVE_OPTIONS = {
+    "levels:evolve",
+    (const char *const[]){"potential", "acceleration", "dt", "order", "time_dependent", "envelope", NULL}};
 static const pfl_options_decl ORDERS_OPTIONS = {
     "levels:order_populations", (const char *const[]){"wavenumber", "orders", "center", NULL}};
 
@@ -358,6 +361,99 @@ static int l_fly(lua_State *L)
     return 1;
 }
 
+/* True when the value at idx is a table keyed by level labels (its first
+ * key a string), as opposed to one value for every level. */
+static int keyed_by_labels(lua_State *L, int idx)
+{
+    int keyed = 0;
+    idx = lua_absindex(L, idx);
+    if (lua_type(L, idx) != LUA_TTABLE) return 0;
+    lua_pushnil(L);
+    if (lua_next(L, idx)) {
+        keyed = lua_type(L, -2) == LUA_TSTRING;
+        lua_pop(L, 2);
+    }
+    return keyed;
+}
+
+/* lv:evolve(t, {potential = V | {label = V, ...}, acceleration = a | {label = a, ...} | false,
+ *              dt =, order =, time_dependent =, envelope =}) -> lv, {label = info, ...}
+ * Each level with a potential goes through w:evolve with its own potential
+ * (lab coordinates, as there) and acceleration; a level without one flies
+ * exactly (with its acceleration: the uniform-force propagator), so the
+ * clocks, and in a shared frame the frame, stay together.  The levels do not
+ * interact with each other (no mean field; docs/internal-states.md).  info
+ * is w:evolve's second result, for the levels that evolved. */
+static int l_evolve(lua_State *L)
+{
+    pf_levels *b = check_levels(L, 1);
+    double t = pfl_check_finite(L, 2, "evolve time (s)");
+    pfl_options_check(L, 3, &EVOLVE_OPTIONS);
+    const char *fname = "evolve";
+    const int count = pf_levels_count(b);
+    const int dim = pf_grid_dim(pf_wave_grid(pf_levels_wave(b, 0)));
+    pf_levels_forces forces;
+    read_accelerations(L, b, 3, dim, &forces, fname);
+    pfl_option_get(L, 3, "potential");
+    const int pot = lua_gettop(L);
+    const int per_level = keyed_by_labels(L, pot);
+    if (per_level) {
+        lua_pushnil(L);
+        while (lua_next(L, pot)) {
+            check_label_at(L, b, -2, fname, "potential");
+            lua_pop(L, 1);
+        }
+    }
+    lua_getiuservalue(L, 1, 1);
+    const int waves = lua_gettop(L);
+    lua_createtable(L, 0, count);
+    const int infos = lua_gettop(L);
+    for (int i = 0; i < count; i++) {
+        pf_wave *w = pf_levels_wave(b, i);
+        if (per_level) lua_getfield(L, pot, pf_levels_label(b, i));
+        else lua_pushvalue(L, pot);
+        if (lua_isnil(L, -1)) {
+            lua_pop(L, 1);
+            pf_status s = forces.has[i] ? pf_wave_lab_fall(w, t, forces.accel[i])
+                                        : pf_wave_frame_fold(w, "evolve without a potential");
+            if (!s && !forces.has[i]) s = pf_wave_fly_in_frame(w, t, NULL);
+            pfl_check(L, s, fname);
+            continue;
+        }
+        const int value = lua_gettop(L);
+        lua_rawgeti(L, waves, i + 1);
+        const int wave = lua_gettop(L);
+        lua_getfield(L, wave, "evolve");
+        lua_pushvalue(L, wave);
+        lua_pushnumber(L, t);
+        lua_createtable(L, 0, 6);
+        lua_pushvalue(L, value);
+        lua_setfield(L, -2, "potential");
+        static const char *const passed[] = {"dt", "order", "time_dependent", "envelope", NULL};
+        for (const char *const *k = passed; *k; k++) {
+            pfl_option_get(L, 3, *k);
+            lua_setfield(L, -2, *k);
+        }
+        if (forces.has[i]) {
+            lua_createtable(L, dim, 0);
+            for (int a = 0; a < dim; a++) {
+                lua_pushnumber(L, forces.accel[i][a]);
+                lua_rawseti(L, -2, a + 1);
+            }
+        } else {
+            lua_pushboolean(L, 0);
+        }
+        lua_setfield(L, -2, "acceleration");
+        lua_call(L, 3, 2);
+        lua_setfield(L, infos, pf_levels_label(b, i));
+        lua_settop(L, infos);
+    }
+    note_levels(L, b);
+    lua_pushvalue(L, 1);
+    lua_pushvalue(L, infos);
+    return 2;
+}
+
 /* lv:pulse{from =, to =, rabi | area, duration, envelope, width, detuning | omega,
  *          phase, wavenumber, light_shift = {label = rad/s}, one_photon_detuning,
  *          beam_rabi = {O1, O2}, substeps} -> lv */
@@ -665,7 +761,7 @@ void pfl_open_levels(lua_State *L, int mod)
     static const luaL_Reg methods[] = {
         {"pulse", l_pulse},   {"bragg", l_bragg},   {"fly", l_fly},       {"populations", l_populations},
         {"order_populations", l_order_populations}, {"level", l_level},   {"labels", l_labels},
-        {"sample", l_sample},
+        {"sample", l_sample}, {"evolve", l_evolve},
         {"energy", l_energy}, {"clock", l_clock},   {"norm", l_norm},     {"close", l_close},
         {NULL, NULL},
     };
@@ -682,6 +778,6 @@ void pfl_open_levels(lua_State *L, int mod)
     lua_pop(L, 1);
     pfl_add_functions(L, mod, funcs);
     static const pfl_options_decl *const options[] = {&LEVELS_OPTIONS, &PULSE_OPTIONS, &BRAGG_OPTIONS, &FLY_OPTIONS,
-                                                      &ORDERS_OPTIONS, &SAMPLE_OPTIONS, NULL};
+                                                      &ORDERS_OPTIONS, &SAMPLE_OPTIONS, &EVOLVE_OPTIONS, NULL};
     pfl_options_declare(L, options);
 }

@@ -170,6 +170,43 @@ do
              "free fall g t^2 / 2 (Newton)", 1e-15)
 end
 
+-- lv:evolve with a potential per level: a harmonic trap on one level only.
+-- The trapped level, the trap's ground state displaced by x0 and moving at
+-- v, is a coherent state: its mean follows x0 cos(w t) + (v / w) sin(w t) and
+-- its width stays sqrt(hbar / 2 m w); the untrapped level flies freely, mean
+-- x0 + v t, width sqrt(s0^2 + (hbar t / 2 m s0)^2) (harmonic-oscillator
+-- coherent states and Gaussian spreading, common practice).  On the grid
+-- (v = 0) and in a shared moving frame (v from a kick into the frame; the
+-- trap given in lab coordinates).
+do
+  local m = pf.mass("87Rb")
+  local omega, x0, T = 2 * pi * 200, 3e-6, 1.3e-3
+  local fine = pf.grid{points = 512, span = 40e-6}
+  local s0 = math.sqrt(hbar / (2 * m * omega))
+  local function trap(x) return 0.5 * m * omega^2 * x^2 end
+  for _, case in ipairs{{false, 0}, {true, 2e-3}} do
+    local frame, v = case[1], case[2]
+    local gs = pf.ground_state(fine, {mass = "87Rb", omega = omega, center = x0})
+    if frame then gs:kick(m * v / hbar, {frame = true}) end
+    local lv = pf.levels{labels = {"trapped", "free"}, waves = {trapped = gs, free = gs}, frame = frame}
+    local _, info = lv:evolve(T, {potential = {trapped = trap}, dt = 2e-6, order = 4})
+    local tag = frame and " (shared frame)" or " (grid)"
+    local tr, fr = lv:level("trapped"), lv:level("free")
+    check.near(tr:position_mean(), x0 * math.cos(omega * T) + v / omega * math.sin(omega * T), 1e-8,
+               "trapped level: coherent-state mean" .. tag, "harmonic oscillator (common practice)", 1e-18)
+    check.near(tr:position_width(), s0, 1e-8, "trapped level keeps the ground-state width" .. tag,
+               "coherent state (common practice)")
+    check.near(fr:position_mean(), x0 + v * T, 1e-12, "untrapped level flies freely" .. tag, "free flight (Newton)", 1e-18)
+    check.near(fr:position_width(), math.sqrt(s0^2 + (hbar * T / (2 * m * s0))^2), 1e-10,
+               "untrapped level spreads" .. tag, "Gaussian spreading formula")
+    check.near(lv:clock(), T, 1e-15, "one clock after lv:evolve" .. tag, "definition")
+    check.truthy(info.trapped and info.trapped.steps == 650 and info.free == nil, "evolve info per evolved level" .. tag)
+  end
+  local lv = pf.levels{labels = {"p", "q"}, grid = fine, mass = "87Rb"}
+  check.fails(function() lv:evolve(1e-3, {potential = {r = trap}}) end, "evolve: unknown level", "no level 'r'")
+  check.fails(function() lv:evolve(1e-3, {potential = trap, g = 1e-50}) end, "evolve: no mean field", "'g'")
+end
+
 -- Stern-Gerlach: levels with opposite accelerations +-a separate along the
 -- classical trajectories x0 + v0 t +- a t^2 / 2 (Newton; the exact
 -- uniform-force propagator moves the mean so, Ehrenfest), and each keeps the
