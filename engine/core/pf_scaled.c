@@ -203,9 +203,27 @@ static double cropped_probability(const pf_wave *w, const long *shift, const siz
     return norm > 0 ? lost * pf_grid_cell_volume(g) / norm : 0;
 }
 
+/* Progress of a long flight inside its method: each scaled stage is three
+ * passes (input chirp, FFT, output chirp), each reported to the context as
+ * the fraction done of the whole call under the caller's task name
+ * ("fly_long"); no task: silent (pf_wave_fly_onto from other callers). */
+typedef struct pass_progress {
+    const char *task;
+    int done, total;
+} pass_progress;
+
+static void pass_done(pf_context *ctx, pass_progress *pp)
+{
+    if (!pp || !pp->task) return;
+    pp->done++;
+    /* Never 1 before the call returns: the caller reports the end. */
+    pf_context_progress(ctx, pp->task, (double)pp->done / (double)(pp->total + 1), 1);
+}
+
 /* The scaled stage: w (position representation) goes to gout with per-axis
  * durations ta; *removed receives the probability cropped away. */
-static pf_status scaled_stage(pf_wave *w, const double *ta, pf_grid *gout, double norm, double *removed)
+static pf_status scaled_stage(pf_wave *w, const double *ta, pf_grid *gout, double norm, double *removed,
+                              pass_progress *pp)
 {
     pf_grid *gin = w->grid;
     pf_context *ctx = gin->ctx;
@@ -238,9 +256,12 @@ static pf_status scaled_stage(pf_wave *w, const double *ta, pf_grid *gout, doubl
     if (in_place && d == 1 && gout->n[0] < ((size_t)1 << 32)) {
         const double delta = gout->origin[0] - gin->origin[0];
         pf_scaled_chirp_1d(w->store, gout->n[0], w->mass, ta[0], gin->dx[0], gout->dx[0], delta, 0, ctx->threads);
+        pass_done(ctx, pp);
         s = pf_grid_fft(gout, w->store, ta[0] > 0 ? -1 : +1);
         if (s) return s;
+        pass_done(ctx, pp);
         pf_scaled_chirp_1d(w->store, gout->n[0], w->mass, ta[0], gin->dx[0], gout->dx[0], delta, 1, ctx->threads);
+        pass_done(ctx, pp);
         pf_grid_retain(gout);
         w->grid = gout;
         pf_grid_release(gin);
@@ -300,6 +321,7 @@ static pf_status scaled_stage(pf_wave *w, const double *ta, pf_grid *gout, doubl
             }
         }
     }
+    pass_done(ctx, pp);
     int forward = ta[0] > 0; /* all stage durations share the flight's sign */
     s = pf_grid_fft(gout, out, forward ? -1 : +1);
     if (s) {
@@ -307,8 +329,10 @@ static pf_status scaled_stage(pf_wave *w, const double *ta, pf_grid *gout, doubl
         if (!in_place) pf_free(ctx, out, bytes);
         return s;
     }
+    pass_done(ctx, pp);
     /* Pass 2: output chirp and amplitude. */
     chirp_pass(out, &so, Q, threads);
+    pass_done(ctx, pp);
     pf_context_free(ctx, tables);
     /* Move the wave to its new grid. */
     if (!in_place) pf_free(ctx, w->store, pf_bytes(gin->total, sizeof(double complex)));
@@ -392,7 +416,12 @@ static pf_status check_time(pf_context *ctx, double t)
     return PF_OK;
 }
 
-pf_status pf_wave_fly_onto(pf_wave *w, double t, pf_grid *target)
+static pf_status fly_onto(pf_wave *w, double t, pf_grid *target, const char *task);
+
+pf_status pf_wave_fly_onto(pf_wave *w, double t, pf_grid *target) { return fly_onto(w, t, target, NULL); }
+
+/* pf_wave_fly_onto, reporting its passes under task (NULL: silently). */
+static pf_status fly_onto(pf_wave *w, double t, pf_grid *target, const char *task)
 {
     pf_context *ctx = w->grid->ctx;
     pf_status s = check_time(ctx, t);
@@ -402,6 +431,7 @@ pf_status pf_wave_fly_onto(pf_wave *w, double t, pf_grid *target)
     if (target->ctx != ctx) return pf_fail(ctx, PF_EINVAL, "scaled flight: the target grid belongs to another context");
     double t1[PF_MAX_DIM], t2[PF_MAX_DIM];
     int two = stage_times(w, t, target->n, target->dx, t1, t2);
+    pass_progress pp = {task, 0, two ? 6 : 3};
     double norm = pf_wave_last_logged_norm(w);
     double src_origin[PF_MAX_DIM];
     memcpy(src_origin, w->grid->origin, sizeof src_origin);
@@ -412,11 +442,11 @@ pf_status pf_wave_fly_onto(pf_wave *w, double t, pf_grid *target)
     if (two) {
         pf_grid *mid;
         s = intermediate_grid(w, t, t1, target, &mid);
-        if (!s) s = scaled_stage(w, t1, mid, norm, &removed);
+        if (!s) s = scaled_stage(w, t1, mid, norm, &removed, &pp);
         pf_grid_release(mid); /* the wave holds it until the second stage */
-        if (!s) s = scaled_stage(w, t2, target, norm, &none);
+        if (!s) s = scaled_stage(w, t2, target, norm, &none, &pp);
     } else {
-        s = scaled_stage(w, t1, target, norm, &removed);
+        s = scaled_stage(w, t1, target, norm, &removed, &pp);
     }
     pf_grid_release(target);
     if (s) return s;
@@ -650,7 +680,7 @@ static pf_status fly_long(pf_wave *w, double t, const pf_long_flight_opts *o, pf
         return pf_wave_fly(w, t);
     }
     r->stages = two ? 2 : 1;
-    if (o->grid) return pf_wave_fly_onto(w, t, o->grid);
+    if (o->grid) return fly_onto(w, t, o->grid, "fly_long");
     double span[PF_MAX_DIM];
     for (int a = 0; a < d; a++) span[a] = D[a] * (double)n_out[a];
     s = check_image_span(ctx, t, span, d);
@@ -658,13 +688,14 @@ static pf_status fly_long(pf_wave *w, double t, const pf_long_flight_opts *o, pf
     pf_grid *gout;
     s = pf_grid_new(ctx, d, n_out, span, c, &gout);
     if (s) return s;
-    s = pf_wave_fly_onto(w, t, gout);
+    s = fly_onto(w, t, gout, "fly_long");
     pf_grid_release(gout);
     return s;
 }
 
 /* The long flight as one reported task: a few transforms of possibly very
- * large grids, so the bar (if any) shows that it runs and how long it took. */
+ * large grids; a scaled flight also reports each of its passes (chirp, FFT,
+ * chirp per stage), so the bar moves while it runs. */
 pf_status pf_wave_fly_long(pf_wave *w, double t, const pf_long_flight_opts *o, pf_long_flight_report *report)
 {
     pf_context *ctx = w->grid->ctx;

@@ -399,13 +399,21 @@ static int l_each(lua_State *L)
     lua_Integer n = ens_count(L, 1);
     lua_getiuservalue(L, 1, 1);
     lua_getiuservalue(L, 1, 2);
+    /* Progress per member (a bar on a terminal for long loops, pf_progress.h);
+     * an error in fn ends the report before it propagates. */
+    pf_context *ctx = pfl_ctx(L);
     for (lua_Integer i = 1; i <= n; i++) {
+        pf_context_progress(ctx, "ensemble", (double)(i - 1), (double)n);
         lua_pushvalue(L, 2);
         lua_geti(L, 3, i);
         lua_geti(L, 4, i);
         lua_pushinteger(L, i);
-        lua_call(L, 3, 0);
+        if (lua_pcall(L, 3, 0, 0) != LUA_OK) {
+            pf_context_progress(ctx, "ensemble", -1.0, (double)n);
+            return lua_error(L);
+        }
     }
+    pf_context_progress(ctx, "ensemble", (double)n, (double)n);
     lua_settop(L, 1);
     return 1;
 }

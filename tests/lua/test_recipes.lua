@@ -262,4 +262,47 @@ do
   end
   check.close(worst / J(L / v), 0, 1e-9, "arrival flux at sample midpoints vs J(L, t)", "free Gaussian probability current (textbook)")
 end
+-- arrival_time with an acceleration: a 87Rb cloud launched upwards at 0.2 m/s
+-- onto a plane 5 cm below falls in its own frame on a grid that holds only its spread.  The
+-- flux against the free Gaussian current moved by the uniform force (the
+-- density displaced by a t^2/2, the velocity field raised by a t; Avron-Herbst
+-- form, from memory), J(t) = rho(L - v t - a t^2/2, t) (v + a t + (L - v t -
+-- a t^2/2) t / (tau^2 + t^2)), integrated by Simpson's rule on 200000
+-- intervals around the arrival; the classical time, the root of
+-- L = v t + a t^2 / 2 (Newton).
+do
+  local at = require "psiflight.recipes.arrival_time"
+  local g = pf.constants.g_n
+  local p = params(at, {mass = pf.mass("87Rb"), velocity = 0.2, sigma = 5e-6, distance = -0.05, window = 0.14,
+                        samples = 200, acceleration = -g})
+  local out = at.run(p)
+  local r = out.results
+  check.truthy(out.in_frame and out.points <= 128, "the dropped cloud needs " .. out.points .. " points (the drop is the frame's)")
+  local tc = (0.2 + math.sqrt(0.04 + 2 * g * 0.05)) / g
+  check.near(r.classical_time[1], tc, 1e-14, "classical arrival time (v + sqrt(v^2 + 2 g h)) / g", "Newton (common practice)")
+  check.near(r.detected_fraction[1], 1, 1e-9, "dropped cloud: all of it crosses the plane", "probability conservation (common practice)")
+  local m, s0, L, a, v = p.mass, p.sigma, p.distance, -g, 0.2
+  local tau = 2 * m * s0 * s0 / hbar
+  local function J(t)
+    local st = s0 * math.sqrt(1 + (t / tau) ^ 2)
+    local d = L - v * t - 0.5 * a * t * t
+    local rho = math.exp(-d * d / (2 * st * st)) / (math.sqrt(2 * math.pi) * st)
+    return -rho * (v + a * t + d * t / (tau * tau + t * t)) -- counted downwards, towards the plane
+  end
+  local N, t0, T = 200000, tc - 3e-4, 6e-4
+  local dt = T / N
+  local s0_, s1, s2 = 0, 0, 0
+  for i = 0, N do
+    local t = t0 + i * dt
+    local wgt = (i == 0 or i == N) and 1 or (i % 2 == 1 and 4 or 2)
+    local j = J(t) * wgt
+    s0_, s1, s2 = s0_ + j, s1 + j * t, s2 + j * t * t
+  end
+  local mean = s1 / s0_
+  local rms = math.sqrt(s2 / s0_ - mean * mean)
+  print(string.format("note dropped arrival: mean %.12e s (want %.12e), rms %.6e s (want %.6e)", r.mean_arrival_time[1], mean,
+    r.rms_arrival_spread[1], rms))
+  check.near(r.mean_arrival_time[1], mean, 1e-11, "dropped cloud: mean arrival time vs the exact current", "Gaussian current under a uniform force (from memory)")
+  check.near(r.rms_arrival_spread[1], rms, 1e-6, "dropped cloud: arrival spread vs the exact current", "Gaussian current under a uniform force (from memory)")
+end
 check.done()

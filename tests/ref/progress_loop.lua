@@ -1,6 +1,7 @@
 -- progress_loop.lua - helper for test_progress.sh: a script loop with a
--- progress bar, a carpet picture (which draws its own bar) and a long
--- engine call (evolve), which reports to the engine's progress hook.
+-- progress bar, a carpet picture (which draws its own bar), a long
+-- engine call (evolve), which reports to the engine's progress hook, and an
+-- ensemble's per-member loop.
 local pf = require "psiflight"
 pf.setup{planning = "estimate"}
 local bar = pf.progress(30, "scan")
@@ -25,6 +26,13 @@ for a = 1, #xs do
 end
 local w2 = pf.gaussian(g2, {mass = m, width = {2e-6, 2e-6}})
 w2:evolve(600 * 2e-6, {potential = V, dt = 2e-6})
+-- An ensemble's per-member loop (e:each) shows its own bar.
+local ens = pf.mixture({w, w:copy():kick(1e5), w:copy():kick(-1e5)}, {0.5, 0.25, 0.25})
+ens:each(function(member)
+  local t0 = os.clock()
+  while os.clock() - t0 < 0.05 do end
+  member:fly(1e-4)
+end)
 local f = pf.h5file("evolved.h5")
 f:put_wave("evolved", w2)
 f:close()

@@ -32,6 +32,9 @@ echo "ok bar with elapsed and estimated time on a terminal's stderr (scan and ca
 grep -q 'evolve \[' "$tmp/term1" && grep -q 'evolve \[#*\] 100%' "$tmp/term1" ||
   { echo "FAIL no bar for the long evolve call"; cat -v "$tmp/term1" | tail -5; exit 1; }
 echo "ok a long engine call (evolve) shows its own bar, ending at 100%"
+grep -q 'ensemble \[#*\] 100%' "$tmp/term1" ||
+  { echo "FAIL no bar for the ensemble's per-member loop"; cat -v "$tmp/term1" | tail -5; exit 1; }
+echo "ok an ensemble's per-member loop (e:each) shows a bar, ending at 100%"
 grep -q 'elapsed' "$tmp/out1" && { echo "FAIL bar on stdout"; exit 1; }
 grep -qx 'result line	true' "$tmp/out1" || { echo "FAIL stdout content"; cat "$tmp/out1"; exit 1; }
 echo "ok stdout holds only the script's lines"
