@@ -97,6 +97,7 @@ return {
     -- grids
     ["pf.grid"] = {"opts: options", G, "a periodic grid: points and span (or spacing) per axis, origin"},
     ["pf.grid_advice"] = {"opts: options", "table", "grid proposals for a planned flight (points, span) before any state exists"},
+    ["pf.rank_advice"] = {"opts: options", "table", "the fewest MPI ranks whose share of a distributed grid fits the memory per rank"},
     ["grid:dim"] = {"", "integer", "number of axes"},
     ["grid:total"] = {"", "integer", "number of points"},
     ["grid:points"] = {"axis?: integer", "integer", "points on an axis"},

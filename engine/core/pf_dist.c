@@ -10,6 +10,7 @@
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
+#include "pf_constants.h"
 #include "pf_dist.h"
 #include "pf_guard.h"
 #include "pf_internal.h"
@@ -129,6 +130,7 @@ void pf_grid_slab(const pf_grid *g, pf_rep rep, size_t *first, size_t *count)
     *first = 0;
     *count = g->n[rep == PF_MOMENTUM && g->dim > 1 ? 1 : 0];
 }
+pf_status pf_wave_gather_density(pf_wave *w, pf_rep rep, double *out) { return pf_wave_density(w, rep, out); }
 size_t pf_grid_local_bytes(const pf_grid *g) { return pf_bytes(g->total, sizeof(double complex)); }
 pf_status pf_wave_gather(pf_wave *w, pf_rep rep, double complex *out)
 {
@@ -724,8 +726,8 @@ pf_status pf_wave_gather(pf_wave *w, pf_rep rep, double complex *out)
     }
     double complex *dest = out;
     double complex *tmp = NULL;
-    int ok = 1;
-    if (L && D->rank == 0) {
+    int ok = D->rank != 0 || out != NULL; /* rank 0 without a buffer fails everyone */
+    if (ok && L && D->rank == 0) {
         /* The transposed array arrives whole; one pass puts axis 0 first. */
         tmp = PF_ALLOC_N(g->ctx, g->total, sizeof(double complex));
         ok = tmp != NULL;
@@ -747,6 +749,40 @@ pf_status pf_wave_gather(pf_wave *w, pf_rep rep, double complex *out)
                 memcpy(out + (i * n1 + j) * n2, tmp + (j * n0 + i) * n2, n2 * sizeof(double complex));
         pf_context_free(g->ctx, tmp);
     }
+    return PF_OK;
+}
+
+pf_status pf_wave_gather_density(pf_wave *w, pf_rep rep, double *out)
+{
+    pf_grid *g = w->grid;
+    if (!g->dist) return pf_wave_density(w, rep, out);
+    const int root = g->dist->rank == 0;
+    double complex *all = root ? PF_ALLOC_N(g->ctx, g->total, sizeof(double complex)) : NULL;
+    pf_status s = pf_wave_gather(w, rep, all); /* fails on every rank when rank 0 lacks the buffer */
+    if (s || !root) {
+        if (all) pf_context_free(g->ctx, all);
+        return s;
+    }
+    /* The formulas of pf_wave_density, so the values are its bits. */
+    if (rep == PF_POSITION) {
+        for (size_t i = 0; i < g->total; i++) out[i] = creal(all[i]) * creal(all[i]) + cimag(all[i]) * cimag(all[i]);
+    } else {
+        double scale = 1.0;
+        for (int a = 0; a < g->dim; a++) scale *= g->span[a] * g->span[a] / PF_TWO_PI;
+        size_t n0 = g->n[0], n1 = g->n[1], n2 = g->n[2];
+        for (size_t i = 0; i < n0; i++) {
+            size_t ai = pf_grid_ascending_index(g, 0, i);
+            for (size_t j = 0; j < n1; j++) {
+                size_t aj = g->dim > 1 ? pf_grid_ascending_index(g, 1, j) : 0;
+                for (size_t k = 0; k < n2; k++) {
+                    size_t ak = g->dim > 2 ? pf_grid_ascending_index(g, 2, k) : 0;
+                    double complex z = all[(i * n1 + j) * n2 + k];
+                    out[(ai * n1 + aj) * n2 + ak] = scale * (creal(z) * creal(z) + cimag(z) * cimag(z));
+                }
+            }
+        }
+    }
+    pf_context_free(g->ctx, all);
     return PF_OK;
 }
 

@@ -67,6 +67,11 @@ void pf_grid_local_range(const pf_grid *g, size_t *begin, size_t *end);
  * is copied after pf_wave_to. */
 pf_status pf_wave_gather(pf_wave *w, pf_rep rep, double complex *out);
 
+/* The density |psi|^2 (position, natural order) or |phi|^2 (momentum,
+ * ascending k), as pf_wave_density gives it, of the whole wave on rank 0
+ * (out: pf_grid_total doubles there, unused elsewhere).  Collective. */
+pf_status pf_wave_gather_density(pf_wave *w, pf_rep rep, double *out);
+
 /* The refusal of functions that do not handle distributed waves (yet):
  * PF_ESTATE with a message naming the operation.  A core function that reads
  * the samples through pf_wave_to / pf_wave_settle gets it from there. */

@@ -7,6 +7,7 @@
 #include <string.h>
 #include <hdf5.h>
 #include <hdf5_hl.h>
+#include "../core/pf_dist.h"
 #include "../core/pf_frame.h"
 #include "../core/pf_species.h"
 #include "../core/pf_version.h"
@@ -481,14 +482,16 @@ static int attach_amplitude(hid_t g, const char *name, int d, pf_rep rep)
 }
 
 /* phi(k) in physical units, ascending k on every axis. */
-static double complex *phi_ascending(pf_wave *w)
+/* phi in ascending-k order from the storage S (FFT order): the wave's own,
+ * or S gathered from MPI ranks (pf_wave_gather) when given. */
+static double complex *phi_ascending(pf_wave *w, const double complex *gathered)
 {
     pf_grid *g = pf_wave_grid(w);
-    if (pf_wave_to(w, PF_MOMENTUM)) return NULL;
+    if (!gathered && pf_wave_to(w, PF_MOMENTUM)) return NULL;
     size_t total = pf_grid_total(g);
     double complex *out = malloc(total * sizeof *out);
     if (!out) return NULL;
-    const double complex *S = pf_wave_data_const(w);
+    const double complex *S = gathered ? gathered : pf_wave_data_const(w);
     int d = pf_grid_dim(g);
     size_t n[3] = {1, 1, 1};
     for (int a = 0; a < d; a++) n[a] = pf_grid_points(g, a);
@@ -616,11 +619,46 @@ pf_status pf_h5_put_wave(pf_h5 *f, const char *name, pf_wave *w, int parts)
     return put_wave_values(f, name, w, parts);
 }
 
+/* A wave split over MPI ranks (pf_dist.h): psi and S gathered onto rank 0,
+ * which writes; the other ranks only take part in the gathering (their
+ * files are private to them, docs/distributed.md).  *done is set on them. */
+static pf_status gather_parts(pf_h5 *f, pf_wave *w, int parts, double complex **psi, double complex **S, int *done)
+{
+    size_t total = pf_grid_total(pf_wave_grid(w));
+    int root = pf_dist_rank() == 0;
+    *psi = *S = NULL;
+    *done = !root;
+    pf_status s = PF_OK;
+    if (parts & PF_H5_PSI) {
+        if (root && !(*psi = malloc(total * sizeof **psi))) s = PF_ENOMEM; /* pf_wave_gather fails everyone */
+        pf_status g = pf_wave_gather(w, PF_POSITION, *psi);
+        if (!s) s = g;
+    }
+    if (!s && (parts & PF_H5_PHI)) {
+        if (root && !(*S = malloc(total * sizeof **S))) s = PF_ENOMEM;
+        pf_status g = pf_wave_gather(w, PF_MOMENTUM, *S);
+        if (!s) s = g;
+    }
+    if (s || !root) {
+        free(*psi);
+        free(*S);
+        *psi = *S = NULL;
+        if (s == PF_ENOMEM) return pf_fail(f->ctx, PF_ENOMEM, "out of memory gathering a distributed wave on rank 0");
+    }
+    return s;
+}
+
 static pf_status put_wave_values(pf_h5 *f, const char *name, pf_wave *w, int parts)
 {
     pf_grid *grid = pf_wave_grid(w);
     int d = pf_grid_dim(grid);
     size_t total = pf_grid_total(grid);
+    double complex *psi_all = NULL, *S_all = NULL;
+    if (pf_wave_distributed(w)) {
+        int done = 0;
+        pf_status s = gather_parts(f, w, parts, &psi_all, &S_all, &done);
+        if (s || done) return s;
+    }
     hsize_t dims[PF_MAX_DIM];
     shape_of(grid, dims);
     hid_t g = new_group(f, name);
@@ -631,12 +669,12 @@ static pf_status put_wave_values(pf_h5 *f, const char *name, pf_wave *w, int par
     int bad = g < 0 || write_wave_attrs(f, g, name, w, "wave function");
     if (!bad) bad = attr_string(g, "representation", held);
     if (!bad && (parts & PF_H5_PSI)) {
-        bad = pf_wave_to(w, PF_POSITION) != PF_OK ||
-              write_amplitude(f, g, "psi", pf_wave_data_const(w), d, dims, total, PF_POSITION) ||
+        bad = (!psi_all && pf_wave_to(w, PF_POSITION) != PF_OK) ||
+              write_amplitude(f, g, "psi", psi_all ? psi_all : pf_wave_data_const(w), d, dims, total, PF_POSITION) ||
               write_axes(f, g, grid, PF_POSITION, w) || attach_amplitude(g, "psi", d, PF_POSITION);
     }
     if (!bad && (parts & PF_H5_PHI)) {
-        double complex *phi = phi_ascending(w);
+        double complex *phi = phi_ascending(w, S_all);
         if (phi && pf_wave_frame_moved(w) && phi_lab_factors(w, phi)) {
             free(phi);
             phi = NULL;
@@ -646,17 +684,29 @@ static pf_status put_wave_values(pf_h5 *f, const char *name, pf_wave *w, int par
         free(phi);
     }
     if (g >= 0) H5Gclose(g);
+    free(psi_all);
+    free(S_all);
     return bad ? pf_fail(f->ctx, PF_EIO, "cannot write wave function '%s' to '%s'", name, f->sf.final_path) : PF_OK;
 }
+
+static pf_status put_density_values(pf_h5 *f, const char *name, pf_wave *w, pf_rep rep, double *rho);
 
 pf_status pf_h5_put_density(pf_h5 *f, const char *name, pf_wave *w, pf_rep rep)
 {
     pf_status s = check_name(f, name);
     if (s) return s;
     pf_grid *grid = pf_wave_grid(w);
-    int d = pf_grid_dim(grid);
-    hsize_t dims[PF_MAX_DIM];
-    shape_of(grid, dims);
+    if (pf_wave_distributed(w)) {
+        /* Gathered onto rank 0, which writes (see gather_parts). */
+        int root = pf_dist_rank() == 0;
+        double *all = root ? malloc(pf_grid_total(grid) * sizeof *all) : NULL;
+        s = pf_wave_gather_density(w, rep, all);
+        if (s || !root) {
+            free(all);
+            return s;
+        }
+        return put_density_values(f, name, w, rep, all);
+    }
     double *rho = malloc(pf_grid_total(grid) * sizeof *rho);
     if (!rho) return pf_fail(f->ctx, PF_ENOMEM, "out of memory");
     s = pf_wave_density(w, rep, rho);
@@ -664,6 +714,16 @@ pf_status pf_h5_put_density(pf_h5 *f, const char *name, pf_wave *w, pf_rep rep)
         free(rho);
         return s;
     }
+    return put_density_values(f, name, w, rep, rho);
+}
+
+/* Writes the density item from rho (freed here). */
+static pf_status put_density_values(pf_h5 *f, const char *name, pf_wave *w, pf_rep rep, double *rho)
+{
+    pf_grid *grid = pf_wave_grid(w);
+    int d = pf_grid_dim(grid);
+    hsize_t dims[PF_MAX_DIM];
+    shape_of(grid, dims);
     static const char *const pos[] = {"m^-1", "m^-2", "m^-3"};
     static const char *const mom[] = {"m", "m^2", "m^3"};
     const char *pairs[] = {

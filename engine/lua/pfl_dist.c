@@ -8,13 +8,21 @@
  * distributed object unless the running Lua function is listed here.  A
  * function that handles slabs (through the core's distributed paths, with
  * a test under mpirun in tests/mpi/) adds its name; nothing else changes. */
+#include <math.h>
 #include <string.h>
 #include "../core/pf_dist.h"
 #include "pfl.h"
+#include "pfl_options.h"
+#include "pfl_params.h"
+
+static const pfl_options_decl RANK_ADVICE_OPTIONS = {
+    "pf.rank_advice", (const char *const[]){"points", "memory_per_rank", "waves", NULL}};
 
 /* Script names, sorted.  Grid methods ("grid:...") read the global tables
  * only and need no entry; module functions that take a grid do. */
 static const char *const DIST_AWARE[] = {
+    "h5file:put_density",
+    "h5file:put_wave",
     "pf.wave",
     "wave:clock",
     "wave:close",
@@ -113,8 +121,57 @@ static int l_dist_aware(lua_State *L)
     return 1;
 }
 
+/* pf.rank_advice{points = {n0, n1 [, n2]}, memory_per_rank = bytes, waves = 2}
+ *   -> {ranks, bytes_per_rank, planes_per_rank} or {ranks = false, ...}
+ * The fewest MPI ranks whose share of `waves` wave functions (and FFTW-MPI's
+ * planning scratch) fits memory_per_rank, for pf.setup{distribute = true};
+ * at most one plane of axis 1 per rank.  Pure arithmetic: the slab sizes
+ * FFTW-MPI gives (ceil(n / ranks) planes), 16 bytes a sample. */
+static int l_rank_advice(lua_State *L)
+{
+    pfl_params_before_work(L);
+    pfl_options_check(L, 1, &RANK_ADVICE_OPTIONS);
+    size_t points[3] = {0, 0, 0};
+    int t = pfl_option_get(L, 1, "points");
+    if (t != LUA_TTABLE) return luaL_error(L, "pf.rank_advice: field 'points' must be a table of 2 or 3 point counts");
+    int dim = (int)luaL_len(L, -1);
+    if (dim < 2 || dim > 3) return luaL_error(L, "pf.rank_advice: field 'points' must hold 2 or 3 counts, got %d", dim);
+    for (int a = 0; a < dim; a++) {
+        lua_geti(L, -1, a + 1);
+        int ok = 0;
+        lua_Integer v = lua_tointegerx(L, -1, &ok);
+        if (!ok || v < 4 || v > (lua_Integer)1 << 30)
+            return luaL_error(L, "pf.rank_advice: points[%d] must be an integer from 4 to 2^30", a + 1);
+        points[a] = (size_t)v;
+        lua_pop(L, 1);
+    }
+    lua_pop(L, 1);
+    double memory = pfl_field_number(L, 1, "memory_per_rank", 0, 1);
+    if (!(memory > 0)) return luaL_error(L, "pf.rank_advice: field 'memory_per_rank' must be a positive byte count");
+    double waves = pfl_field_number(L, 1, "waves", 2, 0);
+    if (!(waves >= 1) || waves > 1e6) return luaL_error(L, "pf.rank_advice: field 'waves' must be from 1 to 1e6");
+    double need = 0;
+    size_t r = pf_dist_advise_ranks(dim, points, waves, memory, &need);
+    lua_createtable(L, 0, 3);
+    if (r == 0) {
+        lua_pushboolean(L, 0);
+        lua_setfield(L, -2, "ranks");
+        return 1;
+    }
+    lua_pushinteger(L, (lua_Integer)r);
+    lua_setfield(L, -2, "ranks");
+    lua_pushnumber(L, need);
+    lua_setfield(L, -2, "bytes_per_rank");
+    lua_pushinteger(L, (lua_Integer)((points[0] + r - 1) / r));
+    lua_setfield(L, -2, "planes_per_rank");
+    return 1;
+}
+
 void pfl_open_dist(lua_State *L, int mod)
 {
-    static const luaL_Reg funcs[] = {{"mpi_info", l_mpi_info}, {"_dist_aware", l_dist_aware}, {NULL, NULL}};
+    static const luaL_Reg funcs[] = {
+        {"mpi_info", l_mpi_info}, {"_dist_aware", l_dist_aware}, {"rank_advice", l_rank_advice}, {NULL, NULL}};
+    static const pfl_options_decl *const options[] = {&RANK_ADVICE_OPTIONS, NULL};
+    pfl_options_declare(L, options);
     pfl_add_functions(L, mod, funcs);
 }

@@ -61,6 +61,7 @@ local callers = {
   ["pf.histogram"] = function(o) pf.histogram({1, 2, 3}, o) end,
   ["pf.fringes"] = function(o) pf.fringes({1, 2, 3, 4}, {1, 0, 1, 0}, o) end,
   ["pf.grid_advice"] = function(o) pf.grid_advice(o) end,
+  ["pf.rank_advice"] = function(o) pf.rank_advice(o) end,
   ["grid_advice kicks[i]"] = function(o) w1:grid_advice{time = 1e-3, kicks = {o}} end,
   ["pf.h5file"] = function(o) pf.h5file("options-walk-2.h5", o) end,
   ["h5file:put_wave"] = function(o) h5:put_wave("cloud", w1, o) end,
