@@ -418,6 +418,12 @@ pf_status pf_wave_expand(pf_wave *w, double t, const pf_expand_spec *spec, pf_ex
 
     /* Continue the frame of the previous expand when nothing happened since. */
     int cont = w->expanded.log_count && w->expanded.log_count == w->log.count;
+    /* A new expansion follows the cloud: its centre of mass goes to the
+     * grid's origin (about which the grid scales) and its drift into the
+     * frame, which carries it exactly (the mean field depends on |psi|^2
+     * only: Galilean covariance).  So the grid need not hold the drift, and
+     * the energy below is the cloud's own, without the centre-of-mass part. */
+    if (!cont && (s = pf_wave_frame_centre(w, NULL))) return s;
     double energy = 0;
     if ((s = pf_wave_to(w, PF_POSITION))) return s;
     expand_ws ws;

@@ -217,6 +217,45 @@ pf_status pf_wave_lab_shift(pf_wave *w, const double *d)
     return PF_OK;
 }
 
+pf_status pf_wave_frame_centre(pf_wave *w, int *moved)
+{
+    pf_grid *g = w->grid;
+    double xm[PF_MAX_DIM], km[PF_MAX_DIM];
+    if (moved) *moved = 0;
+    pf_status s = pf_wave_position_moments(w, xm, NULL);
+    if (!s) s = pf_wave_wavenumber_moments(w, km, NULL);
+    if (s) return s;
+    double d[PF_MAX_DIM] = {0, 0, 0}, q[PF_MAX_DIM] = {0, 0, 0};
+    int shift = 0, kick = 0;
+    for (int a = 0; a < g->dim; a++) {
+        d[a] = xm[a] - g->origin[a];
+        q[a] = -km[a];
+        /* Below these the cloud already sits at the origin at rest (rounding
+         * of a symmetric state's moments). */
+        if (fabs(d[a]) > 1e-9 * g->dx[a]) shift = 1;
+        else d[a] = 0.0;
+        if (fabs(km[a]) > 1e-9 * PF_TWO_PI / g->span[a]) kick = 1;
+        else q[a] = 0.0;
+    }
+    if (shift) {
+        /* chi'(xi) = chi(xi + d) with X' = X + d: theta gains K.d. */
+        double back[PF_MAX_DIM];
+        for (int a = 0; a < g->dim; a++) back[a] = -d[a];
+        if ((s = pf_wave_shift(w, back))) return s;
+        for (int a = 0; a < g->dim; a++) {
+            w->frame.phase += w->frame.wavenumber[a] * d[a];
+            w->frame.position[a] += d[a];
+        }
+    }
+    if (kick) {
+        /* chi'' = exp(-i k_c.xi) chi' with K' = K + k_c. */
+        if ((s = pf_wave_kick(w, q))) return s;
+        for (int a = 0; a < g->dim; a++) w->frame.wavenumber[a] -= q[a];
+    }
+    if (moved) *moved = shift || kick;
+    return PF_OK;
+}
+
 pf_status pf_wave_lab_value(pf_wave *w, pf_rep rep, const size_t *idx, double complex *out)
 {
     double complex v;

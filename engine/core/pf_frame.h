@@ -80,6 +80,15 @@ void pf_wave_grid_position(const pf_wave *w, const double *lab_x, double *xi);
  * frame: exactly pf_wave_shift. */
 pf_status pf_wave_lab_shift(pf_wave *w, const double *d);
 
+/* Moves the cloud's centre of mass onto the grid's origin and its mean wave
+ * number into the frame, leaving the lab state unchanged: chi is shifted
+ * exactly (pf_wave_shift) by the mean position's offset d from the origin
+ * (X += d, theta += K.d) and kicked by -<k> (K += <k>).  Offsets below 1e-9
+ * of a cell (or of a wave-number cell) are left alone.  *moved (may be NULL)
+ * tells whether anything moved.  Used by pf_wave_expand so the scaled grid
+ * expands about the cloud and the frame carries its drift. */
+pf_status pf_wave_frame_centre(pf_wave *w, int *moved);
+
 /* Lab value at a multi-index: psi_lab at the lab position of grid point idx
  * (position), or phi_lab at the lab wave number of storage index idx
  * (momentum).  Same conventions as pf_wave_value otherwise. */

@@ -90,8 +90,9 @@ static void bench_size(pf_context *ctx, int dim, const int *n, int threads, FILE
      * 1.05 in every run (issue 19). */
     double target = dim == 3 && n[0] == 128 && threads == 2 ? 1.05 : 1.10;
     printf("flight  %-16s threads %d   step %9.3f ms   fft pair %9.3f ms   ratio %5.3f (quartiles %5.3f-%5.3f; "
-           "target <= %.2f)   repeat flight %8.3f ms (%.3f of a pair)\n",
-           shape, threads, step, pair, r_step, q_step[0], q_step[1], target, repeat, r_repeat);
+           "target <= %.2f) %s   repeat flight %8.3f ms (%.3f of a pair)\n",
+           shape, threads, step, pair, r_step, q_step[0], q_step[1], target, bench_mark(r_step, target), repeat,
+           r_repeat);
     fflush(stdout);
     if (csv) fprintf(csv, "%s,%d,%.6f,%.6f,%.6f\n", shape, threads, step, pair, repeat);
     pf_wave_free(w);

@@ -140,14 +140,14 @@ static void bench_size(pf_context *ctx, int dim, const int *n, int threads, int 
     bench_fft_pair_free(&raw);
     bench_shape(dim, n, shape, sizeof shape);
     printf("scaled  %-16s threads %d   paired: onto %9.3f ms   one fft %9.3f ms   ratio %5.3f (quartiles "
-           "%5.3f-%5.3f; target <= 1.5)\n",
-           shape, threads, ms_onto, ms_one, paired, q[0], q[1]);
+           "%5.3f-%5.3f; target <= 1.5) %s\n",
+           shape, threads, ms_onto, ms_one, paired, q[0], q[1], bench_mark(paired, 1.5));
     printf("scaled  %-16s threads %d   onto %9.3f ms   new grid %9.3f ms   one fft %9.3f ms   "
            "ratio onto/fft %5.3f   new/fft %5.3f\n",
            shape, threads, onto, fresh, one, onto / one, fresh / one);
     if (threads == 1)
-        printf("scaled  %-16s threads 1   cpu time: onto %9.3f ms   one fft %9.3f ms   ratio %5.3f (target <= 1.5)\n",
-               shape, cpu_onto, cpu_one, cpu_onto / cpu_one);
+        printf("scaled  %-16s threads 1   cpu time: onto %9.3f ms   one fft %9.3f ms   ratio %5.3f (target <= 1.5) %s\n",
+               shape, cpu_onto, cpu_one, cpu_onto / cpu_one, bench_mark(cpu_onto / cpu_one, 1.5));
     fflush(stdout);
     pf_wave_free(w);
     pf_grid_release(there);

@@ -24,6 +24,12 @@ static inline double bench_now(void)
 
 typedef void (*bench_fn)(void *user);
 
+/* The mark printed beside a measured ratio and its target (a ratio at or
+ * below the target meets it), so that a run's misses can be found with
+ * grep MISSED.  One run on a shared machine is not the verdict: the
+ * targets are judged on two consecutive quiet full runs. */
+static inline const char *bench_mark(double value, double target) { return value <= target ? "[met]" : "[MISSED]"; }
+
 /* Milliseconds per call of fn: best of `blocks` blocks, each repeating fn
  * until at least min_seconds have passed. */
 static inline double bench_ms(bench_fn fn, void *user, int blocks, double min_seconds)
