@@ -142,6 +142,109 @@ typedef struct two_level_plan {
     double *rabi;      /* per stage: Omega at its midpoint */
 } two_level_plan;
 
+/* The SU(2) part [[u, v], [-v*, u*]] of the pulse for one momentum pair
+ * whose diagonal difference is 2 half (rad/s), composed over the stages. */
+static void pair_rotation(const two_level_plan *plan, double half, double complex *u_out, double complex *v_out)
+{
+    double complex u = 1.0, v = 0.0;
+    for (int j = 0; j < plan->stages; j++) {
+        double om = 0.5 * plan->rabi[j];
+        double gen = sqrt(half * half + om * om); /* half the generalised Rabi frequency */
+        double th = gen * plan->len[j];
+        double c = cos(th), sn = gen > 0 ? sin(th) / gen : plan->len[j];
+        double complex su = c - I * half * sn; /* stage matrix [[su, sv], [-sv*, su*]] */
+        double complex sv = -I * om * sn;
+        double complex nu = su * u - sv * conj(v);
+        double complex nv = su * v + sv * conj(u);
+        u = nu;
+        v = nv;
+    }
+    *u_out = u;
+    *v_out = v;
+}
+
+/* The pulse on a 2D/3D grid whose kick lies along one axis (ax; or none):
+ * the kinetic energies are sums over axes, so the common phase
+ * exp(-i mean tau) is a product of per-axis tables, and the rotation depends
+ * on the index along ax only (the other axes' energies cancel in the
+ * difference).  Tables of n_a entries replace the per-point square root,
+ * sine, cosine and exponential; the loop runs over rows of the last axis. */
+static pf_status two_level_separable(pf_grid *g, int ax, long shift, const two_level_plan *plan,
+                                     const pf_pulse_light *light, double hm, double tau, double complex f12,
+                                     double complex f21, double complex f22, double complex *sa, double complex *sb)
+{
+    pf_context *ctx = g->ctx;
+    const int dim = g->dim;
+    size_t tab_n = 2 * g->n[ax];
+    for (int a = 0; a < dim; a++) tab_n += g->n[a];
+    size_t bytes = pf_bytes(tab_n, sizeof(double complex));
+    double complex *tab = pf_alloc(ctx, bytes);
+    if (!tab) return pf_context_status(ctx);
+    double complex *T[PF_MAX_DIM] = {NULL}, *U = tab, *V = tab + g->n[ax], *next = tab + 2 * g->n[ax];
+    for (int a = 0; a < dim; a++) {
+        T[a] = next;
+        next += g->n[a];
+        const long n = (long)g->n[a], sh = a == ax ? shift : 0;
+        for (long j = 0; j < n; j++) {
+            long jq = ((j + sh) % n + n) % n;
+            double k = g->k[a][j], kq = g->k[a][jq];
+            T[a][j] = cexp(-I * 0.5 * tau * hm * (k * k + kq * kq));
+        }
+    }
+    {
+        const long n = (long)g->n[ax];
+        for (long j = 0; j < n; j++) {
+            long jq = ((j + shift) % n + n) % n;
+            double k = g->k[ax][j], kq = g->k[ax][jq];
+            double half = 0.5 * (hm * (k * k - kq * kq) + light->shift_a - light->shift_b + light->detuning);
+            pair_rotation(plan, half, &U[j], &V[j]);
+        }
+    }
+    const double complex c0 = cexp(-I * 0.5 * tau * (light->shift_a + light->shift_b - light->detuning));
+    const size_t nl = g->n[dim - 1], rows = g->total / nl;
+    const long lshift = ax == dim - 1 ? ((shift % (long)nl) + (long)nl) % (long)nl : 0;
+#pragma omp parallel for num_threads(ctx->threads) schedule(static)
+    for (size_t r = 0; r < rows; r++) {
+        size_t idx[PF_MAX_DIM] = {0}, rr = r;
+        for (int a = dim - 2; a >= 0; a--) {
+            idx[a] = rr % g->n[a];
+            rr /= g->n[a];
+        }
+        double complex rowf = c0;
+        for (int a = 0; a < dim - 1; a++) rowf *= T[a][idx[a]];
+        /* the partner row: shifted along ax when ax is not the last axis */
+        size_t rq = 0;
+        for (int a = 0; a < dim - 1; a++) {
+            size_t i = idx[a];
+            if (a == ax) i = (size_t)((((long)i + shift) % (long)g->n[a] + (long)g->n[a]) % (long)g->n[a]);
+            rq = rq * g->n[a] + i;
+        }
+        double complex *xa = sa + r * nl, *xb = sb + rq * nl;
+        const double complex *Tl = T[dim - 1];
+        if (ax == dim - 1) {
+            for (size_t j = 0; j < nl; j++) {
+                size_t jq = j + (size_t)lshift;
+                if (jq >= nl) jq -= nl;
+                double complex common = rowf * Tl[j], u = U[j], v = V[j];
+                double complex pa = xa[j], pb = xb[jq];
+                xa[j] = common * (u * pa + v * f12 * pb);
+                xb[jq] = common * (-conj(v) * f21 * pa + conj(u) * f22 * pb);
+            }
+        } else {
+            const double complex u = U[idx[ax]], v = V[idx[ax]];
+            const double complex m11 = u, m12 = v * f12, m21 = -conj(v) * f21, m22 = conj(u) * f22;
+            for (size_t j = 0; j < nl; j++) {
+                double complex common = rowf * Tl[j];
+                double complex pa = xa[j], pb = xb[j];
+                xa[j] = common * (m11 * pa + m12 * pb);
+                xb[j] = common * (m21 * pa + m22 * pb);
+            }
+        }
+    }
+    pf_free(ctx, tab, bytes);
+    return PF_OK;
+}
+
 pf_status pf_pulse_two_level(pf_wave *a, pf_wave *b, const pf_pulse_shape *shape, const pf_pulse_light *light)
 {
     pf_grid *g = a->grid;
@@ -205,6 +308,18 @@ pf_status pf_pulse_two_level(pf_wave *a, pf_wave *b, const pf_pulse_shape *shape
     const double complex f21 = conj(up) * cexp(-I * delta * t1) * r;
     const double complex f22 = cexp(-I * delta * tau);
     const size_t total = g->total;
+    int kicked = 0, ax = g->dim - 1;
+    for (int d = 0; d < g->dim; d++)
+        if (shift[d]) {
+            kicked++;
+            ax = d;
+        }
+    if (g->dim >= 2 && kicked <= 1) {
+        s = two_level_separable(g, ax, shift[ax], &plan, light, hm, tau, f12, f21, f22, sa, sb);
+        pf_free(ctx, tab, bytes);
+        if (s) return s;
+        goto done;
+    }
 
 #pragma omp parallel for num_threads(ctx->threads) schedule(static)
     for (size_t p = 0; p < total; p++) {
@@ -236,7 +351,7 @@ pf_status pf_pulse_two_level(pf_wave *a, pf_wave *b, const pf_pulse_shape *shape
         sb[q] = common * (-conj(v) * f21 * xa + conj(u) * f22 * xb);
     }
     pf_free(ctx, tab, bytes);
-
+done:;
     pf_wave *w2[2] = {a, b};
     for (int i = 0; i < 2; i++) {
         w2[i]->clock += tau;

@@ -260,13 +260,141 @@ static void test_bad_input(void **state)
     pf_context_release(ctx);
 }
 
+/* 2D and 3D grids: every momentum class k (all axes) goes to k + K with the
+ * Rabi lineshape at the detuning delta - (w(k + K) - w(k)), w = hbar |k|^2 / 2m
+ * (as the 1D check above; Rabi 1937), and keeps its own amplitude phase
+ * |P_a| in the lower level.  Kicks along the first, middle and last axis
+ * (the separable tables), none (microwave), and along two axes (the
+ * general per-point path). */
+/* The next multi-index in storage (row-major) order. */
+static void next_index(int dim, const size_t *n, size_t *idx)
+{
+    for (int d = dim - 1; d >= 0; d--) {
+        if (++idx[d] < n[d]) return;
+        idx[d] = 0;
+    }
+}
+
+static void test_rabi_lineshape_2d_3d(void **state)
+{
+    (void)state;
+    const struct {
+        int dim;
+        size_t n[3];
+        int kick[3]; /* spacings per axis */
+    } cases[] = {
+        {2, {64, 32}, {9, 0}}, {3, {16, 24, 32}, {0, 0, 7}}, {3, {16, 24, 32}, {0, -5, 0}},
+        {3, {16, 16, 16}, {0, 0, 0}}, {2, {64, 32}, {6, 3}},
+    };
+    for (size_t c = 0; c < sizeof cases / sizeof cases[0]; c++) {
+        pf_context *ctx = tu_context();
+        const int dim = cases[c].dim;
+        double span[3] = {40e-6, 30e-6, 20e-6};
+        pf_grid *g = tu_grid(ctx, dim, cases[c].n, span, NULL);
+        pf_context_set_warn_handler(ctx, tu_quiet, NULL); /* partners beyond Nyquist are skipped below */
+        tu_gauss gp = {.x0 = {1e-6, -2e-6, 0}, .sigma = {1.5e-6, 1.2e-6, 1e-6}, .k0 = {2e5, -1e5, 3e5}};
+        pf_wave *a = tu_gauss_wave(g, RB87_MASS, &gp), *b = empty_like(a), *ref = NULL;
+        assert_int_equal(pf_wave_copy(a, &ref), PF_OK);
+        assert_int_equal(pf_wave_to(ref, PF_MOMENTUM), PF_OK);
+        double K[3] = {0};
+        for (int d = 0; d < dim; d++) K[d] = cases[c].kick[d] * pf_grid_kspacing(g, d);
+        const double hm = PF_HBAR / (2 * RB87_MASS), omega = 2 * PF_PI * 3e3, t = 0.8 * PF_PI / omega;
+        const double delta = hm * (K[0] * K[0] + K[1] * K[1] + K[2] * K[2]) + 0.3 * omega;
+        pf_pulse_shape sh = {.envelope = PF_ENVELOPE_SQUARE, .duration = t, .rabi = omega};
+        pf_pulse_light li = {.kick = {K[0], K[1], K[2]}, .detuning = delta, .phase = 0.4, .shift_a = 300, .shift_b = -200};
+        assert_int_equal(pf_pulse_two_level(a, b, &sh, &li), PF_OK);
+        assert_int_equal(pf_wave_to(a, PF_MOMENTUM), PF_OK);
+        assert_int_equal(pf_wave_to(b, PF_MOMENTUM), PF_OK);
+        const double complex *s0 = pf_wave_data(ref), *sa = pf_wave_data(a), *sb = pf_wave_data(b);
+        double worst = 0, total = 0;
+        size_t idx[3] = {0};
+        const size_t N = pf_grid_total(g);
+        for (size_t p = 0; p < N; p++, next_index(dim, cases[c].n, idx)) {
+            double k2 = 0, kq2 = 0;
+            size_t q = 0;
+            int wraps = 0;
+            for (int d = 0; d < dim; d++) {
+                double k = pf_grid_k(g, d, idx[d]);
+                long nn = (long)cases[c].n[d];
+                long jq = (((long)idx[d] + cases[c].kick[d]) % nn + nn) % nn;
+                if (fabs(k + K[d]) >= pf_grid_knyquist(g, d)) wraps = 1;
+                k2 += k * k;
+                kq2 += (k + K[d]) * (k + K[d]);
+                q = q * cases[c].n[d] + (size_t)jq;
+            }
+            double p0 = creal(s0[p] * conj(s0[p]));
+            total += p0;
+            if (wraps) continue;
+            double pb = rabi_formula(omega, delta - hm * (kq2 - k2) - (li.shift_b - li.shift_a), t);
+            worst = fmax(worst, fabs(creal(sb[q] * conj(sb[q])) - p0 * pb));
+            worst = fmax(worst, fabs(creal(sa[p] * conj(sa[p])) - p0 * (1 - pb)));
+        }
+        char label[120];
+        snprintf(label, sizeof label, "%dD kick (%d, %d, %d) spacings: P(k) = Rabi lineshape per class (Rabi 1937), max rel.",
+                 dim, cases[c].kick[0], cases[c].kick[1], cases[c].kick[2]);
+        TU_NEAR(worst / (total / (double)N), 0.0, 1e-11, label);
+        TU_NEAR(pf_wave_norm(a) + pf_wave_norm(b), 1.0, 1e-12, "unitarity (2D/3D)");
+        pf_wave_free(a);
+        pf_wave_free(b);
+        pf_wave_free(ref);
+        pf_grid_release(g);
+        pf_context_release(ctx);
+    }
+}
+
+/* The separable 2D path against the 1D path, which the checks above tie to
+ * the Rabi formula and the area theorem: a product state psi(x) psi(y) under
+ * a Gaussian Raman pulse kicking along x is the 1D pulse on psi(x) times
+ * psi(y) flown freely for the pulse duration (the Hamiltonian separates;
+ * common practice), amplitude by amplitude. */
+static void test_separable_gaussian_2d(void **state)
+{
+    (void)state;
+    pf_context *ctx = tu_context();
+    size_t n2[2] = {128, 32}, nx = 128, ny = 32;
+    double span2[2] = {60e-6, 20e-6}, sx = 60e-6, sy = 20e-6;
+    pf_grid *g2 = tu_grid(ctx, 2, n2, span2, NULL), *gx = tu_grid(ctx, 1, &nx, &sx, NULL), *gy = tu_grid(ctx, 1, &ny, &sy, NULL);
+    tu_gauss p2 = {.x0 = {2e-6, -1e-6}, .sigma = {2e-6, 1.5e-6}, .k0 = {3e5, 1e5}};
+    tu_gauss px = {.x0 = {2e-6}, .sigma = {2e-6}, .k0 = {3e5}}, py = {.x0 = {-1e-6}, .sigma = {1.5e-6}, .k0 = {1e5}};
+    pf_wave *a2 = tu_gauss_wave(g2, RB87_MASS, &p2), *b2 = empty_like(a2);
+    pf_wave *ax = tu_gauss_wave(gx, RB87_MASS, &px), *bx = empty_like(ax), *ay = tu_gauss_wave(gy, RB87_MASS, &py);
+    const double K = 12 * pf_grid_kspacing(gx, 0), hm = PF_HBAR / (2 * RB87_MASS);
+    pf_pulse_shape sh = {.envelope = PF_ENVELOPE_GAUSSIAN, .duration = 60e-6, .width = 10e-6, .rabi = 1.3e5, .substeps = 40};
+    pf_pulse_light l2 = {.kick = {K, 0}, .detuning = hm * K * K, .phase = 0.2}, l1 = {.kick = {K}, .detuning = hm * K * K, .phase = 0.2};
+    assert_int_equal(pf_pulse_two_level(a2, b2, &sh, &l2), PF_OK);
+    assert_int_equal(pf_pulse_two_level(ax, bx, &sh, &l1), PF_OK);
+    assert_int_equal(pf_wave_fly(ay, sh.duration), PF_OK);
+    pf_wave *lev[2][2] = {{a2, ax}, {b2, bx}};
+    double worst = 0, peak = 0;
+    for (int L = 0; L < 2; L++) {
+        assert_int_equal(pf_wave_to(lev[L][0], PF_MOMENTUM), PF_OK);
+        assert_int_equal(pf_wave_to(lev[L][1], PF_MOMENTUM), PF_OK);
+        assert_int_equal(pf_wave_to(ay, PF_MOMENTUM), PF_OK);
+        const double complex *z2 = pf_wave_data(lev[L][0]), *zx = pf_wave_data(lev[L][1]), *zy = pf_wave_data(ay);
+        for (size_t i = 0; i < nx; i++)
+            for (size_t j = 0; j < ny; j++) {
+                double complex want = zx[i] * zy[j];
+                worst = fmax(worst, cabs(z2[i * ny + j] - want));
+                peak = fmax(peak, cabs(want));
+            }
+    }
+    TU_NEAR(worst / peak, 0.0, 1e-12, "2D Gaussian Raman pulse = 1D pulse x free flight (max rel.)");
+    pf_wave *all[5] = {a2, b2, ax, bx, ay};
+    for (int i = 0; i < 5; i++) pf_wave_free(all[i]);
+    pf_grid_release(g2);
+    pf_grid_release(gx);
+    pf_grid_release(gy);
+    pf_context_release(ctx);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_rabi_formula),     cmocka_unit_test(test_raman_velocity_selection),
         cmocka_unit_test(test_ramsey_fringes),   cmocka_unit_test(test_gaussian_area),
         cmocka_unit_test(test_bragg_raman_nath), cmocka_unit_test(test_bragg_pi_pulse),
-        cmocka_unit_test(test_bad_input),
+        cmocka_unit_test(test_bad_input),        cmocka_unit_test(test_rabi_lineshape_2d_3d),
+        cmocka_unit_test(test_separable_gaussian_2d),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
