@@ -343,7 +343,7 @@ typedef struct axis_labels {
 #define CHAR_W 0.87
 
 /* Along the axis (x): labels side by side, a character's width each plus
- * two of gap (along = 1); across (y, colour bar): stacked, `along` text
+ * two of gap (along = 1); across (y 2.6, colour bar 3.0): stacked, `along` text
  * heights apart (the colour bar's sparser, its labels being read less). */
 static void choose_ticks(axis_labels *a, double lo, double hi, double len_px, double ch, double along)
 {
@@ -415,7 +415,7 @@ static void layout_map(map_layout *L, const pf_map *m, int equal, const double b
                 pw = pwmax, ph = phmax;
             }
         }
-        choose_ticks(&L->yl, box[2], box[3], ph, ch, 2.2);
+        choose_ticks(&L->yl, box[2], box[3], ph, ch, 2.6);
         choose_ticks(&L->vl, vmin, vmax, ph, ch, 3.0);
         wy = L->yl.widest, wv = L->vl.widest;
         /* The picture takes the panel's size where it was not given. */
@@ -485,7 +485,7 @@ static void draw_mark(const map_job *j, const pf_mark *mk)
     /* Label box: its width estimated from the visible characters (this
      * PLplot has no text-measuring call), converted to world units. */
     double wx = (x1 - x0) * visible_chars(mk->label) * 0.8 * j->lay.ch / (j->lay.right - j->lay.left);
-    double hy = (j->box[3] - j->box[2]) * (1.5 * j->lay.ch) / (j->lay.bottom - j->lay.top);
+    double hy = (j->box[3] - j->box[2]) * (1.9 * j->lay.ch) / (j->lay.bottom - j->lay.top);
     double pad = (x1 - x0) * (0.4 * j->lay.ch) / (j->lay.right - j->lay.left);
     double right = x1 - pad, left = right - wx - 2 * pad;
     double yb = y + 0.25 * hy, yt = yb + hy;
@@ -494,7 +494,7 @@ static void draw_mark(const map_job *j, const pf_mark *mk)
     plcol0(1);
     plfill(4, fx, fyv);
     plcol0(0);
-    plptex(right - pad, yb + 0.27 * hy, 1, 0, 1.0, mk->label);
+    plptex(right - pad, yb + 0.55 * hy, 1, 0, 1.0, mk->label); /* room for subscripts below */
 }
 
 /* Draws a map (runs under pf_plguard). */

@@ -88,6 +88,7 @@ local function run_scan(p)
   local d, n = p.period, p.periods * p.points_per_period
   local grid = pf.grid{points = n, span = p.periods * d}
   local start = comb(grid, p.mass, d, p.slit, p.periods)
+  local grating = start:copy() -- kept for the carpet picture
   local wave = start:copy()
   local rho0 = wave:density()
   local shifted = start:copy():shift(d / 2):density()
@@ -106,7 +107,7 @@ local function run_scan(p)
   local half = start:copy():fly(tt / 2):density()
   local full = start:fly(tt):density()
   return {
-    scan = scan, talbot_time = tt, points = n, initial_density = rho0,
+    scan = scan, talbot_time = tt, points = n, initial_density = rho0, grating = grating,
     results = {
       talbot_time = {tt, "s"},
       revival_overlap = {overlap(full, rho0, norm), ""},
@@ -119,6 +120,23 @@ end
 function recipe.run(p)
   common.check_params(recipe, p)
   return with_periodic_cell(run_scan, p)
+end
+
+-- The carpet over the scanned times, two periods wide, with the revivals
+-- the recipe knows marked: the half Talbot times (shifted images) and the
+-- Talbot times (images) up to the end of the scan.
+local function carpet(p, out)
+  local tt, stop = out.talbot_time, p.stop * out.talbot_time
+  local marks = {}
+  for k = 1, math.floor(2 * p.stop + 1e-9) do
+    local label = k % 2 == 1 and string.format("%sT#dT#u/2: shifted image", k > 1 and tostring(k) or "")
+      or string.format("%sT#dT#u: image", k > 2 and tostring(k // 2) or "")
+    marks[#marks + 1] = {at = k * tt / 2, label = label}
+  end
+  return pf.picture_carpet("talbot_carpet.png", out.grating, {
+    duration = stop, frames = 400, x_range = {-p.period, p.period}, marks = marks,
+    title = string.format("Talbot carpet, grating period %.3g #gmm", p.period * 1e6),
+  })
 end
 
 function recipe.main(p)
@@ -143,6 +161,7 @@ function recipe.main(p)
                 {x = ts, y = shifted, label = "with the half-period shifted image", dashed = true}},
     }}},
   })
+  if p.stop > 0 then with_periodic_cell(carpet, p, out) end
   return out
 end
 
