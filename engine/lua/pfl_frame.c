@@ -54,6 +54,7 @@ static const char *const FRAME_AWARE[] = {
     "wave:close",
     "wave:column_density",
     "wave:copy",
+    "wave:current",
     "wave:density",
     "wave:density_at",
     "wave:distribution",

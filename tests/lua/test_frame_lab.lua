@@ -408,4 +408,29 @@ do
   check.fails(function() return a:inner(other) end, "waves in different frames are refused", here, "different frames")
 end
 
+-- 12. The probability current of a falling cloud on lab positions: the free
+-- Gaussian's current rho(x) (v(t) + (x - <x>) t / (tau^2 + t^2)), tau =
+-- 2 m sigma0^2 / hbar, with the centre and velocity of the uniform force
+-- (textbook free current; Avron-Herbst form, from memory).
+do
+  local g = pf.grid{points = 256, span = 24e-6}
+  local w = cloud(g)
+  w:kick(2e6, {frame = true})
+  w:fly(t1, {acceleration = -gn})
+  local cur = w:current(1)
+  local v0 = hbar * 2e6 / m
+  local vt, xbar = v0 - gn * t1, v0 * t1 - 0.5 * gn * t1 * t1
+  local tau = 2 * m * sigma0 ^ 2 / hbar
+  local st2 = sigma0 ^ 2 * (1 + (t1 / tau) ^ 2)
+  local worst, peak = 0, 0
+  for i, x in ipairs(cur.axes[1]) do
+    local rho = math.exp(-(x - xbar) ^ 2 / (2 * st2)) / math.sqrt(2 * math.pi * st2)
+    local j = rho * (vt + (x - xbar) * t1 / (tau * tau + t1 * t1))
+    worst = math.max(worst, math.abs(cur.values[i] - j))
+    peak = math.max(peak, math.abs(j))
+  end
+  print(string.format("note current of the falling cloud vs closed form: %.3e of peak", worst / peak))
+  check.close(worst / peak, 0, 1e-10, "current on lab positions (max |diff| / peak)", "free Gaussian current under a uniform force (from memory)")
+end
+
 check.done()
