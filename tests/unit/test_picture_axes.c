@@ -81,8 +81,17 @@ static void test_end_on_a_tick_reads_as_the_tick(void **state)
     assert_true(step == 1);
     assert_int_equal(lab[0].decimals, 0);          /* "-4", not "-4.0" */
     assert_int_equal(lab[n - 1].decimals, 0);
+    /* Off a tick, the end is shown to a tenth of the step: "461" beside
+     * steps of 50 (a Talbot time of 460.912 us), "-4.3" beside steps of 1. */
     n = pf_picture_ticks(0, 460.912, 520, 0, 31, &step, lab, 64);
-    assert_true(lab[n - 1].decimals >= 1);         /* "460.9": the Talbot time itself */
+    assert_true(step == 50 || step == 20 || step == 100);
+    assert_int_equal(lab[n - 1].decimals, 0);
+    n = pf_picture_ticks(-4.3, 4.3, 580, 12.4, 24.8, &step, lab, 64);
+    assert_true(step == 1);
+    assert_int_equal(lab[0].decimals, 1);
+    n = pf_picture_ticks(-251, 249, 580, 12.4, 24.8, &step, lab, 64);
+    assert_true(step == 100 || step == 50);
+    assert_int_equal(lab[0].decimals, 0);
 }
 
 static void test_resample_linear_and_mean(void **state)
