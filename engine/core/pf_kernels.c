@@ -5,6 +5,7 @@
 #include <string.h>
 #include "pf_constants.h"
 #include "pf_dist.h"
+#include "pf_internal.h"
 #include "pf_kernels.h"
 
 static double abs2(double complex z) { return creal(z) * creal(z) + cimag(z) * cimag(z); }
@@ -48,6 +49,9 @@ static void dist_axis_multiply(pf_grid *g, double complex *data, const double co
     }
 }
 
+/* Points per piece of the 1D kinetic pass shared out among threads. */
+#define AXIS_PIECE ((size_t)8192)
+
 void pf_kernel_axis_multiply(pf_grid *g, double complex *data, const double complex *const *tables,
                              double complex scale)
 {
@@ -62,8 +66,17 @@ void pf_kernel_axis_multiply(pf_grid *g, double complex *data, const double comp
     if (g->dim == 1) {
         ptrdiff_t n = (ptrdiff_t)n0;
         if (t0) {
+            /* The vectorised phase kernel (pf_flight.c): the same products
+             * in the same order as data[i] *= scale * t0[i], on pieces of a
+             * fixed size (each point is independent: the bits depend on
+             * neither the split nor the vector path). */
+            const pf_phase_row_fn row = pf_phase_kernel();
+            const ptrdiff_t pieces = (n + (ptrdiff_t)AXIS_PIECE - 1) / (ptrdiff_t)AXIS_PIECE;
 #pragma omp parallel for num_threads(threads) schedule(static)
-            for (ptrdiff_t i = 0; i < n; i++) data[i] *= scale * t0[i];
+            for (ptrdiff_t b = 0; b < pieces; b++) {
+                size_t i0 = (size_t)b * AXIS_PIECE, m = n0 - i0 < AXIS_PIECE ? n0 - i0 : AXIS_PIECE;
+                row((double *)(data + i0), (const double *)(t0 + i0), creal(scale), cimag(scale), m);
+            }
         } else {
 #pragma omp parallel for num_threads(threads) schedule(static)
             for (ptrdiff_t i = 0; i < n; i++) data[i] *= scale;
@@ -76,7 +89,7 @@ void pf_kernel_axis_multiply(pf_grid *g, double complex *data, const double comp
             double complex r = t0 ? scale * t0[i] : scale;
             double complex *row = data + (size_t)i * n1;
             if (t1)
-                for (size_t j = 0; j < n1; j++) row[j] *= r * t1[j];
+                pf_phase_kernel()((double *)row, (const double *)t1, creal(r), cimag(r), n1);
             else
                 for (size_t j = 0; j < n1; j++) row[j] *= r;
         }
@@ -90,7 +103,7 @@ void pf_kernel_axis_multiply(pf_grid *g, double complex *data, const double comp
             if (t1) r *= t1[j];
             double complex *row = data + ((size_t)i * n1 + (size_t)j) * n2;
             if (t2)
-                for (size_t k = 0; k < n2; k++) row[k] *= r * t2[k];
+                pf_phase_kernel()((double *)row, (const double *)t2, creal(r), cimag(r), n2);
             else
                 for (size_t k = 0; k < n2; k++) row[k] *= r;
         }

@@ -7,6 +7,7 @@
 #include "pf_constants.h"
 #include "pf_dist.h"
 #include "pf_guard.h"
+#include "pf_internal.h"
 #include "pf_kernels.h"
 #include "pf_splitstep.h"
 
@@ -160,13 +161,22 @@ static void pot_apply(const pot_pass *p, double complex *restrict d, size_t begi
         }
         return;
     }
-    const double complex *restrict e1 = p->e1 + begin, *restrict e2 = p->e2 ? p->e2 + begin : NULL;
+    /* d *= e1, e1 e1 or e1 e2 through the vectorised phase kernel
+     * (pf_flight.c), which forms the same products in the same order as
+     * plain complex multiplication: the factor of a piece first (in cache),
+     * then the data. */
+    const double complex *e1 = p->e1 + begin, *e2 = p->e2 ? p->e2 + begin : NULL;
+    const pf_phase_row_fn row = pf_phase_kernel();
     if (p->which == 0) {
-        for (size_t i = 0; i < count; i++) d[i] *= e1[i];
-    } else if (p->which == 1) {
-        for (size_t i = 0; i < count; i++) d[i] *= e1[i] * e1[i];
-    } else {
-        for (size_t i = 0; i < count; i++) d[i] *= e1[i] * e2[i];
+        row((double *)d, (const double *)e1, 1.0, 0.0, count);
+        return;
+    }
+    double complex factor[PIECE];
+    for (size_t b = 0; b < count; b += PIECE) {
+        size_t m = count - b < PIECE ? count - b : PIECE;
+        memcpy(factor, e1 + b, m * sizeof *factor);
+        row((double *)factor, (const double *)(p->which == 1 ? e1 + b : e2 + b), 1.0, 0.0, m);
+        row((double *)(d + b), (const double *)factor, 1.0, 0.0, m);
     }
 }
 

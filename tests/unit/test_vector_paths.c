@@ -10,8 +10,9 @@
  *  - whole computations through the process-wide choice: this program runs
  *    itself once per path with PSIFLIGHT_PHASE_KERNEL set (a 1D flight on
  *    segment tables, a 1D scaled flight with its evaluated chirps, a 2D
- *    fused flight and a 2D fused split step with mean field and a modulated
- *    potential) and the children's output bytes must be equal.
+ *    fused flight, 2D fused split steps with mean field, a modulated and a
+ *    static potential, and 1D split steps in a static potential) and the
+ *    children's output bytes must be equal.
  * A path this processor cannot run is reported and skipped. */
 #include <stdint.h>
 #include <stdlib.h>
@@ -191,6 +192,29 @@ static void compute_all(FILE *out)
     assert_int_equal(pf_wave_evolve(w2, 3 * varying.dt, &varying, NULL), PF_OK);
     assert_int_equal(pf_wave_to(w2, PF_POSITION), PF_OK);
     emit(w2, out);
+    /* Fourth-order steps in a static potential: the stored exponentials
+     * (e1, e1 e1, e1 e2 products) and, on a 1D grid, the kinetic pass. */
+    pf_evolve_spec fixed = {.potential = V, .dt = 2e-5, .order = 4};
+    assert_int_equal(pf_wave_evolve(w2, 3 * fixed.dt, &fixed, NULL), PF_OK);
+    assert_int_equal(pf_wave_to(w2, PF_POSITION), PF_OK);
+    emit(w2, out);
+    size_t n3 = 4096;
+    double span3 = 100e-6;
+    pf_grid *g3 = tu_grid(ctx, 1, &n3, &span3, NULL);
+    tu_gauss p3 = {.x0 = {-4e-6}, .sigma = {3e-6}, .k0 = {2e6}};
+    pf_wave *w3 = tu_gauss_wave(g3, RB87_MASS, &p3);
+    double *V3 = malloc(n3 * sizeof *V3);
+    assert_non_null(V3);
+    for (size_t i = 0; i < n3; i++) {
+        double x = pf_grid_x(g3, 0, i);
+        V3[i] = 0.5 * RB87_MASS * 4e4 * x * x;
+    }
+    pf_evolve_spec line = {.potential = V3, .dt = 2e-5, .order = 4};
+    assert_int_equal(pf_wave_evolve(w3, 4 * line.dt, &line, NULL), PF_OK);
+    emit(w3, out);
+    free(V3);
+    pf_wave_free(w3);
+    pf_grid_release(g3);
     free(V);
     pf_wave_free(w1);
     pf_wave_free(w2);
@@ -232,8 +256,8 @@ static void whole_runs_agree(void **state)
     (void)state;
     size_t ref_len, len;
     unsigned char *ref = child_output("plain", &ref_len);
-    /* 2^16 + 2 x 2^16 ... : the 1D states and three 2D states */
-    assert_int_equal(ref_len, (2 * ((size_t)1 << 16) + 3 * 64 * 48) * sizeof(double complex));
+    /* two 1D states of 2^16 points, four 2D states, one 1D state of 4096 */
+    assert_int_equal(ref_len, (2 * ((size_t)1 << 16) + 4 * 64 * 48 + 4096) * sizeof(double complex));
     for (int path = PF_PATH_AVX2; path < PF_PATH_COUNT; path++) {
         const char *name = pf_vector_path_name((pf_vector_path)path);
         if (!pf_vector_path_runs((pf_vector_path)path)) {
