@@ -152,12 +152,7 @@ static int ends_with_marker(const char *path, const char *marker)
     return ok && strstr(tail, marker) != NULL;
 }
 
-/* cairo writes the clock time into a PDF's information dictionary
- * (/CreationDate (D:...)), so reruns would differ.  The entry is replaced
- * by blanks of the same length: whitespace is legal between dictionary
- * entries, and every byte offset in the cross-reference table stays
- * right.  Returns 0 when the file could not be read or written. */
-static int pdf_drop_date(const char *path)
+int pf_picture_pdf_drop_date(const char *path)
 {
     FILE *f = fopen(path, "r+b");
     if (!f) return 0;
@@ -174,6 +169,10 @@ static int pdf_drop_date(const char *path)
             if (memcmp(buf + i, key, sizeof key - 1) == 0) hit = buf + i;
         if (hit) {
             char *close = memchr(hit, ')', (size_t)(buf + got - hit));
+            if (!close && hit > buf && got == sizeof buf) {
+                base += (long)(hit - buf); /* the entry runs past this read: read again from the key */
+                continue;
+            }
             if (!close) { ok = 0; break; }
             size_t len = (size_t)(close - hit) + 1;
             memset(hit, ' ', len);
@@ -209,7 +208,7 @@ static pf_status finish(pf_context *ctx, pf_safefile *sf, pf_status drawn)
     }
     pic_format fmt = format_of(sf->final_path);
     int complete = fmt == PIC_SVG ? ends_with_marker(sf->temp_path, "</svg>")
-                 : fmt == PIC_PDF ? ends_with_marker(sf->temp_path, "%%EOF") && pdf_drop_date(sf->temp_path)
+                 : fmt == PIC_PDF ? ends_with_marker(sf->temp_path, "%%EOF") && pf_picture_pdf_drop_date(sf->temp_path)
                                   : png_complete(sf->temp_path);
     if (!complete) {
         char final[512];
