@@ -170,13 +170,14 @@ static pf_status gaussian_sum(pf_wave *w, const pf_gaussian_spec *s, const doubl
         }
     /* Normalisation in infinite space: (2 pi)^(-d/4) det(S)^(-1/4). */
     double norm = pow(PF_TWO_PI, -0.25 * d) * pow(det, -0.25);
-    double complex *data = pf_wave_overwrite(w);
-    ptrdiff_t n0 = (ptrdiff_t)n[0];
+    size_t first0, count0; /* this rank's planes of a grid split over MPI ranks */
+    double complex *data = pf_wave_overwrite_planes(w, &first0, &count0);
+    ptrdiff_t n0 = (ptrdiff_t)count0;
 #pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
     for (ptrdiff_t i = 0; i < n0; i++) {
         for (size_t j = 0; j < n[1]; j++) {
             for (size_t k = 0; k < n[2]; k++) {
-                size_t idx[PF_MAX_DIM] = {(size_t)i, j, k};
+                size_t idx[PF_MAX_DIM] = {first0 + (size_t)i, j, k};
                 double complex sum = 0;
                 for (size_t o = 0; o < count; o++) {
                     const double complex *t = tab + o * stride;
@@ -358,14 +359,15 @@ pf_status pf_build_oscillator(pf_wave *w, const double *omega, const int *n, con
         double fwhm0 = FWHM_PER_SIGMA * len / sqrt(2.0);
         e.feature[a] = n[a] > 0 ? fmin(PF_PI * len / turn, fwhm0) : fwhm0;
     }
-    double complex *data = pf_wave_overwrite(w);
-    ptrdiff_t n0 = (ptrdiff_t)nn[0];
+    size_t first0, count0; /* this rank's planes of a grid split over MPI ranks */
+    double complex *data = pf_wave_overwrite_planes(w, &first0, &count0);
+    ptrdiff_t n0 = (ptrdiff_t)count0;
 #pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
     for (ptrdiff_t i = 0; i < n0; i++)
         for (size_t j = 0; j < nn[1]; j++)
             for (size_t k = 0; k < nn[2]; k++)
                 data[((size_t)i * nn[1] + j) * nn[2] + k] =
-                    tab[offs[0] + (size_t)i] * tab[offs[1] + j] * tab[offs[2] + k];
+                    tab[offs[0] + first0 + (size_t)i] * tab[offs[1] + j] * tab[offs[2] + k];
     pf_context_free(g->ctx, tab);
     w->rep = PF_POSITION;
     pf_resolution_check(g, "oscillator", &e);

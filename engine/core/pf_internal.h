@@ -214,6 +214,10 @@ double complex *pf_wave_settled(pf_wave *w);
 /* The wave's samples for a kernel that replaces all of them (builders): a
  * deferred flight of the old state is dropped, not carried out. */
 double complex *pf_wave_overwrite(pf_wave *w);
+/* The same for a builder that knows slabs: the samples of axis-0 planes
+ * [*first, *first + *count), the whole axis unless the grid is split over
+ * MPI ranks (pf_dist.h); data[0] is plane *first's first sample. */
+double complex *pf_wave_overwrite_planes(pf_wave *w, size_t *first, size_t *count);
 
 /* Fused flight step on a 2D/3D grid (pf_fused.c): data (position
  * representation) -> forward transform -> times scale * the flight phase of

@@ -109,6 +109,13 @@ double complex *pf_wave_overwrite(pf_wave *w)
     return w->store;
 }
 
+double complex *pf_wave_overwrite_planes(pf_wave *w, size_t *first, size_t *count)
+{
+    w->deferred.active = 0;
+    pf_grid_slab(w->grid, PF_POSITION, first, count);
+    return w->store;
+}
+
 double complex pf_wave_momentum_factor(const pf_wave *w, const size_t *index)
 {
     const pf_grid *g = w->grid;

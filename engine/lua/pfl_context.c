@@ -62,6 +62,9 @@ static void warn_handler(void *user, const char *text)
         }
         return;
     }
+    /* Under mpirun every rank runs the same script and meets the same
+     * warnings (figures are combined across ranks): rank 0 says them once. */
+    if (pf_dist_rank() != 0) return;
     lua_State *L = st->L;
     const char *where = "";
     if (L) {

@@ -23,6 +23,10 @@ static const pfl_options_decl RANK_ADVICE_OPTIONS = {
 static const char *const DIST_AWARE[] = {
     "h5file:put_density",
     "h5file:put_wave",
+    "pf.gaussian",
+    "pf.ground_state",
+    "pf.momentum_orders",
+    "pf.oscillator",
     "pf.wave",
     "wave:clock",
     "wave:close",

@@ -1,4 +1,5 @@
 -- mach_zehnder.lua - three-pulse light-pulse interferometer (pi/2 - pi - pi/2) on two internal levels, lab frame
+-- (or, with frame = true, the levels' shared moving frame)
 --
 -- A cloud is split, reflected and recombined by three two-photon Raman pulses
 -- (Rabi pulses of durations tau, 2 tau, tau) separated by free flights of
@@ -36,6 +37,8 @@ recipe.parameters = {
   pulse_time = {default = 1, unit = "us", help = "duration tau of the pi/2 pulses (the pi pulse lasts 2 tau)", min = 1e-6},
   chirp = {default = 0, help = "chirp rate alpha of the two-photon detuning (rad/s^2)"},
   slices = {default = 16, help = "time slices per pulse for the acceleration and the chirp", min = 1, max = 10000},
+  frame = {default = false, type = "boolean",
+           help = "carry the fall in the levels' shared moving frame (the grid holds the cloud, not the drop)"},
 }
 
 -- Phase of the fringe P = (1 - C cos(phase + phi)) / 2 from a scan over
@@ -61,7 +64,10 @@ function recipe.run(p)
   -- number of lattice periods (2 pi / k_eff), so k_eff is an exact multiple
   -- of the grid's k spacing.
   local vrec = common.hbar * keff / p.mass
-  local fall = p.accel * t_end * t_end / 2
+  -- In the moving frame (frame = true) the fall and its momentum stay in the
+  -- frame: the grid holds the cloud and the arms only.
+  local frame = p.frame == true
+  local fall = frame and 0 or p.accel * t_end * t_end / 2
   local lo_x, hi_x = math.min(0, fall), math.max(0, fall) + vrec * (p.T + 2 * tau)
   local spread = common.hbar * t_end / (2 * p.mass * p.sigma)
   local span = (hi_x - lo_x + 20 * p.sigma + 2 * spread) * 32 / 30
@@ -69,7 +75,7 @@ function recipe.run(p)
   span = cells * 2 * math.pi / keff
   -- Momenta from the start (0) to the end of the fall, plus k_eff, plus 10
   -- momentum widths (1 / 2 sigma) on each side.
-  local kfall = p.mass * p.accel * t_end / common.hbar
+  local kfall = frame and 0 or p.mass * p.accel * t_end / common.hbar
   local kneed = math.max(math.abs(math.min(0, kfall)), math.max(0, kfall) + keff) + 10 / (2 * p.sigma)
   local n = common.pow2(2 * kneed * span / (2 * math.pi) * 32 / 30)
   if n > p.max_points then
@@ -79,7 +85,7 @@ function recipe.run(p)
   local shift = math.floor(keff / grid:kspacing(1) + 0.5)
   local kick = shift * grid:kspacing(1) -- k_eff on the grid's k lattice
   local start = pf.gaussian(grid, {mass = p.mass, width = p.sigma})
-  local lv = pf.levels{labels = {"lower", "upper"}, waves = {lower = start}}
+  local lv = pf.levels{labels = {"lower", "upper"}, waves = {lower = start}, frame = frame}
   start:close()
   local rabi = p.area_scale * math.pi / (2 * tau)
   local recoil = common.hbar * kick * kick / (2 * p.mass) -- resonance of the class at rest
@@ -96,7 +102,7 @@ function recipe.run(p)
   for j = 0, p.phase_steps - 1 do
     local phi3 = 2 * math.pi * j / p.phase_steps
     local last = pf.levels{labels = {"lower", "upper"},
-                           waves = {lower = lv:level("lower"), upper = lv:level("upper")}}
+                           waves = {lower = lv:level("lower"), upper = lv:level("upper")}, frame = frame}
     pulse(last, tau, phi3)
     local pop = last:populations()
     scan[#scan + 1] = {phase = phi3, upper = pop.upper / (pop.upper + pop.lower)}
@@ -118,13 +124,13 @@ function recipe.run(p)
   }
   local measured = fringe_phase(scan)
   if measured then results.fringe_phase = {measured, "rad"} end
-  return {scan = scan, points = n, span = span, shift = shift, keff = keff, ports = ports, results = results}
+  return {scan = scan, frame = frame, points = n, span = span, shift = shift, keff = keff, ports = ports, results = results}
 end
 
 function recipe.main(p)
   local out = recipe.run(p)
-  print(string.format("mach_zehnder: %d points over %.4g um (kick = %d k steps), T = %.4g ms",
-    out.points, out.span * 1e6, out.shift, p.T * 1e3))
+  print(string.format("mach_zehnder: %d points over %.4g um (kick = %d k steps), T = %.4g ms%s",
+    out.points, out.span * 1e6, out.shift, p.T * 1e3, out.frame and ", fall in the moving frame" or ""))
   print("  phase3 (rad)   upper fraction   (1 - cos(phase3 + phi)) / 2, phi = (k_eff a - alpha)(T + 2 tau)(T + 4 tau/pi)")
   local gp = out.results.finite_pulse_phase[1]
   for _, s in ipairs(out.scan) do

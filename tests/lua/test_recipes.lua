@@ -17,7 +17,7 @@ local factor = {u = u, Hz = 1, ms = 1e-3, us = 1e-6, um = 1e-6, nm = 1e-9, ["m/s
 local function params(recipe, over)
   local p = {}
   for name, spec in pairs(recipe.parameters) do
-    p[name] = spec.default * (spec.unit and factor[spec.unit] or 1)
+    p[name] = type(spec.default) == "number" and spec.default * (spec.unit and factor[spec.unit] or 1) or spec.default
   end
   for k, v in pairs(over or {}) do p[k] = v end
   return p

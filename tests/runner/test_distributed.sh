@@ -156,6 +156,22 @@ PY
     fail "files -n $n: other files in the output folder: $(ls "$work/franks$n")"
 done
 
+# Builders (probe_builders.lua): pf.gaussian, pf.ground_state, pf.oscillator
+# and pf.momentum_orders fill each rank's planes; every figure is the single
+# process's bits (26 planes: 7, 7, 7, 5 on 4 ranks).
+builders="$root/tests/runner/dist/probe_builders.lua"
+expect 0 "builders: one process" -- "$runner" run "$builders"
+printf '%s\n' "$out" >"$work/bplain.txt"
+[ -z "$err" ] && ok "builders: the grid resolves the states (no warnings)" || fail "builders: warnings: $err"
+for n in 2 4; do
+  expect 0 "builders: mpirun -n $n" -- timeout 120 mpirun -n "$n" --oversubscribe "$runner" run "$builders"
+  printf '%s\n' "$out" >"$work/branks$n.txt"
+  has "ranks $n distribute true" "builders: mpirun -n $n distributed"
+  /usr/bin/python3 "$work/compare.py" "$work/bplain.txt" "$work/branks$n.txt" exact 0 >/dev/null &&
+    ok "builders -n $n: gaussian, ground state, oscillator and momentum orders bit-identical to one process" ||
+    fail "builders -n $n: built states differ from one process"
+done
+
 # The memory cap counts this rank's share (probe_cap.lua): a 32^3 grid over
 # a 700 kB cap is refused as one process and fits on 4 ranks (8 planes each).
 cap="$root/tests/runner/dist/probe_cap.lua"
