@@ -14,6 +14,7 @@
 #include "pf_dist.h"
 #include "pf_guard.h"
 #include "pf_internal.h"
+#include "pf_kernels.h"
 
 pf_status pf_dist_refuse(pf_context *ctx, const char *what)
 {
@@ -107,6 +108,16 @@ pf_status pf_dist_sums(pf_grid *g, const double complex *z, pf_rep rep, const do
     return pf_reduce_axis_moments(g, z, weights, sums);
 }
 void pf_dist_forward(pf_grid *g, double complex *data) { (void)g, (void)data; }
+size_t pf_dist_rep_values(const pf_grid *g, pf_rep rep) { (void)rep; return g->total; }
+pf_status pf_dist_sample(pf_grid *g, pf_rep rep, pf_sample_fn fn, void *user, double complex *out)
+{
+    return pf_grid_sample(g, rep, fn, user, NULL, out);
+}
+double pf_dist_field_mask(pf_grid *g, pf_rep rep, double complex *data, const double complex *field, int want_removed)
+{
+    (void)rep;
+    return pf_kernel_field_mask(g, data, field, want_removed);
+}
 double pf_dist_band_sum(const pf_wave *w, int a) { (void)w, (void)a; return 0.0; }
 size_t pf_dist_position_values(const pf_grid *g) { return g->total; }
 void pf_dist_minmax(const pf_grid *g, double *lo, double *hi) { (void)g, (void)lo, (void)hi; }
@@ -658,9 +669,11 @@ pf_status pf_dist_fly(pf_wave *w, double t, double tau)
     return PF_OK;
 }
 
-pf_status pf_dist_fill(pf_wave *w, pf_rep rep, pf_sample_fn fn, void *user)
+/* fn at this rank's points of rep into out (divided by the momentum
+ * factors for a wave's storage when `divide`); a failure on any rank fails
+ * every rank, so none goes on alone into the next collective call. */
+static pf_status sample_local(pf_grid *g, pf_rep rep, pf_sample_fn fn, void *user, int divide, double complex *out)
 {
-    pf_grid *g = w->grid;
     const struct pf_dist_grid *D = g->dist;
     const int d = g->dim, swap = rep == PF_MOMENTUM;
     const size_t *lay = D->lay[swap];
@@ -675,22 +688,66 @@ pf_status pf_dist_fill(pf_wave *w, pf_rep rep, pf_sample_fn fn, void *user)
         for (int a = 0; a < d; a++) gi[a] = swap && a < 2 ? idx[1 - a] : idx[a];
         for (int a = 0; a < d; a++) coord[a] = swap ? g->k[a][gi[a]] : g->x[a][gi[a]];
         if (fn(user, coord, &v) != 0) s = PF_ECALLBACK;
-        if (swap)
+        if (swap && divide)
             for (int a = 0; a < d; a++) v /= g->kfactor[a][gi[a]];
-        w->store[off - lo] = v;
+        out[off - lo] = v;
         for (int a = d - 1; a >= 0; a--) {
             if (++idx[a] < lay[a]) break;
             idx[a] = 0;
         }
     }
-    w->deferred.active = 0;
-    w->rep = rep;
-    w->norm_now = -1.0;
-    /* A callback that failed on one rank fails the fill on all of them, so
-     * no rank goes on alone into the next collective call. */
     int bad = s != PF_OK, any = 0;
     MPI_Allreduce(&bad, &any, 1, MPI_INT, MPI_MAX, MPI_COMM_WORLD);
     if (any && !bad) return pf_fail(g->ctx, PF_ECALLBACK, "the sample function failed on another MPI rank");
+    return s;
+}
+
+size_t pf_dist_rep_values(const pf_grid *g, pf_rep rep) { return g->dist ? local_count(g, rep) : g->total; }
+
+pf_status pf_dist_sample(pf_grid *g, pf_rep rep, pf_sample_fn fn, void *user, double complex *out)
+{
+    if (!g->dist) return pf_grid_sample(g, rep, fn, user, NULL, out);
+    return sample_local(g, rep, fn, user, 0, out);
+}
+
+typedef struct field_job {
+    double complex *data;
+    const double complex *field;
+} field_job;
+
+static void field_block(void *user, size_t begin, size_t end, const size_t *idx, double *acc)
+{
+    (void)idx;
+    const field_job *job = user;
+    for (size_t i = begin; i < end; i++) {
+        double complex z = job->data[i], f = job->field[i];
+        acc[0] += (creal(z) * creal(z) + cimag(z) * cimag(z)) * (1.0 - (creal(f) * creal(f) + cimag(f) * cimag(f)));
+        job->data[i] *= job->field[i];
+    }
+}
+
+double pf_dist_field_mask(pf_grid *g, pf_rep rep, double complex *data, const double complex *field, int want_removed)
+{
+    if (!g->dist) return pf_kernel_field_mask(g, data, field, want_removed);
+    if (!want_removed) {
+        ptrdiff_t n = (ptrdiff_t)local_count(g, rep);
+#pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
+        for (ptrdiff_t i = 0; i < n; i++) data[i] *= field[i];
+        return 0;
+    }
+    field_job job = {data, field};
+    double sum = 0;
+    pf_dist_reduce(g, rep, 1, field_block, &job, &sum);
+    return sum;
+}
+
+pf_status pf_dist_fill(pf_wave *w, pf_rep rep, pf_sample_fn fn, void *user)
+{
+    pf_grid *g = w->grid;
+    pf_status s = sample_local(g, rep, fn, user, 1, w->store);
+    w->deferred.active = 0;
+    w->rep = rep;
+    w->norm_now = -1.0;
     return s;
 }
 

@@ -10,6 +10,8 @@
 #include "pf_internal.h"
 #include "pf_observe.h"
 #include "pf_ops.h"
+#include "pf_algebra.h"
+#include "pf_measure.h"
 
 void pf_wave_frame(const pf_wave *w, pf_frame *out) { *out = w->frame; }
 
@@ -254,6 +256,50 @@ pf_status pf_wave_frame_centre(pf_wave *w, int *moved)
     }
     if (moved) *moved = shift || kick;
     return PF_OK;
+}
+
+/* Two lab states combine on their grids only when their grids sit in the
+ * same frame (X and K equal on every axis); their phases theta may differ. */
+static pf_status same_frame(const pf_wave *a, const pf_wave *b)
+{
+    const pf_grid *g = a->grid;
+    for (int d = 0; d < g->dim; d++)
+        if (a->frame.position[d] != b->frame.position[d] || a->frame.wavenumber[d] != b->frame.wavenumber[d])
+            return pf_fail(g->ctx, PF_EINVAL,
+                           "the two waves sit in different frames (axis %d: offset %g m, %g rad/m against %g m, %g "
+                           "rad/m); fly them together, or fold both (w:evolve) first",
+                           d + 1, a->frame.position[d], a->frame.wavenumber[d], b->frame.position[d],
+                           b->frame.wavenumber[d]);
+    return PF_OK;
+}
+
+pf_status pf_wave_lab_overlap(pf_wave *a, pf_wave *b, double complex *out)
+{
+    pf_status s = same_frame(a, b);
+    if (!s) s = pf_wave_overlap(a, b, out);
+    if (!s) *out *= cexp(I * (b->frame.phase - a->frame.phase));
+    return s;
+}
+
+pf_status pf_wave_lab_inner(pf_wave *a, pf_wave *b, double complex *out)
+{
+    pf_status s = same_frame(a, b);
+    if (!s) s = pf_wave_inner(a, b, out);
+    if (!s) *out *= cexp(I * (b->frame.phase - a->frame.phase));
+    return s;
+}
+
+pf_status pf_wave_lab_fidelity(pf_wave *a, pf_wave *b, double *out)
+{
+    pf_status s = same_frame(a, b);
+    return s ? s : pf_wave_fidelity(a, b, out);
+}
+
+pf_status pf_wave_lab_axpy(pf_wave *y, double complex alpha, pf_wave *x)
+{
+    pf_status s = same_frame(y, x);
+    /* chi_y += alpha exp(i (theta_x - theta_y)) chi_x keeps y's frame. */
+    return s ? s : pf_wave_axpy(y, alpha * cexp(I * (x->frame.phase - y->frame.phase)), x);
 }
 
 pf_status pf_wave_lab_value(pf_wave *w, pf_rep rep, const size_t *idx, double complex *out)

@@ -89,6 +89,16 @@ pf_status pf_wave_lab_shift(pf_wave *w, const double *d);
  * expands about the cloud and the frame carries its drift. */
 pf_status pf_wave_frame_centre(pf_wave *w, int *moved);
 
+/* Two-wave figures and sums of lab states (pf_measure.h, pf_algebra.h):
+ * the waves' frames must agree in X and K (else PF_EINVAL naming both); the
+ * phases may differ and are applied: <a|b>_lab = exp(i (theta_b - theta_a))
+ * <chi_a|chi_b>, and y += alpha x adds alpha exp(i (theta_x - theta_y)) chi_x
+ * to chi_y.  Unmoved frames: exactly the grid functions. */
+pf_status pf_wave_lab_overlap(pf_wave *a, pf_wave *b, double complex *out);
+pf_status pf_wave_lab_inner(pf_wave *a, pf_wave *b, double complex *out);
+pf_status pf_wave_lab_fidelity(pf_wave *a, pf_wave *b, double *out);
+pf_status pf_wave_lab_axpy(pf_wave *y, double complex alpha, pf_wave *x);
+
 /* Lab value at a multi-index: psi_lab at the lab position of grid point idx
  * (position), or phi_lab at the lab wave number of storage index idx
  * (momentum).  Same conventions as pf_wave_value otherwise. */

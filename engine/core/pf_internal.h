@@ -364,6 +364,14 @@ size_t pf_dist_position_values(const pf_grid *g);
  * energy; the result is in the transposed momentum layout). */
 pf_status pf_dist_sums(pf_grid *g, const double complex *z, pf_rep rep, const double *const *weights, double *sums);
 void pf_dist_forward(pf_grid *g, double complex *data);
+/* Masks and imprints (pf_ops.c): samples this rank stores in rep (g->total
+ * when whole); fn sampled at this rank's points of rep (position slab or
+ * transposed momentum slab) into out; data *= field pointwise, returning the
+ * removed sum of |data|^2 (1 - |field|^2) in the global block order of rep
+ * when want_removed (pf_kernel_field_mask's bits in position). */
+size_t pf_dist_rep_values(const pf_grid *g, pf_rep rep);
+pf_status pf_dist_sample(pf_grid *g, pf_rep rep, pf_sample_fn fn, void *user, double complex *out);
+double pf_dist_field_mask(pf_grid *g, pf_rep rep, double complex *data, const double complex *field, int want_removed);
 void pf_dist_minmax(const pf_grid *g, double *lo, double *hi);
 int pf_dist_any(const pf_grid *g, int flag);
 void pf_dist_kinetic(pf_grid *g, double complex *data, double complex *const *tables, double scale);

@@ -6,6 +6,7 @@
 #include <stdlib.h>
 #include <string.h>
 #include "pf_constants.h"
+#include "pf_dist.h"
 #include "pf_edges.h"
 #include "pf_kernels.h"
 #include "pf_ops.h"
@@ -142,20 +143,44 @@ pf_status pf_wave_kick(pf_wave *w, const double *k)
 
 /* Shared by imprint and user masks: samples fn over the representation's
  * coordinates into a full-grid array (natural order for position, storage
- * order for momentum). */
+ * order for momentum); on a grid split over MPI ranks, this rank's points
+ * of the representation's slab (pf_dist.h). */
 static pf_status sample_field(pf_wave *w, pf_rep rep, pf_sample_fn fn, void *user, double complex **out)
 {
     pf_grid *g = w->grid;
-    size_t bytes = pf_bytes(g->total, sizeof(double complex));
-    double complex *f = pf_alloc(g->ctx, bytes);
+    size_t bytes = pf_bytes(pf_dist_rep_values(g, rep), sizeof(double complex));
+    double complex *f = pf_alloc(g->ctx, bytes ? bytes : sizeof(double complex));
     if (!f) return pf_context_status(g->ctx);
-    pf_status s = pf_grid_sample(g, rep, fn, user, NULL, f);
+    pf_status s = pf_dist_sample(g, rep, fn, user, f);
     if (s) {
-        pf_free(g->ctx, f, bytes);
+        pf_free(g->ctx, f, bytes ? bytes : sizeof(double complex));
         return s;
     }
     *out = f;
     return PF_OK;
+}
+
+/* The field's size as sample_field allocated it. */
+static size_t field_bytes(const pf_grid *g, pf_rep rep)
+{
+    size_t bytes = pf_bytes(pf_dist_rep_values(g, rep), sizeof(double complex));
+    return bytes ? bytes : sizeof(double complex);
+}
+
+/* Index of the first bad value in f[0..n), n when none; over MPI ranks,
+ * every rank learns whether any rank found one (then *elsewhere is 1 on
+ * the ranks that did not). */
+static size_t first_bad(const pf_grid *g, const double complex *f, size_t n, int phase, int *elsewhere)
+{
+    size_t bad = n;
+    for (size_t i = 0; i < n && bad == n; i++) {
+        double complex t = f[i];
+        if (phase ? (!isfinite(creal(t)) || cimag(t) != 0)
+                  : (!isfinite(creal(t)) || !isfinite(cimag(t)) || cabs(t) > 1.0 + 1e-12))
+            bad = i;
+    }
+    *elsewhere = pf_dist_any(g, bad < n) && bad == n;
+    return bad;
 }
 
 pf_status pf_wave_imprint(pf_wave *w, pf_sample_fn fn, void *user)
@@ -164,19 +189,22 @@ pf_status pf_wave_imprint(pf_wave *w, pf_sample_fn fn, void *user)
     double complex *f;
     pf_status s = sample_field(w, PF_POSITION, fn, user, &f);
     if (s) return s;
-    size_t bytes = pf_bytes(g->total, sizeof(double complex));
-    for (size_t i = 0; i < g->total; i++) {
-        double ph = creal(f[i]);
-        if (!isfinite(ph) || cimag(f[i]) != 0) {
-            pf_free(g->ctx, f, bytes);
-            return pf_fail(g->ctx, PF_EINVAL, "phase at point %zu is %g%+gi; it must be a finite real number (rad)", i + 1, ph, cimag(f[i]));
-        }
-        f[i] = cexp(I * ph);
+    size_t bytes = field_bytes(g, PF_POSITION), n = pf_dist_rep_values(g, PF_POSITION), first, end;
+    int elsewhere = 0;
+    size_t bad = first_bad(g, f, n, 1, &elsewhere);
+    if (bad < n || elsewhere) {
+        pf_grid_local_range(g, &first, &end);
+        double complex t = bad < n ? f[bad] : 0;
+        pf_free(g->ctx, f, bytes);
+        if (elsewhere) return pf_fail(g->ctx, PF_EINVAL, "a phase at a point another MPI rank holds is not a finite real number (rad)");
+        return pf_fail(g->ctx, PF_EINVAL, "phase at point %zu is %g%+gi; it must be a finite real number (rad)", first + bad + 1,
+                       creal(t), cimag(t));
     }
+    for (size_t i = 0; i < n; i++) f[i] = cexp(I * creal(f[i]));
     double norm = pf_wave_last_logged_norm(w);
     s = pf_wave_to(w, PF_POSITION);
     if (!s) {
-        pf_kernel_field_mask(g, w->store, f, 0);
+        pf_dist_field_mask(g, PF_POSITION, w->store, f, 0);
         pf_wave_log_step(w, "imprint", "function", 0.0, 0.0, norm);
     }
     pf_free(g->ctx, f, bytes);
@@ -357,19 +385,23 @@ pf_status pf_wave_mask(pf_wave *w, pf_rep rep, pf_sample_fn fn, void *user, doub
     double complex *f;
     pf_status s = sample_field(w, rep, fn, user, &f);
     if (s) return s;
-    size_t bytes = pf_bytes(g->total, sizeof(double complex));
-    for (size_t i = 0; i < g->total; i++) {
-        double complex t = f[i];
-        if (!isfinite(creal(t)) || !isfinite(cimag(t)) || cabs(t) > 1.0 + 1e-12) {
-            pf_free(g->ctx, f, bytes);
-            return pf_fail(g->ctx, PF_EINVAL,
-                           "transmission at point %zu is %g%+gi; it must be finite with modulus at most 1",
-                           i + 1, creal(t), cimag(t));
-        }
+    size_t bytes = field_bytes(g, rep), n = pf_dist_rep_values(g, rep);
+    int elsewhere = 0;
+    size_t bad = first_bad(g, f, n, 0, &elsewhere);
+    if (bad < n || elsewhere) {
+        double complex t = bad < n ? f[bad] : 0;
+        pf_free(g->ctx, f, bytes);
+        if (elsewhere)
+            return pf_fail(g->ctx, PF_EINVAL, "a transmission at a point another MPI rank holds is not finite or has "
+                                              "modulus above 1");
+        /* On a distributed grid the index counts this rank's points. */
+        return pf_fail(g->ctx, PF_EINVAL,
+                       "transmission at point %zu is %g%+gi; it must be finite with modulus at most 1",
+                       bad + 1, creal(t), cimag(t));
     }
     s = pf_wave_to(w, rep);
     if (!s) {
-        double r = pf_kernel_probability(w, pf_kernel_field_mask(g, w->store, f, 1));
+        double r = pf_kernel_probability(w, pf_dist_field_mask(g, rep, w->store, f, 1));
         if (r < 0) r = 0;
         pf_wave_log_step(w, rep == PF_POSITION ? "mask" : "momentum-mask", "function", 0.0, r, -1.0);
         if (removed) *removed = r;

@@ -5,6 +5,7 @@
  * Operator results are not normalised: a * psi1 + b * psi2 is exactly that
  * sum; call :normalize() when a state is wanted. */
 #include "../core/pf_algebra.h"
+#include "../core/pf_frame.h"
 #include "pfl.h"
 
 /* New wave = copy of w scaled by a. */
@@ -21,7 +22,7 @@ static int l_add_op(lua_State *L)
 {
     pf_wave *a = pfl_check_wave(L, 1), *b = pfl_check_wave(L, 2);
     pf_wave *c = scaled_copy(L, a, 1.0, "+");
-    pfl_check(L, pf_wave_axpy(c, 1.0, b), "+");
+    pfl_check(L, pf_wave_lab_axpy(c, 1.0, b), "+");
     return 1;
 }
 
@@ -29,7 +30,7 @@ static int l_sub_op(lua_State *L)
 {
     pf_wave *a = pfl_check_wave(L, 1), *b = pfl_check_wave(L, 2);
     pf_wave *c = scaled_copy(L, a, 1.0, "-");
-    pfl_check(L, pf_wave_axpy(c, -1.0, b), "-");
+    pfl_check(L, pf_wave_lab_axpy(c, -1.0, b), "-");
     return 1;
 }
 
@@ -77,7 +78,7 @@ static int l_add(lua_State *L)
 {
     pf_wave *w = pfl_check_wave(L, 1), *o = pfl_check_wave(L, 2);
     double complex a = lua_isnoneornil(L, 3) ? 1.0 : pfl_check_complex(L, 3);
-    pfl_check(L, pf_wave_axpy(w, a, o), "add");
+    pfl_check(L, pf_wave_lab_axpy(w, a, o), "add");
     lua_settop(L, 1);
     return 1;
 }
@@ -87,7 +88,7 @@ static int l_inner(lua_State *L)
 {
     pf_wave *w = pfl_check_wave(L, 1), *o = pfl_check_wave(L, 2);
     double complex z;
-    pfl_check(L, pf_wave_inner(w, o, &z), "inner");
+    pfl_check(L, pf_wave_lab_inner(w, o, &z), "inner");
     pfl_push_complex(L, z);
     return 1;
 }

@@ -7,6 +7,7 @@
 #include <string.h>
 #include "../core/pf_collapse.h"
 #include "../core/pf_constants.h"
+#include "../core/pf_frame.h"
 #include "../core/pf_observe.h"
 #include "pfl_measure.h"
 #include "pfl_options.h"
@@ -349,7 +350,7 @@ static int l_overlap(lua_State *L)
 {
     pf_wave *a = pfl_check_wave(L, 1), *b = pfl_check_wave(L, 2);
     double complex o;
-    pfl_check(L, pf_wave_overlap(a, b, &o), "overlap");
+    pfl_check(L, pf_wave_lab_overlap(a, b, &o), "overlap");
     pfl_push_complex(L, o);
     return 1;
 }
@@ -358,7 +359,7 @@ static int l_fidelity(lua_State *L)
 {
     pf_wave *a = pfl_check_wave(L, 1), *b = pfl_check_wave(L, 2);
     double f;
-    pfl_check(L, pf_wave_fidelity(a, b, &f), "fidelity");
+    pfl_check(L, pf_wave_lab_fidelity(a, b, &f), "fidelity");
     lua_pushnumber(L, f);
     return 1;
 }

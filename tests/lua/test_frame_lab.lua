@@ -383,4 +383,54 @@ do
     "Galilean covariance of GP (common practice)")
 end
 
+-- 11. Two lab states in one frame: a falling cloud and the same cloud with a
+-- lab kick exp(i q x) (which changes the frame's phase by q X).  Their
+-- overlap is the characteristic function of the Gaussian density,
+-- <a|b> = exp(i q <x> - q^2 Var x / 2) with the lab <x> (common practice);
+-- the fidelity its square modulus; a - b has norm 2 - 2 Re <a|b>.
+do
+  local g = pf.grid{points = 256, span = 24e-6}
+  local a = cloud(g):fly(t1, {acceleration = -gn})
+  local q = 4e5
+  local b = a:copy():kick(q)
+  local Vx = sigma0 ^ 2 + (hbar * t1 / (2 * m * sigma0)) ^ 2
+  local xbar = -0.5 * gn * t1 * t1
+  local mod = math.exp(-q * q * Vx / 2)
+  local want = pf.complex(mod * math.cos(q * xbar), mod * math.sin(q * xbar))
+  check.close((a:inner(b) - want):abs(), 0, 1e-12, "inner product of two lab states in one frame",
+    "Gaussian characteristic function (common practice)")
+  check.close((a:overlap(b) - want):abs(), 0, 1e-12, "overlap of two lab states in one frame",
+    "Gaussian characteristic function (common practice)")
+  check.near(a:fidelity(b), mod * mod, 1e-12, "fidelity of two lab states", "Gaussian characteristic function (common practice)")
+  local d = a:copy():add(b, -1)
+  check.near(d:norm(), 2 - 2 * mod * math.cos(q * xbar), 1e-10, "norm of a - b", "Gaussian characteristic function (common practice)")
+  local other = cloud(g):fly(2 * t1, {acceleration = -gn})
+  check.fails(function() return a:inner(other) end, "waves in different frames are refused", here, "different frames")
+end
+
+-- 12. The probability current of a falling cloud on lab positions: the free
+-- Gaussian's current rho(x) (v(t) + (x - <x>) t / (tau^2 + t^2)), tau =
+-- 2 m sigma0^2 / hbar, with the centre and velocity of the uniform force
+-- (textbook free current; Avron-Herbst form, from memory).
+do
+  local g = pf.grid{points = 256, span = 24e-6}
+  local w = cloud(g)
+  w:kick(2e6, {frame = true})
+  w:fly(t1, {acceleration = -gn})
+  local cur = w:current(1)
+  local v0 = hbar * 2e6 / m
+  local vt, xbar = v0 - gn * t1, v0 * t1 - 0.5 * gn * t1 * t1
+  local tau = 2 * m * sigma0 ^ 2 / hbar
+  local st2 = sigma0 ^ 2 * (1 + (t1 / tau) ^ 2)
+  local worst, peak = 0, 0
+  for i, x in ipairs(cur.axes[1]) do
+    local rho = math.exp(-(x - xbar) ^ 2 / (2 * st2)) / math.sqrt(2 * math.pi * st2)
+    local j = rho * (vt + (x - xbar) * t1 / (tau * tau + t1 * t1))
+    worst = math.max(worst, math.abs(cur.values[i] - j))
+    peak = math.max(peak, math.abs(j))
+  end
+  print(string.format("note current of the falling cloud vs closed form: %.3e of peak", worst / peak))
+  check.close(worst / peak, 0, 1e-10, "current on lab positions (max |diff| / peak)", "free Gaussian current under a uniform force (from memory)")
+end
+
 check.done()

@@ -91,10 +91,10 @@ for n in 1 2 4; do
   /usr/bin/python3 "$work/compare.py" "$work/eplain.txt" "$work/eranks$n.txt" exact 0 >/dev/null &&
     ok "evolve -n $n: the start is bit-identical to one process" || fail "evolve -n $n: start differs"
   /usr/bin/python3 "$work/compare.py" "$work/eranks1.txt" "$work/eranks$n.txt" flown,law 0 >/dev/null &&
-    ok "evolve -n $n: relax, kick, evolve with g and slit bit-identical to -n 1" ||
+    ok "evolve -n $n: relax, kick, evolve with g, slit, imprint and masks bit-identical to -n 1" ||
     fail "evolve -n $n: split-step figures differ from -n 1"
   worst=$(/usr/bin/python3 "$work/compare.py" "$work/eplain.txt" "$work/eranks$n.txt" flown,law 1e-14) &&
-    ok "evolve -n $n: relax, kick, evolve with g and slit within 1e-14 of one process (worst $worst)" ||
+    ok "evolve -n $n: relax, kick, evolve with g, slit, imprint and masks within 1e-14 of one process (worst $worst)" ||
     fail "evolve -n $n: split-step figures differ from one process by more than 1e-14"
 done
 # Closed forms: the linear ground-state energy hbar (wx + wy) / 2, and the

@@ -4,7 +4,8 @@
 -- the same bits everywhere, "flown" the same bits at every rank count and
 -- close to one process, "law" against a closed form).
 -- Invented scene: a pancake of 87Rb in a 2D harmonic trap, relaxed without
--- and with a mean field, kicked, evolved and cut by a slit.
+-- and with a mean field, kicked, evolved, cut by a slit, imprinted and
+-- masked in position and momentum.
 local pf = require "psiflight"
 pf.setup{distribute = true, planning = "estimate", guard_threshold = math.huge}
 local hbar = pf.constants.hbar
@@ -52,5 +53,15 @@ line("law kohn", mx, hbar * k / (mass * wx) * math.sin(wx * t))
 -- A slit of 4 um along x: the removed probability.
 local _, removed = w:slit{width = 4e-6, axis = 1}
 line("flown slit", removed, w:norm())
+-- A phase imprint and a soft mask given as Lua functions, each rank
+-- sampling its own points; then a momentum mask (transposed slab).
+w:imprint(function(x, y) return 2e5 * x + 1e11 * y * y end)
+local _, rm = w:mask(function(x, y) return math.exp(-(x / 5e-6) ^ 4) end)
+line("flown mask", rm)
+line("flown masked", w:norm())
+line("flown maskedk", w:wavenumber_mean())
+local _, rk = w:momentum_mask(function(kx, ky) return math.abs(kx) < 1.5e6 and 1 or 0 end)
+line("flown kmask", rk)
+line("flown kmasked", w:norm())
 local info2 = pf.mpi_info()
 print(string.format("ranks %d distribute %s", info2.ranks, tostring(info2.distribute)))
