@@ -87,6 +87,7 @@ static const char *const FRAME_AWARE[] = {
     "wave:mask",
     "wave:mask_grating",
     "wave:mass",
+    "wave:measure_position",
     "wave:measure_region",
     "wave:momentum_covariance",
     "wave:momentum_density",

@@ -444,6 +444,12 @@ static int l_measure_position(lua_State *L)
     int has_forced = pfl_field_vector(L, 2, "outcome", d, forced, 0);
     pf_rng local;
     pf_rng *rng = pfl_opt_rng(L, 2, &local);
+    /* Outcomes are lab positions: on the co-moving grid of the members'
+     * shared frame they sit at x - X (pf_frame.h). */
+    pf_frame fr;
+    pfl_source_frame(L, &src, &fr, "measure_position");
+    if (has_forced)
+        for (int a = 0; a < d; a++) forced[a] -= fr.position[a];
     double density;
     if (!src.is_ensemble) {
         pfl_check(L, pf_wave_measure_position(src.single, sigma, rng, has_forced ? forced : NULL, out, &density),
@@ -478,6 +484,7 @@ static int l_measure_position(lua_State *L)
         }
         for (int a = 0; a < d; a++) out[a] = sigma[a] > 0 ? forced[a] : NAN;
     }
+    for (int a = 0; a < d; a++) out[a] += fr.position[a]; /* NAN (unmeasured axis) stays NAN */
     pfl_push_doubles(L, out, (size_t)d);
     lua_pushnumber(L, density);
     return 2;

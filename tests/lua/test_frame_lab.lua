@@ -470,4 +470,23 @@ do
     "a mask region from a function is refused for a moved wave", here, "sampled on the bare grid")
 end
 
+-- 14. A position measurement of a falling cloud with a Gaussian resolution
+-- r, forced to the lab outcome <x> + s/2: the outcome density is the normal
+-- density of variance s^2 + r^2 at s/2, and the collapsed centre moves to
+-- <x> + (s^2 / (s^2 + r^2)) s/2 (product of Gaussians; common practice).
+do
+  local g = pf.grid{points = 256, span = 24e-6}
+  local w = cloud(g):fly(t1, {acceleration = -gn})
+  local xbar = -0.5 * gn * t1 * t1
+  local s = math.sqrt(sigma0 ^ 2 + (hbar * t1 / (2 * m * sigma0)) ^ 2)
+  local r = 0.8e-6
+  local at = xbar + 0.5 * s
+  local out, density = w:measure_position{resolution = {r}, outcome = {at}}
+  local v = s * s + r * r
+  check.close(out[1], at, 1e-18, "the outcome is reported as the lab position", "definition")
+  check.near(density, math.exp(-(0.5 * s) ^ 2 / (2 * v)) / math.sqrt(2 * math.pi * v), 1e-9,
+    "outcome density at a lab position", "Gaussian convolution (common practice)")
+  check.close(w:position_mean(), xbar + s * s / v * 0.5 * s, 1e-13, "collapsed centre (m)", "product of Gaussians (common practice)")
+end
+
 check.done()
