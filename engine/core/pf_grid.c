@@ -69,6 +69,15 @@ static void grid_destroy(pf_grid *g)
     pf_context_release(ctx);
 }
 
+/* fmod(y, 1.0), bit for bit (y - trunc(y) is exact, and a zero keeps the
+ * sign of y), without libm's general fmod, which cost about 160
+ * instructions per point here (half of a 1D grid's set-up). */
+static double fractional_turns(double y)
+{
+    double f = y - trunc(y);
+    return f == 0 ? copysign(0.0, y) : f;
+}
+
 static pf_status fill_tables(pf_grid *g)
 {
     for (int a = 0; a < g->dim; a++) {
@@ -89,7 +98,7 @@ static pf_status fill_tables(pf_grid *g)
             g->k[a][j] = m * dk;
             /* phi/S = (span/sqrt(2pi)) exp(-i k x0); the exponent is reduced
              * exactly on the integer lattice: k x0 = 2 pi m x0 / span. */
-            double turns = fmod(m * (x0 / g->span[a]), 1.0);
+            double turns = fractional_turns(m * (x0 / g->span[a]));
             g->kfactor[a][j] = amp * cexp(-I * PF_TWO_PI * turns);
         }
     }

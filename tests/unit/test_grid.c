@@ -137,6 +137,32 @@ static void grid_outlives_its_handle_while_waves_hold_it(void **state)
     pf_wave_free(w);
 }
 
+/* The momentum-representation factors (span / sqrt(2 pi)) exp(-i k x0) are,
+ * bit for bit, the definition with the exponent reduced by libm's fmod on
+ * the integer lattice (the grid forms fmod(y, 1) as y - trunc(y), a zero
+ * keeping y's sign): origins that put the turns on whole numbers (both
+ * signs of zero), odd and even counts. */
+static void momentum_factors_follow_their_definition(void **state)
+{
+    pf_context *ctx = *state;
+    static const double origins[] = {0.0, 1e-6, -3.3e-5, 7.77e-3, -2.5e-9};
+    static const size_t counts[] = {4, 5, 64, 255, 4096};
+    for (size_t o = 0; o < sizeof origins / sizeof origins[0]; o++)
+        for (size_t c = 0; c < sizeof counts / sizeof counts[0]; c++) {
+            size_t n = counts[c];
+            double span = 1e-4 * (double)(1 + c);
+            pf_grid *g;
+            assert_int_equal(pf_grid_new(ctx, 1, &n, &span, &origins[o], &g), PF_OK);
+            double x0 = origins[o] - (double)(n / 2) * (span / (double)n);
+            for (size_t j = 0; j < n; j++) {
+                double m = j < (n + 1) / 2 ? (double)j : (double)j - (double)n;
+                double complex want = span / sqrt(PF_TWO_PI) * cexp(-I * PF_TWO_PI * fmod(m * (x0 / span), 1.0));
+                assert_memory_equal(&g->kfactor[0][j], &want, sizeof want);
+            }
+            pf_grid_release(g);
+        }
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -144,6 +170,8 @@ int main(void)
         cmocka_unit_test_setup_teardown(memory_cap_is_checked_before_allocating, pft_context_setup, pft_context_teardown),
         cmocka_unit_test_setup_teardown(coordinates_are_centred_on_the_origin, pft_context_setup, pft_context_teardown),
         cmocka_unit_test_setup_teardown(wave_numbers_follow_fft_order, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(momentum_factors_follow_their_definition, pft_context_setup,
+                                        pft_context_teardown),
         cmocka_unit_test_setup_teardown(plans_are_made_once_and_shared, pft_context_setup, pft_context_teardown),
         cmocka_unit_test_setup_teardown(grid_outlives_its_handle_while_waves_hold_it, pft_context_setup, pft_context_teardown),
     };
