@@ -152,12 +152,7 @@ static int ends_with_marker(const char *path, const char *marker)
     return ok && strstr(tail, marker) != NULL;
 }
 
-/* cairo writes the clock time into a PDF's information dictionary
- * (/CreationDate (D:...)), so reruns would differ.  The entry is replaced
- * by blanks of the same length: whitespace is legal between dictionary
- * entries, and every byte offset in the cross-reference table stays
- * right.  Returns 0 when the file could not be read or written. */
-static int pdf_drop_date(const char *path)
+int pf_picture_pdf_drop_date(const char *path)
 {
     FILE *f = fopen(path, "r+b");
     if (!f) return 0;
@@ -174,6 +169,10 @@ static int pdf_drop_date(const char *path)
             if (memcmp(buf + i, key, sizeof key - 1) == 0) hit = buf + i;
         if (hit) {
             char *close = memchr(hit, ')', (size_t)(buf + got - hit));
+            if (!close && hit > buf && got == sizeof buf) {
+                base += (long)(hit - buf); /* the entry runs past this read: read again from the key */
+                continue;
+            }
             if (!close) { ok = 0; break; }
             size_t len = (size_t)(close - hit) + 1;
             memset(hit, ' ', len);
@@ -209,7 +208,7 @@ static pf_status finish(pf_context *ctx, pf_safefile *sf, pf_status drawn)
     }
     pic_format fmt = format_of(sf->final_path);
     int complete = fmt == PIC_SVG ? ends_with_marker(sf->temp_path, "</svg>")
-                 : fmt == PIC_PDF ? ends_with_marker(sf->temp_path, "%%EOF") && pdf_drop_date(sf->temp_path)
+                 : fmt == PIC_PDF ? ends_with_marker(sf->temp_path, "%%EOF") && pf_picture_pdf_drop_date(sf->temp_path)
                                   : png_complete(sf->temp_path);
     if (!complete) {
         char final[512];
@@ -286,11 +285,14 @@ static int label_chars(double v, int decimals)
 }
 
 /* The end label's decimals: the ticks' own when the end lies within 2 % of
- * a step from a tick (it then reads as that tick), else one more. */
+ * a step from a tick (it then reads as that tick), else to a tenth of the
+ * step (-4.3 beside steps of 1, -251 beside steps of 100). */
 static int end_decimals(double v, double step, int d)
 {
     double q = v / step;
-    return fabs(q - nearbyint(q)) < 0.02 ? d : (d + 1 > 12 ? 12 : d + 1);
+    if (fabs(q - nearbyint(q)) < 0.02) return d;
+    int e = decimals_for(step / 10);
+    return e < d ? d : e;
 }
 
 int pf_picture_ticks(double lo, double hi, double len_px, double char_px, double gap_px, double *step_out,
@@ -375,12 +377,13 @@ typedef struct map_layout {
     double left, right, top, bottom; /* panel edges, px from the left / top */
     axis_labels xl, yl, vl;        /* tick labels: x, y, colour bar */
     int not_to_scale;
+    double vlabel_pos;             /* centre of the colour bar's label along the bar (0..1, or below 0.5 when longer) */
 } map_layout;
 
 /* Margins around the panel in text heights: the title above; tick labels
  * and the axis name below; the colour bar (gap, bar, labels, name, clip
  * note) on the right; tick labels and the axis name on the left. */
-#define MAP_TOP 3.1
+#define MAP_TOP 3.3
 #define MAP_BOTTOM 4.6
 static double map_left(int widest, double ch) { return (1.0 + CHAR_W * widest + 2.2) * ch; }
 static double map_right(int widest, double ch) { return (1.6 + 1.6 + 0.8 + CHAR_W * widest + 4.4) * ch; }
@@ -391,7 +394,8 @@ static double map_right(int widest, double ch) { return (1.6 + 1.6 + 0.8 + CHAR_
  * band is left above the title or beside the panel.  Equal aspect gives way
  * (not to scale, said in the title) when it would leave a side under 7
  * text heights: a sliver with crowded labels says less than a stretched map. */
-static void layout_map(map_layout *L, const pf_map *m, int equal, const double box[4], double vmin, double vmax)
+static void layout_map(map_layout *L, const pf_map *m, int equal, const double box[4], double vmin, double vmax,
+                       double vlabel_px)
 {
     int wgiven = m->width != 0, hgiven = m->height != 0;
     L->w = wgiven ? m->width : 860;
@@ -427,6 +431,14 @@ static void layout_map(map_layout *L, const pf_map *m, int equal, const double b
     L->right = L->left + pw;
     L->top = MAP_TOP * ch;
     L->bottom = L->top + ph;
+    /* The colour bar's label runs along it; beside a low panel it would
+     * leave the picture, so the picture grows below the panel (the title
+     * stays right above it) and the label hangs from the bar's top. */
+    L->vlabel_pos = 0.5;
+    if (vlabel_px > ph) {
+        L->vlabel_pos = 1 - vlabel_px / (2 * ph);
+        if (!hgiven && L->h < L->top + vlabel_px + 1.0 * ch) L->h = (int)lround(L->top + vlabel_px + 1.0 * ch);
+    }
     choose_ticks(&L->xl, box[0], box[1], pw, ch, 1);
 }
 
@@ -517,7 +529,7 @@ static void draw_map(void *user)
     draw_tick_labels(&L->yl, "lv", 0.7, 1.0);
     plmtex("b", 3.3, 0.5, 0.5, j->lx);
     plmtex("l", 0.7 + CHAR_W * L->yl.widest + 1.0, 0.5, 0.5, j->ly);
-    plmtex("t", 1.3, 0.0, 0.0, j->title);
+    plmtex("t", 1.5, 0.0, 0.0, j->title);
     /* Colour bar: a vertical strip of the same map with its own axis. */
     double ramp_v[2][256];
     PLFLT *ramp[2] = {ramp_v[0], ramp_v[1]};
@@ -530,11 +542,11 @@ static void draw_map(void *user)
     plbox("bc", 0, 0, "bcsti", L->vl.step, 0);
     draw_tick_labels(&L->vl, "rv", 0.8, 0.0);
     double name_at = 0.8 + CHAR_W * L->vl.widest + 1.4;
-    plmtex("r", name_at, 0.5, 0.5, j->vlabel);
+    plmtex("r", name_at, L->vlabel_pos, 0.5, j->vlabel);
     if (j->clipped) {
         /* Values above the scale share its top colour: say so beside the bar,
          * and cap the bar with an arrow head in that colour. */
-        plmtex("r", name_at + 1.5, 0.5, 0.5, j->clip_note);
+        plmtex("r", name_at + 1.5, L->vlabel_pos, 0.5, j->clip_note);
         double tip = 1.3 * L->ch;
         plvpor(bl / L->w, br / L->w, 1 - (L->top - 0.15 * L->ch) / L->h, 1 - (L->top - tip) / L->h);
         plwind(0, 1, 0, 1);
@@ -607,7 +619,7 @@ pf_status pf_picture_map(pf_context *ctx, const char *path, int overwrite, const
          * units, since a map not to scale shows each axis in its own unit. */
         map_layout pre;
         double ext[4] = {m->x[0] - hx, m->x[m->nx - 1] + hx, m->y[0] - hy, m->y[m->ny - 1] + hy};
-        layout_map(&pre, m, 1, ext, 0, 1);
+        layout_map(&pre, m, 1, ext, 0, 1, 0);
         not_to_scale = pre.not_to_scale;
         equal = !not_to_scale;
     }
@@ -671,7 +683,10 @@ pf_status pf_picture_map(pf_context *ctx, const char *path, int overwrite, const
     map_job job = {.m = m, .vmin = vmin, .vmax = vmax, .clipped = clipped, .fy = fy, .vlabel = vlabel,
                    .device = device_for(path),
                    .box = {(m->x[0] - hx) * fx, (m->x[m->nx - 1] + hx) * fx, (m->y[0] - hy) * fy, (m->y[m->ny - 1] + hy) * fy}};
-    layout_map(&job.lay, m, equal, job.box, vmin, vmax);
+    /* The colour bar's label, and the clip note beside it, along the bar. */
+    double vlabel_px = visible_chars(vlabel) * 0.8 * text_px(wq, hq, 640);
+    if (clipped) vlabel_px = fmax(vlabel_px, 22 * 0.8 * text_px(wq, hq, 640));
+    layout_map(&job.lay, m, equal, job.box, vmin, vmax, vlabel_px);
     job.lay.not_to_scale = not_to_scale;
     if (clipped) {
         const pf_tick_label *top = &job.lay.vl.lab[job.lay.vl.n - 1];

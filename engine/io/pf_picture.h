@@ -111,6 +111,14 @@ pf_status pf_picture_lines(pf_context *ctx, const char *path, int overwrite, con
  * that converts SI values into it. */
 double pf_display_unit(pf_quantity q, double max_abs, char *unit, size_t size);
 
+/* cairo writes the clock time into a PDF's information dictionary
+ * (/CreationDate (D:...)), so reruns would differ.  The first such entry
+ * of the file at path is replaced by blanks of the same length: whitespace
+ * is legal between dictionary entries, and every byte offset in the
+ * cross-reference table stays right.  Returns 1 when done or when the file
+ * has no such entry, 0 when it could not be read or written. */
+int pf_picture_pdf_drop_date(const char *path);
+
 /* PLplot's version string. */
 void pf_plplot_version(char *buf, size_t size);
 

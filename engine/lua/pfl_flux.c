@@ -33,6 +33,8 @@ static int l_current(lua_State *L)
     int d = pf_grid_dim(g);
     lua_Integer a = luaL_optinteger(L, 2, 1);
     if (a < 1 || a > d) return luaL_argerror(L, 2, lua_pushfstring(L, "axis must be 1..%d", d));
+    pf_frame fr; /* read before anything is allocated: it may raise */
+    pfl_source_frame(L, &src, &fr, "current");
     pf_field f;
     pfl_check(L, pf_field_for_grid(g, PF_POSITION, &f), "current");
     double *j = pf_context_alloc(pfl_ctx(L), f.total * sizeof *j);
@@ -42,10 +44,20 @@ static int l_current(lua_State *L)
         for (size_t k = 0; !s && k < f.total; k++) f.values[k] += src.mix.weights[i] * j[k];
     }
     pf_context_free(pfl_ctx(L), j);
+    /* A moved frame (shared by an ensemble's members): j_lab(x) = j_grid(x - X)
+     * + (hbar K / m) rho(x - X), on lab positions. */
+    double V = s ? 0.0 : PF_HBAR * fr.wavenumber[a - 1] / pfl_source_mass(&src);
+    if (!s && V != 0.0) {
+        pf_field rho;
+        s = pf_mixture_field(&src.mix, PF_POSITION, &rho);
+        for (size_t k = 0; !s && k < f.total; k++) f.values[k] += V * rho.values[k];
+        if (!s) pf_field_free(&rho);
+    }
     if (s) {
         pf_field_free(&f);
         pfl_check(L, s, "current");
     }
+    for (int b = 0; b < d; b++) f.first[b] += fr.position[b];
     char unit[32], lab[32];
     snprintf(unit, sizeof unit, d == 1 ? "1/s" : "1/(s m^%d)", d - 1);
     snprintf(lab, sizeof lab, d == 1 ? "1/ms" : "1/(ms um^%d)", d - 1);

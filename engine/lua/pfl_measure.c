@@ -296,13 +296,38 @@ static int region_tostring(lua_State *L)
 
 /* ---- observables ---- */
 
+/* The region at arg in the co-moving grid's coordinates of the source's
+ * shared frame (pf_frame.h): lab corners, points and centres move by -X.  A
+ * mask given as a function of the coordinates is sampled on the bare grid
+ * (and cached there), so it is refused for a moved frame; a table of
+ * weights holds one weight per grid point wherever the grid sits. */
+static void source_region(lua_State *L, int arg, const pfl_source *src, pf_region *r, const char *name)
+{
+    pf_frame fr;
+    pfl_source_frame(L, src, &fr, name);
+    pfl_check_region(L, arg, pfl_source_grid(src), r);
+    int d = pf_grid_dim(pfl_source_grid(src)), moved = 0;
+    for (int a = 0; a < d; a++) moved = moved || fr.position[a] != 0.0;
+    if (!moved) return;
+    const pfl_region_box *b = luaL_checkudata(L, arg, PFL_REGION_TYPE);
+    if (r->kind == PF_REGION_MASK && b->has_fn)
+        luaL_error(L, "%s: a mask region given as a function is sampled on the bare grid; for a wave in a moving "
+                      "frame use a box, half-space or ball region (lab coordinates), or a table of weights",
+                   name);
+    for (int a = 0; a < d; a++) {
+        r->lo[a] -= fr.position[a]; /* an open side (+-inf) stays open */
+        r->hi[a] -= fr.position[a];
+        r->point[a] -= fr.position[a];
+    }
+}
+
 /* s:probability_in(region) -> probability (normalised by the norm). */
 static int l_probability_in(lua_State *L)
 {
     pfl_source src;
     pfl_check_source(L, 1, &src);
     pf_region r;
-    pfl_check_region(L, 2, pfl_source_grid(&src), &r);
+    source_region(L, 2, &src, &r, "probability_in");
     double num = 0, den = 0;
     for (size_t i = 0; i < src.mix.count; i++) {
         double p;
@@ -373,7 +398,7 @@ static int l_measure_region(lua_State *L)
     pfl_source src;
     pfl_check_source(L, 1, &src);
     pf_region r;
-    pfl_check_region(L, 2, pfl_source_grid(&src), &r);
+    source_region(L, 2, &src, &r, "measure_region");
     int opts = pfl_options_opt(L, 3, &MEASURE_REGION_OPTIONS);
     int forced = -1;
     if (opts) {

@@ -408,4 +408,66 @@ do
   check.fails(function() return a:inner(other) end, "waves in different frames are refused", here, "different frames")
 end
 
+-- 12. The probability current of a falling cloud on lab positions: the free
+-- Gaussian's current rho(x) (v(t) + (x - <x>) t / (tau^2 + t^2)), tau =
+-- 2 m sigma0^2 / hbar, with the centre and velocity of the uniform force
+-- (textbook free current; Avron-Herbst form, from memory).
+do
+  local g = pf.grid{points = 256, span = 24e-6}
+  local w = cloud(g)
+  w:kick(2e6, {frame = true})
+  w:fly(t1, {acceleration = -gn})
+  local cur = w:current(1)
+  local v0 = hbar * 2e6 / m
+  local vt, xbar = v0 - gn * t1, v0 * t1 - 0.5 * gn * t1 * t1
+  local tau = 2 * m * sigma0 ^ 2 / hbar
+  local st2 = sigma0 ^ 2 * (1 + (t1 / tau) ^ 2)
+  local worst, peak = 0, 0
+  for i, x in ipairs(cur.axes[1]) do
+    local rho = math.exp(-(x - xbar) ^ 2 / (2 * st2)) / math.sqrt(2 * math.pi * st2)
+    local j = rho * (vt + (x - xbar) * t1 / (tau * tau + t1 * t1))
+    worst = math.max(worst, math.abs(cur.values[i] - j))
+    peak = math.max(peak, math.abs(j))
+  end
+  print(string.format("note current of the falling cloud vs closed form: %.3e of peak", worst / peak))
+  check.close(worst / peak, 0, 1e-10, "current on lab positions (max |diff| / peak)", "free Gaussian current under a uniform force (from memory)")
+end
+
+-- 13. Regions in lab coordinates on a falling cloud.  A region weighs whole
+-- grid cells, so the planes and box edges below sit on cell edges of the
+-- co-moving grid (the lab centre -g t^2/2 is a grid point there); the cell
+-- sums then approximate the Gaussian's integrals erf(z) by the midpoint rule,
+-- whose end error (dx^2/24) |rho'| at the edges is about 2e-4 here.
+-- erf from its Maclaurin series (common practice); centre by Newton and width
+-- by the free law (from memory).
+do
+  local g = pf.grid{points = 256, span = 24e-6}
+  local w = cloud(g):fly(t1, {acceleration = -gn})
+  local xbar = -0.5 * gn * t1 * t1
+  local s = math.sqrt(sigma0 ^ 2 + (hbar * t1 / (2 * m * sigma0)) ^ 2)
+  local dx = g:spacing(1)
+  local function erf(z)
+    local sum, term, n = 0, z, 0
+    while math.abs(term) > 1e-17 do
+      sum = sum + term / (2 * n + 1)
+      n = n + 1
+      term = -term * z * z / n
+    end
+    return 2 / math.sqrt(math.pi) * sum
+  end
+  local h = 10.5 * dx
+  local inside = w:probability_in(pf.box{min = {xbar - h}, max = {xbar + h}})
+  check.near(inside, erf(h / (s * math.sqrt(2))), 1e-3, "probability in a lab box about the lab centre",
+    "Gaussian integral, erf series (common practice)")
+  local below = w:probability_in(pf.half_space{point = {xbar - 0.5 * dx}, normal = {-1}})
+  check.near(below, 0.5 * (1 - erf(0.5 * dx / (s * math.sqrt(2)))), 1e-3, "probability below a lab plane",
+    "Gaussian integral, erf series (common practice)")
+  local hit, p = w:copy():measure_region(pf.half_space{point = {xbar + h}, normal = {1}}, {outcome = true})
+  check.near(p, 0.5 * (1 - erf(h / (s * math.sqrt(2)))), 1e-3, "measure_region beyond a lab plane",
+    "Gaussian integral, erf series (common practice)")
+  check.equal(hit, true, "forced outcome")
+  check.fails(function() return w:probability_in(pf.mask(function(x) return 1 end)) end,
+    "a mask region from a function is refused for a moved wave", here, "sampled on the bare grid")
+end
+
 check.done()

@@ -123,10 +123,10 @@ echo "ok the flagship writes HDF5, CSV, $(ls "$a"/*.png | wc -l) PNG and a manif
 grep -qx "  out/release_tof.h5" "$tmp/first.stdout" || { echo "FAIL stdout does not say where the files are"; exit 1; }
 echo "ok stdout says where the files are (relative paths)"
 # The cloud map keeps equal aspect and the picture follows it: the cropped
-# 133 x 49 um region gives a panel about 590 x 220 pixels, plus the title
-# and the axis margins (no blank band): 860 x 330; the carpet (x against t)
+# 133 x 49 um region gives a panel about 600 x 225 pixels, plus the title
+# and the axis margins (no blank band): 860 x 342; the carpet (x against t)
 # fills the default 860 x 640.
-/usr/bin/python3 "$here/png_check.py" 860 330 "$a/cloud_after_tof.png"
+/usr/bin/python3 "$here/png_check.py" 860 342 "$a/cloud_after_tof.png"
 /usr/bin/python3 "$here/png_check.py" 860 640 "$a/carpet_x.png"
 /usr/bin/python3 "$here/png_check.py" 860 560 "$a/widths.png"
 # No temporary files are left behind.

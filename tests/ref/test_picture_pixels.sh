@@ -48,10 +48,15 @@ def vertical(rows, h, x, y):
 
 def panel_and_bar(name, y=None):
     w, h, rows = decode(d + "/" + name)
-    y = h // 2 if y is None else y
+    # A row through the dark outskirts of each scene (away from a bright core
+    # that would split the run); the panel's edges there are black, so the
+    # frame and any tick mark on it (dark grey) are trimmed off.
+    y = int(0.3 * h) if y is None else y
     r = runs(w, rows, y)
     ok(len(r) >= 2, "%s: map panel and colour bar found along row %d" % (name, y))
     (x0, x1), (b0, b1) = r[0], r[-1]
+    black = [x for x in range(x0, x1 + 1) if max(pixel(rows, x, y)) < 25]
+    x0, x1 = black[0], black[-1]
     # The panel's top and bottom along a column a tenth in (the frame's
     # ticks sit outside it); the cloud's bright core is not there.
     t, b = vertical(rows, h, x0 + (x1 - x0) // 10, y)

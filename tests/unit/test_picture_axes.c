@@ -5,6 +5,9 @@
  * - Ticks: both ends of every axis carry a label with the end's value, the
  *   interior labels step by 1, 2 or 5 x 10^n (common practice in plotting,
  *   no source) and no two labels overlap at the character width given.
+ * - PDF dates: the /CreationDate entry is blanked wherever it lies in the
+ *   file, also across the 4096-byte reads of the scan, and nothing else
+ *   changes (ISO 32000-1 allows white space between dictionary entries).
  * - Resampling: a tent (linear) filter reproduces a linear function exactly
  *   where it interpolates, and an average keeps a constant (both common
  *   practice of linear interpolation, no source); reducing n samples to
@@ -16,7 +19,9 @@
 #include <stdint.h>
 #include <cmocka.h>
 #include <stdio.h>
+#include <stdlib.h>
 #include <string.h>
+#include <unistd.h>
 #include "../../engine/io/pf_picture.h"
 
 static int chars(const pf_tick_label *l)
@@ -81,8 +86,17 @@ static void test_end_on_a_tick_reads_as_the_tick(void **state)
     assert_true(step == 1);
     assert_int_equal(lab[0].decimals, 0);          /* "-4", not "-4.0" */
     assert_int_equal(lab[n - 1].decimals, 0);
+    /* Off a tick, the end is shown to a tenth of the step: "461" beside
+     * steps of 50 (a Talbot time of 460.912 us), "-4.3" beside steps of 1. */
     n = pf_picture_ticks(0, 460.912, 520, 0, 31, &step, lab, 64);
-    assert_true(lab[n - 1].decimals >= 1);         /* "460.9": the Talbot time itself */
+    assert_true(step == 50 || step == 20 || step == 100);
+    assert_int_equal(lab[n - 1].decimals, 0);
+    n = pf_picture_ticks(-4.3, 4.3, 580, 12.4, 24.8, &step, lab, 64);
+    assert_true(step == 1);
+    assert_int_equal(lab[0].decimals, 1);
+    n = pf_picture_ticks(-251, 249, 580, 12.4, 24.8, &step, lab, 64);
+    assert_true(step == 100 || step == 50);
+    assert_int_equal(lab[0].decimals, 0);
 }
 
 static void test_resample_linear_and_mean(void **state)
@@ -113,12 +127,49 @@ static void test_resample_linear_and_mean(void **state)
     for (int j = 1; j < 299; j++) assert_true(fabs(out[j] - 0.5) < 0.02);
 }
 
+/* A fake PDF tail: filler, the information dictionary at offset at, filler. */
+static void check_date_dropped_at(long at)
+{
+    char path[] = "/tmp/pf-test-pdf-XXXXXX";
+    int fd = mkstemp(path);
+    assert_true(fd >= 0);
+    FILE *f = fdopen(fd, "wb");
+    static const char entry[] = "<< /Producer (cairo) /CreationDate (D:20261204162226Z) >>";
+    long size = at + (long)sizeof entry + 5000;
+    char *want = malloc((size_t)size);
+    for (long i = 0; i < size; i++) want[i] = (char)('a' + i % 23);
+    memcpy(want + at, entry, sizeof entry - 1);
+    assert_int_equal(fwrite(want, 1, (size_t)size, f), (size_t)size);
+    fclose(f);
+    assert_int_equal(pf_picture_pdf_drop_date(path), 1);
+    char *key = strstr(want + at, "/CreationDate");
+    memset(key, ' ', strlen("/CreationDate (D:20261204162226Z)"));
+    char *got = malloc((size_t)size + 1);
+    f = fopen(path, "rb");
+    assert_int_equal(fread(got, 1, (size_t)size + 1, f), (size_t)size);
+    fclose(f);
+    remove(path);
+    if (memcmp(got, want, (size_t)size) != 0) fail_msg("entry at offset %ld not blanked exactly", at);
+    free(got);
+    free(want);
+}
+
+static void test_pdf_date_dropped_anywhere(void **state)
+{
+    (void)state;
+    /* Around the first and second read boundaries (4096, 8192) and away. */
+    for (long at = 4040; at <= 4110; at++) check_date_dropped_at(at);
+    for (long at = 8150; at <= 8200; at += 7) check_date_dropped_at(at);
+    check_date_dropped_at(100);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_ends_labelled_without_overlap),
         cmocka_unit_test(test_end_on_a_tick_reads_as_the_tick),
         cmocka_unit_test(test_resample_linear_and_mean),
+        cmocka_unit_test(test_pdf_date_dropped_anywhere),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
