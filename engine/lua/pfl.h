@@ -42,6 +42,12 @@ void pfl_check(lua_State *L, pf_status s, const char *name);
 int pfl_error(lua_State *L, pfl_error_kind kind, const char *fmt, ...);
 /* Kind of the error value at idx: the kind it was raised with when it is the
  * last error raised through pfl_check/pfl_error, else PFL_ERROR_SCRIPT. */
+/* Re-raises the error value on top of the stack, which a nested call of
+ * another binding function raised (its location is then the calling C
+ * function's, empty), at the script line of the running function's caller,
+ * keeping its kind (exit status).  An error already located there is
+ * re-raised as it is. */
+int pfl_rethrow_here(lua_State *L);
 pfl_error_kind pfl_error_kind_of(lua_State *L, int idx);
 /* Strict mode turns warnings into errors of kind PFL_ERROR_GUARD. */
 void pfl_set_strict(lua_State *L, int strict);

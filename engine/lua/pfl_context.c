@@ -214,6 +214,22 @@ int pfl_error(lua_State *L, pfl_error_kind kind, const char *fmt, ...)
     return raise_kind(L, st, kind, text);
 }
 
+int pfl_rethrow_here(lua_State *L)
+{
+    pfl_state *st = get_state(L);
+    pfl_error_kind kind = pfl_error_kind_of(L, -1);
+    const char *msg = lua_tostring(L, -1);
+    if (!msg) return lua_error(L);
+    luaL_where(L, 1);
+    const char *where = lua_tostring(L, -1);
+    int located = *where && strncmp(msg, where, strlen(where)) == 0;
+    lua_pop(L, 1);
+    if (located) return lua_error(L);
+    char text[1400];
+    snprintf(text, sizeof text, "%s", msg);
+    return raise_kind(L, st, kind, text);
+}
+
 pfl_error_kind pfl_error_kind_of(lua_State *L, int idx)
 {
     pfl_state *st = get_state(L);

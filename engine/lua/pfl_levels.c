@@ -444,7 +444,7 @@ static int l_evolve(lua_State *L)
             lua_pushboolean(L, 0);
         }
         lua_setfield(L, -2, "acceleration");
-        lua_call(L, 3, 2);
+        if (lua_pcall(L, 3, 2, 0) != LUA_OK) return pfl_rethrow_here(L); /* at the script line of lv:evolve */
         lua_setfield(L, infos, pf_levels_label(b, i));
         lua_settop(L, infos);
     }

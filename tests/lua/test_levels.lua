@@ -374,6 +374,11 @@ check.fails(function() pf.levels{labels = {"x", "x"}, grid = g, mass = "87Rb"} e
 lv:level("F1"):fly(1e-3)
 check.fails(function() lv:pulse{from = "F1", to = "F2", rabi = 1, duration = 1} end, "levels at different times",
             "one time")
+do
+  local lv2 = pf.levels{labels = {"u", "v"}, grid = g, mass = "87Rb"}
+  lv2:level("v"):close()
+  check.fails(function() lv2:populations() end, "a level wave closed on its own", "the wave of level 'v' was closed")
+end
 check.equal(tostring(lv), "levels {F1, F2}", "tostring")
 lv:close()
 check.fails(function() lv:populations() end, "closed object", "closed")

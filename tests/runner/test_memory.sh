@@ -3,8 +3,8 @@
 # "Memory"): resident memory stays flat in a loop that builds, copies and
 # closes waves; pf.run_info().memory_used counts what the engine holds; the
 # cap counts the binding's buffers of grid size; and with PSIFLIGHT_FAIL_ALLOC
-# (DEVELOPERS.md) every engine allocation of a typical script and of the
-# state-gallery example can fail, each
+# (DEVELOPERS.md) every engine allocation of a typical script, of the
+# state-gallery example and of a multi-level script can fail, each
 # time with a clean error naming the script line, never a crash (under
 # `make asan` also never a leak: LeakSanitizer's exit status is not 0 or 5).
 # No physics is checked here, so no outside reference is involved.
@@ -163,6 +163,25 @@ expect 0 "state gallery runs without injection" -- "$runner" run "$work/state_ga
 count=$(printf '%s\n' "$out" | sed -n 's/^allocations=//p')
 [ "$count" -ge 20 ] || fail "the state gallery made only '$count' engine allocations"
 walk "$work/state_gallery.lua" "$count" state_gallery
+# Multi-level states (pf.levels): the constructor, pulses, flights in the
+# shared frame, lv:evolve and Born events with levels.
+cat >"$work/levels_walk.lua" <<'LUA'
+local pf = require "psiflight"
+local g = pf.grid{points = 256, span = 100e-6}
+local psi = pf.gaussian(g, {mass = "87Rb", width = 5e-6})
+local lv = pf.levels{labels = {"a", "b"}, waves = {a = psi}, frame = true}
+lv:pulse{from = "a", to = "b", area = math.pi / 2, duration = 1e-6, wavenumber = 20 * g:kspacing()}
+lv:fly(1e-4, {acceleration = {a = -9.8, b = -9.7}})
+lv:evolve(2e-5, {potential = {b = function(x) return 1e-32 * x * x / 1e-12 end}, dt = 1e-5})
+local ev = lv:sample(100, {seed = 1})
+local f <close> = pf.h5file("levels.h5")
+f:put_density("a", lv:level("a"))
+print(string.format("allocations=%d", pf.run_info().engine_allocations))
+LUA
+expect 0 "levels walk runs without injection" -- "$runner" run "$work/levels_walk.lua" --planning estimate --out "$work/lw0"
+count=$(printf '%s\n' "$out" | sed -n 's/^allocations=//p')
+[ "$count" -ge 15 ] || fail "the levels walk made only '$count' engine allocations"
+walk "$work/levels_walk.lua" "$count" levels_walk
 expect 2 "a malformed PSIFLIGHT_FAIL_ALLOC is refused" -- env PSIFLIGHT_FAIL_ALLOC=3x "$runner" run "$work/walk.lua"
 has "PSIFLIGHT_FAIL_ALLOC must be a positive integer" "the message names the variable"
 done_checks
