@@ -492,10 +492,7 @@ void pf_dist_reduce(pf_grid *g, pf_rep layout, int width, pf_reduce_block_fn blo
     }
     double *part = g->reduce_part;
     MPI_Allgatherv(D->local_part, mine, MPI_DOUBLE, part, D->counts, D->displs, MPI_DOUBLE, MPI_COMM_WORLD);
-    const size_t nblocks = (size_t)at / (size_t)width;
-    for (int c = 0; c < width; c++) sums[c] = 0;
-    for (size_t b = 0; b < nblocks; b++)
-        for (int c = 0; c < width; c++) sums[c] += part[b * (size_t)width + (size_t)c];
+    pf_reduce_sum_parts(part, (size_t)at / (size_t)width, width, sums);
 }
 
 typedef struct moments_job {
@@ -820,25 +817,7 @@ pf_status pf_wave_gather_density(pf_wave *w, pf_rep rep, double *out)
         if (all) pf_context_free(g->ctx, all);
         return s;
     }
-    /* The formulas of pf_wave_density, so the values are its bits. */
-    if (rep == PF_POSITION) {
-        for (size_t i = 0; i < g->total; i++) out[i] = creal(all[i]) * creal(all[i]) + cimag(all[i]) * cimag(all[i]);
-    } else {
-        double scale = 1.0;
-        for (int a = 0; a < g->dim; a++) scale *= g->span[a] * g->span[a] / PF_TWO_PI;
-        size_t n0 = g->n[0], n1 = g->n[1], n2 = g->n[2];
-        for (size_t i = 0; i < n0; i++) {
-            size_t ai = pf_grid_ascending_index(g, 0, i);
-            for (size_t j = 0; j < n1; j++) {
-                size_t aj = g->dim > 1 ? pf_grid_ascending_index(g, 1, j) : 0;
-                for (size_t k = 0; k < n2; k++) {
-                    size_t ak = g->dim > 2 ? pf_grid_ascending_index(g, 2, k) : 0;
-                    double complex z = all[(i * n1 + j) * n2 + k];
-                    out[(ai * n1 + aj) * n2 + ak] = scale * (creal(z) * creal(z) + cimag(z) * cimag(z));
-                }
-            }
-        }
-    }
+    pf_grid_density_of(g, rep, all, out); /* pf_wave_density's formulas, so its bits */
     pf_context_free(g->ctx, all);
     return PF_OK;
 }

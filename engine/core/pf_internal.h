@@ -318,6 +318,9 @@ pf_status pf_reduce_axis_moments(pf_grid *g, const double complex *z,
  * partials in block order into sums[0..width-1]. */
 typedef void (*pf_reduce_block_fn)(void *user, size_t begin, size_t end, const size_t *idx, double *acc);
 void pf_reduce_blocks(pf_grid *g, int width, pf_reduce_block_fn block, void *user, double *sums);
+void pf_reduce_sum_parts(const double *part, size_t nblocks, int width, double *sums);
+/* |psi|^2 of a whole field in pf_wave_density's layout (pf_wave.c). */
+void pf_grid_density_of(const pf_grid *g, pf_rep rep, const double complex *field, double *out);
 /* Advances a row-major multi-index by one (last axis fastest), with carry. */
 static inline void pf_index_next(const pf_grid *g, size_t *idx)
 {

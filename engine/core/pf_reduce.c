@@ -44,6 +44,13 @@ void pf_reduce_blocks(pf_grid *g, int width, pf_reduce_block_fn block, void *use
         block(user, begin, end, idx, acc);
         memcpy(part + (size_t)b * (size_t)width, acc, (size_t)width * sizeof(double));
     }
+    pf_reduce_sum_parts(part, nblocks, width, sums);
+}
+
+/* Adds the per-block partials in block order: the one summation order every
+ * reduction (threaded or distributed) ends with, so their bits agree. */
+void pf_reduce_sum_parts(const double *part, size_t nblocks, int width, double *sums)
+{
     for (int c = 0; c < width; c++) sums[c] = 0;
     for (size_t b = 0; b < nblocks; b++)
         for (int c = 0; c < width; c++) sums[c] += part[b * (size_t)width + (size_t)c];

@@ -229,18 +229,18 @@ pf_status pf_wave_set_value(pf_wave *w, pf_rep rep, const size_t *index, double 
     return PF_OK;
 }
 
-pf_status pf_wave_density(pf_wave *w, pf_rep rep, double *out)
+/* |psi|^2 of a whole field in representation rep, written in the ascending
+ * axis order of pf_wave_density (momentum densities scaled to |phi|^2).
+ * Shared by the single-process density and the gathered distributed one so
+ * both give the same bits. */
+void pf_grid_density_of(const pf_grid *g, pf_rep rep, const double complex *field, double *out)
 {
-    pf_grid *g = w->grid;
-    if (g->dist) return pf_dist_refuse(g->ctx, "a density table of the whole grid");
-    pf_status s = pf_wave_to(w, rep);
-    if (s) return s;
     if (rep == PF_POSITION) {
         for (size_t i = 0; i < g->total; i++) {
-            double complex z = w->store[i];
+            double complex z = field[i];
             out[i] = creal(z) * creal(z) + cimag(z) * cimag(z);
         }
-        return PF_OK;
+        return;
     }
     double scale = 1.0; /* |phi|^2 / |S|^2 = prod span^2 / 2 pi */
     for (int a = 0; a < g->dim; a++) scale *= g->span[a] * g->span[a] / PF_TWO_PI;
@@ -251,11 +251,20 @@ pf_status pf_wave_density(pf_wave *w, pf_rep rep, double *out)
             size_t aj = g->dim > 1 ? pf_grid_ascending_index(g, 1, j) : 0;
             for (size_t k = 0; k < n2; k++) {
                 size_t ak = g->dim > 2 ? pf_grid_ascending_index(g, 2, k) : 0;
-                double complex z = w->store[(i * n1 + j) * n2 + k];
+                double complex z = field[(i * n1 + j) * n2 + k];
                 out[(ai * n1 + aj) * n2 + ak] = scale * (creal(z) * creal(z) + cimag(z) * cimag(z));
             }
         }
     }
+}
+
+pf_status pf_wave_density(pf_wave *w, pf_rep rep, double *out)
+{
+    pf_grid *g = w->grid;
+    if (g->dist) return pf_dist_refuse(g->ctx, "a density table of the whole grid");
+    pf_status s = pf_wave_to(w, rep);
+    if (s) return s;
+    pf_grid_density_of(g, rep, w->store, out);
     return PF_OK;
 }
 

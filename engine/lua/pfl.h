@@ -155,6 +155,8 @@ const char *pfl_describe(lua_State *L, int idx, char *buf, size_t size);
 double pfl_field_mass(lua_State *L, int t, const char *fname);
 
 /* ---- complex numbers (pfl_complex.c) ---- */
+/* Pushes a NULL-terminated list of names as a Lua sequence. */
+void pfl_push_string_list(lua_State *L, const char *const *list);
 void pfl_push_complex(lua_State *L, double complex z);
 /* A number or complex userdata at idx; returns 0 when it is neither. */
 int pfl_to_complex(lua_State *L, int idx, double complex *z);

@@ -232,3 +232,12 @@ void pfl_add_functions(lua_State *L, int mod, const luaL_Reg *funcs)
         lua_setfield(L, mod, funcs->name);
     }
 }
+
+void pfl_push_string_list(lua_State *L, const char *const *list)
+{
+    lua_newtable(L);
+    for (int i = 0; list[i]; i++) {
+        lua_pushstring(L, list[i]);
+        lua_rawseti(L, -2, i + 1);
+    }
+}

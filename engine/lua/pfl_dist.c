@@ -120,11 +120,7 @@ static int l_mpi_info(lua_State *L)
 /* pf._dist_aware() -> the DIST_AWARE list (for the tests). */
 static int l_dist_aware(lua_State *L)
 {
-    lua_newtable(L);
-    for (int i = 0; DIST_AWARE[i]; i++) {
-        lua_pushstring(L, DIST_AWARE[i]);
-        lua_rawseti(L, -2, i + 1);
-    }
+    pfl_push_string_list(L, DIST_AWARE);
     return 1;
 }
 

@@ -372,11 +372,7 @@ static int l_k_axis(lua_State *L) { return push_lab_axis(L, 1); }
 /* pf._frame_aware() -> the FRAME_AWARE list (for the tests). */
 static int l_frame_aware(lua_State *L)
 {
-    lua_newtable(L);
-    for (int i = 0; FRAME_AWARE[i]; i++) {
-        lua_pushstring(L, FRAME_AWARE[i]);
-        lua_rawseti(L, -2, i + 1);
-    }
+    pfl_push_string_list(L, FRAME_AWARE);
     return 1;
 }
 

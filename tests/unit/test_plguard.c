@@ -63,7 +63,7 @@ static pf_status one_picture(pf_context *ctx, const char *path)
 {
     double x[3] = {0, 1e-6, 2e-6}, y[3] = {0, 1, 0};
     pf_series s = {x, y, 3, "profile", 0, 0};
-    pf_lines p = {"guard", {"x", PF_Q_LENGTH}, "density", "", 0, 0, 1, 1, &s, 0, 0};
+    pf_lines p = {"guard", {"x", PF_Q_LENGTH}, "density", "", 0, 0, 1, 1, &s, 0, 0, 0, 0};
     return pf_picture_lines(ctx, path, 0, &p);
 }
 
