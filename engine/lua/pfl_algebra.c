@@ -51,7 +51,14 @@ static int l_mul_op(lua_State *L)
  * else to the original metamethod (upvalue 1). */
 static int l_complex_mul(lua_State *L)
 {
-    if (luaL_testudata(L, 1, PFL_WAVE_TYPE) || luaL_testudata(L, 2, PFL_WAVE_TYPE)) return l_mul_op(L);
+    if (luaL_testudata(L, 1, PFL_WAVE_TYPE) || luaL_testudata(L, 2, PFL_WAVE_TYPE)) {
+        /* Called through Lua, not in C, so l_mul_op is the running function
+         * the frame guard finds by name ("wave:__mul"). */
+        lua_pushcfunction(L, l_mul_op);
+        lua_insert(L, 1);
+        lua_call(L, lua_gettop(L) - 1, 1);
+        return 1;
+    }
     lua_pushvalue(L, lua_upvalueindex(1));
     lua_insert(L, 1);
     lua_call(L, lua_gettop(L) - 1, 1);
@@ -105,6 +112,9 @@ void pfl_open_algebra(lua_State *L, int mod)
     luaL_getmetatable(L, PFL_WAVE_TYPE);
     luaL_setfuncs(L, meta, 0);
     lua_pop(L, 1);
+    /* The operators combine lab wave functions (pf_wave_lab_axpy; scaling
+     * commutes with the frame), so they are named for the FRAME_AWARE list. */
+    pfl_frame_name_functions(L, "wave:", meta);
     if (luaL_getmetatable(L, PFL_COMPLEX_TYPE) == LUA_TTABLE) {
         lua_getfield(L, -1, "__mul");
         lua_pushcclosure(L, l_complex_mul, 1);
