@@ -330,21 +330,10 @@ pf_status pf_pulse_two_level(pf_wave *a, pf_wave *b, const pf_pulse_shape *shape
         double h11 = kinetic_rate(g, ia, hm) + light->shift_a;
         double h22 = kinetic_rate(g, ib, hm) + light->shift_b - delta;
         double mean = 0.5 * (h11 + h22), half = 0.5 * (h11 - h22);
-        /* The SU(2) part, accumulated over the stages: [[u, v], [-v*, u*]]
-         * with v the (1,2) element before the level-frame factors. */
-        double complex u = 1.0, v = 0.0;
-        for (int j = 0; j < plan.stages; j++) {
-            double om = 0.5 * plan.rabi[j];
-            double gen = sqrt(half * half + om * om); /* half the generalised Rabi frequency */
-            double th = gen * plan.len[j];
-            double c = cos(th), sn = gen > 0 ? sin(th) / gen : plan.len[j];
-            double complex su = c - I * half * sn; /* stage matrix [[su, sv], [-sv*, su*]] */
-            double complex sv = -I * om * sn;
-            double complex nu = su * u - sv * conj(v);
-            double complex nv = su * v + sv * conj(u);
-            u = nu;
-            v = nv;
-        }
+        /* The SU(2) part [[u, v], [-v*, u*]], v the (1,2) element before the
+         * level-frame factors. */
+        double complex u, v;
+        pair_rotation(&plan, half, &u, &v);
         double complex common = cexp(-I * mean * tau);
         double complex xa = sa[p], xb = sb[q];
         sa[p] = common * (u * xa + v * f12 * xb);
