@@ -126,6 +126,21 @@ void pf_dist_kinetic(pf_grid *g, double complex *data, double complex *const *ta
 {
     (void)g, (void)data, (void)tables, (void)scale;
 }
+void pf_dist_backward(pf_grid *g, double complex *data) { (void)g, (void)data; }
+pf_status pf_dist_momentum_unscaled(pf_wave *w, double *scale)
+{
+    *scale = 1.0;
+    return pf_dist_refuse(w->grid->ctx, "a distributed transform");
+}
+void pf_dist_momentum_multiply(pf_grid *g, double complex *data, const double complex *const *tables, double scale)
+{
+    (void)g, (void)data, (void)tables, (void)scale;
+}
+pf_status pf_dist_shared_density(pf_wave *w, pf_rep rep, double *out)
+{
+    (void)rep, (void)out;
+    return pf_dist_refuse(w->grid->ctx, "a distributed density");
+}
 void pf_grid_local_range(const pf_grid *g, size_t *begin, size_t *end)
 {
     *begin = 0;
@@ -262,10 +277,9 @@ int pf_dist_any(const pf_grid *g, int flag)
     return flag;
 }
 
-void pf_dist_kinetic(pf_grid *g, double complex *data, double complex *const *tables, double scale)
+void pf_dist_momentum_multiply(pf_grid *g, double complex *data, const double complex *const *tables, double scale)
 {
     const struct pf_dist_grid *D = g->dist;
-    fftw_mpi_execute_dft(D->fwd, data, data);
     /* Transposed layout: axis 1 slowest, then axis 0, then axis 2 (3D). */
     const size_t n0 = g->n[0], row = g->dim == 3 ? g->n[2] : n0;
     const size_t rows = (size_t)D->n1loc * D->tplane / row;
@@ -274,12 +288,36 @@ void pf_dist_kinetic(pf_grid *g, double complex *data, double complex *const *ta
 #pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
     for (ptrdiff_t r = 0; r < nr; r++) {
         size_t j1 = (size_t)D->start1 + (g->dim == 3 ? (size_t)r / n0 : (size_t)r);
-        double complex q = scale * T1[j1];
-        if (g->dim == 3) q *= T0[(size_t)r % n0];
+        double complex q = T1 ? scale * T1[j1] : scale;
+        if (g->dim == 3 && T0) q *= T0[(size_t)r % n0];
         double complex *z = data + (size_t)r * row;
-        for (size_t k = 0; k < row; k++) z[k] *= q * Tr[k];
+        if (Tr)
+            for (size_t k = 0; k < row; k++) z[k] *= q * Tr[k];
+        else
+            for (size_t k = 0; k < row; k++) z[k] *= q;
     }
+}
+
+void pf_dist_kinetic(pf_grid *g, double complex *data, double complex *const *tables, double scale)
+{
+    const struct pf_dist_grid *D = g->dist;
+    fftw_mpi_execute_dft(D->fwd, data, data);
+    pf_dist_momentum_multiply(g, data, (const double complex *const *)tables, scale);
     fftw_mpi_execute_dft(D->bwd, data, data);
+}
+
+void pf_dist_backward(pf_grid *g, double complex *data) { fftw_mpi_execute_dft(g->dist->bwd, data, data); }
+
+pf_status pf_dist_momentum_unscaled(pf_wave *w, double *scale)
+{
+    *scale = 1.0;
+    if (w->rep == PF_MOMENTUM) return PF_OK;
+    /* The 1/N of the forward transform rides on the caller's pass, as
+     * pf_dist_fly does with its phase pass. */
+    fftw_mpi_execute_dft(w->grid->dist->fwd, w->store, w->store);
+    *scale = 1.0 / (double)w->grid->total;
+    w->rep = PF_MOMENTUM;
+    return PF_OK;
 }
 
 /* FFTW-MPI needs fftw_mpi_init once per process, after the threads layer
@@ -819,6 +857,22 @@ pf_status pf_wave_gather_density(pf_wave *w, pf_rep rep, double *out)
     }
     pf_grid_density_of(g, rep, all, out); /* pf_wave_density's formulas, so its bits */
     pf_context_free(g->ctx, all);
+    return PF_OK;
+}
+
+/* MPI counts are ints: broadcast in pieces of at most 2^27 doubles. */
+#define BCAST_PIECE ((size_t)1 << 27)
+
+pf_status pf_dist_shared_density(pf_wave *w, pf_rep rep, double *out)
+{
+    pf_grid *g = w->grid;
+    /* Fails on every rank together (pf_wave_gather), so none waits below. */
+    pf_status s = pf_wave_gather_density(w, rep, out);
+    if (s) return s;
+    for (size_t at = 0; at < g->total; at += BCAST_PIECE) {
+        size_t n = g->total - at < BCAST_PIECE ? g->total - at : BCAST_PIECE;
+        MPI_Bcast(out + at, (int)n, MPI_DOUBLE, 0, MPI_COMM_WORLD);
+    }
     return PF_OK;
 }
 

@@ -12,6 +12,7 @@
 #include <string.h>
 #include "pf_constants.h"
 #include "pf_edges.h"
+#include "pf_dist.h"
 #include "pf_internal.h"
 
 pf_status pf_edges_check(pf_grid *g, const pf_edges *e)
@@ -168,9 +169,15 @@ pf_status pf_edges_disk_field(pf_grid *g, int axis_a, int axis_b, double c_a, do
     int dims[2] = {(int)na, (int)nb};
     s = inverse_transform(g, 2, dims, plane);
     if (!s) {
-        size_t idx[PF_MAX_DIM] = {0, 0, 0};
-        for (size_t off = 0; off < g->total; off++) {
-            field[off] = creal(plane[idx[lo] * nb + idx[hi]]);
+        /* This rank's position samples (all of them on a grid held whole). */
+        size_t first, end, idx[PF_MAX_DIM] = {0, 0, 0};
+        pf_grid_local_range(g, &first, &end);
+        for (size_t rest = first, a = (size_t)g->dim; a-- > 0;) {
+            idx[a] = rest % g->n[a];
+            rest /= g->n[a];
+        }
+        for (size_t off = first; off < end; off++) {
+            field[off - first] = creal(plane[idx[lo] * nb + idx[hi]]);
             for (int a = g->dim - 1; a >= 0; a--) {
                 if (++idx[a] < g->n[a]) break;
                 idx[a] = 0;

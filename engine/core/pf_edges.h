@@ -47,7 +47,8 @@ pf_status pf_edges_comb_table(pf_grid *g, int axis, double start, double open, d
                               double last, const pf_edges *e, double complex *table);
 
 /* Transmission field of a disk of radius r centred at (c_a, c_b) in the
- * plane of axes a != b, for the whole grid (row-major, natural order),
+ * plane of axes a != b, for the whole grid (row-major, natural order; on a
+ * grid split over MPI ranks, this rank's position samples, pf_grid_local_range),
  * constant along a third axis.  Coefficients: 2 pi r^2 J1(kr) / (kr), the
  * disk's two-dimensional Fourier transform (standard result). */
 pf_status pf_edges_disk_field(pf_grid *g, int axis_a, int axis_b, double c_a, double c_b, double radius,

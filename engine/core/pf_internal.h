@@ -378,6 +378,18 @@ double pf_dist_field_mask(pf_grid *g, pf_rep rep, double complex *data, const do
 void pf_dist_minmax(const pf_grid *g, double *lo, double *hi);
 int pf_dist_any(const pf_grid *g, int flag);
 void pf_dist_kinetic(pf_grid *g, double complex *data, double complex *const *tables, double scale);
+/* Measurements and momentum operations on a split grid: the backward
+ * (TRANSPOSED_IN) transform of a transposed momentum slab, in place; a wave
+ * brought to the transposed momentum slab with the forward transform's 1/N
+ * still owed (*scale = 1/N; 1 when it was in momentum already), as
+ * to_momentum_unscaled does on one process; data *= scale T0[i] T1[j] T2[k]
+ * on the transposed slab (a NULL table counts as 1); and the density of the
+ * whole wave (pf_wave_density's bits) on every rank: gathered in global
+ * order onto rank 0 and broadcast. */
+void pf_dist_backward(pf_grid *g, double complex *data);
+pf_status pf_dist_momentum_unscaled(pf_wave *w, double *scale);
+void pf_dist_momentum_multiply(pf_grid *g, double complex *data, const double complex *const *tables, double scale);
+pf_status pf_dist_shared_density(pf_wave *w, pf_rep rep, double *out);
 /* The flight phase tables of g for tau (pf_flight.c). */
 void pf_flight_fill_tables(pf_grid *g, double tau);
 

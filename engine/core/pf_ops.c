@@ -8,6 +8,7 @@
 #include "pf_constants.h"
 #include "pf_dist.h"
 #include "pf_edges.h"
+#include "pf_internal.h"
 #include "pf_kernels.h"
 #include "pf_ops.h"
 
@@ -350,7 +351,11 @@ pf_status pf_wave_aperture_circle(pf_wave *w, int axis_a, int axis_b, const doub
     if (!isfinite(c0) || !isfinite(c1))
         return pf_fail(g->ctx, PF_EINVAL, "center must be finite (m), got (%g, %g)", c0, c1);
     if (edges && (s = pf_edges_check(g, edges))) return s;
-    size_t bytes = pf_bytes(g->total, sizeof(double complex));
+    /* The field of this rank's position samples (the whole grid unless it
+     * is split over MPI ranks). */
+    size_t first, end;
+    pf_grid_local_range(g, &first, &end);
+    size_t bytes = field_bytes(g, PF_POSITION);
     double complex *f = pf_alloc(g->ctx, bytes);
     if (!f) return pf_context_status(g->ctx);
     double r2 = radius * radius * (1.0 + 2 * EDGE_EPS);
@@ -359,18 +364,18 @@ pf_status pf_wave_aperture_circle(pf_wave *w, int axis_a, int axis_b, const doub
         pf_free(g->ctx, f, bytes);
         return s;
     }
-    for (size_t off = 0; !exact_edges(edges) && off < g->total; off++) {
+    for (size_t off = first; !exact_edges(edges) && off < end; off++) {
         size_t rest = off;
         for (int a = g->dim - 1; a >= 0; a--) {
             idx[a] = rest % g->n[a];
             rest /= g->n[a];
         }
         double u = g->x[axis_a][idx[axis_a]] - c0, v = g->x[axis_b][idx[axis_b]] - c1;
-        f[off] = u * u + v * v <= r2 ? 1.0 : 0.0;
+        f[off - first] = u * u + v * v <= r2 ? 1.0 : 0.0;
     }
     s = pf_wave_to(w, PF_POSITION);
     if (!s) {
-        double r = pf_kernel_probability(w, pf_kernel_field_mask(g, w->store, f, 1));
+        double r = pf_kernel_probability(w, pf_dist_field_mask(g, PF_POSITION, w->store, f, 1));
         if (r < 0) r = 0;
         pf_wave_log_step(w, "mask", "circle", 0.0, r, -1.0);
         if (removed) *removed = r;
@@ -442,8 +447,11 @@ pf_status pf_wave_shift(pf_wave *w, const double *d)
     if (s) return s;
     pf_kernel_kinetic_tables(g, 0.0, d, at.t);
     double norm = pf_wave_last_logged_norm(w), scale;
-    s = to_momentum_unscaled(w, &scale);
-    if (!s) {
+    s = g->dist ? pf_dist_momentum_unscaled(w, &scale) : to_momentum_unscaled(w, &scale);
+    if (!s && g->dist) { /* over MPI ranks: the transposed momentum slab */
+        pf_dist_momentum_multiply(g, w->store, (const double complex *const *)at.t, scale);
+        pf_wave_log_step(w, "shift", "momentum-exact", 0.0, 0.0, norm);
+    } else if (!s) {
         pf_kernel_axis_multiply(g, w->store, (const double complex *const *)at.t, scale);
         pf_wave_log_step(w, "shift", "momentum-exact", 0.0, 0.0, norm);
     }

@@ -101,13 +101,18 @@ pf_status pf_wave_energy(pf_wave *w, const double *potential, double g, double *
     if (!isfinite(g)) return pf_fail(gr->ctx, PF_EINVAL, "g must be finite, got %g", g);
     pf_status settled = pf_wave_settle(w);
     if (settled) return settled;
-    size_t bytes = pf_bytes(gr->total, sizeof(double complex));
+    /* Over MPI ranks: this rank's slab, with room for the transposed one. */
+    const size_t values = pf_dist_local_values(gr);
+    size_t bytes = pf_bytes(values, sizeof(double complex));
     double complex *pos = pf_alloc(gr->ctx, 2 * bytes);
     if (!pos) return pf_context_status(gr->ctx);
-    double complex *scratch = pos + gr->total;
+    double complex *scratch = pos + values;
     memcpy(pos, w->store, bytes);
     pf_status s = PF_OK;
-    if (w->rep == PF_MOMENTUM) s = pf_grid_fft(gr, pos, +1); /* S = DFT/N: backward gives psi */
+    if (w->rep == PF_MOMENTUM) { /* S = DFT/N: backward gives psi */
+        if (gr->dist) pf_dist_backward(gr, pos);
+        else s = pf_grid_fft(gr, pos, +1);
+    }
     double e = 0, m = 0;
     if (!s) s = energy_of(w, pos, potential, g, scratch, &e, &m);
     pf_free(gr->ctx, pos, 2 * bytes);

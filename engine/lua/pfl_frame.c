@@ -77,6 +77,7 @@ static const char *const FRAME_AWARE[] = {
     "wave:fringes",
     "wave:grating",
     "wave:grid",
+    "wave:grid_advice",
     "wave:guard",
     "wave:imprint",
     "wave:inner",

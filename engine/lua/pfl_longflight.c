@@ -254,34 +254,49 @@ static void push_proposal(lua_State *L, const pf_grid_proposal *p, int d)
     set_vector(L, "origin", p->origin, d);
 }
 
-/* Under an acceleration the proposals are co-moving grids (the frame carries
- * the drop, docs/frames.md); the 'frame' table says what the frame takes
- * over: the drop a t^2/2 and velocity a t per axis, and the single fixed lab
- * grid w:fall would need to hold both the cloud and the drop at the
- * same-grid proposal's spacing (span + |drop|).  On that grid the gained
- * wave number m |a| t / hbar wraps around wherever it passes the Nyquist
+/* Under an acceleration, or for a wave whose frame is moved, the proposals
+ * are co-moving grids (the frame carries the drop, docs/frames.md): their
+ * origins are grid coordinates, the grid's lab centre is origin + the frame
+ * offset.  The 'frame' table says what the frame takes over: the drop
+ * a t^2/2 and velocity a t per axis, the frame offset now ('position', X)
+ * and after the flight ('final_position', X + V t + a t^2/2) and the final
+ * wave-number offset ('final_wavenumber', K + m a t / hbar), and the single
+ * fixed lab grid w:fall would need to hold both the cloud and its lab
+ * travel at the same-grid proposal's spacing (span + |X(t) - X|).  On that
+ * grid the lab wave number wraps around wherever it passes the Nyquist
  * limit (positions stay exact; the momentum guard fires), which
- * 'lab_grid_wraps' says per axis. */
-static void push_frame_advice(lua_State *L, const pf_advice_request *q, const pf_advice *adv, const double *acc)
+ * 'lab_grid_wraps' says per axis.  fr is the wave's frame (NULL: unmoved). */
+static void push_frame_advice(lua_State *L, const pf_advice_request *q, const pf_advice *adv, const double *acc,
+                              const pf_frame *fr)
 {
     int d = q->dim;
     double drop[PF_MAX_DIM], vel[PF_MAX_DIM], span[PF_MAX_DIM], points[PF_MAX_DIM];
-    double total = 1;
-    lua_createtable(L, 0, 7);
+    double pos[PF_MAX_DIM], pos_end[PF_MAX_DIM], k_end[PF_MAX_DIM];
+    double total = 1, t = q->time;
+    lua_createtable(L, 0, 10);
     lua_createtable(L, d, 0); /* lab_grid_wraps */
     for (int a = 0; a < d; a++) {
-        drop[a] = 0.5 * acc[a] * q->time * q->time;
-        vel[a] = acc[a] * q->time;
+        double X = fr ? fr->position[a] : 0.0, K = fr ? fr->wavenumber[a] : 0.0;
+        drop[a] = 0.5 * acc[a] * t * t;
+        vel[a] = acc[a] * t;
+        pos[a] = X;
+        pos_end[a] = X + PF_HBAR * K / q->mass * t + drop[a];
+        k_end[a] = K + q->mass * vel[a] / PF_HBAR;
         double dx = adv->same.spacing[a];
-        span[a] = adv->same.span[a] + fabs(drop[a]);
+        span[a] = adv->same.span[a] + fabs(pos_end[a] - X);
         points[a] = ceil(span[a] / dx);
         total *= points[a];
-        lua_pushboolean(L, q->mass * fabs(vel[a]) / PF_HBAR + fmax(fabs(q->k_lo[a]), fabs(q->k_hi[a])) > PF_PI / dx);
+        /* the lab wave numbers run from K + k_lo..k_hi to K + m a t / hbar + k_lo..k_hi */
+        double kmax = fmax(fabs(K), fabs(k_end[a])) + fmax(fabs(q->k_lo[a]), fabs(q->k_hi[a]));
+        lua_pushboolean(L, kmax > PF_PI / dx);
         lua_rawseti(L, -2, a + 1);
     }
     lua_setfield(L, -2, "lab_grid_wraps");
     set_vector(L, "drop", drop, d);
     set_vector(L, "velocity", vel, d);
+    set_vector(L, "position", pos, d);
+    set_vector(L, "final_position", pos_end, d);
+    set_vector(L, "final_wavenumber", k_end, d);
     set_vector(L, "lab_grid_span", span, d);
     set_vector(L, "lab_grid_points", points, d);
     lua_pushnumber(L, total * 16.0); /* one complex double per point */
@@ -289,7 +304,8 @@ static void push_frame_advice(lua_State *L, const pf_advice_request *q, const pf
     lua_setfield(L, -2, "frame");
 }
 
-static int push_advice(lua_State *L, const pf_advice_request *q, const pf_advice *adv, const double *acc)
+static int push_advice(lua_State *L, const pf_advice_request *q, const pf_advice *adv, const double *acc,
+                       const pf_frame *fr)
 {
     int d = q->dim;
     lua_createtable(L, 0, 4);
@@ -315,7 +331,10 @@ static int push_advice(lua_State *L, const pf_advice_request *q, const pf_advice
     set_vector(L, "extent_hi", q->x_hi, d);
     set_vector(L, "wavenumber_lo", q->k_lo, d);
     set_vector(L, "wavenumber_hi", q->k_hi, d);
-    if (acc) push_frame_advice(L, q, adv, acc);
+    if (acc || fr) {
+        static const double none[PF_MAX_DIM] = {0, 0, 0};
+        push_frame_advice(L, q, adv, acc ? acc : none, fr);
+    }
     return 1;
 }
 
@@ -334,7 +353,10 @@ static void read_common(lua_State *L, int t, pf_advice_request *q, const char *f
     q->kick_k = ks;
 }
 
-/* w:grid_advice{time = s, kicks = {...}, margin = 1.2, image_points = 64} */
+/* w:grid_advice{time = s, kicks = {...}, margin = 1.2, image_points = 64}
+ * The extents are those of the grid state (pf_wave_extent works on the
+ * grid): for a wave in a moving frame they are the co-moving function chi's,
+ * so the proposals are co-moving grids whose lab centre is origin + X. */
 static int l_wave_grid_advice(lua_State *L)
 {
     pf_wave *w = pfl_check_wave(L, 1);
@@ -352,9 +374,11 @@ static int l_wave_grid_advice(lua_State *L)
                                 other == PF_POSITION ? q.x_hi : q.k_hi), "grid_advice");
     double acc[PF_MAX_DIM];
     int accelerated = pfl_frame_acceleration(L, 2, q.dim, acc, "wave:grid_advice");
+    pf_frame fr;
+    pf_wave_frame(w, &fr);
     pf_advice adv;
     pfl_check(L, pf_grid_advise(pfl_ctx(L), &q, &adv), "grid_advice");
-    return push_advice(L, &q, &adv, accelerated ? acc : NULL);
+    return push_advice(L, &q, &adv, accelerated ? acc : NULL, pf_wave_frame_moved(w) ? &fr : NULL);
 }
 
 /* z with P(|Z| > z) = eps for a standard normal Z: erfc(z / sqrt 2) = eps,
@@ -410,7 +434,7 @@ static int l_grid_advice(lua_State *L)
     int accelerated = pfl_frame_acceleration(L, 1, q.dim, acc, "pf.grid_advice");
     pf_advice adv;
     pfl_check(L, pf_grid_advise(pfl_ctx(L), &q, &adv), "grid_advice");
-    return push_advice(L, &q, &adv, accelerated ? acc : NULL);
+    return push_advice(L, &q, &adv, accelerated ? acc : NULL, NULL);
 }
 
 void pfl_open_longflight(lua_State *L, int mod)

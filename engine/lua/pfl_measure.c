@@ -118,6 +118,7 @@ typedef struct pfl_region_box {
     pf_region r;
     int has_fn;           /* mask from a function of the coordinates */
     pf_grid *cache_grid;  /* grid the cached mask was evaluated on (retained) */
+    double cache_offset[PF_MAX_DIM]; /* lab offset of that grid's points (frame position X) */
     size_t mask_n;        /* entries of a mask given as a table */
 } pfl_region_box;
 
@@ -227,8 +228,10 @@ static int l_mask(lua_State *L)
     return 1;
 }
 
-void pfl_check_region(lua_State *L, int arg, pf_grid *g, pf_region *out)
+void pfl_check_region(lua_State *L, int arg, pf_grid *g, const double *offset, pf_region *out)
 {
+    static const double none[PF_MAX_DIM] = {0, 0, 0};
+    if (!offset) offset = none;
     arg = lua_absindex(L, arg);
     pfl_region_box *b = luaL_checkudata(L, arg, PFL_REGION_TYPE);
     int d = pf_grid_dim(g);
@@ -247,7 +250,12 @@ void pfl_check_region(lua_State *L, int arg, pf_grid *g, pf_region *out)
         *out = b->r;
         return;
     }
-    if (b->cache_grid != g) {
+    /* The weights are sampled once per grid and lab offset: a function is
+     * called at the lab positions x = xi + X of the grid points, and the
+     * table is reused while the wave stays in that frame position. */
+    int same = b->cache_grid == g;
+    for (int a = 0; a < d; a++) same = same && b->cache_offset[a] == offset[a];
+    if (!same) {
         size_t n = pf_grid_total(g);
         double *v = lua_newuserdatauv(L, n * sizeof(double), 0);
         lua_getiuservalue(L, arg, 1);
@@ -255,7 +263,7 @@ void pfl_check_region(lua_State *L, int arg, pf_grid *g, pf_region *out)
         size_t idx[PF_MAX_DIM] = {0, 0, 0};
         for (size_t off = 0; off < n; off++) {
             lua_pushvalue(L, fn);
-            for (int a = 0; a < d; a++) lua_pushnumber(L, pf_grid_x(g, a, idx[a]));
+            for (int a = 0; a < d; a++) lua_pushnumber(L, pf_grid_x(g, a, idx[a]) + offset[a]);
             lua_call(L, d, 1);
             int ok = lua_type(L, -1) == LUA_TNUMBER;
             v[off] = lua_tonumber(L, -1);
@@ -273,6 +281,7 @@ void pfl_check_region(lua_State *L, int arg, pf_grid *g, pf_region *out)
         if (b->cache_grid) pf_grid_release(b->cache_grid);
         pf_grid_retain(g);
         b->cache_grid = g;
+        for (int a = 0; a < PF_MAX_DIM; a++) b->cache_offset[a] = a < d ? offset[a] : 0.0;
         b->r.mask = v;
     }
     *out = b->r;
@@ -297,23 +306,18 @@ static int region_tostring(lua_State *L)
 /* ---- observables ---- */
 
 /* The region at arg in the co-moving grid's coordinates of the source's
- * shared frame (pf_frame.h): lab corners, points and centres move by -X.  A
- * mask given as a function of the coordinates is sampled on the bare grid
- * (and cached there), so it is refused for a moved frame; a table of
- * weights holds one weight per grid point wherever the grid sits. */
+ * shared frame (pf_frame.h): lab corners, points and centres move by -X; a
+ * mask given as a function of the coordinates is sampled at the lab
+ * positions of the grid points (xi + X); a table of weights holds one
+ * weight per grid point wherever the grid sits. */
 static void source_region(lua_State *L, int arg, const pfl_source *src, pf_region *r, const char *name)
 {
     pf_frame fr;
     pfl_source_frame(L, src, &fr, name);
-    pfl_check_region(L, arg, pfl_source_grid(src), r);
+    pfl_check_region(L, arg, pfl_source_grid(src), fr.position, r);
     int d = pf_grid_dim(pfl_source_grid(src)), moved = 0;
     for (int a = 0; a < d; a++) moved = moved || fr.position[a] != 0.0;
     if (!moved) return;
-    const pfl_region_box *b = luaL_checkudata(L, arg, PFL_REGION_TYPE);
-    if (r->kind == PF_REGION_MASK && b->has_fn)
-        luaL_error(L, "%s: a mask region given as a function is sampled on the bare grid; for a wave in a moving "
-                      "frame use a box, half-space or ball region (lab coordinates), or a table of weights",
-                   name);
     for (int a = 0; a < d; a++) {
         r->lo[a] -= fr.position[a]; /* an open side (+-inf) stays open */
         r->hi[a] -= fr.position[a];

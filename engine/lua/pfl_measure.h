@@ -39,9 +39,11 @@ pf_rng *pfl_rng(lua_State *L);
  * seed, written into *local), else the state's generator. */
 pf_rng *pfl_opt_rng(lua_State *L, int opts, pf_rng *local);
 
-/* A region userdata at arg, resolved for grid g (mask functions are
- * evaluated once per grid and cached). */
-void pfl_check_region(lua_State *L, int arg, pf_grid *g, pf_region *out);
+/* A region userdata at arg, resolved for grid g whose points sit at lab
+ * positions xi + offset (offset NULL: the grid's own coordinates).  Mask
+ * functions are evaluated at those lab positions once per grid and offset
+ * and cached. */
+void pfl_check_region(lua_State *L, int arg, pf_grid *g, const double *offset, pf_region *out);
 
 /* Pushes a distribution table for field f (see docs/measurements.md):
  * values, shape, axes, axis_unit, unit, space, momentum_axes (momentum

@@ -466,8 +466,9 @@ do
   check.near(p, 0.5 * (1 - erf(h / (s * math.sqrt(2)))), 1e-3, "measure_region beyond a lab plane",
     "Gaussian integral, erf series (common practice)")
   check.equal(hit, true, "forced outcome")
-  check.fails(function() return w:probability_in(pf.mask(function(x) return 1 end)) end,
-    "a mask region from a function is refused for a moved wave", here, "sampled on the bare grid")
+  local indicator = pf.mask(function(x) return (x >= xbar - h and x <= xbar + h) and 1 or 0 end)
+  check.near(w:probability_in(indicator), erf(h / (s * math.sqrt(2))), 1e-3,
+    "a mask function of lab positions (the box's indicator)", "Gaussian integral, erf series (common practice)")
 end
 
 -- 14. A position measurement of a falling cloud with a Gaussian resolution

@@ -57,6 +57,6 @@ for a = 1, 3 do
   line("law width" .. a, got[a], s[a] * math.sqrt(1 + (hbar * t / (2 * mass * s[a] ^ 2)) ^ 2))
 end
 -- A function that does not handle distributed waves refuses clearly.
-local ok, err = pcall(function() return w:density() end)
+local ok, err = pcall(function() return w:psi(1, 1, 1) end)
 print("refusal " .. (ok and "none" or (info.distribute and tostring(err):match("does not handle a wave function distributed") and "named" or tostring(err))))
 w:close()

@@ -1,0 +1,112 @@
+-- probe_measure.lua - measurements of a 2D wave split over MPI ranks, for
+-- tests/runner/test_distributed_measure.sh (run as one process and under
+-- mpirun with pf.setup{distribute = true}).  Tags as in probe_masks.lua:
+-- "exact" the same bits everywhere, "flown" the same bits at every rank
+-- count and within 1e-14 of one process, "law" a figure and its closed form.
+-- Invented scene: a 23Na cloud in a tilted elliptical trap (a correlated
+-- Gaussian), a second cloud with fringes under a Gaussian envelope, both
+-- imaged by a small camera; 18 x 16 points (4 ranks: 5, 5, 5, 3 planes).
+local pf = require "psiflight"
+pf.setup{distribute = true, planning = "estimate", guard_threshold = math.huge}
+local hbar = pf.constants.hbar
+local mass = pf.mass("23Na")
+local g = pf.grid{points = {18, 16}, span = {24e-6, 22e-6}}
+local function line(tag, ...)
+  local parts = {}
+  for i, v in ipairs({...}) do parts[i] = string.format("%.17g", v) end
+  print(tag .. " " .. table.concat(parts, " "))
+end
+local function list(tag, t, from, to)
+  local parts = {}
+  for i = from or 1, to or #t do parts[#parts + 1] = string.format("%.17g", t[i]) end
+  print(tag .. " " .. table.concat(parts, " "))
+end
+local info = pf.mpi_info()
+print(string.format("ranks %d distribute %s", info.ranks, tostring(info.distribute)))
+
+-- A correlated Gaussian: |psi|^2 ~ exp(-r^T S^-1 r / 2) with covariance
+-- S = {{a^2, rho a b}, {rho a b, b^2}} (bivariate normal distribution).
+local a, b, rho = 1.8e-6, 1.5e-6, 0.45
+local det = a * a * b * b * (1 - rho * rho)
+local i11, i22, i12 = b * b / det, a * a / det, -rho * a * b / det
+local w = pf.wave(g, {mass = mass, normalize = true, position = function(x, y)
+  return math.exp(-(i11 * x * x + 2 * i12 * x * y + i22 * y * y) / 4)
+end})
+
+-- Density tables: every value, gathered in global order.
+list("exact density", w:density())
+local d = w:distribution()
+list("exact distribution", d.values)
+list("exact profile", w:profile(1).values)
+list("exact marginal", w:marginal{axes = {2}}.values)
+list("exact column", w:column_density(2).values)
+list("exact slice", w:slice{axes = {1}, through = {0, 0.7e-6}}.values)
+local rp = w:radial_profile{bin = 1.1e-6, bins = 6}
+list("exact radial", rp.values)
+local C = w:position_covariance()
+line("exact covariance", C[1][1], C[1][2], C[2][1], C[2][2])
+line("law cov11", C[1][1], a * a)
+line("law cov12", C[1][2], rho * a * b)
+line("law cov22", C[2][2], b * b)
+
+-- Born-rule samples from one seed: the same events at any rank count.
+local ev = w:sample(40, {seed = 11})
+list("exact sample1", ev[1])
+list("exact sample2", ev[2])
+
+-- Camera: a line camera along axis 1 (integrating axis 2) and a 2D camera,
+-- expected counts, Poisson counts from a seed, absorption.
+local cam1 = pf.camera{pixels = {6}, pitch = 3e-6, psf = 1e-6, imaging_axis = 2}
+local shot1 = cam1:expose(w, {atoms = 5e3, seed = 5})
+list("exact line_expected", shot1.expected)
+list("exact line_counts", shot1.counts)
+local cam2 = pf.camera{pixels = {5, 4}, pitch = {3.5e-6, 4e-6}, psf = {0.8e-6, 1.2e-6}, efficiency = 0.7}
+local shot2 = cam2:expose(w, {atoms = 2e4, seed = 6})
+list("exact cam_expected", shot2.expected)
+list("exact cam_counts", shot2.counts)
+local img = cam2:absorb(w, {atoms = 2e4, cross_section = pf.resonant_cross_section(589e-9), noise = true, seed = 7})
+list("exact absorb_od", img.od)
+line("exact absorb_atoms", img.atoms_recovered)
+
+-- After a transform: momentum tables, samples and figures (MPI plans
+-- round differently from the serial ones).
+local evk = w:sample(20, {seed = 12, jitter = false, space = "momentum"})
+list("flown ksample1", evk[1])
+list("flown kdensity", w:momentum_density())
+local K = w:momentum_covariance()
+line("flown kcovariance", K[1][1], K[1][2], K[2][2])
+w:close()
+
+-- Energy of an uncorrelated Gaussian in a harmonic trap with a mean field
+-- g: per axis hbar^2 / (8 m s^2) + m w^2 s^2 / 2, plus g/2 integral |psi|^4
+-- = g/2 prod 1 / (2 sqrt(pi) s) (Gaussian integrals, textbook).
+local s1, s2 = 1.6e-6, 1.4e-6
+local w1, w2 = 2 * math.pi * 140, 2 * math.pi * 190
+local trap = function(x, y) return 0.5 * mass * (w1 ^ 2 * x * x + w2 ^ 2 * y * y) end
+local gc = 3e-45
+local u = pf.wave(g, {mass = mass, normalize = true, position = function(x, y)
+  return math.exp(-x * x / (4 * s1 ^ 2) - y * y / (4 * s2 ^ 2))
+end})
+local E, mu = u:energy{potential = trap, g = gc}
+line("flown energy", E, mu)
+local quartic = 1 / (4 * math.pi * s1 * s2)
+local lin = hbar ^ 2 / (8 * mass) * (1 / s1 ^ 2 + 1 / s2 ^ 2) + 0.5 * mass * (w1 ^ 2 * s1 ^ 2 + w2 ^ 2 * s2 ^ 2)
+line("law energy", E, lin + 0.5 * gc * quartic)
+line("law chemical", mu, lin + gc * quartic)
+u:fly(2e-4)
+line("flown energy_after", u:energy{potential = trap, g = gc})
+u:close()
+
+-- Fringes along the split axis under a Gaussian envelope:
+-- |psi|^2 ~ exp(-x^2 / 2 W^2) (1 + V cos(q x + f)) exp(-y^2 / 2 s^2)
+-- (two-beam interference, textbook); the fit recovers q, V and f.
+local W, V, period, phase = 4.5e-6, 0.62, 2.7e-6, 0.8
+local q = 2 * math.pi / period
+local f = pf.wave(g, {mass = mass, normalize = true, position = function(x, y)
+  return math.sqrt(math.exp(-x * x / (2 * W * W) - y * y / (2 * (2e-6) ^ 2)) * (1 + V * math.cos(q * x + phase)))
+end})
+local fit = f:fringes{axis = 1, period = period, envelope = "gaussian"}
+line("exact fringes", fit.period, fit.visibility, fit.phase, fit.envelope_width, fit.envelope_center)
+line("law fperiod", fit.period, period)
+line("law fvisibility", fit.visibility, V)
+f:close()

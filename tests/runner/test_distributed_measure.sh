@@ -1,0 +1,129 @@
+#!/usr/bin/env bash
+# test_distributed_measure.sh - measurements and masks on one grid split
+# over MPI ranks (pf.setup{distribute = true}, docs/distributed.md): the
+# probes in tests/runner/distm/ run as one process and under mpirun -n 1,
+# 2, 3 and 4 (oversubscribed; 18 planes do not divide among 4 ranks).
+# Reference: the single-process engine (its masks, densities, samples,
+# cameras, fits and energies are checked against outside references in
+# tests/unit, tests/lua and tests/ref), plus closed forms named in the
+# probes.  Lines tagged "exact" (no transform touched the data) must be the
+# same bits as one process at every rank count; "flown" lines the same bits
+# at every rank count and within 1e-14 of one process (FFTW's serial and MPI
+# plans round differently).  Skipped with a note when the runner has no
+# FFTW-MPI or mpirun is missing.
+source "$(dirname "$0")/lib.sh"
+set -e
+built=$(printf 'local pf = require "psiflight"; print(pf.mpi_info().built)\n' >"$work/built.lua"; "$runner" run "$work/built.lua")
+if [ "$built" != "true" ] || ! command -v mpirun >/dev/null; then
+  echo "note: runner built without FFTW-MPI (or no mpirun): distributed measurements not tested (make deps-mpi)"
+  done_checks
+  exit 0
+fi
+export OMPI_ALLOW_RUN_AS_ROOT=1 OMPI_ALLOW_RUN_AS_ROOT_CONFIRM=1 OMPI_MCA_mpi_warn_on_fork=0
+# Open MPI's own allocations at exit are not psiflight's leaks.
+export ASAN_OPTIONS="${ASAN_OPTIONS:+$ASAN_OPTIONS:}detect_leaks=0"
+cd "$work"
+
+# compare.py A B TAGS TOL: lines of A and B whose first word is in TAGS
+# agree within TOL relative to the line's largest value (0: the same text).
+cat >"$work/compare.py" <<'PY'
+import sys
+a, b, tags, tol = sys.argv[1], sys.argv[2], sys.argv[3].split(','), float(sys.argv[4])
+def lines(p):
+    return [l.split() for l in open(p) if l.split() and l.split()[0] in tags]
+la, lb = lines(a), lines(b)
+assert len(la) == len(lb) and la, "no lines to compare"
+worst = 0.0
+for x, y in zip(la, lb):
+    assert x[:2] == y[:2] and len(x) == len(y), (x[:2], y[:2])
+    if tol == 0:
+        assert x == y, ("differ", x[:2])
+        continue
+    u, v = [float(t) for t in x[2:]], [float(t) for t in y[2:]]
+    # A line holds one quantity (a table, a matrix, one figure per axis):
+    # judged on the scale of its largest value.
+    scale = max(abs(t) for t in u + v) or 1.0
+    for p, q in zip(u, v):
+        worst = max(worst, abs(p - q) / scale)
+assert worst <= tol, ("worst relative difference", worst, "over", tol)
+print("%.2g" % worst)
+PY
+# law.py FILE TOL NAME...: "law NAME got expected" lines within TOL relative.
+cat >"$work/law.py" <<'PY'
+import sys
+path, tol, names = sys.argv[1], float(sys.argv[2]), sys.argv[3:]
+got = {l.split()[1]: [float(t) for t in l.split()[2:]] for l in open(path) if l.startswith("law ")}
+worst = 0.0
+for n in names:
+    v, e = got[n][0], got[n][1]
+    worst = max(worst, abs(v - e) / abs(e))
+assert worst <= tol, ("worst", worst, "over", tol)
+print("%.2g" % worst)
+PY
+
+# run NAME PROBE: one process, then mpirun -n 1..4; the outputs land in
+# NAME.plain.txt and NAME.N.txt.
+run_probe() {
+  local name=$1 probe=$2
+  expect 0 "$name: one process" -- "$runner" run "$probe"
+  printf '%s\n' "$out" >"$work/$name.plain.txt"
+  has "distribute false" "$name: one process: nothing distributed without mpirun"
+  for n in 1 2 3 4; do
+    expect 0 "$name: mpirun -n $n" -- timeout 120 mpirun -n "$n" --oversubscribe "$runner" run "$probe"
+    printf '%s\n' "$out" >"$work/$name.$n.txt"
+    has "ranks $n distribute true" "$name: mpirun -n $n: distributed over $n ranks"
+    [ "$(grep -c '^ranks' "$work/$name.$n.txt")" -eq 1 ] && ok "$name -n $n: only rank 0 prints" ||
+      fail "$name -n $n: only rank 0 prints"
+  done
+}
+
+# compare_probe NAME WHAT: the exact and flown lines of every rank count.
+compare_probe() {
+  local name=$1 what=$2 worst
+  for n in 1 2 3 4; do
+    /usr/bin/python3 "$work/compare.py" "$work/$name.plain.txt" "$work/$name.$n.txt" exact 0 >/dev/null &&
+      ok "$name -n $n: $what on untransformed data bit-identical to one process" ||
+      fail "$name -n $n: $what on untransformed data differ from one process"
+    if grep -q '^flown' "$work/$name.plain.txt"; then
+      /usr/bin/python3 "$work/compare.py" "$work/$name.1.txt" "$work/$name.$n.txt" flown 0 >/dev/null &&
+        ok "$name -n $n: figures after transforms bit-identical to -n 1" ||
+        fail "$name -n $n: figures after transforms differ from -n 1"
+      worst=$(/usr/bin/python3 "$work/compare.py" "$work/$name.plain.txt" "$work/$name.$n.txt" flown 1e-14) &&
+        ok "$name -n $n: figures after transforms within 1e-14 of one process (worst $worst)" ||
+        fail "$name -n $n: figures after transforms differ from one process by more than 1e-14"
+    fi
+  done
+}
+
+# Masks (probe_masks.lua): slits, mask gratings, rectangular and circular
+# apertures, cell-switched and exact (sub-cell, soft) edges, along the split
+# axis and across it; the exact shift.
+masks="$root/tests/runner/distm/probe_masks.lua"
+run_probe masks "$masks"
+compare_probe masks "slits, mask gratings and apertures"
+has "refusal named" "masks -n 4: a function without a distributed path still refuses by name"
+# Translation moves the centre by d exactly (common practice); 1e-6 leaves
+# room for the Gaussian tails the periodic grid wraps (about 6 sigma away).
+worst=$(/usr/bin/python3 "$work/law.py" "$work/masks.4.txt" 1e-6 shift1 shift2) &&
+  ok "masks -n 4: w:shift moves the centre by the distance given ($worst)" || fail "masks -n 4: shift law missed"
+
+# Measurements (probe_measure.lua): density tables, distributions and
+# marginals, covariances, seeded samples, cameras, energies, fringe fits.
+measure="$root/tests/runner/distm/probe_measure.lua"
+run_probe measure "$measure"
+compare_probe measure "density tables, covariances, samples, cameras and fringe fits"
+# Bivariate normal covariance (textbook): the grid's sums of a resolved
+# Gaussian converge fast; 1e-7 is the sampling of this 18 x 16 grid.
+worst=$(/usr/bin/python3 "$work/law.py" "$work/measure.3.txt" 1e-7 cov11 cov12 cov22) &&
+  ok "measure -n 3: position covariance is the bivariate normal's ($worst)" || fail "measure -n 3: covariance law missed"
+# Gaussian energies in a harmonic trap with a mean field (textbook Gaussian
+# integrals); 1e-6 covers the grid's resolution of the kinetic term.
+worst=$(/usr/bin/python3 "$work/law.py" "$work/measure.4.txt" 1e-6 energy chemical) &&
+  ok "measure -n 4: w:energy and the chemical potential follow the Gaussian closed forms ($worst)" ||
+  fail "measure -n 4: energy law missed"
+# Two-beam fringes under a Gaussian envelope (textbook): the fit recovers
+# the period and visibility the wave was built with.
+worst=$(/usr/bin/python3 "$work/law.py" "$work/measure.2.txt" 1e-9 fperiod fvisibility) &&
+  ok "measure -n 2: fringes recover the period and visibility built in ($worst)" || fail "measure -n 2: fringe law missed"
+
+done_checks
