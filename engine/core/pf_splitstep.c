@@ -47,8 +47,8 @@ typedef struct evolve_ws {
     scheme sc;
     double h;                       /* step (s) */
     double complex **kin[2];        /* kinetic tables for c = w1 (or 1) and w0 (g->evolve_kin) */
-    double complex *e1, *e2;        /* static exponentials exp(-i V h c1/2 / hbar), exp(-i V h c0/2 / hbar) */
-    int borrowed;                   /* e1, e2 belong to spec->cache */
+    double complex *e[3];           /* static factors by kind of sub-step (pf_evolve_cache.e) */
+    int borrowed;                   /* e[] belong to spec->cache */
     double *vbuf;                   /* V(x, t) samples */
     double vbuf_time;               /* time of the samples in vbuf */
     int vbuf_valid;                 /* vbuf holds V at vbuf_time (the start probe) */
@@ -59,8 +59,8 @@ static void ws_free(evolve_ws *ws)
 {
     pf_context *ctx = ws->g->ctx;
     /* kin[][] belong to the grid (g->evolve_kin). */
-    if (ws->e1 && !ws->borrowed) pf_free(ctx, ws->e1, ws->bytes_c);
-    if (ws->e2 && !ws->borrowed) pf_free(ctx, ws->e2, ws->bytes_c);
+    for (int k = 0; k < 3; k++)
+        if (ws->e[k] && !ws->borrowed) pf_free(ctx, ws->e[k], ws->bytes_c);
     if (ws->vbuf) pf_free(ctx, ws->vbuf, ws->bytes_r);
 }
 
@@ -134,8 +134,7 @@ typedef struct pot_pass {
     int direct;                     /* evaluate per point (V, f, gc) */
     const double *V;                /* V per point, NULL: 0 */
     double f, gc;                   /* f = coef h / hbar; gc = g */
-    const double complex *e1, *e2;  /* static: 0 e1, 1 e1^2, 2 e1 e2 */
-    int which;
+    const double complex *e;        /* static: the stored factor of this kind */
 } pot_pass;
 
 /* Points whose phases are formed before one call of pf_cis_multiply. */
@@ -161,23 +160,12 @@ static void pot_apply(const pot_pass *p, double complex *restrict d, size_t begi
         }
         return;
     }
-    /* d *= e1, e1 e1 or e1 e2 through the vectorised phase kernel
-     * (pf_flight.c), which forms the same products in the same order as
-     * plain complex multiplication: the factor of a piece first (in cache),
-     * then the data. */
-    const double complex *e1 = p->e1 + begin, *e2 = p->e2 ? p->e2 + begin : NULL;
-    const pf_phase_row_fn row = pf_phase_kernel();
-    if (p->which == 0) {
-        row((double *)d, (const double *)e1, 1.0, 0.0, count);
-        return;
-    }
-    double complex factor[PIECE];
-    for (size_t b = 0; b < count; b += PIECE) {
-        size_t m = count - b < PIECE ? count - b : PIECE;
-        memcpy(factor, e1 + b, m * sizeof *factor);
-        row((double *)factor, (const double *)(p->which == 1 ? e1 + b : e2 + b), 1.0, 0.0, m);
-        row((double *)(d + b), (const double *)factor, 1.0, 0.0, m);
-    }
+    /* d *= the stored factor (e1, e1 e1 or e1 e2, formed once in
+     * prepare() by the same kernel call that used to form it per piece
+     * here, so the bits are those of before) through the vectorised phase
+     * kernel (pf_flight.c), which forms the same products in the same
+     * order as plain complex multiplication. */
+    pf_phase_kernel()((double *)d, (const double *)(p->e + begin), 1.0, 0.0, count);
 }
 
 static void pot_chunk(void *user, double complex *chunk, size_t begin, size_t count)
@@ -223,9 +211,7 @@ static pf_status potential_plan(evolve_ws *ws, double coef, int kind, double t, 
         p->V = sp->potential;
     } else {
         p->active = 1;
-        p->e1 = ws->e1;
-        p->e2 = ws->e2;
-        p->which = kind;
+        p->e = ws->e[kind];
         return PF_OK;
     }
     p->active = 1;
@@ -347,8 +333,8 @@ void pf_evolve_cache_init(pf_evolve_cache *c) { memset(c, 0, sizeof *c); }
 
 void pf_evolve_cache_clear(pf_evolve_cache *c)
 {
-    if (c->e1) pf_free(c->ctx, c->e1, c->bytes);
-    if (c->e2) pf_free(c->ctx, c->e2, c->bytes);
+    for (int k = 0; k < 3; k++)
+        if (c->e[k]) pf_free(c->ctx, c->e[k], c->bytes);
     pf_evolve_cache_init(c);
 }
 
@@ -406,13 +392,13 @@ static pf_status prepare(evolve_ws *ws)
         /* vbuf is the start probe, allocated by pf_wave_evolve. */
     } else if (sp->potential && sp->g == 0) {
         pf_evolve_cache *c = sp->cache;
-        if (c && c->e1 && c->potential == sp->potential && c->h == ws->h && c->order == sp->order &&
+        if (c && c->e[0] && c->potential == sp->potential && c->h == ws->h && c->order == sp->order &&
             c->bytes == ws->bytes_c && c->ctx == g->ctx) {
-            ws->e1 = c->e1;
-            ws->e2 = c->e2;
+            memcpy(ws->e, c->e, sizeof ws->e);
             ws->borrowed = 1;
             return PF_OK;
         }
+        const int kinds = ws->sc.stages > 1 ? 3 : 2;
         if (c) {
             /* Arrays of the right size are refilled rather than freed and
              * made again (fresh pages cost a fault each on first touch);
@@ -421,45 +407,51 @@ static pf_status prepare(evolve_ws *ws)
              * potential's values were still checked. */
             const double *checked = c->checked;
             if (c->ctx == g->ctx && c->bytes == ws->bytes_c) {
-                ws->e1 = c->e1;
-                ws->e2 = c->e2;
-                c->e1 = c->e2 = NULL;
+                memcpy(ws->e, c->e, sizeof ws->e);
+                memset(c->e, 0, sizeof c->e);
             }
             pf_evolve_cache_clear(c);
             c->checked = checked;
             c->ctx = g->ctx;
-            if (ws->e2 && ws->sc.stages == 1) {
-                pf_free(g->ctx, ws->e2, ws->bytes_c);
-                ws->e2 = NULL;
+            for (int k = kinds; k < 3; k++) {
+                if (ws->e[k]) pf_free(g->ctx, ws->e[k], ws->bytes_c);
+                ws->e[k] = NULL;
             }
         }
-        if (!ws->e1 && !(ws->e1 = pf_alloc(g->ctx, ws->bytes_c))) return pf_context_status(g->ctx);
+        for (int k = 0; k < kinds; k++)
+            if (!ws->e[k] && !(ws->e[k] = pf_alloc(g->ctx, ws->bytes_c))) return pf_context_status(g->ctx);
         double f1 = 0.5 * ws->sc.c[0] * ws->h / PF_HBAR;
-        if (ws->sc.stages > 1 && !ws->e2 && !(ws->e2 = pf_alloc(g->ctx, ws->bytes_c)))
-            return pf_context_status(g->ctx);
         double f2 = 0.5 * ws->sc.c[1] * ws->h / PF_HBAR;
         const double *V = sp->potential;
-        double complex *e1 = ws->e1, *e2 = ws->e2;
+        double complex *e1 = ws->e[0], *e11 = ws->e[1], *e12 = ws->e[2];
         ptrdiff_t n = (ptrdiff_t)pf_dist_position_values(g);
-        /* The one place a static potential costs trigonometry per point. */
+        /* The one place a static potential costs trigonometry per point.
+         * The products are formed as pot_apply formed them per piece in
+         * every pass before they were kept: a copy of e1 times e1 (or e2)
+         * through the phase kernel with the factor 1. */
+        const pf_phase_row_fn row = pf_phase_kernel();
         const ptrdiff_t pieces = (n + PIECE - 1) / PIECE;
 #pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
         for (ptrdiff_t b = 0; b < pieces; b++) {
             double phase[PIECE];
+            double complex e2[PIECE];
             size_t begin = (size_t)b * PIECE, m = (size_t)n - begin < PIECE ? (size_t)n - begin : PIECE;
             for (size_t i = 0; i < m; i++) phase[i] = V[begin + i] * f1;
             pf_cis_minus(phase, e1 + begin, m);
-            if (!e2) continue;
+            memcpy(e11 + begin, e1 + begin, m * sizeof *e11);
+            row((double *)(e11 + begin), (const double *)(e1 + begin), 1.0, 0.0, m);
+            if (!e12) continue;
             for (size_t i = 0; i < m; i++) phase[i] = V[begin + i] * f2;
-            pf_cis_minus(phase, e2 + begin, m);
+            pf_cis_minus(phase, e2, m);
+            memcpy(e12 + begin, e1 + begin, m * sizeof *e12);
+            row((double *)(e12 + begin), (const double *)e2, 1.0, 0.0, m);
         }
         if (c) {
             c->ctx = g->ctx;
             c->potential = sp->potential;
             c->h = ws->h;
             c->order = sp->order;
-            c->e1 = ws->e1;
-            c->e2 = ws->e2;
+            memcpy(c->e, ws->e, sizeof c->e);
             c->bytes = ws->bytes_c;
             ws->borrowed = 1;
         }

@@ -48,7 +48,11 @@ typedef struct pf_evolve_cache {
     const double *potential;   /* the V they were made from */
     double h;                  /* step they were made for */
     int order;
-    double complex *e1, *e2;
+    /* The potential factors by kind of sub-step: [0] the end half step
+     * e1 = exp(-i V h c1/2 / hbar), [1] the merged boundary of two steps
+     * e1 e1, [2] (fourth order) the inner boundary e1 e2, e2 = exp(-i V h
+     * c0/2 / hbar); products kept so each pass reads one table. */
+    double complex *e[3];
     size_t bytes;
     /* The potential whose values were checked finite (also with a mean
      * field, where e1, e2 are not used): later calls skip the check. */

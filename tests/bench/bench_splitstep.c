@@ -8,10 +8,14 @@
  * (<= 1): a repeat call with the same potential and step (a pf.potential's
  * cache and the grid's kept tables: nothing to make), and a call with a new
  * step (exponentials and kinetic tables made afresh).
- * Usage: bench_splitstep [quick | big]  (full: 1D 2^20, 2D 1024^2 and 3D
- * 128^3; quick: 1D 2^18, 2D 512^2 and 3D 128^3, shorter timing; big: 3D
+ * Each 1D row is followed by its floor row: the raw FFTW pair plus the
+ * streaming passes no split step can avoid (floor_run), timed in the same
+ * run, printed with the target and the measured step.
+ * Usage: bench_splitstep [quick | big | 1d]  (full: 1D 2^20, 2D 1024^2 and
+ * 3D 128^3; quick: 1D 2^18, 2D 512^2 and 3D 128^3, shorter timing; big: 3D
  * 256^3 only, about ten minutes on the reference machine, which is why the
- * full `make bench` leaves it out). */
+ * full `make bench` leaves it out; 1d: the full run's 1D 2^20 rows only). */
+#include <stddef.h>
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -51,6 +55,106 @@ static void run_evolve(void *user)
         fprintf(stderr, "bench: evolve failed: %s\n", pf_context_message(pf_grid_context(pf_wave_grid(e->w))));
         exit(1);
     }
+}
+
+/* The floor of a 1D split step: what any split step of that kind must do
+ * per step, written as raw loops beside the raw FFTW pair (no engine code),
+ * so that a target below it is out of reach on this machine whatever the
+ * engine does.  Per Strang step: the forward transform, one pass
+ * multiplying by the kinetic table (with the 1/N of the unnormalised
+ * pair), the backward transform and one pass multiplying by the potential
+ * factor (consecutive steps merge their half steps into one factor, so one
+ * pass).  The mean-field floor's potential pass also reads V and forms
+ * (V + g |psi|^2) f per point, but multiplies by a stored table instead of
+ * evaluating exp(-i phase): it leaves out the exponential, which the
+ * engine evaluates vectorised (docs/performance.md gives its cost from
+ * callgrind), so it is a lower bound.  The fourth-order step is three
+ * Strang sub-steps: three pairs and six passes. */
+typedef struct floor_op {
+    const bench_fft_pair *raw;
+    fftw_complex *d;            /* the data, same size and alignment as raw->data */
+    const fftw_complex *kin;    /* unit-modulus phases times 1/N */
+    const fftw_complex *pot;    /* unit-modulus phases */
+    const double *V;            /* mean field only: the potential, read per point */
+    double gc;                  /* mean field: g (the phase is V + g |psi|^2, scaled so it stays small) */
+    int substeps, threads;
+} floor_op;
+
+/* d[i] *= t[i] (written out: C's complex product would call the
+ * inf/nan-careful helper, which no engine kernel pays). */
+static void floor_multiply(double *restrict d, const double *restrict t, size_t n, int threads)
+{
+#pragma omp parallel for num_threads(threads) schedule(static)
+    for (ptrdiff_t i = 0; i < (ptrdiff_t)n; i++) {
+        double a = d[2 * i], b = d[2 * i + 1], c = t[2 * i], e = t[2 * i + 1];
+        d[2 * i] = a * c - b * e;
+        d[2 * i + 1] = a * e + b * c;
+    }
+}
+
+/* The mean-field pass without the exponential: the phase (V + g |d|^2) is
+ * formed per point and added to the stored factor's angle at first order,
+ * d *= t (1 - i phase), so the data stay bounded and the work is the
+ * multiply count of phase and product. */
+static void floor_mean_field(double *restrict d, const double *restrict t, const double *restrict V, double gc,
+                             size_t n, int threads)
+{
+#pragma omp parallel for num_threads(threads) schedule(static)
+    for (ptrdiff_t i = 0; i < (ptrdiff_t)n; i++) {
+        double a = d[2 * i], b = d[2 * i + 1];
+        double u = V[i] + gc * (a * a + b * b);
+        double c = t[2 * i] + u * t[2 * i + 1], e = t[2 * i + 1] - u * t[2 * i];
+        d[2 * i] = a * c - b * e;
+        d[2 * i + 1] = a * e + b * c;
+    }
+}
+
+static void floor_run(void *user)
+{
+    const floor_op *f = user;
+    const size_t n = f->raw->total;
+    for (int s = 0; s < f->substeps; s++) {
+        fftw_execute_dft(f->raw->fwd, f->d, f->d);
+        floor_multiply((double *)f->d, (const double *)f->kin, n, f->threads);
+        fftw_execute_dft(f->raw->bwd, f->d, f->d);
+        if (f->V) floor_mean_field((double *)f->d, (const double *)f->pot, f->V, f->gc, n, f->threads);
+        else floor_multiply((double *)f->d, (const double *)f->pot, n, f->threads);
+    }
+}
+
+/* Times the floor of one kind against the raw pair (paired, same run) and
+ * prints it beside the kind's target and measured step. */
+static void floor_row(const char *name, const char *shape, int threads, bench_fft_pair *raw, int substeps,
+                      int mean_field, double measured, double target, double secs)
+{
+    const size_t n = raw->total;
+    fftw_complex *d = fftw_malloc(n * sizeof *d), *kin = fftw_malloc(n * sizeof *kin),
+                 *pot = fftw_malloc(n * sizeof *pot);
+    double *V = malloc(n * sizeof *V);
+    if (!d || !kin || !pot || !V) {
+        fprintf(stderr, "bench: out of memory\n");
+        exit(1);
+    }
+    for (size_t i = 0; i < n; i++) {
+        double a = 1e-3 * (double)i, b = 2e-3 * (double)(i % 1000);
+        kin[i] = (cos(a) + I * sin(a)) / (double)n;
+        pot[i] = cos(b) - I * sin(b);
+        V[i] = 1e-9 * (double)(i % 100);
+        d[i] = exp(-1e-10 * (double)i * (double)i) + 0.0 * I;
+    }
+    floor_op f = {raw, d, kin, pot, mean_field ? V : NULL, 1e-9, substeps, threads};
+    double pair, ms, q[2];
+    double r = bench_paired(bench_fft_pair_run, raw, bench_fft_pair_rescale, floor_run, &f, secs, &pair, &ms, q);
+    printf("%-20s %-16s threads %d   floor %5.3f fft pairs (%d pair%s + %d passes%s)   measured %5.3f   target <= %.2f %s"
+           "   [floor quartiles %5.3f-%5.3f]\n",
+           name, shape, threads, r, substeps, substeps > 1 ? "s" : "", 2 * substeps,
+           mean_field ? ", no exponential" : "", measured, target,
+           target < r ? "[target below floor]" : "[target above floor]", q[0], q[1]);
+    fflush(stdout);
+    fftw_free(d);
+    fftw_free(kin);
+    fftw_free(pot);
+    free(V);
 }
 
 /* Targets of issue 19, as ratios to the raw FFTW pair timed alongside. */
@@ -126,6 +230,12 @@ static void bench_size(pf_context *ctx, int dim, const int *n, int threads, int 
                bench_mark(repeat_setup, 1.0), new_setup, bench_mark(new_setup, 1.0), pair);
         fflush(stdout);
         pf_evolve_cache_clear(&cache);
+        if (dim == 1) {
+            char floor_name[64];
+            snprintf(floor_name, sizeof floor_name, "%s-floor", kinds[k].name);
+            floor_row(floor_name, shape, threads, &raw, kinds[k].order == 4 ? 3 : 1, kinds[k].g != 0, step,
+                      kinds[k].target, secs);
+        }
     }
     bench_fft_pair_free(&raw);
     free(V);
@@ -136,6 +246,7 @@ static void bench_size(pf_context *ctx, int dim, const int *n, int threads, int 
 int main(int argc, char **argv)
 {
     int quick = argc > 1 && strcmp(argv[1], "quick") == 0, big = argc > 1 && strcmp(argv[1], "big") == 0;
+    int only1d = argc > 1 && strcmp(argv[1], "1d") == 0;
     const char *wisdom = getenv("PSIFLIGHT_WISDOM");
     const char *planning = getenv("PSIFLIGHT_BENCH_PLANNING");
     pf_context *ctx = pf_context_new();
@@ -150,7 +261,7 @@ int main(int argc, char **argv)
         for (int s = 0; s < 3; s++)
             for (int threads = 1; threads <= 2; threads++) bench_size(ctx, small[s][0], small[s] + 1, threads, quick);
     } else {
-        for (int s = big ? 3 : 0; s <= (big ? 3 : 2); s++)
+        for (int s = big ? 3 : 0; s <= (big ? 3 : only1d ? 0 : 2); s++)
             for (int threads = 1; threads <= 2; threads++) bench_size(ctx, sizes[s][0], sizes[s] + 1, threads, quick);
     }
     pf_context_release(ctx);
