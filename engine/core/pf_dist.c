@@ -148,6 +148,11 @@ void pf_dist_momentum_multiply(pf_grid *g, double complex *data, const double co
 {
     (void)g, (void)data, (void)tables, (void)scale;
 }
+pf_status pf_dist_on_whole(pf_wave *w, pf_rep rep, pf_dist_whole_fn fn, void *user, double *out, int n)
+{
+    (void)rep, (void)n;
+    return fn(w, user, out);
+}
 pf_status pf_dist_shared_density(pf_wave *w, pf_rep rep, double *out)
 {
     (void)rep, (void)out;
@@ -960,6 +965,49 @@ pf_status pf_dist_shared_density(pf_wave *w, pf_rep rep, double *out)
         size_t n = g->total - at < BCAST_PIECE ? g->total - at : BCAST_PIECE;
         MPI_Bcast(out + at, (int)n, MPI_DOUBLE, 0, MPI_COMM_WORLD);
     }
+    return PF_OK;
+}
+
+pf_status pf_dist_on_whole(pf_wave *w, pf_rep rep, pf_dist_whole_fn fn, void *user, double *out, int n)
+{
+    pf_grid *g = w->grid;
+    struct pf_dist_grid *D = g->dist;
+    if (!D) return fn(w, user, out);
+    const int root = D->rank == 0;
+    double complex *all = root ? PF_ALLOC_N(g->ctx, g->total, sizeof(double complex)) : NULL;
+    pf_status s = pf_wave_gather(w, rep, all); /* fails on every rank when rank 0 lacks the buffer */
+    if (s) {
+        pf_context_free(g->ctx, all);
+        return s;
+    }
+    int status = PF_OK;
+    if (root) {
+        /* A view of the whole wave: the grid counts as held whole and the
+         * wave's storage is the gathered array while fn runs. */
+        double complex *own = w->store;
+        const double norm = w->norm_now;
+        /* The view's transforms must not move the grid guards' bookkeeping
+         * on rank 0 alone: the next guard check is collective. */
+        const pf_guard_state guard = w->guard;
+        const size_t steps = w->log.count;
+        pf_step last;
+        if (steps) last = w->log.steps[steps - 1];
+        g->dist = NULL;
+        w->store = all;
+        s = fn(w, user, out);
+        g->dist = D;
+        w->store = own;
+        w->rep = rep;
+        w->norm_now = norm;
+        w->guard = guard;
+        if (steps && w->log.count == steps) w->log.steps[steps - 1] = last;
+        status = (int)s;
+    }
+    pf_context_free(g->ctx, all);
+    MPI_Bcast(&status, 1, MPI_INT, 0, MPI_COMM_WORLD);
+    if (status != PF_OK)
+        return root ? s : pf_fail(g->ctx, (pf_status)status, "the measurement failed on MPI rank 0 (its message says why)");
+    MPI_Bcast(out, n, MPI_DOUBLE, 0, MPI_COMM_WORLD);
     return PF_OK;
 }
 
