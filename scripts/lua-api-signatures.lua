@@ -274,6 +274,7 @@ return {
     ["random:raw"] = {"", "integer", "64 random bits as an integer"},
     ["potential:range"] = {"", "number, number", "minimum and maximum of V (J)"},
     ["potential:close"] = {"", "", "releases the potential's memory now"},
+    ["potential:cache_status"] = {"", "table", "how often evolve and relax built or reused the tilted table V - m a.x (counts)"},
 
     -- outputs
     ["pf.h5file"] = {"path: string, opts?: options", "psiflight.h5file", "an HDF5 file in the output folder, written atomically on close"},

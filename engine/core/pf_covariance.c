@@ -38,10 +38,19 @@ static void centred_sums(pf_grid *g, const double complex *psi, const double com
     pf_reduce_blocks(g, g->dim, centred_block, &job, sums);
 }
 
+static pf_status covariance_whole(pf_wave *w, void *user, double *out)
+{
+    (void)user;
+    return pf_wave_position_momentum_covariance(w, out);
+}
+
 pf_status pf_wave_position_momentum_covariance(pf_wave *w, double *cov)
 {
     pf_grid *g = w->grid;
     const int d = g->dim;
+    /* Split over MPI ranks: the derivative transforms of every axis run on
+     * the wave gathered onto rank 0, and the matrix is broadcast. */
+    if (g->dist) return pf_dist_on_whole(w, PF_POSITION, covariance_whole, NULL, cov, d * d);
     double mean[PF_MAX_DIM];
     pf_status s = pf_wave_position_moments(w, mean, NULL);
     if (s) return s;

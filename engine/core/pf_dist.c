@@ -64,6 +64,18 @@ size_t pf_dist_advise_ranks(int dim, const size_t *points, double waves, double 
     return 0;
 }
 
+/* Rows of a wave every process holds whole (see pf_wave_gather_rows). */
+static pf_status whole_rows(pf_wave *w, pf_rep rep, size_t first, size_t count, double complex *out)
+{
+    pf_status s = pf_wave_to(w, rep);
+    if (s) return s;
+    const double complex *z = pf_wave_data_const(w);
+    if (!z) return pf_context_status(w->grid->ctx);
+    const size_t n0 = w->grid->n[0], plane = w->grid->total / n0;
+    for (size_t i = 0; i < count; i++) memcpy(out + i * plane, z + ((first + i) % n0) * plane, plane * sizeof *out);
+    return PF_OK;
+}
+
 #ifndef PF_HAVE_DIST
 
 #include <time.h>
@@ -136,6 +148,11 @@ void pf_dist_momentum_multiply(pf_grid *g, double complex *data, const double co
 {
     (void)g, (void)data, (void)tables, (void)scale;
 }
+pf_status pf_dist_on_whole(pf_wave *w, pf_rep rep, pf_dist_whole_fn fn, void *user, double *out, int n)
+{
+    (void)rep, (void)n;
+    return fn(w, user, out);
+}
 pf_status pf_dist_shared_density(pf_wave *w, pf_rep rep, double *out)
 {
     (void)rep, (void)out;
@@ -157,6 +174,10 @@ void pf_grid_slab(const pf_grid *g, pf_rep rep, size_t *first, size_t *count)
     *count = g->n[rep == PF_MOMENTUM && g->dim > 1 ? 1 : 0];
 }
 pf_status pf_wave_gather_density(pf_wave *w, pf_rep rep, double *out) { return pf_wave_density(w, rep, out); }
+pf_status pf_wave_gather_rows(pf_wave *w, pf_rep rep, size_t first, size_t count, double complex *out)
+{
+    return whole_rows(w, rep, first, count, out);
+}
 size_t pf_grid_local_bytes(const pf_grid *g) { return pf_bytes(g->total, sizeof(double complex)); }
 pf_status pf_wave_gather(pf_wave *w, pf_rep rep, double complex *out)
 {
@@ -860,6 +881,77 @@ pf_status pf_wave_gather_density(pf_wave *w, pf_rep rep, double *out)
     return PF_OK;
 }
 
+/* Rows [first, first + count) of axis 0 (no wrap) onto rank 0's out.  In
+ * position each rank sends the planes it holds among those rows, straight
+ * into place.  In momentum each rank holds planes of axis 1 (transposed:
+ * axis 1, axis 0, axis 2), and the rows wanted are one contiguous run of
+ * count * n2 values in each of them; rank 0 receives them axis 1 first and
+ * puts axis 0 first. */
+static pf_status gather_row_block(pf_wave *w, pf_rep rep, size_t first, size_t count, double complex *out)
+{
+    pf_grid *g = w->grid;
+    struct pf_dist_grid *D = g->dist;
+    pf_context *ctx = g->ctx;
+    const int L = rep == PF_MOMENTUM, root = D->rank == 0;
+    const size_t n0 = g->n[0], n1 = g->n[1], n2 = g->dim == 3 ? g->n[2] : 1;
+    const size_t unit = L ? count * n2 : D->plane; /* values a message counts in */
+    double complex *send = w->store, *tmp = NULL;
+    int mine = 0, ok = !root || out != NULL;
+    for (int r = 0; r < D->size; r++) {
+        size_t lo = D->range[L][2 * r] / (L ? D->tplane : D->plane), hi = D->range[L][2 * r + 1] / (L ? D->tplane : D->plane);
+        if (L) {
+            D->counts[r] = (int)(hi > lo ? hi - lo : 0);
+            D->displs[r] = (int)(hi > lo ? lo : 0);
+        } else {
+            size_t a = lo > first ? lo : first, b = hi < first + count ? hi : first + count;
+            D->counts[r] = (int)(b > a ? b - a : 0);
+            D->displs[r] = (int)(b > a ? a - first : 0);
+            if (r == D->rank && b > a) send = w->store + (a - lo) * D->plane;
+        }
+    }
+    mine = D->counts[D->rank];
+    if (L && ok) {
+        send = PF_ALLOC_N(ctx, (size_t)(mine > 0 ? mine : 1) * unit, sizeof(double complex));
+        if (root && send) tmp = PF_ALLOC_N(ctx, n1 * unit, sizeof(double complex));
+        ok = send && (!root || tmp);
+        for (int j = 0; ok && j < mine; j++)
+            memcpy(send + (size_t)j * unit, w->store + ((size_t)j * n0 + first) * n2, unit * sizeof(double complex));
+    }
+    int all_ok = 0;
+    MPI_Allreduce(&ok, &all_ok, 1, MPI_INT, MPI_MIN, MPI_COMM_WORLD);
+    if (all_ok) {
+        MPI_Datatype piece;
+        MPI_Type_contiguous((int)(2 * unit), MPI_DOUBLE, &piece);
+        MPI_Type_commit(&piece);
+        MPI_Gatherv(send, mine, piece, L ? tmp : out, D->counts, D->displs, piece, 0, MPI_COMM_WORLD);
+        MPI_Type_free(&piece);
+    }
+    if (tmp && all_ok)
+        for (size_t j = 0; j < n1; j++)
+            for (size_t i = 0; i < count; i++)
+                memcpy(out + (i * n1 + j) * n2, tmp + (j * count + i) * n2, n2 * sizeof(double complex));
+    if (L && send) pf_context_free(ctx, send);
+    if (tmp) pf_context_free(ctx, tmp);
+    if (all_ok) return PF_OK;
+    return ok ? pf_fail(ctx, PF_ENOMEM, "another MPI rank ran out of memory gathering rows of a distributed wave")
+              : pf_context_status(ctx) ? pf_context_status(ctx)
+                                       : pf_fail(ctx, PF_ENOMEM, "out of memory gathering rows of a distributed wave");
+}
+
+pf_status pf_wave_gather_rows(pf_wave *w, pf_rep rep, size_t first, size_t count, double complex *out)
+{
+    pf_grid *g = w->grid;
+    if (!g->dist) return whole_rows(w, rep, first, count, out);
+    pf_status s = pf_dist_wave_to(w, rep);
+    if (s) return s;
+    const size_t n0 = g->n[0], plane = g->total / n0;
+    first %= n0;
+    size_t head = count < n0 - first ? count : n0 - first;
+    s = gather_row_block(w, rep, first, head, out);
+    if (!s && count > head) s = gather_row_block(w, rep, 0, count - head, out ? out + head * plane : NULL);
+    return s;
+}
+
 /* MPI counts are ints: broadcast in pieces of at most 2^27 doubles. */
 #define BCAST_PIECE ((size_t)1 << 27)
 
@@ -873,6 +965,49 @@ pf_status pf_dist_shared_density(pf_wave *w, pf_rep rep, double *out)
         size_t n = g->total - at < BCAST_PIECE ? g->total - at : BCAST_PIECE;
         MPI_Bcast(out + at, (int)n, MPI_DOUBLE, 0, MPI_COMM_WORLD);
     }
+    return PF_OK;
+}
+
+pf_status pf_dist_on_whole(pf_wave *w, pf_rep rep, pf_dist_whole_fn fn, void *user, double *out, int n)
+{
+    pf_grid *g = w->grid;
+    struct pf_dist_grid *D = g->dist;
+    if (!D) return fn(w, user, out);
+    const int root = D->rank == 0;
+    double complex *all = root ? PF_ALLOC_N(g->ctx, g->total, sizeof(double complex)) : NULL;
+    pf_status s = pf_wave_gather(w, rep, all); /* fails on every rank when rank 0 lacks the buffer */
+    if (s) {
+        pf_context_free(g->ctx, all);
+        return s;
+    }
+    int status = PF_OK;
+    if (root) {
+        /* A view of the whole wave: the grid counts as held whole and the
+         * wave's storage is the gathered array while fn runs. */
+        double complex *own = w->store;
+        const double norm = w->norm_now;
+        /* The view's transforms must not move the grid guards' bookkeeping
+         * on rank 0 alone: the next guard check is collective. */
+        const pf_guard_state guard = w->guard;
+        const size_t steps = w->log.count;
+        pf_step last;
+        if (steps) last = w->log.steps[steps - 1];
+        g->dist = NULL;
+        w->store = all;
+        s = fn(w, user, out);
+        g->dist = D;
+        w->store = own;
+        w->rep = rep;
+        w->norm_now = norm;
+        w->guard = guard;
+        if (steps && w->log.count == steps) w->log.steps[steps - 1] = last;
+        status = (int)s;
+    }
+    pf_context_free(g->ctx, all);
+    MPI_Bcast(&status, 1, MPI_INT, 0, MPI_COMM_WORLD);
+    if (status != PF_OK)
+        return root ? s : pf_fail(g->ctx, (pf_status)status, "the measurement failed on MPI rank 0 (its message says why)");
+    MPI_Bcast(out, n, MPI_DOUBLE, 0, MPI_COMM_WORLD);
     return PF_OK;
 }
 

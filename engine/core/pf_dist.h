@@ -67,6 +67,15 @@ void pf_grid_local_range(const pf_grid *g, size_t *begin, size_t *end);
  * is copied after pf_wave_to. */
 pf_status pf_wave_gather(pf_wave *w, pf_rep rep, double complex *out);
 
+/* Rows first, first + 1, ... (count of them, wrapping past the last row to
+ * row 0) of axis 0 of the whole wave in representation rep, onto rank 0's
+ * out (count * pf_grid_total / n0 values, row after row; momentum: S in FFT
+ * storage order as a single process stores it).  Collective; rank 0 holds
+ * only these rows besides its slab, so a field too large for one rank is
+ * written piece by piece (engine/io/pf_h5.c).  out is only written, and
+ * only needed, on rank 0; a wave that is not distributed is copied. */
+pf_status pf_wave_gather_rows(pf_wave *w, pf_rep rep, size_t first, size_t count, double complex *out);
+
 /* The density |psi|^2 (position, natural order) or |phi|^2 (momentum,
  * ascending k), as pf_wave_density gives it, of the whole wave on rank 0
  * (out: pf_grid_total doubles there, unused elsewhere).  Collective. */

@@ -175,11 +175,40 @@ static double plane_density(const pf_wave *w, const plane_eval *p, double *line_
 /* The flux through a plane and, when density is not NULL, the density
  * integrated over it: one set-up (momentum representation, plane tables)
  * serves both figures. */
+/* A plane's axis and position, for the figures of a wave split over MPI
+ * ranks (pf_dist_on_whole runs them on rank 0 on the gathered wave). */
+typedef struct plane_args {
+    int axis;
+    double at;
+} plane_args;
+
+static pf_status plane_figures_whole(pf_wave *w, void *user, double *out)
+{
+    const plane_args *a = user;
+    return pf_wave_plane_figures(w, a->axis, a->at, &out[0], &out[1]);
+}
+
+static pf_status beyond_whole(pf_wave *w, void *user, double *out)
+{
+    const plane_args *a = user;
+    return pf_wave_beyond(w, a->axis, a->at, out);
+}
+
 pf_status pf_wave_plane_figures(pf_wave *w, int axis, double at, double *flux, double *density)
 {
     pf_grid *g = w->grid;
     pf_status s = check_plane(g, axis, at);
     if (s) return s;
+    if (g->dist) {
+        plane_args a = {axis, at};
+        double out[2] = {0, 0};
+        s = pf_dist_on_whole(w, PF_MOMENTUM, plane_figures_whole, &a, out, 2);
+        if (!s) {
+            *flux = out[0];
+            if (density) *density = out[1];
+        }
+        return s;
+    }
     s = pf_wave_to(w, PF_MOMENTUM);
     if (s) return s;
     plane_eval p;
@@ -242,6 +271,10 @@ pf_status pf_wave_beyond(pf_wave *w, int axis, double at, double *probability)
     pf_grid *g = w->grid;
     pf_status s = check_plane(g, axis, at);
     if (s) return s;
+    if (g->dist) {
+        plane_args a = {axis, at};
+        return pf_dist_on_whole(w, PF_MOMENTUM, beyond_whole, &a, probability, 1);
+    }
     size_t na = g->n[axis];
     /* |psi|^2 of the interpolant along the axis is a trigonometric
      * polynomial with integer modes D = -(L-1)..(L-1), L = na (+1 on an even

@@ -219,6 +219,45 @@ pf_status pf_wave_lab_shift(pf_wave *w, const double *d)
     return PF_OK;
 }
 
+pf_status pf_wave_lab_density_window(pf_wave *w, double lo, size_t m, double *out)
+{
+    pf_grid *g = w->grid;
+    if (g->dim != 1) return pf_fail(g->ctx, PF_EINVAL, "a lab density window needs a 1D wave, got %dD", g->dim);
+    if (!isfinite(lo)) return pf_fail(g->ctx, PF_EINVAL, "lab window start must be finite (m), got %g", lo);
+    const size_t n = g->n[0];
+    const double dx = g->dx[0];
+    /* Lab point i sits at grid coordinate x_0 + (s + i) dx. */
+    double s = (lo - w->frame.position[0] - g->x[0][0]) / dx;
+    double whole = floor(s), frac = s - whole;
+    if (frac > 1.0 - 1e-12) whole += 1.0, frac = 0.0; /* rounding of a whole number of cells */
+    if (frac < 1e-12) frac = 0.0;
+    if (!(fabs(whole) < 1e15)) return pf_fail(g->ctx, PF_EINVAL, "lab window start %g m is too far from the grid", lo);
+    double *col = pf_context_alloc(g->ctx, n * sizeof *col);
+    if (!col) return pf_context_status(g->ctx);
+    pf_status st;
+    if (frac == 0.0) {
+        st = pf_wave_density(w, PF_POSITION, col);
+    } else {
+        /* chi'(xi) = chi(xi + frac dx): cell k of the copy holds chi at the
+         * grid coordinate of lab point k - whole. */
+        pf_wave *c = NULL;
+        double d = -frac * dx;
+        st = pf_wave_copy(w, &c);
+        if (!st) st = pf_wave_shift(c, &d);
+        if (!st) st = pf_wave_density(c, PF_POSITION, col);
+        if (c) pf_wave_free(c);
+    }
+    if (!st) {
+        long long base = (long long)whole;
+        for (size_t i = 0; i < m; i++) {
+            long long k = base + (long long)i;
+            out[i] = k >= 0 && k < (long long)n ? col[k] : 0.0;
+        }
+    }
+    pf_context_free(g->ctx, col);
+    return st;
+}
+
 pf_status pf_wave_frame_centre(pf_wave *w, int *moved)
 {
     pf_grid *g = w->grid;

@@ -166,6 +166,16 @@ void pf_frame_tilt_phase(pf_wave *w, const double *accel, double t);
  * exactly pf_wave_fall. */
 pf_status pf_wave_lab_fall(pf_wave *w, double t, const double *accel);
 
+/* The lab density |psi_lab|^2 of a 1D wave at the m lab points lo + i dx
+ * (dx the grid's spacing), into out: the grid's band-limited function is
+ * displaced by the fraction of a cell between those points and the grid
+ * points' lab positions (an exact shift of a band-limited state, one FFT
+ * pair on a copy) and read at whole cells; points outside the co-moving grid
+ * get 0.  For a space-time picture of a cloud whose frame travels (each
+ * time's profile placed at its lab offset on one lab axis).  w keeps its
+ * state (only its representation may change). */
+pf_status pf_wave_lab_density_window(pf_wave *w, double lo, size_t m, double *out);
+
 /* Lab energy functional and chemical potential (J): pf_wave_energy with the
  * potential given at the grid points' lab positions, plus the lab kinetic
  * energy's frame terms hbar^2 (K.<k> + |K|^2/2)/m and, when accel is given,

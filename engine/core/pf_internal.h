@@ -390,6 +390,14 @@ void pf_dist_backward(pf_grid *g, double complex *data);
 pf_status pf_dist_momentum_unscaled(pf_wave *w, double *scale);
 void pf_dist_momentum_multiply(pf_grid *g, double complex *data, const double complex *const *tables, double scale);
 pf_status pf_dist_shared_density(pf_wave *w, pf_rep rep, double *out);
+/* Figures the single process computes from the whole momentum (or
+ * position) array, for a split wave: gathers the wave in representation rep
+ * onto rank 0 (pf_wave_gather: the single process's storage order), runs
+ * fn there on a view of the whole wave (the grid held whole while fn runs),
+ * and broadcasts its status and the n doubles of out to every rank.  A wave
+ * held whole goes straight to fn.  Collective. */
+typedef pf_status (*pf_dist_whole_fn)(pf_wave *w, void *user, double *out);
+pf_status pf_dist_on_whole(pf_wave *w, pf_rep rep, pf_dist_whole_fn fn, void *user, double *out, int n);
 /* The flight phase tables of g for tau (pf_flight.c). */
 void pf_flight_fill_tables(pf_grid *g, double tau);
 

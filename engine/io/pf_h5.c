@@ -7,6 +7,7 @@
 #include <string.h>
 #include <hdf5.h>
 #include <hdf5_hl.h>
+#include "../core/pf_constants.h"
 #include "../core/pf_dist.h"
 #include "../core/pf_frame.h"
 #include "../core/pf_species.h"
@@ -252,6 +253,16 @@ static hid_t new_group(pf_h5 *f, const char *name)
  * holds much more than one row block) with shuffle + deflate when it is
  * large, the shared contiguous list otherwise.  Caller closes a list it got
  * back that is not f->ocpl_data. */
+/* Rows of axis 0 in one chunk of a large dataset of elements of elem bytes
+ * (data_create_list); also the rows a distributed wave is written by. */
+static hsize_t chunk_rows(size_t elem, int rank, const hsize_t *dims)
+{
+    hsize_t row = elem;
+    for (int a = 1; a < rank; a++) row *= dims[a];
+    hsize_t rows = row ? CHUNK_TARGET_BYTES / row : 1;
+    return rows < 1 ? 1 : rows > dims[0] ? dims[0] : rows;
+}
+
 static hid_t data_create_list(pf_h5 *f, hid_t ftype, int rank, const hsize_t *dims)
 {
     hsize_t total = 1;
@@ -259,13 +270,9 @@ static hid_t data_create_list(pf_h5 *f, hid_t ftype, int rank, const hsize_t *di
     if (rank < 1 || total < COMPRESS_MIN_ELEMENTS || H5Tis_variable_str(ftype) > 0) return f->ocpl_data;
     hid_t p = H5Pcopy(f->ocpl_data);
     if (p < 0) return -1;
-    hsize_t chunk[PF_MAX_DIM], row = H5Tget_size(ftype);
-    for (int a = 1; a < rank; a++) {
-        chunk[a] = dims[a];
-        row *= dims[a];
-    }
-    hsize_t rows = row ? CHUNK_TARGET_BYTES / row : 1;
-    chunk[0] = rows < 1 ? 1 : rows > dims[0] ? dims[0] : rows;
+    hsize_t chunk[PF_MAX_DIM];
+    for (int a = 1; a < rank; a++) chunk[a] = dims[a];
+    chunk[0] = chunk_rows(H5Tget_size(ftype), rank, dims);
     if (H5Pset_chunk(p, rank, chunk) < 0 || H5Pset_shuffle(p) < 0 || H5Pset_deflate(p, DEFLATE_LEVEL) < 0) {
         H5Pclose(p);
         return -1;
@@ -482,16 +489,14 @@ static int attach_amplitude(hid_t g, const char *name, int d, pf_rep rep)
 }
 
 /* phi(k) in physical units, ascending k on every axis. */
-/* phi in ascending-k order from the storage S (FFT order): the wave's own,
- * or S gathered from MPI ranks (pf_wave_gather) when given. */
-static double complex *phi_ascending(pf_wave *w, const double complex *gathered)
+static double complex *phi_ascending(pf_wave *w)
 {
     pf_grid *g = pf_wave_grid(w);
-    if (!gathered && pf_wave_to(w, PF_MOMENTUM)) return NULL;
+    if (pf_wave_to(w, PF_MOMENTUM)) return NULL;
     size_t total = pf_grid_total(g);
     double complex *out = malloc(total * sizeof *out);
     if (!out) return NULL;
-    const double complex *S = gathered ? gathered : pf_wave_data_const(w);
+    const double complex *S = pf_wave_data_const(w);
     int d = pf_grid_dim(g);
     size_t n[3] = {1, 1, 1};
     for (int a = 0; a < d; a++) n[a] = pf_grid_points(g, a);
@@ -609,6 +614,8 @@ pf_status pf_h5_put_wave(pf_h5 *f, const char *name, pf_wave *w, int parts)
     pf_status s = check_name(f, name);
     if (s) return s;
     if (!(parts & (PF_H5_PSI | PF_H5_PHI))) return pf_fail(f->ctx, PF_EINVAL, "nothing to store: choose psi and/or phi");
+    if (pf_wave_frame_moved(w) && pf_wave_distributed(w))
+        return pf_dist_refuse(f->ctx, "writing the lab wave function of a moved frame");
     if (pf_wave_frame_moved(w)) {
         pf_wave *lab;
         if ((s = lab_copy(w, &lab))) return s;
@@ -619,33 +626,217 @@ pf_status pf_h5_put_wave(pf_h5 *f, const char *name, pf_wave *w, int parts)
     return put_wave_values(f, name, w, parts);
 }
 
-/* A wave split over MPI ranks (pf_dist.h): psi and S gathered onto rank 0,
- * which writes; the other ranks only take part in the gathering (their
- * files are private to them, docs/distributed.md).  *done is set on them. */
-static pf_status gather_parts(pf_h5 *f, pf_wave *w, int parts, double complex **psi, double complex **S, int *done)
+/* Units and descriptions of a density dataset. */
+static const char *density_unit(int d, pf_rep rep)
 {
-    size_t total = pf_grid_total(pf_wave_grid(w));
-    int root = pf_dist_rank() == 0;
-    *psi = *S = NULL;
-    *done = !root;
-    pf_status s = PF_OK;
-    if (parts & PF_H5_PSI) {
-        if (root && !(*psi = malloc(total * sizeof **psi))) s = PF_ENOMEM; /* pf_wave_gather fails everyone */
-        pf_status g = pf_wave_gather(w, PF_POSITION, *psi);
-        if (!s) s = g;
+    static const char *const pos[] = {"m^-1", "m^-2", "m^-3"};
+    static const char *const mom[] = {"m", "m^2", "m^3"};
+    return rep == PF_POSITION ? pos[d - 1] : mom[d - 1];
+}
+
+static const char *const *density_pairs(pf_rep rep)
+{
+    static const char *const pos[] = {
+        "long_name", "probability density |psi(x)|^2", "normalization",
+        "integrates to the state's norm (1 for a normalised state): sum of density times the cell volume "
+        "(product of grid_spacing_m)",
+        "representation", "position", NULL};
+    static const char *const mom[] = {
+        "long_name", "probability density |phi(k)|^2 over wave number", "normalization",
+        "integrates to the state's norm (1 for a normalised state): sum of density times the "
+        "wave-number cell (product of 2 pi / grid_span_m)",
+        "representation", "momentum", NULL};
+    return rep == PF_POSITION ? pos : mom;
+}
+
+/* ---- a wave split over MPI ranks (pf_dist.h), written piece by piece ----
+ *
+ * Rank 0 writes; the field is never gathered whole anywhere.  Each dataset
+ * is written in pieces of rows of axis 0, one HDF5 chunk each (all rows of a
+ * small contiguous dataset), in order: every rank sends its part of the
+ * piece's rows (pf_wave_gather_rows) and rank 0 writes that hyperslab.  So
+ * rank 0 holds its slab plus about two chunks (1 MiB each), and the items,
+ * attributes and write order are the single process's: the file holds the
+ * same data, byte for byte when no transform separates the two runs.  The
+ * other ranks run the same gathering calls without touching their (private)
+ * file.  Parallel HDF5 is not used: Debian's libhdf5-openmpi-dev is another
+ * build of the library, and one runner linked with both cannot exist. */
+
+typedef enum { ROWS_COMPLEX, ROWS_RE, ROWS_IM, ROWS_DENSITY } rows_part;
+
+typedef struct rows_src {
+    pf_wave *w;
+    pf_rep rep;
+    rows_part part;
+} rows_src;
+
+/* Values of output rows [a0, a0 + c) (psi in natural order; phi, |phi|^2
+ * in ascending k with the momentum factors) from gathered storage rows z,
+ * with the same arithmetic as phi_ascending and pf_grid_density_of. */
+static void rows_values(const rows_src *src, size_t a0, size_t c, const double complex *z, void *out)
+{
+    const pf_grid *g = pf_wave_grid(src->w);
+    const int d = pf_grid_dim(g), mom = src->rep == PF_MOMENTUM;
+    size_t n[3] = {1, 1, 1};
+    for (int a = 0; a < d; a++) n[a] = pf_grid_points(g, a);
+    double scale = 1.0; /* |phi|^2 / |S|^2 = prod span^2 / 2 pi */
+    for (int a = 0; mom && a < d; a++) scale *= pf_grid_span(g, a) * pf_grid_span(g, a) / PF_TWO_PI;
+    double complex *zc = out;
+    double *zr = out;
+    size_t idx[3];
+    for (size_t i = 0; i < c; i++) {
+        idx[0] = mom ? pf_grid_fft_index(g, 0, a0 + i) : a0 + i;
+        for (idx[1] = 0; idx[1] < n[1]; idx[1]++)
+            for (idx[2] = 0; idx[2] < n[2]; idx[2]++) {
+                size_t src_at = (i * n[1] + idx[1]) * n[2] + idx[2], at = src_at;
+                double complex v = z[src_at];
+                if (mom) {
+                    size_t asc1 = d > 1 ? pf_grid_ascending_index(g, 1, idx[1]) : 0;
+                    size_t asc2 = d > 2 ? pf_grid_ascending_index(g, 2, idx[2]) : 0;
+                    at = (i * n[1] + asc1) * n[2] + asc2;
+                    if (src->part != ROWS_DENSITY) v *= pf_wave_momentum_factor(src->w, idx);
+                }
+                switch (src->part) {
+                case ROWS_COMPLEX: zc[at] = v; break;
+                case ROWS_RE: zr[at] = creal(v); break;
+                case ROWS_IM: zr[at] = cimag(v); break;
+                case ROWS_DENSITY: zr[at] = (mom ? scale : 1.0) * (creal(v) * creal(v) + cimag(v) * cimag(v)); break;
+                }
+            }
     }
-    if (!s && (parts & PF_H5_PHI)) {
-        if (root && !(*S = malloc(total * sizeof **S))) s = PF_ENOMEM;
-        pf_status g = pf_wave_gather(w, PF_MOMENTUM, *S);
-        if (!s) s = g;
+}
+
+/* write_dataset for a distributed wave: called on every rank (the
+ * gathering is collective); HDF5 is touched on rank 0 only, and only while
+ * *bad is 0 there.  A failed gathering is the same on every rank (*st). */
+static void write_rows_dataset(pf_h5 *f, hid_t loc, const char *name, hid_t ftype, hid_t mtype, int d,
+                               const hsize_t *dims, const rows_src *src, const char *unit, int *bad, pf_status *st)
+{
+    if (*st) return;
+    const int root = pf_dist_rank() == 0;
+    const size_t elem = src->part == ROWS_COMPLEX ? sizeof(double complex) : sizeof(double);
+    hsize_t total = 1;
+    for (int a = 0; a < d; a++) total *= dims[a];
+    const size_t plane = (size_t)(total / dims[0]);
+    const size_t per = total < COMPRESS_MIN_ELEMENTS ? (size_t)dims[0] : (size_t)chunk_rows(elem, d, dims);
+    hid_t sp = -1, dcpl = -1, ds = -1;
+    if (root && !*bad) {
+        sp = H5Screate_simple(d, dims, NULL);
+        dcpl = data_create_list(f, ftype, d, dims);
+        ds = dcpl < 0 ? -1 : H5Dcreate2(loc, name, ftype, sp, f->lcpl, dcpl, H5P_DEFAULT);
+        *bad = ds < 0;
     }
-    if (s || !root) {
-        free(*psi);
-        free(*S);
-        *psi = *S = NULL;
-        if (s == PF_ENOMEM) return pf_fail(f->ctx, PF_ENOMEM, "out of memory gathering a distributed wave on rank 0");
+    /* Gathered in sub-pieces of at most one complex chunk (a density's
+     * chunk has twice the rows). */
+    const size_t sub = per < (size_t)chunk_rows(sizeof(double complex), d, dims) ? per
+                                                                                : (size_t)chunk_rows(sizeof(double complex), d, dims);
+    double complex *rows = NULL;
+    void *vals = NULL;
+    if (root) {
+        rows = pf_context_alloc(f->ctx, sub * plane * sizeof *rows); /* at most the grid's own size */
+        vals = rows ? pf_context_alloc(f->ctx, per * plane * elem) : NULL;
+        if (!vals) {
+            pf_context_free(f->ctx, rows);
+            rows = NULL; /* pf_wave_gather_rows then fails on every rank */
+        }
     }
-    return s;
+    for (size_t a0 = 0; a0 < dims[0] && !*st; a0 += per) {
+        size_t c = per < dims[0] - a0 ? per : (size_t)dims[0] - a0;
+        for (size_t b0 = a0; b0 < a0 + c && !*st; b0 += sub) {
+            size_t cb = sub < a0 + c - b0 ? sub : a0 + c - b0;
+            size_t first = src->rep == PF_MOMENTUM ? pf_grid_fft_index(pf_wave_grid(src->w), 0, b0) : b0;
+            *st = pf_wave_gather_rows(src->w, src->rep, first, cb, rows);
+            if (!*st && root && !*bad) rows_values(src, b0, cb, rows, (char *)vals + (b0 - a0) * plane * elem);
+        }
+        if (*st || !root || *bad) continue;
+        hsize_t start[PF_MAX_DIM] = {a0, 0, 0}, count[PF_MAX_DIM];
+        for (int a = 0; a < d; a++) count[a] = a ? dims[a] : c;
+        hid_t ms = H5Screate_simple(d, count, NULL);
+        *bad = ms < 0 || H5Sselect_hyperslab(sp, H5S_SELECT_SET, start, NULL, count, NULL) < 0 ||
+               H5Dwrite(ds, mtype, ms, sp, H5P_DEFAULT, vals) < 0;
+        if (ms >= 0) H5Sclose(ms);
+    }
+    if (root) {
+        pf_context_free(f->ctx, rows);
+        pf_context_free(f->ctx, vals);
+        if (!*bad && !*st && unit) *bad = attr_string(ds, "units", unit);
+        if (ds >= 0) H5Dclose(ds);
+        if (dcpl >= 0 && dcpl != f->ocpl_data) H5Pclose(dcpl);
+        if (sp >= 0) H5Sclose(sp);
+    }
+}
+
+/* write_amplitude for a distributed wave (same items, order and words). */
+static void write_amplitude_rows(pf_h5 *f, hid_t g, const char *name, pf_wave *w, int d, const hsize_t *dims, pf_rep rep,
+                                 int *bad, pf_status *st)
+{
+    const int root = pf_dist_rank() == 0;
+    hid_t ct = complex_type();
+    const char *unit = amp_unit(d, rep);
+    const char *what = rep == PF_POSITION ? "wave function psi(x), position representation"
+                                          : "momentum amplitude phi(k), momentum representation, ascending k";
+    const char *repname = rep == PF_POSITION ? "position" : "momentum";
+    rows_src src = {w, rep, ROWS_COMPLEX};
+    write_rows_dataset(f, g, name, ct, ct, d, dims, &src, unit, bad, st);
+    H5Tclose(ct);
+    const char *pairs[] = {"long_name", what, "representation", repname, NULL};
+    if (root && !*bad && !*st) *bad = describe(g, name, pairs);
+    for (int k = 0; k < 2; k++) {
+        char pname[16], long_name[160];
+        snprintf(pname, sizeof pname, "%s_%s", name, k ? "im" : "re");
+        snprintf(long_name, sizeof long_name, "%s part of %s (same numbers as the compound dataset '%s')",
+                 k ? "imaginary" : "real", what, name);
+        const char *ppairs[] = {"long_name", long_name, "representation", repname, NULL};
+        src.part = k ? ROWS_IM : ROWS_RE;
+        write_rows_dataset(f, g, pname, H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, d, dims, &src, unit, bad, st);
+        if (root && !*bad && !*st) *bad = describe(g, pname, ppairs);
+    }
+}
+
+static pf_status put_wave_rows(pf_h5 *f, const char *name, pf_wave *w, int parts)
+{
+    pf_grid *grid = pf_wave_grid(w);
+    const int d = pf_grid_dim(grid), root = pf_dist_rank() == 0;
+    hsize_t dims[PF_MAX_DIM];
+    shape_of(grid, dims);
+    const char *held = (parts & PF_H5_PSI) && (parts & PF_H5_PHI) ? "position and momentum"
+                       : (parts & PF_H5_PSI)                       ? "position"
+                                                                   : "momentum";
+    hid_t g = root ? new_group(f, name) : -1;
+    int bad = root && (g < 0 || write_wave_attrs(f, g, name, w, "wave function") || attr_string(g, "representation", held));
+    pf_status st = PF_OK;
+    static const pf_rep reps[2] = {PF_POSITION, PF_MOMENTUM};
+    static const int wanted[2] = {PF_H5_PSI, PF_H5_PHI};
+    for (int r = 0; r < 2; r++) {
+        if (!(parts & wanted[r])) continue;
+        const char *item = r ? "phi" : "psi";
+        write_amplitude_rows(f, g, item, w, d, dims, reps[r], &bad, &st);
+        if (root && !bad && !st)
+            bad = write_axes(f, g, grid, reps[r], w) || attach_amplitude(g, item, d, reps[r]);
+    }
+    if (g >= 0) H5Gclose(g);
+    if (st) return st;
+    return bad ? pf_fail(f->ctx, PF_EIO, "cannot write wave function '%s' to '%s'", name, f->sf.final_path) : PF_OK;
+}
+
+static pf_status put_density_rows(pf_h5 *f, const char *name, pf_wave *w, pf_rep rep)
+{
+    pf_grid *grid = pf_wave_grid(w);
+    const int d = pf_grid_dim(grid), root = pf_dist_rank() == 0;
+    hsize_t dims[PF_MAX_DIM];
+    shape_of(grid, dims);
+    hid_t g = root ? new_group(f, name) : -1;
+    int bad = root && (g < 0 || write_wave_attrs(f, g, name, w, "density") ||
+                       attr_string(g, "representation", rep == PF_POSITION ? "position" : "momentum"));
+    pf_status st = PF_OK;
+    rows_src src = {w, rep, ROWS_DENSITY};
+    write_rows_dataset(f, g, "density", H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, d, dims, &src, density_unit(d, rep), &bad, &st);
+    if (root && !bad && !st)
+        bad = describe(g, "density", density_pairs(rep)) || write_axes(f, g, grid, rep, w) ||
+              attach_axes(g, "density", d, rep);
+    if (g >= 0) H5Gclose(g);
+    if (st) return st;
+    return bad ? pf_fail(f->ctx, PF_EIO, "cannot write density '%s' to '%s'", name, f->sf.final_path) : PF_OK;
 }
 
 static pf_status put_wave_values(pf_h5 *f, const char *name, pf_wave *w, int parts)
@@ -653,12 +844,7 @@ static pf_status put_wave_values(pf_h5 *f, const char *name, pf_wave *w, int par
     pf_grid *grid = pf_wave_grid(w);
     int d = pf_grid_dim(grid);
     size_t total = pf_grid_total(grid);
-    double complex *psi_all = NULL, *S_all = NULL;
-    if (pf_wave_distributed(w)) {
-        int done = 0;
-        pf_status s = gather_parts(f, w, parts, &psi_all, &S_all, &done);
-        if (s || done) return s;
-    }
+    if (pf_wave_distributed(w)) return put_wave_rows(f, name, w, parts);
     hsize_t dims[PF_MAX_DIM];
     shape_of(grid, dims);
     hid_t g = new_group(f, name);
@@ -669,12 +855,12 @@ static pf_status put_wave_values(pf_h5 *f, const char *name, pf_wave *w, int par
     int bad = g < 0 || write_wave_attrs(f, g, name, w, "wave function");
     if (!bad) bad = attr_string(g, "representation", held);
     if (!bad && (parts & PF_H5_PSI)) {
-        bad = (!psi_all && pf_wave_to(w, PF_POSITION) != PF_OK) ||
-              write_amplitude(f, g, "psi", psi_all ? psi_all : pf_wave_data_const(w), d, dims, total, PF_POSITION) ||
+        bad = pf_wave_to(w, PF_POSITION) != PF_OK ||
+              write_amplitude(f, g, "psi", pf_wave_data_const(w), d, dims, total, PF_POSITION) ||
               write_axes(f, g, grid, PF_POSITION, w) || attach_amplitude(g, "psi", d, PF_POSITION);
     }
     if (!bad && (parts & PF_H5_PHI)) {
-        double complex *phi = phi_ascending(w, S_all);
+        double complex *phi = phi_ascending(w);
         if (phi && pf_wave_frame_moved(w) && phi_lab_factors(w, phi)) {
             free(phi);
             phi = NULL;
@@ -684,8 +870,6 @@ static pf_status put_wave_values(pf_h5 *f, const char *name, pf_wave *w, int par
         free(phi);
     }
     if (g >= 0) H5Gclose(g);
-    free(psi_all);
-    free(S_all);
     return bad ? pf_fail(f->ctx, PF_EIO, "cannot write wave function '%s' to '%s'", name, f->sf.final_path) : PF_OK;
 }
 
@@ -696,17 +880,7 @@ pf_status pf_h5_put_density(pf_h5 *f, const char *name, pf_wave *w, pf_rep rep)
     pf_status s = check_name(f, name);
     if (s) return s;
     pf_grid *grid = pf_wave_grid(w);
-    if (pf_wave_distributed(w)) {
-        /* Gathered onto rank 0, which writes (see gather_parts). */
-        int root = pf_dist_rank() == 0;
-        double *all = root ? malloc(pf_grid_total(grid) * sizeof *all) : NULL;
-        s = pf_wave_gather_density(w, rep, all);
-        if (s || !root) {
-            free(all);
-            return s;
-        }
-        return put_density_values(f, name, w, rep, all);
-    }
+    if (pf_wave_distributed(w)) return put_density_rows(f, name, w, rep); /* piece by piece, see above */
     double *rho = malloc(pf_grid_total(grid) * sizeof *rho);
     if (!rho) return pf_fail(f->ctx, PF_ENOMEM, "out of memory");
     s = pf_wave_density(w, rep, rho);
@@ -724,23 +898,11 @@ static pf_status put_density_values(pf_h5 *f, const char *name, pf_wave *w, pf_r
     int d = pf_grid_dim(grid);
     hsize_t dims[PF_MAX_DIM];
     shape_of(grid, dims);
-    static const char *const pos[] = {"m^-1", "m^-2", "m^-3"};
-    static const char *const mom[] = {"m", "m^2", "m^3"};
-    const char *pairs[] = {
-        "long_name",
-        rep == PF_POSITION ? "probability density |psi(x)|^2" : "probability density |phi(k)|^2 over wave number",
-        "normalization",
-        rep == PF_POSITION ? "integrates to the state's norm (1 for a normalised state): sum of density times the cell volume "
-                             "(product of grid_spacing_m)"
-                           : "integrates to the state's norm (1 for a normalised state): sum of density times the "
-                             "wave-number cell (product of 2 pi / grid_span_m)",
-        "representation", rep == PF_POSITION ? "position" : "momentum", NULL};
     hid_t g = new_group(f, name);
     int bad = g < 0 || write_wave_attrs(f, g, name, w, "density") ||
               attr_string(g, "representation", rep == PF_POSITION ? "position" : "momentum") ||
-              write_dataset(f, g, "density", H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, d, dims, rho,
-                            rep == PF_POSITION ? pos[d - 1] : mom[d - 1]) ||
-              describe(g, "density", pairs) || write_axes(f, g, grid, rep, w) || attach_axes(g, "density", d, rep);
+              write_dataset(f, g, "density", H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, d, dims, rho, density_unit(d, rep)) ||
+              describe(g, "density", density_pairs(rep)) || write_axes(f, g, grid, rep, w) || attach_axes(g, "density", d, rep);
     free(rho);
     if (g >= 0) H5Gclose(g);
     return bad ? pf_fail(f->ctx, PF_EIO, "cannot write density '%s' to '%s'", name, f->sf.final_path) : PF_OK;

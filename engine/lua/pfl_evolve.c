@@ -131,18 +131,25 @@ static void push_info_number(lua_State *L, const char *k, double v)
     lua_setfield(L, -2, k);
 }
 
+/* Whether an 'acceleration' adds a uniform force (a non-zero value on some
+ * axis); refused on a distributed grid. */
+static int tilt_wanted(lua_State *L, pf_wave *w, const double *acc, int accelerated)
+{
+    int any = 0;
+    for (int a = 0; accelerated && a < dim_of(w); a++) any = any || acc[a] != 0.0;
+    if (any && pf_grid_distributed(pf_wave_grid(w)))
+        luaL_error(L, "an acceleration (the tilt of a uniform force) is not available for a grid distributed over MPI "
+                      "ranks yet (docs/distributed.md); give acceleration = false");
+    return any;
+}
+
 /* The uniform force of an 'acceleration' as a potential on the grid
  * (-m a.xi, pf_frame_tilt_add) in a userdata left on the stack; NULL when
  * there is no acceleration or it is zero. */
 static double *tilt_values(lua_State *L, pf_wave *w, const double *acc, int accelerated)
 {
+    if (!tilt_wanted(L, w, acc, accelerated)) return NULL;
     pf_grid *g = pf_wave_grid(w);
-    int any = 0;
-    for (int a = 0; accelerated && a < dim_of(w); a++) any = any || acc[a] != 0.0;
-    if (!any) return NULL;
-    if (pf_grid_distributed(g))
-        luaL_error(L, "an acceleration (the tilt of a uniform force) is not available for a grid distributed over MPI "
-                      "ranks yet (docs/distributed.md); give acceleration = false");
     size_t n = pf_grid_total(g);
     double *T = lua_newuserdatauv(L, n * sizeof(double), 0);
     memset(T, 0, n * sizeof(double));
@@ -233,15 +240,24 @@ static int l_evolve(lua_State *L)
         spec.potential = V;
         spec.cache = cache;
     }
-    const double *T = tilt_values(L, w, acc, accelerated);
-    tilt_call tc = {spec.varying, spec.user, T, pf_grid_total(g)};
-    if (T && spec.varying) {
-        spec.varying = tilt_cb;
-        spec.user = &tc;
-    } else if (T) {
-        /* The tilted values are new each call: no exponentials to keep. */
-        spec.potential = tilted_static(L, V, T, pf_grid_total(g));
-        spec.cache = NULL;
+    int tilted = tilt_wanted(L, w, acc, accelerated);
+    const double *T = NULL;
+    tilt_call tc = {spec.varying, spec.user, NULL, pf_grid_total(g)};
+    if (tilted && cache && !spec.varying) {
+        /* A pf.potential object keeps V - m a.xi and its exponentials for
+         * the acceleration and mass of the last call (pfl_potential_tilted). */
+        spec.potential = pfl_potential_tilted(L, fn, pfl_test_potential(L, fn), pf_wave_mass(w), acc, &spec.cache);
+    } else if (tilted) {
+        T = tilt_values(L, w, acc, accelerated);
+        tc.T = T;
+        if (spec.varying) {
+            spec.varying = tilt_cb;
+            spec.user = &tc;
+        } else {
+            /* The tilted values are new each call: no exponentials to keep. */
+            spec.potential = tilted_static(L, V, T, pf_grid_total(g));
+            spec.cache = NULL;
+        }
     }
     /* Everything is read: now the lab potential may take the frame's momentum. */
     pfl_check(L, pf_wave_frame_fold(w, "a potential or force"), "evolve");
@@ -249,7 +265,7 @@ static int l_evolve(lua_State *L)
     pf_status st = pf_wave_evolve(w, t, &spec, &info);
     if (st == PF_ECALLBACK) return pfl_raise_callback(L, "evolve");
     pfl_check(L, st, "evolve");
-    if (T) pf_frame_tilt_phase(w, acc, t);
+    if (tilted) pf_frame_tilt_phase(w, acc, t);
     lua_settop(L, 1);
     lua_createtable(L, 0, 3);
     push_info_number(L, "steps", (double)info.steps);
@@ -284,15 +300,19 @@ static int l_relax(lua_State *L)
     double offset[PF_MAX_DIM];
     pfl_sampler_frame_offset(w, PF_POSITION, offset);
     const double *V;
-    potential_field(L, 2, g, "relax", 0, &V, NULL, offset);
+    pf_evolve_cache *object;
+    int fn = potential_field(L, 2, g, "relax", 0, &V, &object, offset);
     if (!V) return luaL_error(L, "relax: field 'potential' is required (function of the coordinates or table, J)");
-    const double *T = tilt_values(L, w, acc, accelerated);
-    spec.potential = T ? tilted_static(L, V, T, pf_grid_total(g)) : V;
+    int tilted = tilt_wanted(L, w, acc, accelerated);
+    pf_evolve_cache *unused;
+    if (tilted && object) spec.potential = pfl_potential_tilted(L, fn, pfl_test_potential(L, fn), pf_wave_mass(w), acc, &unused);
+    else if (tilted) spec.potential = tilted_static(L, V, tilt_values(L, w, acc, accelerated), pf_grid_total(g));
+    else spec.potential = V;
     pfl_check(L, pf_wave_frame_fold(w, "a potential"), "relax");
     pf_relax_info info;
     pfl_check(L, pf_wave_relax(w, &spec, &info), "relax");
     /* The grid's energies lack the force's constant -m a.X (lab energy). */
-    double c = T ? pf_frame_tilt_constant(w, acc) : 0.0;
+    double c = tilted ? pf_frame_tilt_constant(w, acc) : 0.0;
     lua_settop(L, 1);
     lua_createtable(L, 0, 6);
     push_info_number(L, "energy", info.energy + c);

@@ -44,6 +44,7 @@ static const char *const FRAME_AWARE[] = {
     "h5file:put_density",
     "h5file:put_wave",
     "pf.mixture",
+    "pf.picture_carpet",
     "pf.picture_map",
     "pf.potential",
     "wave:__add",
@@ -382,12 +383,23 @@ static int l_frame_aware(lua_State *L)
     return 1;
 }
 
+/* pf._frame_guard_probe(w) -> true: reads w as every binding function does
+ * (pfl_check_wave) without being listed in FRAME_AWARE, so the tests see the
+ * refusal a new, unlisted function would give a moved wave, now that every
+ * wave-reading function is listed. */
+static int l_frame_guard_probe(lua_State *L)
+{
+    pfl_check_wave(L, 1);
+    lua_pushboolean(L, 1);
+    return 1;
+}
+
 void pfl_open_frame(lua_State *L, int mod)
 {
     static const luaL_Reg methods[] = {
         {"frame", l_frame}, {"x_axis", l_x_axis}, {"k_axis", l_k_axis}, {NULL, NULL},
     };
-    static const luaL_Reg funcs[] = {{"_frame_aware", l_frame_aware}, {NULL, NULL}};
+    static const luaL_Reg funcs[] = {{"_frame_aware", l_frame_aware}, {"_frame_guard_probe", l_frame_guard_probe}, {NULL, NULL}};
     pfl_add_wave_methods(L, methods);
     pfl_add_functions(L, mod, funcs);
 }

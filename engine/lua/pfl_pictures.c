@@ -23,7 +23,7 @@ static const pfl_options_decl SERIES_OPTIONS = {
     "pf.picture_lines series[i]", (const char *const[]){"x", "y", "label", "dashed", "points", NULL}};
 static const pfl_options_decl CARPET_OPTIONS = {
     "pf.picture_carpet", (const char *const[]){"duration", "frames", "title", "x_range", "per_frame", "width", "height",
-                                               "overwrite", "marks", "value_max", NULL}};
+                                               "overwrite", "marks", "value_max", "acceleration", NULL}};
 static const pfl_options_decl MARK_OPTIONS = {"pf.picture_carpet marks[i]", (const char *const[]){"at", "label", NULL}};
 
 static int opt_int(lua_State *L, int opts, const char *field, int def)
@@ -468,15 +468,24 @@ static int l_picture_lines(lua_State *L)
     return 1;
 }
 
+/* Largest lab window of a carpet whose frame travels (columns at the grid's
+ * spacing): beyond it the caller is asked for an x_range. */
+#define CARPET_MAX_COLUMNS ((size_t)1 << 20)
+
 /* pf.picture_carpet(path, w, {duration=, frames=, title=, x_range={lo, hi},
- *   per_frame=false, value_max=, marks={{at=, label=}, ...}, width=,
- *   height=}) -> final path.  Flies a copy of the
+ *   per_frame=false, value_max=, marks={{at=, label=}, ...}, acceleration=,
+ *   width=, height=}) -> final path.  Flies a copy of the
  * 1D state through `frames` equally spaced times from now to now + duration
  * and maps its density over x and t (the state itself is left as it was).
- * per_frame divides each time's profile by its own maximum, so a spreading
- * cloud stays visible; x_range crops the picture to lo..hi (m); value_max
- * caps the colour scale (what lies above is clipped, and the colour bar
- * says so); marks draw labelled lines at times after the start (s). */
+ * The x axis is the lab's: a wave in a moving frame (or one flown under
+ * 'acceleration', the pf.setup default included) is drawn on one lab window
+ * that holds every time's co-moving grid, each profile placed at its lab
+ * offset (pf_wave_lab_density_window; zero where that time's grid does not
+ * reach), so a falling cloud draws its parabola.  per_frame divides each
+ * time's profile by its own maximum, so a spreading cloud stays visible;
+ * x_range crops the picture to lo..hi (m, lab); value_max caps the colour
+ * scale (what lies above is clipped, and the colour bar says so); marks draw
+ * labelled lines at times after the start (s). */
 static int l_picture_carpet(lua_State *L)
 {
     const char *path = pfl_output_resolve(L, luaL_checkstring(L, 1), "picture_carpet");
@@ -493,36 +502,81 @@ static int l_picture_carpet(lua_State *L)
     double vmax_opt = value_max_option(L, 3, "picture_carpet");
     size_t nmarks;
     const pf_mark *marks = marks_option(L, 3, &nmarks);
-    size_t nx = pf_grid_points(g, 0);
-    const double *xs = axis_table(L, w, 0, PF_POSITION);
-    size_t i0 = 0, i1 = nx; /* columns shown: i0 .. i1-1 */
-    double range[2];
-    if (pfl_field_vector(L, 3, "x_range", 2, range, 0)) {
-        if (!(range[1] > range[0])) return luaL_error(L, "picture_carpet: x_range must be {lo, hi} with lo < hi");
-        while (i0 < nx && xs[i0] < range[0]) i0++;
-        while (i1 > i0 && xs[i1 - 1] > range[1]) i1--;
-        if (i1 - i0 < 2) return luaL_error(L, "picture_carpet: x_range holds fewer than 2 grid points");
+    double acc[PF_MAX_DIM];
+    int accelerated = pfl_frame_acceleration(L, 3, 1, acc, "pf.picture_carpet");
+    double dt = duration / (frames - 1);
+    /* The frame's lab offset at every time (the closed form the flights use). */
+    pf_frame fr;
+    pf_wave_frame(w, &fr);
+    double xmin = fr.position[0], xmax = fr.position[0];
+    for (int j = 1; j < frames; j++) {
+        pf_frame_advance(&fr, 1, pf_wave_mass(w), dt, accelerated ? acc : NULL);
+        xmin = fmin(xmin, fr.position[0]);
+        xmax = fmax(xmax, fr.position[0]);
     }
+    int travels = xmax > xmin;
+    size_t nx = pf_grid_points(g, 0), ncol = nx;
+    const double *xs;
+    double dx = pf_grid_spacing(g, 0), lo = 0;
+    double range[2];
+    int has_range = pfl_field_vector(L, 3, "x_range", 2, range, 0);
+    if (has_range && !(range[1] > range[0])) return luaL_error(L, "picture_carpet: x_range must be {lo, hi} with lo < hi");
+    size_t i0 = 0, i1; /* columns shown: i0 .. i1-1 */
+    if (!travels) {
+        xs = axis_table(L, w, 0, PF_POSITION); /* the grid's points at its (fixed) lab offset */
+        i1 = ncol;
+        if (has_range) {
+            while (i0 < ncol && xs[i0] < range[0]) i0++;
+            while (i1 > i0 && xs[i1 - 1] > range[1]) i1--;
+        }
+    } else {
+        /* One lab axis at the grid's spacing from the lowest to the highest
+         * lab point any time's grid reaches; x_range picks columns of it. */
+        lo = pf_grid_x(g, 0, 0) + xmin;
+        double cols = floor((xmax - xmin) / dx + 0.5) + (double)nx, c0 = 0, c1 = cols;
+        if (has_range) {
+            c0 = fmax(0.0, ceil((range[0] - lo) / dx));
+            c1 = fmin(cols, floor((range[1] - lo) / dx) + 1.0);
+            if (c1 < c0) c1 = c0;
+        }
+        if (!(c1 - c0 <= (double)CARPET_MAX_COLUMNS)) {
+            char msg[300];
+            snprintf(msg, sizeof msg,
+                     "picture_carpet: the cloud's frame travels %g m during the carpet, %.0f columns at the grid spacing "
+                     "%g m (at most %zu); give x_range (lab, m) to show part of it",
+                     xmax - xmin, c1 - c0, dx, CARPET_MAX_COLUMNS);
+            return luaL_error(L, "%s", msg);
+        }
+        size_t first = (size_t)c0;
+        ncol = (size_t)c1 - first;
+        double *v = pfl_scratch_doubles(L, ncol ? ncol : 1);
+        for (size_t i = 0; i < ncol; i++) v[i] = lo + (double)(first + i) * dx;
+        xs = v;
+        i1 = ncol;
+    }
+    if (i1 < i0 + 2) return luaL_error(L, "picture_carpet: x_range holds fewer than 2 grid points");
     size_t nshow = i1 - i0;
+    if ((double)nshow * frames > 1e8)
+        return luaL_error(L, "picture_carpet: %d columns x %d frames is too many; give x_range or fewer frames", (int)nshow, frames);
     double *rho = pfl_scratch_doubles(L, nshow * (size_t)frames);
     double *t = pfl_scratch_doubles(L, (size_t)frames);
-    double *col = pfl_scratch_doubles(L, nx);
+    double *col = pfl_scratch_doubles(L, travels ? nshow : nx);
     pf_wave *c;
     pfl_check(L, pf_wave_copy(w, &c), "picture_carpet");
     pfl_push_wave(L, c); /* owned by Lua: freed even if a step below raises */
     pf_progress bar;
     pf_progress_begin(&bar, stderr, pfl_progress_wanted(L), frames, "carpet");
-    double dt = duration / (frames - 1);
     for (int j = 0; j < frames; j++) {
         t[j] = dt * j;
-        pf_status st = j ? pf_wave_fly(c, dt) : PF_OK;
-        if (!st) st = pf_wave_density(c, PF_POSITION, col);
+        pf_status st = j ? pf_wave_fly_in_frame(c, dt, accelerated ? acc : NULL) : PF_OK;
+        if (!st) st = travels ? pf_wave_lab_density_window(c, xs[i0], nshow, col) : pf_wave_density(c, PF_POSITION, col);
         if (st) pf_progress_end(&bar);
         pfl_check(L, st, "picture_carpet");
+        const double *shown = travels ? col : col + i0;
         double peak = 0;
-        for (size_t i = i0; i < i1; i++) peak = col[i] > peak ? col[i] : peak;
+        for (size_t i = 0; i < nshow; i++) peak = shown[i] > peak ? shown[i] : peak;
         double f = per_frame && peak > 0 ? 1 / peak : 1;
-        for (size_t i = i0; i < i1; i++) rho[(i - i0) * (size_t)frames + (size_t)j] = col[i] * f;
+        for (size_t i = 0; i < nshow; i++) rho[i * (size_t)frames + (size_t)j] = shown[i] * f;
         pf_progress_advance(&bar, 1);
     }
     pf_progress_end(&bar);

@@ -7,6 +7,8 @@
  * step exponentials for the last (step, order) are cached in the core's
  * pf_evolve_cache and freed by close() or the collector. */
 #include <stdio.h>
+#include <string.h>
+#include "../core/pf_frame.h"
 #include "pfl_protocol.h"
 
 pfl_potential_box *pfl_test_potential(lua_State *L, int idx)
@@ -14,6 +16,33 @@ pfl_potential_box *pfl_test_potential(lua_State *L, int idx)
     pfl_potential_box *b = luaL_testudata(L, idx, PFL_POTENTIAL_TYPE);
     if (b && !b->grid) luaL_error(L, "potential is closed");
     return b;
+}
+
+const double *pfl_potential_tilted(lua_State *L, int idx, pfl_potential_box *b, double mass, const double *acc,
+                                   pf_evolve_cache **cache)
+{
+    idx = lua_absindex(L, idx);
+    int d = pf_grid_dim(b->grid), same = b->tilted != NULL && b->tilt_mass == mass;
+    for (int a = 0; a < d; a++) same = same && b->tilt_acc[a] == acc[a];
+    *cache = &b->tilt_cache;
+    if (same) {
+        b->tilt_reuses++;
+        return b->tilted;
+    }
+    size_t n = pf_grid_total(b->grid);
+    double *S = lua_newuserdatauv(L, n * sizeof(double), 0);
+    memset(S, 0, n * sizeof(double));
+    pf_frame_tilt_add(b->grid, mass, acc, S);
+    for (size_t i = 0; i < n; i++) S[i] = b->values[i] + S[i]; /* the sum evolve forms without the object */
+    /* The old exponentials belong to the old table, whose memory the
+     * collector may hand out again: drop them before the new table is used. */
+    pf_evolve_cache_clear(&b->tilt_cache);
+    lua_setiuservalue(L, idx, 2);
+    b->tilted = S;
+    b->tilt_mass = mass;
+    for (int a = 0; a < PF_MAX_DIM; a++) b->tilt_acc[a] = a < d ? acc[a] : 0.0;
+    b->tilt_builds++;
+    return S;
 }
 
 /* pf.potential(grid | wave, f | table) -> potential object.  Given a wave,
@@ -33,11 +62,10 @@ static int l_potential(lua_State *L)
     }
     if (lua_type(L, 2) != LUA_TFUNCTION && lua_type(L, 2) != LUA_TTABLE)
         return luaL_argerror(L, 2, "potential: a function of the coordinates or a table of values (J) expected");
-    pfl_potential_box *b = lua_newuserdatauv(L, sizeof *b, 1);
-    b->grid = NULL;
-    b->values = NULL;
-    for (int a = 0; a < PF_MAX_DIM; a++) b->offset[a] = 0.0;
+    pfl_potential_box *b = lua_newuserdatauv(L, sizeof *b, 2);
+    memset(b, 0, sizeof *b);
     pf_evolve_cache_init(&b->cache);
+    pf_evolve_cache_init(&b->tilt_cache);
     luaL_setmetatable(L, PFL_POTENTIAL_TYPE);
     const double *V = pfl_read_potential(L, 2, g, "potential", 0, 0, offset);
     lua_setiuservalue(L, -2, 1);
@@ -53,11 +81,15 @@ static int l_close(lua_State *L)
     pfl_potential_box *b = luaL_checkudata(L, 1, PFL_POTENTIAL_TYPE);
     if (b->grid) {
         pf_evolve_cache_clear(&b->cache);
+        pf_evolve_cache_clear(&b->tilt_cache);
         pf_grid_release(b->grid);
         b->grid = NULL;
         b->values = NULL;
+        b->tilted = NULL;
         lua_pushnil(L);
         lua_setiuservalue(L, 1, 1);
+        lua_pushnil(L);
+        lua_setiuservalue(L, 1, 2);
     }
     return 0;
 }
@@ -78,6 +110,31 @@ static int l_range(lua_State *L)
     return 2;
 }
 
+/* p:cache_status() -> {tilted_builds = n, tilted_reuses = n, acceleration =
+ * {m/s^2 per axis} of the kept tilted table (absent when none)}: how often
+ * evolve and relax built V - m a.xi for this object and how often they
+ * reused it. */
+static int l_cache_status(lua_State *L)
+{
+    pfl_potential_box *b = luaL_checkudata(L, 1, PFL_POTENTIAL_TYPE);
+    if (!b->grid) return luaL_error(L, "potential is closed");
+    lua_createtable(L, 0, 3);
+    lua_pushinteger(L, (lua_Integer)b->tilt_builds);
+    lua_setfield(L, -2, "tilted_builds");
+    lua_pushinteger(L, (lua_Integer)b->tilt_reuses);
+    lua_setfield(L, -2, "tilted_reuses");
+    if (b->tilted) {
+        int d = pf_grid_dim(b->grid);
+        lua_createtable(L, d, 0);
+        for (int a = 0; a < d; a++) {
+            lua_pushnumber(L, b->tilt_acc[a]);
+            lua_rawseti(L, -2, a + 1);
+        }
+        lua_setfield(L, -2, "acceleration");
+    }
+    return 1;
+}
+
 static int l_tostring(lua_State *L)
 {
     pfl_potential_box *b = luaL_checkudata(L, 1, PFL_POTENTIAL_TYPE);
@@ -88,7 +145,7 @@ static int l_tostring(lua_State *L)
 
 void pfl_register_potential(lua_State *L, int mod)
 {
-    static const luaL_Reg methods[] = {{"close", l_close}, {"range", l_range}, {NULL, NULL}};
+    static const luaL_Reg methods[] = {{"close", l_close}, {"range", l_range}, {"cache_status", l_cache_status}, {NULL, NULL}};
     static const luaL_Reg meta[] = {{"__gc", l_close}, {"__close", l_close}, {"__tostring", l_tostring}, {NULL, NULL}};
     static const luaL_Reg funcs[] = {{"potential", l_potential}, {NULL, NULL}};
     luaL_newmetatable(L, PFL_POTENTIAL_TYPE);

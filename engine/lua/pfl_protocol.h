@@ -77,10 +77,26 @@ typedef struct pfl_potential_box {
      * zero when made from a grid, the frame position when made from a wave
      * (pf.potential(w, f)); evolve and relax require it to match the wave's. */
     double offset[PF_MAX_DIM];
+    /* V - m a.xi for the acceleration and mass evolve or relax last used with
+     * this object (pfl_potential_tilted), owned by user value 2, with its own
+     * split-step exponentials: a protocol repeating evolve under gravity
+     * builds the tilted table and its exponentials once.  The grid and the
+     * lab offset are the object's own (evolve checks them against the wave),
+     * so acceleration and mass complete the key. */
+    const double *tilted;   /* NULL: none yet */
+    double tilt_acc[PF_MAX_DIM], tilt_mass;
+    pf_evolve_cache tilt_cache;
+    size_t tilt_builds, tilt_reuses; /* p:cache_status() */
 } pfl_potential_box;
 
 /* The open potential object at idx, or NULL when idx holds something else. */
 pfl_potential_box *pfl_test_potential(lua_State *L, int idx);
+/* The object's V - m a.xi for mass and acc (m/s^2 per axis of its grid), and
+ * in *cache the exponentials kept for it: built on first use and whenever
+ * acc or mass differ from the last call, else reused.  idx: the object's
+ * stack index. */
+const double *pfl_potential_tilted(lua_State *L, int idx, pfl_potential_box *b, double mass, const double *acc,
+                                   pf_evolve_cache **cache);
 /* Registers pf.potential and the potential metatable (called by pfl_open_evolve). */
 void pfl_register_potential(lua_State *L, int mod);
 

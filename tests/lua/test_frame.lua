@@ -214,8 +214,9 @@ do
   local g = pf.grid{points = 256, span = 40e-6}
   local w = pf.gaussian(g, {mass = m, width = 2e-6})
   w:fly(1e-4, {acceleration = -9.80665})
-  check.fails(function() pf.picture_carpet("refused.png", w, {duration = 1e-4, frames = 4}) end,
+  check.fails(function() pf._frame_guard_probe(w) end,
     "an unlisted function refuses a moved wave", here, "does not support a wave in a moving frame")
+  check.truthy(pf._frame_guard_probe(pf.gaussian(g, {mass = m, width = 2e-6})), "the probe takes an unmoved wave")
   local meta = setmetatable({}, {__index = function(_, k)
     return getmetatable(w).__index[k] or (k:match("^__") and getmetatable(w)[k]) end})
   local h5 = pf.h5file("frame-aware-walk.h5", {overwrite = true})
@@ -637,6 +638,36 @@ do
   print(string.format("note masked protocol frame vs big lab grid: %.3e of peak", worst / peak))
   check.close(worst / peak, 0, 1e-11, "masked and fallen wave equals the big lab grid's (max |diff| / peak)",
     "internal: same protocol on a lab grid")
+end
+
+-- 12. Pictures of a moved wave are drawn on lab axes.  picture_lines takes
+-- arrays: a falling cloud's w:x_axis(1) and w:density() are lab positions and
+-- the values there, so the plotted curve's centre is the lab centre -g t^2/2
+-- (Newton; common practice).  picture_carpet draws one lab window holding
+-- every time's co-moving grid (tests/ref/test_picture_pixels.sh reads the
+-- parabola from the pixels; tests/unit/test_frame.c checks the placed values
+-- against the closed-form falling Gaussian); a drop far longer than the grid
+-- asks for an x_range (lab coordinates), which then draws.
+do
+  local gn, t = 9.80665, 1e-3
+  local g = pf.grid{points = 256, span = 24e-6}
+  local w = packet(g, 0, 0, 1e-6):fly(t, {acceleration = -gn})
+  local xs, rho = w:x_axis(1), w:density()
+  local num, den = 0, 0
+  for i = 1, #xs do num, den = num + xs[i] * rho[i], den + rho[i] end
+  check.close(num / den, -0.5 * gn * t * t, 1e-12, "picture_lines data of a moved wave: lab centre", "Newton (common practice)")
+  check.truthy(pf.picture_lines("falling-lines.png", {x_name = "x", x_quantity = "length",
+    series = {{x = xs, y = rho, label = "falling cloud"}}}) ~= nil, "picture_lines draws the lab profile")
+  check.truthy(pf.picture_carpet("falling-carpet.png", w, {duration = 1e-3, frames = 8, acceleration = -gn}) ~= nil,
+    "picture_carpet draws a moved wave falling on")
+  -- A cloud launched at 100 m/s (the velocity in the frame) crosses 0.2 m in
+  -- 2 ms: two million columns at this spacing.
+  local v = 100
+  local fast = packet(g, 0, 0, 1e-6):kick(m * v / hbar, {frame = true})
+  check.fails(function() pf.picture_carpet("too-far.png", fast, {duration = 2e-3, frames = 4}) end,
+    "a launch across 0.2 m on a 24 um grid asks for x_range", here, "give x_range")
+  check.truthy(pf.picture_carpet("far-window.png", fast, {duration = 2e-3, frames = 4,
+    x_range = {v * 2e-3 - 20e-6, v * 2e-3 + 20e-6}}) ~= nil, "x_range (lab) draws the end of a long launch")
 end
 
 check.done()

@@ -124,7 +124,7 @@ local TAKES_NO_OPTIONS = {
   "pf.complex", "pf.polar", "pf.cexp", "pf.run_info", "pf.species", "pf.mass", "pf.species_list",
   "pf.photon_momentum", "pf.photon_wavenumber", "pf.mixture", "pf.mask", "pf.potential", "pf.progress",
   "pf.read_csv", "pf.report", "pf.output_path", "pf.outputs", "pf.sha256", "pf.resonant_cross_section",
-  "pf.parameters", "pf.check_options", "pf._option_sets", "pf._frame_aware", "pf.mpi_info", "pf._dist_aware",
+  "pf.parameters", "pf.check_options", "pf._option_sets", "pf._frame_aware", "pf._frame_guard_probe", "pf.mpi_info", "pf._dist_aware",
   -- wave functions
   "wave:psi", "wave:phi", "wave:set_psi", "wave:set_phi", "wave:density", "wave:momentum_density", "wave:copy",
   "wave:normalize", "wave:scale", "wave:mass", "wave:clock", "wave:representation", "wave:grid", "wave:log",
@@ -147,7 +147,7 @@ local TAKES_NO_OPTIONS = {
   "grid:knyquist", "grid:x", "grid:k", "grid:x_axis", "grid:k_axis", "grid:close",
   "h5file:put_density", "h5file:put_table", "h5file:put_value", "h5file:close", "h5file:discard", "h5file:path",
   "random:uniform", "random:normal", "random:poisson", "random:raw",
-  "potential:close", "potential:range", "progress:advance", "progress:finish", "progress:shown",
+  "potential:close", "potential:range", "potential:cache_status", "progress:advance", "progress:finish", "progress:shown",
   "complex:abs", "complex:arg", "complex:conj", "complex:abs2",
   "levels:populations", "levels:level", "levels:labels", "levels:energy", "levels:clock", "levels:norm",
   "levels:close",

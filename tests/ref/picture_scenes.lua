@@ -16,6 +16,15 @@ pf.picture_carpet("carpet_noclip.png", w1, {duration = dur, frames = 60, x_range
 pf.picture_carpet("carpet_mark.png", w1, {duration = dur, frames = 60, x_range = {-20e-6, 20e-6},
   marks = {{at = dur / 2, label = "half-way"}}})
 pf.picture_carpet("carpet_plain.png", w1, {duration = dur, frames = 60, x_range = {-20e-6, 20e-6}})
+-- A cloud falling in its frame: 0.5 ms of fall first, then a 3 ms carpet
+-- under gravity on one lab window (each time's profile at its lab offset).
+local gf = pf.grid{points = 512, span = 40e-6}
+local wf = pf.gaussian(gf, {mass = "87Rb", width = 1e-6})
+wf:fly(0.5e-3, {acceleration = -pf.constants.g_n})
+pf.picture_carpet("carpet_fall.png", wf, {duration = 3e-3, frames = 61, per_frame = true,
+  acceleration = -pf.constants.g_n, title = "falling cloud"})
+print(string.format("fall window %.9e %.9e", gf:x(1, 1) - 0.5 * pf.constants.g_n * 3.5e-3 ^ 2,
+  gf:x(1, 512) - 0.5 * pf.constants.g_n * 0.5e-3 ^ 2))
 -- A wide cloud (equal aspect): the picture's height follows the map.
 local g2 = pf.grid{points = {128, 64}, span = {160e-6, 80e-6}}
 pf.picture_map("map_wide.png", pf.gaussian(g2, {mass = "87Rb", width = {12e-6, 6e-6}}), {title = "wide cloud", crop = false})

@@ -6,7 +6,7 @@
 # beside and above the colour bar, marks draw a line across the carpet, a
 # map's picture follows its panel (no blank band above the title, a tall
 # cloud gets a narrow picture at equal aspect), an 80 um x 3.4 mm grid is
-# not drawn as a sliver; *.pdf names write PDF documents (header and
+# not drawn as a sliver, a falling cloud's carpet draws its lab parabola; *.pdf names write PDF documents (header and
 # end-of-file marker of ISO 32000-1) without a creation date, and reruns are
 # byte-identical.  Scenes: tests/ref/picture_scenes.lua.
 set -euo pipefail
@@ -129,7 +129,19 @@ top, bottom = frame_rows("lines_flat.png")
 blue = next(y for y in range(h) if any(near(pixel(rows, x, y), (30, 80, 170)) for x in range(int(0.12 * w), int(0.6 * w))))
 ok(blue - top >= 0.15 * (bottom - top), "a curve across the whole top leaves room for the legend: highest curve %d px under the frame (panel %d px)" % (blue - top, bottom - top))
 
-# 8. PDF documents.
+# 8. A cloud falling in its frame, drawn on one lab window: along the row of
+# time t the brightest column sits at the lab centre -g (t0 + t)^2 / 2
+# (Newton; common practice; g_n = 9.80665 m/s^2, CODATA), placed on the x
+# axis that runs over the window picture_scenes.lua prints, within 3 pixels.
+w, h, rows, (x0, t, x1, b), _ = panel_and_bar("carpet_fall.png", None)
+L, R, gn, t0, T = -8.006573125e-05, 1.869604375e-05, 9.80665, 0.5e-3, 3e-3
+for u in (0.05, 0.5, 0.95):
+    y = round(b - u * (b - t))
+    bright = max(range(x0 + 2, x1 - 1), key=lambda x: sum(pixel(rows, x, y)))
+    want = x0 + (-0.5 * gn * (t0 + u * T) ** 2 - L) / (R - L) * (x1 - x0)
+    ok(abs(bright - want) <= 3, "falling carpet at t = %.2f T: ridge at pixel %d, lab centre -g t^2/2 at %.1f" % (u, bright, want))
+
+# 9. PDF documents.
 for name in ("carpet.pdf", "lines.pdf"):
     data = open(d + "/" + name, "rb").read()
     ok(data.startswith(b"%PDF-") and data.rstrip().endswith(b"%%EOF"), "%s: PDF header and end-of-file marker [ISO 32000-1]" % name)

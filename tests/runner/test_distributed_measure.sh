@@ -61,15 +61,16 @@ assert worst <= tol, ("worst", worst, "over", tol)
 print("%.2g" % worst)
 PY
 
-# run NAME PROBE: one process, then mpirun -n 1..4; the outputs land in
-# NAME.plain.txt and NAME.N.txt.
+# run NAME PROBE: one process, then mpirun -n 1..4; the printed lines land
+# in NAME.plain.txt and NAME.N.txt, the files in the folders NAME.plain and
+# NAME.N.
 run_probe() {
   local name=$1 probe=$2
-  expect 0 "$name: one process" -- "$runner" run "$probe"
+  expect 0 "$name: one process" -- "$runner" run "$probe" --out "$work/$name.plain"
   printf '%s\n' "$out" >"$work/$name.plain.txt"
   has "distribute false" "$name: one process: nothing distributed without mpirun"
   for n in 1 2 3 4; do
-    expect 0 "$name: mpirun -n $n" -- timeout 120 mpirun -n "$n" --oversubscribe "$runner" run "$probe"
+    expect 0 "$name: mpirun -n $n" -- timeout 120 mpirun -n "$n" --oversubscribe "$runner" run "$probe" --out "$work/$name.$n"
     printf '%s\n' "$out" >"$work/$name.$n.txt"
     has "ranks $n distribute true" "$name: mpirun -n $n: distributed over $n ranks"
     [ "$(grep -c '^ranks' "$work/$name.$n.txt")" -eq 1 ] && ok "$name -n $n: only rank 0 prints" ||
@@ -112,6 +113,27 @@ worst=$(/usr/bin/python3 "$work/law.py" "$work/masks.4.txt" 1e-6 shift1 shift2) 
 measure="$root/tests/runner/distm/probe_measure.lua"
 run_probe measure "$measure"
 compare_probe measure "density tables, covariances, samples, cameras and fringe fits"
+# Plane figures (w:beyond, w:flux) and w:position_momentum_covariance run
+# on the wave gathered onto rank 0; the picture is drawn from the gathered
+# density and only rank 0's file is kept.
+for n in 2 3 4; do
+  cmp -s "$work/measure.plain/cloud.png" "$work/measure.$n/cloud.png" &&
+    ok "measure -n $n: pf.picture_map of a distributed wave is byte-identical to the single process's" ||
+    fail "measure -n $n: cloud.png differs from the single process's"
+  [ "$(ls "$work/measure.$n")" = "$(ls "$work/measure.plain")" ] && ok "measure -n $n: the same files in the output folder" ||
+    fail "measure -n $n: other files in the output folder: $(ls "$work/measure.$n")"
+done
+# The probability beyond a plane of a Gaussian at rest: 1/2 at its centre
+# (symmetry), the normal tail (1 - erf(1/sqrt 2)) / 2 one sigma out
+# (normal distribution; value from Python's math.erf, quoted in the probe).
+worst=$(/usr/bin/python3 "$work/law.py" "$work/measure.4.txt" 1e-7 beyond_half beyond_sigma) &&
+  ok "measure -n 4: w:beyond gives the normal distribution's tails ($worst)" || fail "measure -n 4: beyond law missed"
+# A chirp exp(i c x y) on a separable Gaussian: cov(x, p_y) = hbar c s_x^2,
+# cov(y, p_x) = hbar c s_y^2 (Gaussian moments); 1e-5 is the sampling of the
+# 1.5 um width by 1.4 um cells.
+worst=$(/usr/bin/python3 "$work/law.py" "$work/measure.3.txt" 1e-5 pmcov12 pmcov21) &&
+  ok "measure -n 3: position-momentum covariance of a chirped packet is hbar c s^2 ($worst)" ||
+  fail "measure -n 3: position-momentum covariance law missed"
 # Bivariate normal covariance (textbook): the grid's sums of a resolved
 # Gaussian converge fast; 1e-7 is the sampling of this 18 x 16 grid.
 worst=$(/usr/bin/python3 "$work/law.py" "$work/measure.3.txt" 1e-7 cov11 cov12 cov22) &&

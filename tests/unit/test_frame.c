@@ -6,7 +6,11 @@
  * (Avron-Herbst form; the phase is the classical action, Feynman and Hibbs,
  * Quantum Mechanics and Path Integrals, ch. 3, from memory).  The action is
  * integrated here numerically with GSL's adaptive quadrature
- * (gsl_integration_qag), an outside reference for the closed form. */
+ * (gsl_integration_qag), an outside reference for the closed form.
+ * The lab density window (pf_wave_lab_density_window) against the closed-form
+ * density of a Gaussian under a uniform force: centre a t^2/2 (Newton) and the
+ * free width law sigma sqrt(1 + (hbar t / 2 m sigma^2)^2) (textbook free
+ * spreading, from memory). */
 #include <gsl/gsl_integration.h>
 #include "protocol_util.h"
 #include "pf_constants.h"
@@ -102,12 +106,65 @@ static void test_fly_in_frame_bookkeeping(void **state)
     pf_context_release(ctx);
 }
 
+static void test_lab_density_window(void **state)
+{
+    (void)state;
+    pf_context *ctx = tu_context();
+    size_t n = 256;
+    double span = 40e-6;
+    pf_grid *g = tu_grid(ctx, 1, &n, &span, NULL);
+    const double sigma = 1e-6, t = 1e-3, m = RB87_MASS;
+    tu_gauss p = {.sigma = {sigma}};
+    pf_wave *w = tu_gauss_wave(g, m, &p);
+    double a = -9.80665;
+    assert_int_equal(pf_wave_fly_in_frame(w, t, &a), PF_OK);
+    pf_frame before;
+    pf_wave_frame(w, &before);
+    const double dx = pf_grid_spacing(g, 0);
+    /* The frame offset is not a whole number of cells: the window needs the
+     * sub-cell shift. */
+    double cells = before.position[0] / dx;
+    assert_true(fabs(cells - round(cells)) > 0.2);
+    const double c = 0.5 * a * t * t;
+    const double s = sigma * sqrt(1 + pow(PF_HBAR * t / (2 * m * sigma * sigma), 2));
+    const double peak = 1 / sqrt(2 * PF_PI * s * s);
+    double out[200];
+    const double lo = -20e-6;
+    assert_int_equal(pf_wave_lab_density_window(w, lo, 200, out), PF_OK);
+    double worst = 0;
+    for (size_t i = 0; i < 200; i++) {
+        double x = lo + (double)i * dx;
+        double want = peak * exp(-(x - c) * (x - c) / (2 * s * s));
+        worst = fmax(worst, fabs(out[i] - want));
+    }
+    TU_NEAR(worst / peak, 0.0, 1e-12, "lab density window vs the closed-form falling Gaussian");
+    /* Beyond the co-moving grid (its lab end is X + 20 um): zero. */
+    assert_int_equal(pf_wave_lab_density_window(w, 10e-6, 100, out), PF_OK);
+    assert_true(out[99] == 0.0);
+    assert_true(out[0] > 0.0);
+    pf_frame after;
+    pf_wave_frame(w, &after);
+    assert_true(after.position[0] == before.position[0] && after.phase == before.phase);
+    size_t n2[2] = {8, 8};
+    double span2[2] = {1e-6, 1e-6};
+    pf_grid *g2 = tu_grid(ctx, 2, n2, span2, NULL);
+    pf_wave *w2 = NULL;
+    assert_int_equal(pf_wave_new(g2, m, &w2), PF_OK);
+    assert_int_equal(pf_wave_lab_density_window(w2, 0, 4, out), PF_EINVAL);
+    pf_wave_free(w2);
+    pf_grid_release(g2);
+    pf_wave_free(w);
+    pf_grid_release(g);
+    pf_context_release(ctx);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_advance_matches_action_integral),
         cmocka_unit_test(test_advance_composes),
         cmocka_unit_test(test_fly_in_frame_bookkeeping),
+        cmocka_unit_test(test_lab_density_window),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

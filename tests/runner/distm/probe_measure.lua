@@ -23,6 +23,24 @@ local function list(tag, t, from, to)
 end
 local info = pf.mpi_info()
 print(string.format("ranks %d distribute %s", info.ranks, tostring(info.distribute)))
+-- Only rank 0 prints, so a figure is also checked on every rank: each rank
+-- scales its own planes of a probe wave by the figure, and the norm (a sum
+-- over all ranks) is the single process's x^2 only when every rank holds
+-- the same x.
+local probe = pf.wave(g, {mass = mass, normalize = true, position = function(x, y)
+  return math.exp(-(x * x + y * y) / (4 * (2e-6) ^ 2))
+end})
+local function agree(tag, x)
+  local c = probe:copy()
+  c:scale(x)
+  line(tag .. "_agree", c:norm())
+  c:close()
+end
+local function total(t)
+  local s = 0
+  for i = 1, #t do s = s + t[i] end
+  return s
+end
 
 -- A correlated Gaussian: |psi|^2 ~ exp(-r^T S^-1 r / 2) with covariance
 -- S = {{a^2, rho a b}, {rho a b, b^2}} (bivariate normal distribution).
@@ -34,7 +52,9 @@ local w = pf.wave(g, {mass = mass, normalize = true, position = function(x, y)
 end})
 
 -- Density tables: every value, gathered in global order.
-list("exact density", w:density())
+local dens = w:density()
+list("exact density", dens)
+agree("exact density", total(dens))
 local d = w:distribution()
 list("exact distribution", d.values)
 list("exact profile", w:profile(1).values)
@@ -53,6 +73,7 @@ line("law cov22", C[2][2], b * b)
 local ev = w:sample(40, {seed = 11})
 list("exact sample1", ev[1])
 list("exact sample2", ev[2])
+agree("exact sample", 1 + total(ev[1]) / 1e-6 + total(ev[2]) / 1e-6)
 
 -- Camera: a line camera along axis 1 (integrating axis 2) and a 2D camera,
 -- expected counts, Poisson counts from a seed, absorption.
@@ -64,6 +85,7 @@ local cam2 = pf.camera{pixels = {5, 4}, pitch = {3.5e-6, 4e-6}, psf = {0.8e-6, 1
 local shot2 = cam2:expose(w, {atoms = 2e4, seed = 6})
 list("exact cam_expected", shot2.expected)
 list("exact cam_counts", shot2.counts)
+agree("exact cam", shot2.total)
 local img = cam2:absorb(w, {atoms = 2e4, cross_section = pf.resonant_cross_section(589e-9), noise = true, seed = 7})
 list("exact absorb_od", img.od)
 line("exact absorb_atoms", img.atoms_recovered)
@@ -89,6 +111,7 @@ local u = pf.wave(g, {mass = mass, normalize = true, position = function(x, y)
 end})
 local E, mu = u:energy{potential = trap, g = gc}
 line("flown energy", E, mu)
+agree("flown energy", E / 1e-31)
 local quartic = 1 / (4 * math.pi * s1 * s2)
 local lin = hbar ^ 2 / (8 * mass) * (1 / s1 ^ 2 + 1 / s2 ^ 2) + 0.5 * mass * (w1 ^ 2 * s1 ^ 2 + w2 ^ 2 * s2 ^ 2)
 line("law energy", E, lin + 0.5 * gc * quartic)
@@ -107,6 +130,39 @@ local f = pf.wave(g, {mass = mass, normalize = true, position = function(x, y)
 end})
 local fit = f:fringes{axis = 1, period = period, envelope = "gaussian"}
 line("exact fringes", fit.period, fit.visibility, fit.phase, fit.envelope_width, fit.envelope_center)
+agree("exact fringes", fit.period / 1e-6 + fit.visibility)
 line("law fperiod", fit.period, period)
 line("law fvisibility", fit.visibility, V)
 f:close()
+
+-- Plane figures and the position-momentum covariance on the wave gathered
+-- in momentum (or position) onto rank 0: a moving, chirped packet.
+local v = pf.wave(g, {mass = mass, normalize = true, position = function(x, y)
+  local amp = math.exp(-x * x / (4 * (1.7e-6) ^ 2) - y * y / (4 * (1.5e-6) ^ 2))
+  local ph = 6e5 * x + 4e10 * x * y
+  return amp * math.cos(ph), amp * math.sin(ph)
+end})
+local P = v:position_momentum_covariance()
+line("flown pmcovariance", P[1][1], P[1][2], P[2][1], P[2][2])
+agree("flown pmcov", P[1][2] / 1e-35)
+-- The chirp exp(i c x y) gives <x p_y> = <y p_x> = hbar c <x^2> <y^2> /
+-- <..> ... for this separable Gaussian: cov(x, p_y) = hbar c s_x^2 and
+-- cov(y, p_x) = hbar c s_y^2 (Gaussian moments, textbook).
+line("law pmcov12", P[1][2], hbar * 4e10 * (1.7e-6) ^ 2)
+line("law pmcov21", P[2][1], hbar * 4e10 * (1.5e-6) ^ 2)
+local b1 = v:beyond{axis = 1, at = 1.1e-6}
+line("flown beyond", b1, v:beyond{axis = 2, at = -0.4e-6})
+agree("flown beyond", b1)
+line("flown flux", v:flux{axis = 1, at = 0.3e-6}, v:flux{axis = 2, at = 0})
+-- A packet at rest: the probability beyond its centre plane is 1/2
+-- (symmetry); beyond x = s it is the normal tail (1 - erf(1/sqrt 2)) / 2.
+local r = pf.wave(g, {mass = mass, normalize = true, position = function(x, y)
+  return math.exp(-x * x / (4 * (1.7e-6) ^ 2) - y * y / (4 * (1.5e-6) ^ 2))
+end})
+-- The picture of the density, drawn before any transform (rank 0 writes it).
+pf.picture_map("cloud.png", r, {title = "23Na cloud"})
+line("law beyond_half", r:beyond{axis = 1, at = 0}, 0.5)
+line("law beyond_sigma", r:beyond{axis = 1, at = 1.7e-6}, 0.15865525393145707)
+v:close()
+r:close()
+probe:close()
