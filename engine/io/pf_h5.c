@@ -1028,6 +1028,7 @@ typedef struct reader {
     hid_t lapl, gapl, dapl; /* link, group and dataset access: no external links */
     int elink_refused;     /* the callback below was asked to follow one */
     size_t reserved;       /* bytes of buffers this read holds or will hold */
+    const pf_h5_source *src; /* its slab_* say which part of the values to read */
 } reader;
 
 /* HDF5 asks this before it opens the target file of an external link;
@@ -1217,6 +1218,38 @@ static pf_status book_values(reader *r, const dataset *ds, const char *name, int
     return s;
 }
 
+/* The part of ds's values this read takes: all of it (H5S_ALL), or, for
+ * the values of a slab read (slab: 1), entries [first, first + count) of the
+ * slab axis, checked against the dataset's extent.  held: the extents read;
+ * the spaces made here are closed with close_spaces. */
+static pf_status select_slab(reader *r, const dataset *ds, const char *name, int rank, int slab, dataset *held,
+                             hid_t *fspace, hid_t *mspace)
+{
+    *held = *ds;
+    *fspace = *mspace = H5S_ALL;
+    const pf_h5_source *src = r->src;
+    if (!slab || !src || src->slab_count == 0) return PF_OK;
+    int a = src->slab_axis;
+    if (a < 0 || a >= rank || src->slab_first > ds->dims[a] || src->slab_count > ds->dims[a] - src->slab_first)
+        return pf_fail(r->ctx, PF_EINVAL, "'%s': dataset '%s' has %llu entries on axis %d; this rank's share needs entries %zu to %zu",
+                       r->path, name, a < rank && a >= 0 ? (unsigned long long)ds->dims[a] : 0ULL, a + 1,
+                       src->slab_first + 1, src->slab_first + src->slab_count);
+    held->dims[a] = src->slab_count;
+    hsize_t start[PF_MAX_DIM + 1] = {0};
+    start[a] = src->slab_first;
+    *fspace = H5Dget_space(ds->id);
+    *mspace = H5Screate_simple(ds->rank, held->dims, NULL);
+    if (*fspace < 0 || *mspace < 0 || H5Sselect_hyperslab(*fspace, H5S_SELECT_SET, start, NULL, held->dims, NULL) < 0)
+        return pf_fail(r->ctx, PF_EIO, "'%s': cannot select this rank's share of dataset '%s'", r->path, name);
+    return PF_OK;
+}
+
+static void close_spaces(hid_t fspace, hid_t mspace)
+{
+    if (fspace != H5S_ALL && fspace >= 0) H5Sclose(fspace);
+    if (mspace != H5S_ALL && mspace >= 0) H5Sclose(mspace);
+}
+
 static int is_float(hid_t t) { return H5Tget_class(t) == H5T_FLOAT || H5Tget_class(t) == H5T_INTEGER; }
 
 /* Reads a complex dataset: compound of two numbers (any member names, e.g.
@@ -1266,14 +1299,23 @@ static pf_status read_complex(reader *r, hid_t loc, const char *name, pf_samples
                        r->path, name);
     }
     size_t total = 0;
-    s = book_values(r, &ds, name, rank, sizeof *out->values, &total);
+    dataset held;
+    hid_t fs, ms;
+    s = select_slab(r, &ds, name, rank, 1, &held, &fs, &ms);
+    if (!s) s = book_values(r, &held, name, rank, sizeof *out->values, &total);
     if (!s) {
         out->dim = rank;
         for (int a = 0; a < rank; a++) out->n[a] = (size_t)ds.dims[a];
+        if (ms != H5S_ALL) {
+            out->slab_axis = r->src->slab_axis;
+            out->slab_first = r->src->slab_first;
+            out->slab_count = r->src->slab_count;
+        }
         out->values = malloc(total * sizeof *out->values);
-        if (!out->values || H5Dread(ds.id, mt, H5S_ALL, H5S_ALL, H5P_DEFAULT, out->values) < 0)
+        if (!out->values || H5Dread(ds.id, mt, ms, fs, H5P_DEFAULT, out->values) < 0)
             s = pf_fail(r->ctx, PF_EIO, "'%s': cannot read dataset '%s'", r->path, name);
     }
+    close_spaces(fs, ms);
     H5Tclose(mt);
     close_dataset(&ds);
     return s;
@@ -1281,7 +1323,7 @@ static pf_status read_complex(reader *r, hid_t loc, const char *name, pf_samples
 
 /* Reads a real dataset of exactly the shape want[0..want_rank) into v
  * (allocated). */
-static pf_status read_real(reader *r, hid_t loc, const char *name, int want_rank, const size_t *want, double **v)
+static pf_status read_real(reader *r, hid_t loc, const char *name, int want_rank, const size_t *want, int slab, double **v)
 {
     dataset ds;
     pf_status s = open_dataset(r, loc, name, &ds);
@@ -1297,12 +1339,16 @@ static pf_status read_real(reader *r, hid_t loc, const char *name, int want_rank
                        want[0], want_rank > 1 ? " x ..." : "", numeric ? " (the shape differs)" : "");
     }
     size_t total = 0;
-    s = book_values(r, &ds, name, ds.rank, sizeof **v, &total);
+    dataset held;
+    hid_t fs, ms;
+    s = select_slab(r, &ds, name, ds.rank, slab, &held, &fs, &ms);
+    if (!s) s = book_values(r, &held, name, ds.rank, sizeof **v, &total);
     if (!s) {
         *v = malloc(total * sizeof **v);
-        if (!*v || H5Dread(ds.id, H5T_NATIVE_DOUBLE, H5S_ALL, H5S_ALL, H5P_DEFAULT, *v) < 0)
+        if (!*v || H5Dread(ds.id, H5T_NATIVE_DOUBLE, ms, fs, H5P_DEFAULT, *v) < 0)
             s = pf_fail(r->ctx, PF_EIO, "'%s': cannot read dataset '%s'", r->path, name);
     }
+    close_spaces(fs, ms);
     close_dataset(&ds);
     return s;
 }
@@ -1352,7 +1398,7 @@ static pf_status read_item(reader *r, const pf_h5_source *src, pf_samples *out)
     s = read_complex(r, g, rep == PF_POSITION ? "psi" : "phi", out);
     for (int a = 0; !s && a < out->dim; a++) {
         const char *ax = rep == PF_POSITION ? POS_AXES[a] : MOM_AXES[a];
-        if (H5Lexists(g, ax, r->lapl) > 0) s = read_real(r, g, ax, 1, &out->n[a], &out->axis[a]);
+        if (H5Lexists(g, ax, r->lapl) > 0) s = read_real(r, g, ax, 1, &out->n[a], 0, &out->axis[a]);
     }
     out->rep = rep;
     if (!s) out->has_grid = read_attr_array(g, "grid_span_m", out->span, (size_t)out->dim) == 0 &&
@@ -1375,9 +1421,18 @@ static pf_status read_plain(reader *r, const pf_h5_source *src, pf_samples *out)
         size_t total = 0;
         /* Real and imaginary parts (8 + 8 bytes) are held while the complex
          * values (16) are made: 32 bytes per sample at the peak. */
-        s = book_values(r, &ds, src->real, ds.rank, 4 * sizeof(double), &total);
+        dataset held;
+        hid_t fs, ms;
+        s = select_slab(r, &ds, src->real, ds.rank, 1, &held, &fs, &ms);
+        close_spaces(fs, ms);
+        if (!s) s = book_values(r, &held, src->real, ds.rank, 4 * sizeof(double), &total);
         int rank = ds.rank;
         for (int a = 0; !s && a < rank; a++) out->n[a] = (size_t)ds.dims[a];
+        if (!s && src->slab_count) {
+            out->slab_axis = src->slab_axis;
+            out->slab_first = src->slab_first;
+            out->slab_count = src->slab_count;
+        }
         close_dataset(&ds);
         if (s) return s;
         /* That booking refuses an oversized file before anything is read;
@@ -1385,8 +1440,8 @@ static pf_status read_plain(reader *r, const pf_h5_source *src, pf_samples *out)
         r->reserved -= total * 4 * sizeof(double);
         out->dim = rank;
         double *re = NULL, *im = NULL;
-        s = read_real(r, r->file, src->real, rank, out->n, &re);
-        if (!s) s = read_real(r, r->file, src->imag, rank, out->n, &im);
+        s = read_real(r, r->file, src->real, rank, out->n, 1, &re);
+        if (!s) s = read_real(r, r->file, src->imag, rank, out->n, 1, &im);
         if (!s) s = reserve(r, total * sizeof *out->values);
         if (!s) {
             out->values = malloc(total * sizeof *out->values);
@@ -1397,7 +1452,7 @@ static pf_status read_plain(reader *r, const pf_h5_source *src, pf_samples *out)
         free(im);
     }
     for (int a = 0; !s && a < out->dim; a++)
-        if (src->axes[a]) s = read_real(r, r->file, src->axes[a], 1, &out->n[a], &out->axis[a]);
+        if (src->axes[a]) s = read_real(r, r->file, src->axes[a], 1, &out->n[a], 0, &out->axis[a]);
     out->rep = src->rep == PF_MOMENTUM ? PF_MOMENTUM : PF_POSITION;
     return s;
 }
@@ -1406,12 +1461,10 @@ static pf_status read_plain(reader *r, const pf_h5_source *src, pf_samples *out)
  * were booked during the read, so the sums cannot overflow. */
 static size_t samples_bytes(const pf_samples *s)
 {
-    size_t total = 1, bytes = 0;
-    for (int a = 0; a < s->dim; a++) {
-        total *= s->n[a];
+    size_t bytes = 0;
+    for (int a = 0; a < s->dim; a++)
         if (s->axis[a]) bytes += s->n[a] * sizeof(double);
-    }
-    return bytes + total * sizeof(double complex);
+    return bytes + pf_samples_count(s) * sizeof(double complex);
 }
 
 pf_status pf_h5_read_inprocess(pf_context *ctx, const char *path, const pf_h5_source *src, pf_samples *out)
@@ -1424,7 +1477,7 @@ pf_status pf_h5_read_inprocess(pf_context *ctx, const char *path, const pf_h5_so
         return pf_fail(ctx, PF_EINVAL, "name exactly one source: an item, a complex dataset, or a real and an imag dataset");
     if (H5Fis_hdf5(path) <= 0)
         return pf_fail(ctx, PF_EIO, "'%s' does not exist or is not an HDF5 file", path);
-    reader r = {ctx, path, 0, 0, 0, 0, 0, 0};
+    reader r = {ctx, path, 0, 0, 0, 0, 0, 0, src};
     if (make_access_lists(&r)) {
         close_access_lists(&r);
         return pf_fail(ctx, PF_EIO, "cannot set up HDF5 access lists to read '%s'", path);
@@ -1440,8 +1493,7 @@ pf_status pf_h5_read_inprocess(pf_context *ctx, const char *path, const pf_h5_so
     for (int a = 0; !s && a < out->dim; a++)
         for (size_t j = 0; out->axis[a] && j < out->n[a]; j++)
             if (!isfinite(out->axis[a][j])) s = pf_fail(ctx, PF_EINVAL, "'%s': axis %d has a non-finite coordinate", path, a + 1);
-    size_t total = 1;
-    for (int a = 0; !s && a < out->dim; a++) total *= out->n[a]; /* booked, so it cannot overflow */
+    size_t total = s ? 0 : pf_samples_count(out); /* booked, so it cannot overflow */
     for (size_t i = 0; !s && i < total; i++)
         if (!isfinite(creal(out->values[i])) || !isfinite(cimag(out->values[i])))
             s = pf_fail(ctx, PF_EINVAL, "'%s': sample %zu is not finite", path, i + 1);

@@ -78,6 +78,11 @@ typedef struct pf_h5_source {
     const char *real, *imag;       /* or two real datasets of the same shape */
     const char *axes[PF_MAX_DIM];  /* coordinate datasets for plain data (may be NULL) */
     int rep;                       /* PF_POSITION / PF_MOMENTUM, or -1: psi if present, else phi */
+    /* Read only entries [slab_first, slab_first + slab_count) of axis
+     * slab_axis of the values (a rank's share of a distributed grid,
+     * pf_samples_slab_for); slab_count 0 reads all.  Axes are read whole. */
+    int slab_axis;
+    size_t slab_first, slab_count;
 } pf_h5_source;
 
 /* Reads the amplitude described by src from the HDF5 file at path into out

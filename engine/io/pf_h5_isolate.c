@@ -63,6 +63,8 @@ typedef struct wire_head {
     int32_t has_grid;
     double mass, clock;
     double span[PF_MAX_DIM], grid_origin[PF_MAX_DIM];
+    int32_t slab_axis;    /* the values hold only these entries of that axis */
+    uint64_t slab_first, slab_count; /* (slab_count 0: all) */
 } wire_head;
 
 static int inprocess_requested(void)
@@ -155,14 +157,15 @@ static void child_main(pf_context *ctx, const char *path, const pf_h5_source *sr
         h.has_grid = s.has_grid;
         h.mass = s.mass;
         h.clock = s.clock;
+        h.slab_axis = s.slab_axis;
+        h.slab_first = s.slab_first;
+        h.slab_count = s.slab_count;
     }
     int bad = write_all(fd, &h, sizeof h) || write_all(fd, msg, h.message_len);
     if (!st) {
-        size_t total = 1;
-        for (int a = 0; a < s.dim; a++) {
-            total *= s.n[a]; /* booked by the reader, so it cannot overflow */
+        size_t total = pf_samples_count(&s); /* booked by the reader, so it cannot overflow */
+        for (int a = 0; a < s.dim; a++)
             if (!bad && s.axis[a]) bad = write_all(fd, s.axis[a], s.n[a] * sizeof(double));
-        }
         if (!bad) bad = write_all(fd, s.values, total * sizeof *s.values);
     }
     uint32_t end = WIRE_END;
@@ -246,12 +249,18 @@ static enum recv_result receive(pf_context *ctx, const char *path, int fd, pf_sa
     int well_formed = h.dim >= 1 && h.dim <= PF_MAX_DIM && (h.rep == PF_POSITION || h.rep == PF_MOMENTUM) &&
                       (h.has_grid == 0 || h.has_grid == 1) && (h.axis_mask >> h.dim) == 0;
     for (int a = 0; well_formed && a < h.dim; a++) well_formed = h.n[a] >= 1;
+    uint64_t kept[PF_MAX_DIM] = {h.n[0], h.n[1], h.n[2]};
+    if (well_formed && h.slab_count) {
+        well_formed = h.slab_axis >= 0 && h.slab_axis < h.dim && h.slab_first < h.n[h.slab_axis] &&
+                      h.slab_count <= h.n[h.slab_axis] - h.slab_first;
+        if (well_formed) kept[h.slab_axis] = h.slab_count;
+    }
     if (!well_formed) {
         pf_fail(ctx, PF_EIO, "'%s': the process reading this file sent a malformed result", path);
         return RECV_BAD;
     }
     size_t value_bytes, total_bytes;
-    pf_status s = pf_read_shape_bytes(ctx, path, "the values read", h.dim, h.n, sizeof(double complex), &value_bytes);
+    pf_status s = pf_read_shape_bytes(ctx, path, "the values read", h.dim, kept, sizeof(double complex), &value_bytes);
     total_bytes = value_bytes;
     for (int a = 0; !s && a < h.dim; a++)
         if (h.axis_mask & (1u << a)) total_bytes = pf_read_add(total_bytes, (size_t)h.n[a] * sizeof(double));
@@ -267,6 +276,9 @@ static enum recv_result receive(pf_context *ctx, const char *path, int fd, pf_sa
     out->has_grid = h.has_grid;
     out->mass = h.mass;
     out->clock = h.clock;
+    out->slab_axis = h.slab_count ? h.slab_axis : 0;
+    out->slab_first = h.slab_count ? (size_t)h.slab_first : 0;
+    out->slab_count = (size_t)h.slab_count;
     for (int a = 0; a < h.dim; a++) {
         if (!(h.axis_mask & (1u << a))) continue;
         out->axis[a] = malloc(out->n[a] * sizeof(double));

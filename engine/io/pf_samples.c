@@ -4,6 +4,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include "../core/pf_dist.h"
 #include "pf_samples.h"
 
 void pf_samples_free(pf_samples *s)
@@ -15,6 +16,18 @@ void pf_samples_free(pf_samples *s)
         pf_context_release(s->charged_ctx);
     }
     memset(s, 0, sizeof *s);
+}
+
+size_t pf_samples_held(const pf_samples *s, int a)
+{
+    return s->slab_count && a == s->slab_axis ? s->slab_count : s->n[a];
+}
+
+size_t pf_samples_count(const pf_samples *s)
+{
+    size_t total = 1;
+    for (int a = 0; a < s->dim; a++) total *= pf_samples_held(s, a);
+    return total;
 }
 
 /* Grid coordinate j on axis a in the representation's natural reading order
@@ -75,7 +88,11 @@ static int sample_at(void *user, const double *coord, double complex *value)
             double wa = up ? t[a] : 1 - t[a];
             if (wa == 0) { wgt = 0; break; }
             wgt *= wa;
-            off = off * s->n[a] + j[a] + (size_t)up;
+            /* Only a slab of this axis may be held (pf_samples_slab_for
+             * chose it to cover every point this rank asks for). */
+            size_t at = j[a] + (size_t)up, first = s->slab_count && a == s->slab_axis ? s->slab_first : 0;
+            if (at < first || at - first >= pf_samples_held(s, a)) return -1;
+            off = off * pf_samples_held(s, a) + (at - first);
         }
         if (wgt != 0) sum += wgt * s->values[off];
     }
@@ -143,4 +160,46 @@ pf_status pf_samples_to_wave(pf_context *ctx, const pf_samples *s, pf_wave *w, i
     }
     for (int a = 0; a < PF_MAX_DIM; a++) free(made[a]);
     return st;
+}
+
+void pf_samples_slab_for(const pf_samples *meta, const pf_grid *g, int *axis, size_t *first, size_t *count)
+{
+    const pf_rep rep = meta->rep;
+    const int a = rep == PF_MOMENTUM ? 1 : 0;
+    size_t f, c;
+    pf_grid_slab(g, rep, &f, &c);
+    *axis = a;
+    *first = 0;
+    *count = meta->n[a];
+    if (c == 0 || meta->dim != pf_grid_dim(g) || a >= meta->dim) return; /* all: the transfer reports any mismatch */
+    /* The rank's coordinates on axis a (momentum: storage order, so take
+     * the extremes over the slab, which may wrap round k = 0's far side). */
+    double lo = INFINITY, hi = -INFINITY;
+    size_t ilo = SIZE_MAX, ihi = 0; /* file entries when the file gives no coordinates */
+    for (size_t j = f; j < f + c; j++) {
+        double x = rep == PF_POSITION ? pf_grid_x(g, a, j) : pf_grid_k(g, a, j);
+        size_t i = rep == PF_POSITION ? j : pf_grid_ascending_index(g, a, j);
+        lo = x < lo ? x : lo;
+        hi = x > hi ? x : hi;
+        ilo = i < ilo ? i : ilo;
+        ihi = i > ihi ? i : ihi;
+    }
+    const double *ax = meta->axis[a];
+    size_t n = meta->n[a];
+    if (!ax) {
+        if (ihi < n) {
+            *first = ilo;
+            *count = ihi - ilo + 1;
+        }
+        return;
+    }
+    /* Entries bracketing [lo, hi], with the tolerance pf_samples_to_wave
+     * uses for "on a node", plus one on each side for interpolation. */
+    double tol = 1e-6 * (rep == PF_POSITION ? pf_grid_spacing(g, a) : pf_grid_kspacing(g, a));
+    size_t b = 0, e = n - 1;
+    while (b + 1 < n && ax[b + 1] <= lo - tol) b++;
+    while (e > 0 && ax[e - 1] >= hi + tol) e--;
+    if (e < b) return; /* not ascending: read all, the transfer reports it */
+    *first = b;
+    *count = e - b + 1;
 }

@@ -27,6 +27,7 @@ static const char *const DIST_AWARE[] = {
     "h5file:put_wave",
     "pf.gaussian",
     "pf.ground_state",
+    "pf.load_wave",
     "pf.momentum_orders",
     "pf.oscillator",
     "pf.picture_map",

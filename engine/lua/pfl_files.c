@@ -9,6 +9,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include "../core/pf_dist.h"
 #include "../io/pf_h5.h"
 #include "../io/pf_picture.h"
 #include "../io/pf_samples.h"
@@ -565,6 +566,7 @@ static int l_load_wave(lua_State *L)
     lua_setfield(L, -2, "__gc");
     lua_setmetatable(L, -2);
     pf_samples *s = &sb->s;
+    pf_h5_source dist_src = {0}; /* slab_count 1: read again for this rank's share */
     int csv = ends_with(path, ".csv") || ends_with(path, ".CSV") || ends_with(path, ".txt");
     pf_rep given = PF_POSITION;
     int rep = pfl_field_space(L, 2, &given) ? (int)given : -1; /* -1: as the file says */
@@ -572,7 +574,7 @@ static int l_load_wave(lua_State *L)
         read_csv_samples(L, path, s);
     } else {
         pf_h5_source src = {opt_string(L, 2, "item"), opt_string(L, 2, "dataset"), opt_string(L, 2, "real"),
-                            opt_string(L, 2, "imag"), {NULL, NULL, NULL}, rep};
+                            opt_string(L, 2, "imag"), {NULL, NULL, NULL}, rep, 0, 0, 0};
         if (pfl_option_get(L, 2, "axes") == LUA_TTABLE) {
             int n = (int)luaL_len(L, -1);
             if (n > PF_MAX_DIM) return luaL_error(L, "load_wave: field 'axes' names at most %d datasets", PF_MAX_DIM);
@@ -587,6 +589,16 @@ static int l_load_wave(lua_State *L)
         }
         lua_pop(L, 1);
         if (!src.item && !src.dataset && !src.real) src.item = "wave";
+        if (pf_context_distribute(pfl_ctx(L)) && pf_dist_running()) {
+            /* Grids may be split over MPI ranks: each rank reads only its
+             * share.  A first read of one entry gives the shape, axes and
+             * representation (and the grid, when none is given); the rank's
+             * slab follows once the grid is known (below). */
+            src.slab_axis = 0;
+            src.slab_first = 0;
+            src.slab_count = 1;
+            dist_src = src;
+        }
         pfl_check(L, pf_h5_read(pfl_ctx(L), path, &src, s), "load_wave");
     }
     if (rep >= 0 && csv && rep != (int)s->rep)
@@ -609,6 +621,17 @@ static int l_load_wave(lua_State *L)
         g = grid_from_samples(L, s, path);
     }
     lua_pop(L, 1);
+    if (dist_src.slab_count) {
+        /* This rank's share of the values (all of them when the grid is not
+         * distributed, e.g. 1D), counted against the memory cap. */
+        pf_samples_slab_for(s, g, &dist_src.slab_axis, &dist_src.slab_first, &dist_src.slab_count);
+        if (!pf_grid_distributed(g)) dist_src.slab_count = 0;
+        dist_src.rep = (int)s->rep;
+        pf_samples_free(s);
+        pf_status rs = pf_h5_read(pfl_ctx(L), path, &dist_src, s);
+        if (rs) pf_grid_release(g);
+        pfl_check(L, rs, "load_wave");
+    }
     pf_wave *w;
     pf_status st = pf_wave_new(g, mass, &w);
     pf_grid_release(g);
@@ -617,6 +640,7 @@ static int l_load_wave(lua_State *L)
     char what[600];
     snprintf(what, sizeof what, "'%s'", path);
     pfl_check(L, pf_samples_to_wave(pfl_ctx(L), s, w, interpolate, what), "load_wave");
+    pf_samples_free(s); /* now, not at the box's collection: the bytes leave the memory cap */
     if (normalize) pfl_check(L, pf_wave_normalize(w), "load_wave");
     pf_wave_set_clock(w, s->clock);
     pf_wave_record(w, "load", interpolate ? "interpolated" : s->origin, 0.0, 0.0);

@@ -154,7 +154,7 @@ static void test_known_crash_file_refused(void **state)
     const char *root = getenv("PSIFLIGHT_ROOT");
     char path[4096];
     snprintf(path, sizeof path, "%s/tests/fuzz/known-crashes/h5-libhdf5-local-heap", root ? root : ".");
-    pf_h5_source src = {"wave", NULL, NULL, NULL, {NULL, NULL, NULL}, -1};
+    pf_h5_source src = {"wave", NULL, NULL, NULL, {NULL, NULL, NULL}, -1, 0, 0, 0};
     pf_samples s;
     assert_int_equal(pf_h5_read(ctx, path, &src, &s), PF_EIO);
     const char *msg = pf_context_message(ctx);
@@ -173,7 +173,7 @@ static void test_own_crash_in_reader_is_a_bug(void **state)
     const char *root = getenv("PSIFLIGHT_ROOT");
     char path[4096];
     snprintf(path, sizeof path, "%s/tests/fuzz/known-crashes/h5-libhdf5-local-heap", root ? root : ".");
-    pf_h5_source src = {(const char *)8, NULL, NULL, NULL, {NULL, NULL, NULL}, -1};
+    pf_h5_source src = {(const char *)8, NULL, NULL, NULL, {NULL, NULL, NULL}, -1, 0, 0, 0};
     pf_samples s;
     assert_int_equal(pf_h5_read(ctx, path, &src, &s), PF_EBUG);
     const char *msg = pf_context_message(ctx);

@@ -21,6 +21,7 @@
 #include "../../engine/core/pf_grid.h"
 #include "../../engine/core/pf_wave.h"
 #include "../../engine/io/pf_h5.h"
+#include "../../engine/io/pf_samples.h"
 
 static char dir[64], path[128];
 
@@ -71,7 +72,7 @@ static void test_same_samples_and_charge(void **state)
 {
     pf_context *ctx = *state;
     write_file(ctx);
-    pf_h5_source src = {"wave", NULL, NULL, NULL, {NULL, NULL, NULL}, -1};
+    pf_h5_source src = {"wave", NULL, NULL, NULL, {NULL, NULL, NULL}, -1, 0, 0, 0};
     size_t before = pf_context_memory_used(ctx);
     pf_samples a, b;
     pft_ok(pf_h5_read_inprocess(ctx, path, &src, &a));
@@ -103,17 +104,62 @@ static void test_same_samples_and_charge(void **state)
     remove_file();
 }
 
+/* A slab read (a rank's share of a distributed grid) crosses the pipe as
+ * the same entries of the whole read, charges only its own bytes, and a
+ * slab past the dataset's extent is refused with the extents named. */
+static void test_slab_reads(void **state)
+{
+    pf_context *ctx = *state;
+    write_file(ctx);
+    pf_h5_source all = {"wave", NULL, NULL, NULL, {NULL, NULL, NULL}, -1, 0, 0, 0};
+    pf_samples whole, part, row;
+    pft_ok(pf_h5_read(ctx, path, &all, &whole));
+    for (int axis = 0; axis < 2; axis++) {
+        pf_h5_source src = all;
+        src.slab_axis = axis;
+        src.slab_first = 3;
+        src.slab_count = 4;
+        size_t before = pf_context_memory_used(ctx);
+        pft_ok(pf_h5_read(ctx, path, &src, &part));
+        assert_no_child();
+        /* axes whole (12 + 10 doubles), values 4 entries of this axis */
+        size_t values = axis == 0 ? 4 * 10 : 12 * 4;
+        assert_int_equal(pf_context_memory_used(ctx) - before, (22 * sizeof(double) + values * sizeof(double complex)));
+        assert_int_equal(part.n[0], 12);
+        assert_int_equal(part.n[1], 10);
+        assert_int_equal(part.slab_axis, axis);
+        assert_int_equal(part.slab_first, 3);
+        assert_int_equal(part.slab_count, 4);
+        assert_int_equal(pf_samples_count(&part), values);
+        for (size_t i = 0; i < 12; i++)
+            for (size_t j = 0; j < 10; j++) {
+                size_t k = axis == 0 ? i : j;
+                if (k < 3 || k >= 7) continue;
+                size_t at = axis == 0 ? (i - 3) * 10 + j : i * 4 + (j - 3);
+                assert_memory_equal(&part.values[at], &whole.values[i * 10 + j], sizeof(double complex));
+            }
+        pf_samples_free(&part);
+    }
+    pf_h5_source past = all;
+    past.slab_first = 10;
+    past.slab_count = 3;
+    assert_int_equal(pf_h5_read(ctx, path, &past, &row), PF_EINVAL);
+    assert_non_null(strstr(pf_context_message(ctx), "has 12 entries on axis 1; this rank's share needs entries 11 to 13"));
+    pf_samples_free(&whole);
+    remove_file();
+}
+
 /* The reader's refusals come back as their codes, with their messages. */
 static void test_status_codes_travel(void **state)
 {
     pf_context *ctx = *state;
     write_file(ctx);
     pf_samples s;
-    pf_h5_source missing = {"nothing", NULL, NULL, NULL, {NULL, NULL, NULL}, -1};
+    pf_h5_source missing = {"nothing", NULL, NULL, NULL, {NULL, NULL, NULL}, -1, 0, 0, 0};
     assert_int_equal(pf_h5_read(ctx, path, &missing, &s), PF_EINVAL);
     assert_non_null(strstr(pf_context_message(ctx), "has no item 'nothing'"));
     assert_null(s.values);
-    pf_h5_source src = {"wave", NULL, NULL, NULL, {NULL, NULL, NULL}, -1};
+    pf_h5_source src = {"wave", NULL, NULL, NULL, {NULL, NULL, NULL}, -1, 0, 0, 0};
     /* 1 kB of room: the child's booking refuses the 1920 bytes of values. */
     pft_ok(pf_context_set_memory_cap(ctx, pf_context_memory_used(ctx) + 1024));
     assert_int_equal(pf_h5_read(ctx, path, &src, &s), PF_ELIMIT);
@@ -132,6 +178,7 @@ int main(void)
     const struct CMUnitTest tests[] = {
         cmocka_unit_test_setup_teardown(test_same_samples_and_charge, pft_context_setup, pft_context_teardown),
         cmocka_unit_test_setup_teardown(test_status_codes_travel, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(test_slab_reads, pft_context_setup, pft_context_teardown),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
