@@ -234,15 +234,17 @@ pf_status pf_wave_lab_density_window(pf_wave *w, double lo, size_t m, double *ou
     if (!(fabs(whole) < 1e15)) return pf_fail(g->ctx, PF_EINVAL, "lab window start %g m is too far from the grid", lo);
     double *col = pf_context_alloc(g->ctx, n * sizeof *col);
     if (!col) return pf_context_status(g->ctx);
-    pf_status st;
-    if (frac == 0.0) {
-        st = pf_wave_density(w, PF_POSITION, col);
-    } else {
+    /* w's own density first: its grid guards look at it as at any density
+     * (one warning per axis, naming w's steps). */
+    pf_status st = pf_wave_density(w, PF_POSITION, col);
+    if (!st && frac != 0.0) {
         /* chi'(xi) = chi(xi + frac dx): cell k of the copy holds chi at the
-         * grid coordinate of lab point k - whole. */
+         * grid coordinate of lab point k - whole.  The scratch copy's guards
+         * stay silent (w has spoken for the same cloud). */
         pf_wave *c = NULL;
         double d = -frac * dx;
         st = pf_wave_copy(w, &c);
+        if (!st) c->guard.warned = ~0u;
         if (!st) st = pf_wave_shift(c, &d);
         if (!st) st = pf_wave_density(c, PF_POSITION, col);
         if (c) pf_wave_free(c);

@@ -151,10 +151,23 @@ static void pot_apply(const pot_pass *p, double complex *restrict d, size_t begi
         for (size_t b = 0; b < count; b += PIECE) {
             size_t m = count - b < PIECE ? count - b : PIECE;
             const double *z = (const double *)(d + b);
-            for (size_t i = 0; i < m; i++) {
-                double u = V ? V[b + i] : 0.0;
-                if (gc != 0) u += gc * (z[2 * i] * z[2 * i] + z[2 * i + 1] * z[2 * i + 1]);
-                phase[i] = u * f;
+            /* One branch-free loop per case, so each vectorises; every
+             * case forms exactly the expression of the general one, u = (V
+             * or 0.0) + gc |z|^2, phase = u f (no contraction: the build
+             * has no fused multiply-add), so the bits are unchanged. */
+            if (V && gc != 0) {
+#pragma omp simd
+                for (size_t i = 0; i < m; i++)
+                    phase[i] = (V[b + i] + gc * (z[2 * i] * z[2 * i] + z[2 * i + 1] * z[2 * i + 1])) * f;
+            } else if (gc != 0) {
+#pragma omp simd
+                for (size_t i = 0; i < m; i++)
+                    phase[i] = (0.0 + gc * (z[2 * i] * z[2 * i] + z[2 * i + 1] * z[2 * i + 1])) * f;
+            } else if (V) {
+#pragma omp simd
+                for (size_t i = 0; i < m; i++) phase[i] = V[b + i] * f;
+            } else {
+                for (size_t i = 0; i < m; i++) phase[i] = 0.0 * f;
             }
             pf_cis_multiply(d + b, phase, m);
         }

@@ -640,10 +640,10 @@ static int l_load_wave(lua_State *L)
     char what[600];
     snprintf(what, sizeof what, "'%s'", path);
     pfl_check(L, pf_samples_to_wave(pfl_ctx(L), s, w, interpolate, what), "load_wave");
-    pf_samples_free(s); /* now, not at the box's collection: the bytes leave the memory cap */
     if (normalize) pfl_check(L, pf_wave_normalize(w), "load_wave");
     pf_wave_set_clock(w, s->clock);
     pf_wave_record(w, "load", interpolate ? "interpolated" : s->origin, 0.0, 0.0);
+    pf_samples_free(s); /* now, not at the box's collection: the bytes leave the memory cap */
     pfl_check(L, PF_OK, "load_wave");
     return 1;
 }

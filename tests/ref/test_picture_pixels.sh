@@ -20,6 +20,21 @@ for f in "$tmp"/a/*.png "$tmp"/a/*.pdf; do
   cmp "$f" "$tmp/b/$(basename "$f")" || { echo "FAIL $(basename "$f") differs between reruns"; exit 1; }
 done
 echo "ok reruns write byte-identical PNG and PDF pictures"
+# A falling carpet of a cloud that reaches its grid's edge warns once (the
+# flown copy's guard), not once per frame from the sub-cell shifts that place
+# each frame in the lab window.
+cat >"$tmp/edge.lua" <<'LUA'
+local pf = require "psiflight"
+pf.setup{planning = "estimate"}
+local g = pf.grid{points = 128, span = 12e-6}
+local w = pf.gaussian(g, {mass = "87Rb", width = 1e-6})
+w:fly(1e-3, {acceleration = -9.80665})
+pf.picture_carpet("edge.png", w, {duration = 20e-3, frames = 50, acceleration = -9.80665})
+LUA
+"$runner" run "$tmp/edge.lua" --out "$tmp/edge" >/dev/null 2>"$tmp/edge.err"
+n=$(grep -c "grid guard" "$tmp/edge.err" || true)
+[ "$n" -eq 1 ] || { echo "FAIL falling carpet at the grid edge: $n guard warnings (want 1)"; cat "$tmp/edge.err" | head -3; exit 1; }
+echo "ok falling carpet at the grid edge: one guard warning for 50 frames"
 PYTHONPATH="$here" /usr/bin/python3 - "$tmp/a" <<'PY'
 import sys
 from png_pixels import decode, pixel, is_white
