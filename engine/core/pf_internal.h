@@ -408,6 +408,10 @@ void pf_dist_backward(pf_grid *g, double complex *data);
 pf_status pf_dist_momentum_unscaled(pf_wave *w, double *scale);
 void pf_dist_momentum_multiply(pf_grid *g, double complex *data, const double complex *const *tables, double scale);
 pf_status pf_dist_shared_density(pf_wave *w, pf_rep rep, double *out);
+/* data *= T0[i] T1[j] T2[k] (NULL tables count as 1; the single process's
+ * product per point) on the transposed momentum slab, returning the removed
+ * sum of |data|^2 (1 - |T|^2) in the global block order of that layout. */
+double pf_dist_momentum_axis_mask(pf_grid *g, double complex *data, const double complex *const *tables);
 /* Figures the single process computes from the whole momentum (or
  * position) array, for a split wave: gathers the wave in representation rep
  * onto rank 0 (pf_wave_gather: the single process's storage order), runs

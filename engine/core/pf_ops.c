@@ -481,7 +481,11 @@ pf_status pf_wave_select_velocity(pf_wave *w, int axis, double center, double wi
     }
     s = pf_wave_to(w, PF_MOMENTUM);
     if (!s) {
-        double r = pf_kernel_probability(w, pf_kernel_axis_mask(g, w->store, (const double complex *const *)at.t));
+        /* Over MPI ranks the transposed momentum slab (the same factor per
+         * point; the removed sum in that layout's block order). */
+        const double complex *const *t = (const double complex *const *)at.t;
+        double r = pf_kernel_probability(w, g->dist ? pf_dist_momentum_axis_mask(g, w->store, t)
+                                                    : pf_kernel_axis_mask(g, w->store, t));
         if (r < 0) r = 0;
         pf_wave_log_step(w, "momentum-mask", gaussian ? "velocity-gauss" : "velocity-box", 0.0, r, -1.0);
         if (removed) *removed = r;

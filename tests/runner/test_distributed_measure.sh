@@ -98,7 +98,8 @@ compare_probe() {
 
 # Masks (probe_masks.lua): slits, mask gratings, rectangular and circular
 # apertures, cell-switched and exact (sub-cell, soft) edges, along the split
-# axis and across it; the exact shift.
+# axis and across it; the exact shift; velocity selection (box and
+# Gaussian, on the transposed momentum slab).
 masks="$root/tests/runner/distm/probe_masks.lua"
 run_probe masks "$masks"
 compare_probe masks "slits, mask gratings and apertures"
@@ -107,6 +108,12 @@ has "refusal named" "masks -n 4: a function without a distributed path still ref
 # room for the Gaussian tails the periodic grid wraps (about 6 sigma away).
 worst=$(/usr/bin/python3 "$work/law.py" "$work/masks.4.txt" 1e-6 shift1 shift2) &&
   ok "masks -n 4: w:shift moves the centre by the distance given ($worst)" || fail "masks -n 4: shift law missed"
+
+# Velocity selection of a kicked packet by a Gaussian filter: the overlap
+# of two Gaussians (textbook), to the grid's sampling.
+worst=$(/usr/bin/python3 "$work/law.py" "$work/masks.3.txt" 1e-8 vgauss) &&
+  ok "masks -n 3: w:select_velocity passes the Gaussian-overlap fraction ($worst)" ||
+  fail "masks -n 3: velocity selection law missed"
 
 # Measurements (probe_measure.lua): density tables, distributions and
 # marginals, covariances, seeded samples, cameras, energies, fringe fits.

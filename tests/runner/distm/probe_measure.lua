@@ -63,6 +63,14 @@ list("exact column", w:column_density(2).values)
 list("exact slice", w:slice{axes = {1}, through = {0, 0.7e-6}}.values)
 local rp = w:radial_profile{bin = 1.1e-6, bins = 6}
 list("exact radial", rp.values)
+-- Region probabilities on the gathered density: a box, a half space, a
+-- ball and a weight function (sampled at every grid point on every rank).
+local pb = w:probability_in(pf.box{min = {-1e-6, -2e-6}, max = {2.5e-6, 1e-6}})
+local ph = w:probability_in(pf.half_space{point = {0.3e-6, 0}, normal = {1, 1}})
+local pr = w:probability_in(pf.ball{center = {0.5e-6, -0.2e-6}, radius = 2.2e-6})
+local pm = w:probability_in(pf.mask(function(x, y) return math.exp(-(x - y) ^ 2 / 1e-11) end))
+line("exact regions", pb, ph, pr, pm)
+agree("exact regions", pb + ph + pr + pm)
 local C = w:position_covariance()
 line("exact covariance", C[1][1], C[1][2], C[2][1], C[2][2])
 line("law cov11", C[1][1], a * a)
