@@ -413,7 +413,7 @@ pf_status pf_dist_grid_attach(pf_grid *g)
     /* Partials: at most one per block touched, which is the slab's blocks
      * plus the two it shares with its neighbours. */
     size_t largest = (size_t)(D->alloc > 0 ? D->alloc : 1);
-    D->local_part_cap = (largest / PF_REDUCE_BLOCK + 2) * (size_t)(1 + 2 * d);
+    D->local_part_cap = (largest / PF_REDUCE_BLOCK + 2) * (size_t)(2 * (1 + 2 * d));
     D->local_part = PF_ALLOC_N(ctx, D->local_part_cap, sizeof(double));
     /* Allocation failures stay local until the collective calls below have
      * been made by everyone, so no rank waits alone. */
@@ -508,7 +508,7 @@ void pf_dist_reduce(pf_grid *g, pf_rep layout, int width, pf_reduce_block_fn blo
         const size_t bh_end = (bh + 1) * B < N ? (bh + 1) * B : N;
         const int carry_out = bh_end > hi;
         const int prev = neighbour(D, L, D->rank, -1), next = neighbour(D, L, D->rank, +1);
-        double acc[1 + 2 * PF_MAX_DIM];
+        double acc[PF_REDUCE_MAX_WIDTH];
         size_t idx[PF_MAX_DIM];
         /* The last block's share, when it starts here and continues on the next rank. */
         if (carry_out && bh * B >= lo) {
@@ -545,7 +545,7 @@ void pf_dist_reduce(pf_grid *g, pf_rep layout, int width, pf_reduce_block_fn blo
                 size_t begin = b * B, end = begin + B < N ? begin + B : N;
                 size_t bidx[PF_MAX_DIM];
                 unravel(lay, d, begin, bidx);
-                double bacc[1 + 2 * PF_MAX_DIM] = {0};
+                double bacc[PF_REDUCE_MAX_WIDTH] = {0};
                 block(user, begin - lo, end - lo, bidx, bacc);
                 memcpy(part + (size_t)i * (size_t)width, bacc, (size_t)width * sizeof(double));
             }
@@ -578,15 +578,23 @@ static void moments_block(void *user, size_t begin, size_t end, const size_t *st
     const int d = g->dim;
     const size_t *lay = g->dist->lay[job->swap];
     size_t idx[PF_MAX_DIM] = {start[0], start[1], start[2]};
+    const int W = 1 + 2 * d;
     for (size_t off = begin; off < end; off++) {
         const double complex z = job->z[off];
         double rho = creal(z) * creal(z) + cimag(z) * cimag(z);
-        acc[0] += rho;
+        /* pf_reduce.c's moments: compensated when weighted, else plain */
+        if (job->weights) pf_sum_add(&acc[0], &acc[W], rho);
+        else acc[0] += rho;
         for (int a = 0; a < d; a++) {
             size_t i = job->swap && a < 2 ? idx[1 - a] : idx[a];
-            double wa = job->weights && job->weights[a] ? job->weights[a][i] : 1.0;
-            acc[1 + a] += wa * rho;
-            acc[1 + d + a] += wa * wa * rho;
+            if (!job->weights) {
+                acc[1 + a] += rho;
+                acc[1 + d + a] += rho;
+                continue;
+            }
+            double wa = job->weights[a] ? job->weights[a][i] : 1.0;
+            pf_sum_add(&acc[1 + a], &acc[W + 1 + a], wa * rho);
+            pf_sum_add(&acc[1 + d + a], &acc[W + 1 + d + a], wa * wa * rho);
         }
         for (int a = d - 1; a >= 0; a--) {
             if (++idx[a] < lay[a]) break;
@@ -640,7 +648,10 @@ pf_status pf_dist_sums(pf_grid *g, const double complex *z, pf_rep rep, const do
 {
     if (!g->dist) return pf_reduce_axis_moments(g, z, weights, sums);
     moments_job job = {g, z, weights, rep == PF_MOMENTUM};
-    pf_dist_reduce(g, rep, 1 + 2 * g->dim, moments_block, &job, sums);
+    const int W = 1 + 2 * g->dim;
+    double all[PF_REDUCE_MAX_WIDTH];
+    pf_dist_reduce(g, rep, weights ? 2 * W : W, moments_block, &job, all);
+    for (int c = 0; c < W; c++) sums[c] = weights ? all[c] + all[W + c] : all[c];
     return PF_OK;
 }
 
