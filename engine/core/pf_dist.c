@@ -157,6 +157,12 @@ double pf_dist_momentum_axis_mask(pf_grid *g, double complex *data, const double
 {
     return pf_kernel_axis_mask(g, data, tables);
 }
+pf_status pf_dist_on_whole_update(pf_wave *w, pf_dist_whole_fn fn, void *user, double *out, int n, void *state,
+                                  size_t state_bytes)
+{
+    (void)n, (void)state, (void)state_bytes;
+    return fn(w, user, out);
+}
 pf_status pf_dist_shared_density(pf_wave *w, pf_rep rep, double *out)
 {
     (void)rep, (void)out;
@@ -407,7 +413,7 @@ pf_status pf_dist_grid_attach(pf_grid *g)
     /* Partials: at most one per block touched, which is the slab's blocks
      * plus the two it shares with its neighbours. */
     size_t largest = (size_t)(D->alloc > 0 ? D->alloc : 1);
-    D->local_part_cap = (largest / PF_REDUCE_BLOCK + 2) * (size_t)(1 + 2 * d);
+    D->local_part_cap = (largest / PF_REDUCE_BLOCK + 2) * (size_t)(2 * (1 + 2 * d));
     D->local_part = PF_ALLOC_N(ctx, D->local_part_cap, sizeof(double));
     /* Allocation failures stay local until the collective calls below have
      * been made by everyone, so no rank waits alone. */
@@ -502,7 +508,7 @@ void pf_dist_reduce(pf_grid *g, pf_rep layout, int width, pf_reduce_block_fn blo
         const size_t bh_end = (bh + 1) * B < N ? (bh + 1) * B : N;
         const int carry_out = bh_end > hi;
         const int prev = neighbour(D, L, D->rank, -1), next = neighbour(D, L, D->rank, +1);
-        double acc[1 + 2 * PF_MAX_DIM];
+        double acc[PF_REDUCE_MAX_WIDTH];
         size_t idx[PF_MAX_DIM];
         /* The last block's share, when it starts here and continues on the next rank. */
         if (carry_out && bh * B >= lo) {
@@ -539,7 +545,7 @@ void pf_dist_reduce(pf_grid *g, pf_rep layout, int width, pf_reduce_block_fn blo
                 size_t begin = b * B, end = begin + B < N ? begin + B : N;
                 size_t bidx[PF_MAX_DIM];
                 unravel(lay, d, begin, bidx);
-                double bacc[1 + 2 * PF_MAX_DIM] = {0};
+                double bacc[PF_REDUCE_MAX_WIDTH] = {0};
                 block(user, begin - lo, end - lo, bidx, bacc);
                 memcpy(part + (size_t)i * (size_t)width, bacc, (size_t)width * sizeof(double));
             }
@@ -572,15 +578,23 @@ static void moments_block(void *user, size_t begin, size_t end, const size_t *st
     const int d = g->dim;
     const size_t *lay = g->dist->lay[job->swap];
     size_t idx[PF_MAX_DIM] = {start[0], start[1], start[2]};
+    const int W = 1 + 2 * d;
     for (size_t off = begin; off < end; off++) {
         const double complex z = job->z[off];
         double rho = creal(z) * creal(z) + cimag(z) * cimag(z);
-        acc[0] += rho;
+        /* pf_reduce.c's moments: compensated when weighted, else plain */
+        if (job->weights) pf_sum_add(&acc[0], &acc[W], rho);
+        else acc[0] += rho;
         for (int a = 0; a < d; a++) {
             size_t i = job->swap && a < 2 ? idx[1 - a] : idx[a];
-            double wa = job->weights && job->weights[a] ? job->weights[a][i] : 1.0;
-            acc[1 + a] += wa * rho;
-            acc[1 + d + a] += wa * wa * rho;
+            if (!job->weights) {
+                acc[1 + a] += rho;
+                acc[1 + d + a] += rho;
+                continue;
+            }
+            double wa = job->weights[a] ? job->weights[a][i] : 1.0;
+            pf_sum_add(&acc[1 + a], &acc[W + 1 + a], wa * rho);
+            pf_sum_add(&acc[1 + d + a], &acc[W + 1 + d + a], wa * wa * rho);
         }
         for (int a = d - 1; a >= 0; a--) {
             if (++idx[a] < lay[a]) break;
@@ -634,7 +648,10 @@ pf_status pf_dist_sums(pf_grid *g, const double complex *z, pf_rep rep, const do
 {
     if (!g->dist) return pf_reduce_axis_moments(g, z, weights, sums);
     moments_job job = {g, z, weights, rep == PF_MOMENTUM};
-    pf_dist_reduce(g, rep, 1 + 2 * g->dim, moments_block, &job, sums);
+    const int W = 1 + 2 * g->dim;
+    double all[PF_REDUCE_MAX_WIDTH];
+    pf_dist_reduce(g, rep, weights ? 2 * W : W, moments_block, &job, all);
+    for (int c = 0; c < W; c++) sums[c] = weights ? all[c] + all[W + c] : all[c];
     return PF_OK;
 }
 
@@ -1013,11 +1030,14 @@ pf_status pf_dist_shared_density(pf_wave *w, pf_rep rep, double *out)
     return PF_OK;
 }
 
-pf_status pf_dist_on_whole(pf_wave *w, pf_rep rep, pf_dist_whole_fn fn, void *user, double *out, int n)
+/* pf_dist_on_whole and pf_dist_on_whole_update: gather rep onto rank 0,
+ * run fn on a whole view there, scatter the view back when `update`, and
+ * broadcast status, figures and the generator's state. */
+static pf_status on_whole(pf_wave *w, pf_rep rep, pf_dist_whole_fn fn, void *user, double *out, int n, int update,
+                          void *state, size_t state_bytes)
 {
     pf_grid *g = w->grid;
     struct pf_dist_grid *D = g->dist;
-    if (!D) return fn(w, user, out);
     const int root = D->rank == 0;
     double complex *all = root ? PF_ALLOC_N(g->ctx, g->total, sizeof(double complex)) : NULL;
     pf_status s = pf_wave_gather(w, rep, all); /* fails on every rank when rank 0 lacks the buffer */
@@ -1040,20 +1060,53 @@ pf_status pf_dist_on_whole(pf_wave *w, pf_rep rep, pf_dist_whole_fn fn, void *us
         g->dist = NULL;
         w->store = all;
         s = fn(w, user, out);
+        if (!s && update) s = pf_wave_to(w, rep); /* what is scattered back */
         g->dist = D;
         w->store = own;
         w->rep = rep;
-        w->norm_now = norm;
+        w->norm_now = update ? -1.0 : norm;
         w->guard = guard;
         if (steps && w->log.count == steps) w->log.steps[steps - 1] = last;
         status = (int)s;
     }
-    pf_context_free(g->ctx, all);
     MPI_Bcast(&status, 1, MPI_INT, 0, MPI_COMM_WORLD);
-    if (status != PF_OK)
+    if (status != PF_OK) {
+        pf_context_free(g->ctx, all);
         return root ? s : pf_fail(g->ctx, (pf_status)status, "the measurement failed on MPI rank 0 (its message says why)");
+    }
+    if (update) {
+        /* Back to the slabs, plane by plane as pf_wave_gather sent them. */
+        const int L = rep == PF_MOMENTUM;
+        MPI_Datatype plane;
+        MPI_Type_contiguous((int)(2 * (L ? D->tplane : D->plane)), MPI_DOUBLE, &plane);
+        MPI_Type_commit(&plane);
+        int mine = (int)(L ? D->n1loc : D->n0loc);
+        MPI_Gather(&mine, 1, MPI_INT, D->counts, 1, MPI_INT, 0, MPI_COMM_WORLD);
+        if (root)
+            for (int r = 0, at = 0; r < D->size; at += D->counts[r], r++) D->displs[r] = at;
+        MPI_Scatterv(all, D->counts, D->displs, plane, w->store, mine, plane, 0, MPI_COMM_WORLD);
+        MPI_Type_free(&plane);
+        w->norm_now = -1.0;
+    }
+    pf_context_free(g->ctx, all);
     MPI_Bcast(out, n, MPI_DOUBLE, 0, MPI_COMM_WORLD);
+    if (state && state_bytes) MPI_Bcast(state, (int)state_bytes, MPI_BYTE, 0, MPI_COMM_WORLD);
     return PF_OK;
+}
+
+pf_status pf_dist_on_whole(pf_wave *w, pf_rep rep, pf_dist_whole_fn fn, void *user, double *out, int n)
+{
+    if (!w->grid->dist) return fn(w, user, out);
+    return on_whole(w, rep, fn, user, out, n, 0, NULL, 0);
+}
+
+pf_status pf_dist_on_whole_update(pf_wave *w, pf_dist_whole_fn fn, void *user, double *out, int n, void *state,
+                                  size_t state_bytes)
+{
+    if (!w->grid->dist) return fn(w, user, out);
+    /* Position: the measurements act there; the transposed layout would
+     * need a transpose on rank 0 to scatter. */
+    return on_whole(w, PF_POSITION, fn, user, out, n, 1, state, state_bytes);
 }
 
 #endif /* PF_HAVE_DIST */

@@ -303,18 +303,36 @@ double pf_wave_last_logged_norm(pf_wave *w);
  * sums are computed in parallel and the partials are added in block order.
  * weights[a] (per-axis tables, may be NULL for weight 1) multiply |z|^2:
  * sums[0] = sum |z|^2, sums[1+a] = sum w_a |z|^2, sums[1+d+a] = sum w_a^2 |z|^2. */
-/* Reserves g->reduce_part at grid creation: 1 + 2 dim doubles per block of
+/* Weighted moments (weights given) are summed with Neumaier's compensated
+ * addition (pf_sum_add): each accumulator c has its running compensation in
+ * acc[W + c], W = 1 + 2 dim, carried through the blocks like the sums and
+ * added at the end.  Without it, a mean summed in storage order and one
+ * summed in the transposed order of a distributed momentum slab differed by
+ * 2.4e-14 of the mean (naive block sums round at about sqrt(N) eps); with it
+ * both are within about 1e-16 of the exact sum (docs/distributed.md).  The
+ * norm (no weights) keeps the plain sum: it runs every step.
+ * Reserves g->reduce_part at grid creation: 2 (1 + 2 dim) doubles per block of
  * PF_REDUCE_BLOCK points, so reductions (norms, moments) and the mask
  * kernels' removed-probability sums allocate nothing and cannot fail for
  * memory later.  One user at a time: no caller holds it across calls. */
 #define PF_REDUCE_BLOCK ((size_t)16384)
+#define PF_REDUCE_MAX_WIDTH (2 * (1 + 2 * PF_MAX_DIM))
+/* Neumaier's compensated addition of x to the sum *s with compensation *c
+ * (the sum is *s + *c). */
+static inline void pf_sum_add(double *s, double *c, double x)
+{
+    double t = *s + x;
+    if ((*s >= 0 ? *s : -*s) >= (x >= 0 ? x : -x)) *c += (*s - t) + x;
+    else *c += (x - t) + *s;
+    *s = t;
+}
 pf_status pf_reduce_reserve(pf_grid *g);
 pf_status pf_reduce_axis_moments(pf_grid *g, const double complex *z,
                                  const double *const *weights, double *sums);
 /* The fixed-block split itself, for reductions of other integrands: calls
  * block(user, begin, end, idx, acc) once per block of PF_REDUCE_BLOCK storage
  * offsets [begin, end), idx the multi-index of begin, to fill acc[0..width-1]
- * (width <= 1 + 2 dim, the reserved buffer's stride); then adds the block
+ * (width <= 2 (1 + 2 dim), the reserved buffer's stride); then adds the block
  * partials in block order into sums[0..width-1]. */
 typedef void (*pf_reduce_block_fn)(void *user, size_t begin, size_t end, const size_t *idx, double *acc);
 void pf_reduce_blocks(pf_grid *g, int width, pf_reduce_block_fn block, void *user, double *sums);
@@ -402,6 +420,15 @@ double pf_dist_momentum_axis_mask(pf_grid *g, double complex *data, const double
  * held whole goes straight to fn.  Collective. */
 typedef pf_status (*pf_dist_whole_fn)(pf_wave *w, void *user, double *out);
 pf_status pf_dist_on_whole(pf_wave *w, pf_rep rep, pf_dist_whole_fn fn, void *user, double *out, int n);
+/* The same for measurements that change the state (pf_collapse.c): fn
+ * runs on rank 0 on the whole position-representation wave and may change
+ * its samples; the result is scattered back to the ranks' slabs, the
+ * status, out and the state bytes of the random generator fn drew from
+ * (state, state_bytes; NULL when none) are broadcast, so every rank's
+ * generator stays in step.  fn must not log a step: every rank logs it
+ * afterwards, so the step logs and the guards stay alike on all ranks. */
+pf_status pf_dist_on_whole_update(pf_wave *w, pf_dist_whole_fn fn, void *user, double *out, int n, void *state,
+                                  size_t state_bytes);
 /* The flight phase tables of g for tau (pf_flight.c). */
 void pf_flight_fill_tables(pf_grid *g, double tau);
 

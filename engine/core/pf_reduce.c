@@ -13,7 +13,7 @@
 pf_status pf_reduce_reserve(pf_grid *g)
 {
     const size_t nblocks = (g->total + PF_REDUCE_BLOCK - 1) / PF_REDUCE_BLOCK;
-    g->reduce_part = PF_ALLOC_N(g->ctx, nblocks * (size_t)(1 + 2 * g->dim), sizeof(double));
+    g->reduce_part = PF_ALLOC_N(g->ctx, nblocks * (size_t)(2 * (1 + 2 * g->dim)), sizeof(double));
     return g->reduce_part ? PF_OK : pf_context_status(g->ctx);
 }
 
@@ -40,7 +40,7 @@ void pf_reduce_blocks(pf_grid *g, int width, pf_reduce_block_fn block, void *use
             idx[a] = rest % g->n[a];
             rest /= g->n[a];
         }
-        double acc[1 + 2 * PF_MAX_DIM] = {0};
+        double acc[PF_REDUCE_MAX_WIDTH] = {0};
         block(user, begin, end, idx, acc);
         memcpy(part + (size_t)b * (size_t)width, acc, (size_t)width * sizeof(double));
     }
@@ -69,13 +69,26 @@ static void moments_block(void *user, size_t begin, size_t end, const size_t *st
     const int d = job->g->dim;
     const double complex *z = job->z;
     size_t idx[PF_MAX_DIM] = {start[0], start[1], start[2]};
+    if (job->weights) { /* compensated (pf_sum_add): compensations in acc[W ..] */
+        const int W = 1 + 2 * d;
+        for (size_t off = begin; off < end; off++) {
+            double rho = creal(z[off]) * creal(z[off]) + cimag(z[off]) * cimag(z[off]);
+            pf_sum_add(&acc[0], &acc[W], rho);
+            for (int a = 0; a < d; a++) {
+                double wa = job->weights[a] ? job->weights[a][idx[a]] : 1.0;
+                pf_sum_add(&acc[1 + a], &acc[W + 1 + a], wa * rho);
+                pf_sum_add(&acc[1 + d + a], &acc[W + 1 + d + a], wa * wa * rho);
+            }
+            pf_index_next(job->g, idx);
+        }
+        return;
+    }
     for (size_t off = begin; off < end; off++) {
         double rho = creal(z[off]) * creal(z[off]) + cimag(z[off]) * cimag(z[off]);
         acc[0] += rho;
         for (int a = 0; a < d; a++) {
-            double wa = job->weights && job->weights[a] ? job->weights[a][idx[a]] : 1.0;
-            acc[1 + a] += wa * rho;
-            acc[1 + d + a] += wa * wa * rho;
+            acc[1 + a] += rho;
+            acc[1 + d + a] += rho;
         }
         pf_index_next(job->g, idx);
     }
@@ -85,6 +98,9 @@ pf_status pf_reduce_axis_moments(pf_grid *g, const double complex *z, const doub
                                  double *sums)
 {
     moments_job job = {g, z, weights};
-    pf_reduce_blocks(g, 1 + 2 * g->dim, moments_block, &job, sums);
+    const int W = 1 + 2 * g->dim;
+    double all[PF_REDUCE_MAX_WIDTH];
+    pf_reduce_blocks(g, weights ? 2 * W : W, moments_block, &job, all);
+    for (int c = 0; c < W; c++) sums[c] = weights ? all[c] + all[W + c] : all[c];
     return PF_OK;
 }

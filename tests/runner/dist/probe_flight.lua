@@ -4,7 +4,7 @@
 -- compares the lines.  Lines start with a tag: "exact" lines must be the
 -- same bits at every rank count and as one process (reductions of data
 -- that no transform touched), "flown" lines the same bits at every rank
--- count and within 1e-14 of one process (FFTW's serial and MPI plans round
+-- count and within 1e-14 of one process (FFTW's serial and MPI plans may round
 -- differently), "law" lines are checked against the free Gaussian width law.
 local pf = require "psiflight"
 pf.setup{distribute = true, planning = "estimate", guard_threshold = math.huge}
