@@ -8,12 +8,11 @@
 #include "pf_observe.h"
 #include "pf_sample.h"
 
-pf_status pf_wave_measure_region(pf_wave *w, const pf_region *reg, pf_rng *r, int forced, int *outcome,
-                                 double *probability)
+/* The region measurement without its log step (logged by the callers). */
+static pf_status region_core(pf_wave *w, const pf_region *reg, pf_rng *r, int forced, int *outcome,
+                             double *probability)
 {
     pf_grid *g = w->grid;
-    if (forced < -1 || forced > 1) return pf_fail(g->ctx, PF_EINVAL, "forced outcome must be -1, 0 or 1");
-    if (forced < 0 && !r) return pf_fail(g->ctx, PF_EINVAL, "a drawn outcome needs a random generator");
     size_t bytes = g->total * sizeof(double);
     double *m = pf_alloc(g->ctx, bytes);
     if (!m) return pf_context_status(g->ctx);
@@ -46,7 +45,42 @@ pf_status pf_wave_measure_region(pf_wave *w, const pf_region *reg, pf_rng *r, in
     pf_free(g->ctx, m, bytes);
     *outcome = yes;
     *probability = p;
-    pf_wave_log_step(w, "measure", yes ? "region-yes" : "region-no", 0.0, 1 - p, -1.0);
+    return PF_OK;
+}
+
+typedef struct region_job {
+    const pf_region *reg;
+    pf_rng *r;
+    int forced;
+} region_job;
+
+static pf_status region_whole(pf_wave *w, void *user, double *out)
+{
+    const region_job *job = user;
+    int yes = 0;
+    double p = 0;
+    pf_status s = region_core(w, job->reg, job->r, job->forced, &yes, &p);
+    out[0] = yes;
+    out[1] = p;
+    return s;
+}
+
+pf_status pf_wave_measure_region(pf_wave *w, const pf_region *reg, pf_rng *r, int forced, int *outcome,
+                                 double *probability)
+{
+    pf_grid *g = w->grid;
+    if (forced < -1 || forced > 1) return pf_fail(g->ctx, PF_EINVAL, "forced outcome must be -1, 0 or 1");
+    if (forced < 0 && !r) return pf_fail(g->ctx, PF_EINVAL, "a drawn outcome needs a random generator");
+    /* Over MPI ranks: measured on the wave gathered onto rank 0 and
+     * scattered back; its draw is the single process's, and every rank's
+     * generator takes rank 0's state afterwards. */
+    region_job job = {reg, r, forced};
+    double out[2] = {0, 0};
+    pf_status s = pf_dist_on_whole_update(w, region_whole, &job, out, 2, r, r ? sizeof *r : 0);
+    if (s) return s;
+    *outcome = out[0] != 0;
+    *probability = out[1];
+    pf_wave_log_step(w, "measure", *outcome ? "region-yes" : "region-no", 0.0, 1 - out[1], -1.0);
     return PF_OK;
 }
 
@@ -67,8 +101,9 @@ static pf_status born_position(pf_wave *w, pf_rng *r, double *x)
     return s;
 }
 
-pf_status pf_wave_measure_position(pf_wave *w, const double *sigma, pf_rng *r, const double *forced,
-                                   double *outcome, double *density)
+/* The position measurement without its log step (logged by the callers). */
+static pf_status position_core(pf_wave *w, const double *sigma, pf_rng *r, const double *forced, double *outcome,
+                               double *density)
 {
     pf_grid *g = w->grid;
     const int d = g->dim;
@@ -140,6 +175,32 @@ pf_status pf_wave_measure_position(pf_wave *w, const double *sigma, pf_rng *r, c
     for (int a = 0; a < d; a++) pf_context_free(g->ctx, K[a]);
     for (int a = 0; a < d; a++) outcome[a] = sigma[a] > 0 ? y[a] : NAN;
     *density = p / norm;
+    return PF_OK;
+}
+
+typedef struct position_job {
+    const double *sigma;
+    pf_rng *r;
+    const double *forced;
+} position_job;
+
+static pf_status position_whole(pf_wave *w, void *user, double *out)
+{
+    const position_job *job = user;
+    return position_core(w, job->sigma, job->r, job->forced, out, out + PF_MAX_DIM);
+}
+
+pf_status pf_wave_measure_position(pf_wave *w, const double *sigma, pf_rng *r, const double *forced,
+                                   double *outcome, double *density)
+{
+    /* Over MPI ranks: on the wave gathered onto rank 0 (the single
+     * process's draw), scattered back; generators follow rank 0's. */
+    position_job job = {sigma, r, forced};
+    double out[PF_MAX_DIM + 1] = {0, 0, 0, 0};
+    pf_status s = pf_dist_on_whole_update(w, position_whole, &job, out, PF_MAX_DIM + 1, r, r ? sizeof *r : 0);
+    if (s) return s;
+    for (int a = 0; a < w->grid->dim; a++) outcome[a] = out[a];
+    *density = out[PF_MAX_DIM];
     pf_wave_log_step(w, "measure", "position-gauss", 0.0, 0.0, -1.0);
     return PF_OK;
 }

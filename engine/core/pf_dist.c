@@ -157,6 +157,12 @@ double pf_dist_momentum_axis_mask(pf_grid *g, double complex *data, const double
 {
     return pf_kernel_axis_mask(g, data, tables);
 }
+pf_status pf_dist_on_whole_update(pf_wave *w, pf_dist_whole_fn fn, void *user, double *out, int n, void *state,
+                                  size_t state_bytes)
+{
+    (void)n, (void)state, (void)state_bytes;
+    return fn(w, user, out);
+}
 pf_status pf_dist_shared_density(pf_wave *w, pf_rep rep, double *out)
 {
     (void)rep, (void)out;
@@ -1024,11 +1030,14 @@ pf_status pf_dist_shared_density(pf_wave *w, pf_rep rep, double *out)
     return PF_OK;
 }
 
-pf_status pf_dist_on_whole(pf_wave *w, pf_rep rep, pf_dist_whole_fn fn, void *user, double *out, int n)
+/* pf_dist_on_whole and pf_dist_on_whole_update: gather rep onto rank 0,
+ * run fn on a whole view there, scatter the view back when `update`, and
+ * broadcast status, figures and the generator's state. */
+static pf_status on_whole(pf_wave *w, pf_rep rep, pf_dist_whole_fn fn, void *user, double *out, int n, int update,
+                          void *state, size_t state_bytes)
 {
     pf_grid *g = w->grid;
     struct pf_dist_grid *D = g->dist;
-    if (!D) return fn(w, user, out);
     const int root = D->rank == 0;
     double complex *all = root ? PF_ALLOC_N(g->ctx, g->total, sizeof(double complex)) : NULL;
     pf_status s = pf_wave_gather(w, rep, all); /* fails on every rank when rank 0 lacks the buffer */
@@ -1051,20 +1060,53 @@ pf_status pf_dist_on_whole(pf_wave *w, pf_rep rep, pf_dist_whole_fn fn, void *us
         g->dist = NULL;
         w->store = all;
         s = fn(w, user, out);
+        if (!s && update) s = pf_wave_to(w, rep); /* what is scattered back */
         g->dist = D;
         w->store = own;
         w->rep = rep;
-        w->norm_now = norm;
+        w->norm_now = update ? -1.0 : norm;
         w->guard = guard;
         if (steps && w->log.count == steps) w->log.steps[steps - 1] = last;
         status = (int)s;
     }
-    pf_context_free(g->ctx, all);
     MPI_Bcast(&status, 1, MPI_INT, 0, MPI_COMM_WORLD);
-    if (status != PF_OK)
+    if (status != PF_OK) {
+        pf_context_free(g->ctx, all);
         return root ? s : pf_fail(g->ctx, (pf_status)status, "the measurement failed on MPI rank 0 (its message says why)");
+    }
+    if (update) {
+        /* Back to the slabs, plane by plane as pf_wave_gather sent them. */
+        const int L = rep == PF_MOMENTUM;
+        MPI_Datatype plane;
+        MPI_Type_contiguous((int)(2 * (L ? D->tplane : D->plane)), MPI_DOUBLE, &plane);
+        MPI_Type_commit(&plane);
+        int mine = (int)(L ? D->n1loc : D->n0loc);
+        MPI_Gather(&mine, 1, MPI_INT, D->counts, 1, MPI_INT, 0, MPI_COMM_WORLD);
+        if (root)
+            for (int r = 0, at = 0; r < D->size; at += D->counts[r], r++) D->displs[r] = at;
+        MPI_Scatterv(all, D->counts, D->displs, plane, w->store, mine, plane, 0, MPI_COMM_WORLD);
+        MPI_Type_free(&plane);
+        w->norm_now = -1.0;
+    }
+    pf_context_free(g->ctx, all);
     MPI_Bcast(out, n, MPI_DOUBLE, 0, MPI_COMM_WORLD);
+    if (state && state_bytes) MPI_Bcast(state, (int)state_bytes, MPI_BYTE, 0, MPI_COMM_WORLD);
     return PF_OK;
+}
+
+pf_status pf_dist_on_whole(pf_wave *w, pf_rep rep, pf_dist_whole_fn fn, void *user, double *out, int n)
+{
+    if (!w->grid->dist) return fn(w, user, out);
+    return on_whole(w, rep, fn, user, out, n, 0, NULL, 0);
+}
+
+pf_status pf_dist_on_whole_update(pf_wave *w, pf_dist_whole_fn fn, void *user, double *out, int n, void *state,
+                                  size_t state_bytes)
+{
+    if (!w->grid->dist) return fn(w, user, out);
+    /* Position: the measurements act there; the transposed layout would
+     * need a transpose on rank 0 to scatter. */
+    return on_whole(w, PF_POSITION, fn, user, out, n, 1, state, state_bytes);
 }
 
 #endif /* PF_HAVE_DIST */

@@ -58,6 +58,8 @@ static const char *const DIST_AWARE[] = {
     "wave:mask",
     "wave:mask_grating",
     "wave:mass",
+    "wave:measure_position",
+    "wave:measure_region",
     "wave:momentum_covariance",
     "wave:momentum_density",
     "wave:momentum_mask",

@@ -143,6 +143,34 @@ line("law fperiod", fit.period, period)
 line("law fvisibility", fit.visibility, V)
 f:close()
 
+-- Measurements that change the state, on the wave gathered onto rank 0
+-- and scattered back: a drawn region outcome (the run's generator, then a
+-- seeded one), a forced one, a drawn and a forced Gaussian position
+-- measurement; then figures of the collapsed state on every rank's planes.
+do
+  local m = pf.wave(g, {mass = mass, normalize = true, position = function(x, y)
+    return math.exp(-(x - 0.5e-6) ^ 2 / (4 * (1.9e-6) ^ 2) - y * y / (4 * (1.6e-6) ^ 2))
+  end})
+  local yes, p = m:measure_region(pf.box{min = {0, -3e-6}, max = {4e-6, 3e-6}}, {seed = 21})
+  line("exact mregion", yes and 1 or 0, p, m:norm(), m:position_mean())
+  local yes2, p2 = m:measure_region(pf.ball{center = {1e-6, 0}, radius = 2.5e-6}, {outcome = false})
+  line("exact mregion2", yes2 and 1 or 0, p2, m:norm(), m:position_mean())
+  local y, dens = m:measure_position{resolution = {0.8e-6, 0}, seed = 22}
+  line("exact mposition", y[1], dens, m:norm(), m:position_mean())
+  local y2, dens2 = m:measure_position{resolution = {0, 0.6e-6}, outcome = {0, 0.4e-6}}
+  line("exact mposition2", y2[2], dens2, m:norm(), m:position_width())
+  agree("exact mposition", y[1] / 1e-6 + dens / 1e5)
+  -- The run's own generator after the seeded draws: every rank draws the
+  -- same next numbers (its state is rank 0's).
+  local y3 = m:measure_position{resolution = {1.1e-6, 0}}
+  line("exact mposition3", y3[1], m:norm())
+  agree("exact mposition3", y3[1] / 1e-6)
+  local ev = m:sample(5)
+  list("exact msample", ev[1])
+  agree("exact msample", 2 + total(ev[1]) / 1e-6)
+  m:close()
+end
+
 -- Plane figures and the position-momentum covariance on the wave gathered
 -- in momentum (or position) onto rank 0: a moving, chirped packet.
 local v = pf.wave(g, {mass = mass, normalize = true, position = function(x, y)
