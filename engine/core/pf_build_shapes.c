@@ -4,6 +4,7 @@
 #include <stdlib.h>
 #include "pf_build.h"
 #include "pf_constants.h"
+#include "pf_dist.h"
 #include "pf_internal.h"
 #include "pf_resolution.h"
 
@@ -94,16 +95,25 @@ pf_status pf_build_flat_top(pf_wave *w, const double *center, const double *wave
     else
         integral *= unit_ball(d) * d * tgamma(0.5 * d / order) / (2.0 * order);
     double norm = 1.0 / sqrt(integral);
-    double complex *data = pf_wave_overwrite(w);
-    ptrdiff_t n0 = (ptrdiff_t)nn[0];
+    size_t first0, count0;
+    double complex *data = pf_wave_overwrite_planes(w, &first0, &count0);
+    /* A grid split over MPI ranks holds momentum planes of axis 1,
+     * transposed (axis 1, axis 0, axis 2: pf_dist.h); one process holds
+     * axis 0 first.  Each value is the same product either way. */
+    size_t first1 = 0, count1 = nn[1];
+    const int transposed = pf_grid_distributed(g);
+    if (transposed) pf_grid_slab(g, PF_MOMENTUM, &first1, &count1);
+    ptrdiff_t n0 = (ptrdiff_t)(transposed ? count1 : nn[0]);
 #pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
-    for (ptrdiff_t i = 0; i < n0; i++)
-        for (size_t j = 0; j < nn[1]; j++)
+    for (ptrdiff_t r = 0; r < n0; r++)
+        for (size_t j = 0; j < (transposed ? nn[0] : nn[1]); j++)
             for (size_t k = 0; k < nn[2]; k++) {
-                size_t t0 = offs[0] + (size_t)i, t1 = offs[1] + j, t2 = offs[2] + k;
+                size_t i0 = transposed ? j : (size_t)r, i1 = transposed ? first1 + (size_t)r : j;
+                size_t t0 = offs[0] + i0, t1 = offs[1] + i1, t2 = offs[2] + k;
                 double f = shape == PF_FLAT_BOX ? u2[t0] * u2[t1] * u2[t2]
                                                 : exp(-0.5 * pow(u2[t0] + u2[t1] + u2[t2], order));
-                data[((size_t)i * nn[1] + j) * nn[2] + k] = norm * f * ph[t0] * ph[t1] * ph[t2];
+                size_t at = transposed ? ((size_t)r * nn[0] + j) * nn[2] + k : ((size_t)r * nn[1] + j) * nn[2] + k;
+                data[at] = norm * f * ph[t0] * ph[t1] * ph[t2];
             }
     pf_context_free(g->ctx, u2);
     pf_context_free(g->ctx, ph);
@@ -149,13 +159,14 @@ pf_status pf_build_thomas_fermi(pf_wave *w, const double *center, const double *
     double integral = unit_ball(d) * 2.0 / (d + 2.0);
     for (int a = 0; a < d; a++) integral *= radius[a];
     double norm = 1.0 / sqrt(integral);
-    double complex *data = pf_wave_overwrite(w);
-    ptrdiff_t n0 = (ptrdiff_t)nn[0];
+    size_t first0, count0; /* this rank's planes of a grid split over MPI ranks */
+    double complex *data = pf_wave_overwrite_planes(w, &first0, &count0);
+    ptrdiff_t n0 = (ptrdiff_t)count0;
 #pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
     for (ptrdiff_t i = 0; i < n0; i++)
         for (size_t j = 0; j < nn[1]; j++)
             for (size_t k = 0; k < nn[2]; k++) {
-                size_t t0 = offs[0] + (size_t)i, t1 = offs[1] + j, t2 = offs[2] + k;
+                size_t t0 = offs[0] + first0 + (size_t)i, t1 = offs[1] + j, t2 = offs[2] + k;
                 double rest = 1.0 - u2[t0] - u2[t1] - u2[t2];
                 data[((size_t)i * nn[1] + j) * nn[2] + k] =
                     rest > 0 ? norm * sqrt(rest) * ph[t0] * ph[t1] * ph[t2] : 0.0;

@@ -211,9 +211,11 @@ for n in 1 2 3 4; do
     fail "load -n $n: figures differ from one process by more than 1e-14"
 done
 
-# Builders (probe_builders.lua): pf.gaussian, pf.ground_state, pf.oscillator
-# and pf.momentum_orders fill each rank's planes; every figure is the single
-# process's bits (26 planes: 7, 7, 7, 5 on 4 ranks).
+# Builders (probe_builders.lua): pf.gaussian, pf.ground_state, pf.oscillator,
+# pf.momentum_orders and pf.thomas_fermi fill each rank's planes; every
+# figure is the single process's bits (26 planes: 7, 7, 7, 5 on 4 ranks).
+# pf.flat_top fills the transposed momentum slab; its figures follow a
+# transform.
 builders="$root/tests/runner/dist/probe_builders.lua"
 expect 0 "builders: one process" -- "$runner" run "$builders"
 printf '%s\n' "$out" >"$work/bplain.txt"
@@ -223,9 +225,20 @@ for n in 2 4; do
   printf '%s\n' "$out" >"$work/branks$n.txt"
   has "ranks $n distribute true" "builders: mpirun -n $n distributed"
   /usr/bin/python3 "$work/compare.py" "$work/bplain.txt" "$work/branks$n.txt" exact 0 >/dev/null &&
-    ok "builders -n $n: gaussian, ground state, oscillator and momentum orders bit-identical to one process" ||
+    ok "builders -n $n: gaussian, ground state, oscillator, momentum orders and Thomas-Fermi bit-identical to one process" ||
     fail "builders -n $n: built states differ from one process"
+  /usr/bin/python3 "$work/compare.py" "$work/branks2.txt" "$work/branks$n.txt" flown 0 >/dev/null &&
+    ok "builders -n $n: flat top (built on the transposed momentum slab) bit-identical to -n 2" ||
+    fail "builders -n $n: flat top differs from -n 2"
+  worst=$(/usr/bin/python3 "$work/compare.py" "$work/bplain.txt" "$work/branks$n.txt" flown 1e-14) &&
+    ok "builders -n $n: flat top within 1e-14 of one process (worst $worst)" ||
+    fail "builders -n $n: flat top differs from one process by more than 1e-14"
 done
+# The Thomas-Fermi widths against R / sqrt(d + 4) (the inverted parabola's
+# second moment in 3D; the grid samples its sharp edge: 4e-4 seen).
+tfw=$(awk '$1 == "law" && $2 ~ /^tf_width/ { d = ($3 - $4) / $4; if (d < 0) d = -d; if (d > m) m = d } END { printf "%.2g", m }' "$work/branks4.txt")
+awk -v m="$tfw" 'BEGIN { exit !(m < 1e-3) }' && ok "-n 4: Thomas-Fermi widths are R / sqrt(7) to $tfw" ||
+  fail "-n 4: Thomas-Fermi widths off by $tfw"
 
 # The memory cap counts this rank's share (probe_cap.lua): a 32^3 grid over
 # a 700 kB cap is refused as one process and fits on 4 ranks (8 planes each).

@@ -28,4 +28,23 @@ for _, name in ipairs({"gaussian", "ground", "oscillator", "orders"}) do
   line("exact " .. name .. "_mean", w:position_mean())
   line("exact " .. name .. "_width", w:position_width())
 end
+-- pf.thomas_fermi fills each rank's planes (exact); <x_a^2> = R_a^2 / (d + 4)
+-- for the inverted parabola in d = 3 (the profile's own moment integral,
+-- common practice; docs/states.md), to the grid's sampling of its edge.
+local radius = {7e-6, 6.5e-6, 8e-6}
+local tf = pf.thomas_fermi(g, {mass = mass, radius = radius, center = {0.4e-6, 0, 0}})
+line("exact tf_norm", tf:norm())
+line("exact tf_mean", tf:position_mean())
+line("exact tf_width", tf:position_width())
+local tw = {tf:position_width()}
+for a = 1, 3 do line("law tf_width" .. a, tw[a], radius[a] / math.sqrt(7)) end
+-- pf.flat_top fills each rank's planes of the transposed momentum layout;
+-- its figures follow the builder's own transform to position (its edge
+-- check), so they are "flown": the same bits at every rank count.
+local ft = pf.flat_top(g, {mass = mass, wavenumber_half_width = {9e5, 8e5, 7e5}, wavenumber = {6e5, 0, -3e5},
+  center = {0.5e-6, -0.3e-6, 0}})
+line("flown ft_norm", ft:norm())
+line("flown ft_k", ft:wavenumber_mean())
+line("flown ft_kwidth", ft:wavenumber_width())
+line("flown ft_mean", ft:position_mean())
 print(string.format("ranks %d distribute %s", pf.mpi_info().ranks, tostring(pf.mpi_info().distribute)))
