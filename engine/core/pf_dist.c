@@ -148,7 +148,7 @@ void pf_dist_momentum_multiply(pf_grid *g, double complex *data, const double co
 {
     (void)g, (void)data, (void)tables, (void)scale;
 }
-pf_status pf_dist_on_whole(pf_wave *w, pf_rep rep, pf_dist_whole_fn fn, void *user, double *out, int n)
+pf_status pf_dist_on_whole(pf_wave *w, pf_rep rep, pf_dist_whole_fn fn, void *user, double *out, size_t n)
 {
     (void)rep, (void)n;
     return fn(w, user, out);
@@ -157,7 +157,7 @@ double pf_dist_momentum_axis_mask(pf_grid *g, double complex *data, const double
 {
     return pf_kernel_axis_mask(g, data, tables);
 }
-pf_status pf_dist_on_whole_update(pf_wave *w, pf_dist_whole_fn fn, void *user, double *out, int n, void *state,
+pf_status pf_dist_on_whole_update(pf_wave *w, pf_dist_whole_fn fn, void *user, double *out, size_t n, void *state,
                                   size_t state_bytes)
 {
     (void)n, (void)state, (void)state_bytes;
@@ -1033,7 +1033,7 @@ pf_status pf_dist_shared_density(pf_wave *w, pf_rep rep, double *out)
 /* pf_dist_on_whole and pf_dist_on_whole_update: gather rep onto rank 0,
  * run fn on a whole view there, scatter the view back when `update`, and
  * broadcast status, figures and the generator's state. */
-static pf_status on_whole(pf_wave *w, pf_rep rep, pf_dist_whole_fn fn, void *user, double *out, int n, int update,
+static pf_status on_whole(pf_wave *w, pf_rep rep, pf_dist_whole_fn fn, void *user, double *out, size_t n, int update,
                           void *state, size_t state_bytes)
 {
     pf_grid *g = w->grid;
@@ -1089,18 +1089,19 @@ static pf_status on_whole(pf_wave *w, pf_rep rep, pf_dist_whole_fn fn, void *use
         w->norm_now = -1.0;
     }
     pf_context_free(g->ctx, all);
-    MPI_Bcast(out, n, MPI_DOUBLE, 0, MPI_COMM_WORLD);
+    for (size_t at = 0; at < n; at += BCAST_PIECE) /* MPI counts are ints */
+        MPI_Bcast(out + at, (int)(n - at < BCAST_PIECE ? n - at : BCAST_PIECE), MPI_DOUBLE, 0, MPI_COMM_WORLD);
     if (state && state_bytes) MPI_Bcast(state, (int)state_bytes, MPI_BYTE, 0, MPI_COMM_WORLD);
     return PF_OK;
 }
 
-pf_status pf_dist_on_whole(pf_wave *w, pf_rep rep, pf_dist_whole_fn fn, void *user, double *out, int n)
+pf_status pf_dist_on_whole(pf_wave *w, pf_rep rep, pf_dist_whole_fn fn, void *user, double *out, size_t n)
 {
     if (!w->grid->dist) return fn(w, user, out);
     return on_whole(w, rep, fn, user, out, n, 0, NULL, 0);
 }
 
-pf_status pf_dist_on_whole_update(pf_wave *w, pf_dist_whole_fn fn, void *user, double *out, int n, void *state,
+pf_status pf_dist_on_whole_update(pf_wave *w, pf_dist_whole_fn fn, void *user, double *out, size_t n, void *state,
                                   size_t state_bytes)
 {
     if (!w->grid->dist) return fn(w, user, out);

@@ -19,10 +19,18 @@ static pf_status check_plane(pf_grid *g, int axis, double at)
     return PF_OK;
 }
 
+static pf_status current_whole(pf_wave *w, void *user, double *out)
+{
+    return pf_wave_current(w, *(const int *)user, out);
+}
+
 pf_status pf_wave_current(pf_wave *w, int axis, double *out)
 {
     pf_grid *g = w->grid;
     if (axis < 0 || axis >= g->dim) return pf_fail(g->ctx, PF_EINVAL, "current axis must be 1..%d", g->dim);
+    /* Split over MPI ranks: computed on the wave gathered onto rank 0, the
+     * whole table broadcast (every rank's out holds g->total values). */
+    if (g->dist) return pf_dist_on_whole(w, PF_MOMENTUM, current_whole, &axis, out, g->total);
     size_t bytes = g->total * sizeof(double complex);
     double complex *d = pf_alloc(g->ctx, bytes);
     if (!d) return pf_context_status(g->ctx);

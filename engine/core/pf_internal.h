@@ -419,7 +419,7 @@ double pf_dist_momentum_axis_mask(pf_grid *g, double complex *data, const double
  * and broadcasts its status and the n doubles of out to every rank.  A wave
  * held whole goes straight to fn.  Collective. */
 typedef pf_status (*pf_dist_whole_fn)(pf_wave *w, void *user, double *out);
-pf_status pf_dist_on_whole(pf_wave *w, pf_rep rep, pf_dist_whole_fn fn, void *user, double *out, int n);
+pf_status pf_dist_on_whole(pf_wave *w, pf_rep rep, pf_dist_whole_fn fn, void *user, double *out, size_t n);
 /* The same for measurements that change the state (pf_collapse.c): fn
  * runs on rank 0 on the whole position-representation wave and may change
  * its samples; the result is scattered back to the ranks' slabs, the
@@ -427,7 +427,7 @@ pf_status pf_dist_on_whole(pf_wave *w, pf_rep rep, pf_dist_whole_fn fn, void *us
  * (state, state_bytes; NULL when none) are broadcast, so every rank's
  * generator stays in step.  fn must not log a step: every rank logs it
  * afterwards, so the step logs and the guards stay alike on all ranks. */
-pf_status pf_dist_on_whole_update(pf_wave *w, pf_dist_whole_fn fn, void *user, double *out, int n, void *state,
+pf_status pf_dist_on_whole_update(pf_wave *w, pf_dist_whole_fn fn, void *user, double *out, size_t n, void *state,
                                   size_t state_bytes);
 /* The flight phase tables of g for tau (pf_flight.c). */
 void pf_flight_fill_tables(pf_grid *g, double tau);

@@ -40,6 +40,7 @@ static const char *const DIST_AWARE[] = {
     "wave:close",
     "wave:column_density",
     "wave:copy",
+    "wave:current",
     "wave:density",
     "wave:distribution",
     "wave:energy",

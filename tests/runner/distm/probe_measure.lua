@@ -186,6 +186,14 @@ agree("flown pmcov", P[1][2] / 1e-35)
 -- cov(y, p_x) = hbar c s_y^2 (Gaussian moments, textbook).
 line("law pmcov12", P[1][2], hbar * 4e10 * (1.7e-6) ^ 2)
 line("law pmcov21", P[2][1], hbar * 4e10 * (1.5e-6) ^ 2)
+-- The probability current along axis 1 (gathered onto rank 0, the table
+-- broadcast); for psi = A exp(i (k0 x + c x y)) with real A, j_x = (hbar /
+-- m) (k0 + c y) |A|^2, whose integral is hbar k0 / m (textbook).
+local jx = v:current(1)
+list("flown current", jx.values)
+agree("flown current", total(jx.values) / 1e6)
+local dx1, dx2 = g:spacing(1), g:spacing(2)
+line("law current", total(jx.values) * dx1 * dx2, hbar * 6e5 / mass)
 local b1 = v:beyond{axis = 1, at = 1.1e-6}
 line("flown beyond", b1, v:beyond{axis = 2, at = -0.4e-6})
 agree("flown beyond", b1)
