@@ -35,6 +35,7 @@ for n in 1 2 3 4; do
   printf '%s\n' "$out" >"$work/ranks$n.txt"
   has "ranks $n distribute true" "mpirun -n $n: the grid is distributed over $n ranks"
   has "refusal named" "mpirun -n $n: a function without a distributed path refuses by name"
+  has "refusals 4 of 4 named" "mpirun -n $n: fall, fly_long, expand and pf.potential refuse by name"
   [ "$(grep -c '^ranks' "$work/ranks$n.txt")" -eq 1 ] && ok "mpirun -n $n: only rank 0 prints" || fail "mpirun -n $n: only rank 0 prints"
 done
 
