@@ -154,6 +154,9 @@ pf_status pf_frame_check_acceleration(const pf_grid *g, const double *accel);
 /* Adds the grid part -m a.xi of a uniform force's potential to V (J, one
  * value per grid point, natural order); accel NULL or zero: nothing. */
 void pf_frame_tilt_add(const pf_grid *g, double mass, const double *accel, double *V);
+/* The same for global row-major offsets [first, first + count) only, into
+ * V[0 .. count) (a rank's points of a grid split over MPI ranks). */
+void pf_frame_tilt_add_range(const pf_grid *g, double mass, const double *accel, size_t first, size_t count, double *V);
 /* The constant part -m a.X (J) of that potential for w's frame offset. */
 double pf_frame_tilt_constant(const pf_wave *w, const double *accel);
 /* Adds the phase of that constant over t seconds to the frame's theta. */

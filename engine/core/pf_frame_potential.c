@@ -92,23 +92,28 @@ pf_status pf_frame_check_acceleration(const pf_grid *g, const double *accel)
 
 void pf_frame_tilt_add(const pf_grid *g, double mass, const double *accel, double *V)
 {
+    pf_frame_tilt_add_range(g, mass, accel, 0, g->total, V);
+}
+
+void pf_frame_tilt_add_range(const pf_grid *g, double mass, const double *accel, size_t first, size_t count, double *V)
+{
     if (!accel) return;
     int any = 0;
     for (int a = 0; a < g->dim; a++) any = any || accel[a] != 0.0;
     if (!any) return;
-    const size_t n = g->total;
+    const size_t n = count;
     const int d = g->dim;
     /* -m a.xi as a sum of per-axis terms, walked in row-major order. */
     #pragma omp parallel for num_threads(PF_OMP_THREADS(g->ctx)) schedule(static)
-    for (size_t off = 0; off < n; off++) {
-        size_t rest = off;
+    for (size_t i = 0; i < n; i++) {
+        size_t off = first + i, rest = off;
         double v = 0.0;
         for (int a = d - 1; a >= 0; a--) {
             size_t j = rest % g->n[a];
             rest /= g->n[a];
             v -= mass * accel[a] * g->x[a][j];
         }
-        V[off] += v;
+        V[i] += v;
     }
 }
 

@@ -131,15 +131,22 @@ static void push_info_number(lua_State *L, const char *k, double v)
     lua_setfield(L, -2, k);
 }
 
+/* Points of the grid this process holds: all, or its rank's slab
+ * (pf_dist.h), whose potentials are sampled at its own points only. */
+static size_t held_points(const pf_grid *g, size_t *first)
+{
+    size_t end;
+    pf_grid_local_range(g, first, &end);
+    return end - *first;
+}
+
 /* Whether an 'acceleration' adds a uniform force (a non-zero value on some
- * axis); refused on a distributed grid. */
+ * axis). */
 static int tilt_wanted(lua_State *L, pf_wave *w, const double *acc, int accelerated)
 {
+    (void)L;
     int any = 0;
     for (int a = 0; accelerated && a < dim_of(w); a++) any = any || acc[a] != 0.0;
-    if (any && pf_grid_distributed(pf_wave_grid(w)))
-        luaL_error(L, "an acceleration (the tilt of a uniform force) is not available for a grid distributed over MPI "
-                      "ranks yet (docs/distributed.md); give acceleration = false");
     return any;
 }
 
@@ -150,10 +157,10 @@ static double *tilt_values(lua_State *L, pf_wave *w, const double *acc, int acce
 {
     if (!tilt_wanted(L, w, acc, accelerated)) return NULL;
     pf_grid *g = pf_wave_grid(w);
-    size_t n = pf_grid_total(g);
-    double *T = lua_newuserdatauv(L, n * sizeof(double), 0);
+    size_t first, n = held_points(g, &first);
+    double *T = lua_newuserdatauv(L, (n ? n : 1) * sizeof(double), 0);
     memset(T, 0, n * sizeof(double));
-    pf_frame_tilt_add(g, pf_wave_mass(w), acc, T);
+    pf_frame_tilt_add_range(g, pf_wave_mass(w), acc, first, n, T);
     return T;
 }
 
@@ -219,13 +226,11 @@ static int l_evolve(lua_State *L)
     int fn = potential_field(L, 3, g, "evolve", varying, &V, &cache, offset);
     pfl_sampler s = {L, fn, dim_of(w), PF_POSITION, "evolve", "potential", 1, 0, g, {0, 0, 0}};
     memcpy(s.offset, offset, sizeof s.offset);
-    envelope_call env = {L, 0, V, pf_grid_total(g)};
+    size_t first_point, held = held_points(g, &first_point);
+    envelope_call env = {L, 0, V, held};
     int te = pfl_option_get(L, 3, "envelope");
     if (te != LUA_TNIL) {
         if (te != LUA_TFUNCTION) return luaL_error(L, "evolve: field 'envelope' must be a function of t");
-        if (pf_grid_distributed(g))
-            return luaL_error(L, "evolve: 'envelope' is not available for a grid distributed over MPI ranks yet "
-                                 "(docs/distributed.md); use time_dependent = true with a function of x and t");
         if (varying || !V)
             return luaL_error(L, "evolve: 'envelope' scales a static 'potential' (object, function of the coordinates or table)");
         env.fn = lua_gettop(L);
@@ -242,7 +247,7 @@ static int l_evolve(lua_State *L)
     }
     int tilted = tilt_wanted(L, w, acc, accelerated);
     const double *T = NULL;
-    tilt_call tc = {spec.varying, spec.user, NULL, pf_grid_total(g)};
+    tilt_call tc = {spec.varying, spec.user, NULL, held};
     if (tilted && cache && !spec.varying) {
         /* A pf.potential object keeps V - m a.xi and its exponentials for
          * the acceleration and mass of the last call (pfl_potential_tilted). */
@@ -255,7 +260,7 @@ static int l_evolve(lua_State *L)
             spec.user = &tc;
         } else {
             /* The tilted values are new each call: no exponentials to keep. */
-            spec.potential = tilted_static(L, V, T, pf_grid_total(g));
+            spec.potential = tilted_static(L, V, T, held);
             spec.cache = NULL;
         }
     }
@@ -306,7 +311,10 @@ static int l_relax(lua_State *L)
     int tilted = tilt_wanted(L, w, acc, accelerated);
     pf_evolve_cache *unused;
     if (tilted && object) spec.potential = pfl_potential_tilted(L, fn, pfl_test_potential(L, fn), pf_wave_mass(w), acc, &unused);
-    else if (tilted) spec.potential = tilted_static(L, V, tilt_values(L, w, acc, accelerated), pf_grid_total(g));
+    else if (tilted) {
+        size_t first_point, held = held_points(g, &first_point);
+        spec.potential = tilted_static(L, V, tilt_values(L, w, acc, accelerated), held);
+    }
     else spec.potential = V;
     pfl_check(L, pf_wave_frame_fold(w, "a potential"), "relax");
     pf_relax_info info;

@@ -94,10 +94,10 @@ for n in 1 2 4; do
   /usr/bin/python3 "$work/compare.py" "$work/eplain.txt" "$work/eranks$n.txt" exact 0 >/dev/null &&
     ok "evolve -n $n: the start is bit-identical to one process" || fail "evolve -n $n: start differs"
   /usr/bin/python3 "$work/compare.py" "$work/eranks1.txt" "$work/eranks$n.txt" flown,law 0 >/dev/null &&
-    ok "evolve -n $n: relax, kick, evolve with g, slit, imprint and masks bit-identical to -n 1" ||
+    ok "evolve -n $n: relax, kick, evolve with g, envelope and acceleration, slit, imprint and masks bit-identical to -n 1" ||
     fail "evolve -n $n: split-step figures differ from -n 1"
   worst=$(/usr/bin/python3 "$work/compare.py" "$work/eplain.txt" "$work/eranks$n.txt" flown,law 1e-14) &&
-    ok "evolve -n $n: relax, kick, evolve with g, slit, imprint and masks within 1e-14 of one process (worst $worst)" ||
+    ok "evolve -n $n: relax, kick, evolve with g, envelope and acceleration, slit, imprint and masks within 1e-14 of one process (worst $worst)" ||
     fail "evolve -n $n: split-step figures differ from one process by more than 1e-14"
 done
 # Closed forms: the linear ground-state energy hbar (wx + wy) / 2, and the
@@ -111,6 +111,16 @@ awk -v m="$e0" 'BEGIN { exit !(m < 1e-9) }' && ok "-n 4: relaxed energy is hbar 
 kohn=$(awk '$1 == "law" && $2 == "kohn" { d = ($3 - $4) / $4; if (d < 0) d = -d; printf "%.2g", d }' "$work/eranks4.txt")
 awk -v m="$kohn" 'BEGIN { exit !(m < 1e-4) }' && ok "-n 4: the kicked centre follows (hbar k / m w) sin(w t) to $kohn" ||
   fail "-n 4: kicked centre off by $kohn"
+# An acceleration (uniform force, each rank sampling -m a.x at its points)
+# and an envelope on the trap: the centre follows (a / w^2)(1 - cos w t)
+# (to the O(dt^2) splitting error, 1e-4) and the relaxed state sags by
+# a / w^2 (1e-5; textbook, Ehrenfest's theorem exact for a quadratic trap).
+tilt=$(awk '$1 == "law" && ($2 == "tiltx" || $2 == "tilty") { d = ($3 - $4) / $4; if (d < 0) d = -d; if (d > m) m = d } END { printf "%.2g", m }' "$work/eranks4.txt")
+awk -v m="$tilt" 'BEGIN { exit !(m < 1e-4) }' && ok "-n 4: under an acceleration the centre follows (a / w^2)(1 - cos w t) to $tilt" ||
+  fail "-n 4: accelerated centre off by $tilt"
+sag=$(awk '$1 == "law" && ($2 == "sagx" || $2 == "sagy") { d = ($3 - $4) / $4; if (d < 0) d = -d; if (d > m) m = d } END { printf "%.2g", m }' "$work/eranks4.txt")
+awk -v m="$sag" 'BEGIN { exit !(m < 1e-5) }' && ok "-n 4: relaxed under an acceleration the state sags by a / w^2 to $sag" ||
+  fail "-n 4: sag off by $sag"
 
 # Files (probe_files.lua): rank 0 gathers and writes.  start.h5 (a density
 # no transform touched) must be byte-identical to the single process's file;

@@ -63,5 +63,30 @@ line("flown maskedk", w:wavenumber_mean())
 local _, rk = w:momentum_mask(function(kx, ky) return math.abs(kx) < 1.5e6 and 1 or 0 end)
 line("flown kmask", rk)
 line("flown kmasked", w:norm())
+-- An envelope scaling the static trap, and a uniform force (acceleration)
+-- with it: each rank samples the tilt -m a.x at its own points.  In a
+-- harmonic trap the centre under a constant acceleration a follows
+-- x(t) = (a / omega^2) (1 - cos(omega t)) from rest at the centre, and the
+-- relaxed ground state sags by a / omega^2 (Ehrenfest's theorem is exact for
+-- quadratic potentials; textbook).
+local acc = {0.05, -0.04}
+local v = pf.ground_state(g, {mass = mass, omega = {wx, wy}})
+local te = 1.0e-3
+v:evolve(te, {potential = trap, envelope = function(tt) return 1 - 0.2 * tt / te end, dt = 2e-5})
+line("flown envelope", v:position_width())
+line("flown envelopek", v:wavenumber_width())
+local u = pf.ground_state(g, {mass = mass, omega = {wx, wy}})
+local ta = 2.0e-3
+u:evolve(ta, {potential = trap, acceleration = acc, dt = 2e-5})
+line("flown accel", u:position_mean())
+line("flown accelk", u:wavenumber_mean())
+local ux, uy = u:position_mean()
+line("law tiltx", ux, acc[1] / wx ^ 2 * (1 - math.cos(wx * ta)))
+line("law tilty", uy, acc[2] / wy ^ 2 * (1 - math.cos(wy * ta)))
+local _, ra = u:relax{potential = trap, acceleration = acc, dt = 2e-5, tolerance = 1e-13, max_steps = 4000, check_every = 20}
+line("flown relaxa", ra.energy)
+local sx, sy = u:position_mean()
+line("law sagx", sx, acc[1] / wx ^ 2)
+line("law sagy", sy, acc[2] / wy ^ 2)
 local info2 = pf.mpi_info()
 print(string.format("ranks %d distribute %s", info2.ranks, tostring(info2.distribute)))
