@@ -384,6 +384,18 @@ pf_status pf_wave_beyond(pf_wave *w, int axis, double at, double *probability)
     return PF_OK;
 }
 
+typedef struct arrival_args {
+    int axis;
+    double at, start, dt;
+    size_t count;
+} arrival_args;
+
+static pf_status arrival_whole(pf_wave *w, void *user, double *out)
+{
+    const arrival_args *a = user;
+    return pf_wave_arrival(w, a->axis, a->at, a->start, a->dt, a->count, out);
+}
+
 pf_status pf_wave_arrival(pf_wave *w, int axis, double at, double start, double dt, size_t count, double *flux)
 {
     pf_grid *g = w->grid;
@@ -393,6 +405,12 @@ pf_status pf_wave_arrival(pf_wave *w, int axis, double at, double start, double 
         return pf_fail(g->ctx, PF_EINVAL, "arrival window needs a finite start and a positive step, got %g and %g", start,
                        dt);
     if (count < 1) return pf_fail(g->ctx, PF_EINVAL, "arrival window needs at least one time");
+    if (g->dist) {
+        /* Split over MPI ranks: the copy flies on rank 0, from the wave
+         * gathered there (two whole waves on rank 0 meanwhile). */
+        arrival_args a = {axis, at, start, dt, count};
+        return pf_dist_on_whole(w, PF_MOMENTUM, arrival_whole, &a, flux, count);
+    }
     pf_wave *c;
     s = pf_wave_copy(w, &c);
     if (s) return s;

@@ -35,6 +35,7 @@ static const char *const DIST_AWARE[] = {
     "pf.thomas_fermi",
     "pf.wave",
     "wave:aperture",
+    "wave:arrival_times",
     "wave:beyond",
     "wave:clock",
     "wave:close",

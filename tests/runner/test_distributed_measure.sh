@@ -120,7 +120,8 @@ worst=$(/usr/bin/python3 "$work/law.py" "$work/masks.3.txt" 1e-8 vgauss) &&
 measure="$root/tests/runner/distm/probe_measure.lua"
 run_probe measure "$measure"
 compare_probe measure "density tables, covariances, samples, cameras and fringe fits"
-# Plane figures (w:beyond, w:flux), w:current and w:position_momentum_covariance run
+# Plane figures (w:beyond, w:flux, w:arrival_times), w:current and
+# w:position_momentum_covariance run
 # on the wave gathered onto rank 0; the picture is drawn from the gathered
 # density and only rank 0's file is kept.
 for n in 2 3 4; do
@@ -130,6 +131,11 @@ for n in 2 3 4; do
   [ "$(ls "$work/measure.$n")" = "$(ls "$work/measure.plain")" ] && ok "measure -n $n: the same files in the output folder" ||
     fail "measure -n $n: other files in the output folder: $(ls "$work/measure.$n")"
 done
+grep -q '^accelerated_arrival refused' "$work/measure.4.txt" &&
+  ok "measure -n 4: arrival_times under an acceleration refuses a distributed wave clearly" ||
+  fail "measure -n 4: arrival_times under an acceleration was not refused"
+grep -q '^accelerated_arrival ran' "$work/measure.plain.txt" &&
+  ok "measure: one process: arrival_times under an acceleration runs" || fail "measure: one process: accelerated arrival"
 # The probability beyond a plane of a Gaussian at rest: 1/2 at its centre
 # (symmetry), the normal tail (1 - erf(1/sqrt 2)) / 2 one sigma out
 # (normal distribution; value from Python's math.erf, quoted in the probe).

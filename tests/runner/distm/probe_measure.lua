@@ -198,6 +198,13 @@ local b1 = v:beyond{axis = 1, at = 1.1e-6}
 line("flown beyond", b1, v:beyond{axis = 2, at = -0.4e-6})
 agree("flown beyond", b1)
 line("flown flux", v:flux{axis = 1, at = 0.3e-6}, v:flux{axis = 2, at = 0})
+-- Arrival at a plane 4 um ahead of the moving packet (the copy flies on
+-- rank 0 from the gathered wave): the arrival-time flux and its summaries.
+local arr = v:arrival_times{axis = 1, at = 4e-6, from = 0, to = 2e-4, steps = 21}
+list("flown arrival", arr.flux)
+agree("flown arrival", total(arr.flux) / 1e3)
+local ok_acc, err_acc = pcall(function() return v:arrival_times{axis = 1, at = 4e-6, to = 2e-4, acceleration = {1, 0}} end)
+print("accelerated_arrival " .. (ok_acc and "ran" or (info.distribute and tostring(err_acc):match("not handled yet") and "refused" or "other")))
 -- A packet at rest: the probability beyond its centre plane is 1/2
 -- (symmetry); beyond x = s it is the normal tail (1 - erf(1/sqrt 2)) / 2.
 local r = pf.wave(g, {mass = mass, normalize = true, position = function(x, y)
