@@ -94,6 +94,19 @@ static pf_status line_wigner(wig_work *k, double dx, double weight, double *out)
     return PF_OK;
 }
 
+typedef struct wigner_args {
+    int axis, accumulate;
+    pf_wigner_mode mode;
+    const size_t *through;
+    double weight;
+} wigner_args;
+
+static pf_status wigner_whole(pf_wave *w, void *user, double *out)
+{
+    const wigner_args *a = user;
+    return pf_wave_wigner(w, a->axis, a->mode, a->through, a->weight, a->accumulate, out);
+}
+
 pf_status pf_wave_wigner(pf_wave *w, int axis, pf_wigner_mode mode, const size_t *through, double weight,
                          int accumulate, double *out)
 {
@@ -103,6 +116,12 @@ pf_status pf_wave_wigner(pf_wave *w, int axis, pf_wigner_mode mode, const size_t
         for (int a = 0; a < g->dim; a++)
             if (a != axis && through[a] >= g->n[a])
                 return pf_fail(g->ctx, PF_EINVAL, "cut index %zu on axis %d is outside the grid", through[a], a + 1);
+    if (g->dist) {
+        /* Split over MPI ranks: computed on the position wave gathered onto
+         * rank 0 (the single process's bits), the n x n table broadcast. */
+        wigner_args a = {axis, accumulate, mode, through, weight};
+        return pf_dist_on_whole(w, PF_POSITION, wigner_whole, &a, out, g->n[axis] * g->n[axis]);
+    }
     pf_status s = pf_wave_to(w, PF_POSITION);
     if (s) return s;
     wig_work k;

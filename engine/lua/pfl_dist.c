@@ -90,6 +90,7 @@ static const char *const DIST_AWARE[] = {
     "wave:velocity_mean",
     "wave:wavenumber_mean",
     "wave:wavenumber_width",
+    "wave:wigner",
     NULL,
 };
 

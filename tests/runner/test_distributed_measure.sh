@@ -120,8 +120,8 @@ worst=$(/usr/bin/python3 "$work/law.py" "$work/masks.3.txt" 1e-8 vgauss) &&
 measure="$root/tests/runner/distm/probe_measure.lua"
 run_probe measure "$measure"
 compare_probe measure "density tables, covariances, samples, cameras and fringe fits"
-# Plane figures (w:beyond, w:flux, w:arrival_times), w:current and
-# w:position_momentum_covariance run
+# Plane figures (w:beyond, w:flux, w:arrival_times), w:current, w:wigner
+# and w:position_momentum_covariance run
 # on the wave gathered onto rank 0; the picture is drawn from the gathered
 # density and only rank 0's file is kept.
 for n in 2 3 4; do
@@ -151,6 +151,9 @@ worst=$(/usr/bin/python3 "$work/law.py" "$work/measure.3.txt" 1e-5 pmcov12 pmcov
 worst=$(/usr/bin/python3 "$work/law.py" "$work/measure.2.txt" 1e-6 current) &&
   ok "measure -n 2: the integrated current of a moving packet is hbar k0 / m ($worst)" ||
   fail "measure -n 2: current law missed"
+worst=$(/usr/bin/python3 "$work/law.py" "$work/measure.3.txt" 1e-9 wigner_peak) &&
+  ok "measure -n 3: the reduced Gaussian's Wigner function peaks at 1 / (pi hbar) ($worst)" ||
+  fail "measure -n 3: Wigner peak law missed"
 # Bivariate normal covariance (textbook): the grid's sums of a resolved
 # Gaussian converge fast; 1e-7 is the sampling of this 18 x 16 grid.
 worst=$(/usr/bin/python3 "$work/law.py" "$work/measure.3.txt" 1e-7 cov11 cov12 cov22) &&

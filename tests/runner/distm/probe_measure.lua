@@ -210,6 +210,19 @@ print("accelerated_arrival " .. (ok_acc and "ran" or (info.distribute and tostri
 local r = pf.wave(g, {mass = mass, normalize = true, position = function(x, y)
   return math.exp(-x * x / (4 * (1.7e-6) ^ 2) - y * y / (4 * (1.5e-6) ^ 2))
 end})
+-- Wigner functions of the untransformed packet at rest (gathered onto rank
+-- 0): a cut through a grid point along the split axis, and the reduced
+-- state of axis 2.  The reduced state of this product Gaussian is a pure 1D
+-- Gaussian, whose Wigner function peaks at 1 / (pi hbar) at its centre
+-- (textbook).
+local wc = r:wigner{axis = 1, through = {0, 0}}
+list("exact wigner_cut", wc.values)
+agree("exact wigner_cut", total(wc.values) * hbar)
+local wr = r:wigner{axis = 2, reduced = true}
+list("exact wigner_reduced", wr.values)
+local peak = 0
+for i = 1, #wr.values do peak = math.max(peak, wr.values[i]) end
+line("law wigner_peak", peak, 1 / (math.pi * hbar))
 -- The picture of the density, drawn before any transform (rank 0 writes it).
 pf.picture_map("cloud.png", r, {title = "23Na cloud"})
 line("law beyond_half", r:beyond{axis = 1, at = 0}, 0.5)
