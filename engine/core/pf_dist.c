@@ -871,6 +871,22 @@ pf_status pf_dist_fill(pf_wave *w, pf_rep rep, pf_sample_fn fn, void *user)
 
 /* ---- gathering ---- */
 
+/* The plane layout for moving a whole distributed wave between the slabs
+ * and rank 0: a datatype of one plane of the representation's slab axis
+ * (counts in planes, so huge grids stay within MPI's int counts), every
+ * rank's plane count gathered on rank 0 with its displacement.  Returns this
+ * rank's plane count; the caller frees *plane. */
+static int plane_layout(const struct pf_dist_grid *D, int momentum, MPI_Datatype *plane)
+{
+    MPI_Type_contiguous((int)(2 * (momentum ? D->tplane : D->plane)), MPI_DOUBLE, plane);
+    MPI_Type_commit(plane);
+    int mine = (int)(momentum ? D->n1loc : D->n0loc);
+    MPI_Gather(&mine, 1, MPI_INT, D->counts, 1, MPI_INT, 0, MPI_COMM_WORLD);
+    if (D->rank == 0)
+        for (int r = 0, at = 0; r < D->size; at += D->counts[r], r++) D->displs[r] = at;
+    return mine;
+}
+
 pf_status pf_wave_gather(pf_wave *w, pf_rep rep, double complex *out)
 {
     pf_grid *g = w->grid;
@@ -886,19 +902,8 @@ pf_status pf_wave_gather(pf_wave *w, pf_rep rep, double complex *out)
     pf_status s = pf_dist_wave_to(w, rep);
     if (s) return s;
     const int L = rep == PF_MOMENTUM;
-    /* Counts in planes, so huge grids stay within MPI's int counts. */
     MPI_Datatype plane;
-    MPI_Type_contiguous((int)(2 * (L ? D->tplane : D->plane)), MPI_DOUBLE, &plane);
-    MPI_Type_commit(&plane);
-    int mine = (int)(L ? D->n1loc : D->n0loc);
-    MPI_Gather(&mine, 1, MPI_INT, D->counts, 1, MPI_INT, 0, MPI_COMM_WORLD);
-    if (D->rank == 0) {
-        int at = 0;
-        for (int r = 0; r < D->size; r++) {
-            D->displs[r] = at;
-            at += D->counts[r];
-        }
-    }
+    int mine = plane_layout(D, L, &plane);
     double complex *dest = out;
     double complex *tmp = NULL;
     int ok = D->rank != 0 || out != NULL; /* rank 0 without a buffer fails everyone */
@@ -1078,12 +1083,7 @@ static pf_status on_whole(pf_wave *w, pf_rep rep, pf_dist_whole_fn fn, void *use
         /* Back to the slabs, plane by plane as pf_wave_gather sent them. */
         const int L = rep == PF_MOMENTUM;
         MPI_Datatype plane;
-        MPI_Type_contiguous((int)(2 * (L ? D->tplane : D->plane)), MPI_DOUBLE, &plane);
-        MPI_Type_commit(&plane);
-        int mine = (int)(L ? D->n1loc : D->n0loc);
-        MPI_Gather(&mine, 1, MPI_INT, D->counts, 1, MPI_INT, 0, MPI_COMM_WORLD);
-        if (root)
-            for (int r = 0, at = 0; r < D->size; at += D->counts[r], r++) D->displs[r] = at;
+        int mine = plane_layout(D, L, &plane);
         MPI_Scatterv(all, D->counts, D->displs, plane, w->store, mine, plane, 0, MPI_COMM_WORLD);
         MPI_Type_free(&plane);
         w->norm_now = -1.0;
