@@ -56,7 +56,7 @@ CJSON_LIBS   := $(shell $(PKG_CONFIG) --libs $(CJSON_PC) 2>/dev/null || echo -lc
 MPI_PC    ?= ompi-c
 MPI_LIBS  := $(shell $(PKG_CONFIG) --libs $(MPI_PC) 2>/dev/null)
 MPI_CFLAGS := $(if $(MPI_LIBS),-DPFR_HAVE_MPI $(shell $(PKG_CONFIG) --cflags $(MPI_PC) 2>/dev/null))
-# Distributed grids (engine/core/pf_dist.c, docs/distributed.md): FFTW's MPI
+# Distributed grids (engine/core/pf_dist.c and pf_dist_*.c, docs/distributed.md): FFTW's MPI
 # layer over the same MPI.  Found when MPI is and <fftw3-mpi.h> compiles with
 # it (Debian: libfftw3-mpi-dev, no pkg-config module); DIST=none turns it
 # off.  Without it pf_dist.c compiles to a single-process stand-in.
@@ -127,7 +127,7 @@ $(BUILD_ENV): scripts/check-build-env.sh
 
 $(BUILD)/engine/core/%.o: engine/core/%.c $(wildcard engine/core/*.h) | $(BUILD_ENV)
 	@mkdir -p $(dir $@)
-	$(CC) $(ALL_CFLAGS) $(FFTW_CFLAGS) $(if $(filter engine/core/pf_dist.c,$<),$(DIST_CFLAGS)) -c $< -o $@
+	$(CC) $(ALL_CFLAGS) $(FFTW_CFLAGS) $(if $(filter engine/core/pf_dist.c engine/core/pf_dist_%.c,$<),$(DIST_CFLAGS)) -c $< -o $@
 
 $(BUILD)/engine/io/%.o: engine/io/%.c $(wildcard engine/io/*.h engine/core/*.h) | $(BUILD_ENV)
 	@mkdir -p $(dir $@)
