@@ -361,6 +361,10 @@ static inline void pf_index_next(const pf_grid *g, size_t *idx)
  * pf_reduce_axis_moments of the wave in its representation; band_sum and
  * marginals serve the grid guards (pf_guard.c). */
 pf_status pf_dist_grid_attach(pf_grid *g);
+/* Registers FFTW-MPI's planners (fftw_mpi_init) once MPI runs: FFTW cannot
+ * import wisdom that names MPI plans before they are registered, so
+ * pf_context_prepare_planner calls this before it reads the wisdom file. */
+void pf_dist_planner_ready(void);
 /* Samples one rank will hold of a grid about to be made (total when it
  * will not be distributed), for the memory cap check before making it. */
 size_t pf_dist_planned_values(const pf_context *ctx, int dim, const size_t *points, size_t total);
