@@ -251,6 +251,52 @@ tfw=$(awk '$1 == "law" && $2 ~ /^tf_width/ { d = ($3 - $4) / $4; if (d < 0) d = 
 awk -v m="$tfw" 'BEGIN { exit !(m < 1e-3) }' && ok "-n 4: Thomas-Fermi widths are R / sqrt(7) to $tfw" ||
   fail "-n 4: Thomas-Fermi widths off by $tfw"
 
+# Single samples (probe_samples.lua): w:psi, w:phi, w:set_psi, w:set_phi on
+# a distributed wave.  The rank holding the sample (its position slab, or
+# its planes of the transposed momentum layout) reads it and broadcasts it;
+# a write touches only the holder's slab.  18 x 16 x 12 points: samples on
+# both sides of every slab boundary at 4 ranks.  Position samples, and the
+# norm after a sample held by the last rank was written onto every rank's
+# slab, are the single process's bits (a rank that received another value
+# would change the norm); momentum samples the same bits at every rank
+# count and within 1e-14 of one process.  Laws: phi of the Gaussian (its
+# Fourier transform, textbook) to 1e-4 of the peak (the grid's sampling);
+# the norm changes by the written samples' |psi|^2 dV (the Riemann-sum norm
+# of docs/conventions.md, common practice) and, after set_phi, by their
+# |phi|^2 dk (Parseval, textbook), both to 1e-12.
+samples="$root/tests/runner/dist/probe_samples.lua"
+expect 0 "samples: one process" -- "$runner" run "$samples"
+printf '%s\n' "$out" >"$work/splain.txt"
+has "bad index refused" "samples: one process refuses an index outside the grid"
+for n in 1 2 4; do
+  expect 0 "samples: mpirun -n $n" -- timeout 120 mpirun -n "$n" --oversubscribe "$runner" run "$samples"
+  printf '%s\n' "$out" >"$work/sranks$n.txt"
+  has "ranks $n distribute true" "samples: mpirun -n $n distributed"
+  has "bad index refused" "samples -n $n: an index outside the grid refused with the single process's message"
+  /usr/bin/python3 "$work/compare.py" "$work/splain.txt" "$work/sranks$n.txt" exact 0 >/dev/null &&
+    ok "samples -n $n: psi read on every slab, and set_psi of a broadcast value, bit-identical to one process" ||
+    fail "samples -n $n: position samples differ from one process"
+  /usr/bin/python3 "$work/compare.py" "$work/sranks1.txt" "$work/sranks$n.txt" flown,law 0 >/dev/null &&
+    ok "samples -n $n: phi and set_phi on the transposed slabs bit-identical to -n 1" ||
+    fail "samples -n $n: momentum samples differ from -n 1"
+  worst=$(/usr/bin/python3 "$work/compare.py" "$work/splain.txt" "$work/sranks$n.txt" flown 1e-14) &&
+    ok "samples -n $n: phi and set_phi within 1e-14 of one process (worst $worst)" ||
+    fail "samples -n $n: momentum samples differ from one process by more than 1e-14"
+done
+rel() { awk -v name="$1" '$1 == "law" && $2 == name { d = $3 - $4; if (d < 0) d = -d; s = $4 < 0 ? -$4 : $4; printf "%.2g", (s > 0 ? d / s : d) }' "$2"; }
+phiw=$(awk '$1 == "law" && $2 == "phiworst" { printf "%.2g", $3 }' "$work/sranks4.txt")
+awk -v m="$phiw" 'BEGIN { exit !(m != "" && m < 1e-4) }' &&
+  ok "samples -n 4: phi on every transposed slab is the Gaussian's Fourier transform to $phiw of the peak" ||
+  fail "samples -n 4: phi off the Gaussian's Fourier transform by $phiw of the peak"
+setn=$(rel setnorm "$work/sranks4.txt")
+awk -v m="$setn" 'BEGIN { exit !(m != "" && m < 1e-12) }' &&
+  ok "samples -n 4: set_psi changes the norm by the written |psi|^2 dV to $setn" ||
+  fail "samples -n 4: set_psi norm change off by $setn"
+pars=$(rel parseval "$work/sranks4.txt")
+awk -v m="$pars" 'BEGIN { exit !(m != "" && m < 1e-12) }' &&
+  ok "samples -n 4: set_phi changes the norm by the written |phi|^2 dk (Parseval) to $pars" ||
+  fail "samples -n 4: set_phi norm change off by $pars"
+
 # Default planning (probe_default.lua): measured FFTW plans, as users run.
 # Every other probe plans with "estimate"; here the runner's default
 # (pf.run_info().planning == "measure") makes measured plans, rank 0 reads
