@@ -201,24 +201,7 @@ pf_status pf_wave_gather(pf_wave *w, pf_rep rep, double complex *out)
 
 #else /* PF_HAVE_DIST */
 
-#include <mpi.h>
-#include <fftw3-mpi.h>
-
-struct pf_dist_grid {
-    int rank, size;
-    /* FFTW-MPI's split: planes [start0, start0 + n0loc) of axis 0 in
-     * position, [start1, start1 + n1loc) of axis 1 in the transposed
-     * momentum layout; alloc values of storage. */
-    ptrdiff_t n0loc, start0, n1loc, start1, alloc;
-    size_t plane;  /* values per axis-0 plane, position layout */
-    size_t tplane; /* values per axis-1 plane, transposed layout */
-    size_t lay[2][PF_MAX_DIM]; /* axis lengths of the two layouts, slowest first */
-    size_t *range[2];          /* per rank: global offsets lo, hi of its samples, per layout */
-    fftw_plan fwd, bwd;
-    double *local_part;        /* block partials this rank completes */
-    size_t local_part_cap;     /* doubles */
-    int *counts, *displs;      /* MPI_Allgatherv of the partials */
-};
+#include "pf_dist_grid.h"
 
 int pf_dist_built(void) { return 1; }
 
@@ -370,6 +353,8 @@ void pf_dist_grid_release(pf_grid *g)
     pf_context *ctx = g->ctx;
     if (D->fwd) fftw_destroy_plan(D->fwd);
     if (D->bwd) fftw_destroy_plan(D->bwd);
+    if (D->nat_fwd) fftw_destroy_plan(D->nat_fwd);
+    if (D->nat_bwd) fftw_destroy_plan(D->nat_bwd);
     pf_context_free(ctx, D->range[0]);
     pf_context_free(ctx, D->range[1]);
     pf_context_free(ctx, D->local_part);
@@ -720,10 +705,9 @@ pf_status pf_dist_marginals(const pf_wave *w, double **marg)
             idx[a] = 0;
         }
     }
-    /* Only for the guards' warning text (extents), so MPI's own summation
-     * order is good enough here. */
-    for (int a = 0; a < d; a++) MPI_Allreduce(MPI_IN_PLACE, marg[a], (int)g->n[a], MPI_DOUBLE, MPI_SUM, MPI_COMM_WORLD);
-    return PF_OK;
+    /* The flight chooser decides from these on every rank: combined in
+     * rank order, the same bits everywhere (pf_dist_long.c). */
+    return pf_dist_combine_marginals(g, marg);
 }
 
 /* ---- transforms, flight, sampling ---- */

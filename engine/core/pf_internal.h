@@ -373,6 +373,13 @@ void pf_dist_reduce(pf_grid *g, pf_rep layout, int width, pf_reduce_block_fn blo
 pf_status pf_dist_axis_moments(pf_wave *w, const double *const *weights, double *sums);
 double pf_dist_band_sum(const pf_wave *w, int a);
 pf_status pf_dist_marginals(const pf_wave *w, double **marg);
+/* Long flights on a split grid (pf_dist_long.c): the unnormalised FFT of
+ * position slab data in place with the slab layout on both sides (sign -1
+ * forward, +1 backward; FFTW-MPI plans without transposed output, made on
+ * first use; collective), and the marginals' per-rank partial sums
+ * combined in rank order into the same bits on every rank (collective). */
+pf_status pf_dist_fft_natural(pf_grid *g, double complex *data, int sign);
+pf_status pf_dist_combine_marginals(const pf_grid *g, double **marg);
 /* For the split step (pf_splitstep.c): samples this rank holds in position
  * (g->total when whole); min / max of *lo, *hi and max of flag over all
  * ranks (no-ops when whole; min and max are exact, so the step chosen

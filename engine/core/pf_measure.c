@@ -2,6 +2,7 @@
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
+#include "pf_dist_measure.h"
 #include "pf_internal.h"
 #include "pf_measure.h"
 #include "pf_observe.h"
@@ -96,6 +97,8 @@ pf_status pf_field_region_integral(const pf_field *f, const pf_grid *g, const pf
 
 pf_status pf_wave_region_probability(pf_wave *w, const pf_region *r, double *p)
 {
+    /* Split over MPI ranks: summed over each rank's planes in turn. */
+    if (w->grid->dist) return pf_dist_region_probability(w, r, p);
     pf_field f;
     pf_status s = pf_field_for_grid(w->grid, PF_POSITION, &f);
     if (s) return s;

@@ -6,6 +6,7 @@
 #include <string.h>
 #include "pf_cis.h"
 #include "pf_constants.h"
+#include "pf_dist.h"
 #include "pf_flight.h"
 #include "pf_guard.h"
 #include "pf_internal.h"
@@ -250,7 +251,7 @@ static pf_status scaled_stage(pf_wave *w, const double *ta, pf_grid *gout, doubl
     }
     /* Plan before allocating the output, so planning scratch and output
      * storage are never held at the same time. */
-    pf_status s = pf_grid_plan(gout);
+    pf_status s = gout->dist ? PF_OK : pf_grid_plan(gout); /* a split grid plans at its first FFT */
     if (s) return s;
     size_t bytes = pf_bytes(gout->total, sizeof(double complex));
     /* Same point count: the stage runs in place, with no new storage (the
@@ -294,6 +295,18 @@ static pf_status scaled_stage(pf_wave *w, const double *ta, pf_grid *gout, doubl
     const double complex *P[3], *Q[3];
     slot_tables(&so, pre, P);
     slot_tables(&so, post, Q);
+    /* A grid split over MPI ranks (same point count, so in place and with
+     * the input's slabs): the chirp passes run over this rank's planes of
+     * axis 0 (slot lead), with the axis-0 tables read from its first plane;
+     * each point gets the single process's factors. */
+    shape3 sl = so;
+    if (gout->dist) {
+        size_t first, count;
+        pf_grid_slab(gout, PF_POSITION, &first, &count);
+        sl.n[so.lead] = count;
+        P[so.lead] += first;
+        Q[so.lead] += first;
+    }
     long sh[3] = {0, 0, 0};
     for (int a = 0; a < d; a++) sh[so.lead + a] = shift[a];
     /* Input index range that lands inside the output box, per slot. */
@@ -310,7 +323,7 @@ static pf_status scaled_stage(pf_wave *w, const double *ta, pf_grid *gout, doubl
     /* Pass 1: the input chirp; a zero-padded (or cropped) copy when the point
      * count changes. */
     if (in_place) {
-        chirp_pass(out, &so, P, threads);
+        chirp_pass(out, &sl, P, threads);
     } else {
 #pragma omp parallel for collapse(2) num_threads(threads) schedule(static)
         for (ptrdiff_t i0 = (ptrdiff_t)lo[0]; i0 < (ptrdiff_t)hi[0]; i0++) {
@@ -326,7 +339,7 @@ static pf_status scaled_stage(pf_wave *w, const double *ta, pf_grid *gout, doubl
     }
     pass_done(ctx, pp);
     int forward = ta[0] > 0; /* all stage durations share the flight's sign */
-    s = pf_grid_fft(gout, out, forward ? -1 : +1);
+    s = gout->dist ? pf_dist_fft_natural(gout, out, forward ? -1 : +1) : pf_grid_fft(gout, out, forward ? -1 : +1);
     if (s) {
         pf_context_free(ctx, tables);
         if (!in_place) pf_free(ctx, out, bytes);
@@ -334,7 +347,7 @@ static pf_status scaled_stage(pf_wave *w, const double *ta, pf_grid *gout, doubl
     }
     pass_done(ctx, pp);
     /* Pass 2: output chirp and amplitude. */
-    chirp_pass(out, &so, Q, threads);
+    chirp_pass(out, &sl, Q, threads);
     pass_done(ctx, pp);
     pf_context_free(ctx, tables);
     /* Move the wave to its new grid. */
@@ -419,6 +432,24 @@ static pf_status check_time(pf_context *ctx, double t)
     return PF_OK;
 }
 
+/* On a grid split over MPI ranks a scaled flight keeps the point counts:
+ * the output grid then has the input's slabs (FFTW-MPI's split depends on
+ * the counts only), so every rank keeps its planes.  Padding or cropping
+ * would move samples between ranks' slabs, which is not done (yet). */
+static pf_status check_split_points(const pf_wave *w, const size_t *n, const char *what)
+{
+    const pf_grid *g = w->grid;
+    if (!g->dist) return PF_OK;
+    for (int a = 0; a < g->dim; a++)
+        if (n[a] != g->n[a])
+            return pf_fail(g->ctx, PF_EINVAL,
+                           "%s of a wave distributed over %d MPI ranks keeps the wave's point counts: %zu points on "
+                           "axis %d (the wave has %zu) would pad or crop across the ranks' slabs, which would move "
+                           "samples between ranks; give the wave's own counts (docs/distributed.md)",
+                           what, pf_dist_ranks(), n[a], a + 1, g->n[a]);
+    return PF_OK;
+}
+
 static pf_status fly_onto(pf_wave *w, double t, pf_grid *target, const char *task);
 
 pf_status pf_wave_fly_onto(pf_wave *w, double t, pf_grid *target) { return fly_onto(w, t, target, NULL); }
@@ -432,6 +463,8 @@ static pf_status fly_onto(pf_wave *w, double t, pf_grid *target, const char *tas
     if (!target || target->dim != w->grid->dim)
         return pf_fail(ctx, PF_EINVAL, "scaled flight: the target grid must have the wave's dimension (%d)", w->grid->dim);
     if (target->ctx != ctx) return pf_fail(ctx, PF_EINVAL, "scaled flight: the target grid belongs to another context");
+    s = check_split_points(w, target->n, "a scaled flight onto a grid");
+    if (s) return s;
     double t1[PF_MAX_DIM], t2[PF_MAX_DIM];
     int two = stage_times(w, t, target->n, target->dx, t1, t2);
     pass_progress pp = {task, 0, two ? 6 : 3};
@@ -479,7 +512,8 @@ pf_status pf_wave_fly_scaled(pf_wave *w, double t, const size_t *points, const d
         if (!isfinite(origin[a]))
             return pf_fail(gin->ctx, PF_EINVAL, "scaled flight: centre on axis %d must be finite", a + 1);
     }
-    s = check_image_span(gin->ctx, t, span, gin->dim);
+    s = check_split_points(w, n, "a scaled flight");
+    if (!s) s = check_image_span(gin->ctx, t, span, gin->dim);
     if (s) return s;
     pf_grid *gout;
     s = pf_grid_new(gin->ctx, gin->dim, n, span, origin, &gout);
@@ -530,6 +564,12 @@ static pf_status fly_long(pf_wave *w, double t, const pf_long_flight_opts *o, pf
         if (o->spacing[a] < 0 || !isfinite(o->spacing[a]))
             return pf_fail(ctx, PF_EINVAL, "spacing on axis %d must be positive, got %g", a + 1, o->spacing[a]);
         if (o->points[a] || o->spacing[a]) has_target = 1;
+    }
+    if (o->method != PF_FLIGHT_SAME_GRID) {
+        size_t want[PF_MAX_DIM];
+        for (int a = 0; a < d; a++) want[a] = o->grid ? o->grid->n[a] : o->points[a] ? o->points[a] : g->n[a];
+        pf_status s0 = check_split_points(w, want, "a long flight");
+        if (s0) return s0;
     }
     if (t == 0) {
         r->method = PF_FLIGHT_SAME_GRID;

@@ -261,9 +261,10 @@ void pf_grid_density_of(const pf_grid *g, pf_rep rep, const double complex *fiel
 pf_status pf_wave_density(pf_wave *w, pf_rep rep, double *out)
 {
     pf_grid *g = w->grid;
-    /* Split over MPI ranks: the whole table on every rank, so measurements
-     * built on it (distributions, samples, fits, cameras) run the single
-     * process's code on the single process's bits everywhere. */
+    /* Split over MPI ranks: the whole table on every rank, so what needs it
+     * (the table itself, samples) runs the single process's code on the
+     * single process's bits everywhere; the small measurements run on each
+     * rank's planes instead (pf_dist_measure.c). */
     if (g->dist) return pf_dist_shared_density(w, rep, out);
     pf_status s = pf_wave_to(w, rep);
     if (s) return s;

@@ -88,16 +88,14 @@ static void probability_image(lua_State *L, pfl_camera_box *b, int arg, pf_field
     else if (d != b->cam.dim)
         luaL_error(L, "%s: a %dD camera cannot image a %dD state", name, b->cam.dim, d);
     if (drop >= d) luaL_error(L, "%s: imaging axis %d is not an axis of the %dD state", name, drop + 1, d);
-    pf_field f, col;
-    pfl_source_field(L, &src, PF_POSITION, &f, name);
+    pf_field col;
     pf_status s = PF_OK;
-    if (drop >= 0) {
+    if (drop >= 0) { /* the column density: per slab for a wave over MPI ranks */
         int keep[PF_MAX_DIM] = {1, 1, 1};
         keep[drop] = 0;
-        s = pf_field_marginal(&f, keep, &col);
-        pf_field_free(&f);
+        pfl_source_marginal(L, &src, PF_POSITION, keep, &col, name);
     } else {
-        col = f;
+        pfl_source_field(L, &src, PF_POSITION, &col, name);
     }
     if (s == PF_OK) s = pf_field_blur(&col, b->psf);
     if (s == PF_OK) s = pf_field_bin(&col, &b->cam, pix);

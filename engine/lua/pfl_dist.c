@@ -48,6 +48,8 @@ static const char *const DIST_AWARE[] = {
     "wave:evolve",
     "wave:flux",
     "wave:fly",
+    "wave:fly_long",
+    "wave:fly_scaled",
     "wave:fringes",
     "wave:grating",
     "wave:grid",

@@ -5,6 +5,7 @@
 #include <stdlib.h>
 #include <string.h>
 #include "../core/pf_constants.h"
+#include "../core/pf_dist_measure.h"
 #include "../core/pf_frame.h"
 #include "../core/pf_fringe.h"
 #include "../core/pf_sample.h"
@@ -64,11 +65,8 @@ static int l_distribution(lua_State *L)
 /* Marginal keeping the axes flagged in keep; pushes the table. */
 static int push_marginal(lua_State *L, const pfl_source *src, pf_rep rep, const int *keep, const char *name)
 {
-    pf_field f, m;
-    pfl_source_field(L, src, rep, &f, name);
-    pf_status s = pf_field_marginal(&f, keep, &m);
-    pf_field_free(&f);
-    pfl_check(L, s, name);
+    pf_field m;
+    pfl_source_marginal(L, src, rep, keep, &m, name);
     push_density_field(L, &m, rep, pfl_source_mass(src));
     pf_field_free(&m);
     return 1;
@@ -155,11 +153,18 @@ static int l_slice(lua_State *L)
     double through[PF_MAX_DIM] = {0, 0, 0};
     pfl_field_vector(L, 2, "through", d, through, 0);
     pf_field f, sl;
-    pfl_source_field(L, &src, rep, &f, "slice");
     size_t fixed[PF_MAX_DIM];
-    for (int a = 0; a < d; a++) fixed[a] = freeax[a] ? PF_FREE_AXIS : pf_field_nearest(&f, a, through[a]);
-    pf_status s = pf_field_slice(&f, fixed, &sl);
-    pf_field_free(&f);
+    pf_status s;
+    if (pfl_source_split(&src)) { /* one wave over MPI ranks: from each rank's planes */
+        pfl_source_geometry(L, &src, rep, &f, "slice");
+        for (int a = 0; a < d; a++) fixed[a] = freeax[a] ? PF_FREE_AXIS : pf_field_nearest(&f, a, through[a]);
+        s = pf_dist_slice(src.single, rep, &f, fixed, &sl);
+    } else {
+        pfl_source_field(L, &src, rep, &f, "slice");
+        for (int a = 0; a < d; a++) fixed[a] = freeax[a] ? PF_FREE_AXIS : pf_field_nearest(&f, a, through[a]);
+        s = pf_field_slice(&f, fixed, &sl);
+        pf_field_free(&f);
+    }
     pfl_check(L, s, "slice");
     /* A slice keeps the full density's unit (per m^d of the whole grid). */
     char unit[32], lab[32];
@@ -188,9 +193,15 @@ static int l_radial_profile(lua_State *L)
     size_t nb = (size_t)bins;
     double *prof = lua_newuserdatauv(L, 2 * nb * sizeof(double), 0), *cnt = prof + nb;
     pf_field f;
-    pfl_source_field(L, &src, rep, &f, "radial_profile");
-    pf_status s = pf_field_radial(&f, center, bin, nb, prof, cnt);
-    pf_field_free(&f);
+    pf_status s;
+    if (pfl_source_split(&src)) { /* one wave over MPI ranks: from each rank's planes */
+        pfl_source_geometry(L, &src, rep, &f, "radial_profile");
+        s = pf_dist_radial(src.single, rep, &f, center, bin, nb, prof, cnt);
+    } else {
+        pfl_source_field(L, &src, rep, &f, "radial_profile");
+        s = pf_field_radial(&f, center, bin, nb, prof, cnt);
+        pf_field_free(&f);
+    }
     pfl_check(L, s, "radial_profile");
     lua_createtable(L, 0, 5);
     double *r = lua_newuserdatauv(L, nb * sizeof(double), 0);
@@ -405,11 +416,9 @@ static int l_fringes(lua_State *L)
     pf_fringe_envelope env = field_envelope(L, opts, "fringes");
     int keep[PF_MAX_DIM] = {0, 0, 0};
     keep[axis] = 1;
-    pf_field f, m;
-    pfl_source_field(L, &src, PF_POSITION, &f, "fringes");
-    pf_status s = pf_field_marginal(&f, keep, &m);
-    pf_field_free(&f);
-    pfl_check(L, s, "fringes");
+    pf_field m;
+    pfl_source_marginal(L, &src, PF_POSITION, keep, &m, "fringes");
+    pf_status s;
     size_t n = m.n[0];
     double *x = pf_context_alloc(pfl_ctx(L), n * sizeof *x);
     if (!x) {

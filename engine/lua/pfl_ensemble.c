@@ -11,6 +11,8 @@
 #include <string.h>
 #include "../core/pf_build.h"
 #include "../core/pf_constants.h"
+#include "../core/pf_dist.h"
+#include "../core/pf_dist_measure.h"
 #include "../core/pf_frame.h"
 #include "../core/pf_observe.h"
 #include "pfl_measure.h"
@@ -140,6 +142,32 @@ void pfl_source_field(lua_State *L, const pfl_source *src, pf_rep rep, pf_field 
     pfl_source_frame(L, src, &fr, name);
     pfl_check(L, pf_mixture_field(&src->mix, rep, f), name);
     for (int a = 0; a < f->dim; a++) f->first[a] += rep == PF_POSITION ? fr.position[a] : fr.wavenumber[a];
+}
+
+int pfl_source_split(const pfl_source *src) { return !src->is_ensemble && pf_wave_distributed(src->single); }
+
+void pfl_source_geometry(lua_State *L, const pfl_source *src, pf_rep rep, pf_field *geom, const char *name)
+{
+    pf_frame fr;
+    pfl_source_frame(L, src, &fr, name);
+    pf_field_geometry(pfl_source_grid(src), rep, geom);
+    for (int a = 0; a < geom->dim; a++) geom->first[a] += rep == PF_POSITION ? fr.position[a] : fr.wavenumber[a];
+}
+
+void pfl_source_marginal(lua_State *L, const pfl_source *src, pf_rep rep, const int *keep, pf_field *out,
+                         const char *name)
+{
+    if (pfl_source_split(src)) {
+        pf_field geom;
+        pfl_source_geometry(L, src, rep, &geom, name);
+        pfl_check(L, pf_dist_marginal(src->single, rep, &geom, keep, out), name);
+        return;
+    }
+    pf_field f;
+    pfl_source_field(L, src, rep, &f, name);
+    pf_status s = pf_field_marginal(&f, keep, out);
+    pf_field_free(&f);
+    pfl_check(L, s, name);
 }
 
 void pfl_add_state_methods(lua_State *L, const luaL_Reg *methods)

@@ -7,6 +7,7 @@
 #include <string.h>
 #include "../core/pf_collapse.h"
 #include "../core/pf_constants.h"
+#include "../core/pf_dist_measure.h"
 #include "../core/pf_frame.h"
 #include "../core/pf_observe.h"
 #include "pfl_measure.h"
@@ -362,11 +363,19 @@ static int covariance(lua_State *L, pf_rep rep, double unit, const char *name)
     pfl_source src;
     pfl_check_source(L, 1, &src);
     pf_field f;
-    pfl_source_field(L, &src, rep, &f, name);
     double mean[PF_MAX_DIM], cov[PF_MAX_DIM * PF_MAX_DIM];
-    pf_status s = pf_field_moments(&f, mean, cov);
-    int d = f.dim;
-    pf_field_free(&f);
+    pf_status s;
+    int d;
+    if (pfl_source_split(&src)) { /* one wave over MPI ranks: from each rank's planes */
+        pfl_source_geometry(L, &src, rep, &f, name);
+        d = f.dim;
+        s = pf_dist_moments(src.single, rep, &f, mean, cov);
+    } else {
+        pfl_source_field(L, &src, rep, &f, name);
+        s = pf_field_moments(&f, mean, cov);
+        d = f.dim;
+        pf_field_free(&f);
+    }
     pfl_check(L, s, name);
     push_matrix(L, cov, d, unit * unit);
     return 1;

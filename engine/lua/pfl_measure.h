@@ -66,6 +66,17 @@ void pfl_source_frame(lua_State *L, const pfl_source *src, pf_frame *out, const 
 /* Mixture field of a source, with a Lua error on failure (pf_field must be
  * released with pf_field_free; on error nothing is leaked). */
 void pfl_source_field(lua_State *L, const pfl_source *src, pf_rep rep, pf_field *f, const char *name);
+/* 1 when the source is one wave split over MPI ranks: its small
+ * measurements then run on each rank's planes (pf_dist_measure.h) instead
+ * of on the whole field. */
+int pfl_source_split(const pfl_source *src);
+/* The geometry of the source's field (pfl_source_field's axes, lab-shifted),
+ * with no values. */
+void pfl_source_geometry(lua_State *L, const pfl_source *src, pf_rep rep, pf_field *geom, const char *name);
+/* pf_field_marginal of the source's field (per slab for a split wave), with
+ * a Lua error on failure; release out with pf_field_free. */
+void pfl_source_marginal(lua_State *L, const pfl_source *src, pf_rep rep, const int *keep, pf_field *out,
+                         const char *name);
 
 /* The openers (pfl_open_random .. pfl_open_detector) are declared in pfl.h.
  * Adds methods to both the wave and the ensemble metatables (measurement

@@ -4,6 +4,8 @@
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
+#include "../core/pf_dist.h"
+#include "../core/pf_dist_measure.h"
 #include "../core/pf_flight.h"
 #include "../core/pf_frame.h"
 #include "../io/pf_picture.h"
@@ -344,14 +346,22 @@ static int l_picture_map(lua_State *L)
         if (d < 2) return luaL_error(L, "picture_map: needs a 2D or 3D wave function; for 1D use picture_lines or picture_carpet");
         pf_rep rep = opt_rep(L, 3);
         size_t nx = pf_grid_points(g, 0), ny = pf_grid_points(g, 1), nz = d > 2 ? pf_grid_points(g, 2) : 1;
-        double *rho = pfl_scratch_doubles(L, pf_grid_total(g));
-        pfl_check(L, pf_wave_density(w, rep, rho), "picture_map");
-        if (d == 3) {
-            double dz = rep == PF_POSITION ? pf_grid_spacing(g, 2) : pf_grid_kspacing(g, 2);
-            for (size_t i = 0; i < nx * ny; i++) {
-                double sum = 0;
-                for (size_t k = 0; k < nz; k++) sum += rho[i * nz + k];
-                rho[i] = sum * dz;
+        double *rho;
+        if (d == 3 && pf_wave_distributed(w)) {
+            /* Over MPI ranks: the column density from each rank's planes
+             * (the same bits), the whole density never held anywhere. */
+            rho = pfl_scratch_doubles(L, nx * ny);
+            pfl_check(L, pf_dist_column_picture(w, rep, rho), "picture_map");
+        } else {
+            rho = pfl_scratch_doubles(L, pf_grid_total(g));
+            pfl_check(L, pf_wave_density(w, rep, rho), "picture_map");
+            if (d == 3) {
+                double dz = rep == PF_POSITION ? pf_grid_spacing(g, 2) : pf_grid_kspacing(g, 2);
+                for (size_t i = 0; i < nx * ny; i++) {
+                    double sum = 0;
+                    for (size_t k = 0; k < nz; k++) sum += rho[i * nz + k];
+                    rho[i] = sum * dz;
+                }
             }
         }
         pf_quantity q = rep == PF_POSITION ? PF_Q_LENGTH : PF_Q_WAVENUMBER;

@@ -9,7 +9,8 @@
 # probes.  Lines tagged "exact" (no transform touched the data) must be the
 # same bits as one process at every rank count; "flown" lines the same bits
 # at every rank count and within 1e-14 of one process (FFTW's serial and MPI
-# plans round differently).  Skipped with a note when the runner has no
+# plans round differently).  probe_slab.lua and probe_slabcap.lua cover the
+# measurements computed on each rank's planes (pf_dist_measure.c).  Skipped with a note when the runner has no
 # FFTW-MPI or mpirun is missing.
 source "$(dirname "$0")/lib.sh"
 set -e
@@ -167,5 +168,60 @@ worst=$(/usr/bin/python3 "$work/law.py" "$work/measure.4.txt" 1e-6 energy chemic
 # the period and visibility the wave was built with.
 worst=$(/usr/bin/python3 "$work/law.py" "$work/measure.2.txt" 1e-9 fperiod fvisibility) &&
   ok "measure -n 2: fringes recover the period and visibility built in ($worst)" || fail "measure -n 2: fringe law missed"
+
+# Per-slab measurements (probe_slab.lua, engine/core/pf_dist_measure.c): on
+# a 3D wave (22 x 18 x 16; 3 ranks hold 8, 8, 6 planes, 4 ranks 6, 6, 6, 4)
+# every marginal and column density (along the split axis too), slices,
+# radial profiles, covariances, region probabilities, fringe fits, cameras
+# imaging along and across the split axis and the column picture, in
+# position (the same bits as one process) and in momentum (the same bits at
+# every rank count).
+slab="$root/tests/runner/distm/probe_slab.lua"
+run_probe slab "$slab"
+compare_probe slab "per-slab marginals, columns, slices, radial profiles, covariances, regions, fringes and cameras"
+for n in plain 1 2 3 4; do
+  # "same" flags: the per-slab figure equals, bit for bit, the single
+  # process's summation (written out in the probe) of the table gathered in
+  # the same run; in momentum this is the promise that has no one-process
+  # reference of its own (the MPI transforms round differently).
+  flags=$(grep -E '^exact same_[xk] ' "$work/slab.$n.txt" | cut -d' ' -f3- | tr ' ' '\n' | sort -u | tr '\n' ' ')
+  [ "$(grep -c '^exact same_[xk] ' "$work/slab.$n.txt")" -eq 2 ] && [ "$flags" = "1 " ] &&
+    ok "slab $n: per-slab marginals, radial profiles and covariances are the single process's sums of the gathered table" ||
+    fail "slab $n: a per-slab figure differs from the single process's sum of the gathered table (flags: $flags)"
+done
+for n in 2 3 4; do
+  cmp -s "$work/slab.plain/cloud3.png" "$work/slab.$n/cloud3.png" &&
+    ok "slab -n $n: pf.picture_map of a 3D wave (the column density per slab) is byte-identical to the single process's" ||
+    fail "slab -n $n: cloud3.png differs from the single process's"
+done
+# Marginals of a normal distribution are normal with the sub-matrix of the
+# covariance (common practice): the profile along the split axis and the
+# column density through it at the grid point nearest 0; 1e-8 covers the
+# grid's sampling of the 1.7-2 um widths (measured 7e-10).
+worst=$(/usr/bin/python3 "$work/law.py" "$work/slab.3.txt" 1e-8 xprofile column1) &&
+  ok "slab -n 3: the profile and column density along the split axis are the Gaussian marginals ($worst)" ||
+  fail "slab -n 3: Gaussian marginal law missed"
+# The Fourier transform of a Gaussian (textbook): psi ~ exp(-r^T S^-1 r / 4)
+# has the momentum covariance hbar^2 S^-1 / 4 (measured 1.4e-9 at worst).
+worst=$(/usr/bin/python3 "$work/law.py" "$work/slab.4.txt" 1e-8 kcov11 kcov13 kcov22) &&
+  ok "slab -n 4: the momentum covariance is hbar^2 S^-1 / 4 ($worst)" || fail "slab -n 4: momentum covariance law missed"
+
+# Memory (probe_slabcap.lua): under a memory cap below a slab plus the whole
+# density, which the gathered path held on every rank, every per-slab
+# measurement runs; the whole table (the control) is refused on every rank.
+slabcap="$root/tests/runner/distm/probe_slabcap.lua"
+for n in 3 4; do
+  expect 0 "slabcap: mpirun -n $n" -- timeout 120 mpirun -n "$n" --oversubscribe "$runner" run "$slabcap" --out "$work/slabcap.$n"
+  printf '%s\n' "$out" >"$work/slabcap.$n.txt"
+  fits=$(grep -c '^fits ' "$work/slabcap.$n.txt")
+  [ "$fits" -eq 15 ] && ! grep -q '^failed ' "$work/slabcap.$n.txt" &&
+    ok "slabcap -n $n: all 15 per-slab measurements run under a cap below one whole density" ||
+    fail "slabcap -n $n: $fits of 15 per-slab measurements ran under the cap: $(grep '^failed' "$work/slabcap.$n.txt" | head -3)"
+  grep -q '^control distribution refused .*memory cap' "$work/slabcap.$n.txt" &&
+    ok "slabcap -n $n: the control (the whole table) does not fit under that cap" ||
+    fail "slabcap -n $n: the control fitted: the cap proves nothing"
+done
+/usr/bin/python3 "$work/compare.py" "$work/slabcap.3.txt" "$work/slabcap.4.txt" exact 0 >/dev/null &&
+  ok "slabcap: the capped measurements are the same bits at 3 and 4 ranks" || fail "slabcap: 3 and 4 ranks differ"
 
 done_checks
