@@ -6,6 +6,7 @@
 #include <string.h>
 #include "pf_cis.h"
 #include "pf_constants.h"
+#include "pf_dist.h"
 #include "pf_expand.h"
 #include "pf_frame.h"
 #include "pf_guard.h"
@@ -160,14 +161,23 @@ static void potential_pass(expand_ws *ws, const frame *f, double coef, pass_stat
     for (int a = 0; a < d; a++) q[a] = 0.5 * ws->w->mass * f->lam[a] * acc[a];
     const double fac = coef / PF_HBAR, gl = ws->g_mf / frame_volume(f);
     const double cut = OCCUPIED_FRACTION * st->peak;
-    const size_t nlast = g->n[d - 1], rows = g->total / nlast;
+    /* On a grid split over MPI ranks this rank walks the rows of its own
+     * planes of axis 0; row numbers stay global for the table indices. */
+    const size_t nlast = g->n[d - 1];
+    size_t rows = g->total / nlast, row0 = 0;
+    if (g->dist) { /* 2D or 3D: whole rows of the last axis in each plane */
+        size_t first, count, per_plane = g->total / g->n[0] / nlast;
+        pf_grid_slab(g, PF_POSITION, &first, &count);
+        rows = count * per_plane;
+        row0 = first * per_plane;
+    }
     double complex *z = ws->w->store;
     double *const *quad = ws->quad;
     double peak = 0, lo = INFINITY, hi = -INFINITY;
 #pragma omp parallel for num_threads(g->ctx->threads) schedule(static) reduction(max : peak, hi) reduction(min : lo)
     for (ptrdiff_t r = 0; r < (ptrdiff_t)rows; r++) {
         double base = 0;
-        size_t rest = (size_t)r;
+        size_t rest = row0 + (size_t)r;
         for (int a = d - 2; a >= 0; a--) {
             size_t i = rest % g->n[a];
             rest /= g->n[a];
@@ -194,23 +204,27 @@ static void potential_pass(expand_ws *ws, const frame *f, double coef, pass_stat
             if (fac != 0) pf_cis_multiply(row + i0, phase, len);
         }
     }
+    /* Exact minima and maxima over the ranks: every rank sizes the next
+     * step alike (no-ops for a grid held whole). */
+    double none = INFINITY;
+    pf_dist_minmax(g, &lo, &hi);
+    pf_dist_minmax(g, &none, &peak);
     st->peak = peak;
     st->lo = lo;
     st->hi = hi;
 }
 
+/* Adds into acc in order, so a block a slab boundary cuts continues the
+ * previous rank's partial (pf_dist_reduce) exactly as one pass would. */
 static void quartic_block(void *user, size_t begin, size_t end, const size_t *idx, double *acc)
 {
     (void)idx;
     const double complex *z = user;
-    double s = 0, s2 = 0;
     for (size_t i = begin; i < end; i++) {
         double rho = creal(z[i]) * creal(z[i]) + cimag(z[i]) * cimag(z[i]);
-        s += rho;
-        s2 += rho * rho;
+        acc[0] += rho;
+        acc[1] += rho * rho;
     }
-    acc[0] = s;
-    acc[1] = s2;
 }
 
 /* Interaction energy (g / 2) int |psi|^2 dx of the normalised lab state:
@@ -219,7 +233,7 @@ static void quartic_block(void *user, size_t begin, size_t end, const size_t *id
 static double interaction_energy(expand_ws *ws, const frame *f)
 {
     double sums[2];
-    pf_reduce_blocks(ws->g, 2, quartic_block, ws->w->store, sums);
+    pf_reduce_blocks(ws->g, 2, quartic_block, ws->w->store, sums); /* over the ranks when split */
     double dv = pf_grid_cell_volume(ws->g);
     if (!(sums[0] > 0)) return 0;
     return 0.5 * ws->g_mf * sums[1] / (sums[0] * sums[0] * dv) / frame_volume(f);
@@ -235,6 +249,11 @@ static pf_status kinetic_step(expand_ws *ws, const double *dkin)
             double k = g->k[a][j];
             ws->tab[a][j] = cexp(-I * (c * k * k));
         }
+    }
+    if (g->dist) {
+        /* FFTW-MPI's pair, the factors applied on the transposed slab. */
+        pf_dist_kinetic(g, ws->w->store, ws->tab, 1.0 / (double)g->total);
+        return PF_OK;
     }
     pf_status s = pf_grid_fft(g, ws->w->store, -1);
     if (s) return s;

@@ -46,6 +46,7 @@ static const char *const DIST_AWARE[] = {
     "wave:distribution",
     "wave:energy",
     "wave:evolve",
+    "wave:expand",
     "wave:flux",
     "wave:fly",
     "wave:fly_long",
