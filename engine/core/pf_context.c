@@ -50,6 +50,7 @@ void pf_context_release(pf_context *ctx)
 {
     if (!ctx || --ctx->refs > 0) return;
     free(ctx->wisdom_path);
+    pf_dist_plans_free(ctx); /* before FFTW's threads layer is cleaned up below */
     pf_context_free_plan_notes(ctx);
     free(ctx);
     if (--live_contexts == 0 && fftw_threads_ready) {

@@ -11,6 +11,7 @@
  * spread over the ranks, so each accumulator adds the same terms in the same
  * order and gets the same bits. */
 #include <math.h>
+#include <stdlib.h>
 #include <string.h>
 #include "pf_constants.h"
 #include "pf_dist.h"
@@ -63,6 +64,12 @@ pf_status pf_dist_region_probability(pf_wave *w, const pf_region *r, double *p)
     (void)r, (void)p;
     return pf_dist_refuse(w->grid->ctx, "a distributed region probability");
 }
+pf_status pf_dist_draw_events(pf_wave *w, pf_rep rep, const pf_field *geom, pf_rng *rng, size_t count, int jitter,
+                         double *out)
+{
+    (void)rep, (void)geom, (void)rng, (void)count, (void)jitter, (void)out;
+    return pf_dist_refuse(w->grid->ctx, "distributed sampling");
+}
 pf_status pf_dist_column_picture(pf_wave *w, pf_rep rep, double *out)
 {
     (void)rep, (void)out;
@@ -96,6 +103,7 @@ typedef struct walk {
     double *row;    /* one run of density values */
     run_seg *seg;   /* every rank's runs of the split axis, ascending */
     int nseg;
+    double *entry;  /* when set: acc[0] before each of this rank's visits, in order */
 } walk;
 
 static void send_doubles(double *v, size_t n, int to)
@@ -273,6 +281,7 @@ static void walk_ordered(walk *k, run_fn fn, void *user, double *acc, size_t n, 
             int prev = s > 0 ? k->seg[s - 1].owner : (!stride && r > 0 ? k->seg[S - 1].owner : -1);
             int next = s < S - 1 ? k->seg[s + 1].owner : (!stride && r + 1 < rounds ? k->seg[0].owner : -1);
             if (prev >= 0 && prev != k->rank) recv_doubles(win, len, prev);
+            if (k->entry) *k->entry++ = win[0];
             visit(k, &k->seg[s], r, fn, user);
             if (next >= 0 && next != k->rank) send_doubles(win, len, next);
         }
@@ -587,6 +596,153 @@ pf_status pf_dist_region_probability(pf_wave *w, const pf_region *r, double *p)
     if (!(norm > 0)) return pf_fail(g->ctx, PF_EINVAL, "region probability of a zero state is undefined");
     *p = inside / norm;
     return PF_OK;
+}
+
+/* ---- Born-rule samples ---- */
+
+/* Pass 1 token, handed along in field order: pf_sampler_init's running sum
+ * and the first value it would refuse (field offset, value). */
+typedef struct cdf_job {
+    const pf_grid *g;
+    double *acc; /* run, first bad offset (-1: none), its value */
+} cdf_job;
+
+static size_t field_offset(const pf_grid *g, const size_t *start)
+{
+    return g->dim == 3 ? (start[0] * g->n[1] + start[1]) * g->n[2] + start[2] : start[0] * g->n[1] + start[1];
+}
+
+static void cdf_run(void *user, const size_t *start, size_t count, const double *v)
+{
+    const cdf_job *j = user;
+    double *acc = j->acc;
+    for (size_t t = 0; t < count; t++) {
+        if ((!(v[t] >= 0) || !isfinite(v[t])) && acc[1] < 0) {
+            acc[1] = (double)(field_offset(j->g, start) + t);
+            acc[2] = v[t];
+        }
+        acc[0] += v[t];
+    }
+}
+
+/* Pass 2, on this rank alone: the running sum again from each visit's
+ * entry value (the same additions, so the same cumulative values), and each
+ * event whose level the cumulative value passes is in that cell
+ * (pf_sampler_cell: the first cell whose cumulative sum exceeds it). */
+typedef struct find_job {
+    const pf_grid *g;
+    double run;
+    const double *level;  /* per event */
+    const size_t *order;  /* events by ascending level */
+    size_t count, next;   /* next: first event in order not yet placed */
+    double *cell;         /* per event: field offset + 1, 0 when elsewhere */
+} find_job;
+
+static void find_run(void *user, const size_t *start, size_t count, const double *v)
+{
+    find_job *j = user;
+    const size_t base = field_offset(j->g, start);
+    for (size_t t = 0; t < count; t++) {
+        j->run += v[t];
+        while (j->next < j->count && j->level[j->order[j->next]] < j->run) j->cell[j->order[j->next++]] = (double)(base + t) + 1;
+    }
+}
+
+static const double *sort_levels;
+static int by_level(const void *x, const void *y)
+{
+    double a = sort_levels[*(const size_t *)x], b = sort_levels[*(const size_t *)y];
+    if (a < b) return -1;
+    if (a > b) return 1;
+    return *(const size_t *)x < *(const size_t *)y ? -1 : *(const size_t *)x > *(const size_t *)y;
+}
+
+pf_status pf_dist_draw_events(pf_wave *w, pf_rep rep, const pf_field *geom, pf_rng *rng, size_t count, int jitter,
+                         double *out)
+{
+    pf_grid *g = w->grid;
+    pf_context *ctx = g->ctx;
+    const int d = g->dim;
+    walk k;
+    pf_status s = walk_open(&k, w, rep, "distributed sampling");
+    if (s) return s;
+    /* Entry sums: one per visit of this rank (one per round and segment). */
+    size_t visits = 0;
+    for (int q = 0; q < k.nseg; q++) visits += k.seg[q].owner == k.rank;
+    visits *= rounds_of(&k);
+    double *entry = PF_ALLOC_N(ctx, visits ? visits : 1, sizeof(double));
+    double *level = PF_ALLOC_N(ctx, count ? count : 1, sizeof(double));
+    double *cell = PF_ALLOC_N(ctx, count ? count : 1, sizeof(double));
+    size_t *order = PF_ALLOC_N(ctx, count ? count : 1, sizeof(size_t));
+    s = agree_ok(ctx, entry && level && cell && order, "distributed sampling");
+    double acc[3] = {0, -1, 0};
+    if (!s) {
+        cdf_job cj = {g, acc};
+        k.entry = entry;
+        walk_ordered(&k, cdf_run, &cj, acc, 3, 0);
+        k.entry = NULL;
+        if (acc[1] >= 0)
+            s = pf_fail(ctx, PF_EINVAL, "sampling needs non-negative finite weights; value %zu is %g", (size_t)acc[1] + 1,
+                        acc[2]);
+        else if (!(acc[0] > 0))
+            s = pf_fail(ctx, PF_EINVAL, "cannot sample from a distribution whose total is %g", acc[0]);
+    }
+    if (!s) {
+        /* The generator's draws in pf_sampler_draw's order on every rank,
+         * so all generators stay in step; the jitter uniforms wait in out.
+         * A level is where pf_sampler_cell starts its search: the larger of
+         * u total and its guide slice's level. */
+        const double total = acc[0];
+        const size_t nguide = g->total;
+        for (size_t e = 0; e < count; e++) {
+            double u = pf_rng_uniform(rng);
+            size_t gi = (size_t)(u * (double)nguide);
+            if (gi >= nguide) gi = nguide - 1;
+            double lv = u * total, lg = total * (double)gi / (double)nguide;
+            level[e] = lv > lg ? lv : lg;
+            order[e] = e;
+            cell[e] = 0;
+            if (jitter)
+                for (int a = 0; a < d; a++) out[e * (size_t)d + (size_t)a] = pf_rng_uniform(rng);
+        }
+        sort_levels = level;
+        qsort(order, count, sizeof *order, by_level);
+        find_job fj = {g, 0, level, order, count, 0, cell};
+        size_t v = 0;
+        for (size_t r = 0; r < rounds_of(&k); r++)
+            for (int q = 0; q < k.nseg; q++) {
+                if (k.seg[q].owner != k.rank) continue;
+                fj.run = entry[v++];
+                /* Events below the entry sum lie in earlier cells. */
+                size_t lo = 0, hi = count;
+                while (lo < hi) {
+                    size_t mid = lo + (hi - lo) / 2;
+                    if (level[order[mid]] < fj.run) lo = mid + 1;
+                    else hi = mid;
+                }
+                fj.next = lo;
+                visit(&k, &k.seg[q], r, find_run, &fj);
+            }
+        combine_disjoint(cell, count);
+        for (size_t e = 0; e < count; e++) {
+            /* No cumulative sum above the level: the last cell, as pf_sampler_cell. */
+            size_t c = cell[e] > 0 ? (size_t)cell[e] - 1 : g->total - 1;
+            double *ev = out + e * (size_t)d;
+            for (int a = d - 1; a >= 0; a--) {
+                size_t j = c % geom->n[a];
+                c /= geom->n[a];
+                double jit = ev[a];
+                ev[a] = pf_field_coord(geom, a, j);
+                if (jitter) ev[a] += (jit - 0.5) * geom->step[a];
+            }
+        }
+    }
+    pf_context_free(ctx, entry);
+    pf_context_free(ctx, level);
+    pf_context_free(ctx, cell);
+    pf_context_free(ctx, order);
+    walk_close(&k);
+    return s;
 }
 
 /* ---- the column picture ---- */

@@ -24,6 +24,7 @@
 
 #include "pf_distrib.h"
 #include "pf_measure.h"
+#include "pf_random.h"
 
 /* The geometry pf_field_for_grid gives (dim, n, first, step, total), with
  * no values allocated. */
@@ -40,6 +41,13 @@ pf_status pf_dist_radial(pf_wave *w, pf_rep rep, const pf_field *geom, const dou
 pf_status pf_dist_moments(pf_wave *w, pf_rep rep, const pf_field *geom, double *mean, double *cov);
 /* pf_wave_region_probability (position density, the grid's own axes). */
 pf_status pf_dist_region_probability(pf_wave *w, const pf_region *r, double *p);
+/* pf_sampler_draw's count events (out: count * dim coordinates, event
+ * major) from the density of w in rep, on every rank: the same generator
+ * draws, cells and coordinates as the single process's sampler on the whole
+ * field, from a running sum handed along the ranks in field order; each
+ * rank keeps only its slab, the events and the entry sums of its runs. */
+pf_status pf_dist_draw_events(pf_wave *w, pf_rep rep, const pf_field *geom, pf_rng *rng, size_t count, int jitter,
+                         double *out);
 /* The column density along the last axis of a 3D wave, n0 x n1 values
  * (sum over the row in order, times the last axis's spacing), as
  * pf.picture_map draws it, on every rank. */

@@ -237,14 +237,16 @@ static int l_sample(lua_State *L)
     pf_rng local;
     pf_rng *rng = pfl_opt_rng(L, opts, &local);
     pf_field f;
-    pfl_source_field(L, &src, rep, &f, "sample");
+    const int split = pfl_source_split(&src); /* one wave over MPI ranks: from each rank's planes */
+    if (split) pfl_source_geometry(L, &src, rep, &f, "sample");
+    else pfl_source_field(L, &src, rep, &f, "sample");
     int d = f.dim;
     /* Events go into a Lua-owned buffer, so nothing leaks if a table
      * allocation below raises. */
     double *ev = lua_newuserdatauv(L, (size_t)(n ? n : 1) * (size_t)d * sizeof(double), 0);
     pf_sampler sm;
-    pf_status s = pf_sampler_init(&sm, &f);
-    if (s == PF_OK) {
+    pf_status s = split ? pf_dist_draw_events(src.single, rep, &f, rng, (size_t)n, jitter, ev) : pf_sampler_init(&sm, &f);
+    if (s == PF_OK && !split) {
         /* In blocks of 2^16 events (drawn in the same order, so the same
          * events), reporting progress between them. */
         const size_t block = 65536;
@@ -256,7 +258,7 @@ static int l_sample(lua_State *L)
         }
         pf_sampler_free(&sm);
     }
-    pf_field_free(&f);
+    if (!split) pf_field_free(&f);
     pfl_check(L, s, "sample");
     lua_createtable(L, d, 4);
     for (int a = 0; a < d; a++) {

@@ -173,7 +173,8 @@ worst=$(/usr/bin/python3 "$work/law.py" "$work/measure.2.txt" 1e-9 fperiod fvisi
 # a 3D wave (22 x 18 x 16; 3 ranks hold 8, 8, 6 planes, 4 ranks 6, 6, 6, 4)
 # every marginal and column density (along the split axis too), slices,
 # radial profiles, covariances, region probabilities, fringe fits, cameras
-# imaging along and across the split axis and the column picture, in
+# imaging along and across the split axis, the column picture and Born-rule
+# samples (seeded, and from the run's generator kept in step), in
 # position (the same bits as one process) and in momentum (the same bits at
 # every rank count).
 slab="$root/tests/runner/distm/probe_slab.lua"
@@ -206,6 +207,16 @@ worst=$(/usr/bin/python3 "$work/law.py" "$work/slab.3.txt" 1e-8 xprofile column1
 worst=$(/usr/bin/python3 "$work/law.py" "$work/slab.4.txt" 1e-8 kcov11 kcov13 kcov22) &&
   ok "slab -n 4: the momentum covariance is hbar^2 S^-1 / 4 ($worst)" || fail "slab -n 4: momentum covariance law missed"
 
+# Seeded events drawn per slab (3000 with jitter along every axis): their
+# variance along the split axis is S11 + dx^2 / 12 (Sheppard's correction,
+# common practice) within 5 standard errors of a sample variance.
+/usr/bin/python3 - "$work/slab.4.txt" <<'PY' && ok "slab -n 4: the events' variance along the split axis is the density's (within 5 standard errors)" ||
+import sys
+got, want, tol = [float(t) for t in next(l for l in open(sys.argv[1]) if l.startswith("stat xsample_var")).split()[2:]]
+assert abs(got - want) / want <= tol, (got, want, tol)
+PY
+  fail "slab -n 4: the events' variance along the split axis is off"
+
 # Memory (probe_slabcap.lua): under a memory cap below a slab plus the whole
 # density, which the gathered path held on every rank, every per-slab
 # measurement runs; the whole table (the control) is refused on every rank.
@@ -214,9 +225,9 @@ for n in 3 4; do
   expect 0 "slabcap: mpirun -n $n" -- timeout 120 mpirun -n "$n" --oversubscribe "$runner" run "$slabcap" --out "$work/slabcap.$n"
   printf '%s\n' "$out" >"$work/slabcap.$n.txt"
   fits=$(grep -c '^fits ' "$work/slabcap.$n.txt")
-  [ "$fits" -eq 15 ] && ! grep -q '^failed ' "$work/slabcap.$n.txt" &&
-    ok "slabcap -n $n: all 15 per-slab measurements run under a cap below one whole density" ||
-    fail "slabcap -n $n: $fits of 15 per-slab measurements ran under the cap: $(grep '^failed' "$work/slabcap.$n.txt" | head -3)"
+  [ "$fits" -eq 16 ] && ! grep -q '^failed ' "$work/slabcap.$n.txt" &&
+    ok "slabcap -n $n: all 16 per-slab measurements run under a cap below one whole density" ||
+    fail "slabcap -n $n: $fits of 16 per-slab measurements ran under the cap: $(grep '^failed' "$work/slabcap.$n.txt" | head -3)"
   grep -q '^control distribution refused .*memory cap' "$work/slabcap.$n.txt" &&
     ok "slabcap -n $n: the control (the whole table) does not fit under that cap" ||
     fail "slabcap -n $n: the control fitted: the cap proves nothing"

@@ -146,6 +146,31 @@ list("exact cam3_od", cam3:absorb(w, {atoms = 3e4, cross_section = pf.resonant_c
 -- The picture of the column density along axis 3 (rank 0 writes it).
 pf.picture_map("cloud3.png", w, {title = "41K cloud, column along z"})
 
+-- Born-rule events drawn per slab: a seeded draw with jitter (the same
+-- events as one process), then draws from the run's own generator, whose
+-- state must stay the same on every rank: each rank scales its planes of a
+-- copy by a figure of the events, and the norm is the single process's
+-- only when every rank drew the same events.
+local ev = w:sample(3000, {seed = 17})
+list("exact xsample1", {ev[1][1], ev[1][2], ev[1][3], ev[1][1500], ev[2][2999], ev[3][3000]})
+local run1, run2 = w:sample(50), w:sample(50, {jitter = false})
+local sum = 0
+for e = 1, 50 do sum = sum + run1[1][e] / 1e-6 + run2[3][e] / 1e-6 end
+list("exact xsample2", {run1[1][50], run1[2][7], run2[3][50], sum})
+local probe = w:copy()
+probe:scale(1 + math.abs(sum) / 1e3)
+line("exact xsample_agree", probe:norm())
+probe:close()
+-- Law (common practice): the events' variance along the split axis is the
+-- density's, S11, plus the jitter's dx^2 / 12 (Sheppard's correction);
+-- 5 standard errors of a sample variance, 5 sqrt(2 / N), bound the draw.
+local m1, v1 = 0, 0
+for e = 1, 3000 do m1 = m1 + ev[1][e] end
+m1 = m1 / 3000
+for e = 1, 3000 do v1 = v1 + (ev[1][e] - m1) ^ 2 end
+v1 = v1 / 2999
+line("stat xsample_var", v1, S[1][1] + g:spacing(1) ^ 2 / 12, 5 * math.sqrt(2 / 3000))
+
 -- The per-slab figures are the single process's summation of the gathered
 -- table, bit for bit (position and momentum).
 local steps_x = {g:spacing(1), g:spacing(2), g:spacing(3)}
@@ -181,6 +206,8 @@ list("flown kslice3", w:slice{axes = {3}, through = {1e5, -1e5, 0}, space = "mom
 local krad = w:radial_profile{center = k0, bin = 1.5e5, bins = 6, space = "momentum"}
 list("flown kradial", krad.values)
 local K = w:momentum_covariance()
+local evk = w:sample(400, {seed = 18, space = "momentum", jitter = false})
+list("flown ksample", {evk[1][1], evk[2][1], evk[3][1], evk[1][400], evk[2][200], evk[3][399]})
 line("flown kcovariance", K[1][1], K[1][2], K[1][3], K[2][2], K[2][3], K[3][3])
 local steps_k = {g:kspacing(1), g:kspacing(2), g:kspacing(3)}
 local dk = w:distribution{space = "momentum"}

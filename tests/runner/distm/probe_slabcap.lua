@@ -45,6 +45,7 @@ try("camera", function()
   return cam:expose(w, {atoms = 1e4, seed = 3}).expected
 end)
 try("picture", function() pf.picture_map("cloud.png", w) return {} end)
+try("sample", function() local ev = w:sample(2000, {seed = 4}) return {ev[1][1], ev[2][1000], ev[3][2000]} end)
 try("kmarginal13", function() return w:marginal{axes = {1, 3}, space = "momentum"}.values end)
 try("kmarginal3", function() return w:marginal{axes = {3}, space = "momentum"}.values end)
 try("kcolumn", function() return w:marginal{axes = {2, 3}, space = "momentum"}.values end)
