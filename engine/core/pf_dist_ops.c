@@ -1,5 +1,6 @@
 /* pf_dist_ops.c - single samples of a distributed wave (w:psi, w:phi,
- * w:set_psi, w:set_phi; docs/distributed.md).
+ * w:set_psi, w:set_phi; docs/distributed.md), and the range of values
+ * that each rank knows for its own points only (pf.potential's range).
  *
  * A distributed wave holds planes of axis 0 in position and planes of axis
  * 1 of the transposed array in momentum (pf_dist.h).  One sample lives on
@@ -70,4 +71,9 @@ void pf_dist_store_value(const pf_grid *g, pf_rep rep, double complex *store, co
 {
     size_t off = local_offset(g, rep, idx);
     if (off != NOT_HERE) store[off] = v;
+}
+
+void pf_grid_combine_range(const pf_grid *g, double *lo, double *hi)
+{
+    pf_dist_minmax(g, lo, hi); /* exact MPI_MIN and MPI_MAX: order-free */
 }

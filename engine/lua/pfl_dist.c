@@ -32,6 +32,7 @@ static const char *const DIST_AWARE[] = {
     "pf.momentum_orders",
     "pf.oscillator",
     "pf.picture_map",
+    "pf.potential",
     "pf.thomas_fermi",
     "pf.wave",
     "wave:aperture",
