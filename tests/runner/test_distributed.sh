@@ -35,7 +35,6 @@ for n in 1 2 3 4; do
   printf '%s\n' "$out" >"$work/ranks$n.txt"
   has "ranks $n distribute true" "mpirun -n $n: the grid is distributed over $n ranks"
   has "refusal named" "mpirun -n $n: a function without a distributed path refuses by name"
-  has "refusals 1 of 1 named" "mpirun -n $n: fall refuses by name"
   [ "$(grep -c '^ranks' "$work/ranks$n.txt")" -eq 1 ] && ok "mpirun -n $n: only rank 0 prints" || fail "mpirun -n $n: only rank 0 prints"
 done
 
@@ -424,6 +423,50 @@ tilt=$(plaw '^tilt'); awk -v m="$tilt" 'BEGIN { exit !(m < 1e-4) }' &&
 sag=$(plaw '^sag'); awk -v m="$sag" 'BEGIN { exit !(m < 1e-5) }' &&
   ok "potential objects -n 4: relaxed through an object under an acceleration the state sags by a / w^2 to $sag" ||
   fail "potential objects -n 4: sag off by $sag"
+
+# Moving frames (probe_frames.lua): w:frame, w:x_axis and w:k_axis read
+# the frame every rank keeps alike; w:fall runs its momentum pass on the
+# transposed slabs and its kick on the position slabs, and from a moved
+# frame first folds the frame's momentum onto the slabs; w:arrival_times at
+# a lab plane under an acceleration flies a copy on rank 0 from the
+# gathered wave.  26 x 32 points: 7, 7, 7, 5 planes on 4 ranks.  Laws
+# (textbook kinematics and the free Gaussian): the frame's X = -g t^2 / 2 and
+# V = -g t (1e-12), the fall's centre v0 t + a t^2 / 2 (1e-9) and wave
+# number k0 + m a t / hbar (1e-6, the grid's sampling of the start), the
+# width law (1e-9), the lab centre after a frame flight and a fall
+# a (t3 + t4)^2 / 2 (1e-9); the mean arrival time at a plane 40 um below is
+# the classical fall time to 3e-3 (the packet's width against the drop,
+# (sigma / h)^2 = 2e-3) and the probability arrived is 1 to 1e-9.
+frames="$root/tests/runner/dist/probe_frames.lua"
+expect 0 "frames: one process" -- "$runner" run "$frames"
+printf '%s\n' "$out" >"$work/fmplain.txt"
+[ -z "$err" ] && ok "frames: the grid resolves the states (no warnings)" || fail "frames: warnings: $err"
+for n in 1 2 4; do
+  expect 0 "frames: mpirun -n $n" -- timeout 120 mpirun -n "$n" --oversubscribe "$runner" run "$frames"
+  printf '%s\n' "$out" >"$work/fmranks$n.txt"
+  has "ranks $n distribute true" "frames: mpirun -n $n distributed"
+  /usr/bin/python3 "$work/compare.py" "$work/fmplain.txt" "$work/fmranks$n.txt" exact 0 >/dev/null &&
+    ok "frames -n $n: w:frame, the lab axes and the frame after a fall from a moved frame bit-identical to one process" ||
+    fail "frames -n $n: frame figures differ from one process"
+  /usr/bin/python3 "$work/compare.py" "$work/fmranks1.txt" "$work/fmranks$n.txt" flown,law 0 >/dev/null &&
+    ok "frames -n $n: fall, fall from a moved frame and arrival under an acceleration bit-identical to -n 1" ||
+    fail "frames -n $n: figures differ from -n 1"
+  worst=$(/usr/bin/python3 "$work/compare.py" "$work/fmplain.txt" "$work/fmranks$n.txt" flown 1e-14) &&
+    ok "frames -n $n: fall, fall from a moved frame and arrival under an acceleration within 1e-14 of one process (worst $worst)" ||
+    fail "frames -n $n: figures differ from one process by more than 1e-14"
+done
+flaw() { awk -v name="$1" '$1 == "law" && $2 ~ name { d = ($3 - $4) / $4; if (d < 0) d = -d; if (d > m) m = d } END { printf "%.2g", m }' "$work/fmranks4.txt"; }
+check_law() { # NAME-REGEX TOL WHAT
+  local m; m=$(flaw "$1")
+  awk -v m="$m" -v t="$2" 'BEGIN { exit !(m != "" && m < t) }' && ok "frames -n 4: $3 to $m" || fail "frames -n 4: $3 off by $m"
+}
+check_law '^frame[XV]$' 1e-12 "the frame falls by g t^2 / 2 at g t"
+check_law '^fall[xy]$' 1e-9 "w:fall moves the centre by v0 t + a t^2 / 2"
+check_law '^fallw[xy]$' 1e-9 "w:fall spreads the packet by the free width law"
+check_law '^fallkx$' 1e-6 "w:fall adds m a t / hbar to the wave number"
+check_law '^movedfall$' 1e-9 "a frame flight then w:fall put the lab centre at a (t3 + t4)^2 / 2"
+check_law '^arrivalmean$' 3e-3 "the mean arrival time at a plane 40 um below is the classical fall time"
+check_law '^arrived$' 1e-9 "all the probability arrives at the plane in the window"
 
 # Default planning (probe_default.lua): measured FFTW plans, as users run.
 # Every other probe plans with "estimate"; here the runner's default
