@@ -376,6 +376,11 @@ void pf_dist_planner_ready(void);
  * the holder's slab; on a whole grid both index the array. */
 double complex pf_dist_stored_value(const pf_grid *g, pf_rep rep, const double complex *store, const size_t *idx);
 void pf_dist_store_value(const pf_grid *g, pf_rep rep, double complex *store, const size_t *idx, double complex v);
+/* The momentum-space half of pf_wave_fall on a distributed wave
+ * (pf_dist_ops.c): to momentum (the forward transform's 1/N joined to the
+ * pass), times the per-axis tables on the transposed slab, and back to
+ * position.  Collective. */
+pf_status pf_dist_momentum_pass(pf_wave *w, const double complex *const *tables);
 /* Samples one rank will hold of a grid about to be made (total when it
  * will not be distributed), for the memory cap check before making it. */
 size_t pf_dist_planned_values(const pf_context *ctx, int dim, const size_t *points, size_t total);
