@@ -113,6 +113,11 @@ __attribute__((target("avx512f"))) static void phase_row_avx512(double *restrict
         __m512d a = _mm512_loadu_pd(row + 2 * j);
         _mm512_storeu_pd(row + 2 * j, cmul512(a, f));
     }
+    /* Clean upper register halves before the plain (SSE-encoded) tail: gcc
+     * leaves them dirty across this tail call, and every SSE instruction
+     * after it - the tail, libm's cexp in the kinetic tables, the engine's
+     * plain loops - then ran up to 20 times slower (docs/performance.md). */
+    _mm256_zeroupper();
     phase_row_plain(row + 2 * j, p + 2 * j, qr, qi, n - j);
 }
 
@@ -128,6 +133,7 @@ __attribute__((target("avx2"))) static void phase_row_avx2(double *restrict row,
         __m256d a = _mm256_loadu_pd(row + 2 * j);
         _mm256_storeu_pd(row + 2 * j, cmul256(a, f));
     }
+    _mm256_zeroupper(); /* as in phase_row_avx512 */
     phase_row_plain(row + 2 * j, p + 2 * j, qr, qi, n - j);
 }
 #endif

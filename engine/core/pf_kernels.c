@@ -207,6 +207,21 @@ double pf_kernel_field_mask(pf_grid *g, double complex *data, const double compl
     return sum;
 }
 
+/* Without a shift, index j in FFT order holds the integer m and n - j holds
+ * -m (pf_grid.c); (c (-m)) (-m) is (c m) m to the bit, so the entry there is
+ * a copy, not a second exponential.  Returns n - j for such a j (m < 0 with
+ * its mirror in the table), else 0. */
+static size_t kinetic_mirror(const double *k, size_t n, double dk, size_t j)
+{
+    if (j == 0) return 0;
+    double m = nearbyint(k[j] / dk);
+    return m < 0 && nearbyint(k[n - j] / dk) == -m ? n - j : 0;
+}
+
+/* Axes shorter than this are filled by one thread (a 1D grid's axis holds
+ * every point; a 2D or 3D grid's are short). */
+#define KINETIC_THREADED ((size_t)8192)
+
 void pf_kernel_kinetic_tables(const pf_grid *g, double tau, const double *shift, double complex **tables)
 {
     for (int a = 0; a < g->dim; a++) {
@@ -215,10 +230,28 @@ void pf_kernel_kinetic_tables(const pf_grid *g, double tau, const double *shift,
         /* Translation phase k b = 2 pi m (b / span): reduced to turns exactly
          * on the integer lattice, so large shifts keep full precision. */
         double frac = shift ? shift[a] / g->span[a] : 0.0;
-        for (size_t j = 0; j < g->n[a]; j++) {
-            double m = nearbyint(g->k[a][j] / dk);
-            double turns = shift ? fmod(m * frac, 1.0) : 0.0;
-            tables[a][j] = cexp(-I * (c * m * m + PF_TWO_PI * turns));
+        const double *k = g->k[a];
+        double complex *t = tables[a];
+        const ptrdiff_t n = (ptrdiff_t)g->n[a];
+        /* One libm exponential per point is the cost of a new step on a 1D
+         * grid: each |m| once, shared among threads (each entry is the
+         * same call whichever thread makes it). */
+#pragma omp parallel num_threads(g->ctx->threads) if ((size_t)n >= KINETIC_THREADED)
+        {
+#pragma omp for schedule(static)
+            for (ptrdiff_t j = 0; j < n; j++) {
+                if (!shift && kinetic_mirror(k, (size_t)n, dk, (size_t)j)) continue;
+                double m = nearbyint(k[j] / dk);
+                double turns = shift ? fmod(m * frac, 1.0) : 0.0;
+                t[j] = cexp(-I * (c * m * m + PF_TWO_PI * turns));
+            }
+            if (!shift) {
+#pragma omp for schedule(static)
+                for (ptrdiff_t j = 0; j < n; j++) {
+                    size_t from = kinetic_mirror(k, (size_t)n, dk, (size_t)j);
+                    if (from) t[j] = t[from];
+                }
+            }
         }
     }
 }

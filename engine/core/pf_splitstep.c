@@ -48,6 +48,9 @@ typedef struct evolve_ws {
     double h;                       /* step (s) */
     double complex **kin[2];        /* kinetic tables for c = w1 (or 1) and w0 (g->evolve_kin) */
     double complex *e[3];           /* static factors by kind of sub-step (pf_evolve_cache.e) */
+    unsigned *formed;               /* bit k: e[k] is formed (the cache's, or own_formed) */
+    unsigned own_formed;
+    double fe[3];                   /* phase per J of V of the exponential each kind is formed with */
     int borrowed;                   /* e[] belong to spec->cache */
     double *vbuf;                   /* V(x, t) samples */
     double vbuf_time;               /* time of the samples in vbuf */
@@ -100,9 +103,12 @@ static pf_status potential_range(pf_grid *g, const double *V, double *lo, double
 static void occupied_range(const pf_wave *w, const double *V, double peak, double *lo, double *hi)
 {
     double a = INFINITY, b = -INFINITY, cut = OCCUPIED_FRACTION * peak;
-    const size_t n = pf_dist_position_values(w->grid);
-    for (size_t i = 0; i < n; i++) {
-        double complex z = w->store[i];
+    const ptrdiff_t n = (ptrdiff_t)pf_dist_position_values(w->grid);
+    const double complex *store = w->store;
+    /* Extremes do not depend on the order they are found in: threaded. */
+#pragma omp parallel for num_threads(w->grid->ctx->threads) schedule(static) reduction(min : a) reduction(max : b)
+    for (ptrdiff_t i = 0; i < n; i++) {
+        double complex z = store[i];
         if (creal(z) * creal(z) + cimag(z) * cimag(z) < cut) continue;
         if (V[i] < a) a = V[i];
         if (V[i] > b) b = V[i];
@@ -116,9 +122,11 @@ static void occupied_range(const pf_wave *w, const double *V, double peak, doubl
 static double max_density(pf_wave *w)
 {
     double m = 0, unused = 0;
-    const size_t n = pf_dist_position_values(w->grid);
-    for (size_t i = 0; i < n; i++) {
-        double complex z = w->store[i];
+    const ptrdiff_t n = (ptrdiff_t)pf_dist_position_values(w->grid);
+    const double complex *store = w->store;
+#pragma omp parallel for num_threads(w->grid->ctx->threads) schedule(static) reduction(max : m)
+    for (ptrdiff_t i = 0; i < n; i++) {
+        double complex z = store[i];
         double r = creal(z) * creal(z) + cimag(z) * cimag(z);
         if (r > m) m = r;
     }
@@ -132,13 +140,44 @@ static double max_density(pf_wave *w)
 typedef struct pot_pass {
     int active;                     /* 0: the factor is 1, nothing to do */
     int direct;                     /* evaluate per point (V, f, gc) */
-    const double *V;                /* V per point, NULL: 0 */
-    double f, gc;                   /* f = coef h / hbar; gc = g */
+    const double *V;                /* V per point, NULL: 0 (static: V to form from) */
+    double f, gc;                   /* f = coef h / hbar; gc = g (static: the exponent's f) */
     const double complex *e;        /* static: the stored factor of this kind */
+    /* Static, first pass of this kind for this potential and step: the
+     * pass forms the factor into form (== e) piece by piece, just before
+     * using each piece, from V (kind 0: e1 = exp(-i V f)) or from the
+     * formed e1 (kind 1: e1 e1; kind 2: e1 exp(-i V f)). */
+    double complex *form;
+    int kind;
+    const double complex *e1;
 } pot_pass;
 
 /* Points whose phases are formed before one call of pf_cis_multiply. */
 #define PIECE 512
+
+/* Forms the points [at, at + m) (m <= PIECE) of a stored factor (see
+ * pot_pass.form).  The products are formed as pot_apply formed them per
+ * piece in every pass before they were kept: a copy of e1 times e1 (or e2)
+ * through the phase kernel with the factor 1. */
+static void form_piece(const pot_pass *p, size_t at, size_t m)
+{
+    double phase[PIECE];
+    double complex e2[PIECE];
+    double complex *out = p->form + at;
+    if (p->kind != 1)
+        for (size_t i = 0; i < m; i++) phase[i] = p->V[at + i] * p->f;
+    if (p->kind == 0) {
+        pf_cis_minus(phase, out, m);
+        return;
+    }
+    const double complex *e1 = p->e1 + at, *other = e1;
+    if (p->kind == 2) {
+        pf_cis_minus(phase, e2, m);
+        other = e2;
+    }
+    memcpy(out, e1, m * sizeof *out);
+    pf_phase_kernel()((double *)out, (const double *)other, 1.0, 0.0, m);
+}
 
 /* Applies the factor to d[0..count), the points [begin, begin + count). */
 static void pot_apply(const pot_pass *p, double complex *restrict d, size_t begin, size_t count)
@@ -173,12 +212,20 @@ static void pot_apply(const pot_pass *p, double complex *restrict d, size_t begi
         }
         return;
     }
-    /* d *= the stored factor (e1, e1 e1 or e1 e2, formed once in
-     * prepare() by the same kernel call that used to form it per piece
-     * here, so the bits are those of before) through the vectorised phase
-     * kernel (pf_flight.c), which forms the same products in the same
-     * order as plain complex multiplication. */
-    pf_phase_kernel()((double *)d, (const double *)(p->e + begin), 1.0, 0.0, count);
+    /* d *= the stored factor (e1, e1 e1 or e1 e2) through the vectorised
+     * phase kernel (pf_flight.c), which forms the same products in the same
+     * order as plain complex multiplication.  A factor's first pass forms
+     * it a piece at a time, each piece used while in cache. */
+    const pf_phase_row_fn row = pf_phase_kernel();
+    if (!p->form) {
+        row((double *)d, (const double *)(p->e + begin), 1.0, 0.0, count);
+        return;
+    }
+    for (size_t b = 0; b < count; b += PIECE) {
+        size_t m = count - b < PIECE ? count - b : PIECE;
+        form_piece(p, begin + b, m);
+        row((double *)(d + b), (const double *)(p->e + begin + b), 1.0, 0.0, m);
+    }
 }
 
 static void pot_chunk(void *user, double complex *chunk, size_t begin, size_t count)
@@ -225,6 +272,13 @@ static pf_status potential_plan(evolve_ws *ws, double coef, int kind, double t, 
     } else {
         p->active = 1;
         p->e = ws->e[kind];
+        if (!(*ws->formed & (1u << kind))) {
+            p->form = ws->e[kind];
+            p->kind = kind;
+            p->e1 = ws->e[0];
+            p->V = sp->potential;
+            p->f = ws->fe[kind];
+        }
         return PF_OK;
     }
     p->active = 1;
@@ -234,12 +288,20 @@ static pf_status potential_plan(evolve_ws *ws, double coef, int kind, double t, 
     return PF_OK;
 }
 
+/* After a whole pass: the factor it formed is kept for the passes after
+ * it (and, in a cache, for later calls). */
+static void pass_done(evolve_ws *ws, const pot_pass *p)
+{
+    if (p->form) *ws->formed |= 1u << p->kind;
+}
+
 static pf_status potential_step(evolve_ws *ws, double coef, int kind, double t)
 {
     pot_pass p;
     pf_status s = potential_plan(ws, coef, kind, t, &p);
     if (s) return s;
     pot_apply_all(ws, &p);
+    pass_done(ws, &p);
     return PF_OK;
 }
 
@@ -321,6 +383,7 @@ static pf_status run_fused(evolve_ws *ws, size_t n, double t0, double t)
     pf_status s = potential_plan(ws, 0.5 * sc->c[0], 0, t0, &p);
     if (s) return s;
     pf_fused_chunks(g, d, 0, p.active ? pot_chunk : NULL, &p, 1);
+    pass_done(ws, &p);
     for (size_t step = 0; step < n; step++) {
         if ((s = pf_context_poll_stop(g->ctx))) break;
         if (step) pf_context_progress(g->ctx, "evolve", (double)step, (double)n);
@@ -334,6 +397,7 @@ static pf_status run_fused(evolve_ws *ws, size_t n, double t0, double t)
             if ((s = potential_plan(ws, coef, kind, when, &p))) break;
             int last = step + 1 == n && j + 1 == sc->stages;
             pf_fused_chunks(g, d, 1, p.active ? pot_chunk : NULL, &p, !last);
+            pass_done(ws, &p);
             if (last) return PF_OK;
         }
         if (s) break;
@@ -404,10 +468,17 @@ static pf_status prepare(evolve_ws *ws)
     if (sp->varying) {
         /* vbuf is the start probe, allocated by pf_wave_evolve. */
     } else if (sp->potential && sp->g == 0) {
+        /* The factors themselves are formed by the first pass that uses
+         * each (pot_pass.form): the pass touches the data anyway, and a
+         * call of one step never uses the merged boundary e1 e1. */
+        ws->fe[0] = ws->fe[1] = 0.5 * ws->sc.c[0] * ws->h / PF_HBAR;
+        ws->fe[2] = 0.5 * ws->sc.c[1] * ws->h / PF_HBAR;
+        ws->formed = &ws->own_formed;
         pf_evolve_cache *c = sp->cache;
         if (c && c->e[0] && c->potential == sp->potential && c->h == ws->h && c->order == sp->order &&
             c->bytes == ws->bytes_c && c->ctx == g->ctx) {
             memcpy(ws->e, c->e, sizeof ws->e);
+            ws->formed = &c->formed;
             ws->borrowed = 1;
             return PF_OK;
         }
@@ -433,39 +504,16 @@ static pf_status prepare(evolve_ws *ws)
         }
         for (int k = 0; k < kinds; k++)
             if (!ws->e[k] && !(ws->e[k] = pf_alloc(g->ctx, ws->bytes_c))) return pf_context_status(g->ctx);
-        double f1 = 0.5 * ws->sc.c[0] * ws->h / PF_HBAR;
-        double f2 = 0.5 * ws->sc.c[1] * ws->h / PF_HBAR;
-        const double *V = sp->potential;
-        double complex *e1 = ws->e[0], *e11 = ws->e[1], *e12 = ws->e[2];
-        ptrdiff_t n = (ptrdiff_t)pf_dist_position_values(g);
-        /* The one place a static potential costs trigonometry per point.
-         * The products are formed as pot_apply formed them per piece in
-         * every pass before they were kept: a copy of e1 times e1 (or e2)
-         * through the phase kernel with the factor 1. */
-        const pf_phase_row_fn row = pf_phase_kernel();
-        const ptrdiff_t pieces = (n + PIECE - 1) / PIECE;
-#pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
-        for (ptrdiff_t b = 0; b < pieces; b++) {
-            double phase[PIECE];
-            double complex e2[PIECE];
-            size_t begin = (size_t)b * PIECE, m = (size_t)n - begin < PIECE ? (size_t)n - begin : PIECE;
-            for (size_t i = 0; i < m; i++) phase[i] = V[begin + i] * f1;
-            pf_cis_minus(phase, e1 + begin, m);
-            memcpy(e11 + begin, e1 + begin, m * sizeof *e11);
-            row((double *)(e11 + begin), (const double *)(e1 + begin), 1.0, 0.0, m);
-            if (!e12) continue;
-            for (size_t i = 0; i < m; i++) phase[i] = V[begin + i] * f2;
-            pf_cis_minus(phase, e2, m);
-            memcpy(e12 + begin, e1 + begin, m * sizeof *e12);
-            row((double *)(e12 + begin), (const double *)e2, 1.0, 0.0, m);
-        }
         if (c) {
+            /* Nothing formed yet (c->formed is 0 after the clear): the
+             * passes of this call set its bits as they form the factors. */
             c->ctx = g->ctx;
             c->potential = sp->potential;
             c->h = ws->h;
             c->order = sp->order;
             memcpy(c->e, ws->e, sizeof c->e);
             c->bytes = ws->bytes_c;
+            ws->formed = &c->formed;
             ws->borrowed = 1;
         }
     }

@@ -18,8 +18,8 @@
  * with the one-atom coupling g1, pass g = N g1).
  *
  * Cost notes: a static potential without mean field is exponentiated once per
- * call (one or two full-grid complex arrays), or once for many calls with a
- * pf_evolve_cache; with g, or with V(x, t), the exponential is evaluated per
+ * call (one or two full-grid complex arrays, formed by the first pass that
+ * uses each), or once for many calls with a pf_evolve_cache; with g, or with V(x, t), the exponential is evaluated per
  * point at each potential sub-step (vectorised, pf_cis.h), and V(x, t) is
  * refilled by its callback once per distinct sample time (one per Strang
  * step, three per fourth-order step).  Kinetic tables are kept on the grid
@@ -53,6 +53,10 @@ typedef struct pf_evolve_cache {
      * e1 e1, [2] (fourth order) the inner boundary e1 e2, e2 = exp(-i V h
      * c0/2 / hbar); products kept so each pass reads one table. */
     double complex *e[3];
+    /* Bit k: e[k] holds its factor.  Each is formed by the first pass of
+     * an evolve call that uses it, so a call of one step leaves e[1]
+     * unformed until a longer call needs it. */
+    unsigned formed;
     size_t bytes;
     /* The potential whose values were checked finite (also with a mean
      * field, where e1, e2 are not used): later calls skip the check. */

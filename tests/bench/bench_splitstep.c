@@ -7,14 +7,17 @@
  * (three Strang sub-steps, <= 3.2), and each call's set-up in steps
  * (<= 1): a repeat call with the same potential and step (a pf.potential's
  * cache and the grid's kept tables: nothing to make), and a call with a new
- * step (exponentials and kinetic tables made afresh).
+ * step (exponentials and kinetic tables made afresh), both as a 1-step call
+ * and in a call of several steps.
  * Each 1D row is followed by its floor row: the raw FFTW pair plus the
  * streaming passes no split step can avoid (floor_run), timed in the same
  * run, printed with the target and the measured step.
- * Usage: bench_splitstep [quick | big | 1d]  (full: 1D 2^20, 2D 1024^2 and
- * 3D 128^3; quick: 1D 2^18, 2D 512^2 and 3D 128^3, shorter timing; big: 3D
- * 256^3 only, about ten minutes on the reference machine, which is why the
- * full `make bench` leaves it out; 1d: the full run's 1D 2^20 rows only). */
+ * Usage: bench_splitstep [quick | big | 1d | setup]  (full: 1D 2^20, 2D
+ * 1024^2 and 3D 128^3; quick: 1D 2^18, 2D 512^2 and 3D 128^3, shorter
+ * timing; big: 3D 256^3 only, about ten minutes on the reference machine,
+ * which is why the full `make bench` leaves it out; 1d: the full run's 1D
+ * 2^20 rows only; setup: the full run's rows without the floor rows, for
+ * work on the set-up). */
 #include <stddef.h>
 #include <math.h>
 #include <stdio.h>
@@ -165,7 +168,7 @@ typedef struct kind {
     double target;
 } kind;
 
-static void bench_size(pf_context *ctx, int dim, const int *n, int threads, int quick)
+static void bench_size(pf_context *ctx, int dim, const int *n, int threads, int quick, int setup_only)
 {
     char shape[64];
     size_t points[3], total = 1;
@@ -216,21 +219,28 @@ static void bench_size(pf_context *ctx, int dim, const int *n, int threads, int 
         pf_evolve_cache cache;
         pf_evolve_cache_init(&cache);
         pf_evolve_spec spec = {.potential = V, .dt = 1e-6, .order = kinds[k].order, .g = kinds[k].g, .cache = &cache};
-        evolve_arg one = {w, spec, 1, 1, 0}, many = {w, spec, 1 + LONG, 1, 0}, fresh = {w, spec, 1, 3, 0};
+        evolve_arg one = {w, spec, 1, 1, 0}, many = {w, spec, 1 + LONG, 1, 0}, fresh = {w, spec, 1, 3, 0},
+                   fresh_long = {w, spec, 1 + LONG, 3, 0};
         run_evolve(&one); /* plans, tables, first touch */
         double pair, ms1, msl, msf, q[2];
         double r1 = bench_paired(bench_fft_pair_run, &raw, bench_fft_pair_rescale, run_evolve, &one, secs, &pair, &ms1, q);
         double rl = bench_paired(bench_fft_pair_run, &raw, bench_fft_pair_rescale, run_evolve, &many, secs, &pair, &msl, q);
         double rf = bench_paired(bench_fft_pair_run, &raw, bench_fft_pair_rescale, run_evolve, &fresh, secs, &pair, &msf, q);
+        /* A new step in a call of 1 + LONG steps: the merged factors a
+         * 1-step call never uses are formed in its first steps' passes
+         * (pf_splitstep.c), so the 1-step call alone would not show them. */
+        double rfl = bench_paired(bench_fft_pair_run, &raw, bench_fft_pair_rescale, run_evolve, &fresh_long, secs, &pair,
+                                  &msf, q);
         double step = (rl - r1) / LONG;
-        double repeat_setup = (r1 - step) / step, new_setup = (rf - step) / step;
+        double repeat_setup = (r1 - step) / step, new_setup = (rf - step) / step, new_long = (rfl - rl) / step;
         printf("%-20s %-16s threads %d   step %5.3f fft pairs (target <= %.2f) %s   set-up: repeat call %5.2f steps %s, "
-               "new dt %5.2f steps %s (target <= 1)   [pair %8.3f ms]\n",
+               "new dt %5.2f steps %s, new dt in a %d-step call %5.2f steps %s (target <= 1)   [pair %8.3f ms]\n",
                kinds[k].name, shape, threads, step, kinds[k].target, bench_mark(step, kinds[k].target), repeat_setup,
-               bench_mark(repeat_setup, 1.0), new_setup, bench_mark(new_setup, 1.0), pair);
+               bench_mark(repeat_setup, 1.0), new_setup, bench_mark(new_setup, 1.0), 1 + LONG, new_long,
+               bench_mark(new_long, 1.0), pair);
         fflush(stdout);
         pf_evolve_cache_clear(&cache);
-        if (dim == 1) {
+        if (dim == 1 && !setup_only) {
             char floor_name[64];
             snprintf(floor_name, sizeof floor_name, "%s-floor", kinds[k].name);
             /* 0.6 of the rows' timing: the six floor rows add about 10 s,
@@ -248,7 +258,7 @@ static void bench_size(pf_context *ctx, int dim, const int *n, int threads, int 
 int main(int argc, char **argv)
 {
     int quick = argc > 1 && strcmp(argv[1], "quick") == 0, big = argc > 1 && strcmp(argv[1], "big") == 0;
-    int only1d = argc > 1 && strcmp(argv[1], "1d") == 0;
+    int only1d = argc > 1 && strcmp(argv[1], "1d") == 0, setup_only = argc > 1 && strcmp(argv[1], "setup") == 0;
     const char *wisdom = getenv("PSIFLIGHT_WISDOM");
     const char *planning = getenv("PSIFLIGHT_BENCH_PLANNING");
     pf_context *ctx = pf_context_new();
@@ -261,10 +271,10 @@ int main(int argc, char **argv)
     static const int small[][4] = {{1, 1 << 18}, {2, 512, 512}, {3, 128, 128, 128}};
     if (quick) {
         for (int s = 0; s < 3; s++)
-            for (int threads = 1; threads <= 2; threads++) bench_size(ctx, small[s][0], small[s] + 1, threads, quick);
+            for (int threads = 1; threads <= 2; threads++) bench_size(ctx, small[s][0], small[s] + 1, threads, quick, 0);
     } else {
         for (int s = big ? 3 : 0; s <= (big ? 3 : only1d ? 0 : 2); s++)
-            for (int threads = 1; threads <= 2; threads++) bench_size(ctx, sizes[s][0], sizes[s] + 1, threads, quick);
+            for (int threads = 1; threads <= 2; threads++) bench_size(ctx, sizes[s][0], sizes[s] + 1, threads, quick, setup_only);
     }
     pf_context_release(ctx);
     return 0;

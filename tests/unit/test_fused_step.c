@@ -12,6 +12,8 @@
 #include <stdlib.h>
 #include <string.h>
 #include "protocol_util.h"
+#include "pf_internal.h"
+#include "pf_kernels.h"
 #include "pf_splitstep.h"
 
 /* Invented test scenario: 87Rb in a trap of 50 Hz on axis 0, 70 Hz on axis 1
@@ -219,6 +221,15 @@ static void bits_3d_mean_field_order4(void **state)
     fused_bits_do_not_depend_on_threads(3, n, MEAN_FIELD, 4);
 }
 
+/* The stored factors are formed inside the chunks of their first pass,
+ * shared among the threads. */
+static void bits_3d_static_cached_order4(void **state)
+{
+    (void)state;
+    size_t n[3] = {24, 48, 40};
+    fused_bits_do_not_depend_on_threads(3, n, STATIC_CACHED, 4);
+}
+
 /* A displaced ground state in a harmonic trap is a coherent state: on each
  * axis a ground-state Gaussian (density width sqrt(hbar / 2 m omega_a))
  * centred on the classical orbit x0 cos(omega_a t) with momentum
@@ -341,8 +352,12 @@ static void kept_tables_match_fresh_ones(void **state)
     size_t n[2] = {48, 40};
     scene s = make_scene(1, 2, n, 16.0);
     const double period = 1.0 / TRAP_HZ[0];
-    const struct { double dt; int order; } calls[] = {
-        {period / 40, 2}, {period / 30, 4}, {period / 40, 4}, {period / 50, 2}, {period / 30, 4}, {period / 40, 2},
+    /* Calls of one step leave the merged boundary unformed (it is formed
+     * by the first longer call with that step). */
+    const struct { double dt; int order, steps; } calls[] = {
+        {period / 40, 2, 2}, {period / 30, 4, 2}, {period / 40, 4, 2}, {period / 50, 2, 2}, {period / 30, 4, 2},
+        {period / 40, 2, 2}, {period / 60, 2, 1}, {period / 60, 2, 3}, {period / 60, 2, 1}, {period / 70, 4, 1},
+        {period / 70, 4, 1}, {period / 70, 4, 3},
     };
     pf_evolve_cache cache;
     pf_evolve_cache_init(&cache);
@@ -353,13 +368,14 @@ static void kept_tables_match_fresh_ones(void **state)
     memcpy(ref, pf_wave_data(w), bytes);
     for (size_t c = 0; c < sizeof calls / sizeof calls[0]; c++) {
         pf_evolve_spec spec = {.potential = s.V, .dt = calls[c].dt, .order = calls[c].order, .cache = &cache};
-        assert_int_equal(pf_wave_evolve(w, 2 * spec.dt, &spec, NULL), PF_OK);
+        const double t = calls[c].steps * spec.dt;
+        assert_int_equal(pf_wave_evolve(w, t, &spec, NULL), PF_OK);
         scene fresh = make_scene(1, 2, n, 16.0);
         pf_wave *f;
         assert_int_equal(pf_wave_new(fresh.g, RB87_MASS, &f), PF_OK);
         memcpy(pf_wave_data(f), ref, bytes);
         spec.cache = NULL;
-        assert_int_equal(pf_wave_evolve(f, 2 * spec.dt, &spec, NULL), PF_OK);
+        assert_int_equal(pf_wave_evolve(f, t, &spec, NULL), PF_OK);
         memcpy(ref, pf_wave_data(f), bytes);
         assert_memory_equal(pf_wave_data(w), ref, bytes);
         pf_wave_free(f);
@@ -371,6 +387,66 @@ static void kept_tables_match_fresh_ones(void **state)
     free_scene(&s);
 }
 
+/* Each stored factor is formed by the first pass that uses it: a call of
+ * one step forms the end factor e1 (and at fourth order the inner
+ * boundary e1 e2), not the merged boundary e1 e1, which the first longer
+ * call with the same step forms; a further call forms and allocates
+ * nothing. */
+static void factors_formed_when_first_used(void **state)
+{
+    (void)state;
+    size_t n[1] = {512};
+    scene s = make_scene(1, 1, n, 16.0);
+    for (int order = 2; order <= 4; order += 2) {
+        pf_evolve_cache cache;
+        pf_evolve_cache_init(&cache);
+        pf_evolve_spec spec = {.potential = s.V, .dt = 1.0 / (40 * TRAP_HZ[0]), .order = order, .cache = &cache};
+        const unsigned inner = order == 4 ? 4u : 0u;
+        pf_wave *w = packet(&s);
+        assert_int_equal(pf_wave_evolve(w, spec.dt, &spec, NULL), PF_OK);
+        assert_int_equal(cache.formed, 1u | inner);
+        assert_int_equal(pf_wave_evolve(w, 3 * spec.dt, &spec, NULL), PF_OK);
+        assert_int_equal(cache.formed, 3u | inner);
+        unsigned long before = pf_context_allocations(s.ctx);
+        assert_int_equal(pf_wave_evolve(w, 2 * spec.dt, &spec, NULL), PF_OK);
+        assert_int_equal(pf_context_allocations(s.ctx), before);
+        assert_int_equal(cache.formed, 3u | inner);
+        /* a new step starts afresh */
+        spec.dt *= 1.5;
+        assert_int_equal(pf_wave_evolve(w, spec.dt, &spec, NULL), PF_OK);
+        assert_int_equal(cache.formed, 1u | inner);
+        pf_wave_free(w);
+        pf_evolve_cache_clear(&cache);
+    }
+    free_scene(&s);
+}
+
+/* The kinetic tables of a new step are libm's exp(-i c m^2) for every
+ * entry, bit for bit, although each |m| is evaluated once (the entry of
+ * -m is a copy) and a long axis is shared among threads: 1D axes of even
+ * and odd length above the threading threshold, at 2 threads. */
+static void kinetic_tables_are_the_exponentials(void **state)
+{
+    (void)state;
+    const size_t lengths[] = {16384, 16383, 64};
+    for (size_t l = 0; l < sizeof lengths / sizeof lengths[0]; l++) {
+        size_t n[1] = {lengths[l]};
+        scene s = make_scene(2, 1, n, 16.0);
+        double complex *t = malloc(n[0] * sizeof *t), *tables[1] = {t};
+        assert_non_null(t);
+        const double tau = PF_HBAR * (1.0 / (40 * TRAP_HZ[0])) / RB87_MASS;
+        pf_kernel_kinetic_tables(s.g, tau, NULL, tables);
+        const double dk = 2 * PF_PI / (16.0 * s.aho[0]), c = 0.5 * tau * dk * dk;
+        for (size_t j = 0; j < n[0]; j++) {
+            double m = nearbyint(pf_grid_k(s.g, 0, j) / dk);
+            double complex want = cexp(-I * (c * m * m + 2 * PF_PI * 0.0));
+            assert_memory_equal(&t[j], &want, sizeof want);
+        }
+        free(t);
+        free_scene(&s);
+    }
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -379,11 +455,14 @@ int main(void)
         cmocka_unit_test(fused_equals_separate_3d),
         cmocka_unit_test(bits_2d_static_short_chunk),
         cmocka_unit_test(bits_3d_mean_field_order4),
+        cmocka_unit_test(bits_3d_static_cached_order4),
         cmocka_unit_test(fused_follows_coherent_state_2d),
         cmocka_unit_test(second_call_repeats_nothing_1d),
         cmocka_unit_test(second_call_repeats_nothing_3d),
         cmocka_unit_test(kept_tables_match_fresh_ones),
         cmocka_unit_test(stored_factors_are_the_exponentials),
+        cmocka_unit_test(factors_formed_when_first_used),
+        cmocka_unit_test(kinetic_tables_are_the_exponentials),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

@@ -6,7 +6,8 @@
  *  - each kernel called on each path directly (pf_cis_minus_on,
  *    pf_cis_multiply_on, pf_phase_kernel_on, pf_phase_segment_on) against
  *    the plain path, bit for bit, over awkward inputs and lengths that leave
- *    vector tails;
+ *    vector tails, and returning with the vector registers' upper halves
+ *    clean;
  *  - whole computations through the process-wide choice: this program runs
  *    itself once per path with PSIFLIGHT_PHASE_KERNEL set (a 1D flight on
  *    segment tables, a 1D scaled flight with its evaluated chirps, a 2D
@@ -132,6 +133,71 @@ static void phase_paths_agree(void **state)
         seg(seg_got, p, a, b);
         assert_memory_equal(seg_got, seg_ref, sizeof seg_got);
         printf("ok flight phase rows and segments on the %s path: same bits as plain\n", name);
+    }
+}
+
+/* The vector kernels return with the upper halves of the vector registers
+ * clean (vzeroupper).  Left dirty, every SSE-encoded instruction after
+ * them - libm, FFTW's plain parts, the engine's own baseline loops - runs
+ * slower: the phase row kernel once tail-called its plain tail without it,
+ * and a 1D kinetic table of libm exponentials after it took 260 ms instead
+ * of 10 (docs/performance.md).  Read from the processor's XINUSE bitmap
+ * (XGETBV with ECX = 1, where CPUID leaf 0xD reports it): bit 2 is the
+ * upper halves of ymm0-15, bit 6 those of zmm0-15. */
+#if defined(__x86_64__) && defined(__GNUC__)
+#include <cpuid.h>
+static int upper_state_readable(void)
+{
+    unsigned a, b, c, d;
+    return __get_cpuid_count(0xD, 1, &a, &b, &c, &d) && (a & 4u);
+}
+
+static unsigned long long upper_state(void)
+{
+    unsigned lo, hi;
+    __asm__ volatile("xgetbv" : "=a"(lo), "=d"(hi) : "c"(1));
+    return ((unsigned long long)hi << 32 | lo) & ((1ull << 2) | (1ull << 6));
+}
+#else
+static int upper_state_readable(void) { return 0; }
+static unsigned long long upper_state(void) { return 0; }
+#endif
+
+static void kernels_leave_upper_halves_clean(void **state)
+{
+    (void)state;
+    if (!upper_state_readable()) {
+        printf("skip: this processor does not report which register state is in use\n");
+        return;
+    }
+    enum { N = 1029 };
+    static double phase[N];
+    static double complex p[N], row[N], out[N];
+    for (size_t j = 0; j < N; j++) {
+        phase[j] = 0.001 * (double)j;
+        p[j] = cexp(-I * phase[j]);
+        row[j] = 1.0;
+    }
+    for (int path = PF_PATH_AVX2; path < PF_PATH_COUNT; path++) {
+        const char *name = pf_vector_path_name((pf_vector_path)path);
+        pf_phase_row_fn k = pf_phase_kernel_on((pf_vector_path)path);
+        pf_phase_segment_fn seg = pf_phase_segment_on((pf_vector_path)path);
+        if (!k || !seg) {
+            printf("skip %s: this processor cannot run it\n", name);
+            continue;
+        }
+        /* lengths with and without a plain tail */
+        for (size_t len = N - 3; len <= N; len++) {
+            k((double *)row, (const double *)p, 1.0, 0.0, len);
+            assert_int_equal(upper_state(), 0);
+        }
+        seg(row, p, p[1], p[2]);
+        assert_int_equal(upper_state(), 0);
+        assert_true(pf_cis_minus_on((pf_vector_path)path, phase, out, N));
+        assert_int_equal(upper_state(), 0);
+        assert_true(pf_cis_multiply_on((pf_vector_path)path, row, phase, N));
+        assert_int_equal(upper_state(), 0);
+        printf("ok the %s kernels return with clean upper register halves\n", name);
     }
 }
 
@@ -283,6 +349,7 @@ int main(int argc, char **argv)
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(cis_paths_agree),
         cmocka_unit_test(phase_paths_agree),
+        cmocka_unit_test(kernels_leave_upper_halves_clean),
         cmocka_unit_test(whole_runs_agree),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
