@@ -26,7 +26,7 @@ dist="$root/$build/bench/bench_dist"
 if [ -x "$dist" ] && command -v mpirun >/dev/null && ldd "$dist" | grep -q libfftw3_mpi; then
   export OMPI_ALLOW_RUN_AS_ROOT=1 OMPI_ALLOW_RUN_AS_ROOT_CONFIRM=1
   n=128; steps=10; [ "$mode" = quick ] && n=64 && steps=5
-  echo "== bench_dist (exact 3D flight, position -> position; time per step)"
+  echo "== bench_dist (exact 3D flight, position -> position; time per step; and one scaled-flight stage)"
   echo "strong scaling: ${n}^3"
   "$dist" $n $n $n $steps
   for r in 1 2; do mpirun -n $r --oversubscribe "$dist" $n $n $n $steps; done
