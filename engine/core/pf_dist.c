@@ -92,6 +92,7 @@ int pf_dist_running(void) { return 0; }
 int pf_dist_rank(void) { return 0; }
 int pf_dist_ranks(void) { return 1; }
 pf_status pf_dist_grid_attach(pf_grid *g) { (void)g; return PF_OK; }
+void pf_dist_planner_ready(void) {}
 void pf_dist_grid_release(pf_grid *g) { (void)g; }
 size_t pf_dist_local_values(const pf_grid *g) { return g->total; }
 pf_status pf_dist_wave_to(pf_wave *w, pf_rep rep) { return pf_dist_refuse(w->grid->ctx, "a distributed transform"); }
@@ -344,6 +345,11 @@ static void fftw_mpi_once(void)
         fftw_mpi_init();
         done = 1;
     }
+}
+
+void pf_dist_planner_ready(void)
+{
+    if (pf_dist_running()) fftw_mpi_once();
 }
 
 void pf_dist_grid_release(pf_grid *g)

@@ -365,6 +365,17 @@ static inline void pf_index_next(const pf_grid *g, size_t *idx)
  * pf_reduce_axis_moments of the wave in its representation; band_sum and
  * marginals serve the grid guards (pf_guard.c). */
 pf_status pf_dist_grid_attach(pf_grid *g);
+/* Registers FFTW-MPI's planners (fftw_mpi_init) once MPI runs: FFTW cannot
+ * import wisdom that names MPI plans before they are registered, so
+ * pf_context_prepare_planner calls this before it reads the wisdom file. */
+void pf_dist_planner_ready(void);
+/* One sample of a wave's storage in representation rep (pf_dist_ops.c):
+ * idx is the global multi-index in storage order (momentum: FFT order).
+ * On a distributed grid reading is collective (the rank holding the sample
+ * broadcasts it: every rank gets the same bits) and writing touches only
+ * the holder's slab; on a whole grid both index the array. */
+double complex pf_dist_stored_value(const pf_grid *g, pf_rep rep, const double complex *store, const size_t *idx);
+void pf_dist_store_value(const pf_grid *g, pf_rep rep, double complex *store, const size_t *idx, double complex v);
 /* Samples one rank will hold of a grid about to be made (total when it
  * will not be distributed), for the memory cap check before making it. */
 size_t pf_dist_planned_values(const pf_context *ctx, int dim, const size_t *points, size_t total);
