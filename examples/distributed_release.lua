@@ -1,6 +1,7 @@
 -- distributed_release.lua - a 87Rb condensate in the (invented) Tarnbrook
 -- Quay lab's elongated trap, found by imaginary-time relaxation and then
--- released, its interaction energy driving the expansion.  The same script
+-- released for a time of flight, its interaction energy driving the
+-- expansion on a grid that stretches with the cloud.  The same script
 -- runs as one process or spread over MPI ranks: pf.setup{distribute = true}
 -- splits the 3D grid into slabs along x when the runner was started by
 -- mpirun (docs/distributed.md), and every figure and file is the same to
@@ -25,7 +26,7 @@ local p = pf.parameters{
   scattering = {default = 100, type = "number", help = "s-wave scattering length in Bohr radii (about 100 for 87Rb; value from memory, check your own)", min = 1, max = 500},
   trap_long  = {default = 40, unit = "Hz", help = "trap frequency along x (the long, split axis)", min = 5},
   trap_tight = {default = 160, unit = "Hz", help = "trap frequency along y and z", min = 20},
-  release    = {default = 2, unit = "ms", help = "last time after release", min = 0.5, max = 10},
+  release    = {default = 15, unit = "ms", help = "time of flight after release", min = 0.5, max = 40},
 }
 local C = pf.constants                          -- CODATA 2018 (engine constants table)
 local mass = pf.mass("87Rb")                    -- AME2020 (engine species table)
@@ -35,9 +36,9 @@ local c = pf.coupling{scattering_length = p.scattering * C.a0, atoms = p.atoms, 
 -- size the grid: the condensate is a few times wider, the release more.
 local s = {}
 for a = 1, 3 do s[a] = math.sqrt(C.hbar / (2 * mass * omega[a])) end
-local grid = pf.grid{points = {48, 36, 36}, span = {22 * s[1], 40 * s[2], 40 * s[3]}}
+local grid = pf.grid{points = {64, 36, 36}, span = {30 * s[1], 40 * s[2], 40 * s[3]}}
 local info = pf.mpi_info()
-print(string.format("Tarnbrook Quay: 87Rb, N = %.3g, a = %g a0, trap %g x %g x %g Hz; grid 48 x 36 x 36 on %d rank(s)",
+print(string.format("Tarnbrook Quay: 87Rb, N = %.3g, a = %g a0, trap %g x %g x %g Hz; grid 64 x 36 x 36 on %d rank(s)",
   p.atoms, p.scattering, p.trap_long, p.trap_tight, p.trap_tight, info.distribute and info.ranks or 1))
 
 local trap = function(x, y, z)
@@ -55,12 +56,17 @@ h5:put_density("trapped_density", cloud)
 local rows = {t = {0}, sx = {}, sy = {}}
 rows.sx[1], rows.sy[1] = cloud:position_width()
 local flown, t_end = 0, p.release
+-- The release: w:expand evolves the mean field in the cloud's scaled frame,
+-- on a grid that stretches with the cloud (docs/expansion.md), so a long
+-- time of flight fits the trap's grid; each call continues the last one's
+-- frame.  Split over ranks, the grid keeps its slabs while it stretches.
 for _, t in ipairs({0.25 * t_end, 0.5 * t_end, 0.75 * t_end, t_end}) do
-  cloud:evolve(t - flown, {g = c.g})   -- no potential: the trap is off
+  cloud:expand(t - flown, {g = c.g})   -- the trap is off; release frequencies from the state
   flown = t
   local sx, sy = cloud:position_width()
   rows.t[#rows.t + 1], rows.sx[#rows.sx + 1], rows.sy[#rows.sy + 1] = t, sx, sy
-  print(string.format("t = %5.2f ms: rms widths %.3f um (x), %.3f um (y)", t * 1e3, sx * 1e6, sy * 1e6))
+  print(string.format("t = %5.2f ms: rms widths %.3f um (x), %.3f um (y); grid %.0f x %.0f um", t * 1e3, sx * 1e6,
+    sy * 1e6, cloud:grid():span(1) * 1e6, cloud:grid():span(2) * 1e6))
 end
 h5:put_density("released_density", cloud)
 h5:put_table("widths", {{"t", "s", rows.t}, {"sigma_x", "m", rows.sx}, {"sigma_y", "m", rows.sy}})

@@ -11,6 +11,7 @@
 #include <sys/mman.h>
 #include <sys/stat.h>
 #include <unistd.h>
+#include "pf_dist.h"
 #include "pf_internal.h"
 
 /* FFTW's planner and its thread layer are process-global.  We initialise the
@@ -49,6 +50,7 @@ void pf_context_release(pf_context *ctx)
 {
     if (!ctx || --ctx->refs > 0) return;
     free(ctx->wisdom_path);
+    pf_dist_plans_free(ctx); /* before FFTW's threads layer is cleaned up below */
     pf_context_free_plan_notes(ctx);
     free(ctx);
     if (--live_contexts == 0 && fftw_threads_ready) {
@@ -334,6 +336,11 @@ unsigned pf_context_prepare_planner(pf_context *ctx)
 {
     fftw_threads_once();
     fftw_plan_with_nthreads(ctx->threads);
+    /* Before the wisdom is read: a file saved by a distributed run names
+     * FFTW-MPI's plans, which FFTW only reads once they are registered
+     * (without this the whole file was refused and every rerun planned
+     * afresh). */
+    pf_dist_planner_ready();
     /* Estimate mode ignores wisdom on purpose: measured wisdom would make the
      * plan, and so the last bits of results, depend on this machine. */
     if (ctx->planning == PF_PLAN_MEASURE && ctx->wisdom_path && !ctx->wisdom_loaded) {
@@ -363,6 +370,10 @@ static void make_parent_dirs(const char *path)
 void pf_context_store_wisdom(pf_context *ctx)
 {
     if (ctx->planning != PF_PLAN_MEASURE || !ctx->wisdom_path) return;
+    /* On a distributed run rank 0 keeps the wisdom of all ranks
+     * (fftw_mpi_gather_wisdom); another rank's file would lack theirs and
+     * could replace it, since every rank sees the same path. */
+    if (ctx->distribute && pf_dist_rank() != 0) return;
     char tmp[4200];
     if (snprintf(tmp, sizeof tmp, "%s.tmp.%ld", ctx->wisdom_path, (long)getpid()) >= (int)sizeof tmp)
         return;

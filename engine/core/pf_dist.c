@@ -92,6 +92,7 @@ int pf_dist_running(void) { return 0; }
 int pf_dist_rank(void) { return 0; }
 int pf_dist_ranks(void) { return 1; }
 pf_status pf_dist_grid_attach(pf_grid *g) { (void)g; return PF_OK; }
+void pf_dist_planner_ready(void) {}
 void pf_dist_grid_release(pf_grid *g) { (void)g; }
 size_t pf_dist_local_values(const pf_grid *g) { return g->total; }
 pf_status pf_dist_wave_to(pf_wave *w, pf_rep rep) { return pf_dist_refuse(w->grid->ctx, "a distributed transform"); }
@@ -346,15 +347,17 @@ static void fftw_mpi_once(void)
     }
 }
 
+void pf_dist_planner_ready(void)
+{
+    if (pf_dist_running()) fftw_mpi_once();
+}
+
 void pf_dist_grid_release(pf_grid *g)
 {
     struct pf_dist_grid *D = g->dist;
     if (!D) return;
     pf_context *ctx = g->ctx;
-    if (D->fwd) fftw_destroy_plan(D->fwd);
-    if (D->bwd) fftw_destroy_plan(D->bwd);
-    if (D->nat_fwd) fftw_destroy_plan(D->nat_fwd);
-    if (D->nat_bwd) fftw_destroy_plan(D->nat_bwd);
+    /* The plans belong to the context's cache (pf_dist_plans). */
     pf_context_free(ctx, D->range[0]);
     pf_context_free(ctx, D->range[1]);
     pf_context_free(ctx, D->local_part);
@@ -376,7 +379,7 @@ pf_status pf_dist_grid_attach(pf_grid *g)
     const int d = g->dim;
     ptrdiff_t n[PF_MAX_DIM];
     for (int a = 0; a < d; a++) n[a] = (ptrdiff_t)g->n[a];
-    unsigned flags = pf_context_prepare_planner(ctx);
+    pf_context_prepare_planner(ctx);
     fftw_mpi_once();
     D->alloc = fftw_mpi_local_size_transposed(d, n, MPI_COMM_WORLD, &D->n0loc, &D->start0, &D->n1loc, &D->start1);
     D->plane = g->total / g->n[0];
@@ -419,30 +422,10 @@ pf_status pf_dist_grid_attach(pf_grid *g)
         D->range[1][2 * r + 1] = (size_t)all[4 * r + 3];
     }
     pf_context_free(ctx, all);
-    /* Plans: all ranks start from rank 0's wisdom (FFTW-MPI's broadcast),
-     * so they plan alike, and rank 0 keeps what everyone learnt. */
-    fftw_mpi_broadcast_wisdom(MPI_COMM_WORLD);
-    size_t bytes = pf_grid_local_bytes(g);
-    double complex *scratch = pf_alloc(ctx, bytes);
-    ok = scratch != NULL;
-    MPI_Allreduce(&ok, &all_ok, 1, MPI_INT, MPI_MIN, MPI_COMM_WORLD);
-    if (!all_ok) {
-        pf_context_free(ctx, scratch);
-        pf_dist_grid_release(g);
-        return ok ? pf_fail(ctx, PF_ENOMEM, "another MPI rank ran out of memory planning a distributed grid")
-                  : pf_context_status(ctx);
-    }
-    D->fwd = fftw_mpi_plan_dft(d, n, scratch, scratch, MPI_COMM_WORLD, FFTW_FORWARD, flags | FFTW_MPI_TRANSPOSED_OUT);
-    D->bwd = fftw_mpi_plan_dft(d, n, scratch, scratch, MPI_COMM_WORLD, FFTW_BACKWARD, flags | FFTW_MPI_TRANSPOSED_IN);
-    pf_free(ctx, scratch, bytes);
-    fftw_mpi_gather_wisdom(MPI_COMM_WORLD);
-    if (!D->fwd || !D->bwd) {
-        pf_dist_grid_release(g);
-        return pf_fail(ctx, PF_EFFT, "FFTW-MPI could not plan a distributed transform of %zu points", g->total);
-    }
-    if (D->rank == 0) pf_context_store_wisdom(ctx);
-    fftw_plan pair[2] = {D->fwd, D->bwd};
-    return pf_context_note_plans(ctx, "distributed", g, pair, 2);
+    /* Plans: shared with every grid of these counts (pf_dist_long.c). */
+    pf_status s = pf_dist_plans(g, 1, &D->fwd, &D->bwd);
+    if (s) pf_dist_grid_release(g);
+    return s;
 }
 
 /* ---- reductions ---- */

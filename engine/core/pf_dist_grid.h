@@ -20,9 +20,12 @@ struct pf_dist_grid {
     size_t tplane; /* values per axis-1 plane, transposed layout */
     size_t lay[2][PF_MAX_DIM]; /* axis lengths of the two layouts, slowest first */
     size_t *range[2];          /* per rank: global offsets lo, hi of its samples, per layout */
-    fftw_plan fwd, bwd;        /* TRANSPOSED_OUT forward, TRANSPOSED_IN backward */
+    /* TRANSPOSED_OUT forward, TRANSPOSED_IN backward; borrowed from the
+     * context's plan cache (pf_dist_plans), never destroyed with the grid. */
+    fftw_plan fwd, bwd;
     /* Forward and backward with the position slab layout on both sides,
-     * made on first use by a scaled flight (pf_dist_long.c); NULL before. */
+     * fetched on first use by a scaled flight (pf_dist_long.c; the cache's
+     * too); NULL before. */
     fftw_plan nat_fwd, nat_bwd;
     double *local_part;        /* block partials this rank completes */
     size_t local_part_cap;     /* doubles */

@@ -37,6 +37,10 @@ struct pf_context {
     pf_progress_fn progress;  /* told how long loops advance (pf_context_progress) */
     void *progress_user;
     int distribute;           /* split 2D/3D grids over MPI ranks (pf_dist.h) */
+    /* FFTW-MPI plans made on this context, one pair per point counts,
+     * layout, planner flags and threads, shared by every grid that needs
+     * them (pf_dist_long.c); NULL before the first. */
+    struct pf_dist_plan_cache *dist_plans;
 };
 
 /* 1D phase segments (pf_flight.c): the phase of point s of a segment that
@@ -361,6 +365,17 @@ static inline void pf_index_next(const pf_grid *g, size_t *idx)
  * pf_reduce_axis_moments of the wave in its representation; band_sum and
  * marginals serve the grid guards (pf_guard.c). */
 pf_status pf_dist_grid_attach(pf_grid *g);
+/* Registers FFTW-MPI's planners (fftw_mpi_init) once MPI runs: FFTW cannot
+ * import wisdom that names MPI plans before they are registered, so
+ * pf_context_prepare_planner calls this before it reads the wisdom file. */
+void pf_dist_planner_ready(void);
+/* One sample of a wave's storage in representation rep (pf_dist_ops.c):
+ * idx is the global multi-index in storage order (momentum: FFT order).
+ * On a distributed grid reading is collective (the rank holding the sample
+ * broadcasts it: every rank gets the same bits) and writing touches only
+ * the holder's slab; on a whole grid both index the array. */
+double complex pf_dist_stored_value(const pf_grid *g, pf_rep rep, const double complex *store, const size_t *idx);
+void pf_dist_store_value(const pf_grid *g, pf_rep rep, double complex *store, const size_t *idx, double complex v);
 /* Samples one rank will hold of a grid about to be made (total when it
  * will not be distributed), for the memory cap check before making it. */
 size_t pf_dist_planned_values(const pf_context *ctx, int dim, const size_t *points, size_t total);
@@ -380,6 +395,20 @@ pf_status pf_dist_marginals(const pf_wave *w, double **marg);
  * combined in rank order into the same bits on every rank (collective). */
 pf_status pf_dist_fft_natural(pf_grid *g, double complex *data, int sign);
 pf_status pf_dist_combine_marginals(const pf_grid *g, double **marg);
+/* The forward and backward FFTW-MPI plans of g's point counts (transposed:
+ * TRANSPOSED_OUT forward and TRANSPOSED_IN backward; else the slab layout
+ * on both sides), from ctx's cache or planned now (collective; every rank
+ * makes the same calls, so every rank's cache holds the same keys).  The
+ * plans belong to the cache, which pf_dist_plans_free destroys with the
+ * context: a plan depends on the counts, never on a grid's spacing, so the
+ * grids a scaled flight or an expansion makes at each stage plan once. */
+pf_status pf_dist_plans(pf_grid *g, int transposed, void *fwd, void *bwd);
+/* PF_ESTATE unless the grids a flight makes now from g (and target, when
+ * given) are split over the ranks exactly when g is: pf.setup{distribute}
+ * may change between a wave's making and its scaled flight or expansion,
+ * and a slab cannot move onto a whole grid (or back) in place. */
+pf_status pf_dist_check_regrid(const pf_grid *g, const pf_grid *target, const char *what);
+void pf_dist_plans_free(pf_context *ctx);
 /* For the split step (pf_splitstep.c): samples this rank holds in position
  * (g->total when whole); min / max of *lo, *hi and max of flag over all
  * ranks (no-ops when whole; min and max are exact, so the step chosen

@@ -202,12 +202,13 @@ pf_status pf_wave_fill(pf_wave *w, pf_rep rep, pf_sample_fn fn, void *user)
 
 pf_status pf_wave_value(pf_wave *w, pf_rep rep, const size_t *index, double complex *out)
 {
-    if (w->grid->dist) return pf_dist_refuse(w->grid->ctx, "reading one sample");
     pf_status s = check_index(w->grid, index);
     if (s) return s;
     s = pf_wave_to(w, rep);
     if (s) return s;
-    double complex v = w->store[offset_of(w->grid, index)];
+    /* A distributed wave: the holder of the sample broadcasts it. */
+    double complex v = w->grid->dist ? pf_dist_stored_value(w->grid, rep, w->store, index)
+                                     : w->store[offset_of(w->grid, index)];
     if (rep == PF_MOMENTUM) v *= pf_wave_momentum_factor(w, index);
     *out = v;
     return PF_OK;
@@ -215,7 +216,6 @@ pf_status pf_wave_value(pf_wave *w, pf_rep rep, const size_t *index, double comp
 
 pf_status pf_wave_set_value(pf_wave *w, pf_rep rep, const size_t *index, double complex v)
 {
-    if (w->grid->dist) return pf_dist_refuse(w->grid->ctx, "setting one sample");
     pf_status s = check_index(w->grid, index);
     if (s) return s;
     if (!isfinite(creal(v)) || !isfinite(cimag(v)))
@@ -223,7 +223,8 @@ pf_status pf_wave_set_value(pf_wave *w, pf_rep rep, const size_t *index, double 
     s = pf_wave_to(w, rep);
     if (s) return s;
     if (rep == PF_MOMENTUM) v /= pf_wave_momentum_factor(w, index);
-    w->store[offset_of(w->grid, index)] = v;
+    if (w->grid->dist) pf_dist_store_value(w->grid, rep, w->store, index, v); /* the holder's slab */
+    else w->store[offset_of(w->grid, index)] = v;
     pf_guard_forget(w); /* the data changed without a logged step */
     w->norm_now = -1.0;
     return PF_OK;

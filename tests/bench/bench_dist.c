@@ -7,16 +7,20 @@
  * transposed output, phase pass, backward transform) plus one norm to end
  * on a collective; prints one line on rank 0 with the time per step and the
  * bytes of one wave function per rank.  Without mpirun the same program
- * times the single-process flight (fused sweep), the reference row.  Every
+ * times the single-process flight (fused sweep), the reference row.  A
+ * second line times one stage of the scaled flight in the same run and
+ * its ratio to the exact step.  Every
  * rank makes the same calls, so the step count is fixed, never timed. */
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
+#include "pf_constants.h"
 #include "pf_context.h"
 #include "pf_dist.h"
 #include "pf_flight.h"
 #include "pf_grid.h"
 #include "pf_observe.h"
+#include "pf_scaled.h"
 #include "pf_wave.h"
 
 static int fill_gauss(void *user, const double *x, double complex *v)
@@ -64,6 +68,32 @@ int main(int argc, char **argv)
         printf("ranks %d  threads %d  grid %zux%zux%zu  %s  step %9.2f ms  one wave per rank %8.1f MiB\n",
                pf_dist_ranks(), threads, n[0], n[1], n[2], pf_grid_distributed(g) ? "distributed " : "one process ",
                ms, (double)pf_grid_local_bytes(g) / 1048576.0);
+    /* The scaled flight (single-FFT Fresnel form, docs/long-flights.md) in
+     * the same run, beside the exact flight: there and back (t, then -t onto
+     * the starting grid), each stage a chirp pass, one transform with the
+     * slab layout on both sides and a chirp pass.  Each stage makes its new
+     * grid, as a script's scaled flights do; the plans are the context's,
+     * made in the untimed first pair (pf_dist_plans).  At the chirp time
+     * m N dx^2 / (2 pi hbar) the output spacing is the input's, so the
+     * packet keeps its size on grids of the same span. */
+    const double tc = 1e-25 * (double)n[0] / ((double)n[0] * (double)n[0]) / (PF_TWO_PI * PF_HBAR);
+    pf_status st = pf_wave_fly_scaled(w, tc, NULL, NULL);
+    if (!st) st = pf_wave_fly_scaled(w, -tc, NULL, NULL);
+    t0 = pf_dist_seconds();
+    for (int i = 0; !st && i < steps; i++) {
+        st = pf_wave_fly_scaled(w, tc, NULL, NULL);
+        if (!st) st = pf_wave_fly_scaled(w, -tc, NULL, NULL);
+    }
+    (void)pf_wave_norm(w);
+    double ms_scaled = 1e3 * (pf_dist_seconds() - t0) / (2.0 * steps);
+    if (st) {
+        fprintf(stderr, "bench_dist: %s\n", pf_context_message(ctx));
+        return 1;
+    }
+    if (pf_dist_rank() == 0)
+        printf("ranks %d  threads %d  grid %zux%zux%zu  %s  scaled stage %9.2f ms  (%.2f exact steps)\n",
+               pf_dist_ranks(), threads, n[0], n[1], n[2], pf_grid_distributed(pf_wave_grid(w)) ? "distributed " : "one process ",
+               ms_scaled, ms_scaled / ms);
     pf_wave_free(w);
     pf_grid_release(g);
     pf_context_release(ctx);

@@ -96,7 +96,7 @@ end
 -- A function without a distributed path still refuses by name.
 do
   local w = fresh()
-  local ok, err = pcall(function() return w:psi(1, 1) end)
+  local ok, err = pcall(function() return w:psi_at(0, 0) end)
   print("refusal " .. (ok and "none" or (info.distribute and tostring(err):match("does not handle a wave function distributed") and "named" or "other")))
   w:close()
 end
