@@ -14,7 +14,7 @@ echo "first run on a machine spends extra time planning; later runs reuse the wi
 echo
 for b in "$root/$build"/bench/bench_*; do
   [ -x "$b" ] || continue
-  [ "$(basename "$b")" = bench_dist ] && continue # below, under mpirun
+  case "$(basename "$b")" in bench_dist | bench_dist_measure) continue ;; esac # below, under mpirun
   echo "== $(basename "$b")"
   "$b" $arg
   echo
@@ -33,6 +33,12 @@ if [ -x "$dist" ] && command -v mpirun >/dev/null && ldd "$dist" | grep -q libff
   echo "weak scaling: $((n / 2)) x ${n} x ${n} points per rank"
   "$dist" $((n / 2)) $n $n $steps
   for r in 1 2; do mpirun -n $r --oversubscribe "$dist" $((n / 2 * r)) $n $n $steps; done
+  echo
+  # Per-slab measurements (pf_dist_measure.c) beside the single process's
+  # whole-field path on the same grid.
+  echo "== bench_dist_measure (column densities and covariance of a ${n}^3 density; time per call)"
+  "$dist"_measure $n $n $n $steps
+  for r in 1 2; do mpirun -n $r --oversubscribe "$dist"_measure $n $n $n $steps; done
   echo
 else
   echo "(no FFTW-MPI build or no mpirun: distributed rows skipped)"

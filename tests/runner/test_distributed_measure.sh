@@ -185,8 +185,8 @@ for n in plain 1 2 3 4; do
   # process's summation (written out in the probe) of the table gathered in
   # the same run; in momentum this is the promise that has no one-process
   # reference of its own (the MPI transforms round differently).
-  flags=$(grep -E '^exact same_[xk] ' "$work/slab.$n.txt" | cut -d' ' -f3- | tr ' ' '\n' | sort -u | tr '\n' ' ')
-  [ "$(grep -c '^exact same_[xk] ' "$work/slab.$n.txt")" -eq 2 ] && [ "$flags" = "1 " ] &&
+  flags=$(grep -E '^exact same_[xk]2? ' "$work/slab.$n.txt" | cut -d' ' -f3- | tr ' ' '\n' | sort -u | tr '\n' ' ')
+  [ "$(grep -cE '^exact same_[xk]2? ' "$work/slab.$n.txt")" -eq 3 ] && [ "$flags" = "1 " ] &&
     ok "slab $n: per-slab marginals, radial profiles and covariances are the single process's sums of the gathered table" ||
     fail "slab $n: a per-slab figure differs from the single process's sum of the gathered table (flags: $flags)"
 done

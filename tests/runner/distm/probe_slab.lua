@@ -227,3 +227,39 @@ line("law kcov11", K[1][1], hbar * hbar * i11 / 4)
 line("law kcov13", K[1][3], hbar * hbar * i13 / 4)
 line("law kcov22", K[2][2], hbar * hbar * i22 / 4)
 w:close()
+
+-- A 2D wave (18 x 14: 4 ranks hold 5, 5, 5, 3 planes in position and 4, 4,
+-- 4, 2 of the transposed momentum layout, where runs along axis 2 are cut
+-- between ranks): momentum profiles, a slice and a radial profile, and the
+-- single process's summation of the gathered table.
+local g2 = pf.grid{points = {18, 14}, span = {24e-6, 20e-6}}
+local u = pf.wave(g2, {mass = mass, normalize = true, position = function(x, y)
+  local amp = math.exp(-(x * x / (1.8e-6) ^ 2 + y * y / (1.5e-6) ^ 2 + 0.6 * x * y / (1.6e-6) ^ 2) / 4)
+  local ph = 2e5 * x - 1e5 * y
+  return amp * math.cos(ph), amp * math.sin(ph)
+end})
+local function marginal2_of(dist, keep, steps)
+  local n, v, out, off = dist.shape, dist.values, {}, 0
+  local weight = 1
+  for ax = 1, 2 do if not keep[ax] then weight = weight * steps[ax] end end
+  local along = keep[1] and 1 or 2
+  for o = 1, n[along] do out[o] = 0 end
+  for i = 1, n[1] do
+    for j = 1, n[2] do
+      off = off + 1
+      local o = along == 1 and i or j
+      out[o] = out[o] + v[off] * weight
+    end
+  end
+  return out
+end
+local ku1 = u:profile(1, {space = "momentum"}).values
+local ku2 = u:profile(2, {space = "momentum"}).values
+list("flown k2profile1", ku1)
+list("flown k2profile2", ku2)
+list("flown k2slice", u:slice{axes = {2}, through = {1e5, 0}, space = "momentum"}.values)
+list("flown k2radial", u:radial_profile{center = {2e5, -1e5}, bin = 2e5, bins = 5, space = "momentum"}.values)
+local du = u:distribution{space = "momentum"}
+local steps2 = {g2:kspacing(1), g2:kspacing(2)}
+list("exact same_k2", {same(ku1, marginal2_of(du, {true, false}, steps2)), same(ku2, marginal2_of(du, {false, true}, steps2))})
+u:close()
