@@ -473,7 +473,8 @@ check_law '^arrived$' 1e-9 "all the probability arrives at the plane in the wind
 # Every other probe plans with "estimate"; here the runner's default
 # (pf.run_info().planning == "measure") makes measured plans, rank 0 reads
 # the wisdom file and broadcasts it (fftw_mpi_broadcast_wisdom), and gathers
-# every rank's wisdom after planning (fftw_mpi_gather_wisdom) and saves it.
+# every rank's wisdom after planning (fftw_mpi_gather_wisdom) and saves it
+# (in PATH-mpi: one-process runs keep PATH).
 # Each configuration starts from a fresh wisdom file in $work (not the
 # suite's shared one).  Checks: untransformed figures the single process's
 # bits; after the flight, evolve with g and the density-table covariance
@@ -500,9 +501,9 @@ for n in 1 2 4; do
   printf '%s\n' "$out" >"$work/dranks$n.txt"
   has "ranks $n distribute true" "default planning: mpirun -n $n distributed"
   has "planning measure" "default planning -n $n: measured plans"
-  [ -s "$work/dwis$n" ] && grep -q fftw_mpi "$work/dwis$n" &&
-    ok "default planning -n $n: rank 0 saved the gathered wisdom, FFTW-MPI's plans included" ||
-    fail "default planning -n $n: no FFTW-MPI wisdom saved in $work/dwis$n"
+  [ -s "$work/dwis$n-mpi" ] && grep -q fftw_mpi "$work/dwis$n-mpi" &&
+    ok "default planning -n $n: rank 0 saved the gathered wisdom, FFTW-MPI's plans included, in PATH-mpi" ||
+    fail "default planning -n $n: no FFTW-MPI wisdom saved in $work/dwis$n-mpi"
   /usr/bin/python3 "$work/compare.py" "$work/dplain.txt" "$work/dranks$n.txt" exact 0 >/dev/null &&
     ok "default planning -n $n: untransformed figures bit-identical to one process" ||
     fail "default planning -n $n: untransformed figures differ from one process"
@@ -518,6 +519,19 @@ for n in 1 2 4; do
   cmp -s "$work/dagain$n-1.txt" "$work/dagain$n-2.txt" &&
     ok "default planning -n $n: reruns with the saved wisdom are byte-identical" ||
     fail "default planning -n $n: reruns with the saved wisdom differ"
+  # One process with the same --wisdom PATH: FFTW refuses wisdom stamped
+  # with another set of planners, so distributed runs keep theirs in
+  # PATH-mpi and neither kind of run spoils the other's file.
+  expect 0 "default planning: one process with -n $n's wisdom path" -- "$runner" run "$dflt" --wisdom "$work/dwis$n"
+  case "$err" in *"could not be read"*) fail "default planning -n $n: a one-process run could not read PATH: $err" ;; esac
+  ! grep -q fftw_mpi "$work/dwis$n" 2>/dev/null &&
+    ok "default planning -n $n: one-process and distributed runs with one --wisdom PATH keep separate files, read without a warning" ||
+    fail "default planning -n $n: FFTW-MPI wisdom ended up in the one-process file $work/dwis$n"
+  expect 0 "default planning: mpirun -n $n after the one-process run" -- timeout 180 mpirun -n "$n" --oversubscribe "$runner" run "$dflt" --wisdom "$work/dwis$n"
+  case "$err" in *"could not be read"*) fail "default planning -n $n: PATH-mpi not read after a one-process run: $err" ;; esac
+  [ "$out" = "$(cat "$work/dagain$n-1.txt")" ] &&
+    ok "default planning -n $n: after a one-process run with the same PATH, still the reruns' bytes" ||
+    fail "default planning -n $n: the one-process run changed the distributed run's plans"
   worst=$(/usr/bin/python3 "$work/compare.py" "$work/dplain.txt" "$work/dagain$n-1.txt" flown 1e-14) &&
     ok "default planning -n $n: rerun within 1e-14 of one process (worst $worst)" ||
     fail "default planning -n $n: rerun differs from one process by more than 1e-14"
