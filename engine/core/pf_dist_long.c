@@ -24,6 +24,20 @@
 #include "pf_dist.h"
 #include "pf_internal.h"
 
+pf_status pf_dist_check_regrid(const pf_grid *g, const pf_grid *target, const char *what)
+{
+    /* pf_dist_grid_attach's rule for a grid made now. */
+    int now = g->ctx->distribute && g->dim >= 2 && pf_dist_running();
+    int split = g->dist != NULL;
+    if (now == split && (!target || (target->dist != NULL) == split)) return PF_OK;
+    return pf_fail(g->ctx, PF_ESTATE,
+                   "%s would move a wave %s onto a grid %s (pf.setup{distribute} changed since the wave was made, "
+                   "or the target grid was made under the other setting); set pf.setup{distribute = %s} again "
+                   "before this flight",
+                   what, split ? "split over MPI ranks" : "held whole", split ? "held whole" : "split over MPI ranks",
+                   split ? "true" : "false");
+}
+
 #ifndef PF_HAVE_DIST
 
 pf_status pf_dist_fft_natural(pf_grid *g, double complex *data, int sign)

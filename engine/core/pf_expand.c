@@ -418,6 +418,7 @@ pf_status pf_wave_expand(pf_wave *w, double t, const pf_expand_spec *spec, pf_ex
     info->handover_time = NAN;
     double norm = pf_wave_last_logged_norm(w);
     if (!(norm > 0)) return pf_fail(ctx, PF_EINVAL, "expand: the state is zero");
+    if ((s = pf_dist_check_regrid(w->grid, NULL, "expand"))) return s;
 
     frame f;
     memset(&f, 0, sizeof f);

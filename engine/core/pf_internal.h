@@ -403,6 +403,11 @@ pf_status pf_dist_combine_marginals(const pf_grid *g, double **marg);
  * context: a plan depends on the counts, never on a grid's spacing, so the
  * grids a scaled flight or an expansion makes at each stage plan once. */
 pf_status pf_dist_plans(pf_grid *g, int transposed, void *fwd, void *bwd);
+/* PF_ESTATE unless the grids a flight makes now from g (and target, when
+ * given) are split over the ranks exactly when g is: pf.setup{distribute}
+ * may change between a wave's making and its scaled flight or expansion,
+ * and a slab cannot move onto a whole grid (or back) in place. */
+pf_status pf_dist_check_regrid(const pf_grid *g, const pf_grid *target, const char *what);
 void pf_dist_plans_free(pf_context *ctx);
 /* For the split step (pf_splitstep.c): samples this rank holds in position
  * (g->total when whole); min / max of *lo, *hi and max of flag over all

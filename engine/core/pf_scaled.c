@@ -464,6 +464,7 @@ static pf_status fly_onto(pf_wave *w, double t, pf_grid *target, const char *tas
         return pf_fail(ctx, PF_EINVAL, "scaled flight: the target grid must have the wave's dimension (%d)", w->grid->dim);
     if (target->ctx != ctx) return pf_fail(ctx, PF_EINVAL, "scaled flight: the target grid belongs to another context");
     s = check_split_points(w, target->n, "a scaled flight onto a grid");
+    if (!s) s = pf_dist_check_regrid(w->grid, target, "a scaled flight");
     if (s) return s;
     double t1[PF_MAX_DIM], t2[PF_MAX_DIM];
     int two = stage_times(w, t, target->n, target->dx, t1, t2);
@@ -513,6 +514,7 @@ pf_status pf_wave_fly_scaled(pf_wave *w, double t, const size_t *points, const d
             return pf_fail(gin->ctx, PF_EINVAL, "scaled flight: centre on axis %d must be finite", a + 1);
     }
     s = check_split_points(w, n, "a scaled flight");
+    if (!s) s = pf_dist_check_regrid(gin, NULL, "a scaled flight");
     if (!s) s = check_image_span(gin->ctx, t, span, gin->dim);
     if (s) return s;
     pf_grid *gout;
@@ -569,6 +571,7 @@ static pf_status fly_long(pf_wave *w, double t, const pf_long_flight_opts *o, pf
         size_t want[PF_MAX_DIM];
         for (int a = 0; a < d; a++) want[a] = o->grid ? o->grid->n[a] : o->points[a] ? o->points[a] : g->n[a];
         pf_status s0 = check_split_points(w, want, "a long flight");
+        if (!s0 && (o->grid || o->method == PF_FLIGHT_SCALED)) s0 = pf_dist_check_regrid(g, o->grid, "a long flight");
         if (s0) return s0;
     }
     if (t == 0) {

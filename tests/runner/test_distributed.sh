@@ -97,6 +97,7 @@ for n in 1 2 3 4; do
   has "ranks $n distribute true" "long: mpirun -n $n distributed"
   has "refusal points named" "long -n $n: fly_scaled onto other point counts refused by name at the script line"
   has "refusal long_points named" "long -n $n: fly_long onto other point counts refused by name"
+  has "refusal toggled 3 of 3 named" "long -n $n: after pf.setup{distribute = false} fly_scaled, fly_long and expand refuse to regrid a split wave"
   /usr/bin/python3 "$work/compare.py" "$work/xplain.txt" "$work/xranks$n.txt" exact 0 >/dev/null &&
     ok "long -n $n: the new grids' spacings and origins are the single process's" || fail "long -n $n: new grids differ"
   [ "$(grep '^text' "$work/xplain.txt")" = "$(grep '^text' "$work/xranks$n.txt")" ] &&

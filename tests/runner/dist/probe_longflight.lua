@@ -153,5 +153,18 @@ if info.distribute then
   local ok2, err2 = pcall(function() w6:fly_long(t1, {points = {18, 16, 32}}) end)
   named = not ok2 and tostring(err2):match("keeps the wave's point counts")
   print("refusal long_points " .. (named and "named" or tostring(err2)))
+  -- pf.setup{distribute = false} after the wave was made: new grids would
+  -- be whole while the wave is split; scaled flights and expansions refuse.
+  pf.setup{distribute = false}
+  local toggled = 0
+  for _, f in ipairs({function() w6:fly_scaled(t1) end, function() w6:fly_long(t1, {method = "scaled"}) end,
+      function() w6:expand(1e-3, {omega = {100, 100, 100}}) end}) do
+    local okt, errt = pcall(f)
+    if not okt and tostring(errt):match("probe_longflight%.lua:%d+:") and tostring(errt):match("distribute} changed") then
+      toggled = toggled + 1
+    end
+  end
+  pf.setup{distribute = true}
+  print("refusal toggled " .. toggled .. " of 3 named")
   line("refused norm", w6:norm())
 end
