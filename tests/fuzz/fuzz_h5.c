@@ -4,6 +4,15 @@
  * the grid taken from the file, given, or interpolated onto), which covers
  * pf_h5_read and the transfer in pf_samples.c.
  *
+ * The slab reads pf.load_wave makes on a grid split over MPI ranks
+ * (pfl_files.c: a first read of one entry of axis 0 for the shape, then
+ * each rank's share of the split axis) are driven here directly through
+ * pf_h5_read, for every source above (slab_reads): each rank's share of 2
+ * and 3 ranks with the interpolation margin must give exactly the values a
+ * whole read gives there, every result's bytes must be charged to the
+ * memory cap and given back when freed, and slabs outside the dataset
+ * (past its end, overflowing size_t, on an axis it lacks) must be refused.
+ *
  * The input is the file's content.  Seeds (corpus/h5) hold psiflight items
  * written by the engine and plain datasets written by h5py, with the names
  * used below.
@@ -44,11 +53,14 @@
 #include <errno.h>
 #include <execinfo.h>
 #include <hdf5.h>
+#include <limits.h>
 #include <poll.h>
 #include <signal.h>
 #include <sys/prctl.h>
 #include <sys/wait.h>
 #include "../../engine/io/pf_fault.h"
+#include "../../engine/io/pf_h5.h"
+#include "../../engine/io/pf_samples.h"
 
 int LLVMFuzzerInitialize(int *argc, char ***argv);
 const char *__asan_default_options(void);
@@ -110,6 +122,152 @@ static const char load_calls[] =
     "  pcall(pf.load_wave, path, o)\n"
     "end\n"
     "end\n";
+
+/* ---- the slab reads of a distributed pf.load_wave ---- */
+
+/* The sources load_calls names, as pf_h5_source (plain datasets: rep -1 is
+ * position), plus 3D plain datasets. */
+static const pf_h5_source SLAB_SOURCES[] = {
+    {.item = "wave", .rep = -1},
+    {.item = "wave", .rep = PF_MOMENTUM},
+    {.item = "rho", .rep = -1},
+    {.dataset = "psi", .rep = -1},
+    {.dataset = "psi", .axes = {"x"}, .rep = -1},
+    {.dataset = "psi2", .axes = {"x"}, .rep = -1},
+    {.real = "re", .imag = "im", .axes = {"x"}, .rep = -1},
+    {.dataset = "psi2d", .axes = {"x", "y"}, .rep = -1},
+    {.dataset = "psi2d", .rep = PF_MOMENTUM},
+    {.dataset = "psi3d", .axes = {"x", "y", "z"}, .rep = -1},
+    {.real = "re3", .imag = "im3", .rep = PF_MOMENTUM},
+};
+
+/* The cap fuzz_lua gives the engine. */
+#define SLAB_CAP ((size_t)256 << 20)
+
+static void slab_broken(const char *what, const pf_h5_source *src, int axis, size_t first, size_t count)
+{
+    fprintf(say, "fuzz_h5: slab read (source %s, axis %d, entries from %zu, %zu of them): %s\n",
+            src->item ? src->item : src->dataset ? src->dataset : src->real, axis, first, count, what);
+    abort();
+}
+
+static void quiet_warning(void *user, const char *text) { (void)user, (void)text; }
+
+/* One read of [first, first + count) of axis (count 0: all), with the
+ * promises every read keeps: a success holds exactly that slab, its bytes
+ * charged to the cap; a failure says why; nothing stays charged after
+ * pf_samples_free.  Returns the status, out kept for the caller on success
+ * (the caller frees it). */
+static pf_status slab_read(pf_context *ctx, const char *path, const pf_h5_source *base, int axis, size_t first,
+                           size_t count, pf_samples *out)
+{
+    pf_h5_source src = *base;
+    src.slab_axis = axis;
+    src.slab_first = first;
+    src.slab_count = count;
+    const size_t before = pf_context_memory_used(ctx);
+    pf_status st = pf_h5_read(ctx, path, &src, out);
+    if (st) {
+        const char *m = pf_context_message(ctx);
+        if (!m || !*m) slab_broken("failed without a message", base, axis, first, count);
+        if (pf_context_memory_used(ctx) != before) slab_broken("a failed read left bytes charged", base, axis, first, count);
+        return st;
+    }
+    if (!out->values || out->dim < 1 || out->dim > PF_MAX_DIM) slab_broken("no values or a bad rank", base, axis, first, count);
+    if (count) {
+        if (out->slab_axis != axis || out->slab_first != first || out->slab_count != count)
+            slab_broken("the result does not say it holds the slab asked for", base, axis, first, count);
+        if (axis < 0 || axis >= out->dim || first > out->n[axis] || count > out->n[axis] - first)
+            slab_broken("a slab outside the dataset was read", base, axis, first, count);
+    } else if (out->slab_count) {
+        slab_broken("a whole read holds a slab", base, axis, first, count);
+    }
+    size_t values = pf_samples_count(out);
+    if (out->charged_ctx != ctx || out->charged < values * sizeof(double complex) ||
+        pf_context_memory_used(ctx) < before + out->charged || pf_context_memory_used(ctx) > SLAB_CAP)
+        slab_broken("the result's bytes are not charged to the memory cap", base, axis, first, count);
+    return st;
+}
+
+static void slab_free(pf_context *ctx, pf_samples *s, size_t before, const pf_h5_source *src)
+{
+    pf_samples_free(s);
+    if (pf_context_memory_used(ctx) != before) slab_broken("freeing the samples did not give their bytes back", src, -1, 0, 0);
+}
+
+/* A slab's values against the whole read's at the same entries, bit for
+ * bit, and the (whole) coordinate axes alike. */
+static void slab_compare(const pf_samples *whole, const pf_samples *part, const pf_h5_source *src)
+{
+    if (part->dim != whole->dim) slab_broken("slab and whole reads differ in rank", src, part->slab_axis, part->slab_first, part->slab_count);
+    for (int b = 0; b < whole->dim; b++) {
+        if (part->n[b] != whole->n[b]) slab_broken("slab and whole reads differ in shape", src, part->slab_axis, part->slab_first, part->slab_count);
+        if ((part->axis[b] == NULL) != (whole->axis[b] == NULL) ||
+            (part->axis[b] && memcmp(part->axis[b], whole->axis[b], whole->n[b] * sizeof(double)) != 0))
+            slab_broken("slab and whole reads differ in a coordinate axis", src, part->slab_axis, part->slab_first, part->slab_count);
+    }
+    size_t held[PF_MAX_DIM], total = pf_samples_count(part);
+    for (int b = 0; b < part->dim; b++) held[b] = pf_samples_held(part, b);
+    for (size_t i = 0; i < total; i++) {
+        size_t rest = i, at = 0, stride = 1;
+        for (int b = part->dim - 1; b >= 0; b--) {
+            size_t j = rest % held[b];
+            rest /= held[b];
+            if (b == part->slab_axis) j += part->slab_first;
+            at += j * stride;
+            stride *= whole->n[b];
+        }
+        if (memcmp(&part->values[i], &whole->values[at], sizeof(double complex)) != 0)
+            slab_broken("a slab's value differs from the whole read's", src, part->slab_axis, part->slab_first, part->slab_count);
+    }
+}
+
+/* The reads of pf.load_wave on a distributed grid, for each source: the
+ * first read of one entry of axis 0, then the split axis's shares (axis 0
+ * in position, 1 in momentum: pf_samples_slab_for) for 2 and 3 ranks with
+ * one entry of margin each side, then hostile slabs. */
+static void slab_reads(const char *path)
+{
+    static pf_context *ctx;
+    if (!ctx) {
+        ctx = pf_context_new();
+        if (!ctx || pf_context_set_memory_cap(ctx, SLAB_CAP) != PF_OK) abort();
+        pf_context_set_warn_handler(ctx, quiet_warning, NULL);
+    }
+    const size_t base = pf_context_memory_used(ctx);
+    for (size_t k = 0; k < sizeof SLAB_SOURCES / sizeof SLAB_SOURCES[0]; k++) {
+        const pf_h5_source *src = &SLAB_SOURCES[k];
+        pf_samples meta, whole, part;
+        memset(&whole, 0, sizeof whole);
+        if (slab_read(ctx, path, src, 0, 0, 1, &meta) != PF_OK) continue;
+        const int dim = meta.dim, a = meta.rep == PF_MOMENTUM && dim > 1 ? 1 : 0;
+        const size_t n = meta.n[a];
+        slab_free(ctx, &meta, base, src);
+        int have_whole = slab_read(ctx, path, src, 0, 0, 0, &whole) == PF_OK;
+        const size_t with_whole = pf_context_memory_used(ctx);
+        for (size_t ranks = 2; ranks <= 3; ranks++)
+            for (size_t r = 0; r < ranks; r++) {
+                size_t f = r * (n / ranks), e = r + 1 == ranks ? n : (r + 1) * (n / ranks);
+                f = f ? f - 1 : 0;
+                e = e < n ? e + 1 : n;
+                if (e <= f) continue;
+                if (slab_read(ctx, path, src, a, f, e - f, &part) != PF_OK) continue;
+                if (have_whole) slab_compare(&whole, &part, src);
+                slab_free(ctx, &part, with_whole, src);
+            }
+        const struct { int axis; size_t first, count; } hostile[] = {
+            {a, n, 1}, {a, n - 1, 2}, {a, 0, n + 1}, {a, SIZE_MAX, 1}, {a, 1, SIZE_MAX}, {a, SIZE_MAX, SIZE_MAX},
+            {a, n / 2, SIZE_MAX - n / 2 + 1}, {dim, 0, 1}, {-1, 0, 1}, {PF_MAX_DIM, 0, 1}, {INT_MAX, 0, 1},
+        };
+        for (size_t h = 0; h < sizeof hostile / sizeof hostile[0]; h++) {
+            if (hostile[h].count == 0) continue; /* n + 1 wrapped: 0 asks for everything */
+            if (slab_read(ctx, path, src, hostile[h].axis, hostile[h].first, hostile[h].count, &part) == PF_OK)
+                slab_broken("a slab outside the dataset was accepted", src, hostile[h].axis, hostile[h].first,
+                            hostile[h].count);
+        }
+        if (have_whole) slab_free(ctx, &whole, base, src);
+    }
+}
 
 /* ---- the oracle process ---- */
 
@@ -198,6 +356,7 @@ static void oracle_main(int in, int out)
         const char *path = fuzz_write_file("oracle.h5", buf, size);
         if (!L) L = fuzz_probe_state(load_calls);
         fuzz_probe_in(L, path);
+        slab_reads(path);
         deliberate_fault();
         if (write_full(out, "k", 1) != 0) _exit(0);
     }
@@ -329,7 +488,9 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
     }
     static lua_State *L;
     if (!L) L = fuzz_probe_state(load_calls);
-    fuzz_probe_in(L, fuzz_write_file("input.h5", data, size));
+    const char *path = fuzz_write_file("input.h5", data, size);
+    fuzz_probe_in(L, path);
+    slab_reads(path);
     if (own_crash) {
         fprintf(say, "fuzz_h5: the in-process parse did not crash; the oracle's failure stands\n");
         abort();
