@@ -84,7 +84,8 @@ awk -v m="$law" 'BEGIN { exit !(m < 1e-8) }' &&
 
 # Long flights (probe_longflight.lua): w:fly_scaled, w:fly_long choosing
 # the scaled or the same-grid method from extents reduced over the ranks,
-# its fly-back after a scaled flight, two stages onto a chosen spacing, a
+# its fly-back after a scaled flight, two stages onto a chosen spacing, the
+# grid advisor and the far-field image of a split wave, a
 # backward flight on a 2D sheet, a long flight under gravity; 18 planes (5, 5, 5, 3 on 4 ranks) and 21
 # planes (6, 6, 6, 3).  The new grids keep the point counts, so the ranks
 # keep their slabs.

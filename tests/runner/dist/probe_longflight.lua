@@ -156,6 +156,23 @@ figures(w9, "cropped")
 local l9 = w9:log()
 line("flown cropped_removed", l9[#l9].removed, l9[#l9].norm)
 
+-- 5c. The grid advisor reads the state's extents (combined over the ranks)
+-- and the far-field image the momentum density (gathered in global order).
+local w10 = packet(g)
+local adv = w10:grid_advice{time = t1}
+print("text advice same " .. table.concat(adv.same_grid.points, " ") .. " scaled " ..
+  table.concat(adv.scaled.output.points, " "))
+line("flown advice_same_span", table.unpack(adv.same_grid.span))
+line("flown advice_scaled_span", table.unpack(adv.scaled.output.span))
+local img, fi = w10:far_field(t1)
+local peak, sum = 0, 0
+for i = 1, #img do
+  peak = math.max(peak, img[i])
+  sum = sum + img[i]
+end
+line("flown farfield", peak, sum * fi.spacing[1] * fi.spacing[2] * fi.spacing[3])
+line("flown farfield_fraunhofer", table.unpack(fi.fraunhofer))
+
 -- 6. Another count on the split axis is refused by name at the script line,
 -- nothing lost.
 if info.distribute then
