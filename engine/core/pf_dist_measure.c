@@ -36,6 +36,8 @@ void pf_field_geometry(const pf_grid *g, pf_rep rep, pf_field *out)
     }
 }
 
+int pf_dist_flag_any(const pf_grid *g, int flag) { return pf_dist_any(g, flag); }
+
 #ifndef PF_HAVE_DIST
 
 pf_status pf_dist_marginal(pf_wave *w, pf_rep rep, const pf_field *geom, const int *keep, pf_field *out)
@@ -586,7 +588,8 @@ typedef struct region_job {
 static double region_weight(const pf_grid *g, const pf_region *r, const size_t *idx)
 {
     const int d = g->dim;
-    if (r->kind == PF_REGION_MASK) return r->mask[(idx[0] * g->n[1] + idx[1]) * (d == 3 ? g->n[2] : 1) + (d == 3 ? idx[2] : 0)];
+    if (r->kind == PF_REGION_MASK)
+        return r->mask[(idx[0] * g->n[1] + idx[1]) * (d == 3 ? g->n[2] : 1) + (d == 3 ? idx[2] : 0) - r->mask_first];
     double x[PF_MAX_DIM];
     for (int a = 0; a < d; a++) x[a] = g->x[a][idx[a]];
     int in = 1;

@@ -48,6 +48,9 @@ pf_status pf_dist_region_probability(pf_wave *w, const pf_region *r, double *p);
  * rank keeps only its slab, the events and the entry sums of its runs. */
 pf_status pf_dist_draw_events(pf_wave *w, pf_rep rep, const pf_field *geom, pf_rng *rng, size_t count, int jitter,
                          double *out);
+/* 1 on every rank when flag is set on any rank of g's split (flag itself
+ * when g is held whole): a failure of one rank's own work fails all. */
+int pf_dist_flag_any(const pf_grid *g, int flag);
 /* The column density along the last axis of a 3D wave, n0 x n1 values
  * (sum over the row in order, times the last axis's spacing), as
  * pf.picture_map draws it, on every rank. */

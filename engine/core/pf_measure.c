@@ -35,9 +35,10 @@ pf_status pf_region_check(const pf_grid *g, const pf_region *r)
         return PF_OK;
     case PF_REGION_MASK:
         if (!r->mask) return pf_fail(g->ctx, PF_EINVAL, "mask region has no weights");
-        for (size_t i = 0; i < g->total; i++)
+        for (size_t i = 0; i < (r->mask_count ? r->mask_count : g->total); i++)
             if (!(r->mask[i] >= 0 && r->mask[i] <= 1))
-                return pf_fail(g->ctx, PF_EINVAL, "mask weight %zu must lie in [0, 1], got %g", i + 1, r->mask[i]);
+                return pf_fail(g->ctx, PF_EINVAL, "mask weight %zu must lie in [0, 1], got %g", r->mask_first + i + 1,
+                               r->mask[i]);
         return PF_OK;
     }
     return pf_fail(g->ctx, PF_EINVAL, "unknown region kind %d", (int)r->kind);
@@ -48,6 +49,7 @@ pf_status pf_region_weights(const pf_grid *g, const pf_region *r, double *out)
     pf_status s = pf_region_check(g, r);
     if (s) return s;
     if (r->kind == PF_REGION_MASK) {
+        if (r->mask_count) return pf_fail(g->ctx, PF_ESTATE, "a mask sampled on one MPI rank's points has no whole table");
         memcpy(out, r->mask, g->total * sizeof(double));
         return PF_OK;
     }

@@ -27,6 +27,10 @@ typedef struct pf_region {
     double normal[PF_MAX_DIM];             /* half-space: normal pointing into the region */
     double radius;                         /* ball radius (m) */
     const double *mask;                    /* mask: pf_grid_total weights, row-major natural order; borrowed */
+    /* A mask of a grid split over MPI ranks may hold only this rank's
+     * points: mask[i] is the weight of global offset mask_first + i, for
+     * mask_count points (0: every point of the grid, mask_first 0). */
+    size_t mask_first, mask_count;
 } pf_region;
 
 /* Checks the region's numbers against grid g (finite, ordered corners,

@@ -207,6 +207,45 @@ static double cropped_probability(const pf_wave *w, const long *shift, const siz
     return norm > 0 ? lost * pf_grid_cell_volume(g) / norm : 0;
 }
 
+typedef struct crop_job {
+    const pf_wave *w;
+    const long *shift;
+    const size_t *nout;
+} crop_job;
+
+/* One block of a split wave's cropped probability: local offsets, the
+ * global multi-index of begin (position layout) carried along. */
+static void crop_block(void *user, size_t begin, size_t end, const size_t *start, double *acc)
+{
+    const crop_job *job = user;
+    const pf_grid *g = job->w->grid;
+    const double complex *z = job->w->store;
+    size_t idx[PF_MAX_DIM] = {start[0], start[1], start[2]};
+    for (size_t off = begin; off < end; off++) {
+        int outside = 0;
+        for (int a = 0; a < g->dim; a++) {
+            long o = (long)idx[a] + job->shift[a];
+            if (o < 0 || o >= (long)job->nout[a]) outside = 1;
+        }
+        if (outside) acc[0] += creal(z[off]) * creal(z[off]) + cimag(z[off]) * cimag(z[off]);
+        for (int a = g->dim - 1; a >= 0; a--) {
+            if (++idx[a] < g->n[a]) break;
+            idx[a] = 0;
+        }
+    }
+}
+
+/* cropped_probability of a wave split over MPI ranks: fixed blocks in
+ * global order over the ranks (pf_dist_reduce), the same bits on every
+ * rank and at every rank count. */
+static double split_cropped_probability(pf_wave *w, const long *shift, const size_t *nout, double norm)
+{
+    crop_job job = {w, shift, nout};
+    double lost = 0;
+    pf_dist_reduce(w->grid, PF_POSITION, 1, crop_block, &job, &lost);
+    return norm > 0 ? lost * pf_grid_cell_volume(w->grid) / norm : 0;
+}
+
 /* Progress of a long flight inside its method: each scaled stage is three
  * passes (input chirp, FFT, output chirp), each reported to the context as
  * the fraction done of the whole call under the caller's task name
@@ -241,7 +280,8 @@ static pf_status scaled_stage(pf_wave *w, const double *ta, pf_grid *gout, doubl
         if (gout->n[a] < gin->n[a]) cropped = 1;
     }
     if (cropped) {
-        *removed = cropped_probability(w, shift, gout->n, norm);
+        *removed = gin->dist ? split_cropped_probability(w, shift, gout->n, norm)
+                             : cropped_probability(w, shift, gout->n, norm);
         double thr = pf_context_guard_threshold(ctx);
         if (*removed > thr)
             pf_context_warn(ctx,
@@ -253,7 +293,7 @@ static pf_status scaled_stage(pf_wave *w, const double *ta, pf_grid *gout, doubl
      * storage are never held at the same time. */
     pf_status s = gout->dist ? PF_OK : pf_grid_plan(gout); /* a split grid plans at its first FFT */
     if (s) return s;
-    size_t bytes = pf_bytes(gout->total, sizeof(double complex));
+    size_t bytes = pf_grid_local_bytes(gout); /* this rank's share when split */
     /* Same point count: the stage runs in place, with no new storage (the
      * usual case, and the one the benchmark measures). */
     const int in_place = !padded && !cropped;
@@ -291,22 +331,22 @@ static pf_status scaled_stage(pf_wave *w, const double *ta, pf_grid *gout, doubl
         pf_scaled_chirp_tables(w->mass, ta[a], gout->n[a], gin->dx[a], gout->dx[a], gout->origin[a] - gin->origin[a], pre[a],
                      post[a]);
     }
-    const shape3 si = shape_of(gin), so = shape_of(gout);
+    shape3 si = shape_of(gin), so = shape_of(gout);
     const double complex *P[3], *Q[3];
     slot_tables(&so, pre, P);
     slot_tables(&so, post, Q);
-    /* A grid split over MPI ranks (same point count, so in place and with
-     * the input's slabs): the chirp passes run over this rank's planes of
-     * axis 0 (slot lead), with the axis-0 tables read from its first plane;
-     * each point gets the single process's factors. */
-    shape3 sl = so;
+    /* A grid split over MPI ranks (the same count on axis 0, so the same
+     * planes in and out): the passes and the padded or cropped copy run over
+     * this rank's planes of axis 0 (slot lead), with the axis-0 tables read
+     * from its first plane; each point gets the single process's factors. */
     if (gout->dist) {
         size_t first, count;
         pf_grid_slab(gout, PF_POSITION, &first, &count);
-        sl.n[so.lead] = count;
+        si.n[so.lead] = so.n[so.lead] = count;
         P[so.lead] += first;
         Q[so.lead] += first;
     }
+    const shape3 sl = so;
     long sh[3] = {0, 0, 0};
     for (int a = 0; a < d; a++) sh[so.lead + a] = shift[a];
     /* Input index range that lands inside the output box, per slot. */
@@ -351,7 +391,7 @@ static pf_status scaled_stage(pf_wave *w, const double *ta, pf_grid *gout, doubl
     pass_done(ctx, pp);
     pf_context_free(ctx, tables);
     /* Move the wave to its new grid. */
-    if (!in_place) pf_free(ctx, w->store, pf_bytes(gin->total, sizeof(double complex)));
+    if (!in_place) pf_free(ctx, w->store, pf_grid_local_bytes(gin));
     w->store = out;
     pf_grid_retain(gout);
     w->grid = gout;
@@ -432,22 +472,20 @@ static pf_status check_time(pf_context *ctx, double t)
     return PF_OK;
 }
 
-/* On a grid split over MPI ranks a scaled flight keeps the point counts:
- * the output grid then has the input's slabs (FFTW-MPI's split depends on
- * the counts only), so every rank keeps its planes.  Padding or cropping
- * would move samples between ranks' slabs, which is not done (yet). */
+/* On a grid split over MPI ranks a scaled flight keeps the point count of
+ * the first axis: FFTW-MPI's position slabs depend on that count only, so
+ * the output grid has the input's planes and every rank keeps its own
+ * (padding or cropping the other axes happens inside each plane).  Another
+ * count on the first axis would move planes between ranks. */
 static pf_status check_split_points(const pf_wave *w, const size_t *n, const char *what)
 {
     const pf_grid *g = w->grid;
-    if (!g->dist) return PF_OK;
-    for (int a = 0; a < g->dim; a++)
-        if (n[a] != g->n[a])
-            return pf_fail(g->ctx, PF_EINVAL,
-                           "%s of a wave distributed over %d MPI ranks keeps the wave's point counts: %zu points on "
-                           "axis %d (the wave has %zu) would pad or crop across the ranks' slabs, which would move "
-                           "samples between ranks; give the wave's own counts (docs/distributed.md)",
-                           what, pf_dist_ranks(), n[a], a + 1, g->n[a]);
-    return PF_OK;
+    if (!g->dist || n[0] == g->n[0]) return PF_OK;
+    return pf_fail(g->ctx, PF_EINVAL,
+                   "%s of a wave distributed over %d MPI ranks keeps the point count of axis 1, the axis split "
+                   "over the ranks: %zu points on axis 1 (the wave has %zu) would move planes between ranks; give "
+                   "%zu there (the other axes may change; docs/distributed.md)",
+                   what, pf_dist_ranks(), n[0], g->n[0], g->n[0]);
 }
 
 static pf_status fly_onto(pf_wave *w, double t, pf_grid *target, const char *task);

@@ -7,6 +7,7 @@
 #include <string.h>
 #include "../core/pf_collapse.h"
 #include "../core/pf_constants.h"
+#include "../core/pf_dist.h"
 #include "../core/pf_dist_measure.h"
 #include "../core/pf_frame.h"
 #include "../core/pf_observe.h"
@@ -121,6 +122,7 @@ typedef struct pfl_region_box {
     pf_grid *cache_grid;  /* grid the cached mask was evaluated on (retained) */
     double cache_offset[PF_MAX_DIM]; /* lab offset of that grid's points (frame position X) */
     size_t mask_n;        /* entries of a mask given as a table */
+    int cache_local;      /* the cached mask holds only this MPI rank's points */
 } pfl_region_box;
 
 static pfl_region_box *new_region(lua_State *L, pf_region_kind kind)
@@ -229,7 +231,53 @@ static int l_mask(lua_State *L)
     return 1;
 }
 
+/* A mask function's weights at this rank's points of a split grid
+ * (global offsets [begin, end)) into v; the function runs protected, so a
+ * failure on one rank fails every rank instead of leaving the others
+ * waiting in the next collective call. */
+static void sample_local_mask(lua_State *L, int fn, pf_grid *g, const double *offset, size_t begin, size_t end, double *v)
+{
+    int d = pf_grid_dim(g);
+    size_t idx[PF_MAX_DIM] = {0, 0, 0}, rest = begin;
+    for (int a = d - 1; a >= 0; a--) {
+        idx[a] = rest % pf_grid_points(g, a);
+        rest /= pf_grid_points(g, a);
+    }
+    char msg[256] = "";
+    for (size_t off = begin; off < end && !msg[0]; off++) {
+        lua_pushvalue(L, fn);
+        for (int a = 0; a < d; a++) lua_pushnumber(L, pf_grid_x(g, a, idx[a]) + offset[a]);
+        if (lua_pcall(L, d, 1, 0) != LUA_OK) {
+            snprintf(msg, sizeof msg, "mask: the function failed at point %d: %s", (int)off + 1,
+                     lua_type(L, -1) == LUA_TSTRING ? lua_tostring(L, -1) : "(no message)");
+        } else {
+            int ok = lua_type(L, -1) == LUA_TNUMBER;
+            v[off - begin] = lua_tonumber(L, -1);
+            if (!ok || !(v[off - begin] >= 0 && v[off - begin] <= 1))
+                snprintf(msg, sizeof msg, "mask: the function must return a weight in [0, 1], got %s at point %d",
+                         ok ? lua_tostring(L, -1) : luaL_typename(L, -1), (int)off + 1);
+        }
+        lua_pop(L, 1);
+        for (int a = d - 1; a >= 0; a--) {
+            if (++idx[a] < pf_grid_points(g, a)) break;
+            idx[a] = 0;
+        }
+    }
+    if (pf_dist_flag_any(g, msg[0] != 0))
+        luaL_error(L, "%s", msg[0] ? msg : "mask: the function failed at a point of another MPI rank (its message says why)");
+}
+
+static void check_region(lua_State *L, int arg, pf_grid *g, const double *offset, int local, pf_region *out);
+
 void pfl_check_region(lua_State *L, int arg, pf_grid *g, const double *offset, pf_region *out)
+{
+    check_region(L, arg, g, offset, 0, out);
+}
+
+/* local: a mask function is sampled at this MPI rank's points of a split
+ * grid only (pf_region's mask_first, mask_count), for measurements that
+ * run on each rank's planes. */
+static void check_region(lua_State *L, int arg, pf_grid *g, const double *offset, int local, pf_region *out)
 {
     static const double none[PF_MAX_DIM] = {0, 0, 0};
     if (!offset) offset = none;
@@ -254,9 +302,27 @@ void pfl_check_region(lua_State *L, int arg, pf_grid *g, const double *offset, p
     /* The weights are sampled once per grid and lab offset: a function is
      * called at the lab positions x = xi + X of the grid points, and the
      * table is reused while the wave stays in that frame position. */
-    int same = b->cache_grid == g;
+    local = local && pf_grid_distributed(g);
+    int same = b->cache_grid == g && b->cache_local == local;
     for (int a = 0; a < d; a++) same = same && b->cache_offset[a] == offset[a];
-    if (!same) {
+    if (!same && local) {
+        size_t begin, end;
+        pf_grid_local_range(g, &begin, &end);
+        double *v = lua_newuserdatauv(L, (end > begin ? end - begin : 1) * sizeof(double), 0);
+        v[0] = 0; /* a rank without planes keeps one harmless weight */
+        lua_getiuservalue(L, arg, 1);
+        sample_local_mask(L, lua_gettop(L), g, offset, begin, end, v);
+        lua_pop(L, 1);
+        lua_setiuservalue(L, arg, 2);
+        if (b->cache_grid) pf_grid_release(b->cache_grid);
+        pf_grid_retain(g);
+        b->cache_grid = g;
+        b->cache_local = 1;
+        for (int a = 0; a < PF_MAX_DIM; a++) b->cache_offset[a] = a < d ? offset[a] : 0.0;
+        b->r.mask = v;
+        b->r.mask_first = begin;
+        b->r.mask_count = end > begin ? end - begin : 1;
+    } else if (!same) {
         size_t n = pf_grid_total(g);
         double *v = lua_newuserdatauv(L, n * sizeof(double), 0);
         lua_getiuservalue(L, arg, 1);
@@ -283,7 +349,9 @@ void pfl_check_region(lua_State *L, int arg, pf_grid *g, const double *offset, p
         pf_grid_retain(g);
         b->cache_grid = g;
         for (int a = 0; a < PF_MAX_DIM; a++) b->cache_offset[a] = a < d ? offset[a] : 0.0;
+        b->cache_local = 0;
         b->r.mask = v;
+        b->r.mask_first = b->r.mask_count = 0;
     }
     *out = b->r;
 }
@@ -311,11 +379,11 @@ static int region_tostring(lua_State *L)
  * mask given as a function of the coordinates is sampled at the lab
  * positions of the grid points (xi + X); a table of weights holds one
  * weight per grid point wherever the grid sits. */
-static void source_region(lua_State *L, int arg, const pfl_source *src, pf_region *r, const char *name)
+static void source_region(lua_State *L, int arg, const pfl_source *src, pf_region *r, const char *name, int local)
 {
     pf_frame fr;
     pfl_source_frame(L, src, &fr, name);
-    pfl_check_region(L, arg, pfl_source_grid(src), fr.position, r);
+    check_region(L, arg, pfl_source_grid(src), fr.position, local, r);
     int d = pf_grid_dim(pfl_source_grid(src)), moved = 0;
     for (int a = 0; a < d; a++) moved = moved || fr.position[a] != 0.0;
     if (!moved) return;
@@ -332,7 +400,7 @@ static int l_probability_in(lua_State *L)
     pfl_source src;
     pfl_check_source(L, 1, &src);
     pf_region r;
-    source_region(L, 2, &src, &r, "probability_in");
+    source_region(L, 2, &src, &r, "probability_in", pfl_source_split(&src)); /* split: this rank's points */
     double num = 0, den = 0;
     for (size_t i = 0; i < src.mix.count; i++) {
         double p;
@@ -411,7 +479,7 @@ static int l_measure_region(lua_State *L)
     pfl_source src;
     pfl_check_source(L, 1, &src);
     pf_region r;
-    source_region(L, 2, &src, &r, "measure_region");
+    source_region(L, 2, &src, &r, "measure_region", 0);
     int opts = pfl_options_opt(L, 3, &MEASURE_REGION_OPTIONS);
     int forced = -1;
     if (opts) {

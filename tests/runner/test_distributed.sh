@@ -83,7 +83,8 @@ awk -v m="$law" 'BEGIN { exit !(m < 1e-8) }' &&
 
 # Long flights (probe_longflight.lua): w:fly_scaled, w:fly_long choosing
 # the scaled or the same-grid method from extents reduced over the ranks,
-# its fly-back after a scaled flight, two stages onto a chosen spacing, a
+# its fly-back after a scaled flight, two stages onto a chosen spacing, the
+# grid advisor and the far-field image of a split wave, a
 # backward flight on a 2D sheet, a long flight under gravity; 18 planes (5, 5, 5, 3 on 4 ranks) and 21
 # planes (6, 6, 6, 3).  The new grids keep the point counts, so the ranks
 # keep their slabs.
@@ -94,8 +95,8 @@ for n in 1 2 3 4; do
   expect 0 "long: mpirun -n $n" -- timeout 120 mpirun -n "$n" --oversubscribe "$runner" run "$long"
   printf '%s\n' "$out" >"$work/xranks$n.txt"
   has "ranks $n distribute true" "long: mpirun -n $n distributed"
-  has "refusal points named" "long -n $n: fly_scaled onto other point counts refused by name at the script line"
-  has "refusal long_points named" "long -n $n: fly_long onto other point counts refused by name"
+  has "refusal points named" "long -n $n: fly_scaled onto another count on the split axis refused by name at the script line"
+  has "refusal long_points named" "long -n $n: fly_long onto another count on the split axis refused by name"
   has "refusal toggled 3 of 3 named" "long -n $n: after pf.setup{distribute = false} fly_scaled, fly_long and expand refuse to regrid a split wave"
   /usr/bin/python3 "$work/compare.py" "$work/xplain.txt" "$work/xranks$n.txt" exact 0 >/dev/null &&
     ok "long -n $n: the new grids' spacings and origins are the single process's" || fail "long -n $n: new grids differ"
@@ -115,7 +116,7 @@ done
 # single-FFT and same-grid flights (5e-9 seen; under gravity the centre also
 # falls by a t^2 / 2); the two-stage flight lands on
 # about one point per rms width, 1e-5 (2.9e-6 seen).
-for pre in scaled long again short sheet fall; do
+for pre in scaled long again short sheet fall padded; do
   dev=$(awk -v p="$pre" '$1 == "law" && index($2, p "_") == 1 { d = ($3 - $4) / $4; if (d < 0) d = -d; if (d > m) m = d } END { printf "%.2g", m }' "$work/xranks4.txt")
   awk -v m="$dev" 'BEGIN { exit !(m > 0 && m < 1e-8) }' && ok "long -n 4: $pre flight follows the free Gaussian laws to $dev" ||
     fail "long -n 4: $pre flight misses the free Gaussian laws by $dev"

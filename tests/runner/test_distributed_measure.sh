@@ -207,6 +207,18 @@ worst=$(/usr/bin/python3 "$work/law.py" "$work/slab.3.txt" 1e-8 xprofile column1
 worst=$(/usr/bin/python3 "$work/law.py" "$work/slab.4.txt" 1e-8 kcov11 kcov13 kcov22) &&
   ok "slab -n 4: the momentum covariance is hbar^2 S^-1 / 4 ($worst)" || fail "slab -n 4: momentum covariance law missed"
 
+# A mask function (w:probability_in) is sampled at each rank's own points:
+# rank 0 calls it at its ceil(22 / n) planes of 18 x 16 points; a function
+# that fails only at the last rank's points (x > 9 um) fails every rank.
+for n in plain 1 2 3 4; do
+  want=$((22 * 288)); [ "$n" != plain ] && want=$(( (22 + n - 1) / n * 288 ))
+  grep -qx "calls mask $want" "$work/slab.$n.txt" &&
+    ok "slab $n: the mask function ran at rank 0's $want points only" ||
+    fail "slab $n: mask function calls: $(grep '^calls mask' "$work/slab.$n.txt"), want $want"
+  grep -qx "mask_error refused" "$work/slab.$n.txt" && ok "slab $n: a mask function failing on one rank's points fails every rank" ||
+    fail "slab $n: the failing mask function was not refused"
+done
+
 # Seeded events drawn per slab (3000 with jitter along every axis): their
 # variance along the split axis is S11 + dx^2 / 12 (Sheppard's correction,
 # common practice) within 5 standard errors of a sample variance.

@@ -129,10 +129,18 @@ list("exact xslice13", w:slice{axes = {1, 3}, through = {0, 2e-6, 0}}.values)
 list("exact xradial", w:radial_profile{center = {0.3e-6, -0.2e-6, 0.1e-6}, bin = 1.3e-6, bins = 7}.values)
 local C = w:position_covariance()
 line("exact xcovariance", C[1][1], C[1][2], C[1][3], C[2][2], C[2][3], C[3][3])
+local mask_calls = 0
 line("exact regions", w:probability_in(pf.box{min = {-1e-6, -2e-6, -3e-6}, max = {2.5e-6, 1e-6, 2e-6}}),
   w:probability_in(pf.half_space{point = {0.3e-6, 0, 0}, normal = {1, 1, -1}}),
   w:probability_in(pf.ball{center = {0.5e-6, -0.2e-6, 0}, radius = 2.6e-6}),
-  w:probability_in(pf.mask(function(x, y, z) return math.exp(-(x - z) ^ 2 / 1e-11) end)))
+  w:probability_in(pf.mask(function(x, y, z) mask_calls = mask_calls + 1 return math.exp(-(x - z) ^ 2 / 1e-11) end)))
+-- A mask function is called at this rank's points only (rank 0 prints its
+-- count), and a function failing on another rank's points fails every rank.
+print("calls mask " .. mask_calls)
+local okm = pcall(function()
+  return w:probability_in(pf.mask(function(x, y, z) return x > 9e-6 and 2 or 1 end))
+end)
+print("mask_error " .. (okm and "ran" or "refused"))
 local fx = w:fringes{axis = 1}
 local fz = w:fringes{axis = 3}
 line("exact fringes", fx.offset, fx.amplitude, fz.offset, fz.amplitude)
