@@ -6,6 +6,7 @@
 #include "pf_flight.h"
 #include "pf_guard.h"
 #include "pf_internal.h"
+#include "pf_kernels.h"
 
 /* The 1D segment tables (see PF_PHASE_SEG): on a large grid, reading the
  * full-length table in the phase pass would add half again to its memory
@@ -45,10 +46,25 @@ static void flight_tables(pf_grid *g, double tau)
     for (int a = 0; a < g->dim; a++) {
         double dk = PF_TWO_PI / g->span[a];
         double c = 0.5 * tau * dk * dk; /* phase = c m^2 for the integer m */
-        for (size_t j = 0; j < g->n[a]; j++) {
-            double m = g->k[a][j] / dk;
-            m = nearbyint(m);
-            g->flight.phase[a][j] = cexp(-I * (c * m * m));
+        const double *k = g->k[a];
+        double complex *t = g->flight.phase[a];
+        const ptrdiff_t n = (ptrdiff_t)g->n[a];
+        /* One libm exponential per |m| (the entry of -m is a copy, the
+         * same bits), long axes shared among threads (pf_kernels.h). */
+#pragma omp parallel num_threads(g->ctx->threads) if ((size_t)n >= PF_KERNEL_TABLE_THREADED)
+        {
+#pragma omp for schedule(static)
+            for (ptrdiff_t j = 0; j < n; j++) {
+                if (pf_kernel_mirror(k, (size_t)n, dk, (size_t)j)) continue;
+                double m = k[j] / dk;
+                m = nearbyint(m);
+                t[j] = cexp(-I * (c * m * m));
+            }
+#pragma omp for schedule(static)
+            for (ptrdiff_t j = 0; j < n; j++) {
+                size_t from = pf_kernel_mirror(k, (size_t)n, dk, (size_t)j);
+                if (from) t[j] = t[from];
+            }
         }
     }
     if (g->dim == 1) segment_tables(g, tau);

@@ -207,20 +207,12 @@ double pf_kernel_field_mask(pf_grid *g, double complex *data, const double compl
     return sum;
 }
 
-/* Without a shift, index j in FFT order holds the integer m and n - j holds
- * -m (pf_grid.c); (c (-m)) (-m) is (c m) m to the bit, so the entry there is
- * a copy, not a second exponential.  Returns n - j for such a j (m < 0 with
- * its mirror in the table), else 0. */
-static size_t kinetic_mirror(const double *k, size_t n, double dk, size_t j)
+size_t pf_kernel_mirror(const double *k, size_t n, double dk, size_t j)
 {
     if (j == 0) return 0;
     double m = nearbyint(k[j] / dk);
     return m < 0 && nearbyint(k[n - j] / dk) == -m ? n - j : 0;
 }
-
-/* Axes shorter than this are filled by one thread (a 1D grid's axis holds
- * every point; a 2D or 3D grid's are short). */
-#define KINETIC_THREADED ((size_t)8192)
 
 void pf_kernel_kinetic_tables(const pf_grid *g, double tau, const double *shift, double complex **tables)
 {
@@ -236,11 +228,11 @@ void pf_kernel_kinetic_tables(const pf_grid *g, double tau, const double *shift,
         /* One libm exponential per point is the cost of a new step on a 1D
          * grid: each |m| once, shared among threads (each entry is the
          * same call whichever thread makes it). */
-#pragma omp parallel num_threads(g->ctx->threads) if ((size_t)n >= KINETIC_THREADED)
+#pragma omp parallel num_threads(g->ctx->threads) if ((size_t)n >= PF_KERNEL_TABLE_THREADED)
         {
 #pragma omp for schedule(static)
             for (ptrdiff_t j = 0; j < n; j++) {
-                if (!shift && kinetic_mirror(k, (size_t)n, dk, (size_t)j)) continue;
+                if (!shift && pf_kernel_mirror(k, (size_t)n, dk, (size_t)j)) continue;
                 double m = nearbyint(k[j] / dk);
                 double turns = shift ? fmod(m * frac, 1.0) : 0.0;
                 t[j] = cexp(-I * (c * m * m + PF_TWO_PI * turns));
@@ -248,7 +240,7 @@ void pf_kernel_kinetic_tables(const pf_grid *g, double tau, const double *shift,
             if (!shift) {
 #pragma omp for schedule(static)
                 for (ptrdiff_t j = 0; j < n; j++) {
-                    size_t from = kinetic_mirror(k, (size_t)n, dk, (size_t)j);
+                    size_t from = pf_kernel_mirror(k, (size_t)n, dk, (size_t)j);
                     if (from) t[j] = t[from];
                 }
             }

@@ -33,6 +33,17 @@ double pf_kernel_field_mask(pf_grid *g, double complex *data, const double compl
  * entries each. */
 void pf_kernel_kinetic_tables(const pf_grid *g, double tau, const double *shift, double complex **tables);
 
+/* Tables of exp(-i c m^2) per axis entry (kinetic, flight) hold the same
+ * value at m and -m: index j in FFT order holds the integer m and n - j
+ * holds -m (pf_grid.c), and (c (-m)) (-m) is (c m) m to the bit.  Returns
+ * n - j for such a j (m < 0 with its mirror on the axis), else 0, so the
+ * entry is copied rather than evaluated again.  k: the axis's wave numbers,
+ * dk their spacing. */
+size_t pf_kernel_mirror(const double *k, size_t n, double dk, size_t j);
+/* Axes at least this long have their tables filled by all threads (a 1D
+ * grid's axis holds every point; 2D and 3D axes are short). */
+#define PF_KERNEL_TABLE_THREADED ((size_t)8192)
+
 /* Sum of |z|^2 over the grid in storage units, deterministic (pf_reduce). */
 double pf_kernel_sum_abs2(pf_grid *g, const double complex *data);
 

@@ -14,6 +14,7 @@
 #include <stdlib.h>
 #include "pf_constants.h"
 #include "pf_flight.h"
+#include "pf_internal.h"
 #include "pf_observe.h"
 #include "pf_wave.h"
 
@@ -323,6 +324,36 @@ static void flight_phase_matches_definition_1d(void **state)
     }
 }
 
+/* The flight's per-axis tables are libm's exp(-i c m^2) for every entry,
+ * bit for bit, although each |m| is evaluated once (the entry of -m is a
+ * copy) and a long axis is shared among threads: 1D axes of even and odd
+ * length above the threading threshold, 2 threads, flights forward and
+ * backward in time (implementation check, no physics claim). */
+static void flight_tables_are_the_exponentials(void **state)
+{
+    pf_context *ctx = *state;
+    assert_int_equal(pf_context_set_threads(ctx, 2), PF_OK);
+    const size_t lengths[] = {16384, 16383};
+    const double taus[] = {3.7e-12, -5.1e-12};
+    for (size_t l = 0; l < 2; l++) {
+        size_t n[1] = {lengths[l]};
+        double span[1] = {1e-4};
+        pf_grid *g;
+        assert_int_equal(pf_grid_new(ctx, 1, n, span, NULL, &g), PF_OK);
+        for (size_t q = 0; q < 2; q++) {
+            pf_flight_fill_tables(g, taus[q]);
+            const double dk = PF_TWO_PI / span[0], c = 0.5 * taus[q] * dk * dk;
+            for (size_t j = 0; j < n[0]; j++) {
+                double m = nearbyint(pf_grid_k(g, 0, j) / dk);
+                double complex want = cexp(-I * (c * m * m));
+                assert_memory_equal(&g->flight.phase[0][j], &want, sizeof want);
+            }
+        }
+        pf_grid_release(g);
+    }
+    assert_int_equal(pf_context_set_threads(ctx, 1), PF_OK);
+}
+
 static void bad_flight_times_are_refused(void **state)
 {
     pf_grid *g;
@@ -349,6 +380,7 @@ int main(void)
         cmocka_unit_test_setup_teardown(flight_matches_direct_kernel_quadrature, pft_context_setup, pft_context_teardown),
         cmocka_unit_test_setup_teardown(forward_then_backward_restores_the_state, pft_context_setup, pft_context_teardown),
         cmocka_unit_test_setup_teardown(flight_phase_matches_definition_1d, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(flight_tables_are_the_exponentials, pft_context_setup, pft_context_teardown),
         cmocka_unit_test_setup_teardown(bad_flight_times_are_refused, pft_context_setup, pft_context_teardown),
     };
     return cmocka_run_group_tests_name("flight", tests, NULL, NULL);

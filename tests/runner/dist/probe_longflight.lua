@@ -105,6 +105,20 @@ figures(w3, "twostage")
 laws(w3, "twostage", t1)
 last_step(w3, "twostage")
 
+-- 3b. Onto a target grid object of the wave's counts (its own spacing and
+-- origin): two stages land on that grid's spacing and origin.
+local target = pf.grid{points = {18, 16, 20}, span = {81e-6, 88e-6, 100e-6},
+  origin = {c[1] + hbar * k0 * t1 / mass, c[2], 0}}
+local w11 = packet(g)
+local _, r11 = w11:fly_long(t1, {grid = target})
+local on = true
+for a = 1, 3 do
+  on = on and w11:grid():spacing(a) == target:spacing(a) and w11:grid():origin(a) == target:origin(a)
+end
+print(string.format("text target %s stages %d on_target %s", r11.method, r11.stages, tostring(on)))
+figures(w11, "target")
+laws(w11, "target", t1)
+
 -- 4. A short flight stays on its grid: the choice is the same-grid flight.
 local w4 = packet(g)
 local _, r4 = w4:fly_long(0.4e-3)
