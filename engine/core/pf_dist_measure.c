@@ -592,20 +592,7 @@ static double region_weight(const pf_grid *g, const pf_region *r, const size_t *
         return r->mask[(idx[0] * g->n[1] + idx[1]) * (d == 3 ? g->n[2] : 1) + (d == 3 ? idx[2] : 0) - r->mask_first];
     double x[PF_MAX_DIM];
     for (int a = 0; a < d; a++) x[a] = g->x[a][idx[a]];
-    int in = 1;
-    if (r->kind == PF_REGION_BOX) {
-        for (int a = 0; a < d; a++)
-            if (x[a] < r->lo[a] || x[a] > r->hi[a]) in = 0;
-    } else if (r->kind == PF_REGION_HALF_SPACE) {
-        double dot = 0;
-        for (int a = 0; a < d; a++) dot += (x[a] - r->point[a]) * r->normal[a];
-        in = dot >= 0;
-    } else {
-        double r2 = 0;
-        for (int a = 0; a < d; a++) r2 += (x[a] - r->point[a]) * (x[a] - r->point[a]);
-        in = r2 <= r->radius * r->radius;
-    }
-    return in ? 1.0 : 0.0;
+    return pf_region_contains(d, r, x) ? 1.0 : 0.0;
 }
 
 static void region_run(void *user, const size_t *start, size_t count, const double *v)

@@ -44,6 +44,24 @@ pf_status pf_region_check(const pf_grid *g, const pf_region *r)
     return pf_fail(g->ctx, PF_EINVAL, "unknown region kind %d", (int)r->kind);
 }
 
+/* The geometric rule at one position (boundary included). */
+int pf_region_contains(int dim, const pf_region *r, const double *x)
+{
+    if (r->kind == PF_REGION_BOX) {
+        for (int a = 0; a < dim; a++)
+            if (x[a] < r->lo[a] || x[a] > r->hi[a]) return 0;
+        return 1;
+    }
+    if (r->kind == PF_REGION_HALF_SPACE) {
+        double dot = 0;
+        for (int a = 0; a < dim; a++) dot += (x[a] - r->point[a]) * r->normal[a];
+        return dot >= 0;
+    }
+    double r2 = 0;
+    for (int a = 0; a < dim; a++) r2 += (x[a] - r->point[a]) * (x[a] - r->point[a]);
+    return r2 <= r->radius * r->radius;
+}
+
 pf_status pf_region_weights(const pf_grid *g, const pf_region *r, double *out)
 {
     pf_status s = pf_region_check(g, r);
@@ -58,20 +76,7 @@ pf_status pf_region_weights(const pf_grid *g, const pf_region *r, double *out)
     for (size_t off = 0; off < g->total; off++) {
         double x[PF_MAX_DIM];
         for (int a = 0; a < d; a++) x[a] = g->x[a][idx[a]];
-        int in = 1;
-        if (r->kind == PF_REGION_BOX) {
-            for (int a = 0; a < d; a++)
-                if (x[a] < r->lo[a] || x[a] > r->hi[a]) in = 0;
-        } else if (r->kind == PF_REGION_HALF_SPACE) {
-            double dot = 0;
-            for (int a = 0; a < d; a++) dot += (x[a] - r->point[a]) * r->normal[a];
-            in = dot >= 0;
-        } else {
-            double r2 = 0;
-            for (int a = 0; a < d; a++) r2 += (x[a] - r->point[a]) * (x[a] - r->point[a]);
-            in = r2 <= r->radius * r->radius;
-        }
-        out[off] = in ? 1.0 : 0.0;
+        out[off] = pf_region_contains(g->dim, r, x) ? 1.0 : 0.0;
         for (int a = d - 1; a >= 0; a--) {
             if (++idx[a] < g->n[a]) break;
             idx[a] = 0;

@@ -38,6 +38,10 @@ typedef struct pf_region {
 pf_status pf_region_check(const pf_grid *g, const pf_region *r);
 /* Writes the weight of every position grid point (pf_grid_total doubles). */
 pf_status pf_region_weights(const pf_grid *g, const pf_region *r, double *out);
+/* 1 when position x (dim coordinates) lies in geometric region r (box,
+ * half-space or ball; boundary included), else 0: the rule of
+ * pf_region_weights at one point. */
+int pf_region_contains(int dim, const pf_region *r, const double *x);
 /* Integral of weight times the field (a position field on g's geometry). */
 pf_status pf_field_region_integral(const pf_field *f, const pf_grid *g, const pf_region *r, double *out);
 
