@@ -50,6 +50,7 @@ void pf_context_release(pf_context *ctx)
 {
     if (!ctx || --ctx->refs > 0) return;
     free(ctx->wisdom_path);
+    free(ctx->wisdom_path_mpi);
     pf_dist_plans_free(ctx); /* before FFTW's threads layer is cleaned up below */
     pf_context_free_plan_notes(ctx);
     free(ctx);
@@ -91,13 +92,35 @@ pf_status pf_context_set_wisdom_path(pf_context *ctx, const char *path)
         copy = strdup(path);
         if (!copy) return pf_fail(ctx, PF_ENOMEM, "out of memory copying the wisdom path");
     }
+    char *copy_mpi = NULL;
+    if (copy) {
+        size_t len = strlen(copy);
+        copy_mpi = malloc(len + 5);
+        if (!copy_mpi) {
+            free(copy);
+            return pf_fail(ctx, PF_ENOMEM, "out of memory copying the wisdom path");
+        }
+        memcpy(copy_mpi, copy, len);
+        memcpy(copy_mpi + len, "-mpi", 5);
+    }
     free(ctx->wisdom_path);
+    free(ctx->wisdom_path_mpi);
     ctx->wisdom_path = copy;
+    ctx->wisdom_path_mpi = copy_mpi;
     ctx->wisdom_loaded = 0;
     return PF_OK;
 }
 
-const char *pf_context_wisdom_path(const pf_context *ctx) { return ctx->wisdom_path; }
+/* The file this process reads and writes: FFTW stamps wisdom with a
+ * signature of the registered planners and refuses a file with another, so
+ * once FFTW-MPI's planners are registered (a distributed run) the wisdom
+ * lives in its own file, PATH-mpi, and one-process runs keep PATH. */
+static const char *wisdom_file(const pf_context *ctx)
+{
+    return pf_dist_planners_registered() ? ctx->wisdom_path_mpi : ctx->wisdom_path;
+}
+
+const char *pf_context_wisdom_path(const pf_context *ctx) { return wisdom_file(ctx); }
 
 void pf_context_wisdom_digest(const pf_context *ctx, char out[17])
 {
@@ -339,15 +362,18 @@ unsigned pf_context_prepare_planner(pf_context *ctx)
     /* Before the wisdom is read: a file saved by a distributed run names
      * FFTW-MPI's plans, which FFTW only reads once they are registered
      * (without this the whole file was refused and every rerun planned
-     * afresh). */
-    pf_dist_planner_ready();
+     * afresh).  Their registration also selects the distributed file. */
+    pf_dist_planner_ready(ctx->distribute);
     /* Estimate mode ignores wisdom on purpose: measured wisdom would make the
-     * plan, and so the last bits of results, depend on this machine. */
-    if (ctx->planning == PF_PLAN_MEASURE && ctx->wisdom_path && !ctx->wisdom_loaded) {
-        ctx->wisdom_loaded = 1;
-        if (access(ctx->wisdom_path, R_OK) == 0 && !fftw_import_wisdom_from_filename(ctx->wisdom_path))
-            pf_context_warn(ctx, "FFTW wisdom file %s could not be read; planning afresh",
-                            ctx->wisdom_path);
+     * plan, and so the last bits of results, depend on this machine.  Each
+     * file is read once, before its first plan (a script that turns
+     * distribution on after planning reads the distributed file then). */
+    const int bit = pf_dist_planners_registered() ? 2 : 1;
+    const char *file = wisdom_file(ctx);
+    if (ctx->planning == PF_PLAN_MEASURE && file && !(ctx->wisdom_loaded & bit)) {
+        ctx->wisdom_loaded |= bit;
+        if (access(file, R_OK) == 0 && !fftw_import_wisdom_from_filename(file))
+            pf_context_warn(ctx, "FFTW wisdom file %s could not be read; planning afresh", file);
     }
     return ctx->planning == PF_PLAN_ESTIMATE ? FFTW_ESTIMATE : FFTW_MEASURE;
 }
@@ -369,25 +395,25 @@ static void make_parent_dirs(const char *path)
 
 void pf_context_store_wisdom(pf_context *ctx)
 {
-    if (ctx->planning != PF_PLAN_MEASURE || !ctx->wisdom_path) return;
+    const char *file = wisdom_file(ctx);
+    if (ctx->planning != PF_PLAN_MEASURE || !file) return;
     /* On a distributed run rank 0 keeps the wisdom of all ranks
      * (fftw_mpi_gather_wisdom); another rank's file would lack theirs and
      * could replace it, since every rank sees the same path. */
     if (ctx->distribute && pf_dist_rank() != 0) return;
     char tmp[4200];
-    if (snprintf(tmp, sizeof tmp, "%s.tmp.%ld", ctx->wisdom_path, (long)getpid()) >= (int)sizeof tmp)
-        return;
-    make_parent_dirs(ctx->wisdom_path);
+    if (snprintf(tmp, sizeof tmp, "%s.tmp.%ld", file, (long)getpid()) >= (int)sizeof tmp) return;
+    make_parent_dirs(file);
     /* Write to a temporary name and rename, so a concurrent run never reads a
      * half-written wisdom file. */
     if (!fftw_export_wisdom_to_filename(tmp)) {
         unlink(tmp);
-        pf_context_warn(ctx, "could not save FFTW wisdom to %s", ctx->wisdom_path);
+        pf_context_warn(ctx, "could not save FFTW wisdom to %s", file);
         return;
     }
-    if (rename(tmp, ctx->wisdom_path) != 0) {
+    if (rename(tmp, file) != 0) {
         unlink(tmp);
-        pf_context_warn(ctx, "could not save FFTW wisdom to %s", ctx->wisdom_path);
+        pf_context_warn(ctx, "could not save FFTW wisdom to %s", file);
     }
 }
 

@@ -92,7 +92,8 @@ int pf_dist_running(void) { return 0; }
 int pf_dist_rank(void) { return 0; }
 int pf_dist_ranks(void) { return 1; }
 pf_status pf_dist_grid_attach(pf_grid *g) { (void)g; return PF_OK; }
-void pf_dist_planner_ready(void) {}
+void pf_dist_planner_ready(int distribute) { (void)distribute; }
+int pf_dist_planners_registered(void) { return 0; }
 void pf_dist_grid_release(pf_grid *g) { (void)g; }
 size_t pf_dist_local_values(const pf_grid *g) { return g->total; }
 pf_status pf_dist_wave_to(pf_wave *w, pf_rep rep) { return pf_dist_refuse(w->grid->ctx, "a distributed transform"); }
@@ -338,19 +339,22 @@ pf_status pf_dist_momentum_unscaled(pf_wave *w, double *scale)
 /* FFTW-MPI needs fftw_mpi_init once per process, after the threads layer
  * (pf_context_prepare_planner) and MPI_Init; like FFTW's planner this is
  * process-global state. */
+static int fftw_mpi_registered;
+
 static void fftw_mpi_once(void)
 {
-    static int done;
-    if (!done) {
+    if (!fftw_mpi_registered) {
         fftw_mpi_init();
-        done = 1;
+        fftw_mpi_registered = 1;
     }
 }
 
-void pf_dist_planner_ready(void)
+void pf_dist_planner_ready(int distribute)
 {
-    if (pf_dist_running()) fftw_mpi_once();
+    if (distribute && pf_dist_running()) fftw_mpi_once();
 }
+
+int pf_dist_planners_registered(void) { return fftw_mpi_registered; }
 
 void pf_dist_grid_release(pf_grid *g)
 {

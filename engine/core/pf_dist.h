@@ -60,6 +60,13 @@ size_t pf_grid_local_bytes(const pf_grid *g);
  * order into a local array of end - begin values. */
 void pf_grid_local_range(const pf_grid *g, size_t *begin, size_t *end);
 
+/* The whole grid's smallest and largest value of a quantity each rank
+ * knows for its own points (*lo, *hi: this rank's; +inf and -inf when it
+ * holds none): exact minimum and maximum over the ranks, so every rank gets
+ * the same pair.  Collective on a distributed grid; nothing to do on a grid
+ * held whole. */
+void pf_grid_combine_range(const pf_grid *g, double *lo, double *hi);
+
 /* Gathers the whole wave in representation rep (position: natural order,
  * psi in the storage convention; momentum: FFT order S as a single process
  * stores it) into out (pf_grid_total values) on rank 0.  Collective; out is

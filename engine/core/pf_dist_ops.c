@@ -1,5 +1,7 @@
 /* pf_dist_ops.c - single samples of a distributed wave (w:psi, w:phi,
- * w:set_psi, w:set_phi; docs/distributed.md).
+ * w:set_psi, w:set_phi; docs/distributed.md), and the range of values
+ * that each rank knows for its own points only (pf.potential's range), and
+ * the momentum-space pass of the closed-form fall (w:fall).
  *
  * A distributed wave holds planes of axis 0 in position and planes of axis
  * 1 of the transposed array in momentum (pf_dist.h).  One sample lives on
@@ -70,4 +72,22 @@ void pf_dist_store_value(const pf_grid *g, pf_rep rep, double complex *store, co
 {
     size_t off = local_offset(g, rep, idx);
     if (off != NOT_HERE) store[off] = v;
+}
+
+void pf_grid_combine_range(const pf_grid *g, double *lo, double *hi)
+{
+    pf_dist_minmax(g, lo, hi); /* exact MPI_MIN and MPI_MAX: order-free */
+}
+
+pf_status pf_dist_momentum_pass(pf_wave *w, const double complex *const *tables)
+{
+    double scale = 1.0;
+    /* From position: the unscaled forward transform, its 1/N joined to the
+     * tables' pass as one process joins it (pf_wave_fall). */
+    pf_status s = pf_dist_momentum_unscaled(w, &scale);
+    if (s) return s;
+    pf_dist_momentum_multiply(w->grid, w->store, tables, scale);
+    pf_dist_backward(w->grid, w->store);
+    w->rep = PF_POSITION;
+    return PF_OK;
 }

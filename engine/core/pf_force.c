@@ -34,11 +34,15 @@ pf_status pf_wave_fall(pf_wave *w, double t, const double *accel)
     /* A deferred flight joins the momentum-space part below. */
     pf_status s = pf_wave_settle_to(w, PF_MOMENTUM);
     double complex scale = 1.0;
-    if (!s && w->rep == PF_POSITION) {
+    if (!s && g->dist) {
+        /* Split over MPI ranks: the same tables on the transposed slab. */
+        pf_kernel_kinetic_tables(g, PF_HBAR * t / w->mass, shift, tab);
+        s = pf_dist_momentum_pass(w, (const double complex *const *)tab);
+    } else if (!s && w->rep == PF_POSITION) {
         s = pf_grid_fft(g, w->store, -1);
         scale = 1.0 / (double)g->total;
     }
-    if (!s) {
+    if (!s && !g->dist) {
         /* Momentum space: free flight and translation by a t^2/2 together. */
         pf_kernel_kinetic_tables(g, PF_HBAR * t / w->mass, shift, tab);
         pf_kernel_axis_multiply(g, w->store, (const double complex *const *)tab, scale);

@@ -420,6 +420,22 @@ pf_status pf_wave_lab_beyond(pf_wave *w, int axis, double at, double *probabilit
     return s ? s : pf_wave_beyond(w, axis, xi, probability);
 }
 
+/* The arguments of pf_wave_lab_arrival, for a wave split over MPI ranks
+ * (pf_dist_on_whole runs it on rank 0 on the gathered wave and broadcasts
+ * the series, as pf_wave_arrival does without a frame). */
+typedef struct lab_arrival_args {
+    const double *accel;
+    int axis;
+    double at, start, dt;
+    size_t count;
+} lab_arrival_args;
+
+static pf_status lab_arrival_whole(pf_wave *w, void *user, double *out)
+{
+    const lab_arrival_args *a = user;
+    return pf_wave_lab_arrival(w, a->accel, a->axis, a->at, a->start, a->dt, a->count, out);
+}
+
 pf_status pf_wave_lab_arrival(pf_wave *w, const double *accel, int axis, double at, double start, double dt,
                               size_t count, double *flux)
 {
@@ -431,6 +447,11 @@ pf_status pf_wave_lab_arrival(pf_wave *w, const double *accel, int axis, double 
         return pf_fail(g->ctx, PF_EINVAL, "arrival window needs a finite start and a positive step, got %g and %g", start,
                        dt);
     if (count < 1) return pf_fail(g->ctx, PF_EINVAL, "arrival window needs at least one time");
+    if (g->dist) {
+        /* Rank 0 holds the whole wave and its flown copy meanwhile. */
+        lab_arrival_args a = {accel, axis, at, start, dt, count};
+        return pf_dist_on_whole(w, PF_MOMENTUM, lab_arrival_whole, &a, flux, count);
+    }
     pf_wave *c;
     pf_status s = pf_wave_copy(w, &c);
     if (s) return s;

@@ -21,7 +21,8 @@ struct pf_context {
     int threads;
     pf_planning planning;
     char *wisdom_path;
-    int wisdom_loaded;
+    char *wisdom_path_mpi; /* wisdom_path + "-mpi": the file of distributed runs */
+    int wisdom_loaded;     /* bit 0: wisdom_path read, bit 1: wisdom_path_mpi read */
     size_t memory_cap, memory_used;
     unsigned long allocations;  /* pf_context_alloc calls so far */
     unsigned long fail_at;      /* fault injection: fail allocation number fail_at (0: off) */
@@ -365,10 +366,14 @@ static inline void pf_index_next(const pf_grid *g, size_t *idx)
  * pf_reduce_axis_moments of the wave in its representation; band_sum and
  * marginals serve the grid guards (pf_guard.c). */
 pf_status pf_dist_grid_attach(pf_grid *g);
-/* Registers FFTW-MPI's planners (fftw_mpi_init) once MPI runs: FFTW cannot
- * import wisdom that names MPI plans before they are registered, so
- * pf_context_prepare_planner calls this before it reads the wisdom file. */
-void pf_dist_planner_ready(void);
+/* Registers FFTW-MPI's planners (fftw_mpi_init) once MPI runs and the
+ * context distributes: FFTW cannot import wisdom that names MPI plans before
+ * they are registered, so pf_context_prepare_planner calls this before it
+ * reads the wisdom file.  Registering them changes FFTW's planner signature,
+ * which FFTW checks on import, so from then on the process reads and writes
+ * the distributed wisdom file (pf_dist_planners_registered). */
+void pf_dist_planner_ready(int distribute);
+int pf_dist_planners_registered(void);
 /* One sample of a wave's storage in representation rep (pf_dist_ops.c):
  * idx is the global multi-index in storage order (momentum: FFT order).
  * On a distributed grid reading is collective (the rank holding the sample
@@ -376,6 +381,11 @@ void pf_dist_planner_ready(void);
  * the holder's slab; on a whole grid both index the array. */
 double complex pf_dist_stored_value(const pf_grid *g, pf_rep rep, const double complex *store, const size_t *idx);
 void pf_dist_store_value(const pf_grid *g, pf_rep rep, double complex *store, const size_t *idx, double complex v);
+/* The momentum-space half of pf_wave_fall on a distributed wave
+ * (pf_dist_ops.c): to momentum (the forward transform's 1/N joined to the
+ * pass), times the per-axis tables on the transposed slab, and back to
+ * position.  Collective. */
+pf_status pf_dist_momentum_pass(pf_wave *w, const double complex *const *tables);
 /* Samples one rank will hold of a grid about to be made (total when it
  * will not be distributed), for the memory cap check before making it. */
 size_t pf_dist_planned_values(const pf_context *ctx, int dim, const size_t *points, size_t total);

@@ -136,9 +136,6 @@ static int l_arrival_times(lua_State *L)
      * cloud falls in its frame (pf_frame.h). */
     double accel[PF_MAX_DIM];
     int accelerated = pfl_frame_acceleration(L, 2, pf_grid_dim(pfl_source_grid(&src)), accel, "arrival_times");
-    if (accelerated && pf_grid_distributed(pfl_source_grid(&src)))
-        return luaL_error(L, "arrival_times: an acceleration on a wave distributed over MPI ranks is not handled yet "
-                             "(docs/distributed.md)");
     double *acc = lua_newuserdatauv(L, 2 * n * sizeof(double), 0), *one = acc + n;
     memset(acc, 0, n * sizeof(double));
     for (size_t i = 0; i < src.mix.count; i++) {

@@ -5,9 +5,15 @@
  * The samples live in a plain userdata kept as the object's user value (so
  * the collector frees them, also after an error while sampling); the split-
  * step exponentials for the last (step, order) are cached in the core's
- * pf_evolve_cache and freed by close() or the collector. */
+ * pf_evolve_cache and freed by close() or the collector.
+ *
+ * On a grid distributed over MPI ranks (docs/distributed.md) each rank
+ * samples, keeps and exponentiates its own points only, as evolve does with
+ * a function given directly; range() combines the ranks' extremes. */
+#include <math.h>
 #include <stdio.h>
 #include <string.h>
+#include "../core/pf_dist.h"
 #include "../core/pf_frame.h"
 #include "pfl_protocol.h"
 
@@ -29,10 +35,13 @@ const double *pfl_potential_tilted(lua_State *L, int idx, pfl_potential_box *b, 
         b->tilt_reuses++;
         return b->tilted;
     }
-    size_t n = pf_grid_total(b->grid);
-    double *S = lua_newuserdatauv(L, n * sizeof(double), 0);
+    /* On a distributed grid the object holds this rank's points only. */
+    size_t first, end;
+    pf_grid_local_range(b->grid, &first, &end);
+    size_t n = end - first;
+    double *S = lua_newuserdatauv(L, (n ? n : 1) * sizeof(double), 0);
     memset(S, 0, n * sizeof(double));
-    pf_frame_tilt_add(b->grid, mass, acc, S);
+    pf_frame_tilt_add_range(b->grid, mass, acc, first, n, S);
     for (size_t i = 0; i < n; i++) S[i] = b->values[i] + S[i]; /* the sum evolve forms without the object */
     /* The old exponentials belong to the old table, whose memory the
      * collector may hand out again: drop them before the new table is used. */
@@ -99,12 +108,16 @@ static int l_range(lua_State *L)
 {
     pfl_potential_box *b = luaL_checkudata(L, 1, PFL_POTENTIAL_TYPE);
     if (!b->grid) return luaL_error(L, "potential is closed");
-    size_t n = pf_grid_total(b->grid);
-    double lo = b->values[0], hi = b->values[0];
-    for (size_t i = 1; i < n; i++) {
+    /* This rank's points (all of them on a grid held whole), then the whole
+     * grid's extremes, the same on every rank. */
+    size_t first, end;
+    pf_grid_local_range(b->grid, &first, &end);
+    double lo = HUGE_VAL, hi = -HUGE_VAL;
+    for (size_t i = 0; i < end - first; i++) {
         if (b->values[i] < lo) lo = b->values[i];
         if (b->values[i] > hi) hi = b->values[i];
     }
+    pf_grid_combine_range(b->grid, &lo, &hi);
     lua_pushnumber(L, lo);
     lua_pushnumber(L, hi);
     return 2;

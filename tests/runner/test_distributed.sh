@@ -35,7 +35,6 @@ for n in 1 2 3 4; do
   printf '%s\n' "$out" >"$work/ranks$n.txt"
   has "ranks $n distribute true" "mpirun -n $n: the grid is distributed over $n ranks"
   has "refusal named" "mpirun -n $n: a function without a distributed path refuses by name"
-  has "refusals 2 of 2 named" "mpirun -n $n: fall and pf.potential refuse by name"
   [ "$(grep -c '^ranks' "$work/ranks$n.txt")" -eq 1 ] && ok "mpirun -n $n: only rank 0 prints" || fail "mpirun -n $n: only rank 0 prints"
 done
 
@@ -380,11 +379,104 @@ awk -v m="$pars" 'BEGIN { exit !(m != "" && m < 1e-12) }' &&
   ok "samples -n 4: set_phi changes the norm by the written |phi|^2 dk (Parseval) to $pars" ||
   fail "samples -n 4: set_phi norm change off by $pars"
 
+# pf.potential objects (probe_potential.lua): each rank samples, keeps and
+# exponentiates its own points (from a function or from a table of every
+# grid point), the object's tilted table V - m a.x under an acceleration
+# too; range() combines the ranks' extremes.  26 x 24 points: 7, 7, 7, 5
+# planes on 4 ranks.  "exact" lines (the ranges) the single process's bits;
+# "flown" lines (relax, energy, 20 short evolve calls reusing the kept
+# exponentials, a mean field, an acceleration, a relax through an object
+# made from a wave) the same bits at every rank count and within 1e-14 of
+# one process (the docs' promise for evolve); "same" lines the object
+# against the same potential given as a function, relative, to 1e-13 (the
+# kept exponentials and the per-call ones round alike; rounding only).
+# Laws (textbook): hbar (wx + wy) / 2, Kohn's theorem, the tilted centre
+# (a / w^2)(1 - cos w t) and the sag a / w^2.
+pot="$root/tests/runner/dist/probe_potential.lua"
+expect 0 "potential objects: one process" -- "$runner" run "$pot"
+printf '%s\n' "$out" >"$work/pplain.txt"
+[ -z "$err" ] && ok "potential objects: the grid resolves the states (no warnings)" || fail "potential objects: warnings: $err"
+for n in 1 2 4; do
+  expect 0 "potential objects: mpirun -n $n" -- timeout 120 mpirun -n "$n" --oversubscribe "$runner" run "$pot"
+  printf '%s\n' "$out" >"$work/pranks$n.txt"
+  has "ranks $n distribute true" "potential objects: mpirun -n $n distributed"
+  has "cache builds 1 reuses 9" "potential objects -n $n: the tilted table built once and reused 9 times"
+  /usr/bin/python3 "$work/compare.py" "$work/pplain.txt" "$work/pranks$n.txt" exact 0 >/dev/null &&
+    ok "potential objects -n $n: range() from a function and from a table bit-identical to one process" ||
+    fail "potential objects -n $n: ranges differ from one process"
+  /usr/bin/python3 "$work/compare.py" "$work/pranks1.txt" "$work/pranks$n.txt" flown 0 >/dev/null &&
+    ok "potential objects -n $n: relax, energy, chunked evolve, mean field and acceleration bit-identical to -n 1" ||
+    fail "potential objects -n $n: figures differ from -n 1"
+  worst=$(/usr/bin/python3 "$work/compare.py" "$work/pplain.txt" "$work/pranks$n.txt" flown 1e-14) &&
+    ok "potential objects -n $n: relax, energy, chunked evolve, mean field and acceleration within 1e-14 of one process (worst $worst)" ||
+    fail "potential objects -n $n: figures differ from one process by more than 1e-14"
+  same=$(awk '$1 == "same" { for (i = 3; i <= NF; i++) if ($i > m) m = $i } END { printf "%.2g", m }' "$work/pranks$n.txt")
+  [ "$(grep -c '^same' "$work/pranks$n.txt")" -eq 5 ] && awk -v m="$same" 'BEGIN { exit !(m < 1e-13) }' &&
+    ok "potential objects -n $n: the object gives the function's results to $same" ||
+    fail "potential objects -n $n: object and function differ by $same"
+done
+plaw() { awk -v name="$1" '$1 == "law" && $2 ~ name { d = ($3 - $4) / $4; if (d < 0) d = -d; if (d > m) m = d } END { printf "%.2g", m }' "$work/pranks4.txt"; }
+e0=$(plaw '^energy0$'); awk -v m="$e0" 'BEGIN { exit !(m < 1e-9) }' &&
+  ok "potential objects -n 4: relaxed energy is hbar (wx + wy) / 2 to $e0" || fail "potential objects -n 4: energy off by $e0"
+kohn=$(plaw '^kohn$'); awk -v m="$kohn" 'BEGIN { exit !(m < 1e-4) }' &&
+  ok "potential objects -n 4: the kicked centre follows (hbar k / m w) sin(w t) to $kohn" || fail "potential objects -n 4: Kohn off by $kohn"
+tilt=$(plaw '^tilt'); awk -v m="$tilt" 'BEGIN { exit !(m < 1e-4) }' &&
+  ok "potential objects -n 4: under an acceleration the centre follows (a / w^2)(1 - cos w t) to $tilt" ||
+  fail "potential objects -n 4: tilted centre off by $tilt"
+sag=$(plaw '^sag'); awk -v m="$sag" 'BEGIN { exit !(m < 1e-5) }' &&
+  ok "potential objects -n 4: relaxed through an object under an acceleration the state sags by a / w^2 to $sag" ||
+  fail "potential objects -n 4: sag off by $sag"
+
+# Moving frames (probe_frames.lua): w:frame, w:x_axis and w:k_axis read
+# the frame every rank keeps alike; w:fall runs its momentum pass on the
+# transposed slabs and its kick on the position slabs, and from a moved
+# frame first folds the frame's momentum onto the slabs; w:arrival_times at
+# a lab plane under an acceleration flies a copy on rank 0 from the
+# gathered wave.  26 x 32 points: 7, 7, 7, 5 planes on 4 ranks.  Laws
+# (textbook kinematics and the free Gaussian): the frame's X = -g t^2 / 2 and
+# V = -g t (1e-12), the fall's centre v0 t + a t^2 / 2 (1e-9) and wave
+# number k0 + m a t / hbar (1e-6, the grid's sampling of the start), the
+# width law (1e-9), the lab centre after a frame flight and a fall
+# a (t3 + t4)^2 / 2 (1e-9); the mean arrival time at a plane 40 um below is
+# the classical fall time to 3e-3 (the packet's width against the drop,
+# (sigma / h)^2 = 2e-3) and the probability arrived is 1 to 1e-9.
+frames="$root/tests/runner/dist/probe_frames.lua"
+expect 0 "frames: one process" -- "$runner" run "$frames"
+printf '%s\n' "$out" >"$work/fmplain.txt"
+[ -z "$err" ] && ok "frames: the grid resolves the states (no warnings)" || fail "frames: warnings: $err"
+for n in 1 2 4; do
+  expect 0 "frames: mpirun -n $n" -- timeout 120 mpirun -n "$n" --oversubscribe "$runner" run "$frames"
+  printf '%s\n' "$out" >"$work/fmranks$n.txt"
+  has "ranks $n distribute true" "frames: mpirun -n $n distributed"
+  /usr/bin/python3 "$work/compare.py" "$work/fmplain.txt" "$work/fmranks$n.txt" exact 0 >/dev/null &&
+    ok "frames -n $n: w:frame, the lab axes and the frame after a fall from a moved frame bit-identical to one process" ||
+    fail "frames -n $n: frame figures differ from one process"
+  /usr/bin/python3 "$work/compare.py" "$work/fmranks1.txt" "$work/fmranks$n.txt" flown,law 0 >/dev/null &&
+    ok "frames -n $n: fall, fall from a moved frame and arrival under an acceleration bit-identical to -n 1" ||
+    fail "frames -n $n: figures differ from -n 1"
+  worst=$(/usr/bin/python3 "$work/compare.py" "$work/fmplain.txt" "$work/fmranks$n.txt" flown 1e-14) &&
+    ok "frames -n $n: fall, fall from a moved frame and arrival under an acceleration within 1e-14 of one process (worst $worst)" ||
+    fail "frames -n $n: figures differ from one process by more than 1e-14"
+done
+flaw() { awk -v name="$1" '$1 == "law" && $2 ~ name { d = ($3 - $4) / $4; if (d < 0) d = -d; if (d > m) m = d } END { printf "%.2g", m }' "$work/fmranks4.txt"; }
+check_law() { # NAME-REGEX TOL WHAT
+  local m; m=$(flaw "$1")
+  awk -v m="$m" -v t="$2" 'BEGIN { exit !(m != "" && m < t) }' && ok "frames -n 4: $3 to $m" || fail "frames -n 4: $3 off by $m"
+}
+check_law '^frame[XV]$' 1e-12 "the frame falls by g t^2 / 2 at g t"
+check_law '^fall[xy]$' 1e-9 "w:fall moves the centre by v0 t + a t^2 / 2"
+check_law '^fallw[xy]$' 1e-9 "w:fall spreads the packet by the free width law"
+check_law '^fallkx$' 1e-6 "w:fall adds m a t / hbar to the wave number"
+check_law '^movedfall$' 1e-9 "a frame flight then w:fall put the lab centre at a (t3 + t4)^2 / 2"
+check_law '^arrivalmean$' 3e-3 "the mean arrival time at a plane 40 um below is the classical fall time"
+check_law '^arrived$' 1e-9 "all the probability arrives at the plane in the window"
+
 # Default planning (probe_default.lua): measured FFTW plans, as users run.
 # Every other probe plans with "estimate"; here the runner's default
 # (pf.run_info().planning == "measure") makes measured plans, rank 0 reads
 # the wisdom file and broadcasts it (fftw_mpi_broadcast_wisdom), and gathers
-# every rank's wisdom after planning (fftw_mpi_gather_wisdom) and saves it.
+# every rank's wisdom after planning (fftw_mpi_gather_wisdom) and saves it
+# (in PATH-mpi: one-process runs keep PATH).
 # Each configuration starts from a fresh wisdom file in $work (not the
 # suite's shared one).  Checks: untransformed figures the single process's
 # bits; after the flight, evolve with g and the density-table covariance
@@ -411,9 +503,9 @@ for n in 1 2 4; do
   printf '%s\n' "$out" >"$work/dranks$n.txt"
   has "ranks $n distribute true" "default planning: mpirun -n $n distributed"
   has "planning measure" "default planning -n $n: measured plans"
-  [ -s "$work/dwis$n" ] && grep -q fftw_mpi "$work/dwis$n" &&
-    ok "default planning -n $n: rank 0 saved the gathered wisdom, FFTW-MPI's plans included" ||
-    fail "default planning -n $n: no FFTW-MPI wisdom saved in $work/dwis$n"
+  [ -s "$work/dwis$n-mpi" ] && grep -q fftw_mpi "$work/dwis$n-mpi" &&
+    ok "default planning -n $n: rank 0 saved the gathered wisdom, FFTW-MPI's plans included, in PATH-mpi" ||
+    fail "default planning -n $n: no FFTW-MPI wisdom saved in $work/dwis$n-mpi"
   /usr/bin/python3 "$work/compare.py" "$work/dplain.txt" "$work/dranks$n.txt" exact 0 >/dev/null &&
     ok "default planning -n $n: untransformed figures bit-identical to one process" ||
     fail "default planning -n $n: untransformed figures differ from one process"
@@ -429,6 +521,19 @@ for n in 1 2 4; do
   cmp -s "$work/dagain$n-1.txt" "$work/dagain$n-2.txt" &&
     ok "default planning -n $n: reruns with the saved wisdom are byte-identical" ||
     fail "default planning -n $n: reruns with the saved wisdom differ"
+  # One process with the same --wisdom PATH: FFTW refuses wisdom stamped
+  # with another set of planners, so distributed runs keep theirs in
+  # PATH-mpi and neither kind of run spoils the other's file.
+  expect 0 "default planning: one process with -n $n's wisdom path" -- "$runner" run "$dflt" --wisdom "$work/dwis$n"
+  case "$err" in *"could not be read"*) fail "default planning -n $n: a one-process run could not read PATH: $err" ;; esac
+  ! grep -q fftw_mpi "$work/dwis$n" 2>/dev/null &&
+    ok "default planning -n $n: one-process and distributed runs with one --wisdom PATH keep separate files, read without a warning" ||
+    fail "default planning -n $n: FFTW-MPI wisdom ended up in the one-process file $work/dwis$n"
+  expect 0 "default planning: mpirun -n $n after the one-process run" -- timeout 180 mpirun -n "$n" --oversubscribe "$runner" run "$dflt" --wisdom "$work/dwis$n"
+  case "$err" in *"could not be read"*) fail "default planning -n $n: PATH-mpi not read after a one-process run: $err" ;; esac
+  [ "$out" = "$(cat "$work/dagain$n-1.txt")" ] &&
+    ok "default planning -n $n: after a one-process run with the same PATH, still the reruns' bytes" ||
+    fail "default planning -n $n: the one-process run changed the distributed run's plans"
   worst=$(/usr/bin/python3 "$work/compare.py" "$work/dplain.txt" "$work/dagain$n-1.txt" flown 1e-14) &&
     ok "default planning -n $n: rerun within 1e-14 of one process (worst $worst)" ||
     fail "default planning -n $n: rerun differs from one process by more than 1e-14"

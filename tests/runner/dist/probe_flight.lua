@@ -67,14 +67,6 @@ line("flown fallmean", w:position_mean())
 line("flown fallv", w:velocity_mean())
 local after = {w:position_mean()}
 line("law fallz", after[3], before[3] + vb[3] * ta + 0.5 * acc[3] * ta * ta)
--- Functions that do not handle distributed waves refuse by name.
-local refused = 0
-for _, f in ipairs({function() w:fall(1e-4, {0, 0, -9.81}) end,
-    function() pf.potential(g, function(x, y, z) return 0 end) end}) do
-  local ok, err = pcall(f)
-  if not ok and tostring(err):match("does not handle a [a-z ]+ distributed") then refused = refused + 1 end
-end
-if info.distribute then print("refusals " .. refused .. " of 2 named") end
 -- A function that does not handle distributed waves refuses clearly.
 local ok, err = pcall(function() return w:psi_at(0, 0, 0) end)
 print("refusal " .. (ok and "none" or (info.distribute and tostring(err):match("does not handle a wave function distributed") and "named" or tostring(err))))
