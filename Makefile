@@ -56,7 +56,7 @@ CJSON_LIBS   := $(shell $(PKG_CONFIG) --libs $(CJSON_PC) 2>/dev/null || echo -lc
 MPI_PC    ?= ompi-c
 MPI_LIBS  := $(shell $(PKG_CONFIG) --libs $(MPI_PC) 2>/dev/null)
 MPI_CFLAGS := $(if $(MPI_LIBS),-DPFR_HAVE_MPI $(shell $(PKG_CONFIG) --cflags $(MPI_PC) 2>/dev/null))
-# Distributed grids (engine/core/pf_dist.c and pf_dist_*.c, docs/distributed.md): FFTW's MPI
+# Distributed grids (engine/core/dist/, docs/distributed.md): FFTW's MPI
 # layer over the same MPI.  Found when MPI is and <fftw3-mpi.h> compiles with
 # it (Debian: libfftw3-mpi-dev, no pkg-config module); DIST=none turns it
 # off.  Without it pf_dist.c compiles to a single-process stand-in.
@@ -79,19 +79,42 @@ IO_LIBS   := $(patsubst -lhdf5,-lhdf5_hl -lhdf5,$(shell $(PKG_CONFIG) --libs $(I
 ALL_CFLAGS = $(CFLAGS_BASE) $(CFLAGS) $(SAN)
 CORE_LIBS  = $(DIST_LIBS) $(FFTW_LIBS) -lm -fopenmp $(SAN)
 
-CORE_SRC   := $(sort $(wildcard engine/core/*.c))
+# The core, the binding and the unit tests are grouped in domain folders with
+# the same names in each layer (engine/core/flight, engine/lua/flight,
+# tests/unit/flight; table in DEVELOPERS.md).  Every file includes the
+# project's headers by bare name ("pf_wave.h"); each compile line gets the
+# include folders of the layers it may use, so a file can move between
+# domain folders without touching an include, and a header from a layer
+# above (Lua's, HDF5's) is a build error in the core.
+CORE_DIRS   := engine/core $(patsubst %/,%,$(sort $(wildcard engine/core/*/)))
+LUA_DIRS    := engine/lua $(patsubst %/,%,$(sort $(wildcard engine/lua/*/)))
+UNIT_DIRS   := tests/unit $(patsubst %/,%,$(sort $(wildcard tests/unit/*/)))
+CORE_INC    := $(addprefix -I,$(CORE_DIRS))
+IO_INC      := $(CORE_INC) -Iengine/io
+LUA_INC     := $(IO_INC) $(addprefix -I,$(LUA_DIRS))
+RUNNER_INC  := $(LUA_INC) -Iengine/runner
+CORE_H      := $(wildcard $(addsuffix /*.h,$(CORE_DIRS)))
+IO_H        := $(CORE_H) $(wildcard engine/io/*.h)
+LUA_H       := $(IO_H) $(wildcard $(addsuffix /*.h,$(LUA_DIRS)))
+RUNNER_H    := $(LUA_H) $(wildcard engine/runner/*.h)
+UNIT_H      := $(IO_H) $(wildcard $(addsuffix /*.h,$(UNIT_DIRS)))
+
+CORE_SRC   := $(sort $(wildcard $(addsuffix /*.c,$(CORE_DIRS))))
 IO_SRC     := $(sort $(wildcard engine/io/*.c))
-LUA_SRC    := $(sort $(wildcard engine/lua/*.c))
+LUA_SRC    := $(sort $(wildcard $(addsuffix /*.c,$(LUA_DIRS))))
 RUNNER_SRC := $(sort $(wildcard engine/runner/*.c))
-UNIT_SRC   := $(sort $(wildcard tests/unit/test_*.c))
-UNIT_HELP  := $(filter-out $(UNIT_SRC),$(sort $(wildcard tests/unit/*.c)))
+UNIT_SRC   := $(sort $(wildcard $(addsuffix /test_*.c,$(UNIT_DIRS))))
+UNIT_HELP  := $(filter-out $(UNIT_SRC),$(sort $(wildcard $(addsuffix /*.c,$(UNIT_DIRS)))))
 
 CORE_OBJ   := $(CORE_SRC:%.c=$(BUILD)/%.o)
 IO_OBJ     := $(IO_SRC:%.c=$(BUILD)/%.o)
 LUA_OBJ    := $(LUA_SRC:%.c=$(BUILD)/%.o)
 RUNNER_OBJ := $(RUNNER_SRC:%.c=$(BUILD)/%.o) $(BUILD)/gen/pfr_recipe_data.o
 RECIPE_SRC := $(sort $(wildcard engine/recipes/*.lua))
-UNIT_BIN   := $(UNIT_SRC:tests/unit/%.c=$(BUILD)/tests/%)
+# Unit test binaries stay flat (BUILD/tests/test_NAME, what tests/run-all.sh
+# runs), so two domain folders may not hold tests of the same name.
+UNIT_BIN   := $(addprefix $(BUILD)/tests/,$(basename $(notdir $(UNIT_SRC))))
+$(if $(filter-out $(words $(UNIT_BIN)),$(words $(sort $(UNIT_BIN)))),$(error two unit tests share a name: $(sort $(UNIT_SRC))))
 UNIT_HELP_OBJ := $(UNIT_HELP:%.c=$(BUILD)/%.o)
 
 RUNNER := $(BUILD)/psiflight
@@ -125,22 +148,24 @@ $(BUILD_ENV): scripts/check-build-env.sh
 	  $(PLPLOT_PC)=libplplot17 $(CJSON_PC)=libcjson-dev
 	@mkdir -p $(dir $@) && touch $@
 
-$(BUILD)/engine/core/%.o: engine/core/%.c $(wildcard engine/core/*.h) | $(BUILD_ENV)
+# The core sees only its own folders (no Lua, no HDF5); only the files of
+# engine/core/dist get the MPI flags.
+$(BUILD)/engine/core/%.o: engine/core/%.c $(CORE_H) | $(BUILD_ENV)
 	@mkdir -p $(dir $@)
-	$(CC) $(ALL_CFLAGS) $(FFTW_CFLAGS) $(if $(filter engine/core/pf_dist.c engine/core/pf_dist_%.c,$<),$(DIST_CFLAGS)) -c $< -o $@
+	$(CC) $(ALL_CFLAGS) $(CORE_INC) $(FFTW_CFLAGS) $(if $(filter engine/core/dist/%,$<),$(DIST_CFLAGS)) -c $< -o $@
 
-$(BUILD)/engine/io/%.o: engine/io/%.c $(wildcard engine/io/*.h engine/core/*.h) | $(BUILD_ENV)
+$(BUILD)/engine/io/%.o: engine/io/%.c $(IO_H) | $(BUILD_ENV)
 	@mkdir -p $(dir $@)
-	$(CC) $(ALL_CFLAGS) $(IO_CFLAGS) $(FFTW_CFLAGS) -c $< -o $@
+	$(CC) $(ALL_CFLAGS) $(IO_INC) $(IO_CFLAGS) $(FFTW_CFLAGS) -c $< -o $@
 
 # The core must not see Lua: it is compiled without the Lua include path.
-$(BUILD)/engine/lua/%.o: engine/lua/%.c $(wildcard engine/lua/*.h engine/core/*.h engine/io/*.h) | $(BUILD_ENV)
+$(BUILD)/engine/lua/%.o: engine/lua/%.c $(LUA_H) | $(BUILD_ENV)
 	@mkdir -p $(dir $@)
-	$(CC) $(ALL_CFLAGS) $(LUA_CFLAGS) $(FFTW_CFLAGS) -c $< -o $@
+	$(CC) $(ALL_CFLAGS) $(LUA_INC) $(LUA_CFLAGS) $(FFTW_CFLAGS) -c $< -o $@
 
-$(BUILD)/engine/runner/%.o: engine/runner/%.c $(wildcard engine/runner/*.h engine/lua/*.h engine/core/*.h engine/io/*.h) | $(BUILD_ENV)
+$(BUILD)/engine/runner/%.o: engine/runner/%.c $(RUNNER_H) | $(BUILD_ENV)
 	@mkdir -p $(dir $@)
-	$(CC) $(ALL_CFLAGS) $(LUA_CFLAGS) $(CJSON_CFLAGS) $(MPI_CFLAGS) -c $< -o $@
+	$(CC) $(ALL_CFLAGS) $(RUNNER_INC) $(LUA_CFLAGS) $(CJSON_CFLAGS) $(MPI_CFLAGS) -c $< -o $@
 
 # The bundled recipe library: engine/recipes/*.lua compiled into the runner.
 $(BUILD)/gen/pfr_recipe_data.c: $(RECIPE_SRC) scripts/embed-recipes.sh
@@ -217,13 +242,17 @@ $(TEST_ENV): scripts/check-build-env.sh | $(BUILD_ENV)
 	@bash scripts/check-build-env.sh $(CMOCKA_PC)=libcmocka-dev gsl=libgsl-dev libcerf=libcerf-dev
 	@mkdir -p $(dir $@) && touch $@
 
-$(BUILD)/tests/unit/%.o: tests/unit/%.c $(wildcard tests/unit/*.h engine/core/*.h engine/io/*.h) | $(TEST_ENV)
+$(BUILD)/tests/unit/%.o: tests/unit/%.c $(UNIT_H) | $(TEST_ENV)
 	@mkdir -p $(dir $@)
-	$(CC) $(ALL_CFLAGS) $(FFTW_CFLAGS) $(IO_CFLAGS) $(CMOCKA_CFLAGS) $(TEST_CFLAGS) -Iengine/core -c $< -o $@
+	$(CC) $(ALL_CFLAGS) $(IO_INC) $(addprefix -I,$(UNIT_DIRS)) $(FFTW_CFLAGS) $(IO_CFLAGS) $(CMOCKA_CFLAGS) $(TEST_CFLAGS) -c $< -o $@
 
-# Unit tests may also exercise the output layer (engine/io).
-$(BUILD)/tests/%: $(BUILD)/tests/unit/%.o $(UNIT_HELP_OBJ) $(IO_LIB) $(CORE_LIB)
-	$(CC) -o $@ $< $(UNIT_HELP_OBJ) $(IO_LIB) $(CORE_LIB) $(CMOCKA_LIBS) $(TEST_LIBS) $(IO_LIBS) $(CORE_LIBS)
+# Unit tests may also exercise the output layer (engine/io).  One link rule
+# per test: tests/unit/DOMAIN/test_NAME.c -> BUILD/tests/test_NAME.
+define UNIT_LINK
+$(BUILD)/tests/$(basename $(notdir $(1))): $(BUILD)/$(1:.c=.o) $$(UNIT_HELP_OBJ) $$(IO_LIB) $$(CORE_LIB)
+	$$(CC) -o $$@ $$< $$(UNIT_HELP_OBJ) $$(IO_LIB) $$(CORE_LIB) $$(CMOCKA_LIBS) $$(TEST_LIBS) $$(IO_LIBS) $$(CORE_LIBS)
+endef
+$(foreach s,$(UNIT_SRC),$(eval $(call UNIT_LINK,$(s))))
 
 unit-tests: $(UNIT_BIN)
 
@@ -244,9 +273,9 @@ bench: deps
 	@$(MAKE) --no-print-directory all $(BENCH_BIN)
 	@bash tests/bench/run-bench.sh $(BUILD)
 
-$(BUILD)/bench/bench_%: tests/bench/bench_%.c tests/bench/bench_util.h $(CORE_LIB)
+$(BUILD)/bench/bench_%: tests/bench/bench_%.c tests/bench/bench_util.h $(CORE_H) $(CORE_LIB)
 	@mkdir -p $(dir $@)
-	$(CC) $(ALL_CFLAGS) $(FFTW_CFLAGS) -Iengine/core -Itests/bench -o $@ $< $(CORE_LIB) $(CORE_LIBS)
+	$(CC) $(ALL_CFLAGS) $(FFTW_CFLAGS) $(CORE_INC) -Itests/bench -o $@ $< $(CORE_LIB) $(CORE_LIBS)
 
 asan: deps-test
 	@$(MAKE) --no-print-directory BUILD=build-asan OPT="-O1 -g -fno-omit-frame-pointer" \
@@ -275,9 +304,9 @@ RUNNER_LIB_OBJ := $(filter-out $(BUILD)/engine/runner/psiflight.o,$(RUNNER_OBJ))
 
 fuzz-harnesses: $(FUZZ_BIN)
 
-$(BUILD)/fuzz/fuzz_%: tests/fuzz/fuzz_%.c tests/fuzz/fuzz_util.h $(RUNNER_LIB_OBJ) $(LUA_OBJ) $(IO_LIB) $(CORE_LIB)
+$(BUILD)/fuzz/fuzz_%: tests/fuzz/fuzz_%.c tests/fuzz/fuzz_util.h $(RUNNER_H) $(RUNNER_LIB_OBJ) $(LUA_OBJ) $(IO_LIB) $(CORE_LIB)
 	@mkdir -p $(dir $@)
-	$(CC) $(ALL_CFLAGS) -fsanitize=fuzzer $(LUA_CFLAGS) $(IO_CFLAGS) $(CJSON_CFLAGS) $(FFTW_CFLAGS) -o $@ $< \
+	$(CC) $(ALL_CFLAGS) -fsanitize=fuzzer $(RUNNER_INC) -Itests/fuzz $(LUA_CFLAGS) $(IO_CFLAGS) $(CJSON_CFLAGS) $(FFTW_CFLAGS) -o $@ $< \
 	  $(RUNNER_LIB_OBJ) $(LUA_OBJ) $(IO_LIB) $(CORE_LIB) $(LUA_LIBS) $(IO_LIBS) $(CJSON_LIBS) $(MPI_LIBS) $(CORE_LIBS) -fsanitize=fuzzer -Wl,-E
 
 fuzz-build:

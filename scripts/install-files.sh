@@ -53,12 +53,14 @@ put 755 "$RUNNER" "$BINDIR/psiflight"
 put 755 "$MODULE" "$LUA_CMOD/psiflight.so"
 put 644 "$CORE_LIB" "$LIBDIR/libpsiflight-core.a"
 
-# The core's public headers: everything but the structure layouts shared
-# inside the core (pf_internal.h) and the kernels that use them.
-for h in "$root"/engine/core/*.h; do
+# The core's public headers, from all its domain folders into one flat
+# folder (they include each other by bare name): everything but the
+# structure layouts shared inside the core (pf_internal.h) and the kernels
+# that use them.
+while IFS= read -r h; do
   case $(basename "$h") in pf_internal.h | pf_kernels.h) continue ;; esac
   put 644 "$h" "$INCLUDEDIR/psiflight/$(basename "$h")"
-done
+done < <(find "$root/engine/core" -name '*.h' -type f | LC_ALL=C sort)
 
 pc=$(mktemp)
 cat >"$pc" <<EOF
@@ -69,7 +71,7 @@ includedir=$INCLUDEDIR
 
 Name: psiflight
 Description: free evolution of quantum wave packets: the numeric core library
-Version: $(sed -n 's/^#define PF_VERSION "\(.*\)"/\1/p' "$root/engine/core/pf_version.h")
+Version: $(sed -n 's/^#define PF_VERSION "\(.*\)"/\1/p' "$root/engine/core/base/pf_version.h")
 Requires: ${PC_REQUIRES:-fftw3}
 Libs: -L\${libdir} -lpsiflight-core ${PC_LIBS:-}
 Cflags: -I\${includedir}

@@ -5,7 +5,7 @@
 #define PF_PI 3.14159265358979323846
 
 /* Saturation 0.8, not the 1.2 of Green's example: at 1.2 the helix clips in the
- * pinks and the 8-bit table steps back in CIE L* (tests/unit/test_colormap.c). */
+ * pinks and the 8-bit table steps back in CIE L* (tests/unit/io/test_colormap.c). */
 const pf_cubehelix_params pf_cubehelix_default = {0.5, -1.5, 0.8, 1.0};
 
 void pf_cubehelix(const pf_cubehelix_params *p, double lambda, double rgb[3])

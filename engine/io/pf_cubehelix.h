@@ -13,7 +13,7 @@ typedef struct pf_cubehelix_params {
 } pf_cubehelix_params;
 
 /* psiflight's map colours: start 0.5, rotations -1.5, hue 0.8, gamma 1 (lightness
- * rises at every one of the 256 table entries, tests/unit/test_colormap.c). */
+ * rises at every one of the 256 table entries, tests/unit/io/test_colormap.c). */
 extern const pf_cubehelix_params pf_cubehelix_default;
 
 /* Colour at fraction lambda in [0, 1] (clamped), components in [0, 1]

@@ -8,11 +8,11 @@
 #include <string.h>
 #include <hdf5.h>
 #include <hdf5_hl.h>
-#include "../core/pf_constants.h"
-#include "../core/pf_dist.h"
-#include "../core/pf_frame.h"
-#include "../core/pf_species.h"
-#include "../core/pf_version.h"
+#include "pf_constants.h"
+#include "pf_dist.h"
+#include "pf_frame.h"
+#include "pf_species.h"
+#include "pf_version.h"
 #include "pf_h5.h"
 #include "pf_readcap.h"
 #include "pf_safefile.h"

@@ -8,7 +8,7 @@
 #ifndef PF_H5_H
 #define PF_H5_H
 
-#include "../core/pf_wave.h"
+#include "pf_wave.h"
 #include "pf_samples.h"
 #include "pf_table.h"
 

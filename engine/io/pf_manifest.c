@@ -6,7 +6,7 @@
 #include <cJSON.h>
 #include "pf_h5.h"
 #include "pf_manifest.h"
-#include "../core/pf_plans.h"
+#include "pf_plans.h"
 #include "pf_picture.h"
 #include "pf_safefile.h"
 #include "pf_sha256.h"

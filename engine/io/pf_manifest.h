@@ -11,7 +11,7 @@
 #define PF_MANIFEST_H
 
 #include <stddef.h>
-#include "../core/pf_context.h"
+#include "pf_context.h"
 
 #define PF_MANIFEST_NAME "manifest.json"
 

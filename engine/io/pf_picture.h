@@ -10,7 +10,7 @@
 #define PF_PICTURE_H
 
 #include <stddef.h>
-#include "../core/pf_context.h"
+#include "pf_context.h"
 
 typedef enum pf_quantity {
     PF_Q_PLAIN = 0,    /* shown as given, label verbatim */

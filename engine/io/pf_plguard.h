@@ -10,7 +10,7 @@
 #ifndef PF_PLGUARD_H
 #define PF_PLGUARD_H
 
-#include "../core/pf_context.h"
+#include "pf_context.h"
 
 /* Runs draw(user), which makes one PLplot stream and ends it with plend1.
  * Returns PF_OK, or PF_EIO with "PLplot failed: <PLplot's message>" after

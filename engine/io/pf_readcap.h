@@ -11,10 +11,10 @@
 
 #include <stddef.h>
 #include <stdint.h>
-#include "../core/pf_context.h"
+#include "pf_context.h"
 
 /* The most samples one axis of a file may hold: the same bound a grid axis
- * accepts (PF_MAX_AXIS_POINTS in engine/core/pf_grid.c), since samples end
+ * accepts (PF_MAX_AXIS_POINTS in engine/core/base/pf_grid.c), since samples end
  * up on a grid. */
 #define PF_READ_MAX_AXIS ((uint64_t)1 << 30)
 

@@ -7,7 +7,7 @@
 #ifndef PF_SAFEFILE_H
 #define PF_SAFEFILE_H
 
-#include "../core/pf_context.h"
+#include "pf_context.h"
 
 typedef struct pf_safefile {
     char *final_path;   /* where the file goes when committed */

@@ -4,7 +4,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-#include "../core/pf_dist.h"
+#include "pf_dist.h"
 #include "pf_samples.h"
 
 void pf_samples_free(pf_samples *s)

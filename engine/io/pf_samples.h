@@ -5,7 +5,7 @@
 #define PF_SAMPLES_H
 
 #include <complex.h>
-#include "../core/pf_wave.h"
+#include "pf_wave.h"
 
 typedef struct pf_samples {
     int dim;

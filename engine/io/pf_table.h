@@ -4,7 +4,7 @@
 #define PF_TABLE_H
 
 #include <stddef.h>
-#include "../core/pf_context.h"
+#include "pf_context.h"
 
 /* One column, borrowed from the caller.  unit may be "" (dimensionless).
  * A text column (step kinds, labels) sets text and leaves values NULL. */

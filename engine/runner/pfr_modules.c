@@ -8,8 +8,8 @@
 #include <string.h>
 #include <unistd.h>
 #include <lauxlib.h>
-#include "../io/pf_sha256.h"
-#include "../lua/pfl.h"
+#include "pf_sha256.h"
+#include "pfl.h"
 #include "pfr_modules.h"
 #include "pfr_sandbox.h"
 

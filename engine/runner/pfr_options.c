@@ -4,8 +4,8 @@
 #include <stdarg.h>
 #include <stdlib.h>
 #include <string.h>
-#include "../core/pf_units.h"
-#include "../lua/pfl_suffix.h"
+#include "pf_units.h"
+#include "pfl_suffix.h"
 #include "pfr_exit.h"
 #include "pfr_options.h"
 #include "pfr_usage.h"

@@ -3,7 +3,7 @@
  * (pfr_stop.c decides when; the manifest then says why). */
 #include <stdio.h>
 #include <string.h>
-#include "../lua/pfl.h"
+#include "pfl.h"
 #include "pfr_exit.h"
 #include "pfr_record.h"
 #include "pfr_stop.h"

@@ -15,10 +15,10 @@
 #include <lauxlib.h>
 #include <lua.h>
 #include <lualib.h>
-#include "../core/pf_version.h"
-#include "../lua/pfl.h"
-#include "../io/pf_sha256.h"
-#include "../lua/pfl_params.h"
+#include "pf_version.h"
+#include "pfl.h"
+#include "pf_sha256.h"
+#include "pfl_params.h"
 #include "pfr_exit.h"
 #include "pfr_limits.h"
 #include "pfr_modules.h"

@@ -13,8 +13,8 @@
 #include <unistd.h>
 #include <lauxlib.h>
 #include <lualib.h>
-#include "../lua/pfl.h"
-#include "../lua/pfl_options.h"
+#include "pfl.h"
+#include "pfl_options.h"
 #include "pfr_sandbox.h"
 
 /* Upvalue 1: the operation's name; upvalue 2: why it is refused. */

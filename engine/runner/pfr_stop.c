@@ -30,9 +30,9 @@
 #include <sys/time.h>
 #include <unistd.h>
 #include <lauxlib.h>
-#include "../core/pf_context.h"
-#include "../io/pf_safefile.h"
-#include "../lua/pfl.h"
+#include "pf_context.h"
+#include "pf_safefile.h"
+#include "pfl.h"
 #include "pfr_exit.h"
 #include "pfr_stop.h"
 

@@ -19,7 +19,7 @@
 #include <sys/stat.h>
 #include <sys/wait.h>
 #include <unistd.h>
-#include "../lua/pfl_suffix.h"
+#include "pfl_suffix.h"
 #include "pfr_exit.h"
 #include "pfr_manifest.h"
 #include "pfr_modules.h"

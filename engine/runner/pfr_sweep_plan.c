@@ -4,7 +4,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-#include "../lua/pfl_suffix.h"
+#include "pfl_suffix.h"
 #include "pfr_sweep_plan.h"
 
 #define MAX_POINTS 1000000

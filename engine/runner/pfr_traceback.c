@@ -3,7 +3,7 @@
  * functions of the engine or the Lua libraries. */
 #include <string.h>
 #include <lauxlib.h>
-#include "../lua/pfl_params.h"
+#include "pfl_params.h"
 #include "pfr_stop.h"
 #include "pfr_traceback.h"
 

@@ -5,7 +5,7 @@
  * listed here is accepted and that the man page lists the same options as
  * --help. */
 #include <string.h>
-#include "../core/pf_version.h"
+#include "pf_version.h"
 #include "pfr_usage.h"
 
 static const char *const SYNOPSIS[] = {

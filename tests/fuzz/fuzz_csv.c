@@ -6,8 +6,8 @@
  * The input is the file's content.  Besides the sanitizers it checks the
  * reader's promises: a table has equal columns, each numeric or text. */
 #include "fuzz_util.h"
-#include "../../engine/core/pf_context.h"
-#include "../../engine/io/pf_table.h"
+#include "pf_context.h"
+#include "pf_table.h"
 
 /* The three ways a script loads CSV samples: the grid from the file, a grid
  * of its own (exact match or refusal), and a grid with interpolation. */

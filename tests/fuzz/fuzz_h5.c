@@ -58,9 +58,9 @@
 #include <signal.h>
 #include <sys/prctl.h>
 #include <sys/wait.h>
-#include "../../engine/io/pf_fault.h"
-#include "../../engine/io/pf_h5.h"
-#include "../../engine/io/pf_samples.h"
+#include "pf_fault.h"
+#include "pf_h5.h"
+#include "pf_samples.h"
 
 int LLVMFuzzerInitialize(int *argc, char ***argv);
 const char *__asan_default_options(void);

@@ -5,7 +5,7 @@
  * name, every parameter with a name and a text, lookups of those names
  * answer. */
 #include "fuzz_util.h"
-#include "../../engine/runner/pfr_manifest.h"
+#include "pfr_manifest.h"
 
 int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
 {

@@ -12,8 +12,8 @@
  * sanitizers it checks that the sandbox never loads the link's target. */
 #include <limits.h>
 #include "fuzz_util.h"
-#include "../../engine/runner/pfr_modules.h"
-#include "../../engine/runner/pfr_sandbox.h"
+#include "pfr_modules.h"
+#include "pfr_sandbox.h"
 
 static void make_tree(void)
 {

@@ -10,7 +10,7 @@
  * reads it as one (integer or float), otherwise a string.  The key "-" makes
  * the entry a plain value instead of a table (a malformed declaration). */
 #include "fuzz_util.h"
-#include "../../engine/lua/pfl_params.h"
+#include "pfl_params.h"
 
 #define MAX_SETS 32
 

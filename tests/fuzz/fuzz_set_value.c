@@ -9,8 +9,8 @@
  * promises: a parsed number is finite and the unit is the table's entry. */
 #include <math.h>
 #include "fuzz_util.h"
-#include "../../engine/lua/pfl_suffix.h"
-#include "../../engine/runner/pfr_options.h"
+#include "pfl_suffix.h"
+#include "pfr_options.h"
 
 #define MAX_ARGS 64
 

@@ -8,8 +8,8 @@
  * sanitizers it checks the plan's promises: every name and value is there
  * and no plan exceeds a million points. */
 #include "fuzz_util.h"
-#include "../../engine/runner/pfr_options.h"
-#include "../../engine/runner/pfr_sweep_plan.h"
+#include "pfr_options.h"
+#include "pfr_sweep_plan.h"
 
 #define MAX_VARY 4
 

@@ -2,7 +2,7 @@
 -- advisor proposes for a Gaussian state passes the Gaussian builder's own
 -- resolution check (feature >= 3 dx, momentum inside Nyquist, state inside
 -- the grid), which strict mode turns into an error.  The builder's rule and
--- the advisor's share pf_resolution_max_spacing (engine/core/pf_resolution.c);
+-- the advisor's share pf_resolution_max_spacing (engine/core/states/pf_resolution.c);
 -- before, a 3D proposal was refused ("smallest feature spans only 2.63 grid
 -- spacings (want 3)").  Consistency check between two parts of the engine
 -- (no outside reference is involved).

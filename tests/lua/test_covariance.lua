@@ -1,6 +1,6 @@
 -- test_covariance.lua - w:position_momentum_covariance() through the Lua API:
 -- the d x d table, SI units, the chirped-Gaussian closed form and the
--- free-particle moment equations.  Tight checks: tests/unit/test_covariance.c.
+-- free-particle moment equations.  Tight checks: tests/unit/measure/test_covariance.c.
 local pf = require "psiflight"
 local check = require "check"
 pf.setup{planning = "estimate"}
@@ -9,7 +9,7 @@ local m = pf.mass("87Rb")
 
 -- Chirped Gaussian psi ~ exp(-u^2/(4 s^2) + i b u^2 + i k0 x): closed form
 -- <xp+px>/2 - <x><p> = 2 hbar b s^2 (textbook Gaussian integrals; derived in
--- tests/unit/test_covariance.c).
+-- tests/unit/measure/test_covariance.c).
 local s, b, c, k0 = 2e-6, 2e10, -5e-6, 3e5
 local g1 = pf.grid{points = 256, span = 100e-6}
 local w = pf.wave(g1, {mass = m, position = function(x)

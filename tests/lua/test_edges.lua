@@ -3,7 +3,7 @@
 -- soft edges (edge_width) quieting the momentum guard, and refused values.
 -- The physics checks against the Fresnel integrals and the circular
 -- aperture's on-axis law: tests/ref/test_edges_fresnel_scipy.sh; the tables
--- themselves: tests/unit/test_edges.c.
+-- themselves: tests/unit/protocols/test_edges.c.
 local pf = require "psiflight"
 local check = require "check"
 pf.setup{planning = "estimate"}

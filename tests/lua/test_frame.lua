@@ -645,7 +645,7 @@ end
 -- the values there, so the plotted curve's centre is the lab centre -g t^2/2
 -- (Newton; common practice).  picture_carpet draws one lab window holding
 -- every time's co-moving grid (tests/ref/test_picture_pixels.sh reads the
--- parabola from the pixels; tests/unit/test_frame.c checks the placed values
+-- parabola from the pixels; tests/unit/flight/test_frame.c checks the placed values
 -- against the closed-form falling Gaussian); a drop far longer than the grid
 -- asks for an x_range (lab coordinates), which then draws.
 do

@@ -2,7 +2,7 @@
 -- API: units and axes, reproducible sampling, collapse, cameras, arrival
 -- times, Wigner functions, fringes, mixtures and thermal clouds.  The
 -- source of each reference value is named beside the check; the C unit
--- tests (tests/unit/test_{flux,wigner,sample,...}.c) hold the tight checks.
+-- tests (tests/unit/measure/test_{flux,wigner,sample,...}.c) hold the tight checks.
 local pf = require "psiflight"
 local check = require "check"
 pf.setup{planning = "estimate", seed = 11}

@@ -19,7 +19,7 @@ grep -q "No such file or directory" "$tmp/out" && fail "a compiler error reached
 ls "$tmp/b"/engine 2>/dev/null | grep -q . && fail "objects were compiled before the check"
 echo "ok a missing build module stops make before compiling, naming the module, liblua5.4-dev and make deps"
 
-make -C "$root" --no-print-directory BUILD="$tmp/b" CMOCKA_PC=psiflight-no-such-cmocka "$tmp/b/tests/unit/test_grid.o" >"$tmp/out" 2>&1
+make -C "$root" --no-print-directory BUILD="$tmp/b" CMOCKA_PC=psiflight-no-such-cmocka "$tmp/b/tests/unit/base/test_grid.o" >"$tmp/out" 2>&1
 [ $? -ne 0 ] || fail "a unit test compiled without cmocka"
 grep -q "libcmocka-dev" "$tmp/out" || { cat "$tmp/out"; fail "cmocka's package not named"; }
 echo "ok a missing test module names libcmocka-dev"

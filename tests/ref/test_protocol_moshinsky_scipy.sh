@@ -6,7 +6,7 @@
 #   xi = (v t - x) / sqrt(pi hbar t / m)
 # (Moshinsky, Phys. Rev. 88, 625 (1952); scipy.special.fresnel uses
 # C(z) = int_0^z cos(pi u^2 / 2) du).  An independent check of the libcerf
-# form used by tests/unit/test_protocol_moshinsky.c.  Tolerance: 6e-3 of the
+# form used by tests/unit/protocols/test_protocol_moshinsky.c.  Tolerance: 6e-3 of the
 # plateau density at dx = 1.5% of the Fresnel length (the grid's cut of the
 # sharp shutter's spectrum; the error falls as dx).
 set -u

@@ -169,7 +169,7 @@ worst=$(/usr/bin/python3 "$work/law.py" "$work/measure.4.txt" 1e-6 energy chemic
 worst=$(/usr/bin/python3 "$work/law.py" "$work/measure.2.txt" 1e-9 fperiod fvisibility) &&
   ok "measure -n 2: fringes recover the period and visibility built in ($worst)" || fail "measure -n 2: fringe law missed"
 
-# Per-slab measurements (probe_slab.lua, engine/core/pf_dist_measure.c): on
+# Per-slab measurements (probe_slab.lua, engine/core/dist/pf_dist_measure.c): on
 # a 3D wave (22 x 18 x 16; 3 ranks hold 8, 8, 6 planes, 4 ranks 6, 6, 6, 4)
 # every marginal and column density (along the split axis too), slices,
 # radial profiles, covariances, region probabilities, fringe fits, cameras

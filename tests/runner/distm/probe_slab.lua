@@ -1,5 +1,5 @@
 -- probe_slab.lua - the density measurements that run on each rank's own
--- planes (engine/core/pf_dist_measure.c), on a 3D wave split over MPI
+-- planes (engine/core/dist/pf_dist_measure.c), on a 3D wave split over MPI
 -- ranks, for tests/runner/test_distributed_measure.sh (run as one process
 -- and under mpirun with pf.setup{distribute = true}).  Tags: "exact" the
 -- same bits everywhere, "flown" the same bits at every rank count and
@@ -44,7 +44,7 @@ end})
 -- The single process's summations written out in Lua (doubles, the same
 -- operations in the same order), run on the gathered table: pf_field_marginal
 -- (out[o] += value * weight in field order), pf_field_radial and
--- pf_field_moments (engine/core/pf_distrib.c).
+-- pf_field_moments (engine/core/measure/pf_distrib.c).
 local function marginal_of(dist, keep, steps)
   local n, weight, kept = dist.shape, 1, {}
   for ax = 1, 3 do
