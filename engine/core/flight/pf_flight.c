@@ -198,6 +198,10 @@ __attribute__((target("avx512f"))) static void phase_segment_avx512(double compl
         _mm512_storeu_pd((double *)(d + u), cmul512(_mm512_loadu_pd((const double *)(d + u)), f));
         cv = cmul512(cv, step);
     }
+    /* Clean upper register halves on return, explicitly: gcc's own
+     * vzeroupper at the exit was missing in the sanitizer build (ASan's
+     * epilogue), and the row kernels clear them the same way. */
+    _mm256_zeroupper();
 }
 
 /* The same four lanes as phase_segment_plain, in two registers. */
@@ -217,6 +221,7 @@ __attribute__((target("avx2"))) static void phase_segment_avx2(double complex *r
         lo = cmul256(lo, step);
         hi = cmul256(hi, step);
     }
+    _mm256_zeroupper(); /* as in phase_segment_avx512 */
 }
 #endif
 
