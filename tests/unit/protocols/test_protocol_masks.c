@@ -18,7 +18,7 @@ static void test_slit_removes_gaussian_tail(void **state)
     tu_gauss p = {.sigma = {4e-6}};
     pf_wave *w = tu_gauss_wave(g, RB87_MASS, &p);
     double a = 200.5 * dx, removed = 0;
-    assert_int_equal(pf_wave_slits(w, 0, 1, 2 * a, 0, 0, NULL, &removed), PF_OK);
+    assert_int_equal(pf_wave_slits(w, &(pf_slits_spec){.axis = 0, .count = 1, .width = 2 * a}, NULL, &removed), PF_OK);
     double want = gsl_sf_erfc(a / (sqrt(2.0) * 4e-6));
     TU_NEAR(removed, want, 1e-5 * want, "slit removes erfc(a / sqrt2 sigma) [GSL]");
     TU_NEAR(pf_wave_norm(w), 1.0 - want, 1e-5 * want, "norm after slit = 1 - removed");
