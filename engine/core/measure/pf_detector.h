@@ -12,7 +12,7 @@
 #ifndef PF_DETECTOR_H
 #define PF_DETECTOR_H
 
-#include "pf_distrib.h"
+#include "pf_field.h"
 #include "pf_random.h"
 
 /* Resonant absorption cross-section of a closed two-level transition,

@@ -3,7 +3,7 @@
 #include <stdlib.h>
 #include "measure_util.h"
 #include "pf_detector.h"
-#include "pf_distrib.h"
+#include "pf_field.h"
 
 static pf_wave *cloud3d(pf_context *ctx, pf_grid **gout)
 {
