@@ -250,20 +250,20 @@ void pfl_open_record(lua_State *L, int mod);
 void pfl_open_files(lua_State *L, int mod);
 void pfl_open_pictures(lua_State *L, int mod);
 void pfl_open_progress(lua_State *L, int mod);
-/* Measurements, detectors, ensembles (issue 6; helpers in pfl_measure.h). */
+/* Measurements, detectors, ensembles (helpers in pfl_measure.h). */
 void pfl_open_random(lua_State *L, int mod);
 void pfl_open_ensemble(lua_State *L, int mod);
 void pfl_open_measure(lua_State *L, int mod);
 void pfl_open_distrib(lua_State *L, int mod);
 void pfl_open_flux(lua_State *L, int mod);
 void pfl_open_detector(lua_State *L, int mod);
-void pfl_open_ops(lua_State *L, int mod);     /* issue 4: pulses, masks, shifts */
-void pfl_open_evolve(lua_State *L, int mod);  /* issue 4: fall, evolve, relax */
+void pfl_open_ops(lua_State *L, int mod);     /* protocol steps: pulses, masks, shifts */
+void pfl_open_evolve(lua_State *L, int mod);  /* protocol steps: fall, evolve, relax */
 void pfl_open_lab(lua_State *L, int mod);     /* pf.coupling, pf.beam: lab quantities */
 void pfl_open_expand(lua_State *L, int mod);  /* w:expand: mean-field expansion on a growing grid */
-void pfl_open_levels(lua_State *L, int mod);  /* issue 15: pf.levels, internal states and pulses */
-void pfl_open_frame(lua_State *L, int mod);   /* issue 14: moving frames */
-void pfl_open_dist(lua_State *L, int mod);    /* issue 17: grids over MPI ranks */
+void pfl_open_levels(lua_State *L, int mod);  /* pf.levels: internal states and pulses */
+void pfl_open_frame(lua_State *L, int mod);   /* flight: moving frames */
+void pfl_open_dist(lua_State *L, int mod);    /* distributed grids over MPI ranks */
 /* Pushes the script name of the running C function ("wave:fly"), or nil. */
 void pfl_push_running_name(lua_State *L);
 /* Raises an argument error at arg when w (or g) is distributed over MPI
