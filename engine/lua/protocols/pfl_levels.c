@@ -207,11 +207,10 @@ static int l_levels(lua_State *L)
     pf_frame frame0;
     if (first) pf_wave_frame(first, &frame0);
     for (int i = 0; i < n; i++) {
-        pf_wave *w = NULL;
-        pfl_push_wave(L, NULL);
-        pf_status s = given[i] ? pf_wave_copy(given[i], &w) : pf_wave_new(g, mass, &w);
+        pf_wave **slot = pfl_push_wave_slot(L);
+        pf_status s = given[i] ? pf_wave_copy(given[i], slot) : pf_wave_new(g, mass, slot);
         pfl_check(L, s, "levels");
-        pfl_wave_adopt(L, -1, w);
+        pf_wave *w = *slot;
         if (!given[i]) pf_wave_set_clock(w, clock);
         if (!given[i] && first) pfl_check(L, pf_wave_set_frame(w, &frame0), "levels");
         waves[i] = w;
