@@ -1,8 +1,7 @@
 /* pf_cubehelix.c - Green's cubehelix colour map from its formula. */
 #include <math.h>
+#include "pf_constants.h"
 #include "pf_cubehelix.h"
-
-#define PF_PI 3.14159265358979323846
 
 /* Saturation 0.8, not the 1.2 of Green's example: at 1.2 the helix clips in the
  * pinks and the 8-bit table steps back in CIE L* (tests/unit/io/test_colormap.c). */

@@ -295,9 +295,9 @@ static int end_decimals(double v, double step, int d)
     return e < d ? d : e;
 }
 
-int pf_picture_ticks(double lo, double hi, double len_px, double char_px, double gap_px, double *step_out,
-                     pf_tick_label *lab, int max)
+int pf_picture_ticks(const pf_tick_spec *spec, double *step_out, pf_tick_label *lab, int max)
 {
+    double lo = spec->lo, hi = spec->hi, len_px = spec->len_px, char_px = spec->char_px, gap_px = spec->gap_px;
     double span = hi - lo;
     if (!(span > 0) || !isfinite(span) || !(len_px > 0) || max < 2) return 0;
     static const double mant[] = {1, 2, 5};
@@ -349,8 +349,9 @@ typedef struct axis_labels {
  * heights apart (the colour bar's sparser, its labels being read less). */
 static void choose_ticks(axis_labels *a, double lo, double hi, double len_px, double ch, double along)
 {
-    a->n = pf_picture_ticks(lo, hi, len_px, along == 1 ? CHAR_W * ch : 0, along == 1 ? 2.0 * CHAR_W * ch : along * ch,
-                            &a->step, a->lab, 64);
+    pf_tick_spec spec = {.lo = lo, .hi = hi, .len_px = len_px, .char_px = along == 1 ? CHAR_W * ch : 0,
+                         .gap_px = along == 1 ? 2.0 * CHAR_W * ch : along * ch};
+    a->n = pf_picture_ticks(&spec, &a->step, a->lab, 64);
     a->widest = 0;
     for (int i = 0; i < a->n; i++) {
         int c = label_chars(a->lab[i].value, a->lab[i].decimals);

@@ -89,10 +89,17 @@ pf_status pf_picture_map(pf_context *ctx, const char *path, int overwrite, const
 void pf_picture_resample(const double *src, size_t n, ptrdiff_t sstride, double *dst, size_t m, ptrdiff_t dstride,
                          int at_samples);
 
-/* Major ticks of an axis from lo to hi (display units) drawn len_px pixels
- * long, whose labels need char_px per character plus gap_px (for labels
- * stacked along a vertical axis: char_px 0, gap_px the line spacing): the
- * smallest step of 1, 2, 5 x 10^n whose labels do not touch.  Both ends are
+/* An axis to put ticks on: from lo to hi (display units), drawn len_px
+ * pixels long, its labels needing char_px per character plus gap_px (for
+ * labels stacked along a vertical axis: char_px 0, gap_px the line spacing). */
+typedef struct pf_tick_spec {
+    double lo, hi;
+    double len_px;
+    double char_px, gap_px;
+} pf_tick_spec;
+
+/* Major ticks of the axis `spec`: the smallest step of 1, 2, 5 x 10^n whose
+ * labels do not touch.  Both ends are
  * labelled, with one more decimal than the ticks unless they fall on one;
  * an interior tick too close to an end label keeps its tick mark but loses
  * its label.  Fills at most max labels (value, position 0..1 along the
@@ -102,8 +109,7 @@ typedef struct pf_tick_label {
     double value, pos;
     int decimals;
 } pf_tick_label;
-int pf_picture_ticks(double lo, double hi, double len_px, double char_px, double gap_px, double *step,
-                     pf_tick_label *labels, int max);
+int pf_picture_ticks(const pf_tick_spec *spec, double *step, pf_tick_label *labels, int max);
 pf_status pf_picture_lines(pf_context *ctx, const char *path, int overwrite, const pf_lines *p);
 
 /* The SI prefix psiflight shows a quantity with, given the largest |value|:

@@ -20,7 +20,7 @@
 #include "pf_flight.h"
 #include "pf_grid.h"
 #include "pf_observe.h"
-#include "pf_scaled.h"
+#include "pf_longflight.h"
 #include "pf_wave.h"
 
 static int fill_gauss(void *user, const double *x, double complex *v)

@@ -11,7 +11,7 @@
 #include <stdlib.h>
 #include <string.h>
 #include "bench_util.h"
-#include "pf_distrib.h"
+#include "pf_field.h"
 #include "pf_sample.h"
 #include "pf_wave.h"
 

@@ -20,7 +20,7 @@
 #include "bench_util.h"
 #include "pf_constants.h"
 #include "pf_grid.h"
-#include "pf_scaled.h"
+#include "pf_longflight.h"
 #include "pf_wave.h"
 
 static const double MASS = 1.443160648e-25; /* 87Rb-like; the value does not affect the timing */

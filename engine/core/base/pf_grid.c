@@ -235,3 +235,22 @@ int pf_grid_same(const pf_grid *a, const pf_grid *b)
         if (a->n[i] != b->n[i] || a->span[i] != b->span[i] || a->origin[i] != b->origin[i]) return 0;
     return 1;
 }
+
+pf_status pf_grid_axis_from_samples(pf_context *ctx, const double *ax, size_t n, int wave_numbers, double *span,
+                                    double *origin)
+{
+    if (n < 2) return pf_fail(ctx, PF_EINVAL, "a grid axis needs at least 2 sample coordinates, got %zu", n);
+    double step = (ax[n - 1] - ax[0]) / (double)(n - 1);
+    for (size_t j = 0; j < n; j++)
+        if (!(step > 0) || fabs(ax[j] - (ax[0] + step * (double)j)) > 1e-6 * step)
+            return pf_fail(ctx, PF_EINVAL, "sample coordinate %zu (%g) is off the uniform spacing %g", j + 1, ax[j],
+                           step);
+    if (wave_numbers) {
+        *span = 2 * PF_PI / step;
+        *origin = 0;
+    } else {
+        *span = step * (double)n;
+        *origin = ax[n / 2];
+    }
+    return PF_OK;
+}

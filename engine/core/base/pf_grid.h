@@ -62,6 +62,18 @@ size_t pf_grid_ascending_index(const pf_grid *g, int axis, size_t fft_index);
 const double *pf_grid_x_table(const pf_grid *g, int axis);
 const double *pf_grid_k_table(const pf_grid *g, int axis);
 
+/* One axis of the grid on which n >= 2 samples were taken, from their
+ * coordinates ax (ascending, uniform: each within 1e-6 of a step of where
+ * the first and last put it).  Positions (wave_numbers 0, m): the grid's
+ * points are the coordinates, span n dx and origin ax[n / 2] (the origin is
+ * the point at index floor(n/2)).  Wave numbers (wave_numbers 1, rad/m,
+ * spacing dk): the position grid whose transform has that spacing, span
+ * 2 pi / dk (the DFT relation dk = 2 pi / (N dx)); phi(k) alone does not say
+ * where the cloud sits, so the origin is 0.  Fails with PF_EINVAL (n < 2,
+ * not ascending or not uniform), leaving span and origin alone. */
+pf_status pf_grid_axis_from_samples(pf_context *ctx, const double *ax, size_t n, int wave_numbers, double *span,
+                                    double *origin);
+
 /* True when both grids have the same dimension, points, spans and origins. */
 int pf_grid_same(const pf_grid *a, const pf_grid *b);
 

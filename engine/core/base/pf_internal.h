@@ -157,7 +157,7 @@ struct pf_wave {
      * the grid's period is the state's, so probability at the cell edge is
      * no wrap-around and the position guards stay silent (pf_guard.c). */
     int periodic;
-    /* Where the last scaled flight started (pf_scaled.c), so that a further
+    /* Where the last scaled flight started (pf_longflight.c), so that a further
      * long flight can return there exactly instead of flying a chirp the new
      * grid undersamples.  Valid while log.count == scaled_from.log_count. */
     struct {
@@ -266,11 +266,11 @@ typedef void (*pf_phase_segment_fn)(double complex *restrict d, const double com
                                     double complex b);
 pf_phase_segment_fn pf_phase_segment_on(pf_vector_path path);
 /* The segment kernel of this process's vector path (pf_flight.c; also the
- * evaluated chirps of the 1D scaled flight, pf_scaled.c). */
+ * evaluated chirps of the 1D scaled flight, pf_longflight.c). */
 pf_phase_segment_fn pf_phase_segment_kernel(void);
 
 /* The chirps of one axis of a scaled-flight stage of duration ta
- * (pf_scaled.c, derivation in docs/long-flights.md): the input chirp pre and
+ * (pf_longflight.c, derivation in docs/long-flights.md): the input chirp pre and
  * the output chirp with the amplitude post as tables of n points, and the
  * same factors applied in place to 1D data (post = 0: input, 1: output),
  * evaluated by segments (n below 2^32).  Exposed for tests. */

@@ -1,4 +1,4 @@
-/* pf_dist_long.c - the distributed pieces of long flights (pf_scaled.c,
+/* pf_dist_long.c - the distributed pieces of long flights (pf_longflight.c,
  * docs/distributed.md): the Fourier transform of a scaled flight in the
  * position slab layout, and the per-axis marginals the flight chooser
  * measures extents from, combined alike on every rank.
@@ -6,7 +6,7 @@
  * A scaled stage keeps the point count, so the new grid has the old one's
  * slabs (FFTW-MPI's split depends on the counts only) and every rank keeps
  * its planes: the chirps are per-axis tables applied to each rank's own
- * planes (pf_scaled.c), and only the one FFT between them needs the ranks
+ * planes (pf_longflight.c), and only the one FFT between them needs the ranks
  * together.  Its output must be a position-space wave in the position slab
  * layout, which the grid's TRANSPOSED_OUT plans do not give; plans without
  * the transposed flags make FFTW-MPI transpose back inside the transform

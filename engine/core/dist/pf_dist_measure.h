@@ -3,7 +3,7 @@
  * planes without ever holding the whole density (docs/distributed.md).
  *
  * Each function returns what the single process's code gives from the whole
- * density field (pf_distrib.h, pf_measure.h), to the bit: every output cell
+ * density field (pf_field.h, pf_measure.h), to the bit: every output cell
  * (or running sum) receives its terms in the single process's order.  Where
  * a cell's terms lie on one rank only (the split axis is kept, slices,
  * column pictures), each rank fills its cells and the cells are combined by
@@ -22,7 +22,7 @@
 #ifndef PF_DIST_MEASURE_H
 #define PF_DIST_MEASURE_H
 
-#include "pf_distrib.h"
+#include "pf_field.h"
 #include "pf_measure.h"
 #include "pf_random.h"
 

@@ -2,7 +2,7 @@
  * planned flight (with optional momentum kicks on the way), propose grids
  * for the same-grid method and for the scaled method, with their memory.
  *
- * The rules are those of pf_scaled.h and pf_guard.h: every state must stay
+ * The rules are those of pf_longflight.h and pf_guard.h: every state must stay
  * inside the inner region of its grid (outside the guard bands, with a safety
  * margin) in position and in momentum, and a scaled flight needs the chirped
  * integrand sampled without aliasing. */

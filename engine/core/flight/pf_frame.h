@@ -21,7 +21,7 @@
 #include <complex.h>
 #include "pf_farfield.h"
 #include "pf_grid.h"
-#include "pf_scaled.h"
+#include "pf_longflight.h"
 #include "pf_wave.h"
 
 typedef struct pf_frame {
@@ -49,7 +49,7 @@ void pf_frame_advance(pf_frame *f, int dim, double mass, double t, const double 
  * exactly pf_wave_fly. */
 pf_status pf_wave_fly_in_frame(pf_wave *w, double t, const double *accel);
 
-/* The long flights of pf_scaled.h in the frame: chi flies by the chosen
+/* The long flights of pf_longflight.h in the frame: chi flies by the chosen
  * method (same grid, scaled, two-stage; its grid may change) and the frame
  * advances under accel (NULL: none).  The Avron-Herbst relation holds for
  * any exact free flight of chi, so the method does not matter to the frame.

@@ -68,7 +68,7 @@ pf_status pf_wave_guard(pf_wave *w, pf_guard_figures *out);
  * eps in [0, 1).  A state touching both edges gives the whole axis. */
 pf_status pf_wave_extent(pf_wave *w, pf_rep rep, double eps, double *lo, double *hi);
 
-/* ---- hooks for the core's own files (pf_wave.c, pf_scaled.c) ---- */
+/* ---- hooks for the core's own files (pf_wave.c, pf_longflight.c) ---- */
 /* Called by pf_wave_log_step before it appends *st: measures the band of the
  * current representation unless still known, fills st->edge_x / edge_k,
  * marks the other representation for lazy measurement, warns. */

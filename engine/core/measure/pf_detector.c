@@ -200,3 +200,15 @@ pf_status pf_field_optical_depth(const pf_field *atoms, double cross_section, pf
     for (size_t i = 0; i < atoms->total; i++) od->values[i] = cross_section * atoms->values[i] / area;
     return PF_OK;
 }
+
+double pf_field_atoms_from_optical_depth(const pf_field *od, double cross_section)
+{
+    double sum = 0;
+    for (size_t i = 0; i < od->total; i++) sum += od->values[i];
+    return sum * (od->step[0] * od->step[1]) / cross_section;
+}
+
+void pf_field_transmission(pf_field *od)
+{
+    for (size_t i = 0; i < od->total; i++) od->values[i] = exp(-od->values[i]);
+}

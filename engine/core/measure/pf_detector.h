@@ -12,7 +12,7 @@
 #ifndef PF_DETECTOR_H
 #define PF_DETECTOR_H
 
-#include "pf_distrib.h"
+#include "pf_field.h"
 #include "pf_random.h"
 
 /* Resonant absorption cross-section of a closed two-level transition,
@@ -50,8 +50,16 @@ pf_status pf_field_poisson(pf_field *f, pf_rng *r);
 void pf_field_scale(pf_field *f, double factor);
 
 /* Optical depth of each pixel from atoms per pixel: OD = sigma N_pixel / A
- * with A the pixel area (pitch product), written into od (same geometry).
- * Transmission is exp(-OD); atom number is recovered as sum(OD) A / sigma. */
+ * with A the pixel area (pitch product), written into od (same geometry). */
 pf_status pf_field_optical_depth(const pf_field *atoms, double cross_section, pf_field *od);
+
+/* Atom number an absorption image reports: sum(OD) A / sigma, the inverse of
+ * pf_field_optical_depth summed over the 2D image od (pixel area A, the
+ * product of its steps). */
+double pf_field_atoms_from_optical_depth(const pf_field *od, double cross_section);
+
+/* Replaces each optical depth by the fraction of the probe intensity that
+ * passes, exp(-OD) (Beer-Lambert law). */
+void pf_field_transmission(pf_field *od);
 
 #endif

@@ -4,7 +4,7 @@
  * A mixture rho = sum_i w_i |psi_i><psi_i| (weights w_i >= 0 summing to 1,
  * members on grids of one geometry) is a borrowed view (pf_mixture): the
  * caller owns the members.  Every distribution of a mixture is the weighted
- * sum of the members' distributions, so the field functions of pf_distrib.h
+ * sum of the members' distributions, so the field functions of pf_field.h
  * and everything built on them (moments, detectors, sampling) apply.
  *
  * Thermal state of a harmonic trap (frequency omega_a per axis, temperature
@@ -26,7 +26,7 @@
 #define PF_ENSEMBLE_H
 
 #include "pf_collapse.h"
-#include "pf_distrib.h"
+#include "pf_field.h"
 #include "pf_random.h"
 #include "pf_units.h" /* PF_BOLTZMANN */
 

@@ -10,7 +10,7 @@
 #define PF_MEASURE_H
 
 #include <complex.h>
-#include "pf_distrib.h"
+#include "pf_field.h"
 #include "pf_wave.h"
 
 typedef enum pf_region_kind {

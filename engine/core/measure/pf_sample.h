@@ -12,7 +12,7 @@
 #define PF_SAMPLE_H
 
 #include <stddef.h>
-#include "pf_distrib.h"
+#include "pf_field.h"
 #include "pf_random.h"
 
 typedef struct pf_sampler {

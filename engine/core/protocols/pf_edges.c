@@ -71,9 +71,10 @@ static pf_status inverse_transform(pf_grid *g, int rank, const int *n, double co
     return PF_OK;
 }
 
-pf_status pf_edges_comb_table(pf_grid *g, int axis, double start, double open, double pitch, double first,
-                              double last, const pf_edges *e, double complex *table)
+pf_status pf_edges_comb_table(pf_grid *g, int axis, const pf_edges_comb *comb, const pf_edges *e,
+                              double complex *table)
 {
+    double start = comb->start, open = comb->open, pitch = comb->pitch, first = comb->first, last = comb->last;
     pf_status s = pf_edges_check(g, e);
     if (s) return s;
     if (e->mode != PF_EDGES_EXACT)

@@ -36,15 +36,24 @@ typedef struct pf_edges {
  * only with the exact mode.  Fails with PF_EINVAL naming the bad value. */
 pf_status pf_edges_check(pf_grid *g, const pf_edges *e);
 
+/* A comb of equal open intervals [start + i pitch, start + i pitch + open),
+ * i = first .. last (indices held as doubles: last - first may be huge, an
+ * unbounded grating passes the index range it wants). */
+typedef struct pf_edges_comb {
+    double start; /* left edge of the interval with index 0 (m) */
+    double open;  /* width of each open interval (m), > 0 */
+    double pitch; /* interval-to-interval distance (m), >= open when first < last */
+    double first; /* first index */
+    double last;  /* last index, >= first */
+} pf_edges_comb;
+
 /* Transmission table of one axis (n[axis] values, natural order) for the
- * union of the open intervals [start + i pitch, start + i pitch + open),
- * i = first .. last (last - first may be huge: an unbounded grating passes
- * the index range it wants; only the intervals meeting the grid window are
- * visited, the interior ones in closed form).  Needs 0 < open <= pitch
- * when first < last.  Intervals are clipped to the grid window
- * [x_0, x_0 + span).  e->mode must be PF_EDGES_EXACT. */
-pf_status pf_edges_comb_table(pf_grid *g, int axis, double start, double open, double pitch, double first,
-                              double last, const pf_edges *e, double complex *table);
+ * union of the comb's open intervals; only the intervals meeting the grid
+ * window are visited, the interior ones in closed form.  Intervals are
+ * clipped to the grid window [x_0, x_0 + span).  e->mode must be
+ * PF_EDGES_EXACT. */
+pf_status pf_edges_comb_table(pf_grid *g, int axis, const pf_edges_comb *comb, const pf_edges *e,
+                              double complex *table);
 
 /* Transmission field of a disk of radius r centred at (c_a, c_b) in the
  * plane of axes a != b, for the whole grid (row-major, natural order; on a

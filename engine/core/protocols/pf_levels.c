@@ -5,7 +5,7 @@
 #include <math.h>
 #include <string.h>
 #include "pf_constants.h"
-#include "pf_distrib.h"
+#include "pf_field.h"
 #include "pf_ensemble.h"
 #include "pf_flight.h"
 #include "pf_force.h"

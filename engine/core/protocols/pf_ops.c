@@ -221,10 +221,11 @@ pf_status pf_wave_imprint(pf_wave *w, pf_sample_fn fn, void *user)
 
 static int exact_edges(const pf_edges *e) { return e && e->mode == PF_EDGES_EXACT; }
 
-pf_status pf_wave_slits(pf_wave *w, int axis, int count, double width, double pitch, double center,
-                        const pf_edges *edges, double *removed)
+pf_status pf_wave_slits(pf_wave *w, const pf_slits_spec *spec, const pf_edges *edges, double *removed)
 {
     pf_grid *g = w->grid;
+    int axis = spec->axis, count = spec->count;
+    double width = spec->width, pitch = spec->pitch, center = spec->center;
     pf_status s = check_axis(g, axis, "slits");
     if (s) return s;
     if (count < 1) return pf_fail(g->ctx, PF_EINVAL, "count must be at least 1, got %d", count);
@@ -239,8 +240,9 @@ pf_status pf_wave_slits(pf_wave *w, int axis, int count, double width, double pi
     if ((s = tables_alloc(g, &at, 1u << axis))) return s;
     if (exact_edges(edges)) {
         double start = center - 0.5 * (count - 1) * pitch - 0.5 * width;
-        if (!(s = pf_edges_comb_table(g, axis, start, width, count > 1 ? pitch : width, 0, count - 1, edges,
-                                      at.t[axis])))
+        pf_edges_comb comb = {.start = start, .open = width, .pitch = count > 1 ? pitch : width, .first = 0,
+                              .last = count - 1};
+        if (!(s = pf_edges_comb_table(g, axis, &comb, edges, at.t[axis])))
             s = apply_position_mask(w, &at, count == 1 ? "slit" : "slits", removed);
         tables_free(&at);
         return s;
@@ -283,8 +285,9 @@ pf_status pf_wave_mask_grating(pf_wave *w, int axis, double period, double open_
         /* Every period that can meet the window, and one more on each side. */
         double x0 = g->x[axis][0];
         double first = floor((x0 - offset) / period) - 1, last = ceil((x0 + g->span[axis] - offset) / period) + 1;
-        if (!(s = pf_edges_comb_table(g, axis, offset, open_fraction * period, period, first, last, edges,
-                                      at.t[axis])))
+        pf_edges_comb comb = {.start = offset, .open = open_fraction * period, .pitch = period, .first = first,
+                              .last = last};
+        if (!(s = pf_edges_comb_table(g, axis, &comb, edges, at.t[axis])))
             s = apply_position_mask(w, &at, "grating", removed);
         tables_free(&at);
         return s;
@@ -320,7 +323,8 @@ pf_status pf_wave_aperture_rect(pf_wave *w, const double *center, const double *
         if (!at.t[a]) continue;
         double c = center ? center[a] : 0.0;
         if (exact_edges(edges)) {
-            if ((s = pf_edges_comb_table(g, a, c - 0.5 * size[a], size[a], size[a], 0, 0, edges, at.t[a]))) {
+            pf_edges_comb box = {.start = c - 0.5 * size[a], .open = size[a], .pitch = size[a], .first = 0, .last = 0};
+            if ((s = pf_edges_comb_table(g, a, &box, edges, at.t[a]))) {
                 tables_free(&at);
                 return s;
             }

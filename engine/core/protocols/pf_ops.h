@@ -47,9 +47,15 @@ pf_status pf_wave_kick(pf_wave *w, const double *k);
 
 /* N equal slits of full width `width` (m), centres center + (i - (N-1)/2)
  * pitch along the axis; everything outside the slits is blocked.
- * count >= 1; pitch > width when count > 1. */
-pf_status pf_wave_slits(pf_wave *w, int axis, int count, double width, double pitch, double center,
-                        const pf_edges *edges, double *removed);
+ * count >= 1; pitch > width when count > 1 (unused for one slit). */
+typedef struct pf_slits_spec {
+    int axis;      /* 0-based */
+    int count;     /* number of slits, >= 1 */
+    double width;  /* full width of each slit (m), > 0 */
+    double pitch;  /* centre-to-centre distance (m), > width when count > 1 */
+    double center; /* centre of the slit set (m) */
+} pf_slits_spec;
+pf_status pf_wave_slits(pf_wave *w, const pf_slits_spec *spec, const pf_edges *edges, double *removed);
 
 /* Periodic amplitude grating: open where frac((x - offset)/period) < open_fraction.
  * period > 0, 0 < open_fraction <= 1. */

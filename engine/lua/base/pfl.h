@@ -252,7 +252,7 @@ void pfl_open_wave(lua_State *L, int mod);
 void pfl_open_flight(lua_State *L, int mod);
 void pfl_open_observe(lua_State *L, int mod);
 void pfl_open_units(lua_State *L, int mod);
-void pfl_open_states(lua_State *L, int mod);
+void pfl_open_build(lua_State *L, int mod);
 void pfl_open_algebra(lua_State *L, int mod);
 void pfl_open_guard(lua_State *L, int mod);      /* after pfl_open_context: wraps pf.setup */
 void pfl_open_longflight(lua_State *L, int mod);
@@ -265,12 +265,15 @@ void pfl_open_progress(lua_State *L, int mod);
 void pfl_open_random(lua_State *L, int mod);
 void pfl_open_ensemble(lua_State *L, int mod);
 void pfl_open_measure(lua_State *L, int mod);
-void pfl_open_distrib(lua_State *L, int mod);
+void pfl_open_field(lua_State *L, int mod);
 void pfl_open_flux(lua_State *L, int mod);
 void pfl_open_detector(lua_State *L, int mod);
 void pfl_open_ops(lua_State *L, int mod);     /* protocol steps: pulses, masks, shifts */
-void pfl_open_evolve(lua_State *L, int mod);  /* protocol steps: fall, evolve, relax */
-void pfl_open_lab(lua_State *L, int mod);     /* pf.coupling, pf.beam: lab quantities */
+void pfl_open_force(lua_State *L, int mod);     /* w:fall: flight under a uniform force */
+void pfl_open_splitstep(lua_State *L, int mod); /* w:evolve (registers pf.potential first) */
+void pfl_open_relax(lua_State *L, int mod);     /* w:relax, w:energy */
+void pfl_open_coupling(lua_State *L, int mod);  /* pf.coupling: mean-field coupling constant */
+void pfl_open_beam(lua_State *L, int mod);      /* pf.beam: particle beams */
 void pfl_open_expand(lua_State *L, int mod);  /* w:expand: mean-field expansion on a growing grid */
 void pfl_open_levels(lua_State *L, int mod);  /* pf.levels: internal states and pulses */
 void pfl_open_frame(lua_State *L, int mod);   /* flight: moving frames */

@@ -10,6 +10,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include "pf_constants.h"
 #include "pfl_suffix.h"
 
 #define MICRO "\xc2\xb5" /* U+00B5 MICRO SIGN in UTF-8 */
@@ -35,7 +36,7 @@ static const pfl_unit units[] = {
     {"K", "temperature", 1.0}, {"mK", "temperature", 1e-3}, {"uK", "temperature", 1e-6},
     {MICRO "K", "temperature", 1e-6}, {"nK", "temperature", 1e-9},
     {"rad", "angle", 1.0}, {"mrad", "angle", 1e-3}, {"urad", "angle", 1e-6},
-    {"deg", "angle", 3.14159265358979323846 / 180.0},
+    {"deg", "angle", PF_PI / 180.0},
     {"1/m", "wavenumber", 1.0}, {"1/mm", "wavenumber", 1e3}, {"1/um", "wavenumber", 1e6},
     {"1/nm", "wavenumber", 1e9},
     {"V", "voltage", 1.0}, {"mV", "voltage", 1e-3}, {"kV", "voltage", 1e3},

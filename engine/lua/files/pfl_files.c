@@ -528,19 +528,10 @@ static pf_grid *grid_from_samples(lua_State *L, const pf_samples *s, const char 
         size_t n = s->n[a];
         if (!ax || n < 2)
             luaL_error(L, "load_wave: '%s' gives no coordinates on axis %d; pass grid=", path, a + 1);
-        double step = (ax[n - 1] - ax[0]) / (double)(n - 1);
-        for (size_t j = 0; j < n; j++)
-            if (!(step > 0) || fabs(ax[j] - (ax[0] + step * (double)j)) > 1e-6 * step)
-                luaL_error(L, "load_wave: coordinates on axis %d of '%s' are not uniformly spaced; pass grid= and interpolate=true",
-                           a + 1, path);
+        if (pf_grid_axis_from_samples(pfl_ctx(L), ax, n, s->rep == PF_MOMENTUM, &span[a], &origin[a]))
+            luaL_error(L, "load_wave: coordinates on axis %d of '%s' are not uniformly spaced; pass grid= and interpolate=true",
+                       a + 1, path);
         pts[a] = n;
-        if (s->rep == PF_POSITION) {
-            span[a] = step * (double)n;
-            origin[a] = ax[n / 2]; /* grids put their origin at index floor(n/2) */
-        } else {
-            span[a] = 2 * 3.14159265358979323846 / step;
-            origin[a] = 0; /* phi(k) alone does not say where the cloud sits */
-        }
     }
     pfl_check(L, pf_grid_new(pfl_ctx(L), s->dim, pts, span, origin, &g), "load_wave");
     return g;

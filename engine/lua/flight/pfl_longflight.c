@@ -10,7 +10,7 @@
 #include "pf_farfield.h"
 #include "pf_frame.h"
 #include "pf_guard.h"
-#include "pf_scaled.h"
+#include "pf_longflight.h"
 #include "pfl_options.h"
 
 static const pfl_options_decl FLY_LONG_OPTIONS = {

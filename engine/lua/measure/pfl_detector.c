@@ -198,10 +198,9 @@ static int l_absorb(lua_State *L)
     lua_createtable(L, 0, 8);
     push_pixels(L, &pix, "atoms_per_pixel");
     push_pixels(L, &od, "od");
-    double area = b->cam.pitch[0] * b->cam.pitch[1];
-    lua_pushnumber(L, sum_of(&od) * area / sigma);
+    lua_pushnumber(L, pf_field_atoms_from_optical_depth(&od, sigma));
     lua_setfield(L, -2, "atoms_recovered");
-    for (size_t i = 0; i < od.total; i++) od.values[i] = exp(-od.values[i]);
+    pf_field_transmission(&od);
     push_pixels(L, &od, "transmission");
     push_geometry(L, &od);
     pf_field_free(&pix);

@@ -4,7 +4,7 @@
 #ifndef PFL_MEASURE_H
 #define PFL_MEASURE_H
 
-#include "pf_distrib.h"
+#include "pf_field.h"
 #include "pf_ensemble.h"
 #include "pf_measure.h"
 #include "pf_random.h"

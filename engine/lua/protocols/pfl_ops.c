@@ -195,7 +195,8 @@ static int slits(lua_State *L, const char *name, int single)
     center -= X[axis];
     pf_edges e = field_edges(L, 2, name);
     double removed = 0;
-    pfl_check(L, pf_wave_slits(w, axis, (int)count, width, pitch, center, &e, &removed), name);
+    pf_slits_spec spec = {.axis = axis, .count = (int)count, .width = width, .pitch = pitch, .center = center};
+    pfl_check(L, pf_wave_slits(w, &spec, &e, &removed), name);
     return push_masked(L, removed);
 }
 

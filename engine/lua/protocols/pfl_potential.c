@@ -15,6 +15,7 @@
 #include <string.h>
 #include "pf_dist.h"
 #include "pf_frame.h"
+#include "pfl_options.h"
 #include "pfl_protocol.h"
 
 pfl_potential_box *pfl_test_potential(lua_State *L, int idx)
@@ -51,6 +52,86 @@ const double *pfl_potential_tilted(lua_State *L, int idx, pfl_potential_box *b, 
     b->tilt_mass = mass;
     for (int a = 0; a < PF_MAX_DIM; a++) b->tilt_acc[a] = a < d ? acc[a] : 0.0;
     b->tilt_builds++;
+    return S;
+}
+
+/* A pf.potential object holds values at fixed lab positions: it fits a wave
+ * only when its grid sits at the same lab offset (docs/frames.md). */
+static void check_object_offset(lua_State *L, const pfl_potential_box *pb, const pf_grid *g, const double *offset,
+                                const char *name)
+{
+    int d = pf_grid_dim(g);
+    for (int a = 0; a < d; a++)
+        if (pb->offset[a] != offset[a]) {
+            char msg[400];
+            snprintf(msg, sizeof msg,
+                     "%s: the potential was sampled for a grid whose coordinate 0 sits at %g m on axis %d (lab), but "
+                     "the wave's grid sits at %g m (its frame moved); sample it for this wave with pf.potential(w, f)",
+                     name, pb->offset[a], a + 1, offset[a]);
+            luaL_error(L, "%s", msg);
+        }
+}
+
+int pfl_potential_option(lua_State *L, int t, pf_grid *g, const char *name, int time_dependent, const double **V,
+                           pf_evolve_cache **cache, const double *offset)
+{
+    *V = NULL;
+    if (cache) *cache = NULL;
+    int type = pfl_option_get(L, t, "potential");
+    if (type == LUA_TNIL) {
+        lua_pop(L, 1);
+        if (time_dependent) luaL_error(L, "%s: 'time_dependent' needs a 'potential' function of the coordinates and t", name);
+        return 0;
+    }
+    int fn = lua_gettop(L);
+    pfl_potential_box *pb = type == LUA_TUSERDATA ? pfl_test_potential(L, fn) : NULL;
+    if (pb) {
+        if (time_dependent) luaL_error(L, "%s: a pf.potential object is static; give a function of the coordinates and t", name);
+        if (!pf_grid_same(pb->grid, g)) luaL_error(L, "%s: the potential was sampled on a different grid", name);
+        check_object_offset(L, pb, g, offset, name);
+        *V = pb->values;
+        if (cache) *cache = &pb->cache;
+        return fn;
+    }
+    if (time_dependent) {
+        if (type != LUA_TFUNCTION)
+            luaL_error(L, "%s: a time-dependent potential must be a function of the coordinates and t", name);
+        return fn;
+    }
+    *V = pfl_read_potential(L, fn, g, name, 0, 0, offset);
+    return fn;
+}
+
+size_t pfl_held_points(const pf_grid *g, size_t *first)
+{
+    size_t end;
+    pf_grid_local_range(g, first, &end);
+    return end - *first;
+}
+
+int pfl_tilt_wanted(const pf_wave *w, const double *acc, int accelerated)
+{
+    int any = 0;
+    for (int a = 0; accelerated && a < pf_grid_dim(pf_wave_grid(w)); a++) any = any || acc[a] != 0.0;
+    return any;
+}
+
+double *pfl_tilt_values(lua_State *L, pf_wave *w, const double *acc, int accelerated)
+{
+    if (!pfl_tilt_wanted(w, acc, accelerated)) return NULL;
+    pf_grid *g = pf_wave_grid(w);
+    size_t first, n = pfl_held_points(g, &first);
+    double *T = lua_newuserdatauv(L, (n ? n : 1) * sizeof(double), 0);
+    memset(T, 0, n * sizeof(double));
+    pf_frame_tilt_add_range(g, pf_wave_mass(w), acc, first, n, T);
+    return T;
+}
+
+const double *pfl_tilted_static(lua_State *L, const double *V, const double *T, size_t n)
+{
+    if (!V) return T;
+    double *S = lua_newuserdatauv(L, n * sizeof(double), 0);
+    for (size_t i = 0; i < n; i++) S[i] = V[i] + T[i];
     return S;
 }
 

@@ -1,5 +1,5 @@
 /* pfl_protocol.h - helpers shared by the protocol-step bindings (pfl_ops.c,
- * pfl_evolve.c, pfl_sample.c): sampling Lua functions over a grid, reading
+ * pfl_splitstep.c, pfl_relax.c, pfl_force.c, pfl_callbacks.c, pfl_potential.c): sampling Lua functions over a grid, reading
  * potentials.  (Option tables are checked by pfl_options.h; the axis and
  * integer field readers below live in pfl_args.c with the other readers.) */
 #ifndef PFL_PROTOCOL_H
@@ -97,7 +97,41 @@ pfl_potential_box *pfl_test_potential(lua_State *L, int idx);
  * stack index. */
 const double *pfl_potential_tilted(lua_State *L, int idx, pfl_potential_box *b, double mass, const double *acc,
                                    pf_evolve_cache **cache);
-/* Registers pf.potential and the potential metatable (called by pfl_open_evolve). */
+/* Registers pf.potential and the potential metatable (called by pfl_open_splitstep). */
 void pfl_register_potential(lua_State *L, int mod);
+
+/* Reads the optional 'potential' field of the options table at t: a
+ * pf.potential object (its values and, when cache is not NULL, its cache in
+ * *cache), a function or a table (sampled now, at the grid coordinates plus
+ * offset, into a userdata left on the stack), or, when time_dependent, a
+ * function left on the stack for a sampler (*V stays NULL).  Returns the
+ * stack index of the field's value, 0 when there is none. */
+int pfl_potential_option(lua_State *L, int t, pf_grid *g, const char *name, int time_dependent, const double **V,
+                         pf_evolve_cache **cache, const double *offset);
+
+/* Points of the grid this process holds: all, or its rank's slab
+ * (pf_dist.h), whose potentials are sampled at its own points only; the
+ * first one in *first. */
+size_t pfl_held_points(const pf_grid *g, size_t *first);
+
+/* Whether an 'acceleration' adds a uniform force (accelerated and a non-zero
+ * value on some axis). */
+int pfl_tilt_wanted(const pf_wave *w, const double *acc, int accelerated);
+
+/* The uniform force of an 'acceleration' as a potential on the held points
+ * (-m a.xi, pf_frame_tilt_add) in a userdata left on the stack; NULL when
+ * there is no acceleration or it is zero. */
+double *pfl_tilt_values(lua_State *L, pf_wave *w, const double *acc, int accelerated);
+
+/* V + T for a static V of n held points (V NULL: T alone), in a userdata
+ * left on the stack. */
+const double *pfl_tilted_static(lua_State *L, const double *V, const double *T, size_t n);
+
+/* Sets field k of the table on top of the stack to the number v. */
+static inline void pfl_set_number(lua_State *L, const char *k, double v)
+{
+    lua_pushnumber(L, v);
+    lua_setfield(L, -2, k);
+}
 
 #endif

@@ -44,7 +44,7 @@ end})
 -- The single process's summations written out in Lua (doubles, the same
 -- operations in the same order), run on the gathered table: pf_field_marginal
 -- (out[o] += value * weight in field order), pf_field_radial and
--- pf_field_moments (engine/core/measure/pf_distrib.c).
+-- pf_field_moments (engine/core/measure/pf_field.c).
 local function marginal_of(dist, keep, steps)
   local n, weight, kept = dist.shape, 1, {}
   for ax = 1, 3 do

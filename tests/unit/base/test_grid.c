@@ -7,6 +7,39 @@
 #include "pf_wave.h"
 
 
+/* The grid a set of samples was taken on.  In position the coordinates are
+ * the grid's own points (pf_grid.h's layout: origin at index floor(n/2)); in
+ * momentum the DFT relation dk = 2 pi / (N dx) (common practice) fixes the
+ * position grid whose transform has the samples' spacing: span N dx. */
+static void grid_axis_from_samples(void **state)
+{
+    pf_context *ctx = *state;
+    size_t n[1] = {48};
+    double span[1] = {36e-6}, origin[1] = {-2.5e-6}, got_span = 0, got_origin = 1;
+    pf_grid *g;
+    pft_ok(pf_grid_new(ctx, 1, n, span, origin, &g));
+    pft_ok(pf_grid_axis_from_samples(ctx, pf_grid_x_table(g, 0), n[0], 0, &got_span, &got_origin));
+    pft_near(got_span, span[0], 1e-12, 0, NULL);
+    pft_near(got_origin, origin[0], 1e-12, 0, NULL);
+    pf_grid_release(g);
+    /* Wave numbers of an N = 64 transform of a grid of dx = 0.75 um, in
+     * ascending order: k_j = (j - N/2) 2 pi / (N dx). */
+    double k[64], dx = 0.75e-6;
+    for (int j = 0; j < 64; j++) k[j] = (j - 32) * 2 * PF_PI / (64 * dx);
+    pft_ok(pf_grid_axis_from_samples(ctx, k, 64, 1, &got_span, &got_origin));
+    pft_near(got_span, 64 * dx, 1e-12, 0, NULL);
+    pft_near(got_origin, 0, 0, 0, NULL);
+    /* Not uniform, descending, or too few: refused, outputs untouched. */
+    k[17] += 1e-3 * (k[1] - k[0]);
+    got_span = -1;
+    assert_int_equal(pf_grid_axis_from_samples(ctx, k, 64, 1, &got_span, &got_origin), PF_EINVAL);
+    assert_non_null(strstr(pf_context_message(ctx), "coordinate 18"));
+    double down[3] = {3, 2, 1};
+    assert_int_equal(pf_grid_axis_from_samples(ctx, down, 3, 0, &got_span, &got_origin), PF_EINVAL);
+    assert_int_equal(pf_grid_axis_from_samples(ctx, down, 1, 0, &got_span, &got_origin), PF_EINVAL);
+    assert_true(got_span == -1);
+}
+
 static void rejects_bad_shapes(void **state)
 {
     pf_context *ctx = *state;
@@ -166,6 +199,7 @@ static void momentum_factors_follow_their_definition(void **state)
 int main(void)
 {
     const struct CMUnitTest tests[] = {
+        cmocka_unit_test_setup_teardown(grid_axis_from_samples, pft_setup, pft_teardown),
         cmocka_unit_test_setup_teardown(rejects_bad_shapes, pft_setup, pft_teardown),
         cmocka_unit_test_setup_teardown(memory_cap_is_checked_before_allocating, pft_setup, pft_teardown),
         cmocka_unit_test_setup_teardown(coordinates_are_centred_on_the_origin, pft_setup, pft_teardown),

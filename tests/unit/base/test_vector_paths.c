@@ -23,7 +23,7 @@
 #include "pf_cis.h"
 #include "pf_flight.h"
 #include "pf_internal.h"
-#include "pf_scaled.h"
+#include "pf_longflight.h"
 #include "pf_splitstep.h"
 #include "pf_vecpath.h"
 

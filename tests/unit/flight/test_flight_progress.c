@@ -1,5 +1,5 @@
 /* test_flight_progress.c - a long flight reports its progress while it runs
- * (engine/core/flight/pf_scaled.c): the context's progress hook hears "fly_long"
+ * (engine/core/flight/pf_longflight.c): the context's progress hook hears "fly_long"
  * start at 0, then once per pass of each scaled stage (input chirp, FFT,
  * output chirp: three for the one-stage form, six for the two-stage form)
  * with the fraction done rising strictly below 1, and the end at 1.  A
@@ -10,7 +10,7 @@
 #include "pft.h"
 #include "pf_build.h"
 #include "pf_grid.h"
-#include "pf_scaled.h"
+#include "pf_longflight.h"
 #include "pf_wave.h"
 
 #define MAXCALLS 64

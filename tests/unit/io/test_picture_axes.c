@@ -37,7 +37,7 @@ static void check_axis(double lo, double hi, double len, double cw, double gap)
 {
     pf_tick_label lab[64];
     double step = 0;
-    int n = pf_picture_ticks(lo, hi, len, cw, gap, &step, lab, 64);
+    int n = pf_picture_ticks(&(pf_tick_spec){lo, hi, len, cw, gap}, &step, lab, 64);
     assert_true(n >= 2);
     assert_true(lab[0].value == lo && lab[0].pos == 0);
     assert_true(lab[n - 1].value == hi && lab[n - 1].pos == 1);
@@ -74,7 +74,7 @@ static void test_ends_labelled_without_overlap(void **state)
     /* A panel too short for any interval: the two ends alone. */
     pf_tick_label lab[8];
     double step;
-    int n = pf_picture_ticks(0, 1, 10, 12.4, 24.8, &step, lab, 8);
+    int n = pf_picture_ticks(&(pf_tick_spec){0, 1, 10, 12.4, 24.8}, &step, lab, 8);
     assert_int_equal(n, 2);
 }
 
@@ -83,19 +83,19 @@ static void test_end_on_a_tick_reads_as_the_tick(void **state)
     (void)state;
     pf_tick_label lab[64];
     double step;
-    int n = pf_picture_ticks(-4.0039, 4.0039, 580, 12.4, 24.8, &step, lab, 64);
+    int n = pf_picture_ticks(&(pf_tick_spec){-4.0039, 4.0039, 580, 12.4, 24.8}, &step, lab, 64);
     assert_true(step == 1);
     assert_int_equal(lab[0].decimals, 0);          /* "-4", not "-4.0" */
     assert_int_equal(lab[n - 1].decimals, 0);
     /* Off a tick, the end is shown to a tenth of the step: "461" beside
      * steps of 50 (a Talbot time of 460.912 us), "-4.3" beside steps of 1. */
-    n = pf_picture_ticks(0, 460.912, 520, 0, 31, &step, lab, 64);
+    n = pf_picture_ticks(&(pf_tick_spec){0, 460.912, 520, 0, 31}, &step, lab, 64);
     assert_true(step == 50 || step == 20 || step == 100);
     assert_int_equal(lab[n - 1].decimals, 0);
-    n = pf_picture_ticks(-4.3, 4.3, 580, 12.4, 24.8, &step, lab, 64);
+    n = pf_picture_ticks(&(pf_tick_spec){-4.3, 4.3, 580, 12.4, 24.8}, &step, lab, 64);
     assert_true(step == 1);
     assert_int_equal(lab[0].decimals, 1);
-    n = pf_picture_ticks(-251, 249, 580, 12.4, 24.8, &step, lab, 64);
+    n = pf_picture_ticks(&(pf_tick_spec){-251, 249, 580, 12.4, 24.8}, &step, lab, 64);
     assert_true(step == 100 || step == 50);
     assert_int_equal(lab[0].decimals, 0);
 }

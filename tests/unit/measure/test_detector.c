@@ -3,7 +3,7 @@
 #include <stdlib.h>
 #include "pft.h"
 #include "pf_detector.h"
-#include "pf_distrib.h"
+#include "pf_field.h"
 
 static pf_wave *cloud3d(pf_context *ctx, pf_grid **gout)
 {
@@ -48,9 +48,7 @@ static void column_density_binning_and_od(void **state)
     double atoms = 2.5e4, sigma = pf_resonant_cross_section(780.241e-9);
     pf_field_scale(&pix, atoms);
     pft_ok(pf_field_optical_depth(&pix, sigma, &od));
-    double recovered = 0;
-    for (size_t i = 0; i < od.total; i++) recovered += od.values[i];
-    recovered *= 3.3e-6 * 3.3e-6 / sigma;
+    double recovered = pf_field_atoms_from_optical_depth(&od, sigma);
     pft_near(recovered, atoms, 0, 1e-9 * atoms, "Beer-Lambert OD sum x A / sigma = atom number (sum rule)");
     pf_field_free(&f);
     pf_field_free(&col);
@@ -58,6 +56,37 @@ static void column_density_binning_and_od(void **state)
     pf_field_free(&od);
     pf_wave_free(w);
     pf_grid_release(g);
+    pf_context_release(ctx);
+}
+
+/* Beer-Lambert law (common practice): a column density n (atoms/m^2) seen by
+ * a probe of cross-section sigma transmits I/I0 = exp(-sigma n); an optical
+ * depth of ln 2 passes half the light and one of 1 passes 1/e; the atom
+ * number is the column density integrated over the image. */
+static void beer_lambert_transmission(void **state)
+{
+    (void)state;
+    pf_context *ctx = pft_context();
+    size_t n[2] = {4, 3};
+    double first[2] = {-3e-6, 0}, step[2] = {2e-6, 3.5e-6}, area = 2e-6 * 3.5e-6, sigma = 1.5e-13;
+    pf_field atoms, od;
+    pft_ok(pf_field_new(ctx, 2, n, first, step, &atoms));
+    double column[12], total = 0;
+    for (size_t i = 0; i < 12; i++) {
+        column[i] = (0.25 * (double)i + (i == 3 ? log(2.0) - 0.75 : 0)) / sigma; /* atoms per m^2 */
+        atoms.values[i] = column[i] * area;
+        total += atoms.values[i];
+    }
+    pft_ok(pf_field_optical_depth(&atoms, sigma, &od));
+    pft_near(pf_field_atoms_from_optical_depth(&od, sigma), total, 0, 1e-12 * total, "sum(OD) A / sigma gives back the atom number (Beer-Lambert, common practice)");
+    pf_field_transmission(&od);
+    for (size_t i = 0; i < 12; i++)
+        pft_near(od.values[i], exp(-sigma * column[i]), 0, 1e-15, "I/I0 = exp(-sigma n) (Beer-Lambert, common practice)");
+    pft_near(od.values[0], 1, 0, 0, "no atoms: the probe passes whole");
+    pft_near(od.values[3], 0.5, 0, 1e-15, "OD = ln 2 passes half the light (Beer-Lambert)");
+    pft_near(od.values[4], 0.36787944117144233, 0, 1e-15, "OD = 1 passes 1/e (Beer-Lambert; 1/e to 17 digits)");
+    pf_field_free(&atoms);
+    pf_field_free(&od);
     pf_context_release(ctx);
 }
 
@@ -209,6 +238,7 @@ int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(column_density_binning_and_od),
+        cmocka_unit_test(beer_lambert_transmission),
         cmocka_unit_test(resonant_cross_section),
         cmocka_unit_test(psf_adds_variance),
         cmocka_unit_test(shot_noise_statistics),

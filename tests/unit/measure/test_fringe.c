@@ -4,7 +4,7 @@
 #include <gsl/gsl_cdf.h>
 #include <stdlib.h>
 #include "pft.h"
-#include "pf_distrib.h"
+#include "pf_field.h"
 #include "pf_fringe.h"
 #include "pf_measure.h"
 

@@ -5,7 +5,7 @@
 #include <stdlib.h>
 #include <string.h>
 #include "pft.h"
-#include "pf_distrib.h"
+#include "pf_field.h"
 #include "pf_sample.h"
 
 /* 2D density of a Gaussian on a 48 x 40 grid: each cell's count against

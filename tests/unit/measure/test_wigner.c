@@ -2,7 +2,7 @@
  * for a Gaussian and for a superposition of two separated Gaussians. */
 #include <stdlib.h>
 #include "pft.h"
-#include "pf_distrib.h"
+#include "pf_field.h"
 #include "pf_wigner.h"
 
 /* Standard result (e.g. Schleich, Quantum Optics in Phase Space, ch. 3): the

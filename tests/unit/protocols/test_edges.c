@@ -34,7 +34,8 @@ static void test_soft_slit_is_erf_profile(void **state)
     double dx = span / (double)n, s = 5 * dx, a = -7.3137e-6, b = 11.0071e-6;
     double complex *t = malloc(n * sizeof *t);
     pf_edges e = {PF_EDGES_EXACT, s};
-    pft_ok(pf_edges_comb_table(g, 0, a, b - a, b - a, 0, 0, &e, t));
+    pf_edges_comb slit = {.start = a, .open = b - a, .pitch = b - a, .first = 0, .last = 0};
+    pft_ok(pf_edges_comb_table(g, 0, &slit, &e, t));
     double worst = 0;
     for (size_t j = 0; j < n; j++) {
         double x = pf_grid_x(g, 0, j);
@@ -72,8 +73,9 @@ static void test_grating_fourier_series(void **state)
     pf_edges e = {PF_EDGES_EXACT, 0};
     double x0 = pf_grid_x(g, 0, 0);
     /* Through the same route as w:mask_grating: every period meeting the window. */
-    pft_ok(pf_edges_comb_table(g, 0, offset, f * p, p, floor((x0 - offset) / p) - 1,
-                                         ceil((x0 + span - offset) / p) + 1, &e, t));
+    pf_edges_comb comb = {.start = offset, .open = f * p, .pitch = p, .first = floor((x0 - offset) / p) - 1,
+                          .last = ceil((x0 + span - offset) / p) + 1};
+    pft_ok(pf_edges_comb_table(g, 0, &comb, &e, t));
     for (int h = 0; h <= 5; h++) {
         double k = 2 * PF_PI * h / p;
         /* Series referred to x0: shift theorem e^{-i k (offset - x0)}. */

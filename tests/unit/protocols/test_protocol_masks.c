@@ -19,7 +19,7 @@ static void test_slit_removes_gaussian_tail(void **state)
     pft_gauss p = {.sigma = {4e-6}};
     pf_wave *w = pft_gauss_wave(g, pft_mass("87Rb"), &p);
     double a = 200.5 * dx, removed = 0;
-    pft_ok(pf_wave_slits(w, 0, 1, 2 * a, 0, 0, NULL, &removed));
+    pft_ok(pf_wave_slits(w, &(pf_slits_spec){.axis = 0, .count = 1, .width = 2 * a}, NULL, &removed));
     double want = gsl_sf_erfc(a / (sqrt(2.0) * 4e-6));
     pft_near(removed, want, 0, 1e-5 * want, "slit removes erfc(a / sqrt2 sigma) [GSL]");
     pft_near(pf_wave_norm(w), 1.0 - want, 0, 1e-5 * want, "norm after slit = 1 - removed");

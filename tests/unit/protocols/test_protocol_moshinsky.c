@@ -42,7 +42,7 @@ static double worst_error(size_t n)
     pft_ok(pf_wave_fill(w, PF_POSITION, plane_fn, &p));
     /* The shutter: everything at x > 0 is absorbed at t = 0. */
     double removed = 0;
-    pft_ok(pf_wave_slits(w, 0, 1, 0.6e-3, 0, -0.3e-3, NULL, &removed));
+    pft_ok(pf_wave_slits(w, &(pf_slits_spec){.axis = 0, .count = 1, .width = 0.6e-3, .center = -0.3e-3}, NULL, &removed));
     assert_true(removed > 0.4 * 0.1e-3); /* the plane wave's part beyond the shutter */
     pft_ok(pf_wave_fly(w, t));
     double *rho = malloc(n * sizeof *rho);

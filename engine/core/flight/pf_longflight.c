@@ -1,6 +1,6 @@
-/* pf_scaled.c - scaled-grid free flight (single-FFT Fresnel form and its
+/* pf_longflight.c - scaled-grid free flight (single-FFT Fresnel form and its
  * two-stage variant) and the flight that chooses between it and the exact
- * same-grid flight from the sampling criteria (see pf_scaled.h). */
+ * same-grid flight from the sampling criteria (see pf_longflight.h). */
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -10,7 +10,7 @@
 #include "pf_flight.h"
 #include "pf_guard.h"
 #include "pf_internal.h"
-#include "pf_scaled.h"
+#include "pf_longflight.h"
 
 const char *pf_flight_method_name(pf_flight_method m)
 {

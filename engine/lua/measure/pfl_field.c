@@ -1,5 +1,5 @@
-/* pfl_distrib.c - distributions with axes (full densities, marginals,
- * column densities, slices, radial profiles), Born-rule sampling of events,
+/* pfl_field.c - distributions with axes (fields, pf_field.h: full densities,
+ * marginals, column densities, slices, radial profiles), Born-rule sampling of events,
  * histograms and fringe analysis, for wave functions and ensembles. */
 #include <math.h>
 #include <stdlib.h>
@@ -437,7 +437,7 @@ static int l_fringes(lua_State *L)
     return 1;
 }
 
-void pfl_open_distrib(lua_State *L, int mod)
+void pfl_open_field(lua_State *L, int mod)
 {
     static const luaL_Reg methods[] = {
         {"distribution", l_distribution}, {"profile", l_profile}, {"marginal", l_marginal},

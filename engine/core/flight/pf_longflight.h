@@ -1,4 +1,4 @@
-/* pf_scaled.h - long free flights on a grid that follows the packet.
+/* pf_longflight.h - long free flights on a grid that follows the packet.
  *
  * The free propagator in the single-FFT Fresnel form,
  *   psi(x, t) = sqrt(m / 2 pi i hbar t) exp(i m x^2 / 2 hbar t)
@@ -29,8 +29,8 @@
  *              spans less than 2 pi / dx); a second stage also needs I(t)
  *              inside the window and the wave numbers inside +-pi/D.
  * Both use the inner region of the grid (outside the guard bands). */
-#ifndef PF_SCALED_H
-#define PF_SCALED_H
+#ifndef PF_LONGFLIGHT_H
+#define PF_LONGFLIGHT_H
 
 #include "pf_grid.h"
 #include "pf_wave.h"

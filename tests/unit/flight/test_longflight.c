@@ -1,4 +1,4 @@
-/* test_scaled.c - scaled-grid flights against outside references:
+/* test_longflight.c - scaled-grid flights against outside references:
  *  - the free Gaussian packet with complex width (textbook result, e.g. any
  *    quantum-mechanics text's free-particle section):
  *      psi(x, t) = (2 pi s^2)^(-1/4) (1 + i tau)^(-1/2)
@@ -20,7 +20,7 @@
 #include "pf_internal.h"
 #include "pf_flight.h"
 #include "pf_observe.h"
-#include "pf_scaled.h"
+#include "pf_longflight.h"
 #include "pf_wave.h"
 
 #define MASS pft_mass("87Rb") /* from the species table */
@@ -201,7 +201,7 @@ static void segment_chirps_match_the_formula(void **state)
     }
 }
 
-/* The 1D chirps are evaluated by segments of 32 points (pf_scaled.c): point
+/* The 1D chirps are evaluated by segments of 32 points (pf_longflight.c): point
  * counts that are odd (the turn h j mod n is not a sign) or leave a short
  * tail, backward flights and an off-centre window follow the same textbook
  * packet. */

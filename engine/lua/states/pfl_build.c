@@ -1,4 +1,4 @@
-/* pfl_states.c - the state builders as Lua functions: pf.gaussian,
+/* pfl_build.c - the state builders (pf_build.h) as Lua functions: pf.gaussian,
  * pf.momentum_orders, pf.ground_state, pf.oscillator, pf.flat_top,
  * pf.thomas_fermi and pf.sampled.  Each reads a table of named fields in SI
  * units (or a species label for the mass), checks every field, and calls the
@@ -444,7 +444,7 @@ static int l_sampled(lua_State *L)
     return 1;
 }
 
-void pfl_open_states(lua_State *L, int mod)
+void pfl_open_build(lua_State *L, int mod)
 {
     static const luaL_Reg funcs[] = {
         {"gaussian", l_gaussian}, {"momentum_orders", l_momentum_orders}, {"ground_state", l_ground_state},

@@ -1,5 +1,6 @@
-/* pfl_sample.c - sampling user Lua functions over a grid for the protocol
- * steps (phases, transmissions, potentials).
+/* pfl_callbacks.c - user Lua functions called over a grid for the protocol
+ * steps (phases, transmissions, potentials): the core's callbacks
+ * (pf_sample_fn, pf_potential_fn) that call them, and their errors.
  *
  * Functions are called once per grid point under lua_pcall, so an error in a
  * user function unwinds no C frame that holds engine memory; the core call

@@ -1,4 +1,4 @@
-/* pf_distrib.h - sampled distributions on regular axes (pf_field) and the
+/* pf_field.h - sampled distributions on regular axes (pf_field) and the
  * reductions a physicist reads off them: marginals and column densities,
  * slices, radial profiles, integrals and moments.
  *
@@ -8,8 +8,8 @@
  * (axes in 1/m ascending, values in m^d).  Fields are what detector models,
  * samplers and the ensemble sums work on, so pure states and mixtures share
  * one code path. */
-#ifndef PF_DISTRIB_H
-#define PF_DISTRIB_H
+#ifndef PF_FIELD_H
+#define PF_FIELD_H
 
 #include <stddef.h>
 #include "pf_wave.h"

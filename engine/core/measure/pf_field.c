@@ -1,10 +1,10 @@
-/* pf_distrib.c - fields: construction from densities, marginals, slices,
+/* pf_field.c - fields: construction from densities, marginals, slices,
  * radial profiles and moments.  These are reductions over arrays that a
  * script asks for a few times per run, so they are written serially and are
  * therefore deterministic for any thread count. */
 #include <math.h>
 #include <string.h>
-#include "pf_distrib.h"
+#include "pf_field.h"
 #include "pf_internal.h"
 
 pf_status pf_field_new(pf_context *ctx, int dim, const size_t *n, const double *first, const double *step,
