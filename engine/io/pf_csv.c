@@ -236,6 +236,85 @@ static pf_status line_error(pf_context *ctx, const char *path, size_t lineno, in
     return pf_fail(ctx, PF_ENOMEM, "out of memory reading '%s'", path);
 }
 
+/* The header: the first line that is neither blank nor a comment (a UTF-8
+ * byte-order mark on the first line skipped), trimmed, in *line's buffer. */
+static pf_status find_header(pf_context *ctx, FILE *f, const char *path, char **line, size_t *cap, size_t *lineno,
+                             char **hdr)
+{
+    for (;;) {
+        int got = read_line(f, line, cap);
+        (*lineno)++;
+        if (got == LINE_END) return pf_fail(ctx, PF_EINVAL, "%s: no header line", path);
+        if (got != LINE_OK) return line_error(ctx, path, *lineno, got);
+        char *t = trim(*line);
+        /* Spreadsheets often start UTF-8 files with a byte-order mark. */
+        if (*lineno == 1 && (unsigned char)t[0] == 0xEF && (unsigned char)t[1] == 0xBB && (unsigned char)t[2] == 0xBF)
+            t = trim(t + 3);
+        if (*t && *t != '#') {
+            *hdr = t;
+            return PF_OK;
+        }
+    }
+}
+
+/* Appends one data row (ncols fields, trimmed copies) to out's text
+ * columns, growing them by doubling; every byte is booked against the
+ * memory cap first (*held, *rowcap carry over between rows). */
+static pf_status store_row(pf_context *ctx, const char *path, char **fields, size_t ncols, size_t *rowcap,
+                           size_t *held, pf_table *out)
+{
+    size_t row_bytes = 0;
+    for (size_t c = 0; c < ncols; c++) row_bytes = pf_read_add(row_bytes, strlen(fields[c]) + 1 + CSV_CELL_OVERHEAD);
+    *held = pf_read_add(*held, row_bytes);
+    int grow = out->nrows == *rowcap;
+    if (grow) {
+        size_t bytes;
+        *rowcap = *rowcap ? 2 * *rowcap : 256;
+        /* The doubled pointer arrays may briefly sit beside the old ones. */
+        if (__builtin_mul_overflow(*rowcap, ncols * sizeof(char *), &bytes)) *held = SIZE_MAX;
+        else *held = pf_read_add(*held, bytes);
+    }
+    pf_status s = pf_read_budget(ctx, path, *held);
+    if (s) return s;
+    if (grow) {
+        for (size_t c = 0; c < ncols; c++) {
+            char **p = realloc(out->text[c], *rowcap * sizeof *p);
+            if (!p) return pf_fail(ctx, PF_ENOMEM, "out of memory reading '%s'", path);
+            out->text[c] = p;
+        }
+    }
+    for (size_t c = 0; c < ncols; c++) {
+        out->text[c][out->nrows] = strdup(trim(fields[c]));
+        if (!out->text[c][out->nrows]) {
+            for (size_t k = 0; k < c; k++) free(out->text[k][out->nrows]);
+            return pf_fail(ctx, PF_ENOMEM, "out of memory reading '%s'", path);
+        }
+    }
+    out->nrows++;
+    return PF_OK;
+}
+
+/* Turns each column whose every entry parses as a number into numbers
+ * (values[c], its text freed); the others stay text. */
+static pf_status numeric_columns(pf_context *ctx, const char *path, pf_table *out)
+{
+    for (size_t c = 0; c < out->ncols; c++) {
+        double *v = malloc(out->nrows * sizeof *v);
+        if (!v) return pf_fail(ctx, PF_ENOMEM, "out of memory reading '%s'", path);
+        size_t r = 0;
+        while (r < out->nrows && pf_parse_double(out->text[c][r], &v[r])) r++;
+        if (r < out->nrows) {
+            free(v); /* a text column */
+            continue;
+        }
+        for (r = 0; r < out->nrows; r++) free(out->text[c][r]);
+        free(out->text[c]);
+        out->text[c] = NULL;
+        out->values[c] = v;
+    }
+    return PF_OK;
+}
+
 pf_status pf_csv_read(pf_context *ctx, const char *path, pf_table *out)
 {
     memset(out, 0, sizeof *out);
@@ -243,31 +322,11 @@ pf_status pf_csv_read(pf_context *ctx, const char *path, pf_table *out)
     if (!f) return pf_fail(ctx, PF_EIO, "cannot open '%s': %s", path, strerror(errno));
     char *line = NULL;
     size_t cap = 0, lineno = 0, rowcap = 0;
-    pf_status s = PF_OK;
     char sep = ',';
     char **fields = NULL;
     char *hdr = NULL;
-    /* Header: the first line that is neither blank nor a comment. */
-    for (;;) {
-        int got = read_line(f, &line, &cap);
-        lineno++;
-        if (got == LINE_END) {
-            s = pf_fail(ctx, PF_EINVAL, "%s: no header line", path);
-            goto done;
-        }
-        if (got != LINE_OK) {
-            s = line_error(ctx, path, lineno, got);
-            goto done;
-        }
-        char *t = trim(line);
-        /* Spreadsheets often start UTF-8 files with a byte-order mark. */
-        if (lineno == 1 && (unsigned char)t[0] == 0xEF && (unsigned char)t[1] == 0xBB && (unsigned char)t[2] == 0xBF)
-            t = trim(t + 3);
-        if (*t && *t != '#') {
-            hdr = t;
-            break;
-        }
-    }
+    pf_status s = find_header(ctx, f, path, &line, &cap, &lineno, &hdr);
+    if (s) goto done;
     if (!strchr(hdr, ',')) sep = strchr(hdr, ';') ? ';' : (strchr(hdr, '\t') ? '\t' : ',');
     size_t ncols = 1;
     for (const char *p = hdr; *p; p++) ncols += *p == sep;
@@ -323,58 +382,11 @@ pf_status pf_csv_read(pf_context *ctx, const char *path, pf_table *out)
             s = pf_fail(ctx, PF_EINVAL, "%s:%zu: %zu fields, the header has %zu", path, lineno, n, ncols);
             goto done;
         }
-        size_t row_bytes = 0;
-        for (size_t c = 0; c < ncols; c++) row_bytes = pf_read_add(row_bytes, strlen(fields[c]) + 1 + CSV_CELL_OVERHEAD);
-        held = pf_read_add(held, row_bytes);
-        int grow = out->nrows == rowcap;
-        if (grow) {
-            size_t bytes;
-            rowcap = rowcap ? 2 * rowcap : 256;
-            /* The doubled pointer arrays may briefly sit beside the old ones. */
-            if (__builtin_mul_overflow(rowcap, ncols * sizeof(char *), &bytes)) held = SIZE_MAX;
-            else held = pf_read_add(held, bytes);
-        }
-        s = pf_read_budget(ctx, path, held);
-        if (s) goto done;
-        if (grow) {
-            for (size_t c = 0; c < ncols; c++) {
-                char **p = realloc(out->text[c], rowcap * sizeof *p);
-                if (!p) {
-                    s = pf_fail(ctx, PF_ENOMEM, "out of memory reading '%s'", path);
-                    goto done;
-                }
-                out->text[c] = p;
-            }
-        }
-        for (size_t c = 0; c < ncols; c++) {
-            out->text[c][out->nrows] = strdup(trim(fields[c]));
-            if (!out->text[c][out->nrows]) {
-                for (size_t k = 0; k < c; k++) free(out->text[k][out->nrows]);
-                s = pf_fail(ctx, PF_ENOMEM, "out of memory reading '%s'", path);
-                goto done;
-            }
-        }
-        out->nrows++;
+        if ((s = store_row(ctx, path, fields, ncols, &rowcap, &held, out))) goto done;
     }
     if (ferror(f)) s = pf_fail(ctx, PF_EIO, "error reading '%s'", path);
     else if (!out->nrows) s = pf_fail(ctx, PF_EINVAL, "%s: no data rows after the header", path);
-    for (size_t c = 0; !s && c < ncols; c++) {
-        double *v = malloc(out->nrows * sizeof *v);
-        if (!v) {
-            s = pf_fail(ctx, PF_ENOMEM, "out of memory reading '%s'", path);
-            break;
-        }
-        size_t r = 0;
-        while (r < out->nrows && pf_parse_double(out->text[c][r], &v[r])) r++;
-        if (r < out->nrows) {
-            free(v); /* a text column */
-            continue;
-        }
-        for (r = 0; r < out->nrows; r++) free(out->text[c][r]);
-        free(out->text[c]);
-        out->text[c] = NULL;
-        out->values[c] = v;
-    }
+    if (!s) s = numeric_columns(ctx, path, out);
 done:
     free(fields);
     free(line);

@@ -41,52 +41,31 @@ static cJSON *number_or_null(double v)
     return v >= 0 ? cJSON_CreateNumber(v) : cJSON_CreateNull();
 }
 
-pf_status pf_manifest_write(pf_context *ctx, const char *folder, const pf_manifest *m)
+/* "script": its path and SHA-256 (given, or hashed from the file now). */
+static pf_status add_script(pf_context *ctx, cJSON *root, const pf_manifest *m)
 {
-    char hex[65];
-    pf_status s = PF_OK;
-    pf_manifest_param *params = sorted(m->params, m->nparams, sizeof *params, by_param);
-    pf_manifest_result *results = sorted(m->results, m->nresults, sizeof *results, by_result);
-    pf_manifest_output *outputs = sorted(m->outputs, m->noutputs, sizeof *outputs, by_output);
-    cJSON *root = cJSON_CreateObject();
-    if (!params || !results || !outputs || !root) {
-        s = pf_fail(ctx, PF_ENOMEM, "out of memory building the manifest");
-        goto done;
-    }
-    cJSON_AddStringToObject(root, "format", "psiflight-run-manifest");
-    cJSON_AddNumberToObject(root, "format_version", 1);
     cJSON *script = cJSON_AddObjectToObject(root, "script");
-    if (m->script_path) {
-        cJSON_AddStringToObject(script, "path", m->script_path);
-        if (m->script_sha256 && m->script_sha256[0])
-            snprintf(hex, sizeof hex, "%s", m->script_sha256);
-        else if (pf_sha256_file(m->script_path, hex) != 0) {
-            s = pf_fail(ctx, PF_EIO, "manifest: cannot read the script '%s': %s", m->script_path, strerror(errno));
-            goto done;
-        }
-        cJSON_AddStringToObject(script, "sha256", hex);
-    } else {
+    if (!m->script_path) {
         cJSON_AddNullToObject(script, "path");
         cJSON_AddNullToObject(script, "sha256");
+        return PF_OK;
     }
-    cJSON *jp = cJSON_AddObjectToObject(root, "parameters");
-    for (size_t i = 0; i < m->nparams; i++) cJSON_AddStringToObject(jp, params[i].name, params[i].value);
-    /* cJSON prints numbers with a relative round-trip tolerance, which can
-     * drop the last digit of a 53-bit seed; write the integer's digits. */
-    char seed_text[32];
-    snprintf(seed_text, sizeof seed_text, "%llu", (unsigned long long)m->seed);
-    cJSON_AddRawToObject(root, "seed", seed_text);
-    cJSON_AddNumberToObject(root, "threads", m->threads);
-    cJSON_AddStringToObject(root, "status", m->status);
-    if (m->error) cJSON_AddStringToObject(root, "error", m->error);
-    cJSON *jr = cJSON_AddObjectToObject(root, "results");
-    for (size_t i = 0; i < m->nresults; i++) {
-        cJSON *r = cJSON_AddObjectToObject(jr, results[i].name);
-        cJSON_AddNumberToObject(r, "value", results[i].value); /* NaN/inf become null */
-        cJSON_AddStringToObject(r, "unit", results[i].unit ? results[i].unit : "");
-    }
+    char hex[65];
+    cJSON_AddStringToObject(script, "path", m->script_path);
+    if (m->script_sha256 && m->script_sha256[0])
+        snprintf(hex, sizeof hex, "%s", m->script_sha256);
+    else if (pf_sha256_file(m->script_path, hex) != 0)
+        return pf_fail(ctx, PF_EIO, "manifest: cannot read the script '%s': %s", m->script_path, strerror(errno));
+    cJSON_AddStringToObject(script, "sha256", hex);
+    return PF_OK;
+}
+
+/* "outputs": each file's path and SHA-256, in path order. */
+static void add_outputs(cJSON *root, const pf_manifest_output *outputs, size_t n)
+{
+    char hex[65];
     cJSON *jo = cJSON_AddArrayToObject(root, "outputs");
-    for (size_t i = 0; i < m->noutputs; i++) {
+    for (size_t i = 0; i < n; i++) {
         cJSON *o = cJSON_CreateObject();
         cJSON_AddStringToObject(o, "path", outputs[i].path);
         /* A script may delete a file it wrote: the manifest says so rather
@@ -99,14 +78,12 @@ pf_status pf_manifest_write(pf_context *ctx, const char *folder, const pf_manife
         }
         cJSON_AddItemToArray(jo, o);
     }
-    cJSON *jm = cJSON_AddArrayToObject(root, "modules");
-    for (size_t i = 0; i < m->nmodules; i++) {
-        cJSON *mo = cJSON_CreateObject();
-        cJSON_AddStringToObject(mo, "name", m->modules[i].name);
-        cJSON_AddStringToObject(mo, "source", m->modules[i].source);
-        cJSON_AddStringToObject(mo, "sha256", m->modules[i].sha256);
-        cJSON_AddItemToArray(jm, mo);
-    }
+}
+
+/* What decides the last bits of the results besides the script: library
+ * versions, the planning mode and the plans made, and the guards' verdict. */
+static void add_environment(pf_context *ctx, cJSON *root, const pf_manifest *m)
+{
     char h5v[32], plv[80];
     pf_h5_version(h5v, sizeof h5v);
     pf_plplot_version(plv, sizeof plv);
@@ -133,21 +110,18 @@ pf_status pf_manifest_write(pf_context *ctx, const char *folder, const pf_manife
     cJSON_AddNumberToObject(jg, "warnings", (double)m->warnings);
     cJSON_AddItemToObject(jg, "edge_x_max", number_or_null(m->edge_x_max));
     cJSON_AddItemToObject(jg, "edge_k_max", number_or_null(m->edge_k_max));
-    char *text = cJSON_Print(root);
-    if (!text) {
-        s = pf_fail(ctx, PF_ENOMEM, "out of memory printing the manifest");
-        goto done;
-    }
+}
+
+/* Writes text and a newline to folder/PF_MANIFEST_NAME atomically: the old
+ * manifest stays whole until the new one is complete. */
+static pf_status write_text(pf_context *ctx, const char *folder, const char *text)
+{
     size_t need = strlen(folder) + sizeof PF_MANIFEST_NAME + 2;
     char *path = malloc(need);
-    if (!path) {
-        free(text);
-        s = pf_fail(ctx, PF_ENOMEM, "out of memory");
-        goto done;
-    }
+    if (!path) return pf_fail(ctx, PF_ENOMEM, "out of memory");
     snprintf(path, need, "%s/%s", folder, PF_MANIFEST_NAME);
     pf_safefile sf;
-    s = pf_safe_begin(ctx, path, 1, &sf);
+    pf_status s = pf_safe_begin(ctx, path, 1, &sf);
     if (!s) {
         FILE *f = fopen(sf.temp_path, "w");
         int bad = !f || fputs(text, f) < 0 || fputc('\n', f) == EOF;
@@ -160,6 +134,56 @@ pf_status pf_manifest_write(pf_context *ctx, const char *folder, const pf_manife
         }
     }
     free(path);
+    return s;
+}
+
+pf_status pf_manifest_write(pf_context *ctx, const char *folder, const pf_manifest *m)
+{
+    pf_status s = PF_OK;
+    pf_manifest_param *params = sorted(m->params, m->nparams, sizeof *params, by_param);
+    pf_manifest_result *results = sorted(m->results, m->nresults, sizeof *results, by_result);
+    pf_manifest_output *outputs = sorted(m->outputs, m->noutputs, sizeof *outputs, by_output);
+    cJSON *root = cJSON_CreateObject();
+    if (!params || !results || !outputs || !root) {
+        s = pf_fail(ctx, PF_ENOMEM, "out of memory building the manifest");
+        goto done;
+    }
+    /* Keys in this order: cJSON prints them as added. */
+    cJSON_AddStringToObject(root, "format", "psiflight-run-manifest");
+    cJSON_AddNumberToObject(root, "format_version", 1);
+    if ((s = add_script(ctx, root, m))) goto done;
+    cJSON *jp = cJSON_AddObjectToObject(root, "parameters");
+    for (size_t i = 0; i < m->nparams; i++) cJSON_AddStringToObject(jp, params[i].name, params[i].value);
+    /* cJSON prints numbers with a relative round-trip tolerance, which can
+     * drop the last digit of a 53-bit seed; write the integer's digits. */
+    char seed_text[32];
+    snprintf(seed_text, sizeof seed_text, "%llu", (unsigned long long)m->seed);
+    cJSON_AddRawToObject(root, "seed", seed_text);
+    cJSON_AddNumberToObject(root, "threads", m->threads);
+    cJSON_AddStringToObject(root, "status", m->status);
+    if (m->error) cJSON_AddStringToObject(root, "error", m->error);
+    cJSON *jr = cJSON_AddObjectToObject(root, "results");
+    for (size_t i = 0; i < m->nresults; i++) {
+        cJSON *r = cJSON_AddObjectToObject(jr, results[i].name);
+        cJSON_AddNumberToObject(r, "value", results[i].value); /* NaN/inf become null */
+        cJSON_AddStringToObject(r, "unit", results[i].unit ? results[i].unit : "");
+    }
+    add_outputs(root, outputs, m->noutputs);
+    cJSON *jm = cJSON_AddArrayToObject(root, "modules");
+    for (size_t i = 0; i < m->nmodules; i++) {
+        cJSON *mo = cJSON_CreateObject();
+        cJSON_AddStringToObject(mo, "name", m->modules[i].name);
+        cJSON_AddStringToObject(mo, "source", m->modules[i].source);
+        cJSON_AddStringToObject(mo, "sha256", m->modules[i].sha256);
+        cJSON_AddItemToArray(jm, mo);
+    }
+    add_environment(ctx, root, m);
+    char *text = cJSON_Print(root);
+    if (!text) {
+        s = pf_fail(ctx, PF_ENOMEM, "out of memory printing the manifest");
+        goto done;
+    }
+    s = write_text(ctx, folder, text);
     free(text);
 done:
     cJSON_Delete(root);

@@ -591,7 +591,10 @@ static double *map_image(const pf_map *m, const double *vals, const map_layout *
     return img;
 }
 
-pf_status pf_picture_map(pf_context *ctx, const char *path, int overwrite, const pf_map *m)
+/* Refuses a map that cannot be drawn (too few samples, non-finite or
+ * descending axes, a bad colour-scale top or mark, a size out of range);
+ * gives the picture's size in pixels. */
+static pf_status check_map(pf_context *ctx, const pf_map *m, int *wq, int *hq)
 {
     if (m->nx < 2 || m->ny < 2) return pf_fail(ctx, PF_EINVAL, "a map needs at least 2 x 2 samples, got %zu x %zu", m->nx, m->ny);
     if (!all_finite(m->x, m->nx) || !all_finite(m->y, m->ny) || !all_finite(m->values, m->nx * m->ny))
@@ -603,9 +606,49 @@ pf_status pf_picture_map(pf_context *ctx, const char *path, int overwrite, const
                        m->title ? m->title : "", m->value_max);
     for (size_t k = 0; k < m->nmarks; k++)
         if (!isfinite(m->marks[k].at)) return pf_fail(ctx, PF_EINVAL, "map mark %zu: position must be finite", k + 1);
-    int wq = m->width ? m->width : 860, hq = m->height ? m->height : 640;
-    if (wq < 200 || hq < 150 || wq > 8000 || hq > 8000)
-        return pf_fail(ctx, PF_EINVAL, "picture size %d x %d is outside 200x150..8000x8000", wq, hq);
+    *wq = m->width ? m->width : 860, *hq = m->height ? m->height : 640;
+    if (*wq < 200 || *hq < 150 || *wq > 8000 || *hq > 8000)
+        return pf_fail(ctx, PF_EINVAL, "picture size %d x %d is outside 200x150..8000x8000", *wq, *hq);
+    return PF_OK;
+}
+
+/* Unit of the colour scale: the values' own, or per unit length (area) of
+ * the axes shown in units ux and uy when the map is a density per_x/per_y. */
+static void value_unit_text(const pf_map *m, const char *ux, const char *uy, char *vunit, size_t size)
+{
+    if (m->per_x && m->per_y && strcmp(ux, uy) == 0 && m->xa.q == m->ya.q) {
+        inverse_unit(m->xa.q, ux, 2, vunit, size);
+    } else if (m->per_x || m->per_y) {
+        char a[32] = "", b[32] = "";
+        if (m->per_x) inverse_unit(m->xa.q, ux, 1, a, sizeof a);
+        if (m->per_y) inverse_unit(m->ya.q, uy, 1, b, sizeof b);
+        snprintf(vunit, size, "%s%s%s", a, *a && *b ? " " : "", b);
+    } else {
+        snprintf(vunit, size, "%s", m->value_unit ? m->value_unit : "");
+    }
+}
+
+/* Folds a power of ten into the colour scale's unit (vunit, 64 bytes) when
+ * the top lies outside 1e-2..1e4, rather than let PLplot print a detached
+ * "(x10^n)" beside the colour bar: the n values and the range are scaled. */
+static void fold_power_of_ten(double *vals, size_t n, double *vmin, double *vmax, char vunit[64])
+{
+    int e10 = *vmax > 0 ? (int)floor(log10(*vmax)) : 0;
+    if (e10 >= -2 && e10 <= 3) return;
+    double f = pow(10.0, -e10);
+    for (size_t i = 0; i < n; i++) vals[i] *= f;
+    *vmin *= f;
+    *vmax *= f;
+    char plain[64];
+    snprintf(plain, sizeof plain, "%s", vunit);
+    snprintf(vunit, 64, "10#u%d#d %.40s", e10, plain);
+}
+
+pf_status pf_picture_map(pf_context *ctx, const char *path, int overwrite, const pf_map *m)
+{
+    int wq = 0, hq = 0;
+    pf_status s = check_map(ctx, m, &wq, &hq);
+    if (s) return s;
     /* Cell edges: samples are centres of uniform cells. */
     double hx = (m->x[m->nx - 1] - m->x[0]) / (double)(m->nx - 1) / 2;
     double hy = m->y_at_samples && m->smooth ? 0 : (m->y[m->ny - 1] - m->y[0]) / (double)(m->ny - 1) / 2;
@@ -658,28 +701,8 @@ pf_status pf_picture_map(pf_context *ctx, const char *path, int overwrite, const
     }
     if (!(vmax > vmin)) vmax = vmin + 1;
     char vunit[64], vlabel[160];
-    if (m->per_x && m->per_y && strcmp(ux, uy) == 0 && m->xa.q == m->ya.q) {
-        inverse_unit(m->xa.q, ux, 2, vunit, sizeof vunit);
-    } else if (m->per_x || m->per_y) {
-        char a[32] = "", b[32] = "";
-        if (m->per_x) inverse_unit(m->xa.q, ux, 1, a, sizeof a);
-        if (m->per_y) inverse_unit(m->ya.q, uy, 1, b, sizeof b);
-        snprintf(vunit, sizeof vunit, "%s%s%s", a, *a && *b ? " " : "", b);
-    } else {
-        snprintf(vunit, sizeof vunit, "%s", m->value_unit ? m->value_unit : "");
-    }
-    /* Fold a power of ten into the label rather than let PLplot print a
-     * detached "(x10^n)" beside the colour bar. */
-    int e10 = vmax > 0 ? (int)floor(log10(vmax)) : 0;
-    if (e10 < -2 || e10 > 3) {
-        double f = pow(10.0, -e10);
-        for (size_t i = 0; i < n; i++) vals[i] *= f;
-        vmin *= f;
-        vmax *= f;
-        char plain[64];
-        snprintf(plain, sizeof plain, "%s", vunit);
-        snprintf(vunit, sizeof vunit, "10#u%d#d %.40s", e10, plain);
-    }
+    value_unit_text(m, ux, uy, vunit, sizeof vunit);
+    fold_power_of_ten(vals, n, &vmin, &vmax, vunit);
     axis_label(vlabel, sizeof vlabel, m->value_name ? m->value_name : "value", vunit);
     map_job job = {.m = m, .vmin = vmin, .vmax = vmax, .clipped = clipped, .fy = fy, .vlabel = vlabel,
                    .device = device_for(path),
@@ -703,7 +726,7 @@ pf_status pf_picture_map(pf_context *ctx, const char *path, int overwrite, const
     for (size_t ix = 0; ix < job.inx; ix++) rows[ix] = img + ix * job.iny;
     job.rows = rows;
     pf_safefile sf;
-    pf_status s = pf_safe_begin(ctx, path, overwrite, &sf);
+    s = pf_safe_begin(ctx, path, overwrite, &sf);
     if (!s) {
         job.out = open_for_plplot(ctx, &sf, &s);
         if (job.out) {
@@ -931,12 +954,16 @@ static double interpolate_series(const pf_series *r, double x)
     return dx > 0 ? r->y[lo] + (r->y[hi] - r->y[lo]) * (x - r->x[lo]) / dx : r->y[lo];
 }
 
-pf_status pf_picture_lines(pf_context *ctx, const char *path, int overwrite, const pf_lines *p)
+/* Refuses a line plot that cannot be drawn (no or empty series, non-finite
+ * values, a size out of range, a bad residual pair or reference, a
+ * logarithmic plot of no positive value); gives the size in pixels and the
+ * data's range (SI units; y over positive values only when log_y). */
+static pf_status check_lines(pf_context *ctx, const pf_lines *p, int *w, int *h, double range[4])
 {
     if (p->nseries < 1) return pf_fail(ctx, PF_EINVAL, "a line plot needs at least one series");
-    int w = p->width ? p->width : 860, h = p->height ? p->height : 560;
-    if (w < 200 || h < 150 || w > 8000 || h > 8000)
-        return pf_fail(ctx, PF_EINVAL, "picture size %d x %d is outside 200x150..8000x8000", w, h);
+    *w = p->width ? p->width : 860, *h = p->height ? p->height : 560;
+    if (*w < 200 || *h < 150 || *w > 8000 || *h > 8000)
+        return pf_fail(ctx, PF_EINVAL, "picture size %d x %d is outside 200x150..8000x8000", *w, *h);
     if ((p->residual_of || p->residual_ref) &&
         (p->residual_of < 1 || p->residual_of > p->nseries || p->residual_ref < 1 || p->residual_ref > p->nseries ||
          p->residual_of == p->residual_ref))
@@ -963,6 +990,55 @@ pf_status pf_picture_lines(pf_context *ctx, const char *path, int overwrite, con
             if (!(r->x[i] > r->x[i - 1]))
                 return pf_fail(ctx, PF_EINVAL, "the residual's reference (series %zu) needs ascending x", p->residual_ref);
     }
+    range[0] = xmin, range[1] = xmax, range[2] = ymin, range[3] = ymax;
+    return PF_OK;
+}
+
+/* The residual panel: result minus reference at the result's x (display
+ * units fx, fy) into res (x in res[0..], y in res[rcap..]), its symmetric
+ * range and its label (y axis unit yunit) in job.  Fails when no x of the
+ * result lies inside the reference's range.  ylo, yhi: the main panel's
+ * range, which scales the panel of an exactly zero residual. */
+static pf_status residual_panel(pf_context *ctx, const pf_lines *p, double fx, double fy, double ylo, double yhi,
+                                const char *yunit, double *res, size_t rcap, lines_job *job)
+{
+    const pf_series *a = &p->series[p->residual_of - 1], *r = &p->series[p->residual_ref - 1];
+    double lo = INFINITY, hi = -INFINITY;
+    for (size_t i = 0; i < a->n; i++) {
+        double ref = interpolate_series(r, a->x[i]);
+        if (isnan(ref)) continue;
+        res[job->rn] = a->x[i] * fx;
+        res[rcap + job->rn] = (a->y[i] - ref) * fy;
+        lo = fmin(lo, res[rcap + job->rn]);
+        hi = fmax(hi, res[rcap + job->rn]);
+        job->rn++;
+    }
+    if (!job->rn)
+        return pf_fail(ctx, PF_EINVAL, "series %zu has no x inside the range of its residual's reference (series %zu)",
+                       p->residual_of, p->residual_ref);
+    /* Symmetric about zero, so the sign of the deviation reads at once. */
+    double amp = fmax(fabs(lo), fabs(hi));
+    if (!(amp > 0)) amp = fmax(1e-300, 1e-12 * (fabs(yhi) + fabs(ylo)));
+    /* A power of ten goes into the unit text above the panel, not into
+     * PLplot's detached "(x10^n)" that would collide with the label. */
+    int e10 = (int)floor(log10(amp));
+    double f = e10 < -2 || e10 > 3 ? pow(10.0, -e10) : 1;
+    for (size_t i = 0; i < job->rn; i++) res[rcap + i] *= f;
+    amp *= f;
+    job->rbox[0] = -1.15 * amp, job->rbox[1] = 1.15 * amp;
+    job->rx = res, job->ry = res + rcap;
+    if (f != 1) snprintf(job->rl, sizeof job->rl, "residual in 10#u%d#d %s", e10, *yunit ? yunit : "");
+    else snprintf(job->rl, sizeof job->rl, "residual%s%s", *yunit ? " in " : "", yunit);
+    return PF_OK;
+}
+
+pf_status pf_picture_lines(pf_context *ctx, const char *path, int overwrite, const pf_lines *p)
+{
+    int w = 0, h = 0;
+    double range[4] = {0, 0, 0, 0};
+    pf_status st = check_lines(ctx, p, &w, &h, range);
+    if (st) return st;
+    double xmin = range[0], xmax = range[1], ymin = range[2], ymax = range[3];
     char ux[32], yl[128], xl[96], yunit[48];
     double fx = pf_display_unit(p->xa.q, max_abs2(xmin, xmax), ux, sizeof ux);
     double fy = p->y_per_x ? 1 / fx : 1;
@@ -1014,40 +1090,9 @@ pf_status pf_picture_lines(pf_context *ctx, const char *path, int overwrite, con
         return pf_fail(ctx, PF_ENOMEM, "out of memory");
     }
     coincident_markers(p, yspan / (p->log_y ? 1 : fy), job.marked);
-    if (rcap) {
-        /* Residual: result minus reference at the result's x (display units). */
-        const pf_series *a = &p->series[p->residual_of - 1], *r = &p->series[p->residual_ref - 1];
-        double lo = INFINITY, hi = -INFINITY;
-        for (size_t i = 0; i < a->n; i++) {
-            double ref = interpolate_series(r, a->x[i]);
-            if (isnan(ref)) continue;
-            res[job.rn] = a->x[i] * fx;
-            res[rcap + job.rn] = (a->y[i] - ref) * fy;
-            lo = fmin(lo, res[rcap + job.rn]);
-            hi = fmax(hi, res[rcap + job.rn]);
-            job.rn++;
-        }
-        if (!job.rn) {
-            free(job.bx), free(job.by), free(job.marked), free(res);
-            return pf_fail(ctx, PF_EINVAL, "series %zu has no x inside the range of its residual's reference (series %zu)",
-                           p->residual_of, p->residual_ref);
-        }
-        /* Symmetric about zero, so the sign of the deviation reads at once. */
-        double amp = fmax(fabs(lo), fabs(hi));
-        if (!(amp > 0)) amp = fmax(1e-300, 1e-12 * (fabs(ymax) + fabs(ymin)));
-        /* A power of ten goes into the unit text above the panel, not into
-         * PLplot's detached "(x10^n)" that would collide with the label. */
-        int e10 = (int)floor(log10(amp));
-        double f = e10 < -2 || e10 > 3 ? pow(10.0, -e10) : 1;
-        for (size_t i = 0; i < job.rn; i++) res[rcap + i] *= f;
-        amp *= f;
-        job.rbox[0] = -1.15 * amp, job.rbox[1] = 1.15 * amp;
-        job.rx = res, job.ry = res + rcap;
-        if (f != 1) snprintf(job.rl, sizeof job.rl, "residual in 10#u%d#d %s", e10, *yunit ? yunit : "");
-        else snprintf(job.rl, sizeof job.rl, "residual%s%s", *yunit ? " in " : "", yunit);
-    }
+    if (rcap) st = residual_panel(ctx, p, fx, fy, ymin, ymax, yunit, res, rcap, &job);
     pf_safefile sf;
-    pf_status st = pf_safe_begin(ctx, path, overwrite, &sf);
+    if (!st) st = pf_safe_begin(ctx, path, overwrite, &sf);
     if (!st) {
         job.out = open_for_plplot(ctx, &sf, &st);
         if (job.out) st = finish(ctx, &sf, pf_plguard_run(ctx, draw_lines, &job));

@@ -88,6 +88,32 @@ static int sweep_only_option(const char *a)
     return 0;
 }
 
+/* The usage error for an option `a` the command does not take: one of
+ * sweep's given to another command, or a misspelling (with the nearest
+ * option's name when one is close). */
+static int unknown_option(const char *a, const char *command)
+{
+    if (!is_sweep(command) && sweep_only_option(a))
+        return pfr_usage_error("'%s' is an option of psiflight sweep, not of %s", a, command);
+    const char *near = nearest_option(a, is_sweep(command));
+    if (near) return pfr_usage_error("unknown option '%s' for %s (did you mean '%s'?)", a, command, near);
+    return pfr_usage_error("unknown option '%s' for %s (see psiflight --help)", a, command);
+}
+
+/* What the command needs once every argument is read: a script (but for
+ * recipe), and for sweep an output folder and one source of points. */
+static int check_complete(const pfr_options *o, const char *command)
+{
+    if (!o->script && strcmp(command, "recipe") != 0) return pfr_usage_error("%s needs a script file", command);
+    if (is_sweep(command)) {
+        if (!o->out) return pfr_usage_error("sweep needs --out DIR (each point writes into its own subfolder)");
+        if (!o->nvary && !o->points_csv) return pfr_usage_error("sweep needs --vary NAME=... or --points FILE.csv");
+        if (o->nvary && o->points_csv) return pfr_usage_error("give either --vary or --points, not both");
+        if (o->help) return pfr_usage_error("--help lists a script's parameters: psiflight run SCRIPT --help");
+    }
+    return PFR_EXIT_OK;
+}
+
 int pfr_options_parse(int argc, char **argv, int first, const char *command, pfr_options *o)
 {
     memset(o, 0, sizeof *o);
@@ -175,11 +201,7 @@ int pfr_options_parse(int argc, char **argv, int first, const char *command, pfr
         } else if (is_sweep(command) && strcmp(a, "--rerun") == 0) {
             o->rerun = 1;
         } else if (a[0] == '-' && a[1]) {
-            if (!is_sweep(command) && sweep_only_option(a))
-                return pfr_usage_error("'%s' is an option of psiflight sweep, not of %s", a, command);
-            const char *near = nearest_option(a, is_sweep(command));
-            if (near) return pfr_usage_error("unknown option '%s' for %s (did you mean '%s'?)", a, command, near);
-            return pfr_usage_error("unknown option '%s' for %s (see psiflight --help)", a, command);
+            return unknown_option(a, command);
         } else if (!o->script) {
             o->script = a;
         } else {
@@ -187,14 +209,7 @@ int pfr_options_parse(int argc, char **argv, int first, const char *command, pfr
         }
 #undef NEED
     }
-    if (!o->script && strcmp(command, "recipe") != 0) return pfr_usage_error("%s needs a script file", command);
-    if (is_sweep(command)) {
-        if (!o->out) return pfr_usage_error("sweep needs --out DIR (each point writes into its own subfolder)");
-        if (!o->nvary && !o->points_csv) return pfr_usage_error("sweep needs --vary NAME=... or --points FILE.csv");
-        if (o->nvary && o->points_csv) return pfr_usage_error("give either --vary or --points, not both");
-        if (o->help) return pfr_usage_error("--help lists a script's parameters: psiflight run SCRIPT --help");
-    }
-    return PFR_EXIT_OK;
+    return check_complete(o, command);
 }
 
 void pfr_options_free(pfr_options *o)

@@ -312,111 +312,153 @@ static const char *column_quantity(const sweep *s, int k)
 
 static int compare_strings(const void *a, const void *b) { return strcmp(*(char *const *)a, *(char *const *)b); }
 
-/* Writes DIR/sweep.csv from the manifests: one row per point in point order;
- * columns point, the varied parameters, seed, status, exit_code, then every
- * result any point reported, sorted by name, headed "name [unit]". */
-static int write_table(const sweep *s)
+/* Result names in the order points first reported them, each with the
+ * unit it was first reported in. */
+typedef struct result_names {
+    char **names, **units;
+    int n, cap;
+} result_names;
+
+/* Adds point i's results to rn (a name already there with another unit is
+ * warned about and keeps its first unit). */
+static void note_results(result_names *rn, const pfr_manifest *m, size_t i)
 {
-    size_t n = s->plan.npoints;
-    pfr_manifest *m = calloc(n, sizeof *m);
-    char **names = NULL, **units = NULL;
-    int nnames = 0, cap = 0;
-    for (size_t i = 0; i < n; i++) {
+    for (int r = 0; r < m->nresults; r++) {
+        int k = 0;
+        while (k < rn->n && strcmp(rn->names[k], m->results[r].name) != 0) k++;
+        if (k < rn->n) {
+            if (strcmp(rn->units[k], m->results[r].unit) != 0)
+                fprintf(stderr, "psiflight sweep: point %zu reports %s in '%s', earlier points in '%s'\n", i, rn->names[k],
+                        m->results[r].unit, rn->units[k]);
+            continue;
+        }
+        if (rn->n == rn->cap) {
+            rn->cap = rn->cap ? 2 * rn->cap : 16;
+            rn->names = realloc(rn->names, (size_t)rn->cap * sizeof *rn->names);
+            rn->units = realloc(rn->units, (size_t)rn->cap * sizeof *rn->units);
+        }
+        rn->names[rn->n] = m->results[r].name;
+        rn->units[rn->n] = m->results[r].unit;
+        rn->n++;
+    }
+}
+
+/* Reads every point's manifest into m[0..npoints) (warning about a point
+ * that wrote none: its results stay empty) and returns the result columns:
+ * "name\1unit" strings sorted by name, *count of them (free each and the
+ * array). */
+static char **read_manifests(const sweep *s, pfr_manifest *m, int *count)
+{
+    result_names rn = {0};
+    for (size_t i = 0; i < s->plan.npoints; i++) {
         char folder[PATH_MAX], err[512];
         point_folder(s, i, folder, sizeof folder);
         int rc = pfr_manifest_read(folder, &m[i], err, sizeof err);
         if (rc < 0) fprintf(stderr, "psiflight sweep: point %zu: %s\n", i, err);
         if (rc == 1 && s->status[i] == 0)
             fprintf(stderr, "psiflight sweep: point %zu wrote no %s; its results are empty\n", i, PFR_MANIFEST_FILE);
-        for (int r = 0; r < m[i].nresults; r++) {
-            int k = 0;
-            while (k < nnames && strcmp(names[k], m[i].results[r].name) != 0) k++;
-            if (k < nnames) {
-                if (strcmp(units[k], m[i].results[r].unit) != 0)
-                    fprintf(stderr, "psiflight sweep: point %zu reports %s in '%s', earlier points in '%s'\n", i, names[k],
-                            m[i].results[r].unit, units[k]);
-                continue;
-            }
-            if (nnames == cap) {
-                cap = cap ? 2 * cap : 16;
-                names = realloc(names, (size_t)cap * sizeof *names);
-                units = realloc(units, (size_t)cap * sizeof *units);
-            }
-            names[nnames] = m[i].results[r].name;
-            units[nnames] = m[i].results[r].unit;
-            nnames++;
-        }
+        note_results(&rn, &m[i], i);
     }
     /* Sort result columns by name, keeping each unit with its name. */
-    char **pairs = calloc((size_t)nnames + 1, sizeof *pairs);
-    for (int k = 0; k < nnames; k++) {
-        size_t len = strlen(names[k]) + strlen(units[k]) + 2;
+    char **pairs = calloc((size_t)rn.n + 1, sizeof *pairs);
+    for (int k = 0; k < rn.n; k++) {
+        size_t len = strlen(rn.names[k]) + strlen(rn.units[k]) + 2;
         pairs[k] = malloc(len);
-        snprintf(pairs[k], len, "%s%c%s", names[k], 1, units[k]);
+        snprintf(pairs[k], len, "%s%c%s", rn.names[k], 1, rn.units[k]);
     }
-    qsort(pairs, (size_t)nnames, sizeof *pairs, compare_strings);
+    qsort(pairs, (size_t)rn.n, sizeof *pairs, compare_strings);
+    free(rn.names);
+    free(rn.units);
+    *count = rn.n;
+    return pairs;
+}
+
+/* The header line: point, the varied parameters (with the SI unit where
+ * quantity[k] is set), seed, status, exit_code, the result columns. */
+static void write_header(FILE *f, const sweep *s, const char **quantity, char **pairs, int npairs)
+{
+    put_cell(f, "point", 1);
+    for (int k = 0; k < s->plan.nnames; k++) {
+        char head[512];
+        if (quantity && quantity[k]) snprintf(head, sizeof head, "%s [%s]", s->plan.names[k], pfl_unit_si_name(quantity[k]));
+        else snprintf(head, sizeof head, "%s", s->plan.names[k]);
+        put_cell(f, head, 0);
+    }
+    put_cell(f, "seed", 0);
+    put_cell(f, "status", 0);
+    put_cell(f, "exit_code", 0);
+    for (int k = 0; k < npairs; k++) {
+        char head[512];
+        char *sep = strchr(pairs[k], 1);
+        *sep = 0;
+        if (sep[1]) snprintf(head, sizeof head, "%s [%s]", pairs[k], sep + 1);
+        else snprintf(head, sizeof head, "%s", pairs[k]);
+        *sep = 1;
+        put_cell(f, head, 0);
+    }
+    fputc('\n', f);
+}
+
+/* Point i's line: its varied values (numbers in SI where quantity[k] is
+ * set, else as typed), seed, status, exit code and results (empty cells
+ * for results it did not report). */
+static void write_row(FILE *f, const sweep *s, size_t i, const char **quantity, const pfr_manifest *m, char **pairs,
+                      int npairs)
+{
+    char cell[64];
+    snprintf(cell, sizeof cell, "%zu", i);
+    put_cell(f, cell, 1);
+    for (int k = 0; k < s->plan.nnames; k++) {
+        const char *typed = pfr_plan_value(&s->plan, i, k);
+        double v;
+        const pfl_unit *u;
+        char err[160];
+        if (quantity && quantity[k] && pfl_value_parse(typed, &v, &u, err, sizeof err) == 0 && u) {
+            snprintf(cell, sizeof cell, "%.17g", v * u->si);
+            put_cell(f, cell, 0);
+        } else {
+            put_cell(f, typed, 0);
+        }
+    }
+    snprintf(cell, sizeof cell, "%llu", pfr_point_seed(s->base_seed, i));
+    put_cell(f, cell, 0);
+    put_cell(f, s->status[i] == 0 ? "ok" : "failed", 0);
+    snprintf(cell, sizeof cell, "%d", s->status[i]);
+    put_cell(f, cell, 0);
+    for (int k = 0; k < npairs; k++) {
+        char *sep = strchr(pairs[k], 1);
+        *sep = 0;
+        cell[0] = 0;
+        for (int r = 0; r < m->nresults; r++)
+            if (strcmp(m->results[r].name, pairs[k]) == 0) snprintf(cell, sizeof cell, "%.17g", m->results[r].value);
+        *sep = 1;
+        put_cell(f, cell, 0);
+    }
+    fputc('\n', f);
+}
+
+/* Writes DIR/sweep.csv from the manifests: one row per point in point order;
+ * columns point, the varied parameters, seed, status, exit_code, then every
+ * result any point reported, sorted by name, headed "name [unit]".  Written
+ * to a temporary file and renamed, so a reader never sees half a table. */
+static int write_table(const sweep *s)
+{
+    size_t n = s->plan.npoints;
+    pfr_manifest *m = calloc(n, sizeof *m);
+    int npairs = 0;
+    char **pairs = read_manifests(s, m, &npairs);
     char path[PATH_MAX + 32], tmp[PATH_MAX + 64];
     snprintf(path, sizeof path, "%s/%s", s->o->out, PFR_SWEEP_TABLE);
     snprintf(tmp, sizeof tmp, "%s.tmp.%ld", path, (long)getpid());
     FILE *f = fopen(tmp, "w");
     int rc = f ? 0 : -1;
     if (f) {
-        put_cell(f, "point", 1);
         /* Varied values typed with units are written as numbers in SI, the
          * unit in the header, like every other number column. */
         const char **quantity = calloc((size_t)s->plan.nnames + 1, sizeof *quantity);
-        for (int k = 0; k < s->plan.nnames; k++) {
-            quantity[k] = column_quantity(s, k);
-            char head[512];
-            if (quantity && quantity[k]) snprintf(head, sizeof head, "%s [%s]", s->plan.names[k], pfl_unit_si_name(quantity[k]));
-            else snprintf(head, sizeof head, "%s", s->plan.names[k]);
-            put_cell(f, head, 0);
-        }
-        put_cell(f, "seed", 0);
-        put_cell(f, "status", 0);
-        put_cell(f, "exit_code", 0);
-        for (int k = 0; k < nnames; k++) {
-            char head[512];
-            char *sep = strchr(pairs[k], 1);
-            *sep = 0;
-            if (sep[1]) snprintf(head, sizeof head, "%s [%s]", pairs[k], sep + 1);
-            else snprintf(head, sizeof head, "%s", pairs[k]);
-            *sep = 1;
-            put_cell(f, head, 0);
-        }
-        fputc('\n', f);
-        for (size_t i = 0; i < n; i++) {
-            char cell[64];
-            snprintf(cell, sizeof cell, "%zu", i);
-            put_cell(f, cell, 1);
-            for (int k = 0; k < s->plan.nnames; k++) {
-                const char *typed = pfr_plan_value(&s->plan, i, k);
-                double v;
-                const pfl_unit *u;
-                char err[160];
-                if (quantity && quantity[k] && pfl_value_parse(typed, &v, &u, err, sizeof err) == 0 && u) {
-                    snprintf(cell, sizeof cell, "%.17g", v * u->si);
-                    put_cell(f, cell, 0);
-                } else {
-                    put_cell(f, typed, 0);
-                }
-            }
-            snprintf(cell, sizeof cell, "%llu", pfr_point_seed(s->base_seed, i));
-            put_cell(f, cell, 0);
-            put_cell(f, s->status[i] == 0 ? "ok" : "failed", 0);
-            snprintf(cell, sizeof cell, "%d", s->status[i]);
-            put_cell(f, cell, 0);
-            for (int k = 0; k < nnames; k++) {
-                char *sep = strchr(pairs[k], 1);
-                *sep = 0;
-                cell[0] = 0;
-                for (int r = 0; r < m[i].nresults; r++)
-                    if (strcmp(m[i].results[r].name, pairs[k]) == 0) snprintf(cell, sizeof cell, "%.17g", m[i].results[r].value);
-                *sep = 1;
-                put_cell(f, cell, 0);
-            }
-            fputc('\n', f);
-        }
+        for (int k = 0; quantity && k < s->plan.nnames; k++) quantity[k] = column_quantity(s, k);
+        write_header(f, s, quantity, pairs, npairs);
+        for (size_t i = 0; i < n; i++) write_row(f, s, i, quantity, &m[i], pairs, npairs);
         free(quantity);
         if (fflush(f) != 0 || ferror(f) || fsync(fileno(f)) != 0) rc = -1;
         if (fclose(f) != 0) rc = -1;
@@ -424,10 +466,8 @@ static int write_table(const sweep *s)
         if (rc != 0) unlink(tmp);
     }
     if (rc != 0) fprintf(stderr, "psiflight sweep: cannot write %s: %s\n", path, strerror(errno));
-    for (int k = 0; k < nnames; k++) free(pairs[k]);
+    for (int k = 0; k < npairs; k++) free(pairs[k]);
     free(pairs);
-    free(names);
-    free(units);
     for (size_t i = 0; i < n; i++) pfr_manifest_free(&m[i]);
     free(m);
     return rc;

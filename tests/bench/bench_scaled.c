@@ -12,7 +12,8 @@
  * flights are timed in interleaved rounds (best of each kept), so a burst of
  * load from other processes hits both alike; then the onto ratio once more
  * in alternation call by call (bench_paired, median of per-pair ratios).
- * Usage: bench_scaled [quick]  (quick: 2D 1024^2 and 1D 2^22). */
+ * Usage: bench_scaled [quick | 3d]  (quick: 2D 1024^2 and 1D 2^22; 3d: the
+ * 3D 128^3 rows alone). */
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -162,7 +163,8 @@ int main(int argc, char **argv)
     if (wisdom && *wisdom) pf_context_set_wisdom_path(ctx, wisdom);
     static const int sizes[][4] = {{2, 1024, 1024}, {1, 1 << 22}, {3, 128, 128, 128}};
     int count = quick ? 2 : (int)(sizeof sizes / sizeof sizes[0]); /* quick: 2D 1024^2, 1D 2^22 */
-    for (int s = 0; s < count; s++)
+    int first = argc > 1 && strcmp(argv[1], "3d") == 0 ? 2 : 0;
+    for (int s = first; s < count; s++)
         for (int threads = 1; threads <= 2; threads++) bench_size(ctx, sizes[s][0], sizes[s] + 1, threads, quick);
     pf_context_release(ctx);
     return 0;

@@ -16,62 +16,20 @@
 source "$(dirname "$0")/lib.sh"
 set -e
 probe="$root/tests/runner/dist/probe_flight.lua"
-built=$(printf 'local pf = require "psiflight"; print(pf.mpi_info().built)\n' >"$work/built.lua"; "$runner" run "$work/built.lua")
-if [ "$built" != "true" ] || ! command -v mpirun >/dev/null; then
-  echo "note: runner built without FFTW-MPI (or no mpirun): distributed grids not tested (make deps-mpi)"
-  done_checks
-  exit 0
-fi
-export OMPI_ALLOW_RUN_AS_ROOT=1 OMPI_ALLOW_RUN_AS_ROOT_CONFIRM=1 OMPI_MCA_mpi_warn_on_fork=0
-# Open MPI's own allocations at exit are not psiflight's leaks.
-export ASAN_OPTIONS="${ASAN_OPTIONS:+$ASAN_OPTIONS:}detect_leaks=0"
-cd "$work"
+mpi_ready "distributed grids" || { done_checks; exit 0; }
 
-expect 0 "one process" -- "$runner" run "$probe"
-printf '%s\n' "$out" >"$work/plain.txt"
+one_run "flight" "$work/plain.txt" "$probe"
 has "distribute false" "one process: nothing distributed without mpirun"
 for n in 1 2 3 4; do
-  expect 0 "mpirun -n $n" -- timeout 120 mpirun -n "$n" --oversubscribe "$runner" run "$probe"
-  printf '%s\n' "$out" >"$work/ranks$n.txt"
-  has "ranks $n distribute true" "mpirun -n $n: the grid is distributed over $n ranks"
+  mpi_run "$n" "flight" "$work/ranks$n.txt" "$probe"
   has "refusal named" "mpirun -n $n: a function without a distributed path refuses by name"
   [ "$(grep -c '^ranks' "$work/ranks$n.txt")" -eq 1 ] && ok "mpirun -n $n: only rank 0 prints" || fail "mpirun -n $n: only rank 0 prints"
 done
 
-# compare.py A B TAGS TOL: lines of A and B starting with a tag in TAGS
-# agree within TOL relative to the line's largest value (0: the same text).
-cat >"$work/compare.py" <<'EOF'
-import sys
-a, b, tags, tol = sys.argv[1], sys.argv[2], sys.argv[3].split(','), float(sys.argv[4])
-def lines(p):
-    return [l.split() for l in open(p) if l.split() and l.split()[0] in tags]
-la, lb = lines(a), lines(b)
-assert len(la) == len(lb) and la, "no lines to compare"
-worst = 0.0
-for x, y in zip(la, lb):
-    assert x[:2] == y[:2], (x, y)
-    u, v = [float(t) for t in x[2:]], [float(t) for t in y[2:]]
-    if tol == 0:
-        assert x == y, ("differ", x, y)
-        continue
-    # Relative to the line's largest value: each line holds one quantity
-    # per axis (or quantities of one scale), and a component that is zero
-    # up to rounding is judged on the scale of its line.
-    scale = max(abs(t) for t in u + v)
-    for p, q in zip(u, v):
-        worst = max(worst, abs(p - q) / scale)
-assert worst <= tol, ("worst relative difference", worst, "over", tol)
-print("%.2g" % worst)
-EOF
 for n in 1 2 3 4; do
-  /usr/bin/python3 "$work/compare.py" "$work/plain.txt" "$work/ranks$n.txt" exact 0 >/dev/null &&
-    ok "-n $n: norms, means and widths before any transform are bit-identical to one process" ||
-    fail "-n $n: untransformed figures differ from one process"
-  /usr/bin/python3 "$work/compare.py" "$work/ranks1.txt" "$work/ranks$n.txt" flown,law 0 >/dev/null &&
-    ok "-n $n: figures after the flight are bit-identical to -n 1" || fail "-n $n: flight figures differ from -n 1"
-  worst=$(/usr/bin/python3 "$work/compare.py" "$work/plain.txt" "$work/ranks$n.txt" flown,law 1e-14) &&
-    ok "-n $n: figures after the flight within 1e-14 of one process (worst $worst)" ||
-    fail "-n $n: flight figures differ from one process by more than 1e-14"
+  agree "$work/plain.txt" "$work/ranks$n.txt" exact 0 "-n $n: norms, means and widths before any transform are bit-identical to one process"
+  agree "$work/ranks1.txt" "$work/ranks$n.txt" flown,law 0 "-n $n: figures after the flight are bit-identical to -n 1"
+  agree "$work/plain.txt" "$work/ranks$n.txt" flown,law 1e-14 "-n $n: figures after the flight within 1e-14 of one process"
 done
 
 # The flight against the textbook laws (the discrete grid samples the
@@ -89,26 +47,18 @@ awk -v m="$law" 'BEGIN { exit !(m < 1e-8) }' &&
 # planes (6, 6, 6, 3).  The new grids keep the point counts, so the ranks
 # keep their slabs.
 long="$root/tests/runner/dist/probe_longflight.lua"
-expect 0 "long: one process" -- "$runner" run "$long"
-printf '%s\n' "$out" >"$work/xplain.txt"
+one_run "long" "$work/xplain.txt" "$long"
 for n in 1 2 3 4; do
-  expect 0 "long: mpirun -n $n" -- timeout 120 mpirun -n "$n" --oversubscribe "$runner" run "$long"
-  printf '%s\n' "$out" >"$work/xranks$n.txt"
-  has "ranks $n distribute true" "long: mpirun -n $n distributed"
+  mpi_run "$n" "long" "$work/xranks$n.txt" "$long"
   has "refusal points named" "long -n $n: fly_scaled onto another count on the split axis refused by name at the script line"
   has "refusal long_points named" "long -n $n: fly_long onto another count on the split axis refused by name"
   has "refusal toggled 3 of 3 named" "long -n $n: after pf.setup{distribute = false} fly_scaled, fly_long and expand refuse to regrid a split wave"
-  /usr/bin/python3 "$work/compare.py" "$work/xplain.txt" "$work/xranks$n.txt" exact 0 >/dev/null &&
-    ok "long -n $n: the new grids' spacings and origins are the single process's" || fail "long -n $n: new grids differ"
+  agree "$work/xplain.txt" "$work/xranks$n.txt" exact 0 "long -n $n: the new grids' spacings and origins are the single process's"
   [ "$(grep '^text' "$work/xplain.txt")" = "$(grep '^text' "$work/xranks$n.txt")" ] &&
     ok "long -n $n: the same methods chosen and the same step logs as one process" ||
     fail "long -n $n: methods or step logs differ: $(diff <(grep '^text' "$work/xplain.txt") <(grep '^text' "$work/xranks$n.txt") | head -4)"
-  /usr/bin/python3 "$work/compare.py" "$work/xranks1.txt" "$work/xranks$n.txt" flown,law 0 >/dev/null &&
-    ok "long -n $n: scaled, chosen, two-stage and backward flights bit-identical to -n 1" ||
-    fail "long -n $n: long-flight figures differ from -n 1"
-  worst=$(/usr/bin/python3 "$work/compare.py" "$work/xplain.txt" "$work/xranks$n.txt" flown,law 1e-14) &&
-    ok "long -n $n: long-flight figures within 1e-14 of one process (worst $worst)" ||
-    fail "long -n $n: long-flight figures differ from one process by more than 1e-14"
+  agree "$work/xranks1.txt" "$work/xranks$n.txt" flown,law 0 "long -n $n: scaled, chosen, two-stage and backward flights bit-identical to -n 1"
+  agree "$work/xplain.txt" "$work/xranks$n.txt" flown,law 1e-14 "long -n $n: long-flight figures within 1e-14 of one process"
 done
 # The free Gaussian (textbook): centre c + hbar k0 t / m and width
 # s sqrt(1 + (hbar t / 2 m s^2)^2) after 25 ms and 40 ms.  The grids sample
@@ -138,20 +88,14 @@ has_choice "choice scaled stages 1 same_ok false scaled_ok true" && has_choice "
 # potential pass runs over each rank's planes, and the step sizes come from
 # exact minima and maxima over the ranks, so all ranks take the same steps.
 expand="$root/tests/runner/dist/probe_expand.lua"
-expect 0 "expand: one process" -- "$runner" run "$expand"
-printf '%s\n' "$out" >"$work/pplain.txt"
+one_run "expand" "$work/pplain.txt" "$expand"
 for n in 1 2 3 4; do
-  expect 0 "expand: mpirun -n $n" -- timeout 120 mpirun -n "$n" --oversubscribe "$runner" run "$expand"
-  printf '%s\n' "$out" >"$work/pranks$n.txt"
-  has "ranks $n distribute true" "expand: mpirun -n $n distributed"
+  mpi_run "$n" "expand" "$work/pranks$n.txt" "$expand"
   [ "$(grep '^text' "$work/pplain.txt")" = "$(grep '^text' "$work/pranks$n.txt")" ] &&
     ok "expand -n $n: the same step counts, handovers and step logs as one process" ||
     fail "expand -n $n: steps or logs differ: $(diff <(grep '^text' "$work/pplain.txt") <(grep '^text' "$work/pranks$n.txt") | head -4)"
-  /usr/bin/python3 "$work/compare.py" "$work/pranks1.txt" "$work/pranks$n.txt" flown,law 0 >/dev/null &&
-    ok "expand -n $n: grids, frames and figures bit-identical to -n 1" || fail "expand -n $n: figures differ from -n 1"
-  worst=$(/usr/bin/python3 "$work/compare.py" "$work/pplain.txt" "$work/pranks$n.txt" flown,law 1e-14) &&
-    ok "expand -n $n: grids, frames and figures within 1e-14 of one process (worst $worst)" ||
-    fail "expand -n $n: figures differ from one process by more than 1e-14"
+  agree "$work/pranks1.txt" "$work/pranks$n.txt" flown,law 0 "expand -n $n: grids, frames and figures bit-identical to -n 1"
+  agree "$work/pplain.txt" "$work/pranks$n.txt" flown,law 1e-14 "expand -n $n: grids, frames and figures within 1e-14 of one process"
 done
 # Textbook laws: the released ground state with g = 0 spreads as
 # sigma0 sqrt(1 + omega^2 t^2) (1e-7: the grid's sampling, 2.3e-8 seen);
@@ -168,20 +112,12 @@ awk -v m="$dev" 'BEGIN { exit !(m > 0 && m < 1e-9) }' && ok "expand -n 3: the in
 # field, a kick, evolve with g in the trap, a slit; 18 x 24 points, so 4
 # ranks hold 5, 5, 5, 3 planes.
 evolve="$root/tests/runner/dist/probe_evolve.lua"
-expect 0 "evolve: one process" -- "$runner" run "$evolve"
-printf '%s\n' "$out" >"$work/eplain.txt"
+one_run "evolve" "$work/eplain.txt" "$evolve"
 for n in 1 2 4; do
-  expect 0 "evolve: mpirun -n $n" -- timeout 120 mpirun -n "$n" --oversubscribe "$runner" run "$evolve"
-  printf '%s\n' "$out" >"$work/eranks$n.txt"
-  has "ranks $n distribute true" "evolve: mpirun -n $n distributed"
-  /usr/bin/python3 "$work/compare.py" "$work/eplain.txt" "$work/eranks$n.txt" exact 0 >/dev/null &&
-    ok "evolve -n $n: the start is bit-identical to one process" || fail "evolve -n $n: start differs"
-  /usr/bin/python3 "$work/compare.py" "$work/eranks1.txt" "$work/eranks$n.txt" flown,law 0 >/dev/null &&
-    ok "evolve -n $n: relax, kick, evolve with g, envelope and acceleration, slit, imprint and masks bit-identical to -n 1" ||
-    fail "evolve -n $n: split-step figures differ from -n 1"
-  worst=$(/usr/bin/python3 "$work/compare.py" "$work/eplain.txt" "$work/eranks$n.txt" flown,law 1e-14) &&
-    ok "evolve -n $n: relax, kick, evolve with g, envelope and acceleration, slit, imprint and masks within 1e-14 of one process (worst $worst)" ||
-    fail "evolve -n $n: split-step figures differ from one process by more than 1e-14"
+  mpi_run "$n" "evolve" "$work/eranks$n.txt" "$evolve"
+  agree "$work/eplain.txt" "$work/eranks$n.txt" exact 0 "evolve -n $n: the start is bit-identical to one process"
+  agree "$work/eranks1.txt" "$work/eranks$n.txt" flown,law 0 "evolve -n $n: relax, kick, evolve with g, envelope and acceleration, slit, imprint and masks bit-identical to -n 1"
+  agree "$work/eplain.txt" "$work/eranks$n.txt" flown,law 1e-14 "evolve -n $n: relax, kick, evolve with g, envelope and acceleration, slit, imprint and masks within 1e-14 of one process"
 done
 # Closed forms: the linear ground-state energy hbar (wx + wy) / 2, and the
 # kicked centre (hbar k / m wx) sin(wx t) in a harmonic trap, interacting or
@@ -287,21 +223,13 @@ done
 # per rank, under the file's 3 MiB of values, still fits.
 load="$root/tests/runner/dist/probe_load.lua"
 expect 0 "load: one process writes saved.h5" -- "$runner" run "$load" --out "$work/lsave"
-expect 0 "load: one process" -- "$runner" run "$load" --data "$work/lsave" --set "source=$work/lsave/saved.h5"
-printf '%s\n' "$out" >"$work/lplain.txt"
+one_run "load" "$work/lplain.txt" "$load" --data "$work/lsave" --set "source=$work/lsave/saved.h5"
 for n in 1 2 3 4; do
-  expect 0 "load: mpirun -n $n" -- timeout 120 mpirun -n "$n" --oversubscribe "$runner" run "$load" --data "$work/lsave" \
+  mpi_run "$n" "load" "$work/lranks$n.txt" "$load" --data "$work/lsave" \
     --set "source=$work/lsave/saved.h5"
-  printf '%s\n' "$out" >"$work/lranks$n.txt"
-  has "ranks $n distribute true" "load: mpirun -n $n distributed"
-  /usr/bin/python3 "$work/compare.py" "$work/lplain.txt" "$work/lranks$n.txt" exact 0 >/dev/null &&
-    ok "load -n $n: waves loaded in position, and interpolated onto another grid, bit-identical to one process" ||
-    fail "load -n $n: loaded states differ from one process"
-  /usr/bin/python3 "$work/compare.py" "$work/lranks1.txt" "$work/lranks$n.txt" flown 0 >/dev/null &&
-    ok "load -n $n: momentum loads and transformed figures bit-identical to -n 1" || fail "load -n $n: differs from -n 1"
-  worst=$(/usr/bin/python3 "$work/compare.py" "$work/lplain.txt" "$work/lranks$n.txt" flown 1e-14) &&
-    ok "load -n $n: momentum loads and transformed figures within 1e-14 of one process (worst $worst)" ||
-    fail "load -n $n: figures differ from one process by more than 1e-14"
+  agree "$work/lplain.txt" "$work/lranks$n.txt" exact 0 "load -n $n: waves loaded in position, and interpolated onto another grid, bit-identical to one process"
+  agree "$work/lranks1.txt" "$work/lranks$n.txt" flown 0 "load -n $n: momentum loads and transformed figures bit-identical to -n 1"
+  agree "$work/lplain.txt" "$work/lranks$n.txt" flown 1e-14 "load -n $n: momentum loads and transformed figures within 1e-14 of one process"
 done
 
 # Builders (probe_builders.lua): pf.gaussian, pf.ground_state, pf.oscillator,
@@ -310,22 +238,13 @@ done
 # pf.flat_top fills the transposed momentum slab; its figures follow a
 # transform.
 builders="$root/tests/runner/dist/probe_builders.lua"
-expect 0 "builders: one process" -- "$runner" run "$builders"
-printf '%s\n' "$out" >"$work/bplain.txt"
+one_run "builders" "$work/bplain.txt" "$builders"
 [ -z "$err" ] && ok "builders: the grid resolves the states (no warnings)" || fail "builders: warnings: $err"
 for n in 2 4; do
-  expect 0 "builders: mpirun -n $n" -- timeout 120 mpirun -n "$n" --oversubscribe "$runner" run "$builders"
-  printf '%s\n' "$out" >"$work/branks$n.txt"
-  has "ranks $n distribute true" "builders: mpirun -n $n distributed"
-  /usr/bin/python3 "$work/compare.py" "$work/bplain.txt" "$work/branks$n.txt" exact 0 >/dev/null &&
-    ok "builders -n $n: gaussian, ground state, oscillator, momentum orders and Thomas-Fermi bit-identical to one process" ||
-    fail "builders -n $n: built states differ from one process"
-  /usr/bin/python3 "$work/compare.py" "$work/branks2.txt" "$work/branks$n.txt" flown 0 >/dev/null &&
-    ok "builders -n $n: flat top (built on the transposed momentum slab) bit-identical to -n 2" ||
-    fail "builders -n $n: flat top differs from -n 2"
-  worst=$(/usr/bin/python3 "$work/compare.py" "$work/bplain.txt" "$work/branks$n.txt" flown 1e-14) &&
-    ok "builders -n $n: flat top within 1e-14 of one process (worst $worst)" ||
-    fail "builders -n $n: flat top differs from one process by more than 1e-14"
+  mpi_run "$n" "builders" "$work/branks$n.txt" "$builders"
+  agree "$work/bplain.txt" "$work/branks$n.txt" exact 0 "builders -n $n: gaussian, ground state, oscillator, momentum orders and Thomas-Fermi bit-identical to one process"
+  agree "$work/branks2.txt" "$work/branks$n.txt" flown 0 "builders -n $n: flat top (built on the transposed momentum slab) bit-identical to -n 2"
+  agree "$work/bplain.txt" "$work/branks$n.txt" flown 1e-14 "builders -n $n: flat top within 1e-14 of one process"
 done
 # The Thomas-Fermi widths against R / sqrt(d + 4) (the inverted parabola's
 # second moment in 3D; the grid samples its sharp edge: 4e-4 seen).
@@ -347,23 +266,14 @@ awk -v m="$tfw" 'BEGIN { exit !(m < 1e-3) }' && ok "-n 4: Thomas-Fermi widths ar
 # of docs/conventions.md, common practice) and, after set_phi, by their
 # |phi|^2 dk (Parseval, textbook), both to 1e-12.
 samples="$root/tests/runner/dist/probe_samples.lua"
-expect 0 "samples: one process" -- "$runner" run "$samples"
-printf '%s\n' "$out" >"$work/splain.txt"
+one_run "samples" "$work/splain.txt" "$samples"
 has "bad index refused" "samples: one process refuses an index outside the grid"
 for n in 1 2 4; do
-  expect 0 "samples: mpirun -n $n" -- timeout 120 mpirun -n "$n" --oversubscribe "$runner" run "$samples"
-  printf '%s\n' "$out" >"$work/sranks$n.txt"
-  has "ranks $n distribute true" "samples: mpirun -n $n distributed"
+  mpi_run "$n" "samples" "$work/sranks$n.txt" "$samples"
   has "bad index refused" "samples -n $n: an index outside the grid refused with the single process's message"
-  /usr/bin/python3 "$work/compare.py" "$work/splain.txt" "$work/sranks$n.txt" exact 0 >/dev/null &&
-    ok "samples -n $n: psi read on every slab, and set_psi of a broadcast value, bit-identical to one process" ||
-    fail "samples -n $n: position samples differ from one process"
-  /usr/bin/python3 "$work/compare.py" "$work/sranks1.txt" "$work/sranks$n.txt" flown,law 0 >/dev/null &&
-    ok "samples -n $n: phi and set_phi on the transposed slabs bit-identical to -n 1" ||
-    fail "samples -n $n: momentum samples differ from -n 1"
-  worst=$(/usr/bin/python3 "$work/compare.py" "$work/splain.txt" "$work/sranks$n.txt" flown 1e-14) &&
-    ok "samples -n $n: phi and set_phi within 1e-14 of one process (worst $worst)" ||
-    fail "samples -n $n: momentum samples differ from one process by more than 1e-14"
+  agree "$work/splain.txt" "$work/sranks$n.txt" exact 0 "samples -n $n: psi read on every slab, and set_psi of a broadcast value, bit-identical to one process"
+  agree "$work/sranks1.txt" "$work/sranks$n.txt" flown,law 0 "samples -n $n: phi and set_phi on the transposed slabs bit-identical to -n 1"
+  agree "$work/splain.txt" "$work/sranks$n.txt" flown 1e-14 "samples -n $n: phi and set_phi within 1e-14 of one process"
 done
 rel() { awk -v name="$1" '$1 == "law" && $2 == name { d = $3 - $4; if (d < 0) d = -d; s = $4 < 0 ? -$4 : $4; printf "%.2g", (s > 0 ? d / s : d) }' "$2"; }
 phiw=$(awk '$1 == "law" && $2 == "phiworst" { printf "%.2g", $3 }' "$work/sranks4.txt")
@@ -393,23 +303,14 @@ awk -v m="$pars" 'BEGIN { exit !(m != "" && m < 1e-12) }' &&
 # Laws (textbook): hbar (wx + wy) / 2, Kohn's theorem, the tilted centre
 # (a / w^2)(1 - cos w t) and the sag a / w^2.
 pot="$root/tests/runner/dist/probe_potential.lua"
-expect 0 "potential objects: one process" -- "$runner" run "$pot"
-printf '%s\n' "$out" >"$work/pplain.txt"
+one_run "potential objects" "$work/pplain.txt" "$pot"
 [ -z "$err" ] && ok "potential objects: the grid resolves the states (no warnings)" || fail "potential objects: warnings: $err"
 for n in 1 2 4; do
-  expect 0 "potential objects: mpirun -n $n" -- timeout 120 mpirun -n "$n" --oversubscribe "$runner" run "$pot"
-  printf '%s\n' "$out" >"$work/pranks$n.txt"
-  has "ranks $n distribute true" "potential objects: mpirun -n $n distributed"
+  mpi_run "$n" "potential objects" "$work/pranks$n.txt" "$pot"
   has "cache builds 1 reuses 9" "potential objects -n $n: the tilted table built once and reused 9 times"
-  /usr/bin/python3 "$work/compare.py" "$work/pplain.txt" "$work/pranks$n.txt" exact 0 >/dev/null &&
-    ok "potential objects -n $n: range() from a function and from a table bit-identical to one process" ||
-    fail "potential objects -n $n: ranges differ from one process"
-  /usr/bin/python3 "$work/compare.py" "$work/pranks1.txt" "$work/pranks$n.txt" flown 0 >/dev/null &&
-    ok "potential objects -n $n: relax, energy, chunked evolve, mean field and acceleration bit-identical to -n 1" ||
-    fail "potential objects -n $n: figures differ from -n 1"
-  worst=$(/usr/bin/python3 "$work/compare.py" "$work/pplain.txt" "$work/pranks$n.txt" flown 1e-14) &&
-    ok "potential objects -n $n: relax, energy, chunked evolve, mean field and acceleration within 1e-14 of one process (worst $worst)" ||
-    fail "potential objects -n $n: figures differ from one process by more than 1e-14"
+  agree "$work/pplain.txt" "$work/pranks$n.txt" exact 0 "potential objects -n $n: range() from a function and from a table bit-identical to one process"
+  agree "$work/pranks1.txt" "$work/pranks$n.txt" flown 0 "potential objects -n $n: relax, energy, chunked evolve, mean field and acceleration bit-identical to -n 1"
+  agree "$work/pplain.txt" "$work/pranks$n.txt" flown 1e-14 "potential objects -n $n: relax, energy, chunked evolve, mean field and acceleration within 1e-14 of one process"
   same=$(awk '$1 == "same" { for (i = 3; i <= NF; i++) if ($i > m) m = $i } END { printf "%.2g", m }' "$work/pranks$n.txt")
   [ "$(grep -c '^same' "$work/pranks$n.txt")" -eq 5 ] && awk -v m="$same" 'BEGIN { exit !(m < 1e-13) }' &&
     ok "potential objects -n $n: the object gives the function's results to $same" ||
@@ -441,22 +342,13 @@ sag=$(plaw '^sag'); awk -v m="$sag" 'BEGIN { exit !(m < 1e-5) }' &&
 # the classical fall time to 3e-3 (the packet's width against the drop,
 # (sigma / h)^2 = 2e-3) and the probability arrived is 1 to 1e-9.
 frames="$root/tests/runner/dist/probe_frames.lua"
-expect 0 "frames: one process" -- "$runner" run "$frames"
-printf '%s\n' "$out" >"$work/fmplain.txt"
+one_run "frames" "$work/fmplain.txt" "$frames"
 [ -z "$err" ] && ok "frames: the grid resolves the states (no warnings)" || fail "frames: warnings: $err"
 for n in 1 2 4; do
-  expect 0 "frames: mpirun -n $n" -- timeout 120 mpirun -n "$n" --oversubscribe "$runner" run "$frames"
-  printf '%s\n' "$out" >"$work/fmranks$n.txt"
-  has "ranks $n distribute true" "frames: mpirun -n $n distributed"
-  /usr/bin/python3 "$work/compare.py" "$work/fmplain.txt" "$work/fmranks$n.txt" exact 0 >/dev/null &&
-    ok "frames -n $n: w:frame, the lab axes and the frame after a fall from a moved frame bit-identical to one process" ||
-    fail "frames -n $n: frame figures differ from one process"
-  /usr/bin/python3 "$work/compare.py" "$work/fmranks1.txt" "$work/fmranks$n.txt" flown,law 0 >/dev/null &&
-    ok "frames -n $n: fall, fall from a moved frame and arrival under an acceleration bit-identical to -n 1" ||
-    fail "frames -n $n: figures differ from -n 1"
-  worst=$(/usr/bin/python3 "$work/compare.py" "$work/fmplain.txt" "$work/fmranks$n.txt" flown 1e-14) &&
-    ok "frames -n $n: fall, fall from a moved frame and arrival under an acceleration within 1e-14 of one process (worst $worst)" ||
-    fail "frames -n $n: figures differ from one process by more than 1e-14"
+  mpi_run "$n" "frames" "$work/fmranks$n.txt" "$frames"
+  agree "$work/fmplain.txt" "$work/fmranks$n.txt" exact 0 "frames -n $n: w:frame, the lab axes and the frame after a fall from a moved frame bit-identical to one process"
+  agree "$work/fmranks1.txt" "$work/fmranks$n.txt" flown,law 0 "frames -n $n: fall, fall from a moved frame and arrival under an acceleration bit-identical to -n 1"
+  agree "$work/fmplain.txt" "$work/fmranks$n.txt" flown 1e-14 "frames -n $n: fall, fall from a moved frame and arrival under an acceleration within 1e-14 of one process"
 done
 flaw() { awk -v name="$1" '$1 == "law" && $2 ~ name { d = ($3 - $4) / $4; if (d < 0) d = -d; if (d > m) m = d } END { printf "%.2g", m }' "$work/fmranks4.txt"; }
 check_law() { # NAME-REGEX TOL WHAT
@@ -495,8 +387,7 @@ check_law '^arrived$' 1e-9 "all the probability arrives at the plane in the wind
 # one process alone moves by 3.4e-14 on a rounding-zero y mean between
 # estimated and measured plans, hence the widths beside the means).
 dflt="$root/tests/runner/dist/probe_default.lua"
-expect 0 "default planning: one process" -- "$runner" run "$dflt" --wisdom "$work/dwis0"
-printf '%s\n' "$out" >"$work/dplain.txt"
+one_run "default planning" "$work/dplain.txt" "$dflt" --wisdom "$work/dwis0"
 has "planning measure" "default planning: the probe runs with measured plans"
 for n in 1 2 4; do
   expect 0 "default planning: mpirun -n $n (fresh wisdom)" -- timeout 180 mpirun -n "$n" --oversubscribe "$runner" run "$dflt" --wisdom "$work/dwis$n"
@@ -506,12 +397,8 @@ for n in 1 2 4; do
   [ -s "$work/dwis$n-mpi" ] && grep -q fftw_mpi "$work/dwis$n-mpi" &&
     ok "default planning -n $n: rank 0 saved the gathered wisdom, FFTW-MPI's plans included, in PATH-mpi" ||
     fail "default planning -n $n: no FFTW-MPI wisdom saved in $work/dwis$n-mpi"
-  /usr/bin/python3 "$work/compare.py" "$work/dplain.txt" "$work/dranks$n.txt" exact 0 >/dev/null &&
-    ok "default planning -n $n: untransformed figures bit-identical to one process" ||
-    fail "default planning -n $n: untransformed figures differ from one process"
-  worst=$(/usr/bin/python3 "$work/compare.py" "$work/dplain.txt" "$work/dranks$n.txt" flown 1e-14) &&
-    ok "default planning -n $n: flight, evolve with g and covariance within 1e-14 of one process (worst $worst)" ||
-    fail "default planning -n $n: figures differ from one process by more than 1e-14"
+  agree "$work/dplain.txt" "$work/dranks$n.txt" exact 0 "default planning -n $n: untransformed figures bit-identical to one process"
+  agree "$work/dplain.txt" "$work/dranks$n.txt" flown 1e-14 "default planning -n $n: flight, evolve with g and covariance within 1e-14 of one process"
   for again in 1 2; do
     expect 0 "default planning: mpirun -n $n, rerun $again with the saved wisdom" -- timeout 180 mpirun -n "$n" --oversubscribe "$runner" run "$dflt" --wisdom "$work/dwis$n"
     printf '%s\n' "$out" >"$work/dagain$n-$again.txt"
@@ -534,9 +421,7 @@ for n in 1 2 4; do
   [ "$out" = "$(cat "$work/dagain$n-1.txt")" ] &&
     ok "default planning -n $n: after a one-process run with the same PATH, still the reruns' bytes" ||
     fail "default planning -n $n: the one-process run changed the distributed run's plans"
-  worst=$(/usr/bin/python3 "$work/compare.py" "$work/dplain.txt" "$work/dagain$n-1.txt" flown 1e-14) &&
-    ok "default planning -n $n: rerun within 1e-14 of one process (worst $worst)" ||
-    fail "default planning -n $n: rerun differs from one process by more than 1e-14"
+  agree "$work/dplain.txt" "$work/dagain$n-1.txt" flown 1e-14 "default planning -n $n: rerun within 1e-14 of one process"
 done
 vlaw=$(awk '$1 == "law" && $2 ~ /^var/ { d = ($3 - $4) / $4; if (d < 0) d = -d; if (d > m) m = d } END { printf "%.2g", m }' "$work/dranks4.txt")
 awk -v m="$vlaw" 'BEGIN { exit !(m < 1e-8) }' &&

@@ -14,41 +14,8 @@
 # FFTW-MPI or mpirun is missing.
 source "$(dirname "$0")/lib.sh"
 set -e
-built=$(printf 'local pf = require "psiflight"; print(pf.mpi_info().built)\n' >"$work/built.lua"; "$runner" run "$work/built.lua")
-if [ "$built" != "true" ] || ! command -v mpirun >/dev/null; then
-  echo "note: runner built without FFTW-MPI (or no mpirun): distributed measurements not tested (make deps-mpi)"
-  done_checks
-  exit 0
-fi
-export OMPI_ALLOW_RUN_AS_ROOT=1 OMPI_ALLOW_RUN_AS_ROOT_CONFIRM=1 OMPI_MCA_mpi_warn_on_fork=0
-# Open MPI's own allocations at exit are not psiflight's leaks.
-export ASAN_OPTIONS="${ASAN_OPTIONS:+$ASAN_OPTIONS:}detect_leaks=0"
-cd "$work"
+mpi_ready "distributed measurements" || { done_checks; exit 0; }
 
-# compare.py A B TAGS TOL: lines of A and B whose first word is in TAGS
-# agree within TOL relative to the line's largest value (0: the same text).
-cat >"$work/compare.py" <<'PY'
-import sys
-a, b, tags, tol = sys.argv[1], sys.argv[2], sys.argv[3].split(','), float(sys.argv[4])
-def lines(p):
-    return [l.split() for l in open(p) if l.split() and l.split()[0] in tags]
-la, lb = lines(a), lines(b)
-assert len(la) == len(lb) and la, "no lines to compare"
-worst = 0.0
-for x, y in zip(la, lb):
-    assert x[:2] == y[:2] and len(x) == len(y), (x[:2], y[:2])
-    if tol == 0:
-        assert x == y, ("differ", x[:2])
-        continue
-    u, v = [float(t) for t in x[2:]], [float(t) for t in y[2:]]
-    # A line holds one quantity (a table, a matrix, one figure per axis):
-    # judged on the scale of its largest value.
-    scale = max(abs(t) for t in u + v) or 1.0
-    for p, q in zip(u, v):
-        worst = max(worst, abs(p - q) / scale)
-assert worst <= tol, ("worst relative difference", worst, "over", tol)
-print("%.2g" % worst)
-PY
 # law.py FILE TOL NAME...: "law NAME got expected" lines within TOL relative.
 cat >"$work/law.py" <<'PY'
 import sys
@@ -67,13 +34,10 @@ PY
 # NAME.N.
 run_probe() {
   local name=$1 probe=$2
-  expect 0 "$name: one process" -- "$runner" run "$probe" --out "$work/$name.plain"
-  printf '%s\n' "$out" >"$work/$name.plain.txt"
+  one_run "$name" "$work/$name.plain.txt" "$probe" --out "$work/$name.plain"
   has "distribute false" "$name: one process: nothing distributed without mpirun"
   for n in 1 2 3 4; do
-    expect 0 "$name: mpirun -n $n" -- timeout 120 mpirun -n "$n" --oversubscribe "$runner" run "$probe" --out "$work/$name.$n"
-    printf '%s\n' "$out" >"$work/$name.$n.txt"
-    has "ranks $n distribute true" "$name: mpirun -n $n: distributed over $n ranks"
+    mpi_run "$n" "$name" "$work/$name.$n.txt" "$probe" --out "$work/$name.$n"
     [ "$(grep -c '^ranks' "$work/$name.$n.txt")" -eq 1 ] && ok "$name -n $n: only rank 0 prints" ||
       fail "$name -n $n: only rank 0 prints"
   done
@@ -81,18 +45,12 @@ run_probe() {
 
 # compare_probe NAME WHAT: the exact and flown lines of every rank count.
 compare_probe() {
-  local name=$1 what=$2 worst
+  local name=$1 what=$2
   for n in 1 2 3 4; do
-    /usr/bin/python3 "$work/compare.py" "$work/$name.plain.txt" "$work/$name.$n.txt" exact 0 >/dev/null &&
-      ok "$name -n $n: $what on untransformed data bit-identical to one process" ||
-      fail "$name -n $n: $what on untransformed data differ from one process"
+    agree "$work/$name.plain.txt" "$work/$name.$n.txt" exact 0 "$name -n $n: $what on untransformed data bit-identical to one process"
     if grep -q '^flown' "$work/$name.plain.txt"; then
-      /usr/bin/python3 "$work/compare.py" "$work/$name.1.txt" "$work/$name.$n.txt" flown 0 >/dev/null &&
-        ok "$name -n $n: figures after transforms bit-identical to -n 1" ||
-        fail "$name -n $n: figures after transforms differ from -n 1"
-      worst=$(/usr/bin/python3 "$work/compare.py" "$work/$name.plain.txt" "$work/$name.$n.txt" flown 1e-14) &&
-        ok "$name -n $n: figures after transforms within 1e-14 of one process (worst $worst)" ||
-        fail "$name -n $n: figures after transforms differ from one process by more than 1e-14"
+      agree "$work/$name.1.txt" "$work/$name.$n.txt" flown 0 "$name -n $n: figures after transforms bit-identical to -n 1"
+      agree "$work/$name.plain.txt" "$work/$name.$n.txt" flown 1e-14 "$name -n $n: figures after transforms within 1e-14 of one process"
     fi
   done
 }
@@ -244,7 +202,6 @@ for n in 3 4; do
     ok "slabcap -n $n: the control (the whole table) does not fit under that cap" ||
     fail "slabcap -n $n: the control fitted: the cap proves nothing"
 done
-/usr/bin/python3 "$work/compare.py" "$work/slabcap.3.txt" "$work/slabcap.4.txt" exact 0 >/dev/null &&
-  ok "slabcap: the capped measurements are the same bits at 3 and 4 ranks" || fail "slabcap: 3 and 4 ranks differ"
+agree "$work/slabcap.3.txt" "$work/slabcap.4.txt" exact 0 "slabcap: the capped measurements are the same bits at 3 and 4 ranks"
 
 done_checks

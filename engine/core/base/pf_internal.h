@@ -253,6 +253,16 @@ typedef void (*pf_chunk_fn)(void *user, double complex *chunk, size_t begin, siz
 pf_status pf_fused_prepare_chunks(pf_grid *g);
 void pf_fused_chunks(pf_grid *g, double complex *data, int backward, pf_chunk_fn fn, void *user, int forward);
 void pf_fused_columns(pf_grid *g, double complex *data, double scale, double complex *const *tables);
+/* One unnormalised transform of sign -1 (forward) or +1 over a 2D/3D grid
+ * in the two sweeps of pf_fused.c, with pointwise work fused into each:
+ * before (may be NULL) runs on every chunk of whole planes just before its
+ * trailing-axes transform; after (per-axis tables, may be NULL) multiplies
+ * each point by after[0][i0] after[1][i1] (after[2][i2]) right after the
+ * axis-0 transform of its column block.  The layout of chunks and blocks
+ * does not depend on the thread count, so neither do the bits.
+ * PF_ELIMIT / PF_ENOMEM / PF_EFFT from the plans. */
+pf_status pf_fused_transform(pf_grid *g, double complex *data, int sign, pf_chunk_fn before, void *user,
+                             double complex *const *after);
 
 /* row[j] *= (qr + i qi) * p[j] for j < n, on interleaved (re, im) doubles:
  * the flight phase pass, vectorised for this processor (pf_flight.c). */

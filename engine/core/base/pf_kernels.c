@@ -7,6 +7,7 @@
 #include "pf_dist.h"
 #include "pf_internal.h"
 #include "pf_kernels.h"
+#include "pf_cis.h"
 
 static double abs2(double complex z) { return creal(z) * creal(z) + cimag(z) * cimag(z); }
 
@@ -207,13 +208,6 @@ double pf_kernel_field_mask(pf_grid *g, double complex *data, const double compl
     return sum;
 }
 
-size_t pf_kernel_mirror(const double *k, size_t n, double dk, size_t j)
-{
-    if (j == 0) return 0;
-    double m = nearbyint(k[j] / dk);
-    return m < 0 && nearbyint(k[n - j] / dk) == -m ? n - j : 0;
-}
-
 void pf_kernel_kinetic_tables(const pf_grid *g, double tau, const double *shift, double complex **tables)
 {
     for (int a = 0; a < g->dim; a++) {
@@ -222,28 +216,31 @@ void pf_kernel_kinetic_tables(const pf_grid *g, double tau, const double *shift,
         /* Translation phase k b = 2 pi m (b / span): reduced to turns exactly
          * on the integer lattice, so large shifts keep full precision. */
         double frac = shift ? shift[a] / g->span[a] : 0.0;
-        const double *k = g->k[a];
         double complex *t = tables[a];
-        const ptrdiff_t n = (ptrdiff_t)g->n[a];
-        /* One libm exponential per point is the cost of a new step on a 1D
-         * grid: each |m| once, shared among threads (each entry is the
-         * same call whichever thread makes it). */
-#pragma omp parallel num_threads(g->ctx->threads) if ((size_t)n >= PF_KERNEL_TABLE_THREADED)
+        const size_t n = g->n[a];
+        /* Without a shift each |m| is evaluated once (pf_kernels.h). */
+        const ptrdiff_t evaluated = (ptrdiff_t)(shift ? n : PF_KERNEL_MIRROR_FROM(n));
+        /* The exponentials are the cost of a new step on a 1D grid: each
+         * |m| once, through the vectorised exp(-i phase) (pf_cis.h) a block
+         * at a time, blocks shared among threads (each entry the same
+         * whichever thread makes it). */
+        const ptrdiff_t blocks = (evaluated + PF_KERNEL_TABLE_BLOCK - 1) / PF_KERNEL_TABLE_BLOCK;
+#pragma omp parallel num_threads(g->ctx->threads) if (n >= PF_KERNEL_TABLE_THREADED)
         {
 #pragma omp for schedule(static)
-            for (ptrdiff_t j = 0; j < n; j++) {
-                if (!shift && pf_kernel_mirror(k, (size_t)n, dk, (size_t)j)) continue;
-                double m = nearbyint(k[j] / dk);
-                double turns = shift ? fmod(m * frac, 1.0) : 0.0;
-                t[j] = cexp(-I * (c * m * m + PF_TWO_PI * turns));
-            }
-            if (!shift) {
-#pragma omp for schedule(static)
-                for (ptrdiff_t j = 0; j < n; j++) {
-                    size_t from = pf_kernel_mirror(k, (size_t)n, dk, (size_t)j);
-                    if (from) t[j] = t[from];
+            for (ptrdiff_t b = 0; b < blocks; b++) {
+                double phase[PF_KERNEL_TABLE_BLOCK];
+                const ptrdiff_t j0 = b * PF_KERNEL_TABLE_BLOCK;
+                const size_t len = (size_t)(evaluated - j0 < PF_KERNEL_TABLE_BLOCK ? evaluated - j0 : PF_KERNEL_TABLE_BLOCK);
+                for (size_t i = 0; i < len; i++) {
+                    double m = pf_kernel_axis_m(n, (size_t)j0 + i);
+                    double turns = shift ? fmod(m * frac, 1.0) : 0.0;
+                    phase[i] = c * m * m + PF_TWO_PI * turns;
                 }
+                pf_cis_minus(phase, t + j0, len);
             }
+#pragma omp for schedule(static)
+            for (ptrdiff_t j = evaluated; j < (ptrdiff_t)n; j++) t[j] = t[n - (size_t)j];
         }
     }
 }

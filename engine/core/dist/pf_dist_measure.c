@@ -324,6 +324,24 @@ static void walk_pipelined(walk *k, run_fn fn, void *user, double *acc, size_t n
     bcast_doubles(acc, n, k->seg[S - 1].owner);
 }
 
+/* Opens the walk and makes the result field of `kept` axes (a marginal or a
+ * slice): every rank agrees that the field exists before any rank walks, or
+ * all fail with nothing left open or allocated. */
+static pf_status walk_open_with_field(walk *k, pf_wave *w, pf_rep rep, int kept, const size_t *n,
+                                      const double *first, const double *step, pf_field *out, const char *what)
+{
+    pf_context *ctx = w->grid->ctx;
+    pf_status s = walk_open(k, w, rep, what);
+    if (s) return s;
+    s = pf_field_new(ctx, kept, n, first, step, out);
+    s = agree_ok(ctx, s == PF_OK, what);
+    if (s) {
+        pf_field_free(out);
+        walk_close(k);
+    }
+    return s;
+}
+
 /* ---- marginals ---- */
 
 typedef struct marg_job {
@@ -366,15 +384,8 @@ pf_status pf_dist_marginal(pf_wave *w, pf_rep rep, const pf_field *geom, const i
     if (!m.kept) return pf_fail(ctx, PF_EINVAL, "a marginal must keep at least one axis");
     m.last_kept = keep[d - 1] != 0;
     walk k;
-    pf_status s = walk_open(&k, w, rep, "a distributed marginal");
+    pf_status s = walk_open_with_field(&k, w, rep, m.kept, m.n, first, step, out, "a distributed marginal");
     if (s) return s;
-    s = pf_field_new(ctx, m.kept, m.n, first, step, out);
-    s = agree_ok(ctx, s == PF_OK, "a distributed marginal");
-    if (s) {
-        pf_field_free(out);
-        walk_close(&k);
-        return s;
-    }
     m.out = out->values;
     const int split = rep == PF_MOMENTUM ? 1 : 0;
     if (keep[split]) {
@@ -442,15 +453,8 @@ pf_status pf_dist_slice(pf_wave *w, pf_rep rep, const pf_field *geom, const size
     }
     if (!j.kept) return pf_fail(ctx, PF_EINVAL, "a slice needs at least one free axis");
     walk k;
-    pf_status s = walk_open(&k, w, rep, "a distributed slice");
+    pf_status s = walk_open_with_field(&k, w, rep, j.kept, j.n, first, step, out, "a distributed slice");
     if (s) return s;
-    s = pf_field_new(ctx, j.kept, j.n, first, step, out);
-    s = agree_ok(ctx, s == PF_OK, "a distributed slice");
-    if (s) {
-        pf_field_free(out);
-        walk_close(&k);
-        return s;
-    }
     j.out = out->values;
     /* Every cell is one point of the field: one rank writes it. */
     walk_local(&k, slice_run, &j);

@@ -46,25 +46,20 @@ static void flight_tables(pf_grid *g, double tau)
     for (int a = 0; a < g->dim; a++) {
         double dk = PF_TWO_PI / g->span[a];
         double c = 0.5 * tau * dk * dk; /* phase = c m^2 for the integer m */
-        const double *k = g->k[a];
         double complex *t = g->flight.phase[a];
-        const ptrdiff_t n = (ptrdiff_t)g->n[a];
+        const size_t n = g->n[a];
+        const ptrdiff_t evaluated = (ptrdiff_t)PF_KERNEL_MIRROR_FROM(n);
         /* One libm exponential per |m| (the entry of -m is a copy, the
          * same bits), long axes shared among threads (pf_kernels.h). */
-#pragma omp parallel num_threads(g->ctx->threads) if ((size_t)n >= PF_KERNEL_TABLE_THREADED)
+#pragma omp parallel num_threads(g->ctx->threads) if (n >= PF_KERNEL_TABLE_THREADED)
         {
 #pragma omp for schedule(static)
-            for (ptrdiff_t j = 0; j < n; j++) {
-                if (pf_kernel_mirror(k, (size_t)n, dk, (size_t)j)) continue;
-                double m = k[j] / dk;
-                m = nearbyint(m);
+            for (ptrdiff_t j = 0; j < evaluated; j++) {
+                double m = pf_kernel_axis_m(n, (size_t)j);
                 t[j] = cexp(-I * (c * m * m));
             }
 #pragma omp for schedule(static)
-            for (ptrdiff_t j = 0; j < n; j++) {
-                size_t from = pf_kernel_mirror(k, (size_t)n, dk, (size_t)j);
-                if (from) t[j] = t[from];
-            }
+            for (ptrdiff_t j = evaluated; j < (ptrdiff_t)n; j++) t[j] = t[n - (size_t)j];
         }
     }
     if (g->dim == 1) segment_tables(g, tau);

@@ -265,3 +265,53 @@ void pf_fused_columns(pf_grid *g, double complex *data, double scale, double com
 {
     column_sweep(g, data, scale, tables, 0);
 }
+
+/* The column sweep of one transform: axis-0 transform of the given sign,
+ * then row[i] *= T0[i] f(q), f(q) = T1[i1] T2[i2] (3D) or T1[i1] (2D),
+ * while the block is in cache; NULL T: the transform alone. */
+static void column_transform(pf_grid *g, double complex *data, int sign, double complex *const *T)
+{
+    const pf_fused_plans *fp = &g->fused;
+    const size_t n0 = g->n[0], plane = g->total / n0, n2 = g->dim == 3 ? g->n[2] : 1;
+    const pf_phase_row_fn phase_row = pf_phase_kernel();
+#pragma omp parallel for num_threads(fp->threads) schedule(static)
+    for (ptrdiff_t b = 0; b < (ptrdiff_t)fp->blocks; b++) {
+        const size_t q0 = (size_t)b * fp->block;
+        const int partial = q0 + fp->block > plane;
+        const size_t width = partial ? fp->tail : fp->block;
+        double complex *buf = fp->buf + (size_t)omp_get_thread_num() * fp->block * fp->ld;
+        gather(data + q0, plane, n0, width, buf, fp->ld);
+        fftw_plan plan = sign < 0 ? (partial ? fp->tail_fwd : fp->col_fwd) : (partial ? fp->tail_bwd : fp->col_bwd);
+        fftw_execute_dft(plan, buf, buf);
+        if (T)
+            for (size_t j = 0; j < width; j++) {
+                size_t q = q0 + j;
+                double complex f = g->dim == 3 ? T[1][q / n2] * T[2][q % n2] : T[1][q];
+                phase_row((double *)(buf + j * fp->ld), (const double *)T[0], creal(f), cimag(f), n0);
+            }
+        scatter(buf, fp->ld, n0, width, data + q0, plane);
+    }
+}
+
+pf_status pf_fused_transform(pf_grid *g, double complex *data, int sign, pf_chunk_fn before, void *user,
+                             double complex *const *after)
+{
+    pf_status s = pf_fused_prepare_chunks(g);
+    if (s) return s;
+    const pf_fused_plans *fp = &g->fused;
+    const size_t plane = g->total / g->n[0];
+#pragma omp parallel for num_threads(fp->threads) schedule(static)
+    for (ptrdiff_t c = 0; c < (ptrdiff_t)fp->chunks; c++) {
+        const size_t begin = (size_t)c * fp->rows * plane;
+        const int short_one = (size_t)(c + 1) * fp->rows > g->n[0];
+        const size_t count = (short_one ? fp->rows_tail : fp->rows) * plane;
+        double complex *chunk = data + begin;
+        if (before) before(user, chunk, begin, count);
+        fftw_plan plan = sign < 0 ? (short_one ? fp->chunk_tail_fwd : fp->chunk_fwd)
+                                  : (short_one ? fp->chunk_tail_bwd : fp->chunk_bwd);
+        fftw_execute_dft(plan, chunk, chunk);
+    }
+    column_transform(g, data, sign, after);
+    return PF_OK;
+}
+

@@ -263,6 +263,68 @@ static void pass_done(pf_context *ctx, pass_progress *pp)
     pf_context_progress(ctx, pp->task, (double)pp->done / (double)(pp->total + 1), 1);
 }
 
+/* The input chirp on a chunk of whole planes of the output grid (the
+ * chunk sweep of pf_fused_transform): the same per-row products as
+ * chirp_pass. */
+typedef struct pre_chirp {
+    const pf_grid *g;
+    double complex *const *pre;
+    pf_phase_row_fn row;
+} pre_chirp;
+
+static void pre_chirp_chunk(void *user, double complex *chunk, size_t begin, size_t count)
+{
+    const pre_chirp *c = user;
+    const pf_grid *g = c->g;
+    const int last = g->dim - 1;
+    const size_t n_last = g->n[last], rows = count / n_last, first = begin / n_last;
+    const size_t n1 = g->dim == 3 ? g->n[1] : 1;
+    for (size_t r = 0; r < rows; r++) {
+        size_t row = first + r, i0 = row / n1, i1 = row % n1;
+        double complex f = g->dim == 3 ? c->pre[0][i0] * c->pre[1][i1] : c->pre[0][i0];
+        c->row((double *)(chunk + r * n_last), (const double *)c->pre[last], creal(f), cimag(f), n_last);
+    }
+}
+
+/* A 2D/3D single-process stage in place (same point count): the input
+ * chirp fused into the chunk sweep before the trailing-axes transforms and
+ * the output chirp into the column sweep after the axis-0 transforms
+ * (pf_fused.c), two passes over memory in all instead of the chirp pass,
+ * FFTW's own two sweeps and the second chirp pass. */
+static pf_status fused_stage(pf_wave *w, const double *ta, pf_grid *gout, pass_progress *pp)
+{
+    pf_grid *gin = w->grid;
+    pf_context *ctx = gin->ctx;
+    const int d = gin->dim;
+    size_t table_len = 0;
+    for (int a = 0; a < d; a++) table_len += 2 * gout->n[a];
+    double complex *tables = pf_alloc(ctx, table_len * sizeof(double complex));
+    if (!tables) return pf_context_status(ctx);
+    double complex *pre[PF_MAX_DIM], *post[PF_MAX_DIM];
+    double complex *p = tables;
+    for (int a = 0; a < d; a++) {
+        pre[a] = p;
+        post[a] = p + gout->n[a];
+        p += 2 * gout->n[a];
+        pf_scaled_chirp_tables(w->mass, ta[a], gout->n[a], gin->dx[a], gout->dx[a], gout->origin[a] - gin->origin[a],
+                               pre[a], post[a]);
+    }
+    pre_chirp c = {gout, pre, pf_phase_kernel()};
+    pf_status s = pf_fused_transform(gout, w->store, ta[0] > 0 ? -1 : +1, pre_chirp_chunk, &c, post);
+    pf_context_free(ctx, tables);
+    if (s) return s;
+    pass_done(ctx, pp);
+    pass_done(ctx, pp);
+    pass_done(ctx, pp);
+    pf_grid_retain(gout);
+    w->grid = gout;
+    pf_grid_release(gin);
+    w->rep = PF_POSITION;
+    pf_guard_rebind(w);
+    return PF_OK;
+}
+
+
 /* The scaled stage: w (position representation) goes to gout with per-axis
  * durations ta; *removed receives the probability cropped away. */
 static pf_status scaled_stage(pf_wave *w, const double *ta, pf_grid *gout, double norm, double *removed,
@@ -313,6 +375,7 @@ static pf_status scaled_stage(pf_wave *w, const double *ta, pf_grid *gout, doubl
         pf_guard_rebind(w);
         return PF_OK;
     }
+    if (in_place && d >= 2 && !gout->dist) return fused_stage(w, ta, gout, pp);
     double complex *out = in_place ? w->store : pf_alloc(ctx, bytes);
     if (!out) return pf_context_status(ctx);
     size_t table_len = 0;

@@ -274,6 +274,41 @@ static pf_status beyond_plans(pf_grid *g, int axis, size_t len)
     return pf_context_note_plans(ctx, "beyond", g, pair, 2);
 }
 
+/* Where each mode m of the axis sits in a padded transform of M points:
+ * its integer mode number k_m / dk, modulo M. */
+static void padded_slots(const pf_grid *g, int axis, size_t M, size_t *slot)
+{
+    double kstep = pf_grid_kspacing(g, axis);
+    for (size_t m = 0; m < g->n[axis]; m++) {
+        long mode = lround(g->k[axis][m] / kstep);
+        slot[m] = (size_t)((mode % (long)M + (long)M) % (long)M);
+    }
+}
+
+/* The integral from `at` to the window's end of the trigonometric
+ * polynomial sum_D C[D] / M exp(i q_D (x - x0)), D = -(L-1)..(L-1), q_D =
+ * 2 pi D / span, with C the M-point forward transform (M C[D] at index D mod
+ * M):  sum_D C[D] integral_at^b exp(i q_D (x - x0)) dx, b = x0 + span - dx/2,
+ * so exp(i q_D (b - x0)) = exp(-i q_D dx / 2).  Not yet times the
+ * transverse area. */
+static double complex integral_beyond(const pf_grid *g, int axis, double at, const double complex *C, size_t M,
+                                      size_t L)
+{
+    size_t na = g->n[axis];
+    double x0 = g->x[axis][0], dx = g->dx[axis], span = g->span[axis];
+    double b = x0 + span - 0.5 * dx, u = (at - x0) / span;
+    double complex sum = C[0] / (double)M * (b - at);
+    for (long D = -(long)(L - 1); D <= (long)(L - 1); D++) {
+        if (D == 0) continue;
+        double complex c = C[(size_t)((D + (long)M) % (long)M)] / (double)M;
+        double q = PF_TWO_PI * (double)D / span;
+        double complex eb = cexp(-I * PF_PI * (double)D / (double)na);
+        double complex ea = cexp(I * PF_TWO_PI * fmod((double)D * u, 1.0));
+        sum += c * (eb - ea) / (I * q);
+    }
+    return sum;
+}
+
 pf_status pf_wave_beyond(pf_wave *w, int axis, double at, double *probability)
 {
     pf_grid *g = w->grid;
@@ -322,11 +357,7 @@ pf_status pf_wave_beyond(pf_wave *w, int axis, double at, double *probability)
     double *part = (double *)(mem + blocks * M * sizeof(double complex));
     size_t *slot = (size_t *)(mem + blocks * per);
     size_t nyq = even ? na / 2 : (size_t)-1;
-    double kstep = pf_grid_kspacing(g, axis);
-    for (size_t m = 0; m < na; m++) {
-        long mode = lround(g->k[axis][m] / kstep);
-        slot[m] = (size_t)((mode % (long)M + (long)M) % (long)M);
-    }
+    padded_slots(g, axis, M, slot);
     const double complex *S = w->store;
     fftw_plan bwd = g->beyond[axis].bwd, fwd = g->beyond[axis].fwd;
     ptrdiff_t nb = (ptrdiff_t)blocks;
@@ -361,19 +392,7 @@ pf_status pf_wave_beyond(pf_wave *w, int axis, double at, double *probability)
         C[j] = t;
     }
     fftw_execute_dft(fwd, C, C);
-    /* P = A_perp sum_D C[D] integral_at^b exp(i q_D (x - x0)) dx,
-     * b = x0 + span - dx/2, so exp(i q_D (b - x0)) = exp(-i q_D dx / 2). */
-    double x0 = g->x[axis][0], dx = g->dx[axis], span = g->span[axis];
-    double b = x0 + span - 0.5 * dx, u = (at - x0) / span;
-    double complex sum = C[0] / (double)M * (b - at);
-    for (long D = -(long)(L - 1); D <= (long)(L - 1); D++) {
-        if (D == 0) continue;
-        double complex c = C[(size_t)((D + (long)M) % (long)M)] / (double)M;
-        double q = PF_TWO_PI * (double)D / span;
-        double complex eb = cexp(-I * PF_PI * (double)D / (double)na);
-        double complex ea = cexp(I * PF_TWO_PI * fmod((double)D * u, 1.0));
-        sum += c * (eb - ea) / (I * q);
-    }
+    double complex sum = integral_beyond(g, axis, at, C, M, L);
     pf_context_free(g->ctx, mem);
     pf_context_free(g->ctx, tw);
     /* |psi|^2 transverse integral: prod spans; storage S needs no other factor. */

@@ -208,10 +208,16 @@ void pfl_fill_from_function(lua_State *L, pf_wave *w, pf_rep rep, int arg, const
  * guard can name the running function; pfl_add_wave_methods ("wave:") and
  * pfl_add_functions ("pf.") call it for every function they register. */
 void pfl_frame_name_functions(lua_State *L, const char *prefix, const luaL_Reg *funcs);
-/* True when the script name is in the FRAME_AWARE list. */
-int pfl_frame_aware_name(const char *name);
+/* Whether the function of this script name handles a wave in a moved frame
+ * (PFL_AWARE_FRAME) or a distributed wave or grid (PFL_AWARE_DIST): the one
+ * table in pfl_aware.c.  pfl_push_aware_list pushes the names with the flag,
+ * sorted. */
+#define PFL_AWARE_FRAME 1u
+#define PFL_AWARE_DIST 2u
+int pfl_aware(const char *name, unsigned kind);
+void pfl_push_aware_list(lua_State *L, unsigned kind);
 /* Raises an argument error at arg when w's frame is moved and the running
- * function is not FRAME_AWARE (pfl_check_wave calls it). */
+ * function is not flagged FRAME (pfl_check_wave calls it). */
 void pfl_frame_guard(lua_State *L, int arg, const pf_wave *w);
 /* The acceleration of a flight: field 'acceleration' of the checked options
  * table opts (0: none; false: no acceleration), else the pf.setup default.
@@ -281,7 +287,7 @@ void pfl_open_dist(lua_State *L, int mod);    /* distributed grids over MPI rank
 /* Pushes the script name of the running C function ("wave:fly"), or nil. */
 void pfl_push_running_name(lua_State *L);
 /* Raises an argument error at arg when w (or g) is distributed over MPI
- * ranks and the running function is not DIST_AWARE (pfl_dist.c);
+ * ranks and the running function is not flagged DIST (pfl_aware.c);
  * pfl_check_wave and pfl_check_grid call them. */
 void pfl_dist_guard(lua_State *L, int arg, const pf_wave *w);
 void pfl_dist_grid_guard(lua_State *L, int arg, const pf_grid *g);

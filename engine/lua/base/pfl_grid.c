@@ -22,7 +22,7 @@ pf_grid *pfl_check_grid(lua_State *L, int arg)
 {
     pfl_grid_box *b = check_box(L, arg);
     if (!b->g) luaL_argerror(L, arg, "grid is closed");
-    pfl_dist_grid_guard(L, arg, b->g); /* builders on a distributed grid only if DIST_AWARE */
+    pfl_dist_grid_guard(L, arg, b->g); /* builders on a distributed grid only if DIST (pfl_aware.c) */
     return b->g;
 }
 

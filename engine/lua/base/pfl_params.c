@@ -488,6 +488,49 @@ static int compare_names(const void *a, const void *b)
     return strcmp(((const pspec *)a)->name, ((const pspec *)b)->name);
 }
 
+/* Pushes the default of parameter p as text (as --help shows it) and then
+ * as its value (numbers in SI); a default of the wrong type is an error. */
+static void push_default(lua_State *L, const pspec *p)
+{
+    char err[512];
+    const char *dtext = push_default_text(L, p);
+    lua_getfield(L, p->spec, "default");
+    if (lua_type(L, -1) == LUA_TNUMBER && p->type == P_NUMBER) {
+        double v = lua_tonumber(L, -1) * (p->unit ? p->unit->si : 1.0);
+        lua_pop(L, 1);
+        lua_pushnumber(L, v);
+    } else if (lua_type(L, -1) == LUA_TSTRING && p->type != P_STRING) {
+        lua_pop(L, 1);
+        if (push_from_text(L, p, dtext, err, sizeof err) != 0)
+            luaL_error(L, "parameters: default of '%s': %s", p->name, err);
+    } else if ((p->type == P_INTEGER && !lua_isinteger(L, -1)) || (p->type == P_BOOLEAN && !lua_isboolean(L, -1)) ||
+               (p->type == P_STRING && lua_type(L, -1) != LUA_TSTRING) ||
+               (p->type == P_NUMBER && lua_type(L, -1) != LUA_TNUMBER)) {
+        luaL_error(L, "parameters: default of '%s' is not a %s", p->name, type_names[p->type]);
+    }
+}
+
+/* Every --set override (the state's "order", texts in table `over`) must
+ * name one of the n parameters declared in the table at index 1. */
+static void check_overrides_declared(lua_State *L, int st, int over, int n)
+{
+    lua_getfield(L, st, "order");
+    for (lua_Integer k = 1; k <= (lua_Integer)lua_rawlen(L, -1); k++) {
+        lua_rawgeti(L, -1, k);
+        const char *name = lua_tostring(L, -1);
+        lua_getfield(L, 1, name);
+        if (lua_isnil(L, -1)) {
+            lua_getfield(L, over, name);
+            const char *text = lua_tostring(L, -1);
+            push_names(L, 1);
+            pfl_error(L, PFL_ERROR_USAGE, "parameters: --set %s=%s: unknown parameter '%s' (parameters: %s)", name, text,
+                      name, n ? lua_tostring(L, -1) : "none declared");
+        }
+        lua_pop(L, 2);
+    }
+    lua_pop(L, 1);
+}
+
 /* pf.parameters{name = {default = v, unit = "ms", help = "...", type =,
  *               min =, max =, choices = {...}}, ...} -> {name = SI value} */
 static int l_parameters(lua_State *L)
@@ -564,40 +607,11 @@ static int l_parameters(lua_State *L)
             continue;
         }
         lua_pop(L, 1);
-        const char *dtext = push_default_text(L, p);
-        lua_getfield(L, p->spec, "default");
-        if (lua_type(L, -1) == LUA_TNUMBER && p->type == P_NUMBER) {
-            double v = lua_tonumber(L, -1) * (p->unit ? p->unit->si : 1.0);
-            lua_pop(L, 1);
-            lua_pushnumber(L, v);
-        } else if (lua_type(L, -1) == LUA_TSTRING && p->type != P_STRING) {
-            lua_pop(L, 1);
-            if (push_from_text(L, p, dtext, err, sizeof err) != 0)
-                return luaL_error(L, "parameters: default of '%s': %s", p->name, err);
-        } else if ((p->type == P_INTEGER && !lua_isinteger(L, -1)) || (p->type == P_BOOLEAN && !lua_isboolean(L, -1)) ||
-                   (p->type == P_STRING && lua_type(L, -1) != LUA_TSTRING) ||
-                   (p->type == P_NUMBER && lua_type(L, -1) != LUA_TNUMBER)) {
-            return luaL_error(L, "parameters: default of '%s' is not a %s", p->name, type_names[p->type]);
-        }
+        push_default(L, p);
         lua_setfield(L, result, p->name);
         lua_setfield(L, texts, p->name);
     }
-    /* Every override must name a declared parameter. */
-    lua_getfield(L, st, "order");
-    for (lua_Integer k = 1; k <= (lua_Integer)lua_rawlen(L, -1); k++) {
-        lua_rawgeti(L, -1, k);
-        const char *name = lua_tostring(L, -1);
-        lua_getfield(L, 1, name);
-        if (lua_isnil(L, -1)) {
-            lua_getfield(L, over, name);
-            const char *text = lua_tostring(L, -1);
-            push_names(L, 1);
-            return pfl_error(L, PFL_ERROR_USAGE, "parameters: --set %s=%s: unknown parameter '%s' (parameters: %s)",
-                             name, text, name, n ? lua_tostring(L, -1) : "none declared");
-        }
-        lua_pop(L, 2);
-    }
-    lua_pop(L, 1);
+    check_overrides_declared(L, st, over, n);
     luaL_where(L, 1);
     lua_pushliteral(L, "pf.parameters");
     lua_concat(L, 2);

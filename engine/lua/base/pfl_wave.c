@@ -28,8 +28,8 @@ pf_wave *pfl_check_wave(lua_State *L, int arg)
     pfl_wave_box *b = check_box(L, arg);
     if (!b->w) luaL_argerror(L, arg, "wave function is closed");
     pfl_ctx(L); /* binds this thread to the context for warnings */
-    pfl_frame_guard(L, arg, b->w); /* a moved frame only for FRAME_AWARE functions */
-    pfl_dist_guard(L, arg, b->w);  /* a distributed grid only for DIST_AWARE functions */
+    pfl_frame_guard(L, arg, b->w); /* a moved frame only for FRAME functions (pfl_aware.c) */
+    pfl_dist_guard(L, arg, b->w);  /* a distributed grid only for DIST functions (pfl_aware.c) */
     return b->w;
 }
 

@@ -1,13 +1,14 @@
 /* pfl_dist.c - the binding's side of grids split over MPI ranks (pf_dist.h):
- * which Lua functions handle a distributed wave or grid (DIST_AWARE), the
- * refusal for every other one, and pf.mpi_info().
+ * the refusal of a distributed wave or grid by every Lua function not
+ * flagged DIST in pfl_aware.c, and pf.mpi_info().
  *
  * A distributed wave stores only this rank's slab; a function written for
  * whole grids would read past it or report one rank's share as the whole.
  * So pfl_check_wave and pfl_check_grid ask the guards below, which refuse a
- * distributed object unless the running Lua function is listed here.  A
- * function that handles slabs (through the core's distributed paths, with
- * a test under mpirun in tests/mpi/) adds its name; nothing else changes. */
+ * distributed object unless the running Lua function is flagged DIST in
+ * pfl_aware.c.  A function that handles slabs (through the core's
+ * distributed paths, with a test under mpirun in tests/runner) gets the
+ * flag there; nothing else changes. */
 #include <math.h>
 #include <string.h>
 #include "pf_dist.h"
@@ -18,108 +19,11 @@
 static const pfl_options_decl RANK_ADVICE_OPTIONS = {
     "pf.rank_advice", (const char *const[]){"points", "memory_per_rank", "waves", NULL}};
 
-/* Script names, sorted.  Grid methods ("grid:...") read the global tables
- * only and need no entry; module functions that take a grid do. */
-static const char *const DIST_AWARE[] = {
-    "camera:absorb",
-    "camera:expose",
-    "h5file:put_density",
-    "h5file:put_wave",
-    "pf.flat_top",
-    "pf.gaussian",
-    "pf.ground_state",
-    "pf.load_wave",
-    "pf.momentum_orders",
-    "pf.oscillator",
-    "pf.picture_map",
-    "pf.potential",
-    "pf.thomas_fermi",
-    "pf.wave",
-    "wave:aperture",
-    "wave:arrival_times",
-    "wave:beyond",
-    "wave:clock",
-    "wave:close",
-    "wave:column_density",
-    "wave:copy",
-    "wave:current",
-    "wave:density",
-    "wave:distribution",
-    "wave:energy",
-    "wave:evolve",
-    "wave:expand",
-    "wave:fall",
-    "wave:far_field",
-    "wave:flux",
-    "wave:fly",
-    "wave:fly_long",
-    "wave:fly_scaled",
-    "wave:frame",
-    "wave:fringes",
-    "wave:grid_advice",
-    "wave:grating",
-    "wave:grid",
-    "wave:imprint",
-    "wave:k_axis",
-    "wave:kick",
-    "wave:kinetic_energy",
-    "wave:log",
-    "wave:log_text",
-    "wave:marginal",
-    "wave:mask",
-    "wave:mask_grating",
-    "wave:mass",
-    "wave:measure_position",
-    "wave:measure_region",
-    "wave:momentum_covariance",
-    "wave:momentum_density",
-    "wave:momentum_mask",
-    "wave:momentum_mean",
-    "wave:momentum_variance",
-    "wave:momentum_width",
-    "wave:norm",
-    "wave:normalize",
-    "wave:phi",
-    "wave:position_covariance",
-    "wave:position_mean",
-    "wave:position_momentum_covariance",
-    "wave:position_variance",
-    "wave:position_width",
-    "wave:probability_in",
-    "wave:profile",
-    "wave:psi",
-    "wave:radial_profile",
-    "wave:relax",
-    "wave:representation",
-    "wave:sample",
-    "wave:scale",
-    "wave:select_velocity",
-    "wave:set_phi",
-    "wave:set_psi",
-    "wave:shift",
-    "wave:slice",
-    "wave:slit",
-    "wave:slits",
-    "wave:velocity_mean",
-    "wave:wavenumber_mean",
-    "wave:wavenumber_width",
-    "wave:wigner",
-    "wave:x_axis",
-    NULL,
-};
-
-static int dist_aware(const char *name)
-{
-    for (const char *const *p = DIST_AWARE; *p; p++)
-        if (strcmp(*p, name) == 0) return 1;
-    return 0;
-}
-
 static void refuse(lua_State *L, int arg, const char *what)
 {
     pfl_push_running_name(L);
     const char *name = lua_tostring(L, -1);
-    if (name && dist_aware(name)) {
+    if (name && pfl_aware(name, PFL_AWARE_DIST)) {
         lua_pop(L, 1);
         return;
     }
@@ -164,10 +68,11 @@ static int l_mpi_info(lua_State *L)
     return 1;
 }
 
-/* pf._dist_aware() -> the DIST_AWARE list (for the tests). */
+/* pf._dist_aware() -> the names of the functions that handle a distributed
+ * wave (pfl_aware.c), sorted (for the tests). */
 static int l_dist_aware(lua_State *L)
 {
-    pfl_push_string_list(L, DIST_AWARE);
+    pfl_push_aware_list(L, PFL_AWARE_DIST);
     return 1;
 }
 

@@ -697,7 +697,7 @@ void pfl_open_files(lua_State *L, int mod)
     luaL_newlib(L, methods);
     lua_setfield(L, -2, "__index");
     lua_pop(L, 1);
-    pfl_frame_name_functions(L, "h5file:", methods); /* for the FRAME_AWARE list */
+    pfl_frame_name_functions(L, "h5file:", methods); /* for the guards' names (pfl_aware.c) */
     pfl_add_functions(L, mod, funcs);
     static const pfl_options_decl *const options[] = {&H5FILE_OPTIONS, &PUT_WAVE_OPTIONS, &PUT_IMAGE_OPTIONS, &WRITE_CSV_OPTIONS, &WRITE_CSV_COLUMN, &PUT_TABLE_COLUMN,
                                                       &LOAD_WAVE_OPTIONS, NULL};

@@ -482,6 +482,70 @@ static int l_picture_lines(lua_State *L)
  * spacing): beyond it the caller is asked for an x_range. */
 #define CARPET_MAX_COLUMNS ((size_t)1 << 20)
 
+/* The lab x axis of a carpet: the columns xs[i0 .. i1-1] shown, and whether
+ * the wave's frame travels during it (then xs is one lab axis at the grid's
+ * spacing, else the grid's own points). */
+typedef struct carpet_columns {
+    const double *xs;
+    size_t i0, i1;
+    int travels;
+} carpet_columns;
+
+/* Columns of a carpet of `frames` times dt apart under acceleration acc
+ * (NULL: none), cropped to range (lo, hi; NULL: all).  The frame's lab
+ * offset at every time comes from the closed form the flights use; a
+ * travelling frame gets one lab axis from the lowest to the highest lab
+ * point any time's grid reaches, at most CARPET_MAX_COLUMNS wide. */
+static void choose_carpet_columns(lua_State *L, pf_wave *w, int frames, double dt, const double *acc,
+                                  const double *range, carpet_columns *cc)
+{
+    pf_grid *g = pf_wave_grid(w);
+    pf_frame fr;
+    pf_wave_frame(w, &fr);
+    double xmin = fr.position[0], xmax = fr.position[0];
+    for (int j = 1; j < frames; j++) {
+        pf_frame_advance(&fr, 1, pf_wave_mass(w), dt, acc);
+        xmin = fmin(xmin, fr.position[0]);
+        xmax = fmax(xmax, fr.position[0]);
+    }
+    cc->travels = xmax > xmin;
+    size_t nx = pf_grid_points(g, 0), ncol = nx;
+    double dx = pf_grid_spacing(g, 0);
+    cc->i0 = 0;
+    if (!cc->travels) {
+        cc->xs = axis_table(L, w, 0, PF_POSITION); /* the grid's points at its (fixed) lab offset */
+        cc->i1 = ncol;
+        if (range) {
+            while (cc->i0 < ncol && cc->xs[cc->i0] < range[0]) cc->i0++;
+            while (cc->i1 > cc->i0 && cc->xs[cc->i1 - 1] > range[1]) cc->i1--;
+        }
+        return;
+    }
+    /* One lab axis at the grid's spacing from the lowest to the highest lab
+     * point any time's grid reaches; x_range picks columns of it. */
+    double lo = pf_grid_x(g, 0, 0) + xmin;
+    double cols = floor((xmax - xmin) / dx + 0.5) + (double)nx, c0 = 0, c1 = cols;
+    if (range) {
+        c0 = fmax(0.0, ceil((range[0] - lo) / dx));
+        c1 = fmin(cols, floor((range[1] - lo) / dx) + 1.0);
+        if (c1 < c0) c1 = c0;
+    }
+    if (!(c1 - c0 <= (double)CARPET_MAX_COLUMNS)) {
+        char msg[300];
+        snprintf(msg, sizeof msg,
+                 "picture_carpet: the cloud's frame travels %g m during the carpet, %.0f columns at the grid spacing "
+                 "%g m (at most %zu); give x_range (lab, m) to show part of it",
+                 xmax - xmin, c1 - c0, dx, CARPET_MAX_COLUMNS);
+        luaL_error(L, "%s", msg);
+    }
+    size_t first = (size_t)c0;
+    ncol = (size_t)c1 - first;
+    double *v = pfl_scratch_doubles(L, ncol ? ncol : 1);
+    for (size_t i = 0; i < ncol; i++) v[i] = lo + (double)(first + i) * dx;
+    cc->xs = v;
+    cc->i1 = ncol;
+}
+
 /* pf.picture_carpet(path, w, {duration=, frames=, title=, x_range={lo, hi},
  *   per_frame=false, value_max=, marks={{at=, label=}, ...}, acceleration=,
  *   width=, height=}) -> final path.  Flies a copy of the
@@ -515,55 +579,14 @@ static int l_picture_carpet(lua_State *L)
     double acc[PF_MAX_DIM];
     int accelerated = pfl_frame_acceleration(L, 3, 1, acc, "pf.picture_carpet");
     double dt = duration / (frames - 1);
-    /* The frame's lab offset at every time (the closed form the flights use). */
-    pf_frame fr;
-    pf_wave_frame(w, &fr);
-    double xmin = fr.position[0], xmax = fr.position[0];
-    for (int j = 1; j < frames; j++) {
-        pf_frame_advance(&fr, 1, pf_wave_mass(w), dt, accelerated ? acc : NULL);
-        xmin = fmin(xmin, fr.position[0]);
-        xmax = fmax(xmax, fr.position[0]);
-    }
-    int travels = xmax > xmin;
-    size_t nx = pf_grid_points(g, 0), ncol = nx;
-    const double *xs;
-    double dx = pf_grid_spacing(g, 0), lo = 0;
     double range[2];
     int has_range = pfl_field_vector(L, 3, "x_range", 2, range, 0);
     if (has_range && !(range[1] > range[0])) return luaL_error(L, "picture_carpet: x_range must be {lo, hi} with lo < hi");
-    size_t i0 = 0, i1; /* columns shown: i0 .. i1-1 */
-    if (!travels) {
-        xs = axis_table(L, w, 0, PF_POSITION); /* the grid's points at its (fixed) lab offset */
-        i1 = ncol;
-        if (has_range) {
-            while (i0 < ncol && xs[i0] < range[0]) i0++;
-            while (i1 > i0 && xs[i1 - 1] > range[1]) i1--;
-        }
-    } else {
-        /* One lab axis at the grid's spacing from the lowest to the highest
-         * lab point any time's grid reaches; x_range picks columns of it. */
-        lo = pf_grid_x(g, 0, 0) + xmin;
-        double cols = floor((xmax - xmin) / dx + 0.5) + (double)nx, c0 = 0, c1 = cols;
-        if (has_range) {
-            c0 = fmax(0.0, ceil((range[0] - lo) / dx));
-            c1 = fmin(cols, floor((range[1] - lo) / dx) + 1.0);
-            if (c1 < c0) c1 = c0;
-        }
-        if (!(c1 - c0 <= (double)CARPET_MAX_COLUMNS)) {
-            char msg[300];
-            snprintf(msg, sizeof msg,
-                     "picture_carpet: the cloud's frame travels %g m during the carpet, %.0f columns at the grid spacing "
-                     "%g m (at most %zu); give x_range (lab, m) to show part of it",
-                     xmax - xmin, c1 - c0, dx, CARPET_MAX_COLUMNS);
-            return luaL_error(L, "%s", msg);
-        }
-        size_t first = (size_t)c0;
-        ncol = (size_t)c1 - first;
-        double *v = pfl_scratch_doubles(L, ncol ? ncol : 1);
-        for (size_t i = 0; i < ncol; i++) v[i] = lo + (double)(first + i) * dx;
-        xs = v;
-        i1 = ncol;
-    }
+    carpet_columns cc;
+    choose_carpet_columns(L, w, frames, dt, accelerated ? acc : NULL, has_range ? range : NULL, &cc);
+    int travels = cc.travels;
+    const double *xs = cc.xs;
+    size_t nx = pf_grid_points(g, 0), i0 = cc.i0, i1 = cc.i1;
     if (i1 < i0 + 2) return luaL_error(L, "picture_carpet: x_range holds fewer than 2 grid points");
     size_t nshow = i1 - i0;
     if ((double)nshow * frames > 1e8)

@@ -1,139 +1,21 @@
-/* pfl_frame.c - the moving frame in the Lua binding: which wave methods
- * understand a moved frame (FRAME_AWARE), the refusal for every other one,
- * the acceleration option and its per-script default, and the frame's own
+/* pfl_frame.c - the moving frame in the Lua binding: the refusal of a
+ * moved frame by every function not flagged FRAME in pfl_aware.c, the
+ * acceleration option and its per-script default, and the frame's own
  * methods (w:frame, w:x_axis, w:k_axis).
  *
  * A wave whose frame is moved (pf_frame.h) stores its cloud on a co-moving
  * grid; a method written for grid states would silently report grid
  * coordinates or grid momenta as if they were the lab's.  So pfl_check_wave
  * asks pfl_frame_guard, which refuses a moved wave unless the Lua function
- * running is named in FRAME_AWARE.  A method that converts to the lab
- * (through the core's pf_wave_lab_* functions or by hand) adds its name to
- * the list below; nothing else needs to change. */
+ * running is flagged FRAME in pfl_aware.c.  A method that converts to the
+ * lab (through the core's pf_wave_lab_* functions or by hand) gets the flag
+ * there; nothing else needs to change. */
 #include <math.h>
 #include <string.h>
 #include "pf_constants.h"
 #include "pf_frame.h"
 #include "pfl_options.h"
 #include "pfl_protocol.h"
-
-/* Functions that report or act on lab quantities for a wave with a moved
- * frame, by their script names ("wave:NAME" for methods, "pf.NAME" for
- * module functions, "h5file:NAME" for file methods, "ensemble:NAME" for an
- * ensemble's own methods).  Every function that reads a wave through
- * pfl_check_wave and is not listed here refuses a moved wave.
- * Keep the list sorted; tests/lua/test_frame.lua checks that every entry
- * names an existing function and that an unlisted one refuses. */
-static const char *const FRAME_AWARE[] = {
-    "camera:absorb",
-    "camera:expose",
-    "ensemble:copy",
-    "ensemble:each",
-    "ensemble:kinetic_energy",
-    "ensemble:member",
-    "ensemble:momentum_mean",
-    "ensemble:momentum_variance",
-    "ensemble:momentum_width",
-    "ensemble:norm",
-    "ensemble:position_mean",
-    "ensemble:position_variance",
-    "ensemble:position_width",
-    "ensemble:velocity_mean",
-    "ensemble:wavenumber_mean",
-    "ensemble:wavenumber_width",
-    "h5file:put_density",
-    "h5file:put_wave",
-    "pf.mixture",
-    "pf.picture_carpet",
-    "pf.picture_map",
-    "pf.potential",
-    "wave:__add",
-    "wave:__div",
-    "wave:__mul",
-    "wave:__sub",
-    "wave:__unm",
-    "wave:add",
-    "wave:aperture",
-    "wave:arrival_times",
-    "wave:beyond",
-    "wave:clock",
-    "wave:close",
-    "wave:column_density",
-    "wave:copy",
-    "wave:current",
-    "wave:density",
-    "wave:density_at",
-    "wave:distribution",
-    "wave:energy",
-    "wave:evolve",
-    "wave:expand",
-    "wave:fall",
-    "wave:far_field",
-    "wave:fidelity",
-    "wave:flux",
-    "wave:fly",
-    "wave:fly_long",
-    "wave:fly_scaled",
-    "wave:frame",
-    "wave:fringes",
-    "wave:grating",
-    "wave:grid",
-    "wave:grid_advice",
-    "wave:guard",
-    "wave:imprint",
-    "wave:inner",
-    "wave:k_axis",
-    "wave:kick",
-    "wave:kinetic_energy",
-    "wave:lens",
-    "wave:log",
-    "wave:log_columns",
-    "wave:log_text",
-    "wave:marginal",
-    "wave:mark_periodic",
-    "wave:mask",
-    "wave:mask_grating",
-    "wave:mass",
-    "wave:measure_position",
-    "wave:measure_region",
-    "wave:momentum_covariance",
-    "wave:momentum_density",
-    "wave:momentum_mask",
-    "wave:momentum_mean",
-    "wave:momentum_variance",
-    "wave:momentum_width",
-    "wave:norm",
-    "wave:normalize",
-    "wave:overlap",
-    "wave:phi",
-    "wave:position_covariance",
-    "wave:position_mean",
-    "wave:position_momentum_covariance",
-    "wave:position_variance",
-    "wave:position_width",
-    "wave:probability_in",
-    "wave:profile",
-    "wave:psi",
-    "wave:psi_at",
-    "wave:radial_profile",
-    "wave:relax",
-    "wave:representation",
-    "wave:sample",
-    "wave:scale",
-    "wave:select_velocity",
-    "wave:set_phi",
-    "wave:set_psi",
-    "wave:shift",
-    "wave:slice",
-    "wave:slit",
-    "wave:slits",
-    "wave:velocity_mean",
-    "wave:wavenumber_mean",
-    "wave:wavenumber_width",
-    "wave:wigner",
-    "wave:x_axis",
-    NULL,
-};
 
 /* Registry slots (addresses of these statics). */
 static const char NAMES_SLOT = 'N';   /* C function -> script name */
@@ -159,13 +41,6 @@ void pfl_frame_name_functions(lua_State *L, const char *prefix, const luaL_Reg *
     lua_pop(L, 1);
 }
 
-int pfl_frame_aware_name(const char *name)
-{
-    for (const char *const *p = FRAME_AWARE; *p; p++)
-        if (strcmp(*p, name) == 0) return 1;
-    return 0;
-}
-
 /* Pushes the script name of the running C function, or nil when unknown
  * (also for the distributed-grid guard, pfl_dist.c). */
 void pfl_push_running_name(lua_State *L)
@@ -186,7 +61,7 @@ void pfl_frame_guard(lua_State *L, int arg, const pf_wave *w)
     if (!pf_wave_frame_moved(w)) return;
     pfl_push_running_name(L);
     const char *name = lua_tostring(L, -1);
-    if (name && pfl_frame_aware_name(name)) {
+    if (name && pfl_aware(name, PFL_AWARE_FRAME)) {
         lua_pop(L, 1);
         return;
     }
@@ -376,15 +251,16 @@ static int push_lab_axis(lua_State *L, int wavenumbers)
 static int l_x_axis(lua_State *L) { return push_lab_axis(L, 0); }
 static int l_k_axis(lua_State *L) { return push_lab_axis(L, 1); }
 
-/* pf._frame_aware() -> the FRAME_AWARE list (for the tests). */
+/* pf._frame_aware() -> the names of the functions that handle a moved
+ * frame (pfl_aware.c), sorted (for the tests). */
 static int l_frame_aware(lua_State *L)
 {
-    pfl_push_string_list(L, FRAME_AWARE);
+    pfl_push_aware_list(L, PFL_AWARE_FRAME);
     return 1;
 }
 
 /* pf._frame_guard_probe(w) -> true: reads w as every binding function does
- * (pfl_check_wave) without being listed in FRAME_AWARE, so the tests see the
+ * (pfl_check_wave) without the FRAME flag (pfl_aware.c), so the tests see the
  * refusal a new, unlisted function would give a moved wave, now that every
  * wave-reading function is listed. */
 static int l_frame_guard_probe(lua_State *L)

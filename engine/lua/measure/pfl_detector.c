@@ -239,7 +239,7 @@ void pfl_open_detector(lua_State *L, int mod)
     luaL_newlib(L, methods);
     lua_setfield(L, -2, "__index");
     lua_pop(L, 1);
-    pfl_frame_name_functions(L, "camera:", methods); /* for the FRAME_AWARE list */
+    pfl_frame_name_functions(L, "camera:", methods); /* for the guards' names (pfl_aware.c) */
     pfl_add_functions(L, mod, funcs);
     static const pfl_options_decl *const options[] = {&CAMERA_OPTIONS, &EXPOSE_OPTIONS, &ABSORB_OPTIONS, NULL};
     pfl_options_declare(L, options);

@@ -664,7 +664,7 @@ void pfl_open_ensemble(lua_State *L, int mod)
     luaL_newlib(L, methods);
     lua_setfield(L, -2, "methods");
     lua_pop(L, 1);
-    pfl_frame_name_functions(L, "ensemble:", methods); /* for the FRAME_AWARE list */
+    pfl_frame_name_functions(L, "ensemble:", methods); /* for the guards' names (pfl_aware.c) */
     pfl_add_functions(L, mod, funcs);
     static const pfl_options_decl *const options[] = {&THERMAL_OPTIONS, NULL};
     pfl_options_declare(L, options);

@@ -113,7 +113,7 @@ void pfl_open_algebra(lua_State *L, int mod)
     luaL_setfuncs(L, meta, 0);
     lua_pop(L, 1);
     /* The operators combine lab wave functions (pf_wave_lab_axpy; scaling
-     * commutes with the frame), so they are named for the FRAME_AWARE list. */
+     * commutes with the frame), so they are named for the frame guard (pfl_aware.c). */
     pfl_frame_name_functions(L, "wave:", meta);
     if (luaL_getmetatable(L, PFL_COMPLEX_TYPE) == LUA_TTABLE) {
         lua_getfield(L, -1, "__mul");
