@@ -255,6 +255,25 @@ static void test_bad_input(void **state)
     sh.duration = 1e-6;
     pft_ok(pf_wave_fly(b, 1e-3));
     assert_int_equal(pf_pulse_two_level(a, b, &sh, &li), PF_EINVAL); /* clocks differ */
+    /* The pair's other checks (check_pair): one mass, one grid, finite light. */
+    size_t n2 = 32;
+    pf_grid *g2 = pft_grid(ctx, 1, &n2, &span, NULL);
+    pf_wave *c = empty_like(a), *heavy = NULL, *other = NULL;
+    pft_ok(pf_wave_new(g, pft_mass("133Cs"), &heavy));
+    pft_ok(pf_wave_new(g2, pft_mass("87Rb"), &other));
+    assert_int_equal(pf_pulse_two_level(a, heavy, &sh, &li), PF_EINVAL);
+    assert_non_null(strstr(pf_context_message(ctx), "must have one mass"));
+    assert_int_equal(pf_pulse_two_level(a, other, &sh, &li), PF_EINVAL);
+    assert_non_null(strstr(pf_context_message(ctx), "must share one grid"));
+    li.detuning = NAN;
+    assert_int_equal(pf_pulse_two_level(a, c, &sh, &li), PF_EINVAL);
+    assert_non_null(strstr(pf_context_message(ctx), "must be finite"));
+    li.detuning = 0;
+    pft_ok(pf_pulse_two_level(a, c, &sh, &li)); /* the same pair with finite light */
+    pf_wave_free(c);
+    pf_wave_free(heavy);
+    pf_wave_free(other);
+    pf_grid_release(g2);
     pf_wave_free(a);
     pf_wave_free(b);
     pf_grid_release(g);
