@@ -18,10 +18,6 @@ size_t pf_fft_good_size(size_t n)
     }
 }
 
-/* Fraction of an axis inside the guard bands, for a count near n (the band
- * is 1/32 of the points, so this is 15/16 except on tiny grids). */
-static double usable(size_t n) { return 1.0 - 2.0 * (double)pf_guard_band_points(n) / (double)n; }
-
 /* Bounds of the classical image on axis a at time t: the slowest and the
  * fastest parts of the state, with every kick before t applied in the
  * direction that widens the range (a kick may split the state). */
@@ -132,7 +128,7 @@ pf_status pf_grid_advise(pf_context *ctx, const pf_advice_request *q, pf_advice 
     }
     /* The guard bands are 1/32 of the points at each end: plan with the
      * usable fraction of a large grid and check the result below. */
-    const double fin = usable(1024);
+    const double fin = pf_guard_inner_fraction(1024);
     double chirp_time = 0;
     for (int a = 0; a < q->dim; a++) {
         double klo, khi, xlo, xhi;
@@ -196,5 +192,48 @@ pf_status pf_grid_advise(pf_context *ctx, const pf_advice_request *q, pf_advice 
     out->same_bytes = 2.0 * 16.0 * proposal_points(&out->same, q->dim);
     double nin = proposal_points(&out->scaled_in, q->dim), nout = proposal_points(&out->scaled_out, q->dim);
     out->scaled_bytes = 16.0 * fmax(2 * nin, nin + nout);
+    return PF_OK;
+}
+
+double pf_normal_tail_quantile(double tail)
+{
+    /* erfc is monotonic, so bisection on [0, 40] converges to the last bit
+     * within 200 halvings; no library quantile, so the value is the same on
+     * every libm that rounds erfc correctly. */
+    double lo = 0, hi = 40;
+    for (int i = 0; i < 200; i++) {
+        double mid = 0.5 * (lo + hi);
+        if (erfc(mid / sqrt(2.0)) > tail) lo = mid; else hi = mid;
+    }
+    return hi;
+}
+
+double pf_gaussian_min_wavenumber_width(double width) { return 1.0 / (2.0 * width); }
+
+pf_status pf_advice_gaussian(pf_context *ctx, pf_advice_request *q, const double *width, const double *wavenumber_width,
+                             const double *center, const double *wavenumber)
+{
+    if (q->dim < 1 || q->dim > PF_MAX_DIM) return pf_fail(ctx, PF_EINVAL, "advisor: dimension must be 1..3, got %d", q->dim);
+    double sk[PF_MAX_DIM];
+    for (int a = 0; a < q->dim; a++) {
+        if (!(width[a] > 0) || !isfinite(width[a]))
+            return pf_fail(ctx, PF_EINVAL, "advisor: width on axis %d must be positive (m), got %g", a + 1, width[a]);
+        sk[a] = wavenumber_width ? wavenumber_width[a] : pf_gaussian_min_wavenumber_width(width[a]);
+        if (!(sk[a] > 0) || !isfinite(sk[a]))
+            return pf_fail(ctx, PF_EINVAL, "advisor: wave-number width on axis %d must be positive (1/m), got %g", a + 1,
+                           sk[a]);
+    }
+    /* Extents at least as far as the builders check a Gaussian (6 rms
+     * widths), and its smallest feature, the FWHM: the proposals then pass
+     * the builders' resolution check (one definition, pf_resolution.h). */
+    double z = fmax(pf_normal_tail_quantile(pf_flight_extent_tail(ctx)), PF_GAUSS_REACH);
+    for (int a = 0; a < q->dim; a++) {
+        double c = center ? center[a] : 0.0, k0 = wavenumber ? wavenumber[a] : 0.0;
+        q->feature[a] = PF_GAUSS_FWHM_PER_SIGMA * width[a];
+        q->x_lo[a] = c - z * width[a];
+        q->x_hi[a] = c + z * width[a];
+        q->k_lo[a] = k0 - z * sk[a];
+        q->k_hi[a] = k0 + z * sk[a];
+    }
     return PF_OK;
 }

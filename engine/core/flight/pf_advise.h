@@ -52,4 +52,22 @@ typedef struct pf_advice {
  * the field). */
 pf_status pf_grid_advise(pf_context *ctx, const pf_advice_request *q, pf_advice *out);
 
+/* z with P(|Z| > z) = tail for a standard normal Z, i.e. erfc(z / sqrt 2) =
+ * tail (the two-sided tail quantile; tail in (0, 1)). */
+double pf_normal_tail_quantile(double tail);
+
+/* The wave-number width of a minimum-uncertainty state of rms position
+ * width `width` (m): 1 / (2 width) (1/m), from sigma_x sigma_k = 1/2. */
+double pf_gaussian_min_wavenumber_width(double width);
+
+/* Fills the extents and smallest features of q (q->dim set) for a
+ * Gaussian-like state of rms widths width[a] (m) and wave-number widths
+ * wavenumber_width[a] (1/m; NULL: minimum uncertainty) about center (m,
+ * NULL: 0) and wavenumber (1/m, NULL: 0): each extent reaches z rms widths,
+ * z = the tail quantile of pf_flight_extent_tail(ctx) but at least
+ * PF_GAUSS_REACH (as far as the builders check a Gaussian), and the
+ * smallest feature is the FWHM (pf_resolution.h). */
+pf_status pf_advice_gaussian(pf_context *ctx, pf_advice_request *q, const double *width, const double *wavenumber_width,
+                             const double *center, const double *wavenumber);
+
 #endif

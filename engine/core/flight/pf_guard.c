@@ -35,6 +35,8 @@ size_t pf_guard_band_points(size_t n)
     return b ? b : 1;
 }
 
+double pf_guard_inner_fraction(size_t n) { return 1.0 - 2.0 * (double)pf_guard_band_points(n) / (double)n; }
+
 size_t pf_guard_momentum_band_start(size_t n) { return (n + 1) / 2 - pf_guard_band_points(n); }
 
 /* Band layout.  Position: the first b and the last b points of the axis.
@@ -194,6 +196,17 @@ pf_status pf_wave_extent(pf_wave *w, pf_rep rep, double eps, double *lo, double 
     extent_from_marginals(g, rep, marg, eps, lo, hi);
     for (int a = 0; a < g->dim; a++) pf_context_free(g->ctx, marg[a]);
     return PF_OK;
+}
+
+double pf_flight_extent_tail(const pf_context *ctx) { return fmin(pf_context_guard_threshold(ctx), 1e-2); }
+
+pf_status pf_wave_flight_extents(pf_wave *w, double *x_lo, double *x_hi, double *k_lo, double *k_hi)
+{
+    double eps = pf_flight_extent_tail(w->grid->ctx);
+    pf_rep first = w->rep, second = first == PF_POSITION ? PF_MOMENTUM : PF_POSITION;
+    pf_status s = pf_wave_extent(w, first, eps, first == PF_POSITION ? x_lo : k_lo, first == PF_POSITION ? x_hi : k_hi);
+    if (!s) s = pf_wave_extent(w, second, eps, second == PF_POSITION ? x_lo : k_lo, second == PF_POSITION ? x_hi : k_hi);
+    return s;
 }
 
 /* Point count of a remedy that scales the axis by f: a finite count within

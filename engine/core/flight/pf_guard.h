@@ -34,6 +34,10 @@ double pf_context_guard_threshold(const pf_context *ctx);
 
 /* Points in the band at each end of an axis of n points (>= 1, <= n/2). */
 size_t pf_guard_band_points(size_t n);
+/* Fraction of an axis of n points outside the two guard bands: the usable
+ * share of a grid's span that long flights and the grid advisor plan with
+ * (15/16 except on tiny grids). */
+double pf_guard_inner_fraction(size_t n);
 /* First FFT-storage index of an axis's momentum band: the band is the
  * contiguous range of 2 pf_guard_band_points(n) indices from there (the most
  * positive and most negative wave numbers meet in the middle of storage). */
@@ -67,6 +71,15 @@ pf_status pf_wave_guard(pf_wave *w, pf_guard_figures *out);
  * the probability lies on each side.  Transforms w into rep when needed.
  * eps in [0, 1).  A state touching both edges gives the whole axis. */
 pf_status pf_wave_extent(pf_wave *w, pf_rep rep, double eps, double *lo, double *hi);
+
+/* The tail probability the flight planners leave outside a state's extents:
+ * the guard threshold, at most 1e-2. */
+double pf_flight_extent_tail(const pf_context *ctx);
+/* The state's extents in both representations, as the long flight and the
+ * grid advisor measure them: pf_wave_extent with pf_flight_extent_tail, in
+ * the representation w is in first (the other costs one transform).  Any
+ * output pointer may not be NULL. */
+pf_status pf_wave_flight_extents(pf_wave *w, double *x_lo, double *x_hi, double *k_lo, double *k_hi);
 
 /* ---- hooks for the core's own files (pf_wave.c, pf_longflight.c) ---- */
 /* Called by pf_wave_log_step before it appends *st: measures the band of the

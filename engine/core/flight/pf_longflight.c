@@ -263,6 +263,107 @@ static void pass_done(pf_context *ctx, pass_progress *pp)
     pf_context_progress(ctx, pp->task, (double)pp->done / (double)(pp->total + 1), 1);
 }
 
+/* Index shift per axis from the input to the output grid (the centres
+ * meet); *removed receives the probability that cropping to fewer output
+ * points removes, with a warning above the guard threshold.  Returns whether
+ * some axis grows (padded) in *padded, shrinks in *cropped. */
+static void stage_layout(pf_wave *w, const pf_grid *gout, double norm, long *shift, int *padded, int *cropped,
+                         double *removed)
+{
+    const pf_grid *gin = w->grid;
+    pf_context *ctx = gin->ctx;
+    *removed = 0;
+    *padded = *cropped = 0;
+    for (int a = 0; a < gin->dim; a++) {
+        shift[a] = (long)(gout->n[a] / 2) - (long)(gin->n[a] / 2);
+        if (gout->n[a] > gin->n[a]) *padded = 1;
+        if (gout->n[a] < gin->n[a]) *cropped = 1;
+    }
+    if (!*cropped) return;
+    *removed = gin->dist ? split_cropped_probability(w, shift, gout->n, norm) : cropped_probability(w, shift, gout->n, norm);
+    double thr = pf_context_guard_threshold(ctx);
+    if (*removed > thr)
+        pf_context_warn(ctx,
+                        "scaled flight: cropping the input to the output point count removed %.3g of the "
+                        "probability (threshold %.3g); give at least as many output points as the wave's grid has",
+                        *removed, thr);
+}
+
+/* The wave takes out (NULL: its own storage, transformed in place) on gout,
+ * in position representation. */
+static void adopt_output(pf_wave *w, pf_grid *gout, double complex *out)
+{
+    pf_grid *gin = w->grid;
+    if (out && out != w->store) {
+        pf_free(gin->ctx, w->store, pf_grid_local_bytes(gin));
+        w->store = out;
+    }
+    pf_grid_retain(gout);
+    w->grid = gout;
+    pf_grid_release(gin);
+    w->rep = PF_POSITION;
+    pf_guard_rebind(w);
+}
+
+/* The 1D stage with an unchanged point count: chirps evaluated by segments
+ * (pf_scaled_chirp_1d), no tables and no new storage. */
+static pf_status stage_1d_in_place(pf_wave *w, const double *ta, pf_grid *gout, pass_progress *pp)
+{
+    const pf_grid *gin = w->grid;
+    pf_context *ctx = gin->ctx;
+    const double delta = gout->origin[0] - gin->origin[0];
+    pf_scaled_chirp_1d(w->store, gout->n[0], w->mass, ta[0], gin->dx[0], gout->dx[0], delta, 0, ctx->threads);
+    pass_done(ctx, pp);
+    pf_status s = pf_grid_fft(gout, w->store, ta[0] > 0 ? -1 : +1);
+    if (s) return s;
+    pass_done(ctx, pp);
+    pf_scaled_chirp_1d(w->store, gout->n[0], w->mass, ta[0], gin->dx[0], gout->dx[0], delta, 1, ctx->threads);
+    pass_done(ctx, pp);
+    adopt_output(w, gout, NULL);
+    return PF_OK;
+}
+
+/* The input chirp into a zero-padded (or cropped) copy: input index range
+ * [lo, hi) per slot lands at the output index shifted by sh. */
+static void chirp_copy_pass(double complex *out, const double complex *in, const shape3 *si, const shape3 *so,
+                            const long *sh, const size_t *lo, const size_t *hi, const double complex *const *P,
+                            int threads)
+{
+#pragma omp parallel for collapse(2) num_threads(threads) schedule(static)
+    for (ptrdiff_t i0 = (ptrdiff_t)lo[0]; i0 < (ptrdiff_t)hi[0]; i0++) {
+        for (ptrdiff_t i1 = (ptrdiff_t)lo[1]; i1 < (ptrdiff_t)hi[1]; i1++) {
+            size_t o0 = (size_t)(i0 + sh[0]), o1 = (size_t)(i1 + sh[1]);
+            double complex r = P[0][o0] * P[1][o1];
+            const double complex *src = in + ((size_t)i0 * si->n[1] + (size_t)i1) * si->n[2];
+            double complex *dst = out + (o0 * so->n[1] + o1) * so->n[2] + sh[2];
+            const double complex *p2 = P[2] + sh[2];
+            for (size_t i2 = lo[2]; i2 < hi[2]; i2++) dst[i2] = src[i2] * (r * p2[i2]);
+        }
+    }
+}
+
+/* Per-axis chirp tables of a stage onto gout (pre: input chirp, post:
+ * output chirp and amplitude) in one allocation, returned (NULL: the
+ * context holds the reason). */
+static double complex *stage_chirp_tables(const pf_wave *w, const double *ta, const pf_grid *gout, double complex **pre,
+                                          double complex **post)
+{
+    const pf_grid *gin = w->grid;
+    size_t table_len = 0;
+    for (int a = 0; a < gin->dim; a++) table_len += 2 * gout->n[a];
+    double complex *tables = pf_alloc(gin->ctx, table_len * sizeof(double complex));
+    if (!tables) return NULL;
+    double complex *p = tables;
+    for (int a = 0; a < gin->dim; a++) {
+        pre[a] = p;
+        post[a] = p + gout->n[a];
+        p += 2 * gout->n[a];
+        pf_scaled_chirp_tables(w->mass, ta[a], gout->n[a], gin->dx[a], gout->dx[a], gout->origin[a] - gin->origin[a],
+                               pre[a], post[a]);
+    }
+    return tables;
+}
+
 /* The input chirp on a chunk of whole planes of the output grid (the
  * chunk sweep of pf_fused_transform): the same per-row products as
  * chirp_pass. */
@@ -293,22 +394,10 @@ static void pre_chirp_chunk(void *user, double complex *chunk, size_t begin, siz
  * FFTW's own two sweeps and the second chirp pass. */
 static pf_status fused_stage(pf_wave *w, const double *ta, pf_grid *gout, pass_progress *pp)
 {
-    pf_grid *gin = w->grid;
-    pf_context *ctx = gin->ctx;
-    const int d = gin->dim;
-    size_t table_len = 0;
-    for (int a = 0; a < d; a++) table_len += 2 * gout->n[a];
-    double complex *tables = pf_alloc(ctx, table_len * sizeof(double complex));
-    if (!tables) return pf_context_status(ctx);
+    pf_context *ctx = w->grid->ctx;
     double complex *pre[PF_MAX_DIM], *post[PF_MAX_DIM];
-    double complex *p = tables;
-    for (int a = 0; a < d; a++) {
-        pre[a] = p;
-        post[a] = p + gout->n[a];
-        p += 2 * gout->n[a];
-        pf_scaled_chirp_tables(w->mass, ta[a], gout->n[a], gin->dx[a], gout->dx[a], gout->origin[a] - gin->origin[a],
-                               pre[a], post[a]);
-    }
+    double complex *tables = stage_chirp_tables(w, ta, gout, pre, post);
+    if (!tables) return pf_context_status(ctx);
     pre_chirp c = {gout, pre, pf_phase_kernel()};
     pf_status s = pf_fused_transform(gout, w->store, ta[0] > 0 ? -1 : +1, pre_chirp_chunk, &c, post);
     pf_context_free(ctx, tables);
@@ -316,41 +405,23 @@ static pf_status fused_stage(pf_wave *w, const double *ta, pf_grid *gout, pass_p
     pass_done(ctx, pp);
     pass_done(ctx, pp);
     pass_done(ctx, pp);
-    pf_grid_retain(gout);
-    w->grid = gout;
-    pf_grid_release(gin);
-    w->rep = PF_POSITION;
-    pf_guard_rebind(w);
+    adopt_output(w, gout, NULL);
     return PF_OK;
 }
 
-
 /* The scaled stage: w (position representation) goes to gout with per-axis
- * durations ta; *removed receives the probability cropped away. */
+ * durations ta; *removed receives the probability cropped away.  Three
+ * passes (input chirp, FFT, output chirp) over per-axis chirp tables, in
+ * place when the point count stays, else into a padded or cropped copy. */
 static pf_status scaled_stage(pf_wave *w, const double *ta, pf_grid *gout, double norm, double *removed,
                               pass_progress *pp)
 {
     pf_grid *gin = w->grid;
     pf_context *ctx = gin->ctx;
     const int d = gin->dim;
-    *removed = 0;
     long shift[PF_MAX_DIM] = {0, 0, 0};
-    int padded = 0, cropped = 0;
-    for (int a = 0; a < d; a++) {
-        shift[a] = (long)(gout->n[a] / 2) - (long)(gin->n[a] / 2);
-        if (gout->n[a] > gin->n[a]) padded = 1;
-        if (gout->n[a] < gin->n[a]) cropped = 1;
-    }
-    if (cropped) {
-        *removed = gin->dist ? split_cropped_probability(w, shift, gout->n, norm)
-                             : cropped_probability(w, shift, gout->n, norm);
-        double thr = pf_context_guard_threshold(ctx);
-        if (*removed > thr)
-            pf_context_warn(ctx,
-                            "scaled flight: cropping the input to the output point count removed %.3g of the "
-                            "probability (threshold %.3g); give at least as many output points as the wave's grid has",
-                            *removed, thr);
-    }
+    int padded, cropped;
+    stage_layout(w, gout, norm, shift, &padded, &cropped, removed);
     /* Plan before allocating the output, so planning scratch and output
      * storage are never held at the same time. */
     pf_status s = gout->dist ? PF_OK : pf_grid_plan(gout); /* a split grid plans at its first FFT */
@@ -359,40 +430,15 @@ static pf_status scaled_stage(pf_wave *w, const double *ta, pf_grid *gout, doubl
     /* Same point count: the stage runs in place, with no new storage (the
      * usual case, and the one the benchmark measures). */
     const int in_place = !padded && !cropped;
-    if (in_place && d == 1 && gout->n[0] < ((size_t)1 << 32)) {
-        const double delta = gout->origin[0] - gin->origin[0];
-        pf_scaled_chirp_1d(w->store, gout->n[0], w->mass, ta[0], gin->dx[0], gout->dx[0], delta, 0, ctx->threads);
-        pass_done(ctx, pp);
-        s = pf_grid_fft(gout, w->store, ta[0] > 0 ? -1 : +1);
-        if (s) return s;
-        pass_done(ctx, pp);
-        pf_scaled_chirp_1d(w->store, gout->n[0], w->mass, ta[0], gin->dx[0], gout->dx[0], delta, 1, ctx->threads);
-        pass_done(ctx, pp);
-        pf_grid_retain(gout);
-        w->grid = gout;
-        pf_grid_release(gin);
-        w->rep = PF_POSITION;
-        pf_guard_rebind(w);
-        return PF_OK;
-    }
+    if (in_place && d == 1 && gout->n[0] < ((size_t)1 << 32)) return stage_1d_in_place(w, ta, gout, pp);
     if (in_place && d >= 2 && !gout->dist) return fused_stage(w, ta, gout, pp);
     double complex *out = in_place ? w->store : pf_alloc(ctx, bytes);
     if (!out) return pf_context_status(ctx);
-    size_t table_len = 0;
-    for (int a = 0; a < d; a++) table_len += 2 * gout->n[a];
-    double complex *tables = pf_alloc(ctx, table_len * sizeof(double complex));
+    double complex *pre[PF_MAX_DIM], *post[PF_MAX_DIM];
+    double complex *tables = stage_chirp_tables(w, ta, gout, pre, post);
     if (!tables) {
         if (!in_place) pf_free(ctx, out, bytes);
         return pf_context_status(ctx);
-    }
-    double complex *pre[PF_MAX_DIM], *post[PF_MAX_DIM];
-    double complex *p = tables;
-    for (int a = 0; a < d; a++) {
-        pre[a] = p;
-        post[a] = p + gout->n[a];
-        p += 2 * gout->n[a];
-        pf_scaled_chirp_tables(w->mass, ta[a], gout->n[a], gin->dx[a], gout->dx[a], gout->origin[a] - gin->origin[a], pre[a],
-                     post[a]);
     }
     shape3 si = shape_of(gin), so = shape_of(gout);
     const double complex *P[3], *Q[3];
@@ -421,25 +467,11 @@ static pf_status scaled_stage(pf_wave *w, const double *ta, pf_grid *gout, doubl
         hi[i] = (size_t)h;
     }
     if (padded) memset(out, 0, bytes);
-    const double complex *in = w->store;
     const int threads = ctx->threads;
     /* Pass 1: the input chirp; a zero-padded (or cropped) copy when the point
      * count changes. */
-    if (in_place) {
-        chirp_pass(out, &sl, P, threads);
-    } else {
-#pragma omp parallel for collapse(2) num_threads(threads) schedule(static)
-        for (ptrdiff_t i0 = (ptrdiff_t)lo[0]; i0 < (ptrdiff_t)hi[0]; i0++) {
-            for (ptrdiff_t i1 = (ptrdiff_t)lo[1]; i1 < (ptrdiff_t)hi[1]; i1++) {
-                size_t o0 = (size_t)(i0 + sh[0]), o1 = (size_t)(i1 + sh[1]);
-                double complex r = P[0][o0] * P[1][o1];
-                const double complex *src = in + ((size_t)i0 * si.n[1] + (size_t)i1) * si.n[2];
-                double complex *dst = out + (o0 * so.n[1] + o1) * so.n[2] + sh[2];
-                const double complex *p2 = P[2] + sh[2];
-                for (size_t i2 = lo[2]; i2 < hi[2]; i2++) dst[i2] = src[i2] * (r * p2[i2]);
-            }
-        }
-    }
+    if (in_place) chirp_pass(out, &sl, P, threads);
+    else chirp_copy_pass(out, w->store, &si, &so, sh, lo, hi, P, threads);
     pass_done(ctx, pp);
     int forward = ta[0] > 0; /* all stage durations share the flight's sign */
     s = gout->dist ? pf_dist_fft_natural(gout, out, forward ? -1 : +1) : pf_grid_fft(gout, out, forward ? -1 : +1);
@@ -453,14 +485,7 @@ static pf_status scaled_stage(pf_wave *w, const double *ta, pf_grid *gout, doubl
     chirp_pass(out, &sl, Q, threads);
     pass_done(ctx, pp);
     pf_context_free(ctx, tables);
-    /* Move the wave to its new grid. */
-    if (!in_place) pf_free(ctx, w->store, pf_grid_local_bytes(gin));
-    w->store = out;
-    pf_grid_retain(gout);
-    w->grid = gout;
-    pf_grid_release(gin);
-    w->rep = PF_POSITION;
-    pf_guard_rebind(w);
+    adopt_output(w, gout, out);
     return PF_OK;
 }
 
@@ -626,10 +651,11 @@ pf_status pf_wave_fly_scaled(pf_wave *w, double t, const size_t *points, const d
     return s;
 }
 
-/* ---- the choosing flight ---- */
+/* ---- the choosing flight: validate, measure the extents, plan the scaled
+ * form, assess each method, choose, execute ---- */
 
-static double inner_fraction(size_t n) { return 1.0 - 2.0 * (double)pf_guard_band_points(n) / (double)n; }
-
+/* The classical image of the state's extents after t: every part moves
+ * with its own wave number (docs/long-flights.md). */
 static void image_at(const pf_long_flight_report *r, double mass, double t, int a, double *lo, double *hi)
 {
     double v1 = PF_HBAR * t * r->k_lo[a] / mass, v2 = PF_HBAR * t * r->k_hi[a] / mass;
@@ -643,201 +669,261 @@ static double overflow(double lo, double hi, double c, double wd)
     return 2.0 * fmax(c - lo, hi - c) / wd;
 }
 
-static pf_status fly_long(pf_wave *w, double t, const pf_long_flight_opts *o, pf_long_flight_report *report)
+/* The scaled form of one long flight and how each method fares. */
+typedef struct long_plan {
+    int has_target;                /* the options name an output grid or part of one */
+    size_t n_out[PF_MAX_DIM];      /* the scaled form's output grid ... */
+    double D[PF_MAX_DIM], c[PF_MAX_DIM];
+    double t1[PF_MAX_DIM], t2[PF_MAX_DIM]; /* ... and its stage durations */
+    int two;                       /* two stages */
+    double same_over, scaled_over; /* largest use of the box, of the window (<= 1 fits) */
+} long_plan;
+
+/* The options alone, before anything is measured or flown. */
+static pf_status check_long_options(pf_wave *w, double t, const pf_long_flight_opts *o, int *has_target)
 {
-    pf_grid *g = w->grid;
+    const pf_grid *g = w->grid;
     pf_context *ctx = g->ctx;
     const int d = g->dim;
-    pf_long_flight_opts none;
-    if (!o) {
-        memset(&none, 0, sizeof none);
-        o = &none;
-    }
-    pf_long_flight_report local;
-    pf_long_flight_report *r = report ? report : &local;
-    memset(r, 0, sizeof *r);
     if (!isfinite(t)) return pf_fail(ctx, PF_EINVAL, "flight time must be finite, got %g", t);
     if (o->method != PF_FLIGHT_AUTO && o->method != PF_FLIGHT_SAME_GRID && o->method != PF_FLIGHT_SCALED)
         return pf_fail(ctx, PF_EINVAL, "unknown flight method %d", (int)o->method);
     if (o->grid && o->grid->dim != d)
         return pf_fail(ctx, PF_EINVAL, "target grid has %d axes, the wave has %d", o->grid->dim, d);
-    int has_target = o->grid != NULL || o->has_centre;
+    *has_target = o->grid != NULL || o->has_centre;
     for (int a = 0; a < d; a++) {
         if (o->points[a] == 1) return pf_fail(ctx, PF_EINVAL, "points on axis %d must be at least 2", a + 1);
         if (o->spacing[a] < 0 || !isfinite(o->spacing[a]))
             return pf_fail(ctx, PF_EINVAL, "spacing on axis %d must be positive, got %g", a + 1, o->spacing[a]);
-        if (o->points[a] || o->spacing[a]) has_target = 1;
+        if (o->points[a] || o->spacing[a]) *has_target = 1;
     }
     if (o->method != PF_FLIGHT_SAME_GRID) {
         size_t want[PF_MAX_DIM];
         for (int a = 0; a < d; a++) want[a] = o->grid ? o->grid->n[a] : o->points[a] ? o->points[a] : g->n[a];
-        pf_status s0 = check_split_points(w, want, "a long flight");
-        if (!s0 && (o->grid || o->method == PF_FLIGHT_SCALED)) s0 = pf_dist_check_regrid(g, o->grid, "a long flight");
-        if (s0) return s0;
+        pf_status s = check_split_points(w, want, "a long flight");
+        if (!s && (o->grid || o->method == PF_FLIGHT_SCALED)) s = pf_dist_check_regrid(g, o->grid, "a long flight");
+        if (s) return s;
     }
-    if (t == 0) {
-        r->method = PF_FLIGHT_SAME_GRID;
-        r->stages = 1;
-        snprintf(r->reason, sizeof r->reason, "a flight of zero duration changes nothing");
-        return pf_wave_fly(w, 0.0);
-    }
-    if (o->method == PF_FLIGHT_SAME_GRID && has_target) {
-        int own = !o->grid || pf_grid_same(o->grid, g);
-        for (int a = 0; a < d && !o->grid; a++)
-            if ((o->points[a] && o->points[a] != g->n[a]) || (o->spacing[a] && o->spacing[a] != g->dx[a]) ||
-                (o->has_centre && o->centre[a] != g->origin[a]))
-                own = 0;
-        if (!own)
-            return pf_fail(ctx, PF_EINVAL,
-                           "method \"same-grid\" keeps the wave's grid; a target grid, points, spacing or centre "
-                           "needs method \"scaled\" or \"auto\"");
-    }
-    /* The state came out of a scaled flight and nothing happened since: its
-     * chirp is undersampled on the coarse grid, so fly back to where that
-     * flight started (the single-FFT form of -t: the chirps cancel, and with
-     * an unchanged point count it lands on the starting grid itself) and fly
-     * the whole time from there.  The log shows both steps. */
-    int returned = 0;
-    if (o->method != PF_FLIGHT_SAME_GRID && w->scaled_from.log_count && w->scaled_from.log_count == w->log.count) {
-        double back = w->scaled_from.duration, origin[PF_MAX_DIM];
-        memcpy(origin, w->scaled_from.origin, sizeof origin);
-        pf_status s0 = pf_wave_fly_scaled(w, -back, NULL, origin);
-        if (s0) return s0;
-        w->scaled_from.log_count = 0;
-        t += back;
-        g = w->grid;
-        returned = 1;
-    }
-    /* The state's extents, measured in the representation it is in first. */
-    double thr = pf_context_guard_threshold(ctx);
-    double eps = fmin(thr, 1e-2);
-    pf_rep first = w->rep, second = first == PF_POSITION ? PF_MOMENTUM : PF_POSITION;
-    pf_status s = pf_wave_extent(w, first, eps, first == PF_POSITION ? r->x_lo : r->k_lo,
-                                 first == PF_POSITION ? r->x_hi : r->k_hi);
-    if (!s) s = pf_wave_extent(w, second, eps, second == PF_POSITION ? r->x_lo : r->k_lo,
-                               second == PF_POSITION ? r->x_hi : r->k_hi);
+    return PF_OK;
+}
+
+/* A forced same-grid flight may name only the wave's own grid. */
+static pf_status check_same_grid_target(const pf_grid *g, const pf_long_flight_opts *o, int has_target)
+{
+    if (o->method != PF_FLIGHT_SAME_GRID || !has_target) return PF_OK;
+    int own = !o->grid || pf_grid_same(o->grid, g);
+    for (int a = 0; a < g->dim && !o->grid; a++)
+        if ((o->points[a] && o->points[a] != g->n[a]) || (o->spacing[a] && o->spacing[a] != g->dx[a]) ||
+            (o->has_centre && o->centre[a] != g->origin[a]))
+            own = 0;
+    if (own) return PF_OK;
+    return pf_fail(g->ctx, PF_EINVAL,
+                   "method \"same-grid\" keeps the wave's grid; a target grid, points, spacing or centre "
+                   "needs method \"scaled\" or \"auto\"");
+}
+
+/* The state came out of a scaled flight and nothing happened since: its
+ * chirp is undersampled on the coarse grid, so fly back to where that
+ * flight started (the single-FFT form of -t: the chirps cancel, and with an
+ * unchanged point count it lands on the starting grid itself) and fly the
+ * whole time from there (*t grows by the way back).  The log shows both
+ * steps. */
+static pf_status return_to_scaled_start(pf_wave *w, const pf_long_flight_opts *o, double *t, int *returned)
+{
+    *returned = 0;
+    if (o->method == PF_FLIGHT_SAME_GRID || !w->scaled_from.log_count || w->scaled_from.log_count != w->log.count)
+        return PF_OK;
+    double back = w->scaled_from.duration, origin[PF_MAX_DIM];
+    memcpy(origin, w->scaled_from.origin, sizeof origin);
+    pf_status s = pf_wave_fly_scaled(w, -back, NULL, origin);
     if (s) return s;
-    /* The scaled form's output grid and stage durations. */
-    size_t n_out[PF_MAX_DIM] = {1, 1, 1};
-    double D[PF_MAX_DIM] = {0, 0, 0}, c[PF_MAX_DIM] = {0, 0, 0}, t1[PF_MAX_DIM] = {0, 0, 0}, t2[PF_MAX_DIM] = {0, 0, 0};
-    for (int a = 0; a < d; a++) {
-        n_out[a] = o->grid ? o->grid->n[a] : o->points[a] ? o->points[a] : g->n[a];
-        double natural = PF_TWO_PI * PF_HBAR * fabs(t) / (w->mass * (double)n_out[a] * g->dx[a]);
-        D[a] = o->grid ? o->grid->dx[a] : o->spacing[a] ? o->spacing[a] : natural;
+    w->scaled_from.log_count = 0;
+    *t += back;
+    *returned = 1;
+    return PF_OK;
+}
+
+/* The scaled form's output grid (point count, spacing) and stage durations. */
+static void plan_scaled(const pf_wave *w, double t, const pf_long_flight_opts *o, long_plan *p, pf_long_flight_report *r)
+{
+    const pf_grid *g = w->grid;
+    for (int a = 0; a < g->dim; a++) {
+        p->n_out[a] = o->grid ? o->grid->n[a] : o->points[a] ? o->points[a] : g->n[a];
+        double natural = PF_TWO_PI * PF_HBAR * fabs(t) / (w->mass * (double)p->n_out[a] * g->dx[a]);
+        p->D[a] = o->grid ? o->grid->dx[a] : o->spacing[a] ? o->spacing[a] : natural;
         r->chirp_time[a] = w->mass * (double)g->n[a] * g->dx[a] * g->dx[a] / (PF_TWO_PI * PF_HBAR);
     }
-    int two = stage_times(w, t, n_out, D, t1, t2);
+    p->two = stage_times(w, t, p->n_out, p->D, p->t1, p->t2);
+}
+
+/* The criteria of pf_longflight.h for both methods, from the extents in r:
+ * fills the image, box and window figures and the scaled form's output grid
+ * of the report, the validity flags and the overflows of p. */
+static void assess_methods(const pf_wave *w, double t, const pf_long_flight_opts *o, long_plan *p,
+                           pf_long_flight_report *r)
+{
+    const pf_grid *g = w->grid;
     int same_ok = 1, scaled_ok = 1;
     double same_over = 0, scaled_over = 0;
-    for (int a = 0; a < d; a++) {
+    for (int a = 0; a < g->dim; a++) {
         double lo1, hi1, lo_s, hi_s;
         image_at(r, w->mass, t, a, &lo1, &hi1);
         r->image_lo[a] = lo1;
         r->image_hi[a] = hi1;
         /* Same grid: the image must stay in the box from 0 to t (it moves
          * linearly, so the two ends suffice). */
-        r->box[a] = inner_fraction(g->n[a]) * g->span[a];
+        r->box[a] = pf_guard_inner_fraction(g->n[a]) * g->span[a];
         double ov = fmax(overflow(r->x_lo[a], r->x_hi[a], g->origin[a], r->box[a]),
                          overflow(lo1, hi1, g->origin[a], r->box[a]));
         same_over = fmax(same_over, ov);
         if (ov > 1) same_ok = 0;
         /* Scaled: the output window must hold the image at t ... */
-        if (o->grid) c[a] = o->grid->origin[a];
-        else if (o->has_centre) c[a] = o->centre[a];
-        else c[a] = 0.5 * (lo1 + hi1);
-        r->window[a] = inner_fraction(n_out[a]) * (double)n_out[a] * D[a];
-        double sv = overflow(lo1, hi1, c[a], r->window[a]);
-        if (two) {
+        if (o->grid) p->c[a] = o->grid->origin[a];
+        else if (o->has_centre) p->c[a] = o->centre[a];
+        else p->c[a] = 0.5 * (lo1 + hi1);
+        const size_t n = p->n_out[a];
+        r->window[a] = pf_guard_inner_fraction(n) * (double)n * p->D[a];
+        double sv = overflow(lo1, hi1, p->c[a], r->window[a]);
+        if (p->two) {
             /* ... the first stage's window the image at t1 (chirp criterion
              * of stage one) ... */
-            double D1 = PF_TWO_PI * PF_HBAR * fabs(t1[a]) / (w->mass * (double)n_out[a] * g->dx[a]);
-            double c1 = g->origin[a] + (c[a] - g->origin[a]) * t1[a] / t;
-            image_at(r, w->mass, t1[a], a, &lo_s, &hi_s);
-            sv = fmax(sv, overflow(lo_s, hi_s, c1, inner_fraction(n_out[a]) * (double)n_out[a] * D1));
+            double D1 = PF_TWO_PI * PF_HBAR * fabs(p->t1[a]) / (w->mass * (double)n * g->dx[a]);
+            double c1 = g->origin[a] + (p->c[a] - g->origin[a]) * p->t1[a] / t;
+            image_at(r, w->mass, p->t1[a], a, &lo_s, &hi_s);
+            sv = fmax(sv, overflow(lo_s, hi_s, c1, pf_guard_inner_fraction(n) * (double)n * D1));
             /* ... and the second stage's integrand, whose chirps nearly
              * cancel, spans r (x extent) + hbar |t| (k extent) / m. */
-            double rr = D[a] / g->dx[a];
+            double rr = p->D[a] / g->dx[a];
             double need = rr * (r->x_hi[a] - r->x_lo[a]) + PF_HBAR * fabs(t) * (r->k_hi[a] - r->k_lo[a]) / w->mass;
             sv = fmax(sv, need / r->window[a]);
         }
         scaled_over = fmax(scaled_over, sv);
         if (sv > 1) scaled_ok = 0;
-        r->out_spacing[a] = D[a];
-        r->out_centre[a] = c[a];
-        r->out_points[a] = n_out[a];
-        r->scaled_time[a] = t1[a];
+        r->out_spacing[a] = p->D[a];
+        r->out_centre[a] = p->c[a];
+        r->out_points[a] = n;
+        r->scaled_time[a] = p->t1[a];
     }
     r->same_grid_ok = same_ok;
     r->scaled_ok = scaled_ok;
-    int target_is_own = o->grid && pf_grid_same(o->grid, g);
-    if (!o->grid && has_target) {
-        target_is_own = 1;
-        for (int a = 0; a < d; a++)
-            if (n_out[a] != g->n[a] || D[a] != g->dx[a] || c[a] != g->origin[a]) target_is_own = 0;
-    }
+    p->same_over = same_over;
+    p->scaled_over = scaled_over;
+}
+
+/* Whether the scaled form would land on the wave's own grid. */
+static int target_is_own(const pf_grid *g, const pf_long_flight_opts *o, const long_plan *p)
+{
+    if (o->grid) return pf_grid_same(o->grid, g);
+    if (!p->has_target) return 0;
+    for (int a = 0; a < g->dim; a++)
+        if (p->n_out[a] != g->n[a] || p->D[a] != g->dx[a] || p->c[a] != g->origin[a]) return 0;
+    return 1;
+}
+
+/* The requested method, or the automatic choice with its reason in r. */
+static pf_flight_method choose_method(const pf_grid *g, const pf_long_flight_opts *o, const long_plan *p,
+                                      pf_long_flight_report *r)
+{
     pf_flight_method m = o->method;
-    if (m == PF_FLIGHT_AUTO) {
-        if (has_target && !target_is_own) {
-            m = PF_FLIGHT_SCALED;
-            snprintf(r->reason, sizeof r->reason, "a target grid was requested, which only the scaled method reaches");
-        } else if (same_ok) {
-            m = PF_FLIGHT_SAME_GRID;
-            snprintf(r->reason, sizeof r->reason,
-                     "the state stays inside its grid for the whole flight (largest use %.2f of the box), so the exact "
-                     "same-grid flight applies", same_over);
-        } else if (scaled_ok) {
-            m = PF_FLIGHT_SCALED;
-            snprintf(r->reason, sizeof r->reason,
-                     "the state would leave its grid (needs %.2f times the box) but the chirp is sampled without "
-                     "aliasing on the scaled grid (uses %.2f of its window)", same_over, scaled_over);
-        } else {
-            m = scaled_over < same_over ? PF_FLIGHT_SCALED : PF_FLIGHT_SAME_GRID;
-            snprintf(r->reason, sizeof r->reason,
-                     "neither method is valid (same-grid needs %.2f times the box, scaled %.2f times its window); "
-                     "used the closer one", same_over, scaled_over);
-        }
-    } else {
+    if (m != PF_FLIGHT_AUTO) {
         snprintf(r->reason, sizeof r->reason, "method \"%s\" was requested", pf_flight_method_name(m));
+        return m;
     }
-    int ok = m == PF_FLIGHT_SAME_GRID ? same_ok : scaled_ok;
-    if (!ok) {
-        double over = m == PF_FLIGHT_SAME_GRID ? same_over : scaled_over;
-        if (m == PF_FLIGHT_SAME_GRID)
-            pf_context_warn(ctx,
-                            "flight guard: a same-grid flight of %g s needs %.2f times the grid's usable box: the "
-                            "state reaches the edge and wraps around. Remedy: enlarge the span by x%.2f or use the "
-                            "scaled method (method=\"scaled\"); the grid advisor (w:grid_advice) proposes both",
-                            t, over, over * 1.1);
-        else
-            pf_context_warn(ctx,
-                            "flight guard: the scaled flight of %g s needs %.2f times the usable output window: "
-                            "the chirp exp(i m x^2 / 2 hbar t) is undersampled and the result aliases. Remedy: "
-                            "reduce the input spacing by x%.2f (more points over the same span); for a short "
-                            "flight use method=\"same-grid\" on a larger grid; see w:grid_advice",
-                            t, over, over * 1.1);
+    if (p->has_target && !target_is_own(g, o, p)) {
+        snprintf(r->reason, sizeof r->reason, "a target grid was requested, which only the scaled method reaches");
+        return PF_FLIGHT_SCALED;
     }
-    if (returned) {
-        size_t len = strlen(r->reason);
-        snprintf(r->reason + len, sizeof r->reason - len,
-                 " (the state first flew back to where its last scaled flight started, then %g s in one go)", t);
+    if (r->same_grid_ok) {
+        snprintf(r->reason, sizeof r->reason,
+                 "the state stays inside its grid for the whole flight (largest use %.2f of the box), so the exact "
+                 "same-grid flight applies", p->same_over);
+        return PF_FLIGHT_SAME_GRID;
     }
+    if (r->scaled_ok) {
+        snprintf(r->reason, sizeof r->reason,
+                 "the state would leave its grid (needs %.2f times the box) but the chirp is sampled without "
+                 "aliasing on the scaled grid (uses %.2f of its window)", p->same_over, p->scaled_over);
+        return PF_FLIGHT_SCALED;
+    }
+    snprintf(r->reason, sizeof r->reason,
+             "neither method is valid (same-grid needs %.2f times the box, scaled %.2f times its window); "
+             "used the closer one", p->same_over, p->scaled_over);
+    return p->scaled_over < p->same_over ? PF_FLIGHT_SCALED : PF_FLIGHT_SAME_GRID;
+}
+
+/* The guard warning of a method that fails its criterion. */
+static void warn_if_invalid(pf_context *ctx, double t, pf_flight_method m, const long_plan *p,
+                            const pf_long_flight_report *r)
+{
+    if (m == PF_FLIGHT_SAME_GRID && !r->same_grid_ok)
+        pf_context_warn(ctx,
+                        "flight guard: a same-grid flight of %g s needs %.2f times the grid's usable box: the "
+                        "state reaches the edge and wraps around. Remedy: enlarge the span by x%.2f or use the "
+                        "scaled method (method=\"scaled\"); the grid advisor (w:grid_advice) proposes both",
+                        t, p->same_over, p->same_over * 1.1);
+    else if (m != PF_FLIGHT_SAME_GRID && !r->scaled_ok)
+        pf_context_warn(ctx,
+                        "flight guard: the scaled flight of %g s needs %.2f times the usable output window: "
+                        "the chirp exp(i m x^2 / 2 hbar t) is undersampled and the result aliases. Remedy: "
+                        "reduce the input spacing by x%.2f (more points over the same span); for a short "
+                        "flight use method=\"same-grid\" on a larger grid; see w:grid_advice",
+                        t, p->scaled_over, p->scaled_over * 1.1);
+}
+
+/* Flies with the chosen method: the same-grid flight, or the scaled form
+ * onto the given grid or the planned one. */
+static pf_status execute_long(pf_wave *w, double t, const pf_long_flight_opts *o, const long_plan *p,
+                              pf_flight_method m, pf_long_flight_report *r)
+{
+    pf_context *ctx = w->grid->ctx;
+    const int d = w->grid->dim;
     r->method = m;
     if (m == PF_FLIGHT_SAME_GRID) {
         r->stages = 1;
         return pf_wave_fly(w, t);
     }
-    r->stages = two ? 2 : 1;
+    r->stages = p->two ? 2 : 1;
     if (o->grid) return fly_onto(w, t, o->grid, "fly_long");
     double span[PF_MAX_DIM];
-    for (int a = 0; a < d; a++) span[a] = D[a] * (double)n_out[a];
-    s = check_image_span(ctx, t, span, d);
+    for (int a = 0; a < d; a++) span[a] = p->D[a] * (double)p->n_out[a];
+    pf_status s = check_image_span(ctx, t, span, d);
     if (s) return s;
     pf_grid *gout;
-    s = pf_grid_new(ctx, d, n_out, span, c, &gout);
+    s = pf_grid_new(ctx, d, p->n_out, span, p->c, &gout);
     if (s) return s;
     s = fly_onto(w, t, gout, "fly_long");
     pf_grid_release(gout);
     return s;
+}
+
+static pf_status fly_long(pf_wave *w, double t, const pf_long_flight_opts *o, pf_long_flight_report *r)
+{
+    memset(r, 0, sizeof *r);
+    long_plan p;
+    memset(&p, 0, sizeof p);
+    pf_status s = check_long_options(w, t, o, &p.has_target);
+    if (s) return s;
+    if (t == 0) {
+        r->method = PF_FLIGHT_SAME_GRID;
+        r->stages = 1;
+        snprintf(r->reason, sizeof r->reason, "a flight of zero duration changes nothing");
+        return pf_wave_fly(w, 0.0);
+    }
+    s = check_same_grid_target(w->grid, o, p.has_target);
+    int returned = 0;
+    if (!s) s = return_to_scaled_start(w, o, &t, &returned);
+    if (!s) s = pf_wave_flight_extents(w, r->x_lo, r->x_hi, r->k_lo, r->k_hi);
+    if (s) return s;
+    plan_scaled(w, t, o, &p, r);
+    assess_methods(w, t, o, &p, r);
+    pf_flight_method m = choose_method(w->grid, o, &p, r);
+    warn_if_invalid(w->grid->ctx, t, m, &p, r);
+    if (returned) {
+        size_t len = strlen(r->reason);
+        snprintf(r->reason + len, sizeof r->reason - len,
+                 " (the state first flew back to where its last scaled flight started, then %g s in one go)", t);
+    }
+    return execute_long(w, t, o, &p, m, r);
 }
 
 /* The long flight as one reported task: a few transforms of possibly very
@@ -846,8 +932,14 @@ static pf_status fly_long(pf_wave *w, double t, const pf_long_flight_opts *o, pf
 pf_status pf_wave_fly_long(pf_wave *w, double t, const pf_long_flight_opts *o, pf_long_flight_report *report)
 {
     pf_context *ctx = w->grid->ctx;
+    pf_long_flight_opts none;
+    if (!o) {
+        memset(&none, 0, sizeof none);
+        o = &none;
+    }
+    pf_long_flight_report local;
     pf_context_progress(ctx, "fly_long", 0, 1);
-    pf_status s = fly_long(w, t, o, report);
+    pf_status s = fly_long(w, t, o, report ? report : &local);
     pf_context_progress(ctx, "fly_long", s ? -1.0 : 1.0, 1);
     return s;
 }

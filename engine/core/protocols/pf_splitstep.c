@@ -520,21 +520,106 @@ static pf_status prepare(evolve_ws *ws)
     return PF_OK;
 }
 
+/* The arguments a call cannot run with: PF_EINVAL naming the value. */
+static pf_status check_spec(pf_context *ctx, int dim, double t, const pf_evolve_spec *spec)
+{
+    if (!isfinite(t)) return pf_fail(ctx, PF_EINVAL, "time must be finite (s), got %g", t);
+    if (spec->order != 2 && spec->order != 4)
+        return pf_fail(ctx, PF_EINVAL, "order must be 2 (Strang) or 4 (Yoshida), got %d", spec->order);
+    if (!isfinite(spec->g)) return pf_fail(ctx, PF_EINVAL, "g must be finite (J m^%d), got %g", dim, spec->g);
+    if (isnan(spec->dt) || isinf(spec->dt) || spec->dt < 0)
+        return pf_fail(ctx, PF_EINVAL, "dt must be finite and positive (s; 0 picks the default), got %g", spec->dt);
+    return PF_OK;
+}
+
+/* The potential's range over the occupied points at the start, for the
+ * default step and the phase warning ([0, 0] without a potential).  A V(x,
+ * t) is probed into ws->vbuf, which the first sub-step then reuses; a
+ * cache vouches for static values checked before (its owner clears it
+ * when they change). */
+static pf_status starting_range(evolve_ws *ws, double peak, double *lo, double *hi)
+{
+    const pf_evolve_spec *spec = ws->spec;
+    pf_wave *w = ws->w;
+    pf_context *ctx = ws->g->ctx;
+    pf_status s;
+    *lo = *hi = 0;
+    if (spec->varying) {
+        ws->vbuf = pf_alloc(ctx, ws->bytes_r);
+        if (!ws->vbuf) return pf_context_status(ctx);
+        if (spec->varying(spec->user, w->clock, ws->vbuf) != 0) return PF_ECALLBACK;
+        if ((s = potential_range(ws->g, ws->vbuf, lo, hi))) return s;
+        occupied_range(w, ws->vbuf, peak, lo, hi);
+        ws->vbuf_time = w->clock;
+        ws->vbuf_valid = 1;
+    } else if (spec->potential) {
+        pf_evolve_cache *c = spec->cache;
+        if (!(c && c->checked == spec->potential && c->ctx == ctx)) {
+            if ((s = potential_range(ws->g, spec->potential, lo, hi))) return s;
+            if (c) {
+                if (c->ctx != ctx) pf_evolve_cache_clear(c);
+                c->ctx = ctx;
+                c->checked = spec->potential;
+            }
+        }
+        occupied_range(w, spec->potential, peak, lo, hi);
+    }
+    return PF_OK;
+}
+
+/* The number of steps for t and the step h = t / n: dt when given, else
+ * the default phase per step over the spread of V + g |psi|^2 (one step of
+ * t when nothing varies); warns when the phase per step is large. */
+static pf_status step_count(evolve_ws *ws, double t, double spread, size_t *steps, double *phase)
+{
+    const pf_evolve_spec *spec = ws->spec;
+    pf_context *ctx = ws->g->ctx;
+    double dt = spec->dt > 0 ? spec->dt : (spread > 0 ? PF_EVOLVE_PHASE_DEFAULT * PF_HBAR / spread : fabs(t));
+    double nsteps = t == 0 ? 0 : ceil(fabs(t) / dt * (1.0 - 1e-12));
+    if (t != 0 && nsteps < 1) nsteps = 1;
+    if (!(nsteps <= MAX_STEPS))
+        return pf_fail(ctx, PF_EINVAL, "%g s in steps of %g s needs %.3g steps, more than %.0f; "
+                       "give a larger dt", t, dt, nsteps, MAX_STEPS);
+    *steps = (size_t)nsteps;
+    ws->h = *steps ? t / (double)*steps : 0.0;
+    *phase = spread * fabs(ws->h) / PF_HBAR;
+    if (*phase > PF_EVOLVE_PHASE_WARN)
+        pf_context_warn(ctx, "evolve: the potential phase per step is %.3g rad (range %.3g J x dt %.3g s / hbar), "
+                        "above %.3g rad; the splitting error may be large - use a smaller dt",
+                        *phase, spread, fabs(ws->h), PF_EVOLVE_PHASE_WARN);
+    return PF_OK;
+}
+
+/* The steps themselves: fused sweeps on a single-process 2D/3D grid
+ * (unless asked for separate steps, or the fused buffers do not fit the
+ * memory cap: the separate steps need none), else separate transforms
+ * (1D; a grid split over MPI ranks, whose kinetic step runs on the
+ * transposed slab, pf_dist_kinetic). */
+static pf_status run_steps(evolve_ws *ws, size_t n, double t, int separate)
+{
+    pf_grid *g = ws->g;
+    const double t0 = ws->w->clock;
+    int fused = g->dim >= 2 && !separate && !g->dist;
+    if (fused) {
+        pf_status s = pf_fused_prepare_chunks(g);
+        if (s == PF_ELIMIT || s == PF_ENOMEM) fused = 0;
+        else if (s) return s;
+    }
+    pf_context_progress(g->ctx, "evolve", 0, (double)n);
+    pf_status s = fused ? run_fused(ws, n, t0, t) : run_separate(ws, n, t0, t);
+    pf_context_progress(g->ctx, "evolve", s ? -1.0 : (double)n, (double)n);
+    return s;
+}
+
 static pf_status evolve(pf_wave *w, double t, const pf_evolve_spec *spec, pf_evolve_info *info, int separate)
 {
     pf_grid *g = w->grid;
     pf_context *ctx = g->ctx;
-    if (!isfinite(t)) return pf_fail(ctx, PF_EINVAL, "time must be finite (s), got %g", t);
-    if (spec->order != 2 && spec->order != 4)
-        return pf_fail(ctx, PF_EINVAL, "order must be 2 (Strang) or 4 (Yoshida), got %d", spec->order);
-    if (!isfinite(spec->g)) return pf_fail(ctx, PF_EINVAL, "g must be finite (J m^%d), got %g", g->dim, spec->g);
-    if (isnan(spec->dt) || isinf(spec->dt) || spec->dt < 0)
-        return pf_fail(ctx, PF_EINVAL, "dt must be finite and positive (s; 0 picks the default), got %g", spec->dt);
-    double norm = pf_wave_last_logged_norm(w);
-    pf_status s = pf_wave_to(w, PF_POSITION);
+    pf_status s = check_spec(ctx, g->dim, t, spec);
     if (s) return s;
+    double norm = pf_wave_last_logged_norm(w);
+    if ((s = pf_wave_to(w, PF_POSITION))) return s;
 
-    /* Potential range at the start, for the default step and the warning. */
     evolve_ws ws;
     memset(&ws, 0, sizeof ws);
     ws.g = g;
@@ -543,95 +628,33 @@ static pf_status evolve(pf_wave *w, double t, const pf_evolve_spec *spec, pf_evo
     ws.sc = make_scheme(spec->order);
     ws.bytes_c = pf_bytes(pf_dist_position_values(g), sizeof(double complex));
     ws.bytes_r = pf_bytes(pf_dist_position_values(g), sizeof(double));
-    double lo = 0, hi = 0, peak = max_density(w);
-    if (spec->varying) {
-        /* Probe V at the start for the range; the first sub-step reuses it. */
-        ws.vbuf = pf_alloc(ctx, ws.bytes_r);
-        if (!ws.vbuf) return pf_context_status(ctx);
-        if (spec->varying(spec->user, w->clock, ws.vbuf) != 0) {
-            ws_free(&ws);
-            return PF_ECALLBACK;
-        }
-        s = potential_range(g, ws.vbuf, &lo, &hi);
-        if (s) {
-            ws_free(&ws);
-            return s;
-        }
-        occupied_range(w, ws.vbuf, peak, &lo, &hi);
-        ws.vbuf_time = w->clock;
-        ws.vbuf_valid = 1;
-    } else if (spec->potential) {
-        /* A cache vouches for values checked before (its owner clears it
-         * when they change). */
-        pf_evolve_cache *c = spec->cache;
-        if (!(c && c->checked == spec->potential && c->ctx == ctx)) {
-            if ((s = potential_range(g, spec->potential, &lo, &hi))) return s;
-            if (c) {
-                if (c->ctx != ctx) pf_evolve_cache_clear(c);
-                c->ctx = ctx;
-                c->checked = spec->potential;
-            }
-        }
-        occupied_range(w, spec->potential, peak, &lo, &hi);
-    }
-    double spread = (hi - lo) + fabs(spec->g) * peak;
-    double dt = spec->dt > 0 ? spec->dt : (spread > 0 ? PF_EVOLVE_PHASE_DEFAULT * PF_HBAR / spread : fabs(t));
-    double nsteps = t == 0 ? 0 : ceil(fabs(t) / dt * (1.0 - 1e-12));
-    if (t != 0 && nsteps < 1) nsteps = 1;
-    if (!(nsteps <= MAX_STEPS)) {
-        ws_free(&ws);
-        return pf_fail(ctx, PF_EINVAL, "%g s in steps of %g s needs %.3g steps, more than %.0f; "
-                       "give a larger dt", t, dt, nsteps, MAX_STEPS);
-    }
-    size_t n = (size_t)nsteps;
-    ws.h = n ? t / (double)n : 0.0;
-    double phase = spread * fabs(ws.h) / PF_HBAR;
-    if (phase > PF_EVOLVE_PHASE_WARN)
-        pf_context_warn(ctx, "evolve: the potential phase per step is %.3g rad (range %.3g J x dt %.3g s / hbar), "
-                        "above %.3g rad; the splitting error may be large - use a smaller dt",
-                        phase, spread, fabs(ws.h), PF_EVOLVE_PHASE_WARN);
+    /* From here every exit goes through done: ws owns what it allocated. */
+    double lo, hi, peak = max_density(w), phase = 0;
+    size_t n = 0;
+    if ((s = starting_range(&ws, peak, &lo, &hi))) goto done;
+    if ((s = step_count(&ws, t, (hi - lo) + fabs(spec->g) * peak, &n, &phase))) goto done;
     if (info) {
         info->steps = n;
         info->dt = ws.h;
         info->phase_per_step = phase;
     }
-    if (n == 0) {
-        ws_free(&ws);
-        pf_wave_log_step(w, "evolve", spec->order == 2 ? "strang" : "yoshida-4", 0.0, 0.0, norm);
-        return PF_OK;
-    }
-    if ((s = prepare(&ws))) {
-        ws_free(&ws);
-        return s;
-    }
-
-    const double t0 = w->clock;
-    /* Split over MPI ranks: separate steps, each kinetic one on the
-     * transposed slab (pf_dist_kinetic). */
-    int fused = g->dim >= 2 && !separate && !g->dist;
-    if (fused) {
-        s = pf_fused_prepare_chunks(g);
-        /* Under a tight memory cap the separate steps, which need no
-         * buffers of their own, still work. */
-        if (s == PF_ELIMIT || s == PF_ENOMEM) fused = 0;
-        else if (s) {
-            ws_free(&ws);
-            return s;
+    if (n > 0) {
+        const double t0 = w->clock;
+        if ((s = prepare(&ws))) goto done;
+        if ((s = run_steps(&ws, n, t, separate))) {
+            pf_guard_forget(w); /* the data changed part-way without a logged step */
+            goto done;
         }
+        w->clock = t0 + t;
     }
-    pf_context_progress(w->grid->ctx, "evolve", 0, (double)n);
-    s = fused ? run_fused(&ws, n, t0, t) : run_separate(&ws, n, t0, t);
-    pf_context_progress(w->grid->ctx, "evolve", s ? -1.0 : (double)n, (double)n);
-    ws_free(&ws);
-    if (s) {
-        pf_guard_forget(w); /* the data changed part-way without a logged step */
-        return s;
-    }
-    w->clock = t0 + t;
     const char *method = spec->order == 2 ? (spec->g != 0 ? "strang-gp" : "strang")
                                           : (spec->g != 0 ? "yoshida-4-gp" : "yoshida-4");
-    pf_wave_log_step(w, "evolve", method, t, 0.0, norm);
-    return PF_OK;
+    /* An empty call logs the scheme's plain name, as before. */
+    if (n == 0) method = spec->order == 2 ? "strang" : "yoshida-4";
+    pf_wave_log_step(w, "evolve", method, n ? t : 0.0, 0.0, norm);
+done:
+    ws_free(&ws);
+    return s;
 }
 
 pf_status pf_wave_evolve(pf_wave *w, double t, const pf_evolve_spec *spec, pf_evolve_info *info)

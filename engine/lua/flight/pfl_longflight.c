@@ -6,7 +6,6 @@
 #include <string.h>
 #include "pf_advise.h"
 #include "pf_constants.h"
-#include "pf_resolution.h"
 #include "pf_farfield.h"
 #include "pf_frame.h"
 #include "pf_guard.h"
@@ -354,12 +353,7 @@ static int l_wave_grid_advice(lua_State *L)
     q.dim = pf_grid_dim(pf_wave_grid(w));
     q.mass = pf_wave_mass(w);
     read_common(L, 2, &q, "grid_advice");
-    double eps = fmin(pf_context_guard_threshold(pfl_ctx(L)), 1e-2);
-    pfl_check(L, pf_wave_extent(w, pf_wave_rep(w), eps, pf_wave_rep(w) == PF_POSITION ? q.x_lo : q.k_lo,
-                                pf_wave_rep(w) == PF_POSITION ? q.x_hi : q.k_hi), "grid_advice");
-    pf_rep other = pf_wave_rep(w) == PF_POSITION ? PF_MOMENTUM : PF_POSITION;
-    pfl_check(L, pf_wave_extent(w, other, eps, other == PF_POSITION ? q.x_lo : q.k_lo,
-                                other == PF_POSITION ? q.x_hi : q.k_hi), "grid_advice");
+    pfl_check(L, pf_wave_flight_extents(w, q.x_lo, q.x_hi, q.k_lo, q.k_hi), "grid_advice");
     double acc[PF_MAX_DIM];
     int accelerated = pfl_frame_acceleration(L, 2, q.dim, acc, "wave:grid_advice");
     pf_frame fr;
@@ -367,18 +361,6 @@ static int l_wave_grid_advice(lua_State *L)
     pf_advice adv;
     pfl_check(L, pf_grid_advise(pfl_ctx(L), &q, &adv), "grid_advice");
     return push_advice(L, &q, &adv, accelerated ? acc : NULL, pf_wave_frame_moved(w) ? &fr : NULL);
-}
-
-/* z with P(|Z| > z) = eps for a standard normal Z: erfc(z / sqrt 2) = eps,
- * solved by bisection (erfc is monotonic). */
-static double gauss_tail_z(double eps)
-{
-    double lo = 0, hi = 40;
-    for (int i = 0; i < 200; i++) {
-        double mid = 0.5 * (lo + hi);
-        if (erfc(mid / sqrt(2.0)) > eps) lo = mid; else hi = mid;
-    }
-    return hi;
 }
 
 /* pf.grid_advice{mass = kg, time = s, width = sigma_x, wavenumber_width = sigma_k,
@@ -400,24 +382,13 @@ static int l_grid_advice(lua_State *L)
     pfl_field_vector(L, 1, "width", q.dim, w, 1);
     for (int a = 0; a < q.dim; a++)
         if (!(w[a] > 0)) return luaL_error(L, "grid_advice: field 'width' must be positive, got %f", w[a]);
-    if (!pfl_field_vector(L, 1, "wavenumber_width", q.dim, sk, 0))
-        for (int a = 0; a < q.dim; a++) sk[a] = 1.0 / (2.0 * w[a]); /* minimum-uncertainty state */
-    for (int a = 0; a < q.dim; a++)
+    int has_sk = pfl_field_vector(L, 1, "wavenumber_width", q.dim, sk, 0); /* default: minimum uncertainty */
+    for (int a = 0; a < q.dim && has_sk; a++)
         if (!(sk[a] > 0)) return luaL_error(L, "grid_advice: field 'wavenumber_width' must be positive, got %f", sk[a]);
     pfl_field_vector(L, 1, "center", q.dim, c, 0);
     pfl_field_vector(L, 1, "wavenumber", q.dim, k0, 0);
     read_common(L, 1, &q, "grid_advice");
-    /* Extents at least as far as the builders check a Gaussian (6 rms
-     * widths), and its smallest feature, the FWHM: the proposals then pass
-     * the builders' resolution check (one definition, pf_resolution.h). */
-    double z = fmax(gauss_tail_z(fmin(pf_context_guard_threshold(pfl_ctx(L)), 1e-2)), PF_GAUSS_REACH);
-    for (int a = 0; a < q.dim; a++) {
-        q.feature[a] = PF_GAUSS_FWHM_PER_SIGMA * w[a];
-        q.x_lo[a] = c[a] - z * w[a];
-        q.x_hi[a] = c[a] + z * w[a];
-        q.k_lo[a] = k0[a] - z * sk[a];
-        q.k_hi[a] = k0[a] + z * sk[a];
-    }
+    pfl_check(L, pf_advice_gaussian(pfl_ctx(L), &q, w, has_sk ? sk : NULL, c, k0), "grid_advice");
     double acc[PF_MAX_DIM];
     int accelerated = pfl_frame_acceleration(L, 1, q.dim, acc, "pf.grid_advice");
     pf_advice adv;
