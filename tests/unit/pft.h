@@ -24,13 +24,17 @@
 
 /* ---- near-equality ----------------------------------------------------
  * cmocka 1.1's float comparison works in single precision; this one is
- * double.  Passes when |got - want| <= rel * |want| + abs_tol.  A failing
- * check prints both values, the difference and the tolerance.  what names
- * the quantity and the source of the reference value (or is NULL); a
- * labelled check prints one "ok" line with its difference the first time it
- * passes (once per call site, so checks inside loops do not flood the suite
- * log, which keeps these lines). */
-#define pft_near(got, want, rel, abs_tol, what)                                                                   \
+ * double.  pft_near(got, want, rel, abs_tol [, what]) passes when
+ * |got - want| <= rel * |want| + abs_tol.  A failing check prints both
+ * values, the difference and the tolerance.  what names the quantity and the
+ * source of the reference value (optional, or NULL); a labelled check prints
+ * one "ok" line with its difference the first time it passes (once per call
+ * site, so checks inside loops do not flood the suite log, which keeps these
+ * lines). */
+#define PFT_NEAR_PICK(_1, _2, _3, _4, _5, name, ...) name
+#define pft_near(...) PFT_NEAR_PICK(__VA_ARGS__, pft_near5, pft_near4, )(__VA_ARGS__)
+#define pft_near4(got, want, rel, abs_tol) pft_near5(got, want, rel, abs_tol, NULL)
+#define pft_near5(got, want, rel, abs_tol, what)                                                                  \
     do {                                                                                                          \
         static int pft_reported_;                                                                                 \
         pft_near_at((got), (want), (rel), (abs_tol), (what), &pft_reported_, #got, __FILE__, __LINE__);           \
