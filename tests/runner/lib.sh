@@ -102,3 +102,15 @@ agree() {
     fail "$5: not so, $(printf '%s' "$worst" | tail -1)"
   fi
 }
+
+# law_within FILE REGEX TOL WHAT: the probe's "law NAME got want" lines in
+# FILE whose NAME matches REGEX (awk) follow their closed form: the worst
+# |got - want| / |want| (|got - want| where want is 0), over at least one
+# line, is under TOL.  One "ok WHAT to WORST" line, or a failure.
+law_within() {
+  local worst
+  worst=$(awk -v name="$2" '$1 == "law" && $2 ~ name { c++; d = $3 - $4; if (d < 0) d = -d; s = $4 < 0 ? -$4 : $4;
+    d = s > 0 ? d / s : d; if (d > m) m = d } END { if (c) printf "%.2g", m; else print "none" }' "$1")
+  awk -v m="$worst" -v t="$3" 'BEGIN { exit !(m != "none" && m + 0 < t) }' && ok "$4 to $worst" ||
+    fail "$4: off by $worst"
+}

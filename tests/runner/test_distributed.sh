@@ -34,10 +34,7 @@ done
 
 # The flight against the textbook laws (the discrete grid samples the
 # Gaussian: agreement to 1e-8 relative is the sampling, not the flight).
-law=$(awk '$1 == "law" { d = ($3 - $4) / $4; if (d < 0) d = -d; if (d > m) m = d } END { printf "%.2g", m }' "$work/ranks4.txt")
-awk -v m="$law" 'BEGIN { exit !(m < 1e-8) }' &&
-  ok "-n 4: centre and widths after 1.5 ms follow the free Gaussian laws (textbook) to $law" ||
-  fail "-n 4: free Gaussian laws missed by $law"
+law_within "$work/ranks4.txt" . 1e-8 "-n 4: centre and widths after 1.5 ms follow the free Gaussian laws (textbook)"
 
 # Long flights (probe_longflight.lua): w:fly_scaled, w:fly_long choosing
 # the scaled or the same-grid method from extents reduced over the ranks,
@@ -67,13 +64,9 @@ done
 # falls by a t^2 / 2); the two-stage flight lands on
 # about one point per rms width, 1e-5 (2.9e-6 seen).
 for pre in scaled long again short sheet fall padded; do
-  dev=$(awk -v p="$pre" '$1 == "law" && index($2, p "_") == 1 { d = ($3 - $4) / $4; if (d < 0) d = -d; if (d > m) m = d } END { printf "%.2g", m }' "$work/xranks4.txt")
-  awk -v m="$dev" 'BEGIN { exit !(m > 0 && m < 1e-8) }' && ok "long -n 4: $pre flight follows the free Gaussian laws to $dev" ||
-    fail "long -n 4: $pre flight misses the free Gaussian laws by $dev"
+  law_within "$work/xranks4.txt" "^${pre}_" 1e-8 "long -n 4: $pre flight follows the free Gaussian laws"
 done
-dev=$(awk '$1 == "law" && (index($2, "twostage_") == 1 || index($2, "target_") == 1) { d = ($3 - $4) / $4; if (d < 0) d = -d; if (d > m) m = d } END { printf "%.2g", m }' "$work/xranks3.txt")
-awk -v m="$dev" 'BEGIN { exit !(m > 0 && m < 1e-5) }' && ok "long -n 3: the two-stage flights (a spacing, a target grid) follow the free Gaussian laws to $dev" ||
-  fail "long -n 3: two-stage flights miss the free Gaussian laws by $dev"
+law_within "$work/xranks3.txt" "^(twostage|target)_" 1e-5 "long -n 3: the two-stage flights (a spacing, a target grid) follow the free Gaussian laws"
 has_choice() { grep -q "^text $1" "$work/xranks4.txt"; }
 has_choice "choice scaled stages 1 same_ok false scaled_ok true" && has_choice "short same-grid" &&
   has_choice "twostage scaled stages 2 scaled_ok true" && has_choice "again scaled" &&
@@ -101,12 +94,8 @@ done
 # sigma0 sqrt(1 + omega^2 t^2) (1e-7: the grid's sampling, 2.3e-8 seen);
 # the frame carries the fall -g t1^2 / 2 - g t1 t2 and the drift hbar k t / m
 # (1e-9).
-dev=$(awk '$1 == "law" && $2 ~ /^ballistic_width/ { d = ($3 - $4) / $4; if (d < 0) d = -d; if (d > m) m = d } END { printf "%.2g", m }' "$work/pranks4.txt")
-awk -v m="$dev" 'BEGIN { exit !(m > 0 && m < 1e-7) }' && ok "expand -n 4: released widths follow sigma0 sqrt(1 + omega^2 t^2) to $dev" ||
-  fail "expand -n 4: released widths miss the free law by $dev"
-dev=$(awk '$1 == "law" && $2 ~ /^mf_/ { d = ($3 - $4) / $4; if (d < 0) d = -d; if (d > m) m = d } END { printf "%.2g", m }' "$work/pranks3.txt")
-awk -v m="$dev" 'BEGIN { exit !(m > 0 && m < 1e-9) }' && ok "expand -n 3: the interacting cloud falls and drifts with its frame to $dev" ||
-  fail "expand -n 3: fall or drift off by $dev"
+law_within "$work/pranks4.txt" "^ballistic_width" 1e-7 "expand -n 4: released widths follow sigma0 sqrt(1 + omega^2 t^2)"
+law_within "$work/pranks3.txt" "^mf_" 1e-9 "expand -n 3: the interacting cloud falls and drifts with its frame"
 
 # Split-step evolution (probe_evolve.lua): relax without and with a mean
 # field, a kick, evolve with g in the trap, a slit; 18 x 24 points, so 4
@@ -124,22 +113,14 @@ done
 # not (Kohn's theorem); both textbook.  Tolerances: the energy to 1e-9
 # (sampling and the O(dtau^2) offset of imaginary time at dtau = 20 us), the
 # centre to 1e-4 (the O(dt^2) splitting error at dt = 20 us).
-e0=$(awk '$1 == "law" && $2 == "energy0" { d = ($3 - $4) / $4; if (d < 0) d = -d; printf "%.2g", d }' "$work/eranks4.txt")
-awk -v m="$e0" 'BEGIN { exit !(m < 1e-9) }' && ok "-n 4: relaxed energy is hbar (wx + wy) / 2 to $e0" ||
-  fail "-n 4: relaxed energy off by $e0"
-kohn=$(awk '$1 == "law" && $2 == "kohn" { d = ($3 - $4) / $4; if (d < 0) d = -d; printf "%.2g", d }' "$work/eranks4.txt")
-awk -v m="$kohn" 'BEGIN { exit !(m < 1e-4) }' && ok "-n 4: the kicked centre follows (hbar k / m w) sin(w t) to $kohn" ||
-  fail "-n 4: kicked centre off by $kohn"
+law_within "$work/eranks4.txt" "^energy0$" 1e-9 "-n 4: relaxed energy is hbar (wx + wy) / 2"
+law_within "$work/eranks4.txt" "^kohn$" 1e-4 "-n 4: the kicked centre follows (hbar k / m w) sin(w t)"
 # An acceleration (uniform force, each rank sampling -m a.x at its points)
 # and an envelope on the trap: the centre follows (a / w^2)(1 - cos w t)
 # (to the O(dt^2) splitting error, 1e-4) and the relaxed state sags by
 # a / w^2 (1e-5; textbook, Ehrenfest's theorem exact for a quadratic trap).
-tilt=$(awk '$1 == "law" && ($2 == "tiltx" || $2 == "tilty") { d = ($3 - $4) / $4; if (d < 0) d = -d; if (d > m) m = d } END { printf "%.2g", m }' "$work/eranks4.txt")
-awk -v m="$tilt" 'BEGIN { exit !(m < 1e-4) }' && ok "-n 4: under an acceleration the centre follows (a / w^2)(1 - cos w t) to $tilt" ||
-  fail "-n 4: accelerated centre off by $tilt"
-sag=$(awk '$1 == "law" && ($2 == "sagx" || $2 == "sagy") { d = ($3 - $4) / $4; if (d < 0) d = -d; if (d > m) m = d } END { printf "%.2g", m }' "$work/eranks4.txt")
-awk -v m="$sag" 'BEGIN { exit !(m < 1e-5) }' && ok "-n 4: relaxed under an acceleration the state sags by a / w^2 to $sag" ||
-  fail "-n 4: sag off by $sag"
+law_within "$work/eranks4.txt" "^tilt[xy]$" 1e-4 "-n 4: under an acceleration the centre follows (a / w^2)(1 - cos w t)"
+law_within "$work/eranks4.txt" "^sag[xy]$" 1e-5 "-n 4: relaxed under an acceleration the state sags by a / w^2"
 
 # Files (probe_files.lua): rank 0 gathers and writes.  start.h5 (a density
 # no transform touched) must be byte-identical to the single process's file;
@@ -248,9 +229,7 @@ for n in 2 4; do
 done
 # The Thomas-Fermi widths against R / sqrt(d + 4) (the inverted parabola's
 # second moment in 3D; the grid samples its sharp edge: 4e-4 seen).
-tfw=$(awk '$1 == "law" && $2 ~ /^tf_width/ { d = ($3 - $4) / $4; if (d < 0) d = -d; if (d > m) m = d } END { printf "%.2g", m }' "$work/branks4.txt")
-awk -v m="$tfw" 'BEGIN { exit !(m < 1e-3) }' && ok "-n 4: Thomas-Fermi widths are R / sqrt(7) to $tfw" ||
-  fail "-n 4: Thomas-Fermi widths off by $tfw"
+law_within "$work/branks4.txt" "^tf_width" 1e-3 "-n 4: Thomas-Fermi widths are R / sqrt(7)"
 
 # Single samples (probe_samples.lua): w:psi, w:phi, w:set_psi, w:set_phi on
 # a distributed wave.  The rank holding the sample (its position slab, or
@@ -275,19 +254,12 @@ for n in 1 2 4; do
   agree "$work/sranks1.txt" "$work/sranks$n.txt" flown,law 0 "samples -n $n: phi and set_phi on the transposed slabs bit-identical to -n 1"
   agree "$work/splain.txt" "$work/sranks$n.txt" flown 1e-14 "samples -n $n: phi and set_phi within 1e-14 of one process"
 done
-rel() { awk -v name="$1" '$1 == "law" && $2 == name { d = $3 - $4; if (d < 0) d = -d; s = $4 < 0 ? -$4 : $4; printf "%.2g", (s > 0 ? d / s : d) }' "$2"; }
 phiw=$(awk '$1 == "law" && $2 == "phiworst" { printf "%.2g", $3 }' "$work/sranks4.txt")
 awk -v m="$phiw" 'BEGIN { exit !(m != "" && m < 1e-4) }' &&
   ok "samples -n 4: phi on every transposed slab is the Gaussian's Fourier transform to $phiw of the peak" ||
   fail "samples -n 4: phi off the Gaussian's Fourier transform by $phiw of the peak"
-setn=$(rel setnorm "$work/sranks4.txt")
-awk -v m="$setn" 'BEGIN { exit !(m != "" && m < 1e-12) }' &&
-  ok "samples -n 4: set_psi changes the norm by the written |psi|^2 dV to $setn" ||
-  fail "samples -n 4: set_psi norm change off by $setn"
-pars=$(rel parseval "$work/sranks4.txt")
-awk -v m="$pars" 'BEGIN { exit !(m != "" && m < 1e-12) }' &&
-  ok "samples -n 4: set_phi changes the norm by the written |phi|^2 dk (Parseval) to $pars" ||
-  fail "samples -n 4: set_phi norm change off by $pars"
+law_within "$work/sranks4.txt" "^setnorm$" 1e-12 "samples -n 4: set_psi changes the norm by the written |psi|^2 dV"
+law_within "$work/sranks4.txt" "^parseval$" 1e-12 "samples -n 4: set_phi changes the norm by the written |phi|^2 dk (Parseval)"
 
 # pf.potential objects (probe_potential.lua): each rank samples, keeps and
 # exponentiates its own points (from a function or from a table of every
@@ -316,17 +288,10 @@ for n in 1 2 4; do
     ok "potential objects -n $n: the object gives the function's results to $same" ||
     fail "potential objects -n $n: object and function differ by $same"
 done
-plaw() { awk -v name="$1" '$1 == "law" && $2 ~ name { d = ($3 - $4) / $4; if (d < 0) d = -d; if (d > m) m = d } END { printf "%.2g", m }' "$work/pranks4.txt"; }
-e0=$(plaw '^energy0$'); awk -v m="$e0" 'BEGIN { exit !(m < 1e-9) }' &&
-  ok "potential objects -n 4: relaxed energy is hbar (wx + wy) / 2 to $e0" || fail "potential objects -n 4: energy off by $e0"
-kohn=$(plaw '^kohn$'); awk -v m="$kohn" 'BEGIN { exit !(m < 1e-4) }' &&
-  ok "potential objects -n 4: the kicked centre follows (hbar k / m w) sin(w t) to $kohn" || fail "potential objects -n 4: Kohn off by $kohn"
-tilt=$(plaw '^tilt'); awk -v m="$tilt" 'BEGIN { exit !(m < 1e-4) }' &&
-  ok "potential objects -n 4: under an acceleration the centre follows (a / w^2)(1 - cos w t) to $tilt" ||
-  fail "potential objects -n 4: tilted centre off by $tilt"
-sag=$(plaw '^sag'); awk -v m="$sag" 'BEGIN { exit !(m < 1e-5) }' &&
-  ok "potential objects -n 4: relaxed through an object under an acceleration the state sags by a / w^2 to $sag" ||
-  fail "potential objects -n 4: sag off by $sag"
+law_within "$work/pranks4.txt" '^energy0$' 1e-9 "potential objects -n 4: relaxed energy is hbar (wx + wy) / 2"
+law_within "$work/pranks4.txt" '^kohn$' 1e-4 "potential objects -n 4: the kicked centre follows (hbar k / m w) sin(w t)"
+law_within "$work/pranks4.txt" '^tilt' 1e-4 "potential objects -n 4: under an acceleration the centre follows (a / w^2)(1 - cos w t)"
+law_within "$work/pranks4.txt" '^sag' 1e-5 "potential objects -n 4: relaxed through an object under an acceleration the state sags by a / w^2"
 
 # Moving frames (probe_frames.lua): w:frame, w:x_axis and w:k_axis read
 # the frame every rank keeps alike; w:fall runs its momentum pass on the
@@ -350,11 +315,7 @@ for n in 1 2 4; do
   agree "$work/fmranks1.txt" "$work/fmranks$n.txt" flown,law 0 "frames -n $n: fall, fall from a moved frame and arrival under an acceleration bit-identical to -n 1"
   agree "$work/fmplain.txt" "$work/fmranks$n.txt" flown 1e-14 "frames -n $n: fall, fall from a moved frame and arrival under an acceleration within 1e-14 of one process"
 done
-flaw() { awk -v name="$1" '$1 == "law" && $2 ~ name { d = ($3 - $4) / $4; if (d < 0) d = -d; if (d > m) m = d } END { printf "%.2g", m }' "$work/fmranks4.txt"; }
-check_law() { # NAME-REGEX TOL WHAT
-  local m; m=$(flaw "$1")
-  awk -v m="$m" -v t="$2" 'BEGIN { exit !(m != "" && m < t) }' && ok "frames -n 4: $3 to $m" || fail "frames -n 4: $3 off by $m"
-}
+check_law() { law_within "$work/fmranks4.txt" "$1" "$2" "frames -n 4: $3"; } # NAME-REGEX TOL WHAT
 check_law '^frame[XV]$' 1e-12 "the frame falls by g t^2 / 2 at g t"
 check_law '^fall[xy]$' 1e-9 "w:fall moves the centre by v0 t + a t^2 / 2"
 check_law '^fallw[xy]$' 1e-9 "w:fall spreads the packet by the free width law"
@@ -423,14 +384,8 @@ for n in 1 2 4; do
     fail "default planning -n $n: the one-process run changed the distributed run's plans"
   agree "$work/dplain.txt" "$work/dagain$n-1.txt" flown 1e-14 "default planning -n $n: rerun within 1e-14 of one process"
 done
-vlaw=$(awk '$1 == "law" && $2 ~ /^var/ { d = ($3 - $4) / $4; if (d < 0) d = -d; if (d > m) m = d } END { printf "%.2g", m }' "$work/dranks4.txt")
-awk -v m="$vlaw" 'BEGIN { exit !(m < 1e-8) }' &&
-  ok "default planning -n 4: the covariance's diagonal is the free Gaussian's variance law to $vlaw" ||
-  fail "default planning -n 4: variance law missed by $vlaw"
-dkohn=$(awk '$1 == "law" && $2 == "kohn" { d = ($3 - $4) / $4; if (d < 0) d = -d; printf "%.2g", d }' "$work/dranks4.txt")
-awk -v m="$dkohn" 'BEGIN { exit !(m < 1e-4) }' &&
-  ok "default planning -n 4: the kicked centre with g follows (hbar k / m w) sin(w t) to $dkohn" ||
-  fail "default planning -n 4: kicked centre off by $dkohn"
+law_within "$work/dranks4.txt" "^var" 1e-8 "default planning -n 4: the covariance's diagonal is the free Gaussian's variance law"
+law_within "$work/dranks4.txt" "^kohn$" 1e-4 "default planning -n 4: the kicked centre with g follows (hbar k / m w) sin(w t)"
 
 # The memory cap counts this rank's share (probe_cap.lua): a 32^3 grid over
 # a 700 kB cap is refused as one process and fits on 4 ranks (8 planes each).

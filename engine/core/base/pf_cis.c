@@ -84,27 +84,24 @@ static inline __attribute__((always_inline)) void cos_sin(const double *restrict
             }
 }
 
-static inline __attribute__((always_inline)) void cis_minus(const double *phase, double complex *out, size_t n)
+/* out[i] = exp(-i phase[i]) (multiply 0) or out[i] *= exp(-i phase[i])
+ * (multiply 1), a block of phases at a time; inlined with a constant
+ * multiply, so each entry point keeps only its own loop. */
+static inline __attribute__((always_inline)) void cis_apply(const double *phase, double complex *out, size_t n,
+                                                           int multiply)
 {
     double c[BLOCK], s[BLOCK];
     for (size_t b = 0; b < n; b += BLOCK) {
         size_t m = n - b < BLOCK ? n - b : BLOCK;
         cos_sin(phase + b, c, s, m);
-        double *o = (double *)(out + b);
-        for (size_t i = 0; i < m; i++) {
-            o[2 * i] = c[i];
-            o[2 * i + 1] = -s[i];
+        double *z = (double *)(out + b);
+        if (!multiply) {
+            for (size_t i = 0; i < m; i++) {
+                z[2 * i] = c[i];
+                z[2 * i + 1] = -s[i];
+            }
+            continue;
         }
-    }
-}
-
-static inline __attribute__((always_inline)) void cis_multiply(double complex *d, const double *phase, size_t n)
-{
-    double c[BLOCK], s[BLOCK];
-    for (size_t b = 0; b < n; b += BLOCK) {
-        size_t m = n - b < BLOCK ? n - b : BLOCK;
-        cos_sin(phase + b, c, s, m);
-        double *z = (double *)(d + b);
         /* (x + i y)(c - i s) = (x c + y s) + i (y c - x s) */
         for (size_t i = 0; i < m; i++) {
             double x = z[2 * i], y = z[2 * i + 1];
@@ -119,11 +116,11 @@ static inline __attribute__((always_inline)) void cis_multiply(double complex *d
 #define PATH_COPIES(SUFFIX, TARGET)                                                                               \
     TARGET NO_CONTRACT static void cis_minus_##SUFFIX(const double *phase, double complex *out, size_t n)          \
     {                                                                                                             \
-        cis_minus(phase, out, n);                                                                                 \
+        cis_apply(phase, out, n, 0);                                                                              \
     }                                                                                                             \
     TARGET NO_CONTRACT static void cis_multiply_##SUFFIX(double complex *d, const double *phase, size_t n)        \
     {                                                                                                             \
-        cis_multiply(d, phase, n);                                                                                \
+        cis_apply(phase, d, n, 1);                                                                                \
     }
 
 PATH_COPIES(plain, )

@@ -136,49 +136,25 @@ static void mask_block(void *user, size_t begin, size_t end, const size_t *start
     }
 }
 
-/* Runs body over fixed blocks and sums the per-block partials in order
- * (over MPI ranks: the same blocks, pf_dist_reduce, so the same bits). */
+/* The mask over the fixed blocks of pf_reduce_blocks, the removed
+ * probability summed block by block in order (over MPI ranks: the same
+ * blocks, so the same bits). */
 double pf_kernel_axis_mask(pf_grid *g, double complex *data, const double complex *const *tables)
 {
-    if (g->dist) {
-        mask_job job = {g, data, tables};
-        double sum = 0;
-        pf_dist_reduce(g, PF_POSITION, 1, mask_block, &job, &sum);
-        return sum;
-    }
-    const int d = g->dim;
-    const size_t *n = g->n;
-    const size_t nblocks = (g->total + PF_KERNEL_BLOCK - 1) / PF_KERNEL_BLOCK;
-    double *part = g->reduce_part;
-    ptrdiff_t nb = (ptrdiff_t)nblocks;
-#pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
-    for (ptrdiff_t b = 0; b < nb; b++) {
-        size_t begin = (size_t)b * PF_KERNEL_BLOCK;
-        size_t end = begin + PF_KERNEL_BLOCK < g->total ? begin + PF_KERNEL_BLOCK : g->total;
-        size_t idx[PF_MAX_DIM] = {0, 0, 0};
-        size_t rest = begin;
-        for (int a = d - 1; a >= 0; a--) {
-            idx[a] = rest % n[a];
-            rest /= n[a];
-        }
-        double acc = 0;
-        for (size_t off = begin; off < end; off++) {
-            double complex f = 1.0;
-            for (int a = 0; a < d; a++)
-                if (tables[a]) f *= tables[a][idx[a]];
-            double rho = abs2(data[off]);
-            acc += rho * (1.0 - abs2(f));
-            data[off] *= f;
-            for (int a = d - 1; a >= 0; a--) {
-                if (++idx[a] < n[a]) break;
-                idx[a] = 0;
-            }
-        }
-        part[b] = acc;
-    }
+    mask_job job = {g, data, tables};
     double sum = 0;
-    for (size_t b = 0; b < nblocks; b++) sum += part[b];
+    pf_reduce_blocks(g, 1, mask_block, &job, &sum);
     return sum;
+}
+
+void pf_kernel_field_block(void *user, size_t begin, size_t end, const size_t *start, double *acc)
+{
+    (void)start;
+    const pf_field_job *job = user;
+    for (size_t i = begin; i < end; i++) {
+        acc[0] += abs2(job->data[i]) * (1.0 - abs2(job->field[i]));
+        job->data[i] *= job->field[i];
+    }
 }
 
 double pf_kernel_field_mask(pf_grid *g, double complex *data, const double complex *field, int want_removed)
@@ -189,22 +165,9 @@ double pf_kernel_field_mask(pf_grid *g, double complex *data, const double compl
         for (ptrdiff_t i = 0; i < total; i++) data[i] *= field[i];
         return 0;
     }
-    const size_t nblocks = (g->total + PF_KERNEL_BLOCK - 1) / PF_KERNEL_BLOCK;
-    double *part = g->reduce_part;
-    ptrdiff_t nb = (ptrdiff_t)nblocks;
-#pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
-    for (ptrdiff_t b = 0; b < nb; b++) {
-        size_t begin = (size_t)b * PF_KERNEL_BLOCK;
-        size_t end = begin + PF_KERNEL_BLOCK < g->total ? begin + PF_KERNEL_BLOCK : g->total;
-        double acc = 0;
-        for (size_t i = begin; i < end; i++) {
-            acc += abs2(data[i]) * (1.0 - abs2(field[i]));
-            data[i] *= field[i];
-        }
-        part[b] = acc;
-    }
+    pf_field_job job = {data, field};
     double sum = 0;
-    for (size_t b = 0; b < nblocks; b++) sum += part[b];
+    pf_reduce_blocks(g, 1, pf_kernel_field_block, &job, &sum);
     return sum;
 }
 

@@ -25,6 +25,14 @@ double pf_kernel_axis_mask(pf_grid *g, double complex *data, const double comple
 /* data[i] *= field[i] for every point; returns sum |z|^2 (1 - |f|^2) like
  * pf_kernel_axis_mask when want_removed, else 0 (no reduction pass). */
 double pf_kernel_field_mask(pf_grid *g, double complex *data, const double complex *field, int want_removed);
+/* One block of that mask (a pf_reduce_block_fn; the distributed grid's
+ * mask runs the same body over its ranks' blocks, pf_dist.c): data[i] *=
+ * field[i], acc[0] += |data[i]|^2 (1 - |field[i]|^2) before it. */
+typedef struct pf_field_job {
+    double complex *data;
+    const double complex *field;
+} pf_field_job;
+void pf_kernel_field_block(void *user, size_t begin, size_t end, const size_t *start, double *acc);
 
 /* exp(-i c m^2) per axis storage index, m the integer wave-number index, so
  * tables[a][j] = exp(-i tau k_a^2 / 2) with tau = hbar t / m exactly reduced

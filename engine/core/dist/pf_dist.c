@@ -799,22 +799,6 @@ pf_status pf_dist_sample(pf_grid *g, pf_rep rep, pf_sample_fn fn, void *user, do
     return sample_local(g, rep, fn, user, 0, out);
 }
 
-typedef struct field_job {
-    double complex *data;
-    const double complex *field;
-} field_job;
-
-static void field_block(void *user, size_t begin, size_t end, const size_t *idx, double *acc)
-{
-    (void)idx;
-    const field_job *job = user;
-    for (size_t i = begin; i < end; i++) {
-        double complex z = job->data[i], f = job->field[i];
-        acc[0] += (creal(z) * creal(z) + cimag(z) * cimag(z)) * (1.0 - (creal(f) * creal(f) + cimag(f) * cimag(f)));
-        job->data[i] *= job->field[i];
-    }
-}
-
 double pf_dist_field_mask(pf_grid *g, pf_rep rep, double complex *data, const double complex *field, int want_removed)
 {
     if (!g->dist) return pf_kernel_field_mask(g, data, field, want_removed);
@@ -824,9 +808,9 @@ double pf_dist_field_mask(pf_grid *g, pf_rep rep, double complex *data, const do
         for (ptrdiff_t i = 0; i < n; i++) data[i] *= field[i];
         return 0;
     }
-    field_job job = {data, field};
+    pf_field_job job = {data, field};
     double sum = 0;
-    pf_dist_reduce(g, rep, 1, field_block, &job, &sum);
+    pf_dist_reduce(g, rep, 1, pf_kernel_field_block, &job, &sum);
     return sum;
 }
 

@@ -406,6 +406,163 @@ static pf_status split_step(expand_ws *ws, frame *f, double h, int order, double
     return PF_OK;
 }
 
+/* The frame of a new expansion (lambda = 1) with the given release
+ * frequencies; *given says whether any axis has one (then every axis must). */
+static pf_status start_frame(pf_context *ctx, int d, const pf_expand_spec *spec, frame *f, int *given)
+{
+    memset(f, 0, sizeof *f);
+    f->dim = d;
+    f->law = spec->scaling;
+    for (int a = 0; a < d; a++) {
+        f->lam[a] = 1;
+        f->omega2[a] = spec->omega[a] * spec->omega[a];
+    }
+    *given = 0;
+    for (int a = 0; a < d; a++) *given |= spec->omega[a] > 0;
+    if (*given)
+        for (int a = 0; a < d; a++)
+            if (!(spec->omega[a] > 0))
+                return pf_fail(ctx, PF_EINVAL, "omega on axis %d must be positive (rad/s) when any axis is given, got %g",
+                               a + 1, spec->omega[a]);
+    return PF_OK;
+}
+
+/* Continues the frame of the previous expand (nothing happened since): its
+ * scale factors, rates, energy and, unless given, frequencies; the wave
+ * goes back to chi, the spacings first (the chirp is written in xi). */
+static pf_status resume_frame(pf_wave *w, int given, frame *f, double *energy)
+{
+    *energy = w->expanded.energy;
+    if (!given) memcpy(f->omega2, w->expanded.omega2, sizeof f->omega2);
+    double shrink[PF_MAX_DIM];
+    for (int a = 0; a < f->dim; a++) shrink[a] = 1.0 / w->expanded.lam[a];
+    pf_status s = regrid(w, shrink);
+    if (s) return s;
+    memcpy(f->lam, w->expanded.lam, sizeof f->lam);
+    memcpy(f->rate, w->expanded.rate, sizeof f->rate);
+    return PF_OK;
+}
+
+/* A new expansion's energy (kinetic + interaction e_int) and, unless given
+ * or the law is fixed, the release frequencies from the virial relation. */
+static pf_status starting_energy(pf_wave *w, const pf_expand_spec *spec, int given, double e_int, frame *f,
+                                 double *energy)
+{
+    double kin;
+    pf_status s = pf_wave_kinetic_energy(w, &kin);
+    if (!s) s = pf_wave_to(w, PF_POSITION);
+    if (s) return s;
+    *energy = kin + e_int;
+    if (!given && spec->scaling != PF_SCALING_FIXED) return omega_from_state(w, e_int, f->omega2);
+    return PF_OK;
+}
+
+/* The next step: one of 'steps' equal steps, or sized from the phase the
+ * potential turns in a step (measured now), the frame's rate of change and
+ * at most twice the last step; a last step takes what is left. */
+static double next_step(expand_ws *ws, const frame *f, const pf_expand_spec *spec, double t, double left,
+                        size_t steps, double h_prev, pass_stats *stats)
+{
+    if (spec->steps) {
+        double h = t / (double)spec->steps;
+        return h > left || steps + 1 == spec->steps ? left : h;
+    }
+    /* Measure at the current time (a read-only parallel pass): the figures
+     * of the last phase pass are one step old, and sizing from them was
+     * measured to cost accuracy. */
+    potential_pass(ws, f, 0.0, stats);
+    double spread = stats->hi > stats->lo ? stats->hi - stats->lo : 0;
+    double h = spread > 0 ? PF_EXPAND_PHASE * PF_HBAR / spread : left;
+    /* The frame's coefficients must change little within a step. */
+    double rate = frame_rate(f);
+    if (rate > 0) h = fmin(h, PF_EXPAND_FRAME_STEP / rate);
+    if (h_prev > 0 && h > 2 * h_prev) h = 2 * h_prev;
+    if (h >= left * 0.8) h = left; /* no sliver of a last step */
+    return h;
+}
+
+/* The interacting part: split steps until t, or until the interaction
+ * energy falls below the handover fraction of scale_e while the frame
+ * moves nearly linearly (*handed).  *done: the time flown. */
+static pf_status interacting_part(expand_ws *ws, frame *f, const pf_expand_spec *spec, double t, double scale_e,
+                                  pf_expand_info *info, double *done, size_t *steps, int *handed)
+{
+    pf_context *ctx = ws->g->ctx;
+    pf_status s = PF_OK;
+    double pending = 0, h_prev = 0;
+    /* A first measuring pass finds the peak for the occupied cut. */
+    pass_stats stats = {INFINITY, 0, 0};
+    potential_pass(ws, f, 0.0, &stats);
+    while (*done < t && !s) {
+        if ((s = pf_context_poll_stop(ctx))) break;
+        double frac = fabs(interaction_energy(ws, f)) / scale_e;
+        info->interaction_fraction = frac;
+        if (spec->handover > 0 && frac < spec->handover && frame_nearly_linear(f, t - *done)) {
+            *handed = 1;
+            break;
+        }
+        double h = next_step(ws, f, spec, t, t - *done, *steps, h_prev, &stats);
+        if (*steps >= (size_t)MAX_STEPS) {
+            s = pf_fail(ctx, PF_EINVAL, "expand: more than %.0f steps; give 'steps' or a shorter time", MAX_STEPS);
+            break;
+        }
+        s = split_step(ws, f, h, spec->order, &pending, &stats);
+        *done += h;
+        h_prev = h;
+        (*steps)++;
+    }
+    if (!s) flush(ws, f, &pending, &stats);
+    return s;
+}
+
+/* Exact free step of rest seconds in the same frame after the handover:
+ * lambda grows linearly, so int dt / lambda^2 over s is
+ * s / (lambda (lambda + lambda' s)). */
+static pf_status free_handover(expand_ws *ws, frame *f, double rest)
+{
+    double dkin[PF_MAX_DIM];
+    for (int a = 0; a < f->dim; a++) {
+        double l1 = f->lam[a] + f->rate[a] * rest;
+        dkin[a] = rest / (f->lam[a] * l1);
+        f->kin[a] += dkin[a];
+        f->lam[a] = l1;
+    }
+    f->free = 1;
+    return kinetic_step(ws, dkin);
+}
+
+/* After a successful expansion: the report, the clock, the lab frame
+ * (which carries the acceleration and any drift, Avron-Herbst), the step
+ * log and the frame a following expand continues. */
+static pf_status record_expansion(pf_wave *w, const pf_expand_spec *spec, const frame *f, double t, double t0,
+                                  double norm, double energy, pf_expand_info *info)
+{
+    const int d = f->dim;
+    for (int a = 0; a < d; a++) {
+        info->lambda[a] = f->lam[a];
+        info->rate[a] = f->rate[a];
+    }
+    w->clock = t0 + t;
+    int accelerated = 0;
+    for (int a = 0; a < d; a++) accelerated |= spec->acceleration[a] != 0;
+    if (accelerated || pf_wave_frame_moved(w)) {
+        pf_frame fr;
+        pf_wave_frame(w, &fr);
+        pf_frame_advance(&fr, d, w->mass, t, accelerated ? spec->acceleration : NULL);
+        pf_status s = pf_wave_set_frame(w, &fr);
+        if (s) return s;
+    }
+    char method[40];
+    snprintf(method, sizeof method, "%s%s", pf_expand_scaling_name(spec->scaling), info->handed_over ? "+free" : "");
+    pf_wave_log_step(w, "expand", method, t, 0.0, norm);
+    w->expanded.log_count = w->log.count;
+    memcpy(w->expanded.lam, f->lam, sizeof f->lam);
+    memcpy(w->expanded.rate, f->rate, sizeof f->rate);
+    memcpy(w->expanded.omega2, f->omega2, sizeof f->omega2);
+    w->expanded.energy = energy;
+    return PF_OK;
+}
+
 pf_status pf_wave_expand(pf_wave *w, double t, const pf_expand_spec *spec, pf_expand_info *info)
 {
     pf_context *ctx = w->grid->ctx;
@@ -419,22 +576,9 @@ pf_status pf_wave_expand(pf_wave *w, double t, const pf_expand_spec *spec, pf_ex
     double norm = pf_wave_last_logged_norm(w);
     if (!(norm > 0)) return pf_fail(ctx, PF_EINVAL, "expand: the state is zero");
     if ((s = pf_dist_check_regrid(w->grid, NULL, "expand"))) return s;
-
     frame f;
-    memset(&f, 0, sizeof f);
-    f.dim = d;
-    f.law = spec->scaling;
-    for (int a = 0; a < d; a++) {
-        f.lam[a] = 1;
-        f.omega2[a] = spec->omega[a] * spec->omega[a];
-    }
-    int given = 0;
-    for (int a = 0; a < d; a++) given |= spec->omega[a] > 0;
-    if (given)
-        for (int a = 0; a < d; a++)
-            if (!(spec->omega[a] > 0))
-                return pf_fail(ctx, PF_EINVAL, "omega on axis %d must be positive (rad/s) when any axis is given, got %g",
-                               a + 1, spec->omega[a]);
+    int given;
+    if ((s = start_frame(ctx, d, spec, &f, &given))) return s;
 
     /* Continue the frame of the previous expand when nothing happened since. */
     int cont = w->expanded.log_count && w->expanded.log_count == w->log.count;
@@ -446,103 +590,32 @@ pf_status pf_wave_expand(pf_wave *w, double t, const pf_expand_spec *spec, pf_ex
     if (!cont && (s = pf_wave_frame_centre(w, NULL))) return s;
     double energy = 0;
     if ((s = pf_wave_to(w, PF_POSITION))) return s;
+    if (cont) {
+        if ((s = resume_frame(w, given, &f, &energy))) return s;
+        info->continued = 1;
+    }
     expand_ws ws;
     memset(&ws, 0, sizeof ws);
     ws.w = w;
     ws.g_mf = spec->g;
-    if (cont) {
-        frame prev = f;
-        memcpy(prev.lam, w->expanded.lam, sizeof prev.lam);
-        memcpy(prev.rate, w->expanded.rate, sizeof prev.rate);
-        energy = w->expanded.energy;
-        if (!given) memcpy(f.omega2, w->expanded.omega2, sizeof f.omega2);
-        /* Back to chi: the spacings first (the chirp is written in xi). */
-        double shrink[PF_MAX_DIM];
-        for (int a = 0; a < d; a++) shrink[a] = 1.0 / prev.lam[a];
-        if ((s = regrid(w, shrink))) return s;
-        memcpy(f.lam, prev.lam, sizeof f.lam);
-        memcpy(f.rate, prev.rate, sizeof f.rate);
-        info->continued = 1;
-    }
     ws.g = w->grid;
-    if ((s = ws_make(&ws))) {
-        ws_free(&ws);
-        return s;
-    }
+    if ((s = ws_make(&ws))) goto fail;
     if (cont) chirp_map(&ws, &f, 0);
     double e_int = interaction_energy(&ws, &f);
-    if (!cont) {
-        double kin;
-        if ((s = pf_wave_kinetic_energy(w, &kin)) || (s = pf_wave_to(w, PF_POSITION))) {
-            ws_free(&ws);
-            return s;
-        }
-        energy = kin + e_int;
-        if (!given && spec->scaling != PF_SCALING_FIXED && (s = omega_from_state(w, e_int, f.omega2))) {
-            ws_free(&ws);
-            return s;
-        }
-    }
+    if (!cont && (s = starting_energy(w, spec, given, e_int, &f, &energy))) goto fail;
     info->energy = energy;
     for (int a = 0; a < d; a++) info->omega[a] = sqrt(f.omega2[a]);
     const double scale_e = fabs(energy) > 0 ? fabs(energy) : 1.0;
 
     /* Interacting part, then (maybe) the free handover. */
     const double t0 = w->clock;
-    double done = 0, pending = 0, h_prev = 0;
-    /* A first measuring pass finds the peak for the occupied cut. */
-    pass_stats stats = {INFINITY, 0, 0};
-    potential_pass(&ws, &f, 0.0, &stats);
+    double done = 0;
     size_t steps = 0;
     int handed = 0;
-    while (done < t && !s) {
-        if ((s = pf_context_poll_stop(ctx))) break;
-        double frac = fabs(interaction_energy(&ws, &f)) / scale_e;
-        info->interaction_fraction = frac;
-        if (spec->handover > 0 && frac < spec->handover && frame_nearly_linear(&f, t - done)) {
-            handed = 1;
-            break;
-        }
-        double left = t - done, h;
-        if (spec->steps) {
-            h = t / (double)spec->steps;
-            if (h > left || steps + 1 == spec->steps) h = left;
-        } else {
-            /* Measure at the current time (a read-only parallel pass): the
-             * figures of the last phase pass are one step old, and sizing
-             * from them was measured to cost accuracy. */
-            potential_pass(&ws, &f, 0.0, &stats);
-            double spread = stats.hi > stats.lo ? stats.hi - stats.lo : 0;
-            h = spread > 0 ? PF_EXPAND_PHASE * PF_HBAR / spread : left;
-            /* The frame's coefficients must change little within a step. */
-            double rate = frame_rate(&f);
-            if (rate > 0) h = fmin(h, PF_EXPAND_FRAME_STEP / rate);
-            if (h_prev > 0 && h > 2 * h_prev) h = 2 * h_prev;
-            if (h >= left * 0.8) h = left; /* no sliver of a last step */
-        }
-        if (steps >= (size_t)MAX_STEPS) {
-            s = pf_fail(ctx, PF_EINVAL, "expand: more than %.0f steps; give 'steps' or a shorter time", MAX_STEPS);
-            break;
-        }
-        s = split_step(&ws, &f, h, spec->order, &pending, &stats);
-        done += h;
-        h_prev = h;
-        steps++;
-    }
-    if (!s) flush(&ws, &f, &pending, &stats);
+    s = interacting_part(&ws, &f, spec, t, scale_e, info, &done, &steps, &handed);
     if (!s && handed) {
-        /* Exact free step in the same frame: lambda grows linearly, so
-         * int dt / lambda^2 over s is s / (lambda (lambda + lambda' s)). */
-        double rest = t - done, dkin[PF_MAX_DIM];
         info->handover_time = t0 + done;
-        for (int a = 0; a < d; a++) {
-            double l1 = f.lam[a] + f.rate[a] * rest;
-            dkin[a] = rest / (f.lam[a] * l1);
-            f.kin[a] += dkin[a];
-            f.lam[a] = l1;
-        }
-        f.free = 1;
-        s = kinetic_step(&ws, dkin);
+        s = free_handover(&ws, &f, t - done);
     } else if (!s) {
         info->interaction_fraction = fabs(interaction_energy(&ws, &f)) / scale_e;
     }
@@ -555,27 +628,8 @@ pf_status pf_wave_expand(pf_wave *w, double t, const pf_expand_spec *spec, pf_ex
     }
     info->steps = steps;
     info->handed_over = handed;
-    for (int a = 0; a < d; a++) {
-        info->lambda[a] = f.lam[a];
-        info->rate[a] = f.rate[a];
-    }
-    w->clock = t0 + t;
-    /* The frame carries the acceleration and any drift (Avron-Herbst). */
-    int accelerated = 0;
-    for (int a = 0; a < d; a++) accelerated |= spec->acceleration[a] != 0;
-    if (accelerated || pf_wave_frame_moved(w)) {
-        pf_frame fr;
-        pf_wave_frame(w, &fr);
-        pf_frame_advance(&fr, d, w->mass, t, accelerated ? spec->acceleration : NULL);
-        if ((s = pf_wave_set_frame(w, &fr))) return s;
-    }
-    char method[40];
-    snprintf(method, sizeof method, "%s%s", pf_expand_scaling_name(spec->scaling), handed ? "+free" : "");
-    pf_wave_log_step(w, "expand", method, t, 0.0, norm);
-    w->expanded.log_count = w->log.count;
-    memcpy(w->expanded.lam, f.lam, sizeof f.lam);
-    memcpy(w->expanded.rate, f.rate, sizeof f.rate);
-    memcpy(w->expanded.omega2, f.omega2, sizeof f.omega2);
-    w->expanded.energy = energy;
-    return PF_OK;
+    return record_expansion(w, spec, &f, t, t0, norm, energy, info);
+fail:
+    ws_free(&ws);
+    return s;
 }

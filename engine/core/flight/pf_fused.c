@@ -148,9 +148,13 @@ static void block_bands(const pf_grid *g, const double complex *buf, size_t ld, 
     }
 }
 
-/* The column-block sweep: axis-0 forward transform, scale * P0[i] P1[j]
- * P2[k], axis-0 backward transform; guard-band partials when band_sums. */
-static void column_sweep(pf_grid *g, double complex *data, double scale, double complex *const *P, int band_sums)
+/* The column-block sweep: for each block of columns, gathered into a
+ * thread's buffer, the axis-0 transform of the given sign; guard-band
+ * partials when band_sums; each column times scale P0[i] P1[j] P2[k] when
+ * P is given (P0 along the column, the rest the column's own factor); the
+ * opposite transform when back; scattered back. */
+static void column_sweep(pf_grid *g, double complex *data, int sign, double scale, double complex *const *P, int back,
+                         int band_sums)
 {
     const pf_fused_plans *fp = &g->fused;
     const size_t n0 = g->n[0], plane = g->total / n0, n2 = g->dim == 3 ? g->n[2] : 1;
@@ -161,17 +165,17 @@ static void column_sweep(pf_grid *g, double complex *data, double scale, double 
         const int partial = q0 + fp->block > plane;
         const size_t width = partial ? fp->tail : fp->block;
         double complex *buf = fp->buf + (size_t)omp_get_thread_num() * fp->block * fp->ld;
+        fftw_plan fwd = partial ? fp->tail_fwd : fp->col_fwd, bwd = partial ? fp->tail_bwd : fp->col_bwd;
         gather(data + q0, plane, n0, width, buf, fp->ld);
-        fftw_execute_dft(partial ? fp->tail_fwd : fp->col_fwd, buf, buf);
+        fftw_execute_dft(sign < 0 ? fwd : bwd, buf, buf);
         if (band_sums) block_bands(g, buf, fp->ld, q0, width, fp->part + (size_t)b * PF_MAX_DIM);
-        for (size_t j = 0; j < width; j++) {
-            /* Column q has the phase factor of its trailing-axis indices;
-             * the axis-0 table runs along the gathered column. */
-            size_t q = q0 + j;
-            double complex f = g->dim == 3 ? scale * P[1][q / n2] * P[2][q % n2] : scale * P[1][q];
-            phase_row((double *)(buf + j * fp->ld), (const double *)P[0], creal(f), cimag(f), n0);
-        }
-        fftw_execute_dft(partial ? fp->tail_bwd : fp->col_bwd, buf, buf);
+        if (P)
+            for (size_t j = 0; j < width; j++) {
+                size_t q = q0 + j;
+                double complex f = g->dim == 3 ? scale * P[1][q / n2] * P[2][q % n2] : scale * P[1][q];
+                phase_row((double *)(buf + j * fp->ld), (const double *)P[0], creal(f), cimag(f), n0);
+            }
+        if (back) fftw_execute_dft(sign < 0 ? bwd : fwd, buf, buf);
         scatter(buf, fp->ld, n0, width, data + q0, plane);
     }
 }
@@ -182,7 +186,7 @@ pf_status pf_fused_flight(pf_grid *g, double complex *data, double scale, double
     if (s) return s;
     const pf_fused_plans *fp = &g->fused;
     pf_fused_chunks(g, data, 0, NULL, NULL, 1);
-    column_sweep(g, data, scale, g->flight.phase, band_sums != NULL);
+    column_sweep(g, data, -1, scale, g->flight.phase, 1, band_sums != NULL);
     pf_fused_chunks(g, data, 1, NULL, NULL, 0);
     if (band_sums) {
         /* S = DFT / N: |S|^2 = scale^2 |DFT|^2. */
@@ -245,7 +249,9 @@ pf_status pf_fused_prepare_chunks(pf_grid *g)
     return pf_context_note_plans(ctx, "chunks", g, set, 4);
 }
 
-void pf_fused_chunks(pf_grid *g, double complex *data, int backward, pf_chunk_fn fn, void *user, int forward)
+/* For every chunk, in parallel: the trailing-axes transform of sign
+ * before (0: none), fn, the transform of sign after (0: none). */
+static void chunk_sweep(pf_grid *g, double complex *data, int before, pf_chunk_fn fn, void *user, int after)
 {
     const pf_fused_plans *fp = &g->fused;
     const size_t plane = g->total / g->n[0];
@@ -255,42 +261,21 @@ void pf_fused_chunks(pf_grid *g, double complex *data, int backward, pf_chunk_fn
         const int short_one = (size_t)(c + 1) * fp->rows > g->n[0];
         const size_t count = (short_one ? fp->rows_tail : fp->rows) * plane;
         double complex *chunk = data + begin;
-        if (backward) fftw_execute_dft(short_one ? fp->chunk_tail_bwd : fp->chunk_bwd, chunk, chunk);
+        fftw_plan fwd = short_one ? fp->chunk_tail_fwd : fp->chunk_fwd, bwd = short_one ? fp->chunk_tail_bwd : fp->chunk_bwd;
+        if (before) fftw_execute_dft(before < 0 ? fwd : bwd, chunk, chunk);
         if (fn) fn(user, chunk, begin, count);
-        if (forward) fftw_execute_dft(short_one ? fp->chunk_tail_fwd : fp->chunk_fwd, chunk, chunk);
+        if (after) fftw_execute_dft(after < 0 ? fwd : bwd, chunk, chunk);
     }
+}
+
+void pf_fused_chunks(pf_grid *g, double complex *data, int backward, pf_chunk_fn fn, void *user, int forward)
+{
+    chunk_sweep(g, data, backward ? +1 : 0, fn, user, forward ? -1 : 0);
 }
 
 void pf_fused_columns(pf_grid *g, double complex *data, double scale, double complex *const *tables)
 {
-    column_sweep(g, data, scale, tables, 0);
-}
-
-/* The column sweep of one transform: axis-0 transform of the given sign,
- * then row[i] *= T0[i] f(q), f(q) = T1[i1] T2[i2] (3D) or T1[i1] (2D),
- * while the block is in cache; NULL T: the transform alone. */
-static void column_transform(pf_grid *g, double complex *data, int sign, double complex *const *T)
-{
-    const pf_fused_plans *fp = &g->fused;
-    const size_t n0 = g->n[0], plane = g->total / n0, n2 = g->dim == 3 ? g->n[2] : 1;
-    const pf_phase_row_fn phase_row = pf_phase_kernel();
-#pragma omp parallel for num_threads(fp->threads) schedule(static)
-    for (ptrdiff_t b = 0; b < (ptrdiff_t)fp->blocks; b++) {
-        const size_t q0 = (size_t)b * fp->block;
-        const int partial = q0 + fp->block > plane;
-        const size_t width = partial ? fp->tail : fp->block;
-        double complex *buf = fp->buf + (size_t)omp_get_thread_num() * fp->block * fp->ld;
-        gather(data + q0, plane, n0, width, buf, fp->ld);
-        fftw_plan plan = sign < 0 ? (partial ? fp->tail_fwd : fp->col_fwd) : (partial ? fp->tail_bwd : fp->col_bwd);
-        fftw_execute_dft(plan, buf, buf);
-        if (T)
-            for (size_t j = 0; j < width; j++) {
-                size_t q = q0 + j;
-                double complex f = g->dim == 3 ? T[1][q / n2] * T[2][q % n2] : T[1][q];
-                phase_row((double *)(buf + j * fp->ld), (const double *)T[0], creal(f), cimag(f), n0);
-            }
-        scatter(buf, fp->ld, n0, width, data + q0, plane);
-    }
+    column_sweep(g, data, -1, scale, tables, 1, 0);
 }
 
 pf_status pf_fused_transform(pf_grid *g, double complex *data, int sign, pf_chunk_fn before, void *user,
@@ -298,20 +283,8 @@ pf_status pf_fused_transform(pf_grid *g, double complex *data, int sign, pf_chun
 {
     pf_status s = pf_fused_prepare_chunks(g);
     if (s) return s;
-    const pf_fused_plans *fp = &g->fused;
-    const size_t plane = g->total / g->n[0];
-#pragma omp parallel for num_threads(fp->threads) schedule(static)
-    for (ptrdiff_t c = 0; c < (ptrdiff_t)fp->chunks; c++) {
-        const size_t begin = (size_t)c * fp->rows * plane;
-        const int short_one = (size_t)(c + 1) * fp->rows > g->n[0];
-        const size_t count = (short_one ? fp->rows_tail : fp->rows) * plane;
-        double complex *chunk = data + begin;
-        if (before) before(user, chunk, begin, count);
-        fftw_plan plan = sign < 0 ? (short_one ? fp->chunk_tail_fwd : fp->chunk_fwd)
-                                  : (short_one ? fp->chunk_tail_bwd : fp->chunk_bwd);
-        fftw_execute_dft(plan, chunk, chunk);
-    }
-    column_transform(g, data, sign, after);
+    chunk_sweep(g, data, 0, before, user, sign);
+    column_sweep(g, data, sign, 1.0, after, 0, 0);
     return PF_OK;
 }
 

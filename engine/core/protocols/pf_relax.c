@@ -140,9 +140,10 @@ static void damp_potential(pf_grid *g, double complex *d, const double *V, doubl
     }
 }
 
-pf_status pf_wave_relax(pf_wave *w, const pf_relax_spec *spec, pf_relax_info *info)
+/* The spec's numbers, and the potential finite at every point (on every
+ * rank); *vmin receives its minimum over the whole grid. */
+static pf_status check_relax_spec(const pf_grid *g, const pf_relax_spec *spec, double *vmin)
 {
-    pf_grid *g = w->grid;
     pf_context *ctx = g->ctx;
     const double *V = spec->potential;
     if (!V) return pf_fail(ctx, PF_EINVAL, "a potential is required");
@@ -152,89 +153,133 @@ pf_status pf_wave_relax(pf_wave *w, const pf_relax_spec *spec, pf_relax_info *in
         return pf_fail(ctx, PF_EINVAL, "tolerance must be finite and positive, got %g", spec->tolerance);
     if (spec->max_steps < 1) return pf_fail(ctx, PF_EINVAL, "max_steps must be at least 1");
     if (spec->check_every < 1) return pf_fail(ctx, PF_EINVAL, "check_every must be at least 1");
-    double vmin = INFINITY, unused = 0;
+    double unused = 0;
+    *vmin = INFINITY;
     const size_t nloc = pf_dist_position_values(g); /* g->total unless split over MPI ranks */
     size_t bad = nloc, first, end;
     for (size_t i = 0; i < nloc && bad == nloc; i++) {
         if (!isfinite(V[i])) bad = i;
-        else if (V[i] < vmin) vmin = V[i];
+        else if (V[i] < *vmin) *vmin = V[i];
     }
     if (pf_dist_any(g, bad < nloc)) {
         if (bad == nloc) return pf_fail(ctx, PF_EINVAL, "the potential is not finite at a point another MPI rank holds");
         pf_grid_local_range(g, &first, &end);
         return pf_fail(ctx, PF_EINVAL, "the potential at point %zu is %g, not finite", first + bad + 1, V[bad]);
     }
-    pf_dist_minmax(g, &vmin, &unused);
-    pf_status s = pf_wave_to(w, PF_POSITION);
+    pf_dist_minmax(g, vmin, &unused);
+    return PF_OK;
+}
+
+/* Default step: a twentieth of the time hbar / E of the starting state
+ * (energy above the potential's minimum).  The flow is stable for any dtau;
+ * the scale set by the state, not by the potential's values at the grid
+ * edges where the state is negligible, fixes both the convergence speed and
+ * the O(dtau^2) offset of the fixed point. */
+static pf_status default_relax_dt(pf_wave *w, const pf_relax_spec *spec, double vmin, double complex *scratch,
+                                  double *dt)
+{
+    double e0 = 0, mu0 = 0;
+    pf_status s = energy_of(w, w->store, spec->potential, spec->g, scratch, &e0, &mu0);
+    if (s) return s;
+    if (!(e0 - vmin > 0))
+        return pf_fail(w->grid->ctx, PF_EINVAL, "cannot choose a default dt: the starting energy %g J is not above the "
+                       "potential minimum %g J; give dt (imaginary-time step, s)", e0, vmin);
+    *dt = PF_RELAX_DEFAULT_FRACTION * PF_HBAR / (e0 - vmin);
+    return PF_OK;
+}
+
+/* The step's tables: per axis the kinetic factors exp(-hbar dt k^2 / 2m),
+ * and without a mean field the potential factors exp(-(V - vmin) dt / 2
+ * hbar) per point (NULL with one: they depend on the density).  The caller
+ * frees them with free_relax_tables, also after a failure here. */
+typedef struct relax_tables {
+    double *factor;
+    size_t factor_bytes;
+    double complex *kin[PF_MAX_DIM];
+} relax_tables;
+
+static pf_status make_relax_tables(pf_wave *w, const pf_relax_spec *spec, double vmin, double dt, relax_tables *t)
+{
+    pf_grid *g = w->grid;
+    pf_context *ctx = g->ctx;
+    const double f = dt / (2.0 * PF_HBAR);
+    const size_t nloc = pf_dist_position_values(g);
+    if (spec->g == 0) {
+        t->factor_bytes = pf_bytes(nloc, sizeof(double));
+        t->factor = pf_alloc(ctx, t->factor_bytes);
+        if (!t->factor) return pf_context_status(ctx);
+        for (size_t i = 0; i < nloc; i++) t->factor[i] = exp(-(spec->potential[i] - vmin) * f);
+    }
+    for (int a = 0; a < g->dim; a++) {
+        t->kin[a] = pf_alloc(g->ctx, g->n[a] * sizeof(double complex));
+        if (!t->kin[a]) return pf_context_status(ctx);
+        double c = PF_HBAR * dt / (2.0 * w->mass);
+        for (size_t j = 0; j < g->n[a]; j++) t->kin[a][j] = exp(-c * g->k[a][j] * g->k[a][j]);
+    }
+    return PF_OK;
+}
+
+static void free_relax_tables(pf_grid *g, relax_tables *t)
+{
+    if (t->factor) pf_free(g->ctx, t->factor, t->factor_bytes);
+    for (int a = 0; a < g->dim; a++) pf_context_free(g->ctx, t->kin[a]);
+}
+
+/* One symmetric imaginary-time step: potential half-step, kinetic step,
+ * potential half-step, normalisation. */
+static pf_status relax_step(pf_wave *w, const pf_relax_spec *spec, double vmin, double f, const relax_tables *t)
+{
+    pf_grid *g = w->grid;
+    const double *V = spec->potential;
+    pf_status s;
+    damp_potential(g, w->store, V, vmin, spec->g, f, t->factor);
+    if (g->dist) {
+        pf_dist_kinetic(g, w->store, t->kin, 1.0 / (double)g->total); /* on the transposed slab */
+    } else {
+        if ((s = pf_grid_fft(g, w->store, -1))) return s;
+        pf_kernel_axis_multiply(g, w->store, (const double complex *const *)t->kin, 1.0 / (double)g->total);
+        if ((s = pf_grid_fft(g, w->store, +1))) return s;
+    }
+    /* With a mean field, renormalise before the second half-step too: both
+     * halves then see the density of a normalised state, which keeps the
+     * step symmetric and the fixed point's offset O(dtau^2) (with the
+     * decayed norm in the second half it would be O(dtau)). */
+    if (spec->g != 0 && (s = pf_wave_normalize(w))) return s;
+    damp_potential(g, w->store, V, vmin, spec->g, f, t->factor);
+    return pf_wave_normalize(w);
+}
+
+pf_status pf_wave_relax(pf_wave *w, const pf_relax_spec *spec, pf_relax_info *info)
+{
+    pf_grid *g = w->grid;
+    pf_context *ctx = g->ctx;
+    double vmin;
+    pf_status s = check_relax_spec(g, spec, &vmin);
+    if (!s) s = pf_wave_to(w, PF_POSITION);
     if (s) return s;
     if (!(pf_wave_norm(w) > 0)) return pf_fail(ctx, PF_EINVAL, "the starting state is zero");
 
-    size_t bytes_c = pf_grid_local_bytes(g), bytes_r = pf_bytes(nloc, sizeof(double));
+    size_t bytes_c = pf_grid_local_bytes(g);
     double complex *scratch = pf_alloc(ctx, bytes_c);
-    double *factor = NULL;
-    double complex *kin[PF_MAX_DIM] = {NULL, NULL, NULL};
+    relax_tables tab;
+    memset(&tab, 0, sizeof tab);
     if (!scratch) return pf_context_status(ctx);
     double dt = spec->dt;
-    if (dt <= 0) {
-        /* Default: a twentieth of the time hbar / E of the starting state
-         * (energy above the potential's minimum).  The flow is stable for
-         * any dtau; the scale set by the state, not by the potential's values
-         * at the grid edges where the state is negligible, fixes both the
-         * convergence speed and the O(dtau^2) offset of the fixed point. */
-        double e0 = 0, mu0 = 0;
-        if ((s = energy_of(w, w->store, V, spec->g, scratch, &e0, &mu0))) goto done;
-        if (!(e0 - vmin > 0)) {
-            s = pf_fail(ctx, PF_EINVAL, "cannot choose a default dt: the starting energy %g J is not above the "
-                        "potential minimum %g J; give dt (imaginary-time step, s)", e0, vmin);
-            goto done;
-        }
-        dt = PF_RELAX_DEFAULT_FRACTION * PF_HBAR / (e0 - vmin);
-    }
+    if (dt <= 0 && (s = default_relax_dt(w, spec, vmin, scratch, &dt))) goto done;
+    if ((s = make_relax_tables(w, spec, vmin, dt, &tab))) goto done;
     const double f = dt / (2.0 * PF_HBAR);
-    if (spec->g == 0) {
-        factor = pf_alloc(ctx, bytes_r);
-        if (!factor) {
-            s = pf_context_status(ctx);
-            goto done;
-        }
-        for (size_t i = 0; i < nloc; i++) factor[i] = exp(-(V[i] - vmin) * f);
-    }
-    for (int a = 0; a < g->dim; a++) {
-        kin[a] = pf_alloc(g->ctx, g->n[a] * sizeof(double complex));
-        if (!kin[a]) {
-            s = pf_context_status(ctx);
-            goto done;
-        }
-        double c = PF_HBAR * dt / (2.0 * w->mass);
-        for (size_t j = 0; j < g->n[a]; j++) kin[a][j] = exp(-c * g->k[a][j] * g->k[a][j]);
-    }
     double e_prev = NAN, e = NAN, mu = NAN, change = INFINITY;
     int converged = 0;
     size_t step = 0;
-    double inv_n = 1.0 / (double)g->total;
     while (step < spec->max_steps) {
         /* One poll per step: a stop request ends a long relaxation at once.
          * Progress counts against the step limit; convergence ends it early. */
         if ((s = pf_context_poll_stop(ctx))) goto done;
         pf_context_progress(ctx, "relax", (double)step, (double)spec->max_steps);
-        damp_potential(g, w->store, V, vmin, spec->g, f, factor);
-        if (g->dist) {
-            pf_dist_kinetic(g, w->store, kin, inv_n); /* on the transposed slab */
-        } else {
-            if ((s = pf_grid_fft(g, w->store, -1))) goto done;
-            pf_kernel_axis_multiply(g, w->store, (const double complex *const *)kin, inv_n);
-            if ((s = pf_grid_fft(g, w->store, +1))) goto done;
-        }
-        /* With a mean field, renormalise before the second half-step too:
-         * both halves then see the density of a normalised state, which keeps
-         * the step symmetric and the fixed point's offset O(dtau^2) (with the
-         * decayed norm in the second half it would be O(dtau)). */
-        if (spec->g != 0 && (s = pf_wave_normalize(w))) goto done;
-        damp_potential(g, w->store, V, vmin, spec->g, f, factor);
-        if ((s = pf_wave_normalize(w))) goto done;
+        if ((s = relax_step(w, spec, vmin, f, &tab))) goto done;
         step++;
         if (step % spec->check_every == 0 || step == spec->max_steps) {
-            if ((s = energy_of(w, w->store, V, spec->g, scratch, &e, &mu))) goto done;
+            if ((s = energy_of(w, w->store, spec->potential, spec->g, scratch, &e, &mu))) goto done;
             if (isfinite(e_prev)) {
                 change = fabs(e - e_prev) / fmax(fabs(e), 1e-300);
                 if (change <= spec->tolerance) {
@@ -261,7 +306,6 @@ done:
     pf_context_progress(ctx, "relax", s ? -1.0 : (double)spec->max_steps, (double)spec->max_steps);
     if (s) pf_guard_forget(w); /* a failure part-way leaves changed data unlogged */
     pf_free(ctx, scratch, bytes_c);
-    if (factor) pf_free(ctx, factor, bytes_r);
-    for (int a = 0; a < g->dim; a++) pf_context_free(g->ctx, kin[a]);
+    free_relax_tables(g, &tab);
     return s;
 }

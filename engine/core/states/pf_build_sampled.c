@@ -50,22 +50,22 @@ static int spline_second(pf_context *ctx, const double *x, const double complex 
     return 1;
 }
 
-pf_status pf_build_sampled(pf_wave *w, pf_rep rep, const size_t *counts, const double *const *axes,
-                           const double complex *values, pf_interp method, int normalize)
+/* The samples: 2..MAX_SAMPLES_PER_AXIS finite, strictly increasing
+ * coordinates per axis, finite values, a method that fits the dimension. */
+static pf_status check_samples(pf_context *ctx, int d, const size_t *counts, const double *const *axes,
+                               const double complex *values, pf_interp method)
 {
-    pf_grid *g = w->grid;
-    const int d = g->dim;
     size_t total = 1;
     for (int a = 0; a < d; a++) {
         if (counts[a] < 2 || counts[a] > MAX_SAMPLES_PER_AXIS)
-            return pf_fail(g->ctx, PF_EINVAL, "samples on axis %d: need 2..%zu coordinates, got %zu", a + 1,
+            return pf_fail(ctx, PF_EINVAL, "samples on axis %d: need 2..%zu coordinates, got %zu", a + 1,
                            MAX_SAMPLES_PER_AXIS, counts[a]);
         for (size_t i = 0; i < counts[a]; i++) {
             if (!isfinite(axes[a][i]))
-                return pf_fail(g->ctx, PF_EINVAL, "sample coordinate %zu on axis %d must be finite, got %g", i + 1,
+                return pf_fail(ctx, PF_EINVAL, "sample coordinate %zu on axis %d must be finite, got %g", i + 1,
                                a + 1, axes[a][i]);
             if (i > 0 && !(axes[a][i] > axes[a][i - 1]))
-                return pf_fail(g->ctx, PF_EINVAL,
+                return pf_fail(ctx, PF_EINVAL,
                                "sample coordinates on axis %d must increase strictly, got %g after %g at entry %zu",
                                a + 1, axes[a][i], axes[a][i - 1], i + 1);
         }
@@ -73,13 +73,70 @@ pf_status pf_build_sampled(pf_wave *w, pf_rep rep, const size_t *counts, const d
     }
     for (size_t i = 0; i < total; i++)
         if (!isfinite(creal(values[i])) || !isfinite(cimag(values[i])))
-            return pf_fail(g->ctx, PF_EINVAL, "sample value %zu must be finite, got %g%+gi", i + 1, creal(values[i]),
+            return pf_fail(ctx, PF_EINVAL, "sample value %zu must be finite, got %g%+gi", i + 1, creal(values[i]),
                            cimag(values[i]));
     if (method == PF_INTERP_CUBIC && d != 1)
-        return pf_fail(g->ctx, PF_EINVAL, "cubic interpolation is available in 1D only; use linear for %dD samples", d);
+        return pf_fail(ctx, PF_EINVAL, "cubic interpolation is available in 1D only; use linear for %dD samples", d);
     if (method != PF_INTERP_LINEAR && method != PF_INTERP_CUBIC)
-        return pf_fail(g->ctx, PF_EINVAL, "unknown interpolation method %d", (int)method);
+        return pf_fail(ctx, PF_EINVAL, "unknown interpolation method %d", (int)method);
+    return PF_OK;
+}
 
+/* The samples and where each grid coordinate falls among them: per axis a
+ * (at offs[a] in lower and frac) the lower mesh index (-1: outside) and the
+ * fraction inside the mesh cell; y2 the spline's second derivatives (cubic). */
+typedef struct sample_mesh {
+    int d;
+    pf_interp method;
+    const double *const *axes;
+    const double complex *values;
+    size_t m1, m2;               /* sample counts of axes 2 and 3 (1 when absent) */
+    const long *lower;
+    const double *frac;
+    const double complex *y2;
+} sample_mesh;
+
+/* The interpolated value at the grid point whose per-axis entries in lower
+ * and frac are t[a] into *v; returns 0 (v untouched) outside the sampled box. */
+static int interpolate_at(const sample_mesh *sm, const size_t *t, double complex *v)
+{
+    const int d = sm->d;
+    const long *lower = sm->lower;
+    const double *frac = sm->frac;
+    for (int a = 0; a < d; a++)
+        if (lower[t[a]] < 0) return 0;
+    double complex sum = 0;
+    if (sm->method == PF_INTERP_CUBIC) {
+        const double *x = sm->axes[0];
+        const double complex *y = sm->values, *y2 = sm->y2;
+        size_t c = (size_t)lower[t[0]];
+        double h = x[c + 1] - x[c], b = frac[t[0]], a0 = 1.0 - b;
+        *v = a0 * y[c] + b * y[c + 1] + ((a0 * a0 * a0 - a0) * y2[c] + (b * b * b - b) * y2[c + 1]) * h * h / 6.0;
+        return 1;
+    }
+    /* Sum over the 2^d corners of the mesh cell. */
+    for (int corner = 0; corner < (1 << d); corner++) {
+        double weight = 1.0;
+        size_t idx[PF_MAX_DIM] = {0, 0, 0};
+        for (int a = 0; a < d; a++) {
+            int up = (corner >> a) & 1;
+            double f = frac[t[a]];
+            weight *= up ? f : 1.0 - f;
+            idx[a] = (size_t)lower[t[a]] + (size_t)up;
+        }
+        if (weight != 0) sum += weight * sm->values[(idx[0] * sm->m1 + idx[1]) * sm->m2 + idx[2]];
+    }
+    *v = sum;
+    return 1;
+}
+
+pf_status pf_build_sampled(pf_wave *w, pf_rep rep, const size_t *counts, const double *const *axes,
+                           const double complex *values, pf_interp method, int normalize)
+{
+    pf_grid *g = w->grid;
+    const int d = g->dim;
+    pf_status failed = check_samples(g->ctx, d, counts, axes, values, method);
+    if (failed) return failed;
     size_t nn[PF_MAX_DIM], offs[PF_MAX_DIM + 1];
     offs[0] = 0;
     for (int a = 0; a < PF_MAX_DIM; a++) {
@@ -89,7 +146,6 @@ pf_status pf_build_sampled(pf_wave *w, pf_rep rep, const size_t *counts, const d
     long *lower = pf_alloc(g->ctx, offs[PF_MAX_DIM] * sizeof *lower);
     double *frac = pf_alloc(g->ctx, offs[PF_MAX_DIM] * sizeof *frac);
     double complex *y2 = method == PF_INTERP_CUBIC ? pf_alloc(g->ctx, counts[0] * sizeof *y2) : NULL;
-    pf_status failed = PF_OK;
     if (!lower || !frac || (method == PF_INTERP_CUBIC && !y2))
         failed = pf_context_status(g->ctx);
     else if (method == PF_INTERP_CUBIC && !spline_second(g->ctx, axes[0], values, counts[0], y2))
@@ -109,7 +165,7 @@ pf_status pf_build_sampled(pf_wave *w, pf_rep rep, const size_t *counts, const d
         const double *coord = rep == PF_POSITION ? g->x[a] : g->k[a];
         locate(axes[a], counts[a], coord, nn[a], lower + offs[a], frac + offs[a]);
     }
-    size_t m1 = d > 1 ? counts[1] : 1, m2 = d > 2 ? counts[2] : 1;
+    const sample_mesh sm = {d, method, axes, values, d > 1 ? counts[1] : 1, d > 2 ? counts[2] : 1, lower, frac, y2};
     double complex *data = pf_wave_overwrite(w);
     ptrdiff_t n0 = (ptrdiff_t)nn[0];
 #pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
@@ -117,39 +173,17 @@ pf_status pf_build_sampled(pf_wave *w, pf_rep rep, const size_t *counts, const d
         for (size_t j = 0; j < nn[1]; j++)
             for (size_t k = 0; k < nn[2]; k++) {
                 size_t t[PF_MAX_DIM] = {offs[0] + (size_t)i, offs[1] + j, offs[2] + k};
-                size_t off = ((size_t)i * nn[1] + j) * nn[2] + k;
-                int outside = 0;
-                for (int a = 0; a < d; a++) outside |= lower[t[a]] < 0;
                 double complex v = 0;
-                if (outside) {
-                    data[off] = 0;
+                if (!interpolate_at(&sm, t, &v)) {
+                    data[((size_t)i * nn[1] + j) * nn[2] + k] = 0;
                     continue;
-                }
-                if (method == PF_INTERP_CUBIC) {
-                    size_t c = (size_t)lower[t[0]];
-                    double h = axes[0][c + 1] - axes[0][c], b = frac[t[0]], a0 = 1.0 - b;
-                    v = a0 * values[c] + b * values[c + 1] +
-                        ((a0 * a0 * a0 - a0) * y2[c] + (b * b * b - b) * y2[c + 1]) * h * h / 6.0;
-                } else {
-                    /* Sum over the 2^d corners of the mesh cell. */
-                    for (int corner = 0; corner < (1 << d); corner++) {
-                        double weight = 1.0;
-                        size_t idx[PF_MAX_DIM] = {0, 0, 0};
-                        for (int a = 0; a < d; a++) {
-                            int up = (corner >> a) & 1;
-                            double f = frac[t[a]];
-                            weight *= up ? f : 1.0 - f;
-                            idx[a] = (size_t)lower[t[a]] + (size_t)up;
-                        }
-                        if (weight != 0) v += weight * values[(idx[0] * m1 + idx[1]) * m2 + idx[2]];
-                    }
                 }
                 if (rep == PF_MOMENTUM) {
                     double complex f = 1.0;
                     for (int a = 0; a < d; a++) f *= g->kfactor[a][t[a] - offs[a]];
                     v /= f;
                 }
-                data[off] = v;
+                data[((size_t)i * nn[1] + j) * nn[2] + k] = v;
             }
     pf_context_free(g->ctx, lower);
     pf_context_free(g->ctx, frac);
