@@ -133,10 +133,12 @@ static pf_status plane_init(pf_wave *w, int axis, double at, plane_eval *p)
     return PF_OK;
 }
 
-/* J = factor * sum over transverse modes of Im(conj(f) g), f = sum_m S e_m,
- * g = sum_m S i k_m e_m.  Each transverse line is summed by one thread and
- * the lines are added in order, so the result does not depend on threads. */
-static double plane_flux(const pf_wave *w, const plane_eval *p, double *line_sum)
+/* Sums a quantity of each transverse line (current: Im(conj(f) g), else
+ * |f|^2, with f = sum_m S e_m and g = sum_m S i k_m e_m along the axis),
+ * weighted by the line's transverse weight.  Each line is summed by one
+ * thread and the lines are added in order, so the result does not depend
+ * on threads. */
+static double sum_over_lines(const pf_wave *w, const plane_eval *p, double *line_sum, int current)
 {
     /* w is in momentum representation (callers transform it), so no flight
      * is deferred (those exist only in position representation). */
@@ -148,36 +150,34 @@ static double plane_flux(const pf_wave *w, const plane_eval *p, double *line_sum
         size_t o = (size_t)l / p->inner, i = (size_t)l % p->inner;
         const double complex *base = S + o * p->na * p->inner + i;
         double complex f = 0, gsum = 0;
-        for (size_t m = 0; m < p->na; m++) {
-            double complex z = base[m * p->inner];
-            f += z * p->e[m];
-            gsum += z * p->ike[m];
+        if (current) {
+            for (size_t m = 0; m < p->na; m++) {
+                double complex z = base[m * p->inner];
+                f += z * p->e[m];
+                gsum += z * p->ike[m];
+            }
+            line_sum[l] = p->line_weight[l] * cimag(conj(f) * gsum);
+        } else {
+            for (size_t m = 0; m < p->na; m++) f += base[m * p->inner] * p->e[m];
+            line_sum[l] = p->line_weight[l] * (creal(f) * creal(f) + cimag(f) * cimag(f));
         }
-        line_sum[l] = p->line_weight[l] * cimag(conj(f) * gsum);
     }
     double total = 0;
     for (size_t l = 0; l < lines; l++) total += line_sum[l];
-    return total * p->factor;
+    return total;
 }
 
-/* integral |psi|^2 dA = (transverse spans) * sum over transverse modes of |f|^2
- * (Parseval across the plane), summed line by line in order like plane_flux. */
+/* J = factor * sum over transverse modes of Im(conj(f) g). */
+static double plane_flux(const pf_wave *w, const plane_eval *p, double *line_sum)
+{
+    return sum_over_lines(w, p, line_sum, 1) * p->factor;
+}
+
+/* integral |psi|^2 dA = (transverse spans) * sum over transverse modes of
+ * |f|^2 (Parseval across the plane). */
 static double plane_density(const pf_wave *w, const plane_eval *p, double *line_sum)
 {
-    const double complex *S = w->store;
-    const size_t lines = p->outer * p->inner;
-    ptrdiff_t nl = (ptrdiff_t)lines;
-#pragma omp parallel for num_threads(w->grid->ctx->threads) schedule(static)
-    for (ptrdiff_t l = 0; l < nl; l++) {
-        size_t o = (size_t)l / p->inner, i = (size_t)l % p->inner;
-        const double complex *base = S + o * p->na * p->inner + i;
-        double complex f = 0;
-        for (size_t m = 0; m < p->na; m++) f += base[m * p->inner] * p->e[m];
-        line_sum[l] = p->line_weight[l] * (creal(f) * creal(f) + cimag(f) * cimag(f));
-    }
-    double total = 0;
-    for (size_t l = 0; l < lines; l++) total += line_sum[l];
-    return total * p->factor * w->mass / PF_HBAR; /* factor holds hbar/m times the spans */
+    return sum_over_lines(w, p, line_sum, 0) * p->factor * w->mass / PF_HBAR; /* factor holds hbar/m times the spans */
 }
 
 /* The flux through a plane and, when density is not NULL, the density
