@@ -1,4 +1,4 @@
-/* bench_expand.c - the expanding mean-field run of issue 14: a 3D release of
+/* bench_expand.c - the expanding mean-field run (long flights of a condensate): a 3D release of
  * an elongated 87Rb condensate (15 x 150 x 150 Hz, mu = 12 hbar omega_perp,
  * invented numbers) evolved with w:expand's core (Castin-Dum frame, default
  * steps and handover) to 25 ms of flight.

@@ -87,7 +87,7 @@ static void bench_size(pf_context *ctx, int dim, const int *n, int threads, FILE
     bench_fft_pair_free(&raw);
     bench_shape(dim, n, shape, sizeof shape);
     /* Targets: 1.10 pair; 3D 128^3 at 2 threads, which once lost ground,
-     * 1.05 in every run (issue 19). */
+     * 1.05 in every run (the speed targets of docs/performance.md). */
     double target = dim == 3 && n[0] == 128 && threads == 2 ? 1.05 : 1.10;
     printf("flight  %-16s threads %d   step %9.3f ms   fft pair %9.3f ms   ratio %5.3f (quartiles %5.3f-%5.3f; "
            "target <= %.2f) %s   repeat flight %8.3f ms (%.3f of a pair)\n",

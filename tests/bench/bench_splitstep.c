@@ -2,7 +2,7 @@
  * against a raw FFTW forward+backward pair of the same size, threads and
  * planning, timed in alternation (bench_paired: median of per-pair ratios).
  *
- * Rows, with the targets of issue 19: the Strang step (<= 1.15 pairs), the
+ * Rows, with their speed targets (docs/performance.md): the Strang step (<= 1.15 pairs), the
  * Strang step with mean field g |psi|^2 (<= 1.25), the fourth-order step
  * (three Strang sub-steps, <= 3.2), and each call's set-up in steps
  * (<= 1): a repeat call with the same potential and step (a pf.potential's
@@ -160,7 +160,7 @@ static void floor_row(const char *name, const char *shape, int threads, bench_ff
     free(V);
 }
 
-/* Targets of issue 19, as ratios to the raw FFTW pair timed alongside. */
+/* The speed targets (docs/performance.md), as ratios to the raw FFTW pair timed alongside. */
 typedef struct kind {
     const char *name;
     int order;
@@ -267,7 +267,7 @@ int main(int argc, char **argv)
     else if (wisdom && *wisdom) pf_context_set_wisdom_path(ctx, wisdom);
     static const int sizes[][4] = {{1, 1 << 20}, {2, 1024, 1024}, {3, 128, 128, 128}, {3, 256, 256, 256}};
     /* quick: every dimension, the 1D and 2D grids a quarter of the full
-     * ones (the rows of issue 19 in a few minutes on a shared machine) */
+     * ones (the split-step rows in a few minutes on a shared machine) */
     static const int small[][4] = {{1, 1 << 18}, {2, 512, 512}, {3, 128, 128, 128}};
     if (quick) {
         for (int s = 0; s < 3; s++)

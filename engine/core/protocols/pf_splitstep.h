@@ -31,6 +31,7 @@
 #define PF_SPLITSTEP_H
 
 #include <stddef.h>
+#include "pf_constants.h"
 #include "pf_wave.h"
 
 /* Fills V (J) at time t (the wave's clock, s) for every grid point in
@@ -86,7 +87,7 @@ typedef struct pf_evolve_info {
 
 /* Largest potential phase per step (rad) before a warning is emitted, and the
  * phase the default step aims at. */
-#define PF_EVOLVE_PHASE_WARN 3.14159265358979323846
+#define PF_EVOLVE_PHASE_WARN PF_PI
 #define PF_EVOLVE_PHASE_DEFAULT 0.5
 
 /* Evolves for t seconds (finite).  Steps: n = ceil(|t| / dt), h = t / n.  The
