@@ -1,4 +1,4 @@
--- test_frame.lua - the moving frame a wave carries (issue 14 part 1): flight
+-- test_frame.lua - the moving frame a wave carries: flight
 -- under a uniform acceleration with the cloud kept on the grid, lab values and
 -- moments, kicks into the frame, the pf.setup default, and the FRAME_AWARE
 -- refusal of every other method.
@@ -405,7 +405,7 @@ end
 
 -- 9. The grid advisor under gravity: the proposals are co-moving grids (the
 -- same as without gravity), and the frame table tells the drop and what one
--- fixed lab grid would need (the 25 ms, 3D 87Rb drop of issue 14).
+-- fixed lab grid would need (the 25 ms, 3D 87Rb drop the frame was made for).
 do
   local sx = 2e-6
   local req = {mass = m, time = 25e-3, width = {sx, sx, sx}}

@@ -395,4 +395,49 @@ r_lv:pulse{from = "F1", to = "F2", area = pi / 2, duration = 20e-6}
 check.truthy(r_lv:populations().F1 < 1e-25, "Ramsey pair at resonance empties F1")
 local ok, err = pcall(function() return r_lv:level("F1"):position_width() end)
 check.truthy(ok, "no guard alarm on an emptied level" .. (ok and "" or (": " .. tostring(err))))
+-- The readers of pf.levels and lv:pulse, each with its bad input (no physics:
+-- the messages name the field and the value).
+do
+  local heavy = pf.gaussian(g, {mass = "133Cs", width = 5e-6})
+  local later = psi0:copy()
+  later:fly(1e-6)
+  local F = check.fails
+  F(function() pf.levels{labels = {"a"}, waves = {a = psi0}} end, "levels: one label", "2 to", "got 1")
+  F(function() pf.levels{labels = {"a", "a"}, waves = {a = psi0}} end, "levels: a label twice", "'a' appears twice")
+  F(function() pf.levels{labels = {"a", ""}, waves = {a = psi0}} end, "levels: empty label", "label 2 must be a string")
+  F(function() pf.levels{labels = {"a", "b"}, energies = {0}, waves = {a = psi0}} end, "levels: energies per label",
+    "must list 2 energies")
+  F(function() pf.levels{labels = {"a", "b"}, energies = {0, 0 / 0}, waves = {a = psi0}} end, "levels: NaN energy",
+    "energy 2 must be a finite number")
+  F(function() pf.levels{labels = {"a", "b"}, waves = {c = psi0}} end, "levels: wave of an unknown level",
+    "'c', which is not among the labels")
+  F(function() pf.levels{labels = {"a", "b"}, waves = {a = psi0, b = heavy}} end, "levels: waves of two masses",
+    "share one grid, mass and clock (level '")
+  F(function() pf.levels{labels = {"a", "b"}, waves = {a = psi0, b = later}} end, "levels: waves at two times",
+    "share one grid, mass and clock")
+  F(function() pf.levels{labels = {"a", "b"}, waves = {a = psi0}, grid = g} end, "levels: waves and grid",
+    "not both")
+  F(function() pf.levels{labels = {"a", "b"}} end, "levels: neither waves nor grid", "give 'waves' or 'grid' and 'mass'")
+  local lv = pf.levels{labels = {"a", "b", "c"}, grid = g, mass = "87Rb"}
+  check.equal(lv:clock(), 0, "levels from grid and mass start at clock 0")
+  F(function() lv:pulse{from = "a", to = "b", beam_rabi = {1e6, 1e6}, duration = 1e-6} end,
+    "pulse: beam_rabi alone", "'beam_rabi' and 'one_photon_detuning' go together")
+  F(function() lv:pulse{from = "a", to = "b", beam_rabi = {1e6, 1e6}, one_photon_detuning = 1e9, rabi = 1e3,
+    duration = 1e-6} end, "pulse: beam_rabi and rabi", "drop 'rabi' and 'area'")
+  F(function() lv:pulse{from = "a", to = "b", beam_rabi = {1e6}, one_photon_detuning = 1e9, duration = 1e-6} end,
+    "pulse: one beam", "two Rabi frequencies")
+  F(function() lv:pulse{from = "a", to = "b", beam_rabi = {1e6, 1e6}, one_photon_detuning = 0, duration = 1e-6} end,
+    "pulse: zero one-photon detuning", "must be non-zero")
+  F(function() lv:pulse{from = "a", to = "b", beam_rabi = {1e6, 1e6}, one_photon_detuning = 1e9, duration = 1e-6,
+    envelope = "gaussian", width = 1e-7} end, "pulse: beam_rabi with a Gaussian envelope", "square pulses only")
+  F(function() lv:pulse{from = "a", to = "b", beam_rabi = {1e6, 1e6}, one_photon_detuning = 1e9, duration = 1e-6,
+    light_shift = {a = 1}} end, "pulse: beam_rabi and light_shift", "drop 'light_shift'")
+  F(function() lv:pulse{from = "a", to = "b", area = pi, duration = 1e-6, light_shift = {c = 1}} end,
+    "pulse: light shift of an uncoupled level", "names 'c', which the pulse does not couple")
+  F(function() lv:pulse{from = "a", to = "b", area = pi, duration = 1e-6, light_shift = {a = 1 / 0}} end,
+    "pulse: infinite light shift", "light shift of 'a' must be a finite number")
+  F(function() lv:pulse{from = "a", to = "b", area = pi, duration = 1e-6, slices = 0} end, "pulse: zero slices",
+    "'slices' must be an integer 1 .. 1000000")
+  check.equal(lv:clock(), 0, "refused pulses leave the clock alone")
+end
 check.done()

@@ -245,10 +245,12 @@ static pf_status two_level_separable(pf_grid *g, int ax, long shift, const two_l
     return PF_OK;
 }
 
-pf_status pf_pulse_two_level(pf_wave *a, pf_wave *b, const pf_pulse_shape *shape, const pf_pulse_light *light)
+/* The two levels of a pulse share one grid, mass and clock; the pulse's
+ * shape and light are finite. */
+static pf_status check_pair(const pf_wave *a, const pf_wave *b, const pf_pulse_shape *shape,
+                            const pf_pulse_light *light)
 {
-    pf_grid *g = a->grid;
-    pf_context *ctx = g->ctx;
+    pf_context *ctx = a->grid->ctx;
     if (a == b) return pf_fail(ctx, PF_EINVAL, "a two-level pulse needs two distinct waves");
     if (!pf_grid_same(a->grid, b->grid))
         return pf_fail(ctx, PF_EINVAL, "the two levels of a pulse must share one grid");
@@ -262,38 +264,86 @@ pf_status pf_pulse_two_level(pf_wave *a, pf_wave *b, const pf_pulse_shape *shape
     if (!isfinite(light->detuning) || !isfinite(light->phase) || !isfinite(light->shift_a) ||
         !isfinite(light->shift_b))
         return pf_fail(ctx, PF_EINVAL, "pulse detuning, phase and light shifts must be finite");
+    return PF_OK;
+}
+
+/* The stages of the pulse: one for a square envelope (exact), else three per
+ * substep with Yoshida's weights and the Rabi frequency at each stage's
+ * midpoint (4th order).  plan->len heads one block of *bytes bytes. */
+static pf_status plan_stages(pf_context *ctx, const pf_pulse_shape *shape, two_level_plan *plan, size_t *bytes)
+{
+    int sub = shape->substeps > 0 ? shape->substeps : pf_pulse_auto_substeps(shape, 0, 0.0);
+    int stages = (shape->envelope == PF_ENVELOPE_SQUARE) ? 1 : 3 * sub;
+    *bytes = pf_bytes((size_t)stages, 2 * sizeof(double));
+    double *tab = pf_alloc(ctx, *bytes);
+    if (!tab) return pf_context_status(ctx);
+    *plan = (two_level_plan){stages, tab, tab + stages};
+    if (stages == 1) {
+        plan->len[0] = shape->duration;
+        plan->rabi[0] = shape->rabi;
+        return PF_OK;
+    }
+    double h = shape->duration / sub;
+    const double c[3] = {YOSHIDA_C1, YOSHIDA_C0, YOSHIDA_C1};
+    for (int i = 0; i < sub; i++) {
+        double t = i * h;
+        for (int j = 0; j < 3; j++) {
+            plan->len[3 * i + j] = c[j] * h;
+            plan->rabi[3 * i + j] = pf_pulse_rabi_at(shape, t + 0.5 * c[j] * h);
+            t += c[j] * h;
+        }
+    }
+    return PF_OK;
+}
+
+/* The pulse point by point (1D, or a kick along more than one axis): each
+ * momentum p of level a pairs with p + kick of level b. */
+static void two_level_pointwise(pf_grid *g, const long *shift, const two_level_plan *plan,
+                                const pf_pulse_light *light, double hm, double tau, double complex f12,
+                                double complex f21, double complex f22, double complex *sa, double complex *sb)
+{
+    const size_t total = g->total;
+    const double delta = light->detuning;
+#pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
+    for (size_t p = 0; p < total; p++) {
+        size_t ia[PF_MAX_DIM], ib[PF_MAX_DIM];
+        offset_index(g, p, ia);
+        size_t q = shifted_offset(g, ia, shift, 1);
+        offset_index(g, q, ib);
+        double h11 = kinetic_rate(g, ia, hm) + light->shift_a;
+        double h22 = kinetic_rate(g, ib, hm) + light->shift_b - delta;
+        double mean = 0.5 * (h11 + h22), half = 0.5 * (h11 - h22);
+        /* The SU(2) part [[u, v], [-v*, u*]], v the (1,2) element before the
+         * level-frame factors. */
+        double complex u, v;
+        pair_rotation(plan, half, &u, &v);
+        double complex common = cexp(-I * mean * tau);
+        double complex xa = sa[p], xb = sb[q];
+        sa[p] = common * (u * xa + v * f12 * xb);
+        sb[q] = common * (-conj(v) * f21 * xa + conj(u) * f22 * xb);
+    }
+}
+
+pf_status pf_pulse_two_level(pf_wave *a, pf_wave *b, const pf_pulse_shape *shape, const pf_pulse_light *light)
+{
+    pf_grid *g = a->grid;
+    pf_context *ctx = g->ctx;
+    pf_status s = check_pair(a, b, shape, light);
+    if (s) return s;
     long shift[PF_MAX_DIM] = {0};
     s = kick_shift(g, light->kick, shift, 0);
     if (s) return s;
-
-    int sub = shape->substeps > 0 ? shape->substeps : pf_pulse_auto_substeps(shape, 0, 0.0);
-    int stages = (shape->envelope == PF_ENVELOPE_SQUARE) ? 1 : 3 * sub;
-    size_t bytes = pf_bytes((size_t)stages, 2 * sizeof(double));
-    double *tab = pf_alloc(ctx, bytes);
-    if (!tab) return pf_context_status(ctx);
-    two_level_plan plan = {stages, tab, tab + stages};
-    if (stages == 1) {
-        plan.len[0] = shape->duration;
-        plan.rabi[0] = shape->rabi;
-    } else {
-        double h = shape->duration / sub;
-        const double c[3] = {YOSHIDA_C1, YOSHIDA_C0, YOSHIDA_C1};
-        for (int i = 0; i < sub; i++) {
-            double t = i * h;
-            for (int j = 0; j < 3; j++) {
-                plan.len[3 * i + j] = c[j] * h;
-                plan.rabi[3 * i + j] = pf_pulse_rabi_at(shape, t + 0.5 * c[j] * h);
-                t += c[j] * h;
-            }
-        }
-    }
+    two_level_plan plan;
+    size_t bytes;
+    s = plan_stages(ctx, shape, &plan, &bytes);
+    if (s) return s;
 
     s = pf_wave_to(a, PF_MOMENTUM);
     if (!s) s = pf_wave_to(b, PF_MOMENTUM);
     double complex *sa = s ? NULL : pf_wave_data(a);
     double complex *sb = (s || !sa) ? NULL : pf_wave_data(b);
     if (!sa || !sb) {
-        pf_free(ctx, tab, bytes);
+        pf_free(ctx, plan.len, bytes);
         return s ? s : pf_context_status(ctx);
     }
 
@@ -307,40 +357,18 @@ pf_status pf_pulse_two_level(pf_wave *a, pf_wave *b, const pf_pulse_shape *shape
     const double complex f12 = up * cexp(I * delta * t0) / r;
     const double complex f21 = conj(up) * cexp(-I * delta * t1) * r;
     const double complex f22 = cexp(-I * delta * tau);
-    const size_t total = g->total;
     int kicked = 0, ax = g->dim - 1;
     for (int d = 0; d < g->dim; d++)
         if (shift[d]) {
             kicked++;
             ax = d;
         }
-    if (g->dim >= 2 && kicked <= 1) {
+    if (g->dim >= 2 && kicked <= 1)
         s = two_level_separable(g, ax, shift[ax], &plan, light, hm, tau, f12, f21, f22, sa, sb);
-        pf_free(ctx, tab, bytes);
-        if (s) return s;
-        goto done;
-    }
-
-#pragma omp parallel for num_threads(ctx->threads) schedule(static)
-    for (size_t p = 0; p < total; p++) {
-        size_t ia[PF_MAX_DIM], ib[PF_MAX_DIM];
-        offset_index(g, p, ia);
-        size_t q = shifted_offset(g, ia, shift, 1);
-        offset_index(g, q, ib);
-        double h11 = kinetic_rate(g, ia, hm) + light->shift_a;
-        double h22 = kinetic_rate(g, ib, hm) + light->shift_b - delta;
-        double mean = 0.5 * (h11 + h22), half = 0.5 * (h11 - h22);
-        /* The SU(2) part [[u, v], [-v*, u*]], v the (1,2) element before the
-         * level-frame factors. */
-        double complex u, v;
-        pair_rotation(&plan, half, &u, &v);
-        double complex common = cexp(-I * mean * tau);
-        double complex xa = sa[p], xb = sb[q];
-        sa[p] = common * (u * xa + v * f12 * xb);
-        sb[q] = common * (-conj(v) * f21 * xa + conj(u) * f22 * xb);
-    }
-    pf_free(ctx, tab, bytes);
-done:;
+    else
+        two_level_pointwise(g, shift, &plan, light, hm, tau, f12, f21, f22, sa, sb);
+    pf_free(ctx, plan.len, bytes);
+    if (s) return s;
     pf_wave *w2[2] = {a, b};
     for (int i = 0; i < 2; i++) {
         w2[i]->clock += tau;

@@ -34,6 +34,13 @@ int luaopen_psiflight(lua_State *L);
 /* ---- context (pfl_context.c) ---- */
 /* The engine context belonging to this Lua state (created on first use). */
 pf_context *pfl_ctx(lua_State *L);
+/* n doubles from the engine's allocator (charged to its memory cap), owned
+ * by a userdata pushed on the stack.  The userdata is made first, so no Lua
+ * error, a memory error included, can leak the block; it is freed when the
+ * userdata is collected, or at once by pfl_engine_doubles_free(L, idx).
+ * Raises (naming name) when the engine refuses the block. */
+double *pfl_push_engine_doubles(lua_State *L, size_t n, const char *name);
+void pfl_engine_doubles_free(lua_State *L, int idx);
 /* Raises a Lua error for a failed core call: "name: message".  Returns only
  * when s is PF_OK and no strict-mode warning is pending. */
 void pfl_check(lua_State *L, pf_status s, const char *name);
@@ -167,23 +174,27 @@ int pfl_result_complex(lua_State *L, int idx, int nret, double complex *z);
 
 /* ---- grids (pfl_grid.c) ---- */
 pf_grid *pfl_check_grid(lua_State *L, int arg);
-/* Pushes a new userdata that takes over one reference to g. */
-void pfl_push_grid(lua_State *L, pf_grid *g);
+/* Pushes a closed (empty) grid userdata and returns its slot, for the core
+ * call that makes or retains the grid right after (see pfl_push_wave_slot). */
+pf_grid **pfl_push_grid_slot(lua_State *L);
 /* Reads 1-based indices at arg.. (one per axis) into 0-based idx. */
 void pfl_check_indices(lua_State *L, int arg, const pf_grid *g, size_t *idx, int ascending_k);
 
 /* ---- wave functions (pfl_wave.c) ---- */
 pf_wave *pfl_check_wave(lua_State *L, int arg);
-/* Pushes a new userdata that owns w. */
-void pfl_push_wave(lua_State *L, pf_wave *w);
+/* Userdata lifecycle, as Lua's io library makes a closed file handle before
+ * it opens the file: push the closed (empty) wave userdata first, then let
+ * the core write the new wave into its slot,
+ *     pfl_check(L, pf_wave_new(g, mass, pfl_push_wave_slot(L)), name);
+ * so a Lua memory error raised while the userdata is made leaves no core
+ * wave behind, and any error after that frees the wave with the userdata.
+ * Nothing that can raise may run between making a core object and storing
+ * it in its slot. */
+pf_wave **pfl_push_wave_slot(lua_State *L);
 /* The wave of the wave userdata at arg, or NULL when it is closed, without
  * the frame guard: for objects that keep waves and check frames themselves
  * (pfl_levels.c). */
 pf_wave *pfl_wave_peek(lua_State *L, int arg);
-/* Hands w to the closed (empty) wave userdata at arg, which owns it from
- * then on: push the userdata first (pfl_push_wave(L, NULL)), then make the
- * core wave, so a raising allocation leaves nothing to leak. */
-void pfl_wave_adopt(lua_State *L, int arg, pf_wave *w);
 /* Adds methods to the wave-function metatable (used by the method groups). */
 void pfl_add_wave_methods(lua_State *L, const luaL_Reg *methods);
 /* Adds functions to the module table, which is at stack index mod. */
@@ -256,23 +267,23 @@ void pfl_open_record(lua_State *L, int mod);
 void pfl_open_files(lua_State *L, int mod);
 void pfl_open_pictures(lua_State *L, int mod);
 void pfl_open_progress(lua_State *L, int mod);
-/* Measurements, detectors, ensembles (issue 6; helpers in pfl_measure.h). */
+/* Measurements, detectors, ensembles (helpers in pfl_measure.h). */
 void pfl_open_random(lua_State *L, int mod);
 void pfl_open_ensemble(lua_State *L, int mod);
 void pfl_open_measure(lua_State *L, int mod);
 void pfl_open_field(lua_State *L, int mod);
 void pfl_open_flux(lua_State *L, int mod);
 void pfl_open_detector(lua_State *L, int mod);
-void pfl_open_ops(lua_State *L, int mod);     /* issue 4: pulses, masks, shifts */
+void pfl_open_ops(lua_State *L, int mod);     /* protocol steps: pulses, masks, shifts */
 void pfl_open_force(lua_State *L, int mod);     /* w:fall: flight under a uniform force */
 void pfl_open_splitstep(lua_State *L, int mod); /* w:evolve (registers pf.potential first) */
 void pfl_open_relax(lua_State *L, int mod);     /* w:relax, w:energy */
 void pfl_open_coupling(lua_State *L, int mod);  /* pf.coupling: mean-field coupling constant */
 void pfl_open_beam(lua_State *L, int mod);      /* pf.beam: particle beams */
 void pfl_open_expand(lua_State *L, int mod);  /* w:expand: mean-field expansion on a growing grid */
-void pfl_open_levels(lua_State *L, int mod);  /* issue 15: pf.levels, internal states and pulses */
-void pfl_open_frame(lua_State *L, int mod);   /* issue 14: moving frames */
-void pfl_open_dist(lua_State *L, int mod);    /* issue 17: grids over MPI ranks */
+void pfl_open_levels(lua_State *L, int mod);  /* pf.levels: internal states and pulses */
+void pfl_open_frame(lua_State *L, int mod);   /* flight: moving frames */
+void pfl_open_dist(lua_State *L, int mod);    /* distributed grids over MPI ranks */
 /* Pushes the script name of the running C function ("wave:fly"), or nil. */
 void pfl_push_running_name(lua_State *L);
 /* Raises an argument error at arg when w (or g) is distributed over MPI

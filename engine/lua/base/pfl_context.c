@@ -170,6 +170,53 @@ static pfl_state *get_state(lua_State *L)
 
 pf_context *pfl_ctx(lua_State *L) { return get_state(L)->ctx; }
 
+/* ---- engine blocks owned by userdata ---- */
+#define ENGINE_BLOCK_TYPE "psiflight.engine_block"
+
+typedef struct engine_block {
+    pf_context *ctx; /* a reference of its own: the block may outlive the state's */
+    double *p;
+} engine_block;
+
+static void engine_block_release(engine_block *b)
+{
+    if (b->p) pf_context_free(b->ctx, b->p);
+    if (b->ctx) pf_context_release(b->ctx);
+    b->p = NULL;
+    b->ctx = NULL;
+}
+
+static int engine_block_gc(lua_State *L)
+{
+    engine_block_release(luaL_checkudata(L, 1, ENGINE_BLOCK_TYPE));
+    return 0;
+}
+
+double *pfl_push_engine_doubles(lua_State *L, size_t n, const char *name)
+{
+    pf_context *ctx = pfl_ctx(L);
+    engine_block *b = lua_newuserdatauv(L, sizeof *b, 0);
+    b->ctx = NULL;
+    b->p = NULL;
+    if (luaL_newmetatable(L, ENGINE_BLOCK_TYPE)) {
+        lua_pushcfunction(L, engine_block_gc);
+        lua_setfield(L, -2, "__gc");
+    }
+    lua_setmetatable(L, -2);
+    /* From here on nothing raises until the block is stored. */
+    pf_context_retain(ctx);
+    b->ctx = ctx;
+    if (n > ((size_t)1 << 40) / sizeof(double)) pfl_check(L, pf_fail(ctx, PF_ELIMIT, "%zu values is too many", n), name);
+    b->p = pf_context_alloc(ctx, (n ? n : 1) * sizeof(double));
+    if (!b->p) pfl_check(L, pf_context_status(ctx), name);
+    return b->p;
+}
+
+void pfl_engine_doubles_free(lua_State *L, int idx)
+{
+    engine_block_release(luaL_checkudata(L, idx, ENGINE_BLOCK_TYPE));
+}
+
 static int raise_kind(lua_State *L, pfl_state *st, pfl_error_kind kind, const char *text)
 {
     st->last_kind = kind;

@@ -26,11 +26,12 @@ pf_grid *pfl_check_grid(lua_State *L, int arg)
     return b->g;
 }
 
-void pfl_push_grid(lua_State *L, pf_grid *g)
+pf_grid **pfl_push_grid_slot(lua_State *L)
 {
     pfl_grid_box *b = lua_newuserdatauv(L, sizeof *b, 0);
-    b->g = g;
+    b->g = NULL;
     luaL_setmetatable(L, PFL_GRID_TYPE);
+    return &b->g;
 }
 
 /* Axis argument: 1-based, defaults to 1. */
@@ -98,9 +99,7 @@ static int l_grid(lua_State *L)
     if (has_spacing)
         for (int a = 0; a < dim; a++) span[a] = spacing[a] * (double)points[a];
     pfl_field_vector(L, 1, "origin", dim, origin, 0);
-    pf_grid *g;
-    pfl_check(L, pf_grid_new(pfl_ctx(L), dim, points, span, origin, &g), "grid");
-    pfl_push_grid(L, g);
+    pfl_check(L, pf_grid_new(pfl_ctx(L), dim, points, span, origin, pfl_push_grid_slot(L)), "grid");
     return 1;
 }
 

@@ -33,23 +33,17 @@ pf_wave *pfl_check_wave(lua_State *L, int arg)
     return b->w;
 }
 
-void pfl_push_wave(lua_State *L, pf_wave *w)
+pf_wave **pfl_push_wave_slot(lua_State *L)
 {
     pfl_wave_box *b = lua_newuserdatauv(L, sizeof *b, 0);
-    b->w = w;
+    b->w = NULL;
     luaL_setmetatable(L, PFL_WAVE_TYPE);
+    return &b->w;
 }
 
 pf_wave *pfl_wave_peek(lua_State *L, int arg)
 {
     return check_box(L, arg)->w;
-}
-
-void pfl_wave_adopt(lua_State *L, int arg, pf_wave *w)
-{
-    pfl_wave_box *b = check_box(L, arg);
-    if (b->w) luaL_error(L, "internal error: adopting a wave into an open wave userdata");
-    b->w = w;
 }
 
 void pfl_add_wave_methods(lua_State *L, const luaL_Reg *methods)
@@ -132,9 +126,9 @@ static int l_wave(lua_State *L)
         return luaL_error(L, "wave: give exactly one of 'position' (function of x) or 'momentum' (function of k)");
     int normalize = pfl_field_boolean(L, 2, "normalize", 1);
     int periodic = pfl_field_boolean(L, 2, "periodic", 0);
-    pf_wave *w;
-    pfl_check(L, pf_wave_new(g, mass, &w), "wave");
-    pfl_push_wave(L, w); /* owned by Lua from here on, so errors below do not leak */
+    pf_wave **slot = pfl_push_wave_slot(L); /* owned by Lua from here on, so errors below do not leak */
+    pfl_check(L, pf_wave_new(g, mass, slot), "wave");
+    pf_wave *w = *slot;
     pf_wave_set_periodic(w, periodic); /* before the build step, whose guard would warn */
     int fn = tp != LUA_TNIL ? -3 : -2;
     pfl_fill_from_function(L, w, tp != LUA_TNIL ? PF_POSITION : PF_MOMENTUM, fn, "wave");
@@ -186,27 +180,18 @@ static int push_density(lua_State *L, pf_rep rep, const char *name)
     pf_wave *w = pfl_check_wave(L, 1);
     size_t n = pf_grid_total(pf_wave_grid(w));
     if (n > (size_t)1 << 26) return luaL_error(L, "%s: %zu points is too many for a Lua table", name, n);
-    /* Charged to the engine's cap like any other array of grid size. */
-    pf_context *ctx = pfl_ctx(L);
-    double *buf = pf_context_alloc(ctx, n * sizeof *buf);
-    if (!buf) pfl_check(L, pf_context_status(ctx), name);
-    pf_status s = pf_wave_density(w, rep, buf);
-    if (s != PF_OK) {
-        pf_context_free(ctx, buf);
-        pfl_check(L, s, name);
-    }
-    /* lua_createtable may raise on memory exhaustion: free first by copying
-     * into a table built before any further allocation could fail. */
-    if (!lua_checkstack(L, 2)) {
-        pf_context_free(ctx, buf);
-        return luaL_error(L, "%s: stack overflow", name);
-    }
+    /* Charged to the engine's cap like any other array of grid size, and
+     * owned by a userdata, so the table building below may raise. */
+    double *buf = pfl_push_engine_doubles(L, n, name);
+    int held = lua_gettop(L);
+    pfl_check(L, pf_wave_density(w, rep, buf), name);
+    if (!lua_checkstack(L, 2)) return luaL_error(L, "%s: stack overflow", name);
     lua_createtable(L, (int)n, 0);
     for (size_t i = 0; i < n; i++) {
         lua_pushnumber(L, buf[i]);
         lua_rawseti(L, -2, (lua_Integer)i + 1);
     }
-    pf_context_free(ctx, buf);
+    pfl_engine_doubles_free(L, held); /* now, not at its collection: the bytes leave the cap */
     return 1;
 }
 
@@ -216,9 +201,7 @@ static int l_momentum_density(lua_State *L) { return push_density(L, PF_MOMENTUM
 static int l_copy(lua_State *L)
 {
     pf_wave *w = pfl_check_wave(L, 1);
-    pf_wave *c;
-    pfl_check(L, pf_wave_copy(w, &c), "copy");
-    pfl_push_wave(L, c);
+    pfl_check(L, pf_wave_copy(w, pfl_push_wave_slot(L)), "copy");
     return 1;
 }
 
@@ -249,8 +232,9 @@ static int l_representation(lua_State *L)
 static int l_grid_of(lua_State *L)
 {
     pf_grid *g = pf_wave_grid(pfl_check_wave(L, 1));
+    pf_grid **slot = pfl_push_grid_slot(L); /* before the reference it will hold */
     pf_grid_retain(g);
-    pfl_push_grid(L, g);
+    *slot = g;
     return 1;
 }
 

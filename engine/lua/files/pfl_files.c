@@ -600,18 +600,18 @@ static int l_load_wave(lua_State *L)
         return luaL_error(L, "load_wave: '%s' does not give the mass; pass mass= (kg)", path);
     int interpolate = pfl_field_boolean(L, 2, "interpolate", 0);
     int normalize = pfl_field_boolean(L, 2, "normalize", csv);
-    pf_grid *g;
+    pf_grid **grid_slot = pfl_push_grid_slot(L); /* Lua holds the grid reference, so errors below do not leak it */
     if (pfl_option_get(L, 2, "grid") != LUA_TNIL) {
         if (!luaL_testudata(L, -1, PFL_GRID_TYPE)) {
             char buf[80];
             return luaL_error(L, "load_wave: field 'grid' must be a grid (pf.grid), got %s", pfl_describe(L, -1, buf, sizeof buf));
         }
-        g = pfl_check_grid(L, -1);
-        pf_grid_retain(g);
+        pf_grid_retain(*grid_slot = pfl_check_grid(L, -1));
     } else {
-        g = grid_from_samples(L, s, path);
+        *grid_slot = grid_from_samples(L, s, path);
     }
     lua_pop(L, 1);
+    pf_grid *g = *grid_slot;
     if (dist_src.slab_count) {
         /* This rank's share of the values (all of them when the grid is not
          * distributed, e.g. 1D), counted against the memory cap. */
@@ -619,15 +619,11 @@ static int l_load_wave(lua_State *L)
         if (!pf_grid_distributed(g)) dist_src.slab_count = 0;
         dist_src.rep = (int)s->rep;
         pf_samples_free(s);
-        pf_status rs = pf_h5_read(pfl_ctx(L), path, &dist_src, s);
-        if (rs) pf_grid_release(g);
-        pfl_check(L, rs, "load_wave");
+        pfl_check(L, pf_h5_read(pfl_ctx(L), path, &dist_src, s), "load_wave");
     }
-    pf_wave *w;
-    pf_status st = pf_wave_new(g, mass, &w);
-    pf_grid_release(g);
-    pfl_check(L, st, "load_wave");
-    pfl_push_wave(L, w);
+    pf_wave **slot = pfl_push_wave_slot(L);
+    pfl_check(L, pf_wave_new(g, mass, slot), "load_wave");
+    pf_wave *w = *slot;
     char what[600];
     snprintf(what, sizeof what, "'%s'", path);
     pfl_check(L, pf_samples_to_wave(pfl_ctx(L), s, w, interpolate, what), "load_wave");

@@ -594,9 +594,9 @@ static int l_picture_carpet(lua_State *L)
     double *rho = pfl_scratch_doubles(L, nshow * (size_t)frames);
     double *t = pfl_scratch_doubles(L, (size_t)frames);
     double *col = pfl_scratch_doubles(L, travels ? nshow : nx);
-    pf_wave *c;
-    pfl_check(L, pf_wave_copy(w, &c), "picture_carpet");
-    pfl_push_wave(L, c); /* owned by Lua: freed even if a step below raises */
+    pf_wave **slot = pfl_push_wave_slot(L); /* owned by Lua: freed even if a step below raises */
+    pfl_check(L, pf_wave_copy(w, slot), "picture_carpet");
+    pf_wave *c = *slot;
     pf_progress bar;
     pf_progress_begin(&bar, stderr, pfl_progress_wanted(L), frames, "carpet");
     for (int j = 0; j < frames; j++) {

@@ -168,38 +168,26 @@ static int l_far_field(lua_State *L)
     int accelerated = pfl_frame_acceleration(L, opts, d, acc, "wave:far_field");
     size_t n = pf_grid_total(g);
     if (n > (size_t)1 << 26) return luaL_error(L, "far_field: %zu points is too many for a Lua table", n);
-    pf_context *ctx = pfl_ctx(L);
-    double *buf = pf_context_alloc(ctx, n * sizeof *buf);
-    if (!buf) pfl_check(L, pf_context_status(ctx), "far_field");
+    /* The image and its grid are owned by userdata from the start, so the
+     * table building below may raise without leaking either. */
+    double *buf = pfl_push_engine_doubles(L, n, "far_field");
+    int held = lua_gettop(L);
     pf_far_field_info info;
-    pf_status s = pf_wave_far_field_in_frame(w, t, accelerated ? acc : NULL, buf, &info, lab_origin);
-    if (s) {
-        pf_context_free(ctx, buf);
-        pfl_check(L, s, "far_field");
-    }
+    pfl_check(L, pf_wave_far_field_in_frame(w, t, accelerated ? acc : NULL, buf, &info, lab_origin), "far_field");
     size_t pts[PF_MAX_DIM];
     double span[PF_MAX_DIM];
     for (int a = 0; a < d; a++) {
         pts[a] = pf_grid_points(g, a);
         span[a] = info.spacing[a] * (double)pts[a];
     }
-    pf_grid *img;
-    s = pf_grid_new(ctx, d, pts, span, lab_origin, &img);
-    if (s) {
-        pf_context_free(ctx, buf);
-        pfl_check(L, s, "far_field");
-    }
-    pfl_push_grid(L, img); /* owned by Lua from here on */
-    if (!lua_checkstack(L, 4)) {
-        pf_context_free(ctx, buf);
-        return luaL_error(L, "far_field: stack overflow");
-    }
+    pfl_check(L, pf_grid_new(pfl_ctx(L), d, pts, span, lab_origin, pfl_push_grid_slot(L)), "far_field");
+    if (!lua_checkstack(L, 4)) return luaL_error(L, "far_field: stack overflow");
     lua_createtable(L, (int)n, 0);
     for (size_t i = 0; i < n; i++) {
         lua_pushnumber(L, buf[i]);
         lua_rawseti(L, -2, (lua_Integer)i + 1);
     }
-    pf_context_free(ctx, buf);
+    pfl_engine_doubles_free(L, held); /* now, not at its collection: the bytes leave the cap */
     lua_createtable(L, 0, 6);
     lua_pushvalue(L, -3);
     lua_setfield(L, -2, "grid");

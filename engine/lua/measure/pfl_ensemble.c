@@ -213,10 +213,8 @@ static int l_mixture(lua_State *L)
         if (!g0) g0 = pf_wave_grid(w);
         else if (!pf_grid_same(g0, pf_wave_grid(w)))
             return luaL_error(L, "mixture: entry %d lives on a grid of another geometry", (int)i);
-        pf_wave *c;
-        pfl_check(L, pf_wave_copy(w, &c), "mixture");
-        lua_pop(L, 1);
-        pfl_push_wave(L, c);
+        pfl_check(L, pf_wave_copy(w, pfl_push_wave_slot(L)), "mixture");
+        lua_remove(L, -2); /* the given wave */
         lua_seti(L, mt, i);
         double p = 1;
         if (has_w) {
@@ -288,8 +286,9 @@ static int thermal_eigenstates(lua_State *L, pf_grid *g, const pf_thermal_spec *
         /* Members are built one wave at a time: a stop request is honoured
          * between them (everything built so far is on the Lua stack). */
         member_progress(L, i, count);
-        pfl_check(L, pf_wave_new(g, sp->mass, &w), "thermal");
-        pfl_push_wave(L, w);
+        pf_wave **slot = pfl_push_wave_slot(L);
+        pfl_check(L, pf_wave_new(g, sp->mass, slot), "thermal");
+        w = *slot;
         pfl_check(L, pf_build_oscillator(w, sp->omega, held[i].n, center, k0, 1), "thermal");
         lua_seti(L, mt, (lua_Integer)i + 1);
         lua_pushnumber(L, held[i].weight);
@@ -367,8 +366,9 @@ static int l_thermal(lua_State *L)
         /* Members are built one wave at a time: a stop request is honoured
          * between them (everything built so far is on the Lua stack). */
         member_progress(L, i, count);
-        pfl_check(L, pf_wave_new(g, sp.mass, &w), "thermal");
-        pfl_push_wave(L, w);
+        pf_wave **slot = pfl_push_wave_slot(L);
+        pfl_check(L, pf_wave_new(g, sp.mass, slot), "thermal");
+        w = *slot;
         pfl_check(L, pf_wave_fill_coherent(w, center, s0, held[i].shift, held[i].kmean), "thermal");
         lua_seti(L, mt, (lua_Integer)i + 1);
         lua_pushnumber(L, held[i].weight);
@@ -456,10 +456,9 @@ static int l_copy(lua_State *L)
     int mt = lua_gettop(L);
     for (lua_Integer i = 1; i <= n; i++) {
         lua_geti(L, src, i);
-        pf_wave *c;
-        pfl_check(L, pf_wave_copy(pfl_check_wave(L, -1), &c), "copy");
-        lua_pop(L, 1);
-        pfl_push_wave(L, c);
+        pf_wave *w = pfl_check_wave(L, -1);
+        pfl_check(L, pf_wave_copy(w, pfl_push_wave_slot(L)), "copy");
+        lua_remove(L, -2); /* the member copied */
         lua_seti(L, mt, i);
     }
     lua_getiuservalue(L, 1, 2);

@@ -1,4 +1,4 @@
-/* pfl_measure.h - helpers shared by the measurement bindings (issue 6):
+/* pfl_measure.h - helpers shared by the measurement bindings:
  * states that are either a wave function or an ensemble, the per-state
  * random generator, regions, and distribution tables. */
 #ifndef PFL_MEASURE_H

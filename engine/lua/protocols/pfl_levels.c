@@ -112,6 +112,101 @@ static void vector_at(lua_State *L, int idx, int dim, double *out, const char *f
         if (!isfinite(out[a])) luaL_error(L, "%s: %s must be finite, got %g", fname, what, out[a]);
 }
 
+/* labels = {"F1", "F2", ...}: 2 to LEVELS_MAX distinct names; returns their
+ * count. */
+static int read_labels(lua_State *L, char label[LEVELS_MAX][LABEL_MAX])
+{
+    if (pfl_option_get(L, 1, "labels") != LUA_TTABLE) return luaL_error(L, "levels: field 'labels' (a list of 2 to %d names) is required", LEVELS_MAX);
+    int n = (int)luaL_len(L, -1);
+    if (n < 2 || n > LEVELS_MAX) return luaL_error(L, "levels: field 'labels' must list 2 to %d levels, got %d", LEVELS_MAX, n);
+    for (int i = 0; i < n; i++) {
+        lua_rawgeti(L, -1, i + 1);
+        size_t len = 0;
+        const char *s = lua_type(L, -1) == LUA_TSTRING ? lua_tolstring(L, -1, &len) : NULL;
+        if (!s || len == 0 || len >= LABEL_MAX)
+            return luaL_error(L, "levels: label %d must be a string of 1 to %d characters", i + 1, LABEL_MAX - 1);
+        memcpy(label[i], s, len + 1);
+        for (int j = 0; j < i; j++)
+            if (strcmp(label[j], s) == 0) return luaL_error(L, "levels: label '%s' appears twice", s);
+        lua_pop(L, 1);
+    }
+    lua_pop(L, 1);
+    return n;
+}
+
+/* energies = {E1, ...} (J), one per label; all 0 when absent. */
+static void read_energies(lua_State *L, int n, double *energy)
+{
+    for (int i = 0; i < n; i++) energy[i] = 0;
+    if (pfl_option_get(L, 1, "energies") != LUA_TNIL) {
+        if (!lua_istable(L, -1) || luaL_len(L, -1) != n)
+            luaL_error(L, "levels: field 'energies' must list %d energies (J), one per label", n);
+        for (int i = 0; i < n; i++) {
+            lua_rawgeti(L, -1, i + 1);
+            int ok = lua_type(L, -1) == LUA_TNUMBER;
+            energy[i] = lua_tonumber(L, -1);
+            if (!ok || !isfinite(energy[i])) luaL_error(L, "levels: energy %d must be a finite number (J)", i + 1);
+            lua_pop(L, 1);
+        }
+    }
+    lua_pop(L, 1);
+}
+
+/* waves = {label = psi, ...}: given[i] is the wave for level i, or NULL.
+ * The table stays on the stack (it anchors the waves). */
+static void read_given_waves(lua_State *L, int n, char label[LEVELS_MAX][LABEL_MAX], pf_wave **given)
+{
+    for (int i = 0; i < n; i++) given[i] = NULL;
+    if (pfl_option_get(L, 1, "waves") == LUA_TNIL) return;
+    if (!lua_istable(L, -1)) luaL_error(L, "levels: field 'waves' must map labels to wave functions");
+    int waves_t = lua_gettop(L);
+    lua_pushnil(L);
+    while (lua_next(L, waves_t)) {
+        if (lua_type(L, -2) != LUA_TSTRING) luaL_error(L, "levels: field 'waves' must be keyed by level labels");
+        const char *key = lua_tostring(L, -2);
+        int i = -1;
+        for (int j = 0; j < n; j++)
+            if (strcmp(label[j], key) == 0) i = j;
+        if (i < 0) luaL_error(L, "levels: field 'waves' names '%s', which is not among the labels", key);
+        given[i] = pfl_wave_peek(L, -1);
+        if (!given[i]) luaL_error(L, "levels: the wave given for '%s' is closed", key);
+        lua_pop(L, 1);
+    }
+}
+
+/* The grid, mass and clock every level shares: those of the given waves
+ * (which must agree), or grid = and mass = (clock 0).  Returns the first
+ * given wave, or NULL. */
+static pf_wave *shared_geometry(lua_State *L, int n, char label[LEVELS_MAX][LABEL_MAX], pf_wave *const *given,
+                                pf_grid **g, double *mass, double *clock)
+{
+    pf_wave *first = NULL;
+    for (int i = 0; i < n && !first; i++) first = given[i];
+    *clock = 0;
+    if (!first) {
+        if (pfl_option_get(L, 1, "grid") == LUA_TNIL) luaL_error(L, "levels: give 'waves' or 'grid' and 'mass'");
+        *g = pfl_check_grid(L, -1);
+        lua_pop(L, 1);
+        *mass = pfl_field_mass(L, 1, "levels");
+        return NULL;
+    }
+    *g = pf_wave_grid(first);
+    *mass = pf_wave_mass(first);
+    *clock = pf_wave_clock(first);
+    for (int i = 0; i < n; i++) {
+        if (!given[i]) continue;
+        if (!pf_grid_same(pf_wave_grid(given[i]), *g) || pf_wave_mass(given[i]) != *mass ||
+            pf_wave_clock(given[i]) != *clock)
+            luaL_error(L, "levels: the waves must share one grid, mass and clock (level '%s' differs)", label[i]);
+    }
+    int t = pfl_option_get(L, 1, "grid");
+    lua_pop(L, 1);
+    if (t != LUA_TNIL || pfl_option_get(L, 1, "mass") != LUA_TNIL)
+        luaL_error(L, "levels: give either 'waves' or 'grid' and 'mass', not both");
+    lua_pop(L, 1);
+    return first;
+}
+
 /* pf.levels{labels = {"F1", "F2", ...}, energies = {E1, E2, ...} (J),
  *           waves = {F1 = psi, ...} | grid = g, mass = m, frame = false | true}
  * The given waves are copied into their levels; the other levels start
@@ -125,81 +220,16 @@ static int l_levels(lua_State *L)
     luaL_setmetatable(L, PFL_LEVELS_TYPE);
     int box = lua_gettop(L);
     const int moving = pfl_field_boolean(L, 1, "frame", 0);
-    int n = 0;
-    if (pfl_option_get(L, 1, "labels") != LUA_TTABLE) return luaL_error(L, "levels: field 'labels' (a list of 2 to %d names) is required", LEVELS_MAX);
-    n = (int)luaL_len(L, -1);
-    if (n < 2 || n > LEVELS_MAX) return luaL_error(L, "levels: field 'labels' must list 2 to %d levels, got %d", LEVELS_MAX, n);
     char label[LEVELS_MAX][LABEL_MAX];
-    for (int i = 0; i < n; i++) {
-        lua_rawgeti(L, -1, i + 1);
-        size_t len = 0;
-        const char *s = lua_type(L, -1) == LUA_TSTRING ? lua_tolstring(L, -1, &len) : NULL;
-        if (!s || len == 0 || len >= LABEL_MAX)
-            return luaL_error(L, "levels: label %d must be a string of 1 to %d characters", i + 1, LABEL_MAX - 1);
-        memcpy(label[i], s, len + 1);
-        for (int j = 0; j < i; j++)
-            if (strcmp(label[j], s) == 0) return luaL_error(L, "levels: label '%s' appears twice", s);
-        lua_pop(L, 1);
-    }
-    lua_pop(L, 1);
+    const int n = read_labels(L, label);
     double energy[LEVELS_MAX] = {0};
-    if (pfl_option_get(L, 1, "energies") != LUA_TNIL) {
-        if (!lua_istable(L, -1) || luaL_len(L, -1) != n)
-            return luaL_error(L, "levels: field 'energies' must list %d energies (J), one per label", n);
-        for (int i = 0; i < n; i++) {
-            lua_rawgeti(L, -1, i + 1);
-            int ok = lua_type(L, -1) == LUA_TNUMBER;
-            energy[i] = lua_tonumber(L, -1);
-            if (!ok || !isfinite(energy[i])) return luaL_error(L, "levels: energy %d must be a finite number (J)", i + 1);
-            lua_pop(L, 1);
-        }
-    }
-    lua_pop(L, 1);
-
+    read_energies(L, n, energy);
     /* The level waves: copies of the given ones, the rest empty. */
     pf_wave *given[LEVELS_MAX] = {0};
-    int waves_t = 0;
-    if (pfl_option_get(L, 1, "waves") != LUA_TNIL) {
-        if (!lua_istable(L, -1)) return luaL_error(L, "levels: field 'waves' must map labels to wave functions");
-        waves_t = lua_gettop(L);
-        lua_pushnil(L);
-        while (lua_next(L, waves_t)) {
-            if (lua_type(L, -2) != LUA_TSTRING) return luaL_error(L, "levels: field 'waves' must be keyed by level labels");
-            const char *key = lua_tostring(L, -2);
-            int i = -1;
-            for (int j = 0; j < n; j++)
-                if (strcmp(label[j], key) == 0) i = j;
-            if (i < 0) return luaL_error(L, "levels: field 'waves' names '%s', which is not among the labels", key);
-            given[i] = pfl_wave_peek(L, -1);
-            if (!given[i]) return luaL_error(L, "levels: the wave given for '%s' is closed", key);
-            lua_pop(L, 1);
-        }
-    }
-    pf_wave *first = NULL;
-    for (int i = 0; i < n && !first; i++) first = given[i];
+    read_given_waves(L, n, label, given);
     pf_grid *g = NULL;
     double mass = 0, clock = 0;
-    if (first) {
-        g = pf_wave_grid(first);
-        mass = pf_wave_mass(first);
-        clock = pf_wave_clock(first);
-        for (int i = 0; i < n; i++) {
-            if (!given[i]) continue;
-            if (!pf_grid_same(pf_wave_grid(given[i]), g) || pf_wave_mass(given[i]) != mass ||
-                pf_wave_clock(given[i]) != clock)
-                return luaL_error(L, "levels: the waves must share one grid, mass and clock (level '%s' differs)", label[i]);
-        }
-        int t = pfl_option_get(L, 1, "grid");
-        lua_pop(L, 1);
-        if (t != LUA_TNIL || pfl_option_get(L, 1, "mass") != LUA_TNIL)
-            return luaL_error(L, "levels: give either 'waves' or 'grid' and 'mass', not both");
-        lua_pop(L, 1);
-    } else {
-        if (pfl_option_get(L, 1, "grid") == LUA_TNIL) return luaL_error(L, "levels: give 'waves' or 'grid' and 'mass'");
-        g = pfl_check_grid(L, -1);
-        lua_pop(L, 1);
-        mass = pfl_field_mass(L, 1, "levels");
-    }
+    pf_wave *first = shared_geometry(L, n, label, given, &g, &mass, &clock);
     /* Each wave goes into a userdata as soon as it exists (an error below
      * then leaves nothing to leak); the table keeps them with the object. */
     lua_createtable(L, n, 0);
@@ -207,11 +237,10 @@ static int l_levels(lua_State *L)
     pf_frame frame0;
     if (first) pf_wave_frame(first, &frame0);
     for (int i = 0; i < n; i++) {
-        pf_wave *w = NULL;
-        pfl_push_wave(L, NULL);
-        pf_status s = given[i] ? pf_wave_copy(given[i], &w) : pf_wave_new(g, mass, &w);
+        pf_wave **slot = pfl_push_wave_slot(L);
+        pf_status s = given[i] ? pf_wave_copy(given[i], slot) : pf_wave_new(g, mass, slot);
         pfl_check(L, s, "levels");
-        pfl_wave_adopt(L, -1, w);
+        pf_wave *w = *slot;
         if (!given[i]) pf_wave_set_clock(w, clock);
         if (!given[i] && first) pfl_check(L, pf_wave_set_frame(w, &frame0), "levels");
         waves[i] = w;
@@ -454,6 +483,86 @@ static int l_evolve(lua_State *L)
     return 2;
 }
 
+/* Two-photon adiabatic elimination (docs/internal-states.md): with
+ * beam_rabi = {O1, O2} and one_photon_detuning = Delta, a square pulse of
+ * effective Rabi frequency O1 O2 / (2 |Delta|) and light shifts
+ * O1^2 / (4 Delta), O2^2 / (4 Delta).  Returns the phase the sign of Delta
+ * adds (a negative Delta flips the sign of Omega_eff). */
+static double read_two_photon(lua_State *L, pf_pulse_shape *sh, pf_pulse_light *li)
+{
+    int has_rabi = pfl_option_get(L, 2, "rabi") != LUA_TNIL;
+    lua_pop(L, 1);
+    int has_area = pfl_option_get(L, 2, "area") != LUA_TNIL;
+    lua_pop(L, 1);
+    if (has_rabi || has_area) luaL_error(L, "pulse: with 'beam_rabi' the Rabi frequency follows from the beams; drop 'rabi' and 'area'");
+    double beams[2];
+    pfl_option_get(L, 2, "beam_rabi");
+    if (!lua_istable(L, -1) || luaL_len(L, -1) != 2) luaL_error(L, "pulse: field 'beam_rabi' must hold two Rabi frequencies (rad/s)");
+    for (int i = 0; i < 2; i++) {
+        lua_rawgeti(L, -1, i + 1);
+        beams[i] = lua_tonumber(L, -1);
+        if (lua_type(L, -1) != LUA_TNUMBER || !isfinite(beams[i]) || beams[i] < 0)
+            luaL_error(L, "pulse: field 'beam_rabi' must hold two finite numbers >= 0 (rad/s)");
+        lua_pop(L, 1);
+    }
+    lua_pop(L, 1);
+    double Delta = pfl_field_number(L, 2, "one_photon_detuning", 0, 1);
+    if (Delta == 0) luaL_error(L, "pulse: field 'one_photon_detuning' must be non-zero (rad/s)");
+    if (pfl_option_get(L, 2, "light_shift") != LUA_TNIL)
+        luaL_error(L, "pulse: with 'beam_rabi' the light shifts follow from the beams; drop 'light_shift'");
+    lua_pop(L, 1);
+    memset(sh, 0, sizeof *sh);
+    sh->envelope = PF_ENVELOPE_SQUARE;
+    if (pfl_option_get(L, 2, "envelope") != LUA_TNIL) {
+        const char *e = lua_tostring(L, -1);
+        if (!e || strcmp(e, "square")) luaL_error(L, "pulse: 'beam_rabi' takes square pulses only");
+    }
+    lua_pop(L, 1);
+    sh->duration = pfl_field_number(L, 2, "duration", 0, 1);
+    sh->rabi = beams[0] * beams[1] / (2.0 * fabs(Delta));
+    li->shift_a = beams[0] * beams[0] / (4.0 * Delta);
+    li->shift_b = beams[1] * beams[1] / (4.0 * Delta);
+    if (pfl_option_get(L, 2, "substeps") != LUA_TNIL) luaL_error(L, "pulse: square pulses take no 'substeps'");
+    lua_pop(L, 1);
+    return Delta < 0 ? PF_PI : 0.0;
+}
+
+/* light_shift = {label = rad/s}: shifts of the two coupled levels ia, ib. */
+static void read_light_shifts(lua_State *L, pf_levels *b, int ia, int ib, pf_pulse_light *li)
+{
+    if (pfl_option_get(L, 2, "light_shift") != LUA_TNIL) {
+        if (!lua_istable(L, -1)) luaL_error(L, "pulse: field 'light_shift' must map level labels to shifts (rad/s)");
+        int lt = lua_gettop(L);
+        lua_pushnil(L);
+        while (lua_next(L, lt)) {
+            int i = check_label_at(L, b, -2, "pulse", "light_shift");
+            double v = lua_tonumber(L, -1);
+            if (lua_type(L, -1) != LUA_TNUMBER || !isfinite(v))
+                luaL_error(L, "pulse: light shift of '%s' must be a finite number (rad/s)", pf_levels_label(b, i));
+            if (i == ia) li->shift_a = v;
+            else if (i == ib) li->shift_b = v;
+            else luaL_error(L, "pulse: field 'light_shift' names '%s', which the pulse does not couple", pf_levels_label(b, i));
+            lua_pop(L, 1);
+        }
+    }
+    lua_pop(L, 1);
+}
+
+/* slices = 1 .. 1000000: pieces the pulse is cut into; by default 16 under a
+ * force or a chirp (moving) and 1 otherwise (docs/internal-states.md). */
+static int read_slices(lua_State *L, int moving)
+{
+    int slices = moving ? 16 : 1;
+    if (pfl_option_get(L, 2, "slices") != LUA_TNIL) {
+        int ok = 0;
+        lua_Integer v = pfl_tointegerx(L, -1, &ok);
+        if (!ok || v < 1 || v > 1000000) luaL_error(L, "pulse: field 'slices' must be an integer 1 .. 1000000");
+        slices = (int)v;
+    }
+    lua_pop(L, 1);
+    return slices;
+}
+
 /* lv:pulse{from =, to =, rabi | area, duration, envelope, width, detuning | omega,
  *          phase, wavenumber, light_shift = {label = rad/s}, one_photon_detuning,
  *          beam_rabi = {O1, O2}, substeps} -> lv */
@@ -472,9 +581,7 @@ static int l_pulse(lua_State *L)
 
     pf_pulse_light li;
     memset(&li, 0, sizeof li);
-    /* Two-photon adiabatic elimination: effective Rabi frequency and light
-     * shifts from the single-beam Rabi frequencies and the one-photon
-     * detuning (docs/internal-states.md). */
+    /* beam_rabi with one_photon_detuning: a two-photon pulse (read_two_photon). */
     int has_beams = pfl_option_get(L, 2, "beam_rabi") != LUA_TNIL;
     lua_pop(L, 1);
     int has_1ph = pfl_option_get(L, 2, "one_photon_detuning") != LUA_TNIL;
@@ -483,61 +590,10 @@ static int l_pulse(lua_State *L)
     pf_pulse_shape sh;
     double beam_sign = 0.0;
     if (has_beams) {
-        int has_rabi = pfl_option_get(L, 2, "rabi") != LUA_TNIL;
-        lua_pop(L, 1);
-        int has_area = pfl_option_get(L, 2, "area") != LUA_TNIL;
-        lua_pop(L, 1);
-        if (has_rabi || has_area) return luaL_error(L, "pulse: with 'beam_rabi' the Rabi frequency follows from the beams; drop 'rabi' and 'area'");
-        double beams[2];
-        pfl_option_get(L, 2, "beam_rabi");
-        if (!lua_istable(L, -1) || luaL_len(L, -1) != 2) return luaL_error(L, "pulse: field 'beam_rabi' must hold two Rabi frequencies (rad/s)");
-        for (int i = 0; i < 2; i++) {
-            lua_rawgeti(L, -1, i + 1);
-            beams[i] = lua_tonumber(L, -1);
-            if (lua_type(L, -1) != LUA_TNUMBER || !isfinite(beams[i]) || beams[i] < 0)
-                return luaL_error(L, "pulse: field 'beam_rabi' must hold two finite numbers >= 0 (rad/s)");
-            lua_pop(L, 1);
-        }
-        lua_pop(L, 1);
-        double Delta = pfl_field_number(L, 2, "one_photon_detuning", 0, 1);
-        if (Delta == 0) return luaL_error(L, "pulse: field 'one_photon_detuning' must be non-zero (rad/s)");
-        if (pfl_option_get(L, 2, "light_shift") != LUA_TNIL)
-            return luaL_error(L, "pulse: with 'beam_rabi' the light shifts follow from the beams; drop 'light_shift'");
-        lua_pop(L, 1);
-        pf_pulse_shape tmp;
-        memset(&tmp, 0, sizeof tmp);
-        sh = tmp;
-        sh.envelope = PF_ENVELOPE_SQUARE;
-        if (pfl_option_get(L, 2, "envelope") != LUA_TNIL) {
-            const char *e = lua_tostring(L, -1);
-            if (!e || strcmp(e, "square")) return luaL_error(L, "pulse: 'beam_rabi' takes square pulses only");
-        }
-        lua_pop(L, 1);
-        sh.duration = pfl_field_number(L, 2, "duration", 0, 1);
-        sh.rabi = beams[0] * beams[1] / (2.0 * fabs(Delta));
-        beam_sign = Delta < 0 ? PF_PI : 0.0; /* Omega_eff = O1 O2 / (2 Delta): a negative Delta flips its sign */
-        li.shift_a = beams[0] * beams[0] / (4.0 * Delta);
-        li.shift_b = beams[1] * beams[1] / (4.0 * Delta);
-        if (pfl_option_get(L, 2, "substeps") != LUA_TNIL) return luaL_error(L, "pulse: square pulses take no 'substeps'");
-        lua_pop(L, 1);
+        beam_sign = read_two_photon(L, &sh, &li);
     } else {
         read_shape(L, 2, &sh, fname);
-        if (pfl_option_get(L, 2, "light_shift") != LUA_TNIL) {
-            if (!lua_istable(L, -1)) return luaL_error(L, "pulse: field 'light_shift' must map level labels to shifts (rad/s)");
-            int lt = lua_gettop(L);
-            lua_pushnil(L);
-            while (lua_next(L, lt)) {
-                int i = check_label_at(L, b, -2, fname, "light_shift");
-                double v = lua_tonumber(L, -1);
-                if (lua_type(L, -1) != LUA_TNUMBER || !isfinite(v))
-                    return luaL_error(L, "pulse: light shift of '%s' must be a finite number (rad/s)", pf_levels_label(b, i));
-                if (i == ia) li.shift_a = v;
-                else if (i == ib) li.shift_b = v;
-                else return luaL_error(L, "pulse: field 'light_shift' names '%s', which the pulse does not couple", pf_levels_label(b, i));
-                lua_pop(L, 1);
-            }
-        }
-        lua_pop(L, 1);
+        read_light_shifts(L, b, ia, ib, &li);
     }
     int has_det = pfl_option_get(L, 2, "detuning") != LUA_TNIL;
     lua_pop(L, 1);
@@ -553,16 +609,7 @@ static int l_pulse(lua_State *L)
     pf_levels_forces forces;
     read_accelerations(L, b, 2, dim, &forces, fname);
     double chirp = pfl_field_number(L, 2, "chirp", 0, 0);
-    int slices = 1;
-    if (pfl_option_get(L, 2, "slices") != LUA_TNIL) {
-        int ok = 0;
-        lua_Integer v = pfl_tointegerx(L, -1, &ok);
-        if (!ok || v < 1 || v > 1000000) return luaL_error(L, "pulse: field 'slices' must be an integer 1 .. 1000000");
-        slices = (int)v;
-    } else if (forces.has[ia] || forces.has[ib] || chirp != 0) {
-        slices = 16; /* default for a force or a chirp during the pulse (docs/internal-states.md) */
-    }
-    lua_pop(L, 1);
+    int slices = read_slices(L, forces.has[ia] || forces.has[ib] || chirp != 0);
     pfl_check(L, pf_levels_pulse(b, ia, ib, &sh, &li, chirp, &forces, slices), fname);
     note_levels(L, b);
     lua_settop(L, 1);

@@ -11,9 +11,9 @@
 /* New wave = copy of w scaled by a. */
 static pf_wave *scaled_copy(lua_State *L, pf_wave *w, double complex a, const char *name)
 {
-    pf_wave *c;
-    pfl_check(L, pf_wave_copy(w, &c), name);
-    pfl_push_wave(L, c);
+    pf_wave **slot = pfl_push_wave_slot(L);
+    pfl_check(L, pf_wave_copy(w, slot), name);
+    pf_wave *c = *slot;
     pfl_check(L, pf_wave_scale(c, a), name);
     return c;
 }

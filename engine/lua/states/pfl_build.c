@@ -117,10 +117,9 @@ static int read_normalize(lua_State *L, int t, const char *fname)
 /* Creates the wave, pushes it (Lua owns it from here on) and returns it. */
 static pf_wave *new_wave(lua_State *L, pf_grid *g, double mass, const char *fname)
 {
-    pf_wave *w;
-    pfl_check(L, pf_wave_new(g, mass, &w), fname);
-    pfl_push_wave(L, w);
-    return w;
+    pf_wave **slot = pfl_push_wave_slot(L);
+    pfl_check(L, pf_wave_new(g, mass, slot), fname);
+    return *slot;
 }
 
 #define ENVELOPE_FIELDS                                                                                          \

@@ -37,7 +37,7 @@ static void blocks_are_charged_exactly_and_aligned(void **state)
 static void cap_is_a_limit_and_says_so_by_code(void **state)
 {
     pf_context *ctx = *state;
-    assert_int_equal(pf_context_set_memory_cap(ctx, 4096), PF_OK);
+    pft_ok(pf_context_set_memory_cap(ctx, 4096));
     void *p = pf_context_alloc(ctx, 5000);
     assert_null(p);
     assert_int_equal(pf_context_status(ctx), PF_ELIMIT);
@@ -49,7 +49,7 @@ static void cap_is_a_limit_and_says_so_by_code(void **state)
     /* The room shrinks by what is charged, and a charge that does not fit
      * leaves the count alone. */
     assert_int_equal(pf_context_memory_room(ctx), 4096);
-    assert_int_equal(pf_context_charge(ctx, 1000), PF_OK);
+    pft_ok(pf_context_charge(ctx, 1000));
     assert_int_equal(pf_context_memory_room(ctx), 3096);
     assert_int_equal(pf_context_charge(ctx, 3097), PF_ELIMIT);
     assert_int_equal(pf_context_memory_used(ctx), 1000);
@@ -57,7 +57,7 @@ static void cap_is_a_limit_and_says_so_by_code(void **state)
     assert_int_equal(pf_context_memory_used(ctx), 0);
     /* A request the system refuses under a cap it fits is out of memory,
      * even though the message mentions the cap (statuses, not text). */
-    assert_int_equal(pf_context_set_memory_cap(ctx, SIZE_MAX), PF_OK);
+    pft_ok(pf_context_set_memory_cap(ctx, SIZE_MAX));
     assert_null(pf_context_alloc(ctx, SIZE_MAX / 4));
     assert_int_equal(pf_context_status(ctx), PF_ENOMEM);
     assert_non_null(strstr(pf_context_message(ctx), "cap was not reached"));
@@ -89,22 +89,22 @@ static void core_calls_return_the_allocators_code(void **state)
     size_t n[1] = {4096};
     double span[1] = {1e-4};
     pf_grid *g;
-    assert_int_equal(pf_grid_new(ctx, 1, n, span, NULL, &g), PF_OK);
+    pft_ok(pf_grid_new(ctx, 1, n, span, NULL, &g));
     size_t base = pf_context_memory_used(ctx);
     assert_true(base > 0); /* the grid's tables are charged */
     pf_wave *w = NULL;
-    assert_int_equal(pf_context_set_memory_cap(ctx, base + 1000), PF_OK);
-    assert_int_equal(pf_wave_new(g, 1e-25, &w), PF_ELIMIT);
+    pft_ok(pf_context_set_memory_cap(ctx, base + 1000));
+    assert_int_equal(pf_wave_new(g, pft_mass("87Rb"), &w), PF_ELIMIT);
     assert_null(w);
-    assert_int_equal(pf_context_set_memory_cap(ctx, (size_t)1 << 30), PF_OK);
+    pft_ok(pf_context_set_memory_cap(ctx, (size_t)1 << 30));
     /* Both of pf_wave_new's allocations (record, storage) fail cleanly. */
     pf_context_fail_allocation(ctx, 1);
-    assert_int_equal(pf_wave_new(g, 1e-25, &w), PF_ENOMEM);
+    assert_int_equal(pf_wave_new(g, pft_mass("87Rb"), &w), PF_ENOMEM);
     assert_int_equal(pf_context_memory_used(ctx), base);
     pf_context_fail_allocation(ctx, 2);
-    assert_int_equal(pf_wave_new(g, 1e-25, &w), PF_ENOMEM);
+    assert_int_equal(pf_wave_new(g, pft_mass("87Rb"), &w), PF_ENOMEM);
     assert_int_equal(pf_context_memory_used(ctx), base);
-    assert_int_equal(pf_wave_new(g, 1e-25, &w), PF_OK);
+    pft_ok(pf_wave_new(g, pft_mass("87Rb"), &w));
     /* The storage and the wave's own record are both charged. */
     assert_int_equal(pf_context_memory_used(ctx), base + 4096 * 16 + sizeof(struct pf_wave));
     pf_wave_free(w);
@@ -115,10 +115,10 @@ static void core_calls_return_the_allocators_code(void **state)
 int main(void)
 {
     const struct CMUnitTest tests[] = {
-        cmocka_unit_test_setup_teardown(blocks_are_charged_exactly_and_aligned, pft_context_setup, pft_context_teardown),
-        cmocka_unit_test_setup_teardown(cap_is_a_limit_and_says_so_by_code, pft_context_setup, pft_context_teardown),
-        cmocka_unit_test_setup_teardown(injected_failure_is_out_of_memory, pft_context_setup, pft_context_teardown),
-        cmocka_unit_test_setup_teardown(core_calls_return_the_allocators_code, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(blocks_are_charged_exactly_and_aligned, pft_setup, pft_teardown),
+        cmocka_unit_test_setup_teardown(cap_is_a_limit_and_says_so_by_code, pft_setup, pft_teardown),
+        cmocka_unit_test_setup_teardown(injected_failure_is_out_of_memory, pft_setup, pft_teardown),
+        cmocka_unit_test_setup_teardown(core_calls_return_the_allocators_code, pft_setup, pft_teardown),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

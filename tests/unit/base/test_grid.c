@@ -19,16 +19,16 @@ static void grid_axis_from_samples(void **state)
     pf_grid *g;
     pft_ok(pf_grid_new(ctx, 1, n, span, origin, &g));
     pft_ok(pf_grid_axis_from_samples(ctx, pf_grid_x_table(g, 0), n[0], 0, &got_span, &got_origin));
-    pft_near(got_span, span[0], 1e-12, 0);
-    pft_near(got_origin, origin[0], 1e-12, 0);
+    pft_near(got_span, span[0], 1e-12, 0, NULL);
+    pft_near(got_origin, origin[0], 1e-12, 0, NULL);
     pf_grid_release(g);
     /* Wave numbers of an N = 64 transform of a grid of dx = 0.75 um, in
      * ascending order: k_j = (j - N/2) 2 pi / (N dx). */
     double k[64], dx = 0.75e-6;
     for (int j = 0; j < 64; j++) k[j] = (j - 32) * 2 * PF_PI / (64 * dx);
     pft_ok(pf_grid_axis_from_samples(ctx, k, 64, 1, &got_span, &got_origin));
-    pft_near(got_span, 64 * dx, 1e-12, 0);
-    pft_near(got_origin, 0, 0, 0);
+    pft_near(got_span, 64 * dx, 1e-12, 0, NULL);
+    pft_near(got_origin, 0, 0, 0, NULL);
     /* Not uniform, descending, or too few: refused, outputs untouched. */
     k[17] += 1e-3 * (k[1] - k[0]);
     got_span = -1;
@@ -66,9 +66,9 @@ static void rejects_bad_shapes(void **state)
     assert_int_equal(pf_grid_new(ctx, 1, n64a, one, far, &g), PF_EINVAL);
     assert_non_null(strstr(pf_context_message(ctx), "origin on axis 1"));
     /* The limits themselves are accepted. */
-    assert_int_equal(pf_grid_new(ctx, 1, n4, top, NULL, &g), PF_OK);
+    pft_ok(pf_grid_new(ctx, 1, n4, top, NULL, &g));
     pf_grid_release(g);
-    assert_int_equal(pf_grid_new(ctx, 1, n64a, fine, NULL, &g), PF_OK);
+    pft_ok(pf_grid_new(ctx, 1, n64a, fine, NULL, &g));
     pf_grid_release(g);
     assert_int_equal(pf_grid_new(ctx, 2, n2, s2, NULL, &g), PF_EINVAL);
     assert_non_null(strstr(pf_context_message(ctx), "axis 2"));
@@ -102,13 +102,13 @@ static void coordinates_are_centred_on_the_origin(void **state)
     double span[2] = {4.0, 7.0}, origin[2] = {1.5, -2.0};
     pft_ok(pf_grid_new(*state, 2, n, span, origin, &g));
     /* Even n: x_j = origin + (j - n/2) dx, the origin is point n/2. */
-    pft_near(pf_grid_spacing(g, 0), 0.5, 0, 0);
-    pft_near(pf_grid_x(g, 0, 4), 1.5, 0, 0);
-    pft_near(pf_grid_x(g, 0, 0), 1.5 - 2.0, 1e-15, 0);
+    pft_near(pf_grid_spacing(g, 0), 0.5, 0, 0, NULL);
+    pft_near(pf_grid_x(g, 0, 4), 1.5, 0, 0, NULL);
+    pft_near(pf_grid_x(g, 0, 0), 1.5 - 2.0, 1e-15, 0, NULL);
     /* Odd n: symmetric about the origin. */
-    pft_near(pf_grid_x(g, 1, 3), -2.0, 0, 0);
-    pft_near(pf_grid_x(g, 1, 0) + pf_grid_x(g, 1, 6), -4.0, 1e-15, 0);
-    pft_near(pf_grid_cell_volume(g), 0.5, 1e-15, 0);
+    pft_near(pf_grid_x(g, 1, 3), -2.0, 0, 0, NULL);
+    pft_near(pf_grid_x(g, 1, 0) + pf_grid_x(g, 1, 6), -4.0, 1e-15, 0, NULL);
+    pft_near(pf_grid_cell_volume(g), 0.5, 1e-15, 0, NULL);
     pf_grid_release(g);
 }
 
@@ -121,9 +121,9 @@ static void wave_numbers_follow_fft_order(void **state)
     double span[2] = {2.0, 3.0};
     pft_ok(pf_grid_new(*state, 2, n, span, NULL, &g));
     const int m8[8] = {0, 1, 2, 3, -4, -3, -2, -1}, m7[7] = {0, 1, 2, 3, -3, -2, -1};
-    for (size_t j = 0; j < 8; j++) pft_near(pf_grid_k(g, 0, j), m8[j] * PF_TWO_PI / 2.0, 1e-15, 0);
-    for (size_t j = 0; j < 7; j++) pft_near(pf_grid_k(g, 1, j), m7[j] * PF_TWO_PI / 3.0, 1e-15, 0);
-    pft_near(pf_grid_knyquist(g, 0), PF_PI / 0.25, 1e-15, 0);
+    for (size_t j = 0; j < 8; j++) pft_near(pf_grid_k(g, 0, j), m8[j] * PF_TWO_PI / 2.0, 1e-15, 0, NULL);
+    for (size_t j = 0; j < 7; j++) pft_near(pf_grid_k(g, 1, j), m7[j] * PF_TWO_PI / 3.0, 1e-15, 0, NULL);
+    pft_near(pf_grid_knyquist(g, 0), PF_PI / 0.25, 1e-15, 0, NULL);
     /* Ascending order visits k from the most negative up, and maps back. */
     for (int a = 0; a < 2; a++) {
         double prev = -INFINITY;
@@ -185,7 +185,7 @@ static void momentum_factors_follow_their_definition(void **state)
             size_t n = counts[c];
             double span = 1e-4 * (double)(1 + c);
             pf_grid *g;
-            assert_int_equal(pf_grid_new(ctx, 1, &n, &span, &origins[o], &g), PF_OK);
+            pft_ok(pf_grid_new(ctx, 1, &n, &span, &origins[o], &g));
             double x0 = origins[o] - (double)(n / 2) * (span / (double)n);
             for (size_t j = 0; j < n; j++) {
                 double m = j < (n + 1) / 2 ? (double)j : (double)j - (double)n;
@@ -199,15 +199,15 @@ static void momentum_factors_follow_their_definition(void **state)
 int main(void)
 {
     const struct CMUnitTest tests[] = {
-        cmocka_unit_test_setup_teardown(grid_axis_from_samples, pft_context_setup, pft_context_teardown),
-        cmocka_unit_test_setup_teardown(rejects_bad_shapes, pft_context_setup, pft_context_teardown),
-        cmocka_unit_test_setup_teardown(memory_cap_is_checked_before_allocating, pft_context_setup, pft_context_teardown),
-        cmocka_unit_test_setup_teardown(coordinates_are_centred_on_the_origin, pft_context_setup, pft_context_teardown),
-        cmocka_unit_test_setup_teardown(wave_numbers_follow_fft_order, pft_context_setup, pft_context_teardown),
-        cmocka_unit_test_setup_teardown(momentum_factors_follow_their_definition, pft_context_setup,
-                                        pft_context_teardown),
-        cmocka_unit_test_setup_teardown(plans_are_made_once_and_shared, pft_context_setup, pft_context_teardown),
-        cmocka_unit_test_setup_teardown(grid_outlives_its_handle_while_waves_hold_it, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(grid_axis_from_samples, pft_setup, pft_teardown),
+        cmocka_unit_test_setup_teardown(rejects_bad_shapes, pft_setup, pft_teardown),
+        cmocka_unit_test_setup_teardown(memory_cap_is_checked_before_allocating, pft_setup, pft_teardown),
+        cmocka_unit_test_setup_teardown(coordinates_are_centred_on_the_origin, pft_setup, pft_teardown),
+        cmocka_unit_test_setup_teardown(wave_numbers_follow_fft_order, pft_setup, pft_teardown),
+        cmocka_unit_test_setup_teardown(momentum_factors_follow_their_definition, pft_setup,
+                                        pft_teardown),
+        cmocka_unit_test_setup_teardown(plans_are_made_once_and_shared, pft_setup, pft_teardown),
+        cmocka_unit_test_setup_teardown(grid_outlives_its_handle_while_waves_hold_it, pft_setup, pft_teardown),
     };
     return cmocka_run_group_tests_name("grid", tests, NULL, NULL);
 }

@@ -55,28 +55,28 @@ static void one_note_per_distinct_plan(void **state)
     size_t n1[1] = {64}, n2[2] = {16, 8};
     double s1[1] = {1e-5}, s2[2] = {1e-5, 2e-5};
     pf_grid *a, *b, *c;
-    assert_int_equal(pf_grid_new(ctx, 1, n1, s1, NULL, &a), PF_OK);
-    assert_int_equal(pf_grid_new(ctx, 1, n1, s1, NULL, &b), PF_OK);
-    assert_int_equal(pf_grid_new(ctx, 2, n2, s2, NULL, &c), PF_OK);
+    pft_ok(pf_grid_new(ctx, 1, n1, s1, NULL, &a));
+    pft_ok(pf_grid_new(ctx, 1, n1, s1, NULL, &b));
+    pft_ok(pf_grid_new(ctx, 2, n2, s2, NULL, &c));
     assert_int_equal(pf_context_plan_count(ctx), 0); /* plans are made on first use */
-    assert_int_equal(pf_grid_plan(a), PF_OK);
+    pft_ok(pf_grid_plan(a));
     assert_int_equal(pf_context_plan_count(ctx), 1);
     assert_string_equal(pf_context_plan_label(ctx, 0), "grid 64, 1 thread");
     char want[17];
     digest_of_pair(a, want);
     assert_string_equal(pf_context_plan_digest(ctx, 0), want);
     /* The same shape planned again (another grid) is the same plan: kept once. */
-    assert_int_equal(pf_grid_plan(b), PF_OK);
+    pft_ok(pf_grid_plan(b));
     assert_int_equal(pf_context_plan_count(ctx), 1);
-    assert_int_equal(pf_grid_plan(c), PF_OK);
+    pft_ok(pf_grid_plan(c));
     assert_int_equal(pf_context_plan_count(ctx), 2);
     assert_string_equal(pf_context_plan_label(ctx, 1), "grid 16x8, 1 thread");
     digest_of_pair(c, want);
     assert_string_equal(pf_context_plan_digest(ctx, 1), want);
     assert_string_not_equal(pf_context_plan_digest(ctx, 0), pf_context_plan_digest(ctx, 1));
     /* Another thread count makes new plans, noted with their thread count. */
-    assert_int_equal(pf_context_set_threads(ctx, 2), PF_OK);
-    assert_int_equal(pf_grid_plan(a), PF_OK);
+    pft_ok(pf_context_set_threads(ctx, 2));
+    pft_ok(pf_grid_plan(a));
     assert_int_equal(pf_context_plan_count(ctx), 3);
     assert_string_equal(pf_context_plan_label(ctx, 2), "grid 64, 2 threads");
     digest_of_pair(a, want);
@@ -90,7 +90,7 @@ int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(reference_vectors),
-        cmocka_unit_test_setup_teardown(one_note_per_distinct_plan, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(one_note_per_distinct_plan, pft_setup, pft_teardown),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

@@ -5,7 +5,7 @@
 #include <gsl/gsl_randist.h>
 #include <gsl/gsl_sf_gamma.h>
 #include <stdlib.h>
-#include "measure_util.h"
+#include "pft.h"
 #include "pf_random.h"
 
 /* Reference: numpy 1.24.2 (Debian python3-numpy), generated with

@@ -49,7 +49,7 @@ static void weighted_sums_are_compensated(void **state)
 int main(void)
 {
     const struct CMUnitTest tests[] = {
-        cmocka_unit_test_setup_teardown(weighted_sums_are_compensated, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(weighted_sums_are_compensated, pft_setup, pft_teardown),
     };
     return cmocka_run_group_tests_name("reduce_compensated", tests, NULL, NULL);
 }

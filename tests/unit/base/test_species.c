@@ -20,10 +20,10 @@ static void strings_and_numbers_agree(void **state)
         char *end;
         double micro = strtod(t[i].mass_micro_u, &end);
         assert_int_equal(*end, '\0');
-        pft_near(t[i].mass_u, micro / 1e6, 0.0, 0.0);
+        pft_near(t[i].mass_u, micro / 1e6, 0.0, 0.0, NULL);
         double unc = strtod(t[i].uncertainty_micro_u, &end);
         assert_int_equal(*end, '\0');
-        pft_near(t[i].uncertainty_u, unc / 1e6, 0.0, 0.0);
+        pft_near(t[i].uncertainty_u, unc / 1e6, 0.0, 0.0, NULL);
         assert_true(t[i].uncertainty_u > 0 && t[i].uncertainty_u < 1e-5 * t[i].mass_u);
     }
 }
@@ -43,8 +43,8 @@ static void atoms_are_consistent(void **state)
         snprintf(label, sizeof label, "%d%s", t[i].mass_number, t[i].symbol);
         assert_string_equal(t[i].label, label);
         assert_true(t[i].atomic_number > 0 && t[i].atomic_number < t[i].mass_number + 1);
-        pft_near(t[i].mass_u, t[i].mass_number, 0.0, 0.1);
-        pft_near(t[i].mass_kg, t[i].mass_u * PF_ATOMIC_MASS, 2.3e-16, 0.0);
+        pft_near(t[i].mass_u, t[i].mass_number, 0.0, 0.1, NULL);
+        pft_near(t[i].mass_kg, t[i].mass_u * PF_ATOMIC_MASS, 2.3e-16, 0.0, NULL);
         assert_ptr_equal(pf_species_find(t[i].label), &t[i]);
         for (size_t j = 0; j < i; j++) assert_string_not_equal(t[i].label, t[j].label);
     }
@@ -61,10 +61,10 @@ static void uncertainty_in_kg(void **state)
     const pf_species *rb = pf_species_find("87Rb");
     assert_non_null(rb);
     double ame = 0.006e-6 * 1.66053906660e-27, via_u = 86.909180529 * 0.00000000050e-27;
-    pft_near(pf_species_uncertainty_kg(rb), sqrt(ame * ame + via_u * via_u), 1e-15, 0.0);
-    pft_near(pf_species_uncertainty_kg(pf_species_find("electron")), 0.0000000028e-31, 0.0, 0.0);
-    pft_near(pf_species_uncertainty_kg(pf_species_find("neutron")), 0.00000000095e-27, 0.0, 0.0);
-    pft_near(pf_species_uncertainty_kg(pf_species_find("p")), 0.00000000051e-27, 0.0, 0.0);
+    pft_near(pf_species_uncertainty_kg(rb), sqrt(ame * ame + via_u * via_u), 1e-15, 0.0, NULL);
+    pft_near(pf_species_uncertainty_kg(pf_species_find("electron")), 0.0000000028e-31, 0.0, 0.0, NULL);
+    pft_near(pf_species_uncertainty_kg(pf_species_find("neutron")), 0.00000000095e-27, 0.0, 0.0, NULL);
+    pft_near(pf_species_uncertainty_kg(pf_species_find("p")), 0.00000000051e-27, 0.0, 0.0, NULL);
 }
 
 /* The spellings docs/states.md promises, and the unknown-label suggestions. */

@@ -3,7 +3,7 @@
  * engine side of the runner's SIGTERM and --time-limit handling; what is
  * checked is the contract (a poll per step, the status code, the clock left
  * alone), not physics, so no outside reference is involved. */
-#include "protocol_util.h"
+#include "pft.h"
 #include "pf_relax.h"
 #include "pf_splitstep.h"
 
@@ -31,17 +31,17 @@ typedef struct setup {
 
 static void make(setup *s)
 {
-    s->ctx = tu_context();
-    pf_context_set_warn_handler(s->ctx, tu_quiet, NULL);
+    s->ctx = pft_context();
+    pf_context_set_warn_handler(s->ctx, pft_count_warning, NULL);
     size_t n = 128;
-    double aho = sqrt(PF_HBAR / (RB87_MASS * OMEGA)), span = 16 * aho;
-    s->g = tu_grid(s->ctx, 1, &n, &span, NULL);
+    double aho = sqrt(PF_HBAR / (pft_mass("87Rb") * OMEGA)), span = 16 * aho;
+    s->g = pft_grid(s->ctx, 1, &n, &span, NULL);
     for (size_t i = 0; i < n; i++) {
         double x = pf_grid_x(s->g, 0, i);
-        s->V[i] = 0.5 * RB87_MASS * OMEGA * OMEGA * x * x;
+        s->V[i] = 0.5 * pft_mass("87Rb") * OMEGA * OMEGA * x * x;
     }
-    tu_gauss p = {.x0 = {aho}, .sigma = {aho}, .k0 = {0}};
-    s->w = tu_gauss_wave(s->g, RB87_MASS, &p);
+    pft_gauss p = {.x0 = {aho}, .sigma = {aho}, .k0 = {0}};
+    s->w = pft_gauss_wave(s->g, pft_mass("87Rb"), &p);
 }
 
 static void unmake(setup *s)
@@ -61,7 +61,7 @@ static void test_evolve_polls_every_step(void **state)
     pf_context_set_stop_check(s.ctx, count_polls, &c);
     pf_evolve_spec spec = {.potential = s.V, .dt = 1e-5, .order = 2};
     pf_evolve_info info;
-    assert_int_equal(pf_wave_evolve(s.w, 2e-3, &spec, &info), PF_OK);
+    pft_ok(pf_wave_evolve(s.w, 2e-3, &spec, &info));
     assert_int_equal((int)info.steps, 200);
     assert_int_equal((int)c.calls, 200);
     unmake(&s);
@@ -84,7 +84,7 @@ static void test_evolve_stops(void **state)
     assert_non_null(strstr(pf_context_message(s.ctx), "stopped on request"));
     assert_string_equal(pf_status_name(PF_ESTOP), "stopped on request");
     pf_context_set_stop_check(s.ctx, NULL, NULL);
-    assert_int_equal(pf_wave_evolve(s.w, 2e-3, &spec, NULL), PF_OK);
+    pft_ok(pf_wave_evolve(s.w, 2e-3, &spec, NULL));
     unmake(&s);
 }
 

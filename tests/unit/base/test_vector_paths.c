@@ -19,7 +19,7 @@
 #include <stdlib.h>
 #include <string.h>
 #include <unistd.h>
-#include "protocol_util.h"
+#include "pft.h"
 #include "pf_cis.h"
 #include "pf_flight.h"
 #include "pf_internal.h"
@@ -219,64 +219,64 @@ static int modulated(void *user, double t, double *out)
 /* The child's work: every kernel reached through its real caller. */
 static void compute_all(FILE *out)
 {
-    pf_context *ctx = tu_context();
-    pf_context_set_warn_handler(ctx, tu_quiet, NULL);
+    pf_context *ctx = pft_context();
+    pf_context_set_warn_handler(ctx, pft_count_warning, NULL);
     /* 1D, 2^16 points: the flight phase on segment tables. */
     size_t n1 = (size_t)1 << 16;
     double span1 = 200e-6;
-    pf_grid *g1 = tu_grid(ctx, 1, &n1, &span1, NULL);
-    tu_gauss p1 = {.x0 = {5e-6}, .sigma = {4e-6}, .k0 = {3e6}};
-    pf_wave *w1 = tu_gauss_wave(g1, RB87_MASS, &p1);
-    assert_int_equal(pf_wave_fly(w1, 2e-3), PF_OK);
-    assert_int_equal(pf_wave_to(w1, PF_POSITION), PF_OK);
+    pf_grid *g1 = pft_grid(ctx, 1, &n1, &span1, NULL);
+    pft_gauss p1 = {.x0 = {5e-6}, .sigma = {4e-6}, .k0 = {3e6}};
+    pf_wave *w1 = pft_gauss_wave(g1, pft_mass("87Rb"), &p1);
+    pft_ok(pf_wave_fly(w1, 2e-3));
+    pft_ok(pf_wave_to(w1, PF_POSITION));
     emit(w1, out);
     /* ... and a scaled flight of it (chirps from pf_cis). */
-    assert_int_equal(pf_wave_fly_scaled(w1, 40e-3, NULL, NULL), PF_OK);
+    pft_ok(pf_wave_fly_scaled(w1, 40e-3, NULL, NULL));
     emit(w1, out);
     /* 2D 64 x 48: the fused flight (phase rows in the column blocks) and
      * Strang steps with mean field and a modulated potential (pf_cis). */
     size_t n2[2] = {64, 48};
     double span2[2] = {40e-6, 30e-6};
-    pf_grid *g2 = tu_grid(ctx, 2, n2, span2, NULL);
-    tu_gauss p2 = {.x0 = {2e-6, -1e-6}, .sigma = {3e-6, 2e-6}, .k0 = {1e6, -2e6}};
-    pf_wave *w2 = tu_gauss_wave(g2, RB87_MASS, &p2);
-    assert_int_equal(pf_wave_fly(w2, 1e-3), PF_OK);
-    assert_int_equal(pf_wave_to(w2, PF_POSITION), PF_OK);
+    pf_grid *g2 = pft_grid(ctx, 2, n2, span2, NULL);
+    pft_gauss p2 = {.x0 = {2e-6, -1e-6}, .sigma = {3e-6, 2e-6}, .k0 = {1e6, -2e6}};
+    pf_wave *w2 = pft_gauss_wave(g2, pft_mass("87Rb"), &p2);
+    pft_ok(pf_wave_fly(w2, 1e-3));
+    pft_ok(pf_wave_to(w2, PF_POSITION));
     emit(w2, out);
     double *V = malloc(64 * 48 * sizeof *V);
     assert_non_null(V);
     for (size_t i = 0; i < 64; i++)
         for (size_t j = 0; j < 48; j++) {
             double x = pf_grid_x(g2, 0, i), y = pf_grid_x(g2, 1, j);
-            V[i * 48 + j] = 0.5 * RB87_MASS * 4e4 * (x * x + 2 * y * y);
+            V[i * 48 + j] = 0.5 * pft_mass("87Rb") * 4e4 * (x * x + 2 * y * y);
         }
     pf_evolve_spec spec = {.potential = V, .dt = 2e-5, .order = 2, .g = 1e-40};
-    assert_int_equal(pf_wave_evolve(w2, 5 * spec.dt, &spec, NULL), PF_OK);
-    assert_int_equal(pf_wave_to(w2, PF_POSITION), PF_OK);
+    pft_ok(pf_wave_evolve(w2, 5 * spec.dt, &spec, NULL));
+    pft_ok(pf_wave_to(w2, PF_POSITION));
     emit(w2, out);
     pf_evolve_spec varying = {.varying = modulated, .user = V, .dt = 2e-5, .order = 4};
-    assert_int_equal(pf_wave_evolve(w2, 3 * varying.dt, &varying, NULL), PF_OK);
-    assert_int_equal(pf_wave_to(w2, PF_POSITION), PF_OK);
+    pft_ok(pf_wave_evolve(w2, 3 * varying.dt, &varying, NULL));
+    pft_ok(pf_wave_to(w2, PF_POSITION));
     emit(w2, out);
     /* Fourth-order steps in a static potential: the stored exponentials
      * (e1, e1 e1, e1 e2 products) and, on a 1D grid, the kinetic pass. */
     pf_evolve_spec fixed = {.potential = V, .dt = 2e-5, .order = 4};
-    assert_int_equal(pf_wave_evolve(w2, 3 * fixed.dt, &fixed, NULL), PF_OK);
-    assert_int_equal(pf_wave_to(w2, PF_POSITION), PF_OK);
+    pft_ok(pf_wave_evolve(w2, 3 * fixed.dt, &fixed, NULL));
+    pft_ok(pf_wave_to(w2, PF_POSITION));
     emit(w2, out);
     size_t n3 = 4096;
     double span3 = 100e-6;
-    pf_grid *g3 = tu_grid(ctx, 1, &n3, &span3, NULL);
-    tu_gauss p3 = {.x0 = {-4e-6}, .sigma = {3e-6}, .k0 = {2e6}};
-    pf_wave *w3 = tu_gauss_wave(g3, RB87_MASS, &p3);
+    pf_grid *g3 = pft_grid(ctx, 1, &n3, &span3, NULL);
+    pft_gauss p3 = {.x0 = {-4e-6}, .sigma = {3e-6}, .k0 = {2e6}};
+    pf_wave *w3 = pft_gauss_wave(g3, pft_mass("87Rb"), &p3);
     double *V3 = malloc(n3 * sizeof *V3);
     assert_non_null(V3);
     for (size_t i = 0; i < n3; i++) {
         double x = pf_grid_x(g3, 0, i);
-        V3[i] = 0.5 * RB87_MASS * 4e4 * x * x;
+        V3[i] = 0.5 * pft_mass("87Rb") * 4e4 * x * x;
     }
     pf_evolve_spec line = {.potential = V3, .dt = 2e-5, .order = 4};
-    assert_int_equal(pf_wave_evolve(w3, 4 * line.dt, &line, NULL), PF_OK);
+    pft_ok(pf_wave_evolve(w3, 4 * line.dt, &line, NULL));
     emit(w3, out);
     free(V3);
     pf_wave_free(w3);

@@ -53,7 +53,7 @@ static void momentum_values_follow_the_physical_convention(void **state)
             pft_cnear(phi, gauss_k(&p, pf_grid_k(g, 0, j)), 1e-12);
         }
         /* integral |phi|^2 dk = integral |psi|^2 dx = 1 */
-        pft_near(pf_wave_norm(w), 1.0, 1e-13, 0);
+        pft_near(pf_wave_norm(w), 1.0, 1e-13, 0, NULL);
         pf_wave_free(w);
         pf_grid_release(g);
     }
@@ -101,12 +101,12 @@ static void density_orders_and_set_value(void **state)
     pft_ok(pf_wave_set_value(w, PF_POSITION, idx, 3.0 - 4.0 * I));
     double rho[30];
     pft_ok(pf_wave_density(w, PF_POSITION, rho));
-    pft_near(rho[4 * 5 + 1], 25.0, 1e-15, 0);
+    pft_near(rho[4 * 5 + 1], 25.0, 1e-15, 0, NULL);
     /* A single point has a flat |phi|^2 = |psi|^2 dx^2 / (2 pi)^2 ... in
      * ascending order every entry is equal. */
     pft_ok(pf_wave_density(w, PF_MOMENTUM, rho));
     double dx2 = pf_grid_cell_volume(g) * pf_grid_cell_volume(g);
-    for (int i = 0; i < 30; i++) pft_near(rho[i], 25.0 * dx2 / (4 * PF_PI * PF_PI), 1e-12, 0);
+    for (int i = 0; i < 30; i++) pft_near(rho[i], 25.0 * dx2 / (4 * PF_PI * PF_PI), 1e-12, 0, NULL);
     /* Out-of-range index and non-finite values are refused. */
     size_t bad[2] = {6, 0};
     assert_int_equal(pf_wave_set_value(w, PF_POSITION, bad, 1.0), PF_EINVAL);
@@ -128,8 +128,8 @@ static void copies_are_independent(void **state)
     pft_ok(pf_wave_fill(w, PF_POSITION, gauss_x, &p));
     pft_ok(pf_wave_copy(w, &c));
     pft_ok(pf_wave_scale(c, 2.0));
-    pft_near(pf_wave_norm(w), 1.0, 1e-12, 0);
-    pft_near(pf_wave_norm(c), 4.0, 1e-12, 0);
+    pft_near(pf_wave_norm(w), 1.0, 1e-12, 0, NULL);
+    pft_near(pf_wave_norm(c), 4.0, 1e-12, 0, NULL);
     pf_wave_free(c);
     assert_int_equal(pf_wave_new(g, -1.0, &c), PF_EINVAL);
     assert_int_equal(pf_wave_new(g, NAN, &c), PF_EINVAL);
@@ -167,11 +167,11 @@ static void reductions_do_not_depend_on_threads(void **state)
 int main(void)
 {
     const struct CMUnitTest tests[] = {
-        cmocka_unit_test_setup_teardown(momentum_values_follow_the_physical_convention, pft_context_setup, pft_context_teardown),
-        cmocka_unit_test_setup_teardown(building_from_momentum_round_trips, pft_context_setup, pft_context_teardown),
-        cmocka_unit_test_setup_teardown(density_orders_and_set_value, pft_context_setup, pft_context_teardown),
-        cmocka_unit_test_setup_teardown(copies_are_independent, pft_context_setup, pft_context_teardown),
-        cmocka_unit_test_setup_teardown(reductions_do_not_depend_on_threads, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(momentum_values_follow_the_physical_convention, pft_setup, pft_teardown),
+        cmocka_unit_test_setup_teardown(building_from_momentum_round_trips, pft_setup, pft_teardown),
+        cmocka_unit_test_setup_teardown(density_orders_and_set_value, pft_setup, pft_teardown),
+        cmocka_unit_test_setup_teardown(copies_are_independent, pft_setup, pft_teardown),
+        cmocka_unit_test_setup_teardown(reductions_do_not_depend_on_threads, pft_setup, pft_teardown),
     };
     return cmocka_run_group_tests_name("wave", tests, NULL, NULL);
 }

@@ -22,7 +22,7 @@ static void tail_quantile_matches_gsl(void **state)
     (void)state;
     static const double tails[] = {0.9, 0.5, 0.1, 1e-2, 1e-3, 1e-6, 1e-9, 1e-12, 1e-15};
     for (size_t i = 0; i < sizeof tails / sizeof tails[0]; i++)
-        pft_near(pf_normal_tail_quantile(tails[i]), gsl_cdf_ugaussian_Qinv(tails[i] / 2), 1e-12, 0);
+        pft_near(pf_normal_tail_quantile(tails[i]), gsl_cdf_ugaussian_Qinv(tails[i] / 2), 1e-12, 0, NULL);
 }
 
 static void gaussian_request_extents(void **state)
@@ -37,11 +37,11 @@ static void gaussian_request_extents(void **state)
     double z = gsl_cdf_ugaussian_Qinv(0.5e-12);
     assert_true(z > PF_GAUSS_REACH);
     for (int a = 0; a < 2; a++) {
-        pft_near(q.x_lo[a], center[a] - z * width[a], 1e-12, 1e-18);
-        pft_near(q.x_hi[a], center[a] + z * width[a], 1e-12, 1e-18);
-        pft_near(q.k_lo[a], k0[a] - z / (2 * width[a]), 1e-12, 1e-6);
-        pft_near(q.k_hi[a], k0[a] + z / (2 * width[a]), 1e-12, 1e-6);
-        pft_near(q.feature[a], 2 * sqrt(2 * log(2.0)) * width[a], 1e-15, 0);
+        pft_near(q.x_lo[a], center[a] - z * width[a], 1e-12, 1e-18, NULL);
+        pft_near(q.x_hi[a], center[a] + z * width[a], 1e-12, 1e-18, NULL);
+        pft_near(q.k_lo[a], k0[a] - z / (2 * width[a]), 1e-12, 1e-6, NULL);
+        pft_near(q.k_hi[a], k0[a] + z / (2 * width[a]), 1e-12, 1e-6, NULL);
+        pft_near(q.feature[a], 2 * sqrt(2 * log(2.0)) * width[a], 1e-15, 0, NULL);
     }
     /* The default threshold (1e-6, tail 1e-6): z = 4.89 < 6, so the reach. */
     pft_ok(pf_context_set_guard_threshold(ctx, PF_GUARD_DEFAULT_THRESHOLD));
@@ -49,8 +49,8 @@ static void gaussian_request_extents(void **state)
     const double kw[2] = {4e5, 5e5};
     pft_ok(pf_advice_gaussian(ctx, &q, width, kw, NULL, NULL));
     for (int a = 0; a < 2; a++) {
-        pft_near(q.x_hi[a], PF_GAUSS_REACH * width[a], 1e-15, 0);
-        pft_near(q.k_lo[a], -PF_GAUSS_REACH * kw[a], 1e-15, 0);
+        pft_near(q.x_hi[a], PF_GAUSS_REACH * width[a], 1e-15, 0, NULL);
+        pft_near(q.k_lo[a], -PF_GAUSS_REACH * kw[a], 1e-15, 0, NULL);
     }
     const double bad[2] = {2e-6, 0};
     assert_int_equal(pf_advice_gaussian(ctx, &q, bad, NULL, NULL, NULL), PF_EINVAL);
@@ -82,10 +82,10 @@ static void flight_extents_match_gaussian_quantiles(void **state)
     /* Default guard threshold 1e-6: the tail is 1e-6, z = Q^-1(tail / 2). */
     double z = gsl_cdf_ugaussian_Qinv(pf_flight_extent_tail(ctx) / 2);
     double dx = span[0] / (double)n[0], dk = PF_TWO_PI / span[0];
-    pft_near(xlo, par[0] - z * s, 0, dx);
-    pft_near(xhi, par[0] + z * s, 0, dx);
-    pft_near(klo, par[2] - z / (2 * s), 0, dk);
-    pft_near(khi, par[2] + z / (2 * s), 0, dk);
+    pft_near(xlo, par[0] - z * s, 0, dx, NULL);
+    pft_near(xhi, par[0] + z * s, 0, dx, NULL);
+    pft_near(klo, par[2] - z / (2 * s), 0, dk, NULL);
+    pft_near(khi, par[2] + z / (2 * s), 0, dk, NULL);
     pf_wave_free(w);
 }
 
@@ -93,8 +93,8 @@ int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(tail_quantile_matches_gsl),
-        cmocka_unit_test_setup_teardown(gaussian_request_extents, pft_context_setup, pft_context_teardown),
-        cmocka_unit_test_setup_teardown(flight_extents_match_gaussian_quantiles, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(gaussian_request_extents, pft_setup, pft_teardown),
+        cmocka_unit_test_setup_teardown(flight_extents_match_gaussian_quantiles, pft_setup, pft_teardown),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

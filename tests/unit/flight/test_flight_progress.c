@@ -36,7 +36,7 @@ static pf_wave *packet(pf_context *ctx)
     pf_grid *g;
     pft_ok(pf_grid_new(ctx, 1, n, span, NULL, &g));
     pf_wave *w;
-    pft_ok(pf_wave_new(g, 1.443e-25, &w));
+    pft_ok(pf_wave_new(g, pft_mass("87Rb"), &w));
     pf_grid_release(g);
     pf_gaussian_spec spec;
     pf_gaussian_spec_init(&spec, 1e-6);
@@ -116,8 +116,8 @@ static void the_hook_changes_no_bit(void **state)
 int main(void)
 {
     const struct CMUnitTest tests[] = {
-        cmocka_unit_test_setup_teardown(long_flight_reports_each_pass, pft_context_setup, pft_context_teardown),
-        cmocka_unit_test_setup_teardown(the_hook_changes_no_bit, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(long_flight_reports_each_pass, pft_setup, pft_teardown),
+        cmocka_unit_test_setup_teardown(the_hook_changes_no_bit, pft_setup, pft_teardown),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

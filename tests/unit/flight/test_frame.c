@@ -12,7 +12,7 @@
  * free width law sigma sqrt(1 + (hbar t / 2 m sigma^2)^2) (textbook free
  * spreading, from memory). */
 #include <gsl/gsl_integration.h>
-#include "protocol_util.h"
+#include "pft.h"
 #include "pf_constants.h"
 #include "pf_flight.h"
 #include "pf_frame.h"
@@ -29,7 +29,7 @@ static double lagrangian(double s, void *user)
 static void test_advance_matches_action_integral(void **state)
 {
     (void)state;
-    const double m = RB87_MASS;
+    const double m = pft_mass("87Rb");
     pf_frame f = {{12e-6, -3e-6, 0.5e-3}, {2e6, -1e7, 3e5}, 0.25};
     const double acc[3] = {0.3, -9.80665, 1.7};
     const double t = 4e-3;
@@ -44,13 +44,13 @@ static void test_advance_matches_action_integral(void **state)
         gsl_integration_qag(&fn, 0.0, t, 0.0, 1e-13, 64, GSL_INTEG_GAUSS61, ws, &r, &err);
         action += r;
         double x = f.position[a] + p.v0 * t + 0.5 * acc[a] * t * t;
-        TU_NEAR(g.position[a], x, 1e-14 * fabs(x), "X(t) = X0 + V0 t + a t^2/2 (Newton)");
+        pft_near(g.position[a], x, 0, 1e-14 * fabs(x), "X(t) = X0 + V0 t + a t^2/2 (Newton)");
         double k = f.wavenumber[a] + m * acc[a] * t / PF_HBAR;
-        TU_NEAR(g.wavenumber[a], k, 1e-14 * fabs(k), "K(t) = K0 + m a t / hbar (Newton)");
+        pft_near(g.wavenumber[a], k, 0, 1e-14 * fabs(k), "K(t) = K0 + m a t / hbar (Newton)");
     }
     gsl_integration_workspace_free(ws);
     double want = f.phase + action / PF_HBAR;
-    TU_NEAR(g.phase, want, 1e-12 * fabs(want), "theta(t) - theta0 = action / hbar (GSL quadrature)");
+    pft_near(g.phase, want, 0, 1e-12 * fabs(want), "theta(t) - theta0 = action / hbar (GSL quadrature)");
 }
 
 /* Two steps compose to one: the frame advance is the exact flow of a
@@ -58,43 +58,43 @@ static void test_advance_matches_action_integral(void **state)
 static void test_advance_composes(void **state)
 {
     (void)state;
-    const double m = RB87_MASS, acc[2] = {-2.0, -9.80665};
+    const double m = pft_mass("87Rb"), acc[2] = {-2.0, -9.80665};
     pf_frame one = {{1e-6, 2e-6}, {3e6, -4e6}, 1.0}, two = one;
     pf_frame_advance(&one, 2, m, 5e-3, acc);
     pf_frame_advance(&two, 2, m, 2e-3, acc);
     pf_frame_advance(&two, 2, m, 3e-3, acc);
     for (int a = 0; a < 2; a++) {
-        TU_NEAR(two.position[a], one.position[a], 1e-14 * fabs(one.position[a]), "X composes");
-        TU_NEAR(two.wavenumber[a], one.wavenumber[a], 1e-14 * fabs(one.wavenumber[a]), "K composes");
+        pft_near(two.position[a], one.position[a], 0, 1e-14 * fabs(one.position[a]), "X composes");
+        pft_near(two.wavenumber[a], one.wavenumber[a], 0, 1e-14 * fabs(one.wavenumber[a]), "K composes");
     }
-    TU_NEAR(two.phase, one.phase, 1e-12 * fabs(one.phase), "theta composes");
+    pft_near(two.phase, one.phase, 0, 1e-12 * fabs(one.phase), "theta composes");
 }
 
 static void test_fly_in_frame_bookkeeping(void **state)
 {
     (void)state;
-    pf_context *ctx = tu_context();
+    pf_context *ctx = pft_context();
     size_t n = 256;
     double span = 40e-6;
-    pf_grid *g = tu_grid(ctx, 1, &n, &span, NULL);
-    tu_gauss p = {.sigma = {2e-6}};
-    pf_wave *w = tu_gauss_wave(g, RB87_MASS, &p);
+    pf_grid *g = pft_grid(ctx, 1, &n, &span, NULL);
+    pft_gauss p = {.sigma = {2e-6}};
+    pf_wave *w = pft_gauss_wave(g, pft_mass("87Rb"), &p);
     assert_false(pf_wave_frame_moved(w));
     /* No acceleration, unmoved frame: plain free flight, frame untouched. */
-    assert_int_equal(pf_wave_fly_in_frame(w, 1e-3, NULL), PF_OK);
+    pft_ok(pf_wave_fly_in_frame(w, 1e-3, NULL));
     assert_false(pf_wave_frame_moved(w));
     double a = NAN;
     assert_int_equal(pf_wave_fly_in_frame(w, 1e-3, &a), PF_EINVAL);
     assert_non_null(strstr(pf_context_message(ctx), "acceleration on axis 1"));
     assert_false(pf_wave_frame_moved(w));
     a = -9.80665;
-    assert_int_equal(pf_wave_fly_in_frame(w, 1e-3, &a), PF_OK);
+    pft_ok(pf_wave_fly_in_frame(w, 1e-3, &a));
     assert_true(pf_wave_frame_moved(w));
     /* A kick into the frame at X: K += q, theta += q X. */
     pf_frame before, after;
     pf_wave_frame(w, &before);
     double q = 1e6;
-    assert_int_equal(pf_wave_frame_kick(w, &q), PF_OK);
+    pft_ok(pf_wave_frame_kick(w, &q));
     pf_wave_frame(w, &after);
     assert_true(after.wavenumber[0] == before.wavenumber[0] + q);
     assert_true(after.phase == before.phase + q * before.position[0]);
@@ -109,15 +109,15 @@ static void test_fly_in_frame_bookkeeping(void **state)
 static void test_lab_density_window(void **state)
 {
     (void)state;
-    pf_context *ctx = tu_context();
+    pf_context *ctx = pft_context();
     size_t n = 256;
     double span = 40e-6;
-    pf_grid *g = tu_grid(ctx, 1, &n, &span, NULL);
-    const double sigma = 1e-6, t = 1e-3, m = RB87_MASS;
-    tu_gauss p = {.sigma = {sigma}};
-    pf_wave *w = tu_gauss_wave(g, m, &p);
+    pf_grid *g = pft_grid(ctx, 1, &n, &span, NULL);
+    const double sigma = 1e-6, t = 1e-3, m = pft_mass("87Rb");
+    pft_gauss p = {.sigma = {sigma}};
+    pf_wave *w = pft_gauss_wave(g, m, &p);
     double a = -9.80665;
-    assert_int_equal(pf_wave_fly_in_frame(w, t, &a), PF_OK);
+    pft_ok(pf_wave_fly_in_frame(w, t, &a));
     pf_frame before;
     pf_wave_frame(w, &before);
     const double dx = pf_grid_spacing(g, 0);
@@ -130,16 +130,16 @@ static void test_lab_density_window(void **state)
     const double peak = 1 / sqrt(2 * PF_PI * s * s);
     double out[200];
     const double lo = -20e-6;
-    assert_int_equal(pf_wave_lab_density_window(w, lo, 200, out), PF_OK);
+    pft_ok(pf_wave_lab_density_window(w, lo, 200, out));
     double worst = 0;
     for (size_t i = 0; i < 200; i++) {
         double x = lo + (double)i * dx;
         double want = peak * exp(-(x - c) * (x - c) / (2 * s * s));
         worst = fmax(worst, fabs(out[i] - want));
     }
-    TU_NEAR(worst / peak, 0.0, 1e-12, "lab density window vs the closed-form falling Gaussian");
+    pft_near(worst / peak, 0.0, 0, 1e-12, "lab density window vs the closed-form falling Gaussian");
     /* Beyond the co-moving grid (its lab end is X + 20 um): zero. */
-    assert_int_equal(pf_wave_lab_density_window(w, 10e-6, 100, out), PF_OK);
+    pft_ok(pf_wave_lab_density_window(w, 10e-6, 100, out));
     assert_true(out[99] == 0.0);
     assert_true(out[0] > 0.0);
     pf_frame after;
@@ -147,9 +147,9 @@ static void test_lab_density_window(void **state)
     assert_true(after.position[0] == before.position[0] && after.phase == before.phase);
     size_t n2[2] = {8, 8};
     double span2[2] = {1e-6, 1e-6};
-    pf_grid *g2 = tu_grid(ctx, 2, n2, span2, NULL);
+    pf_grid *g2 = pft_grid(ctx, 2, n2, span2, NULL);
     pf_wave *w2 = NULL;
-    assert_int_equal(pf_wave_new(g2, m, &w2), PF_OK);
+    pft_ok(pf_wave_new(g2, m, &w2));
     assert_int_equal(pf_wave_lab_density_window(w2, 0, 4, out), PF_EINVAL);
     pf_wave_free(w2);
     pf_grid_release(g2);

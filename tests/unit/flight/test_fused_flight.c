@@ -28,8 +28,8 @@
 #include "pf_ops.h"
 #include "pf_wave.h"
 
-/* 41K-like mass (kg), value from memory; the laws do not depend on it. */
-static const double MASS = 6.8e-26;
+/* 41K from the species table; the laws do not depend on the mass. */
+#define MASS pft_mass("41K")
 
 
 typedef struct packet {
@@ -98,7 +98,7 @@ static void fused_against_closed_form(void **state, int dim, const size_t *n, co
         p.t += steps[i];
         pft_ok(pf_wave_fill(want, PF_POSITION, exact_packet, &p));
         double peak, worst = worst_difference(w, want, &peak);
-        pft_near(worst, 0, 0, 1e-11 * peak);
+        pft_near(worst, 0, 0, 1e-11 * peak, NULL);
     }
     pf_wave_free(w);
     pf_wave_free(want);
@@ -150,7 +150,7 @@ static void fused_equals_separate_steps(void **state)
     pft_ok(pf_wave_fly(b, 0.7e-3)); /* phase pass only */
     pft_ok(pf_wave_to(b, PF_POSITION));
     double peak, worst = worst_difference(a, b, &peak);
-    pft_near(worst, 0, 0, 1e-13 * peak);
+    pft_near(worst, 0, 0, 1e-13 * peak, NULL);
     pf_wave_free(a);
     pf_wave_free(b);
     pf_grid_release(g);
@@ -173,11 +173,11 @@ static void deferred_flights_compose(void **state)
     pft_ok(pf_wave_fly(a, 0.9e-3));
     pft_ok(pf_wave_fly(a, -0.2e-3));
     pft_ok(pf_wave_fly(b, 1.1e-3));
-    pft_near(pf_wave_clock(a), 1.1e-3, 1e-15, 0);
+    pft_near(pf_wave_clock(a), 1.1e-3, 1e-15, 0, NULL);
     const pf_steplog *log = pf_wave_steplog(a);
     assert_int_equal(log->count, 3); /* every flight is logged */
     double peak, worst = worst_difference(a, b, &peak);
-    pft_near(worst, 0, 0, 1e-13 * peak);
+    pft_near(worst, 0, 0, 1e-13 * peak, NULL);
     pf_wave_free(a);
     pf_wave_free(b);
     pf_grid_release(g);
@@ -232,8 +232,8 @@ static void operations_see_the_flown_state(void **state)
         pft_ok(pf_wave_to(ra, PF_POSITION));
         pft_ok(pf_wave_to(rb, PF_POSITION));
         double peak, worst = worst_difference(ra, rb, &peak);
-        pft_near(worst, 0, 0, 1e-13 * peak);
-        pft_near(pf_wave_clock(ra), pf_wave_clock(rb), 0, 1e-18);
+        pft_near(worst, 0, 0, 1e-13 * peak, NULL);
+        pft_near(pf_wave_clock(ra), pf_wave_clock(rb), 0, 1e-18, NULL);
         if (ra != a) pf_wave_free(ra);
         if (rb != b) pf_wave_free(rb);
         pf_wave_free(a);
@@ -340,10 +340,10 @@ static void fused_sweep_measures_momentum_band(void **state)
     pft_ok(pf_wave_guard(a, &fa));
     for (int ax = 0; ax < 2; ax++) {
         assert_true(fb.band[PF_MOMENTUM][ax] > 1e-6);
-        pft_near(fa.band[PF_MOMENTUM][ax], fb.band[PF_MOMENTUM][ax], 1e-12, 0);
+        pft_near(fa.band[PF_MOMENTUM][ax], fb.band[PF_MOMENTUM][ax], 1e-12, 0, NULL);
     }
     const pf_steplog *log = pf_wave_steplog(a);
-    pft_near(log->steps[log->count - 1].edge_k, fmax(fb.band[PF_MOMENTUM][0], fb.band[PF_MOMENTUM][1]), 1e-12, 0);
+    pft_near(log->steps[log->count - 1].edge_k, fmax(fb.band[PF_MOMENTUM][0], fb.band[PF_MOMENTUM][1]), 1e-12, 0, NULL);
     pf_wave_free(a);
     pf_wave_free(b);
     pf_grid_release(g);
@@ -411,7 +411,7 @@ static void tight_memory_cap_falls_back(void **state)
     pft_ok(pf_wave_fly(b, 0.5e-3));
     pft_ok(pf_wave_to(b, PF_POSITION));
     double peak, worst = worst_difference(a, b, &peak);
-    pft_near(worst, 0, 0, 1e-13 * peak);
+    pft_near(worst, 0, 0, 1e-13 * peak, NULL);
     pft_ok(pf_context_set_memory_cap(*state, (size_t)16 << 30)); /* the default */
     pf_wave_free(a);
     pf_wave_free(b);
@@ -421,19 +421,19 @@ static void tight_memory_cap_falls_back(void **state)
 int main(void)
 {
     const struct CMUnitTest tests[] = {
-        cmocka_unit_test_setup_teardown(fused_2d_partial_block, pft_context_setup, pft_context_teardown),
-        cmocka_unit_test_setup_teardown(fused_3d_partial_block, pft_context_setup, pft_context_teardown),
-        cmocka_unit_test_setup_teardown(fused_equals_separate_steps, pft_context_setup, pft_context_teardown),
-        cmocka_unit_test_setup_teardown(deferred_flights_compose, pft_context_setup, pft_context_teardown),
-        cmocka_unit_test_setup_teardown(operations_see_the_flown_state, pft_context_setup, pft_context_teardown),
-        cmocka_unit_test_setup_teardown(fused_bits_do_not_depend_on_threads, pft_context_setup, pft_context_teardown),
-        cmocka_unit_test_setup_teardown(fused_bits_do_not_depend_on_threads_measured_2d, pft_context_setup,
-                                        pft_context_teardown),
-        cmocka_unit_test_setup_teardown(fused_bits_do_not_depend_on_threads_measured_3d, pft_context_setup,
-                                        pft_context_teardown),
-        cmocka_unit_test_setup_teardown(fused_sweep_measures_momentum_band, pft_context_setup, pft_context_teardown),
-        cmocka_unit_test_setup_teardown(fused_sweep_band_over_threshold_warns, pft_context_setup, pft_context_teardown),
-        cmocka_unit_test_setup_teardown(tight_memory_cap_falls_back, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(fused_2d_partial_block, pft_setup, pft_teardown),
+        cmocka_unit_test_setup_teardown(fused_3d_partial_block, pft_setup, pft_teardown),
+        cmocka_unit_test_setup_teardown(fused_equals_separate_steps, pft_setup, pft_teardown),
+        cmocka_unit_test_setup_teardown(deferred_flights_compose, pft_setup, pft_teardown),
+        cmocka_unit_test_setup_teardown(operations_see_the_flown_state, pft_setup, pft_teardown),
+        cmocka_unit_test_setup_teardown(fused_bits_do_not_depend_on_threads, pft_setup, pft_teardown),
+        cmocka_unit_test_setup_teardown(fused_bits_do_not_depend_on_threads_measured_2d, pft_setup,
+                                        pft_teardown),
+        cmocka_unit_test_setup_teardown(fused_bits_do_not_depend_on_threads_measured_3d, pft_setup,
+                                        pft_teardown),
+        cmocka_unit_test_setup_teardown(fused_sweep_measures_momentum_band, pft_setup, pft_teardown),
+        cmocka_unit_test_setup_teardown(fused_sweep_band_over_threshold_warns, pft_setup, pft_teardown),
+        cmocka_unit_test_setup_teardown(tight_memory_cap_falls_back, pft_setup, pft_teardown),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

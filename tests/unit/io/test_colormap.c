@@ -13,6 +13,7 @@
 #include <cmocka.h>
 #include <stdio.h>
 #include "pf_cubehelix.h"
+#include "pft.h"
 
 /* sRGB component (0..1) to linear light, IEC 61966-2-1. */
 static double srgb_to_linear(double c)

@@ -190,8 +190,8 @@ int main(void)
         cmocka_unit_test(test_own_faults),
         cmocka_unit_test(test_other_statuses),
         cmocka_unit_test(test_walk_rule),
-        cmocka_unit_test_setup_teardown(test_known_crash_file_refused, pft_context_setup, pft_context_teardown),
-        cmocka_unit_test_setup_teardown(test_own_crash_in_reader_is_a_bug, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(test_known_crash_file_refused, pft_setup, pft_teardown),
+        cmocka_unit_test_setup_teardown(test_own_crash_in_reader_is_a_bug, pft_setup, pft_teardown),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

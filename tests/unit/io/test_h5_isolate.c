@@ -43,7 +43,7 @@ static void write_file(pf_context *ctx)
     pf_grid *g;
     pft_ok(pf_grid_new(ctx, 2, pts, span, origin, &g));
     pf_wave *w;
-    pft_ok(pf_wave_new(g, 1.4e-25, &w));
+    pft_ok(pf_wave_new(g, pft_mass("87Rb"), &w));
     pft_ok(pf_wave_fill(w, PF_POSITION, pattern, NULL));
     pf_wave_set_clock(w, 2.5e-3);
     pf_h5 *f;
@@ -176,9 +176,9 @@ int main(void)
     /* The test exercises the child; the developer switch would bypass it. */
     unsetenv("PSIFLIGHT_H5_INPROCESS");
     const struct CMUnitTest tests[] = {
-        cmocka_unit_test_setup_teardown(test_same_samples_and_charge, pft_context_setup, pft_context_teardown),
-        cmocka_unit_test_setup_teardown(test_status_codes_travel, pft_context_setup, pft_context_teardown),
-        cmocka_unit_test_setup_teardown(test_slab_reads, pft_context_setup, pft_context_teardown),
+        cmocka_unit_test_setup_teardown(test_same_samples_and_charge, pft_setup, pft_teardown),
+        cmocka_unit_test_setup_teardown(test_status_codes_travel, pft_setup, pft_teardown),
+        cmocka_unit_test_setup_teardown(test_slab_reads, pft_setup, pft_teardown),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

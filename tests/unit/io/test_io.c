@@ -18,6 +18,7 @@
 #include "pf_safefile.h"
 #include "pf_sha256.h"
 #include "pf_table.h"
+#include "pft.h"
 
 /* FIPS 180-4 example messages; digests as published with the standard's
  * examples (NIST CSRC "SHA256.pdf"), quoted from memory and cross-checked
@@ -75,7 +76,7 @@ static void cubehelix_luminance_is_lambda(void **state)
         double lum = 0.30 * rgb[0] + 0.59 * rgb[1] + 0.11 * rgb[2];
         /* The published coefficients have 5 decimals, so the zero-luminance
          * property holds to ~1e-5 of the perturbation amplitude. */
-        assert_true(fabs(lum - lam) < 2e-5);
+        pft_near(lum, lam, 0, 2e-5, NULL);
         checked++;
     }
     assert_true(checked > 80);
@@ -134,23 +135,23 @@ static int exists(const char *p)
 static void safefile_commit_and_refuse(void **state)
 {
     (void)state;
-    pf_context *ctx = pf_context_new();
+    pf_context *ctx = pft_context();
     char dir[] = "/tmp/pf-test-io-XXXXXX";
     assert_non_null(mkdtemp(dir));
     char final[256];
     snprintf(final, sizeof final, "%s/sub/a.txt", dir);
     pf_safefile f;
-    assert_int_equal(pf_safe_begin(ctx, final, 0, &f), PF_OK);
+    pft_ok(pf_safe_begin(ctx, final, 0, &f));
     assert_true(exists(f.temp_path));
     assert_false(exists(final));
     FILE *fp = fopen(f.temp_path, "w");
     fputs("one\n", fp);
     fclose(fp);
-    assert_int_equal(pf_safe_commit(ctx, &f), PF_OK);
+    pft_ok(pf_safe_commit(ctx, &f));
     assert_true(exists(final));
     assert_int_equal(pf_safe_begin(ctx, final, 0, &f), PF_EIO);
     assert_non_null(strstr(pf_context_message(ctx), "exists"));
-    assert_int_equal(pf_safe_begin(ctx, final, 1, &f), PF_OK);
+    pft_ok(pf_safe_begin(ctx, final, 1, &f));
     char temp[512];
     snprintf(temp, sizeof temp, "%s", f.temp_path);
     pf_safe_abandon(&f);

@@ -23,6 +23,7 @@
 #include <string.h>
 #include <unistd.h>
 #include "pf_picture.h"
+#include "pft.h"
 
 static int chars(const pf_tick_label *l)
 {
@@ -109,22 +110,22 @@ static void test_resample_linear_and_mean(void **state)
     for (int j = 0; j < 500; j++) {
         double u = (j + 0.5) * 12 / 500.0 - 0.5; /* pixel centre in samples */
         if (u < 0 || u > 11) continue;            /* beyond the outer centres: held */
-        assert_true(fabs(dst[j] - (3 + 2 * u)) < 1e-12);
+        pft_near(dst[j], 3 + 2 * u, 0, 1e-12, NULL);
     }
     /* With at_samples the pixels span the first to the last sample. */
     pf_picture_resample(src, 12, 1, dst, 500, 1, 1);
-    for (int j = 0; j < 500; j++) assert_true(fabs(dst[j] - (3 + 2 * ((j + 0.5) * 11 / 500.0))) < 1e-12);
+    for (int j = 0; j < 500; j++) pft_near(dst[j], 3 + 2 * ((j + 0.5) * 11 / 500.0), 0, 1e-12, NULL);
     /* Reducing: 4096 samples of a slow sine to 300 pixels keep the mean. */
     static double big[4096];
     double mean = 0, rmean = 0, out[300];
     for (int i = 0; i < 4096; i++) mean += (big[i] = 1 + sin(6.283185307179586 * i / 4096.0)) / 4096;
     pf_picture_resample(big, 4096, 1, out, 300, 1, 0);
     for (int j = 0; j < 300; j++) rmean += out[j] / 300;
-    assert_true(fabs(rmean - mean) < 1e-3);
+    pft_near(rmean, mean, 0, 1e-3, NULL);
     /* A fine stripe pattern (period 2 samples) averages out, no aliasing. */
     for (int i = 0; i < 4096; i++) big[i] = i % 2;
     pf_picture_resample(big, 4096, 1, out, 300, 1, 0);
-    for (int j = 1; j < 299; j++) assert_true(fabs(out[j] - 0.5) < 0.02);
+    for (int j = 1; j < 299; j++) pft_near(out[j], 0.5, 0, 0.02, NULL);
 }
 
 /* A fake PDF tail: filler, the information dictionary at offset at, filler. */

@@ -18,6 +18,7 @@
 #include "pf_context.h"
 #include "pf_picture.h"
 #include "pf_plguard.h"
+#include "pft.h"
 
 /* PLplot's fatal-error routine: exported by libplplot and declared in its
  * private header plplotP.h; every fatal error inside PLplot ends here, and
@@ -75,13 +76,13 @@ static void fatal_error_becomes_status(void **state)
     char here[4096];
     assert_non_null(getcwd(here, sizeof here));
     assert_int_equal(chdir(dir), 0);
-    pf_context *ctx = pf_context_new();
+    pf_context *ctx = pft_context();
     FILE *out = fopen("fatal.png", "wb");
     assert_non_null(out);
     assert_int_equal(pf_plguard_run(ctx, provoke_exit, out), PF_EIO); /* the guard's plend1 closes out */
     assert_string_equal(pf_context_message(ctx), "PLplot failed: guard test: simulated fatal error");
     /* The process lives on, and the next picture is drawn normally. */
-    assert_int_equal(one_picture(ctx, "after.png"), PF_OK);
+    pft_ok(one_picture(ctx, "after.png"));
     assert_true(png_file("after.png"));
     assert_int_equal(pf_plguard_run(ctx, provoke_abort, NULL), PF_EIO);
     assert_non_null(strstr(pf_context_message(ctx), "plinit"));
@@ -99,12 +100,12 @@ static void percent_names_are_literal(void **state)
     (void)state;
     char dir[] = "/tmp/pf-plguard-XXXXXX";
     assert_non_null(mkdtemp(dir));
-    pf_context *ctx = pf_context_new();
+    pf_context *ctx = pft_context();
     const char *names[] = {"a%n%n.png", ".%n./p.png", "%s%d%n.png"};
     for (int i = 0; i < 3; i++) {
         char path[512];
         snprintf(path, sizeof path, "%s/%s", dir, names[i]);
-        assert_int_equal(one_picture(ctx, path), PF_OK);
+        pft_ok(one_picture(ctx, path));
         assert_true(png_file(path));
     }
     /* Nothing was made from an expanded pattern ("%n" -> member number). */

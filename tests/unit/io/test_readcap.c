@@ -11,11 +11,12 @@
 #include "pf_context.h"
 #include "pf_internal.h" /* pf_alloc: memory the engine holds */
 #include "pf_readcap.h"
+#include "pft.h"
 
 static void axis_limit_and_overflow(void **state)
 {
     (void)state;
-    pf_context *ctx = pf_context_new();
+    pf_context *ctx = pft_context();
     size_t bytes = 0;
     /* The 1.4 kB HDF5 file of the hostile-input report: shape (2^60,). */
     uint64_t huge[1] = {(uint64_t)1 << 60};
@@ -27,12 +28,12 @@ static void axis_limit_and_overflow(void **state)
     assert_non_null(strstr(pf_context_message(ctx), "overflows"));
     /* 2^30 * 2^29 * 16 = 2^63 still fits; one more factor 2 does not. */
     uint64_t edge[2] = {(uint64_t)1 << 30, (uint64_t)1 << 29};
-    assert_int_equal(pf_read_shape_bytes(ctx, "f.h5", "x", 2, edge, 16, &bytes), PF_OK);
+    pft_ok(pf_read_shape_bytes(ctx, "f.h5", "x", 2, edge, 16, &bytes));
     assert_true(bytes == (size_t)1 << 63);
     assert_int_equal(pf_read_shape_bytes(ctx, "f.h5", "x", 2, edge, 32, &bytes), PF_ELIMIT);
     /* An ordinary shape: 3 x 5 x 7 complex samples. */
     uint64_t small[3] = {3, 5, 7};
-    assert_int_equal(pf_read_shape_bytes(ctx, "f.h5", "x", 3, small, 16, &bytes), PF_OK);
+    pft_ok(pf_read_shape_bytes(ctx, "f.h5", "x", 3, small, 16, &bytes));
     assert_int_equal(bytes, 3 * 5 * 7 * 16);
     assert_int_equal(pf_read_add(SIZE_MAX - 1, 2), SIZE_MAX);
     assert_int_equal(pf_read_add(40, 2), 42);
@@ -42,9 +43,9 @@ static void axis_limit_and_overflow(void **state)
 static void budget_is_cap_minus_used(void **state)
 {
     (void)state;
-    pf_context *ctx = pf_context_new();
-    assert_int_equal(pf_context_set_memory_cap(ctx, 1 << 20), PF_OK);
-    assert_int_equal(pf_read_budget(ctx, "scan.h5", 1 << 20), PF_OK);
+    pf_context *ctx = pft_context();
+    pft_ok(pf_context_set_memory_cap(ctx, 1 << 20));
+    pft_ok(pf_read_budget(ctx, "scan.h5", 1 << 20));
     assert_int_equal(pf_read_budget(ctx, "scan.h5", (1 << 20) + 1), PF_ELIMIT);
     assert_string_equal(pf_context_message(ctx),
                         "file 'scan.h5' needs 1048577 bytes, over the memory cap (1048576 bytes, 0 in use); "
@@ -52,7 +53,7 @@ static void budget_is_cap_minus_used(void **state)
     /* Memory the engine holds counts: a wave's storage leaves less room. */
     void *held = pf_alloc(ctx, 1 << 19);
     assert_non_null(held);
-    assert_int_equal(pf_read_budget(ctx, "scan.h5", 1 << 19), PF_OK);
+    pft_ok(pf_read_budget(ctx, "scan.h5", 1 << 19));
     assert_int_equal(pf_read_budget(ctx, "scan.h5", (1 << 19) + 1), PF_ELIMIT);
     assert_int_equal(pf_read_budget(ctx, "scan.h5", SIZE_MAX), PF_ELIMIT);
     pf_free(ctx, held, 1 << 19);

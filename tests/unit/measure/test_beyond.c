@@ -5,7 +5,7 @@
 #include <gsl/gsl_sf_erf.h>
 #include <stdlib.h>
 #include <string.h>
-#include "measure_util.h"
+#include "pft.h"
 #include "pf_flight.h"
 #include "pf_flux.h"
 
@@ -19,7 +19,7 @@
 static double reference_beyond(pf_wave *w, int axis, double at)
 {
     pf_grid *g = pf_wave_grid(w);
-    MU_OK(pf_wave_to(w, PF_MOMENTUM));
+    pft_ok(pf_wave_to(w, PF_MOMENTUM));
     const double complex *S = pf_wave_data_const(w);
     int d = pf_grid_dim(g);
     size_t n[3] = {1, 1, 1};
@@ -91,11 +91,11 @@ static pf_wave *noise_wave(pf_context *ctx, int dim, const size_t *n, pf_rep rep
 {
     double span[3] = {40e-6, 30e-6, 20e-6}, origin[3] = {-3e-6, 1e-6, 0};
     pf_grid *g = NULL;
-    MU_OK(pf_grid_new(ctx, dim, n, span, origin, &g));
+    pft_ok(pf_grid_new(ctx, dim, n, span, origin, &g));
     pf_wave *w = NULL;
-    MU_OK(pf_wave_new(g, MU_MASS, &w));
-    MU_OK(pf_wave_fill(w, rep, noise_fn, NULL));
-    MU_OK(pf_wave_normalize(w));
+    pft_ok(pf_wave_new(g, pft_mass("87Rb"), &w));
+    pft_ok(pf_wave_fill(w, rep, noise_fn, NULL));
+    pft_ok(pf_wave_normalize(w));
     pf_grid_release(g);
     return w;
 }
@@ -106,7 +106,7 @@ static pf_wave *noise_wave(pf_context *ctx, int dim, const size_t *n, pf_rep rep
 static void matches_direct_sum(void **state)
 {
     (void)state;
-    pf_context *ctx = mu_context();
+    pf_context *ctx = pft_context();
     rng = gsl_rng_alloc(gsl_rng_mt19937);
     gsl_rng_set(rng, 20261204);
     const struct { int dim; size_t n[3]; } shapes[] = {{1, {64}}, {1, {63}}, {2, {16, 12}}, {2, {15, 9}}, {2, {10, 17}}};
@@ -122,14 +122,11 @@ static void matches_direct_sum(void **state)
                                      pf_grid_x(g, axis, na / 2) + 0.37 * dx, pf_grid_x(g, axis, na - 2) + 0.81 * dx};
                 for (size_t j = 0; j < 4; j++) {
                     pf_wave *c1;
-                    MU_OK(pf_wave_copy(w, &c1));
+                    pft_ok(pf_wave_copy(w, &c1));
                     double P;
-                    MU_OK(pf_wave_beyond(c1, axis, at[j], &P));
+                    pft_ok(pf_wave_beyond(c1, axis, at[j], &P));
                     double want = reference_beyond(c1, axis, at[j]);
-                    if (!(fabs(P - want) <= 1e-13)) {
-                        print_error("shape %zu rep %d axis %d plane %zu: got %.17g want %.17g\n", c, rep, axis, j, P, want);
-                        fail();
-                    }
+                    pft_near(P, want, 0, 1e-13, NULL);
                     checked++;
                     pf_wave_free(c1);
                 }
@@ -146,17 +143,17 @@ static void matches_direct_sum(void **state)
 static void thread_independent(void **state)
 {
     (void)state;
-    pf_context *ctx = mu_context();
+    pf_context *ctx = pft_context();
     rng = gsl_rng_alloc(gsl_rng_mt19937);
     gsl_rng_set(rng, 7);
     const size_t n[2] = {256, 48};
     pf_wave *w = noise_wave(ctx, 2, n, PF_POSITION);
     double P[2];
     for (int t = 0; t < 2; t++) {
-        MU_OK(pf_context_set_threads(ctx, t + 1));
+        pft_ok(pf_context_set_threads(ctx, t + 1));
         pf_wave *c;
-        MU_OK(pf_wave_copy(w, &c));
-        MU_OK(pf_wave_beyond(c, 1, 2.3e-6, &P[t]));
+        pft_ok(pf_wave_copy(w, &c));
+        pft_ok(pf_wave_beyond(c, 1, 2.3e-6, &P[t]));
         pf_wave_free(c);
     }
     assert_memory_equal(&P[0], &P[1], sizeof(double));
@@ -173,20 +170,19 @@ static void thread_independent(void **state)
 static void free_gaussian_tail(void **state)
 {
     (void)state;
-    pf_context *ctx = mu_context();
-    pf_grid *g = mu_grid1(ctx, 512, 200e-6, 0.0);
-    double s0 = 2e-6, k0 = MU_MASS * 1e-3 / PF_HBAR, x0 = -20e-6, t = 4e-3;
-    mu_gauss gs = {1, {x0}, {s0}, {k0}};
-    pf_wave *w = mu_gauss_wave(g, &gs);
-    MU_OK(pf_wave_fly(w, t));
-    double tau = PF_HBAR * t / (2 * MU_MASS * s0 * s0), s = s0 * sqrt(1 + tau * tau);
-    double xc = x0 + PF_HBAR * k0 / MU_MASS * t;
+    pf_context *ctx = pft_context();
+    pf_grid *g = pft_grid1(ctx, 512, 200e-6, 0.0);
+    double s0 = 2e-6, k0 = pft_mass("87Rb") * 1e-3 / PF_HBAR, x0 = -20e-6, t = 4e-3;
+    pft_gauss gs = {1, {x0}, {s0}, {k0}};
+    pf_wave *w = pft_gauss_wave(g, pft_mass("87Rb"), &gs);
+    pft_ok(pf_wave_fly(w, t));
+    double tau = PF_HBAR * t / (2 * pft_mass("87Rb") * s0 * s0), s = s0 * sqrt(1 + tau * tau);
+    double xc = x0 + PF_HBAR * k0 / pft_mass("87Rb") * t;
     const double planes[] = {xc - 1.3 * s, xc + 0.1 * s, xc + 0.77 * s, xc + 2.9 * s};
     for (size_t j = 0; j < 4; j++) {
         double P;
-        MU_OK(pf_wave_beyond(w, 0, planes[j], &P));
-        MU_NEAR(P, 0.5 * gsl_sf_erfc((planes[j] - xc) / (sqrt(2.0) * s)), 1e-12,
-                "free Gaussian tail erfc/2 (textbook), GSL gsl_sf_erfc");
+        pft_ok(pf_wave_beyond(w, 0, planes[j], &P));
+        pft_near(P, 0.5 * gsl_sf_erfc((planes[j] - xc) / (sqrt(2.0) * s)), 0, 1e-12, "free Gaussian tail erfc/2 (textbook), GSL gsl_sf_erfc");
     }
     pf_wave_free(w);
     pf_grid_release(g);

@@ -2,7 +2,7 @@
  * closed form of chirped Gaussians and the free-particle moment equations. */
 #include <stdlib.h>
 #include <string.h>
-#include "measure_util.h"
+#include "pft.h"
 #include "pf_covariance.h"
 #include "pf_flight.h"
 #include "pf_observe.h"
@@ -41,11 +41,11 @@ static pf_wave *chirp_wave(pf_context *ctx, const chirp *q, size_t n, double spa
     size_t ns[2] = {n, n};
     double spans[2] = {span, span}, origin[2] = {0, 0};
     pf_grid *g = NULL;
-    MU_OK(pf_grid_new(ctx, q->dim, ns, spans, origin, &g));
+    pft_ok(pf_grid_new(ctx, q->dim, ns, spans, origin, &g));
     pf_wave *w = NULL;
-    MU_OK(pf_wave_new(g, MU_MASS, &w));
-    MU_OK(pf_wave_fill(w, PF_POSITION, chirp_fn, (void *)q));
-    MU_OK(pf_wave_normalize(w));
+    pft_ok(pf_wave_new(g, pft_mass("87Rb"), &w));
+    pft_ok(pf_wave_fill(w, PF_POSITION, chirp_fn, (void *)q));
+    pft_ok(pf_wave_normalize(w));
     pf_grid_release(g);
     return w;
 }
@@ -58,29 +58,28 @@ static pf_wave *chirp_wave(pf_context *ctx, const chirp *q, size_t n, double spa
 static void chirped_1d(void **state)
 {
     (void)state;
-    pf_context *ctx = mu_context();
+    pf_context *ctx = pft_context();
     double s = 2e-6, b = 2e10;
     chirp q = {1, {-5e-6}, {3e5}, {{1 / (s * s)}}, {{b}}};
     pf_wave *w = chirp_wave(ctx, &q, 256, 100e-6);
     double C, scale = PF_HBAR;
-    MU_OK(pf_wave_position_momentum_covariance(w, &C));
-    MU_NEAR(C / scale, 2 * b * s * s, 1e-12, "chirped Gaussian <xp+px>/2 = 2 hbar b s^2 (textbook, derived above)");
-    double vark = 1 / (4 * s * s) + 4 * b * b * s * s, m = MU_MASS, t = 6e-3, h = 1e-3;
-    MU_OK(pf_wave_fly(w, t));
-    MU_OK(pf_wave_position_momentum_covariance(w, &C));
+    pft_ok(pf_wave_position_momentum_covariance(w, &C));
+    pft_near(C / scale, 2 * b * s * s, 0, 1e-12, "chirped Gaussian <xp+px>/2 = 2 hbar b s^2 (textbook, derived above)");
+    double vark = 1 / (4 * s * s) + 4 * b * b * s * s, m = pft_mass("87Rb"), t = 6e-3, h = 1e-3;
+    pft_ok(pf_wave_fly(w, t));
+    pft_ok(pf_wave_position_momentum_covariance(w, &C));
     double want = 2 * b * s * s + vark * PF_HBAR * t / m;
-    MU_NEAR(C / scale, want, 1e-10 * fabs(want),
-            "free particle: C(t) = C(0) + <dp^2> t / m (Ehrenfest moment equations, common practice)");
+    pft_near(C / scale, want, 0, 1e-10 * fabs(want), "free particle: C(t) = C(0) + <dp^2> t / m (Ehrenfest moment equations, common practice)");
     pf_wave *lo, *hi;
     double vlo, vhi;
-    MU_OK(pf_wave_copy(w, &lo));
-    MU_OK(pf_wave_copy(w, &hi));
-    MU_OK(pf_wave_fly(lo, -h));
-    MU_OK(pf_wave_fly(hi, h));
-    MU_OK(pf_wave_position_moments(lo, NULL, &vlo));
-    MU_OK(pf_wave_position_moments(hi, NULL, &vhi));
+    pft_ok(pf_wave_copy(w, &lo));
+    pft_ok(pf_wave_copy(w, &hi));
+    pft_ok(pf_wave_fly(lo, -h));
+    pft_ok(pf_wave_fly(hi, h));
+    pft_ok(pf_wave_position_moments(lo, NULL, &vlo));
+    pft_ok(pf_wave_position_moments(hi, NULL, &vhi));
     double dvar = (vhi - vlo) / (2 * h);
-    MU_NEAR(dvar / (2 * C / m), 1.0, 1e-9, "d<dx^2>/dt = 2 C / m (free-particle moment equations, common practice)");
+    pft_near(dvar / (2 * C / m), 1.0, 0, 1e-9, "d<dx^2>/dt = 2 C / m (free-particle moment equations, common practice)");
     pf_wave_free(lo);
     pf_wave_free(hi);
     pf_wave_free(w);
@@ -93,16 +92,16 @@ static void chirped_1d(void **state)
 static void cross_terms_2d(void **state)
 {
     (void)state;
-    pf_context *ctx = mu_context();
+    pf_context *ctx = pft_context();
     double s1 = 3e-6, s2 = 1.5e-6, b1 = 1e10, b2 = -2.5e10;
     chirp prod = {2, {2e-6, -1e-6}, {2e5, -1e5}, {{1 / (s1 * s1), 0}, {0, 1 / (s2 * s2)}}, {{b1, 0}, {0, b2}}};
     pf_wave *w = chirp_wave(ctx, &prod, 128, 60e-6);
     double C[4];
-    MU_OK(pf_wave_position_momentum_covariance(w, C));
-    MU_NEAR(C[1] / PF_HBAR, 0.0, 1e-9, "product state: C_xy = 0 (independent axes)");
-    MU_NEAR(C[2] / PF_HBAR, 0.0, 1e-9, "product state: C_yx = 0 (independent axes)");
-    MU_NEAR(C[0] / PF_HBAR, 2 * b1 * s1 * s1, 1e-12, "product state: C_xx = 2 hbar b1 s1^2 (textbook)");
-    MU_NEAR(C[3] / PF_HBAR, 2 * b2 * s2 * s2, 1e-12, "product state: C_yy = 2 hbar b2 s2^2 (textbook)");
+    pft_ok(pf_wave_position_momentum_covariance(w, C));
+    pft_near(C[1] / PF_HBAR, 0.0, 0, 1e-9, "product state: C_xy = 0 (independent axes)");
+    pft_near(C[2] / PF_HBAR, 0.0, 0, 1e-9, "product state: C_yx = 0 (independent axes)");
+    pft_near(C[0] / PF_HBAR, 2 * b1 * s1 * s1, 0, 1e-12, "product state: C_xx = 2 hbar b1 s1^2 (textbook)");
+    pft_near(C[3] / PF_HBAR, 2 * b2 * s2 * s2, 0, 1e-12, "product state: C_yy = 2 hbar b2 s2^2 (textbook)");
     pf_wave_free(w);
     double th = 0.6, c = cos(th), s = sin(th);
     double R[2][2] = {{c, -s}, {s, c}}, Sd[2] = {s1 * s1, s2 * s2}, Bd[2] = {b1, b2};
@@ -120,16 +119,16 @@ static void cross_terms_2d(void **state)
         }
     w = chirp_wave(ctx, &rot, 128, 60e-6);
     pf_wave *w2; /* each call transforms its wave (rounding), so a twin for the thread check */
-    MU_OK(pf_wave_copy(w, &w2));
-    MU_OK(pf_wave_position_momentum_covariance(w, C));
+    pft_ok(pf_wave_copy(w, &w2));
+    pft_ok(pf_wave_position_momentum_covariance(w, C));
     for (int i = 0; i < 2; i++)
         for (int j = 0; j < 2; j++)
-            MU_NEAR(C[i * 2 + j] / PF_HBAR, want[i][j], 1e-12, "rotated chirped Gaussian: C = 2 hbar Sigma B (textbook)");
+            pft_near(C[i * 2 + j] / PF_HBAR, want[i][j], 0, 1e-12, "rotated chirped Gaussian: C = 2 hbar Sigma B (textbook)");
     printf("ok rotated C_xy/hbar = %.6g m*1/m (closed form %.6g)\n", C[1] / PF_HBAR, want[0][1]);
     /* Same bits on 1 and 2 threads. */
     double C2[4];
-    MU_OK(pf_context_set_threads(ctx, 2));
-    MU_OK(pf_wave_position_momentum_covariance(w2, C2));
+    pft_ok(pf_context_set_threads(ctx, 2));
+    pft_ok(pf_wave_position_momentum_covariance(w2, C2));
     assert_memory_equal(C, C2, sizeof C);
     printf("ok covariance on 1 and 2 threads: identical bits  [determinism]\n");
     pf_wave_free(w2);
@@ -140,10 +139,10 @@ static void cross_terms_2d(void **state)
 static void zero_state_fails(void **state)
 {
     (void)state;
-    pf_context *ctx = mu_context();
-    pf_grid *g = mu_grid1(ctx, 64, 10e-6, 0);
+    pf_context *ctx = pft_context();
+    pf_grid *g = pft_grid1(ctx, 64, 10e-6, 0);
     pf_wave *w = NULL;
-    MU_OK(pf_wave_new(g, MU_MASS, &w));
+    pft_ok(pf_wave_new(g, pft_mass("87Rb"), &w));
     double C;
     assert_int_equal(pf_wave_position_momentum_covariance(w, &C), PF_EINVAL);
     pf_wave_free(w);

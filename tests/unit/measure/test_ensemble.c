@@ -3,7 +3,7 @@
  * Maxwell-Boltzmann results, and mixture measurements (Bayes update). */
 #include <gsl/gsl_integration.h>
 #include <stdlib.h>
-#include "measure_util.h"
+#include "pft.h"
 #include "pf_ensemble.h"
 #include "pf_flight.h"
 #include "pf_observe.h"
@@ -13,12 +13,12 @@
 static void hermite_matches_gsl(void **state)
 {
     (void)state;
-    pf_context *ctx = mu_context();
+    pf_context *ctx = pft_context();
     int orders[] = {1, 2, 5, 12, 30};
     for (int o = 0; o < 5; o++) {
         int M = orders[o];
         double z[64], w[64];
-        MU_OK(pf_gauss_hermite_normal(ctx, M, z, w));
+        pft_ok(pf_gauss_hermite_normal(ctx, M, z, w));
         gsl_integration_fixed_workspace *ws = gsl_integration_fixed_alloc(gsl_integration_fixed_hermite, (size_t)M, 0, 1, 0, 0);
         const double *gx = gsl_integration_fixed_nodes(ws), *gw = gsl_integration_fixed_weights(ws);
         double worst = 0;
@@ -41,7 +41,7 @@ static void hermite_matches_gsl(void **state)
         gsl_integration_fixed_free(ws);
         char label[80];
         snprintf(label, sizeof label, "Gauss-Hermite M=%d vs GSL fixed hermite", M);
-        MU_NEAR(worst, 0, 1e-12, label);
+        pft_near(worst, 0, 0, 1e-12, label);
     }
     pf_context_release(ctx);
 }
@@ -52,14 +52,14 @@ static void build(pf_context *ctx, pf_grid *g, const pf_thermal_spec *sp, pf_wav
     pf_thermal_member *list;
     pf_rng r;
     pf_rng_seed(&r, 5, 0);
-    MU_OK(pf_thermal_members(ctx, sp, &r, &list, count));
+    pft_ok(pf_thermal_members(ctx, sp, &r, &list, count));
     *members = calloc(*count, sizeof **members);
     *weights = calloc(*count, sizeof **weights);
     double center[3] = {0, 0, 0}, s0[3];
     for (int a = 0; a < sp->dim; a++) s0[a] = pf_thermal_sigma0(sp->mass, sp->omega[a]);
     for (size_t i = 0; i < *count; i++) {
-        MU_OK(pf_wave_new(g, sp->mass, &(*members)[i]));
-        MU_OK(pf_wave_fill_coherent((*members)[i], center, s0, list[i].shift, list[i].kmean));
+        pft_ok(pf_wave_new(g, sp->mass, &(*members)[i]));
+        pft_ok(pf_wave_fill_coherent((*members)[i], center, s0, list[i].shift, list[i].kmean));
         (*weights)[i] = list[i].weight;
     }
     free(list);
@@ -74,11 +74,11 @@ static void build(pf_context *ctx, pf_grid *g, const pf_thermal_spec *sp, pf_wav
 static void thermal_expansion_1d(void **state)
 {
     (void)state;
-    pf_context *ctx = mu_context();
+    pf_context *ctx = pft_context();
     double omega = PF_TWO_PI * 100.0;
     double T = PF_HBAR * omega / (0.05 * PF_BOLTZMANN); /* about 96 nK */
-    pf_thermal_spec sp = {1, MU_MASS, {omega}, T, 3, 0};
-    pf_grid *g = mu_grid1(ctx, 1024, 200e-6, 0); /* dx resolves the fastest node (7e6 /m) */
+    pf_thermal_spec sp = {1, pft_mass("87Rb"), {omega}, T, 3, 0};
+    pf_grid *g = pft_grid1(ctx, 1024, 200e-6, 0); /* dx resolves the fastest node (7e6 /m) */
     pf_wave **m;
     double *w;
     size_t count;
@@ -86,22 +86,22 @@ static void thermal_expansion_1d(void **state)
     assert_int_equal(count, 9);
     pf_mixture mix = {count, m, w};
     double coth = 1 / tanh(PF_HBAR * omega / (2 * PF_BOLTZMANN * T));
-    double s0 = pf_thermal_sigma0(MU_MASS, omega);
+    double s0 = pf_thermal_sigma0(pft_mass("87Rb"), omega);
     pf_field f;
     double mean, var0, var;
-    MU_OK(pf_mixture_field(&mix, PF_POSITION, &f));
-    MU_OK(pf_field_moments(&f, &mean, &var0));
+    pft_ok(pf_mixture_field(&mix, PF_POSITION, &f));
+    pft_ok(pf_field_moments(&f, &mean, &var0));
     pf_field_free(&f);
-    MU_NEAR(var0, s0 * s0 * coth, 1e-10 * s0 * s0 * coth, "thermal sigma_x(0)^2 = sigma0^2 coth (Bose-Einstein)");
+    pft_near(var0, s0 * s0 * coth, 0, 1e-10 * s0 * s0 * coth, "thermal sigma_x(0)^2 = sigma0^2 coth (Bose-Einstein)");
     double t = 6e-3;
-    for (size_t i = 0; i < count; i++) MU_OK(pf_wave_fly(m[i], t));
-    MU_OK(pf_mixture_field(&mix, PF_POSITION, &f));
-    MU_OK(pf_field_moments(&f, &mean, &var));
+    for (size_t i = 0; i < count; i++) pft_ok(pf_wave_fly(m[i], t));
+    pft_ok(pf_mixture_field(&mix, PF_POSITION, &f));
+    pft_ok(pf_field_moments(&f, &mean, &var));
     pf_field_free(&f);
     double quantum = s0 * s0 * coth * (1 + omega * omega * t * t);
-    MU_NEAR(var, quantum, 1e-9 * quantum, "thermal sigma_x(t)^2 quantum harmonic-oscillator result");
-    double mb = var0 + PF_BOLTZMANN * T / MU_MASS * t * t;
-    MU_NEAR(var / mb, 1, 1e-3, "sigma_x(t)^2 = sigma_x(0)^2 + kB T t^2 / m (Maxwell-Boltzmann)");
+    pft_near(var, quantum, 0, 1e-9 * quantum, "thermal sigma_x(t)^2 quantum harmonic-oscillator result");
+    double mb = var0 + PF_BOLTZMANN * T / pft_mass("87Rb") * t * t;
+    pft_near(var / mb, 1, 0, 1e-3, "sigma_x(t)^2 = sigma_x(0)^2 + kB T t^2 / m (Maxwell-Boltzmann)");
     for (size_t i = 0; i < count; i++) pf_wave_free(m[i]);
     free(m);
     free(w);
@@ -115,10 +115,10 @@ static void thermal_expansion_1d(void **state)
 static void thermal_sampled(void **state)
 {
     (void)state;
-    pf_context *ctx = mu_context();
+    pf_context *ctx = pft_context();
     double om = PF_TWO_PI * 200.0, T = 50e-9;
-    pf_thermal_spec sp = {1, MU_MASS, {om}, T, 0, 2000};
-    pf_grid *g = mu_grid1(ctx, 256, 60e-6, 0);
+    pf_thermal_spec sp = {1, pft_mass("87Rb"), {om}, T, 0, 2000};
+    pf_grid *g = pft_grid1(ctx, 256, 60e-6, 0);
     pf_wave **m;
     double *w;
     size_t count;
@@ -126,12 +126,12 @@ static void thermal_sampled(void **state)
     pf_mixture mix = {count, m, w};
     pf_field f;
     double mean, var;
-    MU_OK(pf_mixture_field(&mix, PF_POSITION, &f));
-    MU_OK(pf_field_moments(&f, &mean, &var));
+    pft_ok(pf_mixture_field(&mix, PF_POSITION, &f));
+    pft_ok(pf_field_moments(&f, &mean, &var));
     pf_field_free(&f);
-    double s0 = pf_thermal_sigma0(MU_MASS, om), nb = pf_thermal_nbar(om, T);
+    double s0 = pf_thermal_sigma0(pft_mass("87Rb"), om), nb = pf_thermal_nbar(om, T);
     double want = s0 * s0 * (2 * nb + 1);
-    MU_NEAR(var / want, 1, 4 * sqrt(2.0 / count), "sampled thermal width (Bose-Einstein, 4 sampling errors)");
+    pft_near(var / want, 1, 0, 4 * sqrt(2.0 / count), "sampled thermal width (Bose-Einstein, 4 sampling errors)");
     for (size_t i = 0; i < count; i++) pf_wave_free(m[i]);
     free(m);
     free(w);
@@ -145,14 +145,14 @@ static void thermal_sampled(void **state)
 static void thermal_quadrature_2d(void **state)
 {
     (void)state;
-    pf_context *ctx = mu_context();
+    pf_context *ctx = pft_context();
     double om[2] = {PF_TWO_PI * 200.0, PF_TWO_PI * 120.0};
     double T = 30e-9;
-    pf_thermal_spec sp = {2, MU_MASS, {om[0], om[1]}, T, 2, 0};
+    pf_thermal_spec sp = {2, pft_mass("87Rb"), {om[0], om[1]}, T, 2, 0};
     size_t n[2] = {128, 128};
     double span[2] = {40e-6, 48e-6}, origin[2] = {0, 0};
     pf_grid *g;
-    MU_OK(pf_grid_new(ctx, 2, n, span, origin, &g));
+    pft_ok(pf_grid_new(ctx, 2, n, span, origin, &g));
     pf_wave **m;
     double *w;
     size_t count;
@@ -161,15 +161,15 @@ static void thermal_quadrature_2d(void **state)
     pf_mixture mix = {count, m, w};
     pf_field f;
     double mean[2], cov[4];
-    MU_OK(pf_mixture_field(&mix, PF_POSITION, &f));
-    MU_OK(pf_field_moments(&f, mean, cov));
+    pft_ok(pf_mixture_field(&mix, PF_POSITION, &f));
+    pft_ok(pf_field_moments(&f, mean, cov));
     pf_field_free(&f);
     for (int a = 0; a < 2; a++) {
-        double s0 = pf_thermal_sigma0(MU_MASS, om[a]);
+        double s0 = pf_thermal_sigma0(pft_mass("87Rb"), om[a]);
         double want = s0 * s0 / tanh(PF_HBAR * om[a] / (2 * PF_BOLTZMANN * T));
-        MU_NEAR(cov[a * 3] / want, 1, 1e-9, "2D quadrature thermal variance (Bose-Einstein)");
+        pft_near(cov[a * 3] / want, 1, 0, 1e-9, "2D quadrature thermal variance (Bose-Einstein)");
     }
-    MU_NEAR(cov[1], 0, 1e-25, "no x-y correlation in a separable trap");
+    pft_near(cov[1], 0, 0, 1e-25, "no x-y correlation in a separable trap");
     for (size_t i = 0; i < count; i++) pf_wave_free(m[i]);
     free(m);
     free(w);
@@ -182,23 +182,23 @@ static void thermal_quadrature_2d(void **state)
 static void mixture_region_bayes(void **state)
 {
     (void)state;
-    pf_context *ctx = mu_context();
-    pf_grid *g = mu_grid1(ctx, 256, 100e-6, 0);
-    mu_gauss a = {1, {-10e-6}, {3e-6}, {0}}, b = {1, {12e-6}, {3e-6}, {0}};
-    pf_wave *m[2] = {mu_gauss_wave(g, &a), mu_gauss_wave(g, &b)};
+    pf_context *ctx = pft_context();
+    pf_grid *g = pft_grid1(ctx, 256, 100e-6, 0);
+    pft_gauss a = {1, {-10e-6}, {3e-6}, {0}}, b = {1, {12e-6}, {3e-6}, {0}};
+    pf_wave *m[2] = {pft_gauss_wave(g, pft_mass("87Rb"), &a), pft_gauss_wave(g, pft_mass("87Rb"), &b)};
     double w[2] = {0.3, 0.7}, nw[2];
     pf_region reg = {.kind = PF_REGION_HALF_SPACE, .point = {0}, .normal = {1}};
     double pa, pb;
-    MU_OK(pf_wave_region_probability(m[0], &reg, &pa));
-    MU_OK(pf_wave_region_probability(m[1], &reg, &pb));
+    pft_ok(pf_wave_region_probability(m[0], &reg, &pa));
+    pft_ok(pf_wave_region_probability(m[1], &reg, &pb));
     pf_mixture mix = {2, m, w};
     int out;
     double P;
-    MU_OK(pf_mixture_measure_region(&mix, &reg, NULL, 1, &out, &P, nw));
-    MU_NEAR(P, 0.3 * pa + 0.7 * pb, 1e-15, "mixture outcome probability = sum w_i p_i");
-    MU_NEAR(nw[0], 0.3 * pa / P, 1e-15, "posterior weight (Bayes' rule)");
-    MU_NEAR(nw[0] + nw[1], 1, 1e-15, "posterior weights sum to 1");
-    MU_NEAR(pf_wave_norm(m[0]), 1, 1e-12, "collapsed member renormalised");
+    pft_ok(pf_mixture_measure_region(&mix, &reg, NULL, 1, &out, &P, nw));
+    pft_near(P, 0.3 * pa + 0.7 * pb, 0, 1e-15, "mixture outcome probability = sum w_i p_i");
+    pft_near(nw[0], 0.3 * pa / P, 0, 1e-15, "posterior weight (Bayes' rule)");
+    pft_near(nw[0] + nw[1], 1, 0, 1e-15, "posterior weights sum to 1");
+    pft_near(pf_wave_norm(m[0]), 1, 0, 1e-12, "collapsed member renormalised");
     pf_wave_free(m[0]);
     pf_wave_free(m[1]);
     pf_grid_release(g);

@@ -4,7 +4,7 @@
 #include <gsl/gsl_cdf.h>
 #include <stdlib.h>
 #include <string.h>
-#include "measure_util.h"
+#include "pft.h"
 #include "pf_field.h"
 #include "pf_sample.h"
 
@@ -14,18 +14,18 @@
 static void histogram_passes_chi_square(void **state)
 {
     (void)state;
-    pf_context *ctx = mu_context();
+    pf_context *ctx = pft_context();
     size_t n[2] = {48, 40};
     double span[2] = {40e-6, 30e-6}, origin[2] = {1e-6, -2e-6};
     pf_grid *g;
-    MU_OK(pf_grid_new(ctx, 2, n, span, origin, &g));
-    mu_gauss gs = {2, {2e-6, -1e-6}, {4e-6, 3e-6}, {1e6, 0}};
-    pf_wave *w = mu_gauss_wave(g, &gs);
+    pft_ok(pf_grid_new(ctx, 2, n, span, origin, &g));
+    pft_gauss gs = {2, {2e-6, -1e-6}, {4e-6, 3e-6}, {1e6, 0}};
+    pf_wave *w = pft_gauss_wave(g, pft_mass("87Rb"), &gs);
     pf_field f;
-    MU_OK(pf_field_for_grid(g, PF_POSITION, &f));
-    MU_OK(pf_field_add_density(&f, w, PF_POSITION, 1.0, NULL));
+    pft_ok(pf_field_for_grid(g, PF_POSITION, &f));
+    pft_ok(pf_field_add_density(&f, w, PF_POSITION, 1.0, NULL));
     pf_sampler s;
-    MU_OK(pf_sampler_init(&s, &f));
+    pft_ok(pf_sampler_init(&s, &f));
     enum { N = 200000 };
     double *ev = malloc(2 * N * sizeof *ev);
     pf_rng r;
@@ -63,8 +63,8 @@ static void histogram_passes_chi_square(void **state)
     for (size_t e = 0; e < N; e++) v += (ev[2 * e] - m) * (ev[2 * e] - m);
     v /= N;
     double dx = pf_grid_spacing(g, 0);
-    MU_NEAR(m, 2e-6, 4 * 4e-6 / sqrt(N), "event mean = packet centre (analytic Gaussian)");
-    MU_NEAR(v, 16e-12 + dx * dx / 12, 4 * 16e-12 * sqrt(2.0 / N), "event variance = sigma^2 + dx^2/12");
+    pft_near(m, 2e-6, 0, 4 * 4e-6 / sqrt(N), "event mean = packet centre (analytic Gaussian)");
+    pft_near(v, 16e-12 + dx * dx / 12, 0, 4 * 16e-12 * sqrt(2.0 / N), "event variance = sigma^2 + dx^2/12");
     /* Same seed, same events. */
     double *ev2 = malloc(2 * N * sizeof *ev2);
     pf_rng_seed(&r, 2024, 0);
@@ -85,14 +85,14 @@ static void histogram_passes_chi_square(void **state)
 static void guide_table_matches_linear_search(void **state)
 {
     (void)state;
-    pf_context *ctx = mu_context();
+    pf_context *ctx = pft_context();
     size_t n = 1000;
     double first = 0, step = 1;
     pf_field f;
-    MU_OK(pf_field_new(ctx, 1, &n, &first, &step, &f));
+    pft_ok(pf_field_new(ctx, 1, &n, &first, &step, &f));
     for (size_t i = 0; i < n; i++) f.values[i] = (i % 7 == 0) ? 0 : (double)((i * 37) % 11);
     pf_sampler s;
-    MU_OK(pf_sampler_init(&s, &f));
+    pft_ok(pf_sampler_init(&s, &f));
     pf_rng r;
     pf_rng_seed(&r, 3, 3);
     for (int t = 0; t < 20000; t++) {
@@ -111,11 +111,11 @@ static void guide_table_matches_linear_search(void **state)
 static void bad_weights_fail(void **state)
 {
     (void)state;
-    pf_context *ctx = mu_context();
+    pf_context *ctx = pft_context();
     size_t n = 4;
     double first = 0, step = 1;
     pf_field f;
-    MU_OK(pf_field_new(ctx, 1, &n, &first, &step, &f));
+    pft_ok(pf_field_new(ctx, 1, &n, &first, &step, &f));
     pf_sampler s;
     assert_int_equal(pf_sampler_init(&s, &f), PF_EINVAL);
     f.values[2] = -1;

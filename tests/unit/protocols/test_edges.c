@@ -6,10 +6,9 @@
  * (standard result; the disk's area pi R^2 at k = 0). */
 #include <gsl/gsl_sf_bessel.h>
 #include <gsl/gsl_sf_erf.h>
-#include "protocol_util.h"
+#include "pft.h"
 #include "pf_edges.h"
 #include "pf_ops.h"
-#include "pft.h"
 
 /* Discrete Fourier coefficient of a table: (1/n) sum_j t_j e^{-i k (x_j - x_0)}. */
 static double complex coefficient(const pf_grid *g, int axis, const double complex *t, double k)
@@ -28,15 +27,15 @@ static double complex coefficient(const pf_grid *g, int axis, const double compl
 static void test_soft_slit_is_erf_profile(void **state)
 {
     (void)state;
-    pf_context *ctx = tu_context();
+    pf_context *ctx = pft_context();
     size_t n = 1024;
     double span = 100e-6;
-    pf_grid *g = tu_grid(ctx, 1, &n, &span, NULL);
+    pf_grid *g = pft_grid(ctx, 1, &n, &span, NULL);
     double dx = span / (double)n, s = 5 * dx, a = -7.3137e-6, b = 11.0071e-6;
     double complex *t = malloc(n * sizeof *t);
     pf_edges e = {PF_EDGES_EXACT, s};
     pf_edges_comb slit = {.start = a, .open = b - a, .pitch = b - a, .first = 0, .last = 0};
-    assert_int_equal(pf_edges_comb_table(g, 0, &slit, &e, t), PF_OK);
+    pft_ok(pf_edges_comb_table(g, 0, &slit, &e, t));
     double worst = 0;
     for (size_t j = 0; j < n; j++) {
         double x = pf_grid_x(g, 0, j);
@@ -45,7 +44,7 @@ static void test_soft_slit_is_erf_profile(void **state)
         worst = fmax(worst, fabs(creal(t[j]) - want));
     }
     printf("note soft slit (rms 5 dx): worst |t - erf profile| %.2e [GSL gsl_sf_erf]\n", worst);
-    pft_near(worst, 0, 0, 1e-13);
+    pft_near(worst, 0, 0, 1e-13, NULL);
     free(t);
     pf_grid_release(g);
     pf_context_release(ctx);
@@ -65,10 +64,10 @@ static int uniform_fn(void *user, const double *x, double complex *v)
 static void test_grating_fourier_series(void **state)
 {
     (void)state;
-    pf_context *ctx = tu_context();
+    pf_context *ctx = pft_context();
     size_t n = 512;
     double span = 64e-6, p = span / 16, f = 0.3, offset = 0.37123e-6;
-    pf_grid *g = tu_grid(ctx, 1, &n, &span, NULL);
+    pf_grid *g = pft_grid(ctx, 1, &n, &span, NULL);
     double complex *t = malloc(n * sizeof *t);
     pf_wave *w = NULL;
     pf_edges e = {PF_EDGES_EXACT, 0};
@@ -76,7 +75,7 @@ static void test_grating_fourier_series(void **state)
     /* Through the same route as w:mask_grating: every period meeting the window. */
     pf_edges_comb comb = {.start = offset, .open = f * p, .pitch = p, .first = floor((x0 - offset) / p) - 1,
                           .last = ceil((x0 + span - offset) / p) + 1};
-    assert_int_equal(pf_edges_comb_table(g, 0, &comb, &e, t), PF_OK);
+    pft_ok(pf_edges_comb_table(g, 0, &comb, &e, t));
     for (int h = 0; h <= 5; h++) {
         double k = 2 * PF_PI * h / p;
         /* Series referred to x0: shift theorem e^{-i k (offset - x0)}. */
@@ -89,15 +88,15 @@ static void test_grating_fourier_series(void **state)
     printf("ok grating table: rectangular-wave Fourier series at harmonics 0..5, zero between (textbook series)\n");
     /* The wave-level call gives the same table (kept probability = mean of
      * t^2 on a uniform state, Parseval). */
-    pf_context_set_warn_handler(ctx, tu_quiet, NULL); /* a uniform state fills the grid by design */
-    assert_int_equal(pf_wave_new(g, RB87_MASS, &w), PF_OK);
+    pf_context_set_warn_handler(ctx, pft_count_warning, NULL); /* a uniform state fills the grid by design */
+    pft_ok(pf_wave_new(g, pft_mass("87Rb"), &w));
     double sum2 = 0;
     for (size_t j = 0; j < n; j++) sum2 += creal(t[j]) * creal(t[j]);
-    assert_int_equal(pf_wave_fill(w, PF_POSITION, uniform_fn, NULL), PF_OK);
-    assert_int_equal(pf_wave_normalize(w), PF_OK);
+    pft_ok(pf_wave_fill(w, PF_POSITION, uniform_fn, NULL));
+    pft_ok(pf_wave_normalize(w));
     double removed = 0;
-    assert_int_equal(pf_wave_mask_grating(w, 0, p, f, offset, &e, &removed), PF_OK);
-    pft_near(1 - removed, sum2 / (double)n, 1e-12, 0);
+    pft_ok(pf_wave_mask_grating(w, 0, p, f, offset, &e, &removed));
+    pft_near(1 - removed, sum2 / (double)n, 1e-12, 0, NULL);
     pf_wave_free(w);
     free(t);
     pf_grid_release(g);
@@ -110,14 +109,14 @@ static void test_grating_fourier_series(void **state)
 static void test_disk_transform(void **state)
 {
     (void)state;
-    pf_context *ctx = tu_context();
+    pf_context *ctx = pft_context();
     size_t n[2] = {64, 96};
     double span[2] = {40e-6, 60e-6}, R = 7.77e-6, c[2] = {1.234e-6, -2.345e-6};
-    pf_grid *g = tu_grid(ctx, 2, n, span, NULL);
+    pf_grid *g = pft_grid(ctx, 2, n, span, NULL);
     size_t total = n[0] * n[1];
     double complex *t = malloc(total * sizeof *t);
     pf_edges e = {PF_EDGES_EXACT, 0};
-    assert_int_equal(pf_edges_disk_field(g, 1, 0, c[1], c[0], R, &e, t), PF_OK);
+    pft_ok(pf_edges_disk_field(g, 1, 0, c[1], c[0], R, &e, t));
     double xa = pf_grid_x(g, 0, 0), xb = pf_grid_x(g, 1, 0);
     int pairs[][2] = {{0, 0}, {1, 0}, {0, 1}, {3, -2}, {-5, 4}, {7, 7}};
     for (size_t q = 0; q < sizeof pairs / sizeof pairs[0]; q++) {
@@ -144,10 +143,10 @@ static void test_disk_transform(void **state)
 static void test_bad_edges(void **state)
 {
     (void)state;
-    pf_context *ctx = tu_context();
+    pf_context *ctx = pft_context();
     size_t n = 64;
     double span = 10e-6;
-    pf_grid *g = tu_grid(ctx, 1, &n, &span, NULL);
+    pf_grid *g = pft_grid(ctx, 1, &n, &span, NULL);
     pf_edges neg = {PF_EDGES_EXACT, -1e-9}, nan_w = {PF_EDGES_EXACT, NAN}, hard_soft = {PF_EDGES_CELLS, 1e-9},
              mode = {(pf_edge_mode)7, 0};
     assert_int_equal(pf_edges_check(g, &neg), PF_EINVAL);

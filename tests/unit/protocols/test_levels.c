@@ -4,7 +4,8 @@
  * Chu) with the frame and the lab grid agreeing pointwise, Raman velocity
  * selection in a moving frame against the Rabi lineshape at the lab Doppler
  * detuning, and Born sampling that leaks nothing when an allocation fails. */
-#include "protocol_util.h"
+#include "pf_observe.h"
+#include "pft.h"
 #include "pf_frame.h"
 #include "pf_levels.h"
 #include "pf_ops.h"
@@ -29,13 +30,13 @@ typedef struct set {
  * Gaussian (width sigma, centre x0, wave number k0), the others empty. */
 static void set_make(set *s, int count, size_t n, double span, double sigma, double x0, double k0, int moving)
 {
-    s->ctx = tu_context();
-    s->g = tu_grid(s->ctx, 1, &n, &span, NULL);
-    tu_gauss gp = {.x0 = {x0}, .sigma = {sigma}, .k0 = {k0}};
-    s->w[0] = tu_gauss_wave(s->g, RB87_MASS, &gp);
-    for (int i = 1; i < count; i++) assert_int_equal(pf_wave_new(s->g, RB87_MASS, &s->w[i]), PF_OK);
+    s->ctx = pft_context();
+    s->g = pft_grid(s->ctx, 1, &n, &span, NULL);
+    pft_gauss gp = {.x0 = {x0}, .sigma = {sigma}, .k0 = {k0}};
+    s->w[0] = pft_gauss_wave(s->g, pft_mass("87Rb"), &gp);
+    for (int i = 1; i < count; i++) pft_ok(pf_wave_new(s->g, pft_mass("87Rb"), &s->w[i]));
     const char *labels[3] = {"a", "b", "c"};
-    assert_int_equal(pf_levels_new(s->ctx, count, labels, NULL, s->w, moving, &s->lv), PF_OK);
+    pft_ok(pf_levels_new(s->ctx, count, labels, NULL, s->w, moving, &s->lv));
 }
 
 static void set_free(set *s, int count)
@@ -56,12 +57,12 @@ static void test_rabi_through_levels(void **state)
     const double om = 2 * PF_PI * 5e3, delta = 0.6 * om, t = 70e-6;
     pf_pulse_shape sh = {.envelope = PF_ENVELOPE_SQUARE, .duration = t, .rabi = om};
     pf_pulse_light li = {.detuning = delta};
-    assert_int_equal(pf_levels_pulse(s.lv, 0, 2, &sh, &li, 0, NULL, 1), PF_OK);
+    pft_ok(pf_levels_pulse(s.lv, 0, 2, &sh, &li, 0, NULL, 1));
     double pop[3], total;
-    assert_int_equal(pf_levels_populations(s.lv, pop, &total), PF_OK);
-    TU_NEAR(pop[2], rabi_formula(om, delta, t), 1e-12, "levels pulse a -> c: Rabi formula (Rabi 1937)");
-    TU_NEAR(total, 1.0, 1e-12, "populations add up to 1 (unitarity)");
-    TU_NEAR(pf_wave_clock(s.w[1]), t, 1e-20, "the uncoupled level flew along");
+    pft_ok(pf_levels_populations(s.lv, pop, &total));
+    pft_near(pop[2], rabi_formula(om, delta, t), 0, 1e-12, "levels pulse a -> c: Rabi formula (Rabi 1937)");
+    pft_near(total, 1.0, 0, 1e-12, "populations add up to 1 (unitarity)");
+    pft_near(pf_wave_clock(s.w[1]), t, 0, 1e-20, "the uncoupled level flew along");
     assert_int_equal(pf_levels_pulse(s.lv, 1, 1, &sh, &li, 0, NULL, 1), PF_EINVAL);
     set_free(&s, 3);
 }
@@ -81,29 +82,29 @@ static void test_stern_gerlach_frame(void **state)
     set_make(&fr, 2, 2048, 400e-6, 4e-6, x0, v0k, 1);
     /* g makes the frame's wave number m g t / hbar a whole number of
      * momentum spacings, so the lab momenta of both states share points. */
-    const double g = -200 * pf_grid_kspacing(lab.g, 0) * PF_HBAR / (RB87_MASS * t), a = 0.3;
+    const double g = -200 * pf_grid_kspacing(lab.g, 0) * PF_HBAR / (pft_mass("87Rb") * t), a = 0.3;
     pf_levels_forces f = {.has = {1, 1}, .accel = {{g + a}, {g - a}}};
     pf_pulse_shape sh = {.envelope = PF_ENVELOPE_SQUARE, .duration = 1e-6, .rabi = PF_PI / 2 / 1e-6};
     pf_pulse_light li = {0};
-    assert_int_equal(pf_levels_pulse(lab.lv, 0, 1, &sh, &li, 0, NULL, 1), PF_OK);
-    assert_int_equal(pf_levels_pulse(fr.lv, 0, 1, &sh, &li, 0, NULL, 1), PF_OK);
-    assert_int_equal(pf_levels_fly(lab.lv, t, &f), PF_OK);
-    assert_int_equal(pf_levels_fly(fr.lv, t, &f), PF_OK);
-    const double v0 = PF_HBAR * v0k / RB87_MASS, tt = t + 1e-6;
+    pft_ok(pf_levels_pulse(lab.lv, 0, 1, &sh, &li, 0, NULL, 1));
+    pft_ok(pf_levels_pulse(fr.lv, 0, 1, &sh, &li, 0, NULL, 1));
+    pft_ok(pf_levels_fly(lab.lv, t, &f));
+    pft_ok(pf_levels_fly(fr.lv, t, &f));
+    const double v0 = PF_HBAR * v0k / pft_mass("87Rb"), tt = t + 1e-6;
     for (int i = 0; i < 2; i++) {
         double mean_lab, mean_fr, acc = f.accel[i][0];
         /* the pulse took 1 us of free flight first */
         double want = x0 + v0 * tt + 0.5 * acc * t * t;
-        assert_int_equal(pf_wave_position_moments(lab.w[i], &mean_lab, NULL), PF_OK);
-        assert_int_equal(pf_wave_lab_position_moments(fr.w[i], &mean_fr, NULL), PF_OK);
-        TU_NEAR(mean_lab, want, 1e-15, "grid: level mean = x0 + v0 t + a_i t^2/2 (Newton)");
-        TU_NEAR(mean_fr, want, 1e-15, "frame: lab mean = x0 + v0 t + a_i t^2/2 (Newton)");
+        pft_ok(pf_wave_position_moments(lab.w[i], &mean_lab, NULL));
+        pft_ok(pf_wave_lab_position_moments(fr.w[i], &mean_fr, NULL));
+        pft_near(mean_lab, want, 0, 1e-15, "grid: level mean = x0 + v0 t + a_i t^2/2 (Newton)");
+        pft_near(mean_fr, want, 0, 1e-15, "frame: lab mean = x0 + v0 t + a_i t^2/2 (Newton)");
     }
     pf_frame fa, fb;
     pf_wave_frame(fr.w[0], &fa);
     pf_wave_frame(fr.w[1], &fb);
-    TU_NEAR(fa.position[0], fb.position[0], 0, "the levels share the frame position");
-    TU_NEAR(fa.position[0], 0.5 * g * t * t, 1e-18, "the frame took the common acceleration g t^2/2");
+    pft_near(fa.position[0], fb.position[0], 0, 0, "the levels share the frame position");
+    pft_near(fa.position[0], 0.5 * g * t * t, 0, 1e-18, "the frame took the common acceleration g t^2/2");
     /* Pointwise: the lab momentum amplitude of the frame state equals the
      * lab grid's at the same lab wave number, so the frame's phase (theta
      * with the difference-force term) is right too. */
@@ -112,7 +113,7 @@ static void test_stern_gerlach_frame(void **state)
         for (size_t j = 0; j < 2048; j++) {
             double complex vf, vl;
             size_t idx = j;
-            assert_int_equal(pf_wave_lab_value(fr.w[i], PF_MOMENTUM, &idx, &vf), PF_OK);
+            pft_ok(pf_wave_lab_value(fr.w[i], PF_MOMENTUM, &idx, &vf));
             /* momentum: the lab wave number of storage j in the frame is
              * k_j + K; find the lab-grid storage index with that k. */
             double klab = pf_grid_k(fr.g, 0, j) + fa.wavenumber[0];
@@ -122,11 +123,11 @@ static void test_stern_gerlach_frame(void **state)
             long nn = 2048;
             if (r <= -nn / 2 || r >= nn / 2) continue;
             size_t q = (size_t)((r + nn) % nn);
-            assert_int_equal(pf_wave_value(lab.w[i], PF_MOMENTUM, &q, &vl), PF_OK);
+            pft_ok(pf_wave_value(lab.w[i], PF_MOMENTUM, &q, &vl));
             worst = fmax(worst, cabs(vf - vl));
             peak = fmax(peak, cabs(vl));
         }
-    TU_NEAR(worst / peak, 0.0, 1e-9, "frame vs lab grid: lab momentum amplitudes of both levels (max rel.)");
+    pft_near(worst / peak, 0.0, 0, 1e-9, "frame vs lab grid: lab momentum amplitudes of both levels (max rel.)");
     set_free(&lab, 2);
     set_free(&fr, 2);
 }
@@ -141,7 +142,7 @@ static double mach_zehnder(int moving, double a, double T, double phi3, int forc
     set s;
     set_make(&s, 2, 1024, 200e-6, 5e-6, 0, 0, moving);
     const double dk = pf_grid_kspacing(s.g, 0), K = 64 * dk, tau = 50e-9, om = PF_PI / (2 * tau);
-    const double wr = PF_HBAR * K * K / (2 * RB87_MASS);
+    const double wr = PF_HBAR * K * K / (2 * pft_mass("87Rb"));
     pf_levels_forces f = {.has = {1, 1}, .accel = {{a}, {a}}};
     double areas[3] = {PF_PI / 2, PF_PI, PF_PI / 2}, phases[3] = {0, 0, phi3};
     for (int p = 0; p < 3; p++) {
@@ -153,12 +154,11 @@ static double mach_zehnder(int moving, double a, double T, double phi3, int forc
             sh.rabi = areas[p] / (sh.width * sqrt(2 * PF_PI));
         }
         pf_pulse_light li = {.kick = {K}, .detuning = wr, .phase = phases[p]};
-        assert_int_equal(pf_levels_pulse(s.lv, 0, 1, &sh, &li, 0, force_in_pulses ? &f : NULL, force_in_pulses ? 16 : 1),
-                         PF_OK);
-        if (p < 2) assert_int_equal(pf_levels_fly(s.lv, T, &f), PF_OK);
+        pft_ok(pf_levels_pulse(s.lv, 0, 1, &sh, &li, 0, force_in_pulses ? &f : NULL, force_in_pulses ? 16 : 1));
+        if (p < 2) pft_ok(pf_levels_fly(s.lv, T, &f));
     }
     double pop[2];
-    assert_int_equal(pf_levels_populations(s.lv, pop, NULL), PF_OK);
+    pft_ok(pf_levels_populations(s.lv, pop, NULL));
     if (pa_out) *pa_out = pop[0];
     set_free(&s, 2);
     return pop[1];
@@ -173,19 +173,19 @@ static void test_mach_zehnder_frame(void **state)
         double phi3 = 0.7 * j, pa_lab, pa_fr;
         double lab = mach_zehnder(0, a, T, phi3, 0, &pa_lab, PF_ENVELOPE_SQUARE);
         double fr = mach_zehnder(1, a, T, phi3, 0, &pa_fr, PF_ENVELOPE_SQUARE);
-        TU_NEAR(fr, lab, 1e-10, "Mach-Zehnder exit port: shared frame = lab grid");
-        TU_NEAR(fr, (1 - cos(K * a * T * T + phi3)) / 2, 2e-3, "exit port vs (1 - cos(K a T^2 + phi))/2 (Kasevich & Chu 1991)");
+        pft_near(fr, lab, 0, 1e-10, "Mach-Zehnder exit port: shared frame = lab grid");
+        pft_near(fr, (1 - cos(K * a * T * T + phi3)) / 2, 0, 2e-3, "exit port vs (1 - cos(K a T^2 + phi))/2 (Kasevich & Chu 1991)");
     }
     /* Gravity during the pulses too: both are Strang splittings of the same
      * evolution (16 slices), so they agree to the splitting error. */
     double lab = mach_zehnder(0, a, T, 0.4, 1, NULL, PF_ENVELOPE_SQUARE);
     double fr = mach_zehnder(1, a, T, 0.4, 1, NULL, PF_ENVELOPE_SQUARE);
-    TU_NEAR(fr, lab, 1e-10, "gravity during the pulses: frame vs lab grid");
+    pft_near(fr, lab, 0, 1e-10, "gravity during the pulses: frame vs lab grid");
     /* Gaussian envelopes cut into slices of themselves, both ways. */
     lab = mach_zehnder(0, a, T, 0.4, 1, NULL, PF_ENVELOPE_GAUSSIAN);
     fr = mach_zehnder(1, a, T, 0.4, 1, NULL, PF_ENVELOPE_GAUSSIAN);
-    TU_NEAR(fr, lab, 1e-10, "Gaussian pulses with gravity: frame vs lab grid");
-    TU_NEAR(fr, (1 - cos(K * a * T * T + 0.4)) / 2, 2e-3, "Gaussian pulses: exit port vs K a T^2 (Kasevich & Chu 1991)");
+    pft_near(fr, lab, 0, 1e-10, "Gaussian pulses with gravity: frame vs lab grid");
+    pft_near(fr, (1 - cos(K * a * T * T + 0.4)) / 2, 0, 2e-3, "Gaussian pulses: exit port vs K a T^2 (Kasevich & Chu 1991)");
 }
 
 /* A Raman pi pulse on a cloud whose frame moves at V: each class q goes to
@@ -199,16 +199,16 @@ static void test_raman_doppler_in_frame(void **state)
     const size_t n = 512;
     set_make(&s, 2, n, 400e-6, 2e-6, 0, 0, 1);
     const double dk = pf_grid_kspacing(s.g, 0), K = 40 * dk, Kf = 1234.5 * dk;
-    for (int i = 0; i < 2; i++) assert_int_equal(pf_wave_frame_kick(s.w[i], &Kf), PF_OK);
+    for (int i = 0; i < 2; i++) pft_ok(pf_wave_frame_kick(s.w[i], &Kf));
     pf_wave *ref = NULL;
-    assert_int_equal(pf_wave_copy(s.w[0], &ref), PF_OK);
-    assert_int_equal(pf_wave_to(ref, PF_MOMENTUM), PF_OK);
-    const double hm = PF_HBAR / (2 * RB87_MASS), omega = 2 * PF_PI * 2e3, tpi = PF_PI / omega;
+    pft_ok(pf_wave_copy(s.w[0], &ref));
+    pft_ok(pf_wave_to(ref, PF_MOMENTUM));
+    const double hm = PF_HBAR / (2 * pft_mass("87Rb")), omega = 2 * PF_PI * 2e3, tpi = PF_PI / omega;
     const double delta = hm * ((Kf + K) * (Kf + K) - Kf * Kf); /* resonant for the class at the frame velocity */
     pf_pulse_shape sh = {.envelope = PF_ENVELOPE_SQUARE, .duration = tpi, .rabi = omega};
     pf_pulse_light li = {.kick = {K}, .detuning = delta};
-    assert_int_equal(pf_levels_pulse(s.lv, 0, 1, &sh, &li, 0, NULL, 1), PF_OK);
-    assert_int_equal(pf_wave_to(s.w[1], PF_MOMENTUM), PF_OK);
+    pft_ok(pf_levels_pulse(s.lv, 0, 1, &sh, &li, 0, NULL, 1));
+    pft_ok(pf_wave_to(s.w[1], PF_MOMENTUM));
     const double complex *s0 = pf_wave_data(ref), *sb = pf_wave_data(s.w[1]);
     double worst = 0, total = 0;
     for (size_t j = 0; j < n; j++) {
@@ -220,10 +220,10 @@ static void test_raman_doppler_in_frame(void **state)
         worst = fmax(worst, fabs(creal(sb[qq] * conj(sb[qq])) - want));
         total += p0;
     }
-    TU_NEAR(worst / (total / n), 0.0, 1e-11, "moving frame: P_b(k) = P_a(k) * Rabi lineshape at the lab Doppler detuning");
+    pft_near(worst / (total / n), 0.0, 0, 1e-11, "moving frame: P_b(k) = P_a(k) * Rabi lineshape at the lab Doppler detuning");
     pf_frame f;
     pf_wave_frame(s.w[1], &f);
-    TU_NEAR(f.position[0], PF_HBAR * Kf / RB87_MASS * tpi, 1e-20, "the frame moved at V during the pulse");
+    pft_near(f.position[0], PF_HBAR * Kf / pft_mass("87Rb") * tpi, 0, 1e-20, "the frame moved at V during the pulse");
     pf_wave_free(ref);
     set_free(&s, 2);
 }
@@ -239,12 +239,12 @@ static void test_sample_no_leak(void **state)
     set_make(&s, 2, 256, 60e-6, 3e-6, 0, 0, 0);
     pf_pulse_shape sh = {.envelope = PF_ENVELOPE_SQUARE, .duration = 1e-6, .rabi = PF_PI / 2 / 1e-6};
     pf_pulse_light li = {0};
-    assert_int_equal(pf_levels_pulse(s.lv, 0, 1, &sh, &li, 0, NULL, 1), PF_OK);
+    pft_ok(pf_levels_pulse(s.lv, 0, 1, &sh, &li, 0, NULL, 1));
     double ev[3 * 2];
     pf_rng rng;
     pf_rng_seed(&rng, 5, 0);
     unsigned long before = pf_context_allocations(s.ctx);
-    assert_int_equal(pf_levels_sample(s.lv, PF_POSITION, 3, 1, &rng, ev), PF_OK);
+    pft_ok(pf_levels_sample(s.lv, PF_POSITION, 3, 1, &rng, ev));
     unsigned long used = pf_context_allocations(s.ctx) - before;
     assert_true(used >= 4);
     int failures = 0;
@@ -256,7 +256,7 @@ static void test_sample_no_leak(void **state)
         if (st == PF_ENOMEM) failures++;
         assert_int_equal(pf_context_memory_used(s.ctx), held);
     }
-    TU_NEAR(failures, used, 0, "every injected allocation failure is reported, nothing leaks");
+    pft_near(failures, used, 0, 0, "every injected allocation failure is reported, nothing leaks");
     set_free(&s, 2);
 }
 

@@ -1,7 +1,8 @@
 /* test_protocol_masks.c - probability removed by masks against Gaussian
  * integrals evaluated with GSL (gsl_sf_erf, gsl_sf_erfc). */
 #include <gsl/gsl_sf_erf.h>
-#include "protocol_util.h"
+#include "pf_observe.h"
+#include "pft.h"
 #include "pf_ops.h"
 
 /* A centred slit of half-width a on a Gaussian density of std. dev. sigma
@@ -11,20 +12,20 @@
 static void test_slit_removes_gaussian_tail(void **state)
 {
     (void)state;
-    pf_context *ctx = tu_context();
+    pf_context *ctx = pft_context();
     size_t n = 4096;
     double span = 80e-6, dx = span / (double)n;
-    pf_grid *g = tu_grid(ctx, 1, &n, &span, NULL);
-    tu_gauss p = {.sigma = {4e-6}};
-    pf_wave *w = tu_gauss_wave(g, RB87_MASS, &p);
+    pf_grid *g = pft_grid(ctx, 1, &n, &span, NULL);
+    pft_gauss p = {.sigma = {4e-6}};
+    pf_wave *w = pft_gauss_wave(g, pft_mass("87Rb"), &p);
     double a = 200.5 * dx, removed = 0;
-    assert_int_equal(pf_wave_slits(w, &(pf_slits_spec){.axis = 0, .count = 1, .width = 2 * a}, NULL, &removed), PF_OK);
+    pft_ok(pf_wave_slits(w, &(pf_slits_spec){.axis = 0, .count = 1, .width = 2 * a}, NULL, &removed));
     double want = gsl_sf_erfc(a / (sqrt(2.0) * 4e-6));
-    TU_NEAR(removed, want, 1e-5 * want, "slit removes erfc(a / sqrt2 sigma) [GSL]");
-    TU_NEAR(pf_wave_norm(w), 1.0 - want, 1e-5 * want, "norm after slit = 1 - removed");
+    pft_near(removed, want, 0, 1e-5 * want, "slit removes erfc(a / sqrt2 sigma) [GSL]");
+    pft_near(pf_wave_norm(w), 1.0 - want, 0, 1e-5 * want, "norm after slit = 1 - removed");
     const pf_steplog *log = pf_wave_steplog(w);
     assert_string_equal(log->steps[log->count - 1].kind, "mask");
-    TU_NEAR(log->steps[log->count - 1].removed, removed, 0, "removed recorded in the step log");
+    pft_near(log->steps[log->count - 1].removed, removed, 0, 0, "removed recorded in the step log");
     pf_wave_free(w);
     pf_grid_release(g);
     pf_context_release(ctx);
@@ -36,20 +37,20 @@ static void test_slit_removes_gaussian_tail(void **state)
 static void test_velocity_box(void **state)
 {
     (void)state;
-    pf_context *ctx = tu_context();
+    pf_context *ctx = pft_context();
     size_t n = 4096;
     double span = 400e-6;
-    pf_grid *g = tu_grid(ctx, 1, &n, &span, NULL);
-    double sigma = 1.5e-6, m = RB87_MASS;
-    tu_gauss p = {.sigma = {sigma}, .k0 = {m * 3e-3 / PF_HBAR}};
-    pf_wave *w = tu_gauss_wave(g, m, &p);
+    pf_grid *g = pft_grid(ctx, 1, &n, &span, NULL);
+    double sigma = 1.5e-6, m = pft_mass("87Rb");
+    pft_gauss p = {.sigma = {sigma}, .k0 = {m * 3e-3 / PF_HBAR}};
+    pf_wave *w = pft_gauss_wave(g, m, &p);
     double sv = PF_HBAR / (2 * m * sigma); /* minimum-uncertainty velocity spread */
     double dv = PF_HBAR * pf_grid_kspacing(g, 0) / m;
     double W = 2 * 20.5 * dv; /* edges midway between momentum grid points */
     double removed;
-    assert_int_equal(pf_wave_select_velocity(w, 0, 3e-3, W, 0, &removed), PF_OK);
+    pft_ok(pf_wave_select_velocity(w, 0, 3e-3, W, 0, &removed));
     double kept = gsl_sf_erf(W / (2 * sqrt(2.0) * sv));
-    TU_NEAR(1 - removed, kept, 1e-4, "velocity box keeps erf(W / 2 sqrt2 sigma_v) [GSL]");
+    pft_near(1 - removed, kept, 0, 1e-4, "velocity box keeps erf(W / 2 sqrt2 sigma_v) [GSL]");
     assert_int_equal(pf_wave_rep(w), PF_MOMENTUM);
     pf_wave_free(w);
     pf_grid_release(g);

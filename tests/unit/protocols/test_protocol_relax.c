@@ -1,6 +1,7 @@
 /* test_protocol_relax.c - imaginary-time ground states against the harmonic
  * oscillator and the 1D Thomas-Fermi chemical potential. */
-#include "protocol_util.h"
+#include "pf_observe.h"
+#include "pft.h"
 #include "pf_relax.h"
 
 #define OMEGA (2 * PF_PI * 80.0) /* invented test trap: 80 Hz */
@@ -17,7 +18,7 @@ static double *harmonic(pf_grid *g, const double *omega)
             size_t j = rest % pf_grid_points(g, a);
             rest /= pf_grid_points(g, a);
             double x = pf_grid_x(g, a, j);
-            v += 0.5 * RB87_MASS * omega[a] * omega[a] * x * x;
+            v += 0.5 * pft_mass("87Rb") * omega[a] * omega[a] * x * x;
         }
         V[off] = v;
     }
@@ -30,26 +31,26 @@ static double *harmonic(pf_grid *g, const double *omega)
 static void test_harmonic_ground_energy(void **state)
 {
     (void)state;
-    pf_context *ctx = tu_context();
-    double aho = sqrt(PF_HBAR / (RB87_MASS * OMEGA));
+    pf_context *ctx = pft_context();
+    double aho = sqrt(PF_HBAR / (pft_mass("87Rb") * OMEGA));
     size_t n = 256;
     double span = 24 * aho, omega1[1] = {OMEGA};
-    pf_grid *g = tu_grid(ctx, 1, &n, &span, NULL);
+    pf_grid *g = pft_grid(ctx, 1, &n, &span, NULL);
     double *V = harmonic(g, omega1);
-    tu_gauss p = {.x0 = {0.7 * aho}, .sigma = {1.5 * aho}};
-    pf_wave *w = tu_gauss_wave(g, RB87_MASS, &p);
+    pft_gauss p = {.x0 = {0.7 * aho}, .sigma = {1.5 * aho}};
+    pf_wave *w = pft_gauss_wave(g, pft_mass("87Rb"), &p);
     pf_relax_spec spec = {.potential = V, .dt = 0.002 / OMEGA, .tolerance = 1e-13, .max_steps = 200000,
                           .check_every = 20};
     pf_relax_info info;
-    assert_int_equal(pf_wave_relax(w, &spec, &info), PF_OK);
+    pft_ok(pf_wave_relax(w, &spec, &info));
     assert_true(info.converged);
     printf("note 1D relax: %zu steps\n", info.steps);
     /* Strang's fixed point is off by O(dtau^2): (0.002)^2 ~ 4e-6 relative at most. */
-    TU_NEAR(info.energy / (PF_HBAR * OMEGA), 0.5, 1e-6, "1D ground energy = hbar omega / 2");
-    TU_NEAR(info.chemical_potential, info.energy, 1e-30, "mu = E without mean field");
+    pft_near(info.energy / (PF_HBAR * OMEGA), 0.5, 0, 1e-6, "1D ground energy = hbar omega / 2");
+    pft_near(info.chemical_potential, info.energy, 0, 1e-30, "mu = E without mean field");
     double var;
-    assert_int_equal(pf_wave_position_moments(w, NULL, &var), PF_OK);
-    TU_NEAR(sqrt(var) / aho, sqrt(0.5), 1e-6, "1D ground width = sqrt(hbar / 2 m omega)");
+    pft_ok(pf_wave_position_moments(w, NULL, &var));
+    pft_near(sqrt(var) / aho, sqrt(0.5), 0, 1e-6, "1D ground width = sqrt(hbar / 2 m omega)");
     pf_wave_free(w);
     free(V);
     pf_grid_release(g);
@@ -57,16 +58,16 @@ static void test_harmonic_ground_energy(void **state)
     size_t n2[2] = {64, 96};
     double omega2[2] = {OMEGA, 2.5 * OMEGA};
     double span2[2] = {16 * aho, 12 * aho};
-    g = tu_grid(ctx, 2, n2, span2, NULL);
+    g = pft_grid(ctx, 2, n2, span2, NULL);
     V = harmonic(g, omega2);
-    tu_gauss p2 = {.x0 = {0.3 * aho, -0.2 * aho}, .sigma = {1.2 * aho, 0.9 * aho}};
-    w = tu_gauss_wave(g, RB87_MASS, &p2);
+    pft_gauss p2 = {.x0 = {0.3 * aho, -0.2 * aho}, .sigma = {1.2 * aho, 0.9 * aho}};
+    w = pft_gauss_wave(g, pft_mass("87Rb"), &p2);
     spec.potential = V;
     spec.dt = 0.004 / OMEGA;
     spec.tolerance = 1e-12;
-    assert_int_equal(pf_wave_relax(w, &spec, &info), PF_OK);
+    pft_ok(pf_wave_relax(w, &spec, &info));
     assert_true(info.converged);
-    TU_NEAR(info.energy / (PF_HBAR * OMEGA), 0.5 * (1 + 2.5), 1e-5, "2D ground energy = hbar (wx + wy) / 2");
+    pft_near(info.energy / (PF_HBAR * OMEGA), 0.5 * (1 + 2.5), 0, 1e-5, "2D ground energy = hbar (wx + wy) / 2");
     pf_wave_free(w);
     free(V);
     pf_grid_release(g);
@@ -81,27 +82,27 @@ static void test_harmonic_ground_energy(void **state)
 static void test_thomas_fermi(void **state)
 {
     (void)state;
-    pf_context *ctx = tu_context();
-    double aho = sqrt(PF_HBAR / (RB87_MASS * OMEGA));
+    pf_context *ctx = pft_context();
+    double aho = sqrt(PF_HBAR / (pft_mass("87Rb") * OMEGA));
     size_t n = 1024;
     double span = 28 * aho, omega1[1] = {OMEGA};
-    pf_grid *g = tu_grid(ctx, 1, &n, &span, NULL);
+    pf_grid *g = pft_grid(ctx, 1, &n, &span, NULL);
     double *V = harmonic(g, omega1);
     double gap[2];
     const double targets[2] = {10.0, 40.0};
     for (int i = 0; i < 2; i++) {
         double mu_tf = targets[i] * PF_HBAR * OMEGA;
         /* invert mu_TF for g N */
-        double gN = pow(mu_tf, 1.5) * 4.0 * sqrt(2.0) / (3.0 * sqrt(RB87_MASS) * OMEGA);
-        double check = pow(3.0 * gN * sqrt(RB87_MASS) * OMEGA / (4.0 * sqrt(2.0)), 2.0 / 3.0);
-        TU_NEAR(check / mu_tf, 1.0, 1e-12, "mu_TF formula inverted consistently");
-        tu_gauss p = {.sigma = {3 * aho}};
-        pf_wave *w = tu_gauss_wave(g, RB87_MASS, &p);
+        double gN = pow(mu_tf, 1.5) * 4.0 * sqrt(2.0) / (3.0 * sqrt(pft_mass("87Rb")) * OMEGA);
+        double check = pow(3.0 * gN * sqrt(pft_mass("87Rb")) * OMEGA / (4.0 * sqrt(2.0)), 2.0 / 3.0);
+        pft_near(check / mu_tf, 1.0, 0, 1e-12, "mu_TF formula inverted consistently");
+        pft_gauss p = {.sigma = {3 * aho}};
+        pf_wave *w = pft_gauss_wave(g, pft_mass("87Rb"), &p);
         /* Strang's fixed point is off by O((mu dtau / hbar)^2): keep mu dtau / hbar = 0.01. */
         pf_relax_spec spec = {.potential = V, .dt = 0.01 / (targets[i] * OMEGA), .g = gN, .tolerance = 1e-11,
                               .max_steps = 200000, .check_every = 20};
         pf_relax_info info;
-        assert_int_equal(pf_wave_relax(w, &spec, &info), PF_OK);
+        pft_ok(pf_wave_relax(w, &spec, &info));
         assert_true(info.converged);
         gap[i] = info.chemical_potential / mu_tf - 1.0;
         printf("note TF: mu_TF = %.0f hbar omega, GP mu / mu_TF - 1 = %.3e (%zu steps)\n", targets[i], gap[i],
@@ -110,7 +111,7 @@ static void test_thomas_fermi(void **state)
     }
     assert_true(gap[0] > 0 && gap[1] > 0);
     assert_true(gap[1] < gap[0]);
-    TU_NEAR(gap[1], 0.0, 5e-4, "GP mu -> Thomas-Fermi mu at 40 hbar omega (0.05%)");
+    pft_near(gap[1], 0.0, 0, 5e-4, "GP mu -> Thomas-Fermi mu at 40 hbar omega (0.05%)");
     free(V);
     pf_grid_release(g);
     pf_context_release(ctx);
@@ -123,27 +124,27 @@ static void test_thomas_fermi(void **state)
 static void test_mean_field_step_order(void **state)
 {
     (void)state;
-    pf_context *ctx = tu_context();
-    double aho = sqrt(PF_HBAR / (RB87_MASS * OMEGA));
+    pf_context *ctx = pft_context();
+    double aho = sqrt(PF_HBAR / (pft_mass("87Rb") * OMEGA));
     size_t n = 1024;
     double span = 28 * aho, omega1[1] = {OMEGA};
-    pf_grid *g = tu_grid(ctx, 1, &n, &span, NULL);
+    pf_grid *g = pft_grid(ctx, 1, &n, &span, NULL);
     double *V = harmonic(g, omega1);
     double mu_tf = 40 * PF_HBAR * OMEGA;
-    double gN = pow(mu_tf, 1.5) * 4.0 * sqrt(2.0) / (3.0 * sqrt(RB87_MASS) * OMEGA);
+    double gN = pow(mu_tf, 1.5) * 4.0 * sqrt(2.0) / (3.0 * sqrt(pft_mass("87Rb")) * OMEGA);
     double mu[2];
     for (int i = 0; i < 2; i++) {
-        tu_gauss p = {.sigma = {3 * aho}};
-        pf_wave *w = tu_gauss_wave(g, RB87_MASS, &p);
+        pft_gauss p = {.sigma = {3 * aho}};
+        pf_wave *w = pft_gauss_wave(g, pft_mass("87Rb"), &p);
         pf_relax_spec spec = {.potential = V, .dt = (i ? 0.04 : 0.02) / (40 * OMEGA), .g = gN, .tolerance = 1e-12,
                               .max_steps = 200000, .check_every = 20};
         pf_relax_info info;
-        assert_int_equal(pf_wave_relax(w, &spec, &info), PF_OK);
+        pft_ok(pf_wave_relax(w, &spec, &info));
         assert_true(info.converged);
         mu[i] = info.chemical_potential;
         pf_wave_free(w);
     }
-    TU_NEAR(mu[1] / mu[0], 1.0, 2e-5, "GP mu at mu dtau/hbar = 0.04 vs 0.02 (dtau^2 fixed point)");
+    pft_near(mu[1] / mu[0], 1.0, 0, 2e-5, "GP mu at mu dtau/hbar = 0.04 vs 0.02 (dtau^2 fixed point)");
     free(V);
     pf_grid_release(g);
     pf_context_release(ctx);
@@ -158,19 +159,19 @@ static void count_relax_warnings(void *user, const char *text)
 static void test_relax_limits(void **state)
 {
     (void)state;
-    pf_context *ctx = tu_context();
+    pf_context *ctx = pft_context();
     int warnings = 0;
     pf_context_set_warn_handler(ctx, count_relax_warnings, &warnings);
-    double aho = sqrt(PF_HBAR / (RB87_MASS * OMEGA));
+    double aho = sqrt(PF_HBAR / (pft_mass("87Rb") * OMEGA));
     size_t n = 64;
     double span = 16 * aho, omega1[1] = {OMEGA};
-    pf_grid *g = tu_grid(ctx, 1, &n, &span, NULL);
+    pf_grid *g = pft_grid(ctx, 1, &n, &span, NULL);
     double *V = harmonic(g, omega1);
-    tu_gauss p = {.sigma = {2 * aho}};
-    pf_wave *w = tu_gauss_wave(g, RB87_MASS, &p);
+    pft_gauss p = {.sigma = {2 * aho}};
+    pf_wave *w = pft_gauss_wave(g, pft_mass("87Rb"), &p);
     pf_relax_spec spec = {.potential = V, .dt = 0.01 / OMEGA, .tolerance = 1e-14, .max_steps = 5, .check_every = 2};
     pf_relax_info info;
-    assert_int_equal(pf_wave_relax(w, &spec, &info), PF_OK);
+    pft_ok(pf_wave_relax(w, &spec, &info));
     assert_false(info.converged);
     assert_int_equal((int)info.steps, 5);
     assert_int_equal(warnings, 1); /* "not converged" */

@@ -30,14 +30,7 @@
 #include "pf_constants.h"
 #include "pf_observe.h"
 #include "pf_species.h"
-
-static void assert_close(double got, double want, double tol, const char *what)
-{
-    if (!(fabs(got - want) <= tol)) {
-        print_error("%s: got %.17g, want %.17g (|diff| %.3e > %.3e)\n", what, got, want, fabs(got - want), tol);
-        fail();
-    }
-}
+#include "pft.h"
 
 static int warnings;
 static char last_warning[1024];
@@ -50,13 +43,10 @@ static void count_warning(void *user, const char *text)
 
 static pf_context *new_ctx(void)
 {
-    pf_context *ctx = pf_context_new();
-    pf_context_set_planning(ctx, PF_PLAN_ESTIMATE);
+    pf_context *ctx = pft_context();
     pf_context_set_warn_handler(ctx, count_warning, NULL);
     return ctx;
 }
-
-static double mass_of(const char *label) { return pf_species_find(label)->mass_kg; }
 
 static void gaussian_2d_matches_gsl_bivariate(void **state)
 {
@@ -65,9 +55,9 @@ static void gaussian_2d_matches_gsl_bivariate(void **state)
     size_t n[2] = {96, 80};
     double span[2] = {24e-6, 20e-6};
     pf_grid *g;
-    assert_int_equal(pf_grid_new(ctx, 2, n, span, NULL, &g), PF_OK);
+    pft_ok(pf_grid_new(ctx, 2, n, span, NULL, &g));
     pf_wave *w;
-    assert_int_equal(pf_wave_new(g, mass_of("6Li"), &w), PF_OK);
+    pft_ok(pf_wave_new(g, pft_mass("6Li"), &w));
     double sx = 1.6e-6, sy = 1.1e-6, rho = 0.6;
     pf_gaussian_spec s;
     pf_gaussian_spec_init(&s, 1.0);
@@ -80,7 +70,7 @@ static void gaussian_2d_matches_gsl_bivariate(void **state)
     s.chirp[0][0] = 1e11;
     s.chirp[0][1] = s.chirp[1][0] = 4e10;
     warnings = 0;
-    assert_int_equal(pf_build_gaussian(w, &s, 0), PF_OK);
+    pft_ok(pf_build_gaussian(w, &s, 0));
     if (warnings) print_error("unexpected warning: %s\n", last_warning);
     assert_int_equal(warnings, 0);
     double worst = 0;
@@ -94,12 +84,12 @@ static void gaussian_2d_matches_gsl_bivariate(void **state)
             double got = creal(z) * creal(z) + cimag(z) * cimag(z);
             worst = fmax(worst, fabs(got - want) / gsl_ran_bivariate_gaussian_pdf(0, 0, sx, sy, rho));
         }
-    assert_close(worst, 0, 1e-12, "|psi|^2 vs bivariate normal");
+    pft_near(worst, 0, 0, 1e-12, "|psi|^2 vs bivariate normal");
     printf("ok 2D correlated chirped Gaussian density vs gsl_ran_bivariate_gaussian_pdf: max rel %.2e [GSL]\n", worst);
     /* Momentum covariance S^-1/4 + C S C (Wigner function of a chirped
      * Gaussian); mean wave number k0. */
     double mean[2], var[2];
-    assert_int_equal(pf_wave_wavenumber_moments(w, mean, var), PF_OK);
+    pft_ok(pf_wave_wavenumber_moments(w, mean, var));
     double det = s.covariance[0][0] * s.covariance[1][1] - s.covariance[0][1] * s.covariance[1][0];
     double inv[2][2] = {{s.covariance[1][1] / det, -s.covariance[0][1] / det},
                         {-s.covariance[1][0] / det, s.covariance[0][0] / det}};
@@ -107,8 +97,8 @@ static void gaussian_2d_matches_gsl_bivariate(void **state)
         double csc = 0;
         for (int b = 0; b < 2; b++)
             for (int c = 0; c < 2; c++) csc += s.chirp[a][b] * s.covariance[b][c] * s.chirp[c][a];
-        assert_close(var[a], 0.25 * inv[a][a] + csc, 1e-9 * var[a], "momentum variance");
-        assert_close(mean[a], s.wavenumber[a], 1e-9 * 2e6, "mean wave number");
+        pft_near(var[a], 0.25 * inv[a][a] + csc, 0, 1e-9 * var[a], "momentum variance");
+        pft_near(mean[a], s.wavenumber[a], 0, 1e-9 * 2e6, "mean wave number");
     }
     printf("ok chirped 2D Gaussian: <k> = k0, Var k = S^-1/4 + C S C to 1e-9 [Gaussian Wigner function, textbook]\n");
     pf_wave_free(w);
@@ -123,15 +113,15 @@ static void gaussian_3d_matches_gsl_multivariate(void **state)
     size_t n[3] = {32, 36, 40};
     double span[3] = {16e-6, 18e-6, 20e-6};
     pf_grid *g;
-    assert_int_equal(pf_grid_new(ctx, 3, n, span, NULL, &g), PF_OK);
+    pft_ok(pf_grid_new(ctx, 3, n, span, NULL, &g));
     pf_wave *w;
-    assert_int_equal(pf_wave_new(g, mass_of("133Cs"), &w), PF_OK);
+    pft_ok(pf_wave_new(g, pft_mass("133Cs"), &w));
     double cov[3][3] = {{1.2e-12, 0.3e-12, -0.2e-12}, {0.3e-12, 1.5e-12, 0.4e-12}, {-0.2e-12, 0.4e-12, 1.8e-12}};
     pf_gaussian_spec s;
     pf_gaussian_spec_init(&s, 1.0);
     memcpy(s.covariance, cov, sizeof cov);
     s.center[2] = 0.5e-6;
-    assert_int_equal(pf_build_gaussian(w, &s, 0), PF_OK);
+    pft_ok(pf_build_gaussian(w, &s, 0));
     gsl_matrix *L = gsl_matrix_alloc(3, 3);
     gsl_vector *mu = gsl_vector_calloc(3), *x = gsl_vector_alloc(3), *work = gsl_vector_alloc(3);
     for (int a = 0; a < 3; a++)
@@ -153,7 +143,7 @@ static void gaussian_3d_matches_gsl_multivariate(void **state)
                 worst = fmax(worst, fabs(got - want));
                 peak = fmax(peak, want);
             }
-    assert_close(worst / peak, 0, 1e-12, "|psi|^2 vs multivariate normal");
+    pft_near(worst / peak, 0, 0, 1e-12, "|psi|^2 vs multivariate normal");
     printf("ok 3D full-covariance Gaussian vs gsl_ran_multivariate_gaussian_pdf: max rel %.2e [GSL]\n", worst / peak);
     gsl_matrix_free(L);
     gsl_vector_free(mu);
@@ -171,22 +161,22 @@ static void flat_top_moments_match_gamma_ratios(void **state)
     size_t n = 1024;
     double span = 300e-6;
     pf_grid *g;
-    assert_int_equal(pf_grid_new(ctx, 1, &n, &span, NULL, &g), PF_OK);
+    pft_ok(pf_grid_new(ctx, 1, &n, &span, NULL, &g));
     double orders[] = {1, 2, 4, 8};
     for (size_t i = 0; i < 4; i++) {
         pf_wave *w;
-        assert_int_equal(pf_wave_new(g, mass_of("88Sr"), &w), PF_OK);
+        pft_ok(pf_wave_new(g, pft_mass("88Sr"), &w));
         double c = 0, k0 = 3e6, kappa = 1.5e6, p = orders[i];
         warnings = 0;
-        assert_int_equal(pf_build_flat_top(w, &c, &k0, &kappa, p, PF_FLAT_BOX, 1), PF_OK);
+        pft_ok(pf_build_flat_top(w, &c, &k0, &kappa, p, PF_FLAT_BOX, 1));
         if (warnings) print_error("unexpected warning: %s\n", last_warning);
     assert_int_equal(warnings, 0);
         double mean, var;
-        assert_int_equal(pf_wave_wavenumber_moments(w, &mean, &var), PF_OK);
+        pft_ok(pf_wave_wavenumber_moments(w, &mean, &var));
         /* density exp(-u^2p): <u^2> = Gamma(3/2p) / Gamma(1/2p). */
         double want = kappa * kappa * gsl_sf_gamma(3.0 / (2 * p)) / gsl_sf_gamma(1.0 / (2 * p));
-        assert_close(var, want, 1e-10 * want, "flat-top <(k-k0)^2>");
-        assert_close(mean, k0, 1e-10 * k0, "flat-top <k>");
+        pft_near(var, want, 0, 1e-10 * want, "flat-top <(k-k0)^2>");
+        pft_near(mean, k0, 0, 1e-10 * k0, "flat-top <k>");
         printf("ok 1D super-Gaussian p = %g: Var k rel %.1e vs kappa^2 Gamma(3/2p)/Gamma(1/2p) [GSL gsl_sf_gamma]\n", p,
                fabs(var / want - 1));
         pf_wave_free(w);
@@ -195,16 +185,16 @@ static void flat_top_moments_match_gamma_ratios(void **state)
     /* Round shape in 2D: <k_x^2> = kappa^2 Gamma(2/p) / (2 Gamma(1/p)). */
     size_t n2[2] = {256, 256};
     double span2[2] = {150e-6, 150e-6};
-    assert_int_equal(pf_grid_new(ctx, 2, n2, span2, NULL, &g), PF_OK);
+    pft_ok(pf_grid_new(ctx, 2, n2, span2, NULL, &g));
     pf_wave *w;
-    assert_int_equal(pf_wave_new(g, mass_of("88Sr"), &w), PF_OK);
+    pft_ok(pf_wave_new(g, pft_mass("88Sr"), &w));
     double c[2] = {0, 0}, k0[2] = {0, 1e6}, kappa[2] = {1.5e6, 1.5e6}, p = 3;
-    assert_int_equal(pf_build_flat_top(w, c, k0, kappa, p, PF_FLAT_ROUND, 1), PF_OK);
+    pft_ok(pf_build_flat_top(w, c, k0, kappa, p, PF_FLAT_ROUND, 1));
     double mean[2], var[2];
-    assert_int_equal(pf_wave_wavenumber_moments(w, mean, var), PF_OK);
+    pft_ok(pf_wave_wavenumber_moments(w, mean, var));
     double want = 1.5e6 * 1.5e6 * gsl_sf_gamma(2.0 / p) / (2 * gsl_sf_gamma(1.0 / p));
-    assert_close(var[0], want, 1e-9 * want, "round flat-top <kx^2>");
-    assert_close(var[1], want, 1e-9 * want, "round flat-top <ky^2>");
+    pft_near(var[0], want, 0, 1e-9 * want, "round flat-top <kx^2>");
+    pft_near(var[1], want, 0, 1e-9 * want, "round flat-top <ky^2>");
     printf("ok 2D round super-Gaussian p = 3: Var k_x rel %.1e vs kappa^2 Gamma(2/p)/(2 Gamma(1/p)) [GSL gsl_sf_gamma]\n",
            fabs(var[0] / want - 1));
     pf_wave_free(w);
@@ -220,18 +210,18 @@ static void thomas_fermi_widths(void **state)
         size_t n[3] = {d == 1 ? 4096 : 160, 160, 160};
         double span[3] = {60e-6, 60e-6, 60e-6}, r[3] = {20e-6, 16e-6, 12e-6}, c[3] = {1e-6, 0, -1e-6}, k0[3] = {0, 0, 0};
         pf_grid *g;
-        assert_int_equal(pf_grid_new(ctx, d, n, span, NULL, &g), PF_OK);
+        pft_ok(pf_grid_new(ctx, d, n, span, NULL, &g));
         pf_wave *w;
-        assert_int_equal(pf_wave_new(g, mass_of("23Na"), &w), PF_OK);
-        assert_int_equal(pf_build_thomas_fermi(w, c, r, k0, 1), PF_OK);
+        pft_ok(pf_wave_new(g, pft_mass("23Na"), &w));
+        pft_ok(pf_build_thomas_fermi(w, c, r, k0, 1));
         double mean[3], var[3];
-        assert_int_equal(pf_wave_position_moments(w, mean, var), PF_OK);
+        pft_ok(pf_wave_position_moments(w, mean, var));
         /* Sampling the sqrt edge converges slowly (as dx^(3/2)/R^(3/2)). */
         double tol = d == 1 ? 1e-6 : 5e-5;
         for (int a = 0; a < d; a++) {
             double want = r[a] * r[a] / (d + 4.0);
-            assert_close(var[a], want, tol * want, "Thomas-Fermi <x^2>");
-            assert_close(mean[a], c[a], 1e-9, "Thomas-Fermi centre");
+            pft_near(var[a], want, 0, tol * want, "Thomas-Fermi <x^2>");
+            pft_near(mean[a], c[a], 0, 1e-9, "Thomas-Fermi centre");
         }
         printf("ok %dD Thomas-Fermi: Var x rel %.1e vs R^2/(d+4) (tol %.0e) [textbook integral]\n", d,
                fabs(var[0] / (r[0] * r[0] / (d + 4.0)) - 1), tol);
@@ -248,31 +238,31 @@ static void gaussian_overlap_and_superposition(void **state)
     size_t n = 1024;
     double span = 200e-6;
     pf_grid *g;
-    assert_int_equal(pf_grid_new(ctx, 1, &n, &span, NULL, &g), PF_OK);
-    double m = mass_of("40K"), sigma = 3e-6, d = 4e-6, q = 2.5e5;
+    pft_ok(pf_grid_new(ctx, 1, &n, &span, NULL, &g));
+    double m = pft_mass("40K"), sigma = 3e-6, d = 4e-6, q = 2.5e5;
     pf_wave *a, *b;
     pf_gaussian_spec s;
     pf_gaussian_spec_init(&s, sigma);
-    assert_int_equal(pf_wave_new(g, m, &a), PF_OK);
-    assert_int_equal(pf_build_gaussian(a, &s, 1), PF_OK);
+    pft_ok(pf_wave_new(g, m, &a));
+    pft_ok(pf_build_gaussian(a, &s, 1));
     s.center[0] = d;
     s.wavenumber[0] = q;
-    assert_int_equal(pf_wave_new(g, m, &b), PF_OK);
-    assert_int_equal(pf_build_gaussian(b, &s, 1), PF_OK);
+    pft_ok(pf_wave_new(g, m, &b));
+    pft_ok(pf_build_gaussian(b, &s, 1));
     pf_wave_to(b, PF_MOMENTUM); /* inner() must handle mixed representations */
     double complex z;
-    assert_int_equal(pf_wave_inner(a, b, &z), PF_OK);
+    pft_ok(pf_wave_inner(a, b, &z));
     /* |<0|d,q>| = exp(-d^2/(8 sigma^2) - q^2 sigma^2 / 2) for equal widths. */
     double want = exp(-d * d / (8 * sigma * sigma) - q * q * sigma * sigma / 2);
-    assert_close(cabs(z), want, 1e-12, "|<a|b>|");
+    pft_near(cabs(z), want, 0, 1e-12, "|<a|b>|");
     printf("ok |<a|b>| of displaced boosted Gaussians: diff %.1e vs exp(-d^2/8s^2 - q^2 s^2/2) [textbook]\n",
            fabs(cabs(z) - want));
     /* Norm of a + b = 2 + 2 Re<a|b> (linearity). */
-    assert_int_equal(pf_wave_axpy(a, 1.0, b), PF_OK);
-    assert_close(pf_wave_norm(a), 2 + 2 * creal(z), 1e-12, "norm of a + b");
+    pft_ok(pf_wave_axpy(a, 1.0, b));
+    pft_near(pf_wave_norm(a), 2 + 2 * creal(z), 0, 1e-12, "norm of a + b");
     /* Mismatched mass is refused. */
     pf_wave *c;
-    assert_int_equal(pf_wave_new(g, mass_of("39K"), &c), PF_OK);
+    pft_ok(pf_wave_new(g, pft_mass("39K"), &c));
     assert_int_equal(pf_wave_axpy(a, 1.0, c), PF_ESTATE);
     assert_non_null(strstr(pf_context_message(ctx), "equal masses"));
     pf_wave_free(a);
@@ -289,19 +279,19 @@ static void orders_carry_their_probabilities(void **state)
     size_t n = 2048;
     double span = 300e-6;
     pf_grid *g;
-    assert_int_equal(pf_grid_new(ctx, 1, &n, &span, NULL, &g), PF_OK);
+    pft_ok(pf_grid_new(ctx, 1, &n, &span, NULL, &g));
     pf_wave *w;
-    assert_int_equal(pf_wave_new(g, mass_of("87Rb"), &w), PF_OK);
+    pft_ok(pf_wave_new(g, pft_mass("87Rb"), &w));
     pf_gaussian_spec s;
     pf_gaussian_spec_init(&s, 20e-6);
     double q = 2 * PF_TWO_PI / 780.241e-9; /* two-photon recoil at 780 nm */
     pf_order o[3] = {{-1, 0.5}, {0, 0.6 * cexp(0.3 * I)}, {1, 0.62}};
     warnings = 0;
-    assert_int_equal(pf_build_orders(w, &s, &q, o, 3, 1), PF_OK);
+    pft_ok(pf_build_orders(w, &s, &q, o, 3, 1));
     if (warnings) print_error("unexpected warning: %s\n", last_warning);
     assert_int_equal(warnings, 0);
     double *rho = malloc(n * sizeof *rho);
-    assert_int_equal(pf_wave_density(w, PF_MOMENTUM, rho), PF_OK);
+    pft_ok(pf_wave_density(w, PF_MOMENTUM, rho));
     double total = 0.25 + 0.36 + 0.62 * 0.62, dk = pf_grid_kspacing(g, 0);
     for (int j = 0; j < 3; j++) {
         double p = 0;
@@ -310,7 +300,7 @@ static void orders_carry_their_probabilities(void **state)
             if (fabs(k - o[j].n * q) < 0.5 * q) p += rho[i] * dk;
         }
         double want = creal(o[j].amplitude * conj(o[j].amplitude)) / total;
-        assert_close(p, want, 1e-12, "order probability");
+        pft_near(p, want, 0, 1e-12, "order probability");
     }
     printf("ok diffraction orders: populations |a_n|^2 / sum |a|^2 to 1e-12 [superposition of disjoint momentum packets]\n");
     free(rho);
@@ -326,7 +316,7 @@ static void cubic_samples_match_gsl_spline(void **state)
     size_t n = 256;
     double span = 40e-6;
     pf_grid *g;
-    assert_int_equal(pf_grid_new(ctx, 1, &n, &span, NULL, &g), PF_OK);
+    pft_ok(pf_grid_new(ctx, 1, &n, &span, NULL, &g));
     enum { M = 23 };
     double xs[M], re[M], im[M];
     double complex v[M];
@@ -339,8 +329,8 @@ static void cubic_samples_match_gsl_spline(void **state)
     size_t counts = M;
     const double *axes[1] = {xs};
     pf_wave *w;
-    assert_int_equal(pf_wave_new(g, mass_of("4He"), &w), PF_OK);
-    assert_int_equal(pf_build_sampled(w, PF_POSITION, &counts, axes, v, PF_INTERP_CUBIC, 0), PF_OK);
+    pft_ok(pf_wave_new(g, pft_mass("4He"), &w));
+    pft_ok(pf_build_sampled(w, PF_POSITION, &counts, axes, v, PF_INTERP_CUBIC, 0));
     gsl_interp *sr = gsl_interp_alloc(gsl_interp_cspline, M), *si = gsl_interp_alloc(gsl_interp_cspline, M);
     gsl_interp_init(sr, xs, re, M);
     gsl_interp_init(si, xs, im, M);
@@ -355,7 +345,7 @@ static void cubic_samples_match_gsl_spline(void **state)
             want = gsl_interp_eval(sr, xs, re, x, acc) + I * gsl_interp_eval(si, xs, im, x, acc);
         worst = fmax(worst, cabs(got - want));
     }
-    assert_close(worst, 0, 1e-13, "natural cubic spline");
+    pft_near(worst, 0, 0, 1e-13, "natural cubic spline");
     printf("ok natural cubic spline samples vs gsl_interp_cspline: max |diff| %.1e [GSL]\n", worst);
     gsl_interp_free(sr);
     gsl_interp_free(si);
@@ -375,7 +365,7 @@ static void bilinear_samples_are_exact(void **state)
     size_t n[2] = {64, 48};
     double span[2] = {60e-6, 50e-6};
     pf_grid *g;
-    assert_int_equal(pf_grid_new(ctx, 2, n, span, NULL, &g), PF_OK);
+    pft_ok(pf_grid_new(ctx, 2, n, span, NULL, &g));
     double kx[5] = {-2e6, -1.1e6, 0.2e6, 0.9e6, 2.5e6}, ky[4] = {-1.5e6, -0.2e6, 0.4e6, 1.8e6};
     double complex v[20];
     for (int i = 0; i < 5; i++)
@@ -384,9 +374,9 @@ static void bilinear_samples_are_exact(void **state)
     size_t counts[2] = {5, 4};
     const double *axes[2] = {kx, ky};
     pf_wave *w;
-    assert_int_equal(pf_wave_new(g, mass_of("164Dy"), &w), PF_OK);
+    pft_ok(pf_wave_new(g, pft_mass("164Dy"), &w));
     warnings = 0;
-    assert_int_equal(pf_build_sampled(w, PF_MOMENTUM, counts, axes, v, PF_INTERP_LINEAR, 0), PF_OK);
+    pft_ok(pf_build_sampled(w, PF_MOMENTUM, counts, axes, v, PF_INTERP_LINEAR, 0));
     double worst = 0;
     int inside = 0;
     for (size_t i = 0; i < n[0]; i++)
@@ -403,7 +393,7 @@ static void bilinear_samples_are_exact(void **state)
             worst = fmax(worst, cabs(got - want));
         }
     assert_true(inside > 100);
-    assert_close(worst, 0, 1e-13, "bilinear samples");
+    pft_near(worst, 0, 0, 1e-13, "bilinear samples");
     assert_true(warnings >= 1); /* a box with sharp edges in k reaches the position edges */
     printf("ok 2D multilinear momentum samples reproduce a bilinear function: max |diff| %.1e [standard property]\n", worst);
     pf_wave_free(w);
@@ -418,9 +408,9 @@ static void bad_arguments_and_warnings(void **state)
     size_t n = 128;
     double span = 20e-6;
     pf_grid *g;
-    assert_int_equal(pf_grid_new(ctx, 1, &n, &span, NULL, &g), PF_OK);
+    pft_ok(pf_grid_new(ctx, 1, &n, &span, NULL, &g));
     pf_wave *w;
-    assert_int_equal(pf_wave_new(g, mass_of("7Li"), &w), PF_OK);
+    pft_ok(pf_wave_new(g, pft_mass("7Li"), &w));
     pf_gaussian_spec s;
     pf_gaussian_spec_init(&s, -1e-6);
     s.covariance[0][0] = -1e-12;
@@ -439,14 +429,14 @@ static void bad_arguments_and_warnings(void **state)
     /* Too narrow: feature and Nyquist warnings with a remedy. */
     pf_gaussian_spec_init(&s, 0.05e-6);
     warnings = 0;
-    assert_int_equal(pf_build_gaussian(w, &s, 1), PF_OK);
+    pft_ok(pf_build_gaussian(w, &s, 1));
     assert_int_equal(warnings, 2);
     assert_non_null(strstr(last_warning, "Nyquist"));
     assert_non_null(strstr(last_warning, "points"));
     /* Too wide: does not fit. */
     pf_gaussian_spec_init(&s, 3e-6);
     warnings = 0;
-    assert_int_equal(pf_build_gaussian(w, &s, 1), PF_OK);
+    pft_ok(pf_build_gaussian(w, &s, 1));
     /* The builder's analytic check, then the grid guard's measured band
      * figure (pf_guard.c); the builder's text comes first, so strict mode
      * reports it (tests/lua/test_states.lua checks that text). */
@@ -455,7 +445,7 @@ static void bad_arguments_and_warnings(void **state)
     /* A flat top too sharp for the span: the measured edge check fires. */
     kappa = 1e5;
     warnings = 0;
-    assert_int_equal(pf_build_flat_top(w, &c, &k0, &kappa, 6, PF_FLAT_BOX, 1), PF_OK);
+    pft_ok(pf_build_flat_top(w, &c, &k0, &kappa, 6, PF_FLAT_BOX, 1));
     assert_true(warnings >= 1);
     assert_non_null(strstr(last_warning, "grid edge"));
     pf_wave_free(w);

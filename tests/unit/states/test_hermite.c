@@ -19,15 +19,7 @@
 #include "pf_constants.h"
 #include "pf_hermite.h"
 #include "pf_species.h"
-
-/* cmocka's float comparison is single precision; ours is double. */
-static void assert_close(double got, double want, double tol, const char *what)
-{
-    if (!(fabs(got - want) <= tol)) {
-        print_error("%s: got %.17g, want %.17g (|diff| %.3e > %.3e)\n", what, got, want, fabs(got - want), tol);
-        fail();
-    }
-}
+#include "pft.h"
 
 static int warnings;
 static void count_warning(void *user, const char *text)
@@ -50,13 +42,13 @@ static void hermite_matches_gsl(void **state)
         for (double x = -30.0; x <= 30.0; x += 0.0917) {
             double got = pf_hermite_function(orders[i], x), want = gsl_sf_hermite_func(orders[i], x);
             worst = fmax(worst, fabs(got - want));
-            assert_close(got, want, 1e-12, "psi_n(x) vs gsl_sf_hermite_func");
+            pft_near(got, want, 0, 1e-12, "psi_n(x) vs gsl_sf_hermite_func");
         }
     printf("ok hermite vs gsl_sf_hermite_func, n <= 300, |x| <= 30: max |diff| %.2e (tol 1e-12) [GSL]\n", worst);
     /* The all-orders form gives the same numbers as the single-order one. */
     double all[61];
     pf_hermite_functions(60, 3.7, all);
-    for (int n = 0; n <= 60; n++) assert_close(all[n], gsl_sf_hermite_func(n, 3.7), 1e-12, "psi_0..60(3.7)");
+    for (int n = 0; n <= 60; n++) pft_near(all[n], gsl_sf_hermite_func(n, 3.7), 0, 1e-12, "psi_0..60(3.7)");
 }
 
 /* 87Rb in a 2 pi x 100 Hz trap on a grid of 40 oscillator lengths. */
@@ -69,10 +61,9 @@ typedef struct fixture {
 static int setup(void **state)
 {
     static fixture f;
-    f.ctx = pf_context_new();
-    pf_context_set_planning(f.ctx, PF_PLAN_ESTIMATE);
+    f.ctx = pft_context();
     pf_context_set_warn_handler(f.ctx, count_warning, NULL);
-    f.mass = pf_species_find("87Rb")->mass_kg;
+    f.mass = pft_mass("87Rb");
     f.omega = PF_TWO_PI * 100.0;
     f.len = sqrt(PF_HBAR / (f.mass * f.omega));
     size_t n = 512;
@@ -97,13 +88,13 @@ static void oscillator_is_fourier_eigenfunction(void **state)
     double worst = 0;
     for (int n = 0; n <= 60; n++) {
         pf_wave *w;
-        assert_int_equal(pf_wave_new(f->grid, f->mass, &w), PF_OK);
-        assert_int_equal(pf_build_oscillator(w, &f->omega, &n, NULL, NULL, 1), PF_OK);
+        pft_ok(pf_wave_new(f->grid, f->mass, &w));
+        pft_ok(pf_build_oscillator(w, &f->omega, &n, NULL, NULL, 1));
         /* (-i)^n exactly, without cpow's rounding. */
         static const double complex phase[4] = {1.0, -I, -1.0, I};
         for (size_t j = 0; j < pf_grid_points(f->grid, 0); j++) {
             double complex got;
-            assert_int_equal(pf_wave_value(w, PF_MOMENTUM, &j, &got), PF_OK);
+            pft_ok(pf_wave_value(w, PF_MOMENTUM, &j, &got));
             double k = pf_grid_k(f->grid, 0, j);
             double complex want = phase[n % 4] * sqrt(f->len) * gsl_sf_hermite_func(n, k * f->len);
             double err = cabs(got - want) / sqrt(f->len);
@@ -127,17 +118,17 @@ static void oscillator_states_are_orthonormal(void **state)
     enum { N = 61 };
     pf_wave *w[N];
     for (int n = 0; n < N; n++) {
-        assert_int_equal(pf_wave_new(f->grid, f->mass, &w[n]), PF_OK);
-        assert_int_equal(pf_build_oscillator(w[n], &f->omega, &n, NULL, NULL, 0), PF_OK);
+        pft_ok(pf_wave_new(f->grid, f->mass, &w[n]));
+        pft_ok(pf_build_oscillator(w[n], &f->omega, &n, NULL, NULL, 0));
     }
     double worst = 0;
     for (int m = 0; m < N; m += 3)
         for (int n = 0; n < N; n++) {
             double complex z;
-            assert_int_equal(pf_wave_inner(w[m], w[n], &z), PF_OK);
+            pft_ok(pf_wave_inner(w[m], w[n], &z));
             double err = cabs(z - (m == n ? 1.0 : 0.0));
             worst = fmax(worst, err);
-            assert_close(err, 0.0, 1e-12, "<m|n> - delta_mn");
+            pft_near(err, 0.0, 0, 1e-12, "<m|n> - delta_mn");
         }
     for (int n = 0; n < N; n++) pf_wave_free(w[n]);
     printf("ok <m|n> = delta_mn for oscillator states n <= 60: max |diff| %.2e (tol 1e-12) [standard property]\n", worst);
@@ -147,7 +138,7 @@ static void oscillator_rejects_bad_arguments(void **state)
 {
     fixture *f = *state;
     pf_wave *w;
-    assert_int_equal(pf_wave_new(f->grid, f->mass, &w), PF_OK);
+    pft_ok(pf_wave_new(f->grid, f->mass, &w));
     int n = PF_HERMITE_MAX_ORDER + 1;
     assert_int_equal(pf_build_oscillator(w, &f->omega, &n, NULL, NULL, 1), PF_EINVAL);
     assert_non_null(strstr(pf_context_message(f->ctx), "quantum number n"));
@@ -163,12 +154,12 @@ static void oscillator_rejects_bad_arguments(void **state)
     size_t few = 96;
     double span = 40.0 * f->len;
     pf_grid *coarse;
-    assert_int_equal(pf_grid_new(f->ctx, 1, &few, &span, NULL, &coarse), PF_OK);
+    pft_ok(pf_grid_new(f->ctx, 1, &few, &span, NULL, &coarse));
     pf_wave *c;
-    assert_int_equal(pf_wave_new(coarse, f->mass, &c), PF_OK);
+    pft_ok(pf_wave_new(coarse, f->mass, &c));
     warnings = 0;
     n = 60;
-    assert_int_equal(pf_build_oscillator(c, &f->omega, &n, NULL, NULL, 1), PF_OK);
+    pft_ok(pf_build_oscillator(c, &f->omega, &n, NULL, NULL, 1));
     assert_true(warnings >= 2); /* feature size and Nyquist */
     pf_wave_free(c);
     pf_grid_release(coarse);
