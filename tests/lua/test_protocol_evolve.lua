@@ -62,6 +62,10 @@ do
     "test_protocol_evolve.lua:", "different grid")
   local _, info = c:relax{potential = P, dt = 0.01 / omega}
   check.near(info.energy, 0.5 * hbar * omega, 1e-6, "relax with a pf.potential object", "textbook")
+  check.fails(function() c:evolve(1e-4, {potential = P, dt = -1e-6}) end, "a negative evolve step is refused",
+    "evolve", "field 'dt' must be positive (s)", "got -9.99")
+  check.fails(function() c:relax{potential = P, dt = 0} end, "a zero relax step is refused",
+    "relax", "field 'dt' must be positive (s)", "got 0")
   P:close()
   check.fails(function() c:evolve(1e-4, {potential = P}) end, "closed potential", "closed")
 end

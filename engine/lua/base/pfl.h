@@ -137,6 +137,10 @@ double pfl_check_positive(lua_State *L, int arg, const char *what);
 /* Field of the table at t: a finite number, or def when absent (nil).  The
  * error names the field: "field 'mass' must be a finite number, got 'abc'". */
 double pfl_field_number(lua_State *L, int t, const char *field, double def, int required);
+/* Optional positive number field (0 when absent); a value that is not a
+ * positive finite number is an error "fname: field 'field' must be positive
+ * (unit), got ...". */
+double pfl_field_positive_opt(lua_State *L, int t, const char *field, const char *unit, const char *fname);
 /* Field holding one number per axis, or a single number used for all axes. */
 int pfl_field_vector(lua_State *L, int t, const char *field, int dim, double *out, int required);
 /* The same with positive = 1 requiring every value > 0 (widths, radii). */

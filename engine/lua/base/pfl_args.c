@@ -92,6 +92,18 @@ double pfl_field_number(lua_State *L, int t, const char *field, double def, int 
     return v;
 }
 
+double pfl_field_positive_opt(lua_State *L, int t, const char *field, const char *unit, const char *fname)
+{
+    double v = pfl_field_number(L, t, field, 0, 0);
+    if (pfl_option_get(L, t, field) != LUA_TNIL && !(v > 0)) {
+        char buf[80];
+        luaL_error(L, "%s: field '%s' must be positive (%s), got %s", fname, field, unit,
+                   pfl_describe(L, -1, buf, sizeof buf));
+    }
+    lua_pop(L, 1);
+    return v;
+}
+
 int pfl_field_vector_of(lua_State *L, int t, const char *field, int dim, double *out, int required, int positive)
 {
     char buf[80];

@@ -28,12 +28,7 @@ static int l_relax(lua_State *L)
     pf_grid *g = pf_wave_grid(w);
     pf_relax_spec spec;
     memset(&spec, 0, sizeof spec);
-    spec.dt = pfl_field_number(L, 2, "dt", 0, 0);
-    if (pfl_option_get(L, 2, "dt") != LUA_TNIL && !(spec.dt > 0)) {
-        char buf[80];
-        return luaL_error(L, "relax: field 'dt' must be positive (s), got %s", pfl_describe(L, -1, buf, sizeof buf));
-    }
-    lua_pop(L, 1);
+    spec.dt = pfl_field_positive_opt(L, 2, "dt", "s", "relax");
     spec.g = pfl_field_number(L, 2, "g", 0, 0);
     spec.tolerance = pfl_field_number(L, 2, "tolerance", 1e-10, 0);
     if (!(spec.tolerance > 0)) return luaL_error(L, "relax: field 'tolerance' must be positive, got %g", spec.tolerance);

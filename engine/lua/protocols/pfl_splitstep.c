@@ -84,12 +84,7 @@ static int l_evolve(lua_State *L)
     pf_grid *g = pf_wave_grid(w);
     pf_evolve_spec spec;
     memset(&spec, 0, sizeof spec);
-    spec.dt = pfl_field_number(L, 3, "dt", 0, 0);
-    if (pfl_option_get(L, 3, "dt") != LUA_TNIL && !(spec.dt > 0)) {
-        char buf[80];
-        return luaL_error(L, "evolve: field 'dt' must be positive (s), got %s", pfl_describe(L, -1, buf, sizeof buf));
-    }
-    lua_pop(L, 1);
+    spec.dt = pfl_field_positive_opt(L, 3, "dt", "s", "evolve");
     spec.order = (int)pfl_field_integer(L, 3, "order", 2, 0, "evolve");
     if (spec.order != 2 && spec.order != 4)
         return luaL_error(L, "evolve: field 'order' must be 2 (Strang) or 4 (Yoshida), got %d", spec.order);
