@@ -386,25 +386,20 @@ static int l_count(lua_State *L)
     return 1;
 }
 
-static int l_member(lua_State *L)
+/* Entry i (argument 2, 1-based) of the ensemble's list in user value
+ * 'list': 1 the members, 2 the weights. */
+static int push_entry(lua_State *L, int list)
 {
     check_ens(L, 1);
     lua_Integer i = luaL_checkinteger(L, 2), n = ens_count(L, 1);
     if (i < 1 || i > n) return luaL_argerror(L, 2, lua_pushfstring(L, "member index must be 1..%d", (int)n));
-    lua_getiuservalue(L, 1, 1);
+    lua_getiuservalue(L, 1, list);
     lua_geti(L, -1, i);
     return 1;
 }
 
-static int l_weight(lua_State *L)
-{
-    check_ens(L, 1);
-    lua_Integer i = luaL_checkinteger(L, 2), n = ens_count(L, 1);
-    if (i < 1 || i > n) return luaL_argerror(L, 2, lua_pushfstring(L, "member index must be 1..%d", (int)n));
-    lua_getiuservalue(L, 1, 2);
-    lua_geti(L, -1, i);
-    return 1;
-}
+static int l_member(lua_State *L) { return push_entry(L, 1); }
+static int l_weight(lua_State *L) { return push_entry(L, 2); }
 
 static int l_weights(lua_State *L)
 {

@@ -86,6 +86,27 @@ static int l_profile(lua_State *L)
     return push_marginal(L, &src, pfl_opt_space(L, opts), keep, "profile");
 }
 
+/* The option 'axes' of the table at opts (a list of 1-based axes of a
+ * d-dimensional state) as flags: flags[a] = 1 for each listed axis.  The
+ * errors name the function and what the list means. */
+static void read_axes_flags(lua_State *L, int opts, int d, int *flags, const char *fname, const char *meaning)
+{
+    if (pfl_option_get(L, opts, "axes") != LUA_TTABLE) luaL_error(L, "%s: field 'axes' must list %s", fname, meaning);
+    lua_Integer n = luaL_len(L, -1);
+    for (lua_Integer i = 1; i <= n; i++) {
+        lua_geti(L, -1, i);
+        lua_Integer a = pfl_tointegerx(L, -1, NULL);
+        if (a < 1 || a > d) {
+            char buf[64];
+            luaL_error(L, "%s: entry %d of 'axes' must be an axis 1..%d, got %s", fname, (int)i, d,
+                       pfl_describe(L, -1, buf, sizeof buf));
+        }
+        flags[a - 1] = 1;
+        lua_pop(L, 1);
+    }
+    lua_pop(L, 1);
+}
+
 /* s:marginal{axes = {..}, space=} -> density integrated over the other axes. */
 static int l_marginal(lua_State *L)
 {
@@ -94,20 +115,7 @@ static int l_marginal(lua_State *L)
     pfl_check_source(L, 1, &src);
     int d = pf_grid_dim(pfl_source_grid(&src));
     int keep[PF_MAX_DIM] = {0, 0, 0};
-    if (pfl_option_get(L, 2, "axes") != LUA_TTABLE) return luaL_error(L, "marginal: field 'axes' must list the axes to keep");
-    lua_Integer n = luaL_len(L, -1);
-    for (lua_Integer i = 1; i <= n; i++) {
-        lua_geti(L, -1, i);
-        lua_Integer a = pfl_tointegerx(L, -1, NULL);
-        if (a < 1 || a > d) {
-            char buf[64];
-            return luaL_error(L, "marginal: entry %d of 'axes' must be an axis 1..%d, got %s", (int)i, d,
-                              pfl_describe(L, -1, buf, sizeof buf));
-        }
-        keep[a - 1] = 1;
-        lua_pop(L, 1);
-    }
-    lua_pop(L, 1);
+    read_axes_flags(L, 2, d, keep, "marginal", "the axes to keep");
     return push_marginal(L, &src, pfl_opt_space(L, 2), keep, "marginal");
 }
 
@@ -136,20 +144,7 @@ static int l_slice(lua_State *L)
     int d = pf_grid_dim(pfl_source_grid(&src));
     pf_rep rep = pfl_opt_space(L, 2);
     int freeax[PF_MAX_DIM] = {0, 0, 0};
-    if (pfl_option_get(L, 2, "axes") != LUA_TTABLE) return luaL_error(L, "slice: field 'axes' must list the free axes");
-    lua_Integer n = luaL_len(L, -1);
-    for (lua_Integer i = 1; i <= n; i++) {
-        lua_geti(L, -1, i);
-        lua_Integer a = pfl_tointegerx(L, -1, NULL);
-        if (a < 1 || a > d) {
-            char buf[64];
-            return luaL_error(L, "slice: entry %d of 'axes' must be an axis 1..%d, got %s", (int)i, d,
-                              pfl_describe(L, -1, buf, sizeof buf));
-        }
-        freeax[a - 1] = 1;
-        lua_pop(L, 1);
-    }
-    lua_pop(L, 1);
+    read_axes_flags(L, 2, d, freeax, "slice", "the free axes");
     double through[PF_MAX_DIM] = {0, 0, 0};
     pfl_field_vector(L, 2, "through", d, through, 0);
     pf_field f, sl;
