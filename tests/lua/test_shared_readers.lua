@@ -42,4 +42,14 @@ check.equal(e:weight(2), 0.75, "weight 2")
 check.truthy(e:member(1), "member 1")
 check.fails(function() e:member(3) end, "member past the end", "member index must be 1..2")
 check.fails(function() e:weight(0) end, "weight before the start", "member index must be 1..2")
+-- the regions' paired vectors and their axis count: one reader, one finish
+check.fails(function() pf.box{min = {-1e-6, -1e-6}, max = {1e-6}} end,
+  "box corners of different lengths", "box: 'min' and 'max' must have the same number of entries")
+check.fails(function() pf.half_space{point = {0}, normal = {1, 0}} end,
+  "half-space point and normal of different lengths",
+  "half_space: 'point' and 'normal' must have the same number of entries")
+-- a box or a ball over the whole grid holds all of a normalised state
+check.near(w1:probability_in(pf.box{min = {-1}, max = {1}}), 1.0, 1e-9, "box over the grid", "normalisation (docs/conventions.md)")
+check.near(w1:probability_in(pf.ball{center = {0}, radius = 1}), 1.0, 1e-9, "ball over the grid", "normalisation (docs/conventions.md)")
+
 check.done()
