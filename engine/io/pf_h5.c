@@ -91,28 +91,30 @@ static int attr_string(hid_t obj, const char *name, const char *value)
     return bad ? -1 : 0;
 }
 
-static int attr_doubles(hid_t obj, const char *name, const double *v, size_t n, int scalar)
+/* One attribute of n values (a scalar when scalar) written in the file's
+ * little-endian type from the native one. */
+static int attr_write(hid_t obj, const char *name, hid_t file_type, hid_t mem_type, const void *v, size_t n,
+                      int scalar)
 {
     hsize_t dims[1] = {n};
     hid_t sp = scalar ? H5Screate(H5S_SCALAR) : H5Screate_simple(1, dims, NULL);
-    hid_t a = H5Acreate2(obj, name, H5T_IEEE_F64LE, sp, H5P_DEFAULT, H5P_DEFAULT);
-    int bad = a < 0 || H5Awrite(a, H5T_NATIVE_DOUBLE, v) < 0;
+    hid_t a = H5Acreate2(obj, name, file_type, sp, H5P_DEFAULT, H5P_DEFAULT);
+    int bad = a < 0 || H5Awrite(a, mem_type, v) < 0;
     if (a >= 0) H5Aclose(a);
     H5Sclose(sp);
     return bad ? -1 : 0;
+}
+
+static int attr_doubles(hid_t obj, const char *name, const double *v, size_t n, int scalar)
+{
+    return attr_write(obj, name, H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, v, n, scalar);
 }
 
 static int attr_double(hid_t obj, const char *name, double v) { return attr_doubles(obj, name, &v, 1, 1); }
 
 static int attr_longs(hid_t obj, const char *name, const long long *v, size_t n, int scalar)
 {
-    hsize_t dims[1] = {n};
-    hid_t sp = scalar ? H5Screate(H5S_SCALAR) : H5Screate_simple(1, dims, NULL);
-    hid_t a = H5Acreate2(obj, name, H5T_STD_I64LE, sp, H5P_DEFAULT, H5P_DEFAULT);
-    int bad = a < 0 || H5Awrite(a, H5T_NATIVE_LLONG, v) < 0;
-    if (a >= 0) H5Aclose(a);
-    H5Sclose(sp);
-    return bad ? -1 : 0;
+    return attr_write(obj, name, H5T_STD_I64LE, H5T_NATIVE_LLONG, v, n, scalar);
 }
 
 /* ---- file ---- */

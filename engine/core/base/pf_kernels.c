@@ -112,27 +112,25 @@ void pf_kernel_axis_multiply(pf_grid *g, double complex *data, const double comp
 }
 
 
-typedef struct mask_job {
-    const pf_grid *g;
-    double complex *data;
-    const double complex *const *tables;
-} mask_job;
-
-/* One block of the axis mask over MPI ranks: the loop body below, on local
- * offsets with the global multi-index. */
-static void mask_block(void *user, size_t begin, size_t end, const size_t *start, double *acc)
+void pf_kernel_mask_block(void *user, size_t begin, size_t end, const size_t *start, double *acc)
 {
-    const mask_job *job = user;
-    const int d = job->g->dim;
+    const pf_mask_job *job = user;
+    const int d = job->dim;
+    const size_t *lay = job->lay;
     size_t idx[PF_MAX_DIM] = {start[0], start[1], start[2]};
     for (size_t off = begin; off < end; off++) {
         double complex f = 1.0;
-        for (int a = 0; a < d; a++)
-            if (job->tables[a]) f *= job->tables[a][idx[a]];
+        for (int a = 0; a < d; a++) {
+            size_t i = job->swap && a < 2 ? idx[1 - a] : idx[a];
+            if (job->tables[a]) f *= job->tables[a][i];
+        }
         double rho = abs2(job->data[off]);
         acc[0] += rho * (1.0 - abs2(f));
         job->data[off] *= f;
-        pf_index_next(job->g, idx);
+        for (int a = d - 1; a >= 0; a--) {
+            if (++idx[a] < lay[a]) break;
+            idx[a] = 0;
+        }
     }
 }
 
@@ -141,9 +139,9 @@ static void mask_block(void *user, size_t begin, size_t end, const size_t *start
  * blocks, so the same bits). */
 double pf_kernel_axis_mask(pf_grid *g, double complex *data, const double complex *const *tables)
 {
-    mask_job job = {g, data, tables};
+    pf_mask_job job = {data, tables, g->dim, g->n, 0};
     double sum = 0;
-    pf_reduce_blocks(g, 1, mask_block, &job, &sum);
+    pf_reduce_blocks(g, 1, pf_kernel_mask_block, &job, &sum);
     return sum;
 }
 

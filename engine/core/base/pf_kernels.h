@@ -25,6 +25,21 @@ double pf_kernel_axis_mask(pf_grid *g, double complex *data, const double comple
 /* data[i] *= field[i] for every point; returns sum |z|^2 (1 - |f|^2) like
  * pf_kernel_axis_mask when want_removed, else 0 (no reduction pass). */
 double pf_kernel_field_mask(pf_grid *g, double complex *data, const double complex *field, int want_removed);
+/* One block of the axis mask (a pf_reduce_block_fn): each point times
+ * tables[0][i0] tables[1][i1] (tables[2][i2]) in axis order (NULL tables
+ * skipped), acc[0] += |psi|^2 (1 - |f|^2) before it.  The block walks an
+ * index layout lay[] from start[]; swap: index 0 is axis 1 and index 1
+ * axis 0 (a distributed grid's transposed momentum slab, pf_dist.c), so
+ * each point gets the single process's factor, to the bit. */
+typedef struct pf_mask_job {
+    double complex *data;
+    const double complex *const *tables;
+    int dim;
+    const size_t *lay;
+    int swap;
+} pf_mask_job;
+void pf_kernel_mask_block(void *user, size_t begin, size_t end, const size_t *start, double *acc);
+
 /* One block of that mask (a pf_reduce_block_fn; the distributed grid's
  * mask runs the same body over its ranks' blocks, pf_dist.c): data[i] *=
  * field[i], acc[0] += |data[i]|^2 (1 - |field[i]|^2) before it. */

@@ -575,44 +575,13 @@ static void moments_block(void *user, size_t begin, size_t end, const size_t *st
     }
 }
 
-typedef struct tmask_job {
-    const pf_grid *g;
-    double complex *data;
-    const double complex *const *tables;
-} tmask_job;
-
-/* One block of the momentum axis mask on the transposed layout (index 0 is
- * axis 1, index 1 axis 0): the factors multiplied in axis order, as
- * pf_kernel_axis_mask does, so each point gets the single process's value. */
-static void tmask_block(void *user, size_t begin, size_t end, const size_t *start, double *acc)
-{
-    const tmask_job *job = user;
-    const pf_grid *g = job->g;
-    const int d = g->dim;
-    const size_t *lay = g->dist->lay[1];
-    const double complex *const *T = job->tables;
-    size_t idx[PF_MAX_DIM] = {start[0], start[1], start[2]};
-    for (size_t off = begin; off < end; off++) {
-        double complex f = 1.0;
-        if (T[0]) f *= T[0][idx[1]];
-        if (T[1]) f *= T[1][idx[0]];
-        if (d == 3 && T[2]) f *= T[2][idx[2]];
-        const double complex z = job->data[off];
-        acc[0] += (creal(z) * creal(z) + cimag(z) * cimag(z)) * (1.0 - (creal(f) * creal(f) + cimag(f) * cimag(f)));
-        job->data[off] = z * f;
-        for (int a = d - 1; a >= 0; a--) {
-            if (++idx[a] < lay[a]) break;
-            idx[a] = 0;
-        }
-    }
-}
-
 double pf_dist_momentum_axis_mask(pf_grid *g, double complex *data, const double complex *const *tables)
 {
     if (!g->dist) return pf_kernel_axis_mask(g, data, tables);
-    tmask_job job = {g, data, tables};
+    /* The transposed slab: index 0 is axis 1, index 1 axis 0. */
+    pf_mask_job job = {data, tables, g->dim, g->dist->lay[1], 1};
     double sum = 0;
-    pf_dist_reduce(g, PF_MOMENTUM, 1, tmask_block, &job, &sum);
+    pf_dist_reduce(g, PF_MOMENTUM, 1, pf_kernel_mask_block, &job, &sum);
     return sum;
 }
 

@@ -117,46 +117,57 @@ static void unravel(const pf_field *f, size_t off, size_t *idx)
     }
 }
 
-pf_status pf_field_marginal(const pf_field *f, const int *keep, pf_field *out)
+/* The field over the axes f keeps (keep[a] != 0), with their points,
+ * first values and steps; map[b] is the axis of f behind axis b of out. */
+static pf_status kept_field(const pf_field *f, const int *keep, int *map, pf_field *out)
 {
     size_t n[PF_MAX_DIM];
-    double first[PF_MAX_DIM], step[PF_MAX_DIM], weight = 1;
-    int map[PF_MAX_DIM], kept = 0;
+    double first[PF_MAX_DIM], step[PF_MAX_DIM];
+    int kept = 0;
     for (int a = 0; a < f->dim; a++) {
-        if (keep[a]) {
-            map[kept] = a;
-            n[kept] = f->n[a];
-            first[kept] = f->first[a];
-            step[kept] = f->step[a];
-            kept++;
-        } else {
-            weight *= f->step[a];
-        }
+        if (!keep[a]) continue;
+        map[kept] = a;
+        n[kept] = f->n[a];
+        first[kept] = f->first[a];
+        step[kept] = f->step[a];
+        kept++;
+    }
+    return pf_field_new(f->ctx, kept, n, first, step, out);
+}
+
+/* The offset in out (kept_field) of the point of f at idx. */
+static size_t kept_offset(const pf_field *out, const int *map, const size_t *idx)
+{
+    size_t o = 0;
+    for (int b = 0; b < out->dim; b++) o = o * out->n[b] + idx[map[b]];
+    return o;
+}
+
+pf_status pf_field_marginal(const pf_field *f, const int *keep, pf_field *out)
+{
+    double weight = 1;
+    int kept = 0, map[PF_MAX_DIM];
+    for (int a = 0; a < f->dim; a++) {
+        if (keep[a]) kept++;
+        else weight *= f->step[a];
     }
     if (!kept) return pf_fail(f->ctx, PF_EINVAL, "a marginal must keep at least one axis");
-    pf_status s = pf_field_new(f->ctx, kept, n, first, step, out);
+    pf_status s = kept_field(f, keep, map, out);
     if (s) return s;
     size_t idx[PF_MAX_DIM];
     for (size_t off = 0; off < f->total; off++) {
         unravel(f, off, idx);
-        size_t o = 0;
-        for (int b = 0; b < kept; b++) o = o * n[b] + idx[map[b]];
-        out->values[o] += f->values[off] * weight;
+        out->values[kept_offset(out, map, idx)] += f->values[off] * weight;
     }
     return PF_OK;
 }
 
 pf_status pf_field_slice(const pf_field *f, const size_t *fixed, pf_field *out)
 {
-    size_t n[PF_MAX_DIM];
-    double first[PF_MAX_DIM], step[PF_MAX_DIM];
-    int map[PF_MAX_DIM], kept = 0;
+    int keep[PF_MAX_DIM] = {0}, kept = 0, map[PF_MAX_DIM];
     for (int a = 0; a < f->dim; a++) {
         if (fixed[a] == PF_FREE_AXIS) {
-            map[kept] = a;
-            n[kept] = f->n[a];
-            first[kept] = f->first[a];
-            step[kept] = f->step[a];
+            keep[a] = 1;
             kept++;
         } else if (fixed[a] >= f->n[a]) {
             return pf_fail(f->ctx, PF_EINVAL, "slice index %zu on axis %d is outside 0..%zu", fixed[a], a + 1,
@@ -164,7 +175,7 @@ pf_status pf_field_slice(const pf_field *f, const size_t *fixed, pf_field *out)
         }
     }
     if (!kept) return pf_fail(f->ctx, PF_EINVAL, "a slice needs at least one free axis");
-    pf_status s = pf_field_new(f->ctx, kept, n, first, step, out);
+    pf_status s = kept_field(f, keep, map, out);
     if (s) return s;
     size_t idx[PF_MAX_DIM];
     for (size_t off = 0; off < f->total; off++) {
@@ -172,10 +183,7 @@ pf_status pf_field_slice(const pf_field *f, const size_t *fixed, pf_field *out)
         int on = 1;
         for (int a = 0; a < f->dim; a++)
             if (fixed[a] != PF_FREE_AXIS && idx[a] != fixed[a]) on = 0;
-        if (!on) continue;
-        size_t o = 0;
-        for (int b = 0; b < kept; b++) o = o * n[b] + idx[map[b]];
-        out->values[o] = f->values[off];
+        if (on) out->values[kept_offset(out, map, idx)] = f->values[off];
     }
     return PF_OK;
 }

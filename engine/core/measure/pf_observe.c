@@ -50,24 +50,26 @@ static pf_status axis_moments(pf_wave *w, const double *const *coords, double *m
     return PF_OK;
 }
 
-pf_status pf_wave_position_moments(pf_wave *w, double *mean, double *variance)
+/* Moments over the grid's positions (PF_POSITION) or wave numbers: in
+ * momentum representation |phi|^2 is |S|^2 times a constant, so the
+ * storage weights give the normalised moments directly. */
+static pf_status rep_moments(pf_wave *w, pf_rep rep, double *mean, double *variance)
 {
-    pf_status s = pf_wave_to(w, PF_POSITION);
+    pf_status s = pf_wave_to(w, rep);
     if (s) return s;
     const double *coords[PF_MAX_DIM];
-    for (int a = 0; a < w->grid->dim; a++) coords[a] = w->grid->x[a];
+    for (int a = 0; a < w->grid->dim; a++) coords[a] = rep == PF_POSITION ? w->grid->x[a] : w->grid->k[a];
     return axis_moments(w, coords, mean, variance);
+}
+
+pf_status pf_wave_position_moments(pf_wave *w, double *mean, double *variance)
+{
+    return rep_moments(w, PF_POSITION, mean, variance);
 }
 
 pf_status pf_wave_wavenumber_moments(pf_wave *w, double *mean, double *variance)
 {
-    /* |phi|^2 is |S|^2 times a constant, so the storage weights give the
-     * normalised moments directly. */
-    pf_status s = pf_wave_to(w, PF_MOMENTUM);
-    if (s) return s;
-    const double *coords[PF_MAX_DIM];
-    for (int a = 0; a < w->grid->dim; a++) coords[a] = w->grid->k[a];
-    return axis_moments(w, coords, mean, variance);
+    return rep_moments(w, PF_MOMENTUM, mean, variance);
 }
 
 pf_status pf_wave_kinetic_energy(pf_wave *w, double *energy)
