@@ -283,6 +283,8 @@ void pfl_open_random(lua_State *L, int mod);
 void pfl_open_ensemble(lua_State *L, int mod);
 void pfl_open_measure(lua_State *L, int mod);
 void pfl_open_field(lua_State *L, int mod);
+void pfl_open_sample(lua_State *L, int mod);  /* s:sample, pf.histogram */
+void pfl_open_fringe(lua_State *L, int mod);  /* s:fringes, pf.fringes */
 void pfl_open_flux(lua_State *L, int mod);
 void pfl_open_detector(lua_State *L, int mod);
 void pfl_open_ops(lua_State *L, int mod);     /* protocol steps: pulses, masks, shifts */
