@@ -141,6 +141,11 @@ double pfl_field_number(lua_State *L, int t, const char *field, double def, int 
  * positive finite number is an error "fname: field 'field' must be positive
  * (unit), got ...". */
 double pfl_field_positive_opt(lua_State *L, int t, const char *field, const char *unit, const char *fname);
+/* Set field `name` of the table on top of the stack to a number, to a list
+ * of the d numbers v, or to a list of the d counts v. */
+void pfl_set_number(lua_State *L, const char *name, double v);
+void pfl_set_vector(lua_State *L, const char *name, const double *v, int d);
+void pfl_set_counts(lua_State *L, const char *name, const size_t *v, int d);
 /* Field holding one number per axis, or a single number used for all axes. */
 int pfl_field_vector(lua_State *L, int t, const char *field, int dim, double *out, int required);
 /* The same with positive = 1 requiring every value > 0 (widths, radii). */
@@ -283,7 +288,9 @@ void pfl_open_units(lua_State *L, int mod);
 void pfl_open_build(lua_State *L, int mod);
 void pfl_open_algebra(lua_State *L, int mod);
 void pfl_open_guard(lua_State *L, int mod);      /* after pfl_open_context: wraps pf.setup */
-void pfl_open_longflight(lua_State *L, int mod);
+void pfl_open_longflight(lua_State *L, int mod); /* w:fly_long, w:fly_scaled */
+void pfl_open_farfield(lua_State *L, int mod);   /* w:far_field */
+void pfl_open_advise(lua_State *L, int mod);     /* w:grid_advice, pf.grid_advice */
 void pfl_open_params(lua_State *L, int mod);
 void pfl_open_record(lua_State *L, int mod);
 void pfl_open_files(lua_State *L, int mod);

@@ -20,6 +20,8 @@ static const pfl_opener openers[] = {
     pfl_open_algebra,
     pfl_open_guard,
     pfl_open_longflight,
+    pfl_open_farfield,
+    pfl_open_advise,
     pfl_open_params,
     pfl_open_record,
     pfl_open_files,
