@@ -213,10 +213,5 @@ void pfl_open_grid(lua_State *L, int mod)
     static const luaL_Reg funcs[] = {{"grid", l_grid}, {NULL, NULL}};
     static const pfl_options_decl *const options[] = {&GRID_OPTIONS, NULL};
     pfl_options_declare(L, options);
-    luaL_newmetatable(L, PFL_GRID_TYPE);
-    luaL_setfuncs(L, meta, 0);
-    luaL_newlib(L, methods);
-    lua_setfield(L, -2, "__index");
-    lua_pop(L, 1);
-    pfl_add_functions(L, mod, funcs);
+    pfl_register_type(L, mod, &(pfl_type_spec){.type = PFL_GRID_TYPE, .meta = meta, .methods = methods, .funcs = funcs});
 }

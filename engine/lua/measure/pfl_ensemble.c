@@ -664,13 +664,10 @@ void pfl_open_ensemble(lua_State *L, int mod)
         {"__gc", l_gc}, {"__close", l_close}, {"__tostring", l_tostring}, {"__index", ens_index}, {NULL, NULL},
     };
     static const luaL_Reg funcs[] = {{"mixture", l_mixture}, {"thermal", l_thermal}, {NULL, NULL}};
-    luaL_newmetatable(L, PFL_ENSEMBLE_TYPE);
-    luaL_setfuncs(L, meta, 0);
-    luaL_newlib(L, methods);
-    lua_setfield(L, -2, "methods");
-    lua_pop(L, 1);
-    pfl_frame_name_functions(L, "ensemble:", methods); /* for the guards' names (pfl_aware.c) */
-    pfl_add_functions(L, mod, funcs);
+    /* methods live under "methods": __index is ens_index, which forwards wave methods too */
+    pfl_register_type(L, mod, &(pfl_type_spec){.type = PFL_ENSEMBLE_TYPE, .meta = meta, .methods = methods,
+                                               .methods_field = "methods", .guard_prefix = "ensemble:",
+                                               .funcs = funcs}); /* names: pfl_aware.c */
     static const pfl_options_decl *const options[] = {&THERMAL_OPTIONS, NULL};
     pfl_options_declare(L, options);
 }

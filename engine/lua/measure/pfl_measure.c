@@ -594,12 +594,9 @@ void pfl_open_measure(lua_State *L, int mod)
     static const luaL_Reg funcs[] = {
         {"box", l_box}, {"half_space", l_half_space}, {"ball", l_ball}, {"mask", l_mask}, {NULL, NULL},
     };
-    luaL_newmetatable(L, PFL_REGION_TYPE);
-    lua_pushcfunction(L, region_gc);
-    lua_setfield(L, -2, "__gc");
-    lua_pushcfunction(L, region_tostring);
-    lua_setfield(L, -2, "__tostring");
-    lua_pop(L, 1);
+    static const luaL_Reg region_meta[] = {{"__gc", region_gc}, {"__tostring", region_tostring}, {NULL, NULL}};
+    /* a region has no methods; its module functions come after the method groups below */
+    pfl_register_type(L, mod, &(pfl_type_spec){.type = PFL_REGION_TYPE, .meta = region_meta});
     pfl_add_state_methods(L, state_methods);
     pfl_add_wave_methods(L, wave_methods);
     pfl_add_functions(L, mod, funcs);
