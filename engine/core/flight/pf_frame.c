@@ -425,35 +425,33 @@ pf_status pf_wave_lab_beyond(pf_wave *w, int axis, double at, double *probabilit
  * the series, as pf_wave_arrival does without a frame). */
 typedef struct lab_arrival_args {
     const double *accel;
-    int axis;
-    double at, start, dt;
-    size_t count;
+    const pf_arrival_window *window;
 } lab_arrival_args;
 
 static pf_status lab_arrival_whole(pf_wave *w, void *user, double *out)
 {
     const lab_arrival_args *a = user;
-    return pf_wave_lab_arrival(w, a->accel, a->axis, a->at, a->start, a->dt, a->count, out);
+    return pf_wave_lab_arrival(w, a->accel, a->window, out);
 }
 
-pf_status pf_wave_lab_arrival(pf_wave *w, const double *accel, int axis, double at, double start, double dt,
-                              size_t count, double *flux)
+pf_status pf_wave_lab_arrival(pf_wave *w, const double *accel, const pf_arrival_window *window, double *flux)
 {
     pf_grid *g = w->grid;
+    const int axis = window->axis;
+    const double at = window->at, start = window->start, dt = window->dt;
+    const size_t count = window->count;
     if (axis < 0 || axis >= g->dim)
         return pf_fail(g->ctx, PF_EINVAL, "plane axis must be 1..%d, got %d", g->dim, axis + 1);
     if (!isfinite(at)) return pf_fail(g->ctx, PF_EINVAL, "plane position must be finite (m), got %g", at);
-    if (!isfinite(start) || !isfinite(dt) || !(dt > 0))
-        return pf_fail(g->ctx, PF_EINVAL, "arrival window needs a finite start and a positive step, got %g and %g", start,
-                       dt);
-    if (count < 1) return pf_fail(g->ctx, PF_EINVAL, "arrival window needs at least one time");
+    pf_status s = pf_arrival_window_check(g->ctx, window);
+    if (s) return s;
     if (g->dist) {
         /* Rank 0 holds the whole wave and its flown copy meanwhile. */
-        lab_arrival_args a = {accel, axis, at, start, dt, count};
+        lab_arrival_args a = {accel, window};
         return pf_dist_on_whole(w, PF_MOMENTUM, lab_arrival_whole, &a, flux, count);
     }
     pf_wave *c;
-    pf_status s = pf_wave_copy(w, &c);
+    s = pf_wave_copy(w, &c);
     if (s) return s;
     if (start != 0) s = pf_wave_fly_in_frame(c, start, accel);
     const double lo = g->x[axis][0] - 0.5 * g->dx[axis], hi = lo + g->span[axis];

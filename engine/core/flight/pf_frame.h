@@ -20,6 +20,7 @@
 
 #include <complex.h>
 #include "pf_farfield.h"
+#include "pf_flux.h"
 #include "pf_grid.h"
 #include "pf_longflight.h"
 #include "pf_wave.h"
@@ -126,8 +127,7 @@ pf_status pf_wave_lab_kick(pf_wave *w, const double *q);
 pf_status pf_wave_lab_flux(pf_wave *w, int axis, double at, double *flux);
 pf_status pf_wave_lab_beyond(pf_wave *w, int axis, double at, double *probability);
 
-pf_status pf_wave_lab_arrival(pf_wave *w, const double *accel, int axis, double at, double start, double dt,
-                              size_t count, double *flux);
+pf_status pf_wave_lab_arrival(pf_wave *w, const double *accel, const pf_arrival_window *window, double *flux);
 
 /* Lab moments: position mean (+ X), wave-number mean (+ K); variances are
  * those of the grid state (a shift does not change them).  Either output

@@ -403,38 +403,40 @@ pf_status pf_wave_beyond(pf_wave *w, int axis, double at, double *probability)
     return PF_OK;
 }
 
-typedef struct arrival_args {
-    int axis;
-    double at, start, dt;
-    size_t count;
-} arrival_args;
+pf_status pf_arrival_window_check(pf_context *ctx, const pf_arrival_window *window)
+{
+    if (!isfinite(window->start) || !isfinite(window->dt) || !(window->dt > 0))
+        return pf_fail(ctx, PF_EINVAL, "arrival window needs a finite start and a positive step, got %g and %g",
+                       window->start, window->dt);
+    if (window->count < 1) return pf_fail(ctx, PF_EINVAL, "arrival window needs at least one time");
+    return PF_OK;
+}
 
 static pf_status arrival_whole(pf_wave *w, void *user, double *out)
 {
-    const arrival_args *a = user;
-    return pf_wave_arrival(w, a->axis, a->at, a->start, a->dt, a->count, out);
+    return pf_wave_arrival(w, user, out);
 }
 
-pf_status pf_wave_arrival(pf_wave *w, int axis, double at, double start, double dt, size_t count, double *flux)
+pf_status pf_wave_arrival(pf_wave *w, const pf_arrival_window *window, double *flux)
 {
     pf_grid *g = w->grid;
-    pf_status s = check_plane(g, axis, at);
+    const int axis = window->axis;
+    const double start = window->start, dt = window->dt;
+    const size_t count = window->count;
+    pf_status s = check_plane(g, axis, window->at);
     if (s) return s;
-    if (!isfinite(start) || !isfinite(dt) || !(dt > 0))
-        return pf_fail(g->ctx, PF_EINVAL, "arrival window needs a finite start and a positive step, got %g and %g", start,
-                       dt);
-    if (count < 1) return pf_fail(g->ctx, PF_EINVAL, "arrival window needs at least one time");
+    s = pf_arrival_window_check(g->ctx, window);
+    if (s) return s;
     if (g->dist) {
         /* Split over MPI ranks: the copy flies on rank 0, from the wave
          * gathered there (two whole waves on rank 0 meanwhile). */
-        arrival_args a = {axis, at, start, dt, count};
-        return pf_dist_on_whole(w, PF_MOMENTUM, arrival_whole, &a, flux, count);
+        return pf_dist_on_whole(w, PF_MOMENTUM, arrival_whole, (void *)window, flux, count);
     }
     pf_wave *c;
     s = pf_wave_copy(w, &c);
     if (s) return s;
     plane_eval p = {0};
-    s = plane_init(c, axis, at, &p);
+    s = plane_init(c, axis, window->at, &p);
     double *lines = s ? NULL : pf_alloc(g->ctx, p.outer * p.inner * sizeof(double));
     if (!s && !lines) s = pf_context_status(g->ctx);
     if (!s && start != 0) s = pf_wave_fly(c, start);

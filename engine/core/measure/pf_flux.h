@@ -37,10 +37,24 @@ pf_status pf_wave_plane_figures(pf_wave *w, int axis, double at, double *flux, d
  * leaves the wave in momentum representation; the same bits on any thread
  * count). */
 pf_status pf_wave_beyond(pf_wave *w, int axis, double at, double *probability);
-/* Flux through the plane at the times t_k = clock + start + k dt,
- * k = 0..count-1, into flux[k].  The wave itself is not changed: a copy is
- * flown in steps of dt (the flight phase table is made once and reused), and
- * only the plane is evaluated at each step. */
-pf_status pf_wave_arrival(pf_wave *w, int axis, double at, double start, double dt, size_t count, double *flux);
+/* A detector plane x_axis = at and the times at which the flux through it
+ * is taken: t_k = clock + start + k dt, k = 0..count-1 (shared by
+ * pf_wave_arrival and the moving-frame pf_wave_lab_arrival). */
+typedef struct pf_arrival_window {
+    int axis;     /* 0-based grid axis the plane is perpendicular to */
+    double at;    /* plane position (m) */
+    double start; /* first time after the wave's clock (s), finite */
+    double dt;    /* step between times (s), > 0 */
+    size_t count; /* number of times, >= 1 */
+} pf_arrival_window;
+/* PF_EINVAL (with a message in ctx) unless start and dt are finite, dt > 0
+ * and count >= 1; the plane itself is checked by each caller (a lab plane
+ * may lie outside the co-moving grid). */
+pf_status pf_arrival_window_check(pf_context *ctx, const pf_arrival_window *window);
+/* Flux through the plane at the window's times into flux[k].  The wave
+ * itself is not changed: a copy is flown in steps of dt (the flight phase
+ * table is made once and reused), and only the plane is evaluated at each
+ * step. */
+pf_status pf_wave_arrival(pf_wave *w, const pf_arrival_window *window, double *flux);
 
 #endif

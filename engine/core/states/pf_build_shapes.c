@@ -31,27 +31,36 @@ static pf_status check_axes(pf_context *ctx, int d, const char *what, const doub
 /* Volume of the d-dimensional unit ball: 2, pi, 4 pi / 3. */
 static double unit_ball(int d) { return d == 1 ? 2.0 : d == 2 ? PF_PI : 4.0 * PF_PI / 3.0; }
 
-/* Per-axis table layout shared by the separable builders: axis a has nn[a]
- * entries (1 beyond the grid's dimension) starting at offs[a]. */
-static void axis_layout(const pf_grid *g, size_t *nn, size_t *offs)
+/* The per-axis tables of the separable builders: axis a has nn[a] entries
+ * (1 beyond the grid's dimension) starting at offs[a], in a real table u2
+ * (u_a^2 or an axis profile) and a complex one ph (a phase). */
+typedef struct axis_tables {
+    size_t nn[PF_MAX_DIM], offs[PF_MAX_DIM + 1];
+    double *u2;
+    double complex *ph;
+} axis_tables;
+
+/* Lays out and allocates the tables; on failure records the error and
+ * returns non-zero with nothing allocated. */
+static int axis_tables_new(const pf_grid *g, axis_tables *t)
 {
-    offs[0] = 0;
+    t->offs[0] = 0;
     for (int a = 0; a < PF_MAX_DIM; a++) {
-        nn[a] = a < g->dim ? g->n[a] : 1;
-        offs[a + 1] = offs[a] + nn[a];
+        t->nn[a] = a < g->dim ? g->n[a] : 1;
+        t->offs[a + 1] = t->offs[a] + t->nn[a];
     }
+    t->u2 = pf_alloc(g->ctx, t->offs[PF_MAX_DIM] * sizeof *t->u2);
+    t->ph = pf_alloc(g->ctx, t->offs[PF_MAX_DIM] * sizeof *t->ph);
+    if (t->u2 && t->ph) return 0;
+    pf_context_free(g->ctx, t->u2);
+    pf_context_free(g->ctx, t->ph);
+    return 1;
 }
 
-/* Allocates the real and complex per-axis tables for that layout; on
- * failure records the error and returns non-zero with nothing allocated. */
-static int axis_tables(const pf_grid *g, const size_t *offs, double **u2, double complex **ph)
+static void axis_tables_free(const pf_grid *g, axis_tables *t)
 {
-    *u2 = pf_alloc(g->ctx, offs[PF_MAX_DIM] * sizeof **u2);
-    *ph = pf_alloc(g->ctx, offs[PF_MAX_DIM] * sizeof **ph);
-    if (*u2 && *ph) return 0;
-    pf_context_free(g->ctx, *u2);
-    pf_context_free(g->ctx, *ph);
-    return 1;
+    pf_context_free(g->ctx, t->u2);
+    pf_context_free(g->ctx, t->ph);
 }
 
 pf_status pf_build_flat_top(pf_wave *w, const double *center, const double *wavenumber, const double *half_width,
@@ -67,24 +76,21 @@ pf_status pf_build_flat_top(pf_wave *w, const double *center, const double *wave
         return pf_fail(g->ctx, PF_EINVAL, "flat-top order must be between 1 and %g, got %g", FLAT_MAX_ORDER, order);
     if (shape != PF_FLAT_BOX && shape != PF_FLAT_ROUND)
         return pf_fail(g->ctx, PF_EINVAL, "unknown flat-top shape %d", (int)shape);
-    size_t nn[PF_MAX_DIM], offs[PF_MAX_DIM + 1];
-    axis_layout(g, nn, offs);
     /* Per axis: u_a^2 (round) or the axis profile (box), and the phase
      * exp(-i k x0) divided by the storage factor phi/S. */
-    double *u2;
-    double complex *ph;
-    if (axis_tables(g, offs, &u2, &ph)) return pf_context_status(g->ctx);
+    axis_tables tab;
+    if (axis_tables_new(g, &tab)) return pf_context_status(g->ctx);
     for (int a = 0; a < PF_MAX_DIM; a++)
-        for (size_t j = 0; j < nn[a]; j++) {
-            size_t t = offs[a] + j;
+        for (size_t j = 0; j < tab.nn[a]; j++) {
+            size_t t = tab.offs[a] + j;
             if (a >= d) {
-                u2[t] = shape == PF_FLAT_BOX ? 1.0 : 0.0;
-                ph[t] = 1.0;
+                tab.u2[t] = shape == PF_FLAT_BOX ? 1.0 : 0.0;
+                tab.ph[t] = 1.0;
                 continue;
             }
             double u = (g->k[a][j] - wavenumber[a]) / half_width[a];
-            u2[t] = shape == PF_FLAT_BOX ? exp(-0.5 * pow(fabs(u), 2.0 * order)) : u * u;
-            ph[t] = cexp(-I * g->k[a][j] * center[a]) / g->kfactor[a][j];
+            tab.u2[t] = shape == PF_FLAT_BOX ? exp(-0.5 * pow(fabs(u), 2.0 * order)) : u * u;
+            tab.ph[t] = cexp(-I * g->k[a][j] * center[a]) / g->kfactor[a][j];
         }
     /* Normalisation in infinite k space: integral exp(-u^2p) = 2 Gamma(1 +
      * 1/2p) per axis (box); S_(d-1) Gamma(d/2p) / 2p for the round shape. */
@@ -100,23 +106,22 @@ pf_status pf_build_flat_top(pf_wave *w, const double *center, const double *wave
     /* A grid split over MPI ranks holds momentum planes of axis 1,
      * transposed (axis 1, axis 0, axis 2: pf_dist.h); one process holds
      * axis 0 first.  Each value is the same product either way. */
-    size_t first1 = 0, count1 = nn[1];
+    size_t first1 = 0, count1 = tab.nn[1];
     const int transposed = pf_grid_distributed(g);
     if (transposed) pf_grid_slab(g, PF_MOMENTUM, &first1, &count1);
-    ptrdiff_t n0 = (ptrdiff_t)(transposed ? count1 : nn[0]);
+    ptrdiff_t n0 = (ptrdiff_t)(transposed ? count1 : tab.nn[0]);
 #pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
     for (ptrdiff_t r = 0; r < n0; r++)
-        for (size_t j = 0; j < (transposed ? nn[0] : nn[1]); j++)
-            for (size_t k = 0; k < nn[2]; k++) {
+        for (size_t j = 0; j < (transposed ? tab.nn[0] : tab.nn[1]); j++)
+            for (size_t k = 0; k < tab.nn[2]; k++) {
                 size_t i0 = transposed ? j : (size_t)r, i1 = transposed ? first1 + (size_t)r : j;
-                size_t t0 = offs[0] + i0, t1 = offs[1] + i1, t2 = offs[2] + k;
-                double f = shape == PF_FLAT_BOX ? u2[t0] * u2[t1] * u2[t2]
-                                                : exp(-0.5 * pow(u2[t0] + u2[t1] + u2[t2], order));
-                size_t at = transposed ? ((size_t)r * nn[0] + j) * nn[2] + k : ((size_t)r * nn[1] + j) * nn[2] + k;
-                data[at] = norm * f * ph[t0] * ph[t1] * ph[t2];
+                size_t t0 = tab.offs[0] + i0, t1 = tab.offs[1] + i1, t2 = tab.offs[2] + k;
+                double f = shape == PF_FLAT_BOX ? tab.u2[t0] * tab.u2[t1] * tab.u2[t2]
+                                                : exp(-0.5 * pow(tab.u2[t0] + tab.u2[t1] + tab.u2[t2], order));
+                size_t at = transposed ? ((size_t)r * tab.nn[0] + j) * tab.nn[2] + k : ((size_t)r * tab.nn[1] + j) * tab.nn[2] + k;
+                data[at] = norm * f * tab.ph[t0] * tab.ph[t1] * tab.ph[t2];
             }
-    pf_context_free(g->ctx, u2);
-    pf_context_free(g->ctx, ph);
+    axis_tables_free(g, &tab);
     w->rep = PF_MOMENTUM;
     if (normalize && (s = pf_wave_normalize(w))) return s;
     pf_extent e;
@@ -142,18 +147,15 @@ pf_status pf_build_thomas_fermi(pf_wave *w, const double *center, const double *
     if (!s) s = check_axes(g->ctx, d, "Thomas-Fermi radius", radius, 1);
     if (!s) s = check_axes(g->ctx, d, "wave number", wavenumber, 0);
     if (s) return s;
-    size_t nn[PF_MAX_DIM], offs[PF_MAX_DIM + 1];
-    axis_layout(g, nn, offs);
-    double *u2;
-    double complex *ph;
-    if (axis_tables(g, offs, &u2, &ph)) return pf_context_status(g->ctx);
+    axis_tables tab;
+    if (axis_tables_new(g, &tab)) return pf_context_status(g->ctx);
     for (int a = 0; a < PF_MAX_DIM; a++)
-        for (size_t j = 0; j < nn[a]; j++) {
-            size_t t = offs[a] + j;
+        for (size_t j = 0; j < tab.nn[a]; j++) {
+            size_t t = tab.offs[a] + j;
             double dx = a < d ? g->x[a][j] - center[a] : 0.0;
             double u = a < d ? dx / radius[a] : 0.0;
-            u2[t] = u * u;
-            ph[t] = a < d ? cexp(I * wavenumber[a] * dx) : 1.0;
+            tab.u2[t] = u * u;
+            tab.ph[t] = a < d ? cexp(I * wavenumber[a] * dx) : 1.0;
         }
     /* integral of (1 - r^2)_+ over the ellipsoid: prod R * V_d * 2 / (d+2). */
     double integral = unit_ball(d) * 2.0 / (d + 2.0);
@@ -164,15 +166,14 @@ pf_status pf_build_thomas_fermi(pf_wave *w, const double *center, const double *
     ptrdiff_t n0 = (ptrdiff_t)count0;
 #pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
     for (ptrdiff_t i = 0; i < n0; i++)
-        for (size_t j = 0; j < nn[1]; j++)
-            for (size_t k = 0; k < nn[2]; k++) {
-                size_t t0 = offs[0] + first0 + (size_t)i, t1 = offs[1] + j, t2 = offs[2] + k;
-                double rest = 1.0 - u2[t0] - u2[t1] - u2[t2];
-                data[((size_t)i * nn[1] + j) * nn[2] + k] =
-                    rest > 0 ? norm * sqrt(rest) * ph[t0] * ph[t1] * ph[t2] : 0.0;
+        for (size_t j = 0; j < tab.nn[1]; j++)
+            for (size_t k = 0; k < tab.nn[2]; k++) {
+                size_t t0 = tab.offs[0] + first0 + (size_t)i, t1 = tab.offs[1] + j, t2 = tab.offs[2] + k;
+                double rest = 1.0 - tab.u2[t0] - tab.u2[t1] - tab.u2[t2];
+                data[((size_t)i * tab.nn[1] + j) * tab.nn[2] + k] =
+                    rest > 0 ? norm * sqrt(rest) * tab.ph[t0] * tab.ph[t1] * tab.ph[t2] : 0.0;
             }
-    pf_context_free(g->ctx, u2);
-    pf_context_free(g->ctx, ph);
+    axis_tables_free(g, &tab);
     w->rep = PF_POSITION;
     if (normalize && (s = pf_wave_normalize(w))) return s;
     pf_extent e;

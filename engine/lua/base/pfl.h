@@ -141,6 +141,11 @@ double pfl_field_number(lua_State *L, int t, const char *field, double def, int 
  * positive finite number is an error "fname: field 'field' must be positive
  * (unit), got ...". */
 double pfl_field_positive_opt(lua_State *L, int t, const char *field, const char *unit, const char *fname);
+/* Set field `name` of the table on top of the stack to a number, to a list
+ * of the d numbers v, or to a list of the d counts v. */
+void pfl_set_number(lua_State *L, const char *name, double v);
+void pfl_set_vector(lua_State *L, const char *name, const double *v, int d);
+void pfl_set_counts(lua_State *L, const char *name, const size_t *v, int d);
 /* Field holding one number per axis, or a single number used for all axes. */
 int pfl_field_vector(lua_State *L, int t, const char *field, int dim, double *out, int required);
 /* The same with positive = 1 requiring every value > 0 (widths, radii). */
@@ -203,6 +208,24 @@ pf_wave *pfl_wave_peek(lua_State *L, int arg);
 void pfl_add_wave_methods(lua_State *L, const luaL_Reg *methods);
 /* Adds functions to the module table, which is at stack index mod. */
 void pfl_add_functions(lua_State *L, int mod, const luaL_Reg *funcs);
+
+/* ---- userdata types (pfl_userdata.c) ---- */
+/* What a userdata type puts in its metatable and in the module. */
+typedef struct pfl_type_spec {
+    const char *type;           /* registry name of the metatable, e.g. PFL_GRID_TYPE */
+    const luaL_Reg *meta;       /* metamethods set in the metatable, or NULL */
+    const luaL_Reg *methods;    /* a new table of methods, or NULL for none */
+    const char *methods_field;  /* where that table goes; NULL means "__index" */
+    const char *guard_prefix;   /* "camera:" names the methods for the frame guard; NULL: not named */
+    const luaL_Reg *funcs;      /* functions added to the module (pfl_add_functions), or NULL */
+} pfl_type_spec;
+/* Creates (or reuses) the metatable spec->type, fills it, and adds the
+ * module functions to the table at stack index mod; the stack is unchanged. */
+void pfl_register_type(lua_State *L, int mod, const pfl_type_spec *spec);
+/* Pushes a zeroed userdata of size bytes whose own metatable holds only
+ * __gc = gc, and returns it: a core object is made after its box exists and
+ * stored in it, so no Lua error (out of memory included) can leak it. */
+void *pfl_new_gc_box(lua_State *L, size_t size, lua_CFunction gc);
 /* Fills w from the Lua function at arg over the given representation
  * (pcall per point; a failing callback re-raises its error). */
 void pfl_fill_from_function(lua_State *L, pf_wave *w, pf_rep rep, int arg, const char *name);
@@ -265,7 +288,9 @@ void pfl_open_units(lua_State *L, int mod);
 void pfl_open_build(lua_State *L, int mod);
 void pfl_open_algebra(lua_State *L, int mod);
 void pfl_open_guard(lua_State *L, int mod);      /* after pfl_open_context: wraps pf.setup */
-void pfl_open_longflight(lua_State *L, int mod);
+void pfl_open_longflight(lua_State *L, int mod); /* w:fly_long, w:fly_scaled */
+void pfl_open_farfield(lua_State *L, int mod);   /* w:far_field */
+void pfl_open_advise(lua_State *L, int mod);     /* w:grid_advice, pf.grid_advice */
 void pfl_open_params(lua_State *L, int mod);
 void pfl_open_record(lua_State *L, int mod);
 void pfl_open_files(lua_State *L, int mod);
@@ -276,6 +301,8 @@ void pfl_open_random(lua_State *L, int mod);
 void pfl_open_ensemble(lua_State *L, int mod);
 void pfl_open_measure(lua_State *L, int mod);
 void pfl_open_field(lua_State *L, int mod);
+void pfl_open_sample(lua_State *L, int mod);  /* s:sample, pf.histogram */
+void pfl_open_fringe(lua_State *L, int mod);  /* s:fringes, pf.fringes */
 void pfl_open_flux(lua_State *L, int mod);
 void pfl_open_detector(lua_State *L, int mod);
 void pfl_open_ops(lua_State *L, int mod);     /* protocol steps: pulses, masks, shifts */

@@ -104,6 +104,32 @@ double pfl_field_positive_opt(lua_State *L, int t, const char *field, const char
     return v;
 }
 
+void pfl_set_number(lua_State *L, const char *name, double v)
+{
+    lua_pushnumber(L, v);
+    lua_setfield(L, -2, name);
+}
+
+void pfl_set_vector(lua_State *L, const char *name, const double *v, int d)
+{
+    lua_createtable(L, d, 0);
+    for (int a = 0; a < d; a++) {
+        lua_pushnumber(L, v[a]);
+        lua_rawseti(L, -2, a + 1);
+    }
+    lua_setfield(L, -2, name);
+}
+
+void pfl_set_counts(lua_State *L, const char *name, const size_t *v, int d)
+{
+    lua_createtable(L, d, 0);
+    for (int a = 0; a < d; a++) {
+        lua_pushinteger(L, (lua_Integer)v[a]);
+        lua_rawseti(L, -2, a + 1);
+    }
+    lua_setfield(L, -2, name);
+}
+
 int pfl_field_vector_of(lua_State *L, int t, const char *field, int dim, double *out, int required, int positive)
 {
     char buf[80];

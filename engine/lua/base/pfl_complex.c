@@ -151,14 +151,9 @@ void pfl_open_complex(lua_State *L, int mod)
         {"complex", l_new}, {"polar", l_polar}, {"cexp", l_cexp}, {NULL, NULL},
     };
     mod = lua_absindex(L, mod);
-    luaL_newmetatable(L, PFL_COMPLEX_TYPE);
-    luaL_setfuncs(L, meta, 0);
-    luaL_newlib(L, methods);
-    lua_setfield(L, -2, "methods");
-    lua_pushliteral(L, PFL_COMPLEX_TYPE);
-    lua_setfield(L, -2, "__name");
-    lua_pop(L, 1);
-    pfl_add_functions(L, mod, funcs);
+    /* methods live under "methods": __index is l_index, which also answers .re and .im */
+    pfl_register_type(L, mod, &(pfl_type_spec){.type = PFL_COMPLEX_TYPE, .meta = meta, .methods = methods,
+                                               .methods_field = "methods", .funcs = funcs});
     pfl_push_complex(L, I);
     lua_setfield(L, mod, "i");
 }

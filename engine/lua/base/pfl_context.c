@@ -145,12 +145,7 @@ static pfl_state *get_state(lua_State *L)
         return st;
     }
     lua_pop(L, 1);
-    pfl_state *st = lua_newuserdatauv(L, sizeof *st, 0);
-    memset(st, 0, sizeof *st);
-    lua_createtable(L, 0, 1);
-    lua_pushcfunction(L, state_gc);
-    lua_setfield(L, -2, "__gc");
-    lua_setmetatable(L, -2);
+    pfl_state *st = pfl_new_gc_box(L, sizeof *st, state_gc);
     st->seed = 1;
     st->ctx = pf_context_new();
     if (!st->ctx) luaL_error(L, "psiflight: out of memory creating the engine context");

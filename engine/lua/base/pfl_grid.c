@@ -127,53 +127,44 @@ AXIS_GETTER(l_origin, pf_grid_origin)
 AXIS_GETTER(l_kspacing, pf_grid_kspacing)
 AXIS_GETTER(l_knyquist, pf_grid_knyquist)
 
+/* The coordinate of point j (0-based) along axis a: the position, or the
+ * wave number in ascending order (the grid stores k in FFT order). */
+static double axis_value(const pf_grid *g, int a, size_t j, pf_rep rep)
+{
+    return rep == PF_POSITION ? pf_grid_x(g, a, j) : pf_grid_k(g, a, pf_grid_fft_index(g, a, j));
+}
+
+/* g:x(axis, i) / g:k(axis, i): one 1-based point. */
+static int push_point(lua_State *L, pf_rep rep)
+{
+    pf_grid *g = pfl_check_grid(L, 1);
+    int a = check_axis(L, 2, g);
+    lua_Integer i = luaL_checkinteger(L, 3);
+    if (i < 1 || i > (lua_Integer)pf_grid_points(g, a)) return luaL_argerror(L, 3, "index out of range");
+    lua_pushnumber(L, axis_value(g, a, (size_t)(i - 1), rep));
+    return 1;
+}
+
+/* g:x_axis(axis) / g:k_axis(axis): the whole axis as a table. */
+static int push_axis(lua_State *L, pf_rep rep)
+{
+    pf_grid *g = pfl_check_grid(L, 1);
+    int a = check_axis(L, 2, g);
+    size_t n = pf_grid_points(g, a);
+    lua_createtable(L, (int)n, 0);
+    for (size_t j = 0; j < n; j++) {
+        lua_pushnumber(L, axis_value(g, a, j, rep));
+        lua_rawseti(L, -2, (lua_Integer)j + 1);
+    }
+    return 1;
+}
+
 /* g:x(axis, i) -> coordinate of 1-based point i. */
-static int l_x(lua_State *L)
-{
-    pf_grid *g = pfl_check_grid(L, 1);
-    int a = check_axis(L, 2, g);
-    lua_Integer i = luaL_checkinteger(L, 3);
-    if (i < 1 || i > (lua_Integer)pf_grid_points(g, a)) return luaL_argerror(L, 3, "index out of range");
-    lua_pushnumber(L, pf_grid_x(g, a, (size_t)(i - 1)));
-    return 1;
-}
-
+static int l_x(lua_State *L) { return push_point(L, PF_POSITION); }
 /* g:k(axis, i) -> wave number of 1-based point i in ascending order. */
-static int l_k(lua_State *L)
-{
-    pf_grid *g = pfl_check_grid(L, 1);
-    int a = check_axis(L, 2, g);
-    lua_Integer i = luaL_checkinteger(L, 3);
-    if (i < 1 || i > (lua_Integer)pf_grid_points(g, a)) return luaL_argerror(L, 3, "index out of range");
-    lua_pushnumber(L, pf_grid_k(g, a, pf_grid_fft_index(g, a, (size_t)(i - 1))));
-    return 1;
-}
-
-static int l_x_axis(lua_State *L)
-{
-    pf_grid *g = pfl_check_grid(L, 1);
-    int a = check_axis(L, 2, g);
-    size_t n = pf_grid_points(g, a);
-    lua_createtable(L, (int)n, 0);
-    for (size_t j = 0; j < n; j++) {
-        lua_pushnumber(L, pf_grid_x(g, a, j));
-        lua_rawseti(L, -2, (lua_Integer)j + 1);
-    }
-    return 1;
-}
-
-static int l_k_axis(lua_State *L)
-{
-    pf_grid *g = pfl_check_grid(L, 1);
-    int a = check_axis(L, 2, g);
-    size_t n = pf_grid_points(g, a);
-    lua_createtable(L, (int)n, 0);
-    for (size_t j = 0; j < n; j++) {
-        lua_pushnumber(L, pf_grid_k(g, a, pf_grid_fft_index(g, a, j)));
-        lua_rawseti(L, -2, (lua_Integer)j + 1);
-    }
-    return 1;
-}
+static int l_k(lua_State *L) { return push_point(L, PF_MOMENTUM); }
+static int l_x_axis(lua_State *L) { return push_axis(L, PF_POSITION); }
+static int l_k_axis(lua_State *L) { return push_axis(L, PF_MOMENTUM); }
 
 /* Releases the core reference; harmless the second time (shared by __gc,
  * __close and close). */
@@ -222,10 +213,5 @@ void pfl_open_grid(lua_State *L, int mod)
     static const luaL_Reg funcs[] = {{"grid", l_grid}, {NULL, NULL}};
     static const pfl_options_decl *const options[] = {&GRID_OPTIONS, NULL};
     pfl_options_declare(L, options);
-    luaL_newmetatable(L, PFL_GRID_TYPE);
-    luaL_setfuncs(L, meta, 0);
-    luaL_newlib(L, methods);
-    lua_setfield(L, -2, "__index");
-    lua_pop(L, 1);
-    pfl_add_functions(L, mod, funcs);
+    pfl_register_type(L, mod, &(pfl_type_spec){.type = PFL_GRID_TYPE, .meta = meta, .methods = methods, .funcs = funcs});
 }

@@ -20,6 +20,8 @@ static const pfl_opener openers[] = {
     pfl_open_algebra,
     pfl_open_guard,
     pfl_open_longflight,
+    pfl_open_farfield,
+    pfl_open_advise,
     pfl_open_params,
     pfl_open_record,
     pfl_open_files,
@@ -29,6 +31,8 @@ static const pfl_opener openers[] = {
     pfl_open_ensemble, /* before the measurement groups, which add to it */
     pfl_open_measure,
     pfl_open_field,
+    pfl_open_sample,
+    pfl_open_fringe,
     pfl_open_flux,
     pfl_open_detector,
     pfl_open_ops,

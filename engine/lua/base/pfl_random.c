@@ -113,14 +113,9 @@ void pfl_open_random(lua_State *L, int mod)
     static const luaL_Reg methods[] = {
         {"uniform", l_uniform}, {"normal", l_normal}, {"poisson", l_poisson}, {"raw", l_raw}, {NULL, NULL},
     };
+    static const luaL_Reg meta[] = {{"__tostring", l_tostring}, {NULL, NULL}};
     static const luaL_Reg funcs[] = {{"random", l_random}, {NULL, NULL}};
-    luaL_newmetatable(L, PFL_RANDOM_TYPE);
-    lua_pushcfunction(L, l_tostring);
-    lua_setfield(L, -2, "__tostring");
-    luaL_newlib(L, methods);
-    lua_setfield(L, -2, "__index");
-    lua_pop(L, 1);
-    pfl_add_functions(L, mod, funcs);
+    pfl_register_type(L, mod, &(pfl_type_spec){.type = PFL_RANDOM_TYPE, .meta = meta, .methods = methods, .funcs = funcs});
     static const pfl_options_decl *const options[] = {&RANDOM_OPTIONS, NULL};
     pfl_options_declare(L, options);
 }

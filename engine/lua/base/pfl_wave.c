@@ -331,11 +331,6 @@ void pfl_open_wave(lua_State *L, int mod)
     static const luaL_Reg funcs[] = {{"wave", l_wave}, {NULL, NULL}};
     static const pfl_options_decl *const options[] = {&WAVE_OPTIONS, NULL};
     pfl_options_declare(L, options);
-    luaL_newmetatable(L, PFL_WAVE_TYPE);
-    luaL_setfuncs(L, meta, 0);
-    luaL_newlib(L, methods);
-    lua_setfield(L, -2, "__index");
-    lua_pop(L, 1);
-    pfl_frame_name_functions(L, "wave:", methods);
-    pfl_add_functions(L, mod, funcs);
+    pfl_register_type(L, mod, &(pfl_type_spec){.type = PFL_WAVE_TYPE, .meta = meta, .methods = methods,
+                                               .guard_prefix = "wave:", .funcs = funcs});
 }

@@ -50,12 +50,7 @@ static file_policy *get_policy(lua_State *L, int create)
     }
     lua_pop(L, 1);
     if (!create) return NULL;
-    file_policy *p = lua_newuserdatauv(L, sizeof *p, 0);
-    memset(p, 0, sizeof *p);
-    lua_createtable(L, 0, 1);
-    lua_pushcfunction(L, policy_gc);
-    lua_setfield(L, -2, "__gc");
-    lua_setmetatable(L, -2);
+    file_policy *p = pfl_new_gc_box(L, sizeof *p, policy_gc);
     lua_rawsetp(L, LUA_REGISTRYINDEX, &POLICY_KEY);
     return p;
 }

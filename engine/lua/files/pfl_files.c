@@ -406,12 +406,7 @@ static int table_box_gc(lua_State *L)
 
 static pf_table *new_table_box(lua_State *L)
 {
-    table_box *b = lua_newuserdatauv(L, sizeof *b, 0);
-    memset(b, 0, sizeof *b);
-    lua_createtable(L, 0, 1);
-    lua_pushcfunction(L, table_box_gc);
-    lua_setfield(L, -2, "__gc");
-    lua_setmetatable(L, -2);
+    table_box *b = pfl_new_gc_box(L, sizeof *b, table_box_gc);
     return &b->t;
 }
 
@@ -550,12 +545,7 @@ static int l_load_wave(lua_State *L)
         lua_replace(L, 2);
     }
     pfl_options_check(L, 2, &LOAD_WAVE_OPTIONS);
-    samples_box *sb = lua_newuserdatauv(L, sizeof *sb, 0);
-    memset(sb, 0, sizeof *sb);
-    lua_createtable(L, 0, 1);
-    lua_pushcfunction(L, samples_box_gc);
-    lua_setfield(L, -2, "__gc");
-    lua_setmetatable(L, -2);
+    samples_box *sb = pfl_new_gc_box(L, sizeof *sb, samples_box_gc);
     pf_samples *s = &sb->s;
     pf_h5_source dist_src = {0}; /* slab_count 1: read again for this rank's share */
     int csv = ends_with(path, ".csv") || ends_with(path, ".CSV") || ends_with(path, ".txt");
@@ -692,13 +682,8 @@ void pfl_open_files(lua_State *L, int mod)
         {"h5file", l_h5file}, {"write_csv", l_write_csv}, {"read_csv", l_read_csv}, {"load_wave", l_load_wave},
         {NULL, NULL},
     };
-    luaL_newmetatable(L, PFL_H5_TYPE);
-    luaL_setfuncs(L, meta, 0);
-    luaL_newlib(L, methods);
-    lua_setfield(L, -2, "__index");
-    lua_pop(L, 1);
-    pfl_frame_name_functions(L, "h5file:", methods); /* for the guards' names (pfl_aware.c) */
-    pfl_add_functions(L, mod, funcs);
+    pfl_register_type(L, mod, &(pfl_type_spec){.type = PFL_H5_TYPE, .meta = meta, .methods = methods,
+                                               .guard_prefix = "h5file:", .funcs = funcs}); /* names: pfl_aware.c */
     static const pfl_options_decl *const options[] = {&H5FILE_OPTIONS, &PUT_WAVE_OPTIONS, &PUT_IMAGE_OPTIONS, &WRITE_CSV_OPTIONS, &WRITE_CSV_COLUMN, &PUT_TABLE_COLUMN,
                                                       &LOAD_WAVE_OPTIONS, NULL};
     pfl_options_declare(L, options);

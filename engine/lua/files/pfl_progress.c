@@ -46,10 +46,5 @@ void pfl_open_progress(lua_State *L, int mod)
     static const luaL_Reg methods[] = {{"advance", l_advance}, {"finish", l_finish}, {"shown", l_shown}, {NULL, NULL}};
     static const luaL_Reg meta[] = {{"__gc", l_finish}, {"__close", l_finish}, {NULL, NULL}};
     static const luaL_Reg funcs[] = {{"progress", l_progress}, {NULL, NULL}};
-    luaL_newmetatable(L, PFL_PROGRESS_TYPE);
-    luaL_setfuncs(L, meta, 0);
-    luaL_newlib(L, methods);
-    lua_setfield(L, -2, "__index");
-    lua_pop(L, 1);
-    pfl_add_functions(L, mod, funcs);
+    pfl_register_type(L, mod, &(pfl_type_spec){.type = PFL_PROGRESS_TYPE, .meta = meta, .methods = methods, .funcs = funcs});
 }

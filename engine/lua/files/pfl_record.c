@@ -73,13 +73,8 @@ static pfl_record *get_record(lua_State *L)
         return r;
     }
     lua_pop(L, 1);
-    pfl_record *r = lua_newuserdatauv(L, sizeof *r, 0);
-    memset(r, 0, sizeof *r);
+    pfl_record *r = pfl_new_gc_box(L, sizeof *r, record_gc);
     r->edge_x = r->edge_k = -1;
-    lua_createtable(L, 0, 1);
-    lua_pushcfunction(L, record_gc);
-    lua_setfield(L, -2, "__gc");
-    lua_setmetatable(L, -2);
     lua_rawsetp(L, LUA_REGISTRYINDEX, &RECORD_KEY);
     return r;
 }

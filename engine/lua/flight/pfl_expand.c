@@ -38,22 +38,6 @@ static pf_expand_scaling check_scaling(lua_State *L, int t)
     return PF_SCALING_CASTIN_DUM;
 }
 
-static void set_vector(lua_State *L, const char *k, const double *v, int d)
-{
-    lua_createtable(L, d, 0);
-    for (int a = 0; a < d; a++) {
-        lua_pushnumber(L, v[a]);
-        lua_rawseti(L, -2, a + 1);
-    }
-    lua_setfield(L, -2, k);
-}
-
-static void set_number(lua_State *L, const char *k, double v)
-{
-    lua_pushnumber(L, v);
-    lua_setfield(L, -2, k);
-}
-
 /* w:expand(t, {g = J m^d, omega = rad/s | frequency = Hz (one per axis or one
  *              for all; absent: from the state), scaling = "castin-dum" |
  *              "ballistic" | "fixed", steps = n, order = 2 | 4,
@@ -101,15 +85,15 @@ static int l_expand(lua_State *L)
     pfl_check(L, pf_wave_expand(w, t, &sp, &info), "expand");
     lua_settop(L, 1);
     lua_createtable(L, 0, 10);
-    set_number(L, "steps", (double)info.steps);
+    pfl_set_number(L, "steps", (double)info.steps);
     lua_pushboolean(L, info.handed_over);
     lua_setfield(L, -2, "handed_over");
-    if (info.handed_over) set_number(L, "handover_time", info.handover_time);
-    set_number(L, "interaction_fraction", info.interaction_fraction);
-    set_number(L, "energy", info.energy);
-    set_vector(L, "omega", info.omega, d);
-    set_vector(L, "lambda", info.lambda, d);
-    set_vector(L, "rate", info.rate, d);
+    if (info.handed_over) pfl_set_number(L, "handover_time", info.handover_time);
+    pfl_set_number(L, "interaction_fraction", info.interaction_fraction);
+    pfl_set_number(L, "energy", info.energy);
+    pfl_set_vector(L, "omega", info.omega, d);
+    pfl_set_vector(L, "lambda", info.lambda, d);
+    pfl_set_vector(L, "rate", info.rate, d);
     lua_pushboolean(L, info.continued);
     lua_setfield(L, -2, "continued");
     lua_pushstring(L, pf_expand_scaling_name(sp.scaling));

@@ -233,14 +233,9 @@ void pfl_open_detector(lua_State *L, int mod)
     static const luaL_Reg funcs[] = {
         {"camera", l_camera}, {"resonant_cross_section", l_resonant_cross_section}, {NULL, NULL},
     };
-    luaL_newmetatable(L, PFL_CAMERA_TYPE);
-    lua_pushcfunction(L, l_tostring);
-    lua_setfield(L, -2, "__tostring");
-    luaL_newlib(L, methods);
-    lua_setfield(L, -2, "__index");
-    lua_pop(L, 1);
-    pfl_frame_name_functions(L, "camera:", methods); /* for the guards' names (pfl_aware.c) */
-    pfl_add_functions(L, mod, funcs);
+    static const luaL_Reg meta[] = {{"__tostring", l_tostring}, {NULL, NULL}};
+    pfl_register_type(L, mod, &(pfl_type_spec){.type = PFL_CAMERA_TYPE, .meta = meta, .methods = methods,
+                                               .guard_prefix = "camera:", .funcs = funcs}); /* names: pfl_aware.c */
     static const pfl_options_decl *const options[] = {&CAMERA_OPTIONS, &EXPOSE_OPTIONS, &ABSORB_OPTIONS, NULL};
     pfl_options_declare(L, options);
 }

@@ -179,7 +179,6 @@ void pfl_add_state_methods(lua_State *L, const luaL_Reg *methods)
     lua_pop(L, 2);
 }
 
-/* pf.mixture({w1, w2, ...} [, {p1, p2, ...}]) - members are copied. */
 /* Per member of a thermal build: the stop check, and the progress of the
  * build (reported ended before a stop raises, so no bar is left open). */
 static void member_progress(lua_State *L, size_t i, size_t count)
@@ -189,6 +188,37 @@ static void member_progress(lua_State *L, size_t i, size_t count)
     pfl_check(L, s, "thermal");
 }
 
+/* The member and weight lists of a thermal build of count members, pushed
+ * on the stack; their stack indices in *mt and *wt. */
+static void push_member_lists(lua_State *L, size_t count, int *mt, int *wt)
+{
+    lua_createtable(L, (int)count, 0);
+    *mt = lua_gettop(L);
+    lua_createtable(L, (int)count, 0);
+    *wt = lua_gettop(L);
+}
+
+/* Member i of a thermal build: a new (empty) wave on g, pushed.  Members
+ * are built one wave at a time: a stop request is honoured between them
+ * (everything built so far is on the Lua stack). */
+static pf_wave *push_member(lua_State *L, pf_grid *g, double mass, size_t i, size_t count)
+{
+    member_progress(L, i, count);
+    pf_wave **slot = pfl_push_wave_slot(L);
+    pfl_check(L, pf_wave_new(g, mass, slot), "thermal");
+    return *slot;
+}
+
+/* Moves the filled member on top of the stack into the lists as entry i,
+ * with its weight. */
+static void store_member(lua_State *L, int mt, int wt, size_t i, double weight)
+{
+    lua_seti(L, mt, (lua_Integer)i + 1);
+    lua_pushnumber(L, weight);
+    lua_seti(L, wt, (lua_Integer)i + 1);
+}
+
+/* pf.mixture({w1, w2, ...} [, {p1, p2, ...}]) - members are copied. */
 static int l_mixture(lua_State *L)
 {
     luaL_checktype(L, 1, LUA_TTABLE);
@@ -277,22 +307,12 @@ static int thermal_eigenstates(lua_State *L, pf_grid *g, const pf_thermal_spec *
     int d = sp->dim;
     double k0[PF_MAX_DIM] = {0, 0, 0};
     for (int a = 0; a < d; a++) k0[a] = sp->mass * drift[a] / PF_HBAR;
-    lua_createtable(L, (int)count, 0);
-    int mt = lua_gettop(L);
-    lua_createtable(L, (int)count, 0);
-    int wt = lua_gettop(L);
+    int mt, wt;
+    push_member_lists(L, count, &mt, &wt);
     for (size_t i = 0; i < count; i++) {
-        pf_wave *w;
-        /* Members are built one wave at a time: a stop request is honoured
-         * between them (everything built so far is on the Lua stack). */
-        member_progress(L, i, count);
-        pf_wave **slot = pfl_push_wave_slot(L);
-        pfl_check(L, pf_wave_new(g, sp->mass, slot), "thermal");
-        w = *slot;
+        pf_wave *w = push_member(L, g, sp->mass, i, count);
         pfl_check(L, pf_build_oscillator(w, sp->omega, held[i].n, center, k0, 1), "thermal");
-        lua_seti(L, mt, (lua_Integer)i + 1);
-        lua_pushnumber(L, held[i].weight);
-        lua_seti(L, wt, (lua_Integer)i + 1);
+        store_member(L, mt, wt, i, held[i].weight);
     }
     push_ensemble(L, mt, wt);
     pfl_check(L, PF_OK, "thermal");
@@ -357,22 +377,12 @@ static int l_thermal(lua_State *L)
     double s0[PF_MAX_DIM];
     for (int a = 0; a < d; a++) s0[a] = pf_thermal_sigma0(sp.mass, sp.omega[a]);
     thermal_guard(g, held, count, s0, center);
-    lua_createtable(L, (int)count, 0);
-    int mt = lua_gettop(L);
-    lua_createtable(L, (int)count, 0);
-    int wt = lua_gettop(L);
+    int mt, wt;
+    push_member_lists(L, count, &mt, &wt);
     for (size_t i = 0; i < count; i++) {
-        pf_wave *w;
-        /* Members are built one wave at a time: a stop request is honoured
-         * between them (everything built so far is on the Lua stack). */
-        member_progress(L, i, count);
-        pf_wave **slot = pfl_push_wave_slot(L);
-        pfl_check(L, pf_wave_new(g, sp.mass, slot), "thermal");
-        w = *slot;
+        pf_wave *w = push_member(L, g, sp.mass, i, count);
         pfl_check(L, pf_wave_fill_coherent(w, center, s0, held[i].shift, held[i].kmean), "thermal");
-        lua_seti(L, mt, (lua_Integer)i + 1);
-        lua_pushnumber(L, held[i].weight);
-        lua_seti(L, wt, (lua_Integer)i + 1);
+        store_member(L, mt, wt, i, held[i].weight);
     }
     push_ensemble(L, mt, wt);
     pfl_check(L, PF_OK, "thermal");
@@ -386,25 +396,20 @@ static int l_count(lua_State *L)
     return 1;
 }
 
-static int l_member(lua_State *L)
+/* Entry i (argument 2, 1-based) of the ensemble's list in user value
+ * 'list': 1 the members, 2 the weights. */
+static int push_entry(lua_State *L, int list)
 {
     check_ens(L, 1);
     lua_Integer i = luaL_checkinteger(L, 2), n = ens_count(L, 1);
     if (i < 1 || i > n) return luaL_argerror(L, 2, lua_pushfstring(L, "member index must be 1..%d", (int)n));
-    lua_getiuservalue(L, 1, 1);
+    lua_getiuservalue(L, 1, list);
     lua_geti(L, -1, i);
     return 1;
 }
 
-static int l_weight(lua_State *L)
-{
-    check_ens(L, 1);
-    lua_Integer i = luaL_checkinteger(L, 2), n = ens_count(L, 1);
-    if (i < 1 || i > n) return luaL_argerror(L, 2, lua_pushfstring(L, "member index must be 1..%d", (int)n));
-    lua_getiuservalue(L, 1, 2);
-    lua_geti(L, -1, i);
-    return 1;
-}
+static int l_member(lua_State *L) { return push_entry(L, 1); }
+static int l_weight(lua_State *L) { return push_entry(L, 2); }
 
 static int l_weights(lua_State *L)
 {
@@ -659,13 +664,10 @@ void pfl_open_ensemble(lua_State *L, int mod)
         {"__gc", l_gc}, {"__close", l_close}, {"__tostring", l_tostring}, {"__index", ens_index}, {NULL, NULL},
     };
     static const luaL_Reg funcs[] = {{"mixture", l_mixture}, {"thermal", l_thermal}, {NULL, NULL}};
-    luaL_newmetatable(L, PFL_ENSEMBLE_TYPE);
-    luaL_setfuncs(L, meta, 0);
-    luaL_newlib(L, methods);
-    lua_setfield(L, -2, "methods");
-    lua_pop(L, 1);
-    pfl_frame_name_functions(L, "ensemble:", methods); /* for the guards' names (pfl_aware.c) */
-    pfl_add_functions(L, mod, funcs);
+    /* methods live under "methods": __index is ens_index, which forwards wave methods too */
+    pfl_register_type(L, mod, &(pfl_type_spec){.type = PFL_ENSEMBLE_TYPE, .meta = meta, .methods = methods,
+                                               .methods_field = "methods", .guard_prefix = "ensemble:",
+                                               .funcs = funcs}); /* names: pfl_aware.c */
     static const pfl_options_decl *const options[] = {&THERMAL_OPTIONS, NULL};
     pfl_options_declare(L, options);
 }

@@ -136,14 +136,15 @@ static int l_arrival_times(lua_State *L)
      * cloud falls in its frame (pf_frame.h). */
     double accel[PF_MAX_DIM];
     int accelerated = pfl_frame_acceleration(L, 2, pf_grid_dim(pfl_source_grid(&src)), accel, "arrival_times");
+    const pf_arrival_window window = {axis, at, t0, dt, n};
     double *acc = lua_newuserdatauv(L, 2 * n * sizeof(double), 0), *one = acc + n;
     memset(acc, 0, n * sizeof(double));
     for (size_t i = 0; i < src.mix.count; i++) {
         pf_wave *m = src.mix.members[i];
         if (accelerated || pf_wave_frame_moved(m))
-            pfl_check(L, pf_wave_lab_arrival(m, accelerated ? accel : NULL, axis, at, t0, dt, n, one), "arrival_times");
+            pfl_check(L, pf_wave_lab_arrival(m, accelerated ? accel : NULL, &window, one), "arrival_times");
         else
-            pfl_check(L, pf_wave_arrival(m, axis, at, t0, dt, n, one), "arrival_times");
+            pfl_check(L, pf_wave_arrival(m, &window, one), "arrival_times");
         for (size_t k = 0; k < n; k++) acc[k] += src.mix.weights[i] * one[k];
     }
     lua_createtable(L, 0, 6);

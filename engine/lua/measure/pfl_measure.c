@@ -159,13 +159,31 @@ static int region_vector(lua_State *L, int t, const char *field, double *out, co
     return n;
 }
 
+/* Two vector fields that must have the same length (a box's corners, a
+ * half-space's point and normal); returns that length. */
+static int region_vector_pair(lua_State *L, const char *first, double *out1, const char *second, double *out2,
+                              const char *fname)
+{
+    int n1 = region_vector(L, 1, first, out1, fname), n2 = region_vector(L, 1, second, out2, fname);
+    if (n1 != n2) luaL_error(L, "%s: '%s' and '%s' must have the same number of entries", fname, first, second);
+    return n1;
+}
+
+/* The new region on top of the stack keeps the number of axes its vectors
+ * gave (user value 1); returns 1, the region. */
+static int region_done(lua_State *L, int axes)
+{
+    lua_pushinteger(L, axes);
+    lua_setiuservalue(L, -2, 1);
+    return 1;
+}
+
 /* pf.box{min = {..}, max = {..}} (m) */
 static int l_box(lua_State *L)
 {
     pfl_options_check(L, 1, &BOX_OPTIONS);
     pfl_region_box *b = new_region(L, PF_REGION_BOX);
-    int n1 = region_vector(L, 1, "min", b->r.lo, "box"), n2 = region_vector(L, 1, "max", b->r.hi, "box");
-    if (n1 != n2) return luaL_error(L, "box: 'min' and 'max' must have the same number of entries");
+    int n1 = region_vector_pair(L, "min", b->r.lo, "max", b->r.hi, "box");
     for (int a = 0; a < n1; a++)
         if (b->r.lo[a] > b->r.hi[a]) return luaL_error(L, "box: min > max on axis %d (%f > %f)", a + 1, b->r.lo[a], b->r.hi[a]);
     /* Axes not given are unbounded. */
@@ -173,9 +191,7 @@ static int l_box(lua_State *L)
         b->r.lo[a] = -INFINITY;
         b->r.hi[a] = INFINITY;
     }
-    lua_pushinteger(L, n1);
-    lua_setiuservalue(L, -2, 1);
-    return 1;
+    return region_done(L, n1);
 }
 
 /* pf.half_space{point = {..}, normal = {..}} - the side the normal points to. */
@@ -183,15 +199,11 @@ static int l_half_space(lua_State *L)
 {
     pfl_options_check(L, 1, &HALF_SPACE_OPTIONS);
     pfl_region_box *b = new_region(L, PF_REGION_HALF_SPACE);
-    int n1 = region_vector(L, 1, "point", b->r.point, "half_space");
-    int n2 = region_vector(L, 1, "normal", b->r.normal, "half_space");
-    if (n1 != n2) return luaL_error(L, "half_space: 'point' and 'normal' must have the same number of entries");
+    int n1 = region_vector_pair(L, "point", b->r.point, "normal", b->r.normal, "half_space");
     double nn = 0;
     for (int a = 0; a < n1; a++) nn += b->r.normal[a] * b->r.normal[a];
     if (!(nn > 0)) return luaL_error(L, "half_space: 'normal' must not be zero");
-    lua_pushinteger(L, n1);
-    lua_setiuservalue(L, -2, 1);
-    return 1;
+    return region_done(L, n1);
 }
 
 /* pf.ball{center = {..}, radius = r} (m) */
@@ -202,9 +214,7 @@ static int l_ball(lua_State *L)
     int n = region_vector(L, 1, "center", b->r.point, "ball");
     b->r.radius = pfl_field_number(L, 1, "radius", 0, 1);
     if (!(b->r.radius > 0)) return luaL_error(L, "ball: field 'radius' must be positive (m), got %f", b->r.radius);
-    lua_pushinteger(L, n);
-    lua_setiuservalue(L, -2, 1);
-    return 1;
+    return region_done(L, n);
 }
 
 /* pf.mask(f) with f(x[, y, z]) -> weight in [0, 1], or pf.mask{w1, w2, ...}
@@ -584,12 +594,9 @@ void pfl_open_measure(lua_State *L, int mod)
     static const luaL_Reg funcs[] = {
         {"box", l_box}, {"half_space", l_half_space}, {"ball", l_ball}, {"mask", l_mask}, {NULL, NULL},
     };
-    luaL_newmetatable(L, PFL_REGION_TYPE);
-    lua_pushcfunction(L, region_gc);
-    lua_setfield(L, -2, "__gc");
-    lua_pushcfunction(L, region_tostring);
-    lua_setfield(L, -2, "__tostring");
-    lua_pop(L, 1);
+    static const luaL_Reg region_meta[] = {{"__gc", region_gc}, {"__tostring", region_tostring}, {NULL, NULL}};
+    /* a region has no methods; its module functions come after the method groups below */
+    pfl_register_type(L, mod, &(pfl_type_spec){.type = PFL_REGION_TYPE, .meta = region_meta});
     pfl_add_state_methods(L, state_methods);
     pfl_add_wave_methods(L, wave_methods);
     pfl_add_functions(L, mod, funcs);

@@ -812,18 +812,9 @@ void pfl_open_levels(lua_State *L, int mod)
         {"energy", l_energy}, {"clock", l_clock},   {"norm", l_norm},     {"close", l_close},
         {NULL, NULL},
     };
+    static const luaL_Reg meta[] = {{"__tostring", l_tostring}, {"__close", l_close}, {"__gc", l_close}, {NULL, NULL}};
     static const luaL_Reg funcs[] = {{"levels", l_levels}, {NULL, NULL}};
-    luaL_newmetatable(L, PFL_LEVELS_TYPE);
-    lua_pushcfunction(L, l_tostring);
-    lua_setfield(L, -2, "__tostring");
-    lua_pushcfunction(L, l_close);
-    lua_setfield(L, -2, "__close");
-    lua_pushcfunction(L, l_close);
-    lua_setfield(L, -2, "__gc");
-    luaL_newlib(L, methods);
-    lua_setfield(L, -2, "__index");
-    lua_pop(L, 1);
-    pfl_add_functions(L, mod, funcs);
+    pfl_register_type(L, mod, &(pfl_type_spec){.type = PFL_LEVELS_TYPE, .meta = meta, .methods = methods, .funcs = funcs});
     static const pfl_options_decl *const options[] = {&LEVELS_OPTIONS, &PULSE_OPTIONS, &BRAGG_OPTIONS, &FLY_OPTIONS,
                                                       &ORDERS_OPTIONS, &SAMPLE_OPTIONS, &EVOLVE_OPTIONS, NULL};
     pfl_options_declare(L, options);

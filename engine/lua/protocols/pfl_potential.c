@@ -242,10 +242,5 @@ void pfl_register_potential(lua_State *L, int mod)
     static const luaL_Reg methods[] = {{"close", l_close}, {"range", l_range}, {"cache_status", l_cache_status}, {NULL, NULL}};
     static const luaL_Reg meta[] = {{"__gc", l_close}, {"__close", l_close}, {"__tostring", l_tostring}, {NULL, NULL}};
     static const luaL_Reg funcs[] = {{"potential", l_potential}, {NULL, NULL}};
-    luaL_newmetatable(L, PFL_POTENTIAL_TYPE);
-    luaL_setfuncs(L, meta, 0);
-    luaL_newlib(L, methods);
-    lua_setfield(L, -2, "__index");
-    lua_pop(L, 1);
-    pfl_add_functions(L, mod, funcs);
+    pfl_register_type(L, mod, &(pfl_type_spec){.type = PFL_POTENTIAL_TYPE, .meta = meta, .methods = methods, .funcs = funcs});
 }

@@ -127,11 +127,4 @@ double *pfl_tilt_values(lua_State *L, pf_wave *w, const double *acc, int acceler
  * left on the stack. */
 const double *pfl_tilted_static(lua_State *L, const double *V, const double *T, size_t n);
 
-/* Sets field k of the table on top of the stack to the number v. */
-static inline void pfl_set_number(lua_State *L, const char *k, double v)
-{
-    lua_pushnumber(L, v);
-    lua_setfield(L, -2, k);
-}
-
 #endif

@@ -49,14 +49,10 @@ static int l_coupling(lua_State *L)
     pf_coupling_result r;
     pfl_check(L, pf_coupling_compute(pfl_ctx(L), &s, &r), "coupling");
     lua_createtable(L, 0, 6);
-    lua_pushnumber(L, r.g);
-    lua_setfield(L, -2, "g");
-    lua_pushnumber(L, r.g_one_atom);
-    lua_setfield(L, -2, "g_one_atom");
-    lua_pushnumber(L, r.confinement_length);
-    lua_setfield(L, -2, "confinement_length");
-    lua_pushnumber(L, r.correction);
-    lua_setfield(L, -2, "correction");
+    pfl_set_number(L, "g", r.g);
+    pfl_set_number(L, "g_one_atom", r.g_one_atom);
+    pfl_set_number(L, "confinement_length", r.confinement_length);
+    pfl_set_number(L, "correction", r.correction);
     lua_pushinteger(L, s.dim);
     lua_setfield(L, -2, "dim");
     lua_pushstring(L, s.dim == 1 ? "J m" : s.dim == 2 ? "J m^2" : "J m^3");

@@ -6,6 +6,7 @@
 #include "pft.h"
 #include "pf_flight.h"
 #include "pf_flux.h"
+#include "pf_frame.h"
 #include "pf_guard.h"
 #include "pf_observe.h"
 
@@ -129,7 +130,7 @@ static void arrival_vs_analytic(void **state)
     enum { NT = 2001 };
     double t0 = 0, t1 = 40e-3, dt = (t1 - t0) / (NT - 1);
     double *J = malloc(NT * sizeof *J);
-    pft_ok(pf_wave_arrival(w, 0, p.L, t0, dt, NT, J));
+    pft_ok(pf_wave_arrival(w, &(pf_arrival_window){0, p.L, t0, dt, NT}, J));
     double peak = 0, worst = 0;
     for (int k = 0; k < NT; k++) peak = fmax(peak, fabs(analytic_flux(t0 + k * dt, &p)));
     for (int k = 0; k < NT; k++) worst = fmax(worst, fabs(J[k] - analytic_flux(t0 + k * dt, &p)));
@@ -218,6 +219,29 @@ static void plane_outside_grid_fails(void **state)
     pf_context_release(ctx);
 }
 
+/* The one arrival window (pf_arrival_window) is checked the same way by
+ * the grid-plane and the lab-plane arrival series: a step that is not
+ * positive or an empty window is refused with a message, before any flight. */
+static void arrival_window_refused(void **state)
+{
+    (void)state;
+    pf_context *ctx = pft_context();
+    packet p;
+    pf_wave *w = moving_packet(ctx, &p);
+    double J[4];
+    const pf_arrival_window no_step = {0, p.L, 0.0, 0.0, 4}, empty = {0, p.L, 0.0, 1e-3, 0};
+    assert_int_equal(pf_wave_arrival(w, &no_step, J), PF_EINVAL);
+    assert_non_null(strstr(pf_context_message(ctx), "positive step"));
+    assert_int_equal(pf_wave_lab_arrival(w, NULL, &no_step, J), PF_EINVAL);
+    assert_non_null(strstr(pf_context_message(ctx), "positive step"));
+    assert_int_equal(pf_wave_arrival(w, &empty, J), PF_EINVAL);
+    assert_non_null(strstr(pf_context_message(ctx), "at least one time"));
+    assert_int_equal(pf_wave_lab_arrival(w, NULL, &empty, J), PF_EINVAL);
+    assert_non_null(strstr(pf_context_message(ctx), "at least one time"));
+    pf_wave_free(w);
+    pf_context_release(ctx);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -226,6 +250,7 @@ int main(void)
         cmocka_unit_test(arrival_vs_analytic),
         cmocka_unit_test(nyquist_content),
         cmocka_unit_test(plane_outside_grid_fails),
+        cmocka_unit_test(arrival_window_refused),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
