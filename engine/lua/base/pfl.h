@@ -235,6 +235,15 @@ typedef struct pfl_type_spec {
 /* Creates (or reuses) the metatable spec->type, fills it, and adds the
  * module functions to the table at stack index mod; the stack is unchanged. */
 void pfl_register_type(lua_State *L, int mod, const pfl_type_spec *spec);
+/* A method spelling the API no longer uses, and the one it uses instead. */
+typedef struct pfl_renamed {
+    const char *refused, *kept;
+} pfl_renamed;
+/* Makes the refused names (list ended by {NULL, NULL}) of type's methods
+ * table (its __index) errors that name the kept spelling, at the script
+ * line: "wave:overlap is now wave:inner".  One spelling per concept, as the
+ * options checker's refused keys; other missing names stay nil. */
+void pfl_refuse_methods(lua_State *L, const char *type, const char *prefix, const pfl_renamed *renamed);
 /* Pushes a zeroed userdata of size bytes whose own metatable holds only
  * __gc = gc, and returns it: a core object is made after its box exists and
  * stored in it, so no Lua error (out of memory included) can leak it. */
