@@ -152,7 +152,6 @@ return {
     ["wave:log_columns"] = {"", "table", "the step log as columns (step, kind, ...) for tables and files"},
     ["wave:add"] = {"other: psiflight.wave, factor?: number|psiflight.complex", W, "adds in place: w <- w + factor * other"},
     ["wave:inner"] = {"other: psiflight.wave", C, "<w|other>"},
-    ["wave:overlap"] = {"other: psiflight.wave", C, "<w|other>, the same as inner"},
     ["wave:fidelity"] = {"other: psiflight.wave", "number", "|<w|other>|^2 / (<w|w><other|other>)"},
     ["wave:position_momentum_covariance"] = {"", "table",
       "d x d table C[a][b] = <(x_a p_b + p_b x_a)/2> - <x_a><p_b> (m kg m/s)"},

@@ -183,6 +183,10 @@ do
   check.equal(w1:frame().moved, false, "pf.setup{acceleration = false} clears the default")
   check.fails(function() pf.setup{acceleration = {0, "down"}} end, "setup acceleration entry checked",
     "field 'acceleration' entry 2 must be a finite number")
+  check.fails(function() pf.setup{acceleration = {0, 0, -9.8, 0}} end, "setup acceleration: at most 3 axes",
+    "pf.setup: field 'acceleration' must have 1 to 3 entries (one per axis), got 4")
+  check.fails(function() pf.setup{acceleration = {}} end, "setup acceleration: at least 1 axis",
+    "must have 1 to 3 entries (one per axis), got 0")
   check.fails(function() w1:fly(1e-3, {acceleration = {1, 2}}) end, "fly acceleration per axis", "need 1 values")
 end
 

@@ -399,8 +399,6 @@ do
   local want = pf.complex(mod * math.cos(q * xbar), mod * math.sin(q * xbar))
   check.close((a:inner(b) - want):abs(), 0, 1e-12, "inner product of two lab states in one frame",
     "Gaussian characteristic function (common practice)")
-  check.close((a:overlap(b) - want):abs(), 0, 1e-12, "overlap of two lab states in one frame",
-    "Gaussian characteristic function (common practice)")
   check.near(a:fidelity(b), mod * mod, 1e-12, "fidelity of two lab states", "Gaussian characteristic function (common practice)")
   local d = a:copy():add(b, -1)
   check.near(d:norm(), 2 - 2 * mod * math.cos(q * xbar), 1e-10, "norm of a - b", "Gaussian characteristic function (common practice)")

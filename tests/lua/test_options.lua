@@ -133,7 +133,7 @@ local TAKES_NO_OPTIONS = {
   "wave:wavenumber_mean", "wave:wavenumber_width", "wave:velocity_mean", "wave:kinetic_energy",
   "wave:position_momentum_covariance", "wave:add", "wave:psi_at", "wave:density_at", "wave:mark_periodic",
   "wave:inner", "wave:guard", "wave:imprint", "wave:mask", "wave:momentum_mask",
-  "wave:shift", "wave:fall", "wave:log_columns", "wave:overlap", "wave:fidelity", "wave:current",
+  "wave:shift", "wave:fall", "wave:log_columns", "wave:fidelity", "wave:current",
   "wave:column_density", "wave:probability_in", "wave:position_covariance", "wave:momentum_covariance",
   -- ensembles
   "ensemble:count", "ensemble:member", "ensemble:weight", "ensemble:weights", "ensemble:each", "ensemble:copy",

@@ -120,6 +120,13 @@ do
   local r = pf.wave(g, {mass = m, position = function(x, y) return math.exp(-(x * x + y * y) / (4 * s * s)) end})
   local _, rem2 = r:aperture{shape = "rectangle", size = {1e9, 1e9}}
   check.close(rem2, 0, 1e-15, "rectangle larger than the grid removes nothing", "geometry")
+  local _, rem3 = r:copy():aperture{shape = "rectangle", size = {false, 1e9}}
+  check.close(rem3, 0, 1e-15, "size false: unbounded along that axis", "geometry")
+  -- The per-axis list reader (pfl_read_axis_list): count and entry rule.
+  check.fails(function() r:aperture{shape = "rectangle", size = {1e-6}} end, "rectangle size needs one entry per axis",
+    "aperture: field 'size' must have 2 entries (one per axis), got 1")
+  check.fails(function() r:aperture{shape = "rectangle", size = {1e-6, "wide"}} end, "rectangle size entry checked",
+    "aperture: field 'size' entry 2 must be a number (m) or false, got")
 end
 
 -- Gaussian velocity filter exp(-(v - c)^2 / 2 W^2) on a Gaussian velocity

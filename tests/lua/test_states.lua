@@ -106,6 +106,19 @@ check.near((-a):inner(a).re, -1, 1e-12, "<-a|a>", "linearity")
 check.near((a / 2):norm(), 0.25, 1e-12, "|a/2|^2", "linearity")
 check.truthy(a:copy():add(b, -1):inner(diff).re > 0, "in-place add equals the operator")
 check.near(a:copy():add(b, -1):inner(diff).re, diff:norm(), 1e-12, "a:add(b, -1) = a - b", "linearity")
+-- One spelling per concept: <a|b> is w:inner; the old w:overlap names it, at
+-- the script line, also when reached through an ensemble's forwarder.
+check.fails(function() return a:overlap(b) end, "w:overlap is refused", "test_states.lua:",
+  "wave:overlap is now wave:inner")
+local pair = pf.mixture({a:copy(), b:copy()}, {0.5, 0.5})
+check.fails(function() return pair:overlap(b) end, "ensemble:overlap is refused", "test_states.lua:",
+  "wave:overlap is now wave:inner")
+check.truthy(a.no_such_method == nil, "other missing method names stay nil")
+-- w:fidelity takes <a|b> from the same inner product, so it refuses what
+-- w:inner refuses: states of different masses.
+check.fails(function() return a:fidelity(pf.gaussian(g1, {mass = 2 * m, width = 1.5e-6})) end,
+  "fidelity of states with different masses is refused", "fidelity:", "equal masses")
+pair:close()
 
 -- Bad arguments: clear errors naming the argument.
 check.fails(function() return pf.gaussian(g1, {mass = "87Rb", width = -1e-6}) end, "negative width", "gaussian: field 'width' must be a positive number, got -9.99")

@@ -314,14 +314,6 @@ static pf_status same_frame(const pf_wave *a, const pf_wave *b)
     return PF_OK;
 }
 
-pf_status pf_wave_lab_overlap(pf_wave *a, pf_wave *b, double complex *out)
-{
-    pf_status s = same_frame(a, b);
-    if (!s) s = pf_wave_overlap(a, b, out);
-    if (!s) *out *= cexp(I * (b->frame.phase - a->frame.phase));
-    return s;
-}
-
 pf_status pf_wave_lab_inner(pf_wave *a, pf_wave *b, double complex *out)
 {
     pf_status s = same_frame(a, b);

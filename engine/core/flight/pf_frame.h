@@ -95,7 +95,6 @@ pf_status pf_wave_frame_centre(pf_wave *w, int *moved);
  * phases may differ and are applied: <a|b>_lab = exp(i (theta_b - theta_a))
  * <chi_a|chi_b>, and y += alpha x adds alpha exp(i (theta_x - theta_y)) chi_x
  * to chi_y.  Unmoved frames: exactly the grid functions. */
-pf_status pf_wave_lab_overlap(pf_wave *a, pf_wave *b, double complex *out);
 pf_status pf_wave_lab_inner(pf_wave *a, pf_wave *b, double complex *out);
 pf_status pf_wave_lab_fidelity(pf_wave *a, pf_wave *b, double *out);
 pf_status pf_wave_lab_axpy(pf_wave *y, double complex alpha, pf_wave *x);

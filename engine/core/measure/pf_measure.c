@@ -1,7 +1,8 @@
-/* pf_measure.c - region weights, region probabilities, overlap and fidelity. */
+/* pf_measure.c - region weights, region probabilities and fidelity (with <a|b> from pf_wave_inner). */
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
+#include "pf_algebra.h"
 #include "pf_dist_measure.h"
 #include "pf_internal.h"
 #include "pf_measure.h"
@@ -120,30 +121,10 @@ pf_status pf_wave_region_probability(pf_wave *w, const pf_region *r, double *p)
     return PF_OK;
 }
 
-pf_status pf_wave_overlap(pf_wave *a, pf_wave *b, double complex *out)
-{
-    pf_grid *g = a->grid;
-    if (!pf_grid_same(a->grid, b->grid))
-        return pf_fail(g->ctx, PF_ESTATE, "overlap needs two states on grids of the same geometry");
-    /* In momentum storage the sum is N times the position sum (Parseval for
-     * S = DFT / N), so either common representation gives the integral. */
-    pf_status s = pf_wave_settle(a);
-    if (s) return s;
-    pf_rep rep = a->rep;
-    s = pf_wave_to(b, rep);
-    if (s) return s;
-    double complex sum = 0;
-    for (size_t i = 0; i < g->total; i++) sum += conj(a->store[i]) * b->store[i];
-    double v = pf_grid_cell_volume(g);
-    if (rep == PF_MOMENTUM) v *= (double)g->total;
-    *out = sum * v;
-    return PF_OK;
-}
-
 pf_status pf_wave_fidelity(pf_wave *a, pf_wave *b, double *out)
 {
     double complex o;
-    pf_status s = pf_wave_overlap(a, b, &o);
+    pf_status s = pf_wave_inner(a, b, &o);
     if (s) return s;
     double na = pf_wave_norm(a), nb = pf_wave_norm(b);
     if (!(na > 0) || !(nb > 0)) return pf_fail(a->grid->ctx, PF_EINVAL, "fidelity with a zero state is undefined");

@@ -1,5 +1,5 @@
 /* pf_measure.h - regions of space and the observables that need them or a
- * second state: probability in a region, overlap and fidelity.
+ * second state: probability in a region and fidelity.
  *
  * A region is described by a small value (pf_region).  Geometric regions
  * (box, half-space, ball) select grid points by their centre: weight 1 inside
@@ -49,10 +49,8 @@ pf_status pf_field_region_integral(const pf_field *f, const pf_grid *g, const pf
  * integral of weight |psi|^2 divided by the norm (so it stays a conditional
  * probability after masks removed part of the state). */
 pf_status pf_wave_region_probability(pf_wave *w, const pf_region *r, double *p);
-/* Inner product <a|b> = integral conj(psi_a) psi_b dx.  Both states must live
- * on grids of the same geometry; neither is renormalised. */
-pf_status pf_wave_overlap(pf_wave *a, pf_wave *b, double complex *out);
-/* Fidelity |<a|b>|^2 / (<a|a><b|b>), between 0 and 1. */
+/* Fidelity |<a|b>|^2 / (<a|a><b|b>), between 0 and 1, with <a|b> from
+ * pf_wave_inner (pf_algebra.h): same grid and mass. */
 pf_status pf_wave_fidelity(pf_wave *a, pf_wave *b, double *out);
 
 #endif

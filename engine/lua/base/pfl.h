@@ -150,6 +150,19 @@ void pfl_set_counts(lua_State *L, const char *name, const size_t *v, int d);
 int pfl_field_vector(lua_State *L, int t, const char *field, int dim, double *out, int required);
 /* The same with positive = 1 requiring every value > 0 (widths, radii). */
 int pfl_field_vector_of(lua_State *L, int t, const char *field, int dim, double *out, int required, int positive);
+/* A per-axis list whose entries follow a rule of their own (pf.setup's
+ * 'acceleration', the aperture's 'size'): lo..hi entries, each read by
+ * entry(L, type, &out[a]) from the stack top, which returns 0 to refuse it. */
+typedef struct pfl_axis_list {
+    const char *fname, *field; /* for messages: "fname: field 'field' ..." */
+    int lo, hi;                /* allowed entry counts */
+    const char *rule;          /* what an entry must be, e.g. "a finite number (m/s^2)" */
+    int (*entry)(lua_State *L, int type, double *out);
+} pfl_axis_list;
+/* Reads the table at the stack top (left there) into out; returns the
+ * count.  Errors: "fname: field 'field' must have N entries (one per axis),
+ * got n" and "fname: field 'field' entry a must be RULE, got VALUE". */
+int pfl_read_axis_list(lua_State *L, const pfl_axis_list *spec, double *out);
 /* Field 'space' ("position" or "momentum"): sets *rep and returns 1 when
  * given, returns 0 when absent; any other value is an error. */
 int pfl_field_space(lua_State *L, int t, pf_rep *rep);
@@ -222,6 +235,15 @@ typedef struct pfl_type_spec {
 /* Creates (or reuses) the metatable spec->type, fills it, and adds the
  * module functions to the table at stack index mod; the stack is unchanged. */
 void pfl_register_type(lua_State *L, int mod, const pfl_type_spec *spec);
+/* A method spelling the API no longer uses, and the one it uses instead. */
+typedef struct pfl_renamed {
+    const char *refused, *kept;
+} pfl_renamed;
+/* Makes the refused names (list ended by {NULL, NULL}) of type's methods
+ * table (its __index) errors that name the kept spelling, at the script
+ * line: "wave:overlap is now wave:inner".  One spelling per concept, as the
+ * options checker's refused keys; other missing names stay nil. */
+void pfl_refuse_methods(lua_State *L, const char *type, const char *prefix, const pfl_renamed *renamed);
 /* Pushes a zeroed userdata of size bytes whose own metatable holds only
  * __gc = gc, and returns it: a core object is made after its box exists and
  * stored in it, so no Lua error (out of memory included) can leak it. */

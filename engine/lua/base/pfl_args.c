@@ -177,6 +177,28 @@ int pfl_field_vector_of(lua_State *L, int t, const char *field, int dim, double 
     return 1;
 }
 
+int pfl_read_axis_list(lua_State *L, const pfl_axis_list *spec, double *out)
+{
+    lua_Integer n = luaL_len(L, -1);
+    if (n < spec->lo || n > spec->hi) {
+        char count[40];
+        if (spec->lo == spec->hi) snprintf(count, sizeof count, "%d", spec->lo);
+        else snprintf(count, sizeof count, "%d to %d", spec->lo, spec->hi);
+        luaL_error(L, "%s: field '%s' must have %s entries (one per axis), got %d", spec->fname, spec->field, count,
+                   (int)n);
+    }
+    for (int a = 0; a < (int)n; a++) {
+        int type = lua_geti(L, -1, a + 1);
+        if (!spec->entry(L, type, &out[a])) {
+            char buf[80];
+            luaL_error(L, "%s: field '%s' entry %d must be %s, got %s", spec->fname, spec->field, a + 1, spec->rule,
+                       pfl_describe(L, -1, buf, sizeof buf));
+        }
+        lua_pop(L, 1);
+    }
+    return (int)n;
+}
+
 int pfl_field_vector(lua_State *L, int t, const char *field, int dim, double *out, int required)
 {
     return pfl_field_vector_of(L, t, field, dim, out, required, 0);

@@ -114,7 +114,6 @@ static const struct aware {
     {"wave:momentum_width", FRAME | DIST},
     {"wave:norm", FRAME | DIST},
     {"wave:normalize", FRAME | DIST},
-    {"wave:overlap", FRAME},
     {"wave:phi", FRAME | DIST},
     {"wave:position_covariance", FRAME | DIST},
     {"wave:position_mean", FRAME | DIST},

@@ -138,27 +138,21 @@ static int l_wave(lua_State *L)
     return 1;
 }
 
-static int l_psi(lua_State *L)
+/* w:psi(i [, j, k]) / w:phi(i [, j, k]): the lab value at one 1-based point
+ * (phi's indices count wave numbers in ascending order). */
+static int push_value(lua_State *L, pf_rep rep, const char *name)
 {
     pf_wave *w = pfl_check_wave(L, 1);
     size_t idx[PF_MAX_DIM];
-    pfl_check_indices(L, 2, pf_wave_grid(w), idx, 0);
+    pfl_check_indices(L, 2, pf_wave_grid(w), idx, rep == PF_MOMENTUM);
     double complex z;
-    pfl_check(L, pf_wave_lab_value(w, PF_POSITION, idx, &z), "psi");
+    pfl_check(L, pf_wave_lab_value(w, rep, idx, &z), name);
     pfl_push_complex(L, z);
     return 1;
 }
 
-static int l_phi(lua_State *L)
-{
-    pf_wave *w = pfl_check_wave(L, 1);
-    size_t idx[PF_MAX_DIM];
-    pfl_check_indices(L, 2, pf_wave_grid(w), idx, 1);
-    double complex z;
-    pfl_check(L, pf_wave_lab_value(w, PF_MOMENTUM, idx, &z), "phi");
-    pfl_push_complex(L, z);
-    return 1;
-}
+static int l_psi(lua_State *L) { return push_value(L, PF_POSITION, "psi"); }
+static int l_phi(lua_State *L) { return push_value(L, PF_MOMENTUM, "phi"); }
 
 static int set_value(lua_State *L, pf_rep rep, const char *name)
 {

@@ -87,6 +87,12 @@ void pfl_frame_guard(lua_State *L, int arg, const pf_wave *w)
 
 /* ---- acceleration: option and per-script default ---- */
 
+static int finite_entry(lua_State *L, int type, double *out)
+{
+    *out = lua_tonumber(L, -1);
+    return type == LUA_TNUMBER && isfinite(*out);
+}
+
 int pfl_frame_setup_read(lua_State *L, int t, double *values, int *count)
 {
     int type = pfl_option_get(L, t, "acceleration");
@@ -104,19 +110,10 @@ int pfl_frame_setup_read(lua_State *L, int t, double *values, int *count)
         values[0] = lua_tonumber(L, -1);
         *count = 1;
     } else if (type == LUA_TTABLE) {
-        lua_Integer n = luaL_len(L, -1);
-        if (n < 1 || n > PF_MAX_DIM)
-            luaL_error(L, "pf.setup: field 'acceleration' must hold 1 to %d values (m/s^2, one per axis), got %d",
-                       PF_MAX_DIM, (int)n);
-        for (int a = 0; a < (int)n; a++) {
-            lua_geti(L, -1, a + 1);
-            values[a] = lua_tonumber(L, -1);
-            if (lua_type(L, -1) != LUA_TNUMBER || !isfinite(values[a]))
-                luaL_error(L, "pf.setup: field 'acceleration' entry %d must be a finite number (m/s^2), got %s", a + 1,
-                           pfl_describe(L, -1, buf, sizeof buf));
-            lua_pop(L, 1);
-        }
-        *count = (int)n;
+        /* the grid is not known yet: 1 to 3 axes */
+        static const pfl_axis_list list = {"pf.setup", "acceleration", 1, PF_MAX_DIM, "a finite number (m/s^2)",
+                                           finite_entry};
+        *count = pfl_read_axis_list(L, &list, values);
     } else {
         luaL_error(L, "pf.setup: field 'acceleration' must be one value per axis (m/s^2) or false, got %s",
                    pfl_describe(L, -1, buf, sizeof buf));

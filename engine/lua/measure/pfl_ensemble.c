@@ -643,7 +643,8 @@ static int ens_index(lua_State *L)
     luaL_getmetatable(L, PFL_WAVE_TYPE);
     lua_getfield(L, -1, "__index");
     lua_pushvalue(L, 2);
-    if (lua_type(L, 2) != LUA_TSTRING || lua_rawget(L, -2) != LUA_TFUNCTION) return 0;
+    /* not raw: a refused spelling (pfl_refuse_methods) names the kept one */
+    if (lua_type(L, 2) != LUA_TSTRING || lua_gettable(L, -2) != LUA_TFUNCTION) return 0;
     lua_pushvalue(L, 2);
     lua_pushcclosure(L, forward_call, 1);
     return 1;

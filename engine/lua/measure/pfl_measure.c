@@ -1,5 +1,5 @@
 /* pfl_measure.c - regions (pf.box, pf.half_space, pf.ball, pf.mask), region
- * probabilities, covariance matrices, overlap and fidelity, and the
+ * probabilities, covariance matrices, fidelity, and the
  * measurements that collapse the state; plus the small table helpers the
  * other measurement bindings share. */
 #include <math.h>
@@ -462,15 +462,6 @@ static int covariance(lua_State *L, pf_rep rep, double unit, const char *name)
 static int l_position_covariance(lua_State *L) { return covariance(L, PF_POSITION, 1.0, "position_covariance"); }
 static int l_momentum_covariance(lua_State *L) { return covariance(L, PF_MOMENTUM, PF_HBAR, "momentum_covariance"); }
 
-static int l_overlap(lua_State *L)
-{
-    pf_wave *a = pfl_check_wave(L, 1), *b = pfl_check_wave(L, 2);
-    double complex o;
-    pfl_check(L, pf_wave_lab_overlap(a, b, &o), "overlap");
-    pfl_push_complex(L, o);
-    return 1;
-}
-
 static int l_fidelity(lua_State *L)
 {
     pf_wave *a = pfl_check_wave(L, 1), *b = pfl_check_wave(L, 2);
@@ -589,7 +580,7 @@ void pfl_open_measure(lua_State *L, int mod)
         {"measure_position", l_measure_position}, {NULL, NULL},
     };
     static const luaL_Reg wave_methods[] = {
-        {"overlap", l_overlap}, {"fidelity", l_fidelity}, {NULL, NULL},
+        {"fidelity", l_fidelity}, {NULL, NULL},
     };
     static const luaL_Reg funcs[] = {
         {"box", l_box}, {"half_space", l_half_space}, {"ball", l_ball}, {"mask", l_mask}, {NULL, NULL},

@@ -78,6 +78,14 @@ void pfl_source_geometry(lua_State *L, const pfl_source *src, pf_rep rep, pf_fie
 void pfl_source_marginal(lua_State *L, const pfl_source *src, pf_rep rep, const int *keep, pf_field *out,
                          const char *name);
 
+/* The sampled-events table of s:sample and lv:sample (pfl_sample.c):
+ * pfl_push_event_columns pushes a table holding one sequence of n
+ * coordinates per axis (ev[a] for axis a, from the events at ev, stride
+ * doubles apart, coordinates first), with room for `fields` named fields;
+ * pfl_set_event_fields then sets its count, space and unit. */
+void pfl_push_event_columns(lua_State *L, const double *ev, lua_Integer n, int d, int stride, int fields);
+void pfl_set_event_fields(lua_State *L, lua_Integer n, pf_rep rep);
+
 /* The openers (pfl_open_random .. pfl_open_detector) are declared in pfl.h.
  * Adds methods to both the wave and the ensemble metatables (measurement
  * methods work on either).  The ensemble opener must run first. */

@@ -13,6 +13,29 @@
 static const pfl_options_decl SAMPLE_OPTIONS = {"state:sample", (const char *const[]){"space", "jitter", RNG_KEYS, NULL}};
 static const pfl_options_decl HISTOGRAM_OPTIONS = {"pf.histogram", (const char *const[]){"from", "to", "bins", NULL}};
 
+void pfl_push_event_columns(lua_State *L, const double *ev, lua_Integer n, int d, int stride, int fields)
+{
+    lua_createtable(L, d, fields);
+    for (int a = 0; a < d; a++) {
+        lua_createtable(L, (int)n, 0);
+        for (lua_Integer e = 0; e < n; e++) {
+            lua_pushnumber(L, ev[(size_t)e * (size_t)stride + (size_t)a]);
+            lua_rawseti(L, -2, e + 1);
+        }
+        lua_rawseti(L, -2, a + 1);
+    }
+}
+
+void pfl_set_event_fields(lua_State *L, lua_Integer n, pf_rep rep)
+{
+    lua_pushinteger(L, n);
+    lua_setfield(L, -2, "count");
+    lua_pushstring(L, rep == PF_POSITION ? "position" : "momentum");
+    lua_setfield(L, -2, "space");
+    lua_pushstring(L, rep == PF_POSITION ? "m" : "1/m");
+    lua_setfield(L, -2, "unit");
+}
+
 /* s:sample(n [, {space=, jitter=true, seed=, generator=}])
  * -> {count = n, space, unit, [1] = coordinates on axis 1, [2] = ...} */
 static int l_sample(lua_State *L)
@@ -50,21 +73,8 @@ static int l_sample(lua_State *L)
     }
     if (!split) pf_field_free(&f);
     pfl_check(L, s, "sample");
-    lua_createtable(L, d, 4);
-    for (int a = 0; a < d; a++) {
-        lua_createtable(L, (int)n, 0);
-        for (lua_Integer e = 0; e < n; e++) {
-            lua_pushnumber(L, ev[(size_t)e * (size_t)d + (size_t)a]);
-            lua_rawseti(L, -2, e + 1);
-        }
-        lua_rawseti(L, -2, a + 1);
-    }
-    lua_pushinteger(L, n);
-    lua_setfield(L, -2, "count");
-    lua_pushstring(L, rep == PF_POSITION ? "position" : "momentum");
-    lua_setfield(L, -2, "space");
-    lua_pushstring(L, rep == PF_POSITION ? "m" : "1/m");
-    lua_setfield(L, -2, "unit");
+    pfl_push_event_columns(L, ev, n, d, d, 4);
+    pfl_set_event_fields(L, n, rep);
     if (rep == PF_MOMENTUM) {
         /* Wave numbers times these give momenta (kg m/s) and velocities (m/s). */
         lua_pushnumber(L, PF_HBAR);

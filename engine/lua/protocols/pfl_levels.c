@@ -706,27 +706,14 @@ static int l_sample(lua_State *L)
     const int d = pf_grid_dim(pf_wave_grid(pf_levels_wave(b, 0)));
     double *ev = lua_newuserdatauv(L, (size_t)(n ? n : 1) * (size_t)(d + 1) * sizeof(double), 0);
     pfl_check(L, pf_levels_sample(b, rep, (size_t)n, jitter, rng, ev), "sample");
-    lua_createtable(L, d, 5);
-    for (int a = 0; a < d; a++) {
-        lua_createtable(L, (int)n, 0);
-        for (lua_Integer e = 0; e < n; e++) {
-            lua_pushnumber(L, ev[(size_t)e * (size_t)(d + 1) + (size_t)a]);
-            lua_rawseti(L, -2, e + 1);
-        }
-        lua_rawseti(L, -2, a + 1);
-    }
+    pfl_push_event_columns(L, ev, n, d, d + 1, 5); /* each event: d coordinates, then its level */
     lua_createtable(L, (int)n, 0);
     for (lua_Integer e = 0; e < n; e++) {
         lua_pushstring(L, pf_levels_label(b, (int)ev[(size_t)e * (size_t)(d + 1) + (size_t)d]));
         lua_rawseti(L, -2, e + 1);
     }
     lua_setfield(L, -2, "level");
-    lua_pushinteger(L, n);
-    lua_setfield(L, -2, "count");
-    lua_pushstring(L, rep == PF_POSITION ? "position" : "momentum");
-    lua_setfield(L, -2, "space");
-    lua_pushstring(L, rep == PF_POSITION ? "m" : "1/m");
-    lua_setfield(L, -2, "unit");
+    pfl_set_event_fields(L, n, rep);
     return 1;
 }
 

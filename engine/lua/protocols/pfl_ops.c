@@ -221,6 +221,15 @@ static int l_mask_grating(lua_State *L)
     return push_masked(L, removed);
 }
 
+/* A rectangle's size along one axis: a number, or false for unbounded. */
+static int size_entry(lua_State *L, int type, double *out)
+{
+    if (type == LUA_TBOOLEAN && !lua_toboolean(L, -1)) *out = INFINITY;
+    else if (type == LUA_TNUMBER) *out = lua_tonumber(L, -1);
+    else return 0;
+    return 1;
+}
+
 /* Rectangle sizes: a number for every axis, or a table whose entries are
  * numbers or false (false or math.huge: unbounded along that axis). */
 static void read_sizes(lua_State *L, int t, int d, double *size)
@@ -230,17 +239,7 @@ static void read_sizes(lua_State *L, int t, int d, double *size)
     if (type == LUA_TNUMBER) {
         for (int a = 0; a < d; a++) size[a] = lua_tonumber(L, -1);
     } else if (type == LUA_TTABLE) {
-        if (luaL_len(L, -1) != d)
-            luaL_error(L, "aperture: field 'size' must have %d entries (one per axis), got %d", d, (int)luaL_len(L, -1));
-        for (int a = 0; a < d; a++) {
-            int et = lua_geti(L, -1, a + 1);
-            if (et == LUA_TBOOLEAN && !lua_toboolean(L, -1)) size[a] = INFINITY;
-            else if (et == LUA_TNUMBER) size[a] = lua_tonumber(L, -1);
-            else
-                luaL_error(L, "aperture: field 'size' entry %d must be a number (m) or false, got %s", a + 1,
-                           pfl_describe(L, -1, buf, sizeof buf));
-            lua_pop(L, 1);
-        }
+        pfl_read_axis_list(L, &(pfl_axis_list){"aperture", "size", d, d, "a number (m) or false", size_entry}, size);
     } else {
         luaL_error(L, "aperture: a rectangle needs field 'size' (full widths, m; a number or one per axis), got %s",
                    pfl_describe(L, -1, buf, sizeof buf));

@@ -1,6 +1,7 @@
 /* pfl_algebra.c - arithmetic on wave functions in Lua: a * psi1 + b * psi2
  * through the operators + - * / and unary minus (each makes a new wave),
- * the in-place w:add(other [, factor]) and the inner product w:inner(other).
+ * the in-place w:add(other [, factor]) and the inner product w:inner(other)
+ * (the one spelling of <w|v>: w:overlap is refused with a pointer here).
  *
  * Operator results are not normalised: a * psi1 + b * psi2 is exactly that
  * sum; call :normalize() when a state is wanted. */
@@ -109,6 +110,8 @@ void pfl_open_algebra(lua_State *L, int mod)
         {"__div", l_div_op}, {"__unm", l_unm_op}, {NULL, NULL},
     };
     pfl_add_wave_methods(L, methods);
+    static const pfl_renamed renamed[] = {{"overlap", "inner"}, {NULL, NULL}};
+    pfl_refuse_methods(L, PFL_WAVE_TYPE, "wave:", renamed);
     luaL_getmetatable(L, PFL_WAVE_TYPE);
     luaL_setfuncs(L, meta, 0);
     lua_pop(L, 1);

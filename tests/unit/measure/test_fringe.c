@@ -4,6 +4,7 @@
 #include <gsl/gsl_cdf.h>
 #include <stdlib.h>
 #include "pft.h"
+#include "pf_algebra.h"
 #include "pf_field.h"
 #include "pf_fringe.h"
 #include "pf_measure.h"
@@ -90,7 +91,7 @@ static void covariance_and_overlap(void **state)
     pft_gauss a = {2, {-3e-6, 0}, {4e-6, 3e-6}, {0, 0}}, b = {2, {3e-6, 0}, {4e-6, 3e-6}, {0, 0}};
     pf_wave *wa = pft_gauss_wave(g, pft_mass("87Rb"), &a), *wb = pft_gauss_wave(g, pft_mass("87Rb"), &b);
     double complex o;
-    pft_ok(pf_wave_overlap(wa, wb, &o));
+    pft_ok(pf_wave_inner(wa, wb, &o));
     pft_near(creal(o), exp(-36e-12 / (8 * 16e-12)), 0, 1e-10, "overlap exp(-d^2/8s^2) (Gaussian integral)");
     double fid;
     pft_ok(pf_wave_to(wb, PF_MOMENTUM)); /* mixed representations */
