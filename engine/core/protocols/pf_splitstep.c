@@ -97,86 +97,55 @@ static pf_status potential_range(pf_grid *g, const double *V, double *lo, double
  * judging the potential phase per step. */
 #define OCCUPIED_FRACTION 1e-12
 
-/* Points per block of the extent pass (its partials live in the grid's
- * reserved reduction buffer, which holds at least 6 doubles per block of
- * PF_REDUCE_BLOCK points). */
-#define EXTENT_BLOCK PF_REDUCE_BLOCK
-
-static double density(double complex z) { return creal(z) * creal(z) + cimag(z) * cimag(z); }
-
-/* Range of V over the points [begin, end) with density at or above cut
- * (counted as !(rho < cut), so a NaN counts, as it always did); returns the
- * smallest density among them. */
-static double block_range(const double complex *store, const double *V, size_t begin, size_t end, double cut,
-                          double *lo, double *hi)
+/* Range of V over the points the state occupies (density >= OCCUPIED_FRACTION
+ * of its peak).  A trap's values at the grid edges, where the state is
+ * absent, do not limit the step. */
+static void occupied_range(const pf_wave *w, const double *V, double peak, double *lo, double *hi)
 {
-    double a = INFINITY, b = -INFINITY, least = INFINITY;
-    for (size_t i = begin; i < end; i++) {
-        double r = density(store[i]);
-        if (r < cut) continue;
-        if (r < least) least = r;
+    double a = INFINITY, b = -INFINITY, cut = OCCUPIED_FRACTION * peak;
+    const ptrdiff_t n = (ptrdiff_t)pf_dist_position_values(w->grid);
+    const double complex *store = w->store;
+    /* Extremes do not depend on the order they are found in: threaded. */
+#pragma omp parallel for num_threads(w->grid->ctx->threads) schedule(static) reduction(min : a) reduction(max : b)
+    for (ptrdiff_t i = 0; i < n; i++) {
+        double complex z = store[i];
+        if (creal(z) * creal(z) + cimag(z) * cimag(z) < cut) continue;
         if (V[i] < a) a = V[i];
         if (V[i] > b) b = V[i];
     }
+    pf_dist_minmax(w->grid, &a, &b);
+    if (a > b) a = b = 0;
     *lo = a;
     *hi = b;
-    return least;
 }
 
-/* The state's peak density and the range of V over the points it occupies
- * (density >= OCCUPIED_FRACTION of the peak: a trap's values at the grid
- * edges, where the state is absent, do not limit the step); [0, 0] without
- * V or when nothing is occupied.  One pass over memory instead of a pass
- * for the peak and another for the range: each block (in cache after its
- * first read) records its own peak and the range of V over its points at
- * or above OCCUPIED_FRACTION of that block peak, with the least density
- * among them.  A block's own cut is at most the global one, so where that
- * least density also reaches the global cut the block's points are exactly
- * the globally occupied ones and its range is exact; only the blocks that
- * straddle the global cut are read again.  Extremes do not depend on the
- * order they are found in, so the values are those of the two passes. */
+static double max_density(pf_wave *w)
+{
+    double m = 0, unused = 0;
+    const ptrdiff_t n = (ptrdiff_t)pf_dist_position_values(w->grid);
+    const double complex *store = w->store;
+#pragma omp parallel for num_threads(w->grid->ctx->threads) schedule(static) reduction(max : m)
+    for (ptrdiff_t i = 0; i < n; i++) {
+        double complex z = store[i];
+        double r = creal(z) * creal(z) + cimag(z) * cimag(z);
+        if (r > m) m = r;
+    }
+    pf_dist_minmax(w->grid, &unused, &m);
+    return m;
+}
+
+/* The state's peak density and the range of V over the occupied points
+ * ([0, 0] without V): two threaded passes over the state.  One pass that
+ * kept each block's own peak and range and read again only the blocks
+ * straddling the global cut gave the same values but measured slower on the
+ * reference machine (set-up rows of bench_splitstep, 2D/3D, 1-2 threads:
+ * 0.72-1.06 steps against 0.44-0.67 for the repeat call), so the two
+ * vectorised passes stay. */
 static void state_extent(pf_wave *w, const double *V, double *peak, double *lo, double *hi)
 {
-    pf_grid *g = w->grid;
-    const size_t n = pf_dist_position_values(g), nb = (n + EXTENT_BLOCK - 1) / EXTENT_BLOCK;
-    const double complex *store = w->store;
-    double *part = g->reduce_part; /* per block: peak, least counted density, V range */
-#pragma omp parallel for num_threads(g->ctx->threads) schedule(static)
-    for (ptrdiff_t b = 0; b < (ptrdiff_t)nb; b++) {
-        size_t begin = (size_t)b * EXTENT_BLOCK, end = begin + EXTENT_BLOCK < n ? begin + EXTENT_BLOCK : n;
-        double m = 0;
-        for (size_t i = begin; i < end; i++) {
-            double r = density(store[i]);
-            if (r > m) m = r;
-        }
-        double *q = part + 4 * (size_t)b;
-        q[0] = m;
-        if (V) q[1] = block_range(store, V, begin, end, OCCUPIED_FRACTION * m, &q[2], &q[3]);
-    }
-    double m = 0, unused = 0;
-    for (size_t b = 0; b < nb; b++)
-        if (part[4 * b] > m) m = part[4 * b];
-    pf_dist_minmax(g, &unused, &m);
-    *peak = m;
+    *peak = max_density(w);
     *lo = *hi = 0;
-    if (!V) return;
-    const double cut = OCCUPIED_FRACTION * m;
-    double a = INFINITY, bb = -INFINITY;
-#pragma omp parallel for num_threads(g->ctx->threads) schedule(static) reduction(min : a) reduction(max : bb)
-    for (ptrdiff_t b = 0; b < (ptrdiff_t)nb; b++) {
-        const double *q = part + 4 * (size_t)b;
-        double l = q[2], h = q[3];
-        if (q[1] < cut) { /* straddles the global cut: read again */
-            size_t begin = (size_t)b * EXTENT_BLOCK, end = begin + EXTENT_BLOCK < n ? begin + EXTENT_BLOCK : n;
-            block_range(store, V, begin, end, cut, &l, &h);
-        }
-        if (l < a) a = l;
-        if (h > bb) bb = h;
-    }
-    pf_dist_minmax(g, &a, &bb);
-    if (a > bb) a = bb = 0;
-    *lo = a;
-    *hi = bb;
+    if (V) occupied_range(w, V, *peak, lo, hi);
 }
 
 /* One potential sub-step as a pointwise factor: either exp(-i (V + g

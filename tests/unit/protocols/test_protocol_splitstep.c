@@ -188,13 +188,12 @@ static int fill_packet(void *user, const double *x, double complex *v)
 
 /* Implementation check (no physics claim): the phase per step reported by
  * evolve is (range of V over the occupied points) dt / hbar, occupied
- * meaning density >= 1e-12 of the peak (pf_splitstep.c).  The extent pass
- * reads each block of 16384 points once and reads again only the blocks
- * that straddle the global cut; here packets placed so that the cut falls
- * inside blocks (and a second, weaker packet whose block's own peak is far
- * below the global one), with a V whose extremes sit in those straddling
- * stretches, must give exactly the range found by one direct loop over
- * every point. */
+ * meaning density >= 1e-12 of the peak (pf_splitstep.c).  Packets placed
+ * so that the cut falls inside 16384-point blocks (and a second, weaker
+ * packet whose own peak is far below the global one), with a V whose
+ * extremes sit in those stretches, must give exactly the range found by
+ * one direct loop over every point (a blocked one-pass variant that
+ * skipped re-reading the straddling blocks failed here). */
 static void occupied_range_matches_a_direct_loop(void **state)
 {
     (void)state;
