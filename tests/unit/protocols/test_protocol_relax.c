@@ -25,6 +25,17 @@ static double *harmonic(pf_grid *g, const double *omega)
     return V;
 }
 
+/* A 1D trap of frequency OMEGA for 87Rb on n points spanning span_aho
+ * oscillator lengths: the grid in *g, the length in *aho, V returned (the
+ * caller frees it and releases the grid). */
+static double *trap_1d(pf_context *ctx, size_t n, double span_aho, pf_grid **g, double *aho)
+{
+    *aho = sqrt(PF_HBAR / (pft_mass("87Rb") * OMEGA));
+    double span = span_aho * *aho, omega1[1] = {OMEGA};
+    *g = pft_grid(ctx, 1, &n, &span, NULL);
+    return harmonic(*g, omega1);
+}
+
 /* Ground-state energy of the harmonic oscillator: hbar omega / 2 per axis
  * (textbook).  1D and anisotropic 2D; the start is a displaced, too-wide
  * Gaussian so the flow has work to do. */
@@ -32,11 +43,9 @@ static void test_harmonic_ground_energy(void **state)
 {
     (void)state;
     pf_context *ctx = pft_context();
-    double aho = sqrt(PF_HBAR / (pft_mass("87Rb") * OMEGA));
-    size_t n = 256;
-    double span = 24 * aho, omega1[1] = {OMEGA};
-    pf_grid *g = pft_grid(ctx, 1, &n, &span, NULL);
-    double *V = harmonic(g, omega1);
+    double aho;
+    pf_grid *g;
+    double *V = trap_1d(ctx, 256, 24, &g, &aho);
     pft_gauss p = {.x0 = {0.7 * aho}, .sigma = {1.5 * aho}};
     pf_wave *w = pft_gauss_wave(g, pft_mass("87Rb"), &p);
     pf_relax_spec spec = {.potential = V, .dt = 0.002 / OMEGA, .tolerance = 1e-13, .max_steps = 200000,
@@ -83,11 +92,9 @@ static void test_thomas_fermi(void **state)
 {
     (void)state;
     pf_context *ctx = pft_context();
-    double aho = sqrt(PF_HBAR / (pft_mass("87Rb") * OMEGA));
-    size_t n = 1024;
-    double span = 28 * aho, omega1[1] = {OMEGA};
-    pf_grid *g = pft_grid(ctx, 1, &n, &span, NULL);
-    double *V = harmonic(g, omega1);
+    double aho;
+    pf_grid *g;
+    double *V = trap_1d(ctx, 1024, 28, &g, &aho);
     double gap[2];
     const double targets[2] = {10.0, 40.0};
     for (int i = 0; i < 2; i++) {
@@ -125,11 +132,9 @@ static void test_mean_field_step_order(void **state)
 {
     (void)state;
     pf_context *ctx = pft_context();
-    double aho = sqrt(PF_HBAR / (pft_mass("87Rb") * OMEGA));
-    size_t n = 1024;
-    double span = 28 * aho, omega1[1] = {OMEGA};
-    pf_grid *g = pft_grid(ctx, 1, &n, &span, NULL);
-    double *V = harmonic(g, omega1);
+    double aho;
+    pf_grid *g;
+    double *V = trap_1d(ctx, 1024, 28, &g, &aho);
     double mu_tf = 40 * PF_HBAR * OMEGA;
     double gN = pow(mu_tf, 1.5) * 4.0 * sqrt(2.0) / (3.0 * sqrt(pft_mass("87Rb")) * OMEGA);
     double mu[2];
@@ -162,11 +167,9 @@ static void test_relax_limits(void **state)
     pf_context *ctx = pft_context();
     int warnings = 0;
     pf_context_set_warn_handler(ctx, count_relax_warnings, &warnings);
-    double aho = sqrt(PF_HBAR / (pft_mass("87Rb") * OMEGA));
-    size_t n = 64;
-    double span = 16 * aho, omega1[1] = {OMEGA};
-    pf_grid *g = pft_grid(ctx, 1, &n, &span, NULL);
-    double *V = harmonic(g, omega1);
+    double aho;
+    pf_grid *g;
+    double *V = trap_1d(ctx, 64, 16, &g, &aho);
     pft_gauss p = {.sigma = {2 * aho}};
     pf_wave *w = pft_gauss_wave(g, pft_mass("87Rb"), &p);
     pf_relax_spec spec = {.potential = V, .dt = 0.01 / OMEGA, .tolerance = 1e-14, .max_steps = 5, .check_every = 2};
