@@ -41,6 +41,20 @@ local log = w:log()
 check.equal(log[#log].method, "scaled-fresnel", "step log names the method")
 check.truthy(log[#log].edge_x ~= nil and log[#log].edge_x < 1e-6, "step log holds the position guard figure")
 check.near(w:norm(), 1, 1e-12, "norm after scaled flight", "unitarity of free flight")
+-- The report's per-axis tables (docs/long-flights.md) each reach the script
+-- under their own name: the scaled grid they describe is the one the wave
+-- now has, and every lo/hi pair is ordered.
+local gout = w:grid()
+check.equal(rep2.scaled_points[1], gout:points(), "report scaled_points is the new grid's point count")
+check.near(rep2.scaled_spacing[1], gout:spacing(), 1e-15, "report scaled_spacing is the new grid's spacing", "definition")
+check.near(rep2.scaled_origin[1], gout:origin(), 1e-15, "report scaled_origin is the new grid's origin", "definition", 1e-18)
+for _, name in ipairs{"extent", "wavenumber", "image"} do
+  check.truthy(rep2[name .. "_lo"][1] < rep2[name .. "_hi"][1], "report " .. name .. "_lo < " .. name .. "_hi")
+end
+check.truthy(rep2.image_hi[1] - rep2.image_lo[1] > rep2.extent_hi[1] - rep2.extent_lo[1],
+  "report: the predicted image is wider than the extent before the long flight")
+check.truthy(rep2.box[1] > 0 and rep2.window[1] > 0 and rep2.chirp_time[1] > 0 and rep2.scaled_time[1] >= 0,
+  "report: box, window and times are present and positive")
 
 -- Forcing and errors.
 check.fails(function() w:fly_long(1e-3, {method = "sideways"}) end, "bad method is refused",

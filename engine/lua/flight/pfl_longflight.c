@@ -2,6 +2,7 @@
  * w:fly_long (chooses the same-grid or the scaled method) and w:fly_scaled
  * (the single-FFT form, forced). */
 #include <math.h>
+#include <stddef.h>
 #include <string.h>
 #include "pf_frame.h"
 #include "pf_longflight.h"
@@ -44,6 +45,35 @@ static pf_flight_method check_method(lua_State *L, int t, const char *fname)
     return PF_FLIGHT_AUTO;
 }
 
+/* The per-axis figures of the long-flight report: the script's name, where
+ * the figure sits in pf_long_flight_report, and whether it counts points
+ * (size_t) rather than holding doubles. */
+typedef struct report_axes {
+    const char *name;
+    size_t offset;
+    int counts;
+} report_axes;
+#define DOUBLES(name, member) {name, offsetof(pf_long_flight_report, member), 0}
+#define COUNTS(name, member) {name, offsetof(pf_long_flight_report, member), 1}
+static const report_axes REPORT_AXES[] = {
+    DOUBLES("extent_lo", x_lo),
+    DOUBLES("extent_hi", x_hi),
+    DOUBLES("wavenumber_lo", k_lo),
+    DOUBLES("wavenumber_hi", k_hi),
+    DOUBLES("image_lo", image_lo),
+    DOUBLES("image_hi", image_hi),
+    DOUBLES("box", box),
+    DOUBLES("window", window),
+    DOUBLES("scaled_spacing", out_spacing),
+    DOUBLES("scaled_origin", out_centre),
+    COUNTS("scaled_points", out_points),
+    DOUBLES("scaled_time", scaled_time),
+    DOUBLES("chirp_time", chirp_time),
+    {NULL, 0, 0},
+};
+#undef DOUBLES
+#undef COUNTS
+
 /* w:fly_long(t [, {method=, grid=, points=, spacing=, origin=}]) -> w, report */
 static int l_fly_long(lua_State *L)
 {
@@ -83,19 +113,12 @@ static int l_fly_long(lua_State *L)
     lua_setfield(L, -2, "same_grid_ok");
     lua_pushboolean(L, r.scaled_ok);
     lua_setfield(L, -2, "scaled_ok");
-    pfl_set_vector(L, "extent_lo", r.x_lo, d);
-    pfl_set_vector(L, "extent_hi", r.x_hi, d);
-    pfl_set_vector(L, "wavenumber_lo", r.k_lo, d);
-    pfl_set_vector(L, "wavenumber_hi", r.k_hi, d);
-    pfl_set_vector(L, "image_lo", r.image_lo, d);
-    pfl_set_vector(L, "image_hi", r.image_hi, d);
-    pfl_set_vector(L, "box", r.box, d);
-    pfl_set_vector(L, "window", r.window, d);
-    pfl_set_vector(L, "scaled_spacing", r.out_spacing, d);
-    pfl_set_vector(L, "scaled_origin", r.out_centre, d);
-    pfl_set_counts(L, "scaled_points", r.out_points, d);
-    pfl_set_vector(L, "scaled_time", r.scaled_time, d);
-    pfl_set_vector(L, "chirp_time", r.chirp_time, d);
+    /* The per-axis figures, in the report's order (docs), by their script names. */
+    for (const report_axes *f = REPORT_AXES; f->name; f++) {
+        const void *v = (const char *)&r + f->offset;
+        if (f->counts) pfl_set_counts(L, f->name, v, d);
+        else pfl_set_vector(L, f->name, v, d);
+    }
     return 2;
 }
 

@@ -108,6 +108,21 @@ void pfl_check_source(lua_State *L, int arg, pfl_source *src)
     src->mix.weights = w;
 }
 
+void pfl_measurement_begin(lua_State *L, int opts_arg, const pfl_options_decl *decl, unsigned flags,
+                           pfl_measurement *m)
+{
+    if (flags & PFL_OPTIONS_REQUIRED) {
+        pfl_options_check(L, opts_arg, decl);
+        m->opts = lua_absindex(L, opts_arg);
+    } else {
+        m->opts = pfl_options_opt(L, opts_arg, decl);
+    }
+    pfl_check_source(L, 1, &m->src);
+    m->grid = pfl_source_grid(&m->src);
+    m->dim = pf_grid_dim(m->grid);
+    m->axis = flags & PFL_ALONG_AXIS ? pfl_opt_axis(L, m->opts, "axis", m->dim, 1) - 1 : -1;
+}
+
 pf_grid *pfl_source_grid(const pfl_source *src) { return pf_wave_grid(src->mix.members[0]); }
 double pfl_source_mass(const pfl_source *src) { return pf_wave_mass(src->mix.members[0]); }
 

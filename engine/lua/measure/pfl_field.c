@@ -42,13 +42,12 @@ static void push_density_field(lua_State *L, const pf_field *f, pf_rep rep, doub
 /* s:distribution([{space=}]) -> the full density with axes. */
 static int l_distribution(lua_State *L)
 {
-    int opts = pfl_options_opt(L, 2, &DISTRIBUTION_OPTIONS);
-    pfl_source src;
-    pfl_check_source(L, 1, &src);
-    pf_rep rep = pfl_opt_space(L, opts);
+    pfl_measurement me;
+    pfl_measurement_begin(L, 2, &DISTRIBUTION_OPTIONS, 0, &me);
+    pf_rep rep = pfl_opt_space(L, me.opts);
     pf_field f;
-    pfl_source_field(L, &src, rep, &f, "distribution");
-    push_density_field(L, &f, rep, pfl_source_mass(&src));
+    pfl_source_field(L, &me.src, rep, &f, "distribution");
+    push_density_field(L, &f, rep, pfl_source_mass(&me.src));
     pf_field_free(&f);
     return 1;
 }
@@ -66,15 +65,13 @@ static int push_marginal(lua_State *L, const pfl_source *src, pf_rep rep, const 
 /* s:profile(axis [, {space=}]) -> 1D marginal along one axis. */
 static int l_profile(lua_State *L)
 {
-    int opts = pfl_options_opt(L, 3, &PROFILE_OPTIONS);
-    pfl_source src;
-    pfl_check_source(L, 1, &src);
-    int d = pf_grid_dim(pfl_source_grid(&src));
+    pfl_measurement me;
+    pfl_measurement_begin(L, 3, &PROFILE_OPTIONS, 0, &me);
     lua_Integer a = luaL_checkinteger(L, 2);
-    if (a < 1 || a > d) return luaL_argerror(L, 2, lua_pushfstring(L, "axis must be 1..%d", d));
+    if (a < 1 || a > me.dim) return luaL_argerror(L, 2, lua_pushfstring(L, "axis must be 1..%d", me.dim));
     int keep[PF_MAX_DIM] = {0, 0, 0};
     keep[a - 1] = 1;
-    return push_marginal(L, &src, pfl_opt_space(L, opts), keep, "profile");
+    return push_marginal(L, &me.src, pfl_opt_space(L, me.opts), keep, "profile");
 }
 
 /* The option 'axes' of the table at opts (a list of 1-based axes of a
@@ -101,13 +98,11 @@ static void read_axes_flags(lua_State *L, int opts, int d, int *flags, const cha
 /* s:marginal{axes = {..}, space=} -> density integrated over the other axes. */
 static int l_marginal(lua_State *L)
 {
-    pfl_options_check(L, 2, &MARGINAL_OPTIONS);
-    pfl_source src;
-    pfl_check_source(L, 1, &src);
-    int d = pf_grid_dim(pfl_source_grid(&src));
+    pfl_measurement me;
+    pfl_measurement_begin(L, 2, &MARGINAL_OPTIONS, PFL_OPTIONS_REQUIRED, &me);
     int keep[PF_MAX_DIM] = {0, 0, 0};
-    read_axes_flags(L, 2, d, keep, "marginal", "the axes to keep");
-    return push_marginal(L, &src, pfl_opt_space(L, 2), keep, "marginal");
+    read_axes_flags(L, 2, me.dim, keep, "marginal", "the axes to keep");
+    return push_marginal(L, &me.src, pfl_opt_space(L, 2), keep, "marginal");
 }
 
 /* s:column_density([axis]) -> density integrated along the imaging axis
@@ -129,25 +124,23 @@ static int l_column_density(lua_State *L)
  * free axes, the others held at the grid points nearest to 'through'. */
 static int l_slice(lua_State *L)
 {
-    pfl_options_check(L, 2, &SLICE_OPTIONS);
-    pfl_source src;
-    pfl_check_source(L, 1, &src);
-    int d = pf_grid_dim(pfl_source_grid(&src));
+    pfl_measurement me;
+    pfl_measurement_begin(L, 2, &SLICE_OPTIONS, PFL_OPTIONS_REQUIRED, &me);
     pf_rep rep = pfl_opt_space(L, 2);
     int freeax[PF_MAX_DIM] = {0, 0, 0};
-    read_axes_flags(L, 2, d, freeax, "slice", "the free axes");
+    read_axes_flags(L, 2, me.dim, freeax, "slice", "the free axes");
     double through[PF_MAX_DIM] = {0, 0, 0};
-    pfl_field_vector(L, 2, "through", d, through, 0);
+    pfl_field_vector(L, 2, "through", me.dim, through, 0);
     pf_field f, sl;
     size_t fixed[PF_MAX_DIM];
     pf_status s;
-    if (pfl_source_split(&src)) { /* one wave over MPI ranks: from each rank's planes */
-        pfl_source_geometry(L, &src, rep, &f, "slice");
-        for (int a = 0; a < d; a++) fixed[a] = freeax[a] ? PF_FREE_AXIS : pf_field_nearest(&f, a, through[a]);
-        s = pf_dist_slice(src.single, rep, &f, fixed, &sl);
+    if (pfl_source_split(&me.src)) { /* one wave over MPI ranks: from each rank's planes */
+        pfl_source_geometry(L, &me.src, rep, &f, "slice");
+        for (int a = 0; a < me.dim; a++) fixed[a] = freeax[a] ? PF_FREE_AXIS : pf_field_nearest(&f, a, through[a]);
+        s = pf_dist_slice(me.src.single, rep, &f, fixed, &sl);
     } else {
-        pfl_source_field(L, &src, rep, &f, "slice");
-        for (int a = 0; a < d; a++) fixed[a] = freeax[a] ? PF_FREE_AXIS : pf_field_nearest(&f, a, through[a]);
+        pfl_source_field(L, &me.src, rep, &f, "slice");
+        for (int a = 0; a < me.dim; a++) fixed[a] = freeax[a] ? PF_FREE_AXIS : pf_field_nearest(&f, a, through[a]);
         s = pf_field_slice(&f, fixed, &sl);
         pf_field_free(&f);
     }
@@ -155,8 +148,8 @@ static int l_slice(lua_State *L)
     /* A slice keeps the full density's unit (per m^d of the whole grid). */
     char unit[32], lab[32];
     double scale;
-    density_units(rep, d, pfl_source_mass(&src), unit, lab, &scale);
-    pfl_push_field(L, &sl, rep, pfl_source_mass(&src), unit, scale, lab);
+    density_units(rep, me.dim, pfl_source_mass(&me.src), unit, lab, &scale);
+    pfl_push_field(L, &sl, rep, pfl_source_mass(&me.src), unit, scale, lab);
     pf_field_free(&sl);
     return 1;
 }
@@ -165,13 +158,11 @@ static int l_slice(lua_State *L)
  * -> {radius = {..}, values = {..}, count = {..}, unit, axis_unit} */
 static int l_radial_profile(lua_State *L)
 {
-    pfl_options_check(L, 2, &RADIAL_OPTIONS);
-    pfl_source src;
-    pfl_check_source(L, 1, &src);
-    int d = pf_grid_dim(pfl_source_grid(&src));
+    pfl_measurement me;
+    pfl_measurement_begin(L, 2, &RADIAL_OPTIONS, PFL_OPTIONS_REQUIRED, &me);
     pf_rep rep = pfl_opt_space(L, 2);
     double center[PF_MAX_DIM] = {0, 0, 0};
-    pfl_field_vector(L, 2, "center", d, center, 0);
+    pfl_field_vector(L, 2, "center", me.dim, center, 0);
     double bin = pfl_field_number(L, 2, "bin", 0, 1);
     double bins = pfl_field_number(L, 2, "bins", 0, 1);
     if (!(bin > 0)) return luaL_error(L, "radial_profile: field 'bin' must be positive, got %f", bin);
@@ -180,11 +171,11 @@ static int l_radial_profile(lua_State *L)
     double *prof = lua_newuserdatauv(L, 2 * nb * sizeof(double), 0), *cnt = prof + nb;
     pf_field f;
     pf_status s;
-    if (pfl_source_split(&src)) { /* one wave over MPI ranks: from each rank's planes */
-        pfl_source_geometry(L, &src, rep, &f, "radial_profile");
-        s = pf_dist_radial(src.single, rep, &f, center, bin, nb, prof, cnt);
+    if (pfl_source_split(&me.src)) { /* one wave over MPI ranks: from each rank's planes */
+        pfl_source_geometry(L, &me.src, rep, &f, "radial_profile");
+        s = pf_dist_radial(me.src.single, rep, &f, center, bin, nb, prof, cnt);
     } else {
-        pfl_source_field(L, &src, rep, &f, "radial_profile");
+        pfl_source_field(L, &me.src, rep, &f, "radial_profile");
         s = pf_field_radial(&f, center, bin, nb, prof, cnt);
         pf_field_free(&f);
     }
@@ -201,7 +192,7 @@ static int l_radial_profile(lua_State *L)
     lua_setfield(L, -2, "count");
     char unit[32], lab[32];
     double scale;
-    density_units(rep, d, pfl_source_mass(&src), unit, lab, &scale);
+    density_units(rep, me.dim, pfl_source_mass(&me.src), unit, lab, &scale);
     lua_pushstring(L, unit);
     lua_setfield(L, -2, "unit");
     lua_pushstring(L, rep == PF_POSITION ? "m" : "1/m");

@@ -180,35 +180,31 @@ static int l_arrival_times(lua_State *L)
  * -> {values (W(x, p), row-major x then p), shape, x, p, k, unit} */
 static int l_wigner(lua_State *L)
 {
-    int opts = pfl_options_opt(L, 2, &WIGNER_OPTIONS);
-    pfl_source src;
-    pfl_check_source(L, 1, &src);
-    pf_grid *g = pfl_source_grid(&src);
-    int d = pf_grid_dim(g);
-    int axis = pfl_opt_axis(L, opts, "axis", d, 1) - 1;
-    int reduced = opts ? pfl_field_boolean(L, opts, "reduced", 0) : 0;
+    pfl_measurement me;
+    pfl_measurement_begin(L, 2, &WIGNER_OPTIONS, PFL_ALONG_AXIS, &me);
+    pf_grid *g = me.grid;
+    int reduced = me.opts ? pfl_field_boolean(L, me.opts, "reduced", 0) : 0;
     /* A moved frame shifts the Wigner function: W_lab(x, k) = W_chi(x - X,
      * k - K) (the phase theta drops out of psi psi*), so 'through' is read
      * in lab positions and the axes are returned in lab values. */
     pf_frame fr;
-    pfl_source_frame(L, &src, &fr, "wigner");
+    pfl_source_frame(L, &me.src, &fr, "wigner");
     double through[PF_MAX_DIM] = {0, 0, 0};
-    for (int a = 0; a < d; a++) through[a] = fr.position[a];
-    if (opts) pfl_field_vector(L, opts, "through", d, through, 0);
+    for (int a = 0; a < me.dim; a++) through[a] = fr.position[a];
+    if (me.opts) pfl_field_vector(L, me.opts, "through", me.dim, through, 0);
     size_t idx[PF_MAX_DIM] = {0, 0, 0};
-    for (int a = 0; a < d; a++) {
+    for (int a = 0; a < me.dim; a++) {
         double j = nearbyint((through[a] - fr.position[a] - pf_grid_x(g, a, 0)) / pf_grid_spacing(g, a));
         if (j < 0) j = 0;
         if (j > (double)pf_grid_points(g, a) - 1) j = (double)pf_grid_points(g, a) - 1;
         idx[a] = (size_t)j;
     }
-    size_t n = pf_grid_points(g, axis);
+    size_t n = pf_grid_points(g, me.axis);
     if (n > 8192) return luaL_error(L, "wigner: %d points on the axis make a table too large", (int)n);
     double *W = lua_newuserdatauv(L, n * n * sizeof(double), 0);
-    for (size_t i = 0; i < src.mix.count; i++)
-        pfl_check(L, pf_wave_wigner(src.mix.members[i], axis, reduced ? PF_WIGNER_REDUCED : PF_WIGNER_CUT, idx,
-                                    src.mix.weights[i], i > 0, W),
-                  "wigner");
+    const pf_wigner_mode mode = reduced ? PF_WIGNER_REDUCED : PF_WIGNER_CUT;
+    for (size_t i = 0; i < me.src.mix.count; i++)
+        pfl_check(L, pf_wave_wigner(me.src.mix.members[i], me.axis, mode, idx, me.src.mix.weights[i], i > 0, W), "wigner");
     for (size_t i = 0; i < n * n; i++) W[i] /= PF_HBAR; /* W(x, p) = W(x, k) / hbar */
     lua_createtable(L, 0, 7);
     pfl_push_doubles(L, W, n * n);
@@ -220,10 +216,10 @@ static int l_wigner(lua_State *L)
     lua_rawseti(L, -2, 2);
     lua_setfield(L, -2, "shape");
     double *ax = W; /* reuse the buffer for the axes */
-    for (size_t j = 0; j < n; j++) ax[j] = pf_grid_x(g, axis, j) + fr.position[axis];
+    for (size_t j = 0; j < n; j++) ax[j] = pf_grid_x(g, me.axis, j) + fr.position[me.axis];
     pfl_push_doubles(L, ax, n);
     lua_setfield(L, -2, "x");
-    for (size_t j = 0; j < n; j++) ax[j] = pf_grid_k(g, axis, pf_grid_fft_index(g, axis, j)) + fr.wavenumber[axis];
+    for (size_t j = 0; j < n; j++) ax[j] = pf_grid_k(g, me.axis, pf_grid_fft_index(g, me.axis, j)) + fr.wavenumber[me.axis];
     pfl_push_doubles(L, ax, n);
     lua_setfield(L, -2, "k");
     for (size_t j = 0; j < n; j++) ax[j] *= PF_HBAR;

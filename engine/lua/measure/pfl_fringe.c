@@ -91,29 +91,26 @@ static int l_fringes_fn(lua_State *L)
 /* s:fringes{axis=, from=, to=, period=} -> fit of the profile along axis. */
 static int l_fringes(lua_State *L)
 {
-    int opts = pfl_options_opt(L, 2, &FRINGES_OPTIONS);
-    pfl_source src;
-    pfl_check_source(L, 1, &src);
-    pf_grid *g = pfl_source_grid(&src);
-    int d = pf_grid_dim(g);
-    int axis = pfl_opt_axis(L, opts, "axis", d, 1) - 1;
-    double lo = pf_grid_x(g, axis, 0), hi = pf_grid_x(g, axis, pf_grid_points(g, axis) - 1), guess = 0;
+    pfl_measurement me;
+    pfl_measurement_begin(L, 2, &FRINGES_OPTIONS, PFL_ALONG_AXIS, &me);
+    pf_grid *g = me.grid;
+    double lo = pf_grid_x(g, me.axis, 0), hi = pf_grid_x(g, me.axis, pf_grid_points(g, me.axis) - 1), guess = 0;
     { /* the default range is the grid's, in lab positions (the members' shared frame, pf_frame.h) */
         pf_frame fr;
-        pfl_source_frame(L, &src, &fr, "fringes");
-        lo += fr.position[axis];
-        hi += fr.position[axis];
+        pfl_source_frame(L, &me.src, &fr, "fringes");
+        lo += fr.position[me.axis];
+        hi += fr.position[me.axis];
     }
-    if (opts) {
-        lo = pfl_field_number(L, opts, "from", lo, 0);
-        hi = pfl_field_number(L, opts, "to", hi, 0);
-        guess = pfl_field_number(L, opts, "period", 0, 0);
+    if (me.opts) {
+        lo = pfl_field_number(L, me.opts, "from", lo, 0);
+        hi = pfl_field_number(L, me.opts, "to", hi, 0);
+        guess = pfl_field_number(L, me.opts, "period", 0, 0);
     }
-    pf_fringe_envelope env = field_envelope(L, opts, "fringes");
+    pf_fringe_envelope env = field_envelope(L, me.opts, "fringes");
     int keep[PF_MAX_DIM] = {0, 0, 0};
-    keep[axis] = 1;
+    keep[me.axis] = 1;
     pf_field m;
-    pfl_source_marginal(L, &src, PF_POSITION, keep, &m, "fringes");
+    pfl_source_marginal(L, &me.src, PF_POSITION, keep, &m, "fringes");
     pf_status s;
     size_t n = m.n[0];
     double *x = pf_context_alloc(pfl_ctx(L), n * sizeof *x);

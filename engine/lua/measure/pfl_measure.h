@@ -27,6 +27,23 @@ typedef struct pfl_source {
     double unit_weight;
 } pfl_source;
 void pfl_check_source(lua_State *L, int arg, pfl_source *src);
+/* What a measurement method s:name(...) reads first: its options table at
+ * opts_arg, checked against decl before anything else (optional unless
+ * PFL_OPTIONS_REQUIRED: opts is then 0 when it is absent), then the
+ * measured state at argument 1 (pfl_check_source, so one value is pushed),
+ * its grid and the grid's dimension, and with PFL_ALONG_AXIS the 0-based
+ * axis of option 'axis' (default the first; else axis is -1).  Filled in
+ * place: a wave's src points into itself, so the struct is not copied. */
+struct pfl_options_decl;
+enum { PFL_OPTIONS_REQUIRED = 1, PFL_ALONG_AXIS = 2 };
+typedef struct pfl_measurement {
+    int opts;
+    pfl_source src;
+    pf_grid *grid;
+    int dim, axis;
+} pfl_measurement;
+void pfl_measurement_begin(lua_State *L, int opts_arg, const struct pfl_options_decl *decl, unsigned flags,
+                           pfl_measurement *m);
 /* Grid and mass of the source (first member). */
 pf_grid *pfl_source_grid(const pfl_source *src);
 double pfl_source_mass(const pfl_source *src);
