@@ -17,14 +17,24 @@
  * this checks the bulk of the distribution. */
 #define TF_K_REACH 8.0
 
-static pf_status check_axes(pf_context *ctx, int d, const char *what, const double *v, int positive)
+/* A builder's per-axis parameter: its name in messages, its d values and
+ * whether they must be positive (widths, radii) or only finite. */
+typedef struct axis_param {
+    const char *what;
+    const double *v;
+    int positive;
+} axis_param;
+
+/* Checks the n parameters in the order given; the first bad value fails. */
+static pf_status check_params(pf_context *ctx, int d, const axis_param *p, int n)
 {
-    for (int a = 0; a < d; a++) {
-        if (!isfinite(v[a]))
-            return pf_fail(ctx, PF_EINVAL, "%s on axis %d must be finite, got %g", what, a + 1, v[a]);
-        if (positive && !(v[a] > 0))
-            return pf_fail(ctx, PF_EINVAL, "%s on axis %d must be positive, got %g", what, a + 1, v[a]);
-    }
+    for (int i = 0; i < n; i++)
+        for (int a = 0; a < d; a++) {
+            if (!isfinite(p[i].v[a]))
+                return pf_fail(ctx, PF_EINVAL, "%s on axis %d must be finite, got %g", p[i].what, a + 1, p[i].v[a]);
+            if (p[i].positive && !(p[i].v[a] > 0))
+                return pf_fail(ctx, PF_EINVAL, "%s on axis %d must be positive, got %g", p[i].what, a + 1, p[i].v[a]);
+        }
     return PF_OK;
 }
 
@@ -68,9 +78,8 @@ pf_status pf_build_flat_top(pf_wave *w, const double *center, const double *wave
 {
     pf_grid *g = w->grid;
     const int d = g->dim;
-    pf_status s = check_axes(g->ctx, d, "center", center, 0);
-    if (!s) s = check_axes(g->ctx, d, "wave number", wavenumber, 0);
-    if (!s) s = check_axes(g->ctx, d, "half width", half_width, 1);
+    const axis_param params[] = {{"center", center, 0}, {"wave number", wavenumber, 0}, {"half width", half_width, 1}};
+    pf_status s = check_params(g->ctx, d, params, 3);
     if (s) return s;
     if (!isfinite(order) || order < 1.0 || order > FLAT_MAX_ORDER)
         return pf_fail(g->ctx, PF_EINVAL, "flat-top order must be between 1 and %g, got %g", FLAT_MAX_ORDER, order);
@@ -143,9 +152,8 @@ pf_status pf_build_thomas_fermi(pf_wave *w, const double *center, const double *
 {
     pf_grid *g = w->grid;
     const int d = g->dim;
-    pf_status s = check_axes(g->ctx, d, "center", center, 0);
-    if (!s) s = check_axes(g->ctx, d, "Thomas-Fermi radius", radius, 1);
-    if (!s) s = check_axes(g->ctx, d, "wave number", wavenumber, 0);
+    const axis_param params[] = {{"center", center, 0}, {"Thomas-Fermi radius", radius, 1}, {"wave number", wavenumber, 0}};
+    pf_status s = check_params(g->ctx, d, params, 3);
     if (s) return s;
     axis_tables tab;
     if (axis_tables_new(g, &tab)) return pf_context_status(g->ctx);

@@ -44,6 +44,10 @@ void pfl_engine_doubles_free(lua_State *L, int idx);
 /* Raises a Lua error for a failed core call: "name: message".  Returns only
  * when s is PF_OK and no strict-mode warning is pending. */
 void pfl_check(lua_State *L, pf_status s, const char *name);
+/* The end of a method that changed its object (argument 1) in place:
+ * pfl_check(L, s, name), then that object as the one result, so calls
+ * chain (w:kick(k):shift(d)).  Use as `return pfl_return_self(L, s, name);`. */
+int pfl_return_self(lua_State *L, pf_status s, const char *name);
 /* Raises a Lua error of the given kind with a formatted message, prefixed by
  * the calling script position like luaL_error. */
 int pfl_error(lua_State *L, pfl_error_kind kind, const char *fmt, ...);

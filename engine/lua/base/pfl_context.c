@@ -245,6 +245,13 @@ void pfl_check(lua_State *L, pf_status s, const char *name)
     }
 }
 
+int pfl_return_self(lua_State *L, pf_status s, const char *name)
+{
+    pfl_check(L, s, name);
+    lua_settop(L, 1);
+    return 1;
+}
+
 int pfl_error(lua_State *L, pfl_error_kind kind, const char *fmt, ...)
 {
     pfl_state *st = get_state(L);

@@ -118,13 +118,10 @@ void pfl_params_publish(lua_State *L, int mod)
     }
     lua_pop(L, 1);
     lua_newtable(L); /* pf.params itself stays empty: every read goes through __index */
+    static const luaL_Reg params_meta[] = {{"__index", params_index}, {"__pairs", params_pairs}, {NULL, NULL}};
     lua_createtable(L, 0, 2);
-    lua_pushvalue(L, raw);
-    lua_pushcclosure(L, params_index, 1);
-    lua_setfield(L, -2, "__index");
-    lua_pushvalue(L, raw);
-    lua_pushcclosure(L, params_pairs, 1);
-    lua_setfield(L, -2, "__pairs");
+    lua_pushvalue(L, raw); /* both metamethods' upvalue */
+    luaL_setfuncs(L, params_meta, 1);
     lua_setmetatable(L, -2);
     lua_setfield(L, mod, "params");
     lua_settop(L, st - 1);

@@ -12,8 +12,10 @@
 #include "pf_units.h"
 #include "pfl_options.h"
 
-/* __index(proxy, key): upvalue 1 holds the values, upvalue 2 the view's
- * name for messages, upvalue 3 the names in documentation order. */
+/* The metamethods of a view share three upvalues: 1 the values, 2 the
+ * view's name for messages, 3 the names in documentation order. */
+
+/* __index(proxy, key) */
 static int view_index(lua_State *L)
 {
     lua_pushvalue(L, 2);
@@ -46,7 +48,7 @@ static int view_index(lua_State *L)
 
 static int view_newindex(lua_State *L)
 {
-    const char *view = lua_tostring(L, lua_upvalueindex(1));
+    const char *view = lua_tostring(L, lua_upvalueindex(2));
     const char *key = lua_tostring(L, 2);
     return luaL_error(L, "%s is read-only (tried to set '%s'); use a local variable instead", view, key ? key : "?");
 }
@@ -75,19 +77,14 @@ static int view_pairs(lua_State *L)
 static void make_view(lua_State *L, const char *view)
 {
     int names = lua_gettop(L), values = names - 1;
-    lua_newtable(L);                 /* the proxy */
-    lua_createtable(L, 0, 4);        /* its metatable */
-    lua_pushvalue(L, values);
+    static const luaL_Reg view_meta[] = {
+        {"__index", view_index}, {"__newindex", view_newindex}, {"__pairs", view_pairs}, {NULL, NULL}};
+    lua_newtable(L);          /* the proxy */
+    lua_createtable(L, 0, 4); /* its metatable */
+    lua_pushvalue(L, values); /* the metamethods' shared upvalues */
     lua_pushstring(L, view);
     lua_pushvalue(L, names);
-    lua_pushcclosure(L, view_index, 3);
-    lua_setfield(L, -2, "__index");
-    lua_pushstring(L, view);
-    lua_pushcclosure(L, view_newindex, 1);
-    lua_setfield(L, -2, "__newindex");
-    lua_pushvalue(L, values);
-    lua_pushcclosure(L, view_pairs, 1);
-    lua_setfield(L, -2, "__pairs");
+    luaL_setfuncs(L, view_meta, 3);
     lua_pushboolean(L, 0);
     lua_setfield(L, -2, "__metatable");
     lua_setmetatable(L, -2);

@@ -161,9 +161,7 @@ static int set_value(lua_State *L, pf_rep rep, const char *name)
     size_t idx[PF_MAX_DIM];
     pfl_check_indices(L, 2, pf_wave_grid(w), idx, rep == PF_MOMENTUM);
     double complex z = pfl_check_complex(L, 2 + d);
-    pfl_check(L, pf_wave_lab_set_value(w, rep, idx, z), name);
-    lua_settop(L, 1);
-    return 1;
+    return pfl_return_self(L, pf_wave_lab_set_value(w, rep, idx, z), name);
 }
 
 static int l_set_psi(lua_State *L) { return set_value(L, PF_POSITION, "set_psi"); }
@@ -201,17 +199,13 @@ static int l_copy(lua_State *L)
 
 static int l_normalize(lua_State *L)
 {
-    pfl_check(L, pf_wave_normalize(pfl_check_wave(L, 1)), "normalize");
-    lua_settop(L, 1);
-    return 1;
+    return pfl_return_self(L, pf_wave_normalize(pfl_check_wave(L, 1)), "normalize");
 }
 
 static int l_scale(lua_State *L)
 {
     pf_wave *w = pfl_check_wave(L, 1);
-    pfl_check(L, pf_wave_scale(w, pfl_check_complex(L, 2)), "scale");
-    lua_settop(L, 1);
-    return 1;
+    return pfl_return_self(L, pf_wave_scale(w, pfl_check_complex(L, 2)), "scale");
 }
 
 static int l_mass(lua_State *L) { lua_pushnumber(L, pf_wave_mass(pfl_check_wave(L, 1))); return 1; }

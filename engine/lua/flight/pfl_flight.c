@@ -17,9 +17,7 @@ static int l_fly(lua_State *L)
     int opts = pfl_options_opt(L, 3, &FLY_OPTIONS);
     double a[PF_MAX_DIM];
     int accelerated = pfl_frame_acceleration(L, opts, pf_grid_dim(pf_wave_grid(w)), a, "wave:fly");
-    pfl_check(L, pf_wave_fly_in_frame(w, t, accelerated ? a : NULL), "fly");
-    lua_settop(L, 1);
-    return 1;
+    return pfl_return_self(L, pf_wave_fly_in_frame(w, t, accelerated ? a : NULL), "fly");
 }
 
 void pfl_open_flight(lua_State *L, int mod)

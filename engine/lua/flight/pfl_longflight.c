@@ -116,10 +116,9 @@ static int l_fly_scaled(lua_State *L)
     }
     double acc[PF_MAX_DIM];
     int accelerated = pfl_frame_acceleration(L, lua_isnoneornil(L, 3) ? 0 : 3, d, acc, "wave:fly_scaled");
-    pfl_check(L, pf_wave_fly_scaled_in_frame(w, t, has_points ? points : NULL, has_origin ? origin : NULL,
-                                             accelerated ? acc : NULL), "fly_scaled");
-    lua_settop(L, 1);
-    return 1;
+    pf_status s = pf_wave_fly_scaled_in_frame(w, t, has_points ? points : NULL, has_origin ? origin : NULL,
+                                              accelerated ? acc : NULL);
+    return pfl_return_self(L, s, "fly_scaled");
 }
 
 void pfl_open_longflight(lua_State *L, int mod)

@@ -16,9 +16,7 @@ static int l_fall(lua_State *L)
     double a[PF_MAX_DIM];
     if (lua_isnoneornil(L, 3)) return luaL_argerror(L, 3, "acceleration (m/s^2, one value per axis) expected");
     pfl_check_axis_values(L, 3, dim_of(w), a, "acceleration (m/s^2)");
-    pfl_check(L, pf_wave_lab_fall(w, t, a), "fall");
-    lua_settop(L, 1);
-    return 1;
+    return pfl_return_self(L, pf_wave_lab_fall(w, t, a), "fall");
 }
 
 void pfl_open_force(lua_State *L, int mod)

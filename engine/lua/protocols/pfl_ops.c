@@ -61,6 +61,21 @@ static void frame_offsets(const pf_wave *w, double *X, double *V)
     }
 }
 
+/* A pattern that repeats with period (m) along axis, given in the lab, sits
+ * on the co-moving grid shifted by the frame offset X; only X's fraction of
+ * a period matters, and it is taken exactly (fmod) before a phase or an
+ * offset is formed from it.  Returns 0 (fraction unset) when there is no
+ * shift to apply: the wave never moved, or the period is not a positive
+ * finite number (the core then reports the bad period). */
+static int frame_period_fraction(const pf_wave *w, int axis, double period, double *fraction)
+{
+    double X[PF_MAX_DIM], V[PF_MAX_DIM];
+    frame_offsets(w, X, V);
+    if (X[axis] == 0 || !isfinite(period) || !(period > 0)) return 0;
+    *fraction = fmod(X[axis] / period, 1.0);
+    return 1;
+}
+
 /* w:kick(kx [, ky, kz] [, {frame = true}]) - momentum kick hbar k (k in
  * rad/m, per axis) in the lab.  frame = true puts it into the wave's frame
  * (pf_frame.h) instead of on the grid, so a fast cloud needs no momentum
@@ -73,9 +88,7 @@ static int l_kick(lua_State *L)
     pfl_check_axis_values(L, 2, d, k, "kick wave number (rad/m)");
     int opts = pfl_options_opt(L, lua_type(L, 2) == LUA_TTABLE ? 3 : 2 + d, &KICK_OPTIONS);
     int in_frame = opts ? pfl_field_boolean(L, opts, "frame", 0) : 0;
-    pfl_check(L, in_frame ? pf_wave_frame_kick(w, k) : pf_wave_lab_kick(w, k), "kick");
-    lua_settop(L, 1);
-    return 1;
+    return pfl_return_self(L, in_frame ? pf_wave_frame_kick(w, k) : pf_wave_lab_kick(w, k), "kick");
 }
 
 /* w:imprint(f) - psi *= exp(i f(x[, y, z])), f in rad. */
@@ -87,9 +100,7 @@ static int l_imprint(lua_State *L)
     pfl_sampler_frame_offset(w, PF_POSITION, s.offset); /* f sees lab positions */
     pf_status st = pf_wave_imprint(w, pfl_sample_cb, &s);
     if (st == PF_ECALLBACK) return pfl_raise_callback(L, "imprint");
-    pfl_check(L, st, "imprint");
-    lua_settop(L, 1);
-    return 1;
+    return pfl_return_self(L, st, "imprint");
 }
 
 /* w:grating{depth = rad, period = m, axis = 1, phase = 0} - thin standing-wave
@@ -102,14 +113,10 @@ static int l_grating(lua_State *L)
     double depth = pfl_field_number(L, 2, "depth", 0, 1);
     double period = pfl_field_number(L, 2, "period", 0, 1);
     double phase = pfl_field_number(L, 2, "phase", 0, 0);
-    double X[PF_MAX_DIM], V[PF_MAX_DIM];
-    frame_offsets(w, X, V);
-    /* cos(2 pi (xi + X) / period + phase): the offset's whole periods drop out
-     * exactly before the phase is formed. */
-    if (X[axis] != 0 && isfinite(period) && period > 0) phase += PF_TWO_PI * fmod(X[axis] / period, 1.0);
-    pfl_check(L, pf_wave_grating(w, axis, depth, period, phase), "grating");
-    lua_settop(L, 1);
-    return 1;
+    /* cos(2 pi (xi + X) / period + phase) on the co-moving grid. */
+    double fraction;
+    if (frame_period_fraction(w, axis, period, &fraction)) phase += PF_TWO_PI * fraction;
+    return pfl_return_self(L, pf_wave_grating(w, axis, depth, period, phase), "grating");
 }
 
 /* w:lens(f [, {axis = a, center = c}]) - thin quadratic-phase lens of focal
@@ -128,9 +135,7 @@ static int l_lens(lua_State *L)
     double center[PF_MAX_DIM] = {0, 0, 0};
     pfl_field_vector(L, 3, "center", d, center, 0);
     if (!pf_wave_frame_moved(w)) {
-        pfl_check(L, pf_wave_lens(w, axis, f, center), "lens");
-        lua_settop(L, 1);
-        return 1;
+        return pfl_return_self(L, pf_wave_lens(w, axis, f, center), "lens");
     }
     /* Moving frame: -m (xi - c')^2 / 2 hbar f with c' = c - X splits into a
      * lens about the grid's 0, a kick q = m c' / (hbar f) that goes into the
@@ -147,9 +152,7 @@ static int l_lens(lua_State *L)
     }
     pfl_check(L, pf_wave_lens(w, axis, f, NULL), "lens");
     for (int a = 0; a < d; a++) fr.wavenumber[a] += q[a]; /* exp(i q xi): K += q, no phase q.X */
-    pfl_check(L, pf_wave_set_frame(w, &fr), "lens");
-    lua_settop(L, 1);
-    return 1;
+    return pfl_return_self(L, pf_wave_set_frame(w, &fr), "lens");
 }
 
 /* Fields edges = "exact" (default: edges where they are, band-limited) or
@@ -212,9 +215,8 @@ static int l_mask_grating(lua_State *L)
     double period = pfl_field_number(L, 2, "period", 0, 1);
     double open = pfl_field_number(L, 2, "open_fraction", 0.5, 0);
     double offset = pfl_field_number(L, 2, "offset", 0, 0);
-    double X[PF_MAX_DIM], V[PF_MAX_DIM];
-    frame_offsets(w, X, V);
-    if (X[axis] != 0 && isfinite(period) && period > 0) offset -= period * fmod(X[axis] / period, 1.0);
+    double fraction;
+    if (frame_period_fraction(w, axis, period, &fraction)) offset -= period * fraction;
     pf_edges e = field_edges(L, 2, "mask_grating");
     double removed = 0;
     pfl_check(L, pf_wave_mask_grating(w, axis, period, open, offset, &e, &removed), "mask_grating");
@@ -319,9 +321,7 @@ static int l_shift(lua_State *L)
     pf_wave *w = pfl_check_wave(L, 1);
     double d[PF_MAX_DIM];
     pfl_check_axis_values(L, 2, dim_of(w), d, "shift distance (m)");
-    pfl_check(L, pf_wave_lab_shift(w, d), "shift");
-    lua_settop(L, 1);
-    return 1;
+    return pfl_return_self(L, pf_wave_lab_shift(w, d), "shift");
 }
 
 /* w:select_velocity{width = m/s, center = 0, axis = 1, shape = "box"|"gaussian"} -> w, removed */

@@ -86,9 +86,7 @@ static int l_add(lua_State *L)
 {
     pf_wave *w = pfl_check_wave(L, 1), *o = pfl_check_wave(L, 2);
     double complex a = lua_isnoneornil(L, 3) ? 1.0 : pfl_check_complex(L, 3);
-    pfl_check(L, pf_wave_lab_axpy(w, a, o), "add");
-    lua_settop(L, 1);
-    return 1;
+    return pfl_return_self(L, pf_wave_lab_axpy(w, a, o), "add");
 }
 
 /* w:inner(other) -> <w|other> as a complex number. */

@@ -114,12 +114,43 @@ static int read_normalize(lua_State *L, int t, const char *fname)
     return v;
 }
 
-/* Creates the wave, pushes it (Lua owns it from here on) and returns it. */
-static pf_wave *new_wave(lua_State *L, pf_grid *g, double mass, const char *fname)
+/* What every builder reads first and uses to the end: the grid (argument
+ * 1), its dimension, and from the options table (argument 2, checked
+ * against the builder's declared fields before anything is read) the mass;
+ * name is the builder's name in messages. */
+typedef struct builder {
+    const char *name;
+    pf_grid *grid;
+    int dim;
+    double mass;
+} builder;
+
+static builder begin_build(lua_State *L, const pfl_options_decl *options, const char *name)
 {
+    builder b = {name, pfl_check_grid(L, 1), 0, 0};
+    pfl_options_check(L, 2, options);
+    b.dim = pf_grid_dim(b.grid);
+    b.mass = pfl_field_mass(L, 2, name);
+    return b;
+}
+
+/* The last step before the core builder fills the state: reads field
+ * 'normalize' into *normalize, then creates the wave, pushes it (Lua owns
+ * it from here on, as the builder's one result) and returns it. */
+static pf_wave *new_state(lua_State *L, const builder *b, int *normalize)
+{
+    *normalize = read_normalize(L, 2, b->name);
     pf_wave **slot = pfl_push_wave_slot(L);
-    pfl_check(L, pf_wave_new(g, mass, slot), fname);
+    pfl_check(L, pf_wave_new(b->grid, b->mass, slot), b->name);
     return *slot;
+}
+
+/* Where a state sits and how it moves: field 'center' (m) and one of the
+ * mean-motion fields (read_motion). */
+static void read_placement(lua_State *L, const builder *b, double *center, double *k0)
+{
+    read_vector(L, 2, b->name, "center", b->dim, center, 0);
+    read_motion(L, 2, b->name, b->dim, b->mass, k0);
 }
 
 #define ENVELOPE_FIELDS                                                                                          \
@@ -144,8 +175,11 @@ static const pfl_options_decl SAMPLED_OPTIONS = {
 
 /* Gaussian envelope: size (one of width, momentum_width, velocity_width,
  * covariance), centre, mean motion and chirp (chirp or expansion_rate). */
-static void read_envelope(lua_State *L, int t, const char *fname, int d, double mass, pf_gaussian_spec *spec)
+static void read_envelope(lua_State *L, const builder *state, pf_gaussian_spec *spec)
 {
+    const int t = 2, d = state->dim;
+    const char *fname = state->name;
+    const double mass = state->mass;
     static const char *const sizes[] = {"width", "momentum_width", "velocity_width", "covariance", NULL};
     static const char *const chirps[] = {"chirp", "expansion_rate", NULL};
     pf_gaussian_spec_init(spec, 1.0);
@@ -165,8 +199,7 @@ static void read_envelope(lua_State *L, int t, const char *fname, int d, double 
             spec->covariance[a][a] = sx * sx;
         }
     }
-    read_vector(L, t, fname, "center", d, spec->center, 0);
-    read_motion(L, t, fname, d, mass, spec->wavenumber);
+    read_placement(L, state, spec->center, spec->wavenumber);
     int c = choose(L, t, fname, chirps, 0);
     if (c >= 0) {
         read_matrix(L, t, fname, chirps[c], d, spec->chirp);
@@ -182,15 +215,12 @@ static void read_envelope(lua_State *L, int t, const char *fname, int d, double 
  *                    chirp=|expansion_rate=, normalize=true}) */
 static int l_gaussian(lua_State *L)
 {
-    pf_grid *g = pfl_check_grid(L, 1);
-    pfl_options_check(L, 2, &GAUSSIAN_OPTIONS);
-    int d = pf_grid_dim(g);
-    double mass = pfl_field_mass(L, 2, "gaussian");
+    builder b = begin_build(L, &GAUSSIAN_OPTIONS, "gaussian");
     pf_gaussian_spec spec;
-    read_envelope(L, 2, "gaussian", d, mass, &spec);
-    int normalize = read_normalize(L, 2, "gaussian");
-    pf_wave *w = new_wave(L, g, mass, "gaussian");
-    pfl_check(L, pf_build_gaussian(w, &spec, normalize), "gaussian");
+    read_envelope(L, &b, &spec);
+    int normalize;
+    pf_wave *w = new_state(L, &b, &normalize);
+    pfl_check(L, pf_build_gaussian(w, &spec, normalize), b.name);
     return 1;
 }
 
@@ -200,58 +230,54 @@ static int l_gaussian(lua_State *L)
 static int l_momentum_orders(lua_State *L)
 {
     static const char *const steps[] = {"step_momentum", "step_wavenumber", "step_velocity", NULL};
-    const char *fname = "momentum_orders";
-    pf_grid *g = pfl_check_grid(L, 1);
-    pfl_options_check(L, 2, &ORDERS_OPTIONS);
-    int d = pf_grid_dim(g);
-    double mass = pfl_field_mass(L, 2, fname);
+    builder b = begin_build(L, &ORDERS_OPTIONS, "momentum_orders");
     pf_gaussian_spec spec;
-    read_envelope(L, 2, fname, d, mass, &spec);
-    int which = choose(L, 2, fname, steps, 1);
+    read_envelope(L, &b, &spec);
+    int which = choose(L, 2, b.name, steps, 1);
     double step[PF_MAX_DIM];
-    if (d > 1 && pfl_option_get(L, 2, steps[which]) == LUA_TNUMBER)
+    if (b.dim > 1 && pfl_option_get(L, 2, steps[which]) == LUA_TNUMBER)
         return luaL_error(L, "%s: on a %dD grid field '%s' must be a vector of %d numbers (the kick direction)",
-                          fname, d, steps[which], d);
-    if (d > 1) lua_pop(L, 1);
-    read_vector(L, 2, fname, steps[which], d, step, 0);
-    double f = which == 0 ? 1.0 / PF_HBAR : which == 1 ? 1.0 : mass / PF_HBAR;
-    for (int a = 0; a < d; a++) step[a] *= f;
-    if (pfl_option_get(L, 2, "orders") != LUA_TTABLE) return luaL_error(L, "%s: field 'orders' must be a table of orders", fname);
+                          b.name, b.dim, steps[which], b.dim);
+    if (b.dim > 1) lua_pop(L, 1);
+    read_vector(L, 2, b.name, steps[which], b.dim, step, 0);
+    double f = which == 0 ? 1.0 / PF_HBAR : which == 1 ? 1.0 : b.mass / PF_HBAR;
+    for (int a = 0; a < b.dim; a++) step[a] *= f;
+    if (pfl_option_get(L, 2, "orders") != LUA_TTABLE) return luaL_error(L, "%s: field 'orders' must be a table of orders", b.name);
     lua_Integer count = luaL_len(L, -1);
-    if (count < 1 || count > 100000) return luaL_error(L, "%s: field 'orders' must list 1..100000 orders, got %d", fname, (int)count);
+    if (count < 1 || count > 100000) return luaL_error(L, "%s: field 'orders' must list 1..100000 orders, got %d", b.name, (int)count);
     pf_order *orders = lua_newuserdatauv(L, (size_t)count * sizeof *orders, 0); /* freed by Lua on error */
     int list = lua_absindex(L, -2);
     for (lua_Integer i = 1; i <= count; i++) {
         char buf[80];
         if (lua_geti(L, list, i) != LUA_TTABLE)
-            return luaL_error(L, "%s: orders entry %d must be a table {n=, amplitude=, phase=}", fname, (int)i);
+            return luaL_error(L, "%s: orders entry %d must be a table {n=, amplitude=, phase=}", b.name, (int)i);
         int e = lua_gettop(L);
         pfl_options_check(L, e, &ORDER_OPTIONS);
         int ok;
         pfl_option_get(L, e, "n");
         lua_Integer n = pfl_tointegerx(L, -1, &ok);
-        if (!ok) return luaL_error(L, "%s: orders entry %d needs an integer 'n', got %s", fname, (int)i, pfl_describe(L, -1, buf, sizeof buf));
+        if (!ok) return luaL_error(L, "%s: orders entry %d needs an integer 'n', got %s", b.name, (int)i, pfl_describe(L, -1, buf, sizeof buf));
         lua_pop(L, 1);
         double complex amp = 1.0;
         if (pfl_option_get(L, e, "amplitude") != LUA_TNIL && (!pfl_to_complex(L, -1, &amp) || !isfinite(creal(amp)) || !isfinite(cimag(amp))))
-            return luaL_error(L, "%s: orders entry %d: 'amplitude' must be a finite number or complex, got %s", fname,
+            return luaL_error(L, "%s: orders entry %d: 'amplitude' must be a finite number or complex, got %s", b.name,
                               (int)i, pfl_describe(L, -1, buf, sizeof buf));
         lua_pop(L, 1);
         double phase = 0;
         if (pfl_option_get(L, e, "phase") != LUA_TNIL) {
             phase = lua_tonumber(L, -1);
             if (lua_type(L, -1) != LUA_TNUMBER || !isfinite(phase))
-                return luaL_error(L, "%s: orders entry %d: 'phase' must be a finite number (rad), got %s", fname,
+                return luaL_error(L, "%s: orders entry %d: 'phase' must be a finite number (rad), got %s", b.name,
                                   (int)i, pfl_describe(L, -1, buf, sizeof buf));
         }
         lua_pop(L, 2);
-        if (n < -100000 || n > 100000) return luaL_error(L, "%s: orders entry %d: 'n' must be within +-100000, got %d", fname, (int)i, (int)n);
+        if (n < -100000 || n > 100000) return luaL_error(L, "%s: orders entry %d: 'n' must be within +-100000, got %d", b.name, (int)i, (int)n);
         orders[i - 1].n = (int)n;
         orders[i - 1].amplitude = amp * cexp(I * phase);
     }
-    int normalize = read_normalize(L, 2, fname);
-    pf_wave *w = new_wave(L, g, mass, fname);
-    pfl_check(L, pf_build_orders(w, &spec, step, orders, (size_t)count, normalize), fname);
+    int normalize;
+    pf_wave *w = new_state(L, &b, &normalize);
+    pfl_check(L, pf_build_orders(w, &spec, step, orders, (size_t)count, normalize), b.name);
     return 1;
 }
 
@@ -268,42 +294,34 @@ static void read_trap(lua_State *L, int t, const char *fname, int d, double *ome
 /* pf.ground_state(grid, {mass=, omega=|frequency=, center=, velocity=|..., normalize=}) */
 static int l_ground_state(lua_State *L)
 {
-    const char *fname = "ground_state";
-    pf_grid *g = pfl_check_grid(L, 1);
-    pfl_options_check(L, 2, &GROUND_STATE_OPTIONS);
-    int d = pf_grid_dim(g);
-    double mass = pfl_field_mass(L, 2, fname), omega[PF_MAX_DIM], center[PF_MAX_DIM] = {0, 0, 0}, k0[PF_MAX_DIM];
-    read_trap(L, 2, fname, d, omega);
-    read_vector(L, 2, fname, "center", d, center, 0);
-    read_motion(L, 2, fname, d, mass, k0);
-    int normalize = read_normalize(L, 2, fname);
-    pf_wave *w = new_wave(L, g, mass, fname);
-    pfl_check(L, pf_build_ground_state(w, omega, center, k0, normalize), fname);
+    builder b = begin_build(L, &GROUND_STATE_OPTIONS, "ground_state");
+    double omega[PF_MAX_DIM], center[PF_MAX_DIM] = {0, 0, 0}, k0[PF_MAX_DIM];
+    read_trap(L, 2, b.name, b.dim, omega);
+    read_placement(L, &b, center, k0);
+    int normalize;
+    pf_wave *w = new_state(L, &b, &normalize);
+    pfl_check(L, pf_build_ground_state(w, omega, center, k0, normalize), b.name);
     return 1;
 }
 
 /* pf.oscillator(grid, {mass=, omega=|frequency=, n=, center=, velocity=|..., normalize=}) */
 static int l_oscillator(lua_State *L)
 {
-    const char *fname = "oscillator";
-    pf_grid *g = pfl_check_grid(L, 1);
-    pfl_options_check(L, 2, &OSCILLATOR_OPTIONS);
-    int d = pf_grid_dim(g);
-    double mass = pfl_field_mass(L, 2, fname), omega[PF_MAX_DIM], center[PF_MAX_DIM] = {0, 0, 0}, k0[PF_MAX_DIM];
-    read_trap(L, 2, fname, d, omega);
+    builder b = begin_build(L, &OSCILLATOR_OPTIONS, "oscillator");
+    double omega[PF_MAX_DIM], center[PF_MAX_DIM] = {0, 0, 0}, k0[PF_MAX_DIM];
+    read_trap(L, 2, b.name, b.dim, omega);
     double nv[PF_MAX_DIM];
-    if (!read_vector(L, 2, fname, "n", d, nv, 0)) return luaL_error(L, "%s: missing field 'n' (quantum number per axis)", fname);
+    if (!read_vector(L, 2, b.name, "n", b.dim, nv, 0)) return luaL_error(L, "%s: missing field 'n' (quantum number per axis)", b.name);
     int n[PF_MAX_DIM];
-    for (int a = 0; a < d; a++) {
+    for (int a = 0; a < b.dim; a++) {
         if (nv[a] != floor(nv[a]) || nv[a] < 0 || nv[a] > 5000)
-            return luaL_error(L, "%s: field 'n' entry %d must be an integer 0..5000, got %f", fname, a + 1, nv[a]);
+            return luaL_error(L, "%s: field 'n' entry %d must be an integer 0..5000, got %f", b.name, a + 1, nv[a]);
         n[a] = (int)nv[a];
     }
-    read_vector(L, 2, fname, "center", d, center, 0);
-    read_motion(L, 2, fname, d, mass, k0);
-    int normalize = read_normalize(L, 2, fname);
-    pf_wave *w = new_wave(L, g, mass, fname);
-    pfl_check(L, pf_build_oscillator(w, omega, n, center, k0, normalize), fname);
+    read_placement(L, &b, center, k0);
+    int normalize;
+    pf_wave *w = new_state(L, &b, &normalize);
+    pfl_check(L, pf_build_oscillator(w, omega, n, center, k0, normalize), b.name);
     return 1;
 }
 
@@ -312,20 +330,17 @@ static int l_oscillator(lua_State *L)
 static int l_flat_top(lua_State *L)
 {
     static const char *const widths[] = {"half_width", "velocity_half_width", "wavenumber_half_width", NULL};
-    const char *fname = "flat_top";
-    pf_grid *g = pfl_check_grid(L, 1);
-    pfl_options_check(L, 2, &FLAT_TOP_OPTIONS);
-    int d = pf_grid_dim(g);
-    double mass = pfl_field_mass(L, 2, fname), kappa[PF_MAX_DIM], center[PF_MAX_DIM] = {0, 0, 0}, k0[PF_MAX_DIM];
-    int which = choose(L, 2, fname, widths, 1);
-    read_vector(L, 2, fname, widths[which], d, kappa, 1);
-    double f = which == 0 ? 1.0 / PF_HBAR : which == 1 ? mass / PF_HBAR : 1.0;
-    for (int a = 0; a < d; a++) kappa[a] *= f;
+    builder b = begin_build(L, &FLAT_TOP_OPTIONS, "flat_top");
+    double kappa[PF_MAX_DIM], center[PF_MAX_DIM] = {0, 0, 0}, k0[PF_MAX_DIM];
+    int which = choose(L, 2, b.name, widths, 1);
+    read_vector(L, 2, b.name, widths[which], b.dim, kappa, 1);
+    double f = which == 0 ? 1.0 / PF_HBAR : which == 1 ? b.mass / PF_HBAR : 1.0;
+    for (int a = 0; a < b.dim; a++) kappa[a] *= f;
     double order = 4.0;
     if (pfl_option_get(L, 2, "order") != LUA_TNIL) {
         order = lua_tonumber(L, -1);
         if (lua_type(L, -1) != LUA_TNUMBER || !(order >= 1 && order <= 50))
-            return luaL_error(L, "%s: field 'order' must be a number from 1 (Gaussian) to 50, got %s", fname,
+            return luaL_error(L, "%s: field 'order' must be a number from 1 (Gaussian) to 50, got %s", b.name,
                               pfl_describe(L, -1, (char[80]){0}, 80));
     }
     lua_pop(L, 1);
@@ -334,32 +349,27 @@ static int l_flat_top(lua_State *L)
         const char *s = lua_tostring(L, -1);
         if (lua_type(L, -1) == LUA_TSTRING && strcmp(s, "box") == 0) shape = PF_FLAT_BOX;
         else if (lua_type(L, -1) == LUA_TSTRING && strcmp(s, "round") == 0) shape = PF_FLAT_ROUND;
-        else return luaL_error(L, "%s: field 'shape' must be \"box\" or \"round\", got %s", fname, pfl_describe(L, -1, (char[80]){0}, 80));
+        else return luaL_error(L, "%s: field 'shape' must be \"box\" or \"round\", got %s", b.name, pfl_describe(L, -1, (char[80]){0}, 80));
     }
     lua_pop(L, 1);
-    read_vector(L, 2, fname, "center", d, center, 0);
-    read_motion(L, 2, fname, d, mass, k0);
-    int normalize = read_normalize(L, 2, fname);
-    pf_wave *w = new_wave(L, g, mass, fname);
-    pfl_check(L, pf_build_flat_top(w, center, k0, kappa, order, shape, normalize), fname);
+    read_placement(L, &b, center, k0);
+    int normalize;
+    pf_wave *w = new_state(L, &b, &normalize);
+    pfl_check(L, pf_build_flat_top(w, center, k0, kappa, order, shape, normalize), b.name);
     return 1;
 }
 
 /* pf.thomas_fermi(grid, {mass=, radius=, center=, velocity=|..., normalize=}) */
 static int l_thomas_fermi(lua_State *L)
 {
-    const char *fname = "thomas_fermi";
-    pf_grid *g = pfl_check_grid(L, 1);
-    pfl_options_check(L, 2, &THOMAS_FERMI_OPTIONS);
-    int d = pf_grid_dim(g);
-    double mass = pfl_field_mass(L, 2, fname), radius[PF_MAX_DIM], center[PF_MAX_DIM] = {0, 0, 0}, k0[PF_MAX_DIM];
-    if (!read_vector(L, 2, fname, "radius", d, radius, 1))
-        return luaL_error(L, "%s: missing field 'radius' (Thomas-Fermi radius per axis, m)", fname);
-    read_vector(L, 2, fname, "center", d, center, 0);
-    read_motion(L, 2, fname, d, mass, k0);
-    int normalize = read_normalize(L, 2, fname);
-    pf_wave *w = new_wave(L, g, mass, fname);
-    pfl_check(L, pf_build_thomas_fermi(w, center, radius, k0, normalize), fname);
+    builder b = begin_build(L, &THOMAS_FERMI_OPTIONS, "thomas_fermi");
+    double radius[PF_MAX_DIM], center[PF_MAX_DIM] = {0, 0, 0}, k0[PF_MAX_DIM];
+    if (!read_vector(L, 2, b.name, "radius", b.dim, radius, 1))
+        return luaL_error(L, "%s: missing field 'radius' (Thomas-Fermi radius per axis, m)", b.name);
+    read_placement(L, &b, center, k0);
+    int normalize;
+    pf_wave *w = new_state(L, &b, &normalize);
+    pfl_check(L, pf_build_thomas_fermi(w, center, radius, k0, normalize), b.name);
     return 1;
 }
 
@@ -387,12 +397,8 @@ static double *read_numbers(lua_State *L, int idx, const char *fname, const char
  *                   values={...}, interpolation="linear"|"cubic", normalize=}) */
 static int l_sampled(lua_State *L)
 {
-    const char *fname = "sampled";
     char buf[80];
-    pf_grid *g = pfl_check_grid(L, 1);
-    pfl_options_check(L, 2, &SAMPLED_OPTIONS);
-    int d = pf_grid_dim(g);
-    double mass = pfl_field_mass(L, 2, fname);
+    builder b = begin_build(L, &SAMPLED_OPTIONS, "sampled");
     pf_rep rep = PF_POSITION;
     pfl_field_space(L, 2, &rep);
     pf_interp method = PF_INTERP_LINEAR;
@@ -400,47 +406,47 @@ static int l_sampled(lua_State *L)
         const char *s = lua_tostring(L, -1);
         if (lua_type(L, -1) == LUA_TSTRING && strcmp(s, "linear") == 0) method = PF_INTERP_LINEAR;
         else if (lua_type(L, -1) == LUA_TSTRING && strcmp(s, "cubic") == 0) method = PF_INTERP_CUBIC;
-        else return luaL_error(L, "%s: field 'interpolation' must be \"linear\" or \"cubic\", got %s", fname, pfl_describe(L, -1, buf, sizeof buf));
+        else return luaL_error(L, "%s: field 'interpolation' must be \"linear\" or \"cubic\", got %s", b.name, pfl_describe(L, -1, buf, sizeof buf));
     }
     lua_pop(L, 1);
     static const char *const coords[] = {"x", "k", "axes", NULL};
-    int which = choose(L, 2, fname, coords, 1);
-    if (which < 2 && d != 1) return luaL_error(L, "%s: on a %dD grid give 'axes' (one coordinate list per axis)", fname, d);
-    if (which == 0 && rep == PF_MOMENTUM) return luaL_error(L, "%s: momentum samples take their coordinates in 'k' (1/m)", fname);
-    if (which == 1 && rep == PF_POSITION) return luaL_error(L, "%s: 'k' coordinates need space = \"momentum\"", fname);
+    int which = choose(L, 2, b.name, coords, 1);
+    if (which < 2 && b.dim != 1) return luaL_error(L, "%s: on a %dD grid give 'axes' (one coordinate list per axis)", b.name, b.dim);
+    if (which == 0 && rep == PF_MOMENTUM) return luaL_error(L, "%s: momentum samples take their coordinates in 'k' (1/m)", b.name);
+    if (which == 1 && rep == PF_POSITION) return luaL_error(L, "%s: 'k' coordinates need space = \"momentum\"", b.name);
     size_t counts[PF_MAX_DIM];
     const double *axes[PF_MAX_DIM];
     pfl_option_get(L, 2, coords[which]);
-    if (!lua_istable(L, -1)) return luaL_error(L, "%s: field '%s' must be a table", fname, coords[which]);
+    if (!lua_istable(L, -1)) return luaL_error(L, "%s: field '%s' must be a table", b.name, coords[which]);
     if (which < 2) {
-        axes[0] = read_numbers(L, -1, fname, coords[which], &counts[0]);
+        axes[0] = read_numbers(L, -1, b.name, coords[which], &counts[0]);
     } else {
-        if (luaL_len(L, -1) != d) return luaL_error(L, "%s: field 'axes' must hold %d coordinate lists, got %d", fname, d, (int)luaL_len(L, -1));
+        if (luaL_len(L, -1) != b.dim) return luaL_error(L, "%s: field 'axes' must hold %d coordinate lists, got %d", b.name, b.dim, (int)luaL_len(L, -1));
         int list = lua_gettop(L);
-        for (int a = 0; a < d; a++) {
-            if (lua_geti(L, list, a + 1) != LUA_TTABLE) return luaL_error(L, "%s: axes entry %d must be a table of numbers", fname, a + 1);
+        for (int a = 0; a < b.dim; a++) {
+            if (lua_geti(L, list, a + 1) != LUA_TTABLE) return luaL_error(L, "%s: axes entry %d must be a table of numbers", b.name, a + 1);
             char what[32];
             snprintf(what, sizeof what, "axes[%d]", a + 1);
-            axes[a] = read_numbers(L, -1, fname, what, &counts[a]);
+            axes[a] = read_numbers(L, -1, b.name, what, &counts[a]);
             lua_remove(L, -2); /* keep the buffer, drop the Lua list */
         }
     }
     size_t total = 1;
-    for (int a = 0; a < d; a++) total *= counts[a];
-    if (pfl_option_get(L, 2, "values") != LUA_TTABLE) return luaL_error(L, "%s: field 'values' must be a table of numbers or complex values", fname);
+    for (int a = 0; a < b.dim; a++) total *= counts[a];
+    if (pfl_option_get(L, 2, "values") != LUA_TTABLE) return luaL_error(L, "%s: field 'values' must be a table of numbers or complex values", b.name);
     if ((size_t)luaL_len(L, -1) != total)
-        return luaL_error(L, "%s: field 'values' must hold %d values (row-major, last axis fastest), got %d", fname, (int)total, (int)luaL_len(L, -1));
+        return luaL_error(L, "%s: field 'values' must hold %d values (row-major, last axis fastest), got %d", b.name, (int)total, (int)luaL_len(L, -1));
     int vals = lua_gettop(L);
     double complex *values = lua_newuserdatauv(L, total * sizeof *values, 0);
     for (size_t i = 0; i < total; i++) {
         lua_geti(L, vals, (lua_Integer)i + 1);
         if (!pfl_to_complex(L, -1, &values[i]))
-            return luaL_error(L, "%s: values entry %d must be a number or complex, got %s", fname, (int)i + 1, pfl_describe(L, -1, buf, sizeof buf));
+            return luaL_error(L, "%s: values entry %d must be a number or complex, got %s", b.name, (int)i + 1, pfl_describe(L, -1, buf, sizeof buf));
         lua_pop(L, 1);
     }
-    int normalize = read_normalize(L, 2, fname);
-    pf_wave *w = new_wave(L, g, mass, fname);
-    pfl_check(L, pf_build_sampled(w, rep, counts, axes, values, method, normalize), fname);
+    int normalize;
+    pf_wave *w = new_state(L, &b, &normalize);
+    pfl_check(L, pf_build_sampled(w, rep, counts, axes, values, method, normalize), b.name);
     return 1;
 }
 
