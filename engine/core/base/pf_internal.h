@@ -108,6 +108,11 @@ struct pf_grid {
         double tau;
         double complex *table[PF_MAX_DIM];
     } evolve_kin[2];
+    /* Records of what an evolve call measures on the way (pf_splitstep.c,
+     * seg_probe), kept with the grid so that a repeat call allocates
+     * nothing; sized for the segments of its last call. */
+    void *evolve_probe;
+    size_t evolve_probe_bytes;
     double *reduce_part;              /* partial sums of pf_reduce_axis_moments, reserved with the grid */
     /* Zero-padded 1D plans of pf_wave_beyond per axis (len = 2 (n + 1) or
      * 2 n points), made at its first use on that axis (pf_flux.c). */
@@ -177,6 +182,24 @@ struct pf_wave {
     /* The co-moving frame relating the stored state to the lab (pf_frame.h);
      * all zero: the grid state is the lab state. */
     pf_frame frame;
+    /* The peak density |psi|^2 of the stored samples as the last evolve call
+     * left them, measured in that call's last pass while the data were in
+     * cache (pf_splitstep.c), so that the next call need not read the whole
+     * state again for it.  Trusted only while nothing has touched the data
+     * since (pf_splitstep.c, kept_peak): the same step-log length, carried
+     * norm, representation and storage, no deferred flight, and the same
+     * stored value at the peak's point; pf_wave_data and pf_guard_forget
+     * (every unlogged change) drop it outright. */
+    struct {
+        int valid;
+        double value;
+        size_t at;              /* offset of the (first) point holding the peak */
+        double complex z;       /* the stored value there */
+        size_t log_count;
+        double norm;
+        pf_rep rep;
+        const double complex *store;
+    } peak_kept;
 };
 
 /* Engine allocation accounted against the context's memory cap, aligned for

@@ -80,6 +80,7 @@ double complex *pf_wave_data(pf_wave *w)
 {
     double complex *d = pf_wave_settled(w);
     w->norm_now = -1.0;
+    w->peak_kept.valid = 0;
     return d;
 }
 
@@ -323,6 +324,7 @@ void pf_wave_log_step(pf_wave *w, const char *kind, const char *method, double d
     st.removed = removed;
     st.edge_x = -1;
     st.edge_k = -1;
+    w->peak_kept.valid = 0; /* a logged step changed the data (evolve keeps its own after this) */
     pf_guard_step(w, &st); /* grid guards: fills edge_x / edge_k, may warn */
     (void)pf_steplog_append(&w->log, &st);
 }

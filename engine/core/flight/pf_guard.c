@@ -376,6 +376,7 @@ void pf_guard_forget(pf_wave *w)
     w->guard.known = 0;
     w->guard.pending = 0;
     w->scaled_from.log_count = 0; /* no longer the state a scaled flight produced */
+    w->peak_kept.valid = 0;       /* nor the one an evolve call measured */
 }
 
 void pf_guard_rebind(pf_wave *w)

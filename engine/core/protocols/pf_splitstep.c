@@ -56,6 +56,14 @@ typedef struct evolve_ws {
     double vbuf_time;               /* time of the samples in vbuf */
     int vbuf_valid;                 /* vbuf holds V at vbuf_time (the start probe) */
     size_t bytes_c, bytes_r;
+    /* Measuring on the way (see seg_probe): */
+    struct seg_probe *probe;        /* one per segment (g->evolve_probe), NULL: no pass measures */
+    size_t probe_segs, seg_len;
+    int probe_range;                /* the first pass finds V's range over the occupied points */
+    int probe_peak;                 /* the last pass finds the peak density it leaves */
+    double cut;                     /* occupied: |psi|^2 >= cut (OCCUPIED_FRACTION of the peak) */
+    int passes;                     /* potential passes planned so far */
+    int peak_measured;              /* the last pass measured the peak it leaves */
 } evolve_ws;
 
 static void ws_free(evolve_ws *ws)
@@ -134,8 +142,34 @@ static double max_density(pf_wave *w)
     return m;
 }
 
+/* The peak density the last evolve call measured in its last pass
+ * (pf_wave.peak_kept), when nothing can have touched the data since: every
+ * logged step and every unlogged change through pf_wave_data or with
+ * pf_guard_forget drop it, and the checks here catch the rest - a change of
+ * representation (a transform there and back changes the samples by
+ * rounding), storage, log length or carried norm, or of the value at the
+ * peak's own point. */
+static int kept_peak(const pf_wave *w, double *peak)
+{
+    const double complex *z = w->store;
+    if (!w->peak_kept.valid || w->grid->dist || w->deferred.active || w->rep != w->peak_kept.rep ||
+        z != w->peak_kept.store || w->log.count != w->peak_kept.log_count ||
+        memcmp(&w->norm_now, &w->peak_kept.norm, sizeof w->norm_now) != 0 ||
+        memcmp(&z[w->peak_kept.at], &w->peak_kept.z, sizeof *z) != 0)
+        return 0;
+    *peak = w->peak_kept.value;
+    return 1;
+}
+
+static double start_peak(pf_wave *w)
+{
+    double peak;
+    return kept_peak(w, &peak) ? peak : max_density(w);
+}
+
 /* The state's peak density and the range of V over the occupied points
- * ([0, 0] without V): two threaded passes over the state.  One pass that
+ * ([0, 0] without V): two threaded passes over the state, or one when the
+ * last call left the peak (kept_peak).  One pass that
  * kept each block's own peak and range and read again only the blocks
  * straddling the global cut gave the same values but measured slower on the
  * reference machine (set-up rows of bench_splitstep, 2D/3D, 1-2 threads:
@@ -143,7 +177,7 @@ static double max_density(pf_wave *w)
  * vectorised passes stay. */
 static void state_extent(pf_wave *w, const double *V, double *peak, double *lo, double *hi)
 {
-    *peak = max_density(w);
+    *peak = start_peak(w);
     *lo = *hi = 0;
     if (V) occupied_range(w, V, *peak, lo, hi);
 }
@@ -164,7 +198,61 @@ typedef struct pot_pass {
     double complex *form;
     int kind;
     const double complex *e1;
+    /* Measured on the way, per segment (seg_probe; NULL: not by this pass). */
+    struct seg_probe *range_rec;    /* first pass: V's range over the occupied points, before the factor */
+    const double *range_V;
+    double cut;
+    struct seg_probe *peak_rec;     /* last pass: the peak density the factor leaves */
+    size_t seg_len;
 } pot_pass;
+
+/* What a call's first and last potential passes measure while the data are
+ * in cache, per segment: a chunk of the fused sweeps or a block of the
+ * separate passes, each handled by one pot_apply call, so no two threads
+ * share a record; the segments do not depend on the thread count, and
+ * minima and maxima not on the order they are combined in.  The first pass
+ * finds the range of V over the occupied points (the same comparison as
+ * occupied_range, on the same samples, before its factor changes them);
+ * the last finds the peak density and its first point, kept on the wave
+ * for the next call (kept_peak). */
+typedef struct seg_probe {
+    double lo, hi;
+    double peak;
+    size_t at;
+} seg_probe;
+
+static void probe_range(seg_probe *r, const double complex *d, const double *V, double cut, size_t m)
+{
+    const double *z = (const double *)d;
+    double a = r->lo, b = r->hi;
+#pragma omp simd reduction(min : a) reduction(max : b)
+    for (size_t i = 0; i < m; i++) {
+        int in = !(z[2 * i] * z[2 * i] + z[2 * i + 1] * z[2 * i + 1] < cut);
+        double low = in ? V[i] : INFINITY, high = in ? V[i] : -INFINITY;
+        a = low < a ? low : a;
+        b = high > b ? high : b;
+    }
+    r->lo = a;
+    r->hi = b;
+}
+
+static void probe_peak(seg_probe *r, const double complex *d, size_t at, size_t m)
+{
+    const double *z = (const double *)d;
+    double top = -1.0;
+#pragma omp simd reduction(max : top)
+    for (size_t i = 0; i < m; i++) {
+        double dens = z[2 * i] * z[2 * i] + z[2 * i + 1] * z[2 * i + 1];
+        top = dens > top ? dens : top;
+    }
+    if (!(top > r->peak)) return;
+    /* A new peak for this segment (rare after its first pieces): its first
+     * point, while the piece is still in cache. */
+    size_t i = 0;
+    while (i + 1 < m && !(z[2 * i] * z[2 * i] + z[2 * i + 1] * z[2 * i + 1] == top)) i++;
+    r->peak = top;
+    r->at = at + i;
+}
 
 /* Points whose phases are formed before one call of pf_cis_multiply. */
 #define PIECE 512
@@ -193,52 +281,60 @@ static void form_piece(const pot_pass *p, size_t at, size_t m)
     pf_phase_kernel()((double *)out, (const double *)other, 1.0, 0.0, m);
 }
 
-/* Applies the factor to d[0..count), the points [begin, begin + count). */
+/* The direct factor exp(-i (V + g |psi|^2) f) on the points [at, at + m)
+ * (m <= PIECE): phases of the piece, then one vectorised exp(-i phase). */
+static void direct_piece(const pot_pass *p, double complex *restrict d, size_t at, size_t m)
+{
+    const double *V = p->V ? p->V + at : NULL;
+    const double f = p->f, gc = p->gc;
+    const double *z = (const double *)d;
+    double phase[PIECE];
+    /* One branch-free loop per case, so each vectorises; every case forms
+     * exactly the expression of the general one, u = (V or 0.0) + gc
+     * |z|^2, phase = u f (no contraction: the build has no fused
+     * multiply-add), so the bits are unchanged. */
+    if (V && gc != 0) {
+#pragma omp simd
+        for (size_t i = 0; i < m; i++)
+            phase[i] = (V[i] + gc * (z[2 * i] * z[2 * i] + z[2 * i + 1] * z[2 * i + 1])) * f;
+    } else if (gc != 0) {
+#pragma omp simd
+        for (size_t i = 0; i < m; i++) phase[i] = (0.0 + gc * (z[2 * i] * z[2 * i] + z[2 * i + 1] * z[2 * i + 1])) * f;
+    } else if (V) {
+#pragma omp simd
+        for (size_t i = 0; i < m; i++) phase[i] = V[i] * f;
+    } else {
+        for (size_t i = 0; i < m; i++) phase[i] = 0.0 * f;
+    }
+    pf_cis_multiply(d, phase, m);
+}
+
+/* Applies the factor to d[0..count), the points [begin, begin + count),
+ * a piece at a time: a static factor's first pass forms it a piece at a
+ * time, each piece used while in cache, and the measurements on the way
+ * (seg_probe) read each piece just before and after its factor.  The
+ * stored factors multiply through the vectorised phase kernel
+ * (pf_flight.c), which forms the same products in the same order as plain
+ * complex multiplication, piece or whole row alike. */
 static void pot_apply(const pot_pass *p, double complex *restrict d, size_t begin, size_t count)
 {
-    if (p->direct) {
-        /* Phases of a piece at a time, then one vectorised exp(-i phase). */
-        const double *V = p->V ? p->V + begin : NULL;
-        const double f = p->f, gc = p->gc;
-        double phase[PIECE];
-        for (size_t b = 0; b < count; b += PIECE) {
-            size_t m = count - b < PIECE ? count - b : PIECE;
-            const double *z = (const double *)(d + b);
-            /* One branch-free loop per case, so each vectorises; every
-             * case forms exactly the expression of the general one, u = (V
-             * or 0.0) + gc |z|^2, phase = u f (no contraction: the build
-             * has no fused multiply-add), so the bits are unchanged. */
-            if (V && gc != 0) {
-#pragma omp simd
-                for (size_t i = 0; i < m; i++)
-                    phase[i] = (V[b + i] + gc * (z[2 * i] * z[2 * i] + z[2 * i + 1] * z[2 * i + 1])) * f;
-            } else if (gc != 0) {
-#pragma omp simd
-                for (size_t i = 0; i < m; i++)
-                    phase[i] = (0.0 + gc * (z[2 * i] * z[2 * i] + z[2 * i + 1] * z[2 * i + 1])) * f;
-            } else if (V) {
-#pragma omp simd
-                for (size_t i = 0; i < m; i++) phase[i] = V[b + i] * f;
-            } else {
-                for (size_t i = 0; i < m; i++) phase[i] = 0.0 * f;
-            }
-            pf_cis_multiply(d + b, phase, m);
-        }
-        return;
-    }
-    /* d *= the stored factor (e1, e1 e1 or e1 e2) through the vectorised
-     * phase kernel (pf_flight.c), which forms the same products in the same
-     * order as plain complex multiplication.  A factor's first pass forms
-     * it a piece at a time, each piece used while in cache. */
     const pf_phase_row_fn row = pf_phase_kernel();
-    if (!p->form) {
+    seg_probe *range = p->range_rec ? p->range_rec + begin / p->seg_len : NULL;
+    seg_probe *peak = p->peak_rec ? p->peak_rec + begin / p->seg_len : NULL;
+    if (!p->direct && !p->form && !range && !peak) {
         row((double *)d, (const double *)(p->e + begin), 1.0, 0.0, count);
         return;
     }
     for (size_t b = 0; b < count; b += PIECE) {
         size_t m = count - b < PIECE ? count - b : PIECE;
-        form_piece(p, begin + b, m);
-        row((double *)(d + b), (const double *)(p->e + begin + b), 1.0, 0.0, m);
+        if (range) probe_range(range, d + b, p->range_V + begin + b, p->cut, m);
+        if (p->direct) {
+            direct_piece(p, d + b, begin + b, m);
+        } else {
+            if (p->form) form_piece(p, begin + b, m);
+            row((double *)(d + b), (const double *)(p->e + begin + b), 1.0, 0.0, m);
+        }
+        if (peak) probe_peak(peak, d + b, begin + b, m);
     }
 }
 
@@ -267,7 +363,7 @@ static void pot_apply_all(evolve_ws *ws, const pot_pass *p)
  * (a V(x, t) callback is sampled here).  kind: 0 an end half (c1/2), 1 a
  * merged boundary (c1), 2 an inner boundary ((c1 + c0)/2) - the static
  * arrays are indexed by it. */
-static pf_status potential_plan(evolve_ws *ws, double coef, int kind, double t, pot_pass *p)
+static pf_status potential_factor(evolve_ws *ws, double coef, int kind, double t, pot_pass *p)
 {
     const pf_evolve_spec *sp = ws->spec;
     memset(p, 0, sizeof *p);
@@ -300,6 +396,32 @@ static pf_status potential_plan(evolve_ws *ws, double coef, int kind, double t, 
     p->f = coef * ws->h / PF_HBAR;
     p->gc = sp->g;
     return PF_OK;
+}
+
+/* The measurements a pass makes on the way: the first pass of a call the
+ * occupied range (when asked), the last one (kind 0 after the first) the
+ * peak it leaves. */
+static void attach_probes(evolve_ws *ws, pot_pass *p, int kind)
+{
+    const int first = ws->passes++ == 0;
+    if (!p->active || !ws->probe) return;
+    p->seg_len = ws->seg_len;
+    if (first && ws->probe_range) {
+        p->range_rec = ws->probe;
+        p->range_V = ws->spec->potential;
+        p->cut = ws->cut;
+    }
+    if (!first && kind == 0 && ws->probe_peak) {
+        p->peak_rec = ws->probe;
+        ws->peak_measured = 1;
+    }
+}
+
+static pf_status potential_plan(evolve_ws *ws, double coef, int kind, double t, pot_pass *p)
+{
+    pf_status s = potential_factor(ws, coef, kind, t, p);
+    if (!s) attach_probes(ws, p, kind);
+    return s;
 }
 
 /* After a whole pass: the factor it formed is kept for the passes after
@@ -435,6 +557,9 @@ void pf_evolve_tables_release(pf_grid *g)
         for (int a = 0; a < PF_MAX_DIM; a++) pf_context_free(g->ctx, g->evolve_kin[k].table[a]);
         memset(&g->evolve_kin[k], 0, sizeof g->evolve_kin[k]);
     }
+    if (g->evolve_probe) pf_free(g->ctx, g->evolve_probe, g->evolve_probe_bytes);
+    g->evolve_probe = NULL;
+    g->evolve_probe_bytes = 0;
 }
 
 /* Points ws->kin[i] at the grid's tables for tau, making them in a slot
@@ -551,7 +676,7 @@ static pf_status check_spec(pf_context *ctx, int dim, double t, const pf_evolve_
  * t) is probed into ws->vbuf, which the first sub-step then reuses; a
  * cache vouches for static values checked before (its owner clears it
  * when they change). */
-static pf_status starting_range(evolve_ws *ws, double *peak, double *lo, double *hi)
+static pf_status starting_range(evolve_ws *ws, int on_the_way, double *peak, double *lo, double *hi)
 {
     const pf_evolve_spec *spec = ws->spec;
     pf_wave *w = ws->w;
@@ -576,17 +701,62 @@ static pf_status starting_range(evolve_ws *ws, double *peak, double *lo, double 
                 c->checked = spec->potential;
             }
         }
-        state_extent(w, spec->potential, peak, lo, hi);
-    } else {
+        if (on_the_way) {
+            /* The range is found by the first pass (probe_range). */
+            *peak = start_peak(w);
+            *lo = *hi = 0;
+            ws->cut = OCCUPIED_FRACTION * *peak;
+            ws->probe_range = 1;
+        } else {
+            state_extent(w, spec->potential, peak, lo, hi);
+        }
+    } else if (spec->g != 0) {
+        /* Without V and mean field nothing here depends on the state. */
         state_extent(w, NULL, peak, lo, hi);
     }
     return PF_OK;
 }
 
+/* The range the first pass found (probe_range), as occupied_range gives it. */
+static void probed_range(const evolve_ws *ws, double *lo, double *hi)
+{
+    double a = INFINITY, b = -INFINITY;
+    for (size_t k = 0; k < ws->probe_segs; k++) {
+        if (ws->probe[k].lo < a) a = ws->probe[k].lo;
+        if (ws->probe[k].hi > b) b = ws->probe[k].hi;
+    }
+    if (a > b) a = b = 0;
+    *lo = a;
+    *hi = b;
+}
+
+/* After the call's step is logged: the peak its last pass found, and the
+ * first point holding it, kept for the next call (kept_peak). */
+static void keep_peak(const evolve_ws *ws)
+{
+    pf_wave *w = ws->w;
+    double top = -1.0;
+    size_t at = 0;
+    for (size_t k = 0; k < ws->probe_segs; k++) {
+        if (ws->probe[k].peak > top) {
+            top = ws->probe[k].peak;
+            at = ws->probe[k].at;
+        }
+    }
+    w->peak_kept.valid = 1;
+    w->peak_kept.value = top;
+    w->peak_kept.at = at;
+    w->peak_kept.z = w->store[at];
+    w->peak_kept.log_count = w->log.count;
+    w->peak_kept.norm = w->norm_now;
+    w->peak_kept.rep = w->rep;
+    w->peak_kept.store = w->store;
+}
+
 /* The number of steps for t and the step h = t / n: dt when given, else
  * the default phase per step over the spread of V + g |psi|^2 (one step of
- * t when nothing varies); warns when the phase per step is large. */
-static pf_status step_count(evolve_ws *ws, double t, double spread, size_t *steps, double *phase)
+ * t when nothing varies). */
+static pf_status step_count(evolve_ws *ws, double t, double spread, size_t *steps)
 {
     const pf_evolve_spec *spec = ws->spec;
     pf_context *ctx = ws->g->ctx;
@@ -598,12 +768,19 @@ static pf_status step_count(evolve_ws *ws, double t, double spread, size_t *step
                        "give a larger dt", t, dt, nsteps, MAX_STEPS);
     *steps = (size_t)nsteps;
     ws->h = *steps ? t / (double)*steps : 0.0;
-    *phase = spread * fabs(ws->h) / PF_HBAR;
-    if (*phase > PF_EVOLVE_PHASE_WARN)
-        pf_context_warn(ctx, "evolve: the potential phase per step is %.3g rad (range %.3g J x dt %.3g s / hbar), "
-                        "above %.3g rad; the splitting error may be large - use a smaller dt",
-                        *phase, spread, fabs(ws->h), PF_EVOLVE_PHASE_WARN);
     return PF_OK;
+}
+
+/* The potential phase per step over the spread of V + g |psi|^2; warns when
+ * it is large. */
+static double step_phase(const evolve_ws *ws, double spread)
+{
+    double phase = spread * fabs(ws->h) / PF_HBAR;
+    if (phase > PF_EVOLVE_PHASE_WARN)
+        pf_context_warn(ws->g->ctx, "evolve: the potential phase per step is %.3g rad (range %.3g J x dt %.3g s / hbar), "
+                        "above %.3g rad; the splitting error may be large - use a smaller dt",
+                        phase, spread, fabs(ws->h), PF_EVOLVE_PHASE_WARN);
+    return phase;
 }
 
 /* The steps themselves: fused sweeps on a single-process 2D/3D grid
@@ -620,6 +797,23 @@ static pf_status run_steps(evolve_ws *ws, size_t n, double t, int separate)
         pf_status s = pf_fused_prepare_chunks(g);
         if (s == PF_ELIMIT || s == PF_ENOMEM) fused = 0;
         else if (s) return s;
+    }
+    if (!g->dist) {
+        /* Records for the measurements on the way (seg_probe), one per
+         * chunk of the fused sweeps or block of the separate passes. */
+        const size_t total = pf_dist_position_values(g);
+        ws->seg_len = fused ? g->fused.rows * (g->total / g->n[0]) : POT_BLOCK;
+        ws->probe_segs = (total + ws->seg_len - 1) / ws->seg_len;
+        const size_t bytes = pf_bytes(ws->probe_segs, sizeof(seg_probe));
+        if (g->evolve_probe_bytes < bytes) {
+            if (g->evolve_probe) pf_free(g->ctx, g->evolve_probe, g->evolve_probe_bytes);
+            g->evolve_probe_bytes = 0;
+            if (!(g->evolve_probe = pf_alloc(g->ctx, bytes))) return pf_context_status(g->ctx);
+            g->evolve_probe_bytes = bytes;
+        }
+        ws->probe = g->evolve_probe;
+        for (size_t k = 0; k < ws->probe_segs; k++) ws->probe[k] = (seg_probe){INFINITY, -INFINITY, -1.0, 0};
+        ws->probe_peak = 1;
     }
     pf_context_progress(g->ctx, "evolve", 0, (double)n);
     pf_status s = fused ? run_fused(ws, n, t0, t) : run_separate(ws, n, t0, t);
@@ -645,15 +839,16 @@ static pf_status evolve(pf_wave *w, double t, const pf_evolve_spec *spec, pf_evo
     ws.bytes_c = pf_bytes(pf_dist_position_values(g), sizeof(double complex));
     ws.bytes_r = pf_bytes(pf_dist_position_values(g), sizeof(double));
     /* From here every exit goes through done: ws owns what it allocated. */
-    double lo, hi, peak = 0, phase = 0;
+    /* With dt given the step count does not depend on the state, so a
+     * static V's range over the occupied points is found by the first
+     * potential pass (probe_range) instead of a pass of its own; the phase
+     * per step and its warning follow the steps. */
+    const int on_the_way = spec->dt > 0 && !spec->varying && !g->dist;
+    double lo = 0, hi = 0, peak = 0, phase = 0;
     size_t n = 0;
-    if ((s = starting_range(&ws, &peak, &lo, &hi))) goto done;
-    if ((s = step_count(&ws, t, (hi - lo) + fabs(spec->g) * peak, &n, &phase))) goto done;
-    if (info) {
-        info->steps = n;
-        info->dt = ws.h;
-        info->phase_per_step = phase;
-    }
+    if ((s = starting_range(&ws, on_the_way, &peak, &lo, &hi))) goto done;
+    if ((s = step_count(&ws, t, (hi - lo) + fabs(spec->g) * peak, &n))) goto done;
+    if (!ws.probe_range) phase = step_phase(&ws, (hi - lo) + fabs(spec->g) * peak);
     if (n > 0) {
         const double t0 = w->clock;
         if ((s = prepare(&ws))) goto done;
@@ -662,12 +857,20 @@ static pf_status evolve(pf_wave *w, double t, const pf_evolve_spec *spec, pf_evo
             goto done;
         }
         w->clock = t0 + t;
+        if (ws.probe_range) probed_range(&ws, &lo, &hi);
+    }
+    if (ws.probe_range) phase = step_phase(&ws, (hi - lo) + fabs(spec->g) * peak);
+    if (info) {
+        info->steps = n;
+        info->dt = ws.h;
+        info->phase_per_step = phase;
     }
     const char *method = spec->order == 2 ? (spec->g != 0 ? "strang-gp" : "strang")
                                           : (spec->g != 0 ? "yoshida-4-gp" : "yoshida-4");
     /* An empty call logs the scheme's plain name, as before. */
     if (n == 0) method = spec->order == 2 ? "strang" : "yoshida-4";
     pf_wave_log_step(w, "evolve", method, n ? t : 0.0, 0.0, norm);
+    if (ws.peak_measured) keep_peak(&ws);
 done:
     ws_free(&ws);
     return s;

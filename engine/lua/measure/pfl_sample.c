@@ -1,10 +1,10 @@
 /* pfl_sample.c - Born-rule sampling of detection events (pf_sample.h) as
  * s:sample for wave functions and ensembles, and pf.histogram to bin them. */
 #include <math.h>
-#include <string.h>
 #include "pf_constants.h"
 #include "pf_dist_measure.h"
 #include "pf_frame.h"
+#include "pf_histogram.h"
 #include "pf_sample.h"
 #include "pfl_measure.h"
 #include "pfl_options.h"
@@ -85,7 +85,8 @@ static int l_sample(lua_State *L)
     return 1;
 }
 
-/* pf.histogram(values, {from=, to=, bins=}) -> {counts, edges, centers, outside} */
+/* pf.histogram(values, {from=, to=, bins=}) -> {counts, edges, centers, outside};
+ * the binning is pf_histogram.h's. */
 static int l_histogram(lua_State *L)
 {
     size_t n;
@@ -95,23 +96,20 @@ static int l_histogram(lua_State *L)
     double bins = pfl_field_number(L, 2, "bins", 0, 1);
     if (!(hi > lo)) return luaL_error(L, "histogram: needs from < to, got %f and %f", lo, hi);
     if (bins < 1 || bins > 1e7 || bins != floor(bins)) return luaL_error(L, "histogram: field 'bins' must be a count");
-    size_t nb = (size_t)bins;
-    double *c = lua_newuserdatauv(L, (2 * nb + 1) * sizeof(double), 0);
-    memset(c, 0, (2 * nb + 1) * sizeof(double));
-    double outside = 0, w = (hi - lo) / (double)nb;
-    for (size_t i = 0; i < n; i++) {
-        double b = floor((v[i] - lo) / w);
-        if (b < 0 || b >= (double)nb) outside++;
-        else c[(size_t)b]++;
-    }
+    const pf_histogram_spec spec = {.from = lo, .to = hi, .bins = (size_t)bins};
+    const size_t nb = spec.bins;
+    /* counts, then edges (reused for the centres): Lua-owned, so a table
+     * allocation that raises leaks nothing. */
+    double *c = lua_newuserdatauv(L, (2 * nb + 1) * sizeof(double), 0), outside;
+    pfl_check(L, pf_histogram_count(pfl_ctx(L), &spec, v, n, c, &outside), "histogram");
     lua_createtable(L, 0, 4);
     pfl_push_doubles(L, c, nb);
     lua_setfield(L, -2, "counts");
     double *e = c + nb;
-    for (size_t b = 0; b <= nb; b++) e[b] = lo + (double)b * w;
+    pf_histogram_edges(&spec, e);
     pfl_push_doubles(L, e, nb + 1);
     lua_setfield(L, -2, "edges");
-    for (size_t b = 0; b < nb; b++) e[b] = lo + ((double)b + 0.5) * w;
+    pf_histogram_centers(&spec, e);
     pfl_push_doubles(L, e, nb);
     lua_setfield(L, -2, "centers");
     lua_pushnumber(L, outside);

@@ -15,6 +15,7 @@
 #include "pf_frame.h"
 #include "pf_levels.h"
 #include "pf_pulse.h"
+#include "pf_two_photon.h"
 #include "pfl.h"
 #include "pfl_measure.h"
 #include "pfl_options.h"
@@ -483,11 +484,10 @@ static int l_evolve(lua_State *L)
     return 2;
 }
 
-/* Two-photon adiabatic elimination (docs/internal-states.md): with
- * beam_rabi = {O1, O2} and one_photon_detuning = Delta, a square pulse of
- * effective Rabi frequency O1 O2 / (2 |Delta|) and light shifts
- * O1^2 / (4 Delta), O2^2 / (4 Delta).  Returns the phase the sign of Delta
- * adds (a negative Delta flips the sign of Omega_eff). */
+/* beam_rabi = {O1, O2} with one_photon_detuning = Delta: a square pulse
+ * whose Rabi frequency and light shifts follow from the beams by adiabatic
+ * elimination (pf_two_photon.h, docs/internal-states.md).  Returns the
+ * phase the sign of Delta adds. */
 static double read_two_photon(lua_State *L, pf_pulse_shape *sh, pf_pulse_light *li)
 {
     int has_rabi = pfl_option_get(L, 2, "rabi") != LUA_TNIL;
@@ -495,19 +495,19 @@ static double read_two_photon(lua_State *L, pf_pulse_shape *sh, pf_pulse_light *
     int has_area = pfl_option_get(L, 2, "area") != LUA_TNIL;
     lua_pop(L, 1);
     if (has_rabi || has_area) luaL_error(L, "pulse: with 'beam_rabi' the Rabi frequency follows from the beams; drop 'rabi' and 'area'");
-    double beams[2];
+    pf_two_photon_spec tp;
     pfl_option_get(L, 2, "beam_rabi");
     if (!lua_istable(L, -1) || luaL_len(L, -1) != 2) luaL_error(L, "pulse: field 'beam_rabi' must hold two Rabi frequencies (rad/s)");
     for (int i = 0; i < 2; i++) {
         lua_rawgeti(L, -1, i + 1);
-        beams[i] = lua_tonumber(L, -1);
-        if (lua_type(L, -1) != LUA_TNUMBER || !isfinite(beams[i]) || beams[i] < 0)
+        tp.beam_rabi[i] = lua_tonumber(L, -1);
+        if (lua_type(L, -1) != LUA_TNUMBER || !isfinite(tp.beam_rabi[i]) || tp.beam_rabi[i] < 0)
             luaL_error(L, "pulse: field 'beam_rabi' must hold two finite numbers >= 0 (rad/s)");
         lua_pop(L, 1);
     }
     lua_pop(L, 1);
-    double Delta = pfl_field_number(L, 2, "one_photon_detuning", 0, 1);
-    if (Delta == 0) luaL_error(L, "pulse: field 'one_photon_detuning' must be non-zero (rad/s)");
+    tp.one_photon_detuning = pfl_field_number(L, 2, "one_photon_detuning", 0, 1);
+    if (tp.one_photon_detuning == 0) luaL_error(L, "pulse: field 'one_photon_detuning' must be non-zero (rad/s)");
     if (pfl_option_get(L, 2, "light_shift") != LUA_TNIL)
         luaL_error(L, "pulse: with 'beam_rabi' the light shifts follow from the beams; drop 'light_shift'");
     lua_pop(L, 1);
@@ -519,12 +519,14 @@ static double read_two_photon(lua_State *L, pf_pulse_shape *sh, pf_pulse_light *
     }
     lua_pop(L, 1);
     sh->duration = pfl_field_number(L, 2, "duration", 0, 1);
-    sh->rabi = beams[0] * beams[1] / (2.0 * fabs(Delta));
-    li->shift_a = beams[0] * beams[0] / (4.0 * Delta);
-    li->shift_b = beams[1] * beams[1] / (4.0 * Delta);
     if (pfl_option_get(L, 2, "substeps") != LUA_TNIL) luaL_error(L, "pulse: square pulses take no 'substeps'");
     lua_pop(L, 1);
-    return Delta < 0 ? PF_PI : 0.0;
+    pf_two_photon_pulse eff;
+    pfl_check(L, pf_two_photon_pulse_from(pfl_ctx(L), &tp, &eff), "pulse");
+    sh->rabi = eff.rabi;
+    li->shift_a = eff.shift_a;
+    li->shift_b = eff.shift_b;
+    return eff.phase;
 }
 
 /* light_shift = {label = rad/s}: shifts of the two coupled levels ia, ib. */
