@@ -7,12 +7,23 @@ static double bin_width(const pf_histogram_spec *spec)
     return (spec->to - spec->from) / (double)spec->bins;
 }
 
+/* Edge b as pf_histogram_edges prints it. */
+static double edge(const pf_histogram_spec *spec, double w, ptrdiff_t b) { return spec->from + (double)b * w; }
+
 ptrdiff_t pf_histogram_bin(const pf_histogram_spec *spec, double x)
 {
-    double b = floor((x - spec->from) / bin_width(spec));
-    /* Written so that NaN fails the test and counts as outside. */
-    if (!(b >= 0 && b < (double)spec->bins)) return -1;
-    return (ptrdiff_t)b;
+    const double w = bin_width(spec);
+    const ptrdiff_t bins = (ptrdiff_t)spec->bins;
+    double q = floor((x - spec->from) / w);
+    /* Written so that NaN fails the test and counts as outside; below
+     * `from` the difference is negative, so the quotient's floor is too. */
+    if (!(q >= 0)) return -1;
+    ptrdiff_t b = q < (double)bins ? (ptrdiff_t)q : bins;
+    /* The quotient is rounded and can land one bin off next to an edge; the
+     * edges as printed decide: bin b holds [edge(b), edge(b + 1)). */
+    if (b > 0 && x < edge(spec, w, b)) b--;
+    else if (b < bins && !(x < edge(spec, w, b + 1))) b++;
+    return b < bins ? b : -1;
 }
 
 void pf_histogram_edges(const pf_histogram_spec *spec, double *edges)

@@ -1,14 +1,13 @@
 /* pf_histogram.h - counting values (detection events, arrival times) in
  * equal bins over a range.
  *
- * Bins of width w = (to - from) / bins.  The bin of a value x is
- * b = floor((x - from) / w): bin b holds [from + b w, from + (b + 1) w), left
- * edge in, right edge out, and a value at `to` or beyond, or below `from`,
- * is outside (the convention of GSL's gsl_histogram).  The index comes from
- * the quotient, not from comparisons with the edges as printed, so a value
- * within rounding of an inner edge can land in the neighbouring bin of the
- * one a comparison with pf_histogram_edges would pick; values exactly on
- * edges that are exact in binary (dyadic ranges) land as stated. */
+ * Bins of width w = (to - from) / bins, edges e_b = from + b w as
+ * pf_histogram_edges gives them: bin b holds [e_b, e_(b+1)), left edge in,
+ * right edge out, and a value at e_bins (`to` to rounding) or beyond, or
+ * below `from`, is outside (the convention of GSL's gsl_histogram).  The
+ * index is found from floor((x - from) / w) and then checked against the
+ * two edges, so a value within rounding of an edge still lands on the side
+ * the printed edges say. */
 #ifndef PF_HISTOGRAM_H
 #define PF_HISTOGRAM_H
 
