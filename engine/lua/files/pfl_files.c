@@ -254,9 +254,7 @@ static int l_put_image(lua_State *L)
     pfl_array_map(L, 3, 4, &m);
     int plain = m.xa.q == PF_Q_PLAIN;
     const char *vname = m.value_name && strcmp(m.value_name, "value") ? m.value_name : "image";
-    pfl_check(L, pf_h5_put_image(f, name, m.nx, m.ny, m.values, m.x, m.y, plain ? "1" : "m", m.value_unit, vname), "put_image");
-    lua_settop(L, 1);
-    return 1;
+    return pfl_return_self(L, pf_h5_put_image(f, name, m.nx, m.ny, m.values, m.x, m.y, plain ? "1" : "m", m.value_unit, vname), "put_image");
 }
 
 static int l_put_table(lua_State *L)
@@ -265,9 +263,7 @@ static int l_put_table(lua_State *L)
     const char *name = luaL_checkstring(L, 2);
     size_t n;
     pf_column *cols = check_columns(L, 3, "put_table", &PUT_TABLE_COLUMN, &n);
-    pfl_check(L, pf_h5_put_table(f, name, n, cols), "put_table");
-    lua_settop(L, 1);
-    return 1;
+    return pfl_return_self(L, pf_h5_put_table(f, name, n, cols), "put_table");
 }
 
 /* f:put_value(name, number [, unit]) */
@@ -277,9 +273,7 @@ static int l_put_value(lua_State *L)
     const char *name = luaL_checkstring(L, 2);
     double v = pfl_check_finite(L, 3, "value");
     const char *unit = luaL_optstring(L, 4, "");
-    pfl_check(L, pf_h5_put_scalar(f, name, v, unit), "put_value");
-    lua_settop(L, 1);
-    return 1;
+    return pfl_return_self(L, pf_h5_put_scalar(f, name, v, unit), "put_value");
 }
 
 /* f:close() -> final path.  Moves the finished file into place. */
