@@ -74,6 +74,35 @@ local log = w:log()
 check.equal(#log, 2, "log has build and flight")
 check.equal(log[2].kind, "flight", "second step is the flight")
 check.truthy(w:log_text():find("^step kind method"), "log text starts with its header")
+-- Each record of w:log() holds the fields of its line in w:log_text() (the
+-- core's own formatting of the same step), and a guard figure that was not
+-- measured ("-" in the text) is absent from the record (implementation check).
+do
+  local lines = {}
+  for line in w:log_text():gmatch("[^\n]+") do lines[#lines + 1] = line end
+  local names = {"duration", "clock", "norm", "removed", "edge_x", "edge_k"}
+  for i, rec in ipairs(log) do
+    local f = {}
+    for word in lines[i + 1]:gmatch("%S+") do f[#f + 1] = word end
+    check.equal(rec.kind, f[2], "log record " .. i .. ": kind as in the text")
+    check.equal(rec.method or "", f[3] == "-" and "" or f[3], "log record " .. i .. ": method as in the text")
+    for k, name in ipairs(names) do
+      local text = f[3 + k]
+      if text == "-" then
+        check.equal(rec[name], nil, "log record " .. i .. ": unmeasured " .. name .. " absent")
+      else
+        -- relative, to the text's digits: %.3e for the guard figures, %.9e / %.12f otherwise
+        local digits = name:find("^edge") and 1e-3 or 1e-9
+        check.near(rec[name], tonumber(text), digits, "log record " .. i .. ": " .. name .. " as in the text", "definition")
+      end
+    end
+    local count = 0
+    for _ in pairs(rec) do count = count + 1 end
+    local shown = 2
+    for k = 4, 9 do if f[k] ~= "-" then shown = shown + 1 end end
+    check.equal(count, shown, "log record " .. i .. ": no field beyond the text's")
+  end
+end
 local c = w:copy()
 c:scale(2)
 check.near(w:norm(), 1, 1e-12, "a copy is independent", "definition")

@@ -7,6 +7,7 @@
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
+#include <stddef.h>
 #include <string.h>
 #include "pf_frame.h"
 #include "pf_guard.h"
@@ -226,6 +227,19 @@ static int l_grid_of(lua_State *L)
     return 1;
 }
 
+/* The numeric fields of a step record (pf_step), in the order they are
+ * set; the guard figures are left out of a record when they were not
+ * measured (negative). */
+static const struct {
+    const char *name;
+    size_t offset;
+    int when_measured;
+} STEP_NUMBERS[] = {
+    {"duration", offsetof(pf_step, duration), 0}, {"clock", offsetof(pf_step, clock), 0},
+    {"norm", offsetof(pf_step, norm), 0},         {"removed", offsetof(pf_step, removed), 0},
+    {"edge_x", offsetof(pf_step, edge_x), 1},     {"edge_k", offsetof(pf_step, edge_k), 1},
+};
+
 /* w:log() -> array of step records (tables with the documented fields). */
 static int l_log(lua_State *L)
 {
@@ -238,21 +252,12 @@ static int l_log(lua_State *L)
         lua_setfield(L, -2, "kind");
         lua_pushstring(L, s->method);
         lua_setfield(L, -2, "method");
-        lua_pushnumber(L, s->duration);
-        lua_setfield(L, -2, "duration");
-        lua_pushnumber(L, s->clock);
-        lua_setfield(L, -2, "clock");
-        lua_pushnumber(L, s->norm);
-        lua_setfield(L, -2, "norm");
-        lua_pushnumber(L, s->removed);
-        lua_setfield(L, -2, "removed");
-        if (s->edge_x >= 0) {
-            lua_pushnumber(L, s->edge_x);
-            lua_setfield(L, -2, "edge_x");
-        }
-        if (s->edge_k >= 0) {
-            lua_pushnumber(L, s->edge_k);
-            lua_setfield(L, -2, "edge_k");
+        for (size_t f = 0; f < sizeof STEP_NUMBERS / sizeof STEP_NUMBERS[0]; f++) {
+            double v;
+            memcpy(&v, (const char *)s + STEP_NUMBERS[f].offset, sizeof v);
+            if (STEP_NUMBERS[f].when_measured && !(v >= 0)) continue;
+            lua_pushnumber(L, v);
+            lua_setfield(L, -2, STEP_NUMBERS[f].name);
         }
         lua_rawseti(L, -2, (lua_Integer)i + 1);
     }
