@@ -57,10 +57,10 @@ typedef struct evolve_ws {
     int vbuf_valid;                 /* vbuf holds V at vbuf_time (the start probe) */
     size_t bytes_c, bytes_r;
     /* Measuring on the way (see seg_probe): */
-    struct seg_probe *probe;        /* one per segment (g->evolve_probe), NULL: no pass measures */
+    struct seg_probe *probe;        /* one per segment (g->evolve_probe), NULL: no pass measures;
+                                       with them the last pass always finds the peak it leaves */
     size_t probe_segs, seg_len;
     int probe_range;                /* the first pass finds V's range over the occupied points */
-    int probe_peak;                 /* the last pass finds the peak density it leaves */
     double cut;                     /* occupied: |psi|^2 >= cut (OCCUPIED_FRACTION of the peak) */
     int passes;                     /* potential passes planned so far */
     int peak_measured;              /* the last pass measured the peak it leaves */
@@ -444,7 +444,7 @@ static void attach_probes(evolve_ws *ws, pot_pass *p, int kind)
         p->range_V = ws->spec->potential;
         p->cut = ws->cut;
     }
-    if (!first && kind == 0 && ws->probe_peak) {
+    if (!first && kind == 0) {
         p->peak_rec = ws->probe;
         ws->peak_measured = 1;
     }
@@ -846,7 +846,6 @@ static pf_status run_steps(evolve_ws *ws, size_t n, double t, int separate)
         }
         ws->probe = g->evolve_probe;
         for (size_t k = 0; k < ws->probe_segs; k++) ws->probe[k] = (seg_probe){INFINITY, -INFINITY, -1.0, 0};
-        ws->probe_peak = 1;
     }
     pf_context_progress(g->ctx, "evolve", 0, (double)n);
     pf_status s = fused ? run_fused(ws, n, t0, t) : run_separate(ws, n, t0, t);
