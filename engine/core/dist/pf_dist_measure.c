@@ -789,9 +789,9 @@ typedef struct column_job {
 static void column_run(void *user, const size_t *start, size_t count, const double *v)
 {
     const column_job *c = user;
-    double sum = 0;
-    for (size_t t = 0; t < count; t++) sum += v[t];
-    c->out[start[0] * c->n1 + start[1]] = sum * c->dz;
+    /* The run is a whole row along axis 2 (walk_local): its column as the
+     * single process's picture computes it. */
+    pf_column_integrals(v, 1, count, c->dz, &c->out[start[0] * c->n1 + start[1]]);
 }
 
 pf_status pf_dist_column_picture(pf_wave *w, pf_rep rep, double *out)

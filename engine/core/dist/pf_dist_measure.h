@@ -52,8 +52,8 @@ pf_status pf_dist_draw_events(pf_wave *w, pf_rep rep, const pf_field *geom, pf_r
  * when g is held whole): a failure of one rank's own work fails all. */
 int pf_dist_flag_any(const pf_grid *g, int flag);
 /* The column density along the last axis of a 3D wave, n0 x n1 values
- * (sum over the row in order, times the last axis's spacing), as
- * pf.picture_map draws it, on every rank. */
+ * (pf_column_integrals of each row), as pf.picture_map draws it, on every
+ * rank. */
 pf_status pf_dist_column_picture(pf_wave *w, pf_rep rep, double *out);
 
 #endif

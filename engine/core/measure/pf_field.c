@@ -162,6 +162,15 @@ pf_status pf_field_marginal(const pf_field *f, const int *keep, pf_field *out)
     return PF_OK;
 }
 
+void pf_column_integrals(const double *values, size_t rows, size_t count, double step, double *out)
+{
+    for (size_t r = 0; r < rows; r++) {
+        double sum = 0;
+        for (size_t k = 0; k < count; k++) sum += values[r * count + k];
+        out[r] = sum * step;
+    }
+}
+
 pf_status pf_field_slice(const pf_field *f, const size_t *fixed, pf_field *out)
 {
     int keep[PF_MAX_DIM] = {0}, kept = 0, map[PF_MAX_DIM];

@@ -47,6 +47,14 @@ size_t pf_field_nearest(const pf_field *f, int axis, double c);
  * returns the remaining axes in order as a new field.  At least one axis must
  * be kept.  A column density is the marginal that drops the imaging axis. */
 pf_status pf_field_marginal(const pf_field *f, const int *keep, pf_field *out);
+/* Column integrals along the last axis of a row-major array of rows x count
+ * values: out[r] = (the values of row r summed in order) * step.  This is the
+ * column density pf.picture_map draws for a 3D wave: one product per row,
+ * where pf_field_marginal weights each value (the two agree to rounding, not
+ * bit for bit); the distributed picture calls it row by row, so it gives the
+ * single process's bits.  out may be values: out[r] is written after row r is
+ * read. */
+void pf_column_integrals(const double *values, size_t rows, size_t count, double step, double *out);
 /* Values along the free axes (fixed[a] == PF_FREE_AXIS) with the other axes
  * held at the given indices.  At least one axis must be free. */
 #define PF_FREE_AXIS ((size_t)-1)

@@ -6,6 +6,7 @@
 #include <string.h>
 #include "pf_dist.h"
 #include "pf_dist_measure.h"
+#include "pf_field.h"
 #include "pf_flight.h"
 #include "pf_frame.h"
 #include "pf_picture.h"
@@ -357,11 +358,7 @@ static int l_picture_map(lua_State *L)
             pfl_check(L, pf_wave_density(w, rep, rho), "picture_map");
             if (d == 3) {
                 double dz = rep == PF_POSITION ? pf_grid_spacing(g, 2) : pf_grid_kspacing(g, 2);
-                for (size_t i = 0; i < nx * ny; i++) {
-                    double sum = 0;
-                    for (size_t k = 0; k < nz; k++) sum += rho[i * nz + k];
-                    rho[i] = sum * dz;
-                }
+                pf_column_integrals(rho, nx * ny, nz, dz, rho); /* in place */
             }
         }
         pf_quantity q = rep == PF_POSITION ? PF_Q_LENGTH : PF_Q_WAVENUMBER;

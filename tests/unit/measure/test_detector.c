@@ -59,6 +59,55 @@ static void column_density_binning_and_od(void **state)
     pf_context_release(ctx);
 }
 
+/* The picture's column integrals (pf_column_integrals: each row along z
+ * summed, times dz) of the same Gaussian are the analytic 2D Gaussian too;
+ * they agree with the marginal's per-value weighting to rounding (about
+ * n_z ulps); a row's value is its in-order sum times dz to the bit (the
+ * distributed picture relies on it), and in place gives the same bits. */
+static void column_integrals_of_a_gaussian(void **state)
+{
+    (void)state;
+    pf_context *ctx = pft_context();
+    pf_grid *g;
+    pf_wave *w = cloud3d(ctx, &g);
+    pf_field f, col;
+    pft_ok(pf_field_for_grid(g, PF_POSITION, &f));
+    pft_ok(pf_field_add_density(&f, w, PF_POSITION, 1.0, NULL));
+    int keep[3] = {1, 1, 0};
+    pft_ok(pf_field_marginal(&f, keep, &col));
+    const size_t n1 = f.n[1], nz = f.n[2], rows = f.n[0] * n1;
+    const double dz = f.step[2], peak = 1 / (2 * PF_PI * 5e-6 * 4e-6);
+    double *out = malloc(rows * sizeof *out), *in_place = malloc(f.total * sizeof *in_place);
+    assert_non_null(out);
+    assert_non_null(in_place);
+    pf_column_integrals(f.values, rows, nz, dz, out);
+    double worst = 0;
+    for (size_t i = 0; i < f.n[0]; i++)
+        for (size_t j = 0; j < n1; j++) {
+            double x = pf_field_coord(&col, 0, i) - 2e-6, y = pf_field_coord(&col, 1, j) + 1e-6;
+            double ref = peak * exp(-x * x / (2 * 25e-12) - y * y / (2 * 16e-12));
+            worst = fmax(worst, fabs(out[i * n1 + j] - ref));
+        }
+    /* 1e-7 as for the marginal above: the box cuts tails of weight ~1e-8. */
+    pft_near(worst / peak, 0, 0, 1e-7, "column integrals of a Gaussian (analytic 2D Gaussian)");
+    for (size_t r = 0; r < rows; r++) {
+        pft_near(out[r], col.values[r], 1e-14, 0, "column integrals = marginal to rounding");
+        double sum = 0;
+        for (size_t k = 0; k < nz; k++) sum += f.values[r * nz + k];
+        assert_true(out[r] == sum * dz);
+    }
+    memcpy(in_place, f.values, f.total * sizeof *in_place);
+    pf_column_integrals(in_place, rows, nz, dz, in_place);
+    assert_memory_equal(in_place, out, rows * sizeof *out);
+    free(out);
+    free(in_place);
+    pf_field_free(&f);
+    pf_field_free(&col);
+    pf_wave_free(w);
+    pf_grid_release(g);
+    pf_context_release(ctx);
+}
+
 /* Beer-Lambert law (common practice): a column density n (atoms/m^2) seen by
  * a probe of cross-section sigma transmits I/I0 = exp(-sigma n); an optical
  * depth of ln 2 passes half the light and one of 1 passes 1/e; the atom
@@ -238,6 +287,7 @@ int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(column_density_binning_and_od),
+        cmocka_unit_test(column_integrals_of_a_gaussian),
         cmocka_unit_test(beer_lambert_transmission),
         cmocka_unit_test(resonant_cross_section),
         cmocka_unit_test(psf_adds_variance),
