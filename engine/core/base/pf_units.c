@@ -1,6 +1,9 @@
 /* pf_units.c - the unit and constant tables behind pf.units and
  * pf.constants, and the edit distance used to suggest close names. */
 #include <ctype.h>
+#include <math.h>
+#include <pthread.h>
+#include <stdio.h>
 #include <string.h>
 #include "pf_units.h"
 
@@ -8,61 +11,55 @@
 #define CODATA_EXACT "CODATA 2018, exact in the 2019 SI"
 #define SI_PREFIX "SI prefix (exact)"
 
-static const pf_quantity units[] = {
+/* The SI prefixes the unit table uses, u standing for micro (a fact of the
+ * trade: the SI Brochure's prefixes). */
+static const struct si_prefix {
+    char symbol;
+    double factor;
+} si_prefixes[] = {
+    {'G', 1e9}, {'M', 1e6}, {'k', 1e3}, {'c', 1e-2}, {'m', 1e-3}, {'u', 1e-6}, {'n', 1e-9}, {'p', 1e-12},
+};
+
+/* A unit and the SI prefixes it is also offered with.  Its prefixed entries
+ * follow it in the table, one per prefix in the order listed, named head
+ * prefix tail ("kB_" "m" "K") and worth factor * value (1e-3 * kB: the
+ * product the table always held, so the same doubles).  A prefixed SI unit
+ * (value 1) is exact by the prefix's definition and cites the prefix; a
+ * prefixed multiple of a constant cites the constant. */
+typedef struct unit_row {
+    const char *head, *tail; /* the unprefixed name is head tail */
+    double value;            /* SI value */
+    const char *si, *source;
+    const char *prefixes; /* SI prefix symbols, in table order */
+} unit_row;
+
+static const unit_row unit_rows[] = {
     /* length */
-    {"m", 1.0, "m", "SI base unit"},
-    {"cm", 1e-2, "m", SI_PREFIX},
-    {"mm", 1e-3, "m", SI_PREFIX},
-    {"um", 1e-6, "m", SI_PREFIX},
-    {"nm", 1e-9, "m", SI_PREFIX},
-    {"pm", 1e-12, "m", SI_PREFIX},
+    {"", "m", 1.0, "m", "SI base unit", "cmunp"},
     /* time */
-    {"s", 1.0, "s", "SI base unit"},
-    {"ms", 1e-3, "s", SI_PREFIX},
-    {"us", 1e-6, "s", SI_PREFIX},
-    {"ns", 1e-9, "s", SI_PREFIX},
+    {"", "s", 1.0, "s", "SI base unit", "mun"},
     /* frequency; the twopi_ units turn a frequency into an angular frequency */
-    {"Hz", 1.0, "1/s", "SI derived unit"},
-    {"kHz", 1e3, "1/s", SI_PREFIX},
-    {"MHz", 1e6, "1/s", SI_PREFIX},
-    {"GHz", 1e9, "1/s", SI_PREFIX},
-    {"rad_per_s", 1.0, "rad/s", "SI derived unit"},
-    {"twopi_Hz", PF_TWO_PI, "rad/s", "2 pi rad per cycle (exact)"},
-    {"twopi_kHz", PF_TWO_PI * 1e3, "rad/s", "2 pi rad per cycle (exact)"},
-    {"twopi_MHz", PF_TWO_PI * 1e6, "rad/s", "2 pi rad per cycle (exact)"},
-    /* mass */
-    {"kg", 1.0, "kg", "SI base unit"},
-    {"g", 1e-3, "kg", SI_PREFIX},
-    {"u", PF_ATOMIC_MASS, "kg", CODATA " atomic mass constant"},
-    {"Da", PF_ATOMIC_MASS, "kg", CODATA " atomic mass constant"},
+    {"", "Hz", 1.0, "1/s", "SI derived unit", "kMG"},
+    {"", "rad_per_s", 1.0, "rad/s", "SI derived unit", ""},
+    {"twopi_", "Hz", PF_TWO_PI, "rad/s", "2 pi rad per cycle (exact)", "kM"},
+    /* mass: the gram is the base unit kg without its prefix */
+    {"", "kg", 1.0, "kg", "SI base unit", ""},
+    {"", "g", 1e-3, "kg", SI_PREFIX, ""},
+    {"", "u", PF_ATOMIC_MASS, "kg", CODATA " atomic mass constant", ""},
+    {"", "Da", PF_ATOMIC_MASS, "kg", CODATA " atomic mass constant", ""},
     /* energy, also as the temperature (kB T) and frequency (h f) equivalents */
-    {"J", 1.0, "J", "SI derived unit"},
-    {"eV", PF_ELEMENTARY_CHARGE, "J", CODATA_EXACT},
-    {"meV", 1e-3 * PF_ELEMENTARY_CHARGE, "J", CODATA_EXACT},
-    {"ueV", 1e-6 * PF_ELEMENTARY_CHARGE, "J", CODATA_EXACT},
-    {"neV", 1e-9 * PF_ELEMENTARY_CHARGE, "J", CODATA_EXACT},
-    {"kB_K", PF_BOLTZMANN, "J", CODATA_EXACT},
-    {"kB_mK", 1e-3 * PF_BOLTZMANN, "J", CODATA_EXACT},
-    {"kB_uK", 1e-6 * PF_BOLTZMANN, "J", CODATA_EXACT},
-    {"kB_nK", 1e-9 * PF_BOLTZMANN, "J", CODATA_EXACT},
-    {"h_Hz", PF_PLANCK, "J", CODATA_EXACT},
-    {"h_kHz", 1e3 * PF_PLANCK, "J", CODATA_EXACT},
-    {"h_MHz", 1e6 * PF_PLANCK, "J", CODATA_EXACT},
-    {"h_GHz", 1e9 * PF_PLANCK, "J", CODATA_EXACT},
+    {"", "J", 1.0, "J", "SI derived unit", ""},
+    {"", "eV", PF_ELEMENTARY_CHARGE, "J", CODATA_EXACT, "mun"},
+    {"kB_", "K", PF_BOLTZMANN, "J", CODATA_EXACT, "mun"},
+    {"h_", "Hz", PF_PLANCK, "J", CODATA_EXACT, "kMG"},
     /* temperature */
-    {"K", 1.0, "K", "SI base unit"},
-    {"mK", 1e-3, "K", SI_PREFIX},
-    {"uK", 1e-6, "K", SI_PREFIX},
-    {"nK", 1e-9, "K", SI_PREFIX},
+    {"", "K", 1.0, "K", "SI base unit", "mun"},
     /* velocity and acceleration */
-    {"m_per_s", 1.0, "m/s", "SI derived unit"},
-    {"cm_per_s", 1e-2, "m/s", SI_PREFIX},
-    {"mm_per_s", 1e-3, "m/s", SI_PREFIX},
-    {"um_per_s", 1e-6, "m/s", SI_PREFIX},
-    {"m_per_s2", 1.0, "m/s^2", "SI derived unit"},
-    {"g_n", PF_STANDARD_GRAVITY, "m/s^2", "standard gravity, exact by definition (3rd CGPM 1901)"},
+    {"", "m_per_s", 1.0, "m/s", "SI derived unit", "cmu"},
+    {"", "m_per_s2", 1.0, "m/s^2", "SI derived unit", ""},
+    {"", "g_n", PF_STANDARD_GRAVITY, "m/s^2", "standard gravity, exact by definition (3rd CGPM 1901)", ""},
     /* momentum */
-    {"kg_m_per_s", 1.0, "kg m/s", "SI derived unit"},
+    {"", "kg_m_per_s", 1.0, "kg m/s", "SI derived unit", ""},
 };
 
 static const pf_quantity constants[] = {
@@ -82,9 +79,49 @@ static const pf_quantity constants[] = {
     {"g_n", PF_STANDARD_GRAVITY, "m/s^2", "standard gravity, exact by definition (3rd CGPM 1901)"},
 };
 
+/* The unit table itself, made from unit_rows once.  Its size and name length
+ * cover the rows above; the unit test lists every entry, so a row that no
+ * longer fits shows there as a missing or cut entry. */
+enum { UNIT_ENTRIES_MAX = 64, UNIT_NAME_MAX = 16 };
+static pf_quantity units[UNIT_ENTRIES_MAX];
+static char unit_names[UNIT_ENTRIES_MAX][UNIT_NAME_MAX];
+static size_t unit_count;
+static pthread_once_t units_made = PTHREAD_ONCE_INIT;
+
+static double si_prefix_factor(char symbol)
+{
+    for (size_t i = 0; i < sizeof si_prefixes / sizeof si_prefixes[0]; i++)
+        if (si_prefixes[i].symbol == symbol) return si_prefixes[i].factor;
+    return NAN; /* not in si_prefixes: the unit test reports the entry */
+}
+
+/* Appends row r's entry with prefix symbol p, or its unprefixed entry for p = 0. */
+static void add_unit(const unit_row *r, char p)
+{
+    if (unit_count == UNIT_ENTRIES_MAX) return;
+    char *name = unit_names[unit_count];
+    pf_quantity *q = &units[unit_count++];
+    if (!p) {
+        snprintf(name, UNIT_NAME_MAX, "%s%s", r->head, r->tail);
+        *q = (pf_quantity){name, r->value, r->si, r->source};
+    } else {
+        snprintf(name, UNIT_NAME_MAX, "%s%c%s", r->head, p, r->tail);
+        *q = (pf_quantity){name, si_prefix_factor(p) * r->value, r->si, r->value == 1.0 ? SI_PREFIX : r->source};
+    }
+}
+
+static void make_units(void)
+{
+    for (size_t i = 0; i < sizeof unit_rows / sizeof unit_rows[0]; i++) {
+        add_unit(&unit_rows[i], 0);
+        for (const char *p = unit_rows[i].prefixes; *p; p++) add_unit(&unit_rows[i], *p);
+    }
+}
+
 const pf_quantity *pf_units_table(size_t *count)
 {
-    *count = sizeof units / sizeof units[0];
+    pthread_once(&units_made, make_units);
+    *count = unit_count;
     return units;
 }
 

@@ -61,19 +61,46 @@ static void frame_offsets(const pf_wave *w, double *X, double *V)
     }
 }
 
-/* A pattern that repeats with period (m) along axis, given in the lab, sits
- * on the co-moving grid shifted by the frame offset X; only X's fraction of
- * a period matters, and it is taken exactly (fmod) before a phase or an
- * offset is formed from it.  Returns 0 (fraction unset) when there is no
- * shift to apply: the wave never moved, or the period is not a positive
- * finite number (the core then reports the bad period). */
-static int frame_period_fraction(const pf_wave *w, int axis, double period, double *fraction)
+/* An operation along one axis: the wave at argument 1, its options table at
+ * argument 2 checked against decl, and the table's field 'axis' (default 1;
+ * returned 0-based in *axis). */
+static pf_wave *check_axis_op(lua_State *L, const pfl_options_decl *decl, const char *name, int *axis)
 {
+    pf_wave *w = pfl_check_wave(L, 1);
+    pfl_options_check(L, 2, decl);
+    *axis = pfl_field_axis(L, 2, "axis", pf_wave_grid(w), 1, name);
+    return w;
+}
+
+/* A pattern that repeats with a period along one axis (wave:grating,
+ * wave:mask_grating): the fields both read, and where the lab pattern sits on
+ * the co-moving grid. */
+typedef struct periodic_pattern {
+    pf_wave *w;
+    int axis;        /* 0-based */
+    double period;   /* m, field 'period' (required) */
+    int shifted;     /* 1: the pattern is shifted by frame_fraction periods */
+    double frame_fraction;
+} periodic_pattern;
+
+/* Reads the wave, options, axis and period.  A pattern given in the lab sits
+ * on the co-moving grid shifted by the frame offset X; only X's fraction of
+ * a period matters, and it is taken exactly (fmod) before the caller forms a
+ * phase or an offset from it.  shifted = 0 when there is no shift to apply:
+ * the wave never moved, or the period is not positive (the core then reports
+ * the bad period). */
+static periodic_pattern check_periodic(lua_State *L, const pfl_options_decl *decl, const char *name)
+{
+    periodic_pattern p = {0};
+    p.w = check_axis_op(L, decl, name, &p.axis);
+    p.period = pfl_field_number(L, 2, "period", 0, 1);
     double X[PF_MAX_DIM], V[PF_MAX_DIM];
-    frame_offsets(w, X, V);
-    if (X[axis] == 0 || !isfinite(period) || !(period > 0)) return 0;
-    *fraction = fmod(X[axis] / period, 1.0);
-    return 1;
+    frame_offsets(p.w, X, V);
+    if (X[p.axis] != 0 && p.period > 0) {
+        p.shifted = 1;
+        p.frame_fraction = fmod(X[p.axis] / p.period, 1.0);
+    }
+    return p;
 }
 
 /* w:kick(kx [, ky, kz] [, {frame = true}]) - momentum kick hbar k (k in
@@ -107,16 +134,12 @@ static int l_imprint(lua_State *L)
  * phase grating exp(i depth cos(2 pi x / period + phase)). */
 static int l_grating(lua_State *L)
 {
-    pf_wave *w = pfl_check_wave(L, 1);
-    pfl_options_check(L, 2, &GRATING_OPTIONS);
-    int axis = pfl_field_axis(L, 2, "axis", pf_wave_grid(w), 1, "grating");
+    periodic_pattern p = check_periodic(L, &GRATING_OPTIONS, "grating");
     double depth = pfl_field_number(L, 2, "depth", 0, 1);
-    double period = pfl_field_number(L, 2, "period", 0, 1);
     double phase = pfl_field_number(L, 2, "phase", 0, 0);
     /* cos(2 pi (xi + X) / period + phase) on the co-moving grid. */
-    double fraction;
-    if (frame_period_fraction(w, axis, period, &fraction)) phase += PF_TWO_PI * fraction;
-    return pfl_return_self(L, pf_wave_grating(w, axis, depth, period, phase), "grating");
+    if (p.shifted) phase += PF_TWO_PI * p.frame_fraction;
+    return pfl_return_self(L, pf_wave_grating(p.w, p.axis, depth, p.period, phase), "grating");
 }
 
 /* w:lens(f [, {axis = a, center = c}]) - thin quadratic-phase lens of focal
@@ -185,9 +208,8 @@ static pf_edges field_edges(lua_State *L, int t, const char *name)
 /* w:slits{count = 1, width = m, pitch = m, center = 0, axis = 1, edges, edge_width} -> w, removed */
 static int slits(lua_State *L, const char *name, int single)
 {
-    pf_wave *w = pfl_check_wave(L, 1);
-    pfl_options_check(L, 2, single ? &SLIT_OPTIONS : &SLITS_OPTIONS);
-    int axis = pfl_field_axis(L, 2, "axis", pf_wave_grid(w), 1, name);
+    int axis;
+    pf_wave *w = check_axis_op(L, single ? &SLIT_OPTIONS : &SLITS_OPTIONS, name, &axis);
     lua_Integer count = single ? 1 : pfl_field_integer(L, 2, "count", 1, 1, name);
     if (count > 1000000) return luaL_error(L, "%s: field 'count' must be at most 1000000, got %d", name, (int)count);
     double width = pfl_field_number(L, 2, "width", 0, 1);
@@ -209,17 +231,13 @@ static int l_slits(lua_State *L) { return slits(L, "slits", 0); }
 /* w:mask_grating{period = m, open_fraction = 0.5, offset = 0, axis = 1} -> w, removed */
 static int l_mask_grating(lua_State *L)
 {
-    pf_wave *w = pfl_check_wave(L, 1);
-    pfl_options_check(L, 2, &MASK_GRATING_OPTIONS);
-    int axis = pfl_field_axis(L, 2, "axis", pf_wave_grid(w), 1, "mask_grating");
-    double period = pfl_field_number(L, 2, "period", 0, 1);
+    periodic_pattern p = check_periodic(L, &MASK_GRATING_OPTIONS, "mask_grating");
     double open = pfl_field_number(L, 2, "open_fraction", 0.5, 0);
     double offset = pfl_field_number(L, 2, "offset", 0, 0);
-    double fraction;
-    if (frame_period_fraction(w, axis, period, &fraction)) offset -= period * fraction;
+    if (p.shifted) offset -= p.period * p.frame_fraction;
     pf_edges e = field_edges(L, 2, "mask_grating");
     double removed = 0;
-    pfl_check(L, pf_wave_mask_grating(w, axis, period, open, offset, &e, &removed), "mask_grating");
+    pfl_check(L, pf_wave_mask_grating(p.w, p.axis, p.period, open, offset, &e, &removed), "mask_grating");
     return push_masked(L, removed);
 }
 
@@ -327,9 +345,8 @@ static int l_shift(lua_State *L)
 /* w:select_velocity{width = m/s, center = 0, axis = 1, shape = "box"|"gaussian"} -> w, removed */
 static int l_select_velocity(lua_State *L)
 {
-    pf_wave *w = pfl_check_wave(L, 1);
-    pfl_options_check(L, 2, &SELECT_VELOCITY_OPTIONS);
-    int axis = pfl_field_axis(L, 2, "axis", pf_wave_grid(w), 1, "select_velocity");
+    int axis;
+    pf_wave *w = check_axis_op(L, &SELECT_VELOCITY_OPTIONS, "select_velocity", &axis);
     double width = pfl_field_number(L, 2, "width", 0, 1);
     double center = pfl_field_number(L, 2, "center", 0, 0);
     int gaussian = 0;
