@@ -11,12 +11,13 @@
  * and in a call of several steps.
  * Each 1D row is followed by its floor row: the raw FFTW pair plus the
  * streaming passes no split step can avoid (floor_run), timed in the same
- * run, printed with the target and the measured step.
+ * run, printed with the target and the measured step.  Each Strang row is
+ * also followed by the floor of the set-up (setup_floor_run), in steps.
  * Usage: bench_splitstep [quick | big | 1d | setup]  (full: 1D 2^20, 2D
  * 1024^2 and 3D 128^3; quick: 1D 2^18, 2D 512^2 and 3D 128^3, shorter
  * timing; big: 3D 256^3 only, about ten minutes on the reference machine,
  * which is why the full `make bench` leaves it out; 1d: the full run's 1D
- * 2^20 rows only; setup: the full run's rows without the floor rows, for
+ * 2^20 rows only; setup: the full run's rows without the 1D floor rows, for
  * work on the set-up). */
 #include <stddef.h>
 #include <math.h>
@@ -24,6 +25,8 @@
 #include <stdlib.h>
 #include <string.h>
 #include "bench_util.h"
+#include "pf_cis.h"
+#include "pf_constants.h"
 #include "pf_grid.h"
 #include "pf_splitstep.h"
 #include "pf_wave.h"
@@ -160,6 +163,80 @@ static void floor_row(const char *name, const char *shape, int threads, bench_ff
     free(V);
 }
 
+/* The floor of an evolve call's set-up, in steps: what a one-step call
+ * must do beyond a step of a longer call.  Both cost the same transforms
+ * (a one-step call splits the step's backward-forward sweep into a forward
+ * sweep at its start and a backward one at its end), so the one-step call
+ * adds one sweep over the data with its potential factor: read and write
+ * the data and read the factor (a repeat call), and with a new step the
+ * factor exp(-i V dt / 2 hbar) formed in that sweep - V read, the
+ * exponential evaluated and the factor written for the passes after it.
+ * Written as plain loops over pieces of 512 points in blocks shared among
+ * threads, as the engine's passes are; the exponential is the engine's
+ * vectorised one (pf_cis_minus: libm's is slower, so this is the lower
+ * figure).  The sweep's transforms are left out, so this is a lower bound
+ * of the set-up whatever the engine does. */
+typedef struct setup_floor {
+    double complex *d, *e;
+    const double *V;
+    double f;
+    size_t n;
+    int threads, form;
+} setup_floor;
+
+enum { FLOOR_PIECE = 512, FLOOR_BLOCK = 16384 };
+
+static void setup_floor_run(void *user)
+{
+    const setup_floor *s = user;
+    const ptrdiff_t blocks = (ptrdiff_t)((s->n + FLOOR_BLOCK - 1) / FLOOR_BLOCK);
+#pragma omp parallel for num_threads(s->threads) schedule(static)
+    for (ptrdiff_t b = 0; b < blocks; b++) {
+        double phase[FLOOR_PIECE];
+        size_t end = (size_t)(b + 1) * FLOOR_BLOCK < s->n ? (size_t)(b + 1) * FLOOR_BLOCK : s->n;
+        for (size_t at = (size_t)b * FLOOR_BLOCK; at < end; at += FLOOR_PIECE) {
+            size_t m = end - at < FLOOR_PIECE ? end - at : FLOOR_PIECE;
+            if (s->form) {
+                for (size_t i = 0; i < m; i++) phase[i] = s->V[at + i] * s->f;
+                pf_cis_minus(phase, s->e + at, m);
+            }
+            floor_multiply((double *)(s->d + at), (const double *)(s->e + at), m, 1);
+        }
+    }
+}
+
+/* Times both set-up floors against the raw pair and prints them in steps
+ * of the engine's measured step beside the measured set-ups. */
+static void setup_floor_row(const char *shape, int threads, bench_fft_pair *raw, const double *V, double step,
+                            double measured_repeat, double measured_new, double secs)
+{
+    const size_t n = raw->total;
+    double complex *d = fftw_malloc(n * sizeof *d), *e = fftw_malloc(n * sizeof *e);
+    if (!d || !e) {
+        fprintf(stderr, "bench: out of memory\n");
+        exit(1);
+    }
+    for (size_t i = 0; i < n; i++) {
+        d[i] = exp(-1e-10 * (double)i * (double)i);
+        e[i] = 1.0;
+    }
+    /* The step's phase V dt / 2 hbar of the benchmark's well and dt (1e-6 s). */
+    setup_floor rep = {d, e, V, 0.5e-6 / PF_HBAR, n, threads, 0}, fresh = rep;
+    fresh.form = 1;
+    double pair, ms, q[2];
+    double r_rep = bench_paired(bench_fft_pair_run, raw, bench_fft_pair_rescale, setup_floor_run, &rep, secs, &pair,
+                                &ms, q);
+    double r_new = bench_paired(bench_fft_pair_run, raw, bench_fft_pair_rescale, setup_floor_run, &fresh, secs, &pair,
+                                &ms, q);
+    printf("%-26s %-16s threads %d   set-up floor: repeat call %5.2f steps (measured %5.2f), new dt %5.2f steps "
+           "(measured %5.2f)   [one sweep with the factor, formed in it for a new dt; step %5.3f pairs]\n",
+           "splitstep-strang-setup-floor", shape, threads, r_rep / step, measured_repeat, r_new / step, measured_new,
+           step);
+    fflush(stdout);
+    fftw_free(d);
+    fftw_free(e);
+}
+
 /* The speed targets (docs/performance.md), as ratios to the raw FFTW pair timed alongside. */
 typedef struct kind {
     const char *name;
@@ -240,6 +317,7 @@ static void bench_size(pf_context *ctx, int dim, const int *n, int threads, int 
                bench_mark(new_long, 1.0), pair);
         fflush(stdout);
         pf_evolve_cache_clear(&cache);
+        if (k == 0) setup_floor_row(shape, threads, &raw, V, step, repeat_setup, new_setup, 0.6 * secs);
         if (dim == 1 && !setup_only) {
             char floor_name[64];
             snprintf(floor_name, sizeof floor_name, "%s-floor", kinds[k].name);

@@ -218,7 +218,7 @@ typedef struct pot_pass {
 typedef struct seg_probe {
     double lo, hi;
     double peak;
-    size_t at;
+    size_t at, len;                 /* the piece [at, at + len) where the peak first appears */
 } seg_probe;
 
 /* Both probes keep LANES independent minima / maxima and combine them at
@@ -278,13 +278,24 @@ static void probe_peak(seg_probe *r, const double complex *d, size_t at, size_t 
     }
     double top = t[0];
     for (int k = 1; k < LANES; k++) top = t[k] > top ? t[k] : top;
+    /* A new peak for this segment: only its piece is kept.  On a rising
+     * profile most pieces hold a new peak, and finding the point in each
+     * was a scalar scan of half a piece; keep_peak finds the point in the
+     * one piece that holds the call's peak (the last pass leaves the data
+     * as they were measured). */
     if (!(top > r->peak)) return;
-    /* A new peak for this segment (rare after its first pieces): its first
-     * point, while the piece is still in cache. */
-    i = 0;
-    while (i + 1 < m && !(z[2 * i] * z[2 * i] + z[2 * i + 1] * z[2 * i + 1] == top)) i++;
     r->peak = top;
-    r->at = at + i;
+    r->at = at;
+    r->len = m;
+}
+
+/* The first point of the piece [at, at + len) whose density is top. */
+static size_t first_at_peak(const double complex *d, size_t at, size_t len, double top)
+{
+    const double *z = (const double *)(d + at);
+    size_t i = 0;
+    while (i + 1 < len && !(z[2 * i] * z[2 * i] + z[2 * i + 1] * z[2 * i + 1] == top)) i++;
+    return at + i;
 }
 
 /* Points whose phases are formed before one call of pf_cis_multiply. */
@@ -769,13 +780,15 @@ static void keep_peak(const evolve_ws *ws)
 {
     pf_wave *w = ws->w;
     double top = -1.0;
-    size_t at = 0;
+    size_t at = 0, len = 1;
     for (size_t k = 0; k < ws->probe_segs; k++) {
         if (ws->probe[k].peak > top) {
             top = ws->probe[k].peak;
             at = ws->probe[k].at;
+            len = ws->probe[k].len;
         }
     }
+    at = first_at_peak(w->store, at, len, top);
     w->peak_kept.valid = 1;
     w->peak_kept.value = top;
     w->peak_kept.at = at;
@@ -845,7 +858,7 @@ static pf_status run_steps(evolve_ws *ws, size_t n, double t, int separate)
             g->evolve_probe_bytes = bytes;
         }
         ws->probe = g->evolve_probe;
-        for (size_t k = 0; k < ws->probe_segs; k++) ws->probe[k] = (seg_probe){INFINITY, -INFINITY, -1.0, 0};
+        for (size_t k = 0; k < ws->probe_segs; k++) ws->probe[k] = (seg_probe){INFINITY, -INFINITY, -1.0, 0, 1};
     }
     pf_context_progress(g->ctx, "evolve", 0, (double)n);
     pf_status s = fused ? run_fused(ws, n, t0, t) : run_separate(ws, n, t0, t);
