@@ -60,7 +60,8 @@ static void column_density_binning_and_od(void **state)
 }
 
 /* The picture's column integrals (pf_column_integrals: each row along z
- * summed, times dz) of the same Gaussian are the analytic 2D Gaussian too;
+ * summed, times dz) of the same Gaussian are the analytic 2D Gaussian too
+ * (the Gaussian integral over z: common practice, no source);
  * they agree with the marginal's per-value weighting to rounding (about
  * n_z ulps); a row's value is its in-order sum times dz to the bit (the
  * distributed picture relies on it), and in place gives the same bits. */
