@@ -88,14 +88,20 @@ typedef struct floor_op {
 
 /* d[i] *= t[i] (written out: C's complex product would call the
  * inf/nan-careful helper, which no engine kernel pays). */
-static void floor_multiply(double *restrict d, const double *restrict t, size_t n, int threads)
+static inline void multiply_piece(double *restrict d, const double *restrict t, size_t n)
 {
-#pragma omp parallel for num_threads(threads) schedule(static)
-    for (ptrdiff_t i = 0; i < (ptrdiff_t)n; i++) {
+    for (size_t i = 0; i < n; i++) {
         double a = d[2 * i], b = d[2 * i + 1], c = t[2 * i], e = t[2 * i + 1];
         d[2 * i] = a * c - b * e;
         d[2 * i + 1] = a * e + b * c;
     }
+}
+
+/* The same over the whole array, shared among threads. */
+static void floor_multiply(double *restrict d, const double *restrict t, size_t n, int threads)
+{
+#pragma omp parallel for num_threads(threads) schedule(static)
+    for (ptrdiff_t i = 0; i < (ptrdiff_t)n; i++) multiply_piece(d + 2 * i, t + 2 * i, 1);
 }
 
 /* The mean-field pass without the exponential: the phase (V + g |d|^2) is
@@ -200,7 +206,7 @@ static void setup_floor_run(void *user)
                 for (size_t i = 0; i < m; i++) phase[i] = s->V[at + i] * s->f;
                 pf_cis_minus(phase, s->e + at, m);
             }
-            floor_multiply((double *)(s->d + at), (const double *)(s->e + at), m, 1);
+            multiply_piece((double *)(s->d + at), (const double *)(s->e + at), m);
         }
     }
 }
