@@ -213,8 +213,8 @@ static void setup_floor_run(void *user)
 
 /* Times both set-up floors against the raw pair and prints them in steps
  * of the engine's measured step beside the measured set-ups. */
-static void setup_floor_row(const char *shape, int threads, bench_fft_pair *raw, const double *V, double step,
-                            double measured_repeat, double measured_new, double secs)
+static void setup_floor_row(const char *shape, int threads, bench_fft_pair *raw, const double *V, double dt,
+                            double step, double measured_repeat, double measured_new, double secs)
 {
     const size_t n = raw->total;
     double complex *d = fftw_malloc(n * sizeof *d), *e = fftw_malloc(n * sizeof *e);
@@ -226,8 +226,8 @@ static void setup_floor_row(const char *shape, int threads, bench_fft_pair *raw,
         d[i] = exp(-1e-10 * (double)i * (double)i);
         e[i] = 1.0;
     }
-    /* The step's phase V dt / 2 hbar of the benchmark's well and dt (1e-6 s). */
-    setup_floor rep = {d, e, V, 0.5e-6 / PF_HBAR, n, threads, 0}, fresh = rep;
+    /* The end half step's phase V dt / 2 hbar. */
+    setup_floor rep = {d, e, V, 0.5 * dt / PF_HBAR, n, threads, 0}, fresh = rep;
     fresh.form = 1;
     double pair, ms, q[2];
     double r_rep = bench_paired(bench_fft_pair_run, raw, bench_fft_pair_rescale, setup_floor_run, &rep, secs, &pair,
@@ -323,7 +323,7 @@ static void bench_size(pf_context *ctx, int dim, const int *n, int threads, int 
                bench_mark(new_long, 1.0), pair);
         fflush(stdout);
         pf_evolve_cache_clear(&cache);
-        if (k == 0) setup_floor_row(shape, threads, &raw, V, step, repeat_setup, new_setup, 0.6 * secs);
+        if (k == 0) setup_floor_row(shape, threads, &raw, V, spec.dt, step, repeat_setup, new_setup, 0.6 * secs);
         if (dim == 1 && !setup_only) {
             char floor_name[64];
             snprintf(floor_name, sizeof floor_name, "%s-floor", kinds[k].name);

@@ -79,16 +79,16 @@ typedef struct periodic_pattern {
     pf_wave *w;
     int axis;        /* 0-based */
     double period;   /* m, field 'period' (required) */
-    int shifted;     /* 1: the pattern is shifted by frame_fraction periods */
-    double frame_fraction;
+    double frame_fraction; /* periods the pattern is shifted by on the co-moving grid */
 } periodic_pattern;
 
 /* Reads the wave, options, axis and period.  A pattern given in the lab sits
  * on the co-moving grid shifted by the frame offset X; only X's fraction of
  * a period matters, and it is taken exactly (fmod) before the caller forms a
- * phase or an offset from it.  shifted = 0 when there is no shift to apply:
- * the wave never moved, or the period is not positive (the core then reports
- * the bad period). */
+ * phase or an offset from it.  The fraction is 0 when there is no shift to
+ * apply: the wave never moved, or the period is not positive (the core then
+ * reports the bad period); adding a zero shift leaves the phase or offset
+ * as it was. */
 static periodic_pattern check_periodic(lua_State *L, const pfl_options_decl *decl, const char *name)
 {
     periodic_pattern p = {0};
@@ -96,10 +96,7 @@ static periodic_pattern check_periodic(lua_State *L, const pfl_options_decl *dec
     p.period = pfl_field_number(L, 2, "period", 0, 1);
     double X[PF_MAX_DIM], V[PF_MAX_DIM];
     frame_offsets(p.w, X, V);
-    if (X[p.axis] != 0 && p.period > 0) {
-        p.shifted = 1;
-        p.frame_fraction = fmod(X[p.axis] / p.period, 1.0);
-    }
+    if (X[p.axis] != 0 && p.period > 0) p.frame_fraction = fmod(X[p.axis] / p.period, 1.0);
     return p;
 }
 
@@ -138,7 +135,7 @@ static int l_grating(lua_State *L)
     double depth = pfl_field_number(L, 2, "depth", 0, 1);
     double phase = pfl_field_number(L, 2, "phase", 0, 0);
     /* cos(2 pi (xi + X) / period + phase) on the co-moving grid. */
-    if (p.shifted) phase += PF_TWO_PI * p.frame_fraction;
+    phase += PF_TWO_PI * p.frame_fraction;
     return pfl_return_self(L, pf_wave_grating(p.w, p.axis, depth, p.period, phase), "grating");
 }
 
@@ -234,7 +231,7 @@ static int l_mask_grating(lua_State *L)
     periodic_pattern p = check_periodic(L, &MASK_GRATING_OPTIONS, "mask_grating");
     double open = pfl_field_number(L, 2, "open_fraction", 0.5, 0);
     double offset = pfl_field_number(L, 2, "offset", 0, 0);
-    if (p.shifted) offset -= p.period * p.frame_fraction;
+    offset -= p.period * p.frame_fraction;
     pf_edges e = field_edges(L, 2, "mask_grating");
     double removed = 0;
     pfl_check(L, pf_wave_mask_grating(p.w, p.axis, p.period, open, offset, &e, &removed), "mask_grating");
